@@ -1,0 +1,36 @@
+/** Jest projects: node-side suites run through @swc/jest (decorator metadata for TypeORM);
+ * the app suite runs on jest-expo. scripts/test.ts starts the test PostgreSQL cluster first. */
+const swc = [
+  '@swc/jest',
+  {
+    jsc: {
+      parser: { syntax: 'typescript', decorators: true },
+      transform: { legacyDecorator: true, decoratorMetadata: true },
+      target: 'es2022',
+    },
+    module: { type: 'commonjs' },
+  },
+];
+const node = (name, roots, extra = {}) => ({
+  displayName: name,
+  testEnvironment: 'node',
+  roots,
+  transform: { '^.+\\.(t|j)sx?$': swc, '^.+\\.mjs$': swc },
+  // aedes 1.x ships ESM only: let swc turn it into CommonJS for jest.
+  transformIgnorePatterns: ['/node_modules/(?!(aedes|aedes-[^/]+|hyperid|@fastify|mqemitter)/)'],
+  moduleNameMapper: { '^@/(.*)$': '<rootDir>/$1' },
+  ...extra,
+});
+module.exports = {
+  projects: [
+    node('unit', ['<rootDir>/tests/unit']),
+    node('api', ['<rootDir>/tests/api'], { setupFiles: ['<rootDir>/tests/support/env.ts'] }),
+    node('broker', ['<rootDir>/tests/broker'], { setupFiles: ['<rootDir>/tests/support/env.ts'] }),
+    {
+      displayName: 'app',
+      preset: 'jest-expo/web',
+      roots: ['<rootDir>/tests/app'],
+      moduleNameMapper: { '^@/(.*)$': '<rootDir>/$1' },
+    },
+  ],
+};

@@ -1,0 +1,65 @@
+import express, { type Express } from 'express';
+import * as fs from 'node:fs';
+import * as path from 'node:path';
+import helmet from 'helmet';
+import type { AppContext } from './context';
+import { errorHandler, notFound } from './http/errors';
+import type { ApiRouter, RegisteredRoute } from './http/route';
+import { installAuth } from './modules/auth/auth.routes';
+import { apiRouters } from './modules';
+
+export const JSON_BODY_LIMIT = '1mb';
+
+export interface BuiltApp {
+  app: Express;
+  routes: RegisteredRoute[];
+  routers: ApiRouter[];
+}
+
+/** The Express app: security headers, sessions, every /api router, the web export, one error handler. */
+export function createApp(ctx: AppContext): BuiltApp {
+  const app = express();
+  app.disable('x-powered-by');
+  app.set('trust proxy', false);
+  app.use(
+    helmet({
+      contentSecurityPolicy: {
+        directives: {
+          defaultSrc: ["'self'"],
+          // react-native-web writes styles at run time; the export's scripts are same-origin files.
+          styleSrc: ["'self'", "'unsafe-inline'"],
+          scriptSrc: ["'self'"],
+          imgSrc: ["'self'", 'data:', 'blob:'],
+          fontSrc: ["'self'", 'data:'],
+          connectSrc: ["'self'"],
+          objectSrc: ["'none'"],
+          frameAncestors: ["'none'"],
+        },
+      },
+      crossOriginEmbedderPolicy: false,
+    }),
+  );
+  app.use('/api', express.json({ limit: JSON_BODY_LIMIT }));
+  app.use('/api', (_req, res, next) => {
+    res.setHeader('Cache-Control', 'no-store');
+    next();
+  });
+  installAuth(app, ctx);
+
+  const routes: RegisteredRoute[] = [];
+  const routers = apiRouters(ctx);
+  for (const r of routers) {
+    app.use(r.prefix, r.router);
+    routes.push(...r.routes);
+  }
+  app.use('/api', (req, _res, next) => next(notFound(`The API route ${req.method} ${req.originalUrl}`)));
+
+  const webDir = ctx.config.webDir;
+  if (webDir && fs.existsSync(path.join(webDir, 'index.html'))) {
+    app.use(express.static(webDir, { index: false, maxAge: '1h' }));
+    // Single-page export: every non-API path gets the app shell; Expo Router takes it from there.
+    app.get(/^(?!\/api\/).*/, (_req, res) => res.sendFile(path.join(webDir, 'index.html')));
+  }
+  app.use(errorHandler);
+  return { app, routes, routers };
+}

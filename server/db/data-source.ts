@@ -1,0 +1,31 @@
+import 'reflect-metadata';
+import * as path from 'node:path';
+import { DataSource } from 'typeorm';
+import type { DbConfig } from '../config';
+import { dbConfigFromEnv } from '../config';
+import { ENTITIES } from './entities';
+import { SnakeNamingStrategy } from './naming';
+
+export function createDataSource(db: DbConfig, opts: { runMigrations?: boolean; poolSize?: number } = {}): DataSource {
+  return new DataSource({
+    type: 'postgres',
+    host: db.host,
+    port: db.port,
+    username: db.user,
+    password: db.password,
+    database: db.database,
+    entities: ENTITIES,
+    migrations: [path.join(__dirname, 'migrations', '*.{ts,js}')],
+    migrationsRun: opts.runMigrations ?? true,
+    migrationsTransactionMode: 'each',
+    synchronize: false,
+    namingStrategy: new SnakeNamingStrategy(),
+    uuidExtension: 'pgcrypto',
+    installExtensions: false,
+    extra: { max: opts.poolSize ?? 20 },
+    logging: ['error'],
+  });
+}
+
+/** Used by the TypeORM CLI (migration:generate) only. */
+export default createDataSource(dbConfigFromEnv(), { runMigrations: false });

@@ -1,0 +1,17 @@
+import { Column, Entity, Index, PrimaryGeneratedColumn } from 'typeorm';
+
+/** Who did what, when and why. Append-only. */
+@Entity('audit_log')
+@Index(['entity', 'entityId'])
+export class AuditLogEntity {
+  @PrimaryGeneratedColumn('increment', { type: 'bigint' }) id: string;
+  @Index() @Column({ type: 'timestamptz', default: () => 'now()' }) at: Date;
+  @Column({ type: 'uuid', nullable: true }) actorId: string | null;
+  /** "system" for the scheduler and protection. */
+  @Column({ type: 'varchar', length: 254 }) actor: string;
+  @Column({ type: 'varchar', length: 64 }) action: string;
+  @Column({ type: 'varchar', length: 32 }) entity: string;
+  @Column({ type: 'varchar', length: 64, nullable: true }) entityId: string | null;
+  @Column({ type: 'text', nullable: true }) reason: string | null;
+  @Column({ type: 'jsonb', default: () => "'{}'" }) details: Record<string, any>;
+}

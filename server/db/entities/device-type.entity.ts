@@ -1,0 +1,28 @@
+import { Column, CreateDateColumn, Entity, PrimaryGeneratedColumn, UpdateDateColumn } from 'typeorm';
+
+/** A part number's ratings and thermal data. Voltages are magnitudes (PNP parts too). */
+@Entity('device_types')
+export class DeviceTypeEntity {
+  @PrimaryGeneratedColumn('uuid') id: string;
+  @Column({ type: 'varchar', length: 40, unique: true }) partNumber: string;
+  @Column({ type: 'varchar', length: 200, default: '' }) description: string;
+  @Column({ type: 'varchar', length: 12, default: 'bjt' }) kind: 'bjt' | 'mosfet' | 'diode';
+  @Column({ type: 'varchar', length: 12 }) polarity: 'NPN' | 'PNP' | 'N-channel' | 'P-channel' | 'rectifier';
+  @Column({ type: 'double precision' }) bvcboV: number;
+  @Column({ type: 'double precision', nullable: true }) bvceoV: number | null;
+  @Column({ type: 'double precision' }) bveboV: number;
+  @Column({ type: 'double precision' }) icMaxA: number;
+  @Column({ type: 'double precision' }) pMaxW: number;
+  @Column({ type: 'double precision', default: 25 }) pRatedAtC: number;
+  @Column({ type: 'double precision' }) tjMaxC: number;
+  @Column({ type: 'double precision' }) thetaJcCPerW: number;
+  @Column({ type: 'double precision' }) thetaJaCPerW: number;
+  @Column({ type: 'double precision' }) betaRef: number;
+  @Column({ type: 'double precision' }) betaRefIcA: number;
+  @Column({ type: 'double precision', default: 25 }) betaRefTC: number;
+  @Column({ type: 'double precision', default: 1.5 }) xtb: number;
+  @Column({ type: 'double precision', nullable: true }) icboRefA: number | null;
+  @Column({ type: 'double precision', default: 3 }) breakdownN: number;
+  @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
+  @UpdateDateColumn({ type: 'timestamptz' }) updatedAt: Date;
+}

@@ -1,0 +1,51 @@
+export * from './user.entity';
+export * from './device-type.entity';
+export * from './lot.entity';
+export * from './rig.entity';
+export * from './stress-plan.entity';
+export * from './run.entity';
+export * from './telemetry.entity';
+export * from './measurement.entity';
+export * from './alarm.entity';
+export * from './audit-log.entity';
+
+import { UserEntity } from './user.entity';
+import { DeviceTypeEntity } from './device-type.entity';
+import { DeviceEntity, LotEntity } from './lot.entity';
+import { RigEntity, RigMaintenanceEntity } from './rig.entity';
+import { StressPlanEntity } from './stress-plan.entity';
+import { RunEntity, RunLotEntity, RunSocketEntity } from './run.entity';
+import {
+  RejectedMessageEntity,
+  SystemCounterEntity,
+  TelemetryBatchEntity,
+  TelemetryRollupEntity,
+  TelemetrySampleEntity,
+} from './telemetry.entity';
+import { MeasurementEntity, MeasurementUploadEntity } from './measurement.entity';
+import { AlarmEntity, MailLogEntity, NotificationEntity } from './alarm.entity';
+import { AuditLogEntity } from './audit-log.entity';
+
+export const ENTITIES = [
+  UserEntity,
+  DeviceTypeEntity,
+  LotEntity,
+  DeviceEntity,
+  RigEntity,
+  RigMaintenanceEntity,
+  StressPlanEntity,
+  RunEntity,
+  RunLotEntity,
+  RunSocketEntity,
+  TelemetryBatchEntity,
+  TelemetrySampleEntity,
+  TelemetryRollupEntity,
+  RejectedMessageEntity,
+  SystemCounterEntity,
+  MeasurementEntity,
+  MeasurementUploadEntity,
+  AlarmEntity,
+  NotificationEntity,
+  MailLogEntity,
+  AuditLogEntity,
+];

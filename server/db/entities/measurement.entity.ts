@@ -1,0 +1,50 @@
+import { Column, CreateDateColumn, Entity, Index, JoinColumn, ManyToOne, PrimaryGeneratedColumn } from 'typeorm';
+import { DeviceEntity } from './lot.entity';
+import { RunEntity } from './run.entity';
+
+/** One device's parametric reading at one read point of a run (read point 0 = time zero). */
+@Entity('measurements')
+@Index(['runId', 'deviceId', 'readPointH'], { unique: true })
+export class MeasurementEntity {
+  @PrimaryGeneratedColumn('uuid') id: string;
+  @Column({ type: 'uuid' }) runId: string;
+  @ManyToOne(() => RunEntity, { onDelete: 'CASCADE' })
+  @JoinColumn({ name: 'run_id' })
+  run?: RunEntity;
+  @Index() @Column({ type: 'uuid' }) deviceId: string;
+  @ManyToOne(() => DeviceEntity, { onDelete: 'RESTRICT' })
+  @JoinColumn({ name: 'device_id' })
+  device?: DeviceEntity;
+  @Column({ type: 'double precision' }) readPointH: number;
+  @Column({ type: 'double precision', nullable: true }) hfe: number | null;
+  @Column({ type: 'double precision', nullable: true }) hfeIcA: number | null;
+  @Column({ type: 'double precision', nullable: true }) hfeVceV: number | null;
+  @Column({ type: 'double precision', nullable: true }) icboA: number | null;
+  @Column({ type: 'double precision', nullable: true }) icboVcbV: number | null;
+  @Column({ type: 'double precision', nullable: true }) vcesatV: number | null;
+  @Column({ type: 'double precision', nullable: true }) bvceoV: number | null;
+  @Column({ type: 'double precision', default: 25 }) measuredC: number;
+  @Column({ type: 'timestamptz' }) measuredAt: Date;
+  /** Measured more than 96 h after bias removal (JESD22-A108 window). */
+  @Column({ type: 'boolean', default: false }) late: boolean;
+  @Column({ type: 'uuid', nullable: true }) uploadId: string | null;
+  @Column({ type: 'uuid', nullable: true }) enteredById: string | null;
+  @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
+}
+
+/** A CSV file uploaded for a read point; the same file twice is recognised by its hash. */
+@Entity('measurement_uploads')
+@Index(['runId', 'fileSha256'], { unique: true })
+export class MeasurementUploadEntity {
+  @PrimaryGeneratedColumn('uuid') id: string;
+  @Column({ type: 'uuid' }) runId: string;
+  @Column({ type: 'double precision' }) readPointH: number;
+  @Column({ type: 'char', length: 64 }) fileSha256: string;
+  @Column({ type: 'varchar', length: 200 }) fileName: string;
+  @Column({ type: 'int' }) rowsTotal: number;
+  @Column({ type: 'int' }) rowsStored: number;
+  @Column({ type: 'int' }) rowsRejected: number;
+  @Column({ type: 'jsonb', default: () => "'[]'" }) rowErrors: Array<Record<string, any>>;
+  @Column({ type: 'uuid', nullable: true }) uploadedById: string | null;
+  @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
+}

@@ -1,0 +1,46 @@
+import { Column, CreateDateColumn, Entity, Index, JoinColumn, ManyToOne, PrimaryGeneratedColumn } from 'typeorm';
+import { bigintNumber } from './columns';
+
+/** An oven with a burn-in board: one chamber temperature at a time, socketCount sockets. */
+@Entity('rigs')
+export class RigEntity {
+  @PrimaryGeneratedColumn('uuid') id: string;
+  /** Short code used in MQTT topics and on the floor, e.g. "OV-03". */
+  @Column({ type: 'varchar', length: 32, unique: true }) code: string;
+  @Column({ type: 'varchar', length: 80 }) name: string;
+  @Column({ type: 'varchar', length: 80, default: '' }) location: string;
+  @Column({ type: 'int' }) socketCount: number;
+  @Column({ type: 'double precision' }) maxTempC: number;
+  @Column({ type: 'double precision' }) maxVoltageV: number;
+  @Column({ type: 'boolean', default: false }) humidityCapable: boolean;
+  @Column({ type: 'double precision', nullable: true }) maxHumidityPct: number | null;
+  /** False once decommissioned: never booked again, history kept. */
+  @Column({ type: 'boolean', default: true }) active: boolean;
+  @Column({ type: 'varchar', length: 64, unique: true }) mqttUsername: string;
+  /** bcryptjs hash of the rig's MQTT secret; the secret itself is shown once when issued. */
+  @Column({ type: 'varchar', length: 100 }) mqttSecretHash: string;
+  @Column({ type: 'timestamptz' }) credentialsIssuedAt: Date;
+  @Column({ type: 'timestamptz', nullable: true }) credentialsRevokedAt: Date | null;
+  @Column({ type: 'boolean', default: false }) online: boolean;
+  @Column({ type: 'timestamptz', nullable: true }) lastSeenAt: Date | null;
+  /** Highest telemetry sequence number committed for this rig. */
+  @Column({ type: 'bigint', default: 0, transformer: bigintNumber }) lastSeq: number;
+  @Column({ type: 'double precision', nullable: true }) chamberC: number | null;
+  @Column({ type: 'double precision', nullable: true }) setpointC: number | null;
+  @Column({ type: 'double precision', nullable: true }) humidityPct: number | null;
+  @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
+}
+
+@Entity('rig_maintenance')
+export class RigMaintenanceEntity {
+  @PrimaryGeneratedColumn('uuid') id: string;
+  @Index() @Column({ type: 'uuid' }) rigId: string;
+  @ManyToOne(() => RigEntity, { onDelete: 'CASCADE' })
+  @JoinColumn({ name: 'rig_id' })
+  rig?: RigEntity;
+  @Column({ type: 'timestamptz' }) startsAt: Date;
+  @Column({ type: 'timestamptz' }) endsAt: Date;
+  @Column({ type: 'varchar', length: 200, default: '' }) reason: string;
+  @Column({ type: 'uuid', nullable: true }) createdById: string | null;
+  @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
+}

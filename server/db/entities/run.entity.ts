@@ -1,0 +1,92 @@
+import { Column, CreateDateColumn, Entity, Index, JoinColumn, ManyToOne, PrimaryColumn, PrimaryGeneratedColumn, UpdateDateColumn, VersionColumn } from 'typeorm';
+import { bigintNumber } from './columns';
+import { DeviceEntity, LotEntity } from './lot.entity';
+import { RigEntity } from './rig.entity';
+import { StressPlanEntity } from './stress-plan.entity';
+
+/** Run lifecycle states; see shared/schemas/runs.ts for their meaning. */
+export type RunState =
+  | 'booked'
+  | 'loading'
+  | 'heating'
+  | 'stressing'
+  | 'paused'
+  | 'read-hold'
+  | 'cooling'
+  | 'finished'
+  | 'aborted';
+
+@Entity('runs')
+export class RunEntity {
+  @PrimaryGeneratedColumn('uuid') id: string;
+  @Column({ type: 'varchar', length: 32, unique: true }) code: string;
+  @Index() @Column({ type: 'uuid' }) planId: string;
+  @ManyToOne(() => StressPlanEntity, { onDelete: 'RESTRICT' })
+  @JoinColumn({ name: 'plan_id' })
+  plan?: StressPlanEntity;
+  @Index() @Column({ type: 'uuid', nullable: true }) rigId: string | null;
+  @ManyToOne(() => RigEntity, { onDelete: 'RESTRICT' })
+  @JoinColumn({ name: 'rig_id' })
+  rig?: RigEntity;
+  @Index() @Column({ type: 'varchar', length: 16 }) state: RunState;
+  @Column({ type: 'int' }) sampleSize: number;
+  @Column({ type: 'timestamptz', nullable: true }) scheduledStart: Date | null;
+  @Column({ type: 'timestamptz', nullable: true }) scheduledEnd: Date | null;
+  @Column({ type: 'timestamptz', nullable: true }) startedAt: Date | null;
+  @Column({ type: 'timestamptz', nullable: true }) finishedAt: Date | null;
+  @Column({ type: 'timestamptz' }) stateChangedAt: Date;
+  /** Stress hours accrued by the run while conditions held (MIL-STD-750 general requirements). */
+  @Column({ type: 'double precision', default: 0 }) stressHours: number;
+  /** Index into the plan's read points of the next read point to reach. */
+  @Column({ type: 'int', default: 0 }) nextReadPoint: number;
+  /** Telemetry sequence number up to which hours have been accrued (restart-exact accounting). */
+  @Column({ type: 'bigint', default: 0, transformer: bigintNumber }) accruedToSeq: number;
+  /** Rig stress-clock seconds of the last accrual step. */
+  @Column({ type: 'double precision', nullable: true }) accruedToClockS: number | null;
+  @Column({ type: 'timestamptz', nullable: true }) heatingSince: Date | null;
+  @Column({ type: 'timestamptz', nullable: true }) ambientReachedAt: Date | null;
+  @Column({ type: 'timestamptz', nullable: true }) biasRemovedAt: Date | null;
+  @Column({ type: 'text', nullable: true }) abortReason: string | null;
+  /** Engineer's written reason for booking despite a blocking plan-check finding. */
+  @Column({ type: 'text', nullable: true }) overrideReason: string | null;
+  @Column({ type: 'uuid', nullable: true }) overrideById: string | null;
+  @Column({ type: 'uuid', nullable: true }) createdById: string | null;
+  @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
+  @UpdateDateColumn({ type: 'timestamptz' }) updatedAt: Date;
+  @VersionColumn() rowVersion: number;
+}
+
+@Entity('run_lots')
+export class RunLotEntity {
+  @PrimaryColumn({ type: 'uuid' }) runId: string;
+  @PrimaryColumn({ type: 'uuid' }) lotId: string;
+  @ManyToOne(() => RunEntity, { onDelete: 'CASCADE' })
+  @JoinColumn({ name: 'run_id' })
+  run?: RunEntity;
+  @ManyToOne(() => LotEntity, { onDelete: 'RESTRICT' })
+  @JoinColumn({ name: 'lot_id' })
+  lot?: LotEntity;
+}
+
+/** The socket map: which device sits in which socket of the run's rig, and its own hours. */
+@Entity('run_sockets')
+@Index(['runId', 'socketIndex'], { unique: true })
+@Index(['runId', 'deviceId'], { unique: true })
+export class RunSocketEntity {
+  @PrimaryGeneratedColumn('uuid') id: string;
+  @Column({ type: 'uuid' }) runId: string;
+  @ManyToOne(() => RunEntity, { onDelete: 'CASCADE' })
+  @JoinColumn({ name: 'run_id' })
+  run?: RunEntity;
+  @Column({ type: 'int' }) socketIndex: number;
+  @Column({ type: 'uuid' }) deviceId: string;
+  @ManyToOne(() => DeviceEntity, { onDelete: 'RESTRICT' })
+  @JoinColumn({ name: 'device_id' })
+  device?: DeviceEntity;
+  @Column({ type: 'double precision', default: 0 }) accruedHours: number;
+  @Column({ type: 'boolean', default: false }) tripped: boolean;
+  @Column({ type: 'timestamptz', nullable: true }) trippedAt: Date | null;
+  @Column({ type: 'text', nullable: true }) tripReason: string | null;
+  /** Read point (hours) at which this device first failed its criteria; null while passing. */
+  @Column({ type: 'double precision', nullable: true }) failedAtH: number | null;
+}

@@ -1,0 +1,40 @@
+import { Column, CreateDateColumn, Entity, Index, JoinColumn, ManyToOne, PrimaryGeneratedColumn } from 'typeorm';
+import type { Bias, Criteria, PlanKind } from '../../../shared/schemas/plans';
+import { DeviceTypeEntity } from './device-type.entity';
+
+/**
+ * One version of a stress plan. Editing a plan writes a new row with the same planKey and
+ * version + 1; a run points at the exact row it was booked with.
+ */
+@Entity('stress_plans')
+@Index(['planKey', 'version'], { unique: true })
+export class StressPlanEntity {
+  @PrimaryGeneratedColumn('uuid') id: string;
+  @Column({ type: 'uuid' }) planKey: string;
+  @Column({ type: 'int' }) version: number;
+  @Column({ type: 'varchar', length: 120 }) name: string;
+  @Column({ type: 'varchar', length: 8 }) kind: PlanKind;
+  @Index() @Column({ type: 'uuid' }) deviceTypeId: string;
+  @ManyToOne(() => DeviceTypeEntity, { onDelete: 'RESTRICT' })
+  @JoinColumn({ name: 'device_type_id' })
+  deviceType?: DeviceTypeEntity;
+  @Column({ type: 'double precision' }) chamberC: number;
+  @Column({ type: 'double precision', nullable: true }) humidityPct: number | null;
+  @Column({ type: 'jsonb' }) bias: Bias;
+  @Column({ type: 'double precision' }) durationH: number;
+  @Column({ type: 'jsonb' }) readPointsH: number[];
+  @Column({ type: 'int' }) sampleSize: number;
+  @Column({ type: 'int' }) acceptNumber: number;
+  @Column({ type: 'jsonb' }) criteria: Criteria;
+  @Column({ type: 'double precision', default: 0.7 }) eaEv: number;
+  @Column({ type: 'double precision', default: 55 }) useC: number;
+  @Column({ type: 'jsonb', nullable: true }) cycle: Record<string, any> | null;
+  @Column({ type: 'double precision', default: 0.8 }) breakdownDerating: number;
+  @Column({ type: 'text', default: '' }) notes: string;
+  /** The plan check as computed when this version was saved (findings, numbers, constants). */
+  @Column({ type: 'jsonb', nullable: true }) checkResult: Record<string, any> | null;
+  /** Only the newest version of a plan is current; older ones stay for the runs that use them. */
+  @Column({ type: 'boolean', default: true }) current: boolean;
+  @Column({ type: 'uuid', nullable: true }) createdById: string | null;
+  @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
+}

@@ -1,0 +1,75 @@
+import type { ErrorRequestHandler } from 'express';
+import { ZodError } from 'zod';
+import type { ErrorCode } from '../../shared/schemas/errors';
+
+const STATUS: Record<ErrorCode, number> = {
+  bad_request: 400,
+  unauthenticated: 401,
+  forbidden: 403,
+  not_found: 404,
+  conflict: 409,
+  too_large: 413,
+  unprocessable: 422,
+  too_many_requests: 429,
+  internal: 500,
+};
+
+/** A failure with a plain message meant for the person who caused it. Services throw these. */
+export class AppError extends Error {
+  readonly status: number;
+  constructor(
+    readonly code: ErrorCode,
+    message: string,
+    readonly fields?: Record<string, string[]>,
+    readonly extra?: Record<string, unknown>,
+  ) {
+    super(message);
+    this.status = STATUS[code];
+  }
+}
+
+export const badRequest = (m: string, fields?: Record<string, string[]>) => new AppError('bad_request', m, fields);
+export const unauthenticated = (m = 'Sign in first.') => new AppError('unauthenticated', m);
+export const forbidden = (m = 'Your role does not allow this.') => new AppError('forbidden', m);
+export const notFound = (what: string) => new AppError('not_found', `${what} was not found.`);
+export const conflict = (m: string, extra?: Record<string, unknown>) => new AppError('conflict', m, undefined, extra);
+export const unprocessable = (m: string, extra?: Record<string, unknown>) => new AppError('unprocessable', m, undefined, extra);
+export const tooLarge = (m: string) => new AppError('too_large', m);
+
+/** zod issues → { "bias.vcbV": ["…"] } so forms can show each message beside its field. */
+export function zodFields(err: ZodError): Record<string, string[]> {
+  const fields: Record<string, string[]> = {};
+  for (const issue of err.issues) {
+    const key = issue.path.length ? issue.path.map(String).join('.') : '_';
+    (fields[key] ??= []).push(issue.message);
+  }
+  return fields;
+}
+
+export function validationError(err: ZodError, where = 'request'): AppError {
+  const fields = zodFields(err);
+  const first = Object.entries(fields)[0];
+  const hint = first ? (first[0] === '_' ? first[1][0] : `${first[0]}: ${first[1][0]}`) : 'invalid';
+  return badRequest(`The ${where} is not valid (${hint}).`, fields);
+}
+
+/** The one place that turns any error into `{ error: { code, message, fields? } }`. Never a stack trace. */
+export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
+  let e: AppError;
+  if (err instanceof AppError) e = err;
+  else if (err instanceof ZodError) e = validationError(err);
+  else if (err?.type === 'entity.too.large' || err?.code === 'LIMIT_FILE_SIZE') {
+    e = tooLarge(err?.code === 'LIMIT_FILE_SIZE' ? 'The file is larger than the upload limit.' : 'The request body is too large.');
+  } else if (err?.type === 'entity.parse.failed' || err instanceof SyntaxError) {
+    e = badRequest('The request body is not valid JSON.');
+  } else if (err?.type === 'charset.unsupported' || err?.type === 'encoding.unsupported') {
+    e = new AppError('bad_request', 'The request uses an unsupported character set or encoding.');
+  } else if (typeof err?.code === 'string' && err.code.startsWith('LIMIT_')) {
+    e = badRequest(`The upload was refused (${String(err.message)}).`);
+  } else {
+    console.error(`[api] ${req.method} ${req.originalUrl} failed:`, err);
+    e = new AppError('internal', 'Something went wrong on the server. The error has been logged.');
+  }
+  if (res.headersSent) return;
+  res.status(e.status).json({ error: { code: e.code, message: e.message, ...(e.fields ? { fields: e.fields } : {}), ...(e.extra ?? {}) } });
+};

@@ -1,0 +1,39 @@
+import 'reflect-metadata';
+import * as http from 'node:http';
+import { createApp } from './app';
+import { configFromEnv } from './config';
+import { createContext } from './context';
+import { createDataSource } from './db/data-source';
+import { startFeatures } from './features';
+
+/** The API process: migrations, then HTTP (+ web export), MQTT ingest and the scheduler. */
+async function main() {
+  const config = configFromEnv();
+  const ds = createDataSource(config.db);
+  await ds.initialize(); // runs pending migrations
+  const ctx = createContext(ds, config);
+  const stopFeatures = await startFeatures(ctx);
+  const { app } = createApp(ctx);
+  const server = http.createServer(app);
+  await new Promise<void>((resolve) => server.listen(config.port, config.host, resolve));
+  console.log(`[api] listening on http://${config.host}:${config.port}`);
+
+  let closing = false;
+  const shutdown = async (sig: string) => {
+    if (closing) return;
+    closing = true;
+    console.log(`[api] ${sig}: closing`);
+    server.close();
+    server.closeAllConnections?.();
+    await stopFeatures().catch((e) => console.error('[api] stopping features:', e));
+    await ds.destroy().catch(() => undefined);
+    process.exit(0);
+  };
+  process.on('SIGINT', () => void shutdown('SIGINT'));
+  process.on('SIGTERM', () => void shutdown('SIGTERM'));
+}
+
+main().catch((err) => {
+  console.error('[api] failed to start:', err);
+  process.exit(1);
+});

@@ -1,0 +1,101 @@
+import connectPgSimple from 'connect-pg-simple';
+import type { Express, NextFunction, Request, Response } from 'express';
+import { rateLimit } from 'express-rate-limit';
+import session from 'express-session';
+import passport from 'passport';
+import { Strategy as LocalStrategy } from 'passport-local';
+import type { Pool } from 'pg';
+import { signInSchema, type SessionUser } from '../../../shared/schemas/auth';
+import type { AppContext } from '../../context';
+import { AppError, unauthenticated } from '../../http/errors';
+import { ApiRouter, SESSION_COOKIE } from '../../http/route';
+import { AuthService } from './auth.service';
+
+/** Sign-in attempts allowed per client address in a window (on top of the per-account lockout). */
+export const SIGN_IN_WINDOW_MS = 15 * 60 * 1000;
+export const SIGN_IN_MAX_PER_WINDOW = 30;
+
+/** Sessions in PostgreSQL (connect-pg-simple on TypeORM's own pool) and passport-local. */
+export function installAuth(app: Express, ctx: AppContext): AuthService {
+  const auth = new AuthService(ctx.ds, ctx.audit, ctx.now);
+  const PgStore = connectPgSimple(session);
+  const pool = (ctx.ds.driver as unknown as { master: Pool }).master;
+  app.use(
+    session({
+      name: SESSION_COOKIE,
+      store: new PgStore({ pool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 15 * 60 }),
+      secret: ctx.config.sessionSecret,
+      resave: false,
+      saveUninitialized: false,
+      rolling: true,
+      cookie: { httpOnly: true, sameSite: 'lax', secure: ctx.config.secureCookies, maxAge: ctx.config.sessionMaxAgeMs },
+    }),
+  );
+  passport.use(
+    new LocalStrategy({ usernameField: 'email', passwordField: 'password' }, (email, password, done) => {
+      auth.verify(email, password).then(
+        (r) => (r.ok ? done(null, r.user) : done(null, false, { message: r.message })),
+        (err) => done(err),
+      );
+    }),
+  );
+  passport.serializeUser((u, done) => done(null, (u as SessionUser).id));
+  passport.deserializeUser((id: string, done) => {
+    auth.load(id).then((u) => done(null, u ?? false), done);
+  });
+  app.use(passport.initialize());
+  app.use(passport.session());
+  return auth;
+}
+
+export function authRoutes(ctx: AppContext): ApiRouter {
+  const r = new ApiRouter('/api/auth');
+  const limiter = rateLimit({
+    windowMs: SIGN_IN_WINDOW_MS,
+    limit: SIGN_IN_MAX_PER_WINDOW,
+    standardHeaders: 'draft-7',
+    legacyHeaders: false,
+    handler: (_req, res) => {
+      res.status(429).json({
+        error: { code: 'too_many_requests', message: 'Too many sign-in attempts from this address. Wait 15 minutes and try again.' },
+      });
+    },
+  });
+  r.router.use('/sign-in', limiter);
+
+  r.post('/sign-in', { access: 'public', body: signInSchema }, ({ req, res, body }) => {
+    req.body = body;
+    return new Promise((resolve, reject) => {
+      passport.authenticate('local', (err: unknown, user: SessionUser | false, info?: { message?: string }) => {
+        if (err) return reject(err);
+        if (!user) return reject(new AppError('unauthenticated', info?.message ?? 'Wrong e-mail or password.'));
+        // passport 0.7 regenerates the session on login (no session fixation).
+        req.logIn(user, (e) => {
+          if (e) return reject(e);
+          void ctx.audit.record({ actor: user, action: 'user.sign-in', entity: 'user', entityId: user.id });
+          resolve({ user });
+        });
+      })(req, res, (e: unknown) => reject(e));
+    });
+  });
+
+  r.post('/sign-out', { access: 'public' }, ({ req, res }) => {
+    return new Promise<void>((resolve, reject) => {
+      req.logout((err) => {
+        if (err) return reject(err);
+        req.session?.destroy(() => {
+          res.clearCookie(SESSION_COOKIE, { httpOnly: true, sameSite: 'lax', secure: ctx.config.secureCookies });
+          resolve();
+        });
+      });
+    });
+  });
+
+  r.get('/me', { access: 'signed-in' }, ({ user }) => ({ user }));
+  return r;
+}
+
+export function requireSignedIn(req: Request, _res: Response, next: NextFunction) {
+  if (!req.user) return next(unauthenticated());
+  next();
+}

@@ -1,0 +1,16 @@
+import 'reflect-metadata';
+import { dbConfigFromEnv } from '../config';
+import { createDataSource } from '../db/data-source';
+import { seedIfEmpty } from './seed';
+
+/** `npm run seed`: migrate and seed the demo database if it is empty. */
+(async () => {
+  const ds = createDataSource(dbConfigFromEnv());
+  await ds.initialize();
+  const seeded = await seedIfEmpty(ds);
+  console.log(seeded ? '[seed] demo data written' : '[seed] database already has data; nothing written');
+  await ds.destroy();
+})().catch((e) => {
+  console.error(e);
+  process.exit(1);
+});

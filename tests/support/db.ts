@@ -1,0 +1,65 @@
+import 'reflect-metadata';
+import { randomBytes } from 'node:crypto';
+import { Client } from 'pg';
+import type { DataSource } from 'typeorm';
+import type { DbConfig } from '../../server/config';
+import { createDataSource } from '../../server/db/data-source';
+
+/** The template database holds the migrated schema; each test file clones it (~100 ms). */
+export const TEMPLATE_DB = 'emberlot_template';
+
+export function testDbConfig(database: string): DbConfig {
+  return {
+    host: '127.0.0.1',
+    port: Number(process.env.EMBERLOT_TEST_PG_PORT ?? 54339),
+    user: 'emberlot',
+    password: process.env.EMBERLOT_DB_PASSWORD ?? 'emberlot-local-only',
+    database,
+  };
+}
+
+async function admin<T>(fn: (c: Client) => Promise<T>): Promise<T> {
+  const c = new Client(testDbConfig('postgres'));
+  await c.connect();
+  try {
+    return await fn(c);
+  } finally {
+    await c.end();
+  }
+}
+
+export interface TestDb {
+  ds: DataSource;
+  config: DbConfig;
+  drop: () => Promise<void>;
+}
+
+/** A fresh database cloned from the migrated template, with a DataSource already initialised. */
+export async function createTestDb(): Promise<TestDb> {
+  const name = `t_${process.pid}_${randomBytes(4).toString('hex')}`;
+  await admin((c) => c.query(`CREATE DATABASE "${name}" TEMPLATE "${TEMPLATE_DB}"`));
+  const config = testDbConfig(name);
+  const ds = createDataSource(config, { runMigrations: false, poolSize: 5 });
+  await ds.initialize();
+  return {
+    ds,
+    config,
+    drop: async () => {
+      if (ds.isInitialized) await ds.destroy();
+      await admin((c) => c.query(`DROP DATABASE IF EXISTS "${name}" WITH (FORCE)`));
+    },
+  };
+}
+
+/** Row counts of every table: "a rejected request changed nothing" compares two of these. */
+export async function tableCounts(ds: DataSource): Promise<Record<string, number>> {
+  const tables: Array<{ tablename: string }> = await ds.query(
+    `SELECT tablename FROM pg_tables WHERE schemaname = 'public' AND tablename NOT IN ('migrations', 'session') ORDER BY tablename`,
+  );
+  const out: Record<string, number> = {};
+  for (const { tablename } of tables) {
+    const [{ n }] = await ds.query(`SELECT count(*)::int AS n FROM "${tablename}"`);
+    out[tablename] = n;
+  }
+  return out;
+}
