@@ -13,7 +13,9 @@ import { dbConfigFromEnv } from '../server/config';
 import { createDataSource } from '../server/db/data-source';
 import { destroyCluster, ensureDatabase, PROJECT_ROOT, startCluster } from './pg-cluster';
 
-export const TEST_PG = { name: 'test', port: Number(process.env.EMBERLOT_TEST_PG_PORT ?? 54339), fast: true };
+const TEST_PORT = Number(process.env.EMBERLOT_TEST_PG_PORT ?? 54339);
+/** Parallel runs (several developers' helpers on one machine) each set their own EMBERLOT_TEST_PG_PORT. */
+export const TEST_PG = { name: TEST_PORT === 54339 ? 'test' : `test-${TEST_PORT}`, port: TEST_PORT, fast: true };
 export const TEMPLATE_DB = 'emberlot_template';
 
 async function main(): Promise<number> {
