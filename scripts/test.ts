@@ -41,7 +41,7 @@ async function main(): Promise<number> {
     await ds.destroy();
     console.log(`[test] PostgreSQL ready with migrated template in ${Date.now() - t0} ms`);
 
-    const results = path.join(PROJECT_ROOT, '.data', 'jest-results.json');
+    const results = path.join(PROJECT_ROOT, '.data', `jest-results-${TEST_PORT}.json`);
     fs.mkdirSync(path.dirname(results), { recursive: true });
     fs.rmSync(results, { force: true });
     const jest = spawnSync(
