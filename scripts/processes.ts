@@ -13,5 +13,11 @@ export interface ProcessSpec {
 const ts = (file: string) => [process.execPath, '-r', '@swc-node/register', file];
 
 export const PROCESSES: ProcessSpec[] = [
+  {
+    name: 'expo',
+    command: [process.execPath, require.resolve('expo/bin/cli'), 'start', '--web', '--port', '8081', '--host', 'localhost'],
+    env: { CI: '1', EXPO_NO_TELEMETRY: '1', BROWSER: 'none' },
+    devOnly: true,
+  },
   { name: 'api', command: ts('server/main.ts'), waitFor: /listening on/ },
 ];

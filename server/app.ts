@@ -1,5 +1,6 @@
 import express, { type Express } from 'express';
 import * as fs from 'node:fs';
+import * as http from 'node:http';
 import * as path from 'node:path';
 import helmet from 'helmet';
 import type { AppContext } from './context';
@@ -53,6 +54,25 @@ export function createApp(ctx: AppContext): BuiltApp {
     routes.push(...r.routes);
   }
   app.use('/api', (req, _res, next) => next(notFound(`The API route ${req.method} ${req.originalUrl}`)));
+
+  const devProxy = process.env.EMBERLOT_DEV_PROXY;
+  if (devProxy) {
+    // `npm run dev`: everything that is not /api goes to the Expo dev server, so the app and the
+    // API still share one origin and the session cookie just works.
+    const target = new URL(devProxy);
+    app.use((req, res, next) => {
+      if (req.path.startsWith('/api/')) return next();
+      const upstream = http.request(
+        { host: target.hostname, port: target.port, path: req.originalUrl, method: req.method, headers: req.headers },
+        (up) => {
+          res.writeHead(up.statusCode ?? 502, up.headers);
+          up.pipe(res);
+        },
+      );
+      upstream.on('error', () => res.status(502).type('text').send('The Expo dev server is not up yet; reload in a moment.'));
+      req.pipe(upstream);
+    });
+  }
 
   const webDir = ctx.config.webDir;
   if (webDir && fs.existsSync(path.join(webDir, 'index.html'))) {

@@ -1,0 +1,47 @@
+/**
+ * In-process contracts between telemetry ingest (producer) and the scheduler, live protection
+ * and the live floor (consumers). Ingest emits only AFTER the batch is committed to PostgreSQL.
+ */
+import type { CommandAck, RigCommand, SocketReading } from '../../../shared/mqtt';
+
+/** ctx.events.emit(TELEMETRY_LANDED, landed) once per stored (new, not duplicate) message. */
+export const TELEMETRY_LANDED = 'telemetry-landed';
+export interface TelemetryLanded {
+  rigId: string;
+  rigCode: string;
+  seq: number;
+  ts: Date;
+  stressClockS: number;
+  chamberC: number;
+  humidityPct: number | null;
+  setpointC: number;
+  sockets: SocketReading[];
+}
+
+/** ctx.events.emit(RIG_STATUS_CHANGED, …) when a rig goes online/offline (status message or last will). */
+export const RIG_STATUS_CHANGED = 'rig-status-changed';
+export interface RigStatusChanged {
+  rigId: string;
+  rigCode: string;
+  online: boolean;
+  at: Date;
+}
+
+/** Command without the envelope fields RigLink fills in. */
+export type RigCommandBody = RigCommand extends infer C ? (C extends RigCommand ? Omit<C, 'v' | 'cmdId' | 'ts'> : never) : never;
+
+/**
+ * The server's way to command a rig (ctx.services.rigLink). Implemented over MQTT by the
+ * telemetry module; tests may substitute a fake.
+ */
+export interface RigLink {
+  /**
+   * Publish a command (QoS 1) and wait for the rig's ack on command-acks. Pass a stable `cmdId`
+   * (e.g. `run:<id>:heat:<n>`) to make retries idempotent: the rig applies a cmdId once.
+   * Rejects on timeout (default 10 s) or when the rig answers ok:false.
+   */
+  send(rigCode: string, command: RigCommandBody, opts?: { cmdId?: string; timeoutMs?: number }): Promise<CommandAck>;
+  connected(): boolean;
+}
+
+export const RIG_LINK = 'rigLink';

@@ -1,0 +1,2 @@
+export * from './plan-check';
+export * from './protection';

@@ -1,0 +1,277 @@
+/**
+ * Live runaway protection for one socket, evaluated on every telemetry sample.
+ * Pure and stateless: give it the socket's recent samples (a bounded buffer is enough — only the
+ * last `windowS` seconds of continuous bias are used) and it returns what to do now.
+ *
+ * A software trip complements, and never replaces, the rig's hardware interlocks.
+ *
+ * Estimators (all over the latest continuous bias-on stretch within `windowS`):
+ * - Junction: Tj = T_case + θjc·V·I (JEDEC JESD51 definition), per sample.
+ * - Trend: least-squares quadratic of Tj against stress-clock time, centred on the latest sample,
+ *   giving the current slope Ṫ and curvature T̈ with their standard errors. A slope or curvature
+ *   counts only when it exceeds `significanceZ` standard errors (and, for the slope, `minRiseCPerS`),
+ *   so sensor noise on a steady socket does not read as a trend.
+ * - Time to Tj max: near its current state the heat balance τ·Ṫ = Ta + θ·P(Tj) − Tj is linear,
+ *   so the slope evolves as Ṫ(t) ∝ e^{λt} with λ = T̈/Ṫ = −(1 − G)/τ: λ < 0 is a settling approach,
+ *   λ > 0 a runaway. Projected Tj(t+Δ) = Tj + (Ṫ/λ)(e^{λΔ} − 1), solved for Tj max; linear when the
+ *   curvature is not significant; none when the projection levels off below Tj max or Tj is not rising.
+ * - Loop gain G = θ·∂P/∂Tj: θ = θjc + θca, with θca fitted through the origin from
+ *   (T_case − T_chamber) = θca·P (least squares; no power, no rise); ∂P/∂T_case from a least-squares
+ *   line of P on T_case (simple-statistics), converted to the junction by ∂P/∂Tj = s/(1 + θjc·s)
+ *   because Tj = T_case + θjc·P. Using the case rather than Tj as regressor keeps current noise out
+ *   of both axes. Reported only when the case moved at least `minCaseSpanC` and the slope is
+ *   significant; otherwise null (the window is too steady to show the feedback).
+ *   Known bias: while the socket is still warming, part of the heat goes into thermal mass, the case
+ *   sits below θca·P and the fitted θca (hence the loop gain) reads low. The loop-gain rule therefore
+ *   catches quasi-static runaway (a chamber or socket drifting past its critical point); fast
+ *   transients are caught by the time-to-limit projection and the temperature threshold.
+ */
+import { linearRegression, max, mean, min, sum } from 'simple-statistics';
+
+export interface SocketSample {
+  /** Stress-clock time, seconds. */
+  tS: number;
+  caseC: number;
+  /** Collector-emitter (or applied) voltage, V. */
+  vV: number;
+  /** Device current, A. */
+  iA: number;
+  chamberC: number;
+  biasOn: boolean;
+}
+
+export interface ProtectionDevice {
+  tjMaxC: number;
+  thetaJcCPerW: number;
+}
+
+export interface ProtectionOptions {
+  /** Trip when Tj ≥ Tj max − marginC. */
+  marginC: number;
+  /**
+   * Trip when Tj max is projected within this many stress-clock seconds. Default 60 s: several
+   * telemetry intervals (rigs report every few seconds) for the trend to confirm, the command round
+   * trip over MQTT and the rig's bias relay, with room to spare; raise it for slow telemetry.
+   */
+  horizonS: number;
+  /** Warn when Tj ≥ Tj max − marginC − warnExtraMarginC. */
+  warnExtraMarginC: number;
+  /** Warn when the projection is within this multiple of the trip horizon. */
+  warnHorizonFactor: number;
+  /** Warn at this estimated loop gain; trip at ≥ 1 while rising. */
+  warnLoopGain: number;
+  /** Look-back for trend and loop-gain estimates, stress-clock seconds. */
+  windowS: number;
+  /** Fewer bias-on samples than this in the window: only the temperature threshold applies. */
+  minSamples: number;
+  /**
+   * Trend rules (projection, loop gain) wait until the bias-on stretch spans this many seconds:
+   * just after bias is applied a settling approach still looks straight, and a straight-line
+   * projection of it would cry wolf. The temperature threshold applies from the first sample.
+   */
+  minTrendS: number;
+  /** Standard errors a slope or curvature must exceed to count. */
+  significanceZ: number;
+  /** Smallest Tj slope (°C/s) that counts as rising. */
+  minRiseCPerS: number;
+  /** Case temperature must span this much in the window for a loop-gain estimate. */
+  minCaseSpanC: number;
+}
+
+export const DEFAULT_PROTECTION_OPTIONS: ProtectionOptions = {
+  marginC: 10,
+  horizonS: 60,
+  warnExtraMarginC: 10,
+  warnHorizonFactor: 5,
+  warnLoopGain: 0.5,
+  windowS: 300,
+  minSamples: 8,
+  minTrendS: 30,
+  significanceZ: 4,
+  minRiseCPerS: 0.002,
+  minCaseSpanC: 1,
+};
+
+export type ProtectionAction = 'none' | 'warn' | 'trip';
+
+export interface SocketAssessment {
+  /** Junction estimate at the latest sample; null with no samples. */
+  tjC: number | null;
+  /** Estimated loop gain θ·∂P/∂Tj; null when the window cannot resolve it. */
+  loopGain: number | null;
+  /** Projected stress-clock seconds until Tj max; null when Tj is not heading there. */
+  secondsToTjMax: number | null;
+  /** Fitted Tj slope at the latest sample (°C/s); null without a trend fit. */
+  slopeCPerS: number | null;
+  /** Fitted case-to-chamber thermal resistance (°C/W); null without a fit. */
+  thetaCaCPerW: number | null;
+  action: ProtectionAction;
+  reason: string;
+}
+
+// ---------------------------------------------------------------------------------------------
+
+interface QuadFit {
+  c0: number;
+  slope: number;
+  slopeSe: number;
+  /** Second derivative 2·c2 and its standard error. */
+  accel: number;
+  accelSe: number;
+}
+
+/** Least-squares Tj = c0 + c1·x + c2·x², x = t − t_last; standard errors from σ̂²(XᵀX)⁻¹. */
+function quadraticFit(xs: number[], ys: number[]): QuadFit | null {
+  const n = xs.length;
+  if (n < 4) return null;
+  // Power sums Σxᵏ (k = 0…4) and Σxᵏ·y (k = 0…2).
+  const s = [0, 0, 0, 0, 0];
+  const t = [0, 0, 0];
+  for (let i = 0; i < n; i++) {
+    let xk = 1;
+    for (let k = 0; k <= 4; k++) {
+      s[k] += xk;
+      if (k <= 2) t[k] += xk * ys[i];
+      xk *= xs[i];
+    }
+  }
+  const [s0, s1, s2, s3, s4] = s;
+  const [t0, t1, t2] = t;
+  // Symmetric M = [[s0,s1,s2],[s1,s2,s3],[s2,s3,s4]]; inverse by cofactors.
+  const a = s2 * s4 - s3 * s3;
+  const b = -(s1 * s4 - s2 * s3);
+  const c = s1 * s3 - s2 * s2;
+  const det = s0 * a + s1 * b + s2 * c;
+  if (!(Math.abs(det) > 0)) return null;
+  const inv = [
+    [a, b, c],
+    [b, s0 * s4 - s2 * s2, -(s0 * s3 - s1 * s2)],
+    [c, -(s0 * s3 - s1 * s2), s0 * s2 - s1 * s1],
+  ].map((row) => row.map((v) => v / det));
+  const rhs = [t0, t1, t2];
+  const coef = inv.map((row) => row[0] * rhs[0] + row[1] * rhs[1] + row[2] * rhs[2]);
+  let rss = 0;
+  for (let i = 0; i < n; i++) {
+    const r = ys[i] - (coef[0] + coef[1] * xs[i] + coef[2] * xs[i] * xs[i]);
+    rss += r * r;
+  }
+  const sigma2 = rss / (n - 3);
+  return {
+    c0: coef[0],
+    slope: coef[1],
+    slopeSe: Math.sqrt(Math.max(0, sigma2 * inv[1][1])),
+    accel: 2 * coef[2],
+    accelSe: 2 * Math.sqrt(Math.max(0, sigma2 * inv[2][2])),
+  };
+}
+
+/** Seconds for Tj to climb `gap` °C given slope and (significant or zero) acceleration; null if never. */
+export function projectSecondsToLimit(gap: number, slope: number, accel: number): number | null {
+  if (gap <= 0) return 0;
+  if (!(slope > 0)) return null;
+  const lambda = accel / slope;
+  if (Math.abs(lambda) < 1e-12) return gap / slope;
+  const arg = 1 + (lambda * gap) / slope;
+  if (arg <= 0) return null; // settles below the limit
+  return Math.log(arg) / lambda;
+}
+
+function estimateLoopGain(
+  w: SocketSample[],
+  thetaJc: number,
+  opts: ProtectionOptions,
+): { loopGain: number | null; thetaCa: number | null } {
+  const p = w.map((s) => s.vV * s.iA);
+  const sumP2 = sum(p.map((x) => x * x));
+  if (!(sumP2 > 0)) return { loopGain: null, thetaCa: null };
+  const thetaCa = sum(w.map((s, i) => (s.caseC - s.chamberC) * p[i])) / sumP2;
+  const cases = w.map((s) => s.caseC);
+  if (max(cases) - min(cases) < opts.minCaseSpanC || w.length < 3) return { loopGain: null, thetaCa };
+  const { m: s, b } = linearRegression(cases.map((c, i) => [c, p[i]]));
+  const mc = mean(cases);
+  const sxx = sum(cases.map((c) => (c - mc) ** 2));
+  const rss = sum(cases.map((c, i) => (p[i] - (b + s * c)) ** 2));
+  const se = Math.sqrt(rss / (w.length - 2) / sxx);
+  if (!(Math.abs(s) > opts.significanceZ * se)) return { loopGain: null, thetaCa };
+  const dPdTj = s / (1 + thetaJc * s);
+  return { loopGain: (thetaJc + Math.max(0, thetaCa)) * dPdTj, thetaCa };
+}
+
+const f1 = (x: number) => (Math.round(x * 10) / 10).toFixed(1);
+
+/**
+ * Decide for the latest sample of one socket. Trip when:
+ * 1. Tj ≥ Tj max − marginC; or
+ * 2. the loop-gain estimate is ≥ 1 and Tj is (significantly) rising; or
+ * 3. Tj max is projected within horizonS.
+ * Warn when Tj is within a further warnExtraMarginC, the loop gain is ≥ warnLoopGain, or the
+ * projection is within warnHorizonFactor × horizonS.
+ */
+export function assessSocket(
+  history: SocketSample[],
+  device: ProtectionDevice,
+  options: Partial<ProtectionOptions> = {},
+): SocketAssessment {
+  const opts = { ...DEFAULT_PROTECTION_OPTIONS, ...options };
+  const empty = { loopGain: null, secondsToTjMax: null, slopeCPerS: null, thetaCaCPerW: null };
+  if (history.length === 0) return { tjC: null, ...empty, action: 'none', reason: 'No samples yet' };
+
+  const tjOf = (s: SocketSample) => (s.biasOn ? s.caseC + device.thetaJcCPerW * s.vV * s.iA : s.caseC);
+  const last = history[history.length - 1];
+  const tj = tjOf(last);
+  const tripAt = device.tjMaxC - opts.marginC;
+
+  // Latest continuous bias-on stretch inside the window.
+  let start = history.length;
+  while (start > 0 && history[start - 1].biasOn && history[start - 1].tS >= last.tS - opts.windowS) start--;
+  const window = history.slice(start);
+
+  let slope: number | null = null;
+  let seconds: number | null = null;
+  let rising = false;
+  let loopGain: number | null = null;
+  let thetaCa: number | null = null;
+
+  const spanS = window.length > 0 ? last.tS - window[0].tS : 0;
+  if (last.biasOn && window.length >= opts.minSamples && spanS >= opts.minTrendS) {
+    const fit = quadraticFit(
+      window.map((s) => s.tS - last.tS),
+      window.map(tjOf),
+    );
+    if (fit) {
+      slope = fit.slope;
+      rising = fit.slope > opts.minRiseCPerS && fit.slope > opts.significanceZ * fit.slopeSe;
+      const accel = Math.abs(fit.accel) > opts.significanceZ * fit.accelSe ? fit.accel : 0;
+      if (rising) seconds = projectSecondsToLimit(device.tjMaxC - Math.max(fit.c0, tj), fit.slope, accel);
+    }
+    ({ loopGain, thetaCa } = estimateLoopGain(window, device.thetaJcCPerW, opts));
+  }
+
+  const base = { tjC: tj, loopGain, secondsToTjMax: seconds, slopeCPerS: slope, thetaCaCPerW: thetaCa };
+  const tjText = `Tj ${f1(tj)} °C (max ${f1(device.tjMaxC)} °C)`;
+
+  if (tj >= tripAt) {
+    return { ...base, action: 'trip', reason: `${tjText} is within ${opts.marginC} °C of the rating` };
+  }
+  if (loopGain !== null && loopGain >= 1 && rising) {
+    return { ...base, action: 'trip', reason: `${tjText} rising with loop gain ${loopGain.toFixed(2)} ≥ 1: thermal runaway` };
+  }
+  if (seconds !== null && seconds < opts.horizonS) {
+    return { ...base, action: 'trip', reason: `${tjText} projected to reach the rating in ${Math.round(seconds)} s` };
+  }
+  if (tj >= tripAt - opts.warnExtraMarginC) {
+    return { ...base, action: 'warn', reason: `${tjText} within ${opts.marginC + opts.warnExtraMarginC} °C of the rating` };
+  }
+  if (loopGain !== null && loopGain >= opts.warnLoopGain) {
+    return { ...base, action: 'warn', reason: `${tjText}, loop gain ${loopGain.toFixed(2)}: strong thermal feedback` };
+  }
+  if (seconds !== null && seconds < opts.warnHorizonFactor * opts.horizonS) {
+    return { ...base, action: 'warn', reason: `${tjText} projected to reach the rating in ${Math.round(seconds)} s` };
+  }
+  const trend = !rising
+    ? ', not rising'
+    : seconds === null
+      ? ', rising and levelling off below the rating'
+      : `, rising (rating in about ${Math.round(seconds)} s at this trend)`;
+  return { ...base, action: 'none', reason: `${tjText}${trend}` };
+}

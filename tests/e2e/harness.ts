@@ -1,0 +1,105 @@
+/**
+ * Browser-journey harness: Debian's chromium driven by playwright-core (never a browser
+ * download), the whole stack on loopback ports of its own, a fresh database with demo data.
+ */
+import { spawnSync } from 'node:child_process';
+import * as fs from 'node:fs';
+import * as os from 'node:os';
+import * as path from 'node:path';
+import { chromium, type BrowserContext, type Page } from 'playwright-core';
+
+export const CHROMIUM = '/usr/bin/chromium';
+export const SCREENSHOT_DIR = path.resolve(__dirname, 'screenshots');
+
+export const SIZES = {
+  phone: { width: 390, height: 844 },
+  wide: { width: 1440, height: 900 },
+} as const;
+export type SizeName = keyof typeof SIZES;
+
+/** Debian's chromium, installed with apt-get when missing (CI runs as root). */
+export function ensureChromium(): void {
+  if (fs.existsSync(CHROMIUM)) return;
+  if (process.getuid?.() !== 0) throw new Error('chromium is missing: sudo apt-get install -y chromium');
+  console.log('[e2e] installing Debian package chromium (one time)…');
+  for (const args of [['update'], ['install', '-y', '--no-install-recommends', 'chromium']]) {
+    const r = spawnSync('apt-get', args, { stdio: 'inherit', env: { ...process.env, DEBIAN_FRONTEND: 'noninteractive' } });
+    if (r.status !== 0) throw new Error(`apt-get ${args.join(' ')} failed`);
+  }
+}
+
+export async function openBrowser(size: SizeName): Promise<BrowserContext> {
+  const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'emberlot-e2e-'));
+  return chromium.launchPersistentContext(dir, {
+    executablePath: CHROMIUM,
+    headless: true,
+    viewport: SIZES[size],
+    deviceScaleFactor: 1,
+    args: [
+      '--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run',
+      '--disable-background-networking', '--disable-component-update', '--disable-sync',
+      '--disable-dev-shm-usage',
+    ],
+  });
+}
+
+export interface JourneyContext {
+  baseUrl: string;
+  size: SizeName;
+  page: Page;
+  /** Save a screenshot named after the step (tests/e2e/screenshots/<size>/<journey>-<n>-<step>.png). */
+  shot: (step: string) => Promise<void>;
+  /** axe-core on the current page: fails on critical violations, returns the serious ones. */
+  checkA11y: (where: string) => Promise<string[]>;
+  signIn: (email: string, password: string) => Promise<void>;
+  log: (m: string) => void;
+  /** Shared between the two sizes of one journey (e.g. a name made unique per size). */
+  unique: string;
+}
+
+export interface Journey {
+  name: string;
+  run: (j: JourneyContext) => Promise<void>;
+}
+
+const AXE_SOURCE = fs.readFileSync(require.resolve('axe-core/axe.min.js'), 'utf8');
+
+export function makeContext(baseUrl: string, size: SizeName, journey: string, page: Page, a11yLog: string[]): JourneyContext {
+  let n = 0;
+  const dir = path.join(SCREENSHOT_DIR, size);
+  fs.mkdirSync(dir, { recursive: true });
+  const ctx: JourneyContext = {
+    baseUrl,
+    size,
+    page,
+    unique: `${size}-${Date.now().toString(36)}`,
+    log: (m) => console.log(`[e2e ${journey} @${size}] ${m}`),
+    shot: async (step) => {
+      n += 1;
+      await page.screenshot({ path: path.join(dir, `${journey}-${String(n).padStart(2, '0')}-${step}.png`), fullPage: false });
+    },
+    checkA11y: async (where) => {
+      await page.evaluate(AXE_SOURCE);
+      const result = (await page.evaluate(`axe.run(document, { resultTypes: ['violations'] })`)) as {
+        violations: Array<{ id: string; impact: string; help: string; nodes: Array<{ target: string[] }> }>;
+      };
+      const critical = result.violations.filter((v) => v.impact === 'critical');
+      const serious = result.violations.filter((v) => v.impact === 'serious').map((v) => `${where}: ${v.id} (${v.nodes.length})`);
+      a11yLog.push(...serious);
+      if (critical.length) {
+        throw new Error(
+          `accessibility: critical violations on ${where}: ` +
+            critical.map((v) => `${v.id} — ${v.help} at ${v.nodes.slice(0, 3).map((x) => x.target.join(' ')).join(', ')}`).join('; '),
+        );
+      }
+      return serious;
+    },
+    signIn: async (email, password) => {
+      await page.goto(`${baseUrl}/sign-in`);
+      await page.getByLabel(/e-?mail/i).fill(email);
+      await page.getByLabel(/password/i).fill(password);
+      await page.getByRole('button', { name: /sign in/i }).click();
+    },
+  };
+  return ctx;
+}

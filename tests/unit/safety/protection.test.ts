@@ -1,0 +1,256 @@
+import { criticalAmbientFor, gainAtTemperature } from '../../../shared/physics';
+import {
+  assessSocket,
+  projectSecondsToLimit,
+  type SocketAssessment,
+  type SocketSample,
+} from '../../../shared/safety';
+
+/** Seeded PRNG (mulberry32) — tests never use Math.random. */
+function mulberry32(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+function gaussian(rand: () => number): () => number {
+  return () => Math.sqrt(-2 * Math.log(1 - rand())) * Math.cos(2 * Math.PI * rand());
+}
+
+interface Sim {
+  /** Chamber (ambient) temperature over stress-clock time. */
+  ambientC: (tS: number) => number;
+  thetaJc: number;
+  thetaCa: number;
+  tauS: number;
+  vV: number;
+  /** Collector current at a junction temperature (forced base current: β(Tj)·IB). */
+  currentAt: (tjC: number) => number;
+  biasOn: (tS: number) => boolean;
+  sampleS: number;
+  durationS: number;
+  /** σ of case noise (°C) and relative σ of current noise. */
+  caseNoiseC: number;
+  currentNoise: number;
+  seed: number;
+}
+
+/**
+ * Single-node thermal model: τ·dTj/dt = Ta + θ·V·I(Tj) − Tj (θ = θjc + θca), the dynamics whose
+ * steady state thermalOperatingPoint solves; case = Tj − θjc·P. Euler steps of 0.05 s.
+ */
+function simulate(sim: Sim): { samples: SocketSample[]; trueTj: number[] } {
+  const rand = mulberry32(sim.seed);
+  const n = gaussian(rand);
+  const theta = sim.thetaJc + sim.thetaCa;
+  const dt = 0.05;
+  let tj = sim.ambientC(0);
+  const samples: SocketSample[] = [];
+  const trueTj: number[] = [];
+  const stepsPerSample = Math.round(sim.sampleS / dt);
+  for (let k = 0; k * sim.sampleS <= sim.durationS; k++) {
+    const tS = k * sim.sampleS;
+    const on = sim.biasOn(tS);
+    const i = on ? sim.currentAt(tj) : 0;
+    const p = sim.vV * i;
+    samples.push({
+      tS,
+      caseC: tj - sim.thetaJc * p + sim.caseNoiseC * n(),
+      vV: on ? sim.vV : 0,
+      iA: i * (1 + sim.currentNoise * n()),
+      chamberC: sim.ambientC(tS) + 0.1 * n(),
+      biasOn: on,
+    });
+    trueTj.push(tj);
+    for (let s = 0; s < stepsPerSample; s++) {
+      const t = tS + s * dt;
+      const pp = sim.biasOn(t) ? sim.vV * sim.currentAt(tj) : 0;
+      tj += (dt * (sim.ambientC(t) + theta * pp - tj)) / sim.tauS;
+      if (tj > 1000) tj = 1000;
+    }
+  }
+  return { samples, trueTj };
+}
+
+/** Run the detector on every sample as the server would, with a bounded buffer. */
+function runDetector(samples: SocketSample[], dev: { tjMaxC: number; thetaJcCPerW: number }) {
+  const results: SocketAssessment[] = [];
+  for (let k = 0; k < samples.length; k++) {
+    results.push(assessSocket(samples.slice(Math.max(0, k - 400), k + 1), dev));
+  }
+  return results;
+}
+
+const forcedIb = (ibA: number, xtb = 1.5) => (tj: number) => ibA * gainAtTemperature({ betaRef: 100, tRefC: 25, tC: tj, xtb });
+const dev = { tjMaxC: 150, thetaJcCPerW: 5 };
+
+describe('projection', () => {
+  test('linear, settling and accelerating cases', () => {
+    // common practice: constant slope 0.1 °C/s covers 30 °C in 300 s
+    expect(projectSecondsToLimit(30, 0.1, 0)).toBeCloseTo(300, 10);
+    // common practice: first-order approach Ṫ = 0.1, T̈ = −0.01 (τ 10 s) levels off 1 °C higher: never reaches 30 °C
+    expect(projectSecondsToLimit(30, 0.1, -0.01)).toBeNull();
+    // common practice: exponential growth λ = 0.01/s: 30 °C after ln(1 + 0.01·30/0.1)/0.01 = 138.6 s
+    expect(projectSecondsToLimit(30, 0.1, 0.001)).toBeCloseTo(Math.log(4) / 0.01, 6);
+    // common practice: not rising → no projection
+    expect(projectSecondsToLimit(30, -0.1, 0)).toBeNull();
+  });
+});
+
+describe('live runaway detector', () => {
+  test('empty history and the plain temperature threshold', () => {
+    expect(assessSocket([], dev).action).toBe('none');
+    const s: SocketSample = { tS: 0, caseC: 135, vV: 10, iA: 0.1, chamberC: 125, biasOn: true };
+    const r = assessSocket([s], dev);
+    // [pub: JEDEC JESD51 definitions] Tj = 135 + 5 × 10 × 0.1 = 140 °C, within 10 °C of 150 °C → trip
+    expect(r.tjC).toBeCloseTo(140, 10);
+    expect(r.action).toBe('trip');
+    // [pub: JEDEC JESD51 definitions] 139 °C is inside the 10 °C warning band above the trip margin
+    expect(assessSocket([{ ...s, caseC: 134 }], dev).action).toBe('warn');
+  });
+
+  test('healthy noisy socket whose junction settles is never tripped over a long run', () => {
+    const { samples, trueTj } = simulate({
+      // chamber ramps 25 → 125 °C in 30 min with bias on, then holds; bias off for 10 min twice
+      ambientC: (t) => Math.min(125, 25 + (100 * t) / 1800),
+      thetaJc: 5,
+      thetaCa: 35,
+      tauS: 90,
+      vV: 10,
+      currentAt: forcedIb(0.15e-3),
+      biasOn: (t) => !(t >= 3 * 3600 && t < 3 * 3600 + 600) && !(t >= 5 * 3600 && t < 5 * 3600 + 600),
+      sampleS: 5,
+      durationS: 8 * 3600,
+      caseNoiseC: 0.3,
+      currentNoise: 0.01,
+      seed: 20240611,
+    });
+    // sanity of the synthetic trace: settles near 135 °C, below Tj max − 10 °C
+    expect(Math.max(...trueTj)).toBeLessThan(136);
+    expect(trueTj[trueTj.length - 1]).toBeGreaterThan(133);
+    const results = runDetector(samples, dev);
+    const trips = results.filter((r) => r.action === 'trip');
+    // common practice: a junction settling below the trip level is not tripped despite ±0.3 °C / ±1 % noise
+    expect(trips).toEqual([]);
+    // [pub: textbook thermal-stability criterion] the loop gain, when resolvable, stays well below 1
+    // (true value θ·P·XTB/T ≈ 40 × 0.24 × 1.5 / 408 ≈ 0.035)
+    const gains = results.map((r) => r.loopGain).filter((g): g is number => g !== null);
+    expect(Math.max(...gains, 0)).toBeLessThan(0.5);
+  });
+
+  test.each([
+    { seed: 11, tauS: 20 },
+    { seed: 12, tauS: 30 },
+    { seed: 13, tauS: 60 },
+  ])('healthy socket near the trip level, bias cycled (seed $seed, τ $tauS s), is never tripped', ({ seed, tauS }) => {
+    const { samples, trueTj } = simulate({
+      ambientC: () => 125,
+      thetaJc: 5,
+      thetaCa: 35,
+      tauS,
+      vV: 10,
+      currentAt: forcedIb(0.18e-3),
+      biasOn: (t) => t >= 300 && !(t >= 3000 && t < 3300),
+      sampleS: 2,
+      durationS: 2 * 3600,
+      caseNoiseC: 0.3,
+      currentNoise: 0.01,
+      seed,
+    });
+    // the synthetic junction settles about 3.4 °C under the trip level (140 °C)
+    expect(Math.max(...trueTj)).toBeGreaterThan(136);
+    expect(Math.max(...trueTj)).toBeLessThan(137);
+    // common practice: a junction settling below the trip level is not tripped, including each bias-on step
+    expect(runDetector(samples, dev).filter((r) => r.action === 'trip')).toEqual([]);
+  });
+
+  test('forced-base runaway (gain law, no steady state below Tj max) is tripped before Tj max', () => {
+    const { samples, trueTj } = simulate({
+      ambientC: () => 110,
+      thetaJc: 1,
+      thetaCa: 39,
+      tauS: 120,
+      vV: 10,
+      currentAt: forcedIb(0.6e-3),
+      biasOn: (t) => t >= 120,
+      sampleS: 2,
+      durationS: 3600,
+      caseNoiseC: 0.3,
+      currentNoise: 0.01,
+      seed: 7,
+    });
+    const results = runDetector(samples, { tjMaxC: 150, thetaJcCPerW: 1 });
+    const k = results.findIndex((r) => r.action === 'trip');
+    const reach = trueTj.findIndex((t) => t >= 150);
+    // the uncontrolled trace does reach Tj max
+    expect(reach).toBeGreaterThan(0);
+    expect(k).toBeGreaterThan(0);
+    // [pub: textbook thermal-stability criterion] tripped while the junction is still below Tj max, at least 30 s ahead
+    expect(trueTj[k]).toBeLessThan(150);
+    expect(samples[reach].tS - samples[k].tS).toBeGreaterThanOrEqual(30);
+  });
+
+  test('slow runaway (loop gain just above 1) is tripped early, before the temperature threshold', () => {
+    // linear gain β = 100·(1 + a(T − 25)), forced IB: loop gain θ·V·IB·100·a = 40 × 10 × 0.5 mA × 100 × 0.055 = 1.1
+    const a = 0.055;
+    const { samples, trueTj } = simulate({
+      ambientC: () => 60,
+      thetaJc: 5,
+      thetaCa: 35,
+      tauS: 120,
+      vV: 10,
+      currentAt: (tj) => 0.5e-3 * 100 * (1 + a * (tj - 25)),
+      biasOn: (t) => t >= 60,
+      sampleS: 2,
+      durationS: 1800,
+      caseNoiseC: 0.3,
+      currentNoise: 0.01,
+      seed: 99,
+    });
+    const results = runDetector(samples, dev);
+    const k = results.findIndex((r) => r.action === 'trip');
+    expect(k).toBeGreaterThan(0);
+    // [pub: textbook thermal-stability criterion] K·a ≥ 1 → runaway; caught below Tj max − margin (140 °C)
+    expect(trueTj[k]).toBeLessThan(140);
+    expect(results[k].reason).toMatch(/loop gain|projected/);
+    // the uncontrolled trace does reach Tj max, later
+    expect(trueTj.findIndex((t) => t >= 150)).toBeGreaterThan(k);
+  });
+
+  test('quasi-static runaway as the chamber drifts past the critical ambient trips on loop gain', () => {
+    // forced IB with collector leakage: IC = β·IB + (β + 1)·ICBO(T), ICBO 1 µA at 25 °C doubling every 10 °C
+    const currentAt = (tj: number) => 100 * 0.1e-3 + 101 * 1e-6 * Math.pow(2, (tj - 25) / 10);
+    const crit = criticalAmbientFor({ thetaCPerW: 40, powerAt: (t) => 20 * currentAt(t) });
+    const { samples, trueTj } = simulate({
+      ambientC: (t) => 25 + (0.5 * t) / 60,
+      thetaJc: 5,
+      thetaCa: 35,
+      tauS: 60,
+      vV: 20,
+      currentAt,
+      biasOn: () => true,
+      sampleS: 2,
+      durationS: 7200,
+      caseNoiseC: 0.3,
+      currentNoise: 0.01,
+      seed: 5,
+    });
+    const results = runDetector(samples, dev);
+    const k = results.findIndex((r) => r.action === 'trip');
+    const reach = trueTj.findIndex((t) => t >= 150);
+    expect(k).toBeGreaterThan(0);
+    // [pub: textbook thermal-stability criterion] the estimated loop gain reaches 1 while Tj rises
+    expect(results[k].reason).toMatch(/loop gain/);
+    expect(results[k].loopGain!).toBeGreaterThanOrEqual(1);
+    // [pub: textbook thermal-stability criterion] not before the chamber nears the critical ambient (no early alarm) …
+    expect(samples[k].chamberC).toBeGreaterThan(crit - 5);
+    // … and at least a minute before the junction reaches Tj max
+    expect(reach).toBeGreaterThan(k);
+    expect(samples[reach].tS - samples[k].tS).toBeGreaterThanOrEqual(60);
+    expect(trueTj[k]).toBeLessThan(140);
+  });
+});
