@@ -28,7 +28,7 @@ module.exports = {
     node('broker', ['<rootDir>/tests/broker'], { setupFiles: ['<rootDir>/tests/support/env.ts'] }),
     {
       displayName: 'app',
-      preset: 'jest-expo/web',
+      preset: 'jest-expo',
       roots: ['<rootDir>/tests/app'],
       moduleNameMapper: { '^@/(.*)$': '<rootDir>/$1' },
     },

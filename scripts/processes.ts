@@ -1,18 +1,26 @@
 /**
- * The long-running processes `npm start` supervises, in start order. Each line of a process's
- * output is prefixed with its name. waitFor: a line that means "ready".
+ * The long-running processes `npm start` (and the e2e run and benchmarks) supervise, in start
+ * order. Each line of a process's output is prefixed with its name. waitFor: a line meaning "ready".
  */
+import * as fs from 'node:fs';
+import * as path from 'node:path';
+
 export interface ProcessSpec {
   name: string;
   command: string[];
   env?: NodeJS.ProcessEnv;
   waitFor?: RegExp;
   devOnly?: boolean;
+  /** Only started when this file exists (a part still being built is skipped, not fatal). */
+  file?: string;
 }
 
+const ROOT = path.resolve(__dirname, '..');
 const ts = (file: string) => [process.execPath, '-r', '@swc-node/register', file];
 
-export const PROCESSES: ProcessSpec[] = [
+const ALL: ProcessSpec[] = [
+  { name: 'mail', command: ts('server/mail-sink/main.ts'), file: 'server/mail-sink/main.ts', waitFor: /listening/i },
+  { name: 'broker', command: ts('broker/main.ts'), file: 'broker/main.ts', waitFor: /listening on/ },
   {
     name: 'expo',
     command: [process.execPath, require.resolve('expo/bin/cli'), 'start', '--web', '--port', '8081', '--host', 'localhost'],
@@ -20,4 +28,12 @@ export const PROCESSES: ProcessSpec[] = [
     devOnly: true,
   },
   { name: 'api', command: ts('server/main.ts'), waitFor: /listening on/ },
+  {
+    name: 'rigs',
+    command: [...ts('rig-simulator/main.ts')],
+    file: 'rig-simulator/main.ts',
+    waitFor: /rig\(s\)/,
+  },
 ];
+
+export const PROCESSES: ProcessSpec[] = ALL.filter((p) => !p.file || fs.existsSync(path.join(ROOT, p.file)));

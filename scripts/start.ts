@@ -12,6 +12,7 @@ import { configFromEnv } from '../server/config';
 import { createDataSource } from '../server/db/data-source';
 import { DEMO_USERS } from '../server/seed/demo-data';
 import { seedIfEmpty } from '../server/seed/seed';
+import { writeDemoFleet } from './demo-fleet';
 import { ensureDatabase, PROJECT_ROOT, startCluster, stopCluster } from './pg-cluster';
 import { startStack, type Stack } from './stack';
 import { ensureWebExport, WEB_DIR } from './web-export';
@@ -27,6 +28,9 @@ async function main() {
   const ds = createDataSource(config.db);
   await ds.initialize();
   await seedIfEmpty(ds);
+  const fleetFile = path.join(PROJECT_ROOT, '.data', 'demo-fleet.json');
+  const fleet = await writeDemoFleet(ds, fleetFile);
+  console.log(`[start] rig simulator: ${fleet.rigs} rigs, ${fleet.loaded} loaded sockets`);
   await ds.destroy();
   if (!dev) ensureWebExport();
 
@@ -50,7 +54,7 @@ async function main() {
       EMBERLOT_DB_PORT: String(pgPort),
       EMBERLOT_WEB_DIR: dev ? '' : WEB_DIR,
       EMBERLOT_DEV_PROXY: dev ? 'http://127.0.0.1:8081' : '',
-      EMBERLOT_DEMO_FLEET: path.join(PROJECT_ROOT, '.data', 'demo-fleet.json'),
+      EMBERLOT_SIM_CONFIG: fleetFile,
     },
     onUnexpectedExit: (name, code, sig) => {
       console.error(`[start] ${name} exited (${code ?? sig}); stopping everything`);

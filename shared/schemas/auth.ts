@@ -15,5 +15,8 @@ export const sessionUserSchema = z.object({
   email: z.string(),
   name: z.string(),
   role: roleSchema,
+  /** Present on GET /api/auth/me: the user's own notification subscriptions. */
+  notifyAlarms: z.boolean().optional(),
+  notifyReadPoints: z.boolean().optional(),
 });
 export type SessionUser = z.infer<typeof sessionUserSchema>;

@@ -11,6 +11,7 @@ import { configFromEnv } from '../../server/config';
 import { createDataSource } from '../../server/db/data-source';
 import { seedIfEmpty } from '../../server/seed/seed';
 import { destroyCluster, dropDatabase, ensureDatabase, PROJECT_ROOT, startCluster, type ClusterInfo } from '../../scripts/pg-cluster';
+import { writeDemoFleet } from '../../scripts/demo-fleet';
 import { startStack } from '../../scripts/stack';
 import { ensureWebExport, WEB_DIR } from '../../scripts/web-export';
 import { ensureChromium, makeContext, openBrowser, SCREENSHOT_DIR, SIZES, type Journey, type SizeName } from './harness';
@@ -43,11 +44,12 @@ async function main(): Promise<number> {
     EMBERLOT_MQTT_PORT: String(E2E_PORTS.mqtt),
     EMBERLOT_SMTP_PORT: String(E2E_PORTS.smtp),
     EMBERLOT_WEB_DIR: WEB_DIR,
-    EMBERLOT_DEMO_FLEET: path.join(PROJECT_ROOT, '.data', `e2e-fleet-${process.pid}.json`),
+    EMBERLOT_SIM_CONFIG: path.join(PROJECT_ROOT, '.data', `e2e-fleet-${process.pid}.json`),
   };
   const ds = createDataSource(configFromEnv(env).db);
   await ds.initialize();
   await seedIfEmpty(ds, () => undefined);
+  await writeDemoFleet(ds, env.EMBERLOT_SIM_CONFIG!);
   await ds.destroy();
 
   const stack = await startStack({ env, echo: process.env.EMBERLOT_E2E_VERBOSE === '1' });
@@ -87,7 +89,7 @@ async function main(): Promise<number> {
     await stack.stop();
     await dropDatabase(pg, dbName).catch(() => undefined);
     if (ownCluster) destroyCluster({ ...pgOpts, quiet: true });
-    fs.rmSync(env.EMBERLOT_DEMO_FLEET!, { force: true });
+    fs.rmSync(env.EMBERLOT_SIM_CONFIG!, { force: true });
   }
   if (a11y.length) console.log(`[e2e] serious (non-critical) accessibility findings:\n  ${[...new Set(a11y)].join('\n  ')}`);
   const result = { passed, failed: failures.length, failures, seconds: Math.round((Date.now() - t0) / 1000) };

@@ -9,6 +9,7 @@ import { signInSchema, type SessionUser } from '../../../shared/schemas/auth';
 import type { AppContext } from '../../context';
 import { AppError, unauthenticated } from '../../http/errors';
 import { ApiRouter, SESSION_COOKIE } from '../../http/route';
+import { UserEntity } from '../../db/entities';
 import { AuthService } from './auth.service';
 
 /** Sign-in attempts allowed per client address in a window (on top of the per-account lockout). */
@@ -91,7 +92,10 @@ export function authRoutes(ctx: AppContext): ApiRouter {
     });
   });
 
-  r.get('/me', { access: 'signed-in' }, ({ user }) => ({ user }));
+  r.get('/me', { access: 'signed-in' }, async ({ user }) => {
+    const u = await ctx.ds.getRepository(UserEntity).findOneByOrFail({ id: user.id });
+    return { user: { ...user, notifyAlarms: u.notifyAlarms, notifyReadPoints: u.notifyReadPoints } };
+  });
   return r;
 }
 

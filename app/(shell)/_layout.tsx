@@ -1,0 +1,3 @@
+import { ShellLayout } from '@/components/shell/ShellLayout';
+
+export default ShellLayout;

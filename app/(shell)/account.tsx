@@ -1,0 +1,3 @@
+import { AccountScreen } from '@/components/account/AccountScreen';
+
+export default AccountScreen;

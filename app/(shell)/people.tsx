@@ -1,0 +1,3 @@
+import { PeopleScreen } from '@/components/people/PeopleScreen';
+
+export default PeopleScreen;

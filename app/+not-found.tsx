@@ -1,0 +1,3 @@
+import { NotFoundScreen } from '@/components/common/NotFoundScreen';
+
+export default NotFoundScreen;

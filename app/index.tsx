@@ -1,0 +1,3 @@
+import { StartRedirect } from '@/components/auth/StartRedirect';
+
+export default StartRedirect;

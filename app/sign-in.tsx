@@ -1,0 +1,3 @@
+import { SignInScreen } from '@/components/auth/SignInScreen';
+
+export default SignInScreen;

@@ -1,0 +1,185 @@
+import { useState } from 'react';
+import { View } from 'react-native';
+import { ROLE_LABEL, type Role } from '@/shared/roles';
+import type { User } from '@/shared/schemas/users';
+import { formatDateTime } from '@/components/common/format';
+import { Header } from '@/components/layout/Header';
+import { Screen } from '@/components/layout/Screen';
+import { describeError } from '@/components/queries/api';
+import { useMe } from '@/components/queries/auth';
+import { useUpdateUser, useUsers } from '@/components/queries/users';
+import { space } from '@/components/theme/tokens';
+import { Badge, StatusPill } from '@/components/ui/StatusPill';
+import { Banner } from '@/components/ui/Banner';
+import { Button } from '@/components/ui/Button';
+import { ConfirmDialog } from '@/components/ui/ConfirmDialog';
+import { DataTable, type Column } from '@/components/ui/DataTable';
+import { EmptyState } from '@/components/ui/EmptyState';
+import { QueryState } from '@/components/ui/QueryState';
+import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
+import { Text } from '@/components/ui/Text';
+import { AddPersonForm } from './AddPersonForm';
+import { ROLE_CHOICES } from './roles';
+
+type Pending = { kind: 'role'; user: User; role: Role } | { kind: 'active'; user: User } | null;
+
+/** Admin home: who can sign in, with which role. */
+export function PeopleScreen() {
+  const users = useUsers();
+  const me = useMe();
+  const update = useUpdateUser();
+  const [adding, setAdding] = useState(false);
+  const [pending, setPending] = useState<Pending>(null);
+  const [notice, setNotice] = useState<string | null>(null);
+
+  const close = () => {
+    setPending(null);
+    update.reset();
+  };
+
+  const confirm = () => {
+    if (!pending) return;
+    const { user } = pending;
+    const patch = pending.kind === 'role' ? { role: pending.role } : { active: !user.active };
+    update.mutate(
+      { id: user.id, patch },
+      {
+        onSuccess: (u) => {
+          setNotice(
+            pending.kind === 'role'
+              ? `${u.name} is now ${ROLE_LABEL[u.role].toLowerCase()}.`
+              : u.active
+                ? `${u.name} can sign in again.`
+                : `${u.name} is deactivated and cannot sign in.`,
+          );
+          setPending(null);
+        },
+      },
+    );
+  };
+
+  const isSelf = (u: User) => me.data?.id === u.id;
+
+  const columns: Column<User>[] = [
+    { key: 'name', title: 'Name', flex: 1.3, card: 'title', render: (u) => u.name },
+    {
+      key: 'email',
+      title: 'E-mail',
+      flex: 2,
+      card: 'subtitle',
+      render: (u) => (
+        <Text variant="label" tone="muted" numberOfLines={1}>
+          {u.email}
+        </Text>
+      ),
+    },
+    { key: 'role', title: 'Role', flex: 1.4, render: (u) => <Badge label={ROLE_LABEL[u.role]} /> },
+    {
+      key: 'active',
+      title: 'Status',
+      flex: 1,
+      render: (u) => (u.active ? <StatusPill tone="ok" label="Active" size="sm" /> : <StatusPill tone="idle" label="Deactivated" size="sm" />),
+    },
+    { key: 'last', title: 'Last sign-in', flex: 1.3, render: (u) => formatDateTime(u.lastSignInAt) },
+    {
+      key: 'actions',
+      title: 'Actions',
+      flex: 1.9,
+      card: 'actions',
+      render: (u) =>
+        isSelf(u) ? (
+          <Text variant="caption" tone="muted">
+            This is you
+          </Text>
+        ) : (
+          <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
+            <Button size="sm" label="Change role" accessibilityLabel={`Change role of ${u.name}`} onPress={() => setPending({ kind: 'role', user: u, role: u.role })} />
+            <Button
+              size="sm"
+              variant="quiet"
+              label={u.active ? 'Deactivate' : 'Reactivate'}
+              accessibilityLabel={`${u.active ? 'Deactivate' : 'Reactivate'} ${u.name}`}
+              onPress={() => setPending({ kind: 'active', user: u })}
+            />
+          </View>
+        ),
+    },
+  ];
+
+  return (
+    <Screen width="wide" testID="people-screen">
+      <Header
+        eyebrow="Administration"
+        title="People"
+        subtitle="Everyone who can sign in to Emberlot, and what their role lets them do."
+        actions={adding ? null : <Button label="Add person" variant="primary" onPress={() => { setNotice(null); setAdding(true); }} />}
+      />
+      {notice ? (
+        <Banner tone="ok" action={<Button size="sm" variant="quiet" label="Dismiss" onPress={() => setNotice(null)} />}>
+          {notice}
+        </Banner>
+      ) : null}
+      {adding ? (
+        <AddPersonForm
+          onCancel={() => setAdding(false)}
+          onCreated={(u) => {
+            setAdding(false);
+            setNotice(`${u.name} was added as ${ROLE_LABEL[u.role].toLowerCase()} and can sign in now.`);
+          }}
+        />
+      ) : null}
+      <QueryState
+        query={users}
+        loadingLabel="Loading people…"
+        errorTitle="Could not load people"
+        isEmpty={(list) => list.length === 0}
+        empty={<EmptyState title="Nobody here yet" message="Add the first engineers, operators and managers so they can sign in." />}
+      >
+        {(list) => (
+          <DataTable
+            caption="People who can sign in"
+            columns={columns}
+            rows={[...list].sort((a, b) => Number(b.active) - Number(a.active) || a.name.localeCompare(b.name))}
+            rowKey={(u) => u.id}
+            testID="people-table"
+          />
+        )}
+      </QueryState>
+
+      <ConfirmDialog
+        visible={pending?.kind === 'role'}
+        title={pending ? `Change the role of ${pending.user.name}` : ''}
+        message="The new role takes effect on their next page load."
+        confirmLabel="Save role"
+        onConfirm={confirm}
+        onCancel={close}
+        busy={update.isPending}
+        confirmDisabled={pending?.kind === 'role' && pending.role === pending.user.role}
+        testID="confirm-role"
+      >
+        {pending?.kind === 'role' ? (
+          <SegmentedChoice label="Role" options={ROLE_CHOICES} value={pending.role} onChange={(role) => setPending({ ...pending, role })} />
+        ) : null}
+        {update.isError ? <Banner tone="danger">{describeError(update.error)}</Banner> : null}
+      </ConfirmDialog>
+
+      <ConfirmDialog
+        visible={pending?.kind === 'active'}
+        title={pending ? `${pending.user.active ? 'Deactivate' : 'Reactivate'} ${pending.user.name}?` : ''}
+        message={
+          pending?.user.active
+            ? 'They will not be able to sign in until an administrator reactivates the account. Their plans and records stay.'
+            : 'They will be able to sign in again with their existing password.'
+        }
+        confirmLabel={pending?.user.active ? 'Deactivate' : 'Reactivate'}
+        confirmVariant={pending?.user.active ? 'danger' : 'primary'}
+        testID="confirm-active"
+        onConfirm={confirm}
+        onCancel={close}
+        busy={update.isPending}
+      >
+        {update.isError ? <Banner tone="danger">{describeError(update.error)}</Banner> : null}
+      </ConfirmDialog>
+    </Screen>
+  );
+}

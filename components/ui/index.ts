@@ -1,0 +1,16 @@
+export { Text } from './Text';
+export { Button, type ButtonVariant } from './Button';
+export { Card } from './Card';
+export { Field } from './Field';
+export { SegmentedChoice, type Choice } from './SegmentedChoice';
+export { Toggle } from './Toggle';
+export { StatusPill, Badge } from './StatusPill';
+export { StatusShape } from './StatusShape';
+export { Banner, type BannerTone } from './Banner';
+export { SafetyCaution, SAFETY_CAUTION_LINES } from './SafetyCaution';
+export { EmptyState } from './EmptyState';
+export { ErrorState } from './ErrorState';
+export { Loading } from './Loading';
+export { QueryState } from './QueryState';
+export { DataTable, type Column } from './DataTable';
+export { ConfirmDialog } from './ConfirmDialog';

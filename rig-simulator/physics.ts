@@ -1,0 +1,406 @@
+/**
+ * Pure rig physics: oven, sockets, devices. No timers, no I/O — `stepRig(state, dtS)` returns a
+ * new state, so every behaviour (lag, runaway, drift, destruction) is unit-testable.
+ *
+ * Time is in *stress* seconds (the rig's accelerated clock), temperatures in °C.
+ *
+ * Thermal path per socket: chamber —θca— case —θjc— junction.
+ *   case → chamber + θca·P with a first-order lag (τcase, the heat sink's thermal mass);
+ *   Tj = case + θjc·P (the die's own time constant is far shorter than a sample) [JEDEC JESD51 definitions].
+ * Electrical:
+ *   powered bias at forced IB: IC = β(Tj)·IB + (β+1)·ICBO(Tj), clamped by the supply's current limit;
+ *   reverse bias: I = ICBO(Tj). β(T) from the Gummel–Poon law, ICBO doubling per ~10 °C (shared/physics).
+ * Power is evaluated at the previous sub-step's Tj; sub-steps are a fraction of τcase, and the
+ * exponential update is unconditionally stable, so a stable loop settles and an unstable one
+ * (θ·∂P/∂Tj ≥ 1) runs away exactly as the steady-state criterion predicts.
+ */
+import { gainAtTemperature, leakageAtTemperature } from '../shared/physics';
+import { createRng, gaussian, hashString } from './rng';
+
+export type BiasMode = 'powered' | 'reverse';
+export type FailMode = 'short' | 'open';
+
+/** One device under stress, with its individual parameters and its lot's drift rates. */
+export interface DeviceModel {
+  serial: string;
+  partNumber: string;
+  lotCode: string;
+  /** hFE at betaRefTC (and the part's reference IC). */
+  betaRef: number;
+  betaRefTC: number;
+  /** Gain-temperature exponent XTB. */
+  xtb: number;
+  /** ICBO at icboRefTC, A. */
+  icboRefA: number;
+  icboRefTC: number;
+  /** °C per doubling of leakage. */
+  doublingC: number;
+  thetaJcCPerW: number;
+  tjMaxC: number;
+  /** Linear hFE drift under stress, % of initial per 1000 stress hours (negative = gain falls). */
+  hfeDriftPctPer1000h: number;
+  /** Leakage growth factor per 1000 stress hours (1 = none), applied as ratio^(h/1000). */
+  leakageRatioPer1000h: number;
+  /** What the device becomes when destroyed by overheating. */
+  failMode: FailMode;
+}
+
+export interface SocketState {
+  i: number;
+  device: DeviceModel;
+  mode: BiasMode;
+  /** Case-to-chamber thermal resistance: the socket's heat sinking. */
+  thetaCaCPerW: number;
+  /** First-order time constant of the case temperature, stress seconds. */
+  caseTauS: number;
+  /**
+   * Heat-sink degradation (a drying thermal pad, a loose clamp): θca grows by this many °C/W per
+   * stress hour while the socket is energised, up to thetaCaMaxCPerW. 0 = a sound socket.
+   */
+  thetaCaRampCPerWPerH: number;
+  thetaCaMaxCPerW: number;
+  /** Requested bias (the trip latch overrides it). */
+  biasOn: boolean;
+  /** VCE (powered) or reverse voltage (reverse), V. */
+  vV: number;
+  /** Forced base current IB under powered bias, A (unused under reverse bias). */
+  ibA: number;
+  /** Bias supply current limit, A. */
+  complianceA: number;
+  tripped: boolean;
+  tripReason: string | null;
+  destroyed: FailMode | null;
+  caseC: number;
+  tjC: number;
+  /** Device current now, A (collector current or leakage). */
+  iA: number;
+  /** Voltage across the device now, V (≈0 when off or shorted). */
+  vOutV: number;
+  powerW: number;
+  /** Stress hours accumulated under bias: drives drift. */
+  stressH: number;
+}
+
+export interface RigState {
+  rigCode: string;
+  /** Accelerated clock, stress seconds since boot. */
+  stressClockS: number;
+  chamberC: number;
+  setpointC: number;
+  chamberTauS: number;
+  humidityPct: number | null;
+  humiditySetpointPct: number | null;
+  maxTempC: number;
+  humidityCapable: boolean;
+  sockets: SocketState[];
+}
+
+export const DESTROY_MARGIN_C = 50;
+/** Resistance of a shorted die, Ω. */
+const SHORT_OHMS = 0.05;
+/** Base-emitter drop for base-drive power, V. */
+const VBE_V = 0.7;
+
+export function hfeDriftFactor(device: DeviceModel, stressH: number): number {
+  return Math.max(0.05, 1 + (device.hfeDriftPctPer1000h / 100) * (stressH / 1000));
+}
+
+export function leakageDriftFactor(device: DeviceModel, stressH: number): number {
+  return Math.pow(device.leakageRatioPer1000h, stressH / 1000);
+}
+
+export function deviceGain(device: DeviceModel, tC: number, stressH = 0): number {
+  const beta = gainAtTemperature({ betaRef: device.betaRef, tRefC: device.betaRefTC, tC, xtb: device.xtb });
+  return beta * hfeDriftFactor(device, stressH);
+}
+
+export function deviceLeakage(device: DeviceModel, tC: number, stressH = 0): number {
+  const i = leakageAtTemperature({ iRefA: device.icboRefA, tRefC: device.icboRefTC, tC, doublingC: device.doublingC });
+  return i * leakageDriftFactor(device, stressH);
+}
+
+/** True when bias actually reaches the device. */
+export function isEnergised(s: Pick<SocketState, 'biasOn' | 'tripped'>): boolean {
+  return s.biasOn && !s.tripped;
+}
+
+/** Electrical operating point of a socket at a junction temperature (pure). */
+export function socketElectrical(s: SocketState, tjC: number): { iA: number; vOutV: number; powerW: number } {
+  if (!isEnergised(s) || s.destroyed === 'open') return { iA: 0, vOutV: 0, powerW: 0 };
+  if (s.destroyed === 'short') {
+    const i = Math.min(s.complianceA, s.vV / SHORT_OHMS);
+    return { iA: i, vOutV: i * SHORT_OHMS, powerW: i * i * SHORT_OHMS };
+  }
+  if (s.mode === 'reverse') {
+    const i = Math.min(s.complianceA, deviceLeakage(s.device, tjC, s.stressH));
+    return { iA: i, vOutV: s.vV, powerW: s.vV * i };
+  }
+  const beta = deviceGain(s.device, tjC, s.stressH);
+  const icbo = deviceLeakage(s.device, tjC, s.stressH);
+  const ic = Math.min(s.complianceA, beta * s.ibA + (beta + 1) * icbo);
+  return { iA: ic, vOutV: s.vV, powerW: s.vV * ic + VBE_V * s.ibA };
+}
+
+/** Dissipation as a function of Tj for a socket (for steady-state solvers and tests). */
+export function socketPowerAt(s: SocketState): (tjC: number) => number {
+  return (tjC) => socketElectrical(s, tjC).powerW;
+}
+
+/** Largest sub-step used by stepRig: a quarter of the fastest time constant. */
+export function maxSubstepS(state: RigState): number {
+  let tau = state.chamberTauS;
+  for (const s of state.sockets) tau = Math.min(tau, s.caseTauS);
+  return Math.max(1e-3, tau / 4);
+}
+
+function lag(current: number, target: number, dtS: number, tauS: number): number {
+  if (tauS <= 0) return target;
+  return target + (current - target) * Math.exp(-dtS / tauS);
+}
+
+function stepSocket(s: SocketState, chamberC: number, h: number): SocketState {
+  const before = socketElectrical(s, s.tjC);
+  const caseC = lag(s.caseC, chamberC + s.thetaCaCPerW * before.powerW, h, s.caseTauS);
+  let next: SocketState = { ...s, caseC };
+  if (s.thetaCaRampCPerWPerH > 0 && isEnergised(s)) {
+    next.thetaCaCPerW = Math.min(s.thetaCaMaxCPerW, s.thetaCaCPerW + (s.thetaCaRampCPerWPerH * h) / 3600);
+  }
+  next.tjC = caseC + s.device.thetaJcCPerW * before.powerW;
+  if (!next.destroyed && next.tjC > s.device.tjMaxC + DESTROY_MARGIN_C) {
+    next = { ...next, destroyed: s.device.failMode };
+  }
+  const now = socketElectrical(next, next.tjC);
+  next.iA = now.iA;
+  next.vOutV = now.vOutV;
+  next.powerW = now.powerW;
+  if (isEnergised(s) && !s.destroyed) next.stressH = s.stressH + h / 3600;
+  return next;
+}
+
+/** Advance the whole rig by dtS stress seconds (pure; splits into stable sub-steps). */
+export function stepRig(state: RigState, dtS: number): RigState {
+  if (!(dtS > 0)) return state;
+  const n = Math.max(1, Math.ceil(dtS / maxSubstepS(state)));
+  const h = dtS / n;
+  let chamberC = state.chamberC;
+  let humidityPct = state.humidityPct;
+  let sockets = state.sockets;
+  for (let k = 0; k < n; k++) {
+    chamberC = lag(chamberC, state.setpointC, h, state.chamberTauS);
+    if (state.humiditySetpointPct === null) humidityPct = null;
+    else humidityPct = lag(humidityPct ?? 0, state.humiditySetpointPct, h, state.chamberTauS);
+    const c = chamberC;
+    sockets = sockets.map((s) => stepSocket(s, c, h));
+  }
+  return { ...state, stressClockS: state.stressClockS + dtS, chamberC, humidityPct, sockets };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Demo parts, lots and devices (invented: Harrowgate Power Devices)
+
+export interface PartModel {
+  partNumber: string;
+  betaRef: number;
+  betaRefTC: number;
+  xtb: number;
+  icboRefA: number;
+  icboRefTC: number;
+  doublingC: number;
+  thetaJcCPerW: number;
+  tjMaxC: number;
+  bvcboV: number;
+}
+
+/** A TO-220-class NPN power transistor. */
+export const DEMO_PART: PartModel = {
+  partNumber: 'HPD-T220N',
+  betaRef: 80,
+  betaRefTC: 25,
+  xtb: 1.5,
+  icboRefA: 10e-9,
+  icboRefTC: 25,
+  doublingC: 10,
+  thetaJcCPerW: 1.5,
+  tjMaxC: 150,
+  bvcboV: 200,
+};
+
+export interface LotModel {
+  lotCode: string;
+  part: PartModel;
+  hfeDriftPctPer1000h: number;
+  leakageRatioPer1000h: number;
+}
+
+export const DEMO_LOTS: LotModel[] = [
+  /** Healthy lot: small drift, well inside ±15 % hFE and 2× leakage at 1000 h. */
+  { lotCode: 'HPD-L2403', part: DEMO_PART, hfeDriftPctPer1000h: -1.5, leakageRatioPer1000h: 1.15 },
+  /** Drifting lot: hFE falls ~12 %/1000 h, leakage ×3.6 per 1000 h — fails on leakage near 1000 h. */
+  { lotCode: 'HPD-L2411', part: DEMO_PART, hfeDriftPctPer1000h: -12, leakageRatioPer1000h: 3.6 },
+];
+
+/** Devices of a lot with device-to-device spread, deterministic for a (lot, seed). */
+export function makeLotDevices(lot: LotModel, count: number, seed = 1, firstSerial = 1): DeviceModel[] {
+  const rng = createRng(hashString(`${lot.lotCode}:${seed}`));
+  const out: DeviceModel[] = [];
+  for (let k = 0; k < count; k++) {
+    const p = lot.part;
+    out.push({
+      serial: `${lot.lotCode}-${String(firstSerial + k).padStart(3, '0')}`,
+      partNumber: p.partNumber,
+      lotCode: lot.lotCode,
+      betaRef: p.betaRef * (1 + 0.06 * gaussian(rng)),
+      betaRefTC: p.betaRefTC,
+      xtb: p.xtb,
+      icboRefA: p.icboRefA * Math.exp(0.3 * gaussian(rng)),
+      icboRefTC: p.icboRefTC,
+      doublingC: p.doublingC,
+      thetaJcCPerW: p.thetaJcCPerW * (1 + 0.05 * gaussian(rng)),
+      tjMaxC: p.tjMaxC,
+      hfeDriftPctPer1000h: lot.hfeDriftPctPer1000h * (1 + 0.2 * gaussian(rng)),
+      leakageRatioPer1000h: Math.max(1, lot.leakageRatioPer1000h * (1 + 0.1 * gaussian(rng))),
+      failMode: rng() < 0.8 ? 'short' : 'open',
+    });
+  }
+  return out;
+}
+
+export interface SocketSetup {
+  device: DeviceModel;
+  mode?: BiasMode;
+  thetaCaCPerW?: number;
+  caseTauS?: number;
+  /** Heat-sink degradation, °C/W per stress hour, up to thetaCaMaxCPerW. */
+  thetaCaRampCPerWPerH?: number;
+  thetaCaMaxCPerW?: number;
+  vV?: number;
+  ibA?: number;
+  complianceA?: number;
+  biasOn?: boolean;
+}
+
+export interface RigSetup {
+  rigCode: string;
+  sockets: SocketSetup[];
+  chamberC?: number;
+  setpointC?: number;
+  /** Oven lag, stress seconds (default 0.5 stress-hour). */
+  chamberTauS?: number;
+  humidityPct?: number | null;
+  maxTempC?: number;
+  humidityCapable?: boolean;
+}
+
+export const DEFAULTS = {
+  chamberTauS: 1800,
+  caseTauS: 120,
+  /** A socket on a proper heat sink. */
+  thetaCaCPerW: 2,
+  /** A socket with next to no heat sinking (runs away under the default powered bias). */
+  poorThetaCaCPerW: 24,
+  poweredVceV: 20,
+  poweredIbA: 0.005,
+  reverseV: 160,
+  complianceA: 2,
+  maxTempC: 250,
+} as const;
+
+export function createRigState(setup: RigSetup): RigState {
+  const chamberC = setup.chamberC ?? 25;
+  const humidity = setup.humidityPct ?? null;
+  return {
+    rigCode: setup.rigCode,
+    stressClockS: 0,
+    chamberC,
+    setpointC: setup.setpointC ?? chamberC,
+    chamberTauS: setup.chamberTauS ?? DEFAULTS.chamberTauS,
+    humidityPct: humidity,
+    humiditySetpointPct: humidity,
+    maxTempC: setup.maxTempC ?? DEFAULTS.maxTempC,
+    humidityCapable: setup.humidityCapable ?? humidity !== null,
+    sockets: setup.sockets.map((s, i) => {
+      const mode = s.mode ?? 'powered';
+      const socket: SocketState = {
+        i,
+        device: s.device,
+        mode,
+        thetaCaCPerW: s.thetaCaCPerW ?? DEFAULTS.thetaCaCPerW,
+        caseTauS: s.caseTauS ?? DEFAULTS.caseTauS,
+        thetaCaRampCPerWPerH: s.thetaCaRampCPerWPerH ?? 0,
+        thetaCaMaxCPerW: s.thetaCaMaxCPerW ?? s.thetaCaCPerW ?? DEFAULTS.thetaCaCPerW,
+        biasOn: s.biasOn ?? false,
+        vV: s.vV ?? (mode === 'powered' ? DEFAULTS.poweredVceV : DEFAULTS.reverseV),
+        ibA: s.ibA ?? DEFAULTS.poweredIbA,
+        complianceA: s.complianceA ?? DEFAULTS.complianceA,
+        tripped: false,
+        tripReason: null,
+        destroyed: null,
+        caseC: chamberC,
+        tjC: chamberC,
+        iA: 0,
+        vOutV: 0,
+        powerW: 0,
+        stressH: 0,
+      };
+      const e = socketElectrical(socket, chamberC);
+      return { ...socket, iA: e.iA, vOutV: e.vOutV, powerW: e.powerW };
+    }),
+  };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Read-point measurements
+
+export interface ReadPointOptions {
+  /** Test temperature of the electrical measurement (°C). */
+  testTC?: number;
+  /** 1-σ measurement repeatability, % of reading. */
+  noisePct?: number;
+  seed?: number;
+}
+
+export interface ReadPointMeasurement {
+  serial: string;
+  lotCode: string;
+  partNumber: string;
+  readPointH: number;
+  hfe: number;
+  icboA: number;
+}
+
+/**
+ * What a parametric tester would read for this device after `stressHours` of stress: hFE and ICBO
+ * at the test temperature, with the lot's drift and a small, deterministic repeatability error.
+ * Pure — the demo read-point CSVs are generated from it.
+ */
+export function measureReadPoint(device: DeviceModel, stressHours: number, opts: ReadPointOptions = {}): ReadPointMeasurement {
+  const testTC = opts.testTC ?? 25;
+  const noise = (opts.noisePct ?? 0.5) / 100;
+  const rng = createRng(hashString(`${device.serial}@${stressHours}#${opts.seed ?? 1}`));
+  const hfe = deviceGain(device, testTC, stressHours) * (1 + noise * gaussian(rng));
+  const icbo = deviceLeakage(device, testTC, stressHours) * (1 + noise * gaussian(rng));
+  return {
+    serial: device.serial,
+    lotCode: device.lotCode,
+    partNumber: device.partNumber,
+    readPointH: stressHours,
+    hfe: Number(hfe.toPrecision(4)),
+    icboA: Number(icbo.toPrecision(4)),
+  };
+}
+
+/** Every device at every read point (default 0 / 168 / 500 / 1000 h — common practice). */
+export function readPointTable(
+  devices: DeviceModel[],
+  readPointsH: number[] = [0, 168, 500, 1000],
+  opts: ReadPointOptions = {},
+): ReadPointMeasurement[] {
+  return readPointsH.flatMap((h) => devices.map((d) => measureReadPoint(d, h, opts)));
+}
+
+export const READ_POINT_CSV_HEADER = 'serial,lot,part_number,read_point_h,hfe,icbo_a';
+
+export function readPointCsv(rows: ReadPointMeasurement[]): string {
+  const lines = rows.map((r) => [r.serial, r.lotCode, r.partNumber, r.readPointH, r.hfe, r.icboA].join(','));
+  return [READ_POINT_CSV_HEADER, ...lines].join('\n') + '\n';
+}

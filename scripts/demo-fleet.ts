@@ -1,0 +1,121 @@
+/**
+ * Writes the rig simulator's fleet file for the demo from the database: one simulated rig per
+ * registered rig (demo secrets), the devices of each rig's active run in its sockets with their
+ * lot's drift, and the run's bias. Rigs without an active run idle at room temperature.
+ * One socket of the first powered-life run gets poor heat sinking, so live protection has a
+ * runaway to catch in the demo.
+ */
+import * as fs from 'node:fs';
+import * as path from 'node:path';
+import type { DataSource } from 'typeorm';
+import { DEMO_LOTS, demoRigSecret, rigMqttUsername } from '../server/seed/demo-data';
+
+const ACTIVE = ['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling'];
+const IDLE_SOCKETS = 4;
+/** Wall seconds between messages: 0.5 s = half a stress hour at the default clock. */
+const DEMO_SAMPLE_S = 0.5;
+
+interface SocketRow {
+  socket_index: number;
+  serial: string;
+  lot_code: string;
+  part_number: string;
+  beta_ref: number;
+  beta_ref_tc: number;
+  xtb: number;
+  icbo_ref_a: number | null;
+  theta_jc_c_per_w: number;
+  tj_max_c: number;
+}
+
+function spread(seed: string, pct: number): number {
+  let h = 2166136261;
+  for (const c of seed) h = Math.imul(h ^ c.charCodeAt(0), 16777619);
+  const u = ((h >>> 0) % 10000) / 10000; // 0..1
+  return 1 + (u * 2 - 1) * pct;
+}
+
+export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ rigs: number; loaded: number }> {
+  const rigs: Array<{ id: string; code: string; socket_count: number; humidity_capable: boolean; max_temp_c: number }> = await ds.query(
+    `SELECT id, code, socket_count, humidity_capable, max_temp_c FROM rigs WHERE active ORDER BY code`,
+  );
+  const runs: Array<{ id: string; rig_id: string; state: string; kind: string; chamber_c: number; humidity_pct: number | null; bias: any }> =
+    await ds.query(
+      `SELECT r.id, r.rig_id, r.state, p.kind, p.chamber_c, p.humidity_pct, p.bias
+         FROM runs r JOIN stress_plans p ON p.id = r.plan_id
+        WHERE r.rig_id IS NOT NULL AND r.state = ANY($1) ORDER BY r.created_at`,
+      [ACTIVE],
+    );
+  let faultPlaced = false;
+  let loaded = 0;
+  const fleet = {
+    defaults: { samplePeriodWallS: DEMO_SAMPLE_S, firmware: 'hpd-sim 1.0', faults: { noise: { tempC: 0.2, currentPct: 0.5 } } },
+    rigs: [] as Array<Record<string, unknown>>,
+  };
+  for (const rig of rigs) {
+    const base = {
+      rigCode: rig.code,
+      username: rigMqttUsername(rig.code),
+      password: demoRigSecret(rig.code),
+      humidityCapable: rig.humidity_capable,
+      maxTempC: rig.max_temp_c,
+    };
+    const run = runs.find((r) => r.rig_id === rig.id);
+    const sockets: SocketRow[] = run
+      ? await ds.query(
+          `SELECT s.socket_index, d.serial, l.code AS lot_code, t.part_number, t.beta_ref, t.beta_ref_tc, t.xtb, t.icbo_ref_a,
+                  t.theta_jc_c_per_w, t.tj_max_c
+             FROM run_sockets s JOIN devices d ON d.id = s.device_id JOIN lots l ON l.id = d.lot_id
+             JOIN device_types t ON t.id = l.device_type_id
+            WHERE s.run_id = $1 ORDER BY s.socket_index`,
+          [run.id],
+        )
+      : [];
+    if (!run || sockets.length === 0) {
+      fleet.rigs.push({ ...base, sockets: IDLE_SOCKETS, mode: 'reverse', biasOn: false, chamberC: 25, setpointC: 25, vV: 0, iA: 0.001 });
+      continue;
+    }
+    loaded += sockets.length;
+    const reverse = run.kind === 'htrb' || run.kind === 'thb';
+    const devices = sockets.map((s) => {
+      const lot = DEMO_LOTS.find((l) => l.code === s.lot_code);
+      return {
+        serial: s.serial,
+        partNumber: s.part_number,
+        lotCode: s.lot_code,
+        betaRef: s.beta_ref * spread(s.serial, 0.1),
+        betaRefTC: s.beta_ref_tc,
+        xtb: s.xtb,
+        icboRefA: (s.icbo_ref_a ?? 20e-9) * spread(`${s.serial}:i`, 0.3),
+        icboRefTC: 25,
+        doublingC: 10,
+        thetaJcCPerW: s.theta_jc_c_per_w,
+        tjMaxC: s.tj_max_c,
+        hfeDriftPctPer1000h: lot?.hfeDriftPctPer1000h ?? -2,
+        leakageRatioPer1000h: lot?.leakageGrowthPer1000h ?? 1.2,
+        failMode: 'short' as const,
+      };
+    });
+    const stressing = run.state === 'stressing';
+    const bias = run.bias ?? {};
+    const entry: Record<string, unknown> = {
+      ...base,
+      devices,
+      mode: reverse ? 'reverse' : 'powered',
+      biasOn: stressing,
+      chamberC: stressing ? run.chamber_c : 25,
+      setpointC: stressing ? run.chamber_c : 25,
+      humidityPct: run.humidity_pct,
+      vV: reverse ? bias.vcbV ?? 0 : bias.vceV ?? 0,
+      iA: reverse ? 0.001 : bias.ibA ?? (bias.icA ? bias.icA / 100 : 0.001),
+    };
+    if (!reverse && !faultPlaced && devices.length > 5) {
+      entry.faults = { noise: { tempC: 0.2, currentPct: 0.5 }, poorHeatSink: { sockets: [5], rampCPerWPerH: 1 } };
+      faultPlaced = true;
+    }
+    fleet.rigs.push(entry);
+  }
+  fs.mkdirSync(path.dirname(file), { recursive: true });
+  fs.writeFileSync(file, JSON.stringify(fleet, null, 2));
+  return { rigs: fleet.rigs.length, loaded };
+}

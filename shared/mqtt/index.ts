@@ -1,0 +1,3 @@
+/** MQTT contracts shared by the server, the broker, the rig simulator and the app (no I/O here). */
+export * from './topics';
+export * from './payloads';

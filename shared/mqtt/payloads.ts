@@ -1,0 +1,271 @@
+/**
+ * MQTT payload contracts, version 1 (JSON, UTF-8). Every message carries `v: 1`. Receivers must
+ * validate with these schemas and drop (and count) what fails; a payload's `rig` must also equal
+ * the rig code in its topic — the broker guarantees the topic, not the body.
+ */
+import { z } from 'zod';
+import { RIG_CODE_PATTERN } from './topics';
+
+/** Broker-side cap on one MQTT packet; 256 sockets of telemetry are ~30 KiB, so this is generous. */
+export const MAX_PACKET_BYTES = 256 * 1024;
+/** Sockets on one rig board (socket index 0…255). */
+export const MAX_SOCKETS = 256;
+/** Plausibility limits. Absolute zero below; above 500 °C no burn-in hardware survives. */
+export const TEMP_MIN_C = -273.15;
+export const TEMP_MAX_C = 500;
+/** Magnitudes a burn-in bias supply can reach. */
+export const VOLTAGE_LIMIT_V = 10_000;
+export const CURRENT_LIMIT_A = 1_000;
+/** Ranges in one `stored` command. */
+export const MAX_STORED_RANGES = 1_000;
+
+/** z.number() in zod 4 already rejects NaN and ±Infinity; bounds make "finite" explicit. */
+const tempC = () => z.number().min(TEMP_MIN_C).max(TEMP_MAX_C);
+const pct = () => z.number().min(0).max(100);
+const volts = () => z.number().min(-VOLTAGE_LIMIT_V).max(VOLTAGE_LIMIT_V);
+const amps = () => z.number().min(-CURRENT_LIMIT_A).max(CURRENT_LIMIT_A);
+const seqNo = () => z.number().int().min(1).max(Number.MAX_SAFE_INTEGER);
+const socketIndex = () => z.number().int().min(0).max(MAX_SOCKETS - 1);
+const isoTime = () => z.iso.datetime({ offset: true });
+
+export const rigCodeSchema = z.string().regex(RIG_CODE_PATTERN, 'Rig code must be 2–32 of A–Z, 0–9, "-"');
+export const cmdIdSchema = z.string().min(1).max(64).regex(/^[A-Za-z0-9._:-]+$/, 'cmdId: letters, digits, . _ : -');
+
+/** One socket's reading at the sample instant. */
+export const socketReadingSchema = z.object({
+  /** 0-based socket index on the rig board. */
+  i: socketIndex(),
+  /** Case (or socket thermocouple) temperature, °C. */
+  caseC: tempC(),
+  /** Bias voltage, V: VCE under powered bias, the reverse voltage (a magnitude) under reverse bias. */
+  vV: volts(),
+  /** Collector current under powered bias, leakage current under reverse bias, A. */
+  iA: amps(),
+  biasOn: z.boolean(),
+  tripped: z.boolean(),
+});
+export type SocketReading = z.infer<typeof socketReadingSchema>;
+
+/**
+ * rig → server, QoS 1, `emberlot/v1/rigs/{rig}/telemetry`. One message = every socket of the rig
+ * at one instant.
+ * - `seq`: per-rig, starts at 1, +1 per sample, never reused (survives reconnects); it is the
+ *   key of the `stored` acknowledgement and of the server's de-duplication.
+ * - `ts`: the rig's own wall-clock time (may jump; do not accrue stress hours from it).
+ * - `stressClockS`: the rig's stress clock — monotonic seconds since the rig booted. Real rigs run
+ *   it 1:1 with real time; the simulator runs it accelerated (default 3600 s per wall second).
+ *   Accrue stress hours from its deltas between consecutive samples; a decrease means a reboot.
+ */
+export const telemetrySchema = z
+  .object({
+    v: z.literal(1),
+    rig: rigCodeSchema,
+    seq: seqNo(),
+    ts: isoTime(),
+    stressClockS: z.number().min(0).max(1e12),
+    chamberC: tempC(),
+    humidityPct: pct().nullable(),
+    setpointC: tempC(),
+    sockets: z.array(socketReadingSchema).min(1).max(MAX_SOCKETS),
+  })
+  .superRefine((t, ctx) => {
+    const seen = new Set<number>();
+    t.sockets.forEach((s, k) => {
+      if (seen.has(s.i)) {
+        ctx.addIssue({ code: 'custom', path: ['sockets', k, 'i'], message: `socket index ${s.i} appears twice` });
+      }
+      seen.add(s.i);
+    });
+  });
+export type Telemetry = z.infer<typeof telemetrySchema>;
+
+/**
+ * rig → server, QoS 1, retained, `emberlot/v1/rigs/{rig}/status`. Published `online: true` on
+ * every connect; the rig's MQTT last will is the same message with `online: false` (its `ts` and
+ * `lastSeq` are those of the moment the rig connected). `lastSeq` 0 = nothing sent yet.
+ */
+export const statusSchema = z.object({
+  v: z.literal(1),
+  rig: rigCodeSchema,
+  online: z.boolean(),
+  ts: isoTime(),
+  firmware: z.string().max(64).optional(),
+  lastSeq: z.number().int().min(0).max(Number.MAX_SAFE_INTEGER),
+});
+export type RigStatus = z.infer<typeof statusSchema>;
+
+/** Inclusive seq range [from, to]. */
+export const seqRangeSchema = z
+  .tuple([seqNo(), seqNo()])
+  .refine(([from, to]) => from <= to, { message: 'range start must not exceed its end' });
+export type SeqRange = z.infer<typeof seqRangeSchema>;
+
+const commandBase = { v: z.literal(1), cmdId: cmdIdSchema, ts: isoTime().optional() };
+
+export const setpointCommandSchema = z.object({
+  ...commandBase,
+  type: z.literal('setpoint'),
+  setpointC: tempC(),
+  humidityPct: pct().nullable().optional(),
+});
+
+/**
+ * Bias on/off for some sockets. `vV` = VCE (powered) or reverse voltage (reverse bias);
+ * `iA` = forced base drive IB under powered bias, the supply's current limit under reverse bias.
+ * Omitted values keep the socket's current setting.
+ */
+export const biasCommandSchema = z.object({
+  ...commandBase,
+  type: z.literal('bias'),
+  sockets: z.union([z.literal('all'), z.array(socketIndex()).min(1).max(MAX_SOCKETS)]),
+  on: z.boolean(),
+  vV: volts().optional(),
+  iA: amps().optional(),
+});
+
+/** Remove bias from one socket at once and latch it off until `reset-trip`. */
+export const tripCommandSchema = z.object({
+  ...commandBase,
+  type: z.literal('trip'),
+  socket: socketIndex(),
+  reason: z.string().min(1).max(200),
+});
+
+/** Clear a trip latch. Bias stays off until a `bias` command turns it on again. */
+export const resetTripCommandSchema = z.object({
+  ...commandBase,
+  type: z.literal('reset-trip'),
+  socket: socketIndex(),
+});
+
+/**
+ * The application-level acknowledgement: the server has durably committed every telemetry seq in
+ * these inclusive ranges (duplicates it had already stored included). The rig drops exactly those
+ * from its outbox and keeps re-sending anything else. Rigs do not ack `stored` on command-acks.
+ */
+export const storedCommandSchema = z.object({
+  ...commandBase,
+  type: z.literal('stored'),
+  ranges: z.array(seqRangeSchema).min(1).max(MAX_STORED_RANGES),
+});
+
+/** server → rig, QoS 1, `emberlot/v1/rigs/{rig}/commands`. `cmdId` makes every command idempotent. */
+export const commandSchema = z.discriminatedUnion('type', [
+  setpointCommandSchema,
+  biasCommandSchema,
+  tripCommandSchema,
+  resetTripCommandSchema,
+  storedCommandSchema,
+]);
+export type RigCommand = z.infer<typeof commandSchema>;
+export type RigCommandType = RigCommand['type'];
+export type SetpointCommand = z.infer<typeof setpointCommandSchema>;
+export type BiasCommand = z.infer<typeof biasCommandSchema>;
+export type TripCommand = z.infer<typeof tripCommandSchema>;
+export type ResetTripCommand = z.infer<typeof resetTripCommandSchema>;
+export type StoredCommand = z.infer<typeof storedCommandSchema>;
+
+/**
+ * rig → server, QoS 1, `emberlot/v1/rigs/{rig}/command-acks`. One per command except `stored`;
+ * a repeated cmdId is answered with the first outcome and not applied twice.
+ */
+export const commandAckSchema = z.object({
+  v: z.literal(1),
+  rig: rigCodeSchema,
+  cmdId: cmdIdSchema,
+  ok: z.boolean(),
+  error: z.string().max(500).optional(),
+});
+export type CommandAck = z.infer<typeof commandAckSchema>;
+
+/** server → broker, `emberlot/v1/internal/revoke`: disconnect every client of this rig now. */
+export const revokeSchema = z.object({ v: z.literal(1), rig: rigCodeSchema });
+export type RevokeMessage = z.infer<typeof revokeSchema>;
+
+// ---------------------------------------------------------------------------------------------
+// Parsing helpers
+
+export type ParseResult<T> = { ok: true; data: T } | { ok: false; reason: string };
+
+declare const TextDecoder: { new (): { decode(input: Uint8Array): string } } | undefined;
+
+function toText(input: string | Uint8Array): string {
+  if (typeof input === 'string') return input;
+  if (typeof TextDecoder !== 'undefined') return new TextDecoder().decode(input);
+  // Fallback without TextDecoder (old JS engines): ASCII/Latin-1 only, enough for JSON we emit.
+  let s = '';
+  for (let k = 0; k < input.length; k++) s += String.fromCharCode(input[k]);
+  return s;
+}
+
+function byteLength(input: string | Uint8Array): number {
+  // A UTF-8 string is never shorter in bytes than in UTF-16 units; exact enough for a cap.
+  return typeof input === 'string' ? input.length : input.byteLength;
+}
+
+/** Readable one-line summary of zod issues: `sockets.3.caseC: Too big: expected number to be <=500`. */
+export function describeIssues(error: z.ZodError, max = 5): string {
+  const parts = error.issues.slice(0, max).map((issue) => {
+    const path = issue.path.map(String).join('.');
+    return path ? `${path}: ${issue.message}` : issue.message;
+  });
+  const more = error.issues.length > max ? ` (+${error.issues.length - max} more)` : '';
+  return parts.join('; ') + more;
+}
+
+/** Decode + JSON.parse + validate. Never throws. */
+export function parsePayload<S extends z.ZodType>(
+  schema: S,
+  input: string | Uint8Array,
+  maxBytes = MAX_PACKET_BYTES,
+): ParseResult<z.infer<S>> {
+  if (byteLength(input) > maxBytes) return { ok: false, reason: `payload larger than ${maxBytes} bytes` };
+  let json: unknown;
+  try {
+    json = JSON.parse(toText(input));
+  } catch {
+    return { ok: false, reason: 'payload is not valid JSON' };
+  }
+  const result = schema.safeParse(json);
+  if (!result.success) return { ok: false, reason: describeIssues(result.error) };
+  return { ok: true, data: result.data };
+}
+
+export const parseTelemetry = (input: string | Uint8Array) => parsePayload(telemetrySchema, input);
+export const parseStatus = (input: string | Uint8Array) => parsePayload(statusSchema, input);
+export const parseCommand = (input: string | Uint8Array) => parsePayload(commandSchema, input);
+export const parseCommandAck = (input: string | Uint8Array) => parsePayload(commandAckSchema, input);
+export const parseRevoke = (input: string | Uint8Array) => parsePayload(revokeSchema, input);
+
+// ---------------------------------------------------------------------------------------------
+// Seq ranges (for `stored`)
+
+/** Sorted, merged inclusive ranges covering the given seqs: [1,2,3,5] → [[1,3],[5,5]]. */
+export function seqsToRanges(seqs: Iterable<number>): SeqRange[] {
+  const sorted = Array.from(new Set(seqs)).sort((a, b) => a - b);
+  const out: SeqRange[] = [];
+  for (const s of sorted) {
+    const last = out[out.length - 1];
+    if (last && s === last[1] + 1) last[1] = s;
+    else out.push([s, s]);
+  }
+  return out;
+}
+
+/** True when seq lies in one of the inclusive ranges. */
+export function seqInRanges(seq: number, ranges: readonly SeqRange[]): boolean {
+  for (const [from, to] of ranges) if (seq >= from && seq <= to) return true;
+  return false;
+}
+
+/** Build a `stored` command, splitting into several when there are more ranges than one allows. */
+export function buildStoredCommands(seqsOrRanges: Iterable<number> | SeqRange[], makeId: () => string): StoredCommand[] {
+  const ranges = Array.isArray(seqsOrRanges) && Array.isArray(seqsOrRanges[0])
+    ? (seqsOrRanges as SeqRange[])
+    : seqsToRanges(seqsOrRanges as Iterable<number>);
+  const out: StoredCommand[] = [];
+  for (let k = 0; k < ranges.length; k += MAX_STORED_RANGES) {
+    out.push({ v: 1, type: 'stored', cmdId: makeId(), ranges: ranges.slice(k, k + MAX_STORED_RANGES) });
+  }
+  return out;
+}

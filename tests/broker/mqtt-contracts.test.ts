@@ -1,0 +1,142 @@
+/** The v1 MQTT contracts in shared/mqtt: topics, payload validation, readable refusals. */
+import { PacketSizeGuard } from '../../broker/packet-guard';
+import { mayPublish, maySubscribe } from '../../broker/broker';
+import {
+  MAX_PACKET_BYTES,
+  buildStoredCommands,
+  isRigClientIdFor,
+  parseCommand,
+  parseRigTopic,
+  parseTelemetry,
+  rigCodeFromTopic,
+  seqInRanges,
+  topics,
+  type Telemetry,
+} from '../../shared/mqtt';
+
+const good = (): Telemetry => ({
+  v: 1,
+  rig: 'OV-01',
+  seq: 42,
+  ts: '2025-03-04T10:00:00.000Z',
+  stressClockS: 151200,
+  chamberC: 125.02,
+  humidityPct: null,
+  setpointC: 125,
+  sockets: [
+    { i: 0, caseC: 131.4, vV: 20, iA: 0.588, biasOn: true, tripped: false },
+    { i: 1, caseC: 125.1, vV: 0, iA: 0, biasOn: false, tripped: true },
+  ],
+});
+
+describe('topics', () => {
+  test('builders and parsers round-trip', () => {
+    expect(topics.telemetry('OV-01')).toBe('emberlot/v1/rigs/OV-01/telemetry');
+    expect(parseRigTopic('emberlot/v1/rigs/OV-01/command-acks')).toEqual({ rigCode: 'OV-01', kind: 'command-acks' });
+    expect(rigCodeFromTopic(topics.status('HPD-RIG-7'))).toBe('HPD-RIG-7');
+    for (const t of ['emberlot/v2/rigs/OV-01/telemetry', 'emberlot/v1/rigs/ov-01/telemetry', 'emberlot/v1/rigs/OV-01/other', 'emberlot/v1/rigs/OV-01/telemetry/x']) {
+      expect(parseRigTopic(t)).toBeNull();
+    }
+    expect(() => topics.telemetry('OV/01')).toThrow('Invalid rig code');
+    expect(() => topics.telemetry('#')).toThrow('Invalid rig code');
+  });
+
+  test('client ids cannot be confused between rigs', () => {
+    expect(isRigClientIdFor('rig-OV-01', 'OV-01')).toBe(true);
+    expect(isRigClientIdFor('rig-OV-01.bench', 'OV-01')).toBe(true);
+    expect(isRigClientIdFor('rig-OV-01-2', 'OV-01')).toBe(false);
+  });
+
+  test('authorisation rules', () => {
+    const rig = { kind: 'rig' as const, rigCode: 'OV-01' };
+    expect(mayPublish(rig, topics.telemetry('OV-01'))).toBe(true);
+    expect(mayPublish(rig, topics.commands('OV-01'))).toBe(false);
+    expect(mayPublish(rig, topics.telemetry('OV-02'))).toBe(false);
+    expect(mayPublish(rig, topics.revoke)).toBe(false);
+    expect(maySubscribe(rig, topics.commands('OV-01'))).toBe(true);
+    expect(maySubscribe(rig, 'emberlot/v1/rigs/+/commands')).toBe(false);
+    expect(mayPublish({ kind: 'server' }, topics.revoke)).toBe(true);
+    expect(maySubscribe({ kind: 'server' }, '#')).toBe(false);
+    expect(mayPublish(undefined, topics.telemetry('OV-01'))).toBe(false);
+  });
+});
+
+describe('telemetry validation', () => {
+  test('a good message passes, from a Buffer or a string', () => {
+    expect(parseTelemetry(Buffer.from(JSON.stringify(good())))).toEqual({ ok: true, data: good() });
+    expect(parseTelemetry(JSON.stringify(good())).ok).toBe(true);
+  });
+
+  test.each([
+    ['not JSON', 'nope{', 'payload is not valid JSON'],
+    ['implausible case temperature', { ...good(), sockets: [{ ...good().sockets[0], caseC: 900 }] }, 'sockets.0.caseC: Too big: expected number to be <=500'],
+    ['below absolute zero', { ...good(), chamberC: -300 }, 'chamberC: Too small: expected number to be >=-273.15'],
+    ['duplicate socket', { ...good(), sockets: [good().sockets[0], good().sockets[0]] }, 'sockets.1.i: socket index 0 appears twice'],
+    ['seq not an integer', { ...good(), seq: 1.5 }, 'seq: Invalid input: expected int, received number'],
+    ['bad rig code', { ...good(), rig: 'ov 1' }, 'rig: Rig code must be 2–32 of A–Z, 0–9, "-"'],
+    ['wrong version', { ...good(), v: 2 }, 'v: Invalid input: expected 1'],
+  ])('%s is refused with a readable reason', (_label, body, reason) => {
+    const r = parseTelemetry(typeof body === 'string' ? body : JSON.stringify(body));
+    expect(r).toEqual({ ok: false, reason });
+  });
+
+  test('more than 256 sockets is refused; so is a payload over the packet cap', () => {
+    const many = { ...good(), sockets: Array.from({ length: 257 }, (_, i) => ({ ...good().sockets[0], i: i % 256 })) };
+    expect(parseTelemetry(JSON.stringify(many)).ok).toBe(false);
+    expect(parseTelemetry('x'.repeat(MAX_PACKET_BYTES + 1))).toEqual({ ok: false, reason: `payload larger than ${MAX_PACKET_BYTES} bytes` });
+  });
+});
+
+describe('commands', () => {
+  test('the discriminated union accepts each command type', () => {
+    const bodies = [
+      { v: 1, cmdId: 'a1', type: 'setpoint', setpointC: 150, humidityPct: null },
+      { v: 1, cmdId: 'a2', type: 'bias', sockets: 'all', on: true, vV: 160 },
+      { v: 1, cmdId: 'a3', type: 'trip', socket: 5, reason: 'Tj projected above rating' },
+      { v: 1, cmdId: 'a4', type: 'reset-trip', socket: 5 },
+      { v: 1, cmdId: 'a5', type: 'stored', ranges: [[1, 40], [42, 42]] },
+    ];
+    for (const b of bodies) expect(parseCommand(JSON.stringify(b))).toMatchObject({ ok: true });
+    expect(parseCommand(JSON.stringify({ v: 1, cmdId: 'a6', type: 'stored', ranges: [[5, 4]] }))).toEqual({
+      ok: false,
+      reason: 'ranges.0: range start must not exceed its end',
+    });
+    expect(parseCommand(JSON.stringify({ v: 1, cmdId: 'a7', type: 'explode' })).ok).toBe(false);
+  });
+
+  test('stored commands carry merged ranges and split when very long', () => {
+    let n = 0;
+    const [cmd] = buildStoredCommands([3, 1, 2, 7], () => `s${++n}`);
+    expect(cmd).toEqual({ v: 1, type: 'stored', cmdId: 's1', ranges: [[1, 3], [7, 7]] });
+    expect(seqInRanges(2, cmd.ranges)).toBe(true);
+    expect(seqInRanges(5, cmd.ranges)).toBe(false);
+    const odd = Array.from({ length: 2500 }, (_, k) => 2 * k + 1); // 2500 separate ranges
+    expect(buildStoredCommands(odd, () => 'x').map((c) => c.ranges.length)).toEqual([1000, 1000, 500]);
+  });
+});
+
+describe('packet size guard', () => {
+  // PUBLISH fixed header: 0x30, remaining length as a varint (MQTT 3.1.1 §2.2.3)
+  const header = (len: number) => {
+    const bytes = [0x30];
+    do {
+      let b = len % 128;
+      len = Math.floor(len / 128);
+      if (len > 0) b |= 0x80;
+      bytes.push(b);
+    } while (len > 0);
+    return Buffer.from(bytes);
+  };
+
+  test('passes packets under the cap split across chunks; trips on the header of a large one', () => {
+    const g = new PacketSizeGuard(1000);
+    const p1 = Buffer.concat([header(500), Buffer.alloc(500)]);
+    const p2 = Buffer.concat([header(200), Buffer.alloc(200)]);
+    const stream = Buffer.concat([p1, p2]);
+    for (let k = 0; k < stream.length; k += 7) expect(g.feed(stream.subarray(k, k + 7))).toBe(true);
+    const big = header(100_000);
+    expect(g.feed(big.subarray(0, 2))).toBe(true); // varint not complete yet
+    expect(g.feed(big.subarray(2))).toBe(false);
+    expect(g.tripped).toBe(true);
+  });
+});
