@@ -8,7 +8,7 @@ import * as path from 'node:path';
 export interface ProcessSpec {
   name: string;
   command: string[];
-  env?: NodeJS.ProcessEnv;
+  env?: Record<string, string>;
   waitFor?: RegExp;
   devOnly?: boolean;
   /** Only started when this file exists (a part still being built is skipped, not fatal). */

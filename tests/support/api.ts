@@ -21,7 +21,7 @@ export interface TestApp extends BuiltApp {
 /** The real Express app on a fresh database with one user per role (password TEST_PASSWORD). */
 export async function createTestApp(overrides: Partial<ServerConfig> = {}): Promise<TestApp> {
   const db = await createTestDb();
-  const config = { ...configFromEnv({}), db: db.config, ...overrides };
+  const config = { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config, ...overrides };
   const ctx = createContext(db.ds, config);
   const hash = await bcrypt.hash(TEST_PASSWORD, 4);
   for (const role of ['admin', 'engineer', 'operator', 'manager'] as Role[]) {
