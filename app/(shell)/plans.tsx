@@ -1,6 +1,3 @@
-// Placeholder until the plans screens land.
-import { PlaceholderScreen } from '@/components/common/PlaceholderScreen';
+import { PlansScreen } from '@/components/plans/PlansScreen';
 
-export default function PlansRoute() {
-  return <PlaceholderScreen title="Plans" subtitle="Stress plans checked against the device's limits." coming="Stress plans will appear here." />;
-}
+export default PlansScreen;

@@ -3,8 +3,11 @@ import type { ApiRouter } from '../http/route';
 import { authRoutes } from './auth/auth.routes';
 import { healthRoutes } from './health/health.routes';
 import { usersRoutes } from './users/users.routes';
+import { deviceTypesRoutes } from './device-types/device-types.routes';
+import { lotsRoutes } from './lots/lots.routes';
+import { plansRoutes } from './plans/plans.routes';
 
 /** Every API router, in mount order. Add a feature's router here (one line). */
 export function apiRouters(ctx: AppContext): ApiRouter[] {
-  return [healthRoutes(ctx), authRoutes(ctx), usersRoutes(ctx)];
+  return [healthRoutes(ctx), authRoutes(ctx), usersRoutes(ctx), deviceTypesRoutes(ctx), lotsRoutes(ctx), plansRoutes(ctx)];
 }

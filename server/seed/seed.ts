@@ -11,6 +11,7 @@ import {
   demoRigSecret,
   rigMqttUsername,
 } from './demo-data';
+import { seedPlans } from './seed-plans';
 
 export interface SeedStep {
   name: string;
@@ -57,6 +58,7 @@ export const SEED_STEPS: SeedStep[] = [
   { name: 'users', run: seedUsers },
   { name: 'device types and lots', run: seedDevicesAndLots },
   { name: 'rigs', run: seedRigs },
+  { name: 'stress plans', run: seedPlans },
 ];
 
 /** Seed only an empty database: a second `npm start` keeps whatever the lab did since. */

@@ -37,6 +37,51 @@ export const deviceTypeInputSchema = z.object({
 });
 export type DeviceTypeInput = z.infer<typeof deviceTypeInputSchema>;
 export type DeviceType = DeviceTypeInput & { id: string; createdAt: string; updatedAt: string };
+/** A device type in a list, with how much of it the lab holds. */
+export type DeviceTypeSummary = DeviceType & { lotCount: number; deviceCount: number; planCount: number };
+
+/**
+ * Rules across fields (physics, not form layout). Used by the create schema and again by the
+ * service after a partial update has been merged, so both paths give the same messages.
+ */
+export function deviceTypeRuleIssues(d: Pick<DeviceTypeInput, 'bvcboV' | 'bvceoV' | 'thetaJcCPerW' | 'thetaJaCPerW'>): Array<{ path: string; message: string }> {
+  const out: Array<{ path: string; message: string }> = [];
+  if (d.bvceoV !== null && d.bvceoV > d.bvcboV) {
+    out.push({ path: 'bvceoV', message: 'BVCEO cannot be higher than BVCBO (the open-base breakdown is the lower of the two)' });
+  }
+  if (d.thetaJcCPerW >= d.thetaJaCPerW) {
+    out.push({ path: 'thetaJcCPerW', message: 'θjc must be smaller than θja (junction-to-ambient includes the case)' });
+  }
+  return out;
+}
+
+/** Create, or replace whole (PUT). */
+export const deviceTypeCreateSchema = deviceTypeInputSchema.superRefine((d, ctx) => {
+  for (const i of deviceTypeRuleIssues(d)) ctx.addIssue({ code: 'custom', path: [i.path], message: i.message });
+});
+
+const withoutDefault = (s: z.ZodType): z.ZodType => (s instanceof z.ZodDefault ? (s.unwrap() as z.ZodType) : s);
+
+/**
+ * PATCH: any subset of the fields, none defaulted (a defaulted field would silently reset the stored
+ * value), at least one given, unknown keys refused.
+ */
+export const deviceTypePatchSchema = z
+  .object(
+    Object.fromEntries(
+      Object.entries(deviceTypeInputSchema.shape).map(([k, v]) => [k, withoutDefault(v as z.ZodType).optional()]),
+    ) as { [K in keyof DeviceTypeInput]: z.ZodOptional<z.ZodType<DeviceTypeInput[K]>> },
+  )
+  .strict()
+  .refine((v) => Object.keys(v).length > 0, { message: 'Nothing to change' });
+export type DeviceTypePatch = Partial<DeviceTypeInput>;
+
+export const deviceTypeListQuerySchema = z.object({
+  q: z.string().trim().max(40).optional(),
+});
+
+/** Most serials accepted in one request or file. */
+export const MAX_SERIALS_PER_REQUEST = 10000;
 
 export const lotInputSchema = z.object({
   code: z.string().trim().min(1, 'Enter a lot code').max(40),
@@ -44,7 +89,86 @@ export const lotInputSchema = z.object({
   quantity: z.number().int().positive().max(1_000_000),
   dateCode: z.string().trim().max(20).default(''),
   notes: z.string().trim().max(500).default(''),
-  /** Device serials; may be empty at creation and added later. */
-  serials: z.array(z.string().trim().min(1).max(40)).max(10000).default([]),
+  /**
+   * Device serials; may be empty at creation and added later. Each serial is checked by the
+   * server row by row (empty, too long, duplicate, already in the lot) so every bad row is
+   * reported at once; see checkSerialRows.
+   */
+  serials: z.array(z.string().max(1000, 'A serial cannot be that long')).max(MAX_SERIALS_PER_REQUEST, `At most ${MAX_SERIALS_PER_REQUEST} serials at a time`).default([]),
 });
 export type LotInput = z.infer<typeof lotInputSchema>;
+
+/** Longest serial a device may have (database column width). */
+export const SERIAL_MAX_LENGTH = 40;
+
+export const addSerialsSchema = z.object({
+  serials: z.array(z.string().max(1000, 'A serial cannot be that long')).min(1, 'Give at least one serial').max(MAX_SERIALS_PER_REQUEST, `At most ${MAX_SERIALS_PER_REQUEST} serials at a time`),
+});
+export type AddSerialsInput = z.infer<typeof addSerialsSchema>;
+
+export const lotListQuerySchema = z.object({
+  deviceTypeId: z.string().uuid('Not a valid device type id').optional(),
+  q: z.string().trim().max(40).optional(),
+});
+
+export interface Lot {
+  id: string;
+  code: string;
+  deviceTypeId: string;
+  partNumber: string;
+  quantity: number;
+  dateCode: string;
+  notes: string;
+  /** Serialised devices registered in the lot (the sample pulled for stress, not the whole lot). */
+  deviceCount: number;
+  createdAt: string;
+}
+export interface LotDetail extends Lot {
+  serials: Array<{ id: string; serial: string }>;
+}
+
+/** One refused serial: its row (1-based position in the list, or line of the file) and why. */
+export interface SerialRowProblem {
+  row: number;
+  serial: string;
+  reason: string;
+}
+
+/** Splits a pasted list: one serial per line, or separated by commas, semicolons or tabs; blank entries are dropped. */
+export function splitPastedSerials(text: string): string[] {
+  return text
+    .split(/[\r\n,;\t]/)
+    .map((s) => s.trim())
+    .filter((s) => s !== '');
+}
+
+/**
+ * Checks a list of candidate serials: trims each, then reports every empty one, every one longer
+ * than SERIAL_MAX_LENGTH, every one with a control character, every repeat of an earlier row, and
+ * every one already in the lot.
+ * `rowOf(i)` maps a list index to the row number shown to the person (position or file line).
+ */
+export function checkSerialRows(
+  candidates: string[],
+  existing: ReadonlySet<string>,
+  rowOf: (index: number) => number = (i) => i + 1,
+  lotCode = 'the lot',
+): { serials: string[]; problems: SerialRowProblem[] } {
+  const serials: string[] = [];
+  const problems: SerialRowProblem[] = [];
+  const firstRow = new Map<string, number>();
+  candidates.forEach((raw, i) => {
+    const serial = raw.trim();
+    const row = rowOf(i);
+    if (serial === '') problems.push({ row, serial, reason: 'Empty serial' });
+    else if (serial.length > SERIAL_MAX_LENGTH) problems.push({ row, serial, reason: `Longer than ${SERIAL_MAX_LENGTH} characters` });
+    else if (/[\u0000-\u001f\u007f]/.test(serial)) problems.push({ row, serial, reason: 'Contains a line break or control character' });
+    else if (firstRow.has(serial)) problems.push({ row, serial, reason: `Duplicate of row ${firstRow.get(serial)}` });
+    else if (existing.has(serial)) problems.push({ row, serial, reason: `Already in ${lotCode}` });
+    else {
+      firstRow.set(serial, row);
+      serials.push(serial);
+    }
+  });
+  return { serials, problems };
+}

@@ -102,3 +102,123 @@ export const planInputSchema = z
     }
   });
 export type PlanInput = z.infer<typeof planInputSchema>;
+
+// ---------------------------------------------------------------------------------------------
+// API shapes for /api/plans (requests beyond the plan body itself, and responses)
+
+export const planListQuerySchema = z.object({
+  kind: z.enum(PLAN_KINDS).optional(),
+  deviceTypeId: z.string().uuid('Not a valid device type id').optional(),
+});
+
+export const planTemplatesQuerySchema = z.object({
+  deviceTypeId: z.string().uuid('Not a valid device type id').optional(),
+});
+
+/** Worst severity of a stored check; 'none' when no check was stored. */
+export type CheckStatus = 'block' | 'warn' | 'ok' | 'none';
+
+export interface CheckFindingNumber {
+  value: number;
+  unit: string;
+  label: string;
+}
+export interface CheckFinding {
+  code: string;
+  severity: 'block' | 'warn' | 'ok';
+  title: string;
+  explanation: string;
+  numbers: Record<string, CheckFindingNumber>;
+  /** The keys of `numbers` in the order the check gave them (a jsonb column does not keep key order). */
+  order?: string[];
+}
+
+/**
+ * A plan check as the API returns it and as a plan version stores it: the findings, the derived
+ * numbers, the thresholds and physical constants the check used, and the device ratings it was
+ * run against (a later edit of the device type does not rewrite what a version was checked with).
+ */
+export interface PlanCheckResult {
+  blocking: boolean;
+  status: Exclude<CheckStatus, 'none'>;
+  findings: CheckFinding[];
+  derived: Record<string, number | null>;
+  constants: Record<string, number>;
+  device: { id: string; partNumber: string; ratings: Record<string, unknown> };
+  checkedAt: string;
+}
+
+export interface PlanDeviceRef {
+  id: string;
+  partNumber: string;
+  kind: string;
+  polarity: string;
+}
+
+/** One version of a plan. */
+export interface Plan extends PlanInput {
+  id: string;
+  planKey: string;
+  version: number;
+  current: boolean;
+  device: PlanDeviceRef;
+  checkStatus: CheckStatus;
+  checkResult: PlanCheckResult | null;
+  createdAt: string;
+  createdBy: { id: string; name: string } | null;
+}
+
+/** A row of the plan list (the current version of each plan). */
+export interface PlanSummary {
+  id: string;
+  planKey: string;
+  version: number;
+  name: string;
+  kind: PlanKind;
+  device: PlanDeviceRef;
+  chamberC: number;
+  humidityPct: number | null;
+  bias: Bias;
+  durationH: number;
+  sampleSize: number;
+  acceptNumber: number;
+  checkStatus: CheckStatus;
+  blockCount: number;
+  warnCount: number;
+  createdAt: string;
+}
+
+export interface PlanVersionRef {
+  id: string;
+  version: number;
+  current: boolean;
+  name: string;
+  checkStatus: CheckStatus;
+  createdAt: string;
+  createdByName: string | null;
+}
+
+export interface PlanDetail extends Plan {
+  /** Every version of this plan, newest first. */
+  versions: PlanVersionRef[];
+}
+
+/** A rule a template applied, with where it comes from (tagged as in the reference methods). */
+export interface TemplateRule {
+  label: string;
+  value: string;
+  source: string;
+}
+
+export interface PlanTemplate {
+  key: string;
+  kind: PlanKind;
+  title: string;
+  summary: string;
+  /** The published or practice sources the template follows, as tagged strings. */
+  sources: string[];
+  /** The rules with the numbers they gave for the chosen device type. */
+  rules: TemplateRule[];
+  /** A complete plan body for the chosen device type; null when no device type was given. */
+  plan: PlanInput | null;
+}

@@ -7,6 +7,8 @@ import request from 'supertest';
 import { ROLES, type Role } from '../../shared/roles';
 import { createTestApp, type TestApp } from '../support/api';
 
+jest.setTimeout(120_000);
+
 let t: TestApp;
 beforeAll(async () => {
   t = await createTestApp();

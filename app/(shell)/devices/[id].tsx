@@ -1,0 +1,3 @@
+import { DeviceTypeDetailScreen } from '@/components/devices/DeviceTypeDetailScreen';
+
+export default DeviceTypeDetailScreen;

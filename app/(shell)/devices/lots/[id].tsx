@@ -1,0 +1,3 @@
+import { LotDetailScreen } from '@/components/devices/LotDetailScreen';
+
+export default LotDetailScreen;

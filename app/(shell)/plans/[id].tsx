@@ -1,0 +1,3 @@
+import { PlanDetailScreen } from '@/components/plans/PlanDetailScreen';
+
+export default PlanDetailScreen;

@@ -1,0 +1,3 @@
+import { PlanFormScreen } from '@/components/plans/PlanFormScreen';
+
+export default PlanFormScreen;

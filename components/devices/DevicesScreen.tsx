@@ -1,0 +1,135 @@
+import { router, type Href } from 'expo-router';
+import { useState } from 'react';
+import { View } from 'react-native';
+import type { DeviceTypeSummary, Lot } from '@/shared/schemas/devices';
+import { formatDateTime } from '@/components/common/format';
+import { Header } from '@/components/layout/Header';
+import { Screen } from '@/components/layout/Screen';
+import { useMe } from '@/components/queries/auth';
+import { useDeviceTypes } from '@/components/queries/device-types';
+import { useLots } from '@/components/queries/lots';
+import { space } from '@/components/theme/tokens';
+import { Banner } from '@/components/ui/Banner';
+import { Button } from '@/components/ui/Button';
+import { DataTable, type Column } from '@/components/ui/DataTable';
+import { EmptyState } from '@/components/ui/EmptyState';
+import { Field } from '@/components/ui/Field';
+import { QueryState } from '@/components/ui/QueryState';
+import { Badge } from '@/components/ui/StatusPill';
+import { Text } from '@/components/ui/Text';
+import { DeviceTypeForm } from './DeviceTypeForm';
+import { volts } from './format';
+
+export const deviceHref = (id: string) => `/devices/${id}` as Href;
+export const lotHref = (id: string) => `/devices/lots/${id}` as Href;
+
+/** Device types (part numbers with their ratings) and a lot finder. Engineers add and edit; managers read. */
+export function DevicesScreen() {
+  const me = useMe();
+  const canWrite = me.data?.role === 'engineer';
+  const types = useDeviceTypes();
+  const [adding, setAdding] = useState(false);
+  const [notice, setNotice] = useState<string | null>(null);
+  const [q, setQ] = useState('');
+
+  const columns: Column<DeviceTypeSummary>[] = [
+    { key: 'part', title: 'Part number', flex: 1.3, card: 'title', render: (d) => d.partNumber },
+    {
+      key: 'desc',
+      title: 'Description',
+      flex: 2.2,
+      card: 'subtitle',
+      render: (d) => (
+        <Text variant="caption" tone="muted" numberOfLines={2}>
+          {d.description || '—'}
+        </Text>
+      ),
+    },
+    { key: 'pol', title: 'Type', flex: 0.9, render: (d) => <Badge label={`${d.kind === 'bjt' ? 'BJT' : d.kind === 'mosfet' ? 'MOSFET' : 'Diode'} · ${d.polarity}`} /> },
+    { key: 'bv', title: 'BVCBO / BVCEO', flex: 1.2, render: (d) => `${volts(d.bvcboV)} / ${d.bvceoV === null ? 'est.' : volts(d.bvceoV)}` },
+    { key: 'tj', title: 'Tj max', flex: 0.8, render: (d) => `${d.tjMaxC} °C` },
+    { key: 'lots', title: 'Lots · devices', flex: 1, render: (d) => `${d.lotCount} · ${d.deviceCount}` },
+    { key: 'plans', title: 'Plans', flex: 0.6, render: (d) => String(d.planCount) },
+    {
+      key: 'open',
+      title: 'Open',
+      flex: 0.9,
+      card: 'actions',
+      render: (d) => <Button size="sm" label="Open" accessibilityLabel={`Open ${d.partNumber}`} onPress={() => router.push(deviceHref(d.id))} />,
+    },
+  ];
+
+  return (
+    <Screen width="wide" testID="devices-screen">
+      <Header
+        eyebrow="Harrowgate reliability lab"
+        title="Devices & lots"
+        subtitle="Part numbers with their data-sheet ratings, and the lots and serials under test."
+        actions={canWrite && !adding ? <Button label="New device type" variant="primary" onPress={() => { setNotice(null); setAdding(true); }} testID="new-device-type" /> : null}
+      />
+      {notice ? (
+        <Banner tone="ok" action={<Button size="sm" variant="quiet" label="Dismiss" onPress={() => setNotice(null)} />}>
+          {notice}
+        </Banner>
+      ) : null}
+      {adding ? (
+        <DeviceTypeForm
+          onCancel={() => setAdding(false)}
+          onDone={(d) => {
+            setAdding(false);
+            setNotice(`${d.partNumber} was added. Open it to register lots.`);
+          }}
+        />
+      ) : null}
+      <QueryState
+        query={types}
+        loadingLabel="Loading device types…"
+        errorTitle="Could not load device types"
+        isEmpty={(l) => l.length === 0}
+        empty={<EmptyState title="No device types yet" message={canWrite ? 'Add the first part number with its data-sheet ratings.' : 'An engineer adds part numbers here.'} />}
+      >
+        {(list) => <DataTable caption="Device types" columns={columns} rows={list} rowKey={(d) => d.id} testID="device-types-table" />}
+      </QueryState>
+
+      <View style={{ gap: space.sm }}>
+        <Text variant="heading" heading={2}>
+          Find a lot
+        </Text>
+        <Field label="Lot code" value={q} onChangeText={setQ} placeholder="e.g. HG2611" autoCapitalize="characters" help="Type part of a lot code; lots of every device type are searched." testID="lot-search" />
+        <LotTable q={q.trim()} />
+      </View>
+    </Screen>
+  );
+}
+
+/** Lots, newest first, optionally for one device type or matching a code. */
+export function LotTable({ q, deviceTypeId }: { q?: string; deviceTypeId?: string }) {
+  const lots = useLots({ q: q || undefined, deviceTypeId });
+  const columns: Column<Lot>[] = [
+    { key: 'code', title: 'Lot', flex: 1.1, card: 'title', render: (l) => l.code },
+    { key: 'part', title: 'Part', flex: 1.1, card: deviceTypeId ? 'hidden' : 'subtitle', render: (l) => l.partNumber },
+    { key: 'date', title: 'Date code', flex: 0.8, render: (l) => l.dateCode || '—' },
+    { key: 'qty', title: 'Lot size', flex: 0.8, align: 'right', render: (l) => l.quantity.toLocaleString('en-GB') },
+    { key: 'dev', title: 'Serials', flex: 0.8, align: 'right', render: (l) => l.deviceCount.toLocaleString('en-GB') },
+    { key: 'created', title: 'Registered', flex: 1.3, render: (l) => formatDateTime(l.createdAt) },
+    {
+      key: 'open',
+      title: 'Open',
+      flex: 0.8,
+      card: 'actions',
+      render: (l) => <Button size="sm" label="Open" accessibilityLabel={`Open lot ${l.code}`} onPress={() => router.push(lotHref(l.id))} />,
+    },
+  ];
+  const shown = deviceTypeId ? columns.filter((c) => c.key !== 'part') : columns;
+  return (
+    <QueryState
+      query={lots}
+      loadingLabel="Loading lots…"
+      errorTitle="Could not load lots"
+      isEmpty={(l) => l.length === 0}
+      empty={<EmptyState title={q ? `No lot code contains “${q}”` : 'No lots yet'} message={q ? 'Check the code on the traveller.' : 'Register a lot from its device type.'} />}
+    >
+      {(list) => <DataTable caption="Lots" columns={shown} rows={list} rowKey={(l) => l.id} testID="lots-table" />}
+    </QueryState>
+  );
+}

@@ -1,0 +1,42 @@
+import type { PlanKind } from '@/shared/schemas/plans';
+
+/** What each stress is for, in the lab's words. */
+export const KIND_HELP: Record<PlanKind, string> = {
+  htrb:
+    'High-temperature reverse bias: the collector-base junction is held off at a high reverse voltage (usually 80 % of BVCBO) in a hot ' +
+    'oven, with no current flowing. It finds surface and passivation weaknesses — leakage that grows, gain that drops — that ions ' +
+    'moving under the field cause. JESD22-A108.',
+  hotl:
+    'Powered operating life: the transistor conducts and dissipates power, so its own heat brings the junction near its rating. It ages ' +
+    'the die attach, bond wires and metal under real current. MIL-PRF-19500 group C life.',
+  iol:
+    'Intermittent operating life: power switched on and off in equal periods so the junction swings by 100 °C or more each cycle. It ' +
+    'fatigues the die attach and bond wires by repeated expansion. MIL-STD-750 method 1037.',
+  thb:
+    'Temperature-humidity-bias: 85 °C and 85 % RH with the junction reverse biased. Moisture and the field together drive corrosion and ' +
+    'ionic leakage through the package. JESD22-A101.',
+};
+
+export const PLAN_HELP = {
+  chamberC: 'Oven set point. The chamber must hold within ±3 % of it; hours outside that band do not count (MIL-STD-750 general requirements).',
+  humidityPct: 'Relative humidity for a humidity stress (85 % for THB).',
+  vcbV: 'Collector-base reverse voltage on every device (magnitude; PNP parts are biased the other way by the board).',
+  vebV: 'Emitter-base reverse voltage, if the board applies one. Leave empty for an open or shorted emitter. Never above BVEBO.',
+  vceV: 'Collector-emitter voltage while powered. Keep it within the derated BVCEO, which is far below BVCBO.',
+  biasMode:
+    'Regulating IC holds the current whatever the gain does. Forcing IB lets the current rise as the part heats and its gain rises — ' +
+    'the loop that can run away thermally; the plan check shows the margin.',
+  tolerancePct: 'Bias band for counting hours: time when a socket is outside ± this band of its set value does not count.',
+  durationH: 'Total stress hours (1000 h is the usual qualification length).',
+  readPointsH:
+    'Hours at which the parts come off stress to be measured, e.g. 0, 168, 500, 1000 (common practice). Measure within 96 h of removing bias.',
+  sampleSize: 'Devices per lot on stress. 77 per lot with 0 failures is the AEC-Q101 qualification sample; 45/0 the MIL-PRF-19500 life sample.',
+  acceptNumber: 'How many failures the lot may have and still pass. With 77 devices and accept 0, the lot demonstrates LTPD about 3 % at 90 % confidence.',
+  criteria:
+    'A device fails at a read point when a parameter moves beyond these limits from its own time-zero value (MIL-PRF-19500 delta limits: hFE ±15 %, ' +
+    'ICBO up to 2× or 200 nA, whichever is greater, VCE(sat) 50 mV).',
+  eaEv: 'Activation energy for the Arrhenius acceleration from stress to use temperature. 0.7 eV is the usual default when the mechanism is unknown.',
+  useC: 'The temperature the parts see in use; acceleration factors and FIT are quoted for it.',
+  breakdownDerating: 'The check refuses bias above this share of each breakdown rating (80 % is usual).',
+  cycle: 'On-time equal to off-time. ΔTj ≥ 100 °C for 15,000 cycles, or ≥ 125 °C for 7,500 (MIL-STD-750 method 1037).',
+} as const;

@@ -1,0 +1,155 @@
+import { ILike, In, type DataSource, type EntityManager } from 'typeorm';
+import type { SessionUser } from '../../../shared/schemas/auth';
+import { checkSerialRows, type Lot, type LotDetail, type LotInput, type SerialRowProblem } from '../../../shared/schemas/devices';
+import { DeviceEntity, DeviceTypeEntity, LotEntity } from '../../db/entities';
+import { AppError, conflict, notFound, unprocessable } from '../../http/errors';
+import type { AuditService } from '../audit/audit.service';
+
+/**
+ * Serial lists are stored whole or not at all. If any row is bad (empty, too long, a control
+ * character, a repeat within the list, already in the lot), the answer is 422 listing every bad row
+ * with its reason — in `rows` and, for forms, in `fields` keyed by row — and nothing is stored, so a
+ * corrected file can simply be uploaded again without creating half-registered lots.
+ */
+export function badSerialsError(problems: SerialRowProblem[], total: number, where: 'list' | 'file'): AppError {
+  const fields: Record<string, string[]> = {};
+  for (const p of problems) (fields[`${where === 'file' ? 'line' : 'serials'}.${p.row}`] ??= []).push(p.reason);
+  const n = problems.length;
+  const message =
+    `${n} of ${total} ${where === 'file' ? 'rows in the file' : 'serials'} ${n === 1 ? 'is' : 'are'} not usable; nothing was stored. ` +
+    `First: ${where === 'file' ? 'line' : 'row'} ${problems[0].row}${problems[0].serial ? ` “${problems[0].serial.slice(0, 60)}”` : ''} — ${problems[0].reason}.`;
+  return new AppError('unprocessable', message, fields, { rows: problems });
+}
+
+interface LotRow {
+  id: string;
+  code: string;
+  device_type_id: string;
+  part_number: string;
+  quantity: number;
+  date_code: string;
+  notes: string;
+  device_count: number;
+  created_at: Date;
+}
+
+const toLot = (r: LotRow): Lot => ({
+  id: r.id,
+  code: r.code,
+  deviceTypeId: r.device_type_id,
+  partNumber: r.part_number,
+  quantity: r.quantity,
+  dateCode: r.date_code,
+  notes: r.notes,
+  deviceCount: r.device_count,
+  createdAt: new Date(r.created_at).toISOString(),
+});
+
+const LOT_SELECT = `
+  SELECT l.id, l.code, l.device_type_id, dt.part_number, l.quantity, l.date_code, l.notes, l.created_at,
+         (SELECT count(*)::int FROM devices d WHERE d.lot_id = l.id) AS device_count
+    FROM lots l JOIN device_types dt ON dt.id = l.device_type_id`;
+
+export class LotsService {
+  constructor(private readonly ds: DataSource, private readonly audit: AuditService) {}
+
+  async list(filter: { deviceTypeId?: string; q?: string }): Promise<Lot[]> {
+    const where: string[] = [];
+    const params: unknown[] = [];
+    if (filter.deviceTypeId) {
+      params.push(filter.deviceTypeId);
+      where.push(`l.device_type_id = $${params.length}`);
+    }
+    if (filter.q) {
+      params.push(`%${filter.q.replace(/[\\%_]/g, (c) => `\\${c}`)}%`);
+      where.push(`l.code ILIKE $${params.length}`);
+    }
+    const rows: LotRow[] = await this.ds.query(
+      `${LOT_SELECT} ${where.length ? `WHERE ${where.join(' AND ')}` : ''} ORDER BY l.created_at DESC, l.code LIMIT 500`,
+      params,
+    );
+    return rows.map(toLot);
+  }
+
+  async get(id: string, m: EntityManager = this.ds.manager): Promise<LotDetail> {
+    const [row]: LotRow[] = await m.query(`${LOT_SELECT} WHERE l.id = $1`, [id]);
+    if (!row) throw notFound('The lot');
+    const devices = await m.find(DeviceEntity, { where: { lotId: id }, order: { serial: 'ASC' } });
+    return { ...toLot(row), serials: devices.map((d) => ({ id: d.id, serial: d.serial })) };
+  }
+
+  async create(actor: SessionUser, input: LotInput): Promise<LotDetail> {
+    return this.ds.transaction(async (m) => {
+      const type = await m.findOneBy(DeviceTypeEntity, { id: input.deviceTypeId });
+      if (!type) throw unprocessable('The device type for this lot was not found. Choose one from the list.');
+      if (await m.exists(LotEntity, { where: { code: ILike(input.code.replace(/[\\%_]/g, (c) => `\\${c}`)) } })) {
+        throw conflict(`A lot with the code ${input.code} already exists.`);
+      }
+      const { serials, problems } = checkSerialRows(input.serials, new Set(), undefined, `lot ${input.code}`);
+      if (problems.length) throw badSerialsError(problems, input.serials.length, 'list');
+      this.assertFits(input.code, input.quantity, 0, serials.length);
+      const lot = await m
+        .save(m.create(LotEntity, { code: input.code, deviceTypeId: type.id, quantity: input.quantity, dateCode: input.dateCode, notes: input.notes }))
+        .catch((e) => {
+          // Two people creating the same code at once: the unique index decides.
+          if ((e as { code?: string }).code === '23505') throw conflict(`A lot with the code ${input.code} already exists.`);
+          throw e;
+        });
+      await this.insertSerials(m, lot.id, serials);
+      await this.audit.record(
+        {
+          actor, action: 'lot.create', entity: 'lot', entityId: lot.id,
+          details: { code: lot.code, partNumber: type.partNumber, quantity: lot.quantity, serials: serials.length },
+        },
+        m,
+      );
+      return this.get(lot.id, m);
+    });
+  }
+
+  /** Adds serials to a lot (typed/pasted list or the rows of an uploaded file), all or nothing. */
+  async addSerials(
+    actor: SessionUser,
+    lotId: string,
+    candidates: string[],
+    source: { kind: 'list' } | { kind: 'file'; lines: number[]; fileName: string },
+  ): Promise<LotDetail> {
+    return this.ds.transaction(async (m) => {
+      const lot = await m.findOne(LotEntity, { where: { id: lotId }, lock: { mode: 'pessimistic_write' } });
+      if (!lot) throw notFound('The lot');
+      const trimmed = [...new Set(candidates.map((c) => c.trim()).filter((c) => c !== ''))];
+      const present = trimmed.length
+        ? await m.find(DeviceEntity, { where: { lotId, serial: In(trimmed) }, select: { serial: true } })
+        : [];
+      const rowOf = source.kind === 'file' ? (i: number) => source.lines[i] : undefined;
+      const { serials, problems } = checkSerialRows(candidates, new Set(present.map((d) => d.serial)), rowOf, `lot ${lot.code}`);
+      if (problems.length) throw badSerialsError(problems, candidates.length, source.kind);
+      const already = await m.count(DeviceEntity, { where: { lotId } });
+      this.assertFits(lot.code, lot.quantity, already, serials.length);
+      await this.insertSerials(m, lot.id, serials);
+      await this.audit.record(
+        {
+          actor, action: 'lot.serials.add', entity: 'lot', entityId: lot.id,
+          details: { code: lot.code, added: serials.length, source: source.kind, ...(source.kind === 'file' ? { fileName: source.fileName } : {}) },
+        },
+        m,
+      );
+      return this.get(lot.id, m);
+    });
+  }
+
+  private assertFits(code: string, quantity: number, already: number, adding: number) {
+    if (already + adding > quantity) {
+      throw unprocessable(
+        `Lot ${code} holds ${quantity} devices; ${already ? `${already} are registered, and ` : ''}${adding} more would make ${already + adding}. ` +
+          'Check the list against the lot traveller.',
+      );
+    }
+  }
+
+  private async insertSerials(m: EntityManager, lotId: string, serials: string[]) {
+    for (let i = 0; i < serials.length; i += 1000) {
+      await m.insert(DeviceEntity, serials.slice(i, i + 1000).map((serial) => ({ lotId, serial })));
+    }
+  }
+}

@@ -1,0 +1,346 @@
+/**
+ * Plan templates: the stress conditions of the published methods (reference methods §1), turned
+ * into a complete plan body for a chosen device type. Each template names its sources with the
+ * same tags the reference uses: [pub: …] published, [practice] common practice, [memory] recalled
+ * and not checked against the text, [Emberlot] a choice of ours where the source leaves room.
+ *
+ * Templates are a starting point: the engineer reviews the numbers, and the plan check judges the
+ * result against the device's ratings like any other plan.
+ */
+import { estimateBvceo } from './physics';
+import type { DeviceTypeInput } from './schemas/devices';
+import { criteriaSchema, PLAN_KIND_LABEL, type PlanInput, type PlanKind, type PlanTemplate, type TemplateRule } from './schemas/plans';
+
+export const SOURCES = {
+  htrb: '[pub: JESD22-A108; AEC-Q101 test table]',
+  hotl: '[pub: MIL-PRF-19500 group C life]',
+  iol: '[pub: MIL-STD-750 method 1037 as used by AEC-Q101]',
+  thb: '[pub: JESD22-A101]',
+  readPoints: '[practice]',
+  chamberBand: '[pub: MIL-STD-750 general requirements §4.5]',
+  criteria: '[pub: MIL-PRF-19500 slash-sheet delta limits]',
+  ea: '[practice]',
+  aecSampleMemory: '[memory: AEC-Q101 test table — 3 lots × 77, accept 0; confirm against the current revision]',
+  ours: '[Emberlot choice, not from a standard]',
+} as const;
+
+/** Read points for every template (hours). */
+export const TEMPLATE_READ_POINTS_H = [0, 168, 500, 1000];
+export const TEMPLATE_DURATION_H = 1000;
+/** Fraction of the rated breakdown used by reverse-bias stresses. */
+export const REVERSE_BIAS_FRACTION = 0.8;
+/** Chamber held within ± this fraction of its set point (°C value). */
+export const CHAMBER_BAND = 0.03;
+/** Powered life: aim the junction this far below Tj max (spread of θja and gain across a lot). */
+export const POWERED_TJ_MARGIN_C = 5;
+/** Powered life and cycling run from room ambient; the parts heat themselves. */
+export const POWERED_AMBIENT_C = 25;
+/** Preferred collector-emitter voltage for powered stresses: VCB 10–30 V in the source. */
+export const POWERED_VCE_V = 20;
+export const POWERED_VCE_MIN_V = 10;
+/** Collector current is kept below this fraction of IC max. */
+export const POWERED_IC_FRACTION = 0.8;
+export const IOL_DELTA_TJ_C = 100;
+export const IOL_CYCLES = 15000;
+export const IOL_ON_MIN = 2;
+export const IOL_OFF_MIN = 2;
+export const HTRB_SAMPLE = { n: 77, c: 0 };
+export const HOTL_SAMPLE = { n: 45, c: 0 };
+export const IOL_SAMPLE = { n: 77, c: 0 };
+export const THB_SAMPLE = { n: 77, c: 0 };
+export const THB_CHAMBER_C = 85;
+export const THB_RH_PCT = 85;
+export const DEFAULT_EA_EV = 0.7;
+export const DEFAULT_USE_C = 55;
+
+type Device = DeviceTypeInput & { id: string };
+
+const sig = (x: number, digits = 3) => String(+x.toPrecision(digits));
+/** Rounds down to `step` (never above the value it came from). */
+function roundDown(x: number, step: number): number {
+  let r = Math.round(Math.floor(x / step + 1e-9) * step * 1e6) / 1e6;
+  if (r > x) r = Math.round((r - step) * 1e6) / 1e6;
+  return r;
+}
+/** Three significant figures, rounded down. */
+function sigDown(x: number): number {
+  if (x <= 0) return 0;
+  const step = 10 ** (Math.floor(Math.log10(x)) - 2);
+  return roundDown(x, step);
+}
+const amps = (a: number) => (a < 1 ? `${sig(a * 1000)} mA` : `${sig(a)} A`);
+
+/** Reverse bias at `fraction` of BVCBO, to 0.1 V, never above the exact fraction. */
+export function reverseBiasVoltage(bvcboV: number, fraction = REVERSE_BIAS_FRACTION): number {
+  return roundDown(bvcboV * fraction, 0.1);
+}
+
+/** Highest whole-degree chamber set point whose +3 % band edge stays at or below Tj max. */
+export function chamberBelowTjMax(tjMaxC: number): number {
+  return Math.floor(tjMaxC / (1 + CHAMBER_BAND) + 1e-9);
+}
+
+function bvceoOf(d: Device): { v: number; estimated: boolean } {
+  if (d.bvceoV !== null) return { v: d.bvceoV, estimated: false };
+  return { v: estimateBvceo({ bvcbo: d.bvcboV, beta: d.betaRef, n: d.breakdownN }), estimated: true };
+}
+
+/**
+ * Operating point of a powered stress with the collector current regulated (no gain–temperature
+ * loop): target dissipation, VCE within the derated BVCEO, IC below its rating.
+ */
+export function poweredBias(d: Device, targetPowerW: number): { vceV: number; icA: number; powerW: number; rules: TemplateRule[] } {
+  const bvceo = bvceoOf(d);
+  const vceCap = roundDown(bvceo.v * REVERSE_BIAS_FRACTION, 0.1);
+  const vceV = Math.min(POWERED_VCE_V, vceCap);
+  let icA = sigDown(targetPowerW / vceV);
+  const icCap = sigDown(d.icMaxA * POWERED_IC_FRACTION);
+  const capped = icA > icCap;
+  if (capped) icA = icCap;
+  const powerW = vceV * icA;
+  const rules: TemplateRule[] = [
+    {
+      label: 'VCE',
+      value:
+        `${sig(vceV)} V (VCB ≈ ${sig(vceV - 0.7)} V)` +
+        (vceV < POWERED_VCE_V ? `, held to 80 % of ${bvceo.estimated ? 'the estimated' : 'rated'} BVCEO ${sig(bvceo.v)} V` : '') +
+        (vceV < POWERED_VCE_MIN_V ? ' — below the 10 V the source asks for; this part cannot take more' : ''),
+      source: `${SOURCES.hotl} VCB 10–30 V`,
+    },
+    {
+      label: 'IC (regulated)',
+      value: `${amps(icA)} = P / VCE${capped ? `, held to ${POWERED_IC_FRACTION * 100} % of IC max ${amps(d.icMaxA)}` : ''}`,
+      source: `${SOURCES.ours} a regulated collector current has no gain–temperature runaway loop`,
+    },
+  ];
+  return { vceV, icA, powerW, rules };
+}
+
+function basePlan(d: Device) {
+  return {
+    deviceTypeId: d.id,
+    readPointsH: [...TEMPLATE_READ_POINTS_H],
+    durationH: TEMPLATE_DURATION_H,
+    criteria: criteriaSchema.parse({}),
+    eaEv: DEFAULT_EA_EV,
+    useC: DEFAULT_USE_C,
+    breakdownDerating: REVERSE_BIAS_FRACTION,
+  };
+}
+
+const commonRules: TemplateRule[] = [
+  { label: 'Read points', value: TEMPLATE_READ_POINTS_H.join(' / ') + ' h', source: SOURCES.readPoints },
+  { label: 'Failure criteria', value: 'hFE ±15 %, ICBO ≤ 2× initial or 200 nA, VCE(sat) shift ≤ 50 mV', source: SOURCES.criteria },
+  { label: 'Activation energy', value: `${DEFAULT_EA_EV} eV, use temperature ${DEFAULT_USE_C} °C`, source: `${SOURCES.ea} (use temperature: ${SOURCES.ours})` },
+];
+
+function notesFor(title: string, sources: string[]): string {
+  return `From the template "${title}". Sources: ${sources.join('; ')}. Review every number against the device's data sheet before booking.`;
+}
+
+function htrb(d?: Device): PlanTemplate {
+  const sources = [SOURCES.htrb, SOURCES.chamberBand, SOURCES.readPoints, SOURCES.criteria];
+  const summary =
+    'High-temperature reverse bias: the collector-base junction held off at 80 % of its rated breakdown, ' +
+    'hot, with no current flowing. It finds surface and passivation weaknesses (leakage growth, gain loss) ' +
+    'driven by ions moving under the field.';
+  if (!d) {
+    return {
+      key: 'htrb', kind: 'htrb', title: 'HTRB at Tj max, 80 % VCBO, 1000 h (JESD22-A108)', summary, sources, plan: null,
+      rules: [
+        { label: 'VCB', value: '80 % of the rated BVCBO', source: SOURCES.htrb },
+        { label: 'Chamber', value: 'Tj max less the +3 % chamber band', source: `${SOURCES.htrb} Tj at rated max; band ${SOURCES.chamberBand}` },
+        { label: 'Sample', value: `${HTRB_SAMPLE.n} per lot, accept ${HTRB_SAMPLE.c} (3 lots for a qualification)`, source: SOURCES.htrb },
+        ...commonRules,
+      ],
+    };
+  }
+  const chamberC = chamberBelowTjMax(d.tjMaxC);
+  const vcbV = reverseBiasVoltage(d.bvcboV);
+  const title = `HTRB ${chamberC} °C, 80 % VCBO, 1000 h (JESD22-A108)`;
+  const plan: PlanInput = {
+    ...basePlan(d),
+    name: title,
+    kind: 'htrb',
+    chamberC,
+    humidityPct: null,
+    bias: { vcbV, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
+    sampleSize: HTRB_SAMPLE.n,
+    acceptNumber: HTRB_SAMPLE.c,
+    cycle: null,
+    notes: notesFor(title, sources),
+  };
+  return {
+    key: 'htrb', kind: 'htrb', title, summary, sources, plan,
+    rules: [
+      { label: 'VCB', value: `${sig(vcbV)} V = 80 % of BVCBO ${sig(d.bvcboV)} V`, source: SOURCES.htrb },
+      {
+        label: 'Chamber',
+        value: `${chamberC} °C: Tj max ${sig(d.tjMaxC)} °C less the +3 % chamber band (top of band ${sig(chamberC * (1 + CHAMBER_BAND), 4)} °C)`,
+        source: `${SOURCES.htrb} Tj at rated max; band ${SOURCES.chamberBand}`,
+      },
+      { label: 'Duration', value: '1000 h', source: SOURCES.htrb },
+      { label: 'Sample', value: `${HTRB_SAMPLE.n} per lot, accept ${HTRB_SAMPLE.c} (3 lots for a qualification)`, source: SOURCES.htrb },
+      ...commonRules,
+    ],
+  };
+}
+
+function hotl(d?: Device): PlanTemplate {
+  const sources = [SOURCES.hotl, SOURCES.readPoints, SOURCES.criteria];
+  const summary =
+    'Powered operating life: the transistor conducts and dissipates power, so its own heat takes the junction ' +
+    'to near its rating. It ages the die attach, bond wires and metallisation under real current, as in use.';
+  if (!d) {
+    return {
+      key: 'hotl', kind: 'hotl', title: 'Powered operating life near Tj max, 1000 h (MIL-PRF-19500 group C)', summary, sources, plan: null,
+      rules: [
+        { label: 'Junction', value: `Tj max less ${POWERED_TJ_MARGIN_C} °C, by self-heating from a ${POWERED_AMBIENT_C} °C ambient`, source: `${SOURCES.hotl} Tj ≥ rated; margin ${SOURCES.ours}` },
+        { label: 'VCE', value: `${POWERED_VCE_V} V, or 80 % of BVCEO if lower`, source: `${SOURCES.hotl} VCB 10–30 V` },
+        { label: 'Sample', value: `${HOTL_SAMPLE.n}, accept ${HOTL_SAMPLE.c}`, source: SOURCES.hotl },
+        ...commonRules,
+      ],
+    };
+  }
+  const chamberC = POWERED_AMBIENT_C;
+  const freeAirRatingW = (d.tjMaxC - chamberC) / d.thetaJaCPerW;
+  const targetW = (d.tjMaxC - POWERED_TJ_MARGIN_C - chamberC) / d.thetaJaCPerW;
+  const op = poweredBias(d, targetW);
+  const tj = chamberC + d.thetaJaCPerW * op.powerW;
+  const title = `Powered operating life, Tj ≈ ${Math.round(tj)} °C, 1000 h (MIL-PRF-19500 group C)`;
+  const plan: PlanInput = {
+    ...basePlan(d),
+    name: title,
+    kind: 'hotl',
+    chamberC,
+    humidityPct: null,
+    bias: { vcbV: null, vebV: null, vceV: op.vceV, ibA: null, icA: op.icA, tolerancePct: 5 },
+    sampleSize: HOTL_SAMPLE.n,
+    acceptNumber: HOTL_SAMPLE.c,
+    cycle: null,
+    notes: notesFor(title, sources),
+  };
+  return {
+    key: 'hotl', kind: 'hotl', title, summary, sources, plan,
+    rules: [
+      {
+        label: 'Dissipation',
+        value:
+          `${sig(op.powerW)} W, ${sig((op.powerW / freeAirRatingW) * 100)} % of the free-air rating ` +
+          `(Tj max − ${chamberC} °C)/θja = ${sig(freeAirRatingW)} W`,
+        source: `${SOURCES.hotl} dissipation ≥ 75 % of rating`,
+      },
+      {
+        label: 'Junction',
+        value: `≈ ${sig(tj, 4)} °C = ${chamberC} °C + θja ${sig(d.thetaJaCPerW)} °C/W × P (aim: Tj max − ${POWERED_TJ_MARGIN_C} °C)`,
+        source: `${SOURCES.hotl} Tj ≥ rated; margin ${SOURCES.ours}`,
+      },
+      ...op.rules,
+      { label: 'Sample', value: `${HOTL_SAMPLE.n}, accept ${HOTL_SAMPLE.c} (LTPD 5 % at 90 % confidence)`, source: SOURCES.hotl },
+      ...commonRules,
+    ],
+  };
+}
+
+function iol(d?: Device): PlanTemplate {
+  const sources = [SOURCES.iol, SOURCES.aecSampleMemory, SOURCES.readPoints, SOURCES.criteria];
+  const summary =
+    'Intermittent operating life: power switched on and off in equal periods so the junction swings by 100 °C ' +
+    'or more every cycle. It fatigues the die attach and bond wires through repeated expansion.';
+  const cycleH = (IOL_ON_MIN + IOL_OFF_MIN) / 60;
+  const baseRules: TemplateRule[] = [
+    { label: 'Cycle', value: `${IOL_ON_MIN} min on, ${IOL_OFF_MIN} min off (on-time = off-time)`, source: `${SOURCES.iol}; ${IOL_ON_MIN} min ${SOURCES.ours}` },
+    { label: 'Junction swing', value: `ΔTj ${IOL_DELTA_TJ_C} °C for ${IOL_CYCLES.toLocaleString('en-GB')} cycles`, source: SOURCES.iol },
+    { label: 'Duration', value: `${IOL_CYCLES.toLocaleString('en-GB')} cycles × ${IOL_ON_MIN + IOL_OFF_MIN} min = ${sig(IOL_CYCLES * cycleH)} h`, source: SOURCES.ours },
+    { label: 'Sample', value: `${IOL_SAMPLE.n} per lot, accept ${IOL_SAMPLE.c}`, source: SOURCES.aecSampleMemory },
+  ];
+  if (!d) {
+    return {
+      key: 'iol', kind: 'iol', title: 'Intermittent operating life, ΔTj 100 °C, 15,000 cycles (MIL-STD-750 M1037)', summary, sources, plan: null,
+      rules: [...baseRules, { label: 'Dissipation (on)', value: 'ΔTj / θja, collector current regulated', source: SOURCES.ours }, ...commonRules],
+    };
+  }
+  const chamberC = POWERED_AMBIENT_C;
+  const targetW = IOL_DELTA_TJ_C / d.thetaJaCPerW;
+  const op = poweredBias(d, targetW);
+  const deltaTj = d.thetaJaCPerW * op.powerW;
+  const title = 'Intermittent operating life, ΔTj 100 °C, 15,000 cycles (MIL-STD-750 M1037)';
+  const plan: PlanInput = {
+    ...basePlan(d),
+    name: title,
+    kind: 'iol',
+    chamberC,
+    humidityPct: null,
+    bias: { vcbV: null, vebV: null, vceV: op.vceV, ibA: null, icA: op.icA, tolerancePct: 5 },
+    durationH: IOL_CYCLES * cycleH,
+    sampleSize: IOL_SAMPLE.n,
+    acceptNumber: IOL_SAMPLE.c,
+    cycle: { onMin: IOL_ON_MIN, offMin: IOL_OFF_MIN, deltaTjC: IOL_DELTA_TJ_C, cycles: IOL_CYCLES },
+    notes: notesFor(title, sources),
+  };
+  return {
+    key: 'iol', kind: 'iol', title, summary, sources, plan,
+    rules: [
+      ...baseRules,
+      {
+        label: 'Dissipation (on)',
+        value: `${sig(op.powerW)} W, giving ΔTj ≈ ${sig(deltaTj)} °C over θja ${sig(d.thetaJaCPerW)} °C/W (steady state; a short on-time swings less)`,
+        source: SOURCES.ours,
+      },
+      ...op.rules,
+      ...commonRules,
+    ],
+  };
+}
+
+function thb(d?: Device): PlanTemplate {
+  const sources = [SOURCES.thb, SOURCES.aecSampleMemory, SOURCES.readPoints, SOURCES.criteria];
+  const summary =
+    'Temperature-humidity-bias: 85 °C and 85 % relative humidity with the junction reverse biased. Moisture ' +
+    'and the field together drive corrosion and ionic leakage through the package; bias is kept low in power ' +
+    'so the part does not dry itself out.';
+  const rhRule: TemplateRule = { label: 'Chamber', value: `${THB_CHAMBER_C} °C / ${THB_RH_PCT} % RH`, source: SOURCES.thb };
+  if (!d) {
+    return {
+      key: 'thb', kind: 'thb', title: 'THB 85 °C / 85 % RH, 80 % VCBO, 1000 h (JESD22-A101)', summary, sources, plan: null,
+      rules: [
+        rhRule,
+        { label: 'VCB', value: '80 % of the rated reverse voltage (BVCBO)', source: SOURCES.thb },
+        { label: 'Sample', value: `${THB_SAMPLE.n} per lot, accept ${THB_SAMPLE.c}`, source: SOURCES.aecSampleMemory },
+        ...commonRules,
+      ],
+    };
+  }
+  const vcbV = reverseBiasVoltage(d.bvcboV);
+  const title = 'THB 85 °C / 85 % RH, 80 % VCBO, 1000 h (JESD22-A101)';
+  const plan: PlanInput = {
+    ...basePlan(d),
+    name: title,
+    kind: 'thb',
+    chamberC: THB_CHAMBER_C,
+    humidityPct: THB_RH_PCT,
+    bias: { vcbV, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
+    sampleSize: THB_SAMPLE.n,
+    acceptNumber: THB_SAMPLE.c,
+    cycle: null,
+    notes: notesFor(title, sources),
+  };
+  return {
+    key: 'thb', kind: 'thb', title, summary, sources, plan,
+    rules: [
+      rhRule,
+      { label: 'VCB', value: `${sig(vcbV)} V = 80 % of BVCBO ${sig(d.bvcboV)} V`, source: SOURCES.thb },
+      { label: 'Duration', value: '1000 h', source: SOURCES.thb },
+      { label: 'Sample', value: `${THB_SAMPLE.n} per lot, accept ${THB_SAMPLE.c}`, source: SOURCES.aecSampleMemory },
+      ...commonRules,
+    ],
+  };
+}
+
+/** The four templates, built for `device` when given (otherwise rules only, `plan: null`). */
+export function buildPlanTemplates(device?: Device): PlanTemplate[] {
+  return [htrb(device), hotl(device), iol(device), thb(device)];
+}
+
+export const TEMPLATE_KIND_ORDER: PlanKind[] = ['htrb', 'hotl', 'iol', 'thb'];
+export { PLAN_KIND_LABEL };
