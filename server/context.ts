@@ -16,10 +16,25 @@ export interface AppContext {
   /** Wall clock; tests replace it. */
   now: () => Date;
   services: Record<string, unknown>;
+  /** Register something to release when the app shuts down (timers, stores). */
+  onClose: (fn: () => Promise<void> | void) => void;
+  close: () => Promise<void>;
 }
 
 export function createContext(ds: DataSource, config: ServerConfig): AppContext {
   const events = new EventEmitter();
   events.setMaxListeners(1000);
-  return { ds, config, audit: new AuditService(ds), events, now: () => new Date(), services: {} };
+  const closers: Array<() => Promise<void> | void> = [];
+  return {
+    ds,
+    config,
+    audit: new AuditService(ds),
+    events,
+    now: () => new Date(),
+    services: {},
+    onClose: (fn) => void closers.push(fn),
+    close: async () => {
+      for (const fn of closers.splice(0).reverse()) await fn();
+    },
+  };
 }

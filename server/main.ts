@@ -26,6 +26,7 @@ async function main() {
     server.close();
     server.closeAllConnections?.();
     await stopFeatures().catch((e) => console.error('[api] stopping features:', e));
+    await ctx.close().catch(() => undefined);
     await ds.destroy().catch(() => undefined);
     process.exit(0);
   };

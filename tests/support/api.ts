@@ -42,6 +42,9 @@ export async function createTestApp(overrides: Partial<ServerConfig> = {}): Prom
       agents.set(role, agent);
       return agent;
     },
-    close: () => db.drop(),
+    close: async () => {
+      await ctx.close();
+      await db.drop();
+    },
   };
 }

@@ -21,10 +21,12 @@ export function installAuth(app: Express, ctx: AppContext): AuthService {
   const auth = new AuthService(ctx.ds, ctx.audit, ctx.now);
   const PgStore = connectPgSimple(session);
   const pool = (ctx.ds.driver as unknown as { master: Pool }).master;
+  const store = new PgStore({ pool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 15 * 60 });
+  ctx.onClose(() => store.close()); // stops the prune timer
   app.use(
     session({
       name: SESSION_COOKIE,
-      store: new PgStore({ pool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 15 * 60 }),
+      store,
       secret: ctx.config.sessionSecret,
       resave: false,
       saveUninitialized: false,
