@@ -6,8 +6,9 @@ import { usersRoutes } from './users/users.routes';
 import { deviceTypesRoutes } from './device-types/device-types.routes';
 import { lotsRoutes } from './lots/lots.routes';
 import { plansRoutes } from './plans/plans.routes';
+import { telemetryRouters } from './telemetry/routers';
 
 /** Every API router, in mount order. Add a feature's router here (one line). */
 export function apiRouters(ctx: AppContext): ApiRouter[] {
-  return [healthRoutes(ctx), authRoutes(ctx), usersRoutes(ctx), deviceTypesRoutes(ctx), lotsRoutes(ctx), plansRoutes(ctx)];
+  return [healthRoutes(ctx), authRoutes(ctx), usersRoutes(ctx), deviceTypesRoutes(ctx), lotsRoutes(ctx), plansRoutes(ctx), ...telemetryRouters(ctx)];
 }

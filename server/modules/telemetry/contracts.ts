@@ -42,6 +42,12 @@ export interface RigLink {
    */
   send(rigCode: string, command: RigCommandBody, opts?: { cmdId?: string; timeoutMs?: number }): Promise<CommandAck>;
   connected(): boolean;
+  /**
+   * Ask the broker to disconnect every client of this rig at once (credentials revoked or
+   * rotated). Resolves true when the request went out now, false when it waits for a reconnect.
+   * Optional so simple fakes need not implement it.
+   */
+  revoke?(rigCode: string): Promise<boolean>;
 }
 
 export const RIG_LINK = 'rigLink';

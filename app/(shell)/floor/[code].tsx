@@ -1,0 +1,3 @@
+import { RigScreen } from '@/components/floor/RigScreen';
+
+export default RigScreen;

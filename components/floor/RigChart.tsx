@@ -1,0 +1,80 @@
+import { useState } from 'react';
+import { View } from 'react-native';
+import { VictoryAxis, VictoryChart, VictoryLegend, VictoryLine } from 'victory-native';
+import type { FloorChart } from '@/shared/schemas/floor';
+import { colors, fonts, space } from '@/components/theme/tokens';
+import { Text } from '@/components/ui/Text';
+
+const font = `${fonts.regular}, system-ui, sans-serif`;
+const axisStyle = {
+  axis: { stroke: colors.borderStrong },
+  grid: { stroke: colors.border, strokeDasharray: '2,4' },
+  tickLabels: { fontSize: 12, fill: colors.inkMuted, fontFamily: font, padding: 4 },
+  axisLabel: { fontSize: 12, fill: colors.ink, fontFamily: font, padding: 36 },
+  ticks: { stroke: colors.borderStrong, size: 4 },
+};
+
+/** Chamber: thick graphite line. Sockets: distinct colours AND dash patterns (not colour alone). */
+const CHAMBER = { color: colors.graphite, width: 3, dash: undefined as string | undefined };
+const SOCKET_SERIES = [
+  { color: '#B0411A', dash: undefined },
+  { color: '#1E4F86', dash: '6,3' },
+  { color: '#1F6B3F', dash: '2,3' },
+  { color: '#6B3FA0', dash: '8,3,2,3' },
+  { color: '#7A4F00', dash: '10,4' },
+  { color: '#0F6E77', dash: '4,4' },
+  { color: '#A3211B', dash: '1,3' },
+  { color: '#57524A', dash: '12,3' },
+];
+
+const hhmm = (ms: number) => new Date(ms).toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit' });
+
+export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string }) {
+  const [width, setWidth] = useState(0);
+  const phone = width > 0 && width < 600;
+  const series = [
+    { name: 'Chamber', style: CHAMBER, data: chart.chamber },
+    ...chart.sockets.map((s, i) => ({ name: `Socket ${s.socket} case`, style: { ...SOCKET_SERIES[i % SOCKET_SERIES.length], width: 2 }, data: s.points })),
+  ].filter((s) => s.data.length > 0);
+  const ys = series.flatMap((s) => s.data.map((p) => p.avg));
+  const yMin = ys.length ? Math.floor(Math.min(...ys) - 2) : 0;
+  const yMax = ys.length ? Math.ceil(Math.max(...ys) + 2) : 100;
+  const from = Date.parse(chart.from);
+  const to = Date.parse(chart.to);
+  const last = (d: { avg: number }[]) => (d.length ? `${d[d.length - 1].avg.toFixed(1)} °C` : 'no data');
+  const description = `Temperatures from ${hhmm(from)} to ${hhmm(to)}: ` + series.map((s) => `${s.name} last ${last(s.data)}`).join('; ') + '.';
+  return (
+    <View testID={testID} onLayout={(e) => setWidth(Math.round(e.nativeEvent.layout.width))} accessible accessibilityRole="image" accessibilityLabel={description}>
+      {series.length === 0 ? (
+        <Text tone="muted">No telemetry in this period.</Text>
+      ) : width > 0 ? (
+        <>
+          <VictoryChart width={width} height={phone ? 240 : 300} padding={{ top: 12, bottom: 44, left: 56, right: phone ? 12 : 24 }} domain={{ x: [from, to], y: [yMin, yMax] }} scale={{ x: 'time' }}>
+            <VictoryAxis tickCount={phone ? 3 : 6} tickFormat={(t: number) => hhmm(t)} style={axisStyle} />
+            <VictoryAxis dependentAxis label="°C" tickFormat={(t: number) => `${t}`} style={axisStyle} />
+            {series.map((s) => (
+              <VictoryLine
+                key={s.name}
+                data={s.data.map((p) => ({ x: Date.parse(p.t), y: p.avg }))}
+                style={{ data: { stroke: s.style.color, strokeWidth: s.style.width, strokeDasharray: s.style.dash } }}
+              />
+            ))}
+          </VictoryChart>
+          <VictoryLegend
+            standalone
+            width={width}
+            height={Math.ceil(series.length / (phone ? 2 : 4)) * 26 + 20}
+            itemsPerRow={phone ? 2 : 4}
+            gutter={phone ? 12 : 24}
+            orientation="horizontal"
+            style={{ labels: { fontSize: 12, fill: colors.ink, fontFamily: font } }}
+            data={series.map((s) => ({ name: `${s.name}${s.style.dash ? ' (dashed)' : ''}`, symbol: { fill: s.style.color, type: 'square' } }))}
+          />
+          <Text variant="caption" tone="muted" style={{ paddingHorizontal: space.xs }}>
+            {chart.source === 'raw' ? 'From every sample' : 'From per-minute averages'}, one point per {Math.max(1, Math.round(chart.bucketMs / 1000))} s.
+          </Text>
+        </>
+      ) : null}
+    </View>
+  );
+}

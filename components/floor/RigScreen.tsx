@@ -1,0 +1,135 @@
+import { useLocalSearchParams } from 'expo-router';
+import { useState } from 'react';
+import { View } from 'react-native';
+import type { FloorBoard, FloorSocket } from '@/shared/schemas/floor';
+import { formatDateTime } from '@/components/common/format';
+import { Header } from '@/components/layout/Header';
+import { Screen } from '@/components/layout/Screen';
+import { useFloorStream, useRigBoard, useRigChart, type ChartSpan } from '@/components/queries/floor';
+import { useBreakpoints } from '@/components/theme/breakpoints';
+import { space } from '@/components/theme/tokens';
+import { Button } from '@/components/ui/Button';
+import { Card } from '@/components/ui/Card';
+import { QueryState } from '@/components/ui/QueryState';
+import { SafetyCaution } from '@/components/ui/SafetyCaution';
+import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
+import { StatusPill } from '@/components/ui/StatusPill';
+import { Text } from '@/components/ui/Text';
+import { LiveIndicator } from './FloorScreen';
+import { RigChart } from './RigChart';
+import { fmtHours, rigState } from './RigTile';
+import { SocketBoard, TempLegend } from './SocketBoard';
+import { fmtC } from './temp-scale';
+
+const SPANS = [
+  { value: '15m', label: '15 min' },
+  { value: '1h', label: '1 hour' },
+  { value: '6h', label: '6 hours' },
+  { value: '24h', label: '24 hours' },
+] as const;
+const MAX_PLOTTED = 8;
+
+function Row({ label, value }: { label: string; value: string }) {
+  return (
+    <View style={{ flexDirection: 'row', justifyContent: 'space-between', gap: space.md }}>
+      <Text variant="label" tone="muted">
+        {label}
+      </Text>
+      <Text variant="label">{value}</Text>
+    </View>
+  );
+}
+
+function SocketDetail({ s, plotted, onTogglePlot }: { s: FloorSocket; plotted: boolean; onTogglePlot: () => void }) {
+  const fmt = (n: number | null, unit: string, digits = 3) => (n === null ? '—' : `${Number(n.toPrecision(digits))} ${unit}`);
+  return (
+    <Card title={`Socket ${s.index}`} description={s.serial ? `Device ${s.serial}` : 'No device loaded by the current run'} testID="socket-detail" padding="md">
+      <View style={{ gap: space.xxs }}>
+        <Row label="Case temperature" value={fmtC(s.caseC)} />
+        <Row label="Bias voltage" value={fmt(s.vV, 'V')} />
+        <Row label="Current" value={s.iA === null ? '—' : Math.abs(s.iA) < 1e-3 ? `${(s.iA * 1e9).toPrecision(3)} nA` : `${(s.iA * 1e3).toPrecision(3)} mA`} />
+        <Row label="Bias" value={s.tripped ? 'Tripped (latched off)' : s.caseC === null ? '—' : s.biasOn ? 'On' : 'Off'} />
+        {s.tripReason ? <Row label="Trip reason" value={s.tripReason} /> : null}
+      </View>
+      <Button size="sm" variant="secondary" label={plotted ? 'Remove from chart' : 'Plot on the chart'} onPress={onTogglePlot} />
+    </Card>
+  );
+}
+
+function Board({ board, code }: { board: FloorBoard; code: string }) {
+  const { gtTablet, gtPhone } = useBreakpoints();
+  const [selected, setSelected] = useState<number | null>(null);
+  const [plotted, setPlotted] = useState<number[] | null>(null);
+  const [span, setSpan] = useState<ChartSpan>('1h');
+  const chart = useRigChart(code, span, plotted ?? []);
+  const shownSockets = plotted ?? chart.data?.sockets.map((s) => s.socket) ?? [];
+  const sel = selected !== null ? board.sockets.find((s) => s.index === selected) ?? null : null;
+  const toggle = (i: number) => {
+    const base = shownSockets;
+    setPlotted(base.includes(i) ? base.filter((x) => x !== i) : [...base, i].slice(-MAX_PLOTTED));
+  };
+  const t = board.tile;
+  return (
+    <>
+      <View style={{ flexDirection: gtTablet ? 'row' : 'column', gap: space.lg, alignItems: 'flex-start' }}>
+        <Card
+          title="Socket board"
+          description={board.sampleAt ? `Readings of message ${board.seq}, ${formatDateTime(board.sampleAt)} (rig clock). Tap a socket for its readings.` : 'No telemetry from this rig yet.'}
+          style={{ flex: gtTablet ? 3 : undefined, alignSelf: 'stretch' }}
+        >
+          <SocketBoard sockets={board.sockets} selected={selected} onSelect={setSelected} cell={gtPhone ? 60 : 52} />
+          <TempLegend />
+        </Card>
+        <View style={{ flex: gtTablet ? 2 : undefined, alignSelf: 'stretch', gap: space.md }}>
+          <Card title="Chamber" padding="md">
+            <Row label="Chamber" value={fmtC(t.chamberC)} />
+            <Row label="Setpoint" value={fmtC(t.setpointC)} />
+            {t.humidityPct !== null ? <Row label="Humidity" value={`${t.humidityPct.toFixed(0)} % RH`} /> : null}
+            <Row label="Hottest case" value={fmtC(t.maxCaseC)} />
+            <Row label="Sockets" value={`${t.powered} powered · ${t.tripped} tripped · ${t.empty} empty`} />
+            <Row label="Open alarms" value={String(t.openAlarms)} />
+            <Row label="Run" value={t.run ? `${t.run.code} (${t.run.state})` : 'None'} />
+            {t.run?.hoursToNextReadPoint != null ? <Row label="Next read point" value={`${t.run.nextReadPointH} h, in ${fmtHours(t.run.hoursToNextReadPoint)} of stress`} /> : null}
+            <Row label="Last heard" value={formatDateTime(t.lastSeenAt)} />
+          </Card>
+          {sel ? <SocketDetail s={sel} plotted={shownSockets.includes(sel.index)} onTogglePlot={() => toggle(sel.index)} /> : null}
+        </View>
+      </View>
+      <Card title="Temperatures" description={plotted ? 'Chamber and the sockets you chose.' : 'Chamber and the three hottest sockets; tap a socket to choose others.'}>
+        <SegmentedChoice label="Period" hideLabel options={SPANS} value={span} onChange={setSpan} testID="chart-span" />
+        <QueryState query={chart} loadingLabel="Loading the chart…" errorTitle="Could not load the chart" loadingVariant="spinner">
+          {(c) => <RigChart chart={c} testID="rig-chart" />}
+        </QueryState>
+      </Card>
+    </>
+  );
+}
+
+/** One rig: its board coloured by case temperature, the chamber, the chart. */
+export function RigScreen() {
+  const { code: raw } = useLocalSearchParams<{ code: string }>();
+  const code = String(raw ?? '').toUpperCase();
+  const board = useRigBoard(code);
+  const stream = useFloorStream();
+  const tile = board.data?.tile;
+  const s = tile ? rigState(tile) : null;
+  return (
+    <Screen width="wide" testID="rig-screen">
+      <Header
+        eyebrow="Floor"
+        title={`Rig ${code}`}
+        subtitle={tile ? `${tile.name}${tile.location ? ` · ${tile.location}` : ''} · ${tile.socketCount} sockets, up to ${tile.maxTempC} °C` : undefined}
+        actions={
+          <View style={{ flexDirection: 'row', gap: space.xs, alignItems: 'center' }}>
+            {s ? <StatusPill tone={s.tone} label={s.label} /> : null}
+            <LiveIndicator state={stream} />
+          </View>
+        }
+      />
+      <SafetyCaution context={tile ? `Rig ${tile.code} runs up to ${tile.maxTempC} °C with bias voltage on the board.` : undefined} />
+      <QueryState query={board} loadingLabel={`Loading rig ${code}…`} errorTitle={`Could not load rig ${code}`}>
+        {(b) => <Board board={b} code={code} />}
+      </QueryState>
+    </Screen>
+  );
+}

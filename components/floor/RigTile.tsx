@@ -1,0 +1,115 @@
+import { Link } from 'expo-router';
+import { Pressable, View } from 'react-native';
+import type { FloorTile } from '@/shared/schemas/floor';
+import { colors, radius, space, type Tone } from '@/components/theme/tokens';
+import { StatusPill } from '@/components/ui/StatusPill';
+import { Text } from '@/components/ui/Text';
+import { fmtC } from './temp-scale';
+
+const RUN_STATE_LABEL: Record<string, string> = {
+  loading: 'Loading',
+  heating: 'Heating',
+  stressing: 'Stressing',
+  paused: 'Paused',
+  'read-hold': 'Read-point hold',
+  cooling: 'Cooling',
+};
+
+/** The pill: connection first (offline outranks everything), then what the run is doing. */
+export function rigState(t: FloorTile): { tone: Tone; label: string } {
+  if (!t.active) return { tone: 'idle', label: 'Decommissioned' };
+  if (!t.online) return { tone: 'danger', label: 'Offline' };
+  if (t.tripped > 0) return { tone: 'attention', label: t.run ? `${RUN_STATE_LABEL[t.run.state] ?? t.run.state} · trips` : 'Online · trips' };
+  if (t.run) return { tone: t.run.state === 'paused' ? 'attention' : 'ok', label: RUN_STATE_LABEL[t.run.state] ?? t.run.state };
+  return { tone: 'idle', label: 'Online · idle' };
+}
+
+/** "18 h" of stress, or "2 d 4 h". */
+export function fmtHours(h: number): string {
+  if (h < 1) return `${Math.max(0, Math.round(h * 60))} min`;
+  if (h < 48) return `${h < 10 ? h.toFixed(1) : Math.round(h)} h`;
+  return `${Math.floor(h / 24)} d ${Math.round(h % 24)} h`;
+}
+
+function Stat({ label, value, tone }: { label: string; value: string; tone?: Tone }) {
+  return (
+    <View style={{ minWidth: 64, gap: 2 }}>
+      <Text variant="overline" tone="subtle">
+        {label}
+      </Text>
+      <Text variant="bodyStrong" tone={tone ?? 'default'}>
+        {value}
+      </Text>
+    </View>
+  );
+}
+
+export function RigTile({ tile }: { tile: FloorTile }) {
+  const s = rigState(tile);
+  const off = tile.chamberC !== null && tile.setpointC !== null ? tile.chamberC - tile.setpointC : null;
+  const chamber = `${fmtC(tile.chamberC)}${tile.setpointC !== null ? ` / set ${fmtC(tile.setpointC, 0)}` : ''}`;
+  const next =
+    tile.run?.hoursToNextReadPoint !== null && tile.run?.hoursToNextReadPoint !== undefined
+      ? `${fmtHours(tile.run.hoursToNextReadPoint)} of stress to ${tile.run.nextReadPointH} h`
+      : null;
+  const label = [
+    `Rig ${tile.code}, ${s.label}`,
+    `chamber ${chamber}`,
+    `${tile.powered} powered, ${tile.tripped} tripped, ${tile.empty} empty sockets`,
+    `${tile.openAlarms} open alarms`,
+    tile.run ? `run ${tile.run.code}` : 'no run',
+    next ? `next read point in ${next}` : '',
+  ]
+    .filter(Boolean)
+    .join('; ');
+  return (
+    <Link href={{ pathname: '/floor/[code]', params: { code: tile.code } }} asChild>
+      <Pressable
+        accessibilityRole="link"
+        accessibilityLabel={label}
+        testID={`rig-tile-${tile.code}`}
+        style={({ pressed }) => ({
+          flex: 1,
+          backgroundColor: pressed ? colors.surfaceSunken : colors.surface,
+          borderRadius: radius.lg,
+          borderWidth: 1,
+          borderColor: tile.online ? colors.border : colors.borderStrong,
+          padding: space.md,
+          gap: space.sm,
+        })}
+      >
+        <View style={{ flexDirection: 'row', justifyContent: 'space-between', alignItems: 'flex-start', gap: space.xs }}>
+          <View style={{ flexShrink: 1 }}>
+            <Text variant="heading">{tile.code}</Text>
+            <Text variant="caption" tone="muted" numberOfLines={1}>
+              {tile.name}
+              {tile.location ? ` · ${tile.location}` : ''}
+            </Text>
+          </View>
+          <StatusPill tone={s.tone} label={s.label} size="sm" />
+        </View>
+        <View>
+          <Text variant="overline" tone="subtle">
+            Chamber
+          </Text>
+          <Text variant="title">{fmtC(tile.chamberC)}</Text>
+          <Text variant="caption" tone={off !== null && Math.abs(off) > 3 ? 'attention' : 'muted'}>
+            {tile.setpointC !== null ? `Setpoint ${fmtC(tile.setpointC, 0)}${off !== null ? ` (${off >= 0 ? '+' : '−'}${Math.abs(off).toFixed(1)} °C)` : ''}` : 'No setpoint reported'}
+            {tile.humidityPct !== null ? ` · ${tile.humidityPct.toFixed(0)} % RH` : ''}
+          </Text>
+        </View>
+        <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
+          <Stat label="Powered" value={String(tile.powered)} />
+          <Stat label="Tripped" value={String(tile.tripped)} tone={tile.tripped ? 'danger' : undefined} />
+          <Stat label="Empty" value={String(tile.empty)} />
+          <Stat label="Alarms" value={String(tile.openAlarms)} tone={tile.openAlarms ? 'attention' : undefined} />
+        </View>
+        <Text variant="caption" tone="muted">
+          {tile.run
+            ? `Run ${tile.run.code} · ${fmtHours(tile.run.stressHours)} stressed${next ? ` · next read point: ${next}` : ''}`
+            : 'No run on this rig'}
+        </Text>
+      </Pressable>
+    </Link>
+  );
+}

@@ -1,0 +1,42 @@
+import { Platform, View } from 'react-native';
+import type { RigCredentials } from '@/shared/schemas/rigs';
+import { colors, radius, space } from '@/components/theme/tokens';
+import { Banner } from '@/components/ui/Banner';
+import { Button } from '@/components/ui/Button';
+import { Text } from '@/components/ui/Text';
+
+const mono = Platform.select({ web: 'ui-monospace, SFMono-Regular, Menlo, Consolas, monospace', ios: 'Menlo', default: 'monospace' });
+
+function Secret({ label, value, testID }: { label: string; value: string; testID: string }) {
+  return (
+    <View style={{ gap: space.xxs }}>
+      <Text variant="overline" tone="subtle">
+        {label}
+      </Text>
+      <View style={{ backgroundColor: colors.surface, borderWidth: 1, borderColor: colors.borderStrong, borderRadius: radius.sm, padding: space.sm }}>
+        <Text selectable testID={testID} style={{ fontFamily: mono, fontSize: 16, lineHeight: 24, color: colors.ink }}>
+          {value}
+        </Text>
+      </View>
+    </View>
+  );
+}
+
+/** The one moment the secret is visible. It cannot be shown again: only a new one can be issued. */
+export function SecretReveal({ rigCode, credentials, onDone }: { rigCode: string; credentials: RigCredentials; onDone: () => void }) {
+  return (
+    <Banner tone="warn" title={`MQTT credentials for rig ${rigCode} — shown once`} testID="secret-reveal">
+      <View style={{ gap: space.sm }}>
+        <Text variant="body">
+          Copy the secret into the rig controller now. Emberlot keeps only a hash of it; once you close this notice nobody can read it again — you could only issue a new one.
+        </Text>
+        <Secret label="User name" value={credentials.username} testID="secret-username" />
+        <Secret label="Secret" value={credentials.secret} testID="secret-value" />
+        <Text variant="caption" tone="muted">
+          Client id on the broker: rig-{rigCode}. Issued {new Date(credentials.issuedAt).toLocaleString('en-GB')}.
+        </Text>
+        <Button label="I have stored the secret" variant="primary" onPress={onDone} testID="secret-done" />
+      </View>
+    </Banner>
+  );
+}

@@ -1,0 +1,262 @@
+/**
+ * The live floor: every rig as a tile (one query), a rig's socket board (two queries) and its
+ * temperature chart downsampled in SQL.
+ *
+ * Chart rule: a span of up to 30 minutes is drawn from the raw telemetry samples (at 4 messages/s
+ * that is ≤ 7,200 messages per series); a longer span from the per-minute rollups. Either way the
+ * span is cut into `points` equal buckets and each bucket gives avg / min / max, so a series never
+ * has more than `points` points.
+ */
+import {
+  CHART_RAW_SPAN_MS,
+  type ChartPoint,
+  type FloorBoard,
+  type FloorChart,
+  type FloorChartQuery,
+  type FloorSocket,
+  type FloorTile,
+  type RunStateName,
+} from '../../../shared/schemas/floor';
+import type { AppContext } from '../../context';
+import { notFound } from '../../http/errors';
+
+/** Run states in which a run occupies its rig. */
+export const ACTIVE_RUN_STATES: RunStateName[] = ['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling'];
+
+interface TileRow {
+  id: string;
+  code: string;
+  name: string;
+  location: string;
+  active: boolean;
+  online: boolean;
+  last_seen_at: Date | null;
+  chamber_c: number | null;
+  setpoint_c: number | null;
+  humidity_pct: number | null;
+  max_temp_c: number;
+  socket_count: number;
+  last_ts: Date | null;
+  run_id: string | null;
+  run_code: string | null;
+  run_state: RunStateName | null;
+  stress_hours: number | null;
+  next_read_point: number | null;
+  read_points_h: number[] | null;
+  loaded: number;
+  powered: number;
+  tripped: number;
+  max_case_c: number | null;
+  open_alarms: number;
+}
+
+/**
+ * One statement for every tile: the rig row, its active run (lateral, newest), the newest
+ * message's socket counts joined with the run's socket map (both by primary-key prefix), and the
+ * unacknowledged alarms. No per-socket work in JavaScript.
+ */
+const TILE_SQL = `
+SELECT r.id, r.code, r.name, r.location, r.active, r.online, r.last_seen_at, r.chamber_c, r.setpoint_c,
+       r.humidity_pct, r.max_temp_c, r.socket_count,
+       b.ts AS last_ts,
+       run.id AS run_id, run.code AS run_code, run.state AS run_state, run.stress_hours, run.next_read_point,
+       p.read_points_h,
+       COALESCE(s.loaded, 0)::int AS loaded, COALESCE(s.powered, 0)::int AS powered,
+       COALESCE(s.tripped, 0)::int AS tripped, s.max_case_c,
+       (SELECT count(*) FROM alarms a WHERE a.rig_id = r.id AND a.acknowledged_at IS NULL)::int AS open_alarms
+FROM rigs r
+LEFT JOIN telemetry_batches b ON b.rig_id = r.id AND b.seq = r.last_seq
+LEFT JOIN LATERAL (
+  SELECT x.id, x.code, x.state, x.stress_hours, x.next_read_point, x.plan_id
+  FROM runs x WHERE x.rig_id = r.id AND x.state = ANY($2::varchar[])
+  ORDER BY x.state_changed_at DESC LIMIT 1
+) run ON true
+LEFT JOIN stress_plans p ON p.id = run.plan_id
+LEFT JOIN LATERAL (
+  SELECT count(rs.socket_index) AS loaded,
+         count(*) FILTER (WHERE ts.bias_on) AS powered,
+         count(*) FILTER (WHERE COALESCE(ts.tripped, false) OR COALESCE(rs.tripped, false)) AS tripped,
+         max(ts.case_c) AS max_case_c
+  FROM (SELECT socket, bias_on, tripped, case_c FROM telemetry_samples WHERE rig_id = r.id AND seq = r.last_seq) ts
+  FULL JOIN (SELECT socket_index, tripped FROM run_sockets WHERE run_id = run.id) rs ON rs.socket_index = ts.socket
+) s ON true
+WHERE ($1::uuid[] IS NULL OR r.id = ANY($1::uuid[]))
+ORDER BY r.active DESC, r.code`;
+
+const round = (n: number, d = 2) => Math.round(n * 10 ** d) / 10 ** d;
+
+function nextReadPoint(readPoints: number[] | null, index: number | null, stressHours: number): number | null {
+  if (!readPoints?.length) return null;
+  const sorted = [...readPoints].sort((a, b) => a - b);
+  const byIndex = index !== null && index >= 0 && index < sorted.length ? sorted[index] : null;
+  if (byIndex !== null && byIndex > stressHours) return byIndex;
+  return sorted.find((h) => h > stressHours) ?? null;
+}
+
+export class FloorService {
+  constructor(private readonly ctx: AppContext) {}
+
+  private toTile(r: TileRow): FloorTile {
+    let run: FloorTile['run'] = null;
+    if (r.run_id && r.run_code && r.run_state) {
+      const stressHours = r.stress_hours ?? 0;
+      const next = r.run_state === 'stressing' ? nextReadPoint(r.read_points_h, r.next_read_point, stressHours) : null;
+      const left = next !== null ? round(next - stressHours, 3) : null;
+      // clockRate = stress hours per wall second in demo mode.
+      const rate = this.ctx.config.clockRate > 0 ? this.ctx.config.clockRate : 1;
+      run = {
+        id: r.run_id,
+        code: r.run_code,
+        state: r.run_state,
+        stressHours: round(stressHours, 3),
+        nextReadPointH: next,
+        hoursToNextReadPoint: left,
+        nextReadPointEta: left !== null ? new Date(this.ctx.now().getTime() + (left / rate) * 1000).toISOString() : null,
+      };
+    }
+    const loaded = r.run_id ? r.loaded : 0;
+    return {
+      rigId: r.id,
+      code: r.code,
+      name: r.name,
+      location: r.location,
+      active: r.active,
+      online: r.online,
+      lastSeenAt: r.last_seen_at ? r.last_seen_at.toISOString() : null,
+      lastSampleAt: r.last_ts ? r.last_ts.toISOString() : null,
+      chamberC: r.chamber_c,
+      setpointC: r.setpoint_c,
+      humidityPct: r.humidity_pct,
+      maxTempC: r.max_temp_c,
+      socketCount: r.socket_count,
+      powered: r.powered,
+      tripped: r.tripped,
+      empty: Math.max(0, r.socket_count - loaded),
+      maxCaseC: r.max_case_c,
+      openAlarms: r.open_alarms,
+      run,
+    };
+  }
+
+  /** Every rig, or only these rig ids (the stream's deltas). */
+  async tiles(rigIds?: string[]): Promise<FloorTile[]> {
+    const rows: TileRow[] = await this.ctx.ds.query(TILE_SQL, [rigIds ?? null, ACTIVE_RUN_STATES]);
+    return rows.map((r) => this.toTile(r));
+  }
+
+  private async rigIdOf(code: string): Promise<string> {
+    const rows: Array<{ id: string }> = await this.ctx.ds.query('SELECT id FROM rigs WHERE code = $1', [code]);
+    if (!rows.length) throw notFound(`Rig ${code}`);
+    return rows[0].id;
+  }
+
+  async board(code: string): Promise<FloorBoard> {
+    const rigId = await this.rigIdOf(code);
+    const [tile] = await this.tiles([rigId]);
+    const rows: Array<{
+      socket: number;
+      case_c: number | null;
+      v_v: number | null;
+      i_a: number | null;
+      bias_on: boolean | null;
+      tripped: boolean | null;
+      serial: string | null;
+      run_tripped: boolean | null;
+      trip_reason: string | null;
+      last_seq: string;
+    }> = await this.ctx.ds.query(
+      `SELECT r.last_seq, g.socket, ts.case_c, ts.v_v, ts.i_a, ts.bias_on, ts.tripped, d.serial, rs.tripped AS run_tripped, rs.trip_reason
+       FROM rigs r
+       CROSS JOIN LATERAL generate_series(0, r.socket_count - 1) AS g(socket)
+       LEFT JOIN telemetry_samples ts ON ts.rig_id = r.id AND ts.seq = r.last_seq AND ts.socket = g.socket
+       LEFT JOIN run_sockets rs ON rs.run_id = $2 AND rs.socket_index = g.socket
+       LEFT JOIN devices d ON d.id = rs.device_id
+       WHERE r.id = $1
+       ORDER BY g.socket`,
+      [rigId, tile.run?.id ?? null],
+    );
+    const sockets: FloorSocket[] = rows.map((r) => ({
+      index: r.socket,
+      caseC: r.case_c,
+      vV: r.v_v,
+      iA: r.i_a,
+      biasOn: r.bias_on ?? false,
+      tripped: !!(r.tripped || r.run_tripped),
+      serial: r.serial,
+      tripReason: r.trip_reason,
+    }));
+    const hasSample = rows.some((r) => r.case_c !== null);
+    return {
+      tile,
+      seq: hasSample ? Number(rows[0].last_seq) : null,
+      sampleAt: tile.lastSampleAt,
+      sockets,
+    };
+  }
+
+  async chart(code: string, q: FloorChartQuery): Promise<FloorChart> {
+    const rigId = await this.rigIdOf(code);
+    // Default window: the hour up to the newest message (or now).
+    let to = q.to ? new Date(q.to) : null;
+    if (!to) {
+      const [b]: Array<{ ts: Date | null }> = await this.ctx.ds.query(
+        'SELECT b.ts FROM rigs r LEFT JOIN telemetry_batches b ON b.rig_id = r.id AND b.seq = r.last_seq WHERE r.id = $1',
+        [rigId],
+      );
+      to = b?.ts ? new Date(b.ts.getTime() + 1) : this.ctx.now();
+    }
+    const from = q.from ? new Date(q.from) : new Date(to.getTime() - 3_600_000);
+    const spanMs = to.getTime() - from.getTime();
+    const points = q.points;
+    const bucketMs = spanMs / points;
+    let sockets = q.sockets;
+    if (!sockets) {
+      const hot: Array<{ socket: number }> = await this.ctx.ds.query(
+        `SELECT ts.socket FROM rigs r JOIN telemetry_samples ts ON ts.rig_id = r.id AND ts.seq = r.last_seq
+         WHERE r.id = $1 ORDER BY ts.case_c DESC, ts.socket LIMIT 3`,
+        [rigId],
+      );
+      sockets = hot.map((h) => h.socket).sort((a, b) => a - b);
+    }
+    const source: FloorChart['source'] = spanMs <= CHART_RAW_SPAN_MS ? 'raw' : 'rollup';
+    // k = bucket number 0…points-1; LEAST guards the last instant.
+    const bucket = (col: string) => `LEAST(floor(extract(epoch FROM (${col} - $2::timestamptz)) * 1000 / $4)::int, $5 - 1)`;
+    type Row = { socket: number; k: number; avg: number; min: number; max: number };
+    let rows: Row[];
+    if (source === 'raw') {
+      rows = await this.ctx.ds.query(
+        `SELECT -1 AS socket, ${bucket('b.ts')} AS k, avg(b.chamber_c) AS avg, min(b.chamber_c) AS min, max(b.chamber_c) AS max
+         FROM telemetry_batches b WHERE b.rig_id = $1 AND b.ts >= $2 AND b.ts < $3 GROUP BY 2
+         UNION ALL
+         SELECT s.socket, ${bucket('b.ts')} AS k, avg(s.case_c), min(s.case_c), max(s.case_c)
+         FROM telemetry_batches b JOIN telemetry_samples s ON s.rig_id = b.rig_id AND s.seq = b.seq AND s.socket = ANY($6::smallint[])
+         WHERE b.rig_id = $1 AND b.ts >= $2 AND b.ts < $3 GROUP BY 1, 2
+         ORDER BY 1, 2`,
+        [rigId, from, to, bucketMs, points, sockets],
+      );
+    } else {
+      rows = await this.ctx.ds.query(
+        `SELECT u.socket, ${bucket('u.minute')} AS k, sum(u.sum_c) / sum(u.n) AS avg, min(u.min_c) AS min, max(u.max_c) AS max
+         FROM telemetry_rollups u
+         WHERE u.rig_id = $1 AND u.socket = ANY(array_prepend(-1::smallint, $6::smallint[])) AND u.minute >= $2 AND u.minute < $3
+         GROUP BY 1, 2 ORDER BY 1, 2`,
+        [rigId, from, to, bucketMs, points, sockets],
+      );
+    }
+    const series = new Map<number, ChartPoint[]>();
+    for (const r of rows) {
+      const t = new Date(from.getTime() + (Number(r.k) + 0.5) * bucketMs).toISOString();
+      let list = series.get(Number(r.socket));
+      if (!list) series.set(Number(r.socket), (list = []));
+      list.push({ t, avg: round(Number(r.avg)), min: round(Number(r.min)), max: round(Number(r.max)) });
+    }
+    return {
+      from: from.toISOString(),
+      to: to.toISOString(),
+      source,
+      bucketMs: Math.round(bucketMs),
+      chamber: series.get(-1) ?? [],
+      sockets: sockets.map((socket) => ({ socket, points: series.get(socket) ?? [] })),
+    };
+  }
+}

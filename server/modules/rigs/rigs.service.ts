@@ -1,0 +1,227 @@
+import { randomBytes } from 'node:crypto';
+import bcrypt from 'bcryptjs';
+import type { EntityManager } from 'typeorm';
+import type { SessionUser } from '../../../shared/schemas/auth';
+import {
+  rigMqttUsernameFor,
+  type CreateRigInput,
+  type MaintenanceInput,
+  type MaintenanceWindow,
+  type Rig,
+  type RigWithCredentials,
+  type UpdateRigInput,
+} from '../../../shared/schemas/rigs';
+import type { AppContext } from '../../context';
+import { RigEntity, RigMaintenanceEntity } from '../../db/entities';
+import { conflict, notFound, unprocessable } from '../../http/errors';
+import { RIG_LINK, type RigLink } from '../telemetry/contracts';
+import { BCRYPT_ROUNDS } from '../users/users.service';
+
+export function toRig(r: RigEntity): Rig {
+  return {
+    id: r.id,
+    code: r.code,
+    name: r.name,
+    location: r.location,
+    socketCount: r.socketCount,
+    maxTempC: r.maxTempC,
+    maxVoltageV: r.maxVoltageV,
+    humidityCapable: r.humidityCapable,
+    maxHumidityPct: r.maxHumidityPct,
+    active: r.active,
+    mqttUsername: r.mqttUsername,
+    credentialsIssuedAt: r.credentialsIssuedAt.toISOString(),
+    credentialsRevokedAt: r.credentialsRevokedAt ? r.credentialsRevokedAt.toISOString() : null,
+    online: r.online,
+    lastSeenAt: r.lastSeenAt ? r.lastSeenAt.toISOString() : null,
+    lastSeq: r.lastSeq,
+    chamberC: r.chamberC,
+    setpointC: r.setpointC,
+    humidityPct: r.humidityPct,
+    createdAt: r.createdAt.toISOString(),
+  };
+}
+
+function toWindow(m: RigMaintenanceEntity, rigCode: string): MaintenanceWindow {
+  return {
+    id: m.id,
+    rigId: m.rigId,
+    rigCode,
+    startsAt: m.startsAt.toISOString(),
+    endsAt: m.endsAt.toISOString(),
+    reason: m.reason,
+    createdAt: m.createdAt.toISOString(),
+  };
+}
+
+/** A fresh MQTT secret: 24 random bytes, base64url (32 characters). Shown once, stored hashed. */
+export function newRigSecret(): string {
+  return randomBytes(24).toString('base64url');
+}
+
+type RevokeCapable = RigLink & { revoke?: (rigCode: string) => Promise<boolean> };
+
+export class RigsService {
+  constructor(private readonly ctx: AppContext) {}
+
+  private get ds() {
+    return this.ctx.ds;
+  }
+
+  /** Disconnect a rig's open MQTT session (revocation or a new secret). Best effort: the database
+   * check at the next CONNECT refuses the old credentials either way. */
+  private async kick(rigCode: string): Promise<boolean> {
+    const link = this.ctx.services[RIG_LINK] as RevokeCapable | undefined;
+    if (!link?.revoke) return false;
+    try {
+      return await link.revoke(rigCode);
+    } catch {
+      return false;
+    }
+  }
+
+  private async findByCode(code: string, m: EntityManager = this.ds.manager, lock = false): Promise<RigEntity> {
+    const rig = await m.findOne(RigEntity, { where: { code }, ...(lock ? { lock: { mode: 'pessimistic_write' as const } } : {}) });
+    if (!rig) throw notFound(`Rig ${code}`);
+    return rig;
+  }
+
+  async list(): Promise<Rig[]> {
+    const rows = await this.ds.getRepository(RigEntity).find({ order: { active: 'DESC', code: 'ASC' } });
+    return rows.map(toRig);
+  }
+
+  async get(code: string): Promise<Rig> {
+    return toRig(await this.findByCode(code));
+  }
+
+  async create(actor: SessionUser, input: CreateRigInput): Promise<RigWithCredentials> {
+    const secret = newRigSecret();
+    const hash = await bcrypt.hash(secret, BCRYPT_ROUNDS);
+    const username = rigMqttUsernameFor(input.code);
+    return this.ds.transaction(async (m) => {
+      const clash = await m.findOne(RigEntity, { where: [{ code: input.code }, { mqttUsername: username }] });
+      if (clash) throw conflict(`A rig with the code ${input.code} is already registered.`);
+      const issuedAt = this.ctx.now();
+      const rig = await m.save(
+        m.create(RigEntity, {
+          code: input.code,
+          name: input.name,
+          location: input.location,
+          socketCount: input.socketCount,
+          maxTempC: input.maxTempC,
+          maxVoltageV: input.maxVoltageV,
+          humidityCapable: input.humidityCapable,
+          maxHumidityPct: input.maxHumidityPct,
+          mqttUsername: username,
+          mqttSecretHash: hash,
+          credentialsIssuedAt: issuedAt,
+          credentialsRevokedAt: null,
+        }),
+      );
+      await this.ctx.audit.record(
+        { actor, action: 'rig.create', entity: 'rig', entityId: rig.id, details: { code: rig.code, socketCount: rig.socketCount, mqttUsername: username } },
+        m,
+      );
+      return { rig: toRig(rig), credentials: { username, secret, issuedAt: issuedAt.toISOString() } };
+    });
+  }
+
+  async update(actor: SessionUser, code: string, input: UpdateRigInput): Promise<Rig> {
+    return this.ds.transaction(async (m) => {
+      const rig = await this.findByCode(code, m, true);
+      const changes: Record<string, unknown> = {};
+      if (input.maxHumidityPct !== undefined && input.maxHumidityPct !== null && !rig.humidityCapable) {
+        throw unprocessable(`Rig ${code} has no humidity control, so it has no humidity limit.`);
+      }
+      for (const k of ['name', 'location', 'maxTempC', 'maxVoltageV', 'maxHumidityPct', 'active'] as const) {
+        if (input[k] !== undefined) {
+          (rig as unknown as Record<string, unknown>)[k] = input[k];
+          changes[k] = input[k];
+        }
+      }
+      await m.save(rig);
+      await this.ctx.audit.record({ actor, action: 'rig.update', entity: 'rig', entityId: rig.id, details: changes }, m);
+      return toRig(rig);
+    });
+  }
+
+  /** New secret (the old one stops working at once), revocation lifted, open session kicked. */
+  async rotateCredentials(actor: SessionUser, code: string): Promise<RigWithCredentials> {
+    await this.findByCode(code); // 404 before spending a bcrypt hash
+    const secret = newRigSecret();
+    const hash = await bcrypt.hash(secret, BCRYPT_ROUNDS);
+    const out = await this.ds.transaction(async (m) => {
+      const rig = await this.findByCode(code, m, true);
+      const wasRevoked = rig.credentialsRevokedAt !== null;
+      rig.mqttSecretHash = hash;
+      rig.credentialsIssuedAt = this.ctx.now();
+      rig.credentialsRevokedAt = null;
+      await m.save(rig);
+      await this.ctx.audit.record(
+        { actor, action: 'rig.credentials.rotate', entity: 'rig', entityId: rig.id, details: { code: rig.code, wasRevoked } },
+        m,
+      );
+      return { rig: toRig(rig), credentials: { username: rig.mqttUsername, secret, issuedAt: rig.credentialsIssuedAt.toISOString() } };
+    });
+    await this.kick(code); // the rig reconnects with the new secret (after it is installed)
+    return out;
+  }
+
+  async revoke(actor: SessionUser, code: string, reason: string): Promise<Rig & { disconnectRequested: boolean }> {
+    const rig = await this.ds.transaction(async (m) => {
+      const r = await this.findByCode(code, m, true);
+      if (r.credentialsRevokedAt) throw conflict(`The credentials of rig ${code} were already revoked on ${r.credentialsRevokedAt.toISOString()}.`);
+      r.credentialsRevokedAt = this.ctx.now();
+      await m.save(r);
+      await this.ctx.audit.record({ actor, action: 'rig.credentials.revoke', entity: 'rig', entityId: r.id, reason, details: { code: r.code } }, m);
+      return r;
+    });
+    // After COMMIT, so a rig reconnecting at once is refused by the broker's database check.
+    const disconnectRequested = await this.kick(code);
+    return { ...toRig(rig), disconnectRequested };
+  }
+
+  async listMaintenance(code: string): Promise<MaintenanceWindow[]> {
+    const rig = await this.findByCode(code);
+    const rows = await this.ds.getRepository(RigMaintenanceEntity).find({ where: { rigId: rig.id }, order: { startsAt: 'ASC' } });
+    return rows.map((w) => toWindow(w, rig.code));
+  }
+
+  async addMaintenance(actor: SessionUser, code: string, input: MaintenanceInput): Promise<MaintenanceWindow> {
+    const startsAt = new Date(input.startsAt);
+    const endsAt = new Date(input.endsAt);
+    if (endsAt.getTime() <= this.ctx.now().getTime()) throw unprocessable('The window has already ended; book maintenance that is still to come.');
+    return this.ds.transaction(async (m) => {
+      const rig = await this.findByCode(code, m, true);
+      const overlap = await m
+        .createQueryBuilder(RigMaintenanceEntity, 'w')
+        .where('w.rig_id = :rigId AND w.starts_at < :endsAt AND w.ends_at > :startsAt', { rigId: rig.id, startsAt, endsAt })
+        .getOne();
+      if (overlap) {
+        throw conflict(
+          `Rig ${code} already has maintenance from ${overlap.startsAt.toISOString()} to ${overlap.endsAt.toISOString()} (${overlap.reason}); windows may not overlap.`,
+        );
+      }
+      const w = await m.save(m.create(RigMaintenanceEntity, { rigId: rig.id, startsAt, endsAt, reason: input.reason, createdById: actor.id }));
+      await this.ctx.audit.record(
+        { actor, action: 'rig.maintenance.create', entity: 'rig', entityId: rig.id, reason: input.reason, details: { windowId: w.id, startsAt: input.startsAt, endsAt: input.endsAt } },
+        m,
+      );
+      return toWindow(w, rig.code);
+    });
+  }
+
+  async deleteMaintenance(actor: SessionUser, code: string, id: string): Promise<void> {
+    await this.ds.transaction(async (m) => {
+      const rig = await this.findByCode(code, m);
+      const w = await m.findOne(RigMaintenanceEntity, { where: { id, rigId: rig.id } });
+      if (!w) throw notFound('The maintenance window');
+      await m.delete(RigMaintenanceEntity, { id });
+      await this.ctx.audit.record(
+        { actor, action: 'rig.maintenance.delete', entity: 'rig', entityId: rig.id, details: { windowId: id, startsAt: w.startsAt.toISOString(), endsAt: w.endsAt.toISOString() } },
+        m,
+      );
+    });
+  }
+}

@@ -1,0 +1,393 @@
+/**
+ * One ingest batch, one transaction: telemetry batches (de-duplicated on (rig_id, seq)), the
+ * socket samples of the newly inserted messages only (COPY), per-minute rollups, the rigs' live
+ * columns, rejected messages and the durable counters. Nothing here talks MQTT or emits events:
+ * the caller does that after COMMIT with what this returns.
+ */
+import { Readable } from 'node:stream';
+import { pipeline } from 'node:stream/promises';
+import type { Pool, PoolClient } from 'pg';
+import { from as copyFrom } from 'pg-copy-streams';
+import type { RigStatus, Telemetry } from '../../../shared/mqtt';
+import type { RigStatusChanged, TelemetryLanded } from './contracts';
+
+export type IngestItem =
+  | { kind: 'telemetry'; rigCode: string; msg: Telemetry; receivedAt: Date }
+  | { kind: 'status'; rigCode: string; status: RigStatus; receivedAt: Date }
+  | { kind: 'reject'; topic: string; rigCode: string | null; reason: string; excerpt: string; receivedAt: Date };
+
+/** How socket rows go in: COPY (measured faster, the default) or one multi-row INSERT … SELECT unnest. */
+export type SamplesMode = 'copy' | 'insert';
+
+export interface BatchResult {
+  /** Every telemetry seq of a known rig in this batch (new and duplicate), for `stored`. */
+  storedByRig: Map<string, number[]>;
+  landed: TelemetryLanded[];
+  statusChanges: RigStatusChanged[];
+  newMessages: number;
+  duplicates: number;
+  sampleRows: number;
+  rejected: number;
+}
+
+export interface BatchExtras {
+  /** Counter deltas to add in the same transaction (e.g. ingest_dropped, rejections not kept). */
+  counters?: Record<string, number>;
+  samplesMode?: SamplesMode;
+}
+
+/** Counter names in system_counters. */
+export const COUNTERS = {
+  messages: 'ingest_messages',
+  samples: 'ingest_samples',
+  duplicates: 'ingest_duplicates',
+  rejected: 'ingest_rejected',
+  dropped: 'ingest_dropped',
+  batches: 'ingest_batches',
+  seqConflicts: 'ingest_seq_conflicts',
+  statusMessages: 'ingest_status_messages',
+} as const;
+
+const MINUTE_MS = 60_000;
+
+interface RigRow {
+  id: string;
+  code: string;
+  online: boolean;
+}
+
+/** Float text for COPY: JS number formatting (incl. 1e-9) is valid PostgreSQL input. */
+const f = (n: number) => String(n);
+
+function sampleCopyChunks(rows: Array<{ rigId: string; msg: Telemetry }>): string[] {
+  const chunks: string[] = [];
+  for (const { rigId, msg } of rows) {
+    let s = '';
+    for (const k of msg.sockets) {
+      s += `${rigId}\t${msg.seq}\t${k.i}\t${f(k.caseC)}\t${f(k.vV)}\t${f(k.iA)}\t${k.biasOn ? 't' : 'f'}\t${k.tripped ? 't' : 'f'}\n`;
+    }
+    chunks.push(s);
+  }
+  return chunks;
+}
+
+async function copySamples(client: PoolClient, rows: Array<{ rigId: string; msg: Telemetry }>): Promise<void> {
+  const stream = client.query(copyFrom('COPY telemetry_samples (rig_id, seq, socket, case_c, v_v, i_a, bias_on, tripped) FROM STDIN'));
+  await pipeline(Readable.from(sampleCopyChunks(rows)), stream);
+}
+
+async function insertSamples(client: PoolClient, rows: Array<{ rigId: string; msg: Telemetry }>): Promise<void> {
+  const cols: [string[], number[], number[], number[], number[], number[], boolean[], boolean[]] = [[], [], [], [], [], [], [], []];
+  for (const { rigId, msg } of rows) {
+    for (const k of msg.sockets) {
+      cols[0].push(rigId);
+      cols[1].push(msg.seq);
+      cols[2].push(k.i);
+      cols[3].push(k.caseC);
+      cols[4].push(k.vV);
+      cols[5].push(k.iA);
+      cols[6].push(k.biasOn);
+      cols[7].push(k.tripped);
+    }
+  }
+  await client.query(
+    `INSERT INTO telemetry_samples (rig_id, seq, socket, case_c, v_v, i_a, bias_on, tripped)
+     SELECT * FROM unnest($1::uuid[], $2::bigint[], $3::smallint[], $4::real[], $5::real[], $6::float8[], $7::boolean[], $8::boolean[])`,
+    cols,
+  );
+}
+
+interface RollupAcc {
+  rigId: string;
+  socket: number;
+  minute: number;
+  n: number;
+  sum: number;
+  min: number;
+  max: number;
+  sumIA: number;
+  clock: number;
+}
+
+function addRollup(acc: Map<string, RollupAcc>, rigId: string, socket: number, minute: number, c: number, iA: number, clock: number) {
+  const key = `${rigId}|${socket}|${minute}`;
+  const r = acc.get(key);
+  if (!r) {
+    acc.set(key, { rigId, socket, minute, n: 1, sum: c, min: c, max: c, sumIA: iA, clock });
+    return;
+  }
+  r.n++;
+  r.sum += c;
+  if (c < r.min) r.min = c;
+  if (c > r.max) r.max = c;
+  r.sumIA += iA;
+  if (clock > r.clock) r.clock = clock;
+}
+
+async function upsertRollups(client: PoolClient, rows: Array<{ rigId: string; msg: Telemetry }>): Promise<void> {
+  const acc = new Map<string, RollupAcc>();
+  for (const { rigId, msg } of rows) {
+    const minute = Math.floor(Date.parse(msg.ts) / MINUTE_MS) * MINUTE_MS;
+    addRollup(acc, rigId, -1, minute, msg.chamberC, 0, msg.stressClockS);
+    for (const k of msg.sockets) addRollup(acc, rigId, k.i, minute, k.caseC, k.iA, msg.stressClockS);
+  }
+  if (!acc.size) return;
+  const a = Array.from(acc.values());
+  await client.query(
+    `INSERT INTO telemetry_rollups AS r (rig_id, socket, minute, n, sum_c, min_c, max_c, sum_ia, stress_clock_s)
+     SELECT * FROM unnest($1::uuid[], $2::smallint[], $3::timestamptz[], $4::int[], $5::float8[], $6::real[], $7::real[], $8::float8[], $9::float8[])
+     ON CONFLICT (rig_id, socket, minute) DO UPDATE SET
+       n = r.n + EXCLUDED.n,
+       sum_c = r.sum_c + EXCLUDED.sum_c,
+       min_c = LEAST(r.min_c, EXCLUDED.min_c),
+       max_c = GREATEST(r.max_c, EXCLUDED.max_c),
+       sum_ia = r.sum_ia + EXCLUDED.sum_ia,
+       stress_clock_s = GREATEST(r.stress_clock_s, EXCLUDED.stress_clock_s)`,
+    [
+      a.map((r) => r.rigId),
+      a.map((r) => r.socket),
+      a.map((r) => new Date(r.minute)),
+      a.map((r) => r.n),
+      a.map((r) => r.sum),
+      a.map((r) => r.min),
+      a.map((r) => r.max),
+      a.map((r) => r.sumIA),
+      a.map((r) => r.clock),
+    ],
+  );
+}
+
+async function addCounters(client: PoolClient, deltas: Record<string, number>): Promise<void> {
+  const entries = Object.entries(deltas).filter(([, v]) => v > 0);
+  if (!entries.length) return;
+  await client.query(
+    `INSERT INTO system_counters AS c (name, value, updated_at)
+     SELECT name, value, now() FROM unnest($1::varchar[], $2::bigint[]) AS t(name, value)
+     ON CONFLICT (name) DO UPDATE SET value = c.value + EXCLUDED.value, updated_at = now()`,
+    [entries.map((e) => e[0]), entries.map((e) => e[1])],
+  );
+}
+
+/** Write one batch in one transaction. Throws (after ROLLBACK) when the database fails. */
+export async function writeBatch(pool: Pool, items: IngestItem[], extras: BatchExtras = {}): Promise<BatchResult> {
+  const client = await pool.connect();
+  let broken: Error | undefined;
+  // A checked-out pg client has no 'error' listener (pg-pool removes its idle one): a server
+  // that goes away between two statements would otherwise crash the process.
+  const onError = (err: Error) => {
+    broken = err;
+  };
+  client.on('error', onError);
+  try {
+    await client.query('BEGIN');
+    const result = await writeInTransaction(client, items, extras);
+    await client.query('COMMIT');
+    return result;
+  } catch (err) {
+    broken = err as Error;
+    await client.query('ROLLBACK').catch(() => undefined);
+    throw err;
+  } finally {
+    client.off('error', onError);
+    // A client whose connection failed must not go back to the pool.
+    client.release(broken && isConnectionError(broken) ? broken : undefined);
+  }
+}
+
+export function isConnectionError(err: Error): boolean {
+  const code = (err as { code?: string }).code ?? '';
+  // Class 08 (connection exception), 57P (operator intervention: shutdown), 53 (resources), 3D000 (db gone).
+  return /^(08|57P|53|3D000)/.test(code) || /Connection terminated|ECONNREFUSED|ECONNRESET|not queryable/i.test(err.message);
+}
+
+async function writeInTransaction(client: PoolClient, items: IngestItem[], extras: BatchExtras): Promise<BatchResult> {
+  const codes = new Set<string>();
+  for (const it of items) if (it.kind !== 'reject') codes.add(it.rigCode);
+  const rigs = new Map<string, RigRow>();
+  if (codes.size) {
+    const { rows } = await client.query<RigRow>('SELECT id, code, online FROM rigs WHERE code = ANY($1::varchar[])', [Array.from(codes)]);
+    for (const r of rows) rigs.set(r.code, r);
+  }
+
+  const rejects: Array<{ topic: string; rigCode: string | null; reason: string; excerpt: string; at: Date }> = [];
+  const telemetry: Array<{ rig: RigRow; msg: Telemetry; receivedAt: Date }> = [];
+  // Per rig, in arrival order: final online flag, newest message, last seen.
+  const rigState = new Map<string, { rig: RigRow; online: boolean | null; latest: Telemetry | null; seen: Date | null; lastAt: Date }>();
+  const stateOf = (rig: RigRow) => {
+    let s = rigState.get(rig.id);
+    if (!s) rigState.set(rig.id, (s = { rig, online: null, latest: null, seen: null, lastAt: new Date(0) }));
+    return s;
+  };
+  let statusMessages = 0;
+
+  for (const it of items) {
+    if (it.kind === 'reject') {
+      rejects.push({ topic: it.topic, rigCode: it.rigCode, reason: it.reason, excerpt: it.excerpt, at: it.receivedAt });
+      continue;
+    }
+    const rig = rigs.get(it.rigCode);
+    if (!rig) {
+      const topic = `emberlot/v1/rigs/${it.rigCode}/${it.kind}`;
+      const body = it.kind === 'telemetry' ? `seq ${it.msg.seq}, ${it.msg.sockets.length} sockets` : `online ${it.status.online}`;
+      rejects.push({ topic, rigCode: it.rigCode, reason: `unknown rig code ${it.rigCode} (not registered)`, excerpt: body, at: it.receivedAt });
+      continue;
+    }
+    const s = stateOf(rig);
+    if (it.receivedAt > s.lastAt) s.lastAt = it.receivedAt;
+    if (it.kind === 'telemetry') {
+      telemetry.push({ rig, msg: it.msg, receivedAt: it.receivedAt });
+      s.online = true;
+      if (!s.latest || it.msg.seq > s.latest.seq) s.latest = it.msg;
+      if (!s.seen || it.receivedAt > s.seen) s.seen = it.receivedAt;
+    } else {
+      statusMessages++;
+      s.online = it.status.online;
+      if (it.status.online && (!s.seen || it.receivedAt > s.seen)) s.seen = it.receivedAt;
+    }
+  }
+
+  // 1. Message headers, de-duplicated on (rig_id, seq).
+  const isNew = new Set<string>();
+  if (telemetry.length) {
+    const { rows } = await client.query<{ rig_id: string; seq: string }>(
+      `INSERT INTO telemetry_batches (rig_id, seq, ts, stress_clock_s, chamber_c, humidity_pct, setpoint_c)
+       SELECT * FROM unnest($1::uuid[], $2::bigint[], $3::timestamptz[], $4::float8[], $5::real[], $6::real[], $7::real[])
+       ON CONFLICT DO NOTHING
+       RETURNING rig_id, seq`,
+      [
+        telemetry.map((t) => t.rig.id),
+        telemetry.map((t) => t.msg.seq),
+        telemetry.map((t) => t.msg.ts),
+        telemetry.map((t) => t.msg.stressClockS),
+        telemetry.map((t) => t.msg.chamberC),
+        telemetry.map((t) => t.msg.humidityPct),
+        telemetry.map((t) => t.msg.setpointC),
+      ],
+    );
+    for (const r of rows) isNew.add(`${r.rig_id}|${r.seq}`);
+  }
+  const fresh: Array<{ rigId: string; rigCode: string; msg: Telemetry }> = [];
+  const dups: Array<{ rig: RigRow; msg: Telemetry; at: Date }> = [];
+  const seenInBatch = new Set<string>();
+  for (const t of telemetry) {
+    const key = `${t.rig.id}|${t.msg.seq}`;
+    if (isNew.has(key) && !seenInBatch.has(key)) fresh.push({ rigId: t.rig.id, rigCode: t.rig.code, msg: t.msg });
+    else dups.push({ rig: t.rig, msg: t.msg, at: t.receivedAt });
+    seenInBatch.add(key);
+  }
+
+  // 2. A duplicate seq whose content differs from what is stored means the rig reused its counter
+  //    (e.g. it lost its seq after a restart): keep the first, record the conflict for an admin.
+  let seqConflicts = 0;
+  if (dups.length) {
+    const { rows } = await client.query<{ rig_id: string; seq: string; ts: Date; stress_clock_s: number }>(
+      `SELECT b.rig_id, b.seq, b.ts, b.stress_clock_s FROM telemetry_batches b
+       JOIN unnest($1::uuid[], $2::bigint[]) AS d(rig_id, seq) ON b.rig_id = d.rig_id AND b.seq = d.seq`,
+      [dups.map((d) => d.rig.id), dups.map((d) => d.msg.seq)],
+    );
+    const stored = new Map(rows.map((r) => [`${r.rig_id}|${r.seq}`, r]));
+    for (const d of dups) {
+      const s = stored.get(`${d.rig.id}|${d.msg.seq}`);
+      if (s && (s.ts.getTime() !== Date.parse(d.msg.ts) || s.stress_clock_s !== d.msg.stressClockS)) {
+        seqConflicts++;
+        rejects.push({
+          topic: `emberlot/v1/rigs/${d.rig.code}/telemetry`,
+          rigCode: d.rig.code,
+          reason: `seq ${d.msg.seq} was already stored with different content (the rig reused its sequence numbers); the first copy is kept`,
+          excerpt: `stored ts ${s.ts.toISOString()}, received ts ${d.msg.ts}`,
+          at: d.at,
+        });
+      }
+    }
+  }
+
+  // 3. Socket rows of the new messages only, then the rollups.
+  let sampleRows = 0;
+  for (const r of fresh) sampleRows += r.msg.sockets.length;
+  if (fresh.length) {
+    if ((extras.samplesMode ?? 'copy') === 'copy') await copySamples(client, fresh);
+    else await insertSamples(client, fresh);
+    await upsertRollups(client, fresh);
+  }
+
+  // 4. Rigs' live columns. The newest values only when the message is at least as new as last_seq.
+  const states = Array.from(rigState.values());
+  if (states.length) {
+    await client.query(
+      `UPDATE rigs r SET
+         last_seq = GREATEST(r.last_seq, COALESCE(v.seq, 0)),
+         chamber_c = CASE WHEN v.seq IS NOT NULL AND v.seq >= r.last_seq THEN v.chamber ELSE r.chamber_c END,
+         setpoint_c = CASE WHEN v.seq IS NOT NULL AND v.seq >= r.last_seq THEN v.setpoint ELSE r.setpoint_c END,
+         humidity_pct = CASE WHEN v.seq IS NOT NULL AND v.seq >= r.last_seq THEN v.humidity ELSE r.humidity_pct END,
+         last_seen_at = GREATEST(r.last_seen_at, v.seen),
+         online = COALESCE(v.online, r.online)
+       FROM unnest($1::uuid[], $2::bigint[], $3::float8[], $4::float8[], $5::float8[], $6::timestamptz[], $7::boolean[])
+         AS v(id, seq, chamber, setpoint, humidity, seen, online)
+       WHERE r.id = v.id`,
+      [
+        states.map((s) => s.rig.id),
+        states.map((s) => s.latest?.seq ?? null),
+        states.map((s) => s.latest?.chamberC ?? null),
+        states.map((s) => s.latest?.setpointC ?? null),
+        states.map((s) => s.latest?.humidityPct ?? null),
+        states.map((s) => s.seen),
+        states.map((s) => s.online),
+      ],
+    );
+  }
+
+  // 5. Rejections, with the reason and an excerpt.
+  if (rejects.length) {
+    await client.query(
+      `INSERT INTO rejected_messages (at, topic, rig_code, reason, excerpt)
+       SELECT * FROM unnest($1::timestamptz[], $2::varchar[], $3::varchar[], $4::text[], $5::text[])`,
+      [rejects.map((r) => r.at), rejects.map((r) => r.topic.slice(0, 200)), rejects.map((r) => r.rigCode?.slice(0, 32) ?? null), rejects.map((r) => r.reason), rejects.map((r) => r.excerpt)],
+    );
+  }
+
+  // 6. Durable counters.
+  const counters: Record<string, number> = { ...(extras.counters ?? {}) };
+  const bump = (name: string, n: number) => (counters[name] = (counters[name] ?? 0) + n);
+  bump(COUNTERS.messages, fresh.length);
+  bump(COUNTERS.samples, sampleRows);
+  bump(COUNTERS.duplicates, dups.length);
+  bump(COUNTERS.rejected, rejects.length - seqConflicts);
+  bump(COUNTERS.seqConflicts, seqConflicts);
+  bump(COUNTERS.statusMessages, statusMessages);
+  bump(COUNTERS.batches, 1);
+  await addCounters(client, counters);
+
+  const storedByRig = new Map<string, number[]>();
+  for (const t of telemetry) {
+    let list = storedByRig.get(t.rig.code);
+    if (!list) storedByRig.set(t.rig.code, (list = []));
+    list.push(t.msg.seq);
+  }
+  fresh.sort((a, b) => (a.rigId < b.rigId ? -1 : a.rigId > b.rigId ? 1 : a.msg.seq - b.msg.seq));
+  const landed: TelemetryLanded[] = fresh.map(({ rigId, rigCode, msg }) => ({
+    rigId,
+    rigCode,
+    seq: msg.seq,
+    ts: new Date(msg.ts),
+    stressClockS: msg.stressClockS,
+    chamberC: msg.chamberC,
+    humidityPct: msg.humidityPct,
+    setpointC: msg.setpointC,
+    sockets: msg.sockets,
+  }));
+  const statusChanges: RigStatusChanged[] = [];
+  for (const s of states) {
+    if (s.online !== null && s.online !== s.rig.online) {
+      statusChanges.push({ rigId: s.rig.id, rigCode: s.rig.code, online: s.online, at: s.lastAt });
+    }
+  }
+  return {
+    storedByRig,
+    landed,
+    statusChanges,
+    newMessages: fresh.length,
+    duplicates: dups.length,
+    sampleRows,
+    rejected: rejects.length,
+  };
+}

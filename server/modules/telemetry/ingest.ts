@@ -1,0 +1,308 @@
+/**
+ * Telemetry ingest: validates every MQTT message, gathers them for a short window, writes each
+ * window in one transaction (ingest-store.ts), and only after COMMIT confirms the seqs to the rig
+ * (`stored`) and emits TELEMETRY_LANDED / RIG_STATUS_CHANGED.
+ *
+ * Database down: messages wait in a bounded buffer and the write is retried with back-off. Rigs
+ * keep re-sending what is not confirmed, so re-sent seqs already in the buffer are merged, not
+ * stored twice. When the buffer is full the ingest stops taking (and so stops confirming) new
+ * messages — they stay in the rigs' outboxes and come back later — and counts each one it turned
+ * away in the durable `ingest_dropped` counter. In normal runs that counter stays 0.
+ */
+import type { EventEmitter } from 'node:events';
+import type { Pool } from 'pg';
+import {
+  buildStoredCommands,
+  parseCommandAck,
+  parseRigTopic,
+  parseStatus,
+  parseTelemetry,
+  type CommandAck,
+  type StoredCommand,
+} from '../../../shared/mqtt';
+import { RIG_STATUS_CHANGED, TELEMETRY_LANDED } from './contracts';
+import { COUNTERS, writeBatch, type BatchResult, type IngestItem, type SamplesMode } from './ingest-store';
+
+export interface IngestOptions {
+  /** Messages per transaction (default 200). */
+  maxBatch?: number;
+  /** Longest wait for a batch to fill (default 50 ms). */
+  windowMs?: number;
+  /** Telemetry messages held while the database is unavailable (default 50,000). */
+  bufferLimit?: number;
+  /** Rejections held for writing; beyond this only the counter grows (default 5,000). */
+  rejectLimit?: number;
+  samplesMode?: SamplesMode;
+  retryMinMs?: number;
+  retryMaxMs?: number;
+  log?: (line: string) => void;
+}
+
+export interface IngestDeps {
+  pool: () => Pool;
+  events: EventEmitter;
+  /** Publish one `stored` command to a rig (QoS 1). Returns false when it could not go out now. */
+  publishStored: (rigCode: string, cmd: StoredCommand) => void;
+  /** A valid command ack for the RigLink. */
+  onAck?: (rigCode: string, ack: CommandAck) => void;
+  now?: () => Date;
+}
+
+export interface IngestLiveStats {
+  buffered: number;
+  bufferLimit: number;
+  databaseOk: boolean;
+  batches: number;
+  lastBatchMs: number | null;
+  messagesStored: number;
+  samplesStored: number;
+  duplicates: number;
+  rejected: number;
+  dropped: number;
+  merged: number;
+  samplesMode: SamplesMode;
+}
+
+const EXCERPT_CHARS = 300;
+
+/** A printable, bounded excerpt of a refused payload. */
+export function excerptOf(payload: Buffer | string): string {
+  const text = typeof payload === 'string' ? payload : payload.subarray(0, EXCERPT_CHARS * 4).toString('utf8');
+  // eslint-disable-next-line no-control-regex
+  const clean = text.replace(/[\u0000-\u0008\u000b-\u001f\u007f]/g, '?');
+  const size = typeof payload === 'string' ? payload.length : payload.byteLength;
+  return clean.length > EXCERPT_CHARS ? `${clean.slice(0, EXCERPT_CHARS)}… (${size} bytes)` : clean;
+}
+
+const mismatch = (kind: string, bodyRig: string, topicRig: string) => `${kind}: payload names rig ${bodyRig} but the topic is rig ${topicRig}`;
+
+export class TelemetryIngest {
+  private items: IngestItem[] = [];
+  /** `${rigCode}|${seq}` of telemetry in the buffer (re-sends merge into it). */
+  private keys = new Set<string>();
+  private telemetryCount = 0;
+  private rejectCount = 0;
+  private timer: ReturnType<typeof setTimeout> | null = null;
+  private flushing: Promise<void> | null = null;
+  private stopped = false;
+  private databaseOk = true;
+  private backoffMs: number;
+  private pressureLogged = false;
+  /** Counter deltas not yet written (turned-away messages, rejections beyond rejectLimit). */
+  private pendingCounters: Record<string, number> = {};
+  private storedCmdSeq = 0;
+  private readonly bootId = Date.now().toString(36);
+  private readonly opts: Required<Omit<IngestOptions, 'log'>> & { log: (line: string) => void };
+  private readonly waiters = new Set<() => void>();
+  readonly live = {
+    batches: 0,
+    lastBatchMs: null as number | null,
+    messagesStored: 0,
+    samplesStored: 0,
+    duplicates: 0,
+    rejected: 0,
+    dropped: 0,
+    merged: 0,
+  };
+
+  constructor(private readonly deps: IngestDeps, opts: IngestOptions = {}) {
+    this.opts = {
+      maxBatch: opts.maxBatch ?? 200,
+      windowMs: opts.windowMs ?? 50,
+      bufferLimit: opts.bufferLimit ?? 50_000,
+      rejectLimit: opts.rejectLimit ?? 5_000,
+      samplesMode: opts.samplesMode ?? 'copy',
+      retryMinMs: opts.retryMinMs ?? 100,
+      retryMaxMs: opts.retryMaxMs ?? 5_000,
+      log: opts.log ?? ((line) => console.log(`[ingest] ${line}`)),
+    };
+    this.backoffMs = this.opts.retryMinMs;
+  }
+
+  private now(): Date {
+    return this.deps.now ? this.deps.now() : new Date();
+  }
+
+  stats(): IngestLiveStats {
+    return {
+      buffered: this.telemetryCount,
+      bufferLimit: this.opts.bufferLimit,
+      databaseOk: this.databaseOk,
+      samplesMode: this.opts.samplesMode,
+      ...this.live,
+    };
+  }
+
+  /** Every message from the server's subscriptions comes through here. Never throws. */
+  handleMessage(topic: string, payload: Buffer): void {
+    if (this.stopped) return;
+    const receivedAt = this.now();
+    const parsedTopic = parseRigTopic(topic);
+    if (!parsedTopic) return this.reject(topic, null, 'topic is not a v1 rig topic', payload, receivedAt);
+    const { rigCode, kind } = parsedTopic;
+    if (kind === 'commands') return; // the server's own commands (not subscribed; ignored if seen)
+    if (kind === 'command-acks') {
+      const ack = parseCommandAck(payload);
+      if (!ack.ok) return this.reject(topic, rigCode, `command-ack: ${ack.reason}`, payload, receivedAt);
+      if (ack.data.rig !== rigCode) return this.reject(topic, rigCode, mismatch(kind, ack.data.rig, rigCode), payload, receivedAt);
+      this.deps.onAck?.(rigCode, ack.data);
+      return;
+    }
+    if (kind === 'status') {
+      const st = parseStatus(payload);
+      if (!st.ok) return this.reject(topic, rigCode, `status: ${st.reason}`, payload, receivedAt);
+      if (st.data.rig !== rigCode) return this.reject(topic, rigCode, mismatch(kind, st.data.rig, rigCode), payload, receivedAt);
+      this.push({ kind: 'status', rigCode, status: st.data, receivedAt });
+      return;
+    }
+    const tel = parseTelemetry(payload);
+    if (!tel.ok) return this.reject(topic, rigCode, `telemetry: ${tel.reason}`, payload, receivedAt);
+    if (tel.data.rig !== rigCode) return this.reject(topic, rigCode, mismatch(kind, tel.data.rig, rigCode), payload, receivedAt);
+    const key = `${rigCode}|${tel.data.seq}`;
+    if (this.keys.has(key)) {
+      this.live.merged++; // a re-send of a message still waiting here
+      return;
+    }
+    if (this.telemetryCount >= this.opts.bufferLimit) {
+      // Last resort: not taken, not confirmed. The rig still holds it and will send it again.
+      this.live.dropped++;
+      this.pendingCounters[COUNTERS.dropped] = (this.pendingCounters[COUNTERS.dropped] ?? 0) + 1;
+      if (!this.pressureLogged) {
+        this.pressureLogged = true;
+        this.opts.log(`buffer full (${this.opts.bufferLimit} messages): new telemetry is not confirmed and stays with the rigs (counted in ${COUNTERS.dropped})`);
+      }
+      return;
+    }
+    this.keys.add(key);
+    this.telemetryCount++;
+    this.push({ kind: 'telemetry', rigCode, msg: tel.data, receivedAt });
+  }
+
+  private reject(topic: string, rigCode: string | null, reason: string, payload: Buffer, receivedAt: Date): void {
+    this.live.rejected++;
+    if (this.rejectCount >= this.opts.rejectLimit) {
+      this.pendingCounters[COUNTERS.rejected] = (this.pendingCounters[COUNTERS.rejected] ?? 0) + 1;
+      return;
+    }
+    this.rejectCount++;
+    this.push({ kind: 'reject', topic, rigCode, reason: reason.slice(0, 1000), excerpt: excerptOf(payload), receivedAt });
+  }
+
+  private push(item: IngestItem): void {
+    this.items.push(item);
+    if (this.flushing) return; // the running loop picks it up
+    if (this.items.length >= this.opts.maxBatch) this.kick();
+    else if (!this.timer) this.timer = setTimeout(() => this.kick(), this.opts.windowMs);
+  }
+
+  private kick(): void {
+    if (this.timer) {
+      clearTimeout(this.timer);
+      this.timer = null;
+    }
+    if (this.flushing || !this.items.length) return;
+    this.flushing = this.loop().finally(() => {
+      this.flushing = null;
+      for (const w of this.waiters) w();
+      this.waiters.clear();
+      if (this.items.length && !this.stopped) this.push0();
+    });
+  }
+
+  /** Re-arm after a loop ended with items left (they arrived while it was finishing). */
+  private push0(): void {
+    if (this.items.length >= this.opts.maxBatch) this.kick();
+    else if (!this.timer) this.timer = setTimeout(() => this.kick(), this.opts.windowMs);
+  }
+
+  private async loop(): Promise<void> {
+    while (this.items.length) {
+      const take = this.items.slice(0, this.opts.maxBatch);
+      const counters = this.pendingCounters;
+      this.pendingCounters = {};
+      const t0 = Date.now();
+      let result: BatchResult;
+      try {
+        result = await writeBatch(this.deps.pool(), take, { counters, samplesMode: this.opts.samplesMode });
+      } catch (err) {
+        // Put the counter deltas back; keep the items; wait and try again.
+        for (const [k, v] of Object.entries(counters)) this.pendingCounters[k] = (this.pendingCounters[k] ?? 0) + v;
+        if (this.databaseOk) {
+          this.databaseOk = false;
+          this.opts.log(`database write failed (${(err as Error).message}); holding ${this.telemetryCount} messages and retrying`);
+        }
+        if (this.stopped) return;
+        await new Promise((r) => setTimeout(r, this.backoffMs));
+        this.backoffMs = Math.min(this.backoffMs * 2, this.opts.retryMaxMs);
+        if (this.stopped) return;
+        continue;
+      }
+      this.items.splice(0, take.length);
+      for (const it of take) {
+        if (it.kind === 'telemetry') {
+          this.keys.delete(`${it.rigCode}|${it.msg.seq}`);
+          this.telemetryCount--;
+        } else if (it.kind === 'reject') this.rejectCount--;
+      }
+      if (!this.databaseOk) {
+        this.databaseOk = true;
+        this.opts.log(`database back; ${this.telemetryCount} messages still waiting`);
+      }
+      if (this.pressureLogged && this.telemetryCount < this.opts.bufferLimit / 2) this.pressureLogged = false;
+      this.backoffMs = this.opts.retryMinMs;
+      this.live.batches++;
+      this.live.lastBatchMs = Date.now() - t0;
+      this.live.messagesStored += result.newMessages;
+      this.live.samplesStored += result.sampleRows;
+      this.live.duplicates += result.duplicates;
+      this.afterCommit(result);
+      // Let a partial batch fill up again for a window, unless a backlog is waiting.
+      if (this.items.length < this.opts.maxBatch || this.stopped) break;
+    }
+  }
+
+  private afterCommit(result: BatchResult): void {
+    for (const [rigCode, seqs] of result.storedByRig) {
+      for (const cmd of buildStoredCommands(seqs, () => `stored-${this.bootId}-${++this.storedCmdSeq}`)) {
+        try {
+          this.deps.publishStored(rigCode, cmd);
+        } catch (err) {
+          this.opts.log(`could not publish stored to ${rigCode}: ${(err as Error).message}`);
+        }
+      }
+    }
+    for (const landed of result.landed) this.emit(TELEMETRY_LANDED, landed);
+    for (const change of result.statusChanges) this.emit(RIG_STATUS_CHANGED, change);
+  }
+
+  private emit(event: string, payload: unknown): void {
+    try {
+      this.deps.events.emit(event, payload);
+    } catch (err) {
+      this.opts.log(`a ${event} listener failed: ${(err as Error).message}`);
+    }
+  }
+
+  /** Resolves when everything buffered so far is written (tests, shutdown). */
+  async drain(timeoutMs = 5_000): Promise<boolean> {
+    const deadline = Date.now() + timeoutMs;
+    while (this.items.length || this.flushing) {
+      if (Date.now() > deadline) return false;
+      if (!this.flushing) this.kick();
+      const f = this.flushing;
+      if (f) await Promise.race([f, new Promise((r) => setTimeout(r, 50))]);
+      else await new Promise((r) => setTimeout(r, 10));
+    }
+    return true;
+  }
+
+  /** Stop taking messages; try once more to write what is held (not confirmed otherwise: rigs replay it). */
+  async stop(timeoutMs = 3_000): Promise<void> {
+    if (this.timer) clearTimeout(this.timer);
+    this.timer = null;
+    const ok = await this.drain(timeoutMs);
+    this.stopped = true;
+    if (this.flushing) await Promise.race([this.flushing, new Promise((r) => setTimeout(r, timeoutMs))]);
+    if (!ok && this.telemetryCount) this.opts.log(`stopped with ${this.telemetryCount} unwritten messages (the rigs still hold them)`);
+  }
+}

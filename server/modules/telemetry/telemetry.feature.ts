@@ -1,0 +1,84 @@
+/**
+ * startTelemetry(ctx): the MQTT link (ctx.services.rigLink) + the ingest
+ * (ctx.services.telemetryIngest) + the offline sweep. Returns the stop function.
+ * The broker may not be up yet: the link keeps retrying and logs once.
+ */
+import type { Pool } from 'pg';
+import type { AppContext } from '../../context';
+import { RIG_LINK, RIG_STATUS_CHANGED, type RigStatusChanged } from './contracts';
+import { TelemetryIngest, type IngestOptions } from './ingest';
+import { MqttRigLink } from './rig-link';
+
+export const TELEMETRY_INGEST = 'telemetryIngest';
+
+/** A rig that sent nothing (telemetry or status) for this long is marked offline. */
+export const OFFLINE_AFTER_MS = 60_000;
+
+export function pgPoolOf(ctx: AppContext): Pool {
+  return (ctx.ds.driver as unknown as { master: Pool }).master;
+}
+
+export interface TelemetryFeatureOptions extends IngestOptions {
+  /** Override the MQTT URL/credentials (tests); default ctx.config.mqtt. */
+  mqtt?: { url: string; username: string; password: string };
+  clientId?: string;
+  offlineAfterMs?: number;
+  sweepEveryMs?: number;
+}
+
+export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOptions = {}): Promise<() => Promise<void>> {
+  const mqttCfg = opts.mqtt ?? ctx.config.mqtt;
+  // eslint-disable-next-line prefer-const
+  let link: MqttRigLink;
+  const ingest = new TelemetryIngest(
+    {
+      pool: () => pgPoolOf(ctx),
+      events: ctx.events,
+      now: () => ctx.now(),
+      publishStored: (rigCode, cmd) => link.publishStored(rigCode, cmd),
+      onAck: (rigCode, ack) => link.onAck(rigCode, ack),
+    },
+    opts,
+  );
+  link = new MqttRigLink({
+    url: mqttCfg.url,
+    username: mqttCfg.username,
+    password: mqttCfg.password,
+    clientId: opts.clientId,
+    onMessage: (topic, payload) => ingest.handleMessage(topic, payload),
+    log: opts.log ? (l) => opts.log!(`[mqtt] ${l}`) : undefined,
+  });
+  ctx.services[RIG_LINK] = link;
+  ctx.services[TELEMETRY_INGEST] = ingest;
+  link.start();
+
+  // Rigs that went quiet without a last will reaching us (e.g. both broker and rig restarted).
+  const offlineAfterMs = opts.offlineAfterMs ?? OFFLINE_AFTER_MS;
+  let sweeping = false;
+  const sweep = setInterval(async () => {
+    if (sweeping) return;
+    sweeping = true;
+    try {
+      const rows: Array<{ id: string; code: string }> = await ctx.ds.query(
+        `UPDATE rigs SET online = false
+         WHERE online AND (last_seen_at IS NULL OR last_seen_at < $1)
+         RETURNING id, code`,
+        [new Date(ctx.now().getTime() - offlineAfterMs)],
+      );
+      const at = ctx.now();
+      for (const r of rows) ctx.events.emit(RIG_STATUS_CHANGED, { rigId: r.id, rigCode: r.code, online: false, at } satisfies RigStatusChanged);
+    } catch {
+      /* database down: the ingest reports that */
+    } finally {
+      sweeping = false;
+    }
+  }, opts.sweepEveryMs ?? 10_000);
+
+  return async () => {
+    clearInterval(sweep);
+    await ingest.stop();
+    await link.stop();
+    if (ctx.services[RIG_LINK] === link) delete ctx.services[RIG_LINK];
+    if (ctx.services[TELEMETRY_INGEST] === ingest) delete ctx.services[TELEMETRY_INGEST];
+  };
+}

@@ -1,0 +1,127 @@
+/** Live floor API (/api/floor): rig tiles, a rig's socket board, its temperature chart. */
+import { z } from 'zod';
+import { rigCodeInputSchema } from './rigs';
+
+export const floorRigParamSchema = z.object({ code: rigCodeInputSchema });
+
+export type RunStateName =
+  | 'booked'
+  | 'loading'
+  | 'heating'
+  | 'stressing'
+  | 'paused'
+  | 'read-hold'
+  | 'cooling'
+  | 'finished'
+  | 'aborted';
+
+/** One rig on the floor. Counts come from the rig's newest telemetry message and its current run. */
+export interface FloorTile {
+  rigId: string;
+  code: string;
+  name: string;
+  location: string;
+  active: boolean;
+  online: boolean;
+  lastSeenAt: string | null;
+  /** Rig's own time of its newest stored message. */
+  lastSampleAt: string | null;
+  chamberC: number | null;
+  setpointC: number | null;
+  humidityPct: number | null;
+  maxTempC: number;
+  socketCount: number;
+  /** Sockets with bias on in the newest message. */
+  powered: number;
+  /** Sockets tripped (newest message or latched by the run). */
+  tripped: number;
+  /** Sockets with no device loaded by the current run (all of them without a run). */
+  empty: number;
+  /** Hottest case temperature in the newest message. */
+  maxCaseC: number | null;
+  /** Unacknowledged alarms on this rig. */
+  openAlarms: number;
+  run: {
+    id: string;
+    code: string;
+    state: RunStateName;
+    stressHours: number;
+    /** Next read point (stress hours) and the stress hours left to it; null when not stressing. */
+    nextReadPointH: number | null;
+    hoursToNextReadPoint: number | null;
+    /** Wall-clock estimate at the lab's stress-clock rate. */
+    nextReadPointEta: string | null;
+  } | null;
+}
+
+export interface FloorSocket {
+  index: number;
+  caseC: number | null;
+  vV: number | null;
+  iA: number | null;
+  biasOn: boolean;
+  tripped: boolean;
+  /** Device loaded by the current run, if any. */
+  serial: string | null;
+  tripReason: string | null;
+}
+
+export interface FloorBoard {
+  tile: FloorTile;
+  /** Seq and rig time of the message the readings come from. */
+  seq: number | null;
+  sampleAt: string | null;
+  sockets: FloorSocket[];
+}
+
+export const CHART_MAX_POINTS = 1000;
+export const CHART_MAX_SOCKETS = 8;
+/** Spans up to this use raw samples; longer spans use the per-minute rollups. */
+export const CHART_RAW_SPAN_MS = 30 * 60_000;
+/** Longest chart span. */
+export const CHART_MAX_SPAN_MS = 90 * 86_400_000;
+
+const socketList = z
+  .string()
+  .regex(/^\d{1,3}(,\d{1,3})*$/, 'List socket numbers separated by commas, e.g. 0,3,7')
+  .transform((s) => Array.from(new Set(s.split(',').map(Number))))
+  .refine((a) => a.every((n) => n >= 0 && n <= 255), 'Socket numbers run from 0 to 255')
+  .refine((a) => a.length <= CHART_MAX_SOCKETS, `At most ${CHART_MAX_SOCKETS} sockets per chart`);
+
+export const floorChartQuerySchema = z
+  .object({
+    from: z.iso.datetime({ offset: true }).optional(),
+    to: z.iso.datetime({ offset: true }).optional(),
+    points: z.coerce.number().int().min(2).max(CHART_MAX_POINTS).default(300),
+    /** Sockets to plot; default the three hottest in the newest message. */
+    sockets: socketList.optional(),
+  })
+  .superRefine((q, ctx) => {
+    if (q.from && q.to) {
+      const span = Date.parse(q.to) - Date.parse(q.from);
+      if (!(span > 0)) ctx.addIssue({ code: 'custom', path: ['to'], message: '"to" must be after "from"' });
+      else if (span > CHART_MAX_SPAN_MS) ctx.addIssue({ code: 'custom', path: ['from'], message: 'At most 90 days per chart' });
+    }
+  });
+export type FloorChartQuery = z.infer<typeof floorChartQuerySchema>;
+
+export interface ChartPoint {
+  /** Bucket centre, ISO. */
+  t: string;
+  avg: number;
+  min: number;
+  max: number;
+}
+
+export interface FloorChart {
+  from: string;
+  to: string;
+  /** 'raw' = telemetry samples, 'rollup' = per-minute rollups. */
+  source: 'raw' | 'rollup';
+  bucketMs: number;
+  chamber: ChartPoint[];
+  sockets: Array<{ socket: number; points: ChartPoint[] }>;
+}
+
+/** Server-sent events on GET /api/floor/stream. */
+export type FloorStreamEvent = { type: 'tile'; tile: FloorTile } | { type: 'heartbeat'; at: string };

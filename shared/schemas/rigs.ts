@@ -1,0 +1,154 @@
+/** Rigs admin API (/api/rigs): registration, MQTT credentials, maintenance windows. */
+import { z } from 'zod';
+import { RIG_CODE_PATTERN } from '../mqtt/topics';
+
+const finite = () => z.number().finite();
+
+/** Rig codes are printed in capitals on the oven; lower-case input is accepted and raised. */
+export const rigCodeInputSchema = z
+  .string()
+  .trim()
+  .toUpperCase()
+  .regex(RIG_CODE_PATTERN, 'Use 2–32 capital letters, digits or "-" (e.g. OV-07)');
+
+export const rigCodeParamSchema = z.object({ code: rigCodeInputSchema });
+export const rigMaintenanceParamSchema = z.object({ code: rigCodeInputSchema, id: z.string().uuid('Not a valid id') });
+
+export const MAX_RIG_SOCKETS = 256;
+
+export const createRigSchema = z
+  .object({
+    code: rigCodeInputSchema,
+    name: z.string().trim().min(1, 'Enter a name').max(80),
+    location: z.string().trim().max(80).default(''),
+    socketCount: z.number().int('Whole sockets only').min(1, 'At least one socket').max(MAX_RIG_SOCKETS, `At most ${MAX_RIG_SOCKETS} sockets`),
+    maxTempC: finite().min(25, 'At least 25 °C').max(500, 'At most 500 °C'),
+    maxVoltageV: finite().positive('Must be above 0 V').max(10_000, 'At most 10 kV'),
+    humidityCapable: z.boolean().default(false),
+    maxHumidityPct: finite().min(1).max(100).nullable().default(null),
+  })
+  .strict()
+  .superRefine((r, ctx) => {
+    if (r.humidityCapable && r.maxHumidityPct === null) {
+      ctx.addIssue({ code: 'custom', path: ['maxHumidityPct'], message: 'A humidity chamber needs its maximum relative humidity' });
+    }
+    if (!r.humidityCapable && r.maxHumidityPct !== null) {
+      ctx.addIssue({ code: 'custom', path: ['maxHumidityPct'], message: 'Only a humidity-capable rig has a humidity limit' });
+    }
+  });
+export type CreateRigInput = z.infer<typeof createRigSchema>;
+
+export const updateRigSchema = z
+  .object({
+    name: z.string().trim().min(1).max(80).optional(),
+    location: z.string().trim().max(80).optional(),
+    maxTempC: finite().min(25).max(500).optional(),
+    maxVoltageV: finite().positive().max(10_000).optional(),
+    maxHumidityPct: finite().min(1).max(100).nullable().optional(),
+    active: z.boolean().optional(),
+  })
+  .strict()
+  .refine((v) => Object.keys(v).length > 0, { message: 'Nothing to change' });
+export type UpdateRigInput = z.infer<typeof updateRigSchema>;
+
+export const revokeRigSchema = z.object({
+  reason: z.string().trim().min(3, 'Say why the credentials are revoked').max(200),
+});
+export type RevokeRigInput = z.infer<typeof revokeRigSchema>;
+
+export interface Rig {
+  id: string;
+  code: string;
+  name: string;
+  location: string;
+  socketCount: number;
+  maxTempC: number;
+  maxVoltageV: number;
+  humidityCapable: boolean;
+  maxHumidityPct: number | null;
+  active: boolean;
+  mqttUsername: string;
+  credentialsIssuedAt: string;
+  credentialsRevokedAt: string | null;
+  online: boolean;
+  lastSeenAt: string | null;
+  lastSeq: number;
+  chamberC: number | null;
+  setpointC: number | null;
+  humidityPct: number | null;
+  createdAt: string;
+}
+
+/** Issued MQTT credentials. The secret appears in this response only; the server keeps its hash. */
+export interface RigCredentials {
+  username: string;
+  secret: string;
+  issuedAt: string;
+}
+
+export interface RigWithCredentials {
+  rig: Rig;
+  credentials: RigCredentials;
+}
+
+/** The MQTT user name of a rig: `rig-` + its code in lower case. */
+export const rigMqttUsernameFor = (code: string) => `rig-${code.toLowerCase()}`;
+
+/** Longest maintenance window one entry may book (longer work: book several). */
+export const MAX_MAINTENANCE_DAYS = 31;
+
+export const maintenanceInputSchema = z
+  .object({
+    startsAt: z.iso.datetime({ offset: true, message: 'Enter a date and time' }),
+    endsAt: z.iso.datetime({ offset: true, message: 'Enter a date and time' }),
+    reason: z.string().trim().min(3, 'Say what the maintenance is for').max(200),
+  })
+  .strict()
+  .superRefine((m, ctx) => {
+    const a = Date.parse(m.startsAt);
+    const b = Date.parse(m.endsAt);
+    if (!(b > a)) ctx.addIssue({ code: 'custom', path: ['endsAt'], message: 'The window must end after it starts' });
+    else if (b - a > MAX_MAINTENANCE_DAYS * 86_400_000) {
+      ctx.addIssue({ code: 'custom', path: ['endsAt'], message: `One window may last at most ${MAX_MAINTENANCE_DAYS} days` });
+    }
+  });
+export type MaintenanceInput = z.infer<typeof maintenanceInputSchema>;
+
+export interface MaintenanceWindow {
+  id: string;
+  rigId: string;
+  rigCode: string;
+  startsAt: string;
+  endsAt: string;
+  reason: string;
+  createdAt: string;
+}
+
+/** GET /api/telemetry/rejections */
+export const rejectionsQuerySchema = z.object({
+  limit: z.coerce.number().int().min(1).max(500).default(100),
+  rig: rigCodeInputSchema.optional(),
+});
+export interface RejectedMessage {
+  id: string;
+  at: string;
+  topic: string;
+  rigCode: string | null;
+  reason: string;
+  excerpt: string;
+}
+
+/** GET /api/telemetry/stats: durable counters plus the live state of the ingest. */
+export interface TelemetryStats {
+  counters: Record<string, number>;
+  live: {
+    mqttConnected: boolean;
+    databaseOk: boolean;
+    buffered: number;
+    bufferLimit: number;
+    batches: number;
+    lastBatchMs: number | null;
+    samplesMode: 'copy' | 'insert';
+    pendingCommands: number;
+  } | null;
+}

@@ -1,0 +1,215 @@
+import { randomUUID } from 'node:crypto';
+import * as http from 'node:http';
+import type { AddressInfo } from 'node:net';
+import request from 'supertest';
+import type { EntityManager } from 'typeorm';
+import type { Telemetry } from '../../shared/mqtt';
+import type { FloorTile } from '../../shared/schemas/floor';
+import { AlarmEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunSocketEntity, StressPlanEntity } from '../../server/db/entities';
+import { TELEMETRY_LANDED } from '../../server/modules/telemetry/contracts';
+import { writeBatch, type IngestItem } from '../../server/modules/telemetry/ingest-store';
+import { pgPoolOf } from '../../server/modules/telemetry/telemetry.feature';
+import { insertHistoryRun } from '../../server/seed/seed-history';
+import { createTestApp, emailFor, TEST_PASSWORD, type TestApp } from '../support/api';
+
+let t: TestApp;
+let rigA = '';
+const T0 = Date.UTC(2031, 0, 10, 8, 0, 0);
+const SOCKETS = 16;
+
+function message(seq: number, atMs: number, sockets: number[], mod: (i: number) => Partial<Telemetry['sockets'][number]> = () => ({})): Telemetry {
+  return {
+    v: 1,
+    rig: 'OV-81',
+    seq,
+    ts: new Date(atMs).toISOString(),
+    stressClockS: seq * 3600,
+    chamberC: 150 + (seq % 10) * 0.1,
+    humidityPct: null,
+    setpointC: 150,
+    sockets: sockets.map((i) => ({ i, caseC: 152 + i + (seq % 4) * 0.5, vV: 40, iA: 0.1, biasOn: true, tripped: false, ...mod(i) })),
+  };
+}
+
+async function makeFixtures(m: EntityManager) {
+  const type = await m.save(
+    m.create(DeviceTypeEntity, {
+      partNumber: 'HPD-T220N', polarity: 'NPN', bvcboV: 200, bvceoV: 120, bveboV: 6, icMaxA: 3, pMaxW: 40, tjMaxC: 150,
+      thetaJcCPerW: 1.5, thetaJaCPerW: 60, betaRef: 80, betaRefIcA: 0.5, betaRefTC: 25, xtb: 1.5, icboRefA: 10e-9,
+    }),
+  );
+  const plan = await m.save(
+    m.create(StressPlanEntity, {
+      planKey: randomUUID(), version: 1, name: 'Powered life 150 °C', kind: 'hotl', deviceTypeId: type.id, chamberC: 150, humidityPct: null,
+      bias: { vcbV: null, vebV: null, vceV: 40, ibA: 0.002, icA: null, tolerancePct: 5 }, durationH: 1000, readPointsH: [0, 168, 500, 1000],
+      sampleSize: 10, acceptNumber: 0, criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 }, eaEv: 0.7, useC: 55,
+    }),
+  );
+  const mk = (code: string) =>
+    m.save(m.create(RigEntity, { code, name: `Oven ${code}`, socketCount: SOCKETS, maxTempC: 200, maxVoltageV: 100, mqttUsername: `rig-${code.toLowerCase()}`, mqttSecretHash: 'x', credentialsIssuedAt: new Date() }));
+  const a = await mk('OV-81');
+  await mk('OV-82');
+  const lot = await m.save(m.create(LotEntity, { code: 'HPD-L9901', deviceTypeId: type.id, quantity: 10 }));
+  const devices = await m.save(Array.from({ length: 10 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `HPD-L9901-${String(i + 1).padStart(3, '0')}` })));
+  const run = await insertHistoryRun(m, {
+    code: 'HTOL-F-01', plan, deviceType: type, rig: a, lots: [{ lot, devices, drift: { hfeDriftPctPer1000h: 0, leakageGrowthPer1000h: 1 } }],
+    state: 'stressing', startedAt: new Date(T0 - 200 * 3600_000), stressHours: 150, measuredH: [], noise: 0,
+  });
+  await m.update(RunSocketEntity, { runId: run.id, socketIndex: 3 }, { tripped: true, trippedAt: new Date(), tripReason: 'Case above runaway limit' });
+  const alarm = (ack: boolean) =>
+    m.create(AlarmEntity, { kind: 'runaway-warning', severity: 'warning', rigId: a.id, title: 'Socket warming', message: 'test', dedupeKey: randomUUID(), acknowledgedAt: ack ? new Date() : null });
+  await m.save([alarm(false), alarm(false), alarm(true)]);
+  return a.id;
+}
+
+beforeAll(async () => {
+  t = await createTestApp();
+  rigA = await t.ctx.ds.transaction(makeFixtures);
+  // 20 minutes of telemetry at 1 message/s through the real ingest store (samples + rollups).
+  const pool = pgPoolOf(t.ctx);
+  const all = Array.from({ length: 1200 }, (_, k) =>
+    message(k + 1, T0 + k * 1000, Array.from({ length: 10 }, (_, i) => i), (i) => (i === 9 && k === 1199 ? { tripped: true, biasOn: false } : {})),
+  );
+  for (let k = 0; k < all.length; k += 200) {
+    const items: IngestItem[] = all.slice(k, k + 200).map((msg) => ({ kind: 'telemetry', rigCode: 'OV-81', msg, receivedAt: new Date() }));
+    await writeBatch(pool, items);
+  }
+});
+afterAll(async () => {
+  await t.close();
+});
+
+describe('GET /api/floor', () => {
+  it('one tile per rig from the seeded rows', async () => {
+    const res = await (await t.signIn('operator')).get('/api/floor');
+    expect(res.status).toBe(200);
+    const [a, b] = res.body.items as FloorTile[];
+    expect(a).toMatchObject({
+      code: 'OV-81',
+      online: true,
+      socketCount: SOCKETS,
+      setpointC: 150,
+      powered: 9, // sockets 0–8 biased; 9 tripped in the newest message
+      tripped: 2, // 9 from telemetry, 3 latched by the run
+      empty: 6, // 10 devices loaded on 16 sockets
+      openAlarms: 2,
+      lastSampleAt: new Date(T0 + 1199_000).toISOString(),
+    });
+    expect(a.chamberC).toBe(150); // seq 1200: 150 + (1200 % 10) × 0.1
+    expect(a.maxCaseC).toBe(152 + 9); // socket 9, seq 1200 % 4 = 0
+    expect(a.run).toMatchObject({ code: 'HTOL-F-01', state: 'stressing', stressHours: 150, nextReadPointH: 168, hoursToNextReadPoint: 18 });
+    expect(Date.parse(a.run!.nextReadPointEta!)).toBeGreaterThan(Date.now());
+    expect(b).toMatchObject({ code: 'OV-82', online: false, powered: 0, tripped: 0, empty: SOCKETS, openAlarms: 0, run: null, chamberC: null, lastSampleAt: null });
+  });
+
+  it('signed-out callers get 401', async () => {
+    expect((await request(t.app).get('/api/floor')).status).toBe(401);
+  });
+});
+
+describe('GET /api/floor/rigs/:code', () => {
+  it('the socket board: newest reading per socket, device serials, trips', async () => {
+    const res = await (await t.signIn('manager')).get('/api/floor/rigs/ov-81');
+    expect(res.status).toBe(200);
+    expect(res.body.seq).toBe(1200);
+    expect(res.body.sockets).toHaveLength(SOCKETS);
+    expect(res.body.sockets[0]).toMatchObject({ index: 0, serial: 'HPD-L9901-001', biasOn: true, tripped: false, caseC: 152 });
+    expect(res.body.sockets[3]).toMatchObject({ tripped: true, tripReason: 'Case above runaway limit' });
+    expect(res.body.sockets[9]).toMatchObject({ tripped: true, biasOn: false });
+    expect(res.body.sockets[12]).toMatchObject({ index: 12, caseC: null, serial: null, biasOn: false, tripped: false });
+    expect((await (await t.signIn('manager')).get('/api/floor/rigs/OV-404')).status).toBe(404);
+  });
+});
+
+describe('GET /api/floor/rigs/:code/chart', () => {
+  const url = (q: string) => `/api/floor/rigs/OV-81/chart?${q}`;
+  const iso = (ms: number) => encodeURIComponent(new Date(ms).toISOString());
+
+  it('short spans come from raw samples, cut into at most `points` buckets', async () => {
+    const agent = await t.signIn('operator');
+    const res = await agent.get(url(`from=${iso(T0)}&to=${iso(T0 + 1200_000)}&points=50&sockets=0,9`));
+    expect(res.status).toBe(200);
+    expect(res.body.source).toBe('raw');
+    expect(res.body.bucketMs).toBe(24_000);
+    expect(res.body.chamber).toHaveLength(50);
+    expect(res.body.sockets.map((s: { socket: number }) => s.socket)).toEqual([0, 9]);
+    for (const s of res.body.sockets) expect(s.points).toHaveLength(50);
+    for (const p of [...res.body.chamber, ...res.body.sockets[0].points]) {
+      expect(p.min).toBeLessThanOrEqual(p.avg);
+      expect(p.avg).toBeLessThanOrEqual(p.max);
+      expect(Date.parse(p.t)).toBeGreaterThanOrEqual(T0);
+      expect(Date.parse(p.t)).toBeLessThan(T0 + 1200_000);
+    }
+    const two = await agent.get(url(`from=${iso(T0)}&to=${iso(T0 + 1200_000)}&points=2`));
+    expect(two.body.chamber.length).toBeLessThanOrEqual(2);
+    // Default sockets: the three hottest in the newest message.
+    expect(two.body.sockets.map((s: { socket: number }) => s.socket)).toEqual([7, 8, 9]);
+  });
+
+  it('long spans come from the per-minute rollups and stay within `points`', async () => {
+    const agent = await t.signIn('operator');
+    const res = await agent.get(url(`from=${iso(T0 - 3600_000)}&to=${iso(T0 + 3600_000)}&points=300&sockets=1`));
+    expect(res.status).toBe(200);
+    expect(res.body.source).toBe('rollup');
+    expect(res.body.chamber.length).toBeGreaterThan(0);
+    expect(res.body.chamber.length).toBeLessThanOrEqual(300);
+    expect(res.body.chamber.length).toBeLessThanOrEqual(20); // 20 minutes of data
+    const avg = res.body.sockets[0].points.map((p: { avg: number }) => p.avg);
+    for (const v of avg) expect(v).toBeGreaterThan(152);
+    const few = await agent.get(url(`from=${iso(T0 - 3600_000)}&to=${iso(T0 + 3600_000)}&points=5`));
+    expect(few.body.chamber.length).toBeLessThanOrEqual(5);
+  });
+
+  it('refuses bad queries', async () => {
+    const agent = await t.signIn('operator');
+    expect((await agent.get(url('points=5000'))).status).toBe(400);
+    expect((await agent.get(url(`from=${iso(T0)}&to=${iso(T0 - 1000)}`))).status).toBe(400);
+    expect((await agent.get(url('sockets=0,999'))).status).toBe(400);
+    expect((await agent.get(url('sockets=0,1,2,3,4,5,6,7,8'))).status).toBe(400);
+  });
+});
+
+describe('GET /api/floor/stream (server-sent events)', () => {
+  it('needs an event-stream Accept header', async () => {
+    const res = await (await t.signIn('operator')).get('/api/floor/stream');
+    expect(res.status).toBe(400);
+  });
+
+  it('sends a tile within 2 s of telemetry landing, and nothing for signed-out callers', async () => {
+    const server = http.createServer(t.app);
+    await new Promise<void>((r) => server.listen(0, '127.0.0.1', r));
+    const port = (server.address() as AddressInfo).port;
+    try {
+      const signIn = await request(t.app).post('/api/auth/sign-in').send({ email: emailFor('operator'), password: TEST_PASSWORD });
+      const cookie = (signIn.headers['set-cookie'] as unknown as string[]).map((c) => c.split(';')[0]).join('; ');
+      const open = (withCookie: boolean) =>
+        new Promise<http.IncomingMessage>((resolve, reject) => {
+          const req = http.get({ host: '127.0.0.1', port, path: '/api/floor/stream', headers: { Accept: 'text/event-stream', ...(withCookie ? { Cookie: cookie } : {}) } }, resolve);
+          req.on('error', reject);
+        });
+      const anon = await open(false);
+      expect(anon.statusCode).toBe(401);
+      anon.resume();
+
+      const res = await open(true);
+      expect(res.statusCode).toBe(200);
+      expect(res.headers['content-type']).toMatch(/text\/event-stream/);
+      let text = '';
+      res.setEncoding('utf8');
+      res.on('data', (chunk: string) => (text += chunk));
+      await new Promise((r) => setTimeout(r, 100));
+      expect(text).toContain(': connected');
+      const t0 = Date.now();
+      t.ctx.events.emit(TELEMETRY_LANDED, { rigId: rigA, rigCode: 'OV-81' });
+      while (!text.includes('event: tile') && Date.now() - t0 < 2500) await new Promise((r) => setTimeout(r, 20));
+      expect(Date.now() - t0).toBeLessThan(2000);
+      const data = text.split('\n').find((l) => l.startsWith('data: '))!;
+      const evt = JSON.parse(data.slice(6));
+      expect(evt).toMatchObject({ type: 'tile', tile: { code: 'OV-81', powered: 9 } });
+      res.destroy();
+    } finally {
+      server.closeAllConnections();
+      await new Promise((r) => server.close(r));
+    }
+  });
+});

@@ -1,0 +1,115 @@
+/**
+ * Measures the ingest write path on this machine: socket rows by COPY vs one multi-row
+ * INSERT … SELECT unnest, same transaction shape otherwise (headers, rollups, rig row, counters),
+ * then end to end MQTT → PostgreSQL through the real broker. Prints the rates; asserts only a low
+ * floor (the machine is shared and noisy). The ingest keeps whichever is faster (COPY, see report).
+ */
+import bcrypt from 'bcryptjs';
+import { createEmberlotBroker, type EmberlotBroker } from '../../broker/broker';
+import { createPgAuthenticate } from '../../broker/pg-authenticate';
+import { topics, type Telemetry } from '../../shared/mqtt';
+import { configFromEnv } from '../../server/config';
+import { createContext, type AppContext } from '../../server/context';
+import { RigEntity } from '../../server/db/entities';
+import { writeBatch, type IngestItem, type SamplesMode } from '../../server/modules/telemetry/ingest-store';
+import { pgPoolOf, startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
+import { createTestDb, type TestDb } from '../support/db';
+import { connectClient, sleep } from './mqtt-test-helpers';
+
+jest.setTimeout(30_000);
+
+const SOCKETS = 64;
+const PER_BATCH = 200;
+let db: TestDb;
+let ctx: AppContext;
+
+function message(rig: string, seq: number): Telemetry {
+  return {
+    v: 1,
+    rig,
+    seq,
+    ts: new Date(Date.UTC(2031, 5, 1) + seq * 250).toISOString(),
+    stressClockS: seq * 900,
+    chamberC: 150 + (seq % 7) * 0.1,
+    humidityPct: null,
+    setpointC: 150,
+    sockets: Array.from({ length: SOCKETS }, (_, i) => ({ i, caseC: 151 + i * 0.05 + (seq % 5) * 0.01, vV: 40.2, iA: 0.1234 + i * 1e-4, biasOn: true, tripped: false })),
+  };
+}
+
+beforeAll(async () => {
+  db = await createTestDb();
+  for (const code of ['BX-COPY', 'BX-INSERT', 'BX-E2E']) {
+    await db.ds.getRepository(RigEntity).insert({
+      code,
+      name: code,
+      socketCount: SOCKETS,
+      maxTempC: 200,
+      maxVoltageV: 100,
+      mqttUsername: `rig-${code.toLowerCase()}`,
+      mqttSecretHash: await bcrypt.hash('bench-secret', 4),
+      credentialsIssuedAt: new Date(),
+    });
+  }
+  ctx = createContext(db.ds, { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config });
+});
+
+afterAll(async () => {
+  await db?.drop();
+});
+
+test('COPY vs multi-row INSERT for the socket rows (rows/s)', async () => {
+  const pool = pgPoolOf(ctx);
+  const rounds = 4;
+  const rates: Record<SamplesMode, number[]> = { copy: [], insert: [] };
+  const seqs: Record<SamplesMode, number> = { copy: 0, insert: 0 };
+  for (let r = 0; r < rounds; r++) {
+    for (const mode of (r % 2 ? ['insert', 'copy'] : ['copy', 'insert']) as SamplesMode[]) {
+      const rig = mode === 'copy' ? 'BX-COPY' : 'BX-INSERT';
+      const items: IngestItem[] = [];
+      for (let k = 0; k < PER_BATCH; k++) items.push({ kind: 'telemetry', rigCode: rig, msg: message(rig, ++seqs[mode]), receivedAt: new Date() });
+      const t0 = process.hrtime.bigint();
+      const res = await writeBatch(pool, items, { samplesMode: mode });
+      const s = Number(process.hrtime.bigint() - t0) / 1e9;
+      expect(res.sampleRows).toBe(PER_BATCH * SOCKETS);
+      if (r > 0) rates[mode].push(res.sampleRows / s); // first round warms up
+    }
+  }
+  const median = (a: number[]) => [...a].sort((x, y) => x - y)[Math.floor(a.length / 2)];
+  const copy = Math.round(median(rates.copy));
+  const insert = Math.round(median(rates.insert));
+  console.log(`[bench] ${PER_BATCH} messages × ${SOCKETS} sockets per transaction: COPY ${copy} rows/s, INSERT unnest ${insert} rows/s (median of ${rounds - 1})`);
+  expect(copy).toBeGreaterThan(2_000);
+  expect(insert).toBeGreaterThan(2_000);
+});
+
+test('end to end: MQTT → validate → batch → COPY → stored (samples/s)', async () => {
+  const eb: EmberlotBroker = await createEmberlotBroker({
+    port: 0,
+    authenticate: createPgAuthenticate({ pool: pgPoolOf(ctx), server: { username: 'srv', password: 'srv-pass' } }),
+  });
+  const stop = await startTelemetry(ctx, { mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, username: 'srv', password: 'srv-pass' }, clientId: 'bench-server', log: () => undefined });
+  const rig = await connectClient(eb.port, { clientId: 'rig-BX-E2E', username: 'rig-bx-e2e', password: 'bench-secret' });
+  try {
+    await sleep(300);
+    const N = 1500;
+    const payloads = Array.from({ length: N }, (_, k) => JSON.stringify(message('BX-E2E', k + 1)));
+    const t0 = Date.now();
+    for (const p of payloads) rig.publish(topics.telemetry('BX-E2E'), p, { qos: 1 });
+    let n = 0;
+    while (Date.now() - t0 < 25_000) {
+      const [{ c }] = await db.ds.query(`SELECT count(*)::int AS c FROM telemetry_batches b JOIN rigs r ON r.id = b.rig_id WHERE r.code = 'BX-E2E'`);
+      n = c;
+      if (n >= N) break;
+      await sleep(50);
+    }
+    const s = (Date.now() - t0) / 1000;
+    const st = (ctx.services.telemetryIngest as { stats(): { batches: number; lastBatchMs: number | null } }).stats();
+    console.log(`[bench] end to end: ${N} messages × ${SOCKETS} sockets in ${s.toFixed(2)} s = ${Math.round((N * SOCKETS) / s)} samples/s (${Math.round(N / s)} messages/s; ${st.batches} transactions, last ${st.lastBatchMs} ms; broker, publisher and server share one process)`);
+    expect(n).toBe(N);
+  } finally {
+    await rig.endAsync(true).catch(() => undefined);
+    await stop();
+    await eb.close();
+  }
+});
