@@ -1,5 +1,6 @@
 import type { AppContext } from './context';
 import { startTelemetry } from './modules/telemetry/telemetry.feature';
+import { startScheduler } from './modules/scheduler/scheduler';
 
 /**
  * Background parts of the API process (MQTT ingest, scheduler, protection, mail). Each start
@@ -9,6 +10,7 @@ export async function startFeatures(ctx: AppContext): Promise<() => Promise<void
   const stops: Array<() => Promise<void> | void> = [];
   void ctx;
   stops.push(await startTelemetry(ctx)); // first: the others use ctx.services.rigLink
+  stops.push(startScheduler(ctx)); // runs: heating, accrual, read points, cooling (node-cron, every second)
   return async () => {
     for (const stop of stops.reverse()) await stop();
   };

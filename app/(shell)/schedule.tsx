@@ -1,12 +1,3 @@
-// Placeholder until the schedule screens land.
-import { PlaceholderScreen } from '@/components/common/PlaceholderScreen';
+import { ScheduleScreen } from '@/components/schedule/ScheduleScreen';
 
-export default function ScheduleRoute() {
-  return (
-    <PlaceholderScreen
-      title="Schedule"
-      subtitle="Which run sits on which rig, and when."
-      coming="Booked and running stress runs will appear here on a timeline per rig."
-    />
-  );
-}
+export default ScheduleScreen;

@@ -12,6 +12,7 @@ import {
   rigMqttUsername,
 } from './demo-data';
 import { seedPlans } from './seed-plans';
+import { seedRuns } from './seed-runs';
 
 export interface SeedStep {
   name: string;
@@ -59,6 +60,7 @@ export const SEED_STEPS: SeedStep[] = [
   { name: 'device types and lots', run: seedDevicesAndLots },
   { name: 'rigs', run: seedRigs },
   { name: 'stress plans', run: seedPlans },
+  { name: 'live runs', run: (ds) => seedRuns(ds) },
 ];
 
 /** Seed only an empty database: a second `npm start` keeps whatever the lab did since. */

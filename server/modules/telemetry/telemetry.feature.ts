@@ -59,12 +59,14 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
     if (sweeping) return;
     sweeping = true;
     try {
-      const rows: Array<{ id: string; code: string }> = await ctx.ds.query(
+      // TypeORM answers an UPDATE … RETURNING with [rows, affectedCount], a SELECT with rows.
+      const result: unknown = await ctx.ds.query(
         `UPDATE rigs SET online = false
          WHERE online AND (last_seen_at IS NULL OR last_seen_at < $1)
          RETURNING id, code`,
         [new Date(ctx.now().getTime() - offlineAfterMs)],
       );
+      const rows = (Array.isArray(result) && Array.isArray(result[0]) ? result[0] : result) as Array<{ id: string; code: string }>;
       const at = ctx.now();
       for (const r of rows) ctx.events.emit(RIG_STATUS_CHANGED, { rigId: r.id, rigCode: r.code, online: false, at } satisfies RigStatusChanged);
     } catch {

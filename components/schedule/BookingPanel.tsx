@@ -1,0 +1,216 @@
+/**
+ * Booking (engineers): plan version + lots + sample size → rigs that can take the run, ranked by
+ * finish, with the reasons others cannot → book. A plan whose check blocks needs a written
+ * override reason (at least 10 characters), which is audited.
+ */
+import { useRouter } from 'expo-router';
+import { useEffect, useMemo, useState } from 'react';
+import { Pressable, View } from 'react-native';
+import { describeError } from '@/components/queries/api';
+import { useLots } from '@/components/queries/lots';
+import { usePlan, usePlans } from '@/components/queries/plans';
+import { useBookRun, useProposals } from '@/components/queries/runs';
+import { hours, shortTime } from '@/components/runs/run-look';
+import { colors, radius, space } from '@/components/theme/tokens';
+import { Banner } from '@/components/ui/Banner';
+import { Button } from '@/components/ui/Button';
+import { Card } from '@/components/ui/Card';
+import { Field } from '@/components/ui/Field';
+import { Loading } from '@/components/ui/Loading';
+import { Badge, StatusPill } from '@/components/ui/StatusPill';
+import { Text } from '@/components/ui/Text';
+import { OVERRIDE_REASON_MIN, type ProposalOption } from '@/shared/schemas/runs';
+
+function Chip({ label, selected, onPress, hint }: { label: string; selected: boolean; onPress: () => void; hint?: string }) {
+  return (
+    <Pressable
+      accessibilityRole="checkbox"
+      accessibilityState={{ checked: selected }}
+      accessibilityLabel={label}
+      accessibilityHint={hint}
+      onPress={onPress}
+      style={{
+        minHeight: 40,
+        paddingHorizontal: space.sm,
+        justifyContent: 'center',
+        borderRadius: radius.pill,
+        borderWidth: selected ? 2 : 1,
+        borderColor: selected ? colors.ember : colors.borderStrong,
+        backgroundColor: selected ? colors.emberSoft : colors.surface,
+      }}
+    >
+      <Text variant="label">{selected ? `✓ ${label}` : label}</Text>
+    </Pressable>
+  );
+}
+
+export function BookingPanel({ onDone }: { onDone: () => void }) {
+  const router = useRouter();
+  const plans = usePlans();
+  const [planKey, setPlanKey] = useState<string | undefined>();
+  const current = plans.data?.find((p) => p.planKey === planKey);
+  const detail = usePlan(current?.id);
+  const [versionId, setVersionId] = useState<string | undefined>();
+  const lots = useLots({ deviceTypeId: current?.device.id });
+  const [lotIds, setLotIds] = useState<string[]>([]);
+  const [sample, setSample] = useState('');
+  const [reason, setReason] = useState('');
+  const proposals = useProposals();
+  const book = useBookRun();
+
+  useEffect(() => {
+    setVersionId(current?.id);
+    setLotIds([]);
+    setSample(current ? String(current.sampleSize) : '');
+    proposals.reset();
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, [planKey]);
+
+  const sampleSize = Number(sample);
+  const sampleError = sample && (!Number.isInteger(sampleSize) || sampleSize < 1 || sampleSize > 256) ? 'A whole number of devices, 1–256' : undefined;
+  const ready = !!versionId && lotIds.length > 0 && !!sample && !sampleError;
+  const request = useMemo(() => (ready ? { planId: versionId!, lotIds, sampleSize } : null), [ready, versionId, lotIds, sampleSize]);
+  const result = proposals.data;
+  const blocks = (result?.blockingFindings.length ?? 0) > 0;
+  const reasonOk = reason.trim().length >= OVERRIDE_REASON_MIN;
+
+  const onBook = (o: ProposalOption) => {
+    if (!request) return;
+    book.mutate(
+      { ...request, rigId: o.rigId, start: o.start, ...(blocks ? { override: { reason: reason.trim() } } : {}) },
+      { onSuccess: (run) => { onDone(); router.push(`/runs/${run.id}`); } },
+    );
+  };
+
+  return (
+    <Card title="Book a run" description="Choose a plan version, the lots and how many devices; Emberlot proposes rigs and start times.">
+      {plans.isLoading ? <Loading label="Loading plans" variant="spinner" /> : null}
+      {plans.isError ? <Banner tone="danger">{describeError(plans.error)}</Banner> : null}
+      <View style={{ gap: space.xs }}>
+        <Text variant="label">Plan</Text>
+        <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs }}>
+          {(plans.data ?? []).map((p) => (
+            <Chip key={p.planKey} label={`${p.name} · ${p.device.partNumber}`} selected={p.planKey === planKey} onPress={() => setPlanKey(p.planKey)} hint={p.checkStatus === 'block' ? 'The plan check blocks this plan' : undefined} />
+          ))}
+        </View>
+        {plans.data && !plans.data.length ? <Text tone="muted">No plans yet. An engineer writes one under Plans.</Text> : null}
+      </View>
+      {detail.data && detail.data.versions.length > 1 ? (
+        <View style={{ gap: space.xs }}>
+          <Text variant="label">Version</Text>
+          <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs }}>
+            {detail.data.versions.map((v) => (
+              <Chip key={v.id} label={`v${v.version}${v.current ? ' (current)' : ''}${v.checkStatus === 'block' ? ' · blocked' : ''}`} selected={v.id === versionId} onPress={() => setVersionId(v.id)} />
+            ))}
+          </View>
+        </View>
+      ) : null}
+      {current ? (
+        <View style={{ gap: space.xs }}>
+          <Text variant="label">Lots of {current.device.partNumber}</Text>
+          {lots.isLoading ? <Loading label="Loading lots" variant="spinner" /> : null}
+          <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs }}>
+            {(lots.data ?? []).map((l) => (
+              <Chip
+                key={l.id}
+                label={`${l.code} (${l.deviceCount} registered)`}
+                selected={lotIds.includes(l.id)}
+                onPress={() => setLotIds((s) => (s.includes(l.id) ? s.filter((x) => x !== l.id) : [...s, l.id]))}
+              />
+            ))}
+          </View>
+          {lots.data && !lots.data.length ? <Text tone="muted">No lots of this part are registered yet.</Text> : null}
+        </View>
+      ) : null}
+      {current ? (
+        <View style={{ maxWidth: 240 }}>
+          <Field label="Devices (sample size)" keyboardType="number-pad" value={sample} onChangeText={setSample} error={sampleError} help={`The plan asks for ${current.sampleSize}.`} />
+        </View>
+      ) : null}
+      <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
+        <Button label="Find rigs" variant="primary" disabled={!request} busy={proposals.isPending} busyLabel="Finding rigs…" onPress={() => request && proposals.mutate(request)} />
+        <Button label="Close" variant="quiet" onPress={onDone} />
+      </View>
+      {proposals.isError ? <Banner tone="danger">{describeError(proposals.error)}</Banner> : null}
+
+      {result ? (
+        <View style={{ gap: space.md }} testID="booking-proposals">
+          <Text variant="caption" tone="muted">
+            Length on a rig: {hours(result.durationH)} (plan hours, read-point holds and heat-up).
+          </Text>
+          {result.problems.length ? (
+            <Banner tone="danger" title="This request cannot be booked">
+              {result.problems.join(' ')}
+            </Banner>
+          ) : null}
+          {blocks ? (
+            <Banner tone="danger" title="The plan check blocks this plan">
+              <View style={{ gap: space.xs }}>
+                {result.blockingFindings.map((f) => (
+                  <Text key={f.code} variant="caption">
+                    {f.title}: {f.explanation}
+                  </Text>
+                ))}
+                <Field
+                  label="Override reason (engineer, recorded in the audit trail)"
+                  multiline
+                  value={reason}
+                  onChangeText={setReason}
+                  help={`At least ${OVERRIDE_REASON_MIN} characters: why this plan may run despite the finding.`}
+                  error={reason && !reasonOk ? `Write at least ${OVERRIDE_REASON_MIN} characters` : undefined}
+                />
+              </View>
+            </Banner>
+          ) : null}
+          {result.options.map((o, i) => (
+            <View key={o.rigId} style={{ borderWidth: 1, borderColor: colors.border, borderRadius: radius.md, padding: space.sm, gap: space.xs }}>
+              <View style={{ flexDirection: 'row', gap: space.xs, alignItems: 'center', flexWrap: 'wrap' }}>
+                <Text variant="bodyStrong">
+                  {o.rigCode} · {o.rigName}
+                </Text>
+                {i === 0 ? <Badge label="Earliest finish" /> : null}
+                {!o.online ? <StatusPill tone="attention" size="sm" label="Offline now" /> : null}
+              </View>
+              <Text variant="caption" tone="muted">
+                Starts {shortTime(o.start)} · ends about {shortTime(o.end)} · {o.spareSockets} sockets to spare
+              </Text>
+              {o.delayReasons.map((r) => (
+                <Text key={r} variant="caption" tone="attention">
+                  Waits: {r}
+                </Text>
+              ))}
+              <Button
+                size="sm"
+                variant={i === 0 ? 'primary' : 'secondary'}
+                label={`Book on ${o.rigCode}`}
+                disabled={blocks && !reasonOk}
+                busy={book.isPending && book.variables?.rigId === o.rigId}
+                busyLabel="Booking…"
+                onPress={() => onBook(o)}
+              />
+            </View>
+          ))}
+          {!result.options.length && !result.problems.length ? <Banner tone="warn">No rig can take this run. The reasons per rig are below.</Banner> : null}
+          {result.refusals.length ? (
+            <View style={{ gap: space.xs }}>
+              <Text variant="label">Rigs that cannot take it</Text>
+              {result.refusals.map((r) => (
+                <View key={r.rigId} style={{ gap: 2 }}>
+                  <Text variant="caption" style={{ fontWeight: '600' }}>
+                    {r.rigCode}
+                  </Text>
+                  {r.reasons.map((x) => (
+                    <Text key={x} variant="caption" tone="muted">
+                      {x}
+                    </Text>
+                  ))}
+                </View>
+              ))}
+            </View>
+          ) : null}
+          {book.isError ? <Banner tone="danger">{describeError(book.error)}</Banner> : null}
+        </View>
+      ) : null}
+    </Card>
+  );
+}

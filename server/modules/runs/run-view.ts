@@ -1,0 +1,150 @@
+/** Entities → API objects for runs (entities never leave the server). Batched for lists. */
+import { In, type EntityManager } from 'typeorm';
+import { planBiasV } from '../../../shared/scheduling';
+import type { PlanCheckResult } from '../../../shared/schemas/plans';
+import {
+  allowedActions,
+  RUN_STATE_LABEL,
+  type Run,
+  type RunAuditEntry,
+  type RunDetail,
+  type RunPlanRef,
+  type RunSocket,
+} from '../../../shared/schemas/runs';
+import {
+  AuditLogEntity,
+  DeviceTypeEntity,
+  LotEntity,
+  RigEntity,
+  RunEntity,
+  RunLotEntity,
+  StressPlanEntity,
+  UserEntity,
+} from '../../db/entities';
+
+const iso = (d: Date | null | undefined) => (d ? d.toISOString() : null);
+
+export function sortedReadPoints(plan: Pick<StressPlanEntity, 'readPointsH'>): number[] {
+  return [...plan.readPointsH].sort((a, b) => a - b);
+}
+
+export function planRef(p: StressPlanEntity): RunPlanRef {
+  return {
+    id: p.id,
+    planKey: p.planKey,
+    name: p.name,
+    version: p.version,
+    kind: p.kind,
+    chamberC: p.chamberC,
+    humidityPct: p.humidityPct,
+    durationH: p.durationH,
+    readPointsH: sortedReadPoints(p),
+    biasV: planBiasV(p),
+    checkStatus: ((p.checkResult as PlanCheckResult | null)?.status ?? 'none') as RunPlanRef['checkStatus'],
+  };
+}
+
+export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]> {
+  if (!runs.length) return [];
+  const ids = runs.map((r) => r.id);
+  const planIds = [...new Set(runs.map((r) => r.planId))];
+  const rigIds = [...new Set(runs.map((r) => r.rigId).filter((x): x is string => !!x))];
+  const plans = new Map((await m.find(StressPlanEntity, { where: { id: In(planIds) } })).map((p) => [p.id, p]));
+  const types = new Map(
+    (await m.find(DeviceTypeEntity, { where: { id: In([...new Set([...plans.values()].map((p) => p.deviceTypeId))]) } })).map((t) => [t.id, t]),
+  );
+  const rigs = new Map((rigIds.length ? await m.find(RigEntity, { where: { id: In(rigIds) } }) : []).map((r) => [r.id, r]));
+  const runLots = await m.find(RunLotEntity, { where: { runId: In(ids) } });
+  const lots = new Map(
+    (runLots.length ? await m.find(LotEntity, { where: { id: In([...new Set(runLots.map((l) => l.lotId))]) } }) : []).map((l) => [l.id, l]),
+  );
+  const counts: Array<{ run_id: string; loaded: number; tripped: number }> = await m.query(
+    `SELECT run_id, count(*)::int AS loaded, count(*) FILTER (WHERE tripped)::int AS tripped FROM run_sockets WHERE run_id = ANY($1) GROUP BY run_id`,
+    [ids],
+  );
+  const countBy = new Map(counts.map((c) => [c.run_id, c]));
+  const userIds = [...new Set(runs.map((r) => r.overrideById).filter((x): x is string => !!x))];
+  const users = new Map((userIds.length ? await m.find(UserEntity, { where: { id: In(userIds) } }) : []).map((u) => [u.id, u]));
+
+  return runs.map((r) => {
+    const plan = plans.get(r.planId)!;
+    const rps = sortedReadPoints(plan);
+    const rig = r.rigId ? rigs.get(r.rigId) : undefined;
+    const c = countBy.get(r.id);
+    const last = r.nextReadPoint > 0 ? rps[Math.min(r.nextReadPoint, rps.length) - 1] : null;
+    return {
+      id: r.id,
+      code: r.code,
+      state: r.state,
+      stateLabel: RUN_STATE_LABEL[r.state],
+      plan: planRef(plan),
+      rig: rig ? { id: rig.id, code: rig.code, name: rig.name, socketCount: rig.socketCount, online: rig.online } : null,
+      lots: runLots
+        .filter((l) => l.runId === r.id)
+        .map((l) => lots.get(l.lotId)!)
+        .filter(Boolean)
+        .map((l) => ({ id: l.id, code: l.code }))
+        .sort((a, b) => a.code.localeCompare(b.code)),
+      partNumber: types.get(plan.deviceTypeId)?.partNumber ?? '',
+      sampleSize: r.sampleSize,
+      loadedCount: c?.loaded ?? 0,
+      trippedCount: c?.tripped ?? 0,
+      scheduledStart: iso(r.scheduledStart),
+      scheduledEnd: iso(r.scheduledEnd),
+      startedAt: iso(r.startedAt),
+      finishedAt: iso(r.finishedAt),
+      stateChangedAt: r.stateChangedAt.toISOString(),
+      stressHours: r.stressHours,
+      targetH: plan.durationH,
+      nextReadPointH: r.nextReadPoint < rps.length ? rps[r.nextReadPoint] : null,
+      lastReadPointH: last ?? null,
+      heatingSince: iso(r.heatingSince),
+      ambientReachedAt: iso(r.ambientReachedAt),
+      biasRemovedAt: iso(r.biasRemovedAt),
+      abortReason: r.abortReason,
+      override: r.overrideReason ? { reason: r.overrideReason, byName: r.overrideById ? (users.get(r.overrideById)?.name ?? null) : null } : null,
+      allowedActions: [...allowedActions(r.state)],
+      rowVersion: r.rowVersion,
+      createdAt: r.createdAt.toISOString(),
+    };
+  });
+}
+
+export async function runSockets(m: EntityManager, runId: string): Promise<RunSocket[]> {
+  const rows: Array<Record<string, any>> = await m.query(
+    `SELECT s.socket_index AS socket, d.serial, l.code AS lot, s.accrued_hours AS hours, s.tripped, s.trip_reason AS reason, s.failed_at_h AS failed
+     FROM run_sockets s JOIN devices d ON d.id = s.device_id JOIN lots l ON l.id = d.lot_id
+     WHERE s.run_id = $1 ORDER BY s.socket_index`,
+    [runId],
+  );
+  return rows.map((x) => ({
+    socket: Number(x.socket),
+    serial: x.serial,
+    lotCode: x.lot,
+    accruedHours: Number(x.hours),
+    tripped: Boolean(x.tripped),
+    tripReason: x.reason ?? null,
+    failedAtH: x.failed === null ? null : Number(x.failed),
+  }));
+}
+
+export async function runAudit(m: EntityManager, runId: string): Promise<RunAuditEntry[]> {
+  const rows = await m.find(AuditLogEntity, { where: { entity: 'run', entityId: runId }, order: { id: 'DESC' }, take: 200 });
+  return rows.map((a) => ({ id: String(a.id), at: a.at.toISOString(), actor: a.actor, action: a.action, reason: a.reason, details: a.details }));
+}
+
+/** Sockets of the rig held by other runs that sit on it now. */
+export async function socketsTakenOnRig(m: EntityManager, rigId: string, exceptRunId: string): Promise<Map<number, string>> {
+  const rows: Array<{ socket_index: number; code: string }> = await m.query(
+    `SELECT s.socket_index, r.code FROM run_sockets s JOIN runs r ON r.id = s.run_id
+     WHERE r.rig_id = $1 AND r.id <> $2 AND r.state IN ('loading','heating','stressing','paused','read-hold','cooling')`,
+    [rigId, exceptRunId],
+  );
+  return new Map(rows.map((x) => [Number(x.socket_index), x.code]));
+}
+
+export async function toRunDetail(m: EntityManager, run: RunEntity): Promise<RunDetail> {
+  const [base] = await toRuns(m, [run]);
+  const taken = run.rigId ? await socketsTakenOnRig(m, run.rigId, run.id) : new Map<number, string>();
+  return { ...base, sockets: await runSockets(m, run.id), audit: await runAudit(m, run.id), socketsTaken: [...taken.keys()].sort((a, b) => a - b) };
+}

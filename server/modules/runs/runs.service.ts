@@ -1,0 +1,563 @@
+/**
+ * Runs: proposals, booking (with the plan-check override), reads, the timeline, socket loading and
+ * the people-driven state changes. Every state change is audited in the same transaction as the
+ * change itself; a person's change names the rowVersion it was made against (optimistic locking).
+ * The scheduler (server/modules/scheduler) makes the machine-driven moves.
+ */
+import { In, Not, type EntityManager } from 'typeorm';
+import {
+  earliestSlot,
+  planBiasV,
+  proposeRigs,
+  runDurationH,
+  runDurationMs,
+  staticRefusals,
+  when,
+  windowConflicts,
+  type RunNeeds,
+  type TimingOptions,
+} from '../../../shared/scheduling';
+import type { SessionUser } from '../../../shared/schemas/auth';
+import type { PlanCheckResult } from '../../../shared/schemas/plans';
+import {
+  allowedActions,
+  HEAT_STATES,
+  RUN_ACTION_LABEL,
+  RUN_STATE_LABEL,
+  TERMINAL_STATES,
+  type AbortRunInput,
+  type BookRunInput,
+  type ProposalInput,
+  type ProposalResult,
+  type Run,
+  type RunAction,
+  type RunActionInput,
+  type RunDetail,
+  type RunState,
+  type SocketFlag,
+  type SocketLoadInput,
+  type SocketLoadResult,
+  type Timeline,
+} from '../../../shared/schemas/runs';
+import type { AppContext } from '../../context';
+import {
+  DeviceEntity,
+  DeviceTypeEntity,
+  LotEntity,
+  RigEntity,
+  RigMaintenanceEntity,
+  RunEntity,
+  RunLotEntity,
+  RunSocketEntity,
+  StressPlanEntity,
+} from '../../db/entities';
+import { AppError, conflict, notFound, unprocessable } from '../../http/errors';
+import { toDeviceTypeInput } from '../device-types/device-types.service';
+import { runPlanCheck } from '../plans/plan-check-result';
+import { toPlanInput } from '../plans/plans.service';
+import { accrueStep, firstReadPointIndex, transitionRun, type EngineDeps } from '../scheduler/run-engine';
+import { maxSeq } from '../scheduler/telemetry-reads';
+import { emitRunEvent } from './run-events';
+import { planRef, socketsTakenOnRig, toRunDetail, toRuns } from './run-view';
+import { loadSchedulingInputs, projectedWindow, SCHEDULED_STATES, timingFrom } from './scheduling-data';
+
+/** Serialises bookings (one transaction at a time decides who gets a rig window). */
+const BOOKING_LOCK = 478_001;
+
+const needsOf = (plan: StressPlanEntity, sampleSize: number): RunNeeds => ({
+  chamberC: plan.chamberC,
+  humidityPct: plan.humidityPct,
+  biasV: planBiasV(plan),
+  sampleSize,
+  durationH: plan.durationH,
+  readPointsH: plan.readPointsH,
+});
+
+const condition = (p: Pick<StressPlanEntity, 'chamberC' | 'humidityPct'>) =>
+  p.humidityPct === null ? `${+p.chamberC.toFixed(2)} °C` : `${+p.chamberC.toFixed(2)} °C / ${+p.humidityPct.toFixed(2)} % RH`;
+
+export class RunsService {
+  readonly timing: TimingOptions;
+  private readonly deps: EngineDeps;
+
+  constructor(private readonly ctx: AppContext) {
+    this.timing = timingFrom(ctx.config);
+    this.deps = { audit: ctx.audit, now: () => ctx.now() };
+  }
+
+  private get ds() {
+    return this.ctx.ds;
+  }
+
+  // -------------------------------------------------------------------------------------------
+  // Reads
+
+  async list(q: { state?: RunState; rigId?: string; open?: '0' | '1' }): Promise<Run[]> {
+    const where: Record<string, unknown> = {};
+    if (q.state) where.state = q.state;
+    if (q.rigId) where.rigId = q.rigId;
+    if (q.open === '1' && !q.state) where.state = Not(In([...TERMINAL_STATES]));
+    const rows = await this.ds.getRepository(RunEntity).find({ where, order: { createdAt: 'DESC' }, take: 500 });
+    return toRuns(this.ds.manager, rows);
+  }
+
+  async get(id: string): Promise<RunDetail> {
+    const run = await this.ds.getRepository(RunEntity).findOneBy({ id });
+    if (!run) throw notFound('The run');
+    return toRunDetail(this.ds.manager, run);
+  }
+
+  async timeline(q: { from?: string; to?: string }): Promise<Timeline> {
+    const now = this.ctx.now().getTime();
+    const m = this.ds.manager;
+    const t = this.timing;
+    const rigs = await m.find(RigEntity, { order: { code: 'ASC' } });
+    const recentMs = 14 * 24 * t.msPerClockH;
+    const runs = await m
+      .createQueryBuilder(RunEntity, 'r')
+      .where('r.rigId IS NOT NULL')
+      .andWhere(
+        '(r.state IN (:...open) OR (r.finishedAt IS NOT NULL AND r.finishedAt > :recent))',
+        { open: [...SCHEDULED_STATES], recent: new Date(now - recentMs) },
+      )
+      .getMany();
+    const plans = new Map(
+      (runs.length ? await m.find(StressPlanEntity, { where: { id: In([...new Set(runs.map((r) => r.planId))]) } }) : []).map((p) => [p.id, p]),
+    );
+    const bars = runs.map((r) => {
+      const plan = plans.get(r.planId)!;
+      const w = TERMINAL_STATES.includes(r.state)
+        ? { startMs: (r.startedAt ?? r.scheduledStart ?? r.createdAt).getTime(), endMs: (r.finishedAt ?? r.stateChangedAt).getTime() }
+        : projectedWindow(r, plan, now, t);
+      return {
+        rigId: r.rigId!,
+        bar: {
+          runId: r.id,
+          code: r.code,
+          state: r.state,
+          stateLabel: RUN_STATE_LABEL[r.state],
+          start: new Date(w.startMs).toISOString(),
+          end: new Date(Math.max(w.endMs, w.startMs + 1)).toISOString(),
+          planName: plan.name,
+          chamberC: plan.chamberC,
+          humidityPct: plan.humidityPct,
+          sampleSize: r.sampleSize,
+          stressHours: r.stressHours,
+          targetH: plan.durationH,
+        },
+      };
+    });
+    const maint = await m.find(RigMaintenanceEntity, { order: { startsAt: 'ASC' } });
+    let fromMs = q.from ? Date.parse(q.from) : Number.NaN;
+    let toMs = q.to ? Date.parse(q.to) : Number.NaN;
+    if (!Number.isFinite(fromMs)) {
+      const starts = bars.filter((b) => !TERMINAL_STATES.includes(b.bar.state)).map((b) => Date.parse(b.bar.start));
+      fromMs = Math.min(now - 6 * t.msPerClockH, ...starts.filter((s) => s > now - 30 * 24 * t.msPerClockH));
+    }
+    if (!Number.isFinite(toMs)) {
+      const ends = bars.map((b) => Date.parse(b.bar.end));
+      toMs = Math.max(now + 7 * 24 * t.msPerClockH, ...ends);
+    }
+    if (toMs <= fromMs) toMs = fromMs + 24 * t.msPerClockH;
+    const visible = (s: number, e: number) => s < toMs && e > fromMs;
+    return {
+      from: new Date(fromMs).toISOString(),
+      to: new Date(toMs).toISOString(),
+      now: new Date(now).toISOString(),
+      msPerClockH: t.msPerClockH,
+      rows: rigs.map((rig) => ({
+        rigId: rig.id,
+        code: rig.code,
+        name: rig.name,
+        socketCount: rig.socketCount,
+        online: rig.online,
+        active: rig.active,
+        bars: bars
+          .filter((b) => b.rigId === rig.id && visible(Date.parse(b.bar.start), Date.parse(b.bar.end)))
+          .map((b) => b.bar)
+          .sort((a, b) => a.start.localeCompare(b.start)),
+        maintenance: maint
+          .filter((x) => x.rigId === rig.id && visible(x.startsAt.getTime(), x.endsAt.getTime()))
+          .map((x) => ({ id: x.id, start: x.startsAt.toISOString(), end: x.endsAt.toISOString(), reason: x.reason })),
+      })),
+    };
+  }
+
+  // -------------------------------------------------------------------------------------------
+  // Proposals and booking
+
+  /** Plan, device type, lots and the request's own problems (wrong device type, too few devices). */
+  private async requestContext(m: EntityManager, input: ProposalInput) {
+    const plan = await m.findOne(StressPlanEntity, { where: { id: input.planId } });
+    if (!plan) throw notFound('The plan');
+    const type = await m.findOneOrFail(DeviceTypeEntity, { where: { id: plan.deviceTypeId } });
+    const ids = [...new Set(input.lotIds)];
+    const lots = await m.find(LotEntity, { where: { id: In(ids) }, order: { code: 'ASC' } });
+    if (lots.length !== ids.length) throw unprocessable('One of the chosen lots was not found. Choose lots from the list.');
+    const problems: string[] = [];
+    for (const l of lots) {
+      if (l.deviceTypeId !== plan.deviceTypeId) {
+        const other = await m.findOneBy(DeviceTypeEntity, { id: l.deviceTypeId });
+        problems.push(`Lot ${l.code} holds ${other?.partNumber ?? 'another part'}; the plan is for ${type.partNumber}.`);
+      }
+    }
+    const registered = await m.count(DeviceEntity, { where: { lotId: In(ids) } });
+    if (registered < input.sampleSize) {
+      problems.push(
+        `${lots.length === 1 ? `Lot ${lots[0].code} has` : `Lots ${lots.map((l) => l.code).join(', ')} have`} ${registered} registered devices; the run needs ${input.sampleSize}.`,
+      );
+    }
+    let check = plan.checkResult as PlanCheckResult | null;
+    if (!check) check = runPlanCheck({ id: type.id, ...toDeviceTypeInput(type) }, toPlanInput(plan), this.ctx.now());
+    const blockingFindings = check.findings.filter((f) => f.severity === 'block').map((f) => ({ code: f.code, title: f.title, explanation: f.explanation }));
+    return { plan, type, lots, problems, blockingFindings };
+  }
+
+  async propose(input: ProposalInput): Promise<ProposalResult> {
+    const m = this.ds.manager;
+    const { plan, problems, blockingFindings } = await this.requestContext(m, input);
+    const now = this.ctx.now().getTime();
+    const notBefore = Math.max(now, input.notBefore ? Date.parse(input.notBefore) : now);
+    const inputs = await loadSchedulingInputs(m, now, this.timing);
+    const needs = needsOf(plan, input.sampleSize);
+    const p = proposeRigs(needs, inputs.rigs.map((r) => ({ ...r })), inputs.commitments, inputs.maintenance, notBefore, this.timing);
+    const byId = new Map(inputs.rigs.map((r) => [r.id, r]));
+    return {
+      plan: planRef(plan),
+      sampleSize: input.sampleSize,
+      durationH: runDurationH(needs, this.timing),
+      blockingFindings,
+      problems,
+      options: problems.length
+        ? []
+        : p.options.map((o) => ({
+            rigId: o.rigId,
+            rigCode: o.rigCode,
+            rigName: byId.get(o.rigId)!.name,
+            online: byId.get(o.rigId)!.online,
+            start: new Date(o.startMs).toISOString(),
+            end: new Date(o.endMs).toISOString(),
+            durationH: o.durationH,
+            spareSockets: o.spareSockets,
+            delayReasons: o.delayReasons,
+          })),
+      refusals: p.refusals.map((r) => ({ ...r, rigName: byId.get(r.rigId)!.name })),
+    };
+  }
+
+  async book(actor: SessionUser, input: BookRunInput): Promise<RunDetail> {
+    const run = await this.ds.transaction(async (m) => {
+      await m.query('SELECT pg_advisory_xact_lock($1)', [BOOKING_LOCK]);
+      const { plan, type, lots, problems, blockingFindings } = await this.requestContext(m, input);
+      if (problems.length) throw unprocessable(problems.join(' '), { problems });
+      const overridden = blockingFindings.length > 0;
+      if (overridden && !input.override) {
+        throw unprocessable(
+          `The plan check blocks "${plan.name}" (version ${plan.version}): ${blockingFindings.map((f) => f.title).join('; ')}. ` +
+            'An engineer may book it anyway with a written reason of at least 10 characters.',
+          { blockingFindings },
+        );
+      }
+      const rig = await m.findOne(RigEntity, { where: { id: input.rigId } });
+      if (!rig) throw unprocessable('The chosen rig was not found. Choose one of the proposals.');
+      const now = this.ctx.now().getTime();
+      const needs = needsOf(plan, input.sampleSize);
+      const refusals = staticRefusals(rig, needs);
+      if (refusals.length) throw unprocessable(refusals.join(' '), { reasons: refusals });
+      const inputs = await loadSchedulingInputs(m, now, this.timing);
+      let startMs: number;
+      if (input.start) {
+        startMs = Math.max(now, Date.parse(input.start));
+        const clash = windowConflicts(rig, needs, startMs, startMs + runDurationMs(needs, this.timing), inputs.commitments, inputs.maintenance);
+        if (clash.length) throw conflict(`The rig is no longer free at ${when(startMs)}: ${clash.join(' ')} Ask for new proposals.`, { reasons: clash });
+      } else {
+        const slot = earliestSlot(rig, needs, now, inputs.commitments, inputs.maintenance, this.timing);
+        if (!slot) throw unprocessable(`Oven ${rig.code} cannot take this run.`);
+        startMs = slot.startMs;
+      }
+      const endMs = startMs + runDurationMs(needs, this.timing);
+      const code = await this.newCode(m, plan.kind, lots.map((l) => l.code));
+      const at = this.ctx.now();
+      const saved = await m.save(
+        m.create(RunEntity, {
+          code,
+          planId: plan.id,
+          rigId: rig.id,
+          state: 'booked',
+          sampleSize: input.sampleSize,
+          scheduledStart: new Date(startMs),
+          scheduledEnd: new Date(endMs),
+          stateChangedAt: at,
+          nextReadPoint: firstReadPointIndex(plan.readPointsH),
+          overrideReason: overridden ? input.override!.reason : null,
+          overrideById: overridden ? actor.id : null,
+          createdById: actor.id,
+        }),
+      );
+      await m.insert(RunLotEntity, lots.map((l) => ({ runId: saved.id, lotId: l.id })));
+      await this.ctx.audit.record(
+        {
+          actor,
+          action: 'run.book',
+          entity: 'run',
+          entityId: saved.id,
+          details: {
+            code,
+            planId: plan.id,
+            planName: plan.name,
+            planVersion: plan.version,
+            partNumber: type.partNumber,
+            lots: lots.map((l) => l.code),
+            sampleSize: input.sampleSize,
+            rig: rig.code,
+            scheduledStart: new Date(startMs).toISOString(),
+            scheduledEnd: new Date(endMs).toISOString(),
+          },
+        },
+        m,
+      );
+      if (overridden) {
+        await this.ctx.audit.record(
+          {
+            actor,
+            action: 'run.override',
+            entity: 'run',
+            entityId: saved.id,
+            reason: input.override!.reason,
+            details: { planId: plan.id, planVersion: plan.version, findings: blockingFindings.map((f) => ({ code: f.code, title: f.title })) },
+          },
+          m,
+        );
+      }
+      return saved;
+    });
+    return toRunDetail(this.ds.manager, run);
+  }
+
+  private async newCode(m: EntityManager, kind: string, lotCodes: string[]): Promise<string> {
+    const first = (lotCodes[0] ?? 'RUN').replace(/^HG/i, '');
+    const stem = `${kind.toUpperCase()}-${first}${lotCodes.length > 1 ? `+${lotCodes.length - 1}` : ''}`.slice(0, 26);
+    for (let k = 1; k < 1000; k++) {
+      const code = k === 1 ? stem : `${stem}-${k}`;
+      if (!(await m.exists(RunEntity, { where: { code } }))) return code;
+    }
+    throw conflict('Could not find a free run code; try again.');
+  }
+
+  // -------------------------------------------------------------------------------------------
+  // Socket loading
+
+  async loadSockets(actor: SessionUser, id: string, input: SocketLoadInput): Promise<SocketLoadResult> {
+    let result: Omit<SocketLoadResult, 'run'> | null = null;
+    let ev: unknown = null;
+    await this.ds.transaction(async (m) => {
+      const run = await this.lockRun(m, id, input.rowVersion);
+      if (!allowedActions(run.state).includes('load')) {
+        throw conflict(`Run ${run.code} is ${RUN_STATE_LABEL[run.state].toLowerCase()}; sockets can only be loaded while it is booked or loading.`);
+      }
+      if (!run.rigId) throw unprocessable(`Run ${run.code} has no rig yet.`);
+      const rig = await m.findOneByOrFail(RigEntity, { id: run.rigId });
+      const { flags, assignments } = await this.checkSockets(m, run, rig, input.sockets);
+      const blocking = flags.filter((f) => f.blocking);
+      const loaded = assignments.length;
+      const summary = blocking.length
+        ? `${blocking.length} socket${blocking.length === 1 ? '' : 's'} need${blocking.length === 1 ? 's' : ''} attention before this map can be stored; first: ${blocking[0].message}`
+        : loaded === run.sampleSize
+          ? `All ${run.sampleSize} devices are placed; the run can start.`
+          : `${loaded} of ${run.sampleSize} devices are placed; ${run.sampleSize - loaded} still to load.`;
+      result = { stored: false, needed: run.sampleSize, loaded, flags, readyToStart: !blocking.length && loaded === run.sampleSize, summary };
+      if (input.dryRun) return;
+      if (blocking.length) throw unprocessable(summary, { flags });
+      await m.delete(RunSocketEntity, { runId: run.id });
+      if (assignments.length) await m.insert(RunSocketEntity, assignments.map((a) => ({ runId: run.id, socketIndex: a.socket, deviceId: a.deviceId })));
+      const details = { loaded, needed: run.sampleSize, empty: flags.filter((f) => f.problem === 'empty').length };
+      if (run.state === 'booked') {
+        ev = await transitionRun(m, this.deps, run, rig, 'loading', {}, { actor, action: 'run.load', details });
+      } else {
+        await m.query(`UPDATE runs SET row_version = row_version + 1, updated_at = now() WHERE id = $1`, [run.id]);
+        await this.ctx.audit.record({ actor, action: 'run.load', entity: 'run', entityId: run.id, details }, m);
+      }
+      result.stored = true;
+    });
+    if (ev) emitRunEvent(this.ctx, ev as never);
+    const fresh = await this.ds.getRepository(RunEntity).findOneByOrFail({ id });
+    return { ...result!, run: await toRunDetail(this.ds.manager, fresh) };
+  }
+
+  /** Flags for a socket → serial map; assignments are the usable rows (stored only when nothing blocks). */
+  private async checkSockets(m: EntityManager, run: RunEntity, rig: RigEntity, map: Record<string, string>) {
+    const entries = Object.entries(map)
+      .map(([k, serial]) => ({ socket: Number(k), serial: serial.trim() }))
+      .sort((a, b) => a.socket - b.socket);
+    const flags: SocketFlag[] = [];
+    const flag = (socket: number, serial: string, problem: SocketFlag['problem'], message: string) =>
+      flags.push({ socket, serial, problem, blocking: problem !== 'empty', message });
+    const taken = await socketsTakenOnRig(m, rig.id, run.id);
+    const runLots = await m.find(RunLotEntity, { where: { runId: run.id } });
+    const lotIds = new Set(runLots.map((l) => l.lotId));
+    const lots = await m.find(LotEntity, { where: { id: In([...lotIds]) }, order: { code: 'ASC' } });
+    const serials = [...new Set(entries.map((e) => e.serial).filter(Boolean))];
+    const devices: Array<{ id: string; serial: string; lot_id: string; lot_code: string }> = serials.length
+      ? await m.query(`SELECT d.id, d.serial, d.lot_id, l.code AS lot_code FROM devices d JOIN lots l ON l.id = d.lot_id WHERE d.serial = ANY($1)`, [serials])
+      : [];
+    const busy: Array<{ device_id: string; code: string }> = devices.length
+      ? await m.query(
+          `SELECT s.device_id, r.code FROM run_sockets s JOIN runs r ON r.id = s.run_id
+           WHERE s.device_id = ANY($1) AND r.id <> $2 AND r.state NOT IN ('finished','aborted')`,
+          [devices.map((d) => d.id), run.id],
+        )
+      : [];
+    const busyBy = new Map(busy.map((b) => [b.device_id, b.code]));
+    const seen = new Map<string, number>();
+    const assignments: Array<{ socket: number; deviceId: string }> = [];
+    const lotList = lots.map((l) => l.code).join(', ');
+    for (const e of entries) {
+      if (e.socket >= rig.socketCount) {
+        flag(e.socket, e.serial, 'no-such-socket', `Socket ${e.socket} does not exist: ${rig.code} has sockets 0–${rig.socketCount - 1}.`);
+        continue;
+      }
+      if (!e.serial) {
+        flag(e.socket, '', 'empty', `Socket ${e.socket} is left empty.`);
+        continue;
+      }
+      if (taken.has(e.socket)) {
+        flag(e.socket, e.serial, 'socket-taken', `Socket ${e.socket} of ${rig.code} holds a device of run ${taken.get(e.socket)}.`);
+        continue;
+      }
+      const first = seen.get(e.serial);
+      if (first !== undefined) {
+        flag(e.socket, e.serial, 'duplicate', `Serial ${e.serial} is in socket ${first} already; one device cannot sit in two sockets.`);
+        continue;
+      }
+      seen.set(e.serial, e.socket);
+      const matches = devices.filter((d) => d.serial === e.serial);
+      const mine = matches.find((d) => lotIds.has(d.lot_id));
+      if (!mine) {
+        if (matches.length) {
+          flag(e.socket, e.serial, 'wrong-lot', `Serial ${e.serial} belongs to lot ${matches.map((d) => d.lot_code).join(' / ')}, not to this run's lot${lots.length === 1 ? '' : 's'} ${lotList}.`);
+        } else {
+          flag(e.socket, e.serial, 'unknown-serial', `Serial ${e.serial} is not registered in any lot.`);
+        }
+        continue;
+      }
+      const other = busyBy.get(mine.id);
+      if (other) {
+        flag(e.socket, e.serial, 'in-other-run', `Device ${e.serial} (${mine.lot_code}) is already loaded in run ${other}.`);
+        continue;
+      }
+      assignments.push({ socket: e.socket, deviceId: mine.id });
+    }
+    if (assignments.length > run.sampleSize) {
+      const extra = assignments[run.sampleSize];
+      flag(extra.socket, entries.find((e) => e.socket === extra.socket)?.serial ?? '', 'too-many', `The run is for ${run.sampleSize} devices; the map places ${assignments.length}.`);
+    }
+    flags.sort((a, b) => a.socket - b.socket);
+    return { flags, assignments };
+  }
+
+  // -------------------------------------------------------------------------------------------
+  // State changes by people
+
+  private async lockRun(m: EntityManager, id: string, rowVersion: number): Promise<RunEntity> {
+    const run = await m.findOne(RunEntity, { where: { id }, lock: { mode: 'pessimistic_write' } });
+    if (!run) throw notFound('The run');
+    if (run.rowVersion !== rowVersion) {
+      throw conflict(
+        `Run ${run.code} changed since you loaded it (it is now ${RUN_STATE_LABEL[run.state].toLowerCase()}, version ${run.rowVersion}). Reload and try again.`,
+        { rowVersion: run.rowVersion, state: run.state },
+      );
+    }
+    return run;
+  }
+
+  private refuseAction(run: RunEntity, action: RunAction): AppError {
+    return conflict(`Run ${run.code} is ${RUN_STATE_LABEL[run.state].toLowerCase()}; "${RUN_ACTION_LABEL[action]}" is not possible now.`);
+  }
+
+  async act(actor: SessionUser, id: string, action: Exclude<RunAction, 'load' | 'abort'>, input: RunActionInput): Promise<RunDetail>;
+  async act(actor: SessionUser, id: string, action: 'abort', input: AbortRunInput): Promise<RunDetail>;
+  async act(actor: SessionUser, id: string, action: Exclude<RunAction, 'load'>, input: RunActionInput | AbortRunInput): Promise<RunDetail> {
+    const events: unknown[] = [];
+    await this.ds.transaction(async (m) => {
+      const run = await this.lockRun(m, id, input.rowVersion);
+      if (!allowedActions(run.state).includes(action)) throw this.refuseAction(run, action);
+      const rig = run.rigId ? await m.findOneBy(RigEntity, { id: run.rigId }) : null;
+      const plan = await m.findOneByOrFail(StressPlanEntity, { id: run.planId });
+      const now = this.ctx.now();
+      const reason = input.reason?.trim() || null;
+      const reheat = async (): Promise<Partial<RunEntity>> => ({ heatingSince: now, accruedToSeq: rig ? await maxSeq(m, rig.id) : 0, accruedToClockS: null });
+      switch (action) {
+        case 'start': {
+          if (!rig) throw unprocessable(`Run ${run.code} has no rig.`);
+          await this.checkStart(m, run, rig, plan, now.getTime());
+          events.push(await transitionRun(m, this.deps, run, rig, 'heating', { startedAt: run.startedAt ?? now, ambientReachedAt: null, ...(await reheat()) }, {
+            actor, action: 'run.start', reason, details: { rig: rig.code, setC: plan.chamberC, humidityPct: plan.humidityPct },
+          }));
+          break;
+        }
+        case 'pause': {
+          if (run.state === 'stressing' && rig) {
+            // Count the telemetry that landed up to now before the pause (exact hours).
+            for (let k = 0; k < 20; k++) {
+              const out = await accrueStep(m, this.deps, run, plan, rig);
+              events.push(...out.events);
+              if (out.to) throw conflict(`Run ${run.code} reached a read point just now and is ${RUN_STATE_LABEL[run.state].toLowerCase()}; reload.`);
+              if (!out.more) break;
+            }
+          }
+          events.push(await transitionRun(m, this.deps, run, rig, 'paused', {}, { actor, action: 'run.pause', reason, details: { stressHours: run.stressHours } }));
+          break;
+        }
+        case 'resume': {
+          if (rig) await this.checkChamberFree(m, run, rig, plan);
+          events.push(await transitionRun(m, this.deps, run, rig, 'heating', { ambientReachedAt: null, ...(await reheat()) }, {
+            actor, action: 'run.resume', reason, details: { stressHours: run.stressHours },
+          }));
+          break;
+        }
+        case 'measurements-done': {
+          const rps = [...plan.readPointsH].sort((a, b) => a - b);
+          const at = rps[run.nextReadPoint - 1];
+          events.push(await transitionRun(m, this.deps, run, rig, 'heating', { ambientReachedAt: null, ...(await reheat()) }, {
+            actor, action: 'run.measurements-done', reason, details: { readPointH: at ?? null, stressHours: run.stressHours },
+          }));
+          break;
+        }
+        case 'abort': {
+          events.push(await transitionRun(m, this.deps, run, rig, 'aborted', { abortReason: reason, finishedAt: now }, {
+            actor, action: 'run.abort', reason, details: { stressHours: run.stressHours, wasState: run.state },
+          }));
+          break;
+        }
+      }
+    });
+    for (const e of events) emitRunEvent(this.ctx, e as never);
+    return this.get(id);
+  }
+
+  /** One chamber condition per oven: runs already heated in it must share the plan's set point. */
+  private async checkChamberFree(m: EntityManager, run: RunEntity, rig: RigEntity, plan: StressPlanEntity) {
+    const others = await m.find(RunEntity, { where: { rigId: rig.id, state: In([...HEAT_STATES, 'read-hold', 'cooling']), id: Not(run.id) } });
+    for (const o of others) {
+      const op = await m.findOneByOrFail(StressPlanEntity, { id: o.planId });
+      if (op.chamberC !== plan.chamberC || (op.humidityPct ?? null) !== (plan.humidityPct ?? null)) {
+        throw conflict(`Oven ${rig.code} holds run ${o.code} at ${condition(op)}; this plan needs ${condition(plan)}.`);
+      }
+    }
+  }
+
+  private async checkStart(m: EntityManager, run: RunEntity, rig: RigEntity, plan: StressPlanEntity, nowMs: number) {
+    if (!rig.active) throw unprocessable(`Oven ${rig.code} is decommissioned.`);
+    const loaded = await m.count(RunSocketEntity, { where: { runId: run.id } });
+    if (loaded !== run.sampleSize) {
+      throw unprocessable(`Load all ${run.sampleSize} devices before starting; ${loaded} socket${loaded === 1 ? ' is' : 's are'} loaded.`);
+    }
+    const maint = await m.find(RigMaintenanceEntity, { where: { rigId: rig.id } });
+    const now = maint.find((x) => x.startsAt.getTime() <= nowMs && x.endsAt.getTime() > nowMs);
+    if (now) throw conflict(`Oven ${rig.code} is in maintenance until ${when(now.endsAt.getTime())}${now.reason ? ` (${now.reason})` : ''}.`);
+    const refusals = staticRefusals(rig, needsOf(plan, run.sampleSize));
+    if (refusals.length) throw unprocessable(refusals.join(' '));
+    await this.checkChamberFree(m, run, rig, plan);
+  }
+}
+

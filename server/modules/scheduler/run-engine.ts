@@ -1,0 +1,230 @@
+/**
+ * The database steps that move a run along from its stored telemetry. Each runs inside the
+ * caller's transaction with the run row locked (SELECT … FOR UPDATE), so the scheduler's tick, the
+ * telemetry listener and a person's action (pause) never accrue the same sample twice.
+ *
+ * Accrual reads telemetry_batches / telemetry_samples with seq > runs.accrued_to_seq in seq order
+ * and stores hours + the new accrued_to_seq in the same statement group: after a restart every
+ * run continues exactly where the database says it stopped.
+ */
+import type { EntityManager } from 'typeorm';
+import {
+  accrualConditionsFor,
+  accrueInterval,
+  chamberBand,
+  HUMIDITY_TOLERANCE_RH,
+  type ClockSample,
+} from '../../../shared/scheduling';
+import { RUN_STATE_LABEL, type RunState } from '../../../shared/schemas/runs';
+import { RunEntity, RunSocketEntity, type RigEntity, type StressPlanEntity } from '../../db/entities';
+import type { AuditService } from '../audit/audit.service';
+import type { SessionUser } from '../../../shared/schemas/auth';
+import { MEASURE_WITHIN_H, type RunEvent } from '../runs/run-events';
+import { sortedReadPoints } from '../runs/run-view';
+import { batchAt, batchesAfter, firstInBand, socketSamples, toClockSample } from './telemetry-reads';
+
+/** A missing seq is waited for this long (it may still arrive from the rig's outbox) before it is skipped. */
+export const GAP_WAIT_MS = 30_000;
+/** Batches read per accrual step. */
+export const ACCRUAL_CHUNK = 500;
+
+type PendingEvent = RunEvent extends infer E ? (E extends RunEvent ? Omit<E, 'at'> & { at?: string } : never) : never;
+
+export interface EngineDeps {
+  audit: AuditService;
+  now: () => Date;
+}
+
+export interface StepOutcome {
+  /** Anything written (hours, seq, state). */
+  changed: boolean;
+  /** New state when the step changed it. */
+  to?: RunState;
+  /** Events to emit after commit. */
+  events: PendingEvent[];
+  /** More telemetry is waiting (call again). */
+  more?: boolean;
+}
+
+const base = (run: RunEntity, rig: RigEntity | null) => ({ runId: run.id, runCode: run.code, rigId: rig?.id ?? run.rigId, rigCode: rig?.code ?? null });
+
+/**
+ * Change state (row_version + 1) and audit it in the caller's transaction; returns the
+ * state-changed event to emit after commit.
+ */
+export async function transitionRun(
+  m: EntityManager,
+  deps: EngineDeps,
+  run: RunEntity,
+  rig: RigEntity | null,
+  to: RunState,
+  patch: Partial<RunEntity>,
+  audit: { actor: SessionUser | 'system'; action: string; reason?: string | null; details?: Record<string, unknown> },
+): Promise<PendingEvent> {
+  const from = run.state;
+  const at = deps.now();
+  await m.update(RunEntity, { id: run.id }, { ...patch, state: to, stateChangedAt: at });
+  await deps.audit.record(
+    {
+      actor: audit.actor,
+      action: audit.action,
+      entity: 'run',
+      entityId: run.id,
+      reason: audit.reason ?? null,
+      details: { from, to, fromLabel: RUN_STATE_LABEL[from], toLabel: RUN_STATE_LABEL[to], ...(audit.details ?? {}) },
+    },
+    m,
+  );
+  Object.assign(run, patch, { state: to, stateChangedAt: at, rowVersion: run.rowVersion + 1 });
+  return {
+    type: 'state-changed',
+    ...base(run, rig),
+    from,
+    to,
+    actor: audit.actor === 'system' ? 'system' : audit.actor.email,
+    reason: audit.reason ?? null,
+    at: at.toISOString(),
+  };
+}
+
+/** Index of the next read point after time zero. */
+export function firstReadPointIndex(readPointsH: number[]): number {
+  return sortedReadPoints({ readPointsH }).filter((h) => h <= 0).length;
+}
+
+/**
+ * Heating: find the first sample after the heating boundary (accrued_to_seq) with the chamber
+ * within ±3 % of set (and humidity within band). Found → stressing, accrual starts from that sample.
+ */
+export async function heatingStep(m: EntityManager, deps: EngineDeps, run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<StepOutcome> {
+  const band = chamberBand(plan.chamberC);
+  const hum = plan.humidityPct === null ? null : { lowPct: plan.humidityPct - HUMIDITY_TOLERANCE_RH, highPct: plan.humidityPct + HUMIDITY_TOLERANCE_RH };
+  const b = await firstInBand(m, rig.id, run.accruedToSeq, band, hum);
+  if (!b) return { changed: false, events: [] };
+  const ev = await transitionRun(m, deps, run, rig, 'stressing', { ambientReachedAt: deps.now(), accruedToSeq: b.seq, accruedToClockS: b.clockS }, {
+    actor: 'system',
+    action: 'run.ambient-reached',
+    details: { seq: b.seq, chamberC: b.chamberC, stressClockS: b.clockS, lowC: band.lowC, highC: band.highC },
+  });
+  return { changed: true, to: 'stressing', events: [ev] };
+}
+
+/**
+ * Stressing: accrue the telemetry after accrued_to_seq (one chunk), then stop at a read point
+ * (→ read-hold) or at the end of stress (→ cooling). Hours are added interval by interval in seq
+ * order, so the total does not depend on how the telemetry was chunked (or on restarts).
+ */
+export async function accrueStep(m: EntityManager, deps: EngineDeps, run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<StepOutcome> {
+  const now = deps.now();
+  const sockets = await m.find(RunSocketEntity, { where: { runId: run.id }, order: { socketIndex: 'ASC' } });
+  const socketIdx = sockets.map((s) => s.socketIndex);
+  const latched = new Set(sockets.filter((s) => s.tripped).map((s) => s.socketIndex));
+  const cond = accrualConditionsFor(plan);
+
+  const batches = await batchesAfter(m, rig.id, run.accruedToSeq, ACCRUAL_CHUNK);
+  if (!batches.length) return { changed: false, events: [] };
+  const fromSeq = run.accruedToSeq > 0 ? run.accruedToSeq : batches[0].seq;
+  const samples = await socketSamples(m, rig.id, fromSeq, batches[batches.length - 1].seq, socketIdx);
+  let prev: ClockSample | null = null;
+  if (run.accruedToSeq > 0) {
+    const pb = await batchAt(m, rig.id, run.accruedToSeq);
+    if (pb) prev = toClockSample(pb, samples.get(pb.seq) ?? []);
+  }
+
+  const rps = sortedReadPoints(plan);
+  let hours = run.stressHours;
+  const socketH = new Map(sockets.map((s) => [s.socketIndex, s.accruedHours]));
+  const touched = new Set<number>();
+  const newlyTripped = new Set<number>();
+  let lastSeq = run.accruedToSeq;
+  let lastClock = run.accruedToClockS;
+  let outcome: 'read-hold' | 'cooling' | null = null;
+  let holdIndex = -1;
+  let processed = 0;
+
+  for (const b of batches) {
+    if (prev && b.seq !== prev.seq + 1 && now.getTime() - b.storedAt.getTime() < GAP_WAIT_MS) break;
+    const cur = toClockSample(b, samples.get(b.seq) ?? []);
+    const r = accrueInterval(prev, cur, cond, socketIdx, latched);
+    hours = hours + r.runS / 3600;
+    for (const [k, s] of r.socketS) {
+      socketH.set(k, (socketH.get(k) ?? 0) + s / 3600);
+      touched.add(k);
+    }
+    for (const k of r.newlyTripped) {
+      latched.add(k);
+      newlyTripped.add(k);
+    }
+    prev = cur;
+    lastSeq = b.seq;
+    lastClock = b.clockS;
+    processed++;
+    if (hours >= plan.durationH) {
+      outcome = 'cooling';
+      break;
+    }
+    let idx = run.nextReadPoint;
+    while (idx < rps.length && rps[idx] <= 0) idx++;
+    if (idx < rps.length && rps[idx] < plan.durationH && hours >= rps[idx]) {
+      while (idx + 1 < rps.length && rps[idx + 1] < plan.durationH && hours >= rps[idx + 1]) idx++;
+      outcome = 'read-hold';
+      holdIndex = idx;
+      break;
+    }
+  }
+  if (!processed) return { changed: false, events: [] };
+
+  await m.query(`UPDATE runs SET stress_hours = $1, accrued_to_seq = $2, accrued_to_clock_s = $3 WHERE id = $4`, [hours, lastSeq, lastClock, run.id]);
+  run.stressHours = hours;
+  run.accruedToSeq = lastSeq;
+  run.accruedToClockS = lastClock;
+  const changedSockets = [...new Set([...touched, ...newlyTripped])];
+  if (changedSockets.length) {
+    await m.query(
+      `UPDATE run_sockets rs SET accrued_hours = v.h,
+         tripped = rs.tripped OR v.t,
+         tripped_at = CASE WHEN v.t AND NOT rs.tripped THEN $4::timestamptz ELSE rs.tripped_at END,
+         trip_reason = CASE WHEN v.t AND NOT rs.tripped THEN coalesce(rs.trip_reason, 'Tripped at the rig (seen in telemetry)') ELSE rs.trip_reason END
+       FROM unnest($1::int[], $2::float8[], $3::bool[]) AS v(socket, h, t)
+       WHERE rs.run_id = $5 AND rs.socket_index = v.socket`,
+      [changedSockets, changedSockets.map((k) => socketH.get(k) ?? 0), changedSockets.map((k) => newlyTripped.has(k)), now, run.id],
+    );
+  }
+
+  const events: PendingEvent[] = [];
+  if (outcome === 'cooling') {
+    const finalIdx = rps.findIndex((h) => h >= plan.durationH);
+    events.push(
+      await transitionRun(m, deps, run, rig, 'cooling', { nextReadPoint: rps.length, biasRemovedAt: now }, {
+        actor: 'system',
+        action: 'run.stress-complete',
+        details: { stressHours: hours, targetH: plan.durationH, seq: lastSeq },
+      }),
+    );
+    events.push(readPointDue(run, rig, finalIdx >= 0 ? rps[finalIdx] : plan.durationH, finalIdx, hours, now, true));
+  } else if (outcome === 'read-hold') {
+    events.push(
+      await transitionRun(m, deps, run, rig, 'read-hold', { nextReadPoint: holdIndex + 1, biasRemovedAt: now }, {
+        actor: 'system',
+        action: 'run.read-point',
+        details: { readPointH: rps[holdIndex], stressHours: hours, seq: lastSeq },
+      }),
+    );
+    events.push(readPointDue(run, rig, rps[holdIndex], holdIndex, hours, now, false));
+  }
+  return { changed: true, to: outcome ?? undefined, events, more: !outcome && processed === batches.length && batches.length === ACCRUAL_CHUNK };
+}
+
+function readPointDue(run: RunEntity, rig: RigEntity, readPointH: number, index: number, hours: number, at: Date, final: boolean): PendingEvent {
+  return {
+    type: 'read-point-due',
+    ...base(run, rig),
+    readPointH,
+    readPointIndex: index,
+    stressHours: hours,
+    biasRemovedAt: at.toISOString(),
+    measureBy: new Date(at.getTime() + MEASURE_WITHIN_H * 3_600_000).toISOString(),
+    final,
+    at: at.toISOString(),
+  };
+}

@@ -1,0 +1,444 @@
+/**
+ * The run scheduler: every second (node-cron 4) and whenever telemetry lands, it drives each run
+ * the rig holds:
+ *   heating   — chamber set point (cmdId run:<id>:heat:<phase>); → stressing once a stored sample
+ *               is within ±3 % of set; 'ambient-not-reached' after 5 stress-clock hours;
+ *   stressing — bias on for the run's sockets (run:<id>:bias:<phase>); accrue hours from the
+ *               database; at a read point → read-hold, at the plan's hours → cooling;
+ *   paused / read-hold / cooling / just aborted — bias off (run:<id>:off:…); the chamber goes to
+ *               ambient when no other run in the oven needs the heat (run:<id>:cool:…);
+ *   cooling   — → finished once bias is off and the chamber is at or below 40 °C (or the oven
+ *               stays hot for another run).
+ * Before any command it compares the rig's last stored report with what it wants, so a restarted
+ * server sends nothing the rig already did. It also re-plans booked runs when a rig goes offline
+ * or a running run overruns its booked end.
+ */
+import cron, { type ScheduledTask } from 'node-cron';
+import { In, IsNull, MoreThan, Not, type EntityManager } from 'typeorm';
+import { chamberBand, planBiasV, planSchedule, socketBiased, accrualConditionsFor, type Job, when } from '../../../shared/scheduling';
+import { DRIVEN_STATES, HEAT_STATES, type RunState } from '../../../shared/schemas/runs';
+import type { AppContext } from '../../context';
+import { AuditLogEntity, RigEntity, RunEntity, RunSocketEntity, StressPlanEntity } from '../../db/entities';
+import { emitRunEvent } from '../runs/run-events';
+import { loadSchedulingInputs, projectedWindow, timingFrom } from '../runs/scheduling-data';
+import { RIG_LINK, RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigCommandBody, type RigLink, type RigStatusChanged } from '../telemetry/contracts';
+import { CommandTracker } from './commands';
+import { accrueStep, heatingStep, transitionRun, type EngineDeps, type StepOutcome } from './run-engine';
+import { clockElapsedS, latestBatch, socketSamples, type BatchRow } from './telemetry-reads';
+
+export const AMBIENT_LIMIT_H = 5;
+export const AMBIENT_C = 25;
+export const COOL_SAFE_C = 40;
+/** Aborted runs keep being made safe (bias off) for this long after the abort. */
+const ABORT_SAFE_WINDOW_MS = 24 * 3_600_000;
+
+export interface SchedulerOptions {
+  /** Defaults to ctx.services.rigLink (looked up on every command). */
+  rigLink?: () => RigLink | undefined;
+  /** Cron expression of the tick (default every second). Null: no cron (tests call pass()). */
+  cronExpression?: string | null;
+  /** Listen to TELEMETRY_LANDED / RIG_STATUS_CHANGED (default true). */
+  listen?: boolean;
+  /** Pause between back-to-back passes when telemetry keeps landing (default 200 ms; spares the CPU). */
+  minPassGapMs?: number;
+  /** Minimum ms between two exact "ambient reached yet?" clock sums for one heating phase (default 2000). */
+  ambientCheckEveryMs?: number;
+  log?: (line: string) => void;
+}
+
+const b36 = (d: Date | null | undefined) => (d ? d.getTime().toString(36) : '0');
+
+type Want = { cmdId: string; cmd: RigCommandBody; satisfied: boolean };
+
+export class RunScheduler {
+  readonly commands: CommandTracker;
+  private readonly deps: EngineDeps;
+  private task: ScheduledTask | null = null;
+  private running: Promise<void> | null = null;
+  private again = false;
+  private stopped = false;
+  private readonly offListeners: Array<() => void> = [];
+  private readonly ambientCheckedAt = new Map<string, number>();
+  private lastReplanAt = 0;
+  private replanWanted: string | null = null;
+  private readonly log: (line: string) => void;
+
+  constructor(private readonly ctx: AppContext, private readonly opts: SchedulerOptions = {}) {
+    const link = opts.rigLink ?? (() => ctx.services[RIG_LINK] as RigLink | undefined);
+    this.deps = { audit: ctx.audit, now: () => ctx.now() };
+    this.log = opts.log ?? ((l) => console.log(`[scheduler] ${l}`));
+    this.commands = new CommandTracker(link, () => ctx.now().getTime(), (o, cmd) => void this.reportFailure(o.cmdId, o.rigCode, cmd, o.attempts, o.error ?? ''));
+  }
+
+  start(): void {
+    this.stopped = false;
+    const expr = this.opts.cronExpression === undefined ? '* * * * * *' : this.opts.cronExpression;
+    if (expr) {
+      // node-cron 4: `scheduled: false` is ignored; createTask() + start() is the way.
+      this.task = cron.createTask(expr, () => this.kick(), { name: 'emberlot-run-scheduler', noOverlap: true });
+      void this.task.start();
+    }
+    if (this.opts.listen !== false) {
+      const onLanded = () => this.kick();
+      const onStatus = (s: RigStatusChanged) => {
+        if (!s.online) this.requestReplan(`Oven ${s.rigCode} went offline`);
+        this.kick();
+      };
+      this.ctx.events.on(TELEMETRY_LANDED, onLanded);
+      this.ctx.events.on(RIG_STATUS_CHANGED, onStatus);
+      this.offListeners.push(() => this.ctx.events.off(TELEMETRY_LANDED, onLanded), () => this.ctx.events.off(RIG_STATUS_CHANGED, onStatus));
+    }
+    this.kick();
+  }
+
+  async stop(): Promise<void> {
+    this.stopped = true;
+    if (this.task) {
+      await this.task.stop();
+      await this.task.destroy();
+      this.task = null;
+    }
+    for (const off of this.offListeners.splice(0)) off();
+    await this.running?.catch(() => undefined);
+    await this.commands.settled();
+  }
+
+  /** Ask for a pass; passes never overlap, a request during one runs another right after. */
+  kick(): void {
+    if (this.stopped) return;
+    if (this.running) {
+      this.again = true;
+      return;
+    }
+    this.running = (async () => {
+      try {
+        do {
+          this.again = false;
+          await this.pass();
+          if (this.again && !this.stopped) await new Promise((r) => setTimeout(r, this.opts.minPassGapMs ?? 200));
+        } while (this.again && !this.stopped);
+      } catch (e) {
+        this.log(`pass failed: ${e instanceof Error ? e.message : String(e)}`);
+      } finally {
+        this.running = null;
+      }
+    })();
+  }
+
+  /** Wait until no pass runs and every command has its answer (tests). */
+  async idle(): Promise<void> {
+    for (let k = 0; k < 50; k++) {
+      await this.running;
+      await this.commands.settled();
+      if (!this.running) return;
+    }
+  }
+
+  requestReplan(why: string): void {
+    this.replanWanted = why;
+  }
+
+  /** One pass over every run the scheduler drives. */
+  async pass(): Promise<void> {
+    const now = this.ctx.now();
+    const runs = await this.ctx.ds.getRepository(RunEntity).find({
+      where: [
+        { state: In([...DRIVEN_STATES]) },
+        { state: 'aborted', startedAt: Not(IsNull()), finishedAt: MoreThan(new Date(now.getTime() - ABORT_SAFE_WINDOW_MS)) },
+      ],
+      order: { createdAt: 'ASC' },
+    });
+    const wanted = new Set<string>();
+    for (const r of runs) {
+      if (!r.rigId || (r.state === 'aborted' && !r.startedAt)) continue;
+      try {
+        for (const id of await this.drive(r.id)) wanted.add(id);
+      } catch (e) {
+        this.log(`run ${r.code}: ${e instanceof Error ? e.message : String(e)}`);
+      }
+    }
+    this.commands.forgetExcept(wanted);
+    await this.maybeReplan(runs);
+  }
+
+  /** Drive one run: DB steps first (locked), then the commands its (new) state wants. */
+  async drive(runId: string): Promise<string[]> {
+    const events: StepOutcome['events'] = [];
+    for (let k = 0; k < 40; k++) {
+      const out = await this.ctx.ds.transaction(async (m) => {
+        const run = await m.findOne(RunEntity, { where: { id: runId }, lock: { mode: 'pessimistic_write' } });
+        if (!run || !run.rigId) return null;
+        const plan = await m.findOneByOrFail(StressPlanEntity, { id: run.planId });
+        const rig = await m.findOneByOrFail(RigEntity, { id: run.rigId });
+        if (run.state === 'heating') return heatingStep(m, this.deps, run, plan, rig);
+        if (run.state === 'stressing') return accrueStep(m, this.deps, run, plan, rig);
+        if (run.state === 'cooling') return this.coolingStep(m, run, plan, rig);
+        return null;
+      });
+      if (!out) break;
+      events.push(...out.events);
+      if (!out.changed || (!out.to && !out.more)) break;
+    }
+    for (const e of events) emitRunEvent(this.ctx, e);
+    const run = await this.ctx.ds.getRepository(RunEntity).findOneBy({ id: runId });
+    if (!run || !run.rigId) return [];
+    const plan = await this.ctx.ds.getRepository(StressPlanEntity).findOneByOrFail({ id: run.planId });
+    const rig = await this.ctx.ds.getRepository(RigEntity).findOneByOrFail({ id: run.rigId });
+    if (run.state === 'heating') await this.checkAmbient(run, plan, rig);
+    const wants = await this.wants(run, plan, rig);
+    for (const w of wants) this.commands.ensure(rig.code, w.cmdId, w.cmd, w.satisfied);
+    return wants.map((w) => w.cmdId);
+  }
+
+  // -------------------------------------------------------------------------------------------
+
+  /** Does another run in this oven need the chamber hot? */
+  private async ovenShared(run: RunEntity): Promise<boolean> {
+    return (await this.ctx.ds.getRepository(RunEntity).count({ where: { rigId: run.rigId!, id: Not(run.id), state: In([...HEAT_STATES]) } })) > 0;
+  }
+
+  /** The commands this run's state wants, each with "is the rig already there?". */
+  private async wants(run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<Want[]> {
+    const m = this.ctx.ds.manager;
+    const latest = await latestBatch(m, rig.id);
+    const sockets = await m.find(RunSocketEntity, { where: { runId: run.id }, order: { socketIndex: 'ASC' } });
+    const live = sockets.filter((s) => !s.tripped).map((s) => s.socketIndex);
+    const all = sockets.map((s) => s.socketIndex);
+    const readings = latest ? (await socketSamples(m, rig.id, latest.seq, latest.seq, all)).get(latest.seq) ?? [] : [];
+    const reading = new Map(readings.map((r) => [r.socket, r]));
+    const cond = accrualConditionsFor(plan);
+    const setpointIs = (c: number, b: BatchRow | null) => !!b && Math.abs(b.setpointC - c) < 0.05;
+    const out: Want[] = [];
+    const heat = (): Want => ({
+      cmdId: `run:${run.id}:heat:${b36(run.heatingSince)}`,
+      cmd: { type: 'setpoint', setpointC: plan.chamberC, ...(plan.humidityPct !== null ? { humidityPct: plan.humidityPct } : {}) } as RigCommandBody,
+      satisfied: setpointIs(plan.chamberC, latest),
+    });
+    const off = (phase: string): Want | null =>
+      all.length
+        ? {
+            cmdId: `run:${run.id}:off:${phase}`,
+            cmd: { type: 'bias', sockets: all, on: false } as RigCommandBody,
+            satisfied: !!latest && all.every((k) => { const r = reading.get(k); return !r || !r.biasOn || r.tripped; }),
+          }
+        : null;
+    const cool = async (phase: string): Promise<Want | null> =>
+      (await this.ovenShared(run))
+        ? null
+        : {
+            cmdId: `run:${run.id}:cool:${phase}`,
+            cmd: { type: 'setpoint', setpointC: AMBIENT_C, ...(plan.humidityPct !== null ? { humidityPct: null } : {}) } as RigCommandBody,
+            satisfied: !!latest && latest.setpointC <= AMBIENT_C + 0.05,
+          };
+    switch (run.state as RunState) {
+      case 'heating':
+        out.push(heat());
+        break;
+      case 'stressing': {
+        out.push(heat());
+        if (live.length) {
+          const biasV = planBiasV(plan);
+          const iA = plan.kind === 'hotl' || plan.kind === 'iol' ? plan.bias.ibA : null;
+          out.push({
+            cmdId: `run:${run.id}:bias:${b36(run.ambientReachedAt)}`,
+            cmd: { type: 'bias', sockets: live, on: true, ...(biasV !== null ? { vV: biasV } : {}), ...(iA !== null && iA !== undefined ? { iA } : {}) } as RigCommandBody,
+            satisfied: !!latest && live.every((k) => socketBiased(reading.get(k), cond) || reading.get(k)?.tripped === true),
+          });
+        }
+        break;
+      }
+      case 'paused': {
+        const o = off(`p${b36(run.stateChangedAt)}`);
+        if (o) out.push(o);
+        break;
+      }
+      case 'read-hold': {
+        const o = off(`rp${run.nextReadPoint - 1}`);
+        if (o) out.push(o);
+        const c = await cool(`rp${run.nextReadPoint - 1}`);
+        if (c) out.push(c);
+        break;
+      }
+      case 'cooling':
+      case 'aborted': {
+        const o = off('end');
+        if (o) out.push(o);
+        const c = await cool('end');
+        if (c) out.push(c);
+        break;
+      }
+      default:
+        break;
+    }
+    return out;
+  }
+
+  /** Cooling → finished once the bias is off and the chamber is safe to open (or kept hot for another run). */
+  private async coolingStep(m: EntityManager, run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<StepOutcome> {
+    const latest = await latestBatch(m, rig.id);
+    const sockets = (await m.find(RunSocketEntity, { where: { runId: run.id } })).map((s) => s.socketIndex);
+    const readings = latest ? (await socketSamples(m, rig.id, latest.seq, latest.seq, sockets)).get(latest.seq) ?? [] : [];
+    const biasOff =
+      this.commands.acked(`run:${run.id}:off:end`) ||
+      (!!latest && latest.seq > run.accruedToSeq && sockets.every((k) => { const r = readings.find((x) => x.socket === k); return !r || !r.biasOn || r.tripped; }));
+    if (!biasOff) return { changed: false, events: [] };
+    const shared = (await m.count(RunEntity, { where: { rigId: rig.id, id: Not(run.id), state: In([...HEAT_STATES]) } })) > 0;
+    if (!shared && !(latest && latest.chamberC <= COOL_SAFE_C)) return { changed: false, events: [] };
+    const ev = await transitionRun(m, this.deps, run, rig, 'finished', { finishedAt: this.ctx.now() }, {
+      actor: 'system',
+      action: 'run.finish',
+      details: { stressHours: run.stressHours, targetH: plan.durationH, chamberC: latest?.chamberC ?? null, ovenKeptHot: shared },
+    });
+    return { changed: true, to: 'finished', events: [ev] };
+  }
+
+  /** 'ambient-not-reached' once per heating phase when 5 stress-clock hours pass without the band. */
+  private async checkAmbient(run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<void> {
+    const key = `${run.id}:${b36(run.heatingSince)}`;
+    const nowMs = this.ctx.now().getTime();
+    const last = this.ambientCheckedAt.get(key);
+    if (last === -1 || (last !== undefined && nowMs - last < (this.opts.ambientCheckEveryMs ?? 2000))) return;
+    this.ambientCheckedAt.set(key, nowMs);
+    const { elapsedS, lastChamberC } = await clockElapsedS(this.ctx.ds.manager, rig.id, run.accruedToSeq);
+    if (elapsedS < AMBIENT_LIMIT_H * 3600) return;
+    const heatingSince = run.heatingSince?.toISOString() ?? null;
+    const done = await this.ctx.ds.getRepository(AuditLogEntity).findOne({ where: { entity: 'run', entityId: run.id, action: 'run.ambient-overdue' }, order: { id: 'DESC' } });
+    this.ambientCheckedAt.set(key, -1);
+    if (done && done.details?.heatingSince === heatingSince) return;
+    const band = chamberBand(plan.chamberC);
+    await this.ctx.audit.record({
+      actor: 'system',
+      action: 'run.ambient-overdue',
+      entity: 'run',
+      entityId: run.id,
+      reason: `The chamber did not reach ${+band.lowC.toFixed(2)}–${+band.highC.toFixed(2)} °C within ${AMBIENT_LIMIT_H} stress hours of heating.`,
+      details: { heatingSince, elapsedStressH: elapsedS / 3600, lastChamberC },
+    });
+    emitRunEvent(this.ctx, {
+      type: 'ambient-not-reached',
+      runId: run.id,
+      runCode: run.code,
+      rigId: rig.id,
+      rigCode: rig.code,
+      heatingSince: heatingSince ?? '',
+      elapsedStressH: elapsedS / 3600,
+      limitH: AMBIENT_LIMIT_H,
+      setC: plan.chamberC,
+      lowC: band.lowC,
+      highC: band.highC,
+      lastChamberC,
+    });
+  }
+
+  private async reportFailure(cmdId: string, rigCode: string, cmd: RigCommandBody, attempts: number, error: string): Promise<void> {
+    const runId = /^run:([0-9a-f-]{36}):/.exec(cmdId)?.[1];
+    if (!runId) return;
+    const run = await this.ctx.ds.getRepository(RunEntity).findOneBy({ id: runId }).catch(() => null);
+    if (!run) return;
+    this.log(`command ${cmdId} to ${rigCode} failed ${attempts}×: ${error}`);
+    emitRunEvent(this.ctx, {
+      type: 'command-failed',
+      runId,
+      runCode: run.code,
+      rigId: run.rigId,
+      rigCode,
+      cmdId,
+      command: cmd.type === 'setpoint' ? 'setpoint' : 'bias',
+      attempts,
+      error,
+    });
+  }
+
+  // -------------------------------------------------------------------------------------------
+  // Re-planning booked runs
+
+  private async maybeReplan(driven: RunEntity[]): Promise<void> {
+    const nowMs = this.ctx.now().getTime();
+    if (nowMs - this.lastReplanAt < 10_000 && !this.replanWanted) return;
+    const t = timingFrom(this.ctx.config);
+    let why = this.replanWanted;
+    if (!why) {
+      // Overrun: a running run whose projected end passed its booked end (beyond 1 % of its length).
+      for (const r of driven.filter((x) => x.state !== 'aborted' && x.scheduledEnd && x.scheduledStart)) {
+        const plan = await this.ctx.ds.getRepository(StressPlanEntity).findOneByOrFail({ id: r.planId });
+        const w = projectedWindow(r, plan, nowMs, t);
+        const len = r.scheduledEnd!.getTime() - r.scheduledStart!.getTime();
+        if (w.endMs > r.scheduledEnd!.getTime() + Math.max(0.01 * len, t.msPerClockH)) {
+          const bookedNext = await this.ctx.ds.getRepository(RunEntity).count({ where: { rigId: r.rigId!, state: 'booked' } });
+          if (bookedNext) {
+            why = `${r.code} overran its booked end (${when(r.scheduledEnd!.getTime())})`;
+            // An estimate, not a state change: no row_version bump (people's actions stay valid).
+            await this.ctx.ds.query(`UPDATE runs SET scheduled_end = $1 WHERE id = $2`, [new Date(w.endMs), r.id]);
+            break;
+          }
+        }
+      }
+    }
+    this.lastReplanAt = nowMs;
+    this.replanWanted = null;
+    if (why) await this.replan(why);
+  }
+
+  /**
+   * LPT list scheduling of every booked run around the runs on the rigs; offline rigs take no
+   * booked run except the one it already had. A moved run is audited with the reason.
+   */
+  async replan(why: string): Promise<number> {
+    const nowMs = this.ctx.now().getTime();
+    const t = timingFrom(this.ctx.config);
+    return this.ctx.ds.transaction(async (m) => {
+      await m.query('SELECT pg_advisory_xact_lock($1)', [478_001]);
+      const inputs = await loadSchedulingInputs(m, nowMs, t);
+      const booked = inputs.runs.filter((r) => r.state === 'booked');
+      if (!booked.length) return 0;
+      const fixed = inputs.commitments.filter((c) => !booked.some((b) => b.id === c.runId));
+      const jobs: Job[] = booked.map((r) => {
+        const p = inputs.plans.get(r.planId)!;
+        return {
+          id: r.id,
+          code: r.code,
+          chamberC: p.chamberC,
+          humidityPct: p.humidityPct,
+          biasV: planBiasV(p),
+          sampleSize: r.sampleSize,
+          durationH: p.durationH,
+          readPointsH: p.readPointsH,
+          rigIds: inputs.rigs.filter((g) => g.online || g.id === r.rigId).map((g) => g.id),
+        };
+      });
+      const plan = planSchedule(jobs, inputs.rigs.map((r) => ({ ...r })), fixed, inputs.maintenance, nowMs, t);
+      let moved = 0;
+      for (const a of plan.assignments) {
+        const r = booked.find((b) => b.id === a.jobId)!;
+        if (r.rigId === a.rigId && r.scheduledStart?.getTime() === a.startMs) continue;
+        await m.update(RunEntity, { id: r.id }, { rigId: a.rigId, scheduledStart: new Date(a.startMs), scheduledEnd: new Date(a.endMs) });
+        const fromRig = inputs.rigs.find((g) => g.id === r.rigId)?.code ?? null;
+        await this.ctx.audit.record(
+          {
+            actor: 'system',
+            action: 'run.replan',
+            entity: 'run',
+            entityId: r.id,
+            reason: why,
+            details: { fromRig, toRig: a.rigCode, fromStart: r.scheduledStart?.toISOString() ?? null, toStart: new Date(a.startMs).toISOString(), toEnd: new Date(a.endMs).toISOString() },
+          },
+          m,
+        );
+        moved++;
+      }
+      if (moved) this.log(`re-planned ${moved} booked run(s): ${why}`);
+      return moved;
+    });
+  }
+}
+
+/** Start the scheduler for the API process; returns its stop function. */
+export function startScheduler(ctx: AppContext, opts: SchedulerOptions = {}): () => Promise<void> {
+  const s = new RunScheduler(ctx, opts);
+  ctx.services.scheduler = s;
+  s.start();
+  return async () => {
+    await s.stop();
+    if (ctx.services.scheduler === s) delete ctx.services.scheduler;
+  };
+}

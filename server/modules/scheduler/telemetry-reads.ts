@@ -1,0 +1,102 @@
+/** Read-only queries on stored telemetry that the scheduler needs (rows in seq order). */
+import type { EntityManager } from 'typeorm';
+import type { Band, ClockSample, SocketSample } from '../../../shared/scheduling';
+
+export interface BatchRow {
+  seq: number;
+  clockS: number;
+  chamberC: number;
+  humidityPct: number | null;
+  setpointC: number;
+  storedAt: Date;
+}
+
+const toBatch = (r: Record<string, any>): BatchRow => ({
+  seq: Number(r.seq),
+  clockS: Number(r.stress_clock_s),
+  chamberC: Number(r.chamber_c),
+  humidityPct: r.humidity_pct === null ? null : Number(r.humidity_pct),
+  setpointC: Number(r.setpoint_c),
+  storedAt: r.stored_at instanceof Date ? r.stored_at : new Date(r.stored_at),
+});
+
+const COLS = 'seq, stress_clock_s, chamber_c, humidity_pct, setpoint_c, stored_at';
+
+export async function maxSeq(m: EntityManager, rigId: string): Promise<number> {
+  const [r] = await m.query(`SELECT coalesce(max(seq), 0) AS s FROM telemetry_batches WHERE rig_id = $1`, [rigId]);
+  return Number(r.s);
+}
+
+export async function latestBatch(m: EntityManager, rigId: string): Promise<BatchRow | null> {
+  const rows = await m.query(`SELECT ${COLS} FROM telemetry_batches WHERE rig_id = $1 ORDER BY seq DESC LIMIT 1`, [rigId]);
+  return rows.length ? toBatch(rows[0]) : null;
+}
+
+export async function batchAt(m: EntityManager, rigId: string, seq: number): Promise<BatchRow | null> {
+  const rows = await m.query(`SELECT ${COLS} FROM telemetry_batches WHERE rig_id = $1 AND seq = $2`, [rigId, seq]);
+  return rows.length ? toBatch(rows[0]) : null;
+}
+
+export async function batchesAfter(m: EntityManager, rigId: string, afterSeq: number, limit: number): Promise<BatchRow[]> {
+  const rows = await m.query(`SELECT ${COLS} FROM telemetry_batches WHERE rig_id = $1 AND seq > $2 ORDER BY seq LIMIT $3`, [rigId, afterSeq, limit]);
+  return rows.map(toBatch);
+}
+
+/** Socket readings of the given sockets for seqs in [fromSeq, toSeq], grouped by seq. */
+export async function socketSamples(m: EntityManager, rigId: string, fromSeq: number, toSeq: number, sockets: number[]): Promise<Map<number, SocketSample[]>> {
+  const out = new Map<number, SocketSample[]>();
+  if (!sockets.length || toSeq < fromSeq) return out;
+  const rows: Array<Record<string, any>> = await m.query(
+    `SELECT seq, socket, v_v, bias_on, tripped FROM telemetry_samples
+     WHERE rig_id = $1 AND seq >= $2 AND seq <= $3 AND socket = ANY($4::smallint[]) ORDER BY seq, socket`,
+    [rigId, fromSeq, toSeq, sockets],
+  );
+  for (const r of rows) {
+    const seq = Number(r.seq);
+    const list = out.get(seq) ?? [];
+    list.push({ socket: Number(r.socket), vV: Number(r.v_v), biasOn: Boolean(r.bias_on), tripped: Boolean(r.tripped) });
+    out.set(seq, list);
+  }
+  return out;
+}
+
+export const toClockSample = (b: BatchRow, sockets: SocketSample[] = []): ClockSample => ({
+  seq: b.seq,
+  clockS: b.clockS,
+  chamberC: b.chamberC,
+  humidityPct: b.humidityPct,
+  sockets,
+});
+
+/** First batch after `afterSeq` with the chamber (and humidity) inside the band. */
+export async function firstInBand(
+  m: EntityManager,
+  rigId: string,
+  afterSeq: number,
+  band: Band,
+  humidity: { lowPct: number; highPct: number } | null,
+): Promise<BatchRow | null> {
+  const params: unknown[] = [rigId, afterSeq, band.lowC, band.highC];
+  let extra = '';
+  if (humidity) {
+    params.push(humidity.lowPct, humidity.highPct);
+    extra = ' AND humidity_pct BETWEEN $5 AND $6';
+  }
+  const rows = await m.query(
+    `SELECT ${COLS} FROM telemetry_batches WHERE rig_id = $1 AND seq > $2 AND chamber_c BETWEEN $3 AND $4${extra} ORDER BY seq LIMIT 1`,
+    params,
+  );
+  return rows.length ? toBatch(rows[0]) : null;
+}
+
+/** Stress-clock seconds elapsed from batch `fromSeq` on (sum of forward steps; a reboot adds nothing). */
+export async function clockElapsedS(m: EntityManager, rigId: string, fromSeq: number): Promise<{ elapsedS: number; lastChamberC: number | null }> {
+  const [r] = await m.query(
+    `SELECT coalesce(sum(greatest(d, 0)), 0) AS elapsed,
+            (SELECT chamber_c FROM telemetry_batches WHERE rig_id = $1 ORDER BY seq DESC LIMIT 1) AS last_c
+     FROM (SELECT stress_clock_s - lag(stress_clock_s) OVER (ORDER BY seq) AS d
+           FROM telemetry_batches WHERE rig_id = $1 AND seq >= $2) x`,
+    [rigId, fromSeq],
+  );
+  return { elapsedS: Number(r.elapsed), lastChamberC: r.last_c === null ? null : Number(r.last_c) };
+}

@@ -1,0 +1,105 @@
+/**
+ * Demo runs that keep the floor moving (after the history step): one under stress and one heating
+ * on demo rigs (the scheduler picks them up and commands the simulated rigs), one being loaded,
+ * and one booked for later. Devices are the lots' spares not used by the history runs.
+ * Each spec is checked against its rig with the same constraint checks as a booking; a spec that
+ * does not fit (a changed demo rig) is skipped with a log line rather than stored wrong.
+ */
+import type { DataSource, EntityManager } from 'typeorm';
+import { In, Not } from 'typeorm';
+import { planBiasV, runDurationMs, staticRefusals } from '../../shared/scheduling';
+import type { PlanKind } from '../../shared/schemas/plans';
+import type { RunState } from '../../shared/schemas/runs';
+import { configFromEnv } from '../config';
+import { AuditLogEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunEntity, RunLotEntity, RunSocketEntity, StressPlanEntity, UserEntity } from '../db/entities';
+import { timingFrom } from '../modules/runs/scheduling-data';
+import { firstReadPointIndex } from '../modules/scheduler/run-engine';
+
+interface DemoLiveRun {
+  code: string;
+  partNumber: string;
+  kind: PlanKind;
+  lots: string[];
+  rig: string;
+  state: Extract<RunState, 'booked' | 'loading' | 'heating' | 'stressing'>;
+  /** Devices per lot, taken after the first `skip` serials of each lot (the history used those). */
+  perLot: number;
+  skip: number;
+  /** Sockets loaded (loading state); default all. */
+  loaded?: number;
+  stressHours?: number;
+  /** Booked runs: start this many stress-clock hours from now. */
+  startsInH?: number;
+}
+
+const DEMO_LIVE_RUNS: DemoLiveRun[] = [
+  { code: 'THB-2612-G', partNumber: 'HPD-7N400', kind: 'thb', lots: ['HG2612-G'], rig: 'HC-05', state: 'stressing', perLot: 40, skip: 0, stressHours: 120 },
+  { code: 'HOTL-2609-D-2', partNumber: 'HPD-3P90', kind: 'hotl', lots: ['HG2609-D'], rig: 'OV-03', state: 'heating', perLot: 40, skip: 45 },
+  { code: 'IOL-2605-H', partNumber: 'HPD-S230', kind: 'iol', lots: ['HG2605-H'], rig: 'OV-06', state: 'loading', perLot: 32, skip: 0, loaded: 20 },
+  { code: 'HTRB-2611-A+1', partNumber: 'HPD-2N140', kind: 'htrb', lots: ['HG2611-A', 'HG2611-B'], rig: 'OV-02', state: 'booked', perLot: 24, skip: 64, startsInH: 6 },
+];
+
+async function insertLiveRun(m: EntityManager, s: DemoLiveRun, engineer: UserEntity | null, operator: UserEntity | null, log: (l: string) => void) {
+  const type = await m.findOne(DeviceTypeEntity, { where: { partNumber: s.partNumber } });
+  const rig = await m.findOne(RigEntity, { where: { code: s.rig } });
+  const lots = await m.find(LotEntity, { where: { code: In(s.lots) }, order: { code: 'ASC' } });
+  if (!type || !rig || lots.length !== s.lots.length) return log(`[seed] runs: ${s.code} skipped (demo data missing)`);
+  const plans = await m.find(StressPlanEntity, { where: { deviceTypeId: type.id, kind: s.kind, current: true }, order: { createdAt: 'ASC' } });
+  const plan = plans.find((p) => !/draft/i.test(p.name));
+  if (!plan) return log(`[seed] runs: ${s.code} skipped (no ${s.kind} plan for ${s.partNumber})`);
+  const sampleSize = s.perLot * lots.length;
+  const refusals = staticRefusals(rig, { chamberC: plan.chamberC, humidityPct: plan.humidityPct, biasV: planBiasV(plan), sampleSize, durationH: plan.durationH, readPointsH: plan.readPointsH });
+  if (refusals.length) return log(`[seed] runs: ${s.code} skipped: ${refusals.join(' ')}`);
+  const busy = await m.count(RunEntity, { where: { rigId: rig.id, state: Not(In(['finished', 'aborted', 'booked'])) } });
+  if (busy && s.state !== 'booked') return log(`[seed] runs: ${s.code} skipped (${rig.code} is in use)`);
+
+  const timing = timingFrom(configFromEnv());
+  const now = Date.now();
+  const hours = s.stressHours ?? 0;
+  const startMs = s.state === 'booked' ? now + (s.startsInH ?? 6) * timing.msPerClockH : now - (hours + timing.heatingAllowanceH) * timing.msPerClockH;
+  const endMs = startMs + runDurationMs(plan, timing);
+  const rps = [...plan.readPointsH].sort((a, b) => a - b);
+  const started = s.state === 'heating' || s.state === 'stressing';
+  const run = await m.save(
+    m.create(RunEntity, {
+      code: s.code,
+      planId: plan.id,
+      rigId: rig.id,
+      state: s.state,
+      sampleSize,
+      scheduledStart: new Date(startMs),
+      scheduledEnd: new Date(endMs),
+      startedAt: started ? new Date(startMs) : null,
+      stateChangedAt: new Date(started ? now - hours * timing.msPerClockH : now),
+      stressHours: hours,
+      nextReadPoint: Math.max(firstReadPointIndex(plan.readPointsH), rps.filter((h) => h <= hours).length),
+      heatingSince: started ? new Date(s.state === 'heating' ? now : startMs) : null,
+      ambientReachedAt: s.state === 'stressing' ? new Date(startMs + timing.heatingAllowanceH * timing.msPerClockH) : null,
+      createdById: engineer?.id ?? null,
+    }),
+  );
+  await m.insert(RunLotEntity, lots.map((l) => ({ runId: run.id, lotId: l.id })));
+  const audit = (actor: UserEntity | null, action: string, details: Record<string, unknown>) =>
+    m.insert(AuditLogEntity, { actorId: actor?.id ?? null, actor: actor?.email ?? 'system', action, entity: 'run', entityId: run.id, reason: null, details: { seeded: true, ...details } as Record<string, any> });
+  await audit(engineer, 'run.book', { code: s.code, rig: rig.code, sampleSize, lots: lots.map((l) => l.code), planName: plan.name, planVersion: plan.version });
+  if (s.state === 'booked') return;
+
+  const devices: DeviceEntity[] = [];
+  for (const l of lots) devices.push(...(await m.find(DeviceEntity, { where: { lotId: l.id }, order: { serial: 'ASC' }, skip: s.skip, take: s.perLot })));
+  const load = devices.slice(0, Math.min(s.loaded ?? devices.length, rig.socketCount));
+  await m.insert(RunSocketEntity, load.map((d, i) => ({ runId: run.id, deviceId: d.id, socketIndex: i, accruedHours: hours })));
+  await audit(operator, 'run.load', { from: 'booked', to: 'loading', loaded: load.length, needed: sampleSize });
+  if (started) await audit(operator, 'run.start', { from: 'loading', to: 'heating', rig: rig.code, setC: plan.chamberC });
+  if (s.state === 'stressing') await audit(null, 'run.ambient-reached', { from: 'heating', to: 'stressing' });
+}
+
+export async function seedRuns(ds: DataSource, log: (l: string) => void = console.log): Promise<void> {
+  await ds.transaction(async (m) => {
+    const engineer = await m.findOne(UserEntity, { where: { role: 'engineer' }, order: { createdAt: 'ASC' } });
+    const operator = await m.findOne(UserEntity, { where: { role: 'operator' }, order: { createdAt: 'ASC' } });
+    for (const s of DEMO_LIVE_RUNS) {
+      if (await m.exists(RunEntity, { where: { code: s.code } })) continue;
+      await insertLiveRun(m, s, engineer, operator, log);
+    }
+  });
+}

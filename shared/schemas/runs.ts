@@ -1,0 +1,309 @@
+import { z } from 'zod';
+import type { PlanKind } from './plans';
+
+/**
+ * Run lifecycle:
+ *   booked ──(operator loads sockets)──▶ loading ──start──▶ heating ──(chamber in band)──▶ stressing
+ *   stressing ──(read point reached: bias off)──▶ read-hold ──(measurements done)──▶ heating
+ *   stressing ──(plan hours reached: bias off, chamber to ambient)──▶ cooling ──▶ finished
+ *   heating/stressing ──pause──▶ paused ──resume──▶ heating
+ *   any state before finished ──abort (with a reason)──▶ aborted
+ */
+export const RUN_STATES = ['booked', 'loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling', 'finished', 'aborted'] as const;
+export type RunState = (typeof RUN_STATES)[number];
+
+export const RUN_STATE_LABEL: Record<RunState, string> = {
+  booked: 'Booked',
+  loading: 'Loading',
+  heating: 'Heating',
+  stressing: 'Under stress',
+  paused: 'Paused',
+  'read-hold': 'Read-point hold',
+  cooling: 'Cooling',
+  finished: 'Finished',
+  aborted: 'Aborted',
+};
+
+/** States in which the run's devices sit in the oven (the rig is physically used). */
+export const ON_RIG_STATES: readonly RunState[] = ['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling'];
+/** States the scheduler drives (commands, accrual). */
+export const DRIVEN_STATES: readonly RunState[] = ['heating', 'stressing', 'paused', 'read-hold', 'cooling'];
+/** States in which the run needs the chamber at its set point. */
+export const HEAT_STATES: readonly RunState[] = ['heating', 'stressing', 'paused'];
+export const TERMINAL_STATES: readonly RunState[] = ['finished', 'aborted'];
+
+export const RUN_ACTIONS = ['load', 'start', 'pause', 'resume', 'abort', 'measurements-done'] as const;
+export type RunAction = (typeof RUN_ACTIONS)[number];
+
+export const RUN_ACTION_LABEL: Record<RunAction, string> = {
+  load: 'Load sockets',
+  start: 'Start',
+  pause: 'Pause',
+  resume: 'Resume',
+  abort: 'Abort',
+  'measurements-done': 'Measurements done',
+};
+
+/** What a person may do in each state (the scheduler makes the other moves). */
+export const ACTIONS_BY_STATE: Record<RunState, readonly RunAction[]> = {
+  booked: ['load', 'abort'],
+  loading: ['load', 'start', 'abort'],
+  heating: ['pause', 'abort'],
+  stressing: ['pause', 'abort'],
+  paused: ['resume', 'abort'],
+  'read-hold': ['measurements-done', 'abort'],
+  cooling: ['abort'],
+  finished: [],
+  aborted: [],
+};
+
+export function allowedActions(state: RunState): readonly RunAction[] {
+  return ACTIONS_BY_STATE[state] ?? [];
+}
+
+// ---------------------------------------------------------------------------------------------
+// Requests
+
+const uuid = (what: string) => z.string().uuid(`Not a valid ${what} id`);
+const isoTime = () => z.iso.datetime({ offset: true, message: 'Give a date and time (ISO 8601)' });
+
+export const runIdParamSchema = z.object({ id: uuid('run') });
+
+export const proposalInputSchema = z.object({
+  planId: uuid('plan'),
+  lotIds: z.array(uuid('lot')).min(1, 'Choose at least one lot').max(12, 'At most 12 lots per run'),
+  sampleSize: z.number().int('Whole devices only').positive('At least one device').max(256, 'A board holds at most 256 sockets'),
+  /** Earliest start to consider (default now). */
+  notBefore: isoTime().optional(),
+});
+export type ProposalInput = z.infer<typeof proposalInputSchema>;
+
+export const OVERRIDE_REASON_MIN = 10;
+
+export const bookRunSchema = proposalInputSchema.extend({
+  rigId: uuid('rig'),
+  /** Start of the chosen proposal; omitted = the earliest feasible start on the rig. */
+  start: isoTime().optional(),
+  /** Book despite blocking plan-check findings (engineer's written reason, audited). */
+  override: z
+    .object({
+      reason: z
+        .string()
+        .trim()
+        .min(OVERRIDE_REASON_MIN, `Write at least ${OVERRIDE_REASON_MIN} characters on why the plan may run anyway`)
+        .max(2000),
+    })
+    .optional(),
+});
+export type BookRunInput = z.infer<typeof bookRunSchema>;
+
+export const runListQuerySchema = z.object({
+  state: z.enum(RUN_STATES).optional(),
+  rigId: uuid('rig').optional(),
+  /** "1": only runs not finished or aborted. */
+  open: z.enum(['0', '1']).optional(),
+});
+
+export const timelineQuerySchema = z.object({
+  from: isoTime().optional(),
+  to: isoTime().optional(),
+});
+
+const rowVersion = () => z.number({ message: 'Send the rowVersion you last saw' }).int().min(1);
+
+export const runActionSchema = z.object({
+  rowVersion: rowVersion(),
+  reason: z.string().trim().max(2000).optional(),
+});
+export type RunActionInput = z.infer<typeof runActionSchema>;
+
+export const abortRunSchema = z.object({
+  rowVersion: rowVersion(),
+  reason: z.string().trim().min(5, 'Say why the run is aborted (at least 5 characters)').max(2000),
+});
+export type AbortRunInput = z.infer<typeof abortRunSchema>;
+
+/** Socket index (0-based, as on the rig board) → device serial; "" marks a socket left empty. */
+export const socketLoadSchema = z.object({
+  rowVersion: rowVersion(),
+  sockets: z
+    .record(z.string().regex(/^\d{1,3}$/, 'Socket numbers are 0–255'), z.string().trim().max(40, 'Serials are at most 40 characters'))
+    .refine((m) => Object.keys(m).length <= 256, 'A board holds at most 256 sockets'),
+  /** Check only: report the flags, store nothing. */
+  dryRun: z.boolean().default(false),
+});
+export type SocketLoadInput = z.infer<typeof socketLoadSchema>;
+
+// ---------------------------------------------------------------------------------------------
+// Responses
+
+export interface RunPlanRef {
+  id: string;
+  planKey: string;
+  name: string;
+  version: number;
+  kind: PlanKind;
+  chamberC: number;
+  humidityPct: number | null;
+  durationH: number;
+  readPointsH: number[];
+  biasV: number | null;
+  checkStatus: 'block' | 'warn' | 'ok' | 'none';
+}
+
+export interface RunRigRef {
+  id: string;
+  code: string;
+  name: string;
+  socketCount: number;
+  online: boolean;
+}
+
+export interface Run {
+  id: string;
+  code: string;
+  state: RunState;
+  stateLabel: string;
+  plan: RunPlanRef;
+  rig: RunRigRef | null;
+  lots: Array<{ id: string; code: string }>;
+  partNumber: string;
+  sampleSize: number;
+  loadedCount: number;
+  trippedCount: number;
+  scheduledStart: string | null;
+  scheduledEnd: string | null;
+  startedAt: string | null;
+  finishedAt: string | null;
+  stateChangedAt: string;
+  stressHours: number;
+  targetH: number;
+  /** Next read point to reach (hours), or null after the last. */
+  nextReadPointH: number | null;
+  /** The read point the run is held at (read-hold) or last reached. */
+  lastReadPointH: number | null;
+  heatingSince: string | null;
+  ambientReachedAt: string | null;
+  biasRemovedAt: string | null;
+  abortReason: string | null;
+  override: { reason: string; byName: string | null } | null;
+  allowedActions: RunAction[];
+  rowVersion: number;
+  createdAt: string;
+}
+
+export interface RunSocket {
+  socket: number;
+  serial: string;
+  lotCode: string;
+  accruedHours: number;
+  tripped: boolean;
+  tripReason: string | null;
+  failedAtH: number | null;
+}
+
+export interface RunAuditEntry {
+  id: string;
+  at: string;
+  actor: string;
+  action: string;
+  reason: string | null;
+  details: Record<string, unknown>;
+}
+
+export interface RunDetail extends Run {
+  sockets: RunSocket[];
+  audit: RunAuditEntry[];
+  /** Sockets of the rig used by other runs on it now (not offered for loading). */
+  socketsTaken: number[];
+}
+
+export const SOCKET_PROBLEMS = ['empty', 'duplicate', 'wrong-lot', 'unknown-serial', 'in-other-run', 'socket-taken', 'no-such-socket', 'too-many'] as const;
+export type SocketProblem = (typeof SOCKET_PROBLEMS)[number];
+
+export interface SocketFlag {
+  socket: number;
+  serial: string;
+  problem: SocketProblem;
+  /** Only 'empty' is informational; every other problem stops the map from being stored. */
+  blocking: boolean;
+  message: string;
+}
+
+export interface SocketLoadResult {
+  /** False for a dry run or when a blocking flag refused the map. */
+  stored: boolean;
+  needed: number;
+  loaded: number;
+  flags: SocketFlag[];
+  readyToStart: boolean;
+  summary: string;
+  run: RunDetail;
+}
+
+export interface ProposalOption {
+  rigId: string;
+  rigCode: string;
+  rigName: string;
+  online: boolean;
+  start: string;
+  end: string;
+  durationH: number;
+  spareSockets: number;
+  /** Why it cannot start at the requested time (empty when it can). */
+  delayReasons: string[];
+}
+
+export interface ProposalRefusal {
+  rigId: string;
+  rigCode: string;
+  rigName: string;
+  reasons: string[];
+}
+
+export interface ProposalResult {
+  plan: RunPlanRef;
+  sampleSize: number;
+  durationH: number;
+  /** Plan-check findings that block booking unless overridden. */
+  blockingFindings: Array<{ code: string; title: string; explanation: string }>;
+  /** Problems with the request itself (lots of another device type, too few devices). */
+  problems: string[];
+  options: ProposalOption[];
+  refusals: ProposalRefusal[];
+}
+
+export interface TimelineBar {
+  runId: string;
+  code: string;
+  state: RunState;
+  stateLabel: string;
+  start: string;
+  end: string;
+  planName: string;
+  chamberC: number;
+  humidityPct: number | null;
+  sampleSize: number;
+  stressHours: number;
+  targetH: number;
+}
+
+export interface TimelineRow {
+  rigId: string;
+  code: string;
+  name: string;
+  socketCount: number;
+  online: boolean;
+  active: boolean;
+  bars: TimelineBar[];
+  maintenance: Array<{ id: string; start: string; end: string; reason: string }>;
+}
+
+export interface Timeline {
+  from: string;
+  to: string;
+  now: string;
+  /** Wall ms per stress-clock hour (the demo clock is accelerated). */
+  msPerClockH: number;
+  rows: TimelineRow[];
+}

@@ -1,0 +1,244 @@
+/**
+ * A whole short run driven by the scheduler through a fake RigLink, with synthetic telemetry rows
+ * written straight into telemetry_batches / telemetry_samples (as ingest would): heating → ambient
+ * → stressing → read point (bias off, hold) → measurements done → heating (ambient late: alarm
+ * event) → stressing → a scheduler restart mid-run → a rig reboot → cooling → finished.
+ * Hours are asserted exactly; after the restart no command is sent again.
+ * Stress clock: 900 s per sample (0.25 h).
+ */
+import type { CommandAck } from '../../shared/mqtt';
+import { AuditLogEntity, RigEntity, RunEntity, RunSocketEntity } from '../../server/db/entities';
+import { RUN_EVENT, type RunEvent } from '../../server/modules/runs/run-events';
+import { RunScheduler } from '../../server/modules/scheduler/scheduler';
+import type { RigCommandBody, RigLink } from '../../server/modules/telemetry/contracts';
+import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
+import { createTestApp, type TestApp } from '../support/api';
+
+/** A rig that applies each cmdId once (like the real one) and remembers everything it was sent. */
+class FakeRig implements RigLink {
+  setpointC = 25;
+  bias = new Map<number, { on: boolean; vV: number }>();
+  tripped = new Set<number>();
+  readonly applied = new Set<string>();
+  readonly sends: Array<{ cmdId: string; cmd: RigCommandBody }> = [];
+  connected() {
+    return true;
+  }
+  async send(rigCode: string, cmd: RigCommandBody, opts?: { cmdId?: string }): Promise<CommandAck> {
+    const cmdId = opts?.cmdId ?? 'anon';
+    this.sends.push({ cmdId, cmd });
+    if (!this.applied.has(cmdId)) {
+      this.applied.add(cmdId);
+      if (cmd.type === 'setpoint') this.setpointC = cmd.setpointC;
+      if (cmd.type === 'bias') {
+        const list = cmd.sockets === 'all' ? [0, 1, 2, 3] : cmd.sockets;
+        for (const k of list) if (!this.tripped.has(k)) this.bias.set(k, { on: cmd.on, vV: cmd.vV ?? this.bias.get(k)?.vV ?? 0 });
+      }
+    }
+    return { v: 1, rig: rigCode, cmdId, ok: true };
+  }
+  trip(k: number) {
+    this.tripped.add(k);
+    this.bias.set(k, { on: false, vV: 0 });
+  }
+}
+
+let t: TestApp;
+let rigId: string;
+let runId: string;
+const fake = new FakeRig();
+let seq = 0;
+let clockS = 0;
+const events: RunEvent[] = [];
+
+/** Store samples as ingest would: one batch per chamber value, every socket of the board. */
+async function land(chambers: number[], opts: { reboot?: boolean } = {}) {
+  for (const [i, c] of chambers.entries()) {
+    seq += 1;
+    clockS = opts.reboot && i === 0 ? 0 : clockS + 900;
+    await t.ctx.ds.query(
+      `INSERT INTO telemetry_batches (rig_id, seq, ts, stress_clock_s, chamber_c, humidity_pct, setpoint_c) VALUES ($1, $2, now(), $3, $4, null, $5)`,
+      [rigId, seq, clockS, c, fake.setpointC],
+    );
+    for (const k of [0, 1, 2, 3]) {
+      const b = fake.bias.get(k);
+      const on = !!b?.on && !fake.tripped.has(k);
+      await t.ctx.ds.query(
+        `INSERT INTO telemetry_samples (rig_id, seq, socket, case_c, v_v, i_a, bias_on, tripped) VALUES ($1, $2, $3, $4, $5, $6, $7, $8)`,
+        [rigId, seq, k, c + 1, on ? b!.vV : 0, on ? 2e-8 : 0, on, fake.tripped.has(k)],
+      );
+    }
+  }
+}
+
+const run = () => t.ctx.ds.getRepository(RunEntity).findOneByOrFail({ id: runId });
+const socketHours = async () =>
+  Object.fromEntries((await t.ctx.ds.getRepository(RunSocketEntity).find({ where: { runId }, order: { socketIndex: 'ASC' } })).map((s) => [s.socketIndex, s.accruedHours]));
+const step = async (s: RunScheduler) => {
+  await s.pass();
+  await s.idle();
+};
+
+let scheduler: RunScheduler;
+jest.setTimeout(20_000);
+
+beforeAll(async () => {
+  t = await createTestApp();
+  t.ctx.events.on(RUN_EVENT, (e: RunEvent) => events.push(e));
+  const eng = await t.signIn('engineer');
+  const type = await eng.post('/api/device-types').send(DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140'));
+  const lot = await eng.post('/api/lots').send({ code: 'HG2611-A', deviceTypeId: type.body.id, quantity: 100, serials: ['A0001', 'A0002', 'A0003'] });
+  const plan = await eng.post('/api/plans').send({
+    name: 'HTRB 145 °C short', kind: 'htrb', deviceTypeId: type.body.id, chamberC: 145, bias: { vcbV: 112, tolerancePct: 5 },
+    durationH: 10, readPointsH: [0, 4, 10], sampleSize: 3, acceptNumber: 0, criteria: {},
+  });
+  expect(plan.status).toBe(201);
+  rigId = (
+    await t.ctx.ds.getRepository(RigEntity).save({
+      code: 'OV-01', name: 'Oven 1', socketCount: 4, maxTempC: 200, maxVoltageV: 800, mqttUsername: 'rig-ov-01', mqttSecretHash: 'x', credentialsIssuedAt: new Date(), online: true,
+    })
+  ).id;
+  const booked = await eng.post('/api/runs').send({ planId: plan.body.id, lotIds: [lot.body.id], sampleSize: 3, rigId });
+  expect(booked.status).toBe(201);
+  runId = booked.body.id;
+  const op = await t.signIn('operator');
+  const loaded = await op.put(`/api/runs/${runId}/sockets`).send({ rowVersion: booked.body.rowVersion, sockets: { 0: 'A0001', 1: 'A0002', 2: 'A0003' } });
+  expect(loaded.body.readyToStart).toBe(true);
+  const started = await op.post(`/api/runs/${runId}/start`).send({ rowVersion: loaded.body.run.rowVersion });
+  expect(started.body.state).toBe('heating');
+  scheduler = new RunScheduler(t.ctx, { rigLink: () => fake, cronExpression: null, listen: false, ambientCheckEveryMs: 0, log: () => undefined });
+});
+afterAll(async () => {
+  await scheduler?.stop();
+  await t.close();
+});
+
+describe('a run from heating to finished, driven by the scheduler', () => {
+  it('heating: sends the chamber set point once, with a stable cmdId', async () => {
+    await step(scheduler);
+    await step(scheduler);
+    expect(fake.sends).toHaveLength(1);
+    expect(fake.sends[0].cmdId).toMatch(new RegExp(`^run:${runId}:heat:`));
+    expect(fake.sends[0].cmd).toMatchObject({ type: 'setpoint', setpointC: 145 });
+    expect(fake.setpointC).toBe(145);
+  });
+
+  it('the chamber below the ±3 % band keeps it heating; the first sample in band (≥ 140.65 °C) starts stress; bias goes on', async () => {
+    await land([100, 120, 140]);
+    await step(scheduler);
+    expect((await run()).state).toBe('heating');
+    await land([145]);
+    await step(scheduler);
+    const r = await run();
+    expect(r).toMatchObject({ state: 'stressing', accruedToSeq: 4, stressHours: 0 });
+    expect(r.ambientReachedAt).not.toBeNull();
+    expect(fake.sends[1].cmd).toMatchObject({ type: 'bias', on: true, sockets: [0, 1, 2], vV: 112 });
+  });
+
+  it('accrues from the stored telemetry: out-of-band and unbiased intervals do not count, a tripped socket stops; read point 4 h → hold', async () => {
+    // seq 5…23: chamber 150 °C (above 149.35) at seq 15; socket 2 trips at seq 12.
+    for (let s = 5; s <= 23; s++) {
+      if (s === 12) fake.trip(2);
+      await land([s === 15 ? 150 : 145]);
+    }
+    await step(scheduler);
+    const r = await run();
+    // Intervals 5→6 … 22→23 (18) minus 14→15 and 15→16 = 16 × 0.25 h; 4→5 had no bias yet.
+    expect(r).toMatchObject({ state: 'read-hold', stressHours: 4, accruedToSeq: 23, nextReadPoint: 2 });
+    expect(r.biasRemovedAt).not.toBeNull();
+    expect(await socketHours()).toEqual({ 0: 4, 1: 4, 2: 1.5 });
+    const tripped = await t.ctx.ds.getRepository(RunSocketEntity).findOneByOrFail({ runId, socketIndex: 2 });
+    expect(tripped.tripped).toBe(true);
+    expect(fake.sends.slice(2).map((x) => x.cmdId)).toEqual([`run:${runId}:off:rp1`, `run:${runId}:cool:rp1`]);
+    expect(fake.sends[2].cmd).toMatchObject({ type: 'bias', on: false, sockets: [0, 1, 2] });
+    expect(fake.sends[3].cmd).toMatchObject({ type: 'setpoint', setpointC: 25 });
+    const due = events.filter((e) => e.type === 'read-point-due');
+    expect(due).toEqual([expect.objectContaining({ runId, rigCode: 'OV-01', readPointH: 4, readPointIndex: 1, stressHours: 4, final: false })]);
+    const d = due[0] as Extract<RunEvent, { type: 'read-point-due' }>;
+    expect(Date.parse(d.measureBy) - Date.parse(d.biasRemovedAt)).toBe(96 * 3_600_000);
+  });
+
+  it('nothing accrues during the hold; measurements done → heating again with a new set-point command', async () => {
+    await land([60, 40]);
+    await step(scheduler);
+    expect((await run()).stressHours).toBe(4);
+    const op = await t.signIn('operator');
+    const res = await op.post(`/api/runs/${runId}/measurements-done`).send({ rowVersion: (await run()).rowVersion });
+    expect(res.body.state).toBe('heating');
+    await step(scheduler);
+    expect(fake.sends).toHaveLength(5);
+    expect(fake.sends[4].cmd).toMatchObject({ type: 'setpoint', setpointC: 145 });
+    expect(fake.sends[4].cmdId).not.toBe(fake.sends[0].cmdId);
+  });
+
+  it('ambient not reached within 5 stress-clock hours of heating: one run-event and one audit row', async () => {
+    await land(Array(19).fill(100)); // 19 × 0.25 h = 4.75 h since the heating boundary (seq 25)
+    await step(scheduler);
+    expect(events.filter((e) => e.type === 'ambient-not-reached')).toHaveLength(0);
+    await land([100, 100]); // 5.25 h
+    await step(scheduler);
+    await step(scheduler);
+    const late = events.filter((e) => e.type === 'ambient-not-reached');
+    expect(late).toEqual([expect.objectContaining({ runId, elapsedStressH: 5.25, limitH: 5, setC: 145, lowC: 140.65, highC: 149.35, lastChamberC: 100 })]);
+    expect(await t.ctx.ds.getRepository(AuditLogEntity).countBy({ entityId: runId, action: 'run.ambient-overdue' })).toBe(1);
+  });
+
+  it('reaches ambient, stresses; a restarted scheduler continues with exact hours and sends nothing again', async () => {
+    await land([145]); // seq 47: ambient
+    await step(scheduler);
+    expect((await run()).state).toBe('stressing');
+    expect(fake.sends[5].cmd).toMatchObject({ type: 'bias', on: true, sockets: [0, 1] }); // the tripped socket stays off
+    await land(Array(8).fill(145)); // seq 48…55: 47→48 unbiased, then 7 intervals
+    await step(scheduler);
+    expect((await run()).stressHours).toBe(5.75);
+
+    const sent = fake.sends.length;
+    await scheduler.stop();
+    scheduler = new RunScheduler(t.ctx, { rigLink: () => fake, cronExpression: null, listen: false, ambientCheckEveryMs: 0, log: () => undefined });
+    await step(scheduler);
+    expect(fake.sends.length).toBe(sent); // the rig already reports set point and bias: nothing to repeat
+    expect((await run()).stressHours).toBe(5.75);
+    expect(await socketHours()).toEqual({ 0: 5.75, 1: 5.75, 2: 1.5 });
+  });
+
+  it('a rig reboot (clock back to 0) accrues nothing for that step; at 10 h the run cools and finishes', async () => {
+    await land(Array(19).fill(145), { reboot: true }); // seq 56 (clock 0) … 74
+    await step(scheduler);
+    const r = await run();
+    // 55→56 reboot: 0; 56→57 … 72→73: 17 × 0.25 = 4.25 h → 10 h exactly at seq 73.
+    expect(r).toMatchObject({ state: 'cooling', stressHours: 10, accruedToSeq: 73, nextReadPoint: 3 });
+    expect(await socketHours()).toEqual({ 0: 10, 1: 10, 2: 1.5 });
+    expect(fake.sends.slice(-2).map((x) => x.cmdId)).toEqual([`run:${runId}:off:end`, `run:${runId}:cool:end`]);
+    expect(events.filter((e) => e.type === 'read-point-due').pop()).toMatchObject({ readPointH: 10, readPointIndex: 2, final: true });
+    await land([80]);
+    await step(scheduler);
+    expect((await run()).state).toBe('cooling'); // still too hot to open
+    await land([35]);
+    await step(scheduler);
+    const done = await run();
+    expect(done.state).toBe('finished');
+    expect(done.finishedAt).not.toBeNull();
+  });
+
+  it('no command was ever applied twice, and every state change is in the audit trail', async () => {
+    const ids = fake.sends.map((x) => x.cmdId);
+    expect(new Set(ids).size).toBe(ids.length);
+    expect(ids).toHaveLength(8);
+    const trail = await t.ctx.ds.getRepository(AuditLogEntity).find({ where: { entity: 'run', entityId: runId }, order: { id: 'ASC' } });
+    expect(trail.map((a) => `${a.actor}:${a.action}`)).toEqual([
+      'engineer@test.example:run.book',
+      'operator@test.example:run.load',
+      'operator@test.example:run.start',
+      'system:run.ambient-reached',
+      'system:run.read-point',
+      'operator@test.example:run.measurements-done',
+      'system:run.ambient-overdue',
+      'system:run.ambient-reached',
+      'system:run.stress-complete',
+      'system:run.finish',
+    ]);
+    expect(events.filter((e) => e.type === 'state-changed').map((e) => (e as { to: string }).to)).toEqual([
+      'loading', 'heating', 'stressing', 'read-hold', 'heating', 'stressing', 'cooling', 'finished',
+    ]);
+  });
+});

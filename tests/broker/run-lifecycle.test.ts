@@ -1,0 +1,167 @@
+/**
+ * A short run through the real pieces: the Emberlot broker, the server's telemetry feature (ingest
+ * + RigLink over MQTT), the rig simulator on an accelerated clock and the scheduler (node-cron +
+ * TELEMETRY_LANDED). Heating → stressing → read point (bias off at the rig) → measurements done →
+ * scheduler restart mid-stress → cooling → finished. The hours after the restart equal the accrual
+ * rule applied to the stored telemetry, and no cmdId reaches the rig twice.
+ */
+import { randomUUID } from 'node:crypto';
+import bcrypt from 'bcryptjs';
+import { createEmberlotBroker, type EmberlotBroker } from '../../broker/broker';
+import { createPgAuthenticate } from '../../broker/pg-authenticate';
+import { startRig, type RigHandle } from '../../rig-simulator';
+import { accrualConditionsFor, accrueSeries, type ClockSample } from '../../shared/scheduling';
+import type { CommandAck } from '../../shared/mqtt';
+import { configFromEnv } from '../../server/config';
+import { createContext, type AppContext } from '../../server/context';
+import { AuditLogEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunEntity, RunLotEntity, RunSocketEntity, StressPlanEntity } from '../../server/db/entities';
+import { RunsService } from '../../server/modules/runs/runs.service';
+import { RunScheduler } from '../../server/modules/scheduler/scheduler';
+import { RIG_LINK, type RigCommandBody, type RigLink } from '../../server/modules/telemetry/contracts';
+import { pgPoolOf, startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
+import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
+import { createTestDb, type TestDb } from '../support/db';
+import { waitFor } from './mqtt-test-helpers';
+
+jest.setTimeout(30_000);
+
+const SERVER = { username: 'emberlot-server', password: 'server-secret' };
+const SECRET = 'ov07-lifecycle-secret';
+
+let db: TestDb;
+let eb: EmberlotBroker;
+let ctx: AppContext;
+let stopTelemetry: (() => Promise<void>) | null = null;
+let rig: RigHandle;
+let rigId: string;
+let runId: string;
+let plan: StressPlanEntity;
+let scheduler: RunScheduler;
+const sent: Array<{ cmdId: string; cmd: RigCommandBody }> = [];
+
+/** The real MQTT link, with every command the scheduler sends written down. */
+const spyLink: RigLink = {
+  connected: () => (ctx.services[RIG_LINK] as RigLink).connected(),
+  send: (rigCode, cmd, opts): Promise<CommandAck> => {
+    sent.push({ cmdId: opts!.cmdId!, cmd });
+    return (ctx.services[RIG_LINK] as RigLink).send(rigCode, cmd, opts);
+  },
+};
+const newScheduler = () => new RunScheduler(ctx, { rigLink: () => spyLink, log: () => undefined, ambientCheckEveryMs: 0 });
+const run = () => db.ds.getRepository(RunEntity).findOneByOrFail({ id: runId });
+async function until(state: string, timeoutMs = 15_000) {
+  let last = '';
+  const deadline = Date.now() + timeoutMs;
+  while (Date.now() < deadline) {
+    last = (await run()).state;
+    if (last === state) return;
+    await new Promise((r) => setTimeout(r, 50));
+  }
+  const r = await run();
+  const [b] = await db.ds.query('SELECT max(seq) AS s, count(*) AS n FROM telemetry_batches WHERE rig_id = $1', [rigId]);
+  throw new Error(`run did not reach ${state} (is ${last}, ${r.stressHours} h, seq ${r.accruedToSeq}; stored up to ${b.s} (${b.n}); sent ${sent.map((x) => x.cmdId.split(':').slice(2).join(':')).join(', ')}; rig setpoint ${rig.state().setpointC}, chamber ${rig.state().chamberC})`);
+}
+
+beforeAll(async () => {
+  db = await createTestDb();
+  const m = db.ds.manager;
+  rigId = (
+    await m.save(m.create(RigEntity, {
+      code: 'OV-07', name: 'Oven 7', socketCount: 4, maxTempC: 200, maxVoltageV: 800,
+      mqttUsername: 'rig-ov-07', mqttSecretHash: await bcrypt.hash(SECRET, 4), credentialsIssuedAt: new Date(),
+    }))
+  ).id;
+  const type = await m.save(m.create(DeviceTypeEntity, DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!));
+  const lot = await m.save(m.create(LotEntity, { code: 'HG2611-A', deviceTypeId: type.id, quantity: 100 }));
+  const devices = await m.save(['A0001', 'A0002', 'A0003', 'A0004'].map((serial) => m.create(DeviceEntity, { lotId: lot.id, serial })));
+  plan = await m.save(m.create(StressPlanEntity, {
+    planKey: randomUUID(), version: 1, name: 'HTRB 125 °C short', kind: 'htrb', deviceTypeId: type.id, chamberC: 125, humidityPct: null,
+    bias: { vcbV: 80, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 }, durationH: 12, readPointsH: [0, 4, 12],
+    sampleSize: 4, acceptNumber: 0, criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 2e-7, vcesatShiftV: 0.05 },
+  }));
+  const r = await m.save(m.create(RunEntity, {
+    code: 'HTRB-2611-A', planId: plan.id, rigId, state: 'loading', sampleSize: 4, stateChangedAt: new Date(), nextReadPoint: 1,
+    scheduledStart: new Date(), scheduledEnd: new Date(Date.now() + 60_000),
+  }));
+  runId = r.id;
+  await m.insert(RunLotEntity, { runId, lotId: lot.id });
+  await m.insert(RunSocketEntity, devices.map((d, i) => ({ runId, deviceId: d.id, socketIndex: i })));
+
+  ctx = createContext(db.ds, { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config });
+  eb = await createEmberlotBroker({ port: 0, authenticate: createPgAuthenticate({ pool: pgPoolOf(ctx), server: SERVER, verifiedCacheSize: 10 }) });
+  stopTelemetry = await startTelemetry(ctx, { mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, ...SERVER }, clientId: 'emberlot-server-lifecycle-test', sweepEveryMs: 60_000 });
+  await waitFor(() => (ctx.services[RIG_LINK] as RigLink).connected(), 5000, 'server link');
+  // 4 stress hours per wall second, a sample every 0.1 s (0.4 h); the oven lags 0.5 stress hour.
+  rig = startRig({
+    rigCode: 'OV-07', brokerUrl: `mqtt://127.0.0.1:${eb.port}`, username: 'rig-ov-07', password: SECRET, sockets: 4, mode: 'reverse',
+    chamberC: 25, setpointC: 25, biasOn: false, vV: 0, stressHoursPerWallSecond: 4, samplePeriodWallS: 0.1, reconnectWallS: 0.1, resendAfterWallS: 1,
+  });
+  await waitFor(() => rig.connected, 5000, 'simulated rig');
+});
+
+afterAll(async () => {
+  await scheduler?.stop();
+  await rig?.stop();
+  await stopTelemetry?.();
+  await eb?.close();
+  await db?.drop();
+});
+
+const operator = { id: randomUUID(), email: 'operator@test.example', name: 'Test operator', role: 'operator' as const };
+
+async function samplesBetween(fromSeq: number, toSeq: number): Promise<ClockSample[]> {
+  const b: Array<Record<string, any>> = await db.ds.query(
+    `SELECT seq, stress_clock_s, chamber_c, humidity_pct FROM telemetry_batches WHERE rig_id = $1 AND seq BETWEEN $2 AND $3 ORDER BY seq`, [rigId, fromSeq, toSeq]);
+  const s: Array<Record<string, any>> = await db.ds.query(
+    `SELECT seq, socket, v_v, bias_on, tripped FROM telemetry_samples WHERE rig_id = $1 AND seq BETWEEN $2 AND $3 ORDER BY seq, socket`, [rigId, fromSeq, toSeq]);
+  return b.map((x) => ({
+    seq: Number(x.seq), clockS: Number(x.stress_clock_s), chamberC: Number(x.chamber_c), humidityPct: null,
+    sockets: s.filter((y) => Number(y.seq) === Number(x.seq)).map((y) => ({ socket: Number(y.socket), vV: Number(y.v_v), biasOn: y.bias_on, tripped: y.tripped })),
+  }));
+}
+
+test('heating → stressing → read point: the rig heats, biases, and drops bias at 4 h', async () => {
+  const svc = new RunsService(ctx);
+  await svc.act(operator, runId, 'start', { rowVersion: (await run()).rowVersion });
+  scheduler = newScheduler();
+  scheduler.start();
+  await until('stressing');
+  await until('read-hold');
+  const r = await run();
+  expect(r.stressHours).toBeGreaterThanOrEqual(4);
+  expect(r.stressHours).toBeLessThan(4 + 0.4 + 1e-9); // at most one sample past the read point
+  await waitFor(() => rig.state().sockets.every((s) => !s.biasOn), 5000, 'bias off at the rig');
+  await waitFor(() => rig.state().setpointC === 25, 5000, 'chamber to ambient');
+  expect(sent.map((x) => x.cmd.type)).toEqual(['setpoint', 'bias', 'bias', 'setpoint']);
+});
+
+test('measurements done → heats again; a scheduler restart mid-stress keeps exact hours and repeats no command', async () => {
+  const h1 = (await run()).stressHours;
+  const svc = new RunsService(ctx);
+  await svc.act(operator, runId, 'measurements-done', { rowVersion: (await run()).rowVersion });
+  await until('stressing');
+  await waitFor(() => rig.state().sockets.every((s) => s.biasOn), 5000, 'bias on at the rig');
+  // Let a few stressed samples land, then restart the scheduler (fresh memory, same database).
+  const before = (await run()).stressHours;
+  for (let k = 0; k < 40 && (await run()).stressHours < before + 1; k++) await new Promise((r) => setTimeout(r, 50));
+  await scheduler.stop();
+  const sentBefore = sent.length;
+  await new Promise((r) => setTimeout(r, 300)); // telemetry keeps landing while no scheduler runs
+  scheduler = newScheduler();
+  scheduler.start();
+  await until('cooling');
+  await until('finished');
+
+  const trail = await db.ds.getRepository(AuditLogEntity).find({ where: { entityId: runId, action: 'run.ambient-reached' }, order: { id: 'ASC' } });
+  const fromSeq = Number(trail[1].details.seq);
+  const done = await run();
+  const series = await samplesBetween(fromSeq, done.accruedToSeq);
+  const oracle = accrueSeries(series.slice(1), accrualConditionsFor(plan), [0, 1, 2, 3], { runH: h1, last: series[0] });
+  expect(done.stressHours).toBe(oracle.runH);
+  expect(done.stressHours).toBeGreaterThanOrEqual(12);
+  // After the restart only the end-of-stress commands went out; no cmdId was ever sent twice.
+  expect(sent.slice(sentBefore).map((x) => x.cmdId)).toEqual([`run:${runId}:off:end`, `run:${runId}:cool:end`]);
+  const ids = sent.map((x) => x.cmdId);
+  expect(new Set(ids).size).toBe(ids.length);
+  expect(rig.state().sockets.every((s) => !s.biasOn)).toBe(true);
+});
