@@ -1,5 +1,6 @@
 import type { AppContext } from './context';
 import { startTelemetry } from './modules/telemetry/telemetry.feature';
+import { startProtection } from './modules/protection/start';
 import { startScheduler } from './modules/scheduler/scheduler';
 
 /**
@@ -10,6 +11,7 @@ export async function startFeatures(ctx: AppContext): Promise<() => Promise<void
   const stops: Array<() => Promise<void> | void> = [];
   void ctx;
   stops.push(await startTelemetry(ctx)); // first: the others use ctx.services.rigLink
+  stops.push(await startProtection(ctx)); // live protection, alarms, notifications, e-mail
   stops.push(startScheduler(ctx)); // runs: heating, accrual, read points, cooling (node-cron, every second)
   return async () => {
     for (const stop of stops.reverse()) await stop();

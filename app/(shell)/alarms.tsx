@@ -1,12 +1,3 @@
-// Placeholder until the alarms screens land.
-import { PlaceholderScreen } from '@/components/common/PlaceholderScreen';
+import { AlarmsScreen } from '@/components/alarms/AlarmsScreen';
 
-export default function AlarmsRoute() {
-  return (
-    <PlaceholderScreen
-      title="Alarms"
-      subtitle="What needs a person now, newest first."
-      coming="Open alarms from rigs and the protection logic will be listed here, with who acknowledged them and when."
-    />
-  );
-}
+export default AlarmsScreen;

@@ -8,7 +8,8 @@ export type AlarmKind =
   | 'ambient-not-reached'
   | 'bias-out-of-tolerance'
   | 'leakage-jump'
-  | 'ingest-dropped';
+  | 'ingest-dropped'
+  | 'command-failed';
 export type AlarmSeverity = 'critical' | 'warning' | 'info';
 
 @Entity('alarms')

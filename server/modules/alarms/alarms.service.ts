@@ -1,0 +1,291 @@
+/**
+ * Alarms: raised by protection and the run scheduler, acknowledged by people.
+ *
+ * Life of an alarm (one row):
+ * - raise(kind, rig, socket): if a *live* alarm with the same dedupe key (kind + rig + socket)
+ *   exists, it is updated (numbers, message, last seen; re-activated if it had cleared); otherwise a
+ *   new row is inserted and subscribers are told ('alarm' event, change 'raised').
+ * - clear(key): the condition went away → clearedAt. The alarm stays on the open list until someone
+ *   acknowledges it.
+ * - acknowledge(id, note): operator, engineer or admin; audited.
+ * A row is live while it is unacknowledged OR its condition still holds, so acknowledging a
+ * condition that persists (a rig still offline) does not spawn a new alarm on the next sample;
+ * only after it has been both acknowledged and cleared does the next occurrence open a new one.
+ * Raises of one key are serialised by a transaction-scoped advisory lock (safe across processes).
+ */
+import { In, IsNull, type EntityManager } from 'typeorm';
+import {
+  ALARM_KINDS,
+  type AcknowledgeAlarmInput,
+  type Alarm,
+  type AlarmCounts,
+  type AlarmKindName,
+  type AlarmList,
+  type AlarmListQuery,
+  type AlarmSeverityName,
+} from '../../../shared/schemas/alarms';
+import type { SessionUser } from '../../../shared/schemas/auth';
+import type { AppContext } from '../../context';
+import { AlarmEntity, RigEntity, RunEntity, UserEntity } from '../../db/entities';
+import { conflict, notFound } from '../../http/errors';
+
+export const ALARM_EVENT = 'alarm';
+export type AlarmChange = 'raised' | 'updated' | 'cleared' | 'acknowledged';
+export interface AlarmEvent {
+  change: AlarmChange;
+  alarm: Alarm;
+}
+
+export interface RaiseAlarmInput {
+  kind: AlarmKindName;
+  severity: AlarmSeverityName;
+  rigId: string | null;
+  runId: string | null;
+  socketIndex: number | null;
+  title: string;
+  message: string;
+  /** What to do. */
+  action: string;
+  /** The numbers behind it. */
+  details?: Record<string, unknown>;
+}
+
+export interface RaiseResult {
+  alarm: Alarm;
+  created: boolean;
+  /** An unacknowledged alarm whose condition had cleared came back. */
+  reactivated: boolean;
+}
+
+export function dedupeKeyFor(kind: AlarmKindName, rigId: string | null, socketIndex: number | null): string {
+  return `${kind}:${rigId ?? '-'}:${socketIndex ?? '-'}`;
+}
+
+const clip = (s: string, n: number) => (s.length > n ? s.slice(0, n - 1) + '…' : s);
+const iso = (d: Date | null) => (d ? d.toISOString() : null);
+
+export class AlarmsService {
+  constructor(private readonly ctx: AppContext) {}
+
+  private liveWhere(key: string) {
+    return [
+      { dedupeKey: key, acknowledgedAt: IsNull() },
+      { dedupeKey: key, clearedAt: IsNull() },
+    ];
+  }
+
+  /** Raise or refresh the alarm for this condition. */
+  async raise(input: RaiseAlarmInput): Promise<RaiseResult> {
+    const key = dedupeKeyFor(input.kind, input.rigId, input.socketIndex);
+    const now = this.ctx.now();
+    const { row, created, reactivated } = await this.ctx.ds.transaction(async (m) => {
+      await m.query('SELECT pg_advisory_xact_lock(hashtext($1))', [`alarm:${key}`]);
+      const existing = await m.findOne(AlarmEntity, { where: this.liveWhere(key), order: { raisedAt: 'DESC' } });
+      const details = { ...(input.details ?? {}), action: input.action, lastSeenAt: now.toISOString() };
+      if (existing) {
+        const wasCleared = existing.clearedAt !== null;
+        existing.severity = input.severity;
+        existing.title = clip(input.title, 200);
+        existing.message = input.message;
+        existing.runId = input.runId ?? existing.runId;
+        existing.details = { ...details, occurrences: Number(existing.details?.occurrences ?? 1) + (wasCleared ? 1 : 0) };
+        existing.clearedAt = null;
+        return { row: await m.save(existing), created: false, reactivated: wasCleared };
+      }
+      const row = m.create(AlarmEntity, {
+        kind: input.kind as AlarmEntity['kind'],
+        severity: input.severity,
+        rigId: input.rigId,
+        runId: input.runId,
+        socketIndex: input.socketIndex,
+        title: clip(input.title, 200),
+        message: input.message,
+        details: { ...details, occurrences: 1 },
+        dedupeKey: key,
+        raisedAt: now,
+        acknowledgedAt: null,
+        acknowledgedById: null,
+        ackNote: null,
+        clearedAt: null,
+      });
+      return { row: await m.save(row), created: true, reactivated: false };
+    });
+    const [alarm] = await this.toAlarms([row]);
+    this.emit(created ? 'raised' : 'updated', alarm);
+    return { alarm, created, reactivated };
+  }
+
+  /** The condition behind this key went away. Returns the cleared alarm, or null if none was active. */
+  async clear(kind: AlarmKindName, rigId: string | null, socketIndex: number | null, details?: Record<string, unknown>): Promise<Alarm | null> {
+    const key = dedupeKeyFor(kind, rigId, socketIndex);
+    const row = await this.ctx.ds.transaction(async (m) => {
+      await m.query('SELECT pg_advisory_xact_lock(hashtext($1))', [`alarm:${key}`]);
+      const live = await m.findOne(AlarmEntity, { where: { dedupeKey: key, clearedAt: IsNull() }, order: { raisedAt: 'DESC' } });
+      if (!live) return null;
+      live.clearedAt = this.ctx.now();
+      if (details) live.details = { ...live.details, cleared: details };
+      return m.save(live);
+    });
+    if (!row) return null;
+    const [alarm] = await this.toAlarms([row]);
+    this.emit('cleared', alarm);
+    return alarm;
+  }
+
+  /** Keys of alarms whose condition still holds (for monitors restarting). */
+  async activeKeys(kinds: readonly AlarmKindName[]): Promise<Array<{ key: string; kind: AlarmKindName; rigId: string | null; socketIndex: number | null }>> {
+    const rows = await this.ctx.ds.getRepository(AlarmEntity).find({
+      where: { clearedAt: IsNull(), kind: In([...kinds] as AlarmEntity['kind'][]) },
+      select: { dedupeKey: true, kind: true, rigId: true, socketIndex: true },
+    });
+    return rows.map((r) => ({ key: r.dedupeKey, kind: r.kind as AlarmKindName, rigId: r.rigId, socketIndex: r.socketIndex }));
+  }
+
+  async list(q: AlarmListQuery): Promise<AlarmList> {
+    const qb = this.ctx.ds.getRepository(AlarmEntity).createQueryBuilder('a');
+    if (q.status === 'open') qb.andWhere('a.acknowledged_at IS NULL');
+    if (q.status === 'acknowledged') qb.andWhere('a.acknowledged_at IS NOT NULL');
+    if (q.rigId) qb.andWhere('a.rig_id = :rigId', { rigId: q.rigId });
+    if (q.runId) qb.andWhere('a.run_id = :runId', { runId: q.runId });
+    if (q.severity) qb.andWhere('a.severity = :severity', { severity: q.severity });
+    if (q.kind) qb.andWhere('a.kind = :kind', { kind: q.kind });
+    qb.addSelect('(CASE WHEN a.acknowledged_at IS NULL THEN 0 ELSE 1 END)', 'ack_rank')
+      .addSelect(`(CASE a.severity WHEN 'critical' THEN 0 WHEN 'warning' THEN 1 ELSE 2 END)`, 'sev_rank')
+      .orderBy('ack_rank', 'ASC')
+      .addOrderBy('sev_rank', 'ASC')
+      .addOrderBy('a.raised_at', 'DESC')
+      .offset(q.offset)
+      .limit(q.limit);
+    const [rows, total] = await Promise.all([qb.getMany(), qb.clone().offset(undefined).limit(undefined).getCount()]);
+    return { items: await this.toAlarms(rows), total };
+  }
+
+  async get(id: string): Promise<Alarm> {
+    const row = await this.ctx.ds.getRepository(AlarmEntity).findOne({ where: { id } });
+    if (!row) throw notFound('The alarm');
+    const [alarm] = await this.toAlarms([row]);
+    return alarm;
+  }
+
+  async acknowledge(actor: SessionUser, id: string, input: AcknowledgeAlarmInput): Promise<Alarm> {
+    const row = await this.ctx.ds.transaction(async (m) => {
+      const a = await m.findOne(AlarmEntity, { where: { id }, lock: { mode: 'pessimistic_write' } });
+      if (!a) throw notFound('The alarm');
+      if (a.acknowledgedAt) {
+        const by = a.acknowledgedById ? await m.findOne(UserEntity, { where: { id: a.acknowledgedById } }) : null;
+        throw conflict(
+          `This alarm was already acknowledged${by ? ` by ${by.name}` : ''} at ${a.acknowledgedAt.toISOString().slice(0, 16).replace('T', ' ')} UTC.`,
+        );
+      }
+      a.acknowledgedAt = this.ctx.now();
+      a.acknowledgedById = actor.id;
+      a.ackNote = input.note;
+      const saved = await m.save(a);
+      await this.ctx.audit.record(
+        {
+          actor,
+          action: 'alarm.acknowledge',
+          entity: 'alarm',
+          entityId: a.id,
+          reason: input.note,
+          details: { kind: a.kind, severity: a.severity, rigId: a.rigId, runId: a.runId, socketIndex: a.socketIndex, cleared: a.clearedAt !== null },
+        },
+        m,
+      );
+      return saved;
+    });
+    const [alarm] = await this.toAlarms([row]);
+    this.emit('acknowledged', alarm);
+    return alarm;
+  }
+
+  async counts(): Promise<AlarmCounts> {
+    const rows: Array<{ rig_id: string | null; severity: AlarmSeverityName; active: boolean; n: number }> = await this.ctx.ds.query(
+      `SELECT rig_id, severity, (cleared_at IS NULL) AS active, count(*)::int AS n
+         FROM alarms WHERE acknowledged_at IS NULL GROUP BY rig_id, severity, (cleared_at IS NULL)`,
+    );
+    const bySeverity: Record<AlarmSeverityName, number> = { critical: 0, warning: 0, info: 0 };
+    let open = 0;
+    let active = 0;
+    const perRig = new Map<string, { open: number; critical: number }>();
+    for (const r of rows) {
+      open += r.n;
+      if (r.active) active += r.n;
+      bySeverity[r.severity] = (bySeverity[r.severity] ?? 0) + r.n;
+      if (r.rig_id) {
+        const e = perRig.get(r.rig_id) ?? { open: 0, critical: 0 };
+        e.open += r.n;
+        if (r.severity === 'critical') e.critical += r.n;
+        perRig.set(r.rig_id, e);
+      }
+    }
+    const rigs = perRig.size ? await this.ctx.ds.getRepository(RigEntity).find({ where: { id: In([...perRig.keys()]) }, select: { id: true, code: true } }) : [];
+    const codeOf = new Map(rigs.map((r) => [r.id, r.code]));
+    const byRig = [...perRig.entries()]
+      .map(([rigId, e]) => ({ rigId, rigCode: codeOf.get(rigId) ?? '?', ...e }))
+      .sort((a, b) => b.critical - a.critical || b.open - a.open || a.rigCode.localeCompare(b.rigCode));
+    return { open, active, bySeverity, byRig };
+  }
+
+  /** Entities → response objects, with rig / run codes and the acknowledging person's name. */
+  async toAlarms(rows: AlarmEntity[], m: EntityManager = this.ctx.ds.manager): Promise<Alarm[]> {
+    const ids = <K extends keyof AlarmEntity>(k: K) => [...new Set(rows.map((r) => r[k]).filter((v): v is NonNullable<AlarmEntity[K]> => !!v))] as string[];
+    const rigIds = ids('rigId');
+    const runIds = ids('runId');
+    const userIds = ids('acknowledgedById');
+    const [rigs, runs, users] = await Promise.all([
+      rigIds.length ? m.find(RigEntity, { where: { id: In(rigIds) }, select: { id: true, code: true } }) : [],
+      runIds.length ? m.find(RunEntity, { where: { id: In(runIds) }, select: { id: true, code: true } }) : [],
+      userIds.length ? m.find(UserEntity, { where: { id: In(userIds) }, select: { id: true, name: true } }) : [],
+    ]);
+    const rig = new Map(rigs.map((r) => [r.id, r.code]));
+    const run = new Map(runs.map((r) => [r.id, r.code]));
+    const user = new Map(users.map((u) => [u.id, u.name]));
+    return rows.map((r) => {
+      const { action, lastSeenAt, occurrences, ...details } = r.details ?? {};
+      return {
+        id: r.id,
+        kind: (ALARM_KINDS as readonly string[]).includes(r.kind) ? r.kind : 'ingest-dropped',
+        severity: r.severity,
+        rigId: r.rigId,
+        rigCode: r.rigId ? (rig.get(r.rigId) ?? null) : null,
+        runId: r.runId,
+        runCode: r.runId ? (run.get(r.runId) ?? null) : null,
+        socketIndex: r.socketIndex,
+        title: r.title,
+        message: r.message,
+        action: typeof action === 'string' ? action : '',
+        details,
+        raisedAt: r.raisedAt.toISOString(),
+        lastSeenAt: typeof lastSeenAt === 'string' ? lastSeenAt : r.raisedAt.toISOString(),
+        occurrences: Number(occurrences ?? 1),
+        acknowledgedAt: iso(r.acknowledgedAt),
+        acknowledgedBy: r.acknowledgedById ? { id: r.acknowledgedById, name: user.get(r.acknowledgedById) ?? 'Unknown user' } : null,
+        ackNote: r.ackNote,
+        clearedAt: iso(r.clearedAt),
+        open: r.acknowledgedAt === null,
+        active: r.clearedAt === null,
+      };
+    });
+  }
+
+  private emit(change: AlarmChange, alarm: Alarm): void {
+    try {
+      this.ctx.events.emit(ALARM_EVENT, { change, alarm } satisfies AlarmEvent);
+    } catch (err) {
+      console.error('[alarms] an alarm listener failed:', err instanceof Error ? err.message : err);
+    }
+  }
+}
+
+export const ALARMS_SERVICE = 'alarms';
+
+/** The one AlarmsService of this process. */
+export function getAlarmsService(ctx: AppContext): AlarmsService {
+  let svc = ctx.services[ALARMS_SERVICE] as AlarmsService | undefined;
+  if (!svc) {
+    svc = new AlarmsService(ctx);
+    ctx.services[ALARMS_SERVICE] = svc;
+  }
+  return svc;
+}

@@ -1,0 +1,725 @@
+/**
+ * Live protection: consumes TELEMETRY_LANDED (each stored telemetry message) and RIG_STATUS_CHANGED,
+ * keeps a short bounded history per (rig, socket) in memory, and
+ * - runs assessSocket (shared/safety/protection) on every energised socket: 'trip' → trip command
+ *   over RigLink (stable cmdId), run_sockets marked tripped, critical alarm; 'warn' → warning alarm;
+ * - raises / clears the condition alarms: rig offline, chamber out of band, bias out of tolerance,
+ *   leakage jump.
+ * Messages of one rig are handled strictly in order (one promise chain per rig); rigs run independently.
+ *
+ * A software trip complements, and never replaces, the rig's hardware interlocks.
+ *
+ * Device data per socket: the loaded device's type (run_sockets → devices → lots → device_types of
+ * the rig's active run); a socket missing from the socket map uses the plan's part; with no active
+ * run an energised socket is judged with conservative defaults (`defaultDevice`, Tj max 150 °C,
+ * θjc 2 °C/W) — set `defaultDevice: null` to skip such sockets instead.
+ */
+import { DEFAULT_PROTECTION_OPTIONS, assessSocket, type ProtectionDevice, type ProtectionOptions, type SocketAssessment, type SocketSample } from '../../../shared/safety/protection';
+import type { SocketReading } from '../../../shared/mqtt';
+import type { AlarmKindName } from '../../../shared/schemas/alarms';
+import type { AppContext } from '../../context';
+import { RunSocketEntity } from '../../db/entities';
+import { getAlarmsService, dedupeKeyFor, type RaiseAlarmInput } from '../alarms/alarms.service';
+import { RIG_LINK, RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigLink, type RigStatusChanged, type TelemetryLanded } from '../telemetry/contracts';
+import { RUN_EVENT, type RunEvent } from '../runs/run-events';
+import type { RunState } from '../../db/entities';
+import { hasActiveRun, loadRunContext, type RunContext } from './run-context';
+
+export interface ProtectionMonitorOptions {
+  /** Passed to assessSocket. */
+  protection: Partial<ProtectionOptions>;
+  /** Samples kept per socket at most (besides the look-back window). */
+  historyMaxSamples: number;
+  /** Device data for an energised socket on a rig without an active run; null = skip such sockets. */
+  defaultDevice: ProtectionDevice | null;
+  /** Chamber band while stressing: ± this percent of the plan's set point … */
+  ambientBandPct: number;
+  /** … but never narrower than ± this many °C. */
+  ambientBandMinC: number;
+  /** Consecutive samples a condition (chamber band, bias) must hold before it raises or clears. */
+  debounceSamples: number;
+  /**
+   * Leakage jump: under reverse bias a socket's current grew by at least this factor from one sample
+   * to the next, beyond what its case-temperature change explains (leakage doubles per 10 °C).
+   */
+  leakageJumpFactor: number;
+  /** Currents below this (A) are too small to judge a jump on. */
+  leakageFloorA: number;
+  /**
+   * Consecutive 'warn' assessments before a runaway warning is raised. A warning is advice, and a
+   * settling socket can show one stray trend warning just after bias is applied; trips are never
+   * delayed.
+   */
+  warnAfterSamples: number;
+  /** Consecutive calm samples before a runaway warning counts as cleared. */
+  warnClearSamples: number;
+  /** An ongoing alarm's numbers are refreshed at most this often (ms of wall time). */
+  refreshMs: number;
+  /** Run context cache lifetime (ms); run events drop it sooner. */
+  runCacheMs: number;
+  /** Attempts to deliver a trip command (same cmdId each time). */
+  tripAttempts: number;
+  tripTimeoutMs: number;
+}
+
+export const DEFAULT_MONITOR_OPTIONS: ProtectionMonitorOptions = {
+  protection: {},
+  historyMaxSamples: 600,
+  defaultDevice: { tjMaxC: 150, thetaJcCPerW: 2 },
+  ambientBandPct: 3,
+  ambientBandMinC: 1,
+  debounceSamples: 2,
+  leakageJumpFactor: 5,
+  leakageFloorA: 1e-9,
+  warnAfterSamples: 3,
+  warnClearSamples: 3,
+  refreshMs: 5000,
+  runCacheMs: 15_000,
+  tripAttempts: 3,
+  tripTimeoutMs: 5000,
+};
+
+export const TRIP_ACTION =
+  "Leave the socket de-energised; check heat sinking and bias before a reset; the rig's hardware interlocks remain the primary protection.";
+export const WARN_ACTION =
+  "Watch this socket and check its heat sinking (clamp, pad, airflow) and bias. Emberlot trips it if the junction keeps heading for its rating; the rig's hardware interlocks remain the primary protection.";
+export const OFFLINE_ACTION =
+  "Check the rig's controller and network connection. Until it reconnects Emberlot cannot see or trip its sockets; its hardware interlocks still protect the devices. Do not open a hot or energised oven to look.";
+export const AMBIENT_ACTION =
+  'Check the oven door, its controller and its set point. Stress time outside the band may not count toward the run.';
+export const BIAS_ACTION =
+  'Check the bias supply, the socket contact and the wiring. The device is not stressed as planned while this lasts.';
+export const LEAKAGE_ACTION =
+  'The device may be degrading or breaking down. Watch its current; if it keeps climbing, remove bias from the socket and note the device for failure analysis.';
+
+interface SocketState {
+  history: SocketSample[];
+  calm: number;
+  warnStreak: number;
+  /** A trip command was issued for this socket and its latch has not been reset since. */
+  tripCmdId: string | null;
+  /** Delivery of that command: resent (same cmdId) on a later sample while it failed and bias is still on. */
+  tripDelivery: 'sending' | 'confirmed' | 'failed' | null;
+  tripReason: string;
+  sawTripped: boolean;
+  biasOut: number;
+  biasIn: number;
+  lastI: number | null;
+  lastCaseC: number | null;
+  lastBiasOn: boolean;
+  leakBaseline: number | null;
+}
+
+interface RigState {
+  rigCode: string;
+  lastClockS: number | null;
+  lastSeq: number | null;
+  sockets: Map<number, SocketState>;
+  ambientOut: number;
+  ambientIn: number;
+}
+
+const f1 = (x: number | null | undefined) => (x === null || x === undefined || !Number.isFinite(x) ? 'n/a' : (Math.round(x * 10) / 10).toFixed(1));
+const round = (x: number | null, digits = 3) => (x === null || !Number.isFinite(x) ? null : Number(x.toFixed(digits)));
+const clip = (s: string, n: number) => (s.length > n ? s.slice(0, n - 1) + '…' : s);
+const REVERSE_KINDS = new Set(['htrb', 'thb']);
+
+/** Stable trip command id: `trip:<rig>:<socket>:<runId>` (":n" from the second trip of a socket in a run). */
+export function tripCmdId(rigCode: string, socket: number, runId: string | null, previousTrips = 0): string {
+  const suffix = previousTrips > 0 ? `:${previousTrips + 1}` : '';
+  const id = `trip:${rigCode}:${socket}:${runId ?? 'norun'}${suffix}`;
+  if (id.length <= 64) return id;
+  // Long rig codes: the run id without dashes still identifies it (cmdId is at most 64 characters).
+  return `trip:${rigCode}:${socket}:${(runId ?? 'norun').replace(/-/g, '').slice(0, 64 - 8 - rigCode.length - String(socket).length - suffix.length)}${suffix}`;
+}
+
+export class ProtectionMonitor {
+  readonly opts: ProtectionMonitorOptions;
+  private readonly rigs = new Map<string, RigState>();
+  private readonly runs = new Map<string, { run: RunContext | null; at: number }>();
+  private readonly chains = new Map<string, Promise<void>>();
+  private readonly pending = new Set<Promise<unknown>>();
+  /** Dedupe keys of conditions this monitor believes active → last refresh (ms). */
+  private readonly active = new Map<string, number>();
+  private readonly listeners: Array<[string, (...a: any[]) => void]> = [];
+  private started = false;
+  readonly stats = { messages: 0, staleSkipped: 0, assessments: 0, trips: 0, tripSendFailures: 0, warnings: 0, errors: 0 };
+  /** Every trip decision, for tests and the log. */
+  readonly tripLog: Array<{ rigCode: string; socket: number; runId: string | null; cmdId: string; assessment: SocketAssessment; sample: SocketSample; at: Date }> = [];
+
+  constructor(private readonly ctx: AppContext, opts: Partial<ProtectionMonitorOptions> = {}) {
+    this.opts = { ...DEFAULT_MONITOR_OPTIONS, ...opts, protection: { ...DEFAULT_MONITOR_OPTIONS.protection, ...(opts.protection ?? {}) } };
+  }
+
+  private get alarms() {
+    return getAlarmsService(this.ctx);
+  }
+
+  async start(): Promise<void> {
+    if (this.started) return;
+    this.started = true;
+    // Conditions still active from before a restart, so they can clear when seen healthy again.
+    const kinds: AlarmKindName[] = ['runaway-warning', 'runaway-trip', 'rig-offline', 'ambient-out-of-band', 'bias-out-of-tolerance', 'leakage-jump'];
+    for (const a of await this.alarms.activeKeys(kinds)) this.active.set(a.key, 0);
+    const on = (event: string, fn: (...a: any[]) => void) => {
+      this.ctx.events.on(event, fn);
+      this.listeners.push([event, fn]);
+    };
+    on(TELEMETRY_LANDED, (m: TelemetryLanded) => this.enqueue(m.rigId, () => this.onTelemetry(m)));
+    on(RIG_STATUS_CHANGED, (s: RigStatusChanged) => this.enqueue(s.rigId, () => this.onStatus(s)));
+    const invalidate = (e: unknown) => {
+      const rigId = (e as { rigId?: unknown } | null)?.rigId;
+      if (typeof rigId === 'string') this.runs.delete(rigId);
+      else this.runs.clear();
+    };
+    on('run', invalidate);
+    on(RUN_EVENT, (e: RunEvent) => {
+      invalidate(e);
+      if (e?.type === 'state-changed' && e.rigId) {
+        const rigId = e.rigId;
+        this.enqueue(rigId, () => this.onRunStateChanged(rigId, e.to));
+      }
+    });
+  }
+
+  async stop(): Promise<void> {
+    for (const [event, fn] of this.listeners) this.ctx.events.off(event, fn);
+    this.listeners.length = 0;
+    await this.idle();
+    this.started = false;
+  }
+
+  /** Resolves once every queued message and every trip in flight has been handled. */
+  async idle(): Promise<void> {
+    while (this.chains.size > 0 || this.pending.size > 0) {
+      await Promise.allSettled([...this.chains.values(), ...this.pending]);
+    }
+  }
+
+  /** Forget a rig's run context (the run changed). */
+  invalidateRun(rigId?: string): void {
+    if (rigId) this.runs.delete(rigId);
+    else this.runs.clear();
+  }
+
+  private enqueue(rigId: string, job: () => Promise<void>): void {
+    const prev = this.chains.get(rigId) ?? Promise.resolve();
+    const next = prev
+      .then(job)
+      .catch((err) => {
+        this.stats.errors++;
+        console.error(`[protection] rig ${rigId}:`, err instanceof Error ? err.message : err);
+      })
+      .finally(() => {
+        if (this.chains.get(rigId) === next) this.chains.delete(rigId);
+      });
+    this.chains.set(rigId, next);
+  }
+
+  private track<T>(p: Promise<T>): void {
+    const t = p
+      .catch((err) => {
+        this.stats.errors++;
+        console.error('[protection]', err instanceof Error ? err.message : err);
+      })
+      .finally(() => this.pending.delete(t));
+    this.pending.add(t);
+  }
+
+  private async runFor(rigId: string): Promise<RunContext | null> {
+    const cached = this.runs.get(rigId);
+    const now = Date.now();
+    if (cached && now - cached.at < this.opts.runCacheMs) return cached.run;
+    const run = await loadRunContext(this.ctx, rigId);
+    // Keep the in-memory trip counts of a run we already knew (they may be ahead of the database).
+    if (run && cached?.run?.runId === run.runId) {
+      for (const [i, s] of run.sockets) s.trips = Math.max(s.trips, cached.run.sockets.get(i)?.trips ?? 0);
+    }
+    this.runs.set(rigId, { run, at: now });
+    return run;
+  }
+
+  private rigState(rigId: string, rigCode: string): RigState {
+    let r = this.rigs.get(rigId);
+    if (!r) {
+      r = { rigCode, lastClockS: null, lastSeq: null, sockets: new Map(), ambientOut: 0, ambientIn: 0 };
+      this.rigs.set(rigId, r);
+    }
+    r.rigCode = rigCode;
+    return r;
+  }
+
+  private socketState(r: RigState, i: number): SocketState {
+    let s = r.sockets.get(i);
+    if (!s) {
+      s = { history: [], calm: 0, warnStreak: 0, tripCmdId: null, tripDelivery: null, tripReason: '', sawTripped: false, biasOut: 0, biasIn: 0, lastI: null, lastCaseC: null, lastBiasOn: false, leakBaseline: null };
+      r.sockets.set(i, s);
+    }
+    return s;
+  }
+
+  // -------------------------------------------------------------------------------------------
+  // Alarm helpers (throttled refresh, clear only what is active)
+
+  private async raise(input: RaiseAlarmInput, force = false): Promise<void> {
+    const key = dedupeKeyFor(input.kind, input.rigId, input.socketIndex);
+    const last = this.active.get(key);
+    const now = Date.now();
+    if (!force && last !== undefined && last > 0 && now - last < this.opts.refreshMs) return;
+    this.active.set(key, now);
+    await this.alarms.raise(input);
+  }
+
+  private async clear(kind: AlarmKindName, rigId: string, socket: number | null, details?: Record<string, unknown>): Promise<void> {
+    const key = dedupeKeyFor(kind, rigId, socket);
+    if (!this.active.has(key)) return;
+    this.active.delete(key);
+    await this.alarms.clear(kind, rigId, socket, details);
+  }
+
+  private isActive(kind: AlarmKindName, rigId: string, socket: number | null): boolean {
+    return this.active.has(dedupeKeyFor(kind, rigId, socket));
+  }
+
+  // -------------------------------------------------------------------------------------------
+
+  /** A run left stressing or ended: conditions judged against its plan no longer apply. */
+  private async onRunStateChanged(rigId: string, to: RunState): Promise<void> {
+    this.runs.delete(rigId);
+    const kinds: AlarmKindName[] = [];
+    if (to !== 'stressing') kinds.push('bias-out-of-tolerance', 'ambient-out-of-band');
+    if (to === 'finished' || to === 'aborted') kinds.push('leakage-jump', 'runaway-warning', 'runaway-trip');
+    const rig = this.rigs.get(rigId);
+    if (rig) {
+      rig.ambientIn = rig.ambientOut = 0;
+      for (const st of rig.sockets.values()) {
+        st.biasIn = st.biasOut = 0;
+        if (to === 'finished' || to === 'aborted') st.leakBaseline = null;
+      }
+    }
+    for (const key of [...this.active.keys()]) {
+      const [kind, keyRig, socket] = key.split(':');
+      if (keyRig !== rigId || !kinds.includes(kind as AlarmKindName)) continue;
+      await this.clear(kind as AlarmKindName, rigId, socket === '-' ? null : Number(socket), { runState: to });
+    }
+  }
+
+  private async onStatus(s: RigStatusChanged): Promise<void> {
+    const rig = this.rigState(s.rigId, s.rigCode);
+    if (s.online) {
+      await this.clear('rig-offline', s.rigId, null, { onlineAt: s.at.toISOString() });
+      return;
+    }
+    // The gap in telemetry breaks every trend: start the histories afresh.
+    for (const st of rig.sockets.values()) st.history = [];
+    rig.lastClockS = null;
+    if (!(await hasActiveRun(this.ctx, s.rigId))) return;
+    this.runs.delete(s.rigId);
+    const run = await this.runFor(s.rigId);
+    const when = s.at.toISOString().slice(0, 19).replace('T', ' ');
+    await this.raise(
+      {
+        kind: 'rig-offline',
+        severity: 'critical',
+        rigId: s.rigId,
+        runId: run?.runId ?? null,
+        socketIndex: null,
+        title: `Rig ${s.rigCode} is offline`,
+        message:
+          `${s.rigCode} went offline at ${when} UTC` +
+          (run ? ` while run ${run.runCode} was ${run.state}` : ' while a run was booked on it') +
+          '. Emberlot receives no telemetry from it and cannot trip its sockets until it reconnects.',
+        action: OFFLINE_ACTION,
+        details: { offlineAt: s.at.toISOString(), runState: run?.state ?? null },
+      },
+      true,
+    );
+  }
+
+  private async onTelemetry(m: TelemetryLanded): Promise<void> {
+    this.stats.messages++;
+    const rig = this.rigState(m.rigId, m.rigCode);
+    if (rig.lastSeq !== null && m.seq <= rig.lastSeq) {
+      // A late re-send of an older sample (the rig's outbox): newer ones were already judged.
+      this.stats.staleSkipped++;
+      return;
+    }
+    if (rig.lastClockS !== null && m.stressClockS < rig.lastClockS) {
+      // Newer seq, earlier clock: the rig rebooted; old samples are on another time base.
+      for (const st of rig.sockets.values()) st.history = [];
+    }
+    rig.lastClockS = m.stressClockS;
+    rig.lastSeq = m.seq;
+    // Telemetry proves the rig is back.
+    if (this.isActive('rig-offline', m.rigId, null)) await this.clear('rig-offline', m.rigId, null, { telemetryAt: m.ts.toISOString() });
+
+    const run = await this.runFor(m.rigId);
+    for (const reading of m.sockets) {
+      await this.onSocket(m, rig, run, reading);
+    }
+    await this.checkAmbient(m, rig, run);
+  }
+
+  private deviceFor(run: RunContext | null, i: number): { device: ProtectionDevice; serial: string | null; partNumber: string | null; trips: number } | null {
+    const s = run?.sockets.get(i);
+    if (s) return { device: s.device, serial: s.serial, partNumber: s.partNumber, trips: s.trips };
+    if (run) return { device: run.planDevice, serial: null, partNumber: run.planPartNumber, trips: 0 };
+    if (this.opts.defaultDevice) return { device: this.opts.defaultDevice, serial: null, partNumber: null, trips: 0 };
+    return null;
+  }
+
+  private async onSocket(m: TelemetryLanded, rig: RigState, run: RunContext | null, reading: SocketReading): Promise<void> {
+    const st = this.socketState(rig, reading.i);
+    const sample: SocketSample = {
+      tS: m.stressClockS,
+      caseC: reading.caseC,
+      vV: Math.abs(reading.vV),
+      iA: Math.abs(reading.iA),
+      chamberC: m.chamberC,
+      biasOn: reading.biasOn && !reading.tripped,
+    };
+
+    if (reading.tripped) {
+      // The rig's latch holds the socket off (our trip or its own interlock).
+      st.sawTripped = true;
+      st.history = [];
+      st.calm = 0;
+      st.lastBiasOn = false;
+      if (this.isActive('runaway-warning', m.rigId, reading.i)) await this.clear('runaway-warning', m.rigId, reading.i, { reason: 'socket tripped' });
+      return;
+    }
+    if (st.sawTripped) {
+      // The latch was reset: the trip's condition is over (the alarm stays until acknowledged).
+      st.sawTripped = false;
+      st.tripCmdId = null;
+      st.tripDelivery = null;
+      await this.clear('runaway-trip', m.rigId, reading.i, { reason: 'trip latch reset' });
+    }
+    if (st.tripCmdId && st.tripDelivery === 'failed' && sample.biasOn) {
+      // Still energised and the command never got through: try again with the same cmdId.
+      this.track(this.resendTrip(m, run, reading.i, st));
+    }
+
+    // Bounded history: the look-back window plus a margin, and never more than historyMaxSamples.
+    const windowS = this.opts.protection.windowS ?? DEFAULT_PROTECTION_OPTIONS.windowS;
+    const last = st.history[st.history.length - 1];
+    if (last && sample.tS <= last.tS) st.history = [];
+    st.history.push(sample);
+    let drop = 0;
+    while (drop < st.history.length - 1 && st.history[drop].tS < sample.tS - 2 * windowS) drop++;
+    if (st.history.length - drop > this.opts.historyMaxSamples) drop = st.history.length - this.opts.historyMaxSamples;
+    if (drop > 0) st.history.splice(0, drop);
+
+    const dev = this.deviceFor(run, reading.i);
+    if (dev && sample.biasOn && !st.tripCmdId) {
+      this.stats.assessments++;
+      const a = assessSocket(st.history, dev.device, this.opts.protection);
+      if (a.action === 'trip') {
+        this.startTrip(m, rig, run, reading.i, st, sample, a, dev);
+      } else if (a.action === 'warn') {
+        st.calm = 0;
+        st.warnStreak++;
+      }
+      if (a.action === 'warn' && st.warnStreak >= this.opts.warnAfterSamples) {
+        this.stats.warnings++;
+        await this.raise({
+          kind: 'runaway-warning',
+          severity: 'warning',
+          rigId: m.rigId,
+          runId: run?.runId ?? null,
+          socketIndex: reading.i,
+          title: `Socket ${reading.i} on ${m.rigCode}: runaway risk`,
+          message: `${a.reason}. ${numbersText(a, dev.device)}`,
+          action: WARN_ACTION,
+          details: assessmentDetails(a, dev.device, sample, dev.serial),
+        });
+      } else if (a.action === 'none') {
+        st.warnStreak = 0;
+        st.calm++;
+        if (st.calm >= this.opts.warnClearSamples && this.isActive('runaway-warning', m.rigId, reading.i)) {
+          await this.clear('runaway-warning', m.rigId, reading.i, { reason: a.reason });
+        }
+      }
+    }
+
+    if (run && !st.tripCmdId) {
+      await this.checkBias(m, run, reading, st, sample);
+      await this.checkLeakage(m, run, reading, st, sample);
+    }
+    st.lastI = sample.biasOn ? sample.iA : null;
+    st.lastCaseC = sample.caseC;
+    st.lastBiasOn = sample.biasOn;
+  }
+
+  // -------------------------------------------------------------------------------------------
+  // Trip
+
+  private startTrip(
+    m: TelemetryLanded,
+    rig: RigState,
+    run: RunContext | null,
+    socket: number,
+    st: SocketState,
+    sample: SocketSample,
+    a: SocketAssessment,
+    dev: { device: ProtectionDevice; serial: string | null; trips: number },
+  ): void {
+    const cmdId = tripCmdId(m.rigCode, socket, run?.runId ?? null, dev.trips);
+    st.tripCmdId = cmdId;
+    st.history = [];
+    const runSocket = run?.sockets.get(socket);
+    if (runSocket) runSocket.trips += 1;
+    this.stats.trips++;
+    const at = this.ctx.now();
+    this.tripLog.push({ rigCode: m.rigCode, socket, runId: run?.runId ?? null, cmdId, assessment: a, sample, at });
+    if (this.tripLog.length > 1000) this.tripLog.shift();
+    const reason = clip(`Emberlot protection: ${a.reason}`, 200);
+
+    // 1. The command first: nothing else may delay it.
+    st.tripDelivery = 'sending';
+    st.tripReason = reason;
+    const delivery = this.sendTrip(m.rigCode, socket, reason, cmdId).then((r) => {
+      if (st.tripCmdId === cmdId) st.tripDelivery = r.ok ? 'confirmed' : 'failed';
+      return r;
+    });
+    // 2. Record and alarm in parallel.
+    const details = { ...assessmentDetails(a, dev.device, sample, dev.serial), cmdId, command: 'sent' };
+    const title = `Socket ${socket} on ${m.rigCode} tripped: runaway`;
+    const where = `socket ${socket} on ${m.rigCode}${dev.serial ? ` (device ${dev.serial}` + (run ? `, run ${run.runCode})` : ')') : run ? ` (run ${run.runCode})` : ''}`;
+    const baseMessage = `Emberlot removed bias from ${where}: ${a.reason}. ${numbersText(a, dev.device)}`;
+    const record = async () => {
+      if (run) {
+        await this.ctx.ds
+          .getRepository(RunSocketEntity)
+          .update({ runId: run.runId, socketIndex: socket }, { tripped: true, trippedAt: at, tripReason: clip(a.reason, 1000) });
+      }
+      await this.clear('runaway-warning', m.rigId, socket, { reason: 'superseded by a trip' });
+      await this.raise(
+        { kind: 'runaway-trip', severity: 'critical', rigId: m.rigId, runId: run?.runId ?? null, socketIndex: socket, title, message: baseMessage, action: TRIP_ACTION, details },
+        true,
+      );
+      const outcome = await delivery;
+      const message = outcome.ok
+        ? `${baseMessage} The rig confirmed the trip.`
+        : `${baseMessage} The rig did NOT confirm the trip command (${outcome.error}): remove bias from this socket at the rig now.`;
+      await this.raise(
+        {
+          kind: 'runaway-trip',
+          severity: 'critical',
+          rigId: m.rigId,
+          runId: run?.runId ?? null,
+          socketIndex: socket,
+          title,
+          message,
+          action: TRIP_ACTION,
+          details: { ...details, command: outcome.ok ? 'confirmed' : 'not confirmed', commandError: outcome.ok ? null : outcome.error },
+        },
+        true,
+      );
+    };
+    this.track(record());
+    void rig;
+  }
+
+  private async resendTrip(m: TelemetryLanded, run: RunContext | null, socket: number, st: SocketState): Promise<void> {
+    const cmdId = st.tripCmdId;
+    if (!cmdId) return;
+    st.tripDelivery = 'sending';
+    const r = await this.sendTrip(m.rigCode, socket, st.tripReason, cmdId);
+    if (st.tripCmdId !== cmdId) return;
+    st.tripDelivery = r.ok ? 'confirmed' : 'failed';
+    if (r.ok) {
+      const key = dedupeKeyFor('runaway-trip', m.rigId, socket);
+      this.active.set(key, Date.now());
+      const current = await this.alarms.list({ status: 'all', rigId: m.rigId, kind: 'runaway-trip', limit: 100, offset: 0 });
+      const a = current.items.find((x) => x.socketIndex === socket && x.active);
+      if (a) {
+        await this.alarms.raise({
+          kind: 'runaway-trip',
+          severity: 'critical',
+          rigId: m.rigId,
+          runId: run?.runId ?? a.runId,
+          socketIndex: socket,
+          title: a.title,
+          message: a.message.replace(/ The rig did NOT confirm.*$/, ' The rig confirmed the trip on a later attempt.'),
+          action: a.action,
+          details: { ...a.details, command: 'confirmed', commandError: null },
+        });
+      }
+    }
+  }
+
+  private async sendTrip(rigCode: string, socket: number, reason: string, cmdId: string): Promise<{ ok: true } | { ok: false; error: string }> {
+    let error = 'no rig link is running in this server';
+    for (let attempt = 1; attempt <= this.opts.tripAttempts; attempt++) {
+      const link = this.ctx.services[RIG_LINK] as RigLink | undefined;
+      if (!link) break;
+      try {
+        const ack = await link.send(rigCode, { type: 'trip', socket, reason }, { cmdId, timeoutMs: this.opts.tripTimeoutMs });
+        if (ack.ok) return { ok: true };
+        error = ack.error ?? 'the rig refused the command';
+        break; // an explicit refusal will not change on a resend of the same cmdId
+      } catch (err) {
+        error = err instanceof Error ? err.message : String(err);
+      }
+    }
+    this.stats.tripSendFailures++;
+    console.error(`[protection] trip ${cmdId} not confirmed: ${error}`);
+    return { ok: false, error };
+  }
+
+  // -------------------------------------------------------------------------------------------
+  // Conditions
+
+  private async checkAmbient(m: TelemetryLanded, rig: RigState, run: RunContext | null): Promise<void> {
+    if (!run || run.state !== 'stressing') {
+      rig.ambientOut = rig.ambientIn = 0;
+      if (this.isActive('ambient-out-of-band', m.rigId, null) && (!run || run.state !== 'stressing')) {
+        await this.clear('ambient-out-of-band', m.rigId, null, { reason: run ? `run ${run.state}` : 'no active run' });
+      }
+      return;
+    }
+    const set = run.chamberC;
+    const band = Math.max((this.opts.ambientBandPct / 100) * Math.abs(set), this.opts.ambientBandMinC);
+    const dev = m.chamberC - set;
+    if (Math.abs(dev) > band) {
+      rig.ambientOut++;
+      rig.ambientIn = 0;
+      if (rig.ambientOut >= this.opts.debounceSamples) {
+        await this.raise({
+          kind: 'ambient-out-of-band',
+          severity: 'warning',
+          rigId: m.rigId,
+          runId: run.runId,
+          socketIndex: null,
+          title: `Chamber of ${m.rigCode} out of band`,
+          message: `The chamber of ${m.rigCode} reads ${f1(m.chamberC)} °C; run ${run.runCode} holds ${f1(set)} °C ± ${f1(band)} °C (${f1(set - band)}–${f1(set + band)} °C), ${f1(Math.abs(dev))} °C ${dev > 0 ? 'too hot' : 'too cold'}.`,
+          action: AMBIENT_ACTION,
+          details: { chamberC: m.chamberC, setC: set, bandC: round(band, 2), deviationC: round(dev, 2), rigSetpointC: m.setpointC },
+        });
+      }
+    } else {
+      rig.ambientIn++;
+      rig.ambientOut = 0;
+      if (rig.ambientIn >= this.opts.debounceSamples && this.isActive('ambient-out-of-band', m.rigId, null)) {
+        await this.clear('ambient-out-of-band', m.rigId, null, { chamberC: m.chamberC });
+      }
+    }
+  }
+
+  private async checkBias(m: TelemetryLanded, run: RunContext, reading: SocketReading, st: SocketState, sample: SocketSample): Promise<void> {
+    const judged = run.state === 'stressing' && sample.biasOn;
+    const checks: Array<{ what: string; unit: string; set: number; measured: number }> = [];
+    if (judged) {
+      const b = run.bias;
+      if (REVERSE_KINDS.has(run.planKind)) {
+        if (b.vcbV) checks.push({ what: 'reverse voltage', unit: 'V', set: b.vcbV, measured: sample.vV });
+      } else {
+        if (b.vceV) checks.push({ what: 'VCE', unit: 'V', set: b.vceV, measured: sample.vV });
+        if (b.icA) checks.push({ what: 'collector current', unit: 'A', set: b.icA, measured: sample.iA });
+      }
+    }
+    const tol = run.bias.tolerancePct ?? 5;
+    const off = checks.find((c) => Math.abs(c.measured - c.set) > (tol / 100) * c.set);
+    if (judged && off) {
+      st.biasOut++;
+      st.biasIn = 0;
+      if (st.biasOut >= this.opts.debounceSamples) {
+        const pct = ((off.measured - off.set) / off.set) * 100;
+        await this.raise({
+          kind: 'bias-out-of-tolerance',
+          severity: 'warning',
+          rigId: m.rigId,
+          runId: run.runId,
+          socketIndex: reading.i,
+          title: `Socket ${reading.i} on ${m.rigCode}: bias out of tolerance`,
+          message: `Socket ${reading.i} on ${m.rigCode} reads ${fmtUnit(off.measured, off.unit)} ${off.what} against the plan's ${fmtUnit(off.set, off.unit)} (± ${tol} %): ${Math.abs(pct).toFixed(1)} % ${pct < 0 ? 'low' : 'high'}.`,
+          action: BIAS_ACTION,
+          details: { quantity: off.what, measured: off.measured, set: off.set, unit: off.unit, tolerancePct: tol, deviationPct: round(pct, 2) },
+        });
+      }
+    } else if (judged) {
+      st.biasIn++;
+      st.biasOut = 0;
+      if (st.biasIn >= this.opts.debounceSamples && this.isActive('bias-out-of-tolerance', m.rigId, reading.i)) {
+        await this.clear('bias-out-of-tolerance', m.rigId, reading.i, { vV: sample.vV, iA: sample.iA });
+      }
+    } else {
+      st.biasOut = st.biasIn = 0;
+    }
+  }
+
+  private async checkLeakage(m: TelemetryLanded, run: RunContext, reading: SocketReading, st: SocketState, sample: SocketSample): Promise<void> {
+    if (!REVERSE_KINDS.has(run.planKind) || !sample.biasOn) return;
+    const factor = this.opts.leakageJumpFactor;
+    if (st.leakBaseline !== null && this.isActive('leakage-jump', m.rigId, reading.i)) {
+      const expected = st.leakBaseline;
+      if (sample.iA < factor * expected) {
+        st.leakBaseline = null;
+        await this.clear('leakage-jump', m.rigId, reading.i, { iA: sample.iA });
+      }
+      return;
+    }
+    if (!st.lastBiasOn || st.lastI === null || st.lastCaseC === null || st.lastI < this.opts.leakageFloorA) return;
+    // Leakage roughly doubles per 10 °C (common practice): allow for the case temperature change.
+    const thermal = Math.max(1, Math.pow(2, (sample.caseC - st.lastCaseC) / 10));
+    const ratio = sample.iA / st.lastI;
+    if (ratio >= factor * thermal) {
+      st.leakBaseline = st.lastI;
+      await this.raise(
+        {
+          kind: 'leakage-jump',
+          severity: 'warning',
+          rigId: m.rigId,
+          runId: run.runId,
+          socketIndex: reading.i,
+          title: `Socket ${reading.i} on ${m.rigCode}: leakage jumped ×${ratio >= 100 ? Math.round(ratio) : ratio.toFixed(1)}`,
+          message: `Under reverse bias the current of socket ${reading.i} on ${m.rigCode} rose from ${fmtUnit(st.lastI, 'A')} to ${fmtUnit(sample.iA, 'A')} between two samples (×${ratio.toPrecision(3)}; the alarm threshold is ×${factor} beyond the temperature effect, the case moved ${f1(sample.caseC - st.lastCaseC)} °C).`,
+          action: LEAKAGE_ACTION,
+          details: { fromA: st.lastI, toA: sample.iA, ratio: round(ratio, 2), factor, caseC: sample.caseC, stressClockS: sample.tS },
+        },
+        true,
+      );
+    }
+  }
+}
+
+function fmtUnit(x: number, unit: string): string {
+  const a = Math.abs(x);
+  if (unit === 'A') {
+    if (a === 0) return '0 A';
+    if (a < 1e-6) return `${(x * 1e9).toPrecision(3)} nA`;
+    if (a < 1e-3) return `${(x * 1e6).toPrecision(3)} µA`;
+    if (a < 1) return `${(x * 1e3).toPrecision(3)} mA`;
+    return `${x.toPrecision(3)} A`;
+  }
+  return `${Number(x.toPrecision(4))} ${unit}`;
+}
+
+function numbersText(a: SocketAssessment, d: ProtectionDevice): string {
+  const parts = [`Junction estimate ${f1(a.tjC)} °C against a rating of ${f1(d.tjMaxC)} °C`];
+  parts.push(a.loopGain === null ? 'loop gain not resolved yet' : `loop gain ${a.loopGain.toFixed(2)}`);
+  parts.push(a.secondsToTjMax === null ? 'no projection to Tj max' : `Tj max projected in ${Math.round(a.secondsToTjMax)} s at this trend`);
+  return parts.join('; ') + '.';
+}
+
+function assessmentDetails(a: SocketAssessment, d: ProtectionDevice, s: SocketSample, serial: string | null): Record<string, unknown> {
+  return {
+    tjC: round(a.tjC, 2),
+    tjMaxC: d.tjMaxC,
+    marginC: a.tjC === null ? null : round(d.tjMaxC - a.tjC, 2),
+    loopGain: round(a.loopGain, 3),
+    secondsToTjMax: round(a.secondsToTjMax, 1),
+    slopeCPerS: round(a.slopeCPerS, 4),
+    thetaCaCPerW: round(a.thetaCaCPerW, 3),
+    thetaJcCPerW: d.thetaJcCPerW,
+    caseC: s.caseC,
+    chamberC: s.chamberC,
+    vV: s.vV,
+    iA: s.iA,
+    powerW: round(s.vV * s.iA, 3),
+    stressClockS: s.tS,
+    deviceSerial: serial,
+    reason: a.reason,
+  };
+}

@@ -1,0 +1,91 @@
+/**
+ * What protection needs to know about a rig's active run: the plan (chamber set point, bias, kind)
+ * and, per socket, the loaded device's thermal data (run_sockets → devices → lots → device_types).
+ * Loaded once per run and cached; dropped when a run event names the rig, and re-read after a TTL.
+ */
+import { In, Not } from 'typeorm';
+import type { ProtectionDevice } from '../../../shared/safety/protection';
+import type { Bias, PlanKind } from '../../../shared/schemas/plans';
+import type { AppContext } from '../../context';
+import { AlarmEntity, DeviceTypeEntity, RunEntity, RunSocketEntity, StressPlanEntity, type RunState } from '../../db/entities';
+
+/** Run states in which the rig's sockets belong to the run (bias may be on). */
+export const RUN_STATES_ON_RIG: readonly RunState[] = ['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling'];
+
+export interface SocketDevice {
+  device: ProtectionDevice;
+  serial: string;
+  partNumber: string;
+  /** Trips of this socket already recorded in this run (runaway-trip alarms). */
+  trips: number;
+}
+
+export interface RunContext {
+  runId: string;
+  runCode: string;
+  state: RunState;
+  planKind: PlanKind;
+  chamberC: number;
+  bias: Bias;
+  /** The plan's part: used for an energised socket missing from the socket map. */
+  planDevice: ProtectionDevice;
+  planPartNumber: string;
+  sockets: Map<number, SocketDevice>;
+}
+
+export const deviceOf = (t: Pick<DeviceTypeEntity, 'tjMaxC' | 'thetaJcCPerW'>): ProtectionDevice => ({
+  tjMaxC: t.tjMaxC,
+  thetaJcCPerW: t.thetaJcCPerW,
+});
+
+/** The active run on a rig with its socket map, or null when the rig has none. */
+export async function loadRunContext(ctx: AppContext, rigId: string): Promise<RunContext | null> {
+  const m = ctx.ds.manager;
+  const run = await m.findOne(RunEntity, {
+    where: { rigId, state: In([...RUN_STATES_ON_RIG]) },
+    order: { stateChangedAt: 'DESC' },
+  });
+  if (!run) return null;
+  const plan = await m.findOne(StressPlanEntity, { where: { id: run.planId }, relations: { deviceType: true } });
+  if (!plan || !plan.deviceType) return null;
+  const rows = await m.find(RunSocketEntity, {
+    where: { runId: run.id },
+    relations: { device: { lot: { deviceType: true } } },
+  });
+  const tripCounts: Array<{ socket_index: number; n: number }> = await m
+    .createQueryBuilder(AlarmEntity, 'a')
+    .select('a.socket_index', 'socket_index')
+    .addSelect('count(*)::int', 'n')
+    .where('a.run_id = :runId', { runId: run.id })
+    .andWhere(`a.kind = 'runaway-trip'`)
+    .andWhere('a.socket_index IS NOT NULL')
+    .groupBy('a.socket_index')
+    .getRawMany();
+  const trips = new Map(tripCounts.map((r) => [Number(r.socket_index), Number(r.n)]));
+  const sockets = new Map<number, SocketDevice>();
+  for (const r of rows) {
+    const type = r.device?.lot?.deviceType;
+    sockets.set(r.socketIndex, {
+      device: deviceOf(type ?? plan.deviceType),
+      serial: r.device?.serial ?? '?',
+      partNumber: (type ?? plan.deviceType).partNumber,
+      trips: trips.get(r.socketIndex) ?? 0,
+    });
+  }
+  return {
+    runId: run.id,
+    runCode: run.code,
+    state: run.state,
+    planKind: plan.kind,
+    chamberC: plan.chamberC,
+    bias: plan.bias,
+    planDevice: deviceOf(plan.deviceType),
+    planPartNumber: plan.deviceType.partNumber,
+    sockets,
+  };
+}
+
+/** Is some run (other than finished/aborted/booked) holding this rig? */
+export async function hasActiveRun(ctx: AppContext, rigId: string): Promise<boolean> {
+  return (await ctx.ds.getRepository(RunEntity).count({ where: { rigId, state: Not(In(['booked', 'finished', 'aborted'])) } })) > 0;
+}

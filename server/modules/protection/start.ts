@@ -1,0 +1,82 @@
+/**
+ * The background half of alarms: live protection, run-event alarms, and the notifier that turns
+ * every newly raised alarm into in-app notifications and e-mails. Started from server/features.ts
+ * after telemetry (it uses ctx.services.rigLink at trip time, whenever that exists).
+ */
+import type { AppContext } from '../../context';
+import { ALARM_EVENT, type AlarmEvent } from '../alarms/alarms.service';
+import { handleRunEvent } from '../alarms/run-event-alarms';
+import { MAIL_SERVICE, MailService, getMailService, type MailServiceOptions } from '../mail/mail.service';
+import { getNotificationsService } from '../notifications/notifications.service';
+import { RUN_EVENT, type RunEvent } from '../runs/run-events';
+import { ProtectionMonitor, type ProtectionMonitorOptions } from './protection.monitor';
+
+export const PROTECTION_MONITOR = 'protection';
+
+export interface ProtectionFeatureOptions {
+  monitor?: Partial<ProtectionMonitorOptions>;
+  mail?: MailServiceOptions;
+}
+
+export interface ProtectionFeature {
+  monitor: ProtectionMonitor;
+  mail: MailService;
+  /** Everything queued so far handled: telemetry, trips, alarms, notifications, e-mails. */
+  idle(): Promise<void>;
+  stop(): Promise<void>;
+}
+
+export async function startProtectionFeature(ctx: AppContext, opts: ProtectionFeatureOptions = {}): Promise<ProtectionFeature> {
+  if (opts.mail) ctx.services[MAIL_SERVICE] = new MailService(ctx, opts.mail);
+  const mail = getMailService(ctx);
+  const notifications = getNotificationsService(ctx);
+  const pending = new Set<Promise<unknown>>();
+  const track = (label: string, p: Promise<unknown>) => {
+    const t = p
+      .catch((err) => console.error(`[alarms] ${label} failed:`, err instanceof Error ? err.message : err))
+      .finally(() => pending.delete(t));
+    pending.add(t);
+  };
+
+  const onAlarm = (e: AlarmEvent) => {
+    if (e.change === 'raised') track('notifying about an alarm', notifications.announceAlarm(e.alarm));
+  };
+  const onRunEvent = (e: RunEvent) => track(`handling run event ${e?.type}`, handleRunEvent(ctx, e));
+  ctx.events.on(ALARM_EVENT, onAlarm);
+  ctx.events.on(RUN_EVENT, onRunEvent);
+
+  const monitor = new ProtectionMonitor(ctx, opts.monitor);
+  await monitor.start();
+  ctx.services[PROTECTION_MONITOR] = monitor;
+
+  const idle = async () => {
+    for (let k = 0; k < 20; k++) {
+      await monitor.idle();
+      while (pending.size > 0) await Promise.allSettled([...pending]);
+      await mail.idle();
+      await monitor.idle();
+      if (pending.size === 0) return;
+    }
+  };
+
+  return {
+    monitor,
+    mail,
+    idle,
+    async stop() {
+      ctx.events.off(RUN_EVENT, onRunEvent);
+      await monitor.stop();
+      await idle();
+      ctx.events.off(ALARM_EVENT, onAlarm);
+      await mail.close();
+      if (ctx.services[PROTECTION_MONITOR] === monitor) delete ctx.services[PROTECTION_MONITOR];
+      if (ctx.services[MAIL_SERVICE] === mail) delete ctx.services[MAIL_SERVICE];
+    },
+  };
+}
+
+/** For server/features.ts: start and hand back the stop function. */
+export async function startProtection(ctx: AppContext): Promise<() => Promise<void>> {
+  const f = await startProtectionFeature(ctx);
+  return () => f.stop();
+}
