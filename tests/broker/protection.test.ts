@@ -203,3 +203,33 @@ describe('runaway sockets are tripped before Tj max', () => {
     expect(audit[0]).toEqual(expect.objectContaining({ action: 'alarm.acknowledge', actor: emailFor('operator'), reason: 'Socket left off; heat sink clamp found loose.' }));
   });
 });
+
+// Runs after the mail counts above, which expect one trip per variant.
+describe('an oven shared by two runs (same chamber condition)', () => {
+  it('trips the socket of the run it belongs to, not the most recent run on the rig', async () => {
+    const v = VARIANTS[0];
+    const spec = { sockets: 2, kind: 'hotl' as const, chamberC: v.chamberC, bias: { vceV: v.model.vV, ibA: v.model.ibA } };
+    const a = await createRunFixture(t.ctx.ds, { ...spec, rigCode: 'PT-S1' });
+    const b = await createRunFixture(t.ctx.ds, { ...spec, rigCode: 'PT-S2' });
+    // Run B moves into A's oven, in sockets 2–3, and is the run that changed state last.
+    await t.ctx.ds.query(`UPDATE runs SET rig_id = $1, state_changed_at = now() + interval '1 minute' WHERE id = $2`, [a.rig.id, b.run.id]);
+    await t.ctx.ds.query(`UPDATE run_sockets SET socket_index = socket_index + 2 WHERE run_id = $1`, [b.run.id]);
+    const sims = [new SocketSim(HEALTHY, v.chamberC), new SocketSim(v.model, v.chamberC), new SocketSim(HEALTHY, v.chamberC), new SocketSim(HEALTHY, v.chamberC)];
+    await drive({ fx: a, sims, chamberC: v.chamberC, sampleS: 2, durationS: 3600, seed: 77, latencyS: 1, watch: 1 });
+
+    expect(sims.map((s) => s.tripped)).toEqual([false, true, false, false]);
+    expect(sims[1].maxTjC).toBeLessThan(150);
+    const rows = await t.ctx.ds.getRepository(RunSocketEntity).find({ where: [{ runId: a.run.id }, { runId: b.run.id }], order: { socketIndex: 'ASC' } });
+    expect(rows.map((r) => [r.runId === a.run.id ? 'A' : 'B', r.socketIndex, r.tripped])).toEqual([
+      ['A', 0, false],
+      ['A', 1, true],
+      ['B', 2, false],
+      ['B', 3, false],
+    ]);
+    const alarm = await t.ctx.ds.getRepository(AlarmEntity).findOneByOrFail({ rigId: a.rig.id, kind: 'runaway-trip' });
+    expect(alarm.runId).toBe(a.run.id);
+    expect(alarm.message).toContain(`run ${a.run.code}`);
+    const trip = link.sent.find((c) => c.rigCode === a.rig.code && c.command.type === 'trip')!;
+    expect(trip.cmdId).toBe(tripCmdId(a.rig.code, 1, a.run.id));
+  }, 30_000);
+});

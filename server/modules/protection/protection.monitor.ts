@@ -464,14 +464,17 @@ export class ProtectionMonitor {
     a: SocketAssessment,
     dev: { device: ProtectionDevice; serial: string | null; trips: number },
   ): void {
-    const cmdId = tripCmdId(m.rigCode, socket, run?.runId ?? null, dev.trips);
+    const runSocket = run?.sockets.get(socket);
+    // The socket's own run when several runs share the oven; else the rig's run.
+    const socketRunId = runSocket?.runId ?? run?.runId ?? null;
+    const socketRunCode = runSocket?.runCode ?? run?.runCode ?? null;
+    const cmdId = tripCmdId(m.rigCode, socket, socketRunId, dev.trips);
     st.tripCmdId = cmdId;
     st.history = [];
-    const runSocket = run?.sockets.get(socket);
     if (runSocket) runSocket.trips += 1;
     this.stats.trips++;
     const at = this.ctx.now();
-    this.tripLog.push({ rigCode: m.rigCode, socket, runId: run?.runId ?? null, cmdId, assessment: a, sample, at });
+    this.tripLog.push({ rigCode: m.rigCode, socket, runId: socketRunId, cmdId, assessment: a, sample, at });
     if (this.tripLog.length > 1000) this.tripLog.shift();
     const reason = clip(`Emberlot protection: ${a.reason}`, 200);
 
@@ -485,17 +488,17 @@ export class ProtectionMonitor {
     // 2. Record and alarm in parallel.
     const details = { ...assessmentDetails(a, dev.device, sample, dev.serial), cmdId, command: 'sent' };
     const title = `Socket ${socket} on ${m.rigCode} tripped: runaway`;
-    const where = `socket ${socket} on ${m.rigCode}${dev.serial ? ` (device ${dev.serial}` + (run ? `, run ${run.runCode})` : ')') : run ? ` (run ${run.runCode})` : ''}`;
+    const where = `socket ${socket} on ${m.rigCode}${dev.serial ? ` (device ${dev.serial}` + (socketRunCode ? `, run ${socketRunCode})` : ')') : socketRunCode ? ` (run ${socketRunCode})` : ''}`;
     const baseMessage = `Emberlot removed bias from ${where}: ${a.reason}. ${numbersText(a, dev.device)}`;
     const record = async () => {
-      if (run) {
+      if (socketRunId) {
         await this.ctx.ds
           .getRepository(RunSocketEntity)
-          .update({ runId: run.runId, socketIndex: socket }, { tripped: true, trippedAt: at, tripReason: clip(a.reason, 1000) });
+          .update({ runId: socketRunId, socketIndex: socket }, { tripped: true, trippedAt: at, tripReason: clip(a.reason, 1000) });
       }
       await this.clear('runaway-warning', m.rigId, socket, { reason: 'superseded by a trip' });
       await this.raise(
-        { kind: 'runaway-trip', severity: 'critical', rigId: m.rigId, runId: run?.runId ?? null, socketIndex: socket, title, message: baseMessage, action: TRIP_ACTION, details },
+        { kind: 'runaway-trip', severity: 'critical', rigId: m.rigId, runId: socketRunId, socketIndex: socket, title, message: baseMessage, action: TRIP_ACTION, details },
         true,
       );
       const outcome = await delivery;
@@ -507,7 +510,7 @@ export class ProtectionMonitor {
           kind: 'runaway-trip',
           severity: 'critical',
           rigId: m.rigId,
-          runId: run?.runId ?? null,
+          runId: socketRunId,
           socketIndex: socket,
           title,
           message,

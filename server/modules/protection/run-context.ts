@@ -18,6 +18,9 @@ export interface SocketDevice {
   partNumber: string;
   /** Trips of this socket already recorded in this run (runaway-trip alarms). */
   trips: number;
+  /** The run this socket's device belongs to: runs with the same chamber condition may share an oven. */
+  runId: string;
+  runCode: string;
 }
 
 export interface RunContext {
@@ -38,30 +41,39 @@ export const deviceOf = (t: Pick<DeviceTypeEntity, 'tjMaxC' | 'thetaJcCPerW'>): 
   thetaJcCPerW: t.thetaJcCPerW,
 });
 
-/** The active run on a rig with its socket map, or null when the rig has none. */
+/**
+ * The active runs on a rig with their merged socket map, or null when the rig has none. Runs may
+ * share an oven only at the same chamber condition (scheduling rule), so the run-level fields come
+ * from the most recently changed run and each socket carries its own run.
+ */
 export async function loadRunContext(ctx: AppContext, rigId: string): Promise<RunContext | null> {
   const m = ctx.ds.manager;
-  const run = await m.findOne(RunEntity, {
+  const runs = await m.find(RunEntity, {
     where: { rigId, state: In([...RUN_STATES_ON_RIG]) },
     order: { stateChangedAt: 'DESC' },
   });
-  if (!run) return null;
+  if (runs.length === 0) return null;
+  const run = runs[0];
   const plan = await m.findOne(StressPlanEntity, { where: { id: run.planId }, relations: { deviceType: true } });
   if (!plan || !plan.deviceType) return null;
+  const runIds = runs.map((r) => r.id);
   const rows = await m.find(RunSocketEntity, {
-    where: { runId: run.id },
+    where: { runId: In(runIds) },
     relations: { device: { lot: { deviceType: true } } },
   });
-  const tripCounts: Array<{ socket_index: number; n: number }> = await m
+  const tripCounts: Array<{ run_id: string; socket_index: number; n: number }> = await m
     .createQueryBuilder(AlarmEntity, 'a')
-    .select('a.socket_index', 'socket_index')
+    .select('a.run_id', 'run_id')
+    .addSelect('a.socket_index', 'socket_index')
     .addSelect('count(*)::int', 'n')
-    .where('a.run_id = :runId', { runId: run.id })
+    .where('a.run_id IN (:...runIds)', { runIds })
     .andWhere(`a.kind = 'runaway-trip'`)
     .andWhere('a.socket_index IS NOT NULL')
-    .groupBy('a.socket_index')
+    .groupBy('a.run_id')
+    .addGroupBy('a.socket_index')
     .getRawMany();
-  const trips = new Map(tripCounts.map((r) => [Number(r.socket_index), Number(r.n)]));
+  const trips = new Map(tripCounts.map((r) => [`${r.run_id}:${Number(r.socket_index)}`, Number(r.n)]));
+  const codeOf = new Map(runs.map((r) => [r.id, r.code]));
   const sockets = new Map<number, SocketDevice>();
   for (const r of rows) {
     const type = r.device?.lot?.deviceType;
@@ -69,7 +81,9 @@ export async function loadRunContext(ctx: AppContext, rigId: string): Promise<Ru
       device: deviceOf(type ?? plan.deviceType),
       serial: r.device?.serial ?? '?',
       partNumber: (type ?? plan.deviceType).partNumber,
-      trips: trips.get(r.socketIndex) ?? 0,
+      trips: trips.get(`${r.runId}:${r.socketIndex}`) ?? 0,
+      runId: r.runId,
+      runCode: codeOf.get(r.runId) ?? run.code,
     });
   }
   return {
