@@ -1,6 +1,3 @@
-// Placeholder until the readings screens land.
-import { PlaceholderScreen } from '@/components/common/PlaceholderScreen';
+import { ReadingsScreen } from '@/components/readings/ReadingsScreen';
 
-export default function ReadingsRoute() {
-  return <PlaceholderScreen title="Read points" subtitle="Measurements at each read point." coming="Read-point uploads will appear here." />;
-}
+export default ReadingsScreen;

@@ -6,11 +6,13 @@ import { usersRoutes } from './users/users.routes';
 import { deviceTypesRoutes } from './device-types/device-types.routes';
 import { lotsRoutes } from './lots/lots.routes';
 import { plansRoutes } from './plans/plans.routes';
+import { measurementsRoutes } from './measurements/measurements.routes';
+import { analyticsRoutes } from './analytics/analytics.routes';
 import { telemetryRouters } from './telemetry/routers';
 import { alarmRouters } from './alarms';
 import { runsRoutes } from './runs/runs.routes';
 
 /** Every API router, in mount order. Add a feature's router here (one line). */
 export function apiRouters(ctx: AppContext): ApiRouter[] {
-  return [healthRoutes(ctx), authRoutes(ctx), usersRoutes(ctx), deviceTypesRoutes(ctx), lotsRoutes(ctx), plansRoutes(ctx), ...alarmRouters(ctx), ...telemetryRouters(ctx), runsRoutes(ctx)];
+  return [healthRoutes(ctx), authRoutes(ctx), usersRoutes(ctx), deviceTypesRoutes(ctx), lotsRoutes(ctx), plansRoutes(ctx), measurementsRoutes(ctx), analyticsRoutes(ctx), ...alarmRouters(ctx), ...telemetryRouters(ctx), runsRoutes(ctx)];
 }

@@ -12,6 +12,7 @@ import {
   rigMqttUsername,
 } from './demo-data';
 import { seedPlans } from './seed-plans';
+import { seedHistory } from './seed-history';
 import { seedRuns } from './seed-runs';
 
 export interface SeedStep {
@@ -60,6 +61,7 @@ export const SEED_STEPS: SeedStep[] = [
   { name: 'device types and lots', run: seedDevicesAndLots },
   { name: 'rigs', run: seedRigs },
   { name: 'stress plans', run: seedPlans },
+  { name: 'measurement history', run: seedHistory },
   { name: 'live runs', run: (ds) => seedRuns(ds) },
 ];
 

@@ -1,0 +1,3 @@
+import { LotDetailScreen } from '@/components/trends/LotDetailScreen';
+
+export default LotDetailScreen;

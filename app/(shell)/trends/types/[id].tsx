@@ -1,0 +1,3 @@
+import { DeviceTypeScreen } from '@/components/trends/DeviceTypeScreen';
+
+export default DeviceTypeScreen;

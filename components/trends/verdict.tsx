@@ -1,0 +1,19 @@
+import { LOT_VERDICT_LABEL, type LotVerdict } from '@/shared/schemas/analytics';
+import type { Tone } from '@/components/theme/tokens';
+import { StatusPill } from '@/components/ui/StatusPill';
+
+/** Each verdict has a tone and therefore a shape (StatusShape) as well as its word: never colour alone. */
+export const VERDICT_TONE: Record<LotVerdict, Tone> = {
+  passed: 'ok',
+  drifting: 'attention',
+  failed: 'danger',
+  'in-progress': 'info',
+  untested: 'idle',
+};
+
+/** Worst first, for sorting. */
+export const VERDICT_ORDER: Record<LotVerdict, number> = { failed: 0, drifting: 1, 'in-progress': 2, passed: 3, untested: 4 };
+
+export function VerdictPill({ verdict, size = 'sm' }: { verdict: LotVerdict; size?: 'sm' | 'md' }) {
+  return <StatusPill tone={VERDICT_TONE[verdict]} label={LOT_VERDICT_LABEL[verdict]} size={size} testID={`verdict-${verdict}`} />;
+}

@@ -1,0 +1,188 @@
+/**
+ * Lot report exports: CSV for spreadsheets and a printable PDF (pdfkit).
+ *
+ * CSV injection: every text cell that starts with = + - @, a tab or a carriage return gets a
+ * leading single quote, so a spreadsheet shows it as text instead of running it (OWASP CSV
+ * injection guidance, common practice). Numbers we computed are written as plain numbers, so a
+ * negative drift such as -2.5 stays a number.
+ */
+import PDFDocument from 'pdfkit';
+import { LOT_VERDICT_LABEL, type LotDetail } from '../../../shared/schemas/analytics';
+
+export type Cell = string | number | boolean | null | undefined;
+
+const FORMULA_START = /^[=+\-@\t\r]/;
+
+/** One CSV cell: neutralised if it could start a formula, quoted when it holds a separator or quote. */
+export function csvCell(v: Cell): string {
+  if (v === null || v === undefined) return '';
+  if (typeof v === 'number') return Number.isFinite(v) ? String(+v.toPrecision(8)) : '';
+  if (typeof v === 'boolean') return v ? 'yes' : 'no';
+  let s = String(v);
+  if (FORMULA_START.test(s)) s = `'${s}`;
+  return /[",\r\n;]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+}
+
+export const csvLine = (cells: Cell[]) => cells.map(csvCell).join(',');
+
+const PARAM = { hfe: 'hFE', icbo: 'ICBO', vcesat: 'VCE(sat)' } as const;
+
+export function lotReportCsv(d: LotDetail, extra: { notes: string; generatedAt: Date }): string {
+  const lines: string[] = [];
+  const kv = (k: string, v: Cell) => lines.push(csvLine([k, v]));
+  kv('Emberlot lot drift report', extra.generatedAt.toISOString());
+  kv('Lot', d.lotCode);
+  kv('Device type', d.partNumber);
+  kv('Date code', d.dateCode);
+  kv('Lot notes', extra.notes);
+  kv('Plan', d.plan ? `${d.plan.name} (${d.plan.kind}, ${d.plan.chamberC} °C, ${d.plan.durationH} h, n ${d.plan.sampleSize}, accept ${d.plan.acceptNumber})` : 'none');
+  kv('Run', d.run ? `${d.run.code} (${d.run.state}, ${d.run.stressHours} h)` : 'none');
+  kv('Verdict', LOT_VERDICT_LABEL[d.verdict]);
+  for (const r of d.reasons) kv('Reason', r);
+  kv('Pseudo-failure time (h)', d.pseudoFailureH);
+  kv('Pseudo-failure parameter', d.pseudoFailureParameter ? PARAM[d.pseudoFailureParameter] : '');
+  if (d.fit) {
+    kv('Acceleration factor', d.fit.accelerationFactor);
+    kv('Device-hours', d.fit.deviceHours);
+    kv('Equivalent device-hours', d.fit.equivalentDeviceHours);
+    kv('FIT upper bound 60 %', d.fit.fit60);
+    kv('FIT upper bound 90 %', d.fit.fit90);
+    kv('Constants', `k ${d.fit.constants.boltzmannEvPerK} eV/K (${d.fit.constants.source}), Ea ${d.fit.constants.eaEv} eV, use ${d.fit.constants.useC} °C, stress ${+d.fit.constants.stressC.toPrecision(4)} °C (${d.fit.constants.stressBasis})`);
+  }
+  kv('Caution', d.caution);
+  lines.push('');
+  lines.push(
+    csvLine([
+      'Read point (h)', 'Devices', 'Late', 'hFE change mean %', 'hFE change sd %', 'hFE change p5 %', 'hFE change median %', 'hFE change p95 %',
+      'ICBO ratio median', 'ICBO ratio p95', 'VCE(sat) shift mean mV', 'Failing', 'Cumulative fails',
+    ]),
+  );
+  for (const r of d.readPoints) {
+    lines.push(
+      csvLine([
+        r.hours, r.devicesMeasured, r.late, r.hfeChangePct?.mean, r.hfeChangePct?.sd, r.hfeChangePct?.p5, r.hfeChangePct?.median, r.hfeChangePct?.p95,
+        r.icboRatio?.median, r.icboRatio?.p95, r.vcesatShiftMv?.mean, r.failing, r.cumulativeFails,
+      ]),
+    );
+  }
+  lines.push('');
+  lines.push(csvLine(['Serial', 'Socket', 'Status', 'First failed (h)', 'Failed parameters', 'Latest read point (h)', 'hFE change %', 'ICBO ratio', 'VCE(sat) shift mV', 'hFE referred to reference temperature', 'Late reading']));
+  for (const x of d.devices) {
+    lines.push(
+      csvLine([
+        x.serial, x.socketIndex, x.status, x.firstFailedH, x.failedParameters.map((p) => PARAM[p]).join(' '), x.latestH,
+        x.hfeChangePct, x.icboRatio, x.vcesatShiftMv, x.hfeNormalised, x.late,
+      ]),
+    );
+  }
+  return `\uFEFF${lines.join('\r\n')}\r\n`;
+}
+
+/** The standard PDF fonts cover WinAnsi only: spell out what they cannot draw. */
+export function pdfText(s: string): string {
+  return s
+    .replace(/−/g, '-')
+    .replace(/≤/g, '<=')
+    .replace(/≥/g, '>=')
+    .replace(/σ/g, 'sigma')
+    .replace(/β/g, 'beta')
+    .replace(/χ²/g, 'chi-square')
+    .replace(/⁹/g, '^9')
+    .replace(/→/g, '->')
+    .replace(/…/g, '...')
+    .replace(/[^\x20-\x7E\u00A0-\u00FF\n]/g, '?');
+}
+
+const fmt = (v: number | null | undefined, digits = 3) => (v === null || v === undefined || !Number.isFinite(v) ? '-' : String(+v.toPrecision(digits)));
+
+export function lotReportPdf(d: LotDetail, extra: { notes: string; generatedAt: Date }): Promise<Buffer> {
+  return new Promise((resolve, reject) => {
+    const doc = new PDFDocument({ size: 'A4', margin: 48, info: { Title: `Lot ${d.lotCode} drift report`, Author: 'Emberlot' } });
+    const chunks: Buffer[] = [];
+    doc.on('data', (c: Buffer) => chunks.push(c));
+    doc.on('end', () => resolve(Buffer.concat(chunks)));
+    doc.on('error', reject);
+    const t = (s: string, opts?: PDFKit.Mixins.TextOptions) => doc.text(pdfText(s), opts);
+
+    doc.font('Helvetica-Bold').fontSize(18);
+    t(`Lot ${d.lotCode} - drift report`);
+    doc.font('Helvetica').fontSize(9).fillColor('#555555');
+    t(`Generated ${extra.generatedAt.toISOString().slice(0, 16).replace('T', ' ')} UTC by Emberlot`);
+    doc.moveDown(0.8).fillColor('#000000').fontSize(10);
+    t(`Device type: ${d.partNumber}    Date code: ${d.dateCode || '-'}`);
+    if (extra.notes) t(`Lot notes: ${extra.notes}`);
+    t(d.plan ? `Plan: ${d.plan.name} (${d.plan.kind.toUpperCase()}, chamber ${d.plan.chamberC} °C, ${d.plan.durationH} h, n ${d.plan.sampleSize}, accept ${d.plan.acceptNumber})` : 'Plan: none');
+    t(d.run ? `Run: ${d.run.code}, ${d.run.state}, ${fmt(d.run.stressHours, 5)} stress hours` : 'Run: none');
+    if (d.criteria) {
+      t(
+        `Criteria: hFE within ±${d.criteria.hfeChangePct} %; ICBO change <= max(${d.criteria.leakageMultiple - 1}× initial, ${fmt(d.criteria.leakageFloorA * 1e9)} nA); VCE(sat) shift <= ${fmt(d.criteria.vcesatShiftV * 1000)} mV`,
+      );
+    }
+
+    doc.moveDown(0.8).font('Helvetica-Bold').fontSize(13);
+    t(`Verdict: ${LOT_VERDICT_LABEL[d.verdict]}`);
+    doc.font('Helvetica').fontSize(10);
+    for (const r of d.reasons) t(`- ${r}`, { indent: 8 });
+    if (d.gainReference.normalisedReadings > 0) {
+      t(`${d.gainReference.normalisedReadings} hFE readings were measured away from ${d.gainReference.referenceC} °C and referred to it (XTB ${d.gainReference.xtb}).`);
+    }
+
+    doc.moveDown(0.8).font('Helvetica-Bold').fontSize(12);
+    t('Drift per read point');
+    doc.font('Helvetica').fontSize(8.5);
+    const cols = ['Hours', 'Devices', 'Late', 'hFE mean %', 'hFE sd', 'hFE p5', 'hFE p95', 'ICBO x med', 'ICBO x p95', 'VCEsat mV', 'Fails'];
+    const widths = [40, 42, 30, 52, 40, 40, 40, 52, 52, 52, 34];
+    const row = (cells: string[], bold = false) => {
+      const y = doc.y;
+      let x = doc.page.margins.left;
+      doc.font(bold ? 'Helvetica-Bold' : 'Helvetica');
+      cells.forEach((c, i) => {
+        doc.text(pdfText(c), x, y, { width: widths[i] - 4, lineBreak: false });
+        x += widths[i];
+      });
+      doc.x = doc.page.margins.left;
+      doc.y = y + 13;
+    };
+    row(cols, true);
+    for (const r of d.readPoints) {
+      row([
+        fmt(r.hours, 5), String(r.devicesMeasured), String(r.late), fmt(r.hfeChangePct?.mean), fmt(r.hfeChangePct?.sd), fmt(r.hfeChangePct?.p5),
+        fmt(r.hfeChangePct?.p95), fmt(r.icboRatio?.median), fmt(r.icboRatio?.p95), fmt(r.vcesatShiftMv?.mean), String(r.cumulativeFails),
+      ]);
+    }
+
+    doc.moveDown(0.8).font('Helvetica-Bold').fontSize(12);
+    t('Trend and pseudo-failure time');
+    doc.font('Helvetica').fontSize(10);
+    for (const tr of d.trends) {
+      t(
+        `${PARAM[tr.parameter]}: ${tr.model === 'log-ratio-origin' ? 'ln(ratio)' : 'change'} = ${fmt(tr.slopePerHour, 4)} per hour (line through the origin); limit ${fmt(tr.limit)}; ` +
+          (tr.pseudoFailureH === null ? 'no crossing projected.' : `crossing at ${fmt(tr.pseudoFailureH, 4)} h.`),
+      );
+    }
+
+    doc.moveDown(0.8).font('Helvetica-Bold').fontSize(12);
+    t('Failure rate');
+    doc.font('Helvetica').fontSize(10);
+    if (d.fit) {
+      t(
+        `${d.fit.failures} failures in ${d.fit.devices} devices × ${fmt(d.fit.hoursEach, 5)} h = ${fmt(d.fit.deviceHours, 6)} device-hours; ` +
+          `acceleration factor ${fmt(d.fit.accelerationFactor, 4)} (Ea ${d.fit.constants.eaEv} eV, use ${d.fit.constants.useC} °C, stress ${fmt(d.fit.constants.stressC, 4)} °C, ${d.fit.constants.stressBasis}).`,
+      );
+      t(`FIT upper bound: ${fmt(d.fit.fit60, 4)} at 60 % confidence, ${fmt(d.fit.fit90, 4)} at 90 % (${d.fit.method}).`);
+      t(`k = ${d.fit.constants.boltzmannEvPerK} eV/K (${d.fit.constants.source}), T(K) = T(°C) + ${d.fit.constants.kelvinOffset}.`);
+    } else t('No read point after time zero yet.');
+
+    const failed = d.devices.filter((x) => x.firstFailedH !== null);
+    if (failed.length) {
+      doc.moveDown(0.8).font('Helvetica-Bold').fontSize(12);
+      t('Failed devices');
+      doc.font('Helvetica').fontSize(10);
+      for (const x of failed) t(`${x.serial} (socket ${x.socketIndex}): first failed at ${fmt(x.firstFailedH, 5)} h - ${x.failedParameters.map((p) => PARAM[p]).join(', ')}`);
+    }
+
+    doc.moveDown(1.2).font('Helvetica-Oblique').fontSize(9).fillColor('#7a4b00');
+    t(`Caution: ${d.caution}`);
+    doc.end();
+  });
+}

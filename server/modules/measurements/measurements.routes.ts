@@ -1,0 +1,77 @@
+import type { Request, Response } from 'express';
+import multer from 'multer';
+import {
+  manualEntrySchema,
+  readPointParamsSchema,
+  runParamsSchema,
+  UPLOAD_MAX_BYTES,
+  uploadFieldsSchema,
+  uploadQuerySchema,
+} from '../../../shared/schemas/measurements';
+import type { AppContext } from '../../context';
+import { badRequest, tooLarge, validationError } from '../../http/errors';
+import { ApiRouter, HANDLED } from '../../http/route';
+import { MeasurementsService } from './measurements.service';
+
+/** Memory storage: a read-point file is small; nothing touches the disk. */
+const upload = multer({
+  storage: multer.memoryStorage(),
+  limits: { fileSize: UPLOAD_MAX_BYTES, files: 1, fields: 10, fieldSize: 64 * 1024, parts: 12 },
+}).single('file');
+
+function receiveFile(req: Request, res: Response): Promise<void> {
+  return new Promise((resolve, reject) =>
+    upload(req, res, (err: unknown) => {
+      if (!err) return resolve();
+      const e = err as { code?: string };
+      if (e.code === 'LIMIT_FILE_SIZE') {
+        return reject(tooLarge(`The file is larger than ${UPLOAD_MAX_BYTES / 1024 / 1024} MB; split it by lot or read point.`));
+      }
+      if (e.code === 'LIMIT_UNEXPECTED_FILE') return reject(badRequest('Send one file in the form field "file".'));
+      reject(err);
+    }),
+  );
+}
+
+/**
+ * Under /api/measurements so the runs module keeps /api/runs to itself:
+ * POST /api/measurements/runs/:runId/read-points/:hours/upload is the upload of
+ * "run X, read point H". The parse happens after the access check, so a refused role never
+ * has its file read.
+ */
+export function measurementsRoutes(ctx: AppContext): ApiRouter {
+  const svc = new MeasurementsService(ctx.ds, ctx.audit, () => ctx.now());
+  const r = new ApiRouter('/api/measurements');
+  const readers = ['admin', 'engineer', 'operator', 'manager'] as const;
+  const writers = ['engineer', 'operator'] as const;
+
+  r.get('/runs', { access: readers }, async () => ({ items: await svc.listRuns() }));
+  r.get('/runs/:runId', { access: readers, params: runParamsSchema }, ({ params }) => svc.runDetail(params.runId));
+  r.get('/runs/:runId/drift', { access: readers, params: runParamsSchema }, ({ params }) => svc.drift(params.runId));
+  r.get('/runs/:runId/read-points/:hours', { access: readers, params: readPointParamsSchema }, async ({ params }) => ({
+    items: await svc.readings(params.runId, params.hours),
+  }));
+
+  r.post(
+    '/runs/:runId/read-points/:hours/upload',
+    { access: writers, params: readPointParamsSchema, query: uploadQuerySchema },
+    async ({ user, params, query, req, res }) => {
+      await receiveFile(req, res);
+      const file = (req as Request & { file?: Express.Multer.File }).file;
+      if (!file) throw badRequest('Attach the CSV file in the form field "file".');
+      if (file.size === 0) throw badRequest('The file is empty.');
+      const fields = uploadFieldsSchema.safeParse(req.body ?? {});
+      if (!fields.success) throw validationError(fields.error, 'upload form');
+      const out = await svc.upload(user, { runId: params.runId, hours: params.hours, preview: query.preview, file, fields: fields.data });
+      res.status(out.status).json(out.body);
+      return HANDLED;
+    },
+  );
+
+  r.post(
+    '/runs/:runId/read-points/:hours/measurements',
+    { access: writers, params: readPointParamsSchema, body: manualEntrySchema, status: 201 },
+    ({ user, params, body }) => svc.manual(user, params.runId, params.hours, body),
+  );
+  return r;
+}

@@ -1,0 +1,280 @@
+/**
+ * Demo history: finished and in-progress stress runs for six Harrowgate lots, with read-point
+ * measurements at 0 / 168 / 500 / 1000 h generated deterministically (seeded PRNG) from each
+ * lot's drift in DEMO_LOTS. HG2612-C drifts (flagged against its sister lots), HG2610-E has two
+ * devices that fail at 1000 h, the others pass. Runs after the device/lot/plan/rig steps and
+ * looks plans up by device type and kind; a missing plan is created minimally.
+ *
+ * The helpers (insertHistoryRun, mulberry32) are also used by the API tests.
+ */
+import type { DataSource, EntityManager } from 'typeorm';
+import { In, Not } from 'typeorm';
+import type { PlanKind } from '../../shared/schemas/plans';
+import {
+  DeviceEntity,
+  DeviceTypeEntity,
+  LotEntity,
+  MeasurementEntity,
+  RigEntity,
+  RunEntity,
+  RunLotEntity,
+  RunSocketEntity,
+  StressPlanEntity,
+  UserEntity,
+} from '../db/entities';
+import { refreshFirstFailures } from '../modules/measurements/measurements.service';
+import { loadRunBundle } from '../modules/measurements/run-data';
+import { DEMO_LOTS } from './demo-data';
+
+const H = 3600_000;
+const DAY = 24 * H;
+
+/** Small, fast, seedable PRNG (mulberry32, public domain); same seed → same sequence. */
+export function mulberry32(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+export const seedOf = (s: string) => [...s].reduce((h, c) => Math.imul(h ^ c.charCodeAt(0), 16777619) >>> 0, 2166136261);
+
+function normal(rnd: () => number): () => number {
+  return () => {
+    const u = Math.max(rnd(), 1e-12);
+    const v = rnd();
+    return Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * v);
+  };
+}
+
+export interface LotDrift {
+  /** hFE change, percent per 1000 stress hours (negative = gain falls). */
+  hfeDriftPctPer1000h: number;
+  /** ICBO multiplies by this factor per 1000 stress hours. */
+  leakageGrowthPer1000h: number;
+}
+
+export interface HistoryRunSpec {
+  code: string;
+  plan: StressPlanEntity;
+  deviceType: DeviceTypeEntity;
+  rig: RigEntity | null;
+  lots: Array<{ lot: LotEntity; devices: DeviceEntity[]; drift: LotDrift }>;
+  state: 'finished' | 'stressing';
+  startedAt: Date;
+  /** Accrued stress hours (for a finished run, the plan's duration). */
+  stressHours: number;
+  /** Read points that have readings (ascending, starting with 0). */
+  measuredH: number[];
+  /** 1 = demo noise; 0 = exact drift (tests with a known answer). */
+  noise?: number;
+  /** Devices that fail at a read point: leakage jumps 40×, or gain drops 22 %. */
+  failures?: Array<{ serial: string; atH: number; mode: 'leakage' | 'gain' }>;
+  /** Readings taken 100 h after bias removal (flagged late). */
+  late?: Array<{ serial: string; atH: number }>;
+  /** Readings taken on a warm tester: hFE measured at this temperature (referred back by the analysis). */
+  warm?: { serials: string[]; atH: number; tempC: number };
+  createdById?: string | null;
+}
+
+/** Wall-clock time of each read point: 24 h hold per earlier read point, bias off at the read point. */
+export function readPointClock(startedAt: Date, readPointsH: number[]) {
+  const sorted = [...readPointsH].sort((a, b) => a - b);
+  return new Map(
+    sorted.map((h, i) => {
+      const biasOff = new Date(startedAt.getTime() + h * H + Math.max(0, i - 1) * DAY);
+      return [h, { biasOff, measured: h === 0 ? new Date(startedAt.getTime() - 6 * H) : new Date(biasOff.getTime() + 6 * H) }];
+    }),
+  );
+}
+
+/** Insert a run with its lots, socket map and generated readings. */
+export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Promise<RunEntity> {
+  const plannedH = [...s.plan.readPointsH].sort((a, b) => a - b);
+  const clock = readPointClock(s.startedAt, plannedH);
+  const lastDone = s.measuredH.filter((h) => h > 0).pop();
+  const biasRemovedAt = lastDone !== undefined ? clock.get(lastDone)!.biasOff : null;
+  const finishedAt = s.state === 'finished' ? (biasRemovedAt ?? new Date(s.startedAt.getTime() + s.stressHours * H)) : null;
+  const deviceCount = s.lots.reduce((n, l) => n + l.devices.length, 0);
+  const run = await m.save(
+    m.create(RunEntity, {
+      code: s.code,
+      planId: s.plan.id,
+      rigId: s.rig?.id ?? null,
+      state: s.state,
+      sampleSize: deviceCount,
+      scheduledStart: s.startedAt,
+      scheduledEnd: new Date(s.startedAt.getTime() + (s.plan.durationH + plannedH.length * 24) * H),
+      startedAt: s.startedAt,
+      finishedAt,
+      stateChangedAt: finishedAt ?? (biasRemovedAt ? new Date(biasRemovedAt.getTime() + DAY) : s.startedAt),
+      stressHours: s.stressHours,
+      nextReadPoint: s.state === 'finished' ? plannedH.length : plannedH.filter((h) => h <= s.stressHours).length,
+      heatingSince: new Date(s.startedAt.getTime() - 2 * H),
+      ambientReachedAt: s.startedAt,
+      biasRemovedAt,
+      createdById: s.createdById ?? null,
+    }),
+  );
+  await m.insert(RunLotEntity, s.lots.map((l) => ({ runId: run.id, lotId: l.lot.id })));
+  let socket = 0;
+  const sockets: Array<{ device: DeviceEntity; socketIndex: number; drift: LotDrift; lotCode: string }> = [];
+  for (const l of s.lots) for (const d of l.devices) sockets.push({ device: d, socketIndex: socket++, drift: l.drift, lotCode: l.lot.code });
+  await m.insert(
+    RunSocketEntity,
+    sockets.map((x) => ({ runId: run.id, deviceId: x.device.id, socketIndex: x.socketIndex, accruedHours: s.stressHours })),
+  );
+
+  const noise = s.noise ?? 1;
+  const t = s.deviceType;
+  const rows: Array<Partial<MeasurementEntity>> = [];
+  for (const x of sockets) {
+    const rnd = mulberry32(seedOf(`${x.lotCode}/${x.device.serial}`));
+    const z = normal(rnd);
+    const hfe0 = t.betaRef * (1 + 0.08 * noise * z());
+    const slopeScale = 1 + 0.25 * noise * z();
+    const leak0 = (t.icboRefA ?? 20e-9) * Math.exp(0.3 * noise * z());
+    const leakScale = 1 + 0.15 * noise * z();
+    const vce0 = 0.22 + 0.02 * noise * z();
+    const bv0 = (t.bvceoV ?? t.bvcboV / 2) * (1.15 + 0.03 * noise * z());
+    for (const h of s.measuredH) {
+      const fail = s.failures?.find((f) => f.serial === x.device.serial && h >= f.atH);
+      let hfe = hfe0 * (1 + (x.drift.hfeDriftPctPer1000h * (h / 1000) * slopeScale + 0.4 * noise * z() * (h > 0 ? 1 : 0)) / 100);
+      let icbo = leak0 * Math.pow(x.drift.leakageGrowthPer1000h, (h / 1000) * leakScale) * (h > 0 ? Math.exp(0.05 * noise * z()) : 1);
+      if (fail?.mode === 'leakage') icbo *= 40;
+      if (fail?.mode === 'gain') hfe *= 0.78;
+      const warm = s.warm && s.warm.atH === h && s.warm.serials.includes(x.device.serial) ? s.warm.tempC : null;
+      const measuredC = warm ?? t.betaRefTC;
+      // A warm tester reads a higher gain: β(T) = β_ref·(T/T_ref)^XTB.
+      if (warm !== null) hfe *= Math.pow((warm + 273.15) / (t.betaRefTC + 273.15), t.xtb);
+      const late = s.late?.some((l) => l.serial === x.device.serial && l.atH === h) ?? false;
+      const when = clock.get(h)!;
+      rows.push({
+        runId: run.id,
+        deviceId: x.device.id,
+        readPointH: h,
+        hfe: +hfe.toFixed(2),
+        hfeIcA: t.betaRefIcA,
+        hfeVceV: 5,
+        icboA: +icbo.toPrecision(4),
+        icboVcbV: Math.round(t.bvcboV * 0.8),
+        vcesatV: +(vce0 + (0.001 * (h / 1000) + 0.001 * noise * z()) * (h > 0 ? 1 : 0)).toFixed(4),
+        bvceoV: +bv0.toFixed(1),
+        measuredC,
+        measuredAt: late ? new Date(when.biasOff.getTime() + 100 * H) : when.measured,
+        late: h > 0 && late,
+        uploadId: null,
+        enteredById: s.createdById ?? null,
+      });
+    }
+  }
+  for (let i = 0; i < rows.length; i += 500) await m.insert(MeasurementEntity, rows.slice(i, i + 500));
+  await refreshFirstFailures(m, await loadRunBundle(m, run.id));
+  return run;
+}
+
+/** A current plan of this type and kind (not a draft), else any current one, else a minimal new one. */
+async function planFor(m: EntityManager, type: DeviceTypeEntity, kind: PlanKind): Promise<StressPlanEntity> {
+  const plans = await m.find(StressPlanEntity, { where: { deviceTypeId: type.id, current: true }, order: { createdAt: 'ASC' } });
+  const usable = plans.filter((p) => !/draft/i.test(p.name));
+  const found = usable.find((p) => p.kind === kind) ?? usable[0];
+  if (found) return found;
+  const { randomUUID } = await import('node:crypto');
+  return m.save(
+    m.create(StressPlanEntity, {
+      planKey: randomUUID(),
+      version: 1,
+      name: `HTRB ${Math.min(150, type.tjMaxC)} °C, 80 % VCBO, 1000 h (history)`,
+      kind: 'htrb',
+      deviceTypeId: type.id,
+      chamberC: Math.min(150, type.tjMaxC),
+      humidityPct: null,
+      bias: { vcbV: Math.round(type.bvcboV * 0.8), vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
+      durationH: 1000,
+      readPointsH: [0, 168, 500, 1000],
+      sampleSize: 77,
+      acceptNumber: 0,
+      criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
+      eaEv: 0.7,
+      useC: 55,
+      notes: 'Created by the demo history seed because no plan of this device type existed.',
+    }),
+  );
+}
+
+/** First rig among `codes` with no active run (booked runs in the future do not block history). */
+async function rigFor(m: EntityManager, codes: string[], active: boolean): Promise<RigEntity | null> {
+  const rigs = await m.find(RigEntity, { where: { code: In(codes) } });
+  rigs.sort((a, b) => codes.indexOf(a.code) - codes.indexOf(b.code));
+  for (const r of rigs) {
+    if (!active) return r;
+    const busy = await m.count(RunEntity, { where: { rigId: r.id, state: Not(In(['finished', 'aborted', 'booked'])) } });
+    if (!busy) return r;
+  }
+  return rigs[0] ?? null;
+}
+
+interface DemoRun {
+  lot: string;
+  kind: PlanKind;
+  rigs: string[];
+  state: 'finished' | 'stressing';
+  /** Days before now the stress started. */
+  startedDaysAgo: number;
+  failures?: HistoryRunSpec['failures'];
+  late?: HistoryRunSpec['late'];
+  warm?: HistoryRunSpec['warm'];
+}
+
+const DEMO_RUNS: DemoRun[] = [
+  { lot: 'HG2611-A', kind: 'htrb', rigs: ['OV-01', 'OV-02'], state: 'finished', startedDaysAgo: 160 },
+  { lot: 'HG2611-B', kind: 'htrb', rigs: ['OV-02', 'OV-01'], state: 'finished', startedDaysAgo: 120, late: [{ serial: 'B0003', atH: 1000 }, { serial: 'B0011', atH: 1000 }] },
+  { lot: 'HG2609-D', kind: 'hotl', rigs: ['OV-03', 'OV-04'], state: 'finished', startedDaysAgo: 100, warm: { serials: ['D0001', 'D0002', 'D0003', 'D0004', 'D0005', 'D0006'], atH: 1000, tempC: 31 } },
+  {
+    lot: 'HG2610-E', kind: 'hotl', rigs: ['OV-04', 'OV-03'], state: 'finished', startedDaysAgo: 90,
+    failures: [{ serial: 'E0007', atH: 1000, mode: 'leakage' }, { serial: 'E0019', atH: 1000, mode: 'gain' }],
+  },
+  { lot: 'HG2608-F', kind: 'thb', rigs: ['HC-05'], state: 'finished', startedDaysAgo: 80 },
+  // In progress: 620 stress hours, read at 0 / 168 / 500 h.
+  { lot: 'HG2612-C', kind: 'htrb', rigs: ['OV-01', 'OV-02'], state: 'stressing', startedDaysAgo: 28 },
+];
+
+const IN_PROGRESS_HOURS = 620;
+
+export async function seedHistory(ds: DataSource): Promise<void> {
+  await ds.transaction(async (m) => {
+    const engineer = await m.findOne(UserEntity, { where: { role: 'engineer' }, order: { createdAt: 'ASC' } });
+    const now = Date.now();
+    for (const r of DEMO_RUNS) {
+      const demo = DEMO_LOTS.find((l) => l.code === r.lot);
+      const lot = await m.findOne(LotEntity, { where: { code: r.lot } });
+      if (!demo || !lot) continue;
+      const type = await m.findOneByOrFail(DeviceTypeEntity, { id: lot.deviceTypeId });
+      const plan = await planFor(m, type, r.kind);
+      const rig = await rigFor(m, r.rigs, r.state === 'stressing');
+      const n = Math.min(plan.sampleSize, rig?.socketCount ?? plan.sampleSize);
+      const devices = await m.find(DeviceEntity, { where: { lotId: lot.id }, order: { serial: 'ASC' }, take: n });
+      const planned = [...plan.readPointsH].sort((a, b) => a - b);
+      const stressHours = r.state === 'finished' ? plan.durationH : Math.min(IN_PROGRESS_HOURS, plan.durationH * 0.62);
+      await insertHistoryRun(m, {
+        code: `${plan.kind.toUpperCase()}-${r.lot.replace(/^HG/, '')}`,
+        plan,
+        deviceType: type,
+        rig,
+        lots: [{ lot, devices, drift: demo }],
+        state: r.state,
+        startedAt: new Date(now - r.startedDaysAgo * DAY),
+        stressHours,
+        measuredH: planned.filter((h) => h <= stressHours),
+        failures: r.failures,
+        late: r.late,
+        warm: r.warm,
+        createdById: engineer?.id ?? null,
+      });
+    }
+  });
+}

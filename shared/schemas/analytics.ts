@@ -1,0 +1,210 @@
+/**
+ * Lot drift analytics and device-type reliability summaries (manager's trends).
+ *
+ *   GET /api/analytics/lots                      every lot with its verdict
+ *   GET /api/analytics/lots/:lotId               one lot: distributions, trend, verdict reasons, FIT
+ *   GET /api/analytics/lots/:lotId/report.csv    spreadsheet export (formula cells neutralised)
+ *   GET /api/analytics/lots/:lotId/report.pdf    printable report
+ *   GET /api/analytics/device-types              one summary per device type
+ *   GET /api/analytics/device-types/:id          lots passed, device-hours, AF, FIT, next sample size
+ */
+import { z } from 'zod';
+
+export const LOT_VERDICTS = ['passed', 'drifting', 'failed', 'in-progress', 'untested'] as const;
+export type LotVerdict = (typeof LOT_VERDICTS)[number];
+export const LOT_VERDICT_LABEL: Record<LotVerdict, string> = {
+  passed: 'Passed',
+  drifting: 'Drifting',
+  failed: 'Failed',
+  'in-progress': 'In progress',
+  untested: 'Not tested',
+};
+
+export const lotParamsSchema = z.object({ lotId: z.string().uuid('Not a valid lot id') });
+export const deviceTypeParamsSchema = z.object({ id: z.string().uuid('Not a valid device type id') });
+
+export const lotListQuerySchema = z.object({
+  deviceTypeId: z.string().uuid().optional(),
+  verdict: z.enum(LOT_VERDICTS).optional(),
+});
+
+export const deviceTypeQuerySchema = z.object({
+  /** LTPD the next qualification must demonstrate, percent (default 3 %: 77 devices at c = 0). */
+  ltpdPct: z.coerce.number().finite().gt(0).lt(100).default(3),
+  /** Failures the next qualification may accept. */
+  acceptNumber: z.coerce.number().int().min(0).max(20).default(0),
+});
+
+/** Descriptive summary of one drift measure across the lot's devices at one read point. */
+export interface DistributionSummary {
+  n: number;
+  mean: number;
+  sd: number | null;
+  min: number;
+  max: number;
+  p5: number;
+  p25: number;
+  median: number;
+  p75: number;
+  p95: number;
+}
+
+export interface LotReadPointStats {
+  hours: number;
+  devicesMeasured: number;
+  late: number;
+  /** % change of hFE (referred to the reference temperature) from time zero. */
+  hfeChangePct: DistributionSummary | null;
+  /** ICBO reading / time-zero reading. */
+  icboRatio: DistributionSummary | null;
+  /** VCE(sat) shift from time zero, mV. */
+  vcesatShiftMv: DistributionSummary | null;
+  /** Devices failing at this read point (any parameter). */
+  failing: number;
+  /** Devices that have failed at this or an earlier read point. */
+  cumulativeFails: number;
+}
+
+export interface TrendFit {
+  parameter: 'hfe' | 'icbo' | 'vcesat';
+  /** How the lot's typical path was fitted (NIST e-Handbook §8.4.2.3, line through the origin). */
+  model: 'linear-origin' | 'log-ratio-origin';
+  /** Typical value per read point used for the fit (mean % change, median ratio, mean mV). */
+  points: Array<{ hours: number; value: number }>;
+  slopePerHour: number;
+  /** The limit in the fitted unit (%, ratio or mV, signed in the drift's direction). */
+  limit: number;
+  /** Hours at which the typical device reaches the limit; null when it moves away from it or is flat. */
+  pseudoFailureH: number | null;
+  /** Fitted line for charting, 0 → max(target life, last read point). */
+  line: Array<{ hours: number; value: number }>;
+}
+
+export interface ControlCheck {
+  parameter: 'hfe' | 'icbo';
+  readPointH: number;
+  /** This lot's value (mean % hFE change, or median ICBO ratio). */
+  value: number;
+  /** Other lots of the same device type measured at the same read point (the reference set). */
+  reference: Array<{ lotId: string; lotCode: string; value: number }>;
+  chart: { mean: number; mrBar: number; ucl: number; lcl: number; sigma: number } | null;
+  violations: Array<{ rule: number; description: string }>;
+  outOfControl: boolean;
+  /** Why no chart was drawn (fewer than two other lots…). */
+  note: string | null;
+}
+
+export interface FitFigures {
+  failures: number;
+  devices: number;
+  hoursEach: number;
+  deviceHours: number;
+  accelerationFactor: number;
+  equivalentDeviceHours: number;
+  fit60: number;
+  fit90: number;
+  chiSquare60: number;
+  chiSquare90: number;
+  constants: { boltzmannEvPerK: number; kelvinOffset: number; eaEv: number; useC: number; stressC: number; stressBasis: string; source: string };
+  method: string;
+}
+
+export interface LotDevice {
+  deviceId: string;
+  serial: string;
+  socketIndex: number;
+  status: 'pass' | 'fail' | 'no-time-zero' | 'not-measured';
+  firstFailedH: number | null;
+  failedParameters: Array<'hfe' | 'icbo' | 'vcesat'>;
+  /** Latest read point's values. */
+  latestH: number | null;
+  hfeChangePct: number | null;
+  icboRatio: number | null;
+  vcesatShiftMv: number | null;
+  hfeNormalised: boolean;
+  late: boolean;
+}
+
+export interface LotSummary {
+  lotId: string;
+  lotCode: string;
+  deviceTypeId: string;
+  partNumber: string;
+  dateCode: string;
+  verdict: LotVerdict;
+  /** One sentence per reason, most important first. */
+  reasons: string[];
+  run: { id: string; code: string; state: string; stressHours: number } | null;
+  plan: { id: string; name: string; kind: string; durationH: number; acceptNumber: number; sampleSize: number; chamberC: number } | null;
+  devicesOnTest: number;
+  fails: number;
+  latestReadPointH: number | null;
+  /** Mean hFE change (%) and median ICBO ratio at the latest read point. */
+  latestHfeChangePct: number | null;
+  latestIcboRatio: number | null;
+  pseudoFailureH: number | null;
+  pseudoFailureParameter: 'hfe' | 'icbo' | 'vcesat' | null;
+  /** The plan's hFE limit (± %), for the chart's limit band. */
+  hfeLimitPct: number | null;
+  /** Mean hFE change per read point, for the trends chart (time zero = 0). */
+  hfeTrend: Array<{ hours: number; value: number }>;
+}
+
+export interface LotDetail extends LotSummary {
+  criteria: { hfeChangePct: number; leakageMultiple: number; leakageFloorA: number; vcesatShiftV: number } | null;
+  readPointsH: number[];
+  readPoints: LotReadPointStats[];
+  trends: TrendFit[];
+  control: ControlCheck[];
+  fit: FitFigures | null;
+  devices: LotDevice[];
+  gainReference: { referenceC: number; xtb: number; normalisedReadings: number };
+  /** Other runs this lot was on (the analysis uses `run`). */
+  otherRuns: Array<{ id: string; code: string; state: string }>;
+  caution: string;
+}
+
+export interface PlanAcceleration {
+  planId: string;
+  planName: string;
+  kind: string;
+  eaEv: number;
+  useC: number;
+  stressC: number;
+  /** Chamber, or the plan check's junction temperature on powered stresses. */
+  stressBasis: string;
+  accelerationFactor: number;
+  devices: number;
+  deviceHours: number;
+  equivalentDeviceHours: number;
+  failures: number;
+}
+
+export interface DeviceTypeSummary {
+  deviceTypeId: string;
+  partNumber: string;
+  description: string;
+  lots: number;
+  lotsTested: number;
+  lotsPassed: number;
+  lotsDrifting: number;
+  lotsFailed: number;
+  lotsInProgress: number;
+  devicesTested: number;
+  failures: number;
+  deviceHours: number;
+  equivalentDeviceHours: number;
+  /** Pooled over all plans: χ²(CL; 2r+2) / (2·Σ N·H·AF) × 10⁹. */
+  fit60: number | null;
+  fit90: number | null;
+  accelerations: PlanAcceleration[];
+  nextQualification: {
+    ltpdPct: number;
+    confidence: number;
+    acceptNumber: number;
+    sampleSize: number;
+    method: string;
+  };
+  constants: { boltzmannEvPerK: number; kelvinOffset: number; source: string };
+  lotVerdicts: Array<{ lotId: string; lotCode: string; verdict: LotVerdict }>;
+}

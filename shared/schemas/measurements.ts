@@ -1,0 +1,300 @@
+/**
+ * Read-point measurements: CSV upload from a parametric tester, manual entry, and the drift of
+ * each device from time zero. The app and the server import the same schemas.
+ *
+ * Routes live under /api/measurements (the runs module owns /api/runs):
+ *   GET  /api/measurements/runs                                       runs with read points
+ *   GET  /api/measurements/runs/:runId                                devices (socket map) + read-point status
+ *   POST /api/measurements/runs/:runId/read-points/:hours/upload      multipart `file` (+ `preview=1`)
+ *   POST /api/measurements/runs/:runId/read-points/:hours/measurements  JSON array (manual entry)
+ *   GET  /api/measurements/runs/:runId/read-points/:hours             stored readings of a read point
+ *   GET  /api/measurements/runs/:runId/drift                          drift per device
+ */
+import { z } from 'zod';
+import { num } from './devices';
+
+/** Our column names, as a parametric tester's CSV would carry them after mapping. */
+export const MEASUREMENT_COLUMNS = [
+  'serial',
+  'lot',
+  'hfe',
+  'hfe_ic_a',
+  'hfe_vce_v',
+  'icbo_a',
+  'icbo_vcb_v',
+  'vcesat_v',
+  'bvceo_v',
+  'temp_c',
+  'measured_at',
+] as const;
+export type MeasurementColumn = (typeof MEASUREMENT_COLUMNS)[number];
+
+/** "Hfe IC (A)" → "hfe_ic_a": how a header is matched to our column names when not mapped. */
+export const normaliseHeader = (h: string) =>
+  h
+    .trim()
+    .toLowerCase()
+    .replace(/[\s\-.()]+/g, '_')
+    .replace(/_+$/g, '');
+
+/** Our column a header names by itself, or null. */
+export const ownColumn = (h: string): MeasurementColumn | null =>
+  (MEASUREMENT_COLUMNS as readonly string[]).includes(normaliseHeader(h)) ? (normaliseHeader(h) as MeasurementColumn) : null;
+
+/** Columns a file must carry (after mapping); the others may be absent. */
+export const REQUIRED_COLUMNS: readonly MeasurementColumn[] = ['serial', 'hfe', 'hfe_ic_a', 'hfe_vce_v', 'icbo_a', 'icbo_vcb_v', 'vcesat_v'];
+
+export const COLUMN_LABEL: Record<MeasurementColumn, string> = {
+  serial: 'Serial',
+  lot: 'Lot code (only when serials repeat across lots)',
+  hfe: 'hFE',
+  hfe_ic_a: 'IC for hFE',
+  hfe_vce_v: 'VCE for hFE (V)',
+  icbo_a: 'ICBO leakage',
+  icbo_vcb_v: 'VCB for ICBO (V)',
+  vcesat_v: 'VCE(sat)',
+  bvceo_v: 'BVCEO (V)',
+  temp_c: 'Measurement temperature (°C)',
+  measured_at: 'Measured at (ISO date-time; no zone = UTC)',
+};
+
+/** Units chosen at upload; values are converted to SI (A, V) before storing. */
+export const LEAKAGE_UNITS = ['pA', 'nA', 'uA', 'A'] as const;
+export const CURRENT_UNITS = ['mA', 'A'] as const;
+export const VOLTAGE_UNITS = ['mV', 'V'] as const;
+export const UNIT_FACTOR: Record<string, number> = { pA: 1e-12, nA: 1e-9, uA: 1e-6, mA: 1e-3, mV: 1e-3, A: 1, V: 1 };
+export const UNIT_LABEL: Record<string, string> = { pA: 'pA', nA: 'nA', uA: 'µA', mA: 'mA', mV: 'mV', A: 'A', V: 'V' };
+
+export const unitsSchema = z
+  .object({
+    icbo: z.enum(LEAKAGE_UNITS).default('A'),
+    hfeIc: z.enum(CURRENT_UNITS).default('A'),
+    vcesat: z.enum(VOLTAGE_UNITS).default('V'),
+  })
+  .strict();
+export type Units = z.infer<typeof unitsSchema>;
+
+/** The file's header names → ours, e.g. { "Serial No": "serial", "Ib leak": "icbo_a" }. */
+export const columnMappingSchema = z.record(z.string().trim().min(1).max(100), z.enum(MEASUREMENT_COLUMNS)).refine(
+  (m) => {
+    const targets = Object.values(m);
+    return new Set(targets).size === targets.length;
+  },
+  { message: 'Two file columns are mapped to the same field' },
+);
+export type ColumnMapping = z.infer<typeof columnMappingSchema>;
+
+/** A multipart text field holding JSON (mapping, units) → parsed object, or the default when absent. */
+const jsonField = <T extends z.ZodType>(schema: T) =>
+  z.preprocess((v, ctx) => {
+    if (v === undefined || v === '') return undefined;
+    if (typeof v !== 'string') return v;
+    try {
+      return JSON.parse(v);
+    } catch {
+      ctx.addIssue({ code: 'custom', message: 'Not valid JSON' });
+      return z.NEVER;
+    }
+  }, schema);
+
+/** Text fields of the multipart upload (besides `file`). */
+export const uploadFieldsSchema = z.object({
+  mapping: jsonField(columnMappingSchema.default({})),
+  units: jsonField(unitsSchema.default({ icbo: 'A', hfeIc: 'A', vcesat: 'V' })),
+  /** Temperature assumed for rows without temp_c. */
+  defaultTempC: z.coerce.number().finite().min(-65).max(300).default(25),
+});
+export type UploadFields = z.infer<typeof uploadFieldsSchema>;
+
+export const readPointParamsSchema = z.object({
+  runId: z.string().uuid('Not a valid run id'),
+  hours: z.coerce.number().finite().min(0, 'Hours cannot be negative').max(100000),
+});
+export const runParamsSchema = z.object({ runId: z.string().uuid('Not a valid run id') });
+
+export const uploadQuerySchema = z.object({
+  /** preview=1: check every row and store nothing. */
+  preview: z
+    .enum(['0', '1', 'true', 'false'])
+    .optional()
+    .transform((v) => v === '1' || v === 'true'),
+});
+
+/** Upload limits. */
+export const UPLOAD_MAX_BYTES = 2 * 1024 * 1024;
+export const UPLOAD_MAX_ROWS = 5000;
+/** Measured later than this after bias removal → flagged late (JESD22-A108 window, from memory). */
+export const LATE_AFTER_BIAS_REMOVAL_H = 96;
+
+/** One device's reading entered by hand, SI units. */
+export const manualReadingSchema = z.object({
+  serial: z.string().trim().min(1, 'Enter the serial').max(40),
+  lot: z.string().trim().max(40).optional(),
+  hfe: num().positive('hFE must be above 0').max(100000),
+  hfeIcA: num().positive().max(1000),
+  hfeVceV: num().positive().max(10000),
+  icboA: num().min(0, 'Leakage cannot be negative').max(1),
+  icboVcbV: num().positive().max(10000),
+  vcesatV: num().min(0).max(100),
+  bvceoV: num().positive().max(10000).nullable().optional(),
+  measuredC: num().min(-65).max(300).default(25),
+  measuredAt: z.string().datetime({ offset: true, message: 'Use an ISO date-time' }).optional(),
+});
+export const manualEntrySchema = z.array(manualReadingSchema).min(1, 'Enter at least one device').max(50, 'Enter at most 50 devices at a time; upload a file for more');
+export type ManualReading = z.infer<typeof manualReadingSchema>;
+
+// ---------------------------------------------------------------------------------------------
+// Responses
+// ---------------------------------------------------------------------------------------------
+
+export type RowOutcome = 'insert' | 'replace' | 'unchanged' | 'rejected';
+
+export interface RowResult {
+  /** Line in the file (header = 1), or position in the JSON array (first = 1). */
+  row: number;
+  serial: string | null;
+  outcome: RowOutcome;
+  /** Why a row was refused, one sentence each. */
+  reasons: string[];
+  late: boolean;
+  /** Converted values (SI) for rows that can be stored. */
+  values?: {
+    hfe: number; hfeIcA: number; hfeVceV: number; icboA: number; icboVcbV: number; vcesatV: number;
+    bvceoV: number | null; measuredC: number; measuredAt: string;
+  };
+}
+
+export interface UploadResult {
+  /** preview: checked, nothing stored; stored: rows written; already-stored: same file seen before for this run. */
+  status: 'preview' | 'stored' | 'already-stored';
+  runId: string;
+  readPointH: number;
+  fileName: string;
+  fileSha256: string;
+  uploadId: string | null;
+  rowsTotal: number;
+  /** Rows that were (or in a preview, would be) written: inserted + replaced. */
+  stored: number;
+  inserted: number;
+  replaced: number;
+  unchanged: number;
+  rejected: number;
+  late: number;
+  /** Header → our column, as applied. */
+  columns: Record<string, MeasurementColumn | null>;
+  rows: RowResult[];
+  /** Plain-language notes (e.g. the rule for re-uploads). */
+  notes: string[];
+  previousUpload?: { id: string; readPointH: number; createdAt: string; rowsStored: number; rowsRejected: number };
+}
+
+export interface RunDevice {
+  deviceId: string;
+  serial: string;
+  lotId: string;
+  lotCode: string;
+  socketIndex: number;
+  tripped: boolean;
+  failedAtH: number | null;
+}
+
+export interface RunReadPointStatus {
+  hours: number;
+  measured: number;
+  late: number;
+  /** Stress hours reached (a read point after the accrued hours cannot be measured yet). */
+  reached: boolean;
+}
+
+export interface MeasurementRunSummary {
+  id: string;
+  code: string;
+  state: string;
+  planId: string;
+  planName: string;
+  planKind: string;
+  deviceTypeId: string;
+  partNumber: string;
+  rigCode: string | null;
+  stressHours: number;
+  durationH: number;
+  biasRemovedAt: string | null;
+  startedAt: string | null;
+  lots: Array<{ id: string; code: string }>;
+  deviceCount: number;
+  readPoints: RunReadPointStatus[];
+}
+
+export interface MeasurementRunDetail extends MeasurementRunSummary {
+  devices: RunDevice[];
+}
+
+export interface StoredReading {
+  id: string;
+  deviceId: string;
+  serial: string;
+  lotCode: string;
+  readPointH: number;
+  hfe: number | null;
+  hfeIcA: number | null;
+  hfeVceV: number | null;
+  icboA: number | null;
+  icboVcbV: number | null;
+  vcesatV: number | null;
+  bvceoV: number | null;
+  measuredC: number;
+  measuredAt: string;
+  late: boolean;
+  uploadId: string | null;
+  manual: boolean;
+}
+
+export interface ParameterDriftView {
+  parameter: 'hfe' | 'icbo' | 'vcesat';
+  initial: number | null;
+  reading: number | null;
+  changePct: number | null;
+  ratio: number | null;
+  delta: number | null;
+  allowed: { low: number; high: number } | null;
+  pass: boolean | null;
+  reason: string;
+}
+
+export interface DeviceReadPointDrift {
+  readPointH: number;
+  measuredC: number;
+  hfeRaw: number | null;
+  /** hFE referred to the device type's reference temperature (equals hfeRaw when measured there). */
+  hfe: number | null;
+  hfeNormalised: boolean;
+  hfeNote: string | null;
+  icboA: number | null;
+  vcesatV: number | null;
+  late: boolean;
+  /** null at time zero. */
+  parameters: ParameterDriftView[] | null;
+  pass: boolean | null;
+  failed: Array<'hfe' | 'icbo' | 'vcesat'>;
+}
+
+export interface DeviceDriftView {
+  deviceId: string;
+  serial: string;
+  lotId: string;
+  lotCode: string;
+  socketIndex: number;
+  status: 'pass' | 'fail' | 'no-time-zero' | 'not-measured';
+  /** First read point at which any parameter broke the plan's criteria. */
+  firstFailedH: number | null;
+  readPoints: DeviceReadPointDrift[];
+}
+
+export interface RunDriftResult {
+  runId: string;
+  runCode: string;
+  criteria: { hfeChangePct: number; leakageMultiple: number; leakageFloorA: number; vcesatShiftV: number };
+  readPointsH: number[];
+  gainReference: { referenceC: number; xtb: number; law: string; source: string };
+  devices: DeviceDriftView[];
+}

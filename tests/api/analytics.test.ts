@@ -1,0 +1,236 @@
+import { randomUUID } from 'node:crypto';
+import type { EntityManager } from 'typeorm';
+import { DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, StressPlanEntity } from '../../server/db/entities';
+import { SEED_STEPS } from '../../server/seed/seed';
+import { insertHistoryRun, type HistoryRunSpec } from '../../server/seed/seed-history';
+import { createTestApp, type TestApp } from '../support/api';
+
+let t: TestApp;
+const ids: Record<string, string> = {};
+
+async function makeType(m: EntityManager, partNumber: string) {
+  return m.save(
+    m.create(DeviceTypeEntity, {
+      partNumber, polarity: 'NPN', bvcboV: 140, bvceoV: 80, bveboV: 6, icMaxA: 1.5, pMaxW: 12.5, tjMaxC: 150,
+      thetaJcCPerW: 10, thetaJaCPerW: 83.3, betaRef: 120, betaRefIcA: 0.15, betaRefTC: 25, xtb: 1.6, icboRefA: 20e-9,
+    }),
+  );
+}
+
+async function makePlan(m: EntityManager, deviceTypeId: string, p: Partial<StressPlanEntity> = {}) {
+  return m.save(
+    m.create(StressPlanEntity, {
+      planKey: randomUUID(), version: 1, name: 'HTRB test plan', kind: 'htrb', deviceTypeId, chamberC: 145, humidityPct: null,
+      bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 }, durationH: 1000, readPointsH: [0, 168, 500, 1000],
+      sampleSize: 20, acceptNumber: 0, criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 }, eaEv: 0.7, useC: 55,
+      ...p,
+    }),
+  );
+}
+
+async function lotWithRun(
+  m: EntityManager,
+  code: string,
+  type: DeviceTypeEntity,
+  plan: StressPlanEntity,
+  rig: RigEntity,
+  n: number,
+  drift: HistoryRunSpec['lots'][number]['drift'],
+  extra: Partial<HistoryRunSpec> = {},
+  notes = '',
+) {
+  const lot = await m.save(m.create(LotEntity, { code, deviceTypeId: type.id, quantity: 1000, notes }));
+  const devices = await m.save(Array.from({ length: n }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `${code.slice(-1)}${String(i + 1).padStart(4, '0')}` })));
+  await insertHistoryRun(m, {
+    code: `R-${code}`, plan, deviceType: type, rig, lots: [{ lot, devices, drift }], state: 'finished', startedAt: new Date('2026-03-01T00:00:00Z'),
+    stressHours: plan.durationH, measuredH: [...plan.readPointsH], noise: 0, ...extra,
+  });
+  ids[code] = lot.id;
+  return { lot, devices };
+}
+
+beforeAll(async () => {
+  t = await createTestApp();
+  await t.ctx.ds.transaction(async (m) => {
+    const rig = await m.save(
+      m.create(RigEntity, { code: 'OV-95', name: 'test oven', socketCount: 256, maxTempC: 200, maxVoltageV: 800, mqttUsername: 'rig-ov-95', mqttSecretHash: 'x', credentialsIssuedAt: new Date() }),
+    );
+    // Four lots of one type with exact (noise-free) drift: three near −2.5 %, one at −12 % per 1000 h.
+    const type = await makeType(m, 'HPD-T200');
+    ids.type = type.id;
+    const plan = await makePlan(m, type.id);
+    const leak = 1.2;
+    await lotWithRun(m, 'HG9801-A', type, plan, rig, 20, { hfeDriftPctPer1000h: -2.0, leakageGrowthPer1000h: leak });
+    await lotWithRun(m, 'HG9801-B', type, plan, rig, 20, { hfeDriftPctPer1000h: -2.5, leakageGrowthPer1000h: leak });
+    await lotWithRun(m, 'HG9801-C', type, plan, rig, 20, { hfeDriftPctPer1000h: -3.0, leakageGrowthPer1000h: leak });
+    await lotWithRun(m, 'HG9801-D', type, plan, rig, 20, { hfeDriftPctPer1000h: -12, leakageGrowthPer1000h: leak }, {}, '=cmd|\' /C calc\'!A0');
+    // Two devices of lot E fail at 1000 h; the plan accepts none.
+    await lotWithRun(m, 'HG9801-E', type, plan, rig, 20, { hfeDriftPctPer1000h: -2.2, leakageGrowthPer1000h: leak }, {
+      failures: [{ serial: 'E0003', atH: 1000, mode: 'leakage' }, { serial: 'E0009', atH: 1000, mode: 'gain' }],
+    });
+    // Another type, one lot in progress through 500 h, drifting −20 % per 1000 h: the typical device
+    // reaches −15 % at 750 h, before the 1000 h target life.
+    const type2 = await makeType(m, 'HPD-T300');
+    const plan2 = await makePlan(m, type2.id);
+    await lotWithRun(m, 'HG9802-P', type2, plan2, rig, 10, { hfeDriftPctPer1000h: -20, leakageGrowthPer1000h: 1 }, { state: 'stressing', stressHours: 560, measuredH: [0, 168, 500] });
+    // The JESD85 case: 231 devices × 1000 h, 55 → 125 °C, Ea 0.7 eV, no failures.
+    const type3 = await makeType(m, 'HPD-T400');
+    ids.type3 = type3.id;
+    const plan3 = await makePlan(m, type3.id, { chamberC: 125, readPointsH: [0, 1000], sampleSize: 231 });
+    await lotWithRun(m, 'HG9803-Q', type3, plan3, rig, 231, { hfeDriftPctPer1000h: -1, leakageGrowthPer1000h: 1.1 });
+    // A serial that looks like a formula, to prove the CSV export neutralises it.
+    const sneaky = await m.findOneByOrFail(DeviceEntity, { serial: 'D0001' });
+    await m.update(DeviceEntity, { id: sneaky.id }, { serial: '=cmd|A1' });
+  });
+});
+afterAll(async () => {
+  await t.close();
+});
+
+describe('lot verdicts', () => {
+  it('flags the lot whose mean drift is out of control against its sister lots, and only that one (known answer)', async () => {
+    const mgr = await t.signIn('manager');
+    const res = await mgr.get(`/api/analytics/lots?deviceTypeId=${ids.type}`);
+    expect(res.status).toBe(200);
+    const verdicts = Object.fromEntries(res.body.items.map((l: { lotCode: string; verdict: string }) => [l.lotCode, l.verdict]));
+    expect(verdicts).toEqual({ 'HG9801-A': 'passed', 'HG9801-B': 'passed', 'HG9801-C': 'passed', 'HG9801-D': 'drifting', 'HG9801-E': 'failed' });
+
+    const d = await mgr.get(`/api/analytics/lots/${ids['HG9801-D']}`);
+    expect(d.status).toBe(200);
+    // Reference lots A, B, C (and E at −2.2 %) at 1000 h. Individuals chart [pub: Montgomery]: limits mean ± 2.66·MR̄.
+    const hfe = d.body.control.find((c: { parameter: string }) => c.parameter === 'hfe');
+    expect(hfe.outOfControl).toBe(true);
+    expect(hfe.value).toBeCloseTo(-12, 1);
+    expect(hfe.violations.some((v: { rule: number }) => v.rule === 1)).toBe(true); // Western Electric rule 1 [pub: WE SQC Handbook 1956]
+    expect(d.body.reasons.join(' ')).toMatch(/Mean hFE change at 1,000 h \(-12 %\) is out of control against 4 other HPD-T200 lots/);
+    // Distribution per read point: noise-free drift → every device −6 % at 500 h.
+    const rp500 = d.body.readPoints.find((r: { hours: number }) => r.hours === 500);
+    expect(rp500.hfeChangePct.mean).toBeCloseTo(-6, 1);
+    expect(rp500.devicesMeasured).toBe(20);
+  });
+
+  it('failed: two devices fail with accept number 0; the reasons name them', async () => {
+    const mgr = await t.signIn('manager');
+    const e = await mgr.get(`/api/analytics/lots/${ids['HG9801-E']}`);
+    expect(e.body.verdict).toBe('failed');
+    expect(e.body.fails).toBe(2);
+    expect(e.body.reasons[0]).toMatch(/2 devices failed the plan's criteria, accept number 0: E0003 at 1,000 h \(ICBO\); E0009 at 1,000 h \(hFE\)/);
+    const rp = e.body.readPoints.find((r: { hours: number }) => r.hours === 1000);
+    expect(rp.cumulativeFails).toBe(2);
+  });
+
+  it('drifting by projection: the typical device crosses −15 % at 750 h, before the 1000 h target (line through the origin, NIST e-Handbook §8.4.2.3)', async () => {
+    const mgr = await t.signIn('manager');
+    const list = await mgr.get('/api/analytics/lots');
+    const p = list.body.items.find((l: { lotCode: string }) => l.lotCode === 'HG9802-P');
+    expect(p.verdict).toBe('drifting');
+    expect(p.pseudoFailureParameter).toBe('hfe');
+    expect(p.pseudoFailureH).toBeGreaterThan(750 * 0.99);
+    expect(p.pseudoFailureH).toBeLessThan(750 * 1.01);
+    expect(p.reasons[0]).toMatch(/projected to reach -15 % at 750 h, before the plan's 1,000 h target life/);
+  });
+
+  it('an unknown lot is a 404 and an operator may not read analytics', async () => {
+    const mgr = await t.signIn('manager');
+    expect((await mgr.get('/api/analytics/lots/00000000-0000-4000-8000-000000000000')).status).toBe(404);
+    const op = await t.signIn('operator');
+    expect((await op.get('/api/analytics/lots')).status).toBe(403);
+  });
+});
+
+describe('failure rate and sample size', () => {
+  it('0 fails, 231 × 1000 h, 55 → 125 °C, 0.7 eV: 51.1 FIT at 60 %, 128.4 FIT at 90 % ±2 % [pub: JESD85]', async () => {
+    const mgr = await t.signIn('manager');
+    const res = await mgr.get(`/api/analytics/device-types/${ids.type3}`);
+    expect(res.status).toBe(200);
+    const s = res.body;
+    expect(s.deviceHours).toBe(231_000);
+    // AF 77.6 for 0.7 eV, 55 → 125 °C [pub: JESD85 method; computed], k = 8.617333e-5 eV/K [pub: CODATA 2018].
+    expect(Math.abs(s.accelerations[0].accelerationFactor / 77.6 - 1)).toBeLessThan(0.02);
+    expect(Math.abs(s.fit60 / 51.1 - 1)).toBeLessThan(0.02); // [pub: JESD85]
+    expect(Math.abs(s.fit90 / 128.4 - 1)).toBeLessThan(0.02); // [pub: JESD85]
+    expect(s.constants.boltzmannEvPerK).toBeCloseTo(8.617333e-5, 10);
+    expect(s.accelerations[0]).toMatchObject({ eaEv: 0.7, useC: 55, stressC: 125 });
+    // Next qualification, LTPD 3 % at 90 %, c = 0 → 76 [pub: MIL-PRF-19500 LTPD sampling; binomial success-run].
+    expect(s.nextQualification).toMatchObject({ ltpdPct: 3, confidence: 0.9, acceptNumber: 0, sampleSize: 76 });
+    const lot = await mgr.get(`/api/analytics/lots/${ids['HG9803-Q']}`);
+    expect(Math.abs(lot.body.fit.fit60 / 51.1 - 1)).toBeLessThan(0.02); // [pub: JESD85]
+    expect(lot.body.verdict).toBe('passed');
+  });
+
+  it('LTPD 5 % with one failure allowed at 90 % → 77 [pub: MIL-PRF-19500 LTPD sampling; binomial]', async () => {
+    const mgr = await t.signIn('manager');
+    const res = await mgr.get(`/api/analytics/device-types/${ids.type3}?ltpdPct=5&acceptNumber=1`);
+    expect(res.body.nextQualification.sampleSize).toBe(77);
+  });
+
+  it('device-type summary counts lots by verdict and pools device-hours', async () => {
+    const eng = await t.signIn('engineer');
+    const res = await eng.get(`/api/analytics/device-types/${ids.type}`);
+    expect(res.body).toMatchObject({ lots: 5, lotsPassed: 3, lotsDrifting: 1, lotsFailed: 1, failures: 2, deviceHours: 100 * 1000 });
+    const all = await eng.get('/api/analytics/device-types');
+    expect(all.body.items.map((x: { partNumber: string }) => x.partNumber)).toEqual(expect.arrayContaining(['HPD-T200', 'HPD-T300', 'HPD-T400']));
+  });
+});
+
+describe('exports', () => {
+  it('CSV: cells that could run as formulas get a leading quote; numbers stay numbers [practice: OWASP CSV injection]', async () => {
+    const mgr = await t.signIn('manager');
+    const res = await mgr.get(`/api/analytics/lots/${ids['HG9801-D']}/report.csv`).buffer(true);
+    expect(res.status).toBe(200);
+    expect(res.headers['content-type']).toMatch(/text\/csv/);
+    expect(res.headers['content-disposition']).toMatch(/lot-HG9801-D-report\.csv/);
+    const text = res.text;
+    expect(text).toContain(`Lot notes,'=cmd|' /C calc'!A0`);
+    expect(text).toContain(`'=cmd|A1,`);
+    const cells = text.split(/\r\n/).flatMap((l) => l.split(','));
+    expect(cells.filter((c) => /^["]?[=@]/.test(c))).toEqual([]);
+    expect(text).toMatch(/\r\n500,20,0,-6(\.\d+)?,/);
+  });
+
+  it('PDF: a real PDF with the verdict', async () => {
+    const mgr = await t.signIn('manager');
+    const res = await mgr
+      .get(`/api/analytics/lots/${ids['HG9801-D']}/report.pdf`)
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on('data', (c: Buffer) => chunks.push(c));
+        r.on('end', () => cb(null, Buffer.concat(chunks)));
+      });
+    expect(res.status).toBe(200);
+    expect(res.headers['content-type']).toBe('application/pdf');
+    expect((res.body as Buffer).subarray(0, 5).toString()).toBe('%PDF-');
+    expect((res.body as Buffer).length).toBeGreaterThan(2000);
+  });
+});
+
+describe('demo history', () => {
+  it('seeds six lots: HG2612-C drifting, HG2610-E failed (two devices), the others passed', async () => {
+    for (const name of ['device types and lots', 'rigs', 'stress plans', 'measurement history']) {
+      const step = SEED_STEPS.find((s) => s.name === name);
+      if (step) await step.run(t.ctx.ds);
+    }
+    const mgr = await t.signIn('manager');
+    const res = await mgr.get('/api/analytics/lots');
+    const v = Object.fromEntries(
+      res.body.items.filter((l: { lotCode: string }) => l.lotCode.startsWith('HG26')).map((l: { lotCode: string; verdict: string }) => [l.lotCode, l.verdict]),
+    );
+    expect(v).toEqual({
+      'HG2611-A': 'passed',
+      'HG2611-B': 'passed',
+      'HG2612-C': 'drifting',
+      'HG2609-D': 'passed',
+      'HG2610-E': 'failed',
+      'HG2608-F': 'passed',
+      'HG2612-G': 'untested',
+      'HG2605-H': 'untested',
+    });
+    const c = res.body.items.find((l: { lotCode: string }) => l.lotCode === 'HG2612-C');
+    expect(c.run.state).toBe('stressing');
+    expect(c.fails).toBe(0);
+    expect(c.reasons[0]).toMatch(/Mean hFE change at 500 h .* is out of control against 2 other HPD-2N140 lots/);
+    const e = res.body.items.find((l: { lotCode: string }) => l.lotCode === 'HG2610-E');
+    expect(e.fails).toBe(2);
+  }, 60_000);
+});
