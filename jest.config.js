@@ -22,6 +22,8 @@ const node = (name, roots, extra = {}) => ({
   ...extra,
 });
 module.exports = {
+  // CI machines are small (2 cores) and busy: a first screen render pays for the transform.
+  testTimeout: 30000,
   projects: [
     node('unit', ['<rootDir>/tests/unit']),
     node('api', ['<rootDir>/tests/api'], { setupFiles: ['<rootDir>/tests/support/env.ts'] }),
