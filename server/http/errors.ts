@@ -14,6 +14,10 @@ const STATUS: Record<ErrorCode, number> = {
   internal: 500,
 };
 
+/** The parse errors busboy (under multer) throws for a malformed multipart body. */
+const MULTIPART_PARSE_ERROR =
+  /^(Malformed content type|Malformed part header|Malformed urlencoded form|Missing Content-Type|Multipart: Boundary not found|Unexpected end of (file|form)|Unsupported content type)/;
+
 /** A failure with a plain message meant for the person who caused it. Services throw these. */
 export class AppError extends Error {
   readonly status: number;
@@ -66,6 +70,20 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
     e = new AppError('bad_request', 'The request uses an unsupported character set or encoding.');
   } else if (typeof err?.code === 'string' && err.code.startsWith('LIMIT_')) {
     e = badRequest(`The upload was refused (${String(err.message)}).`);
+  } else if (err?.expose === true && err?.status === 404) {
+    // serve-static and friends: a missing file is a 404, not a bad request.
+    e = notFound(`The file ${req.path}`);
+  } else if (err?.expose === true && Number.isInteger(err?.status) && err.status >= 400 && err.status < 500) {
+    // Other body-parser refusals (a gzip/deflate/br body that does not inflate, a body cut short):
+    // the client's fault, never a 500.
+    e = badRequest('The request body could not be read (a Content-Encoding that does not match the body, or a body cut short).');
+  } else if (err instanceof Error && MULTIPART_PARSE_ERROR.test(err.message)) {
+    // busboy (under multer) refusing a malformed multipart body: the client's fault, never a 500.
+    e = badRequest(`The upload could not be read as a multipart form (${err.message}).`);
+  } else if (err?.code === '22021' || err?.code === '22P05') {
+    // PostgreSQL: "invalid byte sequence" / "untranslatable character" (a NUL in text or jsonb) from
+    // input that reached the database without passing the route check (file contents, file names).
+    e = badRequest('The input holds a character that cannot be stored (a NUL or a broken unicode sequence).');
   } else {
     console.error(`[api] ${req.method} ${req.originalUrl} failed:`, err);
     e = new AppError('internal', 'Something went wrong on the server. The error has been logged.');

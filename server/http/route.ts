@@ -2,7 +2,7 @@ import express, { type Request, type Response } from 'express';
 import type { ZodType } from 'zod';
 import type { Role } from '../../shared/roles';
 import type { SessionUser } from '../../shared/schemas/auth';
-import { forbidden, unauthenticated, validationError } from './errors';
+import { badRequest, forbidden, unauthenticated, validationError } from './errors';
 
 export type Access = readonly Role[] | 'public' | 'signed-in';
 
@@ -36,6 +36,39 @@ export interface RegisteredRoute {
 
 export const SESSION_COOKIE = 'emberlot.sid';
 
+/**
+ * A NUL character (PostgreSQL text and jsonb cannot hold it) or a lone UTF-16 surrogate (not valid
+ * unicode; jsonb refuses its escape). Such input used to reach the database and come back as a 500.
+ */
+const UNSTORABLE = /\u0000|[\uD800-\uDBFF](?![\uDC00-\uDFFF])|(?<![\uD800-\uDBFF])[\uDC00-\uDFFF]/;
+
+/**
+ * The path of the first string (value or key) holding an unstorable character, or null. Iterative,
+ * so a deeply nested body cannot overflow the stack.
+ */
+export function findUnstorable(root: unknown): string | null {
+  type Node = { v: unknown; key: string; parent: Node | null };
+  const pathOf = (n: Node) => {
+    const parts: string[] = [];
+    for (let x: Node | null = n; x?.parent; x = x.parent) parts.unshift(x.key);
+    return parts.length ? parts.join('.') : '_';
+  };
+  const stack: Node[] = [{ v: root, key: '', parent: null }];
+  while (stack.length) {
+    const n = stack.pop()!;
+    if (typeof n.v === 'string') {
+      if (UNSTORABLE.test(n.v)) return pathOf(n);
+    } else if (n.v && typeof n.v === 'object') {
+      for (const [k, v] of Object.entries(n.v)) {
+        const child = { v, key: k, parent: n };
+        if (UNSTORABLE.test(k)) return pathOf(child);
+        stack.push(child);
+      }
+    }
+  }
+  return null;
+}
+
 export function requireAccess(req: Request, access: Access): SessionUser {
   const user = req.user as SessionUser | undefined;
   if (access === 'public') return user as SessionUser;
@@ -66,6 +99,11 @@ export class ApiRouter {
         const user = requireAccess(req, spec.access);
         const parse = <T>(schema: ZodType<T> | undefined, data: unknown, where: string): T => {
           if (!schema) return undefined as T;
+          const bad = findUnstorable(data);
+          if (bad) {
+            const message = 'Contains a NUL character or a broken unicode character (lone surrogate)';
+            throw badRequest(`The ${where} is not valid (${bad === '_' ? message : `${bad}: ${message}`}).`, { [bad]: [message] });
+          }
           const r = schema.safeParse(data);
           if (!r.success) throw validationError(r.error, where);
           return r.data;

@@ -154,6 +154,17 @@ describe('lots', () => {
       expect(await tableCounts(t.ctx.ds)).toEqual(before);
     });
 
+    it('a NUL inside a serial is reported on its row (422), not a failed database query', async () => {
+      const eng = await t.signIn('engineer');
+      const before = await tableCounts(t.ctx.ds);
+      const res = await eng.post(`/api/lots/${lotId}/serials/csv`).attach('file', csv('serial\nD0401\nQ\u0000x\n'), 'nul.csv');
+      expect(res.status).toBe(422);
+      expect(res.body.error.rows).toHaveLength(1);
+      expect(res.body.error.rows[0]).toMatchObject({ row: 3 });
+      expect(res.body.error.rows[0].reason).toMatch(/control character/);
+      expect(await tableCounts(t.ctx.ds)).toEqual(before);
+    });
+
     it('refuses files it cannot read: several columns without "serial", empty, no file, too large (413)', async () => {
       const eng = await t.signIn('engineer');
       const before = await tableCounts(t.ctx.ds);

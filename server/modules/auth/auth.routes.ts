@@ -2,7 +2,7 @@ import connectPgSimple from 'connect-pg-simple';
 import type { Express, NextFunction, Request, Response } from 'express';
 import { rateLimit } from 'express-rate-limit';
 import session from 'express-session';
-import passport from 'passport';
+import { Passport } from 'passport';
 import { Strategy as LocalStrategy } from 'passport-local';
 import type { Pool } from 'pg';
 import { signInSchema, type SessionUser } from '../../../shared/schemas/auth';
@@ -17,8 +17,14 @@ export const SIGN_IN_WINDOW_MS = 15 * 60 * 1000;
 export const SIGN_IN_MAX_PER_WINDOW = 30;
 
 /** Sessions in PostgreSQL (connect-pg-simple on TypeORM's own pool) and passport-local. */
+/** One passport instance per app (not the process-wide default), so two apps in one process never share strategies. */
+const PASSPORT = 'passport';
+const passportOf = (ctx: AppContext) => ctx.services[PASSPORT] as InstanceType<typeof Passport>;
+
 export function installAuth(app: Express, ctx: AppContext): AuthService {
   const auth = new AuthService(ctx.ds, ctx.audit, ctx.now);
+  const passport = new Passport();
+  ctx.services[PASSPORT] = passport;
   const PgStore = connectPgSimple(session);
   const pool = (ctx.ds.driver as unknown as { master: Pool }).master;
   const store = new PgStore({ pool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 15 * 60 });
@@ -68,6 +74,7 @@ export function authRoutes(ctx: AppContext): ApiRouter {
 
   r.post('/sign-in', { access: 'public', body: signInSchema }, ({ req, res, body }) => {
     req.body = body;
+    const passport = passportOf(ctx);
     return new Promise((resolve, reject) => {
       passport.authenticate('local', (err: unknown, user: SessionUser | false, info?: { message?: string }) => {
         if (err) return reject(err);

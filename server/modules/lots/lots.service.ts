@@ -117,7 +117,9 @@ export class LotsService {
     return this.ds.transaction(async (m) => {
       const lot = await m.findOne(LotEntity, { where: { id: lotId }, lock: { mode: 'pessimistic_write' } });
       if (!lot) throw notFound('The lot');
-      const trimmed = [...new Set(candidates.map((c) => c.trim()).filter((c) => c !== ''))];
+      // Only look up serials that could be stored: a control character (NUL above all) would make
+      // PostgreSQL fail the query; checkSerialRows reports those rows with their reason instead.
+      const trimmed = [...new Set(candidates.map((c) => c.trim()).filter((c) => c !== '' && !/[\u0000-\u001f\u007f]/.test(c)))];
       const present = trimmed.length
         ? await m.find(DeviceEntity, { where: { lotId, serial: In(trimmed) }, select: { serial: true } })
         : [];
