@@ -107,10 +107,14 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
       setpointC: stressing ? run.chamber_c : 25,
       humidityPct: run.humidity_pct,
       vV: reverse ? bias.vcbV ?? 0 : bias.vceV ?? 0,
-      iA: reverse ? 0.001 : bias.ibA ?? (bias.icA ? bias.icA / 100 : 0.001),
+      // The simulator forces base current; a plan that regulates IC gets the IB that gives that IC at
+      // the reference gain (the gain then rises with temperature, as in a real fixed-IB board).
+      iA: reverse ? 0.001 : bias.ibA ?? (bias.icA ? bias.icA / (sockets[0]?.beta_ref ?? 100) : 0.001),
     };
     if (!reverse && !faultPlaced && devices.length > 5) {
-      entry.faults = { noise: { tempC: 0.2, currentPct: 0.5 }, poorHeatSink: { sockets: [5], rampCPerWPerH: 1 } };
+      // Sockets 5 and 11: their thermal pads dry out, the case-to-chamber resistance climbing toward 60 °C/W over
+      // about a minute of wall time, and each junction heads for Tj max until protection trips it.
+      entry.faults = { noise: { tempC: 0.2, currentPct: 0.5 }, poorHeatSink: { sockets: [5, 11], thetaCaCPerW: 60, rampCPerWPerH: 1 } };
       faultPlaced = true;
     }
     fleet.rigs.push(entry);

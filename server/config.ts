@@ -26,7 +26,9 @@ export interface ServerConfig {
 
 const int = (v: string | undefined, d: number) => (v && /^\d+$/.test(v) ? Number(v) : d);
 
-export function dbConfigFromEnv(env: NodeJS.ProcessEnv = process.env): DbConfig {
+export type Env = Record<string, string | undefined>;
+
+export function dbConfigFromEnv(env: Env = process.env): DbConfig {
   return {
     host: env.EMBERLOT_DB_HOST ?? '127.0.0.1',
     port: int(env.EMBERLOT_DB_PORT ?? env.EMBERLOT_PG_PORT, 54329),
@@ -36,7 +38,7 @@ export function dbConfigFromEnv(env: NodeJS.ProcessEnv = process.env): DbConfig 
   };
 }
 
-export function configFromEnv(env: NodeJS.ProcessEnv = process.env): ServerConfig {
+export function configFromEnv(env: Env = process.env): ServerConfig {
   return {
     host: env.EMBERLOT_HOST ?? '127.0.0.1',
     port: int(env.EMBERLOT_PORT, 4780),

@@ -104,7 +104,9 @@ export function AlarmsScreen() {
         {(d) => (
           <View style={{ gap: space.sm }} accessibilityRole="list">
             {d.items.map((a) => (
-              <AlarmCard key={a.id} alarm={a} canAcknowledge={canAck} onAcknowledge={setAcking} highlighted={a.id === linkedId} />
+              <View key={a.id} role="listitem">
+                <AlarmCard alarm={a} canAcknowledge={canAck} onAcknowledge={setAcking} highlighted={a.id === linkedId} />
+              </View>
             ))}
             {d.total > d.items.length ? (
               <View style={{ flexDirection: 'row', alignItems: 'center', gap: space.sm }}>

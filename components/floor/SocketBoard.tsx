@@ -46,7 +46,7 @@ export function socketSummary(s: FloorSocket): string {
  */
 export function SocketBoard({ sockets, selected, onSelect, cell = 64 }: Props) {
   return (
-    <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xxs }} testID="socket-board" accessibilityRole="list">
+    <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xxs }} testID="socket-board" role="group" aria-label="Sockets">
       {sockets.map((s) => {
         const band = bandFor(s.caseC);
         const empty = !s.serial && s.caseC === null;

@@ -26,6 +26,7 @@ function Chip({ label, selected, onPress, hint }: { label: string; selected: boo
     <Pressable
       accessibilityRole="checkbox"
       accessibilityState={{ checked: selected }}
+      aria-checked={selected}
       accessibilityLabel={label}
       accessibilityHint={hint}
       onPress={onPress}

@@ -46,8 +46,20 @@ export interface ProtectionDevice {
 }
 
 export interface ProtectionOptions {
-  /** Trip when Tj ≥ Tj max − marginC. */
+  /**
+   * Trip when Tj ≥ Tj max − marginC AND the socket runs at least selfHeatAllowanceC above its
+   * baseline (always at Tj ≥ Tj max). A stress meant to hold the junction near its rating (HTRB at
+   * 145 °C on a 150 °C part, powered life at Tj max − 5 °C) is not a runaway by itself; a socket
+   * heating beyond its peers on the same board is.
+   */
   marginC: number;
+  /** See marginC: °C a socket must run above its baseline for the margin rule to apply. */
+  selfHeatAllowanceC: number;
+  /**
+   * The junction temperature this socket is expected to run at: the median of its energised peers
+   * on the same rig (the monitor passes it). Absent: the chamber temperature of the latest sample.
+   */
+  baselineTjC?: number;
   /**
    * Trip when Tj max is projected within this many stress-clock seconds. Default 60 s: several
    * telemetry intervals (rigs report every few seconds) for the trend to confirm, the command round
@@ -80,6 +92,7 @@ export interface ProtectionOptions {
 
 export const DEFAULT_PROTECTION_OPTIONS: ProtectionOptions = {
   marginC: 10,
+  selfHeatAllowanceC: 3,
   horizonS: 60,
   warnExtraMarginC: 10,
   warnHorizonFactor: 5,
@@ -201,7 +214,8 @@ const f1 = (x: number) => (Math.round(x * 10) / 10).toFixed(1);
 
 /**
  * Decide for the latest sample of one socket. Trip when:
- * 1. Tj ≥ Tj max − marginC; or
+ * 1. Tj ≥ Tj max, or Tj ≥ Tj max − marginC while the socket runs selfHeatAllowanceC above its
+ *    baseline (peers' median junction, else the chamber); or
  * 2. the loop-gain estimate is ≥ 1 and Tj is (significantly) rising; or
  * 3. Tj max is projected within horizonS.
  * Warn when Tj is within a further warnExtraMarginC, the loop gain is ≥ warnLoopGain, or the
@@ -250,8 +264,17 @@ export function assessSocket(
   const base = { tjC: tj, loopGain, secondsToTjMax: seconds, slopeCPerS: slope, thetaCaCPerW: thetaCa };
   const tjText = `Tj ${f1(tj)} °C (max ${f1(device.tjMaxC)} °C)`;
 
-  if (tj >= tripAt) {
-    return { ...base, action: 'trip', reason: `${tjText} is within ${opts.marginC} °C of the rating` };
+  const baseline = opts.baselineTjC ?? last.chamberC;
+  const aboveBaseline = tj - baseline >= opts.selfHeatAllowanceC;
+  if (tj >= device.tjMaxC) {
+    return { ...base, action: 'trip', reason: `${tjText} has reached the rating` };
+  }
+  if (tj >= tripAt && aboveBaseline) {
+    return {
+      ...base,
+      action: 'trip',
+      reason: `${tjText} is within ${opts.marginC} °C of the rating and ${f1(tj - baseline)} °C above its peers/chamber`,
+    };
   }
   if (loopGain !== null && loopGain >= 1 && rising) {
     return { ...base, action: 'trip', reason: `${tjText} rising with loop gain ${loopGain.toFixed(2)} ≥ 1: thermal runaway` };
@@ -259,7 +282,7 @@ export function assessSocket(
   if (seconds !== null && seconds < opts.horizonS) {
     return { ...base, action: 'trip', reason: `${tjText} projected to reach the rating in ${Math.round(seconds)} s` };
   }
-  if (tj >= tripAt - opts.warnExtraMarginC) {
+  if (tj >= tripAt - opts.warnExtraMarginC && aboveBaseline) {
     return { ...base, action: 'warn', reason: `${tjText} within ${opts.marginC + opts.warnExtraMarginC} °C of the rating` };
   }
   if (loopGain !== null && loopGain >= opts.warnLoopGain) {

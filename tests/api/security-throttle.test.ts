@@ -43,8 +43,8 @@ describe('a fresh app with EMBERLOT_SECURE_COOKIES=1: Secure cookie, account loc
 
   it('the setting comes from EMBERLOT_SECURE_COOKIES=1, and the cookie is then Secure, HttpOnly and SameSite=Lax', async () => {
     const { configFromEnv } = await import('../../server/config');
-    expect(configFromEnv({ EMBERLOT_SECURE_COOKIES: '1' } as NodeJS.ProcessEnv).secureCookies).toBe(true);
-    expect(configFromEnv({} as NodeJS.ProcessEnv).secureCookies).toBe(false);
+    expect(configFromEnv({ EMBERLOT_SECURE_COOKIES: '1' }).secureCookies).toBe(true);
+    expect(configFromEnv({}).secureCookies).toBe(false);
     const c = setCookieOf(await attempt(emailFor('admin'), TEST_PASSWORD));
     expect(c).toMatch(/;\s*Secure/i);
     expect(c).toMatch(/;\s*HttpOnly/i);

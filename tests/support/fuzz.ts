@@ -531,7 +531,7 @@ export class FuzzClient {
   async call(method: string, path: string, init: { body?: string | Buffer; headers?: Record<string, string> } = {}): Promise<Reply> {
     const res = await fetch(this.base + path, {
       method: method.toUpperCase(),
-      body: init.body,
+      body: init.body as unknown as string | undefined,
       headers: { ...(this.cookie ? { cookie: this.cookie } : {}), ...init.headers },
     });
     const text = await res.text();

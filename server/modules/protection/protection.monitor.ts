@@ -354,8 +354,9 @@ export class ProtectionMonitor {
     if (this.isActive('rig-offline', m.rigId, null)) await this.clear('rig-offline', m.rigId, null, { telemetryAt: m.ts.toISOString() });
 
     const run = await this.runFor(m.rigId);
+    const baselineTjC = this.peerBaseline(m, run);
     for (const reading of m.sockets) {
-      await this.onSocket(m, rig, run, reading);
+      await this.onSocket(m, rig, run, reading, baselineTjC);
     }
     await this.checkAmbient(m, rig, run);
   }
@@ -368,7 +369,26 @@ export class ProtectionMonitor {
     return null;
   }
 
-  private async onSocket(m: TelemetryLanded, rig: RigState, run: RunContext | null, reading: SocketReading): Promise<void> {
+  /**
+   * The junction temperature the energised sockets of this message run at: their median (robust to
+   * the one socket running away). Undefined with fewer than 3 energised sockets (then the detector
+   * compares with the chamber).
+   */
+  private peerBaseline(m: TelemetryLanded, run: RunContext | null): number | undefined {
+    const tjs: number[] = [];
+    for (const r of m.sockets) {
+      if (!r.biasOn || r.tripped) continue;
+      const dev = this.deviceFor(run, r.i);
+      if (!dev) continue;
+      tjs.push(r.caseC + dev.device.thetaJcCPerW * Math.abs(r.vV) * Math.abs(r.iA));
+    }
+    if (tjs.length < 3) return undefined;
+    tjs.sort((a, b) => a - b);
+    const mid = tjs.length >> 1;
+    return tjs.length % 2 ? tjs[mid] : (tjs[mid - 1] + tjs[mid]) / 2;
+  }
+
+  private async onSocket(m: TelemetryLanded, rig: RigState, run: RunContext | null, reading: SocketReading, baselineTjC?: number): Promise<void> {
     const st = this.socketState(rig, reading.i);
     const sample: SocketSample = {
       tS: m.stressClockS,
@@ -413,7 +433,7 @@ export class ProtectionMonitor {
     const dev = this.deviceFor(run, reading.i);
     if (dev && sample.biasOn && !st.tripCmdId) {
       this.stats.assessments++;
-      const a = assessSocket(st.history, dev.device, this.opts.protection);
+      const a = assessSocket(st.history, dev.device, { ...this.opts.protection, baselineTjC });
       if (a.action === 'trip') {
         this.startTrip(m, rig, run, reading.i, st, sample, a, dev);
       } else if (a.action === 'warn') {

@@ -179,7 +179,10 @@ export async function writeBatch(pool: Pool, items: IngestItem[], extras: BatchE
   };
   client.on('error', onError);
   try {
-    await client.query('BEGIN');
+    // The rigs drop a sample once told `stored` (after COMMIT), so the COMMIT must be durable even
+    // on a server configured with synchronous_commit=off (an immediate stop or crash would otherwise
+    // lose a transaction already confirmed to the rig).
+    await client.query('BEGIN; SET LOCAL synchronous_commit = on');
     const result = await writeInTransaction(client, items, extras);
     await client.query('COMMIT');
     return result;

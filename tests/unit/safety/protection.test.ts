@@ -113,6 +113,22 @@ describe('live runaway detector', () => {
     expect(assessSocket([{ ...s, caseC: 134 }], dev).action).toBe('warn');
   });
 
+  test('a junction held near its rating by the stress itself is not a runaway (regression: the demo HTRB board tripped every socket)', () => {
+    // common practice: HTRB holds the junction near Tj max (chamber 145 °C on a 150 °C part) with
+    // negligible self-heating (160 V × 60 nA ≈ 10 µW); the margin rule must not fire on that alone.
+    const htrb: SocketSample[] = Array.from({ length: 40 }, (_, k) => ({ tS: k * 5, caseC: 145 + 0.05 * Math.sin(k), vV: 160, iA: 60e-9, chamberC: 145, biasOn: true }));
+    expect(runDetector(htrb, dev).map((r) => r.action).filter((a) => a !== 'none')).toEqual([]);
+    // A powered-life board whose peers all run at 141 °C: a socket at 141.5 °C is one of them …
+    const s: SocketSample = { tS: 0, caseC: 131.5, vV: 10, iA: 0.2, chamberC: 25, biasOn: true };
+    expect(assessSocket([s], dev, { baselineTjC: 141 }).action).toBe('none');
+    // … one 4 °C above its peers and within 10 °C of the rating is heating itself beyond the plan: trip.
+    const hot = assessSocket([{ ...s, caseC: 135 }], dev, { baselineTjC: 141 });
+    expect(hot.action).toBe('trip');
+    expect(hot.reason).toMatch(/4\.0 °C above its peers/);
+    // At the rating itself it trips whatever its peers do.
+    expect(assessSocket([{ ...s, caseC: 140 }], dev, { baselineTjC: 150 }).action).toBe('trip');
+  });
+
   test('healthy noisy socket whose junction settles is never tripped over a long run', () => {
     const { samples, trueTj } = simulate({
       // chamber ramps 25 → 125 °C in 30 min with bias on, then holds; bias off for 10 min twice
