@@ -28,7 +28,8 @@ export function rigState(t: FloorTile): { tone: Tone; label: string } {
 export function fmtHours(h: number): string {
   if (h < 1) return `${Math.max(0, Math.round(h * 60))} min`;
   if (h < 48) return `${h < 10 ? h.toFixed(1) : Math.round(h)} h`;
-  return `${Math.floor(h / 24)} d ${Math.round(h % 24)} h`;
+  const whole = Math.round(h); // round first, so 95.6 h reads "4 d 0 h", not "3 d 24 h"
+  return `${Math.floor(whole / 24)} d ${whole % 24} h`;
 }
 
 function Stat({ label, value, tone }: { label: string; value: string; tone?: Tone }) {

@@ -1,8 +1,10 @@
-import type { ReactNode } from 'react';
+import { useContext, type ReactNode } from 'react';
 import { View } from 'react-native';
 import { Text } from '@/components/ui/Text';
 import { space } from '@/components/theme/tokens';
 import { useBreakpoints } from '@/components/theme/breakpoints';
+import { NotificationBell } from '@/components/alarms/NotificationBell';
+import { InShell } from '@/components/shell/ShellContext';
 
 interface Props {
   title: string;
@@ -16,6 +18,9 @@ interface Props {
 
 export function Header({ title, subtitle, eyebrow, actions }: Props) {
   const { gtPhone } = useBreakpoints();
+  // Signed in, every page header carries the notification bell at its top right: it scrolls with
+  // the page instead of floating over it.
+  const bell = useContext(InShell) ? <NotificationBell /> : null;
   return (
     <View
       style={{
@@ -23,9 +28,11 @@ export function Header({ title, subtitle, eyebrow, actions }: Props) {
         alignItems: gtPhone ? 'flex-end' : 'stretch',
         justifyContent: 'space-between',
         gap: space.md,
+        zIndex: 10, // the bell's list opens over the content below
       }}
     >
-      <View style={{ flexShrink: 1, gap: space.xxs }}>
+      {bell && !gtPhone ? <View style={{ position: 'absolute', top: 0, right: 0, zIndex: 10 }}>{bell}</View> : null}
+      <View style={{ flexShrink: 1, gap: space.xxs, paddingRight: bell && !gtPhone ? 48 : 0 }}>
         {eyebrow ? (
           <Text variant="overline" tone="subtle">
             {eyebrow}
@@ -40,7 +47,12 @@ export function Header({ title, subtitle, eyebrow, actions }: Props) {
           </Text>
         ) : null}
       </View>
-      {actions ? <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs }}>{actions}</View> : null}
+      {actions || (bell && gtPhone) ? (
+        <View style={{ flexDirection: 'row', flexWrap: 'wrap', alignItems: 'center', gap: space.xs }}>
+          {actions}
+          {gtPhone ? bell : null}
+        </View>
+      ) : null}
     </View>
   );
 }

@@ -5,8 +5,8 @@ import { ROLE_HOME, ROLE_LABEL } from '@/shared/roles';
 import { Screen } from '@/components/layout/Screen';
 import { useSignOut, type Me } from '@/components/queries/auth';
 import { useBreakpoints } from '@/components/theme/breakpoints';
-import { colors, space } from '@/components/theme/tokens';
-import { NotificationBell } from '@/components/alarms/NotificationBell';
+import { colors } from '@/components/theme/tokens';
+import { InShell } from './ShellContext';
 import { Button } from '@/components/ui/Button';
 import { EmptyState } from '@/components/ui/EmptyState';
 import { canOpen, destinationsFor, isActive, splitForPhone } from './destinations';
@@ -58,14 +58,11 @@ export function ShellFrame({ user, pathname, cover, children }: Props) {
         <SideRail user={user} destinations={mine} pathname={pathname} onSignOut={() => signOut.mutate()} signingOut={signOut.isPending} />
       ) : null}
       <View role="main" style={{ flex: 1 }}>
-        <View style={[{ flex: 1 }, over ? { display: 'none' } : null]}>{children}</View>
+        <View style={[{ flex: 1 }, over ? { display: 'none' } : null]}>
+          {/* Page headers show the notification bell inside the shell (components/layout/Header). */}
+          <InShell.Provider value={!!user}>{children}</InShell.Provider>
+        </View>
         {over}
-        {user && !over ? (
-          // Above the page, top right, on every size: new alarms and read-point notices.
-          <View style={{ position: 'absolute', top: space.xs, right: gtTablet ? space.lg : space.sm, zIndex: 20 }}>
-            <NotificationBell />
-          </View>
-        ) : null}
       </View>
       {!gtTablet && user ? <TabBar tabs={tabs} isActive={active} moreActive={moreActive} onMore={() => setMoreOpen(true)} /> : null}
       {!gtTablet && user ? (
