@@ -112,9 +112,13 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
       iA: reverse ? 0.001 : bias.ibA ?? (bias.icA ? bias.icA / (sockets[0]?.beta_ref ?? 100) : 0.001),
     };
     if (!reverse && !faultPlaced && devices.length > 5) {
-      // Sockets 5 and 11: their thermal pads dry out, the case-to-chamber resistance climbing toward 60 °C/W over
-      // about a minute of wall time, and each junction heads for Tj max until protection trips it.
-      entry.faults = { noise: { tempC: 0.2, currentPct: 0.5 }, poorHeatSink: { sockets: [5, 11], thetaCaCPerW: 60, rampCPerWPerH: 1 } };
+      // Sockets 5 and 11: their thermal pads dry out, the case-to-chamber resistance climbing toward
+      // 60 °C/W at 60 °C/W per stress hour, and each junction heads for Tj max until protection trips
+      // it. This rig runs a slower clock (0.04 stress h per wall second, 72 stress seconds between
+      // samples): at the demo's 1 h/s a whole runaway fits between two samples, which no trip can beat.
+      // Measured offline with the simulator's physics: trip at 0.56 stress h with true Tj ≈ 141 °C.
+      entry.faults = { noise: { tempC: 0.2, currentPct: 0.5 }, poorHeatSink: { sockets: [5, 11], thetaCaCPerW: 60, rampCPerWPerH: 60 } };
+      entry.stressHoursPerWallSecond = 0.04;
       faultPlaced = true;
     }
     fleet.rigs.push(entry);
