@@ -1,0 +1,127 @@
+/**
+ * The bench's own world: a private PostgreSQL cluster ("bench", durable settings, recreated on
+ * every run so results do not depend on what an earlier run left), the migrated schema with the
+ * demo users, device types, lots and plans, and the real processes (fake SMTP, MQTT broker, API
+ * server with ingest, protection and scheduler) started through scripts/stack.ts on bench ports.
+ */
+import 'reflect-metadata';
+import * as fs from 'node:fs';
+import * as path from 'node:path';
+import type { Pool } from 'pg';
+import type { DataSource } from 'typeorm';
+import { configFromEnv } from '../../server/config';
+import { createDataSource } from '../../server/db/data-source';
+import { SEED_STEPS } from '../../server/seed/seed';
+import { destroyCluster, ensureDatabase, PROJECT_ROOT, startCluster, stopCluster, type ClusterInfo, type ClusterOptions } from '../../scripts/pg-cluster';
+import { PROCESSES } from '../../scripts/processes';
+import { startStack, type Stack } from '../../scripts/stack';
+import { MQTT_SERVER, SETTINGS } from './settings';
+
+/** Stress hours per wall second of the protection scenario's simulated rigs (10 stress s / wall s). */
+export const BENCH_CLOCK_RATE = 10 / 3600;
+
+export interface BenchEnv {
+  cluster: ClusterInfo;
+  clusterOpts: ClusterOptions;
+  ds: DataSource;
+  pool: Pool;
+  env: NodeJS.ProcessEnv;
+  baseUrl: string;
+  mqttUrl: string;
+  stack: Stack | null;
+  pids: Record<string, number>;
+}
+
+export const RESULTS_DIR = path.join(PROJECT_ROOT, 'bench', 'results');
+
+/**
+ * Durable settings on purpose (fast: false → fsync and synchronous_commit on, as the demo cluster):
+ * a `stored` acknowledgement promises a rig its samples survive a crash, which only a durable
+ * commit keeps; the COPY baseline runs on the same cluster with the same settings.
+ */
+export function clusterOptions(): ClusterOptions {
+  return { name: 'bench', port: SETTINGS.ports.pg, fast: false, quiet: true };
+}
+
+/** Only the parts of the demo seed the scenarios build on: people, device types and lots, plans. */
+const BASE_SEED = ['users', 'device types and lots', 'stress plans'];
+
+export async function prepareDatabase(log: (l: string) => void): Promise<BenchEnv> {
+  const clusterOpts = clusterOptions();
+  const t0 = Date.now();
+  destroyCluster(clusterOpts);
+  const cluster = startCluster(clusterOpts);
+  await ensureDatabase(cluster, SETTINGS.database);
+  const env: NodeJS.ProcessEnv = {
+    ...process.env,
+    EMBERLOT_DB_HOST: '127.0.0.1',
+    EMBERLOT_DB_PORT: String(SETTINGS.ports.pg),
+    EMBERLOT_PG_PORT: String(SETTINGS.ports.pg),
+    EMBERLOT_DB_NAME: SETTINGS.database,
+    EMBERLOT_PORT: String(SETTINGS.ports.api),
+    EMBERLOT_MQTT_PORT: String(SETTINGS.ports.mqtt),
+    EMBERLOT_MQTT_URL: `mqtt://127.0.0.1:${SETTINGS.ports.mqtt}`,
+    EMBERLOT_SMTP_PORT: String(SETTINGS.ports.smtp),
+    EMBERLOT_MQTT_SERVER_USER: MQTT_SERVER.username,
+    EMBERLOT_MQTT_SERVER_PASSWORD: MQTT_SERVER.password,
+    EMBERLOT_CLOCK_RATE: String(BENCH_CLOCK_RATE),
+    EMBERLOT_WEB_DIR: '',
+    EMBERLOT_DEV_PROXY: '',
+    EMBERLOT_UPLOAD_DIR: path.join(PROJECT_ROOT, '.data', 'bench-uploads'),
+    EMBERLOT_SESSION_SECRET: 'emberlot-bench-session-secret',
+  };
+  const ds = createDataSource(configFromEnv(env).db, { poolSize: 8 });
+  await ds.initialize(); // migrations
+  for (const step of SEED_STEPS.filter((s) => BASE_SEED.includes(s.name))) await step.run(ds);
+  log(`PostgreSQL "bench" on 127.0.0.1:${SETTINGS.ports.pg} (fresh cluster, durable settings), schema and base seed in ${((Date.now() - t0) / 1000).toFixed(1)} s`);
+  const pool = (ds.driver as unknown as { master: Pool }).master;
+  return {
+    cluster,
+    clusterOpts,
+    ds,
+    pool,
+    env,
+    baseUrl: `http://127.0.0.1:${SETTINGS.ports.api}`,
+    mqttUrl: `mqtt://127.0.0.1:${SETTINGS.ports.mqtt}`,
+    stack: null,
+    pids: {},
+  };
+}
+
+export async function startProcesses(b: BenchEnv, log: (l: string) => void): Promise<void> {
+  const t0 = Date.now();
+  const env = { ...b.env };
+  // --cpu-prof (and other V8 flags) are refused in NODE_OPTIONS: add them to this run's copy of the
+  // API and broker command lines (node writes a CPU profile when the process exits, at teardown).
+  const flags: string[] = [];
+  if (SETTINGS.cpuProfile) {
+    const dir = path.join(PROJECT_ROOT, '.data', 'bench-prof');
+    fs.mkdirSync(dir, { recursive: true });
+    flags.push('--cpu-prof', `--cpu-prof-dir=${dir}`);
+  }
+  if (process.env.EMBERLOT_BENCH_NODE_FLAGS) flags.push(...process.env.EMBERLOT_BENCH_NODE_FLAGS.split(' ').filter(Boolean));
+  for (const spec of PROCESSES) {
+    if ((spec.name === 'api' || spec.name === 'broker') && flags.length && !spec.command.includes(flags[0])) spec.command.splice(1, 0, ...flags);
+  }
+  b.stack = await startStack({
+    env,
+    // The bench drives its own rigs (lightweight publishers and the simulator in this process).
+    skip: ['rigs'],
+    echo: SETTINGS.verbose,
+    onUnexpectedExit: (name, code, sig) => {
+      console.error(`[bench] ${name} exited unexpectedly (${code ?? sig})`);
+    },
+  });
+  for (const { spec, child } of b.stack.children) if (child.pid) b.pids[spec.name] = child.pid;
+  log(`processes up in ${((Date.now() - t0) / 1000).toFixed(1)} s: ${Object.entries(b.pids).map(([n, p]) => `${n} (pid ${p})`).join(', ')}`);
+}
+
+export async function teardown(b: BenchEnv | null): Promise<void> {
+  if (!b) return;
+  await b.stack?.stop(8000).catch(() => undefined);
+  // A query still running must not hold the bench: the cluster's fast shutdown ends it anyway.
+  await Promise.race([b.ds.destroy().catch(() => undefined), new Promise((r) => setTimeout(r, 5000))]);
+  // The next run starts from a fresh cluster anyway: keep the data only when asked to (inspection).
+  if (process.env.EMBERLOT_BENCH_KEEP === '1') stopCluster(b.clusterOpts);
+  else destroyCluster(b.clusterOpts);
+}
