@@ -9,6 +9,7 @@ import * as fs from 'node:fs';
 import * as path from 'node:path';
 import type { DataSource } from 'typeorm';
 import { DEMO_LOTS, demoRigSecret, rigMqttUsername } from '../server/seed/demo-data';
+import { gainAtTemperature } from '../shared/physics';
 
 const ACTIVE = ['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling'];
 const IDLE_SOCKETS = 4;
@@ -26,6 +27,15 @@ interface SocketRow {
   icbo_ref_a: number | null;
   theta_jc_c_per_w: number;
   tj_max_c: number;
+}
+
+/**
+ * The gain a healthy socket runs at: β(T) = β_ref·(T/T_ref)^XTB [Gummel–Poon] at the chamber plus
+ * the ~10 °C a soundly heat-sunk board adds, so IB = IC/β holds a regulated-IC plan's current.
+ */
+function gainNearChamber(s: SocketRow | undefined, chamberC: number): number {
+  if (!s) return 100;
+  return gainAtTemperature({ betaRef: s.beta_ref, tRefC: s.beta_ref_tc, tC: chamberC + 10, xtb: s.xtb });
 }
 
 function spread(seed: string, pct: number): number {
@@ -83,7 +93,8 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
         serial: s.serial,
         partNumber: s.part_number,
         lotCode: s.lot_code,
-        betaRef: s.beta_ref * spread(s.serial, 0.1),
+        // A sorted hFE bin (±3 %): a regulated-current plan then sees its current within tolerance.
+        betaRef: s.beta_ref * spread(s.serial, 0.03),
         betaRefTC: s.beta_ref_tc,
         xtb: s.xtb,
         icboRefA: (s.icbo_ref_a ?? 20e-9) * spread(`${s.serial}:i`, 0.3),
@@ -109,7 +120,7 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
       vV: reverse ? bias.vcbV ?? 0 : bias.vceV ?? 0,
       // The simulator forces base current; a plan that regulates IC gets the IB that gives that IC at
       // the reference gain (the gain then rises with temperature, as in a real fixed-IB board).
-      iA: reverse ? 0.001 : bias.ibA ?? (bias.icA ? bias.icA / (sockets[0]?.beta_ref ?? 100) : 0.001),
+      iA: reverse ? 0.001 : bias.ibA ?? (bias.icA ? bias.icA / gainNearChamber(sockets[0], run.chamber_c) : 0.001),
     };
     if (!reverse && !faultPlaced && devices.length > 5) {
       // Sockets 5 and 11: their thermal pads dry out, the case-to-chamber resistance climbing toward
