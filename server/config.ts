@@ -22,6 +22,8 @@ export interface ServerConfig {
   uploadDir: string;
   /** Stress hours per wall second in demo mode (the rig simulator uses the same clock). */
   clockRate: number;
+  /** How often the ingest writes the per-minute rollups it holds (telemetry/rollups.ts). */
+  rollupFlushMs: number;
 }
 
 const int = (v: string | undefined, d: number) => (v && /^\d+$/.test(v) ? Number(v) : d);
@@ -59,5 +61,6 @@ export function configFromEnv(env: Env = process.env): ServerConfig {
     webDir: env.EMBERLOT_WEB_DIR ?? null,
     uploadDir: env.EMBERLOT_UPLOAD_DIR ?? '.data/uploads',
     clockRate: Number(env.EMBERLOT_CLOCK_RATE ?? 1) || 1,
+    rollupFlushMs: Math.max(100, int(env.EMBERLOT_ROLLUP_FLUSH_MS, 5_000)),
   };
 }

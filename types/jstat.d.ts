@@ -20,6 +20,10 @@ declare module 'jstat' {
       cdf(x: number, dof: number): number;
       inv(p: number, dof: number): number;
     };
+    /** Ordinary least squares: endog = y, exog = rows of regressors (include a 1 for the intercept). */
+    models: {
+      ols(endog: number[], exog: number[][]): { coef: number[]; t: { se: number[] }; SSE: number; nobs: number };
+    };
     gammafn(x: number): number;
     gammaln(x: number): number;
   }

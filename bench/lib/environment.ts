@@ -40,7 +40,7 @@ export const RESULTS_DIR = path.join(PROJECT_ROOT, 'bench', 'results');
  * commit keeps; the COPY baseline runs on the same cluster with the same settings.
  */
 export function clusterOptions(): ClusterOptions {
-  return { name: 'bench', port: SETTINGS.ports.pg, fast: false, quiet: true };
+  return { name: SETTINGS.cluster, port: SETTINGS.ports.pg, fast: false, quiet: true };
 }
 
 /** Only the parts of the demo seed the scenarios build on: people, device types and lots, plans. */

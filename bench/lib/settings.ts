@@ -31,6 +31,8 @@ export const SETTINGS = {
     mqtt: num('EMBERLOT_BENCH_MQTT_PORT', 18871),
     smtp: num('EMBERLOT_BENCH_SMTP_PORT', 2571),
   },
+  /** The private cluster's name (its data folder); a second bench at once needs its own, and its own ports. */
+  cluster: process.env.EMBERLOT_BENCH_CLUSTER || 'bench',
   database: 'emberlot_bench',
   ingest: {
     rigs: num('EMBERLOT_BENCH_RIGS', 40),

@@ -1,7 +1,9 @@
 /**
  * Live runaway protection for one socket, evaluated on every telemetry sample.
- * Pure and stateless: give it the socket's recent samples (a bounded buffer is enough — only the
- * last `windowS` seconds of continuous bias are used) and it returns what to do now.
+ * Pure: give assessSocket the socket's recent samples (only the last `windowS` seconds of continuous
+ * bias are used) and it returns what to do now. Live protection keeps one SocketTrend per socket
+ * instead (socket-trend.ts: the same estimators from running sums, O(1) per sample) and calls
+ * assessTrend.
  *
  * A software trip complements, and never replaces, the rig's hardware interlocks.
  *
@@ -26,19 +28,12 @@
  *   catches quasi-static runaway (a chamber or socket drifting past its critical point); fast
  *   transients are caught by the time-to-limit projection and the temperature threshold.
  */
-import { linearRegression, max, mean, min, sum } from 'simple-statistics';
+import { SocketTrend, type TrendSample } from './socket-trend';
 
-export interface SocketSample {
-  /** Stress-clock time, seconds. */
-  tS: number;
-  caseC: number;
-  /** Collector-emitter (or applied) voltage, V. */
-  vV: number;
-  /** Device current, A. */
-  iA: number;
-  chamberC: number;
-  biasOn: boolean;
-}
+export { SocketTrend };
+
+/** One telemetry sample of a socket: stress-clock time (s), case, |V| (V), |I| (A), chamber, bias on. */
+export type SocketSample = TrendSample;
 
 export interface ProtectionDevice {
   tjMaxC: number;
@@ -124,60 +119,6 @@ export interface SocketAssessment {
 
 // ---------------------------------------------------------------------------------------------
 
-interface QuadFit {
-  c0: number;
-  slope: number;
-  slopeSe: number;
-  /** Second derivative 2·c2 and its standard error. */
-  accel: number;
-  accelSe: number;
-}
-
-/** Least-squares Tj = c0 + c1·x + c2·x², x = t − t_last; standard errors from σ̂²(XᵀX)⁻¹. */
-function quadraticFit(xs: number[], ys: number[]): QuadFit | null {
-  const n = xs.length;
-  if (n < 4) return null;
-  // Power sums Σxᵏ (k = 0…4) and Σxᵏ·y (k = 0…2).
-  const s = [0, 0, 0, 0, 0];
-  const t = [0, 0, 0];
-  for (let i = 0; i < n; i++) {
-    let xk = 1;
-    for (let k = 0; k <= 4; k++) {
-      s[k] += xk;
-      if (k <= 2) t[k] += xk * ys[i];
-      xk *= xs[i];
-    }
-  }
-  const [s0, s1, s2, s3, s4] = s;
-  const [t0, t1, t2] = t;
-  // Symmetric M = [[s0,s1,s2],[s1,s2,s3],[s2,s3,s4]]; inverse by cofactors.
-  const a = s2 * s4 - s3 * s3;
-  const b = -(s1 * s4 - s2 * s3);
-  const c = s1 * s3 - s2 * s2;
-  const det = s0 * a + s1 * b + s2 * c;
-  if (!(Math.abs(det) > 0)) return null;
-  const inv = [
-    [a, b, c],
-    [b, s0 * s4 - s2 * s2, -(s0 * s3 - s1 * s2)],
-    [c, -(s0 * s3 - s1 * s2), s0 * s2 - s1 * s1],
-  ].map((row) => row.map((v) => v / det));
-  const rhs = [t0, t1, t2];
-  const coef = inv.map((row) => row[0] * rhs[0] + row[1] * rhs[1] + row[2] * rhs[2]);
-  let rss = 0;
-  for (let i = 0; i < n; i++) {
-    const r = ys[i] - (coef[0] + coef[1] * xs[i] + coef[2] * xs[i] * xs[i]);
-    rss += r * r;
-  }
-  const sigma2 = rss / (n - 3);
-  return {
-    c0: coef[0],
-    slope: coef[1],
-    slopeSe: Math.sqrt(Math.max(0, sigma2 * inv[1][1])),
-    accel: 2 * coef[2],
-    accelSe: 2 * Math.sqrt(Math.max(0, sigma2 * inv[2][2])),
-  };
-}
-
 /** Seconds for Tj to climb `gap` °C given slope and (significant or zero) acceleration; null if never. */
 export function projectSecondsToLimit(gap: number, slope: number, accel: number): number | null {
   if (gap <= 0) return 0;
@@ -189,22 +130,13 @@ export function projectSecondsToLimit(gap: number, slope: number, accel: number)
   return Math.log(arg) / lambda;
 }
 
-function estimateLoopGain(
-  w: SocketSample[],
-  thetaJc: number,
-  opts: ProtectionOptions,
-): { loopGain: number | null; thetaCa: number | null } {
-  const p = w.map((s) => s.vV * s.iA);
-  const sumP2 = sum(p.map((x) => x * x));
-  if (!(sumP2 > 0)) return { loopGain: null, thetaCa: null };
-  const thetaCa = sum(w.map((s, i) => (s.caseC - s.chamberC) * p[i])) / sumP2;
-  const cases = w.map((s) => s.caseC);
-  if (max(cases) - min(cases) < opts.minCaseSpanC || w.length < 3) return { loopGain: null, thetaCa };
-  const { m: s, b } = linearRegression(cases.map((c, i) => [c, p[i]]));
-  const mc = mean(cases);
-  const sxx = sum(cases.map((c) => (c - mc) ** 2));
-  const rss = sum(cases.map((c, i) => (p[i] - (b + s * c)) ** 2));
-  const se = Math.sqrt(rss / (w.length - 2) / sxx);
+function estimateLoopGain(trend: SocketTrend, thetaJc: number, opts: ProtectionOptions): { loopGain: number | null; thetaCa: number | null } {
+  const r = trend.caseRegression();
+  if (!(r.sumP2 > 0)) return { loopGain: null, thetaCa: null };
+  const thetaCa = r.sumRiseP / r.sumP2;
+  if (r.caseSpanC < opts.minCaseSpanC || r.n < 3 || !(r.sxx > 0)) return { loopGain: null, thetaCa };
+  const s = r.slope;
+  const se = Math.sqrt(r.rss / (r.n - 2) / r.sxx);
   if (!(Math.abs(s) > opts.significanceZ * se)) return { loopGain: null, thetaCa };
   const dPdTj = s / (1 + thetaJc * s);
   return { loopGain: (thetaJc + Math.max(0, thetaCa)) * dPdTj, thetaCa };
@@ -227,18 +159,25 @@ export function assessSocket(
   options: Partial<ProtectionOptions> = {},
 ): SocketAssessment {
   const opts = { ...DEFAULT_PROTECTION_OPTIONS, ...options };
-  const empty = { loopGain: null, secondsToTjMax: null, slopeCPerS: null, thetaCaCPerW: null };
-  if (history.length === 0) return { tjC: null, ...empty, action: 'none', reason: 'No samples yet' };
+  const trend = new SocketTrend(opts.windowS, Math.max(history.length, 1));
+  for (const s of history) trend.push(s, device.thetaJcCPerW);
+  return assessTrend(trend, device, opts, opts.baselineTjC);
+}
 
-  const tjOf = (s: SocketSample) => (s.biasOn ? s.caseC + device.thetaJcCPerW * s.vV * s.iA : s.caseC);
-  const last = history[history.length - 1];
-  const tj = tjOf(last);
+/**
+ * assessSocket on a socket's incremental window (what live protection keeps per socket): the
+ * trend must have been pushed with this device's θjc.
+ */
+export function assessTrend(
+  trend: SocketTrend,
+  device: ProtectionDevice,
+  opts: ProtectionOptions = DEFAULT_PROTECTION_OPTIONS,
+  baselineTjC: number | undefined = opts.baselineTjC,
+): SocketAssessment {
+  const last = trend.last;
+  if (!last) return { tjC: null, loopGain: null, secondsToTjMax: null, slopeCPerS: null, thetaCaCPerW: null, action: 'none', reason: 'No samples yet' };
+  const tj = trend.lastTjC;
   const tripAt = device.tjMaxC - opts.marginC;
-
-  // Latest continuous bias-on stretch inside the window.
-  let start = history.length;
-  while (start > 0 && history[start - 1].biasOn && history[start - 1].tS >= last.tS - opts.windowS) start--;
-  const window = history.slice(start);
 
   let slope: number | null = null;
   let seconds: number | null = null;
@@ -246,55 +185,69 @@ export function assessSocket(
   let loopGain: number | null = null;
   let thetaCa: number | null = null;
 
-  const spanS = window.length > 0 ? last.tS - window[0].tS : 0;
-  if (last.biasOn && window.length >= opts.minSamples && spanS >= opts.minTrendS) {
-    const fit = quadraticFit(
-      window.map((s) => s.tS - last.tS),
-      window.map(tjOf),
-    );
+  if (last.biasOn && trend.count >= opts.minSamples && trend.spanS >= opts.minTrendS) {
+    const fit = trend.quadraticFit();
     if (fit) {
       slope = fit.slope;
       rising = fit.slope > opts.minRiseCPerS && fit.slope > opts.significanceZ * fit.slopeSe;
       const accel = Math.abs(fit.accel) > opts.significanceZ * fit.accelSe ? fit.accel : 0;
       if (rising) seconds = projectSecondsToLimit(device.tjMaxC - Math.max(fit.c0, tj), fit.slope, accel);
     }
-    ({ loopGain, thetaCa } = estimateLoopGain(window, device.thetaJcCPerW, opts));
+    ({ loopGain, thetaCa } = estimateLoopGain(trend, device.thetaJcCPerW, opts));
   }
 
-  const base = { tjC: tj, loopGain, secondsToTjMax: seconds, slopeCPerS: slope, thetaCaCPerW: thetaCa };
-  const tjText = `Tj ${f1(tj)} °C (max ${f1(device.tjMaxC)} °C)`;
+  const result = (action: ProtectionAction, text: string | null) => new Assessment(tj, loopGain, seconds, slope, thetaCa, action, text, device.tjMaxC, rising);
+  const tjText = () => tjDescription(tj, device.tjMaxC);
 
-  const baseline = opts.baselineTjC ?? last.chamberC;
+  const baseline = baselineTjC ?? last.chamberC;
   const aboveBaseline = tj - baseline >= opts.selfHeatAllowanceC;
-  if (tj >= device.tjMaxC) {
-    return { ...base, action: 'trip', reason: `${tjText} has reached the rating` };
-  }
+  if (tj >= device.tjMaxC) return result('trip', `${tjText()} has reached the rating`);
   if (tj >= tripAt && aboveBaseline) {
-    return {
-      ...base,
-      action: 'trip',
-      reason: `${tjText} is within ${opts.marginC} °C of the rating and ${f1(tj - baseline)} °C above its peers/chamber`,
-    };
+    return result('trip', `${tjText()} is within ${opts.marginC} °C of the rating and ${f1(tj - baseline)} °C above its peers/chamber`);
   }
-  if (loopGain !== null && loopGain >= 1 && rising) {
-    return { ...base, action: 'trip', reason: `${tjText} rising with loop gain ${loopGain.toFixed(2)} ≥ 1: thermal runaway` };
+  if (loopGain !== null && loopGain >= 1 && rising) return result('trip', `${tjText()} rising with loop gain ${loopGain.toFixed(2)} ≥ 1: thermal runaway`);
+  if (seconds !== null && seconds < opts.horizonS) return result('trip', `${tjText()} projected to reach the rating in ${Math.round(seconds)} s`);
+  if (tj >= tripAt - opts.warnExtraMarginC && aboveBaseline) return result('warn', `${tjText()} within ${opts.marginC + opts.warnExtraMarginC} °C of the rating`);
+  if (loopGain !== null && loopGain >= opts.warnLoopGain) return result('warn', `${tjText()}, loop gain ${loopGain.toFixed(2)}: strong thermal feedback`);
+  if (seconds !== null && seconds < opts.warnHorizonFactor * opts.horizonS) return result('warn', `${tjText()} projected to reach the rating in ${Math.round(seconds)} s`);
+  // The usual case: nothing to do. Its reason is text for people, built only if somebody reads it.
+  return result('none', null);
+}
+
+const tjDescription = (tj: number, tjMaxC: number) => `Tj ${f1(tj)} °C (max ${f1(tjMaxC)} °C)`;
+
+class Assessment implements SocketAssessment {
+  #text: string | null;
+  readonly #tjMaxC: number;
+  readonly #rising: boolean;
+
+  constructor(
+    readonly tjC: number,
+    readonly loopGain: number | null,
+    readonly secondsToTjMax: number | null,
+    readonly slopeCPerS: number | null,
+    readonly thetaCaCPerW: number | null,
+    readonly action: ProtectionAction,
+    text: string | null,
+    tjMaxC: number,
+    rising: boolean,
+  ) {
+    this.#text = text;
+    this.#tjMaxC = tjMaxC;
+    this.#rising = rising;
   }
-  if (seconds !== null && seconds < opts.horizonS) {
-    return { ...base, action: 'trip', reason: `${tjText} projected to reach the rating in ${Math.round(seconds)} s` };
+
+  get reason(): string {
+    if (this.#text === null) {
+      const s = this.secondsToTjMax;
+      const trend = !this.#rising ? ', not rising' : s === null ? ', rising and levelling off below the rating' : `, rising (rating in about ${Math.round(s)} s at this trend)`;
+      this.#text = `${tjDescription(this.tjC, this.#tjMaxC)}${trend}`;
+    }
+    return this.#text;
   }
-  if (tj >= tripAt - opts.warnExtraMarginC && aboveBaseline) {
-    return { ...base, action: 'warn', reason: `${tjText} within ${opts.marginC + opts.warnExtraMarginC} °C of the rating` };
+
+  toJSON() {
+    const { tjC, loopGain, secondsToTjMax, slopeCPerS, thetaCaCPerW, action, reason } = this;
+    return { tjC, loopGain, secondsToTjMax, slopeCPerS, thetaCaCPerW, action, reason };
   }
-  if (loopGain !== null && loopGain >= opts.warnLoopGain) {
-    return { ...base, action: 'warn', reason: `${tjText}, loop gain ${loopGain.toFixed(2)}: strong thermal feedback` };
-  }
-  if (seconds !== null && seconds < opts.warnHorizonFactor * opts.horizonS) {
-    return { ...base, action: 'warn', reason: `${tjText} projected to reach the rating in ${Math.round(seconds)} s` };
-  }
-  const trend = !rising
-    ? ', not rising'
-    : seconds === null
-      ? ', rising and levelling off below the rating'
-      : `, rising (rating in about ${Math.round(seconds)} s at this trend)`;
-  return { ...base, action: 'none', reason: `${tjText}${trend}` };
 }

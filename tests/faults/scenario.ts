@@ -354,7 +354,13 @@ export async function reconcile(
   const missing = Array.from({ length: published }, (_, k) => k + 1).filter((s) => !seqSet.has(s));
   const extra = seqs.filter((s) => s < 1 || s > published);
   const sampleRows = await count(ds, 'SELECT count(*) AS n FROM telemetry_samples WHERE rig_id = $1', [fx.rigId]);
-  const rollupN = await count(ds, 'SELECT sum(n) AS n FROM telemetry_rollups WHERE rig_id = $1 AND socket = -1', [fx.rigId]);
+  // The API writes the rollups it holds every EMBERLOT_ROLLUP_FLUSH_MS (500 ms here): give it a few.
+  const rollupsOf = () => count(ds, 'SELECT sum(n) AS n FROM telemetry_rollups WHERE rig_id = $1 AND socket = -1', [fx.rigId]);
+  let rollupN = await rollupsOf();
+  for (let k = 0; k < 40 && rollupN < seqs.length; k++) {
+    await new Promise((r) => setTimeout(r, 100));
+    rollupN = await rollupsOf();
+  }
   const counters = await ingestCounters(ds);
 
   // Hours: the accrual rule over each stressing phase's stored rows, chained like the engine.

@@ -162,6 +162,8 @@ export function stackEnv(db: DbConfig, ports: StackPorts, extra: Env = {}): Env 
     TZ: 'UTC',
     EMBERLOT_HOST: '127.0.0.1',
     EMBERLOT_PORT: String(ports.api),
+    // Rollups held in memory go out within about a second (the books are checked right after a run).
+    EMBERLOT_ROLLUP_FLUSH_MS: '500',
     EMBERLOT_MQTT_HOST: '127.0.0.1',
     EMBERLOT_MQTT_PORT: String(ports.mqtt),
     EMBERLOT_MQTT_URL: `mqtt://127.0.0.1:${ports.mqtt}`,

@@ -7,6 +7,7 @@ import { bigintNumber } from './columns';
  */
 @Entity('telemetry_batches')
 @Index(['rigId', 'ts'])
+@Index('IDX_telemetry_batches_stored_at', ['storedAt'])
 export class TelemetryBatchEntity {
   @PrimaryColumn({ type: 'uuid' }) rigId: string;
   @PrimaryColumn({ type: 'bigint', transformer: bigintNumber }) seq: number;
@@ -17,6 +18,7 @@ export class TelemetryBatchEntity {
   @Column({ type: 'real' }) chamberC: number;
   @Column({ type: 'real', nullable: true }) humidityPct: number | null;
   @Column({ type: 'real' }) setpointC: number;
+  /** Start of the ingest transaction that stored it; rollup recovery finds recent batches by it. */
   @Column({ type: 'timestamptz', default: () => 'now()' }) storedAt: Date;
 }
 

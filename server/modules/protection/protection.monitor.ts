@@ -14,7 +14,7 @@
  * run an energised socket is judged with conservative defaults (`defaultDevice`, Tj max 150 °C,
  * θjc 2 °C/W) — set `defaultDevice: null` to skip such sockets instead.
  */
-import { DEFAULT_PROTECTION_OPTIONS, assessSocket, type ProtectionDevice, type ProtectionOptions, type SocketAssessment, type SocketSample } from '../../../shared/safety/protection';
+import { DEFAULT_PROTECTION_OPTIONS, SocketTrend, assessTrend, type ProtectionDevice, type ProtectionOptions, type SocketAssessment, type SocketSample } from '../../../shared/safety/protection';
 import type { SocketReading } from '../../../shared/mqtt';
 import type { AlarmKindName } from '../../../shared/schemas/alarms';
 import type { AppContext } from '../../context';
@@ -93,7 +93,8 @@ export const LEAKAGE_ACTION =
   'The device may be degrading or breaking down. Watch its current; if it keeps climbing, remove bias from the socket and note the device for failure analysis.';
 
 interface SocketState {
-  history: SocketSample[];
+  /** The look-back window, kept incrementally (reset = start afresh). */
+  trend: SocketTrend;
   calm: number;
   warnStreak: number;
   /** A trip command was issued for this socket and its latch has not been reset since. */
@@ -147,8 +148,14 @@ export class ProtectionMonitor {
   /** Every trip decision, for tests and the log. */
   readonly tripLog: Array<{ rigCode: string; socket: number; runId: string | null; cmdId: string; assessment: SocketAssessment; sample: SocketSample; at: Date }> = [];
 
+  /** assessTrend's options (baselineTjC is added per message). */
+  private readonly protectionOpts: ProtectionOptions;
+  private readonly windowS: number;
+
   constructor(private readonly ctx: AppContext, opts: Partial<ProtectionMonitorOptions> = {}) {
     this.opts = { ...DEFAULT_MONITOR_OPTIONS, ...opts, protection: { ...DEFAULT_MONITOR_OPTIONS.protection, ...(opts.protection ?? {}) } };
+    this.protectionOpts = { ...DEFAULT_PROTECTION_OPTIONS, ...this.opts.protection };
+    this.windowS = this.protectionOpts.windowS;
   }
 
   private get alarms() {
@@ -252,7 +259,7 @@ export class ProtectionMonitor {
   private socketState(r: RigState, i: number): SocketState {
     let s = r.sockets.get(i);
     if (!s) {
-      s = { history: [], calm: 0, warnStreak: 0, tripCmdId: null, tripDelivery: null, tripReason: '', sawTripped: false, biasOut: 0, biasIn: 0, lastI: null, lastCaseC: null, lastBiasOn: false, leakBaseline: null };
+      s = { trend: new SocketTrend(this.windowS, this.opts.historyMaxSamples), calm: 0, warnStreak: 0, tripCmdId: null, tripDelivery: null, tripReason: '', sawTripped: false, biasOut: 0, biasIn: 0, lastI: null, lastCaseC: null, lastBiasOn: false, leakBaseline: null };
       r.sockets.set(i, s);
     }
     return s;
@@ -311,7 +318,7 @@ export class ProtectionMonitor {
       return;
     }
     // The gap in telemetry breaks every trend: start the histories afresh.
-    for (const st of rig.sockets.values()) st.history = [];
+    for (const st of rig.sockets.values()) st.trend.reset();
     rig.lastClockS = null;
     if (!(await hasActiveRun(this.ctx, s.rigId))) return;
     this.runs.delete(s.rigId);
@@ -337,6 +344,9 @@ export class ProtectionMonitor {
   }
 
   private async onTelemetry(m: TelemetryLanded): Promise<void> {
+    // One message per macrotask: a committed batch lands hundreds of messages at once, and judging
+    // them back to back in microtasks would hold up HTTP, MQTT and the next transaction.
+    await new Promise<void>((r) => setImmediate(r));
     this.stats.messages++;
     const rig = this.rigState(m.rigId, m.rigCode);
     if (rig.lastSeq !== null && m.seq <= rig.lastSeq) {
@@ -346,7 +356,7 @@ export class ProtectionMonitor {
     }
     if (rig.lastClockS !== null && m.stressClockS < rig.lastClockS) {
       // Newer seq, earlier clock: the rig rebooted; old samples are on another time base.
-      for (const st of rig.sockets.values()) st.history = [];
+      for (const st of rig.sockets.values()) st.trend.reset();
     }
     rig.lastClockS = m.stressClockS;
     rig.lastSeq = m.seq;
@@ -402,7 +412,7 @@ export class ProtectionMonitor {
     if (reading.tripped) {
       // The rig's latch holds the socket off (our trip or its own interlock).
       st.sawTripped = true;
-      st.history = [];
+      st.trend.reset();
       st.calm = 0;
       st.lastBiasOn = false;
       if (this.isActive('runaway-warning', m.rigId, reading.i)) await this.clear('runaway-warning', m.rigId, reading.i, { reason: 'socket tripped' });
@@ -420,20 +430,11 @@ export class ProtectionMonitor {
       this.track(this.resendTrip(m, run, reading.i, st));
     }
 
-    // Bounded history: the look-back window plus a margin, and never more than historyMaxSamples.
-    const windowS = this.opts.protection.windowS ?? DEFAULT_PROTECTION_OPTIONS.windowS;
-    const last = st.history[st.history.length - 1];
-    if (last && sample.tS <= last.tS) st.history = [];
-    st.history.push(sample);
-    let drop = 0;
-    while (drop < st.history.length - 1 && st.history[drop].tS < sample.tS - 2 * windowS) drop++;
-    if (st.history.length - drop > this.opts.historyMaxSamples) drop = st.history.length - this.opts.historyMaxSamples;
-    if (drop > 0) st.history.splice(0, drop);
-
     const dev = this.deviceFor(run, reading.i);
+    st.trend.push(sample, dev?.device.thetaJcCPerW ?? 0);
     if (dev && sample.biasOn && !st.tripCmdId) {
       this.stats.assessments++;
-      const a = assessSocket(st.history, dev.device, { ...this.opts.protection, baselineTjC });
+      const a = assessTrend(st.trend, dev.device, this.protectionOpts, baselineTjC);
       if (a.action === 'trip') {
         this.startTrip(m, rig, run, reading.i, st, sample, a, dev);
       } else if (a.action === 'warn') {
@@ -463,8 +464,10 @@ export class ProtectionMonitor {
     }
 
     if (run && !st.tripCmdId) {
-      await this.checkBias(m, run, reading, st, sample);
-      await this.checkLeakage(m, run, reading, st, sample);
+      const bias = this.checkBias(m, run, reading, st, sample);
+      if (bias) await bias;
+      const leak = this.checkLeakage(m, run, reading, st, sample);
+      if (leak) await leak;
     }
     st.lastI = sample.biasOn ? sample.iA : null;
     st.lastCaseC = sample.caseC;
@@ -490,7 +493,7 @@ export class ProtectionMonitor {
     const socketRunCode = runSocket?.runCode ?? run?.runCode ?? null;
     const cmdId = tripCmdId(m.rigCode, socket, socketRunId, dev.trips);
     st.tripCmdId = cmdId;
-    st.history = [];
+    st.trend.reset();
     if (runSocket) runSocket.trips += 1;
     this.stats.trips++;
     const at = this.ctx.now();
@@ -630,7 +633,8 @@ export class ProtectionMonitor {
     }
   }
 
-  private async checkBias(m: TelemetryLanded, run: RunContext, reading: SocketReading, st: SocketState, sample: SocketSample): Promise<void> {
+  /** Returns a promise only when it raises or clears an alarm (most samples: nothing to wait for). */
+  private checkBias(m: TelemetryLanded, run: RunContext, reading: SocketReading, st: SocketState, sample: SocketSample): Promise<void> | undefined {
     const judged = run.state === 'stressing' && sample.biasOn;
     const checks: Array<{ what: string; unit: string; set: number; measured: number }> = [];
     if (judged) {
@@ -649,7 +653,7 @@ export class ProtectionMonitor {
       st.biasIn = 0;
       if (st.biasOut >= this.opts.debounceSamples) {
         const pct = ((off.measured - off.set) / off.set) * 100;
-        await this.raise({
+        return this.raise({
           kind: 'bias-out-of-tolerance',
           severity: 'warning',
           rigId: m.rigId,
@@ -665,31 +669,33 @@ export class ProtectionMonitor {
       st.biasIn++;
       st.biasOut = 0;
       if (st.biasIn >= this.opts.debounceSamples && this.isActive('bias-out-of-tolerance', m.rigId, reading.i)) {
-        await this.clear('bias-out-of-tolerance', m.rigId, reading.i, { vV: sample.vV, iA: sample.iA });
+        return this.clear('bias-out-of-tolerance', m.rigId, reading.i, { vV: sample.vV, iA: sample.iA });
       }
     } else {
       st.biasOut = st.biasIn = 0;
     }
+    return undefined;
   }
 
-  private async checkLeakage(m: TelemetryLanded, run: RunContext, reading: SocketReading, st: SocketState, sample: SocketSample): Promise<void> {
-    if (!REVERSE_KINDS.has(run.planKind) || !sample.biasOn) return;
+  /** Returns a promise only when it raises or clears an alarm. */
+  private checkLeakage(m: TelemetryLanded, run: RunContext, reading: SocketReading, st: SocketState, sample: SocketSample): Promise<void> | undefined {
+    if (!REVERSE_KINDS.has(run.planKind) || !sample.biasOn) return undefined;
     const factor = this.opts.leakageJumpFactor;
     if (st.leakBaseline !== null && this.isActive('leakage-jump', m.rigId, reading.i)) {
       const expected = st.leakBaseline;
       if (sample.iA < factor * expected) {
         st.leakBaseline = null;
-        await this.clear('leakage-jump', m.rigId, reading.i, { iA: sample.iA });
+        return this.clear('leakage-jump', m.rigId, reading.i, { iA: sample.iA });
       }
-      return;
+      return undefined;
     }
-    if (!st.lastBiasOn || st.lastI === null || st.lastCaseC === null || st.lastI < this.opts.leakageFloorA) return;
+    if (!st.lastBiasOn || st.lastI === null || st.lastCaseC === null || st.lastI < this.opts.leakageFloorA) return undefined;
     // Leakage roughly doubles per 10 °C (common practice): allow for the case temperature change.
     const thermal = Math.max(1, Math.pow(2, (sample.caseC - st.lastCaseC) / 10));
     const ratio = sample.iA / st.lastI;
     if (ratio >= factor * thermal) {
       st.leakBaseline = st.lastI;
-      await this.raise(
+      return this.raise(
         {
           kind: 'leakage-jump',
           severity: 'warning',
@@ -704,6 +710,7 @@ export class ProtectionMonitor {
         true,
       );
     }
+    return undefined;
   }
 }
 

@@ -1,6 +1,7 @@
 /**
  * One ingest batch, one transaction: telemetry batches (de-duplicated on (rig_id, seq)), the
- * socket samples of the newly inserted messages only (COPY), per-minute rollups, the rigs' live
+ * socket samples of the newly inserted messages only (COPY), per-minute rollups (this batch's, or
+ * the ones the ingest deferred: rollups.ts), the rigs' live
  * columns, rejected messages and the durable counters. Nothing here talks MQTT or emits events:
  * the caller does that after COMMIT with what this returns.
  */
@@ -10,6 +11,7 @@ import type { Pool, PoolClient } from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
 import type { RigStatus, Telemetry } from '../../../shared/mqtt';
 import type { RigStatusChanged, TelemetryLanded } from './contracts';
+import { rollupsOf, upsertRollups, type RollupRow } from './rollups';
 
 export type IngestItem =
   | { kind: 'telemetry'; rigCode: string; msg: Telemetry; receivedAt: Date }
@@ -34,6 +36,12 @@ export interface BatchExtras {
   /** Counter deltas to add in the same transaction (e.g. ingest_dropped, rejections not kept). */
   counters?: Record<string, number>;
   samplesMode?: SamplesMode;
+  /**
+   * Rollups: 'inline' (default: this batch's own, upserted in this transaction — tools and tests)
+   * or the rows the ingest's accumulator hands over (possibly none); with rows the write also
+   * moves the recovery watermark (rollups.ts).
+   */
+  rollups?: 'inline' | RollupRow[];
 }
 
 /** Counter names in system_counters. */
@@ -48,7 +56,6 @@ export const COUNTERS = {
   statusMessages: 'ingest_status_messages',
 } as const;
 
-const MINUTE_MS = 60_000;
 
 interface RigRow {
   id: string;
@@ -97,68 +104,11 @@ async function insertSamples(client: PoolClient, rows: Array<{ rigId: string; ms
   );
 }
 
-interface RollupAcc {
-  rigId: string;
-  socket: number;
-  minute: number;
-  n: number;
-  sum: number;
-  min: number;
-  max: number;
-  sumIA: number;
-  clock: number;
-}
-
-function addRollup(acc: Map<string, RollupAcc>, rigId: string, socket: number, minute: number, c: number, iA: number, clock: number) {
-  const key = `${rigId}|${socket}|${minute}`;
-  const r = acc.get(key);
-  if (!r) {
-    acc.set(key, { rigId, socket, minute, n: 1, sum: c, min: c, max: c, sumIA: iA, clock });
-    return;
-  }
-  r.n++;
-  r.sum += c;
-  if (c < r.min) r.min = c;
-  if (c > r.max) r.max = c;
-  r.sumIA += iA;
-  if (clock > r.clock) r.clock = clock;
-}
-
-async function upsertRollups(client: PoolClient, rows: Array<{ rigId: string; msg: Telemetry }>): Promise<void> {
-  const acc = new Map<string, RollupAcc>();
-  for (const { rigId, msg } of rows) {
-    const minute = Math.floor(Date.parse(msg.ts) / MINUTE_MS) * MINUTE_MS;
-    addRollup(acc, rigId, -1, minute, msg.chamberC, 0, msg.stressClockS);
-    for (const k of msg.sockets) addRollup(acc, rigId, k.i, minute, k.caseC, k.iA, msg.stressClockS);
-  }
-  if (!acc.size) return;
-  const a = Array.from(acc.values());
-  await client.query(
-    `INSERT INTO telemetry_rollups AS r (rig_id, socket, minute, n, sum_c, min_c, max_c, sum_ia, stress_clock_s)
-     SELECT * FROM unnest($1::uuid[], $2::smallint[], $3::timestamptz[], $4::int[], $5::float8[], $6::real[], $7::real[], $8::float8[], $9::float8[])
-     ON CONFLICT (rig_id, socket, minute) DO UPDATE SET
-       n = r.n + EXCLUDED.n,
-       sum_c = r.sum_c + EXCLUDED.sum_c,
-       min_c = LEAST(r.min_c, EXCLUDED.min_c),
-       max_c = GREATEST(r.max_c, EXCLUDED.max_c),
-       sum_ia = r.sum_ia + EXCLUDED.sum_ia,
-       stress_clock_s = GREATEST(r.stress_clock_s, EXCLUDED.stress_clock_s)`,
-    [
-      a.map((r) => r.rigId),
-      a.map((r) => r.socket),
-      a.map((r) => new Date(r.minute)),
-      a.map((r) => r.n),
-      a.map((r) => r.sum),
-      a.map((r) => r.min),
-      a.map((r) => r.max),
-      a.map((r) => r.sumIA),
-      a.map((r) => r.clock),
-    ],
-  );
-}
-
 async function addCounters(client: PoolClient, deltas: Record<string, number>): Promise<void> {
-  const entries = Object.entries(deltas).filter(([, v]) => v > 0);
+  // Sorted: a fixed lock order for transactions in flight together.
+  const entries = Object.entries(deltas)
+    .filter(([, v]) => v > 0)
+    .sort((x, y) => (x[0] < y[0] ? -1 : 1));
   if (!entries.length) return;
   await client.query(
     `INSERT INTO system_counters AS c (name, value, updated_at)
@@ -310,11 +260,17 @@ async function writeInTransaction(client: PoolClient, items: IngestItem[], extra
   if (fresh.length) {
     if ((extras.samplesMode ?? 'copy') === 'copy') await copySamples(client, fresh);
     else await insertSamples(client, fresh);
-    await upsertRollups(client, fresh);
+  }
+  const rollups = extras.rollups ?? 'inline';
+  if (rollups === 'inline') {
+    if (fresh.length) await upsertRollups(client, rollupsOf(fresh.map((r) => ({ rigId: r.rigId, ts: new Date(r.msg.ts), stressClockS: r.msg.stressClockS, chamberC: r.msg.chamberC, sockets: r.msg.sockets }))), false);
+  } else if (rollups.length) {
+    await upsertRollups(client, rollups, true);
   }
 
   // 4. Rigs' live columns. The newest values only when the message is at least as new as last_seq.
-  const states = Array.from(rigState.values());
+  // Sorted by id: a fixed lock order for transactions in flight together.
+  const states = Array.from(rigState.values()).sort((x, y) => (x.rig.id < y.rig.id ? -1 : x.rig.id > y.rig.id ? 1 : 0));
   if (states.length) {
     await client.query(
       `UPDATE rigs r SET
@@ -357,7 +313,7 @@ async function writeInTransaction(client: PoolClient, items: IngestItem[], extra
   bump(COUNTERS.rejected, rejects.length - seqConflicts);
   bump(COUNTERS.seqConflicts, seqConflicts);
   bump(COUNTERS.statusMessages, statusMessages);
-  bump(COUNTERS.batches, 1);
+  if (items.length) bump(COUNTERS.batches, 1);
   await addCounters(client, counters);
 
   const storedByRig = new Map<string, number[]>();

@@ -22,12 +22,24 @@ import {
 } from '../../../shared/mqtt';
 import { RIG_STATUS_CHANGED, TELEMETRY_LANDED } from './contracts';
 import { COUNTERS, writeBatch, type BatchResult, type IngestItem, type SamplesMode } from './ingest-store';
+import { RollupAccumulator, type RollupRow } from './rollups';
 
 export interface IngestOptions {
   /** Messages per transaction (default 200). */
   maxBatch?: number;
   /** Longest wait for a batch to fill (default 50 ms). */
   windowMs?: number;
+  /**
+   * Transactions in flight at once (default 2): while one commits (a durable fsync) the next is
+   * already being written, so neither this process nor PostgreSQL waits for the other. Their
+   * effects (`stored`, TELEMETRY_LANDED) are still released in the order the batches were taken.
+   */
+  maxInFlight?: number;
+  /**
+   * Rollups are folded in memory and written at most this often (default 5,000 ms), in the next
+   * ingest transaction (or one of their own when no telemetry comes): see rollups.ts.
+   */
+  rollupFlushMs?: number;
   /** Telemetry messages held while the database is unavailable (default 50,000). */
   bufferLimit?: number;
   /** Rejections held for writing; beyond this only the counter grows (default 5,000). */
@@ -94,6 +106,13 @@ export class TelemetryIngest {
   private readonly bootId = Date.now().toString(36);
   private readonly opts: Required<Omit<IngestOptions, 'log'>> & { log: (line: string) => void };
   private readonly waiters = new Set<() => void>();
+  private readonly rollups = new RollupAccumulator();
+  private lastRollupFlush = Date.now();
+  /** Rollup rows handed to a transaction in flight. */
+  private rollupsInFlight = 0;
+  /** drain(): write the held rollups now. */
+  private flushRollupsNow = false;
+  private rollupTimer: ReturnType<typeof setInterval> | null = null;
   readonly live = {
     batches: 0,
     lastBatchMs: null as number | null,
@@ -109,6 +128,8 @@ export class TelemetryIngest {
     this.opts = {
       maxBatch: opts.maxBatch ?? 200,
       windowMs: opts.windowMs ?? 50,
+      maxInFlight: Math.max(1, opts.maxInFlight ?? 2),
+      rollupFlushMs: opts.rollupFlushMs ?? 5_000,
       bufferLimit: opts.bufferLimit ?? 50_000,
       rejectLimit: opts.rejectLimit ?? 5_000,
       samplesMode: opts.samplesMode ?? 'copy',
@@ -117,6 +138,11 @@ export class TelemetryIngest {
       log: opts.log ?? ((line) => console.log(`[ingest] ${line}`)),
     };
     this.backoffMs = this.opts.retryMinMs;
+    // Quiet rigs: held rollups still go out within about two flush intervals.
+    this.rollupTimer = setInterval(() => {
+      if (!this.stopped && !this.flushing && this.rollupsDue()) this.kick();
+    }, this.opts.rollupFlushMs);
+    this.rollupTimer.unref?.();
   }
 
   private now(): Date {
@@ -200,7 +226,7 @@ export class TelemetryIngest {
       clearTimeout(this.timer);
       this.timer = null;
     }
-    if (this.flushing || !this.items.length) return;
+    if (this.flushing || (!this.items.length && !this.rollupsDue())) return;
     this.flushing = this.loop().finally(() => {
       this.flushing = null;
       for (const w of this.waiters) w();
@@ -215,50 +241,112 @@ export class TelemetryIngest {
     else if (!this.timer) this.timer = setTimeout(() => this.kick(), this.opts.windowMs);
   }
 
+  /**
+   * Writes batches while there are items: a full batch starts whenever fewer than maxInFlight are
+   * being written; a partial one only when nothing else is (it had its window to fill up). When a
+   * write fails, the loop lets the others finish, puts every failed batch back at the front in its
+   * original order, backs off and tries again.
+   */
   private async loop(): Promise<void> {
-    while (this.items.length) {
-      const take = this.items.slice(0, this.opts.maxBatch);
-      const counters = this.pendingCounters;
-      this.pendingCounters = {};
-      const t0 = Date.now();
-      let result: BatchResult;
-      try {
-        result = await writeBatch(this.deps.pool(), take, { counters, samplesMode: this.opts.samplesMode });
-      } catch (err) {
-        // Put the counter deltas back; keep the items; wait and try again.
-        for (const [k, v] of Object.entries(counters)) this.pendingCounters[k] = (this.pendingCounters[k] ?? 0) + v;
-        if (this.databaseOk) {
-          this.databaseOk = false;
-          this.opts.log(`database write failed (${(err as Error).message}); holding ${this.telemetryCount} messages and retrying`);
+    const running = new Set<Promise<void>>();
+    const failed: Array<{ ticket: number; take: IngestItem[]; counters: Record<string, number>; rollups: RollupRow[]; err: Error }> = [];
+    let ticket = 0;
+    let first = true;
+    // Effects of committed batches, released strictly in the order the batches were taken.
+    let released: Promise<void> = Promise.resolve();
+    for (;;) {
+      while (!failed.length && (this.items.length || this.rollupsDue()) && running.size < this.opts.maxInFlight) {
+        // A partial batch goes only as the first of this round (its window has passed); later ones
+        // wait for the window again (push0 re-arms it when the loop ends).
+        if (!first && this.items.length < this.opts.maxBatch && !this.rollupsDue()) break;
+        first = false;
+        const take = this.items.splice(0, this.opts.maxBatch);
+        const counters = this.pendingCounters;
+        this.pendingCounters = {};
+        // Held rollups ride along when due; one transaction at a time carries them.
+        const rollups = this.rollupsDue() ? this.rollups.take() : [];
+        if (rollups.length) {
+          this.rollupsInFlight = rollups.length;
+          this.lastRollupFlush = Date.now();
         }
-        if (this.stopped) return;
-        await new Promise((r) => setTimeout(r, this.backoffMs));
-        this.backoffMs = Math.min(this.backoffMs * 2, this.opts.retryMaxMs);
-        if (this.stopped) return;
+        const myTicket = ticket++;
+        const t0 = Date.now();
+        const write = writeBatch(this.deps.pool(), take, { counters, samplesMode: this.opts.samplesMode, rollups }).then(
+          (result) => ({ ok: true as const, result }),
+          (err: Error) => ({ ok: false as const, err }),
+        );
+        const prev = released;
+        const done = (released = (async () => {
+          const outcome = await write;
+          await prev;
+          if (rollups.length) this.rollupsInFlight = 0;
+          if (!outcome.ok) {
+            failed.push({ ticket: myTicket, take, counters, rollups, err: outcome.err });
+            return;
+          }
+          this.committed(take, outcome.result, t0);
+        })());
+        const tracked: Promise<void> = done.finally(() => running.delete(tracked));
+        running.add(tracked);
+      }
+      if (running.size) {
+        await Promise.race(running);
         continue;
       }
-      this.items.splice(0, take.length);
-      for (const it of take) {
-        if (it.kind === 'telemetry') {
-          this.keys.delete(`${it.rigCode}|${it.msg.seq}`);
-          this.telemetryCount--;
-        } else if (it.kind === 'reject') this.rejectCount--;
+      if (!failed.length) break;
+      // Every write has settled and some failed: back in front, in order; wait; try again.
+      failed.sort((x, y) => x.ticket - y.ticket);
+      this.items.unshift(...failed.flatMap((f) => f.take));
+      for (const f of failed) {
+        for (const [k, v] of Object.entries(f.counters)) this.pendingCounters[k] = (this.pendingCounters[k] ?? 0) + v;
+        this.rollups.putBack(f.rollups);
       }
-      if (!this.databaseOk) {
-        this.databaseOk = true;
-        this.opts.log(`database back; ${this.telemetryCount} messages still waiting`);
+      const err = failed[failed.length - 1].err;
+      failed.length = 0;
+      if (this.databaseOk) {
+        this.databaseOk = false;
+        this.opts.log(`database write failed (${err.message}); holding ${this.telemetryCount} messages and retrying`);
       }
-      if (this.pressureLogged && this.telemetryCount < this.opts.bufferLimit / 2) this.pressureLogged = false;
-      this.backoffMs = this.opts.retryMinMs;
-      this.live.batches++;
-      this.live.lastBatchMs = Date.now() - t0;
-      this.live.messagesStored += result.newMessages;
-      this.live.samplesStored += result.sampleRows;
-      this.live.duplicates += result.duplicates;
-      this.afterCommit(result);
-      // Let a partial batch fill up again for a window, unless a backlog is waiting.
-      if (this.items.length < this.opts.maxBatch || this.stopped) break;
+      if (this.stopped) return;
+      await new Promise((r) => setTimeout(r, this.backoffMs));
+      this.backoffMs = Math.min(this.backoffMs * 2, this.opts.retryMaxMs);
+      if (this.stopped) return;
     }
+  }
+
+  /** A batch is durable: forget its keys, count it, confirm and announce it. */
+  private committed(take: IngestItem[], result: BatchResult, t0: number): void {
+    for (const it of take) {
+      if (it.kind === 'telemetry') {
+        this.keys.delete(`${it.rigCode}|${it.msg.seq}`);
+        this.telemetryCount--;
+      } else if (it.kind === 'reject') this.rejectCount--;
+    }
+    if (!this.databaseOk) {
+      this.databaseOk = true;
+      this.opts.log(`database back; ${this.telemetryCount} messages still waiting`);
+    }
+    if (this.pressureLogged && this.telemetryCount < this.opts.bufferLimit / 2) this.pressureLogged = false;
+    this.backoffMs = this.opts.retryMinMs;
+    this.live.batches++;
+    this.live.lastBatchMs = Date.now() - t0;
+    this.live.messagesStored += result.newMessages;
+    this.live.samplesStored += result.sampleRows;
+    this.live.duplicates += result.duplicates;
+    // Fold only after COMMIT: a failed batch is retried and must not count twice.
+    this.rollups.add(result.landed);
+    this.afterCommit(result);
+  }
+
+  /** Held rollups should go out with the next transaction. */
+  private rollupsDue(): boolean {
+    if (this.rollupsInFlight > 0 || this.rollups.pendingRows === 0) return false;
+    return this.flushRollupsNow || Date.now() - this.lastRollupFlush >= this.opts.rollupFlushMs;
+  }
+
+  /** Rollup rows folded and not yet written (the live stats, tests). */
+  get pendingRollupRows(): number {
+    return this.rollups.pendingRows + this.rollupsInFlight;
   }
 
   private afterCommit(result: BatchResult): void {
@@ -286,7 +374,16 @@ export class TelemetryIngest {
   /** Resolves when everything buffered so far is written (tests, shutdown). */
   async drain(timeoutMs = 5_000): Promise<boolean> {
     const deadline = Date.now() + timeoutMs;
-    while (this.items.length || this.flushing) {
+    this.flushRollupsNow = true;
+    try {
+      return await this.drainLoop(deadline);
+    } finally {
+      this.flushRollupsNow = false;
+    }
+  }
+
+  private async drainLoop(deadline: number): Promise<boolean> {
+    while (this.items.length || this.flushing || this.pendingRollupRows > 0) {
       if (Date.now() > deadline) return false;
       if (!this.flushing) this.kick();
       const f = this.flushing;
@@ -298,6 +395,8 @@ export class TelemetryIngest {
 
   /** Stop taking messages; try once more to write what is held (not confirmed otherwise: rigs replay it). */
   async stop(timeoutMs = 3_000): Promise<void> {
+    if (this.rollupTimer) clearInterval(this.rollupTimer);
+    this.rollupTimer = null;
     if (this.timer) clearTimeout(this.timer);
     this.timer = null;
     const ok = await this.drain(timeoutMs);

@@ -8,6 +8,7 @@ import type { AppContext } from '../../context';
 import { RIG_LINK, RIG_STATUS_CHANGED, type RigStatusChanged } from './contracts';
 import { TelemetryIngest, type IngestOptions } from './ingest';
 import { MqttRigLink } from './rig-link';
+import { recoverRollups } from './rollups';
 
 export const TELEMETRY_INGEST = 'telemetryIngest';
 
@@ -50,7 +51,25 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
   });
   ctx.services[RIG_LINK] = link;
   ctx.services[TELEMETRY_INGEST] = ingest;
-  link.start();
+  // Rollups a crash left unwritten are rebuilt from the stored samples before any new message is
+  // taken (rollups.ts). The rigs hold their telemetry meanwhile; with the database down this waits.
+  let stopping = false;
+  const log = opts.log ?? ((l: string) => console.log(`[ingest] ${l}`));
+  const started = (async () => {
+    for (let attempt = 1, waitMs = 200; !stopping; attempt++, waitMs = Math.min(waitMs * 2, 5_000)) {
+      try {
+        const rebuilt = await recoverRollups(pgPoolOf(ctx));
+        if (rebuilt) log(`rebuilt ${rebuilt} rollup rows from stored samples (the previous run stopped before writing them)`);
+        break;
+      } catch (err) {
+        if (attempt === 1) log(`rollup recovery failed (${(err as Error).message}); retrying before taking telemetry`);
+        await new Promise((r) => setTimeout(r, waitMs));
+      }
+    }
+    if (!stopping) link.start();
+  })();
+  // Usually the first attempt succeeds at once: then the link is started when this resolves.
+  await Promise.race([started, new Promise((r) => setTimeout(r, 2_000))]);
 
   // Rigs that went quiet without a last will reaching us (e.g. both broker and rig restarted).
   const offlineAfterMs = opts.offlineAfterMs ?? OFFLINE_AFTER_MS;
@@ -77,6 +96,8 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
   }, opts.sweepEveryMs ?? 10_000);
 
   return async () => {
+    stopping = true;
+    await started;
     clearInterval(sweep);
     await ingest.stop();
     await link.stop();

@@ -1,0 +1,310 @@
+/**
+ * The look-back window of one socket for live protection, kept incrementally: every estimator
+ * assessSocket needs (the quadratic trend of Tj, θca through the origin, the line of P on the case
+ * temperature and the case span) comes from running sums that a new sample adds to and a sample
+ * leaving the window subtracts from, so judging a socket costs the same whatever the window holds.
+ * Re-fitting the whole window on every sample made protection the most expensive step of ingest
+ * (35–90 µs per socket-sample with 300-sample windows).
+ *
+ * Numerics: the sums are taken about an anchor (time, Tj, case and power of the oldest sample when
+ * they were last rebuilt) with time scaled by the window length, so every term stays small and the
+ * normal equations well conditioned; the sums are rebuilt from the ring buffer (O(n)) whenever the
+ * oldest sample has moved a full window past the anchor, which also bounds the rounding that
+ * add/subtract accumulates. The result equals a batch least-squares fit of the same samples to
+ * ~1e-9 (tests/unit/safety/socket-trend.test.ts checks it against simple-statistics and exact
+ * polynomials).
+ */
+
+export interface TrendSample {
+  /** Stress-clock time, seconds. */
+  tS: number;
+  caseC: number;
+  /** |V|, V. */
+  vV: number;
+  /** |I|, A. */
+  iA: number;
+  chamberC: number;
+  biasOn: boolean;
+}
+
+export interface QuadFit {
+  /** Fitted Tj at the latest sample. */
+  c0: number;
+  /** dTj/dt at the latest sample, °C/s, and its standard error. */
+  slope: number;
+  slopeSe: number;
+  /** d²Tj/dt², °C/s², and its standard error. */
+  accel: number;
+  accelSe: number;
+}
+
+export interface CaseRegression {
+  /** Samples in the window. */
+  n: number;
+  /** Σ P² (W²) and Σ (T_case − T_chamber)·P: θca through the origin = ratio. */
+  sumP2: number;
+  sumRiseP: number;
+  /** max − min of the case temperature over the window. */
+  caseSpanC: number;
+  /** Least-squares line P = b + s·T_case: slope s (W/°C), its residual sum of squares and Σ(c − c̄)². */
+  slope: number;
+  rss: number;
+  sxx: number;
+}
+
+const MIN_CAPACITY = 16;
+
+export class SocketTrend {
+  /** Ring buffer of the window (continuous bias-on stretch within windowS), absolute indices [start, end). */
+  private cap = MIN_CAPACITY;
+  private t = new Float64Array(MIN_CAPACITY);
+  private tj = new Float64Array(MIN_CAPACITY);
+  private cs = new Float64Array(MIN_CAPACITY);
+  private ch = new Float64Array(MIN_CAPACITY);
+  private pw = new Float64Array(MIN_CAPACITY);
+  private start = 0;
+  private end = 0;
+  /** Monotonic deques of absolute indices for the case minimum and maximum. */
+  private minQ: number[] = [];
+  private maxQ: number[] = [];
+  private minHead = 0;
+  private maxHead = 0;
+
+  // Anchor and scale of the sums.
+  private t0 = 0;
+  private y0 = 0;
+  private c0 = 0;
+  private p0 = 0;
+  private scale = 1;
+  private opsSinceRebuild = 0;
+
+  // Σ u^k (k = 0…4), Σ u^k·y (k = 0…2), Σ y²  with u = (t − t0)/scale, y = Tj − y0.
+  private s1 = 0;
+  private s2 = 0;
+  private s3 = 0;
+  private s4 = 0;
+  private q0 = 0;
+  private q1 = 0;
+  private q2 = 0;
+  private yy = 0;
+  // Power and case: c = case − c0, p = P − p0 (line fit); raw Σ P², Σ (case − chamber)·P (θca).
+  private sc = 0;
+  private scc = 0;
+  private sp = 0;
+  private spp = 0;
+  private scp = 0;
+  private rawP2 = 0;
+  private rawRiseP = 0;
+
+  /** The latest sample pushed (bias on or off), null after a reset. */
+  last: TrendSample | null = null;
+  /** Its junction estimate: T_case + θjc·P with bias on, else T_case. */
+  lastTjC = 0;
+  private thetaJc = NaN;
+
+  constructor(
+    /** Look-back, stress-clock seconds. */
+    readonly windowS: number,
+    /** Samples kept at most (the oldest leave first). */
+    readonly maxSamples: number = 600,
+  ) {
+    this.scale = windowS > 0 ? windowS : 1;
+  }
+
+  /** Samples in the current bias-on stretch. */
+  get count(): number {
+    return this.end - this.start;
+  }
+
+  /** Stress seconds from the oldest sample of the stretch to the latest; 0 when empty. */
+  get spanS(): number {
+    return this.count > 0 ? this.t[(this.end - 1) & (this.cap - 1)] - this.t[this.start & (this.cap - 1)] : 0;
+  }
+
+  /** Forget everything (a gap in telemetry, a trip, a reboot of the rig's clock). */
+  reset(): void {
+    this.clearWindow();
+    this.last = null;
+    this.lastTjC = 0;
+  }
+
+  private clearWindow(): void {
+    this.start = this.end = 0;
+    this.minQ.length = this.maxQ.length = 0;
+    this.minHead = this.maxHead = 0;
+    this.zeroSums();
+    this.opsSinceRebuild = 0;
+  }
+
+  /**
+   * Add the latest sample. A bias-off sample ends the stretch; a sample not later than the previous
+   * one starts afresh (new time base). θjc is the loaded device's; when it changes (the socket map
+   * changed) the window's junction estimates are recomputed.
+   */
+  push(s: TrendSample, thetaJcCPerW: number): void {
+    if (this.last && !(s.tS > this.last.tS)) this.clearWindow();
+    this.last = s;
+    const p = s.vV * s.iA;
+    if (!s.biasOn) {
+      this.lastTjC = s.caseC;
+      this.clearWindow();
+      return;
+    }
+    if (thetaJcCPerW !== this.thetaJc) {
+      this.thetaJc = thetaJcCPerW;
+      if (this.count > 0) {
+        for (let k = this.start; k < this.end; k++) {
+          const j = k & (this.cap - 1);
+          this.tj[j] = this.cs[j] + thetaJcCPerW * this.pw[j];
+        }
+        this.rebuild();
+      }
+    }
+    const tj = s.caseC + thetaJcCPerW * p;
+    this.lastTjC = tj;
+    if (this.count === this.cap) this.grow();
+    const k = this.end++;
+    const j = k & (this.cap - 1);
+    this.t[j] = s.tS;
+    this.tj[j] = tj;
+    this.cs[j] = s.caseC;
+    this.ch[j] = s.chamberC;
+    this.pw[j] = p;
+    if (this.count === 1) this.rebuild();
+    else this.addSums(j, 1);
+    // Case extremes.
+    while (this.minQ.length > this.minHead && this.cs[this.minQ[this.minQ.length - 1] & (this.cap - 1)] >= s.caseC) this.minQ.pop();
+    this.minQ.push(k);
+    while (this.maxQ.length > this.maxHead && this.cs[this.maxQ[this.maxQ.length - 1] & (this.cap - 1)] <= s.caseC) this.maxQ.pop();
+    this.maxQ.push(k);
+    // Leave the window: older than windowS, or beyond maxSamples.
+    while (this.count > 1 && (this.t[this.start & (this.cap - 1)] < s.tS - this.windowS || this.count > this.maxSamples)) {
+      this.addSums(this.start & (this.cap - 1), -1);
+      this.start++;
+    }
+    while (this.minQ[this.minHead] < this.start) this.minHead++;
+    while (this.maxQ[this.maxHead] < this.start) this.maxHead++;
+    if (this.minHead > 64 && this.minHead * 2 > this.minQ.length) {
+      this.minQ = this.minQ.slice(this.minHead);
+      this.minHead = 0;
+    }
+    if (this.maxHead > 64 && this.maxHead * 2 > this.maxQ.length) {
+      this.maxQ = this.maxQ.slice(this.maxHead);
+      this.maxHead = 0;
+    }
+    if (this.t[this.start & (this.cap - 1)] - this.t0 > this.scale || this.opsSinceRebuild > 4 * this.count + 64) this.rebuild();
+  }
+
+  private grow(): void {
+    const cap = this.cap * 2;
+    const move = (a: Float64Array) => {
+      const b = new Float64Array(cap);
+      for (let k = this.start; k < this.end; k++) b[k & (cap - 1)] = a[k & (this.cap - 1)];
+      return b;
+    };
+    this.t = move(this.t);
+    this.tj = move(this.tj);
+    this.cs = move(this.cs);
+    this.ch = move(this.ch);
+    this.pw = move(this.pw);
+    this.cap = cap;
+  }
+
+  private zeroSums(): void {
+    this.s1 = this.s2 = this.s3 = this.s4 = 0;
+    this.q0 = this.q1 = this.q2 = this.yy = 0;
+    this.sc = this.scc = this.sp = this.spp = this.scp = 0;
+    this.rawP2 = this.rawRiseP = 0;
+  }
+
+  /** Re-anchor at the oldest sample and recompute every sum from the buffer. */
+  private rebuild(): void {
+    this.zeroSums();
+    this.opsSinceRebuild = 0;
+    if (this.count === 0) return;
+    const j0 = this.start & (this.cap - 1);
+    this.t0 = this.t[j0];
+    this.y0 = this.tj[j0];
+    this.c0 = this.cs[j0];
+    this.p0 = this.pw[j0];
+    for (let k = this.start; k < this.end; k++) this.addSums(k & (this.cap - 1), 1);
+    this.opsSinceRebuild = 0;
+  }
+
+  private addSums(j: number, sign: 1 | -1): void {
+    const u = (this.t[j] - this.t0) / this.scale;
+    const y = this.tj[j] - this.y0;
+    const u2 = u * u;
+    this.s1 += sign * u;
+    this.s2 += sign * u2;
+    this.s3 += sign * u2 * u;
+    this.s4 += sign * u2 * u2;
+    this.q0 += sign * y;
+    this.q1 += sign * u * y;
+    this.q2 += sign * u2 * y;
+    this.yy += sign * y * y;
+    const c = this.cs[j] - this.c0;
+    const P = this.pw[j];
+    const p = P - this.p0;
+    this.sc += sign * c;
+    this.scc += sign * c * c;
+    this.sp += sign * p;
+    this.spp += sign * p * p;
+    this.scp += sign * c * p;
+    this.rawP2 += sign * P * P;
+    this.rawRiseP += sign * (this.cs[j] - this.ch[j]) * P;
+    this.opsSinceRebuild++;
+  }
+
+  /**
+   * Least-squares Tj = a0 + a1·u + a2·u² over the window; slope, curvature and the fitted value at
+   * the latest sample with standard errors from σ̂²(XᵀX)⁻¹. Null below 4 samples or when singular.
+   */
+  quadraticFit(): QuadFit | null {
+    const n = this.count;
+    if (n < 4) return null;
+    const s0 = n;
+    const { s1, s2, s3, s4 } = this;
+    // Symmetric M = [[s0,s1,s2],[s1,s2,s3],[s2,s3,s4]]; inverse by cofactors.
+    const a = s2 * s4 - s3 * s3;
+    const b = -(s1 * s4 - s2 * s3);
+    const c = s1 * s3 - s2 * s2;
+    const det = s0 * a + s1 * b + s2 * c;
+    if (!(Math.abs(det) > 0)) return null;
+    const i00 = a / det;
+    const i01 = b / det;
+    const i02 = c / det;
+    const i11 = (s0 * s4 - s2 * s2) / det;
+    const i12 = -(s0 * s3 - s1 * s2) / det;
+    const i22 = (s0 * s2 - s1 * s1) / det;
+    const { q0, q1, q2 } = this;
+    const a0 = i00 * q0 + i01 * q1 + i02 * q2;
+    const a1 = i01 * q0 + i11 * q1 + i12 * q2;
+    const a2 = i02 * q0 + i12 * q1 + i22 * q2;
+    const rss = Math.max(0, this.yy - (a0 * q0 + a1 * q1 + a2 * q2));
+    const sigma2 = rss / (n - 3);
+    const ul = (this.t[(this.end - 1) & (this.cap - 1)] - this.t0) / this.scale;
+    const w = this.scale;
+    // slope = (a1 + 2·a2·ul)/w: variance gᵀ(XᵀX)⁻¹g·σ̂²/w² with g = (0, 1, 2·ul).
+    const gVar = i11 + 4 * ul * i12 + 4 * ul * ul * i22;
+    return {
+      c0: this.y0 + a0 + a1 * ul + a2 * ul * ul,
+      slope: (a1 + 2 * a2 * ul) / w,
+      slopeSe: Math.sqrt(Math.max(0, sigma2 * gVar)) / w,
+      accel: (2 * a2) / (w * w),
+      accelSe: (2 * Math.sqrt(Math.max(0, sigma2 * i22))) / (w * w),
+    };
+  }
+
+  /** The sums behind the loop-gain estimate. */
+  caseRegression(): CaseRegression {
+    const n = this.count;
+    const span = n > 0 ? this.cs[this.maxQ[this.maxHead] & (this.cap - 1)] - this.cs[this.minQ[this.minHead] & (this.cap - 1)] : 0;
+    const sxx = n > 0 ? Math.max(0, this.scc - (this.sc * this.sc) / n) : 0;
+    const sxy = n > 0 ? this.scp - (this.sc * this.sp) / n : 0;
+    const syy = n > 0 ? Math.max(0, this.spp - (this.sp * this.sp) / n) : 0;
+    const slope = sxx > 0 ? sxy / sxx : NaN;
+    const rss = sxx > 0 ? Math.max(0, syy - slope * sxy) : NaN;
+    return { n, sumP2: this.rawP2, sumRiseP: this.rawRiseP, caseSpanC: span, slope, rss, sxx };
+  }
+}
