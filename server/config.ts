@@ -24,6 +24,9 @@ export interface ServerConfig {
   clockRate: number;
   /** How often the ingest writes the per-minute rollups it holds (telemetry/rollups.ts). */
   rollupFlushMs: number;
+  /** Telemetry messages per ingest transaction, and transactions in flight (telemetry/ingest.ts). */
+  ingestMaxBatch: number;
+  ingestInFlight: number;
 }
 
 const int = (v: string | undefined, d: number) => (v && /^\d+$/.test(v) ? Number(v) : d);
@@ -62,5 +65,7 @@ export function configFromEnv(env: Env = process.env): ServerConfig {
     uploadDir: env.EMBERLOT_UPLOAD_DIR ?? '.data/uploads',
     clockRate: Number(env.EMBERLOT_CLOCK_RATE ?? 1) || 1,
     rollupFlushMs: Math.max(100, int(env.EMBERLOT_ROLLUP_FLUSH_MS, 5_000)),
+    ingestMaxBatch: Math.max(1, int(env.EMBERLOT_INGEST_MAX_BATCH, 200)),
+    ingestInFlight: Math.max(1, int(env.EMBERLOT_INGEST_IN_FLIGHT, 2)),
   };
 }

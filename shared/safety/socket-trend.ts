@@ -53,15 +53,17 @@ export interface CaseRegression {
 }
 
 const MIN_CAPACITY = 16;
+/** Start with room for this many samples (5 × 8 bytes each): a 1 Hz window of 300 s needs no regrowth. */
+const INITIAL_CAPACITY = 512;
 
 export class SocketTrend {
   /** Ring buffer of the window (continuous bias-on stretch within windowS), absolute indices [start, end). */
-  private cap = MIN_CAPACITY;
-  private t = new Float64Array(MIN_CAPACITY);
-  private tj = new Float64Array(MIN_CAPACITY);
-  private cs = new Float64Array(MIN_CAPACITY);
-  private ch = new Float64Array(MIN_CAPACITY);
-  private pw = new Float64Array(MIN_CAPACITY);
+  private cap: number;
+  private t: Float64Array;
+  private tj: Float64Array;
+  private cs: Float64Array;
+  private ch: Float64Array;
+  private pw: Float64Array;
   private start = 0;
   private end = 0;
   /** Monotonic deques of absolute indices for the case minimum and maximum. */
@@ -109,6 +111,15 @@ export class SocketTrend {
     readonly maxSamples: number = 600,
   ) {
     this.scale = windowS > 0 ? windowS : 1;
+    // A power of two (ring indices are masked), no larger than maxSamples needs.
+    let cap = MIN_CAPACITY;
+    while (cap < Math.min(INITIAL_CAPACITY, maxSamples)) cap *= 2;
+    this.cap = cap;
+    this.t = new Float64Array(cap);
+    this.tj = new Float64Array(cap);
+    this.cs = new Float64Array(cap);
+    this.ch = new Float64Array(cap);
+    this.pw = new Float64Array(cap);
   }
 
   /** Samples in the current bias-on stretch. */

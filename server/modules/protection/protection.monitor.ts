@@ -134,6 +134,48 @@ export function tripCmdId(rigCode: string, socket: number, runId: string | null,
   return `trip:${rigCode}:${socket}:${(runId ?? 'norun').replace(/-/g, '').slice(0, 64 - 8 - rigCode.length - String(socket).length - suffix.length)}${suffix}`;
 }
 
+/** Active condition keys (`kind:rig:socket`) → last refresh, with a count per rig for a cheap "none here". */
+class ActiveConditions {
+  private readonly byKey = new Map<string, number>();
+  private readonly perRig = new Map<string, number>();
+
+  private static rigOf(key: string): string {
+    return key.split(':')[1] ?? '';
+  }
+
+  get(key: string): number | undefined {
+    return this.byKey.get(key);
+  }
+
+  has(key: string): boolean {
+    return this.byKey.has(key);
+  }
+
+  set(key: string, at: number): void {
+    if (!this.byKey.has(key)) {
+      const rig = ActiveConditions.rigOf(key);
+      this.perRig.set(rig, (this.perRig.get(rig) ?? 0) + 1);
+    }
+    this.byKey.set(key, at);
+  }
+
+  delete(key: string): void {
+    if (!this.byKey.delete(key)) return;
+    const rig = ActiveConditions.rigOf(key);
+    const n = (this.perRig.get(rig) ?? 1) - 1;
+    if (n > 0) this.perRig.set(rig, n);
+    else this.perRig.delete(rig);
+  }
+
+  keys(): IterableIterator<string> {
+    return this.byKey.keys();
+  }
+
+  anyFor(rigId: string): boolean {
+    return this.perRig.has(rigId);
+  }
+}
+
 export class ProtectionMonitor {
   readonly opts: ProtectionMonitorOptions;
   private readonly rigs = new Map<string, RigState>();
@@ -141,7 +183,7 @@ export class ProtectionMonitor {
   private readonly chains = new Map<string, Promise<void>>();
   private readonly pending = new Set<Promise<unknown>>();
   /** Dedupe keys of conditions this monitor believes active → last refresh (ms). */
-  private readonly active = new Map<string, number>();
+  private readonly active = new ActiveConditions();
   private readonly listeners: Array<[string, (...a: any[]) => void]> = [];
   private started = false;
   readonly stats = { messages: 0, staleSkipped: 0, assessments: 0, trips: 0, tripSendFailures: 0, warnings: 0, errors: 0 };
@@ -285,7 +327,8 @@ export class ProtectionMonitor {
   }
 
   private isActive(kind: AlarmKindName, rigId: string, socket: number | null): boolean {
-    return this.active.has(dedupeKeyFor(kind, rigId, socket));
+    // Asked for every socket of every message: most rigs have no active condition at all.
+    return this.active.anyFor(rigId) && this.active.has(dedupeKeyFor(kind, rigId, socket));
   }
 
   // -------------------------------------------------------------------------------------------

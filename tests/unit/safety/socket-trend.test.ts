@@ -119,6 +119,18 @@ describe('SocketTrend (incremental) equals batch least squares (jStat OLS, simpl
     expect(checkAgainstReference(trend, history, 2, 300, 50, 'dense')).toBe(1);
   });
 
+  test('a long window grows its ring buffer past the initial 512 samples without losing any', () => {
+    const trend = new SocketTrend(3000, 2000);
+    const history: TrendSample[] = [];
+    for (let k = 0; k < 1500; k++) {
+      const s: TrendSample = { tS: 1e5 + k, caseC: 110 + 3 * Math.sin(k / 90) + 0.02 * Math.cos(7 * k), vV: 12, iA: 0.2 + 0.01 * Math.sin(k / 60), chamberC: 100, biasOn: true };
+      trend.push(s, 1.2);
+      history.push(s);
+      if (k === 511 || k === 512 || k === 1499) expect(checkAgainstReference(trend, history, 1.2, 3000, 2000, `grow ${k}`)).toBe(1);
+    }
+    expect(trend.count).toBe(1500);
+  });
+
   test('a bias-off sample ends the stretch; reset forgets the latest sample', () => {
     const trend = new SocketTrend(300);
     for (let k = 0; k < 20; k++) trend.push({ tS: k, caseC: 100, vV: 10, iA: 0.1, chamberC: 90, biasOn: true }, 1);
