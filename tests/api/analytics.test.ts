@@ -1,6 +1,6 @@
 import { randomUUID } from 'node:crypto';
 import type { EntityManager } from 'typeorm';
-import { DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, StressPlanEntity } from '../../server/db/entities';
+import { DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunEntity, StressPlanEntity } from '../../server/db/entities';
 import { SEED_STEPS } from '../../server/seed/seed';
 import { insertHistoryRun, type HistoryRunSpec } from '../../server/seed/seed-history';
 import { createTestApp, type TestApp } from '../support/api';
@@ -233,4 +233,60 @@ describe('demo history', () => {
     const e = res.body.items.find((l: { lotCode: string }) => l.lotCode === 'HG2610-E');
     expect(e.fails).toBe(2);
   }, 60_000);
+});
+
+describe('cached analysis', () => {
+  it('a corrected reading and accrued hours show on the very next read (cache keyed on row versions, not timestamps)', async () => {
+    let lotId = '';
+    let runId = '';
+    await t.ctx.ds.transaction(async (m) => {
+      const rig = await m.findOneByOrFail(RigEntity, { code: 'OV-95' });
+      const type = await makeType(m, 'HPD-T500');
+      const plan = await makePlan(m, type.id);
+      const { lot } = await lotWithRun(m, 'HG9805-R', type, plan, rig, 10, { hfeDriftPctPer1000h: -2, leakageGrowthPer1000h: 1.1 }, {
+        state: 'stressing', stressHours: 560, measuredH: [0, 168, 500],
+      });
+      lotId = lot.id;
+      runId = (await m.findOneByOrFail(RunEntity, { code: 'R-HG9805-R' })).id;
+    });
+    const mgr = await t.signIn('manager');
+    const rp500 = (body: { readPoints: Array<{ hours: number; hfeChangePct: { mean: number } | null }> }) => body.readPoints.find((r) => r.hours === 500)!;
+
+    const first = await mgr.get(`/api/analytics/lots/${lotId}`);
+    expect(first.status).toBe(200);
+    expect(first.body.verdict).toBe('in-progress');
+    expect(rp500(first.body).hfeChangePct!.mean).toBeCloseTo(-1, 6); // noise-free: −2 % per 1000 h × 500 h
+    expect((await mgr.get(`/api/analytics/lots/${lotId}`)).body).toEqual(first.body); // unchanged data: same answer
+
+    // Replace one device's 500 h reading through the API: hFE 30 % below time zero fails ±15 %.
+    // The upsert keeps the row's created_at, so only a version that sees row changes notices it.
+    const eng = await t.signIn('engineer');
+    const stored = await eng.get(`/api/measurements/runs/${runId}/read-points/500`);
+    const zero = await eng.get(`/api/measurements/runs/${runId}/read-points/0`);
+    const r3 = stored.body.items.find((x: { serial: string }) => x.serial === 'R0003');
+    const hfe0 = zero.body.items.find((x: { serial: string }) => x.serial === 'R0003').hfe;
+    const put = await eng.post(`/api/measurements/runs/${runId}/read-points/500/measurements`).send([
+      {
+        serial: 'R0003', hfe: +(hfe0 * 0.7).toFixed(2), hfeIcA: r3.hfeIcA, hfeVceV: r3.hfeVceV, icboA: r3.icboA, icboVcbV: r3.icboVcbV,
+        vcesatV: r3.vcesatV, measuredC: r3.measuredC, measuredAt: r3.measuredAt,
+      },
+    ]);
+    expect(put.status).toBe(201);
+    expect(put.body.replaced).toBe(1);
+
+    const second = await mgr.get(`/api/analytics/lots/${lotId}`);
+    expect(second.body.verdict).toBe('failed'); // accept number 0
+    expect(second.body.fails).toBe(1);
+    expect(second.body.devices.find((d: { serial: string }) => d.serial === 'R0003').firstFailedH).toBe(500);
+    // Mean of nine devices at −1 % and one at −30 %: −3.9 %.
+    expect(rp500(second.body).hfeChangePct!.mean).toBeCloseTo(-3.9, 1);
+    const list = await mgr.get(`/api/analytics/lots?deviceTypeId=${first.body.deviceTypeId}`);
+    expect(list.body.items.map((l: { verdict: string }) => l.verdict)).toEqual(['failed']);
+
+    // The run engine accrues hours with a plain UPDATE (runs.updated_at untouched): still seen at once.
+    await t.ctx.ds.query(`UPDATE runs SET stress_hours = 640 WHERE id = $1`, [runId]);
+    const third = await mgr.get(`/api/analytics/lots/${lotId}`);
+    expect(third.body.run.stressHours).toBe(640);
+    expect(third.body.readPoints).toEqual(second.body.readPoints);
+  });
 });

@@ -1,120 +1,21 @@
-import { In, type DataSource } from 'typeorm';
+import type { DataSource } from 'typeorm';
 import type { DeviceTypeSummary, LotDetail, LotSummary, LotVerdict, PlanAcceleration } from '../../../shared/schemas/analytics';
-import type { Criteria } from '../../../shared/schemas/plans';
 import { chiSquareQuantile, constantsUsed, sampleSizeForLtpd, arrheniusFactor } from '../../../shared/reliability';
-import {
-  DeviceTypeEntity,
-  LotEntity,
-  MeasurementEntity,
-  RigEntity,
-  RunEntity,
-  RunLotEntity,
-  StressPlanEntity,
-} from '../../db/entities';
+import { DeviceTypeEntity } from '../../db/entities';
 import { notFound } from '../../http/errors';
-import { runDrift } from '../measurements/measurements.service';
-import { runDevices } from '../measurements/run-data';
-import { controlChecks, judgeLot, LOT_CAUTION, lotCore, lotFit, stressTemperature, type LotCore } from './lot-analysis';
-
-interface Analysed {
-  core: LotCore;
-  verdict: LotVerdict;
-  reasons: string[];
-  control: ReturnType<typeof controlChecks>;
-  otherRuns: Array<{ id: string; code: string; state: string }>;
-  gainReference: { referenceC: number; xtb: number };
-}
+import { LOT_CAUTION, lotFit } from './lot-analysis';
+import { PartCache, type Analysed } from './part-analysis';
 
 export class AnalyticsService {
-  constructor(private readonly ds: DataSource) {}
-
   /**
-   * Every lot (optionally of one device type) analysed on its most recent run that has readings
-   * for it (else its most recent run that was not aborted). Lots of the same type are analysed
-   * together because each lot is judged against the others.
+   * Lots of the same part are analysed together (each is judged against the others), which at lab
+   * scale is a few hundred milliseconds of work; the cache keeps it per part until any row it read
+   * changes (see PartCache).
    */
-  private async analyse(deviceTypeId?: string): Promise<Analysed[]> {
-    const m = this.ds.manager;
-    const types = await m.find(DeviceTypeEntity, deviceTypeId ? { where: { id: deviceTypeId } } : {});
-    if (!types.length) return [];
-    const typeById = new Map(types.map((t) => [t.id, t]));
-    const lots = await m.find(LotEntity, { where: { deviceTypeId: In(types.map((t) => t.id)) }, order: { code: 'ASC' } });
-    if (!lots.length) return [];
-    const runLots = await m.find(RunLotEntity, { where: { lotId: In(lots.map((l) => l.id)) } });
-    const runIds = [...new Set(runLots.map((r) => r.runId))];
-    const runs = runIds.length ? await m.find(RunEntity, { where: { id: In(runIds) } }) : [];
-    const runById = new Map(runs.map((r) => [r.id, r]));
-    const plans = runs.length ? await m.find(StressPlanEntity, { where: { id: In([...new Set(runs.map((r) => r.planId))]) } }) : [];
-    const planById = new Map(plans.map((p) => [p.id, p]));
-    const devicesByRun = await runDevices(m, runIds);
-    const measurements = runIds.length ? await m.find(MeasurementEntity, { where: { runId: In(runIds) } }) : [];
-    const msByRun = new Map<string, MeasurementEntity[]>();
-    for (const x of measurements) msByRun.set(x.runId, [...(msByRun.get(x.runId) ?? []), x]);
-    const measuredLotsByRun = new Map<string, Set<string>>();
-    for (const [rid, ms] of msByRun) {
-      const lotOf = new Map((devicesByRun.get(rid) ?? []).map((d) => [d.deviceId, d.lotId]));
-      measuredLotsByRun.set(rid, new Set(ms.map((x) => lotOf.get(x.deviceId)).filter((x): x is string => !!x)));
-    }
+  private readonly parts: PartCache;
 
-    const drift = new Map<string, ReturnType<typeof runDrift>>();
-    const driftOf = (run: RunEntity) => {
-      if (!drift.has(run.id)) {
-        const plan = planById.get(run.planId)!;
-        const deviceType = typeById.get(plan.deviceTypeId) ?? types[0];
-        drift.set(
-          run.id,
-          runDrift(
-            { run, plan, deviceType, rig: null as RigEntity | null, lots: [], devices: devicesByRun.get(run.id) ?? [] },
-            msByRun.get(run.id) ?? [],
-          ),
-        );
-      }
-      return drift.get(run.id)!;
-    };
-
-    const cores: Array<{ core: LotCore; otherRuns: Analysed['otherRuns']; gain: Analysed['gainReference'] }> = lots.map((lot) => {
-      const type = typeById.get(lot.deviceTypeId)!;
-      const lotRuns = runLots
-        .filter((rl) => rl.lotId === lot.id)
-        .map((rl) => runById.get(rl.runId)!)
-        .filter(Boolean)
-        .sort((a, b) => b.createdAt.getTime() - a.createdAt.getTime());
-      const chosen =
-        lotRuns.find((r) => measuredLotsByRun.get(r.id)?.has(lot.id)) ?? lotRuns.find((r) => r.state !== 'aborted') ?? null;
-      const plan = chosen ? planById.get(chosen.planId)! : null;
-      const core = lotCore({
-        lot: { id: lot.id, code: lot.code, deviceTypeId: lot.deviceTypeId, partNumber: type.partNumber, dateCode: lot.dateCode },
-        run: chosen ? { id: chosen.id, code: chosen.code, state: chosen.state, stressHours: chosen.stressHours } : null,
-        plan: plan
-          ? {
-              id: plan.id,
-              name: plan.name,
-              kind: plan.kind,
-              durationH: plan.durationH,
-              acceptNumber: plan.acceptNumber,
-              sampleSize: plan.sampleSize,
-              chamberC: plan.chamberC,
-              eaEv: plan.eaEv,
-              useC: plan.useC,
-              ...stressTemperature(plan),
-              readPointsH: [...plan.readPointsH],
-              criteria: plan.criteria as Criteria,
-            }
-          : null,
-        devices: chosen ? driftOf(chosen).devices.filter((d) => d.lotId === lot.id) : [],
-      });
-      return {
-        core,
-        otherRuns: lotRuns.filter((r) => r.id !== chosen?.id).map((r) => ({ id: r.id, code: r.code, state: r.state })),
-        gain: { referenceC: type.betaRefTC, xtb: type.xtb },
-      };
-    });
-    const all = cores.map((c) => c.core);
-    return cores.map(({ core, otherRuns, gain }) => {
-      const control = controlChecks(core, all);
-      const { verdict, reasons } = judgeLot(core, control);
-      return { core, verdict, reasons, control, otherRuns, gainReference: gain };
-    });
+  constructor(private readonly ds: DataSource) {
+    this.parts = new PartCache(ds);
   }
 
   private toSummary(a: Analysed): LotSummary {
@@ -147,14 +48,14 @@ export class AnalyticsService {
   }
 
   async lots(filter: { deviceTypeId?: string; verdict?: LotVerdict }): Promise<LotSummary[]> {
-    const all = await this.analyse(filter.deviceTypeId);
+    const all = await this.parts.lots(filter.deviceTypeId ? [filter.deviceTypeId] : undefined);
     return all.filter((a) => !filter.verdict || a.verdict === filter.verdict).map((a) => this.toSummary(a));
   }
 
   async lot(lotId: string): Promise<LotDetail> {
-    const lot = await this.ds.getRepository(LotEntity).findOne({ where: { id: lotId } });
-    if (!lot) throw notFound('The lot');
-    const a = (await this.analyse(lot.deviceTypeId)).find((x) => x.core.lot.id === lotId)!;
+    const [part] = await this.parts.get({ lotId });
+    const a = part?.lot(lotId);
+    if (!a) throw notFound('The lot');
     const c = a.core;
     return {
       ...this.toSummary(a),
@@ -173,14 +74,15 @@ export class AnalyticsService {
 
   async deviceTypes(q: { ltpdPct: number; acceptNumber: number }): Promise<DeviceTypeSummary[]> {
     const types = await this.ds.getRepository(DeviceTypeEntity).find({ order: { partNumber: 'ASC' } });
-    const all = await this.analyse();
-    return types.map((t) => this.typeSummary(t, all.filter((a) => a.core.lot.deviceTypeId === t.id), q));
+    const parts = new Map((await this.parts.get({ typeIds: types.map((t) => t.id) })).map((p) => [p.deviceTypeId, p]));
+    return types.map((t) => this.typeSummary(t, parts.get(t.id)?.all() ?? [], q));
   }
 
   async deviceType(id: string, q: { ltpdPct: number; acceptNumber: number }): Promise<DeviceTypeSummary> {
     const t = await this.ds.getRepository(DeviceTypeEntity).findOne({ where: { id } });
     if (!t) throw notFound('The device type');
-    return this.typeSummary(t, await this.analyse(id), q);
+    const [part] = await this.parts.get({ typeIds: [id] });
+    return this.typeSummary(t, part?.all() ?? [], q);
   }
 
   /**

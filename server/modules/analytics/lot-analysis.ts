@@ -55,6 +55,13 @@ export interface LotCore extends LotCoreInput {
   pseudoFailureParameter: 'hfe' | 'icbo' | 'vcesat' | null;
 }
 
+/**
+ * What judging, FIT and the responses read of a lot: everything but the per-reading drift views
+ * (`devices`), which at lab scale are most of the memory (~60 MB for 100 lots × 77 devices) and
+ * are only needed while lotCore runs.
+ */
+export type LotFigures = Omit<LotCore, 'devices'>;
+
 const summary = (xs: number[]) => (xs.length ? lotDriftSummary(xs) : null);
 const round = (x: number, d = 4) => +x.toPrecision(d);
 
@@ -181,7 +188,7 @@ export function lotTrends(readPoints: LotReadPointStats[], devices: DeviceDriftV
 }
 
 /** Value compared across lots: mean hFE change (%) or median ICBO ratio at a read point. */
-export function controlValue(core: LotCore, parameter: 'hfe' | 'icbo', h: number): number | null {
+export function controlValue(core: LotFigures, parameter: 'hfe' | 'icbo', h: number): number | null {
   const rp = core.readPoints.find((r) => r.hours === h);
   if (!rp) return null;
   if (parameter === 'hfe') return rp.hfeChangePct?.mean ?? null;
@@ -194,7 +201,7 @@ export function controlValue(core: LotCore, parameter: 'hfe' | 'icbo', h: number
  * Electric run rules on the sequence "other lots …, this lot"; only patterns that include this
  * lot count. Needs at least two other lots measured at that read point.
  */
-export function controlChecks(core: LotCore, others: LotCore[]): ControlCheck[] {
+export function controlChecks(core: LotFigures, others: LotFigures[]): ControlCheck[] {
   const h = core.latestH;
   if (h === null || h === 0 || !core.plan) return [];
   const peers = others
@@ -231,7 +238,7 @@ const PARAM_LABEL = { hfe: 'hFE', icbo: 'ICBO', vcesat: 'VCE(sat)' } as const;
 const fmtH = (h: number) => `${Math.round(h).toLocaleString('en-GB')} h`;
 
 /** The verdict and its reasons, most important first. */
-export function judgeLot(core: LotCore, control: ControlCheck[]): { verdict: LotVerdict; reasons: string[] } {
+export function judgeLot(core: LotFigures, control: ControlCheck[]): { verdict: LotVerdict; reasons: string[] } {
   if (!core.run || !core.plan) return { verdict: 'untested', reasons: ['This lot has not been on a stress run yet.'] };
   const { plan, run } = core;
   const reasons: string[] = [];
@@ -293,7 +300,7 @@ export function judgeLot(core: LotCore, control: ControlCheck[]): { verdict: Lot
 }
 
 /** FIT at 60 % and 90 % from this lot's devices × hours at the latest read point (chi-square, JESD85). */
-export function lotFit(core: LotCore): FitFigures | null {
+export function lotFit(core: LotFigures): FitFigures | null {
   if (!core.plan || core.latestH === null || core.latestH <= 0) return null;
   const devices = core.lotDevices.filter((d) => d.status !== 'not-measured').length;
   if (!devices) return null;

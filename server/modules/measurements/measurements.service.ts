@@ -17,7 +17,7 @@ import { DeviceEntity, LotEntity, MeasurementEntity, MeasurementUploadEntity, Ru
 import { conflict, unprocessable } from '../../http/errors';
 import type { AuditService } from '../audit/audit.service';
 import { parseMeasurementCsv, type ParsedRow, type ParsedValues } from './csv-rows';
-import { driftOfDevice, GAIN_LAW, GAIN_LAW_SOURCE } from './device-drift';
+import { driftOfDevice, GAIN_LAW, GAIN_LAW_SOURCE, type ReadingInput } from './device-drift';
 import { loadRunBundle, type RunBundle, type RunDeviceRow } from './run-data';
 
 const H = 3600_000;
@@ -430,9 +430,28 @@ export class MeasurementsService {
   }
 }
 
-export function runDrift(b: RunBundle, ms: MeasurementEntity[]): RunDriftResult {
-  const byDevice = new Map<string, MeasurementEntity[]>();
-  for (const x of ms) byDevice.set(x.deviceId, [...(byDevice.get(x.deviceId) ?? []), x]);
+/**
+ * What runDrift reads of a run: a RunBundle has it all; analytics passes rows read with raw SQL
+ * (no entity hydration) for whole part numbers at a time.
+ */
+export interface DriftSource {
+  run: Pick<RunBundle['run'], 'id' | 'code'>;
+  plan: Pick<RunBundle['plan'], 'criteria' | 'readPointsH'>;
+  deviceType: Pick<RunBundle['deviceType'], 'betaRefTC' | 'xtb'>;
+  devices: Array<Pick<RunDeviceRow, 'deviceId' | 'serial' | 'lotId' | 'lotCode' | 'socketIndex'>>;
+}
+
+/** One stored reading as drift needs it (a MeasurementEntity is one). */
+export type DriftReading = ReadingInput & { deviceId: string };
+
+export function runDrift(b: DriftSource, ms: readonly DriftReading[]): RunDriftResult {
+  // Push into one list per device: copying the list per reading made a run's grouping quadratic.
+  const byDevice = new Map<string, DriftReading[]>();
+  for (const x of ms) {
+    const list = byDevice.get(x.deviceId);
+    if (list) list.push(x);
+    else byDevice.set(x.deviceId, [x]);
+  }
   const gain = { referenceC: b.deviceType.betaRefTC, xtb: b.deviceType.xtb };
   const criteria = b.plan.criteria as Criteria;
   return {

@@ -142,7 +142,7 @@ export class TelemetryIngest {
     this.rollupTimer = setInterval(() => {
       if (!this.stopped && !this.flushing && this.rollupsDue()) this.kick();
     }, this.opts.rollupFlushMs);
-    this.rollupTimer.unref?.();
+    (this.rollupTimer as { unref?: () => void }).unref?.();
   }
 
   private now(): Date {
