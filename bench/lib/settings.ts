@@ -41,7 +41,10 @@ export const SETTINGS = {
     seconds: num('EMBERLOT_BENCH_INGEST_S', 40),
     warmupS: num('EMBERLOT_BENCH_WARMUP_S', 5),
     /** Unconfirmed messages a publisher may have out at once (its `stored` window). */
-    window: num('EMBERLOT_BENCH_WINDOW', 10),
+    // 20 × 40 rigs = 800 messages (~0.5 s at capacity) in flight: enough that the API parses the
+    // next batches while PostgreSQL commits the last ones. With 10 the closed loop, not the pipeline,
+    // set the pace (the API idled ~40 % of the window). Real rigs have no window at all.
+    window: num('EMBERLOT_BENCH_WINDOW', 20),
     /** Re-send a message unconfirmed for this long (as the simulator's resendAfterWallS). */
     resendMs: num('EMBERLOT_BENCH_RESEND_MS', 5000),
     drainS: num('EMBERLOT_BENCH_DRAIN_S', 30),

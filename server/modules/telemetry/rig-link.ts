@@ -88,7 +88,11 @@ export class MqttRigLink implements RigLink {
       this.log(`${this.lastError ? 'reconnected' : 'connected'} to ${this.opts.url}`);
       this.lastError = '';
       this.wasConnected = true;
-      c.subscribe([topics.all.telemetry, topics.all.status, topics.all.commandAcks], { qos: 1 }, (err, granted) => {
+      // Telemetry at QoS 0: its delivery is already guaranteed end to end — a rig keeps every
+      // message until the server's `stored` names it and re-sends it otherwise — and with a clean
+      // session QoS 1 could not cover a dropped connection anyway. It saves a PUBACK per message
+      // here and the broker's in-flight bookkeeping. Status and acks stay at QoS 1.
+      c.subscribe({ [topics.all.telemetry]: { qos: 0 }, [topics.all.status]: { qos: 1 }, [topics.all.commandAcks]: { qos: 1 } }, (err, granted) => {
         const refused = (granted ?? []).filter((g) => g.qos === 128);
         if (err || refused.length) this.log(`subscription refused: ${err?.message ?? refused.map((g) => g.topic).join(', ')}`);
         // Acks can arrive now: (re)send everything still waiting.
