@@ -24,7 +24,7 @@ export const TEMP_BANDS: readonly TempBand[] = [
   { from: 60, to: 90, fill: '#FBE3A8', ink: DARK, label: '60–90' },
   { from: 90, to: 120, fill: '#F4C46F', ink: DARK, label: '90–120' },
   { from: 120, to: 140, fill: '#E99A45', ink: DARK, label: '120–140' },
-  { from: 140, to: 160, fill: '#C8662A', ink: LIGHT, label: '140–160' },
+  { from: 140, to: 160, fill: '#B4551F', ink: LIGHT, label: '140–160' },
   { from: 160, to: 180, fill: '#9C3F1C', ink: LIGHT, label: '160–180' },
   { from: 180, to: Infinity, fill: '#5E2210', ink: LIGHT, label: '180 and above' },
 ];

@@ -153,7 +153,7 @@ export function Timeline({ data }: { data: TimelineData }) {
                 </View>
               ))}
               {nowMs >= fromMs && nowMs <= toMs ? (
-                <View pointerEvents="none" accessibilityLabel="Now" style={{ position: 'absolute', left: x(nowMs) - 1, top: -AXIS_H, width: 2, height: height + AXIS_H, backgroundColor: colors.ember }} />
+                <View pointerEvents="none" accessibilityRole="image" accessibilityLabel="Now" style={{ position: 'absolute', left: x(nowMs) - 1, top: -AXIS_H, width: 2, height: height + AXIS_H, backgroundColor: colors.ember }} />
               ) : null}
             </View>
           </View>

@@ -89,10 +89,12 @@ export function makeContext(baseUrl: string, size: SizeName, journey: string, pa
       const rules = Object.fromEntries(known.map((k) => [k.rule, { enabled: false }]));
       a11yLog.push(...known.map((k) => `${where}: rule ${k.rule} NOT CHECKED — known defect: ${k.defect}`));
       const result = (await page.evaluate(`axe.run(document, ${JSON.stringify({ resultTypes: ['violations'], rules })})`)) as {
-        violations: Array<{ id: string; impact: string; help: string; nodes: Array<{ target: string[] }> }>;
+        violations: Array<{ id: string; impact: string; help: string; nodes: Array<{ target: string[]; html?: string }> }>;
       };
       const critical = result.violations.filter((v) => v.impact === 'critical');
-      const serious = result.violations.filter((v) => v.impact === 'serious').map((v) => `${where}: ${v.id} (${v.nodes.length})`);
+      const serious = result.violations
+        .filter((v) => v.impact === 'serious')
+        .map((v) => `${where}: ${v.id} (${v.nodes.length}) at ${v.nodes.slice(0, 3).map((x) => (x.html ?? x.target.join(' ')).slice(0, 160)).join(' | ')}`);
       a11yLog.push(...serious);
       if (critical.length) {
         throw new Error(

@@ -62,7 +62,7 @@ async function main(): Promise<number> {
   const only = process.env.EMBERLOT_E2E_ONLY;
   try {
     for (const journey of JOURNEYS as Journey[]) {
-      if (only && !journey.name.includes(only)) continue;
+      if (only && !only.split(',').some((n) => n && journey.name.includes(n.trim()))) continue;
       for (const size of Object.keys(SIZES) as SizeName[]) {
         const browser = await openBrowser(size);
         const page = browser.pages()[0] ?? (await browser.newPage());
