@@ -4,6 +4,7 @@
  */
 import { AuditLogEntity, RigEntity, RigMaintenanceEntity, RunEntity, RunSocketEntity } from '../../server/db/entities';
 import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
+import { msPerClockHFor } from '../../shared/scheduling';
 import { createTestApp, type TestApp } from '../support/api';
 import { tableCounts } from '../support/db';
 
@@ -308,5 +309,48 @@ describe('state changes by people', () => {
     const eng = await t.signIn('engineer');
     const res = await eng.post(`/api/runs/${ids.hotRun}/abort`).send({ rowVersion: await version(ids.hotRun), reason: 'Customer withdrew the request' });
     expect(res.body.state).toBe('aborted');
+  });
+});
+
+describe('booking a proposal whose start slid', () => {
+  // The run ahead on the rig is an overdue booking: its projected window slides with the clock, so
+  // the proposed start (its projected end) is taken a little later by the time the engineer books.
+  it('follows the slot within the tolerance (audited with the requested start); refuses beyond it', async () => {
+    const eng = await t.signIn('engineer');
+    const rigId = await addRig('OV-08', { socketCount: 8 });
+    const realNow = t.ctx.now;
+    const hMs = msPerClockHFor(t.ctx.config.clockRate); // wall ms per clock hour of this server
+    try {
+      const t0 = Date.now();
+      t.ctx.now = () => new Date(t0);
+      const ahead = await eng.post('/api/runs').send({ planId: ids.plan, lotIds: [ids['HG2611-A']], sampleSize: 2, rigId, start: new Date(t0).toISOString() });
+      expect(ahead.status).toBe(201);
+      const propose = async () => {
+        const p = await eng.post('/api/runs/proposals').send({ planId: ids.coolerPlan, lotIds: [ids['HG2612-C']], sampleSize: 2 });
+        return p.body.options.find((o: { rigCode: string }) => o.rigCode === 'OV-08') as { start: string };
+      };
+      const opt = await propose();
+      // 145 °C ahead, 125 °C wanted: the proposal starts when the run ahead ends.
+      expect(Date.parse(opt.start)).toBe(Date.parse(ahead.body.scheduledEnd));
+      const body = { planId: ids.coolerPlan, lotIds: [ids['HG2612-C']], sampleSize: 2, rigId, start: opt.start };
+
+      // 100 clock hours later the slot is 100 h later: beyond the tolerance (5 % of ~1,000 h), refused.
+      t.ctx.now = () => new Date(t0 + 100 * hMs);
+      const before = await tableCounts(t.ctx.ds);
+      const far = await eng.post('/api/runs').send(body);
+      expect(far.status).toBe(409);
+      expect(far.body.error.message).toMatch(/^The rig is no longer free at .*: Oven OV-08 runs HTRB-2611-A.* at 145 °C until .*; the plan needs 125 °C\. Ask for new proposals\.$/);
+      expect(await tableCounts(t.ctx.ds)).toEqual(before);
+
+      // Half a clock hour later: the booking follows the slot to the new end of the run ahead.
+      t.ctx.now = () => new Date(t0 + 0.5 * hMs);
+      const res = await eng.post('/api/runs').send(body);
+      expect(res.status).toBe(201);
+      expect(Date.parse(res.body.scheduledStart)).toBe(Date.parse(opt.start) + 0.5 * hMs);
+      const [a] = await auditOf(res.body.id, 'run.book');
+      expect(a.details).toMatchObject({ requestedStart: new Date(Date.parse(opt.start)).toISOString(), slidH: 0.5 });
+    } finally {
+      t.ctx.now = realNow;
+    }
   });
 });

@@ -76,6 +76,14 @@ const needsOf = (plan: StressPlanEntity, sampleSize: number): RunNeeds => ({
 const condition = (p: Pick<StressPlanEntity, 'chamberC' | 'humidityPct'>) =>
   p.humidityPct === null ? `${+p.chamberC.toFixed(2)} °C` : `${+p.chamberC.toFixed(2)} °C / ${+p.humidityPct.toFixed(2)} % RH`;
 
+/**
+ * How far booking may follow a proposed start that slid (see book): 1 clock hour, or 5 % of the
+ * run's length when that is more. Emberlot's own choice.
+ */
+export function bookingSlideToleranceH(needs: Parameters<typeof runDurationMs>[0], t: TimingOptions): number {
+  return Math.max(1, 0.05 * (runDurationMs(needs, t) / t.msPerClockH));
+}
+
 export class RunsService {
   readonly timing: TimingOptions;
   private readonly deps: EngineDeps;
@@ -266,10 +274,23 @@ export class RunsService {
       if (refusals.length) throw unprocessable(refusals.join(' '), { reasons: refusals });
       const inputs = await loadSchedulingInputs(m, now, this.timing);
       let startMs: number;
+      let requestedStartMs: number | null = null;
       if (input.start) {
-        startMs = Math.max(now, Date.parse(input.start));
+        requestedStartMs = Math.max(now, Date.parse(input.start));
+        startMs = requestedStartMs;
         const clash = windowConflicts(rig, needs, startMs, startMs + runDurationMs(needs, this.timing), inputs.commitments, inputs.maintenance);
-        if (clash.length) throw conflict(`The rig is no longer free at ${when(startMs)}: ${clash.join(' ')} Ask for new proposals.`, { reasons: clash });
+        if (clash.length) {
+          // A proposal's start is often the projected end of the run ahead of it, and that
+          // projection slides with the clock (an overdue booking, a run still stressing): seconds
+          // after proposing, the same slot starts a little later. Follow it, within a tolerance;
+          // anything more is a different slot and needs new proposals.
+          const slot = earliestSlot(rig, needs, requestedStartMs, inputs.commitments, inputs.maintenance, this.timing);
+          const slideH = slot ? (slot.startMs - requestedStartMs) / this.timing.msPerClockH : Number.POSITIVE_INFINITY;
+          if (!slot || slideH > bookingSlideToleranceH(needs, this.timing)) {
+            throw conflict(`The rig is no longer free at ${when(startMs)}: ${clash.join(' ')} Ask for new proposals.`, { reasons: clash });
+          }
+          startMs = slot.startMs;
+        }
       } else {
         const slot = earliestSlot(rig, needs, now, inputs.commitments, inputs.maintenance, this.timing);
         if (!slot) throw unprocessable(`Oven ${rig.code} cannot take this run.`);
@@ -312,6 +333,9 @@ export class RunsService {
             rig: rig.code,
             scheduledStart: new Date(startMs).toISOString(),
             scheduledEnd: new Date(endMs).toISOString(),
+            ...(requestedStartMs !== null && startMs !== requestedStartMs
+              ? { requestedStart: new Date(requestedStartMs).toISOString(), slidH: Math.round(((startMs - requestedStartMs) / this.timing.msPerClockH) * 100) / 100 }
+              : {}),
           },
         },
         m,
