@@ -63,8 +63,9 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
           <VictoryLegend
             standalone
             width={width}
-            height={Math.ceil(series.length / (phone ? 2 : 4)) * 26 + 20}
-            itemsPerRow={phone ? 2 : 4}
+            // One entry per row on a phone: "Socket 27 case (dashed)" does not fit half a phone width.
+            height={Math.ceil(series.length / (phone ? 1 : 4)) * 26 + 20}
+            itemsPerRow={phone ? 1 : 4}
             gutter={phone ? 12 : 24}
             orientation="horizontal"
             style={{ labels: { fontSize: 12, fill: colors.ink, fontFamily: font } }}
