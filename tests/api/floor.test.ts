@@ -6,6 +6,9 @@ import type { EntityManager } from 'typeorm';
 import type { Telemetry } from '../../shared/mqtt';
 import type { FloorTile } from '../../shared/schemas/floor';
 import { AlarmEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunSocketEntity, StressPlanEntity } from '../../server/db/entities';
+import { ALARM_EVENT } from '../../server/modules/alarms/alarms.service';
+import type { FloorService } from '../../server/modules/floor/floor.service';
+import { RUN_EVENT } from '../../server/modules/runs/run-events';
 import { TELEMETRY_LANDED } from '../../server/modules/telemetry/contracts';
 import { writeBatch, type IngestItem } from '../../server/modules/telemetry/ingest-store';
 import { pgPoolOf } from '../../server/modules/telemetry/telemetry.feature';
@@ -100,6 +103,30 @@ describe('GET /api/floor', () => {
     expect(a.run).toMatchObject({ code: 'HTOL-F-01', state: 'stressing', stressHours: 150, nextReadPointH: 168, hoursToNextReadPoint: 18 });
     expect(Date.parse(a.run!.nextReadPointEta!)).toBeGreaterThan(Date.now());
     expect(b).toMatchObject({ code: 'OV-82', online: false, powered: 0, tripped: 0, empty: SOCKETS, openAlarms: 0, run: null, chamberC: null, lastSampleAt: null });
+  });
+
+  it('requests arriving while the floor is being read share that one read; a change people make starts a fresh one', async () => {
+    const floor = t.ctx.services.floor as FloorService;
+    const spy = jest.spyOn(t.ctx.ds, 'query');
+    try {
+      const tileReads = () => spy.mock.calls.filter(([sql]) => String(sql).includes('LEFT JOIN LATERAL')).length;
+      const together = await Promise.all(Array.from({ length: 8 }, () => floor.tiles()));
+      expect(tileReads()).toBe(1);
+      expect(together.every((x) => x === together[0])).toBe(true);
+      expect(together[0].length).toBeGreaterThan(0);
+      // Once it has answered, the next request reads again (nothing is kept).
+      await floor.tiles();
+      expect(tileReads()).toBe(2);
+      spy.mockClear();
+      const first = floor.tiles();
+      const joined = floor.tiles();
+      t.ctx.events.emit(ALARM_EVENT, { change: 'acknowledged', alarm: { rigId: rigA } });
+      const after = floor.tiles();
+      await Promise.all([first, joined, after]);
+      expect(tileReads()).toBe(2); // first + joined shared one; the one after the change read again
+    } finally {
+      spy.mockRestore();
+    }
   });
 
   it('signed-out callers get 401', async () => {
@@ -206,6 +233,17 @@ describe('GET /api/floor/stream (server-sent events)', () => {
       const data = text.split('\n').find((l) => l.startsWith('data: '))!;
       const evt = JSON.parse(data.slice(6));
       expect(evt).toMatchObject({ type: 'tile', tile: { code: 'OV-81', powered: 9 } });
+      // An alarm (its rig is inside the event's alarm) and a run event push the rig's tile too.
+      for (const [event, payload] of [
+        [ALARM_EVENT, { change: 'raised', alarm: { rigId: rigA } }],
+        [RUN_EVENT, { type: 'state-changed', rigId: rigA }],
+      ] as const) {
+        text = '';
+        const t1 = Date.now();
+        t.ctx.events.emit(event, payload);
+        while (!text.includes('event: tile') && Date.now() - t1 < 2500) await new Promise((r) => setTimeout(r, 20));
+        expect({ event, sent: text.includes('event: tile') && text.includes('"OV-81"') }).toEqual({ event, sent: true });
+      }
       res.destroy();
     } finally {
       server.closeAllConnections();

@@ -25,6 +25,8 @@ import {
 } from '../../../shared/schemas/floor';
 import type { AppContext } from '../../context';
 import { notFound } from '../../http/errors';
+import { ALARM_EVENT } from '../alarms/alarms.service';
+import { RUN_EVENT } from '../runs/run-events';
 
 /** Run states in which a run occupies its rig. */
 export const ACTIVE_RUN_STATES: RunStateName[] = ['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling'];
@@ -100,7 +102,21 @@ function nextReadPoint(readPoints: number[] | null, index: number | null, stress
 }
 
 export class FloorService {
-  constructor(private readonly ctx: AppContext) {}
+  /**
+   * The whole-floor query in flight, shared by every request that arrives while it runs (many
+   * floor screens and polls ask at once; one statement answers them all). A change people make —
+   * an alarm raised or acknowledged, a run moved (ALARM_EVENT / RUN_EVENT) — detaches it, so a request after
+   * the change never gets an answer read before it. Telemetry is continuous and not waited for.
+   */
+  private shared: Promise<FloorTile[]> | null = null;
+
+  constructor(private readonly ctx: AppContext) {
+    const detach = () => {
+      this.shared = null;
+    };
+    ctx.events.on(ALARM_EVENT, detach);
+    ctx.events.on(RUN_EVENT, detach);
+  }
 
   private toTile(r: TileRow): FloorTile {
     let run: FloorTile['run'] = null;
@@ -146,6 +162,17 @@ export class FloorService {
 
   /** Every rig, or only these rig ids (the stream's deltas). */
   async tiles(rigIds?: string[]): Promise<FloorTile[]> {
+    if (rigIds) return this.readTiles(rigIds);
+    if (!this.shared) {
+      const p: Promise<FloorTile[]> = this.readTiles().finally(() => {
+        if (this.shared === p) this.shared = null;
+      });
+      this.shared = p;
+    }
+    return this.shared;
+  }
+
+  private async readTiles(rigIds?: string[]): Promise<FloorTile[]> {
     const rows: TileRow[] = await this.ctx.ds.query(TILE_SQL, [rigIds ?? null, ACTIVE_RUN_STATES]);
     return rows.map((r) => this.toTile(r));
   }

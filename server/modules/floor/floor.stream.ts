@@ -1,6 +1,6 @@
 /**
  * Live floor updates over server-sent events (GET /api/floor/stream). ONE mechanism for the whole
- * app: rigs touched by TELEMETRY_LANDED / RIG_STATUS_CHANGED (and 'alarm' / 'run' events that name
+ * app: rigs touched by TELEMETRY_LANDED / RIG_STATUS_CHANGED (and alarm / run events that name
  * a rig) are marked dirty; once a second the dirty rigs' tiles are read in one query and sent to
  * every open stream as `event: tile`. So each rig gets at most one event per second, and a
  * telemetry message reaches the screen within ingest window (50 ms) + ≤ 1 s + one query.
@@ -9,6 +9,8 @@
 import type { Response } from 'express';
 import type { FloorTile } from '../../../shared/schemas/floor';
 import type { AppContext } from '../../context';
+import { ALARM_EVENT } from '../alarms/alarms.service';
+import { RUN_EVENT } from '../runs/run-events';
 import { RIG_STATUS_CHANGED, TELEMETRY_LANDED } from '../telemetry/contracts';
 import type { FloorService } from './floor.service';
 
@@ -21,8 +23,10 @@ export class FloorStream {
   private tick: ReturnType<typeof setInterval> | null = null;
   private heartbeat: ReturnType<typeof setInterval> | null = null;
   private busy = false;
-  private readonly onRig = (e: { rigId?: string | null } | undefined) => {
-    if (e?.rigId && this.clients.size) this.dirty.add(e.rigId);
+  /** Telemetry, status and run events name the rig; an alarm event carries it in `alarm`. */
+  private readonly onRig = (e: { rigId?: string | null; alarm?: { rigId?: string | null } } | undefined) => {
+    const rigId = e?.rigId ?? e?.alarm?.rigId;
+    if (rigId && this.clients.size) this.dirty.add(rigId);
   };
 
   constructor(private readonly ctx: AppContext, private readonly floor: FloorService, private readonly tickMs = STREAM_TICK_MS) {}
@@ -51,8 +55,8 @@ export class FloorStream {
     if (this.tick) return;
     this.ctx.events.on(TELEMETRY_LANDED, this.onRig);
     this.ctx.events.on(RIG_STATUS_CHANGED, this.onRig);
-    this.ctx.events.on('alarm', this.onRig);
-    this.ctx.events.on('run', this.onRig);
+    this.ctx.events.on(ALARM_EVENT, this.onRig);
+    this.ctx.events.on(RUN_EVENT, this.onRig);
     this.tick = setInterval(() => void this.flush(), this.tickMs);
     (this.tick as unknown as { unref?: () => void }).unref?.();
     this.heartbeat = setInterval(() => this.broadcast(`: heartbeat ${new Date().toISOString()}\n\n`), HEARTBEAT_MS);
@@ -65,8 +69,8 @@ export class FloorStream {
     this.tick = this.heartbeat = null;
     this.ctx.events.off(TELEMETRY_LANDED, this.onRig);
     this.ctx.events.off(RIG_STATUS_CHANGED, this.onRig);
-    this.ctx.events.off('alarm', this.onRig);
-    this.ctx.events.off('run', this.onRig);
+    this.ctx.events.off(ALARM_EVENT, this.onRig);
+    this.ctx.events.off(RUN_EVENT, this.onRig);
     this.dirty.clear();
   }
 
