@@ -1,4 +1,5 @@
 /** Small deterministic random numbers, so a fleet seed reproduces a demo exactly. */
+import { mulberry32 } from '../shared/random';
 
 /** FNV-1a 32-bit hash of a string. */
 export function hashString(s: string): number {
@@ -10,17 +11,8 @@ export function hashString(s: string): number {
   return h >>> 0;
 }
 
-/** mulberry32: uniform in [0, 1). */
-export function createRng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** mulberry32 (shared/random.ts): uniform in [0, 1). */
+export const createRng = mulberry32;
 
 /** Standard normal by Box–Muller. */
 export function gaussian(rng: () => number): number {

@@ -8,6 +8,7 @@
  */
 import mqtt, { type MqttClient } from 'mqtt';
 import { parseCommand, rigClientId, topics, type Telemetry } from '../../shared/mqtt';
+import { mulberry32 } from '../../shared/random';
 
 export interface LightRigOptions {
   rigCode: string;
@@ -26,17 +27,6 @@ interface Entry {
   payload: string;
   firstAt: number;
   sentAt: number;
-}
-
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
 }
 
 const r2 = (x: number) => Math.round(x * 100) / 100;

@@ -5,7 +5,7 @@
  * devices that fail at 1000 h, the others pass. Runs after the device/lot/plan/rig steps and
  * looks plans up by device type and kind; a missing plan is created minimally.
  *
- * The helpers (insertHistoryRun, mulberry32) are also used by the API tests.
+ * The helpers (insertHistoryRun; mulberry32 from shared/random.ts) are also used by the API tests.
  */
 import type { DataSource, EntityManager } from 'typeorm';
 import { In, Not } from 'typeorm';
@@ -25,21 +25,11 @@ import {
 import { refreshFirstFailures } from '../modules/measurements/measurements.service';
 import { loadRunBundle } from '../modules/measurements/run-data';
 import { DEMO_LOTS } from './demo-data';
+import { mulberry32 } from '../../shared/random';
+export { mulberry32 };
 
 const H = 3600_000;
 const DAY = 24 * H;
-
-/** Small, fast, seedable PRNG (mulberry32, public domain); same seed → same sequence. */
-export function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 export const seedOf = (s: string) => [...s].reduce((h, c) => Math.imul(h ^ c.charCodeAt(0), 16777619) >>> 0, 2166136261);
 

@@ -5,18 +5,8 @@ import {
   type SocketAssessment,
   type SocketSample,
 } from '../../../shared/safety';
+import { mulberry32 } from '../../../shared/random';
 
-/** Seeded PRNG (mulberry32) — tests never use Math.random. */
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 function gaussian(rand: () => number): () => number {
   return () => Math.sqrt(-2 * Math.log(1 - rand())) * Math.cos(2 * Math.PI * rand());
 }

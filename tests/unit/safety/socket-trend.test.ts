@@ -11,17 +11,7 @@
 import { jStat } from 'jstat';
 import { linearRegression } from 'simple-statistics';
 import { SocketTrend, type TrendSample } from '../../../shared/safety/socket-trend';
-
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+import { mulberry32 } from '../../../shared/random';
 
 /** The window assessSocket defines: the latest continuous bias-on stretch within windowS, at most maxSamples. */
 function batchWindow(history: TrendSample[], windowS: number, maxSamples: number): TrendSample[] {
