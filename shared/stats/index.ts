@@ -90,8 +90,9 @@ const pctOf = (r: number, i: number) => (i !== 0 ? ((r - i) / i) * 100 : null);
  * - VCE(sat): |change| ≤ vcesatShiftV.
  * A parameter missing at either point is reported and left out of the verdict.
  */
-export function deviceDrift(p: { timeZero: DeviceReading; reading: DeviceReading; criteria: Criteria }): DeviceDrift {
+export function deviceDrift(p: { timeZero: DeviceReading; reading: DeviceReading; criteria: Criteria; /** false: `reason` left empty (bulk judging that never shows it) */ reasons?: boolean }): DeviceDrift {
   const { timeZero: t0, reading: r, criteria: c } = p;
+  const say = p.reasons !== false;
   const parameters: ParameterDrift[] = [];
 
   if (t0.hfe === null || r.hfe === null) parameters.push(notMeasured('hfe', t0.hfe, r.hfe));
@@ -108,7 +109,9 @@ export function deviceDrift(p: { timeZero: DeviceReading; reading: DeviceReading
       delta: r.hfe - t0.hfe,
       allowed: band,
       pass,
-      reason: pass
+      reason: !say
+        ? ''
+        : pass
         ? `hFE ${r.hfe} within ±${c.hfeChangePct} % of ${t0.hfe}`
         : `hFE ${r.hfe} outside ±${c.hfeChangePct} % of ${t0.hfe} (allowed ${+band.low.toPrecision(4)}–${+band.high.toPrecision(4)})`,
     });
@@ -129,7 +132,7 @@ export function deviceDrift(p: { timeZero: DeviceReading; reading: DeviceReading
       delta,
       allowed,
       pass,
-      reason: `ICBO ${fmtA(r.icboA)} from ${fmtA(t0.icboA)}: change ${fmtA(delta)} ${pass ? 'within' : 'beyond'} the allowed ${fmtA(allowedChange)}`,
+      reason: !say ? '' : `ICBO ${fmtA(r.icboA)} from ${fmtA(t0.icboA)}: change ${fmtA(delta)} ${pass ? 'within' : 'beyond'} the allowed ${fmtA(allowedChange)}`,
     });
   }
 
@@ -146,7 +149,7 @@ export function deviceDrift(p: { timeZero: DeviceReading; reading: DeviceReading
       delta,
       allowed: { low: t0.vcesatV - c.vcesatShiftV, high: t0.vcesatV + c.vcesatShiftV },
       pass,
-      reason: `VCE(sat) shifted ${+(delta * 1000).toFixed(1)} mV, ${pass ? 'within' : 'beyond'} ±${+(c.vcesatShiftV * 1000).toFixed(1)} mV`,
+      reason: !say ? '' : `VCE(sat) shifted ${+(delta * 1000).toFixed(1)} mV, ${pass ? 'within' : 'beyond'} ±${+(c.vcesatShiftV * 1000).toFixed(1)} mV`,
     });
   }
 

@@ -328,7 +328,8 @@ function lotEntries(data: PartData): LotEntry[] {
       const plan = plans.get(run.planId)!;
       // The part being analysed gives the gain reference (as before: the plan's own type was looked
       // up among the analysed types, falling back to the first of them).
-      d = runDrift({ run, plan, deviceType: type, devices: devicesByRun.get(run.id) ?? [] }, readingsByRun.get(run.id) ?? []);
+      // Lot analytics reads the numbers only: the per-parameter reason texts are not built.
+      d = runDrift({ run, plan, deviceType: type, devices: devicesByRun.get(run.id) ?? [] }, readingsByRun.get(run.id) ?? [], { reasons: false });
       drift.set(run.id, d);
     }
     const left = lotsLeft.get(run.id)! - 1;

@@ -47,6 +47,8 @@ export function driftOfDevice(
   readings: ReadingInput[],
   criteria: Criteria,
   gain: GainReference,
+  /** false: the parameters' reason texts are left empty (lot analytics judges thousands, shows none). */
+  reasons = true,
 ): Pick<DeviceDriftView, 'status' | 'firstFailedH' | 'readPoints'> {
   const sorted = [...readings].sort((a, b) => a.readPointH - b.readPointH);
   const zero = sorted.find((r) => r.readPointH === 0);
@@ -70,7 +72,7 @@ export function driftOfDevice(
       failed: [],
     };
     if (t0 && r.readPointH > 0) {
-      const d = deviceDrift({ timeZero: t0, reading: { hfe: g.hfe, icboA: r.icboA, vcesatV: r.vcesatV }, criteria });
+      const d = deviceDrift({ timeZero: t0, reading: { hfe: g.hfe, icboA: r.icboA, vcesatV: r.vcesatV }, criteria, reasons });
       base.parameters = d.parameters;
       const judged = d.parameters.some((p) => p.pass !== null);
       base.pass = judged ? d.pass : null;

@@ -444,7 +444,7 @@ export interface DriftSource {
 /** One stored reading as drift needs it (a MeasurementEntity is one). */
 export type DriftReading = ReadingInput & { deviceId: string };
 
-export function runDrift(b: DriftSource, ms: readonly DriftReading[]): RunDriftResult {
+export function runDrift(b: DriftSource, ms: readonly DriftReading[], opts: { reasons?: boolean } = {}): RunDriftResult {
   // Push into one list per device: copying the list per reading made a run's grouping quadratic.
   const byDevice = new Map<string, DriftReading[]>();
   for (const x of ms) {
@@ -466,7 +466,7 @@ export function runDrift(b: DriftSource, ms: readonly DriftReading[]): RunDriftR
       lotId: d.lotId,
       lotCode: d.lotCode,
       socketIndex: d.socketIndex,
-      ...driftOfDevice(byDevice.get(d.deviceId) ?? [], criteria, gain),
+      ...driftOfDevice(byDevice.get(d.deviceId) ?? [], criteria, gain, opts.reasons !== false),
     })),
   };
 }
