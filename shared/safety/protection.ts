@@ -174,8 +174,7 @@ export function assessTrend(
   opts: ProtectionOptions = DEFAULT_PROTECTION_OPTIONS,
   baselineTjC: number | undefined = opts.baselineTjC,
 ): SocketAssessment {
-  const last = trend.last;
-  if (!last) return { tjC: null, loopGain: null, secondsToTjMax: null, slopeCPerS: null, thetaCaCPerW: null, action: 'none', reason: 'No samples yet' };
+  if (!trend.hasLast) return { tjC: null, loopGain: null, secondsToTjMax: null, slopeCPerS: null, thetaCaCPerW: null, action: 'none', reason: 'No samples yet' };
   const tj = trend.lastTjC;
   const tripAt = device.tjMaxC - opts.marginC;
 
@@ -185,7 +184,7 @@ export function assessTrend(
   let loopGain: number | null = null;
   let thetaCa: number | null = null;
 
-  if (last.biasOn && trend.count >= opts.minSamples && trend.spanS >= opts.minTrendS) {
+  if (trend.lastBiasOn && trend.count >= opts.minSamples && trend.spanS >= opts.minTrendS) {
     const fit = trend.quadraticFit();
     if (fit) {
       slope = fit.slope;
@@ -199,7 +198,7 @@ export function assessTrend(
   const result = (action: ProtectionAction, text: string | null) => new Assessment(tj, loopGain, seconds, slope, thetaCa, action, text, device.tjMaxC, rising);
   const tjText = () => tjDescription(tj, device.tjMaxC);
 
-  const baseline = baselineTjC ?? last.chamberC;
+  const baseline = baselineTjC ?? trend.lastChamberC;
   const aboveBaseline = tj - baseline >= opts.selfHeatAllowanceC;
   if (tj >= device.tjMaxC) return result('trip', `${tjText()} has reached the rating`);
   if (tj >= tripAt && aboveBaseline) {

@@ -98,8 +98,15 @@ export class SocketTrend {
   private rawP2 = 0;
   private rawRiseP = 0;
 
-  /** The latest sample pushed (bias on or off), null after a reset. */
-  last: TrendSample | null = null;
+  /**
+   * The latest sample pushed (bias on or off): whether there is one since the last reset, its time
+   * and bias. Kept as numbers, not the sample object, so samples die young (the window holds
+   * thousands of sockets; one retained object each was steady old-generation garbage).
+   */
+  hasLast = false;
+  lastTS = NaN;
+  lastBiasOn = false;
+  lastChamberC = NaN;
   /** Its junction estimate: T_case + θjc·P with bias on, else T_case. */
   lastTjC = 0;
   private thetaJc = NaN;
@@ -135,7 +142,10 @@ export class SocketTrend {
   /** Forget everything (a gap in telemetry, a trip, a reboot of the rig's clock). */
   reset(): void {
     this.clearWindow();
-    this.last = null;
+    this.hasLast = false;
+    this.lastTS = NaN;
+    this.lastBiasOn = false;
+    this.lastChamberC = NaN;
     this.lastTjC = 0;
   }
 
@@ -153,8 +163,11 @@ export class SocketTrend {
    * changed) the window's junction estimates are recomputed.
    */
   push(s: TrendSample, thetaJcCPerW: number): void {
-    if (this.last && !(s.tS > this.last.tS)) this.clearWindow();
-    this.last = s;
+    if (this.hasLast && !(s.tS > this.lastTS)) this.clearWindow();
+    this.hasLast = true;
+    this.lastTS = s.tS;
+    this.lastBiasOn = s.biasOn;
+    this.lastChamberC = s.chamberC;
     const p = s.vV * s.iA;
     if (!s.biasOn) {
       this.lastTjC = s.caseC;

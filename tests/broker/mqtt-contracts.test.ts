@@ -4,15 +4,19 @@ import { mayPublish, maySubscribe } from '../../broker/broker';
 import {
   MAX_PACKET_BYTES,
   buildStoredCommands,
+  isPlainTelemetry,
   isRigClientIdFor,
   parseCommand,
+  parsePayload,
   parseRigTopic,
   parseTelemetry,
   rigCodeFromTopic,
   seqInRanges,
+  telemetrySchema,
   topics,
   type Telemetry,
 } from '../../shared/mqtt';
+import { mulberry32 } from '../../shared/random';
 
 const good = (): Telemetry => ({
   v: 1,
@@ -84,6 +88,90 @@ describe('telemetry validation', () => {
     const many = { ...good(), sockets: Array.from({ length: 257 }, (_, i) => ({ ...good().sockets[0], i: i % 256 })) };
     expect(parseTelemetry(JSON.stringify(many)).ok).toBe(false);
     expect(parseTelemetry('x'.repeat(MAX_PACKET_BYTES + 1))).toEqual({ ok: false, reason: `payload larger than ${MAX_PACKET_BYTES} bytes` });
+  });
+});
+
+/**
+ * parseTelemetry skips zod for messages that carry exactly the schema's keys (isPlainTelemetry).
+ * The reference is zod itself: parsePayload(telemetrySchema, …). For valid messages and for
+ * thousands of one- and two-field mutations of them, both must give the same result, and the fast
+ * path may accept only what zod accepts unchanged.
+ */
+describe('telemetry fast path agrees with the zod schema', () => {
+  const rnd = mulberry32(20261202);
+  const pick = <T,>(xs: readonly T[]): T => xs[Math.floor(rnd() * xs.length)];
+  const wild: unknown[] = [
+    0, -0, 1, -1, 1.5, 255, 256, -273.15, -273.16, 500, 500.01, 1e12, 1e12 + 1, 1e4, -1e4, 10_000.5, 1000, -1000.5, 100, 100.1,
+    Number.MAX_SAFE_INTEGER, Number.MAX_SAFE_INTEGER + 2, 1e300, null, true, false, '', '1', 'OV-01', 'ov-01', 'A', 'X'.repeat(33),
+    '2025-03-04T10:00:00Z', '2025-03-04T10:00:00+02:00', '2025-03-04 10:00:00', '2025-13-04T10:00:00Z', [], {}, [1], { i: 0 },
+  ];
+  const validMessage = (): Telemetry => {
+    const n = 1 + Math.floor(rnd() * 8);
+    const first = Math.floor(rnd() * (256 - n));
+    return {
+      v: 1,
+      rig: pick(['OV-01', 'HPD-RIG-7', 'B9']),
+      seq: 1 + Math.floor(rnd() * 1e6),
+      ts: pick(['2025-03-04T10:00:00.000Z', '2026-12-02T03:00:00+01:00', '2026-01-01T00:00:00Z']),
+      stressClockS: rnd() * 1e6,
+      chamberC: -40 + rnd() * 240,
+      humidityPct: rnd() < 0.5 ? null : rnd() * 100,
+      setpointC: 125,
+      sockets: Array.from({ length: n }, (_, k) => ({
+        i: first + k,
+        caseC: -40 + rnd() * 300,
+        vV: (rnd() - 0.5) * 2000,
+        iA: (rnd() - 0.5) * 10,
+        biasOn: rnd() < 0.5,
+        tripped: rnd() < 0.1,
+      })),
+    };
+  };
+  /** One change at the top level or in one socket: a wild value, a deleted key, an extra key. */
+  const mutate = (m: Record<string, unknown>): void => {
+    const sockets = Array.isArray(m.sockets) ? (m.sockets as unknown[]).filter((x): x is Record<string, unknown> => typeof x === 'object' && x !== null && !Array.isArray(x)) : [];
+    const target: Record<string, unknown> = rnd() < 0.5 || !sockets.length ? m : pick(sockets);
+    const r = rnd();
+    if (r < 0.7) target[pick(Object.keys(target))] = pick(wild);
+    else if (r < 0.8) delete target[pick(Object.keys(target))];
+    else if (r < 0.9) target[pick(['extra', 'note', '__proto__'])] = 1;
+    else if (sockets.length) (m.sockets as unknown[]).push({ ...pick(sockets) }); // a repeated socket index
+  };
+
+  test('valid messages take the fast path and equal what zod returns', () => {
+    for (let k = 0; k < 500; k++) {
+      const text = JSON.stringify(validMessage());
+      expect(isPlainTelemetry(JSON.parse(text))).toBe(true);
+      expect(parseTelemetry(text)).toEqual(parsePayload(telemetrySchema, text));
+    }
+  });
+
+  test('mutated messages: same verdict and reason as zod; the fast path accepts only what zod keeps unchanged', () => {
+    let refused = 0;
+    let fast = 0;
+    let stripped = 0;
+    for (let k = 0; k < 4000; k++) {
+      const m = JSON.parse(JSON.stringify(validMessage())) as Record<string, unknown>;
+      mutate(m);
+      if (rnd() < 0.3) mutate(m);
+      // Through JSON text, as from the wire (so `__proto__` is an own key, as JSON.parse makes it).
+      const text = JSON.stringify(m).replace('"extra"', rnd() < 0.5 ? '"__proto__"' : '"extra"');
+      const json = JSON.parse(text);
+      const reference = telemetrySchema.safeParse(json);
+      if (isPlainTelemetry(json)) {
+        fast++;
+        expect(reference.success).toBe(true);
+        expect(reference.data).toEqual(json);
+      }
+      const ours = parseTelemetry(text);
+      expect(ours).toEqual(parsePayload(telemetrySchema, text));
+      if (!ours.ok) refused++;
+      else if (!isPlainTelemetry(JSON.parse(text))) stripped++;
+    }
+    // The mutations reach every branch: refusals, fast acceptances and zod-only acceptances.
+    expect(refused).toBeGreaterThan(2000);
+    expect(fast).toBeGreaterThan(100);
+    expect(stripped).toBeGreaterThan(20);
   });
 });
 

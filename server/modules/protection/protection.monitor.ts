@@ -111,6 +111,22 @@ interface SocketState {
   leakBaseline: number | null;
 }
 
+/** What protection reads of a socket's device (a run's SocketDevice, or the plan's or default device). */
+interface DeviceInfo {
+  readonly device: ProtectionDevice;
+  readonly serial: string | null;
+  readonly partNumber: string | null;
+  readonly trips: number;
+}
+
+/** What the next sample's checks compare with. */
+function remember(st: SocketState, sample: SocketSample): undefined {
+  st.lastI = sample.biasOn ? sample.iA : null;
+  st.lastCaseC = sample.caseC;
+  st.lastBiasOn = sample.biasOn;
+  return undefined;
+}
+
 interface RigState {
   rigCode: string;
   lastClockS: number | null;
@@ -221,7 +237,6 @@ export class ProtectionMonitor {
       if (typeof rigId === 'string') this.runs.delete(rigId);
       else this.runs.clear();
     };
-    on('run', invalidate);
     on(RUN_EVENT, (e: RunEvent) => {
       invalidate(e);
       if (e?.type === 'state-changed' && e.rigId) {
@@ -409,16 +424,31 @@ export class ProtectionMonitor {
     const run = await this.runFor(m.rigId);
     const baselineTjC = this.peerBaseline(m, run);
     for (const reading of m.sockets) {
-      await this.onSocket(m, rig, run, reading, baselineTjC);
+      // Most sockets are judged without waiting on anything: only an alarm to raise or clear, or a
+      // bias/leakage check that writes, hands back a promise.
+      const pending = this.onSocket(m, rig, run, reading, baselineTjC);
+      if (pending) await pending;
     }
     await this.checkAmbient(m, rig, run);
   }
 
-  private deviceFor(run: RunContext | null, i: number): { device: ProtectionDevice; serial: string | null; partNumber: string | null; trips: number } | null {
+  /** The plan's device for a socket missing from a run's socket map, one object per run context. */
+  private readonly planDevices = new WeakMap<RunContext, DeviceInfo>();
+  private defaultDeviceInfo: DeviceInfo | null = null;
+
+  /** The device in a socket (no allocation: this runs for every socket of every message). */
+  private deviceFor(run: RunContext | null, i: number): DeviceInfo | null {
     const s = run?.sockets.get(i);
-    if (s) return { device: s.device, serial: s.serial, partNumber: s.partNumber, trips: s.trips };
-    if (run) return { device: run.planDevice, serial: null, partNumber: run.planPartNumber, trips: 0 };
-    if (this.opts.defaultDevice) return { device: this.opts.defaultDevice, serial: null, partNumber: null, trips: 0 };
+    if (s) return s;
+    if (run) {
+      let d = this.planDevices.get(run);
+      if (!d) this.planDevices.set(run, (d = { device: run.planDevice, serial: null, partNumber: run.planPartNumber, trips: 0 }));
+      return d;
+    }
+    if (this.opts.defaultDevice) {
+      if (this.defaultDeviceInfo?.device !== this.opts.defaultDevice) this.defaultDeviceInfo = { device: this.opts.defaultDevice, serial: null, partNumber: null, trips: 0 };
+      return this.defaultDeviceInfo;
+    }
     return null;
   }
 
@@ -441,7 +471,13 @@ export class ProtectionMonitor {
     return tjs.length % 2 ? tjs[mid] : (tjs[mid - 1] + tjs[mid]) / 2;
   }
 
-  private async onSocket(m: TelemetryLanded, rig: RigState, run: RunContext | null, reading: SocketReading, baselineTjC?: number): Promise<void> {
+  /**
+   * One socket of one message. It hands back a promise only when it has to wait — an alarm to raise
+   * or clear, a bias or leakage check that writes — and otherwise finishes at once: a promise and a
+   * microtask for each of thousands of sockets per second was a good part of the ingest's CPU. The
+   * steps and their order are the same either way.
+   */
+  private onSocket(m: TelemetryLanded, rig: RigState, run: RunContext | null, reading: SocketReading, baselineTjC?: number): Promise<void> | undefined {
     const st = this.socketState(rig, reading.i);
     const sample: SocketSample = {
       tS: m.stressClockS,
@@ -458,16 +494,29 @@ export class ProtectionMonitor {
       st.trend.reset();
       st.calm = 0;
       st.lastBiasOn = false;
-      if (this.isActive('runaway-warning', m.rigId, reading.i)) await this.clear('runaway-warning', m.rigId, reading.i, { reason: 'socket tripped' });
-      return;
+      if (this.isActive('runaway-warning', m.rigId, reading.i)) return this.clear('runaway-warning', m.rigId, reading.i, { reason: 'socket tripped' });
+      return undefined;
     }
     if (st.sawTripped) {
       // The latch was reset: the trip's condition is over (the alarm stays until acknowledged).
       st.sawTripped = false;
       st.tripCmdId = null;
       st.tripDelivery = null;
-      await this.clear('runaway-trip', m.rigId, reading.i, { reason: 'trip latch reset' });
+      return this.clear('runaway-trip', m.rigId, reading.i, { reason: 'trip latch reset' }).then(() => this.judgeSocket(m, rig, run, reading, st, sample, baselineTjC));
     }
+    return this.judgeSocket(m, rig, run, reading, st, sample, baselineTjC);
+  }
+
+  /** The runaway assessment of an untripped socket, then its bias and leakage checks. */
+  private judgeSocket(
+    m: TelemetryLanded,
+    rig: RigState,
+    run: RunContext | null,
+    reading: SocketReading,
+    st: SocketState,
+    sample: SocketSample,
+    baselineTjC: number | undefined,
+  ): Promise<void> | undefined {
     if (st.tripCmdId && st.tripDelivery === 'failed' && sample.biasOn) {
       // Still energised and the command never got through: try again with the same cmdId.
       this.track(this.resendTrip(m, run, reading.i, st));
@@ -475,6 +524,7 @@ export class ProtectionMonitor {
 
     const dev = this.deviceFor(run, reading.i);
     st.trend.push(sample, dev?.device.thetaJcCPerW ?? 0);
+    let alarm: Promise<void> | undefined;
     if (dev && sample.biasOn && !st.tripCmdId) {
       this.stats.assessments++;
       const a = assessTrend(st.trend, dev.device, this.protectionOpts, baselineTjC);
@@ -486,7 +536,7 @@ export class ProtectionMonitor {
       }
       if (a.action === 'warn' && st.warnStreak >= this.opts.warnAfterSamples) {
         this.stats.warnings++;
-        await this.raise({
+        alarm = this.raise({
           kind: 'runaway-warning',
           severity: 'warning',
           rigId: m.rigId,
@@ -501,20 +551,23 @@ export class ProtectionMonitor {
         st.warnStreak = 0;
         st.calm++;
         if (st.calm >= this.opts.warnClearSamples && this.isActive('runaway-warning', m.rigId, reading.i)) {
-          await this.clear('runaway-warning', m.rigId, reading.i, { reason: a.reason });
+          alarm = this.clear('runaway-warning', m.rigId, reading.i, { reason: a.reason });
         }
       }
     }
+    return alarm ? alarm.then(() => this.checkRunSocket(m, run, reading, st, sample)) : this.checkRunSocket(m, run, reading, st, sample);
+  }
 
-    if (run && !st.tripCmdId) {
-      const bias = this.checkBias(m, run, reading, st, sample);
-      if (bias) await bias;
-      const leak = this.checkLeakage(m, run, reading, st, sample);
-      if (leak) await leak;
-    }
-    st.lastI = sample.biasOn ? sample.iA : null;
-    st.lastCaseC = sample.caseC;
-    st.lastBiasOn = sample.biasOn;
+  /** Bias, then leakage (each may write), then remember this sample for the next one. */
+  private checkRunSocket(m: TelemetryLanded, run: RunContext | null, reading: SocketReading, st: SocketState, sample: SocketSample): Promise<void> | undefined {
+    if (!run || st.tripCmdId) return remember(st, sample);
+    const bias = this.checkBias(m, run, reading, st, sample);
+    return bias ? bias.then(() => this.checkLeakageThenRemember(m, run, reading, st, sample)) : this.checkLeakageThenRemember(m, run, reading, st, sample);
+  }
+
+  private checkLeakageThenRemember(m: TelemetryLanded, run: RunContext, reading: SocketReading, st: SocketState, sample: SocketSample): Promise<void> | undefined {
+    const leak = this.checkLeakage(m, run, reading, st, sample);
+    return leak ? leak.then(() => remember(st, sample)) : remember(st, sample);
   }
 
   // -------------------------------------------------------------------------------------------

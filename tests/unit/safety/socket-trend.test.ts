@@ -131,6 +131,7 @@ describe('SocketTrend (incremental) equals batch least squares (jStat OLS, simpl
     expect(trend.lastTjC).toBe(95);
     expect(trend.quadraticFit()).toBeNull();
     trend.reset();
-    expect(trend.last).toBeNull();
+    expect(trend.hasLast).toBe(false);
+    expect(Number.isNaN(trend.lastChamberC)).toBe(true);
   });
 });
