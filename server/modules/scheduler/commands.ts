@@ -27,8 +27,18 @@ export const backoffMs = (attempts: number) => Math.min(60_000, 1000 * 2 ** atte
 /** Report a failing command after this many attempts (and every 10 after). */
 export const REPORT_AFTER_ATTEMPTS = 3;
 
+/** The newest command of one type sent to one rig, kept after the command stops being wanted. */
+interface Newest {
+  cmdId: string;
+  status: Entry['status'];
+  /** RigLink.seqSeen when the ack arrived (null: the link cannot tell). */
+  seqAtAck: number | null;
+}
+
 export class CommandTracker {
   private readonly entries = new Map<string, Entry>();
+  /** `${rigCode}|${type}` → the newest command of that type (see reportReflects). */
+  private readonly newest = new Map<string, Newest>();
   private readonly inflight = new Set<Promise<unknown>>();
 
   constructor(
@@ -54,6 +64,9 @@ export class CommandTracker {
     const attempts = (e?.attempts ?? 0) + 1;
     const entry: Entry = { status: 'inflight', attempts, lastAt: this.now() };
     this.entries.set(cmdId, entry);
+    const newestKey = `${rigCode}|${cmd.type}`;
+    const newest: Newest = { cmdId, status: 'inflight', seqAtAck: null };
+    this.newest.set(newestKey, newest);
     const link = this.link();
     const p: Promise<CommandAck> = link ? link.send(rigCode, cmd, { cmdId }) : Promise.reject(new Error('no rig link (MQTT not started)'));
     const done = p.then(
@@ -61,8 +74,12 @@ export class CommandTracker {
         if (ack && ack.ok === false) throw new Error(ack.error ?? 'the rig refused the command');
         entry.status = 'ok';
         entry.lastAt = this.now();
+        // Read in the ack's own turn of the event loop: no telemetry can have arrived since it.
+        newest.seqAtAck = link?.seqSeen?.(rigCode) ?? null;
+        newest.status = 'ok';
       },
     ).catch((err: unknown) => {
+      newest.status = 'failed';
       entry.status = 'failed';
       entry.lastAt = this.now();
       entry.error = err instanceof Error ? err.message : String(err);
@@ -78,6 +95,22 @@ export class CommandTracker {
   /** Resolves when every command sent so far has its answer (tests, shutdown). */
   async settled(): Promise<void> {
     while (this.inflight.size) await Promise.allSettled([...this.inflight]);
+  }
+
+  /**
+   * May the rig's report with this seq be taken as its state for commands of `type`? Not while
+   * another command of that type (a set point for a set point, bias for bias) is in flight to the
+   * rig, nor when that command's ack came after the report: the report predates it. Without this a
+   * read-hold's cool-down still in flight, or applied but not yet reported, made the resumed run's
+   * heat look done, and the rig got bias before its set point (tests/unit/command-tracker.test.ts).
+   * After a restart nothing is known and the report is taken as it is.
+   */
+  reportReflects(rigCode: string, type: RigCommandBody['type'], cmdId: string, reportSeq: number | null): boolean {
+    const n = this.newest.get(`${rigCode}|${type}`);
+    if (!n || n.cmdId === cmdId) return true;
+    if (n.status === 'inflight') return false;
+    if (n.status === 'ok' && n.seqAtAck !== null) return reportSeq !== null && reportSeq > n.seqAtAck;
+    return true;
   }
 
   /** Drop memory of commands that are no longer wanted (keeps the map small). */

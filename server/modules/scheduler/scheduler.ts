@@ -10,7 +10,8 @@
  *   cooling   — → finished once bias is off and the chamber is at or below 40 °C (or the oven
  *               stays hot for another run).
  * Before any command it compares the rig's last stored report with what it wants, so a restarted
- * server sends nothing the rig already did. It also re-plans booked runs when a rig goes offline
+ * server sends nothing the rig already did — but a report older than a command of the same kind
+ * still on its way (or acked after the report) does not count (CommandTracker.reportReflects). It also re-plans booked runs when a rig goes offline
  * or a running run overruns its booked end.
  */
 import cron, { type ScheduledTask } from 'node-cron';
@@ -48,7 +49,8 @@ export interface SchedulerOptions {
 
 const b36 = (d: Date | null | undefined) => (d ? d.getTime().toString(36) : '0');
 
-type Want = { cmdId: string; cmd: RigCommandBody; satisfied: boolean };
+/** A command the run's state wants; `satisfied` = the rig's latest report (seq `reportSeq`) shows it done. */
+type Want = { cmdId: string; cmd: RigCommandBody; satisfied: boolean; reportSeq?: number | null };
 
 export class RunScheduler {
   readonly commands: CommandTracker;
@@ -186,7 +188,11 @@ export class RunScheduler {
     const rig = await this.ctx.ds.getRepository(RigEntity).findOneByOrFail({ id: run.rigId });
     if (run.state === 'heating') await this.checkAmbient(run, plan, rig);
     const wants = await this.wants(run, plan, rig);
-    for (const w of wants) this.commands.ensure(rig.code, w.cmdId, w.cmd, w.satisfied);
+    for (const w of wants) {
+      // "Satisfied" read from a report that predates a command still on its way is not satisfied.
+      const satisfied = w.satisfied && this.commands.reportReflects(rig.code, w.cmd.type, w.cmdId, w.reportSeq ?? null);
+      this.commands.ensure(rig.code, w.cmdId, w.cmd, satisfied);
+    }
     return wants.map((w) => w.cmdId);
   }
 
@@ -270,6 +276,7 @@ export class RunScheduler {
       default:
         break;
     }
+    for (const w of out) w.reportSeq = latest?.seq ?? null;
     return out;
   }
 

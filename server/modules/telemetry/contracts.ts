@@ -48,6 +48,12 @@ export interface RigLink {
    * Optional so simple fakes need not implement it.
    */
   revoke?(rigCode: string): Promise<boolean>;
+  /**
+   * The highest telemetry seq this server has received from the rig so far (stored or not yet),
+   * null before any. Read when an ack arrives: the rig sends telemetry and acks over one connection,
+   * so a report with a higher seq was taken after the rig applied the command. Optional for fakes.
+   */
+  seqSeen?(rigCode: string): number | null;
 }
 
 export const RIG_LINK = 'rigLink';

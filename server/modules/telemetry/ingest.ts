@@ -93,6 +93,8 @@ export class TelemetryIngest {
   /** `${rigCode}|${seq}` of telemetry in the buffer (re-sends merge into it). */
   private keys = new Set<string>();
   private telemetryCount = 0;
+  /** Highest valid telemetry seq received per rig code (RigLink.seqSeen). */
+  private readonly seqSeenByRig = new Map<string, number>();
   private rejectCount = 0;
   private timer: ReturnType<typeof setTimeout> | null = null;
   private flushing: Promise<void> | null = null;
@@ -149,6 +151,11 @@ export class TelemetryIngest {
     return this.deps.now ? this.deps.now() : new Date();
   }
 
+  /** The highest valid telemetry seq received from the rig since this process started, or null. */
+  seqSeen(rigCode: string): number | null {
+    return this.seqSeenByRig.get(rigCode) ?? null;
+  }
+
   stats(): IngestLiveStats {
     return {
       buffered: this.telemetryCount,
@@ -184,6 +191,8 @@ export class TelemetryIngest {
     const tel = parseTelemetry(payload);
     if (!tel.ok) return this.reject(topic, rigCode, `telemetry: ${tel.reason}`, payload, receivedAt);
     if (tel.data.rig !== rigCode) return this.reject(topic, rigCode, mismatch(kind, tel.data.rig, rigCode), payload, receivedAt);
+    const seen = this.seqSeenByRig.get(rigCode);
+    if (seen === undefined || tel.data.seq > seen) this.seqSeenByRig.set(rigCode, tel.data.seq);
     const key = `${rigCode}|${tel.data.seq}`;
     if (this.keys.has(key)) {
       this.live.merged++; // a re-send of a message still waiting here

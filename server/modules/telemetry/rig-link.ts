@@ -18,6 +18,8 @@ export interface MqttRigLinkOptions {
   clientId?: string;
   /** Every message from the subscriptions (telemetry, status, command-acks). */
   onMessage: (topic: string, payload: Buffer) => void;
+  /** RigLink.seqSeen, answered by the ingest. */
+  seqSeen?: (rigCode: string) => number | null;
   log?: (line: string) => void;
   minBackoffMs?: number;
   maxBackoffMs?: number;
@@ -131,6 +133,10 @@ export class MqttRigLink implements RigLink {
 
   pendingCount(): number {
     return this.pending.size;
+  }
+
+  seqSeen(rigCode: string): number | null {
+    return this.opts.seqSeen?.(rigCode) ?? null;
   }
 
   send(rigCode: string, command: RigCommandBody, opts: { cmdId?: string; timeoutMs?: number } = {}): Promise<CommandAck> {

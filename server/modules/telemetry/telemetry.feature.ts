@@ -47,6 +47,7 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
     password: mqttCfg.password,
     clientId: opts.clientId,
     onMessage: (topic, payload) => ingest.handleMessage(topic, payload),
+    seqSeen: (rigCode) => ingest.seqSeen(rigCode),
     log: opts.log ? (l) => opts.log!(`[mqtt] ${l}`) : undefined,
   });
   ctx.services[RIG_LINK] = link;
