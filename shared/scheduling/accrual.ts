@@ -118,6 +118,18 @@ export function accrueInterval(
   return { dtS, runS: runCounts ? dtS : 0, socketS, chamberHeld, reboot: false, gap: false, newlyTripped };
 }
 
+/**
+ * Stress hours are sums of float intervals (0.1 h ten times is 0.9999999999999999 h), so a target
+ * counts as reached within this much: 1e-9 h = 3.6 µs, far below any sample interval. Without it a
+ * run reaching its read point or its end exactly on a sample stopped one sample late.
+ */
+export const HOURS_EPS = 1e-9;
+
+/** Has `hours` reached `targetH` (within HOURS_EPS)? */
+export function reachedH(hours: number, targetH: number): boolean {
+  return hours >= targetH - HOURS_EPS;
+}
+
 export interface SeriesAccrual {
   runH: number;
   socketH: Record<number, number>;

@@ -3,8 +3,10 @@
  * heuristic on small cases with known optimal answers, and the stress-hour accrual rule.
  */
 import {
+  HOURS_EPS,
   accrueInterval,
   accrueSeries,
+  reachedH,
   chamberBand,
   chamberWithinBand,
   earliestSlot,
@@ -189,6 +191,22 @@ describe('LPT list scheduling', () => {
 });
 
 describe('hour accrual', () => {
+  // [IEEE 754 double arithmetic; the 0.1 example is the classic one, e.g. Goldberg 1991, "What every
+  // computer scientist should know about floating-point arithmetic"] ten 0.1 h intervals sum to
+  // 0.9999999999999999 h, not 1: a read point at 1 h must count as reached on that sample.
+  it('a target reached by a float sum of intervals counts on that sample, not the next', () => {
+    let h = 0;
+    for (let k = 0; k < 10; k++) h += 360 / 3600;
+    expect(h).toBe(0.9999999999999999);
+    expect(h >= 1).toBe(false); // what the run engine compared before: one sample late
+    expect(reachedH(h, 1)).toBe(true);
+    let h12 = 0;
+    for (let k = 0; k < 60; k++) h12 += 720 / 3600; // 0.2 h samples up to a 12 h end
+    expect(reachedH(h12, 12)).toBe(true);
+    expect(reachedH(12 - 1e-6, 12)).toBe(false); // 3.6 ms short is short
+    expect(reachedH(12 - HOURS_EPS / 2, 12)).toBe(true);
+  });
+
   // [pub: MIL-STD-750 general requirements §4.5] chamber within ±3 % of set; set 125 °C → 121.25–128.75 °C.
   it('±3 % band: set 125 °C → 121.25–128.75 °C counts [pub: MIL-STD-750 general requirements §4.5]', () => {
     expect(chamberBand(125)).toEqual({ lowC: 121.25, highC: 128.75 });

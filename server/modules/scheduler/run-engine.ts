@@ -13,6 +13,7 @@ import {
   accrueInterval,
   chamberBand,
   HUMIDITY_TOLERANCE_RH,
+  reachedH,
   type ClockSample,
 } from '../../../shared/scheduling';
 import { RUN_STATE_LABEL, type RunState } from '../../../shared/schemas/runs';
@@ -159,14 +160,14 @@ export async function accrueStep(m: EntityManager, deps: EngineDeps, run: RunEnt
     lastSeq = b.seq;
     lastClock = b.clockS;
     processed++;
-    if (hours >= plan.durationH) {
+    if (reachedH(hours, plan.durationH)) {
       outcome = 'cooling';
       break;
     }
     let idx = run.nextReadPoint;
     while (idx < rps.length && rps[idx] <= 0) idx++;
-    if (idx < rps.length && rps[idx] < plan.durationH && hours >= rps[idx]) {
-      while (idx + 1 < rps.length && rps[idx + 1] < plan.durationH && hours >= rps[idx + 1]) idx++;
+    if (idx < rps.length && rps[idx] < plan.durationH && reachedH(hours, rps[idx])) {
+      while (idx + 1 < rps.length && rps[idx + 1] < plan.durationH && reachedH(hours, rps[idx + 1])) idx++;
       outcome = 'read-hold';
       holdIndex = idx;
       break;
