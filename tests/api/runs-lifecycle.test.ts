@@ -7,7 +7,8 @@
  * Stress clock: 900 s per sample (0.25 h).
  */
 import type { CommandAck } from '../../shared/mqtt';
-import { AuditLogEntity, RigEntity, RunEntity, RunSocketEntity } from '../../server/db/entities';
+import { AlarmEntity, AuditLogEntity, RigEntity, RunEntity, RunSocketEntity } from '../../server/db/entities';
+import { handleRunEvent } from '../../server/modules/alarms/run-event-alarms';
 import { RUN_EVENT, type RunEvent } from '../../server/modules/runs/run-events';
 import { RunScheduler } from '../../server/modules/scheduler/scheduler';
 import type { RigCommandBody, RigLink } from '../../server/modules/telemetry/contracts';
@@ -106,7 +107,7 @@ beforeAll(async () => {
   expect(loaded.body.readyToStart).toBe(true);
   const started = await op.post(`/api/runs/${runId}/start`).send({ rowVersion: loaded.body.run.rowVersion });
   expect(started.body.state).toBe('heating');
-  scheduler = new RunScheduler(t.ctx, { rigLink: () => fake, cronExpression: null, listen: false, ambientCheckEveryMs: 0, log: () => undefined });
+  scheduler = new RunScheduler(t.ctx, { rigLink: () => fake, cronExpression: null, listen: false, ambientCheckEveryMs: 0, overdueCheckEveryMs: 0, log: () => undefined });
 });
 afterAll(async () => {
   await scheduler?.stop();
@@ -158,6 +159,41 @@ describe('a run from heating to finished, driven by the scheduler', () => {
     expect(Date.parse(d.measureBy) - Date.parse(d.biasRemovedAt)).toBe(96 * 3_600_000);
   });
 
+  // [pub: JESD22-A108, as cited in server/modules/runs/run-events.ts — wording not checked] electrical
+  // tests within 96 h of removing bias. 95 h after: nothing; 97 h after: one event, one audit row,
+  // one alarm; later passes repeat nothing; leaving the hold clears the alarm.
+  it('a read point still unmeasured 96 h after bias came off: one overdue event and alarm, cleared when the hold ends', async () => {
+    const r = await run();
+    const off = r.biasRemovedAt!.getTime();
+    const realNow = t.ctx.now;
+    const overdue = () => events.filter((e) => e.type === 'read-point-overdue');
+    try {
+      t.ctx.now = () => new Date(off + 95 * 3_600_000);
+      await step(scheduler);
+      expect(overdue()).toHaveLength(0);
+      t.ctx.now = () => new Date(off + 97 * 3_600_000);
+      await step(scheduler);
+      await step(scheduler);
+      expect(overdue()).toEqual([
+        expect.objectContaining({ runId, rigCode: 'OV-01', readPointH: 4, final: false, biasRemovedAt: r.biasRemovedAt!.toISOString(), measureBy: new Date(off + 96 * 3_600_000).toISOString(), overdueH: 1 }),
+      ]);
+      expect(await t.ctx.ds.getRepository(AuditLogEntity).countBy({ entityId: runId, action: 'run.read-point-overdue' })).toBe(1);
+      // A scheduler started afresh (a restart) does not report the same hold again. (No rig link: the
+      // fake rig's command log is the later tests' evidence.)
+      const again = new RunScheduler(t.ctx, { rigLink: () => undefined, cronExpression: null, listen: false, ambientCheckEveryMs: 0, overdueCheckEveryMs: 0, log: () => undefined });
+      await step(again);
+      await again.stop();
+      expect(overdue()).toHaveLength(1);
+    } finally {
+      t.ctx.now = realNow;
+    }
+    await handleRunEvent(t.ctx, overdue()[0]);
+    const alarm = await t.ctx.ds.getRepository(AlarmEntity).findOneByOrFail({ kind: 'read-point-overdue', runId });
+    expect(alarm).toMatchObject({ severity: 'warning', rigId, title: expect.stringContaining('read point 4.0 h not measured within 96 h'), clearedAt: null });
+    await handleRunEvent(t.ctx, { type: 'state-changed', runId, runCode: r.code, rigId, rigCode: 'OV-01', at: new Date().toISOString(), from: 'read-hold', to: 'heating', actor: 'operator', reason: null });
+    expect((await t.ctx.ds.getRepository(AlarmEntity).findOneByOrFail({ id: alarm.id })).clearedAt).not.toBeNull();
+  });
+
   it('nothing accrues during the hold; measurements done → heating again with a new set-point command', async () => {
     await land([60, 40]);
     await step(scheduler);
@@ -194,7 +230,7 @@ describe('a run from heating to finished, driven by the scheduler', () => {
 
     const sent = fake.sends.length;
     await scheduler.stop();
-    scheduler = new RunScheduler(t.ctx, { rigLink: () => fake, cronExpression: null, listen: false, ambientCheckEveryMs: 0, log: () => undefined });
+    scheduler = new RunScheduler(t.ctx, { rigLink: () => fake, cronExpression: null, listen: false, ambientCheckEveryMs: 0, overdueCheckEveryMs: 0, log: () => undefined });
     await step(scheduler);
     expect(fake.sends.length).toBe(sent); // the rig already reports set point and bias: nothing to repeat
     expect((await run()).stressHours).toBe(5.75);
@@ -231,6 +267,7 @@ describe('a run from heating to finished, driven by the scheduler', () => {
       'operator@test.example:run.start',
       'system:run.ambient-reached',
       'system:run.read-point',
+      'system:run.read-point-overdue',
       'operator@test.example:run.measurements-done',
       'system:run.ambient-overdue',
       'system:run.ambient-reached',

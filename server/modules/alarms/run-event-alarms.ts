@@ -3,6 +3,7 @@
  * - ambient-not-reached → warning alarm (cleared when the run reaches stressing or ends);
  * - command-failed → critical alarm (cleared on the run's next state change);
  * - read-point-due → in-app notice + e-mail to people with read-point notices on (no alarm);
+ * - read-point-overdue → warning alarm (cleared when a held run moves on);
  * - state-changed → clears the alarms the new state makes moot.
  */
 import type { AppContext } from '../../context';
@@ -66,7 +67,26 @@ export async function handleRunEvent(ctx: AppContext, e: RunEvent): Promise<void
       });
       return;
     }
+    case 'read-point-overdue': {
+      const which = e.final ? `final read point (${f1(e.readPointH)} h)` : `read point ${f1(e.readPointH)} h`;
+      await alarms.raise({
+        kind: 'read-point-overdue',
+        severity: 'warning',
+        rigId: e.rigId,
+        runId: e.runId,
+        socketIndex: null,
+        title: `Run ${e.runCode}: ${which} not measured within 96 h`,
+        message:
+          `Bias came off${where} at ${when(e.biasRemovedAt)}; the devices were to be measured by ${when(e.measureBy)} ` +
+          `and no measurements for this read point have been uploaded (${f1(e.overdueH)} h late).`,
+        action:
+          'Measure and upload now, and record the delay in the run: the test standard (JESD22-A108) expects electrical tests within 96 h of removing bias, and parametric drift may relax with the time off stress.',
+        details: { readPointH: e.readPointH, final: e.final, biasRemovedAt: e.biasRemovedAt, measureBy: e.measureBy, overdueH: e.overdueH },
+      });
+      return;
+    }
     case 'state-changed': {
+      if (e.from === 'read-hold') await alarms.clear('read-point-overdue', e.rigId, null, { runState: e.to });
       if (e.to === 'stressing' || e.to === 'finished' || e.to === 'aborted') {
         await alarms.clear('ambient-not-reached', e.rigId, null, { runState: e.to });
       }

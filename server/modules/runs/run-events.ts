@@ -19,6 +19,10 @@
  *      (biasRemovedAt + 96 h). `final` = the end of stress (the run cools and finishes).
  *      → notify the people who asked for read-point notices.
  *
+ *  { type: 'read-point-overdue', readPointH, final, biasRemovedAt, measureBy, overdueH }
+ *      A read point still has no measurements MEASURE_WITHIN_H after bias came off (the run holds
+ *      in read-hold, or the final read point of a cooling/finished run). Once per hold. → alarm.
+ *
  *  { type: 'command-failed', cmdId, command: 'setpoint' | 'bias', attempts, error }
  *      A rig command needed by the run failed (no ack / ok:false) several times in a row. → alarm.
  */
@@ -67,6 +71,16 @@ export interface ReadPointDueEvent extends Base {
   final: boolean;
 }
 
+export interface ReadPointOverdueEvent extends Base {
+  type: 'read-point-overdue';
+  readPointH: number;
+  final: boolean;
+  biasRemovedAt: string;
+  measureBy: string;
+  /** Hours past measureBy when noticed. */
+  overdueH: number;
+}
+
 export interface CommandFailedEvent extends Base {
   type: 'command-failed';
   cmdId: string;
@@ -75,7 +89,7 @@ export interface CommandFailedEvent extends Base {
   error: string;
 }
 
-export type RunEvent = StateChangedEvent | AmbientNotReachedEvent | ReadPointDueEvent | CommandFailedEvent;
+export type RunEvent = StateChangedEvent | AmbientNotReachedEvent | ReadPointDueEvent | ReadPointOverdueEvent | CommandFailedEvent;
 
 type Omit2<T> = T extends unknown ? Omit<T, 'at'> & { at?: string } : never;
 

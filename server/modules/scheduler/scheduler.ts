@@ -20,7 +20,8 @@ import { chamberBand, planBiasV, planSchedule, socketBiased, accrualConditionsFo
 import { DRIVEN_STATES, HEAT_STATES, type RunState } from '../../../shared/schemas/runs';
 import type { AppContext } from '../../context';
 import { AuditLogEntity, RigEntity, RunEntity, RunSocketEntity, StressPlanEntity } from '../../db/entities';
-import { emitRunEvent } from '../runs/run-events';
+import { MEASURE_WITHIN_H, emitRunEvent } from '../runs/run-events';
+import { sortedReadPoints } from '../runs/run-view';
 import { loadSchedulingInputs, projectedWindow, timingFrom } from '../runs/scheduling-data';
 import { RIG_LINK, RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigCommandBody, type RigLink, type RigStatusChanged } from '../telemetry/contracts';
 import { CommandTracker } from './commands';
@@ -44,6 +45,8 @@ export interface SchedulerOptions {
   minPassGapMs?: number;
   /** Minimum ms between two exact "ambient reached yet?" clock sums for one heating phase (default 2000). */
   ambientCheckEveryMs?: number;
+  /** How often to look for read points unmeasured MEASURE_WITHIN_H after bias came off (default 60 s; 0 = every pass). */
+  overdueCheckEveryMs?: number;
   log?: (line: string) => void;
 }
 
@@ -61,6 +64,9 @@ export class RunScheduler {
   private stopped = false;
   private readonly offListeners: Array<() => void> = [];
   private readonly ambientCheckedAt = new Map<string, number>();
+  /** `${runId}:${biasRemovedAt}` holds already measured or already reported overdue. */
+  private readonly overdueSettled = new Set<string>();
+  private lastOverdueCheckAt = -Infinity;
   private lastReplanAt = 0;
   private replanWanted: string | null = null;
   private readonly log: (line: string) => void;
@@ -161,6 +167,68 @@ export class RunScheduler {
     }
     this.commands.forgetExcept(wanted);
     await this.maybeReplan(runs);
+    try {
+      await this.checkReadPointsOverdue();
+    } catch (e) {
+      this.log(`read-point check failed: ${e instanceof Error ? e.message : String(e)}`);
+    }
+  }
+
+  /**
+   * 'read-point-overdue' once per hold: a read point with no measurements MEASURE_WITHIN_H after
+   * bias came off — a run still in read-hold, or the final read point of a cooling or finished run.
+   */
+  private async checkReadPointsOverdue(): Promise<void> {
+    const now = this.ctx.now();
+    if (now.getTime() - this.lastOverdueCheckAt < (this.opts.overdueCheckEveryMs ?? 60_000)) return;
+    this.lastOverdueCheckAt = now.getTime();
+    const limitMs = MEASURE_WITHIN_H * 3_600_000;
+    const rows: Array<{ id: string; code: string; state: RunState; bias_removed_at: Date; next_read_point: number; rig_id: string | null; rig_code: string | null; read_points_h: number[]; duration_h: number }> =
+      await this.ctx.ds.query(
+        `SELECT r.id, r.code, r.state, r.bias_removed_at, r.next_read_point, r.rig_id, g.code AS rig_code, p.read_points_h, p.duration_h
+         FROM runs r JOIN stress_plans p ON p.id = r.plan_id LEFT JOIN rigs g ON g.id = r.rig_id
+         WHERE r.state IN ('read-hold', 'cooling', 'finished') AND r.bias_removed_at IS NOT NULL AND r.bias_removed_at < $1`,
+        [new Date(now.getTime() - limitMs)],
+      );
+    for (const r of rows) {
+      const biasIso = new Date(r.bias_removed_at).toISOString();
+      const key = `${r.id}:${biasIso}`;
+      if (this.overdueSettled.has(key)) continue;
+      const rps = sortedReadPoints({ readPointsH: r.read_points_h });
+      const final = r.state !== 'read-hold';
+      const readPointH = final ? rps.find((h) => h >= r.duration_h) ?? r.duration_h : rps[r.next_read_point - 1];
+      if (readPointH === undefined) continue;
+      const measured = await this.ctx.ds.query(`SELECT 1 FROM measurements WHERE run_id = $1 AND abs(read_point_h - $2) < 1e-6 LIMIT 1`, [r.id, readPointH]);
+      if (measured.length) {
+        this.overdueSettled.add(key);
+        continue;
+      }
+      const reported = await this.ctx.ds.getRepository(AuditLogEntity).findOne({ where: { entity: 'run', entityId: r.id, action: 'run.read-point-overdue' }, order: { id: 'DESC' } });
+      this.overdueSettled.add(key);
+      if (reported?.details?.biasRemovedAt === biasIso) continue;
+      const measureBy = new Date(new Date(r.bias_removed_at).getTime() + limitMs);
+      const overdueH = (now.getTime() - measureBy.getTime()) / 3_600_000;
+      await this.ctx.audit.record({
+        actor: 'system',
+        action: 'run.read-point-overdue',
+        entity: 'run',
+        entityId: r.id,
+        reason: `No measurements for the ${final ? 'final ' : ''}read point at ${readPointH} h within ${MEASURE_WITHIN_H} h of removing bias.`,
+        details: { biasRemovedAt: biasIso, readPointH, final, measureBy: measureBy.toISOString() },
+      });
+      emitRunEvent(this.ctx, {
+        type: 'read-point-overdue',
+        runId: r.id,
+        runCode: r.code,
+        rigId: r.rig_id,
+        rigCode: r.rig_code,
+        readPointH,
+        final,
+        biasRemovedAt: biasIso,
+        measureBy: measureBy.toISOString(),
+        overdueH,
+      });
+    }
   }
 
   /** Drive one run: DB steps first (locked), then the commands its (new) state wants. */
