@@ -1,16 +1,9 @@
 import { Column, CreateDateColumn, Entity, Index, PrimaryGeneratedColumn } from 'typeorm';
+import type { AlarmKindName, AlarmSeverityName } from '../../../shared/schemas/alarms';
 
-export type AlarmKind =
-  | 'runaway-trip'
-  | 'runaway-warning'
-  | 'rig-offline'
-  | 'ambient-out-of-band'
-  | 'ambient-not-reached'
-  | 'bias-out-of-tolerance'
-  | 'leakage-jump'
-  | 'ingest-dropped'
-  | 'command-failed';
-export type AlarmSeverity = 'critical' | 'warning' | 'info';
+/** The kinds and severities are defined once, in shared/schemas/alarms.ts. */
+export type AlarmKind = AlarmKindName;
+export type AlarmSeverity = AlarmSeverityName;
 
 @Entity('alarms')
 @Index(['acknowledgedAt', 'raisedAt'])
