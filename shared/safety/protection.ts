@@ -28,7 +28,7 @@
  *   catches quasi-static runaway (a chamber or socket drifting past its critical point); fast
  *   transients are caught by the time-to-limit projection and the temperature threshold.
  */
-import { SocketTrend, type TrendSample } from './socket-trend';
+import { FIT_ACCEL, FIT_ACCEL_SE, FIT_C0, FIT_LEN, FIT_SLOPE, FIT_SLOPE_SE, REG_CASE_SPAN, REG_LEN, REG_N, REG_RSS, REG_SLOPE, REG_SUM_P2, REG_SUM_RISE_P, REG_SXX, SocketTrend, type TrendSample } from './socket-trend';
 
 export { SocketTrend };
 
@@ -130,16 +130,28 @@ export function projectSecondsToLimit(gap: number, slope: number, accel: number)
   return Math.log(arg) / lambda;
 }
 
-function estimateLoopGain(trend: SocketTrend, thetaJc: number, opts: ProtectionOptions): { loopGain: number | null; thetaCa: number | null } {
-  const r = trend.caseRegression();
-  if (!(r.sumP2 > 0)) return { loopGain: null, thetaCa: null };
-  const thetaCa = r.sumRiseP / r.sumP2;
-  if (r.caseSpanC < opts.minCaseSpanC || r.n < 3 || !(r.sxx > 0)) return { loopGain: null, thetaCa };
-  const s = r.slope;
-  const se = Math.sqrt(r.rss / (r.n - 2) / r.sxx);
-  if (!(Math.abs(s) > opts.significanceZ * se)) return { loopGain: null, thetaCa };
+/** Scratch for one assessment at a time (JS is single-threaded; nothing keeps them). */
+const FIT = new Float64Array(FIT_LEN);
+const REG = new Float64Array(REG_LEN);
+/** estimateLoopGain's two results (scratch, read right after the call). */
+let lgLoopGain: number | null = null;
+let lgThetaCa: number | null = null;
+
+function estimateLoopGain(trend: SocketTrend, thetaJc: number, opts: ProtectionOptions): void {
+  trend.caseRegressionTo(REG);
+  lgLoopGain = null;
+  lgThetaCa = null;
+  if (!(REG[REG_SUM_P2] > 0)) return;
+  const thetaCa = REG[REG_SUM_RISE_P] / REG[REG_SUM_P2];
+  lgThetaCa = thetaCa;
+  const n = REG[REG_N];
+  const sxx = REG[REG_SXX];
+  if (REG[REG_CASE_SPAN] < opts.minCaseSpanC || n < 3 || !(sxx > 0)) return;
+  const s = REG[REG_SLOPE];
+  const se = Math.sqrt(REG[REG_RSS] / (n - 2) / sxx);
+  if (!(Math.abs(s) > opts.significanceZ * se)) return;
   const dPdTj = s / (1 + thetaJc * s);
-  return { loopGain: (thetaJc + Math.max(0, thetaCa)) * dPdTj, thetaCa };
+  lgLoopGain = (thetaJc + Math.max(0, thetaCa)) * dPdTj;
 }
 
 const f1 = (x: number) => (Math.round(x * 10) / 10).toFixed(1);
@@ -164,6 +176,95 @@ export function assessSocket(
   return assessTrend(trend, device, opts, opts.baselineTjC);
 }
 
+/** judgeTrend's numbers, NaN for "none" (scratch: read before the next call). */
+const J = new Float64Array(6);
+const J_TJ = 0;
+const J_LOOP_GAIN = 1;
+const J_SECONDS = 2;
+const J_SLOPE = 3;
+const J_THETA_CA = 4;
+const J_RISING = 5;
+let jText: string | null = null;
+const orNull = (x: number) => (Number.isNaN(x) ? null : x);
+
+/**
+ * assessTrend's decision without its result object: live protection calls this for every
+ * socket-sample and builds the assessment (assessTrend, same inputs, same answer) only when the
+ * action is not 'none' or a reason is needed. The trend must have at least one sample.
+ */
+export function judgeTrend(
+  trend: SocketTrend,
+  device: ProtectionDevice,
+  opts: ProtectionOptions = DEFAULT_PROTECTION_OPTIONS,
+  baselineTjC: number | undefined = opts.baselineTjC,
+): ProtectionAction {
+  if (!trend.hasLast) {
+    J.fill(NaN);
+    J[J_RISING] = 0;
+    jText = 'No samples yet';
+    return 'none';
+  }
+  const tj = trend.lastTjC;
+  const tripAt = device.tjMaxC - opts.marginC;
+
+  let slope: number | null = null;
+  let seconds: number | null = null;
+  let rising = false;
+  let loopGain: number | null = null;
+  let thetaCa: number | null = null;
+
+  if (trend.lastBiasOn && trend.count >= opts.minSamples && trend.spanS >= opts.minTrendS) {
+    if (trend.quadraticFitTo(FIT)) {
+      const fitSlope = FIT[FIT_SLOPE];
+      slope = fitSlope;
+      rising = fitSlope > opts.minRiseCPerS && fitSlope > opts.significanceZ * FIT[FIT_SLOPE_SE];
+      const accel = Math.abs(FIT[FIT_ACCEL]) > opts.significanceZ * FIT[FIT_ACCEL_SE] ? FIT[FIT_ACCEL] : 0;
+      if (rising) seconds = projectSecondsToLimit(device.tjMaxC - Math.max(FIT[FIT_C0], tj), fitSlope, accel);
+    }
+    estimateLoopGain(trend, device.thetaJcCPerW, opts);
+    loopGain = lgLoopGain;
+    thetaCa = lgThetaCa;
+  }
+
+  // No closures here: this runs for every socket-sample, and each one allocated.
+  const tjMaxC = device.tjMaxC;
+  const baseline = baselineTjC ?? trend.lastChamberC;
+  const aboveBaseline = tj - baseline >= opts.selfHeatAllowanceC;
+  let action: ProtectionAction = 'none';
+  let text: string | null = null;
+  if (tj >= tjMaxC) {
+    action = 'trip';
+    text = `${tjDescription(tj, tjMaxC)} has reached the rating`;
+  } else if (tj >= tripAt && aboveBaseline) {
+    action = 'trip';
+    text = `${tjDescription(tj, tjMaxC)} is within ${opts.marginC} °C of the rating and ${f1(tj - baseline)} °C above its peers/chamber`;
+  } else if (loopGain !== null && loopGain >= 1 && rising) {
+    action = 'trip';
+    text = `${tjDescription(tj, tjMaxC)} rising with loop gain ${loopGain.toFixed(2)} ≥ 1: thermal runaway`;
+  } else if (seconds !== null && seconds < opts.horizonS) {
+    action = 'trip';
+    text = `${tjDescription(tj, tjMaxC)} projected to reach the rating in ${Math.round(seconds)} s`;
+  } else if (tj >= tripAt - opts.warnExtraMarginC && aboveBaseline) {
+    action = 'warn';
+    text = `${tjDescription(tj, tjMaxC)} within ${opts.marginC + opts.warnExtraMarginC} °C of the rating`;
+  } else if (loopGain !== null && loopGain >= opts.warnLoopGain) {
+    action = 'warn';
+    text = `${tjDescription(tj, tjMaxC)}, loop gain ${loopGain.toFixed(2)}: strong thermal feedback`;
+  } else if (seconds !== null && seconds < opts.warnHorizonFactor * opts.horizonS) {
+    action = 'warn';
+    text = `${tjDescription(tj, tjMaxC)} projected to reach the rating in ${Math.round(seconds)} s`;
+  }
+  // The usual case: nothing to do. Its reason is text for people, built only if somebody reads it.
+  J[J_TJ] = tj;
+  J[J_LOOP_GAIN] = loopGain ?? NaN;
+  J[J_SECONDS] = seconds ?? NaN;
+  J[J_SLOPE] = slope ?? NaN;
+  J[J_THETA_CA] = thetaCa ?? NaN;
+  J[J_RISING] = rising ? 1 : 0;
+  jText = text;
+  return action;
+}
+
 /**
  * assessSocket on a socket's incremental window (what live protection keeps per socket): the
  * trend must have been pushed with this device's θjc.
@@ -175,42 +276,8 @@ export function assessTrend(
   baselineTjC: number | undefined = opts.baselineTjC,
 ): SocketAssessment {
   if (!trend.hasLast) return { tjC: null, loopGain: null, secondsToTjMax: null, slopeCPerS: null, thetaCaCPerW: null, action: 'none', reason: 'No samples yet' };
-  const tj = trend.lastTjC;
-  const tripAt = device.tjMaxC - opts.marginC;
-
-  let slope: number | null = null;
-  let seconds: number | null = null;
-  let rising = false;
-  let loopGain: number | null = null;
-  let thetaCa: number | null = null;
-
-  if (trend.lastBiasOn && trend.count >= opts.minSamples && trend.spanS >= opts.minTrendS) {
-    const fit = trend.quadraticFit();
-    if (fit) {
-      slope = fit.slope;
-      rising = fit.slope > opts.minRiseCPerS && fit.slope > opts.significanceZ * fit.slopeSe;
-      const accel = Math.abs(fit.accel) > opts.significanceZ * fit.accelSe ? fit.accel : 0;
-      if (rising) seconds = projectSecondsToLimit(device.tjMaxC - Math.max(fit.c0, tj), fit.slope, accel);
-    }
-    ({ loopGain, thetaCa } = estimateLoopGain(trend, device.thetaJcCPerW, opts));
-  }
-
-  const result = (action: ProtectionAction, text: string | null) => new Assessment(tj, loopGain, seconds, slope, thetaCa, action, text, device.tjMaxC, rising);
-  const tjText = () => tjDescription(tj, device.tjMaxC);
-
-  const baseline = baselineTjC ?? trend.lastChamberC;
-  const aboveBaseline = tj - baseline >= opts.selfHeatAllowanceC;
-  if (tj >= device.tjMaxC) return result('trip', `${tjText()} has reached the rating`);
-  if (tj >= tripAt && aboveBaseline) {
-    return result('trip', `${tjText()} is within ${opts.marginC} °C of the rating and ${f1(tj - baseline)} °C above its peers/chamber`);
-  }
-  if (loopGain !== null && loopGain >= 1 && rising) return result('trip', `${tjText()} rising with loop gain ${loopGain.toFixed(2)} ≥ 1: thermal runaway`);
-  if (seconds !== null && seconds < opts.horizonS) return result('trip', `${tjText()} projected to reach the rating in ${Math.round(seconds)} s`);
-  if (tj >= tripAt - opts.warnExtraMarginC && aboveBaseline) return result('warn', `${tjText()} within ${opts.marginC + opts.warnExtraMarginC} °C of the rating`);
-  if (loopGain !== null && loopGain >= opts.warnLoopGain) return result('warn', `${tjText()}, loop gain ${loopGain.toFixed(2)}: strong thermal feedback`);
-  if (seconds !== null && seconds < opts.warnHorizonFactor * opts.horizonS) return result('warn', `${tjText()} projected to reach the rating in ${Math.round(seconds)} s`);
-  // The usual case: nothing to do. Its reason is text for people, built only if somebody reads it.
-  return result('none', null);
+  const action = judgeTrend(trend, device, opts, baselineTjC);
+  return new Assessment(J[J_TJ], orNull(J[J_LOOP_GAIN]), orNull(J[J_SECONDS]), orNull(J[J_SLOPE]), orNull(J[J_THETA_CA]), action, jText, device.tjMaxC, J[J_RISING] === 1);
 }
 
 const tjDescription = (tj: number, tjMaxC: number) => `Tj ${f1(tj)} °C (max ${f1(tjMaxC)} °C)`;

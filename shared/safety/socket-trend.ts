@@ -53,6 +53,23 @@ export interface CaseRegression {
 }
 
 const MIN_CAPACITY = 16;
+
+/** Slots of SocketTrend.quadraticFitTo's output (the fields of QuadFit). */
+export const FIT_C0 = 0;
+export const FIT_SLOPE = 1;
+export const FIT_SLOPE_SE = 2;
+export const FIT_ACCEL = 3;
+export const FIT_ACCEL_SE = 4;
+export const FIT_LEN = 5;
+/** Slots of SocketTrend.caseRegressionTo's output (the fields of CaseRegression). */
+export const REG_N = 0;
+export const REG_SUM_P2 = 1;
+export const REG_SUM_RISE_P = 2;
+export const REG_CASE_SPAN = 3;
+export const REG_SLOPE = 4;
+export const REG_RSS = 5;
+export const REG_SXX = 6;
+export const REG_LEN = 7;
 /** Start with room for this many samples (5 × 8 bytes each): a 1 Hz window of 300 s needs no regrowth. */
 const INITIAL_CAPACITY = 512;
 
@@ -285,8 +302,19 @@ export class SocketTrend {
    * the latest sample with standard errors from σ̂²(XᵀX)⁻¹. Null below 4 samples or when singular.
    */
   quadraticFit(): QuadFit | null {
+    const o = new Float64Array(FIT_LEN);
+    if (!this.quadraticFitTo(o)) return null;
+    return { c0: o[FIT_C0], slope: o[FIT_SLOPE], slopeSe: o[FIT_SLOPE_SE], accel: o[FIT_ACCEL], accelSe: o[FIT_ACCEL_SE] };
+  }
+
+  /**
+   * quadraticFit into `out` (FIT_* slots), allocating nothing: live protection calls it for every
+   * socket-sample, and the result objects (a box per number) were most of its garbage. False when
+   * there is no fit.
+   */
+  quadraticFitTo(out: Float64Array): boolean {
     const n = this.count;
-    if (n < 4) return null;
+    if (n < 4) return false;
     const s0 = n;
     const { s1, s2, s3, s4 } = this;
     // Symmetric M = [[s0,s1,s2],[s1,s2,s3],[s2,s3,s4]]; inverse by cofactors.
@@ -294,7 +322,7 @@ export class SocketTrend {
     const b = -(s1 * s4 - s2 * s3);
     const c = s1 * s3 - s2 * s2;
     const det = s0 * a + s1 * b + s2 * c;
-    if (!(Math.abs(det) > 0)) return null;
+    if (!(Math.abs(det) > 0)) return false;
     const i00 = a / det;
     const i01 = b / det;
     const i02 = c / det;
@@ -311,24 +339,35 @@ export class SocketTrend {
     const w = this.scale;
     // slope = (a1 + 2·a2·ul)/w: variance gᵀ(XᵀX)⁻¹g·σ̂²/w² with g = (0, 1, 2·ul).
     const gVar = i11 + 4 * ul * i12 + 4 * ul * ul * i22;
-    return {
-      c0: this.y0 + a0 + a1 * ul + a2 * ul * ul,
-      slope: (a1 + 2 * a2 * ul) / w,
-      slopeSe: Math.sqrt(Math.max(0, sigma2 * gVar)) / w,
-      accel: (2 * a2) / (w * w),
-      accelSe: (2 * Math.sqrt(Math.max(0, sigma2 * i22))) / (w * w),
-    };
+    out[FIT_C0] = this.y0 + a0 + a1 * ul + a2 * ul * ul;
+    out[FIT_SLOPE] = (a1 + 2 * a2 * ul) / w;
+    out[FIT_SLOPE_SE] = Math.sqrt(Math.max(0, sigma2 * gVar)) / w;
+    out[FIT_ACCEL] = (2 * a2) / (w * w);
+    out[FIT_ACCEL_SE] = (2 * Math.sqrt(Math.max(0, sigma2 * i22))) / (w * w);
+    return true;
   }
 
   /** The sums behind the loop-gain estimate. */
   caseRegression(): CaseRegression {
+    const o = new Float64Array(REG_LEN);
+    this.caseRegressionTo(o);
+    return { n: o[REG_N], sumP2: o[REG_SUM_P2], sumRiseP: o[REG_SUM_RISE_P], caseSpanC: o[REG_CASE_SPAN], slope: o[REG_SLOPE], rss: o[REG_RSS], sxx: o[REG_SXX] };
+  }
+
+  /** caseRegression into `out` (REG_* slots), allocating nothing. */
+  caseRegressionTo(out: Float64Array): void {
     const n = this.count;
     const span = n > 0 ? this.cs[this.maxQ[this.maxHead] & (this.cap - 1)] - this.cs[this.minQ[this.minHead] & (this.cap - 1)] : 0;
     const sxx = n > 0 ? Math.max(0, this.scc - (this.sc * this.sc) / n) : 0;
     const sxy = n > 0 ? this.scp - (this.sc * this.sp) / n : 0;
     const syy = n > 0 ? Math.max(0, this.spp - (this.sp * this.sp) / n) : 0;
     const slope = sxx > 0 ? sxy / sxx : NaN;
-    const rss = sxx > 0 ? Math.max(0, syy - slope * sxy) : NaN;
-    return { n, sumP2: this.rawP2, sumRiseP: this.rawRiseP, caseSpanC: span, slope, rss, sxx };
+    out[REG_N] = n;
+    out[REG_SUM_P2] = this.rawP2;
+    out[REG_SUM_RISE_P] = this.rawRiseP;
+    out[REG_CASE_SPAN] = span;
+    out[REG_SLOPE] = slope;
+    out[REG_RSS] = sxx > 0 ? Math.max(0, syy - slope * sxy) : NaN;
+    out[REG_SXX] = sxx;
   }
 }

@@ -14,7 +14,7 @@
  * run an energised socket is judged with conservative defaults (`defaultDevice`, Tj max 150 °C,
  * θjc 2 °C/W) — set `defaultDevice: null` to skip such sockets instead.
  */
-import { DEFAULT_PROTECTION_OPTIONS, SocketTrend, assessTrend, type ProtectionDevice, type ProtectionOptions, type SocketAssessment, type SocketSample } from '../../../shared/safety/protection';
+import { DEFAULT_PROTECTION_OPTIONS, SocketTrend, assessTrend, judgeTrend, type ProtectionDevice, type ProtectionOptions, type SocketAssessment, type SocketSample } from '../../../shared/safety/protection';
 import type { SocketReading } from '../../../shared/mqtt';
 import type { AlarmKindName } from '../../../shared/schemas/alarms';
 import type { AppContext } from '../../context';
@@ -527,6 +527,17 @@ export class ProtectionMonitor {
     let alarm: Promise<void> | undefined;
     if (dev && sample.biasOn && !st.tripCmdId) {
       this.stats.assessments++;
+      // The decision first, allocating nothing; the assessment itself (same inputs, same answer)
+      // only when there is something to report.
+      if (judgeTrend(st.trend, dev.device, this.protectionOpts, baselineTjC) === 'none') {
+        st.warnStreak = 0;
+        st.calm++;
+        if (st.calm >= this.opts.warnClearSamples && this.isActive('runaway-warning', m.rigId, reading.i)) {
+          const a = assessTrend(st.trend, dev.device, this.protectionOpts, baselineTjC);
+          alarm = this.clear('runaway-warning', m.rigId, reading.i, { reason: a.reason });
+        }
+        return alarm ? alarm.then(() => this.checkRunSocket(m, run, reading, st, sample)) : this.checkRunSocket(m, run, reading, st, sample);
+      }
       const a = assessTrend(st.trend, dev.device, this.protectionOpts, baselineTjC);
       if (a.action === 'trip') {
         this.startTrip(m, rig, run, reading.i, st, sample, a, dev);
@@ -547,12 +558,6 @@ export class ProtectionMonitor {
           action: WARN_ACTION,
           details: assessmentDetails(a, dev.device, sample, dev.serial),
         });
-      } else if (a.action === 'none') {
-        st.warnStreak = 0;
-        st.calm++;
-        if (st.calm >= this.opts.warnClearSamples && this.isActive('runaway-warning', m.rigId, reading.i)) {
-          alarm = this.clear('runaway-warning', m.rigId, reading.i, { reason: a.reason });
-        }
       }
     }
     return alarm ? alarm.then(() => this.checkRunSocket(m, run, reading, st, sample)) : this.checkRunSocket(m, run, reading, st, sample);

@@ -1,6 +1,9 @@
 import { criticalAmbientFor, gainAtTemperature } from '../../../shared/physics';
 import {
+  SocketTrend,
   assessSocket,
+  assessTrend,
+  judgeTrend,
   projectSecondsToLimit,
   type SocketAssessment,
   type SocketSample,
@@ -260,3 +263,31 @@ describe('live runaway detector', () => {
     expect(trueTj[k]).toBeLessThan(140);
   });
 });
+
+describe('judgeTrend (what live protection calls per sample) decides as assessTrend does', () => {
+  test('a runaway and a sound socket judged in turn: same action every sample, no numbers carried over between them', () => {
+    const hot = simulate({ ambientC: () => 110, thetaJc: 1, thetaCa: 39, tauS: 120, vV: 10, currentAt: forcedIb(0.6e-3), biasOn: (t) => t >= 120, sampleS: 2, durationS: 2400, caseNoiseC: 0.3, currentNoise: 0.01, seed: 7 });
+    const calm = simulate({ ambientC: () => 110, thetaJc: 1, thetaCa: 20, tauS: 120, vV: 10, currentAt: () => 0.05, biasOn: (t) => t >= 120, sampleS: 2, durationS: 2400, caseNoiseC: 0.3, currentNoise: 0.01, seed: 8 });
+    const device = { tjMaxC: 150, thetaJcCPerW: 1 };
+    const a = new SocketTrend(300, 600);
+    const b = new SocketTrend(300, 600);
+    const seen = new Set<string>();
+    for (let k = 0; k < hot.samples.length; k++) {
+      a.push(hot.samples[k], device.thetaJcCPerW);
+      b.push(calm.samples[k], device.thetaJcCPerW);
+      const actionA = judgeTrend(a, device);
+      const actionB = judgeTrend(b, device);
+      const fullA = assessTrend(a, device);
+      expect(actionA).toBe(fullA.action);
+      // B's full assessment after A's: the scratch judgeTrend fills is not read across sockets.
+      const fullB = assessTrend(b, device);
+      expect(actionB).toBe(fullB.action);
+      expect(fullB.tjC).toBeCloseTo(calm.samples[k].caseC + (calm.samples[k].biasOn ? device.thetaJcCPerW * calm.samples[k].vV * calm.samples[k].iA : 0), 9);
+      seen.add(actionA);
+      if (actionA === 'trip') break;
+    }
+    // The runaway trace passes through none → warn → trip, so every branch was compared.
+    expect([...seen].sort()).toEqual(['none', 'trip', 'warn']);
+  });
+});
+
