@@ -176,7 +176,10 @@ export function assessSocket(
   return assessTrend(trend, device, opts, opts.baselineTjC);
 }
 
-/** judgeTrend's numbers, NaN for "none" (scratch: read before the next call). */
+/**
+ * judgeTrend's numbers (scratch: read before the next call); NaN where the assessment has null —
+ * none of them can be NaN otherwise (the fit needs a non-singular system, θca a positive Σ P²).
+ */
 const J = new Float64Array(6);
 const J_TJ = 0;
 const J_LOOP_GAIN = 1;
@@ -190,7 +193,7 @@ const orNull = (x: number) => (Number.isNaN(x) ? null : x);
 /**
  * assessTrend's decision without its result object: live protection calls this for every
  * socket-sample and builds the assessment (assessTrend, same inputs, same answer) only when the
- * action is not 'none' or a reason is needed. The trend must have at least one sample.
+ * action is not 'none' or a reason is needed.
  */
 export function judgeTrend(
   trend: SocketTrend,
@@ -254,7 +257,7 @@ export function judgeTrend(
     action = 'warn';
     text = `${tjDescription(tj, tjMaxC)} projected to reach the rating in ${Math.round(seconds)} s`;
   }
-  // The usual case: nothing to do. Its reason is text for people, built only if somebody reads it.
+  // With 'none' (the usual case) there is no text: Assessment builds the reason only if somebody reads it.
   J[J_TJ] = tj;
   J[J_LOOP_GAIN] = loopGain ?? NaN;
   J[J_SECONDS] = seconds ?? NaN;
