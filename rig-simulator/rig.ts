@@ -8,6 +8,7 @@ import {
   commandAckSchema,
   parseCommand,
   rigClientId,
+  telemetryColumnsText,
   topics,
   type CommandAck,
   type RigStatus,
@@ -89,6 +90,11 @@ export interface RigConfig {
   /** Last seq already used (a rig that persisted its counter); default 0. */
   seqStart?: number;
   seed?: number;
+  /**
+   * Telemetry payload form: 'columns' (version 2, the default: one array per quantity, ~40 % of
+   * the bytes) or 'objects' (version 1, one object per socket). The server takes both.
+   */
+  telemetryForm?: 'columns' | 'objects';
   faults?: RigFaults;
   log?: (line: string) => void;
 }
@@ -336,7 +342,8 @@ export function startRig(config: RigConfig): RigHandle {
       if (faults.clockJump && faults.clockJump.everySamples > 0 && stats.samples % faults.clockJump.everySamples === 0) {
         clockOffsetMs += faults.clockJump.jumpS * 1000;
       }
-      const payload = JSON.stringify(buildTelemetry(state, seq, rigNow(), { noise: faults.noise, rng }));
+      const message = buildTelemetry(state, seq, rigNow(), { noise: faults.noise, rng });
+      const payload = config.telemetryForm === 'objects' ? JSON.stringify(message) : telemetryColumnsText(message);
       outbox.add(seq, payload);
       if (connected && client) send(client, { seq, payload, lastSentMs: 0 }, false);
       if (connected && client && faults.malformedRate && rng() < faults.malformedRate) {

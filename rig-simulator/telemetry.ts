@@ -1,5 +1,5 @@
 /** Telemetry messages from a rig state (pure), including the deliberately broken ones. */
-import { TEMP_MAX_C, TEMP_MIN_C, CURRENT_LIMIT_A, type Telemetry } from '../shared/mqtt';
+import { TEMP_MAX_C, TEMP_MIN_C, CURRENT_LIMIT_A, type TelemetryObjects } from '../shared/mqtt';
 import { isEnergised, type RigState } from './physics';
 import { gaussian } from './rng';
 
@@ -19,7 +19,7 @@ export function buildTelemetry(
   seq: number,
   ts: Date,
   opts: { noise?: SensorNoise; rng?: () => number } = {},
-): Telemetry {
+): TelemetryObjects {
   const tempNoise = opts.noise?.tempC ?? 0;
   const currentNoise = (opts.noise?.currentPct ?? 0) / 100;
   const rng = opts.rng ?? Math.random;
@@ -66,7 +66,8 @@ export function malformedPayload(state: RigState, rng: () => number): string {
         setpointC: 25,
         sockets: [{ i: 0, caseC: -400, vV: 0, iA: 0, biasOn: false, tripped: false }],
       }),
-    () => JSON.stringify({ v: 2, rig: state.rigCode }), // unknown version
+    () => JSON.stringify({ v: 2, rig: state.rigCode, socket: [0, 1], caseC: [80] }), // column form, columns missing or short
+    () => JSON.stringify({ v: 7, rig: state.rigCode }), // unknown version
   ];
   return kinds[Math.floor(rng() * kinds.length) % kinds.length]();
 }

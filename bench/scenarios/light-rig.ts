@@ -1,13 +1,13 @@
 /**
  * A lightweight publisher standing in for a rig in the ingest scenario: the same MQTT identity,
- * credentials, topics and payloads as a real rig (shared/mqtt v1 contracts), but no physics, so it
+ * credentials, topics and payloads as a real rig (shared/mqtt contracts; telemetry in column form), but no physics, so it
  * can publish as fast as the pipeline takes. It honours the `stored` acknowledgement protocol:
  * every message stays in its outbox until the server confirms its seq, at most `window` messages
  * are unconfirmed at a time (the flow control), and a message unconfirmed for `resendMs` is sent
  * again with the same seq (the server de-duplicates).
  */
 import mqtt, { type MqttClient } from 'mqtt';
-import { parseCommand, rigClientId, topics } from '../../shared/mqtt';
+import { FLAG_BIAS_ON, parseCommand, rigClientId, topics } from '../../shared/mqtt';
 import { mulberry32 } from '../../shared/random';
 
 export interface LightRigOptions {
@@ -30,6 +30,8 @@ interface Entry {
 }
 
 const r2 = (x: number) => Math.round(x * 100) / 100;
+/** Sets of socket readings a publisher cycles through (a prime: no lock-step with windows of 20). */
+const READING_VARIANTS = 61;
 
 export class LightRig {
   private client: MqttClient | null = null;
@@ -47,11 +49,13 @@ export class LightRig {
   latencyTo = Infinity;
 
   private readonly biasOn: boolean;
+  private readonly readings: string[];
 
   constructor(private readonly o: LightRigOptions) {
     this.biasOn = o.biasOn ?? true;
     this.topic = topics.telemetry(o.rigCode);
     this.rnd = mulberry32(o.seed);
+    this.readings = Array.from({ length: READING_VARIANTS }, () => this.drawReadings());
   }
 
   connect(): Promise<void> {
@@ -90,23 +94,41 @@ export class LightRig {
   }
 
   /**
-   * The v1 telemetry JSON, written directly as text: this process shares the machine's two cores
-   * with the pipeline it loads (a real rig is its own computer), and building 64 objects for
-   * JSON.stringify cost it about twice as much. tests/bench/light-rig.test.ts checks the text
-   * against the v1 schema and JSON.stringify of the same values.
+   * Telemetry in column form (v2, as the simulator sends it), written directly as text: this
+   * process shares the machine's two cores with the pipeline it loads (a real rig is its own
+   * computer), and building the arrays for JSON.stringify cost it about twice as much. The socket
+   * readings cycle through READING_VARIANTS sets drawn once per publisher (formatting 128 numbers
+   * per message was most of this process's CPU); seq, ts and the stress clock are every message's
+   * own. tests/unit/bench-light-rig.test.ts checks the text against the v2 schema and
+   * telemetryColumnsText of the same values.
    */
   message(seq: number, now: number): string {
+    const readings = this.readings[seq % READING_VARIANTS];
+    // A rig reporting once a second: one stress-clock second per message.
+    return `{"v":2,"rig":"${this.o.rigCode}","seq":${seq},"ts":"${new Date(now).toISOString()}","stressClockS":${seq},${readings}}`;
+  }
+
+  /** The part of a message after the stress clock: chamber, humidity, setpoint and the socket columns. */
+  private drawReadings(): string {
     const rnd = this.rnd;
     const bias = this.biasOn;
-    let sockets = '';
+    let socket = '';
+    let caseCs = '';
+    let vVs = '';
+    let iAs = '';
+    let flags = '';
     for (let i = 0; i < this.o.sockets; i++) {
       const caseC = r2(95 + (i % 8) * 0.3 + (rnd() - 0.5) * 0.2);
       const iA = bias ? Math.round((0.3 + (rnd() - 0.5) * 0.004) * 1e5) / 1e5 : 1e-8;
-      sockets += `${i ? ',' : ''}{"i":${i},"caseC":${caseC},"vV":${bias ? 20 : 0},"iA":${iA},"biasOn":${bias},"tripped":false}`;
+      const sep = i ? ',' : '';
+      socket += sep + i;
+      caseCs += sep + caseC;
+      vVs += sep + (bias ? 20 : 0);
+      iAs += sep + iA;
+      flags += sep + (bias ? FLAG_BIAS_ON : 0);
     }
     const chamberC = r2(85 + (rnd() - 0.5) * 0.2);
-    // A rig reporting once a second: one stress-clock second per message.
-    return `{"v":1,"rig":"${this.o.rigCode}","seq":${seq},"ts":"${new Date(now).toISOString()}","stressClockS":${seq},"chamberC":${chamberC},"humidityPct":null,"setpointC":85,"sockets":[${sockets}]}`;
+    return `"chamberC":${chamberC},"humidityPct":null,"setpointC":85,"socket":[${socket}],"caseC":[${caseCs}],"vV":[${vVs}],"iA":[${iAs}],"flags":[${flags}]`;
   }
 
   private send(seq: number, e: Entry, resend: boolean): void {

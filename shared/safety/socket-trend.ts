@@ -73,21 +73,38 @@ export const REG_LEN = 7;
 /** Start with room for this many samples (5 × 8 bytes each): a 1 Hz window of 300 s needs no regrowth. */
 const INITIAL_CAPACITY = 512;
 
+/** Fields of one sample in SocketTrend's ring buffer (interleaved: one sample = STRIDE numbers). */
+const F_T = 0;
+const F_CASE = 1;
+const F_POWER = 2;
+/** T_case − T_chamber. */
+const F_RISE = 3;
+const STRIDE = 4;
+/** Absolute sample indices are renumbered (by a multiple of the capacity) before they reach this. */
+const RENUMBER_AT = 0x40000000;
+
 export class SocketTrend {
-  /** Ring buffer of the window (continuous bias-on stretch within windowS), absolute indices [start, end). */
+  /**
+   * Ring buffer of the window (continuous bias-on stretch within windowS), absolute indices
+   * [start, end), the fields of one sample side by side. Live protection pushes one sample into
+   * each of thousands of sockets in turn, so every push reaches memory that has left the cache
+   * since; one buffer with the sample's fields together costs one or two cache lines per push
+   * where separate arrays per field cost several (measured: bench/README.md).
+   */
   private cap: number;
-  private t: Float64Array;
-  private tj: Float64Array;
-  private cs: Float64Array;
-  private ch: Float64Array;
-  private pw: Float64Array;
+  private buf: Float64Array;
   private start = 0;
   private end = 0;
-  /** Monotonic deques of absolute indices for the case minimum and maximum. */
-  private minQ: number[] = [];
-  private maxQ: number[] = [];
+  /**
+   * Monotonic deques of absolute indices for the case minimum and maximum: rings of `cap` slots,
+   * entries [head, tail). They hold indices of the window only, so never more than `cap`.
+   */
+  private minQ: Int32Array;
+  private maxQ: Int32Array;
   private minHead = 0;
+  private minTail = 0;
   private maxHead = 0;
+  private maxTail = 0;
 
   // Anchor and scale of the sums.
   private t0 = 0;
@@ -126,6 +143,7 @@ export class SocketTrend {
   lastChamberC = NaN;
   /** Its junction estimate: T_case + θjc·P with bias on, else T_case. */
   lastTjC = 0;
+  /** θjc of the window's junction estimates (Tj = T_case + θjc·P, computed when summed). */
   private thetaJc = NaN;
 
   constructor(
@@ -133,17 +151,17 @@ export class SocketTrend {
     readonly windowS: number,
     /** Samples kept at most (the oldest leave first). */
     readonly maxSamples: number = 600,
+    /** Renumber absolute indices once they reach this (tests lower it to reach the path). */
+    private readonly renumberAt: number = RENUMBER_AT,
   ) {
     this.scale = windowS > 0 ? windowS : 1;
     // A power of two (ring indices are masked), no larger than maxSamples needs.
     let cap = MIN_CAPACITY;
     while (cap < Math.min(INITIAL_CAPACITY, maxSamples)) cap *= 2;
     this.cap = cap;
-    this.t = new Float64Array(cap);
-    this.tj = new Float64Array(cap);
-    this.cs = new Float64Array(cap);
-    this.ch = new Float64Array(cap);
-    this.pw = new Float64Array(cap);
+    this.buf = new Float64Array(cap * STRIDE);
+    this.minQ = new Int32Array(cap);
+    this.maxQ = new Int32Array(cap);
   }
 
   /** Samples in the current bias-on stretch. */
@@ -153,7 +171,15 @@ export class SocketTrend {
 
   /** Stress seconds from the oldest sample of the stretch to the latest; 0 when empty. */
   get spanS(): number {
-    return this.count > 0 ? this.t[(this.end - 1) & (this.cap - 1)] - this.t[this.start & (this.cap - 1)] : 0;
+    return this.count > 0 ? this.timeAt(this.end - 1) - this.timeAt(this.start) : 0;
+  }
+
+  private timeAt(k: number): number {
+    return this.buf[(k & (this.cap - 1)) * STRIDE + F_T];
+  }
+
+  private caseAt(k: number): number {
+    return this.buf[(k & (this.cap - 1)) * STRIDE + F_CASE];
   }
 
   /** Forget everything (a gap in telemetry, a trip, a reboot of the rig's clock). */
@@ -168,8 +194,7 @@ export class SocketTrend {
 
   private clearWindow(): void {
     this.start = this.end = 0;
-    this.minQ.length = this.maxQ.length = 0;
-    this.minHead = this.maxHead = 0;
+    this.minHead = this.minTail = this.maxHead = this.maxTail = 0;
     this.zeroSums();
     this.opsSinceRebuild = 0;
   }
@@ -185,70 +210,84 @@ export class SocketTrend {
     this.lastTS = s.tS;
     this.lastBiasOn = s.biasOn;
     this.lastChamberC = s.chamberC;
+    const caseC = s.caseC;
     const p = s.vV * s.iA;
     if (!s.biasOn) {
-      this.lastTjC = s.caseC;
+      this.lastTjC = caseC;
       this.clearWindow();
       return;
     }
     if (thetaJcCPerW !== this.thetaJc) {
       this.thetaJc = thetaJcCPerW;
-      if (this.count > 0) {
-        for (let k = this.start; k < this.end; k++) {
-          const j = k & (this.cap - 1);
-          this.tj[j] = this.cs[j] + thetaJcCPerW * this.pw[j];
-        }
-        this.rebuild();
-      }
+      if (this.count > 0) this.rebuild();
     }
-    const tj = s.caseC + thetaJcCPerW * p;
-    this.lastTjC = tj;
+    this.lastTjC = caseC + thetaJcCPerW * p;
     if (this.count === this.cap) this.grow();
+    if (this.end >= this.renumberAt) this.renumber();
+    const mask = this.cap - 1;
+    const buf = this.buf;
     const k = this.end++;
-    const j = k & (this.cap - 1);
-    this.t[j] = s.tS;
-    this.tj[j] = tj;
-    this.cs[j] = s.caseC;
-    this.ch[j] = s.chamberC;
-    this.pw[j] = p;
+    const o = (k & mask) * STRIDE;
+    buf[o + F_T] = s.tS;
+    buf[o + F_CASE] = caseC;
+    buf[o + F_POWER] = p;
+    buf[o + F_RISE] = caseC - s.chamberC;
     if (this.count === 1) this.rebuild();
-    else this.addSums(j, 1);
+    else this.addSums(o, 1);
     // Case extremes.
-    while (this.minQ.length > this.minHead && this.cs[this.minQ[this.minQ.length - 1] & (this.cap - 1)] >= s.caseC) this.minQ.pop();
-    this.minQ.push(k);
-    while (this.maxQ.length > this.maxHead && this.cs[this.maxQ[this.maxQ.length - 1] & (this.cap - 1)] <= s.caseC) this.maxQ.pop();
-    this.maxQ.push(k);
+    const minQ = this.minQ;
+    while (this.minTail > this.minHead && this.caseAt(minQ[(this.minTail - 1) & mask]) >= caseC) this.minTail--;
+    minQ[this.minTail++ & mask] = k;
+    const maxQ = this.maxQ;
+    while (this.maxTail > this.maxHead && this.caseAt(maxQ[(this.maxTail - 1) & mask]) <= caseC) this.maxTail--;
+    maxQ[this.maxTail++ & mask] = k;
     // Leave the window: older than windowS, or beyond maxSamples.
-    while (this.count > 1 && (this.t[this.start & (this.cap - 1)] < s.tS - this.windowS || this.count > this.maxSamples)) {
-      this.addSums(this.start & (this.cap - 1), -1);
+    const oldest = s.tS - this.windowS;
+    while (this.count > 1 && (buf[(this.start & mask) * STRIDE + F_T] < oldest || this.count > this.maxSamples)) {
+      this.addSums((this.start & mask) * STRIDE, -1);
       this.start++;
     }
-    while (this.minQ[this.minHead] < this.start) this.minHead++;
-    while (this.maxQ[this.maxHead] < this.start) this.maxHead++;
-    if (this.minHead > 64 && this.minHead * 2 > this.minQ.length) {
-      this.minQ = this.minQ.slice(this.minHead);
-      this.minHead = 0;
-    }
-    if (this.maxHead > 64 && this.maxHead * 2 > this.maxQ.length) {
-      this.maxQ = this.maxQ.slice(this.maxHead);
-      this.maxHead = 0;
-    }
-    if (this.t[this.start & (this.cap - 1)] - this.t0 > this.scale || this.opsSinceRebuild > 4 * this.count + 64) this.rebuild();
+    while (minQ[this.minHead & mask] < this.start) this.minHead++;
+    while (maxQ[this.maxHead & mask] < this.start) this.maxHead++;
+    if (buf[(this.start & mask) * STRIDE + F_T] - this.t0 > this.scale || this.opsSinceRebuild > 4 * this.count + 64) this.rebuild();
   }
 
   private grow(): void {
     const cap = this.cap * 2;
-    const move = (a: Float64Array) => {
-      const b = new Float64Array(cap);
-      for (let k = this.start; k < this.end; k++) b[k & (cap - 1)] = a[k & (this.cap - 1)];
-      return b;
+    const oldMask = this.cap - 1;
+    const mask = cap - 1;
+    const b = new Float64Array(cap * STRIDE);
+    for (let k = this.start; k < this.end; k++) {
+      const from = (k & oldMask) * STRIDE;
+      const to = (k & mask) * STRIDE;
+      for (let f = 0; f < STRIDE; f++) b[to + f] = this.buf[from + f];
+    }
+    const moveQ = (q: Int32Array, head: number, tail: number) => {
+      const r = new Int32Array(cap);
+      for (let n = head; n < tail; n++) r[n & mask] = q[n & oldMask];
+      return r;
     };
-    this.t = move(this.t);
-    this.tj = move(this.tj);
-    this.cs = move(this.cs);
-    this.ch = move(this.ch);
-    this.pw = move(this.pw);
+    this.minQ = moveQ(this.minQ, this.minHead, this.minTail);
+    this.maxQ = moveQ(this.maxQ, this.maxHead, this.maxTail);
+    this.buf = b;
     this.cap = cap;
+  }
+
+  /**
+   * Keep absolute indices within Int32 (the deques store them): subtract a multiple of the
+   * capacity from every index, which leaves every ring position where it is. Once per 2³⁰ samples.
+   */
+  private renumber(): void {
+    const mask = this.cap - 1;
+    const base = this.start - (this.start & mask);
+    for (let n = this.minHead; n < this.minTail; n++) this.minQ[n & mask] -= base;
+    for (let n = this.maxHead; n < this.maxTail; n++) this.maxQ[n & mask] -= base;
+    this.minTail -= this.minHead - (this.minHead & mask);
+    this.minHead &= mask;
+    this.maxTail -= this.maxHead - (this.maxHead & mask);
+    this.maxHead &= mask;
+    this.start -= base;
+    this.end -= base;
   }
 
   private zeroSums(): void {
@@ -263,18 +302,23 @@ export class SocketTrend {
     this.zeroSums();
     this.opsSinceRebuild = 0;
     if (this.count === 0) return;
-    const j0 = this.start & (this.cap - 1);
-    this.t0 = this.t[j0];
-    this.y0 = this.tj[j0];
-    this.c0 = this.cs[j0];
-    this.p0 = this.pw[j0];
-    for (let k = this.start; k < this.end; k++) this.addSums(k & (this.cap - 1), 1);
+    const mask = this.cap - 1;
+    const o0 = (this.start & mask) * STRIDE;
+    this.t0 = this.buf[o0 + F_T];
+    this.c0 = this.buf[o0 + F_CASE];
+    this.p0 = this.buf[o0 + F_POWER];
+    this.y0 = this.c0 + this.thetaJc * this.p0;
+    for (let k = this.start; k < this.end; k++) this.addSums((k & mask) * STRIDE, 1);
     this.opsSinceRebuild = 0;
   }
 
-  private addSums(j: number, sign: 1 | -1): void {
-    const u = (this.t[j] - this.t0) / this.scale;
-    const y = this.tj[j] - this.y0;
+  /** Add (sign 1) or remove (−1) the sample at buffer offset `o` to or from the sums. */
+  private addSums(o: number, sign: 1 | -1): void {
+    const buf = this.buf;
+    const caseC = buf[o + F_CASE];
+    const P = buf[o + F_POWER];
+    const u = (buf[o + F_T] - this.t0) / this.scale;
+    const y = caseC + this.thetaJc * P - this.y0;
     const u2 = u * u;
     this.s1 += sign * u;
     this.s2 += sign * u2;
@@ -284,8 +328,7 @@ export class SocketTrend {
     this.q1 += sign * u * y;
     this.q2 += sign * u2 * y;
     this.yy += sign * y * y;
-    const c = this.cs[j] - this.c0;
-    const P = this.pw[j];
+    const c = caseC - this.c0;
     const p = P - this.p0;
     this.sc += sign * c;
     this.scc += sign * c * c;
@@ -293,7 +336,7 @@ export class SocketTrend {
     this.spp += sign * p * p;
     this.scp += sign * c * p;
     this.rawP2 += sign * P * P;
-    this.rawRiseP += sign * (this.cs[j] - this.ch[j]) * P;
+    this.rawRiseP += sign * buf[o + F_RISE] * P;
     this.opsSinceRebuild++;
   }
 
@@ -335,7 +378,7 @@ export class SocketTrend {
     const a2 = i02 * q0 + i12 * q1 + i22 * q2;
     const rss = Math.max(0, this.yy - (a0 * q0 + a1 * q1 + a2 * q2));
     const sigma2 = rss / (n - 3);
-    const ul = (this.t[(this.end - 1) & (this.cap - 1)] - this.t0) / this.scale;
+    const ul = (this.timeAt(this.end - 1) - this.t0) / this.scale;
     const w = this.scale;
     // slope = (a1 + 2·a2·ul)/w: variance gᵀ(XᵀX)⁻¹g·σ̂²/w² with g = (0, 1, 2·ul).
     const gVar = i11 + 4 * ul * i12 + 4 * ul * ul * i22;
@@ -357,7 +400,8 @@ export class SocketTrend {
   /** caseRegression into `out` (REG_* slots), allocating nothing. */
   caseRegressionTo(out: Float64Array): void {
     const n = this.count;
-    const span = n > 0 ? this.cs[this.maxQ[this.maxHead] & (this.cap - 1)] - this.cs[this.minQ[this.minHead] & (this.cap - 1)] : 0;
+    const mask = this.cap - 1;
+    const span = n > 0 ? this.caseAt(this.maxQ[this.maxHead & mask]) - this.caseAt(this.minQ[this.minHead & mask]) : 0;
     const sxx = n > 0 ? Math.max(0, this.scc - (this.sc * this.sc) / n) : 0;
     const sxy = n > 0 ? this.scp - (this.sc * this.sp) / n : 0;
     const syy = n > 0 ? Math.max(0, this.spp - (this.sp * this.sp) / n) : 0;

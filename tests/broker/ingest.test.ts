@@ -239,7 +239,7 @@ test('malformed and unknown-rig messages are stored only as rejections, with rea
   const T = topics.telemetry('OV-03');
   const bad: Array<[string, string]> = [
     [T, '{"v":1,"rig":"OV-03","seq":'],
-    [T, telemetryPayload('OV-03', 1, { v: 2 })],
+    [T, telemetryPayload('OV-03', 1, { v: 3 })],
     [T, telemetryPayload('OV-03', 2, { chamberC: 900 })],
     [T, telemetryPayload('OV-03', 3, { rig: 'OV-01' })],
     [T, telemetryPayload('OV-03', 4, { sockets: [{ i: 0, caseC: 'hot', vV: 1, iA: 0, biasOn: true, tripped: false }] })],

@@ -5,6 +5,7 @@ import {
   MAX_PACKET_BYTES,
   buildStoredCommands,
   isPlainTelemetry,
+  isPlainTelemetryColumns,
   isRigClientIdFor,
   parseCommand,
   parsePayload,
@@ -12,6 +13,9 @@ import {
   parseTelemetry,
   rigCodeFromTopic,
   seqInRanges,
+  telemetryColumnsSchema,
+  telemetryColumnsText,
+  telemetryFromColumns,
   telemetrySchema,
   topics,
   type Telemetry,
@@ -78,7 +82,7 @@ describe('telemetry validation', () => {
     ['duplicate socket', { ...good(), sockets: [good().sockets[0], good().sockets[0]] }, 'sockets.1.i: socket index 0 appears twice'],
     ['seq not an integer', { ...good(), seq: 1.5 }, 'seq: Invalid input: expected int, received number'],
     ['bad rig code', { ...good(), rig: 'ov 1' }, 'rig: Rig code must be 2–32 of A–Z, 0–9, "-"'],
-    ['wrong version', { ...good(), v: 2 }, 'v: Invalid input: expected 1'],
+    ['unknown version', { ...good(), v: 3 }, 'v: Invalid input: expected 1'],
   ])('%s is refused with a readable reason', (_label, body, reason) => {
     const r = parseTelemetry(typeof body === 'string' ? body : JSON.stringify(body));
     expect(r).toEqual({ ok: false, reason });
@@ -171,6 +175,99 @@ describe('telemetry fast path agrees with the zod schema', () => {
     // The mutations reach every branch: refusals, fast acceptances and zod-only acceptances.
     expect(refused).toBeGreaterThan(2000);
     expect(fast).toBeGreaterThan(100);
+    expect(stripped).toBeGreaterThan(20);
+  });
+});
+
+/**
+ * Telemetry in column form (v2). The reference is the object form (v1) of the same content, parsed
+ * by the v1 schema: a column message must land as exactly that (with `v: 2`), and the column
+ * fast path must agree with zod's telemetryColumnsSchema as the v1 fast path does with v1's.
+ */
+describe('telemetry in column form', () => {
+  const columns = (t: Telemetry) => JSON.parse(telemetryColumnsText(t)) as Record<string, unknown>;
+
+  test('lands as the object form of the same content; both forms round-trip', () => {
+    const text = telemetryColumnsText(good());
+    expect(JSON.parse(text)).toEqual({
+      v: 2, rig: 'OV-01', seq: 42, ts: '2025-03-04T10:00:00.000Z', stressClockS: 151200, chamberC: 125.02, humidityPct: null, setpointC: 125,
+      socket: [0, 1], caseC: [131.4, 125.1], vV: [20, 0], iA: [0.588, 0], flags: [1, 2],
+    });
+    expect(parseTelemetry(Buffer.from(text))).toEqual({ ok: true, data: { ...good(), v: 2 } });
+    expect(parseTelemetry(JSON.stringify(good()))).toEqual({ ok: true, data: good() });
+    expect(telemetryColumnsText((parseTelemetry(text) as { data: Telemetry }).data)).toBe(text);
+    // A v1 message of 64 sockets against its column form: well under half the bytes.
+    const big = { ...good(), sockets: Array.from({ length: 64 }, (_, i) => ({ i, caseC: 95.37, vV: 20, iA: 0.29871, biasOn: true, tripped: false })) };
+    expect(telemetryColumnsText(big).length).toBeLessThan(0.45 * JSON.stringify(big).length);
+  });
+
+  test.each([
+    ['a column shorter than the sockets', (c: Record<string, unknown>) => (c.iA = [0.5]), 'iA: 1 values for 2 sockets'],
+    ['a missing column', (c: Record<string, unknown>) => delete c.flags, 'flags: Invalid input: expected array, received undefined'],
+    ['a repeated socket index', (c: Record<string, unknown>) => (c.socket = [3, 3]), 'socket.1: socket index 3 appears twice'],
+    ['flags out of range', (c: Record<string, unknown>) => (c.flags = [1, 4]), 'flags.1: Too big: expected number to be <=3'],
+    ['an implausible case temperature', (c: Record<string, unknown>) => (c.caseC = [131.4, 900]), 'caseC.1: Too big: expected number to be <=500'],
+    ['no sockets', (c: Record<string, unknown>) => Object.assign(c, { socket: [], caseC: [], vV: [], iA: [], flags: [] }), 'socket: Too small: expected array to have >=1 items'],
+  ])('%s is refused with a readable reason', (_label, change, reason) => {
+    const c = columns(good());
+    change(c);
+    expect(parseTelemetry(JSON.stringify(c))).toEqual({ ok: false, reason });
+  });
+
+  test('mutated column messages: same verdict and reason as zod; the fast path accepts only what zod keeps unchanged', () => {
+    const rnd = mulberry32(20261203);
+    const pick = <T,>(xs: readonly T[]): T => xs[Math.floor(rnd() * xs.length)];
+    const wild: unknown[] = [0, 1, 2, 3, 4, -1, 1.5, 255, 256, -273.16, 500.01, 1e4, -1e4, 1000.5, null, true, '1', [], {}, [1], 'OV-01', 'ov 1'];
+    const valid = (): Record<string, unknown> => {
+      const n = 1 + Math.floor(rnd() * 8);
+      const first = Math.floor(rnd() * (256 - n));
+      return columns({
+        ...good(),
+        seq: 1 + Math.floor(rnd() * 1e6),
+        humidityPct: rnd() < 0.5 ? null : rnd() * 100,
+        sockets: Array.from({ length: n }, (_, k) => ({ i: first + k, caseC: -40 + rnd() * 300, vV: (rnd() - 0.5) * 2000, iA: (rnd() - 0.5) * 10, biasOn: rnd() < 0.5, tripped: rnd() < 0.1 })),
+      });
+    };
+    const mutate = (m: Record<string, unknown>): void => {
+      const key = pick(Object.keys(m));
+      const value = m[key];
+      const r = rnd();
+      if (Array.isArray(value) && r < 0.5) {
+        if (r < 0.3 && value.length) value[Math.floor(rnd() * value.length)] = pick(wild);
+        else if (r < 0.4) value.pop();
+        else value.push(pick(wild));
+      } else if (r < 0.8) m[key] = pick(wild);
+      else if (r < 0.9) delete m[key];
+      else m[pick(['extra', 'note'])] = 1;
+    };
+    let refused = 0;
+    let fast = 0;
+    let stripped = 0;
+    for (let k = 0; k < 4000; k++) {
+      const m = valid();
+      if (k % 8 !== 0) mutate(m);
+      if (rnd() < 0.3) mutate(m);
+      const text = JSON.stringify(m).replace('"extra"', rnd() < 0.5 ? '"__proto__"' : '"extra"');
+      const json = JSON.parse(text);
+      const reference = telemetryColumnsSchema.safeParse(json);
+      if (isPlainTelemetryColumns(json)) {
+        fast++;
+        expect(reference.success).toBe(true);
+        expect(reference.data).toEqual(json);
+      }
+      const ours = parseTelemetry(text);
+      if (json?.v === 2) {
+        const zodOnly = parsePayload(telemetryColumnsSchema, text);
+        expect(ours).toEqual(zodOnly.ok ? { ok: true, data: telemetryFromColumns(zodOnly.data) } : zodOnly);
+      } else {
+        // Any other version is judged as the object form (v1).
+        expect(ours).toEqual(parsePayload(telemetrySchema, text));
+      }
+      if (!ours.ok) refused++;
+      else if (!isPlainTelemetryColumns(JSON.parse(text))) stripped++;
+    }
+    expect(refused).toBeGreaterThan(1500);
+    expect(fast).toBeGreaterThan(500);
     expect(stripped).toBeGreaterThan(20);
   });
 });

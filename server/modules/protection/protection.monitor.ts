@@ -15,7 +15,7 @@
  * θjc 2 °C/W) — set `defaultDevice: null` to skip such sockets instead.
  */
 import { DEFAULT_PROTECTION_OPTIONS, SocketTrend, assessTrend, judgeTrend, type ProtectionDevice, type ProtectionOptions, type SocketAssessment, type SocketSample } from '../../../shared/safety/protection';
-import type { SocketReading } from '../../../shared/mqtt';
+import { MAX_SOCKETS, type SocketReading } from '../../../shared/mqtt';
 import type { AlarmKindName } from '../../../shared/schemas/alarms';
 import type { AppContext } from '../../context';
 import { RunSocketEntity } from '../../db/entities';
@@ -458,18 +458,22 @@ export class ProtectionMonitor {
    * compares with the chamber).
    */
   private peerBaseline(m: TelemetryLanded, run: RunContext | null): number | undefined {
-    const tjs: number[] = [];
+    // Into a reused typed array, sorted natively (numeric, no comparator): this runs per message.
+    const tjs = this.peerScratch;
+    let n = 0;
     for (const r of m.sockets) {
       if (!r.biasOn || r.tripped) continue;
       const dev = this.deviceFor(run, r.i);
       if (!dev) continue;
-      tjs.push(r.caseC + dev.device.thetaJcCPerW * Math.abs(r.vV) * Math.abs(r.iA));
+      tjs[n++] = r.caseC + dev.device.thetaJcCPerW * Math.abs(r.vV) * Math.abs(r.iA);
     }
-    if (tjs.length < 3) return undefined;
-    tjs.sort((a, b) => a - b);
-    const mid = tjs.length >> 1;
-    return tjs.length % 2 ? tjs[mid] : (tjs[mid - 1] + tjs[mid]) / 2;
+    if (n < 3) return undefined;
+    const sorted = tjs.subarray(0, n).sort();
+    const mid = n >> 1;
+    return n % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
   }
+  /** peerBaseline's scratch: one slot per socket a message can carry. */
+  private readonly peerScratch = new Float64Array(MAX_SOCKETS);
 
   /**
    * One socket of one message. It hands back a promise only when it has to wait — an alarm to raise

@@ -121,6 +121,26 @@ describe('SocketTrend (incremental) equals batch least squares (jStat OLS, simpl
     expect(trend.count).toBe(1500);
   });
 
+  test('renumbering the absolute sample indices (every 2³⁰ samples) changes no result', () => {
+    // Renumbering at 700 here instead: the window is full and both case deques hold entries then.
+    const renumbered = new SocketTrend(300, 600, 700);
+    const plain = new SocketTrend(300, 600);
+    const history: TrendSample[] = [];
+    const rand = mulberry32(7);
+    for (let k = 0; k < 3000; k++) {
+      const s: TrendSample = { tS: k, caseC: 105 + 4 * Math.sin(k / 70) + 0.3 * rand(), vV: 18, iA: 0.1 + 0.005 * Math.cos(k / 40), chamberC: 90, biasOn: true };
+      renumbered.push(s, 1.7);
+      plain.push(s, 1.7);
+      history.push(s);
+      if (k % 97 === 0 || k === 699 || k === 700 || k === 701) {
+        expect(renumbered.caseRegression()).toEqual(plain.caseRegression());
+        expect(renumbered.quadraticFit()).toEqual(plain.quadraticFit());
+        expect(renumbered.spanS).toBe(plain.spanS);
+      }
+    }
+    expect(checkAgainstReference(renumbered, history, 1.7, 300, 600, 'renumbered')).toBe(1);
+  });
+
   test('a bias-off sample ends the stretch; reset forgets the latest sample', () => {
     const trend = new SocketTrend(300);
     for (let k = 0; k < 20; k++) trend.push({ tS: k, caseC: 100, vV: 10, iA: 0.1, chamberC: 90, biasOn: true }, 1);
