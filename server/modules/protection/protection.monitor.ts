@@ -24,6 +24,7 @@ import { RIG_LINK, RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigLink, type RigS
 import { RUN_EVENT, type RunEvent } from '../runs/run-events';
 import type { RunState } from '../../db/entities';
 import { hasActiveRun, loadRunContext, type RunContext } from './run-context';
+import { TurnGate } from './turns';
 
 export interface ProtectionMonitorOptions {
   /** Passed to assessSocket. */
@@ -91,6 +92,9 @@ export const BIAS_ACTION =
   'Check the bias supply, the socket contact and the wiring. The device is not stressed as planned while this lasts.';
 export const LEAKAGE_ACTION =
   'The device may be degrading or breaking down. Watch its current; if it keeps climbing, remove bias from the socket and note the device for failure analysis.';
+
+/** Telemetry messages judged per turn of the event loop when many wait (turns.ts). */
+const MESSAGES_PER_TURN = 6;
 
 interface SocketState {
   /** The look-back window, kept incrementally (reset = start afresh). */
@@ -401,10 +405,13 @@ export class ProtectionMonitor {
     );
   }
 
+  /** A few messages per turn of the event loop (turns.ts). */
+  private readonly turns = new TurnGate(MESSAGES_PER_TURN);
+
   private async onTelemetry(m: TelemetryLanded): Promise<void> {
-    // One message per macrotask: a committed batch lands hundreds of messages at once, and judging
-    // them back to back in microtasks would hold up HTTP, MQTT and the next transaction.
-    await new Promise<void>((r) => setImmediate(r));
+    // A committed batch lands hundreds of messages at once; judged back to back they would hold up
+    // HTTP, MQTT and the ingest's next statements. A few per turn of the event loop instead.
+    await this.turns.next();
     this.stats.messages++;
     const rig = this.rigState(m.rigId, m.rigCode);
     if (rig.lastSeq !== null && m.seq <= rig.lastSeq) {

@@ -9,7 +9,7 @@ import { Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import type { Pool, PoolClient } from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
-import type { RigStatus, Telemetry } from '../../../shared/mqtt';
+import { RIG_CODE_PATTERN, type RigStatus, type Telemetry } from '../../../shared/mqtt';
 import type { RigStatusChanged, TelemetryLanded } from './contracts';
 import { rollupsOf, upsertRollups, type RollupRow } from './rollups';
 
@@ -66,6 +66,16 @@ interface RigRow {
 /** Float text for COPY: JS number formatting (incl. 1e-9) is valid PostgreSQL input. */
 const f = (n: number) => String(n);
 
+/** One message's COPY lines (one per socket). */
+export function sampleCopyText(rigId: string, msg: Telemetry): string {
+  const head = `${rigId}\t${msg.seq}\t`;
+  let s = '';
+  for (const k of msg.sockets) {
+    s += `${head}${k.i}\t${f(k.caseC)}\t${f(k.vV)}\t${f(k.iA)}\t${k.biasOn ? 't' : 'f'}\t${k.tripped ? 't' : 'f'}\n`;
+  }
+  return s;
+}
+
 /** COPY data goes out in pieces of about this size: a few large socket writes, not one per message. */
 const COPY_CHUNK_BYTES = 256 * 1024;
 
@@ -80,11 +90,7 @@ export function sampleCopyChunks(rows: Array<{ rigId: string; msg: Telemetry }>)
   let buf: Buffer | null = null;
   let off = 0;
   for (const { rigId, msg } of rows) {
-    const head = `${rigId}\t${msg.seq}\t`;
-    let s = '';
-    for (const k of msg.sockets) {
-      s += `${head}${k.i}\t${f(k.caseC)}\t${f(k.vV)}\t${f(k.iA)}\t${k.biasOn ? 't' : 'f'}\t${k.tripped ? 't' : 'f'}\n`;
-    }
+    const s = sampleCopyText(rigId, msg);
     // ASCII only (uuids, digits, signs, '.', 'e', 't'/'f'): one character is one byte.
     if (buf && off + s.length > buf.length) {
       chunks.push(buf.subarray(0, off));
@@ -154,8 +160,8 @@ export async function writeBatch(pool: Pool, items: IngestItem[], extras: BatchE
     // The rigs drop a sample once told `stored` (after COMMIT), so the COMMIT must be durable even
     // on a server configured with synchronous_commit=off (an immediate stop or crash would otherwise
     // lose a transaction already confirmed to the rig).
-    await client.query('BEGIN; SET LOCAL synchronous_commit = on');
-    const result = await writeInTransaction(client, items, extras);
+    const rigs = await beginAndFindRigs(client, items);
+    const result = await writeInTransaction(client, items, extras, rigs);
     await client.query('COMMIT');
     return result;
   } catch (err) {
@@ -175,14 +181,36 @@ export function isConnectionError(err: Error): boolean {
   return /^(08|57P|53|3D000)/.test(code) || /Connection terminated|ECONNREFUSED|ECONNRESET|not queryable/i.test(err.message);
 }
 
-async function writeInTransaction(client: PoolClient, items: IngestItem[], extras: BatchExtras): Promise<BatchResult> {
+const RIGS_BY_CODE = 'SELECT id, code, online FROM rigs WHERE code = ANY';
+
+/**
+ * BEGIN and the batch's rigs in one round trip. Each round trip of an ingest transaction waits for
+ * this process's event loop (busy with parsing and protection), and PostgreSQL idles meanwhile. The
+ * rig codes come from topics (RIG_CODE_PATTERN: A–Z, 0–9, '-'), so they are written into the
+ * statement as an array literal; should one not match, the lookup is a parameterised query of its own.
+ */
+async function beginAndFindRigs(client: PoolClient, items: IngestItem[]): Promise<Map<string, RigRow>> {
   const codes = new Set<string>();
   for (const it of items) if (it.kind !== 'reject') codes.add(it.rigCode);
+  const begin = 'BEGIN; SET LOCAL synchronous_commit = on';
   const rigs = new Map<string, RigRow>();
-  if (codes.size) {
-    const { rows } = await client.query<RigRow>('SELECT id, code, online FROM rigs WHERE code = ANY($1::varchar[])', [Array.from(codes)]);
-    for (const r of rows) rigs.set(r.code, r);
+  let rows: RigRow[] = [];
+  if (!codes.size) {
+    await client.query(begin);
+  } else if ([...codes].every((c) => RIG_CODE_PATTERN.test(c))) {
+    // Each element double-quoted: an unquoted NULL would be read as a null element.
+    const literal = [...codes].map((c) => `"${c}"`).join(',');
+    const results = (await client.query(`${begin}; ${RIGS_BY_CODE}('{${literal}}'::varchar[])`)) as unknown as Array<{ rows: RigRow[] }>;
+    rows = results[results.length - 1].rows;
+  } else {
+    await client.query(begin);
+    rows = (await client.query<RigRow>(`${RIGS_BY_CODE}($1::varchar[])`, [Array.from(codes)])).rows;
   }
+  for (const r of rows) rigs.set(r.code, r);
+  return rigs;
+}
+
+async function writeInTransaction(client: PoolClient, items: IngestItem[], extras: BatchExtras, rigs: Map<string, RigRow>): Promise<BatchResult> {
 
   const rejects: Array<{ topic: string; rigCode: string | null; reason: string; excerpt: string; at: Date }> = [];
   const telemetry: Array<{ rig: RigRow; msg: Telemetry; receivedAt: Date }> = [];
