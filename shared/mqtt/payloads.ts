@@ -58,16 +58,21 @@ export type SocketReading = z.infer<typeof socketReadingSchema>;
  *   it 1:1 with real time; the simulator runs it accelerated (default 3600 s per wall second).
  *   Accrue stress hours from its deltas between consecutive samples; a decrease means a reboot.
  */
+/** The fields both telemetry forms share after `v`. */
+const telemetryHeader = {
+  rig: rigCodeSchema,
+  seq: seqNo(),
+  ts: isoTime(),
+  stressClockS: z.number().min(0).max(1e12),
+  chamberC: tempC(),
+  humidityPct: pct().nullable(),
+  setpointC: tempC(),
+};
+
 export const telemetrySchema = z
   .object({
     v: z.literal(1),
-    rig: rigCodeSchema,
-    seq: seqNo(),
-    ts: isoTime(),
-    stressClockS: z.number().min(0).max(1e12),
-    chamberC: tempC(),
-    humidityPct: pct().nullable(),
-    setpointC: tempC(),
+    ...telemetryHeader,
     sockets: z.array(socketReadingSchema).min(1).max(MAX_SOCKETS),
   })
   .superRefine((t, ctx) => {
@@ -97,13 +102,7 @@ export const FLAG_TRIPPED = 2;
 export const telemetryColumnsSchema = z
   .object({
     v: z.literal(2),
-    rig: rigCodeSchema,
-    seq: seqNo(),
-    ts: isoTime(),
-    stressClockS: z.number().min(0).max(1e12),
-    chamberC: tempC(),
-    humidityPct: pct().nullable(),
-    setpointC: tempC(),
+    ...telemetryHeader,
     socket: z.array(socketIndex()).min(1).max(MAX_SOCKETS),
     caseC: z.array(tempC()).max(MAX_SOCKETS),
     vV: z.array(volts()).max(MAX_SOCKETS),
@@ -341,6 +340,14 @@ function hasExactly(o: unknown, keys: readonly string[]): o is Record<string, un
   return true;
 }
 
+/** telemetryHeader's rules and the version, by hand (`ts` is left to the caller: it is the costly one). */
+function isPlainHeader(j: Record<string, unknown>, v: 1 | 2): boolean {
+  if (j.v !== v || typeof j.rig !== 'string' || !RIG_CODE_PATTERN.test(j.rig)) return false;
+  if (!isIndex(j.seq, 1, Number.MAX_SAFE_INTEGER)) return false;
+  if (!inRange(j.stressClockS, 0, 1e12) || !inRange(j.chamberC, TEMP_MIN_C, TEMP_MAX_C) || !inRange(j.setpointC, TEMP_MIN_C, TEMP_MAX_C)) return false;
+  return j.humidityPct === null || inRange(j.humidityPct, 0, 100);
+}
+
 /** Socket indices seen in the message being checked (one check at a time: JS is single-threaded). */
 const seenSockets = new Uint32Array(MAX_SOCKETS);
 let seenGeneration = 0;
@@ -362,11 +369,7 @@ function nextSeenGeneration(): number {
  * strips unknown keys or gives the reason. tests/broker/mqtt-contracts.test.ts checks the two agree.
  */
 export function isPlainTelemetry(j: unknown): j is TelemetryObjects {
-  if (!hasExactly(j, TELEMETRY_KEYS)) return false;
-  if (j.v !== 1 || typeof j.rig !== 'string' || !RIG_CODE_PATTERN.test(j.rig)) return false;
-  if (!isIndex(j.seq, 1, Number.MAX_SAFE_INTEGER)) return false;
-  if (!inRange(j.stressClockS, 0, 1e12) || !inRange(j.chamberC, TEMP_MIN_C, TEMP_MAX_C) || !inRange(j.setpointC, TEMP_MIN_C, TEMP_MAX_C)) return false;
-  if (j.humidityPct !== null && !inRange(j.humidityPct, 0, 100)) return false;
+  if (!hasExactly(j, TELEMETRY_KEYS) || !isPlainHeader(j, 1)) return false;
   const sockets = j.sockets;
   if (!Array.isArray(sockets) || sockets.length < 1 || sockets.length > MAX_SOCKETS) return false;
   const gen = nextSeenGeneration();
@@ -401,11 +404,7 @@ function numbersIn(a: unknown, n: number, lo: number, hi: number): boolean {
  * schema accepts `j` and would return a value equal to it (exactly its keys, every value valid).
  */
 export function isPlainTelemetryColumns(j: unknown): j is TelemetryColumns {
-  if (!hasExactly(j, COLUMN_KEYS)) return false;
-  if (j.v !== 2 || typeof j.rig !== 'string' || !RIG_CODE_PATTERN.test(j.rig)) return false;
-  if (!isIndex(j.seq, 1, Number.MAX_SAFE_INTEGER)) return false;
-  if (!inRange(j.stressClockS, 0, 1e12) || !inRange(j.chamberC, TEMP_MIN_C, TEMP_MAX_C) || !inRange(j.setpointC, TEMP_MIN_C, TEMP_MAX_C)) return false;
-  if (j.humidityPct !== null && !inRange(j.humidityPct, 0, 100)) return false;
+  if (!hasExactly(j, COLUMN_KEYS) || !isPlainHeader(j, 2)) return false;
   const socket = j.socket;
   if (!Array.isArray(socket) || socket.length < 1 || socket.length > MAX_SOCKETS) return false;
   const n = socket.length;

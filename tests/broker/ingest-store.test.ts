@@ -6,10 +6,9 @@
 import type { Telemetry } from '../../shared/mqtt';
 import { configFromEnv } from '../../server/config';
 import { createContext, type AppContext } from '../../server/context';
-import { RigEntity } from '../../server/db/entities';
 import { writeBatch, type IngestItem } from '../../server/modules/telemetry/ingest-store';
 import { pgPoolOf } from '../../server/modules/telemetry/telemetry.feature';
-import { createTestDb, type TestDb } from '../support/db';
+import { createTestDb, insertTestRig, type TestDb } from '../support/db';
 
 let db: TestDb;
 let ctx: AppContext;
@@ -19,19 +18,7 @@ const CODES = ['NULL', 'OV-9-X', 'B7'];
 
 beforeAll(async () => {
   db = await createTestDb();
-  for (const code of CODES) {
-    const rows = await db.ds.getRepository(RigEntity).insert({
-      code,
-      name: `Store test ${code}`,
-      socketCount: 4,
-      maxTempC: 200,
-      maxVoltageV: 200,
-      mqttUsername: `rig-${code.toLowerCase()}`,
-      mqttSecretHash: 'x',
-      credentialsIssuedAt: new Date(),
-    });
-    ids[code] = rows.identifiers[0].id;
-  }
+  for (const code of CODES) ids[code] = await insertTestRig(db.ds, code, { sockets: 4 });
   ctx = createContext(db.ds, { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config });
 });
 

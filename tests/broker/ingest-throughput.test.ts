@@ -4,16 +4,14 @@
  * then end to end MQTT → PostgreSQL through the real broker. Prints the rates; asserts only a low
  * floor (the machine is shared and noisy). The ingest keeps whichever is faster (COPY, see report).
  */
-import bcrypt from 'bcryptjs';
 import { createEmberlotBroker, type EmberlotBroker } from '../../broker/broker';
 import { createPgAuthenticate } from '../../broker/pg-authenticate';
 import { topics, type Telemetry } from '../../shared/mqtt';
 import { configFromEnv } from '../../server/config';
 import { createContext, type AppContext } from '../../server/context';
-import { RigEntity } from '../../server/db/entities';
 import { writeBatch, type IngestItem, type SamplesMode } from '../../server/modules/telemetry/ingest-store';
 import { pgPoolOf, startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
-import { createTestDb, type TestDb } from '../support/db';
+import { createTestDb, insertTestRig, type TestDb } from '../support/db';
 import { connectClient, sleep } from './mqtt-test-helpers';
 
 jest.setTimeout(30_000);
@@ -40,16 +38,7 @@ function message(rig: string, seq: number): Telemetry {
 beforeAll(async () => {
   db = await createTestDb();
   for (const code of ['BX-COPY', 'BX-INSERT', 'BX-E2E']) {
-    await db.ds.getRepository(RigEntity).insert({
-      code,
-      name: code,
-      socketCount: SOCKETS,
-      maxTempC: 200,
-      maxVoltageV: 100,
-      mqttUsername: `rig-${code.toLowerCase()}`,
-      mqttSecretHash: await bcrypt.hash('bench-secret', 4),
-      credentialsIssuedAt: new Date(),
-    });
+    await insertTestRig(db.ds, code, { name: code, sockets: SOCKETS, maxVoltageV: 100, secret: 'bench-secret' });
   }
   ctx = createContext(db.ds, { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config });
 });

@@ -5,7 +5,6 @@
  * and a database outage; replays store nothing twice but are confirmed again; malformed messages
  * land only in rejected_messages with a reason; `stored` lets the rig's outbox drain.
  */
-import bcrypt from 'bcryptjs';
 import type { MqttClient } from 'mqtt';
 import { Client, type Pool } from 'pg';
 import { createEmberlotBroker, type EmberlotBroker } from '../../broker/broker';
@@ -14,12 +13,11 @@ import { startRig, type RigHandle } from '../../rig-simulator';
 import { parseCommand, topics, type SeqRange } from '../../shared/mqtt';
 import { configFromEnv } from '../../server/config';
 import { createContext, type AppContext } from '../../server/context';
-import { RigEntity } from '../../server/db/entities';
 import { RIG_LINK, RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigLink, type RigStatusChanged, type TelemetryLanded } from '../../server/modules/telemetry/contracts';
 import { pgPoolOf, startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
 import type { TelemetryIngest } from '../../server/modules/telemetry/ingest';
 import { recoverRollups, ROLLUP_WATERMARK } from '../../server/modules/telemetry/rollups';
-import { createTestDb, testDbConfig, type TestDb } from '../support/db';
+import { createTestDb, insertTestRig, testDbConfig, type TestDb } from '../support/db';
 import { connectClient, sleep, waitFor } from './mqtt-test-helpers';
 
 jest.setTimeout(30_000);
@@ -73,19 +71,7 @@ function telemetryPayload(rig: string, seq: number, extra: Record<string, unknow
 
 beforeAll(async () => {
   db = await createTestDb();
-  for (const [code, secret] of Object.entries(SECRETS)) {
-    const rows = await db.ds.getRepository(RigEntity).insert({
-      code,
-      name: `Test oven ${code}`,
-      socketCount: 8,
-      maxTempC: 200,
-      maxVoltageV: 200,
-      mqttUsername: `rig-${code.toLowerCase()}`,
-      mqttSecretHash: await bcrypt.hash(secret, 4),
-      credentialsIssuedAt: new Date(),
-    });
-    rigIds[code] = rows.identifiers[0].id;
-  }
+  for (const [code, secret] of Object.entries(SECRETS)) rigIds[code] = await insertTestRig(db.ds, code, { secret });
   ctx = createContext(db.ds, { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config });
   eb = await startBroker();
   port = eb.port;

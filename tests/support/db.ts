@@ -1,9 +1,11 @@
 import 'reflect-metadata';
 import { randomBytes } from 'node:crypto';
+import bcrypt from 'bcryptjs';
 import { Client } from 'pg';
 import type { DataSource } from 'typeorm';
 import type { DbConfig } from '../../server/config';
 import { createDataSource } from '../../server/db/data-source';
+import { RigEntity } from '../../server/db/entities';
 
 /** The template database holds the migrated schema; each test file clones it (~100 ms). */
 export const TEMPLATE_DB = 'emberlot_template';
@@ -62,4 +64,26 @@ export async function tableCounts(ds: DataSource): Promise<Record<string, number
     out[tablename] = n;
   }
   return out;
+}
+
+/**
+ * Register a rig straight in the database (what the rigs admin does): its id. The MQTT secret is
+ * bcrypt-hashed at cost 4 (tests only; the product uses its configured cost).
+ */
+export async function insertTestRig(
+  ds: DataSource,
+  code: string,
+  opts: { secret?: string; sockets?: number; maxVoltageV?: number; name?: string } = {},
+): Promise<string> {
+  const rows = await ds.getRepository(RigEntity).insert({
+    code,
+    name: opts.name ?? `Test oven ${code}`,
+    socketCount: opts.sockets ?? 8,
+    maxTempC: 200,
+    maxVoltageV: opts.maxVoltageV ?? 200,
+    mqttUsername: `rig-${code.toLowerCase()}`,
+    mqttSecretHash: await bcrypt.hash(opts.secret ?? 'test-rig-secret', 4),
+    credentialsIssuedAt: new Date(),
+  });
+  return rows.identifiers[0].id as string;
 }
