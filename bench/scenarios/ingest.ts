@@ -241,6 +241,9 @@ export async function runIngest(b: BenchEnv, rss: RssSampler, log: (l: string) =
     baselineRows: baseline.rows,
     baselineSeconds: round(baseline.seconds, 2),
     baselineRunsRowsPerSec: baseline.runsRowsPerSec,
+    baselinePostgresMicrosPerRow: baseline.postgresMicrosPerRow,
+    postgresMicrosPerSample: details.cpuCoresInWindow ? round((details.cpuCoresInWindow.postgres * 1e6) / main.samplesPerSec, 2) : null,
+    baselineMachineBusyCores: baseline.machineBusyCores,
     counters: Object.fromEntries(counters.rows.map((r: { name: string; value: string }) => [r.name, Number(r.value)])),
   };
   if (s.unbiasedSeconds > 0) {
@@ -263,7 +266,18 @@ export async function runIngest(b: BenchEnv, rss: RssSampler, log: (l: string) =
   return result;
 }
 
-async function copyBaseline(b: BenchEnv, rigIds: string[], from: Date, to: Date, expected: number): Promise<{ rowsPerSec: number; seconds: number; rows: number; runsRowsPerSec: number[] }> {
+interface CopyBaseline {
+  rowsPerSec: number;
+  seconds: number;
+  rows: number;
+  runsRowsPerSec: number[];
+  /** PostgreSQL's CPU (every process of the cluster) per row in the median load, µs. */
+  postgresMicrosPerRow: number;
+  /** Busy cores of the whole machine during the median load. */
+  machineBusyCores: number;
+}
+
+async function copyBaseline(b: BenchEnv, rigIds: string[], from: Date, to: Date, expected: number): Promise<CopyBaseline> {
   const file = path.join(os.tmpdir(), `emberlot-bench-copy-${process.pid}.tsv`);
   const client = await b.pool.connect();
   try {
@@ -283,22 +297,38 @@ async function copyBaseline(b: BenchEnv, rigIds: string[], from: Date, to: Date,
     // ±30 % from one minute to the next on a shared 2-core machine). Each starts after a CHECKPOINT,
     // so no load pays for the ingest's dirty pages (this can only favour the baseline).
     const runs: number[] = [];
+    const pgMicros: number[] = [];
+    const busy: number[] = [];
+    const postmaster = clusterPid(b.clusterOpts);
     let n = 0;
     for (let k = 0; k < 3; k++) {
       await client.query('DROP TABLE IF EXISTS bench_copy_baseline');
       await client.query('CREATE TABLE bench_copy_baseline (LIKE telemetry_samples INCLUDING ALL)');
       await client.query('CHECKPOINT');
+      const cpuA = cpuSnapshot({}, postmaster);
+      const machA = machineTicks();
       const t0 = process.hrtime.bigint();
       await pipeline(fs.createReadStream(file, { highWaterMark: 1 << 20 }), client.query(copyFrom('COPY bench_copy_baseline FROM STDIN')));
       const s = Number(process.hrtime.bigint() - t0) / 1e9;
+      const cores = coresBetween(cpuA, cpuSnapshot({}, postmaster));
+      busy.push(machineCoresBetween(machA, machineTicks()));
+      pgMicros.push((cores.postgres * s * 1e6) / expected);
       const { rows } = await client.query('SELECT count(*) AS n FROM bench_copy_baseline');
       n = Number(rows[0].n);
       if (n !== expected) throw new Error(`COPY baseline loaded ${n} rows, expected ${expected}`);
       runs.push(s);
     }
     await client.query('DROP TABLE bench_copy_baseline');
-    const seconds = [...runs].sort((a, b) => a - b)[1];
-    return { rowsPerSec: n / seconds, seconds, rows: n, runsRowsPerSec: runs.map((x) => Math.round(n / x)) };
+    const median = runs.indexOf([...runs].sort((a, b) => a - b)[1]);
+    const seconds = runs[median];
+    return {
+      rowsPerSec: n / seconds,
+      seconds,
+      rows: n,
+      runsRowsPerSec: runs.map((x) => Math.round(n / x)),
+      postgresMicrosPerRow: round(pgMicros[median], 2),
+      machineBusyCores: busy[median],
+    };
   } finally {
     client.release();
     fs.rmSync(file, { force: true });

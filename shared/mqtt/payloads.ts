@@ -96,8 +96,8 @@ export const FLAG_TRIPPED = 2;
  * same socket: `socket` (index), `caseC`, `vV`, `iA` (as version 1's fields) and `flags`
  * (FLAG_BIAS_ON | FLAG_TRIPPED, 0…3). A 64-socket message is ~1.9 KB instead of ~5 KB, and a
  * receiver parses a handful of arrays instead of 64 objects — at a lab's message rates that was
- * the largest single cost of receiving telemetry. Receivers turn it into the version 1 shape
- * (`telemetryFromColumns`); everything after parsing sees one form.
+ * the largest single cost of receiving telemetry. Receivers keep it as it is and turn version 1
+ * into it (`telemetryFromReadings`); everything after parsing sees one form (`Telemetry`).
  */
 export const telemetryColumnsSchema = z
   .object({
@@ -122,37 +122,76 @@ export const telemetryColumnsSchema = z
   });
 export type TelemetryColumns = z.infer<typeof telemetryColumnsSchema>;
 
-/** Telemetry as receivers handle it, from either form: `v` tells which form it came in. */
-export type Telemetry = Omit<TelemetryObjects, 'v'> & { v: 1 | 2 };
+/**
+ * Telemetry as receivers handle it, from either form: the column form's fields (`v` tells which
+ * form it came in). Column form arrives as parsed, not copied: a message stays a handful of arrays
+ * (numbers unboxed) from receipt through COPY, rollups and live protection, where 64 objects per
+ * message (and a box per number field) were most of the receiver's garbage.
+ */
+export type Telemetry = Omit<TelemetryColumns, 'v'> & { v: 1 | 2 };
 
-/** The column form of telemetry → the one shape receivers handle (version 1's sockets, `v: 2`). */
-export function telemetryFromColumns(c: TelemetryColumns): Telemetry {
-  const n = c.socket.length;
-  const sockets: SocketReading[] = new Array(n);
-  for (let k = 0; k < n; k++) {
-    const flags = c.flags[k];
-    sockets[k] = { i: c.socket[k], caseC: c.caseC[k], vV: c.vV[k], iA: c.iA[k], biasOn: (flags & FLAG_BIAS_ON) !== 0, tripped: (flags & FLAG_TRIPPED) !== 0 };
-  }
-  return { v: 2, rig: c.rig, seq: c.seq, ts: c.ts, stressClockS: c.stressClockS, chamberC: c.chamberC, humidityPct: c.humidityPct, setpointC: c.setpointC, sockets };
-}
+/** The per-socket columns of a telemetry message (element k of each = one socket). */
+export type TelemetrySocketColumns = Pick<TelemetryColumns, 'socket' | 'caseC' | 'vV' | 'iA' | 'flags'>;
 
-/** Telemetry (either form) → the column form's JSON text, as a rig publishes it. */
-export function telemetryColumnsText(t: Omit<Telemetry, 'v'>): string {
-  const n = t.sockets.length;
+/** Telemetry with one object per socket (version 1's shape, `v` 1 or 2): what a rig builds. */
+export type TelemetryReadings = Omit<TelemetryObjects, 'v'> & { v: 1 | 2 };
+
+/** One socket's flags from version 1's booleans. */
+export const socketFlags = (biasOn: boolean, tripped: boolean): number => (biasOn ? FLAG_BIAS_ON : 0) | (tripped ? FLAG_TRIPPED : 0);
+
+/** Per-socket objects → columns (version 1's sockets; any `v` is kept). */
+export function socketColumns(sockets: readonly SocketReading[]): TelemetrySocketColumns {
+  const n = sockets.length;
   const socket: number[] = new Array(n);
   const caseC: number[] = new Array(n);
   const vV: number[] = new Array(n);
   const iA: number[] = new Array(n);
   const flags: number[] = new Array(n);
   for (let k = 0; k < n; k++) {
-    const s = t.sockets[k];
+    const s = sockets[k];
     socket[k] = s.i;
     caseC[k] = s.caseC;
     vV[k] = s.vV;
     iA[k] = s.iA;
-    flags[k] = (s.biasOn ? FLAG_BIAS_ON : 0) | (s.tripped ? FLAG_TRIPPED : 0);
+    flags[k] = socketFlags(s.biasOn, s.tripped);
   }
-  const body: TelemetryColumns = { v: 2, rig: t.rig, seq: t.seq, ts: t.ts, stressClockS: t.stressClockS, chamberC: t.chamberC, humidityPct: t.humidityPct, setpointC: t.setpointC, socket, caseC, vV, iA, flags };
+  return { socket, caseC, vV, iA, flags };
+}
+
+/** Telemetry with per-socket objects (version 1, or a rig's own) → the one shape receivers handle. */
+export function telemetryFromReadings(t: Omit<TelemetryObjects, 'v'> & { v?: 1 | 2 }): Telemetry {
+  return { v: t.v ?? 1, rig: t.rig, seq: t.seq, ts: t.ts, stressClockS: t.stressClockS, chamberC: t.chamberC, humidityPct: t.humidityPct, setpointC: t.setpointC, ...socketColumns(t.sockets) };
+}
+
+/** The columns back as one object per socket (version 1's socket readings). */
+export function socketReadings(c: TelemetrySocketColumns): SocketReading[] {
+  const n = c.socket.length;
+  const out: SocketReading[] = new Array(n);
+  for (let k = 0; k < n; k++) {
+    const flags = c.flags[k];
+    out[k] = { i: c.socket[k], caseC: c.caseC[k], vV: c.vV[k], iA: c.iA[k], biasOn: (flags & FLAG_BIAS_ON) !== 0, tripped: (flags & FLAG_TRIPPED) !== 0 };
+  }
+  return out;
+}
+
+/** Telemetry (per-socket objects or columns) → the column form's JSON text, as a rig publishes it. */
+export function telemetryColumnsText(t: Omit<TelemetryObjects, 'v'> | Omit<Telemetry, 'v'>): string {
+  const c = 'sockets' in t ? socketColumns(t.sockets) : t;
+  const body: TelemetryColumns = {
+    v: 2,
+    rig: t.rig,
+    seq: t.seq,
+    ts: t.ts,
+    stressClockS: t.stressClockS,
+    chamberC: t.chamberC,
+    humidityPct: t.humidityPct,
+    setpointC: t.setpointC,
+    socket: c.socket,
+    caseC: c.caseC,
+    vV: c.vV,
+    iA: c.iA,
+    flags: c.flags,
+  };
   return JSON.stringify(body);
 }
 
@@ -423,20 +462,22 @@ export function isPlainTelemetryColumns(j: unknown): j is TelemetryColumns {
 }
 
 /**
- * parsePayload(telemetrySchema, …) for version 1 and parsePayload(telemetryColumnsSchema, …) for
- * version 2 (turned into the same shape), each with its fast path: the same results for a fraction
- * of the CPU. A payload whose `v` is not 2 is judged as version 1.
+ * parsePayload(telemetryColumnsSchema, …) for version 2 and parsePayload(telemetrySchema, …) for
+ * version 1 (turned into columns), each with its fast path: the same results for a fraction of
+ * the CPU. A payload whose `v` is not 2 is judged as version 1.
  */
 export function parseTelemetry(input: string | Uint8Array): ParseResult<Telemetry> {
   const json = readJson(input, MAX_PACKET_BYTES);
   if (!json.ok) return json;
   const j = json.data;
   if (typeof j === 'object' && j !== null && (j as { v?: unknown }).v === 2) {
-    if (isPlainTelemetryColumns(j)) return { ok: true, data: telemetryFromColumns(j) };
-    const r = validate(telemetryColumnsSchema, j);
-    return r.ok ? { ok: true, data: telemetryFromColumns(r.data) } : r;
+    // Kept as parsed: exactly the schema's keys, every value valid.
+    if (isPlainTelemetryColumns(j)) return { ok: true, data: j };
+    return validate(telemetryColumnsSchema, j);
   }
-  return isPlainTelemetry(j) ? { ok: true, data: j } : validate(telemetrySchema, j);
+  if (isPlainTelemetry(j)) return { ok: true, data: telemetryFromReadings(j) };
+  const r = validate(telemetrySchema, j);
+  return r.ok ? { ok: true, data: telemetryFromReadings(r.data) } : r;
 }
 
 export const parseStatus = (input: string | Uint8Array) => parsePayload(statusSchema, input);

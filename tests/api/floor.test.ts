@@ -3,7 +3,7 @@ import * as http from 'node:http';
 import type { AddressInfo } from 'node:net';
 import request from 'supertest';
 import type { EntityManager } from 'typeorm';
-import type { Telemetry } from '../../shared/mqtt';
+import { telemetryFromReadings, type SocketReading, type Telemetry } from '../../shared/mqtt';
 import type { FloorTile } from '../../shared/schemas/floor';
 import { AlarmEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunSocketEntity, StressPlanEntity } from '../../server/db/entities';
 import { ALARM_EVENT } from '../../server/modules/alarms/alarms.service';
@@ -20,8 +20,8 @@ let rigA = '';
 const T0 = Date.UTC(2031, 0, 10, 8, 0, 0);
 const SOCKETS = 16;
 
-function message(seq: number, atMs: number, sockets: number[], mod: (i: number) => Partial<Telemetry['sockets'][number]> = () => ({})): Telemetry {
-  return {
+function message(seq: number, atMs: number, sockets: number[], mod: (i: number) => Partial<SocketReading> = () => ({})): Telemetry {
+  return telemetryFromReadings({
     v: 1,
     rig: 'OV-81',
     seq,
@@ -31,7 +31,7 @@ function message(seq: number, atMs: number, sockets: number[], mod: (i: number) 
     humidityPct: null,
     setpointC: 150,
     sockets: sockets.map((i) => ({ i, caseC: 152 + i + (seq % 4) * 0.5, vV: 40, iA: 0.1, biasOn: true, tripped: false, ...mod(i) })),
-  };
+  });
 }
 
 async function makeFixtures(m: EntityManager) {

@@ -3,7 +3,7 @@
  * rig lookup that rides with BEGIN, the rig codes written into the statement as an array literal.
  * The reference is the rigs table and the rows of telemetry_samples, read back.
  */
-import type { Telemetry } from '../../shared/mqtt';
+import { telemetryFromReadings, type Telemetry } from '../../shared/mqtt';
 import { configFromEnv } from '../../server/config';
 import { createContext, type AppContext } from '../../server/context';
 import { writeBatch, type IngestItem } from '../../server/modules/telemetry/ingest-store';
@@ -26,7 +26,8 @@ afterAll(async () => {
   await db?.drop();
 });
 
-const message = (rig: string, seq: number): Telemetry => ({
+const message = (rig: string, seq: number): Telemetry =>
+  telemetryFromReadings({
   v: 2,
   rig,
   seq,
@@ -36,7 +37,7 @@ const message = (rig: string, seq: number): Telemetry => ({
   humidityPct: null,
   setpointC: 125,
   sockets: Array.from({ length: 4 }, (_, i) => ({ i, caseC: 130 + i + seq / 100, vV: 20, iA: 0.25 + i / 1000, biasOn: i !== 2, tripped: i === 3 })),
-});
+  });
 
 const item = (rig: string, seq: number): IngestItem => ({ kind: 'telemetry', rigCode: rig, msg: message(rig, seq), receivedAt: new Date() });
 

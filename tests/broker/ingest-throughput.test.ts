@@ -6,7 +6,7 @@
  */
 import { createEmberlotBroker, type EmberlotBroker } from '../../broker/broker';
 import { createPgAuthenticate } from '../../broker/pg-authenticate';
-import { topics, type Telemetry } from '../../shared/mqtt';
+import { telemetryFromReadings, topics, type Telemetry, type TelemetryReadings } from '../../shared/mqtt';
 import { configFromEnv } from '../../server/config';
 import { createContext, type AppContext } from '../../server/context';
 import { writeBatch, type IngestItem, type SamplesMode } from '../../server/modules/telemetry/ingest-store';
@@ -21,7 +21,8 @@ const PER_BATCH = 200;
 let db: TestDb;
 let ctx: AppContext;
 
-function message(rig: string, seq: number): Telemetry {
+/** One message as a rig builds it (published as v1 JSON below). */
+function readings(rig: string, seq: number): TelemetryReadings {
   return {
     v: 1,
     rig,
@@ -34,6 +35,8 @@ function message(rig: string, seq: number): Telemetry {
     sockets: Array.from({ length: SOCKETS }, (_, i) => ({ i, caseC: 151 + i * 0.05 + (seq % 5) * 0.01, vV: 40.2, iA: 0.1234 + i * 1e-4, biasOn: true, tripped: false })),
   };
 }
+
+const message = (rig: string, seq: number): Telemetry => telemetryFromReadings(readings(rig, seq));
 
 beforeAll(async () => {
   db = await createTestDb();
@@ -82,7 +85,7 @@ test('end to end: MQTT → validate → batch → COPY → stored (samples/s)', 
   try {
     await sleep(300);
     const N = 1500;
-    const payloads = Array.from({ length: N }, (_, k) => JSON.stringify(message('BX-E2E', k + 1)));
+    const payloads = Array.from({ length: N }, (_, k) => JSON.stringify(readings('BX-E2E', k + 1)));
     const t0 = Date.now();
     for (const p of payloads) rig.publish(topics.telemetry('BX-E2E'), p, { qos: 1 });
     let n = 0;

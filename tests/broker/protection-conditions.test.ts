@@ -6,6 +6,7 @@
  */
 import type { TelemetryLanded } from '../../server/modules/telemetry/contracts';
 import { RIG_LINK, RIG_STATUS_CHANGED, TELEMETRY_LANDED } from '../../server/modules/telemetry/contracts';
+import { socketColumns, type SocketReading } from '../../shared/mqtt';
 import { AlarmEntity, NotificationEntity, UserEntity } from '../../server/db/entities';
 import { startMailSink, type MailSink } from '../../server/mail-sink/mail-sink';
 import { emitRunEvent } from '../../server/modules/runs/run-events';
@@ -33,7 +34,7 @@ afterAll(async () => {
 });
 
 describe('condition alarms', () => {
-  const landed = (fx: RunFixture, tS: number, chamberC: number, sockets: TelemetryLanded['sockets']): TelemetryLanded => ({
+  const landed = (fx: RunFixture, tS: number, chamberC: number, sockets: SocketReading[]): TelemetryLanded => ({
     rigId: fx.rig.id,
     rigCode: fx.rig.code,
     seq: ++seq,
@@ -42,7 +43,7 @@ describe('condition alarms', () => {
     chamberC,
     humidityPct: null,
     setpointC: fx.plan.chamberC,
-    sockets,
+    ...socketColumns(sockets),
   });
   const live = (rigId: string, kind: AlarmEntity['kind']) => t.ctx.ds.getRepository(AlarmEntity).find({ where: { rigId, kind }, order: { raisedAt: 'ASC' } });
 

@@ -6,7 +6,7 @@
 import { randomUUID } from 'node:crypto';
 import type { DataSource } from 'typeorm';
 import { gainAtTemperature, leakageAtTemperature } from '../../shared/physics';
-import type { SocketReading, CommandAck } from '../../shared/mqtt';
+import { socketColumns, type SocketReading, type CommandAck } from '../../shared/mqtt';
 import type { AppContext } from '../../server/context';
 import type { ProtectionFeature } from '../../server/modules/protection/start';
 import { TELEMETRY_LANDED, type TelemetryLanded } from '../../server/modules/telemetry/contracts';
@@ -318,7 +318,7 @@ export async function driveTelemetry(d: DriveSpec): Promise<{ samples: number }>
       chamberC: Number((d.chamberC + noise.chamberC * z()).toFixed(2)),
       humidityPct: null,
       setpointC: d.chamberC,
-      sockets: d.sims.map((s, i) => s.reading(i, noise, z)),
+      ...socketColumns(d.sims.map((s, i) => s.reading(i, noise, z))),
     };
     d.ctx.events.emit(TELEMETRY_LANDED, landed);
     await d.feature.monitor.idle();

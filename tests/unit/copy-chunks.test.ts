@@ -5,10 +5,11 @@
  * Number.prototype.toString for the values.
  */
 import { sampleCopyChunks } from '../../server/modules/telemetry/ingest-store';
-import type { Telemetry } from '../../shared/mqtt';
+import { telemetryFromReadings, type Telemetry } from '../../shared/mqtt';
 
 const rigId = '0b5f0e2c-6a0d-4c1e-9a57-3f2d8c1b7e44';
-const message = (seq: number): Telemetry => ({
+const message = (seq: number): Telemetry =>
+  telemetryFromReadings({
   v: 1,
   rig: 'BI-01',
   seq,
@@ -18,7 +19,7 @@ const message = (seq: number): Telemetry => ({
   humidityPct: null,
   setpointC: 85,
   sockets: Array.from({ length: 64 }, (_, i) => ({ i, caseC: 95 + i / 100, vV: -20.5, iA: i === 3 ? 1e-9 : 0.30012, biasOn: i % 2 === 0, tripped: i === 5 })),
-});
+  });
 
 test('one small batch is one chunk with one line per socket', () => {
   const chunks = sampleCopyChunks([{ rigId, msg: message(7) }]);

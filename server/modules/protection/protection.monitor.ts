@@ -15,7 +15,7 @@
  * θjc 2 °C/W) — set `defaultDevice: null` to skip such sockets instead.
  */
 import { DEFAULT_PROTECTION_OPTIONS, SocketTrend, assessTrend, judgeTrend, type ProtectionDevice, type ProtectionOptions, type SocketAssessment, type SocketSample } from '../../../shared/safety/protection';
-import { MAX_SOCKETS, type SocketReading } from '../../../shared/mqtt';
+import { FLAG_BIAS_ON, FLAG_TRIPPED, MAX_SOCKETS } from '../../../shared/mqtt';
 import type { AlarmKindName } from '../../../shared/schemas/alarms';
 import type { AppContext } from '../../context';
 import { RunSocketEntity } from '../../db/entities';
@@ -430,10 +430,10 @@ export class ProtectionMonitor {
 
     const run = await this.runFor(m.rigId);
     const baselineTjC = this.peerBaseline(m, run);
-    for (const reading of m.sockets) {
+    for (let k = 0; k < m.socket.length; k++) {
       // Most sockets are judged without waiting on anything: only an alarm to raise or clear, or a
       // bias/leakage check that writes, hands back a promise.
-      const pending = this.onSocket(m, rig, run, reading, baselineTjC);
+      const pending = this.onSocket(m, rig, run, k, baselineTjC);
       if (pending) await pending;
     }
     await this.checkAmbient(m, rig, run);
@@ -468,11 +468,12 @@ export class ProtectionMonitor {
     // Into a reused typed array, sorted natively (numeric, no comparator): this runs per message.
     const tjs = this.peerScratch;
     let n = 0;
-    for (const r of m.sockets) {
-      if (!r.biasOn || r.tripped) continue;
-      const dev = this.deviceFor(run, r.i);
+    const { socket, caseC, vV, iA, flags } = m;
+    for (let k = 0; k < socket.length; k++) {
+      if ((flags[k] & (FLAG_BIAS_ON | FLAG_TRIPPED)) !== FLAG_BIAS_ON) continue;
+      const dev = this.deviceFor(run, socket[k]);
       if (!dev) continue;
-      tjs[n++] = r.caseC + dev.device.thetaJcCPerW * Math.abs(r.vV) * Math.abs(r.iA);
+      tjs[n++] = caseC[k] + dev.device.thetaJcCPerW * Math.abs(vV[k]) * Math.abs(iA[k]);
     }
     if (n < 3) return undefined;
     const sorted = tjs.subarray(0, n).sort();
@@ -488,24 +489,27 @@ export class ProtectionMonitor {
    * microtask for each of thousands of sockets per second was a good part of the ingest's CPU. The
    * steps and their order are the same either way.
    */
-  private onSocket(m: TelemetryLanded, rig: RigState, run: RunContext | null, reading: SocketReading, baselineTjC?: number): Promise<void> | undefined {
-    const st = this.socketState(rig, reading.i);
+  private onSocket(m: TelemetryLanded, rig: RigState, run: RunContext | null, k: number, baselineTjC?: number): Promise<void> | undefined {
+    const i = m.socket[k];
+    const flags = m.flags[k];
+    const tripped = (flags & FLAG_TRIPPED) !== 0;
+    const st = this.socketState(rig, i);
     const sample: SocketSample = {
       tS: m.stressClockS,
-      caseC: reading.caseC,
-      vV: Math.abs(reading.vV),
-      iA: Math.abs(reading.iA),
+      caseC: m.caseC[k],
+      vV: Math.abs(m.vV[k]),
+      iA: Math.abs(m.iA[k]),
       chamberC: m.chamberC,
-      biasOn: reading.biasOn && !reading.tripped,
+      biasOn: (flags & FLAG_BIAS_ON) !== 0 && !tripped,
     };
 
-    if (reading.tripped) {
+    if (tripped) {
       // The rig's latch holds the socket off (our trip or its own interlock).
       st.sawTripped = true;
       st.trend.reset();
       st.calm = 0;
       st.lastBiasOn = false;
-      if (this.isActive('runaway-warning', m.rigId, reading.i)) return this.clear('runaway-warning', m.rigId, reading.i, { reason: 'socket tripped' });
+      if (this.isActive('runaway-warning', m.rigId, i)) return this.clear('runaway-warning', m.rigId, i, { reason: 'socket tripped' });
       return undefined;
     }
     if (st.sawTripped) {
@@ -513,9 +517,9 @@ export class ProtectionMonitor {
       st.sawTripped = false;
       st.tripCmdId = null;
       st.tripDelivery = null;
-      return this.clear('runaway-trip', m.rigId, reading.i, { reason: 'trip latch reset' }).then(() => this.judgeSocket(m, rig, run, reading, st, sample, baselineTjC));
+      return this.clear('runaway-trip', m.rigId, i, { reason: 'trip latch reset' }).then(() => this.judgeSocket(m, rig, run, i, st, sample, baselineTjC));
     }
-    return this.judgeSocket(m, rig, run, reading, st, sample, baselineTjC);
+    return this.judgeSocket(m, rig, run, i, st, sample, baselineTjC);
   }
 
   /** The runaway assessment of an untripped socket, then its bias and leakage checks. */
@@ -523,17 +527,17 @@ export class ProtectionMonitor {
     m: TelemetryLanded,
     rig: RigState,
     run: RunContext | null,
-    reading: SocketReading,
+    i: number,
     st: SocketState,
     sample: SocketSample,
     baselineTjC: number | undefined,
   ): Promise<void> | undefined {
     if (st.tripCmdId && st.tripDelivery === 'failed' && sample.biasOn) {
       // Still energised and the command never got through: try again with the same cmdId.
-      this.track(this.resendTrip(m, run, reading.i, st));
+      this.track(this.resendTrip(m, run, i, st));
     }
 
-    const dev = this.deviceFor(run, reading.i);
+    const dev = this.deviceFor(run, i);
     st.trend.push(sample, dev?.device.thetaJcCPerW ?? 0);
     let alarm: Promise<void> | undefined;
     if (dev && sample.biasOn && !st.tripCmdId) {
@@ -543,15 +547,15 @@ export class ProtectionMonitor {
       if (judgeTrend(st.trend, dev.device, this.protectionOpts, baselineTjC) === 'none') {
         st.warnStreak = 0;
         st.calm++;
-        if (st.calm >= this.opts.warnClearSamples && this.isActive('runaway-warning', m.rigId, reading.i)) {
+        if (st.calm >= this.opts.warnClearSamples && this.isActive('runaway-warning', m.rigId, i)) {
           const a = assessTrend(st.trend, dev.device, this.protectionOpts, baselineTjC);
-          alarm = this.clear('runaway-warning', m.rigId, reading.i, { reason: a.reason });
+          alarm = this.clear('runaway-warning', m.rigId, i, { reason: a.reason });
         }
-        return alarm ? alarm.then(() => this.checkRunSocket(m, run, reading, st, sample)) : this.checkRunSocket(m, run, reading, st, sample);
+        return alarm ? alarm.then(() => this.checkRunSocket(m, run, i, st, sample)) : this.checkRunSocket(m, run, i, st, sample);
       }
       const a = assessTrend(st.trend, dev.device, this.protectionOpts, baselineTjC);
       if (a.action === 'trip') {
-        this.startTrip(m, rig, run, reading.i, st, sample, a, dev);
+        this.startTrip(m, rig, run, i, st, sample, a, dev);
       } else if (a.action === 'warn') {
         st.calm = 0;
         st.warnStreak++;
@@ -563,26 +567,26 @@ export class ProtectionMonitor {
           severity: 'warning',
           rigId: m.rigId,
           runId: run?.runId ?? null,
-          socketIndex: reading.i,
-          title: `Socket ${reading.i} on ${m.rigCode}: runaway risk`,
+          socketIndex: i,
+          title: `Socket ${i} on ${m.rigCode}: runaway risk`,
           message: `${a.reason}. ${numbersText(a, dev.device)}`,
           action: WARN_ACTION,
           details: assessmentDetails(a, dev.device, sample, dev.serial),
         });
       }
     }
-    return alarm ? alarm.then(() => this.checkRunSocket(m, run, reading, st, sample)) : this.checkRunSocket(m, run, reading, st, sample);
+    return alarm ? alarm.then(() => this.checkRunSocket(m, run, i, st, sample)) : this.checkRunSocket(m, run, i, st, sample);
   }
 
   /** Bias, then leakage (each may write), then remember this sample for the next one. */
-  private checkRunSocket(m: TelemetryLanded, run: RunContext | null, reading: SocketReading, st: SocketState, sample: SocketSample): Promise<void> | undefined {
+  private checkRunSocket(m: TelemetryLanded, run: RunContext | null, i: number, st: SocketState, sample: SocketSample): Promise<void> | undefined {
     if (!run || st.tripCmdId) return remember(st, sample);
-    const bias = this.checkBias(m, run, reading, st, sample);
-    return bias ? bias.then(() => this.checkLeakageThenRemember(m, run, reading, st, sample)) : this.checkLeakageThenRemember(m, run, reading, st, sample);
+    const bias = this.checkBias(m, run, i, st, sample);
+    return bias ? bias.then(() => this.checkLeakageThenRemember(m, run, i, st, sample)) : this.checkLeakageThenRemember(m, run, i, st, sample);
   }
 
-  private checkLeakageThenRemember(m: TelemetryLanded, run: RunContext, reading: SocketReading, st: SocketState, sample: SocketSample): Promise<void> | undefined {
-    const leak = this.checkLeakage(m, run, reading, st, sample);
+  private checkLeakageThenRemember(m: TelemetryLanded, run: RunContext, i: number, st: SocketState, sample: SocketSample): Promise<void> | undefined {
+    const leak = this.checkLeakage(m, run, i, st, sample);
     return leak ? leak.then(() => remember(st, sample)) : remember(st, sample);
   }
 
@@ -746,7 +750,7 @@ export class ProtectionMonitor {
   }
 
   /** Returns a promise only when it raises or clears an alarm (most samples: nothing to wait for). */
-  private checkBias(m: TelemetryLanded, run: RunContext, reading: SocketReading, st: SocketState, sample: SocketSample): Promise<void> | undefined {
+  private checkBias(m: TelemetryLanded, run: RunContext, i: number, st: SocketState, sample: SocketSample): Promise<void> | undefined {
     const judged = run.state === 'stressing' && sample.biasOn;
     const checks: Array<{ what: string; unit: string; set: number; measured: number }> = [];
     if (judged) {
@@ -770,9 +774,9 @@ export class ProtectionMonitor {
           severity: 'warning',
           rigId: m.rigId,
           runId: run.runId,
-          socketIndex: reading.i,
-          title: `Socket ${reading.i} on ${m.rigCode}: bias out of tolerance`,
-          message: `Socket ${reading.i} on ${m.rigCode} reads ${fmtUnit(off.measured, off.unit)} ${off.what} against the plan's ${fmtUnit(off.set, off.unit)} (± ${tol} %): ${Math.abs(pct).toFixed(1)} % ${pct < 0 ? 'low' : 'high'}.`,
+          socketIndex: i,
+          title: `Socket ${i} on ${m.rigCode}: bias out of tolerance`,
+          message: `Socket ${i} on ${m.rigCode} reads ${fmtUnit(off.measured, off.unit)} ${off.what} against the plan's ${fmtUnit(off.set, off.unit)} (± ${tol} %): ${Math.abs(pct).toFixed(1)} % ${pct < 0 ? 'low' : 'high'}.`,
           action: BIAS_ACTION,
           details: { quantity: off.what, measured: off.measured, set: off.set, unit: off.unit, tolerancePct: tol, deviationPct: round(pct, 2) },
         });
@@ -780,8 +784,8 @@ export class ProtectionMonitor {
     } else if (judged) {
       st.biasIn++;
       st.biasOut = 0;
-      if (st.biasIn >= this.opts.debounceSamples && this.isActive('bias-out-of-tolerance', m.rigId, reading.i)) {
-        return this.clear('bias-out-of-tolerance', m.rigId, reading.i, { vV: sample.vV, iA: sample.iA });
+      if (st.biasIn >= this.opts.debounceSamples && this.isActive('bias-out-of-tolerance', m.rigId, i)) {
+        return this.clear('bias-out-of-tolerance', m.rigId, i, { vV: sample.vV, iA: sample.iA });
       }
     } else {
       st.biasOut = st.biasIn = 0;
@@ -790,14 +794,14 @@ export class ProtectionMonitor {
   }
 
   /** Returns a promise only when it raises or clears an alarm. */
-  private checkLeakage(m: TelemetryLanded, run: RunContext, reading: SocketReading, st: SocketState, sample: SocketSample): Promise<void> | undefined {
+  private checkLeakage(m: TelemetryLanded, run: RunContext, i: number, st: SocketState, sample: SocketSample): Promise<void> | undefined {
     if (!REVERSE_KINDS.has(run.planKind) || !sample.biasOn) return undefined;
     const factor = this.opts.leakageJumpFactor;
-    if (st.leakBaseline !== null && this.isActive('leakage-jump', m.rigId, reading.i)) {
+    if (st.leakBaseline !== null && this.isActive('leakage-jump', m.rigId, i)) {
       const expected = st.leakBaseline;
       if (sample.iA < factor * expected) {
         st.leakBaseline = null;
-        return this.clear('leakage-jump', m.rigId, reading.i, { iA: sample.iA });
+        return this.clear('leakage-jump', m.rigId, i, { iA: sample.iA });
       }
       return undefined;
     }
@@ -813,9 +817,9 @@ export class ProtectionMonitor {
           severity: 'warning',
           rigId: m.rigId,
           runId: run.runId,
-          socketIndex: reading.i,
-          title: `Socket ${reading.i} on ${m.rigCode}: leakage jumped ×${ratio >= 100 ? Math.round(ratio) : ratio.toFixed(1)}`,
-          message: `Under reverse bias the current of socket ${reading.i} on ${m.rigCode} rose from ${fmtUnit(st.lastI, 'A')} to ${fmtUnit(sample.iA, 'A')} between two samples (×${ratio.toPrecision(3)}; the alarm threshold is ×${factor} beyond the temperature effect, the case moved ${f1(sample.caseC - st.lastCaseC)} °C).`,
+          socketIndex: i,
+          title: `Socket ${i} on ${m.rigCode}: leakage jumped ×${ratio >= 100 ? Math.round(ratio) : ratio.toFixed(1)}`,
+          message: `Under reverse bias the current of socket ${i} on ${m.rigCode} rose from ${fmtUnit(st.lastI, 'A')} to ${fmtUnit(sample.iA, 'A')} between two samples (×${ratio.toPrecision(3)}; the alarm threshold is ×${factor} beyond the temperature effect, the case moved ${f1(sample.caseC - st.lastCaseC)} °C).`,
           action: LEAKAGE_ACTION,
           details: { fromA: st.lastI, toA: sample.iA, ratio: round(ratio, 2), factor, caseC: sample.caseC, stressClockS: sample.tS },
         },

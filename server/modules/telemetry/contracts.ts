@@ -2,11 +2,15 @@
  * In-process contracts between telemetry ingest (producer) and the scheduler, live protection
  * and the live floor (consumers). Ingest emits only AFTER the batch is committed to PostgreSQL.
  */
-import type { CommandAck, RigCommand, SocketReading } from '../../../shared/mqtt';
+import type { CommandAck, RigCommand, TelemetrySocketColumns } from '../../../shared/mqtt';
 
-/** ctx.events.emit(TELEMETRY_LANDED, landed) once per stored (new, not duplicate) message. */
+/**
+ * ctx.events.emit(TELEMETRY_LANDED, landed) once per stored (new, not duplicate) message. The
+ * sockets come as the message's columns (`socket[k]`, `caseC[k]`, … `flags[k]` = socket k; flags
+ * FLAG_BIAS_ON | FLAG_TRIPPED); `socketReadings()` gives one object per socket where that is easier.
+ */
 export const TELEMETRY_LANDED = 'telemetry-landed';
-export interface TelemetryLanded {
+export interface TelemetryLanded extends TelemetrySocketColumns {
   rigId: string;
   rigCode: string;
   seq: number;
@@ -15,7 +19,6 @@ export interface TelemetryLanded {
   chamberC: number;
   humidityPct: number | null;
   setpointC: number;
-  sockets: SocketReading[];
 }
 
 /** ctx.events.emit(RIG_STATUS_CHANGED, …) when a rig goes online/offline (status message or last will). */

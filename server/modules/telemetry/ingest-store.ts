@@ -9,7 +9,7 @@ import { Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import type { Pool, PoolClient } from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
-import { RIG_CODE_PATTERN, type RigStatus, type Telemetry } from '../../../shared/mqtt';
+import { FLAG_BIAS_ON, FLAG_TRIPPED, RIG_CODE_PATTERN, type RigStatus, type Telemetry } from '../../../shared/mqtt';
 import type { RigStatusChanged, TelemetryLanded } from './contracts';
 import { rollupsOf, upsertRollups, type RollupRow } from './rollups';
 
@@ -69,12 +69,16 @@ const f = (n: number) => String(n);
 /** One message's COPY lines (one per socket). */
 export function sampleCopyText(rigId: string, msg: Telemetry): string {
   const head = `${rigId}\t${msg.seq}\t`;
+  const { socket, caseC, vV, iA, flags } = msg;
   let s = '';
-  for (const k of msg.sockets) {
-    s += `${head}${k.i}\t${f(k.caseC)}\t${f(k.vV)}\t${f(k.iA)}\t${k.biasOn ? 't' : 'f'}\t${k.tripped ? 't' : 'f'}\n`;
+  for (let k = 0; k < socket.length; k++) {
+    s += `${head}${socket[k]}\t${f(caseC[k])}\t${f(vV[k])}\t${f(iA[k])}\t${BOOL_PAIR[flags[k] & 3]}\n`;
   }
   return s;
 }
+
+/** `bias_on\ttripped` COPY text by flags (FLAG_BIAS_ON = 1, FLAG_TRIPPED = 2). */
+const BOOL_PAIR = ['f\tf', 't\tf', 'f\tt', 't\tt'];
 
 /** COPY data goes out in pieces of about this size: a few large socket writes, not one per message. */
 const COPY_CHUNK_BYTES = 256 * 1024;
@@ -114,15 +118,15 @@ async function copySamples(client: PoolClient, rows: Array<{ rigId: string; msg:
 async function insertSamples(client: PoolClient, rows: Array<{ rigId: string; msg: Telemetry }>): Promise<void> {
   const cols: [string[], number[], number[], number[], number[], number[], boolean[], boolean[]] = [[], [], [], [], [], [], [], []];
   for (const { rigId, msg } of rows) {
-    for (const k of msg.sockets) {
+    for (let k = 0; k < msg.socket.length; k++) {
       cols[0].push(rigId);
       cols[1].push(msg.seq);
-      cols[2].push(k.i);
-      cols[3].push(k.caseC);
-      cols[4].push(k.vV);
-      cols[5].push(k.iA);
-      cols[6].push(k.biasOn);
-      cols[7].push(k.tripped);
+      cols[2].push(msg.socket[k]);
+      cols[3].push(msg.caseC[k]);
+      cols[4].push(msg.vV[k]);
+      cols[5].push(msg.iA[k]);
+      cols[6].push((msg.flags[k] & FLAG_BIAS_ON) !== 0);
+      cols[7].push((msg.flags[k] & FLAG_TRIPPED) !== 0);
     }
   }
   await client.query(
@@ -231,7 +235,7 @@ async function writeInTransaction(client: PoolClient, items: IngestItem[], extra
     const rig = rigs.get(it.rigCode);
     if (!rig) {
       const topic = `emberlot/v1/rigs/${it.rigCode}/${it.kind}`;
-      const body = it.kind === 'telemetry' ? `seq ${it.msg.seq}, ${it.msg.sockets.length} sockets` : `online ${it.status.online}`;
+      const body = it.kind === 'telemetry' ? `seq ${it.msg.seq}, ${it.msg.socket.length} sockets` : `online ${it.status.online}`;
       rejects.push({ topic, rigCode: it.rigCode, reason: `unknown rig code ${it.rigCode} (not registered)`, excerpt: body, at: it.receivedAt });
       continue;
     }
@@ -306,14 +310,14 @@ async function writeInTransaction(client: PoolClient, items: IngestItem[], extra
 
   // 3. Socket rows of the new messages only, then the rollups.
   let sampleRows = 0;
-  for (const r of fresh) sampleRows += r.msg.sockets.length;
+  for (const r of fresh) sampleRows += r.msg.socket.length;
   if (fresh.length) {
     if ((extras.samplesMode ?? 'copy') === 'copy') await copySamples(client, fresh);
     else await insertSamples(client, fresh);
   }
   const rollups = extras.rollups ?? 'inline';
   if (rollups === 'inline') {
-    if (fresh.length) await upsertRollups(client, rollupsOf(fresh.map((r) => ({ rigId: r.rigId, ts: new Date(r.msg.ts), stressClockS: r.msg.stressClockS, chamberC: r.msg.chamberC, sockets: r.msg.sockets }))), false);
+    if (fresh.length) await upsertRollups(client, rollupsOf(fresh.map((r) => ({ ...r.msg, rigId: r.rigId, ts: new Date(r.msg.ts) }))), false);
   } else if (rollups.length) {
     await upsertRollups(client, rollups, true);
   }
@@ -382,7 +386,11 @@ async function writeInTransaction(client: PoolClient, items: IngestItem[], extra
     chamberC: msg.chamberC,
     humidityPct: msg.humidityPct,
     setpointC: msg.setpointC,
-    sockets: msg.sockets,
+    socket: msg.socket,
+    caseC: msg.caseC,
+    vV: msg.vV,
+    iA: msg.iA,
+    flags: msg.flags,
   }));
   const statusChanges: RigStatusChanged[] = [];
   for (const s of states) {

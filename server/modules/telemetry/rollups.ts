@@ -77,7 +77,7 @@ export class RollupAccumulator {
   }
 
   /** Fold committed messages (each exactly once: the caller passes only newly stored ones). */
-  add(messages: Iterable<Pick<TelemetryLanded, 'rigId' | 'ts' | 'stressClockS' | 'chamberC' | 'sockets'>>): void {
+  add(messages: Iterable<Pick<TelemetryLanded, 'rigId' | 'ts' | 'stressClockS' | 'chamberC' | 'socket' | 'caseC' | 'iA'>>): void {
     for (const m of messages) {
       const minute = Math.floor(m.ts.getTime() / MINUTE_MS) * MINUTE_MS;
       const key = `${m.rigId}|${minute}`;
@@ -90,11 +90,12 @@ export class RollupAccumulator {
         g.set(-1, fresh(m.rigId, -1, minute, m.chamberC, 0, clock));
         this.rows++;
       }
-      for (const k of m.sockets) {
-        const r = g.get(k.i);
-        if (r) add(r, k.caseC, k.iA, clock);
+      const { socket, caseC, iA } = m;
+      for (let k = 0; k < socket.length; k++) {
+        const r = g.get(socket[k]);
+        if (r) add(r, caseC[k], iA[k], clock);
         else {
-          g.set(k.i, fresh(m.rigId, k.i, minute, k.caseC, k.iA, clock));
+          g.set(socket[k], fresh(m.rigId, socket[k], minute, caseC[k], iA[k], clock));
           this.rows++;
         }
       }
@@ -127,7 +128,7 @@ export class RollupAccumulator {
 }
 
 /** The rollups of a set of messages, for writing in the same transaction (tools and tests). */
-export function rollupsOf(messages: Iterable<Pick<TelemetryLanded, 'rigId' | 'ts' | 'stressClockS' | 'chamberC' | 'sockets'>>): RollupRow[] {
+export function rollupsOf(messages: Iterable<Pick<TelemetryLanded, 'rigId' | 'ts' | 'stressClockS' | 'chamberC' | 'socket' | 'caseC' | 'iA'>>): RollupRow[] {
   const acc = new RollupAccumulator();
   acc.add(messages);
   return acc.take();
