@@ -462,9 +462,42 @@ export function isPlainTelemetryColumns(j: unknown): j is TelemetryColumns {
 }
 
 /**
+ * Below this magnitude a value is stored as 0. Temperatures, voltages and humidity are stored as
+ * 4-byte floats (PostgreSQL `real`), which hold nothing between 0 and ~1.4e-45, and PostgreSQL
+ * refuses such input ("out of range for type real") instead of rounding it: one message carrying
+ * 1e-50 °C failed its whole batch, and the ingest retried that batch for ever, holding every
+ * rig's telemetry. A margin above the smallest float keeps the rounding of text → double →
+ * float out of the question; no instrument reads within 1e-44 of zero.
+ */
+export const REAL_FLUSH_BELOW = 1e-44;
+
+const flushed = (x: number): number => (x !== 0 && x < REAL_FLUSH_BELOW && x > -REAL_FLUSH_BELOW ? 0 : x);
+
+function flushInPlace(a: number[]): void {
+  for (let k = 0; k < a.length; k++) {
+    const x = a[k];
+    if (x !== 0 && x < REAL_FLUSH_BELOW && x > -REAL_FLUSH_BELOW) a[k] = 0;
+  }
+}
+
+/**
+ * Valid telemetry with every value its database column can hold: the fields stored as `real`
+ * (chamber, set point, humidity, case temperature, voltage) flushed to 0 below REAL_FLUSH_BELOW.
+ * In place: the message came from JSON.parse or was just built.
+ */
+export function withStorableReals(t: Telemetry): Telemetry {
+  t.chamberC = flushed(t.chamberC);
+  t.setpointC = flushed(t.setpointC);
+  if (t.humidityPct !== null) t.humidityPct = flushed(t.humidityPct);
+  flushInPlace(t.caseC);
+  flushInPlace(t.vV);
+  return t;
+}
+
+/**
  * parsePayload(telemetryColumnsSchema, …) for version 2 and parsePayload(telemetrySchema, …) for
  * version 1 (turned into columns), each with its fast path: the same results for a fraction of
- * the CPU. A payload whose `v` is not 2 is judged as version 1.
+ * the CPU, then withStorableReals. A payload whose `v` is not 2 is judged as version 1.
  */
 export function parseTelemetry(input: string | Uint8Array): ParseResult<Telemetry> {
   const json = readJson(input, MAX_PACKET_BYTES);
@@ -472,12 +505,13 @@ export function parseTelemetry(input: string | Uint8Array): ParseResult<Telemetr
   const j = json.data;
   if (typeof j === 'object' && j !== null && (j as { v?: unknown }).v === 2) {
     // Kept as parsed: exactly the schema's keys, every value valid.
-    if (isPlainTelemetryColumns(j)) return { ok: true, data: j };
-    return validate(telemetryColumnsSchema, j);
+    if (isPlainTelemetryColumns(j)) return { ok: true, data: withStorableReals(j) };
+    const r = validate(telemetryColumnsSchema, j);
+    return r.ok ? { ok: true, data: withStorableReals(r.data) } : r;
   }
-  if (isPlainTelemetry(j)) return { ok: true, data: telemetryFromReadings(j) };
+  if (isPlainTelemetry(j)) return { ok: true, data: withStorableReals(telemetryFromReadings(j)) };
   const r = validate(telemetrySchema, j);
-  return r.ok ? { ok: true, data: telemetryFromReadings(r.data) } : r;
+  return r.ok ? { ok: true, data: withStorableReals(telemetryFromReadings(r.data)) } : r;
 }
 
 export const parseStatus = (input: string | Uint8Array) => parsePayload(statusSchema, input);

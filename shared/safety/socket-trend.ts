@@ -73,7 +73,7 @@ export const REG_LEN = 7;
 /** Start with room for this many samples (5 × 8 bytes each): a 1 Hz window of 300 s needs no regrowth. */
 const INITIAL_CAPACITY = 512;
 
-/** Fields of one sample in SocketTrend's ring buffer (interleaved: one sample = STRIDE numbers). */
+/** Fields of one sample in SocketTrend's ring (interleaved: one sample = STRIDE numbers). */
 const F_T = 0;
 const F_CASE = 1;
 const F_POWER = 2;
@@ -83,68 +83,67 @@ const STRIDE = 4;
 /** Absolute sample indices are renumbered (by a multiple of the capacity) before they reach this. */
 const RENUMBER_AT = 0x40000000;
 
+/**
+ * Slots of the state at the head of SocketTrend's one Float64Array. The sums are taken about an
+ * anchor (time, Tj, case and power of the oldest sample when last rebuilt): Σ u^k (k = 1…4),
+ * Σ u^k·y (k = 0…2), Σ y² with u = (t − t0)/scale, y = Tj − y0; Σ c, Σ c², Σ p, Σ p², Σ c·p with
+ * c = case − c0, p = P − p0 (the line of P on the case); raw Σ P², Σ (case − chamber)·P (θca).
+ */
+const S_T0 = 0;
+const S_Y0 = 1;
+const S_C0 = 2;
+const S_P0 = 3;
+const S_S1 = 4;
+const S_S2 = 5;
+const S_S3 = 6;
+const S_S4 = 7;
+const S_Q0 = 8;
+const S_Q1 = 9;
+const S_Q2 = 10;
+const S_YY = 11;
+const S_SC = 12;
+const S_SCC = 13;
+const S_SP = 14;
+const S_SPP = 15;
+const S_SCP = 16;
+const S_RAW_P2 = 17;
+const S_RAW_RISE_P = 18;
+/** The latest sample's time, chamber and junction estimate; θjc of the window's estimates. */
+const S_LAST_T = 19;
+const S_LAST_CHAMBER = 20;
+const S_LAST_TJ = 21;
+const S_THETA_JC = 22;
+/** Where the ring starts. */
+const HEAD = 24;
+
 export class SocketTrend {
   /**
-   * Ring buffer of the window (continuous bias-on stretch within windowS), absolute indices
-   * [start, end), the fields of one sample side by side. Live protection pushes one sample into
-   * each of thousands of sockets in turn, so every push reaches memory that has left the cache
-   * since; one buffer with the sample's fields together costs one or two cache lines per push
-   * where separate arrays per field cost several (measured: bench/README.md).
+   * Everything with a fractional value lives in one Float64Array: the state (S_* slots), then the
+   * ring of the window (continuous bias-on stretch within windowS, absolute indices [start, end),
+   * STRIDE numbers per sample), then the two monotonic deques (absolute indices of the case
+   * minimum and maximum, `cap` slots each, entries [head, tail)). Live protection pushes one
+   * sample into each of thousands of sockets in turn, so every push reaches memory that has left
+   * the cache since: one array costs a few adjacent cache lines per push, where number fields (one
+   * heap box each in V8) and separate arrays cost a line apiece (measured: bench/README.md).
    */
   private cap: number;
-  private buf: Float64Array;
+  private b: Float64Array;
+  /** Offsets of the deques in `b` (they move when the ring grows). */
+  private minAt: number;
+  private maxAt: number;
   private start = 0;
   private end = 0;
-  /**
-   * Monotonic deques of absolute indices for the case minimum and maximum: rings of `cap` slots,
-   * entries [head, tail). They hold indices of the window only, so never more than `cap`.
-   */
-  private minQ: Int32Array;
-  private maxQ: Int32Array;
   private minHead = 0;
   private minTail = 0;
   private maxHead = 0;
   private maxTail = 0;
-
-  // Anchor and scale of the sums.
-  private t0 = 0;
-  private y0 = 0;
-  private c0 = 0;
-  private p0 = 0;
-  private scale = 1;
   private opsSinceRebuild = 0;
+  /** Time scale of the sums (the window length). */
+  private readonly scale: number;
 
-  // Σ u^k (k = 0…4), Σ u^k·y (k = 0…2), Σ y²  with u = (t − t0)/scale, y = Tj − y0.
-  private s1 = 0;
-  private s2 = 0;
-  private s3 = 0;
-  private s4 = 0;
-  private q0 = 0;
-  private q1 = 0;
-  private q2 = 0;
-  private yy = 0;
-  // Power and case: c = case − c0, p = P − p0 (line fit); raw Σ P², Σ (case − chamber)·P (θca).
-  private sc = 0;
-  private scc = 0;
-  private sp = 0;
-  private spp = 0;
-  private scp = 0;
-  private rawP2 = 0;
-  private rawRiseP = 0;
-
-  /**
-   * The latest sample pushed (bias on or off): whether there is one since the last reset, its time
-   * and bias. Kept as numbers, not the sample object, so samples die young (the window holds
-   * thousands of sockets; one retained object each was steady old-generation garbage).
-   */
+  /** Whether a sample was pushed (bias on or off) since the last reset, and its bias. */
   hasLast = false;
-  lastTS = NaN;
   lastBiasOn = false;
-  lastChamberC = NaN;
-  /** Its junction estimate: T_case + θjc·P with bias on, else T_case. */
-  lastTjC = 0;
-  /** θjc of the window's junction estimates (Tj = T_case + θjc·P, computed when summed). */
-  private thetaJc = NaN;
 
   constructor(
     /** Look-back, stress-clock seconds. */
@@ -159,9 +158,27 @@ export class SocketTrend {
     let cap = MIN_CAPACITY;
     while (cap < Math.min(INITIAL_CAPACITY, maxSamples)) cap *= 2;
     this.cap = cap;
-    this.buf = new Float64Array(cap * STRIDE);
-    this.minQ = new Int32Array(cap);
-    this.maxQ = new Int32Array(cap);
+    this.b = new Float64Array(HEAD + cap * (STRIDE + 2));
+    this.minAt = HEAD + cap * STRIDE;
+    this.maxAt = this.minAt + cap;
+    this.b[S_LAST_T] = NaN;
+    this.b[S_LAST_CHAMBER] = NaN;
+    this.b[S_THETA_JC] = NaN;
+  }
+
+  /** The latest sample's stress-clock time (NaN with none). */
+  get lastTS(): number {
+    return this.b[S_LAST_T];
+  }
+
+  /** The latest sample's chamber temperature (NaN with none). */
+  get lastChamberC(): number {
+    return this.b[S_LAST_CHAMBER];
+  }
+
+  /** The latest sample's junction estimate: T_case + θjc·P with bias on, else T_case. */
+  get lastTjC(): number {
+    return this.b[S_LAST_TJ];
   }
 
   /** Samples in the current bias-on stretch. */
@@ -175,21 +192,21 @@ export class SocketTrend {
   }
 
   private timeAt(k: number): number {
-    return this.buf[(k & (this.cap - 1)) * STRIDE + F_T];
+    return this.b[HEAD + (k & (this.cap - 1)) * STRIDE + F_T];
   }
 
   private caseAt(k: number): number {
-    return this.buf[(k & (this.cap - 1)) * STRIDE + F_CASE];
+    return this.b[HEAD + (k & (this.cap - 1)) * STRIDE + F_CASE];
   }
 
   /** Forget everything (a gap in telemetry, a trip, a reboot of the rig's clock). */
   reset(): void {
     this.clearWindow();
     this.hasLast = false;
-    this.lastTS = NaN;
     this.lastBiasOn = false;
-    this.lastChamberC = NaN;
-    this.lastTjC = 0;
+    this.b[S_LAST_T] = NaN;
+    this.b[S_LAST_CHAMBER] = NaN;
+    this.b[S_LAST_TJ] = 0;
   }
 
   private clearWindow(): void {
@@ -205,29 +222,30 @@ export class SocketTrend {
    * changed) the window's junction estimates are recomputed.
    */
   push(s: TrendSample, thetaJcCPerW: number): void {
-    if (this.hasLast && !(s.tS > this.lastTS)) this.clearWindow();
+    const b = this.b;
+    if (this.hasLast && !(s.tS > b[S_LAST_T])) this.clearWindow();
     this.hasLast = true;
-    this.lastTS = s.tS;
+    b[S_LAST_T] = s.tS;
     this.lastBiasOn = s.biasOn;
-    this.lastChamberC = s.chamberC;
+    b[S_LAST_CHAMBER] = s.chamberC;
     const caseC = s.caseC;
     const p = s.vV * s.iA;
     if (!s.biasOn) {
-      this.lastTjC = caseC;
+      b[S_LAST_TJ] = caseC;
       this.clearWindow();
       return;
     }
-    if (thetaJcCPerW !== this.thetaJc) {
-      this.thetaJc = thetaJcCPerW;
+    if (thetaJcCPerW !== b[S_THETA_JC]) {
+      b[S_THETA_JC] = thetaJcCPerW;
       if (this.count > 0) this.rebuild();
     }
-    this.lastTjC = caseC + thetaJcCPerW * p;
+    b[S_LAST_TJ] = caseC + thetaJcCPerW * p;
     if (this.count === this.cap) this.grow();
     if (this.end >= this.renumberAt) this.renumber();
+    const buf = this.b;
     const mask = this.cap - 1;
-    const buf = this.buf;
     const k = this.end++;
-    const o = (k & mask) * STRIDE;
+    const o = HEAD + (k & mask) * STRIDE;
     buf[o + F_T] = s.tS;
     buf[o + F_CASE] = caseC;
     buf[o + F_POWER] = p;
@@ -235,53 +253,55 @@ export class SocketTrend {
     if (this.count === 1) this.rebuild();
     else this.addSums(o, 1);
     // Case extremes.
-    const minQ = this.minQ;
-    while (this.minTail > this.minHead && this.caseAt(minQ[(this.minTail - 1) & mask]) >= caseC) this.minTail--;
-    minQ[this.minTail++ & mask] = k;
-    const maxQ = this.maxQ;
-    while (this.maxTail > this.maxHead && this.caseAt(maxQ[(this.maxTail - 1) & mask]) <= caseC) this.maxTail--;
-    maxQ[this.maxTail++ & mask] = k;
+    const minAt = this.minAt;
+    while (this.minTail > this.minHead && this.caseAt(buf[minAt + ((this.minTail - 1) & mask)]) >= caseC) this.minTail--;
+    buf[minAt + (this.minTail++ & mask)] = k;
+    const maxAt = this.maxAt;
+    while (this.maxTail > this.maxHead && this.caseAt(buf[maxAt + ((this.maxTail - 1) & mask)]) <= caseC) this.maxTail--;
+    buf[maxAt + (this.maxTail++ & mask)] = k;
     // Leave the window: older than windowS, or beyond maxSamples.
     const oldest = s.tS - this.windowS;
-    while (this.count > 1 && (buf[(this.start & mask) * STRIDE + F_T] < oldest || this.count > this.maxSamples)) {
-      this.addSums((this.start & mask) * STRIDE, -1);
+    while (this.count > 1 && (buf[HEAD + (this.start & mask) * STRIDE + F_T] < oldest || this.count > this.maxSamples)) {
+      this.addSums(HEAD + (this.start & mask) * STRIDE, -1);
       this.start++;
     }
-    while (minQ[this.minHead & mask] < this.start) this.minHead++;
-    while (maxQ[this.maxHead & mask] < this.start) this.maxHead++;
-    if (buf[(this.start & mask) * STRIDE + F_T] - this.t0 > this.scale || this.opsSinceRebuild > 4 * this.count + 64) this.rebuild();
+    while (buf[minAt + (this.minHead & mask)] < this.start) this.minHead++;
+    while (buf[maxAt + (this.maxHead & mask)] < this.start) this.maxHead++;
+    if (buf[HEAD + (this.start & mask) * STRIDE + F_T] - buf[S_T0] > this.scale || this.opsSinceRebuild > 4 * this.count + 64) this.rebuild();
   }
 
   private grow(): void {
     const cap = this.cap * 2;
     const oldMask = this.cap - 1;
     const mask = cap - 1;
-    const b = new Float64Array(cap * STRIDE);
+    const from = this.b;
+    const b = new Float64Array(HEAD + cap * (STRIDE + 2));
+    for (let f = 0; f < HEAD; f++) b[f] = from[f];
     for (let k = this.start; k < this.end; k++) {
-      const from = (k & oldMask) * STRIDE;
-      const to = (k & mask) * STRIDE;
-      for (let f = 0; f < STRIDE; f++) b[to + f] = this.buf[from + f];
+      const src = HEAD + (k & oldMask) * STRIDE;
+      const dst = HEAD + (k & mask) * STRIDE;
+      for (let f = 0; f < STRIDE; f++) b[dst + f] = from[src + f];
     }
-    const moveQ = (q: Int32Array, head: number, tail: number) => {
-      const r = new Int32Array(cap);
-      for (let n = head; n < tail; n++) r[n & mask] = q[n & oldMask];
-      return r;
-    };
-    this.minQ = moveQ(this.minQ, this.minHead, this.minTail);
-    this.maxQ = moveQ(this.maxQ, this.maxHead, this.maxTail);
-    this.buf = b;
+    const minAt = HEAD + cap * STRIDE;
+    const maxAt = minAt + cap;
+    for (let n = this.minHead; n < this.minTail; n++) b[minAt + (n & mask)] = from[this.minAt + (n & oldMask)];
+    for (let n = this.maxHead; n < this.maxTail; n++) b[maxAt + (n & mask)] = from[this.maxAt + (n & oldMask)];
+    this.b = b;
     this.cap = cap;
+    this.minAt = minAt;
+    this.maxAt = maxAt;
   }
 
   /**
-   * Keep absolute indices within Int32 (the deques store them): subtract a multiple of the
+   * Keep absolute indices small (they are masked as 32-bit integers): subtract a multiple of the
    * capacity from every index, which leaves every ring position where it is. Once per 2³⁰ samples.
    */
   private renumber(): void {
+    const b = this.b;
     const mask = this.cap - 1;
     const base = this.start - (this.start & mask);
-    for (let n = this.minHead; n < this.minTail; n++) this.minQ[n & mask] -= base;
-    for (let n = this.maxHead; n < this.maxTail; n++) this.maxQ[n & mask] -= base;
+    for (let n = this.minHead; n < this.minTail; n++) b[this.minAt + (n & mask)] -= base;
+    for (let n = this.maxHead; n < this.maxTail; n++) b[this.maxAt + (n & mask)] -= base;
     this.minTail -= this.minHead - (this.minHead & mask);
     this.minHead &= mask;
     this.maxTail -= this.maxHead - (this.maxHead & mask);
@@ -291,52 +311,50 @@ export class SocketTrend {
   }
 
   private zeroSums(): void {
-    this.s1 = this.s2 = this.s3 = this.s4 = 0;
-    this.q0 = this.q1 = this.q2 = this.yy = 0;
-    this.sc = this.scc = this.sp = this.spp = this.scp = 0;
-    this.rawP2 = this.rawRiseP = 0;
+    this.b.fill(0, S_S1, S_RAW_RISE_P + 1);
   }
 
-  /** Re-anchor at the oldest sample and recompute every sum from the buffer. */
+  /** Re-anchor at the oldest sample and recompute every sum from the ring. */
   private rebuild(): void {
     this.zeroSums();
     this.opsSinceRebuild = 0;
     if (this.count === 0) return;
+    const b = this.b;
     const mask = this.cap - 1;
-    const o0 = (this.start & mask) * STRIDE;
-    this.t0 = this.buf[o0 + F_T];
-    this.c0 = this.buf[o0 + F_CASE];
-    this.p0 = this.buf[o0 + F_POWER];
-    this.y0 = this.c0 + this.thetaJc * this.p0;
-    for (let k = this.start; k < this.end; k++) this.addSums((k & mask) * STRIDE, 1);
+    const o0 = HEAD + (this.start & mask) * STRIDE;
+    b[S_T0] = b[o0 + F_T];
+    b[S_C0] = b[o0 + F_CASE];
+    b[S_P0] = b[o0 + F_POWER];
+    b[S_Y0] = b[S_C0] + b[S_THETA_JC] * b[S_P0];
+    for (let k = this.start; k < this.end; k++) this.addSums(HEAD + (k & mask) * STRIDE, 1);
     this.opsSinceRebuild = 0;
   }
 
-  /** Add (sign 1) or remove (−1) the sample at buffer offset `o` to or from the sums. */
+  /** Add (sign 1) or remove (−1) the sample at offset `o` of the array to or from the sums. */
   private addSums(o: number, sign: 1 | -1): void {
-    const buf = this.buf;
-    const caseC = buf[o + F_CASE];
-    const P = buf[o + F_POWER];
-    const u = (buf[o + F_T] - this.t0) / this.scale;
-    const y = caseC + this.thetaJc * P - this.y0;
+    const b = this.b;
+    const caseC = b[o + F_CASE];
+    const P = b[o + F_POWER];
+    const u = (b[o + F_T] - b[S_T0]) / this.scale;
+    const y = caseC + b[S_THETA_JC] * P - b[S_Y0];
     const u2 = u * u;
-    this.s1 += sign * u;
-    this.s2 += sign * u2;
-    this.s3 += sign * u2 * u;
-    this.s4 += sign * u2 * u2;
-    this.q0 += sign * y;
-    this.q1 += sign * u * y;
-    this.q2 += sign * u2 * y;
-    this.yy += sign * y * y;
-    const c = caseC - this.c0;
-    const p = P - this.p0;
-    this.sc += sign * c;
-    this.scc += sign * c * c;
-    this.sp += sign * p;
-    this.spp += sign * p * p;
-    this.scp += sign * c * p;
-    this.rawP2 += sign * P * P;
-    this.rawRiseP += sign * buf[o + F_RISE] * P;
+    b[S_S1] += sign * u;
+    b[S_S2] += sign * u2;
+    b[S_S3] += sign * u2 * u;
+    b[S_S4] += sign * u2 * u2;
+    b[S_Q0] += sign * y;
+    b[S_Q1] += sign * u * y;
+    b[S_Q2] += sign * u2 * y;
+    b[S_YY] += sign * y * y;
+    const c = caseC - b[S_C0];
+    const p = P - b[S_P0];
+    b[S_SC] += sign * c;
+    b[S_SCC] += sign * c * c;
+    b[S_SP] += sign * p;
+    b[S_SPP] += sign * p * p;
+    b[S_SCP] += sign * c * p;
+    b[S_RAW_P2] += sign * P * P;
+    b[S_RAW_RISE_P] += sign * b[o + F_RISE] * P;
     this.opsSinceRebuild++;
   }
 
@@ -359,7 +377,11 @@ export class SocketTrend {
     const n = this.count;
     if (n < 4) return false;
     const s0 = n;
-    const { s1, s2, s3, s4 } = this;
+    const st = this.b;
+    const s1 = st[S_S1];
+    const s2 = st[S_S2];
+    const s3 = st[S_S3];
+    const s4 = st[S_S4];
     // Symmetric M = [[s0,s1,s2],[s1,s2,s3],[s2,s3,s4]]; inverse by cofactors.
     const a = s2 * s4 - s3 * s3;
     const b = -(s1 * s4 - s2 * s3);
@@ -372,17 +394,19 @@ export class SocketTrend {
     const i11 = (s0 * s4 - s2 * s2) / det;
     const i12 = -(s0 * s3 - s1 * s2) / det;
     const i22 = (s0 * s2 - s1 * s1) / det;
-    const { q0, q1, q2 } = this;
+    const q0 = st[S_Q0];
+    const q1 = st[S_Q1];
+    const q2 = st[S_Q2];
     const a0 = i00 * q0 + i01 * q1 + i02 * q2;
     const a1 = i01 * q0 + i11 * q1 + i12 * q2;
     const a2 = i02 * q0 + i12 * q1 + i22 * q2;
-    const rss = Math.max(0, this.yy - (a0 * q0 + a1 * q1 + a2 * q2));
+    const rss = Math.max(0, st[S_YY] - (a0 * q0 + a1 * q1 + a2 * q2));
     const sigma2 = rss / (n - 3);
-    const ul = (this.timeAt(this.end - 1) - this.t0) / this.scale;
+    const ul = (this.timeAt(this.end - 1) - st[S_T0]) / this.scale;
     const w = this.scale;
     // slope = (a1 + 2·a2·ul)/w: variance gᵀ(XᵀX)⁻¹g·σ̂²/w² with g = (0, 1, 2·ul).
     const gVar = i11 + 4 * ul * i12 + 4 * ul * ul * i22;
-    out[FIT_C0] = this.y0 + a0 + a1 * ul + a2 * ul * ul;
+    out[FIT_C0] = st[S_Y0] + a0 + a1 * ul + a2 * ul * ul;
     out[FIT_SLOPE] = (a1 + 2 * a2 * ul) / w;
     out[FIT_SLOPE_SE] = Math.sqrt(Math.max(0, sigma2 * gVar)) / w;
     out[FIT_ACCEL] = (2 * a2) / (w * w);
@@ -400,15 +424,18 @@ export class SocketTrend {
   /** caseRegression into `out` (REG_* slots), allocating nothing. */
   caseRegressionTo(out: Float64Array): void {
     const n = this.count;
+    const b = this.b;
     const mask = this.cap - 1;
-    const span = n > 0 ? this.caseAt(this.maxQ[this.maxHead & mask]) - this.caseAt(this.minQ[this.minHead & mask]) : 0;
-    const sxx = n > 0 ? Math.max(0, this.scc - (this.sc * this.sc) / n) : 0;
-    const sxy = n > 0 ? this.scp - (this.sc * this.sp) / n : 0;
-    const syy = n > 0 ? Math.max(0, this.spp - (this.sp * this.sp) / n) : 0;
+    const span = n > 0 ? this.caseAt(b[this.maxAt + (this.maxHead & mask)]) - this.caseAt(b[this.minAt + (this.minHead & mask)]) : 0;
+    const sc = b[S_SC];
+    const sp = b[S_SP];
+    const sxx = n > 0 ? Math.max(0, b[S_SCC] - (sc * sc) / n) : 0;
+    const sxy = n > 0 ? b[S_SCP] - (sc * sp) / n : 0;
+    const syy = n > 0 ? Math.max(0, b[S_SPP] - (sp * sp) / n) : 0;
     const slope = sxx > 0 ? sxy / sxx : NaN;
     out[REG_N] = n;
-    out[REG_SUM_P2] = this.rawP2;
-    out[REG_SUM_RISE_P] = this.rawRiseP;
+    out[REG_SUM_P2] = b[S_RAW_P2];
+    out[REG_SUM_RISE_P] = b[S_RAW_RISE_P];
     out[REG_CASE_SPAN] = span;
     out[REG_SLOPE] = slope;
     out[REG_RSS] = sxx > 0 ? Math.max(0, syy - slope * sxy) : NaN;

@@ -3,7 +3,7 @@
  * rig lookup that rides with BEGIN, the rig codes written into the statement as an array literal.
  * The reference is the rigs table and the rows of telemetry_samples, read back.
  */
-import { telemetryFromReadings, type Telemetry } from '../../shared/mqtt';
+import { parseTelemetry, telemetryFromReadings, type Telemetry } from '../../shared/mqtt';
 import { configFromEnv } from '../../server/config';
 import { createContext, type AppContext } from '../../server/context';
 import { writeBatch, type IngestItem } from '../../server/modules/telemetry/ingest-store';
@@ -63,4 +63,29 @@ test('the rigs looked up with BEGIN: every valid code is found, "NULL" included'
   const mixed = await writeBatch(pgPoolOf(ctx), [item('OV-9-X', 2), item('NOPE-1', 1)]);
   expect(mixed.newMessages).toBe(1);
   expect(mixed.rejected).toBe(1);
+});
+
+test('values a 4-byte float cannot hold are stored as 0, and the batch around them commits', async () => {
+  // PostgreSQL refuses '1e-50'::real ("out of range for type real", PostgreSQL 15 float4in); such a
+  // value inside a COPY failed the whole batch, and the ingest retried it for ever.
+  const rejectedByPostgres = await pgPoolOf(ctx).query(`SELECT '1e-50'::real`).then(
+    () => false,
+    (err: Error) => /out of range for type real/.test(err.message),
+  );
+  expect(rejectedByPostgres).toBe(true);
+  const text = JSON.stringify({
+    v: 2, rig: 'B7', seq: 40, ts: '2026-12-02T06:00:40.000Z', stressClockS: 40, chamberC: 1e-50, humidityPct: 2e-45, setpointC: 125,
+    socket: [0, 1, 2, 3], caseC: [1e-50, -3e-46, 1e-40, 130.5], vV: [20, -1e-300, 0, 20], iA: [1e-300, 0.25, 0.25, 0.25], flags: [1, 1, 1, 1],
+  });
+  const parsed = parseTelemetry(text);
+  if (!parsed.ok) throw new Error(parsed.reason);
+  expect(parsed.data).toMatchObject({ chamberC: 0, humidityPct: 0, caseC: [0, 0, 1e-40, 130.5], vV: [20, 0, 0, 20], iA: [1e-300, 0.25, 0.25, 0.25] });
+  const result = await writeBatch(pgPoolOf(ctx), [{ kind: 'telemetry', rigCode: 'B7', msg: parsed.data, receivedAt: new Date() }, item('B7', 41)]);
+  expect(result.newMessages).toBe(2);
+  const rows = (await rowsOf('B7', 40)).map((r) => JSON.parse(r) as { case_c: number; v_v: number; i_a: number });
+  // 1e-40 is a subnormal float: kept (as the nearest float); the double column keeps 1e-300.
+  expect(rows.map((r) => [r.case_c, r.v_v])).toEqual([[0, 20], [0, 0], [1e-40, 0], [130.5, 20]]);
+  expect(rows[0].i_a).toBe(1e-300);
+  const [batch] = await db.ds.query(`SELECT chamber_c, humidity_pct FROM telemetry_batches WHERE rig_id = $1 AND seq = 40`, [ids.B7]);
+  expect(batch).toEqual({ chamber_c: 0, humidity_pct: 0 });
 });

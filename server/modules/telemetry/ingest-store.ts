@@ -9,7 +9,10 @@ import { Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import type { Pool, PoolClient } from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
-import { FLAG_BIAS_ON, FLAG_TRIPPED, RIG_CODE_PATTERN, type RigStatus, type Telemetry } from '../../../shared/mqtt';
+// From the modules themselves, not shared/mqtt's index: its re-exports compile to one shared keyed
+// getter, which V8 does not inline (it was ~4 % of the ingest's CPU in the per-socket loops).
+import { FLAG_BIAS_ON, FLAG_TRIPPED, type RigStatus, type Telemetry } from '../../../shared/mqtt/payloads';
+import { RIG_CODE_PATTERN } from '../../../shared/mqtt/topics';
 import type { RigStatusChanged, TelemetryLanded } from './contracts';
 import { rollupsOf, upsertRollups, type RollupRow } from './rollups';
 
