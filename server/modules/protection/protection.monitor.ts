@@ -111,8 +111,9 @@ interface SocketState {
   sawTripped: boolean;
   biasOut: number;
   biasIn: number;
-  lastI: number | null;
-  lastCaseC: number | null;
+  /** The previous sample's current (NaN: none, or bias was off) and case temperature (NaN: none). */
+  lastI: number;
+  lastCaseC: number;
   lastBiasOn: boolean;
   leakBaseline: number | null;
 }
@@ -127,7 +128,9 @@ interface DeviceInfo {
 
 /** What the next sample's checks compare with. */
 function remember(st: SocketState, sample: SocketSample): undefined {
-  st.lastI = sample.biasOn ? sample.iA : null;
+  // Numbers, never null: a field that only ever holds numbers is updated in place, where one that
+  // may hold null takes a new heap number on every sample of every socket.
+  st.lastI = sample.biasOn ? sample.iA : NaN;
   st.lastCaseC = sample.caseC;
   st.lastBiasOn = sample.biasOn;
   return undefined;
@@ -322,7 +325,7 @@ export class ProtectionMonitor {
   private socketState(r: RigState, i: number): SocketState {
     let s = r.sockets.get(i);
     if (!s) {
-      s = { trend: new SocketTrend(this.windowS, this.opts.historyMaxSamples), calm: 0, warnStreak: 0, tripCmdId: null, tripDelivery: null, tripReason: '', sawTripped: false, biasOut: 0, biasIn: 0, lastI: null, lastCaseC: null, lastBiasOn: false, leakBaseline: null };
+      s = { trend: new SocketTrend(this.windowS, this.opts.historyMaxSamples), calm: 0, warnStreak: 0, tripCmdId: null, tripDelivery: null, tripReason: '', sawTripped: false, biasOut: 0, biasIn: 0, lastI: NaN, lastCaseC: NaN, lastBiasOn: false, leakBaseline: null };
       r.sockets.set(i, s);
     }
     return s;
@@ -754,18 +757,18 @@ export class ProtectionMonitor {
   /** Returns a promise only when it raises or clears an alarm (most samples: nothing to wait for). */
   private checkBias(m: TelemetryLanded, run: RunContext, i: number, st: SocketState, sample: SocketSample): Promise<void> | undefined {
     const judged = run.state === 'stressing' && sample.biasOn;
-    const checks: Array<{ what: string; unit: string; set: number; measured: number }> = [];
+    const tol = run.bias.tolerancePct ?? 5;
+    // The first quantity out of tolerance; the description is built only then (this runs for every
+    // socket of every message).
+    let off: { what: string; unit: string; set: number; measured: number } | null = null;
     if (judged) {
       const b = run.bias;
+      const outside = (set: number, measured: number) => Math.abs(measured - set) > (tol / 100) * set;
       if (REVERSE_KINDS.has(run.planKind)) {
-        if (b.vcbV) checks.push({ what: 'reverse voltage', unit: 'V', set: b.vcbV, measured: sample.vV });
-      } else {
-        if (b.vceV) checks.push({ what: 'VCE', unit: 'V', set: b.vceV, measured: sample.vV });
-        if (b.icA) checks.push({ what: 'collector current', unit: 'A', set: b.icA, measured: sample.iA });
-      }
+        if (b.vcbV && outside(b.vcbV, sample.vV)) off = { what: 'reverse voltage', unit: 'V', set: b.vcbV, measured: sample.vV };
+      } else if (b.vceV && outside(b.vceV, sample.vV)) off = { what: 'VCE', unit: 'V', set: b.vceV, measured: sample.vV };
+      else if (b.icA && outside(b.icA, sample.iA)) off = { what: 'collector current', unit: 'A', set: b.icA, measured: sample.iA };
     }
-    const tol = run.bias.tolerancePct ?? 5;
-    const off = checks.find((c) => Math.abs(c.measured - c.set) > (tol / 100) * c.set);
     if (judged && off) {
       st.biasOut++;
       st.biasIn = 0;
@@ -807,7 +810,7 @@ export class ProtectionMonitor {
       }
       return undefined;
     }
-    if (!st.lastBiasOn || st.lastI === null || st.lastCaseC === null || st.lastI < this.opts.leakageFloorA) return undefined;
+    if (!st.lastBiasOn || Number.isNaN(st.lastI) || Number.isNaN(st.lastCaseC) || st.lastI < this.opts.leakageFloorA) return undefined;
     // Leakage roughly doubles per 10 °C (common practice): allow for the case temperature change.
     const thermal = Math.max(1, Math.pow(2, (sample.caseC - st.lastCaseC) / 10));
     const ratio = sample.iA / st.lastI;
