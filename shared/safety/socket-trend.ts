@@ -270,6 +270,29 @@ export class SocketTrend {
     if (buf[HEAD + (this.start & mask) * STRIDE + F_T] - buf[S_T0] > this.scale || this.opsSinceRebuild > 4 * this.count + 64) this.rebuild();
   }
 
+  /**
+   * Read (and so bring into the cache) the memory the next push will use: the state, the ring
+   * slots at both ends of the window and the ends of both deques. Live protection calls this for
+   * every socket of a message before pushing any: these loads do not depend on each other, so the
+   * processor overlaps their cache misses, where one push after another waited on each in turn.
+   * Returns a meaningless number (keep it, so the loads are not optimised away).
+   */
+  touch(): number {
+    const b = this.b;
+    const mask = this.cap - 1;
+    return (
+      b[S_LAST_T] +
+      b[S_Q2] +
+      b[S_THETA_JC] +
+      b[HEAD + (this.end & mask) * STRIDE] +
+      b[HEAD + (this.start & mask) * STRIDE] +
+      b[this.minAt + ((this.minTail - 1) & mask)] +
+      b[this.maxAt + ((this.maxTail - 1) & mask)] +
+      b[this.minAt + (this.minHead & mask)] +
+      b[this.maxAt + (this.maxHead & mask)]
+    );
+  }
+
   private grow(): void {
     const cap = this.cap * 2;
     const oldMask = this.cap - 1;

@@ -410,6 +410,9 @@ export class ProtectionMonitor {
     );
   }
 
+  /** Where onTelemetry leaves SocketTrend.touch's sum (so the reads stay). */
+  private warmSink = 0;
+
   /** A few messages per turn of the event loop (turns.ts). */
   private readonly turns = new TurnGate(MESSAGES_PER_TURN);
 
@@ -435,6 +438,14 @@ export class ProtectionMonitor {
 
     const run = await this.runFor(m.rigId);
     const baselineTjC = this.peerBaseline(m, run);
+    // Every socket's window first, all at once (SocketTrend.touch): the judging below then finds
+    // them in the cache instead of waiting on memory socket by socket.
+    let warm = 0;
+    for (let k = 0; k < m.socket.length; k++) {
+      const st = rig.sockets.get(m.socket[k]);
+      if (st) warm += st.trend.touch();
+    }
+    this.warmSink = warm;
     for (let k = 0; k < m.socket.length; k++) {
       // Most sockets are judged without waiting on anything: only an alarm to raise or clear, or a
       // bias/leakage check that writes, hands back a promise.
