@@ -88,7 +88,7 @@ export function DevicesScreen() {
         isEmpty={(l) => l.length === 0}
         empty={<EmptyState title="No device types yet" message={canWrite ? 'Add the first part number with its data-sheet ratings.' : 'An engineer adds part numbers here.'} />}
       >
-        {(list) => <DataTable caption="Device types" columns={columns} rows={list} rowKey={(d) => d.id} testID="device-types-table" />}
+        {(list) => <DataTable caption="Device types" columns={columns} rows={list} rowKey={(d) => d.id} minTableWidth={780} testID="device-types-table" />}
       </QueryState>
 
       <View style={{ gap: space.sm }}>

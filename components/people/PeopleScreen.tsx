@@ -141,6 +141,7 @@ export function PeopleScreen() {
             columns={columns}
             rows={[...list].sort((a, b) => Number(b.active) - Number(a.active) || a.name.localeCompare(b.name))}
             rowKey={(u) => u.id}
+            minTableWidth={860}
             testID="people-table"
           />
         )}

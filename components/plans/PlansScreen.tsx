@@ -44,13 +44,13 @@ export function PlansScreen() {
   const plans = usePlans({ kind: kind === 'all' ? undefined : kind, deviceTypeId: deviceTypeId === 'all' ? undefined : deviceTypeId });
 
   const columns: Column<PlanSummary>[] = [
-    { key: 'name', title: 'Plan', flex: 2.2, card: 'title', render: (p) => p.name },
-    { key: 'kind', title: 'Stress', flex: 1.1, render: (p) => <Badge label={KIND_SHORT[p.kind]} /> },
+    { key: 'name', title: 'Plan', flex: 2.0, card: 'title', render: (p) => p.name },
+    { key: 'kind', title: 'Stress', flex: 1.4, render: (p) => <Badge label={KIND_SHORT[p.kind]} /> },
     { key: 'device', title: 'Device', flex: 1, card: 'subtitle', render: (p) => p.device.partNumber },
     { key: 'chamber', title: 'Chamber', flex: 1, render: (p) => `${celsius(p.chamberC)}${p.humidityPct !== null ? ` / ${p.humidityPct} % RH` : ''}` },
     { key: 'bias', title: 'Bias', flex: 1.6, render: (p) => biasSummary(p) },
     { key: 'hours', title: 'Hours · sample', flex: 1.1, render: (p) => `${p.durationH.toLocaleString('en-GB')} h · ${p.sampleSize}/${p.acceptNumber}` },
-    { key: 'version', title: 'Ver.', flex: 0.5, render: (p) => `v${p.version}` },
+    { key: 'version', title: 'Ver.', flex: 0.4, render: (p) => `v${p.version}` },
     { key: 'check', title: 'Check', flex: 1.9, render: (p) => <CheckStatusPill status={p.checkStatus} size="sm" /> },
     {
       key: 'open',
@@ -100,7 +100,7 @@ export function PlansScreen() {
       >
         {(list) => (
           <>
-            <DataTable caption="Stress plans, current versions" columns={columns} rows={list} rowKey={(p) => p.id} cardsBelow="desktop" testID="plans-table" />
+            <DataTable caption="Stress plans, current versions" columns={columns} rows={list} rowKey={(p) => p.id} cardsBelow="desktop" minTableWidth={920} testID="plans-table" />
             <Text variant="caption" tone="subtle">
               Only the newest version of each plan is listed; open a plan to see its earlier versions. “Refused by check” plans are drafts: a run
               cannot be booked with them without a written reason.

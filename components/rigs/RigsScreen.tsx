@@ -209,7 +209,7 @@ export function RigsScreen() {
         isEmpty={(l) => l.length === 0}
         empty={<EmptyState title="No rigs registered" message={isAdmin ? 'Register the first rig to issue its MQTT credentials.' : 'An administrator registers rigs.'} />}
       >
-        {(list) => <DataTable caption="Registered rigs" columns={columns} rows={list} rowKey={(r) => r.id} testID="rigs-table" />}
+        {(list) => <DataTable caption="Registered rigs" columns={columns} rows={list} rowKey={(r) => r.id} minTableWidth={860} testID="rigs-table" />}
       </QueryState>
       {maintFor ? <MaintenancePanel rig={maintFor} canEdit={isAdmin} onClose={() => setMaintFor(null)} /> : null}
       <IngestHealth />

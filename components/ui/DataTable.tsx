@@ -1,5 +1,5 @@
-import { Fragment, type ReactNode } from 'react';
-import { View } from 'react-native';
+import { Fragment, useState, type ReactNode } from 'react';
+import { View, type LayoutChangeEvent } from 'react-native';
 import { useBreakpoints } from '@/components/theme/breakpoints';
 import { colors, radius, shadow, space } from '@/components/theme/tokens';
 import { Text } from './Text';
@@ -27,6 +27,11 @@ interface Props<T> {
   caption: string;
   /** Cards below this width: 'tablet' = on phones only (default), 'desktop' = also on tablets. */
   cardsBelow?: 'tablet' | 'desktop';
+  /**
+   * Cards also whenever the space the table gets is narrower than this (px): at 1024 px the side
+   * rail leaves a nine-column table ~700 px, where its headers broke mid-word and pills were cut.
+   */
+  minTableWidth?: number;
   testID?: string;
 }
 
@@ -40,9 +45,13 @@ const cell = (v: ReactNode, align?: 'left' | 'right', strong?: boolean) =>
   );
 
 /** A real table on wide screens; the same rows as stacked cards on a phone. */
-export function DataTable<T>({ columns, rows, rowKey, caption, cardsBelow = 'tablet', testID }: Props<T>) {
+export function DataTable<T>({ columns, rows, rowKey, caption, cardsBelow = 'tablet', minTableWidth = 0, testID }: Props<T>) {
   const bp = useBreakpoints();
-  const asCards = cardsBelow === 'desktop' ? !bp.gtTablet : !bp.gtPhone;
+  // The width this component is given (0 until measured), for minTableWidth.
+  const [width, setWidth] = useState(0);
+  const onLayout = (e: LayoutChangeEvent) => setWidth(Math.round(e.nativeEvent.layout.width));
+  const tooNarrow = minTableWidth > 0 && width > 0 && width < minTableWidth;
+  const asCards = (cardsBelow === 'desktop' ? !bp.gtTablet : !bp.gtPhone) || tooNarrow;
 
   if (asCards) {
     const title = columns.find((c) => c.card === 'title') ?? columns[0];
@@ -50,7 +59,7 @@ export function DataTable<T>({ columns, rows, rowKey, caption, cardsBelow = 'tab
     const actions = columns.filter((c) => c.card === 'actions');
     const fields = columns.filter((c) => c !== title && !subtitle.includes(c) && !actions.includes(c) && c.card !== 'hidden');
     return (
-      <View testID={testID} accessibilityRole="list" accessibilityLabel={caption} style={{ gap: space.sm }}>
+      <View testID={testID} accessibilityRole="list" accessibilityLabel={caption} style={{ gap: space.sm }} onLayout={onLayout}>
         {rows.map((row) => (
           <View
             key={rowKey(row)}
@@ -93,6 +102,7 @@ export function DataTable<T>({ columns, rows, rowKey, caption, cardsBelow = 'tab
       testID={testID}
       role="table"
       aria-label={caption}
+      onLayout={onLayout}
       style={[{ backgroundColor: colors.surface, borderRadius: radius.lg, borderWidth: 1, borderColor: colors.border, overflow: 'hidden' }, shadow]}
     >
       <View role="row" style={{ flexDirection: 'row', backgroundColor: colors.surfaceSunken, borderBottomWidth: 1, borderBottomColor: colors.border, paddingHorizontal: space.md }}>

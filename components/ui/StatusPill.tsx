@@ -48,6 +48,8 @@ export function Badge({ label, testID }: { label: string; testID?: string }) {
       testID={testID}
       style={{
         alignSelf: 'flex-start',
+        // Within its cell: a long label ("Intermittent life") wraps instead of running into the next column.
+        maxWidth: '100%',
         paddingHorizontal: space.xs,
         paddingVertical: 2,
         borderRadius: radius.sm,
@@ -56,7 +58,7 @@ export function Badge({ label, testID }: { label: string; testID?: string }) {
         borderColor: colors.border,
       }}
     >
-      <Text variant="caption" tone="muted" numberOfLines={1}>
+      <Text variant="caption" tone="muted" numberOfLines={2}>
         {label}
       </Text>
     </View>
