@@ -44,7 +44,7 @@ export function PlansScreen() {
   const plans = usePlans({ kind: kind === 'all' ? undefined : kind, deviceTypeId: deviceTypeId === 'all' ? undefined : deviceTypeId });
 
   const columns: Column<PlanSummary>[] = [
-    { key: 'name', title: 'Plan', flex: 2.0, card: 'title', render: (p) => p.name },
+    { key: 'name', title: 'Plan', flex: 2, card: 'title', render: (p) => p.name },
     { key: 'kind', title: 'Stress', flex: 1.4, render: (p) => <Badge label={KIND_SHORT[p.kind]} /> },
     { key: 'device', title: 'Device', flex: 1, card: 'subtitle', render: (p) => p.device.partNumber },
     { key: 'chamber', title: 'Chamber', flex: 1, render: (p) => `${celsius(p.chamberC)}${p.humidityPct !== null ? ` / ${p.humidityPct} % RH` : ''}` },
