@@ -43,6 +43,30 @@ export function clusterOptions(): ClusterOptions {
   return { name: SETTINGS.cluster, port: SETTINGS.ports.pg, fast: false, quiet: true };
 }
 
+/**
+ * WAL segment files as a server that has run for a while has them. A fresh cluster creates each
+ * 16 MB segment (zero-filled: new page-cache pages) as the WAL reaches it; a running server renames
+ * the segments a checkpoint no longer needs and writes over them. Without this the ingest pass, the
+ * first heavy writer, paid for every new segment and the COPY baseline, which runs after it, reused
+ * them (bench/README.md: "A fresh cluster's first writer"). Each switch needs a record since the
+ * last; the checkpoint then keeps the files for re-use (up to max_wal_size, 1 GB). Returns how many
+ * segment files the cluster holds.
+ */
+async function preallocateWal(pool: Pool): Promise<number> {
+  const client = await pool.connect();
+  try {
+    for (let i = 0; i < WAL_SEGMENTS_READY; i++) await client.query(`SELECT pg_logical_emit_message(false, 'emberlot-bench', 'wal'), pg_switch_wal()`);
+    await client.query('CHECKPOINT');
+    const { rows } = await client.query<{ n: number }>('SELECT count(*)::int AS n FROM pg_ls_waldir()');
+    return rows[0].n;
+  } finally {
+    client.release();
+  }
+}
+
+/** 64 × 16 MB = max_wal_size (1 GB): what checkpoints keep for re-use on a busy server. */
+const WAL_SEGMENTS_READY = 64;
+
 /** Only the parts of the demo seed the scenarios build on: people, device types and lots, plans. */
 const BASE_SEED = ['users', 'device types and lots', 'stress plans'];
 
@@ -73,8 +97,9 @@ export async function prepareDatabase(log: (l: string) => void): Promise<BenchEn
   const ds = createDataSource(configFromEnv(env).db, { poolSize: 8 });
   await ds.initialize(); // migrations
   for (const step of SEED_STEPS.filter((s) => BASE_SEED.includes(s.name))) await step.run(ds);
-  log(`PostgreSQL "bench" on 127.0.0.1:${SETTINGS.ports.pg} (fresh cluster, durable settings), schema and base seed in ${((Date.now() - t0) / 1000).toFixed(1)} s`);
   const pool = (ds.driver as unknown as { master: Pool }).master;
+  const walSegments = await preallocateWal(pool);
+  log(`PostgreSQL "bench" on 127.0.0.1:${SETTINGS.ports.pg} (fresh cluster, durable settings, ${walSegments} WAL segment files ready), schema and base seed in ${((Date.now() - t0) / 1000).toFixed(1)} s`);
   return {
     cluster,
     clusterOpts,
