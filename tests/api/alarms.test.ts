@@ -7,6 +7,8 @@ import { AlarmEntity, AuditLogEntity, NotificationEntity, UserEntity } from '../
 import { getAlarmsService, type AlarmsService, type RaiseAlarmInput } from '../../server/modules/alarms/alarms.service';
 import { getNotificationsService } from '../../server/modules/notifications/notifications.service';
 import { MAIL_SERVICE, MailService, getMailService } from '../../server/modules/mail/mail.service';
+import { randomUUID } from 'node:crypto';
+import { handleRunEvent } from '../../server/modules/alarms/run-event-alarms';
 import { tableCounts } from '../support/db';
 import { createTestApp, emailFor, type TestApp } from '../support/api';
 import { createRunFixture, type RunFixture } from '../broker/protection-fixtures';
@@ -218,5 +220,29 @@ describe('/api/notifications', () => {
     const recipients = await getNotificationsService(t.ctx).announceAlarm(alarm);
     expect(recipients).not.toContain(emailFor('manager'));
     expect(recipients).toHaveLength(3);
+  });
+});
+
+describe('run-scoped alarms', () => {
+  it('read-point-overdue belongs to its run: two runs on one rig give two alarms; leaving one hold clears only that run\'s', async () => {
+    // Rig AL-01's earlier run (finished, its final read point never measured) and its present one.
+    const earlierRun = randomUUID();
+    const overdue = (runId: string, readPointH: number): RaiseAlarmInput =>
+      input(a1, { kind: 'read-point-overdue', runId, socketIndex: null, title: `Read point ${readPointH} h not measured within 96 h`, details: { readPointH } });
+    const first = await svc.raise(overdue(earlierRun, 1000));
+    const second = await svc.raise(overdue(a1.run.id, 168));
+    expect(first.created).toBe(true);
+    expect(second.created).toBe(true); // before: merged into the first, which then named the second run
+    expect(second.alarm.id).not.toBe(first.alarm.id);
+    const again = await svc.raise(overdue(a1.run.id, 168));
+    expect(again).toMatchObject({ created: false, alarm: { id: second.alarm.id } });
+
+    // The present run leaves its read-hold: its alarm clears, the earlier run's stays active.
+    await handleRunEvent(t.ctx, { type: 'state-changed', runId: a1.run.id, runCode: a1.run.code, rigId: a1.rig.id, rigCode: a1.rig.code, at: new Date().toISOString(), from: 'read-hold', to: 'heating', actor: 'operator', reason: null });
+    const rows = await t.ctx.ds.getRepository(AlarmEntity).findBy({ kind: 'read-point-overdue', rigId: a1.rig.id });
+    const byRun = new Map(rows.map((r) => [r.runId, r]));
+    expect(byRun.get(a1.run.id)?.clearedAt).not.toBeNull();
+    expect(byRun.get(earlierRun)?.clearedAt).toBeNull();
+    expect(byRun.get(earlierRun)?.details).toMatchObject({ readPointH: 1000 });
   });
 });

@@ -2,7 +2,8 @@
  * Alarms: raised by protection and the run scheduler, acknowledged by people.
  *
  * Life of an alarm (one row):
- * - raise(kind, rig, socket): if a *live* alarm with the same dedupe key (kind + rig + socket)
+ * - raise(kind, rig, socket): if a *live* alarm with the same dedupe key (kind + rig + socket; + run
+ *   for run-scoped kinds such as read-point-overdue)
  *   exists, it is updated (numbers, message, last seen; re-activated if it had cleared); otherwise a
  *   new row is inserted and subscribers are told ('alarm' event, change 'raised').
  * - clear(key): the condition went away → clearedAt. The alarm stays on the open list until someone
@@ -57,8 +58,16 @@ export interface RaiseResult {
   reactivated: boolean;
 }
 
-export function dedupeKeyFor(kind: AlarmKindName, rigId: string | null, socketIndex: number | null): string {
-  return `${kind}:${rigId ?? '-'}:${socketIndex ?? '-'}`;
+/**
+ * Kinds that belong to one run rather than to the rig's present state: two runs on one rig (a
+ * finished run's final read point never measured, then the next run's) are two things to do, so
+ * their alarms must not merge — the key carries the run.
+ */
+const RUN_SCOPED_KINDS: ReadonlySet<AlarmKindName> = new Set<AlarmKindName>(['read-point-overdue']);
+
+export function dedupeKeyFor(kind: AlarmKindName, rigId: string | null, socketIndex: number | null, runId: string | null = null): string {
+  const key = `${kind}:${rigId ?? '-'}:${socketIndex ?? '-'}`;
+  return RUN_SCOPED_KINDS.has(kind) ? `${key}:run:${runId ?? '-'}` : key;
 }
 
 const clip = (s: string, n: number) => (s.length > n ? s.slice(0, n - 1) + '…' : s);
@@ -76,7 +85,7 @@ export class AlarmsService {
 
   /** Raise or refresh the alarm for this condition. */
   async raise(input: RaiseAlarmInput): Promise<RaiseResult> {
-    const key = dedupeKeyFor(input.kind, input.rigId, input.socketIndex);
+    const key = dedupeKeyFor(input.kind, input.rigId, input.socketIndex, input.runId);
     const now = this.ctx.now();
     const { row, created, reactivated } = await this.ctx.ds.transaction(async (m) => {
       await m.query('SELECT pg_advisory_xact_lock(hashtext($1))', [`alarm:${key}`]);
@@ -115,9 +124,12 @@ export class AlarmsService {
     return { alarm, created, reactivated };
   }
 
-  /** The condition behind this key went away. Returns the cleared alarm, or null if none was active. */
-  async clear(kind: AlarmKindName, rigId: string | null, socketIndex: number | null, details?: Record<string, unknown>): Promise<Alarm | null> {
-    const key = dedupeKeyFor(kind, rigId, socketIndex);
+  /**
+   * The condition behind this key went away. Returns the cleared alarm, or null if none was active.
+   * `runId` picks the run for run-scoped kinds (RUN_SCOPED_KINDS); other kinds ignore it.
+   */
+  async clear(kind: AlarmKindName, rigId: string | null, socketIndex: number | null, details?: Record<string, unknown>, runId: string | null = null): Promise<Alarm | null> {
+    const key = dedupeKeyFor(kind, rigId, socketIndex, runId);
     const row = await this.ctx.ds.transaction(async (m) => {
       await m.query('SELECT pg_advisory_xact_lock(hashtext($1))', [`alarm:${key}`]);
       const live = await m.findOne(AlarmEntity, { where: { dedupeKey: key, clearedAt: IsNull() }, order: { raisedAt: 'DESC' } });

@@ -86,7 +86,7 @@ export async function handleRunEvent(ctx: AppContext, e: RunEvent): Promise<void
       return;
     }
     case 'state-changed': {
-      if (e.from === 'read-hold') await alarms.clear('read-point-overdue', e.rigId, null, { runState: e.to });
+      if (e.from === 'read-hold') await alarms.clear('read-point-overdue', e.rigId, null, { runState: e.to }, e.runId);
       if (e.to === 'stressing' || e.to === 'finished' || e.to === 'aborted') {
         await alarms.clear('ambient-not-reached', e.rigId, null, { runState: e.to });
       }
