@@ -42,11 +42,18 @@ export function applyCommand(state: RigState, cmd: Exclude<RigCommand, { type: '
         }
       }
       const set = cmd.sockets === 'all' ? 'all' : new Set(cmd.sockets);
+      if (cmd.icA !== undefined) {
+        if (cmd.iA !== undefined) return { state, ok: false, error: 'give iA (forced base current) or icA (regulated collector current), not both' };
+        const reverse = state.sockets.filter((s) => (set === 'all' || set.has(s.i)) && s.mode !== 'powered').map((s) => s.i);
+        if (reverse.length) return { state, ok: false, error: `icA needs powered bias; socket ${reverse.join(', ')} is reverse-biased` };
+      }
       const next = updateSockets(state, set, (s) => ({
         ...s,
         biasOn: cmd.on,
         vV: cmd.vV ?? s.vV,
-        ...(cmd.iA !== undefined ? (s.mode === 'powered' ? { ibA: cmd.iA } : { complianceA: cmd.iA }) : {}),
+        // A forced IB replaces regulation; a regulated IC replaces the forced IB.
+        ...(cmd.iA !== undefined ? (s.mode === 'powered' ? { ibA: cmd.iA, icSetA: null } : { complianceA: cmd.iA }) : {}),
+        ...(cmd.icA !== undefined ? { icSetA: cmd.icA } : {}),
       }));
       return { state: next, ok: true };
     }

@@ -64,6 +64,7 @@ const rigSchema = z
     biasOn: z.boolean().optional(),
     vV: z.number().optional(),
     iA: z.number().optional(),
+    icA: z.number().min(0).optional(),
     samplePeriodWallS: z.number().positive().optional(),
     stressHoursPerWallSecond: z.number().positive().optional(),
     resendAfterWallS: z.number().positive().optional(),

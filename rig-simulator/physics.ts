@@ -63,8 +63,13 @@ export interface SocketState {
   biasOn: boolean;
   /** VCE (powered) or reverse voltage (reverse), V. */
   vV: number;
-  /** Forced base current IB under powered bias, A (unused under reverse bias). */
+  /** Forced base current IB under powered bias, A (unused under reverse bias, or while icSetA is set). */
   ibA: number;
+  /**
+   * Collector current the rig regulates under powered bias, A: it servoes the base drive to hold IC
+   * there, so a gain rising with temperature cannot raise the current. Null/absent = forced IB.
+   */
+  icSetA?: number | null;
   /** Bias supply current limit, A. */
   complianceA: number;
   tripped: boolean;
@@ -137,7 +142,16 @@ export function socketElectrical(s: SocketState, tjC: number): { iA: number; vOu
   }
   const beta = deviceGain(s.device, tjC, s.stressH);
   const icbo = deviceLeakage(s.device, tjC, s.stressH);
-  const ic = Math.min(s.complianceA, beta * s.ibA + (beta + 1) * icbo);
+  const leakA = (beta + 1) * icbo;
+  if (s.icSetA !== undefined && s.icSetA !== null) {
+    // Regulated IC: the base drive is whatever holds IC at the set point. The regulator cannot drive
+    // IB below zero, so once leakage alone ((β+1)·ICBO) exceeds the set point it flows regardless.
+    const target = Math.min(s.complianceA, s.icSetA);
+    const ib = Math.max(0, (target - leakA) / beta);
+    const ic = Math.min(s.complianceA, Math.max(target, leakA));
+    return { iA: ic, vOutV: s.vV, powerW: s.vV * ic + VBE_V * ib };
+  }
+  const ic = Math.min(s.complianceA, beta * s.ibA + leakA);
   return { iA: ic, vOutV: s.vV, powerW: s.vV * ic + VBE_V * s.ibA };
 }
 
@@ -275,6 +289,8 @@ export interface SocketSetup {
   thetaCaMaxCPerW?: number;
   vV?: number;
   ibA?: number;
+  /** Regulated collector current under powered bias (instead of a forced IB). */
+  icA?: number | null;
   complianceA?: number;
   biasOn?: boolean;
 }
@@ -331,6 +347,7 @@ export function createRigState(setup: RigSetup): RigState {
         biasOn: s.biasOn ?? false,
         vV: s.vV ?? (mode === 'powered' ? DEFAULTS.poweredVceV : DEFAULTS.reverseV),
         ibA: s.ibA ?? DEFAULTS.poweredIbA,
+        icSetA: mode === 'powered' ? s.icA ?? null : null,
         complianceA: s.complianceA ?? DEFAULTS.complianceA,
         tripped: false,
         tripReason: null,

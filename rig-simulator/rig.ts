@@ -76,6 +76,8 @@ export interface RigConfig {
   biasOn?: boolean;
   vV?: number;
   iA?: number;
+  /** Powered sockets: regulate IC at this current instead of forcing IB = iA. */
+  icA?: number;
   /** Accelerated clock: stress hours per wall second (default 1; env EMBERLOT_CLOCK_RATE in main.ts). */
   stressHoursPerWallSecond?: number;
   /** Wall seconds between telemetry messages (default 0.25). */
@@ -164,6 +166,7 @@ function buildSockets(config: RigConfig): SocketSetup[] {
       biasOn: config.biasOn ?? false,
       vV: config.vV,
       ...(config.iA !== undefined ? (mode === 'powered' ? { ibA: config.iA } : { complianceA: config.iA }) : {}),
+      ...(config.icA !== undefined && mode === 'powered' ? { icA: config.icA } : {}),
     };
   });
 }

@@ -9,7 +9,6 @@ import * as fs from 'node:fs';
 import * as path from 'node:path';
 import type { DataSource } from 'typeorm';
 import { DEMO_LOTS, demoRigSecret, rigMqttUsername } from '../server/seed/demo-data';
-import { gainAtTemperature } from '../shared/physics';
 
 const ACTIVE = ['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling'];
 const IDLE_SOCKETS = 4;
@@ -27,15 +26,6 @@ interface SocketRow {
   icbo_ref_a: number | null;
   theta_jc_c_per_w: number;
   tj_max_c: number;
-}
-
-/**
- * The gain a healthy socket runs at: β(T) = β_ref·(T/T_ref)^XTB [Gummel–Poon] at the chamber plus
- * the ~10 °C a soundly heat-sunk board adds, so IB = IC/β holds a regulated-IC plan's current.
- */
-function gainNearChamber(s: SocketRow | undefined, chamberC: number): number {
-  if (!s) return 100;
-  return gainAtTemperature({ betaRef: s.beta_ref, tRefC: s.beta_ref_tc, tC: chamberC + 10, xtb: s.xtb });
 }
 
 function spread(seed: string, pct: number): number {
@@ -118,9 +108,8 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
       setpointC: stressing ? run.chamber_c : 25,
       humidityPct: run.humidity_pct,
       vV: reverse ? bias.vcbV ?? 0 : bias.vceV ?? 0,
-      // The simulator forces base current; a plan that regulates IC gets the IB that gives that IC at
-      // the reference gain (the gain then rises with temperature, as in a real fixed-IB board).
-      iA: reverse ? 0.001 : bias.ibA ?? (bias.icA ? bias.icA / gainNearChamber(sockets[0], run.chamber_c) : 0.001),
+      // Powered: the plan's forced IB, or the collector current the rig regulates (icA).
+      ...(reverse ? { iA: 0.001 } : bias.icA ? { icA: bias.icA } : { iA: bias.ibA ?? 0.001 }),
     };
     if (!reverse && !faultPlaced && devices.length > 5) {
       // Sockets 5 and 11: their thermal pads dry out, the case-to-chamber resistance climbing toward

@@ -227,8 +227,10 @@ export const setpointCommandSchema = z.object({
 
 /**
  * Bias on/off for some sockets. `vV` = VCE (powered) or reverse voltage (reverse bias);
- * `iA` = forced base drive IB under powered bias, the supply's current limit under reverse bias.
- * Omitted values keep the socket's current setting.
+ * `iA` = forced base drive IB under powered bias, the supply's current limit under reverse bias;
+ * `icA` = collector current the rig regulates under powered bias (it servoes the base drive), for
+ * plans that set IC rather than IB — never together with `iA`, and refused by a reverse-biased
+ * socket. Omitted values keep the socket's current setting.
  */
 export const biasCommandSchema = z.object({
   ...commandBase,
@@ -237,6 +239,7 @@ export const biasCommandSchema = z.object({
   on: z.boolean(),
   vV: volts().optional(),
   iA: amps().optional(),
+  icA: z.number().min(0).max(CURRENT_LIMIT_A).optional(),
 });
 
 /** Remove bias from one socket at once and latch it off until `reset-trip`. */

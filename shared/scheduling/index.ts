@@ -14,6 +14,24 @@ export function planBiasV(plan: PlanLike): number | null {
   return v === null || v === undefined ? null : v;
 }
 
+/**
+ * What a plan's bias command sets besides on/off: the voltage (planBiasV), and for powered kinds
+ * either the forced base current (`iA` = IB) or the collector current the rig regulates (`icA`).
+ * The plan check judged a plan on that choice (a regulated IC cannot run away through the gain),
+ * so the rig must get the same one. Reverse-bias kinds send no current: the rig keeps its supply's
+ * current limit.
+ */
+export function planBiasSettings(plan: PlanLike): { vV?: number; iA?: number; icA?: number } {
+  const out: { vV?: number; iA?: number; icA?: number } = {};
+  const v = planBiasV(plan);
+  if (v !== null) out.vV = v;
+  if (plan.kind === 'hotl' || plan.kind === 'iol') {
+    if (plan.bias.icA !== null && plan.bias.icA !== undefined) out.icA = plan.bias.icA;
+    else if (plan.bias.ibA !== null && plan.bias.ibA !== undefined) out.iA = plan.bias.ibA;
+  }
+  return out;
+}
+
 /** Accrual conditions of a plan version. */
 export function accrualConditionsFor(plan: PlanLike & { chamberC: number; humidityPct: number | null }): AccrualConditions {
   return {

@@ -11,6 +11,7 @@ import {
   chamberWithinBand,
   earliestSlot,
   msPerClockHFor,
+  planBiasSettings,
   planSchedule,
   proposeRigs,
   runDurationH,
@@ -283,3 +284,18 @@ describe('hour accrual', () => {
     expect(accrueInterval(h(1, 0, 79.9), h(2, 600, 85), thb, [0, 1]).runS).toBe(0);
   });
 });
+
+describe('the bias command a plan asks of the rig', () => {
+  const bias = { vcbV: null, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 };
+  it('reverse-bias kinds send VCB only; the rig keeps its supply current limit', () => {
+    expect(planBiasSettings({ kind: 'htrb', bias: { ...bias, vcbV: 112 } })).toEqual({ vV: 112 });
+    expect(planBiasSettings({ kind: 'thb', bias: { ...bias, vcbV: 80, ibA: 0.002 } })).toEqual({ vV: 80 });
+  });
+  it('powered kinds send VCE with the forced IB, or with the collector current the rig regulates', () => {
+    expect(planBiasSettings({ kind: 'hotl', bias: { ...bias, vceV: 30, ibA: 0.0006 } })).toEqual({ vV: 30, iA: 0.0006 });
+    // An IC-regulated plan: before, the command carried no current at all and the rig kept whatever
+    // base drive it had, so the current the plan check judged was never asked for.
+    expect(planBiasSettings({ kind: 'iol', bias: { ...bias, vceV: 20, icA: 0.5 } })).toEqual({ vV: 20, icA: 0.5 });
+  });
+});
+

@@ -182,6 +182,51 @@ describe('self-heating at fixed base current', () => {
   });
 });
 
+describe('regulated collector current (the rig servoes IB to hold IC)', () => {
+  const board = (over: { icA?: number; ibA?: number; chamberC?: number; dev?: Partial<DeviceModel> }) =>
+    createRigState({
+      rigCode: 'OV-04',
+      chamberC: over.chamberC ?? 100,
+      sockets: [{ device: device(over.dev), biasOn: true, vV: 20, thetaCaCPerW: 2, caseTauS: 120, ...(over.icA !== undefined ? { icA: over.icA } : { ibA: over.ibA }) }],
+    });
+
+  test('IC stays at the set point while the gain rises with Tj; forced IB lets it climb with β(T)', () => {
+    const ic = 0.4;
+    const regulated = run(board({ icA: ic }), 4 * 3600, 300).sockets[0];
+    // The same 0.4 A at 25 °C as a forced IB: IB = IC / β_ref.
+    const forced = run(board({ ibA: ic / 80 }), 4 * 3600, 300).sockets[0];
+    expect(regulated.iA).toBeCloseTo(ic, 12);
+    // IC = β·IB + (β+1)·ICBO at the forced board's Tj, β(T) = β_ref·(T/T_ref)^XTB
+    // [pub: Gummel–Poon temperature law as in SPICE; common-emitter leakage relation, textbook]
+    const beta = 80 * Math.pow((forced.tjC + 273.15) / (25 + 273.15), 1.5);
+    const icbo = 10e-9 * Math.pow(2, (forced.tjC - 25) / 10); // common practice: doubling per 10 °C
+    expect(forced.iA).toBeCloseTo(beta * (ic / 80) + (beta + 1) * icbo, 6);
+    expect(forced.iA).toBeGreaterThan(ic * 1.3);
+    // Tj = Tc + θjc·P and Tc = Ta + θca·P at steady state [pub: JEDEC JESD51 definitions]; the regulator's
+    // base drive IB = (IC − (β+1)·ICBO)/β at the settled Tj.
+    const b = deviceGain(regulated.device, regulated.tjC, regulated.stressH);
+    const ib = (ic - (b + 1) * deviceLeakage(regulated.device, regulated.tjC, regulated.stressH)) / b;
+    expect(regulated.powerW).toBeCloseTo(20 * ic + 0.7 * ib, 9);
+    expect(regulated.tjC).toBeCloseTo(regulated.caseC + 1.5 * regulated.powerW, 6);
+    expect(regulated.caseC).toBeCloseTo(100 + 2 * regulated.powerW, 1);
+    // Constant power: the steady-state solver sees no loop gain to speak of [pub: textbook stability criterion θ·∂P/∂Tj < 1].
+    const solved = solveSelfHeating({ ambientC: 100, thetaCPerW: 3.5, powerAt: socketPowerAt(regulated) });
+    expect(solved.runaway).toBe(false);
+    expect(Math.abs(solved.loopGain)).toBeLessThan(0.01);
+  });
+
+  test('leakage above the set point flows regardless: the regulator cannot drive IB below zero', () => {
+    // A leaky part (100 nA at 25 °C) at 175 °C and a 1 mA set point: (β+1)·ICBO is about half an ampere.
+    const s = createRigState({ rigCode: 'OV-04', chamberC: 175, sockets: [{ device: device({ icboRefA: 1e-7 }), biasOn: true, vV: 20, icA: 0.001 }] }).sockets[0];
+    const b = deviceGain(s.device, s.tjC, 0);
+    const leak = (b + 1) * deviceLeakage(s.device, s.tjC, 0);
+    expect(leak).toBeGreaterThan(0.1);
+    expect(leak).toBeLessThan(2); // below the supply's current limit
+    expect(s.iA).toBeCloseTo(leak, 12);
+    expect(s.powerW).toBeCloseTo(20 * leak, 9); // IB = 0
+  });
+});
+
 describe('commands on the physics state', () => {
   const base = createRigState({ rigCode: 'OV-01', sockets: [{ device: device() }, { device: device() }], maxTempC: 200 });
 
@@ -200,6 +245,25 @@ describe('commands on the physics state', () => {
       [true, 25, 0.004],
       [true, 25, 0.004],
     ]);
+  });
+
+  test('icA regulates IC on powered sockets; a later iA returns to forced IB; both at once or on reverse bias is refused', () => {
+    const reg = applyCommand(base, { v: 1, cmdId: 'r1', type: 'bias', sockets: 'all', on: true, vV: 20, icA: 0.3 });
+    expect(reg.ok).toBe(true);
+    expect(reg.state.sockets.map((s) => s.icSetA)).toEqual([0.3, 0.3]);
+    expect(stepRig(reg.state, 60).sockets[0].iA).toBeCloseTo(0.3, 12);
+    const forced = applyCommand(reg.state, { v: 1, cmdId: 'r2', type: 'bias', sockets: [1], on: true, iA: 0.004 });
+    expect(forced.state.sockets.map((s) => [s.icSetA, s.ibA])).toEqual([
+      [0.3, base.sockets[0].ibA],
+      [null, 0.004],
+    ]);
+    const both = applyCommand(base, { v: 1, cmdId: 'r3', type: 'bias', sockets: 'all', on: true, iA: 0.004, icA: 0.3 });
+    expect(both).toMatchObject({ ok: false, error: 'give iA (forced base current) or icA (regulated collector current), not both' });
+    expect(both.state).toBe(base);
+    const reverse = createRigState({ rigCode: 'OV-02', sockets: [{ device: device(), mode: 'reverse' }, { device: device() }] });
+    const refused = applyCommand(reverse, { v: 1, cmdId: 'r4', type: 'bias', sockets: 'all', on: true, icA: 0.3 });
+    expect(refused).toMatchObject({ ok: false, error: 'icA needs powered bias; socket 0 is reverse-biased' });
+    expect(refused.state).toBe(reverse);
   });
 
   test('reset-trip clears the latch but leaves bias off', () => {

@@ -16,7 +16,7 @@
  */
 import cron, { type ScheduledTask } from 'node-cron';
 import { In, IsNull, MoreThan, Not, type EntityManager } from 'typeorm';
-import { chamberBand, planBiasV, planSchedule, socketBiased, accrualConditionsFor, type Job, when } from '../../../shared/scheduling';
+import { chamberBand, planBiasSettings, planBiasV, planSchedule, socketBiased, accrualConditionsFor, type Job, when } from '../../../shared/scheduling';
 import { DRIVEN_STATES, HEAT_STATES, type RunState } from '../../../shared/schemas/runs';
 import type { AppContext } from '../../context';
 import { AuditLogEntity, RigEntity, RunEntity, RunSocketEntity, StressPlanEntity } from '../../db/entities';
@@ -311,11 +311,9 @@ export class RunScheduler {
       case 'stressing': {
         out.push(heat());
         if (live.length) {
-          const biasV = planBiasV(plan);
-          const iA = plan.kind === 'hotl' || plan.kind === 'iol' ? plan.bias.ibA : null;
           out.push({
             cmdId: `run:${run.id}:bias:${b36(run.ambientReachedAt)}`,
-            cmd: { type: 'bias', sockets: live, on: true, ...(biasV !== null ? { vV: biasV } : {}), ...(iA !== null && iA !== undefined ? { iA } : {}) } as RigCommandBody,
+            cmd: { type: 'bias', sockets: live, on: true, ...planBiasSettings(plan) } as RigCommandBody,
             satisfied: !!latest && live.every((k) => socketBiased(reading.get(k), cond) || reading.get(k)?.tripped === true),
           });
         }
