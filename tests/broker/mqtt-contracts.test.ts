@@ -297,6 +297,14 @@ describe('commands', () => {
     expect(parseCommand(JSON.stringify({ v: 1, cmdId: 'a7', type: 'explode' })).ok).toBe(false);
   });
 
+  test('a bias command may carry a regulated collector current, never a negative one', () => {
+    const cmd = parseCommand(JSON.stringify({ v: 1, cmdId: 'b1', type: 'bias', sockets: [0, 1], on: true, vV: 20, icA: 0.5 }));
+    expect(cmd).toEqual({ ok: true, data: { v: 1, cmdId: 'b1', type: 'bias', sockets: [0, 1], on: true, vV: 20, icA: 0.5 } });
+    const bad = parseCommand(JSON.stringify({ v: 1, cmdId: 'b2', type: 'bias', sockets: 'all', on: true, icA: -0.1 }));
+    expect(bad.ok).toBe(false);
+    expect(bad.ok ? '' : bad.reason).toMatch(/^icA: /);
+  });
+
   test('stored commands carry merged ranges and split when very long', () => {
     let n = 0;
     const [cmd] = buildStoredCommands([3, 1, 2, 7], () => `s${++n}`);
