@@ -4,7 +4,8 @@
  * counts; the signed-in person's notifications.
  */
 import { AlarmEntity, AuditLogEntity, NotificationEntity, UserEntity } from '../../server/db/entities';
-import { getAlarmsService, type AlarmsService, type RaiseAlarmInput } from '../../server/modules/alarms/alarms.service';
+import { dedupeKeyFor, getAlarmsService, type AlarmsService, type RaiseAlarmInput } from '../../server/modules/alarms/alarms.service';
+import { RunScopedAlarmKeys1796400000000 } from '../../server/db/migrations/1796400000000-RunScopedAlarmKeys';
 import { getNotificationsService } from '../../server/modules/notifications/notifications.service';
 import { MAIL_SERVICE, MailService, getMailService } from '../../server/modules/mail/mail.service';
 import { randomUUID } from 'node:crypto';
@@ -244,5 +245,22 @@ describe('run-scoped alarms', () => {
     expect(byRun.get(a1.run.id)?.clearedAt).not.toBeNull();
     expect(byRun.get(earlierRun)?.clearedAt).toBeNull();
     expect(byRun.get(earlierRun)?.details).toMatchObject({ readPointH: 1000 });
+  });
+
+  it('a read-point-overdue alarm stored under the old key is moved to its run by the migration, then updated, not duplicated', async () => {
+    const fx = await createRunFixture(t.ctx.ds, { rigCode: 'AL-03', sockets: 4 });
+    const repo = t.ctx.ds.getRepository(AlarmEntity);
+    const raised = await svc.raise(input(fx, { kind: 'read-point-overdue', socketIndex: null, title: 'Read point 168 h not measured within 96 h' }));
+    await repo.update({ id: raised.alarm.id }, { dedupeKey: `read-point-overdue:${fx.rig.id}:-` }); // as raised before
+    const runner = t.ctx.ds.createQueryRunner();
+    try {
+      await new RunScopedAlarmKeys1796400000000().up(runner);
+    } finally {
+      await runner.release();
+    }
+    expect((await repo.findOneByOrFail({ id: raised.alarm.id })).dedupeKey).toBe(dedupeKeyFor('read-point-overdue', fx.rig.id, null, fx.run.id));
+    const again = await svc.raise(input(fx, { kind: 'read-point-overdue', socketIndex: null, title: 'Read point 168 h not measured within 96 h' }));
+    expect(again).toMatchObject({ created: false, alarm: { id: raised.alarm.id } });
+    expect(await repo.countBy({ kind: 'read-point-overdue', rigId: fx.rig.id })).toBe(1);
   });
 });
