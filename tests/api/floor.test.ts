@@ -105,6 +105,39 @@ describe('GET /api/floor', () => {
     expect(b).toMatchObject({ code: 'OV-82', online: false, powered: 0, tripped: 0, empty: SOCKETS, openAlarms: 0, run: null, chamberC: null, lastSampleAt: null });
   });
 
+  it('a socket tripped in the newest message and latched by the run counts once', async () => {
+    const m = t.ctx.ds.manager;
+    const [tile] = (await (await t.signIn('operator')).get('/api/floor')).body.items as FloorTile[];
+    await m.update(RunSocketEntity, { runId: tile.run!.id, socketIndex: 9 }, { tripped: true, trippedAt: new Date(), tripReason: 'Case above runaway limit' });
+    try {
+      const [again] = (await (await t.signIn('operator')).get('/api/floor')).body.items as FloorTile[];
+      expect(again).toMatchObject({ code: 'OV-81', tripped: 2, powered: 9, empty: 6 }); // sockets 3 and 9, as before
+    } finally {
+      await m.update(RunSocketEntity, { runId: tile.run!.id, socketIndex: 9 }, { tripped: false, trippedAt: null, tripReason: null });
+    }
+  });
+
+  it('one floor read visits the run sockets once, not once per rig (they hold every run the lab ever ran)', async () => {
+    const spy = jest.spyOn(t.ctx.ds, 'query');
+    let call: unknown[] | undefined;
+    try {
+      await (await t.signIn('operator')).get('/api/floor').expect(200);
+      call = spy.mock.calls.find(([sql]) => String(sql).includes('FROM rigs r'));
+    } finally {
+      spy.mockRestore();
+    }
+    expect(call).toBeDefined();
+    const [{ 'QUERY PLAN': plan }] = await t.ctx.ds.query(`EXPLAIN (ANALYZE, FORMAT JSON) ${call![0] as string}`, call![1] as unknown[]);
+    let loops = 0;
+    const walk = (n: { 'Relation Name'?: string; 'Actual Loops'?: number; Plans?: unknown[] }) => {
+      if (n['Relation Name'] === 'run_sockets') loops += n['Actual Loops'] ?? 0;
+      for (const c of (n.Plans ?? []) as Array<typeof n>) walk(c);
+    };
+    walk(plan[0].Plan);
+    // Before: a FULL JOIN per rig (lateral) read run_sockets once for each of the floor's rigs.
+    expect(loops).toBe(1);
+  });
+
   it('requests arriving while the floor is being read share that one read; a change people make starts a fresh one', async () => {
     const floor = t.ctx.services.floor as FloorService;
     const spy = jest.spyOn(t.ctx.ds, 'query');
