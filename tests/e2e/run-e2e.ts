@@ -17,7 +17,9 @@ import { ensureWebExport, WEB_DIR } from '../../scripts/web-export';
 import { ensureChromium, makeContext, openBrowser, SCREENSHOT_DIR, SIZES, type Journey, type SizeName } from './harness';
 import { JOURNEYS } from './journeys';
 
-const E2E_PORTS = { api: 4790, mqtt: 18840, smtp: 2536 };
+/** Parallel runs on one machine set EMBERLOT_E2E_PORT_BASE (api = base, mqtt = base + 1, smtp = base + 2). */
+const E2E_BASE = Number(process.env.EMBERLOT_E2E_PORT_BASE ?? 0);
+const E2E_PORTS = E2E_BASE ? { api: E2E_BASE, mqtt: E2E_BASE + 1, smtp: E2E_BASE + 2 } : { api: 4790, mqtt: 18840, smtp: 2536 };
 
 async function main(): Promise<number> {
   const t0 = Date.now();
@@ -25,7 +27,7 @@ async function main(): Promise<number> {
   ensureWebExport();
 
   const ownCluster = !process.env.EMBERLOT_TEST_PG_PORT;
-  const pgOpts = { name: 'e2e', port: 54347, fast: true };
+  const pgOpts = E2E_BASE ? { name: `e2e-${E2E_BASE}`, port: E2E_BASE + 3, fast: true } : { name: 'e2e', port: 54347, fast: true };
   let pg: ClusterInfo;
   if (ownCluster) pg = startCluster(pgOpts);
   else
