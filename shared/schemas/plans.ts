@@ -1,15 +1,9 @@
 import { z } from 'zod';
 import { num } from './devices';
 
-/**
- * Stress kinds. Trade names (JEDEC / MIL terms), not product names:
- * htrb: high-temperature reverse bias (JESD22-A108)
- * hotl: powered (high-temperature) operating life (MIL-PRF-19500 group C life)
- * iol:  intermittent operating life, power on/off cycling (MIL-STD-750 method 1037)
- * thb:  temperature-humidity-bias (JESD22-A101)
- */
-export const PLAN_KINDS = ['htrb', 'hotl', 'iol', 'thb'] as const;
-export type PlanKind = (typeof PLAN_KINDS)[number];
+import { PLAN_KINDS, type PlanKind } from '../domain/stress';
+
+export { PLAN_KINDS, type PlanKind } from '../domain/stress';
 export const PLAN_KIND_LABEL: Record<PlanKind, string> = {
   htrb: 'High-temperature reverse bias',
   hotl: 'Powered operating life',

@@ -1,16 +1,9 @@
 import { z } from 'zod';
 import type { PlanKind } from './plans';
 
-/**
- * Run lifecycle:
- *   booked ──(operator loads sockets)──▶ loading ──start──▶ heating ──(chamber in band)──▶ stressing
- *   stressing ──(read point reached: bias off)──▶ read-hold ──(measurements done)──▶ heating
- *   stressing ──(plan hours reached: bias off, chamber to ambient)──▶ cooling ──▶ finished
- *   heating/stressing ──pause──▶ paused ──resume──▶ heating
- *   any state before finished ──abort (with a reason)──▶ aborted
- */
-export const RUN_STATES = ['booked', 'loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling', 'finished', 'aborted'] as const;
-export type RunState = (typeof RUN_STATES)[number];
+import { RUN_STATES, type RunState } from '../domain/run-states';
+
+export { RUN_STATES, ON_RIG_STATES, DRIVEN_STATES, HEAT_STATES, TERMINAL_STATES, type RunState } from '../domain/run-states';
 
 export const RUN_STATE_LABEL: Record<RunState, string> = {
   booked: 'Booked',
@@ -23,14 +16,6 @@ export const RUN_STATE_LABEL: Record<RunState, string> = {
   finished: 'Finished',
   aborted: 'Aborted',
 };
-
-/** States in which the run's devices sit in the oven (the rig is physically used). */
-export const ON_RIG_STATES: readonly RunState[] = ['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling'];
-/** States the scheduler drives (commands, accrual). */
-export const DRIVEN_STATES: readonly RunState[] = ['heating', 'stressing', 'paused', 'read-hold', 'cooling'];
-/** States in which the run needs the chamber at its set point. */
-export const HEAT_STATES: readonly RunState[] = ['heating', 'stressing', 'paused'];
-export const TERMINAL_STATES: readonly RunState[] = ['finished', 'aborted'];
 
 export const RUN_ACTIONS = ['load', 'start', 'pause', 'resume', 'abort', 'measurements-done'] as const;
 export type RunAction = (typeof RUN_ACTIONS)[number];

@@ -1,0 +1,22 @@
+/**
+ * Run lifecycle states and the named sets of them — declared once.
+ *
+ *   booked ──(operator loads sockets)──▶ loading ──start──▶ heating ──(chamber in band)──▶ stressing
+ *   stressing ──(read point reached: bias off)──▶ read-hold ──(measurements done)──▶ heating
+ *   stressing ──(plan hours reached: bias off, chamber to ambient)──▶ cooling ──▶ finished
+ *   heating/stressing ──pause──▶ paused ──resume──▶ heating
+ *   any state before finished ──abort (with a reason)──▶ aborted
+ */
+export const RUN_STATES = ['booked', 'loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling', 'finished', 'aborted'] as const;
+export type RunState = (typeof RUN_STATES)[number];
+
+/** States in which the run's devices sit in the oven (the rig is physically used). */
+export const ON_RIG_STATES: readonly RunState[] = ['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling'];
+/** States the scheduler drives (commands, accrual). */
+export const DRIVEN_STATES: readonly RunState[] = ['heating', 'stressing', 'paused', 'read-hold', 'cooling'];
+/** States in which the run needs the chamber at its set point. */
+export const HEAT_STATES: readonly RunState[] = ['heating', 'stressing', 'paused'];
+export const TERMINAL_STATES: readonly RunState[] = ['finished', 'aborted'];
+
+/** SQL list literal of a state set, for raw queries: `state IN ${sqlStateList(ON_RIG_STATES)}`. */
+export const sqlStateList = (states: readonly RunState[]): string => `(${states.map((s) => `'${s}'`).join(',')})`;
