@@ -1,0 +1,47 @@
+/** Number wording and severity helpers shared by the plan-check rules. */
+import { WARN_FRACTION_OF_LIMIT, type FindingNumber, type Severity } from './types';
+
+export const sig = (x: number, digits = 3): string => {
+  if (!Number.isFinite(x)) return String(x);
+  if (x === 0) return '0';
+  return String(+x.toPrecision(digits));
+};
+
+function withPrefix(x: number, unit: string): string {
+  const a = Math.abs(x);
+  if (a !== 0 && a < 1e-6) return `${sig(x * 1e9)} n${unit}`;
+  if (a !== 0 && a < 1e-3) return `${sig(x * 1e6)} µ${unit}`;
+  if (a !== 0 && a < 1) return `${sig(x * 1e3)} m${unit}`;
+  return `${sig(x)} ${unit}`;
+}
+export const V = (x: number) => `${sig(x)} V`;
+export const C = (x: number) => `${sig(x, 4)} °C`;
+export const W = (x: number) => withPrefix(x, 'W');
+export const A = (x: number) => withPrefix(x, 'A');
+export const pct = (x: number) => `${sig(x * 100)} %`;
+
+/** The finding's numbers, skipping non-finite values. */
+export function numbers(entries: [string, number, string, string][]): Record<string, FindingNumber> {
+  const out: Record<string, FindingNumber> = {};
+  for (const [key, value, unit, label] of entries) {
+    if (Number.isFinite(value)) out[key] = { value, unit, label };
+  }
+  return out;
+}
+
+/** block above the limit, warn at ≥ 90 % of it, ok below. */
+export function againstLimit(value: number, limit: number): Severity {
+  if (value > limit) return 'block';
+  if (value >= WARN_FRACTION_OF_LIMIT * limit) return 'warn';
+  return 'ok';
+}
+
+/** Breakdown: block above the plan's derated allowance, warn within 10 % of the rating itself. */
+export function againstBreakdown(v: number, rated: number, derating: number): Severity {
+  if (v > rated * derating) return 'block';
+  if (v >= WARN_FRACTION_OF_LIMIT * rated) return 'warn';
+  return 'ok';
+}
+
+/** The title for a severity: block / warn / ok wording. */
+export const titled = (sev: Severity, block: string, warn: string, ok: string): string => (sev === 'block' ? block : sev === 'warn' ? warn : ok);
