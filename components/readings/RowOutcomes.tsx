@@ -1,3 +1,4 @@
+import { MEASURE_WITHIN_H } from '@/shared/domain/standards';
 import { useState } from 'react';
 import { View } from 'react-native';
 import type { RowResult } from '@/shared/schemas/measurements';
@@ -34,7 +35,7 @@ const columns = (noun: string): Column<RowResult>[] => [
     flex: 3,
     render: (r) => (
       <Text variant="caption" tone={r.reasons.length ? 'danger' : 'muted'}>
-        {r.late ? 'Measured more than 96 h after bias was removed (JESD22-A108 window, from memory). ' : ''}
+        {r.late ? `Measured more than ${MEASURE_WITHIN_H} h after bias was removed (JESD22-A108 window, from memory). ` : ''}
         {r.reasons.length ? r.reasons.join(' ') : r.values ? `hFE ${r.values.hfe}, ICBO ${+(r.values.icboA * 1e9).toPrecision(4)} nA, VCE(sat) ${+(r.values.vcesatV * 1000).toPrecision(4)} mV at ${r.values.measuredC} °C` : '—'}
       </Text>
     ),

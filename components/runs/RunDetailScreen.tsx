@@ -23,6 +23,8 @@ import { QueryState } from '@/components/ui/QueryState';
 import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
+import { CHAMBER_TOLERANCE_PCT, measureByMs } from '@/shared/domain/standards';
+import { DRIVEN_STATES } from '@/shared/domain/run-states';
 import { RUN_ACTION_LABEL, type RunAction, type RunDetail, type RunSocket, type SocketFlag, type SocketLoadResult } from '@/shared/schemas/runs';
 import { RUN_STATE_TONE, columnToSocketMap, hours } from './run-look';
 
@@ -96,9 +98,9 @@ function stateNote(run: RunDetail): { tone: 'info' | 'warn' | 'danger' | 'ok'; t
     case 'loading':
       return { tone: 'info', text: `${run.loadedCount} of ${run.sampleSize} sockets loaded. Start once every device is placed.` };
     case 'heating':
-      return { tone: 'info', text: `Heating since ${formatDateTime(run.heatingSince)}: hours count once the chamber is within ±3 % of ${run.plan.chamberC} °C.` };
+      return { tone: 'info', text: `Heating since ${formatDateTime(run.heatingSince)}: hours count once the chamber is within ±${CHAMBER_TOLERANCE_PCT} % of ${run.plan.chamberC} °C.` };
     case 'read-hold': {
-      const measureBy = run.biasRemovedAt ? new Date(Date.parse(run.biasRemovedAt) + 96 * 3_600_000).toISOString() : null;
+      const measureBy = run.biasRemovedAt ? new Date(measureByMs(Date.parse(run.biasRemovedAt))).toISOString() : null;
       return {
         tone: 'warn',
         text: `Read point ${hours(run.lastReadPointH)}: bias off since ${formatDateTime(run.biasRemovedAt)}. Measure the devices by ${formatDateTime(measureBy)}, then mark the measurements done to heat again.`,
@@ -266,7 +268,7 @@ export function RunDetailScreen({ id }: { id: string }) {
                   {`${run.override.byName ?? 'An engineer'}: “${run.override.reason}”`}
                 </Banner>
               ) : null}
-              {run.rig && !run.rig.online && ['heating', 'stressing', 'paused', 'read-hold', 'cooling'].includes(run.state) ? (
+              {run.rig && !run.rig.online && DRIVEN_STATES.includes(run.state) ? (
                 <Banner tone="danger">{`${run.rig.code} is offline: no telemetry, so no hours count and commands wait until it is back.`}</Banner>
               ) : null}
               <Card title="Stress hours">

@@ -4,3 +4,4 @@
  */
 export * from './stress';
 export * from './run-states';
+export * from './standards';

@@ -14,6 +14,7 @@ import type {
 } from '../../../shared/schemas/analytics';
 import type { DeviceDriftView } from '../../../shared/schemas/measurements';
 import type { Criteria } from '../../../shared/schemas/plans';
+import { isPoweredKindName } from '../../../shared/domain/stress';
 import { arrheniusFactor, constantsUsed, fitUpperBoundDetails } from '../../../shared/reliability';
 import { individualsChart, lotDriftSummary, pseudoFailureTime, runRuleViolations } from '../../../shared/stats';
 
@@ -316,7 +317,7 @@ export function lotFit(core: LotFigures): FitFigures | null {
  */
 export function stressTemperature(plan: { kind: string; chamberC: number; checkResult?: { derived?: { tjC?: unknown } } | null }): { stressC: number; stressBasis: string } {
   const tj = plan.checkResult?.derived?.tjC;
-  if ((plan.kind === 'hotl' || plan.kind === 'iol') && typeof tj === 'number' && Number.isFinite(tj) && tj > plan.chamberC) {
+  if (isPoweredKindName(plan.kind) && typeof tj === 'number' && Number.isFinite(tj) && tj > plan.chamberC) {
     return { stressC: tj, stressBasis: 'junction temperature from the plan check (powered stress)' };
   }
   return { stressC: plan.chamberC, stressBasis: 'chamber temperature' };

@@ -1,8 +1,8 @@
 import { createHash } from 'node:crypto';
-import { In, type DataSource, type EntityManager } from 'typeorm';
+import { isLateReading } from '../../../shared/domain/standards';
+import { In, Not, type DataSource, type EntityManager } from 'typeorm';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import {
-  LATE_AFTER_BIAS_REMOVAL_H,
   type ManualReading,
   type MeasurementRunDetail,
   type MeasurementRunSummary,
@@ -19,8 +19,6 @@ import type { AuditService } from '../audit/audit.service';
 import { parseMeasurementCsv, type ParsedRow, type ParsedValues } from './csv-rows';
 import { driftOfDevice, GAIN_LAW, GAIN_LAW_SOURCE, type ReadingInput } from './device-drift';
 import { loadRunBundle, type RunBundle, type RunDeviceRow } from './run-data';
-
-const H = 3600_000;
 
 /** The rule for files sent more than once, shown with every upload answer. */
 export const REUPLOAD_RULE =
@@ -61,7 +59,7 @@ export class MeasurementsService {
   // -------------------------------------------------------------------------------------------
 
   async listRuns(): Promise<MeasurementRunSummary[]> {
-    const runs = await this.ds.getRepository(RunEntity).find({ where: { state: In(['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling', 'finished', 'booked']) }, order: { createdAt: 'DESC' }, take: 200 });
+    const runs = await this.ds.getRepository(RunEntity).find({ where: { state: Not('aborted') }, order: { createdAt: 'DESC' }, take: 200 });
     const out: MeasurementRunSummary[] = [];
     for (const r of runs) out.push(await this.summary(this.ds.manager, await loadRunBundle(this.ds.manager, r.id)));
     return out;
@@ -345,7 +343,7 @@ export class MeasurementsService {
         } else reasons.push(`Unknown serial ${r.serial}: no device with this serial is registered.`);
       }
       const late =
-        hours > 0 && !!b.run.biasRemovedAt && !!r.values && r.values.measuredAt.getTime() - b.run.biasRemovedAt.getTime() > LATE_AFTER_BIAS_REMOVAL_H * H;
+        hours > 0 && !!b.run.biasRemovedAt && !!r.values && isLateReading(b.run.biasRemovedAt.getTime(), r.values.measuredAt.getTime());
       return { ...r, reasons, deviceId, late, outcome: 'rejected' as const };
     });
 

@@ -148,7 +148,7 @@ interface RigState {
 const f1 = (x: number | null | undefined) => (x === null || x === undefined || !Number.isFinite(x) ? 'n/a' : (Math.round(x * 10) / 10).toFixed(1));
 const round = (x: number | null, digits = 3) => (x === null || !Number.isFinite(x) ? null : Number(x.toFixed(digits)));
 const clip = (s: string, n: number) => (s.length > n ? s.slice(0, n - 1) + '…' : s);
-const REVERSE_KINDS = new Set(['htrb', 'thb']);
+import { REVERSE_BIAS_KINDS as REVERSE_KINDS } from '../../../shared/domain/stress';
 
 /** Stable trip command id: `trip:<rig>:<socket>:<runId>` (":n" from the second trip of a socket in a run). */
 export function tripCmdId(rigCode: string, socket: number, runId: string | null, previousTrips = 0): string {
