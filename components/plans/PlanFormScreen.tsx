@@ -8,6 +8,7 @@ import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { describeError, isApiError } from '@/components/queries/api';
 import { useMe } from '@/components/queries/auth';
+import { can } from '@/shared/domain/permissions';
 import { useDeviceTypes } from '@/components/queries/device-types';
 import { useCreatePlan, useCreatePlanVersion, useLivePlanCheck, usePlan, usePlanTemplates } from '@/components/queries/plans';
 import { useBreakpoints } from '@/components/theme/breakpoints';
@@ -186,7 +187,7 @@ export function PlanFormScreen() {
   const base = usePlan(from);
   const me = useMe();
 
-  if (me.data && me.data.role !== 'engineer') {
+  if (me.data && !can(me.data.role, 'plan.edit')) {
     return (
       <Screen>
         <EmptyState title="Engineers write plans" message="Your role can read plans but not change them." action={<Button label="Back to plans" onPress={() => router.replace('/plans' as Href)} />} />

@@ -5,3 +5,4 @@
 export * from './stress';
 export * from './run-states';
 export * from './standards';
+export * from './permissions';
