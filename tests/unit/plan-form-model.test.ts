@@ -36,7 +36,7 @@ describe('defaults of a blank plan', () => {
     ['offMin', '2', 'as above'],
     ['deltaTjC', '100', 'MIL-STD-750 method 1037: ΔTj ≥ 100 °C'],
     ['cycles', '15000', 'MIL-STD-750 method 1037: 15,000 cycles at ΔTj 100 °C'],
-  ] as const)('%s shows %s (%s)', (key, text) => {
+  ] as const)('%s shows %s (%s)', (key, text, _source) => {
     expect(EMPTY_FORM[key]).toBe(text);
   });
 
