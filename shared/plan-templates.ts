@@ -7,6 +7,7 @@
  * Templates are a starting point: the engineer reviews the numbers, and the plan check judges the
  * result against the device's ratings like any other plan.
  */
+import { grouped, sigFigures } from './domain/format';
 import {
   CHAMBER_TOLERANCE_PCT,
   DEFAULT_BIAS_TOLERANCE_PCT,
@@ -63,7 +64,7 @@ export { DEFAULT_EA_EV, DEFAULT_USE_C };
 
 type Device = DeviceTypeInput & { id: string };
 
-const sig = (x: number, digits = 3) => String(+x.toPrecision(digits));
+const sig = sigFigures;
 /** Rounds down to `step` (never above the value it came from). */
 function roundDown(x: number, step: number): number {
   let r = Math.round(Math.floor(x / step + 1e-9) * step * 1e6) / 1e6;
@@ -258,8 +259,8 @@ function iol(d?: Device): PlanTemplate {
   const cycleH = (IOL_ON_MIN + IOL_OFF_MIN) / 60;
   const baseRules: TemplateRule[] = [
     { label: 'Cycle', value: `${IOL_ON_MIN} min on, ${IOL_OFF_MIN} min off (on-time = off-time)`, source: `${SOURCES.iol}; ${IOL_ON_MIN} min ${SOURCES.ours}` },
-    { label: 'Junction swing', value: `ΔTj ${IOL_DELTA_TJ_C} °C for ${IOL_CYCLES.toLocaleString('en-GB')} cycles`, source: SOURCES.iol },
-    { label: 'Duration', value: `${IOL_CYCLES.toLocaleString('en-GB')} cycles × ${IOL_ON_MIN + IOL_OFF_MIN} min = ${sig(IOL_CYCLES * cycleH)} h`, source: SOURCES.ours },
+    { label: 'Junction swing', value: `ΔTj ${IOL_DELTA_TJ_C} °C for ${grouped(IOL_CYCLES)} cycles`, source: SOURCES.iol },
+    { label: 'Duration', value: `${grouped(IOL_CYCLES)} cycles × ${IOL_ON_MIN + IOL_OFF_MIN} min = ${sig(IOL_CYCLES * cycleH)} h`, source: SOURCES.ours },
     { label: 'Sample', value: `${IOL_SAMPLE.n} per lot, accept ${IOL_SAMPLE.c}`, source: SOURCES.aecSampleMemory },
   ];
   if (!d) {

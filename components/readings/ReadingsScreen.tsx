@@ -1,3 +1,4 @@
+import { formatDateTime } from '@/components/common/format';
 import { MEASURE_WITHIN_H } from '@/shared/domain/standards';
 import { useMemo, useState } from 'react';
 import { View } from 'react-native';
@@ -75,7 +76,7 @@ export function ReadingsScreen() {
                         />
                         {r.biasRemovedAt ? (
                           <Text variant="caption" tone="muted">
-                            Bias last removed {new Date(r.biasRemovedAt).toLocaleString('en-GB')}. Readings more than {MEASURE_WITHIN_H} h later are flagged late; put the parts back on stress first (JESD22-A108, from memory).
+                            Bias last removed {formatDateTime(r.biasRemovedAt)}. Readings more than {MEASURE_WITHIN_H} h later are flagged late; put the parts back on stress first (JESD22-A108, from memory).
                           </Text>
                         ) : null}
                       </Card>

@@ -6,3 +6,4 @@ export * from './stress';
 export * from './run-states';
 export * from './standards';
 export * from './permissions';
+export * from './format';

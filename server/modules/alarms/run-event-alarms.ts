@@ -7,13 +7,14 @@
  * - state-changed → clears the alarms the new state makes moot.
  */
 import { MEASURE_WITHIN_H } from '../../../shared/domain/standards';
+import { formatUtc } from '../../../shared/domain/format';
 import type { AppContext } from '../../context';
 import type { RunEvent } from '../runs/run-events';
 import { getNotificationsService } from '../notifications/notifications.service';
 import { getAlarmsService } from './alarms.service';
 
 const f1 = (x: number | null | undefined) => (x === null || x === undefined || !Number.isFinite(x) ? 'n/a' : (Math.round(x * 10) / 10).toFixed(1));
-const when = (iso: string) => iso.slice(0, 16).replace('T', ' ') + ' UTC';
+const when = (iso: string) => formatUtc(iso);
 
 export async function handleRunEvent(ctx: AppContext, e: RunEvent): Promise<void> {
   const alarms = getAlarmsService(ctx);

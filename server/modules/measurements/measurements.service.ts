@@ -1,5 +1,6 @@
 import { createHash } from 'node:crypto';
 import { isLateReading } from '../../../shared/domain/standards';
+import { formatUtc } from '../../../shared/domain/format';
 import { In, Not, type DataSource, type EntityManager } from 'typeorm';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import {
@@ -160,7 +161,7 @@ export class MeasurementsService {
       : undefined;
     if (previous && previous.readPointH !== p.hours) {
       throw conflict(
-        `This exact file was already stored for read point ${previous.readPointH} h of run ${b.run.code} on ${previous.createdAt.toISOString().slice(0, 16).replace('T', ' ')} UTC; it cannot also be the ${p.hours} h reading.`,
+        `This exact file was already stored for read point ${previous.readPointH} h of run ${b.run.code} on ${formatUtc(previous.createdAt)}; it cannot also be the ${p.hours} h reading.`,
         { previousUpload },
       );
     }
@@ -184,7 +185,7 @@ export class MeasurementsService {
           rows,
           previousUpload,
           notes: [
-            `This exact file was already stored on ${previous.createdAt.toISOString().slice(0, 16).replace('T', ' ')} UTC (${previous.rowsStored} rows stored, ${previous.rowsRejected} refused); nothing was stored again.`,
+            `This exact file was already stored on ${formatUtc(previous.createdAt)} (${previous.rowsStored} rows stored, ${previous.rowsRejected} refused); nothing was stored again.`,
             REUPLOAD_RULE,
           ],
         },

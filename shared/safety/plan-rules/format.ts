@@ -1,19 +1,9 @@
 /** Number wording and severity helpers shared by the plan-check rules. */
+import { sigFigures, withSiPrefix } from '../../domain/format';
 import { WARN_FRACTION_OF_LIMIT, type FindingNumber, type Severity } from './types';
 
-export const sig = (x: number, digits = 3): string => {
-  if (!Number.isFinite(x)) return String(x);
-  if (x === 0) return '0';
-  return String(+x.toPrecision(digits));
-};
-
-function withPrefix(x: number, unit: string): string {
-  const a = Math.abs(x);
-  if (a !== 0 && a < 1e-6) return `${sig(x * 1e9)} n${unit}`;
-  if (a !== 0 && a < 1e-3) return `${sig(x * 1e6)} µ${unit}`;
-  if (a !== 0 && a < 1) return `${sig(x * 1e3)} m${unit}`;
-  return `${sig(x)} ${unit}`;
-}
+export const sig = sigFigures;
+const withPrefix = (x: number, unit: string) => withSiPrefix(x, unit);
 export const V = (x: number) => `${sig(x)} V`;
 export const C = (x: number) => `${sig(x, 4)} °C`;
 export const W = (x: number) => withPrefix(x, 'W');
