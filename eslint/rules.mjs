@@ -6,6 +6,9 @@ import { join } from 'node:path';
  * request and response types, and the server's in-process telemetry contracts. */
 export const CONTRACT_MODULE_DIRS = ['shared/mqtt', 'shared/schemas'];
 export const CONTRACT_MODULE_FILES = ['server/modules/telemetry/contracts.ts'];
+/** Exported from a contract module but not data: RigLink is the link's service interface (what it
+ * does, not what it carries); reading services back from ctx.services is the composition root's job. */
+const NOT_DATA = new Set(['RigLink']);
 
 /** Every `export type X` / `export interface X` name declared in the contract modules. */
 export function contractTypeNames(root) {
@@ -21,23 +24,47 @@ export function contractTypeNames(root) {
   for (const file of files) {
     for (const m of readFileSync(file, 'utf8').matchAll(/^export\s+(?:type|interface)\s+([A-Za-z_$][\w$]*)/gm)) names.add(m[1]);
   }
-  return [...names].sort();
+  return [...names].filter((n) => !NOT_DATA.has(n)).sort();
 }
 
-/** The type names a type annotation mentions (`Foo`, `Foo[]`, `Array<Foo>`, `Foo | null`, `ns.Foo`). */
-function referencedTypeNames(typeNode) {
+/**
+ * The contract-shaped parts of an asserted type: `Foo`, `Foo['field']`, `Foo[]`, `Array<Foo>`,
+ * `Foo | null`, `{ tile: Foo }`. Not `keyof Foo` (a key, not contract data) nor other generics'
+ * arguments (`z.ZodType<Foo>` is a schema, not data).
+ */
+function assertedTypeNames(typeNode) {
   const found = [];
   const visit = (node) => {
-    if (!node || typeof node.type !== 'string') return;
-    if (node.type === 'TSTypeReference') {
-      const name = node.typeName.type === 'Identifier' ? node.typeName.name : node.typeName.right?.name;
-      if (name) found.push({ name, node });
-    }
-    for (const key of Object.keys(node)) {
-      if (key === 'parent') continue;
-      const child = node[key];
-      if (Array.isArray(child)) child.forEach(visit);
-      else if (child && typeof child === 'object' && typeof child.type === 'string') visit(child);
+    if (!node) return;
+    switch (node.type) {
+      case 'TSTypeReference': {
+        const name = node.typeName.type === 'Identifier' ? node.typeName.name : node.typeName.right?.name;
+        const args = node.typeArguments?.params ?? [];
+        if ((name === 'Array' || name === 'ReadonlyArray') && args.length) args.forEach(visit);
+        else if (name) found.push({ name, node });
+        break;
+      }
+      case 'TSArrayType':
+        visit(node.elementType);
+        break;
+      case 'TSTypeOperator':
+        if (node.operator === 'readonly') visit(node.typeAnnotation);
+        break;
+      case 'TSIndexedAccessType':
+        visit(node.objectType);
+        break;
+      case 'TSUnionType':
+      case 'TSIntersectionType':
+        node.types.forEach(visit);
+        break;
+      case 'TSTupleType':
+        node.elementTypes.forEach(visit);
+        break;
+      case 'TSTypeLiteral':
+        for (const m of node.members) if (m.type === 'TSPropertySignature') visit(m.typeAnnotation?.typeAnnotation);
+        break;
+      default:
+        break;
     }
   };
   visit(typeNode);
@@ -58,7 +85,7 @@ const noContractCast = {
   create(context) {
     const types = new Set(context.options[0]?.types ?? []);
     const check = (node) => {
-      for (const ref of referencedTypeNames(node.typeAnnotation)) {
+      for (const ref of assertedTypeNames(node.typeAnnotation)) {
         if (types.has(ref.name)) context.report({ node: ref.node, messageId: 'cast', data: { name: ref.name } });
       }
     };

@@ -17,6 +17,7 @@ export const ALARM_KINDS = [
   'command-failed',
 ] as const;
 export type AlarmKindName = (typeof ALARM_KINDS)[number];
+export const isAlarmKind = (s: string): s is AlarmKindName => (ALARM_KINDS as readonly string[]).includes(s);
 
 /** Short names for lists and e-mail subjects. */
 export const ALARM_KIND_LABEL: Record<AlarmKindName, string> = {

@@ -24,7 +24,7 @@ export class AuditService {
       entity: e.entity,
       entityId: e.entityId ?? null,
       reason: e.reason ?? null,
-      details: (e.details ?? {}) as Record<string, any>,
+      details: e.details ?? {},
     });
   }
 }
