@@ -40,8 +40,6 @@ export const SEVERITY_LABEL: Record<AlarmSeverityName, string> = {
   warning: 'Warning',
   info: 'Notice',
 };
-/** Sort order: most severe first. */
-export const SEVERITY_RANK: Record<AlarmSeverityName, number> = { critical: 0, warning: 1, info: 2 };
 
 /**
  * Alarm statuses as the list filter sees them:
