@@ -2,7 +2,6 @@
 import type { SessionUser } from '../shared/schemas/auth';
 
 declare global {
-  // eslint-disable-next-line @typescript-eslint/no-namespace -- Express declares its request types in this global namespace
   namespace Express {
     // eslint-disable-next-line @typescript-eslint/no-empty-object-type -- merging into Express.User, not a new type
     interface User extends SessionUser {}
