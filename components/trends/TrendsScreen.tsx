@@ -132,9 +132,9 @@ export function TrendsScreen() {
                 </View>
                 <SegmentedChoice
                   label="Show"
-                  options={[{ value: 'all', label: 'All' }, ...LOT_VERDICTS.map((v) => ({ value: v, label: LOT_VERDICT_LABEL[v] }))]}
+                  options={[{ value: 'all' as const, label: 'All' }, ...LOT_VERDICTS.map((v) => ({ value: v, label: LOT_VERDICT_LABEL[v] }))]}
                   value={verdict}
-                  onChange={(v) => setVerdict(v as LotVerdict | 'all')}
+                  onChange={setVerdict}
                   testID="trends-verdict-filter"
                 />
                 <SegmentedChoice label="Sort by" options={SORTS} value={sort} onChange={(v) => setSort(v as SortKey)} testID="trends-sort" />
