@@ -43,11 +43,28 @@ function NumField({ f, k, label, help }: { f: FormBinding; k: FormKey; label: st
   );
 }
 
-export function PlanBasicsCard({ f, types, device, versionOf }: { f: FormBinding; types: DeviceType[] | undefined; device: DeviceType | undefined; versionOf: boolean }) {
+export function PlanBasicsCard({
+  f,
+  types,
+  device,
+  versionOf,
+}: {
+  f: FormBinding;
+  types: DeviceType[] | undefined;
+  device: DeviceType | undefined;
+  versionOf: boolean;
+}) {
   const { s, set, errors } = f;
   return (
     <Card title="Plan">
-      <Field label="Name" value={s.name} onChangeText={set('name')} error={errors.name} help="Name it by its condition and standard, e.g. “HTRB 145 °C, 80 % VCBO, 1000 h (JESD22-A108)”." testID="plan-name" />
+      <Field
+        label="Name"
+        value={s.name}
+        onChangeText={set('name')}
+        error={errors.name}
+        help="Name it by its condition and standard, e.g. “HTRB 145 °C, 80 % VCBO, 1000 h (JESD22-A108)”."
+        testID="plan-name"
+      />
       {types ? (
         <SegmentedChoice
           label="Device type"
@@ -56,12 +73,22 @@ export function PlanBasicsCard({ f, types, device, versionOf }: { f: FormBinding
           onChange={set('deviceTypeId')}
           error={errors.deviceTypeId}
           disabled={versionOf}
-          help={versionOf ? 'A new version keeps the device type; start a new plan for another part.' : device?.description || 'The part whose ratings the plan is checked against.'}
+          help={
+            versionOf
+              ? 'A new version keeps the device type; start a new plan for another part.'
+              : device?.description || 'The part whose ratings the plan is checked against.'
+          }
         />
       ) : (
         <Loading label="Loading device types…" />
       )}
-      <SegmentedChoice label="Stress" options={PLAN_KINDS.map((k) => ({ value: k, label: KIND_SHORT[k] }))} value={s.kind} onChange={set('kind')} error={errors.kind} />
+      <SegmentedChoice
+        label="Stress"
+        options={PLAN_KINDS.map((k) => ({ value: k, label: KIND_SHORT[k] }))}
+        value={s.kind}
+        onChange={set('kind')}
+        error={errors.kind}
+      />
       {s.kind ? (
         <Text variant="caption" tone="muted">
           <Text variant="caption" style={{ fontWeight: '600' }}>
@@ -89,7 +116,15 @@ function PoweredBias({ f, device }: { f: FormBinding; device: DeviceType | undef
   const { s, set } = f;
   return (
     <>
-      <NumField f={f} k="vceV" label="VCE (V)" help={PLAN_HELP.vceV + (device ? ` BVCEO of ${device.partNumber}: ${device.bvceoV ?? 'not rated (estimated)'}${device.bvceoV ? ' V' : ''}.` : '')} />
+      <NumField
+        f={f}
+        k="vceV"
+        label="VCE (V)"
+        help={
+          PLAN_HELP.vceV +
+          (device ? ` BVCEO of ${device.partNumber}: ${device.bvceoV ?? 'not rated (estimated)'}${device.bvceoV ? ' V' : ''}.` : '')
+        }
+      />
       <SegmentedChoice
         label="Current"
         options={[
@@ -101,7 +136,12 @@ function PoweredBias({ f, device }: { f: FormBinding; device: DeviceType | undef
         help={PLAN_HELP.biasMode}
       />
       {s.biasMode === 'ic' ? (
-        <NumField f={f} k="icmA" label="IC (mA)" help={device ? `IC max of ${device.partNumber}: ${device.icMaxA * 1000} mA.` : undefined} />
+        <NumField
+          f={f}
+          k="icmA"
+          label="IC (mA)"
+          help={device ? `IC max of ${device.partNumber}: ${device.icMaxA * 1000} mA.` : undefined}
+        />
       ) : (
         <NumField f={f} k="ibmA" label="IB (mA)" help="The collector current becomes hFE × IB and grows as the part heats." />
       )}
@@ -123,7 +163,12 @@ export function ConditionsCard({ f, device }: { f: FormBinding; device: DeviceTy
       {shown.humidity ? tolerance : null}
       {shown.reverse ? (
         <Columns>
-          <NumField f={f} k="vcbV" label="VCB (V)" help={PLAN_HELP.vcbV + (device ? ` BVCBO of ${device.partNumber}: ${device.bvcboV} V.` : '')} />
+          <NumField
+            f={f}
+            k="vcbV"
+            label="VCB (V)"
+            help={PLAN_HELP.vcbV + (device ? ` BVCBO of ${device.partNumber}: ${device.bvcboV} V.` : '')}
+          />
           <NumField f={f} k="vebV" label="VEB (V, optional)" help={PLAN_HELP.vebV + (device ? ` BVEBO: ${device.bveboV} V.` : '')} />
         </Columns>
       ) : null}
@@ -133,7 +178,15 @@ export function ConditionsCard({ f, device }: { f: FormBinding; device: DeviceTy
           Choose the stress to set its bias.
         </Text>
       ) : null}
-      <SafetyCaution compact context={maxV > 0 ? `This plan puts up to ${maxV} V on every socket${parseNum(s.chamberC) ? ` in a ${s.chamberC} °C chamber` : ''}.` : undefined} testID="plan-safety-caution" />
+      <SafetyCaution
+        compact
+        context={
+          maxV > 0
+            ? `This plan puts up to ${maxV} V on every socket${parseNum(s.chamberC) ? ` in a ${s.chamberC} °C chamber` : ''}.`
+            : undefined
+        }
+        testID="plan-safety-caution"
+      />
       <NumField f={f} k="deratingPct" label="Breakdown derating (% of rating)" help={PLAN_HELP.breakdownDerating} />
     </Card>
   );
@@ -162,7 +215,14 @@ export function StudyCards({ f }: { f: FormBinding }) {
       <Card title="Duration and read points">
         <Columns>
           <NumField f={f} k="durationH" label="Duration (h)" help={PLAN_HELP.durationH} />
-          <Field label="Read points (h)" value={s.readPoints} onChangeText={set('readPoints')} error={errors.readPoints} help={PLAN_HELP.readPointsH} testID="plan-readPoints" />
+          <Field
+            label="Read points (h)"
+            value={s.readPoints}
+            onChangeText={set('readPoints')}
+            error={errors.readPoints}
+            help={PLAN_HELP.readPointsH}
+            testID="plan-readPoints"
+          />
         </Columns>
       </Card>
 
@@ -192,21 +252,42 @@ export function StudyCards({ f }: { f: FormBinding }) {
       </Card>
 
       <Card title="Notes">
-        <Field label="Notes" value={s.notes} onChangeText={set('notes')} multiline numberOfLines={4} error={errors.notes} help="Why this plan, what changed in this version, anything the operators must know." />
+        <Field
+          label="Notes"
+          value={s.notes}
+          onChangeText={set('notes')}
+          multiline
+          numberOfLines={4}
+          error={errors.notes}
+          help="Why this plan, what changed in this version, anything the operators must know."
+        />
       </Card>
     </>
   );
 }
 
-export function Templates({ deviceTypeId, onUse, applied }: { deviceTypeId: string; onUse: (t: PlanTemplate) => void; applied: string | null }) {
+export function Templates({
+  deviceTypeId,
+  onUse,
+  applied,
+}: {
+  deviceTypeId: string;
+  onUse: (t: PlanTemplate) => void;
+  applied: string | null;
+}) {
   const templates = usePlanTemplates(deviceTypeId);
   const [open, setOpen] = useState<string | null>(null);
   return (
-    <Card title="Start from a template" description="Conditions from the published methods, worked out for this device. Review every number; the check judges the result like any plan.">
+    <Card
+      title="Start from a template"
+      description="Conditions from the published methods, worked out for this device. Review every number; the check judges the result like any plan."
+    >
       {applied ? <Banner tone="ok">Filled in from “{applied}”. Review the numbers before saving.</Banner> : null}
       {templates.isError ? <Banner tone="danger">{describeError(templates.error)}</Banner> : null}
       {!templates.data ? (
-        templates.isError ? null : <Loading label="Loading templates…" />
+        templates.isError ? null : (
+          <Loading label="Loading templates…" />
+        )
       ) : (
         <View style={{ gap: space.sm }}>
           {templates.data.map((t) => (
@@ -218,9 +299,29 @@ export function Templates({ deviceTypeId, onUse, applied }: { deviceTypeId: stri
   );
 }
 
-function TemplateRow({ t, open, onToggle, onUse }: { t: PlanTemplate; open: boolean; onToggle: () => void; onUse: (t: PlanTemplate) => void }) {
+function TemplateRow({
+  t,
+  open,
+  onToggle,
+  onUse,
+}: {
+  t: PlanTemplate;
+  open: boolean;
+  onToggle: () => void;
+  onUse: (t: PlanTemplate) => void;
+}) {
   return (
-    <View style={{ gap: space.xs, padding: space.sm, borderRadius: radius.md, borderWidth: 1, borderColor: colors.border, backgroundColor: colors.surface }} testID={`template-${t.key}`}>
+    <View
+      style={{
+        gap: space.xs,
+        padding: space.sm,
+        borderRadius: radius.md,
+        borderWidth: 1,
+        borderColor: colors.border,
+        backgroundColor: colors.surface,
+      }}
+      testID={`template-${t.key}`}
+    >
       <Text variant="bodyStrong">{t.title}</Text>
       <Text variant="caption" tone="muted">
         Sources: {t.sources.join('; ')}
@@ -232,13 +333,22 @@ function TemplateRow({ t, open, onToggle, onUse }: { t: PlanTemplate; open: bool
               <Text variant="caption" style={{ fontWeight: '600' }}>
                 {r.label}:{' '}
               </Text>
-              {r.value} <Text variant="caption" tone="subtle">{r.source}</Text>
+              {r.value}{' '}
+              <Text variant="caption" tone="subtle">
+                {r.source}
+              </Text>
             </Text>
           ))}
         </View>
       ) : null}
       <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
-        <Button size="sm" label="Use this template" onPress={() => onUse(t)} accessibilityLabel={`Use the template ${t.title}`} testID={`use-template-${t.key}`} />
+        <Button
+          size="sm"
+          label="Use this template"
+          onPress={() => onUse(t)}
+          accessibilityLabel={`Use the template ${t.title}`}
+          testID={`use-template-${t.key}`}
+        />
         <Button size="sm" variant="quiet" label={open ? 'Hide how the numbers were set' : 'How the numbers were set'} onPress={onToggle} />
       </View>
     </View>

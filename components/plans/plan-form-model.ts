@@ -4,7 +4,14 @@
  * the conversion to the API body. PlanFormScreen and PlanFormSections only lay it out.
  */
 import { numText, parseNum } from '@/components/devices/format';
-import { DEFAULT_BIAS_TOLERANCE_PCT, DEFAULT_DURATION_H, DEFAULT_EA_EV, DEFAULT_READ_POINTS_H, DEFAULT_USE_C, REVERSE_BIAS_FRACTION } from '@/shared/domain/standards';
+import {
+  DEFAULT_BIAS_TOLERANCE_PCT,
+  DEFAULT_DURATION_H,
+  DEFAULT_EA_EV,
+  DEFAULT_READ_POINTS_H,
+  DEFAULT_USE_C,
+  REVERSE_BIAS_FRACTION,
+} from '@/shared/domain/standards';
 import { isCyclingKind, isHumidityKind, isPoweredKind, isReverseBiasKind } from '@/shared/domain/stress';
 import { HTRB_SAMPLE, IOL_CYCLES, IOL_DELTA_TJ_C, IOL_OFF_MIN, IOL_ON_MIN } from '@/shared/plan-templates';
 import { criteriaSchema, planInputSchema, type PlanInput, type PlanKind } from '@/shared/schemas/plans';
@@ -137,7 +144,10 @@ const orNull = (s: string, k = 1) => scaled(s, k) ?? null;
 /** The form as a plan body for the schema: only the fields that belong to the chosen stress. */
 export function rawFromForm(s: FormState): Record<string, unknown> {
   const { reverse, powered, humidity, cycling } = fieldsFor(s.kind);
-  const points = s.readPoints.split(/[\s,;]+/).filter(Boolean).map((x) => parseNum(x));
+  const points = s.readPoints
+    .split(/[\s,;]+/)
+    .filter(Boolean)
+    .map((x) => parseNum(x));
   return {
     name: s.name,
     kind: s.kind,
@@ -164,7 +174,9 @@ export function rawFromForm(s: FormState): Record<string, unknown> {
     },
     eaEv: scaled(s.eaEv, 1),
     useC: scaled(s.useC, 1),
-    cycle: cycling ? { onMin: scaled(s.onMin, 1), offMin: scaled(s.offMin, 1), deltaTjC: scaled(s.deltaTjC, 1), cycles: scaled(s.cycles, 1) } : null,
+    cycle: cycling
+      ? { onMin: scaled(s.onMin, 1), offMin: scaled(s.offMin, 1), deltaTjC: scaled(s.deltaTjC, 1), cycles: scaled(s.cycles, 1) }
+      : null,
     breakdownDerating: scaled(s.deratingPct, 0.01),
     notes: s.notes,
   };
@@ -172,16 +184,45 @@ export function rawFromForm(s: FormState): Record<string, unknown> {
 
 /** Schema path → the form field that shows it. */
 const PATH_TO_FIELD: Record<string, FormKey> = {
-  'bias.vcbV': 'vcbV', 'bias.vebV': 'vebV', 'bias.vceV': 'vceV', 'bias.ibA': 'ibmA', 'bias.icA': 'icmA', 'bias.tolerancePct': 'tolerancePct',
-  'criteria.hfeChangePct': 'hfeChangePct', 'criteria.leakageMultiple': 'leakageMultiple', 'criteria.leakageFloorA': 'leakageFloornA',
-  'criteria.vcesatShiftV': 'vcesatShiftmV', 'cycle.onMin': 'onMin', 'cycle.offMin': 'offMin', 'cycle.deltaTjC': 'deltaTjC', 'cycle.cycles': 'cycles',
-  cycle: 'onMin', breakdownDerating: 'deratingPct', readPointsH: 'readPoints',
+  'bias.vcbV': 'vcbV',
+  'bias.vebV': 'vebV',
+  'bias.vceV': 'vceV',
+  'bias.ibA': 'ibmA',
+  'bias.icA': 'icmA',
+  'bias.tolerancePct': 'tolerancePct',
+  'criteria.hfeChangePct': 'hfeChangePct',
+  'criteria.leakageMultiple': 'leakageMultiple',
+  'criteria.leakageFloorA': 'leakageFloornA',
+  'criteria.vcesatShiftV': 'vcesatShiftmV',
+  'cycle.onMin': 'onMin',
+  'cycle.offMin': 'offMin',
+  'cycle.deltaTjC': 'deltaTjC',
+  'cycle.cycles': 'cycles',
+  cycle: 'onMin',
+  breakdownDerating: 'deratingPct',
+  readPointsH: 'readPoints',
 };
 /** Short names of the fields, for "complete the plan" hints. */
 export const FIELD_LABEL: Partial<Record<FormKey, string>> = {
-  name: 'Name', kind: 'Stress', deviceTypeId: 'Device type', chamberC: 'Chamber', humidityPct: 'Humidity', vcbV: 'VCB', vebV: 'VEB', vceV: 'VCE',
-  ibmA: 'IB', icmA: 'IC', durationH: 'Duration', readPoints: 'Read points', sampleSize: 'Sample size', acceptNumber: 'Accept number',
-  onMin: 'Cycle', offMin: 'Off time', deltaTjC: 'ΔTj', cycles: 'Cycles', deratingPct: 'Breakdown derating',
+  name: 'Name',
+  kind: 'Stress',
+  deviceTypeId: 'Device type',
+  chamberC: 'Chamber',
+  humidityPct: 'Humidity',
+  vcbV: 'VCB',
+  vebV: 'VEB',
+  vceV: 'VCE',
+  ibmA: 'IB',
+  icmA: 'IC',
+  durationH: 'Duration',
+  readPoints: 'Read points',
+  sampleSize: 'Sample size',
+  acceptNumber: 'Accept number',
+  onMin: 'Cycle',
+  offMin: 'Off time',
+  deltaTjC: 'ΔTj',
+  cycles: 'Cycles',
+  deratingPct: 'Breakdown derating',
 };
 
 export function fieldOf(path: PropertyKey[]): FormKey {

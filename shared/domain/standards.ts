@@ -15,7 +15,8 @@ export const MEASURE_WITHIN_H = 96;
 /** When measurements for a read point fall due: bias removal + MEASURE_WITHIN_H. */
 export const measureByMs = (biasRemovedAtMs: number): number => biasRemovedAtMs + MEASURE_WITHIN_H * H_MS;
 /** A reading taken after the window: late (check: removed at t0, measured at t0 + 97 h → late). */
-export const isLateReading = (biasRemovedAtMs: number, measuredAtMs: number): boolean => measuredAtMs - biasRemovedAtMs > MEASURE_WITHIN_H * H_MS;
+export const isLateReading = (biasRemovedAtMs: number, measuredAtMs: number): boolean =>
+  measuredAtMs - biasRemovedAtMs > MEASURE_WITHIN_H * H_MS;
 
 /** Chamber held within ± this percent of its set temperature [pub: MIL-STD-750 general requirements §4.5]. */
 export const CHAMBER_TOLERANCE_PCT = 3;

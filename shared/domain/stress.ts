@@ -34,4 +34,5 @@ export const isCyclingKind = (kind: PlanKind): boolean => kind === 'iol';
 /** The reverse-bias kinds as a set, for hot paths that hold a kind read from the database as a string. */
 export const REVERSE_BIAS_KINDS: ReadonlySet<string> = new Set(PLAN_KINDS.filter(isReverseBiasKind));
 /** Whether a kind read back as a string (database, fleet file) is a powered one. */
-export const isPoweredKindName = (kind: string): boolean => (PLAN_KINDS as readonly string[]).includes(kind) && isPoweredKind(kind as PlanKind);
+export const isPoweredKindName = (kind: string): boolean =>
+  (PLAN_KINDS as readonly string[]).includes(kind) && isPoweredKind(kind as PlanKind);

@@ -9,7 +9,14 @@ import { mockFetch, renderWithClient, setWidth } from './support/render';
 
 jest.mock('expo-router', () => require('./support/expo-router'));
 
-const manager = { id: '00000000-0000-4000-8000-000000000003', email: 'm@x', name: 'M', role: 'manager', notifyAlarms: true, notifyReadPoints: true };
+const manager = {
+  id: '00000000-0000-4000-8000-000000000003',
+  email: 'm@x',
+  name: 'M',
+  role: 'manager',
+  notifyAlarms: true,
+  notifyReadPoints: true,
+};
 const now = new Date().toISOString();
 
 function renderScheduleAsManager() {

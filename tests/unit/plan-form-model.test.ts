@@ -41,13 +41,40 @@ describe('defaults of a blank plan', () => {
   });
 
   it('leaves the plan’s own choices empty; a part can be preset', () => {
-    expect([EMPTY_FORM.name, EMPTY_FORM.kind, EMPTY_FORM.deviceTypeId, EMPTY_FORM.chamberC, EMPTY_FORM.vcbV, EMPTY_FORM.vceV]).toEqual(['', undefined, undefined, '', '', '']);
+    expect([EMPTY_FORM.name, EMPTY_FORM.kind, EMPTY_FORM.deviceTypeId, EMPTY_FORM.chamberC, EMPTY_FORM.vcbV, EMPTY_FORM.vceV]).toEqual([
+      '',
+      undefined,
+      undefined,
+      '',
+      '',
+      '',
+    ]);
     expect(emptyForm(DEVICE)).toEqual({ ...EMPTY_FORM, deviceTypeId: DEVICE });
   });
 });
 
-const htrb: FormState = { ...EMPTY_FORM, name: 'HTRB 145', kind: 'htrb', deviceTypeId: DEVICE, chamberC: '145', vcbV: '112', vebV: '', vceV: '30', icmA: '96' };
-const hotl: FormState = { ...EMPTY_FORM, name: 'HOTL', kind: 'hotl', deviceTypeId: DEVICE, chamberC: '25', vceV: '20', biasMode: 'ic', icmA: '96', vcbV: '50' };
+const htrb: FormState = {
+  ...EMPTY_FORM,
+  name: 'HTRB 145',
+  kind: 'htrb',
+  deviceTypeId: DEVICE,
+  chamberC: '145',
+  vcbV: '112',
+  vebV: '',
+  vceV: '30',
+  icmA: '96',
+};
+const hotl: FormState = {
+  ...EMPTY_FORM,
+  name: 'HOTL',
+  kind: 'hotl',
+  deviceTypeId: DEVICE,
+  chamberC: '25',
+  vceV: '20',
+  biasMode: 'ic',
+  icmA: '96',
+  vcbV: '50',
+};
 
 describe('fields per stress (shared/domain/stress.ts families)', () => {
   it('shows reverse-bias fields for htrb and thb, powered fields for hotl and iol, humidity for thb, cycling for iol', () => {
@@ -83,7 +110,9 @@ describe('validation through planInputSchema', () => {
     const { plan, errors } = validateForm({ ...hotl, icmA: '' });
     expect(plan).toBeNull();
     expect(errors.vceV).toBe('Powered plans need VCE and either IB or IC');
-    expect(incompleteReason({ ...hotl, icmA: '' }, errors)).toBe('Complete the plan to see the check — VCE: Powered plans need VCE and either IB or IC.');
+    expect(incompleteReason({ ...hotl, icmA: '' }, errors)).toBe(
+      'Complete the plan to see the check — VCE: Powered plans need VCE and either IB or IC.',
+    );
   });
 
   it('a typed letter is "Enter a number"; a read point past the end is named', () => {
@@ -94,14 +123,22 @@ describe('validation through planInputSchema', () => {
   it('a complete plan comes back as the API body and round-trips through the form', () => {
     const { plan, errors } = validateForm(htrb);
     expect(errors).toEqual({});
-    expect(plan).toMatchObject({ kind: 'htrb', chamberC: 145, readPointsH: [0, 168, 500, 1000], breakdownDerating: 0.8, criteria: { vcesatShiftV: 0.05 } });
+    expect(plan).toMatchObject({
+      kind: 'htrb',
+      chamberC: 145,
+      readPointsH: [0, 168, 500, 1000],
+      breakdownDerating: 0.8,
+      criteria: { vcesatShiftV: 0.05 },
+    });
     expect(plan!.criteria.leakageFloorA).toBeCloseTo(200e-9, 15); // 200 nA typed, × 1e-9 in floating point
     expect(incompleteReason(htrb, errors)).toBeNull();
     expect(formFromPlan(plan!)).toEqual({ ...htrb, vceV: '', icmA: '' });
   });
 
   it('maps the API’s field errors onto the form’s fields', () => {
-    expect(serverFieldErrors({ 'bias.icA': ['Too high', 'x'], 'criteria.leakageFloorA': ['Too low'], readPointsH: ['Bad'], name: ['Taken'] })).toEqual({
+    expect(
+      serverFieldErrors({ 'bias.icA': ['Too high', 'x'], 'criteria.leakageFloorA': ['Too low'], readPointsH: ['Bad'], name: ['Taken'] }),
+    ).toEqual({
       icmA: 'Too high',
       leakageFloornA: 'Too low',
       readPoints: 'Bad',

@@ -28,7 +28,6 @@ import { notFound } from '../../http/errors';
 import { ALARM_EVENT } from '../alarms/alarms.service';
 import { RUN_EVENT } from '../runs/run-events';
 
-
 interface TileRow {
   id: string;
   code: string;

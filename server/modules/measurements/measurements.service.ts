@@ -1,7 +1,7 @@
 import { createHash } from 'node:crypto';
 import { isLateReading } from '../../../shared/domain/standards';
 import { formatUtc } from '../../../shared/domain/format';
-import { In, Not, type DataSource, type EntityManager } from 'typeorm';
+import { Not, type DataSource, type EntityManager } from 'typeorm';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import {
   type ManualReading,
@@ -13,7 +13,6 @@ import {
   type UploadFields,
   type UploadResult,
 } from '../../../shared/schemas/measurements';
-import type { Criteria } from '../../../shared/schemas/plans';
 import { DeviceEntity, LotEntity, MeasurementEntity, MeasurementUploadEntity, RunEntity, RunSocketEntity } from '../../db/entities';
 import { conflict, unprocessable } from '../../http/errors';
 import type { AuditService } from '../audit/audit.service';
@@ -167,7 +166,7 @@ export class MeasurementsService {
     }
     const base = { runId: p.runId, readPointH: p.hours, fileName, fileSha256: sha, notes: [REUPLOAD_RULE] };
     if (previous && !p.preview) {
-      const rows = (previous.rowErrors ?? []) as RowResult[];
+      const rows: RowResult[] = previous.rowErrors ?? [];
       return {
         status: 200,
         body: {
@@ -224,7 +223,7 @@ export class MeasurementsService {
             rowsTotal: body.rowsTotal,
             rowsStored: body.stored + body.unchanged,
             rowsRejected: body.rejected,
-            rowErrors: body.rows.filter((r) => r.outcome === 'rejected') as unknown as Array<Record<string, unknown>>,
+            rowErrors: body.rows.filter((r) => r.outcome === 'rejected'),
             uploadedById: actor.id,
           }),
         );
@@ -452,7 +451,7 @@ export function runDrift(b: DriftSource, ms: readonly DriftReading[], opts: { re
     else byDevice.set(x.deviceId, [x]);
   }
   const gain = { referenceC: b.deviceType.betaRefTC, xtb: b.deviceType.xtb };
-  const criteria = b.plan.criteria as Criteria;
+  const criteria = b.plan.criteria;
   return {
     runId: b.run.id,
     runCode: b.run.code,

@@ -18,8 +18,10 @@ export function plansRoutes(ctx: AppContext): ApiRouter {
   r.get('/:id', { access: 'signed-in', params: idParamSchema }, ({ params }) => svc.get(params.id));
   r.post('/', { access: rolesFor('plan.edit'), body: planInputSchema, status: 201 }, ({ user, body }) => svc.create(user, body));
   // Edit = a new version of the plan whose current version is :id.
-  r.post('/:id/versions', { access: rolesFor('plan.edit'), params: idParamSchema, body: planInputSchema, status: 201 }, ({ user, params, body }) =>
-    svc.newVersion(user, params.id, body),
+  r.post(
+    '/:id/versions',
+    { access: rolesFor('plan.edit'), params: idParamSchema, body: planInputSchema, status: 201 },
+    ({ user, params, body }) => svc.newVersion(user, params.id, body),
   );
   return r;
 }

@@ -2,7 +2,6 @@
 import { In, type EntityManager } from 'typeorm';
 import { ON_RIG_STATES, sqlStateList } from '../../../shared/domain/run-states';
 import { planBiasV } from '../../../shared/scheduling';
-import type { PlanCheckResult } from '../../../shared/schemas/plans';
 import {
   allowedActions,
   RUN_STATE_LABEL,
@@ -41,7 +40,7 @@ export function planRef(p: StressPlanEntity): RunPlanRef {
     durationH: p.durationH,
     readPointsH: sortedReadPoints(p),
     biasV: planBiasV(p),
-    checkStatus: ((p.checkResult as PlanCheckResult | null)?.status ?? 'none') as RunPlanRef['checkStatus'],
+    checkStatus: p.checkResult?.status ?? 'none',
   };
 }
 
@@ -112,7 +111,7 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
 }
 
 export async function runSockets(m: EntityManager, runId: string): Promise<RunSocket[]> {
-  const rows: Array<Record<string, any>> = await m.query(
+  const rows: Array<{ socket: number; serial: string; lot: string; hours: number | string; tripped: boolean; reason: string | null; failed: number | string | null }> = await m.query(
     `SELECT s.socket_index AS socket, d.serial, l.code AS lot, s.accrued_hours AS hours, s.tripped, s.trip_reason AS reason, s.failed_at_h AS failed
      FROM run_sockets s JOIN devices d ON d.id = s.device_id JOIN lots l ON l.id = d.lot_id
      WHERE s.run_id = $1 ORDER BY s.socket_index`,

@@ -27,8 +27,10 @@ export function runsRoutes(ctx: AppContext): ApiRouter {
     svc.loadSockets(user, params.id, body),
   );
   for (const action of ['start', 'pause', 'resume', 'measurements-done'] as const) {
-    r.post(`/:id/${action}`, { access: rolesFor(`run.${action}`), params: runIdParamSchema, body: runActionSchema }, ({ user, params, body }) =>
-      svc.act(user, params.id, action, body),
+    r.post(
+      `/:id/${action}`,
+      { access: rolesFor(`run.${action}`), params: runIdParamSchema, body: runActionSchema },
+      ({ user, params, body }) => svc.act(user, params.id, action, body),
     );
   }
   r.post('/:id/abort', { access: rolesFor('run.abort'), params: runIdParamSchema, body: abortRunSchema }, ({ user, params, body }) =>

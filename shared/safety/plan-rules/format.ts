@@ -34,4 +34,5 @@ export function againstBreakdown(v: number, rated: number, derating: number): Se
 }
 
 /** The title for a severity: block / warn / ok wording. */
-export const titled = (sev: Severity, block: string, warn: string, ok: string): string => (sev === 'block' ? block : sev === 'warn' ? warn : ok);
+export const titled = (sev: Severity, block: string, warn: string, ok: string): string =>
+  sev === 'block' ? block : sev === 'warn' ? warn : ok;

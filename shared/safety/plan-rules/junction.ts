@@ -13,7 +13,12 @@ export const junctionTemperature: PlanRule = ({ plan, device, chamber, derived }
       {
         code: 'junction-temperature',
         severity: sev,
-        title: titled(sev, 'Predicted junction above its rating', 'Predicted junction close to its rating', 'Predicted junction within its rating'),
+        title: titled(
+          sev,
+          'Predicted junction above its rating',
+          'Predicted junction close to its rating',
+          'Predicted junction within its rating',
+        ),
         explanation: (
           `Predicted steady junction ${C(tj)} against ${C(device.tjMaxC)} rated (θja ${sig(device.thetaJaCPerW)} °C/W from the ` +
           `${C(chamber)} chamber as ambient). ` +

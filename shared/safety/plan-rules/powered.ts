@@ -3,15 +3,17 @@
  * runaway loop, collector current, dissipation and the cycling swing.
  */
 import { isCyclingKind, isPoweredKind } from '../../domain/stress';
-import {
-  ACTIVE_REGION_MIN_VCE_V,
-  MOSFET_THERMAL_NOTE,
-  criticalAmbient,
-  junctionTemperature,
-  thermalOperatingPoint,
-} from '../../physics';
+import { ACTIVE_REGION_MIN_VCE_V, MOSFET_THERMAL_NOTE, criticalAmbient, junctionTemperature, thermalOperatingPoint } from '../../physics';
 import { A, C, V, W, againstLimit, numbers, pct, sig, titled } from './format';
-import { LOOP_GAIN_BLOCK, LOOP_GAIN_WARN, RUNAWAY_MARGIN_WARN_C, type CheckContext, type Finding, type PlanRule, type Severity } from './types';
+import {
+  LOOP_GAIN_BLOCK,
+  LOOP_GAIN_WARN,
+  RUNAWAY_MARGIN_WARN_C,
+  type CheckContext,
+  type Finding,
+  type PlanRule,
+  type Severity,
+} from './types';
 
 const vceOf = (c: CheckContext) => c.plan.bias.vceV ?? 0;
 
@@ -167,7 +169,12 @@ export const icVsIcMax: PlanRule = ({ plan, device, derived, powered }) => {
     {
       code: 'ic-vs-icmax',
       severity: sev,
-      title: titled(sev, 'Collector current above the rating', 'Collector current close to the rating', 'Collector current within the rating'),
+      title: titled(
+        sev,
+        'Collector current above the rating',
+        'Collector current close to the rating',
+        'Collector current within the rating',
+      ),
       explanation:
         `Collector current ${A(icA)}${powered.forcedIb ? ` (β ${sig(icA / ib)} × IB ${A(ib)})` : ''} ` +
         `against the rated ${A(device.icMaxA)} (${pct(icA / device.icMaxA)}).`,
@@ -189,7 +196,12 @@ export const dissipation: PlanRule = (c) => {
     {
       code: 'dissipation-vs-derated-limit',
       severity: sev,
-      title: titled(sev, 'Dissipation above the derated limit', 'Dissipation close to the derated limit', 'Dissipation within the derated limit'),
+      title: titled(
+        sev,
+        'Dissipation above the derated limit',
+        'Dissipation close to the derated limit',
+        'Dissipation within the derated limit',
+      ),
       explanation:
         `P = VCE·IC = ${V(vceOf(c))} × ${A(derived.icA as number)} = ${W(powerW)}${c.powered.runaway ? ' (at least — the gain keeps rising)' : ''}. ` +
         `Derated limit (Tj max − T case)/θjc = (${C(device.tjMaxC)} − ${C(chamber)})/${sig(device.thetaJcCPerW)} °C/W = ${W(limit)}, ` +

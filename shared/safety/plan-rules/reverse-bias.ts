@@ -2,7 +2,15 @@
 import { isReverseBiasKind } from '../../domain/stress';
 import { criticalAmbientReverseBias, reverseBiasOperatingPoint } from '../../physics';
 import { A, C, V, W, numbers, sig } from './format';
-import { ICBO_REF_C, LEAKAGE_DOUBLING_C, LOOP_GAIN_BLOCK, LOOP_GAIN_WARN, RUNAWAY_MARGIN_WARN_C, type PlanRule, type Severity } from './types';
+import {
+  ICBO_REF_C,
+  LEAKAGE_DOUBLING_C,
+  LOOP_GAIN_BLOCK,
+  LOOP_GAIN_WARN,
+  RUNAWAY_MARGIN_WARN_C,
+  type PlanRule,
+  type Severity,
+} from './types';
 
 export const leakageSelfHeating: PlanRule = ({ plan, device, chamber, derived }) => {
   const vcb = plan.bias.vcbV;
@@ -38,12 +46,20 @@ export const leakageSelfHeating: PlanRule = ({ plan, device, chamber, derived })
   derived.leakageAtTjA = op.runaway ? null : op.iA;
   derived.tjC = op.runaway ? null : op.tjC;
   const sev: Severity =
-    op.runaway || op.loopGain >= LOOP_GAIN_BLOCK ? 'block' : op.loopGain >= LOOP_GAIN_WARN || margin < RUNAWAY_MARGIN_WARN_C ? 'warn' : 'ok';
+    op.runaway || op.loopGain >= LOOP_GAIN_BLOCK
+      ? 'block'
+      : op.loopGain >= LOOP_GAIN_WARN || margin < RUNAWAY_MARGIN_WARN_C
+        ? 'warn'
+        : 'ok';
   return [
     {
       code: 'leakage-self-heating',
       severity: sev,
-      title: op.runaway ? 'Leakage runaway: no stable junction temperature' : sev === 'warn' ? 'Leakage self-heating close to runaway' : 'Leakage self-heating small',
+      title: op.runaway
+        ? 'Leakage runaway: no stable junction temperature'
+        : sev === 'warn'
+          ? 'Leakage self-heating close to runaway'
+          : 'Leakage self-heating small',
       explanation: op.runaway
         ? `ICBO ${A(device.icboRefA)} at 25 °C, doubling every ${LEAKAGE_DOUBLING_C} °C, at VCB ${V(vcb)} and θja ` +
           `${sig(device.thetaJaCPerW)} °C/W: the leakage heats the junction faster than it can lose heat from a ${C(chamber)} chamber. ` +
