@@ -193,3 +193,6 @@ export function conditionDifferences(timeZero: MeasuringConditions, reading: Mea
 }
 
 export const CONFIRM_REASON_MIN = 5;
+
+/** A reading may be judged when its conditions agree with time zero or an engineer confirmed it. */
+export const isJudgeable = (r: { conditionsFlag: string | null; confirmedAt: Date | string | null }) => r.conditionsFlag === null || r.confirmedAt !== null;
