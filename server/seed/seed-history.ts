@@ -19,8 +19,10 @@ import {
   RunEntity,
   RunLotEntity,
   RunSocketEntity,
+  SampleEntity,
   StressPlanEntity,
   UserEntity,
+  DeviceDispositionEntity,
 } from '../db/entities';
 import { refreshFirstFailures } from '../modules/measurements/measurements.service';
 import { loadRunBundle } from '../modules/measurements/run-data';
@@ -69,6 +71,16 @@ export interface HistoryRunSpec {
   /** Readings taken on a warm tester: hFE measured at this temperature (referred back by the analysis). */
   warm?: { serials: string[]; atH: number; tempC: number };
   createdById?: string | null;
+  /** Join this sample (a sample split across rigs); otherwise the run gets a sample of its own. */
+  sampleId?: string;
+  /** A sample smaller than the plan asks: the recorded deviation. */
+  deviation?: string;
+  /** Dead devices: from this read point on they read open / short / no reading (no values). */
+  catastrophic?: Array<{ serial: string; atH: number; result: 'open' | 'short' | 'no-reading' }>;
+  /** Sockets that tripped after this many stress hours: hours stop there; a disposition says what the trip means. */
+  trips?: Array<{ serial: string; atH: number; disposition: 'trip-failure' | 'reseated' | 'excluded' }>;
+  /** Readings never taken (the read point stays incomplete). */
+  missing?: Array<{ serial: string; atH: number }>;
 }
 
 /** Wall-clock time of each read point: 24 h hold per earlier read point, bias off at the read point. */
@@ -90,8 +102,27 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
   const biasRemovedAt = lastDone !== undefined ? clock.get(lastDone)!.biasOff : null;
   const finishedAt = s.state === 'finished' ? (biasRemovedAt ?? new Date(s.startedAt.getTime() + s.stressHours * H)) : null;
   const deviceCount = s.lots.reduce((n, l) => n + l.devices.length, 0);
+  let sampleId = s.sampleId;
+  if (sampleId) {
+    await m.query(`UPDATE samples SET booked_size = booked_size + $2 WHERE id = $1`, [sampleId, deviceCount]);
+  } else {
+    const short = deviceCount < s.plan.sampleSize && s.deviation;
+    const sample = await m.save(
+      m.create(SampleEntity, {
+        planId: s.plan.id,
+        plannedSize: s.plan.sampleSize,
+        bookedSize: deviceCount,
+        deviationReason: short ? s.deviation! : null,
+        deviationById: short ? (s.createdById ?? null) : null,
+        deviationAt: short ? s.startedAt : null,
+        createdById: s.createdById ?? null,
+      }),
+    );
+    sampleId = sample.id;
+  }
   const run = await m.save(
     m.create(RunEntity, {
+      sampleId,
       code: s.code,
       planId: s.plan.id,
       rigId: s.rig?.id ?? null,
@@ -116,8 +147,37 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
   for (const l of s.lots) for (const d of l.devices) sockets.push({ device: d, socketIndex: socket++, drift: l.drift, lotCode: l.lot.code });
   await m.insert(
     RunSocketEntity,
-    sockets.map((x) => ({ runId: run.id, deviceId: x.device.id, socketIndex: x.socketIndex, accruedHours: s.stressHours })),
+    sockets.map((x) => {
+      const trip = s.trips?.find((tr) => tr.serial === x.device.serial);
+      return trip
+        ? { runId: run.id, deviceId: x.device.id, socketIndex: x.socketIndex, accruedHours: trip.atH, tripped: true, trippedAt: new Date(s.startedAt.getTime() + trip.atH * H), tripReason: 'Runaway: junction rising on its own (protection trip)' }
+        : { runId: run.id, deviceId: x.device.id, socketIndex: x.socketIndex, accruedHours: s.stressHours };
+    }),
   );
+  const afterTrip = (serial: string, h: number) => {
+    const trip = s.trips?.find((tr) => tr.serial === serial);
+    return trip && trip.disposition !== 'reseated' && h > trip.atH;
+  };
+  for (const tr of s.trips ?? []) {
+    const x = sockets.find((k) => k.device.serial === tr.serial);
+    if (!x) continue;
+    const next = plannedH.find((h) => h > tr.atH) ?? plannedH[plannedH.length - 1];
+    await m.insert(DeviceDispositionEntity, {
+      runId: run.id,
+      deviceId: x.device.id,
+      readPointH: next,
+      kind: tr.disposition,
+      reason:
+        tr.disposition === 'trip-failure'
+          ? `Socket ${x.socketIndex} tripped at ${tr.atH} h on thermal runaway; counted as a failure.`
+          : tr.disposition === 'reseated'
+            ? `Socket ${x.socketIndex} tripped at ${tr.atH} h on a loose clamp; device re-seated and measured on.`
+            : `Socket ${x.socketIndex} tripped at ${tr.atH} h on a rig fault; device excluded.`,
+      byId: s.createdById ?? null,
+      byName: 'Demo engineer',
+      at: new Date(s.startedAt.getTime() + next * H),
+    });
+  }
 
   const noise = s.noise ?? 1;
   const t = s.deviceType;
@@ -132,6 +192,10 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
     const vce0 = 0.22 + 0.02 * noise * z();
     const bv0 = (t.bvceoV ?? t.bvcboV / 2) * (1.15 + 0.03 * noise * z());
     for (const h of s.measuredH) {
+      if (afterTrip(x.device.serial, h)) continue;
+      if (s.missing?.some((mi) => mi.serial === x.device.serial && mi.atH === h)) continue;
+      const dead = s.catastrophic?.find((c) => c.serial === x.device.serial && h >= c.atH);
+      if (dead && h > dead.atH) continue; // dead at an earlier read point: nothing more to measure
       const fail = s.failures?.find((f) => f.serial === x.device.serial && h >= f.atH);
       let hfe = hfe0 * (1 + (x.drift.hfeDriftPctPer1000h * (h / 1000) * slopeScale + 0.4 * noise * z() * (h > 0 ? 1 : 0)) / 100);
       let icbo = leak0 * Math.pow(x.drift.leakageGrowthPer1000h, (h / 1000) * leakScale) * (h > 0 ? Math.exp(0.05 * noise * z()) : 1);
@@ -143,6 +207,13 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
       if (warm !== null) hfe *= Math.pow((warm + 273.15) / (t.betaRefTC + 273.15), t.xtb);
       const late = s.late?.some((l) => l.serial === x.device.serial && l.atH === h) ?? false;
       const when = clock.get(h)!;
+      if (dead) {
+        rows.push({
+          runId: run.id, deviceId: x.device.id, readPointH: h, result: dead.result, hfe: null, hfeIcA: null, hfeVceV: null, icboA: null,
+          icboVcbV: null, vcesatV: null, bvceoV: null, measuredC, measuredAt: when.measured, late: false, uploadId: null, enteredById: s.createdById ?? null,
+        });
+        continue;
+      }
       rows.push({
         runId: run.id,
         deviceId: x.device.id,
