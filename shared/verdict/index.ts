@@ -1,0 +1,2 @@
+/** Lot verdicts: the evidence they are judged on and the judgement. */
+export * from './evidence';
