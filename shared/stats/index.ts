@@ -342,3 +342,25 @@ export function welchT(a: SampleSummary, b: SampleSummary): { t: number; df: num
   const pTwoSided = 2 * jStat.studentt.cdf(-Math.abs(t), df);
   return { t, df, pTwoSided };
 }
+
+// ---------------------------------------------------------------------------------------------
+// Prediction interval for one new value
+// ---------------------------------------------------------------------------------------------
+
+/**
+ * Two-sided prediction interval for one new value from m past values of a normal population
+ * (Hahn & Meeker, Statistical Intervals, 1991, normal-distribution chapter):
+ *   x̄ ± t(1 − α/2; m − 1) · s · √(1 + 1/m),  α = 1 − confidence, s the sample standard deviation.
+ * Needs at least two values.
+ */
+export function predictionInterval(p: { values: number[]; confidence: number }): { lower: number; upper: number; mean: number; sd: number; t: number; m: number } {
+  const m = p.values.length;
+  if (m < 2) throw new RangeError('a prediction interval needs at least two values');
+  if (!(p.confidence > 0 && p.confidence < 1)) throw new RangeError('confidence must be between 0 and 1');
+  if (p.values.some((v) => !Number.isFinite(v))) throw new RangeError('values must be finite');
+  const xbar = mean(p.values);
+  const sd = sampleStandardDeviation(p.values);
+  const t = jStat.studentt.inv(1 - (1 - p.confidence) / 2, m - 1);
+  const half = t * sd * Math.sqrt(1 + 1 / m);
+  return { lower: xbar - half, upper: xbar + half, mean: xbar, sd, t, m };
+}
