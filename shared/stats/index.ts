@@ -19,6 +19,26 @@ export function normaliseGainToReference(p: { hfe: number; measuredC: number; re
   return p.hfe / Math.pow((p.measuredC + KELVIN_OFFSET) / (p.referenceC + KELVIN_OFFSET), p.xtb);
 }
 
+/** Readings within this many °C of the reference temperature are used as measured. */
+export const GAIN_REFERENCE_TOLERANCE_C = 0.5;
+
+export interface GainReference {
+  referenceC: number;
+  xtb: number;
+}
+
+/** hFE referred to the reference temperature, and whether (and how) it was converted. */
+export function referredGain(hfe: number | null, measuredC: number, g: GainReference): { hfe: number | null; normalised: boolean; note: string | null } {
+  if (hfe === null) return { hfe: null, normalised: false, note: null };
+  if (Math.abs(measuredC - g.referenceC) <= GAIN_REFERENCE_TOLERANCE_C) return { hfe, normalised: false, note: null };
+  const referred = normaliseGainToReference({ hfe, measuredC, referenceC: g.referenceC, xtb: g.xtb });
+  return {
+    hfe: referred,
+    normalised: true,
+    note: `hFE ${+hfe.toPrecision(4)} measured at ${+measuredC.toFixed(1)} °C, referred to ${g.referenceC} °C with XTB ${g.xtb}: ${+referred.toPrecision(4)}`,
+  };
+}
+
 // ---------------------------------------------------------------------------------------------
 // Device drift against criteria
 // ---------------------------------------------------------------------------------------------
