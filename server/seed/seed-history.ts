@@ -325,7 +325,7 @@ interface DemoRun {
 /**
  * The verdict states each lot is meant to show (issue #19), honestly from its evidence:
  * - HG2611-A passed: 77 devices split over OV-01 (64) and OV-02 (13), every read point complete.
- * - HG2611-B incomplete: two devices have no 1000 h reading and no disposition (one lost device is
+ * - HG2611-B incomplete: four devices have no 1000 h reading and no disposition (one lost device is
  *   accounted for by its disposition; two late readings).
  * - HG2609-D passed: six 1000 h readings measured warm (31 °C) are flagged and confirmed.
  * - HG2610-E failed: a catastrophic open at 500 h, a trip counted as a failure, two parametric
@@ -339,7 +339,7 @@ const DEMO_RUNS: DemoRun[] = [
   {
     lot: 'HG2611-B', kind: 'htrb', rigs: [], split: [{ rig: 'OV-02', n: 64 }, { rig: 'OV-01', n: 13 }], state: 'finished', startedDaysAgo: 120,
     late: [{ serial: 'B0003', atH: 1000 }, { serial: 'B0011', atH: 1000 }],
-    missing: [{ serial: 'B0040', atH: 1000 }, { serial: 'B0041', atH: 1000 }],
+    missing: ['B0040', 'B0041', 'B0042', 'B0043'].map((serial) => ({ serial, atH: 1000 })),
     removed: [{ serial: 'B0017', atH: 500, kind: 'lost', reason: 'Not in the carrier after the 168 h read; searched the tester and the oven.' }],
   },
   {

@@ -40,7 +40,10 @@ const DEMO_LIVE_RUNS: DemoLiveRun[] = [
     code: 'THB-2612-G', partNumber: 'HPD-7N400', kind: 'thb', lots: ['HG2612-G'], rig: 'HC-05', state: 'stressing', perLot: 40, skip: 0, stressHours: 120,
     deviation: 'Engineering look at the 2612 die attach, not a qualification: 40 devices on the humidity board.',
   },
-  { code: 'HOTL-2609-D-2', partNumber: 'HPD-3P90', kind: 'hotl', lots: ['HG2609-D'], rig: 'OV-03', state: 'heating', perLot: 45, skip: 45 },
+  {
+    code: 'HOTL-2609-D-2', partNumber: 'HPD-3P90', kind: 'hotl', lots: ['HG2609-D'], rig: 'OV-03', state: 'heating', perLot: 40, skip: 45,
+    deviation: 'Engineering run on the spares of HG2609-D after the heat-sink change: 40 devices.',
+  },
   {
     code: 'IOL-2605-H', partNumber: 'HPD-S230', kind: 'iol', lots: ['HG2605-H'], rig: 'OV-06', state: 'loading', perLot: 32, skip: 0, loaded: 20,
     deviation: 'Quarterly reel-stock monitor: one cycling board (32 devices) by the monitor procedure.',
