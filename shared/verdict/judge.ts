@@ -11,8 +11,9 @@ import { demonstratedLtpd, weibullFit } from '../reliability';
 import { deviceDrift, individualsChart, pseudoFailureTime, predictionInterval, referredGain, runRuleViolations, type DriftParameter } from '../stats';
 import { mean, median } from 'simple-statistics';
 import {
-  CATASTROPHIC_LABEL,
   DISPOSITION_LABEL,
+  MEASUREMENT_RESULT_LABEL,
+  absoluteLimits,
   planConditionsKey,
   type AbsoluteLimit,
   type DeviceEvidence,
@@ -259,11 +260,14 @@ function judgeDevice(ev: DeviceEvidence, plan: PlanEvidence['plan'], hoursList: 
     if (w.failedAtH === null) w.failedAtH = h;
     if (w.failedAtH === h) w.failedBecause.push(why);
   };
-  const removal = [...ev.dispositions].filter((d) => d.kind !== 'failure').sort((a, b) => a.readPointH - b.readPointH)[0] ?? null;
-  const failureDisposition = [...ev.dispositions].filter((d) => d.kind === 'failure').sort((a, b) => a.readPointH - b.readPointH)[0] ?? null;
+  const REMOVING = ['lost', 'damaged', 'excluded'];
+  const removal = [...ev.dispositions].filter((d) => REMOVING.includes(d.kind)).sort((a, b) => a.readPointH - b.readPointH)[0] ?? null;
+  const failureDisposition = [...ev.dispositions].filter((d) => d.kind === 'trip-failure').sort((a, b) => a.readPointH - b.readPointH)[0] ?? null;
+  const reseated = ev.dispositions.some((d) => d.kind === 'reseated');
   const trip = ev.trip;
-  /** First read point at or after the trip: the device's stress ended there. */
-  const tripReadPoint = trip ? hoursList.find((h) => h >= trip.atH) ?? null : null;
+  /** First read point after the trip: the device's stress ended before it. */
+  const tripReadPoint = trip ? hoursList.find((h) => h > trip.atH) ?? null : null;
+  const limits = absoluteLimits(plan.criteria.limits);
 
   for (const h of hoursList) {
     if (w.failedAtH !== null && h > w.failedAtH) {
@@ -276,26 +280,18 @@ function judgeDevice(ev: DeviceEvidence, plan: PlanEvidence['plan'], hoursList: 
     }
     if (removal && removal.readPointH <= h) {
       w.removedAtH = h;
-      w.removedBecause = `${DISPOSITION_LABEL[removal.kind]} at ${fmtH(removal.readPointH)}: ${removal.reason} (${removal.by}, ${removal.at.slice(0, 10)})`;
+      w.removedBecause = `${DISPOSITION_LABEL[removal.kind].toLowerCase()} at ${fmtH(removal.readPointH)}: ${removal.reason} (${removal.by}, ${removal.at.slice(0, 10)})`;
       w.at.set(h, { counts: true, kind: 'removed', why: w.removedBecause });
       continue;
     }
     if (failureDisposition && failureDisposition.readPointH <= h) {
-      fail(h, `counted as a failure at ${fmtH(failureDisposition.readPointH)}: ${failureDisposition.reason} (${failureDisposition.by})`);
+      const tripped = trip ? `socket tripped at ${fmtH(trip.atH)}${trip.reason ? ` (${trip.reason})` : ''}, ` : '';
+      fail(h, `${tripped}counted as a failure at ${fmtH(failureDisposition.readPointH)}: ${failureDisposition.reason} (${failureDisposition.by})`);
       w.at.set(h, { counts: true, kind: 'catastrophic', why: 'counted as a failure' });
       continue;
     }
-    if (trip && tripReadPoint !== null && h >= tripReadPoint && trip.outcome !== 're-seated') {
-      if (trip.outcome === 'failure') {
-        fail(h, `socket tripped at ${fmtH(trip.atH)} (${trip.reason}), counted as a failure`);
-        w.at.set(h, { counts: true, kind: 'catastrophic', why: 'tripped, counted as a failure' });
-      } else if (trip.outcome === 'excluded') {
-        w.removedAtH = h;
-        w.removedBecause = `socket tripped at ${fmtH(trip.atH)} (${trip.reason}), excluded by ${trip.decidedBy ?? 'the lab'}`;
-        w.at.set(h, { counts: true, kind: 'removed', why: w.removedBecause });
-      } else {
-        w.at.set(h, { counts: false, kind: 'missing', why: `socket tripped at ${fmtH(trip.atH)}; failure, re-seat or exclusion not yet recorded` });
-      }
+    if (trip && tripReadPoint !== null && h >= tripReadPoint && !reseated) {
+      w.at.set(h, { counts: false, kind: 'missing', why: `socket tripped at ${fmtH(trip.atH)}; failure, re-seat or exclusion not yet recorded` });
       continue;
     }
     const r = byHours.get(h);
@@ -308,14 +304,14 @@ function judgeDevice(ev: DeviceEvidence, plan: PlanEvidence['plan'], hoursList: 
       continue;
     }
     if (r.result !== 'measured') {
-      fail(h, `${CATASTROPHIC_LABEL[r.result]} at ${fmtH(h)}`);
-      w.at.set(h, { counts: true, kind: 'catastrophic', why: CATASTROPHIC_LABEL[r.result] });
+      fail(h, `${MEASUREMENT_RESULT_LABEL[r.result].toLowerCase()} at ${fmtH(h)}`);
+      w.at.set(h, { counts: true, kind: 'catastrophic', why: MEASUREMENT_RESULT_LABEL[r.result].toLowerCase() });
       continue;
     }
     w.at.set(h, { counts: true, kind: 'measured', why: '' });
     if (h === 0) continue;
     const hfe = refer(r);
-    for (const b of absoluteBreaches({ hfe, icbo: r.icboA, vcesat: r.vcesatV, bvceo: r.bvceoV }, plan.absoluteLimits)) fail(h, `${b} at ${fmtH(h)}`);
+    for (const b of absoluteBreaches({ hfe, icbo: r.icboA, vcesat: r.vcesatV, bvceo: r.bvceoV }, limits)) fail(h, `${b} at ${fmtH(h)}`);
     if (t0 && t0.result === 'measured' && judgeable(t0)) {
       const d = deviceDrift({ timeZero: { hfe: t0Hfe, icboA: t0.icboA, vcesatV: t0.vcesatV }, reading: { hfe, icboA: r.icboA, vcesatV: r.vcesatV }, criteria: plan.criteria });
       for (const p of d.parameters) if (p.pass === false) fail(h, `${p.reason} at ${fmtH(h)}`);

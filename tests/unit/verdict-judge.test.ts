@@ -3,7 +3,7 @@
  * prediction interval or individuals chart, per-device degradation with a Weibull life.
  */
 import { jStat } from 'jstat';
-import { judgeLot, planConditionsKey, PEER_INTERVAL_CONFIDENCE, conditionDifferences, dateFromDateCode, type PeerLot } from '../../shared/verdict';
+import { judgeLot, planConditionsKey, PEER_INTERVAL_CONFIDENCE, dateFromDateCode, type PeerLot } from '../../shared/verdict';
 import { device, lotEvidence, planConditions, planEvidence, reading } from '../support/evidence';
 
 const HOURS = [0, 168, 500, 1000];
@@ -95,12 +95,6 @@ describe('completeness', () => {
     expect(confirmed.verdict).toBe('failed');
   });
 
-  test('conditionDifferences: tolerance on temperature and set points', () => {
-    const t0 = { measuredC: 25, hfeIcA: 0.15, hfeVceV: 5, icboVcbV: 60 };
-    expect(conditionDifferences(t0, { ...t0, measuredC: 26.5 })).toEqual([]);
-    expect(conditionDifferences(t0, { ...t0, measuredC: 30 })).toEqual(['measured at 30 °C, time zero at 25 °C']);
-    expect(conditionDifferences(t0, { ...t0, icboVcbV: 80 })).toEqual(['VCB for ICBO 80 V, time zero 60 V']);
-  });
 });
 
 describe('failures', () => {
@@ -120,25 +114,30 @@ describe('failures', () => {
     const d = pe.devices[7];
     d.readings = d.readings.filter((r) => r.readPointH <= 168);
     d.creditedHours = 250;
-    d.trip = { atH: 250, at: '2026-04-20T00:00:00Z', reason: 'leakage runaway', outcome: null, decidedBy: null, decidedAt: null };
-    expect(judgeLot(lotEvidence([pe]), []).verdict).toBe('incomplete');
-    d.trip = { ...d.trip, outcome: 'failure', decidedBy: 'Engineer One', decidedAt: '2026-04-21T00:00:00Z' };
+    d.trip = { atH: 250, at: '2026-04-20T00:00:00Z', reason: 'leakage runaway' };
+    const undecided = judgeLot(lotEvidence([pe]), []);
+    expect(undecided.verdict).toBe('incomplete');
+    expect(undecided.plans[0].devices[7].missing[0]).toEqual({ hours: 500, why: 'socket tripped at 250 h; failure, re-seat or exclusion not yet recorded' });
+    d.dispositions = [{ kind: 'trip-failure', readPointH: 500, reason: 'collector-base short', by: 'Engineer One', at: '2026-04-21T00:00:00Z' }];
     const failed = judgeLot(lotEvidence([pe]), []);
     expect(failed.verdict).toBe('failed');
     expect(failed.plans[0].devices[7].failedAtH).toBe(500);
     // FIT exposure from each device's credited hours: 76 × 1000 h + 250 h, not 77 × 1000 h
     expect(failed.plans[0].exposure.deviceHours).toBe(76 * 1000 + 250);
-    d.trip = { ...d.trip, outcome: 're-seated' };
+    d.dispositions = [{ kind: 'reseated', readPointH: 500, reason: 'contact spring bent, re-seated', by: 'Operator One', at: '2026-04-21T00:00:00Z' }];
     d.readings = HOURS.map((h) => reading(h));
     expect(judgeLot(lotEvidence([pe]), []).verdict).toBe('passed');
   });
 
   test('data-sheet limits: BVCEO below its minimum fails, and the words name the limit', () => {
-    const pe = planEvidence(77, { plan: { absoluteLimits: [{ parameter: 'bvceo', min: 80, max: null, conditions: 'IC 10 mA' }] } });
+    const limits = { hfeMin: 40, hfeMax: 250, icboMaxA: 50e-9, vcesatMaxV: null, bvceoMinV: 80, atC: 25, hfeIcA: 0.15, hfeVceV: 5, icboVcbV: 60 };
+    const pe = planEvidence(77, { plan: { criteria: { ...planConditions().criteria, limits } } });
     pe.devices[2].readings[3] = reading(1000, { bvceoV: 72 });
     const j = judgeLot(lotEvidence([pe]), []);
     expect(j.verdict).toBe('failed');
-    expect(j.plans[0].devices[2].failedBecause).toEqual(["BVCEO 72 V below the data sheet's 80 V (IC 10 mA) at 1,000 h"]);
+    expect(j.plans[0].devices[2].failedBecause).toEqual(["BVCEO 72 V below the data sheet's 80 V (25 °C) at 1,000 h"]);
+    pe.devices[2].readings[3] = reading(1000, { icboA: 60e-9 });
+    expect(judgeLot(lotEvidence([pe]), []).plans[0].devices[2].failedBecause).toEqual(["ICBO 60 nA above the data sheet's 50 nA (VCB 60 V, 25 °C) at 1,000 h"]);
   });
 });
 
