@@ -132,6 +132,13 @@ export interface Degradation {
   horizonH: number | null;
   devices: DeviceDegradation[];
   weibull: { beta: number; eta: number; method: string; failures: number; suspensions: number; fractionByTargetLife: number } | null;
+  /**
+   * Fraction of the devices projected to reach a limit by the plan's target life: from the Weibull
+   * fit, or — when none can be fitted (fewer than two crossings, or all at one time) — the share of
+   * devices whose pseudo-failure time falls within it. null without paths.
+   */
+  projectedFraction: number | null;
+  projectedBy: 'weibull' | 'share of devices' | null;
   note: string;
 }
 
@@ -197,7 +204,7 @@ export interface LotJudgement {
 // ---------------------------------------------------------------------------------------------
 
 const fmtH = (h: number) => `${Math.round(h).toLocaleString('en-GB')} h`;
-const pct = (f: number) => `${+(f * 100).toPrecision(3)} %`;
+const pct = (f: number) => (f > 0 && f < 1e-4 ? 'below 0.01 %' : `${+(f * 100).toPrecision(3)} %`);
 const r4 = (x: number) => +x.toPrecision(4);
 const plural = (n: number, one: string, many = `${one}s`) => `${n} ${n === 1 ? one : many}`;
 const PARAM_LABEL: Record<JudgedParameter, string> = { hfe: 'hFE', icbo: 'ICBO', vcesat: 'VCE(sat)', bvceo: 'BVCEO' };
@@ -374,16 +381,20 @@ function degradation(works: DeviceWork[], plan: PlanEvidence['plan']): Degradati
   const horizons = works.map((w) => (w.changes.length ? Math.max(...w.changes.map((x) => x.hours)) : 0));
   const horizonH = horizons.some((h) => h > 0) ? Math.max(...horizons) * EXTRAPOLATION_LIMIT : null;
   const method = 'per-device paths through the origin (NIST/SEMATECH e-Handbook §8.4.2.3), Weibull by maximum likelihood with suspensions';
+  const byTarget = lives.filter((l) => l.kind === 'failure' && l.hours <= plan.durationH).length;
+  const share = lives.length ? byTarget / lives.length : null;
+  const shareWords = lives.length ? `${byTarget} of ${lives.length} devices projected to reach a limit by the plan's ${fmtH(plan.durationH)}` : '';
+  const noFit = (why: string): Degradation => ({
+    method,
+    horizonH,
+    devices,
+    weibull: null,
+    projectedFraction: share,
+    projectedBy: share === null ? null : 'share of devices',
+    note: lives.length ? `${why}; ${shareWords} (${pct(share!)}).` : 'No device has readings after time zero yet.',
+  });
   if (failures.length < 2) {
-    return {
-      method,
-      horizonH,
-      devices,
-      weibull: null,
-      note: lives.length
-        ? `${plural(failures.length, 'device')} of ${lives.length} reach a limit within ${EXTRAPOLATION_LIMIT}× the last read point; a Weibull fit needs at least two.`
-        : 'No device has readings after time zero yet.',
-    };
+    return noFit(`${plural(failures.length, 'device')} of ${lives.length} reach a limit within ${EXTRAPOLATION_LIMIT}× the last read point; a Weibull fit needs at least two`);
   }
   try {
     const wf = weibullFit(failures, suspensions, { method: 'mle' });
@@ -393,10 +404,12 @@ function degradation(works: DeviceWork[], plan: PlanEvidence['plan']): Degradati
       horizonH,
       devices,
       weibull: { beta: wf.beta, eta: wf.eta, method: wf.method, failures: wf.failures, suspensions: wf.suspensions, fractionByTargetLife },
+      projectedFraction: fractionByTargetLife,
+      projectedBy: 'weibull',
       note: `Weibull β ${r4(wf.beta)}, η ${fmtH(wf.eta)} from ${plural(wf.failures, 'pseudo-failure time')} and ${plural(wf.suspensions, 'suspension')}; ${pct(fractionByTargetLife)} projected to fail by the plan's ${fmtH(plan.durationH)}.`,
     };
   } catch (e) {
-    return { method, horizonH, devices, weibull: null, note: `No Weibull fit: ${(e as Error).message}.` };
+    return noFit(`No Weibull fit (${(e as Error).message})`);
   }
 }
 
@@ -611,11 +624,8 @@ function planVerdict(p: {
   // Drift: the life fitted to the devices' pseudo-failure times, and the peers.
   const driftReasons: string[] = [];
   const info: string[] = [];
-  if (deg.weibull) {
-    const f = deg.weibull.fractionByTargetLife;
-    if (f >= sample.planLtpd) {
-      driftReasons.push(`Degradation: ${deg.note.replace(/\.$/, '')}, at or above the plan's LTPD of ${pct(sample.planLtpd)}.`);
-    } else info.push(`Degradation: ${deg.note}`);
+  if (deg.projectedFraction !== null && deg.projectedFraction >= sample.planLtpd) {
+    driftReasons.push(`Degradation: ${deg.note.replace(/\.$/, '')}, at or above the plan's LTPD of ${pct(sample.planLtpd)}.`);
   } else info.push(`Degradation: ${deg.note}`);
   for (const c of p.peers) {
     const what = c.parameter === 'hfe' ? 'Mean hFE change' : 'Median ICBO ratio';

@@ -269,6 +269,24 @@ describe('degradation per device', () => {
   });
 });
 
+describe('degradation without a Weibull fit', () => {
+  test('every device crossing at one time (no spread): the share of devices by the target life decides', () => {
+    // −20 % per 1,000 h, measured to 500 h, limit ±15 %: each path through the origin reaches −15 % at
+    // 750 h [NIST/SEMATECH e-Handbook §8.4.2.3 method; hand calculation 15/20 × 1,000 h]
+    const hours = [0, 168, 500];
+    const devices = Array.from({ length: 10 }, (_, i) => device(i, hours, { readings: hours.map((h) => reading(h, { hfe: 100 * (1 - (20 * h) / 1000 / 100) })) }));
+    const pe = planEvidence(0, { devices, plan: { sampleSize: 10 }, state: 'stressing', stressHours: 560 });
+    const j = judgeLot(lotEvidence([pe]), []);
+    const deg = j.plans[0].degradation;
+    expect(deg.weibull).toBeNull();
+    expect(deg.devices[0].pseudoFailureH!).toBeCloseTo(750, 6);
+    expect(deg.projectedBy).toBe('share of devices');
+    expect(deg.projectedFraction).toBe(1);
+    expect(j.verdict).toBe('drifting');
+    expect(j.reasons[0]).toMatch(/10 of 10 devices projected to reach a limit by the plan's 1,000 h \(100 %\), at or above the plan's LTPD of 20\.6 %\.$/);
+  });
+});
+
 describe('several plans', () => {
   test('each plan judged, the combined verdict is the worst', () => {
     const htrb = planEvidence(77);
