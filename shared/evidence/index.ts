@@ -162,6 +162,9 @@ export const MEASURING_TEMP_TOLERANCE_C = 3;
  */
 export const TEST_CONDITION_TOLERANCE_PCT = 2;
 
+/** A value exactly at a tolerance agrees: 0.153 A against 0.15 A is 2.0000000000000018 % in floats. */
+const TOLERANCE_EPS = 1e-9;
+
 export interface MeasuringConditions {
   measuredC: number;
   hfeIcA: number | null;
@@ -176,13 +179,13 @@ export interface MeasuringConditions {
 export function conditionDifferences(timeZero: MeasuringConditions, reading: MeasuringConditions): string[] {
   const out: string[] = [];
   const dT = reading.measuredC - timeZero.measuredC;
-  if (Math.abs(dT) > MEASURING_TEMP_TOLERANCE_C) {
+  if (Math.abs(dT) > MEASURING_TEMP_TOLERANCE_C + TOLERANCE_EPS) {
     out.push(`Measured at ${+reading.measuredC.toFixed(1)} °C; time zero at ${+timeZero.measuredC.toFixed(1)} °C (allowed ± ${MEASURING_TEMP_TOLERANCE_C} °C).`);
   }
   const cond = (label: string, unit: string, a: number | null, b: number | null) => {
     if (a === null || b === null || a === 0) return;
     const pct = ((b - a) / Math.abs(a)) * 100;
-    if (Math.abs(pct) > TEST_CONDITION_TOLERANCE_PCT) {
+    if (Math.abs(pct) > TEST_CONDITION_TOLERANCE_PCT + TOLERANCE_EPS) {
       out.push(`${label} ${+b.toPrecision(4)} ${unit}; time zero ${+a.toPrecision(4)} ${unit} (${pct > 0 ? '+' : ''}${+pct.toFixed(1)} %, allowed ± ${TEST_CONDITION_TOLERANCE_PCT} %).`);
     }
   };

@@ -181,6 +181,7 @@ export function parseMeasurementCsv(buf: Buffer, opts: { mapping: ColumnMapping;
         return null;
       }
       if (dead && c !== 'temp_c') return null; // a dead device's words or leftover values are not stored
+      if (catastrophicWord(raw)) return null; // two different words: reported once above
       if (looksLikeFormula(raw)) return null; // already reported
       if (!NUMBER.test(raw)) {
         reasons.push(`${c} "${raw.slice(0, 20)}" is not a number.`);
