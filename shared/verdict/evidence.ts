@@ -6,81 +6,22 @@
  *
  * Units are SI throughout (A, V, °C, hours). Dates are ISO strings.
  */
-import type { Criteria } from '../schemas/plans';
+import type { Criteria, EndPointLimits } from '../schemas/plans';
 import type { PlanKind } from '../domain/stress';
+import type { CatastrophicResult, DispositionKind } from '../evidence';
 
-// ---------------------------------------------------------------------------------------------
-// Rules of the trade used to build the evidence (declared once; both sides import them)
-// ---------------------------------------------------------------------------------------------
-
-/** What a read point can hold for one device besides a measured value: catastrophic results count as failures. */
-export const CATASTROPHIC_RESULTS = ['open', 'short', 'no-reading'] as const;
-export type CatastrophicResult = (typeof CATASTROPHIC_RESULTS)[number];
-export const CATASTROPHIC_LABEL: Record<CatastrophicResult, string> = {
-  open: 'open',
-  short: 'short',
-  'no-reading': 'no reading possible',
-};
-
-/**
- * Why a sampled device has no reading at a read point. lost / damaged-in-handling / excluded take
- * the device out of the sample from that read point on (it is neither a survivor nor a failure);
- * failure counts it as a failure at that read point (e.g. a tripped socket judged a failure).
- */
-export const DISPOSITION_KINDS = ['lost', 'damaged-in-handling', 'excluded', 'failure'] as const;
-export type DispositionKind = (typeof DISPOSITION_KINDS)[number];
-export const DISPOSITION_LABEL: Record<DispositionKind, string> = {
-  lost: 'lost',
-  'damaged-in-handling': 'damaged in handling',
-  excluded: 'excluded',
-  failure: 'counted as a failure',
-};
-
-/** What was decided about a device whose socket tripped; null while undecided. */
-export const TRIP_OUTCOMES = ['failure', 're-seated', 'excluded'] as const;
-export type TripOutcome = (typeof TRIP_OUTCOMES)[number];
-
-/**
- * Tolerances within which a read point's measuring conditions count as the same as time zero
- * (common practice: a parametric tester's set points repeat to well under 1 %; a handler's
- * temperature to about ±2 °C). Beyond them the reading is flagged and not judged until confirmed.
- */
-export const MEASURING_TOLERANCE = {
-  /** |T − T0| in °C. */
-  temperatureC: 2,
-  /** Relative difference of a bias set point (IC and VCE for hFE, VCB for ICBO). */
-  setPointRel: 0.02,
-} as const;
-
-export interface MeasuringConditions {
-  /** Measuring temperature, °C. */
-  measuredC: number | null;
-  /** IC and VCE at which hFE was measured. */
-  hfeIcA: number | null;
-  hfeVceV: number | null;
-  /** VCB at which ICBO was measured. */
-  icboVcbV: number | null;
-}
-
-/**
- * Which measuring conditions of a reading differ from the device's time-zero reading beyond
- * MEASURING_TOLERANCE, in words ("measured at 35 °C, time zero at 25 °C"). Empty when they agree
- * or one side does not state the condition.
- */
-export function conditionDifferences(timeZero: MeasuringConditions, reading: MeasuringConditions): string[] {
-  const out: string[] = [];
-  if (timeZero.measuredC !== null && reading.measuredC !== null && Math.abs(reading.measuredC - timeZero.measuredC) > MEASURING_TOLERANCE.temperatureC) {
-    out.push(`measured at ${reading.measuredC} °C, time zero at ${timeZero.measuredC} °C`);
-  }
-  const setPoint = (label: string, a: number | null, b: number | null, unit: string) => {
-    if (a === null || b === null || a === 0) return;
-    if (Math.abs(b - a) / Math.abs(a) > MEASURING_TOLERANCE.setPointRel) out.push(`${label} ${+b.toPrecision(4)} ${unit}, time zero ${+a.toPrecision(4)} ${unit}`);
-  };
-  setPoint('IC for hFE', timeZero.hfeIcA, reading.hfeIcA, 'A');
-  setPoint('VCE for hFE', timeZero.hfeVceV, reading.hfeVceV, 'V');
-  setPoint('VCB for ICBO', timeZero.icboVcbV, reading.icboVcbV, 'V');
-  return out;
-}
+// The rules of the evidence (catastrophic results, disposition kinds, the measuring-condition
+// comparison with time zero) are declared once in shared/evidence and only re-used here.
+export {
+  CATASTROPHIC_RESULTS,
+  DISPOSITION_KINDS,
+  DISPOSITION_LABEL,
+  MEASUREMENT_RESULT_LABEL,
+  conditionDifferences,
+  type CatastrophicResult,
+  type DispositionKind,
+  type MeasuringConditions,
+} from '../evidence';
 
 // ---------------------------------------------------------------------------------------------
 // The evidence
@@ -101,6 +42,21 @@ export interface AbsoluteLimit {
   conditions: string;
 }
 
+/** The data sheet's limits stored on a plan's criteria (shared/schemas/plans endPointLimitsSchema), one per parameter. */
+export function absoluteLimits(l: EndPointLimits | undefined | null): AbsoluteLimit[] {
+  if (!l) return [];
+  const at = (parts: Array<string | null>) => parts.filter(Boolean).join(', ');
+  const fmt = (x: number) => +x.toPrecision(4);
+  const out: AbsoluteLimit[] = [];
+  if (l.hfeMin !== null || l.hfeMax !== null) {
+    out.push({ parameter: 'hfe', min: l.hfeMin, max: l.hfeMax, conditions: at([l.hfeIcA !== null ? `IC ${fmt(l.hfeIcA)} A` : null, l.hfeVceV !== null ? `VCE ${fmt(l.hfeVceV)} V` : null, `${l.atC} °C`]) });
+  }
+  if (l.icboMaxA !== null) out.push({ parameter: 'icbo', min: null, max: l.icboMaxA, conditions: at([l.icboVcbV !== null ? `VCB ${fmt(l.icboVcbV)} V` : null, `${l.atC} °C`]) });
+  if (l.vcesatMaxV !== null) out.push({ parameter: 'vcesat', min: null, max: l.vcesatMaxV, conditions: `${l.atC} °C` });
+  if (l.bvceoMinV !== null) out.push({ parameter: 'bvceo', min: l.bvceoMinV, max: null, conditions: `${l.atC} °C` });
+  return out;
+}
+
 /** The stress conditions of the plan a lot was stressed under (what makes two lots peers). */
 export interface PlanConditions {
   /** The plan (version) id and its display name. */
@@ -117,10 +73,8 @@ export interface PlanConditions {
   readPointsH: number[];
   sampleSize: number;
   acceptNumber: number;
-  /** Delta limits (change from time zero). */
+  /** Delta limits (change from time zero) and, in `criteria.limits`, the data sheet's absolute limits. */
   criteria: Criteria;
-  /** Data-sheet limits per parameter; empty when the device type stores none. */
-  absoluteLimits: AbsoluteLimit[];
   /** For FIT: activation energy, use and stress temperature. */
   eaEv: number;
   useC: number;
@@ -179,6 +133,11 @@ export interface ReadingEvidence {
   confirmed: Confirmation | null;
 }
 
+/**
+ * One per device per run (shared/evidence DISPOSITION_KINDS): lost / damaged / excluded take the
+ * device out of the sample from `readPointH` on; trip-failure counts a tripped device as a failure
+ * at `readPointH`; reseated lets a tripped device go on being judged on its readings.
+ */
 export interface Disposition {
   kind: DispositionKind;
   /** The read point from which it applies (the device has no reading there or after). */
@@ -189,14 +148,10 @@ export interface Disposition {
 }
 
 export interface TripEvidence {
-  /** Stress hours the socket had accrued when it tripped. */
+  /** Credited stress hours when the socket tripped (its accrual latches there). */
   atH: number;
-  at: string;
-  reason: string;
-  /** What was decided; null while undecided (the device's next read point is then incomplete). */
-  outcome: TripOutcome | null;
-  decidedBy: string | null;
-  decidedAt: string | null;
+  at: string | null;
+  reason: string | null;
 }
 
 export interface DeviceEvidence {
@@ -207,6 +162,7 @@ export interface DeviceEvidence {
   /** Stress hours credited to this device (its socket's accrual; a trip ends it). */
   creditedHours: number;
   readings: ReadingEvidence[];
+  /** A tripped device without a trip-failure, reseated or excluded disposition is undecided: its later read points are incomplete. */
   dispositions: Disposition[];
   trip: TripEvidence | null;
 }

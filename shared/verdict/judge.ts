@@ -11,8 +11,9 @@ import { demonstratedLtpd, weibullFit } from '../reliability';
 import { deviceDrift, individualsChart, pseudoFailureTime, predictionInterval, referredGain, runRuleViolations, type DriftParameter } from '../stats';
 import { mean, median } from 'simple-statistics';
 import {
-  CATASTROPHIC_LABEL,
   DISPOSITION_LABEL,
+  MEASUREMENT_RESULT_LABEL,
+  absoluteLimits,
   planConditionsKey,
   type AbsoluteLimit,
   type DeviceEvidence,
@@ -131,6 +132,13 @@ export interface Degradation {
   horizonH: number | null;
   devices: DeviceDegradation[];
   weibull: { beta: number; eta: number; method: string; failures: number; suspensions: number; fractionByTargetLife: number } | null;
+  /**
+   * Fraction of the devices projected to reach a limit by the plan's target life: from the Weibull
+   * fit, or — when none can be fitted (fewer than two crossings, or all at one time) — the share of
+   * devices whose pseudo-failure time falls within it. null without paths.
+   */
+  projectedFraction: number | null;
+  projectedBy: 'weibull' | 'share of devices' | null;
   note: string;
 }
 
@@ -196,7 +204,7 @@ export interface LotJudgement {
 // ---------------------------------------------------------------------------------------------
 
 const fmtH = (h: number) => `${Math.round(h).toLocaleString('en-GB')} h`;
-const pct = (f: number) => `${+(f * 100).toPrecision(3)} %`;
+const pct = (f: number) => (f > 0 && f < 1e-4 ? 'below 0.01 %' : `${+(f * 100).toPrecision(3)} %`);
 const r4 = (x: number) => +x.toPrecision(4);
 const plural = (n: number, one: string, many = `${one}s`) => `${n} ${n === 1 ? one : many}`;
 const PARAM_LABEL: Record<JudgedParameter, string> = { hfe: 'hFE', icbo: 'ICBO', vcesat: 'VCE(sat)', bvceo: 'BVCEO' };
@@ -259,11 +267,14 @@ function judgeDevice(ev: DeviceEvidence, plan: PlanEvidence['plan'], hoursList: 
     if (w.failedAtH === null) w.failedAtH = h;
     if (w.failedAtH === h) w.failedBecause.push(why);
   };
-  const removal = [...ev.dispositions].filter((d) => d.kind !== 'failure').sort((a, b) => a.readPointH - b.readPointH)[0] ?? null;
-  const failureDisposition = [...ev.dispositions].filter((d) => d.kind === 'failure').sort((a, b) => a.readPointH - b.readPointH)[0] ?? null;
+  const REMOVING = ['lost', 'damaged', 'excluded'];
+  const removal = [...ev.dispositions].filter((d) => REMOVING.includes(d.kind)).sort((a, b) => a.readPointH - b.readPointH)[0] ?? null;
+  const failureDisposition = [...ev.dispositions].filter((d) => d.kind === 'trip-failure').sort((a, b) => a.readPointH - b.readPointH)[0] ?? null;
+  const reseated = ev.dispositions.some((d) => d.kind === 'reseated');
   const trip = ev.trip;
-  /** First read point at or after the trip: the device's stress ended there. */
-  const tripReadPoint = trip ? hoursList.find((h) => h >= trip.atH) ?? null : null;
+  /** First read point after the trip: the device's stress ended before it. */
+  const tripReadPoint = trip ? hoursList.find((h) => h > trip.atH) ?? null : null;
+  const limits = absoluteLimits(plan.criteria.limits);
 
   for (const h of hoursList) {
     if (w.failedAtH !== null && h > w.failedAtH) {
@@ -276,26 +287,18 @@ function judgeDevice(ev: DeviceEvidence, plan: PlanEvidence['plan'], hoursList: 
     }
     if (removal && removal.readPointH <= h) {
       w.removedAtH = h;
-      w.removedBecause = `${DISPOSITION_LABEL[removal.kind]} at ${fmtH(removal.readPointH)}: ${removal.reason} (${removal.by}, ${removal.at.slice(0, 10)})`;
+      w.removedBecause = `${DISPOSITION_LABEL[removal.kind].toLowerCase()} at ${fmtH(removal.readPointH)}: ${removal.reason} (${removal.by}, ${removal.at.slice(0, 10)})`;
       w.at.set(h, { counts: true, kind: 'removed', why: w.removedBecause });
       continue;
     }
     if (failureDisposition && failureDisposition.readPointH <= h) {
-      fail(h, `counted as a failure at ${fmtH(failureDisposition.readPointH)}: ${failureDisposition.reason} (${failureDisposition.by})`);
+      const tripped = trip ? `socket tripped at ${fmtH(trip.atH)}${trip.reason ? ` (${trip.reason})` : ''}, ` : '';
+      fail(h, `${tripped}counted as a failure at ${fmtH(failureDisposition.readPointH)}: ${failureDisposition.reason} (${failureDisposition.by})`);
       w.at.set(h, { counts: true, kind: 'catastrophic', why: 'counted as a failure' });
       continue;
     }
-    if (trip && tripReadPoint !== null && h >= tripReadPoint && trip.outcome !== 're-seated') {
-      if (trip.outcome === 'failure') {
-        fail(h, `socket tripped at ${fmtH(trip.atH)} (${trip.reason}), counted as a failure`);
-        w.at.set(h, { counts: true, kind: 'catastrophic', why: 'tripped, counted as a failure' });
-      } else if (trip.outcome === 'excluded') {
-        w.removedAtH = h;
-        w.removedBecause = `socket tripped at ${fmtH(trip.atH)} (${trip.reason}), excluded by ${trip.decidedBy ?? 'the lab'}`;
-        w.at.set(h, { counts: true, kind: 'removed', why: w.removedBecause });
-      } else {
-        w.at.set(h, { counts: false, kind: 'missing', why: `socket tripped at ${fmtH(trip.atH)}; failure, re-seat or exclusion not yet recorded` });
-      }
+    if (trip && tripReadPoint !== null && h >= tripReadPoint && !reseated) {
+      w.at.set(h, { counts: false, kind: 'missing', why: `socket tripped at ${fmtH(trip.atH)}; failure, re-seat or exclusion not yet recorded` });
       continue;
     }
     const r = byHours.get(h);
@@ -308,14 +311,14 @@ function judgeDevice(ev: DeviceEvidence, plan: PlanEvidence['plan'], hoursList: 
       continue;
     }
     if (r.result !== 'measured') {
-      fail(h, `${CATASTROPHIC_LABEL[r.result]} at ${fmtH(h)}`);
-      w.at.set(h, { counts: true, kind: 'catastrophic', why: CATASTROPHIC_LABEL[r.result] });
+      fail(h, `${MEASUREMENT_RESULT_LABEL[r.result].toLowerCase()} at ${fmtH(h)}`);
+      w.at.set(h, { counts: true, kind: 'catastrophic', why: MEASUREMENT_RESULT_LABEL[r.result].toLowerCase() });
       continue;
     }
     w.at.set(h, { counts: true, kind: 'measured', why: '' });
     if (h === 0) continue;
     const hfe = refer(r);
-    for (const b of absoluteBreaches({ hfe, icbo: r.icboA, vcesat: r.vcesatV, bvceo: r.bvceoV }, plan.absoluteLimits)) fail(h, `${b} at ${fmtH(h)}`);
+    for (const b of absoluteBreaches({ hfe, icbo: r.icboA, vcesat: r.vcesatV, bvceo: r.bvceoV }, limits)) fail(h, `${b} at ${fmtH(h)}`);
     if (t0 && t0.result === 'measured' && judgeable(t0)) {
       const d = deviceDrift({ timeZero: { hfe: t0Hfe, icboA: t0.icboA, vcesatV: t0.vcesatV }, reading: { hfe, icboA: r.icboA, vcesatV: r.vcesatV }, criteria: plan.criteria });
       for (const p of d.parameters) if (p.pass === false) fail(h, `${p.reason} at ${fmtH(h)}`);
@@ -378,16 +381,20 @@ function degradation(works: DeviceWork[], plan: PlanEvidence['plan']): Degradati
   const horizons = works.map((w) => (w.changes.length ? Math.max(...w.changes.map((x) => x.hours)) : 0));
   const horizonH = horizons.some((h) => h > 0) ? Math.max(...horizons) * EXTRAPOLATION_LIMIT : null;
   const method = 'per-device paths through the origin (NIST/SEMATECH e-Handbook §8.4.2.3), Weibull by maximum likelihood with suspensions';
+  const byTarget = lives.filter((l) => l.kind === 'failure' && l.hours <= plan.durationH).length;
+  const share = lives.length ? byTarget / lives.length : null;
+  const shareWords = lives.length ? `${byTarget} of ${lives.length} devices projected to reach a limit by the plan's ${fmtH(plan.durationH)}` : '';
+  const noFit = (why: string): Degradation => ({
+    method,
+    horizonH,
+    devices,
+    weibull: null,
+    projectedFraction: share,
+    projectedBy: share === null ? null : 'share of devices',
+    note: lives.length ? `${why}; ${shareWords} (${pct(share!)}).` : 'No device has readings after time zero yet.',
+  });
   if (failures.length < 2) {
-    return {
-      method,
-      horizonH,
-      devices,
-      weibull: null,
-      note: lives.length
-        ? `${plural(failures.length, 'device')} of ${lives.length} reach a limit within ${EXTRAPOLATION_LIMIT}× the last read point; a Weibull fit needs at least two.`
-        : 'No device has readings after time zero yet.',
-    };
+    return noFit(`${plural(failures.length, 'device')} of ${lives.length} reach a limit within ${EXTRAPOLATION_LIMIT}× the last read point; a Weibull fit needs at least two`);
   }
   try {
     const wf = weibullFit(failures, suspensions, { method: 'mle' });
@@ -397,10 +404,12 @@ function degradation(works: DeviceWork[], plan: PlanEvidence['plan']): Degradati
       horizonH,
       devices,
       weibull: { beta: wf.beta, eta: wf.eta, method: wf.method, failures: wf.failures, suspensions: wf.suspensions, fractionByTargetLife },
+      projectedFraction: fractionByTargetLife,
+      projectedBy: 'weibull',
       note: `Weibull β ${r4(wf.beta)}, η ${fmtH(wf.eta)} from ${plural(wf.failures, 'pseudo-failure time')} and ${plural(wf.suspensions, 'suspension')}; ${pct(fractionByTargetLife)} projected to fail by the plan's ${fmtH(plan.durationH)}.`,
     };
   } catch (e) {
-    return { method, horizonH, devices, weibull: null, note: `No Weibull fit: ${(e as Error).message}.` };
+    return noFit(`No Weibull fit (${(e as Error).message})`);
   }
 }
 
@@ -615,11 +624,8 @@ function planVerdict(p: {
   // Drift: the life fitted to the devices' pseudo-failure times, and the peers.
   const driftReasons: string[] = [];
   const info: string[] = [];
-  if (deg.weibull) {
-    const f = deg.weibull.fractionByTargetLife;
-    if (f >= sample.planLtpd) {
-      driftReasons.push(`Degradation: ${deg.note.replace(/\.$/, '')}, at or above the plan's LTPD of ${pct(sample.planLtpd)}.`);
-    } else info.push(`Degradation: ${deg.note}`);
+  if (deg.projectedFraction !== null && deg.projectedFraction >= sample.planLtpd) {
+    driftReasons.push(`Degradation: ${deg.note.replace(/\.$/, '')}, at or above the plan's LTPD of ${pct(sample.planLtpd)}.`);
   } else info.push(`Degradation: ${deg.note}`);
   for (const c of p.peers) {
     const what = c.parameter === 'hfe' ? 'Mean hFE change' : 'Median ICBO ratio';

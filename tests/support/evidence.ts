@@ -19,7 +19,6 @@ export function planConditions(over: Partial<PlanConditions> = {}): PlanConditio
     sampleSize: 77,
     acceptNumber: 0,
     criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
-    absoluteLimits: [],
     eaEv: 0.7,
     useC: 55,
     stressC: 150,

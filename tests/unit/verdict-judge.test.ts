@@ -3,7 +3,7 @@
  * prediction interval or individuals chart, per-device degradation with a Weibull life.
  */
 import { jStat } from 'jstat';
-import { judgeLot, planConditionsKey, PEER_INTERVAL_CONFIDENCE, conditionDifferences, dateFromDateCode, type PeerLot } from '../../shared/verdict';
+import { judgeLot, planConditionsKey, PEER_INTERVAL_CONFIDENCE, dateFromDateCode, type PeerLot } from '../../shared/verdict';
 import { device, lotEvidence, planConditions, planEvidence, reading } from '../support/evidence';
 
 const HOURS = [0, 168, 500, 1000];
@@ -95,12 +95,6 @@ describe('completeness', () => {
     expect(confirmed.verdict).toBe('failed');
   });
 
-  test('conditionDifferences: tolerance on temperature and set points', () => {
-    const t0 = { measuredC: 25, hfeIcA: 0.15, hfeVceV: 5, icboVcbV: 60 };
-    expect(conditionDifferences(t0, { ...t0, measuredC: 26.5 })).toEqual([]);
-    expect(conditionDifferences(t0, { ...t0, measuredC: 30 })).toEqual(['measured at 30 °C, time zero at 25 °C']);
-    expect(conditionDifferences(t0, { ...t0, icboVcbV: 80 })).toEqual(['VCB for ICBO 80 V, time zero 60 V']);
-  });
 });
 
 describe('failures', () => {
@@ -120,25 +114,30 @@ describe('failures', () => {
     const d = pe.devices[7];
     d.readings = d.readings.filter((r) => r.readPointH <= 168);
     d.creditedHours = 250;
-    d.trip = { atH: 250, at: '2026-04-20T00:00:00Z', reason: 'leakage runaway', outcome: null, decidedBy: null, decidedAt: null };
-    expect(judgeLot(lotEvidence([pe]), []).verdict).toBe('incomplete');
-    d.trip = { ...d.trip, outcome: 'failure', decidedBy: 'Engineer One', decidedAt: '2026-04-21T00:00:00Z' };
+    d.trip = { atH: 250, at: '2026-04-20T00:00:00Z', reason: 'leakage runaway' };
+    const undecided = judgeLot(lotEvidence([pe]), []);
+    expect(undecided.verdict).toBe('incomplete');
+    expect(undecided.plans[0].devices[7].missing[0]).toEqual({ hours: 500, why: 'socket tripped at 250 h; failure, re-seat or exclusion not yet recorded' });
+    d.dispositions = [{ kind: 'trip-failure', readPointH: 500, reason: 'collector-base short', by: 'Engineer One', at: '2026-04-21T00:00:00Z' }];
     const failed = judgeLot(lotEvidence([pe]), []);
     expect(failed.verdict).toBe('failed');
     expect(failed.plans[0].devices[7].failedAtH).toBe(500);
     // FIT exposure from each device's credited hours: 76 × 1000 h + 250 h, not 77 × 1000 h
     expect(failed.plans[0].exposure.deviceHours).toBe(76 * 1000 + 250);
-    d.trip = { ...d.trip, outcome: 're-seated' };
+    d.dispositions = [{ kind: 'reseated', readPointH: 500, reason: 'contact spring bent, re-seated', by: 'Operator One', at: '2026-04-21T00:00:00Z' }];
     d.readings = HOURS.map((h) => reading(h));
     expect(judgeLot(lotEvidence([pe]), []).verdict).toBe('passed');
   });
 
   test('data-sheet limits: BVCEO below its minimum fails, and the words name the limit', () => {
-    const pe = planEvidence(77, { plan: { absoluteLimits: [{ parameter: 'bvceo', min: 80, max: null, conditions: 'IC 10 mA' }] } });
+    const limits = { hfeMin: 40, hfeMax: 250, icboMaxA: 50e-9, vcesatMaxV: null, bvceoMinV: 80, atC: 25, hfeIcA: 0.15, hfeVceV: 5, icboVcbV: 60 };
+    const pe = planEvidence(77, { plan: { criteria: { ...planConditions().criteria, limits } } });
     pe.devices[2].readings[3] = reading(1000, { bvceoV: 72 });
     const j = judgeLot(lotEvidence([pe]), []);
     expect(j.verdict).toBe('failed');
-    expect(j.plans[0].devices[2].failedBecause).toEqual(["BVCEO 72 V below the data sheet's 80 V (IC 10 mA) at 1,000 h"]);
+    expect(j.plans[0].devices[2].failedBecause).toEqual(["BVCEO 72 V below the data sheet's 80 V (25 °C) at 1,000 h"]);
+    pe.devices[2].readings[3] = reading(1000, { icboA: 60e-9 });
+    expect(judgeLot(lotEvidence([pe]), []).plans[0].devices[2].failedBecause).toEqual(["ICBO 60 nA above the data sheet's 50 nA (VCB 60 V, 25 °C) at 1,000 h"]);
   });
 });
 
@@ -267,6 +266,24 @@ describe('degradation per device', () => {
     const j = judgeLot(evidence(), []);
     expect(j.plans[0].sample.planLtpd).toBeCloseTo(0.369, 3);
     expect(j.verdict).toBe('passed');
+  });
+});
+
+describe('degradation without a Weibull fit', () => {
+  test('every device crossing at one time (no spread): the share of devices by the target life decides', () => {
+    // −20 % per 1,000 h, measured to 500 h, limit ±15 %: each path through the origin reaches −15 % at
+    // 750 h [NIST/SEMATECH e-Handbook §8.4.2.3 method; hand calculation 15/20 × 1,000 h]
+    const hours = [0, 168, 500];
+    const devices = Array.from({ length: 10 }, (_, i) => device(i, hours, { readings: hours.map((h) => reading(h, { hfe: 100 * (1 - (20 * h) / 1000 / 100) })) }));
+    const pe = planEvidence(0, { devices, plan: { sampleSize: 10 }, state: 'stressing', stressHours: 560 });
+    const j = judgeLot(lotEvidence([pe]), []);
+    const deg = j.plans[0].degradation;
+    expect(deg.weibull).toBeNull();
+    expect(deg.devices[0].pseudoFailureH!).toBeCloseTo(750, 6);
+    expect(deg.projectedBy).toBe('share of devices');
+    expect(deg.projectedFraction).toBe(1);
+    expect(j.verdict).toBe('drifting');
+    expect(j.reasons[0]).toMatch(/10 of 10 devices projected to reach a limit by the plan's 1,000 h \(100 %\), at or above the plan's LTPD of 20\.6 %\.$/);
   });
 });
 
