@@ -1,6 +1,13 @@
 /** Evidence of a run: read-point coverage, dispositions, confirmation of flagged readings. */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import type { ConfirmReadingInput, Disposition, DispositionInput, EvidenceReading, RunCoverage, WithdrawDispositionInput } from '@/shared/schemas/evidence';
+import type {
+  ConfirmReadingInput,
+  Disposition,
+  DispositionInput,
+  EvidenceReading,
+  RunCoverage,
+  WithdrawDispositionInput,
+} from '@/shared/schemas/evidence';
 import { api } from './api';
 import { measurementKeys } from './measurements';
 
@@ -24,7 +31,8 @@ export function useRunCoverage(runId: string | undefined) {
 export function useRecordDisposition(runId: string) {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (input: DispositionInput) => api<Disposition>(`/api/evidence/runs/${encodeURIComponent(runId)}/dispositions`, { method: 'POST', body: input }),
+    mutationFn: (input: DispositionInput) =>
+      api<Disposition>(`/api/evidence/runs/${encodeURIComponent(runId)}/dispositions`, { method: 'POST', body: input }),
     onSuccess: () => qc.invalidateQueries({ queryKey: measurementKeys.all }),
   });
 }
@@ -33,7 +41,10 @@ export function useConfirmReading() {
   const qc = useQueryClient();
   return useMutation({
     mutationFn: (v: { id: string } & ConfirmReadingInput) =>
-      api<EvidenceReading>(`/api/evidence/measurements/${encodeURIComponent(v.id)}/confirm`, { method: 'POST', body: { reason: v.reason } }),
+      api<EvidenceReading>(`/api/evidence/measurements/${encodeURIComponent(v.id)}/confirm`, {
+        method: 'POST',
+        body: { reason: v.reason },
+      }),
     onSuccess: () => qc.invalidateQueries({ queryKey: measurementKeys.all }),
   });
 }

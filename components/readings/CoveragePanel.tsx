@@ -66,7 +66,11 @@ export function CoveragePanel({ runId, hours }: { runId: string; hours: number }
           return (
             <View style={{ gap: space.sm }}>
               <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs, alignItems: 'center' }}>
-                <StatusPill tone={rp.complete ? 'ok' : 'attention'} label={rp.complete ? 'Complete' : `Incomplete: ${rp.missing.length} missing`} testID="coverage-status" />
+                <StatusPill
+                  tone={rp.complete ? 'ok' : 'attention'}
+                  label={rp.complete ? 'Complete' : `Incomplete: ${rp.missing.length} missing`}
+                  testID="coverage-status"
+                />
                 <Text variant="caption" tone="muted">
                   {`${rp.expected} devices: ${rp.measured} measured, ${rp.catastrophic} dead (open, short or no reading), ${rp.disposed} with a disposition${rp.deadEarlier ? `, ${rp.deadEarlier} dead earlier` : ''}${rp.unconfirmed ? `, ${rp.unconfirmed} flagged and not yet confirmed` : ''}.`}
                 </Text>
@@ -90,14 +94,21 @@ export function CoveragePanel({ runId, hours }: { runId: string; hours: number }
                           disabled={withdrawNote.trim().length < DISPOSITION_REASON_MIN}
                           busy={withdraw.isPending && withdraw.variables?.id === d.id}
                           busyLabel="Withdrawing…"
-                          onPress={() => withdraw.mutate({ id: d.id, reason: withdrawNote.trim() }, { onSuccess: () => setWithdrawNote('') })}
+                          onPress={() =>
+                            withdraw.mutate({ id: d.id, reason: withdrawNote.trim() }, { onSuccess: () => setWithdrawNote('') })
+                          }
                         />
                       ) : null}
                     </View>
                   ))}
                   {isEngineer ? (
                     <View style={{ maxWidth: 420 }}>
-                      <Field label="Why withdraw a disposition (engineer)" value={withdrawNote} onChangeText={setWithdrawNote} help="Recorded in the audit trail with what the disposition said." />
+                      <Field
+                        label="Why withdraw a disposition (engineer)"
+                        value={withdrawNote}
+                        onChangeText={setWithdrawNote}
+                        help="Recorded in the audit trail with what the disposition said."
+                      />
                     </View>
                   ) : null}
                   {withdraw.isError ? <Banner tone="danger">{describeError(withdraw.error)}</Banner> : null}
@@ -111,7 +122,13 @@ export function CoveragePanel({ runId, hours }: { runId: string; hours: number }
       <View style={{ gap: space.sm }} testID="disposition-form">
         <Text variant="label">Record a disposition</Text>
         <View style={{ maxWidth: 240 }}>
-          <Field label="Serial" value={serial} onChangeText={setSerial} autoCapitalize="characters" accessibilityLabel="Disposition serial" />
+          <Field
+            label="Serial"
+            value={serial}
+            onChangeText={setSerial}
+            autoCapitalize="characters"
+            accessibilityLabel="Disposition serial"
+          />
         </View>
         <SegmentedChoice
           label="What happened"
@@ -140,8 +157,16 @@ export function CoveragePanel({ runId, hours }: { runId: string; hours: number }
             testID="disposition-save"
           />
         </View>
-        {record.isError ? <Banner tone="danger" title="Not recorded">{describeError(record.error)}</Banner> : null}
-        {done ? <Banner tone="ok" title="Recorded">{done}</Banner> : null}
+        {record.isError ? (
+          <Banner tone="danger" title="Not recorded">
+            {describeError(record.error)}
+          </Banner>
+        ) : null}
+        {done ? (
+          <Banner tone="ok" title="Recorded">
+            {done}
+          </Banner>
+        ) : null}
       </View>
 
       {flagged.length ? (
@@ -165,7 +190,9 @@ export function CoveragePanel({ runId, hours }: { runId: string; hours: number }
                   />
                 </View>
               ) : (
-                <Text variant="caption" tone="muted">An engineer confirms it.</Text>
+                <Text variant="caption" tone="muted">
+                  An engineer confirms it.
+                </Text>
               )}
             </View>
           ))}

@@ -46,7 +46,10 @@ export const isCatastrophic = (r: MeasurementResult | string | null | undefined)
  */
 export function catastrophicWord(raw: string | null | undefined): CatastrophicResult | null {
   if (!raw) return null;
-  const w = raw.trim().toLowerCase().replace(/[\s_/-]+/g, '');
+  const w = raw
+    .trim()
+    .toLowerCase()
+    .replace(/[\s_/-]+/g, '');
   if (w === 'open') return 'open';
   if (w === 'short' || w === 'shorted') return 'short';
   if (w === 'noreading' || w === 'nr' || w === 'noread') return 'no-reading';
@@ -133,7 +136,16 @@ export function readPointCoverage(
   const disposed = new Set(
     dispositions.filter((d) => d.readPointH <= readPointH && FINAL_DISPOSITIONS.includes(d.kind)).map((d) => d.deviceId),
   );
-  const out: ReadPointCoverage = { readPointH, expected: devices.length, measured: 0, catastrophic: 0, disposed: 0, deadEarlier: 0, missing: [], complete: false };
+  const out: ReadPointCoverage = {
+    readPointH,
+    expected: devices.length,
+    measured: 0,
+    catastrophic: 0,
+    disposed: 0,
+    deadEarlier: 0,
+    missing: [],
+    complete: false,
+  };
   for (const d of devices) {
     const r = at.get(d.deviceId);
     if (r) {
@@ -180,13 +192,17 @@ export function conditionDifferences(timeZero: MeasuringConditions, reading: Mea
   const out: string[] = [];
   const dT = reading.measuredC - timeZero.measuredC;
   if (Math.abs(dT) > MEASURING_TEMP_TOLERANCE_C + TOLERANCE_EPS) {
-    out.push(`Measured at ${+reading.measuredC.toFixed(1)} °C; time zero at ${+timeZero.measuredC.toFixed(1)} °C (allowed ± ${MEASURING_TEMP_TOLERANCE_C} °C).`);
+    out.push(
+      `Measured at ${+reading.measuredC.toFixed(1)} °C; time zero at ${+timeZero.measuredC.toFixed(1)} °C (allowed ± ${MEASURING_TEMP_TOLERANCE_C} °C).`,
+    );
   }
   const cond = (label: string, unit: string, a: number | null, b: number | null) => {
     if (a === null || b === null || a === 0) return;
     const pct = ((b - a) / Math.abs(a)) * 100;
     if (Math.abs(pct) > TEST_CONDITION_TOLERANCE_PCT + TOLERANCE_EPS) {
-      out.push(`${label} ${+b.toPrecision(4)} ${unit}; time zero ${+a.toPrecision(4)} ${unit} (${pct > 0 ? '+' : ''}${+pct.toFixed(1)} %, allowed ± ${TEST_CONDITION_TOLERANCE_PCT} %).`);
+      out.push(
+        `${label} ${+b.toPrecision(4)} ${unit}; time zero ${+a.toPrecision(4)} ${unit} (${pct > 0 ? '+' : ''}${+pct.toFixed(1)} %, allowed ± ${TEST_CONDITION_TOLERANCE_PCT} %).`,
+      );
     }
   };
   cond('IC for hFE', 'A', timeZero.hfeIcA, reading.hfeIcA);
@@ -198,4 +214,5 @@ export function conditionDifferences(timeZero: MeasuringConditions, reading: Mea
 export const CONFIRM_REASON_MIN = 5;
 
 /** A reading may be judged when its conditions agree with time zero or an engineer confirmed it. */
-export const isJudgeable = (r: { conditionsFlag: string | null; confirmedAt: Date | string | null }) => r.conditionsFlag === null || r.confirmedAt !== null;
+export const isJudgeable = (r: { conditionsFlag: string | null; confirmedAt: Date | string | null }) =>
+  r.conditionsFlag === null || r.confirmedAt !== null;

@@ -30,8 +30,16 @@ const serials = (prefix: string, n: number) => Array.from({ length: n }, (_, i) 
 
 async function addRig(code: string, socketCount: number): Promise<string> {
   const r = await t.ctx.ds.getRepository(RigEntity).save({
-    code, name: `Oven ${code}`, socketCount, maxTempC: 200, maxVoltageV: 800, humidityCapable: false, maxHumidityPct: null,
-    mqttUsername: `rig-${code.toLowerCase()}`, mqttSecretHash: 'x', credentialsIssuedAt: new Date(),
+    code,
+    name: `Oven ${code}`,
+    socketCount,
+    maxTempC: 200,
+    maxVoltageV: 800,
+    humidityCapable: false,
+    maxHumidityPct: null,
+    mqttUsername: `rig-${code.toLowerCase()}`,
+    mqttSecretHash: 'x',
+    credentialsIssuedAt: new Date(),
   });
   return r.id;
 }
@@ -47,8 +55,16 @@ beforeAll(async () => {
   ids.lot = lot.body.id;
   // [pub: AEC-Q101 test table] HTRB: 77 devices per lot, accept on 0.
   const plan = await eng.post('/api/plans').send({
-    name: 'HTRB 145 °C, 80 % VCBO, 1000 h', kind: 'htrb', deviceTypeId: ids.type, chamberC: 145, bias: { vcbV: 112 },
-    durationH: 1000, readPointsH: [0, 168, 500, 1000], sampleSize: 77, acceptNumber: 0, criteria: {},
+    name: 'HTRB 145 °C, 80 % VCBO, 1000 h',
+    kind: 'htrb',
+    deviceTypeId: ids.type,
+    chamberC: 145,
+    bias: { vcbV: 112 },
+    durationH: 1000,
+    readPointsH: [0, 168, 500, 1000],
+    sampleSize: 77,
+    acceptNumber: 0,
+    criteria: {},
   });
   expect(plan.status).toBe(201);
   ids.plan = plan.body.id;
@@ -74,7 +90,9 @@ describe('sample size against the plan', () => {
 
   it('a deviation that is too short is refused by the schema', async () => {
     const eng = await t.signIn('engineer');
-    const res = await eng.post('/api/runs').send({ planId: ids.plan, lotIds: [ids.lot], sampleSize: 64, rigId: ids['OV-01'], deviation: { reason: 'short' } });
+    const res = await eng
+      .post('/api/runs')
+      .send({ planId: ids.plan, lotIds: [ids.lot], sampleSize: 64, rigId: ids['OV-01'], deviation: { reason: 'short' } });
     expect(res.status).toBe(400);
     expect(res.body.error.fields['deviation.reason']).toEqual(['Write at least 10 characters on why a smaller sample may stand']);
   });
@@ -82,17 +100,27 @@ describe('sample size against the plan', () => {
   it('77 devices split over two 64-socket rigs are booked together as one sample', async () => {
     const eng = await t.signIn('engineer');
     const res = await eng.post('/api/runs/samples').send({
-      planId: ids.plan, lotIds: [ids.lot], parts: [{ rigId: ids['OV-01'], sampleSize: 64 }, { rigId: ids['OV-02'], sampleSize: 13 }],
+      planId: ids.plan,
+      lotIds: [ids.lot],
+      parts: [
+        { rigId: ids['OV-01'], sampleSize: 64 },
+        { rigId: ids['OV-02'], sampleSize: 13 },
+      ],
     });
     expect(res.status).toBe(201);
     expect(res.body.sample).toMatchObject({ plannedSize: 77, bookedSize: 77, deviation: null });
-    expect(res.body.sample.runs.map((r: { rigCode: string; sampleSize: number }) => [r.rigCode, r.sampleSize]).sort()).toEqual([['OV-01', 64], ['OV-02', 13]]);
+    expect(res.body.sample.runs.map((r: { rigCode: string; sampleSize: number }) => [r.rigCode, r.sampleSize]).sort()).toEqual([
+      ['OV-01', 64],
+      ['OV-02', 13],
+    ]);
     expect(res.body.runs).toHaveLength(2);
     for (const r of res.body.runs) {
       expect(r.sample).toMatchObject({ id: res.body.sample.id, plannedSize: 77, bookedSize: 77, deviation: null });
       expect(r.sample.runCodes).toHaveLength(2);
     }
-    const audit = await t.ctx.ds.getRepository(AuditLogEntity).findOneByOrFail({ entity: 'sample', entityId: res.body.sample.id, action: 'sample.book' });
+    const audit = await t.ctx.ds
+      .getRepository(AuditLogEntity)
+      .findOneByOrFail({ entity: 'sample', entityId: res.body.sample.id, action: 'sample.book' });
     expect(audit.details).toMatchObject({ plannedSize: 77, bookedSize: 77 });
     ids.splitSample = res.body.sample.id;
   });
@@ -101,7 +129,12 @@ describe('sample size against the plan', () => {
     const eng = await t.signIn('engineer');
     const before = await tableCounts(t.ctx.ds);
     const res = await eng.post('/api/runs/samples').send({
-      planId: ids.plan, lotIds: [ids.lot], parts: [{ rigId: ids['OV-01'], sampleSize: 64 }, { rigId: ids['OV-04'], sampleSize: 13 }],
+      planId: ids.plan,
+      lotIds: [ids.lot],
+      parts: [
+        { rigId: ids['OV-01'], sampleSize: 64 },
+        { rigId: ids['OV-04'], sampleSize: 13 },
+      ],
     });
     expect(res.status).toBe(422);
     expect(res.body.error.message).toMatch(/OV-04/);
@@ -111,7 +144,12 @@ describe('sample size against the plan', () => {
   it('the same rig twice in one sample is refused by the schema', async () => {
     const eng = await t.signIn('engineer');
     const res = await eng.post('/api/runs/samples').send({
-      planId: ids.plan, lotIds: [ids.lot], parts: [{ rigId: ids['OV-01'], sampleSize: 40 }, { rigId: ids['OV-01'], sampleSize: 37 }],
+      planId: ids.plan,
+      lotIds: [ids.lot],
+      parts: [
+        { rigId: ids['OV-01'], sampleSize: 40 },
+        { rigId: ids['OV-01'], sampleSize: 37 },
+      ],
     });
     expect(res.status).toBe(400);
     expect(res.body.error.fields['parts.1.rigId']).toEqual(['Each part of a sample goes to a different rig']);
@@ -120,14 +158,18 @@ describe('sample size against the plan', () => {
   it('a smaller sample with a deviation is booked; the reason, person and time are stored and audited', async () => {
     const eng = await t.signIn('engineer');
     const reason = 'Only 64 devices of this lot survived assembly; customer agreed';
-    const res = await eng.post('/api/runs').send({ planId: ids.plan, lotIds: [ids.lot], sampleSize: 64, rigId: ids['OV-02'], deviation: { reason } });
+    const res = await eng
+      .post('/api/runs')
+      .send({ planId: ids.plan, lotIds: [ids.lot], sampleSize: 64, rigId: ids['OV-02'], deviation: { reason } });
     expect(res.status).toBe(201);
     expect(res.body.sample).toMatchObject({ plannedSize: 77, bookedSize: 64, deviation: reason });
     const s = await t.ctx.ds.getRepository(SampleEntity).findOneByOrFail({ id: res.body.sample.id });
     expect(s.deviationReason).toBe(reason);
     expect(s.deviationById).not.toBeNull();
     expect(s.deviationAt).not.toBeNull();
-    const audit = await t.ctx.ds.getRepository(AuditLogEntity).findOneByOrFail({ entity: 'sample', entityId: s.id, action: 'sample.deviation' });
+    const audit = await t.ctx.ds
+      .getRepository(AuditLogEntity)
+      .findOneByOrFail({ entity: 'sample', entityId: s.id, action: 'sample.deviation' });
     expect(audit.reason).toBe(reason);
     expect(audit.details).toMatchObject({ plannedSize: 77, bookedSize: 64 });
     const view = await (await t.signIn('manager')).get(`/api/evidence/samples/${s.id}`);
@@ -152,9 +194,21 @@ describe('readings, dispositions and coverage', () => {
       const type = await m.findOneByOrFail(DeviceTypeEntity, { id: ids.type });
       const plan = await m.save(
         m.create(StressPlanEntity, {
-          planKey: randomUUID(), version: 1, name: 'HTRB 145 °C, five devices', kind: 'htrb', deviceTypeId: type.id, chamberC: 145, humidityPct: null,
-          bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 }, durationH: 1000, readPointsH: [0, 168, 500, 1000],
-          sampleSize: 5, acceptNumber: 0, criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 }, eaEv: 0.7, useC: 55,
+          planKey: randomUUID(),
+          version: 1,
+          name: 'HTRB 145 °C, five devices',
+          kind: 'htrb',
+          deviceTypeId: type.id,
+          chamberC: 145,
+          humidityPct: null,
+          bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
+          durationH: 1000,
+          readPointsH: [0, 168, 500, 1000],
+          sampleSize: 5,
+          acceptNumber: 0,
+          criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
+          eaEv: 0.7,
+          useC: 55,
         }),
       );
       const lot = await m.save(m.create(LotEntity, { code: 'HG2612-C', deviceTypeId: type.id, quantity: 100 }));
@@ -162,10 +216,22 @@ describe('readings, dispositions and coverage', () => {
       const rig = await m.findOneByOrFail(RigEntity, { id: ids['OV-04'] });
       // Time zero measured (exact values, no noise); stressed to 200 h; socket of C0005 tripped at 50 h.
       const run = await insertHistoryRun(m, {
-        code: 'HTRB-2612-C', plan, deviceType: type, rig, lots: [{ lot, devices, drift: { hfeDriftPctPer1000h: 0, leakageGrowthPer1000h: 1 } }],
-        state: 'stressing', startedAt: new Date('2026-01-01T00:00:00Z'), stressHours: 200, measuredH: [0], noise: 0,
+        code: 'HTRB-2612-C',
+        plan,
+        deviceType: type,
+        rig,
+        lots: [{ lot, devices, drift: { hfeDriftPctPer1000h: 0, leakageGrowthPer1000h: 1 } }],
+        state: 'stressing',
+        startedAt: new Date('2026-01-01T00:00:00Z'),
+        stressHours: 200,
+        measuredH: [0],
+        noise: 0,
       });
-      await m.update(RunSocketEntity, { runId: run.id, deviceId: devices[4].id }, { tripped: true, trippedAt: new Date('2026-01-03T02:00:00Z'), accruedHours: 50 });
+      await m.update(
+        RunSocketEntity,
+        { runId: run.id, deviceId: devices[4].id },
+        { tripped: true, trippedAt: new Date('2026-01-03T02:00:00Z'), accruedHours: 50 },
+      );
       runId = run.id;
       sampleId = run.sampleId!;
     });
@@ -187,7 +253,13 @@ describe('readings, dispositions and coverage', () => {
   });
 
   it('a CSV with an open device stores it as a failure at 168 h; a truly bad row is still refused with its reason', async () => {
-    const csv = [HEADER, good('C0001'), 'C0002,OPEN,,,,,,25', good('C0003').replace('2.1e-8', '-1e-9'), 'C0004,118,0.15,5,2.1e-8,112,0.22,25'].join('\n');
+    const csv = [
+      HEADER,
+      good('C0001'),
+      'C0002,OPEN,,,,,,25',
+      good('C0003').replace('2.1e-8', '-1e-9'),
+      'C0004,118,0.15,5,2.1e-8,112,0.22,25',
+    ].join('\n');
     const res = await upload(csv);
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ inserted: 3, rejected: 1 });
@@ -208,22 +280,36 @@ describe('readings, dispositions and coverage', () => {
     const res = await upload([`${HEADER},result`, 'C0003,,,,,,,25,SHORT', 'C0004,OPEN,0.15,5,SHORT,112,0.22,25,'].join('\n'));
     expect(res.status).toBe(201);
     expect(res.body.rows[0]).toMatchObject({ serial: 'C0003', outcome: 'insert', values: { result: 'short' } });
-    expect(res.body.rows[1]).toMatchObject({ serial: 'C0004', outcome: 'rejected', reasons: ['The row says both open and short; give one result.'] });
+    expect(res.body.rows[1]).toMatchObject({
+      serial: 'C0004',
+      outcome: 'rejected',
+      reasons: ['The row says both open and short; give one result.'],
+    });
   });
 
   it('a dead device is entered by hand without values; a live one without values is refused', async () => {
     const op = await t.signIn('operator');
-    const missing = await op.post(`/api/measurements/runs/${runId}/read-points/168/measurements`).send([{ serial: 'C0004', result: 'measured', hfe: 118 }]);
+    const missing = await op
+      .post(`/api/measurements/runs/${runId}/read-points/168/measurements`)
+      .send([{ serial: 'C0004', result: 'measured', hfe: 118 }]);
     expect(missing.status).toBe(400);
     expect(missing.body.error.fields['0.hfeIcA']).toEqual(['Enter a value, or choose open, short or no reading for a dead device']);
-    const res = await op.post(`/api/measurements/runs/${runId}/read-points/168/measurements`).send([{ serial: 'C0004', result: 'no-reading' }]);
+    const res = await op
+      .post(`/api/measurements/runs/${runId}/read-points/168/measurements`)
+      .send([{ serial: 'C0004', result: 'no-reading' }]);
     expect(res.status).toBe(201);
-    expect(await t.ctx.ds.getRepository(MeasurementEntity).findOneByOrFail({ runId, deviceId: devices[3].id, readPointH: 168 })).toMatchObject({ result: 'no-reading', icboA: null });
+    expect(
+      await t.ctx.ds.getRepository(MeasurementEntity).findOneByOrFail({ runId, deviceId: devices[3].id, readPointH: 168 }),
+    ).toMatchObject({ result: 'no-reading', icboA: null });
   });
 
   it('a trip disposition on a device that did not trip is refused; nothing is stored', async () => {
     const before = await tableCounts(t.ctx.ds);
-    const res = await (await t.signIn('engineer')).post(`/api/evidence/runs/${runId}/dispositions`).send({ serial: 'C0001', readPointH: 168, kind: 'trip-failure', reason: 'Thought it tripped' });
+    const res = await (
+      await t.signIn('engineer')
+    )
+      .post(`/api/evidence/runs/${runId}/dispositions`)
+      .send({ serial: 'C0001', readPointH: 168, kind: 'trip-failure', reason: 'Thought it tripped' });
     expect(res.status).toBe(422);
     expect(res.body.error.message).toBe('Device C0001 (socket 0) did not trip; "Trip counts as a failure" is only for a tripped device.');
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
@@ -231,39 +317,75 @@ describe('readings, dispositions and coverage', () => {
 
   it('the tripped device counted as a failure: recorded, audited, failed at 168 h; the read point is then complete', async () => {
     const eng = await t.signIn('engineer');
-    const res = await eng.post(`/api/evidence/runs/${runId}/dispositions`).send({ serial: 'C0005', readPointH: 168, kind: 'trip-failure', reason: 'Runaway trip at 50 h; junction shorted' });
+    const res = await eng
+      .post(`/api/evidence/runs/${runId}/dispositions`)
+      .send({ serial: 'C0005', readPointH: 168, kind: 'trip-failure', reason: 'Runaway trip at 50 h; junction shorted' });
     expect(res.status).toBe(201);
-    expect(res.body).toMatchObject({ serial: 'C0005', kind: 'trip-failure', kindLabel: 'Trip counts as a failure', readPointH: 168, byName: expect.any(String) });
-    const audit = await t.ctx.ds.getRepository(AuditLogEntity).findOneByOrFail({ entity: 'run', entityId: runId, action: 'device.disposition' });
+    expect(res.body).toMatchObject({
+      serial: 'C0005',
+      kind: 'trip-failure',
+      kindLabel: 'Trip counts as a failure',
+      readPointH: 168,
+      byName: expect.any(String),
+    });
+    const audit = await t.ctx.ds
+      .getRepository(AuditLogEntity)
+      .findOneByOrFail({ entity: 'run', entityId: runId, action: 'device.disposition' });
     expect(audit.details).toMatchObject({ serial: 'C0005', kind: 'trip-failure', readPointH: 168 });
     expect((await t.ctx.ds.getRepository(RunSocketEntity).findOneByOrFail({ runId, deviceId: devices[4].id })).failedAtH).toBe(168);
     const c = await coverage();
     expect(c.readPoints.find((r: { readPointH: number }) => r.readPointH === 168)).toMatchObject({
-      expected: 5, measured: 1, catastrophic: 3, disposed: 1, missing: [], complete: true,
+      expected: 5,
+      measured: 1,
+      catastrophic: 3,
+      disposed: 1,
+      missing: [],
+      complete: true,
     });
   });
 
   it('a second disposition for the same device is refused (409) and changes nothing', async () => {
     const before = await tableCounts(t.ctx.ds);
-    const res = await (await t.signIn('operator')).post(`/api/evidence/runs/${runId}/dispositions`).send({ serial: 'C0005', readPointH: 168, kind: 'lost', reason: 'Dropped it' });
+    const res = await (
+      await t.signIn('operator')
+    )
+      .post(`/api/evidence/runs/${runId}/dispositions`)
+      .send({ serial: 'C0005', readPointH: 168, kind: 'lost', reason: 'Dropped it' });
     expect(res.status).toBe(409);
-    expect(res.body.error.message).toMatch(/^Device C0005 already has a disposition in run HTRB-2612-C: Trip counts as a failure from 168 h/);
+    expect(res.body.error.message).toMatch(
+      /^Device C0005 already has a disposition in run HTRB-2612-C: Trip counts as a failure from 168 h/,
+    );
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
   });
 
   it('a disposition recorded by mistake is withdrawn by an engineer (audited with what it said); an operator may not', async () => {
     const op = await t.signIn('operator');
-    const made = await op.post(`/api/evidence/runs/${runId}/dispositions`).send({ serial: 'C0001', readPointH: 500, kind: 'lost', reason: 'Wrong serial typed' });
+    const made = await op
+      .post(`/api/evidence/runs/${runId}/dispositions`)
+      .send({ serial: 'C0001', readPointH: 500, kind: 'lost', reason: 'Wrong serial typed' });
     expect(made.status).toBe(201);
     const before = await tableCounts(t.ctx.ds);
-    expect((await op.post(`/api/evidence/dispositions/${made.body.id}/withdraw`).send({ reason: 'Typed the wrong serial' })).status).toBe(403);
+    expect((await op.post(`/api/evidence/dispositions/${made.body.id}/withdraw`).send({ reason: 'Typed the wrong serial' })).status).toBe(
+      403,
+    );
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
-    const res = await (await t.signIn('engineer')).post(`/api/evidence/dispositions/${made.body.id}/withdraw`).send({ reason: 'Typed the wrong serial' });
+    const res = await (
+      await t.signIn('engineer')
+    )
+      .post(`/api/evidence/dispositions/${made.body.id}/withdraw`)
+      .send({ reason: 'Typed the wrong serial' });
     expect(res.status).toBe(200);
     expect(res.body.dispositions.map((d: { serial: string }) => d.serial)).toEqual(['C0005']);
     const audit = await t.ctx.ds.getRepository(AuditLogEntity).findOneByOrFail({ entityId: runId, action: 'device.disposition-withdrawn' });
-    expect(audit).toMatchObject({ reason: 'Typed the wrong serial', details: { kind: 'lost', readPointH: 500, recordedReason: 'Wrong serial typed' } });
-    const again = await (await t.signIn('engineer')).post(`/api/evidence/dispositions/${made.body.id}/withdraw`).send({ reason: 'Typed the wrong serial' });
+    expect(audit).toMatchObject({
+      reason: 'Typed the wrong serial',
+      details: { kind: 'lost', readPointH: 500, recordedReason: 'Wrong serial typed' },
+    });
+    const again = await (
+      await t.signIn('engineer')
+    )
+      .post(`/api/evidence/dispositions/${made.body.id}/withdraw`)
+      .send({ reason: 'Typed the wrong serial' });
     expect(again.status).toBe(404);
   });
 
@@ -273,7 +395,11 @@ describe('readings, dispositions and coverage', () => {
     expect(res.body).toMatchObject({ plannedSize: 5, bookedSize: 5, loadedSize: 5, readPointsH: [0, 168, 500, 1000] });
     const c5 = res.body.devices.find((d: { serial: string }) => d.serial === 'C0005');
     expect(c5).toMatchObject({ creditedHours: 50, tripped: true, failedAtH: 168, disposition: { kind: 'trip-failure' } });
-    expect(res.body.devices.find((d: { serial: string }) => d.serial === 'C0001')).toMatchObject({ creditedHours: 200, tripped: false, disposition: null });
+    expect(res.body.devices.find((d: { serial: string }) => d.serial === 'C0001')).toMatchObject({
+      creditedHours: 200,
+      tripped: false,
+      disposition: null,
+    });
   });
 
   it('a reading measured at 35 °C against time zero at 25 °C is flagged; an operator may not confirm it, an engineer may (audited)', async () => {
@@ -288,9 +414,15 @@ describe('readings, dispositions and coverage', () => {
     expect(op.status).toBe(403);
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
     const eng = await t.signIn('engineer');
-    const ok = await eng.post(`/api/evidence/measurements/${x.id}/confirm`).send({ reason: 'hFE referred to 25 °C by the gain law; ICBO within limits' });
+    const ok = await eng
+      .post(`/api/evidence/measurements/${x.id}/confirm`)
+      .send({ reason: 'hFE referred to 25 °C by the gain law; ICBO within limits' });
     expect(ok.status).toBe(200);
-    expect(ok.body).toMatchObject({ conditionsFlag: expect.any(String), confirmedAt: expect.any(String), confirmedByName: expect.any(String) });
+    expect(ok.body).toMatchObject({
+      conditionsFlag: expect.any(String),
+      confirmedAt: expect.any(String),
+      confirmedByName: expect.any(String),
+    });
     expect(await t.ctx.ds.getRepository(AuditLogEntity).countBy({ entityId: runId, action: 'measurement.confirm' })).toBe(1);
     const again = await eng.post(`/api/evidence/measurements/${x.id}/confirm`).send({ reason: 'Second time' });
     expect(again.status).toBe(409);

@@ -52,7 +52,10 @@ describe('readPointCoverage (common practice: every sampled device is accounted 
 
   it('complete when every device has a reading or a final disposition', () => {
     const readings = devices.slice(0, 4).map((d) => ({ deviceId: d.deviceId, readPointH: 500, result: 'measured' as const }));
-    expect(readPointCoverage(devices, readings, [{ deviceId: 'd5', readPointH: 168, kind: 'trip-failure' }], 500)).toMatchObject({ complete: true, disposed: 1 });
+    expect(readPointCoverage(devices, readings, [{ deviceId: 'd5', readPointH: 168, kind: 'trip-failure' }], 500)).toMatchObject({
+      complete: true,
+      disposed: 1,
+    });
   });
 });
 

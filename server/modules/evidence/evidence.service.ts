@@ -6,7 +6,15 @@
 import type { DataSource } from 'typeorm';
 import { DISPOSITION_LABEL, TRIP_DISPOSITIONS } from '../../../shared/evidence';
 import type { SessionUser } from '../../../shared/schemas/auth';
-import type { ConfirmReadingInput, Disposition, DispositionInput, EvidenceReading, RunCoverage, SampleEvidence, WithdrawDispositionInput } from '../../../shared/schemas/evidence';
+import type {
+  ConfirmReadingInput,
+  Disposition,
+  DispositionInput,
+  EvidenceReading,
+  RunCoverage,
+  SampleEvidence,
+  WithdrawDispositionInput,
+} from '../../../shared/schemas/evidence';
 import { DeviceDispositionEntity, MeasurementEntity, RunEntity, StressPlanEntity } from '../../db/entities';
 import { conflict, notFound, unprocessable } from '../../http/errors';
 import type { AuditService } from '../audit/audit.service';
@@ -34,7 +42,13 @@ export class EvidenceService {
     const devices = await evidenceDevices(m, [run], dispositions);
     const readings = await evidenceReadings(m, [run.id]);
     const rps = [...plan.readPointsH].sort((a, b) => a - b);
-    return { runId: run.id, runCode: run.code, sampleId: run.sampleId, readPoints: coverageOf([run], rps, devices, readings, dispositions), dispositions };
+    return {
+      runId: run.id,
+      runCode: run.code,
+      sampleId: run.sampleId,
+      readPoints: coverageOf([run], rps, devices, readings, dispositions),
+      dispositions,
+    };
   }
 
   async addDisposition(actor: SessionUser, runId: string, input: DispositionInput): Promise<Disposition> {
@@ -48,7 +62,8 @@ export class EvidenceService {
       let candidates = b.devices.filter((d) => d.serial.toLowerCase() === input.serial.toLowerCase());
       if (input.lot) candidates = candidates.filter((d) => d.lotCode.toLowerCase() === input.lot!.toLowerCase());
       if (!candidates.length) throw unprocessable(`Serial ${input.serial} is not loaded in run ${b.run.code}.`);
-      if (candidates.length > 1) throw unprocessable(`Serial ${input.serial} matches devices of several lots in run ${b.run.code}; name the lot.`);
+      if (candidates.length > 1)
+        throw unprocessable(`Serial ${input.serial} matches devices of several lots in run ${b.run.code}; name the lot.`);
       const device = candidates[0];
       if (TRIP_DISPOSITIONS.includes(input.kind) && !device.tripped) {
         throw unprocessable(
@@ -82,7 +97,14 @@ export class EvidenceService {
           entity: 'run',
           entityId: runId,
           reason: input.reason,
-          details: { dispositionId: saved.id, serial: device.serial, lot: device.lotCode, socket: device.socketIndex, kind: input.kind, readPointH: input.readPointH },
+          details: {
+            dispositionId: saved.id,
+            serial: device.serial,
+            lot: device.lotCode,
+            socket: device.socketIndex,
+            kind: input.kind,
+            readPointH: input.readPointH,
+          },
         },
         m,
       );
@@ -105,7 +127,15 @@ export class EvidenceService {
           entity: 'run',
           entityId: x.runId,
           reason: input.reason,
-          details: { dispositionId: x.id, deviceId: x.deviceId, kind: x.kind, readPointH: x.readPointH, recordedReason: x.reason, recordedBy: x.byName, recordedAt: x.at.toISOString() },
+          details: {
+            dispositionId: x.id,
+            deviceId: x.deviceId,
+            kind: x.kind,
+            readPointH: x.readPointH,
+            recordedReason: x.reason,
+            recordedBy: x.byName,
+            recordedAt: x.at.toISOString(),
+          },
         },
         m,
       );
@@ -119,8 +149,10 @@ export class EvidenceService {
     await this.ds.transaction(async (m) => {
       const x = await m.findOne(MeasurementEntity, { where: { id: measurementId }, lock: { mode: 'pessimistic_write' } });
       if (!x) throw notFound('The reading');
-      if (!x.conditionsFlag) throw unprocessable('This reading is not flagged; its conditions agree with time zero, so there is nothing to confirm.');
-      if (x.confirmedAt) throw conflict(`This reading was confirmed already on ${x.confirmedAt.toISOString().slice(0, 16).replace('T', ' ')} UTC.`);
+      if (!x.conditionsFlag)
+        throw unprocessable('This reading is not flagged; its conditions agree with time zero, so there is nothing to confirm.');
+      if (x.confirmedAt)
+        throw conflict(`This reading was confirmed already on ${x.confirmedAt.toISOString().slice(0, 16).replace('T', ' ')} UTC.`);
       const at = this.now();
       await m.update(MeasurementEntity, { id: x.id }, { confirmedAt: at, confirmedById: actor.id, confirmReason: input.reason });
       await this.audit.record(

@@ -28,7 +28,8 @@ export const engineerSplitSample: Journey = {
     await expect(proposals.getByText('The plan asks for 77 devices; this booking holds 64 (13 short).', { exact: false })).toBeVisible();
     const bookShort = proposals.getByRole('button', { name: /^Book on OV-0[12]$/ }).first();
     await expect(bookShort).toBeVisible();
-    if (!(await bookShort.isDisabled()) && (await bookShort.getAttribute('aria-disabled')) !== 'true') throw new Error('a short booking is offered without a deviation reason');
+    if (!(await bookShort.isDisabled()) && (await bookShort.getAttribute('aria-disabled')) !== 'true')
+      throw new Error('a short booking is offered without a deviation reason');
     await j.shot('short-sample-needs-deviation');
 
     // The full 77, split 64 + 13 over two rigs.
@@ -50,13 +51,23 @@ export const engineerSplitSample: Journey = {
     await split.scrollIntoViewIfNeeded();
     await j.shot('split-booking');
     await bookBtn.click();
-    const booked = await page.waitForURL((u) => u.pathname.startsWith('/runs/'), { timeout: 10000 }).then(() => true, () => false);
+    const booked = await page
+      .waitForURL((u) => u.pathname.startsWith('/runs/'), { timeout: 10000 })
+      .then(
+        () => true,
+        () => false,
+      );
     if (!booked) {
-      const why = (await page.getByTestId('booking-proposals').innerText()).split('\n').filter((l) => /free|proposal|short|rig/i.test(l)).join(' | ');
+      const why = (await page.getByTestId('booking-proposals').innerText())
+        .split('\n')
+        .filter((l) => /free|proposal|short|rig/i.test(l))
+        .join(' | ');
       throw new Error(`the split sample was not booked: ${why}`);
     }
     const sample = page.getByTestId('run-sample');
-    await expect(sample).toContainText(/^Sample: 77 of the plan's 77 devices, split over runs HTRB-2611-A-\d+ \+ HTRB-2611-A-\d+ and judged as one\.$/);
+    await expect(sample).toContainText(
+      /^Sample: 77 of the plan's 77 devices, split over runs HTRB-2611-A-\d+ \+ HTRB-2611-A-\d+ and judged as one\.$/,
+    );
     await j.checkA11y('run of a split sample');
     await j.shot('split-sample-run');
     j.log(await sample.innerText());
@@ -84,7 +95,8 @@ export const operatorReadPointEvidence: Journey = {
     await expect(status).toContainText(/^Incomplete: \d+ missing$/);
     const missingBefore = Number((await status.innerText()).match(/(\d+) missing/)![1]);
     const serials = (await page.getByTestId('coverage-missing').innerText()).replace(/^Missing: /, '').split(', ');
-    if (missingBefore < 2 || serials.length !== missingBefore) throw new Error(`expected at least two missing devices, saw ${missingBefore}: ${serials.join(', ')}`);
+    if (missingBefore < 2 || serials.length !== missingBefore)
+      throw new Error(`expected at least two missing devices, saw ${missingBefore}: ${serials.join(', ')}`);
     j.log(`missing at 1000 h: ${serials.join(', ')}`);
     await j.checkA11y('read-point coverage');
     await coverage.scrollIntoViewIfNeeded();
@@ -108,7 +120,9 @@ export const operatorReadPointEvidence: Journey = {
     await page.getByTestId('disposition-save').click();
     await expect(form.getByText(new RegExp(`^${serials[1]}: Lost from 1000 h, recorded by Priya Castell\\.$`))).toBeVisible();
     await expect(status).toContainText(missingBefore - 2 === 0 ? /^Complete$/ : new RegExp(`^Incomplete: ${missingBefore - 2} missing$`));
-    await expect(coverage).toContainText(`${serials[1]} · Lost from 1000 h · Not in the carrier after unloading (${j.size} check) (Priya Castell,`);
+    await expect(coverage).toContainText(
+      `${serials[1]} · Lost from 1000 h · Not in the carrier after unloading (${j.size} check) (Priya Castell,`,
+    );
     await j.checkA11y('disposition recorded');
     await form.scrollIntoViewIfNeeded();
     await j.shot('disposition-recorded');
