@@ -23,7 +23,7 @@ import type { AlarmKindName } from '../../../shared/schemas/alarms';
 import type { AppContext } from '../../context';
 import type { RunState } from '../../db/entities';
 import { getAlarmsService } from '../alarms/alarms.service';
-import { RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigStatusChanged, type TelemetryLanded } from '../telemetry/contracts';
+import { RIG_LINK, RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigLink, type RigStatusChanged, type TelemetryLanded } from '../telemetry/contracts';
 import { RUN_EVENT, type RunEvent } from '../runs/run-events';
 import { ambientAlarm, biasAlarm, leakageAlarm, rigOfflineAlarm, runawayWarningAlarm, tripCommandReason, type SocketPlace } from './alarm-text';
 import { ConditionAlarms } from './conditions';
@@ -116,9 +116,17 @@ export class ProtectionMonitor {
   constructor(private readonly ctx: AppContext, opts: Partial<ProtectionMonitorOptions> = {}) {
     this.opts = { ...DEFAULT_MONITOR_OPTIONS, ...opts, protection: { ...DEFAULT_MONITOR_OPTIONS.protection, ...(opts.protection ?? {}) } };
     this.judge = new SocketJudge({ ...this.opts, protection: { ...DEFAULT_PROTECTION_OPTIONS, ...this.opts.protection } });
-    const alarms = () => getAlarmsService(this.ctx);
+    const alarms = () => this.alarms;
     this.conditions = new ConditionAlarms(alarms, this.opts.refreshMs);
-    this.trips = new TripDelivery(ctx, this.conditions, alarms, this.opts, this.stats);
+    this.trips = new TripDelivery(ctx, () => this.rigLink, this.conditions, alarms, this.opts, this.stats);
+  }
+
+  private get alarms() {
+    return getAlarmsService(this.ctx);
+  }
+
+  private get rigLink() {
+    return this.ctx.services[RIG_LINK] as RigLink | undefined;
   }
 
   async start(): Promise<void> {

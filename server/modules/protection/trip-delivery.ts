@@ -9,7 +9,7 @@
 import type { ProtectionDevice, SocketAssessment, SocketSample } from '../../../shared/safety/protection';
 import type { AppContext } from '../../context';
 import type { AlarmsService } from '../alarms/alarms.service';
-import { RIG_LINK, type RigLink } from '../telemetry/contracts';
+import type { RigLink } from '../telemetry/contracts';
 import { confirmedLaterMessage, tripAlarm, tripOutcome, tripRecordReason, type SocketPlace } from './alarm-text';
 import type { ConditionAlarms } from './conditions';
 import type { SocketState } from './judge';
@@ -49,6 +49,8 @@ export interface TripOrder {
 export class TripDelivery {
   constructor(
     private readonly ctx: AppContext,
+    /** The rig link of this server, when one runs (looked up at each attempt). */
+    private readonly link: () => RigLink | undefined,
     private readonly conditions: ConditionAlarms,
     private readonly alarms: () => AlarmsService,
     private readonly opts: TripDeliveryOptions,
@@ -107,7 +109,7 @@ export class TripDelivery {
   private async send(rigCode: string, socket: number, reason: string, cmdId: string): Promise<TripOutcome> {
     let error = 'no rig link is running in this server';
     for (let attempt = 1; attempt <= this.opts.tripAttempts; attempt++) {
-      const link = this.ctx.services[RIG_LINK] as RigLink | undefined;
+      const link = this.link();
       if (!link) break;
       try {
         const ack = await link.send(rigCode, { type: 'trip', socket, reason }, { cmdId, timeoutMs: this.opts.tripTimeoutMs });
