@@ -1,6 +1,6 @@
 /**
  * Functions longer than a limit (default 120 lines) in server/, shared/ and rig-simulator/, longest
- * first: `npm run long-functions [-- --limit N] [folders…]`. Read with the TypeScript compiler's
+ * first: `npm run long-functions [-- --limit N] [folders or files…]`. Read with the TypeScript compiler's
  * parser (no type-check): function declarations, methods, constructors, accessors, and function
  * expressions and arrow functions with a block body. A function's lines run from its first to its
  * last line, nested functions included (a nested one is listed on its own as well).
@@ -19,7 +19,12 @@ export interface LongFunction {
   lines: number;
 }
 
+/** The .ts/.tsx files under a folder (or the file itself). */
 function sourceFiles(dir: string, out: string[] = []): string[] {
+  if (!statSync(dir).isDirectory()) {
+    out.push(dir);
+    return out;
+  }
   for (const name of readdirSync(dir)) {
     if (name === 'node_modules' || name.startsWith('.')) continue;
     const p = join(dir, name);
