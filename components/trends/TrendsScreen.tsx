@@ -14,7 +14,7 @@ import { Field } from '@/components/ui/Field';
 import { QueryState } from '@/components/ui/QueryState';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
-import { DriftTrendChart } from './DriftTrendChart';
+import { DriftTrendChart } from '@/components/charts/LazyCharts';
 import { hours, pct, sig } from './format';
 import { VERDICT_ORDER, VerdictPill } from './verdict';
 
