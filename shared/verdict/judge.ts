@@ -503,9 +503,9 @@ export function judgePlan(ev: LotEvidence, pe: PlanEvidence, peers: PeerLot[], o
   const runsEnded = pe.runs.length > 0 && pe.runs.every((r) => isTerminal(r.state));
   const reached = Math.max(0, ...pe.runs.map((r) => r.stressHours));
 
-  // Read points: due when the runs reached them (or ended); complete when every device counts.
+  // Read points: due when every run of the sample reached them or ended; complete when every device counts.
   const readPoints: ReadPointStatus[] = hoursList.map((h) => {
-    const due = runsEnded || reached >= h;
+    const due = pe.runs.length > 0 && pe.runs.every((r) => isTerminal(r.state) || r.stressHours >= h);
     const at = works.map((w) => ({ w, s: w.at.get(h)! }));
     const missing = at.filter((x) => !x.s.counts).map((x) => ({ serial: x.w.ev.serial, why: x.s.why }));
     const removedHere = at.filter((x) => x.s.kind === 'removed').length;
@@ -596,7 +596,6 @@ function planVerdict(p: {
 }): { verdict: LotVerdict; reasons: string[] } {
   const { plan, pe, sample, readPoints, failedWorks, deg, runsEnded } = p;
   const conf = `${+(sample.confidence * 100).toFixed(2)} %`;
-  const runCodes = pe.runs.map((r) => r.runCode).join(' + ');
   if (!pe.runs.length || !pe.devices.length) return { verdict: 'untested', reasons: [`No devices of this lot are booked under ${plan.name}.`] };
 
   // Failures.
@@ -662,7 +661,8 @@ function planVerdict(p: {
     return { verdict: 'insufficient-sample', reasons: [why, ...(deviationReason ? [deviationReason] : []), ...failReasons, ...incompleteReasons, ...info] };
   }
   if (!runsEnded) {
-    const head = `Run${pe.runs.length > 1 ? 's' : ''} ${runCodes} at ${fmtH(p.reached)}${notDue.length ? `; read points ${notDue.join(' / ')} h still to come` : ''}.`;
+    const at = pe.runs.map((r) => `${r.runCode} at ${fmtH(r.stressHours)}`).join(' + ');
+    const head = `Run${pe.runs.length > 1 ? 's' : ''} ${at}${notDue.length ? `; read points ${notDue.join(' / ')} h still to come` : ''}.`;
     return { verdict: 'in-progress', reasons: [head, ...failReasons, ...incompleteReasons, sampleReason, ...info] };
   }
   if (dueIncomplete.length) return { verdict: 'incomplete', reasons: [...incompleteReasons, ...failReasons, sampleReason, ...info] };

@@ -72,6 +72,27 @@ describe('completeness', () => {
     expect(j.plans[0].readPoints.find((r) => r.hours === 500)!.due).toBe(false);
   });
 
+  test('a split sample: a read point is due only when every run has reached it', () => {
+    const pe = planEvidence(0, { plan: { sampleSize: 20 } });
+    pe.runs = [
+      { runId: 'run-a', runCode: 'R-0001', rigCode: 'OV-01', state: 'stressing', stressHours: 520 },
+      { runId: 'run-b', runCode: 'R-0002', rigCode: 'OV-02', state: 'stressing', stressHours: 400 },
+    ];
+    pe.devices = [
+      ...Array.from({ length: 10 }, (_, i) => device(i, [0, 168, 500], {}, 'run-a')),
+      ...Array.from({ length: 10 }, (_, i) => device(i, [0, 168], {}, 'run-b')),
+    ];
+    const j = judgeLot(lotEvidence([pe]), []);
+    expect(j.plans[0].readPoints.map((r) => [r.hours, r.due, r.complete])).toEqual([
+      [0, true, true],
+      [168, true, true],
+      [500, false, false],
+      [1000, false, false],
+    ]);
+    expect(j.verdict).toBe('in-progress');
+    expect(j.reasons[0]).toBe('Runs R-0001 at 520 h + R-0002 at 400 h; read points 500 / 1000 h still to come.');
+  });
+
   test('a lost device is accounted for but leaves the sample (76 of 77 → insufficient sample)', () => {
     const pe = planEvidence(77);
     pe.devices[3].readings = pe.devices[3].readings.filter((r) => r.readPointH < 500);
