@@ -76,7 +76,7 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
     setSplit(false);
     proposals.reset();
     proposals2.reset();
-    // eslint-disable-next-line react-hooks/exhaustive-deps
+    // eslint-disable-next-line react-hooks/exhaustive-deps -- reset when another plan is chosen, not on every render of `current` / `proposals`
   }, [planKey]);
 
   const sampleSize = Number(sample);

@@ -107,13 +107,18 @@ async function insertLiveRun(m: EntityManager, s: DemoLiveRun, engineer: UserEnt
     }),
   );
   await m.insert(RunLotEntity, lots.map((l) => ({ runId: run.id, lotId: l.id })));
-  const audit = (actor: UserEntity | null, action: string, details: Record<string, unknown>) =>
-    m.insert(AuditLogEntity, { actorId: actor?.id ?? null, actor: actor?.email ?? 'system', action, entity: 'run', entityId: run.id, reason: null, details: { seeded: true, ...details } as Record<string, any> });
+  const audit = (actor: UserEntity | null, action: string, details: Record<string, unknown>) => {
+    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- TypeORM's insert typing cannot take `unknown` values in a jsonb column
+    const row: Record<string, any> = { seeded: true, ...details };
+    return m.insert(AuditLogEntity, { actorId: actor?.id ?? null, actor: actor?.email ?? 'system', action, entity: 'run', entityId: run.id, reason: null, details: row });
+  };
   await audit(engineer, 'run.book', { code: s.code, rig: rig.code, sampleSize, sampleId: sample.id, lots: lots.map((l) => l.code), planName: plan.name, planVersion: plan.version });
   if (short) {
+    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- as above: a jsonb column
+    const details: Record<string, any> = { seeded: true, plannedSize: plan.sampleSize, bookedSize: sampleSize, runs: [s.code] };
     await m.insert(AuditLogEntity, {
       actorId: engineer?.id ?? null, actor: engineer?.email ?? 'system', action: 'sample.deviation', entity: 'sample', entityId: sample.id, reason: sample.deviationReason,
-      details: { seeded: true, plannedSize: plan.sampleSize, bookedSize: sampleSize, runs: [s.code] } as Record<string, any>,
+      details,
     });
   }
   if (s.state === 'booked') return;

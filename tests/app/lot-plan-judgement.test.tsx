@@ -1,7 +1,7 @@
 import { screen } from '@testing-library/react-native';
 import { LotPlanJudgement } from '@/components/trends/LotPlanJudgement';
 import { judgeLot } from '@/shared/verdict/judge';
-import { device, lotEvidence, planEvidence, reading } from '../support/evidence';
+import { lotEvidence, planEvidence, reading } from '../support/evidence';
 import { renderWithClient, setWidth } from './support/render';
 
 jest.mock('expo-router', () => require('./support/expo-router'));

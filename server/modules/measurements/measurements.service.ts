@@ -12,7 +12,6 @@ import {
   type UploadFields,
   type UploadResult,
 } from '../../../shared/schemas/measurements';
-import type { Criteria } from '../../../shared/schemas/plans';
 import { conditionDifferences, isCatastrophic, isJudgeable, type MeasuringConditions } from '../../../shared/evidence';
 import { DeviceDispositionEntity, DeviceEntity, LotEntity, MeasurementEntity, MeasurementUploadEntity, RunEntity, RunSocketEntity } from '../../db/entities';
 import { conflict, unprocessable } from '../../http/errors';
@@ -174,7 +173,7 @@ export class MeasurementsService {
     }
     const base = { runId: p.runId, readPointH: p.hours, fileName, fileSha256: sha, notes: [REUPLOAD_RULE] };
     if (previous && !p.preview) {
-      const rows = (previous.rowErrors ?? []) as RowResult[];
+      const rows: RowResult[] = previous.rowErrors ?? [];
       return {
         status: 200,
         body: {
@@ -231,7 +230,7 @@ export class MeasurementsService {
             rowsTotal: body.rowsTotal,
             rowsStored: body.stored + body.unchanged,
             rowsRejected: body.rejected,
-            rowErrors: body.rows.filter((r) => r.outcome === 'rejected') as unknown as Array<Record<string, unknown>>,
+            rowErrors: body.rows.filter((r) => r.outcome === 'rejected'),
             uploadedById: actor.id,
           }),
         );
@@ -469,7 +468,7 @@ export function runDrift(b: DriftSource, ms: readonly DriftReading[], opts: { re
     else byDevice.set(x.deviceId, [x]);
   }
   const gain = { referenceC: b.deviceType.betaRefTC, xtb: b.deviceType.xtb };
-  const criteria = b.plan.criteria as Criteria;
+  const criteria = b.plan.criteria;
   return {
     runId: b.run.id,
     runCode: b.run.code,
