@@ -1,6 +1,6 @@
 /** Evidence of a run: read-point coverage, dispositions, confirmation of flagged readings. */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import type { ConfirmReadingInput, Disposition, DispositionInput, EvidenceReading, RunCoverage } from '@/shared/schemas/evidence';
+import type { ConfirmReadingInput, Disposition, DispositionInput, EvidenceReading, RunCoverage, WithdrawDispositionInput } from '@/shared/schemas/evidence';
 import { api } from './api';
 import { measurementKeys } from './measurements';
 
@@ -34,6 +34,15 @@ export function useConfirmReading() {
   return useMutation({
     mutationFn: (v: { id: string } & ConfirmReadingInput) =>
       api<EvidenceReading>(`/api/evidence/measurements/${encodeURIComponent(v.id)}/confirm`, { method: 'POST', body: { reason: v.reason } }),
+    onSuccess: () => qc.invalidateQueries({ queryKey: measurementKeys.all }),
+  });
+}
+
+export function useWithdrawDisposition() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (v: { id: string } & WithdrawDispositionInput) =>
+      api<RunCoverage>(`/api/evidence/dispositions/${encodeURIComponent(v.id)}/withdraw`, { method: 'POST', body: { reason: v.reason } }),
     onSuccess: () => qc.invalidateQueries({ queryKey: measurementKeys.all }),
   });
 }

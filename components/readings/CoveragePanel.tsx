@@ -8,7 +8,7 @@ import { useState } from 'react';
 import { View } from 'react-native';
 import { describeError } from '@/components/queries/api';
 import { useMe } from '@/components/queries/auth';
-import { useConfirmReading, useRecordDisposition, useRunCoverage } from '@/components/queries/evidence';
+import { useConfirmReading, useRecordDisposition, useRunCoverage, useWithdrawDisposition } from '@/components/queries/evidence';
 import { useReadPointReadings } from '@/components/queries/measurements';
 import { space } from '@/components/theme/tokens';
 import { Banner } from '@/components/ui/Banner';
@@ -27,6 +27,8 @@ export function CoveragePanel({ runId, hours }: { runId: string; hours: number }
   const me = useMe();
   const record = useRecordDisposition(runId);
   const confirm = useConfirmReading();
+  const withdraw = useWithdrawDisposition();
+  const [withdrawNote, setWithdrawNote] = useState('');
   const [serial, setSerial] = useState('');
   const [kind, setKind] = useState<DispositionKind | undefined>();
   const [reason, setReason] = useState('');
@@ -78,10 +80,27 @@ export function CoveragePanel({ runId, hours }: { runId: string; hours: number }
                 <View style={{ gap: 2 }}>
                   <Text variant="label">Dispositions in this run</Text>
                   {c.dispositions.map((d) => (
-                    <Text key={d.id} variant="caption">
-                      {`${d.serial} · ${d.kindLabel} from ${d.readPointH} h · ${d.reason} (${d.byName}, ${new Date(d.at).toLocaleString('en-GB')})`}
-                    </Text>
+                    <View key={d.id} style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs, alignItems: 'center' }}>
+                      <Text variant="caption">{`${d.serial} · ${d.kindLabel} from ${d.readPointH} h · ${d.reason} (${d.byName}, ${new Date(d.at).toLocaleString('en-GB')})`}</Text>
+                      {isEngineer ? (
+                        <Button
+                          size="sm"
+                          variant="quiet"
+                          label={`Withdraw ${d.serial}`}
+                          disabled={withdrawNote.trim().length < DISPOSITION_REASON_MIN}
+                          busy={withdraw.isPending && withdraw.variables?.id === d.id}
+                          busyLabel="Withdrawing…"
+                          onPress={() => withdraw.mutate({ id: d.id, reason: withdrawNote.trim() }, { onSuccess: () => setWithdrawNote('') })}
+                        />
+                      ) : null}
+                    </View>
                   ))}
+                  {isEngineer ? (
+                    <View style={{ maxWidth: 420 }}>
+                      <Field label="Why withdraw a disposition (engineer)" value={withdrawNote} onChangeText={setWithdrawNote} help="Recorded in the audit trail with what the disposition said." />
+                    </View>
+                  ) : null}
+                  {withdraw.isError ? <Banner tone="danger">{describeError(withdraw.error)}</Banner> : null}
                 </View>
               ) : null}
             </View>

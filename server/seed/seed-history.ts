@@ -325,11 +325,10 @@ interface DemoRun {
 /**
  * The verdict states each lot is meant to show (issue #19), honestly from its evidence:
  * - HG2611-A passed: 77 devices split over OV-01 (64) and OV-02 (13), every read point complete.
- * - HG2611-B incomplete: four devices have no 1000 h reading and no disposition (one lost device is
- *   accounted for by its disposition; two late readings).
+ * - HG2611-B incomplete: four devices have no 1000 h reading and no disposition (two late readings).
  * - HG2609-D passed: six 1000 h readings measured warm (31 °C) are flagged and confirmed.
  * - HG2610-E failed: a catastrophic open at 500 h, a trip counted as a failure, two parametric
- *   failures at 1000 h; 45 devices split over OV-04 (32) and OV-03 (13).
+ *   failures at 1000 h, one device lost (disposition); 45 devices split over OV-04 (32) and OV-03 (13).
  * - HG2608-F insufficient sample: 48 of the plan's 77 (the humidity chamber's board), deviation recorded.
  * - HG2612-C in progress (and drifting against its sister lots): 620 h of 1000, 77 devices split
  *   over OV-01 and OV-02.
@@ -340,7 +339,6 @@ const DEMO_RUNS: DemoRun[] = [
     lot: 'HG2611-B', kind: 'htrb', rigs: [], split: [{ rig: 'OV-02', n: 64 }, { rig: 'OV-01', n: 13 }], state: 'finished', startedDaysAgo: 120,
     late: [{ serial: 'B0003', atH: 1000 }, { serial: 'B0011', atH: 1000 }],
     missing: ['B0040', 'B0041', 'B0042', 'B0043'].map((serial) => ({ serial, atH: 1000 })),
-    removed: [{ serial: 'B0017', atH: 500, kind: 'lost', reason: 'Not in the carrier after the 168 h read; searched the tester and the oven.' }],
   },
   {
     lot: 'HG2609-D', kind: 'hotl', rigs: ['OV-03', 'OV-04'], state: 'finished', startedDaysAgo: 100,
@@ -352,6 +350,7 @@ const DEMO_RUNS: DemoRun[] = [
     failures: [{ serial: 'E0007', atH: 1000, mode: 'leakage' }, { serial: 'E0019', atH: 1000, mode: 'gain' }],
     catastrophic: [{ serial: 'E0023', atH: 500, result: 'open' }],
     trips: [{ serial: 'E0012', atH: 310, disposition: 'trip-failure' }],
+    removed: [{ serial: 'E0031', atH: 500, kind: 'lost', reason: 'Not in the carrier after the 168 h read; searched the tester and the oven.' }],
   },
   {
     lot: 'HG2608-F', kind: 'thb', rigs: ['HC-05'], state: 'finished', startedDaysAgo: 80,

@@ -23,6 +23,14 @@ export const dispositionInputSchema = z.object({
 });
 export type DispositionInput = z.infer<typeof dispositionInputSchema>;
 
+export const dispositionIdParamsSchema = z.object({ id: uuid('disposition') });
+
+/** Withdrawing a disposition recorded by mistake (engineer; the old content stays in the audit trail). */
+export const withdrawDispositionSchema = z.object({
+  reason: z.string().trim().min(DISPOSITION_REASON_MIN, `Say why it is withdrawn (at least ${DISPOSITION_REASON_MIN} characters)`).max(2000),
+});
+export type WithdrawDispositionInput = z.infer<typeof withdrawDispositionSchema>;
+
 export const confirmReadingSchema = z.object({
   reason: z.string().trim().min(CONFIRM_REASON_MIN, `Say why the reading may be judged (at least ${CONFIRM_REASON_MIN} characters)`).max(2000),
 });

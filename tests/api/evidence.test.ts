@@ -251,6 +251,22 @@ describe('readings, dispositions and coverage', () => {
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
   });
 
+  it('a disposition recorded by mistake is withdrawn by an engineer (audited with what it said); an operator may not', async () => {
+    const op = await t.signIn('operator');
+    const made = await op.post(`/api/evidence/runs/${runId}/dispositions`).send({ serial: 'C0001', readPointH: 500, kind: 'lost', reason: 'Wrong serial typed' });
+    expect(made.status).toBe(201);
+    const before = await tableCounts(t.ctx.ds);
+    expect((await op.post(`/api/evidence/dispositions/${made.body.id}/withdraw`).send({ reason: 'Typed the wrong serial' })).status).toBe(403);
+    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+    const res = await (await t.signIn('engineer')).post(`/api/evidence/dispositions/${made.body.id}/withdraw`).send({ reason: 'Typed the wrong serial' });
+    expect(res.status).toBe(200);
+    expect(res.body.dispositions.map((d: { serial: string }) => d.serial)).toEqual(['C0005']);
+    const audit = await t.ctx.ds.getRepository(AuditLogEntity).findOneByOrFail({ entityId: runId, action: 'device.disposition-withdrawn' });
+    expect(audit).toMatchObject({ reason: 'Typed the wrong serial', details: { kind: 'lost', readPointH: 500, recordedReason: 'Wrong serial typed' } });
+    const again = await (await t.signIn('engineer')).post(`/api/evidence/dispositions/${made.body.id}/withdraw`).send({ reason: 'Typed the wrong serial' });
+    expect(again.status).toBe(404);
+  });
+
   it('the sample evidence lists each device with its hours, trip and disposition, and the coverage', async () => {
     const res = await (await t.signIn('manager')).get(`/api/evidence/samples/${sampleId}`);
     expect(res.status).toBe(200);

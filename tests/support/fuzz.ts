@@ -33,7 +33,7 @@ import { manualEntrySchema } from '../../shared/schemas/measurements';
 import { planInputSchema, planListQuerySchema, planTemplatesQuerySchema } from '../../shared/schemas/plans';
 import { createRigSchema, maintenanceInputSchema, rejectionsQuerySchema, revokeRigSchema, updateRigSchema } from '../../shared/schemas/rigs';
 import { abortRunSchema, bookRunSchema, bookSampleSchema, proposalInputSchema, runActionSchema, runListQuerySchema, socketLoadSchema, timelineQuerySchema } from '../../shared/schemas/runs';
-import { confirmReadingSchema, dispositionInputSchema } from '../../shared/schemas/evidence';
+import { confirmReadingSchema, dispositionInputSchema, withdrawDispositionSchema } from '../../shared/schemas/evidence';
 import { createUserSchema, updateUserSchema } from '../../shared/schemas/users';
 import { emailFor, TEST_PASSWORD, type TestApp } from './api';
 
@@ -449,6 +449,7 @@ export function bodySpecs(ids: FuzzIds): Array<[string | RegExp, BodySpec]> {
       'post /api/evidence/runs/:runId/dispositions',
       { schema: dispositionInputSchema, sample: () => ({ serial: 'FZ0001', readPointH: 0, kind: 'lost', reason: 'Dropped on the floor' }) },
     ],
+    ['post /api/evidence/dispositions/:id/withdraw', { schema: withdrawDispositionSchema, sample: () => ({ reason: 'Recorded against the wrong serial' }) }],
     ['post /api/evidence/measurements/:id/confirm', { schema: confirmReadingSchema, sample: () => ({ reason: 'Tester re-calibrated; same fixture' }) }],
     ['put /api/runs/:id/sockets', { schema: socketLoadSchema, sample: () => ({ ...rowVersion, sockets: { '0': 'FZ0001', '1': 'FZ0002' }, dryRun: true }) }],
     ['post /api/runs/:id/abort', { schema: abortRunSchema, sample: () => ({ ...rowVersion, reason: 'Wrong board fitted' }) }],

@@ -1,9 +1,11 @@
 import {
   confirmReadingSchema,
+  dispositionIdParamsSchema,
   dispositionInputSchema,
   evidenceRunParamsSchema,
   evidenceSampleParamsSchema,
   measurementIdParamsSchema,
+  withdrawDispositionSchema,
 } from '../../../shared/schemas/evidence';
 import type { AppContext } from '../../context';
 import { ApiRouter } from '../../http/route';
@@ -20,6 +22,11 @@ export function evidenceRoutes(ctx: AppContext): ApiRouter {
     '/runs/:runId/dispositions',
     { access: ['engineer', 'operator'], params: evidenceRunParamsSchema, body: dispositionInputSchema, status: 201 },
     ({ user, params, body }) => svc.addDisposition(user, params.runId, body),
+  );
+  r.post(
+    '/dispositions/:id/withdraw',
+    { access: ['engineer'], params: dispositionIdParamsSchema, body: withdrawDispositionSchema },
+    ({ user, params, body }) => svc.withdrawDisposition(user, params.id, body),
   );
   r.post(
     '/measurements/:id/confirm',

@@ -6,7 +6,7 @@
 import type { DataSource } from 'typeorm';
 import { DISPOSITION_LABEL, TRIP_DISPOSITIONS } from '../../../shared/evidence';
 import type { SessionUser } from '../../../shared/schemas/auth';
-import type { ConfirmReadingInput, Disposition, DispositionInput, EvidenceReading, RunCoverage, SampleEvidence } from '../../../shared/schemas/evidence';
+import type { ConfirmReadingInput, Disposition, DispositionInput, EvidenceReading, RunCoverage, SampleEvidence, WithdrawDispositionInput } from '../../../shared/schemas/evidence';
 import { DeviceDispositionEntity, MeasurementEntity, RunEntity, StressPlanEntity } from '../../db/entities';
 import { conflict, notFound, unprocessable } from '../../http/errors';
 import type { AuditService } from '../audit/audit.service';
@@ -91,6 +91,28 @@ export class EvidenceService {
     });
     const all = await runDispositions(this.ds.manager, [runId]);
     return all.find((x) => x.id === id)!;
+  }
+
+  async withdrawDisposition(actor: SessionUser, id: string, input: WithdrawDispositionInput): Promise<RunCoverage> {
+    const runId = await this.ds.transaction(async (m) => {
+      const x = await m.findOne(DeviceDispositionEntity, { where: { id }, lock: { mode: 'pessimistic_write' } });
+      if (!x) throw notFound('The disposition');
+      await m.delete(DeviceDispositionEntity, { id });
+      await this.audit.record(
+        {
+          actor,
+          action: 'device.disposition-withdrawn',
+          entity: 'run',
+          entityId: x.runId,
+          reason: input.reason,
+          details: { dispositionId: x.id, deviceId: x.deviceId, kind: x.kind, readPointH: x.readPointH, recordedReason: x.reason, recordedBy: x.byName, recordedAt: x.at.toISOString() },
+        },
+        m,
+      );
+      if (x.kind === 'trip-failure') await refreshFirstFailures(m, await loadRunBundle(m, x.runId));
+      return x.runId;
+    });
+    return this.runCoverage(runId);
   }
 
   async confirmReading(actor: SessionUser, measurementId: string, input: ConfirmReadingInput): Promise<EvidenceReading> {

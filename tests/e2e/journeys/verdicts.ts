@@ -4,7 +4,7 @@ import type { Journey } from '../harness';
 
 /**
  * Manager: the lot verdicts of the re-seeded demo — a sample split across two rigs passed, a lot
- * with an incomplete read point and a lost device (insufficient sample), a short sample under a
+ * with an incomplete read point (its missing devices named), a short sample under a
  * recorded deviation, and the drifting lot with its per-device degradation, Weibull life and peer
  * limits (prediction interval).
  */
@@ -41,7 +41,7 @@ export const managerLotVerdicts: Journey = {
 
     // --- An incomplete read point: the missing devices named -------------------------------
     await open('HG2611-B');
-    await expect(page.getByTestId('verdict-insufficient-sample').first()).toBeVisible();
+    await expect(page.getByTestId('verdict-incomplete').first()).toBeVisible();
     const missing = page.getByTestId('missing-1000');
     await expect(missing).toBeVisible();
     await expect(missing).toContainText('Read point 1,000 h is incomplete');
