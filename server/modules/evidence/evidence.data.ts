@@ -9,6 +9,10 @@ import type { Disposition, EvidenceDevice, EvidenceReading, ReadPointCoverageVie
 import { RunEntity, SampleEntity, StressPlanEntity, UserEntity } from '../../db/entities';
 import { notFound } from '../../http/errors';
 
+/** A raw SQL row; each reader below converts its columns explicitly. */
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- node-pg rows are untyped; the fields are read and converted one by one
+type SqlRow = Record<string, any>;
+
 const iso = (d: Date | null) => (d ? d.toISOString() : null);
 
 /** A read point counts as reached by a run once its stress hours are within half an hour of it. */
@@ -18,7 +22,7 @@ export const readPointReached = (run: Pick<RunEntity, 'stressHours' | 'state'>, 
 
 export async function runDispositions(m: EntityManager, runIds: string[]): Promise<Disposition[]> {
   if (!runIds.length) return [];
-  const rows: Array<Record<string, any>> = await m.query(
+  const rows: SqlRow[] = await m.query(
     `SELECT x.id, x.run_id, x.device_id, d.serial, l.code AS lot_code, x.read_point_h, x.kind, x.reason, x.by_name, x.at
      FROM device_dispositions x JOIN devices d ON d.id = x.device_id JOIN lots l ON l.id = d.lot_id
      WHERE x.run_id = ANY($1) ORDER BY x.at`,
@@ -41,7 +45,7 @@ export async function runDispositions(m: EntityManager, runIds: string[]): Promi
 
 export async function evidenceReadings(m: EntityManager, runIds: string[]): Promise<EvidenceReading[]> {
   if (!runIds.length) return [];
-  const rows: Array<Record<string, any>> = await m.query(
+  const rows: SqlRow[] = await m.query(
     `SELECT x.*, u.name AS confirmed_by_name FROM measurements x LEFT JOIN users u ON u.id = x.confirmed_by_id
      WHERE x.run_id = ANY($1) ORDER BY x.read_point_h, x.device_id`,
     [runIds],
@@ -72,7 +76,7 @@ export async function evidenceReadings(m: EntityManager, runIds: string[]): Prom
 
 export async function evidenceDevices(m: EntityManager, runs: RunEntity[], dispositions: Disposition[]): Promise<EvidenceDevice[]> {
   if (!runs.length) return [];
-  const rows: Array<Record<string, any>> = await m.query(
+  const rows: SqlRow[] = await m.query(
     `SELECT s.run_id, r.code AS run_code, g.code AS rig_code, s.device_id, d.serial, d.lot_id, l.code AS lot_code, s.socket_index,
             s.accrued_hours, s.tripped, s.tripped_at, s.failed_at_h
      FROM run_sockets s JOIN runs r ON r.id = s.run_id LEFT JOIN rigs g ON g.id = r.rig_id

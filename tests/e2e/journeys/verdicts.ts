@@ -54,7 +54,9 @@ export const managerLotVerdicts: Journey = {
     // --- A short sample under a recorded deviation ----------------------------------------
     await open('HG2608-F');
     await expect(page.getByTestId('verdict-insufficient-sample').first()).toBeVisible();
-    await expect(page.getByText(/48 of 77 devices: at 90 % confidence, 0 failures in 48 demonstrate an LTPD of 4\.68 %/).first()).toBeVisible();
+    await expect(
+      page.getByText(/48 of 77 devices: at 90 % confidence, 0 failures in 48 demonstrate an LTPD of 4\.68 %/).first(),
+    ).toBeVisible();
     await expect(page.getByTestId('plan-sample').first()).toContainText('Recorded deviation');
     await j.shot('short-sample-deviation');
 
