@@ -87,7 +87,11 @@ function PeerLine({ c }: { c: PeerCheck }) {
         {c.method === null ? (
           <StatusPill size="sm" tone="idle" label="Not judged" />
         ) : (
-          <StatusPill size="sm" tone={c.outOfLimits ? 'attention' : 'ok'} label={c.outOfLimits ? 'Outside the limits' : 'Within the limits'} />
+          <StatusPill
+            size="sm"
+            tone={c.outOfLimits ? 'attention' : 'ok'}
+            label={c.outOfLimits ? 'Outside the limits' : 'Within the limits'}
+          />
         )}
       </View>
       {c.method === null ? (
@@ -99,8 +103,7 @@ function PeerLine({ c }: { c: PeerCheck }) {
           {c.method === 'prediction-interval'
             ? `Limits ${sig(c.lower)} to ${sig(c.upper)}${unit}: ${sig((c.confidence ?? 0) * 100, 4)} % prediction interval for one new lot from ${c.peers.length} peer lots (x̄ ± t·s·√(1 + 1/m), Student t with ${c.peers.length - 1} degrees of freedom).`
             : `Limits ${sig(c.lower)} to ${sig(c.upper)}${unit}: individuals chart from ${c.peers.length} peer lots in production order (mean ± 2.66 × average moving range).`}{' '}
-          Peers: {c.peers.map((p) => `${p.lotCode} ${sig(p.value)}`).join(', ')}.
-          {c.violations.length ? ` ${c.violations.join('; ')}.` : ''}
+          Peers: {c.peers.map((p) => `${p.lotCode} ${sig(p.value)}`).join(', ')}.{c.violations.length ? ` ${c.violations.join('; ')}.` : ''}
         </Text>
       )}
     </View>
@@ -115,7 +118,10 @@ export function LotPlanJudgement({ plan: p }: { plan: LotPlanView }) {
   const key = testKey(p.planName);
   return (
     <View style={{ gap: space.md }} testID={`plan-judgement-${key}`}>
-      <Card title={p.planName} description={`Stressed on ${p.runs.map((r) => `${r.runCode}${r.rigCode ? ` (${r.rigCode})` : ''}, ${r.state} at ${hours(r.stressHours)}`).join(' + ')}`}>
+      <Card
+        title={p.planName}
+        description={`Stressed on ${p.runs.map((r) => `${r.runCode}${r.rigCode ? ` (${r.rigCode})` : ''}, ${r.state} at ${hours(r.stressHours)}`).join(' + ')}`}
+      >
         <View style={{ gap: space.sm }}>
           <VerdictPill verdict={p.verdict} size="md" />
           {p.reasons.map((r, i) => (
@@ -126,7 +132,10 @@ export function LotPlanJudgement({ plan: p }: { plan: LotPlanView }) {
         </View>
       </Card>
 
-      <Card title="Sample" description={`What the devices judged demonstrate at ${sig(s.confidence * 100)} % confidence, exact binomial (LTPD = BetaInv(CL; c + 1, n − c)).`}>
+      <Card
+        title="Sample"
+        description={`What the devices judged demonstrate at ${sig(s.confidence * 100)} % confidence, exact binomial (LTPD = BetaInv(CL; c + 1, n − c)).`}
+      >
         <View style={{ gap: space.xs }} testID="plan-sample">
           <View style={{ flexDirection: 'row', gap: space.lg, flexWrap: 'wrap' }}>
             {[
@@ -157,7 +166,14 @@ export function LotPlanJudgement({ plan: p }: { plan: LotPlanView }) {
         <Text variant="heading" heading={3}>
           Read points: every device accounted for
         </Text>
-        <DataTable caption={`Read-point completeness, ${p.planName}`} columns={rpColumns} rows={p.readPoints} rowKey={(r) => String(r.hours)} minTableWidth={720} testID="plan-readpoints" />
+        <DataTable
+          caption={`Read-point completeness, ${p.planName}`}
+          columns={rpColumns}
+          rows={p.readPoints}
+          rowKey={(r) => String(r.hours)}
+          minTableWidth={720}
+          testID="plan-readpoints"
+        />
         {incomplete.map((r) => (
           <Banner key={r.hours} tone="warn" title={`Read point ${hours(r.hours)} is incomplete`} testID={`missing-${r.hours}`}>
             {`${r.missing.length} of ${r.expected} devices have no reading that counts yet: ${r.missing
@@ -191,7 +207,14 @@ export function LotPlanJudgement({ plan: p }: { plan: LotPlanView }) {
             </View>
           ) : null}
           <Text variant="caption">{deg.note}</Text>
-          <DataTable caption={`Degradation per device, ${p.planName}`} columns={degColumns} rows={deg.devices} rowKey={(d) => d.deviceId} minTableWidth={760} testID="plan-degradation-devices" />
+          <DataTable
+            caption={`Degradation per device, ${p.planName}`}
+            columns={degColumns}
+            rows={deg.devices}
+            rowKey={(d) => d.deviceId}
+            minTableWidth={760}
+            testID="plan-degradation-devices"
+          />
         </View>
       </Card>
 
@@ -200,14 +223,19 @@ export function LotPlanJudgement({ plan: p }: { plan: LotPlanView }) {
         description={`Lots stressed under the same plan conditions, in production order. Below ${PEER_CHART_MIN_LOTS} peers the limits are a prediction interval for one new lot; from ${PEER_CHART_MIN_LOTS} on, an individuals chart.`}
       >
         <View style={{ gap: space.sm }}>
-          {p.peers.length ? p.peers.map((c) => <PeerLine key={c.parameter} c={c} />) : <Text tone="muted">Needs a read point after time zero.</Text>}
+          {p.peers.length ? (
+            p.peers.map((c) => <PeerLine key={c.parameter} c={c} />)
+          ) : (
+            <Text tone="muted">Needs a read point after time zero.</Text>
+          )}
         </View>
       </Card>
 
       {p.fit ? (
         <Text variant="caption" testID="plan-fit">
-          FIT {sig(p.fit.fit60)} at 60 %, {sig(p.fit.fit90)} at 90 %: {p.fit.failures} failure{p.fit.failures === 1 ? '' : 's'} in {Math.round(p.fit.deviceHours).toLocaleString('en-GB')} device-hours
-          credited to {p.fit.devices} devices (each socket's own hours), acceleration factor {sig(p.fit.accelerationFactor)}.
+          FIT {sig(p.fit.fit60)} at 60 %, {sig(p.fit.fit90)} at 90 %: {p.fit.failures} failure{p.fit.failures === 1 ? '' : 's'} in{' '}
+          {Math.round(p.fit.deviceHours).toLocaleString('en-GB')} device-hours credited to {p.fit.devices} devices (each socket's own
+          hours), acceleration factor {sig(p.fit.accelerationFactor)}.
         </Text>
       ) : null}
     </View>

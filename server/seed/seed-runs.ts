@@ -114,10 +114,11 @@ async function insertLiveRun(m: EntityManager, s: DemoLiveRun, engineer: UserEnt
   };
   await audit(engineer, 'run.book', { code: s.code, rig: rig.code, sampleSize, sampleId: sample.id, lots: lots.map((l) => l.code), planName: plan.name, planVersion: plan.version });
   if (short) {
-    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- as above
+    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- as above: a jsonb column
     const details: Record<string, any> = { seeded: true, plannedSize: plan.sampleSize, bookedSize: sampleSize, runs: [s.code] };
     await m.insert(AuditLogEntity, {
-      actorId: engineer?.id ?? null, actor: engineer?.email ?? 'system', action: 'sample.deviation', entity: 'sample', entityId: sample.id, reason: sample.deviationReason, details,
+      actorId: engineer?.id ?? null, actor: engineer?.email ?? 'system', action: 'sample.deviation', entity: 'sample', entityId: sample.id, reason: sample.deviationReason,
+      details,
     });
   }
   if (s.state === 'booked') return;

@@ -49,9 +49,24 @@ export function absoluteLimits(l: EndPointLimits | undefined | null): AbsoluteLi
   const fmt = (x: number) => +x.toPrecision(4);
   const out: AbsoluteLimit[] = [];
   if (l.hfeMin !== null || l.hfeMax !== null) {
-    out.push({ parameter: 'hfe', min: l.hfeMin, max: l.hfeMax, conditions: at([l.hfeIcA !== null ? `IC ${fmt(l.hfeIcA)} A` : null, l.hfeVceV !== null ? `VCE ${fmt(l.hfeVceV)} V` : null, `${l.atC} °C`]) });
+    out.push({
+      parameter: 'hfe',
+      min: l.hfeMin,
+      max: l.hfeMax,
+      conditions: at([
+        l.hfeIcA !== null ? `IC ${fmt(l.hfeIcA)} A` : null,
+        l.hfeVceV !== null ? `VCE ${fmt(l.hfeVceV)} V` : null,
+        `${l.atC} °C`,
+      ]),
+    });
   }
-  if (l.icboMaxA !== null) out.push({ parameter: 'icbo', min: null, max: l.icboMaxA, conditions: at([l.icboVcbV !== null ? `VCB ${fmt(l.icboVcbV)} V` : null, `${l.atC} °C`]) });
+  if (l.icboMaxA !== null)
+    out.push({
+      parameter: 'icbo',
+      min: null,
+      max: l.icboMaxA,
+      conditions: at([l.icboVcbV !== null ? `VCB ${fmt(l.icboVcbV)} V` : null, `${l.atC} °C`]),
+    });
   if (l.vcesatMaxV !== null) out.push({ parameter: 'vcesat', min: null, max: l.vcesatMaxV, conditions: `${l.atC} °C` });
   if (l.bvceoMinV !== null) out.push({ parameter: 'bvceo', min: l.bvceoMinV, max: null, conditions: `${l.atC} °C` });
   return out;
@@ -214,7 +229,9 @@ export function dateFromDateCode(code: string): string | null {
  * The key under which two lots count as peers: the same stress conditions (kind, chamber,
  * humidity, bias, cycling, duration, read points). Plan versions with equal conditions share a key.
  */
-export function planConditionsKey(p: Pick<PlanConditions, 'kind' | 'chamberC' | 'humidityPct' | 'bias' | 'cycle' | 'durationH' | 'readPointsH'>): string {
+export function planConditionsKey(
+  p: Pick<PlanConditions, 'kind' | 'chamberC' | 'humidityPct' | 'bias' | 'cycle' | 'durationH' | 'readPointsH'>,
+): string {
   return JSON.stringify([
     p.kind,
     p.chamberC,

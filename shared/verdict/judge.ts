@@ -8,7 +8,15 @@
 import type { LotVerdict } from '../schemas/analytics';
 import { TERMINAL_STATES, type RunState } from '../domain/run-states';
 import { demonstratedLtpd, weibullFit } from '../reliability';
-import { deviceDrift, individualsChart, pseudoFailureTime, predictionInterval, referredGain, runRuleViolations, type DriftParameter } from '../stats';
+import {
+  deviceDrift,
+  individualsChart,
+  pseudoFailureTime,
+  predictionInterval,
+  referredGain,
+  runRuleViolations,
+  type DriftParameter,
+} from '../stats';
 import { mean, median } from 'simple-statistics';
 import {
   DISPOSITION_LABEL,
@@ -231,8 +239,10 @@ export function absoluteBreaches(values: Record<JudgedParameter, number | null>,
     const v = values[l.parameter];
     if (v === null || v === undefined) continue;
     const at = l.conditions ? ` (${l.conditions})` : '';
-    if (l.min !== null && v < l.min) out.push(`${PARAM_LABEL[l.parameter]} ${fmtValue(l.parameter, v)} below the data sheet's ${fmtValue(l.parameter, l.min)}${at}`);
-    if (l.max !== null && v > l.max) out.push(`${PARAM_LABEL[l.parameter]} ${fmtValue(l.parameter, v)} above the data sheet's ${fmtValue(l.parameter, l.max)}${at}`);
+    if (l.min !== null && v < l.min)
+      out.push(`${PARAM_LABEL[l.parameter]} ${fmtValue(l.parameter, v)} below the data sheet's ${fmtValue(l.parameter, l.min)}${at}`);
+    if (l.max !== null && v > l.max)
+      out.push(`${PARAM_LABEL[l.parameter]} ${fmtValue(l.parameter, v)} above the data sheet's ${fmtValue(l.parameter, l.max)}${at}`);
   }
   return out;
 }
@@ -248,7 +258,10 @@ interface DeviceWork {
   removedAtH: number | null;
   removedBecause: string | null;
   /** Per read point: 'ok' (judged), 'catastrophic', 'removed', 'failed-earlier', or a reason it is missing. */
-  at: Map<number, { counts: boolean; kind: 'measured' | 'catastrophic' | 'removed' | 'after-failure' | 'missing' | 'flagged'; why: string }>;
+  at: Map<
+    number,
+    { counts: boolean; kind: 'measured' | 'catastrophic' | 'removed' | 'after-failure' | 'missing' | 'flagged'; why: string }
+  >;
   /** Judged changes for paths: per read point > 0. */
   changes: Array<{ hours: number; hfePct: number | null; icboRatio: number | null; vcesatMv: number | null }>;
 }
@@ -260,20 +273,33 @@ interface DeviceWork {
 function judgeDevice(ev: DeviceEvidence, plan: PlanEvidence['plan'], hoursList: number[], gain: LotEvidence['gainReference']): DeviceWork {
   const byHours = new Map(ev.readings.map((r) => [r.readPointH, r]));
   const t0 = byHours.get(0) ?? null;
-  const refer = (r: ReadingEvidence) => (r.hfe === null ? null : gain ? referredGain(r.hfe, r.measuredC ?? gain.referenceC, gain).hfe : r.hfe);
+  const refer = (r: ReadingEvidence) =>
+    r.hfe === null ? null : gain ? referredGain(r.hfe, r.measuredC ?? gain.referenceC, gain).hfe : r.hfe;
   const t0Hfe = t0 && t0.result === 'measured' ? refer(t0) : null;
-  const w: DeviceWork = { ev, byHours, t0, t0Hfe, failedAtH: null, failedBecause: [], removedAtH: null, removedBecause: null, at: new Map(), changes: [] };
+  const w: DeviceWork = {
+    ev,
+    byHours,
+    t0,
+    t0Hfe,
+    failedAtH: null,
+    failedBecause: [],
+    removedAtH: null,
+    removedBecause: null,
+    at: new Map(),
+    changes: [],
+  };
   const fail = (h: number, why: string) => {
     if (w.failedAtH === null) w.failedAtH = h;
     if (w.failedAtH === h) w.failedBecause.push(why);
   };
   const REMOVING = ['lost', 'damaged', 'excluded'];
   const removal = [...ev.dispositions].filter((d) => REMOVING.includes(d.kind)).sort((a, b) => a.readPointH - b.readPointH)[0] ?? null;
-  const failureDisposition = [...ev.dispositions].filter((d) => d.kind === 'trip-failure').sort((a, b) => a.readPointH - b.readPointH)[0] ?? null;
+  const failureDisposition =
+    [...ev.dispositions].filter((d) => d.kind === 'trip-failure').sort((a, b) => a.readPointH - b.readPointH)[0] ?? null;
   const reseated = ev.dispositions.some((d) => d.kind === 'reseated');
   const trip = ev.trip;
   /** First read point after the trip: the device's stress ended before it. */
-  const tripReadPoint = trip ? hoursList.find((h) => h > trip.atH) ?? null : null;
+  const tripReadPoint = trip ? (hoursList.find((h) => h > trip.atH) ?? null) : null;
   const limits = absoluteLimits(plan.criteria.limits);
 
   for (const h of hoursList) {
@@ -293,12 +319,19 @@ function judgeDevice(ev: DeviceEvidence, plan: PlanEvidence['plan'], hoursList: 
     }
     if (failureDisposition && failureDisposition.readPointH <= h) {
       const tripped = trip ? `socket tripped at ${fmtH(trip.atH)}${trip.reason ? ` (${trip.reason})` : ''}, ` : '';
-      fail(h, `${tripped}counted as a failure at ${fmtH(failureDisposition.readPointH)}: ${failureDisposition.reason} (${failureDisposition.by})`);
+      fail(
+        h,
+        `${tripped}counted as a failure at ${fmtH(failureDisposition.readPointH)}: ${failureDisposition.reason} (${failureDisposition.by})`,
+      );
       w.at.set(h, { counts: true, kind: 'catastrophic', why: 'counted as a failure' });
       continue;
     }
     if (trip && tripReadPoint !== null && h >= tripReadPoint && !reseated) {
-      w.at.set(h, { counts: false, kind: 'missing', why: `socket tripped at ${fmtH(trip.atH)}; failure, re-seat or exclusion not yet recorded` });
+      w.at.set(h, {
+        counts: false,
+        kind: 'missing',
+        why: `socket tripped at ${fmtH(trip.atH)}; failure, re-seat or exclusion not yet recorded`,
+      });
       continue;
     }
     const r = byHours.get(h);
@@ -307,7 +340,11 @@ function judgeDevice(ev: DeviceEvidence, plan: PlanEvidence['plan'], hoursList: 
       continue;
     }
     if (!judgeable(r)) {
-      w.at.set(h, { counts: false, kind: 'flagged', why: `measuring conditions differ from time zero (${r.conditionDifferences.join('; ')}), not yet confirmed` });
+      w.at.set(h, {
+        counts: false,
+        kind: 'flagged',
+        why: `measuring conditions differ from time zero (${r.conditionDifferences.join('; ')}), not yet confirmed`,
+      });
       continue;
     }
     if (r.result !== 'measured') {
@@ -320,7 +357,11 @@ function judgeDevice(ev: DeviceEvidence, plan: PlanEvidence['plan'], hoursList: 
     const hfe = refer(r);
     for (const b of absoluteBreaches({ hfe, icbo: r.icboA, vcesat: r.vcesatV, bvceo: r.bvceoV }, limits)) fail(h, `${b} at ${fmtH(h)}`);
     if (t0 && t0.result === 'measured' && judgeable(t0)) {
-      const d = deviceDrift({ timeZero: { hfe: t0Hfe, icboA: t0.icboA, vcesatV: t0.vcesatV }, reading: { hfe, icboA: r.icboA, vcesatV: r.vcesatV }, criteria: plan.criteria });
+      const d = deviceDrift({
+        timeZero: { hfe: t0Hfe, icboA: t0.icboA, vcesatV: t0.vcesatV },
+        reading: { hfe, icboA: r.icboA, vcesatV: r.vcesatV },
+        criteria: plan.criteria,
+      });
       for (const p of d.parameters) if (p.pass === false) fail(h, `${p.reason} at ${fmtH(h)}`);
       const get = (name: DriftParameter) => d.parameters.find((p) => p.parameter === name && p.pass !== null) ?? null;
       w.changes.push({
@@ -349,31 +390,67 @@ function degradation(works: DeviceWork[], plan: PlanEvidence['plan']): Degradati
   const c = plan.criteria;
   const devices: DeviceDegradation[] = works.map((w) => {
     const paths: ParameterPath[] = [];
-    const fit = (parameter: ParameterPath['parameter'], model: ParameterPath['model'], pts: Array<{ hours: number; value: number }>, limitFor: (sign: number) => number | null) => {
+    const fit = (
+      parameter: ParameterPath['parameter'],
+      model: ParameterPath['model'],
+      pts: Array<{ hours: number; value: number }>,
+      limitFor: (sign: number) => number | null,
+    ) => {
       if (!pts.length) return;
       if (model === 'log-ratio-origin' && pts.some((p) => !(p.value > 0))) return;
-      const probe = pseudoFailureTime({ hours: pts.map((p) => p.hours), changes: pts.map((p) => p.value), limit: model === 'log-ratio-origin' ? 2 : 1, model });
+      const probe = pseudoFailureTime({
+        hours: pts.map((p) => p.hours),
+        changes: pts.map((p) => p.value),
+        limit: model === 'log-ratio-origin' ? 2 : 1,
+        model,
+      });
       const limit = limitFor(Math.sign(probe.slope));
-      const crossing = limit === null ? null : pseudoFailureTime({ hours: pts.map((p) => p.hours), changes: pts.map((p) => p.value), limit, model }).hours;
+      const crossing =
+        limit === null ? null : pseudoFailureTime({ hours: pts.map((p) => p.hours), changes: pts.map((p) => p.value), limit, model }).hours;
       paths.push({ parameter, model, points: pts, slopePerHour: probe.slope, limit, crossingH: crossing });
     };
-    fit('hfe', 'linear-origin', w.changes.filter((x) => x.hfePct !== null).map((x) => ({ hours: x.hours, value: x.hfePct! })), (s) => (s === 0 ? null : s * c.hfeChangePct));
+    fit(
+      'hfe',
+      'linear-origin',
+      w.changes.filter((x) => x.hfePct !== null).map((x) => ({ hours: x.hours, value: x.hfePct! })),
+      (s) => (s === 0 ? null : s * c.hfeChangePct),
+    );
     const i0 = w.t0?.icboA ?? null;
     if (i0 !== null && i0 > 0) {
       const ratioLimit = 1 + Math.max((c.leakageMultiple - 1) * i0, c.leakageFloorA) / i0;
-      fit('icbo', 'log-ratio-origin', w.changes.filter((x) => x.icboRatio !== null).map((x) => ({ hours: x.hours, value: x.icboRatio! })), (s) => (s > 0 ? ratioLimit : null));
+      fit(
+        'icbo',
+        'log-ratio-origin',
+        w.changes.filter((x) => x.icboRatio !== null).map((x) => ({ hours: x.hours, value: x.icboRatio! })),
+        (s) => (s > 0 ? ratioLimit : null),
+      );
     }
-    fit('vcesat', 'linear-origin', w.changes.filter((x) => x.vcesatMv !== null).map((x) => ({ hours: x.hours, value: x.vcesatMv! })), (s) => (s === 0 ? null : s * c.vcesatShiftV * 1000));
+    fit(
+      'vcesat',
+      'linear-origin',
+      w.changes.filter((x) => x.vcesatMv !== null).map((x) => ({ hours: x.hours, value: x.vcesatMv! })),
+      (s) => (s === 0 ? null : s * c.vcesatShiftV * 1000),
+    );
     const lastH = w.changes.length ? Math.max(...w.changes.map((x) => x.hours)) : null;
     const horizon = lastH !== null ? lastH * EXTRAPOLATION_LIMIT : null;
-    const crossings = paths.filter((p) => p.crossingH !== null && horizon !== null && p.crossingH <= horizon).sort((a, b) => a.crossingH! - b.crossingH!);
+    const crossings = paths
+      .filter((p) => p.crossingH !== null && horizon !== null && p.crossingH <= horizon)
+      .sort((a, b) => a.crossingH! - b.crossingH!);
     const first = crossings[0] ?? null;
     let life: DeviceDegradation['life'] = null;
     if (first) life = { kind: 'failure', hours: first.crossingH!, why: `${PARAM_LABEL[first.parameter]} path reaches its limit` };
     else if (w.failedAtH !== null && w.failedAtH > 0) life = { kind: 'failure', hours: w.failedAtH, why: 'failed at this read point' };
     else if (w.removedAtH !== null && lastH !== null) life = { kind: 'suspension', hours: lastH, why: 'left the test' };
-    else if (horizon !== null) life = { kind: 'suspension', hours: horizon, why: `no limit reached within ${EXTRAPOLATION_LIMIT}× its last read point` };
-    return { deviceId: w.ev.deviceId, serial: w.ev.serial, paths, pseudoFailureH: first?.crossingH ?? null, parameter: first?.parameter ?? null, life };
+    else if (horizon !== null)
+      life = { kind: 'suspension', hours: horizon, why: `no limit reached within ${EXTRAPOLATION_LIMIT}× its last read point` };
+    return {
+      deviceId: w.ev.deviceId,
+      serial: w.ev.serial,
+      paths,
+      pseudoFailureH: first?.crossingH ?? null,
+      parameter: first?.parameter ?? null,
+      life,
+    };
   });
   const lives = devices.map((d) => d.life).filter((l): l is NonNullable<typeof l> => l !== null && l.hours > 0);
   const failures = lives.filter((l) => l.kind === 'failure').map((l) => l.hours);
@@ -383,7 +460,9 @@ function degradation(works: DeviceWork[], plan: PlanEvidence['plan']): Degradati
   const method = 'per-device paths through the origin (NIST/SEMATECH e-Handbook §8.4.2.3), Weibull by maximum likelihood with suspensions';
   const byTarget = lives.filter((l) => l.kind === 'failure' && l.hours <= plan.durationH).length;
   const share = lives.length ? byTarget / lives.length : null;
-  const shareWords = lives.length ? `${byTarget} of ${lives.length} devices projected to reach a limit by the plan's ${fmtH(plan.durationH)}` : '';
+  const shareWords = lives.length
+    ? `${byTarget} of ${lives.length} devices projected to reach a limit by the plan's ${fmtH(plan.durationH)}`
+    : '';
   const noFit = (why: string): Degradation => ({
     method,
     horizonH,
@@ -394,7 +473,9 @@ function degradation(works: DeviceWork[], plan: PlanEvidence['plan']): Degradati
     note: lives.length ? `${why}; ${shareWords} (${pct(share!)}).` : 'No device has readings after time zero yet.',
   });
   if (failures.length < 2) {
-    return noFit(`${plural(failures.length, 'device')} of ${lives.length} reach a limit within ${EXTRAPOLATION_LIMIT}× the last read point; a Weibull fit needs at least two`);
+    return noFit(
+      `${plural(failures.length, 'device')} of ${lives.length} reach a limit within ${EXTRAPOLATION_LIMIT}× the last read point; a Weibull fit needs at least two`,
+    );
   }
   try {
     const wf = weibullFit(failures, suspensions, { method: 'mle' });
@@ -440,7 +521,14 @@ function valuesOf(works: DeviceWork[]): PeerLot['values'] {
 const byProduction = (a: { productionDate: string | null; lotCode: string }, b: { productionDate: string | null; lotCode: string }) =>
   (a.productionDate ?? '9999').localeCompare(b.productionDate ?? '9999') || a.lotCode.localeCompare(b.lotCode);
 
-function peerChecks(lot: LotEvidence['lot'], key: string, values: PeerLot['values'], latestH: number | null, peers: PeerLot[], confidence: number): PeerCheck[] {
+function peerChecks(
+  lot: LotEvidence['lot'],
+  key: string,
+  values: PeerLot['values'],
+  latestH: number | null,
+  peers: PeerLot[],
+  confidence: number,
+): PeerCheck[] {
   if (latestH === null) return [];
   const out: PeerCheck[] = [];
   for (const parameter of ['hfe', 'icbo'] as const) {
@@ -448,13 +536,25 @@ function peerChecks(lot: LotEvidence['lot'], key: string, values: PeerLot['value
     if (!own) continue;
     const list = peers
       .filter((p) => p.lotId !== lot.id && p.conditionsKey === key)
-      .map((p) => ({ lotId: p.lotId, lotCode: p.lotCode, productionDate: p.productionDate, value: p.values.find((v) => v.parameter === parameter && v.readPointH === latestH)?.value }))
-      .filter((p): p is { lotId: string; lotCode: string; productionDate: string | null; value: number } => typeof p.value === 'number' && Number.isFinite(p.value))
+      .map((p) => ({
+        lotId: p.lotId,
+        lotCode: p.lotCode,
+        productionDate: p.productionDate,
+        value: p.values.find((v) => v.parameter === parameter && v.readPointH === latestH)?.value,
+      }))
+      .filter(
+        (p): p is { lotId: string; lotCode: string; productionDate: string | null; value: number } =>
+          typeof p.value === 'number' && Number.isFinite(p.value),
+      )
       .sort(byProduction);
     const base = { parameter, readPointH: latestH, value: own.value, peers: list };
     const none = { method: null, lower: null, upper: null, centre: null, confidence: null, violations: [], outOfLimits: false };
     if (list.length < PEER_INTERVAL_MIN_LOTS) {
-      out.push({ ...base, ...none, note: `Needs at least ${PEER_INTERVAL_MIN_LOTS} peer lots stressed under the same conditions and measured at ${fmtH(latestH)}; ${list.length} found.` });
+      out.push({
+        ...base,
+        ...none,
+        note: `Needs at least ${PEER_INTERVAL_MIN_LOTS} peer lots stressed under the same conditions and measured at ${fmtH(latestH)}; ${list.length} found.`,
+      });
       continue;
     }
     const peerValues = list.map((p) => p.value);
@@ -465,7 +565,17 @@ function peerChecks(lot: LotEvidence['lot'], key: string, values: PeerLot['value
         continue;
       }
       const outside = own.value < pi.lower || own.value > pi.upper;
-      out.push({ ...base, method: 'prediction-interval', lower: pi.lower, upper: pi.upper, centre: pi.mean, confidence, violations: [], outOfLimits: outside, note: null });
+      out.push({
+        ...base,
+        method: 'prediction-interval',
+        lower: pi.lower,
+        upper: pi.upper,
+        centre: pi.mean,
+        confidence,
+        violations: [],
+        outOfLimits: outside,
+        note: null,
+      });
       continue;
     }
     // Individuals chart: limits and moving ranges from the peers in production order; run rules on
@@ -475,13 +585,29 @@ function peerChecks(lot: LotEvidence['lot'], key: string, values: PeerLot['value
       out.push({ ...base, ...none, note: 'The peer lots agree exactly, so there is no spread to judge against.' });
       continue;
     }
-    const seq = [...list.map((p) => ({ ...p, self: false })), { lotId: lot.id, lotCode: lot.code, productionDate: lot.productionDate, value: own.value, self: true }].sort(byProduction);
+    const seq = [
+      ...list.map((p) => ({ ...p, self: false })),
+      { lotId: lot.id, lotCode: lot.code, productionDate: lot.productionDate, value: own.value, self: true },
+    ].sort(byProduction);
     const selfIndex = seq.findIndex((s) => s.self);
-    const violations = runRuleViolations(seq.map((s) => s.value), { mean: chart.mean, sigma: chart.sigma })
+    const violations = runRuleViolations(
+      seq.map((s) => s.value),
+      { mean: chart.mean, sigma: chart.sigma },
+    )
       .filter((v) => v.indices.includes(selfIndex))
       .map((v) => `Western Electric rule ${v.rule}: ${v.description.replace(`point ${selfIndex + 1}`, 'this lot')}`);
     const outside = own.value > chart.ucl || own.value < chart.lcl;
-    out.push({ ...base, method: 'individuals-chart', lower: chart.lcl, upper: chart.ucl, centre: chart.mean, confidence: null, violations, outOfLimits: outside || violations.length > 0, note: null });
+    out.push({
+      ...base,
+      method: 'individuals-chart',
+      lower: chart.lcl,
+      upper: chart.ucl,
+      centre: chart.mean,
+      confidence: null,
+      violations,
+      outOfLimits: outside || violations.length > 0,
+      note: null,
+    });
   }
   return out;
 }
@@ -503,9 +629,9 @@ export function judgePlan(ev: LotEvidence, pe: PlanEvidence, peers: PeerLot[], o
   const runsEnded = pe.runs.length > 0 && pe.runs.every((r) => isTerminal(r.state));
   const reached = Math.max(0, ...pe.runs.map((r) => r.stressHours));
 
-  // Read points: due when the runs reached them (or ended); complete when every device counts.
+  // Read points: due when every run of the sample reached them or ended; complete when every device counts.
   const readPoints: ReadPointStatus[] = hoursList.map((h) => {
-    const due = runsEnded || reached >= h;
+    const due = pe.runs.length > 0 && pe.runs.every((r) => isTerminal(r.state) || r.stressHours >= h);
     const at = works.map((w) => ({ w, s: w.at.get(h)! }));
     const missing = at.filter((x) => !x.s.counts).map((x) => ({ serial: x.w.ev.serial, why: x.s.why }));
     const removedHere = at.filter((x) => x.s.kind === 'removed').length;
@@ -526,8 +652,15 @@ export function judgePlan(ev: LotEvidence, pe: PlanEvidence, peers: PeerLot[], o
   const failures = failedWorks.length;
   const removed = works.filter((w) => w.removedAtH !== null && w.failedAtH === null).length;
   const judgedN = works.length - removed;
-  const planLtpd = demonstratedLtpd({ sampleSize: plan.sampleSize, acceptNumber: Math.min(plan.acceptNumber, plan.sampleSize - 1), confidence });
-  const demonstrated = judgedN > 0 && failures < judgedN && failures <= plan.acceptNumber ? demonstratedLtpd({ sampleSize: judgedN, acceptNumber: failures, confidence }) : null;
+  const planLtpd = demonstratedLtpd({
+    sampleSize: plan.sampleSize,
+    acceptNumber: Math.min(plan.acceptNumber, plan.sampleSize - 1),
+    confidence,
+  });
+  const demonstrated =
+    judgedN > 0 && failures < judgedN && failures <= plan.acceptNumber
+      ? demonstratedLtpd({ sampleSize: judgedN, acceptNumber: failures, confidence })
+      : null;
   const sample: SampleJudgement = {
     planned: plan.sampleSize,
     booked: works.length,
@@ -547,7 +680,8 @@ export function judgePlan(ev: LotEvidence, pe: PlanEvidence, peers: PeerLot[], o
     runId: w.ev.runId,
     socketIndex: w.ev.socketIndex,
     creditedHours: w.ev.creditedHours,
-    status: w.failedAtH !== null ? 'fail' : w.removedAtH !== null ? 'removed' : [...w.at.values()].some((s) => !s.counts) ? 'pending' : 'pass',
+    status:
+      w.failedAtH !== null ? 'fail' : w.removedAtH !== null ? 'removed' : [...w.at.values()].some((s) => !s.counts) ? 'pending' : 'pass',
     failedAtH: w.failedAtH,
     failedBecause: w.failedBecause,
     removedAtH: w.removedAtH,
@@ -563,7 +697,18 @@ export function judgePlan(ev: LotEvidence, pe: PlanEvidence, peers: PeerLot[], o
   const peerList = peerChecks(ev.lot, key, values, latestH, peers, options.peerConfidence ?? PEER_INTERVAL_CONFIDENCE);
   const exposure = { devices: works.length, deviceHours: works.reduce((s, w) => s + Math.max(0, w.ev.creditedHours), 0), failures };
 
-  const { verdict, reasons } = planVerdict({ plan, pe, sample, readPoints, failedWorks, deg, peers: peerList, runsEnded, reached, latestH });
+  const { verdict, reasons } = planVerdict({
+    plan,
+    pe,
+    sample,
+    readPoints,
+    failedWorks,
+    deg,
+    peers: peerList,
+    runsEnded,
+    reached,
+    latestH,
+  });
   return {
     planId: plan.planId,
     planName: plan.name,
@@ -596,8 +741,8 @@ function planVerdict(p: {
 }): { verdict: LotVerdict; reasons: string[] } {
   const { plan, pe, sample, readPoints, failedWorks, deg, runsEnded } = p;
   const conf = `${+(sample.confidence * 100).toFixed(2)} %`;
-  const runCodes = pe.runs.map((r) => r.runCode).join(' + ');
-  if (!pe.runs.length || !pe.devices.length) return { verdict: 'untested', reasons: [`No devices of this lot are booked under ${plan.name}.`] };
+  if (!pe.runs.length || !pe.devices.length)
+    return { verdict: 'untested', reasons: [`No devices of this lot are booked under ${plan.name}.`] };
 
   // Failures.
   const failReasons: string[] = [];
@@ -606,7 +751,9 @@ function planVerdict(p: {
       .slice(0, 5)
       .map((w) => `${w.ev.serial} at ${fmtH(w.failedAtH!)} (${w.failedBecause[0]})`)
       .join('; ');
-    failReasons.push(`${plural(failedWorks.length, 'device')} failed, accept number ${plan.acceptNumber}: ${list}${failedWorks.length > 5 ? '; …' : ''}.`);
+    failReasons.push(
+      `${plural(failedWorks.length, 'device')} failed, accept number ${plan.acceptNumber}: ${list}${failedWorks.length > 5 ? '; …' : ''}.`,
+    );
   }
   // Sample.
   const sampleWords =
@@ -655,14 +802,20 @@ function planVerdict(p: {
 
   const failed = failedWorks.length > plan.acceptNumber;
   if (failed) return { verdict: 'failed', reasons: [...failReasons, sampleReason, ...driftReasons, ...info] };
-  if (driftReasons.length) return { verdict: 'drifting', reasons: [...driftReasons, ...failReasons, sampleReason, ...incompleteReasons, ...info] };
-  const deviationMeets = pe.deviation !== null && sample.demonstratedLtpd !== null && sample.demonstratedLtpd <= sample.planLtpd * (1 + 1e-9);
+  if (driftReasons.length)
+    return { verdict: 'drifting', reasons: [...driftReasons, ...failReasons, sampleReason, ...incompleteReasons, ...info] };
+  const deviationMeets =
+    pe.deviation !== null && sample.demonstratedLtpd !== null && sample.demonstratedLtpd <= sample.planLtpd * (1 + 1e-9);
   if (short && !deviationMeets) {
     const why = pe.deviation ? sampleReason : `${sampleReason} No sample deviation is recorded.`;
-    return { verdict: 'insufficient-sample', reasons: [why, ...(deviationReason ? [deviationReason] : []), ...failReasons, ...incompleteReasons, ...info] };
+    return {
+      verdict: 'insufficient-sample',
+      reasons: [why, ...(deviationReason ? [deviationReason] : []), ...failReasons, ...incompleteReasons, ...info],
+    };
   }
   if (!runsEnded) {
-    const head = `Run${pe.runs.length > 1 ? 's' : ''} ${runCodes} at ${fmtH(p.reached)}${notDue.length ? `; read points ${notDue.join(' / ')} h still to come` : ''}.`;
+    const at = pe.runs.map((r) => `${r.runCode} at ${fmtH(r.stressHours)}`).join(' + ');
+    const head = `Run${pe.runs.length > 1 ? 's' : ''} ${at}${notDue.length ? `; read points ${notDue.join(' / ')} h still to come` : ''}.`;
     return { verdict: 'in-progress', reasons: [head, ...failReasons, ...incompleteReasons, sampleReason, ...info] };
   }
   if (dueIncomplete.length) return { verdict: 'incomplete', reasons: [...incompleteReasons, ...failReasons, sampleReason, ...info] };

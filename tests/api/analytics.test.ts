@@ -249,7 +249,14 @@ describe('demo history', () => {
     // Drifting by its devices' degradation (two peer lots give a prediction interval too wide to judge by).
     expect(c.reasons[0]).toMatch(/^Degradation: Weibull β [\d.]+, η [\d,]+ h from \d+ pseudo-failure times and \d+ suspensions?; [\d.]+ % projected to fail by the plan's 1,000 h, at or above the plan's LTPD of 2\.95 %\.$/);
     const e = res.body.items.find((l: { lotCode: string }) => l.lotCode === 'HG2610-E');
-    expect(e.fails).toBe(2);
+    expect(e.verdict).toBe('failed');
+    const b = res.body.items.find((l: { lotCode: string }) => l.lotCode === 'HG2611-B');
+    expect(b.reasons[0]).toBe('Read point 1,000 h: 4 of 77 devices not accounted for (4 no reading or disposition).');
+    const f = res.body.items.find((l: { lotCode: string }) => l.lotCode === 'HG2608-F');
+    expect(f.reasons[0]).toMatch(/^48 of 77 devices: at 90 % confidence, 0 failures in 48 demonstrate an LTPD of 4\.68 %, not the plan's 2\.95 %\.$/);
+    const a = await mgr.get(`/api/analytics/lots/${res.body.items.find((l: { lotCode: string }) => l.lotCode === 'HG2611-A').lotId}`);
+    expect(a.body.plans[0].runs).toHaveLength(2);
+    expect(a.body.plans[0].sample.booked).toBe(77);
   }, 60_000);
 });
 

@@ -61,11 +61,28 @@ export function device(i: number, hours: number[], over: Partial<DeviceEvidence>
   };
 }
 
-export function planEvidence(n: number, over: { plan?: Partial<PlanConditions>; state?: string; stressHours?: number; devices?: DeviceEvidence[]; deviation?: PlanEvidence['deviation'] } = {}): PlanEvidence {
+export function planEvidence(
+  n: number,
+  over: {
+    plan?: Partial<PlanConditions>;
+    state?: string;
+    stressHours?: number;
+    devices?: DeviceEvidence[];
+    deviation?: PlanEvidence['deviation'];
+  } = {},
+): PlanEvidence {
   const plan = planConditions(over.plan);
   return {
     plan,
-    runs: [{ runId: 'run-1', runCode: 'R-0001', rigCode: 'OV-01', state: over.state ?? 'finished', stressHours: over.stressHours ?? plan.durationH }],
+    runs: [
+      {
+        runId: 'run-1',
+        runCode: 'R-0001',
+        rigCode: 'OV-01',
+        state: over.state ?? 'finished',
+        stressHours: over.stressHours ?? plan.durationH,
+      },
+    ],
     deviation: over.deviation ?? null,
     devices: over.devices ?? Array.from({ length: n }, (_, i) => device(i, plan.readPointsH)),
   };
@@ -73,7 +90,16 @@ export function planEvidence(n: number, over: { plan?: Partial<PlanConditions>; 
 
 export function lotEvidence(plans: PlanEvidence[], over: Partial<LotEvidence['lot']> = {}): LotEvidence {
   return {
-    lot: { id: 'lot-1', code: 'HPD-L-001', partNumber: 'HPD-2N100', deviceTypeId: 'type-1', dateCode: '2614', productionDate: '2026-03-30', productionDateSource: 'recorded', ...over },
+    lot: {
+      id: 'lot-1',
+      code: 'HPD-L-001',
+      partNumber: 'HPD-2N100',
+      deviceTypeId: 'type-1',
+      dateCode: '2614',
+      productionDate: '2026-03-30',
+      productionDateSource: 'recorded',
+      ...over,
+    },
     gainReference: { referenceC: 25, xtb: 1.5 },
     plans,
   };

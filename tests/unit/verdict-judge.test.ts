@@ -22,7 +22,9 @@ describe('sample against the plan', () => {
     const j = judgeLot(lotEvidence([planEvidence(64)]), []);
     expect(j.verdict).toBe('insufficient-sample');
     // [REFERENCE.md A1] n 64, c 0, 90 % → 3.5 % (3.53 %); the plan's 77 → 2.95 %
-    expect(j.reasons[0]).toBe('64 of 77 devices: at 90 % confidence, 0 failures in 64 demonstrate an LTPD of 3.53 %, not the plan\'s 2.95 %. No sample deviation is recorded.');
+    expect(j.reasons[0]).toBe(
+      "64 of 77 devices: at 90 % confidence, 0 failures in 64 demonstrate an LTPD of 3.53 %, not the plan's 2.95 %. No sample deviation is recorded.",
+    );
   });
 
   test('a recorded deviation says what the sample demonstrates and passes only when it meets the plan', () => {
@@ -42,7 +44,10 @@ describe('sample against the plan', () => {
       { runId: 'run-a', runCode: 'R-0001', rigCode: 'OV-01', state: 'finished', stressHours: 1000 },
       { runId: 'run-b', runCode: 'R-0002', rigCode: 'OV-02', state: 'finished', stressHours: 1000 },
     ];
-    pe.devices = [...Array.from({ length: 64 }, (_, i) => device(i, HOURS, {}, 'run-a')), ...Array.from({ length: 13 }, (_, i) => device(i, HOURS, {}, 'run-b'))];
+    pe.devices = [
+      ...Array.from({ length: 64 }, (_, i) => device(i, HOURS, {}, 'run-a')),
+      ...Array.from({ length: 13 }, (_, i) => device(i, HOURS, {}, 'run-b')),
+    ];
     const j = judgeLot(lotEvidence([pe]), []);
     expect(j.verdict).toBe('passed');
     expect(j.plans[0].sample.booked).toBe(77);
@@ -72,10 +77,33 @@ describe('completeness', () => {
     expect(j.plans[0].readPoints.find((r) => r.hours === 500)!.due).toBe(false);
   });
 
+  test('a split sample: a read point is due only when every run has reached it', () => {
+    const pe = planEvidence(0, { plan: { sampleSize: 20 } });
+    pe.runs = [
+      { runId: 'run-a', runCode: 'R-0001', rigCode: 'OV-01', state: 'stressing', stressHours: 520 },
+      { runId: 'run-b', runCode: 'R-0002', rigCode: 'OV-02', state: 'stressing', stressHours: 400 },
+    ];
+    pe.devices = [
+      ...Array.from({ length: 10 }, (_, i) => device(i, [0, 168, 500], {}, 'run-a')),
+      ...Array.from({ length: 10 }, (_, i) => device(i, [0, 168], {}, 'run-b')),
+    ];
+    const j = judgeLot(lotEvidence([pe]), []);
+    expect(j.plans[0].readPoints.map((r) => [r.hours, r.due, r.complete])).toEqual([
+      [0, true, true],
+      [168, true, true],
+      [500, false, false],
+      [1000, false, false],
+    ]);
+    expect(j.verdict).toBe('in-progress');
+    expect(j.reasons[0]).toBe('Runs R-0001 at 520 h + R-0002 at 400 h; read points 500 / 1000 h still to come.');
+  });
+
   test('a lost device is accounted for but leaves the sample (76 of 77 → insufficient sample)', () => {
     const pe = planEvidence(77);
     pe.devices[3].readings = pe.devices[3].readings.filter((r) => r.readPointH < 500);
-    pe.devices[3].dispositions = [{ kind: 'lost', readPointH: 500, reason: 'dropped at unload', by: 'Operator One', at: '2026-05-02T08:00:00Z' }];
+    pe.devices[3].dispositions = [
+      { kind: 'lost', readPointH: 500, reason: 'dropped at unload', by: 'Operator One', at: '2026-05-02T08:00:00Z' },
+    ];
     const j = judgeLot(lotEvidence([pe]), []);
     expect(j.plans[0].readPoints.every((r) => r.complete)).toBe(true);
     expect(j.verdict).toBe('insufficient-sample');
@@ -85,16 +113,23 @@ describe('completeness', () => {
 
   test('a reading measured under other conditions is not judged until confirmed', () => {
     const flagged = planEvidence(77);
-    flagged.devices[0].readings[3] = reading(1000, { hfe: 60, measuredC: 35, conditionDifferences: ['measured at 35 °C, time zero at 25 °C'] });
+    flagged.devices[0].readings[3] = reading(1000, {
+      hfe: 60,
+      measuredC: 35,
+      conditionDifferences: ['measured at 35 °C, time zero at 25 °C'],
+    });
     const j = judgeLot(lotEvidence([flagged]), []);
     expect(j.verdict).toBe('incomplete');
     expect(j.plans[0].readPoints[3].awaitingConfirmation).toBe(1);
-    flagged.devices[0].readings[3].confirmed = { by: 'Engineer One', at: '2026-05-03T08:00:00Z', note: 'handler set to 35 °C by mistake, value stands' };
+    flagged.devices[0].readings[3].confirmed = {
+      by: 'Engineer One',
+      at: '2026-05-03T08:00:00Z',
+      note: 'handler set to 35 °C by mistake, value stands',
+    };
     const confirmed = judgeLot(lotEvidence([flagged]), []);
     // hFE 60 at 35 °C referred to 25 °C with XTB 1.5: 60/(308.15/298.15)^1.5 = 57.1, −42.9 % → failure
     expect(confirmed.verdict).toBe('failed');
   });
-
 });
 
 describe('failures', () => {
@@ -117,27 +152,46 @@ describe('failures', () => {
     d.trip = { atH: 250, at: '2026-04-20T00:00:00Z', reason: 'leakage runaway' };
     const undecided = judgeLot(lotEvidence([pe]), []);
     expect(undecided.verdict).toBe('incomplete');
-    expect(undecided.plans[0].devices[7].missing[0]).toEqual({ hours: 500, why: 'socket tripped at 250 h; failure, re-seat or exclusion not yet recorded' });
-    d.dispositions = [{ kind: 'trip-failure', readPointH: 500, reason: 'collector-base short', by: 'Engineer One', at: '2026-04-21T00:00:00Z' }];
+    expect(undecided.plans[0].devices[7].missing[0]).toEqual({
+      hours: 500,
+      why: 'socket tripped at 250 h; failure, re-seat or exclusion not yet recorded',
+    });
+    d.dispositions = [
+      { kind: 'trip-failure', readPointH: 500, reason: 'collector-base short', by: 'Engineer One', at: '2026-04-21T00:00:00Z' },
+    ];
     const failed = judgeLot(lotEvidence([pe]), []);
     expect(failed.verdict).toBe('failed');
     expect(failed.plans[0].devices[7].failedAtH).toBe(500);
     // FIT exposure from each device's credited hours: 76 × 1000 h + 250 h, not 77 × 1000 h
     expect(failed.plans[0].exposure.deviceHours).toBe(76 * 1000 + 250);
-    d.dispositions = [{ kind: 'reseated', readPointH: 500, reason: 'contact spring bent, re-seated', by: 'Operator One', at: '2026-04-21T00:00:00Z' }];
+    d.dispositions = [
+      { kind: 'reseated', readPointH: 500, reason: 'contact spring bent, re-seated', by: 'Operator One', at: '2026-04-21T00:00:00Z' },
+    ];
     d.readings = HOURS.map((h) => reading(h));
     expect(judgeLot(lotEvidence([pe]), []).verdict).toBe('passed');
   });
 
   test('data-sheet limits: BVCEO below its minimum fails, and the words name the limit', () => {
-    const limits = { hfeMin: 40, hfeMax: 250, icboMaxA: 50e-9, vcesatMaxV: null, bvceoMinV: 80, atC: 25, hfeIcA: 0.15, hfeVceV: 5, icboVcbV: 60 };
+    const limits = {
+      hfeMin: 40,
+      hfeMax: 250,
+      icboMaxA: 50e-9,
+      vcesatMaxV: null,
+      bvceoMinV: 80,
+      atC: 25,
+      hfeIcA: 0.15,
+      hfeVceV: 5,
+      icboVcbV: 60,
+    };
     const pe = planEvidence(77, { plan: { criteria: { ...planConditions().criteria, limits } } });
     pe.devices[2].readings[3] = reading(1000, { bvceoV: 72 });
     const j = judgeLot(lotEvidence([pe]), []);
     expect(j.verdict).toBe('failed');
     expect(j.plans[0].devices[2].failedBecause).toEqual(["BVCEO 72 V below the data sheet's 80 V (25 °C) at 1,000 h"]);
     pe.devices[2].readings[3] = reading(1000, { icboA: 60e-9 });
-    expect(judgeLot(lotEvidence([pe]), []).plans[0].devices[2].failedBecause).toEqual(["ICBO 60 nA above the data sheet's 50 nA (VCB 60 V, 25 °C) at 1,000 h"]);
+    expect(judgeLot(lotEvidence([pe]), []).plans[0].devices[2].failedBecause).toEqual([
+      "ICBO 60 nA above the data sheet's 50 nA (VCB 60 V, 25 °C) at 1,000 h",
+    ]);
   });
 });
 
@@ -219,9 +273,16 @@ describe('degradation per device', () => {
     [-3.1, -9.0, -18.4],
   ];
   const evidence = (extraSurvivors = 0) => {
-    const devices = paths.map((p, i) => device(i, HOURS, { readings: HOURS.map((h, k) => reading(h, { hfe: k === 0 ? 100 : 100 * (1 + p[k - 1] / 100) })) }));
+    const devices = paths.map((p, i) =>
+      device(i, HOURS, { readings: HOURS.map((h, k) => reading(h, { hfe: k === 0 ? 100 : 100 * (1 + p[k - 1] / 100) })) }),
+    );
     for (let i = 0; i < extraSurvivors; i++) devices.push(device(5 + i, HOURS));
-    return lotEvidence([planEvidence(0, { devices, plan: { sampleSize: devices.length, criteria: { hfeChangePct: 20, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 } } })]);
+    return lotEvidence([
+      planEvidence(0, {
+        devices,
+        plan: { sampleSize: devices.length, criteria: { hfeChangePct: 20, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 } },
+      }),
+    ]);
   };
 
   test('pseudo-failure time per device', () => {
@@ -254,11 +315,23 @@ describe('degradation per device', () => {
   test('a lot projected to lose more than its LTPD by the target life is drifting', () => {
     // 77 devices following the five paths in turn: every device within ±20 % at 1,000 h, yet the
     // fitted life puts ~12 % of them past the limit by 1,000 h, above the plan's 2.95 % LTPD
-    const devices = Array.from({ length: 77 }, (_, i) => device(i, HOURS, { readings: HOURS.map((h, k) => reading(h, { hfe: k === 0 ? 100 : 100 * (1 + paths[i % 5][k - 1] / 100) })) }));
-    const j = judgeLot(lotEvidence([planEvidence(0, { devices, plan: { criteria: { hfeChangePct: 20, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 } } })]), []);
+    const devices = Array.from({ length: 77 }, (_, i) =>
+      device(i, HOURS, { readings: HOURS.map((h, k) => reading(h, { hfe: k === 0 ? 100 : 100 * (1 + paths[i % 5][k - 1] / 100) })) }),
+    );
+    const j = judgeLot(
+      lotEvidence([
+        planEvidence(0, {
+          devices,
+          plan: { criteria: { hfeChangePct: 20, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 } },
+        }),
+      ]),
+      [],
+    );
     expect(j.plans[0].devices.every((d) => d.status === 'pass')).toBe(true);
     expect(j.verdict).toBe('drifting');
-    expect(j.reasons[0]).toMatch(/^Degradation: Weibull β [\d.]+, η [\d,]+ h from 77 pseudo-failure times and 0 suspensions; 1\d\.\d % projected to fail by the plan's 1,000 h, at or above the plan's LTPD of 2\.95 %\.$/);
+    expect(j.reasons[0]).toMatch(
+      /^Degradation: Weibull β [\d.]+, η [\d,]+ h from 77 pseudo-failure times and 0 suspensions; 1\d\.\d % projected to fail by the plan's 1,000 h, at or above the plan's LTPD of 2\.95 %\.$/,
+    );
   });
 
   test('five degrading devices of five: 12.6 % by 1,000 h is below the 36.9 % that 5 devices demonstrate, so not drifting', () => {
@@ -274,7 +347,9 @@ describe('degradation without a Weibull fit', () => {
     // −20 % per 1,000 h, measured to 500 h, limit ±15 %: each path through the origin reaches −15 % at
     // 750 h [NIST/SEMATECH e-Handbook §8.4.2.3 method; hand calculation 15/20 × 1,000 h]
     const hours = [0, 168, 500];
-    const devices = Array.from({ length: 10 }, (_, i) => device(i, hours, { readings: hours.map((h) => reading(h, { hfe: 100 * (1 - (20 * h) / 1000 / 100) })) }));
+    const devices = Array.from({ length: 10 }, (_, i) =>
+      device(i, hours, { readings: hours.map((h) => reading(h, { hfe: 100 * (1 - (20 * h) / 1000 / 100) })) }),
+    );
     const pe = planEvidence(0, { devices, plan: { sampleSize: 10 }, state: 'stressing', stressHours: 560 });
     const j = judgeLot(lotEvidence([pe]), []);
     const deg = j.plans[0].degradation;
@@ -283,14 +358,20 @@ describe('degradation without a Weibull fit', () => {
     expect(deg.projectedBy).toBe('share of devices');
     expect(deg.projectedFraction).toBe(1);
     expect(j.verdict).toBe('drifting');
-    expect(j.reasons[0]).toMatch(/10 of 10 devices projected to reach a limit by the plan's 1,000 h \(100 %\), at or above the plan's LTPD of 20\.6 %\.$/);
+    expect(j.reasons[0]).toMatch(
+      /10 of 10 devices projected to reach a limit by the plan's 1,000 h \(100 %\), at or above the plan's LTPD of 20\.6 %\.$/,
+    );
   });
 });
 
 describe('several plans', () => {
   test('each plan judged, the combined verdict is the worst', () => {
     const htrb = planEvidence(77);
-    const hotl = planEvidence(77, { plan: { planId: 'plan-2', name: 'Operating life 1,000 h', kind: 'hotl', chamberC: 25 }, state: 'stressing', stressHours: 300 });
+    const hotl = planEvidence(77, {
+      plan: { planId: 'plan-2', name: 'Operating life 1,000 h', kind: 'hotl', chamberC: 25 },
+      state: 'stressing',
+      stressHours: 300,
+    });
     const j = judgeLot(lotEvidence([htrb, hotl]), []);
     expect(j.plans.map((p) => p.verdict)).toEqual(['passed', 'in-progress']);
     expect(j.verdict).toBe('in-progress');

@@ -26,7 +26,12 @@ describe('demonstratedLtpd (exact binomial)', () => {
   });
 
   test('agrees with jstat beta.inv and solves BinomCDF(c; n, p) = 1 − CL', () => {
-    for (const [n, c] of [[45, 0], [116, 2], [231, 0], [30, 5]]) {
+    for (const [n, c] of [
+      [45, 0],
+      [116, 2],
+      [231, 0],
+      [30, 5],
+    ]) {
       const p = demonstratedLtpd({ sampleSize: n, acceptNumber: c, confidence: 0.9 });
       // [jstat beta.inv] the one-sided Clopper–Pearson bound
       expect(p).toBeCloseTo(jStat.beta.inv(0.9, c + 1, n - c), 12);
@@ -63,7 +68,12 @@ describe('predictionInterval', () => {
 
   test('exact 99.73 % factor t·√(1 + 1/m)', () => {
     // [REFERENCE.md A2] 22.18 (m 3), 7.25 (5), 4.29 (10), 3.41 (25)
-    for (const [m, factor] of [[3, 22.18], [5, 7.25], [10, 4.29], [25, 3.41]]) {
+    for (const [m, factor] of [
+      [3, 22.18],
+      [5, 7.25],
+      [10, 4.29],
+      [25, 3.41],
+    ]) {
       const values = Array.from({ length: m }, (_, i) => (i % 2 === 0 ? 1 : -1) * (1 + i));
       const pi = predictionInterval({ values, confidence: 0.9973 });
       expect((pi.upper - pi.mean) / pi.sd).toBeCloseTo(factor, 1);

@@ -4,62 +4,16 @@
  * and the coverage of each read point. docs/verdict-evidence.md describes the tables.
  */
 import type { EntityManager } from 'typeorm';
-import { DISPOSITION_LABEL, readPointCoverage, type DispositionKind, type MeasurementResult } from '../../../shared/evidence';
+import { DISPOSITION_LABEL, readPointCoverage, type MeasurementResult } from '../../../shared/evidence';
 import type { Disposition, EvidenceDevice, EvidenceReading, ReadPointCoverageView, SampleEvidence } from '../../../shared/schemas/evidence';
 import { RunEntity, SampleEntity, StressPlanEntity, UserEntity } from '../../db/entities';
 import { notFound } from '../../http/errors';
 
-const iso = (d: Date | null) => (d ? d.toISOString() : null);
+/** A raw SQL row; each reader below converts its columns explicitly. */
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- node-pg rows are untyped; the fields are read and converted one by one
+type SqlRow = Record<string, any>;
 
-/** Rows as PostgreSQL returns them (snake_case; numbers may come back as strings). */
-type Num = number | string;
-interface DispositionRow {
-  id: string;
-  run_id: string;
-  device_id: string;
-  serial: string;
-  lot_code: string;
-  read_point_h: Num;
-  kind: DispositionKind;
-  reason: string;
-  by_name: string;
-  at: Date | string;
-}
-interface ReadingRow {
-  id: string;
-  run_id: string;
-  device_id: string;
-  read_point_h: Num;
-  result: MeasurementResult;
-  hfe: Num | null;
-  hfe_ic_a: Num | null;
-  hfe_vce_v: Num | null;
-  icbo_a: Num | null;
-  icbo_vcb_v: Num | null;
-  vcesat_v: Num | null;
-  bvceo_v: Num | null;
-  measured_c: Num;
-  measured_at: Date | string;
-  late: boolean;
-  conditions_flag: string | null;
-  confirmed_at: Date | string | null;
-  confirmed_by_name: string | null;
-  confirm_reason: string | null;
-}
-interface DeviceRow {
-  run_id: string;
-  run_code: string;
-  rig_code: string | null;
-  device_id: string;
-  serial: string;
-  lot_id: string;
-  lot_code: string;
-  socket_index: Num;
-  accrued_hours: Num;
-  tripped: boolean;
-  tripped_at: Date | string | null;
-  failed_at_h: Num | null;
-}
+const iso = (d: Date | null) => (d ? d.toISOString() : null);
 
 /** A read point counts as reached by a run once its stress hours are within half an hour of it. */
 const REACHED_SLACK_H = 0.5;
@@ -68,7 +22,7 @@ export const readPointReached = (run: Pick<RunEntity, 'stressHours' | 'state'>, 
 
 export async function runDispositions(m: EntityManager, runIds: string[]): Promise<Disposition[]> {
   if (!runIds.length) return [];
-  const rows: DispositionRow[] = await m.query(
+  const rows: SqlRow[] = await m.query(
     `SELECT x.id, x.run_id, x.device_id, d.serial, l.code AS lot_code, x.read_point_h, x.kind, x.reason, x.by_name, x.at
      FROM device_dispositions x JOIN devices d ON d.id = x.device_id JOIN lots l ON l.id = d.lot_id
      WHERE x.run_id = ANY($1) ORDER BY x.at`,
@@ -82,7 +36,7 @@ export async function runDispositions(m: EntityManager, runIds: string[]): Promi
     lotCode: r.lot_code,
     readPointH: Number(r.read_point_h),
     kind: r.kind,
-    kindLabel: DISPOSITION_LABEL[r.kind],
+    kindLabel: DISPOSITION_LABEL[r.kind as keyof typeof DISPOSITION_LABEL],
     reason: r.reason,
     byName: r.by_name,
     at: new Date(r.at).toISOString(),
@@ -91,7 +45,7 @@ export async function runDispositions(m: EntityManager, runIds: string[]): Promi
 
 export async function evidenceReadings(m: EntityManager, runIds: string[]): Promise<EvidenceReading[]> {
   if (!runIds.length) return [];
-  const rows: ReadingRow[] = await m.query(
+  const rows: SqlRow[] = await m.query(
     `SELECT x.*, u.name AS confirmed_by_name FROM measurements x LEFT JOIN users u ON u.id = x.confirmed_by_id
      WHERE x.run_id = ANY($1) ORDER BY x.read_point_h, x.device_id`,
     [runIds],
@@ -102,7 +56,7 @@ export async function evidenceReadings(m: EntityManager, runIds: string[]): Prom
     runId: r.run_id,
     deviceId: r.device_id,
     readPointH: Number(r.read_point_h),
-    result: r.result,
+    result: r.result as MeasurementResult,
     hfe: n(r.hfe),
     hfeIcA: n(r.hfe_ic_a),
     hfeVceV: n(r.hfe_vce_v),
@@ -122,7 +76,7 @@ export async function evidenceReadings(m: EntityManager, runIds: string[]): Prom
 
 export async function evidenceDevices(m: EntityManager, runs: RunEntity[], dispositions: Disposition[]): Promise<EvidenceDevice[]> {
   if (!runs.length) return [];
-  const rows: DeviceRow[] = await m.query(
+  const rows: SqlRow[] = await m.query(
     `SELECT s.run_id, r.code AS run_code, g.code AS rig_code, s.device_id, d.serial, d.lot_id, l.code AS lot_code, s.socket_index,
             s.accrued_hours, s.tripped, s.tripped_at, s.failed_at_h
      FROM run_sockets s JOIN runs r ON r.id = s.run_id LEFT JOIN rigs g ON g.id = r.rig_id
@@ -205,14 +159,7 @@ export async function loadSampleEvidence(m: EntityManager, sampleId: string): Pr
     bookedSize: sample.bookedSize,
     loadedSize: devices.length,
     deviation: sample.deviationReason ? { reason: sample.deviationReason, byName: by?.name ?? null, at: iso(sample.deviationAt)! } : null,
-    runs: runs.map((r) => ({
-      id: r.id,
-      code: r.code,
-      rigCode: r.rigId ? (rigCode.get(r.rigId) ?? null) : null,
-      sampleSize: r.sampleSize,
-      state: r.state,
-      stressHours: r.stressHours,
-    })),
+    runs: runs.map((r) => ({ id: r.id, code: r.code, rigCode: r.rigId ? (rigCode.get(r.rigId) ?? null) : null, sampleSize: r.sampleSize, state: r.state, stressHours: r.stressHours })),
     readPointsH,
     devices,
     coverage: coverageOf(runs, readPointsH, devices, readings, dispositions),
@@ -228,3 +175,4 @@ export async function lotSampleIds(m: EntityManager, lotId: string): Promise<str
   );
   return rows.map((r) => r.sample_id);
 }
+
