@@ -5,6 +5,7 @@ import type { DbConfig } from '../config';
 import { dbConfigFromEnv } from '../config';
 import { ENTITIES } from './entities';
 import { SnakeNamingStrategy } from './naming';
+import { ParameterFreeLogger } from './safe-logger';
 
 export function createDataSource(db: DbConfig, opts: { runMigrations?: boolean; poolSize?: number } = {}): DataSource {
   return new DataSource({
@@ -24,6 +25,7 @@ export function createDataSource(db: DbConfig, opts: { runMigrations?: boolean; 
     installExtensions: false,
     extra: { max: opts.poolSize ?? 20 },
     logging: ['error'],
+    logger: new ParameterFreeLogger(),
   });
 }
 

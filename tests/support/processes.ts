@@ -178,6 +178,8 @@ export function stackEnv(db: DbConfig, ports: StackPorts, extra: Env = {}): Env 
     EMBERLOT_PG_PORT: String(db.port),
     EMBERLOT_WEB_DIR: '',
     EMBERLOT_UPLOAD_DIR: path.join(PROJECT_ROOT, '.data', 'faults-uploads'),
+    // The session secret (not given here) is generated into this stack's own file.
+    EMBERLOT_SECRETS_FILE: path.join(PROJECT_ROOT, '.data', 'faults-secrets.json'),
     ...extra,
   };
 }
