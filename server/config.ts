@@ -4,7 +4,7 @@
  * read it; the built-in fallbacks below serve in-process tests only and are refused off loopback.
  */
 import * as net from 'node:net';
-import { LOOPBACK_ONLY_SECRETS, type Env } from './secrets';
+import { ConfigError, LOOPBACK_ONLY_SECRETS, type Env } from './secrets';
 
 export type { Env };
 
@@ -59,7 +59,7 @@ export function parseTrustProxy(value: string | undefined): TrustProxy {
   if (!v || /^(0|false|off|no)$/i.test(v)) return false;
   if (/^\d+$/.test(v)) return Number(v);
   if (/^(true|yes|on|\*)$/i.test(v)) {
-    throw new Error(
+    throw new ConfigError(
       `EMBERLOT_TRUST_PROXY=${v} would trust X-Forwarded-For from any client, who could then pick its own address. Give the number of proxies in front of Emberlot (e.g. 1) or their addresses (e.g. loopback or 10.0.0.5).`,
     );
   }
@@ -70,7 +70,7 @@ export function parseTrustProxy(value: string | undefined): TrustProxy {
     const ok = PROXY_RANGE_NAMES.has(item) ||
       (family !== 0 && rest.length === 0 && (bits === undefined || (/^\d+$/.test(bits) && Number(bits) <= (family === 4 ? 32 : 128))));
     if (!ok) {
-      throw new Error(
+      throw new ConfigError(
         `EMBERLOT_TRUST_PROXY: "${item}" is not a proxy address, subnet (a.b.c.d/n) or one of ${[...PROXY_RANGE_NAMES].join(', ')}.`,
       );
     }
@@ -89,7 +89,7 @@ export function parsePublicOrigins(value: string | undefined): string[] {
       u = null;
     }
     if (!u || (u.protocol !== 'http:' && u.protocol !== 'https:') || u.pathname !== '/' || u.search || u.hash) {
-      throw new Error(`EMBERLOT_PUBLIC_ORIGIN: "${item}" is not an origin like https://emberlot.lab.example (scheme, host and port only).`);
+      throw new ConfigError(`EMBERLOT_PUBLIC_ORIGIN: "${item}" is not an origin like https://emberlot.lab.example (scheme, host and port only).`);
     }
     out.push(u.origin.toLowerCase());
   }

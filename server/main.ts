@@ -6,7 +6,7 @@ import { createContext } from './context';
 import { createDataSource } from './db/data-source';
 import { describeErrorForLog } from './db/safe-logger';
 import { startFeatures } from './features';
-import { refuseWeakSecretsOffLoopback, withSecrets } from './secrets';
+import { ConfigError, refuseWeakSecretsOffLoopback, withSecrets } from './secrets';
 
 /** The API process: migrations, then HTTP (+ web export), MQTT ingest and the scheduler. */
 async function main() {
@@ -42,6 +42,6 @@ async function main() {
 }
 
 main().catch((err) => {
-  console.error(`[api] failed to start: ${describeErrorForLog(err)}`);
+  console.error(`[api] failed to start: ${err instanceof ConfigError ? err.message : describeErrorForLog(err)}`);
   process.exit(1);
 });

@@ -15,6 +15,11 @@ import * as path from 'node:path';
 
 export type Env = Record<string, string | undefined>;
 
+/** A setting that keeps a process from starting: printed as its message alone, no stack trace. */
+export class ConfigError extends Error {
+  override name = 'ConfigError';
+}
+
 /** Each secret's environment variable. */
 export const SECRET_ENV = {
   sessionSecret: 'EMBERLOT_SESSION_SECRET',
@@ -59,7 +64,7 @@ function readFile(file: string): Partial<Record<SecretName, string>> {
   try {
     raw = JSON.parse(fs.readFileSync(file, 'utf8'));
   } catch (e) {
-    throw new Error(`The secrets file ${file} cannot be read as JSON (${e instanceof Error ? e.message : e}). Fix or delete it (a new one is generated; signed-in users must sign in again).`);
+    throw new ConfigError(`The secrets file ${file} cannot be read as JSON (${e instanceof Error ? e.message : e}). Fix or delete it (a new one is generated; signed-in users must sign in again).`);
   }
   const out: Partial<Record<SecretName, string>> = {};
   if (raw && typeof raw === 'object') {
@@ -160,7 +165,7 @@ export function refuseWeakSecretsOffLoopback(what: string, host: string, secrets
     return v === LOOPBACK_ONLY_SECRETS[n] || v.length < MIN_SECRET_LENGTH;
   });
   if (!weak.length) return;
-  throw new Error(
+  throw new ConfigError(
     `Refusing to start ${what} on ${host}: ${weak.map((n) => SECRET_ENV[n]).join(', ')} ${weak.length === 1 ? 'is' : 'are'} ` +
       `built into the source or shorter than ${MIN_SECRET_LENGTH} characters. Set strong values in the environment, or unset ` +
       `them so that Emberlot generates its own in ${secretsFilePath()} (README, "Production settings"). On 127.0.0.1 the built-in values are allowed.`,
