@@ -97,6 +97,13 @@ it('a form auto-submitted from another port of 127.0.0.1, with the admin\'s cook
 }, 60_000);
 
 it('a multipart upload fetched from the other port (no-cors, with credentials) is refused and stores nothing', async () => {
+  // The engineer may add serials: signed in as the engineer, the refusal can only come from the origin check.
+  await page.goto(`${apiUrl}/api/health`);
+  const signIn = await page.evaluate(async ([email, password]) => {
+    const r = await fetch('/api/auth/sign-in', { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email, password }) });
+    return r.status;
+  }, [emailFor('engineer'), TEST_PASSWORD]);
+  expect(signIn).toBe(200);
   const before = await tableCounts(t.ctx.ds);
   seen.length = 0;
   await page.goto(`${evilUrl}/`);
@@ -115,7 +122,6 @@ it('a multipart upload fetched from the other port (no-cors, with credentials) i
 }, 60_000);
 
 it('a file named "Prüfung Los Ä-Ø №7.csv" uploaded by the browser is stored under that name', async () => {
-  // The admin may not add serials: sign in as the engineer on the app's own origin.
   await page.goto(`${apiUrl}/api/health`);
   const name = 'Prüfung Los Ä-Ø №7.csv';
   await page.setContent(`<input type="file" id="csv">`);
