@@ -6,6 +6,7 @@ import { dbConfigFromEnv } from '../config';
 import { ENTITIES } from './entities';
 import { SnakeNamingStrategy } from './naming';
 import { ParameterFreeLogger } from './safe-logger';
+import { withSecrets } from '../secrets';
 
 export function createDataSource(db: DbConfig, opts: { runMigrations?: boolean; poolSize?: number } = {}): DataSource {
   return new DataSource({
@@ -29,5 +30,14 @@ export function createDataSource(db: DbConfig, opts: { runMigrations?: boolean; 
   });
 }
 
-/** Used by the TypeORM CLI (migration:generate) only. */
-export default createDataSource(dbConfigFromEnv(), { runMigrations: false });
+/** The generated secrets file, read only (never created) and only when it can be read. */
+function cliEnv(): NodeJS.ProcessEnv {
+  try {
+    return { ...process.env, ...withSecrets(process.env, { create: false }).env };
+  } catch {
+    return process.env;
+  }
+}
+
+/** Used by the TypeORM CLI (migration:generate) only: the demo cluster's generated password. */
+export default createDataSource(dbConfigFromEnv(cliEnv()), { runMigrations: false });
