@@ -86,7 +86,7 @@ describe('GET /api/floor', () => {
   it('one tile per rig from the seeded rows', async () => {
     const res = await (await t.signIn('operator')).get('/api/floor');
     expect(res.status).toBe(200);
-    const [a, b] = res.body.items as FloorTile[];
+    const [a, b]: FloorTile[] = res.body.items;
     expect(a).toMatchObject({
       code: 'OV-81',
       online: true,
@@ -107,10 +107,10 @@ describe('GET /api/floor', () => {
 
   it('a socket tripped in the newest message and latched by the run counts once', async () => {
     const m = t.ctx.ds.manager;
-    const [tile] = (await (await t.signIn('operator')).get('/api/floor')).body.items as FloorTile[];
+    const [tile]: FloorTile[] = (await (await t.signIn('operator')).get('/api/floor')).body.items;
     await m.update(RunSocketEntity, { runId: tile.run!.id, socketIndex: 9 }, { tripped: true, trippedAt: new Date(), tripReason: 'Case above runaway limit' });
     try {
-      const [again] = (await (await t.signIn('operator')).get('/api/floor')).body.items as FloorTile[];
+      const [again]: FloorTile[] = (await (await t.signIn('operator')).get('/api/floor')).body.items;
       expect(again).toMatchObject({ code: 'OV-81', tripped: 2, powered: 9, empty: 6 }); // sockets 3 and 9, as before
     } finally {
       await m.update(RunSocketEntity, { runId: tile.run!.id, socketIndex: 9 }, { tripped: false, trippedAt: null, tripReason: null });

@@ -18,7 +18,7 @@ import { DEFAULT_PROTECTION_OPTIONS, SocketTrend, assessTrend, judgeTrend, type 
 // From the modules themselves, not shared/mqtt's index: its re-exports compile to one shared keyed
 // getter, which V8 does not inline (it was ~4 % of the ingest's CPU in the per-socket loops).
 import { FLAG_BIAS_ON, FLAG_TRIPPED, MAX_SOCKETS } from '../../../shared/mqtt/payloads';
-import type { AlarmKindName } from '../../../shared/schemas/alarms';
+import { isAlarmKind, type AlarmKindName } from '../../../shared/schemas/alarms';
 import type { AppContext } from '../../context';
 import { RunSocketEntity } from '../../db/entities';
 import { getAlarmsService, dedupeKeyFor, type RaiseAlarmInput } from '../alarms/alarms.service';
@@ -209,6 +209,7 @@ export class ProtectionMonitor {
   private readonly pending = new Set<Promise<unknown>>();
   /** Dedupe keys of conditions this monitor believes active → last refresh (ms). */
   private readonly active = new ActiveConditions();
+  // eslint-disable-next-line @typescript-eslint/no-explicit-any -- untyped EventEmitter listeners until the typed event bus (issue #17 item 2)
   private readonly listeners: Array<[string, (...a: any[]) => void]> = [];
   private started = false;
   readonly stats = { messages: 0, staleSkipped: 0, assessments: 0, trips: 0, tripSendFailures: 0, warnings: 0, errors: 0 };
@@ -235,6 +236,7 @@ export class ProtectionMonitor {
     // Conditions still active from before a restart, so they can clear when seen healthy again.
     const kinds: AlarmKindName[] = ['runaway-warning', 'runaway-trip', 'rig-offline', 'ambient-out-of-band', 'bias-out-of-tolerance', 'leakage-jump'];
     for (const a of await this.alarms.activeKeys(kinds)) this.active.set(a.key, 0);
+    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- untyped EventEmitter listeners until the typed event bus (issue #17 item 2)
     const on = (event: string, fn: (...a: any[]) => void) => {
       this.ctx.events.on(event, fn);
       this.listeners.push([event, fn]);
@@ -373,8 +375,8 @@ export class ProtectionMonitor {
     }
     for (const key of [...this.active.keys()]) {
       const [kind, keyRig, socket] = key.split(':');
-      if (keyRig !== rigId || !kinds.includes(kind as AlarmKindName)) continue;
-      await this.clear(kind as AlarmKindName, rigId, socket === '-' ? null : Number(socket), { runState: to });
+      if (keyRig !== rigId || !isAlarmKind(kind) || !kinds.includes(kind)) continue;
+      await this.clear(kind, rigId, socket === '-' ? null : Number(socket), { runState: to });
     }
   }
 

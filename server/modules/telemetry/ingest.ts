@@ -75,7 +75,6 @@ const EXCERPT_CHARS = 300;
 /** A printable, bounded excerpt of a refused payload. */
 export function excerptOf(payload: Buffer | string): string {
   const text = typeof payload === 'string' ? payload : payload.subarray(0, EXCERPT_CHARS * 4).toString('utf8');
-  // eslint-disable-next-line no-control-regex
   const clean = text.replace(/[\u0000-\u0008\u000b-\u001f\u007f]/g, '?');
   const size = typeof payload === 'string' ? payload.length : payload.byteLength;
   return clean.length > EXCERPT_CHARS ? `${clean.slice(0, EXCERPT_CHARS)}… (${size} bytes)` : clean;
