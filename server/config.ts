@@ -82,7 +82,7 @@ export function parseTrustProxy(value: string | undefined): TrustProxy {
 export function parsePublicOrigins(value: string | undefined): string[] {
   const out: string[] = [];
   for (const item of (value ?? '').split(',').map((x) => x.trim()).filter(Boolean)) {
-    let u: URL | null = null;
+    let u: URL | null;
     try {
       u = new URL(item);
     } catch {
