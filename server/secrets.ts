@@ -64,7 +64,9 @@ function readFile(file: string): Partial<Record<SecretName, string>> {
   try {
     raw = JSON.parse(fs.readFileSync(file, 'utf8'));
   } catch (e) {
-    throw new ConfigError(`The secrets file ${file} cannot be read as JSON (${e instanceof Error ? e.message : e}). Fix or delete it (a new one is generated; signed-in users must sign in again).`);
+    throw new ConfigError(
+      `The secrets file ${file} cannot be read as JSON (${e instanceof Error ? e.message : e}). Fix or delete it (a new one is generated; signed-in users must sign in again).`,
+    );
   }
   const out: Partial<Record<SecretName, string>> = {};
   if (raw && typeof raw === 'object') {
@@ -79,7 +81,15 @@ function readFile(file: string): Partial<Record<SecretName, string>> {
 /** Write all of `values` to `file`, mode 0600, whole or not at all. `exclusive`: only when no file exists yet. */
 function writeFile(file: string, values: Record<SecretName, string>, exclusive: boolean): boolean {
   const tmp = `${file}.${process.pid}.${randomBytes(4).toString('hex')}.tmp`;
-  const body = JSON.stringify({ ...values, note: 'Emberlot secrets, generated on first start. Keep private (mode 0600); environment variables of the same purpose take precedence.' }, null, 2) + '\n';
+  const body =
+    JSON.stringify(
+      {
+        ...values,
+        note: 'Emberlot secrets, generated on first start. Keep private (mode 0600); environment variables of the same purpose take precedence.',
+      },
+      null,
+      2,
+    ) + '\n';
   fs.writeFileSync(tmp, body, { mode: 0o600, flag: 'wx' });
   try {
     if (exclusive) {
@@ -146,7 +156,10 @@ function tightenMode(file: string, fix: boolean): void {
 
 /** 127.0.0.0/8, ::1 and `localhost`: reachable from this machine only. */
 export function isLoopbackHost(host: string): boolean {
-  const h = host.trim().toLowerCase().replace(/^\[(.*)\]$/, '$1');
+  const h = host
+    .trim()
+    .toLowerCase()
+    .replace(/^\[(.*)\]$/, '$1');
   if (h === 'localhost') return true;
   if (net.isIPv4(h)) return h.startsWith('127.');
   if (net.isIPv6(h)) return h === '::1' || /^::ffff:127\./.test(h);

@@ -15,7 +15,8 @@ export function describeErrorForLog(err: unknown): string {
 }
 
 /** pg's DatabaseError carries the SQL state in `code` (five characters) and a `severity`. */
-const isDriverError = (e: object) => typeof (e as { severity?: unknown }).severity === 'string' && /^[0-9A-Z]{5}$/.test(String((e as { code?: unknown }).code));
+const isDriverError = (e: object) =>
+  typeof (e as { severity?: unknown }).severity === 'string' && /^[0-9A-Z]{5}$/.test(String((e as { code?: unknown }).code));
 
 const str = (v: unknown) => (typeof v === 'string' && v ? v : undefined);
 

@@ -16,7 +16,16 @@ import { UserEntity } from '../../server/db/entities';
 import { SESSION_COOKIE } from '../../server/http/route';
 import { LOOPBACK_ONLY_SECRETS, MIN_SECRET_LENGTH, refuseWeakSecretsOffLoopback, withSecrets } from '../../server/secrets';
 import { createTestDb, type TestDb } from '../support/db';
-import { freePort, pgClusterAsync, spawnTs, stackEnv, startApiProcess, startBrokerProcess, stopAllProcesses, type NodeProcess } from '../support/processes';
+import {
+  freePort,
+  pgClusterAsync,
+  spawnTs,
+  stackEnv,
+  startApiProcess,
+  startBrokerProcess,
+  stopAllProcesses,
+  type NodeProcess,
+} from '../support/processes';
 
 const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'emberlot-secrets-'));
 afterAll(() => fs.rmSync(tmp, { recursive: true, force: true }));
@@ -29,7 +38,8 @@ describe('withSecrets: the environment first, else a generated owner-only file',
     const a = withSecrets({ EMBERLOT_SECRETS_FILE: file });
     expect(a.generated.sort()).toEqual(['dbPassword', 'mqttServerPassword', 'sessionSecret']);
     expect(modeOf(file)).toBe(0o600);
-    for (const k of ['EMBERLOT_SESSION_SECRET', 'EMBERLOT_MQTT_SERVER_PASSWORD', 'EMBERLOT_DB_PASSWORD']) expect(a.env[k]).toMatch(GENERATED);
+    for (const k of ['EMBERLOT_SESSION_SECRET', 'EMBERLOT_MQTT_SERVER_PASSWORD', 'EMBERLOT_DB_PASSWORD'])
+      expect(a.env[k]).toMatch(GENERATED);
     expect(new Set([a.env.EMBERLOT_SESSION_SECRET, a.env.EMBERLOT_MQTT_SERVER_PASSWORD, a.env.EMBERLOT_DB_PASSWORD]).size).toBe(3);
     const b = withSecrets({ EMBERLOT_SECRETS_FILE: file });
     expect(b.generated).toEqual([]);
@@ -39,7 +49,11 @@ describe('withSecrets: the environment first, else a generated owner-only file',
 
   it('a value in the environment wins; with all three given, no file is made', () => {
     const file = path.join(tmp, 'env', 'secrets.json');
-    const given = { EMBERLOT_SESSION_SECRET: 's'.repeat(40), EMBERLOT_MQTT_SERVER_PASSWORD: 'm'.repeat(40), EMBERLOT_DB_PASSWORD: 'd'.repeat(40) };
+    const given = {
+      EMBERLOT_SESSION_SECRET: 's'.repeat(40),
+      EMBERLOT_MQTT_SERVER_PASSWORD: 'm'.repeat(40),
+      EMBERLOT_DB_PASSWORD: 'd'.repeat(40),
+    };
     const all = withSecrets({ ...given, EMBERLOT_SECRETS_FILE: file });
     expect(all.fromEnv.length).toBe(3);
     expect(fs.existsSync(file)).toBe(false);
@@ -64,18 +78,31 @@ describe('withSecrets: the environment first, else a generated owner-only file',
 
   it('off loopback a built-in or short secret is refused, naming the variable and never the value; on loopback it is allowed', () => {
     const builtIn = { ...LOOPBACK_ONLY_SECRETS };
-    for (const host of ['127.0.0.1', 'localhost', '::1', '[::1]', '127.0.0.2']) expect(() => refuseWeakSecretsOffLoopback('the API', host, builtIn)).not.toThrow();
+    for (const host of ['127.0.0.1', 'localhost', '::1', '[::1]', '127.0.0.2'])
+      expect(() => refuseWeakSecretsOffLoopback('the API', host, builtIn)).not.toThrow();
     let message = '';
     try {
-      refuseWeakSecretsOffLoopback('the API', '0.0.0.0', { sessionSecret: builtIn.sessionSecret, mqttServerPassword: 'x'.repeat(43), dbPassword: 'short-pw' });
+      refuseWeakSecretsOffLoopback('the API', '0.0.0.0', {
+        sessionSecret: builtIn.sessionSecret,
+        mqttServerPassword: 'x'.repeat(43),
+        dbPassword: 'short-pw',
+      });
     } catch (e) {
       message = (e as Error).message;
     }
-    expect(message).toMatch(/^Refusing to start the API on 0\.0\.0\.0: EMBERLOT_SESSION_SECRET, EMBERLOT_DB_PASSWORD are built into the source or shorter than 16 characters\./);
+    expect(message).toMatch(
+      /^Refusing to start the API on 0\.0\.0\.0: EMBERLOT_SESSION_SECRET, EMBERLOT_DB_PASSWORD are built into the source or shorter than 16 characters\./,
+    );
     expect(message).not.toContain(builtIn.sessionSecret);
     expect(message).not.toContain('short-pw');
     expect(MIN_SECRET_LENGTH).toBe(16);
-    expect(() => refuseWeakSecretsOffLoopback('the API', '10.1.2.3', { sessionSecret: 'x'.repeat(43), mqttServerPassword: 'y'.repeat(43), dbPassword: 'z'.repeat(43) })).not.toThrow();
+    expect(() =>
+      refuseWeakSecretsOffLoopback('the API', '10.1.2.3', {
+        sessionSecret: 'x'.repeat(43),
+        mqttServerPassword: 'y'.repeat(43),
+        dbPassword: 'z'.repeat(43),
+      }),
+    ).not.toThrow();
   });
 });
 
@@ -91,7 +118,9 @@ describe('the real broker and API processes', () => {
     ports = { api: await freePort(), mqtt: await freePort(), smtp: await freePort() };
     // No session secret and no server-account password in the environment: both come from the file.
     env = stackEnv(db.config, ports, { EMBERLOT_SECRETS_FILE: file, EMBERLOT_MQTT_SERVER_PASSWORD: '', EMBERLOT_SESSION_SECRET: '' });
-    await db.ds.getRepository(UserEntity).insert({ email: 'admin@secrets.example', name: 'Admin', role: 'admin', passwordHash: await bcrypt.hash('a-long-password-1', 4) });
+    await db.ds
+      .getRepository(UserEntity)
+      .insert({ email: 'admin@secrets.example', name: 'Admin', role: 'admin', passwordHash: await bcrypt.hash('a-long-password-1', 4) });
     await startBrokerProcess(env);
     api = await startApiProcess(env);
   }, 120_000);
@@ -112,7 +141,13 @@ describe('the real broker and API processes', () => {
     const { mqttServerPassword } = JSON.parse(fs.readFileSync(file, 'utf8'));
     const tryConnect = (password: string) =>
       new Promise<string>((resolve) => {
-        const c = mqtt.connect(`mqtt://127.0.0.1:${ports.mqtt}`, { clientId: `emberlot-server-probe-${Math.random()}`, username: 'emberlot-server', password, reconnectPeriod: 0, connectTimeout: 10_000 });
+        const c = mqtt.connect(`mqtt://127.0.0.1:${ports.mqtt}`, {
+          clientId: `emberlot-server-probe-${Math.random()}`,
+          username: 'emberlot-server',
+          password,
+          reconnectPeriod: 0,
+          connectTimeout: 10_000,
+        });
         c.once('connect', () => c.end(true, () => resolve('connected')));
         c.once('error', (e) => c.end(true, () => resolve(`refused: ${e.message}`)));
       });
@@ -139,24 +174,38 @@ describe('the real broker and API processes', () => {
 
   /** Wait up to 60 s for the process to end by itself (today's code would listen instead). */
   const exitOf = async (p: NodeProcess) => {
-    for (const until = Date.now() + 60_000; p.running && Date.now() < until; ) await new Promise((r) => setTimeout(r, 100));
+    for (const until = Date.now() + 60_000; p.running && Date.now() < until;) await new Promise((r) => setTimeout(r, 100));
     return p.kill('SIGTERM'); // the exit it already had, or ends one that kept running
   };
 
   it('the API refuses to listen on 0.0.0.0 with the built-in session secret, with a clear message', async () => {
-    const p = spawnTs('api-public', 'server/main.ts', { ...env, EMBERLOT_HOST: '0.0.0.0', EMBERLOT_PORT: String(await freePort()), EMBERLOT_SESSION_SECRET: LOOPBACK_ONLY_SECRETS.sessionSecret });
+    const p = spawnTs('api-public', 'server/main.ts', {
+      ...env,
+      EMBERLOT_HOST: '0.0.0.0',
+      EMBERLOT_PORT: String(await freePort()),
+      EMBERLOT_SESSION_SECRET: LOOPBACK_ONLY_SECRETS.sessionSecret,
+    });
     const { code } = await exitOf(p);
     // The test cluster runs with the built-in database password, so that one is named too.
-    expect(p.output()).toMatch(/\[api\] failed to start: Refusing to start the API on 0\.0\.0\.0: EMBERLOT_SESSION_SECRET, EMBERLOT_DB_PASSWORD are built into the source or shorter than 16 characters\. Set strong values in the environment/);
+    expect(p.output()).toMatch(
+      /\[api\] failed to start: Refusing to start the API on 0\.0\.0\.0: EMBERLOT_SESSION_SECRET, EMBERLOT_DB_PASSWORD are built into the source or shorter than 16 characters\. Set strong values in the environment/,
+    );
     expect(p.output()).not.toMatch(/\bat main \(/); // a message, not a stack trace
     expect(p.output()).not.toMatch(/listening on/);
     expect(code).toBe(1);
   }, 90_000);
 
   it('the broker refuses to listen on 0.0.0.0 with the built-in server-account password', async () => {
-    const p = spawnTs('broker-public', 'broker/main.ts', { ...env, EMBERLOT_MQTT_HOST: '0.0.0.0', EMBERLOT_MQTT_PORT: String(await freePort()), EMBERLOT_MQTT_SERVER_PASSWORD: LOOPBACK_ONLY_SECRETS.mqttServerPassword });
+    const p = spawnTs('broker-public', 'broker/main.ts', {
+      ...env,
+      EMBERLOT_MQTT_HOST: '0.0.0.0',
+      EMBERLOT_MQTT_PORT: String(await freePort()),
+      EMBERLOT_MQTT_SERVER_PASSWORD: LOOPBACK_ONLY_SECRETS.mqttServerPassword,
+    });
     const { code } = await exitOf(p);
-    expect(p.output()).toMatch(/\[broker\] failed to start: Refusing to start the MQTT broker on 0\.0\.0\.0: EMBERLOT_MQTT_SERVER_PASSWORD, EMBERLOT_DB_PASSWORD are built into the source/);
+    expect(p.output()).toMatch(
+      /\[broker\] failed to start: Refusing to start the MQTT broker on 0\.0\.0\.0: EMBERLOT_MQTT_SERVER_PASSWORD, EMBERLOT_DB_PASSWORD are built into the source/,
+    );
     expect(p.output()).not.toMatch(/listening on/);
     expect(code).toBe(1);
   }, 90_000);

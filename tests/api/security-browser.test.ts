@@ -38,7 +38,8 @@ let lotId = '';
 const seen: Seen[] = [];
 const RIG = 'XB-01';
 
-const listen = (s: http.Server) => new Promise<string>((resolve) => s.listen(0, '127.0.0.1', () => resolve(`http://127.0.0.1:${(s.address() as AddressInfo).port}`)));
+const listen = (s: http.Server) =>
+  new Promise<string>((resolve) => s.listen(0, '127.0.0.1', () => resolve(`http://127.0.0.1:${(s.address() as AddressInfo).port}`)));
 
 beforeAll(async () => {
   ensureChromium();
@@ -47,7 +48,12 @@ beforeAll(async () => {
   await insertTestRig(t.ctx.ds, RIG);
   lotId = (await createRunFixture(t, 'XB')).lotId;
   api = http.createServer((req, res) => {
-    const s: Seen = { method: req.method!, url: req.url!, origin: req.headers.origin, hadCookie: (req.headers.cookie ?? '').includes(`${SESSION_COOKIE}=`) };
+    const s: Seen = {
+      method: req.method!,
+      url: req.url!,
+      origin: req.headers.origin,
+      hadCookie: (req.headers.cookie ?? '').includes(`${SESSION_COOKIE}=`),
+    };
     if (req.method !== 'GET') seen.push(s);
     res.on('finish', () => (s.status = res.statusCode));
     t.app(req, res);
@@ -67,10 +73,17 @@ beforeAll(async () => {
   page.setDefaultTimeout(15_000);
   // The admin signs in on the app's own origin; the browser keeps the session cookie.
   await page.goto(`${apiUrl}/api/health`);
-  const status = await page.evaluate(async ([email, password]) => {
-    const r = await fetch('/api/auth/sign-in', { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email, password }) });
-    return r.status;
-  }, [emailFor('admin'), TEST_PASSWORD]);
+  const status = await page.evaluate(
+    async ([email, password]) => {
+      const r = await fetch('/api/auth/sign-in', {
+        method: 'POST',
+        headers: { 'content-type': 'application/json' },
+        body: JSON.stringify({ email, password }),
+      });
+      return r.status;
+    },
+    [emailFor('admin'), TEST_PASSWORD],
+  );
   expect(status).toBe(200);
 }, 90_000);
 
@@ -81,7 +94,7 @@ afterAll(async () => {
   await t?.close();
 });
 
-it('a form auto-submitted from another port of 127.0.0.1, with the admin\'s cookie, does not rotate the rig secret', async () => {
+it("a form auto-submitted from another port of 127.0.0.1, with the admin's cookie, does not rotate the rig secret", async () => {
   const before = await tableCounts(t.ctx.ds);
   const hash = (await t.ctx.ds.getRepository(RigEntity).findOneByOrFail({ code: RIG })).mqttSecretHash;
   seen.length = 0;
@@ -89,7 +102,9 @@ it('a form auto-submitted from another port of 127.0.0.1, with the admin\'s cook
   await page.waitForURL(`${apiUrl}/api/rigs/${RIG}/credentials`);
   const body = JSON.parse((await page.locator('body').innerText()).trim());
   expect(body.error.code).toBe('forbidden');
-  expect(body.error.message).toBe(`Cross-site request refused: changes are only accepted from Emberlot's own pages (${apiUrl}), not from ${evilUrl}.`);
+  expect(body.error.message).toBe(
+    `Cross-site request refused: changes are only accepted from Emberlot's own pages (${apiUrl}), not from ${evilUrl}.`,
+  );
   // The browser did send the cookie (SameSite=Lax allows a same-site POST): the origin check stopped it.
   expect(seen).toEqual([{ method: 'POST', url: `/api/rigs/${RIG}/credentials`, origin: evilUrl, hadCookie: true, status: 403 }]);
   expect((await t.ctx.ds.getRepository(RigEntity).findOneByOrFail({ code: RIG })).mqttSecretHash).toBe(hash);
@@ -99,10 +114,17 @@ it('a form auto-submitted from another port of 127.0.0.1, with the admin\'s cook
 it('a multipart upload fetched from the other port (no-cors, with credentials) is refused and stores nothing', async () => {
   // The engineer may add serials: signed in as the engineer, the refusal can only come from the origin check.
   await page.goto(`${apiUrl}/api/health`);
-  const signIn = await page.evaluate(async ([email, password]) => {
-    const r = await fetch('/api/auth/sign-in', { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email, password }) });
-    return r.status;
-  }, [emailFor('engineer'), TEST_PASSWORD]);
+  const signIn = await page.evaluate(
+    async ([email, password]) => {
+      const r = await fetch('/api/auth/sign-in', {
+        method: 'POST',
+        headers: { 'content-type': 'application/json' },
+        body: JSON.stringify({ email, password }),
+      });
+      return r.status;
+    },
+    [emailFor('engineer'), TEST_PASSWORD],
+  );
   expect(signIn).toBe(200);
   const before = await tableCounts(t.ctx.ds);
   seen.length = 0;
@@ -114,7 +136,7 @@ it('a multipart upload fetched from the other port (no-cors, with credentials) i
     await fetch(url, { method: 'POST', mode: 'no-cors', credentials: 'include', body: fd }).catch(() => undefined);
   }, `${apiUrl}/api/lots/${lotId}/serials/csv`);
   // no-cors gives the page an opaque answer: read what the server saw and answered instead.
-  for (const until = Date.now() + 10_000; seen[0]?.status === undefined && Date.now() < until; ) await new Promise((r) => setTimeout(r, 50));
+  for (const until = Date.now() + 10_000; seen[0]?.status === undefined && Date.now() < until;) await new Promise((r) => setTimeout(r, 50));
   expect(seen).toHaveLength(1);
   expect(seen[0].status).toBe(403);
   expect(seen[0]).toMatchObject({ method: 'POST', origin: evilUrl, hadCookie: true });
@@ -129,10 +151,16 @@ it('a file named "Prüfung Los Ä-Ø №7.csv" uploaded by the browser is stored
   await page.setInputFiles('#csv', { name, mimeType: 'text/csv', buffer: Buffer.from('serial\nXB9101\nXB9102\n') });
   const res = await page.evaluate(
     async ([email, password, url]) => {
-      const signIn = await fetch('/api/auth/sign-in', { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email, password }) });
+      const signIn = await fetch('/api/auth/sign-in', {
+        method: 'POST',
+        headers: { 'content-type': 'application/json' },
+        body: JSON.stringify({ email, password }),
+      });
       const fd = new FormData();
       // Runs in the page (a DOM); this file is type-checked without the DOM library.
-      const input = (globalThis as unknown as { document: { getElementById(id: string): { files: Blob[] } } }).document.getElementById('csv');
+      const input = (globalThis as unknown as { document: { getElementById(id: string): { files: Blob[] } } }).document.getElementById(
+        'csv',
+      );
       fd.append('file', input.files[0]);
       const up = await fetch(url, { method: 'POST', body: fd });
       return { signIn: signIn.status, upload: up.status, body: await up.text() };

@@ -28,7 +28,9 @@ async function captureConsole<T>(fn: () => Promise<T>): Promise<{ out: T; text: 
   const lines: string[] = [];
   const spies = (['log', 'info', 'warn', 'error', 'debug'] as const).map((m) =>
     jest.spyOn(console, m).mockImplementation((...args: unknown[]) => {
-      lines.push(args.map((a) => (typeof a === 'string' ? a : a instanceof Error ? `${a.stack} ${JSON.stringify(a)}` : JSON.stringify(a))).join(' '));
+      lines.push(
+        args.map((a) => (typeof a === 'string' ? a : a instanceof Error ? `${a.stack} ${JSON.stringify(a)}` : JSON.stringify(a))).join(' '),
+      );
     }),
   );
   try {
@@ -70,7 +72,7 @@ describe('point 2: cross-site state changes are refused (OWASP CSRF cheat sheet:
     expect((await t.ctx.ds.getRepository(RigEntity).findOneByOrFail({ code: rigCode })).mqttSecretHash).toBe(hashBefore);
   });
 
-  it('the same POST from the app\'s own origin goes through (and the secret changes)', async () => {
+  it("the same POST from the app's own origin goes through (and the secret changes)", async () => {
     const admin = await t.signIn('admin');
     const hashBefore = (await t.ctx.ds.getRepository(RigEntity).findOneByOrFail({ code: rigCode })).mqttSecretHash;
     const res = await admin.post(`/api/rigs/${rigCode}/credentials`).set('Host', HOST).set('Origin', OWN);
@@ -94,18 +96,31 @@ describe('point 2: cross-site state changes are refused (OWASP CSRF cheat sheet:
   it('without Origin, a foreign Referer is refused (PATCH) and the own Referer accepted', async () => {
     const admin = await t.signIn('admin');
     const op = await t.ctx.ds.getRepository(UserEntity).findOneByOrFail({ email: emailFor('operator') });
-    const bad = await admin.patch(`/api/users/${op.id}`).set('Host', HOST).set('Referer', `${FOREIGN}/attack.html`).send({ name: 'Changed By Attacker' });
+    const bad = await admin
+      .patch(`/api/users/${op.id}`)
+      .set('Host', HOST)
+      .set('Referer', `${FOREIGN}/attack.html`)
+      .send({ name: 'Changed By Attacker' });
     expect(bad.status).toBe(403);
     expect((await t.ctx.ds.getRepository(UserEntity).findOneByOrFail({ id: op.id })).name).toBe('Test operator');
-    const good = await admin.patch(`/api/users/${op.id}`).set('Host', HOST).set('Referer', `${OWN}/people`).send({ name: 'Test operator two' });
+    const good = await admin
+      .patch(`/api/users/${op.id}`)
+      .set('Host', HOST)
+      .set('Referer', `${OWN}/people`)
+      .send({ name: 'Test operator two' });
     expect(good.status).toBe(200);
   });
 
   it('a DELETE and a sign-in (login CSRF) from a foreign origin are refused; Origin "null" is refused', async () => {
     const admin = await t.signIn('admin');
-    const del = await admin.delete(`/api/rigs/${rigCode}/maintenance/00000000-0000-4000-8000-000000000000`).set('Origin', 'https://evil.example');
+    const del = await admin
+      .delete(`/api/rigs/${rigCode}/maintenance/00000000-0000-4000-8000-000000000000`)
+      .set('Origin', 'https://evil.example');
     expect(del.status).toBe(403);
-    const signIn = await request(t.app).post('/api/auth/sign-in').set('Origin', 'https://evil.example').send({ email: emailFor('admin'), password: TEST_PASSWORD });
+    const signIn = await request(t.app)
+      .post('/api/auth/sign-in')
+      .set('Origin', 'https://evil.example')
+      .send({ email: emailFor('admin'), password: TEST_PASSWORD });
     expect(signIn.status).toBe(403);
     expect(signIn.headers['set-cookie']).toBeUndefined();
     const nul = await admin.post('/api/auth/sign-out').set('Origin', 'null');
@@ -125,7 +140,11 @@ describe('point 2: cross-site state changes are refused (OWASP CSRF cheat sheet:
   it('an origin listed in EMBERLOT_PUBLIC_ORIGIN is accepted (a proxy that rewrites Host); reads are never checked', async () => {
     const admin = await t.signIn('admin');
     const op = await t.ctx.ds.getRepository(UserEntity).findOneByOrFail({ email: emailFor('operator') });
-    const res = await admin.patch(`/api/users/${op.id}`).set('Host', '10.0.0.5:4780').set('Origin', 'https://emberlot.lab.example').send({ name: 'Test operator' });
+    const res = await admin
+      .patch(`/api/users/${op.id}`)
+      .set('Host', '10.0.0.5:4780')
+      .set('Origin', 'https://emberlot.lab.example')
+      .send({ name: 'Test operator' });
     expect(res.status).toBe(200);
     expect((await admin.get('/api/users').set('Origin', 'https://evil.example')).status).toBe(200);
     expect(parsePublicOrigins('https://a.example, http://b.example:8080')).toEqual(['https://a.example', 'http://b.example:8080']);
@@ -184,9 +203,13 @@ describe('point 9: EMBERLOT_TRUST_PROXY', () => {
     });
 
     it('a sign-in the proxy received over https gets a Secure cookie, and the session works', async () => {
-      const res = await request(t.app).post('/api/auth/sign-in').set('X-Forwarded-Proto', 'https').send({ email: emailFor('admin'), password: TEST_PASSWORD });
+      const res = await request(t.app)
+        .post('/api/auth/sign-in')
+        .set('X-Forwarded-Proto', 'https')
+        .send({ email: emailFor('admin'), password: TEST_PASSWORD });
       expect(res.status).toBe(200);
-      const cookie = ((res.headers['set-cookie'] as unknown as string[] | undefined) ?? []).find((c) => c.startsWith(`${SESSION_COOKIE}=`)) ?? '';
+      const cookie =
+        ((res.headers['set-cookie'] as unknown as string[] | undefined) ?? []).find((c) => c.startsWith(`${SESSION_COOKIE}=`)) ?? '';
       expect(cookie).toMatch(/;\s*Secure/i);
       const me = await request(t.app).get('/api/auth/me').set('X-Forwarded-Proto', 'https').set('Cookie', cookie.split(';')[0]);
       expect(me.status).toBe(200);
@@ -201,7 +224,11 @@ describe('point 9: EMBERLOT_TRUST_PROXY', () => {
     });
 
     it(`the sign-in limit (${SIGN_IN_MAX_PER_WINDOW} per window) counts per client address, not per proxy`, async () => {
-      const from = (ip: string) => request(t.app).post('/api/auth/sign-in').set('X-Forwarded-For', ip).send({ email: 'nobody@test.example', password: 'wrong-password' });
+      const from = (ip: string) =>
+        request(t.app)
+          .post('/api/auth/sign-in')
+          .set('X-Forwarded-For', ip)
+          .send({ email: 'nobody@test.example', password: 'wrong-password' });
       const statuses: number[] = [];
       for (let k = 0; k <= SIGN_IN_MAX_PER_WINDOW; k++) statuses.push((await from('203.0.113.7')).status);
       expect(statuses.slice(0, SIGN_IN_MAX_PER_WINDOW).every((s) => s === 401)).toBe(true);
@@ -226,7 +253,10 @@ describe('point 9: EMBERLOT_TRUST_PROXY', () => {
       // operator behind a proxy needs (set EMBERLOT_TRUST_PROXY).
       const { text } = await captureConsole(async () => {
         for (let k = 0; k <= SIGN_IN_MAX_PER_WINDOW; k++) {
-          const r = await request(t.app).post('/api/auth/sign-in').set('X-Forwarded-For', `198.51.100.${k + 1}`).send({ email: 'nobody@test.example', password: 'wrong-password' });
+          const r = await request(t.app)
+            .post('/api/auth/sign-in')
+            .set('X-Forwarded-For', `198.51.100.${k + 1}`)
+            .send({ email: 'nobody@test.example', password: 'wrong-password' });
           statuses.push(r.status);
         }
       });
@@ -249,7 +279,9 @@ describe('point 10: file names, the lockout answer, failed SQL in the log', () =
     const { lotId } = await createRunFixture(t, 'FN');
     const eng = await t.signIn('engineer');
     const name = 'Prüfung Los Ä-Ø-ß №7 温度.csv';
-    const res = await eng.post(`/api/lots/${lotId}/serials/csv`).attach('file', Buffer.from('serial\nFN9001\nFN9002\n'), { filename: name, contentType: 'text/csv' });
+    const res = await eng
+      .post(`/api/lots/${lotId}/serials/csv`)
+      .attach('file', Buffer.from('serial\nFN9001\nFN9002\n'), { filename: name, contentType: 'text/csv' });
     expect(res.status).toBe(200);
     const audit = await t.ctx.ds.getRepository(AuditLogEntity).findOneByOrFail({ action: 'lot.serials.add', entityId: lotId });
     expect((audit.details as { fileName: string }).fileName).toBe(name);
@@ -274,16 +306,22 @@ describe('point 10: file names, the lockout answer, failed SQL in the log', () =
 
   it('a failed INSERT is logged with its SQL state and statement but without the values (e-mail, name, password hash)', async () => {
     // A trigger makes the real INSERT fail inside PostgreSQL, as a constraint added later would.
-    await t.ctx.ds.query(`CREATE FUNCTION refuse_users() RETURNS trigger LANGUAGE plpgsql AS $$ BEGIN RAISE EXCEPTION 'users are frozen for this test'; END $$`);
+    await t.ctx.ds.query(
+      `CREATE FUNCTION refuse_users() RETURNS trigger LANGUAGE plpgsql AS $$ BEGIN RAISE EXCEPTION 'users are frozen for this test'; END $$`,
+    );
     await t.ctx.ds.query(`CREATE TRIGGER refuse_users BEFORE INSERT ON users FOR EACH ROW EXECUTE FUNCTION refuse_users()`);
     try {
       const admin = await t.signIn('admin');
       const { out: res, text } = await captureConsole(() =>
-        admin.post('/api/users?ref=ada.quietly%40private.example').send({ email: 'ada.quietly@private.example', name: 'Ada Quietly-Private', role: 'operator', password: 'a-long-password-1' }),
+        admin
+          .post('/api/users?ref=ada.quietly%40private.example')
+          .send({ email: 'ada.quietly@private.example', name: 'Ada Quietly-Private', role: 'operator', password: 'a-long-password-1' }),
       );
       expect(res.status).toBe(500);
       expect(res.body.error.code).toBe('internal');
-      expect(text).toMatch(/\[db\] query failed: \w+: users are frozen for this test; SQL state P0001; statement: INSERT INTO "users"\("id", "email", "name", "role", "password_hash".* VALUES \(DEFAULT, \$1, \$2, \$3, \$4,/);
+      expect(text).toMatch(
+        /\[db\] query failed: \w+: users are frozen for this test; SQL state P0001; statement: INSERT INTO "users"\("id", "email", "name", "role", "password_hash".* VALUES \(DEFAULT, \$1, \$2, \$3, \$4,/,
+      );
       expect(text).toMatch(/\[api\] POST \/api\/users failed: QueryFailedError: users are frozen for this test; SQL state P0001/);
       expect(text).not.toMatch(/ada\.quietly|Quietly-Private|\$2[aby]\$|PARAMETERS/i);
     } finally {
