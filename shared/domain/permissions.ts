@@ -26,6 +26,12 @@ export const PERMISSIONS = {
   'run.measurements-done': ['operator', 'engineer'],
   'run.abort': ['operator', 'engineer'],
   'alarm.acknowledge': ['operator', 'engineer', 'admin'],
+  // Lot-verdict evidence: the floor and engineers record dispositions; withdrawing one or letting a
+  // flagged reading be judged is an engineer's call.
+  'evidence.read': ['admin', 'engineer', 'operator', 'manager'],
+  'disposition.record': ['engineer', 'operator'],
+  'disposition.withdraw': ['engineer'],
+  'reading.confirm': ['engineer'],
   'measurement.read': ['admin', 'engineer', 'operator', 'manager'],
   'measurement.upload': ['engineer', 'operator'],
   'trends.read': ['admin', 'engineer', 'manager'],

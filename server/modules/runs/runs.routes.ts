@@ -2,6 +2,7 @@ import { rolesFor } from '../../../shared/domain/permissions';
 import {
   abortRunSchema,
   bookRunSchema,
+  bookSampleSchema,
   proposalInputSchema,
   runActionSchema,
   runIdParamSchema,
@@ -20,6 +21,7 @@ export function runsRoutes(ctx: AppContext): ApiRouter {
   // Fixed paths before "/:id".
   r.get('/timeline', { access: 'signed-in', query: timelineQuerySchema }, ({ query }) => svc.timeline(query));
   r.post('/proposals', { access: rolesFor('run.propose'), body: proposalInputSchema }, ({ body }) => svc.propose(body));
+  r.post('/samples', { access: rolesFor('run.book'), body: bookSampleSchema, status: 201 }, ({ user, body }) => svc.bookSample(user, body));
   r.get('/', { access: 'signed-in', query: runListQuerySchema }, async ({ query }) => ({ items: await svc.list(query) }));
   r.post('/', { access: rolesFor('run.book'), body: bookRunSchema, status: 201 }, ({ user, body }) => svc.book(user, body));
   r.get('/:id', { access: 'signed-in', params: runIdParamSchema }, ({ params }) => svc.get(params.id));
