@@ -49,17 +49,6 @@ export function useMeasurementRun(id: string | undefined) {
   });
 }
 
-/** The stored readings of one read point (the coverage panel lists them for confirmation). */
-export function useReadPointReadings(id: string | undefined, hours: number | undefined) {
-  return useQuery({
-    queryKey: measurementKeys.readings(id ?? '', hours ?? -1),
-    queryFn: ({ signal }) =>
-      api<{ items: StoredReading[] }>(`/api/measurements/runs/${encodeURIComponent(id!)}/read-points/${hours}`, { signal }).then((r) => r.items),
-    enabled: !!id && hours !== undefined,
-    staleTime: STALE_MS,
-  });
-}
-
 /** A refused upload or entry that says, row by row, what was wrong (422 with `rows`). */
 export class RowsError extends ApiError {
   constructor(status: number, message: string, readonly rows: RowResult[]) {
