@@ -29,6 +29,17 @@ export function useMeasurementRuns() {
   });
 }
 
+/** The readings stored for one read point (the coverage panel lists the flagged ones). */
+export function useReadPointReadings(id: string | undefined, hours: number | undefined) {
+  return useQuery({
+    queryKey: measurementKeys.readings(id ?? '', hours ?? -1),
+    queryFn: ({ signal }) =>
+      api<{ items: StoredReading[] }>(`/api/measurements/runs/${encodeURIComponent(id!)}/read-points/${hours}`, { signal }).then((r) => r.items),
+    enabled: !!id && hours !== undefined,
+    staleTime: STALE_MS,
+  });
+}
+
 export function useMeasurementRun(id: string | undefined) {
   return useQuery({
     queryKey: measurementKeys.run(id ?? ''),
