@@ -8,10 +8,11 @@
 import * as fs from 'node:fs';
 import * as path from 'node:path';
 import type { DataSource } from 'typeorm';
+import { ON_RIG_STATES } from '../shared/domain/run-states';
+import { REVERSE_BIAS_KINDS } from '../shared/domain/stress';
 import type { Bias } from '../shared/schemas/plans';
 import { DEMO_LOTS, demoRigSecret, rigMqttUsername } from '../server/seed/demo-data';
 
-const ACTIVE = ['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling'];
 const IDLE_SOCKETS = 4;
 /** Wall seconds between messages: 0.5 s = half a stress hour at the default clock. */
 const DEMO_SAMPLE_S = 0.5;
@@ -45,7 +46,7 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
       `SELECT r.id, r.rig_id, r.state, p.kind, p.chamber_c, p.humidity_pct, p.bias
          FROM runs r JOIN stress_plans p ON p.id = r.plan_id
         WHERE r.rig_id IS NOT NULL AND r.state = ANY($1) ORDER BY r.created_at`,
-      [ACTIVE],
+      [ON_RIG_STATES],
     );
   let faultPlaced = false;
   let loaded = 0;
@@ -77,7 +78,7 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
       continue;
     }
     loaded += sockets.length;
-    const reverse = run.kind === 'htrb' || run.kind === 'thb';
+    const reverse = REVERSE_BIAS_KINDS.has(run.kind);
     const devices = sockets.map((s) => {
       const lot = DEMO_LOTS.find((l) => l.code === s.lot_code);
       return {

@@ -7,6 +7,17 @@
  * Templates are a starting point: the engineer reviews the numbers, and the plan check judges the
  * result against the device's ratings like any other plan.
  */
+import { grouped, sigFigures } from './domain/format';
+import {
+  CHAMBER_TOLERANCE_PCT,
+  DEFAULT_BIAS_TOLERANCE_PCT,
+  DEFAULT_DURATION_H,
+  DEFAULT_EA_EV,
+  DEFAULT_READ_POINTS_H,
+  DEFAULT_USE_C,
+  REVERSE_BIAS_FRACTION,
+  ROOM_AMBIENT_C,
+} from './domain/standards';
 import { estimateBvceo } from './physics';
 import type { DeviceTypeInput } from './schemas/devices';
 import { criteriaSchema, PLAN_KIND_LABEL, type PlanInput, type PlanTemplate, type TemplateRule } from './schemas/plans';
@@ -25,16 +36,15 @@ export const SOURCES = {
 } as const;
 
 /** Read points for every template (hours). */
-export const TEMPLATE_READ_POINTS_H = [0, 168, 500, 1000];
-export const TEMPLATE_DURATION_H = 1000;
-/** Fraction of the rated breakdown used by reverse-bias stresses. */
-export const REVERSE_BIAS_FRACTION = 0.8;
+export const TEMPLATE_READ_POINTS_H = DEFAULT_READ_POINTS_H;
+export const TEMPLATE_DURATION_H = DEFAULT_DURATION_H;
+export { REVERSE_BIAS_FRACTION };
 /** Chamber held within ± this fraction of its set point (°C value). */
-export const CHAMBER_BAND = 0.03;
+export const CHAMBER_BAND = CHAMBER_TOLERANCE_PCT / 100;
 /** Powered life: aim the junction this far below Tj max (spread of θja and gain across a lot). */
 export const POWERED_TJ_MARGIN_C = 5;
 /** Powered life and cycling run from room ambient; the parts heat themselves. */
-export const POWERED_AMBIENT_C = 25;
+export const POWERED_AMBIENT_C = ROOM_AMBIENT_C;
 /** Preferred collector-emitter voltage for powered stresses: VCB 10–30 V in the source. */
 export const POWERED_VCE_V = 20;
 export const POWERED_VCE_MIN_V = 10;
@@ -50,12 +60,11 @@ export const IOL_SAMPLE = { n: 77, c: 0 };
 export const THB_SAMPLE = { n: 77, c: 0 };
 export const THB_CHAMBER_C = 85;
 export const THB_RH_PCT = 85;
-export const DEFAULT_EA_EV = 0.7;
-export const DEFAULT_USE_C = 55;
+export { DEFAULT_EA_EV, DEFAULT_USE_C };
 
 type Device = DeviceTypeInput & { id: string };
 
-const sig = (x: number, digits = 3) => String(+x.toPrecision(digits));
+const sig = sigFigures;
 /** Rounds down to `step` (never above the value it came from). */
 function roundDown(x: number, step: number): number {
   let r = Math.round(Math.floor(x / step + 1e-9) * step * 1e6) / 1e6;
@@ -149,7 +158,7 @@ function htrb(d?: Device): PlanTemplate {
       key: 'htrb', kind: 'htrb', title: 'HTRB at Tj max, 80 % VCBO, 1000 h (JESD22-A108)', summary, sources, plan: null,
       rules: [
         { label: 'VCB', value: '80 % of the rated BVCBO', source: SOURCES.htrb },
-        { label: 'Chamber', value: 'Tj max less the +3 % chamber band', source: `${SOURCES.htrb} Tj at rated max; band ${SOURCES.chamberBand}` },
+        { label: 'Chamber', value: `Tj max less the +${CHAMBER_TOLERANCE_PCT} % chamber band`, source: `${SOURCES.htrb} Tj at rated max; band ${SOURCES.chamberBand}` },
         { label: 'Sample', value: `${HTRB_SAMPLE.n} per lot, accept ${HTRB_SAMPLE.c} (3 lots for a qualification)`, source: SOURCES.htrb },
         ...commonRules,
       ],
@@ -164,7 +173,7 @@ function htrb(d?: Device): PlanTemplate {
     kind: 'htrb',
     chamberC,
     humidityPct: null,
-    bias: { vcbV, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
+    bias: { vcbV, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: DEFAULT_BIAS_TOLERANCE_PCT },
     sampleSize: HTRB_SAMPLE.n,
     acceptNumber: HTRB_SAMPLE.c,
     cycle: null,
@@ -176,7 +185,7 @@ function htrb(d?: Device): PlanTemplate {
       { label: 'VCB', value: `${sig(vcbV)} V = 80 % of BVCBO ${sig(d.bvcboV)} V`, source: SOURCES.htrb },
       {
         label: 'Chamber',
-        value: `${chamberC} °C: Tj max ${sig(d.tjMaxC)} °C less the +3 % chamber band (top of band ${sig(chamberC * (1 + CHAMBER_BAND), 4)} °C)`,
+        value: `${chamberC} °C: Tj max ${sig(d.tjMaxC)} °C less the +${CHAMBER_TOLERANCE_PCT} % chamber band (top of band ${sig(chamberC * (1 + CHAMBER_BAND), 4)} °C)`,
         source: `${SOURCES.htrb} Tj at rated max; band ${SOURCES.chamberBand}`,
       },
       { label: 'Duration', value: '1000 h', source: SOURCES.htrb },
@@ -214,7 +223,7 @@ function hotl(d?: Device): PlanTemplate {
     kind: 'hotl',
     chamberC,
     humidityPct: null,
-    bias: { vcbV: null, vebV: null, vceV: op.vceV, ibA: null, icA: op.icA, tolerancePct: 5 },
+    bias: { vcbV: null, vebV: null, vceV: op.vceV, ibA: null, icA: op.icA, tolerancePct: DEFAULT_BIAS_TOLERANCE_PCT },
     sampleSize: HOTL_SAMPLE.n,
     acceptNumber: HOTL_SAMPLE.c,
     cycle: null,
@@ -250,8 +259,8 @@ function iol(d?: Device): PlanTemplate {
   const cycleH = (IOL_ON_MIN + IOL_OFF_MIN) / 60;
   const baseRules: TemplateRule[] = [
     { label: 'Cycle', value: `${IOL_ON_MIN} min on, ${IOL_OFF_MIN} min off (on-time = off-time)`, source: `${SOURCES.iol}; ${IOL_ON_MIN} min ${SOURCES.ours}` },
-    { label: 'Junction swing', value: `ΔTj ${IOL_DELTA_TJ_C} °C for ${IOL_CYCLES.toLocaleString('en-GB')} cycles`, source: SOURCES.iol },
-    { label: 'Duration', value: `${IOL_CYCLES.toLocaleString('en-GB')} cycles × ${IOL_ON_MIN + IOL_OFF_MIN} min = ${sig(IOL_CYCLES * cycleH)} h`, source: SOURCES.ours },
+    { label: 'Junction swing', value: `ΔTj ${IOL_DELTA_TJ_C} °C for ${grouped(IOL_CYCLES)} cycles`, source: SOURCES.iol },
+    { label: 'Duration', value: `${grouped(IOL_CYCLES)} cycles × ${IOL_ON_MIN + IOL_OFF_MIN} min = ${sig(IOL_CYCLES * cycleH)} h`, source: SOURCES.ours },
     { label: 'Sample', value: `${IOL_SAMPLE.n} per lot, accept ${IOL_SAMPLE.c}`, source: SOURCES.aecSampleMemory },
   ];
   if (!d) {
@@ -271,7 +280,7 @@ function iol(d?: Device): PlanTemplate {
     kind: 'iol',
     chamberC,
     humidityPct: null,
-    bias: { vcbV: null, vebV: null, vceV: op.vceV, ibA: null, icA: op.icA, tolerancePct: 5 },
+    bias: { vcbV: null, vebV: null, vceV: op.vceV, ibA: null, icA: op.icA, tolerancePct: DEFAULT_BIAS_TOLERANCE_PCT },
     durationH: IOL_CYCLES * cycleH,
     sampleSize: IOL_SAMPLE.n,
     acceptNumber: IOL_SAMPLE.c,
@@ -319,7 +328,7 @@ function thb(d?: Device): PlanTemplate {
     kind: 'thb',
     chamberC: THB_CHAMBER_C,
     humidityPct: THB_RH_PCT,
-    bias: { vcbV, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
+    bias: { vcbV, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: DEFAULT_BIAS_TOLERANCE_PCT },
     sampleSize: THB_SAMPLE.n,
     acceptNumber: THB_SAMPLE.c,
     cycle: null,

@@ -5,7 +5,7 @@ import type { Alarm, AlarmSeverityName } from '@/shared/schemas/alarms';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { useAlarm, useAlarmCounts, useAlarms } from '@/components/queries/alarms';
-import { useMe } from '@/components/queries/auth';
+import { useCan } from '@/components/queries/auth';
 import { space } from '@/components/theme/tokens';
 import { Banner } from '@/components/ui/Banner';
 import { Button } from '@/components/ui/Button';
@@ -33,7 +33,6 @@ const SEVERITY_CHOICES = [
   { value: 'info' as const, label: 'Notice' },
 ];
 
-const ACK_ROLES = ['operator', 'engineer', 'admin'];
 
 function plural(n: number, one: string, many = `${one}s`) {
   return `${n} ${n === 1 ? one : many}`;
@@ -43,7 +42,7 @@ function plural(n: number, one: string, many = `${one}s`) {
 export function AlarmsScreen() {
   const params = useLocalSearchParams<{ id?: string }>();
   const linkedId = typeof params.id === 'string' ? params.id : undefined;
-  const me = useMe();
+  const may = useCan();
   const [status, setStatus] = useState<StatusFilter>('open');
   const [severity, setSeverity] = useState<SeverityFilter>('any');
   const [limit, setLimit] = useState(PAGE);
@@ -52,7 +51,7 @@ export function AlarmsScreen() {
   const alarms = useAlarms({ status, severity: severity === 'any' ? undefined : severity, limit });
   const counts = useAlarmCounts();
   const linked = useAlarm(linkedId);
-  const canAck = !!me.data && ACK_ROLES.includes(me.data.role);
+  const canAck = may('alarm.acknowledge');
 
   const c = counts.data;
   const summary = c

@@ -1,7 +1,8 @@
-/** Date and time as lab people read it: "3 Mar 2026, 14:05" in the viewer's time zone. */
+/** Date and time on a screen: "2026-03-03 14:05" in the viewer's time zone (the style of shared/domain/format.ts). */
+import { formatLocal } from '@/shared/domain/format';
 export function formatDateTime(iso: string | null | undefined, never = 'Never'): string {
   if (!iso) return never;
   const d = new Date(iso);
   if (Number.isNaN(d.getTime())) return '—';
-  return d.toLocaleString('en-GB', { day: 'numeric', month: 'short', year: 'numeric', hour: '2-digit', minute: '2-digit' });
+  return formatLocal(d);
 }

@@ -7,7 +7,7 @@ import { formatDateTime } from '@/components/common/format';
 import { Columns } from '@/components/layout/Content';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
-import { useMe } from '@/components/queries/auth';
+import { useCan } from '@/components/queries/auth';
 import { useDeviceType } from '@/components/queries/device-types';
 import { usePlans } from '@/components/queries/plans';
 import { colors, space } from '@/components/theme/tokens';
@@ -32,8 +32,7 @@ export function DeviceTypeDetailScreen() {
   const { id } = useLocalSearchParams<{ id: string }>();
   const valid = typeof id === 'string' && UUID.test(id);
   const device = useDeviceType(valid ? id : undefined);
-  const me = useMe();
-  const canWrite = me.data?.role === 'engineer';
+  const may = useCan();
   const [editing, setEditing] = useState(false);
   const [addingLot, setAddingLot] = useState(false);
   const [notice, setNotice] = useState<string | null>(null);
@@ -58,7 +57,7 @@ export function DeviceTypeDetailScreen() {
               actions={
                 <>
                   <Button label="All device types" variant="quiet" onPress={() => router.push('/devices' as Href)} />
-                  {canWrite && !editing ? <Button label="Edit ratings" onPress={() => { setNotice(null); setEditing(true); }} testID="edit-device-type" /> : null}
+                  {may('deviceType.edit') && !editing ? <Button label="Edit ratings" onPress={() => { setNotice(null); setEditing(true); }} testID="edit-device-type" /> : null}
                 </>
               }
             />
@@ -85,7 +84,7 @@ export function DeviceTypeDetailScreen() {
                 <Text variant="heading" heading={2}>
                   Lots
                 </Text>
-                {canWrite && !addingLot ? <Button label="Register a lot" onPress={() => setAddingLot(true)} testID="add-lot" /> : null}
+                {may('lot.edit') && !addingLot ? <Button label="Register a lot" onPress={() => setAddingLot(true)} testID="add-lot" /> : null}
               </View>
               {addingLot ? (
                 <NewLotForm
@@ -101,7 +100,7 @@ export function DeviceTypeDetailScreen() {
               <LotTable deviceTypeId={d.id} />
             </View>
 
-            <PlansFor deviceTypeId={d.id} canWrite={canWrite} />
+            <PlansFor deviceTypeId={d.id} canWrite={may('plan.edit')} />
           </>
         )}
       </QueryState>

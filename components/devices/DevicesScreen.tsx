@@ -5,7 +5,7 @@ import type { DeviceTypeSummary, Lot } from '@/shared/schemas/devices';
 import { formatDateTime } from '@/components/common/format';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
-import { useMe } from '@/components/queries/auth';
+import { useCan } from '@/components/queries/auth';
 import { useDeviceTypes } from '@/components/queries/device-types';
 import { useLots } from '@/components/queries/lots';
 import { space } from '@/components/theme/tokens';
@@ -25,8 +25,7 @@ export const lotHref = (id: string) => `/devices/lots/${id}` as Href;
 
 /** Device types (part numbers with their ratings) and a lot finder. Engineers add and edit; managers read. */
 export function DevicesScreen() {
-  const me = useMe();
-  const canWrite = me.data?.role === 'engineer';
+  const canWrite = useCan()('deviceType.edit');
   const types = useDeviceTypes();
   const [adding, setAdding] = useState(false);
   const [notice, setNotice] = useState<string | null>(null);

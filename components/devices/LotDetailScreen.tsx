@@ -6,7 +6,7 @@ import { formatDateTime } from '@/components/common/format';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { describeError } from '@/components/queries/api';
-import { useMe } from '@/components/queries/auth';
+import { useCan } from '@/components/queries/auth';
 import { rowsFromError, useAddSerials, useLot, useUploadSerials } from '@/components/queries/lots';
 import { space } from '@/components/theme/tokens';
 import { Banner } from '@/components/ui/Banner';
@@ -27,8 +27,7 @@ export function LotDetailScreen() {
   const { id } = useLocalSearchParams<{ id: string }>();
   const valid = typeof id === 'string' && UUID.test(id);
   const lot = useLot(valid ? id : undefined);
-  const me = useMe();
-  const canWrite = me.data?.role === 'engineer';
+  const canWrite = useCan()('lot.edit');
   const [filter, setFilter] = useState('');
 
   if (!valid) {

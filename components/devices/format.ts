@@ -1,17 +1,14 @@
+import { sigFigures, withSiPrefix } from '@/shared/domain/format';
+
 /** Number formatting for ratings and plan values: three significant figures and an SI prefix where it helps. */
 export function sig(x: number | null | undefined, digits = 3): string {
   if (x === null || x === undefined || !Number.isFinite(x)) return '—';
-  if (x === 0) return '0';
-  return String(+x.toPrecision(digits));
+  return sigFigures(x, digits);
 }
 
 export function withPrefix(x: number | null | undefined, unit: string, digits = 3): string {
   if (x === null || x === undefined || !Number.isFinite(x)) return '—';
-  const a = Math.abs(x);
-  if (a !== 0 && a < 1e-6) return `${sig(x * 1e9, digits)} n${unit}`;
-  if (a !== 0 && a < 1e-3) return `${sig(x * 1e6, digits)} µ${unit}`;
-  if (a !== 0 && a < 1) return `${sig(x * 1e3, digits)} m${unit}`;
-  return `${sig(x, digits)} ${unit}`;
+  return withSiPrefix(x, unit, digits);
 }
 
 export const volts = (v: number | null | undefined) => (v === null || v === undefined ? '—' : `${sig(v)} V`);

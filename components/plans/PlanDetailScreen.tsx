@@ -7,7 +7,7 @@ import { deviceHref } from '@/components/devices/DevicesScreen';
 import { Columns } from '@/components/layout/Content';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
-import { useMe } from '@/components/queries/auth';
+import { useCan } from '@/components/queries/auth';
 import { usePlan } from '@/components/queries/plans';
 import { colors, radius, space } from '@/components/theme/tokens';
 import { Banner } from '@/components/ui/Banner';
@@ -43,8 +43,7 @@ export function PlanDetailScreen() {
   const { id } = useLocalSearchParams<{ id: string }>();
   const valid = typeof id === 'string' && UUID.test(id);
   const plan = usePlan(valid ? id : undefined);
-  const me = useMe();
-  const canWrite = me.data?.role === 'engineer';
+  const canWrite = useCan()('plan.edit');
 
   if (!valid) {
     return (

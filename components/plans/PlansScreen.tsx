@@ -5,7 +5,7 @@ import { PLAN_KINDS, PLAN_KIND_LABEL, type PlanKind, type PlanSummary } from '@/
 import { amps, celsius, volts } from '@/components/devices/format';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
-import { useMe } from '@/components/queries/auth';
+import { useCan } from '@/components/queries/auth';
 import { useDeviceTypes } from '@/components/queries/device-types';
 import { usePlans } from '@/components/queries/plans';
 import { space } from '@/components/theme/tokens';
@@ -36,8 +36,7 @@ export function biasSummary(p: Pick<PlanSummary, 'kind' | 'bias'>): string {
 
 /** The engineer's plan list: current version of every plan, with the check's verdict. */
 export function PlansScreen() {
-  const me = useMe();
-  const canWrite = me.data?.role === 'engineer';
+  const canWrite = useCan()('plan.edit');
   const [kind, setKind] = useState<PlanKind | 'all'>('all');
   const [deviceTypeId, setDeviceTypeId] = useState<string>('all');
   const types = useDeviceTypes();

@@ -1,3 +1,4 @@
+import { CHAMBER_TOLERANCE_PCT, DEFAULT_DURATION_H, DEFAULT_READ_POINTS_H, MEASURE_WITHIN_H } from '@/shared/domain/standards';
 import type { PlanKind } from '@/shared/schemas/plans';
 
 /** What each stress is for, in the lab's words. */
@@ -18,7 +19,7 @@ export const KIND_HELP: Record<PlanKind, string> = {
 };
 
 export const PLAN_HELP = {
-  chamberC: 'Oven set point. The chamber must hold within ±3 % of it; hours outside that band do not count (MIL-STD-750 general requirements).',
+  chamberC: `Oven set point. The chamber must hold within ±${CHAMBER_TOLERANCE_PCT} % of it; hours outside that band do not count (MIL-STD-750 general requirements).`,
   humidityPct: 'Relative humidity for a humidity stress (85 % for THB).',
   vcbV: 'Collector-base reverse voltage on every device (magnitude; PNP parts are biased the other way by the board).',
   vebV: 'Emitter-base reverse voltage, if the board applies one. Leave empty for an open or shorted emitter. Never above BVEBO.',
@@ -27,9 +28,9 @@ export const PLAN_HELP = {
     'Regulating IC holds the current whatever the gain does. Forcing IB lets the current rise as the part heats and its gain rises — ' +
     'the loop that can run away thermally; the plan check shows the margin.',
   tolerancePct: 'Bias band for counting hours: time when a socket is outside ± this band of its set value does not count.',
-  durationH: 'Total stress hours (1000 h is the usual qualification length).',
+  durationH: `Total stress hours (${DEFAULT_DURATION_H} h is the usual qualification length).`,
   readPointsH:
-    'Hours at which the parts come off stress to be measured, e.g. 0, 168, 500, 1000 (common practice). Measure within 96 h of removing bias.',
+    `Hours at which the parts come off stress to be measured, e.g. ${DEFAULT_READ_POINTS_H.join(', ')} (common practice). Measure within ${MEASURE_WITHIN_H} h of removing bias.`,
   sampleSize: 'Devices per lot on stress. 77 per lot with 0 failures is the AEC-Q101 qualification sample; 45/0 the MIL-PRF-19500 life sample.',
   acceptNumber: 'How many failures the lot may have and still pass. With 77 devices and accept 0, the lot demonstrates LTPD about 3 % at 90 % confidence.',
   criteria:

@@ -1,3 +1,4 @@
+import { can, type Permission } from '@/shared/domain/permissions';
 import { useMutation, useQuery, useQueryClient, type QueryClient } from '@tanstack/react-query';
 import { router, type Href } from 'expo-router';
 import type { SessionUser, SignInInput } from '@/shared/schemas/auth';
@@ -11,6 +12,16 @@ export type Me = SessionUser & Partial<Pick<User, 'notifyAlarms' | 'notifyReadPo
 export const SESSION_ENDED_MESSAGE = 'Your session has ended. Sign in again.';
 /** The sign-in route with the "session ended" notice. */
 export const SIGN_IN_AFTER_EXPIRY = '/sign-in?ended=1' as Href;
+
+/**
+ * Whether the signed-in person may take an action (shared/domain/permissions.ts, the table the API's
+ * routes read too). False while the session is loading and when nobody is signed in.
+ */
+export function useCan(): (action: Permission) => boolean {
+  const me = useMe();
+  const role = me.data?.role;
+  return (action) => !!role && can(role, action);
+}
 
 /** null = nobody is signed in (the API answered 401). */
 export function useMe() {

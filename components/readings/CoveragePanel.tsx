@@ -7,7 +7,8 @@
 import { useState } from 'react';
 import { View } from 'react-native';
 import { describeError } from '@/components/queries/api';
-import { useMe } from '@/components/queries/auth';
+import { formatDateTime } from '@/components/common/format';
+import { useCan } from '@/components/queries/auth';
 import { useConfirmReading, useRecordDisposition, useRunCoverage, useWithdrawDisposition } from '@/components/queries/evidence';
 import { useReadPointReadings } from '@/components/queries/measurements';
 import { space } from '@/components/theme/tokens';
@@ -24,7 +25,6 @@ import { DISPOSITION_KINDS, DISPOSITION_LABEL, DISPOSITION_REASON_MIN, CONFIRM_R
 export function CoveragePanel({ runId, hours }: { runId: string; hours: number }) {
   const coverage = useRunCoverage(runId);
   const readings = useReadPointReadings(runId, hours);
-  const me = useMe();
   const record = useRecordDisposition(runId);
   const confirm = useConfirmReading();
   const withdraw = useWithdrawDisposition();
@@ -34,7 +34,7 @@ export function CoveragePanel({ runId, hours }: { runId: string; hours: number }
   const [reason, setReason] = useState('');
   const [confirmNote, setConfirmNote] = useState('');
   const [done, setDone] = useState<string | null>(null);
-  const isEngineer = me.data?.role === 'engineer';
+  const may = useCan();
 
   const submit = () => {
     if (!kind) return;
@@ -85,8 +85,8 @@ export function CoveragePanel({ runId, hours }: { runId: string; hours: number }
                   <Text variant="label">Dispositions in this run</Text>
                   {c.dispositions.map((d) => (
                     <View key={d.id} style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs, alignItems: 'center' }}>
-                      <Text variant="caption">{`${d.serial} · ${d.kindLabel} from ${d.readPointH} h · ${d.reason} (${d.byName}, ${new Date(d.at).toLocaleString('en-GB')})`}</Text>
-                      {isEngineer ? (
+                      <Text variant="caption">{`${d.serial} · ${d.kindLabel} from ${d.readPointH} h · ${d.reason} (${d.byName}, ${formatDateTime(d.at)})`}</Text>
+                      {may('disposition.withdraw') ? (
                         <Button
                           size="sm"
                           variant="quiet"
@@ -101,7 +101,7 @@ export function CoveragePanel({ runId, hours }: { runId: string; hours: number }
                       ) : null}
                     </View>
                   ))}
-                  {isEngineer ? (
+                  {may('disposition.withdraw') ? (
                     <View style={{ maxWidth: 420 }}>
                       <Field
                         label="Why withdraw a disposition (engineer)"
@@ -175,7 +175,7 @@ export function CoveragePanel({ runId, hours }: { runId: string; hours: number }
           {flagged.map((r) => (
             <View key={r.id} style={{ gap: 2 }}>
               <Text variant="caption">{`${r.serial}: ${r.conditionsFlag}`}</Text>
-              {isEngineer ? (
+              {may('reading.confirm') ? (
                 <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap', alignItems: 'flex-end' }}>
                   <View style={{ flexGrow: 1, flexBasis: 220 }}>
                     <Field label={`Why ${r.serial} may be judged`} value={confirmNote} onChangeText={setConfirmNote} />

@@ -1,3 +1,4 @@
+import { MEASURE_WITHIN_H } from '@/shared/domain/standards';
 import { useState } from 'react';
 import { View } from 'react-native';
 import { manualReadingSchema, type ManualReading, type UploadResult } from '@/shared/schemas/measurements';
@@ -148,7 +149,7 @@ export function ManualEntryForm({ runId, hours }: { runId: string; hours: number
         {failure?.rows ? <RowOutcomes rows={failure.rows} noun="Device" /> : null}
         {result ? (
           <Banner tone="ok" title="Stored">
-            {`${result.inserted} new and ${result.replaced} replaced reading${result.inserted + result.replaced === 1 ? '' : 's'}${result.late ? `; ${result.late} flagged late (more than 96 h after bias was removed)` : ''}.`}
+            {`${result.inserted} new and ${result.replaced} replaced reading${result.inserted + result.replaced === 1 ? '' : 's'}${result.late ? `; ${result.late} flagged late (more than ${MEASURE_WITHIN_H} h after bias was removed)` : ''}.`}
           </Banner>
         ) : null}
       </View>

@@ -1,3 +1,5 @@
+import { formatDateTime } from '@/components/common/format';
+import { MEASURE_WITHIN_H } from '@/shared/domain/standards';
 import { useMemo, useState } from 'react';
 import { View } from 'react-native';
 import type { MeasurementRunSummary } from '@/shared/schemas/measurements';
@@ -16,7 +18,8 @@ import { CoveragePanel } from './CoveragePanel';
 import { ManualEntryForm } from './ManualEntryForm';
 import { UploadPanel } from './UploadPanel';
 
-const STATE_ORDER = ['read-hold', 'cooling', 'paused', 'stressing', 'heating', 'loading', 'booked', 'finished'];
+/** Runs listed by how soon they need read-point work. */
+const STATE_ORDER: readonly string[] = ['read-hold', 'cooling', 'paused', 'stressing', 'heating', 'loading', 'booked', 'finished'];
 
 const runLabel = (r: MeasurementRunSummary) => `${r.code} · ${r.lots.map((l) => l.code).join(', ') || r.partNumber} · ${r.state}`;
 
@@ -74,7 +77,7 @@ export function ReadingsScreen() {
                         />
                         {r.biasRemovedAt ? (
                           <Text variant="caption" tone="muted">
-                            Bias last removed {new Date(r.biasRemovedAt).toLocaleString('en-GB')}. Readings more than 96 h later are flagged late; put the parts back on stress first (JESD22-A108, from memory).
+                            Bias last removed {formatDateTime(r.biasRemovedAt)}. Readings more than {MEASURE_WITHIN_H} h later are flagged late; put the parts back on stress first (JESD22-A108, from memory).
                           </Text>
                         ) : null}
                       </Card>

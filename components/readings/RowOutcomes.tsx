@@ -1,3 +1,4 @@
+import { MEASURE_WITHIN_H } from '@/shared/domain/standards';
 import { MEASUREMENT_RESULT_LABEL } from '@/shared/evidence';
 import { useState } from 'react';
 import { View } from 'react-native';
@@ -35,7 +36,7 @@ const columns = (noun: string): Column<RowResult>[] => [
     flex: 3,
     render: (r) => (
       <Text variant="caption" tone={r.reasons.length ? 'danger' : 'muted'}>
-        {r.late ? 'Measured more than 96 h after bias was removed (JESD22-A108 window, from memory). ' : ''}
+        {r.late ? `Measured more than ${MEASURE_WITHIN_H} h after bias was removed (JESD22-A108 window, from memory). ` : ''}
         {r.reasons.length ? r.reasons.join(' ') : r.values ? valuesText(r.values) : '—'}
         {r.conditionsFlag ? ` Flagged: ${r.conditionsFlag} Not judged until an engineer confirms it.` : ''}
       </Text>

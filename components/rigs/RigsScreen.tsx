@@ -5,7 +5,7 @@ import { formatDateTime } from '@/components/common/format';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { describeError } from '@/components/queries/api';
-import { useMe } from '@/components/queries/auth';
+import { useCan } from '@/components/queries/auth';
 import { useRejections, useRevokeRig, useRigs, useRotateCredentials, useTelemetryStats } from '@/components/queries/rigs';
 import { space } from '@/components/theme/tokens';
 import { Banner } from '@/components/ui/Banner';
@@ -89,8 +89,7 @@ function IngestHealth() {
 /** Admin (writes) and engineer (reads): the rigs, their MQTT credentials and maintenance. */
 export function RigsScreen() {
   const rigs = useRigs();
-  const me = useMe();
-  const isAdmin = me.data?.role === 'admin';
+  const canManage = useCan()('rig.manage');
   const rotate = useRotateCredentials();
   const revoke = useRevokeRig();
   const [registering, setRegistering] = useState(false);
@@ -166,7 +165,7 @@ export function RigsScreen() {
       render: (r) => (
         <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
           <Button size="sm" variant="secondary" label="Maintenance" accessibilityLabel={`Maintenance of rig ${r.code}`} onPress={() => setMaintFor(r)} />
-          {isAdmin ? (
+          {canManage ? (
             <>
               <Button size="sm" label="New secret" accessibilityLabel={`Issue a new MQTT secret for rig ${r.code}`} onPress={() => setPending({ kind: 'rotate', rig: r })} />
               {!r.credentialsRevokedAt ? (
@@ -185,7 +184,7 @@ export function RigsScreen() {
         eyebrow="Lab equipment"
         title="Rigs"
         subtitle="The burn-in rigs, their limits, their MQTT credentials and booked maintenance."
-        actions={isAdmin && !registering && !issued ? <Button label="Register rig" variant="primary" onPress={() => { setNotice(null); setRegistering(true); }} testID="register-rig" /> : null}
+        actions={canManage && !registering && !issued ? <Button label="Register rig" variant="primary" onPress={() => { setNotice(null); setRegistering(true); }} testID="register-rig" /> : null}
       />
       {issued ? <SecretReveal rigCode={issued.rig.code} credentials={issued.credentials} onDone={() => setIssued(null)} /> : null}
       {notice ? (
@@ -207,11 +206,11 @@ export function RigsScreen() {
         loadingLabel="Loading rigs…"
         errorTitle="Could not load the rigs"
         isEmpty={(l) => l.length === 0}
-        empty={<EmptyState title="No rigs registered" message={isAdmin ? 'Register the first rig to issue its MQTT credentials.' : 'An administrator registers rigs.'} />}
+        empty={<EmptyState title="No rigs registered" message={canManage ? 'Register the first rig to issue its MQTT credentials.' : 'An administrator registers rigs.'} />}
       >
         {(list) => <DataTable caption="Registered rigs" columns={columns} rows={list} rowKey={(r) => r.id} minTableWidth={860} testID="rigs-table" />}
       </QueryState>
-      {maintFor ? <MaintenancePanel rig={maintFor} canEdit={isAdmin} onClose={() => setMaintFor(null)} /> : null}
+      {maintFor ? <MaintenancePanel rig={maintFor} canEdit={canManage} onClose={() => setMaintFor(null)} /> : null}
       <IngestHealth />
       <SafetyCaution compact />
 

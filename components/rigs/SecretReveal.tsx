@@ -1,3 +1,4 @@
+import { formatDateTime } from '@/components/common/format';
 import { Platform, View } from 'react-native';
 import type { RigCredentials } from '@/shared/schemas/rigs';
 import { colors, radius, space } from '@/components/theme/tokens';
@@ -33,7 +34,7 @@ export function SecretReveal({ rigCode, credentials, onDone }: { rigCode: string
         <Secret label="User name" value={credentials.username} testID="secret-username" />
         <Secret label="Secret" value={credentials.secret} testID="secret-value" />
         <Text variant="caption" tone="muted">
-          Client id on the broker: rig-{rigCode}. Issued {new Date(credentials.issuedAt).toLocaleString('en-GB')}.
+          Client id on the broker: rig-{rigCode}. Issued {formatDateTime(credentials.issuedAt)}.
         </Text>
         <Button label="I have stored the secret" variant="primary" onPress={onDone} testID="secret-done" />
       </View>

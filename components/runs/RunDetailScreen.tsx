@@ -9,7 +9,7 @@ import { formatDateTime } from '@/components/common/format';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { describeError } from '@/components/queries/api';
-import { useMe } from '@/components/queries/auth';
+import { useCan } from '@/components/queries/auth';
 import { SocketFlagsError, useLoadSockets, useRun, useRunAction } from '@/components/queries/runs';
 import { colors, radius, space, tones } from '@/components/theme/tokens';
 import { Banner } from '@/components/ui/Banner';
@@ -23,7 +23,9 @@ import { QueryState } from '@/components/ui/QueryState';
 import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
-import { RUN_ACTION_LABEL, type RunAction, type RunDetail, type RunSocket, type SocketFlag, type SocketLoadResult } from '@/shared/schemas/runs';
+import { CHAMBER_TOLERANCE_PCT, measureByMs } from '@/shared/domain/standards';
+import { DRIVEN_STATES } from '@/shared/domain/run-states';
+import { RUN_ACTIONS, RUN_ACTION_LABEL, type RunAction, type RunDetail, type RunSocket, type SocketFlag, type SocketLoadResult } from '@/shared/schemas/runs';
 import { RUN_STATE_TONE, columnToSocketMap, hours } from './run-look';
 
 const AUDIT_LABEL: Record<string, string> = {
@@ -96,9 +98,9 @@ function stateNote(run: RunDetail): { tone: 'info' | 'warn' | 'danger' | 'ok'; t
     case 'loading':
       return { tone: 'info', text: `${run.loadedCount} of ${run.sampleSize} sockets loaded. Start once every device is placed.` };
     case 'heating':
-      return { tone: 'info', text: `Heating since ${formatDateTime(run.heatingSince)}: hours count once the chamber is within ±3 % of ${run.plan.chamberC} °C.` };
+      return { tone: 'info', text: `Heating since ${formatDateTime(run.heatingSince)}: hours count once the chamber is within ±${CHAMBER_TOLERANCE_PCT} % of ${run.plan.chamberC} °C.` };
     case 'read-hold': {
-      const measureBy = run.biasRemovedAt ? new Date(Date.parse(run.biasRemovedAt) + 96 * 3_600_000).toISOString() : null;
+      const measureBy = run.biasRemovedAt ? new Date(measureByMs(Date.parse(run.biasRemovedAt))).toISOString() : null;
       return {
         tone: 'warn',
         text: `Read point ${hours(run.lastReadPointH)}: bias off since ${formatDateTime(run.biasRemovedAt)}. Measure the devices by ${formatDateTime(measureBy)}, then mark the measurements done to heat again.`,
@@ -117,13 +119,13 @@ function stateNote(run: RunDetail): { tone: 'info' | 'warn' | 'danger' | 'ok'; t
   }
 }
 
-function Actions({ run, canAct }: { run: RunDetail; canAct: boolean }) {
+function Actions({ run, may }: { run: RunDetail; may: (a: RunAction) => boolean }) {
   const act = useRunAction(run.id);
   const [abortOpen, setAbortOpen] = useState(false);
   const [abortReason, setAbortReason] = useState('');
   const [note, setNote] = useState('');
-  const actions = run.allowedActions.filter((a): a is Exclude<RunAction, 'load' | 'abort'> => a !== 'load' && a !== 'abort');
-  if (!canAct) return <Text tone="muted">Operators and engineers start, pause and abort runs.</Text>;
+  const actions = run.allowedActions.filter((a): a is Exclude<RunAction, 'load' | 'abort'> => a !== 'load' && a !== 'abort' && may(a));
+  if (!RUN_ACTIONS.some(may)) return <Text tone="muted">Operators and engineers start, pause and abort runs.</Text>;
   const run1 = (action: Exclude<RunAction, 'load'>, reason?: string) =>
     act.mutate({ action, rowVersion: run.rowVersion, reason }, { onSuccess: () => { setNote(''); setAbortOpen(false); setAbortReason(''); } });
   const energises = actions.includes('start') || actions.includes('resume') || actions.includes('measurements-done');
@@ -145,7 +147,7 @@ function Actions({ run, canAct }: { run: RunDetail; canAct: boolean }) {
             onPress={() => run1(a, note.trim() || undefined)}
           />
         ))}
-        {run.allowedActions.includes('abort') ? <Button label="Abort run" variant="danger" onPress={() => setAbortOpen(true)} /> : null}
+        {run.allowedActions.includes('abort') && may('abort') ? <Button label="Abort run" variant="danger" onPress={() => setAbortOpen(true)} /> : null}
       </View>
       {act.isError && !abortOpen ? <Banner tone="danger">{describeError(act.error)}</Banner> : null}
       <ConfirmDialog
@@ -232,8 +234,8 @@ function Loading({ run }: { run: RunDetail }) {
 
 export function RunDetailScreen({ id }: { id: string }) {
   const query = useRun(id || undefined);
-  const me = useMe();
-  const canAct = me.data?.role === 'operator' || me.data?.role === 'engineer';
+  const can = useCan();
+  const may = (a: RunAction) => can(`run.${a}`);
   const socketColumns: Column<RunSocket>[] = [
     { key: 'socket', title: 'Socket', flex: 0.6, card: 'title', render: (s) => `Socket ${s.socket}` },
     { key: 'serial', title: 'Serial', flex: 1, render: (s) => s.serial },
@@ -271,7 +273,7 @@ export function RunDetailScreen({ id }: { id: string }) {
                   {`Sample: ${run.sample.bookedSize} of the plan's ${run.sample.plannedSize} devices${run.sample.runCodes.length > 1 ? `, split over runs ${run.sample.runCodes.join(' + ')} and judged as one` : ''}.${run.sample.deviation ? ` Deviation recorded: “${run.sample.deviation}”` : ''}`}
                 </Text>
               ) : null}
-              {run.rig && !run.rig.online && ['heating', 'stressing', 'paused', 'read-hold', 'cooling'].includes(run.state) ? (
+              {run.rig && !run.rig.online && DRIVEN_STATES.includes(run.state) ? (
                 <Banner tone="danger">{`${run.rig.code} is offline: no telemetry, so no hours count and commands wait until it is back.`}</Banner>
               ) : null}
               <Card title="Stress hours">
@@ -291,10 +293,10 @@ export function RunDetailScreen({ id }: { id: string }) {
               </Card>
               {run.allowedActions.length ? (
                 <Card title="Actions">
-                  <Actions run={run} canAct={canAct} />
+                  <Actions run={run} may={may} />
                 </Card>
               ) : null}
-              {canAct && run.allowedActions.includes('load') ? <Loading run={run} /> : null}
+              {may('load') && run.allowedActions.includes('load') ? <Loading run={run} /> : null}
               <Card title="Socket map">
                 {run.sockets.length ? (
                   <DataTable rows={run.sockets} columns={socketColumns} rowKey={(s) => String(s.socket)} caption={`Sockets of run ${run.code}`} />

@@ -7,7 +7,7 @@ import { useState } from 'react';
 import { View } from 'react-native';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
-import { useMe } from '@/components/queries/auth';
+import { useCan } from '@/components/queries/auth';
 import { useRuns, useTimeline } from '@/components/queries/runs';
 import { RUN_STATE_TONE, hours, shortTime } from '@/components/runs/run-look';
 import { space } from '@/components/theme/tokens';
@@ -23,12 +23,12 @@ import { BookingPanel } from './BookingPanel';
 import { Timeline } from './Timeline';
 
 export function ScheduleScreen() {
-  const me = useMe();
+  const may = useCan();
   const router = useRouter();
   const timeline = useTimeline();
   const runs = useRuns({ open: true });
   const [booking, setBooking] = useState(false);
-  const canBook = me.data?.role === 'engineer';
+  const canBook = may('run.book');
 
   const columns: Column<Run>[] = [
     { key: 'code', title: 'Run', flex: 1.2, card: 'title', render: (r) => r.code },

@@ -3,6 +3,7 @@
  * line at now. The rig names stay put; the time track scrolls sideways on a phone and fills the
  * width on a wide screen.
  */
+import { formatDateTime } from '@/components/common/format';
 import { useRouter } from 'expo-router';
 import { useState } from 'react';
 import { Pressable, ScrollView, View, type LayoutChangeEvent } from 'react-native';
@@ -141,7 +142,7 @@ export function Timeline({ data }: { data: TimelineData }) {
                     const w = Math.max(3, Math.min(trackW, x(Date.parse(m.end))) - l);
                     return (
                       <View key={m.id} style={{ position: 'absolute', left: l, top: 4, height: ROW_H - 8 }}>
-                        <Hatch width={w} height={ROW_H - 8} label={`${r.code} maintenance ${new Date(m.start).toLocaleString('en-GB')} to ${new Date(m.end).toLocaleString('en-GB')}${m.reason ? `: ${m.reason}` : ''}`} />
+                        <Hatch width={w} height={ROW_H - 8} label={`${r.code} maintenance ${formatDateTime(m.start)} to ${formatDateTime(m.end)}${m.reason ? `: ${m.reason}` : ''}`} />
                       </View>
                     );
                   })}

@@ -1,3 +1,4 @@
+import { can, type Permission } from '@/shared/domain/permissions';
 import type { Role } from '@/shared/roles';
 import type { NavIconName } from '@/components/icons/NavIcon';
 
@@ -5,21 +6,22 @@ export interface Destination {
   path: string;
   label: string;
   icon: NavIconName;
-  roles: readonly Role[];
+  /** Who sees it: an entry of the permission table (shared/domain/permissions.ts). */
+  permission: Permission;
 }
 
-/** Every top-level place in the app, in menu order, with the roles that see it. */
+/** Every top-level place in the app, in menu order, with the permission that shows it. */
 export const DESTINATIONS: readonly Destination[] = [
-  { path: '/floor', label: 'Floor', icon: 'floor', roles: ['operator', 'engineer', 'admin'] },
-  { path: '/alarms', label: 'Alarms', icon: 'alarms', roles: ['operator', 'engineer', 'admin'] },
-  { path: '/readings', label: 'Read points', icon: 'readings', roles: ['operator', 'engineer'] },
-  { path: '/plans', label: 'Plans', icon: 'plans', roles: ['engineer'] },
-  { path: '/devices', label: 'Devices & lots', icon: 'devices', roles: ['engineer', 'manager'] },
-  { path: '/schedule', label: 'Schedule', icon: 'schedule', roles: ['engineer', 'operator', 'manager'] },
-  { path: '/trends', label: 'Lot trends', icon: 'trends', roles: ['manager', 'engineer'] },
-  { path: '/people', label: 'People', icon: 'people', roles: ['admin'] },
-  { path: '/mail', label: 'Mail log', icon: 'mail', roles: ['admin'] },
-  { path: '/rigs', label: 'Rigs', icon: 'rigs', roles: ['admin', 'engineer'] },
+  { path: '/floor', label: 'Floor', icon: 'floor', permission: 'page.floor' },
+  { path: '/alarms', label: 'Alarms', icon: 'alarms', permission: 'page.alarms' },
+  { path: '/readings', label: 'Read points', icon: 'readings', permission: 'page.readings' },
+  { path: '/plans', label: 'Plans', icon: 'plans', permission: 'page.plans' },
+  { path: '/devices', label: 'Devices & lots', icon: 'devices', permission: 'page.devices' },
+  { path: '/schedule', label: 'Schedule', icon: 'schedule', permission: 'page.schedule' },
+  { path: '/trends', label: 'Lot trends', icon: 'trends', permission: 'page.trends' },
+  { path: '/people', label: 'People', icon: 'people', permission: 'page.people' },
+  { path: '/mail', label: 'Mail log', icon: 'mail', permission: 'page.mail' },
+  { path: '/rigs', label: 'Rigs', icon: 'rigs', permission: 'page.rigs' },
 ];
 
 /** Pages every signed-in person may open, outside the role menus. */
@@ -29,7 +31,7 @@ export const ACCOUNT_PATH = '/account';
 export const PHONE_TABS = 4;
 
 export function destinationsFor(role: Role): Destination[] {
-  return DESTINATIONS.filter((d) => d.roles.includes(role));
+  return DESTINATIONS.filter((d) => can(role, d.permission));
 }
 
 export function splitForPhone(list: readonly Destination[]): { tabs: Destination[]; overflow: Destination[] } {
@@ -45,7 +47,7 @@ export function destinationAt(pathname: string): Destination | undefined {
 /** False only for a known destination that belongs to other roles. */
 export function canOpen(role: Role, pathname: string): boolean {
   const d = destinationAt(pathname);
-  return !d || d.roles.includes(role);
+  return !d || can(role, d.permission);
 }
 
 export function isActive(pathname: string, path: string): boolean {

@@ -1,3 +1,5 @@
+import { grouped } from '@/shared/domain/format';
+
 /** Number formatting for drift tables: significant digits, a true minus sign, "—" for missing. */
 export function sig(v: number | null | undefined, digits = 3): string {
   if (v === null || v === undefined || !Number.isFinite(v)) return '—';
@@ -12,7 +14,7 @@ export function pct(v: number | null | undefined, digits = 3): string {
 
 export function hours(v: number | null | undefined): string {
   if (v === null || v === undefined || !Number.isFinite(v)) return '—';
-  return `${Math.round(v).toLocaleString('en-GB')} h`;
+  return `${grouped(Math.round(v))} h`;
 }
 
 export function amps(a: number | null | undefined): string {

@@ -8,7 +8,8 @@
  * The helpers (insertHistoryRun; mulberry32 from shared/random.ts) are also used by the API tests.
  */
 import type { DataSource, EntityManager } from 'typeorm';
-import { In, Not } from 'typeorm';
+import { In } from 'typeorm';
+import { ON_RIG_STATES } from '../../shared/domain/run-states';
 import type { PlanKind } from '../../shared/schemas/plans';
 import {
   DeviceEntity,
@@ -295,7 +296,7 @@ async function rigFor(m: EntityManager, codes: string[], active: boolean): Promi
   rigs.sort((a, b) => codes.indexOf(a.code) - codes.indexOf(b.code));
   for (const r of rigs) {
     if (!active) return r;
-    const busy = await m.count(RunEntity, { where: { rigId: r.id, state: Not(In(['finished', 'aborted', 'booked'])) } });
+    const busy = await m.count(RunEntity, { where: { rigId: r.id, state: In([...ON_RIG_STATES]) } });
     if (!busy) return r;
   }
   return rigs[0] ?? null;

@@ -6,7 +6,8 @@
  * does not fit (a changed demo rig) is skipped with a log line rather than stored wrong.
  */
 import type { DataSource, EntityManager } from 'typeorm';
-import { In, Not } from 'typeorm';
+import { In } from 'typeorm';
+import { ON_RIG_STATES } from '../../shared/domain/run-states';
 import { planBiasV, runDurationMs, staticRefusals } from '../../shared/scheduling';
 import type { PlanKind } from '../../shared/schemas/plans';
 import type { RunState } from '../../shared/schemas/runs';
@@ -65,7 +66,7 @@ async function insertLiveRun(m: EntityManager, s: DemoLiveRun, engineer: UserEnt
   const sampleSize = s.perLot * lots.length;
   const refusals = staticRefusals(rig, { chamberC: plan.chamberC, humidityPct: plan.humidityPct, biasV: planBiasV(plan), sampleSize, durationH: plan.durationH, readPointsH: plan.readPointsH });
   if (refusals.length) return log(`[seed] runs: ${s.code} skipped: ${refusals.join(' ')}`);
-  const busy = await m.count(RunEntity, { where: { rigId: rig.id, state: Not(In(['finished', 'aborted', 'booked'])) } });
+  const busy = await m.count(RunEntity, { where: { rigId: rig.id, state: In([...ON_RIG_STATES]) } });
   if (busy && s.state !== 'booked') return log(`[seed] runs: ${s.code} skipped (${rig.code} is in use)`);
 
   const timing = timingFrom(configFromEnv());

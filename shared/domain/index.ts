@@ -4,3 +4,6 @@
  */
 export * from './stress';
 export * from './run-states';
+export * from './standards';
+export * from './permissions';
+export * from './format';

@@ -17,6 +17,8 @@ export const DRIVEN_STATES: readonly RunState[] = ['heating', 'stressing', 'paus
 /** States in which the run needs the chamber at its set point. */
 export const HEAT_STATES: readonly RunState[] = ['heating', 'stressing', 'paused'];
 export const TERMINAL_STATES: readonly RunState[] = ['finished', 'aborted'];
+/** States after bias came off for a read point or the end of stress, whose measurements may fall overdue. */
+export const MEASURE_PENDING_STATES: readonly RunState[] = ['read-hold', 'cooling', 'finished'];
 
 /** SQL list literal of a state set, for raw queries: `state IN ${sqlStateList(ON_RIG_STATES)}`. */
 export const sqlStateList = (states: readonly RunState[]): string => `(${states.map((s) => `'${s}'`).join(',')})`;

@@ -30,3 +30,9 @@ export const isPoweredKind = (kind: PlanKind): boolean => STRESS_FAMILY[kind] ==
 export const isHumidityKind = (kind: PlanKind): boolean => kind === 'thb';
 /** Kinds that switch power on and off in cycles (MIL-STD-750 method 1037). */
 export const isCyclingKind = (kind: PlanKind): boolean => kind === 'iol';
+
+/** The reverse-bias kinds as a set, for hot paths that hold a kind read from the database as a string. */
+export const REVERSE_BIAS_KINDS: ReadonlySet<string> = new Set(PLAN_KINDS.filter(isReverseBiasKind));
+/** Whether a kind read back as a string (database, fleet file) is a powered one. */
+export const isPoweredKindName = (kind: string): boolean =>
+  (PLAN_KINDS as readonly string[]).includes(kind) && isPoweredKind(kind as PlanKind);

@@ -15,8 +15,9 @@
  * Once a socket has tripped it stays out for the rest of the run (latched).
  */
 
-export const CHAMBER_TOLERANCE_PCT = 3;
-export const HUMIDITY_TOLERANCE_RH = 5;
+import { CHAMBER_TOLERANCE_PCT, HUMIDITY_TOLERANCE_RH } from '../domain/standards';
+
+export { CHAMBER_TOLERANCE_PCT, HUMIDITY_TOLERANCE_RH };
 
 export interface Band {
   lowC: number;

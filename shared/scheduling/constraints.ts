@@ -10,6 +10,7 @@
  *   the same time need the same set temperature and humidity); the sockets of every run sharing
  *   the oven at the same time fit on its board. Anything else is an overlap and is refused.
  */
+import { formatUtc } from '../domain/format';
 
 export interface RigCapability {
   id: string;
@@ -99,12 +100,8 @@ export function n(x: number): string {
   return String(+x.toFixed(2));
 }
 
-const pad = (v: number) => String(v).padStart(2, '0');
-/** "2026-03-02 08:00 UTC" (messages are stored and audited, so they carry their zone). */
-export function when(ms: number): string {
-  const d = new Date(ms);
-  return `${d.getUTCFullYear()}-${pad(d.getUTCMonth() + 1)}-${pad(d.getUTCDate())} ${pad(d.getUTCHours())}:${pad(d.getUTCMinutes())} UTC`;
-}
+/** "2026-03-02 08:00 UTC" (messages are stored and audited, so they carry their zone): shared/domain/format.ts. */
+export const when = (ms: number): string => formatUtc(ms);
 
 const condition = (c: number, rh: number | null) => (rh === null ? `${n(c)} °C` : `${n(c)} °C / ${n(rh)} % RH`);
 

@@ -3,14 +3,16 @@ export * from './constraints';
 export * from './heuristic';
 export * from './accrual';
 
-import type { Bias, PlanKind } from '../schemas/plans';
+import type { Bias } from '../schemas/plans';
+import { DEFAULT_BIAS_TOLERANCE_PCT } from '../domain/standards';
+import { isCyclingKind, isPoweredKind, isReverseBiasKind, type PlanKind } from '../domain/stress';
 import type { AccrualConditions } from './accrual';
 
 type PlanLike = { kind: PlanKind; bias: Bias };
 
 /** The bias voltage a run applies (and the rig must supply): VCB under reverse bias, VCE when powered. */
 export function planBiasV(plan: PlanLike): number | null {
-  const v = plan.kind === 'htrb' || plan.kind === 'thb' ? plan.bias.vcbV : plan.bias.vceV;
+  const v = isReverseBiasKind(plan.kind) ? plan.bias.vcbV : plan.bias.vceV;
   return v === null || v === undefined ? null : v;
 }
 
@@ -25,7 +27,7 @@ export function planBiasSettings(plan: PlanLike): { vV?: number; iA?: number; ic
   const out: { vV?: number; iA?: number; icA?: number } = {};
   const v = planBiasV(plan);
   if (v !== null) out.vV = v;
-  if (plan.kind === 'hotl' || plan.kind === 'iol') {
+  if (isPoweredKind(plan.kind)) {
     if (plan.bias.icA !== null && plan.bias.icA !== undefined) out.icA = plan.bias.icA;
     else if (plan.bias.ibA !== null && plan.bias.ibA !== undefined) out.iA = plan.bias.ibA;
   }
@@ -38,7 +40,7 @@ export function accrualConditionsFor(plan: PlanLike & { chamberC: number; humidi
     setC: plan.chamberC,
     humidityPct: plan.humidityPct,
     biasV: planBiasV(plan),
-    biasTolerancePct: plan.bias.tolerancePct ?? 5,
-    runNeedsBiasedSocket: plan.kind !== 'iol',
+    biasTolerancePct: plan.bias.tolerancePct ?? DEFAULT_BIAS_TOLERANCE_PCT,
+    runNeedsBiasedSocket: !isCyclingKind(plan.kind),
   };
 }

@@ -1,19 +1,10 @@
 /** Live floor API (/api/floor): rig tiles, a rig's socket board, its temperature chart. */
 import { z } from 'zod';
+import type { RunState } from '../domain/run-states';
 import { rigCodeInputSchema } from './rigs';
 
 export const floorRigParamSchema = z.object({ code: rigCodeInputSchema });
 
-export type RunStateName =
-  | 'booked'
-  | 'loading'
-  | 'heating'
-  | 'stressing'
-  | 'paused'
-  | 'read-hold'
-  | 'cooling'
-  | 'finished'
-  | 'aborted';
 
 /** One rig on the floor. Counts come from the rig's newest telemetry message and its current run. */
 export interface FloorTile {
@@ -44,7 +35,7 @@ export interface FloorTile {
   run: {
     id: string;
     code: string;
-    state: RunStateName;
+    state: RunState;
     stressHours: number;
     /** Next read point (stress hours) and the stress hours left to it; null when not stressing. */
     nextReadPointH: number | null;

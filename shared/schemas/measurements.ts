@@ -129,8 +129,6 @@ export const uploadQuerySchema = z.object({
 /** Upload limits. */
 export const UPLOAD_MAX_BYTES = 2 * 1024 * 1024;
 export const UPLOAD_MAX_ROWS = 5000;
-/** Measured later than this after bias removal → flagged late (JESD22-A108 window, from memory). */
-export const LATE_AFTER_BIAS_REMOVAL_H = 96;
 
 /**
  * One device's reading entered by hand, SI units. A dead device (result open / short / no-reading)

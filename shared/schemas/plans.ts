@@ -1,7 +1,8 @@
 import { z } from 'zod';
 import { num } from './devices';
 
-import { PLAN_KINDS, type PlanKind } from '../domain/stress';
+import { PLAN_KINDS, isCyclingKind, isHumidityKind, isPoweredKind, isReverseBiasKind, type PlanKind } from '../domain/stress';
+import { DEFAULT_BIAS_TOLERANCE_PCT, DEFAULT_EA_EV, DEFAULT_READ_POINTS_H, DEFAULT_USE_C, REVERSE_BIAS_FRACTION } from '../domain/standards';
 
 export { PLAN_KINDS, type PlanKind } from '../domain/stress';
 export const PLAN_KIND_LABEL: Record<PlanKind, string> = {
@@ -24,7 +25,7 @@ export const biasSchema = z.object({
   /** Collector current regulated (A) — hotl / iol when the rig regulates IC. */
   icA: num().min(0).max(1000).nullable().default(null),
   /** Bias tolerance band for hour accrual, ± percent of set. */
-  tolerancePct: num().min(0.5).max(20).default(5),
+  tolerancePct: num().min(0.5).max(20).default(DEFAULT_BIAS_TOLERANCE_PCT),
 });
 export type Bias = z.infer<typeof biasSchema>;
 
@@ -81,15 +82,15 @@ export const planInputSchema = z
       .array(num().min(0).max(100000))
       .min(1, 'Give at least one read point')
       .max(20)
-      .default([0, 168, 500, 1000]),
+      .default(() => [...DEFAULT_READ_POINTS_H]),
     sampleSize: z.number().int().positive().max(10000),
     acceptNumber: z.number().int().min(0).max(1000),
     criteria: criteriaSchema,
-    eaEv: num().min(0.1).max(2).default(0.7),
-    useC: num().min(-55).max(200).default(55),
+    eaEv: num().min(0.1).max(2).default(DEFAULT_EA_EV),
+    useC: num().min(-55).max(200).default(DEFAULT_USE_C),
     cycle: cycleSchema.nullable().default(null),
     /** Derating applied to breakdown ratings in the plan check (fraction of rated, e.g. 0.8). */
-    breakdownDerating: num().min(0.1).max(1).default(0.8),
+    breakdownDerating: num().min(0.1).max(1).default(REVERSE_BIAS_FRACTION),
     notes: z.string().trim().max(2000).default(''),
   })
   .superRefine((p, ctx) => {
@@ -103,16 +104,16 @@ export const planInputSchema = z
     if (p.acceptNumber >= p.sampleSize) {
       ctx.addIssue({ code: 'custom', path: ['acceptNumber'], message: 'Accept number must be below the sample size' });
     }
-    if ((p.kind === 'htrb' || p.kind === 'thb') && (p.bias.vcbV === null || p.bias.vcbV <= 0)) {
+    if (isReverseBiasKind(p.kind) && (p.bias.vcbV === null || p.bias.vcbV <= 0)) {
       ctx.addIssue({ code: 'custom', path: ['bias', 'vcbV'], message: 'Reverse-bias plans need a collector-base voltage' });
     }
-    if ((p.kind === 'hotl' || p.kind === 'iol') && (p.bias.vceV === null || (p.bias.ibA === null && p.bias.icA === null))) {
+    if (isPoweredKind(p.kind) && (p.bias.vceV === null || (p.bias.ibA === null && p.bias.icA === null))) {
       ctx.addIssue({ code: 'custom', path: ['bias', 'vceV'], message: 'Powered plans need VCE and either IB or IC' });
     }
-    if (p.kind === 'thb' && p.humidityPct === null) {
+    if (isHumidityKind(p.kind) && p.humidityPct === null) {
       ctx.addIssue({ code: 'custom', path: ['humidityPct'], message: 'Humidity plans need a relative humidity' });
     }
-    if (p.kind === 'iol' && p.cycle === null) {
+    if (isCyclingKind(p.kind) && p.cycle === null) {
       ctx.addIssue({ code: 'custom', path: ['cycle'], message: 'Intermittent plans need on/off times' });
     }
   });

@@ -4,17 +4,10 @@ import { DeviceEntity, LotEntity } from './lot.entity';
 import { RigEntity } from './rig.entity';
 import { StressPlanEntity } from './stress-plan.entity';
 
-/** Run lifecycle states; see shared/schemas/runs.ts for their meaning. */
-export type RunState =
-  | 'booked'
-  | 'loading'
-  | 'heating'
-  | 'stressing'
-  | 'paused'
-  | 'read-hold'
-  | 'cooling'
-  | 'finished'
-  | 'aborted';
+import type { RunState } from '../../../shared/domain/run-states';
+
+/** Run lifecycle states: declared in shared/domain/run-states.ts. */
+export type { RunState };
 
 /**
  * One sample judged as a whole: a run, or runs on several rigs booked together (the plan asks for

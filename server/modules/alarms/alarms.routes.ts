@@ -1,3 +1,4 @@
+import { rolesFor } from '../../../shared/domain/permissions';
 import { acknowledgeAlarmSchema, alarmListQuerySchema, idParamSchema } from '../../../shared/schemas/alarms';
 import type { AppContext } from '../../context';
 import { ApiRouter } from '../../http/route';
@@ -10,7 +11,7 @@ export function alarmsRoutes(ctx: AppContext): ApiRouter {
   r.get('/', { access: 'signed-in', query: alarmListQuerySchema }, ({ query }) => svc().list(query));
   r.get('/counts', { access: 'signed-in' }, () => svc().counts());
   r.get('/:id', { access: 'signed-in', params: idParamSchema }, ({ params }) => svc().get(params.id));
-  r.post('/:id/acknowledge', { access: ['operator', 'engineer', 'admin'], params: idParamSchema, body: acknowledgeAlarmSchema }, ({ user, params, body }) =>
+  r.post('/:id/acknowledge', { access: rolesFor('alarm.acknowledge'), params: idParamSchema, body: acknowledgeAlarmSchema }, ({ user, params, body }) =>
     svc().acknowledge(user, params.id, body),
   );
   return r;

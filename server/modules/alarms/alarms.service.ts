@@ -14,6 +14,7 @@
  * only after it has been both acknowledged and cleared does the next occurrence open a new one.
  * Raises of one key are serialised by a transaction-scoped advisory lock (safe across processes).
  */
+import { formatUtc } from '../../../shared/domain/format';
 import { In, IsNull, type EntityManager } from 'typeorm';
 import {
   ALARM_KINDS,
@@ -186,7 +187,7 @@ export class AlarmsService {
       if (a.acknowledgedAt) {
         const by = a.acknowledgedById ? await m.findOne(UserEntity, { where: { id: a.acknowledgedById } }) : null;
         throw conflict(
-          `This alarm was already acknowledged${by ? ` by ${by.name}` : ''} at ${a.acknowledgedAt.toISOString().slice(0, 16).replace('T', ' ')} UTC.`,
+          `This alarm was already acknowledged${by ? ` by ${by.name}` : ''} at ${formatUtc(a.acknowledgedAt)}.`,
         );
       }
       a.acknowledgedAt = this.ctx.now();

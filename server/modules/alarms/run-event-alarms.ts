@@ -6,13 +6,15 @@
  * - read-point-overdue → warning alarm (cleared when a held run moves on);
  * - state-changed → clears the alarms the new state makes moot.
  */
+import { MEASURE_WITHIN_H } from '../../../shared/domain/standards';
+import { formatUtc } from '../../../shared/domain/format';
 import type { AppContext } from '../../context';
 import type { RunEvent } from '../runs/run-events';
 import { getNotificationsService } from '../notifications/notifications.service';
 import { getAlarmsService } from './alarms.service';
 
 const f1 = (x: number | null | undefined) => (x === null || x === undefined || !Number.isFinite(x) ? 'n/a' : (Math.round(x * 10) / 10).toFixed(1));
-const when = (iso: string) => iso.slice(0, 16).replace('T', ' ') + ' UTC';
+const when = (iso: string) => formatUtc(iso);
 
 export async function handleRunEvent(ctx: AppContext, e: RunEvent): Promise<void> {
   const alarms = getAlarmsService(ctx);
@@ -75,12 +77,12 @@ export async function handleRunEvent(ctx: AppContext, e: RunEvent): Promise<void
         rigId: e.rigId,
         runId: e.runId,
         socketIndex: null,
-        title: `Run ${e.runCode}: ${which} not measured within 96 h`,
+        title: `Run ${e.runCode}: ${which} not measured within ${MEASURE_WITHIN_H} h`,
         message:
           `Bias came off${where} at ${when(e.biasRemovedAt)}; the devices were to be measured by ${when(e.measureBy)} ` +
           `and no measurements for this read point have been uploaded (${f1(e.overdueH)} h late).`,
         action:
-          'Measure and upload now, and record the delay in the run: the test standard (JESD22-A108) expects electrical tests within 96 h of removing bias, and parametric drift may relax with the time off stress.',
+          `Measure and upload now, and record the delay in the run: the test standard (JESD22-A108) expects electrical tests within ${MEASURE_WITHIN_H} h of removing bias, and parametric drift may relax with the time off stress.`,
         details: { readPointH: e.readPointH, final: e.final, biasRemovedAt: e.biasRemovedAt, measureBy: e.measureBy, overdueH: e.overdueH },
       });
       return;

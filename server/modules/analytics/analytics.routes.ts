@@ -1,3 +1,4 @@
+import { rolesFor } from '../../../shared/domain/permissions';
 import { deviceTypeParamsSchema, deviceTypeQuerySchema, lotListQuerySchema, lotParamsSchema } from '../../../shared/schemas/analytics';
 import type { AppContext } from '../../context';
 import { LotEntity } from '../../db/entities';
@@ -11,7 +12,7 @@ const fileSafe = (s: string) => s.replace(/[^A-Za-z0-9._-]/g, '_').slice(0, 60);
 export function analyticsRoutes(ctx: AppContext): ApiRouter {
   const svc = new AnalyticsService(ctx.ds);
   const r = new ApiRouter('/api/analytics');
-  const readers = ['admin', 'engineer', 'manager'] as const;
+  const readers = rolesFor('trends.read');
 
   r.get('/lots', { access: readers, query: lotListQuerySchema }, async ({ query }) => ({ items: await svc.lots(query) }));
   r.get('/lots/:lotId', { access: readers, params: lotParamsSchema }, ({ params }) => svc.lot(params.lotId));

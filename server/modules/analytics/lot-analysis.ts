@@ -6,6 +6,7 @@
 import type { FitFigures, LotDevice, LotReadPointStats, TrendFit } from '../../../shared/schemas/analytics';
 import type { DeviceDriftView } from '../../../shared/schemas/measurements';
 import type { Criteria } from '../../../shared/schemas/plans';
+import { isPoweredKindName } from '../../../shared/domain/stress';
 import { arrheniusFactor, constantsUsed, fitUpperBoundDetails } from '../../../shared/reliability';
 import { lotDriftSummary, pseudoFailureTime } from '../../../shared/stats';
 
@@ -203,7 +204,7 @@ export function planFit(p: { exposure: { devices: number; deviceHours: number; f
  */
 export function stressTemperature(plan: { kind: string; chamberC: number; checkResult?: { derived?: { tjC?: unknown } } | null }): { stressC: number; stressBasis: string } {
   const tj = plan.checkResult?.derived?.tjC;
-  if ((plan.kind === 'hotl' || plan.kind === 'iol') && typeof tj === 'number' && Number.isFinite(tj) && tj > plan.chamberC) {
+  if (isPoweredKindName(plan.kind) && typeof tj === 'number' && Number.isFinite(tj) && tj > plan.chamberC) {
     return { stressC: tj, stressBasis: 'junction temperature from the plan check (powered stress)' };
   }
   return { stressC: plan.chamberC, stressBasis: 'chamber temperature' };

@@ -6,6 +6,7 @@
  * injection guidance, common practice). Numbers we computed are written as plain numbers, so a
  * negative drift such as -2.5 stays a number.
  */
+import { formatUtc } from '../../../shared/domain/format';
 import PDFDocument from 'pdfkit';
 import { LOT_VERDICT_LABEL, type LotDetail } from '../../../shared/schemas/analytics';
 
@@ -30,7 +31,7 @@ const PARAM = { hfe: 'hFE', icbo: 'ICBO', vcesat: 'VCE(sat)' } as const;
 export function lotReportCsv(d: LotDetail, extra: { notes: string; generatedAt: Date }): string {
   const lines: string[] = [];
   const kv = (k: string, v: Cell) => lines.push(csvLine([k, v]));
-  kv('Emberlot lot drift report', extra.generatedAt.toISOString());
+  kv('Emberlot lot drift report', `Generated ${formatUtc(extra.generatedAt)}`);
   kv('Lot', d.lotCode);
   kv('Device type', d.partNumber);
   kv('Date code', d.dateCode);
@@ -115,7 +116,7 @@ export function lotReportPdf(d: LotDetail, extra: { notes: string; generatedAt: 
     doc.font('Helvetica-Bold').fontSize(18);
     t(`Lot ${d.lotCode} - drift report`);
     doc.font('Helvetica').fontSize(9).fillColor('#555555');
-    t(`Generated ${extra.generatedAt.toISOString().slice(0, 16).replace('T', ' ')} UTC by Emberlot`);
+    t(`Generated ${formatUtc(extra.generatedAt)} by Emberlot`);
     doc.moveDown(0.8).fillColor('#000000').fontSize(10);
     t(`Device type: ${d.partNumber}    Date code: ${d.dateCode || '-'}`);
     if (extra.notes) t(`Lot notes: ${extra.notes}`);

@@ -1,3 +1,4 @@
+import { rolesFor } from '../../../shared/domain/permissions';
 import {
   deviceTypeCreateSchema,
   deviceTypeListQuerySchema,
@@ -8,19 +9,17 @@ import type { AppContext } from '../../context';
 import { ApiRouter } from '../../http/route';
 import { DeviceTypesService } from './device-types.service';
 
-export const DEVICE_TYPE_WRITERS = ['engineer'] as const;
-
 export function deviceTypesRoutes(ctx: AppContext): ApiRouter {
   const svc = new DeviceTypesService(ctx.ds, ctx.audit);
   ctx.services.deviceTypes = svc;
   const r = new ApiRouter('/api/device-types');
   r.get('/', { access: 'signed-in', query: deviceTypeListQuerySchema }, async ({ query }) => ({ items: await svc.list(query.q) }));
   r.get('/:id', { access: 'signed-in', params: idParamSchema }, ({ params }) => svc.get(params.id));
-  r.post('/', { access: DEVICE_TYPE_WRITERS, body: deviceTypeCreateSchema, status: 201 }, ({ user, body }) => svc.create(user, body));
-  r.put('/:id', { access: DEVICE_TYPE_WRITERS, params: idParamSchema, body: deviceTypeCreateSchema }, ({ user, params, body }) =>
+  r.post('/', { access: rolesFor('deviceType.edit'), body: deviceTypeCreateSchema, status: 201 }, ({ user, body }) => svc.create(user, body));
+  r.put('/:id', { access: rolesFor('deviceType.edit'), params: idParamSchema, body: deviceTypeCreateSchema }, ({ user, params, body }) =>
     svc.update(user, params.id, body, 'replace'),
   );
-  r.patch('/:id', { access: DEVICE_TYPE_WRITERS, params: idParamSchema, body: deviceTypePatchSchema }, ({ user, params, body }) =>
+  r.patch('/:id', { access: rolesFor('deviceType.edit'), params: idParamSchema, body: deviceTypePatchSchema }, ({ user, params, body }) =>
     svc.update(user, params.id, body as Parameters<DeviceTypesService['update']>[2], 'patch'),
   );
   return r;

@@ -1,3 +1,4 @@
+import { rolesFor } from '../../../shared/domain/permissions';
 import {
   confirmReadingSchema,
   dispositionIdParamsSchema,
@@ -15,22 +16,22 @@ import { EvidenceService } from './evidence.service';
 export function evidenceRoutes(ctx: AppContext): ApiRouter {
   const svc = new EvidenceService(ctx.ds, ctx.audit, () => ctx.now());
   const r = new ApiRouter('/api/evidence');
-  const readers = ['admin', 'engineer', 'operator', 'manager'] as const;
+  const readers = rolesFor('evidence.read');
   r.get('/samples/:sampleId', { access: readers, params: evidenceSampleParamsSchema }, ({ params }) => svc.sample(params.sampleId));
   r.get('/runs/:runId/coverage', { access: readers, params: evidenceRunParamsSchema }, ({ params }) => svc.runCoverage(params.runId));
   r.post(
     '/runs/:runId/dispositions',
-    { access: ['engineer', 'operator'], params: evidenceRunParamsSchema, body: dispositionInputSchema, status: 201 },
+    { access: rolesFor('disposition.record'), params: evidenceRunParamsSchema, body: dispositionInputSchema, status: 201 },
     ({ user, params, body }) => svc.addDisposition(user, params.runId, body),
   );
   r.post(
     '/dispositions/:id/withdraw',
-    { access: ['engineer'], params: dispositionIdParamsSchema, body: withdrawDispositionSchema },
+    { access: rolesFor('disposition.withdraw'), params: dispositionIdParamsSchema, body: withdrawDispositionSchema },
     ({ user, params, body }) => svc.withdrawDisposition(user, params.id, body),
   );
   r.post(
     '/measurements/:id/confirm',
-    { access: ['engineer'], params: measurementIdParamsSchema, body: confirmReadingSchema },
+    { access: rolesFor('reading.confirm'), params: measurementIdParamsSchema, body: confirmReadingSchema },
     ({ user, params, body }) => svc.confirmReading(user, params.id, body),
   );
   return r;

@@ -21,15 +21,12 @@ import {
   type FloorChartQuery,
   type FloorSocket,
   type FloorTile,
-  type RunStateName,
 } from '../../../shared/schemas/floor';
+import { ON_RIG_STATES, type RunState } from '../../../shared/domain/run-states';
 import type { AppContext } from '../../context';
 import { notFound } from '../../http/errors';
 import { ALARM_EVENT } from '../alarms/alarms.service';
 import { RUN_EVENT } from '../runs/run-events';
-
-/** Run states in which a run occupies its rig. */
-export const ACTIVE_RUN_STATES: RunStateName[] = ['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling'];
 
 interface TileRow {
   id: string;
@@ -47,7 +44,7 @@ interface TileRow {
   last_ts: Date | null;
   run_id: string | null;
   run_code: string | null;
-  run_state: RunStateName | null;
+  run_state: RunState | null;
   stress_hours: number | null;
   next_read_point: number | null;
   read_points_h: number[] | null;
@@ -184,7 +181,7 @@ export class FloorService {
   }
 
   private async readTiles(rigIds?: string[]): Promise<FloorTile[]> {
-    const rows: TileRow[] = await this.ctx.ds.query(TILE_SQL, [rigIds ?? null, ACTIVE_RUN_STATES]);
+    const rows: TileRow[] = await this.ctx.ds.query(TILE_SQL, [rigIds ?? null, ON_RIG_STATES]);
     return rows.map((r) => this.toTile(r));
   }
 

@@ -1,4 +1,5 @@
 import type { Request, Response } from 'express';
+import { rolesFor } from '../../../shared/domain/permissions';
 import { addSerialsSchema, checkSerialRows, lotInputSchema, lotListQuerySchema } from '../../../shared/schemas/devices';
 import { idParamSchema } from '../../../shared/schemas/users';
 import type { AppContext } from '../../context';
@@ -7,8 +8,6 @@ import { memoryUpload } from '../../http/multipart';
 import { ApiRouter } from '../../http/route';
 import { LotsService } from './lots.service';
 import { readSerialCsv, SERIAL_CSV_MAX_BYTES } from './serial-csv';
-
-export const LOT_WRITERS = ['engineer'] as const;
 
 const upload = memoryUpload({ fileSize: SERIAL_CSV_MAX_BYTES, files: 1, fields: 5 }).single('file');
 
@@ -29,18 +28,18 @@ export function lotsRoutes(ctx: AppContext): ApiRouter {
   const r = new ApiRouter('/api/lots');
   r.get('/', { access: 'signed-in', query: lotListQuerySchema }, async ({ query }) => ({ items: await svc.list(query) }));
   r.get('/:id', { access: 'signed-in', params: idParamSchema }, ({ params }) => svc.get(params.id));
-  r.post('/', { access: LOT_WRITERS, body: lotInputSchema, status: 201 }, ({ user, body }) => svc.create(user, body));
-  r.post('/:id/serials', { access: LOT_WRITERS, params: idParamSchema, body: addSerialsSchema }, ({ user, params, body }) =>
+  r.post('/', { access: rolesFor('lot.edit'), body: lotInputSchema, status: 201 }, ({ user, body }) => svc.create(user, body));
+  r.post('/:id/serials', { access: rolesFor('lot.edit'), params: idParamSchema, body: addSerialsSchema }, ({ user, params, body }) =>
     svc.addSerials(user, params.id, body.serials, { kind: 'list' }),
   );
   // multipart/form-data with one file "file": a column headed "serial", or a single column.
-  r.post('/:id/serials/csv', { access: LOT_WRITERS, params: idParamSchema }, async ({ user, params, req, res }) => {
+  r.post('/:id/serials/csv', { access: rolesFor('lot.edit'), params: idParamSchema }, async ({ user, params, req, res }) => {
     const file = await receiveFile(req, res);
     const rows = readSerialCsv(file.buffer);
     return svc.addSerials(user, params.id, rows.map((x) => x.serial), { kind: 'file', lines: rows.map((x) => x.line), fileName: file.originalname });
   });
   // Reads a file for the new-lot form without storing anything: the serials it holds, and its bad rows.
-  r.post('/serials/parse-csv', { access: LOT_WRITERS }, async ({ req, res }) => {
+  r.post('/serials/parse-csv', { access: rolesFor('lot.edit') }, async ({ req, res }) => {
     const file = await receiveFile(req, res);
     const rows = readSerialCsv(file.buffer);
     const { serials, problems } = checkSerialRows(rows.map((x) => x.serial), new Set(), (i) => rows[i].line, 'the lot');

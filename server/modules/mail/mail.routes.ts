@@ -1,3 +1,4 @@
+import { rolesFor } from '../../../shared/domain/permissions';
 import { mailListQuerySchema } from '../../../shared/schemas/alarms';
 import type { AppContext } from '../../context';
 import { ApiRouter } from '../../http/route';
@@ -6,6 +7,6 @@ import { getMailService } from './mail.service';
 /** The mail log: every e-mail Emberlot sent or failed to send (admin). */
 export function mailRoutes(ctx: AppContext): ApiRouter {
   const r = new ApiRouter('/api/mail');
-  r.get('/', { access: ['admin'], query: mailListQuerySchema }, ({ query }) => getMailService(ctx).list(query));
+  r.get('/', { access: rolesFor('mail.read'), query: mailListQuerySchema }, ({ query }) => getMailService(ctx).list(query));
   return r;
 }

@@ -1,3 +1,4 @@
+import { rolesFor } from '../../../shared/domain/permissions';
 import type { Request, Response } from 'express';
 import {
   manualEntrySchema,
@@ -39,8 +40,8 @@ function receiveFile(req: Request, res: Response): Promise<void> {
 export function measurementsRoutes(ctx: AppContext): ApiRouter {
   const svc = new MeasurementsService(ctx.ds, ctx.audit, () => ctx.now());
   const r = new ApiRouter('/api/measurements');
-  const readers = ['admin', 'engineer', 'operator', 'manager'] as const;
-  const writers = ['engineer', 'operator'] as const;
+  const readers = rolesFor('measurement.read');
+  const writers = rolesFor('measurement.upload');
 
   r.get('/runs', { access: readers }, async () => ({ items: await svc.listRuns() }));
   r.get('/runs/:runId', { access: readers, params: runParamsSchema }, ({ params }) => svc.runDetail(params.runId));

@@ -1,8 +1,9 @@
 import { createHash } from 'node:crypto';
-import { In, type DataSource, type EntityManager } from 'typeorm';
+import { isLateReading } from '../../../shared/domain/standards';
+import { formatUtc } from '../../../shared/domain/format';
+import { Not, type DataSource, type EntityManager } from 'typeorm';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import {
-  LATE_AFTER_BIAS_REMOVAL_H,
   type ManualReading,
   type MeasurementRunDetail,
   type MeasurementRunSummary,
@@ -19,8 +20,6 @@ import type { AuditService } from '../audit/audit.service';
 import { parseMeasurementCsv, type ParsedRow, type ParsedValues } from './csv-rows';
 import { driftOfDevice, GAIN_LAW, GAIN_LAW_SOURCE, type ReadingInput } from './device-drift';
 import { loadRunBundle, type RunBundle, type RunDeviceRow } from './run-data';
-
-const H = 3600_000;
 
 /** The rule for files sent more than once, shown with every upload answer. */
 export const REUPLOAD_RULE =
@@ -63,7 +62,7 @@ export class MeasurementsService {
   // -------------------------------------------------------------------------------------------
 
   async listRuns(): Promise<MeasurementRunSummary[]> {
-    const runs = await this.ds.getRepository(RunEntity).find({ where: { state: In(['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling', 'finished', 'booked']) }, order: { createdAt: 'DESC' }, take: 200 });
+    const runs = await this.ds.getRepository(RunEntity).find({ where: { state: Not('aborted') }, order: { createdAt: 'DESC' }, take: 200 });
     const out: MeasurementRunSummary[] = [];
     for (const r of runs) out.push(await this.summary(this.ds.manager, await loadRunBundle(this.ds.manager, r.id)));
     return out;
@@ -167,7 +166,7 @@ export class MeasurementsService {
       : undefined;
     if (previous && previous.readPointH !== p.hours) {
       throw conflict(
-        `This exact file was already stored for read point ${previous.readPointH} h of run ${b.run.code} on ${previous.createdAt.toISOString().slice(0, 16).replace('T', ' ')} UTC; it cannot also be the ${p.hours} h reading.`,
+        `This exact file was already stored for read point ${previous.readPointH} h of run ${b.run.code} on ${formatUtc(previous.createdAt)}; it cannot also be the ${p.hours} h reading.`,
         { previousUpload },
       );
     }
@@ -191,7 +190,7 @@ export class MeasurementsService {
           rows,
           previousUpload,
           notes: [
-            `This exact file was already stored on ${previous.createdAt.toISOString().slice(0, 16).replace('T', ' ')} UTC (${previous.rowsStored} rows stored, ${previous.rowsRejected} refused); nothing was stored again.`,
+            `This exact file was already stored on ${formatUtc(previous.createdAt)} (${previous.rowsStored} rows stored, ${previous.rowsRejected} refused); nothing was stored again.`,
             REUPLOAD_RULE,
           ],
         },
@@ -356,7 +355,7 @@ export class MeasurementsService {
         } else reasons.push(`Unknown serial ${r.serial}: no device with this serial is registered.`);
       }
       const late =
-        hours > 0 && !!b.run.biasRemovedAt && !!r.values && r.values.measuredAt.getTime() - b.run.biasRemovedAt.getTime() > LATE_AFTER_BIAS_REMOVAL_H * H;
+        hours > 0 && !!b.run.biasRemovedAt && !!r.values && isLateReading(b.run.biasRemovedAt.getTime(), r.values.measuredAt.getTime());
       const t0 = deviceId && hours > 0 ? timeZero.get(deviceId) : undefined;
       const conditionsFlag = t0 && r.values && r.values.result === 'measured' ? conditionFlagText(t0, r.values) : null;
       return { ...r, reasons, deviceId, late, conditionsFlag, outcome: 'rejected' as const };

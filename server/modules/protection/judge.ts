@@ -10,6 +10,7 @@
  * bias or leakage finding) is built only when there is something to report. Per-sample fields
  * hold NaN, never null.
  */
+import { DEFAULT_BIAS_TOLERANCE_PCT } from '../../../shared/domain/standards';
 import { SocketTrend, assessTrend, judgeTrend, type ProtectionDevice, type ProtectionOptions, type SocketAssessment, type SocketSample } from '../../../shared/safety/protection';
 // From the modules themselves, not the index files: their re-exports compile to one shared keyed
 // getter, which V8 does not inline (it was ~4 % of the ingest's CPU in the per-socket loops).
@@ -306,7 +307,7 @@ export class SocketJudge {
       st.biasOut = st.biasIn = 0;
       return undefined;
     }
-    const tol = run.bias.tolerancePct ?? 5;
+    const tol = run.bias.tolerancePct ?? DEFAULT_BIAS_TOLERANCE_PCT;
     const b = run.bias;
     const outside = (set: number, measured: number) => Math.abs(measured - set) > (tol / 100) * set;
     let off: BiasOff | null = null;

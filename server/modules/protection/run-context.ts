@@ -3,14 +3,14 @@
  * and, per socket, the loaded device's thermal data (run_sockets → devices → lots → device_types).
  * Loaded once per run and cached; dropped when a run event names the rig, and re-read after a TTL.
  */
-import { In, Not } from 'typeorm';
+import { In } from 'typeorm';
+import { ON_RIG_STATES } from '../../../shared/domain/run-states';
 import type { ProtectionDevice } from '../../../shared/safety/protection';
 import type { Bias, PlanKind } from '../../../shared/schemas/plans';
 import type { AppContext } from '../../context';
 import { AlarmEntity, DeviceTypeEntity, RunEntity, RunSocketEntity, StressPlanEntity, type RunState } from '../../db/entities';
 
 /** Run states in which the rig's sockets belong to the run (bias may be on). */
-export const RUN_STATES_ON_RIG: readonly RunState[] = ['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling'];
 
 export interface SocketDevice {
   device: ProtectionDevice;
@@ -49,7 +49,7 @@ export const deviceOf = (t: Pick<DeviceTypeEntity, 'tjMaxC' | 'thetaJcCPerW'>): 
 export async function loadRunContext(ctx: AppContext, rigId: string): Promise<RunContext | null> {
   const m = ctx.ds.manager;
   const runs = await m.find(RunEntity, {
-    where: { rigId, state: In([...RUN_STATES_ON_RIG]) },
+    where: { rigId, state: In([...ON_RIG_STATES]) },
     order: { stateChangedAt: 'DESC' },
   });
   if (runs.length === 0) return null;
@@ -101,5 +101,5 @@ export async function loadRunContext(ctx: AppContext, rigId: string): Promise<Ru
 
 /** Is some run (other than finished/aborted/booked) holding this rig? */
 export async function hasActiveRun(ctx: AppContext, rigId: string): Promise<boolean> {
-  return (await ctx.ds.getRepository(RunEntity).count({ where: { rigId, state: Not(In(['booked', 'finished', 'aborted'])) } })) > 0;
+  return (await ctx.ds.getRepository(RunEntity).count({ where: { rigId, state: In([...ON_RIG_STATES]) } })) > 0;
 }

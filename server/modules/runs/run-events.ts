@@ -33,7 +33,7 @@ import { describeErrorForLog } from '../../db/safe-logger';
 export const RUN_EVENT = 'run-event';
 
 /** Measure within this many hours of removing bias [pub: JESD22-A108 — wording not checked]. */
-export const MEASURE_WITHIN_H = 96;
+export { MEASURE_WITHIN_H } from '../../../shared/domain/standards';
 
 interface Base {
   runId: string;

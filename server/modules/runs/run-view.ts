@@ -1,5 +1,6 @@
 /** Entities → API objects for runs (entities never leave the server). Batched for lists. */
 import { In, type EntityManager } from 'typeorm';
+import { ON_RIG_STATES, sqlStateList } from '../../../shared/domain/run-states';
 import { planBiasV } from '../../../shared/scheduling';
 import {
   allowedActions,
@@ -164,11 +165,13 @@ export async function runAudit(m: EntityManager, runId: string): Promise<RunAudi
   return rows.map((a) => ({ id: String(a.id), at: a.at.toISOString(), actor: a.actor, action: a.action, reason: a.reason, details: a.details }));
 }
 
+const ON_RIG_IN_SQL = sqlStateList(ON_RIG_STATES);
+
 /** Sockets of the rig held by other runs that sit on it now. */
 export async function socketsTakenOnRig(m: EntityManager, rigId: string, exceptRunId: string): Promise<Map<number, string>> {
   const rows: Array<{ socket_index: number; code: string }> = await m.query(
     `SELECT s.socket_index, r.code FROM run_sockets s JOIN runs r ON r.id = s.run_id
-     WHERE r.rig_id = $1 AND r.id <> $2 AND r.state IN ('loading','heating','stressing','paused','read-hold','cooling')`,
+     WHERE r.rig_id = $1 AND r.id <> $2 AND r.state IN ${ON_RIG_IN_SQL}`,
     [rigId, exceptRunId],
   );
   return new Map(rows.map((x) => [Number(x.socket_index), x.code]));

@@ -17,10 +17,10 @@ import {
   type RunNeeds,
   type TimingOptions,
 } from '../../../shared/scheduling';
+import { DRIVEN_STATES, sqlStateList } from '../../../shared/domain/run-states';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import {
   allowedActions,
-  HEAT_STATES,
   RUN_ACTION_LABEL,
   RUN_STATE_LABEL,
   TERMINAL_STATES,
@@ -509,7 +509,7 @@ export class RunsService {
     const busy: Array<{ device_id: string; code: string }> = devices.length
       ? await m.query(
           `SELECT s.device_id, r.code FROM run_sockets s JOIN runs r ON r.id = s.run_id
-           WHERE s.device_id = ANY($1) AND r.id <> $2 AND r.state NOT IN ('finished','aborted')`,
+           WHERE s.device_id = ANY($1) AND r.id <> $2 AND r.state NOT IN ${sqlStateList(TERMINAL_STATES)}`,
           [devices.map((d) => d.id), run.id],
         )
       : [];
@@ -643,7 +643,7 @@ export class RunsService {
 
   /** One chamber condition per oven: runs already heated in it must share the plan's set point. */
   private async checkChamberFree(m: EntityManager, run: RunEntity, rig: RigEntity, plan: StressPlanEntity) {
-    const others = await m.find(RunEntity, { where: { rigId: rig.id, state: In([...HEAT_STATES, 'read-hold', 'cooling']), id: Not(run.id) } });
+    const others = await m.find(RunEntity, { where: { rigId: rig.id, state: In([...DRIVEN_STATES]), id: Not(run.id) } });
     for (const o of others) {
       const op = await m.findOneByOrFail(StressPlanEntity, { id: o.planId });
       if (op.chamberC !== plan.chamberC || (op.humidityPct ?? null) !== (plan.humidityPct ?? null)) {

@@ -20,7 +20,8 @@ import { RUN_STATE_LABEL, type RunState } from '../../../shared/schemas/runs';
 import { RunEntity, RunSocketEntity, type RigEntity, type StressPlanEntity } from '../../db/entities';
 import type { AuditService } from '../audit/audit.service';
 import type { SessionUser } from '../../../shared/schemas/auth';
-import { MEASURE_WITHIN_H, type RunEvent } from '../runs/run-events';
+import { measureByMs } from '../../../shared/domain/standards';
+import type { RunEvent } from '../runs/run-events';
 import { sortedReadPoints } from '../runs/run-view';
 import { batchAt, batchesAfter, firstInBand, socketSamples, toClockSample } from './telemetry-reads';
 
@@ -224,7 +225,7 @@ function readPointDue(run: RunEntity, rig: RigEntity, readPointH: number, index:
     readPointIndex: index,
     stressHours: hours,
     biasRemovedAt: at.toISOString(),
-    measureBy: new Date(at.getTime() + MEASURE_WITHIN_H * 3_600_000).toISOString(),
+    measureBy: new Date(measureByMs(at.getTime())).toISOString(),
     final,
     at: at.toISOString(),
   };

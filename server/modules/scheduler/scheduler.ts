@@ -18,6 +18,8 @@ import cron, { type ScheduledTask } from 'node-cron';
 import { In, IsNull, MoreThan, Not, type EntityManager } from 'typeorm';
 import { chamberBand, planBiasSettings, planBiasV, planSchedule, socketBiased, accrualConditionsFor, type Job, when } from '../../../shared/scheduling';
 import { DRIVEN_STATES, HEAT_STATES, type RunState } from '../../../shared/schemas/runs';
+import { MEASURE_PENDING_STATES, sqlStateList } from '../../../shared/domain/run-states';
+import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H, ROOM_AMBIENT_C as AMBIENT_C } from '../../../shared/domain/standards';
 import type { AppContext } from '../../context';
 import { AuditLogEntity, RigEntity, RunEntity, RunSocketEntity, StressPlanEntity } from '../../db/entities';
 import { MEASURE_WITHIN_H, emitRunEvent } from '../runs/run-events';
@@ -28,8 +30,6 @@ import { CommandTracker } from './commands';
 import { accrueStep, heatingStep, transitionRun, type EngineDeps, type StepOutcome } from './run-engine';
 import { clockElapsedS, latestBatch, socketSamples, type BatchRow } from './telemetry-reads';
 
-export const AMBIENT_LIMIT_H = 5;
-export const AMBIENT_C = 25;
 export const COOL_SAFE_C = 40;
 /** Aborted runs keep being made safe (bias off) for this long after the abort. */
 const ABORT_SAFE_WINDOW_MS = 24 * 3_600_000;
@@ -187,7 +187,7 @@ export class RunScheduler {
       await this.ctx.ds.query(
         `SELECT r.id, r.code, r.state, r.bias_removed_at, r.next_read_point, r.rig_id, g.code AS rig_code, p.read_points_h, p.duration_h
          FROM runs r JOIN stress_plans p ON p.id = r.plan_id LEFT JOIN rigs g ON g.id = r.rig_id
-         WHERE r.state IN ('read-hold', 'cooling', 'finished') AND r.bias_removed_at IS NOT NULL AND r.bias_removed_at < $1`,
+         WHERE r.state IN ${sqlStateList(MEASURE_PENDING_STATES)} AND r.bias_removed_at IS NOT NULL AND r.bias_removed_at < $1`,
         [new Date(now.getTime() - limitMs)],
       );
     for (const r of rows) {

@@ -1,3 +1,4 @@
+import { can } from '../../../shared/domain/permissions';
 import bcrypt from 'bcryptjs';
 import type { DataSource } from 'typeorm';
 import type { SessionUser } from '../../../shared/schemas/auth';
@@ -48,13 +49,13 @@ export class UsersService {
    */
   async update(actor: SessionUser, id: string, input: UpdateUserInput): Promise<User> {
     const self = actor.id === id;
-    if (actor.role !== 'admin') {
+    if (!can(actor.role, 'user.manage')) {
       const allowed = ['notifyAlarms', 'notifyReadPoints'];
       if (!self || Object.keys(input).some((k) => !allowed.includes(k))) {
         throw forbidden('Only an administrator can change other people or roles; you may change your own notification settings.');
       }
     }
-    if (self && actor.role === 'admin' && (input.active === false || (input.role && input.role !== 'admin'))) {
+    if (self && can(actor.role, 'user.manage') && (input.active === false || (input.role && !can(input.role, 'user.manage')))) {
       throw unprocessable('You cannot deactivate yourself or remove your own administrator role.');
     }
     return this.ds.transaction(async (m) => {

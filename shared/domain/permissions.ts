@@ -1,0 +1,62 @@
+/**
+ * Who may do what: one role × action table that both the API's route declarations
+ * (`access: rolesFor('run.start')`) and the screens (`useCan()('run.start')`) read, so the server and
+ * the app cannot disagree about who may press a button. Emberlot's own policy, not from a standard.
+ *
+ * The order of the roles in an entry is the order the API names them in a 403 message.
+ * Reading things that every signed-in person may read needs no entry (routes say 'signed-in').
+ */
+import type { Role } from '../roles';
+
+export const PERMISSIONS = {
+  // Plans: engineers write; a check stores nothing, so managers and admins may try one too.
+  'plan.edit': ['engineer'],
+  'plan.check': ['engineer', 'manager', 'admin'],
+  // Part numbers (ratings) and lots (serials).
+  'deviceType.edit': ['engineer'],
+  'lot.edit': ['engineer'],
+  // Runs: engineers book; proposals store nothing. The floor loads, starts, pauses, resumes,
+  // finishes read-point holds and aborts.
+  'run.book': ['engineer'],
+  'run.propose': ['engineer', 'manager', 'admin'],
+  'run.load': ['operator', 'engineer'],
+  'run.start': ['operator', 'engineer'],
+  'run.pause': ['operator', 'engineer'],
+  'run.resume': ['operator', 'engineer'],
+  'run.measurements-done': ['operator', 'engineer'],
+  'run.abort': ['operator', 'engineer'],
+  'alarm.acknowledge': ['operator', 'engineer', 'admin'],
+  // Lot-verdict evidence: the floor and engineers record dispositions; withdrawing one or letting a
+  // flagged reading be judged is an engineer's call.
+  'evidence.read': ['admin', 'engineer', 'operator', 'manager'],
+  'disposition.record': ['engineer', 'operator'],
+  'disposition.withdraw': ['engineer'],
+  'reading.confirm': ['engineer'],
+  'measurement.read': ['admin', 'engineer', 'operator', 'manager'],
+  'measurement.upload': ['engineer', 'operator'],
+  'trends.read': ['admin', 'engineer', 'manager'],
+  'rig.read': ['admin', 'engineer', 'operator', 'manager'],
+  'rig.manage': ['admin'],
+  'telemetry.inspect': ['admin', 'engineer'],
+  'user.manage': ['admin'],
+  'mail.read': ['admin'],
+  // Places in the app's navigation (components/shell/destinations.ts).
+  'page.floor': ['operator', 'engineer', 'admin'],
+  'page.alarms': ['operator', 'engineer', 'admin'],
+  'page.readings': ['operator', 'engineer'],
+  'page.plans': ['engineer'],
+  'page.devices': ['engineer', 'manager'],
+  'page.schedule': ['engineer', 'operator', 'manager'],
+  'page.trends': ['manager', 'engineer'],
+  'page.people': ['admin'],
+  'page.mail': ['admin'],
+  'page.rigs': ['admin', 'engineer'],
+} satisfies Record<string, readonly Role[]>;
+
+export type Permission = keyof typeof PERMISSIONS;
+
+/** The roles that may take an action (for a route's `access`). */
+export const rolesFor = (action: Permission): readonly Role[] => PERMISSIONS[action];
+
+/** Whether a role may take an action. */
+export const can = (role: Role, action: Permission): boolean => (PERMISSIONS[action] as readonly Role[]).includes(role);
