@@ -23,6 +23,13 @@ export interface SignInThrottleOptions {
   baseLockMs?: number;
   /** Longest lock (default 60 s). */
   maxLockMs?: number;
+  /**
+   * Once a key has failed, its checks run at most this many at a time (the rest are refused for a
+   * moment): a storm's checks then cost one bcrypt after another, not a burst of them at once.
+   * Defaults: 1 per name (one rig signs in once at a time), 2 per address.
+   */
+  checksInFlightAfterFailurePerName?: number;
+  checksInFlightAfterFailurePerAddress?: number;
   /** A key with no failure for this long is forgotten (default 15 min). */
   forgetAfterMs?: number;
   /** Keys and remembered credentials kept at most (oldest dropped first; default 10,000 each). */
@@ -54,6 +61,8 @@ export class SignInThrottle {
       freeFailuresPerAddress: opts.freeFailuresPerAddress ?? 20,
       baseLockMs: opts.baseLockMs ?? 1_000,
       maxLockMs: opts.maxLockMs ?? 60_000,
+      checksInFlightAfterFailurePerName: opts.checksInFlightAfterFailurePerName ?? 1,
+      checksInFlightAfterFailurePerAddress: opts.checksInFlightAfterFailurePerAddress ?? 2,
       forgetAfterMs: opts.forgetAfterMs ?? 15 * 60_000,
       maxEntries: opts.maxEntries ?? 10_000,
     };
@@ -71,9 +80,10 @@ export class SignInThrottle {
     const name = this.entry(nameKey, now);
     const addr = this.entry(addrKey, now);
     const credKey = sha256(`${username}\0${password}`);
-    if (!this.knownGood.has(credKey)) {
-      const nameWait = this.waitMs(name, this.o.freeFailuresPerName, now);
-      const addrWait = this.waitMs(addr, this.o.freeFailuresPerAddress, now);
+    const known = this.knownGood.has(credKey);
+    if (!known) {
+      const nameWait = this.waitMs(name, this.o.freeFailuresPerName, this.o.checksInFlightAfterFailurePerName, now);
+      const addrWait = this.waitMs(addr, this.o.freeFailuresPerAddress, this.o.checksInFlightAfterFailurePerAddress, now);
       if (nameWait > 0 || addrWait > 0) {
         return nameWait >= addrWait ? { ok: false, retryAfterMs: nameWait, key: 'name' } : { ok: false, retryAfterMs: addrWait, key: 'address' };
       }
@@ -92,8 +102,12 @@ export class SignInThrottle {
         if (success === null) {
           /* nothing learnt */
         } else if (success) {
-          name.failures = 0;
-          name.lockedUntil = 0;
+          // A real check that succeeded clears the name; known credentials passing a lock do not
+          // lift it for the guesser.
+          if (!known) {
+            name.failures = 0;
+            name.lockedUntil = 0;
+          }
           this.remember(credKey);
         } else {
           this.fail(name, this.o.freeFailuresPerName, at);
@@ -124,10 +138,12 @@ export class SignInThrottle {
   }
 
   /** Milliseconds until this key may try again (0 = now). */
-  private waitMs(e: Entry, free: number, now: number): number {
+  private waitMs(e: Entry, free: number, inFlightAfterFailure: number, now: number): number {
     if (e.lockedUntil > now) return e.lockedUntil - now;
+    if (e.inFlight === 0) return 0;
     // Attempts still being checked count as failures until they succeed.
-    return e.failures + e.inFlight >= free && e.inFlight > 0 ? this.o.baseLockMs : 0;
+    if (e.failures + e.inFlight >= free) return this.o.baseLockMs;
+    return e.failures > 0 && e.inFlight >= inFlightAfterFailure ? this.o.baseLockMs : 0;
   }
 
   private fail(e: Entry, free: number, at: number): void {
