@@ -12,7 +12,7 @@
  * user is no longer active, and ends them with `event: end`.
  */
 import type { Response } from 'express';
-import type { FloorTile } from '../../../shared/schemas/floor';
+import type { FloorStreamEvent, FloorTile } from '../../../shared/schemas/floor';
 import type { AppContext } from '../../context';
 import { SESSION_ENDED, type SessionEnded } from '../auth/session-events';
 import { ALARM_EVENT } from '../alarms/alarms.service';
@@ -100,7 +100,7 @@ export class FloorStream {
       if (!match(owner)) continue;
       this.owners.delete(res);
       this.clients.delete(res);
-      res.end(`event: end\ndata: ${JSON.stringify({ type: 'end', reason })}\n\n`);
+      res.end(`event: end\ndata: ${JSON.stringify({ type: 'end', reason } satisfies FloorStreamEvent)}\n\n`);
       n++;
     }
     if (!this.clients.size) this.stopTimers();
