@@ -5,7 +5,8 @@
  * took 14.8 s). Here each key (name or address) gets a few free failures; after that it is locked
  * for a delay that doubles with every further failure, up to a cap, and a locked key's attempts
  * are refused at once, before any database read or hash. Attempts in flight count as failures
- * until they succeed, so a burst of simultaneous connects cannot all slip past the allowance.
+ * until they succeed, and one name is checked once at a time, so a burst of simultaneous connects
+ * cannot slip past the allowance or queue hashes side by side.
  *
  * Credentials that succeeded before (kept as a hash, bounded) pass even a locked key: a rig
  * reconnecting with its right secret is never slowed by someone guessing its name. A rig whose
@@ -24,11 +25,11 @@ export interface SignInThrottleOptions {
   /** Longest lock (default 60 s). */
   maxLockMs?: number;
   /**
-   * Once a key has failed, its checks run at most this many at a time (the rest are refused for a
-   * moment): a storm's checks then cost one bcrypt after another, not a burst of them at once.
-   * Defaults: 1 per name (one rig signs in once at a time), 2 per address.
+   * Checks of one name at a time (default 1: a rig signs in once at a time); the rest are refused
+   * for a moment. A storm's guesses then cost one bcrypt after another, never a burst at once.
    */
-  checksInFlightAfterFailurePerName?: number;
+  checksInFlightPerName?: number;
+  /** Once an address has failed, its checks at a time (default 2); before that, no limit (many rigs behind one NAT). */
   checksInFlightAfterFailurePerAddress?: number;
   /** A key with no failure for this long is forgotten (default 15 min). */
   forgetAfterMs?: number;
@@ -61,7 +62,7 @@ export class SignInThrottle {
       freeFailuresPerAddress: opts.freeFailuresPerAddress ?? 20,
       baseLockMs: opts.baseLockMs ?? 1_000,
       maxLockMs: opts.maxLockMs ?? 60_000,
-      checksInFlightAfterFailurePerName: opts.checksInFlightAfterFailurePerName ?? 1,
+      checksInFlightPerName: opts.checksInFlightPerName ?? 1,
       checksInFlightAfterFailurePerAddress: opts.checksInFlightAfterFailurePerAddress ?? 2,
       forgetAfterMs: opts.forgetAfterMs ?? 15 * 60_000,
       maxEntries: opts.maxEntries ?? 10_000,
@@ -82,8 +83,8 @@ export class SignInThrottle {
     const credKey = sha256(`${username}\0${password}`);
     const known = this.knownGood.has(credKey);
     if (!known) {
-      const nameWait = this.waitMs(name, this.o.freeFailuresPerName, this.o.checksInFlightAfterFailurePerName, now);
-      const addrWait = this.waitMs(addr, this.o.freeFailuresPerAddress, this.o.checksInFlightAfterFailurePerAddress, now);
+      const nameWait = this.waitMs(name, this.o.freeFailuresPerName, name.inFlight >= this.o.checksInFlightPerName, now);
+      const addrWait = this.waitMs(addr, this.o.freeFailuresPerAddress, addr.failures > 0 && addr.inFlight >= this.o.checksInFlightAfterFailurePerAddress, now);
       if (nameWait > 0 || addrWait > 0) {
         return nameWait >= addrWait ? { ok: false, retryAfterMs: nameWait, key: 'name' } : { ok: false, retryAfterMs: addrWait, key: 'address' };
       }
@@ -138,12 +139,11 @@ export class SignInThrottle {
   }
 
   /** Milliseconds until this key may try again (0 = now). */
-  private waitMs(e: Entry, free: number, inFlightAfterFailure: number, now: number): number {
+  private waitMs(e: Entry, free: number, busy: boolean, now: number): number {
     if (e.lockedUntil > now) return e.lockedUntil - now;
     if (e.inFlight === 0) return 0;
     // Attempts still being checked count as failures until they succeed.
-    if (e.failures + e.inFlight >= free) return this.o.baseLockMs;
-    return e.failures > 0 && e.inFlight >= inFlightAfterFailure ? this.o.baseLockMs : 0;
+    return busy || e.failures + e.inFlight >= free ? this.o.baseLockMs : 0;
   }
 
   private fail(e: Entry, free: number, at: number): void {

@@ -53,9 +53,9 @@ test('100 wrong passwords for one rig name: another rig and the same rig with it
   const h0 = Date.now();
   await bcrypt.compare('not-it', sample);
   const oneCheckMs = Date.now() - h0;
-  // Its own check, at most one storm check beside it, and a wide margin. Without the throttle a
-  // connect waits for about 100 checks (the storm's), far above this.
-  const boundMs = 1500 + 6 * oneCheckMs;
+  // Its own check, at most one storm check beside it, and a wide margin (the machine is shared).
+  // Without the throttle a connect waits for about 100 checks (the storm's), far above this.
+  const boundMs = 2000 + 8 * oneCheckMs;
   // TH-01 has been connected before (as rigs are): its right secret is known to the broker.
   const before = await connect('TH-01', SECRETS['TH-01']);
   await before.endAsync(true);
@@ -79,9 +79,9 @@ test('100 wrong passwords for one rig name: another rig and the same rig with it
   expect(eb.counters.throttledConnects).toBeGreaterThanOrEqual(95);
   console.log(`[throttle] one bcrypt check ${oneCheckMs} ms, bound ${boundMs} ms; after 100 wrong passwords: another rig connected in ${other} ms, the same rig with its secret in ${same} ms; ${eb.counters.authFailures} checked failures, ${eb.counters.throttledConnects} refused unchecked`);
 
-  // Still locked for guesses (the first of two may find the lock just over and be checked: it
-  // fails and locks again for longer).
-  const next = await connect('TH-01', 'one-more-guess', '.y').catch((err: { code?: number }) => err.code);
-  expect([4, 5]).toContain(next);
-  await expect(connect('TH-01', 'yet-another-guess', '.z')).rejects.toMatchObject({ code: 5 });
+  // Guessing on, one after another: at most 5 guesses are ever checked, then the name is locked.
+  const more: Array<number | undefined> = [];
+  for (let k = 0; k < 6; k++) more.push(await connect('TH-01', `later-guess-${k}`, `.y${k}`).then(() => 0, (err: { code?: number }) => err.code));
+  expect(outcomes.filter((o) => o === 4).length + more.filter((o) => o === 4).length).toBeLessThanOrEqual(5);
+  expect(more[more.length - 1]).toBe(5);
 });

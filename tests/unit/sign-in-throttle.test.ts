@@ -30,10 +30,24 @@ test('a name is locked after its free failures, for a delay that doubles up to t
   expect(waits).toEqual([1000, 2000, 4000, 8000, 8000, 8000]);
 });
 
-test('attempts in flight count: a burst cannot all slip past the allowance', () => {
+test('one check of a name at a time: a burst cannot slip past the allowance', () => {
   const { th } = make();
   const verdicts = Array.from({ length: 10 }, () => th.begin('rig-b', 'wrong', '10.0.0.1'));
-  expect(verdicts.filter((v) => v.ok)).toHaveLength(3);
+  expect(verdicts.filter((v) => v.ok)).toHaveLength(1);
+  // With more checks allowed side by side, attempts in flight still count against the allowance.
+  const { th: wide } = make({ checksInFlightPerName: 10 });
+  const burst = Array.from({ length: 10 }, () => wide.begin('rig-b', 'wrong', '10.0.0.1'));
+  expect(burst.filter((v) => v.ok)).toHaveLength(3);
+});
+
+test('many rigs behind one address sign in side by side until that address fails', () => {
+  const { th } = make();
+  const firsts = Array.from({ length: 8 }, (_, k) => th.begin(`rig-n${k}`, 'right', '10.0.0.9'));
+  expect(firsts.every((v) => v.ok)).toBe(true);
+  for (const v of firsts) if (v.ok) v.done(true);
+  fail(th, 'rig-typo', '10.0.0.9');
+  const after = Array.from({ length: 4 }, (_, k) => th.begin(`rig-m${k}`, 'right', '10.0.0.9'));
+  expect(after.map((v) => v.ok)).toEqual([true, true, false, false]);
 });
 
 test('credentials that succeeded before pass a locked name; others on that name do not', () => {
@@ -69,9 +83,8 @@ test('a quiet key is forgotten; the tracked keys stay bounded', () => {
   expect(th.size).toBeLessThanOrEqual(51);
 });
 
-test('once a name has failed, its checks run one at a time', () => {
+test('a name is checked once at a time; the next check may start when one ends', () => {
   const { th } = make({ freeFailuresPerName: 5 });
-  fail(th, 'rig-f');
   const first = th.begin('rig-f', 'wrong', '10.0.0.1');
   expect(first.ok).toBe(true);
   expect(th.begin('rig-f', 'wrong', '10.0.0.2')).toMatchObject({ ok: false, key: 'name' });
