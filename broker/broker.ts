@@ -19,7 +19,7 @@ import { PacketSizeGuard } from './packet-guard';
 import { SignInThrottle, type SignInThrottleOptions } from './sign-in-throttle';
 
 // aedes 1.x is ESM-only with no default export; Node ≥ 20.19 can require() it (jest: swc transform).
-// eslint-disable-next-line @typescript-eslint/no-require-imports
+// eslint-disable-next-line @typescript-eslint/no-require-imports -- see above
 const { Aedes } = require('aedes') as typeof import('aedes');
 
 export type Principal = { kind: 'rig'; rigCode: string } | { kind: 'server' };

@@ -285,14 +285,14 @@ export class RunScheduler {
     const out: Want[] = [];
     const heat = (): Want => ({
       cmdId: `run:${run.id}:heat:${b36(run.heatingSince)}`,
-      cmd: { type: 'setpoint', setpointC: plan.chamberC, ...(plan.humidityPct !== null ? { humidityPct: plan.humidityPct } : {}) } as RigCommandBody,
+      cmd: { type: 'setpoint', setpointC: plan.chamberC, ...(plan.humidityPct !== null ? { humidityPct: plan.humidityPct } : {}) },
       satisfied: setpointIs(plan.chamberC, latest),
     });
     const off = (phase: string): Want | null =>
       all.length
         ? {
             cmdId: `run:${run.id}:off:${phase}`,
-            cmd: { type: 'bias', sockets: all, on: false } as RigCommandBody,
+            cmd: { type: 'bias', sockets: all, on: false },
             satisfied: !!latest && all.every((k) => { const r = reading.get(k); return !r || !r.biasOn || r.tripped; }),
           }
         : null;
@@ -301,7 +301,7 @@ export class RunScheduler {
         ? null
         : {
             cmdId: `run:${run.id}:cool:${phase}`,
-            cmd: { type: 'setpoint', setpointC: AMBIENT_C, ...(plan.humidityPct !== null ? { humidityPct: null } : {}) } as RigCommandBody,
+            cmd: { type: 'setpoint', setpointC: AMBIENT_C, ...(plan.humidityPct !== null ? { humidityPct: null } : {}) },
             satisfied: !!latest && latest.setpointC <= AMBIENT_C + 0.05,
           };
     switch (run.state as RunState) {
@@ -313,7 +313,7 @@ export class RunScheduler {
         if (live.length) {
           out.push({
             cmdId: `run:${run.id}:bias:${b36(run.ambientReachedAt)}`,
-            cmd: { type: 'bias', sockets: live, on: true, ...planBiasSettings(plan) } as RigCommandBody,
+            cmd: { type: 'bias', sockets: live, on: true, ...planBiasSettings(plan) },
             satisfied: !!latest && live.every((k) => socketBiased(reading.get(k), cond) || reading.get(k)?.tripped === true),
           });
         }

@@ -41,7 +41,6 @@ export class TelemetryService {
             bufferLimit: s.bufferLimit,
             batches: s.batches,
             lastBatchMs: s.lastBatchMs,
-            samplesMode: s.samplesMode,
             pendingCommands: typeof link?.pendingCount === 'function' ? link.pendingCount() : 0,
           }
         : null,
