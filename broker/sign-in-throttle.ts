@@ -46,7 +46,8 @@ interface Entry {
 }
 
 /** `done(null)`: the check could not be made (e.g. database down), neither failure nor success. */
-export type ThrottleVerdict = { ok: true; done: (success: boolean | null) => void } | { ok: false; retryAfterMs: number; key: 'name' | 'address' };
+export type ThrottleVerdict =
+  { ok: true; done: (success: boolean | null) => void } | { ok: false; retryAfterMs: number; key: 'name' | 'address' };
 
 const sha256 = (s: string) => crypto.createHash('sha256').update(s).digest('hex');
 
@@ -84,9 +85,16 @@ export class SignInThrottle {
     const known = this.knownGood.has(credKey);
     if (!known) {
       const nameWait = this.waitMs(name, this.o.freeFailuresPerName, name.inFlight >= this.o.checksInFlightPerName, now);
-      const addrWait = this.waitMs(addr, this.o.freeFailuresPerAddress, addr.failures > 0 && addr.inFlight >= this.o.checksInFlightAfterFailurePerAddress, now);
+      const addrWait = this.waitMs(
+        addr,
+        this.o.freeFailuresPerAddress,
+        addr.failures > 0 && addr.inFlight >= this.o.checksInFlightAfterFailurePerAddress,
+        now,
+      );
       if (nameWait > 0 || addrWait > 0) {
-        return nameWait >= addrWait ? { ok: false, retryAfterMs: nameWait, key: 'name' } : { ok: false, retryAfterMs: addrWait, key: 'address' };
+        return nameWait >= addrWait
+          ? { ok: false, retryAfterMs: nameWait, key: 'name' }
+          : { ok: false, retryAfterMs: addrWait, key: 'address' };
       }
     }
     name.inFlight++;
@@ -150,7 +158,8 @@ export class SignInThrottle {
     e.failures++;
     e.lastFailureAt = at;
     const beyond = e.failures - free;
-    if (beyond >= 0) e.lockedUntil = Math.max(e.lockedUntil, at + Math.min(this.o.maxLockMs, this.o.baseLockMs * 2 ** Math.min(beyond, 30)));
+    if (beyond >= 0)
+      e.lockedUntil = Math.max(e.lockedUntil, at + Math.min(this.o.maxLockMs, this.o.baseLockMs * 2 ** Math.min(beyond, 30)));
   }
 
   /** Map order = recency; the oldest key goes when the map is full. */

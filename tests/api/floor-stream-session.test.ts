@@ -37,7 +37,9 @@ afterAll(async () => {
 });
 
 async function cookieFor(role: Role): Promise<string> {
-  const res = await request(t.app).post('/api/auth/sign-in').send({ email: emailFor(role), password: TEST_PASSWORD });
+  const res = await request(t.app)
+    .post('/api/auth/sign-in')
+    .send({ email: emailFor(role), password: TEST_PASSWORD });
   expect(res.status).toBe(200);
   return (res.headers['set-cookie'] as unknown as string[]).map((c) => c.split(';')[0]).join('; ');
 }
@@ -54,7 +56,10 @@ interface OpenStream {
 /** Open a stream with this cookie; `ended` resolves with the time the server ended it. */
 async function openStream(cookie: string): Promise<OpenStream> {
   const res = await new Promise<http.IncomingMessage>((resolve, reject) => {
-    const req = http.get({ host: '127.0.0.1', port, path: '/api/floor/stream', headers: { Accept: 'text/event-stream', Cookie: cookie } }, resolve);
+    const req = http.get(
+      { host: '127.0.0.1', port, path: '/api/floor/stream', headers: { Accept: 'text/event-stream', Cookie: cookie } },
+      resolve,
+    );
     req.on('error', reject);
   });
   expect(res.statusCode).toBe(200);
@@ -67,8 +72,7 @@ async function openStream(cookie: string): Promise<OpenStream> {
   return { text: () => text, mark: () => (markAt = text.length), tilesSinceMark: () => count(text.slice(markAt)), ended, res };
 }
 
-const within = <T>(p: Promise<T>, ms: number) =>
-  Promise.race([p, new Promise<'still open'>((r) => setTimeout(() => r('still open'), ms))]);
+const within = <T>(p: Promise<T>, ms: number) => Promise.race([p, new Promise<'still open'>((r) => setTimeout(() => r('still open'), ms))]);
 
 async function waitForTile(s: OpenStream): Promise<void> {
   const t0 = Date.now();
@@ -125,7 +129,10 @@ test('an expired session ends its open stream', async () => {
   const stream = await openStream(viewer);
   await waitForTile(stream);
   const sid = decodeURIComponent(viewer.split('=')[1]).replace(/^s:/, '').split('.')[0];
-  const [, updated] = (await t.ctx.ds.query(`UPDATE "session" SET expire = now() - interval '1 second' WHERE sid = $1`, [sid])) as [unknown, number];
+  const [, updated] = (await t.ctx.ds.query(`UPDATE "session" SET expire = now() - interval '1 second' WHERE sid = $1`, [sid])) as [
+    unknown,
+    number,
+  ];
   expect(updated).toBe(1);
   const endedAt = await within(stream.ended, SESSION_CHECK_MS + 3000);
   expect(endedAt).not.toBe('still open');

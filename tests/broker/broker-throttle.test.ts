@@ -60,10 +60,12 @@ test('100 wrong passwords for one rig name: another rig and the same rig with it
   const before = await connect('TH-01', SECRETS['TH-01']);
   await before.endAsync(true);
 
-  const storm = Array.from({ length: 100 }, (_, k) => connect('TH-01', `guess-${k}`, `.x${k}`).then(
-    (c) => (opened.push(c), 'connected'),
-    (err: { code?: number }) => err.code,
-  ));
+  const storm = Array.from({ length: 100 }, (_, k) =>
+    connect('TH-01', `guess-${k}`, `.x${k}`).then(
+      (c) => (opened.push(c), 'connected'),
+      (err: { code?: number }) => err.code,
+    ),
+  );
   // Without waiting for the storm to finish: the legitimate connects go in behind it.
   const other = await timedConnect('TH-02');
   const same = await timedConnect('TH-01');
@@ -77,11 +79,19 @@ test('100 wrong passwords for one rig name: another rig and the same rig with it
   expect(outcomes.filter((o) => o === 4).length).toBeLessThanOrEqual(5);
   expect(outcomes.filter((o) => o === 5).length).toBeGreaterThanOrEqual(95);
   expect(eb.counters.throttledConnects).toBeGreaterThanOrEqual(95);
-  console.log(`[throttle] one bcrypt check ${oneCheckMs} ms, bound ${boundMs} ms; after 100 wrong passwords: another rig connected in ${other} ms, the same rig with its secret in ${same} ms; ${eb.counters.authFailures} checked failures, ${eb.counters.throttledConnects} refused unchecked`);
+  console.log(
+    `[throttle] one bcrypt check ${oneCheckMs} ms, bound ${boundMs} ms; after 100 wrong passwords: another rig connected in ${other} ms, the same rig with its secret in ${same} ms; ${eb.counters.authFailures} checked failures, ${eb.counters.throttledConnects} refused unchecked`,
+  );
 
   // Guessing on, one after another: at most 5 guesses are ever checked, then the name is locked.
   const more: Array<number | undefined> = [];
-  for (let k = 0; k < 6; k++) more.push(await connect('TH-01', `later-guess-${k}`, `.y${k}`).then(() => 0, (err: { code?: number }) => err.code));
+  for (let k = 0; k < 6; k++)
+    more.push(
+      await connect('TH-01', `later-guess-${k}`, `.y${k}`).then(
+        () => 0,
+        (err: { code?: number }) => err.code,
+      ),
+    );
   expect(outcomes.filter((o) => o === 4).length + more.filter((o) => o === 4).length).toBeLessThanOrEqual(5);
   expect(more[more.length - 1]).toBe(5);
 });

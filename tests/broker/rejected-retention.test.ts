@@ -30,7 +30,8 @@ async function fill(old: number, recent: number): Promise<void> {
     [old, old + recent],
   );
 }
-const reasons = async () => (await pool.query<{ reason: string }>('SELECT reason FROM rejected_messages ORDER BY id')).rows.map((r) => r.reason);
+const reasons = async () =>
+  (await pool.query<{ reason: string }>('SELECT reason FROM rejected_messages ORDER BY id')).rows.map((r) => r.reason);
 
 test('the defaults: 30 days and 100,000 rows', () => {
   expect([REJECTED_KEEP_DAYS, REJECTED_KEEP_ROWS]).toEqual([30, 100_000]);
@@ -51,7 +52,11 @@ test('the telemetry feature prunes on its own schedule', async () => {
   await fill(5, 30);
   const ctx: AppContext = createContext(db.ds, { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config });
   // No broker on this port: the link keeps retrying; the prune job does not depend on it.
-  const stop = await startTelemetry(ctx, { mqtt: { url: 'mqtt://127.0.0.1:1', username: 'x', password: 'y' }, log: () => undefined, rejections: { pruneEveryMs: 200, keepRows: 10 } });
+  const stop = await startTelemetry(ctx, {
+    mqtt: { url: 'mqtt://127.0.0.1:1', username: 'x', password: 'y' },
+    log: () => undefined,
+    rejections: { pruneEveryMs: 200, keepRows: 10 },
+  });
   try {
     const t0 = Date.now();
     while ((await reasons()).length > 10 && Date.now() - t0 < 5000) await sleep(50);

@@ -3,7 +3,7 @@
  * (PostgreSQL), the server's real MQTT link and ingest, live protection, the API, and rigs played
  * by plain mqtt.js clients on loopback.
  */
-import mqtt, { type MqttClient } from 'mqtt';
+import type { MqttClient } from 'mqtt';
 import { createEmberlotBroker, type EmberlotBroker } from '../../broker/broker';
 import { createPgAuthenticate } from '../../broker/pg-authenticate';
 import { parseCommandAck, parseStatus, topics, TELEMETRY_TS_MAX_AHEAD_MS, TELEMETRY_TS_MAX_BEHIND_MS } from '../../shared/mqtt';
@@ -56,9 +56,12 @@ function telemetry(code: string, over: Record<string, unknown> = {}, sockets = [
 async function q<T = Record<string, unknown>>(sql: string, params: unknown[] = []): Promise<T[]> {
   return t.ctx.ds.query(sql, params);
 }
-const batchesOf = async (code: string) => Number((await q<{ n: string }>('SELECT count(*) AS n FROM telemetry_batches WHERE rig_id = $1', [rigIds[code]]))[0].n);
-const storedSeq = async (code: string, s: number) => (await q('SELECT 1 FROM telemetry_batches WHERE rig_id = $1 AND seq = $2', [rigIds[code], s])).length === 1;
-const rejectionsOf = (code: string) => q<{ reason: string; topic: string }>('SELECT reason, topic FROM rejected_messages WHERE rig_code = $1 ORDER BY id', [code]);
+const batchesOf = async (code: string) =>
+  Number((await q<{ n: string }>('SELECT count(*) AS n FROM telemetry_batches WHERE rig_id = $1', [rigIds[code]]))[0].n);
+const storedSeq = async (code: string, s: number) =>
+  (await q('SELECT 1 FROM telemetry_batches WHERE rig_id = $1 AND seq = $2', [rigIds[code], s])).length === 1;
+const rejectionsOf = (code: string) =>
+  q<{ reason: string; topic: string }>('SELECT reason, topic FROM rejected_messages WHERE rig_code = $1 ORDER BY id', [code]);
 
 async function until(cond: () => Promise<boolean>, timeoutMs: number, label: string): Promise<void> {
   const t0 = Date.now();
@@ -70,9 +73,14 @@ async function until(cond: () => Promise<boolean>, timeoutMs: number, label: str
 
 beforeAll(async () => {
   t = await createTestApp();
-  for (const code of ['SR-01', 'SR-02', 'SR-03', 'SR-04']) rigIds[code] = await insertTestRig(t.ctx.ds, code, { secret: SECRET, sockets: 4 });
+  for (const code of ['SR-01', 'SR-02', 'SR-03', 'SR-04'])
+    rigIds[code] = await insertTestRig(t.ctx.ds, code, { secret: SECRET, sockets: 4 });
   eb = await createEmberlotBroker({ port: 0, authenticate: createPgAuthenticate({ pool: pgPoolOf(t.ctx), server: SERVER }) });
-  stopTelemetry = await startTelemetry(t.ctx, { mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, ...SERVER }, clientId: 'emberlot-server-security-test', log: () => undefined });
+  stopTelemetry = await startTelemetry(t.ctx, {
+    mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, ...SERVER },
+    clientId: 'emberlot-server-security-test',
+    log: () => undefined,
+  });
   await waitFor(() => (t.ctx.services[RIG_LINK] as RigLink).connected(), 5000, 'server link');
   feature = await startProtectionFeature(t.ctx, { mail: { attempts: 1, backoffMs: 10 } });
 });
@@ -101,9 +109,9 @@ describe('point 4: deactivating a rig cuts it off', () => {
     await closed; // kicked like a revocation
     expect(Date.now() - t0).toBeLessThan(3000);
     expect(eb.counters.revokedKicks).toBeGreaterThanOrEqual(1);
-    await expect(
-      connectClient(eb.port, { clientId: 'rig-SR-01', username: 'rig-sr-01', password: SECRET }),
-    ).rejects.toMatchObject({ code: 4 });
+    await expect(connectClient(eb.port, { clientId: 'rig-SR-01', username: 'rig-sr-01', password: SECRET })).rejects.toMatchObject({
+      code: 4,
+    });
 
     // A message that was already on its way (the server may publish on any rig topic: it plays it).
     const before = await batchesOf('SR-01');
@@ -158,13 +166,20 @@ describe("point 7: telemetry is checked against the rig's registration", () => {
     const inside = [now - TELEMETRY_TS_MAX_BEHIND_MS + 60_000, now + TELEMETRY_TS_MAX_AHEAD_MS - 60_000];
     const outside = [now - TELEMETRY_TS_MAX_BEHIND_MS - 60_000, now + TELEMETRY_TS_MAX_AHEAD_MS + 60_000];
     const seqs: Record<'in' | 'out', number[]> = { in: [], out: [] };
-    for (const [kind, list] of [['in', inside], ['out', outside]] as const) {
+    for (const [kind, list] of [
+      ['in', inside],
+      ['out', outside],
+    ] as const) {
       for (const at of list) {
         await rig.publishAsync(topics.telemetry('SR-04'), telemetry('SR-04', { ts: new Date(at).toISOString() }), { qos: 1 });
         seqs[kind].push(seq);
       }
     }
-    await until(async () => (await storedSeq('SR-04', seqs.in[0])) && (await storedSeq('SR-04', seqs.in[1])), 5000, 'messages inside the window');
+    await until(
+      async () => (await storedSeq('SR-04', seqs.in[0])) && (await storedSeq('SR-04', seqs.in[1])),
+      5000,
+      'messages inside the window',
+    );
     await (t.ctx.services[TELEMETRY_INGEST] as TelemetryIngest).drain();
     for (const s of seqs.out) expect(await storedSeq('SR-04', s)).toBe(false);
     expect(await rejectionsOf('SR-04')).toHaveLength(2);
@@ -172,7 +187,7 @@ describe("point 7: telemetry is checked against the rig's registration", () => {
 });
 
 describe('point 6: text from rigs is made storable', () => {
-  test("a trip refused with a NUL in its reason still updates the alarm: remove bias at the rig now", async () => {
+  test('a trip refused with a NUL in its reason still updates the alarm: remove bias at the rig now', async () => {
     const rig = await rigClient('SR-03');
     const refusedReason = 'bias relay welded\u0000 interlock open';
     const trips: string[] = [];
@@ -181,16 +196,26 @@ describe('point 6: text from rigs is made storable', () => {
       const cmd = JSON.parse(payload.toString());
       if (cmd.type !== 'trip') return;
       trips.push(cmd.cmdId);
-      rig.publish(topics.commandAcks('SR-03'), JSON.stringify({ v: 1, rig: 'SR-03', cmdId: cmd.cmdId, ok: false, error: refusedReason }), { qos: 1 });
+      rig.publish(topics.commandAcks('SR-03'), JSON.stringify({ v: 1, rig: 'SR-03', cmdId: cmd.cmdId, ok: false, error: refusedReason }), {
+        qos: 1,
+      });
     });
     // Socket 1 at 160 °C under bias: at or above the 150 °C rating protection assumes without a run.
-    await rig.publishAsync(topics.telemetry('SR-03'), telemetry('SR-03', {}, [0, 1, 2, 3], (i) => (i === 1 ? 160 : 125.5)), { qos: 1 });
+    await rig.publishAsync(
+      topics.telemetry('SR-03'),
+      telemetry('SR-03', {}, [0, 1, 2, 3], (i) => (i === 1 ? 160 : 125.5)),
+      { qos: 1 },
+    );
 
     const repo = t.ctx.ds.getRepository(AlarmEntity);
-    await until(async () => {
-      const a = await repo.findOneBy({ rigId: rigIds['SR-03'], kind: 'runaway-trip' });
-      return !!a && (a.details as Record<string, unknown>).command === 'not confirmed';
-    }, 15_000, 'the alarm to say the rig did not confirm');
+    await until(
+      async () => {
+        const a = await repo.findOneBy({ rigId: rigIds['SR-03'], kind: 'runaway-trip' });
+        return !!a && (a.details as Record<string, unknown>).command === 'not confirmed';
+      },
+      15_000,
+      'the alarm to say the rig did not confirm',
+    );
     const alarm = await repo.findOneByOrFail({ rigId: rigIds['SR-03'], kind: 'runaway-trip' });
     expect(trips.length).toBeGreaterThanOrEqual(1);
     expect(alarm.socketIndex).toBe(1);
@@ -198,13 +223,17 @@ describe('point 6: text from rigs is made storable', () => {
     expect(alarm.message).toContain('remove bias from this socket at the rig now');
     // The NUL became U+FFFD; the rest of the rig's words are kept.
     expect(alarm.message).toContain('bias relay welded\uFFFD interlock open');
-    expect((alarm.details as Record<string, unknown>).commandError).toEqual(expect.stringContaining('bias relay welded\uFFFD interlock open'));
+    expect((alarm.details as Record<string, unknown>).commandError).toEqual(
+      expect.stringContaining('bias relay welded\uFFFD interlock open'),
+    );
   });
 
   test('every free-text field a rig sends parses to storable text (NUL and lone surrogates → U+FFFD)', () => {
     const ack = parseCommandAck('{"v":1,"rig":"SR-03","cmdId":"c-1","ok":false,"error":"a\\u0000b\\ud800c\\udc00d\\ud83d\\ude00"}');
     expect(ack).toEqual({ ok: true, data: { v: 1, rig: 'SR-03', cmdId: 'c-1', ok: false, error: 'a\uFFFDb\uFFFDc\uFFFDd\u{1F600}' } });
-    const status = parseStatus('{"v":1,"rig":"SR-03","online":true,"ts":"2026-12-04T10:00:00Z","firmware":"hg\\u0000-2.\\ud800","lastSeq":3}');
+    const status = parseStatus(
+      '{"v":1,"rig":"SR-03","online":true,"ts":"2026-12-04T10:00:00Z","firmware":"hg\\u0000-2.\\ud800","lastSeq":3}',
+    );
     expect(status.ok && status.data.firmware).toBe('hg\uFFFD-2.\uFFFD');
     // A well-formed pair (an emoji) is kept as it is.
     expect(isStorableText('d\u{1F600}')).toBe(true);

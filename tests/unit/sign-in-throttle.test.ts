@@ -3,7 +3,15 @@ import { SignInThrottle } from '../../broker/sign-in-throttle';
 
 function make(over: ConstructorParameters<typeof SignInThrottle>[0] = {}) {
   let now = 1_000_000;
-  const th = new SignInThrottle({ freeFailuresPerName: 3, freeFailuresPerAddress: 10, baseLockMs: 1000, maxLockMs: 8000, forgetAfterMs: 60_000, now: () => now, ...over });
+  const th = new SignInThrottle({
+    freeFailuresPerName: 3,
+    freeFailuresPerAddress: 10,
+    baseLockMs: 1000,
+    maxLockMs: 8000,
+    forgetAfterMs: 60_000,
+    now: () => now,
+    ...over,
+  });
   return { th, advance: (ms: number) => (now += ms) };
 }
 
