@@ -11,8 +11,9 @@ import { analyticsRoutes } from './analytics/analytics.routes';
 import { telemetryRouters } from './telemetry/routers';
 import { alarmRouters } from './alarms';
 import { runsRoutes } from './runs/runs.routes';
+import { evidenceRoutes } from './evidence/evidence.routes';
 
 /** Every API router, in mount order. Add a feature's router here (one line). */
 export function apiRouters(ctx: AppContext): ApiRouter[] {
-  return [healthRoutes(ctx), authRoutes(ctx), usersRoutes(ctx), deviceTypesRoutes(ctx), lotsRoutes(ctx), plansRoutes(ctx), measurementsRoutes(ctx), analyticsRoutes(ctx), ...alarmRouters(ctx), ...telemetryRouters(ctx), runsRoutes(ctx)];
+  return [healthRoutes(ctx), authRoutes(ctx), usersRoutes(ctx), deviceTypesRoutes(ctx), lotsRoutes(ctx), plansRoutes(ctx), measurementsRoutes(ctx), analyticsRoutes(ctx), ...alarmRouters(ctx), ...telemetryRouters(ctx), runsRoutes(ctx), evidenceRoutes(ctx)];
 }

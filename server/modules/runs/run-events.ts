@@ -28,6 +28,7 @@
  */
 import type { RunState } from '../../../shared/schemas/runs';
 import type { AppContext } from '../../context';
+import { describeErrorForLog } from '../../db/safe-logger';
 
 export const RUN_EVENT = 'run-event';
 
@@ -99,7 +100,7 @@ export function emitRunEvent(ctx: Pick<AppContext, 'events' | 'now'>, event: Omi
   try {
     ctx.events.emit(RUN_EVENT, full);
   } catch (e) {
-    console.error('[runs] a run-event listener failed:', e);
+    console.error(`[runs] a run-event listener failed: ${describeErrorForLog(e)}`);
   }
   return full;
 }
