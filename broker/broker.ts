@@ -16,6 +16,7 @@ import {
   topics,
 } from '../shared/mqtt';
 import { PacketSizeGuard } from './packet-guard';
+import { SignInThrottle, type SignInThrottleOptions } from './sign-in-throttle';
 
 // aedes 1.x is ESM-only with no default export; Node ≥ 20.19 can require() it (jest: swc transform).
 // eslint-disable-next-line @typescript-eslint/no-require-imports -- see above
@@ -33,6 +34,8 @@ export interface EmberlotBrokerOptions {
   maxPacketBytes?: number;
   /** One-line log sink for refusals and kicks; default silent. */
   log?: (line: string) => void;
+  /** Failed sign-ins throttled per user name and client address (sign-in-throttle.ts); false = off. */
+  signInThrottle?: SignInThrottleOptions | false;
 }
 
 export interface BrokerCounters {
@@ -40,6 +43,8 @@ export interface BrokerCounters {
   authFailures: number;
   /** CONNECTs refused because the authenticator threw (e.g. database down). */
   authErrors: number;
+  /** CONNECTs refused unchecked: their user name or client address failed too often (CONNACK 5). */
+  throttledConnects: number;
   /** PUBLISHes refused by topic rules (aedes then closes the client under MQTT 3.1.1). */
   spoofedPublishes: number;
   refusedSubscriptions: number;
@@ -99,10 +104,12 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
   const maxPacketBytes = opts.maxPacketBytes ?? MAX_PACKET_BYTES;
   const log = opts.log ?? (() => undefined);
   let authenticate = opts.authenticate;
+  const throttle = opts.signInThrottle === false ? null : new SignInThrottle(opts.signInThrottle ?? {});
 
   const counters = {
     authFailures: 0,
     authErrors: 0,
+    throttledConnects: 0,
     spoofedPublishes: 0,
     refusedSubscriptions: 0,
     oversized: 0,
@@ -118,8 +125,17 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
     authenticate(client, username, password, done) {
       const user = username ?? '';
       const pass = password ? Buffer.from(password).toString('utf8') : '';
+      const address = (client.conn as Partial<net.Socket>).remoteAddress ?? 'unknown';
+      const gate = throttle?.begin(user, pass, address);
+      if (gate && !gate.ok) {
+        counters.throttledConnects++;
+        log(`refused connect: too many failed sign-ins for ${gate.key === 'name' ? `user "${user}"` : `address ${address}`}; retry in ${Math.ceil(gate.retryAfterMs / 1000)} s`);
+        return done(authError('Too many failed sign-ins; try again later', 5), null);
+      }
+      const settle = (success: boolean) => (gate?.ok ? gate.done(success) : undefined);
       authenticate(user, pass).then(
         (principal) => {
+          settle(!!principal);
           if (!principal) {
             counters.authFailures++;
             log(`refused connect: bad credentials for user "${user}"`);
@@ -138,6 +154,8 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
           done(null, true);
         },
         (err: unknown) => {
+          // Not the client's fault (e.g. database down): neither a failure nor a success.
+          if (gate?.ok) gate.done(null);
           counters.authErrors++;
           log(`refused connect: authenticator failed: ${(err as Error)?.message ?? err}`);
           done(authError('Server unavailable', 3), null);

@@ -9,7 +9,7 @@ import { useEffect, useState } from 'react';
 import { useQuery, useQueryClient } from '@tanstack/react-query';
 import type { FloorBoard, FloorChart, FloorTile } from '@/shared/schemas/floor';
 import { api, serverBody } from './api';
-import { STALE } from './keys';
+import { keys, STALE } from './keys';
 
 export const floorKeys = {
   all: ['floor'] as const,
@@ -83,6 +83,12 @@ export function useFloorStream(): StreamState {
       wasLive = true;
     };
     es.onerror = () => setState('reconnecting');
+    // The server ends the stream with its session (sign-out elsewhere, expiry, deactivation): stop,
+    // and let /me find out who is signed in (the shell then shows the sign-in screen).
+    es.addEventListener('end', () => {
+      es.close();
+      void qc.invalidateQueries({ queryKey: keys.me });
+    });
     es.addEventListener('tile', (e) => {
       let tile: FloorTile;
       try {

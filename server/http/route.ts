@@ -3,6 +3,7 @@ import type { ZodType } from 'zod';
 import type { Role } from '../../shared/roles';
 import type { SessionUser } from '../../shared/schemas/auth';
 import { badRequest, forbidden, unauthenticated, validationError } from './errors';
+import { UNSTORABLE_TEXT } from '../../shared/storable-text';
 
 export type Access = readonly Role[] | 'public' | 'signed-in';
 
@@ -36,11 +37,8 @@ export interface RegisteredRoute {
 
 export const SESSION_COOKIE = 'emberlot.sid';
 
-/**
- * A NUL character (PostgreSQL text and jsonb cannot hold it) or a lone UTF-16 surrogate (not valid
- * unicode; jsonb refuses its escape). Such input used to reach the database and come back as a 500.
- */
-const UNSTORABLE = /\u0000|[\uD800-\uDBFF](?![\uDC00-\uDFFF])|(?<![\uD800-\uDBFF])[\uDC00-\uDFFF]/;
+/** Unstorable text (shared/storable-text.ts) used to reach the database and come back as a 500. */
+const UNSTORABLE = UNSTORABLE_TEXT;
 
 /**
  * The path of the first string (value or key) holding an unstorable character, or null. Iterative,

@@ -6,6 +6,7 @@
  * guarantees the topic, not the body.
  */
 import { z } from 'zod';
+import { storableText } from '../storable-text';
 import { RIG_CODE_PATTERN } from './topics';
 
 /** Broker-side cap on one MQTT packet; 256 sockets of telemetry are ~30 KiB, so this is generous. */
@@ -29,6 +30,12 @@ const amps = () => z.number().min(-CURRENT_LIMIT_A).max(CURRENT_LIMIT_A);
 const seqNo = () => z.number().int().min(1).max(Number.MAX_SAFE_INTEGER);
 const socketIndex = () => z.number().int().min(0).max(MAX_SOCKETS - 1);
 const isoTime = () => z.iso.datetime({ offset: true });
+/**
+ * Free text from a rig (status firmware, an ack's reason): accepted, and made storable here at the
+ * parsing edge (NUL and lone surrogates → U+FFFD, shared/storable-text.ts), so no later write of
+ * it can fail. A refused trip whose reason carried a NUL once failed the alarm update.
+ */
+const rigText = (max: number) => z.string().max(max).transform(storableText);
 
 export const rigCodeSchema = z.string().regex(RIG_CODE_PATTERN, 'Rig code must be 2–32 of A–Z, 0–9, "-"');
 export const cmdIdSchema = z.string().min(1).max(64).regex(/^[A-Za-z0-9._:-]+$/, 'cmdId: letters, digits, . _ : -');
@@ -205,7 +212,7 @@ export const statusSchema = z.object({
   rig: rigCodeSchema,
   online: z.boolean(),
   ts: isoTime(),
-  firmware: z.string().max(64).optional(),
+  firmware: rigText(64).optional(),
   lastSeq: z.number().int().min(0).max(Number.MAX_SAFE_INTEGER),
 });
 export type RigStatus = z.infer<typeof statusSchema>;
@@ -293,7 +300,7 @@ export const commandAckSchema = z.object({
   rig: rigCodeSchema,
   cmdId: cmdIdSchema,
   ok: z.boolean(),
-  error: z.string().max(500).optional(),
+  error: rigText(500).optional(),
 });
 export type CommandAck = z.infer<typeof commandAckSchema>;
 
@@ -515,6 +522,29 @@ export function parseTelemetry(input: string | Uint8Array): ParseResult<Telemetr
   if (isPlainTelemetry(j)) return { ok: true, data: withStorableReals(telemetryFromReadings(j)) };
   const r = validate(telemetrySchema, j);
   return r.ok ? { ok: true, data: withStorableReals(telemetryFromReadings(r.data)) } : r;
+}
+
+/**
+ * How far a telemetry `ts` may lie from the receiver's clock. Ahead: one day covers clock drift and
+ * a rig clock set in local time but sent as UTC (at most 14 h off). Behind: 30 days covers an
+ * outbox a rig held through a long outage (rigs re-send until `stored`; a stress run ends or is
+ * aborted long before). Outside it the rig's clock is broken (a flat RTC restarts at 1970) and the
+ * message is refused with the reason, not stored: its time would misplace it in every chart and
+ * rollup. Common practice (plausibility window), values chosen here.
+ */
+export const TELEMETRY_TS_MAX_AHEAD_MS = 24 * 3600_000;
+export const TELEMETRY_TS_MAX_BEHIND_MS = 30 * 24 * 3600_000;
+
+/** Why a telemetry `ts` is outside the window around `receivedMs`, or null. */
+export function telemetryTimeProblem(ts: string, receivedMs: number): string | null {
+  const at = Date.parse(ts);
+  if (at > receivedMs + TELEMETRY_TS_MAX_AHEAD_MS) {
+    return `ts ${ts} is more than ${TELEMETRY_TS_MAX_AHEAD_MS / 3600_000} h ahead of the server's clock (${new Date(receivedMs).toISOString()}); check the rig's clock`;
+  }
+  if (!(at >= receivedMs - TELEMETRY_TS_MAX_BEHIND_MS)) {
+    return `ts ${ts} is more than ${TELEMETRY_TS_MAX_BEHIND_MS / 86_400_000} days behind the server's clock (${new Date(receivedMs).toISOString()}); check the rig's clock`;
+  }
+  return null;
 }
 
 export const parseStatus = (input: string | Uint8Array) => parsePayload(statusSchema, input);

@@ -115,4 +115,5 @@ export interface FloorChart {
 }
 
 /** Server-sent events on GET /api/floor/stream. */
-export type FloorStreamEvent = { type: 'tile'; tile: FloorTile } | { type: 'heartbeat'; at: string };
+/** `end`: the server closed the stream because its session ended (reason: 'signed out' | 'session ended'). */
+export type FloorStreamEvent = { type: 'tile'; tile: FloorTile } | { type: 'heartbeat'; at: string } | { type: 'end'; reason: string };

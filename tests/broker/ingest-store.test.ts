@@ -18,7 +18,8 @@ const CODES = ['NULL', 'OV-9-X', 'B7'];
 
 beforeAll(async () => {
   db = await createTestDb();
-  for (const code of CODES) ids[code] = await insertTestRig(db.ds, code, { sockets: 4 });
+  // B7 sends a humidity value (stored as 0 below): registered with humidity control.
+  for (const code of CODES) ids[code] = await insertTestRig(db.ds, code, { sockets: 4, humidityCapable: code === 'B7' });
   ctx = createContext(db.ds, { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config });
 });
 

@@ -23,13 +23,16 @@ const PER_BATCH = 200;
 let db: TestDb;
 let ctx: AppContext;
 
+/** Message times near the server's clock: the ingest refuses a `ts` outside its window (TELEMETRY_TS_MAX_*). */
+const T_BASE = Math.floor(Date.now() / 60_000) * 60_000 - 3_600_000;
+
 /** One message as a rig builds it (published as v1 JSON below). */
 function readings(rig: string, seq: number): TelemetryReadings {
   return {
     v: 1,
     rig,
     seq,
-    ts: new Date(Date.UTC(2031, 5, 1) + seq * 250).toISOString(),
+    ts: new Date(T_BASE + seq * 250).toISOString(),
     stressClockS: seq * 900,
     chamberC: 150 + (seq % 7) * 0.1,
     humidityPct: null,

@@ -54,12 +54,15 @@ async function seqsOf(rig: string): Promise<number[]> {
 }
 const range = (a: number, b: number) => Array.from({ length: b - a + 1 }, (_, k) => a + k);
 
+/** Message times near the server's clock: the ingest refuses a `ts` outside its window (TELEMETRY_TS_MAX_*). */
+const T_BASE = Math.floor(Date.now() / 60_000) * 60_000 - 3_600_000;
+
 function telemetryPayload(rig: string, seq: number, extra: Record<string, unknown> = {}) {
   return JSON.stringify({
     v: 1,
     rig,
     seq,
-    ts: new Date(Date.UTC(2031, 2, 4, 10, 0, 0) + seq * 250).toISOString(),
+    ts: new Date(T_BASE + seq * 250).toISOString(),
     stressClockS: seq * 900,
     chamberC: 125,
     humidityPct: null,
@@ -208,7 +211,7 @@ test('a replay of already-stored seqs stores nothing twice but is confirmed agai
   expect((await counter('ingest_duplicates')) - dupsBefore).toBe(20);
   for (const s of range(1, 25)) expect(landed.get(`OV-02|${s}`)).toBe(1);
   // A seq re-used with different content is kept once and reported.
-  rig.publish(topics.telemetry('OV-02'), telemetryPayload('OV-02', 3, { chamberC: 99, ts: '2031-03-05T00:00:00.000Z' }), { qos: 1 });
+  rig.publish(topics.telemetry('OV-02'), telemetryPayload('OV-02', 3, { chamberC: 99, ts: new Date(T_BASE + 86_400_000 / 2).toISOString() }), { qos: 1 });
   await waitFor(() => isConfirmed(3), 5000, 'conflict confirmation');
   await sleep(200);
   expect(await counter('ingest_seq_conflicts')).toBe(1);

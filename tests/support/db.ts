@@ -73,7 +73,7 @@ export async function tableCounts(ds: DataSource): Promise<Record<string, number
 export async function insertTestRig(
   ds: DataSource,
   code: string,
-  opts: { secret?: string; sockets?: number; maxVoltageV?: number; name?: string } = {},
+  opts: { secret?: string; sockets?: number; maxVoltageV?: number; name?: string; humidityCapable?: boolean } = {},
 ): Promise<string> {
   const rows = await ds.getRepository(RigEntity).insert({
     code,
@@ -81,6 +81,7 @@ export async function insertTestRig(
     socketCount: opts.sockets ?? 8,
     maxTempC: 200,
     maxVoltageV: opts.maxVoltageV ?? 200,
+    humidityCapable: opts.humidityCapable ?? false,
     mqttUsername: `rig-${code.toLowerCase()}`,
     mqttSecretHash: await bcrypt.hash(opts.secret ?? 'test-rig-secret', 4),
     credentialsIssuedAt: new Date(),

@@ -51,6 +51,7 @@ export class TelemetryRollupEntity {
 
 /** MQTT messages refused by ingest, with the reason (visible to admins). */
 @Entity('rejected_messages')
+@Index('IDX_rejected_messages_at', ['at'])
 export class RejectedMessageEntity {
   @PrimaryGeneratedColumn('increment', { type: 'bigint' }) id: string;
   @Column({ type: 'timestamptz', default: () => 'now()' }) at: Date;

@@ -11,6 +11,7 @@ import { AppError } from '../../http/errors';
 import { ApiRouter, SESSION_COOKIE } from '../../http/route';
 import { UserEntity } from '../../db/entities';
 import { AuthService } from './auth.service';
+import { SESSION_ENDED, type SessionEnded } from './session-events';
 
 /** Sign-in attempts allowed per client address in a window (on top of the per-account lockout). */
 export const SIGN_IN_WINDOW_MS = 15 * 60 * 1000;
@@ -90,10 +91,12 @@ export function authRoutes(ctx: AppContext): ApiRouter {
   });
 
   r.post('/sign-out', { access: 'public' }, ({ req, res }) => {
+    const sid = req.sessionID;
     return new Promise<void>((resolve, reject) => {
       req.logout((err) => {
         if (err) return reject(err);
         req.session?.destroy(() => {
+          if (sid) ctx.events.emit(SESSION_ENDED, { sid } satisfies SessionEnded); // open streams end now
           res.clearCookie(SESSION_COOKIE, { httpOnly: true, sameSite: 'lax', secure: ctx.config.secureCookies });
           resolve();
         });

@@ -13,11 +13,11 @@ export function floorRoutes(ctx: AppContext): ApiRouter {
   const r = new ApiRouter('/api/floor');
   r.get('/', { access: 'signed-in' }, async () => ({ items: await svc.tiles() }));
   // Server-sent events: `event: tile` with a whole tile whenever a rig changed (≤ 1 per rig per s).
-  r.get('/stream', { access: 'signed-in' }, ({ req, res }) => {
+  r.get('/stream', { access: 'signed-in' }, ({ req, res, user }) => {
     if (!String(req.headers.accept ?? '').includes('text/event-stream')) {
       throw badRequest('This address is a live event stream; open it with an EventSource (Accept: text/event-stream).');
     }
-    stream.add(res);
+    stream.add(res, { sid: req.sessionID, userId: user.id });
     return HANDLED;
   });
   r.get('/rigs/:code', { access: 'signed-in', params: floorRigParamSchema }, ({ params }) => svc.board(params.code));

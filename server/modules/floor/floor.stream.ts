@@ -5,10 +5,16 @@
  * every open stream as `event: tile`. So each rig gets at most one event per second, and a
  * telemetry message reaches the screen within ingest window (50 ms) + ≤ 1 s + one query.
  * A comment line goes out every 15 s as a heartbeat.
+ *
+ * A stream lives no longer than the session that opened it: sign-out ends it at once
+ * (SESSION_ENDED); every SESSION_CHECK_MS one query finds the streams whose session expired or was
+ * deleted (a deactivated user's, a changed role's or password's sessions are deleted) or whose
+ * user is no longer active, and ends them with `event: end`.
  */
 import type { Response } from 'express';
-import type { FloorTile } from '../../../shared/schemas/floor';
+import type { FloorStreamEvent, FloorTile } from '../../../shared/schemas/floor';
 import type { AppContext } from '../../context';
+import { SESSION_ENDED, type SessionEnded } from '../auth/session-events';
 import { ALARM_EVENT } from '../alarms/alarms.service';
 import { RUN_EVENT } from '../runs/run-events';
 import { RIG_STATUS_CHANGED, TELEMETRY_LANDED } from '../telemetry/contracts';
@@ -16,9 +22,23 @@ import type { FloorService } from './floor.service';
 
 export const STREAM_TICK_MS = 1_000;
 export const HEARTBEAT_MS = 15_000;
+/** How often open streams' sessions and users are checked (one query for all streams). */
+export const SESSION_CHECK_MS = 2_000;
+
+/** Who opened a stream: the session id (express-session's `req.sessionID`) and the user. */
+export interface StreamOwner {
+  sid: string;
+  userId: string;
+}
 
 export class FloorStream {
   private readonly clients = new Set<Response>();
+  private readonly owners = new Map<Response, StreamOwner>();
+  private sessionCheck: ReturnType<typeof setInterval> | null = null;
+  private checking = false;
+  private readonly onSessionEnded = (e: SessionEnded | undefined) => {
+    if (e?.sid) this.endWhere((o) => o.sid === e.sid, 'signed out');
+  };
   private readonly dirty = new Set<string>();
   private tick: ReturnType<typeof setInterval> | null = null;
   private heartbeat: ReturnType<typeof setInterval> | null = null;
@@ -29,13 +49,18 @@ export class FloorStream {
     if (rigId && this.clients.size) this.dirty.add(rigId);
   };
 
-  constructor(private readonly ctx: AppContext, private readonly floor: FloorService, private readonly tickMs = STREAM_TICK_MS) {}
+  constructor(
+    private readonly ctx: AppContext,
+    private readonly floor: FloorService,
+    private readonly tickMs = STREAM_TICK_MS,
+    private readonly sessionCheckMs = SESSION_CHECK_MS,
+  ) {}
 
   get size(): number {
     return this.clients.size;
   }
 
-  add(res: Response): void {
+  add(res: Response, owner: StreamOwner): void {
     res.status(200);
     res.setHeader('Content-Type', 'text/event-stream; charset=utf-8');
     res.setHeader('Cache-Control', 'no-store');
@@ -44,8 +69,10 @@ export class FloorStream {
     res.flushHeaders();
     res.write(`retry: 3000\n: connected\n\n`);
     this.clients.add(res);
+    this.owners.set(res, owner);
     res.on('close', () => {
       this.clients.delete(res);
+      this.owners.delete(res);
       if (!this.clients.size) this.stopTimers();
     });
     this.startTimers();
@@ -61,12 +88,52 @@ export class FloorStream {
     (this.tick as unknown as { unref?: () => void }).unref?.();
     this.heartbeat = setInterval(() => this.broadcast(`: heartbeat ${new Date().toISOString()}\n\n`), HEARTBEAT_MS);
     (this.heartbeat as unknown as { unref?: () => void }).unref?.();
+    this.ctx.events.on(SESSION_ENDED, this.onSessionEnded);
+    this.sessionCheck = setInterval(() => void this.checkSessions(), this.sessionCheckMs);
+    (this.sessionCheck as unknown as { unref?: () => void }).unref?.();
+  }
+
+  /** End (with `event: end` and the reason) every stream whose owner matches. */
+  private endWhere(match: (o: StreamOwner) => boolean, reason: string): number {
+    let n = 0;
+    for (const [res, owner] of this.owners) {
+      if (!match(owner)) continue;
+      this.owners.delete(res);
+      this.clients.delete(res);
+      res.end(`event: end\ndata: ${JSON.stringify({ type: 'end', reason } satisfies FloorStreamEvent)}\n\n`);
+      n++;
+    }
+    if (!this.clients.size) this.stopTimers();
+    return n;
+  }
+
+  /** One query: the open streams' sessions that still exist, have not expired, and belong to an active user. */
+  private async checkSessions(): Promise<void> {
+    if (this.checking || !this.owners.size) return;
+    this.checking = true;
+    try {
+      const sids = Array.from(new Set(Array.from(this.owners.values(), (o) => o.sid)));
+      const rows: Array<{ sid: string }> = await this.ctx.ds.query(
+        `SELECT s.sid FROM "session" s
+         JOIN users u ON u.id::text = s.sess->'passport'->>'user' AND u.active
+         WHERE s.sid = ANY($1::varchar[]) AND s.expire > now()`,
+        [sids],
+      );
+      const live = new Set(rows.map((r) => r.sid));
+      this.endWhere((o) => !live.has(o.sid), 'session ended');
+    } catch {
+      /* database hiccup: check again next time */
+    } finally {
+      this.checking = false;
+    }
   }
 
   private stopTimers(): void {
     if (this.tick) clearInterval(this.tick);
     if (this.heartbeat) clearInterval(this.heartbeat);
-    this.tick = this.heartbeat = null;
+    if (this.sessionCheck) clearInterval(this.sessionCheck);
+    this.tick = this.heartbeat = this.sessionCheck = null;
+    this.ctx.events.off(SESSION_ENDED, this.onSessionEnded);
     this.ctx.events.off(TELEMETRY_LANDED, this.onRig);
     this.ctx.events.off(RIG_STATUS_CHANGED, this.onRig);
     this.ctx.events.off(ALARM_EVENT, this.onRig);
@@ -96,6 +163,7 @@ export class FloorStream {
   close(): void {
     for (const res of this.clients) res.end();
     this.clients.clear();
+    this.owners.clear();
     this.stopTimers();
   }
 }

@@ -128,7 +128,7 @@ export class RigsService {
   }
 
   async update(actor: SessionUser, code: string, input: UpdateRigInput): Promise<Rig> {
-    return this.ds.transaction(async (m) => {
+    const rig = await this.ds.transaction(async (m) => {
       const rig = await this.findByCode(code, m, true);
       const changes: Record<string, unknown> = {};
       if (input.maxHumidityPct !== undefined && input.maxHumidityPct !== null && !rig.humidityCapable) {
@@ -144,6 +144,10 @@ export class RigsService {
       await this.ctx.audit.record({ actor, action: 'rig.update', entity: 'rig', entityId: rig.id, details: changes }, m);
       return toRig(rig);
     });
+    // A deactivated rig is cut off like a revoked one: after COMMIT, so the broker's database
+    // check refuses its reconnect, and the ingest refuses whatever it still had in flight.
+    if (input.active === false) await this.kick(code);
+    return rig;
   }
 
   /** New secret (the old one stops working at once), revocation lifted, open session kicked. */

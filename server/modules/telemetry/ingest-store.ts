@@ -62,6 +62,27 @@ interface RigRow {
   id: string;
   code: string;
   online: boolean;
+  active: boolean;
+  socket_count: number;
+  humidity_capable: boolean;
+}
+
+/**
+ * Why a rig's registration refuses this telemetry, or null. Read from the rig's row in the batch's
+ * own transaction, so a deactivation applies to the very next batch. O(sockets), no allocation
+ * unless refused: the hot path.
+ */
+export function registrationProblem(rig: Pick<RigRow, 'code' | 'active' | 'socket_count' | 'humidity_capable'>, msg: Telemetry): string | null {
+  if (!rig.active) return `rig ${rig.code} is deactivated; its telemetry is not stored`;
+  if (msg.humidityPct !== null && !rig.humidity_capable) {
+    return `humidity ${msg.humidityPct} % from rig ${rig.code}, which is registered without humidity control`;
+  }
+  const socket = msg.socket;
+  const count = rig.socket_count;
+  for (let k = 0; k < socket.length; k++) {
+    if (socket[k] >= count) return `socket ${socket[k]} does not exist on rig ${rig.code} (registered with ${count} sockets, 0–${count - 1})`;
+  }
+  return null;
 }
 
 /** Float text for COPY: JS number formatting (incl. 1e-9) is valid PostgreSQL input. */
@@ -165,7 +186,7 @@ export function isConnectionError(err: Error): boolean {
   return /^(08|57P|53|3D000)/.test(code) || /Connection terminated|ECONNREFUSED|ECONNRESET|not queryable/i.test(err.message);
 }
 
-const RIGS_BY_CODE = 'SELECT id, code, online FROM rigs WHERE code = ANY';
+const RIGS_BY_CODE = 'SELECT id, code, online, active, socket_count, humidity_capable FROM rigs WHERE code = ANY';
 
 /**
  * BEGIN and the batch's rigs in one round trip. Each round trip of an ingest transaction waits for
@@ -283,6 +304,18 @@ function sortItems(items: IngestItem[], rigs: Map<string, RigRow>): SortedItems 
       const topic = `emberlot/v1/rigs/${it.rigCode}/${it.kind}`;
       const body = it.kind === 'telemetry' ? `seq ${it.msg.seq}, ${it.msg.socket.length} sockets` : `online ${it.status.online}`;
       rejects.push({ topic, rigCode: it.rigCode, reason: `unknown rig code ${it.rigCode} (not registered)`, excerpt: body, at: it.receivedAt });
+      continue;
+    }
+    if (it.kind === 'telemetry') {
+      const problem = registrationProblem(rig, it.msg);
+      if (problem) {
+        const excerpt = `seq ${it.msg.seq}, ts ${it.msg.ts}, ${it.msg.socket.length} sockets, humidity ${it.msg.humidityPct ?? 'none'}`;
+        rejects.push({ topic: `emberlot/v1/rigs/${rig.code}/telemetry`, rigCode: rig.code, reason: `telemetry: ${problem}`, excerpt, at: it.receivedAt });
+        continue;
+      }
+    } else if (!rig.active && it.status.online) {
+      // A deactivated rig is not marked online (its last will, online:false, still lands).
+      rejects.push({ topic: `emberlot/v1/rigs/${rig.code}/status`, rigCode: rig.code, reason: `status: rig ${rig.code} is deactivated`, excerpt: `online ${it.status.online}`, at: it.receivedAt });
       continue;
     }
     const s = stateOf(rig);

@@ -13,7 +13,8 @@ import type { EventEmitter } from 'node:events';
 import type { Pool } from 'pg';
 // From the modules themselves, not shared/mqtt's index: its re-exports compile to one shared keyed
 // getter, which V8 does not inline (it was ~4 % of the ingest's CPU in the per-socket loops).
-import { buildStoredCommands, parseCommandAck, parseStatus, parseTelemetry, type CommandAck, type StoredCommand } from '../../../shared/mqtt/payloads';
+import { buildStoredCommands, parseCommandAck, parseStatus, parseTelemetry, telemetryTimeProblem, type CommandAck, type StoredCommand } from '../../../shared/mqtt/payloads';
+import { storableText } from '../../../shared/storable-text';
 import { parseRigTopic } from '../../../shared/mqtt/topics';
 import { RIG_STATUS_CHANGED, TELEMETRY_LANDED } from './contracts';
 import { COUNTERS, writeBatch, type BatchResult, type IngestItem } from './ingest-store';
@@ -181,6 +182,8 @@ export class TelemetryIngest {
     const tel = parseTelemetry(payload);
     if (!tel.ok) return this.reject(topic, rigCode, `telemetry: ${tel.reason}`, payload, receivedAt);
     if (tel.data.rig !== rigCode) return this.reject(topic, rigCode, mismatch(kind, tel.data.rig, rigCode), payload, receivedAt);
+    const late = telemetryTimeProblem(tel.data.ts, receivedAt.getTime());
+    if (late) return this.reject(topic, rigCode, `telemetry: ${late}`, payload, receivedAt);
     const seen = this.seqSeenByRig.get(rigCode);
     if (seen === undefined || tel.data.seq > seen) this.seqSeenByRig.set(rigCode, tel.data.seq);
     const key = `${rigCode}|${tel.data.seq}`;
@@ -210,7 +213,8 @@ export class TelemetryIngest {
       return;
     }
     this.rejectCount++;
-    this.push({ kind: 'reject', topic, rigCode, reason: reason.slice(0, 1000), excerpt: excerptOf(payload), receivedAt });
+    // Storable whatever the payload held (a topic or reason may quote it): one bad row would fail its whole batch.
+    this.push({ kind: 'reject', topic: storableText(topic), rigCode, reason: storableText(reason.slice(0, 1000)), excerpt: storableText(excerptOf(payload)), receivedAt });
   }
 
   private push(item: IngestItem): void {

@@ -9,6 +9,7 @@ import { RIG_LINK, RIG_STATUS_CHANGED, type RigStatusChanged } from './contracts
 import { TelemetryIngest, type IngestOptions } from './ingest';
 import { MqttRigLink } from './rig-link';
 import { recoverRollups } from './rollups';
+import { pruneRejectedMessages, REJECTED_PRUNE_EVERY_MS, type RejectionRetention } from './rejections-retention';
 
 export const TELEMETRY_INGEST = 'telemetryIngest';
 
@@ -25,6 +26,8 @@ export interface TelemetryFeatureOptions extends IngestOptions {
   clientId?: string;
   offlineAfterMs?: number;
   sweepEveryMs?: number;
+  /** rejected_messages retention (rejections-retention.ts) and how often it is applied. */
+  rejections?: RejectionRetention & { pruneEveryMs?: number };
 }
 
 export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOptions = {}): Promise<() => Promise<void>> {
@@ -96,10 +99,27 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
     }
   }, opts.sweepEveryMs ?? 10_000);
 
+  // rejected_messages stays bounded (by age and by count).
+  let pruning = false;
+  const prune = setInterval(async () => {
+    if (pruning) return;
+    pruning = true;
+    try {
+      const n = await pruneRejectedMessages(pgPoolOf(ctx), opts.rejections);
+      if (n) log(`pruned ${n} rejected messages beyond the retention`);
+    } catch {
+      /* database down: the ingest reports that */
+    } finally {
+      pruning = false;
+    }
+  }, opts.rejections?.pruneEveryMs ?? REJECTED_PRUNE_EVERY_MS);
+  (prune as { unref?: () => void }).unref?.();
+
   return async () => {
     stopping = true;
     await started;
     clearInterval(sweep);
+    clearInterval(prune);
     await ingest.stop();
     await link.stop();
     if (ctx.services[RIG_LINK] === link) delete ctx.services[RIG_LINK];
