@@ -13,7 +13,7 @@ import type { RunState } from '../../shared/schemas/runs';
 import { configFromEnv } from '../config';
 import { AuditLogEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunEntity, RunLotEntity, RunSocketEntity, StressPlanEntity, UserEntity } from '../db/entities';
 import { timingFrom } from '../modules/runs/scheduling-data';
-import { firstReadPointIndex } from '../modules/scheduler/run-engine';
+import { firstReadPointIndex } from '../modules/runs/run-engine';
 
 interface DemoLiveRun {
   code: string;

@@ -96,7 +96,7 @@ test('end to end: MQTT → validate → batch → COPY → stored (samples/s)', 
       await sleep(50);
     }
     const s = (Date.now() - t0) / 1000;
-    const st = (ctx.services.telemetryIngest as { stats(): { batches: number; lastBatchMs: number | null } }).stats();
+    const st = ctx.services.telemetryIngest!.stats();
     console.log(`[bench] end to end: ${N} messages × ${SOCKETS} sockets in ${s.toFixed(2)} s = ${Math.round((N * SOCKETS) / s)} samples/s (${Math.round(N / s)} messages/s; ${st.batches} transactions, last ${st.lastBatchMs} ms; broker, publisher and server share one process)`);
     expect(n).toBe(N);
   } finally {

@@ -29,13 +29,9 @@ import type { SessionUser } from '../../../shared/schemas/auth';
 import type { AppContext } from '../../context';
 import { AlarmEntity, RigEntity, RunEntity, UserEntity } from '../../db/entities';
 import { conflict, notFound } from '../../http/errors';
+import { ALARM_EVENT, type AlarmChange, type AlarmEvent } from '../../events';
 
-export const ALARM_EVENT = 'alarm';
-export type AlarmChange = 'raised' | 'updated' | 'cleared' | 'acknowledged';
-export interface AlarmEvent {
-  change: AlarmChange;
-  alarm: Alarm;
-}
+export { ALARM_EVENT, type AlarmChange, type AlarmEvent } from '../../events';
 
 export interface RaiseAlarmInput {
   kind: AlarmKindName;
@@ -288,16 +284,4 @@ export class AlarmsService {
       console.error('[alarms] an alarm listener failed:', err instanceof Error ? err.message : err);
     }
   }
-}
-
-export const ALARMS_SERVICE = 'alarms';
-
-/** The one AlarmsService of this process. */
-export function getAlarmsService(ctx: AppContext): AlarmsService {
-  let svc = ctx.services[ALARMS_SERVICE] as AlarmsService | undefined;
-  if (!svc) {
-    svc = new AlarmsService(ctx);
-    ctx.services[ALARMS_SERVICE] = svc;
-  }
-  return svc;
 }

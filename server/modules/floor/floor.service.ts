@@ -25,8 +25,7 @@ import {
 } from '../../../shared/schemas/floor';
 import type { AppContext } from '../../context';
 import { notFound } from '../../http/errors';
-import { ALARM_EVENT } from '../alarms/alarms.service';
-import { RUN_EVENT } from '../runs/run-events';
+import { ALARM_EVENT, RUN_EVENT } from '../../events';
 
 /** Run states in which a run occupies its rig. */
 export const ACTIVE_RUN_STATES: RunStateName[] = ['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling'];

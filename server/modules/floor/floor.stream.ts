@@ -9,9 +9,7 @@
 import type { Response } from 'express';
 import type { FloorTile } from '../../../shared/schemas/floor';
 import type { AppContext } from '../../context';
-import { ALARM_EVENT } from '../alarms/alarms.service';
-import { RUN_EVENT } from '../runs/run-events';
-import { RIG_STATUS_CHANGED, TELEMETRY_LANDED } from '../telemetry/contracts';
+import { ALARM_EVENT, RIG_STATUS_CHANGED, RUN_EVENT, TELEMETRY_LANDED } from '../../events';
 import type { FloorService } from './floor.service';
 
 export const STREAM_TICK_MS = 1_000;

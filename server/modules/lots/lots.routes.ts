@@ -5,7 +5,6 @@ import { idParamSchema } from '../../../shared/schemas/users';
 import type { AppContext } from '../../context';
 import { badRequest } from '../../http/errors';
 import { ApiRouter } from '../../http/route';
-import { LotsService } from './lots.service';
 import { readSerialCsv, SERIAL_CSV_MAX_BYTES } from './serial-csv';
 
 export const LOT_WRITERS = ['engineer'] as const;
@@ -24,8 +23,7 @@ function receiveFile(req: Request, res: Response): Promise<Express.Multer.File> 
 }
 
 export function lotsRoutes(ctx: AppContext): ApiRouter {
-  const svc = new LotsService(ctx.ds, ctx.audit);
-  ctx.services.lots = svc;
+  const svc = ctx.services.lots;
   const r = new ApiRouter('/api/lots');
   r.get('/', { access: 'signed-in', query: lotListQuerySchema }, async ({ query }) => ({ items: await svc.list(query) }));
   r.get('/:id', { access: 'signed-in', params: idParamSchema }, ({ params }) => svc.get(params.id));

@@ -26,8 +26,6 @@ export interface MailServiceOptions {
   timeoutMs?: number;
 }
 
-export const MAIL_SERVICE = 'mail';
-
 export function toMailLogEntry(r: MailLogEntity): MailLogEntry {
   return {
     id: r.id,
@@ -164,14 +162,4 @@ export class MailService {
     const of = (s: string) => counts.find((c) => c.status === s)?.n ?? 0;
     return { items: rows.map(toMailLogEntry), total, sent: of('sent'), failed: of('failed') };
   }
-}
-
-/** The one MailService of this process (routes and background work share it). */
-export function getMailService(ctx: AppContext): MailService {
-  let svc = ctx.services[MAIL_SERVICE] as MailService | undefined;
-  if (!svc) {
-    svc = new MailService(ctx);
-    ctx.services[MAIL_SERVICE] = svc;
-  }
-  return svc;
 }

@@ -11,7 +11,6 @@ import {
 import type { AppContext } from '../../context';
 import { badRequest, tooLarge, validationError } from '../../http/errors';
 import { ApiRouter, HANDLED } from '../../http/route';
-import { MeasurementsService } from './measurements.service';
 
 /** Memory storage: a read-point file is small; nothing touches the disk. */
 const upload = multer({
@@ -40,7 +39,7 @@ function receiveFile(req: Request, res: Response): Promise<void> {
  * has its file read.
  */
 export function measurementsRoutes(ctx: AppContext): ApiRouter {
-  const svc = new MeasurementsService(ctx.ds, ctx.audit, () => ctx.now());
+  const svc = ctx.services.measurements;
   const r = new ApiRouter('/api/measurements');
   const readers = ['admin', 'engineer', 'operator', 'manager'] as const;
   const writers = ['engineer', 'operator'] as const;

@@ -21,9 +21,8 @@ import { FLAG_BIAS_ON, FLAG_TRIPPED, MAX_SOCKETS } from '../../../shared/mqtt/pa
 import type { AlarmKindName } from '../../../shared/schemas/alarms';
 import type { AppContext } from '../../context';
 import { RunSocketEntity } from '../../db/entities';
-import { getAlarmsService, dedupeKeyFor, type RaiseAlarmInput } from '../alarms/alarms.service';
-import { RIG_LINK, RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigLink, type RigStatusChanged, type TelemetryLanded } from '../telemetry/contracts';
-import { RUN_EVENT, type RunEvent } from '../runs/run-events';
+import { dedupeKeyFor, type RaiseAlarmInput } from '../alarms/alarms.service';
+import { RIG_STATUS_CHANGED, RUN_EVENT, TELEMETRY_LANDED, type RigStatusChanged, type RunEvent, type TelemetryLanded } from '../../events';
 import type { RunState } from '../../db/entities';
 import { hasActiveRun, loadRunContext, type RunContext } from './run-context';
 import { TurnGate } from './turns';
@@ -209,7 +208,7 @@ export class ProtectionMonitor {
   private readonly pending = new Set<Promise<unknown>>();
   /** Dedupe keys of conditions this monitor believes active → last refresh (ms). */
   private readonly active = new ActiveConditions();
-  private readonly listeners: Array<[string, (...a: any[]) => void]> = [];
+  private readonly listeners: Array<() => void> = [];
   private started = false;
   readonly stats = { messages: 0, staleSkipped: 0, assessments: 0, trips: 0, tripSendFailures: 0, warnings: 0, errors: 0 };
   /** Every trip decision, for tests and the log. */
@@ -226,7 +225,7 @@ export class ProtectionMonitor {
   }
 
   private get alarms() {
-    return getAlarmsService(this.ctx);
+    return this.ctx.services.alarms;
   }
 
   async start(): Promise<void> {
@@ -235,28 +234,30 @@ export class ProtectionMonitor {
     // Conditions still active from before a restart, so they can clear when seen healthy again.
     const kinds: AlarmKindName[] = ['runaway-warning', 'runaway-trip', 'rig-offline', 'ambient-out-of-band', 'bias-out-of-tolerance', 'leakage-jump'];
     for (const a of await this.alarms.activeKeys(kinds)) this.active.set(a.key, 0);
-    const on = (event: string, fn: (...a: any[]) => void) => {
-      this.ctx.events.on(event, fn);
-      this.listeners.push([event, fn]);
-    };
-    on(TELEMETRY_LANDED, (m: TelemetryLanded) => this.enqueue(m.rigId, () => this.onTelemetry(m)));
-    on(RIG_STATUS_CHANGED, (s: RigStatusChanged) => this.enqueue(s.rigId, () => this.onStatus(s)));
+    const events = this.ctx.events;
+    const onLanded = (m: TelemetryLanded) => this.enqueue(m.rigId, () => this.onTelemetry(m));
+    const onStatus = (s: RigStatusChanged) => this.enqueue(s.rigId, () => this.onStatus(s));
+    events.on(TELEMETRY_LANDED, onLanded);
+    events.on(RIG_STATUS_CHANGED, onStatus);
+    this.listeners.push(() => events.off(TELEMETRY_LANDED, onLanded), () => events.off(RIG_STATUS_CHANGED, onStatus));
     const invalidate = (e: unknown) => {
       const rigId = (e as { rigId?: unknown } | null)?.rigId;
       if (typeof rigId === 'string') this.runs.delete(rigId);
       else this.runs.clear();
     };
-    on(RUN_EVENT, (e: RunEvent) => {
+    const onRunEvent = (e: RunEvent) => {
       invalidate(e);
       if (e?.type === 'state-changed' && e.rigId) {
         const rigId = e.rigId;
         this.enqueue(rigId, () => this.onRunStateChanged(rigId, e.to));
       }
-    });
+    };
+    events.on(RUN_EVENT, onRunEvent);
+    this.listeners.push(() => events.off(RUN_EVENT, onRunEvent));
   }
 
   async stop(): Promise<void> {
-    for (const [event, fn] of this.listeners) this.ctx.events.off(event, fn);
+    for (const off of this.listeners) off();
     this.listeners.length = 0;
     await this.idle();
     this.started = false;
@@ -710,7 +711,7 @@ export class ProtectionMonitor {
   private async sendTrip(rigCode: string, socket: number, reason: string, cmdId: string): Promise<{ ok: true } | { ok: false; error: string }> {
     let error = 'no rig link is running in this server';
     for (let attempt = 1; attempt <= this.opts.tripAttempts; attempt++) {
-      const link = this.ctx.services[RIG_LINK] as RigLink | undefined;
+      const link = this.ctx.services.rigLink;
       if (!link) break;
       try {
         const ack = await link.send(rigCode, { type: 'trip', socket, reason }, { cmdId, timeoutMs: this.opts.tripTimeoutMs });

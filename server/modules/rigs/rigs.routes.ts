@@ -8,14 +8,12 @@ import {
 } from '../../../shared/schemas/rigs';
 import type { AppContext } from '../../context';
 import { ApiRouter } from '../../http/route';
-import { RigsService } from './rigs.service';
 
 export const RIG_READERS = ['admin', 'engineer', 'operator', 'manager'] as const;
 export const RIG_WRITERS = ['admin'] as const;
 
 export function rigsRoutes(ctx: AppContext): ApiRouter {
-  const svc = new RigsService(ctx);
-  ctx.services.rigs = svc;
+  const svc = ctx.services.rigs;
   const r = new ApiRouter('/api/rigs');
   r.get('/', { access: RIG_READERS }, async () => ({ items: await svc.list() }));
   r.post('/', { access: RIG_WRITERS, body: createRigSchema, status: 201 }, ({ user, body }) => svc.create(user, body));

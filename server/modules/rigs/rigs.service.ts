@@ -14,7 +14,6 @@ import {
 import type { AppContext } from '../../context';
 import { RigEntity, RigMaintenanceEntity } from '../../db/entities';
 import { conflict, notFound, unprocessable } from '../../http/errors';
-import { RIG_LINK, type RigLink } from '../telemetry/contracts';
 import { BCRYPT_ROUNDS } from '../users/users.service';
 
 export function toRig(r: RigEntity): Rig {
@@ -59,8 +58,6 @@ export function newRigSecret(): string {
   return randomBytes(24).toString('base64url');
 }
 
-type RevokeCapable = RigLink & { revoke?: (rigCode: string) => Promise<boolean> };
-
 export class RigsService {
   constructor(private readonly ctx: AppContext) {}
 
@@ -71,7 +68,7 @@ export class RigsService {
   /** Disconnect a rig's open MQTT session (revocation or a new secret). Best effort: the database
    * check at the next CONNECT refuses the old credentials either way. */
   private async kick(rigCode: string): Promise<boolean> {
-    const link = this.ctx.services[RIG_LINK] as RevokeCapable | undefined;
+    const link = this.ctx.services.rigLink;
     if (!link?.revoke) return false;
     try {
       return await link.revoke(rigCode);

@@ -10,7 +10,6 @@ import {
 } from '../../../shared/schemas/runs';
 import type { AppContext } from '../../context';
 import { ApiRouter } from '../../http/route';
-import { RunsService } from './runs.service';
 
 /** Engineers book; proposals store nothing, so managers and admins may look too. */
 export const RUN_BOOKERS = ['engineer'] as const;
@@ -19,8 +18,7 @@ export const RUN_PROPOSERS = ['engineer', 'manager', 'admin'] as const;
 export const RUN_OPERATORS = ['operator', 'engineer'] as const;
 
 export function runsRoutes(ctx: AppContext): ApiRouter {
-  const svc = new RunsService(ctx);
-  ctx.services.runs = svc;
+  const svc = ctx.services.runs;
   const r = new ApiRouter('/api/runs');
   // Fixed paths before "/:id".
   r.get('/timeline', { access: 'signed-in', query: timelineQuerySchema }, ({ query }) => svc.timeline(query));

@@ -23,10 +23,11 @@ import { AuditLogEntity, RigEntity, RunEntity, RunSocketEntity, StressPlanEntity
 import { MEASURE_WITHIN_H, emitRunEvent } from '../runs/run-events';
 import { sortedReadPoints } from '../runs/run-view';
 import { loadSchedulingInputs, projectedWindow, timingFrom } from '../runs/scheduling-data';
-import { RIG_LINK, RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigCommandBody, type RigLink, type RigStatusChanged } from '../telemetry/contracts';
+import { RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigStatusChanged } from '../../events';
+import type { RigCommandBody, RigLink } from '../telemetry/contracts';
 import { CommandTracker } from './commands';
-import { accrueStep, heatingStep, transitionRun, type EngineDeps, type StepOutcome } from './run-engine';
-import { clockElapsedS, latestBatch, socketSamples, type BatchRow } from './telemetry-reads';
+import { accrueStep, heatingStep, transitionRun, type EngineDeps, type StepOutcome } from '../runs/run-engine';
+import { clockElapsedS, latestBatch, socketSamples, type BatchRow } from '../runs/telemetry-reads';
 
 export const AMBIENT_LIMIT_H = 5;
 export const AMBIENT_C = 25;
@@ -72,7 +73,7 @@ export class RunScheduler {
   private readonly log: (line: string) => void;
 
   constructor(private readonly ctx: AppContext, private readonly opts: SchedulerOptions = {}) {
-    const link = opts.rigLink ?? (() => ctx.services[RIG_LINK] as RigLink | undefined);
+    const link = opts.rigLink ?? (() => ctx.services.rigLink);
     this.deps = { audit: ctx.audit, now: () => ctx.now() };
     this.log = opts.log ?? ((l) => console.log(`[scheduler] ${l}`));
     this.commands = new CommandTracker(link, () => ctx.now().getTime(), (o, cmd) => void this.reportFailure(o.cmdId, o.rigCode, cmd, o.attempts, o.error ?? ''));
@@ -512,6 +513,6 @@ export function startScheduler(ctx: AppContext, opts: SchedulerOptions = {}): ()
   s.start();
   return async () => {
     await s.stop();
-    if (ctx.services.scheduler === s) delete ctx.services.scheduler;
+    if (ctx.services.scheduler === s) ctx.services.scheduler = undefined;
   };
 }

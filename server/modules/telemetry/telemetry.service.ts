@@ -2,10 +2,6 @@ import type { DataSource } from 'typeorm';
 import type { RejectedMessage, TelemetryStats } from '../../../shared/schemas/rigs';
 import type { AppContext } from '../../context';
 import { COUNTERS } from './ingest-store';
-import type { TelemetryIngest } from './ingest';
-import type { MqttRigLink } from './rig-link';
-import { RIG_LINK } from './contracts';
-import { TELEMETRY_INGEST } from './telemetry.feature';
 
 /** What admins and engineers see of the ingest: refused messages and the counters. */
 export class TelemetryService {
@@ -28,8 +24,8 @@ export class TelemetryService {
     const counters: Record<string, number> = {};
     for (const name of Object.values(COUNTERS)) counters[name] = 0; // always shown, 0 included
     for (const r of rows) counters[r.name] = Number(r.value);
-    const ingest = this.ctx.services[TELEMETRY_INGEST] as TelemetryIngest | undefined;
-    const link = this.ctx.services[RIG_LINK] as MqttRigLink | undefined;
+    const ingest = this.ctx.services.telemetryIngest;
+    const link = this.ctx.services.rigLink;
     const s = ingest?.stats();
     return {
       counters,
@@ -42,7 +38,7 @@ export class TelemetryService {
             batches: s.batches,
             lastBatchMs: s.lastBatchMs,
             samplesMode: s.samplesMode,
-            pendingCommands: typeof link?.pendingCount === 'function' ? link.pendingCount() : 0,
+            pendingCommands: link?.pendingCount?.() ?? 0,
           }
         : null,
     };

@@ -20,8 +20,8 @@ import { RUN_STATE_LABEL, type RunState } from '../../../shared/schemas/runs';
 import { RunEntity, RunSocketEntity, type RigEntity, type StressPlanEntity } from '../../db/entities';
 import type { AuditService } from '../audit/audit.service';
 import type { SessionUser } from '../../../shared/schemas/auth';
-import { MEASURE_WITHIN_H, type RunEvent } from '../runs/run-events';
-import { sortedReadPoints } from '../runs/run-view';
+import { MEASURE_WITHIN_H, type RunEvent } from './run-events';
+import { sortedReadPoints } from './run-view';
 import { batchAt, batchesAfter, firstInBand, socketSamples, toClockSample } from './telemetry-reads';
 
 /** A missing seq is waited for this long (it may still arrive from the rig's outbox) before it is skipped. */
