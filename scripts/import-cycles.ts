@@ -1,9 +1,10 @@
 /**
  * `npm run cycles`: finds import cycles in the node-side TypeScript (server/, shared/, broker/,
- * rig-simulator/) over the compiler's own import scanner (`ts.preProcessFile`, type-only imports
- * included: a cycle of types is still a cycle a reader must hold in their head). Two views:
- *   - module cycles: server/modules/<a> → server/modules/<b> → … → <a> (folders as nodes);
- *   - file cycles: strongly connected groups of files.
+ * rig-simulator/), reading imports with the TypeScript parser. Two views:
+ *   - module cycles: server/modules/<a> → server/modules/<b> → … → <a>, folders as nodes, every
+ *     import counted (type-only too: a cycle of types is still two modules that lean on each other);
+ *   - file cycles: strongly connected groups of files over the imports that exist at run time
+ *     (`import type` is erased, so `AppContext` naming its typed services is not a load-order cycle).
  * Exits 1 and prints each cycle when there is one. tests/unit/import-cycles.test.ts runs it.
  */
 import * as fs from 'node:fs';
@@ -26,6 +27,30 @@ function walk(dir: string, out: string[]): void {
     if (e.isDirectory()) walk(p, out);
     else if (/\.tsx?$/.test(e.name) && !e.name.endsWith('.d.ts')) out.push(p);
   }
+}
+
+/** Every import / re-export / require of a file, with whether it vanishes at run time. */
+function importsOf(file: string): Array<{ spec: string; typeOnly: boolean }> {
+  const sf = ts.createSourceFile(file, fs.readFileSync(file, 'utf8'), ts.ScriptTarget.Latest, false, file.endsWith('x') ? ts.ScriptKind.TSX : ts.ScriptKind.TS);
+  const out: Array<{ spec: string; typeOnly: boolean }> = [];
+  const visit = (node: ts.Node) => {
+    if (ts.isImportDeclaration(node) && ts.isStringLiteral(node.moduleSpecifier)) {
+      const c = node.importClause;
+      const named = c?.namedBindings && ts.isNamedImports(c.namedBindings) ? c.namedBindings.elements : null;
+      const typeOnly = !!c && (c.isTypeOnly || (!c.name && !!named && named.length > 0 && named.every((e) => e.isTypeOnly)));
+      out.push({ spec: node.moduleSpecifier.text, typeOnly });
+    } else if (ts.isExportDeclaration(node) && node.moduleSpecifier && ts.isStringLiteral(node.moduleSpecifier)) {
+      const named = node.exportClause && ts.isNamedExports(node.exportClause) ? node.exportClause.elements : null;
+      out.push({ spec: node.moduleSpecifier.text, typeOnly: node.isTypeOnly || (!!named && named.length > 0 && named.every((e) => e.isTypeOnly)) });
+    } else if (ts.isImportEqualsDeclaration(node) && ts.isExternalModuleReference(node.moduleReference) && ts.isStringLiteral(node.moduleReference.expression)) {
+      out.push({ spec: node.moduleReference.expression.text, typeOnly: node.isTypeOnly });
+    } else if (ts.isCallExpression(node) && node.arguments.length === 1 && ts.isStringLiteral(node.arguments[0]) && ((ts.isIdentifier(node.expression) && node.expression.text === 'require') || node.expression.kind === ts.SyntaxKind.ImportKeyword)) {
+      out.push({ spec: node.arguments[0].text, typeOnly: false });
+    }
+    ts.forEachChild(node, visit);
+  };
+  visit(sf);
+  return out;
 }
 
 function resolveImport(from: string, spec: string): string | null {
@@ -80,11 +105,14 @@ export function findCycles(root = ROOT, dirs = DEFAULT_DIRS): CycleReport {
   for (const f of files) {
     const rel = path.relative(root, f);
     const deps = new Set<string>();
-    for (const imp of ts.preProcessFile(fs.readFileSync(f, 'utf8'), true, true).importedFiles) {
-      const to = resolveImport(f, imp.fileName);
-      if (to) deps.add(path.relative(root, to));
+    const runtimeDeps = new Set<string>();
+    for (const imp of importsOf(f)) {
+      const to = resolveImport(f, imp.spec);
+      if (!to) continue;
+      deps.add(path.relative(root, to));
+      if (!imp.typeOnly) runtimeDeps.add(path.relative(root, to));
     }
-    fileGraph.set(rel, deps);
+    fileGraph.set(rel, runtimeDeps);
     const m = moduleOf(f);
     if (m) {
       const set = moduleGraph.get(m) ?? new Set<string>();

@@ -22,5 +22,3 @@ export interface AppContext {
   onClose: (fn: () => Promise<void> | void) => void;
   close: () => Promise<void>;
 }
-
-export { createContext } from './composition';

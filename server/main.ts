@@ -2,7 +2,7 @@ import 'reflect-metadata';
 import * as http from 'node:http';
 import { createApp } from './app';
 import { configFromEnv } from './config';
-import { createContext } from './context';
+import { createContext } from './composition';
 import { createDataSource } from './db/data-source';
 import { startFeatures } from './features';
 
