@@ -11,7 +11,8 @@ import * as events from '../../server/events';
 import { eventMapNames, eventUses, serverFiles } from '../../scripts/event-usage';
 
 const ROOT = path.resolve(__dirname, '../..');
-const constants: Record<string, string> = Object.fromEntries(Object.entries(events).filter((e): e is [string, string] => typeof e[1] === 'string'));
+const constants: Record<string, string> = {};
+for (const [name, value] of Object.entries(events)) if (typeof value === 'string') constants[name] = value;
 const mapNames = eventMapNames(fs.readFileSync(path.join(ROOT, 'server/events.ts'), 'utf8'), constants);
 const uses = serverFiles(ROOT).flatMap((f) => eventUses(path.relative(ROOT, f), fs.readFileSync(f, 'utf8'), constants));
 
