@@ -8,6 +8,7 @@ import nodemailer, { type Transporter } from 'nodemailer';
 import type { AppContext } from '../../context';
 import { MailLogEntity } from '../../db/entities';
 import type { MailList, MailListQuery, MailLogEntry } from '../../../shared/schemas/alarms';
+import { mailStatusCounts } from './mail.data';
 
 export interface OutgoingMail {
   to: string;
@@ -153,12 +154,7 @@ export class MailService {
     const repo = this.ctx.ds.getRepository(MailLogEntity);
     const where = q.status ? { status: q.status } : {};
     const [rows, total] = await repo.findAndCount({ where, order: { createdAt: 'DESC' }, take: q.limit, skip: q.offset });
-    const counts: Array<{ status: string; n: number }> = await repo
-      .createQueryBuilder('m')
-      .select('m.status', 'status')
-      .addSelect('count(*)::int', 'n')
-      .groupBy('m.status')
-      .getRawMany();
+    const counts = await mailStatusCounts(this.ctx.ds.manager);
     const of = (s: string) => counts.find((c) => c.status === s)?.n ?? 0;
     return { items: rows.map(toMailLogEntry), total, sent: of('sent'), failed: of('failed') };
   }

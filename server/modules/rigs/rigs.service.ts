@@ -15,6 +15,7 @@ import type { AppContext } from '../../context';
 import { RigEntity, RigMaintenanceEntity } from '../../db/entities';
 import { conflict, notFound, unprocessable } from '../../http/errors';
 import { BCRYPT_ROUNDS } from '../users/users.service';
+import { overlappingMaintenance } from './rigs.data';
 
 export function toRig(r: RigEntity): Rig {
   return {
@@ -191,10 +192,7 @@ export class RigsService {
     if (endsAt.getTime() <= this.ctx.now().getTime()) throw unprocessable('The window has already ended; book maintenance that is still to come.');
     return this.ds.transaction(async (m) => {
       const rig = await this.findByCode(code, m, true);
-      const overlap = await m
-        .createQueryBuilder(RigMaintenanceEntity, 'w')
-        .where('w.rig_id = :rigId AND w.starts_at < :endsAt AND w.ends_at > :startsAt', { rigId: rig.id, startsAt, endsAt })
-        .getOne();
+      const overlap = await overlappingMaintenance(m, rig.id, startsAt, endsAt);
       if (overlap) {
         throw conflict(
           `Rig ${code} already has maintenance from ${overlap.startsAt.toISOString()} to ${overlap.endsAt.toISOString()} (${overlap.reason}); windows may not overlap.`,

@@ -9,6 +9,7 @@ import { RIG_STATUS_CHANGED, type RigStatusChanged } from '../../events';
 import { TelemetryIngest, type IngestOptions } from './ingest';
 import { MqttRigLink } from './rig-link';
 import { recoverRollups } from './rollups';
+import { markQuietRigsOffline } from './telemetry.data';
 
 /** A rig that sent nothing (telemetry or status) for this long is marked offline. */
 export const OFFLINE_AFTER_MS = 60_000;
@@ -75,14 +76,7 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
     if (sweeping) return;
     sweeping = true;
     try {
-      // TypeORM answers an UPDATE … RETURNING with [rows, affectedCount], a SELECT with rows.
-      const result: unknown = await ctx.ds.query(
-        `UPDATE rigs SET online = false
-         WHERE online AND (last_seen_at IS NULL OR last_seen_at < $1)
-         RETURNING id, code`,
-        [new Date(ctx.now().getTime() - offlineAfterMs)],
-      );
-      const rows = (Array.isArray(result) && Array.isArray(result[0]) ? result[0] : result) as Array<{ id: string; code: string }>;
+      const rows = await markQuietRigsOffline(ctx.ds, new Date(ctx.now().getTime() - offlineAfterMs));
       const at = ctx.now();
       for (const r of rows) ctx.events.emit(RIG_STATUS_CHANGED, { rigId: r.id, rigCode: r.code, online: false, at } satisfies RigStatusChanged);
     } catch {
