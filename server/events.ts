@@ -95,6 +95,9 @@ export interface CommandFailedEvent extends RunEventBase {
 
 export type RunEvent = StateChangedEvent | AmbientNotReachedEvent | ReadPointDueEvent | ReadPointOverdueEvent | CommandFailedEvent;
 
+/** A run event before it is emitted: `at` defaults to the clock's now (emitRunEvent). */
+export type PendingRunEvent = RunEvent extends infer E ? (E extends RunEvent ? Omit<E, 'at'> & { at?: string } : never) : never;
+
 /**
  * A stored telemetry message. The sockets come as the message's columns (`socket[k]`, `caseC[k]`,
  * … `flags[k]` = socket k; flags FLAG_BIAS_ON | FLAG_TRIPPED); `socketReadings()` gives one object

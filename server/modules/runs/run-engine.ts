@@ -20,7 +20,7 @@ import { RUN_STATE_LABEL, type RunState } from '../../../shared/schemas/runs';
 import { RunEntity, RunSocketEntity, type RigEntity, type StressPlanEntity } from '../../db/entities';
 import type { AuditService } from '../audit/audit.service';
 import type { SessionUser } from '../../../shared/schemas/auth';
-import { MEASURE_WITHIN_H, type RunEvent } from './run-events';
+import { MEASURE_WITHIN_H, type PendingRunEvent } from './run-events';
 import { sortedReadPoints } from './run-view';
 import { batchAt, batchesAfter, firstInBand, socketSamples, toClockSample } from './telemetry-reads';
 
@@ -29,7 +29,7 @@ export const GAP_WAIT_MS = 30_000;
 /** Batches read per accrual step. */
 export const ACCRUAL_CHUNK = 500;
 
-type PendingEvent = RunEvent extends infer E ? (E extends RunEvent ? Omit<E, 'at'> & { at?: string } : never) : never;
+type PendingEvent = PendingRunEvent;
 
 export interface EngineDeps {
   audit: AuditService;

@@ -3,20 +3,18 @@
  * run, on the typed bus as RUN_EVENT, ALWAYS after the change is committed. The shapes are in
  * the event map (server/events.ts); alarms, notices and the live floor listen.
  */
-import { RUN_EVENT, type RunEvent } from '../../events';
+import { RUN_EVENT, type PendingRunEvent, type RunEvent } from '../../events';
 import type { AppContext } from '../../context';
 
 export { RUN_EVENT };
-export type { AmbientNotReachedEvent, CommandFailedEvent, ReadPointDueEvent, ReadPointOverdueEvent, RunEvent, StateChangedEvent } from '../../events';
+export type { AmbientNotReachedEvent, CommandFailedEvent, PendingRunEvent, ReadPointDueEvent, ReadPointOverdueEvent, RunEvent, StateChangedEvent } from '../../events';
 
 /** Measure within this many hours of removing bias [pub: JESD22-A108 — wording not checked]. */
 export const MEASURE_WITHIN_H = 96;
 
-type Omit2<T> = T extends unknown ? Omit<T, 'at'> & { at?: string } : never;
-
 /** Emit a run event (call after commit). Listener errors never reach the caller. */
-export function emitRunEvent(ctx: Pick<AppContext, 'events' | 'now'>, event: Omit2<RunEvent>): RunEvent {
-  const full = { ...event, at: event.at ?? ctx.now().toISOString() } as RunEvent;
+export function emitRunEvent(ctx: Pick<AppContext, 'events' | 'now'>, event: PendingRunEvent): RunEvent {
+  const full: RunEvent = { ...event, at: event.at ?? ctx.now().toISOString() };
   try {
     ctx.events.emit(RUN_EVENT, full);
   } catch (e) {

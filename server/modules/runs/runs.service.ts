@@ -57,7 +57,7 @@ import { runPlanCheck } from '../plans/plan-check-result';
 import { toPlanInput } from '../plans/plans.service';
 import { accrueStep, firstReadPointIndex, transitionRun, type EngineDeps } from './run-engine';
 import { maxSeq } from './telemetry-reads';
-import { emitRunEvent } from './run-events';
+import { emitRunEvent, type PendingRunEvent } from './run-events';
 import { planRef, socketsTakenOnRig, toRunDetail, toRuns } from './run-view';
 import { loadSchedulingInputs, projectedWindow, SCHEDULED_STATES, timingFrom } from './scheduling-data';
 
@@ -373,7 +373,7 @@ export class RunsService {
 
   async loadSockets(actor: SessionUser, id: string, input: SocketLoadInput): Promise<SocketLoadResult> {
     let result: Omit<SocketLoadResult, 'run'> | null = null;
-    let ev: unknown = null;
+    let ev: PendingRunEvent | null = null;
     await this.ds.transaction(async (m) => {
       const run = await this.lockRun(m, id, input.rowVersion);
       if (!allowedActions(run.state).includes('load')) {
@@ -403,7 +403,7 @@ export class RunsService {
       }
       result.stored = true;
     });
-    if (ev) emitRunEvent(this.ctx, ev as never);
+    if (ev) emitRunEvent(this.ctx, ev);
     const fresh = await this.ds.getRepository(RunEntity).findOneByOrFail({ id });
     return { ...result!, run: await toRunDetail(this.ds.manager, fresh) };
   }
@@ -501,7 +501,7 @@ export class RunsService {
   async act(actor: SessionUser, id: string, action: Exclude<RunAction, 'load' | 'abort'>, input: RunActionInput): Promise<RunDetail>;
   async act(actor: SessionUser, id: string, action: 'abort', input: AbortRunInput): Promise<RunDetail>;
   async act(actor: SessionUser, id: string, action: Exclude<RunAction, 'load'>, input: RunActionInput | AbortRunInput): Promise<RunDetail> {
-    const events: unknown[] = [];
+    const events: PendingRunEvent[] = [];
     await this.ds.transaction(async (m) => {
       const run = await this.lockRun(m, id, input.rowVersion);
       if (!allowedActions(run.state).includes(action)) throw this.refuseAction(run, action);
@@ -555,7 +555,7 @@ export class RunsService {
         }
       }
     });
-    for (const e of events) emitRunEvent(this.ctx, e as never);
+    for (const e of events) emitRunEvent(this.ctx, e);
     return this.get(id);
   }
 
