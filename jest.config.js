@@ -32,7 +32,7 @@ module.exports = {
       displayName: 'app',
       preset: 'jest-expo',
       roots: ['<rootDir>/tests/app'],
-      moduleNameMapper: { '^@/(.*)$': '<rootDir>/$1' },
+      moduleNameMapper: { '\\.woff2$': '<rootDir>/tests/app/support/asset-stub.js', '^@/(.*)$': '<rootDir>/$1' },
     },
   ],
 };

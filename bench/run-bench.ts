@@ -18,6 +18,7 @@ import { runAnalytics } from './scenarios/analytics';
 import { runApi } from './scenarios/api';
 import { runIngest } from './scenarios/ingest';
 import { runProtection } from './scenarios/protection';
+import { runWeb } from './scenarios/web';
 
 /** Hard stop for the whole run (every loop inside is bounded too). */
 const OVERALL_LIMIT_MS = Number(process.env.EMBERLOT_BENCH_LIMIT_S ?? 480) * 1000;
@@ -55,6 +56,7 @@ async function main(): Promise<number> {
       ['protection', () => runProtection(env!, log)],
       ['analytics', () => runAnalytics(env!, log)],
       ['api', () => runApi(env!, log)],
+      ['web', () => runWeb(env!, log)],
     ];
     for (const [name, run] of scenarios) {
       if (!SETTINGS.scenarios.includes(name as (typeof SETTINGS.scenarios)[number])) continue;

@@ -18,7 +18,7 @@ import {
 import { PacketSizeGuard } from './packet-guard';
 
 // aedes 1.x is ESM-only with no default export; Node ≥ 20.19 can require() it (jest: swc transform).
-// eslint-disable-next-line @typescript-eslint/no-require-imports
+// eslint-disable-next-line @typescript-eslint/no-require-imports -- see above
 const { Aedes } = require('aedes') as typeof import('aedes');
 
 export type Principal = { kind: 'rig'; rigCode: string } | { kind: 'server' };

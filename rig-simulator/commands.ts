@@ -1,5 +1,5 @@
 /** Applying server commands to the rig state (pure). `stored` is handled by the outbox. */
-import type { RigCommand } from '../shared/mqtt';
+import { parseCommand, type RigCommand, type StoredCommand } from '../shared/mqtt';
 import type { RigState, SocketState } from './physics';
 
 export interface ApplyResult {
@@ -73,4 +73,48 @@ export function applyCommand(state: RigState, cmd: Exclude<RigCommand, { type: '
       };
     }
   }
+}
+
+/** What the rig does with one message on its command topic. */
+export type CommandOutcome =
+  /** Not a valid command: answered with a refusal when it carried a usable cmdId. */
+  | { kind: 'invalid'; reason: string; cmdId: string | null }
+  /** `stored`: the outbox drops these seqs. */
+  | { kind: 'stored'; ranges: StoredCommand['ranges'] }
+  /** Any other command: applied (or refused) once per cmdId, then acknowledged. */
+  | { kind: 'answered'; cmdId: string; ok: boolean; error?: string; state: RigState; repeat: boolean };
+
+const CMD_ID = /^[A-Za-z0-9._:-]{1,64}$/;
+
+/**
+ * Commands by cmdId: each applied at most once; a repeat gets the same answer without being
+ * applied again (the last 1,000 remembered). Pure apart from that memory.
+ */
+export class CommandDesk {
+  private readonly recent = new Map<string, { ok: boolean; error?: string }>();
+
+  handle(payload: Buffer, state: RigState): CommandOutcome {
+    const parsed = parseCommand(payload);
+    if (!parsed.ok) return { kind: 'invalid', reason: parsed.reason, cmdId: cmdIdOf(payload) };
+    const cmd = parsed.data;
+    if (cmd.type === 'stored') return { kind: 'stored', ranges: cmd.ranges };
+    const seen = this.recent.get(cmd.cmdId);
+    if (seen) return { kind: 'answered', cmdId: cmd.cmdId, ...seen, state, repeat: true };
+    const result = applyCommand(state, cmd);
+    const outcome = result.ok ? { ok: true } : { ok: false, error: result.error };
+    this.recent.set(cmd.cmdId, outcome);
+    if (this.recent.size > 1000) this.recent.delete(this.recent.keys().next().value as string);
+    return { kind: 'answered', cmdId: cmd.cmdId, ...outcome, state: result.ok ? result.state : state, repeat: false };
+  }
+}
+
+/** The cmdId of an invalid command, when it has a usable one (then the refusal can be acknowledged). */
+function cmdIdOf(payload: Buffer): string | null {
+  let cmdId: unknown;
+  try {
+    cmdId = (JSON.parse(payload.toString('utf8')) as { cmdId?: unknown })?.cmdId;
+  } catch {
+    return null; // not JSON: nothing to answer
+  }
+  return typeof cmdId === 'string' && CMD_ID.test(cmdId) ? cmdId : null;
 }

@@ -6,14 +6,13 @@
 import mqtt, { type MqttClient } from 'mqtt';
 import {
   commandAckSchema,
-  parseCommand,
   rigClientId,
   telemetryColumnsText,
   topics,
   type CommandAck,
   type RigStatus,
 } from '../shared/mqtt';
-import { applyCommand } from './commands';
+import { CommandDesk } from './commands';
 import { Outbox, type OutboxEntry } from './outbox';
 import {
   DEFAULTS,
@@ -186,256 +185,313 @@ export function initialRigState(config: RigConfig): RigState {
 }
 
 export function startRig(config: RigConfig): RigHandle {
-  const rigCode = config.rigCode;
-  const log = config.log ?? (() => undefined);
-  const rng = createRng(config.seed ?? hashString(rigCode));
-  const faults = config.faults ?? {};
-  const samplePeriodMs = Math.max(10, (config.samplePeriodWallS ?? 0.25) * 1000);
-  const dtStressS = (samplePeriodMs / 1000) * (config.stressHoursPerWallSecond ?? 1) * 3600;
-  const resendAfterMs = (config.resendAfterWallS ?? 5) * 1000;
-  const maxResend = config.maxResendPerTick ?? 500;
-  const clientId = config.clientId ?? rigClientId(rigCode);
-  const T = {
-    telemetry: topics.telemetry(rigCode),
-    status: topics.status(rigCode),
-    commands: topics.commands(rigCode),
-    acks: topics.commandAcks(rigCode),
-  };
+  const rig = new SimulatedRig(config);
+  rig.start();
+  return rig;
+}
 
-  let state = initialRigState(config);
-  const outbox = new Outbox(config.outboxLimit ?? 50_000);
-  let seq = config.seqStart ?? 0;
-  let clockOffsetMs = 0;
-  let client: MqttClient | null = null;
-  let connected = false;
-  let stopped = false;
-  let lastError = '';
-  type Timer = ReturnType<typeof setTimeout>;
-  const timers: Timer[] = [];
-  const recent = new Map<string, { ok: boolean; error?: string }>();
-  const stats: RigStats = {
-    samples: 0,
-    published: 0,
-    resent: 0,
-    malformedSent: 0,
-    commandsApplied: 0,
-    commandsRefused: 0,
-    commandsInvalid: 0,
-    storedConfirmed: 0,
-    connects: 0,
-    disconnects: 0,
-    drops: 0,
-    get outboxOverflow() {
-      return outbox.overflowDropped;
-    },
-  } as RigStats;
+type Timer = ReturnType<typeof setTimeout>;
 
-  const rigNow = () => new Date(Date.now() + clockOffsetMs);
-  const statusPayload = (online: boolean) =>
-    JSON.stringify({
+/**
+ * One rig, in parts: the connection and its subscriptions (connect, onConnect, onClose), command
+ * handling (onMessage, with the CommandDesk of commands.ts), the physics tick (tick → sample),
+ * the outbox and publishing (publishSample, send, resendDue) and fault injection (clock jumps,
+ * malformed messages, drop-offs). It reads `config` on every tick (tests change maxSamples).
+ */
+class SimulatedRig implements RigHandle {
+  readonly rigCode: string;
+  readonly outbox: Outbox;
+  readonly stats: RigStats;
+  private physics: RigState;
+  private seq: number;
+  private clockOffsetMs = 0;
+  private client: MqttClient | null = null;
+  private isConnected = false;
+  private stopped = false;
+  private lastError = '';
+  private readonly timers: Timer[] = [];
+  private readonly desk = new CommandDesk();
+  private readonly log: (line: string) => void;
+  private readonly rng: () => number;
+  private readonly faults: RigFaults;
+  private readonly samplePeriodMs: number;
+  private readonly dtStressS: number;
+  private readonly resendAfterMs: number;
+  private readonly maxResend: number;
+  private readonly topics: { telemetry: string; status: string; commands: string; acks: string };
+
+  constructor(private readonly config: RigConfig) {
+    const rigCode = config.rigCode;
+    this.rigCode = rigCode;
+    this.log = config.log ?? (() => undefined);
+    this.rng = createRng(config.seed ?? hashString(rigCode));
+    this.faults = config.faults ?? {};
+    this.samplePeriodMs = Math.max(10, (config.samplePeriodWallS ?? 0.25) * 1000);
+    this.dtStressS = (this.samplePeriodMs / 1000) * (config.stressHoursPerWallSecond ?? 1) * 3600;
+    this.resendAfterMs = (config.resendAfterWallS ?? 5) * 1000;
+    this.maxResend = config.maxResendPerTick ?? 500;
+    this.topics = {
+      telemetry: topics.telemetry(rigCode),
+      status: topics.status(rigCode),
+      commands: topics.commands(rigCode),
+      acks: topics.commandAcks(rigCode),
+    };
+    this.physics = initialRigState(config);
+    this.outbox = new Outbox(config.outboxLimit ?? 50_000);
+    this.seq = config.seqStart ?? 0;
+    const outbox = this.outbox;
+    this.stats = {
+      samples: 0,
+      published: 0,
+      resent: 0,
+      malformedSent: 0,
+      commandsApplied: 0,
+      commandsRefused: 0,
+      commandsInvalid: 0,
+      storedConfirmed: 0,
+      connects: 0,
+      disconnects: 0,
+      drops: 0,
+      get outboxOverflow() {
+        return outbox.overflowDropped;
+      },
+    } as RigStats;
+  }
+
+  get connected(): boolean {
+    return this.isConnected;
+  }
+
+  state = (): RigState => this.physics;
+
+  lastSeq = (): number => this.seq;
+
+  start(): void {
+    this.connect();
+    this.timers.push(setInterval(() => this.tick(), this.samplePeriodMs) as unknown as Timer);
+    this.scheduleDropOff();
+  }
+
+  // -------------------------------------------------------------------------------------------
+  // Connection and subscriptions
+
+  private rigNow(): Date {
+    return new Date(Date.now() + this.clockOffsetMs);
+  }
+
+  private statusPayload(online: boolean): string {
+    return JSON.stringify({
       v: 1,
-      rig: rigCode,
+      rig: this.rigCode,
       online,
-      ts: rigNow().toISOString(),
-      ...(config.firmware ? { firmware: config.firmware } : {}),
-      lastSeq: seq,
+      ts: this.rigNow().toISOString(),
+      ...(this.config.firmware ? { firmware: this.config.firmware } : {}),
+      lastSeq: this.seq,
     } satisfies RigStatus);
-
-  function send(c: MqttClient, e: OutboxEntry, isResend: boolean): void {
-    c.publish(T.telemetry, e.payload, { qos: 1 });
-    outbox.markSent(e.seq, Date.now());
-    if (isResend) stats.resent++;
-    else stats.published++;
   }
 
-  function ack(c: MqttClient | null, a: Omit<CommandAck, 'v' | 'rig'>): void {
-    const body: CommandAck = { v: 1, rig: rigCode, ...a };
-    // mqtt.js queues QoS 1 while offline and sends on reconnect.
-    c?.publish(T.acks, JSON.stringify(commandAckSchema.parse(body)), { qos: 1 });
-  }
-
-  function onMessage(c: MqttClient, topic: string, payload: Buffer): void {
-    if (topic !== T.commands) return;
-    const parsed = parseCommand(payload);
-    if (!parsed.ok) {
-      stats.commandsInvalid++;
-      let cmdId: unknown;
-      try {
-        cmdId = (JSON.parse(payload.toString('utf8')) as { cmdId?: unknown })?.cmdId;
-      } catch {
-        /* not JSON: nothing to answer */
-      }
-      if (typeof cmdId === 'string' && /^[A-Za-z0-9._:-]{1,64}$/.test(cmdId)) {
-        ack(c, { cmdId, ok: false, error: `invalid command: ${parsed.reason}`.slice(0, 500) });
-      }
-      log(`[${rigCode}] invalid command: ${parsed.reason}`);
-      return;
-    }
-    const cmd = parsed.data;
-    if (cmd.type === 'stored') {
-      stats.storedConfirmed += outbox.confirm(cmd.ranges);
-      return;
-    }
-    const seen = recent.get(cmd.cmdId);
-    if (seen) {
-      ack(c, { cmdId: cmd.cmdId, ...seen }); // idempotent: same answer, not applied twice
-      return;
-    }
-    const result = applyCommand(state, cmd);
-    if (result.ok) {
-      state = result.state;
-      stats.commandsApplied++;
-    } else {
-      stats.commandsRefused++;
-    }
-    const outcome = result.ok ? { ok: true } : { ok: false, error: result.error };
-    recent.set(cmd.cmdId, outcome);
-    if (recent.size > 1000) recent.delete(recent.keys().next().value as string);
-    ack(c, { cmdId: cmd.cmdId, ...outcome });
-  }
-
-  function connect(): void {
-    const c = mqtt.connect(config.brokerUrl, {
-      clientId,
-      username: config.username,
-      password: config.password,
+  private connect(): void {
+    const c = mqtt.connect(this.config.brokerUrl, {
+      clientId: this.config.clientId ?? rigClientId(this.rigCode),
+      username: this.config.username,
+      password: this.config.password,
       protocolVersion: 4,
       clean: true,
       keepalive: 10,
       connectTimeout: 5000,
-      reconnectPeriod: (config.reconnectWallS ?? 0.5) * 1000,
-      will: { topic: T.status, payload: Buffer.from(statusPayload(false)), qos: 1, retain: true },
+      reconnectPeriod: (this.config.reconnectWallS ?? 0.5) * 1000,
+      will: { topic: this.topics.status, payload: Buffer.from(this.statusPayload(false)), qos: 1, retain: true },
     });
-    client = c;
-    c.on('connect', () => {
-      if (client !== c) return;
-      lastError = '';
-      connected = true;
-      stats.connects++;
-      log(`[${rigCode}] connected`);
-      c.publish(T.status, statusPayload(true), { qos: 1, retain: true });
-      c.subscribe(T.commands, { qos: 1 });
-      // Replay every unconfirmed sample in seq order before any new one.
-      for (const e of outbox.pending()) send(c, e, true);
-    });
-    c.on('close', () => {
-      if (client === c && connected) {
-        stats.disconnects++;
-        log(`[${rigCode}] disconnected`);
-      }
-      if (client === c) connected = false;
-      // The will goes out with the next CONNECT: keep its lastSeq current.
-      if (c.options.will) c.options.will.payload = Buffer.from(statusPayload(false));
-    });
-    c.on('message', (topic, payload) => onMessage(c, topic, payload));
+    this.client = c;
+    c.on('connect', () => this.onConnect(c));
+    c.on('close', () => this.onClose(c));
+    c.on('message', (topic, payload) => this.onMessage(c, topic, payload));
     c.on('error', (err) => {
       // While the broker is down every retry fails the same way: say it once.
-      if (err.message !== lastError) log(`[${rigCode}] mqtt error: ${err.message}`);
-      lastError = err.message;
+      if (err.message !== this.lastError) this.log(`[${this.rigCode}] mqtt error: ${err.message}`);
+      this.lastError = err.message;
     });
   }
 
-  function tick(): void {
-    if (stopped) return;
-    const sampling = config.maxSamples === undefined || stats.samples < config.maxSamples;
-    if (sampling) {
-      state = stepRig(state, dtStressS);
-      seq += 1;
-      stats.samples++;
-      if (faults.clockJump && faults.clockJump.everySamples > 0 && stats.samples % faults.clockJump.everySamples === 0) {
-        clockOffsetMs += faults.clockJump.jumpS * 1000;
-      }
-      const message = buildTelemetry(state, seq, rigNow(), { noise: faults.noise, rng });
-      const payload = config.telemetryForm === 'objects' ? JSON.stringify(message) : telemetryColumnsText(message);
-      outbox.add(seq, payload);
-      if (connected && client) send(client, { seq, payload, lastSentMs: 0 }, false);
-      if (connected && client && faults.malformedRate && rng() < faults.malformedRate) {
-        client.publish(T.telemetry, malformedPayload(state, rng), { qos: 1 });
-        stats.malformedSent++;
-      }
+  private onConnect(c: MqttClient): void {
+    if (this.client !== c) return;
+    this.lastError = '';
+    this.isConnected = true;
+    this.stats.connects++;
+    this.log(`[${this.rigCode}] connected`);
+    c.publish(this.topics.status, this.statusPayload(true), { qos: 1, retain: true });
+    c.subscribe(this.topics.commands, { qos: 1 });
+    // Replay every unconfirmed sample in seq order before any new one.
+    for (const e of this.outbox.pending()) this.send(c, e, true);
+  }
+
+  private onClose(c: MqttClient): void {
+    if (this.client === c && this.isConnected) {
+      this.stats.disconnects++;
+      this.log(`[${this.rigCode}] disconnected`);
     }
-    if (connected && client) {
-      const now = Date.now();
-      for (const e of outbox.due(now, resendAfterMs, maxResend)) send(client, e, true);
+    if (this.client === c) this.isConnected = false;
+    // The will goes out with the next CONNECT: keep its lastSeq current.
+    if (c.options.will) c.options.will.payload = Buffer.from(this.statusPayload(false));
+  }
+
+  // -------------------------------------------------------------------------------------------
+  // Commands
+
+  private onMessage(c: MqttClient, topic: string, payload: Buffer): void {
+    if (topic !== this.topics.commands) return;
+    const out = this.desk.handle(payload, this.physics);
+    if (out.kind === 'invalid') {
+      this.stats.commandsInvalid++;
+      if (out.cmdId) this.ack(c, { cmdId: out.cmdId, ok: false, error: `invalid command: ${out.reason}`.slice(0, 500) });
+      this.log(`[${this.rigCode}] invalid command: ${out.reason}`);
+      return;
+    }
+    if (out.kind === 'stored') {
+      this.stats.storedConfirmed += this.outbox.confirm(out.ranges);
+      return;
+    }
+    if (!out.repeat) {
+      this.physics = out.state;
+      if (out.ok) this.stats.commandsApplied++;
+      else this.stats.commandsRefused++;
+    }
+    // A repeat is idempotent: the same answer, not applied twice.
+    this.ack(c, out.ok ? { cmdId: out.cmdId, ok: true } : { cmdId: out.cmdId, ok: false, error: out.error });
+  }
+
+  private ack(c: MqttClient | null, a: Omit<CommandAck, 'v' | 'rig'>): void {
+    const body: CommandAck = { v: 1, rig: this.rigCode, ...a };
+    // mqtt.js queues QoS 1 while offline and sends on reconnect.
+    c?.publish(this.topics.acks, JSON.stringify(commandAckSchema.parse(body)), { qos: 1 });
+  }
+
+  // -------------------------------------------------------------------------------------------
+  // The physics tick
+
+  private tick(): void {
+    if (this.stopped) return;
+    const sampling = this.config.maxSamples === undefined || this.stats.samples < this.config.maxSamples;
+    if (sampling) this.sample();
+    this.resendDue();
+  }
+
+  /** One step of the physics, one telemetry message into the outbox and out. */
+  private sample(): void {
+    this.physics = stepRig(this.physics, this.dtStressS);
+    this.seq += 1;
+    this.stats.samples++;
+    this.maybeJumpClock();
+    const message = buildTelemetry(this.physics, this.seq, this.rigNow(), { noise: this.faults.noise, rng: this.rng });
+    const payload = this.config.telemetryForm === 'objects' ? JSON.stringify(message) : telemetryColumnsText(message);
+    this.publishSample(this.seq, payload);
+    this.maybeSendMalformed();
+  }
+
+  // -------------------------------------------------------------------------------------------
+  // Outbox and publishing
+
+  private publishSample(seq: number, payload: string): void {
+    this.outbox.add(seq, payload);
+    if (this.isConnected && this.client) this.send(this.client, { seq, payload, lastSentMs: 0 }, false);
+  }
+
+  private send(c: MqttClient, e: OutboxEntry, isResend: boolean): void {
+    c.publish(this.topics.telemetry, e.payload, { qos: 1 });
+    this.outbox.markSent(e.seq, Date.now());
+    if (isResend) this.stats.resent++;
+    else this.stats.published++;
+  }
+
+  /** Samples unconfirmed for resendAfterWallS go out again (a server outage while the broker stays up). */
+  private resendDue(): void {
+    if (!this.isConnected || !this.client) return;
+    for (const e of this.outbox.due(Date.now(), this.resendAfterMs, this.maxResend)) this.send(this.client, e, true);
+  }
+
+  // -------------------------------------------------------------------------------------------
+  // Fault injection
+
+  private maybeJumpClock(): void {
+    const j = this.faults.clockJump;
+    if (j && j.everySamples > 0 && this.stats.samples % j.everySamples === 0) this.clockOffsetMs += j.jumpS * 1000;
+  }
+
+  private maybeSendMalformed(): void {
+    if (this.isConnected && this.client && this.faults.malformedRate && this.rng() < this.faults.malformedRate) {
+      this.client.publish(this.topics.telemetry, malformedPayload(this.physics, this.rng), { qos: 1 });
+      this.stats.malformedSent++;
     }
   }
 
-  function dropFor(wallMs: number): void {
-    if (stopped || !client) return;
-    const c = client;
-    client = null;
-    if (connected) stats.disconnects++;
-    connected = false;
-    stats.drops++;
-    log(`[${rigCode}] dropping off for ${wallMs} ms`);
-    c.end(true); // no DISCONNECT: the broker sees the socket die and publishes the will
-    timers.push(
+  private scheduleDropOff(): void {
+    const d = this.faults.dropOff;
+    if (!d) return;
+    this.timers.push(
       setTimeout(() => {
-        if (!stopped) connect();
-      }, wallMs),
-    );
-  }
-
-  connect();
-  timers.push(setInterval(tick, samplePeriodMs) as unknown as Timer);
-  if (faults.dropOff) {
-    const d = faults.dropOff;
-    timers.push(
-      setTimeout(() => {
-        dropFor(d.forWallS * 1000);
-        if (d.everyWallS) timers.push(setInterval(() => dropFor(d.forWallS * 1000), d.everyWallS * 1000) as unknown as Timer);
+        this.dropFor(d.forWallS * 1000);
+        if (d.everyWallS) this.timers.push(setInterval(() => this.dropFor(d.forWallS * 1000), d.everyWallS * 1000) as unknown as Timer);
       }, d.afterWallS * 1000),
     );
   }
 
-  return {
-    rigCode,
-    outbox,
-    stats,
-    get connected() {
-      return connected;
-    },
-    state: () => state,
-    lastSeq: () => seq,
-    dropFor,
-    drained(timeoutMs = 10_000) {
-      const start = Date.now();
-      return new Promise<void>((resolve, reject) => {
-        const check = () => {
-          const done = config.maxSamples !== undefined && stats.samples >= config.maxSamples && outbox.size === 0;
-          if (done) return resolve();
-          if (Date.now() - start > timeoutMs) {
-            return reject(new Error(`rig ${rigCode} not drained: ${outbox.size} unconfirmed, ${stats.samples} samples`));
-          }
-          setTimeout(check, 20);
-        };
-        check();
-      });
-    },
-    async stop() {
-      if (stopped) return;
-      stopped = true;
-      for (const t of timers) {
+  dropFor = (wallMs: number): void => {
+    if (this.stopped || !this.client) return;
+    const c = this.client;
+    this.client = null;
+    if (this.isConnected) this.stats.disconnects++;
+    this.isConnected = false;
+    this.stats.drops++;
+    this.log(`[${this.rigCode}] dropping off for ${wallMs} ms`);
+    c.end(true); // no DISCONNECT: the broker sees the socket die and publishes the will
+    this.timers.push(
+      setTimeout(() => {
+        if (!this.stopped) this.connect();
+      }, wallMs),
+    );
+  };
+
+  // -------------------------------------------------------------------------------------------
+  // End
+
+  drained = (timeoutMs = 10_000): Promise<void> => {
+    const start = Date.now();
+    return new Promise<void>((resolve, reject) => {
+      const check = () => {
+        const done = this.config.maxSamples !== undefined && this.stats.samples >= this.config.maxSamples && this.outbox.size === 0;
+        if (done) return resolve();
+        if (Date.now() - start > timeoutMs) {
+          return reject(new Error(`rig ${this.rigCode} not drained: ${this.outbox.size} unconfirmed, ${this.stats.samples} samples`));
+        }
+        setTimeout(check, 20);
+      };
+      check();
+    });
+  };
+
+  stop = async (): Promise<void> => {
+    if (this.stopped) return;
+    this.stopped = true;
+    for (const t of this.timers) {
+      clearTimeout(t);
+      clearInterval(t as ReturnType<typeof setInterval>);
+    }
+    const c = this.client;
+    this.client = null;
+    if (!c) return;
+    if (!this.isConnected) {
+      await c.endAsync(true).catch(() => undefined);
+      return;
+    }
+    this.isConnected = false;
+    await new Promise<void>((resolve) => {
+      const t = setTimeout(resolve, 1000);
+      c.publish(this.topics.status, this.statusPayload(false), { qos: 1, retain: true }, () => {
         clearTimeout(t);
-        clearInterval(t as ReturnType<typeof setInterval>);
-      }
-      const c = client;
-      client = null;
-      if (!c) return;
-      if (connected) {
-        connected = false;
-        await new Promise<void>((resolve) => {
-          const t = setTimeout(resolve, 1000);
-          c.publish(T.status, statusPayload(false), { qos: 1, retain: true }, () => {
-            clearTimeout(t);
-            resolve();
-          });
-        });
-        await c.endAsync().catch(() => undefined);
-      } else {
-        await c.endAsync(true).catch(() => undefined);
-      }
-    },
+        resolve();
+      });
+    });
+    await c.endAsync().catch(() => undefined);
   };
 }
 

@@ -8,6 +8,7 @@
 import * as fs from 'node:fs';
 import * as path from 'node:path';
 import type { DataSource } from 'typeorm';
+import type { Bias } from '../shared/schemas/plans';
 import { DEMO_LOTS, demoRigSecret, rigMqttUsername } from '../server/seed/demo-data';
 
 const ACTIVE = ['loading', 'heating', 'stressing', 'paused', 'read-hold', 'cooling'];
@@ -39,7 +40,7 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
   const rigs: Array<{ id: string; code: string; socket_count: number; humidity_capable: boolean; max_temp_c: number }> = await ds.query(
     `SELECT id, code, socket_count, humidity_capable, max_temp_c FROM rigs WHERE active ORDER BY code`,
   );
-  const runs: Array<{ id: string; rig_id: string; state: string; kind: string; chamber_c: number; humidity_pct: number | null; bias: any }> =
+  const runs: Array<{ id: string; rig_id: string; state: string; kind: string; chamber_c: number; humidity_pct: number | null; bias: Partial<Bias> | null }> =
     await ds.query(
       `SELECT r.id, r.rig_id, r.state, p.kind, p.chamber_c, p.humidity_pct, p.bias
          FROM runs r JOIN stress_plans p ON p.id = r.plan_id

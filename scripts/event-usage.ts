@@ -15,7 +15,15 @@ export interface EventUse {
   line: number;
 }
 
-const METHODS: Record<string, EventUse['kind']> = { emit: 'emit', on: 'listen', once: 'listen', addListener: 'listen', prependListener: 'listen', off: 'off', removeListener: 'off' };
+const METHODS: Record<string, EventUse['kind']> = {
+  emit: 'emit',
+  on: 'listen',
+  once: 'listen',
+  addListener: 'listen',
+  prependListener: 'listen',
+  off: 'off',
+  removeListener: 'off',
+};
 
 /** `constants` maps an exported constant's name to its value (e.g. ALARM_EVENT → 'alarm'). */
 export function eventUses(file: string, text: string, constants: Record<string, string>): EventUse[] {
@@ -26,8 +34,17 @@ export function eventUses(file: string, text: string, constants: Record<string, 
       const target = node.expression.expression.getText(sf);
       if (/(^|\.)events$/.test(target) && node.arguments.length > 0) {
         const arg = node.arguments[0];
-        const name = ts.isStringLiteralLike(arg) ? arg.text : ts.isIdentifier(arg) ? constants[arg.text] ?? `<unknown constant ${arg.text}>` : `<expression ${arg.getText(sf)}>`;
-        out.push({ name, kind: METHODS[node.expression.name.text], file, line: sf.getLineAndCharacterOfPosition(node.getStart(sf)).line + 1 });
+        const name = ts.isStringLiteralLike(arg)
+          ? arg.text
+          : ts.isIdentifier(arg)
+            ? (constants[arg.text] ?? `<unknown constant ${arg.text}>`)
+            : `<expression ${arg.getText(sf)}>`;
+        out.push({
+          name,
+          kind: METHODS[node.expression.name.text],
+          file,
+          line: sf.getLineAndCharacterOfPosition(node.getStart(sf)).line + 1,
+        });
       }
     }
     ts.forEachChild(node, visit);
@@ -45,7 +62,8 @@ export function eventMapNames(eventsFileText: string, constants: Record<string, 
       for (const m of n.members) {
         const key = m.name;
         if (!key) continue;
-        if (ts.isComputedPropertyName(key) && ts.isIdentifier(key.expression)) names.push(constants[key.expression.text] ?? `<unknown constant ${key.expression.text}>`);
+        if (ts.isComputedPropertyName(key) && ts.isIdentifier(key.expression))
+          names.push(constants[key.expression.text] ?? `<unknown constant ${key.expression.text}>`);
         else if (ts.isStringLiteral(key) || ts.isIdentifier(key)) names.push(key.text);
       }
     }

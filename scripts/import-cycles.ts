@@ -31,7 +31,13 @@ function walk(dir: string, out: string[]): void {
 
 /** Every import / re-export / require of a file, with whether it vanishes at run time. */
 function importsOf(file: string): Array<{ spec: string; typeOnly: boolean }> {
-  const sf = ts.createSourceFile(file, fs.readFileSync(file, 'utf8'), ts.ScriptTarget.Latest, false, file.endsWith('x') ? ts.ScriptKind.TSX : ts.ScriptKind.TS);
+  const sf = ts.createSourceFile(
+    file,
+    fs.readFileSync(file, 'utf8'),
+    ts.ScriptTarget.Latest,
+    false,
+    file.endsWith('x') ? ts.ScriptKind.TSX : ts.ScriptKind.TS,
+  );
   const out: Array<{ spec: string; typeOnly: boolean }> = [];
   const visit = (node: ts.Node) => {
     if (ts.isImportDeclaration(node) && ts.isStringLiteral(node.moduleSpecifier)) {
@@ -41,10 +47,22 @@ function importsOf(file: string): Array<{ spec: string; typeOnly: boolean }> {
       out.push({ spec: node.moduleSpecifier.text, typeOnly });
     } else if (ts.isExportDeclaration(node) && node.moduleSpecifier && ts.isStringLiteral(node.moduleSpecifier)) {
       const named = node.exportClause && ts.isNamedExports(node.exportClause) ? node.exportClause.elements : null;
-      out.push({ spec: node.moduleSpecifier.text, typeOnly: node.isTypeOnly || (!!named && named.length > 0 && named.every((e) => e.isTypeOnly)) });
-    } else if (ts.isImportEqualsDeclaration(node) && ts.isExternalModuleReference(node.moduleReference) && ts.isStringLiteral(node.moduleReference.expression)) {
+      out.push({
+        spec: node.moduleSpecifier.text,
+        typeOnly: node.isTypeOnly || (!!named && named.length > 0 && named.every((e) => e.isTypeOnly)),
+      });
+    } else if (
+      ts.isImportEqualsDeclaration(node) &&
+      ts.isExternalModuleReference(node.moduleReference) &&
+      ts.isStringLiteral(node.moduleReference.expression)
+    ) {
       out.push({ spec: node.moduleReference.expression.text, typeOnly: node.isTypeOnly });
-    } else if (ts.isCallExpression(node) && node.arguments.length === 1 && ts.isStringLiteral(node.arguments[0]) && ((ts.isIdentifier(node.expression) && node.expression.text === 'require') || node.expression.kind === ts.SyntaxKind.ImportKeyword)) {
+    } else if (
+      ts.isCallExpression(node) &&
+      node.arguments.length === 1 &&
+      ts.isStringLiteral(node.arguments[0]) &&
+      ((ts.isIdentifier(node.expression) && node.expression.text === 'require') || node.expression.kind === ts.SyntaxKind.ImportKeyword)
+    ) {
       out.push({ spec: node.arguments[0].text, typeOnly: false });
     }
     ts.forEachChild(node, visit);

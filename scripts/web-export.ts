@@ -2,6 +2,7 @@ import { spawnSync } from 'node:child_process';
 import { createHash } from 'node:crypto';
 import * as fs from 'node:fs';
 import * as path from 'node:path';
+import * as zlib from 'node:zlib';
 import { PROJECT_ROOT } from './pg-cluster';
 
 export const WEB_DIR = path.join(PROJECT_ROOT, 'dist', 'web');
@@ -35,6 +36,39 @@ export function ensureWebExport(log: (m: string) => void = console.log): void {
     env: { ...process.env, CI: '1', EXPO_NO_TELEMETRY: '1' },
   });
   if (r.status !== 0) throw new Error('expo export failed');
+  const c = precompress(WEB_DIR);
+  log(`[web] precompressed ${c.files} files: ${Math.round(c.bytes / 1024)} KB → ${Math.round(c.brotli / 1024)} KB brotli`);
   fs.writeFileSync(stamp, hash);
   log(`[web] exported in ${Math.round((Date.now() - t) / 1000)} s`);
+}
+
+const COMPRESSIBLE = /\.(js|css|html|json|ttf|otf|ico|svg|txt|map)$/;
+
+/**
+ * Writes `x.br` (brotli, quality 11) and `x.gz` (gzip -9) beside every compressible file of the export,
+ * when they are smaller: the server sends them as they are (server/http/web-static.ts), so the
+ * costly brotli levels are paid once here, not per request.
+ */
+export function precompress(dir: string): { files: number; bytes: number; brotli: number } {
+  const out = { files: 0, bytes: 0, brotli: 0 };
+  const walk = (d: string) => {
+    for (const e of fs.readdirSync(d, { withFileTypes: true })) {
+      const p = path.join(d, e.name);
+      if (e.isDirectory()) walk(p);
+      else if (COMPRESSIBLE.test(e.name)) {
+        const raw = fs.readFileSync(p);
+        const br = zlib.brotliCompressSync(raw, {
+          params: { [zlib.constants.BROTLI_PARAM_QUALITY]: 11, [zlib.constants.BROTLI_PARAM_SIZE_HINT]: raw.length },
+        });
+        const gz = zlib.gzipSync(raw, { level: 9 });
+        if (br.length < raw.length) fs.writeFileSync(`${p}.br`, br);
+        if (gz.length < raw.length) fs.writeFileSync(`${p}.gz`, gz);
+        out.files += 1;
+        out.bytes += raw.length;
+        out.brotli += Math.min(br.length, raw.length);
+      }
+    }
+  };
+  walk(dir);
+  return out;
 }

@@ -7,6 +7,7 @@ import type { AppContext } from './context';
 import { errorHandler, notFound } from './http/errors';
 import type { ApiRouter, RegisteredRoute } from './http/route';
 import { installAuth } from './modules/auth/auth.routes';
+import { installApiCompression, installWebApp } from './http/web-static';
 import { apiRouters } from './modules';
 
 export const JSON_BODY_LIMIT = '1mb';
@@ -40,6 +41,7 @@ export function createApp(ctx: AppContext): BuiltApp {
       crossOriginEmbedderPolicy: false,
     }),
   );
+  installApiCompression(app);
   app.use('/api', express.json({ limit: JSON_BODY_LIMIT }));
   app.use('/api', (_req, res, next) => {
     res.setHeader('Cache-Control', 'no-store');
@@ -76,9 +78,7 @@ export function createApp(ctx: AppContext): BuiltApp {
 
   const webDir = ctx.config.webDir;
   if (webDir && fs.existsSync(path.join(webDir, 'index.html'))) {
-    app.use(express.static(webDir, { index: false, maxAge: '1h' }));
-    // Single-page export: every non-API path gets the app shell; Expo Router takes it from there.
-    app.get(/^(?!\/api\/).*/, (_req, res) => res.sendFile(path.join(webDir, 'index.html')));
+    installWebApp(app, webDir);
   }
   app.use(errorHandler);
   return { app, routes, routers };

@@ -9,7 +9,7 @@
  */
 import { estimateBvceo } from './physics';
 import type { DeviceTypeInput } from './schemas/devices';
-import { criteriaSchema, PLAN_KIND_LABEL, type PlanInput, type PlanKind, type PlanTemplate, type TemplateRule } from './schemas/plans';
+import { criteriaSchema, PLAN_KIND_LABEL, type PlanInput, type PlanTemplate, type TemplateRule } from './schemas/plans';
 
 export const SOURCES = {
   htrb: '[pub: JESD22-A108; AEC-Q101 test table]',
@@ -342,5 +342,4 @@ export function buildPlanTemplates(device?: Device): PlanTemplate[] {
   return [htrb(device), hotl(device), iol(device), thb(device)];
 }
 
-export const TEMPLATE_KIND_ORDER: PlanKind[] = ['htrb', 'hotl', 'iol', 'thb'];
 export { PLAN_KIND_LABEL };

@@ -16,6 +16,7 @@ import { SEED_STEPS } from '../../server/seed/seed';
 import { destroyCluster, ensureDatabase, PROJECT_ROOT, startCluster, stopCluster, type ClusterInfo, type ClusterOptions } from '../../scripts/pg-cluster';
 import { PROCESSES } from '../../scripts/processes';
 import { startStack, type Stack } from '../../scripts/stack';
+import { ensureWebExport, WEB_DIR } from '../../scripts/web-export';
 import { MQTT_SERVER, SETTINGS } from './settings';
 
 /** Stress hours per wall second of the protection scenario's simulated rigs (10 stress s / wall s). */
@@ -73,6 +74,7 @@ const BASE_SEED = ['users', 'device types and lots', 'stress plans'];
 
 export async function prepareDatabase(log: (l: string) => void): Promise<BenchEnv> {
   const clusterOpts = clusterOptions();
+  if (SETTINGS.scenarios.includes('web')) ensureWebExport(log);
   const t0 = Date.now();
   destroyCluster(clusterOpts);
   const cluster = startCluster(clusterOpts);
@@ -90,7 +92,8 @@ export async function prepareDatabase(log: (l: string) => void): Promise<BenchEn
     EMBERLOT_MQTT_SERVER_USER: MQTT_SERVER.username,
     EMBERLOT_MQTT_SERVER_PASSWORD: MQTT_SERVER.password,
     EMBERLOT_CLOCK_RATE: String(BENCH_CLOCK_RATE),
-    EMBERLOT_WEB_DIR: '',
+    // The web scenario loads the app from the API, as `npm start` serves it.
+    EMBERLOT_WEB_DIR: SETTINGS.scenarios.includes('web') ? WEB_DIR : '',
     EMBERLOT_DEV_PROXY: '',
     EMBERLOT_UPLOAD_DIR: path.join(PROJECT_ROOT, '.data', 'bench-uploads'),
     EMBERLOT_SESSION_SECRET: 'emberlot-bench-session-secret',

@@ -11,7 +11,7 @@ import { getJson, round, signIn } from '../lib/http';
 import { SETTINGS } from '../lib/settings';
 
 // autocannon ships no types.
-// eslint-disable-next-line @typescript-eslint/no-require-imports
+// eslint-disable-next-line @typescript-eslint/no-require-imports -- no types to import
 const autocannon = require('autocannon') as (opts: Record<string, unknown>) => Promise<AutocannonResult>;
 
 interface AutocannonResult {

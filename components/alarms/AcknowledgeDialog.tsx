@@ -22,7 +22,7 @@ export function AcknowledgeDialog({ alarm, onClose, onDone }: Props) {
   useEffect(() => {
     setNote('');
     ack.reset();
-    // eslint-disable-next-line react-hooks/exhaustive-deps
+    // eslint-disable-next-line react-hooks/exhaustive-deps -- reset when another alarm opens; `ack` is a new object every render
   }, [alarm?.id]);
   const fieldError = isApiError(ack.error) ? ack.error.fieldErrors().note : undefined;
   const tooShort = note.trim().length < 3;

@@ -16,7 +16,7 @@ import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { LiveIndicator } from './FloorScreen';
-import { RigChart } from './RigChart';
+import { RigChart } from '@/components/charts/LazyCharts';
 import { fmtHours, rigState } from './RigTile';
 import { SocketBoard, TempLegend } from './SocketBoard';
 import { fmtC } from './temp-scale';

@@ -8,7 +8,7 @@
 import { useEffect, useState } from 'react';
 import { useQuery, useQueryClient } from '@tanstack/react-query';
 import type { FloorBoard, FloorChart, FloorTile } from '@/shared/schemas/floor';
-import { api } from './api';
+import { api, serverBody } from './api';
 import { STALE } from './keys';
 
 export const floorKeys = {
@@ -86,7 +86,7 @@ export function useFloorStream(): StreamState {
     es.addEventListener('tile', (e) => {
       let tile: FloorTile;
       try {
-        tile = (JSON.parse((e as MessageEvent<string>).data) as { tile: FloorTile }).tile;
+        tile = serverBody<{ tile: FloorTile }>(JSON.parse((e as MessageEvent<string>).data)).tile;
       } catch {
         return;
       }

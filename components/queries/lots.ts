@@ -1,6 +1,7 @@
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type { AddSerialsInput, Lot, LotDetail, LotInput, SerialRowProblem } from '@/shared/schemas/devices';
-import { api, ApiError, REQUEST_TIMEOUT_MS } from './api';
+import type { ErrorCode } from '@/shared/schemas/errors';
+import { api, ApiError, REQUEST_TIMEOUT_MS, serverBody } from './api';
 import { CATALOG_STALE_MS, catalogKeys } from './device-types';
 
 export function useLots(filter: { deviceTypeId?: string; q?: string } = {}) {
@@ -24,6 +25,9 @@ export function useLot(id: string | undefined) {
 }
 
 /** The bad rows of a refused serial list, when the error carries them (422 from the lot routes). */
+/** The error answer of the serials upload: the usual error, with the rejected rows. */
+type SerialsErrorBody = { error?: { code?: ErrorCode; message?: string; fields?: Record<string, string[]>; rows?: SerialRowProblem[] } };
+
 export class SerialRowsError extends ApiError {
   constructor(status: number, message: string, readonly rows: SerialRowProblem[], fields?: Record<string, string[]>) {
     super(status, 'unprocessable', message, fields);
@@ -63,14 +67,14 @@ async function upload<T>(path: string, file: PickedFile): Promise<T> {
   } finally {
     clearTimeout(timer);
   }
-  let body: any = undefined;
+  let body: unknown = undefined;
   try {
     body = await res.json();
   } catch {
     if (!res.ok) throw new ApiError(res.status, 'bad_response', `The server answered ${res.status}.`);
   }
-  if (res.ok) return body as T;
-  const err = body?.error;
+  if (res.ok) return serverBody<T>(body);
+  const err = serverBody<SerialsErrorBody | undefined>(body)?.error;
   if (err && Array.isArray(err.rows)) throw new SerialRowsError(res.status, String(err.message), err.rows, err.fields);
   throw new ApiError(res.status, err?.code ?? (res.status === 413 ? 'too_large' : 'bad_request'), String(err?.message ?? `The server answered ${res.status}.`), err?.fields);
 }

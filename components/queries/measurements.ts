@@ -4,21 +4,17 @@ import type {
   MeasurementRunDetail,
   MeasurementRunSummary,
   RowResult,
-  RunDriftResult,
-  StoredReading,
   UploadResult,
   Units,
   ColumnMapping,
 } from '@/shared/schemas/measurements';
 import { apiErrorSchema } from '@/shared/schemas/errors';
-import { api, ApiError } from './api';
+import { api, ApiError, serverBody } from './api';
 
 export const measurementKeys = {
   all: ['measurements'] as const,
   runs: () => ['measurements', 'runs'] as const,
   run: (id: string) => ['measurements', 'runs', id] as const,
-  readings: (id: string, h: number) => ['measurements', 'runs', id, 'read-points', h] as const,
-  drift: (id: string) => ['measurements', 'runs', id, 'drift'] as const,
 };
 
 const STALE_MS = 30_000;
@@ -35,25 +31,6 @@ export function useMeasurementRun(id: string | undefined) {
   return useQuery({
     queryKey: measurementKeys.run(id ?? ''),
     queryFn: ({ signal }) => api<MeasurementRunDetail>(`/api/measurements/runs/${encodeURIComponent(id!)}`, { signal }),
-    enabled: !!id,
-    staleTime: STALE_MS,
-  });
-}
-
-export function useReadPointReadings(id: string | undefined, hours: number | undefined) {
-  return useQuery({
-    queryKey: measurementKeys.readings(id ?? '', hours ?? -1),
-    queryFn: ({ signal }) =>
-      api<{ items: StoredReading[] }>(`/api/measurements/runs/${encodeURIComponent(id!)}/read-points/${hours}`, { signal }).then((r) => r.items),
-    enabled: !!id && hours !== undefined,
-    staleTime: STALE_MS,
-  });
-}
-
-export function useRunDrift(id: string | undefined) {
-  return useQuery({
-    queryKey: measurementKeys.drift(id ?? ''),
-    queryFn: ({ signal }) => api<RunDriftResult>(`/api/measurements/runs/${encodeURIComponent(id!)}/drift`, { signal }),
     enabled: !!id,
     staleTime: STALE_MS,
   });
@@ -107,10 +84,10 @@ export function uploadReadings(input: UploadInput): Promise<UploadResult> {
       } catch {
         return reject(new ApiError(xhr.status, 'bad_response', 'The server sent an answer Emberlot could not read.'));
       }
-      if (xhr.status >= 200 && xhr.status < 300) return resolve(body as UploadResult);
+      if (xhr.status >= 200 && xhr.status < 300) return resolve(serverBody<UploadResult>(body));
       const parsed = apiErrorSchema.safeParse(body);
       if (!parsed.success) return reject(new ApiError(xhr.status, 'internal', `The server answered ${xhr.status}.`));
-      const rows = (body as { error: { rows?: RowResult[] } }).error.rows;
+      const rows = serverBody<{ error: { rows?: RowResult[] } }>(body).error.rows;
       if (rows) return reject(new RowsError(xhr.status, parsed.data.error.message, rows));
       reject(new ApiError(xhr.status, parsed.data.error.code, parsed.data.error.message, parsed.data.error.fields));
     };
@@ -142,10 +119,10 @@ export function useManualEntry() {
         throw new ApiError(0, 'network', 'Emberlot could not reach the server.');
       });
       const body = await res.json().catch(() => undefined);
-      if (res.ok) return body as UploadResult;
+      if (res.ok) return serverBody<UploadResult>(body);
       const parsed = apiErrorSchema.safeParse(body);
       if (!parsed.success) throw new ApiError(res.status, 'internal', `The server answered ${res.status}.`);
-      const rows = (body as { error: { rows?: RowResult[] } }).error.rows;
+      const rows = serverBody<{ error: { rows?: RowResult[] } }>(body).error.rows;
       if (rows) throw new RowsError(res.status, parsed.data.error.message, rows);
       throw new ApiError(res.status, parsed.data.error.code, parsed.data.error.message, parsed.data.error.fields);
     },

@@ -64,7 +64,7 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
     setLotIds([]);
     setSample(current ? String(current.sampleSize) : '');
     proposals.reset();
-    // eslint-disable-next-line react-hooks/exhaustive-deps
+    // eslint-disable-next-line react-hooks/exhaustive-deps -- reset when another plan is chosen, not on every render of `current` / `proposals`
   }, [planKey]);
 
   const sampleSize = Number(sample);

@@ -8,7 +8,7 @@ import { colors, radius, space } from '@/components/theme/tokens';
 import { Text } from '@/components/ui/Text';
 import { ACCOUNT_PATH, type Destination } from './destinations';
 
-function SheetRow({ icon, label, active, onPress }: { icon: NavIconName; label: string; active?: boolean; onPress?: () => void }) {
+function SheetRow({ icon, label, active }: { icon: NavIconName; label: string; active?: boolean }) {
   return (
     <View
       style={{

@@ -18,7 +18,7 @@ import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { downloadReport } from './exportReport';
 import { hours, PARAM_LABEL, pct, sig } from './format';
-import { LotDistributionChart } from './LotDistributionChart';
+import { LotDistributionChart } from '@/components/charts/LazyCharts';
 import { VerdictPill } from './verdict';
 
 const DEVICE_STATUS = {

@@ -14,7 +14,7 @@ import { Field } from '@/components/ui/Field';
 import { QueryState } from '@/components/ui/QueryState';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
-import { DriftTrendChart } from './DriftTrendChart';
+import { DriftTrendChart } from '@/components/charts/LazyCharts';
 import { hours, pct, sig } from './format';
 import { VERDICT_ORDER, VerdictPill } from './verdict';
 
@@ -132,9 +132,9 @@ export function TrendsScreen() {
                 </View>
                 <SegmentedChoice
                   label="Show"
-                  options={[{ value: 'all', label: 'All' }, ...LOT_VERDICTS.map((v) => ({ value: v, label: LOT_VERDICT_LABEL[v] }))]}
+                  options={[{ value: 'all' as const, label: 'All' }, ...LOT_VERDICTS.map((v) => ({ value: v, label: LOT_VERDICT_LABEL[v] }))]}
                   value={verdict}
-                  onChange={(v) => setVerdict(v as LotVerdict | 'all')}
+                  onChange={setVerdict}
                   testID="trends-verdict-filter"
                 />
                 <SegmentedChoice label="Sort by" options={SORTS} value={sort} onChange={(v) => setSort(v as SortKey)} testID="trends-sort" />

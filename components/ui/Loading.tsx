@@ -55,7 +55,8 @@ export function Loading({ label, variant = 'spinner', rows = 3, testID = 'loadin
         </>
       ) : (
         <View style={{ alignItems: 'center', gap: space.sm, paddingVertical: space.xl }}>
-          <ActivityIndicator color={colors.ember} />
+          {/* The wrapper is the progressbar with its name; the wheel itself is decoration. */}
+          <ActivityIndicator color={colors.ember} aria-hidden />
           <Text variant="body" tone="muted">
             {label}
           </Text>

@@ -121,7 +121,7 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
 
   const noise = s.noise ?? 1;
   const t = s.deviceType;
-  const rows: Array<Partial<MeasurementEntity>> = [];
+  const rows: Array<Partial<Omit<MeasurementEntity, 'run' | 'device'>>> = [];
   for (const x of sockets) {
     const rnd = mulberry32(seedOf(`${x.lotCode}/${x.device.serial}`));
     const z = normal(rnd);

@@ -68,13 +68,14 @@ export async function seedPlans(ds: DataSource): Promise<void> {
       const d = [...types.values()].find((x) => x.id === p.deviceTypeId)!;
       // Older versions a few days back, so the history reads in order.
       const createdAt = new Date(at.getTime() - (versions.length - 1 - i) * 3 * 86_400_000);
-      await ds.getRepository(StressPlanEntity).insert({
+      // save, not insert: insert's typing cannot take the check result's `unknown` ratings.
+      await ds.getRepository(StressPlanEntity).save({
         ...p,
-        cycle: (p.cycle ?? null) as Record<string, any> | null,
+        cycle: p.cycle ?? null,
         planKey,
         version: i + 1,
         current: i === versions.length - 1,
-        checkResult: runPlanCheck({ id: d.id, ...toDeviceTypeInput(d) }, p, createdAt) as unknown as Record<string, any>,
+        checkResult: runPlanCheck({ id: d.id, ...toDeviceTypeInput(d) }, p, createdAt),
         createdById: engineer?.id ?? null,
         createdAt,
       });

@@ -79,8 +79,11 @@ async function insertLiveRun(m: EntityManager, s: DemoLiveRun, engineer: UserEnt
     }),
   );
   await m.insert(RunLotEntity, lots.map((l) => ({ runId: run.id, lotId: l.id })));
-  const audit = (actor: UserEntity | null, action: string, details: Record<string, unknown>) =>
-    m.insert(AuditLogEntity, { actorId: actor?.id ?? null, actor: actor?.email ?? 'system', action, entity: 'run', entityId: run.id, reason: null, details: { seeded: true, ...details } as Record<string, any> });
+  const audit = (actor: UserEntity | null, action: string, details: Record<string, unknown>) => {
+    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- TypeORM's insert typing cannot take `unknown` values in a jsonb column
+    const row: Record<string, any> = { seeded: true, ...details };
+    return m.insert(AuditLogEntity, { actorId: actor?.id ?? null, actor: actor?.email ?? 'system', action, entity: 'run', entityId: run.id, reason: null, details: row });
+  };
   await audit(engineer, 'run.book', { code: s.code, rig: rig.code, sampleSize, lots: lots.map((l) => l.code), planName: plan.name, planVersion: plan.version });
   if (s.state === 'booked') return;
 

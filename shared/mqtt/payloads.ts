@@ -543,11 +543,11 @@ export function seqInRanges(seq: number, ranges: readonly SeqRange[]): boolean {
   return false;
 }
 
+const isRangeList = (x: Iterable<number> | SeqRange[]): x is SeqRange[] => Array.isArray(x) && Array.isArray(x[0]);
+
 /** Build a `stored` command, splitting into several when there are more ranges than one allows. */
 export function buildStoredCommands(seqsOrRanges: Iterable<number> | SeqRange[], makeId: () => string): StoredCommand[] {
-  const ranges = Array.isArray(seqsOrRanges) && Array.isArray(seqsOrRanges[0])
-    ? (seqsOrRanges as SeqRange[])
-    : seqsToRanges(seqsOrRanges as Iterable<number>);
+  const ranges = isRangeList(seqsOrRanges) ? seqsOrRanges : seqsToRanges(seqsOrRanges);
   const out: StoredCommand[] = [];
   for (let k = 0; k < ranges.length; k += MAX_STORED_RANGES) {
     out.push({ v: 1, type: 'stored', cmdId: makeId(), ranges: ranges.slice(k, k + MAX_STORED_RANGES) });

@@ -61,6 +61,8 @@ export interface ParsedRigTopic {
   kind: RigTopicKind;
 }
 
+const isRigTopicKind = (k: string): k is RigTopicKind => (RIG_TOPIC_KINDS as readonly string[]).includes(k);
+
 /** `emberlot/v1/rigs/OV-01/telemetry` → `{ rigCode: 'OV-01', kind: 'telemetry' }`; anything else → null. */
 export function parseRigTopic(topic: string): ParsedRigTopic | null {
   const parts = topic.split('/');
@@ -68,8 +70,8 @@ export function parseRigTopic(topic: string): ParsedRigTopic | null {
   const [root, version, rigs, rigCode, kind] = parts;
   if (`${root}/${version}` !== TOPIC_ROOT || rigs !== 'rigs') return null;
   if (!isRigCode(rigCode)) return null;
-  if (!(RIG_TOPIC_KINDS as readonly string[]).includes(kind)) return null;
-  return { rigCode, kind: kind as RigTopicKind };
+  if (!isRigTopicKind(kind)) return null;
+  return { rigCode, kind };
 }
 
 /** Rig code from a per-rig topic, or null. */

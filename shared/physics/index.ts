@@ -120,7 +120,7 @@ export function solveSelfHeating(input: SelfHeatingInput): SelfHeatingPoint {
   if (!(ta < ceiling)) return runawayResult();
 
   let lo = ta;
-  let flo = f(lo);
+  const flo = f(lo);
   if (flo === 0) {
     const g = gainAt(lo);
     return g < 1
@@ -145,7 +145,6 @@ export function solveSelfHeating(input: SelfHeatingInput): SelfHeatingPoint {
       return { tjC: t, powerW: powerAt(t), loopGain: g, runaway: false, evaluatedAtC: t };
     }
     lo = hi;
-    flo = fhi;
   }
   return runawayResult();
 }

@@ -17,6 +17,7 @@ export const ALARM_KINDS = [
   'command-failed',
 ] as const;
 export type AlarmKindName = (typeof ALARM_KINDS)[number];
+export const isAlarmKind = (s: string): s is AlarmKindName => (ALARM_KINDS as readonly string[]).includes(s);
 
 /** Short names for lists and e-mail subjects. */
 export const ALARM_KIND_LABEL: Record<AlarmKindName, string> = {
@@ -39,8 +40,6 @@ export const SEVERITY_LABEL: Record<AlarmSeverityName, string> = {
   warning: 'Warning',
   info: 'Notice',
 };
-/** Sort order: most severe first. */
-export const SEVERITY_RANK: Record<AlarmSeverityName, number> = { critical: 0, warning: 1, info: 2 };
 
 /**
  * Alarm statuses as the list filter sees them:

@@ -38,8 +38,11 @@ export const normaliseHeader = (h: string) =>
     .replace(/_+$/g, '');
 
 /** Our column a header names by itself, or null. */
-export const ownColumn = (h: string): MeasurementColumn | null =>
-  (MEASUREMENT_COLUMNS as readonly string[]).includes(normaliseHeader(h)) ? (normaliseHeader(h) as MeasurementColumn) : null;
+const isMeasurementColumn = (s: string): s is MeasurementColumn => (MEASUREMENT_COLUMNS as readonly string[]).includes(s);
+export const ownColumn = (h: string): MeasurementColumn | null => {
+  const name = normaliseHeader(h);
+  return isMeasurementColumn(name) ? name : null;
+};
 
 /** Columns a file must carry (after mapping); the others may be absent. */
 export const REQUIRED_COLUMNS: readonly MeasurementColumn[] = ['serial', 'hfe', 'hfe_ic_a', 'hfe_vce_v', 'icbo_a', 'icbo_vcb_v', 'vcesat_v'];

@@ -148,7 +148,6 @@ export interface TelemetryStats {
     bufferLimit: number;
     batches: number;
     lastBatchMs: number | null;
-    samplesMode: 'copy' | 'insert';
     pendingCommands: number;
   } | null;
 }

@@ -10,6 +10,7 @@ import { ALARM_EVENT } from '../../server/modules/alarms/alarms.service';
 import { RUN_EVENT } from '../../server/modules/runs/run-events';
 import { TELEMETRY_LANDED } from '../../server/modules/telemetry/contracts';
 import { writeBatch, type IngestItem } from '../../server/modules/telemetry/ingest-store';
+import { RollupAccumulator } from '../../server/modules/telemetry/rollups';
 import { pgPoolOf } from '../../server/modules/telemetry/telemetry.feature';
 import { insertHistoryRun } from '../../server/seed/seed-history';
 import { createTestApp, emailFor, TEST_PASSWORD, type TestApp } from '../support/api';
@@ -78,10 +79,14 @@ beforeAll(async () => {
   const all = Array.from({ length: 1200 }, (_, k) =>
     message(k + 1, T0 + k * 1000, Array.from({ length: 10 }, (_, i) => i), (i) => (i === 9 && k === 1199 ? { tripped: true, biasOn: false } : {})),
   );
+  // As the ingest does it: each committed batch folded into the accumulator, the held rollups
+  // written by a later transaction (here one of their own).
+  const rollups = new RollupAccumulator();
   for (let k = 0; k < all.length; k += 200) {
     const items: IngestItem[] = all.slice(k, k + 200).map((msg) => ({ kind: 'telemetry', rigCode: 'OV-81', msg, receivedAt: new Date() }));
-    await writeBatch(pool, items);
+    rollups.add((await writeBatch(pool, items)).landed);
   }
+  await writeBatch(pool, [], { rollups: rollups.take() });
 });
 afterAll(async () => {
   await t.close();
@@ -91,7 +96,7 @@ describe('GET /api/floor', () => {
   it('one tile per rig from the seeded rows', async () => {
     const res = await (await t.signIn('operator')).get('/api/floor');
     expect(res.status).toBe(200);
-    const [a, b] = res.body.items as FloorTile[];
+    const [a, b]: FloorTile[] = res.body.items;
     expect(a).toMatchObject({
       code: 'OV-81',
       online: true,
@@ -112,10 +117,10 @@ describe('GET /api/floor', () => {
 
   it('a socket tripped in the newest message and latched by the run counts once', async () => {
     const m = t.ctx.ds.manager;
-    const [tile] = (await (await t.signIn('operator')).get('/api/floor')).body.items as FloorTile[];
+    const [tile]: FloorTile[] = (await (await t.signIn('operator')).get('/api/floor')).body.items;
     await m.update(RunSocketEntity, { runId: tile.run!.id, socketIndex: 9 }, { tripped: true, trippedAt: new Date(), tripReason: 'Case above runaway limit' });
     try {
-      const [again] = (await (await t.signIn('operator')).get('/api/floor')).body.items as FloorTile[];
+      const [again]: FloorTile[] = (await (await t.signIn('operator')).get('/api/floor')).body.items;
       expect(again).toMatchObject({ code: 'OV-81', tripped: 2, powered: 9, empty: 6 }); // sockets 3 and 9, as before
     } finally {
       await m.update(RunSocketEntity, { runId: tile.run!.id, socketIndex: 9 }, { tripped: false, trippedAt: null, tripReason: null });

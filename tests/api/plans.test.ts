@@ -5,7 +5,8 @@
 import { buildPlanTemplates } from '../../shared/plan-templates';
 import { checkPlan } from '../../shared/safety/plan-check';
 import { deviceTypeInputSchema } from '../../shared/schemas/devices';
-import { planInputSchema, type PlanInput, type PlanTemplate } from '../../shared/schemas/plans';
+import { planInputSchema, type PlanTemplate } from '../../shared/schemas/plans';
+import type { z } from 'zod';
 import { AuditLogEntity, DeviceTypeEntity, StressPlanEntity, UserEntity } from '../../server/db/entities';
 import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
 import { seedPlans } from '../../server/seed/seed-plans';
@@ -29,7 +30,8 @@ afterAll(async () => {
   await t.close();
 });
 
-function htrbBody(patch: Partial<PlanInput> = {}): Record<string, unknown> {
+/** A request body: the schema's input (fields with defaults may be left out), as a client sends it. */
+function htrbBody(patch: Partial<z.input<typeof planInputSchema>> = {}): Record<string, unknown> {
   return {
     name: 'HTRB 145 °C, 80 % VCBO, 1000 h (JESD22-A108)',
     kind: 'htrb',
@@ -59,7 +61,8 @@ describe('plan templates', () => {
     const res = await op.get('/api/plans/templates');
     expect(res.status).toBe(200);
     expect(res.body.items.map((x: PlanTemplate) => x.kind)).toEqual(['htrb', 'hotl', 'iol', 'thb']);
-    for (const tpl of res.body.items as PlanTemplate[]) {
+    const templates: PlanTemplate[] = res.body.items;
+    for (const tpl of templates) {
       expect(tpl.plan).toBeNull();
       expect(tpl.sources.length).toBeGreaterThan(0);
       expect(tpl.rules.every((r) => r.source.length > 0)).toBe(true);
@@ -171,7 +174,7 @@ describe('plans', () => {
 
   it('the live check refuses an invalid body with field messages', async () => {
     const mgr = await t.signIn('manager');
-    const res = await mgr.post('/api/plans/check').send(htrbBody({ bias: { vcbV: null } as PlanInput['bias'] }));
+    const res = await mgr.post('/api/plans/check').send(htrbBody({ bias: { vcbV: null } }));
     expect(res.status).toBe(400);
     expect(res.body.error.fields).toEqual({ 'bias.vcbV': ['Reverse-bias plans need a collector-base voltage'] });
   });
@@ -204,7 +207,7 @@ describe('plans', () => {
       readPointsH: ['Read points must be different hours', 'A read point lies after the end of the run'],
       acceptNumber: ['Accept number must be below the sample size'],
     });
-    const powered = await eng.post('/api/plans').send(htrbBody({ kind: 'hotl', bias: { vceV: 20 } as PlanInput['bias'] }));
+    const powered = await eng.post('/api/plans').send(htrbBody({ kind: 'hotl', bias: { vceV: 20 } }));
     expect(powered.body.error.fields).toEqual({ 'bias.vceV': ['Powered plans need VCE and either IB or IC'] });
     const thb = await eng.post('/api/plans').send(htrbBody({ kind: 'thb' }));
     expect(thb.body.error.fields).toEqual({ humidityPct: ['Humidity plans need a relative humidity'] });
@@ -216,7 +219,7 @@ describe('plans', () => {
 
   it('an unsafe plan can be saved as a draft, with its blocking check stored (booking refuses it later)', async () => {
     const eng = await t.signIn('engineer');
-    const body = htrbBody({ name: 'Draft HTRB at 97 % VCBO', bias: { vcbV: 0.97 * 140 } as PlanInput['bias'] });
+    const body = htrbBody({ name: 'Draft HTRB at 97 % VCBO', bias: { vcbV: 0.97 * 140 } });
     const check = await eng.post('/api/plans/check').send(body);
     expect(check.body.blocking).toBe(true);
     const vcb = check.body.findings.find((f: { code: string }) => f.code === 'vcb-vs-bvcbo');
@@ -264,7 +267,7 @@ describe('plans', () => {
     );
     const list = await eng.get('/api/plans');
     const current = list.body.items.find((p: { planKey: string }) => p.planKey === v1.planKey);
-    const moved = await eng.post(`/api/plans/${current.id}/versions`).send(htrbBody({ deviceTypeId: ids['HPD-3P90'], bias: { vcbV: 80 } as PlanInput['bias'] }));
+    const moved = await eng.post(`/api/plans/${current.id}/versions`).send(htrbBody({ deviceTypeId: ids['HPD-3P90'], bias: { vcbV: 80 } }));
     expect(moved.status).toBe(422);
     expect(moved.body.error.message).toBe("A new version keeps the plan's device type (HPD-2N140). Start a new plan for another device type.");
     const missing = await eng.post('/api/plans/00000000-0000-4000-8000-000000000000/versions').send(htrbBody());
@@ -322,7 +325,7 @@ describe('demo seed', () => {
       expect(new Set(current.map((r) => r.kind))).toEqual(new Set(['htrb', 'hotl', 'iol', 'thb']));
       const blocked = current.filter((r) => r.checkResult?.blocking);
       expect(blocked.map((r) => r.name)).toEqual(['DRAFT powered life, forced IB 0.6 mA, 85 °C chamber']);
-      expect(blocked[0].checkResult!.findings.find((f: { code: string }) => f.code === 'thermal-runaway').severity).toBe('block');
+      expect(blocked[0].checkResult?.findings.find((f) => f.code === 'thermal-runaway')?.severity).toBe('block');
       const htrb = rows.filter((r) => r.kind === 'htrb').sort((a, b) => a.version - b.version);
       expect(htrb.map((r) => [r.version, r.current])).toEqual([[1, false], [2, true]]);
       expect(htrb[0].planKey).toBe(htrb[1].planKey);

@@ -37,8 +37,8 @@ test('a table on a wide window until the space it is given is narrower than minT
   act(() => fireEvent(screen.getByTestId('t'), 'layout', layout(700)));
   expect(mode('t')).toBe('cards');
   // Both rows are still there, one card each.
-  expect(screen.getByText('Intermittent operating life')).toBeTruthy();
-  expect(screen.getByText('Intermittent life')).toBeTruthy();
+  expect(screen.getByText('Intermittent operating life')).toBeOnTheScreen();
+  expect(screen.getByText('Intermittent life')).toBeOnTheScreen();
   // Wider again (the window grew): back to the table.
   act(() => fireEvent(screen.getByTestId('t'), 'layout', layout(1000)));
   expect(mode('t')).toBe('table');

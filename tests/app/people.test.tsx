@@ -13,11 +13,11 @@ beforeEach(() => setWidth(1440));
 test('lists people with role, status and last sign-in', async () => {
   mockFetch({ 'GET /api/auth/me': { status: 200, body: { user: admin } }, 'GET /api/users': { status: 200, body: { items: [admin, operator] } } });
   renderWithClient(<PeopleScreen />);
-  expect(await screen.findByText('Tomas Feld')).toBeTruthy();
-  expect(screen.getByText('Floor operator')).toBeTruthy();
+  expect(await screen.findByText('Tomas Feld')).toBeOnTheScreen();
+  expect(screen.getByText('Floor operator')).toBeOnTheScreen();
   expect(screen.getAllByText('Active')).toHaveLength(2);
-  expect(screen.getByText('Never')).toBeTruthy();
-  await waitFor(() => expect(screen.getByText('This is you')).toBeTruthy());
+  expect(screen.getByText('Never')).toBeOnTheScreen();
+  await waitFor(() => expect(screen.getByText('This is you')).toBeOnTheScreen());
 });
 
 test('deactivating asks first, then sends active: false', async () => {
@@ -29,9 +29,9 @@ test('deactivating asks first, then sends active: false', async () => {
   renderWithClient(<PeopleScreen />);
   fireEvent.press(await screen.findByRole('button', { name: 'Deactivate Tomas Feld' }));
   const dialog = screen.getByTestId('confirm-active');
-  expect(within(dialog).getByText(/will not be able to sign in/)).toBeTruthy();
+  expect(within(dialog).getByText(/will not be able to sign in/)).toBeOnTheScreen();
   fireEvent.press(within(dialog).getByRole('button', { name: 'Deactivate' }));
-  expect(await screen.findByText('Tomas Feld is deactivated and cannot sign in.')).toBeTruthy();
+  expect(await screen.findByText('Tomas Feld is deactivated and cannot sign in.')).toBeOnTheScreen();
   const patch = fetch.mock.calls.find(([, init]) => init?.method === 'PATCH')!;
   expect(JSON.parse(patch[1]!.body as string)).toEqual({ active: false });
 });
@@ -44,10 +44,10 @@ test('the add form shows field errors from the shared schema without calling the
   fireEvent.changeText(screen.getByLabelText('First password'), 'short');
   const calls = fetch.mock.calls.length;
   fireEvent.press(within(screen.getByTestId('add-person-form')).getByRole('button', { name: 'Add person' }));
-  expect(screen.getByText('Enter a name')).toBeTruthy();
-  expect(screen.getByText('Enter an e-mail address')).toBeTruthy();
-  expect(screen.getByText('Choose a role')).toBeTruthy();
-  expect(screen.getByText('Use at least 10 characters')).toBeTruthy();
+  expect(screen.getByText('Enter a name')).toBeOnTheScreen();
+  expect(screen.getByText('Enter an e-mail address')).toBeOnTheScreen();
+  expect(screen.getByText('Choose a role')).toBeOnTheScreen();
+  expect(screen.getByText('Use at least 10 characters')).toBeOnTheScreen();
   expect(fetch.mock.calls.length).toBe(calls);
 });
 
@@ -64,7 +64,7 @@ test('a duplicate e-mail from the API shows beside the field', async () => {
   fireEvent.press(screen.getByRole('radio', { name: 'Reliability engineer' }));
   fireEvent.changeText(screen.getByLabelText('First password'), 'a-long-first-password');
   fireEvent.press(within(screen.getByTestId('add-person-form')).getByRole('button', { name: 'Add person' }));
-  expect(await screen.findByText('Someone already uses that e-mail address.')).toBeTruthy();
+  expect(await screen.findByText('Someone already uses that e-mail address.')).toBeOnTheScreen();
 });
 
 test('a failed load shows the reason and a retry', async () => {
@@ -73,6 +73,6 @@ test('a failed load shows the reason and a retry', async () => {
     'GET /api/users': { status: 403, body: { error: { code: 'forbidden', message: 'Only administrators can see people.' } } },
   });
   renderWithClient(<PeopleScreen />);
-  expect(await screen.findByText('Only administrators can see people.')).toBeTruthy();
-  expect(screen.getByRole('button', { name: 'Try again' })).toBeTruthy();
+  expect(await screen.findByText('Only administrators can see people.')).toBeOnTheScreen();
+  expect(screen.getByRole('button', { name: 'Try again' })).toBeOnTheScreen();
 });

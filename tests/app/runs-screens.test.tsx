@@ -33,9 +33,9 @@ for (const w of [1440, 390]) {
       'GET /api/plans': { status: 200, body: { items: [] } },
     });
     renderWithClient(<ScheduleScreen />);
-    expect(await screen.findAllByText('HTRB-2611-A')).toBeTruthy();
+    expect(await screen.findByText('HTRB-2611-A')).toBeOnTheScreen();
     fireEvent.press(screen.getByText('Book a run'));
-    expect(await screen.findByText('Find rigs')).toBeTruthy();
+    expect(await screen.findByText('Find rigs')).toBeOnTheScreen();
   });
 }
 
@@ -48,11 +48,11 @@ test('run detail renders, checks a pasted column', async () => {
       flags: [{ socket: 1, serial: 'A0001', problem: 'duplicate', blocking: true, message: 'Serial A0001 is in socket 0 already.' }] } },
   });
   renderWithClient(<RunDetailScreen id={run.id} />);
-  expect(await screen.findByText('HTRB-2611-A')).toBeTruthy();
+  expect(await screen.findByText('HTRB-2611-A')).toBeOnTheScreen();
   expect(screen.getAllByText('Booked').length).toBe(2);
   fireEvent.changeText(screen.getByLabelText('Serials'), 'A0001\nA0001\n');
   fireEvent.press(screen.getByText('Check'));
-  expect(await screen.findByText('Serial A0001 is in socket 0 already.')).toBeTruthy();
+  expect(await screen.findByText('Serial A0001 is in socket 0 already.')).toBeOnTheScreen();
   const put = fetch.mock.calls.find((c) => (c[1] as RequestInit)?.method === 'PUT')!;
   expect(JSON.parse((put[1] as RequestInit).body as string)).toEqual({ rowVersion: 3, sockets: { 0: 'A0001', 1: 'A0001' }, dryRun: true });
 });

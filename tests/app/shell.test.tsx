@@ -43,22 +43,22 @@ describe('shell on a wide screen (side rail)', () => {
     const shown = ALL.filter((l) => screen.queryByRole('link', { name: l }));
     expect(shown).toEqual(['Floor', 'Alarms', 'Read points', 'Schedule']);
     expect(screen.queryByRole('link', { name: 'People' })).toBeNull();
-    expect(screen.getByText('Ines Brack')).toBeTruthy();
-    expect(screen.getByText('Floor operator')).toBeTruthy();
-    expect(screen.getByRole('button', { name: 'Sign out' })).toBeTruthy();
-    expect(screen.getByText('Page content')).toBeTruthy();
+    expect(screen.getByText('Ines Brack')).toBeOnTheScreen();
+    expect(screen.getByText('Floor operator')).toBeOnTheScreen();
+    expect(screen.getByRole('button', { name: 'Sign out' })).toBeOnTheScreen();
+    expect(screen.getByText('Page content')).toBeOnTheScreen();
   });
 
   test('an admin sees People and Mail log but not Plans', () => {
     renderShell('admin', '/people');
-    expect(screen.getByRole('link', { name: 'People' })).toBeTruthy();
-    expect(screen.getByRole('link', { name: 'Mail log' })).toBeTruthy();
+    expect(screen.getByRole('link', { name: 'People' })).toBeOnTheScreen();
+    expect(screen.getByRole('link', { name: 'Mail log' })).toBeOnTheScreen();
     expect(screen.queryByRole('link', { name: 'Plans' })).toBeNull();
   });
 
   test("a page of another role is not shown", () => {
     renderShell('operator', '/people');
-    expect(screen.getByTestId('not-for-role')).toBeTruthy();
+    expect(screen.getByTestId('not-for-role')).toBeOnTheScreen();
     expect(screen.queryByText('Page content')).toBeNull();
   });
 });
@@ -70,7 +70,7 @@ describe('shell on a phone (bottom tabs)', () => {
     renderShell('operator');
     const tabs = screen.getAllByRole('link').map((t) => t.props.accessibilityLabel);
     expect(tabs).toEqual(['Floor', 'Alarms', 'Read points', 'Schedule']);
-    expect(screen.getByRole('button', { name: 'More' })).toBeTruthy();
+    expect(screen.getByRole('button', { name: 'More' })).toBeOnTheScreen();
     expect(screen.queryByRole('link', { name: 'People' })).toBeNull();
   });
 
@@ -80,9 +80,9 @@ describe('shell on a phone (bottom tabs)', () => {
     expect(screen.queryByRole('link', { name: 'Rigs' })).toBeNull();
     fireEvent.press(screen.getByRole('button', { name: 'More' }));
     for (const l of ['Devices & lots', 'Schedule', 'Lot trends', 'Rigs', 'Your account']) {
-      expect(screen.getByRole('link', { name: l })).toBeTruthy();
+      expect(screen.getByRole('link', { name: l })).toBeOnTheScreen();
     }
-    expect(screen.getByRole('button', { name: 'Sign out' })).toBeTruthy();
+    expect(screen.getByRole('button', { name: 'Sign out' })).toBeOnTheScreen();
   });
 });
 
@@ -94,7 +94,7 @@ describe('ShellLayout (session guard)', () => {
     setWidth(1440);
     mockFetch({ 'GET /api/auth/me': { status: 401, body: { error: { code: 'unauthenticated', message: 'Sign in first.' } } } });
     renderWithClient(<ShellLayout />);
-    expect(await screen.findByText('Redirect to /sign-in')).toBeTruthy();
+    expect(await screen.findByText('Redirect to /sign-in')).toBeOnTheScreen();
     expect(screen.queryByRole('link', { name: 'Floor' })).toBeNull();
   });
 
@@ -102,8 +102,8 @@ describe('ShellLayout (session guard)', () => {
     setWidth(1440);
     mockFetch({ 'GET /api/auth/me': { status: 200, body: { user: user('manager') } } });
     renderWithClient(<ShellLayout />);
-    expect(await screen.findByRole('link', { name: 'Lot trends' })).toBeTruthy();
+    expect(await screen.findByRole('link', { name: 'Lot trends' })).toBeOnTheScreen();
     expect(screen.queryByRole('link', { name: 'Floor' })).toBeNull();
-    expect(screen.getByText('Page content')).toBeTruthy();
+    expect(screen.getByText('Page content')).toBeOnTheScreen();
   });
 });

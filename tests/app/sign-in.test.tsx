@@ -20,10 +20,10 @@ function fillAndSubmit(email: string, password: string) {
 
 test('renders the sign-in form with a line on what Emberlot is', () => {
   renderWithClient(<SignInScreen />);
-  expect(screen.getByRole('heading', { name: 'Sign in' })).toBeTruthy();
-  expect(screen.getByLabelText('E-mail')).toBeTruthy();
-  expect(screen.getByLabelText('Password')).toBeTruthy();
-  expect(screen.getByText(/accelerated stress runs/)).toBeTruthy();
+  expect(screen.getByRole('heading', { name: 'Sign in' })).toBeOnTheScreen();
+  expect(screen.getByLabelText('E-mail')).toBeOnTheScreen();
+  expect(screen.getByLabelText('Password')).toBeOnTheScreen();
+  expect(screen.getByText(/accelerated stress runs/)).toBeOnTheScreen();
 });
 
 test('posts the typed credentials to the sign-in endpoint and opens the role home', async () => {
@@ -45,7 +45,7 @@ test("shows the API's message on a 401 and stays on the page", async () => {
   mockFetch({ 'POST /api/auth/sign-in': { status: 401, body: { error: { code: 'unauthenticated', message: 'Wrong e-mail or password.' } } } });
   renderWithClient(<SignInScreen />);
   fillAndSubmit('mara.quint@harrowgate.example', 'not it');
-  expect(await screen.findByText('Wrong e-mail or password.')).toBeTruthy();
+  expect(await screen.findByText('Wrong e-mail or password.')).toBeOnTheScreen();
   expect(router.replace).not.toHaveBeenCalled();
 });
 
@@ -53,21 +53,21 @@ test('shows a throttling message from the API as it is', async () => {
   mockFetch({ 'POST /api/auth/sign-in': { status: 429, body: { error: { code: 'too_many_requests', message: 'Too many attempts. Try again in 15 minutes.' } } } });
   renderWithClient(<SignInScreen />);
   fillAndSubmit('mara.quint@harrowgate.example', 'whatever');
-  expect(await screen.findByText('Too many attempts. Try again in 15 minutes.')).toBeTruthy();
+  expect(await screen.findByText('Too many attempts. Try again in 15 minutes.')).toBeOnTheScreen();
 });
 
 test('checks the form before calling the API', () => {
   const fetch = mockFetch({});
   renderWithClient(<SignInScreen />);
   fillAndSubmit('not-an-address', '');
-  expect(screen.getByText('Enter an e-mail address')).toBeTruthy();
-  expect(screen.getByText('Enter your password')).toBeTruthy();
+  expect(screen.getByText('Enter an e-mail address')).toBeOnTheScreen();
+  expect(screen.getByText('Enter your password')).toBeOnTheScreen();
   expect(fetch).not.toHaveBeenCalled();
 });
 
 test('says the session has ended when sent here after a 401', () => {
   useLocalSearchParams.mockReturnValue({ ended: '1' });
   renderWithClient(<SignInScreen />);
-  expect(screen.getByText('Your session has ended. Sign in again.')).toBeTruthy();
+  expect(screen.getByText('Your session has ended. Sign in again.')).toBeOnTheScreen();
   useLocalSearchParams.mockReturnValue({});
 });

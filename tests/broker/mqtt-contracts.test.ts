@@ -203,7 +203,9 @@ describe('telemetry in column form', () => {
     });
     expect(parseTelemetry(Buffer.from(text))).toEqual({ ok: true, data: telemetryFromReadings({ ...good(), v: 2 }) });
     expect(parseTelemetry(JSON.stringify(good()))).toEqual({ ok: true, data: telemetryFromReadings(good()) });
-    expect(telemetryColumnsText((parseTelemetry(text) as { data: Telemetry }).data)).toBe(text);
+    const parsed = parseTelemetry(text);
+    if (!parsed.ok) throw new Error(parsed.reason);
+    expect(telemetryColumnsText(parsed.data)).toBe(text);
     // A v1 message of 64 sockets against its column form: well under half the bytes.
     const big = { ...good(), sockets: Array.from({ length: 64 }, (_, i) => ({ i, caseC: 95.37, vV: 20, iA: 0.29871, biasOn: true, tripped: false })) };
     expect(telemetryColumnsText(big).length).toBeLessThan(0.45 * JSON.stringify(big).length);

@@ -14,7 +14,6 @@ import type { AppContext } from '../../server/context';
 import { AlarmEntity, RunSocketEntity, UserEntity } from '../../server/db/entities';
 import { startMailSink, type MailSink } from '../../server/mail-sink/mail-sink';
 import { startProtectionFeature, type ProtectionFeature } from '../../server/modules/protection/start';
-import { type RigLink } from '../../server/modules/telemetry/contracts';
 import { startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
 import { createTestDb, type TestDb } from '../support/db';
 import { waitFor } from './mqtt-test-helpers';

@@ -15,7 +15,7 @@ import { startMailSink, type MailSink } from '../../server/mail-sink/mail-sink';
 import { startProtectionFeature, type ProtectionFeature } from '../../server/modules/protection/start';
 import { tripCmdId } from '../../server/modules/protection/protection.monitor';
 import { createTestApp, emailFor, type TestApp } from '../support/api';
-import { FakeRigLink, HEALTHY, SocketSim, createRunFixture, driveTelemetry, type DriveSpec, type RigSims, type RunFixture, type SentCommand, type SocketModel } from './protection-fixtures';
+import { FakeRigLink, HEALTHY, SocketSim, createRunFixture, driveTelemetry, type DriveSpec, type RigSims, type SentCommand, type SocketModel } from './protection-fixtures';
 
 let t: TestApp;
 let sink: MailSink;

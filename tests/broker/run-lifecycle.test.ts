@@ -111,9 +111,9 @@ afterAll(async () => {
 const operator = { id: randomUUID(), email: 'operator@test.example', name: 'Test operator', role: 'operator' as const };
 
 async function samplesBetween(fromSeq: number, toSeq: number): Promise<ClockSample[]> {
-  const b: Array<Record<string, any>> = await db.ds.query(
+  const b: Array<Record<string, unknown>> = await db.ds.query(
     `SELECT seq, stress_clock_s, chamber_c, humidity_pct FROM telemetry_batches WHERE rig_id = $1 AND seq BETWEEN $2 AND $3 ORDER BY seq`, [rigId, fromSeq, toSeq]);
-  const s: Array<Record<string, any>> = await db.ds.query(
+  const s: Array<Record<string, unknown> & { bias_on: boolean; tripped: boolean }> = await db.ds.query(
     `SELECT seq, socket, v_v, bias_on, tripped FROM telemetry_samples WHERE rig_id = $1 AND seq BETWEEN $2 AND $3 ORDER BY seq, socket`, [rigId, fromSeq, toSeq]);
   return b.map((x) => ({
     seq: Number(x.seq), clockS: Number(x.stress_clock_s), chamberC: Number(x.chamber_c), humidityPct: null,

@@ -304,9 +304,9 @@ async function count(ds: DataSource, sql: string, params: unknown[]): Promise<nu
 }
 
 async function storedSamples(ds: DataSource, rigId: string, fromSeq: number, toSeq: number): Promise<ClockSample[]> {
-  const b: Array<Record<string, any>> = await ds.query(
+  const b: Array<Record<string, unknown>> = await ds.query(
     `SELECT seq, stress_clock_s, chamber_c, humidity_pct FROM telemetry_batches WHERE rig_id = $1 AND seq BETWEEN $2 AND $3 ORDER BY seq`, [rigId, fromSeq, toSeq]);
-  const s: Array<Record<string, any>> = await ds.query(
+  const s: Array<Record<string, unknown> & { bias_on: boolean; tripped: boolean }> = await ds.query(
     `SELECT seq, socket, v_v, bias_on, tripped FROM telemetry_samples WHERE rig_id = $1 AND seq BETWEEN $2 AND $3 ORDER BY seq, socket`, [rigId, fromSeq, toSeq]);
   const bySeq = new Map<number, ClockSample['sockets']>();
   for (const y of s) {
@@ -323,7 +323,7 @@ async function storedSamples(ds: DataSource, rigId: string, fromSeq: number, toS
 
 /** The audit trail of the run's stressing phases: [start seq, end seq] pairs. */
 async function phases(ds: DataSource, runId: string) {
-  const rows: Array<{ action: string; details: Record<string, any> }> = await ds.query(
+  const rows: Array<{ action: string; details: Record<string, unknown> }> = await ds.query(
     `SELECT action, details FROM audit_log WHERE entity = 'run' AND entity_id = $1 AND action IN ('run.ambient-reached', 'run.read-point', 'run.stress-complete') ORDER BY id`,
     [runId],
   );

@@ -72,7 +72,7 @@ export function spawnTs(name: string, file: string, env: Env, echo = process.env
       dropped += text.length - 65_536;
       text = text.slice(-65_536);
     }
-    for (const l of s.split('\n')) if (l.trim()) all.length < 20_000 && all.push(l);
+    for (const l of s.split('\n')) if (l.trim() && all.length < 20_000) all.push(l);
     if (echo) process.stdout.write(s.split('\n').filter(Boolean).map((l) => `[${name}] ${l}\n`).join(''));
   };
   child.stdout!.on('data', on);
@@ -203,12 +203,12 @@ export async function startApiProcess(env: Env): Promise<NodeProcess> {
 
 export interface ApiClient {
   signIn(email: string, password: string): Promise<void>;
-  request<T = any>(method: string, urlPath: string, body?: unknown): Promise<{ status: number; body: T }>;
+  request<T = unknown>(method: string, urlPath: string, body?: unknown): Promise<{ status: number; body: T }>;
 }
 
 export function apiClient(baseUrl: string): ApiClient {
   let cookie = '';
-  const request = async (method: string, urlPath: string, body?: unknown) => {
+  const request = async <T,>(method: string, urlPath: string, body?: unknown): Promise<{ status: number; body: T }> => {
     const res = await fetch(`${baseUrl}${urlPath}`, {
       method,
       headers: { 'content-type': 'application/json', ...(cookie ? { cookie } : {}) },
@@ -225,7 +225,7 @@ export function apiClient(baseUrl: string): ApiClient {
     } catch {
       /* not JSON */
     }
-    return { status: res.status, body: parsed as any };
+    return { status: res.status, body: parsed as T };
   };
   return {
     request,

@@ -17,6 +17,7 @@ export class AlarmEntity {
   @Column({ type: 'varchar', length: 200 }) title: string;
   /** Plain-language message with the numbers and what to do. */
   @Column({ type: 'text' }) message: string;
+  // eslint-disable-next-line @typescript-eslint/no-explicit-any -- TypeORM's insert/update typing cannot take `unknown` inside a jsonb column
   @Column({ type: 'jsonb', default: () => "'{}'" }) details: Record<string, any>;
   /** Only one open alarm per key (kind + rig + socket): repeats update it instead of piling up. */
   @Index() @Column({ type: 'varchar', length: 120 }) dedupeKey: string;

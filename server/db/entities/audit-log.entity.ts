@@ -13,5 +13,6 @@ export class AuditLogEntity {
   @Column({ type: 'varchar', length: 32 }) entity: string;
   @Column({ type: 'varchar', length: 64, nullable: true }) entityId: string | null;
   @Column({ type: 'text', nullable: true }) reason: string | null;
+  // eslint-disable-next-line @typescript-eslint/no-explicit-any -- TypeORM's insert/update typing cannot take `unknown` inside a jsonb column
   @Column({ type: 'jsonb', default: () => "'{}'" }) details: Record<string, any>;
 }

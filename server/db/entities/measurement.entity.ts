@@ -1,6 +1,7 @@
 import { Column, CreateDateColumn, Entity, Index, JoinColumn, ManyToOne, PrimaryGeneratedColumn } from 'typeorm';
 import { DeviceEntity } from './lot.entity';
 import { RunEntity } from './run.entity';
+import type { RowResult } from '../../../shared/schemas/measurements';
 
 /** One device's parametric reading at one read point of a run (read point 0 = time zero). */
 @Entity('measurements')
@@ -44,7 +45,7 @@ export class MeasurementUploadEntity {
   @Column({ type: 'int' }) rowsTotal: number;
   @Column({ type: 'int' }) rowsStored: number;
   @Column({ type: 'int' }) rowsRejected: number;
-  @Column({ type: 'jsonb', default: () => "'[]'" }) rowErrors: Array<Record<string, any>>;
+  @Column({ type: 'jsonb', default: () => "'[]'" }) rowErrors: RowResult[];
   @Column({ type: 'uuid', nullable: true }) uploadedById: string | null;
   @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
 }

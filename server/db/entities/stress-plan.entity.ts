@@ -1,5 +1,5 @@
 import { Column, CreateDateColumn, Entity, Index, JoinColumn, ManyToOne, PrimaryGeneratedColumn } from 'typeorm';
-import type { Bias, Criteria, PlanKind } from '../../../shared/schemas/plans';
+import type { Bias, Criteria, PlanCheckResult, PlanInput, PlanKind } from '../../../shared/schemas/plans';
 import { DeviceTypeEntity } from './device-type.entity';
 
 /**
@@ -28,11 +28,11 @@ export class StressPlanEntity {
   @Column({ type: 'jsonb' }) criteria: Criteria;
   @Column({ type: 'double precision', default: 0.7 }) eaEv: number;
   @Column({ type: 'double precision', default: 55 }) useC: number;
-  @Column({ type: 'jsonb', nullable: true }) cycle: Record<string, any> | null;
+  @Column({ type: 'jsonb', nullable: true }) cycle: PlanInput['cycle'];
   @Column({ type: 'double precision', default: 0.8 }) breakdownDerating: number;
   @Column({ type: 'text', default: '' }) notes: string;
   /** The plan check as computed when this version was saved (findings, numbers, constants). */
-  @Column({ type: 'jsonb', nullable: true }) checkResult: Record<string, any> | null;
+  @Column({ type: 'jsonb', nullable: true }) checkResult: PlanCheckResult | null;
   /** Only the newest version of a plan is current; older ones stay for the runs that use them. */
   @Column({ type: 'boolean', default: true }) current: boolean;
   @Column({ type: 'uuid', nullable: true }) createdById: string | null;

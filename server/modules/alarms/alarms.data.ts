@@ -28,7 +28,9 @@ export async function alarmPage(m: EntityManager, q: AlarmListQuery): Promise<[A
 }
 
 /** Unacknowledged alarms counted per rig, severity and whether the condition still holds. */
-export function openAlarmCounts(m: EntityManager): Promise<Array<{ rig_id: string | null; severity: AlarmSeverityName; active: boolean; n: number }>> {
+export function openAlarmCounts(
+  m: EntityManager,
+): Promise<Array<{ rig_id: string | null; severity: AlarmSeverityName; active: boolean; n: number }>> {
   return m.query(
     `SELECT rig_id, severity, (cleared_at IS NULL) AS active, count(*)::int AS n
        FROM alarms WHERE acknowledged_at IS NULL GROUP BY rig_id, severity, (cleared_at IS NULL)`,

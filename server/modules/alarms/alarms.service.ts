@@ -147,7 +147,7 @@ export class AlarmsService {
       where: { clearedAt: IsNull(), kind: In([...kinds] as AlarmEntity['kind'][]) },
       select: { dedupeKey: true, kind: true, rigId: true, socketIndex: true },
     });
-    return rows.map((r) => ({ key: r.dedupeKey, kind: r.kind as AlarmKindName, rigId: r.rigId, socketIndex: r.socketIndex }));
+    return rows.map((r) => ({ key: r.dedupeKey, kind: r.kind, rigId: r.rigId, socketIndex: r.socketIndex }));
   }
 
   async list(q: AlarmListQuery): Promise<AlarmList> {

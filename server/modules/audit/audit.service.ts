@@ -24,6 +24,7 @@ export class AuditService {
       entity: e.entity,
       entityId: e.entityId ?? null,
       reason: e.reason ?? null,
+      // eslint-disable-next-line @typescript-eslint/no-explicit-any -- TypeORM's insert typing cannot take `unknown` values in a jsonb column
       details: (e.details ?? {}) as Record<string, any>,
     });
   }

@@ -1,11 +1,11 @@
 import connectPgSimple from 'connect-pg-simple';
-import type { Express, NextFunction, Request, Response } from 'express';
+import type { Express } from 'express';
 import { rateLimit } from 'express-rate-limit';
 import session from 'express-session';
 import { Strategy as LocalStrategy } from 'passport-local';
 import { signInSchema, type SessionUser } from '../../../shared/schemas/auth';
 import type { AppContext } from '../../context';
-import { AppError, unauthenticated } from '../../http/errors';
+import { AppError } from '../../http/errors';
 import { ApiRouter, SESSION_COOKIE } from '../../http/route';
 import { UserEntity } from '../../db/entities';
 import { pgPool } from '../../db/pool';
@@ -44,7 +44,7 @@ export function installAuth(app: Express, ctx: AppContext): AuthService {
       );
     }),
   );
-  passport.serializeUser((u, done) => done(null, (u as SessionUser).id));
+  passport.serializeUser((u, done) => done(null, u.id));
   passport.deserializeUser((id: string, done) => {
     auth.load(id).then((u) => done(null, u ?? false), done);
   });
@@ -104,7 +104,3 @@ export function authRoutes(ctx: AppContext): ApiRouter {
   return r;
 }
 
-export function requireSignedIn(req: Request, _res: Response, next: NextFunction) {
-  if (!req.user) return next(unauthenticated());
-  next();
-}

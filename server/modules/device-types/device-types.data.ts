@@ -2,7 +2,10 @@
 import type { EntityManager } from 'typeorm';
 
 /** Per device type: its lots, the devices in them and its current plans. */
-export function deviceTypeUsage(m: EntityManager, ids: string[]): Promise<Array<{ id: string; lots: number; devices: number; plans: number }>> {
+export function deviceTypeUsage(
+  m: EntityManager,
+  ids: string[],
+): Promise<Array<{ id: string; lots: number; devices: number; plans: number }>> {
   return m.query(
     `SELECT dt.id,
             (SELECT count(*)::int FROM lots l WHERE l.device_type_id = dt.id) AS lots,

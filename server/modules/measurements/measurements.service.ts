@@ -12,7 +12,6 @@ import {
   type UploadFields,
   type UploadResult,
 } from '../../../shared/schemas/measurements';
-import type { Criteria } from '../../../shared/schemas/plans';
 import { DeviceEntity, LotEntity, MeasurementEntity, MeasurementUploadEntity, RunEntity, RunSocketEntity } from '../../db/entities';
 import { conflict, unprocessable } from '../../http/errors';
 import type { AuditService } from '../audit/audit.service';
@@ -168,7 +167,7 @@ export class MeasurementsService {
     }
     const base = { runId: p.runId, readPointH: p.hours, fileName, fileSha256: sha, notes: [REUPLOAD_RULE] };
     if (previous && !p.preview) {
-      const rows = (previous.rowErrors ?? []) as RowResult[];
+      const rows: RowResult[] = previous.rowErrors ?? [];
       return {
         status: 200,
         body: {
@@ -225,7 +224,7 @@ export class MeasurementsService {
             rowsTotal: body.rowsTotal,
             rowsStored: body.stored + body.unchanged,
             rowsRejected: body.rejected,
-            rowErrors: body.rows.filter((r) => r.outcome === 'rejected') as unknown as Array<Record<string, unknown>>,
+            rowErrors: body.rows.filter((r) => r.outcome === 'rejected'),
             uploadedById: actor.id,
           }),
         );
@@ -453,7 +452,7 @@ export function runDrift(b: DriftSource, ms: readonly DriftReading[], opts: { re
     else byDevice.set(x.deviceId, [x]);
   }
   const gain = { referenceC: b.deviceType.betaRefTC, xtb: b.deviceType.xtb };
-  const criteria = b.plan.criteria as Criteria;
+  const criteria = b.plan.criteria;
   return {
     runId: b.run.id,
     runCode: b.run.code,

@@ -8,7 +8,6 @@ import {
   DeviceEntity,
   DeviceTypeEntity,
   LotEntity,
-  MeasurementEntity,
   RigEntity,
   RunEntity,
   RunLotEntity,
@@ -83,7 +82,3 @@ export async function runDevices(m: EntityManager, runIds: string[]): Promise<Ma
   return out;
 }
 
-export async function runMeasurements(m: EntityManager, runIds: string[]): Promise<MeasurementEntity[]> {
-  if (!runIds.length) return [];
-  return m.find(MeasurementEntity, { where: { runId: In(runIds) }, order: { readPointH: 'ASC' } });
-}

@@ -21,7 +21,7 @@ import { runPlanCheck } from './plan-check-result';
 const deviceRef = (d: DeviceTypeEntity) => ({ id: d.id, partNumber: d.partNumber, kind: d.kind, polarity: d.polarity });
 
 function statusOf(e: StressPlanEntity): CheckStatus {
-  const c = e.checkResult as PlanCheckResult | null;
+  const c = e.checkResult;
   return c?.status ?? 'none';
 }
 
@@ -41,7 +41,7 @@ export function toPlanInput(e: StressPlanEntity): PlanInput {
     criteria: e.criteria,
     eaEv: e.eaEv,
     useC: e.useC,
-    cycle: (e.cycle as PlanInput['cycle']) ?? null,
+    cycle: e.cycle ?? null,
     breakdownDerating: e.breakdownDerating,
     notes: e.notes,
   };
@@ -56,14 +56,14 @@ function toPlan(e: StressPlanEntity, device: DeviceTypeEntity, createdBy: UserEn
     ...toPlanInput(e),
     device: deviceRef(device),
     checkStatus: statusOf(e),
-    checkResult: (e.checkResult as PlanCheckResult | null) ?? null,
+    checkResult: e.checkResult ?? null,
     createdAt: e.createdAt.toISOString(),
     createdBy: createdBy ? { id: createdBy.id, name: createdBy.name } : null,
   };
 }
 
 function toSummary(e: StressPlanEntity, device: DeviceTypeEntity): PlanSummary {
-  const findings = (e.checkResult as PlanCheckResult | null)?.findings ?? [];
+  const findings = e.checkResult?.findings ?? [];
   return {
     id: e.id,
     planKey: e.planKey,

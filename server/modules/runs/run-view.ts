@@ -1,7 +1,6 @@
 /** Entities → API objects for runs (entities never leave the server). Batched for lists. */
 import { In, type EntityManager } from 'typeorm';
 import { planBiasV } from '../../../shared/scheduling';
-import type { PlanCheckResult } from '../../../shared/schemas/plans';
 import {
   allowedActions,
   RUN_STATE_LABEL,
@@ -40,7 +39,7 @@ export function planRef(p: StressPlanEntity): RunPlanRef {
     durationH: p.durationH,
     readPointsH: sortedReadPoints(p),
     biasV: planBiasV(p),
-    checkStatus: ((p.checkResult as PlanCheckResult | null)?.status ?? 'none') as RunPlanRef['checkStatus'],
+    checkStatus: p.checkResult?.status ?? 'none',
   };
 }
 
@@ -111,7 +110,7 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
 }
 
 export async function runSockets(m: EntityManager, runId: string): Promise<RunSocket[]> {
-  const rows: Array<Record<string, any>> = await m.query(
+  const rows: Array<{ socket: number; serial: string; lot: string; hours: number | string; tripped: boolean; reason: string | null; failed: number | string | null }> = await m.query(
     `SELECT s.socket_index AS socket, d.serial, l.code AS lot, s.accrued_hours AS hours, s.tripped, s.trip_reason AS reason, s.failed_at_h AS failed
      FROM run_sockets s JOIN devices d ON d.id = s.device_id JOIN lots l ON l.id = d.lot_id
      WHERE s.run_id = $1 ORDER BY s.socket_index`,

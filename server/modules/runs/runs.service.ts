@@ -18,7 +18,6 @@ import {
   type TimingOptions,
 } from '../../../shared/scheduling';
 import type { SessionUser } from '../../../shared/schemas/auth';
-import type { PlanCheckResult } from '../../../shared/schemas/plans';
 import {
   allowedActions,
   HEAT_STATES,
@@ -215,7 +214,7 @@ export class RunsService {
         `${lots.length === 1 ? `Lot ${lots[0].code} has` : `Lots ${lots.map((l) => l.code).join(', ')} have`} ${registered} registered devices; the run needs ${input.sampleSize}.`,
       );
     }
-    let check = plan.checkResult as PlanCheckResult | null;
+    let check = plan.checkResult;
     if (!check) check = runPlanCheck({ id: type.id, ...toDeviceTypeInput(type) }, toPlanInput(plan), this.ctx.now());
     const blockingFindings = check.findings.filter((f) => f.severity === 'block').map((f) => ({ code: f.code, title: f.title, explanation: f.explanation }));
     return { plan, type, lots, problems, blockingFindings };

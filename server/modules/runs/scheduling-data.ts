@@ -10,7 +10,6 @@ import {
   runDurationMs,
   type Commitment,
   type MaintenanceWindow,
-  type RigCapability,
   type TimingOptions,
 } from '../../../shared/scheduling';
 import { ON_RIG_STATES, type RunState } from '../../../shared/schemas/runs';
@@ -29,18 +28,6 @@ export function timingFrom(config: Pick<ServerConfig, 'clockRate'>, env: NodeJS.
     msPerClockH: msPerClockHFor(config.clockRate),
   };
 }
-
-export const toCapability = (r: RigEntity): RigCapability => ({
-  id: r.id,
-  code: r.code,
-  socketCount: r.socketCount,
-  maxTempC: r.maxTempC,
-  maxVoltageV: r.maxVoltageV,
-  humidityCapable: r.humidityCapable,
-  maxHumidityPct: r.maxHumidityPct,
-  active: r.active,
-  online: r.online,
-});
 
 /**
  * Expected end of a run: a booked run keeps its window; a run on the rig ends after its remaining

@@ -11,7 +11,10 @@ export interface BatchRow {
   storedAt: Date;
 }
 
-const toBatch = (r: Record<string, any>): BatchRow => ({
+/** A telemetry_batches row as pg returns it (bigint as a string, timestamptz as a Date). */
+type BatchSqlRow = Record<'seq' | 'stress_clock_s' | 'chamber_c' | 'humidity_pct' | 'setpoint_c', unknown> & { stored_at: Date | string };
+
+const toBatch = (r: BatchSqlRow): BatchRow => ({
   seq: Number(r.seq),
   clockS: Number(r.stress_clock_s),
   chamberC: Number(r.chamber_c),
@@ -46,7 +49,7 @@ export async function batchesAfter(m: EntityManager, rigId: string, afterSeq: nu
 export async function socketSamples(m: EntityManager, rigId: string, fromSeq: number, toSeq: number, sockets: number[]): Promise<Map<number, SocketSample[]>> {
   const out = new Map<number, SocketSample[]>();
   if (!sockets.length || toSeq < fromSeq) return out;
-  const rows: Array<Record<string, any>> = await m.query(
+  const rows: Array<Record<string, unknown>> = await m.query(
     `SELECT seq, socket, v_v, bias_on, tripped FROM telemetry_samples
      WHERE rig_id = $1 AND seq >= $2 AND seq <= $3 AND socket = ANY($4::smallint[]) ORDER BY seq, socket`,
     [rigId, fromSeq, toSeq, sockets],

@@ -38,7 +38,10 @@ export function readPointHoldsBefore(m: EntityManager, before: Date): Promise<He
 
 /** Has the run any measurement at this read point? */
 export async function hasMeasurementAt(m: EntityManager, runId: string, readPointH: number): Promise<boolean> {
-  const rows: unknown[] = await m.query(`SELECT 1 FROM measurements WHERE run_id = $1 AND abs(read_point_h - $2) < 1e-6 LIMIT 1`, [runId, readPointH]);
+  const rows: unknown[] = await m.query(`SELECT 1 FROM measurements WHERE run_id = $1 AND abs(read_point_h - $2) < 1e-6 LIMIT 1`, [
+    runId,
+    readPointH,
+  ]);
   return rows.length > 0;
 }
 

@@ -1,9 +1,11 @@
 /**
  * One ingest batch, one transaction: telemetry batches (de-duplicated on (rig_id, seq)), the
- * socket samples of the newly inserted messages only (COPY), per-minute rollups (this batch's, or
- * the ones the ingest deferred: rollups.ts), the rigs' live
- * columns, rejected messages and the durable counters. Nothing here talks MQTT or emits events:
- * the caller does that after COMMIT with what this returns.
+ * socket samples of the newly inserted messages only (COPY), the per-minute rollups the ingest
+ * held back (rollups.ts), the rigs' live columns, rejected messages and the durable counters.
+ * Nothing here talks MQTT or emits events: the caller does that after COMMIT with what this returns.
+ *
+ * Round trips, in order: BEGIN + rig lookup, headers, (stored copies of duplicates), COPY,
+ * (rollups), (rig rows), (rejections), counters, COMMIT — each step is one function below.
  */
 import { Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
@@ -11,18 +13,15 @@ import type { Pool, PoolClient } from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
 // From the modules themselves, not shared/mqtt's index: its re-exports compile to one shared keyed
 // getter, which V8 does not inline (it was ~4 % of the ingest's CPU in the per-socket loops).
-import { FLAG_BIAS_ON, FLAG_TRIPPED, type RigStatus, type Telemetry } from '../../../shared/mqtt/payloads';
+import { type RigStatus, type Telemetry } from '../../../shared/mqtt/payloads';
 import { RIG_CODE_PATTERN } from '../../../shared/mqtt/topics';
 import type { RigStatusChanged, TelemetryLanded } from './contracts';
-import { rollupsOf, upsertRollups, type RollupRow } from './rollups';
+import { upsertRollups, type RollupRow } from './rollups';
 
 export type IngestItem =
   | { kind: 'telemetry'; rigCode: string; msg: Telemetry; receivedAt: Date }
   | { kind: 'status'; rigCode: string; status: RigStatus; receivedAt: Date }
   | { kind: 'reject'; topic: string; rigCode: string | null; reason: string; excerpt: string; receivedAt: Date };
-
-/** How socket rows go in: COPY (measured faster, the default) or one multi-row INSERT … SELECT unnest. */
-export type SamplesMode = 'copy' | 'insert';
 
 export interface BatchResult {
   /** Every telemetry seq of a known rig in this batch (new and duplicate), for `stored`. */
@@ -38,13 +37,12 @@ export interface BatchResult {
 export interface BatchExtras {
   /** Counter deltas to add in the same transaction (e.g. ingest_dropped, rejections not kept). */
   counters?: Record<string, number>;
-  samplesMode?: SamplesMode;
   /**
-   * Rollups: 'inline' (default: this batch's own, upserted in this transaction — tools and tests)
-   * or the rows the ingest's accumulator hands over (possibly none); with rows the write also
-   * moves the recovery watermark (rollups.ts).
+   * Rollup rows the ingest's accumulator hands over (none most of the time); with rows the write
+   * also moves the recovery watermark (rollups.ts). A batch's own rollups are folded by the caller
+   * after COMMIT (RollupAccumulator.add(result.landed)) and go out with a later write.
    */
-  rollups?: 'inline' | RollupRow[];
+  rollups?: RollupRow[];
 }
 
 /** Counter names in system_counters. */
@@ -116,27 +114,6 @@ export function sampleCopyChunks(rows: Array<{ rigId: string; msg: Telemetry }>)
 async function copySamples(client: PoolClient, rows: Array<{ rigId: string; msg: Telemetry }>): Promise<void> {
   const stream = client.query(copyFrom('COPY telemetry_samples (rig_id, seq, socket, case_c, v_v, i_a, bias_on, tripped) FROM STDIN'));
   await pipeline(Readable.from(sampleCopyChunks(rows)), stream);
-}
-
-async function insertSamples(client: PoolClient, rows: Array<{ rigId: string; msg: Telemetry }>): Promise<void> {
-  const cols: [string[], number[], number[], number[], number[], number[], boolean[], boolean[]] = [[], [], [], [], [], [], [], []];
-  for (const { rigId, msg } of rows) {
-    for (let k = 0; k < msg.socket.length; k++) {
-      cols[0].push(rigId);
-      cols[1].push(msg.seq);
-      cols[2].push(msg.socket[k]);
-      cols[3].push(msg.caseC[k]);
-      cols[4].push(msg.vV[k]);
-      cols[5].push(msg.iA[k]);
-      cols[6].push((msg.flags[k] & FLAG_BIAS_ON) !== 0);
-      cols[7].push((msg.flags[k] & FLAG_TRIPPED) !== 0);
-    }
-  }
-  await client.query(
-    `INSERT INTO telemetry_samples (rig_id, seq, socket, case_c, v_v, i_a, bias_on, tripped)
-     SELECT * FROM unnest($1::uuid[], $2::bigint[], $3::smallint[], $4::real[], $5::real[], $6::float8[], $7::boolean[], $8::boolean[])`,
-    cols,
-  );
 }
 
 async function addCounters(client: PoolClient, deltas: Record<string, number>): Promise<void> {
@@ -217,12 +194,78 @@ async function beginAndFindRigs(client: PoolClient, items: IngestItem[]): Promis
   return rigs;
 }
 
-async function writeInTransaction(client: PoolClient, items: IngestItem[], extras: BatchExtras, rigs: Map<string, RigRow>): Promise<BatchResult> {
+interface Rejection {
+  topic: string;
+  rigCode: string | null;
+  reason: string;
+  excerpt: string;
+  at: Date;
+}
 
-  const rejects: Array<{ topic: string; rigCode: string | null; reason: string; excerpt: string; at: Date }> = [];
-  const telemetry: Array<{ rig: RigRow; msg: Telemetry; receivedAt: Date }> = [];
-  // Per rig, in arrival order: final online flag, newest message, last seen.
-  const rigState = new Map<string, { rig: RigRow; online: boolean | null; latest: Telemetry | null; seen: Date | null; lastAt: Date }>();
+interface TelemetryIn {
+  rig: RigRow;
+  msg: Telemetry;
+  receivedAt: Date;
+}
+
+/** Per rig, in arrival order: final online flag, newest message, last seen. */
+interface RigBatchState {
+  rig: RigRow;
+  online: boolean | null;
+  latest: Telemetry | null;
+  seen: Date | null;
+  lastAt: Date;
+}
+
+/** A batch's items by what becomes of them (no I/O). */
+interface SortedItems {
+  rejects: Rejection[];
+  telemetry: TelemetryIn[];
+  rigState: Map<string, RigBatchState>;
+  statusMessages: number;
+}
+
+interface FreshMessage {
+  rigId: string;
+  rigCode: string;
+  msg: Telemetry;
+}
+
+interface DuplicateMessage {
+  rig: RigRow;
+  msg: Telemetry;
+  at: Date;
+}
+
+async function writeInTransaction(client: PoolClient, items: IngestItem[], extras: BatchExtras, rigs: Map<string, RigRow>): Promise<BatchResult> {
+  const sorted = sortItems(items, rigs);
+  const { telemetry, rejects } = sorted;
+  // 1. Message headers, de-duplicated on (rig_id, seq).
+  const isNew = await insertHeaders(client, telemetry);
+  const { fresh, dups } = splitFresh(telemetry, isNew);
+  // 2. Duplicates whose content differs from the stored copy (appended to the rejections).
+  const seqConflicts = dups.length ? await recordSeqConflicts(client, dups, rejects) : 0;
+  // 3. Socket rows of the new messages only, then the rollups the ingest hands over.
+  let sampleRows = 0;
+  for (const r of fresh) sampleRows += r.msg.socket.length;
+  if (fresh.length) await copySamples(client, fresh);
+  const rollups = extras.rollups ?? [];
+  if (rollups.length) await upsertRollups(client, rollups);
+  // 4. Rigs' live columns. Sorted by id: a fixed lock order for transactions in flight together.
+  const states = Array.from(sorted.rigState.values()).sort((x, y) => (x.rig.id < y.rig.id ? -1 : x.rig.id > y.rig.id ? 1 : 0));
+  if (states.length) await updateRigRows(client, states);
+  // 5. Rejections, with the reason and an excerpt.
+  if (rejects.length) await insertRejections(client, rejects);
+  // 6. Durable counters.
+  await addCounters(client, batchCounters(extras.counters, items.length, fresh.length, sampleRows, dups.length, rejects.length, seqConflicts, sorted.statusMessages));
+  return batchResult(telemetry, fresh, dups.length, states, sampleRows, rejects.length);
+}
+
+/** Rejections, telemetry of known rigs and each rig's final state, in arrival order. */
+function sortItems(items: IngestItem[], rigs: Map<string, RigRow>): SortedItems {
+  const rejects: Rejection[] = [];
+  const telemetry: TelemetryIn[] = [];
+  const rigState = new Map<string, RigBatchState>();
   const stateOf = (rig: RigRow) => {
     let s = rigState.get(rig.id);
     if (!s) rigState.set(rig.id, (s = { rig, online: null, latest: null, seen: null, lastAt: new Date(0) }));
@@ -255,29 +298,36 @@ async function writeInTransaction(client: PoolClient, items: IngestItem[], extra
       if (it.status.online && (!s.seen || it.receivedAt > s.seen)) s.seen = it.receivedAt;
     }
   }
+  return { rejects, telemetry, rigState, statusMessages };
+}
 
-  // 1. Message headers, de-duplicated on (rig_id, seq).
+/** Insert the headers; returns `${rig_id}|${seq}` of those that were new. */
+async function insertHeaders(client: PoolClient, telemetry: TelemetryIn[]): Promise<Set<string>> {
   const isNew = new Set<string>();
-  if (telemetry.length) {
-    const { rows } = await client.query<{ rig_id: string; seq: string }>(
-      `INSERT INTO telemetry_batches (rig_id, seq, ts, stress_clock_s, chamber_c, humidity_pct, setpoint_c)
-       SELECT * FROM unnest($1::uuid[], $2::bigint[], $3::timestamptz[], $4::float8[], $5::real[], $6::real[], $7::real[])
-       ON CONFLICT DO NOTHING
-       RETURNING rig_id, seq`,
-      [
-        telemetry.map((t) => t.rig.id),
-        telemetry.map((t) => t.msg.seq),
-        telemetry.map((t) => t.msg.ts),
-        telemetry.map((t) => t.msg.stressClockS),
-        telemetry.map((t) => t.msg.chamberC),
-        telemetry.map((t) => t.msg.humidityPct),
-        telemetry.map((t) => t.msg.setpointC),
-      ],
-    );
-    for (const r of rows) isNew.add(`${r.rig_id}|${r.seq}`);
-  }
-  const fresh: Array<{ rigId: string; rigCode: string; msg: Telemetry }> = [];
-  const dups: Array<{ rig: RigRow; msg: Telemetry; at: Date }> = [];
+  if (!telemetry.length) return isNew;
+  const { rows } = await client.query<{ rig_id: string; seq: string }>(
+    `INSERT INTO telemetry_batches (rig_id, seq, ts, stress_clock_s, chamber_c, humidity_pct, setpoint_c)
+     SELECT * FROM unnest($1::uuid[], $2::bigint[], $3::timestamptz[], $4::float8[], $5::real[], $6::real[], $7::real[])
+     ON CONFLICT DO NOTHING
+     RETURNING rig_id, seq`,
+    [
+      telemetry.map((t) => t.rig.id),
+      telemetry.map((t) => t.msg.seq),
+      telemetry.map((t) => t.msg.ts),
+      telemetry.map((t) => t.msg.stressClockS),
+      telemetry.map((t) => t.msg.chamberC),
+      telemetry.map((t) => t.msg.humidityPct),
+      telemetry.map((t) => t.msg.setpointC),
+    ],
+  );
+  for (const r of rows) isNew.add(`${r.rig_id}|${r.seq}`);
+  return isNew;
+}
+
+/** New messages (the first copy of each inserted header) and duplicates (everything else). */
+function splitFresh(telemetry: TelemetryIn[], isNew: Set<string>): { fresh: FreshMessage[]; dups: DuplicateMessage[] } {
+  const fresh: FreshMessage[] = [];
+  const dups: DuplicateMessage[] = [];
   const seenInBatch = new Set<string>();
   for (const t of telemetry) {
     const key = `${t.rig.id}|${t.msg.seq}`;
@@ -285,94 +335,96 @@ async function writeInTransaction(client: PoolClient, items: IngestItem[], extra
     else dups.push({ rig: t.rig, msg: t.msg, at: t.receivedAt });
     seenInBatch.add(key);
   }
+  return { fresh, dups };
+}
 
-  // 2. A duplicate seq whose content differs from what is stored means the rig reused its counter
-  //    (e.g. it lost its seq after a restart): keep the first, record the conflict for an admin.
+/**
+ * A duplicate seq whose content differs from what is stored means the rig reused its counter
+ * (e.g. it lost its seq after a restart): keep the first, record the conflict for an admin.
+ * Returns how many; each becomes a rejection.
+ */
+async function recordSeqConflicts(client: PoolClient, dups: DuplicateMessage[], rejects: Rejection[]): Promise<number> {
+  const { rows } = await client.query<{ rig_id: string; seq: string; ts: Date; stress_clock_s: number }>(
+    `SELECT b.rig_id, b.seq, b.ts, b.stress_clock_s FROM telemetry_batches b
+     JOIN unnest($1::uuid[], $2::bigint[]) AS d(rig_id, seq) ON b.rig_id = d.rig_id AND b.seq = d.seq`,
+    [dups.map((d) => d.rig.id), dups.map((d) => d.msg.seq)],
+  );
+  const stored = new Map(rows.map((r) => [`${r.rig_id}|${r.seq}`, r]));
   let seqConflicts = 0;
-  if (dups.length) {
-    const { rows } = await client.query<{ rig_id: string; seq: string; ts: Date; stress_clock_s: number }>(
-      `SELECT b.rig_id, b.seq, b.ts, b.stress_clock_s FROM telemetry_batches b
-       JOIN unnest($1::uuid[], $2::bigint[]) AS d(rig_id, seq) ON b.rig_id = d.rig_id AND b.seq = d.seq`,
-      [dups.map((d) => d.rig.id), dups.map((d) => d.msg.seq)],
-    );
-    const stored = new Map(rows.map((r) => [`${r.rig_id}|${r.seq}`, r]));
-    for (const d of dups) {
-      const s = stored.get(`${d.rig.id}|${d.msg.seq}`);
-      if (s && (s.ts.getTime() !== Date.parse(d.msg.ts) || s.stress_clock_s !== d.msg.stressClockS)) {
-        seqConflicts++;
-        rejects.push({
-          topic: `emberlot/v1/rigs/${d.rig.code}/telemetry`,
-          rigCode: d.rig.code,
-          reason: `seq ${d.msg.seq} was already stored with different content (the rig reused its sequence numbers); the first copy is kept`,
-          excerpt: `stored ts ${s.ts.toISOString()}, received ts ${d.msg.ts}`,
-          at: d.at,
-        });
-      }
+  for (const d of dups) {
+    const s = stored.get(`${d.rig.id}|${d.msg.seq}`);
+    if (s && (s.ts.getTime() !== Date.parse(d.msg.ts) || s.stress_clock_s !== d.msg.stressClockS)) {
+      seqConflicts++;
+      rejects.push({
+        topic: `emberlot/v1/rigs/${d.rig.code}/telemetry`,
+        rigCode: d.rig.code,
+        reason: `seq ${d.msg.seq} was already stored with different content (the rig reused its sequence numbers); the first copy is kept`,
+        excerpt: `stored ts ${s.ts.toISOString()}, received ts ${d.msg.ts}`,
+        at: d.at,
+      });
     }
   }
+  return seqConflicts;
+}
 
-  // 3. Socket rows of the new messages only, then the rollups.
-  let sampleRows = 0;
-  for (const r of fresh) sampleRows += r.msg.socket.length;
-  if (fresh.length) {
-    if ((extras.samplesMode ?? 'copy') === 'copy') await copySamples(client, fresh);
-    else await insertSamples(client, fresh);
-  }
-  const rollups = extras.rollups ?? 'inline';
-  if (rollups === 'inline') {
-    if (fresh.length) await upsertRollups(client, rollupsOf(fresh.map((r) => ({ ...r.msg, rigId: r.rigId, ts: new Date(r.msg.ts) }))), false);
-  } else if (rollups.length) {
-    await upsertRollups(client, rollups, true);
-  }
+/** The rigs' live columns; the newest values only when the message is at least as new as last_seq. */
+async function updateRigRows(client: PoolClient, states: RigBatchState[]): Promise<void> {
+  await client.query(
+    `UPDATE rigs r SET
+       last_seq = GREATEST(r.last_seq, COALESCE(v.seq, 0)),
+       chamber_c = CASE WHEN v.seq IS NOT NULL AND v.seq >= r.last_seq THEN v.chamber ELSE r.chamber_c END,
+       setpoint_c = CASE WHEN v.seq IS NOT NULL AND v.seq >= r.last_seq THEN v.setpoint ELSE r.setpoint_c END,
+       humidity_pct = CASE WHEN v.seq IS NOT NULL AND v.seq >= r.last_seq THEN v.humidity ELSE r.humidity_pct END,
+       last_seen_at = GREATEST(r.last_seen_at, v.seen),
+       online = COALESCE(v.online, r.online)
+     FROM unnest($1::uuid[], $2::bigint[], $3::float8[], $4::float8[], $5::float8[], $6::timestamptz[], $7::boolean[])
+       AS v(id, seq, chamber, setpoint, humidity, seen, online)
+     WHERE r.id = v.id`,
+    [
+      states.map((s) => s.rig.id),
+      states.map((s) => s.latest?.seq ?? null),
+      states.map((s) => s.latest?.chamberC ?? null),
+      states.map((s) => s.latest?.setpointC ?? null),
+      states.map((s) => s.latest?.humidityPct ?? null),
+      states.map((s) => s.seen),
+      states.map((s) => s.online),
+    ],
+  );
+}
 
-  // 4. Rigs' live columns. The newest values only when the message is at least as new as last_seq.
-  // Sorted by id: a fixed lock order for transactions in flight together.
-  const states = Array.from(rigState.values()).sort((x, y) => (x.rig.id < y.rig.id ? -1 : x.rig.id > y.rig.id ? 1 : 0));
-  if (states.length) {
-    await client.query(
-      `UPDATE rigs r SET
-         last_seq = GREATEST(r.last_seq, COALESCE(v.seq, 0)),
-         chamber_c = CASE WHEN v.seq IS NOT NULL AND v.seq >= r.last_seq THEN v.chamber ELSE r.chamber_c END,
-         setpoint_c = CASE WHEN v.seq IS NOT NULL AND v.seq >= r.last_seq THEN v.setpoint ELSE r.setpoint_c END,
-         humidity_pct = CASE WHEN v.seq IS NOT NULL AND v.seq >= r.last_seq THEN v.humidity ELSE r.humidity_pct END,
-         last_seen_at = GREATEST(r.last_seen_at, v.seen),
-         online = COALESCE(v.online, r.online)
-       FROM unnest($1::uuid[], $2::bigint[], $3::float8[], $4::float8[], $5::float8[], $6::timestamptz[], $7::boolean[])
-         AS v(id, seq, chamber, setpoint, humidity, seen, online)
-       WHERE r.id = v.id`,
-      [
-        states.map((s) => s.rig.id),
-        states.map((s) => s.latest?.seq ?? null),
-        states.map((s) => s.latest?.chamberC ?? null),
-        states.map((s) => s.latest?.setpointC ?? null),
-        states.map((s) => s.latest?.humidityPct ?? null),
-        states.map((s) => s.seen),
-        states.map((s) => s.online),
-      ],
-    );
-  }
+async function insertRejections(client: PoolClient, rejects: Rejection[]): Promise<void> {
+  await client.query(
+    `INSERT INTO rejected_messages (at, topic, rig_code, reason, excerpt)
+     SELECT * FROM unnest($1::timestamptz[], $2::varchar[], $3::varchar[], $4::text[], $5::text[])`,
+    [rejects.map((r) => r.at), rejects.map((r) => r.topic.slice(0, 200)), rejects.map((r) => r.rigCode?.slice(0, 32) ?? null), rejects.map((r) => r.reason), rejects.map((r) => r.excerpt)],
+  );
+}
 
-  // 5. Rejections, with the reason and an excerpt.
-  if (rejects.length) {
-    await client.query(
-      `INSERT INTO rejected_messages (at, topic, rig_code, reason, excerpt)
-       SELECT * FROM unnest($1::timestamptz[], $2::varchar[], $3::varchar[], $4::text[], $5::text[])`,
-      [rejects.map((r) => r.at), rejects.map((r) => r.topic.slice(0, 200)), rejects.map((r) => r.rigCode?.slice(0, 32) ?? null), rejects.map((r) => r.reason), rejects.map((r) => r.excerpt)],
-    );
-  }
-
-  // 6. Durable counters.
-  const counters: Record<string, number> = { ...(extras.counters ?? {}) };
+/** The counter deltas of one batch, on top of the caller's (turned-away messages and such). */
+function batchCounters(
+  extra: Record<string, number> | undefined,
+  items: number,
+  messages: number,
+  sampleRows: number,
+  duplicates: number,
+  rejected: number,
+  seqConflicts: number,
+  statusMessages: number,
+): Record<string, number> {
+  const counters: Record<string, number> = { ...(extra ?? {}) };
   const bump = (name: string, n: number) => (counters[name] = (counters[name] ?? 0) + n);
-  bump(COUNTERS.messages, fresh.length);
+  bump(COUNTERS.messages, messages);
   bump(COUNTERS.samples, sampleRows);
-  bump(COUNTERS.duplicates, dups.length);
-  bump(COUNTERS.rejected, rejects.length - seqConflicts);
+  bump(COUNTERS.duplicates, duplicates);
+  bump(COUNTERS.rejected, rejected - seqConflicts);
   bump(COUNTERS.seqConflicts, seqConflicts);
   bump(COUNTERS.statusMessages, statusMessages);
-  if (items.length) bump(COUNTERS.batches, 1);
-  await addCounters(client, counters);
+  if (items) bump(COUNTERS.batches, 1);
+  return counters;
+}
 
+/** What the caller confirms and announces after COMMIT. */
+function batchResult(telemetry: TelemetryIn[], fresh: FreshMessage[], duplicates: number, states: RigBatchState[], sampleRows: number, rejected: number): BatchResult {
   const storedByRig = new Map<string, number[]>();
   for (const t of telemetry) {
     let list = storedByRig.get(t.rig.code);
@@ -401,13 +453,5 @@ async function writeInTransaction(client: PoolClient, items: IngestItem[], extra
       statusChanges.push({ rigId: s.rig.id, rigCode: s.rig.code, online: s.online, at: s.lastAt });
     }
   }
-  return {
-    storedByRig,
-    landed,
-    statusChanges,
-    newMessages: fresh.length,
-    duplicates: dups.length,
-    sampleRows,
-    rejected: rejects.length,
-  };
+  return { storedByRig, landed, statusChanges, newMessages: fresh.length, duplicates, sampleRows, rejected };
 }

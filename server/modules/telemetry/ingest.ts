@@ -15,7 +15,7 @@ import type { Pool } from 'pg';
 import { buildStoredCommands, parseCommandAck, parseStatus, parseTelemetry, type CommandAck, type StoredCommand } from '../../../shared/mqtt/payloads';
 import { parseRigTopic } from '../../../shared/mqtt/topics';
 import { RIG_STATUS_CHANGED, TELEMETRY_LANDED, type EmberlotEventName, type EventBus } from '../../events';
-import { COUNTERS, writeBatch, type BatchResult, type IngestItem, type SamplesMode } from './ingest-store';
+import { COUNTERS, writeBatch, type BatchResult, type IngestItem } from './ingest-store';
 import { RollupAccumulator, type RollupRow } from './rollups';
 
 export interface IngestOptions {
@@ -38,7 +38,6 @@ export interface IngestOptions {
   bufferLimit?: number;
   /** Rejections held for writing; beyond this only the counter grows (default 5,000). */
   rejectLimit?: number;
-  samplesMode?: SamplesMode;
   retryMinMs?: number;
   retryMaxMs?: number;
   log?: (line: string) => void;
@@ -66,7 +65,6 @@ export interface IngestLiveStats {
   rejected: number;
   dropped: number;
   merged: number;
-  samplesMode: SamplesMode;
 }
 
 const EXCERPT_CHARS = 300;
@@ -74,7 +72,6 @@ const EXCERPT_CHARS = 300;
 /** A printable, bounded excerpt of a refused payload. */
 export function excerptOf(payload: Buffer | string): string {
   const text = typeof payload === 'string' ? payload : payload.subarray(0, EXCERPT_CHARS * 4).toString('utf8');
-  // eslint-disable-next-line no-control-regex
   const clean = text.replace(/[\u0000-\u0008\u000b-\u001f\u007f]/g, '?');
   const size = typeof payload === 'string' ? payload.length : payload.byteLength;
   return clean.length > EXCERPT_CHARS ? `${clean.slice(0, EXCERPT_CHARS)}… (${size} bytes)` : clean;
@@ -128,7 +125,6 @@ export class TelemetryIngest {
       rollupFlushMs: opts.rollupFlushMs ?? 5_000,
       bufferLimit: opts.bufferLimit ?? 50_000,
       rejectLimit: opts.rejectLimit ?? 5_000,
-      samplesMode: opts.samplesMode ?? 'copy',
       retryMinMs: opts.retryMinMs ?? 100,
       retryMaxMs: opts.retryMaxMs ?? 5_000,
       log: opts.log ?? ((line) => console.log(`[ingest] ${line}`)),
@@ -155,7 +151,6 @@ export class TelemetryIngest {
       buffered: this.telemetryCount,
       bufferLimit: this.opts.bufferLimit,
       databaseOk: this.databaseOk,
-      samplesMode: this.opts.samplesMode,
       ...this.live,
     };
   }
@@ -274,7 +269,7 @@ export class TelemetryIngest {
         }
         const myTicket = ticket++;
         const t0 = Date.now();
-        const write = writeBatch(this.deps.pool(), take, { counters, samplesMode: this.opts.samplesMode, rollups }).then(
+        const write = writeBatch(this.deps.pool(), take, { counters, rollups }).then(
           (result) => ({ ok: true as const, result }),
           (err: Error) => ({ ok: false as const, err }),
         );

@@ -127,15 +127,8 @@ export class RollupAccumulator {
   }
 }
 
-/** The rollups of a set of messages, for writing in the same transaction (tools and tests). */
-export function rollupsOf(messages: Iterable<Pick<TelemetryLanded, 'rigId' | 'ts' | 'stressClockS' | 'chamberC' | 'socket' | 'caseC' | 'iA'>>): RollupRow[] {
-  const acc = new RollupAccumulator();
-  acc.add(messages);
-  return acc.take();
-}
-
 /** Add rows to telemetry_rollups and record the time of this write. Call inside a transaction. */
-export async function upsertRollups(client: PoolClient, rows: RollupRow[], markWatermark: boolean): Promise<void> {
+export async function upsertRollups(client: PoolClient, rows: RollupRow[]): Promise<void> {
   if (rows.length) {
     await client.query(
       `INSERT INTO telemetry_rollups AS r (rig_id, socket, minute, n, sum_c, min_c, max_c, sum_ia, stress_clock_s)
@@ -160,7 +153,7 @@ export async function upsertRollups(client: PoolClient, rows: RollupRow[], markW
       ],
     );
   }
-  if (markWatermark) await setWatermark(client);
+  await setWatermark(client);
 }
 
 async function setWatermark(client: PoolClient | Pool): Promise<void> {

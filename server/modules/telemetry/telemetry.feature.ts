@@ -26,7 +26,7 @@ export interface TelemetryFeatureOptions extends IngestOptions {
 
 export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOptions = {}): Promise<() => Promise<void>> {
   const mqttCfg = opts.mqtt ?? ctx.config.mqtt;
-  // eslint-disable-next-line prefer-const
+  // eslint-disable-next-line prefer-const -- the ingest's callbacks close over it; assigned once, just below
   let link: MqttRigLink;
   const ingest = new TelemetryIngest(
     {

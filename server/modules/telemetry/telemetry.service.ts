@@ -34,7 +34,6 @@ export class TelemetryService {
             bufferLimit: s.bufferLimit,
             batches: s.batches,
             lastBatchMs: s.lastBatchMs,
-            samplesMode: s.samplesMode,
             pendingCommands: link?.pendingCount?.() ?? 0,
           }
         : null,

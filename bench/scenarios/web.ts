@@ -1,0 +1,154 @@
+/**
+ * web: how the app loads on a phone. Debian's Chromium (playwright-core) at 390×844 with the CPU
+ * slowed 4× (Chrome DevTools' CPU throttling, as a mid-range phone), against the bench's own API
+ * serving the web export on loopback. Measured:
+ * - coldSignInKb: bytes on the wire (compressed bodies + headers, CDP encodedDataLength) for a first
+ *   visit to /sign-in with an empty cache, until the form shows and the network has been quiet 500 ms;
+ * - signInPaintMs: navigation start → the e-mail field visible;
+ * - signInToFloorMs / floorKb: pressing "Sign in" → the floor's summary line shows its rig count, and
+ *   the bytes that took;
+ * - floorReloadMs: reload of the signed-in floor (warm cache) → the summary line, median of 5 (and each).
+ * Loopback has no network latency: these are CPU and byte figures, not a mobile-network model.
+ */
+import * as fs from 'node:fs';
+import * as os from 'node:os';
+import * as path from 'node:path';
+import { chromium, type CDPSession, type Page } from 'playwright-core';
+import { DEMO_USERS } from '../../server/seed/demo-data';
+import { CHROMIUM, ensureChromium } from '../../tests/e2e/harness';
+import { SEED_STEPS } from '../../server/seed/seed';
+import type { BenchEnv } from '../lib/environment';
+
+const VIEWPORT = { width: 390, height: 844 };
+const CPU_SLOWDOWN = 4;
+const RELOADS = 5;
+
+const median = (xs: number[]) => {
+  const s = [...xs].sort((a, b) => a - b);
+  return s.length % 2 ? s[(s.length - 1) / 2] : (s[s.length / 2 - 1] + s[s.length / 2]) / 2;
+};
+const kb = (bytes: number) => Math.round(bytes / 102.4) / 10;
+
+/** Bytes on the wire per request, as Chromium counts them (headers + compressed body). */
+class WireCounter {
+  bytes = 0;
+  requests = 0;
+  inFlight = 0;
+  lastActivity = Date.now();
+  byType: Record<string, number> = {};
+  private types = new Map<string, string>();
+  constructor(cdp: CDPSession) {
+    cdp.on('Network.requestWillBeSent', (e) => {
+      this.inFlight += 1;
+      this.lastActivity = Date.now();
+      this.types.set(e.requestId, e.type ?? 'Other');
+    });
+    cdp.on('Network.loadingFinished', (e) => {
+      this.inFlight = Math.max(0, this.inFlight - 1);
+      this.lastActivity = Date.now();
+      this.bytes += e.encodedDataLength;
+      this.requests += 1;
+      const t = this.types.get(e.requestId) ?? 'Other';
+      this.byType[t] = (this.byType[t] ?? 0) + e.encodedDataLength;
+    });
+    cdp.on('Network.loadingFailed', () => {
+      this.inFlight = Math.max(0, this.inFlight - 1);
+      this.lastActivity = Date.now();
+    });
+  }
+  reset() {
+    this.bytes = 0;
+    this.requests = 0;
+    this.byType = {};
+  }
+  /** Resolves once no request has been open for `quietMs` (the floor's event stream is excluded by the caller). */
+  async quiet(quietMs = 500, limitMs = 15_000): Promise<void> {
+    const until = Date.now() + limitMs;
+    while (Date.now() < until) {
+      if (this.inFlight <= 1 && Date.now() - this.lastActivity >= quietMs) return;
+      await new Promise((r) => setTimeout(r, 50));
+    }
+  }
+}
+
+async function floorReady(page: Page): Promise<void> {
+  await page.getByTestId('floor-summary').filter({ hasText: /\d+ of \d+ rigs online/ }).first().waitFor({ state: 'visible', timeout: 60_000 });
+}
+
+export async function runWeb(b: BenchEnv, log: (l: string) => void) {
+  ensureChromium();
+  // Alone (EMBERLOT_BENCH_SCENARIOS=web) the bench has no rigs: give the floor the demo's six. After
+  // the other scenarios it shows every rig they registered (reported as floorRigs).
+  const count = async () => Number((await b.pool.query<{ n: string }>('SELECT count(*) AS n FROM rigs')).rows[0].n);
+  if ((await count()) === 0) await SEED_STEPS.find((s) => s.name === 'rigs')!.run(b.ds);
+  const floorRigs = await count();
+  const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'emberlot-bench-web-'));
+  const context = await chromium.launchPersistentContext(dir, {
+    executablePath: CHROMIUM,
+    headless: true,
+    viewport: VIEWPORT,
+    deviceScaleFactor: 1,
+    args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--disable-dev-shm-usage'],
+  });
+  try {
+    const page = context.pages()[0] ?? (await context.newPage());
+    page.setDefaultTimeout(60_000);
+    const cdp = await context.newCDPSession(page);
+    await cdp.send('Network.enable');
+    await cdp.send('Emulation.setCPUThrottlingRate', { rate: CPU_SLOWDOWN });
+    const wire = new WireCounter(cdp);
+
+    // Cold sign-in: empty profile, nothing cached.
+    const t0 = Date.now();
+    await page.goto(`${b.baseUrl}/sign-in`, { waitUntil: 'commit' });
+    await page.getByLabel(/e-?mail/i).waitFor({ state: 'visible' });
+    const signInPaintMs = Date.now() - t0;
+    await wire.quiet();
+    const coldSignIn = { bytes: wire.bytes, requests: wire.requests, byType: { ...wire.byType } };
+
+    // Sign in → floor.
+    const op = DEMO_USERS.find((u) => u.role === 'operator')!;
+    await page.getByLabel(/e-?mail/i).fill(op.email);
+    await page.getByLabel(/password/i).fill(op.password);
+    wire.reset();
+    const t1 = Date.now();
+    await page.getByRole('button', { name: /sign in/i }).click();
+    await floorReady(page);
+    const signInToFloorMs = Date.now() - t1;
+    await wire.quiet();
+    const floor = { bytes: wire.bytes, requests: wire.requests };
+
+    // Reloads of the signed-in floor, warm cache.
+    const reloads: number[] = [];
+    let reloadBytes = 0;
+    for (let i = 0; i < RELOADS; i++) {
+      wire.reset();
+      const t = Date.now();
+      await page.reload({ waitUntil: 'commit' });
+      await floorReady(page);
+      reloads.push(Date.now() - t);
+      await wire.quiet();
+      reloadBytes = wire.bytes;
+    }
+    const result = {
+      viewport: `${VIEWPORT.width}x${VIEWPORT.height}`,
+      floorRigs,
+      cpuSlowdown: CPU_SLOWDOWN,
+      coldSignInKb: kb(coldSignIn.bytes),
+      coldSignInRequests: coldSignIn.requests,
+      coldSignInKbByType: Object.fromEntries(Object.entries(coldSignIn.byType).map(([k, v]) => [k, kb(v)])),
+      signInPaintMs,
+      signInToFloorMs,
+      floorKb: kb(floor.bytes),
+      floorRequests: floor.requests,
+      floorReloadMs: median(reloads),
+      floorReloadsMs: reloads,
+      floorReloadKb: kb(reloadBytes),
+    };
+    log(`web: cold sign-in ${result.coldSignInKb} KB, paint ${signInPaintMs} ms, sign-in → floor ${signInToFloorMs} ms, floor reload median ${result.floorReloadMs} ms`);
+    return result;
+  } finally {
+    await context.close().catch(() => undefined);
+    fs.rmSync(dir, { recursive: true, force: true });
+  }
+}
