@@ -2,12 +2,14 @@
  * The broker process (`npm start` runs it beside the API):
  *   SWC_NODE_PROJECT=server/tsconfig.json node -r @swc-node/register broker/main.ts
  * Env: EMBERLOT_MQTT_PORT (18830), EMBERLOT_MQTT_HOST (127.0.0.1),
- *      EMBERLOT_MQTT_SERVER_USER / EMBERLOT_MQTT_SERVER_PASSWORD (privileged server client),
+ *      EMBERLOT_MQTT_SERVER_USER / EMBERLOT_MQTT_SERVER_PASSWORD (privileged server client; the
+ *      password and the database's come from .data/secrets.json when not given, server/secrets.ts),
  *      EMBERLOT_DB_HOST / PORT / USER / PASSWORD / NAME (rig credentials in table `rigs`),
  *      EMBERLOT_MQTT_MAX_PACKET_BYTES (262144), EMBERLOT_BROKER_LOG=1 for refusal lines.
  */
 import { Pool } from 'pg';
 import { dbConfigFromEnv } from '../server/config';
+import { refuseWeakSecretsOffLoopback, withSecrets } from '../server/secrets';
 import { MAX_PACKET_BYTES } from '../shared/mqtt';
 import { createEmberlotBroker } from './broker';
 import { createPgAuthenticate } from './pg-authenticate';
@@ -15,7 +17,8 @@ import { createPgAuthenticate } from './pg-authenticate';
 const int = (v: string | undefined, d: number) => (v && /^\d+$/.test(v) ? Number(v) : d);
 
 async function main(): Promise<void> {
-  const env = process.env;
+  // The server account's password and the database's: the environment, else .data/secrets.json.
+  const env = withSecrets(process.env).env;
   const port = int(env.EMBERLOT_MQTT_PORT, 18830);
   const host = env.EMBERLOT_MQTT_HOST ?? '127.0.0.1';
   const db = dbConfigFromEnv(env);
@@ -23,7 +26,8 @@ async function main(): Promise<void> {
   pool.on('error', (err) => console.error(`[broker] database pool error: ${err.message}`));
 
   const serverUser = env.EMBERLOT_MQTT_SERVER_USER ?? 'emberlot-server';
-  const serverPassword = env.EMBERLOT_MQTT_SERVER_PASSWORD ?? 'server-local-only';
+  const serverPassword = env.EMBERLOT_MQTT_SERVER_PASSWORD!;
+  refuseWeakSecretsOffLoopback('the MQTT broker', host, { mqttServerPassword: serverPassword, dbPassword: db.password });
   const verbose = env.EMBERLOT_BROKER_LOG === '1';
 
   const eb = await createEmberlotBroker({

@@ -17,6 +17,7 @@ import { createHash } from 'node:crypto';
 import * as fs from 'node:fs';
 import * as os from 'node:os';
 import * as path from 'node:path';
+import { LOOPBACK_ONLY_SECRETS, withSecrets } from '../server/secrets';
 
 export interface ClusterOptions {
   /** folder name under the data root: "demo", "test", "bench" */
@@ -27,6 +28,12 @@ export interface ClusterOptions {
   /** where the cluster lives; defaults to <project>/.data */
   dataRoot?: string;
   quiet?: boolean;
+  /**
+   * The role's password. Given (the demo cluster: from .data/secrets.json), it is also set on a
+   * cluster that already exists, over the local socket, so a cluster made before the secrets file
+   * follows it. Default DB_PASSWORD, for throwaway clusters on 127.0.0.1.
+   */
+  password?: string;
 }
 
 export interface ClusterInfo {
@@ -41,7 +48,8 @@ export interface ClusterInfo {
 
 export const PROJECT_ROOT = path.resolve(__dirname, '..');
 export const DB_USER = 'emberlot';
-export const DB_PASSWORD = process.env.EMBERLOT_DB_PASSWORD ?? 'emberlot-local-only';
+/** Throwaway (test, e2e, bench) clusters only; the demo cluster gets the generated one (scripts/start.ts). */
+export const DB_PASSWORD = process.env.EMBERLOT_DB_PASSWORD || LOOPBACK_ONLY_SECRETS.dbPassword;
 
 function log(opts: ClusterOptions, msg: string): void {
   if (!opts.quiet) console.log(`[pg:${opts.name}] ${msg}`);
@@ -137,10 +145,11 @@ function dataRootFor(opts: ClusterOptions): string {
   return path.join(PROJECT_ROOT, '.data');
 }
 
-function run(runAs: RunAs, cmd: string, args: string[], opts: { allowFail?: boolean; env?: NodeJS.ProcessEnv } = {}) {
+function run(runAs: RunAs, cmd: string, args: string[], opts: { allowFail?: boolean; env?: NodeJS.ProcessEnv; input?: string } = {}) {
   const full = runAs.user ? ['runuser', ['-u', runAs.user, '--', cmd, ...args]] : [cmd, args];
   const r = spawnSync(full[0] as string, full[1] as string[], {
     encoding: 'utf8',
+    input: opts.input,
     env: { ...process.env, ...opts.env, LC_ALL: 'C' },
   });
   if (r.status !== 0 && !opts.allowFail) {
@@ -202,6 +211,8 @@ export function clusterStatus(opts: ClusterOptions): 'running' | 'stopped' | 'ab
 export function startCluster(opts: ClusterOptions): ClusterInfo {
   const bin = ensurePostgresInstalled();
   const { root, dataDir, socketDir, logFile, runAs } = clusterPaths(opts);
+  const password = opts.password ?? DB_PASSWORD;
+  let created = false;
   for (const d of [root, path.join(root, 'pg'), path.dirname(logFile), path.dirname(socketDir)]) {
     fs.mkdirSync(d, { recursive: true });
   }
@@ -217,7 +228,8 @@ export function startCluster(opts: ClusterOptions): ClusterInfo {
     fs.mkdirSync(dataDir, { recursive: true, mode: 0o700 });
     chownTree(dataDir, runAs);
     const pwFile = path.join(root, `.pw-${opts.name}-${process.pid}`);
-    fs.writeFileSync(pwFile, DB_PASSWORD + '\n', { mode: 0o600 });
+    fs.writeFileSync(pwFile, password + '\n', { mode: 0o600 });
+    created = true;
     chownTree(pwFile, runAs);
     try {
       run(runAs, path.join(bin, 'initdb'), [
@@ -244,7 +256,19 @@ export function startCluster(opts: ClusterOptions): ClusterInfo {
   } else {
     log(opts, `already running on 127.0.0.1:${opts.port}`);
   }
-  return { host: '127.0.0.1', port: opts.port, user: DB_USER, password: DB_PASSWORD, socketDir, dataDir, logFile };
+  if (opts.password !== undefined && !created) setRolePassword(bin, runAs, socketDir, opts.port, password);
+  return { host: '127.0.0.1', port: opts.port, user: DB_USER, password, socketDir, dataDir, logFile };
+}
+
+/**
+ * ALTER ROLE over the unix socket (trusted for the cluster's own user): the password goes through
+ * psql's stdin, never a command line, and PostgreSQL stores it as a SCRAM verifier.
+ */
+function setRolePassword(bin: string, runAs: RunAs, socketDir: string, port: number, password: string): void {
+  const literal = `'${password.replace(/'/g, "''")}'`;
+  run(runAs, path.join(bin, 'psql'), ['-X', '-q', '-v', 'ON_ERROR_STOP=1', '-h', socketDir, '-p', String(port), '-U', DB_USER, '-d', 'postgres'], {
+    input: `SET log_statement = 'none';\nALTER ROLE ${DB_USER} PASSWORD ${literal};\n`,
+  });
 }
 
 export function stopCluster(opts: ClusterOptions): void {
@@ -276,7 +300,9 @@ export function clusterPid(opts: ClusterOptions): number | null {
 if (require.main === module) {
   const [cmd = 'status', name = 'demo', portArg] = process.argv.slice(2);
   const port = Number(portArg ?? process.env.EMBERLOT_PG_PORT ?? 54329);
-  const opts: ClusterOptions = { name, port };
+  // The demo cluster's password is the generated one (.data/secrets.json), as npm start sets it.
+  const password = name === 'demo' ? withSecrets(process.env).env.EMBERLOT_DB_PASSWORD : undefined;
+  const opts: ClusterOptions = { name, port, ...(password ? { password } : {}) };
   if (cmd === 'start') console.log(JSON.stringify(startCluster(opts)));
   else if (cmd === 'stop') stopCluster(opts);
   else if (cmd === 'destroy') destroyCluster(opts);

@@ -9,6 +9,7 @@
 import 'reflect-metadata';
 import * as path from 'node:path';
 import { configFromEnv } from '../server/config';
+import { refuseWeakSecretsOffLoopback, SECRET_ENV, withSecrets, type ResolvedSecrets } from '../server/secrets';
 import { createDataSource } from '../server/db/data-source';
 import { DEMO_USERS } from '../server/seed/demo-data';
 import { seedIfEmpty } from '../server/seed/seed';
@@ -22,8 +23,15 @@ const pgPort = Number(process.env.EMBERLOT_PG_PORT ?? 54329);
 
 async function main() {
   const t0 = Date.now();
-  const pg = startCluster({ name: 'demo', port: pgPort });
-  const config = configFromEnv({ ...process.env, EMBERLOT_DB_PORT: String(pgPort) });
+  // Every process gets the same secrets: from the environment, else .data/secrets.json (made now on first start).
+  const secrets = withSecrets(process.env);
+  const baseEnv: NodeJS.ProcessEnv = { ...process.env, ...secrets.env, EMBERLOT_DB_PORT: String(pgPort) };
+  const config = configFromEnv(baseEnv);
+  const mqttHost = baseEnv.EMBERLOT_MQTT_HOST ?? '127.0.0.1';
+  const all = { sessionSecret: config.sessionSecret, mqttServerPassword: config.mqtt.password, dbPassword: config.db.password };
+  refuseWeakSecretsOffLoopback('the API', config.host, all);
+  refuseWeakSecretsOffLoopback('the MQTT broker', mqttHost, all);
+  const pg = startCluster({ name: 'demo', port: pgPort, password: config.db.password });
   await ensureDatabase(pg, config.db.database);
   const ds = createDataSource(config.db);
   await ds.initialize();
@@ -50,8 +58,7 @@ async function main() {
   stack = await startStack({
     dev,
     env: {
-      ...process.env,
-      EMBERLOT_DB_PORT: String(pgPort),
+      ...baseEnv,
       EMBERLOT_WEB_DIR: dev ? '' : WEB_DIR,
       EMBERLOT_DEV_PROXY: dev ? 'http://127.0.0.1:8081' : '',
       EMBERLOT_SIM_CONFIG: fleetFile,
@@ -66,12 +73,24 @@ async function main() {
   console.log(`
   Emberlot is running at ${url}   (ready in ${Math.round((Date.now() - t0) / 1000)} s; Ctrl-C stops everything)
 
+  Secrets: ${describeSecrets(secrets)}
+
   Demo sign-ins (the invented lab of Harrowgate Power Devices):
 ${DEMO_USERS.map((u) => `    ${u.role.padEnd(9)} ${u.email.padEnd(34)} ${u.password}`).join('\n')}
 
   Safety: Emberlot's software trip is no substitute for a rig's hardware interlocks. Follow your
   lab's safety rules and local codes around high voltage, hot ovens and parts that can burst.
 `);
+}
+
+function describeSecrets(s: ResolvedSecrets): string {
+  const fileNames = [...s.generated, ...s.fromFile];
+  if (!fileNames.length) return 'all from the environment.';
+  const what = s.generated.length === fileNames.length ? 'generated now' : s.generated.length ? 'some generated now' : 'generated on first start';
+  return `${s.file} (${what}; owner-only, mode 600)${s.fromEnv.length ? `; from the environment: ${s.fromEnv.map((n) => SECRET_ENV[n]).join(', ')}` : ''}.
+  It holds the session secret, the broker's server-account password and the database password
+  (those not given in the environment); for production set them in the environment instead
+  (README, "Production settings").`;
 }
 
 main().catch((e) => {

@@ -5,6 +5,7 @@ import * as path from 'node:path';
 import helmet from 'helmet';
 import type { AppContext } from './context';
 import { errorHandler, notFound } from './http/errors';
+import { sameOriginGuard } from './http/same-origin';
 import type { ApiRouter, RegisteredRoute } from './http/route';
 import { installAuth } from './modules/auth/auth.routes';
 import { installApiCompression, installWebApp } from './http/web-static';
@@ -22,7 +23,10 @@ export interface BuiltApp {
 export function createApp(ctx: AppContext): BuiltApp {
   const app = express();
   app.disable('x-powered-by');
-  app.set('trust proxy', false);
+  // EMBERLOT_TRUST_PROXY (default off): req.ip, req.protocol and req.host then follow the proxy's
+  // X-Forwarded-* headers, so secure cookies work behind a TLS proxy and the sign-in limiter keys
+  // on each client's address instead of the proxy's.
+  app.set('trust proxy', ctx.config.trustProxy);
   app.use(
     helmet({
       contentSecurityPolicy: {
@@ -41,6 +45,8 @@ export function createApp(ctx: AppContext): BuiltApp {
       crossOriginEmbedderPolicy: false,
     }),
   );
+  // Before any body is read or session touched: a change sent from another origin's page is refused.
+  app.use(sameOriginGuard(ctx.config.publicOrigins));
   installApiCompression(app);
   app.use('/api', express.json({ limit: JSON_BODY_LIMIT }));
   app.use('/api', (_req, res, next) => {

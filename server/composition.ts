@@ -17,6 +17,7 @@ import { AlarmsService } from './modules/alarms/alarms.service';
 import { AuditService } from './modules/audit/audit.service';
 import { AuthService } from './modules/auth/auth.service';
 import { DeviceTypesService } from './modules/device-types/device-types.service';
+import { EvidenceService } from './modules/evidence/evidence.service';
 import { FloorService } from './modules/floor/floor.service';
 import { FloorStream } from './modules/floor/floor.stream';
 import { LotsService } from './modules/lots/lots.service';
@@ -44,6 +45,7 @@ export interface Services {
   plans: PlansService;
   measurements: MeasurementsService;
   analytics: AnalyticsService;
+  evidence: EvidenceService;
   runs: RunsService;
   rigs: RigsService;
   floor: FloorService;
@@ -98,6 +100,7 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     plans: new PlansService(ctx.ds, ctx.audit, now),
     measurements: new MeasurementsService(ctx.ds, ctx.audit, now),
     analytics: new AnalyticsService(ctx.ds),
+    evidence: new EvidenceService(ctx.ds, ctx.audit, now),
     runs: new RunsService(ctx),
     rigs: new RigsService(ctx),
     floor,

@@ -4,11 +4,18 @@ import { createApp } from './app';
 import { configFromEnv } from './config';
 import { createContext } from './composition';
 import { createDataSource } from './db/data-source';
+import { describeErrorForLog } from './db/safe-logger';
 import { startFeatures } from './features';
+import { ConfigError, refuseWeakSecretsOffLoopback, withSecrets } from './secrets';
 
 /** The API process: migrations, then HTTP (+ web export), MQTT ingest and the scheduler. */
 async function main() {
-  const config = configFromEnv();
+  const config = configFromEnv(withSecrets(process.env).env);
+  refuseWeakSecretsOffLoopback('the API', config.host, {
+    sessionSecret: config.sessionSecret,
+    mqttServerPassword: config.mqtt.password,
+    dbPassword: config.db.password,
+  });
   const ds = createDataSource(config.db);
   await ds.initialize(); // runs pending migrations
   const ctx = createContext(ds, config);
@@ -25,7 +32,7 @@ async function main() {
     console.log(`[api] ${sig}: closing`);
     server.close();
     server.closeAllConnections?.();
-    await stopFeatures().catch((e) => console.error('[api] stopping features:', e));
+    await stopFeatures().catch((e) => console.error(`[api] stopping features: ${describeErrorForLog(e)}`));
     await ctx.close().catch(() => undefined);
     await ds.destroy().catch(() => undefined);
     process.exit(0);
@@ -35,6 +42,6 @@ async function main() {
 }
 
 main().catch((err) => {
-  console.error('[api] failed to start:', err);
+  console.error(`[api] failed to start: ${err instanceof ConfigError ? err.message : describeErrorForLog(err)}`);
   process.exit(1);
 });

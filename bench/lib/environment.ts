@@ -85,6 +85,7 @@ export async function prepareDatabase(log: (l: string) => void): Promise<BenchEn
     EMBERLOT_DB_PORT: String(SETTINGS.ports.pg),
     EMBERLOT_PG_PORT: String(SETTINGS.ports.pg),
     EMBERLOT_DB_NAME: SETTINGS.database,
+    EMBERLOT_DB_PASSWORD: cluster.password,
     EMBERLOT_PORT: String(SETTINGS.ports.api),
     EMBERLOT_MQTT_PORT: String(SETTINGS.ports.mqtt),
     EMBERLOT_MQTT_URL: `mqtt://127.0.0.1:${SETTINGS.ports.mqtt}`,

@@ -4,6 +4,7 @@ import type {
   MeasurementRunDetail,
   MeasurementRunSummary,
   RowResult,
+  StoredReading,
   UploadResult,
   Units,
   ColumnMapping,
@@ -15,6 +16,7 @@ export const measurementKeys = {
   all: ['measurements'] as const,
   runs: () => ['measurements', 'runs'] as const,
   run: (id: string) => ['measurements', 'runs', id] as const,
+  readings: (id: string, h: number) => ['measurements', 'runs', id, 'read-points', h] as const,
 };
 
 const STALE_MS = 30_000;
@@ -32,6 +34,17 @@ export function useMeasurementRun(id: string | undefined) {
     queryKey: measurementKeys.run(id ?? ''),
     queryFn: ({ signal }) => api<MeasurementRunDetail>(`/api/measurements/runs/${encodeURIComponent(id!)}`, { signal }),
     enabled: !!id,
+    staleTime: STALE_MS,
+  });
+}
+
+/** The stored readings of one read point (the coverage panel lists them for confirmation). */
+export function useReadPointReadings(id: string | undefined, hours: number | undefined) {
+  return useQuery({
+    queryKey: measurementKeys.readings(id ?? '', hours ?? -1),
+    queryFn: ({ signal }) =>
+      api<{ items: StoredReading[] }>(`/api/measurements/runs/${encodeURIComponent(id!)}/read-points/${hours}`, { signal }).then((r) => r.items),
+    enabled: !!id && hours !== undefined,
     staleTime: STALE_MS,
   });
 }

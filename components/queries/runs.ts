@@ -2,11 +2,13 @@
 import { keepPreviousData, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type {
   BookRunInput,
+  BookSampleInput,
   ProposalInput,
   ProposalResult,
   Run,
   RunAction,
   RunDetail,
+  SampleBooking,
   SocketFlag,
   SocketLoadResult,
   Timeline,
@@ -57,6 +59,15 @@ export function useBookRun() {
   const qc = useQueryClient();
   return useMutation({
     mutationFn: (input: BookRunInput) => api<RunDetail>('/api/runs', { method: 'POST', body: input }),
+    onSuccess: () => qc.invalidateQueries({ queryKey: runKeys.all }),
+  });
+}
+
+/** A sample booked across rigs (one run per rig, all or none). */
+export function useBookSample() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (input: BookSampleInput) => api<SampleBooking>('/api/runs/samples', { method: 'POST', body: input }),
     onSuccess: () => qc.invalidateQueries({ queryKey: runKeys.all }),
   });
 }

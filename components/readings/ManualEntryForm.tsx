@@ -8,10 +8,13 @@ import { Banner } from '@/components/ui/Banner';
 import { Button } from '@/components/ui/Button';
 import { Card } from '@/components/ui/Card';
 import { Field } from '@/components/ui/Field';
+import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
+import { MEASUREMENT_RESULT_LABEL, MEASUREMENT_RESULTS, type MeasurementResult } from '@/shared/evidence';
 import { RowOutcomes } from './RowOutcomes';
 
 interface Draft {
+  result: MeasurementResult;
   serial: string;
   hfe: string;
   hfeIcMa: string;
@@ -23,6 +26,7 @@ interface Draft {
 }
 
 const blank = (prev?: Draft): Draft => ({
+  result: 'measured',
   serial: '',
   hfe: '',
   hfeIcMa: prev?.hfeIcMa ?? '',
@@ -43,7 +47,7 @@ export function ManualEntryForm({ runId, hours }: { runId: string; hours: number
   const [result, setResult] = useState<UploadResult | null>(null);
   const [failure, setFailure] = useState<{ message: string; rows?: RowsError['rows'] } | null>(null);
 
-  const set = (i: number, k: keyof Draft, v: string) => {
+  const set = <K extends keyof Draft>(i: number, k: K, v: Draft[K]) => {
     setResult(null);
     setRows(rows.map((r, j) => (j === i ? { ...r, [k]: v } : r)));
   };
@@ -54,8 +58,9 @@ export function ManualEntryForm({ runId, hours }: { runId: string; hours: number
     const errs: Record<string, string> = {};
     rows.forEach((r, i) => {
       const n = (s: string) => (s.trim() === '' ? Number.NaN : Number(s.replace(',', '.')));
-      const parsed = manualReadingSchema.safeParse({
+      const parsed = manualReadingSchema.safeParse(r.result !== 'measured' ? { serial: r.serial, result: r.result, measuredC: n(r.tempC) } : {
         serial: r.serial,
+        result: r.result,
         hfe: n(r.hfe),
         hfeIcA: n(r.hfeIcMa) / 1000,
         hfeVceV: n(r.hfeVceV),
@@ -107,14 +112,25 @@ export function ManualEntryForm({ runId, hours }: { runId: string; hours: number
         {rows.map((_, i) => (
           <View key={i} style={{ gap: space.xs }}>
             <Text variant="label">Device {i + 1}</Text>
+            <SegmentedChoice
+              label={`Device ${i + 1}: result`}
+              options={MEASUREMENT_RESULTS.map((k) => ({ value: k, label: MEASUREMENT_RESULT_LABEL[k] }))}
+              value={rows[i].result}
+              onChange={(v) => set(i, 'result', v)}
+              help={rows[i].result === 'measured' ? undefined : 'A dead device is stored without values and counts as a failure at this read point.'}
+            />
             <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.sm }}>
               {f(i, 'serial', 'Serial', false)}
-              {f(i, 'hfe', 'hFE')}
-              {f(i, 'hfeIcMa', 'IC for hFE (mA)')}
-              {f(i, 'hfeVceV', 'VCE for hFE (V)')}
-              {f(i, 'icboNa', 'ICBO (nA)')}
-              {f(i, 'icboVcbV', 'VCB for ICBO (V)')}
-              {f(i, 'vcesatMv', 'VCE(sat) (mV)')}
+              {rows[i].result === 'measured' ? (
+                <>
+                  {f(i, 'hfe', 'hFE')}
+                  {f(i, 'hfeIcMa', 'IC for hFE (mA)')}
+                  {f(i, 'hfeVceV', 'VCE for hFE (V)')}
+                  {f(i, 'icboNa', 'ICBO (nA)')}
+                  {f(i, 'icboVcbV', 'VCB for ICBO (V)')}
+                  {f(i, 'vcesatMv', 'VCE(sat) (mV)')}
+                </>
+              ) : null}
               {f(i, 'tempC', 'Temperature (°C)')}
             </View>
             {rows.length > 1 ? <Button size="sm" variant="quiet" label={`Remove device ${i + 1}`} onPress={() => setRows(rows.filter((__, j) => j !== i))} /> : null}

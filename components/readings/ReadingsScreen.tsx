@@ -12,6 +12,7 @@ import { QueryState } from '@/components/ui/QueryState';
 import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
+import { CoveragePanel } from './CoveragePanel';
 import { ManualEntryForm } from './ManualEntryForm';
 import { UploadPanel } from './UploadPanel';
 
@@ -80,6 +81,7 @@ export function ReadingsScreen() {
                       {r.deviceCount === 0 ? <Banner tone="warn">This run has no socket map yet, so no reading can be matched to a device.</Banner> : null}
                       {chosen && r.deviceCount > 0 ? (
                         <>
+                          <CoveragePanel key={`c-${r.id}-${chosen.hours}`} runId={r.id} hours={chosen.hours} />
                           <UploadPanel key={`${r.id}-${chosen.hours}`} runId={r.id} hours={chosen.hours} />
                           <ManualEntryForm key={`m-${r.id}-${chosen.hours}`} runId={r.id} hours={chosen.hours} />
                         </>

@@ -1,3 +1,4 @@
+import { MEASUREMENT_RESULT_LABEL } from '@/shared/evidence';
 import { useState } from 'react';
 import { View } from 'react-native';
 import type { RowResult } from '@/shared/schemas/measurements';
@@ -35,11 +36,19 @@ const columns = (noun: string): Column<RowResult>[] => [
     render: (r) => (
       <Text variant="caption" tone={r.reasons.length ? 'danger' : 'muted'}>
         {r.late ? 'Measured more than 96 h after bias was removed (JESD22-A108 window, from memory). ' : ''}
-        {r.reasons.length ? r.reasons.join(' ') : r.values ? `hFE ${r.values.hfe}, ICBO ${+(r.values.icboA * 1e9).toPrecision(4)} nA, VCE(sat) ${+(r.values.vcesatV * 1000).toPrecision(4)} mV at ${r.values.measuredC} °C` : '—'}
+        {r.reasons.length ? r.reasons.join(' ') : r.values ? valuesText(r.values) : '—'}
+        {r.conditionsFlag ? ` Flagged: ${r.conditionsFlag} Not judged until an engineer confirms it.` : ''}
       </Text>
     ),
   },
 ];
+
+function valuesText(v: NonNullable<RowResult['values']>): string {
+  if (v.result !== 'measured') return `${MEASUREMENT_RESULT_LABEL[v.result]}: counts as a failure at this read point (measured at ${v.measuredC} °C)`;
+  const nA = v.icboA === null ? '—' : `${+(v.icboA * 1e9).toPrecision(4)} nA`;
+  const mV = v.vcesatV === null ? '—' : `${+(v.vcesatV * 1000).toPrecision(4)} mV`;
+  return `hFE ${v.hfe}, ICBO ${nA}, VCE(sat) ${mV} at ${v.measuredC} °C`;
+}
 
 /** Every row's outcome, with the reason for each refused row; filter to problems only. */
 export function RowOutcomes({ rows, noun = 'Row', testID }: { rows: RowResult[]; noun?: string; testID?: string }) {

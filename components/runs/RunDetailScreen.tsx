@@ -266,6 +266,11 @@ export function RunDetailScreen({ id }: { id: string }) {
                   {`${run.override.byName ?? 'An engineer'}: “${run.override.reason}”`}
                 </Banner>
               ) : null}
+              {run.sample ? (
+                <Text testID="run-sample" variant="caption" tone={run.sample.bookedSize < run.sample.plannedSize ? 'attention' : 'muted'}>
+                  {`Sample: ${run.sample.bookedSize} of the plan's ${run.sample.plannedSize} devices${run.sample.runCodes.length > 1 ? `, split over runs ${run.sample.runCodes.join(' + ')} and judged as one` : ''}.${run.sample.deviation ? ` Deviation recorded: “${run.sample.deviation}”` : ''}`}
+                </Text>
+              ) : null}
               {run.rig && !run.rig.online && ['heating', 'stressing', 'paused', 'read-hold', 'cooling'].includes(run.state) ? (
                 <Banner tone="danger">{`${run.rig.code} is offline: no telemetry, so no hours count and commands wait until it is back.`}</Banner>
               ) : null}

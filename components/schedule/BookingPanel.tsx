@@ -1,7 +1,9 @@
 /**
  * Booking (engineers): plan version + lots + sample size → rigs that can take the run, ranked by
  * finish, with the reasons others cannot → book. A plan whose check blocks needs a written
- * override reason (at least 10 characters), which is audited.
+ * override reason (at least 10 characters), which is audited. A sample smaller than the plan's
+ * needs a recorded deviation; a sample larger than one rig is split across two rigs and booked
+ * together (one run per rig, judged as one sample).
  */
 import { useRouter } from 'expo-router';
 import { useEffect, useMemo, useState } from 'react';
@@ -9,7 +11,7 @@ import { Pressable, View } from 'react-native';
 import { describeError } from '@/components/queries/api';
 import { useLots } from '@/components/queries/lots';
 import { usePlan, usePlans } from '@/components/queries/plans';
-import { useBookRun, useProposals } from '@/components/queries/runs';
+import { useBookRun, useBookSample, useProposals } from '@/components/queries/runs';
 import { hours, shortTime } from '@/components/runs/run-look';
 import { colors, radius, space } from '@/components/theme/tokens';
 import { Banner } from '@/components/ui/Banner';
@@ -19,7 +21,8 @@ import { Field } from '@/components/ui/Field';
 import { Loading } from '@/components/ui/Loading';
 import { Badge, StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
-import { OVERRIDE_REASON_MIN, type ProposalOption } from '@/shared/schemas/runs';
+import { DEVIATION_REASON_MIN, sampleShortfall } from '@/shared/evidence';
+import { OVERRIDE_REASON_MIN, type ProposalOption, type ProposalResult } from '@/shared/schemas/runs';
 
 function Chip({ label, selected, onPress, hint }: { label: string; selected: boolean; onPress: () => void; hint?: string }) {
   return (
@@ -56,32 +59,117 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
   const [lotIds, setLotIds] = useState<string[]>([]);
   const [sample, setSample] = useState('');
   const [reason, setReason] = useState('');
+  const [deviation, setDeviation] = useState('');
+  /** Split: devices on the first rig (the rest go to a second rig, booked together as one sample). */
+  const [split, setSplit] = useState(false);
+  const [firstPart, setFirstPart] = useState('');
+  const [picked, setPicked] = useState<Array<string | undefined>>([undefined, undefined]);
   const proposals = useProposals();
+  const proposals2 = useProposals();
   const book = useBookRun();
+  const bookSample = useBookSample();
 
   useEffect(() => {
     setVersionId(current?.id);
     setLotIds([]);
     setSample(current ? String(current.sampleSize) : '');
+    setSplit(false);
     proposals.reset();
+    proposals2.reset();
     // eslint-disable-next-line react-hooks/exhaustive-deps -- reset when another plan is chosen, not on every render of `current` / `proposals`
   }, [planKey]);
 
   const sampleSize = Number(sample);
   const sampleError = sample && (!Number.isInteger(sampleSize) || sampleSize < 1 || sampleSize > 256) ? 'A whole number of devices, 1–256' : undefined;
-  const ready = !!versionId && lotIds.length > 0 && !!sample && !sampleError;
+  const first = Number(firstPart);
+  const splitError = split && (!Number.isInteger(first) || first < 1 || first >= sampleSize) ? `Between 1 and ${Math.max(1, sampleSize - 1)} devices on the first rig` : undefined;
+  const ready = !!versionId && lotIds.length > 0 && !!sample && !sampleError && !splitError;
   const request = useMemo(() => (ready ? { planId: versionId!, lotIds, sampleSize } : null), [ready, versionId, lotIds, sampleSize]);
+  const parts = split && request ? [first, sampleSize - first] : null;
   const result = proposals.data;
+  const result2 = split ? proposals2.data : undefined;
   const blocks = (result?.blockingFindings.length ?? 0) > 0;
   const reasonOk = reason.trim().length >= OVERRIDE_REASON_MIN;
+  const shortfall = current ? sampleShortfall(current.sampleSize, sampleSize || 0) : null;
+  const deviationOk = !shortfall || deviation.trim().length >= DEVIATION_REASON_MIN;
+  const extras = () => ({
+    ...(blocks ? { override: { reason: reason.trim() } } : {}),
+    ...(shortfall ? { deviation: { reason: deviation.trim() } } : {}),
+  });
+
+  const find = () => {
+    if (!request) return;
+    setPicked([undefined, undefined]);
+    if (parts) {
+      proposals.mutate({ ...request, sampleSize: parts[0] });
+      proposals2.mutate({ ...request, sampleSize: parts[1] });
+    } else {
+      proposals2.reset();
+      proposals.mutate(request);
+    }
+  };
 
   const onBook = (o: ProposalOption) => {
     if (!request) return;
     book.mutate(
-      { ...request, rigId: o.rigId, start: o.start, ...(blocks ? { override: { reason: reason.trim() } } : {}) },
+      { ...request, rigId: o.rigId, start: o.start, ...extras() },
       { onSuccess: (run) => { onDone(); router.push(`/runs/${run.id}`); } },
     );
   };
+
+  const pickedOptions = [result, result2].map((r, i) => r?.options.find((o) => o.rigId === picked[i]));
+  const onBookSample = () => {
+    if (!request || !parts || !pickedOptions[0] || !pickedOptions[1]) return;
+    bookSample.mutate(
+      {
+        planId: request.planId,
+        lotIds: request.lotIds,
+        parts: pickedOptions.map((o, i) => ({ rigId: o!.rigId, start: o!.start, sampleSize: parts[i] })),
+        ...extras(),
+      },
+      { onSuccess: (b) => { onDone(); router.push(`/runs/${b.runs[0].id}`); } },
+    );
+  };
+
+  const deviationField = shortfall ? (
+    <Banner tone="warn" title="Smaller than the plan's sample">
+      <View style={{ gap: space.xs }}>
+        <Text variant="caption">
+          {`${shortfall} The verdict will say what ${sampleSize} devices demonstrate. Split the sample across rigs to book all ${current?.sampleSize}, or record why a smaller sample may stand.`}
+        </Text>
+        <Field
+          label="Deviation reason (engineer, recorded in the audit trail)"
+          multiline
+          value={deviation}
+          onChangeText={setDeviation}
+          help={`At least ${DEVIATION_REASON_MIN} characters.`}
+          error={deviation && !deviationOk ? `Write at least ${DEVIATION_REASON_MIN} characters` : undefined}
+        />
+      </View>
+    </Banner>
+  ) : null;
+
+  const partChoice = (r: ProposalResult | undefined, i: number) =>
+    r && parts ? (
+      <View key={i} style={{ gap: space.xs }} testID={`split-part-${i + 1}`}>
+        <Text variant="label">{`Part ${i + 1}: ${parts[i]} devices`}</Text>
+        {r.options.length ? (
+          <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs }}>
+            {r.options.map((o) => (
+              <Chip
+                key={o.rigId}
+                label={`Part ${i + 1} on ${o.rigCode}`}
+                selected={picked[i] === o.rigId}
+                hint={`Starts ${shortTime(o.start)}, ${o.spareSockets} sockets to spare`}
+                onPress={() => setPicked((p) => p.map((x, j) => (j === i ? o.rigId : j === 1 - i && x === o.rigId ? undefined : x)))}
+              />
+            ))}
+          </View>
+        ) : (
+          <Text variant="caption" tone="attention">No rig can take this part.</Text>
+        )}
+      </View>
+    ) : null;
 
   return (
     <Card title="Book a run" description="Choose a plan version, the lots and how many devices; Emberlot proposes rigs and start times.">
@@ -124,15 +212,43 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
         </View>
       ) : null}
       {current ? (
-        <View style={{ maxWidth: 240 }}>
-          <Field label="Devices (sample size)" keyboardType="number-pad" value={sample} onChangeText={setSample} error={sampleError} help={`The plan asks for ${current.sampleSize}.`} />
+        <View style={{ gap: space.xs }}>
+          <View style={{ maxWidth: 240 }}>
+            <Field label="Devices (sample size)" keyboardType="number-pad" value={sample} onChangeText={setSample} error={sampleError} help={`The plan asks for ${current.sampleSize}.`} />
+          </View>
+          <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs }}>
+            <Chip
+              label="Split the sample across two rigs"
+              selected={split}
+              hint="One run per rig, booked together and judged as one sample"
+              onPress={() => {
+                setSplit(!split);
+                if (!split && !firstPart) setFirstPart(String(Math.min(64, Math.max(1, sampleSize - 1))));
+                proposals.reset();
+                proposals2.reset();
+              }}
+            />
+          </View>
+          {split ? (
+            <View style={{ maxWidth: 240 }}>
+              <Field
+                label="Devices on the first rig"
+                keyboardType="number-pad"
+                value={firstPart}
+                onChangeText={setFirstPart}
+                error={splitError}
+                help={Number.isInteger(first) && first > 0 && first < sampleSize ? `The other ${sampleSize - first} go to a second rig.` : undefined}
+              />
+            </View>
+          ) : null}
         </View>
       ) : null}
       <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
-        <Button label="Find rigs" variant="primary" disabled={!request} busy={proposals.isPending} busyLabel="Finding rigs…" onPress={() => request && proposals.mutate(request)} />
+        <Button label="Find rigs" variant="primary" disabled={!request} busy={proposals.isPending || proposals2.isPending} busyLabel="Finding rigs…" onPress={find} />
         <Button label="Close" variant="quiet" onPress={onDone} />
       </View>
       {proposals.isError ? <Banner tone="danger">{describeError(proposals.error)}</Banner> : null}
+      {proposals2.isError ? <Banner tone="danger">{describeError(proposals2.error)}</Banner> : null}
 
       {result ? (
         <View style={{ gap: space.md }} testID="booking-proposals">
@@ -163,7 +279,26 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
               </View>
             </Banner>
           ) : null}
-          {result.options.map((o, i) => (
+          {deviationField}
+          {parts ? (
+            <View style={{ gap: space.sm }} testID="split-booking">
+              {partChoice(result, 0)}
+              {partChoice(result2, 1)}
+              <View style={{ flexDirection: 'row' }}>
+                <Button
+                  label={pickedOptions[0] && pickedOptions[1] ? `Book the sample on ${pickedOptions[0].rigCode} + ${pickedOptions[1].rigCode}` : 'Choose a rig for each part'}
+                  variant="primary"
+                  disabled={!pickedOptions[0] || !pickedOptions[1] || (blocks && !reasonOk) || !deviationOk}
+                  busy={bookSample.isPending}
+                  busyLabel="Booking…"
+                  onPress={onBookSample}
+                  testID="book-sample"
+                />
+              </View>
+              {bookSample.isError ? <Banner tone="danger">{describeError(bookSample.error)}</Banner> : null}
+            </View>
+          ) : null}
+          {(parts ? [] : result.options).map((o, i) => (
             <View key={o.rigId} style={{ borderWidth: 1, borderColor: colors.border, borderRadius: radius.md, padding: space.sm, gap: space.xs }}>
               <View style={{ flexDirection: 'row', gap: space.xs, alignItems: 'center', flexWrap: 'wrap' }}>
                 <Text variant="bodyStrong">
@@ -184,14 +319,18 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
                 size="sm"
                 variant={i === 0 ? 'primary' : 'secondary'}
                 label={`Book on ${o.rigCode}`}
-                disabled={blocks && !reasonOk}
+                disabled={(blocks && !reasonOk) || !deviationOk}
                 busy={book.isPending && book.variables?.rigId === o.rigId}
                 busyLabel="Booking…"
                 onPress={() => onBook(o)}
               />
             </View>
           ))}
-          {!result.options.length && !result.problems.length ? <Banner tone="warn">No rig can take this run. The reasons per rig are below.</Banner> : null}
+          {!parts && !result.options.length && !result.problems.length ? (
+            <Banner tone="warn">
+              No rig can take this run. The reasons per rig are below; a sample larger than any one rig can be split across two rigs.
+            </Banner>
+          ) : null}
           {result.refusals.length ? (
             <View style={{ gap: space.xs }}>
               <Text variant="label">Rigs that cannot take it</Text>

@@ -1,7 +1,7 @@
 import { useLocalSearchParams, useRouter, type Href } from 'expo-router';
 import { useState } from 'react';
 import { View } from 'react-native';
-import type { ControlCheck, LotDetail, LotDevice, LotReadPointStats } from '@/shared/schemas/analytics';
+import { LOT_VERDICT_LABEL, type LotDetail, type LotDevice, type LotReadPointStats } from '@/shared/schemas/analytics';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { describeError } from '@/components/queries/api';
@@ -19,6 +19,7 @@ import { Text } from '@/components/ui/Text';
 import { downloadReport } from './exportReport';
 import { hours, PARAM_LABEL, pct, sig } from './format';
 import { LotDistributionChart } from '@/components/charts/LazyCharts';
+import { LotPlanJudgement } from './LotPlanJudgement';
 import { VerdictPill } from './verdict';
 
 const DEVICE_STATUS = {
@@ -47,44 +48,10 @@ function ExportButtons({ lot }: { lot: LotDetail }) {
   );
 }
 
-function ControlCard({ checks, partNumber }: { checks: ControlCheck[]; partNumber: string }) {
-  if (!checks.length) return null;
-  return (
-    <Card title="Against other lots" description={`Individuals chart from the other ${partNumber} lots on the same kind of stress (limits mean ± 2.66 × average moving range), plus the Western Electric run rules.`}>
-      <View style={{ gap: space.sm }}>
-        {checks.map((c) => (
-          <View key={c.parameter} style={{ gap: 2 }}>
-            <View style={{ flexDirection: 'row', gap: space.xs, alignItems: 'center', flexWrap: 'wrap' }}>
-              <Text variant="bodyStrong">
-                {c.parameter === 'hfe' ? 'Mean hFE change' : 'Median ICBO ratio'} at {hours(c.readPointH)}: {c.parameter === 'hfe' ? pct(c.value) : `${sig(c.value)}×`}
-              </Text>
-              {c.chart ? (
-                <StatusPill size="sm" tone={c.outOfControl ? 'attention' : 'ok'} label={c.outOfControl ? 'Out of control' : 'In control'} />
-              ) : (
-                <StatusPill size="sm" tone="idle" label="Not judged" />
-              )}
-            </View>
-            {c.chart ? (
-              <Text variant="caption" tone="muted">
-                Limits {sig(c.chart.lcl)} to {sig(c.chart.ucl)} from {c.reference.map((r) => `${r.lotCode} (${sig(r.value)})`).join(', ')}.
-                {c.violations.length ? ` ${c.violations.map((v) => `Rule ${v.rule}: ${v.description}`).join('; ')}.` : ''}
-              </Text>
-            ) : (
-              <Text variant="caption" tone="muted">
-                {c.note}
-              </Text>
-            )}
-          </View>
-        ))}
-      </View>
-    </Card>
-  );
-}
-
 function FitCard({ lot }: { lot: LotDetail }) {
   const f = lot.fit;
   return (
-    <Card title="Failure rate" description="Upper bound at 60 % and 90 % confidence, chi-square method, Arrhenius acceleration from stress to use temperature.">
+    <Card title="Failure rate" description="Upper bound at 60 % and 90 % confidence, chi-square method, Arrhenius acceleration from stress to use temperature; device-hours are each device's credited hours (its socket's own accrual).">
       {f ? (
         <View style={{ gap: space.xs }}>
           <View style={{ flexDirection: 'row', gap: space.lg, flexWrap: 'wrap' }}>
@@ -102,7 +69,7 @@ function FitCard({ lot }: { lot: LotDetail }) {
             </View>
           </View>
           <Text variant="caption">
-            {f.failures} failure{f.failures === 1 ? '' : 's'} in {f.devices} devices × {hours(f.hoursEach)} = {Math.round(f.deviceHours).toLocaleString('en-GB')} device-hours
+            {f.failures} failure{f.failures === 1 ? '' : 's'} in {Math.round(f.deviceHours).toLocaleString('en-GB')} device-hours credited to {f.devices} devices (mean {hours(f.hoursEach)} each)
             ({Math.round(f.equivalentDeviceHours).toLocaleString('en-GB')} at use conditions).
           </Text>
           <Text variant="caption" tone="muted">
@@ -146,7 +113,7 @@ const deviceColumns: Column<LotDevice>[] = [
   },
 ];
 
-/** One lot: verdict and reasons, spread per read point, trend, comparison, FIT, devices, exports. */
+/** One lot: verdict and reasons, spread per read point, trend, each plan's judgement (sample, read points, degradation, peers), FIT, devices, exports. */
 export function LotDetailScreen() {
   const { id } = useLocalSearchParams<{ id: string }>();
   const router = useRouter();
@@ -168,6 +135,11 @@ export function LotDetailScreen() {
             <Card title="Verdict">
               <View style={{ gap: space.sm }}>
                 <VerdictPill verdict={l.verdict} size="md" />
+                {l.planVerdicts.length > 1 ? (
+                  <Text variant="caption" testID="plan-verdicts">
+                    Combined over {l.planVerdicts.length} plans (the worst counts): {l.planVerdicts.map((p) => `${p.planName}: ${LOT_VERDICT_LABEL[p.verdict]}`).join('; ')}.
+                  </Text>
+                ) : null}
                 {l.reasons.map((r, i) => (
                   <Text key={i} variant={i === 0 ? 'bodyStrong' : 'body'}>
                     • {r}
@@ -188,7 +160,7 @@ export function LotDetailScreen() {
                   <LotDistributionChart lot={l} />
                 </Card>
                 <DataTable caption="Drift distribution per read point" columns={rpColumns} rows={l.readPoints} rowKey={(r) => String(r.hours)} testID="lot-readpoints" />
-                <Card title="Trend and projection" description="The lot's typical device (mean hFE change, median ICBO ratio, mean VCE(sat) shift) fitted through the origin and solved for the limit.">
+                <Card title="Typical device" description="The lot's typical device (mean hFE change, median ICBO ratio, mean VCE(sat) shift) fitted through the origin and solved for the limit; the verdict reads each device's own path (below).">
                   <View style={{ gap: space.xxs }}>
                     {l.trends.map((t) => (
                       <Text key={t.parameter}>
@@ -199,7 +171,14 @@ export function LotDetailScreen() {
                     {l.trends.length === 0 ? <Text tone="muted">Needs a read point after time zero.</Text> : null}
                   </View>
                 </Card>
-                <ControlCard checks={l.control} partNumber={l.partNumber} />
+                {l.plans.map((p) => (
+                  <LotPlanJudgement key={p.planId} plan={p} />
+                ))}
+                {l.productionDateSource === 'date-code' ? (
+                  <Text variant="caption" tone="muted">
+                    Peer lots are ordered by production date; this lot's ({l.productionDate}) is read from its date code {l.dateCode} (year and week).
+                  </Text>
+                ) : null}
                 <FitCard lot={l} />
                 <View style={{ gap: space.sm }}>
                   <Text variant="heading" heading={2}>

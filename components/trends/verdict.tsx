@@ -7,12 +7,14 @@ export const VERDICT_TONE: Record<LotVerdict, Tone> = {
   passed: 'ok',
   drifting: 'attention',
   failed: 'danger',
+  incomplete: 'attention',
+  'insufficient-sample': 'attention',
   'in-progress': 'info',
   untested: 'idle',
 };
 
-/** Worst first, for sorting. */
-export const VERDICT_ORDER: Record<LotVerdict, number> = { failed: 0, drifting: 1, 'in-progress': 2, passed: 3, untested: 4 };
+/** Worst first, for sorting: the same order that combines a lot's plans. */
+export { VERDICT_RANK as VERDICT_ORDER } from '@/shared/verdict/judge';
 
 export function VerdictPill({ verdict, size = 'sm' }: { verdict: LotVerdict; size?: 'sm' | 'md' }) {
   return <StatusPill tone={VERDICT_TONE[verdict]} label={LOT_VERDICT_LABEL[verdict]} size={size} testID={`verdict-${verdict}`} />;

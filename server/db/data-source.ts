@@ -5,6 +5,8 @@ import type { DbConfig } from '../config';
 import { dbConfigFromEnv } from '../config';
 import { ENTITIES } from './entities';
 import { SnakeNamingStrategy } from './naming';
+import { ParameterFreeLogger } from './safe-logger';
+import { withSecrets } from '../secrets';
 
 export function createDataSource(db: DbConfig, opts: { runMigrations?: boolean; poolSize?: number } = {}): DataSource {
   return new DataSource({
@@ -24,8 +26,18 @@ export function createDataSource(db: DbConfig, opts: { runMigrations?: boolean; 
     installExtensions: false,
     extra: { max: opts.poolSize ?? 20 },
     logging: ['error'],
+    logger: new ParameterFreeLogger(),
   });
 }
 
-/** Used by the TypeORM CLI (migration:generate) only. */
-export default createDataSource(dbConfigFromEnv(), { runMigrations: false });
+/** The generated secrets file, read only (never created) and only when it can be read. */
+function cliEnv(): NodeJS.ProcessEnv {
+  try {
+    return { ...process.env, ...withSecrets(process.env, { create: false }).env };
+  } catch {
+    return process.env;
+  }
+}
+
+/** Used by the TypeORM CLI (migration:generate) only: the demo cluster's generated password. */
+export default createDataSource(dbConfigFromEnv(cliEnv()), { runMigrations: false });

@@ -1,6 +1,7 @@
 import type { ErrorRequestHandler } from 'express';
 import { ZodError } from 'zod';
 import type { ErrorCode } from '../../shared/schemas/errors';
+import { describeErrorForLog } from '../db/safe-logger';
 
 const STATUS: Record<ErrorCode, number> = {
   bad_request: 400,
@@ -80,12 +81,16 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   } else if (err instanceof Error && MULTIPART_PARSE_ERROR.test(err.message)) {
     // busboy (under multer) refusing a malformed multipart body: the client's fault, never a 500.
     e = badRequest(`The upload could not be read as a multipart form (${err.message}).`);
+  } else if (err instanceof URIError) {
+    // The router's decodeURIComponent of a route parameter (`/api/plans/%ZZ`): the client's fault.
+    e = badRequest('The address holds a malformed percent-encoding (a % not followed by two hex digits, or bytes that are not UTF-8).');
   } else if (err?.code === '22021' || err?.code === '22P05') {
     // PostgreSQL: "invalid byte sequence" / "untranslatable character" (a NUL in text or jsonb) from
     // input that reached the database without passing the route check (file contents, file names).
     e = badRequest('The input holds a character that cannot be stored (a NUL or a broken unicode sequence).');
   } else {
-    console.error(`[api] ${req.method} ${req.originalUrl} failed:`, err);
+    // The path only (the query string may carry e-mail addresses or names) and no SQL parameters.
+    console.error(`[api] ${req.method} ${req.path} failed: ${describeErrorForLog(err)}`);
     e = new AppError('internal', 'Something went wrong on the server. The error has been logged.');
   }
   if (res.headersSent) return;

@@ -15,6 +15,7 @@ import { rigsRoutes } from './rigs/rigs.routes';
 import { floorRoutes } from './floor/floor.routes';
 import { telemetryRoutes } from './telemetry/telemetry.routes';
 import { runsRoutes } from './runs/runs.routes';
+import { evidenceRoutes } from './evidence/evidence.routes';
 
 /** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
 export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
@@ -33,6 +34,7 @@ export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
   floorRoutes,
   telemetryRoutes,
   runsRoutes,
+  evidenceRoutes,
 ];
 
 export function apiRouters(ctx: AppContext): ApiRouter[] {

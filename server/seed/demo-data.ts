@@ -55,7 +55,7 @@ export const DEMO_LOTS: Array<{
 ];
 
 /** Devices registered per lot in the demo (the sample pulled for stress plus spares). */
-export const DEMO_DEVICES_PER_LOT = 90;
+export const DEMO_DEVICES_PER_LOT = 130;
 
 export const DEMO_RIGS: Array<{
   code: string; name: string; location: string; socketCount: number; maxTempC: number; maxVoltageV: number;

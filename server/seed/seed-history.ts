@@ -19,10 +19,12 @@ import {
   RunEntity,
   RunLotEntity,
   RunSocketEntity,
+  SampleEntity,
   StressPlanEntity,
   UserEntity,
+  DeviceDispositionEntity,
 } from '../db/entities';
-import { refreshFirstFailures } from '../modules/measurements/measurements.service';
+import { refreshConditionFlags, refreshFirstFailures } from '../modules/measurements/measurements.service';
 import { loadRunBundle } from '../modules/measurements/run-data';
 import { DEMO_LOTS } from './demo-data';
 import { mulberry32 } from '../../shared/random';
@@ -69,6 +71,20 @@ export interface HistoryRunSpec {
   /** Readings taken on a warm tester: hFE measured at this temperature (referred back by the analysis). */
   warm?: { serials: string[]; atH: number; tempC: number };
   createdById?: string | null;
+  /** Join this sample (a sample split across rigs); otherwise the run gets a sample of its own. */
+  sampleId?: string;
+  /** A sample smaller than the plan asks: the recorded deviation. */
+  deviation?: string;
+  /** Dead devices: from this read point on they read open / short / no reading (no values). */
+  catastrophic?: Array<{ serial: string; atH: number; result: 'open' | 'short' | 'no-reading' }>;
+  /** Sockets that tripped after this many stress hours: hours stop there; a disposition says what the trip means. */
+  trips?: Array<{ serial: string; atH: number; disposition: 'trip-failure' | 'reseated' | 'excluded' }>;
+  /** Readings never taken (the read point stays incomplete). */
+  missing?: Array<{ serial: string; atH: number }>;
+  /** Devices out of the sample from a read point on, with the recorded disposition. */
+  removed?: Array<{ serial: string; atH: number; kind: 'lost' | 'damaged' | 'excluded'; reason: string }>;
+  /** Readings flagged for their conditions are confirmed by this engineer with this note. */
+  confirmFlags?: { byId: string | null; reason: string };
 }
 
 /** Wall-clock time of each read point: 24 h hold per earlier read point, bias off at the read point. */
@@ -90,8 +106,27 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
   const biasRemovedAt = lastDone !== undefined ? clock.get(lastDone)!.biasOff : null;
   const finishedAt = s.state === 'finished' ? (biasRemovedAt ?? new Date(s.startedAt.getTime() + s.stressHours * H)) : null;
   const deviceCount = s.lots.reduce((n, l) => n + l.devices.length, 0);
+  let sampleId = s.sampleId;
+  if (sampleId) {
+    await m.query(`UPDATE samples SET booked_size = booked_size + $2 WHERE id = $1`, [sampleId, deviceCount]);
+  } else {
+    const short = deviceCount < s.plan.sampleSize && s.deviation;
+    const sample = await m.save(
+      m.create(SampleEntity, {
+        planId: s.plan.id,
+        plannedSize: s.plan.sampleSize,
+        bookedSize: deviceCount,
+        deviationReason: short ? s.deviation! : null,
+        deviationById: short ? (s.createdById ?? null) : null,
+        deviationAt: short ? s.startedAt : null,
+        createdById: s.createdById ?? null,
+      }),
+    );
+    sampleId = sample.id;
+  }
   const run = await m.save(
     m.create(RunEntity, {
+      sampleId,
       code: s.code,
       planId: s.plan.id,
       rigId: s.rig?.id ?? null,
@@ -116,8 +151,45 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
   for (const l of s.lots) for (const d of l.devices) sockets.push({ device: d, socketIndex: socket++, drift: l.drift, lotCode: l.lot.code });
   await m.insert(
     RunSocketEntity,
-    sockets.map((x) => ({ runId: run.id, deviceId: x.device.id, socketIndex: x.socketIndex, accruedHours: s.stressHours })),
+    sockets.map((x) => {
+      const trip = s.trips?.find((tr) => tr.serial === x.device.serial);
+      return trip
+        ? { runId: run.id, deviceId: x.device.id, socketIndex: x.socketIndex, accruedHours: trip.atH, tripped: true, trippedAt: new Date(s.startedAt.getTime() + trip.atH * H), tripReason: 'Runaway: junction rising on its own (protection trip)' }
+        : { runId: run.id, deviceId: x.device.id, socketIndex: x.socketIndex, accruedHours: s.stressHours };
+    }),
   );
+  for (const r of s.removed ?? []) {
+    const x = sockets.find((k) => k.device.serial === r.serial);
+    if (!x) continue;
+    await m.insert(DeviceDispositionEntity, {
+      runId: run.id, deviceId: x.device.id, readPointH: r.atH, kind: r.kind, reason: r.reason, byId: s.createdById ?? null, byName: 'Demo operator',
+      at: new Date(s.startedAt.getTime() + r.atH * H),
+    });
+  }
+  const afterTrip = (serial: string, h: number) => {
+    const trip = s.trips?.find((tr) => tr.serial === serial);
+    return trip && trip.disposition !== 'reseated' && h > trip.atH;
+  };
+  for (const tr of s.trips ?? []) {
+    const x = sockets.find((k) => k.device.serial === tr.serial);
+    if (!x) continue;
+    const next = plannedH.find((h) => h > tr.atH) ?? plannedH[plannedH.length - 1];
+    await m.insert(DeviceDispositionEntity, {
+      runId: run.id,
+      deviceId: x.device.id,
+      readPointH: next,
+      kind: tr.disposition,
+      reason:
+        tr.disposition === 'trip-failure'
+          ? `Socket ${x.socketIndex} tripped at ${tr.atH} h on thermal runaway; counted as a failure.`
+          : tr.disposition === 'reseated'
+            ? `Socket ${x.socketIndex} tripped at ${tr.atH} h on a loose clamp; device re-seated and measured on.`
+            : `Socket ${x.socketIndex} tripped at ${tr.atH} h on a rig fault; device excluded.`,
+      byId: s.createdById ?? null,
+      byName: 'Demo engineer',
+      at: new Date(s.startedAt.getTime() + next * H),
+    });
+  }
 
   const noise = s.noise ?? 1;
   const t = s.deviceType;
@@ -132,6 +204,11 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
     const vce0 = 0.22 + 0.02 * noise * z();
     const bv0 = (t.bvceoV ?? t.bvcboV / 2) * (1.15 + 0.03 * noise * z());
     for (const h of s.measuredH) {
+      if (afterTrip(x.device.serial, h)) continue;
+      if (s.removed?.some((r) => r.serial === x.device.serial && h >= r.atH)) continue;
+      if (s.missing?.some((mi) => mi.serial === x.device.serial && mi.atH === h)) continue;
+      const dead = s.catastrophic?.find((c) => c.serial === x.device.serial && h >= c.atH);
+      if (dead && h > dead.atH) continue; // dead at an earlier read point: nothing more to measure
       const fail = s.failures?.find((f) => f.serial === x.device.serial && h >= f.atH);
       let hfe = hfe0 * (1 + (x.drift.hfeDriftPctPer1000h * (h / 1000) * slopeScale + 0.4 * noise * z() * (h > 0 ? 1 : 0)) / 100);
       let icbo = leak0 * Math.pow(x.drift.leakageGrowthPer1000h, (h / 1000) * leakScale) * (h > 0 ? Math.exp(0.05 * noise * z()) : 1);
@@ -143,6 +220,13 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
       if (warm !== null) hfe *= Math.pow((warm + 273.15) / (t.betaRefTC + 273.15), t.xtb);
       const late = s.late?.some((l) => l.serial === x.device.serial && l.atH === h) ?? false;
       const when = clock.get(h)!;
+      if (dead) {
+        rows.push({
+          runId: run.id, deviceId: x.device.id, readPointH: h, result: dead.result, hfe: null, hfeIcA: null, hfeVceV: null, icboA: null,
+          icboVcbV: null, vcesatV: null, bvceoV: null, measuredC, measuredAt: when.measured, late: false, uploadId: null, enteredById: s.createdById ?? null,
+        });
+        continue;
+      }
       rows.push({
         runId: run.id,
         deviceId: x.device.id,
@@ -163,6 +247,15 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
     }
   }
   for (let i = 0; i < rows.length; i += 500) await m.insert(MeasurementEntity, rows.slice(i, i + 500));
+  await refreshConditionFlags(m, run.id);
+  if (s.confirmFlags) {
+    const flagged = await m.query(
+      `UPDATE measurements SET confirmed_at = measured_at + interval '2 hours', confirmed_by_id = $2, confirm_reason = $3
+       WHERE run_id = $1 AND conditions_flag IS NOT NULL RETURNING id`,
+      [run.id, s.confirmFlags.byId, s.confirmFlags.reason],
+    );
+    void flagged;
+  }
   await refreshFirstFailures(m, await loadRunBundle(m, run.id));
   return run;
 }
@@ -211,26 +304,60 @@ async function rigFor(m: EntityManager, codes: string[], active: boolean): Promi
 interface DemoRun {
   lot: string;
   kind: PlanKind;
+  /** Rigs to try in order (one run), or `split`: one run per rig, booked together as one sample. */
   rigs: string[];
+  split?: Array<{ rig: string; n: number }>;
   state: 'finished' | 'stressing';
   /** Days before now the stress started. */
   startedDaysAgo: number;
   failures?: HistoryRunSpec['failures'];
   late?: HistoryRunSpec['late'];
   warm?: HistoryRunSpec['warm'];
+  catastrophic?: HistoryRunSpec['catastrophic'];
+  trips?: HistoryRunSpec['trips'];
+  missing?: HistoryRunSpec['missing'];
+  removed?: HistoryRunSpec['removed'];
+  /** A sample smaller than the plan asks, booked with this recorded reason. */
+  deviation?: string;
+  confirmFlags?: string;
 }
 
+/**
+ * The verdict states each lot is meant to show (issue #19), honestly from its evidence:
+ * - HG2611-A passed: 77 devices split over OV-01 (64) and OV-02 (13), every read point complete.
+ * - HG2611-B incomplete: four devices have no 1000 h reading and no disposition (two late readings).
+ * - HG2609-D passed: six 1000 h readings measured warm (31 °C) are flagged and confirmed.
+ * - HG2610-E failed: a catastrophic open at 500 h, a trip counted as a failure, two parametric
+ *   failures at 1000 h, one device lost (disposition); 45 devices split over OV-04 (32) and OV-03 (13).
+ * - HG2608-F insufficient sample: 48 of the plan's 77 (the humidity chamber's board), deviation recorded.
+ * - HG2612-C in progress (and drifting against its sister lots): 620 h of 1000, 77 devices split
+ *   over OV-01 and OV-02.
+ */
 const DEMO_RUNS: DemoRun[] = [
-  { lot: 'HG2611-A', kind: 'htrb', rigs: ['OV-01', 'OV-02'], state: 'finished', startedDaysAgo: 160 },
-  { lot: 'HG2611-B', kind: 'htrb', rigs: ['OV-02', 'OV-01'], state: 'finished', startedDaysAgo: 120, late: [{ serial: 'B0003', atH: 1000 }, { serial: 'B0011', atH: 1000 }] },
-  { lot: 'HG2609-D', kind: 'hotl', rigs: ['OV-03', 'OV-04'], state: 'finished', startedDaysAgo: 100, warm: { serials: ['D0001', 'D0002', 'D0003', 'D0004', 'D0005', 'D0006'], atH: 1000, tempC: 31 } },
+  { lot: 'HG2611-A', kind: 'htrb', rigs: [], split: [{ rig: 'OV-01', n: 64 }, { rig: 'OV-02', n: 13 }], state: 'finished', startedDaysAgo: 160 },
   {
-    lot: 'HG2610-E', kind: 'hotl', rigs: ['OV-04', 'OV-03'], state: 'finished', startedDaysAgo: 90,
-    failures: [{ serial: 'E0007', atH: 1000, mode: 'leakage' }, { serial: 'E0019', atH: 1000, mode: 'gain' }],
+    lot: 'HG2611-B', kind: 'htrb', rigs: [], split: [{ rig: 'OV-02', n: 64 }, { rig: 'OV-01', n: 13 }], state: 'finished', startedDaysAgo: 120,
+    late: [{ serial: 'B0003', atH: 1000 }, { serial: 'B0011', atH: 1000 }],
+    missing: ['B0040', 'B0041', 'B0042', 'B0043'].map((serial) => ({ serial, atH: 1000 })),
   },
-  { lot: 'HG2608-F', kind: 'thb', rigs: ['HC-05'], state: 'finished', startedDaysAgo: 80 },
+  {
+    lot: 'HG2609-D', kind: 'hotl', rigs: ['OV-03', 'OV-04'], state: 'finished', startedDaysAgo: 100,
+    warm: { serials: ['D0001', 'D0002', 'D0003', 'D0004', 'D0005', 'D0006'], atH: 1000, tempC: 31 },
+    confirmFlags: 'Handler ran warm; hFE is referred to 25 °C by the gain law and ICBO is far inside its limit.',
+  },
+  {
+    lot: 'HG2610-E', kind: 'hotl', rigs: [], split: [{ rig: 'OV-04', n: 32 }, { rig: 'OV-03', n: 13 }], state: 'finished', startedDaysAgo: 90,
+    failures: [{ serial: 'E0007', atH: 1000, mode: 'leakage' }, { serial: 'E0019', atH: 1000, mode: 'gain' }],
+    catastrophic: [{ serial: 'E0023', atH: 500, result: 'open' }],
+    trips: [{ serial: 'E0012', atH: 310, disposition: 'trip-failure' }],
+    removed: [{ serial: 'E0031', atH: 500, kind: 'lost', reason: 'Not in the carrier after the 168 h read; searched the tester and the oven.' }],
+  },
+  {
+    lot: 'HG2608-F', kind: 'thb', rigs: ['HC-05'], state: 'finished', startedDaysAgo: 80,
+    deviation: 'Customer released 48 devices of this qualification lot; the humidity board holds 48. Agreed with the customer as an interim result.',
+  },
   // In progress: 620 stress hours, read at 0 / 168 / 500 h.
-  { lot: 'HG2612-C', kind: 'htrb', rigs: ['OV-01', 'OV-02'], state: 'stressing', startedDaysAgo: 28 },
+  { lot: 'HG2612-C', kind: 'htrb', rigs: [], split: [{ rig: 'OV-01', n: 64 }, { rig: 'OV-02', n: 13 }], state: 'stressing', startedDaysAgo: 28 },
 ];
 
 const IN_PROGRESS_HOURS = 620;
@@ -245,26 +372,46 @@ export async function seedHistory(ds: DataSource): Promise<void> {
       if (!demo || !lot) continue;
       const type = await m.findOneByOrFail(DeviceTypeEntity, { id: lot.deviceTypeId });
       const plan = await planFor(m, type, r.kind);
-      const rig = await rigFor(m, r.rigs, r.state === 'stressing');
-      const n = Math.min(plan.sampleSize, rig?.socketCount ?? plan.sampleSize);
-      const devices = await m.find(DeviceEntity, { where: { lotId: lot.id }, order: { serial: 'ASC' }, take: n });
+      const parts: Array<{ rig: RigEntity | null; n: number }> = [];
+      if (r.split) {
+        for (const p of r.split) parts.push({ rig: await m.findOne(RigEntity, { where: { code: p.rig } }), n: p.n });
+      } else {
+        const rig = await rigFor(m, r.rigs, r.state === 'stressing');
+        parts.push({ rig, n: Math.min(plan.sampleSize, rig?.socketCount ?? plan.sampleSize) });
+      }
+      const total = parts.reduce((a, p) => a + p.n, 0);
+      const devices = await m.find(DeviceEntity, { where: { lotId: lot.id }, order: { serial: 'ASC' }, take: total });
       const planned = [...plan.readPointsH].sort((a, b) => a - b);
       const stressHours = r.state === 'finished' ? plan.durationH : Math.min(IN_PROGRESS_HOURS, plan.durationH * 0.62);
-      await insertHistoryRun(m, {
-        code: `${plan.kind.toUpperCase()}-${r.lot.replace(/^HG/, '')}`,
-        plan,
-        deviceType: type,
-        rig,
-        lots: [{ lot, devices, drift: demo }],
-        state: r.state,
-        startedAt: new Date(now - r.startedDaysAgo * DAY),
-        stressHours,
-        measuredH: planned.filter((h) => h <= stressHours),
-        failures: r.failures,
-        late: r.late,
-        warm: r.warm,
-        createdById: engineer?.id ?? null,
-      });
+      const stem = `${plan.kind.toUpperCase()}-${r.lot.replace(/^HG/, '')}`;
+      let sampleId: string | undefined;
+      let taken = 0;
+      for (let i = 0; i < parts.length; i++) {
+        const run = await insertHistoryRun(m, {
+          code: i === 0 ? stem : `${stem}-${i + 1}`,
+          plan,
+          deviceType: type,
+          rig: parts[i].rig,
+          lots: [{ lot, devices: devices.slice(taken, taken + parts[i].n), drift: demo }],
+          state: r.state,
+          startedAt: new Date(now - r.startedDaysAgo * DAY),
+          stressHours,
+          measuredH: planned.filter((h) => h <= stressHours),
+          failures: r.failures,
+          late: r.late,
+          warm: r.warm,
+          catastrophic: r.catastrophic,
+          trips: r.trips,
+          missing: r.missing,
+          removed: r.removed,
+          deviation: r.deviation,
+          sampleId,
+          confirmFlags: r.confirmFlags ? { byId: engineer?.id ?? null, reason: r.confirmFlags } : undefined,
+          createdById: engineer?.id ?? null,
+        });
+        sampleId = run.sampleId ?? undefined;
+        taken += parts[i].n;
+      }
     }
   });
 }

@@ -11,7 +11,8 @@ import { planBiasV, runDurationMs, staticRefusals } from '../../shared/schedulin
 import type { PlanKind } from '../../shared/schemas/plans';
 import type { RunState } from '../../shared/schemas/runs';
 import { configFromEnv } from '../config';
-import { AuditLogEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunEntity, RunLotEntity, RunSocketEntity, StressPlanEntity, UserEntity } from '../db/entities';
+import { sampleShortfall } from '../../shared/evidence';
+import { AuditLogEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunEntity, RunLotEntity, RunSocketEntity, SampleEntity, StressPlanEntity, UserEntity } from '../db/entities';
 import { timingFrom } from '../modules/runs/scheduling-data';
 import { firstReadPointIndex } from '../modules/runs/run-engine';
 
@@ -30,13 +31,27 @@ interface DemoLiveRun {
   stressHours?: number;
   /** Booked runs: start this many stress-clock hours from now. */
   startsInH?: number;
+  /** Why the sample may be smaller than the plan asks (recorded deviation, issue #19). */
+  deviation?: string;
 }
 
 const DEMO_LIVE_RUNS: DemoLiveRun[] = [
-  { code: 'THB-2612-G', partNumber: 'HPD-7N400', kind: 'thb', lots: ['HG2612-G'], rig: 'HC-05', state: 'stressing', perLot: 40, skip: 0, stressHours: 120 },
-  { code: 'HOTL-2609-D-2', partNumber: 'HPD-3P90', kind: 'hotl', lots: ['HG2609-D'], rig: 'OV-03', state: 'heating', perLot: 40, skip: 45 },
-  { code: 'IOL-2605-H', partNumber: 'HPD-S230', kind: 'iol', lots: ['HG2605-H'], rig: 'OV-06', state: 'loading', perLot: 32, skip: 0, loaded: 20 },
-  { code: 'HTRB-2611-A+1', partNumber: 'HPD-2N140', kind: 'htrb', lots: ['HG2611-A', 'HG2611-B'], rig: 'OV-02', state: 'booked', perLot: 24, skip: 64, startsInH: 6 },
+  {
+    code: 'THB-2612-G', partNumber: 'HPD-7N400', kind: 'thb', lots: ['HG2612-G'], rig: 'HC-05', state: 'stressing', perLot: 40, skip: 0, stressHours: 120,
+    deviation: 'Engineering look at the 2612 die attach, not a qualification: 40 devices on the humidity board.',
+  },
+  {
+    code: 'HOTL-2609-D-2', partNumber: 'HPD-3P90', kind: 'hotl', lots: ['HG2609-D'], rig: 'OV-03', state: 'heating', perLot: 40, skip: 45,
+    deviation: 'Engineering run on the spares of HG2609-D after the heat-sink change: 40 devices.',
+  },
+  {
+    code: 'IOL-2605-H', partNumber: 'HPD-S230', kind: 'iol', lots: ['HG2605-H'], rig: 'OV-06', state: 'loading', perLot: 32, skip: 0, loaded: 20,
+    deviation: 'Quarterly reel-stock monitor: one cycling board (32 devices) by the monitor procedure.',
+  },
+  {
+    code: 'HTRB-2611-A+1', partNumber: 'HPD-2N140', kind: 'htrb', lots: ['HG2611-A', 'HG2611-B'], rig: 'OV-02', state: 'booked', perLot: 24, skip: 77, startsInH: 6,
+    deviation: 'Extended-life monitor of the spares of two passed lots; 48 devices by agreement.',
+  },
 ];
 
 async function insertLiveRun(m: EntityManager, s: DemoLiveRun, engineer: UserEntity | null, operator: UserEntity | null, log: (l: string) => void) {
@@ -60,8 +75,21 @@ async function insertLiveRun(m: EntityManager, s: DemoLiveRun, engineer: UserEnt
   const endMs = startMs + runDurationMs(plan, timing);
   const rps = [...plan.readPointsH].sort((a, b) => a - b);
   const started = s.state === 'heating' || s.state === 'stressing';
+  const short = sampleShortfall(plan.sampleSize, sampleSize);
+  const sample = await m.save(
+    m.create(SampleEntity, {
+      planId: plan.id,
+      plannedSize: plan.sampleSize,
+      bookedSize: sampleSize,
+      deviationReason: short ? (s.deviation ?? 'Demo run booked smaller than its plan.') : null,
+      deviationById: short ? (engineer?.id ?? null) : null,
+      deviationAt: short ? new Date(now) : null,
+      createdById: engineer?.id ?? null,
+    }),
+  );
   const run = await m.save(
     m.create(RunEntity, {
+      sampleId: sample.id,
       code: s.code,
       planId: plan.id,
       rigId: rig.id,
@@ -84,7 +112,15 @@ async function insertLiveRun(m: EntityManager, s: DemoLiveRun, engineer: UserEnt
     const row: Record<string, any> = { seeded: true, ...details };
     return m.insert(AuditLogEntity, { actorId: actor?.id ?? null, actor: actor?.email ?? 'system', action, entity: 'run', entityId: run.id, reason: null, details: row });
   };
-  await audit(engineer, 'run.book', { code: s.code, rig: rig.code, sampleSize, lots: lots.map((l) => l.code), planName: plan.name, planVersion: plan.version });
+  await audit(engineer, 'run.book', { code: s.code, rig: rig.code, sampleSize, sampleId: sample.id, lots: lots.map((l) => l.code), planName: plan.name, planVersion: plan.version });
+  if (short) {
+    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- as above: a jsonb column
+    const details: Record<string, any> = { seeded: true, plannedSize: plan.sampleSize, bookedSize: sampleSize, runs: [s.code] };
+    await m.insert(AuditLogEntity, {
+      actorId: engineer?.id ?? null, actor: engineer?.email ?? 'system', action: 'sample.deviation', entity: 'sample', entityId: sample.id, reason: sample.deviationReason,
+      details,
+    });
+  }
   if (s.state === 'booked') return;
 
   const devices: DeviceEntity[] = [];

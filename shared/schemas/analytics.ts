@@ -9,13 +9,16 @@
  *   GET /api/analytics/device-types/:id          lots passed, device-hours, AF, FIT, next sample size
  */
 import { z } from 'zod';
+import type { PlanJudgement } from '../verdict/judge';
 
-export const LOT_VERDICTS = ['passed', 'drifting', 'failed', 'in-progress', 'untested'] as const;
+export const LOT_VERDICTS = ['passed', 'drifting', 'failed', 'incomplete', 'insufficient-sample', 'in-progress', 'untested'] as const;
 export type LotVerdict = (typeof LOT_VERDICTS)[number];
 export const LOT_VERDICT_LABEL: Record<LotVerdict, string> = {
   passed: 'Passed',
   drifting: 'Drifting',
   failed: 'Failed',
+  incomplete: 'Incomplete',
+  'insufficient-sample': 'Insufficient sample',
   'in-progress': 'In progress',
   untested: 'Not tested',
 };
@@ -80,20 +83,6 @@ export interface TrendFit {
   line: Array<{ hours: number; value: number }>;
 }
 
-export interface ControlCheck {
-  parameter: 'hfe' | 'icbo';
-  readPointH: number;
-  /** This lot's value (mean % hFE change, or median ICBO ratio). */
-  value: number;
-  /** Other lots of the same device type measured at the same read point (the reference set). */
-  reference: Array<{ lotId: string; lotCode: string; value: number }>;
-  chart: { mean: number; mrBar: number; ucl: number; lcl: number; sigma: number } | null;
-  violations: Array<{ rule: number; description: string }>;
-  outOfControl: boolean;
-  /** Why no chart was drawn (fewer than two other lots…). */
-  note: string | null;
-}
-
 export interface FitFigures {
   failures: number;
   devices: number;
@@ -131,9 +120,15 @@ export interface LotSummary {
   deviceTypeId: string;
   partNumber: string;
   dateCode: string;
+  /** The date peers are ordered by; read from the date code (YYWW) while lots carry no production date. */
+  productionDate: string | null;
+  productionDateSource: 'recorded' | 'date-code' | null;
+  /** Combined over every plan the lot was stressed under (the worst). */
   verdict: LotVerdict;
   /** One sentence per reason, most important first. */
   reasons: string[];
+  /** Each plan's own verdict. */
+  planVerdicts: Array<{ planId: string; planName: string; verdict: LotVerdict }>;
   run: { id: string; code: string; state: string; stressHours: number } | null;
   plan: { id: string; name: string; kind: string; durationH: number; acceptNumber: number; sampleSize: number; chamberC: number } | null;
   devicesOnTest: number;
@@ -155,13 +150,19 @@ export interface LotDetail extends LotSummary {
   readPointsH: number[];
   readPoints: LotReadPointStats[];
   trends: TrendFit[];
-  control: ControlCheck[];
+  /** The judgement per plan: sample, read-point completeness, devices, degradation and Weibull, peers, FIT. */
+  plans: LotPlanView[];
   fit: FitFigures | null;
   devices: LotDevice[];
   gainReference: { referenceC: number; xtb: number; normalisedReadings: number };
   /** Other runs this lot was on (the analysis uses `run`). */
   otherRuns: Array<{ id: string; code: string; state: string }>;
   caution: string;
+}
+
+/** One plan's judgement of a lot, with its FIT from the devices' credited hours. */
+export interface LotPlanView extends PlanJudgement {
+  fit: FitFigures | null;
 }
 
 export interface PlanAcceleration {
@@ -190,6 +191,8 @@ export interface DeviceTypeSummary {
   lotsDrifting: number;
   lotsFailed: number;
   lotsInProgress: number;
+  lotsIncomplete: number;
+  lotsInsufficientSample: number;
   devicesTested: number;
   failures: number;
   deviceHours: number;

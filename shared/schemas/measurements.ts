@@ -12,6 +12,7 @@
  */
 import { z } from 'zod';
 import { num } from './devices';
+import { MEASUREMENT_RESULTS, type MeasurementResult } from '../evidence';
 
 /** Our column names, as a parametric tester's CSV would carry them after mapping. */
 export const MEASUREMENT_COLUMNS = [
@@ -26,6 +27,7 @@ export const MEASUREMENT_COLUMNS = [
   'bvceo_v',
   'temp_c',
   'measured_at',
+  'result',
 ] as const;
 export type MeasurementColumn = (typeof MEASUREMENT_COLUMNS)[number];
 
@@ -59,6 +61,7 @@ export const COLUMN_LABEL: Record<MeasurementColumn, string> = {
   bvceo_v: 'BVCEO (V)',
   temp_c: 'Measurement temperature (°C)',
   measured_at: 'Measured at (ISO date-time; no zone = UTC)',
+  result: 'Result (empty = measured; OPEN, SHORT or NO READING for a dead device)',
 };
 
 /** Units chosen at upload; values are converted to SI (A, V) before storing. */
@@ -129,20 +132,33 @@ export const UPLOAD_MAX_ROWS = 5000;
 /** Measured later than this after bias removal → flagged late (JESD22-A108 window, from memory). */
 export const LATE_AFTER_BIAS_REMOVAL_H = 96;
 
-/** One device's reading entered by hand, SI units. */
-export const manualReadingSchema = z.object({
-  serial: z.string().trim().min(1, 'Enter the serial').max(40),
-  lot: z.string().trim().max(40).optional(),
-  hfe: num().positive('hFE must be above 0').max(100000),
-  hfeIcA: num().positive().max(1000),
-  hfeVceV: num().positive().max(10000),
-  icboA: num().min(0, 'Leakage cannot be negative').max(1),
-  icboVcbV: num().positive().max(10000),
-  vcesatV: num().min(0).max(100),
-  bvceoV: num().positive().max(10000).nullable().optional(),
-  measuredC: num().min(-65).max(300).default(25),
-  measuredAt: z.string().datetime({ offset: true, message: 'Use an ISO date-time' }).optional(),
-});
+/**
+ * One device's reading entered by hand, SI units. A dead device (result open / short / no-reading)
+ * is entered without values; a measured one needs them all (BVCEO optional).
+ */
+export const manualReadingSchema = z
+  .object({
+    serial: z.string().trim().min(1, 'Enter the serial').max(40),
+    lot: z.string().trim().max(40).optional(),
+    result: z.enum(MEASUREMENT_RESULTS).default('measured'),
+    hfe: num().positive('hFE must be above 0').max(100000).nullable().optional(),
+    hfeIcA: num().positive().max(1000).nullable().optional(),
+    hfeVceV: num().positive().max(10000).nullable().optional(),
+    icboA: num().min(0, 'Leakage cannot be negative').max(1).nullable().optional(),
+    icboVcbV: num().positive().max(10000).nullable().optional(),
+    vcesatV: num().min(0).max(100).nullable().optional(),
+    bvceoV: num().positive().max(10000).nullable().optional(),
+    measuredC: num().min(-65).max(300).default(25),
+    measuredAt: z.string().datetime({ offset: true, message: 'Use an ISO date-time' }).optional(),
+  })
+  .superRefine((r, ctx) => {
+    if (r.result !== 'measured') return;
+    for (const k of ['hfe', 'hfeIcA', 'hfeVceV', 'icboA', 'icboVcbV', 'vcesatV'] as const) {
+      if (r[k] === null || r[k] === undefined) {
+        ctx.addIssue({ code: 'custom', path: [k], message: 'Enter a value, or choose open, short or no reading for a dead device' });
+      }
+    }
+  });
 export const manualEntrySchema = z.array(manualReadingSchema).min(1, 'Enter at least one device').max(50, 'Enter at most 50 devices at a time; upload a file for more');
 export type ManualReading = z.infer<typeof manualReadingSchema>;
 
@@ -162,9 +178,12 @@ export interface RowResult {
   late: boolean;
   /** Converted values (SI) for rows that can be stored. */
   values?: {
-    hfe: number; hfeIcA: number; hfeVceV: number; icboA: number; icboVcbV: number; vcesatV: number;
+    result: MeasurementResult;
+    hfe: number | null; hfeIcA: number | null; hfeVceV: number | null; icboA: number | null; icboVcbV: number | null; vcesatV: number | null;
     bvceoV: number | null; measuredC: number; measuredAt: string;
   };
+  /** Why the row's measuring conditions differ from the device's time zero (judged only once confirmed). */
+  conditionsFlag?: string | null;
 }
 
 export interface UploadResult {
@@ -250,6 +269,9 @@ export interface StoredReading {
   late: boolean;
   uploadId: string | null;
   manual: boolean;
+  result: MeasurementResult;
+  conditionsFlag: string | null;
+  confirmedAt: string | null;
 }
 
 export interface ParameterDriftView {

@@ -28,6 +28,25 @@ export const biasSchema = z.object({
 });
 export type Bias = z.infer<typeof biasSchema>;
 
+/**
+ * Absolute end-point limits per parameter, as the data sheet states them, with the test
+ * conditions they hold at (a reading is compared only when measured at those conditions).
+ * Each limit is optional; null = not limited.
+ */
+export const endPointLimitsSchema = z.object({
+  hfeMin: num().positive().max(100000).nullable().default(null),
+  hfeMax: num().positive().max(100000).nullable().default(null),
+  icboMaxA: num().positive().max(1).nullable().default(null),
+  vcesatMaxV: num().positive().max(100).nullable().default(null),
+  bvceoMinV: num().positive().max(10000).nullable().default(null),
+  /** Stated test conditions of the limits. */
+  atC: num().min(-65).max(300).default(25),
+  hfeIcA: num().positive().max(1000).nullable().default(null),
+  hfeVceV: num().positive().max(10000).nullable().default(null),
+  icboVcbV: num().positive().max(10000).nullable().default(null),
+});
+export type EndPointLimits = z.infer<typeof endPointLimitsSchema>;
+
 export const criteriaSchema = z.object({
   /** hFE may change by at most this many percent of its time-zero value (MIL-PRF-19500 deltas: ±15 %). */
   hfeChangePct: num().positive().max(100).default(15),
@@ -37,6 +56,8 @@ export const criteriaSchema = z.object({
   leakageFloorA: num().min(0).max(1).default(200e-9),
   /** VCE(sat) may shift by at most this many volts (MIL-PRF-19500: 50 mV). */
   vcesatShiftV: num().positive().max(10).default(0.05),
+  /** Absolute end-point limits (the data sheet's, at stated test conditions); absent = deltas only. */
+  limits: endPointLimitsSchema.optional(),
 });
 export type Criteria = z.infer<typeof criteriaSchema>;
 

@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import type { PlanKind } from './plans';
+import { DEVIATION_REASON_MIN } from '../evidence';
 
 import { RUN_STATES, type RunState } from '../domain/run-states';
 
@@ -63,12 +64,23 @@ export const proposalInputSchema = z.object({
 });
 export type ProposalInput = z.infer<typeof proposalInputSchema>;
 
+/** Booking fewer devices than the plan asks: the engineer's written reason (audited). */
+export const deviationSchema = z.object({
+  reason: z
+    .string()
+    .trim()
+    .min(DEVIATION_REASON_MIN, `Write at least ${DEVIATION_REASON_MIN} characters on why a smaller sample may stand`)
+    .max(2000),
+});
+
 export const OVERRIDE_REASON_MIN = 10;
 
 export const bookRunSchema = proposalInputSchema.extend({
   rigId: uuid('rig'),
   /** Start of the chosen proposal; omitted = the earliest feasible start on the rig. */
   start: isoTime().optional(),
+  /** Booking fewer devices than the plan asks (engineer's written reason, audited). */
+  deviation: deviationSchema.optional(),
   /** Book despite blocking plan-check findings (engineer's written reason, audited). */
   override: z
     .object({
@@ -81,6 +93,47 @@ export const bookRunSchema = proposalInputSchema.extend({
     .optional(),
 });
 export type BookRunInput = z.infer<typeof bookRunSchema>;
+
+/** One rig's share of a sample booked across rigs. */
+export const samplePartSchema = z.object({
+  rigId: uuid('rig'),
+  sampleSize: z.number().int('Whole devices only').positive('At least one device').max(256, 'A board holds at most 256 sockets'),
+  start: isoTime().optional(),
+});
+
+/**
+ * A sample booked as one: a run on each rig named (at most 4), judged together. The plan's sample
+ * size must be met over all parts, or a deviation given.
+ */
+export const bookSampleSchema = z
+  .object({
+    planId: uuid('plan'),
+    lotIds: z.array(uuid('lot')).min(1, 'Choose at least one lot').max(12, 'At most 12 lots per run'),
+    parts: z.array(samplePartSchema).min(1, 'Book at least one rig').max(4, 'Split a sample over at most 4 rigs'),
+    override: bookRunSchema.shape.override,
+    deviation: deviationSchema.optional(),
+  })
+  .superRefine((b, ctx) => {
+    const seen = new Set<string>();
+    b.parts.forEach((p, i) => {
+      if (seen.has(p.rigId)) ctx.addIssue({ code: 'custom', path: ['parts', i, 'rigId'], message: 'Each part of a sample goes to a different rig' });
+      seen.add(p.rigId);
+    });
+  });
+export type BookSampleInput = z.infer<typeof bookSampleSchema>;
+
+export interface SampleView {
+  id: string;
+  plannedSize: number;
+  bookedSize: number;
+  deviation: { reason: string; byName: string | null; at: string } | null;
+  runs: Array<{ id: string; code: string; rigCode: string | null; sampleSize: number; state: RunState }>;
+}
+
+export interface SampleBooking {
+  sample: SampleView;
+  runs: RunDetail[];
+}
 
 export const runListQuerySchema = z.object({
   state: z.enum(RUN_STATES).optional(),
@@ -154,6 +207,8 @@ export interface Run {
   lots: Array<{ id: string; code: string }>;
   partNumber: string;
   sampleSize: number;
+  /** The sample this run belongs to: the plan's size, the size over all its runs, the deviation. */
+  sample: { id: string; plannedSize: number; bookedSize: number; runCodes: string[]; deviation: string | null } | null;
   loadedCount: number;
   trippedCount: number;
   scheduledStart: string | null;

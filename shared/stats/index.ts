@@ -19,6 +19,26 @@ export function normaliseGainToReference(p: { hfe: number; measuredC: number; re
   return p.hfe / Math.pow((p.measuredC + KELVIN_OFFSET) / (p.referenceC + KELVIN_OFFSET), p.xtb);
 }
 
+/** Readings within this many °C of the reference temperature are used as measured. */
+export const GAIN_REFERENCE_TOLERANCE_C = 0.5;
+
+export interface GainReference {
+  referenceC: number;
+  xtb: number;
+}
+
+/** hFE referred to the reference temperature, and whether (and how) it was converted. */
+export function referredGain(hfe: number | null, measuredC: number, g: GainReference): { hfe: number | null; normalised: boolean; note: string | null } {
+  if (hfe === null) return { hfe: null, normalised: false, note: null };
+  if (Math.abs(measuredC - g.referenceC) <= GAIN_REFERENCE_TOLERANCE_C) return { hfe, normalised: false, note: null };
+  const referred = normaliseGainToReference({ hfe, measuredC, referenceC: g.referenceC, xtb: g.xtb });
+  return {
+    hfe: referred,
+    normalised: true,
+    note: `hFE ${+hfe.toPrecision(4)} measured at ${+measuredC.toFixed(1)} °C, referred to ${g.referenceC} °C with XTB ${g.xtb}: ${+referred.toPrecision(4)}`,
+  };
+}
+
 // ---------------------------------------------------------------------------------------------
 // Device drift against criteria
 // ---------------------------------------------------------------------------------------------
@@ -341,4 +361,26 @@ export function welchT(a: SampleSummary, b: SampleSummary): { t: number; df: num
   const df = (se2 * se2) / ((va * va) / (a.n - 1) + (vb * vb) / (b.n - 1));
   const pTwoSided = 2 * jStat.studentt.cdf(-Math.abs(t), df);
   return { t, df, pTwoSided };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Prediction interval for one new value
+// ---------------------------------------------------------------------------------------------
+
+/**
+ * Two-sided prediction interval for one new value from m past values of a normal population
+ * (Hahn & Meeker, Statistical Intervals, 1991, normal-distribution chapter):
+ *   x̄ ± t(1 − α/2; m − 1) · s · √(1 + 1/m),  α = 1 − confidence, s the sample standard deviation.
+ * Needs at least two values.
+ */
+export function predictionInterval(p: { values: number[]; confidence: number }): { lower: number; upper: number; mean: number; sd: number; t: number; m: number } {
+  const m = p.values.length;
+  if (m < 2) throw new RangeError('a prediction interval needs at least two values');
+  if (!(p.confidence > 0 && p.confidence < 1)) throw new RangeError('confidence must be between 0 and 1');
+  if (p.values.some((v) => !Number.isFinite(v))) throw new RangeError('values must be finite');
+  const xbar = mean(p.values);
+  const sd = sampleStandardDeviation(p.values);
+  const t = jStat.studentt.inv(1 - (1 - p.confidence) / 2, m - 1);
+  const half = t * sd * Math.sqrt(1 + 1 / m);
+  return { lower: xbar - half, upper: xbar + half, mean: xbar, sd, t, m };
 }

@@ -1,6 +1,6 @@
 import request from 'supertest';
 import { UserEntity } from '../../server/db/entities';
-import { LOCKOUT_AFTER } from '../../server/modules/auth/auth.service';
+import { LOCKOUT_AFTER, SIGN_IN_REFUSED } from '../../server/modules/auth/auth.service';
 import { createTestApp, emailFor, TEST_PASSWORD, type TestApp } from '../support/api';
 
 let t: TestApp;
@@ -28,12 +28,12 @@ describe('sign-in', () => {
     expect(res.status).toBe(200);
   });
 
-  it('says "Wrong e-mail or password." for a wrong password and for an unknown user alike', async () => {
+  it('gives one answer for a wrong password and for an unknown user alike', async () => {
     const wrong = await request(t.app).post('/api/auth/sign-in').send({ email: emailFor('operator'), password: 'not-it-at-all' });
     const unknown = await request(t.app).post('/api/auth/sign-in').send({ email: 'nobody@test.example', password: 'whatever-123' });
     for (const res of [wrong, unknown]) {
       expect(res.status).toBe(401);
-      expect(res.body).toEqual({ error: { code: 'unauthenticated', message: 'Wrong e-mail or password.' } });
+      expect(res.body).toEqual({ error: { code: 'unauthenticated', message: SIGN_IN_REFUSED } });
     }
     await t.ctx.ds.getRepository(UserEntity).update({ email: emailFor('operator') }, { failedSignIns: 0 });
   });
@@ -58,13 +58,16 @@ describe('sign-in', () => {
     await t.ctx.ds.getRepository(UserEntity).insert({ email, name: 'Lock Me', role: 'manager', passwordHash: u.passwordHash });
     for (let i = 1; i < LOCKOUT_AFTER; i++) {
       const r = await request(t.app).post('/api/auth/sign-in').send({ email, password: 'wrong-password' });
-      expect(r.body.error.message).toBe('Wrong e-mail or password.');
+      expect(r.body.error.message).toBe(SIGN_IN_REFUSED);
     }
+    // The lock itself is not announced (that told outsiders the account exists; tests/api/security-http.test.ts).
     const last = await request(t.app).post('/api/auth/sign-in').send({ email, password: 'wrong-password' });
-    expect(last.body.error.message).toBe('Wrong password. The account is now locked for 15 minutes.');
+    expect(last.body.error.message).toBe(SIGN_IN_REFUSED);
     const right = await request(t.app).post('/api/auth/sign-in').send({ email, password: TEST_PASSWORD });
     expect(right.status).toBe(401);
-    expect(right.body.error.message).toMatch(/^This account is locked after 5 wrong passwords\. Try again in 15 minutes/);
+    expect(right.body.error.message).toBe(SIGN_IN_REFUSED);
+    const row = await t.ctx.ds.getRepository(UserEntity).findOneByOrFail({ email });
+    expect(row.lockedUntil!.getTime()).toBeGreaterThan(Date.now() + 14 * 60_000);
   });
 
   it('refuses a deactivated user with a clear message', async () => {

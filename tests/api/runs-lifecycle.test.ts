@@ -237,6 +237,18 @@ describe('a run from heating to finished, driven by the scheduler', () => {
     expect(await socketHours()).toEqual({ 0: 5.75, 1: 5.75, 2: 1.5 });
   });
 
+  // Issue #19: device-hours come from each socket's own accrual, not from n × the read point.
+  it('the sample evidence gives each device its credited hours: the tripped socket\'s device stopped at its trip', async () => {
+    const r = await run();
+    expect(r.sampleId).not.toBeNull();
+    const res = await (await t.signIn('manager')).get(`/api/evidence/samples/${r.sampleId}`);
+    expect(res.status).toBe(200);
+    const hours = Object.fromEntries(res.body.devices.map((d: { serial: string; creditedHours: number }) => [d.serial, d.creditedHours]));
+    expect(hours).toEqual({ A0001: 5.75, A0002: 5.75, A0003: 1.5 });
+    expect(res.body.devices.find((d: { serial: string }) => d.serial === 'A0003')).toMatchObject({ tripped: true, socketIndex: 2 });
+    expect(res.body).toMatchObject({ plannedSize: 3, bookedSize: 3, loadedSize: 3, deviation: null });
+  });
+
   it('a rig reboot (clock back to 0) accrues nothing for that step; at 10 h the run cools and finishes', async () => {
     await land(Array(19).fill(145), { reboot: true }); // seq 56 (clock 0) … 74
     await step(scheduler);
@@ -254,6 +266,13 @@ describe('a run from heating to finished, driven by the scheduler', () => {
     const done = await run();
     expect(done.state).toBe('finished');
     expect(done.finishedAt).not.toBeNull();
+  });
+
+  it('after the run finished the tripped device still holds its 1.5 h; the others the full 10 h', async () => {
+    const r = await run();
+    const res = await (await t.signIn('engineer')).get(`/api/evidence/samples/${r.sampleId}`);
+    const hours = Object.fromEntries(res.body.devices.map((d: { serial: string; creditedHours: number }) => [d.serial, d.creditedHours]));
+    expect(hours).toEqual({ A0001: 10, A0002: 10, A0003: 1.5 });
   });
 
   it('no command was ever applied twice, and every state change is in the audit trail', async () => {

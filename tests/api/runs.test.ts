@@ -20,6 +20,9 @@ async function addRig(code: string, over: Partial<RigEntity> = {}): Promise<stri
   return r.id;
 }
 
+/** These tests book fewer devices than the plan's 8 on purpose: a recorded deviation (issue #19). */
+const SHORT = { reason: 'Test fixture: a short sample on purpose' };
+
 const serials = (prefix: string, n: number) => Array.from({ length: n }, (_, i) => `${prefix}${String(i + 1).padStart(4, '0')}`);
 
 beforeAll(async () => {
@@ -115,7 +118,7 @@ describe('booking', () => {
   it('refuses a plan whose check blocks unless an engineer writes a reason (≥ 10 characters); nothing stored', async () => {
     const eng = await t.signIn('engineer');
     const before = await tableCounts(t.ctx.ds);
-    const body = { planId: ids.hotPlan, lotIds: [ids['HG2612-C']], sampleSize: 4, rigId: ids['OV-01'] };
+    const body = { planId: ids.hotPlan, lotIds: [ids['HG2612-C']], sampleSize: 4, deviation: SHORT, rigId: ids['OV-01'] };
     const refused = await eng.post('/api/runs').send(body);
     expect(refused.status).toBe(422);
     expect(refused.body.error.message).toBe(
@@ -131,7 +134,7 @@ describe('booking', () => {
   it('books the blocked plan with an override reason; the reason and the findings are audited', async () => {
     const eng = await t.signIn('engineer');
     const reason = 'Margin study agreed with the customer; parts are sacrificial.';
-    const res = await eng.post('/api/runs').send({ planId: ids.hotPlan, lotIds: [ids['HG2612-C']], sampleSize: 4, rigId: ids['OV-01'], override: { reason } });
+    const res = await eng.post('/api/runs').send({ planId: ids.hotPlan, lotIds: [ids['HG2612-C']], sampleSize: 4, deviation: SHORT, rigId: ids['OV-01'], override: { reason } });
     expect(res.status).toBe(201);
     expect(res.body.override).toEqual({ reason, byName: 'Test engineer' });
     expect(res.body.code).toBe('HTRB-2612-C');
@@ -155,7 +158,7 @@ describe('booking', () => {
     const first = await t.ctx.ds.getRepository(RunEntity).findOneByOrFail({ id: ids.run });
     const start = new Date(first.scheduledStart!.getTime() + 60_000);
     const before = await tableCounts(t.ctx.ds);
-    const res = await eng.post('/api/runs').send({ planId: ids.coolerPlan, lotIds: [ids['HG2612-C']], sampleSize: 2, rigId: ids['OV-01'], start: start.toISOString() });
+    const res = await eng.post('/api/runs').send({ planId: ids.coolerPlan, lotIds: [ids['HG2612-C']], sampleSize: 2, deviation: SHORT, rigId: ids['OV-01'], start: start.toISOString() });
     expect(res.status).toBe(409);
     expect(res.body.error.message).toMatch(/^The rig is no longer free at .*: Oven OV-01 runs HTRB-2611-A at 145 °C until .*; the plan needs 125 °C\. Ask for new proposals\.$/);
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
@@ -323,7 +326,7 @@ describe('booking a proposal whose start slid', () => {
     try {
       const t0 = Date.now();
       t.ctx.now = () => new Date(t0);
-      const ahead = await eng.post('/api/runs').send({ planId: ids.plan, lotIds: [ids['HG2611-A']], sampleSize: 2, rigId, start: new Date(t0).toISOString() });
+      const ahead = await eng.post('/api/runs').send({ planId: ids.plan, lotIds: [ids['HG2611-A']], sampleSize: 2, deviation: SHORT, rigId, start: new Date(t0).toISOString() });
       expect(ahead.status).toBe(201);
       const propose = async () => {
         const p = await eng.post('/api/runs/proposals').send({ planId: ids.coolerPlan, lotIds: [ids['HG2612-C']], sampleSize: 2 });
@@ -332,7 +335,7 @@ describe('booking a proposal whose start slid', () => {
       const opt = await propose();
       // 145 °C ahead, 125 °C wanted: the proposal starts when the run ahead ends.
       expect(Date.parse(opt.start)).toBe(Date.parse(ahead.body.scheduledEnd));
-      const body = { planId: ids.coolerPlan, lotIds: [ids['HG2612-C']], sampleSize: 2, rigId, start: opt.start };
+      const body = { planId: ids.coolerPlan, lotIds: [ids['HG2612-C']], sampleSize: 2, deviation: SHORT, rigId, start: opt.start };
 
       // 100 clock hours later the slot is 100 h later: beyond the tolerance (5 % of ~1,000 h), refused.
       t.ctx.now = () => new Date(t0 + 100 * hMs);

@@ -9,7 +9,7 @@ import request from 'supertest';
 import { AuditLogEntity } from '../../server/db/entities';
 import { SESSION_COOKIE } from '../../server/http/route';
 import { SIGN_IN_MAX_PER_WINDOW } from '../../server/modules/auth/auth.routes';
-import { LOCKOUT_AFTER } from '../../server/modules/auth/auth.service';
+import { LOCKOUT_AFTER, SIGN_IN_REFUSED } from '../../server/modules/auth/auth.service';
 import { apiErrorSchema } from '../../shared/schemas/errors';
 import { createTestApp, emailFor, TEST_PASSWORD, type TestApp } from '../support/api';
 
@@ -59,7 +59,7 @@ describe('a fresh app with EMBERLOT_SECURE_COOKIES=1: Secure cookie, account loc
     }
     const locked = await attempt(emailFor('operator'), TEST_PASSWORD);
     expect(locked.status).toBe(401);
-    expect(locked.body.error.message).toMatch(/locked/);
+    expect(locked.body.error.message).toBe(SIGN_IN_REFUSED);
     expect(sidOf(locked)).toBeNull();
     const audits = await s.ctx.ds.getRepository(AuditLogEntity).findBy({ action: 'user.locked' });
     expect(audits).toHaveLength(1);

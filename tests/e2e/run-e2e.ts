@@ -47,6 +47,9 @@ async function main(): Promise<number> {
     EMBERLOT_SMTP_PORT: String(E2E_PORTS.smtp),
     EMBERLOT_WEB_DIR: WEB_DIR,
     EMBERLOT_SIM_CONFIG: path.join(PROJECT_ROOT, '.data', `e2e-fleet-${process.pid}.json`),
+    // This stack's own secrets: its cluster's password, the rest generated into a file of its own.
+    EMBERLOT_DB_PASSWORD: pg.password,
+    EMBERLOT_SECRETS_FILE: path.join(PROJECT_ROOT, '.data', `e2e-${E2E_BASE || 'default'}`, 'secrets.json'),
   };
   const ds = createDataSource(configFromEnv(env).db);
   await ds.initialize();

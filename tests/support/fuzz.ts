@@ -32,7 +32,8 @@ import { floorChartQuerySchema } from '../../shared/schemas/floor';
 import { manualEntrySchema } from '../../shared/schemas/measurements';
 import { planInputSchema, planListQuerySchema, planTemplatesQuerySchema } from '../../shared/schemas/plans';
 import { createRigSchema, maintenanceInputSchema, rejectionsQuerySchema, revokeRigSchema, updateRigSchema } from '../../shared/schemas/rigs';
-import { abortRunSchema, bookRunSchema, proposalInputSchema, runActionSchema, runListQuerySchema, socketLoadSchema, timelineQuerySchema } from '../../shared/schemas/runs';
+import { abortRunSchema, bookRunSchema, bookSampleSchema, proposalInputSchema, runActionSchema, runListQuerySchema, socketLoadSchema, timelineQuerySchema } from '../../shared/schemas/runs';
+import { confirmReadingSchema, dispositionInputSchema, withdrawDispositionSchema } from '../../shared/schemas/evidence';
 import { createUserSchema, updateUserSchema } from '../../shared/schemas/users';
 import { emailFor, TEST_PASSWORD, type TestApp } from './api';
 
@@ -440,6 +441,16 @@ export function bodySpecs(ids: FuzzIds): Array<[string | RegExp, BodySpec]> {
     ],
     ['post /api/runs/proposals', { schema: proposalInputSchema, sample: () => ({ planId: ids.plan, lotIds: [ids.lot], sampleSize: 2 }) }],
     ['post /api/runs', { schema: bookRunSchema, sample: () => ({ planId: ids.plan, lotIds: [ids.lot], sampleSize: 2, rigId: ids.rigId }) }],
+    [
+      'post /api/runs/samples',
+      { schema: bookSampleSchema, sample: () => ({ planId: ids.plan, lotIds: [ids.lot], parts: [{ rigId: ids.rigId, sampleSize: 2 }], deviation: { reason: 'Fuzz fixture short sample' } }) },
+    ],
+    [
+      'post /api/evidence/runs/:runId/dispositions',
+      { schema: dispositionInputSchema, sample: () => ({ serial: 'FZ0001', readPointH: 0, kind: 'lost', reason: 'Dropped on the floor' }) },
+    ],
+    ['post /api/evidence/dispositions/:id/withdraw', { schema: withdrawDispositionSchema, sample: () => ({ reason: 'Recorded against the wrong serial' }) }],
+    ['post /api/evidence/measurements/:id/confirm', { schema: confirmReadingSchema, sample: () => ({ reason: 'Tester re-calibrated; same fixture' }) }],
     ['put /api/runs/:id/sockets', { schema: socketLoadSchema, sample: () => ({ ...rowVersion, sockets: { '0': 'FZ0001', '1': 'FZ0002' }, dryRun: true }) }],
     ['post /api/runs/:id/abort', { schema: abortRunSchema, sample: () => ({ ...rowVersion, reason: 'Wrong board fitted' }) }],
     [/^post \/api\/runs\/:id\/(start|pause|resume|measurements-done)$/, { schema: runActionSchema, sample: () => ({ ...rowVersion, reason: 'Shift change' }) }],

@@ -178,6 +178,8 @@ export function stackEnv(db: DbConfig, ports: StackPorts, extra: Env = {}): Env 
     EMBERLOT_PG_PORT: String(db.port),
     EMBERLOT_WEB_DIR: '',
     EMBERLOT_UPLOAD_DIR: path.join(PROJECT_ROOT, '.data', 'faults-uploads'),
+    // The session secret (not given here) is generated into this stack's own file.
+    EMBERLOT_SECRETS_FILE: path.join(PROJECT_ROOT, '.data', 'faults-secrets.json'),
     ...extra,
   };
 }
@@ -243,7 +245,7 @@ export function apiClient(baseUrl: string): ApiClient {
  * Run scripts/pg-cluster.ts's startCluster/stopCluster in a child process: pg_ctl waits up to
  * tens of seconds and spawnSync would freeze the test process (and the simulated rigs in it).
  */
-export async function pgClusterAsync(action: 'start' | 'stop', opts: { name: string; port: number; fast?: boolean }): Promise<void> {
+export async function pgClusterAsync(action: 'start' | 'stop', opts: { name: string; port: number; fast?: boolean; password?: string }): Promise<void> {
   const fn = action === 'start' ? 'startCluster' : 'stopCluster';
   const code = `require(${JSON.stringify(path.join(PROJECT_ROOT, 'scripts', 'pg-cluster.ts'))}).${fn}(${JSON.stringify({ ...opts, quiet: true })})`;
   const child = spawn(process.execPath, ['-r', '@swc-node/register', '-e', code], {

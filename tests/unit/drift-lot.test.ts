@@ -6,7 +6,7 @@ import type { DeviceDriftView } from '../../shared/schemas/measurements';
 import type { Criteria } from '../../shared/schemas/plans';
 import { looksLikeFormula, parseMeasurementCsv } from '../../server/modules/measurements/csv-rows';
 import { driftOfDevice, referredGain } from '../../server/modules/measurements/device-drift';
-import { controlChecks, fitFigures, judgeLot, lotCore, type LotCoreInput } from '../../server/modules/analytics/lot-analysis';
+import { fitFigures, lotCore, planFit, type LotCoreInput } from '../../server/modules/analytics/lot-analysis';
 import { csvCell } from '../../server/modules/analytics/lot-report';
 
 const criteria: Criteria = { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 };
@@ -107,47 +107,8 @@ describe('lot trend and pseudo-failure time', () => {
   });
 });
 
-describe('lot verdicts', () => {
-  it('drifting when the projection crosses before the target life; in progress otherwise', () => {
-    const fast = lotCore(lotInput('HG0002-A', -20, [0, 168, 500], 'stressing'));
-    expect(judgeLot(fast, []).verdict).toBe('drifting');
-    expect(fast.pseudoFailureH!).toBeCloseTo(750, 6);
-    const slow = lotCore(lotInput('HG0002-B', -2, [0, 168, 500], 'stressing'));
-    const v = judgeLot(slow, []);
-    expect(v.verdict).toBe('in-progress');
-    expect(v.reasons[0]).toMatch(/read points 1000 h still to come/);
-  });
-
-  it('passed only when the run is finished and every planned read point is measured', () => {
-    expect(judgeLot(lotCore(lotInput('HG0003-A', -2, [0, 168, 500, 1000])), []).verdict).toBe('passed');
-  });
-
-  it('out of control against the other lots: limits from the others only, rule 1 [pub: Montgomery; Western Electric SQC Handbook 1956]', () => {
-    const cores = [
-      lotCore(lotInput('HG0004-A', -2.0, [0, 168, 500, 1000])),
-      lotCore(lotInput('HG0004-B', -2.5, [0, 168, 500, 1000])),
-      lotCore(lotInput('HG0004-C', -3.0, [0, 168, 500, 1000])),
-      lotCore(lotInput('HG0004-D', -9.0, [0, 168, 500, 1000])),
-    ];
-    const d = controlChecks(cores[3], cores);
-    const hfe = d.find((c) => c.parameter === 'hfe')!;
-    // Others −2.0, −2.5, −3.0: mean −2.5, MR̄ 0.5 → limits −2.5 ± 1.33 (−3.83, −1.17).
-    expect(hfe.chart!.lcl).toBeCloseTo(-3.83, 2);
-    expect(hfe.chart!.ucl).toBeCloseTo(-1.17, 2);
-    expect(hfe.outOfControl).toBe(true);
-    expect(judgeLot(cores[3], d).verdict).toBe('drifting');
-    const a = controlChecks(cores[0], cores);
-    expect(a.find((c) => c.parameter === 'hfe')!.outOfControl).toBe(false);
-    expect(judgeLot(cores[0], a).verdict).toBe('passed');
-  });
-
-  it('fewer than two other lots: no chart, a note instead', () => {
-    const cores = [lotCore(lotInput('HG0005-A', -2, [0, 168])), lotCore(lotInput('HG0005-B', -9, [0, 168]))];
-    const c = controlChecks(cores[1], cores)[0];
-    expect(c.chart).toBeNull();
-    expect(c.note).toMatch(/Needs at least two other HPD-X lots/);
-  });
-});
+// The lot verdict (sample, completeness, peers by prediction interval / individuals chart, degradation)
+// is shared/verdict's judgeLot: tests/unit/verdict-judge.test.ts.
 
 describe('FIT figures', () => {
   it('1 failure, 231 × 1000 h, 55 → 125 °C, 0.7 eV, 60 % → 112.8 FIT ±2 % [pub: JESD85]', () => {
@@ -155,6 +116,18 @@ describe('FIT figures', () => {
     expect(Math.abs(f.fit60 / 112.8 - 1)).toBeLessThan(0.02);
     expect(f.chiSquare60).toBeCloseTo(4.0446, 3); // χ²(0.60; 4) [reference library: jstat]
     expect(f.constants).toMatchObject({ eaEv: 0.7, useC: 55, stressC: 125, source: 'CODATA 2018' });
+  });
+
+  it('from credited hours: 1 failure in 231,000 device-hours is the same 112.8 FIT, one device tripped early lowers the hours', () => {
+    const at = { eaEv: 0.7, useC: 55, stressC: 125, stressBasis: 'chamber temperature' };
+    // [pub: JESD85] as above, device-hours summed per device
+    const full = planFit({ exposure: { devices: 231, deviceHours: 231_000, failures: 1 }, ...at })!;
+    expect(Math.abs(full.fit60 / 112.8 - 1)).toBeLessThan(0.02);
+    // a socket tripped at 50 h credits 50 h, not 1,000 h: λ ∝ 1/Σ hours
+    const tripped = planFit({ exposure: { devices: 231, deviceHours: 230_050, failures: 1 }, ...at })!;
+    expect(tripped.deviceHours).toBeCloseTo(230_050, 6);
+    expect(tripped.fit60 / full.fit60).toBeCloseTo(231_000 / 230_050, 10);
+    expect(planFit({ exposure: { devices: 0, deviceHours: 0, failures: 0 }, ...at })).toBeNull();
   });
 });
 

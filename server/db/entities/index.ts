@@ -8,13 +8,14 @@ export * from './telemetry.entity';
 export * from './measurement.entity';
 export * from './alarm.entity';
 export * from './audit-log.entity';
+export * from './evidence.entity';
 
 import { UserEntity } from './user.entity';
 import { DeviceTypeEntity } from './device-type.entity';
 import { DeviceEntity, LotEntity } from './lot.entity';
 import { RigEntity, RigMaintenanceEntity } from './rig.entity';
 import { StressPlanEntity } from './stress-plan.entity';
-import { RunEntity, RunLotEntity, RunSocketEntity } from './run.entity';
+import { RunEntity, RunLotEntity, RunSocketEntity, SampleEntity } from './run.entity';
 import {
   RejectedMessageEntity,
   SystemCounterEntity,
@@ -25,6 +26,7 @@ import {
 import { MeasurementEntity, MeasurementUploadEntity } from './measurement.entity';
 import { AlarmEntity, MailLogEntity, NotificationEntity } from './alarm.entity';
 import { AuditLogEntity } from './audit-log.entity';
+import { DeviceDispositionEntity } from './evidence.entity';
 
 export const ENTITIES = [
   UserEntity,
@@ -48,4 +50,6 @@ export const ENTITIES = [
   NotificationEntity,
   MailLogEntity,
   AuditLogEntity,
+  SampleEntity,
+  DeviceDispositionEntity,
 ];

@@ -1,4 +1,5 @@
 import { Column, CreateDateColumn, Entity, Index, JoinColumn, ManyToOne, PrimaryGeneratedColumn } from 'typeorm';
+import type { MeasurementResult } from '../../../shared/evidence';
 import { DeviceEntity } from './lot.entity';
 import { RunEntity } from './run.entity';
 import type { RowResult } from '../../../shared/schemas/measurements';
@@ -25,6 +26,13 @@ export class MeasurementEntity {
   @Column({ type: 'double precision', nullable: true }) vcesatV: number | null;
   @Column({ type: 'double precision', nullable: true }) bvceoV: number | null;
   @Column({ type: 'double precision', default: 25 }) measuredC: number;
+  /** measured, or a catastrophic result (open, short, no-reading) whose values are null. */
+  @Column({ type: 'varchar', length: 12, default: 'measured' }) result: MeasurementResult;
+  /** Why the measuring temperature or test conditions differ from time zero; null = not flagged. */
+  @Column({ type: 'text', nullable: true }) conditionsFlag: string | null;
+  @Column({ type: 'uuid', nullable: true }) confirmedById: string | null;
+  @Column({ type: 'timestamptz', nullable: true }) confirmedAt: Date | null;
+  @Column({ type: 'text', nullable: true }) confirmReason: string | null;
   @Column({ type: 'timestamptz' }) measuredAt: Date;
   /** Measured more than 96 h after bias removal (JESD22-A108 window). */
   @Column({ type: 'boolean', default: false }) late: boolean;

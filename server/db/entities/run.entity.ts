@@ -16,6 +16,29 @@ export type RunState =
   | 'finished'
   | 'aborted';
 
+/**
+ * One sample judged as a whole: a run, or runs on several rigs booked together (the plan asks for
+ * more devices than the largest rig holds). Every run belongs to one sample (runs.sample_id).
+ * A sample booked smaller than its plan carries a deviation: reason, person, time (also audited).
+ */
+@Entity('samples')
+export class SampleEntity {
+  @PrimaryGeneratedColumn('uuid') id: string;
+  @Index() @Column({ type: 'uuid' }) planId: string;
+  @ManyToOne(() => StressPlanEntity, { onDelete: 'RESTRICT' })
+  @JoinColumn({ name: 'plan_id' })
+  plan?: StressPlanEntity;
+  /** The plan's sample size when booked. */
+  @Column({ type: 'int' }) plannedSize: number;
+  /** Devices booked over all of the sample's runs. */
+  @Column({ type: 'int' }) bookedSize: number;
+  @Column({ type: 'text', nullable: true }) deviationReason: string | null;
+  @Column({ type: 'uuid', nullable: true }) deviationById: string | null;
+  @Column({ type: 'timestamptz', nullable: true }) deviationAt: Date | null;
+  @Column({ type: 'uuid', nullable: true }) createdById: string | null;
+  @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
+}
+
 @Entity('runs')
 export class RunEntity {
   @PrimaryGeneratedColumn('uuid') id: string;
@@ -30,6 +53,11 @@ export class RunEntity {
   rig?: RigEntity;
   @Index() @Column({ type: 'varchar', length: 16 }) state: RunState;
   @Column({ type: 'int' }) sampleSize: number;
+  /** The sample this run belongs to (several runs on several rigs may share one; evidence.entity.ts). */
+  @Index() @Column({ type: 'uuid', nullable: true }) sampleId: string | null;
+  @ManyToOne(() => SampleEntity, { onDelete: 'RESTRICT' })
+  @JoinColumn({ name: 'sample_id' })
+  sample?: SampleEntity;
   @Column({ type: 'timestamptz', nullable: true }) scheduledStart: Date | null;
   @Column({ type: 'timestamptz', nullable: true }) scheduledEnd: Date | null;
   @Column({ type: 'timestamptz', nullable: true }) startedAt: Date | null;

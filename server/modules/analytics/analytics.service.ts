@@ -1,9 +1,9 @@
 import type { DataSource } from 'typeorm';
-import type { DeviceTypeSummary, LotDetail, LotSummary, LotVerdict, PlanAcceleration } from '../../../shared/schemas/analytics';
+import type { DeviceTypeSummary, LotDetail, LotPlanView, LotSummary, LotVerdict, PlanAcceleration } from '../../../shared/schemas/analytics';
 import { chiSquareQuantile, constantsUsed, sampleSizeForLtpd, arrheniusFactor } from '../../../shared/reliability';
 import { DeviceTypeEntity } from '../../db/entities';
 import { notFound } from '../../http/errors';
-import { LOT_CAUTION, lotFit } from './lot-analysis';
+import { LOT_CAUTION, planFit } from './lot-analysis';
 import { PartCache, type Analysed } from './part-analysis';
 
 export class AnalyticsService {
@@ -27,8 +27,11 @@ export class AnalyticsService {
       deviceTypeId: c.lot.deviceTypeId,
       partNumber: c.lot.partNumber,
       dateCode: c.lot.dateCode,
+      productionDate: a.evidence.lot.productionDate,
+      productionDateSource: a.evidence.lot.productionDateSource,
       verdict: a.verdict,
       reasons: a.reasons,
+      planVerdicts: a.judgement.plans.map((p) => ({ planId: p.planId, planName: p.planName, verdict: p.verdict })),
       run: c.run,
       plan: c.plan
         ? { id: c.plan.id, name: c.plan.name, kind: c.plan.kind, durationH: c.plan.durationH, acceptNumber: c.plan.acceptNumber, sampleSize: c.plan.sampleSize, chamberC: c.plan.chamberC }
@@ -57,14 +60,18 @@ export class AnalyticsService {
     const a = part?.lot(lotId);
     if (!a) throw notFound('The lot');
     const c = a.core;
+    const plans: LotPlanView[] = a.judgement.plans.map((p) => {
+      const pc = a.evidence.plans.find((x) => x.plan.planId === p.planId)!.plan;
+      return { ...p, fit: planFit({ exposure: p.exposure, eaEv: pc.eaEv, useC: pc.useC, stressC: pc.stressC, stressBasis: pc.stressBasis }) };
+    });
     return {
       ...this.toSummary(a),
       criteria: c.plan?.criteria ?? null,
       readPointsH: c.plan ? [...c.plan.readPointsH].sort((x, y) => x - y) : [],
       readPoints: c.readPoints,
       trends: c.trends,
-      control: a.control,
-      fit: lotFit(c),
+      plans,
+      fit: plans.find((p) => p.planId === c.plan?.id)?.fit ?? null,
       devices: c.lotDevices,
       gainReference: { ...a.gainReference, normalisedReadings: c.normalisedReadings },
       otherRuns: a.otherRuns,
@@ -86,7 +93,8 @@ export class AnalyticsService {
   }
 
   /**
-   * Pooled over every lot with readings: device-hours N·H per lot (H = its latest read point),
+   * Pooled over every lot and plan with readings: device-hours are the sum of each device's credited
+   * hours (its socket's accrual, not N × the latest read point),
    * each plan's Arrhenius factor (plan Ea and use temperature vs chamber — junction on powered
    * stresses, see stressTemperature), and the χ² upper bound
    * χ²(CL; 2r+2) / (2·Σ N·H·AF) × 10⁹ (JESD85).
@@ -94,29 +102,30 @@ export class AnalyticsService {
   private typeSummary(t: DeviceTypeEntity, lots: Analysed[], q: { ltpdPct: number; acceptNumber: number }): DeviceTypeSummary {
     const byPlan = new Map<string, PlanAcceleration>();
     for (const a of lots) {
-      const c = a.core;
-      if (!c.plan || c.latestH === null || c.latestH <= 0) continue;
-      const n = c.lotDevices.filter((d) => d.status !== 'not-measured').length;
-      const af = arrheniusFactor({ eaEv: c.plan.eaEv, useC: c.plan.useC, stressC: c.plan.stressC });
-      const acc = byPlan.get(c.plan.id) ?? {
-        planId: c.plan.id,
-        planName: c.plan.name,
-        kind: c.plan.kind,
-        eaEv: c.plan.eaEv,
-        useC: c.plan.useC,
-        stressC: c.plan.stressC,
-        stressBasis: c.plan.stressBasis,
-        accelerationFactor: af,
-        devices: 0,
-        deviceHours: 0,
-        equivalentDeviceHours: 0,
-        failures: 0,
-      };
-      acc.devices += n;
-      acc.deviceHours += n * c.latestH;
-      acc.equivalentDeviceHours += n * c.latestH * af;
-      acc.failures += c.fails;
-      byPlan.set(c.plan.id, acc);
+      for (const p of a.judgement.plans) {
+        const pc = a.evidence.plans.find((x) => x.plan.planId === p.planId)!.plan;
+        if (p.latestH === null || p.exposure.deviceHours <= 0) continue;
+        const af = arrheniusFactor({ eaEv: pc.eaEv, useC: pc.useC, stressC: pc.stressC });
+        const acc = byPlan.get(pc.planId) ?? {
+          planId: pc.planId,
+          planName: pc.name,
+          kind: pc.kind,
+          eaEv: pc.eaEv,
+          useC: pc.useC,
+          stressC: pc.stressC,
+          stressBasis: pc.stressBasis,
+          accelerationFactor: af,
+          devices: 0,
+          deviceHours: 0,
+          equivalentDeviceHours: 0,
+          failures: 0,
+        };
+        acc.devices += p.exposure.devices;
+        acc.deviceHours += p.exposure.deviceHours;
+        acc.equivalentDeviceHours += p.exposure.deviceHours * af;
+        acc.failures += p.exposure.failures;
+        byPlan.set(pc.planId, acc);
+      }
     }
     const accelerations = [...byPlan.values()];
     const failures = accelerations.reduce((s, x) => s + x.failures, 0);
@@ -134,6 +143,8 @@ export class AnalyticsService {
       lotsDrifting: count('drifting'),
       lotsFailed: count('failed'),
       lotsInProgress: count('in-progress'),
+      lotsIncomplete: count('incomplete'),
+      lotsInsufficientSample: count('insufficient-sample'),
       devicesTested: accelerations.reduce((s, x) => s + x.devices, 0),
       failures,
       deviceHours: accelerations.reduce((s, x) => s + x.deviceHours, 0),

@@ -1,21 +1,13 @@
 /**
- * Lot-level judgement from device drift: distributions per read point, the typical device's
- * fitted path and pseudo-failure time, comparison with other lots of the same device type, the
- * verdict with its reasons, and FIT figures. Pure functions; statistics from shared/stats,
- * acceleration and χ² bounds from shared/reliability.
+ * Lot figures from device drift: distributions per read point, the typical device's fitted path,
+ * and FIT figures from a plan's exposure. The verdict itself is shared/verdict's judgeLot.
+ * Pure functions; statistics from shared/stats, acceleration and χ² bounds from shared/reliability.
  */
-import type {
-  ControlCheck,
-  FitFigures,
-  LotDevice,
-  LotReadPointStats,
-  LotVerdict,
-  TrendFit,
-} from '../../../shared/schemas/analytics';
+import type { FitFigures, LotDevice, LotReadPointStats, TrendFit } from '../../../shared/schemas/analytics';
 import type { DeviceDriftView } from '../../../shared/schemas/measurements';
 import type { Criteria } from '../../../shared/schemas/plans';
 import { arrheniusFactor, constantsUsed, fitUpperBoundDetails } from '../../../shared/reliability';
-import { individualsChart, lotDriftSummary, pseudoFailureTime, runRuleViolations } from '../../../shared/stats';
+import { lotDriftSummary, pseudoFailureTime } from '../../../shared/stats';
 
 export const LOT_CAUTION =
   'Projections extrapolate a straight-line fit beyond the measured read points and the FIT figures assume a single ' +
@@ -187,125 +179,20 @@ export function lotTrends(readPoints: LotReadPointStats[], devices: DeviceDriftV
   return out;
 }
 
-/** Value compared across lots: mean hFE change (%) or median ICBO ratio at a read point. */
-export function controlValue(core: LotFigures, parameter: 'hfe' | 'icbo', h: number): number | null {
-  const rp = core.readPoints.find((r) => r.hours === h);
-  if (!rp) return null;
-  if (parameter === 'hfe') return rp.hfeChangePct?.mean ?? null;
-  return rp.icboRatio?.median ?? null;
-}
-
 /**
- * This lot against the other lots of its device type (same stress kind) at its latest read point:
- * individuals-chart limits from the other lots (mean ± 2.66·MR̄, Montgomery), then the Western
- * Electric run rules on the sequence "other lots …, this lot"; only patterns that include this
- * lot count. Needs at least two other lots measured at that read point.
+ * FIT at 60 % and 90 % from one plan's exposure: the failures counted by the verdict and the sum of
+ * the devices' credited hours (each socket's own accrual), chi-square (JESD85).
  */
-export function controlChecks(core: LotFigures, others: LotFigures[]): ControlCheck[] {
-  const h = core.latestH;
-  if (h === null || h === 0 || !core.plan) return [];
-  const peers = others
-    .filter((o) => o.lot.id !== core.lot.id && o.lot.deviceTypeId === core.lot.deviceTypeId && o.plan?.kind === core.plan!.kind)
-    .sort((a, b) => a.lot.code.localeCompare(b.lot.code));
-  const out: ControlCheck[] = [];
-  for (const parameter of ['hfe', 'icbo'] as const) {
-    const value = controlValue(core, parameter, h);
-    if (value === null) continue;
-    const reference = peers
-      .map((o) => ({ lotId: o.lot.id, lotCode: o.lot.code, value: controlValue(o, parameter, h) }))
-      .filter((x): x is { lotId: string; lotCode: string; value: number } => x.value !== null);
-    const base = { parameter, readPointH: h, value, reference };
-    if (reference.length < 2) {
-      out.push({ ...base, chart: null, violations: [], outOfControl: false, note: `Needs at least two other ${core.lot.partNumber} lots measured at ${h} h; ${reference.length} found.` });
-      continue;
-    }
-    const chart = individualsChart(reference.map((r) => r.value));
-    if (!(chart.sigma > 0)) {
-      out.push({ ...base, chart, violations: [], outOfControl: false, note: 'The other lots agree exactly, so there is no spread to judge against.' });
-      continue;
-    }
-    const last = reference.length;
-    const violations = runRuleViolations([...reference.map((r) => r.value), value], { mean: chart.mean, sigma: chart.sigma })
-      .filter((v) => v.indices.includes(last))
-      .map((v) => ({ rule: v.rule, description: v.description.replace(`point ${last + 1}`, 'this lot') }));
-    const outside = value > chart.ucl || value < chart.lcl;
-    out.push({ ...base, chart, violations, outOfControl: outside || violations.length > 0, note: null });
-  }
-  return out;
-}
-
-const PARAM_LABEL = { hfe: 'hFE', icbo: 'ICBO', vcesat: 'VCE(sat)' } as const;
-const fmtH = (h: number) => `${Math.round(h).toLocaleString('en-GB')} h`;
-
-/** The verdict and its reasons, most important first. */
-export function judgeLot(core: LotFigures, control: ControlCheck[]): { verdict: LotVerdict; reasons: string[] } {
-  if (!core.run || !core.plan) return { verdict: 'untested', reasons: ['This lot has not been on a stress run yet.'] };
-  const { plan, run } = core;
-  const reasons: string[] = [];
-  /** Context that does not decide the verdict; listed after the reasons that do. */
-  const info: string[] = [];
-  const failedDevices = core.lotDevices.filter((d) => d.firstFailedH !== null);
-  const failed = failedDevices.length > plan.acceptNumber;
-  if (failedDevices.length) {
-    const list = failedDevices
-      .slice(0, 5)
-      .map((d) => `${d.serial} at ${fmtH(d.firstFailedH!)} (${d.failedParameters.map((p) => PARAM_LABEL[p]).join(', ')})`)
-      .join('; ');
-    reasons.push(
-      `${failedDevices.length} device${failedDevices.length === 1 ? '' : 's'} failed the plan's criteria, accept number ${plan.acceptNumber}: ${list}${failedDevices.length > 5 ? '; …' : ''}.`,
-    );
-  }
-  let drifting = false;
-  if (core.pseudoFailureH !== null && core.pseudoFailureParameter) {
-    const t = core.trends.find((x) => x.parameter === core.pseudoFailureParameter)!;
-    const lim = t.model === 'log-ratio-origin' ? `${round(t.limit, 3)}× its time-zero value` : t.parameter === 'vcesat' ? `${round(t.limit, 3)} mV` : `${round(t.limit, 3)} %`;
-    if (core.pseudoFailureH < plan.durationH) {
-      drifting = true;
-      reasons.push(
-        `The typical device's ${PARAM_LABEL[t.parameter]} is projected to reach ${lim} at ${fmtH(core.pseudoFailureH)}, before the plan's ${fmtH(plan.durationH)} target life.`,
-      );
-    } else {
-      info.push(`Projected ${PARAM_LABEL[t.parameter]} crossing (${lim}) at ${fmtH(core.pseudoFailureH)}, beyond the ${fmtH(plan.durationH)} target life.`);
-    }
-  } else if (core.trends.length) info.push('No parameter is projected to reach its limit.');
-  for (const c of control) {
-    if (!c.outOfControl || !c.chart) continue;
-    drifting = true;
-    const unit = c.parameter === 'hfe' ? ' %' : '×';
-    const what = c.parameter === 'hfe' ? 'Mean hFE change' : 'Median ICBO ratio';
-    reasons.push(
-      `${what} at ${fmtH(c.readPointH)} (${round(c.value, 3)}${unit}) is out of control against ${c.reference.length} other ${core.lot.partNumber} lots ` +
-        `(limits ${round(c.chart.lcl, 3)} to ${round(c.chart.ucl, 3)}${unit})${c.violations.length ? `: ${c.violations.map((v) => v.description).join('; ')}` : ''}.`,
-    );
-  }
-
-  const planned = [...plan.readPointsH].sort((a, b) => a - b);
-  const measured = new Set(core.readPoints.map((r) => r.hours));
-  const missing = planned.filter((h) => !measured.has(h));
-  const complete = run.state === 'finished' && missing.length === 0;
-  if (failed) return { verdict: 'failed', reasons: [...reasons, ...info] };
-  if (drifting) return { verdict: 'drifting', reasons: [...reasons, ...info] };
-  reasons.push(...info);
-  if (complete) {
-    reasons.unshift(`All ${core.lotDevices.length} devices measured through ${fmtH(planned[planned.length - 1])}; ${failedDevices.length} failed (accept number ${plan.acceptNumber}).`);
-    return { verdict: 'passed', reasons };
-  }
-  if (!core.readPoints.length) reasons.unshift(`Run ${run.code} is ${run.state}; no readings stored yet.`);
-  else {
-    reasons.unshift(
-      `Run ${run.code} is ${run.state} at ${fmtH(run.stressHours)}; measured through ${fmtH(core.latestH ?? 0)}${missing.length ? `, read points ${missing.join(' / ')} h still to come` : ''}.`,
-    );
-  }
-  return { verdict: 'in-progress', reasons };
-}
-
-/** FIT at 60 % and 90 % from this lot's devices × hours at the latest read point (chi-square, JESD85). */
-export function lotFit(core: LotFigures): FitFigures | null {
-  if (!core.plan || core.latestH === null || core.latestH <= 0) return null;
-  const devices = core.lotDevices.filter((d) => d.status !== 'not-measured').length;
-  if (!devices) return null;
+export function planFit(p: { exposure: { devices: number; deviceHours: number; failures: number }; eaEv: number; useC: number; stressC: number; stressBasis: string }): FitFigures | null {
+  if (!(p.exposure.devices > 0 && p.exposure.deviceHours > 0)) return null;
   return fitFigures({
-    failures: core.fails, devices, hoursEach: core.latestH, eaEv: core.plan.eaEv, useC: core.plan.useC, stressC: core.plan.stressC, stressBasis: core.plan.stressBasis,
+    failures: p.exposure.failures,
+    devices: p.exposure.devices,
+    hoursEach: p.exposure.deviceHours / p.exposure.devices,
+    eaEv: p.eaEv,
+    useC: p.useC,
+    stressC: p.stressC,
+    stressBasis: p.stressBasis,
   });
 }
 

@@ -39,6 +39,14 @@ export function lotReportCsv(d: LotDetail, extra: { notes: string; generatedAt: 
   kv('Run', d.run ? `${d.run.code} (${d.run.state}, ${d.run.stressHours} h)` : 'none');
   kv('Verdict', LOT_VERDICT_LABEL[d.verdict]);
   for (const r of d.reasons) kv('Reason', r);
+  for (const p of d.plans) {
+    const s = p.sample;
+    kv(`Plan verdict: ${p.planName}`, LOT_VERDICT_LABEL[p.verdict]);
+    kv(`Sample: ${p.planName}`, `runs ${p.runs.map((r) => r.runCode).join(' + ')}; planned ${s.planned}, booked ${s.booked}, judged ${s.judged}, failures ${s.failures}; LTPD demonstrated ${s.demonstratedLtpd === null ? '—' : `${+(s.demonstratedLtpd * 100).toPrecision(3)} %`}, plan ${+(s.planLtpd * 100).toPrecision(3)} % at ${s.confidence * 100} %`);
+    if (s.deviation) kv(`Sample deviation: ${p.planName}`, `${s.deviation.sampleSize} devices: ${s.deviation.reason} (${s.deviation.by}, ${s.deviation.at})`);
+    for (const r of p.readPoints) if (r.due && !r.complete) kv(`Incomplete read point (h): ${p.planName}`, `${r.hours}: ${r.missing.map((m) => `${m.serial} (${m.why})`).join('; ')}`);
+    kv(`Degradation: ${p.planName}`, p.degradation.note);
+  }
   kv('Pseudo-failure time (h)', d.pseudoFailureH);
   kv('Pseudo-failure parameter', d.pseudoFailureParameter ? PARAM[d.pseudoFailureParameter] : '');
   if (d.fit) {
@@ -121,6 +129,9 @@ export function lotReportPdf(d: LotDetail, extra: { notes: string; generatedAt: 
 
     doc.moveDown(0.8).font('Helvetica-Bold').fontSize(13);
     t(`Verdict: ${LOT_VERDICT_LABEL[d.verdict]}`);
+    for (const p of d.plans) {
+      t(`${p.planName}: ${LOT_VERDICT_LABEL[p.verdict]} (${p.sample.judged} of ${p.sample.planned} devices judged, ${p.sample.failures} failed)`, { indent: 8 });
+    }
     doc.font('Helvetica').fontSize(10);
     for (const r of d.reasons) t(`- ${r}`, { indent: 8 });
     if (d.gainReference.normalisedReadings > 0) {

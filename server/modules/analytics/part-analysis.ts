@@ -10,14 +10,19 @@
 import type { DataSource, EntityManager } from 'typeorm';
 import type { LotVerdict } from '../../../shared/schemas/analytics';
 import type { Criteria } from '../../../shared/schemas/plans';
+import type { PlanKind } from '../../../shared/domain/stress';
+import type { MeasurementResult } from '../../../shared/evidence';
+import { judgeLot, controlValues, type LotJudgement } from '../../../shared/verdict/judge';
+import { dateFromDateCode, planConditionsKey, type DeviceEvidence, type LotEvidence, type PeerLot, type PlanEvidence } from '../../../shared/verdict/evidence';
 import { runDrift, type DriftReading, type DriftSource } from '../measurements/measurements.service';
-import { controlChecks, judgeLot, lotCore, stressTemperature, type LotFigures } from './lot-analysis';
+import { lotCore, stressTemperature, type LotFigures } from './lot-analysis';
 
 export interface Analysed {
   core: LotFigures;
   verdict: LotVerdict;
   reasons: string[];
-  control: ReturnType<typeof controlChecks>;
+  judgement: LotJudgement;
+  evidence: LotEvidence;
   otherRuns: Array<{ id: string; code: string; state: string }>;
   gainReference: { referenceC: number; xtb: number };
 }
@@ -44,11 +49,55 @@ interface RunStatus {
 interface RunRow extends RunStatus {
   planId: string;
   createdAt: Date;
+  /** The sample the run belongs to (runs booked together across rigs share one); null = the run alone. */
+  sampleId: string | null;
+  rigCode: string | null;
+}
+interface SampleRow {
+  id: string;
+  plannedSize: number;
+  bookedSize: number;
+  deviationReason: string | null;
+  deviationBy: string | null;
+  deviationAt: Date | null;
+}
+/** A socket's credited hours and trip (changes while the run stresses: read with the run status). */
+interface SocketHours {
+  accruedHours: number;
+  tripped: boolean;
+  trippedAt: string | null;
+  tripReason: string | null;
+}
+/** What the verdict reads of a reading beyond the drift's columns. */
+interface ReadingExtra {
+  result: MeasurementResult;
+  hfeIcA: number | null;
+  hfeVceV: number | null;
+  icboVcbV: number | null;
+  bvceoV: number | null;
+  measuredAt: string | null;
+  conditionsFlag: string | null;
+  confirmedAt: string | null;
+  confirmedBy: string | null;
+  confirmReason: string | null;
+}
+interface DispositionRow {
+  runId: string;
+  deviceId: string;
+  readPointH: number;
+  kind: DeviceEvidence['dispositions'][number]['kind'];
+  reason: string;
+  byName: string;
+  at: string;
 }
 interface PlanRow {
   id: string;
   name: string;
+  version: number;
   kind: string;
+  humidityPct: number | null;
+  bias: { vcbV: number | null; vebV: number | null; vceV: number | null; ibA: number | null; icA: number | null };
+  cycle: { onMin: number; offMin: number; deltaTjC: number; cycles: number } | null;
   durationH: number;
   acceptNumber: number;
   sampleSize: number;
@@ -74,6 +123,12 @@ export interface PartData {
   plans: Map<string, PlanRow>;
   devicesByRun: Map<string, SocketDevice[]>;
   readingsByRun: Map<string, DriftReading[]>;
+  /** Same order as readingsByRun. */
+  extrasByRun: Map<string, ReadingExtra[]>;
+  samples: Map<string, SampleRow>;
+  dispositions: DispositionRow[];
+  /** run:device → credited hours and trip. */
+  sockets: Map<string, SocketHours>;
 }
 
 /** Two versions per part: see VERSION_SQL. */
@@ -108,7 +163,7 @@ WITH lt AS (
 ), rl AS (
   SELECT lt.tid, x.run_id, x.xmin FROM run_lots x JOIN lt ON lt.id = x.lot_id
 ), r AS (
-  SELECT DISTINCT rl.tid, rl.run_id, u.plan_id, u.xmin, concat_ws('|', u.id, u.plan_id, u.created_at, u.state = 'aborted') AS choice
+  SELECT DISTINCT rl.tid, rl.run_id, u.plan_id, u.xmin, concat_ws('|', u.id, u.plan_id, u.created_at, u.state = 'aborted', u.sample_id) AS choice
     FROM rl JOIN runs u ON u.id = rl.run_id
 ), v(tid, term) AS (
   SELECT id, 'x' || xmin FROM device_types WHERE id = ANY($1::uuid[])
@@ -116,7 +171,9 @@ WITH lt AS (
   UNION ALL SELECT tid, 'x' || xmin FROM rl
   UNION ALL SELECT tid, 'c' || choice FROM r
   UNION ALL SELECT r.tid, 'x' || p.xmin FROM r JOIN stress_plans p ON p.id = r.plan_id
-  UNION ALL SELECT r.tid, 'c' || concat_ws('|', s.run_id, s.socket_index, s.device_id) FROM r JOIN run_sockets s ON s.run_id = r.run_id
+  UNION ALL SELECT r.tid, 'c' || concat_ws('|', s.run_id, s.socket_index, s.device_id, s.tripped) FROM r JOIN run_sockets s ON s.run_id = r.run_id
+  UNION ALL SELECT r.tid, 'x' || x.xmin FROM r JOIN device_dispositions x ON x.run_id = r.run_id
+  UNION ALL SELECT DISTINCT r.tid, 'x' || sa.xmin FROM r JOIN runs u ON u.id = r.run_id JOIN samples sa ON sa.id = u.sample_id
   UNION ALL SELECT r.tid, 'x' || d.xmin FROM r JOIN run_sockets s ON s.run_id = r.run_id JOIN devices d ON d.id = s.device_id
   UNION ALL SELECT r.tid, 'x' || m.xmin FROM r JOIN measurements m ON m.run_id = r.run_id
 )
@@ -144,7 +201,10 @@ export async function loadPart(m: EntityManager, typeId: string): Promise<PartDa
     `SELECT id, code, device_type_id AS "deviceTypeId", date_code AS "dateCode" FROM lots WHERE device_type_id = $1 ORDER BY code ASC`,
     [typeId],
   );
-  const empty: PartData = { type, lots, runLots: [], runs: new Map(), plans: new Map(), devicesByRun: new Map(), readingsByRun: new Map() };
+  const empty: PartData = {
+    type, lots, runLots: [], runs: new Map(), plans: new Map(), devicesByRun: new Map(), readingsByRun: new Map(), extrasByRun: new Map(),
+    samples: new Map(), dispositions: [], sockets: new Map(),
+  };
   if (!lots.length) return empty;
   const runLots: PartData['runLots'] = await m.query(`SELECT run_id AS "runId", lot_id AS "lotId" FROM run_lots WHERE lot_id = ANY($1::uuid[])`, [
     lots.map((l) => l.id),
@@ -152,15 +212,24 @@ export async function loadPart(m: EntityManager, typeId: string): Promise<PartDa
   const runIds = [...new Set(runLots.map((r) => r.runId))];
   if (!runIds.length) return { ...empty, runLots };
   const runRows: RunRow[] = await m.query(
-    `SELECT ${RUN_STATUS_COLUMNS}, plan_id AS "planId", created_at AS "createdAt" FROM runs WHERE id = ANY($1::uuid[])`,
+    `SELECT u.id, u.code, u.state, u.stress_hours AS "stressHours", u.plan_id AS "planId", u.created_at AS "createdAt", u.sample_id AS "sampleId", g.code AS "rigCode"
+       FROM runs u LEFT JOIN rigs g ON g.id = u.rig_id WHERE u.id = ANY($1::uuid[])`,
     [runIds],
   );
   const planRows: PlanRow[] = await m.query(
-    `SELECT id, name, kind, duration_h AS "durationH", accept_number AS "acceptNumber", sample_size AS "sampleSize", chamber_c AS "chamberC",
+    `SELECT id, name, version, kind, humidity_pct AS "humidityPct", bias, cycle, duration_h AS "durationH", accept_number AS "acceptNumber", sample_size AS "sampleSize", chamber_c AS "chamberC",
             ea_ev AS "eaEv", use_c AS "useC", read_points_h AS "readPointsH", criteria, check_result #> '{derived,tjC}' AS "tjC"
        FROM stress_plans WHERE id = ANY($1::uuid[])`,
     [[...new Set(runRows.map((r) => r.planId))]],
   );
+  const sampleIds = [...new Set(runRows.map((r) => r.sampleId).filter((x): x is string => !!x))];
+  const sampleRows: SampleRow[] = sampleIds.length
+    ? await m.query(
+        `SELECT s.id, s.planned_size AS "plannedSize", s.booked_size AS "bookedSize", s.deviation_reason AS "deviationReason", u.name AS "deviationBy", s.deviation_at AS "deviationAt"
+           FROM samples s LEFT JOIN users u ON u.id = s.deviation_by_id WHERE s.id = ANY($1::uuid[])`,
+        [sampleIds],
+      )
+    : [];
   // The socket map as one JSON text per run (socket order), like the readings below.
   const socketMaps: Array<{ runId: string; devices: string }> = await m.query(
     `SELECT s.run_id AS "runId", json_agg(json_build_array(s.socket_index, s.device_id, d.serial, d.lot_id, l.code) ORDER BY s.socket_index)::text AS devices
@@ -177,17 +246,21 @@ export async function loadPart(m: EntityManager, typeId: string): Promise<PartDa
       rows.map(([socketIndex, deviceId, serial, lotId, lotCode]) => ({ deviceId, serial, lotId, lotCode, socketIndex })),
     );
   }
-  // One JSON text per run, a reading as [device, h, hFE, ICBO, VCE(sat), °C, late]: PostgreSQL does
-  // the per-value text work either way, but one JSON.parse per run costs a fraction of node-pg
-  // building ~40 k row objects field by field.
+  // One JSON text per run, a reading as [device, h, hFE, ICBO, VCE(sat), °C, late, …what the verdict
+  // adds]: PostgreSQL does the per-value text work either way, but one JSON.parse per run costs a
+  // fraction of node-pg building ~40 k row objects field by field.
   const perRun: Array<{ runId: string; readings: string }> = await m.query(
-    `SELECT run_id AS "runId", json_agg(json_build_array(device_id, read_point_h, hfe, icbo_a, vcesat_v, measured_c, late))::text AS readings
-       FROM measurements WHERE run_id = ANY($1::uuid[]) GROUP BY run_id`,
+    `SELECT x.run_id AS "runId", json_agg(json_build_array(x.device_id, x.read_point_h, x.hfe, x.icbo_a, x.vcesat_v, x.measured_c, x.late,
+              x.result, x.hfe_ic_a, x.hfe_vce_v, x.icbo_vcb_v, x.bvceo_v, x.measured_at, x.conditions_flag, x.confirmed_at, u.name, x.confirm_reason))::text AS readings
+       FROM measurements x LEFT JOIN users u ON u.id = x.confirmed_by_id WHERE x.run_id = ANY($1::uuid[]) GROUP BY x.run_id`,
     [runIds],
   );
   const readingsByRun = new Map<string, DriftReading[]>();
+  const extrasByRun = new Map<string, ReadingExtra[]>();
   for (const { runId, readings } of perRun) {
-    const rows = JSON.parse(readings) as Array<[string, unknown, unknown, unknown, unknown, unknown, boolean]>;
+    const rows = JSON.parse(readings) as Array<
+      [string, unknown, unknown, unknown, unknown, unknown, boolean, MeasurementResult, unknown, unknown, unknown, unknown, string | null, string | null, string | null, string | null, string | null]
+    >;
     readingsByRun.set(
       runId,
       rows.map(([deviceId, h, hfe, icbo, vce, c, late]) => ({
@@ -200,7 +273,28 @@ export async function loadPart(m: EntityManager, typeId: string): Promise<PartDa
         late,
       })),
     );
+    extrasByRun.set(
+      runId,
+      rows.map((r) => ({
+        result: r[7] ?? 'measured',
+        hfeIcA: num(r[8]),
+        hfeVceV: num(r[9]),
+        icboVcbV: num(r[10]),
+        bvceoV: num(r[11]),
+        measuredAt: r[12],
+        conditionsFlag: r[13],
+        confirmedAt: r[14],
+        confirmedBy: r[15],
+        confirmReason: r[16],
+      })),
+    );
   }
+  const dispositions: DispositionRow[] = (
+    await m.query(
+      `SELECT run_id AS "runId", device_id AS "deviceId", read_point_h AS "readPointH", kind, reason, by_name AS "byName", at FROM device_dispositions WHERE run_id = ANY($1::uuid[])`,
+      [runIds],
+    )
+  ).map((d: DispositionRow & { at: Date; readPointH: unknown }) => ({ ...d, readPointH: num(d.readPointH)!, at: new Date(d.at).toISOString() }));
   return {
     type,
     lots,
@@ -209,40 +303,79 @@ export async function loadPart(m: EntityManager, typeId: string): Promise<PartDa
     plans: new Map(planRows.map((p) => [p.id, p])),
     devicesByRun,
     readingsByRun,
+    extrasByRun,
+    samples: new Map(sampleRows.map((x) => [x.id, x])),
+    dispositions,
+    sockets: await socketHours(m, runIds),
   };
 }
 
-/** One lot's figures, and which runs its page names (their status is filled in per run version). */
+/** Credited hours and trips of the runs' sockets, keyed run:device. */
+async function socketHours(m: EntityManager, runIds: string[]): Promise<Map<string, SocketHours>> {
+  if (!runIds.length) return new Map();
+  const rows: Array<{ runId: string; deviceId: string; accruedHours: number; tripped: boolean; trippedAt: Date | null; tripReason: string | null }> = await m.query(
+    `SELECT run_id AS "runId", device_id AS "deviceId", accrued_hours AS "accruedHours", tripped, tripped_at AS "trippedAt", trip_reason AS "tripReason"
+       FROM run_sockets WHERE run_id = ANY($1::uuid[])`,
+    [runIds],
+  );
+  return new Map(
+    rows.map((r) => [
+      `${r.runId}:${r.deviceId}`,
+      { accruedHours: Number(r.accruedHours), tripped: r.tripped, trippedAt: r.trippedAt ? new Date(r.trippedAt).toISOString() : null, tripReason: r.tripReason },
+    ]),
+  );
+}
+
+/** One sample of a lot under one plan: its runs and this lot's devices in them (without hours, which move). */
+interface LotSample {
+  planId: string;
+  sampleId: string;
+  runIds: string[];
+  devices: Array<Omit<DeviceEvidence, 'creditedHours' | 'trip'>>;
+}
+
+/** One lot's figures, its samples per plan, and which runs its page names (their status is filled in per run version). */
 interface LotEntry {
   figures: LotFigures;
   runId: string | null;
   otherRunIds: string[];
   gain: Analysed['gainReference'];
+  lot: LotEvidence['lot'];
+  samples: LotSample[];
+  /** This lot's control values per plan sample, for the other lots' peer comparison. */
+  peers: PeerLot[];
 }
 
 /**
- * Every lot of the part analysed on its most recent run that has readings for it (else its most
- * recent run that was not aborted). The figures of all lots are built at once (the control checks
- * of any lot compare it with all of them); the verdicts on first use, so one lot's page judges one
- * lot. Immutable apart from that memo: a change of run status makes a new instance (withRuns).
+ * Every lot of the part: its verdict from all the plans it was stressed under (shared/verdict), and
+ * the figures (distributions per read point, the typical device's trend) of its most recent sample
+ * with readings. The figures of all lots are built at once (any lot's peers are the others); the
+ * verdicts on first use, so one lot's page judges one lot. Immutable apart from that memo: a change
+ * of run status makes a new instance (withRuns).
  */
 export class PartAnalysis {
   private readonly judged = new Map<string, Analysed>();
   private readonly index: Map<string, number>;
   private readonly cores: LotFigures[];
+  private readonly peers: PeerLot[];
 
   private constructor(
     readonly deviceTypeId: string,
     readonly version: PartVersion,
     private readonly entries: LotEntry[],
-    private readonly runs: ReadonlyMap<string, RunStatus>,
+    private readonly runs: ReadonlyMap<string, RunRow>,
+    private readonly plans: ReadonlyMap<string, PlanRow>,
+    private readonly samples: ReadonlyMap<string, SampleRow>,
+    private readonly sockets: ReadonlyMap<string, SocketHours>,
+    private readonly type: TypeRow,
   ) {
     this.index = new Map(entries.map((e, i) => [e.figures.lot.id, i]));
     this.cores = entries.map((e) => this.withStatus(e.figures, e.runId));
+    this.peers = entries.flatMap((e) => e.peers);
   }
 
   static build(data: PartData, version: PartVersion): PartAnalysis {
-    return new PartAnalysis(data.type.id, version, lotEntries(data), data.runs);
+    return new PartAnalysis(data.type.id, version, lotEntries(data), data.runs, data.plans, data.samples, data.sockets, data.type);
   }
 
   /** Run ids whose status the page shows (for withRuns). */
@@ -250,9 +383,14 @@ export class PartAnalysis {
     return [...this.runs.keys()];
   }
 
-  /** The same figures with the runs' current status (state, code, hours), judged afresh. */
-  withRuns(runs: RunStatus[], version: PartVersion): PartAnalysis {
-    return new PartAnalysis(this.deviceTypeId, version, this.entries, new Map(runs.map((r) => [r.id, r])));
+  /** The same figures with the runs' current status (state, code, hours) and sockets' credited hours, judged afresh. */
+  withRuns(runs: RunStatus[], sockets: Map<string, SocketHours>, version: PartVersion): PartAnalysis {
+    const merged = new Map<string, RunRow>();
+    for (const r of runs) {
+      const before = this.runs.get(r.id);
+      if (before) merged.set(r.id, { ...before, ...r });
+    }
+    return new PartAnalysis(this.deviceTypeId, version, this.entries, merged, this.plans, this.samples, sockets, this.type);
   }
 
   private status(runId: string): RunStatus {
@@ -264,6 +402,35 @@ export class PartAnalysis {
     return { ...figures, run: runId ? this.status(runId) : null };
   }
 
+  /** The lot's evidence with the runs' current status and the sockets' credited hours and trips. */
+  private evidence(e: LotEntry): LotEvidence {
+    const plans: PlanEvidence[] = e.samples.map((s) => {
+      const plan = this.plans.get(s.planId)!;
+      const sample = this.samples.get(s.sampleId);
+      return {
+        plan: planConditions(plan),
+        runs: s.runIds.map((id) => {
+          const r = this.runs.get(id)!;
+          return { runId: r.id, runCode: r.code, rigCode: r.rigCode, state: r.state, stressHours: r.stressHours };
+        }),
+        deviation: sample?.deviationReason
+          ? { sampleSize: sample.bookedSize, reason: sample.deviationReason, by: sample.deviationBy ?? 'unknown', at: sample.deviationAt ? new Date(sample.deviationAt).toISOString() : '' }
+          : null,
+        devices: s.devices.map((d) => {
+          const sock = this.sockets.get(`${d.runId}:${d.deviceId}`);
+          const run = this.runs.get(d.runId)!;
+          return {
+            ...d,
+            // The socket's own accrual (a trip latches it); a socket that never accrued falls back on the run's hours.
+            creditedHours: sock && (sock.accruedHours > 0 || sock.tripped) ? sock.accruedHours : run.stressHours,
+            trip: sock?.tripped ? { atH: sock.accruedHours, at: sock.trippedAt, reason: sock.tripReason } : null,
+          };
+        }),
+      };
+    });
+    return { lot: e.lot, gainReference: e.gain, plans };
+  }
+
   lot(lotId: string): Analysed | undefined {
     const i = this.index.get(lotId);
     if (i === undefined) return undefined;
@@ -271,13 +438,13 @@ export class PartAnalysis {
     if (!a) {
       const core = this.cores[i];
       const e = this.entries[i];
-      const control = controlChecks(core, this.cores);
-      const { verdict, reasons } = judgeLot(core, control);
+      const evidence = this.evidence(e);
+      const judgement = judgeLot(evidence, this.peers);
       const otherRuns = e.otherRunIds.map((id) => {
         const r = this.runs.get(id)!;
         return { id: r.id, code: r.code, state: r.state };
       });
-      a = { core, verdict, reasons, control, otherRuns, gainReference: e.gain };
+      a = { core, verdict: judgement.verdict, reasons: judgement.reasons, judgement, evidence, otherRuns, gainReference: e.gain };
       this.judged.set(lotId, a);
     }
     return a;
@@ -289,8 +456,29 @@ export class PartAnalysis {
   }
 }
 
+function planConditions(plan: PlanRow): PlanEvidence['plan'] {
+  return {
+    planId: plan.id,
+    name: plan.name,
+    version: plan.version ?? null,
+    kind: plan.kind as PlanKind,
+    chamberC: plan.chamberC,
+    humidityPct: plan.humidityPct ?? null,
+    bias: { vcbV: plan.bias?.vcbV ?? null, vebV: plan.bias?.vebV ?? null, vceV: plan.bias?.vceV ?? null, ibA: plan.bias?.ibA ?? null, icA: plan.bias?.icA ?? null },
+    cycle: plan.cycle ? { onMin: plan.cycle.onMin, offMin: plan.cycle.offMin, deltaTjC: plan.cycle.deltaTjC, cycles: plan.cycle.cycles } : null,
+    durationH: plan.durationH,
+    readPointsH: [...plan.readPointsH].sort((a, b) => a - b),
+    sampleSize: plan.sampleSize,
+    acceptNumber: plan.acceptNumber,
+    criteria: plan.criteria,
+    eaEv: plan.eaEv,
+    useC: plan.useC,
+    ...stressTemperature({ kind: plan.kind, chamberC: plan.chamberC, checkResult: { derived: { tjC: plan.tjC } } }),
+  };
+}
+
 function lotEntries(data: PartData): LotEntry[] {
-  const { type, runs, plans, devicesByRun, readingsByRun } = data;
+  const { type, runs, plans, devicesByRun, readingsByRun, extrasByRun } = data;
   const measuredLotsByRun = new Map<string, Set<string>>();
   for (const [rid, ms] of readingsByRun) {
     const lotOf = new Map((devicesByRun.get(rid) ?? []).map((d) => [d.deviceId, d.lotId]));
@@ -307,27 +495,50 @@ function lotEntries(data: PartData): LotEntry[] {
     if (list) list.push(rl.runId);
     else runIdsByLot.set(rl.lotId, [rl.runId]);
   }
+  const sampleOf = (r: RunRow) => r.sampleId ?? r.id;
+  const runsOfSample = new Map<string, RunRow[]>();
+  for (const r of runs.values()) {
+    const list = runsOfSample.get(sampleOf(r));
+    if (list) list.push(r);
+    else runsOfSample.set(sampleOf(r), [r]);
+  }
+  for (const list of runsOfSample.values()) list.sort((a, b) => a.code.localeCompare(b.code));
+  const dispositionsOf = new Map<string, DispositionRow[]>();
+  for (const d of data.dispositions) {
+    const k = `${d.runId}:${d.deviceId}`;
+    const list = dispositionsOf.get(k);
+    if (list) list.push(d);
+    else dispositionsOf.set(k, [d]);
+  }
 
   const chosen = data.lots.map((lot) => {
     const lotRuns = (runIdsByLot.get(lot.id) ?? [])
       .map((id) => runs.get(id)!)
       .filter(Boolean)
       .sort((a, b) => b.createdAt.getTime() - a.createdAt.getTime());
-    const run = lotRuns.find((r) => measuredLotsByRun.get(r.id)?.has(lot.id)) ?? lotRuns.find((r) => r.state !== 'aborted') ?? null;
-    return { lot, lotRuns, run };
+    const measured = (r: RunRow) => measuredLotsByRun.get(r.id)?.has(lot.id) ?? false;
+    const run = lotRuns.find(measured) ?? lotRuns.find((r) => r.state !== 'aborted') ?? null;
+    // Per plan, the most recent sample with readings of this lot (else the most recent one not aborted).
+    const byPlan = new Map<string, string>();
+    for (const r of lotRuns) if (!byPlan.has(r.planId) && measured(r)) byPlan.set(r.planId, sampleOf(r));
+    for (const r of lotRuns) if (!byPlan.has(r.planId) && r.state !== 'aborted') byPlan.set(r.planId, sampleOf(r));
+    if (run) byPlan.set(run.planId, sampleOf(run));
+    const sampleRunIds = (sid: string) => (runsOfSample.get(sid) ?? []).filter((r) => lotRuns.includes(r)).map((r) => r.id);
+    const primaryRunIds = run ? sampleRunIds(sampleOf(run)) : [];
+    const sampleIds = [...byPlan.values()];
+    const used = new Set(sampleIds.flatMap(sampleRunIds));
+    return { lot, lotRuns, run, primaryRunIds, sampleIds, sampleRunIds, used };
   });
 
   // A run's drift covers all its lots' devices: computed once, and dropped after its last lot so
   // the drift views (several kB per device) never pile up for the whole part.
   const lotsLeft = new Map<string, number>();
-  for (const c of chosen) if (c.run) lotsLeft.set(c.run.id, (lotsLeft.get(c.run.id) ?? 0) + 1);
+  for (const c of chosen) for (const id of c.primaryRunIds) lotsLeft.set(id, (lotsLeft.get(id) ?? 0) + 1);
   const drift = new Map<string, ReturnType<typeof runDrift>>();
   const driftOf = (run: RunRow) => {
     let d = drift.get(run.id);
     if (!d) {
       const plan = plans.get(run.planId)!;
-      // The part being analysed gives the gain reference (as before: the plan's own type was looked
-      // up among the analysed types, falling back to the first of them).
       // Lot analytics reads the numbers only: the per-parameter reason texts are not built.
       d = runDrift({ run, plan, deviceType: type, devices: devicesByRun.get(run.id) ?? [] }, readingsByRun.get(run.id) ?? [], { reasons: false });
       drift.set(run.id, d);
@@ -339,7 +550,7 @@ function lotEntries(data: PartData): LotEntry[] {
   };
 
   const gain = { referenceC: type.betaRefTC, xtb: type.xtb };
-  return chosen.map(({ lot, lotRuns, run }) => {
+  return chosen.map(({ lot, lotRuns, run, primaryRunIds, sampleIds, sampleRunIds, used }) => {
     const plan = run ? plans.get(run.planId)! : null;
     const { devices: _views, ...figures } = lotCore({
       lot: { id: lot.id, code: lot.code, deviceTypeId: lot.deviceTypeId, partNumber: type.partNumber, dateCode: lot.dateCode },
@@ -360,9 +571,74 @@ function lotEntries(data: PartData): LotEntry[] {
             criteria: plan.criteria,
           }
         : null,
-      devices: run ? driftOf(run).devices.filter((d) => d.lotId === lot.id) : [],
+      devices: primaryRunIds.flatMap((id) => driftOf(runs.get(id)!).devices.filter((d) => d.lotId === lot.id)),
     });
-    return { figures, runId: run?.id ?? null, otherRunIds: lotRuns.filter((r) => r.id !== run?.id).map((r) => r.id), gain };
+
+    const samples: LotSample[] = sampleIds.map((sid) => {
+      const runIds = sampleRunIds(sid);
+      const devices = runIds.flatMap((rid) => {
+        const extras = extrasByRun.get(rid) ?? [];
+        const readings = readingsByRun.get(rid) ?? [];
+        const byDevice = new Map<string, DeviceEvidence['readings']>();
+        readings.forEach((r, i) => {
+          const x = extras[i];
+          const ev: DeviceEvidence['readings'][number] = {
+            readPointH: r.readPointH,
+            result: x.result,
+            hfe: r.hfe,
+            hfeIcA: x.hfeIcA,
+            hfeVceV: x.hfeVceV,
+            icboA: r.icboA,
+            icboVcbV: x.icboVcbV,
+            vcesatV: r.vcesatV,
+            bvceoV: x.bvceoV,
+            measuredC: r.measuredC,
+            measuredAt: x.measuredAt,
+            late: r.late,
+            conditionDifferences: x.conditionsFlag ? [x.conditionsFlag] : [],
+            confirmed: x.confirmedAt ? { by: x.confirmedBy ?? 'unknown', at: new Date(x.confirmedAt).toISOString(), note: x.confirmReason ?? '' } : null,
+          };
+          const list = byDevice.get(r.deviceId);
+          if (list) list.push(ev);
+          else byDevice.set(r.deviceId, [ev]);
+        });
+        return (devicesByRun.get(rid) ?? [])
+          .filter((d) => d.lotId === lot.id)
+          .map((d) => ({
+            deviceId: d.deviceId,
+            serial: d.serial,
+            runId: rid,
+            socketIndex: d.socketIndex,
+            readings: (byDevice.get(d.deviceId) ?? []).sort((a, b) => a.readPointH - b.readPointH),
+            dispositions: (dispositionsOf.get(`${rid}:${d.deviceId}`) ?? []).map((x) => ({ kind: x.kind, readPointH: x.readPointH, reason: x.reason, by: x.byName, at: x.at })),
+          }));
+      });
+      return { planId: runs.get(runIds[0])!.planId, sampleId: sid, runIds, devices };
+    });
+    const productionDate = dateFromDateCode(lot.dateCode);
+    const lotEv: LotEvidence['lot'] = {
+      id: lot.id,
+      code: lot.code,
+      partNumber: type.partNumber,
+      deviceTypeId: lot.deviceTypeId,
+      dateCode: lot.dateCode,
+      productionDate,
+      productionDateSource: productionDate ? 'date-code' : null,
+    };
+    const peers: PeerLot[] = samples.map((s) => {
+      const pc = planConditions(plans.get(s.planId)!);
+      const pe: PlanEvidence = { plan: pc, runs: [], deviation: null, devices: s.devices.map((d) => ({ ...d, creditedHours: 0, trip: null })) };
+      return { lotId: lot.id, lotCode: lot.code, productionDate, conditionsKey: planConditionsKey(pc), values: controlValues(pe, gain) };
+    });
+    return {
+      figures,
+      runId: run?.id ?? null,
+      otherRunIds: lotRuns.filter((r) => !used.has(r.id)).map((r) => r.id),
+      gain,
+      lot: lotEv,
+      samples,
+      peers,
+    };
   });
 }
 
@@ -427,7 +703,10 @@ export class PartCache {
   private async part(m: EntityManager, typeId: string, version: PartVersion): Promise<PartAnalysis | null> {
     const hit = this.entries.get(typeId);
     if (hit && hit.version.figures === version.figures) {
-      const part = hit.version.runs === version.runs ? hit : hit.withRuns(await m.query(`SELECT ${RUN_STATUS_COLUMNS} FROM runs WHERE id = ANY($1::uuid[])`, [hit.runIds]), version);
+      const part =
+        hit.version.runs === version.runs
+          ? hit
+          : hit.withRuns(await m.query(`SELECT ${RUN_STATUS_COLUMNS} FROM runs WHERE id = ANY($1::uuid[])`, [hit.runIds]), await socketHours(m, hit.runIds), version);
       this.remember(part);
       return part;
     }

@@ -8,6 +8,13 @@ import type { AuditService } from '../audit/audit.service';
 export const LOCKOUT_AFTER = 5;
 export const LOCKOUT_MINUTES = 15;
 
+/**
+ * The one answer to an unknown e-mail, a wrong password and a locked account alike: a different
+ * lockout message told an outsider which e-mail addresses have accounts (issue #18, point 10).
+ */
+export const SIGN_IN_REFUSED =
+  `Wrong e-mail or password. After ${LOCKOUT_AFTER} wrong passwords in a row an account is locked for ${LOCKOUT_MINUTES} minutes; an administrator can unlock it sooner.`;
+
 // Compared against when the e-mail is unknown, so both paths cost one bcrypt compare.
 const DUMMY_HASH = bcrypt.hashSync('emberlot-timing-equaliser', 10);
 
@@ -23,15 +30,14 @@ export class AuthService {
     const u = await repo.findOne({ where: { email: email.trim().toLowerCase() } });
     if (!u) {
       await bcrypt.compare(password, DUMMY_HASH);
-      return { ok: false, message: 'Wrong e-mail or password.' };
+      return { ok: false, message: SIGN_IN_REFUSED };
     }
     const now = this.now();
     if (u.lockedUntil && u.lockedUntil > now) {
-      const minutes = Math.max(1, Math.ceil((u.lockedUntil.getTime() - now.getTime()) / 60000));
-      return {
-        ok: false,
-        message: `This account is locked after ${LOCKOUT_AFTER} wrong passwords. Try again in ${minutes} minute${minutes === 1 ? '' : 's'} or ask an administrator to unlock it.`,
-      };
+      // Same message and the same bcrypt cost as an unknown e-mail: the answer must not tell
+      // whether the account exists, and the password is not even compared while it is locked.
+      await bcrypt.compare(password, DUMMY_HASH);
+      return { ok: false, message: SIGN_IN_REFUSED };
     }
     const good = await bcrypt.compare(password, u.passwordHash);
     if (!good) {
@@ -40,10 +46,10 @@ export class AuthService {
       await repo.update(u.id, { failedSignIns: lock ? 0 : failed, lockedUntil: lock });
       if (lock) {
         await this.audit.record({ actor: 'system', action: 'user.locked', entity: 'user', entityId: u.id, details: { after: LOCKOUT_AFTER } });
-        return { ok: false, message: `Wrong password. The account is now locked for ${LOCKOUT_MINUTES} minutes.` };
       }
-      return { ok: false, message: 'Wrong e-mail or password.' };
+      return { ok: false, message: SIGN_IN_REFUSED };
     }
+    // Only someone who knows the password learns that the account exists and is deactivated.
     if (!u.active) return { ok: false, message: 'This account is deactivated. Ask an administrator.' };
     await repo.update(u.id, { failedSignIns: 0, lockedUntil: null, lastSignInAt: now });
     return { ok: true, user: toSessionUser(u) };

@@ -1,15 +1,15 @@
-import multer from 'multer';
 import type { Request, Response } from 'express';
 import { addSerialsSchema, checkSerialRows, lotInputSchema, lotListQuerySchema } from '../../../shared/schemas/devices';
 import { idParamSchema } from '../../../shared/schemas/users';
 import type { AppContext } from '../../context';
 import { badRequest } from '../../http/errors';
+import { memoryUpload } from '../../http/multipart';
 import { ApiRouter } from '../../http/route';
 import { readSerialCsv, SERIAL_CSV_MAX_BYTES } from './serial-csv';
 
 export const LOT_WRITERS = ['engineer'] as const;
 
-const upload = multer({ storage: multer.memoryStorage(), limits: { fileSize: SERIAL_CSV_MAX_BYTES, files: 1, fields: 5 } }).single('file');
+const upload = memoryUpload({ fileSize: SERIAL_CSV_MAX_BYTES, files: 1, fields: 5 }).single('file');
 
 /** Runs multer inside a handler (after the access check, so nobody unsigned streams a file in). */
 function receiveFile(req: Request, res: Response): Promise<Express.Multer.File> {

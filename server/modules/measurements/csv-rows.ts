@@ -14,15 +14,18 @@ import {
   type MeasurementColumn,
   type Units,
 } from '../../../shared/schemas/measurements';
+import { catastrophicWord, type CatastrophicResult, type MeasurementResult } from '../../../shared/evidence';
 import { unprocessable } from '../../http/errors';
 
 export interface ParsedValues {
-  hfe: number;
-  hfeIcA: number;
-  hfeVceV: number;
-  icboA: number;
-  icboVcbV: number;
-  vcesatV: number;
+  /** measured, or a catastrophic result whose values are null. */
+  result: MeasurementResult;
+  hfe: number | null;
+  hfeIcA: number | null;
+  hfeVceV: number | null;
+  icboA: number | null;
+  icboVcbV: number | null;
+  vcesatV: number | null;
   bvceoV: number | null;
   measuredC: number;
   measuredAt: Date;
@@ -153,12 +156,32 @@ export function parseMeasurementCsv(buf: Buffer, opts: { mapping: ColumnMapping;
     const lotRaw = cell('lot');
     const lot = lotRaw && !looksLikeFormula(lotRaw) ? lotRaw : null;
 
+    // A dead device: the result column says so (OPEN, SHORT, NO READING), or the tester wrote the
+    // word in place of a value. Its values may then be empty and are not stored.
+    const resultRaw = cell('result');
+    let result: MeasurementResult = 'measured';
+    if (resultRaw && !looksLikeFormula(resultRaw)) {
+      const word = catastrophicWord(resultRaw);
+      if (word) result = word;
+      else if (!/^(measured|ok|pass)$/i.test(resultRaw.trim())) {
+        reasons.push(`result "${resultRaw.slice(0, 20)}" is not one of: empty, measured, OPEN, SHORT, NO READING.`);
+      }
+    }
+    const NUMERIC: MeasurementColumn[] = ['hfe', 'hfe_ic_a', 'hfe_vce_v', 'icbo_a', 'icbo_vcb_v', 'vcesat_v', 'bvceo_v'];
+    if (result === 'measured') {
+      const words = new Set(NUMERIC.map((c) => catastrophicWord(cell(c))).filter((w): w is CatastrophicResult => w !== null));
+      if (words.size === 1) result = [...words][0];
+      else if (words.size > 1) reasons.push(`The row says both ${[...words].join(' and ')}; give one result.`);
+    }
+    const dead = result !== 'measured';
     const number = (c: MeasurementColumn, required: boolean): number | null => {
       const raw = cell(c);
       if (raw === null || raw === '') {
-        if (required) reasons.push(`${c} is empty.`);
+        if (required && !dead) reasons.push(`${c} is empty.`);
         return null;
       }
+      if (dead && c !== 'temp_c') return null; // a dead device's words or leftover values are not stored
+      if (catastrophicWord(raw)) return null; // two different words: reported once above
       if (looksLikeFormula(raw)) return null; // already reported
       if (!NUMBER.test(raw)) {
         reasons.push(`${c} "${raw.slice(0, 20)}" is not a number.`);
@@ -216,12 +239,13 @@ export function parseMeasurementCsv(buf: Buffer, opts: { mapping: ColumnMapping;
       reasons,
       values: ok
         ? {
-            hfe: hfe!,
-            hfeIcA: hfeIcA!,
-            hfeVceV: hfeVceV!,
-            icboA: icboA!,
-            icboVcbV: icboVcbV!,
-            vcesatV: vcesatV!,
+            result,
+            hfe,
+            hfeIcA,
+            hfeVceV,
+            icboA,
+            icboVcbV,
+            vcesatV,
             bvceoV,
             measuredC: tempC ?? opts.defaultTempC,
             measuredAt: measuredAt!,

@@ -5,10 +5,9 @@
  */
 import type { Criteria } from '../../../shared/schemas/plans';
 import type { DeviceReadPointDrift, DeviceDriftView } from '../../../shared/schemas/measurements';
-import { deviceDrift, normaliseGainToReference } from '../../../shared/stats';
+import { deviceDrift, referredGain } from '../../../shared/stats';
 
-/** Readings within this many °C of the reference temperature are used as measured. */
-export const GAIN_REFERENCE_TOLERANCE_C = 0.5;
+export { GAIN_REFERENCE_TOLERANCE_C, referredGain, type GainReference } from '../../../shared/stats';
 
 export const GAIN_LAW = 'β(T) = β_ref·(T/T_ref)^XTB, kelvin';
 export const GAIN_LAW_SOURCE = 'Gummel–Poon model as in SPICE';
@@ -22,23 +21,6 @@ export interface ReadingInput {
   late: boolean;
 }
 
-export interface GainReference {
-  referenceC: number;
-  xtb: number;
-}
-
-/** hFE referred to the reference temperature, and whether (and how) it was converted. */
-export function referredGain(hfe: number | null, measuredC: number, g: GainReference): { hfe: number | null; normalised: boolean; note: string | null } {
-  if (hfe === null) return { hfe: null, normalised: false, note: null };
-  if (Math.abs(measuredC - g.referenceC) <= GAIN_REFERENCE_TOLERANCE_C) return { hfe, normalised: false, note: null };
-  const referred = normaliseGainToReference({ hfe, measuredC, referenceC: g.referenceC, xtb: g.xtb });
-  return {
-    hfe: referred,
-    normalised: true,
-    note: `hFE ${+hfe.toPrecision(4)} measured at ${+measuredC.toFixed(1)} °C, referred to ${g.referenceC} °C with XTB ${g.xtb}: ${+referred.toPrecision(4)}`,
-  };
-}
-
 /**
  * All read points of one device. Time zero is read point 0; without it no drift is judged.
  * A device's first failure is the earliest read point where any judged parameter failed.
@@ -46,7 +28,7 @@ export function referredGain(hfe: number | null, measuredC: number, g: GainRefer
 export function driftOfDevice(
   readings: ReadingInput[],
   criteria: Criteria,
-  gain: GainReference,
+  gain: { referenceC: number; xtb: number },
   /** false: the parameters' reason texts are left empty (lot analytics judges thousands, shows none). */
   reasons = true,
 ): Pick<DeviceDriftView, 'status' | 'firstFailedH' | 'readPoints'> {

@@ -1,5 +1,4 @@
 import type { Request, Response } from 'express';
-import multer from 'multer';
 import {
   manualEntrySchema,
   readPointParamsSchema,
@@ -10,13 +9,11 @@ import {
 } from '../../../shared/schemas/measurements';
 import type { AppContext } from '../../context';
 import { badRequest, tooLarge, validationError } from '../../http/errors';
+import { memoryUpload } from '../../http/multipart';
 import { ApiRouter, HANDLED } from '../../http/route';
 
 /** Memory storage: a read-point file is small; nothing touches the disk. */
-const upload = multer({
-  storage: multer.memoryStorage(),
-  limits: { fileSize: UPLOAD_MAX_BYTES, files: 1, fields: 10, fieldSize: 64 * 1024, parts: 12 },
-}).single('file');
+const upload = memoryUpload({ fileSize: UPLOAD_MAX_BYTES, files: 1, fields: 10, fieldSize: 64 * 1024, parts: 12 }).single('file');
 
 function receiveFile(req: Request, res: Response): Promise<void> {
   return new Promise((resolve, reject) =>

@@ -12,7 +12,8 @@ import {
   type UploadFields,
   type UploadResult,
 } from '../../../shared/schemas/measurements';
-import { DeviceEntity, LotEntity, MeasurementEntity, MeasurementUploadEntity, RunEntity, RunSocketEntity } from '../../db/entities';
+import { conditionDifferences, isCatastrophic, isJudgeable, type MeasuringConditions } from '../../../shared/evidence';
+import { DeviceDispositionEntity, DeviceEntity, LotEntity, MeasurementEntity, MeasurementUploadEntity, RunEntity, RunSocketEntity } from '../../db/entities';
 import { conflict, unprocessable } from '../../http/errors';
 import type { AuditService } from '../audit/audit.service';
 import { parseMeasurementCsv, type ParsedRow, type ParsedValues } from './csv-rows';
@@ -40,11 +41,13 @@ const sameValues = (m: MeasurementEntity, v: ParsedValues) =>
       [m.measuredC, v.measuredC],
     ] as Array<[number | null, number | null]>
   ).every(([a, b]) => (a === null || b === null ? a === b : Math.abs(a - b) <= SAME_TOLERANCE * Math.max(1, Math.abs(a)))) &&
+  m.result === v.result &&
   m.measuredAt.getTime() === v.measuredAt.getTime();
 
 interface CheckedRow extends ParsedRow {
   deviceId: string | null;
   late: boolean;
+  conditionsFlag: string | null;
   outcome: RowResult['outcome'];
 }
 
@@ -126,6 +129,9 @@ export class MeasurementsService {
         late: r.late,
         uploadId: r.uploadId,
         manual: r.uploadId === null,
+        result: r.result,
+        conditionsFlag: r.conditionsFlag,
+        confirmedAt: r.confirmedAt?.toISOString() ?? null,
       }))
       .sort((a, b2) => (devices.get(a.deviceId)?.socketIndex ?? 0) - (devices.get(b2.deviceId)?.socketIndex ?? 0));
   }
@@ -270,13 +276,16 @@ export class MeasurementsService {
         reasons,
         values: reasons.length
           ? null
-          : {
-              hfe: it.hfe,
-              hfeIcA: it.hfeIcA,
-              hfeVceV: it.hfeVceV,
-              icboA: it.icboA,
-              icboVcbV: it.icboVcbV,
-              vcesatV: it.vcesatV,
+          : it.result !== 'measured'
+            ? { result: it.result, hfe: null, hfeIcA: null, hfeVceV: null, icboA: null, icboVcbV: null, vcesatV: null, bvceoV: null, measuredC: it.measuredC, measuredAt }
+            : {
+              result: it.result,
+              hfe: it.hfe ?? null,
+              hfeIcA: it.hfeIcA ?? null,
+              hfeVceV: it.hfeVceV ?? null,
+              icboA: it.icboA ?? null,
+              icboVcbV: it.icboVcbV ?? null,
+              vcesatV: it.vcesatV ?? null,
               bvceoV: it.bvceoV ?? null,
               measuredC: it.measuredC,
               measuredAt,
@@ -329,6 +338,9 @@ export class MeasurementsService {
     const existing = new Map(
       (await m.find(MeasurementEntity, { where: { runId: b.run.id, readPointH: hours } })).map((x) => [x.deviceId, x]),
     );
+    const timeZero = new Map(
+      (await m.find(MeasurementEntity, { where: { runId: b.run.id, readPointH: 0, result: 'measured' } })).map((x) => [x.deviceId, x]),
+    );
 
     const checked: CheckedRow[] = rows.map((r) => {
       const reasons = [...r.reasons];
@@ -345,7 +357,9 @@ export class MeasurementsService {
       }
       const late =
         hours > 0 && !!b.run.biasRemovedAt && !!r.values && r.values.measuredAt.getTime() - b.run.biasRemovedAt.getTime() > LATE_AFTER_BIAS_REMOVAL_H * H;
-      return { ...r, reasons, deviceId, late, outcome: 'rejected' as const };
+      const t0 = deviceId && hours > 0 ? timeZero.get(deviceId) : undefined;
+      const conditionsFlag = t0 && r.values && r.values.result === 'measured' ? conditionFlagText(t0, r.values) : null;
+      return { ...r, reasons, deviceId, late, conditionsFlag, outcome: 'rejected' as const };
     });
 
     // The same device twice: we cannot tell which reading is right, so neither is stored.
@@ -374,6 +388,7 @@ export class MeasurementsService {
       outcome: c.outcome,
       reasons: c.reasons,
       late: c.outcome !== 'rejected' && c.late,
+      ...(c.outcome !== 'rejected' && c.conditionsFlag ? { conditionsFlag: c.conditionsFlag } : {}),
       ...(c.values && c.outcome !== 'rejected'
         ? { values: { ...c.values, measuredAt: c.values.measuredAt.toISOString() } }
         : {}),
@@ -410,11 +425,12 @@ export class MeasurementsService {
           })),
         )
         .orUpdate(
-          ['hfe', 'hfe_ic_a', 'hfe_vce_v', 'icbo_a', 'icbo_vcb_v', 'vcesat_v', 'bvceo_v', 'measured_c', 'measured_at', 'late', 'upload_id', 'entered_by_id'],
+          ['result', 'hfe', 'hfe_ic_a', 'hfe_vce_v', 'icbo_a', 'icbo_vcb_v', 'vcesat_v', 'bvceo_v', 'measured_c', 'measured_at', 'late', 'upload_id', 'entered_by_id'],
           ['run_id', 'device_id', 'read_point_h'],
         )
         .execute();
     }
+    await refreshConditionFlags(m, b.run.id);
     await refreshFirstFailures(m, b);
   }
 
@@ -470,14 +486,46 @@ export function runDrift(b: DriftSource, ms: readonly DriftReading[], opts: { re
   };
 }
 
-/** run_sockets.failed_at_h mirrors the drift judgement so the floor and scheduler can see it. */
+/** A reading's conditions against its device's time zero, as one text (null when they agree). */
+export function conditionFlagText(t0: MeasuringConditions, r: MeasuringConditions): string | null {
+  const diffs = conditionDifferences(t0, r);
+  return diffs.length ? diffs.join(' ') : null;
+}
+
+/**
+ * Every later reading of the run compared with its device's time zero (which may itself have been
+ * corrected): a changed flag is stored and any earlier confirmation of it is withdrawn.
+ */
+export async function refreshConditionFlags(m: EntityManager, runId: string) {
+  const ms = await m.find(MeasurementEntity, { where: { runId } });
+  const t0 = new Map(ms.filter((x) => x.readPointH === 0 && x.result === 'measured').map((x) => [x.deviceId, x]));
+  for (const x of ms) {
+    if (x.readPointH === 0) continue;
+    const zero = t0.get(x.deviceId);
+    const flag = zero && x.result === 'measured' ? conditionFlagText(zero, x) : null;
+    if (flag !== x.conditionsFlag) {
+      await m.update(MeasurementEntity, { id: x.id }, { conditionsFlag: flag, confirmedAt: null, confirmedById: null, confirmReason: null });
+    }
+  }
+}
+
+/**
+ * run_sockets.failed_at_h mirrors the judgement so the floor and scheduler can see it: the first
+ * read point failing the plan's deltas, with a catastrophic result (open, short, no reading), or a
+ * trip recorded as a failure — whichever comes first.
+ */
 export async function refreshFirstFailures(m: EntityManager, b: RunBundle) {
   const ms = await m.find(MeasurementEntity, { where: { runId: b.run.id } });
-  const drift = runDrift(b, ms);
+  const drift = runDrift(b, ms.filter(isJudgeable));
+  const trips = await m.find(DeviceDispositionEntity, { where: { runId: b.run.id, kind: 'trip-failure' } });
+  const earliest = (a: number | null, c: number | null) => (a === null ? c : c === null ? a : Math.min(a, c));
   for (const d of drift.devices) {
+    let first = d.firstFailedH;
+    for (const x of ms) if (x.deviceId === d.deviceId && isCatastrophic(x.result)) first = earliest(first, x.readPointH);
+    for (const t of trips) if (t.deviceId === d.deviceId) first = earliest(first, t.readPointH);
     const current = b.devices.find((x) => x.deviceId === d.deviceId)?.failedAtH ?? null;
-    if (current !== d.firstFailedH) {
-      await m.update(RunSocketEntity, { runId: b.run.id, deviceId: d.deviceId }, { failedAtH: d.firstFailedH });
+    if (current !== first) {
+      await m.update(RunSocketEntity, { runId: b.run.id, deviceId: d.deviceId }, { failedAtH: first });
     }
   }
 }

@@ -59,7 +59,7 @@ export async function transitionRun(
   run: RunEntity,
   rig: RigEntity | null,
   to: RunState,
-  patch: Partial<Omit<RunEntity, 'plan' | 'rig'>>, // columns only: a relation object in an UPDATE is a mistake
+  patch: Partial<Omit<RunEntity, 'plan' | 'rig' | 'sample'>>, // columns only: a relation object in an UPDATE is a mistake
   audit: { actor: SessionUser | 'system'; action: string; reason?: string | null; details?: Record<string, unknown> },
 ): Promise<PendingEvent> {
   const from = run.state;

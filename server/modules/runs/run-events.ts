@@ -5,6 +5,7 @@
  */
 import { RUN_EVENT, type PendingRunEvent, type RunEvent } from '../../events';
 import type { AppContext } from '../../context';
+import { describeErrorForLog } from '../../db/safe-logger';
 
 export { RUN_EVENT };
 export type { AmbientNotReachedEvent, CommandFailedEvent, PendingRunEvent, ReadPointDueEvent, ReadPointOverdueEvent, RunEvent, StateChangedEvent } from '../../events';
@@ -18,7 +19,7 @@ export function emitRunEvent(ctx: Pick<AppContext, 'events' | 'now'>, event: Pen
   try {
     ctx.events.emit(RUN_EVENT, full);
   } catch (e) {
-    console.error('[runs] a run-event listener failed:', e);
+    console.error(`[runs] a run-event listener failed: ${describeErrorForLog(e)}`);
   }
   return full;
 }

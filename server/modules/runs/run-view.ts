@@ -9,6 +9,8 @@ import {
   type RunDetail,
   type RunPlanRef,
   type RunSocket,
+  type RunState,
+  type SampleView,
 } from '../../../shared/schemas/runs';
 import {
   AuditLogEntity,
@@ -17,6 +19,7 @@ import {
   RigEntity,
   RunEntity,
   RunLotEntity,
+  SampleEntity,
   StressPlanEntity,
   UserEntity,
 } from '../../db/entities';
@@ -62,6 +65,12 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
     [ids],
   );
   const countBy = new Map(counts.map((c) => [c.run_id, c]));
+  const sampleIds = [...new Set(runs.map((r) => r.sampleId).filter((x): x is string => !!x))];
+  const samples = new Map((sampleIds.length ? await m.find(SampleEntity, { where: { id: In(sampleIds) } }) : []).map((x) => [x.id, x]));
+  const sampleRuns: Array<{ sample_id: string; codes: string[] }> = sampleIds.length
+    ? await m.query(`SELECT sample_id, array_agg(code ORDER BY code) AS codes FROM runs WHERE sample_id = ANY($1) GROUP BY sample_id`, [sampleIds])
+    : [];
+  const codesBySample = new Map(sampleRuns.map((x) => [x.sample_id, x.codes]));
   const userIds = [...new Set(runs.map((r) => r.overrideById).filter((x): x is string => !!x))];
   const users = new Map((userIds.length ? await m.find(UserEntity, { where: { id: In(userIds) } }) : []).map((u) => [u.id, u]));
 
@@ -86,6 +95,7 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
         .sort((a, b) => a.code.localeCompare(b.code)),
       partNumber: types.get(plan.deviceTypeId)?.partNumber ?? '',
       sampleSize: r.sampleSize,
+      sample: sampleRef(r.sampleId ? samples.get(r.sampleId) : undefined, r.sampleId ? (codesBySample.get(r.sampleId) ?? []) : []),
       loadedCount: c?.loaded ?? 0,
       trippedCount: c?.tripped ?? 0,
       scheduledStart: iso(r.scheduledStart),
@@ -107,6 +117,28 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
       createdAt: r.createdAt.toISOString(),
     };
   });
+}
+
+function sampleRef(s: SampleEntity | undefined, runCodes: string[]): Run['sample'] {
+  if (!s) return null;
+  return { id: s.id, plannedSize: s.plannedSize, bookedSize: s.bookedSize, runCodes, deviation: s.deviationReason };
+}
+
+/** A sample with its runs and the deviation (who, when, why). */
+export async function sampleView(m: EntityManager, sampleId: string): Promise<SampleView> {
+  const s = await m.findOneByOrFail(SampleEntity, { id: sampleId });
+  const runs: Array<{ id: string; code: string; rig_code: string | null; sample_size: number; state: RunState }> = await m.query(
+    `SELECT r.id, r.code, g.code AS rig_code, r.sample_size, r.state FROM runs r LEFT JOIN rigs g ON g.id = r.rig_id WHERE r.sample_id = $1 ORDER BY r.code`,
+    [sampleId],
+  );
+  const by = s.deviationById ? await m.findOneBy(UserEntity, { id: s.deviationById }) : null;
+  return {
+    id: s.id,
+    plannedSize: s.plannedSize,
+    bookedSize: s.bookedSize,
+    deviation: s.deviationReason ? { reason: s.deviationReason, byName: by?.name ?? null, at: iso(s.deviationAt)! } : null,
+    runs: runs.map((r) => ({ id: r.id, code: r.code, rigCode: r.rig_code, sampleSize: Number(r.sample_size), state: r.state })),
+  };
 }
 
 export async function runSockets(m: EntityManager, runId: string): Promise<RunSocket[]> {

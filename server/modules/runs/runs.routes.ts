@@ -1,6 +1,7 @@
 import {
   abortRunSchema,
   bookRunSchema,
+  bookSampleSchema,
   proposalInputSchema,
   runActionSchema,
   runIdParamSchema,
@@ -23,6 +24,7 @@ export function runsRoutes(ctx: AppContext): ApiRouter {
   // Fixed paths before "/:id".
   r.get('/timeline', { access: 'signed-in', query: timelineQuerySchema }, ({ query }) => svc.timeline(query));
   r.post('/proposals', { access: RUN_PROPOSERS, body: proposalInputSchema }, ({ body }) => svc.propose(body));
+  r.post('/samples', { access: RUN_BOOKERS, body: bookSampleSchema, status: 201 }, ({ user, body }) => svc.bookSample(user, body));
   r.get('/', { access: 'signed-in', query: runListQuerySchema }, async ({ query }) => ({ items: await svc.list(query) }));
   r.post('/', { access: RUN_BOOKERS, body: bookRunSchema, status: 201 }, ({ user, body }) => svc.book(user, body));
   r.get('/:id', { access: 'signed-in', params: runIdParamSchema }, ({ params }) => svc.get(params.id));

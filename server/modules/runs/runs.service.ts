@@ -26,6 +26,8 @@ import {
   TERMINAL_STATES,
   type AbortRunInput,
   type BookRunInput,
+  type BookSampleInput,
+  type SampleBooking,
   type ProposalInput,
   type ProposalResult,
   type Run,
@@ -48,8 +50,10 @@ import {
   RunEntity,
   RunLotEntity,
   RunSocketEntity,
+  SampleEntity,
   StressPlanEntity,
 } from '../../db/entities';
+import { DEVIATION_REASON_MIN, sampleShortfall } from '../../../shared/evidence';
 import { AppError, conflict, notFound, unprocessable } from '../../http/errors';
 import { toDeviceTypeInput } from '../device-types/device-types.service';
 import { runPlanCheck } from '../plans/plan-check-result';
@@ -57,7 +61,7 @@ import { toPlanInput } from '../plans/plans.service';
 import { accrueStep, firstReadPointIndex, transitionRun, type EngineDeps } from './run-engine';
 import { maxSeq } from './telemetry-reads';
 import { emitRunEvent, type PendingRunEvent } from './run-events';
-import { planRef, socketsTakenOnRig, toRunDetail, toRuns } from './run-view';
+import { planRef, sampleView, socketsTakenOnRig, toRunDetail, toRuns } from './run-view';
 import { loadSchedulingInputs, projectedWindow, SCHEDULED_STATES, timingFrom } from './scheduling-data';
 
 /** Serialises bookings (one transaction at a time decides who gets a rig window). */
@@ -253,9 +257,23 @@ export class RunsService {
   }
 
   async book(actor: SessionUser, input: BookRunInput): Promise<RunDetail> {
-    const run = await this.ds.transaction(async (m) => {
+    const { planId, lotIds, override, deviation, rigId, start, sampleSize } = input;
+    const { runs } = await this.bookParts(actor, { planId, lotIds, override, deviation, parts: [{ rigId, start, sampleSize }] });
+    return toRunDetail(this.ds.manager, runs[0]);
+  }
+
+  /** A sample booked as one: a run per rig, all in one transaction (all or none). */
+  async bookSample(actor: SessionUser, input: BookSampleInput): Promise<SampleBooking> {
+    const { sample, runs } = await this.bookParts(actor, input);
+    const m = this.ds.manager;
+    return { sample: await sampleView(m, sample.id), runs: await Promise.all(runs.map((r) => toRunDetail(m, r))) };
+  }
+
+  private async bookParts(actor: SessionUser, input: BookSampleInput): Promise<{ sample: SampleEntity; runs: RunEntity[] }> {
+    return this.ds.transaction(async (m) => {
       await m.query('SELECT pg_advisory_xact_lock($1)', [BOOKING_LOCK]);
-      const { plan, type, lots, problems, blockingFindings } = await this.requestContext(m, input);
+      const total = input.parts.reduce((a, p) => a + p.sampleSize, 0);
+      const { plan, type, lots, problems, blockingFindings } = await this.requestContext(m, { planId: input.planId, lotIds: input.lotIds, sampleSize: total });
       if (problems.length) throw unprocessable(problems.join(' '), { problems });
       const overridden = blockingFindings.length > 0;
       if (overridden && !input.override) {
@@ -265,96 +283,161 @@ export class RunsService {
           { blockingFindings },
         );
       }
-      const rig = await m.findOne(RigEntity, { where: { id: input.rigId } });
-      if (!rig) throw unprocessable('The chosen rig was not found. Choose one of the proposals.');
-      const now = this.ctx.now().getTime();
-      const needs = needsOf(plan, input.sampleSize);
-      const refusals = staticRefusals(rig, needs);
-      if (refusals.length) throw unprocessable(refusals.join(' '), { reasons: refusals });
-      const inputs = await loadSchedulingInputs(m, now, this.timing);
-      let startMs: number;
-      let requestedStartMs: number | null = null;
-      if (input.start) {
-        requestedStartMs = Math.max(now, Date.parse(input.start));
-        startMs = requestedStartMs;
-        const clash = windowConflicts(rig, needs, startMs, startMs + runDurationMs(needs, this.timing), inputs.commitments, inputs.maintenance);
-        if (clash.length) {
-          // A proposal's start is often the projected end of the run ahead of it, and that
-          // projection slides with the clock (an overdue booking, a run still stressing): seconds
-          // after proposing, the same slot starts a little later. Follow it, within a tolerance;
-          // anything more is a different slot and needs new proposals.
-          const slot = earliestSlot(rig, needs, requestedStartMs, inputs.commitments, inputs.maintenance, this.timing);
-          const slideH = slot ? (slot.startMs - requestedStartMs) / this.timing.msPerClockH : Number.POSITIVE_INFINITY;
-          if (!slot || slideH > bookingSlideToleranceH(needs, this.timing)) {
-            throw conflict(`The rig is no longer free at ${when(startMs)}: ${clash.join(' ')} Ask for new proposals.`, { reasons: clash });
-          }
-          startMs = slot.startMs;
-        }
-      } else {
-        const slot = earliestSlot(rig, needs, now, inputs.commitments, inputs.maintenance, this.timing);
-        if (!slot) throw unprocessable(`Oven ${rig.code} cannot take this run.`);
-        startMs = slot.startMs;
+      const shortfall = sampleShortfall(plan.sampleSize, total);
+      if (shortfall && !input.deviation) {
+        throw unprocessable(
+          `${shortfall} Book the rest on another rig in the same booking (a split sample), or record a deviation with a reason of at least ${DEVIATION_REASON_MIN} characters.`,
+          { plannedSize: plan.sampleSize, bookedSize: total },
+        );
       }
-      const endMs = startMs + runDurationMs(needs, this.timing);
-      const code = await this.newCode(m, plan.kind, lots.map((l) => l.code));
       const at = this.ctx.now();
-      const saved = await m.save(
-        m.create(RunEntity, {
-          code,
+      const sample = await m.save(
+        m.create(SampleEntity, {
           planId: plan.id,
-          rigId: rig.id,
-          state: 'booked',
-          sampleSize: input.sampleSize,
-          scheduledStart: new Date(startMs),
-          scheduledEnd: new Date(endMs),
-          stateChangedAt: at,
-          nextReadPoint: firstReadPointIndex(plan.readPointsH),
-          overrideReason: overridden ? input.override!.reason : null,
-          overrideById: overridden ? actor.id : null,
+          plannedSize: plan.sampleSize,
+          bookedSize: total,
+          deviationReason: shortfall ? input.deviation!.reason : null,
+          deviationById: shortfall ? actor.id : null,
+          deviationAt: shortfall ? at : null,
           createdById: actor.id,
         }),
       );
-      await m.insert(RunLotEntity, lots.map((l) => ({ runId: saved.id, lotId: l.id })));
+      const runs: RunEntity[] = [];
+      for (const part of input.parts) {
+        runs.push(await this.bookOne(m, actor, { plan, type, lots, sample, part, overridden, overrideReason: input.override?.reason ?? null, findings: blockingFindings }));
+      }
       await this.ctx.audit.record(
         {
           actor,
-          action: 'run.book',
-          entity: 'run',
-          entityId: saved.id,
-          details: {
-            code,
-            planId: plan.id,
-            planName: plan.name,
-            planVersion: plan.version,
-            partNumber: type.partNumber,
-            lots: lots.map((l) => l.code),
-            sampleSize: input.sampleSize,
-            rig: rig.code,
-            scheduledStart: new Date(startMs).toISOString(),
-            scheduledEnd: new Date(endMs).toISOString(),
-            ...(requestedStartMs !== null && startMs !== requestedStartMs
-              ? { requestedStart: new Date(requestedStartMs).toISOString(), slidH: Math.round(((startMs - requestedStartMs) / this.timing.msPerClockH) * 100) / 100 }
-              : {}),
-          },
+          action: 'sample.book',
+          entity: 'sample',
+          entityId: sample.id,
+          details: { planId: plan.id, plannedSize: plan.sampleSize, bookedSize: total, runs: runs.map((r) => r.code) },
         },
         m,
       );
-      if (overridden) {
+      if (shortfall) {
         await this.ctx.audit.record(
           {
             actor,
-            action: 'run.override',
-            entity: 'run',
-            entityId: saved.id,
-            reason: input.override!.reason,
-            details: { planId: plan.id, planVersion: plan.version, findings: blockingFindings.map((f) => ({ code: f.code, title: f.title })) },
+            action: 'sample.deviation',
+            entity: 'sample',
+            entityId: sample.id,
+            reason: input.deviation!.reason,
+            details: { plannedSize: plan.sampleSize, bookedSize: total, runs: runs.map((r) => r.code) },
           },
           m,
         );
       }
-      return saved;
+      return { sample, runs };
     });
-    return toRunDetail(this.ds.manager, run);
+  }
+
+  private async bookOne(
+    m: EntityManager,
+    actor: SessionUser,
+    b: {
+      plan: StressPlanEntity;
+      type: DeviceTypeEntity;
+      lots: LotEntity[];
+      sample: SampleEntity;
+      part: BookSampleInput['parts'][number];
+      overridden: boolean;
+      overrideReason: string | null;
+      findings: Array<{ code: string; title: string }>;
+    },
+  ): Promise<RunEntity> {
+    const { plan, type, lots, part: input, overridden } = b;
+    const rig = await m.findOne(RigEntity, { where: { id: input.rigId } });
+    if (!rig) throw unprocessable('The chosen rig was not found. Choose one of the proposals.');
+    const now = this.ctx.now().getTime();
+    const needs = needsOf(plan, input.sampleSize);
+    const refusals = staticRefusals(rig, needs);
+    if (refusals.length) throw unprocessable(refusals.join(' '), { reasons: refusals });
+    const inputs = await loadSchedulingInputs(m, now, this.timing);
+    let startMs: number;
+    let requestedStartMs: number | null = null;
+    if (input.start) {
+      requestedStartMs = Math.max(now, Date.parse(input.start));
+      startMs = requestedStartMs;
+      const clash = windowConflicts(rig, needs, startMs, startMs + runDurationMs(needs, this.timing), inputs.commitments, inputs.maintenance);
+      if (clash.length) {
+        // A proposal's start is often the projected end of the run ahead of it, and that
+        // projection slides with the clock (an overdue booking, a run still stressing): seconds
+        // after proposing, the same slot starts a little later. Follow it, within a tolerance;
+        // anything more is a different slot and needs new proposals.
+        const slot = earliestSlot(rig, needs, requestedStartMs, inputs.commitments, inputs.maintenance, this.timing);
+        const slideH = slot ? (slot.startMs - requestedStartMs) / this.timing.msPerClockH : Number.POSITIVE_INFINITY;
+        if (!slot || slideH > bookingSlideToleranceH(needs, this.timing)) {
+          throw conflict(`The rig is no longer free at ${when(startMs)}: ${clash.join(' ')} Ask for new proposals.`, { reasons: clash });
+        }
+        startMs = slot.startMs;
+      }
+    } else {
+      const slot = earliestSlot(rig, needs, now, inputs.commitments, inputs.maintenance, this.timing);
+      if (!slot) throw unprocessable(`Oven ${rig.code} cannot take this run.`);
+      startMs = slot.startMs;
+    }
+    const endMs = startMs + runDurationMs(needs, this.timing);
+    const code = await this.newCode(m, plan.kind, lots.map((l) => l.code));
+    const at = this.ctx.now();
+    const saved = await m.save(
+      m.create(RunEntity, {
+        code,
+        planId: plan.id,
+        rigId: rig.id,
+        sampleId: b.sample.id,
+        state: 'booked',
+        sampleSize: input.sampleSize,
+        scheduledStart: new Date(startMs),
+        scheduledEnd: new Date(endMs),
+        stateChangedAt: at,
+        nextReadPoint: firstReadPointIndex(plan.readPointsH),
+        overrideReason: overridden ? b.overrideReason : null,
+        overrideById: overridden ? actor.id : null,
+        createdById: actor.id,
+      }),
+    );
+    await m.insert(RunLotEntity, lots.map((l) => ({ runId: saved.id, lotId: l.id })));
+    await this.ctx.audit.record(
+      {
+        actor,
+        action: 'run.book',
+        entity: 'run',
+        entityId: saved.id,
+        details: {
+          code,
+          planId: plan.id,
+          planName: plan.name,
+          planVersion: plan.version,
+          partNumber: type.partNumber,
+          lots: lots.map((l) => l.code),
+          sampleSize: input.sampleSize,
+          sampleId: b.sample.id,
+          rig: rig.code,
+          scheduledStart: new Date(startMs).toISOString(),
+          scheduledEnd: new Date(endMs).toISOString(),
+          ...(requestedStartMs !== null && startMs !== requestedStartMs
+            ? { requestedStart: new Date(requestedStartMs).toISOString(), slidH: Math.round(((startMs - requestedStartMs) / this.timing.msPerClockH) * 100) / 100 }
+            : {}),
+        },
+      },
+      m,
+    );
+    if (overridden) {
+      await this.ctx.audit.record(
+        {
+          actor,
+          action: 'run.override',
+          entity: 'run',
+          entityId: saved.id,
+          reason: b.overrideReason,
+          details: { planId: plan.id, planVersion: plan.version, findings: b.findings.map((f) => ({ code: f.code, title: f.title })) },
+        },
+        m,
+      );
+    }
+    return saved;
   }
 
   private async newCode(m: EntityManager, kind: string, lotCodes: string[]): Promise<string> {

@@ -1,12 +1,14 @@
 import type { Journey } from '../harness';
 import { adminRigs } from './admin-rigs';
 import { engineerPlanBook } from './engineer';
+import { engineerSplitSample, operatorReadPointEvidence } from './evidence';
 import { adminPeople, signInErrors, signInEveryRole } from './foundation';
 import { managerTrends } from './manager';
+import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
  * admin-rigs stays last: the rig it registers is offline and would show in the others' screens.
  */
-export const JOURNEYS: Journey[] = [signInEveryRole, signInErrors, adminPeople, engineerPlanBook, operatorFloor, managerTrends, adminRigs];
+export const JOURNEYS: Journey[] = [signInEveryRole, signInErrors, adminPeople, engineerPlanBook, engineerSplitSample, operatorFloor, operatorReadPointEvidence, managerTrends, managerLotVerdicts, adminRigs];
