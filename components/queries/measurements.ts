@@ -29,22 +29,22 @@ export function useMeasurementRuns() {
   });
 }
 
-export function useMeasurementRun(id: string | undefined) {
-  return useQuery({
-    queryKey: measurementKeys.run(id ?? ''),
-    queryFn: ({ signal }) => api<MeasurementRunDetail>(`/api/measurements/runs/${encodeURIComponent(id!)}`, { signal }),
-    enabled: !!id,
-    staleTime: STALE_MS,
-  });
-}
-
-/** The stored readings of one read point (the coverage panel lists them for confirmation). */
+/** The readings stored for one read point (the coverage panel lists the flagged ones). */
 export function useReadPointReadings(id: string | undefined, hours: number | undefined) {
   return useQuery({
     queryKey: measurementKeys.readings(id ?? '', hours ?? -1),
     queryFn: ({ signal }) =>
       api<{ items: StoredReading[] }>(`/api/measurements/runs/${encodeURIComponent(id!)}/read-points/${hours}`, { signal }).then((r) => r.items),
     enabled: !!id && hours !== undefined,
+    staleTime: STALE_MS,
+  });
+}
+
+export function useMeasurementRun(id: string | undefined) {
+  return useQuery({
+    queryKey: measurementKeys.run(id ?? ''),
+    queryFn: ({ signal }) => api<MeasurementRunDetail>(`/api/measurements/runs/${encodeURIComponent(id!)}`, { signal }),
+    enabled: !!id,
     staleTime: STALE_MS,
   });
 }
