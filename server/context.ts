@@ -1,40 +1,24 @@
-import { EventEmitter } from 'node:events';
 import type { DataSource } from 'typeorm';
+import type { Services } from './composition';
 import type { ServerConfig } from './config';
-import { AuditService } from './modules/audit/audit.service';
+import type { EventBus } from './events';
+import type { AuditService } from './modules/audit/audit.service';
 
 /**
- * What every service needs, created once in main.ts (or per test). Feature services hang off
- * `services` so routes can reach them without globals.
+ * What every service needs, built once by `createContext` in server/composition.ts (the
+ * composition root; tests use the same one with overrides). `services` is typed: one field per
+ * service, no lookup by string.
  */
 export interface AppContext {
   ds: DataSource;
   config: ServerConfig;
   audit: AuditService;
-  /** In-process events: 'floor' (telemetry landed), 'alarm', 'run' … for live streams. */
-  events: EventEmitter;
+  /** In-process events, typed by the event map in server/events.ts. */
+  events: EventBus;
   /** Wall clock; tests replace it. */
   now: () => Date;
-  services: Record<string, unknown>;
+  services: Services;
   /** Register something to release when the app shuts down (timers, stores). */
   onClose: (fn: () => Promise<void> | void) => void;
   close: () => Promise<void>;
-}
-
-export function createContext(ds: DataSource, config: ServerConfig): AppContext {
-  const events = new EventEmitter();
-  events.setMaxListeners(1000);
-  const closers: Array<() => Promise<void> | void> = [];
-  return {
-    ds,
-    config,
-    audit: new AuditService(ds),
-    events,
-    now: () => new Date(),
-    services: {},
-    onClose: (fn) => void closers.push(fn),
-    close: async () => {
-      for (const fn of closers.splice(0).reverse()) await fn();
-    },
-  };
 }

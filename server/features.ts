@@ -5,11 +5,11 @@ import { startScheduler } from './modules/scheduler/scheduler';
 
 /**
  * Background parts of the API process (MQTT ingest, scheduler, protection, mail). Each start
- * function returns its stop function; they are stopped in reverse order.
+ * function fills its typed slot in ctx.services (rigLink, telemetryIngest, protection, scheduler)
+ * and returns its stop function, which clears it; they are stopped in reverse order.
  */
 export async function startFeatures(ctx: AppContext): Promise<() => Promise<void>> {
   const stops: Array<() => Promise<void> | void> = [];
-  void ctx;
   stops.push(await startTelemetry(ctx, { rollupFlushMs: ctx.config.rollupFlushMs, maxBatch: ctx.config.ingestMaxBatch, maxInFlight: ctx.config.ingestInFlight })); // first: the others use ctx.services.rigLink
   stops.push(await startProtection(ctx)); // live protection, alarms, notifications, e-mail
   stops.push(startScheduler(ctx)); // runs: heating, accrual, read points, cooling (node-cron, every second)

@@ -11,6 +11,7 @@ import type { Pool } from 'pg';
 import type { DataSource } from 'typeorm';
 import { configFromEnv } from '../../server/config';
 import { createDataSource } from '../../server/db/data-source';
+import { pgPool } from '../../server/db/pool';
 import { SEED_STEPS } from '../../server/seed/seed';
 import { destroyCluster, ensureDatabase, PROJECT_ROOT, startCluster, stopCluster, type ClusterInfo, type ClusterOptions } from '../../scripts/pg-cluster';
 import { PROCESSES } from '../../scripts/processes';
@@ -101,7 +102,7 @@ export async function prepareDatabase(log: (l: string) => void): Promise<BenchEn
   const ds = createDataSource(configFromEnv(env).db, { poolSize: 8 });
   await ds.initialize(); // migrations
   for (const step of SEED_STEPS.filter((s) => BASE_SEED.includes(s.name))) await step.run(ds);
-  const pool = (ds.driver as unknown as { master: Pool }).master;
+  const pool = pgPool(ds);
   const walSegments = await preallocateWal(pool);
   log(`PostgreSQL "bench" on 127.0.0.1:${SETTINGS.ports.pg} (fresh cluster, durable settings, ${walSegments} WAL segment files ready), schema and base seed in ${((Date.now() - t0) / 1000).toFixed(1)} s`);
   return {

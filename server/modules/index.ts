@@ -8,12 +8,35 @@ import { lotsRoutes } from './lots/lots.routes';
 import { plansRoutes } from './plans/plans.routes';
 import { measurementsRoutes } from './measurements/measurements.routes';
 import { analyticsRoutes } from './analytics/analytics.routes';
-import { telemetryRouters } from './telemetry/routers';
-import { alarmRouters } from './alarms';
+import { alarmsRoutes } from './alarms/alarms.routes';
+import { notificationsRoutes } from './notifications/notifications.routes';
+import { mailRoutes } from './mail/mail.routes';
+import { rigsRoutes } from './rigs/rigs.routes';
+import { floorRoutes } from './floor/floor.routes';
+import { telemetryRoutes } from './telemetry/telemetry.routes';
 import { runsRoutes } from './runs/runs.routes';
 import { evidenceRoutes } from './evidence/evidence.routes';
 
-/** Every API router, in mount order. Add a feature's router here (one line). */
+/** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
+export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
+  healthRoutes,
+  authRoutes,
+  usersRoutes,
+  deviceTypesRoutes,
+  lotsRoutes,
+  plansRoutes,
+  measurementsRoutes,
+  analyticsRoutes,
+  alarmsRoutes,
+  notificationsRoutes,
+  mailRoutes,
+  rigsRoutes,
+  floorRoutes,
+  telemetryRoutes,
+  runsRoutes,
+  evidenceRoutes,
+];
+
 export function apiRouters(ctx: AppContext): ApiRouter[] {
-  return [healthRoutes(ctx), authRoutes(ctx), usersRoutes(ctx), deviceTypesRoutes(ctx), lotsRoutes(ctx), plansRoutes(ctx), measurementsRoutes(ctx), analyticsRoutes(ctx), ...alarmRouters(ctx), ...telemetryRouters(ctx), runsRoutes(ctx), evidenceRoutes(ctx)];
+  return MODULE_ROUTERS.map((routes) => routes(ctx));
 }

@@ -15,7 +15,7 @@ import { configFromEnv } from '../config';
 import { sampleShortfall } from '../../shared/evidence';
 import { AuditLogEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunEntity, RunLotEntity, RunSocketEntity, SampleEntity, StressPlanEntity, UserEntity } from '../db/entities';
 import { timingFrom } from '../modules/runs/scheduling-data';
-import { firstReadPointIndex } from '../modules/scheduler/run-engine';
+import { firstReadPointIndex } from '../modules/runs/run-engine';
 
 interface DemoLiveRun {
   code: string;

@@ -4,10 +4,8 @@
  * counts; the signed-in person's notifications.
  */
 import { AlarmEntity, AuditLogEntity, NotificationEntity, UserEntity } from '../../server/db/entities';
-import { dedupeKeyFor, getAlarmsService, type AlarmsService, type RaiseAlarmInput } from '../../server/modules/alarms/alarms.service';
+import { dedupeKeyFor, type AlarmsService, type RaiseAlarmInput } from '../../server/modules/alarms/alarms.service';
 import { RunScopedAlarmKeys1796400000000 } from '../../server/db/migrations/1796400000000-RunScopedAlarmKeys';
-import { getNotificationsService } from '../../server/modules/notifications/notifications.service';
-import { MAIL_SERVICE, MailService, getMailService } from '../../server/modules/mail/mail.service';
 import { randomUUID } from 'node:crypto';
 import { handleRunEvent } from '../../server/modules/alarms/run-event-alarms';
 import { tableCounts } from '../support/db';
@@ -34,14 +32,13 @@ const input = (fx: RunFixture, over: Partial<RaiseAlarmInput> = {}): RaiseAlarmI
 
 beforeAll(async () => {
   // Port 9 (discard): nothing listens, so queued e-mails fail fast and are only logged.
-  t = await createTestApp({ smtp: { host: '127.0.0.1', port: 9, from: 'Emberlot <emberlot@harrowgate-lab.example>' } });
-  t.ctx.services[MAIL_SERVICE] = new MailService(t.ctx, { attempts: 1, timeoutMs: 1000 });
-  svc = getAlarmsService(t.ctx);
+  t = await createTestApp({ smtp: { host: '127.0.0.1', port: 9, from: 'Emberlot <emberlot@harrowgate-lab.example>' } }, { mail: { attempts: 1, timeoutMs: 1000 } });
+  svc = t.ctx.services.alarms;
   a1 = await createRunFixture(t.ctx.ds, { rigCode: 'AL-01', sockets: 4 });
   a2 = await createRunFixture(t.ctx.ds, { rigCode: 'AL-02', sockets: 4 });
 });
 afterAll(async () => {
-  await getMailService(t.ctx).close();
+  await t.ctx.services.mail.close();
   await t.close();
 });
 
@@ -191,7 +188,7 @@ describe('POST /api/alarms/:id/acknowledge', () => {
 describe('/api/notifications', () => {
   it('lists only my notifications with the unread count; mark one and all read; someone else’s is 404', async () => {
     const { alarm } = await svc.raise(input(a2, { kind: 'leakage-jump', socketIndex: 1, title: 'Socket 1 on AL-02: leakage jumped ×30' }));
-    const recipients = await getNotificationsService(t.ctx).announceAlarm(alarm);
+    const recipients = await t.ctx.services.notifications.announceAlarm(alarm);
     expect(recipients.sort()).toEqual(['admin', 'engineer', 'manager', 'operator'].map((r) => emailFor(r as 'admin')).sort());
     const op = await t.signIn('operator');
     const list = await op.get('/api/notifications');
@@ -218,7 +215,7 @@ describe('/api/notifications', () => {
   it('people with alarm notices off get none', async () => {
     await t.ctx.ds.getRepository(UserEntity).update({ email: emailFor('manager') }, { notifyAlarms: false });
     const { alarm } = await svc.raise(input(a2, { kind: 'leakage-jump', socketIndex: 2, title: 'Socket 2 on AL-02: leakage jumped ×12' }));
-    const recipients = await getNotificationsService(t.ctx).announceAlarm(alarm);
+    const recipients = await t.ctx.services.notifications.announceAlarm(alarm);
     expect(recipients).not.toContain(emailFor('manager'));
     expect(recipients).toHaveLength(3);
   });

@@ -26,7 +26,9 @@ beforeAll(async () => {
   await new Promise<void>((r) => server.listen(0, '127.0.0.1', r));
   port = (server.address() as AddressInfo).port;
   // A tile-worthy event every 100 ms for the whole file: an open stream gets a tile every second.
-  pump = setInterval(() => t.ctx.events.emit(TELEMETRY_LANDED, { rigId, rigCode: 'SS-01' }), 100);
+  // A partial payload: the stream only reads rigId (an untyped view of the bus, as tests/api/floor.test.ts).
+  const partialEvents = (): NodeJS.EventEmitter => t.ctx.events;
+  pump = setInterval(() => partialEvents().emit(TELEMETRY_LANDED, { rigId, rigCode: 'SS-01' }), 100);
 });
 
 afterAll(async () => {

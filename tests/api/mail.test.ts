@@ -10,7 +10,7 @@ import * as path from 'node:path';
 import nodemailer from 'nodemailer';
 import { MailLogEntity } from '../../server/db/entities';
 import { decodeEncodedWords, readPlainText, startMailSink, type MailSink } from '../../server/mail-sink/mail-sink';
-import { MAIL_SERVICE, MailService } from '../../server/modules/mail/mail.service';
+import { MailService } from '../../server/modules/mail/mail.service';
 import { createTestApp, type TestApp } from '../support/api';
 
 let t: TestApp;
@@ -19,9 +19,8 @@ let mail: MailService;
 
 beforeAll(async () => {
   sink = await startMailSink({ port: 0 });
-  t = await createTestApp({ smtp: { host: '127.0.0.1', port: sink.port, from: 'Emberlot <emberlot@harrowgate-lab.example>' } });
-  mail = new MailService(t.ctx, { attempts: 3, backoffMs: 10, timeoutMs: 2000 });
-  t.ctx.services[MAIL_SERVICE] = mail;
+  t = await createTestApp({ smtp: { host: '127.0.0.1', port: sink.port, from: 'Emberlot <emberlot@harrowgate-lab.example>' } }, { mail: { attempts: 3, backoffMs: 10, timeoutMs: 2000 } });
+  mail = t.ctx.services.mail;
 });
 afterAll(async () => {
   await mail?.close();

@@ -2,7 +2,7 @@ import bcrypt from 'bcryptjs';
 import request from 'supertest';
 import { createPgAuthenticate } from '../../broker/pg-authenticate';
 import { AuditLogEntity, RigEntity } from '../../server/db/entities';
-import { RIG_LINK, type RigLink } from '../../server/modules/telemetry/contracts';
+import { type RigLink } from '../../server/modules/telemetry/contracts';
 import { pgPoolOf } from '../../server/modules/telemetry/telemetry.feature';
 import { createTestApp, type TestApp } from '../support/api';
 import { tableCounts } from '../support/db';
@@ -22,7 +22,7 @@ beforeAll(async () => {
       return true;
     },
   };
-  t.ctx.services[RIG_LINK] = fake;
+  t.ctx.services.rigLink = fake;
 });
 afterAll(async () => {
   await t.close();

@@ -3,7 +3,7 @@
  * passing the booking constraint checks on its rig; the scheduler picks the live ones up at once.
  */
 import { configFromEnv } from '../../server/config';
-import { createContext } from '../../server/context';
+import { createContext } from '../../server/composition';
 import { IsNull } from 'typeorm';
 import { RunEntity, RunSocketEntity } from '../../server/db/entities';
 import { loadSampleEvidence } from '../../server/modules/evidence/evidence.data';

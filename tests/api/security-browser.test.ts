@@ -11,7 +11,7 @@ import type { AddressInfo } from 'node:net';
 import type { BrowserContext, Page } from 'playwright-core';
 import { AuditLogEntity, DeviceEntity, RigEntity } from '../../server/db/entities';
 import { SESSION_COOKIE } from '../../server/http/route';
-import { RIG_LINK, type RigLink } from '../../server/modules/telemetry/contracts';
+import type { RigLink } from '../../server/modules/telemetry/contracts';
 import { ensureChromium, openBrowser } from '../e2e/harness';
 import { createTestApp, emailFor, TEST_PASSWORD, type TestApp } from '../support/api';
 import { insertTestRig, tableCounts } from '../support/db';
@@ -44,7 +44,7 @@ const listen = (s: http.Server) =>
 beforeAll(async () => {
   ensureChromium();
   t = await createTestApp();
-  t.ctx.services[RIG_LINK] = fakeLink;
+  t.ctx.services.rigLink = fakeLink;
   await insertTestRig(t.ctx.ds, RIG);
   lotId = (await createRunFixture(t, 'XB')).lotId;
   api = http.createServer((req, res) => {

@@ -16,7 +16,7 @@ import { AuditLogEntity, RigEntity, UserEntity } from '../../server/db/entities'
 import { SESSION_COOKIE } from '../../server/http/route';
 import { SIGN_IN_MAX_PER_WINDOW } from '../../server/modules/auth/auth.routes';
 import { LOCKOUT_AFTER, SIGN_IN_REFUSED } from '../../server/modules/auth/auth.service';
-import { RIG_LINK, type RigLink } from '../../server/modules/telemetry/contracts';
+import type { RigLink } from '../../server/modules/telemetry/contracts';
 import { createTestApp, emailFor, TEST_PASSWORD, type TestApp } from '../support/api';
 import { insertTestRig, tableCounts } from '../support/db';
 import { createRunFixture } from '../support/fuzz';
@@ -46,7 +46,7 @@ describe('point 2: cross-site state changes are refused (OWASP CSRF cheat sheet:
   let rigCode: string;
   beforeAll(async () => {
     t = await createTestApp({ publicOrigins: ['https://emberlot.lab.example'] });
-    t.ctx.services[RIG_LINK] = fakeLink;
+    t.ctx.services.rigLink = fakeLink;
     rigCode = 'XS-01';
     await insertTestRig(t.ctx.ds, rigCode);
   });

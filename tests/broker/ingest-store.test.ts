@@ -5,7 +5,8 @@
  */
 import { parseTelemetry, telemetryFromReadings, type Telemetry } from '../../shared/mqtt';
 import { configFromEnv } from '../../server/config';
-import { createContext, type AppContext } from '../../server/context';
+import { createContext } from '../../server/composition';
+import type { AppContext } from '../../server/context';
 import { writeBatch, type IngestItem } from '../../server/modules/telemetry/ingest-store';
 import { pgPoolOf } from '../../server/modules/telemetry/telemetry.feature';
 import { createTestDb, insertTestRig, type TestDb } from '../support/db';

@@ -9,7 +9,8 @@ import { createEmberlotBroker, type EmberlotBroker } from '../../broker/broker';
 import { createPgAuthenticate } from '../../broker/pg-authenticate';
 import { FLAG_BIAS_ON, FLAG_TRIPPED, telemetryFromReadings, topics, type Telemetry, type TelemetryReadings } from '../../shared/mqtt';
 import { configFromEnv } from '../../server/config';
-import { createContext, type AppContext } from '../../server/context';
+import { createContext } from '../../server/composition';
+import type { AppContext } from '../../server/context';
 import type { Pool } from 'pg';
 import { writeBatch, type IngestItem } from '../../server/modules/telemetry/ingest-store';
 import { pgPoolOf, startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
@@ -143,7 +144,7 @@ test('end to end: MQTT → validate → batch → COPY → stored (samples/s)', 
       await sleep(50);
     }
     const s = (Date.now() - t0) / 1000;
-    const st = (ctx.services.telemetryIngest as { stats(): { batches: number; lastBatchMs: number | null } }).stats();
+    const st = ctx.services.telemetryIngest!.stats();
     console.log(`[bench] end to end: ${N} messages × ${SOCKETS} sockets in ${s.toFixed(2)} s = ${Math.round((N * SOCKETS) / s)} samples/s (${Math.round(N / s)} messages/s; ${st.batches} transactions, last ${st.lastBatchMs} ms; broker, publisher and server share one process)`);
     expect(n).toBe(N);
   } finally {

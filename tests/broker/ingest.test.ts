@@ -12,10 +12,10 @@ import { createPgAuthenticate } from '../../broker/pg-authenticate';
 import { startRig, type RigHandle } from '../../rig-simulator';
 import { parseCommand, topics, type SeqRange } from '../../shared/mqtt';
 import { configFromEnv } from '../../server/config';
-import { createContext, type AppContext } from '../../server/context';
-import { RIG_LINK, RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigLink, type RigStatusChanged, type TelemetryLanded } from '../../server/modules/telemetry/contracts';
+import { createContext } from '../../server/composition';
+import type { AppContext } from '../../server/context';
+import { RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigStatusChanged, type TelemetryLanded } from '../../server/modules/telemetry/contracts';
 import { pgPoolOf, startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
-import type { TelemetryIngest } from '../../server/modules/telemetry/ingest';
 import { recoverRollups, ROLLUP_WATERMARK } from '../../server/modules/telemetry/rollups';
 import { createTestDb, insertTestRig, testDbConfig, type TestDb } from '../support/db';
 import { connectClient, sleep, waitFor } from './mqtt-test-helpers';
@@ -88,7 +88,7 @@ beforeAll(async () => {
     retryMaxMs: 400,
     sweepEveryMs: 60_000,
   });
-  await waitFor(() => (ctx.services[RIG_LINK] as RigLink).connected(), 5000, 'server link');
+  await waitFor(() => ctx.services.rigLink!.connected(), 5000, 'server link');
 });
 
 afterAll(async () => {
@@ -136,7 +136,7 @@ test('a simulated rig: every published sample stored exactly once, outbox draine
   expect(statusEvents.some((e) => e.rigCode === 'OV-01' && e.online)).toBe(true);
   // Rollups: chamber (socket −1) plus 8 sockets; n adds up to the messages stored. They are
   // written every few seconds (rollups.ts); drain() writes what is held now.
-  expect(await (ctx.services.telemetryIngest as TelemetryIngest).drain()).toBe(true);
+  expect(await ctx.services.telemetryIngest!.drain()).toBe(true);
   expect(await count('SELECT sum(n) AS n FROM telemetry_rollups WHERE rig_id = $1 AND socket = -1', [rigIds['OV-01']])).toBe(120);
   expect(await count('SELECT sum(n) AS n FROM telemetry_rollups WHERE rig_id = $1', [rigIds['OV-01']])).toBe(120 * 9);
   await rig.stop();
@@ -145,7 +145,7 @@ test('a simulated rig: every published sample stored exactly once, outbox draine
 
 test('rollups lost in a crash are rebuilt exactly from the stored samples, only since the watermark', async () => {
   const rig = rigIds['OV-01'];
-  const ingest = ctx.services.telemetryIngest as TelemetryIngest;
+  const ingest = ctx.services.telemetryIngest!;
   expect(await ingest.drain()).toBe(true);
   const snapshot = () =>
     db.ds.query(
@@ -266,7 +266,7 @@ test('database unavailable mid-run: messages wait, nothing is lost or doubled, i
     await admin.query(`ALTER DATABASE "${name}" ALLOW_CONNECTIONS false`);
     await admin.query('SELECT pg_terminate_backend(pid) FROM pg_stat_activity WHERE datname = $1 AND pid <> pg_backend_pid()', [name]);
     await sleep(1200);
-    const held = (ctx.services.telemetryIngest as { stats(): { buffered: number; databaseOk: boolean } }).stats();
+    const held = ctx.services.telemetryIngest!.stats();
     expect(held.databaseOk).toBe(false);
     expect(held.buffered).toBeGreaterThan(0);
     await admin.query(`ALTER DATABASE "${name}" ALLOW_CONNECTIONS true`);
@@ -285,7 +285,7 @@ test('database unavailable mid-run: messages wait, nothing is lost or doubled, i
 });
 
 test('RigLink: a command is acknowledged; one sent while the rig is away waits and goes out with the same cmdId', async () => {
-  const link = ctx.services[RIG_LINK] as RigLink;
+  const link = ctx.services.rigLink!;
   const rig = simRig('OV-03', 100000, { samplePeriodWallS: 0.2 });
   await waitFor(() => rig.connected, 5000, 'rig connected');
   const ack = await link.send('OV-03', { type: 'setpoint', setpointC: 130 }, { cmdId: 'test:setpoint:1' });
@@ -345,7 +345,7 @@ test('server started before the broker: retries quietly, logs once, connects whe
   let late: EmberlotBroker | null = null;
   try {
     await sleep(1500);
-    const link = ctx2.services[RIG_LINK] as RigLink;
+    const link = ctx2.services.rigLink!;
     expect(link.connected()).toBe(false);
     expect(lines.filter((l) => l.includes('broker not reachable')).length).toBe(1);
     late = await startBroker(laterPort);

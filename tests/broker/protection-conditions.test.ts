@@ -5,7 +5,7 @@
  * mail lands in the local fake SMTP server.
  */
 import type { TelemetryLanded } from '../../server/modules/telemetry/contracts';
-import { RIG_LINK, RIG_STATUS_CHANGED, TELEMETRY_LANDED } from '../../server/modules/telemetry/contracts';
+import { RIG_STATUS_CHANGED, TELEMETRY_LANDED } from '../../server/modules/telemetry/contracts';
 import { socketColumns, type SocketReading } from '../../shared/mqtt';
 import { AlarmEntity, NotificationEntity, UserEntity } from '../../server/db/entities';
 import { startMailSink, type MailSink } from '../../server/mail-sink/mail-sink';
@@ -23,7 +23,7 @@ let seq = 0;
 beforeAll(async () => {
   sink = await startMailSink({ port: 0 });
   t = await createTestApp({ smtp: { host: '127.0.0.1', port: sink.port, from: 'Emberlot <emberlot@harrowgate-lab.example>' } });
-  t.ctx.services[RIG_LINK] = link;
+  t.ctx.services.rigLink = link;
   feature = await startProtectionFeature(t.ctx, { mail: { attempts: 2, backoffMs: 10 } });
 });
 

@@ -9,11 +9,11 @@ import bcrypt from 'bcryptjs';
 import { createEmberlotBroker, type Authenticate, type EmberlotBroker } from '../../broker/broker';
 import { startRig, type RigHandle } from '../../rig-simulator';
 import { configFromEnv } from '../../server/config';
-import { createContext, type AppContext } from '../../server/context';
+import { createContext } from '../../server/composition';
+import type { AppContext } from '../../server/context';
 import { AlarmEntity, RunSocketEntity, UserEntity } from '../../server/db/entities';
 import { startMailSink, type MailSink } from '../../server/mail-sink/mail-sink';
 import { startProtectionFeature, type ProtectionFeature } from '../../server/modules/protection/start';
-import { RIG_LINK, type RigLink } from '../../server/modules/telemetry/contracts';
 import { startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
 import { createTestDb, type TestDb } from '../support/db';
 import { waitFor } from './mqtt-test-helpers';
@@ -55,7 +55,7 @@ beforeAll(async () => {
   eb = await createEmberlotBroker({ port: 0, authenticate });
   stopTelemetry = await startTelemetry(ctx, { mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, ...SERVER }, clientId: 'emberlot-server-protection-e2e', sweepEveryMs: 60_000 });
   feature = await startProtectionFeature(ctx, { mail: { attempts: 2, backoffMs: 10 } });
-  await waitFor(() => (ctx.services[RIG_LINK] as RigLink).connected(), 5000, 'server link');
+  await waitFor(() => ctx.services.rigLink!.connected(), 5000, 'server link');
 });
 
 afterAll(async () => {

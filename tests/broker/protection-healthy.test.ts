@@ -5,7 +5,6 @@
  */
 import { AlarmEntity } from '../../server/db/entities';
 import { startProtectionFeature, type ProtectionFeature } from '../../server/modules/protection/start';
-import { RIG_LINK } from '../../server/modules/telemetry/contracts';
 import { createTestApp, type TestApp } from '../support/api';
 import { FakeRigLink, HEALTHY, SocketSim, createRunFixture, driveTelemetry, type RigSims } from './protection-fixtures';
 
@@ -19,7 +18,7 @@ const link = new FakeRigLink((c) => {
 beforeAll(async () => {
   // No SMTP here: nothing should be sent; a stray send would only log a failed row.
   t = await createTestApp({ smtp: { host: '127.0.0.1', port: 9, from: 'Emberlot <emberlot@harrowgate-lab.example>' } });
-  t.ctx.services[RIG_LINK] = link;
+  t.ctx.services.rigLink = link;
   feature = await startProtectionFeature(t.ctx, { mail: { attempts: 1, backoffMs: 1, timeoutMs: 500 } });
 });
 

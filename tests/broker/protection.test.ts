@@ -10,7 +10,6 @@
  */
 import { IsNull } from 'typeorm';
 import { thermalOperatingPoint } from '../../shared/physics';
-import { RIG_LINK } from '../../server/modules/telemetry/contracts';
 import { AlarmEntity, AuditLogEntity, MailLogEntity, NotificationEntity, RunSocketEntity, UserEntity } from '../../server/db/entities';
 import { startMailSink, type MailSink } from '../../server/mail-sink/mail-sink';
 import { startProtectionFeature, type ProtectionFeature } from '../../server/modules/protection/start';
@@ -33,7 +32,7 @@ beforeAll(async () => {
   t = await createTestApp({ smtp: { host: '127.0.0.1', port: sink.port, from: 'Emberlot <emberlot@harrowgate-lab.example>' } });
   // The manager has alarm e-mails switched off: nothing may reach them.
   await t.ctx.ds.getRepository(UserEntity).update({ email: emailFor('manager') }, { notifyAlarms: false });
-  t.ctx.services[RIG_LINK] = link;
+  t.ctx.services.rigLink = link;
   feature = await startProtectionFeature(t.ctx, { mail: { attempts: 2, backoffMs: 10 } });
 });
 

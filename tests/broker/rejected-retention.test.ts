@@ -1,7 +1,8 @@
 /** Issue #18 point 10 (MQTT side): rejected_messages is bounded by age and by count, pruned by a job. Real PostgreSQL. */
 import { Pool } from 'pg';
 import { configFromEnv } from '../../server/config';
-import { createContext, type AppContext } from '../../server/context';
+import { createContext } from '../../server/composition';
+import type { AppContext } from '../../server/context';
 import { pruneRejectedMessages, REJECTED_KEEP_DAYS, REJECTED_KEEP_ROWS } from '../../server/modules/telemetry/rejections-retention';
 import { startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
 import { createTestDb, type TestDb } from '../support/db';

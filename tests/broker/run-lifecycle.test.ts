@@ -13,11 +13,12 @@ import { startRig, type RigHandle } from '../../rig-simulator';
 import { HOURS_EPS, accrualConditionsFor, accrueSeries, type ClockSample } from '../../shared/scheduling';
 import type { CommandAck } from '../../shared/mqtt';
 import { configFromEnv } from '../../server/config';
-import { createContext, type AppContext } from '../../server/context';
+import { createContext } from '../../server/composition';
+import type { AppContext } from '../../server/context';
 import { AuditLogEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunEntity, RunLotEntity, RunSocketEntity, StressPlanEntity } from '../../server/db/entities';
 import { RunsService } from '../../server/modules/runs/runs.service';
 import { RunScheduler } from '../../server/modules/scheduler/scheduler';
-import { RIG_LINK, type RigCommandBody, type RigLink } from '../../server/modules/telemetry/contracts';
+import { type RigCommandBody, type RigLink } from '../../server/modules/telemetry/contracts';
 import { pgPoolOf, startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
 import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
 import { createTestDb, type TestDb } from '../support/db';
@@ -41,10 +42,10 @@ const sent: Array<{ cmdId: string; cmd: RigCommandBody }> = [];
 
 /** The real MQTT link, with every command the scheduler sends written down. */
 const spyLink: RigLink = {
-  connected: () => (ctx.services[RIG_LINK] as RigLink).connected(),
+  connected: () => ctx.services.rigLink!.connected(),
   send: (rigCode, cmd, opts): Promise<CommandAck> => {
     sent.push({ cmdId: opts!.cmdId!, cmd });
-    return (ctx.services[RIG_LINK] as RigLink).send(rigCode, cmd, opts);
+    return ctx.services.rigLink!.send(rigCode, cmd, opts);
   },
 };
 const newScheduler = () => new RunScheduler(ctx, { rigLink: () => spyLink, log: () => undefined, ambientCheckEveryMs: 0 });
@@ -90,7 +91,7 @@ beforeAll(async () => {
   ctx = createContext(db.ds, { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config });
   eb = await createEmberlotBroker({ port: 0, authenticate: createPgAuthenticate({ pool: pgPoolOf(ctx), server: SERVER, verifiedCacheSize: 10 }) });
   stopTelemetry = await startTelemetry(ctx, { mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, ...SERVER }, clientId: 'emberlot-server-lifecycle-test', sweepEveryMs: 60_000 });
-  await waitFor(() => (ctx.services[RIG_LINK] as RigLink).connected(), 5000, 'server link');
+  await waitFor(() => ctx.services.rigLink!.connected(), 5000, 'server link');
   // 4 stress hours per wall second, a sample every 0.1 s (0.4 h); the oven lags 0.5 stress hour.
   rig = startRig({
     rigCode: 'OV-07', brokerUrl: `mqtt://127.0.0.1:${eb.port}`, username: 'rig-ov-07', password: SECRET, sockets: 4, mode: 'reverse',

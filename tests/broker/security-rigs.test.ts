@@ -10,9 +10,7 @@ import { parseCommandAck, parseStatus, topics, TELEMETRY_TS_MAX_AHEAD_MS, TELEME
 import { isStorableText } from '../../shared/storable-text';
 import { AlarmEntity } from '../../server/db/entities';
 import { startProtectionFeature, type ProtectionFeature } from '../../server/modules/protection/start';
-import { RIG_LINK, type RigLink } from '../../server/modules/telemetry/contracts';
-import { pgPoolOf, startTelemetry, TELEMETRY_INGEST } from '../../server/modules/telemetry/telemetry.feature';
-import type { TelemetryIngest } from '../../server/modules/telemetry/ingest';
+import { pgPoolOf, startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
 import { createTestApp, type TestApp } from '../support/api';
 import { insertTestRig } from '../support/db';
 import { connectClient, sleep, waitClosed, waitFor } from './mqtt-test-helpers';
@@ -81,7 +79,7 @@ beforeAll(async () => {
     clientId: 'emberlot-server-security-test',
     log: () => undefined,
   });
-  await waitFor(() => (t.ctx.services[RIG_LINK] as RigLink).connected(), 5000, 'server link');
+  await waitFor(() => t.ctx.services.rigLink!.connected(), 5000, 'server link');
   feature = await startProtectionFeature(t.ctx, { mail: { attempts: 1, backoffMs: 10 } });
 });
 
@@ -120,7 +118,7 @@ describe('point 4: deactivating a rig cuts it off', () => {
     await server.publishAsync(topics.telemetry('SR-01'), telemetry('SR-01'), { qos: 1 });
     const lateSeq = seq;
     await until(async () => (await rejectionsOf('SR-01')).some((r) => r.reason.includes('deactivated')), 5000, 'rejection');
-    await (t.ctx.services[TELEMETRY_INGEST] as TelemetryIngest).drain();
+    await t.ctx.services.telemetryIngest!.drain();
     expect(await storedSeq('SR-01', lateSeq)).toBe(false);
     expect(await batchesOf('SR-01')).toBe(before);
     const reasons = (await rejectionsOf('SR-01')).map((r) => r.reason);
@@ -145,7 +143,7 @@ describe("point 7: telemetry is checked against the rig's registration", () => {
     await rig.publishAsync(topics.telemetry('SR-02'), telemetry('SR-02'), { qos: 1 });
     const goodSeq = seq;
     await until(() => storedSeq('SR-02', goodSeq), 5000, 'the good message');
-    await (t.ctx.services[TELEMETRY_INGEST] as TelemetryIngest).drain();
+    await t.ctx.services.telemetryIngest!.drain();
     await feature.idle();
 
     for (const s of badSeqs) expect(await storedSeq('SR-02', s)).toBe(false);
@@ -180,7 +178,7 @@ describe("point 7: telemetry is checked against the rig's registration", () => {
       5000,
       'messages inside the window',
     );
-    await (t.ctx.services[TELEMETRY_INGEST] as TelemetryIngest).drain();
+    await t.ctx.services.telemetryIngest!.drain();
     for (const s of seqs.out) expect(await storedSeq('SR-04', s)).toBe(false);
     expect(await rejectionsOf('SR-04')).toHaveLength(2);
   });

@@ -3,7 +3,8 @@ import request from 'supertest';
 import type { Role } from '../../shared/roles';
 import { createApp, type BuiltApp } from '../../server/app';
 import { configFromEnv, type ServerConfig } from '../../server/config';
-import { createContext, type AppContext } from '../../server/context';
+import { createContext, type CompositionOverrides } from '../../server/composition';
+import type { AppContext } from '../../server/context';
 import { UserEntity } from '../../server/db/entities';
 import { createTestDb, type TestDb } from './db';
 
@@ -18,11 +19,14 @@ export interface TestApp extends BuiltApp {
   close: () => Promise<void>;
 }
 
-/** The real Express app on a fresh database with one user per role (password TEST_PASSWORD). */
-export async function createTestApp(overrides: Partial<ServerConfig> = {}): Promise<TestApp> {
+/**
+ * The real Express app on a fresh database with one user per role (password TEST_PASSWORD), built
+ * by the same composition root as the API process; `wiring` overrides the clock or mail options.
+ */
+export async function createTestApp(overrides: Partial<ServerConfig> = {}, wiring: CompositionOverrides = {}): Promise<TestApp> {
   const db = await createTestDb();
   const config = { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config, ...overrides };
-  const ctx = createContext(db.ds, config);
+  const ctx = createContext(db.ds, config, wiring);
   const hash = await bcrypt.hash(TEST_PASSWORD, 4);
   for (const role of ['admin', 'engineer', 'operator', 'manager'] as Role[]) {
     await db.ds.getRepository(UserEntity).insert({ email: emailFor(role), name: `Test ${role}`, role, passwordHash: hash });

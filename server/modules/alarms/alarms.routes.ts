@@ -2,11 +2,10 @@ import { rolesFor } from '../../../shared/domain/permissions';
 import { acknowledgeAlarmSchema, alarmListQuerySchema, idParamSchema } from '../../../shared/schemas/alarms';
 import type { AppContext } from '../../context';
 import { ApiRouter } from '../../http/route';
-import { getAlarmsService } from './alarms.service';
 
 /** Alarms: everyone signed in may look; operators, engineers and admins acknowledge. */
 export function alarmsRoutes(ctx: AppContext): ApiRouter {
-  const svc = () => getAlarmsService(ctx);
+  const svc = () => ctx.services.alarms;
   const r = new ApiRouter('/api/alarms');
   r.get('/', { access: 'signed-in', query: alarmListQuerySchema }, ({ query }) => svc().list(query));
   r.get('/counts', { access: 'signed-in' }, () => svc().counts());

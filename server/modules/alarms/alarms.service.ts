@@ -30,13 +30,10 @@ import type { SessionUser } from '../../../shared/schemas/auth';
 import type { AppContext } from '../../context';
 import { AlarmEntity, RigEntity, RunEntity, UserEntity } from '../../db/entities';
 import { conflict, notFound } from '../../http/errors';
+import { ALARM_EVENT, type AlarmChange, type AlarmEvent } from '../../events';
+import { alarmPage, lockAlarmKey, openAlarmCounts } from './alarms.data';
 
-export const ALARM_EVENT = 'alarm';
-export type AlarmChange = 'raised' | 'updated' | 'cleared' | 'acknowledged';
-export interface AlarmEvent {
-  change: AlarmChange;
-  alarm: Alarm;
-}
+export { ALARM_EVENT, type AlarmChange, type AlarmEvent } from '../../events';
 
 export interface RaiseAlarmInput {
   kind: AlarmKindName;
@@ -89,7 +86,7 @@ export class AlarmsService {
     const key = dedupeKeyFor(input.kind, input.rigId, input.socketIndex, input.runId);
     const now = this.ctx.now();
     const { row, created, reactivated } = await this.ctx.ds.transaction(async (m) => {
-      await m.query('SELECT pg_advisory_xact_lock(hashtext($1))', [`alarm:${key}`]);
+      await lockAlarmKey(m, key);
       const existing = await m.findOne(AlarmEntity, { where: this.liveWhere(key), order: { raisedAt: 'DESC' } });
       const details = { ...(input.details ?? {}), action: input.action, lastSeenAt: now.toISOString() };
       if (existing) {
@@ -132,7 +129,7 @@ export class AlarmsService {
   async clear(kind: AlarmKindName, rigId: string | null, socketIndex: number | null, details?: Record<string, unknown>, runId: string | null = null): Promise<Alarm | null> {
     const key = dedupeKeyFor(kind, rigId, socketIndex, runId);
     const row = await this.ctx.ds.transaction(async (m) => {
-      await m.query('SELECT pg_advisory_xact_lock(hashtext($1))', [`alarm:${key}`]);
+      await lockAlarmKey(m, key);
       const live = await m.findOne(AlarmEntity, { where: { dedupeKey: key, clearedAt: IsNull() }, order: { raisedAt: 'DESC' } });
       if (!live) return null;
       live.clearedAt = this.ctx.now();
@@ -155,21 +152,7 @@ export class AlarmsService {
   }
 
   async list(q: AlarmListQuery): Promise<AlarmList> {
-    const qb = this.ctx.ds.getRepository(AlarmEntity).createQueryBuilder('a');
-    if (q.status === 'open') qb.andWhere('a.acknowledged_at IS NULL');
-    if (q.status === 'acknowledged') qb.andWhere('a.acknowledged_at IS NOT NULL');
-    if (q.rigId) qb.andWhere('a.rig_id = :rigId', { rigId: q.rigId });
-    if (q.runId) qb.andWhere('a.run_id = :runId', { runId: q.runId });
-    if (q.severity) qb.andWhere('a.severity = :severity', { severity: q.severity });
-    if (q.kind) qb.andWhere('a.kind = :kind', { kind: q.kind });
-    qb.addSelect('(CASE WHEN a.acknowledged_at IS NULL THEN 0 ELSE 1 END)', 'ack_rank')
-      .addSelect(`(CASE a.severity WHEN 'critical' THEN 0 WHEN 'warning' THEN 1 ELSE 2 END)`, 'sev_rank')
-      .orderBy('ack_rank', 'ASC')
-      .addOrderBy('sev_rank', 'ASC')
-      .addOrderBy('a.raised_at', 'DESC')
-      .offset(q.offset)
-      .limit(q.limit);
-    const [rows, total] = await Promise.all([qb.getMany(), qb.clone().offset(undefined).limit(undefined).getCount()]);
+    const [rows, total] = await alarmPage(this.ctx.ds.manager, q);
     return { items: await this.toAlarms(rows), total };
   }
 
@@ -213,10 +196,7 @@ export class AlarmsService {
   }
 
   async counts(): Promise<AlarmCounts> {
-    const rows: Array<{ rig_id: string | null; severity: AlarmSeverityName; active: boolean; n: number }> = await this.ctx.ds.query(
-      `SELECT rig_id, severity, (cleared_at IS NULL) AS active, count(*)::int AS n
-         FROM alarms WHERE acknowledged_at IS NULL GROUP BY rig_id, severity, (cleared_at IS NULL)`,
-    );
+    const rows = await openAlarmCounts(this.ctx.ds.manager);
     const bySeverity: Record<AlarmSeverityName, number> = { critical: 0, warning: 0, info: 0 };
     let open = 0;
     let active = 0;
@@ -289,16 +269,4 @@ export class AlarmsService {
       console.error('[alarms] an alarm listener failed:', err instanceof Error ? err.message : err);
     }
   }
-}
-
-export const ALARMS_SERVICE = 'alarms';
-
-/** The one AlarmsService of this process. */
-export function getAlarmsService(ctx: AppContext): AlarmsService {
-  let svc = ctx.services[ALARMS_SERVICE] as AlarmsService | undefined;
-  if (!svc) {
-    svc = new AlarmsService(ctx);
-    ctx.services[ALARMS_SERVICE] = svc;
-  }
-  return svc;
 }

@@ -1,5 +1,5 @@
 /**
- * Run events (server/modules/runs/run-events.ts) → alarms, notifications and e-mails:
+ * Run events (RUN_EVENT, server/events.ts) → alarms, notifications and e-mails:
  * - ambient-not-reached → warning alarm (cleared when the run reaches stressing or ends);
  * - command-failed → critical alarm (cleared on the run's next state change);
  * - read-point-due → in-app notice + e-mail to people with read-point notices on (no alarm);
@@ -9,15 +9,13 @@
 import { MEASURE_WITHIN_H } from '../../../shared/domain/standards';
 import { formatUtc } from '../../../shared/domain/format';
 import type { AppContext } from '../../context';
-import type { RunEvent } from '../runs/run-events';
-import { getNotificationsService } from '../notifications/notifications.service';
-import { getAlarmsService } from './alarms.service';
+import type { RunEvent } from '../../events';
 
 const f1 = (x: number | null | undefined) => (x === null || x === undefined || !Number.isFinite(x) ? 'n/a' : (Math.round(x * 10) / 10).toFixed(1));
 const when = (iso: string) => formatUtc(iso);
 
 export async function handleRunEvent(ctx: AppContext, e: RunEvent): Promise<void> {
-  const alarms = getAlarmsService(ctx);
+  const alarms = ctx.services.alarms;
   const where = e.rigCode ? ` on ${e.rigCode}` : '';
   switch (e.type) {
     case 'ambient-not-reached': {
@@ -58,7 +56,7 @@ export async function handleRunEvent(ctx: AppContext, e: RunEvent): Promise<void
       const body =
         `Bias was removed${where} at ${when(e.biasRemovedAt)} after ${f1(e.stressHours)} stress hours. ` +
         `Measure the devices by ${when(e.measureBy)} and upload the read-point file.`;
-      await getNotificationsService(ctx).announce({
+      await ctx.services.notifications.announce({
         audience: 'read-points',
         kind: 'read-point-due',
         title,

@@ -3,14 +3,13 @@ import { deviceTypeParamsSchema, deviceTypeQuerySchema, lotListQuerySchema, lotP
 import type { AppContext } from '../../context';
 import { LotEntity } from '../../db/entities';
 import { ApiRouter, HANDLED } from '../../http/route';
-import { AnalyticsService } from './analytics.service';
 import { lotReportCsv, lotReportPdf } from './lot-report';
 
 /** Safe file-name part from a lot code (lot codes are ours, but never trust a header value). */
 const fileSafe = (s: string) => s.replace(/[^A-Za-z0-9._-]/g, '_').slice(0, 60);
 
 export function analyticsRoutes(ctx: AppContext): ApiRouter {
-  const svc = new AnalyticsService(ctx.ds);
+  const svc = ctx.services.analytics;
   const r = new ApiRouter('/api/analytics');
   const readers = rolesFor('trends.read');
 

@@ -2,32 +2,28 @@ import connectPgSimple from 'connect-pg-simple';
 import type { Express } from 'express';
 import { rateLimit } from 'express-rate-limit';
 import session from 'express-session';
-import { Passport } from 'passport';
 import { Strategy as LocalStrategy } from 'passport-local';
-import type { Pool } from 'pg';
 import { signInSchema, type SessionUser } from '../../../shared/schemas/auth';
 import type { AppContext } from '../../context';
 import { AppError } from '../../http/errors';
 import { ApiRouter, SESSION_COOKIE } from '../../http/route';
 import { UserEntity } from '../../db/entities';
-import { AuthService } from './auth.service';
-import { SESSION_ENDED, type SessionEnded } from './session-events';
+import { pgPool } from '../../db/pool';
+import { SESSION_ENDED, type SessionEnded } from '../../events';
+import type { AuthService } from './auth.service';
 
 /** Sign-in attempts allowed per client address in a window (on top of the per-account lockout). */
 export const SIGN_IN_WINDOW_MS = 15 * 60 * 1000;
 export const SIGN_IN_MAX_PER_WINDOW = 30;
 
 /** Sessions in PostgreSQL (connect-pg-simple on TypeORM's own pool) and passport-local. */
-/** One passport instance per app (not the process-wide default), so two apps in one process never share strategies. */
-const PASSPORT = 'passport';
-const passportOf = (ctx: AppContext) => ctx.services[PASSPORT] as InstanceType<typeof Passport>;
+/** One passport instance per app (ctx.services.passport, not the process-wide default), so two apps in one process never share strategies. */
+const passportOf = (ctx: AppContext) => ctx.services.passport;
 
 export function installAuth(app: Express, ctx: AppContext): AuthService {
-  const auth = new AuthService(ctx.ds, ctx.audit, ctx.now);
-  const passport = new Passport();
-  ctx.services[PASSPORT] = passport;
+  const { auth, passport } = ctx.services;
   const PgStore = connectPgSimple(session);
-  const pool = (ctx.ds.driver as unknown as { master: Pool }).master;
+  const pool = pgPool(ctx.ds);
   const store = new PgStore({ pool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 15 * 60 });
   ctx.onClose(() => store.close()); // stops the prune timer
   app.use(

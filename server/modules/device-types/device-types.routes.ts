@@ -7,11 +7,10 @@ import {
 import { idParamSchema } from '../../../shared/schemas/users';
 import type { AppContext } from '../../context';
 import { ApiRouter } from '../../http/route';
-import { DeviceTypesService } from './device-types.service';
+import type { DeviceTypesService } from './device-types.service';
 
 export function deviceTypesRoutes(ctx: AppContext): ApiRouter {
-  const svc = new DeviceTypesService(ctx.ds, ctx.audit);
-  ctx.services.deviceTypes = svc;
+  const svc = ctx.services.deviceTypes;
   const r = new ApiRouter('/api/device-types');
   r.get('/', { access: 'signed-in', query: deviceTypeListQuerySchema }, async ({ query }) => ({ items: await svc.list(query.q) }));
   r.get('/:id', { access: 'signed-in', params: idParamSchema }, ({ params }) => svc.get(params.id));

@@ -10,6 +10,7 @@ import {
 import { DeviceTypeEntity } from '../../db/entities';
 import { badRequest, conflict, notFound } from '../../http/errors';
 import type { AuditService } from '../audit/audit.service';
+import { deviceTypeUsage } from './device-types.data';
 
 /** Every rating field, in the order the schema lists them (used to map and to diff). */
 export const DEVICE_TYPE_FIELDS = [
@@ -63,14 +64,7 @@ export class DeviceTypesService {
       order: { partNumber: 'ASC' },
     });
     if (rows.length === 0) return [];
-    const counts: Array<{ id: string; lots: number; devices: number; plans: number }> = await this.ds.query(
-      `SELECT dt.id,
-              (SELECT count(*)::int FROM lots l WHERE l.device_type_id = dt.id) AS lots,
-              (SELECT count(*)::int FROM devices d JOIN lots l ON l.id = d.lot_id WHERE l.device_type_id = dt.id) AS devices,
-              (SELECT count(*)::int FROM stress_plans p WHERE p.device_type_id = dt.id AND p.current) AS plans
-         FROM device_types dt WHERE dt.id = ANY($1::uuid[])`,
-      [rows.map((r) => r.id)],
-    );
+    const counts = await deviceTypeUsage(this.ds.manager, rows.map((r) => r.id));
     const byId = new Map(counts.map((c) => [c.id, c]));
     return rows.map((r) => {
       const c = byId.get(r.id);

@@ -159,7 +159,14 @@ export async function loadSampleEvidence(m: EntityManager, sampleId: string): Pr
     bookedSize: sample.bookedSize,
     loadedSize: devices.length,
     deviation: sample.deviationReason ? { reason: sample.deviationReason, byName: by?.name ?? null, at: iso(sample.deviationAt)! } : null,
-    runs: runs.map((r) => ({ id: r.id, code: r.code, rigCode: r.rigId ? (rigCode.get(r.rigId) ?? null) : null, sampleSize: r.sampleSize, state: r.state, stressHours: r.stressHours })),
+    runs: runs.map((r) => ({
+      id: r.id,
+      code: r.code,
+      rigCode: r.rigId ? (rigCode.get(r.rigId) ?? null) : null,
+      sampleSize: r.sampleSize,
+      state: r.state,
+      stressHours: r.stressHours,
+    })),
     readPointsH,
     devices,
     coverage: coverageOf(runs, readPointsH, devices, readings, dispositions),
@@ -176,3 +183,7 @@ export async function lotSampleIds(m: EntityManager, lotId: string): Promise<str
   return rows.map((r) => r.sample_id);
 }
 
+/** Holds the run's row until the transaction ends (one disposition change per run at a time). */
+export async function lockRunRow(m: EntityManager, runId: string): Promise<void> {
+  await m.query('SELECT 1 FROM runs WHERE id = $1 FOR UPDATE', [runId]);
+}

@@ -10,11 +10,10 @@ import {
 } from '../../../shared/schemas/evidence';
 import type { AppContext } from '../../context';
 import { ApiRouter } from '../../http/route';
-import { EvidenceService } from './evidence.service';
 
 /** Dispositions come from the floor (operators) and engineers; confirming a flagged reading is an engineer's call. */
 export function evidenceRoutes(ctx: AppContext): ApiRouter {
-  const svc = new EvidenceService(ctx.ds, ctx.audit, () => ctx.now());
+  const svc = ctx.services.evidence;
   const r = new ApiRouter('/api/evidence');
   const readers = rolesFor('evidence.read');
   r.get('/samples/:sampleId', { access: readers, params: evidenceSampleParamsSchema }, ({ params }) => svc.sample(params.sampleId));

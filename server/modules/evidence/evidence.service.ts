@@ -20,7 +20,7 @@ import { conflict, notFound, unprocessable } from '../../http/errors';
 import type { AuditService } from '../audit/audit.service';
 import { refreshFirstFailures } from '../measurements/measurements.service';
 import { loadRunBundle } from '../measurements/run-data';
-import { coverageOf, evidenceDevices, evidenceReadings, loadSampleEvidence, runDispositions } from './evidence.data';
+import { coverageOf, evidenceDevices, evidenceReadings, loadSampleEvidence, runDispositions, lockRunRow } from './evidence.data';
 
 export class EvidenceService {
   constructor(
@@ -70,7 +70,7 @@ export class EvidenceService {
           `Device ${device.serial} (socket ${device.socketIndex}) did not trip; "${DISPOSITION_LABEL[input.kind]}" is only for a tripped device.`,
         );
       }
-      await m.query('SELECT 1 FROM runs WHERE id = $1 FOR UPDATE', [runId]);
+      await lockRunRow(m, runId);
       const existing = await m.findOneBy(DeviceDispositionEntity, { runId, deviceId: device.deviceId });
       if (existing) {
         throw conflict(

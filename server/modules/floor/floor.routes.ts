@@ -2,14 +2,9 @@ import { floorChartQuerySchema, floorRigParamSchema } from '../../../shared/sche
 import type { AppContext } from '../../context';
 import { badRequest } from '../../http/errors';
 import { ApiRouter, HANDLED } from '../../http/route';
-import { FloorService } from './floor.service';
-import { FloorStream } from './floor.stream';
 
 export function floorRoutes(ctx: AppContext): ApiRouter {
-  const svc = new FloorService(ctx);
-  const stream = new FloorStream(ctx, svc);
-  ctx.services.floor = svc;
-  ctx.services.floorStream = stream;
+  const { floor: svc, floorStream: stream } = ctx.services;
   const r = new ApiRouter('/api/floor');
   r.get('/', { access: 'signed-in' }, async () => ({ items: await svc.tiles() }));
   // Server-sent events: `event: tile` with a whole tile whenever a rig changed (≤ 1 per rig per s).

@@ -25,8 +25,7 @@ import {
 import { ON_RIG_STATES, type RunState } from '../../../shared/domain/run-states';
 import type { AppContext } from '../../context';
 import { notFound } from '../../http/errors';
-import { ALARM_EVENT } from '../alarms/alarms.service';
-import { RUN_EVENT } from '../runs/run-events';
+import { ALARM_EVENT, RUN_EVENT } from '../../events';
 
 interface TileRow {
   id: string;

@@ -14,10 +14,7 @@
 import type { Response } from 'express';
 import type { FloorStreamEvent, FloorTile } from '../../../shared/schemas/floor';
 import type { AppContext } from '../../context';
-import { SESSION_ENDED, type SessionEnded } from '../auth/session-events';
-import { ALARM_EVENT } from '../alarms/alarms.service';
-import { RUN_EVENT } from '../runs/run-events';
-import { RIG_STATUS_CHANGED, TELEMETRY_LANDED } from '../telemetry/contracts';
+import { ALARM_EVENT, RIG_STATUS_CHANGED, RUN_EVENT, SESSION_ENDED, TELEMETRY_LANDED, type SessionEnded } from '../../events';
 import type { FloorService } from './floor.service';
 
 export const STREAM_TICK_MS = 1_000;

@@ -6,7 +6,6 @@ import type { AppContext } from '../../context';
 import { badRequest } from '../../http/errors';
 import { memoryUpload } from '../../http/multipart';
 import { ApiRouter } from '../../http/route';
-import { LotsService } from './lots.service';
 import { readSerialCsv, SERIAL_CSV_MAX_BYTES } from './serial-csv';
 
 const upload = memoryUpload({ fileSize: SERIAL_CSV_MAX_BYTES, files: 1, fields: 5 }).single('file');
@@ -23,8 +22,7 @@ function receiveFile(req: Request, res: Response): Promise<Express.Multer.File> 
 }
 
 export function lotsRoutes(ctx: AppContext): ApiRouter {
-  const svc = new LotsService(ctx.ds, ctx.audit);
-  ctx.services.lots = svc;
+  const svc = ctx.services.lots;
   const r = new ApiRouter('/api/lots');
   r.get('/', { access: 'signed-in', query: lotListQuerySchema }, async ({ query }) => ({ items: await svc.list(query) }));
   r.get('/:id', { access: 'signed-in', params: idParamSchema }, ({ params }) => svc.get(params.id));

@@ -8,6 +8,7 @@ import nodemailer, { type Transporter } from 'nodemailer';
 import type { AppContext } from '../../context';
 import { MailLogEntity } from '../../db/entities';
 import type { MailList, MailListQuery, MailLogEntry } from '../../../shared/schemas/alarms';
+import { mailStatusCounts } from './mail.data';
 
 export interface OutgoingMail {
   to: string;
@@ -25,8 +26,6 @@ export interface MailServiceOptions {
   /** SMTP socket timeouts, ms. */
   timeoutMs?: number;
 }
-
-export const MAIL_SERVICE = 'mail';
 
 export function toMailLogEntry(r: MailLogEntity): MailLogEntry {
   return {
@@ -155,23 +154,8 @@ export class MailService {
     const repo = this.ctx.ds.getRepository(MailLogEntity);
     const where = q.status ? { status: q.status } : {};
     const [rows, total] = await repo.findAndCount({ where, order: { createdAt: 'DESC' }, take: q.limit, skip: q.offset });
-    const counts: Array<{ status: string; n: number }> = await repo
-      .createQueryBuilder('m')
-      .select('m.status', 'status')
-      .addSelect('count(*)::int', 'n')
-      .groupBy('m.status')
-      .getRawMany();
+    const counts = await mailStatusCounts(this.ctx.ds.manager);
     const of = (s: string) => counts.find((c) => c.status === s)?.n ?? 0;
     return { items: rows.map(toMailLogEntry), total, sent: of('sent'), failed: of('failed') };
   }
-}
-
-/** The one MailService of this process (routes and background work share it). */
-export function getMailService(ctx: AppContext): MailService {
-  let svc = ctx.services[MAIL_SERVICE] as MailService | undefined;
-  if (!svc) {
-    svc = new MailService(ctx);
-    ctx.services[MAIL_SERVICE] = svc;
-  }
-  return svc;
 }

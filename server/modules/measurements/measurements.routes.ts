@@ -12,7 +12,6 @@ import type { AppContext } from '../../context';
 import { badRequest, tooLarge, validationError } from '../../http/errors';
 import { memoryUpload } from '../../http/multipart';
 import { ApiRouter, HANDLED } from '../../http/route';
-import { MeasurementsService } from './measurements.service';
 
 /** Memory storage: a read-point file is small; nothing touches the disk. */
 const upload = memoryUpload({ fileSize: UPLOAD_MAX_BYTES, files: 1, fields: 10, fieldSize: 64 * 1024, parts: 12 }).single('file');
@@ -38,7 +37,7 @@ function receiveFile(req: Request, res: Response): Promise<void> {
  * has its file read.
  */
 export function measurementsRoutes(ctx: AppContext): ApiRouter {
-  const svc = new MeasurementsService(ctx.ds, ctx.audit, () => ctx.now());
+  const svc = ctx.services.measurements;
   const r = new ApiRouter('/api/measurements');
   const readers = rolesFor('measurement.read');
   const writers = rolesFor('measurement.upload');

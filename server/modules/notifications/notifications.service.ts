@@ -10,7 +10,6 @@ import type { SessionUser } from '../../../shared/schemas/auth';
 import type { AppContext } from '../../context';
 import { NotificationEntity, UserEntity } from '../../db/entities';
 import { notFound } from '../../http/errors';
-import { getMailService } from '../mail/mail.service';
 
 export function toNotification(n: NotificationEntity): AppNotification {
   return {
@@ -79,8 +78,7 @@ export class NotificationsService {
     await this.ctx.ds.getRepository(NotificationEntity).insert(
       users.map((u) => ({ userId: u.id, kind: clip(a.kind, 32), title: clip(a.title, 200), body: a.body, link: a.link, readAt: null })),
     );
-    this.ctx.events.emit('notification', { userIds: users.map((u) => u.id), kind: a.kind });
-    const mail = getMailService(this.ctx);
+    const mail = this.ctx.services.mail;
     for (const u of users) {
       mail.enqueue({ to: u.email, subject: clip(a.subject ?? a.title, 200), text: a.mailText ?? a.body, kind: a.kind });
     }
@@ -125,15 +123,4 @@ export class NotificationsService {
       mailText,
     });
   }
-}
-
-export const NOTIFICATIONS_SERVICE = 'notifications';
-
-export function getNotificationsService(ctx: AppContext): NotificationsService {
-  let svc = ctx.services[NOTIFICATIONS_SERVICE] as NotificationsService | undefined;
-  if (!svc) {
-    svc = new NotificationsService(ctx);
-    ctx.services[NOTIFICATIONS_SERVICE] = svc;
-  }
-  return svc;
 }

@@ -3,11 +3,9 @@ import { planInputSchema, planListQuerySchema, planTemplatesQuerySchema } from '
 import { idParamSchema } from '../../../shared/schemas/users';
 import type { AppContext } from '../../context';
 import { ApiRouter } from '../../http/route';
-import { PlansService } from './plans.service';
 
 export function plansRoutes(ctx: AppContext): ApiRouter {
-  const svc = new PlansService(ctx.ds, ctx.audit, () => ctx.now());
-  ctx.services.plans = svc;
+  const svc = ctx.services.plans;
   const r = new ApiRouter('/api/plans');
   // Fixed paths before "/:id".
   r.get('/templates', { access: 'signed-in', query: planTemplatesQuerySchema }, async ({ query }) => ({

@@ -22,9 +22,7 @@ import { FLAG_TRIPPED } from '../../../shared/mqtt/payloads';
 import type { AlarmKindName } from '../../../shared/schemas/alarms';
 import type { AppContext } from '../../context';
 import type { RunState } from '../../db/entities';
-import { getAlarmsService } from '../alarms/alarms.service';
-import { RIG_LINK, RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigLink, type RigStatusChanged, type TelemetryLanded } from '../telemetry/contracts';
-import { RUN_EVENT, type RunEvent } from '../runs/run-events';
+import { RIG_STATUS_CHANGED, RUN_EVENT, TELEMETRY_LANDED, type RigStatusChanged, type RunEvent, type TelemetryLanded } from '../../events';
 import { ambientAlarm, biasAlarm, leakageAlarm, rigOfflineAlarm, runawayWarningAlarm, tripCommandReason, type SocketPlace } from './alarm-text';
 import { ConditionAlarms } from './conditions';
 import { SocketJudge, type DeviceInfo, type RigState, type SocketState } from './judge';
@@ -98,8 +96,7 @@ export class ProtectionMonitor {
   private readonly runs = new Map<string, { run: RunContext | null; at: number }>();
   private readonly chains = new Map<string, Promise<void>>();
   private readonly pending = new Set<Promise<unknown>>();
-  // eslint-disable-next-line @typescript-eslint/no-explicit-any -- untyped EventEmitter listeners until the typed event bus (issue #17 item 2)
-  private readonly listeners: Array<[string, (...a: any[]) => void]> = [];
+  private readonly listeners: Array<() => void> = [];
   private started = false;
   readonly stats = { messages: 0, staleSkipped: 0, assessments: 0, trips: 0, tripSendFailures: 0, warnings: 0, errors: 0 };
   /** Every trip decision, for tests and the log. */
@@ -123,11 +120,11 @@ export class ProtectionMonitor {
   }
 
   private get alarms() {
-    return getAlarmsService(this.ctx);
+    return this.ctx.services.alarms;
   }
 
   private get rigLink() {
-    return this.ctx.services[RIG_LINK] as RigLink | undefined;
+    return this.ctx.services.rigLink;
   }
 
   async start(): Promise<void> {
@@ -135,25 +132,29 @@ export class ProtectionMonitor {
     this.started = true;
     // Conditions still active from before a restart, so they can clear when seen healthy again.
     await this.conditions.load();
-    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- untyped EventEmitter listeners until the typed event bus (issue #17 item 2)
-    const on = (event: string, fn: (...a: any[]) => void) => {
-      this.ctx.events.on(event, fn);
-      this.listeners.push([event, fn]);
-    };
-    on(TELEMETRY_LANDED, (m: TelemetryLanded) => this.enqueue(m.rigId, () => this.onTelemetry(m)));
-    on(RIG_STATUS_CHANGED, (s: RigStatusChanged) => this.enqueue(s.rigId, () => this.onStatus(s)));
-    on(RUN_EVENT, (e: RunEvent) => {
+    const events = this.ctx.events;
+    const onLanded = (m: TelemetryLanded) => this.enqueue(m.rigId, () => this.onTelemetry(m));
+    const onStatus = (s: RigStatusChanged) => this.enqueue(s.rigId, () => this.onStatus(s));
+    const onRunEvent = (e: RunEvent) => {
       const rigId = (e as { rigId?: unknown } | null)?.rigId;
       this.invalidateRun(typeof rigId === 'string' ? rigId : undefined);
       if (e?.type === 'state-changed' && e.rigId) {
         const rigId = e.rigId;
         this.enqueue(rigId, () => this.onRunStateChanged(rigId, e.to));
       }
-    });
+    };
+    events.on(TELEMETRY_LANDED, onLanded);
+    events.on(RIG_STATUS_CHANGED, onStatus);
+    events.on(RUN_EVENT, onRunEvent);
+    this.listeners.push(
+      () => events.off(TELEMETRY_LANDED, onLanded),
+      () => events.off(RIG_STATUS_CHANGED, onStatus),
+      () => events.off(RUN_EVENT, onRunEvent),
+    );
   }
 
   async stop(): Promise<void> {
-    for (const [event, fn] of this.listeners) this.ctx.events.off(event, fn);
+    for (const off of this.listeners) off();
     this.listeners.length = 0;
     await this.idle();
     this.started = false;

@@ -1,17 +1,14 @@
 /**
  * The background half of alarms: live protection, run-event alarms, and the notifier that turns
  * every newly raised alarm into in-app notifications and e-mails. Started from server/features.ts
- * after telemetry (it uses ctx.services.rigLink at trip time, whenever that exists).
+ * after telemetry (it uses ctx.services.rigLink at trip time, whenever that exists). The monitor is
+ * ctx.services.protection while it runs.
  */
 import type { AppContext } from '../../context';
-import { ALARM_EVENT, type AlarmEvent } from '../alarms/alarms.service';
+import { ALARM_EVENT, RUN_EVENT, type AlarmEvent, type RunEvent } from '../../events';
 import { handleRunEvent } from '../alarms/run-event-alarms';
-import { MAIL_SERVICE, MailService, getMailService, type MailServiceOptions } from '../mail/mail.service';
-import { getNotificationsService } from '../notifications/notifications.service';
-import { RUN_EVENT, type RunEvent } from '../runs/run-events';
+import { MailService, type MailServiceOptions } from '../mail/mail.service';
 import { ProtectionMonitor, type ProtectionMonitorOptions } from './protection.monitor';
-
-export const PROTECTION_MONITOR = 'protection';
 
 export interface ProtectionFeatureOptions {
   monitor?: Partial<ProtectionMonitorOptions>;
@@ -27,9 +24,8 @@ export interface ProtectionFeature {
 }
 
 export async function startProtectionFeature(ctx: AppContext, opts: ProtectionFeatureOptions = {}): Promise<ProtectionFeature> {
-  if (opts.mail) ctx.services[MAIL_SERVICE] = new MailService(ctx, opts.mail);
-  const mail = getMailService(ctx);
-  const notifications = getNotificationsService(ctx);
+  if (opts.mail) ctx.services.mail = new MailService(ctx, opts.mail);
+  const { mail, notifications } = ctx.services;
   const pending = new Set<Promise<unknown>>();
   const track = (label: string, p: Promise<unknown>) => {
     const t = p
@@ -47,7 +43,7 @@ export async function startProtectionFeature(ctx: AppContext, opts: ProtectionFe
 
   const monitor = new ProtectionMonitor(ctx, opts.monitor);
   await monitor.start();
-  ctx.services[PROTECTION_MONITOR] = monitor;
+  ctx.services.protection = monitor;
 
   const idle = async () => {
     for (let k = 0; k < 20; k++) {
@@ -69,8 +65,8 @@ export async function startProtectionFeature(ctx: AppContext, opts: ProtectionFe
       await idle();
       ctx.events.off(ALARM_EVENT, onAlarm);
       await mail.close();
-      if (ctx.services[PROTECTION_MONITOR] === monitor) delete ctx.services[PROTECTION_MONITOR];
-      if (ctx.services[MAIL_SERVICE] === mail) delete ctx.services[MAIL_SERVICE];
+      if (ctx.services.protection === monitor) ctx.services.protection = undefined;
+      if (ctx.services.mail === mail) ctx.services.mail = new MailService(ctx); // the closed one is not reused
     },
   };
 }

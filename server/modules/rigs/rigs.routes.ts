@@ -9,11 +9,9 @@ import {
 } from '../../../shared/schemas/rigs';
 import type { AppContext } from '../../context';
 import { ApiRouter } from '../../http/route';
-import { RigsService } from './rigs.service';
 
 export function rigsRoutes(ctx: AppContext): ApiRouter {
-  const svc = new RigsService(ctx);
-  ctx.services.rigs = svc;
+  const svc = ctx.services.rigs;
   const r = new ApiRouter('/api/rigs');
   r.get('/', { access: rolesFor('rig.read') }, async () => ({ items: await svc.list() }));
   r.post('/', { access: rolesFor('rig.manage'), body: createRigSchema, status: 201 }, ({ user, body }) => svc.create(user, body));

@@ -14,8 +14,8 @@ import {
 import type { AppContext } from '../../context';
 import { RigEntity, RigMaintenanceEntity } from '../../db/entities';
 import { conflict, notFound, unprocessable } from '../../http/errors';
-import { RIG_LINK, type RigLink } from '../telemetry/contracts';
 import { BCRYPT_ROUNDS } from '../users/users.service';
+import { overlappingMaintenance } from './rigs.data';
 
 export function toRig(r: RigEntity): Rig {
   return {
@@ -59,8 +59,6 @@ export function newRigSecret(): string {
   return randomBytes(24).toString('base64url');
 }
 
-type RevokeCapable = RigLink & { revoke?: (rigCode: string) => Promise<boolean> };
-
 export class RigsService {
   constructor(private readonly ctx: AppContext) {}
 
@@ -71,7 +69,7 @@ export class RigsService {
   /** Disconnect a rig's open MQTT session (revocation or a new secret). Best effort: the database
    * check at the next CONNECT refuses the old credentials either way. */
   private async kick(rigCode: string): Promise<boolean> {
-    const link = this.ctx.services[RIG_LINK] as RevokeCapable | undefined;
+    const link = this.ctx.services.rigLink;
     if (!link?.revoke) return false;
     try {
       return await link.revoke(rigCode);
@@ -198,10 +196,7 @@ export class RigsService {
     if (endsAt.getTime() <= this.ctx.now().getTime()) throw unprocessable('The window has already ended; book maintenance that is still to come.');
     return this.ds.transaction(async (m) => {
       const rig = await this.findByCode(code, m, true);
-      const overlap = await m
-        .createQueryBuilder(RigMaintenanceEntity, 'w')
-        .where('w.rig_id = :rigId AND w.starts_at < :endsAt AND w.ends_at > :startsAt', { rigId: rig.id, startsAt, endsAt })
-        .getOne();
+      const overlap = await overlappingMaintenance(m, rig.id, startsAt, endsAt);
       if (overlap) {
         throw conflict(
           `Rig ${code} already has maintenance from ${overlap.startsAt.toISOString()} to ${overlap.endsAt.toISOString()} (${overlap.reason}); windows may not overlap.`,

@@ -12,11 +12,9 @@ import {
 } from '../../../shared/schemas/runs';
 import type { AppContext } from '../../context';
 import { ApiRouter } from '../../http/route';
-import { RunsService } from './runs.service';
 
 export function runsRoutes(ctx: AppContext): ApiRouter {
-  const svc = new RunsService(ctx);
-  ctx.services.runs = svc;
+  const svc = ctx.services.runs;
   const r = new ApiRouter('/api/runs');
   // Fixed paths before "/:id".
   r.get('/timeline', { access: 'signed-in', query: timelineQuerySchema }, ({ query }) => svc.timeline(query));

@@ -58,9 +58,9 @@ import { AppError, conflict, notFound, unprocessable } from '../../http/errors';
 import { toDeviceTypeInput } from '../device-types/device-types.service';
 import { runPlanCheck } from '../plans/plan-check-result';
 import { toPlanInput } from '../plans/plans.service';
-import { accrueStep, firstReadPointIndex, transitionRun, type EngineDeps } from '../scheduler/run-engine';
-import { maxSeq } from '../scheduler/telemetry-reads';
-import { emitRunEvent } from './run-events';
+import { accrueStep, firstReadPointIndex, transitionRun, type EngineDeps } from './run-engine';
+import { maxSeq } from './telemetry-reads';
+import { emitRunEvent, type PendingRunEvent } from './run-events';
 import { planRef, sampleView, socketsTakenOnRig, toRunDetail, toRuns } from './run-view';
 import { loadSchedulingInputs, projectedWindow, SCHEDULED_STATES, timingFrom } from './scheduling-data';
 
@@ -455,7 +455,7 @@ export class RunsService {
 
   async loadSockets(actor: SessionUser, id: string, input: SocketLoadInput): Promise<SocketLoadResult> {
     let result: Omit<SocketLoadResult, 'run'> | null = null;
-    let ev: unknown = null;
+    let ev: PendingRunEvent | null = null;
     await this.ds.transaction(async (m) => {
       const run = await this.lockRun(m, id, input.rowVersion);
       if (!allowedActions(run.state).includes('load')) {
@@ -485,7 +485,7 @@ export class RunsService {
       }
       result.stored = true;
     });
-    if (ev) emitRunEvent(this.ctx, ev as never);
+    if (ev) emitRunEvent(this.ctx, ev);
     const fresh = await this.ds.getRepository(RunEntity).findOneByOrFail({ id });
     return { ...result!, run: await toRunDetail(this.ds.manager, fresh) };
   }
@@ -583,7 +583,7 @@ export class RunsService {
   async act(actor: SessionUser, id: string, action: Exclude<RunAction, 'load' | 'abort'>, input: RunActionInput): Promise<RunDetail>;
   async act(actor: SessionUser, id: string, action: 'abort', input: AbortRunInput): Promise<RunDetail>;
   async act(actor: SessionUser, id: string, action: Exclude<RunAction, 'load'>, input: RunActionInput | AbortRunInput): Promise<RunDetail> {
-    const events: unknown[] = [];
+    const events: PendingRunEvent[] = [];
     await this.ds.transaction(async (m) => {
       const run = await this.lockRun(m, id, input.rowVersion);
       if (!allowedActions(run.state).includes(action)) throw this.refuseAction(run, action);
@@ -637,7 +637,7 @@ export class RunsService {
         }
       }
     });
-    for (const e of events) emitRunEvent(this.ctx, e as never);
+    for (const e of events) emitRunEvent(this.ctx, e);
     return this.get(id);
   }
 

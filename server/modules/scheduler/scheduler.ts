@@ -15,20 +15,21 @@
  * or a running run overruns its booked end.
  */
 import cron, { type ScheduledTask } from 'node-cron';
-import { In, IsNull, MoreThan, Not, type EntityManager } from 'typeorm';
+import type { EntityManager } from 'typeorm';
 import { chamberBand, planBiasSettings, planBiasV, planSchedule, socketBiased, accrualConditionsFor, type Job, when } from '../../../shared/scheduling';
-import { DRIVEN_STATES, HEAT_STATES, type RunState } from '../../../shared/schemas/runs';
-import { MEASURE_PENDING_STATES, sqlStateList } from '../../../shared/domain/run-states';
 import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H, ROOM_AMBIENT_C as AMBIENT_C } from '../../../shared/domain/standards';
+import type { RunState } from '../../../shared/schemas/runs';
 import type { AppContext } from '../../context';
-import { AuditLogEntity, RigEntity, RunEntity, RunSocketEntity, StressPlanEntity } from '../../db/entities';
+import type { RigEntity, RunEntity, StressPlanEntity } from '../../db/entities';
 import { MEASURE_WITHIN_H, emitRunEvent } from '../runs/run-events';
 import { sortedReadPoints } from '../runs/run-view';
 import { loadSchedulingInputs, projectedWindow, timingFrom } from '../runs/scheduling-data';
-import { RIG_LINK, RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigCommandBody, type RigLink, type RigStatusChanged } from '../telemetry/contracts';
+import { RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigStatusChanged } from '../../events';
+import type { RigCommandBody, RigLink } from '../telemetry/contracts';
 import { CommandTracker } from './commands';
-import { accrueStep, heatingStep, transitionRun, type EngineDeps, type StepOutcome } from './run-engine';
-import { clockElapsedS, latestBatch, socketSamples, type BatchRow } from './telemetry-reads';
+import { accrueStep, heatingStep, transitionRun, type EngineDeps, type StepOutcome } from '../runs/run-engine';
+import { clockElapsedS, latestBatch, socketSamples, type BatchRow } from '../runs/telemetry-reads';
+import * as data from './scheduler.data';
 
 export const COOL_SAFE_C = 40;
 /** Aborted runs keep being made safe (bias off) for this long after the abort. */
@@ -72,7 +73,7 @@ export class RunScheduler {
   private readonly log: (line: string) => void;
 
   constructor(private readonly ctx: AppContext, private readonly opts: SchedulerOptions = {}) {
-    const link = opts.rigLink ?? (() => ctx.services[RIG_LINK] as RigLink | undefined);
+    const link = opts.rigLink ?? (() => ctx.services.rigLink);
     this.deps = { audit: ctx.audit, now: () => ctx.now() };
     this.log = opts.log ?? ((l) => console.log(`[scheduler] ${l}`));
     this.commands = new CommandTracker(link, () => ctx.now().getTime(), (o, cmd) => void this.reportFailure(o.cmdId, o.rigCode, cmd, o.attempts, o.error ?? ''));
@@ -149,13 +150,7 @@ export class RunScheduler {
   /** One pass over every run the scheduler drives. */
   async pass(): Promise<void> {
     const now = this.ctx.now();
-    const runs = await this.ctx.ds.getRepository(RunEntity).find({
-      where: [
-        { state: In([...DRIVEN_STATES]) },
-        { state: 'aborted', startedAt: Not(IsNull()), finishedAt: MoreThan(new Date(now.getTime() - ABORT_SAFE_WINDOW_MS)) },
-      ],
-      order: { createdAt: 'ASC' },
-    });
+    const runs = await data.drivenRuns(this.ctx.ds.manager, new Date(now.getTime() - ABORT_SAFE_WINDOW_MS));
     const wanted = new Set<string>();
     for (const r of runs) {
       if (!r.rigId || (r.state === 'aborted' && !r.startedAt)) continue;
@@ -183,13 +178,7 @@ export class RunScheduler {
     if (now.getTime() - this.lastOverdueCheckAt < (this.opts.overdueCheckEveryMs ?? 60_000)) return;
     this.lastOverdueCheckAt = now.getTime();
     const limitMs = MEASURE_WITHIN_H * 3_600_000;
-    const rows: Array<{ id: string; code: string; state: RunState; bias_removed_at: Date; next_read_point: number; rig_id: string | null; rig_code: string | null; read_points_h: number[]; duration_h: number }> =
-      await this.ctx.ds.query(
-        `SELECT r.id, r.code, r.state, r.bias_removed_at, r.next_read_point, r.rig_id, g.code AS rig_code, p.read_points_h, p.duration_h
-         FROM runs r JOIN stress_plans p ON p.id = r.plan_id LEFT JOIN rigs g ON g.id = r.rig_id
-         WHERE r.state IN ${sqlStateList(MEASURE_PENDING_STATES)} AND r.bias_removed_at IS NOT NULL AND r.bias_removed_at < $1`,
-        [new Date(now.getTime() - limitMs)],
-      );
+    const rows = await data.readPointHoldsBefore(this.ctx.ds.manager, new Date(now.getTime() - limitMs));
     for (const r of rows) {
       const biasIso = new Date(r.bias_removed_at).toISOString();
       const key = `${r.id}:${biasIso}`;
@@ -198,12 +187,11 @@ export class RunScheduler {
       const final = r.state !== 'read-hold';
       const readPointH = final ? rps.find((h) => h >= r.duration_h) ?? r.duration_h : rps[r.next_read_point - 1];
       if (readPointH === undefined) continue;
-      const measured = await this.ctx.ds.query(`SELECT 1 FROM measurements WHERE run_id = $1 AND abs(read_point_h - $2) < 1e-6 LIMIT 1`, [r.id, readPointH]);
-      if (measured.length) {
+      if (await data.hasMeasurementAt(this.ctx.ds.manager, r.id, readPointH)) {
         this.overdueSettled.add(key);
         continue;
       }
-      const reported = await this.ctx.ds.getRepository(AuditLogEntity).findOne({ where: { entity: 'run', entityId: r.id, action: 'run.read-point-overdue' }, order: { id: 'DESC' } });
+      const reported = await data.lastRunAudit(this.ctx.ds.manager, r.id, 'run.read-point-overdue');
       this.overdueSettled.add(key);
       if (reported?.details?.biasRemovedAt === biasIso) continue;
       const measureBy = new Date(new Date(r.bias_removed_at).getTime() + limitMs);
@@ -236,10 +224,9 @@ export class RunScheduler {
     const events: StepOutcome['events'] = [];
     for (let k = 0; k < 40; k++) {
       const out = await this.ctx.ds.transaction(async (m) => {
-        const run = await m.findOne(RunEntity, { where: { id: runId }, lock: { mode: 'pessimistic_write' } });
-        if (!run || !run.rigId) return null;
-        const plan = await m.findOneByOrFail(StressPlanEntity, { id: run.planId });
-        const rig = await m.findOneByOrFail(RigEntity, { id: run.rigId });
+        const locked = await data.runOnRig(m, runId, true);
+        if (!locked) return null;
+        const { run, plan, rig } = locked;
         if (run.state === 'heating') return heatingStep(m, this.deps, run, plan, rig);
         if (run.state === 'stressing') return accrueStep(m, this.deps, run, plan, rig);
         if (run.state === 'cooling') return this.coolingStep(m, run, plan, rig);
@@ -250,10 +237,9 @@ export class RunScheduler {
       if (!out.changed || (!out.to && !out.more)) break;
     }
     for (const e of events) emitRunEvent(this.ctx, e);
-    const run = await this.ctx.ds.getRepository(RunEntity).findOneBy({ id: runId });
-    if (!run || !run.rigId) return [];
-    const plan = await this.ctx.ds.getRepository(StressPlanEntity).findOneByOrFail({ id: run.planId });
-    const rig = await this.ctx.ds.getRepository(RigEntity).findOneByOrFail({ id: run.rigId });
+    const current = await data.runOnRig(this.ctx.ds.manager, runId);
+    if (!current) return [];
+    const { run, plan, rig } = current;
     if (run.state === 'heating') await this.checkAmbient(run, plan, rig);
     const wants = await this.wants(run, plan, rig);
     for (const w of wants) {
@@ -268,14 +254,14 @@ export class RunScheduler {
 
   /** Does another run in this oven need the chamber hot? */
   private async ovenShared(run: RunEntity): Promise<boolean> {
-    return (await this.ctx.ds.getRepository(RunEntity).count({ where: { rigId: run.rigId!, id: Not(run.id), state: In([...HEAT_STATES]) } })) > 0;
+    return data.otherRunNeedsHeat(this.ctx.ds.manager, run.rigId!, run.id);
   }
 
   /** The commands this run's state wants, each with "is the rig already there?". */
   private async wants(run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<Want[]> {
     const m = this.ctx.ds.manager;
     const latest = await latestBatch(m, rig.id);
-    const sockets = await m.find(RunSocketEntity, { where: { runId: run.id }, order: { socketIndex: 'ASC' } });
+    const sockets = await data.runSockets(m, run.id);
     const live = sockets.filter((s) => !s.tripped).map((s) => s.socketIndex);
     const all = sockets.map((s) => s.socketIndex);
     const readings = latest ? (await socketSamples(m, rig.id, latest.seq, latest.seq, all)).get(latest.seq) ?? [] : [];
@@ -349,13 +335,13 @@ export class RunScheduler {
   /** Cooling → finished once the bias is off and the chamber is safe to open (or kept hot for another run). */
   private async coolingStep(m: EntityManager, run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<StepOutcome> {
     const latest = await latestBatch(m, rig.id);
-    const sockets = (await m.find(RunSocketEntity, { where: { runId: run.id } })).map((s) => s.socketIndex);
+    const sockets = (await data.runSockets(m, run.id)).map((s) => s.socketIndex);
     const readings = latest ? (await socketSamples(m, rig.id, latest.seq, latest.seq, sockets)).get(latest.seq) ?? [] : [];
     const biasOff =
       this.commands.acked(`run:${run.id}:off:end`) ||
       (!!latest && latest.seq > run.accruedToSeq && sockets.every((k) => { const r = readings.find((x) => x.socket === k); return !r || !r.biasOn || r.tripped; }));
     if (!biasOff) return { changed: false, events: [] };
-    const shared = (await m.count(RunEntity, { where: { rigId: rig.id, id: Not(run.id), state: In([...HEAT_STATES]) } })) > 0;
+    const shared = await data.otherRunNeedsHeat(m, rig.id, run.id);
     if (!shared && !(latest && latest.chamberC <= COOL_SAFE_C)) return { changed: false, events: [] };
     const ev = await transitionRun(m, this.deps, run, rig, 'finished', { finishedAt: this.ctx.now() }, {
       actor: 'system',
@@ -375,7 +361,7 @@ export class RunScheduler {
     const { elapsedS, lastChamberC } = await clockElapsedS(this.ctx.ds.manager, rig.id, run.accruedToSeq);
     if (elapsedS < AMBIENT_LIMIT_H * 3600) return;
     const heatingSince = run.heatingSince?.toISOString() ?? null;
-    const done = await this.ctx.ds.getRepository(AuditLogEntity).findOne({ where: { entity: 'run', entityId: run.id, action: 'run.ambient-overdue' }, order: { id: 'DESC' } });
+    const done = await data.lastRunAudit(this.ctx.ds.manager, run.id, 'run.ambient-overdue');
     this.ambientCheckedAt.set(key, -1);
     if (done && done.details?.heatingSince === heatingSince) return;
     const band = chamberBand(plan.chamberC);
@@ -406,7 +392,7 @@ export class RunScheduler {
   private async reportFailure(cmdId: string, rigCode: string, cmd: RigCommandBody, attempts: number, error: string): Promise<void> {
     const runId = /^run:([0-9a-f-]{36}):/.exec(cmdId)?.[1];
     if (!runId) return;
-    const run = await this.ctx.ds.getRepository(RunEntity).findOneBy({ id: runId }).catch(() => null);
+    const run = await data.findRun(this.ctx.ds.manager, runId).catch(() => null);
     if (!run) return;
     this.log(`command ${cmdId} to ${rigCode} failed ${attempts}×: ${error}`);
     emitRunEvent(this.ctx, {
@@ -433,15 +419,14 @@ export class RunScheduler {
     if (!why) {
       // Overrun: a running run whose projected end passed its booked end (beyond 1 % of its length).
       for (const r of driven.filter((x) => x.state !== 'aborted' && x.scheduledEnd && x.scheduledStart)) {
-        const plan = await this.ctx.ds.getRepository(StressPlanEntity).findOneByOrFail({ id: r.planId });
+        const plan = await data.findPlan(this.ctx.ds.manager, r.planId);
         const w = projectedWindow(r, plan, nowMs, t);
         const len = r.scheduledEnd!.getTime() - r.scheduledStart!.getTime();
         if (w.endMs > r.scheduledEnd!.getTime() + Math.max(0.01 * len, t.msPerClockH)) {
-          const bookedNext = await this.ctx.ds.getRepository(RunEntity).count({ where: { rigId: r.rigId!, state: 'booked' } });
+          const bookedNext = await data.bookedRunsOn(this.ctx.ds.manager, r.rigId!);
           if (bookedNext) {
             why = `${r.code} overran its booked end (${when(r.scheduledEnd!.getTime())})`;
-            // An estimate, not a state change: no row_version bump (people's actions stay valid).
-            await this.ctx.ds.query(`UPDATE runs SET scheduled_end = $1 WHERE id = $2`, [new Date(w.endMs), r.id]);
+            await data.setEstimatedEnd(this.ctx.ds.manager, r.id, new Date(w.endMs));
             break;
           }
         }
@@ -460,7 +445,7 @@ export class RunScheduler {
     const nowMs = this.ctx.now().getTime();
     const t = timingFrom(this.ctx.config);
     return this.ctx.ds.transaction(async (m) => {
-      await m.query('SELECT pg_advisory_xact_lock($1)', [478_001]);
+      await data.lockReplanning(m);
       const inputs = await loadSchedulingInputs(m, nowMs, t);
       const booked = inputs.runs.filter((r) => r.state === 'booked');
       if (!booked.length) return 0;
@@ -484,7 +469,7 @@ export class RunScheduler {
       for (const a of plan.assignments) {
         const r = booked.find((b) => b.id === a.jobId)!;
         if (r.rigId === a.rigId && r.scheduledStart?.getTime() === a.startMs) continue;
-        await m.update(RunEntity, { id: r.id }, { rigId: a.rigId, scheduledStart: new Date(a.startMs), scheduledEnd: new Date(a.endMs) });
+        await data.moveBooking(m, r.id, a.rigId, new Date(a.startMs), new Date(a.endMs));
         const fromRig = inputs.rigs.find((g) => g.id === r.rigId)?.code ?? null;
         await this.ctx.audit.record(
           {
@@ -512,6 +497,6 @@ export function startScheduler(ctx: AppContext, opts: SchedulerOptions = {}): ()
   s.start();
   return async () => {
     await s.stop();
-    if (ctx.services.scheduler === s) delete ctx.services.scheduler;
+    if (ctx.services.scheduler === s) ctx.services.scheduler = undefined;
   };
 }

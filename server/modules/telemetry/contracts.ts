@@ -2,39 +2,17 @@
  * In-process contracts between telemetry ingest (producer) and the scheduler, live protection
  * and the live floor (consumers). Ingest emits only AFTER the batch is committed to PostgreSQL.
  */
-import type { CommandAck, RigCommand, TelemetrySocketColumns } from '../../../shared/mqtt';
+import type { CommandAck, RigCommand } from '../../../shared/mqtt';
 
-/**
- * ctx.events.emit(TELEMETRY_LANDED, landed) once per stored (new, not duplicate) message. The
- * sockets come as the message's columns (`socket[k]`, `caseC[k]`, … `flags[k]` = socket k; flags
- * FLAG_BIAS_ON | FLAG_TRIPPED); `socketReadings()` gives one object per socket where that is easier.
- */
-export const TELEMETRY_LANDED = 'telemetry-landed';
-export interface TelemetryLanded extends TelemetrySocketColumns {
-  rigId: string;
-  rigCode: string;
-  seq: number;
-  ts: Date;
-  stressClockS: number;
-  chamberC: number;
-  humidityPct: number | null;
-  setpointC: number;
-}
-
-/** ctx.events.emit(RIG_STATUS_CHANGED, …) when a rig goes online/offline (status message or last will). */
-export const RIG_STATUS_CHANGED = 'rig-status-changed';
-export interface RigStatusChanged {
-  rigId: string;
-  rigCode: string;
-  online: boolean;
-  at: Date;
-}
+// The events ingest emits (TELEMETRY_LANDED, RIG_STATUS_CHANGED) and their payloads live in the
+// one event map, server/events.ts.
+export { RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigStatusChanged, type TelemetryLanded } from '../../events';
 
 /** Command without the envelope fields RigLink fills in. */
 export type RigCommandBody = RigCommand extends infer C ? (C extends RigCommand ? Omit<C, 'v' | 'cmdId' | 'ts'> : never) : never;
 
 /**
- * The server's way to command a rig (ctx.services.rigLink). Implemented over MQTT by the
+ * The server's way to command a rig (ctx.services.rigLink, typed in server/composition.ts). Implemented over MQTT by the
  * telemetry module; tests may substitute a fake.
  */
 export interface RigLink {
@@ -57,6 +35,7 @@ export interface RigLink {
    * so a report with a higher seq was taken after the rig applied the command. Optional for fakes.
    */
   seqSeen?(rigCode: string): number | null;
+  /** Commands sent and not yet answered (the telemetry stats screen). Optional for fakes. */
+  pendingCount?(): number;
 }
 
-export const RIG_LINK = 'rigLink';

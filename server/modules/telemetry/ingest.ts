@@ -9,14 +9,13 @@
  * messages — they stay in the rigs' outboxes and come back later — and counts each one it turned
  * away in the durable `ingest_dropped` counter. In normal runs that counter stays 0.
  */
-import type { EventEmitter } from 'node:events';
 import type { Pool } from 'pg';
 // From the modules themselves, not shared/mqtt's index: its re-exports compile to one shared keyed
 // getter, which V8 does not inline (it was ~4 % of the ingest's CPU in the per-socket loops).
 import { buildStoredCommands, parseCommandAck, parseStatus, parseTelemetry, telemetryTimeProblem, type CommandAck, type StoredCommand } from '../../../shared/mqtt/payloads';
 import { storableText } from '../../../shared/storable-text';
 import { parseRigTopic } from '../../../shared/mqtt/topics';
-import { RIG_STATUS_CHANGED, TELEMETRY_LANDED } from './contracts';
+import { RIG_STATUS_CHANGED, TELEMETRY_LANDED, type EmberlotEventName, type EventBus } from '../../events';
 import { COUNTERS, writeBatch, type BatchResult, type IngestItem } from './ingest-store';
 import { RollupAccumulator, type RollupRow } from './rollups';
 
@@ -47,7 +46,7 @@ export interface IngestOptions {
 
 export interface IngestDeps {
   pool: () => Pool;
-  events: EventEmitter;
+  events: EventBus;
   /** Publish one `stored` command to a rig (QoS 1). Returns false when it could not go out now. */
   publishStored: (rigCode: string, cmd: StoredCommand) => void;
   /** A valid command ack for the RigLink. */
@@ -362,16 +361,24 @@ export class TelemetryIngest {
         }
       }
     }
-    for (const landed of result.landed) this.emit(TELEMETRY_LANDED, landed);
-    for (const change of result.statusChanges) this.emit(RIG_STATUS_CHANGED, change);
+    for (const landed of result.landed) {
+      try {
+        this.deps.events.emit(TELEMETRY_LANDED, landed);
+      } catch (err) {
+        this.listenerFailed(TELEMETRY_LANDED, err);
+      }
+    }
+    for (const change of result.statusChanges) {
+      try {
+        this.deps.events.emit(RIG_STATUS_CHANGED, change);
+      } catch (err) {
+        this.listenerFailed(RIG_STATUS_CHANGED, err);
+      }
+    }
   }
 
-  private emit(event: string, payload: unknown): void {
-    try {
-      this.deps.events.emit(event, payload);
-    } catch (err) {
-      this.opts.log(`a ${event} listener failed: ${(err as Error).message}`);
-    }
+  private listenerFailed(event: EmberlotEventName, err: unknown): void {
+    this.opts.log(`a ${event} listener failed: ${(err as Error).message}`);
   }
 
   /** Resolves when everything buffered so far is written (tests, shutdown). */

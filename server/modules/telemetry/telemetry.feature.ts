@@ -1,24 +1,21 @@
 /**
  * startTelemetry(ctx): the MQTT link (ctx.services.rigLink) + the ingest
- * (ctx.services.telemetryIngest) + the offline sweep. Returns the stop function.
+ * (ctx.services.telemetryIngest) + the offline sweep. Returns the stop function, which clears both slots.
  * The broker may not be up yet: the link keeps retrying and logs once.
  */
-import type { Pool } from 'pg';
 import type { AppContext } from '../../context';
-import { RIG_LINK, RIG_STATUS_CHANGED, type RigStatusChanged } from './contracts';
+import { pgPoolOf } from '../../db/pool';
+import { RIG_STATUS_CHANGED, type RigStatusChanged } from '../../events';
 import { TelemetryIngest, type IngestOptions } from './ingest';
 import { MqttRigLink } from './rig-link';
 import { recoverRollups } from './rollups';
 import { pruneRejectedMessages, REJECTED_PRUNE_EVERY_MS, type RejectionRetention } from './rejections-retention';
-
-export const TELEMETRY_INGEST = 'telemetryIngest';
+import { markQuietRigsOffline } from './telemetry.data';
 
 /** A rig that sent nothing (telemetry or status) for this long is marked offline. */
 export const OFFLINE_AFTER_MS = 60_000;
 
-export function pgPoolOf(ctx: AppContext): Pool {
-  return (ctx.ds.driver as unknown as { master: Pool }).master;
-}
+export { pgPoolOf };
 
 export interface TelemetryFeatureOptions extends IngestOptions {
   /** Override the MQTT URL/credentials (tests); default ctx.config.mqtt. */
@@ -53,8 +50,8 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
     seqSeen: (rigCode) => ingest.seqSeen(rigCode),
     log: opts.log ? (l) => opts.log!(`[mqtt] ${l}`) : undefined,
   });
-  ctx.services[RIG_LINK] = link;
-  ctx.services[TELEMETRY_INGEST] = ingest;
+  ctx.services.rigLink = link;
+  ctx.services.telemetryIngest = ingest;
   // Rollups a crash left unwritten are rebuilt from the stored samples before any new message is
   // taken (rollups.ts). The rigs hold their telemetry meanwhile; with the database down this waits.
   let stopping = false;
@@ -82,14 +79,7 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
     if (sweeping) return;
     sweeping = true;
     try {
-      // TypeORM answers an UPDATE … RETURNING with [rows, affectedCount], a SELECT with rows.
-      const result: unknown = await ctx.ds.query(
-        `UPDATE rigs SET online = false
-         WHERE online AND (last_seen_at IS NULL OR last_seen_at < $1)
-         RETURNING id, code`,
-        [new Date(ctx.now().getTime() - offlineAfterMs)],
-      );
-      const rows = (Array.isArray(result) && Array.isArray(result[0]) ? result[0] : result) as Array<{ id: string; code: string }>;
+      const rows = await markQuietRigsOffline(ctx.ds, new Date(ctx.now().getTime() - offlineAfterMs));
       const at = ctx.now();
       for (const r of rows) ctx.events.emit(RIG_STATUS_CHANGED, { rigId: r.id, rigCode: r.code, online: false, at } satisfies RigStatusChanged);
     } catch {
@@ -122,7 +112,7 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
     clearInterval(prune);
     await ingest.stop();
     await link.stop();
-    if (ctx.services[RIG_LINK] === link) delete ctx.services[RIG_LINK];
-    if (ctx.services[TELEMETRY_INGEST] === ingest) delete ctx.services[TELEMETRY_INGEST];
+    if (ctx.services.rigLink === link) ctx.services.rigLink = undefined;
+    if (ctx.services.telemetryIngest === ingest) ctx.services.telemetryIngest = undefined;
   };
 }

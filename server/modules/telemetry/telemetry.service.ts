@@ -2,10 +2,7 @@ import type { DataSource } from 'typeorm';
 import type { RejectedMessage, TelemetryStats } from '../../../shared/schemas/rigs';
 import type { AppContext } from '../../context';
 import { COUNTERS } from './ingest-store';
-import type { TelemetryIngest } from './ingest';
-import type { MqttRigLink } from './rig-link';
-import { RIG_LINK } from './contracts';
-import { TELEMETRY_INGEST } from './telemetry.feature';
+import { recentRejections, systemCounters } from './telemetry.data';
 
 /** What admins and engineers see of the ingest: refused messages and the counters. */
 export class TelemetryService {
@@ -15,21 +12,17 @@ export class TelemetryService {
   }
 
   async rejections(q: { limit: number; rig?: string }): Promise<RejectedMessage[]> {
-    const rows: Array<{ id: string; at: Date; topic: string; rig_code: string | null; reason: string; excerpt: string }> = await this.ds.query(
-      `SELECT id, at, topic, rig_code, reason, excerpt FROM rejected_messages
-       WHERE ($1::varchar IS NULL OR rig_code = $1) ORDER BY id DESC LIMIT $2`,
-      [q.rig ?? null, q.limit],
-    );
+    const rows = await recentRejections(this.ds, q.limit, q.rig ?? null);
     return rows.map((r) => ({ id: String(r.id), at: r.at.toISOString(), topic: r.topic, rigCode: r.rig_code, reason: r.reason, excerpt: r.excerpt }));
   }
 
   async stats(): Promise<TelemetryStats> {
-    const rows: Array<{ name: string; value: string }> = await this.ds.query(`SELECT name, value FROM system_counters ORDER BY name`);
+    const rows = await systemCounters(this.ds);
     const counters: Record<string, number> = {};
     for (const name of Object.values(COUNTERS)) counters[name] = 0; // always shown, 0 included
     for (const r of rows) counters[r.name] = Number(r.value);
-    const ingest = this.ctx.services[TELEMETRY_INGEST] as TelemetryIngest | undefined;
-    const link = this.ctx.services[RIG_LINK] as MqttRigLink | undefined;
+    const ingest = this.ctx.services.telemetryIngest;
+    const link = this.ctx.services.rigLink;
     const s = ingest?.stats();
     return {
       counters,
@@ -41,7 +34,7 @@ export class TelemetryService {
             bufferLimit: s.bufferLimit,
             batches: s.batches,
             lastBatchMs: s.lastBatchMs,
-            pendingCommands: typeof link?.pendingCount === 'function' ? link.pendingCount() : 0,
+            pendingCommands: link?.pendingCount?.() ?? 0,
           }
         : null,
     };

@@ -2,10 +2,9 @@ import { rolesFor } from '../../../shared/domain/permissions';
 import { createUserSchema, idParamSchema, updateUserSchema } from '../../../shared/schemas/users';
 import type { AppContext } from '../../context';
 import { ApiRouter } from '../../http/route';
-import { UsersService } from './users.service';
 
 export function usersRoutes(ctx: AppContext): ApiRouter {
-  const svc = new UsersService(ctx.ds, ctx.audit);
+  const svc = ctx.services.users;
   const r = new ApiRouter('/api/users');
   r.get('/', { access: rolesFor('user.manage') }, async () => ({ items: await svc.list() }));
   r.post('/', { access: rolesFor('user.manage'), body: createUserSchema, status: 201 }, ({ user, body }) => svc.create(user, body));

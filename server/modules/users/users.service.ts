@@ -6,6 +6,7 @@ import type { CreateUserInput, UpdateUserInput, User } from '../../../shared/sch
 import { UserEntity } from '../../db/entities';
 import { conflict, forbidden, notFound, unprocessable } from '../../http/errors';
 import type { AuditService } from '../audit/audit.service';
+import { endSessionsOf } from './users.data';
 
 /** bcrypt cost: ~60 ms per hash on this machine's class of CPU (bcryptjs, pure JS). */
 export const BCRYPT_ROUNDS = 10;
@@ -80,7 +81,7 @@ export class UsersService {
       await m.save(u);
       if (input.active === false || input.role !== undefined || input.password !== undefined) {
         // A deactivated user, a changed role or a new password ends that user's open sessions.
-        await m.query(`DELETE FROM "session" WHERE (sess->'passport'->>'user') = $1`, [u.id]);
+        await endSessionsOf(m, u.id);
       }
       await this.audit.record({ actor, action: 'user.update', entity: 'user', entityId: u.id, details: changes }, m);
       return toUser(u);

@@ -21,8 +21,8 @@ import { RunEntity, RunSocketEntity, type RigEntity, type StressPlanEntity } fro
 import type { AuditService } from '../audit/audit.service';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import { measureByMs } from '../../../shared/domain/standards';
-import type { RunEvent } from '../runs/run-events';
-import { sortedReadPoints } from '../runs/run-view';
+import type { PendingRunEvent } from './run-events';
+import { sortedReadPoints } from './run-view';
 import { batchAt, batchesAfter, firstInBand, socketSamples, toClockSample } from './telemetry-reads';
 
 /** A missing seq is waited for this long (it may still arrive from the rig's outbox) before it is skipped. */
@@ -30,7 +30,7 @@ export const GAP_WAIT_MS = 30_000;
 /** Batches read per accrual step. */
 export const ACCRUAL_CHUNK = 500;
 
-type PendingEvent = RunEvent extends infer E ? (E extends RunEvent ? Omit<E, 'at'> & { at?: string } : never) : never;
+type PendingEvent = PendingRunEvent;
 
 export interface EngineDeps {
   audit: AuditService;

@@ -1,0 +1,117 @@
+/**
+ * The composition root: the one place the API process's services are built and handed their
+ * dependencies. main.ts, tests/support/api.ts and the broker tests all call `createContext`;
+ * tests pass overrides (clock, mail retry options) instead of swapping services afterwards.
+ *
+ * The request-side services are built here, eagerly and once. The live parts (MQTT link, ingest,
+ * protection monitor, scheduler) exist only while the background features run (features.ts): they
+ * are typed slots, set by their start function and cleared by its stop.
+ */
+import { Passport } from 'passport';
+import type { DataSource } from 'typeorm';
+import type { ServerConfig } from './config';
+import type { AppContext } from './context';
+import { createEventBus } from './events';
+import { AnalyticsService } from './modules/analytics/analytics.service';
+import { AlarmsService } from './modules/alarms/alarms.service';
+import { AuditService } from './modules/audit/audit.service';
+import { AuthService } from './modules/auth/auth.service';
+import { DeviceTypesService } from './modules/device-types/device-types.service';
+import { EvidenceService } from './modules/evidence/evidence.service';
+import { FloorService } from './modules/floor/floor.service';
+import { FloorStream } from './modules/floor/floor.stream';
+import { LotsService } from './modules/lots/lots.service';
+import { MailService, type MailServiceOptions } from './modules/mail/mail.service';
+import { MeasurementsService } from './modules/measurements/measurements.service';
+import { NotificationsService } from './modules/notifications/notifications.service';
+import { PlansService } from './modules/plans/plans.service';
+import type { ProtectionMonitor } from './modules/protection/protection.monitor';
+import { RigsService } from './modules/rigs/rigs.service';
+import { RunsService } from './modules/runs/runs.service';
+import type { RunScheduler } from './modules/scheduler/scheduler';
+import type { RigLink } from './modules/telemetry/contracts';
+import type { TelemetryIngest } from './modules/telemetry/ingest';
+import { TelemetryService } from './modules/telemetry/telemetry.service';
+import { UsersService } from './modules/users/users.service';
+
+/** Every service of the API process. */
+export interface Services {
+  /** One passport per app (not the process-wide default), so two apps in one process never share strategies. */
+  passport: InstanceType<typeof Passport>;
+  auth: AuthService;
+  users: UsersService;
+  deviceTypes: DeviceTypesService;
+  lots: LotsService;
+  plans: PlansService;
+  measurements: MeasurementsService;
+  analytics: AnalyticsService;
+  evidence: EvidenceService;
+  runs: RunsService;
+  rigs: RigsService;
+  floor: FloorService;
+  floorStream: FloorStream;
+  telemetry: TelemetryService;
+  alarms: AlarmsService;
+  notifications: NotificationsService;
+  /** Replaced (typed) when protection starts with its own retry options (protection/start.ts). */
+  mail: MailService;
+  /** Live parts: set while the background features run, undefined otherwise (or a test's fake link). */
+  rigLink: RigLink | undefined;
+  telemetryIngest: TelemetryIngest | undefined;
+  protection: ProtectionMonitor | undefined;
+  scheduler: RunScheduler | undefined;
+}
+
+export interface CompositionOverrides {
+  /** The wall clock (tests may also assign ctx.now later: every service reads it through ctx). */
+  now?: () => Date;
+  /** Retry and timeout options of the mail service. */
+  mail?: MailServiceOptions;
+}
+
+export function createContext(ds: DataSource, config: ServerConfig, overrides: CompositionOverrides = {}): AppContext {
+  const closers: Array<() => Promise<void> | void> = [];
+  const ctx: AppContext = {
+    ds,
+    config,
+    audit: new AuditService(ds),
+    events: createEventBus(),
+    now: overrides.now ?? (() => new Date()),
+    services: undefined as never, // assigned right below, before anything can read it
+    onClose: (fn) => void closers.push(fn),
+    close: async () => {
+      for (const fn of closers.splice(0).reverse()) await fn();
+    },
+  };
+  ctx.services = createServices(ctx, overrides);
+  return ctx;
+}
+
+function createServices(ctx: AppContext, overrides: CompositionOverrides): Services {
+  const now = () => ctx.now();
+  const floor = new FloorService(ctx);
+  const mail = new MailService(ctx, overrides.mail);
+  return {
+    passport: new Passport(),
+    auth: new AuthService(ctx.ds, ctx.audit, now),
+    users: new UsersService(ctx.ds, ctx.audit),
+    deviceTypes: new DeviceTypesService(ctx.ds, ctx.audit),
+    lots: new LotsService(ctx.ds, ctx.audit),
+    plans: new PlansService(ctx.ds, ctx.audit, now),
+    measurements: new MeasurementsService(ctx.ds, ctx.audit, now),
+    analytics: new AnalyticsService(ctx.ds),
+    evidence: new EvidenceService(ctx.ds, ctx.audit, now),
+    runs: new RunsService(ctx),
+    rigs: new RigsService(ctx),
+    floor,
+    floorStream: new FloorStream(ctx, floor),
+    telemetry: new TelemetryService(ctx),
+    alarms: new AlarmsService(ctx),
+    notifications: new NotificationsService(ctx),
+    mail,
+    rigLink: undefined,
+    telemetryIngest: undefined,
+    protection: undefined,
+    scheduler: undefined,
+  };
+}
