@@ -87,7 +87,11 @@ async function main(): Promise<number> {
     // The machine may be shared: its load before and after the run says how much.
     loadAverageAtStart: loadAtStart,
     loadAverageAtEnd: os.loadavg().map((x) => Math.round(x * 100) / 100),
-    postgres: { port: SETTINGS.ports.pg, durable: true, note: 'fsync and synchronous_commit on; both ingest and COPY baseline on this cluster' },
+    postgres: {
+      port: SETTINGS.ports.pg,
+      durable: true,
+      note: 'fsync and synchronous_commit on; both ingest and COPY baseline on this cluster',
+    },
   };
   fs.mkdirSync(RESULTS_DIR, { recursive: true });
   const line = JSON.stringify(result);

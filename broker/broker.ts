@@ -129,7 +129,9 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
       const gate = throttle?.begin(user, pass, address);
       if (gate && !gate.ok) {
         counters.throttledConnects++;
-        log(`refused connect: too many failed sign-ins for ${gate.key === 'name' ? `user "${user}"` : `address ${address}`}; retry in ${Math.ceil(gate.retryAfterMs / 1000)} s`);
+        log(
+          `refused connect: too many failed sign-ins for ${gate.key === 'name' ? `user "${user}"` : `address ${address}`}; retry in ${Math.ceil(gate.retryAfterMs / 1000)} s`,
+        );
         return done(authError('Too many failed sign-ins; try again later', 5), null);
       }
       const settle = (success: boolean) => (gate?.ok ? gate.done(success) : undefined);
@@ -141,10 +143,7 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
             log(`refused connect: bad credentials for user "${user}"`);
             return done(authError('Bad user name or password', 4), null);
           }
-          const idOk =
-            principal.kind === 'rig'
-              ? isRigClientIdFor(client.id, principal.rigCode)
-              : !client.id.startsWith('rig-');
+          const idOk = principal.kind === 'rig' ? isRigClientIdFor(client.id, principal.rigCode) : !client.id.startsWith('rig-');
           if (!idOk) {
             counters.authFailures++;
             log(`refused connect: client id "${client.id}" not allowed for user "${user}"`);

@@ -37,9 +37,7 @@ async function main(): Promise<void> {
     authenticate: createPgAuthenticate({ pool, server: { username: serverUser, password: serverPassword } }),
     log: verbose ? (line) => console.log(`[broker] ${line}`) : undefined,
   });
-  console.log(
-    `[broker] Emberlot MQTT broker listening on mqtt://${host}:${eb.port} (database ${db.host}:${db.port}/${db.database})`,
-  );
+  console.log(`[broker] Emberlot MQTT broker listening on mqtt://${host}:${eb.port} (database ${db.host}:${db.port}/${db.database})`);
 
   let stopping = false;
   const stop = async (signal: string) => {

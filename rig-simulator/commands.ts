@@ -43,7 +43,8 @@ export function applyCommand(state: RigState, cmd: Exclude<RigCommand, { type: '
       }
       const set = cmd.sockets === 'all' ? 'all' : new Set(cmd.sockets);
       if (cmd.icA !== undefined) {
-        if (cmd.iA !== undefined) return { state, ok: false, error: 'give iA (forced base current) or icA (regulated collector current), not both' };
+        if (cmd.iA !== undefined)
+          return { state, ok: false, error: 'give iA (forced base current) or icA (regulated collector current), not both' };
         const reverse = state.sockets.filter((s) => (set === 'all' || set.has(s.i)) && s.mode !== 'powered').map((s) => s.i);
         if (reverse.length) return { state, ok: false, error: `icA needs powered bias; socket ${reverse.join(', ')} is reverse-biased` };
       }

@@ -13,9 +13,15 @@ import { createRigFleet, type RigConfig } from './rig';
 const faultsSchema = z
   .object({
     poorHeatSink: z
-      .object({ sockets: z.array(z.number().int().min(0)), thetaCaCPerW: z.number().positive().optional(), rampCPerWPerH: z.number().min(0).optional() })
+      .object({
+        sockets: z.array(z.number().int().min(0)),
+        thetaCaCPerW: z.number().positive().optional(),
+        rampCPerWPerH: z.number().min(0).optional(),
+      })
       .optional(),
-    dropOff: z.object({ afterWallS: z.number().min(0), forWallS: z.number().positive(), everyWallS: z.number().positive().optional() }).optional(),
+    dropOff: z
+      .object({ afterWallS: z.number().min(0), forWallS: z.number().positive(), everyWallS: z.number().positive().optional() })
+      .optional(),
     noise: z.object({ tempC: z.number().min(0).optional(), currentPct: z.number().min(0).optional() }).optional(),
     malformedRate: z.number().min(0).max(1).optional(),
     clockJump: z.object({ everySamples: z.number().int().positive(), jumpS: z.number() }).optional(),
@@ -141,7 +147,10 @@ async function main(): Promise<void> {
   );
   const summary = setInterval(() => {
     const line = fleet.rigs
-      .map((r) => `${r.rigCode}${r.connected ? '' : '(offline)'} seq ${r.lastSeq()} unconfirmed ${r.outbox.size}${r.stats.outboxOverflow ? ` OVERFLOW ${r.stats.outboxOverflow}` : ''}`)
+      .map(
+        (r) =>
+          `${r.rigCode}${r.connected ? '' : '(offline)'} seq ${r.lastSeq()} unconfirmed ${r.outbox.size}${r.stats.outboxOverflow ? ` OVERFLOW ${r.stats.outboxOverflow}` : ''}`,
+      )
       .join(' | ');
     console.log(`[rig-simulator] ${line}`);
   }, 30_000);

@@ -347,7 +347,7 @@ export function createRigState(setup: RigSetup): RigState {
         biasOn: s.biasOn ?? false,
         vV: s.vV ?? (mode === 'powered' ? DEFAULTS.poweredVceV : DEFAULTS.reverseV),
         ibA: s.ibA ?? DEFAULTS.poweredIbA,
-        icSetA: mode === 'powered' ? s.icA ?? null : null,
+        icSetA: mode === 'powered' ? (s.icA ?? null) : null,
         complianceA: s.complianceA ?? DEFAULTS.complianceA,
         tripped: false,
         tripReason: null,

@@ -41,13 +41,20 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
   const rigs: Array<{ id: string; code: string; socket_count: number; humidity_capable: boolean; max_temp_c: number }> = await ds.query(
     `SELECT id, code, socket_count, humidity_capable, max_temp_c FROM rigs WHERE active ORDER BY code`,
   );
-  const runs: Array<{ id: string; rig_id: string; state: string; kind: string; chamber_c: number; humidity_pct: number | null; bias: Partial<Bias> | null }> =
-    await ds.query(
-      `SELECT r.id, r.rig_id, r.state, p.kind, p.chamber_c, p.humidity_pct, p.bias
+  const runs: Array<{
+    id: string;
+    rig_id: string;
+    state: string;
+    kind: string;
+    chamber_c: number;
+    humidity_pct: number | null;
+    bias: Partial<Bias> | null;
+  }> = await ds.query(
+    `SELECT r.id, r.rig_id, r.state, p.kind, p.chamber_c, p.humidity_pct, p.bias
          FROM runs r JOIN stress_plans p ON p.id = r.plan_id
         WHERE r.rig_id IS NOT NULL AND r.state = ANY($1) ORDER BY r.created_at`,
-      [ON_RIG_STATES],
-    );
+    [ON_RIG_STATES],
+  );
   let faultPlaced = false;
   let loaded = 0;
   const fleet = {
@@ -109,7 +116,7 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
       chamberC: stressing ? run.chamber_c : 25,
       setpointC: stressing ? run.chamber_c : 25,
       humidityPct: run.humidity_pct,
-      vV: reverse ? bias.vcbV ?? 0 : bias.vceV ?? 0,
+      vV: reverse ? (bias.vcbV ?? 0) : (bias.vceV ?? 0),
       // Powered: the plan's forced IB, or the collector current the rig regulates (icA).
       ...(reverse ? { iA: 0.001 } : bias.icA ? { icA: bias.icA } : { iA: bias.ibA ?? 0.001 }),
     };

@@ -38,7 +38,8 @@ function nameOf(node: ts.Node, sf: ts.SourceFile): string {
   const named = node as ts.Node & { name?: ts.Node };
   if (named.name) {
     const own = named.name.getText(sf);
-    const cls = ts.isClassElement(node) && node.parent && ts.isClassLike(node.parent) && node.parent.name ? `${node.parent.name.getText(sf)}.` : '';
+    const cls =
+      ts.isClassElement(node) && node.parent && ts.isClassLike(node.parent) && node.parent.name ? `${node.parent.name.getText(sf)}.` : '';
     return cls + own;
   }
   if (ts.isConstructorDeclaration(node)) return `${(node.parent as ts.ClassLikeDeclaration).name?.getText(sf) ?? '(class)'}.constructor`;

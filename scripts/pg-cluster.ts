@@ -73,9 +73,7 @@ export function ensurePostgresInstalled(): string {
   let bin = findPgBin();
   if (bin) return bin;
   if (!isRoot()) {
-    throw new Error(
-      "PostgreSQL's server binaries are missing. Install Debian's package first: sudo apt-get install -y postgresql",
-    );
+    throw new Error("PostgreSQL's server binaries are missing. Install Debian's package first: sudo apt-get install -y postgresql");
   }
   console.log('[pg] installing Debian package postgresql (one time)…');
   execFileSync('apt-get', ['update'], { stdio: 'inherit' });
@@ -97,8 +95,7 @@ function traversableBy(dir: string, uid: number, gid: number): boolean {
   for (;;) {
     if (fs.existsSync(cur)) {
       const st = fs.statSync(cur);
-      const ok =
-        st.uid === uid ? (st.mode & 0o100) !== 0 : st.gid === gid ? (st.mode & 0o010) !== 0 : (st.mode & 0o001) !== 0;
+      const ok = st.uid === uid ? (st.mode & 0o100) !== 0 : st.gid === gid ? (st.mode & 0o010) !== 0 : (st.mode & 0o001) !== 0;
       if (!ok) return false;
     }
     const parent = path.dirname(cur);
@@ -233,8 +230,20 @@ export function startCluster(opts: ClusterOptions): ClusterInfo {
     chownTree(pwFile, runAs);
     try {
       run(runAs, path.join(bin, 'initdb'), [
-        '-D', dataDir, '-U', DB_USER, '--pwfile', pwFile, '-E', 'UTF8', '--locale', 'C',
-        '--auth-local', 'trust', '--auth-host', 'scram-sha-256',
+        '-D',
+        dataDir,
+        '-U',
+        DB_USER,
+        '--pwfile',
+        pwFile,
+        '-E',
+        'UTF8',
+        '--locale',
+        'C',
+        '--auth-local',
+        'trust',
+        '--auth-host',
+        'scram-sha-256',
       ]);
     } finally {
       fs.rmSync(pwFile, { force: true });
@@ -266,9 +275,14 @@ export function startCluster(opts: ClusterOptions): ClusterInfo {
  */
 function setRolePassword(bin: string, runAs: RunAs, socketDir: string, port: number, password: string): void {
   const literal = `'${password.replace(/'/g, "''")}'`;
-  run(runAs, path.join(bin, 'psql'), ['-X', '-q', '-v', 'ON_ERROR_STOP=1', '-h', socketDir, '-p', String(port), '-U', DB_USER, '-d', 'postgres'], {
-    input: `SET log_statement = 'none';\nALTER ROLE ${DB_USER} PASSWORD ${literal};\n`,
-  });
+  run(
+    runAs,
+    path.join(bin, 'psql'),
+    ['-X', '-q', '-v', 'ON_ERROR_STOP=1', '-h', socketDir, '-p', String(port), '-U', DB_USER, '-d', 'postgres'],
+    {
+      input: `SET log_statement = 'none';\nALTER ROLE ${DB_USER} PASSWORD ${literal};\n`,
+    },
+  );
 }
 
 export function stopCluster(opts: ClusterOptions): void {

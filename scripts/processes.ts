@@ -29,7 +29,11 @@ const ALL: ProcessSpec[] = [
   },
   // A smaller old-space lets V8 collect before the heap balloons under ingest (bench/README.md:
   // live heap ~110 MB, but ~350 MB between collections at full ingest rate).
-  { name: 'api', command: [process.execPath, '--max-old-space-size=384', '--max-semi-space-size=32', '-r', '@swc-node/register', 'server/main.ts'], waitFor: /listening on/ },
+  {
+    name: 'api',
+    command: [process.execPath, '--max-old-space-size=384', '--max-semi-space-size=32', '-r', '@swc-node/register', 'server/main.ts'],
+    waitFor: /listening on/,
+  },
   {
     name: 'rigs',
     command: [...ts('rig-simulator/main.ts')],

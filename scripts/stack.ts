@@ -46,7 +46,11 @@ export async function startStack(opts: StackOptions): Promise<Stack> {
       });
       if (opts.echo !== false) {
         const out = (w: (s: string) => void) => (b: Buffer) =>
-          b.toString().split('\n').filter(Boolean).forEach((l) => w(`[${spec.name}] ${l}`));
+          b
+            .toString()
+            .split('\n')
+            .filter(Boolean)
+            .forEach((l) => w(`[${spec.name}] ${l}`));
         child.stdout!.on('data', out(console.log));
         child.stderr!.on('data', out(console.error));
       } else {

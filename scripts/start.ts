@@ -86,7 +86,8 @@ ${DEMO_USERS.map((u) => `    ${u.role.padEnd(9)} ${u.email.padEnd(34)} ${u.passw
 function describeSecrets(s: ResolvedSecrets): string {
   const fileNames = [...s.generated, ...s.fromFile];
   if (!fileNames.length) return 'all from the environment.';
-  const what = s.generated.length === fileNames.length ? 'generated now' : s.generated.length ? 'some generated now' : 'generated on first start';
+  const what =
+    s.generated.length === fileNames.length ? 'generated now' : s.generated.length ? 'some generated now' : 'generated on first start';
   return `${s.file} (${what}; owner-only, mode 600)${s.fromEnv.length ? `; from the environment: ${s.fromEnv.map((n) => SECRET_ENV[n]).join(', ')}` : ''}.
   It holds the session secret, the broker's server-account password and the database password
   (those not given in the environment); for production set them in the environment instead

@@ -43,7 +43,11 @@ export function fontText(): string {
   const cps = sourceCharacters();
   for (const [a, b] of ranges) for (let c = a; c <= b; c++) cps.add(c);
   for (const c of singles) cps.add(c);
-  return [...cps].filter((c) => c >= 0x20).sort((a, b) => a - b).map((c) => String.fromCodePoint(c)).join('');
+  return [...cps]
+    .filter((c) => c >= 0x20)
+    .sort((a, b) => a - b)
+    .map((c) => String.fromCodePoint(c))
+    .join('');
 }
 
 async function main(): Promise<void> {
@@ -59,7 +63,8 @@ async function main(): Promise<void> {
   fs.copyFileSync(path.join(pkg, 'LICENSE_FONT'), path.join(FONT_DIR, 'LICENSE-Lexend-OFL.txt'));
 }
 
-if (require.main === module) main().catch((e) => {
-  console.error(e);
-  process.exit(1);
-});
+if (require.main === module)
+  main().catch((e) => {
+    console.error(e);
+    process.exit(1);
+  });

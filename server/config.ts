@@ -63,11 +63,15 @@ export function parseTrustProxy(value: string | undefined): TrustProxy {
       `EMBERLOT_TRUST_PROXY=${v} would trust X-Forwarded-For from any client, who could then pick its own address. Give the number of proxies in front of Emberlot (e.g. 1) or their addresses (e.g. loopback or 10.0.0.5).`,
     );
   }
-  const items = v.split(',').map((x) => x.trim()).filter(Boolean);
+  const items = v
+    .split(',')
+    .map((x) => x.trim())
+    .filter(Boolean);
   for (const item of items) {
     const [addr, bits, ...rest] = item.split('/');
     const family = net.isIP(addr);
-    const ok = PROXY_RANGE_NAMES.has(item) ||
+    const ok =
+      PROXY_RANGE_NAMES.has(item) ||
       (family !== 0 && rest.length === 0 && (bits === undefined || (/^\d+$/.test(bits) && Number(bits) <= (family === 4 ? 32 : 128))));
     if (!ok) {
       throw new ConfigError(
@@ -81,7 +85,10 @@ export function parseTrustProxy(value: string | undefined): TrustProxy {
 /** EMBERLOT_PUBLIC_ORIGIN: comma list of http(s) origins the app is reached under (behind a proxy that rewrites Host). */
 export function parsePublicOrigins(value: string | undefined): string[] {
   const out: string[] = [];
-  for (const item of (value ?? '').split(',').map((x) => x.trim()).filter(Boolean)) {
+  for (const item of (value ?? '')
+    .split(',')
+    .map((x) => x.trim())
+    .filter(Boolean)) {
     let u: URL | null;
     try {
       u = new URL(item);
@@ -89,7 +96,9 @@ export function parsePublicOrigins(value: string | undefined): string[] {
       u = null;
     }
     if (!u || (u.protocol !== 'http:' && u.protocol !== 'https:') || u.pathname !== '/' || u.search || u.hash) {
-      throw new ConfigError(`EMBERLOT_PUBLIC_ORIGIN: "${item}" is not an origin like https://emberlot.lab.example (scheme, host and port only).`);
+      throw new ConfigError(
+        `EMBERLOT_PUBLIC_ORIGIN: "${item}" is not an origin like https://emberlot.lab.example (scheme, host and port only).`,
+      );
     }
     out.push(u.origin.toLowerCase());
   }
@@ -97,7 +106,6 @@ export function parsePublicOrigins(value: string | undefined): string[] {
 }
 
 const int = (v: string | undefined, d: number) => (v && /^\d+$/.test(v) ? Number(v) : d);
-
 
 export function dbConfigFromEnv(env: Env = process.env): DbConfig {
   return {

@@ -10,7 +10,13 @@ import { startScheduler } from './modules/scheduler/scheduler';
  */
 export async function startFeatures(ctx: AppContext): Promise<() => Promise<void>> {
   const stops: Array<() => Promise<void> | void> = [];
-  stops.push(await startTelemetry(ctx, { rollupFlushMs: ctx.config.rollupFlushMs, maxBatch: ctx.config.ingestMaxBatch, maxInFlight: ctx.config.ingestInFlight })); // first: the others use ctx.services.rigLink
+  stops.push(
+    await startTelemetry(ctx, {
+      rollupFlushMs: ctx.config.rollupFlushMs,
+      maxBatch: ctx.config.ingestMaxBatch,
+      maxInFlight: ctx.config.ingestInFlight,
+    }),
+  ); // first: the others use ctx.services.rigLink
   stops.push(await startProtection(ctx)); // live protection, alarms, notifications, e-mail
   stops.push(startScheduler(ctx)); // runs: heating, accrual, read points, cooling (node-cron, every second)
   return async () => {

@@ -140,7 +140,11 @@ function basePlan(d: Device) {
 const commonRules: TemplateRule[] = [
   { label: 'Read points', value: TEMPLATE_READ_POINTS_H.join(' / ') + ' h', source: SOURCES.readPoints },
   { label: 'Failure criteria', value: 'hFE ±15 %, ICBO ≤ 2× initial or 200 nA, VCE(sat) shift ≤ 50 mV', source: SOURCES.criteria },
-  { label: 'Activation energy', value: `${DEFAULT_EA_EV} eV, use temperature ${DEFAULT_USE_C} °C`, source: `${SOURCES.ea} (use temperature: ${SOURCES.ours})` },
+  {
+    label: 'Activation energy',
+    value: `${DEFAULT_EA_EV} eV, use temperature ${DEFAULT_USE_C} °C`,
+    source: `${SOURCES.ea} (use temperature: ${SOURCES.ours})`,
+  },
 ];
 
 function notesFor(title: string, sources: string[]): string {
@@ -155,10 +159,19 @@ function htrb(d?: Device): PlanTemplate {
     'driven by ions moving under the field.';
   if (!d) {
     return {
-      key: 'htrb', kind: 'htrb', title: 'HTRB at Tj max, 80 % VCBO, 1000 h (JESD22-A108)', summary, sources, plan: null,
+      key: 'htrb',
+      kind: 'htrb',
+      title: 'HTRB at Tj max, 80 % VCBO, 1000 h (JESD22-A108)',
+      summary,
+      sources,
+      plan: null,
       rules: [
         { label: 'VCB', value: '80 % of the rated BVCBO', source: SOURCES.htrb },
-        { label: 'Chamber', value: `Tj max less the +${CHAMBER_TOLERANCE_PCT} % chamber band`, source: `${SOURCES.htrb} Tj at rated max; band ${SOURCES.chamberBand}` },
+        {
+          label: 'Chamber',
+          value: `Tj max less the +${CHAMBER_TOLERANCE_PCT} % chamber band`,
+          source: `${SOURCES.htrb} Tj at rated max; band ${SOURCES.chamberBand}`,
+        },
         { label: 'Sample', value: `${HTRB_SAMPLE.n} per lot, accept ${HTRB_SAMPLE.c} (3 lots for a qualification)`, source: SOURCES.htrb },
         ...commonRules,
       ],
@@ -180,7 +193,12 @@ function htrb(d?: Device): PlanTemplate {
     notes: notesFor(title, sources),
   };
   return {
-    key: 'htrb', kind: 'htrb', title, summary, sources, plan,
+    key: 'htrb',
+    kind: 'htrb',
+    title,
+    summary,
+    sources,
+    plan,
     rules: [
       { label: 'VCB', value: `${sig(vcbV)} V = 80 % of BVCBO ${sig(d.bvcboV)} V`, source: SOURCES.htrb },
       {
@@ -202,9 +220,18 @@ function hotl(d?: Device): PlanTemplate {
     'to near its rating. It ages the die attach, bond wires and metallisation under real current, as in use.';
   if (!d) {
     return {
-      key: 'hotl', kind: 'hotl', title: 'Powered operating life near Tj max, 1000 h (MIL-PRF-19500 group C)', summary, sources, plan: null,
+      key: 'hotl',
+      kind: 'hotl',
+      title: 'Powered operating life near Tj max, 1000 h (MIL-PRF-19500 group C)',
+      summary,
+      sources,
+      plan: null,
       rules: [
-        { label: 'Junction', value: `Tj max less ${POWERED_TJ_MARGIN_C} °C, by self-heating from a ${POWERED_AMBIENT_C} °C ambient`, source: `${SOURCES.hotl} Tj ≥ rated; margin ${SOURCES.ours}` },
+        {
+          label: 'Junction',
+          value: `Tj max less ${POWERED_TJ_MARGIN_C} °C, by self-heating from a ${POWERED_AMBIENT_C} °C ambient`,
+          source: `${SOURCES.hotl} Tj ≥ rated; margin ${SOURCES.ours}`,
+        },
         { label: 'VCE', value: `${POWERED_VCE_V} V, or 80 % of BVCEO if lower`, source: `${SOURCES.hotl} VCB 10–30 V` },
         { label: 'Sample', value: `${HOTL_SAMPLE.n}, accept ${HOTL_SAMPLE.c}`, source: SOURCES.hotl },
         ...commonRules,
@@ -230,7 +257,12 @@ function hotl(d?: Device): PlanTemplate {
     notes: notesFor(title, sources),
   };
   return {
-    key: 'hotl', kind: 'hotl', title, summary, sources, plan,
+    key: 'hotl',
+    kind: 'hotl',
+    title,
+    summary,
+    sources,
+    plan,
     rules: [
       {
         label: 'Dissipation',
@@ -258,15 +290,32 @@ function iol(d?: Device): PlanTemplate {
     'or more every cycle. It fatigues the die attach and bond wires through repeated expansion.';
   const cycleH = (IOL_ON_MIN + IOL_OFF_MIN) / 60;
   const baseRules: TemplateRule[] = [
-    { label: 'Cycle', value: `${IOL_ON_MIN} min on, ${IOL_OFF_MIN} min off (on-time = off-time)`, source: `${SOURCES.iol}; ${IOL_ON_MIN} min ${SOURCES.ours}` },
+    {
+      label: 'Cycle',
+      value: `${IOL_ON_MIN} min on, ${IOL_OFF_MIN} min off (on-time = off-time)`,
+      source: `${SOURCES.iol}; ${IOL_ON_MIN} min ${SOURCES.ours}`,
+    },
     { label: 'Junction swing', value: `ΔTj ${IOL_DELTA_TJ_C} °C for ${grouped(IOL_CYCLES)} cycles`, source: SOURCES.iol },
-    { label: 'Duration', value: `${grouped(IOL_CYCLES)} cycles × ${IOL_ON_MIN + IOL_OFF_MIN} min = ${sig(IOL_CYCLES * cycleH)} h`, source: SOURCES.ours },
+    {
+      label: 'Duration',
+      value: `${grouped(IOL_CYCLES)} cycles × ${IOL_ON_MIN + IOL_OFF_MIN} min = ${sig(IOL_CYCLES * cycleH)} h`,
+      source: SOURCES.ours,
+    },
     { label: 'Sample', value: `${IOL_SAMPLE.n} per lot, accept ${IOL_SAMPLE.c}`, source: SOURCES.aecSampleMemory },
   ];
   if (!d) {
     return {
-      key: 'iol', kind: 'iol', title: 'Intermittent operating life, ΔTj 100 °C, 15,000 cycles (MIL-STD-750 M1037)', summary, sources, plan: null,
-      rules: [...baseRules, { label: 'Dissipation (on)', value: 'ΔTj / θja, collector current regulated', source: SOURCES.ours }, ...commonRules],
+      key: 'iol',
+      kind: 'iol',
+      title: 'Intermittent operating life, ΔTj 100 °C, 15,000 cycles (MIL-STD-750 M1037)',
+      summary,
+      sources,
+      plan: null,
+      rules: [
+        ...baseRules,
+        { label: 'Dissipation (on)', value: 'ΔTj / θja, collector current regulated', source: SOURCES.ours },
+        ...commonRules,
+      ],
     };
   }
   const chamberC = POWERED_AMBIENT_C;
@@ -288,7 +337,12 @@ function iol(d?: Device): PlanTemplate {
     notes: notesFor(title, sources),
   };
   return {
-    key: 'iol', kind: 'iol', title, summary, sources, plan,
+    key: 'iol',
+    kind: 'iol',
+    title,
+    summary,
+    sources,
+    plan,
     rules: [
       ...baseRules,
       {
@@ -311,7 +365,12 @@ function thb(d?: Device): PlanTemplate {
   const rhRule: TemplateRule = { label: 'Chamber', value: `${THB_CHAMBER_C} °C / ${THB_RH_PCT} % RH`, source: SOURCES.thb };
   if (!d) {
     return {
-      key: 'thb', kind: 'thb', title: 'THB 85 °C / 85 % RH, 80 % VCBO, 1000 h (JESD22-A101)', summary, sources, plan: null,
+      key: 'thb',
+      kind: 'thb',
+      title: 'THB 85 °C / 85 % RH, 80 % VCBO, 1000 h (JESD22-A101)',
+      summary,
+      sources,
+      plan: null,
       rules: [
         rhRule,
         { label: 'VCB', value: '80 % of the rated reverse voltage (BVCBO)', source: SOURCES.thb },
@@ -335,7 +394,12 @@ function thb(d?: Device): PlanTemplate {
     notes: notesFor(title, sources),
   };
   return {
-    key: 'thb', kind: 'thb', title, summary, sources, plan,
+    key: 'thb',
+    kind: 'thb',
+    title,
+    summary,
+    sources,
+    plan,
     rules: [
       rhRule,
       { label: 'VCB', value: `${sig(vcbV)} V = 80 % of BVCBO ${sig(d.bvcboV)} V`, source: SOURCES.thb },

@@ -13,7 +13,15 @@ import { configFromEnv } from '../../server/config';
 import { createDataSource } from '../../server/db/data-source';
 import { pgPool } from '../../server/db/pool';
 import { SEED_STEPS } from '../../server/seed/seed';
-import { destroyCluster, ensureDatabase, PROJECT_ROOT, startCluster, stopCluster, type ClusterInfo, type ClusterOptions } from '../../scripts/pg-cluster';
+import {
+  destroyCluster,
+  ensureDatabase,
+  PROJECT_ROOT,
+  startCluster,
+  stopCluster,
+  type ClusterInfo,
+  type ClusterOptions,
+} from '../../scripts/pg-cluster';
 import { PROCESSES } from '../../scripts/processes';
 import { startStack, type Stack } from '../../scripts/stack';
 import { ensureWebExport, WEB_DIR } from '../../scripts/web-export';
@@ -57,7 +65,8 @@ export function clusterOptions(): ClusterOptions {
 async function preallocateWal(pool: Pool): Promise<number> {
   const client = await pool.connect();
   try {
-    for (let i = 0; i < WAL_SEGMENTS_READY; i++) await client.query(`SELECT pg_logical_emit_message(false, 'emberlot-bench', 'wal'), pg_switch_wal()`);
+    for (let i = 0; i < WAL_SEGMENTS_READY; i++)
+      await client.query(`SELECT pg_logical_emit_message(false, 'emberlot-bench', 'wal'), pg_switch_wal()`);
     await client.query('CHECKPOINT');
     const { rows } = await client.query<{ n: number }>('SELECT count(*)::int AS n FROM pg_ls_waldir()');
     return rows[0].n;
@@ -104,7 +113,9 @@ export async function prepareDatabase(log: (l: string) => void): Promise<BenchEn
   for (const step of SEED_STEPS.filter((s) => BASE_SEED.includes(s.name))) await step.run(ds);
   const pool = pgPool(ds);
   const walSegments = await preallocateWal(pool);
-  log(`PostgreSQL "bench" on 127.0.0.1:${SETTINGS.ports.pg} (fresh cluster, durable settings, ${walSegments} WAL segment files ready), schema and base seed in ${((Date.now() - t0) / 1000).toFixed(1)} s`);
+  log(
+    `PostgreSQL "bench" on 127.0.0.1:${SETTINGS.ports.pg} (fresh cluster, durable settings, ${walSegments} WAL segment files ready), schema and base seed in ${((Date.now() - t0) / 1000).toFixed(1)} s`,
+  );
   return {
     cluster,
     clusterOpts,
@@ -131,7 +142,8 @@ export async function startProcesses(b: BenchEnv, log: (l: string) => void): Pro
   }
   if (process.env.EMBERLOT_BENCH_NODE_FLAGS) flags.push(...process.env.EMBERLOT_BENCH_NODE_FLAGS.split(' ').filter(Boolean));
   for (const spec of PROCESSES) {
-    if ((spec.name === 'api' || spec.name === 'broker') && flags.length && !spec.command.includes(flags[0])) spec.command.splice(1, 0, ...flags);
+    if ((spec.name === 'api' || spec.name === 'broker') && flags.length && !spec.command.includes(flags[0]))
+      spec.command.splice(1, 0, ...flags);
   }
   b.stack = await startStack({
     env,
@@ -143,7 +155,11 @@ export async function startProcesses(b: BenchEnv, log: (l: string) => void): Pro
     },
   });
   for (const { spec, child } of b.stack.children) if (child.pid) b.pids[spec.name] = child.pid;
-  log(`processes up in ${((Date.now() - t0) / 1000).toFixed(1)} s: ${Object.entries(b.pids).map(([n, p]) => `${n} (pid ${p})`).join(', ')}`);
+  log(
+    `processes up in ${((Date.now() - t0) / 1000).toFixed(1)} s: ${Object.entries(b.pids)
+      .map(([n, p]) => `${n} (pid ${p})`)
+      .join(', ')}`,
+  );
 }
 
 export async function teardown(b: BenchEnv | null): Promise<void> {

@@ -10,7 +10,11 @@ export interface HttpResult {
   headers: http.IncomingHttpHeaders;
 }
 
-export function request(method: string, url: string, opts: { cookie?: string; json?: unknown; timeoutMs?: number } = {}): Promise<HttpResult> {
+export function request(
+  method: string,
+  url: string,
+  opts: { cookie?: string; json?: unknown; timeoutMs?: number } = {},
+): Promise<HttpResult> {
   const u = new URL(url);
   const payload = opts.json === undefined ? undefined : Buffer.from(JSON.stringify(opts.json));
   return new Promise((resolve, reject) => {

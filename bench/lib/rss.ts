@@ -15,7 +15,10 @@ export class RssSampler {
   /** Peak kB per name since the last mark(). */
   private peaks = new Map<string, number>();
 
-  constructor(private readonly pids: Record<string, number>, private readonly everyMs = 200) {}
+  constructor(
+    private readonly pids: Record<string, number>,
+    private readonly everyMs = 200,
+  ) {}
 
   start(): void {
     if (this.timer) return;

@@ -18,8 +18,13 @@ export type ScenarioName = (typeof SCENARIOS)[number];
 function scenarioList(): ScenarioName[] {
   const raw = process.env.EMBERLOT_BENCH_SCENARIOS;
   if (!raw) return [...SCENARIOS];
-  const list = raw.split(',').map((s) => s.trim()).filter(Boolean);
-  for (const s of list) if (!SCENARIOS.includes(s as ScenarioName)) throw new Error(`EMBERLOT_BENCH_SCENARIOS: unknown scenario "${s}" (known: ${SCENARIOS.join(', ')})`);
+  const list = raw
+    .split(',')
+    .map((s) => s.trim())
+    .filter(Boolean);
+  for (const s of list)
+    if (!SCENARIOS.includes(s as ScenarioName))
+      throw new Error(`EMBERLOT_BENCH_SCENARIOS: unknown scenario "${s}" (known: ${SCENARIOS.join(', ')})`);
   return list as ScenarioName[];
 }
 

@@ -50,12 +50,16 @@ const H = 3600_000;
 
 async function seedLots(b: BenchEnv, lots: number, perLot: number, typeCount: number): Promise<string[]> {
   const m = b.ds.manager;
-  const types = (await m.find(DeviceTypeEntity, { order: { partNumber: 'ASC' } })).filter((t) => t.partNumber !== 'HPD-T220N').slice(0, Math.max(1, typeCount));
+  const types = (await m.find(DeviceTypeEntity, { order: { partNumber: 'ASC' } }))
+    .filter((t) => t.partNumber !== 'HPD-T220N')
+    .slice(0, Math.max(1, typeCount));
   const engineer = await m.findOne(UserEntity, { where: { role: 'engineer' } });
   // One 5-read-point plan per type, copied from the type's demo plan.
   const plans = new Map<string, StressPlanEntity>();
   for (const t of types) {
-    const base = (await m.find(StressPlanEntity, { where: { deviceTypeId: t.id, current: true }, order: { createdAt: 'ASC' } })).find((p) => !/draft/i.test(p.name));
+    const base = (await m.find(StressPlanEntity, { where: { deviceTypeId: t.id, current: true }, order: { createdAt: 'ASC' } })).find(
+      (p) => !/draft/i.test(p.name),
+    );
     if (!base) throw new Error(`no demo plan for ${t.partNumber}`);
     const { id: _id, createdAt: _c, ...rest } = base;
     const plan = await m.save(
@@ -80,14 +84,31 @@ async function seedLots(b: BenchEnv, lots: number, perLot: number, typeCount: nu
       for (let k = first; k < Math.min(lots, first + chunk); k++) {
         const type = types[k % types.length];
         const code = `BL-${String(k + 1).padStart(4, '0')}`;
-        const lot = await tm.save(tm.create(LotEntity, { code, deviceTypeId: type.id, quantity: 2000, dateCode: `26${String(1 + (k % 12)).padStart(2, '0')}`, notes: 'Bench lot' }));
+        const lot = await tm.save(
+          tm.create(LotEntity, {
+            code,
+            deviceTypeId: type.id,
+            quantity: 2000,
+            dateCode: `26${String(1 + (k % 12)).padStart(2, '0')}`,
+            notes: 'Bench lot',
+          }),
+        );
         const serials = Array.from({ length: perLot }, (_, i) => `S${String(i + 1).padStart(4, '0')}`);
-        const ins = await tm.insert(DeviceEntity, serials.map((serial) => ({ lotId: lot.id, serial })));
+        const ins = await tm.insert(
+          DeviceEntity,
+          serials.map((serial) => ({ lotId: lot.id, serial })),
+        );
         const devices = ins.identifiers.map((idf, i) => ({ id: idf.id as string, lotId: lot.id, serial: serials[i] }) as DeviceEntity);
         // Most lots drift a little; every 9th drifts hard (flagged against its sister lots).
         const hard = k % 9 === 4;
         const drift = { hfeDriftPctPer1000h: hard ? -14 : -1 - (k % 5) * 0.6, leakageGrowthPer1000h: hard ? 3.8 : 1.05 + (k % 4) * 0.08 };
-        const failures = k % 7 === 3 ? [{ serial: 'S0007', atH: 1000, mode: 'leakage' as const }, { serial: 'S0019', atH: 500, mode: 'gain' as const }] : undefined;
+        const failures =
+          k % 7 === 3
+            ? [
+                { serial: 'S0007', atH: 1000, mode: 'leakage' as const },
+                { serial: 'S0019', atH: 500, mode: 'gain' as const },
+              ]
+            : undefined;
         await insertHistoryRun(tm, {
           code: `BR-${String(k + 1).padStart(4, '0')}`,
           plan: plans.get(type.id)!,
@@ -163,7 +184,13 @@ async function seedHistoryRig(b: BenchEnv, messages: number): Promise<{ code: st
  * Sequential timed GETs, each right after `touch(k)` (untimed) changes what the request reads: `n`
  * of them, or fewer (at least 10) when they take over `budgetS`.
  */
-async function timeAfterTouch(n: number, touch: (k: number) => Promise<unknown>, url: (k: number) => string, cookie: string, budgetS: number): Promise<number[]> {
+async function timeAfterTouch(
+  n: number,
+  touch: (k: number) => Promise<unknown>,
+  url: (k: number) => string,
+  cookie: string,
+  budgetS: number,
+): Promise<number[]> {
   const ms: number[] = [];
   const until = Date.now() + budgetS * 1000;
   for (let k = 0; k < n && (k < 10 || Date.now() < until); k++) {
@@ -197,7 +224,9 @@ export async function runAnalytics(b: BenchEnv, log: (l: string) => void): Promi
               (SELECT count(*) FROM telemetry_samples) AS samples, (SELECT count(*) FROM telemetry_rollups) AS rollups`,
     )
   ).rows[0];
-  log(`  seeded ${a.lots} lots (${counts.readings} readings) in ${seedLotsS.toFixed(1)} s, history rig ${hist.samples} samples in ${seedHistoryS.toFixed(1)} s; telemetry_samples holds ${counts.samples} rows`);
+  log(
+    `  seeded ${a.lots} lots (${counts.readings} readings) in ${seedLotsS.toFixed(1)} s, history rig ${hist.samples} samples in ${seedHistoryS.toFixed(1)} s; telemetry_samples holds ${counts.samples} rows`,
+  );
 
   const mgr = DEMO_USERS.find((u) => u.role === 'manager')!;
   const cookie = await signIn(b.baseUrl, mgr.email, mgr.password);
@@ -211,7 +240,9 @@ export async function runAnalytics(b: BenchEnv, log: (l: string) => void): Promi
       [lotIds[k % lotIds.length]],
     );
   const touchRun = (k: number) =>
-    b.pool.query(`UPDATE runs SET stress_hours = stress_hours WHERE id IN (SELECT run_id FROM run_lots WHERE lot_id = $1)`, [lotIds[k % lotIds.length]]);
+    b.pool.query(`UPDATE runs SET stress_hours = stress_hours WHERE id IN (SELECT run_id FROM run_lots WHERE lot_id = $1)`, [
+      lotIds[k % lotIds.length],
+    ]);
   const cold = await timeAfterTouch(Math.min(a.requests, 20), touchMeasurement, lotUrl, cookie, a.budgetS);
   const runUpdate = await timeAfterTouch(Math.min(a.requests, 20), touchRun, lotUrl, cookie, a.budgetS);
   const span = `from=${encodeURIComponent(hist.from.toISOString())}&to=${encodeURIComponent(hist.to.toISOString())}&points=300`;
@@ -221,7 +252,10 @@ export async function runAnalytics(b: BenchEnv, log: (l: string) => void): Promi
   const rawFrom = new Date(hist.to.getTime() - 30 * 60_000);
   const rawUrl = `${b.baseUrl}/api/floor/rigs/${hist.code}/chart?from=${encodeURIComponent(rawFrom.toISOString())}&to=${encodeURIComponent(hist.to.toISOString())}&points=300`;
   const raw = await timeRequests(a.requests, () => rawUrl, cookie, a.budgetS);
-  const lotTypes = (await b.ds.getRepository(LotEntity).find({ where: { id: In(lotIds) } })).reduce((s, l) => s.add(l.deviceTypeId), new Set<string>()).size;
+  const lotTypes = (await b.ds.getRepository(LotEntity).find({ where: { id: In(lotIds) } })).reduce(
+    (s, l) => s.add(l.deviceTypeId),
+    new Set<string>(),
+  ).size;
   return {
     lots: lotIds.length,
     devicesPerLot: a.devicesPerLot,

@@ -51,7 +51,12 @@ export interface IngestResult {
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 const pad = (n: number) => String(n).padStart(2, '0');
 
-export async function registerIngestRigs(b: BenchEnv, prefix: string, n: number, sockets: number): Promise<Array<{ id: string; code: string; username: string; password: string }>> {
+export async function registerIngestRigs(
+  b: BenchEnv,
+  prefix: string,
+  n: number,
+  sockets: number,
+): Promise<Array<{ id: string; code: string; username: string; password: string }>> {
   const out: Array<{ id: string; code: string; username: string; password: string }> = [];
   for (let k = 1; k <= n; k++) {
     const code = `${prefix}-${pad(k)}`;
@@ -141,7 +146,9 @@ async function ingestPass(b: BenchEnv, rss: RssSampler, log: (l: string) => void
     if (Date.now() - lastLog >= 10_000) {
       lastLog = Date.now();
       const confirmed = rigs.reduce((n, r) => n + r.stats.confirmed, 0);
-      log(`  ingest ${o.prefix}: ${Math.round((Date.now() - startMs) / 1000)} s, ${confirmed} messages confirmed (${Math.round((confirmed * s.sockets) / ((Date.now() - startMs) / 1000))} samples/s so far)`);
+      log(
+        `  ingest ${o.prefix}: ${Math.round((Date.now() - startMs) / 1000)} s, ${confirmed} messages confirmed (${Math.round((confirmed * s.sockets) / ((Date.now() - startMs) / 1000))} samples/s so far)`,
+      );
     }
   }
   const cpuB = cpuSnapshot(cpuPids, postmaster);
@@ -163,8 +170,12 @@ async function ingestPass(b: BenchEnv, rss: RssSampler, log: (l: string) => void
   await sleep(300);
 
   const q = async <T>(sql: string, params: unknown[]): Promise<T> => (await b.pool.query(sql, params)).rows[0] as T;
-  const { stored } = await q<{ stored: string }>('SELECT count(*) AS stored FROM telemetry_batches WHERE rig_id = ANY($1::uuid[])', [rigIds]);
-  const { rows: sampleRows } = await q<{ rows: string }>('SELECT count(*) AS rows FROM telemetry_samples WHERE rig_id = ANY($1::uuid[])', [rigIds]);
+  const { stored } = await q<{ stored: string }>('SELECT count(*) AS stored FROM telemetry_batches WHERE rig_id = ANY($1::uuid[])', [
+    rigIds,
+  ]);
+  const { rows: sampleRows } = await q<{ rows: string }>('SELECT count(*) AS rows FROM telemetry_samples WHERE rig_id = ANY($1::uuid[])', [
+    rigIds,
+  ]);
   const win = await q<{ samples: string; messages: string }>(
     `SELECT count(*) AS samples, count(DISTINCT (b.rig_id, b.seq)) AS messages
        FROM telemetry_samples t JOIN telemetry_batches b ON b.rig_id = t.rig_id AND b.seq = t.seq

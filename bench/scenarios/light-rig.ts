@@ -60,7 +60,8 @@ export class LightRig {
 
   connect(): Promise<void> {
     const o = this.o;
-    const status = (online: boolean) => JSON.stringify({ v: 1, rig: o.rigCode, online, ts: new Date().toISOString(), firmware: 'bench-light 1.0', lastSeq: this.seq });
+    const status = (online: boolean) =>
+      JSON.stringify({ v: 1, rig: o.rigCode, online, ts: new Date().toISOString(), firmware: 'bench-light 1.0', lastSeq: this.seq });
     return new Promise((resolve, reject) => {
       const c = mqtt.connect(o.brokerUrl, {
         clientId: rigClientId(o.rigCode),

@@ -92,7 +92,16 @@ async function createFixtures(b: BenchEnv, configs: RigConfig[]): Promise<void> 
        theta_jc_c_per_w, theta_ja_c_per_w, beta_ref, beta_ref_ic_a, beta_ref_tc, xtb, icbo_ref_a)
      VALUES ($1, 'TO-220-class NPN power transistor (the rig simulator''s part)', 'bjt', 'NPN', $2, 160, 7, 8, 60, $3, $4, 62, $5, 0.5, $6, $7, $8)
      RETURNING id`,
-    [DEMO_PART.partNumber, DEMO_PART.bvcboV, DEMO_PART.tjMaxC, DEMO_PART.thetaJcCPerW, DEMO_PART.betaRef, DEMO_PART.betaRefTC, DEMO_PART.xtb, DEMO_PART.icboRefA],
+    [
+      DEMO_PART.partNumber,
+      DEMO_PART.bvcboV,
+      DEMO_PART.tjMaxC,
+      DEMO_PART.thetaJcCPerW,
+      DEMO_PART.betaRef,
+      DEMO_PART.betaRefTC,
+      DEMO_PART.xtb,
+      DEMO_PART.icboRefA,
+    ],
   );
   const lotIds = new Map<string, string>();
   for (const cfg of configs) {
@@ -109,10 +118,10 @@ async function createFixtures(b: BenchEnv, configs: RigConfig[]): Promise<void> 
     for (const s of state.sockets) {
       let lotId = lotIds.get(s.device.lotCode);
       if (!lotId) {
-        const [lot] = await m.query(`INSERT INTO lots (code, device_type_id, quantity, date_code, notes) VALUES ($1, $2, 500, '2610', 'Protection bench lot') RETURNING id`, [
-          s.device.lotCode,
-          type.id,
-        ]);
+        const [lot] = await m.query(
+          `INSERT INTO lots (code, device_type_id, quantity, date_code, notes) VALUES ($1, $2, 500, '2610', 'Protection bench lot') RETURNING id`,
+          [s.device.lotCode, type.id],
+        );
         lotId = lot.id as string;
         lotIds.set(s.device.lotCode, lotId);
       }
@@ -243,7 +252,9 @@ export async function runProtection(b: BenchEnv, log: (l: string) => void): Prom
     if (Date.now() - lastLog >= 10_000) {
       lastLog = Date.now();
       const tripped = watches.filter((w) => w.injected && w.trippedAtClockS !== null).length;
-      log(`  protection: ${Math.round((Date.now() - t0) / 1000)} s, ${tripped}/${watches.filter((w) => w.injected).length} injected sockets tripped, ${watches.filter((w) => !w.injected && w.trippedAtClockS !== null).length} sound sockets tripped`);
+      log(
+        `  protection: ${Math.round((Date.now() - t0) / 1000)} s, ${tripped}/${watches.filter((w) => w.injected).length} injected sockets tripped, ${watches.filter((w) => !w.injected && w.trippedAtClockS !== null).length} sound sockets tripped`,
+      );
     }
   }
   const connects = rigs.map((r) => r.stats.connects);
@@ -279,12 +290,18 @@ export async function runProtection(b: BenchEnv, log: (l: string) => void): Prom
     notTripped: injected.filter((w) => w.trippedAtClockS === null).map((w) => `${w.rig}/${w.socket}`),
     trippedAfterTjMax: tripped.filter((w) => !beforeMax.includes(w)).map((w) => `${w.rig}/${w.socket} Tj ${round(w.tjAtTripC!, 1)} °C`),
     falseTripSockets: falseTrips.map((w) => `${w.rig}/${w.socket}: ${w.reason}`),
-    tripsByRule: { threshold: byRule(/within \d+ °C of the rating/), projection: byRule(/projected to reach/), loopGain: byRule(/loop gain/) },
+    tripsByRule: {
+      threshold: byRule(/within \d+ °C of the rating/),
+      projection: byRule(/projected to reach/),
+      loopGain: byRule(/loop gain/),
+    },
     runawayTripAlarms: alarms.rowCount,
     alarmsConfirmedByRig: alarms.rows.filter((r: { command: string }) => r.command === 'confirmed').length,
     clockStressSecondsPerWallSecond: { gradualFaultRigs: round(BENCH_CLOCK_RATE * 3600, 2), noHeatSinkRigs: 1 },
     sampleStressSeconds: 1,
-    peakTjNotTrippedC: injected.filter((w) => w.trippedAtClockS === null).map((w) => `${w.rig}/${w.socket} ${round(w.peakTjBeforeTripC, 1)} °C`),
+    peakTjNotTrippedC: injected
+      .filter((w) => w.trippedAtClockS === null)
+      .map((w) => `${w.rig}/${w.socket} ${round(w.peakTjBeforeTripC, 1)} °C`),
     wallSeconds: seconds,
     rigs: RIGS.length,
     rigConnects: connects.reduce((a, c) => a + c, 0),

@@ -72,7 +72,11 @@ class WireCounter {
 }
 
 async function floorReady(page: Page): Promise<void> {
-  await page.getByTestId('floor-summary').filter({ hasText: /\d+ of \d+ rigs online/ }).first().waitFor({ state: 'visible', timeout: 60_000 });
+  await page
+    .getByTestId('floor-summary')
+    .filter({ hasText: /\d+ of \d+ rigs online/ })
+    .first()
+    .waitFor({ state: 'visible', timeout: 60_000 });
 }
 
 export async function runWeb(b: BenchEnv, log: (l: string) => void) {
@@ -88,7 +92,17 @@ export async function runWeb(b: BenchEnv, log: (l: string) => void) {
     headless: true,
     viewport: VIEWPORT,
     deviceScaleFactor: 1,
-    args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--disable-dev-shm-usage'],
+    args: [
+      '--headless',
+      '--no-sandbox',
+      '--disable-gpu',
+      '--disable-quic',
+      '--no-first-run',
+      '--disable-background-networking',
+      '--disable-component-update',
+      '--disable-sync',
+      '--disable-dev-shm-usage',
+    ],
   });
   try {
     const page = context.pages()[0] ?? (await context.newPage());
@@ -145,7 +159,9 @@ export async function runWeb(b: BenchEnv, log: (l: string) => void) {
       floorReloadsMs: reloads,
       floorReloadKb: kb(reloadBytes),
     };
-    log(`web: cold sign-in ${result.coldSignInKb} KB, paint ${signInPaintMs} ms, sign-in → floor ${signInToFloorMs} ms, floor reload median ${result.floorReloadMs} ms`);
+    log(
+      `web: cold sign-in ${result.coldSignInKb} KB, paint ${signInPaintMs} ms, sign-in → floor ${signInToFloorMs} ms, floor reload median ${result.floorReloadMs} ms`,
+    );
     return result;
   } finally {
     await context.close().catch(() => undefined);

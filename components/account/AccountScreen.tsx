@@ -24,7 +24,12 @@ export function AccountScreen() {
   const [saving, setSaving] = useState<Flag | null>(null);
   const user = me.data;
 
-  if (!user) return <Screen width="narrow"><Loading label="Loading your account…" /></Screen>;
+  if (!user)
+    return (
+      <Screen width="narrow">
+        <Loading label="Loading your account…" />
+      </Screen>
+    );
 
   const set = (flag: Flag, value: boolean) => {
     setSaving(flag);

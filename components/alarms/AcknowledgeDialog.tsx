@@ -34,7 +34,9 @@ export function AcknowledgeDialog({ alarm, onClose, onDone }: Props) {
     <ConfirmDialog
       visible={alarm !== null}
       title={alarm ? `Acknowledge: ${alarm.title}` : ''}
-      message={alarm ? `${whereText(alarm)}. Say what you checked or did; the note is kept with the alarm and in the audit log.` : undefined}
+      message={
+        alarm ? `${whereText(alarm)}. Say what you checked or did; the note is kept with the alarm and in the audit log.` : undefined
+      }
       confirmLabel="Acknowledge"
       onConfirm={submit}
       onCancel={onClose}
@@ -42,10 +44,13 @@ export function AcknowledgeDialog({ alarm, onClose, onDone }: Props) {
       confirmDisabled={tooShort}
       testID="acknowledge-dialog"
     >
-      {alarm?.kind === 'runaway-trip' ? <SafetyCaution compact context="Leave a tripped socket de-energised until its heat sinking and bias are checked." /> : null}
+      {alarm?.kind === 'runaway-trip' ? (
+        <SafetyCaution compact context="Leave a tripped socket de-energised until its heat sinking and bias are checked." />
+      ) : null}
       {alarm?.active ? (
         <Text variant="caption" tone="muted">
-          The condition is still present: acknowledging records that someone is on it; the alarm clears by itself when the condition goes away.
+          The condition is still present: acknowledging records that someone is on it; the alarm clears by itself when the condition goes
+          away.
         </Text>
       ) : null}
       <Field

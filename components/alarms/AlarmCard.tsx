@@ -35,8 +35,16 @@ export function AlarmCard({ alarm: a, canAcknowledge, onAcknowledge, highlighted
     >
       <View style={{ flexDirection: 'row', flexWrap: 'wrap', alignItems: 'center', gap: space.xs }}>
         <StatusPill tone={tone} label={severityLabel(a.severity)} size="sm" />
-        <StatusPill tone={a.active ? tone : 'ok'} label={a.active ? 'Condition present' : `Cleared ${formatDateTime(a.clearedAt)}`} size="sm" />
-        {a.open ? <StatusPill tone="attention" label="Not acknowledged" size="sm" /> : <StatusPill tone="idle" label="Acknowledged" size="sm" />}
+        <StatusPill
+          tone={a.active ? tone : 'ok'}
+          label={a.active ? 'Condition present' : `Cleared ${formatDateTime(a.clearedAt)}`}
+          size="sm"
+        />
+        {a.open ? (
+          <StatusPill tone="attention" label="Not acknowledged" size="sm" />
+        ) : (
+          <StatusPill tone="idle" label="Acknowledged" size="sm" />
+        )}
       </View>
       <View style={{ gap: space.xxs }}>
         <Text variant="heading" heading={3}>
@@ -70,7 +78,13 @@ export function AlarmCard({ alarm: a, canAcknowledge, onAcknowledge, highlighted
       {a.open ? (
         canAcknowledge ? (
           <View style={{ flexDirection: 'row' }}>
-            <Button label="Acknowledge…" variant={a.severity === 'critical' ? 'primary' : 'secondary'} size="sm" onPress={() => onAcknowledge(a)} accessibilityLabel={`Acknowledge ${a.title}`} />
+            <Button
+              label="Acknowledge…"
+              variant={a.severity === 'critical' ? 'primary' : 'secondary'}
+              size="sm"
+              onPress={() => onAcknowledge(a)}
+              accessibilityLabel={`Acknowledge ${a.title}`}
+            />
           </View>
         ) : (
           <Text variant="caption" tone="muted">

@@ -33,7 +33,6 @@ const SEVERITY_CHOICES = [
   { value: 'info' as const, label: 'Notice' },
 ];
 
-
 function plural(n: number, one: string, many = `${one}s`) {
   return `${n} ${n === 1 ? one : many}`;
 }
@@ -62,7 +61,11 @@ export function AlarmsScreen() {
 
   return (
     <Screen width="wide" testID="alarms-screen">
-      <Header eyebrow="Floor" title="Alarms" subtitle="What needs a person now: open alarms first, most severe first, each with its numbers and what to do." />
+      <Header
+        eyebrow="Floor"
+        title="Alarms"
+        subtitle="What needs a person now: open alarms first, most severe first, each with its numbers and what to do."
+      />
       <SafetyCaution context="Burn-in rigs run hot and at high voltage. Emberlot trips a socket heading for thermal runaway, but the rig's hardware interlocks remain the primary protection." />
       {summary ? (
         <Text variant="bodyStrong" accessibilityLiveRegion="polite" testID="alarm-summary">
@@ -81,8 +84,26 @@ export function AlarmsScreen() {
         </View>
       ) : null}
       <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
-        <SegmentedChoice label="Show" options={STATUS_CHOICES} value={status} onChange={(v) => { setStatus(v); setLimit(PAGE); }} testID="alarm-status-filter" />
-        <SegmentedChoice label="Severity" options={SEVERITY_CHOICES} value={severity} onChange={(v) => { setSeverity(v); setLimit(PAGE); }} testID="alarm-severity-filter" />
+        <SegmentedChoice
+          label="Show"
+          options={STATUS_CHOICES}
+          value={status}
+          onChange={(v) => {
+            setStatus(v);
+            setLimit(PAGE);
+          }}
+          testID="alarm-status-filter"
+        />
+        <SegmentedChoice
+          label="Severity"
+          options={SEVERITY_CHOICES}
+          value={severity}
+          onChange={(v) => {
+            setSeverity(v);
+            setLimit(PAGE);
+          }}
+          testID="alarm-severity-filter"
+        />
       </View>
       <QueryState
         query={alarms}

@@ -43,7 +43,15 @@ export function NotificationBell({ color = colors.ink, testID = 'notification-be
           <Path d="M10 20.5a2 2 0 0 0 4 0" stroke={color} strokeWidth={1.8} fill="none" strokeLinecap="round" />
         </Svg>
         {unread > 0 ? (
-          <View style={{ minWidth: 20, paddingHorizontal: 5, borderRadius: radius.pill, backgroundColor: tones.danger.fg, alignItems: 'center' }}>
+          <View
+            style={{
+              minWidth: 20,
+              paddingHorizontal: 5,
+              borderRadius: radius.pill,
+              backgroundColor: tones.danger.fg,
+              alignItems: 'center',
+            }}
+          >
             <Text variant="caption" style={{ color: colors.inkInverse }}>
               {unread > 99 ? '99+' : String(unread)}
             </Text>
@@ -73,10 +81,20 @@ export function NotificationBell({ color = colors.ink, testID = 'notification-be
         >
           <View style={{ flexDirection: 'row', justifyContent: 'space-between', alignItems: 'center' }}>
             <Text variant="label">Notifications</Text>
-            {unread > 0 ? <Button size="sm" variant="quiet" label="Mark all read" onPress={() => markAll.mutate()} busy={markAll.isPending} /> : null}
+            {unread > 0 ? (
+              <Button size="sm" variant="quiet" label="Mark all read" onPress={() => markAll.mutate()} busy={markAll.isPending} />
+            ) : null}
           </View>
-          {list.isLoading ? <Text variant="caption" tone="muted">Loading…</Text> : null}
-          {list.isError ? <Text variant="caption" tone="danger">Could not load notifications.</Text> : null}
+          {list.isLoading ? (
+            <Text variant="caption" tone="muted">
+              Loading…
+            </Text>
+          ) : null}
+          {list.isError ? (
+            <Text variant="caption" tone="danger">
+              Could not load notifications.
+            </Text>
+          ) : null}
           {!list.isLoading && items.length === 0 ? (
             <Text variant="caption" tone="muted">
               Nothing yet. Alarm and read-point notices you subscribe to (under Account) appear here.

@@ -14,7 +14,11 @@ export function kindLabel(a: Pick<Alarm, 'kind'>): string {
 
 /** "OV-03 · socket 5 · run HTRB-2611-A" */
 export function whereText(a: Pick<Alarm, 'rigCode' | 'socketIndex' | 'runCode'>): string {
-  return [a.rigCode ? `Rig ${a.rigCode}` : null, a.socketIndex !== null ? `socket ${a.socketIndex}` : null, a.runCode ? `run ${a.runCode}` : null]
+  return [
+    a.rigCode ? `Rig ${a.rigCode}` : null,
+    a.socketIndex !== null ? `socket ${a.socketIndex}` : null,
+    a.runCode ? `run ${a.runCode}` : null,
+  ]
     .filter(Boolean)
     .join(' · ');
 }

@@ -14,7 +14,8 @@ import { Field } from '@/components/ui/Field';
 import { Text } from '@/components/ui/Text';
 import { SocketGrid } from './SocketGrid';
 
-export const PRODUCT_LINE = 'Plan accelerated stress runs for power transistors, watch the burn-in floor, and follow every lot from time zero to verdict.';
+export const PRODUCT_LINE =
+  'Plan accelerated stress runs for power transistors, watch the burn-in floor, and follow every lot from time zero to verdict.';
 
 const POINTS = [
   'Plans checked against breakdown, derating and thermal-runaway margin',
@@ -50,11 +51,16 @@ function SignInForm() {
     });
   };
 
-  const apiFields = signIn.error && 'fieldErrors' in signIn.error ? (signIn.error as { fieldErrors: () => Record<string, string> }).fieldErrors() : {};
+  const apiFields =
+    signIn.error && 'fieldErrors' in signIn.error ? (signIn.error as { fieldErrors: () => Record<string, string> }).fieldErrors() : {};
 
   return (
     <View style={{ gap: space.md }}>
-      {params.ended && !signIn.isError ? <Banner tone="info" testID="session-ended">{SESSION_ENDED_MESSAGE}</Banner> : null}
+      {params.ended && !signIn.isError ? (
+        <Banner tone="info" testID="session-ended">
+          {SESSION_ENDED_MESSAGE}
+        </Banner>
+      ) : null}
       {signIn.isError ? (
         <Banner tone="danger" title="Not signed in" testID="sign-in-error">
           {describeError(signIn.error)}
@@ -87,7 +93,15 @@ function SignInForm() {
         onSubmitEditing={submit}
         testID="sign-in-password"
       />
-      <Button label="Sign in" variant="primary" onPress={submit} busy={signIn.isPending} busyLabel="Signing in…" fullWidth testID="sign-in-submit" />
+      <Button
+        label="Sign in"
+        variant="primary"
+        onPress={submit}
+        busy={signIn.isPending}
+        busyLabel="Signing in…"
+        fullWidth
+        testID="sign-in-submit"
+      />
       <Text variant="caption" tone="subtle">
         Accounts are set up by your lab&apos;s administrator. Forgotten your password? Ask them to set a new one.
       </Text>
@@ -102,7 +116,16 @@ export function SignInScreen() {
   const card = (
     <View
       style={[
-        { backgroundColor: colors.surface, borderRadius: radius.lg, borderWidth: 1, borderColor: colors.border, padding: gtPhone ? space.xl : space.lg, gap: space.lg, width: '100%', maxWidth: 440 },
+        {
+          backgroundColor: colors.surface,
+          borderRadius: radius.lg,
+          borderWidth: 1,
+          borderColor: colors.border,
+          padding: gtPhone ? space.xl : space.lg,
+          gap: space.lg,
+          width: '100%',
+          maxWidth: 440,
+        },
         shadow,
       ]}
     >
@@ -151,7 +174,10 @@ export function SignInScreen() {
             Harrowgate Power Devices · Reliability laboratory
           </Text>
         </View>
-        <ScrollView style={{ flex: 4 }} contentContainerStyle={{ flexGrow: 1, alignItems: 'center', justifyContent: 'center', padding: space.xxl }}>
+        <ScrollView
+          style={{ flex: 4 }}
+          contentContainerStyle={{ flexGrow: 1, alignItems: 'center', justifyContent: 'center', padding: space.xxl }}
+        >
           {card}
         </ScrollView>
       </View>
@@ -162,7 +188,13 @@ export function SignInScreen() {
     <ScrollView
       role="main"
       style={{ flex: 1, backgroundColor: colors.paper }}
-      contentContainerStyle={{ flexGrow: 1, padding: gtPhone ? space.xl : space.md, paddingTop: space.xxl, gap: space.lg, alignItems: 'center' }}
+      contentContainerStyle={{
+        flexGrow: 1,
+        padding: gtPhone ? space.xl : space.md,
+        paddingTop: space.xxl,
+        gap: space.lg,
+        alignItems: 'center',
+      }}
       keyboardShouldPersistTaps="handled"
     >
       <View style={{ width: '100%', maxWidth: 440, gap: space.sm }}>

@@ -8,7 +8,12 @@ export function SocketGrid({ width = 280 }: { width?: number }) {
   const cell = 32;
   const glow = new Set(['2-5']);
   return (
-    <Svg width={width} height={(width * (rows * cell + 16)) / (cols * cell + 16)} viewBox={`0 0 ${cols * cell + 16} ${rows * cell + 16}`} aria-hidden>
+    <Svg
+      width={width}
+      height={(width * (rows * cell + 16)) / (cols * cell + 16)}
+      viewBox={`0 0 ${cols * cell + 16} ${rows * cell + 16}`}
+      aria-hidden
+    >
       <Rect x={0} y={0} width={cols * cell + 16} height={rows * cell + 16} rx={14} fill="#35312C" />
       {Array.from({ length: rows }, (_, r) =>
         Array.from({ length: cols }, (_, c) => {

@@ -40,7 +40,11 @@ export function DeviceTypeDetailScreen() {
   if (!valid) {
     return (
       <Screen>
-        <EmptyState title="No such device type" message="The address does not name a device type." action={<Button label="All device types" onPress={() => router.replace('/devices' as Href)} />} />
+        <EmptyState
+          title="No such device type"
+          message="The address does not name a device type."
+          action={<Button label="All device types" onPress={() => router.replace('/devices' as Href)} />}
+        />
       </Screen>
     );
   }
@@ -57,7 +61,16 @@ export function DeviceTypeDetailScreen() {
               actions={
                 <>
                   <Button label="All device types" variant="quiet" onPress={() => router.push('/devices' as Href)} />
-                  {may('deviceType.edit') && !editing ? <Button label="Edit ratings" onPress={() => { setNotice(null); setEditing(true); }} testID="edit-device-type" /> : null}
+                  {may('deviceType.edit') && !editing ? (
+                    <Button
+                      label="Edit ratings"
+                      onPress={() => {
+                        setNotice(null);
+                        setEditing(true);
+                      }}
+                      testID="edit-device-type"
+                    />
+                  ) : null}
                 </>
               }
             />
@@ -72,7 +85,9 @@ export function DeviceTypeDetailScreen() {
                 onCancel={() => setEditing(false)}
                 onDone={(u) => {
                   setEditing(false);
-                  setNotice(`${u.partNumber} saved. Plans saved earlier keep the check they were saved with; save a new version to re-check one.`);
+                  setNotice(
+                    `${u.partNumber} saved. Plans saved earlier keep the check they were saved with; save a new version to re-check one.`,
+                  );
                 }}
               />
             ) : (
@@ -80,11 +95,15 @@ export function DeviceTypeDetailScreen() {
             )}
 
             <View style={{ gap: space.sm }}>
-              <View style={{ flexDirection: 'row', justifyContent: 'space-between', alignItems: 'center', flexWrap: 'wrap', gap: space.sm }}>
+              <View
+                style={{ flexDirection: 'row', justifyContent: 'space-between', alignItems: 'center', flexWrap: 'wrap', gap: space.sm }}
+              >
                 <Text variant="heading" heading={2}>
                   Lots
                 </Text>
-                {may('lot.edit') && !addingLot ? <Button label="Register a lot" onPress={() => setAddingLot(true)} testID="add-lot" /> : null}
+                {may('lot.edit') && !addingLot ? (
+                  <Button label="Register a lot" onPress={() => setAddingLot(true)} testID="add-lot" />
+                ) : null}
               </View>
               {addingLot ? (
                 <NewLotForm
@@ -143,7 +162,11 @@ function Ratings({ d }: { d: DeviceType }) {
         <Rating label="Tj max" value={celsius(d.tjMaxC)} />
         <Rating label="IC max" value={amps(d.icMaxA)} />
         <Rating label="θjc" value={`${sig(d.thetaJcCPerW)} °C/W`} help="Junction to case: sets the limit when the case is held." />
-        <Rating label="θja" value={`${sig(d.thetaJaCPerW)} °C/W`} help="Junction to free air: used for the junction in a chamber and for runaway." />
+        <Rating
+          label="θja"
+          value={`${sig(d.thetaJaCPerW)} °C/W`}
+          help="Junction to free air: used for the junction in a chamber and for runaway."
+        />
       </Card>
       <Card title="Gain and leakage" padding="md">
         <Rating label="hFE" value={`${sig(d.betaRef)} at ${amps(d.betaRefIcA)}, ${d.betaRefTC} °C`} />
@@ -165,15 +188,32 @@ function PlansFor({ deviceTypeId, canWrite }: { deviceTypeId: string; canWrite: 
         <Text variant="heading" heading={2}>
           Stress plans
         </Text>
-        {canWrite ? <Button label="New plan for this part" onPress={() => router.push(`/plans/new?deviceTypeId=${deviceTypeId}` as Href)} /> : null}
+        {canWrite ? (
+          <Button label="New plan for this part" onPress={() => router.push(`/plans/new?deviceTypeId=${deviceTypeId}` as Href)} />
+        ) : null}
       </View>
-      <QueryState query={plans} loadingLabel="Loading plans…" isEmpty={(l) => l.length === 0} empty={<EmptyState title="No plans for this part yet" />}>
+      <QueryState
+        query={plans}
+        loadingLabel="Loading plans…"
+        isEmpty={(l) => l.length === 0}
+        empty={<EmptyState title="No plans for this part yet" />}
+      >
         {(list) => (
           <View style={{ gap: space.xs }}>
             {list.map((p) => (
               <View
                 key={p.id}
-                style={{ flexDirection: 'row', flexWrap: 'wrap', alignItems: 'center', gap: space.sm, padding: space.sm, borderRadius: 10, borderWidth: 1, borderColor: colors.border, backgroundColor: colors.surface }}
+                style={{
+                  flexDirection: 'row',
+                  flexWrap: 'wrap',
+                  alignItems: 'center',
+                  gap: space.sm,
+                  padding: space.sm,
+                  borderRadius: 10,
+                  borderWidth: 1,
+                  borderColor: colors.border,
+                  backgroundColor: colors.surface,
+                }}
               >
                 <View style={{ flex: 1, minWidth: 220, gap: 2 }}>
                   <Text variant="bodyStrong">{p.name}</Text>
@@ -183,7 +223,12 @@ function PlansFor({ deviceTypeId, canWrite }: { deviceTypeId: string; canWrite: 
                   </View>
                 </View>
                 <CheckStatusPill status={p.checkStatus} size="sm" />
-                <Button size="sm" label="Open" accessibilityLabel={`Open plan ${p.name}`} onPress={() => router.push(`/plans/${p.id}` as Href)} />
+                <Button
+                  size="sm"
+                  label="Open"
+                  accessibilityLabel={`Open plan ${p.name}`}
+                  onPress={() => router.push(`/plans/${p.id}` as Href)}
+                />
               </View>
             ))}
           </View>

@@ -15,8 +15,21 @@ import { numText, parseNum } from './format';
 import { DEVICE_HELP } from './help';
 
 type NumKey =
-  | 'bvcboV' | 'bvceoV' | 'bveboV' | 'icMaxA' | 'pMaxW' | 'pRatedAtC' | 'tjMaxC' | 'thetaJcCPerW' | 'thetaJaCPerW'
-  | 'betaRef' | 'betaRefIcA' | 'betaRefTC' | 'xtb' | 'icboRefA' | 'breakdownN';
+  | 'bvcboV'
+  | 'bvceoV'
+  | 'bveboV'
+  | 'icMaxA'
+  | 'pMaxW'
+  | 'pRatedAtC'
+  | 'tjMaxC'
+  | 'thetaJcCPerW'
+  | 'thetaJaCPerW'
+  | 'betaRef'
+  | 'betaRefIcA'
+  | 'betaRefTC'
+  | 'xtb'
+  | 'icboRefA'
+  | 'breakdownN';
 type Key = NumKey | 'partNumber' | 'description' | 'kind' | 'polarity';
 
 /** ICBO is typed in nA (how data sheets give it); everything else in SI units. */
@@ -25,8 +38,21 @@ const SCALE: Partial<Record<NumKey, number>> = { icboRefA: 1e9 };
 const NULLABLE: NumKey[] = ['bvceoV', 'icboRefA'];
 
 const EMPTY: Record<NumKey, string> = {
-  bvcboV: '', bvceoV: '', bveboV: '', icMaxA: '', pMaxW: '', pRatedAtC: '25', tjMaxC: '150', thetaJcCPerW: '', thetaJaCPerW: '',
-  betaRef: '', betaRefIcA: '', betaRefTC: '25', xtb: '1.5', icboRefA: '', breakdownN: '3',
+  bvcboV: '',
+  bvceoV: '',
+  bveboV: '',
+  icMaxA: '',
+  pMaxW: '',
+  pRatedAtC: '25',
+  tjMaxC: '150',
+  thetaJcCPerW: '',
+  thetaJaCPerW: '',
+  betaRef: '',
+  betaRefIcA: '',
+  betaRefTC: '25',
+  xtb: '1.5',
+  icboRefA: '',
+  breakdownN: '3',
 };
 
 function fromDevice(d: DeviceType): Record<NumKey, string> {
@@ -121,8 +147,22 @@ export function DeviceTypeForm({ device, onDone, onCancel }: Props) {
       ) : null}
       {notice ? <Banner tone="info">{notice}</Banner> : null}
       <Columns>
-        <Field label="Part number" value={partNumber} onChangeText={setPartNumber} error={errors.partNumber} help={DEVICE_HELP.partNumber} autoCapitalize="characters" testID="device-partNumber" />
-        <Field label="Description" value={description} onChangeText={setDescription} error={errors.description} help={DEVICE_HELP.description} />
+        <Field
+          label="Part number"
+          value={partNumber}
+          onChangeText={setPartNumber}
+          error={errors.partNumber}
+          help={DEVICE_HELP.partNumber}
+          autoCapitalize="characters"
+          testID="device-partNumber"
+        />
+        <Field
+          label="Description"
+          value={description}
+          onChangeText={setDescription}
+          error={errors.description}
+          help={DEVICE_HELP.description}
+        />
       </Columns>
       <Columns>
         <SegmentedChoice
@@ -132,7 +172,14 @@ export function DeviceTypeForm({ device, onDone, onCancel }: Props) {
           onChange={setKind}
           help={DEVICE_HELP.kind}
         />
-        <SegmentedChoice label="Polarity" options={POLARITIES.map((p) => ({ value: p, label: p }))} value={polarity} onChange={setPolarity} error={errors.polarity} help={DEVICE_HELP.polarity} />
+        <SegmentedChoice
+          label="Polarity"
+          options={POLARITIES.map((p) => ({ value: p, label: p }))}
+          value={polarity}
+          onChange={setPolarity}
+          error={errors.polarity}
+          help={DEVICE_HELP.polarity}
+        />
       </Columns>
 
       <Section title="Breakdown" />
@@ -171,7 +218,14 @@ export function DeviceTypeForm({ device, onDone, onCancel }: Props) {
       {num('icboRefA', 'ICBO at 25 °C', 'nA, optional')}
 
       <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
-        <Button label={device ? 'Save changes' : 'Add device type'} variant="primary" onPress={submit} busy={busy} busyLabel="Saving…" testID="device-type-submit" />
+        <Button
+          label={device ? 'Save changes' : 'Add device type'}
+          variant="primary"
+          onPress={submit}
+          busy={busy}
+          busyLabel="Saving…"
+          testID="device-type-submit"
+        />
         <Button label="Cancel" variant="quiet" onPress={onCancel} disabled={busy} />
       </View>
     </Card>

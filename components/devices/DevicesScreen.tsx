@@ -44,7 +44,12 @@ export function DevicesScreen() {
         </Text>
       ),
     },
-    { key: 'pol', title: 'Type', flex: 0.9, render: (d) => <Badge label={`${d.kind === 'bjt' ? 'BJT' : d.kind === 'mosfet' ? 'MOSFET' : 'Diode'} · ${d.polarity}`} /> },
+    {
+      key: 'pol',
+      title: 'Type',
+      flex: 0.9,
+      render: (d) => <Badge label={`${d.kind === 'bjt' ? 'BJT' : d.kind === 'mosfet' ? 'MOSFET' : 'Diode'} · ${d.polarity}`} />,
+    },
     { key: 'bv', title: 'BVCBO / BVCEO', flex: 1.2, render: (d) => `${volts(d.bvcboV)} / ${d.bvceoV === null ? 'est.' : volts(d.bvceoV)}` },
     { key: 'tj', title: 'Tj max', flex: 0.8, render: (d) => `${d.tjMaxC} °C` },
     { key: 'lots', title: 'Lots · devices', flex: 1, render: (d) => `${d.lotCount} · ${d.deviceCount}` },
@@ -54,7 +59,9 @@ export function DevicesScreen() {
       title: 'Open',
       flex: 0.9,
       card: 'actions',
-      render: (d) => <Button size="sm" label="Open" accessibilityLabel={`Open ${d.partNumber}`} onPress={() => router.push(deviceHref(d.id))} />,
+      render: (d) => (
+        <Button size="sm" label="Open" accessibilityLabel={`Open ${d.partNumber}`} onPress={() => router.push(deviceHref(d.id))} />
+      ),
     },
   ];
 
@@ -64,7 +71,19 @@ export function DevicesScreen() {
         eyebrow="Harrowgate reliability lab"
         title="Devices & lots"
         subtitle="Part numbers with their data-sheet ratings, and the lots and serials under test."
-        actions={canWrite && !adding ? <Button label="New device type" variant="primary" onPress={() => { setNotice(null); setAdding(true); }} testID="new-device-type" /> : null}
+        actions={
+          canWrite && !adding ? (
+            <Button
+              label="New device type"
+              variant="primary"
+              onPress={() => {
+                setNotice(null);
+                setAdding(true);
+              }}
+              testID="new-device-type"
+            />
+          ) : null
+        }
       />
       {notice ? (
         <Banner tone="ok" action={<Button size="sm" variant="quiet" label="Dismiss" onPress={() => setNotice(null)} />}>
@@ -85,16 +104,38 @@ export function DevicesScreen() {
         loadingLabel="Loading device types…"
         errorTitle="Could not load device types"
         isEmpty={(l) => l.length === 0}
-        empty={<EmptyState title="No device types yet" message={canWrite ? 'Add the first part number with its data-sheet ratings.' : 'An engineer adds part numbers here.'} />}
+        empty={
+          <EmptyState
+            title="No device types yet"
+            message={canWrite ? 'Add the first part number with its data-sheet ratings.' : 'An engineer adds part numbers here.'}
+          />
+        }
       >
-        {(list) => <DataTable caption="Device types" columns={columns} rows={list} rowKey={(d) => d.id} minTableWidth={780} testID="device-types-table" />}
+        {(list) => (
+          <DataTable
+            caption="Device types"
+            columns={columns}
+            rows={list}
+            rowKey={(d) => d.id}
+            minTableWidth={780}
+            testID="device-types-table"
+          />
+        )}
       </QueryState>
 
       <View style={{ gap: space.sm }}>
         <Text variant="heading" heading={2}>
           Find a lot
         </Text>
-        <Field label="Lot code" value={q} onChangeText={setQ} placeholder="e.g. HG2611" autoCapitalize="characters" help="Type part of a lot code; lots of every device type are searched." testID="lot-search" />
+        <Field
+          label="Lot code"
+          value={q}
+          onChangeText={setQ}
+          placeholder="e.g. HG2611"
+          autoCapitalize="characters"
+          help="Type part of a lot code; lots of every device type are searched."
+          testID="lot-search"
+        />
         <LotTable q={q.trim()} />
       </View>
     </Screen>
@@ -126,7 +167,12 @@ export function LotTable({ q, deviceTypeId }: { q?: string; deviceTypeId?: strin
       loadingLabel="Loading lots…"
       errorTitle="Could not load lots"
       isEmpty={(l) => l.length === 0}
-      empty={<EmptyState title={q ? `No lot code contains “${q}”` : 'No lots yet'} message={q ? 'Check the code on the traveller.' : 'Register a lot from its device type.'} />}
+      empty={
+        <EmptyState
+          title={q ? `No lot code contains “${q}”` : 'No lots yet'}
+          message={q ? 'Check the code on the traveller.' : 'Register a lot from its device type.'}
+        />
+      }
     >
       {(list) => <DataTable caption="Lots" columns={shown} rows={list} rowKey={(l) => l.id} testID="lots-table" />}
     </QueryState>

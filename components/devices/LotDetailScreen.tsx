@@ -33,7 +33,11 @@ export function LotDetailScreen() {
   if (!valid) {
     return (
       <Screen>
-        <EmptyState title="No such lot" message="The address does not name a lot." action={<Button label="Devices & lots" onPress={() => router.replace('/devices' as Href)} />} />
+        <EmptyState
+          title="No such lot"
+          message="The address does not name a lot."
+          action={<Button label="Devices & lots" onPress={() => router.replace('/devices' as Href)} />}
+        />
       </Screen>
     );
   }
@@ -49,13 +53,22 @@ export function LotDetailScreen() {
                 eyebrow={`Lot of ${l.partNumber}`}
                 title={l.code}
                 subtitle={`${l.quantity.toLocaleString('en-GB')} devices in the lot · ${l.deviceCount.toLocaleString('en-GB')} serials registered${l.dateCode ? ` · date code ${l.dateCode}` : ''}`}
-                actions={<Button label={`Back to ${l.partNumber}`} variant="quiet" onPress={() => router.push(deviceHref(l.deviceTypeId))} />}
+                actions={
+                  <Button label={`Back to ${l.partNumber}`} variant="quiet" onPress={() => router.push(deviceHref(l.deviceTypeId))} />
+                }
               />
-              {l.notes ? <Banner tone="info" title="Notes">{l.notes}</Banner> : null}
+              {l.notes ? (
+                <Banner tone="info" title="Notes">
+                  {l.notes}
+                </Banner>
+              ) : null}
               {canWrite ? <AddSerials lot={l} /> : null}
               <Card title="Serials" description={`Registered ${formatDateTime(l.createdAt)}. Sorted by serial.`}>
                 {l.serials.length === 0 ? (
-                  <EmptyState title="No serials yet" message={canWrite ? 'Add the serials of the devices pulled for stress above.' : 'An engineer registers the serials.'} />
+                  <EmptyState
+                    title="No serials yet"
+                    message={canWrite ? 'Add the serials of the devices pulled for stress above.' : 'An engineer registers the serials.'}
+                  />
                 ) : (
                   <View style={{ gap: space.sm }}>
                     <Field label="Find a serial" value={filter} onChangeText={setFilter} autoCapitalize="characters" autoCorrect={false} />
@@ -83,7 +96,10 @@ function AddSerials({ lot }: { lot: LotDetail }) {
   const [lastFile, setLastFile] = useState<string | null>(null);
   const serials = useMemo(() => splitPastedSerials(pasted), [pasted]);
   const existing = useMemo(() => new Set(lot.serials.map((s) => s.serial)), [lot.serials]);
-  const localProblems = useMemo(() => checkSerialRows(serials, existing, undefined, `lot ${lot.code}`).problems, [serials, existing, lot.code]);
+  const localProblems = useMemo(
+    () => checkSerialRows(serials, existing, undefined, `lot ${lot.code}`).problems,
+    [serials, existing, lot.code],
+  );
   const pasteRows = rowsFromError(add.error, serials);
   const fileRows = rowsFromError(upload.error);
 
@@ -164,7 +180,13 @@ function AddSerials({ lot }: { lot: LotDetail }) {
               {describeError(upload.error)}
             </Banner>
           ) : null}
-          <SerialProblems rows={fileRows} where="file" title={lastFile ? `${lastFile}: ${fileRows.length} line${fileRows.length === 1 ? '' : 's'} to fix — nothing was stored` : undefined} />
+          <SerialProblems
+            rows={fileRows}
+            where="file"
+            title={
+              lastFile ? `${lastFile}: ${fileRows.length} line${fileRows.length === 1 ? '' : 's'} to fix — nothing was stored` : undefined
+            }
+          />
         </View>
       )}
     </Card>

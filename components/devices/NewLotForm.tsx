@@ -62,22 +62,55 @@ export function NewLotForm({ deviceTypeId, partNumber, onCreated, onCancel }: Pr
     });
   };
 
-  const generalError = create.error && serverRows.length === 0 && !(isApiError(create.error) && create.error.code === 'bad_request' && create.error.fields);
+  const generalError =
+    create.error && serverRows.length === 0 && !(isApiError(create.error) && create.error.code === 'bad_request' && create.error.fields);
 
   return (
-    <Card title={`Register a lot of ${partNumber}`} description="The lot size is what the traveller says; serials are the devices pulled for stress (you can add more later)." testID="new-lot-form">
+    <Card
+      title={`Register a lot of ${partNumber}`}
+      description="The lot size is what the traveller says; serials are the devices pulled for stress (you can add more later)."
+      testID="new-lot-form"
+    >
       {generalError ? (
         <Banner tone="danger" title="Lot not registered">
           {describeError(create.error)}
         </Banner>
       ) : null}
       <Columns>
-        <Field label="Lot code" value={code} onChangeText={setCode} error={errors.code} autoCapitalize="characters" placeholder="HG2614-J" testID="lot-code" />
-        <Field label="Lot size (devices)" value={quantity} onChangeText={setQuantity} error={errors.quantity} keyboardType="number-pad" inputMode="numeric" testID="lot-quantity" />
+        <Field
+          label="Lot code"
+          value={code}
+          onChangeText={setCode}
+          error={errors.code}
+          autoCapitalize="characters"
+          placeholder="HG2614-J"
+          testID="lot-code"
+        />
+        <Field
+          label="Lot size (devices)"
+          value={quantity}
+          onChangeText={setQuantity}
+          error={errors.quantity}
+          keyboardType="number-pad"
+          inputMode="numeric"
+          testID="lot-quantity"
+        />
       </Columns>
       <Columns>
-        <Field label="Date code" value={dateCode} onChangeText={setDateCode} error={errors.dateCode} help="Year and week, as marked on the parts (e.g. 2614)." />
-        <Field label="Notes" value={notes} onChangeText={setNotes} error={errors.notes} help="Wafer lot, line, anything that explains drift later." />
+        <Field
+          label="Date code"
+          value={dateCode}
+          onChangeText={setDateCode}
+          error={errors.dateCode}
+          help="Year and week, as marked on the parts (e.g. 2614)."
+        />
+        <Field
+          label="Notes"
+          value={notes}
+          onChangeText={setNotes}
+          error={errors.notes}
+          help="Wafer lot, line, anything that explains drift later."
+        />
       </Columns>
       <SegmentedChoice
         label="Serials"
@@ -121,7 +154,11 @@ export function NewLotForm({ deviceTypeId, partNumber, onCreated, onCancel }: Pr
           <Text variant="caption" tone="subtle">
             {CSV_HELP}
           </Text>
-          {parseFile.isError ? <Banner tone="danger" title="The file could not be read">{describeError(parseFile.error)}</Banner> : null}
+          {parseFile.isError ? (
+            <Banner tone="danger" title="The file could not be read">
+              {describeError(parseFile.error)}
+            </Banner>
+          ) : null}
           {file ? <SerialPreview serials={file.serials} /> : null}
           {file ? <SerialProblems rows={file.rows} where="file" title="Fix these lines in the file, then choose it again" /> : null}
         </View>

@@ -13,14 +13,19 @@ export const SERIAL_POLICY =
   'A list is stored whole or not at all: if any row is empty, longer than 40 characters, repeated, or already in the lot, ' +
   'nothing is stored and every bad row is listed so you can fix the file and upload it again.';
 
-export const CSV_HELP = 'A CSV file with a column headed “serial” (other columns are ignored), or a single column of serials with or without that header. Up to 10,000 rows, 512 KB.';
+export const CSV_HELP =
+  'A CSV file with a column headed “serial” (other columns are ignored), or a single column of serials with or without that header. Up to 10,000 rows, 512 KB.';
 
 /** Every refused row, with its row/line number and reason; shown after a refused list or file. */
 export function SerialProblems({ rows, where, title }: { rows: SerialRowProblem[]; where: 'list' | 'file'; title?: string }) {
   if (rows.length === 0) return null;
   const shown = rows.slice(0, 200);
   return (
-    <Banner tone="danger" title={title ?? `${rows.length} ${rows.length === 1 ? 'row needs' : 'rows need'} fixing — nothing was stored`} testID="serial-problems">
+    <Banner
+      tone="danger"
+      title={title ?? `${rows.length} ${rows.length === 1 ? 'row needs' : 'rows need'} fixing — nothing was stored`}
+      testID="serial-problems"
+    >
       <View accessibilityRole="list" style={{ gap: space.xxs }}>
         {shown.map((r) => (
           <View key={`${r.row}-${r.reason}`} role="listitem" style={{ flexDirection: 'row', gap: space.xs, alignItems: 'flex-start' }}>
@@ -97,10 +102,28 @@ export function SerialGrid({ serials }: { serials: Array<{ id: string; serial: s
     <View
       accessibilityRole="list"
       accessibilityLabel="Serials in this lot"
-      style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs, padding: space.sm, borderRadius: radius.md, backgroundColor: colors.surfaceSunken }}
+      style={{
+        flexDirection: 'row',
+        flexWrap: 'wrap',
+        gap: space.xs,
+        padding: space.sm,
+        borderRadius: radius.md,
+        backgroundColor: colors.surfaceSunken,
+      }}
     >
       {serials.map((s) => (
-        <View key={s.id} role="listitem" style={{ paddingHorizontal: space.xs, paddingVertical: 2, borderRadius: radius.sm, backgroundColor: colors.surface, borderWidth: 1, borderColor: colors.border }}>
+        <View
+          key={s.id}
+          role="listitem"
+          style={{
+            paddingHorizontal: space.xs,
+            paddingVertical: 2,
+            borderRadius: radius.sm,
+            backgroundColor: colors.surface,
+            borderWidth: 1,
+            borderColor: colors.border,
+          }}
+        >
           <Text variant="caption">{s.serial}</Text>
         </View>
       ))}

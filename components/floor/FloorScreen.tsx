@@ -33,13 +33,23 @@ export function FloorScreen() {
   const columns = gtTablet ? (width >= 1440 ? 4 : 3) : gtPhone ? 2 : 1;
   return (
     <Screen width="wide" testID="floor-screen">
-      <Header eyebrow="Burn-in floor" title="Floor" subtitle="Every oven and rig in the lab, live: chamber against setpoint, sockets, alarms and the next read point." actions={<LiveIndicator state={stream} />} />
+      <Header
+        eyebrow="Burn-in floor"
+        title="Floor"
+        subtitle="Every oven and rig in the lab, live: chamber against setpoint, sockets, alarms and the next read point."
+        actions={<LiveIndicator state={stream} />}
+      />
       <QueryState
         query={floor}
         loadingLabel="Loading the floor…"
         errorTitle="Could not load the floor"
         isEmpty={(tiles) => tiles.length === 0}
-        empty={<EmptyState title="No rigs registered yet" message="An administrator registers each rig under Rigs; it appears here as soon as it exists." />}
+        empty={
+          <EmptyState
+            title="No rigs registered yet"
+            message="An administrator registers each rig under Rigs; it appears here as soon as it exists."
+          />
+        }
       >
         {(tiles) => (
           <View style={{ gap: space.md }}>
@@ -56,7 +66,10 @@ export function FloorScreen() {
           </View>
         )}
       </QueryState>
-      <SafetyCaution compact context="Ovens run hot and boards carry bias voltage; open a chamber only when your procedure says it is safe." />
+      <SafetyCaution
+        compact
+        context="Ovens run hot and boards carry bias voltage; open a chamber only when your procedure says it is safe."
+      />
     </Screen>
   );
 }

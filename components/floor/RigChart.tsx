@@ -34,7 +34,11 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
   const phone = width > 0 && width < 600;
   const series = [
     { name: 'Chamber', style: CHAMBER, data: chart.chamber },
-    ...chart.sockets.map((s, i) => ({ name: `Socket ${s.socket} case`, style: { ...SOCKET_SERIES[i % SOCKET_SERIES.length], width: 2 }, data: s.points })),
+    ...chart.sockets.map((s, i) => ({
+      name: `Socket ${s.socket} case`,
+      style: { ...SOCKET_SERIES[i % SOCKET_SERIES.length], width: 2 },
+      data: s.points,
+    })),
   ].filter((s) => s.data.length > 0);
   const ys = series.flatMap((s) => s.data.map((p) => p.avg));
   const yMin = ys.length ? Math.floor(Math.min(...ys) - 2) : 0;
@@ -42,14 +46,27 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
   const from = Date.parse(chart.from);
   const to = Date.parse(chart.to);
   const last = (d: { avg: number }[]) => (d.length ? `${d[d.length - 1].avg.toFixed(1)} °C` : 'no data');
-  const description = `Temperatures from ${hhmm(from)} to ${hhmm(to)}: ` + series.map((s) => `${s.name} last ${last(s.data)}`).join('; ') + '.';
+  const description =
+    `Temperatures from ${hhmm(from)} to ${hhmm(to)}: ` + series.map((s) => `${s.name} last ${last(s.data)}`).join('; ') + '.';
   return (
-    <View testID={testID} onLayout={(e) => setWidth(Math.round(e.nativeEvent.layout.width))} accessible accessibilityRole="image" accessibilityLabel={description}>
+    <View
+      testID={testID}
+      onLayout={(e) => setWidth(Math.round(e.nativeEvent.layout.width))}
+      accessible
+      accessibilityRole="image"
+      accessibilityLabel={description}
+    >
       {series.length === 0 ? (
         <Text tone="muted">No telemetry in this period.</Text>
       ) : width > 0 ? (
         <>
-          <VictoryChart width={width} height={phone ? 240 : 300} padding={{ top: 12, bottom: 44, left: 56, right: phone ? 12 : 24 }} domain={{ x: [from, to], y: [yMin, yMax] }} scale={{ x: 'time' }}>
+          <VictoryChart
+            width={width}
+            height={phone ? 240 : 300}
+            padding={{ top: 12, bottom: 44, left: 56, right: phone ? 12 : 24 }}
+            domain={{ x: [from, to], y: [yMin, yMax] }}
+            scale={{ x: 'time' }}
+          >
             <VictoryAxis tickCount={phone ? 3 : 6} tickFormat={(t: number) => hhmm(t)} style={axisStyle} />
             <VictoryAxis dependentAxis label="°C" tickFormat={(t: number) => `${t}`} style={axisStyle} />
             {series.map((s) => (
@@ -69,10 +86,14 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
             gutter={phone ? 12 : 24}
             orientation="horizontal"
             style={{ labels: { fontSize: 12, fill: colors.ink, fontFamily: font } }}
-            data={series.map((s) => ({ name: `${s.name}${s.style.dash ? ' (dashed)' : ''}`, symbol: { fill: s.style.color, type: 'square' } }))}
+            data={series.map((s) => ({
+              name: `${s.name}${s.style.dash ? ' (dashed)' : ''}`,
+              symbol: { fill: s.style.color, type: 'square' },
+            }))}
           />
           <Text variant="caption" tone="muted" style={{ paddingHorizontal: space.xs }}>
-            {chart.source === 'raw' ? 'From every sample' : 'From per-minute averages'}, one point per {Math.max(1, Math.round(chart.bucketMs / 1000))} s.
+            {chart.source === 'raw' ? 'From every sample' : 'From per-minute averages'}, one point per{' '}
+            {Math.max(1, Math.round(chart.bucketMs / 1000))} s.
           </Text>
         </>
       ) : null}

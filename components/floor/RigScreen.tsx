@@ -43,11 +43,19 @@ function Row({ label, value }: { label: string; value: string }) {
 function SocketDetail({ s, plotted, onTogglePlot }: { s: FloorSocket; plotted: boolean; onTogglePlot: () => void }) {
   const fmt = (n: number | null, unit: string, digits = 3) => (n === null ? '—' : `${Number(n.toPrecision(digits))} ${unit}`);
   return (
-    <Card title={`Socket ${s.index}`} description={s.serial ? `Device ${s.serial}` : 'No device loaded by the current run'} testID="socket-detail" padding="md">
+    <Card
+      title={`Socket ${s.index}`}
+      description={s.serial ? `Device ${s.serial}` : 'No device loaded by the current run'}
+      testID="socket-detail"
+      padding="md"
+    >
       <View style={{ gap: space.xxs }}>
         <Row label="Case temperature" value={fmtC(s.caseC)} />
         <Row label="Bias voltage" value={fmt(s.vV, 'V')} />
-        <Row label="Current" value={s.iA === null ? '—' : Math.abs(s.iA) < 1e-3 ? `${(s.iA * 1e9).toPrecision(3)} nA` : `${(s.iA * 1e3).toPrecision(3)} mA`} />
+        <Row
+          label="Current"
+          value={s.iA === null ? '—' : Math.abs(s.iA) < 1e-3 ? `${(s.iA * 1e9).toPrecision(3)} nA` : `${(s.iA * 1e3).toPrecision(3)} mA`}
+        />
         <Row label="Bias" value={s.tripped ? 'Tripped (latched off)' : s.caseC === null ? '—' : s.biasOn ? 'On' : 'Off'} />
         {s.tripReason ? <Row label="Trip reason" value={s.tripReason} /> : null}
       </View>
@@ -63,7 +71,7 @@ function Board({ board, code }: { board: FloorBoard; code: string }) {
   const [span, setSpan] = useState<ChartSpan>('1h');
   const chart = useRigChart(code, span, plotted ?? []);
   const shownSockets = plotted ?? chart.data?.sockets.map((s) => s.socket) ?? [];
-  const sel = selected !== null ? board.sockets.find((s) => s.index === selected) ?? null : null;
+  const sel = selected !== null ? (board.sockets.find((s) => s.index === selected) ?? null) : null;
   const toggle = (i: number) => {
     const base = shownSockets;
     setPlotted(base.includes(i) ? base.filter((x) => x !== i) : [...base, i].slice(-MAX_PLOTTED));
@@ -74,7 +82,11 @@ function Board({ board, code }: { board: FloorBoard; code: string }) {
       <View style={{ flexDirection: gtTablet ? 'row' : 'column', gap: space.lg, alignItems: 'flex-start' }}>
         <Card
           title="Socket board"
-          description={board.sampleAt ? `Readings of message ${board.seq}, ${formatDateTime(board.sampleAt)} (rig clock). Tap a socket for its readings.` : 'No telemetry from this rig yet.'}
+          description={
+            board.sampleAt
+              ? `Readings of message ${board.seq}, ${formatDateTime(board.sampleAt)} (rig clock). Tap a socket for its readings.`
+              : 'No telemetry from this rig yet.'
+          }
           style={{ flex: gtTablet ? 3 : undefined, alignSelf: 'stretch' }}
         >
           <SocketBoard sockets={board.sockets} selected={selected} onSelect={setSelected} cell={gtPhone ? 60 : 52} />
@@ -89,13 +101,20 @@ function Board({ board, code }: { board: FloorBoard; code: string }) {
             <Row label="Sockets" value={`${t.powered} powered · ${t.tripped} tripped · ${t.empty} empty`} />
             <Row label="Open alarms" value={String(t.openAlarms)} />
             <Row label="Run" value={t.run ? `${t.run.code} (${t.run.state})` : 'None'} />
-            {t.run?.hoursToNextReadPoint != null ? <Row label="Next read point" value={`${t.run.nextReadPointH} h, in ${fmtHours(t.run.hoursToNextReadPoint)} of stress`} /> : null}
+            {t.run?.hoursToNextReadPoint != null ? (
+              <Row label="Next read point" value={`${t.run.nextReadPointH} h, in ${fmtHours(t.run.hoursToNextReadPoint)} of stress`} />
+            ) : null}
             <Row label="Last heard" value={formatDateTime(t.lastSeenAt)} />
           </Card>
           {sel ? <SocketDetail s={sel} plotted={shownSockets.includes(sel.index)} onTogglePlot={() => toggle(sel.index)} /> : null}
         </View>
       </View>
-      <Card title="Temperatures" description={plotted ? 'Chamber and the sockets you chose.' : 'Chamber and the three hottest sockets; tap a socket to choose others.'}>
+      <Card
+        title="Temperatures"
+        description={
+          plotted ? 'Chamber and the sockets you chose.' : 'Chamber and the three hottest sockets; tap a socket to choose others.'
+        }
+      >
         <SegmentedChoice label="Period" hideLabel options={SPANS} value={span} onChange={setSpan} testID="chart-span" />
         <QueryState query={chart} loadingLabel="Loading the chart…" errorTitle="Could not load the chart" loadingVariant="spinner">
           {(c) => <RigChart chart={c} testID="rig-chart" />}
@@ -118,7 +137,11 @@ export function RigScreen() {
       <Header
         eyebrow="Floor"
         title={`Rig ${code}`}
-        subtitle={tile ? `${tile.name}${tile.location ? ` · ${tile.location}` : ''} · ${tile.socketCount} sockets, up to ${tile.maxTempC} °C` : undefined}
+        subtitle={
+          tile
+            ? `${tile.name}${tile.location ? ` · ${tile.location}` : ''} · ${tile.socketCount} sockets, up to ${tile.maxTempC} °C`
+            : undefined
+        }
         actions={
           <View style={{ flexDirection: 'row', gap: space.xs, alignItems: 'center' }}>
             {s ? <StatusPill tone={s.tone} label={s.label} /> : null}

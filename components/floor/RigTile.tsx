@@ -19,7 +19,8 @@ const RUN_STATE_LABEL: Record<string, string> = {
 export function rigState(t: FloorTile): { tone: Tone; label: string } {
   if (!t.active) return { tone: 'idle', label: 'Decommissioned' };
   if (!t.online) return { tone: 'danger', label: 'Offline' };
-  if (t.tripped > 0) return { tone: 'attention', label: t.run ? `${RUN_STATE_LABEL[t.run.state] ?? t.run.state} · trips` : 'Online · trips' };
+  if (t.tripped > 0)
+    return { tone: 'attention', label: t.run ? `${RUN_STATE_LABEL[t.run.state] ?? t.run.state} · trips` : 'Online · trips' };
   if (t.run) return { tone: t.run.state === 'paused' ? 'attention' : 'ok', label: RUN_STATE_LABEL[t.run.state] ?? t.run.state };
   return { tone: 'idle', label: 'Online · idle' };
 }
@@ -95,7 +96,9 @@ export function RigTile({ tile }: { tile: FloorTile }) {
           </Text>
           <Text variant="title">{fmtC(tile.chamberC)}</Text>
           <Text variant="caption" tone={off !== null && Math.abs(off) > 3 ? 'attention' : 'muted'}>
-            {tile.setpointC !== null ? `Setpoint ${fmtC(tile.setpointC, 0)}${off !== null ? ` (${off >= 0 ? '+' : '−'}${Math.abs(off).toFixed(1)} °C)` : ''}` : 'No setpoint reported'}
+            {tile.setpointC !== null
+              ? `Setpoint ${fmtC(tile.setpointC, 0)}${off !== null ? ` (${off >= 0 ? '+' : '−'}${Math.abs(off).toFixed(1)} °C)` : ''}`
+              : 'No setpoint reported'}
             {tile.humidityPct !== null ? ` · ${tile.humidityPct.toFixed(0)} % RH` : ''}
           </Text>
         </View>

@@ -77,7 +77,11 @@ export function SocketBoard({ sockets, selected, onSelect, cell = 64 }: Props) {
               <Text variant="caption" style={{ color: band?.ink ?? colors.inkMuted, fontSize: 11, lineHeight: 14 }}>
                 {s.index}
               </Text>
-              {s.tripped ? <StatusShape tone="danger" size={12} /> : s.caseC !== null && !s.biasOn ? <StatusShape tone="idle" size={12} color={band?.ink} /> : null}
+              {s.tripped ? (
+                <StatusShape tone="danger" size={12} />
+              ) : s.caseC !== null && !s.biasOn ? (
+                <StatusShape tone="idle" size={12} color={band?.ink} />
+              ) : null}
             </View>
             <Text variant="label" style={{ color: band?.ink ?? colors.inkMuted, fontSize: 13, lineHeight: 16 }} numberOfLines={1}>
               {s.tripped ? 'TRIP' : s.caseC === null ? '—' : s.caseC.toFixed(0)}
@@ -92,13 +96,27 @@ export function SocketBoard({ sockets, selected, onSelect, cell = 64 }: Props) {
 /** The legend: every band with its numbers, then the patterns. */
 export function TempLegend() {
   return (
-    <View style={{ gap: space.xs }} testID="temp-legend" accessibilityLabel={`Case temperature scale, °C: ${TEMP_BANDS.map((b) => b.label).join(', ')}`}>
+    <View
+      style={{ gap: space.xs }}
+      testID="temp-legend"
+      accessibilityLabel={`Case temperature scale, °C: ${TEMP_BANDS.map((b) => b.label).join(', ')}`}
+    >
       <Text variant="overline" tone="subtle">
         Case temperature, °C
       </Text>
       <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xxs }}>
         {TEMP_BANDS.map((b) => (
-          <View key={b.label} style={{ backgroundColor: b.fill, paddingHorizontal: space.xs, paddingVertical: 4, borderRadius: radius.sm, borderWidth: 1, borderColor: colors.borderStrong }}>
+          <View
+            key={b.label}
+            style={{
+              backgroundColor: b.fill,
+              paddingHorizontal: space.xs,
+              paddingVertical: 4,
+              borderRadius: radius.sm,
+              borderWidth: 1,
+              borderColor: colors.borderStrong,
+            }}
+          >
             <Text variant="caption" style={{ color: b.ink }}>
               {b.label}
             </Text>
@@ -115,7 +133,9 @@ export function TempLegend() {
           <Text variant="caption">Ring: bias off</Text>
         </View>
         <View style={{ flexDirection: 'row', gap: 6, alignItems: 'center' }}>
-          <View style={{ width: 16, height: 16, borderWidth: 1, borderStyle: 'dashed', borderColor: colors.borderStrong, borderRadius: 3 }} />
+          <View
+            style={{ width: 16, height: 16, borderWidth: 1, borderStyle: 'dashed', borderColor: colors.borderStrong, borderRadius: 3 }}
+          />
           <Text variant="caption">Dashed, “—”: empty socket, no reading</Text>
         </View>
       </View>

@@ -34,23 +34,50 @@ export function MailLogScreen() {
       key: 'status',
       title: 'Result',
       flex: 1,
-      render: (m) => (m.status === 'sent' ? <StatusPill tone="ok" label="Sent" size="sm" /> : <StatusPill tone="danger" label="Failed" size="sm" />),
+      render: (m) =>
+        m.status === 'sent' ? <StatusPill tone="ok" label="Sent" size="sm" /> : <StatusPill tone="danger" label="Failed" size="sm" />,
     },
-    { key: 'to', title: 'To', flex: 1.6, card: 'subtitle', render: (m) => <Text variant="label" tone="muted" numberOfLines={1}>{m.toAddress}</Text> },
+    {
+      key: 'to',
+      title: 'To',
+      flex: 1.6,
+      card: 'subtitle',
+      render: (m) => (
+        <Text variant="label" tone="muted" numberOfLines={1}>
+          {m.toAddress}
+        </Text>
+      ),
+    },
     {
       key: 'subject',
       title: 'Subject',
       flex: 3,
       card: 'title',
       render: (m) => (
-        <Pressable accessibilityRole="button" accessibilityLabel={`Show the e-mail: ${m.subject}`} onPress={() => setOpen(open?.id === m.id ? null : m)}>
+        <Pressable
+          accessibilityRole="button"
+          accessibilityLabel={`Show the e-mail: ${m.subject}`}
+          onPress={() => setOpen(open?.id === m.id ? null : m)}
+        >
           <Text variant="body" numberOfLines={2} style={{ textDecorationLine: 'underline' }}>
             {m.subject}
           </Text>
         </Pressable>
       ),
     },
-    { key: 'error', title: 'Error', flex: 2, render: (m) => (m.error ? <Text variant="caption" tone="danger" numberOfLines={3}>{m.error}</Text> : '—') },
+    {
+      key: 'error',
+      title: 'Error',
+      flex: 2,
+      render: (m) =>
+        m.error ? (
+          <Text variant="caption" tone="danger" numberOfLines={3}>
+            {m.error}
+          </Text>
+        ) : (
+          '—'
+        ),
+    },
   ];
 
   return (
@@ -60,13 +87,28 @@ export function MailLogScreen() {
         title="Mail log"
         subtitle="Every e-mail Emberlot sent about alarms and read points, and every one that failed after its retries."
       />
-      <SegmentedChoice label="Show" options={CHOICES} value={status} onChange={(v) => { setStatus(v); setPage(0); setOpen(null); }} testID="mail-status-filter" />
+      <SegmentedChoice
+        label="Show"
+        options={CHOICES}
+        value={status}
+        onChange={(v) => {
+          setStatus(v);
+          setPage(0);
+          setOpen(null);
+        }}
+        testID="mail-status-filter"
+      />
       <QueryState
         query={log}
         loadingLabel="Loading the mail log…"
         errorTitle="Could not load the mail log"
         isEmpty={(d) => d.items.length === 0}
-        empty={<EmptyState title="No e-mail yet" message="Alarm and read-point e-mails appear here once Emberlot sends them to people who subscribed." />}
+        empty={
+          <EmptyState
+            title="No e-mail yet"
+            message="Alarm and read-point e-mails appear here once Emberlot sends them to people who subscribed."
+          />
+        }
       >
         {(d) => (
           <View style={{ gap: space.sm }}>
@@ -74,10 +116,27 @@ export function MailLogScreen() {
               {d.sent} sent, {d.failed} failed in total{status !== 'all' ? ` · ${d.total} shown by this filter` : ''}.
             </Text>
             {open ? (
-              <View style={{ backgroundColor: colors.surface, borderWidth: 1, borderColor: colors.border, borderRadius: radius.md, padding: space.md, gap: space.xs }} testID="mail-body">
-                <Text variant="heading" heading={3}>{open.subject}</Text>
-                <Text variant="caption" tone="muted">To {open.toAddress} · {formatDateTime(open.createdAt)} · {open.kind}{open.messageId ? ` · ${open.messageId}` : ''}</Text>
-                <Text variant="body" selectable style={{ fontFamily: 'monospace' }}>{open.body}</Text>
+              <View
+                style={{
+                  backgroundColor: colors.surface,
+                  borderWidth: 1,
+                  borderColor: colors.border,
+                  borderRadius: radius.md,
+                  padding: space.md,
+                  gap: space.xs,
+                }}
+                testID="mail-body"
+              >
+                <Text variant="heading" heading={3}>
+                  {open.subject}
+                </Text>
+                <Text variant="caption" tone="muted">
+                  To {open.toAddress} · {formatDateTime(open.createdAt)} · {open.kind}
+                  {open.messageId ? ` · ${open.messageId}` : ''}
+                </Text>
+                <Text variant="body" selectable style={{ fontFamily: 'monospace' }}>
+                  {open.body}
+                </Text>
                 <View style={{ flexDirection: 'row' }}>
                   <Button size="sm" variant="quiet" label="Close" onPress={() => setOpen(null)} />
                 </View>
@@ -85,11 +144,23 @@ export function MailLogScreen() {
             ) : null}
             <DataTable caption="E-mails sent by Emberlot" columns={columns} rows={d.items} rowKey={(m) => m.id} testID="mail-table" />
             <View style={{ flexDirection: 'row', gap: space.sm, alignItems: 'center' }}>
-              <Button size="sm" variant="secondary" label="Newer" disabled={page === 0} onPress={() => setPage((p) => Math.max(0, p - 1))} />
+              <Button
+                size="sm"
+                variant="secondary"
+                label="Newer"
+                disabled={page === 0}
+                onPress={() => setPage((p) => Math.max(0, p - 1))}
+              />
               <Text variant="caption" tone="muted">
                 Page {page + 1} of {Math.max(1, Math.ceil(d.total / MAIL_PAGE_SIZE))}
               </Text>
-              <Button size="sm" variant="secondary" label="Older" disabled={(page + 1) * MAIL_PAGE_SIZE >= d.total} onPress={() => setPage((p) => p + 1)} />
+              <Button
+                size="sm"
+                variant="secondary"
+                label="Older"
+                disabled={(page + 1) * MAIL_PAGE_SIZE >= d.total}
+                onPress={() => setPage((p) => p + 1)}
+              />
             </View>
           </View>
         )}

@@ -53,7 +53,11 @@ export function AddPersonForm({ onCreated, onCancel }: Props) {
   const serverFieldErrors = isApiError(create.error) && create.error.fields;
 
   return (
-    <Card title="Add a person" description="They can sign in straight away with the e-mail and password you set here." testID="add-person-form">
+    <Card
+      title="Add a person"
+      description="They can sign in straight away with the e-mail and password you set here."
+      testID="add-person-form"
+    >
       {create.isError && !serverFieldErrors ? (
         <Banner tone="danger" title="Not added">
           {describeError(create.error)}
@@ -73,7 +77,14 @@ export function AddPersonForm({ onCreated, onCancel }: Props) {
           testID="add-person-email"
         />
       </Columns>
-      <SegmentedChoice label="Role" options={ROLE_CHOICES} value={role} onChange={setRole} error={errors.role} help="Decides which pages they see. You can change it later." />
+      <SegmentedChoice
+        label="Role"
+        options={ROLE_CHOICES}
+        value={role}
+        onChange={setRole}
+        error={errors.role}
+        help="Decides which pages they see. You can change it later."
+      />
       <Field
         label="First password"
         value={password}
@@ -85,7 +96,14 @@ export function AddPersonForm({ onCreated, onCancel }: Props) {
         testID="add-person-password"
       />
       <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
-        <Button label="Add person" variant="primary" onPress={submit} busy={create.isPending} busyLabel="Adding…" testID="add-person-submit" />
+        <Button
+          label="Add person"
+          variant="primary"
+          onPress={submit}
+          busy={create.isPending}
+          busyLabel="Adding…"
+          testID="add-person-submit"
+        />
         <Button label="Cancel" variant="quiet" onPress={onCancel} disabled={create.isPending} />
       </View>
     </Card>

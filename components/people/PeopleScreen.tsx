@@ -78,7 +78,8 @@ export function PeopleScreen() {
       key: 'active',
       title: 'Status',
       flex: 1,
-      render: (u) => (u.active ? <StatusPill tone="ok" label="Active" size="sm" /> : <StatusPill tone="idle" label="Deactivated" size="sm" />),
+      render: (u) =>
+        u.active ? <StatusPill tone="ok" label="Active" size="sm" /> : <StatusPill tone="idle" label="Deactivated" size="sm" />,
     },
     { key: 'last', title: 'Last sign-in', flex: 1.3, render: (u) => formatDateTime(u.lastSignInAt) },
     {
@@ -93,7 +94,12 @@ export function PeopleScreen() {
           </Text>
         ) : (
           <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
-            <Button size="sm" label="Change role" accessibilityLabel={`Change role of ${u.name}`} onPress={() => setPending({ kind: 'role', user: u, role: u.role })} />
+            <Button
+              size="sm"
+              label="Change role"
+              accessibilityLabel={`Change role of ${u.name}`}
+              onPress={() => setPending({ kind: 'role', user: u, role: u.role })}
+            />
             <Button
               size="sm"
               variant="quiet"
@@ -112,7 +118,18 @@ export function PeopleScreen() {
         eyebrow="Administration"
         title="People"
         subtitle="Everyone who can sign in to Emberlot, and what their role lets them do."
-        actions={adding ? null : <Button label="Add person" variant="primary" onPress={() => { setNotice(null); setAdding(true); }} />}
+        actions={
+          adding ? null : (
+            <Button
+              label="Add person"
+              variant="primary"
+              onPress={() => {
+                setNotice(null);
+                setAdding(true);
+              }}
+            />
+          )
+        }
       />
       {notice ? (
         <Banner tone="ok" action={<Button size="sm" variant="quiet" label="Dismiss" onPress={() => setNotice(null)} />}>

@@ -31,7 +31,15 @@ function FindingRow({ f }: { f: CheckFinding }) {
     <View
       role="listitem"
       testID={`finding-${f.code}`}
-      style={{ flexDirection: 'row', gap: space.sm, padding: space.sm, borderRadius: radius.md, borderWidth: 1, borderColor: tones[s.tone].edge, backgroundColor: f.severity === 'ok' ? colors.surface : tones[s.tone].bg }}
+      style={{
+        flexDirection: 'row',
+        gap: space.sm,
+        padding: space.sm,
+        borderRadius: radius.md,
+        borderWidth: 1,
+        borderColor: tones[s.tone].edge,
+        backgroundColor: f.severity === 'ok' ? colors.surface : tones[s.tone].bg,
+      }}
     >
       <View style={{ paddingTop: 3 }}>
         <StatusShape tone={s.tone} size={18} />
@@ -48,7 +56,10 @@ function FindingRow({ f }: { f: CheckFinding }) {
           <View style={{ flexDirection: 'row', flexWrap: 'wrap', columnGap: space.md, rowGap: 2 }}>
             {nums.map(([k, n]) => (
               <Text key={k} variant="caption" tone="muted">
-                {n.label}: <Text variant="caption" style={{ fontWeight: '600' }}>{n.unit === '' && k === 'fractionOfRating' ? `${sig(n.value * 100)} %` : formatValue(n.value, n.unit)}</Text>
+                {n.label}:{' '}
+                <Text variant="caption" style={{ fontWeight: '600' }}>
+                  {n.unit === '' && k === 'fractionOfRating' ? `${sig(n.value * 100)} %` : formatValue(n.value, n.unit)}
+                </Text>
               </Text>
             ))}
           </View>
@@ -106,7 +117,8 @@ export function PlanCheckPanel({ check, pending, incomplete, error, title = 'Pla
             <View style={{ flexDirection: 'row', alignItems: 'center', gap: space.sm, flexWrap: 'wrap' }}>
               <CheckStatusPill status={check.status} />
               <Text variant="caption" tone="muted">
-                {blocks ? `${blocks} refusal${blocks === 1 ? '' : 's'}` : 'No refusals'} · {warns} warning{warns === 1 ? '' : 's'} · {ok.length} OK
+                {blocks ? `${blocks} refusal${blocks === 1 ? '' : 's'}` : 'No refusals'} · {warns} warning{warns === 1 ? '' : 's'} ·{' '}
+                {ok.length} OK
                 {pending ? ' · updating…' : ''}
               </Text>
             </View>
@@ -131,9 +143,9 @@ export function PlanCheckPanel({ check, pending, incomplete, error, title = 'Pla
             ) : null}
             <Text variant="caption" tone="subtle">
               Thresholds used: warn at {sig((check.constants.warnFractionOfLimit ?? 0) * 100)} % of a limit; breakdown derated to{' '}
-              {sig((check.constants.breakdownDerating ?? 0) * 100)} %; runaway loop gain warns at {sig(check.constants.loopGainWarn)} and refuses at{' '}
-              {sig(check.constants.loopGainBlock)}; leakage doubles every {sig(check.constants.leakageDoublingC)} °C. A software check is no substitute
-              for the rig's hardware interlocks.
+              {sig((check.constants.breakdownDerating ?? 0) * 100)} %; runaway loop gain warns at {sig(check.constants.loopGainWarn)} and
+              refuses at {sig(check.constants.loopGainBlock)}; leakage doubles every {sig(check.constants.leakageDoublingC)} °C. A software
+              check is no substitute for the rig's hardware interlocks.
             </Text>
           </>
         )}

@@ -48,7 +48,11 @@ export function PlanDetailScreen() {
   if (!valid) {
     return (
       <Screen>
-        <EmptyState title="No such plan" message="The address does not name a plan." action={<Button label="All plans" onPress={() => router.replace('/plans' as Href)} />} />
+        <EmptyState
+          title="No such plan"
+          message="The address does not name a plan."
+          action={<Button label="All plans" onPress={() => router.replace('/plans' as Href)} />}
+        />
       </Screen>
     );
   }
@@ -73,13 +77,22 @@ function PlanView({ p, canWrite }: { p: PlanDetail; canWrite: boolean }) {
           <>
             <Button label="All plans" variant="quiet" onPress={() => router.push('/plans' as Href)} />
             {canWrite && p.current ? (
-              <Button label={`Edit (makes version ${p.version + 1})`} variant="primary" onPress={() => router.push(`/plans/new?from=${p.id}` as Href)} testID="edit-plan" />
+              <Button
+                label={`Edit (makes version ${p.version + 1})`}
+                variant="primary"
+                onPress={() => router.push(`/plans/new?from=${p.id}` as Href)}
+                testID="edit-plan"
+              />
             ) : null}
           </>
         }
       />
       {!p.current && newest ? (
-        <Banner tone="info" title={`This is version ${p.version}; version ${newest.version} is the newest`} action={<Button size="sm" label={`Open version ${newest.version}`} onPress={() => router.push(planHref(newest.id))} />}>
+        <Banner
+          tone="info"
+          title={`This is version ${p.version}; version ${newest.version} is the newest`}
+          action={<Button size="sm" label={`Open version ${newest.version}`} onPress={() => router.push(planHref(newest.id))} />}
+        >
           Earlier versions stay unchanged for the runs booked with them.
         </Banner>
       ) : null}
@@ -105,7 +118,12 @@ function PlanView({ p, canWrite }: { p: PlanDetail; canWrite: boolean }) {
           {p.bias.ibA !== null ? <Row label="IB (forced)" value={amps(p.bias.ibA)} /> : null}
           <Row label="Bias tolerance" value={`± ${sig(p.bias.tolerancePct)} %`} />
           <Row label="Breakdown derating" value={`${sig(p.breakdownDerating * 100)} % of rating`} />
-          {p.cycle ? <Row label="Cycling" value={`${p.cycle.onMin} min on / ${p.cycle.offMin} min off, ΔTj ${p.cycle.deltaTjC} °C, ${p.cycle.cycles.toLocaleString('en-GB')} cycles`} /> : null}
+          {p.cycle ? (
+            <Row
+              label="Cycling"
+              value={`${p.cycle.onMin} min on / ${p.cycle.offMin} min off, ΔTj ${p.cycle.deltaTjC} °C, ${p.cycle.cycles.toLocaleString('en-GB')} cycles`}
+            />
+          ) : null}
         </Card>
         <Card title="Duration, sample and criteria" padding="md">
           <Row label="Duration" value={`${p.durationH.toLocaleString('en-GB')} h`} />
@@ -115,13 +133,32 @@ function PlanView({ p, canWrite }: { p: PlanDetail; canWrite: boolean }) {
           <Row label="ICBO" value={`≤ ${sig(p.criteria.leakageMultiple)}× initial or ${amps(p.criteria.leakageFloorA)}`} />
           <Row label="VCE(sat) shift" value={`≤ ${sig(p.criteria.vcesatShiftV * 1000)} mV`} />
           <Row label="Ea / use temperature" value={`${sig(p.eaEv)} eV / ${celsius(p.useC)}`} />
-          <Button size="sm" variant="quiet" label={`Ratings of ${p.device.partNumber}`} onPress={() => router.push(deviceHref(p.device.id))} />
+          <Button
+            size="sm"
+            variant="quiet"
+            label={`Ratings of ${p.device.partNumber}`}
+            onPress={() => router.push(deviceHref(p.device.id))}
+          />
         </Card>
       </Columns>
-      {p.notes ? <Banner tone="info" title="Notes">{p.notes}</Banner> : null}
-      {maxV > 0 ? <SafetyCaution compact context={`This plan puts up to ${sig(maxV)} V on every socket in a ${sig(p.chamberC, 4)} °C chamber.`} /> : null}
-      <PlanCheckPanel check={p.checkResult} stored title="Plan check stored with this version" incomplete={p.checkResult ? null : 'No check was stored with this version.'} />
-      <Card title="Version history" description="Editing a plan writes a new version; runs point at the exact version they were booked with.">
+      {p.notes ? (
+        <Banner tone="info" title="Notes">
+          {p.notes}
+        </Banner>
+      ) : null}
+      {maxV > 0 ? (
+        <SafetyCaution compact context={`This plan puts up to ${sig(maxV)} V on every socket in a ${sig(p.chamberC, 4)} °C chamber.`} />
+      ) : null}
+      <PlanCheckPanel
+        check={p.checkResult}
+        stored
+        title="Plan check stored with this version"
+        incomplete={p.checkResult ? null : 'No check was stored with this version.'}
+      />
+      <Card
+        title="Version history"
+        description="Editing a plan writes a new version; runs point at the exact version they were booked with."
+      >
         <View accessibilityRole="list" style={{ gap: space.xs }}>
           {p.versions.map((v) => (
             <View

@@ -41,7 +41,11 @@ export function PlanFormScreen() {
   if (me.data && !can(me.data.role, 'plan.edit')) {
     return (
       <Screen>
-        <EmptyState title="Engineers write plans" message="Your role can read plans but not change them." action={<Button label="Back to plans" onPress={() => router.replace('/plans' as Href)} />} />
+        <EmptyState
+          title="Engineers write plans"
+          message="Your role can read plans but not change them."
+          action={<Button label="Back to plans" onPress={() => router.replace('/plans' as Href)} />}
+        />
       </Screen>
     );
   }
@@ -67,7 +71,13 @@ export function PlanFormScreen() {
         </Screen>
       );
     }
-    return <PlanForm key={base.data.id} initial={formFromPlan(base.data)} versionOf={{ id: base.data.id, version: base.data.version, name: base.data.name }} />;
+    return (
+      <PlanForm
+        key={base.data.id}
+        initial={formFromPlan(base.data)}
+        versionOf={{ id: base.data.id, version: base.data.version, name: base.data.name }}
+      />
+    );
   }
   return <PlanForm initial={emptyForm(typeof params.deviceTypeId === 'string' ? params.deviceTypeId : undefined)} />;
 }
@@ -142,13 +152,21 @@ function PlanForm({ initial, versionOf }: { initial: FormState; versionOf?: { id
             ? `Saving creates version ${versionOf.version + 1}. Version ${versionOf.version} stays as it is for the runs that use it.`
             : 'Start from a template or fill it in; the check updates as you type.'
         }
-        actions={<Button label="Cancel" variant="quiet" onPress={() => (versionOf ? router.replace(planHref(versionOf.id)) : router.replace('/plans' as Href))} />}
+        actions={
+          <Button
+            label="Cancel"
+            variant="quiet"
+            onPress={() => (versionOf ? router.replace(planHref(versionOf.id)) : router.replace('/plans' as Href))}
+          />
+        }
       />
       {gtTablet ? (
         <View style={{ flexDirection: 'row', gap: space.lg, alignItems: 'flex-start' }}>
           <View style={{ flex: 3, minWidth: 0 }}>{form}</View>
           {/* Sticky on the web so the findings stay in view while the bias fields are edited. */}
-          <View style={[{ flex: 2, minWidth: 0 }, Platform.OS === 'web' ? ({ position: 'sticky', top: space.md } as object) : null]}>{checkPanel}</View>
+          <View style={[{ flex: 2, minWidth: 0 }, Platform.OS === 'web' ? ({ position: 'sticky', top: space.md } as object) : null]}>
+            {checkPanel}
+          </View>
         </View>
       ) : (
         form

@@ -46,9 +46,19 @@ export function PlansScreen() {
     { key: 'name', title: 'Plan', flex: 2, card: 'title', render: (p) => p.name },
     { key: 'kind', title: 'Stress', flex: 1.4, render: (p) => <Badge label={KIND_SHORT[p.kind]} /> },
     { key: 'device', title: 'Device', flex: 1, card: 'subtitle', render: (p) => p.device.partNumber },
-    { key: 'chamber', title: 'Chamber', flex: 1, render: (p) => `${celsius(p.chamberC)}${p.humidityPct !== null ? ` / ${p.humidityPct} % RH` : ''}` },
+    {
+      key: 'chamber',
+      title: 'Chamber',
+      flex: 1,
+      render: (p) => `${celsius(p.chamberC)}${p.humidityPct !== null ? ` / ${p.humidityPct} % RH` : ''}`,
+    },
     { key: 'bias', title: 'Bias', flex: 1.6, render: (p) => biasSummary(p) },
-    { key: 'hours', title: 'Hours · sample', flex: 1.1, render: (p) => `${p.durationH.toLocaleString('en-GB')} h · ${p.sampleSize}/${p.acceptNumber}` },
+    {
+      key: 'hours',
+      title: 'Hours · sample',
+      flex: 1.1,
+      render: (p) => `${p.durationH.toLocaleString('en-GB')} h · ${p.sampleSize}/${p.acceptNumber}`,
+    },
     { key: 'version', title: 'Ver.', flex: 0.4, render: (p) => `v${p.version}` },
     { key: 'check', title: 'Check', flex: 1.9, render: (p) => <CheckStatusPill status={p.checkStatus} size="sm" /> },
     {
@@ -56,7 +66,9 @@ export function PlansScreen() {
       title: 'Open',
       flex: 0.7,
       card: 'actions',
-      render: (p) => <Button size="sm" label="Open" accessibilityLabel={`Open plan ${p.name}`} onPress={() => router.push(planHref(p.id))} />,
+      render: (p) => (
+        <Button size="sm" label="Open" accessibilityLabel={`Open plan ${p.name}`} onPress={() => router.push(planHref(p.id))} />
+      ),
     },
   ];
 
@@ -66,7 +78,11 @@ export function PlansScreen() {
         eyebrow="Stress plans"
         title="Plans"
         subtitle="What each lot will be stressed with, checked against the device ratings before anything is powered."
-        actions={canWrite ? <Button label="New plan" variant="primary" onPress={() => router.push('/plans/new' as Href)} testID="new-plan" /> : null}
+        actions={
+          canWrite ? (
+            <Button label="New plan" variant="primary" onPress={() => router.push('/plans/new' as Href)} testID="new-plan" />
+          ) : null
+        }
       />
       <View style={{ gap: space.sm }}>
         <SegmentedChoice
@@ -92,17 +108,29 @@ export function PlansScreen() {
         empty={
           <EmptyState
             title={kind === 'all' && deviceTypeId === 'all' ? 'No plans yet' : 'No plans match'}
-            message={kind !== 'all' ? `No current ${PLAN_KIND_LABEL[kind as PlanKind].toLowerCase()} plans${deviceTypeId !== 'all' ? ' for this device' : ''}.` : 'Start one from a template: HTRB, powered life, intermittent life or THB.'}
+            message={
+              kind !== 'all'
+                ? `No current ${PLAN_KIND_LABEL[kind as PlanKind].toLowerCase()} plans${deviceTypeId !== 'all' ? ' for this device' : ''}.`
+                : 'Start one from a template: HTRB, powered life, intermittent life or THB.'
+            }
             action={canWrite ? <Button label="New plan" onPress={() => router.push('/plans/new' as Href)} /> : undefined}
           />
         }
       >
         {(list) => (
           <>
-            <DataTable caption="Stress plans, current versions" columns={columns} rows={list} rowKey={(p) => p.id} cardsBelow="desktop" minTableWidth={920} testID="plans-table" />
+            <DataTable
+              caption="Stress plans, current versions"
+              columns={columns}
+              rows={list}
+              rowKey={(p) => p.id}
+              cardsBelow="desktop"
+              minTableWidth={920}
+              testID="plans-table"
+            />
             <Text variant="caption" tone="subtle">
-              Only the newest version of each plan is listed; open a plan to see its earlier versions. “Refused by check” plans are drafts: a run
-              cannot be booked with them without a written reason.
+              Only the newest version of each plan is listed; open a plan to see its earlier versions. “Refused by check” plans are drafts:
+              a run cannot be booked with them without a written reason.
             </Text>
           </>
         )}

@@ -29,10 +29,11 @@ export const PLAN_HELP = {
     'the loop that can run away thermally; the plan check shows the margin.',
   tolerancePct: 'Bias band for counting hours: time when a socket is outside ± this band of its set value does not count.',
   durationH: `Total stress hours (${DEFAULT_DURATION_H} h is the usual qualification length).`,
-  readPointsH:
-    `Hours at which the parts come off stress to be measured, e.g. ${DEFAULT_READ_POINTS_H.join(', ')} (common practice). Measure within ${MEASURE_WITHIN_H} h of removing bias.`,
-  sampleSize: 'Devices per lot on stress. 77 per lot with 0 failures is the AEC-Q101 qualification sample; 45/0 the MIL-PRF-19500 life sample.',
-  acceptNumber: 'How many failures the lot may have and still pass. With 77 devices and accept 0, the lot demonstrates LTPD about 3 % at 90 % confidence.',
+  readPointsH: `Hours at which the parts come off stress to be measured, e.g. ${DEFAULT_READ_POINTS_H.join(', ')} (common practice). Measure within ${MEASURE_WITHIN_H} h of removing bias.`,
+  sampleSize:
+    'Devices per lot on stress. 77 per lot with 0 failures is the AEC-Q101 qualification sample; 45/0 the MIL-PRF-19500 life sample.',
+  acceptNumber:
+    'How many failures the lot may have and still pass. With 77 devices and accept 0, the lot demonstrates LTPD about 3 % at 90 % confidence.',
   criteria:
     'A device fails at a read point when a parameter moves beyond these limits from its own time-zero value (MIL-PRF-19500 delta limits: hFE ±15 %, ' +
     'ICBO up to 2× or 200 nA, whichever is greater, VCE(sat) 50 mV).',

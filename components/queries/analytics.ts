@@ -42,7 +42,9 @@ export function useDeviceTypeSummary(id: string | undefined, q: { ltpdPct: numbe
   return useQuery({
     queryKey: analyticsKeys.type(id ?? '', q.ltpdPct, q.acceptNumber),
     queryFn: ({ signal }) =>
-      api<DeviceTypeSummary>(`/api/analytics/device-types/${encodeURIComponent(id!)}?ltpdPct=${q.ltpdPct}&acceptNumber=${q.acceptNumber}`, { signal }),
+      api<DeviceTypeSummary>(`/api/analytics/device-types/${encodeURIComponent(id!)}?ltpdPct=${q.ltpdPct}&acceptNumber=${q.acceptNumber}`, {
+        signal,
+      }),
     enabled: !!id,
     staleTime: STALE_MS,
   });

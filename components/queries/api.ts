@@ -121,7 +121,8 @@ export async function api<T>(path: string, opts: RequestOptions = {}): Promise<T
     res = await fetch(path, {
       method: opts.method ?? 'GET',
       credentials: 'include',
-      headers: opts.body !== undefined ? { 'Content-Type': 'application/json', Accept: 'application/json' } : { Accept: 'application/json' },
+      headers:
+        opts.body !== undefined ? { 'Content-Type': 'application/json', Accept: 'application/json' } : { Accept: 'application/json' },
       body: opts.body !== undefined ? JSON.stringify(opts.body) : undefined,
       signal: controller.signal,
     });

@@ -44,8 +44,7 @@ export function useMe() {
 export function useSignIn() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (input: SignInInput) =>
-      api<{ user: Me }>('/api/auth/sign-in', { method: 'POST', body: input }).then((r) => r.user),
+    mutationFn: (input: SignInInput) => api<{ user: Me }>('/api/auth/sign-in', { method: 'POST', body: input }).then((r) => r.user),
     meta: { expectUnauthenticated: true },
     onSuccess: (user) => {
       // A different person may have been signed in on this device: start from clean queries.

@@ -25,7 +25,8 @@ export const FLOOR_POLL_MS = 2_000;
 export const CHART_REFRESH_MS = 10_000;
 
 const enc = encodeURIComponent;
-const hasEventSource = () => typeof globalThis !== 'undefined' && typeof (globalThis as { EventSource?: unknown }).EventSource === 'function';
+const hasEventSource = () =>
+  typeof globalThis !== 'undefined' && typeof (globalThis as { EventSource?: unknown }).EventSource === 'function';
 
 export function useFloor() {
   return useQuery({

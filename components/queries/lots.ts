@@ -29,7 +29,12 @@ export function useLot(id: string | undefined) {
 type SerialsErrorBody = { error?: { code?: ErrorCode; message?: string; fields?: Record<string, string[]>; rows?: SerialRowProblem[] } };
 
 export class SerialRowsError extends ApiError {
-  constructor(status: number, message: string, readonly rows: SerialRowProblem[], fields?: Record<string, string[]>) {
+  constructor(
+    status: number,
+    message: string,
+    readonly rows: SerialRowProblem[],
+    fields?: Record<string, string[]>,
+  ) {
     super(status, 'unprocessable', message, fields);
   }
 }
@@ -61,7 +66,13 @@ async function upload<T>(path: string, file: PickedFile): Promise<T> {
   const timer = setTimeout(() => controller.abort(), REQUEST_TIMEOUT_MS);
   let res: Response;
   try {
-    res = await fetch(path, { method: 'POST', body: fd, credentials: 'include', headers: { Accept: 'application/json' }, signal: controller.signal });
+    res = await fetch(path, {
+      method: 'POST',
+      body: fd,
+      credentials: 'include',
+      headers: { Accept: 'application/json' },
+      signal: controller.signal,
+    });
   } catch {
     throw new ApiError(0, controller.signal.aborted ? 'timeout' : 'network', 'Emberlot could not reach the server.');
   } finally {
@@ -76,24 +87,37 @@ async function upload<T>(path: string, file: PickedFile): Promise<T> {
   if (res.ok) return serverBody<T>(body);
   const err = serverBody<SerialsErrorBody | undefined>(body)?.error;
   if (err && Array.isArray(err.rows)) throw new SerialRowsError(res.status, String(err.message), err.rows, err.fields);
-  throw new ApiError(res.status, err?.code ?? (res.status === 413 ? 'too_large' : 'bad_request'), String(err?.message ?? `The server answered ${res.status}.`), err?.fields);
+  throw new ApiError(
+    res.status,
+    err?.code ?? (res.status === 413 ? 'too_large' : 'bad_request'),
+    String(err?.message ?? `The server answered ${res.status}.`),
+    err?.fields,
+  );
 }
 
 export function useCreateLot() {
   const qc = useQueryClient();
   return useMutation({
     mutationFn: (input: LotInput) => api<LotDetail>('/api/lots', { method: 'POST', body: input }),
-    onSuccess: () => Promise.all([qc.invalidateQueries({ queryKey: catalogKeys.lots.all }), qc.invalidateQueries({ queryKey: catalogKeys.deviceTypes.all })]),
+    onSuccess: () =>
+      Promise.all([
+        qc.invalidateQueries({ queryKey: catalogKeys.lots.all }),
+        qc.invalidateQueries({ queryKey: catalogKeys.deviceTypes.all }),
+      ]),
   });
 }
 
 export function useAddSerials(lotId: string) {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (input: AddSerialsInput) => api<LotDetail>(`/api/lots/${encodeURIComponent(lotId)}/serials`, { method: 'POST', body: input }),
+    mutationFn: (input: AddSerialsInput) =>
+      api<LotDetail>(`/api/lots/${encodeURIComponent(lotId)}/serials`, { method: 'POST', body: input }),
     onSuccess: (lot) => {
       qc.setQueryData(catalogKeys.lots.one(lot.id), lot);
-      return Promise.all([qc.invalidateQueries({ queryKey: catalogKeys.lots.all }), qc.invalidateQueries({ queryKey: catalogKeys.deviceTypes.all })]);
+      return Promise.all([
+        qc.invalidateQueries({ queryKey: catalogKeys.lots.all }),
+        qc.invalidateQueries({ queryKey: catalogKeys.deviceTypes.all }),
+      ]);
     },
   });
 }
@@ -104,7 +128,10 @@ export function useUploadSerials(lotId: string) {
     mutationFn: (file: PickedFile) => upload<LotDetail>(`/api/lots/${encodeURIComponent(lotId)}/serials/csv`, file),
     onSuccess: (lot) => {
       qc.setQueryData(catalogKeys.lots.one(lot.id), lot);
-      return Promise.all([qc.invalidateQueries({ queryKey: catalogKeys.lots.all }), qc.invalidateQueries({ queryKey: catalogKeys.deviceTypes.all })]);
+      return Promise.all([
+        qc.invalidateQueries({ queryKey: catalogKeys.lots.all }),
+        qc.invalidateQueries({ queryKey: catalogKeys.deviceTypes.all }),
+      ]);
     },
   });
 }
@@ -112,6 +139,7 @@ export function useUploadSerials(lotId: string) {
 /** Reads a serial file for the new-lot form; stores nothing. */
 export function useParseSerialFile() {
   return useMutation({
-    mutationFn: (file: PickedFile) => upload<{ serials: string[]; rows: SerialRowProblem[]; total: number }>('/api/lots/serials/parse-csv', file),
+    mutationFn: (file: PickedFile) =>
+      upload<{ serials: string[]; rows: SerialRowProblem[]; total: number }>('/api/lots/serials/parse-csv', file),
   });
 }

@@ -11,7 +11,9 @@ export const mailKeys = {
 export const MAIL_PAGE_SIZE = 50;
 
 export function useMailLog(status: 'all' | 'sent' | 'failed', page = 0) {
-  const qs = [status !== 'all' ? `status=${status}` : null, `limit=${MAIL_PAGE_SIZE}`, `offset=${page * MAIL_PAGE_SIZE}`].filter(Boolean).join('&');
+  const qs = [status !== 'all' ? `status=${status}` : null, `limit=${MAIL_PAGE_SIZE}`, `offset=${page * MAIL_PAGE_SIZE}`]
+    .filter(Boolean)
+    .join('&');
   return useQuery({
     queryKey: mailKeys.list(status, page),
     queryFn: ({ signal }) => api<MailList>(`/api/mail?${qs}`, { signal }),

@@ -34,7 +34,9 @@ export function useReadPointReadings(id: string | undefined, hours: number | und
   return useQuery({
     queryKey: measurementKeys.readings(id ?? '', hours ?? -1),
     queryFn: ({ signal }) =>
-      api<{ items: StoredReading[] }>(`/api/measurements/runs/${encodeURIComponent(id!)}/read-points/${hours}`, { signal }).then((r) => r.items),
+      api<{ items: StoredReading[] }>(`/api/measurements/runs/${encodeURIComponent(id!)}/read-points/${hours}`, { signal }).then(
+        (r) => r.items,
+      ),
     enabled: !!id && hours !== undefined,
     staleTime: STALE_MS,
   });
@@ -51,7 +53,11 @@ export function useMeasurementRun(id: string | undefined) {
 
 /** A refused upload or entry that says, row by row, what was wrong (422 with `rows`). */
 export class RowsError extends ApiError {
-  constructor(status: number, message: string, readonly rows: RowResult[]) {
+  constructor(
+    status: number,
+    message: string,
+    readonly rows: RowResult[],
+  ) {
     super(status, 'unprocessable', message);
   }
 }

@@ -28,7 +28,9 @@ export function usePlanTemplates(deviceTypeId: string | undefined) {
   return useQuery({
     queryKey: catalogKeys.plans.templates(deviceTypeId),
     queryFn: ({ signal }) =>
-      api<{ items: PlanTemplate[] }>(`/api/plans/templates${deviceTypeId ? `?deviceTypeId=${encodeURIComponent(deviceTypeId)}` : ''}`, { signal }).then((r) => r.items),
+      api<{ items: PlanTemplate[] }>(`/api/plans/templates${deviceTypeId ? `?deviceTypeId=${encodeURIComponent(deviceTypeId)}` : ''}`, {
+        signal,
+      }).then((r) => r.items),
     staleTime: 5 * 60_000,
   });
 }
@@ -67,7 +69,11 @@ export function useCreatePlan() {
   const qc = useQueryClient();
   return useMutation({
     mutationFn: (input: PlanInput) => api<PlanDetail>('/api/plans', { method: 'POST', body: input }),
-    onSuccess: () => Promise.all([qc.invalidateQueries({ queryKey: catalogKeys.plans.all }), qc.invalidateQueries({ queryKey: catalogKeys.deviceTypes.all })]),
+    onSuccess: () =>
+      Promise.all([
+        qc.invalidateQueries({ queryKey: catalogKeys.plans.all }),
+        qc.invalidateQueries({ queryKey: catalogKeys.deviceTypes.all }),
+      ]),
   });
 }
 

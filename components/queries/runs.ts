@@ -74,7 +74,10 @@ export function useBookSample() {
 
 /** A refused socket map (422) still carries its flags; this error keeps them for the screen. */
 export class SocketFlagsError extends ApiError {
-  constructor(message: string, readonly flags: SocketFlag[]) {
+  constructor(
+    message: string,
+    readonly flags: SocketFlag[],
+  ) {
     super(422, 'unprocessable', message);
   }
 }
@@ -89,7 +92,10 @@ export function useLoadSockets(runId: string) {
         return await api<SocketLoadResult>(`/api/runs/${encodeURIComponent(runId)}/sockets`, { method: 'PUT', body: input });
       } catch (e) {
         if (e instanceof ApiError && e.status === 422 && !input.dryRun) {
-          const check = await api<SocketLoadResult>(`/api/runs/${encodeURIComponent(runId)}/sockets`, { method: 'PUT', body: { ...input, dryRun: true } });
+          const check = await api<SocketLoadResult>(`/api/runs/${encodeURIComponent(runId)}/sockets`, {
+            method: 'PUT',
+            body: { ...input, dryRun: true },
+          });
           throw new SocketFlagsError(e.message, check.flags);
         }
         throw e;

@@ -30,7 +30,13 @@ export function CsvFilePicker({ onPick, disabled, fileName }: CsvFilePickerProps
         tabIndex={-1}
         data-testid="csv-file-input"
       />
-      <Button label={fileName ? 'Choose another file' : 'Choose CSV file'} variant="secondary" disabled={disabled} onPress={() => input.current?.click()} testID="csv-choose" />
+      <Button
+        label={fileName ? 'Choose another file' : 'Choose CSV file'}
+        variant="secondary"
+        disabled={disabled}
+        onPress={() => input.current?.click()}
+        testID="csv-choose"
+      />
       {fileName ? <Text variant="label">{fileName}</Text> : <Text tone="muted">No file chosen</Text>}
     </View>
   );

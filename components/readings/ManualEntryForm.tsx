@@ -59,23 +59,38 @@ export function ManualEntryForm({ runId, hours }: { runId: string; hours: number
     const errs: Record<string, string> = {};
     rows.forEach((r, i) => {
       const n = (s: string) => (s.trim() === '' ? Number.NaN : Number(s.replace(',', '.')));
-      const parsed = manualReadingSchema.safeParse(r.result !== 'measured' ? { serial: r.serial, result: r.result, measuredC: n(r.tempC) } : {
-        serial: r.serial,
-        result: r.result,
-        hfe: n(r.hfe),
-        hfeIcA: n(r.hfeIcMa) / 1000,
-        hfeVceV: n(r.hfeVceV),
-        icboA: n(r.icboNa) * 1e-9,
-        icboVcbV: n(r.icboVcbV),
-        vcesatV: n(r.vcesatMv) / 1000,
-        measuredC: n(r.tempC),
-      });
+      const parsed = manualReadingSchema.safeParse(
+        r.result !== 'measured'
+          ? { serial: r.serial, result: r.result, measuredC: n(r.tempC) }
+          : {
+              serial: r.serial,
+              result: r.result,
+              hfe: n(r.hfe),
+              hfeIcA: n(r.hfeIcMa) / 1000,
+              hfeVceV: n(r.hfeVceV),
+              icboA: n(r.icboNa) * 1e-9,
+              icboVcbV: n(r.icboVcbV),
+              vcesatV: n(r.vcesatMv) / 1000,
+              measuredC: n(r.tempC),
+            },
+      );
       if (parsed.success) items.push(parsed.data);
       else {
-        const map: Record<string, keyof Draft> = { serial: 'serial', hfe: 'hfe', hfeIcA: 'hfeIcMa', hfeVceV: 'hfeVceV', icboA: 'icboNa', icboVcbV: 'icboVcbV', vcesatV: 'vcesatMv', measuredC: 'tempC' };
+        const map: Record<string, keyof Draft> = {
+          serial: 'serial',
+          hfe: 'hfe',
+          hfeIcA: 'hfeIcMa',
+          hfeVceV: 'hfeVceV',
+          icboA: 'icboNa',
+          icboVcbV: 'icboVcbV',
+          vcesatV: 'vcesatMv',
+          measuredC: 'tempC',
+        };
         for (const issue of parsed.error.issues) {
           const k = map[String(issue.path[0])];
-          if (k && !errs[`${i}.${k}`]) errs[`${i}.${k}`] = issue.message.startsWith('Invalid input') || issue.message.includes('NaN') ? 'Enter a number' : issue.message;
+          if (k && !errs[`${i}.${k}`])
+            errs[`${i}.${k}`] =
+              issue.message.startsWith('Invalid input') || issue.message.includes('NaN') ? 'Enter a number' : issue.message;
         }
       }
     });
@@ -108,7 +123,11 @@ export function ManualEntryForm({ runId, hours }: { runId: string; hours: number
   );
 
   return (
-    <Card title="Enter readings by hand" description="For a few devices. Units as labelled; everything is stored together or not at all." testID="manual-entry">
+    <Card
+      title="Enter readings by hand"
+      description="For a few devices. Units as labelled; everything is stored together or not at all."
+      testID="manual-entry"
+    >
       <View style={{ gap: space.md }}>
         {rows.map((_, i) => (
           <View key={i} style={{ gap: space.xs }}>
@@ -118,7 +137,11 @@ export function ManualEntryForm({ runId, hours }: { runId: string; hours: number
               options={MEASUREMENT_RESULTS.map((k) => ({ value: k, label: MEASUREMENT_RESULT_LABEL[k] }))}
               value={rows[i].result}
               onChange={(v) => set(i, 'result', v)}
-              help={rows[i].result === 'measured' ? undefined : 'A dead device is stored without values and counts as a failure at this read point.'}
+              help={
+                rows[i].result === 'measured'
+                  ? undefined
+                  : 'A dead device is stored without values and counts as a failure at this read point.'
+              }
             />
             <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.sm }}>
               {f(i, 'serial', 'Serial', false)}
@@ -134,12 +157,26 @@ export function ManualEntryForm({ runId, hours }: { runId: string; hours: number
               ) : null}
               {f(i, 'tempC', 'Temperature (°C)')}
             </View>
-            {rows.length > 1 ? <Button size="sm" variant="quiet" label={`Remove device ${i + 1}`} onPress={() => setRows(rows.filter((__, j) => j !== i))} /> : null}
+            {rows.length > 1 ? (
+              <Button size="sm" variant="quiet" label={`Remove device ${i + 1}`} onPress={() => setRows(rows.filter((__, j) => j !== i))} />
+            ) : null}
           </View>
         ))}
         <View style={{ flexDirection: 'row', gap: space.sm, flexWrap: 'wrap' }}>
-          <Button variant="secondary" label="Add a device" disabled={rows.length >= MAX_ROWS} onPress={() => setRows([...rows, blank(rows[rows.length - 1])])} />
-          <Button variant="primary" label={`Store ${rows.length} reading${rows.length === 1 ? '' : 's'}`} onPress={submit} busy={entry.isPending} busyLabel="Storing…" testID="manual-store" />
+          <Button
+            variant="secondary"
+            label="Add a device"
+            disabled={rows.length >= MAX_ROWS}
+            onPress={() => setRows([...rows, blank(rows[rows.length - 1])])}
+          />
+          <Button
+            variant="primary"
+            label={`Store ${rows.length} reading${rows.length === 1 ? '' : 's'}`}
+            onPress={submit}
+            busy={entry.isPending}
+            busyLabel="Storing…"
+            testID="manual-store"
+          />
         </View>
         {failure ? (
           <Banner tone="danger" title="Nothing stored">

@@ -31,13 +31,18 @@ export function ReadingsScreen() {
   const run = useMeasurementRun(runId);
 
   const sorted = useMemo(
-    () => [...(runs.data ?? [])].sort((a, b) => STATE_ORDER.indexOf(a.state) - STATE_ORDER.indexOf(b.state) || a.code.localeCompare(b.code)),
+    () =>
+      [...(runs.data ?? [])].sort((a, b) => STATE_ORDER.indexOf(a.state) - STATE_ORDER.indexOf(b.state) || a.code.localeCompare(b.code)),
     [runs.data],
   );
 
   return (
     <Screen width="wide" testID="readings-screen">
-      <Header eyebrow="Floor" title="Read points" subtitle="Store each device's hFE, leakage and saturation voltage when a run stops at a read point." />
+      <Header
+        eyebrow="Floor"
+        title="Read points"
+        subtitle="Store each device's hFE, leakage and saturation voltage when a run stops at a read point."
+      />
       <SafetyCaution />
       <QueryState
         query={runs}
@@ -66,10 +71,16 @@ export function ReadingsScreen() {
                   const chosen = r.readPoints.find((p) => p.hours === hours);
                   return (
                     <View style={{ gap: space.lg }}>
-                      <Card title={`${r.code} · ${r.partNumber}`} description={`${r.planName} · ${r.deviceCount} devices in ${r.rigCode ?? 'no rig'} · ${Math.round(r.stressHours)} stress hours`}>
+                      <Card
+                        title={`${r.code} · ${r.partNumber}`}
+                        description={`${r.planName} · ${r.deviceCount} devices in ${r.rigCode ?? 'no rig'} · ${Math.round(r.stressHours)} stress hours`}
+                      >
                         <SegmentedChoice
                           label="Read point"
-                          options={reached.map((p) => ({ value: String(p.hours), label: `${p.hours} h · ${p.measured}/${r.deviceCount} stored${p.late ? ` · ${p.late} late` : ''}` }))}
+                          options={reached.map((p) => ({
+                            value: String(p.hours),
+                            label: `${p.hours} h · ${p.measured}/${r.deviceCount} stored${p.late ? ` · ${p.late} late` : ''}`,
+                          }))}
                           value={hours === undefined ? undefined : String(hours)}
                           onChange={(v) => setHours(Number(v))}
                           help={later.length ? `Not reached yet: ${later.map((p) => `${p.hours} h`).join(', ')}.` : undefined}
@@ -77,11 +88,14 @@ export function ReadingsScreen() {
                         />
                         {r.biasRemovedAt ? (
                           <Text variant="caption" tone="muted">
-                            Bias last removed {formatDateTime(r.biasRemovedAt)}. Readings more than {MEASURE_WITHIN_H} h later are flagged late; put the parts back on stress first (JESD22-A108, from memory).
+                            Bias last removed {formatDateTime(r.biasRemovedAt)}. Readings more than {MEASURE_WITHIN_H} h later are flagged
+                            late; put the parts back on stress first (JESD22-A108, from memory).
                           </Text>
                         ) : null}
                       </Card>
-                      {r.deviceCount === 0 ? <Banner tone="warn">This run has no socket map yet, so no reading can be matched to a device.</Banner> : null}
+                      {r.deviceCount === 0 ? (
+                        <Banner tone="warn">This run has no socket map yet, so no reading can be matched to a device.</Banner>
+                      ) : null}
                       {chosen && r.deviceCount > 0 ? (
                         <>
                           <CoveragePanel key={`c-${r.id}-${chosen.hours}`} runId={r.id} hours={chosen.hours} />

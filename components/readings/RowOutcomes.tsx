@@ -45,7 +45,8 @@ const columns = (noun: string): Column<RowResult>[] => [
 ];
 
 function valuesText(v: NonNullable<RowResult['values']>): string {
-  if (v.result !== 'measured') return `${MEASUREMENT_RESULT_LABEL[v.result]}: counts as a failure at this read point (measured at ${v.measuredC} °C)`;
+  if (v.result !== 'measured')
+    return `${MEASUREMENT_RESULT_LABEL[v.result]}: counts as a failure at this read point (measured at ${v.measuredC} °C)`;
   const nA = v.icboA === null ? '—' : `${+(v.icboA * 1e9).toPrecision(4)} nA`;
   const mV = v.vcesatV === null ? '—' : `${+(v.vcesatV * 1000).toPrecision(4)} mV`;
   return `hFE ${v.hfe}, ICBO ${nA}, VCE(sat) ${mV} at ${v.measuredC} °C`;

@@ -30,7 +30,12 @@ const NONE = '__none__';
 function Progress({ fraction }: { fraction: number }) {
   const pct = Math.round(fraction * 100);
   return (
-    <View accessibilityRole="progressbar" accessibilityValue={{ min: 0, max: 100, now: pct }} accessibilityLabel="Upload progress" style={{ gap: 4 }}>
+    <View
+      accessibilityRole="progressbar"
+      accessibilityValue={{ min: 0, max: 100, now: pct }}
+      accessibilityLabel="Upload progress"
+      style={{ gap: 4 }}
+    >
       <View style={{ height: 8, borderRadius: radius.pill, backgroundColor: colors.surfaceSunken, overflow: 'hidden' }}>
         <View style={{ width: `${pct}%`, height: 8, backgroundColor: colors.graphite }} />
       </View>
@@ -65,7 +70,9 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
     reset();
     if (f.size > UPLOAD_MAX_BYTES) {
       setFile(null);
-      setError({ message: `${f.name} is ${(f.size / 1024 / 1024).toFixed(1)} MB; the limit is ${UPLOAD_MAX_BYTES / 1024 / 1024} MB. Split it by lot or read point.` });
+      setError({
+        message: `${f.name} is ${(f.size / 1024 / 1024).toFixed(1)} MB; the limit is ${UPLOAD_MAX_BYTES / 1024 / 1024} MB. Split it by lot or read point.`,
+      });
       return;
     }
     const hs = csvHeaders(text);
@@ -77,7 +84,8 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
   };
 
   const temp = Number(tempC);
-  const tempError = tempC.trim() === '' || !Number.isFinite(temp) || temp < -65 || temp > 300 ? 'Enter a temperature between −65 and 300 °C' : undefined;
+  const tempError =
+    tempC.trim() === '' || !Number.isFinite(temp) || temp < -65 || temp > 300 ? 'Enter a temperature between −65 and 300 °C' : undefined;
   const missing = choice ? missingRequired(choice) : [];
   const doubled = choice ? doubleUsed(choice) : [];
   const ready = !!file && !!choice && !missing.length && !doubled.length && !tempError;
@@ -87,7 +95,16 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
     setError(null);
     setProgress(isPreview ? null : 0);
     upload.mutate(
-      { runId, hours, preview: isPreview, file, mapping: toMapping(choice), units, defaultTempC: temp, onProgress: isPreview ? undefined : setProgress },
+      {
+        runId,
+        hours,
+        preview: isPreview,
+        file,
+        mapping: toMapping(choice),
+        units,
+        defaultTempC: temp,
+        onProgress: isPreview ? undefined : setProgress,
+      },
       {
         onSuccess: (r) => {
           setProgress(null);
@@ -106,7 +123,11 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
   };
 
   return (
-    <Card title="Upload the tester's file" description={`CSV from the parametric tester, one row per device, up to ${UPLOAD_MAX_BYTES / 1024 / 1024} MB.`} testID="upload-panel">
+    <Card
+      title="Upload the tester's file"
+      description={`CSV from the parametric tester, one row per device, up to ${UPLOAD_MAX_BYTES / 1024 / 1024} MB.`}
+      testID="upload-panel"
+    >
       <View style={{ gap: space.md }}>
         <CsvFilePicker onPick={onPick} disabled={upload.isPending} fileName={file?.name ?? null} />
         {file && choice ? (
@@ -122,47 +143,93 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
               {!editColumns ? (
                 <View style={{ gap: space.xs }}>
                   <Text variant="label" testID="column-summary">
-                    {MEASUREMENT_COLUMNS.filter((c) => choice[c]).map((c) => `${COLUMN_LABEL[c].replace(/ \(.*\)$/, '')} ← ${choice[c]}`).join(' · ')}
+                    {MEASUREMENT_COLUMNS.filter((c) => choice[c])
+                      .map((c) => `${COLUMN_LABEL[c].replace(/ \(.*\)$/, '')} ← ${choice[c]}`)
+                      .join(' · ')}
                   </Text>
                   <Button size="sm" variant="quiet" label="Change columns" onPress={() => setEditColumns(true)} testID="edit-columns" />
                 </View>
               ) : null}
-              {!editColumns ? null : MEASUREMENT_COLUMNS.map((c) => {
-                const required = REQUIRED_COLUMNS.includes(c);
-                return (
-                  <SegmentedChoice
-                    key={c}
-                    label={`${COLUMN_LABEL[c]}${required ? '' : ' (optional)'}`}
-                    options={[...headers.map((h) => ({ value: h, label: h })), { value: NONE, label: 'Not in file' }]}
-                    value={choice[c] ?? NONE}
-                    onChange={(v) => {
-                      reset();
-                      setChoice({ ...choice, [c]: v === NONE ? null : v });
-                    }}
-                    error={required && !choice[c] ? 'Choose the column that holds this value' : choice[c] && doubled.includes(choice[c]!) ? 'This column is chosen twice' : undefined}
-                    testID={`map-${c}`}
-                  />
-                );
-              })}
+              {!editColumns
+                ? null
+                : MEASUREMENT_COLUMNS.map((c) => {
+                    const required = REQUIRED_COLUMNS.includes(c);
+                    return (
+                      <SegmentedChoice
+                        key={c}
+                        label={`${COLUMN_LABEL[c]}${required ? '' : ' (optional)'}`}
+                        options={[...headers.map((h) => ({ value: h, label: h })), { value: NONE, label: 'Not in file' }]}
+                        value={choice[c] ?? NONE}
+                        onChange={(v) => {
+                          reset();
+                          setChoice({ ...choice, [c]: v === NONE ? null : v });
+                        }}
+                        error={
+                          required && !choice[c]
+                            ? 'Choose the column that holds this value'
+                            : choice[c] && doubled.includes(choice[c]!)
+                              ? 'This column is chosen twice'
+                              : undefined
+                        }
+                        testID={`map-${c}`}
+                      />
+                    );
+                  })}
             </View>
             <View style={{ gap: space.sm }}>
               <Text variant="heading" heading={3}>
                 Units in the file
               </Text>
-              <SegmentedChoice label="ICBO leakage" options={LEAKAGE_UNITS.map((u) => ({ value: u, label: UNIT_LABEL[u] }))} value={units.icbo} onChange={(v) => { reset(); setUnits({ ...units, icbo: v }); }} testID="unit-icbo" />
-              <SegmentedChoice label="IC for hFE" options={CURRENT_UNITS.map((u) => ({ value: u, label: UNIT_LABEL[u] }))} value={units.hfeIc} onChange={(v) => { reset(); setUnits({ ...units, hfeIc: v }); }} />
-              <SegmentedChoice label="VCE(sat)" options={VOLTAGE_UNITS.map((u) => ({ value: u, label: UNIT_LABEL[u] }))} value={units.vcesat} onChange={(v) => { reset(); setUnits({ ...units, vcesat: v }); }} />
+              <SegmentedChoice
+                label="ICBO leakage"
+                options={LEAKAGE_UNITS.map((u) => ({ value: u, label: UNIT_LABEL[u] }))}
+                value={units.icbo}
+                onChange={(v) => {
+                  reset();
+                  setUnits({ ...units, icbo: v });
+                }}
+                testID="unit-icbo"
+              />
+              <SegmentedChoice
+                label="IC for hFE"
+                options={CURRENT_UNITS.map((u) => ({ value: u, label: UNIT_LABEL[u] }))}
+                value={units.hfeIc}
+                onChange={(v) => {
+                  reset();
+                  setUnits({ ...units, hfeIc: v });
+                }}
+              />
+              <SegmentedChoice
+                label="VCE(sat)"
+                options={VOLTAGE_UNITS.map((u) => ({ value: u, label: UNIT_LABEL[u] }))}
+                value={units.vcesat}
+                onChange={(v) => {
+                  reset();
+                  setUnits({ ...units, vcesat: v });
+                }}
+              />
               <Field
                 label="Measurement temperature when the file has none (°C)"
                 keyboardType="numeric"
                 value={tempC}
-                onChangeText={(v) => { reset(); setTempC(v); }}
+                onChangeText={(v) => {
+                  reset();
+                  setTempC(v);
+                }}
                 error={tempError}
                 help="hFE measured away from the part's reference temperature is referred to it before drift is judged."
               />
             </View>
             <View style={{ flexDirection: 'row', gap: space.sm, flexWrap: 'wrap' }}>
-              <Button label="Check every row" variant="secondary" onPress={() => send(true)} disabled={!ready} busy={upload.isPending && progress === null} busyLabel="Checking…" testID="upload-preview" />
+              <Button
+                label="Check every row"
+                variant="secondary"
+                onPress={() => send(true)}
+                disabled={!ready}
+                busy={upload.isPending && progress === null}
+                busyLabel="Checking…"
+                testID="upload-preview"
+              />
               <Button
                 label={preview ? `Store ${preview.stored} reading${preview.stored === 1 ? '' : 's'}` : 'Store readings'}
                 variant="primary"
@@ -198,7 +265,10 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
         ) : null}
         {stored ? (
           <View style={{ gap: space.sm }} testID="upload-stored">
-            <Banner tone={stored.status === 'already-stored' ? 'info' : 'ok'} title={stored.status === 'already-stored' ? 'Already stored' : 'Stored'}>
+            <Banner
+              tone={stored.status === 'already-stored' ? 'info' : 'ok'}
+              title={stored.status === 'already-stored' ? 'Already stored' : 'Stored'}
+            >
               {stored.status === 'already-stored'
                 ? stored.notes[0]
                 : `${stored.inserted} new and ${stored.replaced} replaced readings stored; ${stored.rejected} rows refused${stored.late ? `; ${stored.late} flagged late` : ''}.`}

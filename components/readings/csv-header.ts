@@ -1,4 +1,10 @@
-import { MEASUREMENT_COLUMNS, ownColumn, REQUIRED_COLUMNS, type ColumnMapping, type MeasurementColumn } from '@/shared/schemas/measurements';
+import {
+  MEASUREMENT_COLUMNS,
+  ownColumn,
+  REQUIRED_COLUMNS,
+  type ColumnMapping,
+  type MeasurementColumn,
+} from '@/shared/schemas/measurements';
 
 /** The header cells of a CSV's first line (same delimiter rule as the server: , ; or tab, whichever is most common). */
 export function csvHeaders(text: string): string[] {

@@ -71,12 +71,20 @@ export function MaintenancePanel({ rig, canEdit, onClose }: { rig: Rig; canEdit:
         loadingLabel="Loading maintenance…"
         errorTitle="Could not load maintenance"
         isEmpty={(l) => l.length === 0}
-        empty={<EmptyState title="No maintenance booked" message={canEdit ? 'Book a window below.' : 'An administrator books maintenance windows.'} />}
+        empty={
+          <EmptyState
+            title="No maintenance booked"
+            message={canEdit ? 'Book a window below.' : 'An administrator books maintenance windows.'}
+          />
+        }
       >
         {(items) => (
           <View style={{ gap: space.xs }}>
             {items.map((w) => (
-              <View key={w.id} style={{ flexDirection: 'row', justifyContent: 'space-between', alignItems: 'center', gap: space.sm, flexWrap: 'wrap' }}>
+              <View
+                key={w.id}
+                style={{ flexDirection: 'row', justifyContent: 'space-between', alignItems: 'center', gap: space.sm, flexWrap: 'wrap' }}
+              >
                 <View style={{ flexShrink: 1 }}>
                   <Text variant="bodyStrong">
                     {formatDateTime(w.startsAt)} → {formatDateTime(w.endsAt)}
@@ -86,7 +94,14 @@ export function MaintenancePanel({ rig, canEdit, onClose }: { rig: Rig; canEdit:
                   </Text>
                 </View>
                 {canEdit ? (
-                  <Button size="sm" variant="quiet" label="Delete" accessibilityLabel={`Delete maintenance from ${formatDateTime(w.startsAt)}`} onPress={() => del.mutate(w.id)} busy={del.isPending && del.variables === w.id} />
+                  <Button
+                    size="sm"
+                    variant="quiet"
+                    label="Delete"
+                    accessibilityLabel={`Delete maintenance from ${formatDateTime(w.startsAt)}`}
+                    onPress={() => del.mutate(w.id)}
+                    busy={del.isPending && del.variables === w.id}
+                  />
                 ) : null}
               </View>
             ))}
@@ -97,12 +112,38 @@ export function MaintenancePanel({ rig, canEdit, onClose }: { rig: Rig; canEdit:
       {canEdit ? (
         <View style={{ gap: space.sm }}>
           <Text variant="heading">Book a window</Text>
-          {add.isError && !(isApiError(add.error) && add.error.fields) ? <Banner tone="danger" title="Not booked">{describeError(add.error)}</Banner> : null}
+          {add.isError && !(isApiError(add.error) && add.error.fields) ? (
+            <Banner tone="danger" title="Not booked">
+              {describeError(add.error)}
+            </Banner>
+          ) : null}
           <Columns>
-            <Field label="Starts" value={startsAt} onChangeText={setStartsAt} placeholder="2031-03-04 08:00" error={errors.startsAt} help="Your local time" testID="mw-start" />
-            <Field label="Ends" value={endsAt} onChangeText={setEndsAt} placeholder="2031-03-04 17:00" error={errors.endsAt} testID="mw-end" />
+            <Field
+              label="Starts"
+              value={startsAt}
+              onChangeText={setStartsAt}
+              placeholder="2031-03-04 08:00"
+              error={errors.startsAt}
+              help="Your local time"
+              testID="mw-start"
+            />
+            <Field
+              label="Ends"
+              value={endsAt}
+              onChangeText={setEndsAt}
+              placeholder="2031-03-04 17:00"
+              error={errors.endsAt}
+              testID="mw-end"
+            />
           </Columns>
-          <Field label="What for" value={reason} onChangeText={setReason} error={errors.reason} placeholder="Thermocouple calibration" testID="mw-reason" />
+          <Field
+            label="What for"
+            value={reason}
+            onChangeText={setReason}
+            error={errors.reason}
+            placeholder="Thermocouple calibration"
+            testID="mw-reason"
+          />
           <Button label="Book maintenance" variant="primary" onPress={submit} busy={add.isPending} busyLabel="Booking…" />
         </View>
       ) : null}

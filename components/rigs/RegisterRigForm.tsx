@@ -60,23 +60,65 @@ export function RegisterRigForm({ onCreated, onCancel }: { onCreated: (r: RigWit
         </Banner>
       ) : null}
       <Columns>
-        <Field label="Rig code" value={v.code} onChangeText={set('code')} error={errors.code} help="As printed on the oven, e.g. OV-07" autoCapitalize="characters" testID="rig-code" />
+        <Field
+          label="Rig code"
+          value={v.code}
+          onChangeText={set('code')}
+          error={errors.code}
+          help="As printed on the oven, e.g. OV-07"
+          autoCapitalize="characters"
+          testID="rig-code"
+        />
         <Field label="Name" value={v.name} onChangeText={set('name')} error={errors.name} testID="rig-name" />
       </Columns>
       <Columns>
         <Field label="Location" value={v.location} onChangeText={set('location')} error={errors.location} help="Optional, e.g. Bay B" />
-        <Field label="Sockets" value={v.socketCount} onChangeText={set('socketCount')} error={errors.socketCount} keyboardType="number-pad" testID="rig-sockets" />
+        <Field
+          label="Sockets"
+          value={v.socketCount}
+          onChangeText={set('socketCount')}
+          error={errors.socketCount}
+          keyboardType="number-pad"
+          testID="rig-sockets"
+        />
       </Columns>
       <Columns>
-        <Field label="Maximum chamber temperature, °C" value={v.maxTempC} onChangeText={set('maxTempC')} error={errors.maxTempC} keyboardType="decimal-pad" testID="rig-max-temp" />
-        <Field label="Maximum bias voltage, V" value={v.maxVoltageV} onChangeText={set('maxVoltageV')} error={errors.maxVoltageV} keyboardType="decimal-pad" testID="rig-max-voltage" />
+        <Field
+          label="Maximum chamber temperature, °C"
+          value={v.maxTempC}
+          onChangeText={set('maxTempC')}
+          error={errors.maxTempC}
+          keyboardType="decimal-pad"
+          testID="rig-max-temp"
+        />
+        <Field
+          label="Maximum bias voltage, V"
+          value={v.maxVoltageV}
+          onChangeText={set('maxVoltageV')}
+          error={errors.maxVoltageV}
+          keyboardType="decimal-pad"
+          testID="rig-max-voltage"
+        />
       </Columns>
       <Toggle label="Humidity control" help="A humidity chamber (THB tests)" value={humidity} onChange={setHumidity} />
       {humidity ? (
-        <Field label="Maximum relative humidity, %" value={v.maxHumidityPct} onChangeText={set('maxHumidityPct')} error={errors.maxHumidityPct} keyboardType="decimal-pad" />
+        <Field
+          label="Maximum relative humidity, %"
+          value={v.maxHumidityPct}
+          onChangeText={set('maxHumidityPct')}
+          error={errors.maxHumidityPct}
+          keyboardType="decimal-pad"
+        />
       ) : null}
       <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
-        <Button label="Register and issue credentials" variant="primary" onPress={submit} busy={create.isPending} busyLabel="Registering…" testID="rig-submit" />
+        <Button
+          label="Register and issue credentials"
+          variant="primary"
+          onPress={submit}
+          busy={create.isPending}
+          busyLabel="Registering…"
+          testID="rig-submit"
+        />
         <Button label="Cancel" variant="quiet" onPress={onCancel} />
       </View>
     </Card>

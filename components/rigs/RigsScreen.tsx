@@ -40,15 +40,31 @@ function IngestHealth() {
   const stats = useTelemetryStats();
   const rej = useRejections();
   return (
-    <Card title="Telemetry intake" description="Counters since the database was created, and the latest refused messages with the reason." testID="ingest-health">
+    <Card
+      title="Telemetry intake"
+      description="Counters since the database was created, and the latest refused messages with the reason."
+      testID="ingest-health"
+    >
       <QueryState query={stats} loadingLabel="Loading counters…" errorTitle="Could not load the counters" loadingVariant="spinner">
         {(s) => (
           <View style={{ gap: space.sm }}>
             {s.live ? (
               <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
-                <StatusPill tone={s.live.mqttConnected ? 'ok' : 'danger'} label={s.live.mqttConnected ? 'Broker connected' : 'Broker not connected'} size="sm" />
-                <StatusPill tone={s.live.databaseOk ? 'ok' : 'danger'} label={s.live.databaseOk ? 'Database writing' : 'Database unavailable — holding messages'} size="sm" />
-                <StatusPill tone={s.live.buffered > s.live.bufferLimit / 2 ? 'attention' : 'info'} label={`${s.live.buffered} waiting of ${s.live.bufferLimit}`} size="sm" />
+                <StatusPill
+                  tone={s.live.mqttConnected ? 'ok' : 'danger'}
+                  label={s.live.mqttConnected ? 'Broker connected' : 'Broker not connected'}
+                  size="sm"
+                />
+                <StatusPill
+                  tone={s.live.databaseOk ? 'ok' : 'danger'}
+                  label={s.live.databaseOk ? 'Database writing' : 'Database unavailable — holding messages'}
+                  size="sm"
+                />
+                <StatusPill
+                  tone={s.live.buffered > s.live.bufferLimit / 2 ? 'attention' : 'info'}
+                  label={`${s.live.buffered} waiting of ${s.live.bufferLimit}`}
+                  size="sm"
+                />
               </View>
             ) : null}
             <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.lg }}>
@@ -66,7 +82,14 @@ function IngestHealth() {
           </View>
         )}
       </QueryState>
-      <QueryState query={rej} loadingLabel="Loading refused messages…" errorTitle="Could not load refused messages" loadingVariant="spinner" isEmpty={(l) => l.length === 0} empty={<Text tone="muted">No message has been refused.</Text>}>
+      <QueryState
+        query={rej}
+        loadingLabel="Loading refused messages…"
+        errorTitle="Could not load refused messages"
+        loadingVariant="spinner"
+        isEmpty={(l) => l.length === 0}
+        empty={<Text tone="muted">No message has been refused.</Text>}
+      >
         {(items) => (
           <View style={{ gap: space.xs }}>
             {items.slice(0, 10).map((r) => (
@@ -122,7 +145,9 @@ export function RigsScreen() {
           onSuccess: (r) => {
             setNotice(
               `Credentials of rig ${r.code} revoked.` +
-                (r.disconnectRequested ? ' The broker was asked to disconnect it now.' : ' The broker is not reachable right now; the rig is refused at its next connection.'),
+                (r.disconnectRequested
+                  ? ' The broker was asked to disconnect it now.'
+                  : ' The broker is not reachable right now; the rig is refused at its next connection.'),
             );
             close();
           },
@@ -134,12 +159,24 @@ export function RigsScreen() {
   const columns: Column<Rig>[] = [
     { key: 'code', title: 'Rig', flex: 1, card: 'title', render: (r) => r.code },
     { key: 'name', title: 'Name', flex: 2, card: 'subtitle', render: (r) => `${r.name}${r.location ? ` · ${r.location}` : ''}` },
-    { key: 'limits', title: 'Sockets · limits', flex: 1.8, render: (r) => `${r.socketCount} · ${r.maxTempC} °C · ${r.maxVoltageV} V${r.humidityCapable ? ` · ${r.maxHumidityPct} % RH` : ''}` },
+    {
+      key: 'limits',
+      title: 'Sockets · limits',
+      flex: 1.8,
+      render: (r) => `${r.socketCount} · ${r.maxTempC} °C · ${r.maxVoltageV} V${r.humidityCapable ? ` · ${r.maxHumidityPct} % RH` : ''}`,
+    },
     {
       key: 'conn',
       title: 'Connection',
       flex: 1.3,
-      render: (r) => (!r.active ? <StatusPill tone="idle" label="Decommissioned" size="sm" /> : r.online ? <StatusPill tone="ok" label="Online" size="sm" /> : <StatusPill tone="danger" label="Offline" size="sm" />),
+      render: (r) =>
+        !r.active ? (
+          <StatusPill tone="idle" label="Decommissioned" size="sm" />
+        ) : r.online ? (
+          <StatusPill tone="ok" label="Online" size="sm" />
+        ) : (
+          <StatusPill tone="danger" label="Offline" size="sm" />
+        ),
     },
     {
       key: 'cred',
@@ -164,12 +201,29 @@ export function RigsScreen() {
       card: 'actions',
       render: (r) => (
         <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
-          <Button size="sm" variant="secondary" label="Maintenance" accessibilityLabel={`Maintenance of rig ${r.code}`} onPress={() => setMaintFor(r)} />
+          <Button
+            size="sm"
+            variant="secondary"
+            label="Maintenance"
+            accessibilityLabel={`Maintenance of rig ${r.code}`}
+            onPress={() => setMaintFor(r)}
+          />
           {canManage ? (
             <>
-              <Button size="sm" label="New secret" accessibilityLabel={`Issue a new MQTT secret for rig ${r.code}`} onPress={() => setPending({ kind: 'rotate', rig: r })} />
+              <Button
+                size="sm"
+                label="New secret"
+                accessibilityLabel={`Issue a new MQTT secret for rig ${r.code}`}
+                onPress={() => setPending({ kind: 'rotate', rig: r })}
+              />
               {!r.credentialsRevokedAt ? (
-                <Button size="sm" variant="quiet" label="Revoke" accessibilityLabel={`Revoke the credentials of rig ${r.code}`} onPress={() => setPending({ kind: 'revoke', rig: r })} />
+                <Button
+                  size="sm"
+                  variant="quiet"
+                  label="Revoke"
+                  accessibilityLabel={`Revoke the credentials of rig ${r.code}`}
+                  onPress={() => setPending({ kind: 'revoke', rig: r })}
+                />
               ) : null}
             </>
           ) : null}
@@ -184,7 +238,19 @@ export function RigsScreen() {
         eyebrow="Lab equipment"
         title="Rigs"
         subtitle="The burn-in rigs, their limits, their MQTT credentials and booked maintenance."
-        actions={canManage && !registering && !issued ? <Button label="Register rig" variant="primary" onPress={() => { setNotice(null); setRegistering(true); }} testID="register-rig" /> : null}
+        actions={
+          canManage && !registering && !issued ? (
+            <Button
+              label="Register rig"
+              variant="primary"
+              onPress={() => {
+                setNotice(null);
+                setRegistering(true);
+              }}
+              testID="register-rig"
+            />
+          ) : null
+        }
       />
       {issued ? <SecretReveal rigCode={issued.rig.code} credentials={issued.credentials} onDone={() => setIssued(null)} /> : null}
       {notice ? (
@@ -206,9 +272,16 @@ export function RigsScreen() {
         loadingLabel="Loading rigs…"
         errorTitle="Could not load the rigs"
         isEmpty={(l) => l.length === 0}
-        empty={<EmptyState title="No rigs registered" message={canManage ? 'Register the first rig to issue its MQTT credentials.' : 'An administrator registers rigs.'} />}
+        empty={
+          <EmptyState
+            title="No rigs registered"
+            message={canManage ? 'Register the first rig to issue its MQTT credentials.' : 'An administrator registers rigs.'}
+          />
+        }
       >
-        {(list) => <DataTable caption="Registered rigs" columns={columns} rows={list} rowKey={(r) => r.id} minTableWidth={860} testID="rigs-table" />}
+        {(list) => (
+          <DataTable caption="Registered rigs" columns={columns} rows={list} rowKey={(r) => r.id} minTableWidth={860} testID="rigs-table" />
+        )}
       </QueryState>
       {maintFor ? <MaintenancePanel rig={maintFor} canEdit={canManage} onClose={() => setMaintFor(null)} /> : null}
       <IngestHealth />
@@ -236,7 +309,14 @@ export function RigsScreen() {
         busy={revoke.isPending}
         confirmDisabled={reason.trim().length < 3}
       >
-        <Field label="Reason" value={reason} onChangeText={setReason} placeholder="Controller replaced" help="Recorded in the audit log" testID="revoke-reason" />
+        <Field
+          label="Reason"
+          value={reason}
+          onChangeText={setReason}
+          placeholder="Controller replaced"
+          help="Recorded in the audit log"
+          testID="revoke-reason"
+        />
         {revoke.isError ? <Banner tone="danger">{describeError(revoke.error)}</Banner> : null}
       </ConfirmDialog>
     </Screen>

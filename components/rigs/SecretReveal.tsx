@@ -14,7 +14,15 @@ function Secret({ label, value, testID }: { label: string; value: string; testID
       <Text variant="overline" tone="subtle">
         {label}
       </Text>
-      <View style={{ backgroundColor: colors.surface, borderWidth: 1, borderColor: colors.borderStrong, borderRadius: radius.sm, padding: space.sm }}>
+      <View
+        style={{
+          backgroundColor: colors.surface,
+          borderWidth: 1,
+          borderColor: colors.borderStrong,
+          borderRadius: radius.sm,
+          padding: space.sm,
+        }}
+      >
         <Text selectable testID={testID} style={{ fontFamily: mono, fontSize: 16, lineHeight: 24, color: colors.ink }}>
           {value}
         </Text>
@@ -29,7 +37,8 @@ export function SecretReveal({ rigCode, credentials, onDone }: { rigCode: string
     <Banner tone="warn" title={`MQTT credentials for rig ${rigCode} — shown once`} testID="secret-reveal">
       <View style={{ gap: space.sm }}>
         <Text variant="body">
-          Copy the secret into the rig controller now. Emberlot keeps only a hash of it; once you close this notice nobody can read it again — you could only issue a new one.
+          Copy the secret into the rig controller now. Emberlot keeps only a hash of it; once you close this notice nobody can read it again
+          — you could only issue a new one.
         </Text>
         <Secret label="User name" value={credentials.username} testID="secret-username" />
         <Secret label="Secret" value={credentials.secret} testID="secret-value" />

@@ -25,7 +25,15 @@ import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { CHAMBER_TOLERANCE_PCT, measureByMs } from '@/shared/domain/standards';
 import { DRIVEN_STATES } from '@/shared/domain/run-states';
-import { RUN_ACTIONS, RUN_ACTION_LABEL, type RunAction, type RunDetail, type RunSocket, type SocketFlag, type SocketLoadResult } from '@/shared/schemas/runs';
+import {
+  RUN_ACTIONS,
+  RUN_ACTION_LABEL,
+  type RunAction,
+  type RunDetail,
+  type RunSocket,
+  type SocketFlag,
+  type SocketLoadResult,
+} from '@/shared/schemas/runs';
 import { RUN_STATE_TONE, columnToSocketMap, hours } from './run-look';
 
 const AUDIT_LABEL: Record<string, string> = {
@@ -75,13 +83,30 @@ function Progress({ run }: { run: RunDetail }) {
         accessibilityRole="progressbar"
         accessibilityLabel={`${hours(run.stressHours)} of ${hours(run.targetH)} stress hours`}
         accessibilityValue={{ min: 0, max: 100, now: Math.round(frac * 100) }}
-        style={{ height: 14, borderRadius: radius.pill, backgroundColor: colors.surfaceSunken, borderWidth: 1, borderColor: colors.border, overflow: 'hidden' }}
+        style={{
+          height: 14,
+          borderRadius: radius.pill,
+          backgroundColor: colors.surfaceSunken,
+          borderWidth: 1,
+          borderColor: colors.border,
+          overflow: 'hidden',
+        }}
       >
         <View style={{ width: `${frac * 100}%`, height: '100%', backgroundColor: tones.ok.edge }} />
         {run.plan.readPointsH
           .filter((h) => h > 0 && h < run.targetH)
           .map((h) => (
-            <View key={h} style={{ position: 'absolute', left: `${(h / run.targetH) * 100}%`, top: 0, bottom: 0, width: 2, backgroundColor: colors.graphite }} />
+            <View
+              key={h}
+              style={{
+                position: 'absolute',
+                left: `${(h / run.targetH) * 100}%`,
+                top: 0,
+                bottom: 0,
+                width: 2,
+                backgroundColor: colors.graphite,
+              }}
+            />
           ))}
       </View>
       <Text variant="caption" tone="muted">
@@ -94,11 +119,17 @@ function Progress({ run }: { run: RunDetail }) {
 function stateNote(run: RunDetail): { tone: 'info' | 'warn' | 'danger' | 'ok'; text: string } | null {
   switch (run.state) {
     case 'booked':
-      return { tone: 'info', text: `Booked for ${formatDateTime(run.scheduledStart)} on ${run.rig?.code ?? 'no rig'}. Load the sockets to begin.` };
+      return {
+        tone: 'info',
+        text: `Booked for ${formatDateTime(run.scheduledStart)} on ${run.rig?.code ?? 'no rig'}. Load the sockets to begin.`,
+      };
     case 'loading':
       return { tone: 'info', text: `${run.loadedCount} of ${run.sampleSize} sockets loaded. Start once every device is placed.` };
     case 'heating':
-      return { tone: 'info', text: `Heating since ${formatDateTime(run.heatingSince)}: hours count once the chamber is within ±${CHAMBER_TOLERANCE_PCT} % of ${run.plan.chamberC} °C.` };
+      return {
+        tone: 'info',
+        text: `Heating since ${formatDateTime(run.heatingSince)}: hours count once the chamber is within ±${CHAMBER_TOLERANCE_PCT} % of ${run.plan.chamberC} °C.`,
+      };
     case 'read-hold': {
       const measureBy = run.biasRemovedAt ? new Date(measureByMs(Date.parse(run.biasRemovedAt))).toISOString() : null;
       return {
@@ -109,7 +140,10 @@ function stateNote(run: RunDetail): { tone: 'info' | 'warn' | 'danger' | 'ok'; t
     case 'paused':
       return { tone: 'warn', text: 'Paused: bias is off and no hours count. Resume to heat again.' };
     case 'cooling':
-      return { tone: 'info', text: 'Stress hours complete. Bias is off and the chamber is cooling; the run finishes when it is safe to open.' };
+      return {
+        tone: 'info',
+        text: 'Stress hours complete. Bias is off and the chamber is cooling; the run finishes when it is safe to open.',
+      };
     case 'aborted':
       return { tone: 'danger', text: `Aborted: ${run.abortReason ?? 'no reason given'}` };
     case 'finished':
@@ -127,12 +161,24 @@ function Actions({ run, may }: { run: RunDetail; may: (a: RunAction) => boolean 
   const actions = run.allowedActions.filter((a): a is Exclude<RunAction, 'load' | 'abort'> => a !== 'load' && a !== 'abort' && may(a));
   if (!RUN_ACTIONS.some(may)) return <Text tone="muted">Operators and engineers start, pause and abort runs.</Text>;
   const run1 = (action: Exclude<RunAction, 'load'>, reason?: string) =>
-    act.mutate({ action, rowVersion: run.rowVersion, reason }, { onSuccess: () => { setNote(''); setAbortOpen(false); setAbortReason(''); } });
+    act.mutate(
+      { action, rowVersion: run.rowVersion, reason },
+      {
+        onSuccess: () => {
+          setNote('');
+          setAbortOpen(false);
+          setAbortReason('');
+        },
+      },
+    );
   const energises = actions.includes('start') || actions.includes('resume') || actions.includes('measurements-done');
   return (
     <View style={{ gap: space.sm }}>
       {energises ? (
-        <SafetyCaution compact context={`${run.rig?.code ?? 'The rig'} heats to ${run.plan.chamberC} °C${run.plan.biasV ? ` and applies ${run.plan.biasV} V of bias` : ''}.`} />
+        <SafetyCaution
+          compact
+          context={`${run.rig?.code ?? 'The rig'} heats to ${run.plan.chamberC} °C${run.plan.biasV ? ` and applies ${run.plan.biasV} V of bias` : ''}.`}
+        />
       ) : null}
       {actions.length ? <Field label="Note for the audit trail (optional)" value={note} onChangeText={setNote} /> : null}
       <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs }}>
@@ -147,7 +193,9 @@ function Actions({ run, may }: { run: RunDetail; may: (a: RunAction) => boolean 
             onPress={() => run1(a, note.trim() || undefined)}
           />
         ))}
-        {run.allowedActions.includes('abort') && may('abort') ? <Button label="Abort run" variant="danger" onPress={() => setAbortOpen(true)} /> : null}
+        {run.allowedActions.includes('abort') && may('abort') ? (
+          <Button label="Abort run" variant="danger" onPress={() => setAbortOpen(true)} />
+        ) : null}
       </View>
       {act.isError && !abortOpen ? <Banner tone="danger">{describeError(act.error)}</Banner> : null}
       <ConfirmDialog
@@ -158,7 +206,10 @@ function Actions({ run, may }: { run: RunDetail; may: (a: RunAction) => boolean 
         confirmVariant="danger"
         confirmDisabled={abortReason.trim().length < 5}
         busy={act.isPending}
-        onCancel={() => { setAbortOpen(false); act.reset(); }}
+        onCancel={() => {
+          setAbortOpen(false);
+          act.reset();
+        }}
         onConfirm={() => run1('abort', abortReason.trim())}
       >
         <Field label="Reason" value={abortReason} onChangeText={setAbortReason} multiline help="At least 5 characters." />
@@ -186,10 +237,19 @@ function Loading({ run }: { run: RunDetail }) {
       },
     );
   return (
-    <Card title="Load sockets" description="Scan or paste one serial per line (a spreadsheet column works); line 1 goes into the first socket, a blank line leaves a socket empty.">
+    <Card
+      title="Load sockets"
+      description="Scan or paste one serial per line (a spreadsheet column works); line 1 goes into the first socket, a blank line leaves a socket empty."
+    >
       <View style={{ flexDirection: 'row', gap: space.sm, flexWrap: 'wrap' }}>
         <View style={{ width: 160 }}>
-          <Field label="First socket" keyboardType="number-pad" value={first} onChangeText={setFirst} error={firstOk ? undefined : `0–${(run.rig?.socketCount ?? 256) - 1}`} />
+          <Field
+            label="First socket"
+            keyboardType="number-pad"
+            value={first}
+            onChangeText={setFirst}
+            error={firstOk ? undefined : `0–${(run.rig?.socketCount ?? 256) - 1}`}
+          />
         </View>
         <View style={{ flex: 1, minWidth: 220 }}>
           <Field
@@ -197,7 +257,10 @@ function Loading({ run }: { run: RunDetail }) {
             multiline
             numberOfLines={8}
             value={text}
-            onChangeText={(v) => { setText(v); setResult(null); }}
+            onChangeText={(v) => {
+              setText(v);
+              setResult(null);
+            }}
             placeholder={'A0001\nA0002\nA0003'}
             autoCapitalize="characters"
             autoCorrect={false}
@@ -211,13 +274,28 @@ function Loading({ run }: { run: RunDetail }) {
         </Text>
       ) : null}
       <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
-        <Button label="Check" disabled={!count || !firstOk} busy={load.isPending && load.variables?.dryRun} busyLabel="Checking…" onPress={() => send(true)} />
-        <Button label="Save loading" variant="primary" disabled={!count || !firstOk} busy={load.isPending && !load.variables?.dryRun} busyLabel="Saving…" onPress={() => send(false)} />
+        <Button
+          label="Check"
+          disabled={!count || !firstOk}
+          busy={load.isPending && load.variables?.dryRun}
+          busyLabel="Checking…"
+          onPress={() => send(true)}
+        />
+        <Button
+          label="Save loading"
+          variant="primary"
+          disabled={!count || !firstOk}
+          busy={load.isPending && !load.variables?.dryRun}
+          busyLabel="Saving…"
+          onPress={() => send(false)}
+        />
       </View>
       {load.isError && !(load.error instanceof SocketFlagsError) ? <Banner tone="danger">{describeError(load.error)}</Banner> : null}
       {result ? (
         <View style={{ gap: space.xs }} testID="socket-flags">
-          <Banner tone={result.flags.some((f) => f.blocking) ? 'danger' : result.stored ? 'ok' : 'info'}>{result.stored ? `Saved. ${result.summary}` : result.summary}</Banner>
+          <Banner tone={result.flags.some((f) => f.blocking) ? 'danger' : result.stored ? 'ok' : 'info'}>
+            {result.stored ? `Saved. ${result.summary}` : result.summary}
+          </Banner>
           {result.flags.map((f) => (
             <View key={`${f.socket}-${f.problem}`} style={{ flexDirection: 'row', gap: space.xs, alignItems: 'center', flexWrap: 'wrap' }}>
               <StatusPill tone={f.blocking ? 'danger' : 'attention'} size="sm" label={`Socket ${f.socket} · ${FLAG_WORD[f.problem]}`} />
@@ -246,7 +324,13 @@ export function RunDetailScreen({ id }: { id: string }) {
       title: 'Status',
       flex: 1.2,
       render: (s) =>
-        s.tripped ? <StatusPill tone="danger" size="sm" label="Tripped" /> : s.failedAtH !== null ? <StatusPill tone="attention" size="sm" label={`Failed at ${s.failedAtH} h`} /> : <StatusPill tone="ok" size="sm" label="In service" />,
+        s.tripped ? (
+          <StatusPill tone="danger" size="sm" label="Tripped" />
+        ) : s.failedAtH !== null ? (
+          <StatusPill tone="attention" size="sm" label={`Failed at ${s.failedAtH} h`} />
+        ) : (
+          <StatusPill tone="ok" size="sm" label="In service" />
+        ),
     },
   ];
   return (
@@ -281,8 +365,14 @@ export function RunDetailScreen({ id }: { id: string }) {
                   <Fact label="Accrued" value={hours(run.stressHours)} />
                   <Fact label="Next read point" value={run.nextReadPointH === null ? 'None left' : hours(run.nextReadPointH)} />
                   <Fact label="Target" value={hours(run.targetH)} />
-                  <Fact label="Chamber" value={`${run.plan.chamberC} °C${run.plan.humidityPct !== null ? ` / ${run.plan.humidityPct} % RH` : ''}`} />
-                  <Fact label="Devices" value={`${run.loadedCount} of ${run.sampleSize}${run.trippedCount ? ` · ${run.trippedCount} tripped` : ''}`} />
+                  <Fact
+                    label="Chamber"
+                    value={`${run.plan.chamberC} °C${run.plan.humidityPct !== null ? ` / ${run.plan.humidityPct} % RH` : ''}`}
+                  />
+                  <Fact
+                    label="Devices"
+                    value={`${run.loadedCount} of ${run.sampleSize}${run.trippedCount ? ` · ${run.trippedCount} tripped` : ''}`}
+                  />
                 </View>
                 <Progress run={run} />
                 <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
@@ -299,7 +389,12 @@ export function RunDetailScreen({ id }: { id: string }) {
               {may('load') && run.allowedActions.includes('load') ? <Loading run={run} /> : null}
               <Card title="Socket map">
                 {run.sockets.length ? (
-                  <DataTable rows={run.sockets} columns={socketColumns} rowKey={(s) => String(s.socket)} caption={`Sockets of run ${run.code}`} />
+                  <DataTable
+                    rows={run.sockets}
+                    columns={socketColumns}
+                    rowKey={(s) => String(s.socket)}
+                    caption={`Sockets of run ${run.code}`}
+                  />
                 ) : (
                   <EmptyState title="No devices loaded" message="Load the sockets before the run can start." />
                 )}

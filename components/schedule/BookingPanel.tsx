@@ -80,9 +80,13 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
   }, [planKey]);
 
   const sampleSize = Number(sample);
-  const sampleError = sample && (!Number.isInteger(sampleSize) || sampleSize < 1 || sampleSize > 256) ? 'A whole number of devices, 1–256' : undefined;
+  const sampleError =
+    sample && (!Number.isInteger(sampleSize) || sampleSize < 1 || sampleSize > 256) ? 'A whole number of devices, 1–256' : undefined;
   const first = Number(firstPart);
-  const splitError = split && (!Number.isInteger(first) || first < 1 || first >= sampleSize) ? `Between 1 and ${Math.max(1, sampleSize - 1)} devices on the first rig` : undefined;
+  const splitError =
+    split && (!Number.isInteger(first) || first < 1 || first >= sampleSize)
+      ? `Between 1 and ${Math.max(1, sampleSize - 1)} devices on the first rig`
+      : undefined;
   const ready = !!versionId && lotIds.length > 0 && !!sample && !sampleError && !splitError;
   const request = useMemo(() => (ready ? { planId: versionId!, lotIds, sampleSize } : null), [ready, versionId, lotIds, sampleSize]);
   const parts = split && request ? [first, sampleSize - first] : null;
@@ -113,7 +117,12 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
     if (!request) return;
     book.mutate(
       { ...request, rigId: o.rigId, start: o.start, ...extras() },
-      { onSuccess: (run) => { onDone(); router.push(`/runs/${run.id}`); } },
+      {
+        onSuccess: (run) => {
+          onDone();
+          router.push(`/runs/${run.id}`);
+        },
+      },
     );
   };
 
@@ -127,7 +136,12 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
         parts: pickedOptions.map((o, i) => ({ rigId: o!.rigId, start: o!.start, sampleSize: parts[i] })),
         ...extras(),
       },
-      { onSuccess: (b) => { onDone(); router.push(`/runs/${b.runs[0].id}`); } },
+      {
+        onSuccess: (b) => {
+          onDone();
+          router.push(`/runs/${b.runs[0].id}`);
+        },
+      },
     );
   };
 
@@ -166,7 +180,9 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
             ))}
           </View>
         ) : (
-          <Text variant="caption" tone="attention">No rig can take this part.</Text>
+          <Text variant="caption" tone="attention">
+            No rig can take this part.
+          </Text>
         )}
       </View>
     ) : null;
@@ -179,7 +195,13 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
         <Text variant="label">Plan</Text>
         <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs }}>
           {(plans.data ?? []).map((p) => (
-            <Chip key={p.planKey} label={`${p.name} · ${p.device.partNumber}`} selected={p.planKey === planKey} onPress={() => setPlanKey(p.planKey)} hint={p.checkStatus === 'block' ? 'The plan check blocks this plan' : undefined} />
+            <Chip
+              key={p.planKey}
+              label={`${p.name} · ${p.device.partNumber}`}
+              selected={p.planKey === planKey}
+              onPress={() => setPlanKey(p.planKey)}
+              hint={p.checkStatus === 'block' ? 'The plan check blocks this plan' : undefined}
+            />
           ))}
         </View>
         {plans.data && !plans.data.length ? <Text tone="muted">No plans yet. An engineer writes one under Plans.</Text> : null}
@@ -189,7 +211,12 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
           <Text variant="label">Version</Text>
           <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs }}>
             {detail.data.versions.map((v) => (
-              <Chip key={v.id} label={`v${v.version}${v.current ? ' (current)' : ''}${v.checkStatus === 'block' ? ' · blocked' : ''}`} selected={v.id === versionId} onPress={() => setVersionId(v.id)} />
+              <Chip
+                key={v.id}
+                label={`v${v.version}${v.current ? ' (current)' : ''}${v.checkStatus === 'block' ? ' · blocked' : ''}`}
+                selected={v.id === versionId}
+                onPress={() => setVersionId(v.id)}
+              />
             ))}
           </View>
         </View>
@@ -214,7 +241,14 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
       {current ? (
         <View style={{ gap: space.xs }}>
           <View style={{ maxWidth: 240 }}>
-            <Field label="Devices (sample size)" keyboardType="number-pad" value={sample} onChangeText={setSample} error={sampleError} help={`The plan asks for ${current.sampleSize}.`} />
+            <Field
+              label="Devices (sample size)"
+              keyboardType="number-pad"
+              value={sample}
+              onChangeText={setSample}
+              error={sampleError}
+              help={`The plan asks for ${current.sampleSize}.`}
+            />
           </View>
           <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs }}>
             <Chip
@@ -237,14 +271,25 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
                 value={firstPart}
                 onChangeText={setFirstPart}
                 error={splitError}
-                help={Number.isInteger(first) && first > 0 && first < sampleSize ? `The other ${sampleSize - first} go to a second rig.` : undefined}
+                help={
+                  Number.isInteger(first) && first > 0 && first < sampleSize
+                    ? `The other ${sampleSize - first} go to a second rig.`
+                    : undefined
+                }
               />
             </View>
           ) : null}
         </View>
       ) : null}
       <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
-        <Button label="Find rigs" variant="primary" disabled={!request} busy={proposals.isPending || proposals2.isPending} busyLabel="Finding rigs…" onPress={find} />
+        <Button
+          label="Find rigs"
+          variant="primary"
+          disabled={!request}
+          busy={proposals.isPending || proposals2.isPending}
+          busyLabel="Finding rigs…"
+          onPress={find}
+        />
         <Button label="Close" variant="quiet" onPress={onDone} />
       </View>
       {proposals.isError ? <Banner tone="danger">{describeError(proposals.error)}</Banner> : null}
@@ -286,7 +331,11 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
               {partChoice(result2, 1)}
               <View style={{ flexDirection: 'row' }}>
                 <Button
-                  label={pickedOptions[0] && pickedOptions[1] ? `Book the sample on ${pickedOptions[0].rigCode} + ${pickedOptions[1].rigCode}` : 'Choose a rig for each part'}
+                  label={
+                    pickedOptions[0] && pickedOptions[1]
+                      ? `Book the sample on ${pickedOptions[0].rigCode} + ${pickedOptions[1].rigCode}`
+                      : 'Choose a rig for each part'
+                  }
                   variant="primary"
                   disabled={!pickedOptions[0] || !pickedOptions[1] || (blocks && !reasonOk) || !deviationOk}
                   busy={bookSample.isPending}
@@ -299,7 +348,10 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
             </View>
           ) : null}
           {(parts ? [] : result.options).map((o, i) => (
-            <View key={o.rigId} style={{ borderWidth: 1, borderColor: colors.border, borderRadius: radius.md, padding: space.sm, gap: space.xs }}>
+            <View
+              key={o.rigId}
+              style={{ borderWidth: 1, borderColor: colors.border, borderRadius: radius.md, padding: space.sm, gap: space.xs }}
+            >
               <View style={{ flexDirection: 'row', gap: space.xs, alignItems: 'center', flexWrap: 'wrap' }}>
                 <Text variant="bodyStrong">
                   {o.rigCode} · {o.rigName}

@@ -32,12 +32,37 @@ export function ScheduleScreen() {
 
   const columns: Column<Run>[] = [
     { key: 'code', title: 'Run', flex: 1.2, card: 'title', render: (r) => r.code },
-    { key: 'state', title: 'State', flex: 1.2, render: (r) => <StatusPill tone={RUN_STATE_TONE[r.state]} label={r.stateLabel} size="sm" /> },
+    {
+      key: 'state',
+      title: 'State',
+      flex: 1.2,
+      render: (r) => <StatusPill tone={RUN_STATE_TONE[r.state]} label={r.stateLabel} size="sm" />,
+    },
     { key: 'rig', title: 'Rig', flex: 0.7, render: (r) => r.rig?.code ?? '—' },
-    { key: 'plan', title: 'Plan', flex: 2, card: 'subtitle', render: (r) => <Text variant="caption" tone="muted" numberOfLines={1}>{`${r.plan.name} (v${r.plan.version}) · ${r.lots.map((l) => l.code).join(', ')}`}</Text> },
+    {
+      key: 'plan',
+      title: 'Plan',
+      flex: 2,
+      card: 'subtitle',
+      render: (r) => (
+        <Text
+          variant="caption"
+          tone="muted"
+          numberOfLines={1}
+        >{`${r.plan.name} (v${r.plan.version}) · ${r.lots.map((l) => l.code).join(', ')}`}</Text>
+      ),
+    },
     { key: 'hours', title: 'Hours', flex: 1, render: (r) => `${hours(r.stressHours)} / ${hours(r.targetH)}` },
     { key: 'start', title: 'Start', flex: 1, render: (r) => shortTime(r.startedAt ?? r.scheduledStart) },
-    { key: 'open', title: '', flex: 0.8, card: 'actions', render: (r) => <Button size="sm" label="Open" accessibilityLabel={`Open run ${r.code}`} onPress={() => router.push(`/runs/${r.id}`)} /> },
+    {
+      key: 'open',
+      title: '',
+      flex: 0.8,
+      card: 'actions',
+      render: (r) => (
+        <Button size="sm" label="Open" accessibilityLabel={`Open run ${r.code}`} onPress={() => router.push(`/runs/${r.id}`)} />
+      ),
+    },
   ];
 
   return (
@@ -75,11 +100,14 @@ export function ScheduleScreen() {
           loadingLabel="Loading runs"
           errorTitle="The runs could not be loaded"
           isEmpty={(d) => d.length === 0}
-          empty={<EmptyState title="No open runs" message={canBook ? 'Book a run to put a plan on a rig.' : 'An engineer books runs; they appear here.'} />}
+          empty={
+            <EmptyState
+              title="No open runs"
+              message={canBook ? 'Book a run to put a plan on a rig.' : 'An engineer books runs; they appear here.'}
+            />
+          }
         >
-          {(d) => (
-            <DataTable rows={d} columns={columns} rowKey={(r) => r.id} caption="Open runs" testID="open-runs" />
-          )}
+          {(d) => <DataTable rows={d} columns={columns} rowKey={(r) => r.id} caption="Open runs" testID="open-runs" />}
         </QueryState>
       </Card>
     </Screen>

@@ -19,13 +19,32 @@ const LABEL_W = 112;
 const ROW_H = 56;
 const AXIS_H = 28;
 
-const STEPS_MS = [1, 5, 10, 30, 60, 300, 900, 1800, 3600, 3 * 3600, 6 * 3600, 12 * 3600, 86400, 2 * 86400, 7 * 86400, 14 * 86400, 28 * 86400].map((s) => s * 1000);
+const STEPS_MS = [
+  1,
+  5,
+  10,
+  30,
+  60,
+  300,
+  900,
+  1800,
+  3600,
+  3 * 3600,
+  6 * 3600,
+  12 * 3600,
+  86400,
+  2 * 86400,
+  7 * 86400,
+  14 * 86400,
+  28 * 86400,
+].map((s) => s * 1000);
 
 function tickLabel(ms: number, step: number): string {
   const d = new Date(ms);
   if (step < 60_000) return d.toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit', second: '2-digit' });
   if (step < 3_600_000) return d.toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit' });
-  if (step < 86_400_000) return `${d.toLocaleDateString('en-GB', { day: 'numeric', month: 'short' })} ${d.toLocaleTimeString('en-GB', { hour: '2-digit' })}h`;
+  if (step < 86_400_000)
+    return `${d.toLocaleDateString('en-GB', { day: 'numeric', month: 'short' })} ${d.toLocaleTimeString('en-GB', { hour: '2-digit' })}h`;
   return d.toLocaleDateString('en-GB', { day: 'numeric', month: 'short' });
 }
 
@@ -109,7 +128,10 @@ export function Timeline({ data }: { data: TimelineData }) {
       <View style={{ width: LABEL_W }}>
         <View style={{ height: AXIS_H }} />
         {data.rows.map((r) => (
-          <View key={r.rigId} style={{ height: ROW_H, justifyContent: 'center', paddingRight: space.xs, borderTopWidth: 1, borderColor: colors.border }}>
+          <View
+            key={r.rigId}
+            style={{ height: ROW_H, justifyContent: 'center', paddingRight: space.xs, borderTopWidth: 1, borderColor: colors.border }}
+          >
             <Text variant="label" numberOfLines={1}>
               {r.code}
             </Text>
@@ -124,7 +146,18 @@ export function Timeline({ data }: { data: TimelineData }) {
           <View style={{ width: trackW }}>
             <View style={{ height: AXIS_H, position: 'relative' }}>
               {ticks.map((t) => (
-                <View key={t} style={{ position: 'absolute', left: x(t), top: 0, height: AXIS_H, borderLeftWidth: 1, borderColor: colors.border, paddingLeft: 4 }}>
+                <View
+                  key={t}
+                  style={{
+                    position: 'absolute',
+                    left: x(t),
+                    top: 0,
+                    height: AXIS_H,
+                    borderLeftWidth: 1,
+                    borderColor: colors.border,
+                    paddingLeft: 4,
+                  }}
+                >
                   <Text variant="caption" tone="subtle" numberOfLines={1}>
                     {tickLabel(t, step)}
                   </Text>
@@ -133,16 +166,35 @@ export function Timeline({ data }: { data: TimelineData }) {
             </View>
             <View style={{ height, position: 'relative' }}>
               {ticks.map((t) => (
-                <View key={t} style={{ position: 'absolute', left: x(t), top: 0, height, borderLeftWidth: 1, borderColor: colors.border, opacity: 0.6 }} />
+                <View
+                  key={t}
+                  style={{ position: 'absolute', left: x(t), top: 0, height, borderLeftWidth: 1, borderColor: colors.border, opacity: 0.6 }}
+                />
               ))}
               {data.rows.map((r, i) => (
-                <View key={r.rigId} style={{ position: 'absolute', top: i * ROW_H, left: 0, width: trackW, height: ROW_H, borderTopWidth: 1, borderColor: colors.border, backgroundColor: r.active ? undefined : colors.surfaceSunken }}>
+                <View
+                  key={r.rigId}
+                  style={{
+                    position: 'absolute',
+                    top: i * ROW_H,
+                    left: 0,
+                    width: trackW,
+                    height: ROW_H,
+                    borderTopWidth: 1,
+                    borderColor: colors.border,
+                    backgroundColor: r.active ? undefined : colors.surfaceSunken,
+                  }}
+                >
                   {r.maintenance.map((m) => {
                     const l = Math.max(0, x(Date.parse(m.start)));
                     const w = Math.max(3, Math.min(trackW, x(Date.parse(m.end))) - l);
                     return (
                       <View key={m.id} style={{ position: 'absolute', left: l, top: 4, height: ROW_H - 8 }}>
-                        <Hatch width={w} height={ROW_H - 8} label={`${r.code} maintenance ${formatDateTime(m.start)} to ${formatDateTime(m.end)}${m.reason ? `: ${m.reason}` : ''}`} />
+                        <Hatch
+                          width={w}
+                          height={ROW_H - 8}
+                          label={`${r.code} maintenance ${formatDateTime(m.start)} to ${formatDateTime(m.end)}${m.reason ? `: ${m.reason}` : ''}`}
+                        />
                       </View>
                     );
                   })}
@@ -154,7 +206,19 @@ export function Timeline({ data }: { data: TimelineData }) {
                 </View>
               ))}
               {nowMs >= fromMs && nowMs <= toMs ? (
-                <View pointerEvents="none" accessibilityRole="image" accessibilityLabel="Now" style={{ position: 'absolute', left: x(nowMs) - 1, top: -AXIS_H, width: 2, height: height + AXIS_H, backgroundColor: colors.ember }} />
+                <View
+                  pointerEvents="none"
+                  accessibilityRole="image"
+                  accessibilityLabel="Now"
+                  style={{
+                    position: 'absolute',
+                    left: x(nowMs) - 1,
+                    top: -AXIS_H,
+                    width: 2,
+                    height: height + AXIS_H,
+                    backgroundColor: colors.ember,
+                  }}
+                />
               ) : null}
             </View>
           </View>

@@ -47,11 +47,19 @@ interface Props {
 /** The phone's "More" sheet: places that did not fit in the tab bar, your account, sign-out. */
 export function MoreSheet({ visible, onClose, user, overflow, isActive, onSignOut, signingOut }: Props) {
   const insets = useSafeAreaInsets();
-  const links: { path: string; label: string; icon: NavIconName }[] = [...overflow, { path: ACCOUNT_PATH, label: 'Your account', icon: 'account' }];
+  const links: { path: string; label: string; icon: NavIconName }[] = [
+    ...overflow,
+    { path: ACCOUNT_PATH, label: 'Your account', icon: 'account' },
+  ];
   return (
     <Modal visible={visible} transparent animationType="slide" onRequestClose={onClose} {...({ 'aria-label': 'More places' } as object)}>
       <View style={{ flex: 1, justifyContent: 'flex-end' }}>
-        <Pressable accessibilityRole="button" accessibilityLabel="Close menu" onPress={onClose} style={{ position: 'absolute', top: 0, left: 0, right: 0, bottom: 0, backgroundColor: colors.scrim }} />
+        <Pressable
+          accessibilityRole="button"
+          accessibilityLabel="Close menu"
+          onPress={onClose}
+          style={{ position: 'absolute', top: 0, left: 0, right: 0, bottom: 0, backgroundColor: colors.scrim }}
+        />
         <View
           style={{
             backgroundColor: colors.surface,
@@ -63,7 +71,16 @@ export function MoreSheet({ visible, onClose, user, overflow, isActive, onSignOu
             gap: space.xs,
           }}
         >
-          <View style={{ alignSelf: 'center', width: 40, height: 4, borderRadius: radius.pill, backgroundColor: colors.borderStrong, marginBottom: space.xs }} />
+          <View
+            style={{
+              alignSelf: 'center',
+              width: 40,
+              height: 4,
+              borderRadius: radius.pill,
+              backgroundColor: colors.borderStrong,
+              marginBottom: space.xs,
+            }}
+          />
           <View style={{ paddingHorizontal: space.md, paddingBottom: space.xs }}>
             <Text variant="bodyStrong">{user.name}</Text>
             <Text variant="caption" tone="muted">

@@ -101,7 +101,16 @@ export function SideRail({ user, destinations, pathname, onSignOut, signingOut }
           disabled={signingOut}
           onPress={onSignOut}
           style={(state) => [
-            { flexDirection: 'row', alignItems: 'center', gap: space.sm, minHeight: 44, paddingHorizontal: space.sm, borderRadius: radius.md, borderLeftWidth: 3, borderLeftColor: 'transparent' },
+            {
+              flexDirection: 'row',
+              alignItems: 'center',
+              gap: space.sm,
+              minHeight: 44,
+              paddingHorizontal: space.sm,
+              borderRadius: radius.md,
+              borderLeftWidth: 3,
+              borderLeftColor: 'transparent',
+            },
             (state as { hovered?: boolean }).hovered ? { backgroundColor: '#35312C' } : null,
           ]}
         >

@@ -9,9 +9,19 @@ import type { Destination } from './destinations';
 function TabInner({ label, icon, active }: { label: string; icon: NavIconName; active: boolean }) {
   return (
     <>
-      <View style={{ height: 3, width: 28, borderRadius: radius.pill, backgroundColor: active ? colors.ember : 'transparent', marginBottom: 4 }} />
+      <View
+        style={{ height: 3, width: 28, borderRadius: radius.pill, backgroundColor: active ? colors.ember : 'transparent', marginBottom: 4 }}
+      />
       <NavIcon name={icon} color={active ? colors.ink : colors.inkSubtle} accent={active ? colors.ember : colors.inkSubtle} />
-      <Text variant="caption" numberOfLines={1} style={{ color: active ? colors.ink : colors.inkSubtle, fontSize: 12, fontFamily: active ? 'Lexend_600SemiBold' : 'Lexend_400Regular' }}>
+      <Text
+        variant="caption"
+        numberOfLines={1}
+        style={{
+          color: active ? colors.ink : colors.inkSubtle,
+          fontSize: 12,
+          fontFamily: active ? 'Lexend_600SemiBold' : 'Lexend_400Regular',
+        }}
+      >
         {label}
       </Text>
     </>
@@ -47,13 +57,27 @@ export function TabBar({ tabs, isActive, moreActive, onMore }: Props) {
         const active = isActive(d.path);
         return (
           <Link key={d.path} href={d.path as Href} asChild>
-            <Pressable accessibilityRole="link" accessibilityLabel={d.label} accessibilityState={{ selected: active }} aria-current={active ? 'page' : undefined} style={tabStyle}>
+            <Pressable
+              accessibilityRole="link"
+              accessibilityLabel={d.label}
+              accessibilityState={{ selected: active }}
+              aria-current={active ? 'page' : undefined}
+              style={tabStyle}
+            >
               <TabInner label={d.label} icon={d.icon} active={active} />
             </Pressable>
           </Link>
         );
       })}
-      <Pressable accessibilityRole="button" aria-haspopup="dialog" accessibilityLabel="More" accessibilityHint="Opens the other places, your account and sign-out" accessibilityState={{ selected: moreActive }} onPress={onMore} style={tabStyle}>
+      <Pressable
+        accessibilityRole="button"
+        aria-haspopup="dialog"
+        accessibilityLabel="More"
+        accessibilityHint="Opens the other places, your account and sign-out"
+        accessibilityState={{ selected: moreActive }}
+        onPress={onMore}
+        style={tabStyle}
+      >
         <TabInner label="More" icon="more" active={moreActive} />
       </Pressable>
     </View>

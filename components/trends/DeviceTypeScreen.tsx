@@ -21,10 +21,21 @@ const ACCEPTS = ['0', '1', '2'] as const;
 
 const accColumns: Column<PlanAcceleration>[] = [
   { key: 'plan', title: 'Plan', flex: 2, card: 'title', render: (a) => a.planName },
-  { key: 'cond', title: 'Ea · use → stress', flex: 1.6, render: (a) => `${a.eaEv} eV · ${a.useC} → ${sig(a.stressC, 4)} °C (${a.stressBasis.startsWith('junction') ? 'junction' : 'chamber'})` },
+  {
+    key: 'cond',
+    title: 'Ea · use → stress',
+    flex: 1.6,
+    render: (a) => `${a.eaEv} eV · ${a.useC} → ${sig(a.stressC, 4)} °C (${a.stressBasis.startsWith('junction') ? 'junction' : 'chamber'})`,
+  },
   { key: 'af', title: 'Acceleration', flex: 0.9, align: 'right', render: (a) => `${sig(a.accelerationFactor)}×` },
   { key: 'dh', title: 'Device-hours', flex: 1, align: 'right', render: (a) => Math.round(a.deviceHours).toLocaleString('en-GB') },
-  { key: 'eq', title: 'At use conditions', flex: 1.1, align: 'right', render: (a) => Math.round(a.equivalentDeviceHours).toLocaleString('en-GB') },
+  {
+    key: 'eq',
+    title: 'At use conditions',
+    flex: 1.1,
+    align: 'right',
+    render: (a) => Math.round(a.equivalentDeviceHours).toLocaleString('en-GB'),
+  },
   { key: 'f', title: 'Failures', flex: 0.7, align: 'right', render: (a) => String(a.failures) },
 ];
 
@@ -42,7 +53,12 @@ export function DeviceTypeScreen() {
         {(t) => (
           <View style={{ gap: space.lg }}>
             <Header eyebrow="Device type" title={t.partNumber} subtitle={t.description} />
-            <Button size="sm" variant="quiet" label="‹ Lot trends" onPress={() => (router.canGoBack() ? router.back() : router.replace('/trends' as Href))} />
+            <Button
+              size="sm"
+              variant="quiet"
+              label="‹ Lot trends"
+              onPress={() => (router.canGoBack() ? router.back() : router.replace('/trends' as Href))}
+            />
             <Card title="Record">
               <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.lg }}>
                 {[
@@ -62,7 +78,8 @@ export function DeviceTypeScreen() {
                 ))}
               </View>
               <Text variant="caption" tone="muted">
-                FIT pooled over every lot with readings: χ²(confidence; 2r + 2) / (2 · Σ devices × hours × acceleration) × 10⁹ (JESD85). k = {t.constants.boltzmannEvPerK} eV/K ({t.constants.source}), T(K) = T(°C) + {t.constants.kelvinOffset}.
+                FIT pooled over every lot with readings: χ²(confidence; 2r + 2) / (2 · Σ devices × hours × acceleration) × 10⁹ (JESD85). k ={' '}
+                {t.constants.boltzmannEvPerK} eV/K ({t.constants.source}), T(K) = T(°C) + {t.constants.kelvinOffset}.
               </Text>
             </Card>
             {t.accelerations.length ? (
@@ -70,9 +87,22 @@ export function DeviceTypeScreen() {
             ) : (
               <Banner tone="info">No lot of this type has readings after time zero yet.</Banner>
             )}
-            <Card title="Next qualification" description="Sample size so that a lot with the chosen defect fraction (LTPD) would pass with at most 10 % probability.">
-              <SegmentedChoice label="LTPD, %" options={LTPDS.map((v) => ({ value: v, label: `${v} %` }))} value={ltpd} onChange={setLtpd} />
-              <SegmentedChoice label="Failures accepted" options={ACCEPTS.map((v) => ({ value: v, label: v }))} value={accept} onChange={setAccept} />
+            <Card
+              title="Next qualification"
+              description="Sample size so that a lot with the chosen defect fraction (LTPD) would pass with at most 10 % probability."
+            >
+              <SegmentedChoice
+                label="LTPD, %"
+                options={LTPDS.map((v) => ({ value: v, label: `${v} %` }))}
+                value={ltpd}
+                onChange={setLtpd}
+              />
+              <SegmentedChoice
+                label="Failures accepted"
+                options={ACCEPTS.map((v) => ({ value: v, label: v }))}
+                value={accept}
+                onChange={setAccept}
+              />
               <Text variant="title" testID="next-sample-size">
                 {t.nextQualification.sampleSize} devices
               </Text>
@@ -99,7 +129,8 @@ export function DeviceTypeScreen() {
               </View>
             </Card>
             <Text variant="caption" tone="muted">
-              Device-hours count each device up to its lot's latest read point. Acceleration assumes one thermally activated mechanism; confirm with failure analysis.
+              Device-hours count each device up to its lot's latest read point. Acceleration assumes one thermally activated mechanism;
+              confirm with failure analysis.
             </Text>
           </View>
         )}

@@ -29,11 +29,19 @@ export function DriftTrendChart({ lots, testID }: Props) {
   const yMax = Math.ceil(Math.max(4, ...ys) + 1);
   const description =
     `Mean hFE change by lot: ` +
-    shown.map((l) => `${l.lotCode} ${sig(l.hfeTrend[l.hfeTrend.length - 1]?.value)} % at ${l.hfeTrend[l.hfeTrend.length - 1]?.hours} h`).join('; ') +
+    shown
+      .map((l) => `${l.lotCode} ${sig(l.hfeTrend[l.hfeTrend.length - 1]?.value)} % at ${l.hfeTrend[l.hfeTrend.length - 1]?.hours} h`)
+      .join('; ') +
     `. Limit ±${limit} %.`;
 
   return (
-    <View testID={testID} onLayout={(e) => setWidth(Math.round(e.nativeEvent.layout.width))} accessible accessibilityRole="image" accessibilityLabel={description}>
+    <View
+      testID={testID}
+      onLayout={(e) => setWidth(Math.round(e.nativeEvent.layout.width))}
+      accessible
+      accessibilityRole="image"
+      accessibilityLabel={description}
+    >
       {shown.length === 0 ? (
         <Text tone="muted">No lot has readings after time zero yet.</Text>
       ) : width > 0 ? (
@@ -68,13 +76,28 @@ export function DriftTrendChart({ lots, testID }: Props) {
               label="Stress hours (read points)"
               style={axisStyle}
             />
-            <VictoryAxis dependentAxis label="hFE change from time zero, %" tickFormat={(t: number) => (t < 0 ? `−${Math.abs(t)}` : `${t}`)} style={{ ...axisStyle, axisLabel: { ...axisStyle.axisLabel, padding: 40 } }} />
+            <VictoryAxis
+              dependentAxis
+              label="hFE change from time zero, %"
+              tickFormat={(t: number) => (t < 0 ? `−${Math.abs(t)}` : `${t}`)}
+              style={{ ...axisStyle, axisLabel: { ...axisStyle.axisLabel, padding: 40 } }}
+            />
             {shown.map((l, i) => {
               const s = seriesAt(i);
               const data = l.hfeTrend.map((p) => ({ x: p.hours, y: p.value }));
               return [
-                <VictoryLine key={`${l.lotId}-line`} data={data} style={{ data: { stroke: s.color, strokeWidth: 2.5, strokeDasharray: s.dash } }} />,
-                <VictoryScatter key={`${l.lotId}-pts`} data={data} size={phone ? 4 : 5} symbol={s.symbol} style={{ data: { fill: s.color, stroke: colors.surface, strokeWidth: 1 } }} />,
+                <VictoryLine
+                  key={`${l.lotId}-line`}
+                  data={data}
+                  style={{ data: { stroke: s.color, strokeWidth: 2.5, strokeDasharray: s.dash } }}
+                />,
+                <VictoryScatter
+                  key={`${l.lotId}-pts`}
+                  data={data}
+                  size={phone ? 4 : 5}
+                  symbol={s.symbol}
+                  style={{ data: { fill: s.color, stroke: colors.surface, strokeWidth: 1 } }}
+                />,
               ];
             })}
           </VictoryChart>

@@ -36,8 +36,22 @@ function ExportButtons({ lot }: { lot: LotDetail }) {
   return (
     <View style={{ gap: space.xs }}>
       <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
-        <Button size="sm" variant="secondary" label="Export CSV" accessibilityHint="Downloads the lot report for a spreadsheet" onPress={() => run('csv')} testID="export-csv" />
-        <Button size="sm" variant="secondary" label="Export PDF" accessibilityHint="Downloads a printable lot report" onPress={() => run('pdf')} testID="export-pdf" />
+        <Button
+          size="sm"
+          variant="secondary"
+          label="Export CSV"
+          accessibilityHint="Downloads the lot report for a spreadsheet"
+          onPress={() => run('csv')}
+          testID="export-csv"
+        />
+        <Button
+          size="sm"
+          variant="secondary"
+          label="Export PDF"
+          accessibilityHint="Downloads a printable lot report"
+          onPress={() => run('pdf')}
+          testID="export-pdf"
+        />
       </View>
       {error ? (
         <Text variant="caption" tone="danger">
@@ -51,29 +65,44 @@ function ExportButtons({ lot }: { lot: LotDetail }) {
 function FitCard({ lot }: { lot: LotDetail }) {
   const f = lot.fit;
   return (
-    <Card title="Failure rate" description="Upper bound at 60 % and 90 % confidence, chi-square method, Arrhenius acceleration from stress to use temperature; device-hours are each device's credited hours (its socket's own accrual).">
+    <Card
+      title="Failure rate"
+      description="Upper bound at 60 % and 90 % confidence, chi-square method, Arrhenius acceleration from stress to use temperature; device-hours are each device's credited hours (its socket's own accrual)."
+    >
       {f ? (
         <View style={{ gap: space.xs }}>
           <View style={{ flexDirection: 'row', gap: space.lg, flexWrap: 'wrap' }}>
             <View>
-              <Text variant="caption" tone="muted">FIT at 60 %</Text>
-              <Text variant="title" testID="fit60">{sig(f.fit60)}</Text>
+              <Text variant="caption" tone="muted">
+                FIT at 60 %
+              </Text>
+              <Text variant="title" testID="fit60">
+                {sig(f.fit60)}
+              </Text>
             </View>
             <View>
-              <Text variant="caption" tone="muted">FIT at 90 %</Text>
-              <Text variant="title" testID="fit90">{sig(f.fit90)}</Text>
+              <Text variant="caption" tone="muted">
+                FIT at 90 %
+              </Text>
+              <Text variant="title" testID="fit90">
+                {sig(f.fit90)}
+              </Text>
             </View>
             <View>
-              <Text variant="caption" tone="muted">Acceleration factor</Text>
+              <Text variant="caption" tone="muted">
+                Acceleration factor
+              </Text>
               <Text variant="title">{sig(f.accelerationFactor)}</Text>
             </View>
           </View>
           <Text variant="caption">
-            {f.failures} failure{f.failures === 1 ? '' : 's'} in {Math.round(f.deviceHours).toLocaleString('en-GB')} device-hours credited to {f.devices} devices (mean {hours(f.hoursEach)} each)
-            ({Math.round(f.equivalentDeviceHours).toLocaleString('en-GB')} at use conditions).
+            {f.failures} failure{f.failures === 1 ? '' : 's'} in {Math.round(f.deviceHours).toLocaleString('en-GB')} device-hours credited
+            to {f.devices} devices (mean {hours(f.hoursEach)} each) ({Math.round(f.equivalentDeviceHours).toLocaleString('en-GB')} at use
+            conditions).
           </Text>
           <Text variant="caption" tone="muted">
-            Ea {f.constants.eaEv} eV, use {f.constants.useC} °C, stress {sig(f.constants.stressC, 4)} °C ({f.constants.stressBasis}), k = {f.constants.boltzmannEvPerK} eV/K ({f.constants.source}), T(K) = T(°C) + {f.constants.kelvinOffset}. {f.method}.
+            Ea {f.constants.eaEv} eV, use {f.constants.useC} °C, stress {sig(f.constants.stressC, 4)} °C ({f.constants.stressBasis}), k ={' '}
+            {f.constants.boltzmannEvPerK} eV/K ({f.constants.source}), T(K) = T(°C) + {f.constants.kelvinOffset}. {f.method}.
           </Text>
         </View>
       ) : (
@@ -86,28 +115,71 @@ function FitCard({ lot }: { lot: LotDetail }) {
 const rpColumns: Column<LotReadPointStats>[] = [
   { key: 'h', title: 'Read point', flex: 0.8, card: 'title', render: (r) => hours(r.hours) },
   { key: 'n', title: 'Devices', flex: 0.7, align: 'right', render: (r) => `${r.devicesMeasured}${r.late ? ` (${r.late} late)` : ''}` },
-  { key: 'hfe', title: 'hFE change mean ± sd', flex: 1.3, align: 'right', render: (r) => (r.hfeChangePct ? `${pct(r.hfeChangePct.mean)} ± ${sig(r.hfeChangePct.sd)}` : '—') },
-  { key: 'hfeR', title: 'hFE 5–95 %', flex: 1.2, align: 'right', render: (r) => (r.hfeChangePct ? `${sig(r.hfeChangePct.p5)} to ${sig(r.hfeChangePct.p95)}` : '—') },
-  { key: 'icbo', title: 'ICBO ratio median (95 %)', flex: 1.3, align: 'right', render: (r) => (r.icboRatio ? `${sig(r.icboRatio.median)}× (${sig(r.icboRatio.p95)}×)` : '—') },
-  { key: 'vce', title: 'VCE(sat) shift mean', flex: 1, align: 'right', render: (r) => (r.vcesatShiftMv ? `${sig(r.vcesatShiftMv.mean)} mV` : '—') },
+  {
+    key: 'hfe',
+    title: 'hFE change mean ± sd',
+    flex: 1.3,
+    align: 'right',
+    render: (r) => (r.hfeChangePct ? `${pct(r.hfeChangePct.mean)} ± ${sig(r.hfeChangePct.sd)}` : '—'),
+  },
+  {
+    key: 'hfeR',
+    title: 'hFE 5–95 %',
+    flex: 1.2,
+    align: 'right',
+    render: (r) => (r.hfeChangePct ? `${sig(r.hfeChangePct.p5)} to ${sig(r.hfeChangePct.p95)}` : '—'),
+  },
+  {
+    key: 'icbo',
+    title: 'ICBO ratio median (95 %)',
+    flex: 1.3,
+    align: 'right',
+    render: (r) => (r.icboRatio ? `${sig(r.icboRatio.median)}× (${sig(r.icboRatio.p95)}×)` : '—'),
+  },
+  {
+    key: 'vce',
+    title: 'VCE(sat) shift mean',
+    flex: 1,
+    align: 'right',
+    render: (r) => (r.vcesatShiftMv ? `${sig(r.vcesatShiftMv.mean)} mV` : '—'),
+  },
   { key: 'f', title: 'Failed so far', flex: 0.8, align: 'right', render: (r) => String(r.cumulativeFails) },
 ];
 
 const deviceColumns: Column<LotDevice>[] = [
   { key: 'serial', title: 'Serial', flex: 0.9, card: 'title', render: (d) => d.serial },
   { key: 'socket', title: 'Socket', flex: 0.6, align: 'right', render: (d) => String(d.socketIndex) },
-  { key: 'status', title: 'Status', flex: 1.2, render: (d) => <StatusPill size="sm" tone={DEVICE_STATUS[d.status].tone} label={DEVICE_STATUS[d.status].label} /> },
-  { key: 'first', title: 'First failed', flex: 0.9, align: 'right', render: (d) => (d.firstFailedH === null ? '—' : `${hours(d.firstFailedH)} (${d.failedParameters.map((p) => PARAM_LABEL[p]).join(', ')})`) },
+  {
+    key: 'status',
+    title: 'Status',
+    flex: 1.2,
+    render: (d) => <StatusPill size="sm" tone={DEVICE_STATUS[d.status].tone} label={DEVICE_STATUS[d.status].label} />,
+  },
+  {
+    key: 'first',
+    title: 'First failed',
+    flex: 0.9,
+    align: 'right',
+    render: (d) =>
+      d.firstFailedH === null ? '—' : `${hours(d.firstFailedH)} (${d.failedParameters.map((p) => PARAM_LABEL[p]).join(', ')})`,
+  },
   { key: 'hfe', title: 'hFE change', flex: 0.9, align: 'right', render: (d) => pct(d.hfeChangePct) },
   { key: 'icbo', title: 'ICBO ratio', flex: 0.8, align: 'right', render: (d) => (d.icboRatio === null ? '—' : `${sig(d.icboRatio)}×`) },
-  { key: 'vce', title: 'VCE(sat) shift', flex: 0.9, align: 'right', render: (d) => (d.vcesatShiftMv === null ? '—' : `${sig(d.vcesatShiftMv)} mV`) },
+  {
+    key: 'vce',
+    title: 'VCE(sat) shift',
+    flex: 0.9,
+    align: 'right',
+    render: (d) => (d.vcesatShiftMv === null ? '—' : `${sig(d.vcesatShiftMv)} mV`),
+  },
   {
     key: 'notes',
     title: 'Notes',
     flex: 1.2,
     render: (d) => (
       <Text variant="caption" tone="muted">
-        {[d.hfeNormalised ? 'hFE referred to reference temperature' : null, d.late ? 'late reading' : null].filter(Boolean).join('; ') || '—'}
+        {[d.hfeNormalised ? 'hFE referred to reference temperature' : null, d.late ? 'late reading' : null].filter(Boolean).join('; ') ||
+          '—'}
       </Text>
     ),
   },
@@ -131,13 +203,19 @@ export function LotDetailScreen() {
               subtitle={l.plan ? `${l.plan.name}${l.run ? ` · run ${l.run.code}, ${l.run.state}` : ''}` : 'Not on a stress run yet'}
               actions={<ExportButtons lot={l} />}
             />
-            <Button size="sm" variant="quiet" label="‹ All lots" onPress={() => (router.canGoBack() ? router.back() : router.replace('/trends' as Href))} />
+            <Button
+              size="sm"
+              variant="quiet"
+              label="‹ All lots"
+              onPress={() => (router.canGoBack() ? router.back() : router.replace('/trends' as Href))}
+            />
             <Card title="Verdict">
               <View style={{ gap: space.sm }}>
                 <VerdictPill verdict={l.verdict} size="md" />
                 {l.planVerdicts.length > 1 ? (
                   <Text variant="caption" testID="plan-verdicts">
-                    Combined over {l.planVerdicts.length} plans (the worst counts): {l.planVerdicts.map((p) => `${p.planName}: ${LOT_VERDICT_LABEL[p.verdict]}`).join('; ')}.
+                    Combined over {l.planVerdicts.length} plans (the worst counts):{' '}
+                    {l.planVerdicts.map((p) => `${p.planName}: ${LOT_VERDICT_LABEL[p.verdict]}`).join('; ')}.
                   </Text>
                 ) : null}
                 {l.reasons.map((r, i) => (
@@ -159,12 +237,24 @@ export function LotDetailScreen() {
                 <Card title="Spread per read point" description="Change from time zero across the lot's devices.">
                   <LotDistributionChart lot={l} />
                 </Card>
-                <DataTable caption="Drift distribution per read point" columns={rpColumns} rows={l.readPoints} rowKey={(r) => String(r.hours)} testID="lot-readpoints" />
-                <Card title="Typical device" description="The lot's typical device (mean hFE change, median ICBO ratio, mean VCE(sat) shift) fitted through the origin and solved for the limit; the verdict reads each device's own path (below).">
+                <DataTable
+                  caption="Drift distribution per read point"
+                  columns={rpColumns}
+                  rows={l.readPoints}
+                  rowKey={(r) => String(r.hours)}
+                  testID="lot-readpoints"
+                />
+                <Card
+                  title="Typical device"
+                  description="The lot's typical device (mean hFE change, median ICBO ratio, mean VCE(sat) shift) fitted through the origin and solved for the limit; the verdict reads each device's own path (below)."
+                >
                   <View style={{ gap: space.xxs }}>
                     {l.trends.map((t) => (
                       <Text key={t.parameter}>
-                        {PARAM_LABEL[t.parameter]}: {t.pseudoFailureH === null ? 'not projected to reach its limit' : `reaches ${t.model === 'log-ratio-origin' ? `${sig(t.limit)}×` : t.parameter === 'vcesat' ? `${sig(t.limit)} mV` : `${sig(t.limit)} %`} at ${hours(t.pseudoFailureH)}`}
+                        {PARAM_LABEL[t.parameter]}:{' '}
+                        {t.pseudoFailureH === null
+                          ? 'not projected to reach its limit'
+                          : `reaches ${t.model === 'log-ratio-origin' ? `${sig(t.limit)}×` : t.parameter === 'vcesat' ? `${sig(t.limit)} mV` : `${sig(t.limit)} %`} at ${hours(t.pseudoFailureH)}`}
                         {l.plan ? ` (target life ${hours(l.plan.durationH)})` : ''}
                       </Text>
                     ))}
@@ -176,7 +266,8 @@ export function LotDetailScreen() {
                 ))}
                 {l.productionDateSource === 'date-code' ? (
                   <Text variant="caption" tone="muted">
-                    Peer lots are ordered by production date; this lot's ({l.productionDate}) is read from its date code {l.dateCode} (year and week).
+                    Peer lots are ordered by production date; this lot's ({l.productionDate}) is read from its date code {l.dateCode} (year
+                    and week).
                   </Text>
                 ) : null}
                 <FitCard lot={l} />

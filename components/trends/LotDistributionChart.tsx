@@ -38,7 +38,13 @@ export function LotDistributionChart({ lot }: { lot: LotDetail }) {
   const trend = lot.trends.find((t) => t.parameter === param);
   const c = lot.criteria;
   const limits: number[] =
-    param === 'hfe' && c ? [c.hfeChangePct, -c.hfeChangePct] : param === 'vcesat' && c ? [c.vcesatShiftV * 1000, -c.vcesatShiftV * 1000] : trend && param === 'icbo' && trend.limit > 1 ? [trend.limit] : [];
+    param === 'hfe' && c
+      ? [c.hfeChangePct, -c.hfeChangePct]
+      : param === 'vcesat' && c
+        ? [c.vcesatShiftV * 1000, -c.vcesatShiftV * 1000]
+        : trend && param === 'icbo' && trend.limit > 1
+          ? [trend.limit]
+          : [];
   const maxX = Math.max(lot.plan?.durationH ?? 0, ...points.map((p) => p.x), 1);
   const fitLine = trend ? trend.line.filter((p) => p.hours <= maxX).map((p) => ({ x: p.hours, y: p.value })) : [];
   const ys = [...points.flatMap((p) => [p.p5, p.p95]), ...limits, ...fitLine.map((p) => p.y)];
@@ -54,22 +60,57 @@ export function LotDistributionChart({ lot }: { lot: LotDetail }) {
   return (
     <View style={{ gap: space.sm }}>
       <SegmentedChoice label="Parameter" options={PARAMS} value={param} onChange={(v) => setParam(v as Param)} testID="lot-chart-param" />
-      <View onLayout={(e) => setWidth(Math.round(e.nativeEvent.layout.width))} accessible accessibilityRole="image" accessibilityLabel={label}>
+      <View
+        onLayout={(e) => setWidth(Math.round(e.nativeEvent.layout.width))}
+        accessible
+        accessibilityRole="image"
+        accessibilityLabel={label}
+      >
         {points.length < 2 ? (
           <Text tone="muted">No readings after time zero yet.</Text>
         ) : width > 0 ? (
           <>
-            <VictoryChart width={width} height={phone ? 260 : 320} padding={{ top: 16, bottom: 48, left: 60, right: phone ? 12 : 24 }} domain={{ x: [0, maxX], y: domainY }}>
-              <VictoryArea data={points.map((p) => ({ x: p.x, y: p.p95, y0: p.p5 }))} style={{ data: { fill: BAND_OUTER, opacity: 0.7 } }} />
-              <VictoryArea data={points.map((p) => ({ x: p.x, y: p.p75, y0: p.p25 }))} style={{ data: { fill: BAND_INNER, opacity: 0.7 } }} />
+            <VictoryChart
+              width={width}
+              height={phone ? 260 : 320}
+              padding={{ top: 16, bottom: 48, left: 60, right: phone ? 12 : 24 }}
+              domain={{ x: [0, maxX], y: domainY }}
+            >
+              <VictoryArea
+                data={points.map((p) => ({ x: p.x, y: p.p95, y0: p.p5 }))}
+                style={{ data: { fill: BAND_OUTER, opacity: 0.7 } }}
+              />
+              <VictoryArea
+                data={points.map((p) => ({ x: p.x, y: p.p75, y0: p.p25 }))}
+                style={{ data: { fill: BAND_INNER, opacity: 0.7 } }}
+              />
               {limits.map((y) => (
-                <VictoryLine key={y} data={[{ x: 0, y }, { x: maxX, y }]} style={{ data: { stroke: LIMIT_STROKE, strokeWidth: 1.5, strokeDasharray: '6,4' } }} />
+                <VictoryLine
+                  key={y}
+                  data={[
+                    { x: 0, y },
+                    { x: maxX, y },
+                  ]}
+                  style={{ data: { stroke: LIMIT_STROKE, strokeWidth: 1.5, strokeDasharray: '6,4' } }}
+                />
               ))}
-              {fitLine.length ? <VictoryLine data={fitLine} style={{ data: { stroke: FIT, strokeWidth: 2, strokeDasharray: '2,3' } }} /> : null}
+              {fitLine.length ? (
+                <VictoryLine data={fitLine} style={{ data: { stroke: FIT, strokeWidth: 2, strokeDasharray: '2,3' } }} />
+              ) : null}
               <VictoryLine data={points.map((p) => ({ x: p.x, y: p.median }))} style={{ data: { stroke: CENTRE, strokeWidth: 2.5 } }} />
-              <VictoryScatter data={points.map((p) => ({ x: p.x, y: p.median }))} size={5} symbol="circle" style={{ data: { fill: CENTRE, stroke: colors.surface, strokeWidth: 1 } }} />
+              <VictoryScatter
+                data={points.map((p) => ({ x: p.x, y: p.median }))}
+                size={5}
+                symbol="circle"
+                style={{ data: { fill: CENTRE, stroke: colors.surface, strokeWidth: 1 } }}
+              />
               <VictoryAxis offsetY={48} tickValues={ticks} label="Stress hours (read points)" style={axisStyle} />
-              <VictoryAxis dependentAxis label={PARAMS.find((p) => p.value === param)!.label} tickFormat={(t: number) => (t < 0 ? `−${Math.abs(t)}` : `${t}`)} style={{ ...axisStyle, axisLabel: { ...axisStyle.axisLabel, padding: 44 } }} />
+              <VictoryAxis
+                dependentAxis
+                label={PARAMS.find((p) => p.value === param)!.label}
+                tickFormat={(t: number) => (t < 0 ? `−${Math.abs(t)}` : `${t}`)}
+                style={{ ...axisStyle, axisLabel: { ...axisStyle.axisLabel, padding: 44 } }}
+              />
             </VictoryChart>
             <VictoryLegend
               standalone
@@ -87,8 +128,11 @@ export function LotDistributionChart({ lot }: { lot: LotDetail }) {
               ]}
             />
             <Text variant="caption" tone="muted">
-              Red dashed line: the plan's limit{param === 'icbo' ? ' for the lot’s typical device (ratio allowed at its median time-zero leakage)' : ''}.
-              {trend?.pseudoFailureH ? ` The fitted path reaches it at ${hours(trend.pseudoFailureH)}.` : ' The fitted path does not reach it.'}
+              Red dashed line: the plan's limit
+              {param === 'icbo' ? ' for the lot’s typical device (ratio allowed at its median time-zero leakage)' : ''}.
+              {trend?.pseudoFailureH
+                ? ` The fitted path reaches it at ${hours(trend.pseudoFailureH)}.`
+                : ' The fitted path does not reach it.'}
             </Text>
           </>
         ) : null}

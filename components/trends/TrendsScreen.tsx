@@ -31,7 +31,11 @@ function sortLots(list: LotSummary[], key: SortKey): LotSummary[] {
   const nullLast = (x: number | null) => (x === null ? Number.POSITIVE_INFINITY : x);
   return [...list].sort((a, b) => {
     if (key === 'worst') return VERDICT_ORDER[a.verdict] - VERDICT_ORDER[b.verdict] || byCode(a, b);
-    if (key === 'drift') return nullLast(a.latestHfeChangePct === null ? null : -Math.abs(a.latestHfeChangePct)) - nullLast(b.latestHfeChangePct === null ? null : -Math.abs(b.latestHfeChangePct)) || byCode(a, b);
+    if (key === 'drift')
+      return (
+        nullLast(a.latestHfeChangePct === null ? null : -Math.abs(a.latestHfeChangePct)) -
+          nullLast(b.latestHfeChangePct === null ? null : -Math.abs(b.latestHfeChangePct)) || byCode(a, b)
+      );
     if (key === 'projection') return nullLast(a.pseudoFailureH) - nullLast(b.pseudoFailureH) || byCode(a, b);
     return byCode(a, b);
   });
@@ -52,7 +56,10 @@ export function TrendsScreen() {
   const typeChoices = useMemo(() => {
     const seen = new Map<string, string>();
     for (const l of lots.data ?? []) seen.set(l.deviceTypeId, l.partNumber);
-    return [{ value: 'all', label: 'All types' }, ...[...seen].sort((a, b) => a[1].localeCompare(b[1])).map(([value, label]) => ({ value, label }))];
+    return [
+      { value: 'all', label: 'All types' },
+      ...[...seen].sort((a, b) => a[1].localeCompare(b[1])).map(([value, label]) => ({ value, label })),
+    ];
   }, [lots.data]);
 
   const columns: Column<LotSummary>[] = [
@@ -73,15 +80,29 @@ export function TrendsScreen() {
     { key: 'verdict', title: 'Verdict', flex: 1.1, render: (l) => <VerdictPill verdict={l.verdict} /> },
     { key: 'at', title: 'Latest read point', flex: 0.9, align: 'right', render: (l) => hours(l.latestReadPointH) },
     { key: 'hfe', title: 'Mean hFE change', flex: 1, align: 'right', render: (l) => pct(l.latestHfeChangePct) },
-    { key: 'icbo', title: 'Median ICBO ratio', flex: 1, align: 'right', render: (l) => (l.latestIcboRatio === null ? '—' : `${sig(l.latestIcboRatio)}×`) },
-    { key: 'fails', title: 'Fails / accept', flex: 0.9, align: 'right', render: (l) => (l.plan ? `${l.fails} / ${l.plan.acceptNumber}` : '—') },
+    {
+      key: 'icbo',
+      title: 'Median ICBO ratio',
+      flex: 1,
+      align: 'right',
+      render: (l) => (l.latestIcboRatio === null ? '—' : `${sig(l.latestIcboRatio)}×`),
+    },
+    {
+      key: 'fails',
+      title: 'Fails / accept',
+      flex: 0.9,
+      align: 'right',
+      render: (l) => (l.plan ? `${l.fails} / ${l.plan.acceptNumber}` : '—'),
+    },
     { key: 'proj', title: 'Projected crossing', flex: 1, align: 'right', render: (l) => hours(l.pseudoFailureH) },
     {
       key: 'open',
       title: 'Details',
       flex: 0.9,
       card: 'actions',
-      render: (l) => <Button size="sm" variant="secondary" label="Open" accessibilityLabel={`Open lot ${l.lotCode}`} onPress={() => open(l.lotId)} />,
+      render: (l) => (
+        <Button size="sm" variant="secondary" label="Open" accessibilityLabel={`Open lot ${l.lotCode}`} onPress={() => open(l.lotId)} />
+      ),
     },
   ];
 
@@ -97,13 +118,22 @@ export function TrendsScreen() {
         loadingLabel="Analysing lots…"
         errorTitle="Could not load the lot analysis"
         isEmpty={(list) => list.length === 0}
-        empty={<EmptyState title="No lots yet" message="Lots appear here once engineers register them; drift shows once a run has readings after time zero." />}
+        empty={
+          <EmptyState
+            title="No lots yet"
+            message="Lots appear here once engineers register them; drift shows once a run has readings after time zero."
+          />
+        }
       >
         {(all) => {
           const inType = all.filter((l) => typeId === 'all' || l.deviceTypeId === typeId);
           const q = search.trim().toLowerCase();
           const rows = sortLots(
-            inType.filter((l) => (verdict === 'all' || l.verdict === verdict) && (!q || l.lotCode.toLowerCase().includes(q) || l.partNumber.toLowerCase().includes(q))),
+            inType.filter(
+              (l) =>
+                (verdict === 'all' || l.verdict === verdict) &&
+                (!q || l.lotCode.toLowerCase().includes(q) || l.partNumber.toLowerCase().includes(q)),
+            ),
             sort,
           );
           const counts = LOT_VERDICTS.map((v) => [v, all.filter((l) => l.verdict === v).length] as const).filter(([, n]) => n > 0);
@@ -118,7 +148,10 @@ export function TrendsScreen() {
                 ))}
               </View>
               <SegmentedChoice label="Device type" options={typeChoices} value={typeId} onChange={setTypeId} testID="trends-type" />
-              <Card title="hFE drift by lot" description="Mean change from time zero at each read point; hFE referred to the part's reference temperature.">
+              <Card
+                title="hFE drift by lot"
+                description="Mean change from time zero at each read point; hFE referred to the part's reference temperature."
+              >
                 <DriftTrendChart lots={inType.filter((l) => l.verdict !== 'untested')} testID="trends-chart" />
               </Card>
               <View style={{ gap: space.sm }}>
@@ -127,21 +160,42 @@ export function TrendsScreen() {
                 </Text>
                 <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
                   <View style={{ flexGrow: 1, flexBasis: 220 }}>
-                    <Field label="Find a lot" placeholder="Lot code or part number" value={search} onChangeText={setSearch} autoCapitalize="characters" />
+                    <Field
+                      label="Find a lot"
+                      placeholder="Lot code or part number"
+                      value={search}
+                      onChangeText={setSearch}
+                      autoCapitalize="characters"
+                    />
                   </View>
                 </View>
                 <SegmentedChoice
                   label="Show"
-                  options={[{ value: 'all' as const, label: 'All' }, ...LOT_VERDICTS.map((v) => ({ value: v, label: LOT_VERDICT_LABEL[v] }))]}
+                  options={[
+                    { value: 'all' as const, label: 'All' },
+                    ...LOT_VERDICTS.map((v) => ({ value: v, label: LOT_VERDICT_LABEL[v] })),
+                  ]}
                   value={verdict}
                   onChange={setVerdict}
                   testID="trends-verdict-filter"
                 />
-                <SegmentedChoice label="Sort by" options={SORTS} value={sort} onChange={(v) => setSort(v as SortKey)} testID="trends-sort" />
+                <SegmentedChoice
+                  label="Sort by"
+                  options={SORTS}
+                  value={sort}
+                  onChange={(v) => setSort(v as SortKey)}
+                  testID="trends-sort"
+                />
                 {rows.length === 0 ? (
                   <EmptyState title="No lot matches" message="Change the filter or the search." />
                 ) : (
-                  <DataTable caption="Lots with their verdicts" columns={columns} rows={rows} rowKey={(l) => l.lotId} testID="trends-table" />
+                  <DataTable
+                    caption="Lots with their verdicts"
+                    columns={columns}
+                    rows={rows}
+                    rowKey={(l) => l.lotId}
+                    testID="trends-table"
+                  />
                 )}
               </View>
             </View>
@@ -153,7 +207,13 @@ export function TrendsScreen() {
         <Text variant="heading" heading={2}>
           Device types
         </Text>
-        <QueryState query={types} loadingLabel="Adding up device-hours…" errorTitle="Could not load device-type summaries" isEmpty={(l) => l.length === 0} empty={<EmptyState title="No device types yet" />}>
+        <QueryState
+          query={types}
+          loadingLabel="Adding up device-hours…"
+          errorTitle="Could not load device-type summaries"
+          isEmpty={(l) => l.length === 0}
+          empty={<EmptyState title="No device types yet" />}
+        >
           {(list) => (
             <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
               {list.map((t) => (
@@ -166,7 +226,8 @@ export function TrendsScreen() {
                 >
                   <Card title={t.partNumber} description={t.description}>
                     <Text variant="caption" tone="muted">
-                      {t.lotsPassed} of {t.lots} lots passed · {t.lotsDrifting} drifting · {t.lotsFailed} failed · {t.lotsInProgress} in progress
+                      {t.lotsPassed} of {t.lots} lots passed · {t.lotsDrifting} drifting · {t.lotsFailed} failed · {t.lotsInProgress} in
+                      progress
                     </Text>
                     <Text variant="label">
                       {Math.round(t.deviceHours).toLocaleString('en-GB')} device-hours · FIT (60 %) {t.fit60 === null ? '—' : sig(t.fit60)}

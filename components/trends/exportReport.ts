@@ -6,7 +6,14 @@ import { Linking, Platform } from 'react-native';
  */
 export async function downloadReport(url: string, fileName: string): Promise<void> {
   if (Platform.OS === 'web') {
-    const doc = (globalThis as unknown as { document?: { createElement: (t: 'a') => { href: string; download: string; rel: string; click: () => void; remove: () => void }; body: { appendChild: (n: unknown) => void } } }).document;
+    const doc = (
+      globalThis as unknown as {
+        document?: {
+          createElement: (t: 'a') => { href: string; download: string; rel: string; click: () => void; remove: () => void };
+          body: { appendChild: (n: unknown) => void };
+        };
+      }
+    ).document;
     if (!doc) return;
     const a = doc.createElement('a');
     a.href = url;

@@ -64,12 +64,30 @@ export function DataTable<T>({ columns, rows, rowKey, caption, cardsBelow = 'tab
           <View
             key={rowKey(row)}
             role="listitem"
-            style={[{ backgroundColor: colors.surface, borderRadius: radius.lg, borderWidth: 1, borderColor: colors.border, padding: space.md, gap: space.sm }, shadow]}
+            style={[
+              {
+                backgroundColor: colors.surface,
+                borderRadius: radius.lg,
+                borderWidth: 1,
+                borderColor: colors.border,
+                padding: space.md,
+                gap: space.sm,
+              },
+              shadow,
+            ]}
           >
             <View style={{ gap: 2 }}>
               {cell(title.render(row), undefined, true)}
               {subtitle.map((c) => (
-                <Fragment key={c.key}>{typeof c.render(row) === 'string' ? <Text variant="caption" tone="muted">{c.render(row) as string}</Text> : c.render(row)}</Fragment>
+                <Fragment key={c.key}>
+                  {typeof c.render(row) === 'string' ? (
+                    <Text variant="caption" tone="muted">
+                      {c.render(row) as string}
+                    </Text>
+                  ) : (
+                    c.render(row)
+                  )}
+                </Fragment>
               ))}
             </View>
             {fields.length ? (
@@ -85,7 +103,16 @@ export function DataTable<T>({ columns, rows, rowKey, caption, cardsBelow = 'tab
               </View>
             ) : null}
             {actions.length ? (
-              <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs, borderTopWidth: 1, borderTopColor: colors.border, paddingTop: space.sm }}>
+              <View
+                style={{
+                  flexDirection: 'row',
+                  flexWrap: 'wrap',
+                  gap: space.xs,
+                  borderTopWidth: 1,
+                  borderTopColor: colors.border,
+                  paddingTop: space.sm,
+                }}
+              >
                 {actions.map((c) => (
                   <Fragment key={c.key}>{c.render(row)}</Fragment>
                 ))}
@@ -103,9 +130,21 @@ export function DataTable<T>({ columns, rows, rowKey, caption, cardsBelow = 'tab
       role="table"
       aria-label={caption}
       onLayout={onLayout}
-      style={[{ backgroundColor: colors.surface, borderRadius: radius.lg, borderWidth: 1, borderColor: colors.border, overflow: 'hidden' }, shadow]}
+      style={[
+        { backgroundColor: colors.surface, borderRadius: radius.lg, borderWidth: 1, borderColor: colors.border, overflow: 'hidden' },
+        shadow,
+      ]}
     >
-      <View role="row" style={{ flexDirection: 'row', backgroundColor: colors.surfaceSunken, borderBottomWidth: 1, borderBottomColor: colors.border, paddingHorizontal: space.md }}>
+      <View
+        role="row"
+        style={{
+          flexDirection: 'row',
+          backgroundColor: colors.surfaceSunken,
+          borderBottomWidth: 1,
+          borderBottomColor: colors.border,
+          paddingHorizontal: space.md,
+        }}
+      >
         {columns.map((c) => (
           <View key={c.key} role="columnheader" style={{ flex: c.flex ?? 1, paddingVertical: space.sm, paddingHorizontal: space.xs }}>
             <Text variant="overline" tone="muted" align={c.align}>
@@ -131,7 +170,13 @@ export function DataTable<T>({ columns, rows, rowKey, caption, cardsBelow = 'tab
             <View
               key={c.key}
               role="cell"
-              style={{ flex: c.flex ?? 1, paddingVertical: space.sm, paddingHorizontal: space.xs, alignItems: c.align === 'right' ? 'flex-end' : 'flex-start', minWidth: 0 }}
+              style={{
+                flex: c.flex ?? 1,
+                paddingVertical: space.sm,
+                paddingHorizontal: space.xs,
+                alignItems: c.align === 'right' ? 'flex-end' : 'flex-start',
+                minWidth: 0,
+              }}
             >
               {cell(c.render(row), c.align, ci === 0)}
             </View>

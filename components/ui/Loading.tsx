@@ -17,7 +17,17 @@ interface Props {
 
 function SkeletonRow({ opacity }: { opacity: Animated.Value }) {
   return (
-    <Animated.View style={{ opacity, gap: space.xs, padding: space.md, borderRadius: radius.md, backgroundColor: colors.surface, borderWidth: 1, borderColor: colors.border }}>
+    <Animated.View
+      style={{
+        opacity,
+        gap: space.xs,
+        padding: space.md,
+        borderRadius: radius.md,
+        backgroundColor: colors.surface,
+        borderWidth: 1,
+        borderColor: colors.border,
+      }}
+    >
       <View style={{ height: 14, width: '40%', borderRadius: radius.sm, backgroundColor: colors.paperDeep }} />
       <View style={{ height: 12, width: '70%', borderRadius: radius.sm, backgroundColor: colors.surfaceSunken }} />
     </Animated.View>
@@ -43,7 +53,13 @@ export function Loading({ label, variant = 'spinner', rows = 3, testID = 'loadin
   }, [pulse, variant]);
 
   return (
-    <View testID={testID} accessibilityRole="progressbar" accessibilityLabel={label} accessibilityState={{ busy: true }} style={{ gap: space.sm }}>
+    <View
+      testID={testID}
+      accessibilityRole="progressbar"
+      accessibilityLabel={label}
+      accessibilityState={{ busy: true }}
+      style={{ gap: space.sm }}
+    >
       {variant === 'skeleton' ? (
         <>
           <Text variant="caption" tone="muted">

@@ -62,7 +62,14 @@ export function SegmentedChoice<T extends string>({ label, options, value, onCha
             >
               {selected ? (
                 <Svg width={14} height={14} viewBox="0 0 14 14" aria-hidden>
-                  <Path d="M2.5 7.3l2.8 2.8 6-6.2" stroke={colors.inkInverse} strokeWidth={2} fill="none" strokeLinecap="round" strokeLinejoin="round" />
+                  <Path
+                    d="M2.5 7.3l2.8 2.8 6-6.2"
+                    stroke={colors.inkInverse}
+                    strokeWidth={2}
+                    fill="none"
+                    strokeLinecap="round"
+                    strokeLinejoin="round"
+                  />
                 </Svg>
               ) : null}
               <Text variant="label" tone={selected ? 'inverse' : 'default'}>

@@ -10,7 +10,14 @@ export function StatusShape({ tone, size = 16, color }: { tone: Tone; size?: num
   const c = color ?? tones[tone].fg;
   const paper = '#FFFDF8';
   return (
-    <Svg width={size} height={size} viewBox="0 0 16 16" accessibilityElementsHidden importantForAccessibility="no-hide-descendants" aria-hidden>
+    <Svg
+      width={size}
+      height={size}
+      viewBox="0 0 16 16"
+      accessibilityElementsHidden
+      importantForAccessibility="no-hide-descendants"
+      aria-hidden
+    >
       {tone === 'ok' ? (
         <>
           <Circle cx={8} cy={8} r={7.5} fill={c} />

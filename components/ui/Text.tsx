@@ -31,10 +31,6 @@ export interface Props extends TextProps {
 export function Text({ variant = 'body', tone = 'default', align, heading, style, ...rest }: Props) {
   const headingProps = heading ? { role: 'heading' as const, 'aria-level': heading } : {};
   return (
-    <RNText
-      {...headingProps}
-      {...rest}
-      style={[type[variant], { color: toneColor(tone) }, align ? { textAlign: align } : null, style]}
-    />
+    <RNText {...headingProps} {...rest} style={[type[variant], { color: toneColor(tone) }, align ? { textAlign: align } : null, style]} />
   );
 }

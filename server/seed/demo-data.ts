@@ -18,55 +18,248 @@ type DemoType = Omit<DeviceTypeInput, 'description'> & { description: string };
 
 export const DEMO_DEVICE_TYPES: DemoType[] = [
   {
-    partNumber: 'HPD-2N140', description: 'NPN medium-power switching transistor, 140 V, TO-126 style', kind: 'bjt', polarity: 'NPN',
-    bvcboV: 140, bvceoV: 80, bveboV: 6, icMaxA: 1.5, pMaxW: 12.5, pRatedAtC: 25, tjMaxC: 150, thetaJcCPerW: 10, thetaJaCPerW: 83.3,
-    betaRef: 120, betaRefIcA: 0.15, betaRefTC: 25, xtb: 1.6, icboRefA: 20e-9, breakdownN: 3,
+    partNumber: 'HPD-2N140',
+    description: 'NPN medium-power switching transistor, 140 V, TO-126 style',
+    kind: 'bjt',
+    polarity: 'NPN',
+    bvcboV: 140,
+    bvceoV: 80,
+    bveboV: 6,
+    icMaxA: 1.5,
+    pMaxW: 12.5,
+    pRatedAtC: 25,
+    tjMaxC: 150,
+    thetaJcCPerW: 10,
+    thetaJaCPerW: 83.3,
+    betaRef: 120,
+    betaRefIcA: 0.15,
+    betaRefTC: 25,
+    xtb: 1.6,
+    icboRefA: 20e-9,
+    breakdownN: 3,
   },
   {
-    partNumber: 'HPD-3P90', description: 'PNP power transistor, 100 V / 3 A, TO-220 style', kind: 'bjt', polarity: 'PNP',
-    bvcboV: 100, bvceoV: 60, bveboV: 5, icMaxA: 3, pMaxW: 40, pRatedAtC: 25, tjMaxC: 150, thetaJcCPerW: 3.125, thetaJaCPerW: 62.5,
-    betaRef: 70, betaRefIcA: 1, betaRefTC: 25, xtb: 1.5, icboRefA: 50e-9, breakdownN: 3,
+    partNumber: 'HPD-3P90',
+    description: 'PNP power transistor, 100 V / 3 A, TO-220 style',
+    kind: 'bjt',
+    polarity: 'PNP',
+    bvcboV: 100,
+    bvceoV: 60,
+    bveboV: 5,
+    icMaxA: 3,
+    pMaxW: 40,
+    pRatedAtC: 25,
+    tjMaxC: 150,
+    thetaJcCPerW: 3.125,
+    thetaJaCPerW: 62.5,
+    betaRef: 70,
+    betaRefIcA: 1,
+    betaRefTC: 25,
+    xtb: 1.5,
+    icboRefA: 50e-9,
+    breakdownN: 3,
   },
   {
-    partNumber: 'HPD-7N400', description: 'High-voltage NPN for line-operated supplies, 700 V VCBO', kind: 'bjt', polarity: 'NPN',
-    bvcboV: 700, bvceoV: 400, bveboV: 9, icMaxA: 8, pMaxW: 80, pRatedAtC: 25, tjMaxC: 150, thetaJcCPerW: 1.56, thetaJaCPerW: 62.5,
-    betaRef: 25, betaRefIcA: 2, betaRefTC: 25, xtb: 1.4, icboRefA: 100e-9, breakdownN: 4,
+    partNumber: 'HPD-7N400',
+    description: 'High-voltage NPN for line-operated supplies, 700 V VCBO',
+    kind: 'bjt',
+    polarity: 'NPN',
+    bvcboV: 700,
+    bvceoV: 400,
+    bveboV: 9,
+    icMaxA: 8,
+    pMaxW: 80,
+    pRatedAtC: 25,
+    tjMaxC: 150,
+    thetaJcCPerW: 1.56,
+    thetaJaCPerW: 62.5,
+    betaRef: 25,
+    betaRefIcA: 2,
+    betaRefTC: 25,
+    xtb: 1.4,
+    icboRefA: 100e-9,
+    breakdownN: 4,
   },
   {
-    partNumber: 'HPD-S230', description: 'Small-signal NPN, 40 V, SOT-23 style', kind: 'bjt', polarity: 'NPN',
-    bvcboV: 75, bvceoV: 40, bveboV: 6, icMaxA: 0.6, pMaxW: 0.625, pRatedAtC: 25, tjMaxC: 150, thetaJcCPerW: 83.3, thetaJaCPerW: 200,
-    betaRef: 150, betaRefIcA: 0.01, betaRefTC: 25, xtb: 1.5, icboRefA: 10e-9, breakdownN: 3,
+    partNumber: 'HPD-S230',
+    description: 'Small-signal NPN, 40 V, SOT-23 style',
+    kind: 'bjt',
+    polarity: 'NPN',
+    bvcboV: 75,
+    bvceoV: 40,
+    bveboV: 6,
+    icMaxA: 0.6,
+    pMaxW: 0.625,
+    pRatedAtC: 25,
+    tjMaxC: 150,
+    thetaJcCPerW: 83.3,
+    thetaJaCPerW: 200,
+    betaRef: 150,
+    betaRefIcA: 0.01,
+    betaRefTC: 25,
+    xtb: 1.5,
+    icboRefA: 10e-9,
+    breakdownN: 3,
   },
 ];
 
 /** Lots, with the drift the simulator gives them (per 1000 stress hours). */
 export const DEMO_LOTS: Array<{
-  code: string; partNumber: string; quantity: number; dateCode: string; notes: string;
-  hfeDriftPctPer1000h: number; leakageGrowthPer1000h: number;
+  code: string;
+  partNumber: string;
+  quantity: number;
+  dateCode: string;
+  notes: string;
+  hfeDriftPctPer1000h: number;
+  leakageGrowthPer1000h: number;
 }> = [
-  { code: 'HG2611-A', partNumber: 'HPD-2N140', quantity: 2400, dateCode: '2611', notes: 'Line 2, wafer lot W88', hfeDriftPctPer1000h: -2.5, leakageGrowthPer1000h: 1.2 },
-  { code: 'HG2611-B', partNumber: 'HPD-2N140', quantity: 2400, dateCode: '2611', notes: 'Line 2, wafer lot W91', hfeDriftPctPer1000h: -3.0, leakageGrowthPer1000h: 1.3 },
-  { code: 'HG2612-C', partNumber: 'HPD-2N140', quantity: 1800, dateCode: '2612', notes: 'New passivation recipe trial', hfeDriftPctPer1000h: -14, leakageGrowthPer1000h: 3.8 },
-  { code: 'HG2609-D', partNumber: 'HPD-3P90', quantity: 3000, dateCode: '2609', notes: '', hfeDriftPctPer1000h: -1.8, leakageGrowthPer1000h: 1.1 },
-  { code: 'HG2610-E', partNumber: 'HPD-3P90', quantity: 3000, dateCode: '2610', notes: '', hfeDriftPctPer1000h: -2.2, leakageGrowthPer1000h: 1.2 },
-  { code: 'HG2608-F', partNumber: 'HPD-7N400', quantity: 1200, dateCode: '2608', notes: 'Customer qualification lot', hfeDriftPctPer1000h: -3.5, leakageGrowthPer1000h: 1.4 },
-  { code: 'HG2612-G', partNumber: 'HPD-7N400', quantity: 1200, dateCode: '2612', notes: '', hfeDriftPctPer1000h: -4.0, leakageGrowthPer1000h: 1.5 },
-  { code: 'HG2605-H', partNumber: 'HPD-S230', quantity: 20000, dateCode: '2605', notes: 'Reel stock', hfeDriftPctPer1000h: -1.2, leakageGrowthPer1000h: 1.05 },
+  {
+    code: 'HG2611-A',
+    partNumber: 'HPD-2N140',
+    quantity: 2400,
+    dateCode: '2611',
+    notes: 'Line 2, wafer lot W88',
+    hfeDriftPctPer1000h: -2.5,
+    leakageGrowthPer1000h: 1.2,
+  },
+  {
+    code: 'HG2611-B',
+    partNumber: 'HPD-2N140',
+    quantity: 2400,
+    dateCode: '2611',
+    notes: 'Line 2, wafer lot W91',
+    hfeDriftPctPer1000h: -3.0,
+    leakageGrowthPer1000h: 1.3,
+  },
+  {
+    code: 'HG2612-C',
+    partNumber: 'HPD-2N140',
+    quantity: 1800,
+    dateCode: '2612',
+    notes: 'New passivation recipe trial',
+    hfeDriftPctPer1000h: -14,
+    leakageGrowthPer1000h: 3.8,
+  },
+  {
+    code: 'HG2609-D',
+    partNumber: 'HPD-3P90',
+    quantity: 3000,
+    dateCode: '2609',
+    notes: '',
+    hfeDriftPctPer1000h: -1.8,
+    leakageGrowthPer1000h: 1.1,
+  },
+  {
+    code: 'HG2610-E',
+    partNumber: 'HPD-3P90',
+    quantity: 3000,
+    dateCode: '2610',
+    notes: '',
+    hfeDriftPctPer1000h: -2.2,
+    leakageGrowthPer1000h: 1.2,
+  },
+  {
+    code: 'HG2608-F',
+    partNumber: 'HPD-7N400',
+    quantity: 1200,
+    dateCode: '2608',
+    notes: 'Customer qualification lot',
+    hfeDriftPctPer1000h: -3.5,
+    leakageGrowthPer1000h: 1.4,
+  },
+  {
+    code: 'HG2612-G',
+    partNumber: 'HPD-7N400',
+    quantity: 1200,
+    dateCode: '2612',
+    notes: '',
+    hfeDriftPctPer1000h: -4.0,
+    leakageGrowthPer1000h: 1.5,
+  },
+  {
+    code: 'HG2605-H',
+    partNumber: 'HPD-S230',
+    quantity: 20000,
+    dateCode: '2605',
+    notes: 'Reel stock',
+    hfeDriftPctPer1000h: -1.2,
+    leakageGrowthPer1000h: 1.05,
+  },
 ];
 
 /** Devices registered per lot in the demo (the sample pulled for stress plus spares). */
 export const DEMO_DEVICES_PER_LOT = 130;
 
 export const DEMO_RIGS: Array<{
-  code: string; name: string; location: string; socketCount: number; maxTempC: number; maxVoltageV: number;
-  humidityCapable: boolean; maxHumidityPct: number | null;
+  code: string;
+  name: string;
+  location: string;
+  socketCount: number;
+  maxTempC: number;
+  maxVoltageV: number;
+  humidityCapable: boolean;
+  maxHumidityPct: number | null;
 }> = [
-  { code: 'OV-01', name: 'Oven 1 · reverse-bias board', location: 'Bay A', socketCount: 64, maxTempC: 200, maxVoltageV: 800, humidityCapable: false, maxHumidityPct: null },
-  { code: 'OV-02', name: 'Oven 2 · reverse-bias board', location: 'Bay A', socketCount: 64, maxTempC: 200, maxVoltageV: 800, humidityCapable: false, maxHumidityPct: null },
-  { code: 'OV-03', name: 'Oven 3 · powered-life board', location: 'Bay B', socketCount: 48, maxTempC: 175, maxVoltageV: 100, humidityCapable: false, maxHumidityPct: null },
-  { code: 'OV-04', name: 'Oven 4 · powered-life board', location: 'Bay B', socketCount: 32, maxTempC: 175, maxVoltageV: 100, humidityCapable: false, maxHumidityPct: null },
-  { code: 'HC-05', name: 'Humidity chamber 5', location: 'Bay C', socketCount: 48, maxTempC: 130, maxVoltageV: 600, humidityCapable: true, maxHumidityPct: 95 },
-  { code: 'OV-06', name: 'Oven 6 · cycling board', location: 'Bay C', socketCount: 32, maxTempC: 175, maxVoltageV: 60, humidityCapable: false, maxHumidityPct: null },
+  {
+    code: 'OV-01',
+    name: 'Oven 1 · reverse-bias board',
+    location: 'Bay A',
+    socketCount: 64,
+    maxTempC: 200,
+    maxVoltageV: 800,
+    humidityCapable: false,
+    maxHumidityPct: null,
+  },
+  {
+    code: 'OV-02',
+    name: 'Oven 2 · reverse-bias board',
+    location: 'Bay A',
+    socketCount: 64,
+    maxTempC: 200,
+    maxVoltageV: 800,
+    humidityCapable: false,
+    maxHumidityPct: null,
+  },
+  {
+    code: 'OV-03',
+    name: 'Oven 3 · powered-life board',
+    location: 'Bay B',
+    socketCount: 48,
+    maxTempC: 175,
+    maxVoltageV: 100,
+    humidityCapable: false,
+    maxHumidityPct: null,
+  },
+  {
+    code: 'OV-04',
+    name: 'Oven 4 · powered-life board',
+    location: 'Bay B',
+    socketCount: 32,
+    maxTempC: 175,
+    maxVoltageV: 100,
+    humidityCapable: false,
+    maxHumidityPct: null,
+  },
+  {
+    code: 'HC-05',
+    name: 'Humidity chamber 5',
+    location: 'Bay C',
+    socketCount: 48,
+    maxTempC: 130,
+    maxVoltageV: 600,
+    humidityCapable: true,
+    maxHumidityPct: 95,
+  },
+  {
+    code: 'OV-06',
+    name: 'Oven 6 · cycling board',
+    location: 'Bay C',
+    socketCount: 32,
+    maxTempC: 175,
+    maxVoltageV: 60,
+    humidityCapable: false,
+    maxHumidityPct: null,
+  },
 ];
 
 /** Demo rig MQTT secrets are predictable so the simulator can sign in; real rigs get random ones. */

@@ -146,16 +146,28 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
       createdById: s.createdById ?? null,
     }),
   );
-  await m.insert(RunLotEntity, s.lots.map((l) => ({ runId: run.id, lotId: l.lot.id })));
+  await m.insert(
+    RunLotEntity,
+    s.lots.map((l) => ({ runId: run.id, lotId: l.lot.id })),
+  );
   let socket = 0;
   const sockets: Array<{ device: DeviceEntity; socketIndex: number; drift: LotDrift; lotCode: string }> = [];
-  for (const l of s.lots) for (const d of l.devices) sockets.push({ device: d, socketIndex: socket++, drift: l.drift, lotCode: l.lot.code });
+  for (const l of s.lots)
+    for (const d of l.devices) sockets.push({ device: d, socketIndex: socket++, drift: l.drift, lotCode: l.lot.code });
   await m.insert(
     RunSocketEntity,
     sockets.map((x) => {
       const trip = s.trips?.find((tr) => tr.serial === x.device.serial);
       return trip
-        ? { runId: run.id, deviceId: x.device.id, socketIndex: x.socketIndex, accruedHours: trip.atH, tripped: true, trippedAt: new Date(s.startedAt.getTime() + trip.atH * H), tripReason: 'Runaway: junction rising on its own (protection trip)' }
+        ? {
+            runId: run.id,
+            deviceId: x.device.id,
+            socketIndex: x.socketIndex,
+            accruedHours: trip.atH,
+            tripped: true,
+            trippedAt: new Date(s.startedAt.getTime() + trip.atH * H),
+            tripReason: 'Runaway: junction rising on its own (protection trip)',
+          }
         : { runId: run.id, deviceId: x.device.id, socketIndex: x.socketIndex, accruedHours: s.stressHours };
     }),
   );
@@ -163,7 +175,13 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
     const x = sockets.find((k) => k.device.serial === r.serial);
     if (!x) continue;
     await m.insert(DeviceDispositionEntity, {
-      runId: run.id, deviceId: x.device.id, readPointH: r.atH, kind: r.kind, reason: r.reason, byId: s.createdById ?? null, byName: 'Demo operator',
+      runId: run.id,
+      deviceId: x.device.id,
+      readPointH: r.atH,
+      kind: r.kind,
+      reason: r.reason,
+      byId: s.createdById ?? null,
+      byName: 'Demo operator',
       at: new Date(s.startedAt.getTime() + r.atH * H),
     });
   }
@@ -223,8 +241,22 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
       const when = clock.get(h)!;
       if (dead) {
         rows.push({
-          runId: run.id, deviceId: x.device.id, readPointH: h, result: dead.result, hfe: null, hfeIcA: null, hfeVceV: null, icboA: null,
-          icboVcbV: null, vcesatV: null, bvceoV: null, measuredC, measuredAt: when.measured, late: false, uploadId: null, enteredById: s.createdById ?? null,
+          runId: run.id,
+          deviceId: x.device.id,
+          readPointH: h,
+          result: dead.result,
+          hfe: null,
+          hfeIcA: null,
+          hfeVceV: null,
+          icboA: null,
+          icboVcbV: null,
+          vcesatV: null,
+          bvceoV: null,
+          measuredC,
+          measuredAt: when.measured,
+          late: false,
+          uploadId: null,
+          enteredById: s.createdById ?? null,
         });
         continue;
       }
@@ -335,30 +367,83 @@ interface DemoRun {
  *   over OV-01 and OV-02.
  */
 const DEMO_RUNS: DemoRun[] = [
-  { lot: 'HG2611-A', kind: 'htrb', rigs: [], split: [{ rig: 'OV-01', n: 64 }, { rig: 'OV-02', n: 13 }], state: 'finished', startedDaysAgo: 160 },
   {
-    lot: 'HG2611-B', kind: 'htrb', rigs: [], split: [{ rig: 'OV-02', n: 64 }, { rig: 'OV-01', n: 13 }], state: 'finished', startedDaysAgo: 120,
-    late: [{ serial: 'B0003', atH: 1000 }, { serial: 'B0011', atH: 1000 }],
+    lot: 'HG2611-A',
+    kind: 'htrb',
+    rigs: [],
+    split: [
+      { rig: 'OV-01', n: 64 },
+      { rig: 'OV-02', n: 13 },
+    ],
+    state: 'finished',
+    startedDaysAgo: 160,
+  },
+  {
+    lot: 'HG2611-B',
+    kind: 'htrb',
+    rigs: [],
+    split: [
+      { rig: 'OV-02', n: 64 },
+      { rig: 'OV-01', n: 13 },
+    ],
+    state: 'finished',
+    startedDaysAgo: 120,
+    late: [
+      { serial: 'B0003', atH: 1000 },
+      { serial: 'B0011', atH: 1000 },
+    ],
     missing: ['B0040', 'B0041', 'B0042', 'B0043'].map((serial) => ({ serial, atH: 1000 })),
   },
   {
-    lot: 'HG2609-D', kind: 'hotl', rigs: ['OV-03', 'OV-04'], state: 'finished', startedDaysAgo: 100,
+    lot: 'HG2609-D',
+    kind: 'hotl',
+    rigs: ['OV-03', 'OV-04'],
+    state: 'finished',
+    startedDaysAgo: 100,
     warm: { serials: ['D0001', 'D0002', 'D0003', 'D0004', 'D0005', 'D0006'], atH: 1000, tempC: 31 },
     confirmFlags: 'Handler ran warm; hFE is referred to 25 °C by the gain law and ICBO is far inside its limit.',
   },
   {
-    lot: 'HG2610-E', kind: 'hotl', rigs: [], split: [{ rig: 'OV-04', n: 32 }, { rig: 'OV-03', n: 13 }], state: 'finished', startedDaysAgo: 90,
-    failures: [{ serial: 'E0007', atH: 1000, mode: 'leakage' }, { serial: 'E0019', atH: 1000, mode: 'gain' }],
+    lot: 'HG2610-E',
+    kind: 'hotl',
+    rigs: [],
+    split: [
+      { rig: 'OV-04', n: 32 },
+      { rig: 'OV-03', n: 13 },
+    ],
+    state: 'finished',
+    startedDaysAgo: 90,
+    failures: [
+      { serial: 'E0007', atH: 1000, mode: 'leakage' },
+      { serial: 'E0019', atH: 1000, mode: 'gain' },
+    ],
     catastrophic: [{ serial: 'E0023', atH: 500, result: 'open' }],
     trips: [{ serial: 'E0012', atH: 310, disposition: 'trip-failure' }],
-    removed: [{ serial: 'E0031', atH: 500, kind: 'lost', reason: 'Not in the carrier after the 168 h read; searched the tester and the oven.' }],
+    removed: [
+      { serial: 'E0031', atH: 500, kind: 'lost', reason: 'Not in the carrier after the 168 h read; searched the tester and the oven.' },
+    ],
   },
   {
-    lot: 'HG2608-F', kind: 'thb', rigs: ['HC-05'], state: 'finished', startedDaysAgo: 80,
-    deviation: 'Customer released 48 devices of this qualification lot; the humidity board holds 48. Agreed with the customer as an interim result.',
+    lot: 'HG2608-F',
+    kind: 'thb',
+    rigs: ['HC-05'],
+    state: 'finished',
+    startedDaysAgo: 80,
+    deviation:
+      'Customer released 48 devices of this qualification lot; the humidity board holds 48. Agreed with the customer as an interim result.',
   },
   // In progress: 620 stress hours, read at 0 / 168 / 500 h.
-  { lot: 'HG2612-C', kind: 'htrb', rigs: [], split: [{ rig: 'OV-01', n: 64 }, { rig: 'OV-02', n: 13 }], state: 'stressing', startedDaysAgo: 28 },
+  {
+    lot: 'HG2612-C',
+    kind: 'htrb',
+    rigs: [],
+    split: [
+      { rig: 'OV-01', n: 64 },
+      { rig: 'OV-02', n: 13 },
+    ],
+    state: 'stressing',
+    startedDaysAgo: 28,
+  },
 ];
 
 const IN_PROGRESS_HOURS = 620;

@@ -13,7 +13,19 @@ import type { PlanKind } from '../../shared/schemas/plans';
 import type { RunState } from '../../shared/schemas/runs';
 import { configFromEnv } from '../config';
 import { sampleShortfall } from '../../shared/evidence';
-import { AuditLogEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunEntity, RunLotEntity, RunSocketEntity, SampleEntity, StressPlanEntity, UserEntity } from '../db/entities';
+import {
+  AuditLogEntity,
+  DeviceEntity,
+  DeviceTypeEntity,
+  LotEntity,
+  RigEntity,
+  RunEntity,
+  RunLotEntity,
+  RunSocketEntity,
+  SampleEntity,
+  StressPlanEntity,
+  UserEntity,
+} from '../db/entities';
 import { timingFrom } from '../modules/runs/scheduling-data';
 import { firstReadPointIndex } from '../modules/runs/run-engine';
 
@@ -38,33 +50,80 @@ interface DemoLiveRun {
 
 const DEMO_LIVE_RUNS: DemoLiveRun[] = [
   {
-    code: 'THB-2612-G', partNumber: 'HPD-7N400', kind: 'thb', lots: ['HG2612-G'], rig: 'HC-05', state: 'stressing', perLot: 40, skip: 0, stressHours: 120,
+    code: 'THB-2612-G',
+    partNumber: 'HPD-7N400',
+    kind: 'thb',
+    lots: ['HG2612-G'],
+    rig: 'HC-05',
+    state: 'stressing',
+    perLot: 40,
+    skip: 0,
+    stressHours: 120,
     deviation: 'Engineering look at the 2612 die attach, not a qualification: 40 devices on the humidity board.',
   },
   {
-    code: 'HOTL-2609-D-2', partNumber: 'HPD-3P90', kind: 'hotl', lots: ['HG2609-D'], rig: 'OV-03', state: 'heating', perLot: 40, skip: 45,
+    code: 'HOTL-2609-D-2',
+    partNumber: 'HPD-3P90',
+    kind: 'hotl',
+    lots: ['HG2609-D'],
+    rig: 'OV-03',
+    state: 'heating',
+    perLot: 40,
+    skip: 45,
     deviation: 'Engineering run on the spares of HG2609-D after the heat-sink change: 40 devices.',
   },
   {
-    code: 'IOL-2605-H', partNumber: 'HPD-S230', kind: 'iol', lots: ['HG2605-H'], rig: 'OV-06', state: 'loading', perLot: 32, skip: 0, loaded: 20,
+    code: 'IOL-2605-H',
+    partNumber: 'HPD-S230',
+    kind: 'iol',
+    lots: ['HG2605-H'],
+    rig: 'OV-06',
+    state: 'loading',
+    perLot: 32,
+    skip: 0,
+    loaded: 20,
     deviation: 'Quarterly reel-stock monitor: one cycling board (32 devices) by the monitor procedure.',
   },
   {
-    code: 'HTRB-2611-A+1', partNumber: 'HPD-2N140', kind: 'htrb', lots: ['HG2611-A', 'HG2611-B'], rig: 'OV-02', state: 'booked', perLot: 24, skip: 77, startsInH: 6,
+    code: 'HTRB-2611-A+1',
+    partNumber: 'HPD-2N140',
+    kind: 'htrb',
+    lots: ['HG2611-A', 'HG2611-B'],
+    rig: 'OV-02',
+    state: 'booked',
+    perLot: 24,
+    skip: 77,
+    startsInH: 6,
     deviation: 'Extended-life monitor of the spares of two passed lots; 48 devices by agreement.',
   },
 ];
 
-async function insertLiveRun(m: EntityManager, s: DemoLiveRun, engineer: UserEntity | null, operator: UserEntity | null, log: (l: string) => void) {
+async function insertLiveRun(
+  m: EntityManager,
+  s: DemoLiveRun,
+  engineer: UserEntity | null,
+  operator: UserEntity | null,
+  log: (l: string) => void,
+) {
   const type = await m.findOne(DeviceTypeEntity, { where: { partNumber: s.partNumber } });
   const rig = await m.findOne(RigEntity, { where: { code: s.rig } });
   const lots = await m.find(LotEntity, { where: { code: In(s.lots) }, order: { code: 'ASC' } });
   if (!type || !rig || lots.length !== s.lots.length) return log(`[seed] runs: ${s.code} skipped (demo data missing)`);
-  const plans = await m.find(StressPlanEntity, { where: { deviceTypeId: type.id, kind: s.kind, current: true }, order: { createdAt: 'ASC' } });
+  const plans = await m.find(StressPlanEntity, {
+    where: { deviceTypeId: type.id, kind: s.kind, current: true },
+    order: { createdAt: 'ASC' },
+  });
   const plan = plans.find((p) => !/draft/i.test(p.name));
   if (!plan) return log(`[seed] runs: ${s.code} skipped (no ${s.kind} plan for ${s.partNumber})`);
   const sampleSize = s.perLot * lots.length;
-  const refusals = staticRefusals(rig, { chamberC: plan.chamberC, humidityPct: plan.humidityPct, biasV: planBiasV(plan), sampleSize, durationH: plan.durationH, readPointsH: plan.readPointsH });
+  const refusals = staticRefusals(rig, {
+    chamberC: plan.chamberC,
+    humidityPct: plan.humidityPct,
+    biasV: planBiasV(plan),
+    sampleSize,
+    durationH: plan.durationH,
+    readPointsH: plan.readPointsH,
+  });
   if (refusals.length) return log(`[seed] runs: ${s.code} skipped: ${refusals.join(' ')}`);
   const busy = await m.count(RunEntity, { where: { rigId: rig.id, state: In([...ON_RIG_STATES]) } });
   if (busy && s.state !== 'booked') return log(`[seed] runs: ${s.code} skipped (${rig.code} is in use)`);
@@ -72,7 +131,8 @@ async function insertLiveRun(m: EntityManager, s: DemoLiveRun, engineer: UserEnt
   const timing = timingFrom(configFromEnv());
   const now = Date.now();
   const hours = s.stressHours ?? 0;
-  const startMs = s.state === 'booked' ? now + (s.startsInH ?? 6) * timing.msPerClockH : now - (hours + timing.heatingAllowanceH) * timing.msPerClockH;
+  const startMs =
+    s.state === 'booked' ? now + (s.startsInH ?? 6) * timing.msPerClockH : now - (hours + timing.heatingAllowanceH) * timing.msPerClockH;
   const endMs = startMs + runDurationMs(plan, timing);
   const rps = [...plan.readPointsH].sort((a, b) => a - b);
   const started = s.state === 'heating' || s.state === 'stressing';
@@ -107,27 +167,55 @@ async function insertLiveRun(m: EntityManager, s: DemoLiveRun, engineer: UserEnt
       createdById: engineer?.id ?? null,
     }),
   );
-  await m.insert(RunLotEntity, lots.map((l) => ({ runId: run.id, lotId: l.id })));
+  await m.insert(
+    RunLotEntity,
+    lots.map((l) => ({ runId: run.id, lotId: l.id })),
+  );
   const audit = (actor: UserEntity | null, action: string, details: Record<string, unknown>) => {
     // eslint-disable-next-line @typescript-eslint/no-explicit-any -- TypeORM's insert typing cannot take `unknown` values in a jsonb column
     const row: Record<string, any> = { seeded: true, ...details };
-    return m.insert(AuditLogEntity, { actorId: actor?.id ?? null, actor: actor?.email ?? 'system', action, entity: 'run', entityId: run.id, reason: null, details: row });
+    return m.insert(AuditLogEntity, {
+      actorId: actor?.id ?? null,
+      actor: actor?.email ?? 'system',
+      action,
+      entity: 'run',
+      entityId: run.id,
+      reason: null,
+      details: row,
+    });
   };
-  await audit(engineer, 'run.book', { code: s.code, rig: rig.code, sampleSize, sampleId: sample.id, lots: lots.map((l) => l.code), planName: plan.name, planVersion: plan.version });
+  await audit(engineer, 'run.book', {
+    code: s.code,
+    rig: rig.code,
+    sampleSize,
+    sampleId: sample.id,
+    lots: lots.map((l) => l.code),
+    planName: plan.name,
+    planVersion: plan.version,
+  });
   if (short) {
     // eslint-disable-next-line @typescript-eslint/no-explicit-any -- as above: a jsonb column
     const details: Record<string, any> = { seeded: true, plannedSize: plan.sampleSize, bookedSize: sampleSize, runs: [s.code] };
     await m.insert(AuditLogEntity, {
-      actorId: engineer?.id ?? null, actor: engineer?.email ?? 'system', action: 'sample.deviation', entity: 'sample', entityId: sample.id, reason: sample.deviationReason,
+      actorId: engineer?.id ?? null,
+      actor: engineer?.email ?? 'system',
+      action: 'sample.deviation',
+      entity: 'sample',
+      entityId: sample.id,
+      reason: sample.deviationReason,
       details,
     });
   }
   if (s.state === 'booked') return;
 
   const devices: DeviceEntity[] = [];
-  for (const l of lots) devices.push(...(await m.find(DeviceEntity, { where: { lotId: l.id }, order: { serial: 'ASC' }, skip: s.skip, take: s.perLot })));
+  for (const l of lots)
+    devices.push(...(await m.find(DeviceEntity, { where: { lotId: l.id }, order: { serial: 'ASC' }, skip: s.skip, take: s.perLot })));
   const load = devices.slice(0, Math.min(s.loaded ?? devices.length, rig.socketCount));
-  await m.insert(RunSocketEntity, load.map((d, i) => ({ runId: run.id, deviceId: d.id, socketIndex: i, accruedHours: hours })));
+  await m.insert(
+    RunSocketEntity,
+    load.map((d, i) => ({ runId: run.id, deviceId: d.id, socketIndex: i, accruedHours: hours })),
+  );
   await audit(operator, 'run.load', { from: 'booked', to: 'loading', loaded: load.length, needed: sampleSize });
   if (started) await audit(operator, 'run.start', { from: 'loading', to: 'heating', rig: rig.code, setC: plan.chamberC });
   if (s.state === 'stressing') await audit(null, 'run.ambient-reached', { from: 'heating', to: 'stressing' });

@@ -2,15 +2,7 @@ import bcrypt from 'bcryptjs';
 import type { DataSource } from 'typeorm';
 import { DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, UserEntity } from '../db/entities';
 import { BCRYPT_ROUNDS } from '../modules/users/users.service';
-import {
-  DEMO_DEVICE_TYPES,
-  DEMO_DEVICES_PER_LOT,
-  DEMO_LOTS,
-  DEMO_RIGS,
-  DEMO_USERS,
-  demoRigSecret,
-  rigMqttUsername,
-} from './demo-data';
+import { DEMO_DEVICE_TYPES, DEMO_DEVICES_PER_LOT, DEMO_LOTS, DEMO_RIGS, DEMO_USERS, demoRigSecret, rigMqttUsername } from './demo-data';
 import { seedPlans } from './seed-plans';
 import { seedHistory } from './seed-history';
 import { seedRuns } from './seed-runs';
@@ -35,7 +27,11 @@ async function seedDevicesAndLots(ds: DataSource) {
   }
   for (const l of DEMO_LOTS) {
     const lot = await ds.getRepository(LotEntity).save({
-      code: l.code, deviceTypeId: types.get(l.partNumber)!, quantity: l.quantity, dateCode: l.dateCode, notes: l.notes,
+      code: l.code,
+      deviceTypeId: types.get(l.partNumber)!,
+      quantity: l.quantity,
+      dateCode: l.dateCode,
+      notes: l.notes,
     });
     const prefix = l.code.slice(-1);
     const serials = Array.from({ length: DEMO_DEVICES_PER_LOT }, (_, i) => `${prefix}${String(i + 1).padStart(4, '0')}`);

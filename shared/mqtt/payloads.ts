@@ -28,7 +28,12 @@ const pct = () => z.number().min(0).max(100);
 const volts = () => z.number().min(-VOLTAGE_LIMIT_V).max(VOLTAGE_LIMIT_V);
 const amps = () => z.number().min(-CURRENT_LIMIT_A).max(CURRENT_LIMIT_A);
 const seqNo = () => z.number().int().min(1).max(Number.MAX_SAFE_INTEGER);
-const socketIndex = () => z.number().int().min(0).max(MAX_SOCKETS - 1);
+const socketIndex = () =>
+  z
+    .number()
+    .int()
+    .min(0)
+    .max(MAX_SOCKETS - 1);
 const isoTime = () => z.iso.datetime({ offset: true });
 /**
  * Free text from a rig (status firmware, an ack's reason): accepted, and made storable here at the
@@ -38,7 +43,11 @@ const isoTime = () => z.iso.datetime({ offset: true });
 const rigText = (max: number) => z.string().max(max).transform(storableText);
 
 export const rigCodeSchema = z.string().regex(RIG_CODE_PATTERN, 'Rig code must be 2–32 of A–Z, 0–9, "-"');
-export const cmdIdSchema = z.string().min(1).max(64).regex(/^[A-Za-z0-9._:-]+$/, 'cmdId: letters, digits, . _ : -');
+export const cmdIdSchema = z
+  .string()
+  .min(1)
+  .max(64)
+  .regex(/^[A-Za-z0-9._:-]+$/, 'cmdId: letters, digits, . _ : -');
 
 /** One socket's reading at the sample instant. */
 export const socketReadingSchema = z.object({
@@ -114,7 +123,15 @@ export const telemetryColumnsSchema = z
     caseC: z.array(tempC()).max(MAX_SOCKETS),
     vV: z.array(volts()).max(MAX_SOCKETS),
     iA: z.array(amps()).max(MAX_SOCKETS),
-    flags: z.array(z.number().int().min(0).max(FLAG_BIAS_ON | FLAG_TRIPPED)).max(MAX_SOCKETS),
+    flags: z
+      .array(
+        z
+          .number()
+          .int()
+          .min(0)
+          .max(FLAG_BIAS_ON | FLAG_TRIPPED),
+      )
+      .max(MAX_SOCKETS),
   })
   .superRefine((t, ctx) => {
     const n = t.socket.length;
@@ -167,7 +184,17 @@ export function socketColumns(sockets: readonly SocketReading[]): TelemetrySocke
 
 /** Telemetry with per-socket objects (version 1, or a rig's own) → the one shape receivers handle. */
 export function telemetryFromReadings(t: Omit<TelemetryObjects, 'v'> & { v?: 1 | 2 }): Telemetry {
-  return { v: t.v ?? 1, rig: t.rig, seq: t.seq, ts: t.ts, stressClockS: t.stressClockS, chamberC: t.chamberC, humidityPct: t.humidityPct, setpointC: t.setpointC, ...socketColumns(t.sockets) };
+  return {
+    v: t.v ?? 1,
+    rig: t.rig,
+    seq: t.seq,
+    ts: t.ts,
+    stressClockS: t.stressClockS,
+    chamberC: t.chamberC,
+    humidityPct: t.humidityPct,
+    setpointC: t.setpointC,
+    ...socketColumns(t.sockets),
+  };
 }
 
 /** The columns back as one object per socket (version 1's socket readings). */
@@ -176,7 +203,14 @@ export function socketReadings(c: TelemetrySocketColumns): SocketReading[] {
   const out: SocketReading[] = new Array(n);
   for (let k = 0; k < n; k++) {
     const flags = c.flags[k];
-    out[k] = { i: c.socket[k], caseC: c.caseC[k], vV: c.vV[k], iA: c.iA[k], biasOn: (flags & FLAG_BIAS_ON) !== 0, tripped: (flags & FLAG_TRIPPED) !== 0 };
+    out[k] = {
+      i: c.socket[k],
+      caseC: c.caseC[k],
+      vV: c.vV[k],
+      iA: c.iA[k],
+      biasOn: (flags & FLAG_BIAS_ON) !== 0,
+      tripped: (flags & FLAG_TRIPPED) !== 0,
+    };
   }
   return out;
 }
@@ -393,7 +427,8 @@ function hasExactly(o: unknown, keys: readonly string[]): o is Record<string, un
 function isPlainHeader(j: Record<string, unknown>, v: 1 | 2): boolean {
   if (j.v !== v || typeof j.rig !== 'string' || !RIG_CODE_PATTERN.test(j.rig)) return false;
   if (!isIndex(j.seq, 1, Number.MAX_SAFE_INTEGER)) return false;
-  if (!inRange(j.stressClockS, 0, 1e12) || !inRange(j.chamberC, TEMP_MIN_C, TEMP_MAX_C) || !inRange(j.setpointC, TEMP_MIN_C, TEMP_MAX_C)) return false;
+  if (!inRange(j.stressClockS, 0, 1e12) || !inRange(j.chamberC, TEMP_MIN_C, TEMP_MAX_C) || !inRange(j.setpointC, TEMP_MIN_C, TEMP_MAX_C))
+    return false;
   return j.humidityPct === null || inRange(j.humidityPct, 0, 100);
 }
 
@@ -429,14 +464,33 @@ export function isPlainTelemetry(j: unknown): j is TelemetryObjects {
     if (!isIndex(i, 0, MAX_SOCKETS - 1)) return false;
     if (seenSockets[i as number] === gen) return false;
     seenSockets[i as number] = gen;
-    if (!inRange(s.caseC, TEMP_MIN_C, TEMP_MAX_C) || !inRange(s.vV, -VOLTAGE_LIMIT_V, VOLTAGE_LIMIT_V) || !inRange(s.iA, -CURRENT_LIMIT_A, CURRENT_LIMIT_A)) return false;
+    if (
+      !inRange(s.caseC, TEMP_MIN_C, TEMP_MAX_C) ||
+      !inRange(s.vV, -VOLTAGE_LIMIT_V, VOLTAGE_LIMIT_V) ||
+      !inRange(s.iA, -CURRENT_LIMIT_A, CURRENT_LIMIT_A)
+    )
+      return false;
     if (typeof s.biasOn !== 'boolean' || typeof s.tripped !== 'boolean') return false;
   }
   // Last: the one check that runs a regular expression of zod's own.
   return typeof j.ts === 'string' && tsSchema.safeParse(j.ts).success;
 }
 
-const COLUMN_KEYS = ['v', 'rig', 'seq', 'ts', 'stressClockS', 'chamberC', 'humidityPct', 'setpointC', 'socket', 'caseC', 'vV', 'iA', 'flags'] as const;
+const COLUMN_KEYS = [
+  'v',
+  'rig',
+  'seq',
+  'ts',
+  'stressClockS',
+  'chamberC',
+  'humidityPct',
+  'setpointC',
+  'socket',
+  'caseC',
+  'vV',
+  'iA',
+  'flags',
+] as const;
 
 /** An array of exactly n numbers, each within [lo, hi]. */
 function numbersIn(a: unknown, n: number, lo: number, hi: number): boolean {
@@ -457,7 +511,12 @@ export function isPlainTelemetryColumns(j: unknown): j is TelemetryColumns {
   const socket = j.socket;
   if (!Array.isArray(socket) || socket.length < 1 || socket.length > MAX_SOCKETS) return false;
   const n = socket.length;
-  if (!numbersIn(j.caseC, n, TEMP_MIN_C, TEMP_MAX_C) || !numbersIn(j.vV, n, -VOLTAGE_LIMIT_V, VOLTAGE_LIMIT_V) || !numbersIn(j.iA, n, -CURRENT_LIMIT_A, CURRENT_LIMIT_A)) return false;
+  if (
+    !numbersIn(j.caseC, n, TEMP_MIN_C, TEMP_MAX_C) ||
+    !numbersIn(j.vV, n, -VOLTAGE_LIMIT_V, VOLTAGE_LIMIT_V) ||
+    !numbersIn(j.iA, n, -CURRENT_LIMIT_A, CURRENT_LIMIT_A)
+  )
+    return false;
   const flags = j.flags;
   if (!Array.isArray(flags) || flags.length !== n) return false;
   const gen = nextSeenGeneration();

@@ -123,9 +123,7 @@ export function solveSelfHeating(input: SelfHeatingInput): SelfHeatingPoint {
   const flo = f(lo);
   if (flo === 0) {
     const g = gainAt(lo);
-    return g < 1
-      ? { tjC: lo, powerW: powerAt(lo), loopGain: g, runaway: false, evaluatedAtC: lo }
-      : runawayResult();
+    return g < 1 ? { tjC: lo, powerW: powerAt(lo), loopGain: g, runaway: false, evaluatedAtC: lo } : runawayResult();
   }
   while (lo < ceiling) {
     const hi = Math.min(lo + step, ceiling);
@@ -193,8 +191,7 @@ export interface GainLoopInput {
 
 /** P(Tj) = VCE · β(Tj) · IB for a BJT at fixed base current. */
 export function forcedBasePower(p: GainLoopInput): (tC: number) => number {
-  return (tC: number) =>
-    p.vceV * p.ibA * gainAtTemperature({ betaRef: p.betaRef, tRefC: p.tRefC, tC, xtb: p.xtb });
+  return (tC: number) => p.vceV * p.ibA * gainAtTemperature({ betaRef: p.betaRef, tRefC: p.tRefC, tC, xtb: p.xtb });
 }
 
 export interface ThermalOperatingPoint {
@@ -243,8 +240,7 @@ export interface LeakageLoopInput {
 }
 
 export function reverseBiasPower(p: LeakageLoopInput): (tC: number) => number {
-  return (tC: number) =>
-    p.vrV * leakageAtTemperature({ iRefA: p.iLeakRefA, tRefC: p.tRefC, tC, doublingC: p.doublingC });
+  return (tC: number) => p.vrV * leakageAtTemperature({ iRefA: p.iLeakRefA, tRefC: p.tRefC, tC, doublingC: p.doublingC });
 }
 
 export interface ReverseBiasOperatingPoint {

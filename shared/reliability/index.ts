@@ -43,14 +43,7 @@ export function arrheniusDetails(p: { eaEv: number; useC: number; stressC: numbe
  * Peck humidity model: AF = (RH_stress/RH_use)^n · Arrhenius(Ea).
  * Defaults n = 2.66, Ea = 0.79 eV are recalled values, not checked against a text.
  */
-export function peckFactor(p: {
-  rhUsePct: number;
-  rhStressPct: number;
-  useC: number;
-  stressC: number;
-  n?: number;
-  eaEv?: number;
-}): number {
+export function peckFactor(p: { rhUsePct: number; rhStressPct: number; useC: number; stressC: number; n?: number; eaEv?: number }): number {
   const n = p.n ?? 2.66;
   const eaEv = p.eaEv ?? 0.79;
   return Math.pow(p.rhStressPct / p.rhUsePct, n) * arrheniusFactor({ eaEv, useC: p.useC, stressC: p.stressC });
@@ -194,10 +187,9 @@ export function benardMedianRank(rank: number, n: number): number {
  * Returns the failure times with their (possibly fractional) ranks.
  */
 export function johnsonAdjustedRanks(times: number[], suspensions: number[] = []): { time: number; rank: number }[] {
-  const items = [
-    ...times.map((t) => ({ t, failed: true })),
-    ...suspensions.map((t) => ({ t, failed: false })),
-  ].sort((a, b) => a.t - b.t || Number(b.failed) - Number(a.failed));
+  const items = [...times.map((t) => ({ t, failed: true })), ...suspensions.map((t) => ({ t, failed: false }))].sort(
+    (a, b) => a.t - b.t || Number(b.failed) - Number(a.failed),
+  );
   const n = items.length;
   let previous = 0;
   const out: { time: number; rank: number }[] = [];

@@ -28,7 +28,24 @@
  *   catches quasi-static runaway (a chamber or socket drifting past its critical point); fast
  *   transients are caught by the time-to-limit projection and the temperature threshold.
  */
-import { FIT_ACCEL, FIT_ACCEL_SE, FIT_C0, FIT_LEN, FIT_SLOPE, FIT_SLOPE_SE, REG_CASE_SPAN, REG_LEN, REG_N, REG_RSS, REG_SLOPE, REG_SUM_P2, REG_SUM_RISE_P, REG_SXX, SocketTrend, type TrendSample } from './socket-trend';
+import {
+  FIT_ACCEL,
+  FIT_ACCEL_SE,
+  FIT_C0,
+  FIT_LEN,
+  FIT_SLOPE,
+  FIT_SLOPE_SE,
+  REG_CASE_SPAN,
+  REG_LEN,
+  REG_N,
+  REG_RSS,
+  REG_SLOPE,
+  REG_SUM_P2,
+  REG_SUM_RISE_P,
+  REG_SXX,
+  SocketTrend,
+  type TrendSample,
+} from './socket-trend';
 
 export { SocketTrend };
 
@@ -278,9 +295,28 @@ export function assessTrend(
   opts: ProtectionOptions = DEFAULT_PROTECTION_OPTIONS,
   baselineTjC: number | undefined = opts.baselineTjC,
 ): SocketAssessment {
-  if (!trend.hasLast) return { tjC: null, loopGain: null, secondsToTjMax: null, slopeCPerS: null, thetaCaCPerW: null, action: 'none', reason: 'No samples yet' };
+  if (!trend.hasLast)
+    return {
+      tjC: null,
+      loopGain: null,
+      secondsToTjMax: null,
+      slopeCPerS: null,
+      thetaCaCPerW: null,
+      action: 'none',
+      reason: 'No samples yet',
+    };
   const action = judgeTrend(trend, device, opts, baselineTjC);
-  return new Assessment(J[J_TJ], orNull(J[J_LOOP_GAIN]), orNull(J[J_SECONDS]), orNull(J[J_SLOPE]), orNull(J[J_THETA_CA]), action, jText, device.tjMaxC, J[J_RISING] === 1);
+  return new Assessment(
+    J[J_TJ],
+    orNull(J[J_LOOP_GAIN]),
+    orNull(J[J_SECONDS]),
+    orNull(J[J_SLOPE]),
+    orNull(J[J_THETA_CA]),
+    action,
+    jText,
+    device.tjMaxC,
+    J[J_RISING] === 1,
+  );
 }
 
 const tjDescription = (tj: number, tjMaxC: number) => `Tj ${f1(tj)} °C (max ${f1(tjMaxC)} °C)`;
@@ -309,7 +345,11 @@ class Assessment implements SocketAssessment {
   get reason(): string {
     if (this.#text === null) {
       const s = this.secondsToTjMax;
-      const trend = !this.#rising ? ', not rising' : s === null ? ', rising and levelling off below the rating' : `, rising (rating in about ${Math.round(s)} s at this trend)`;
+      const trend = !this.#rising
+        ? ', not rising'
+        : s === null
+          ? ', rising and levelling off below the rating'
+          : `, rising (rating in about ${Math.round(s)} s at this trend)`;
       this.#text = `${tjDescription(this.tjC, this.#tjMaxC)}${trend}`;
     }
     return this.#text;

@@ -267,7 +267,8 @@ export class SocketTrend {
     }
     while (buf[minAt + (this.minHead & mask)] < this.start) this.minHead++;
     while (buf[maxAt + (this.maxHead & mask)] < this.start) this.maxHead++;
-    if (buf[HEAD + (this.start & mask) * STRIDE + F_T] - buf[S_T0] > this.scale || this.opsSinceRebuild > 4 * this.count + 64) this.rebuild();
+    if (buf[HEAD + (this.start & mask) * STRIDE + F_T] - buf[S_T0] > this.scale || this.opsSinceRebuild > 4 * this.count + 64)
+      this.rebuild();
   }
 
   /**
@@ -441,7 +442,15 @@ export class SocketTrend {
   caseRegression(): CaseRegression {
     const o = new Float64Array(REG_LEN);
     this.caseRegressionTo(o);
-    return { n: o[REG_N], sumP2: o[REG_SUM_P2], sumRiseP: o[REG_SUM_RISE_P], caseSpanC: o[REG_CASE_SPAN], slope: o[REG_SLOPE], rss: o[REG_RSS], sxx: o[REG_SXX] };
+    return {
+      n: o[REG_N],
+      sumP2: o[REG_SUM_P2],
+      sumRiseP: o[REG_SUM_RISE_P],
+      caseSpanC: o[REG_CASE_SPAN],
+      slope: o[REG_SLOPE],
+      rss: o[REG_RSS],
+      sxx: o[REG_SXX],
+    };
   }
 
   /** caseRegression into `out` (REG_* slots), allocating nothing. */

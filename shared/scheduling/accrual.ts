@@ -98,7 +98,14 @@ export function accrueInterval(
 ): IntervalAccrual {
   const newlyTripped = cur.sockets.filter((s) => s.tripped && !latched.has(s.socket) && runSockets.includes(s.socket)).map((s) => s.socket);
   const none = (extra: Partial<IntervalAccrual>): IntervalAccrual => ({
-    dtS: 0, runS: 0, socketS: new Map(), chamberHeld: false, reboot: false, gap: false, newlyTripped, ...extra,
+    dtS: 0,
+    runS: 0,
+    socketS: new Map(),
+    chamberHeld: false,
+    reboot: false,
+    gap: false,
+    newlyTripped,
+    ...extra,
   });
   if (!prev) return none({});
   if (cur.seq !== prev.seq + 1) return none({ gap: true });

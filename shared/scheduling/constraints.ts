@@ -84,7 +84,10 @@ export function intermediateReadPoints(readPointsH: number[], durationH: number)
  * Planned length of a run in clock hours: plan hours + one hold per intermediate read point +
  * the heating allowance. The final read point is measured off the rig, so it holds nothing.
  */
-export function runDurationH(needs: Pick<RunNeeds, 'durationH' | 'readPointsH'>, t: Pick<TimingOptions, 'holdPerReadPointH' | 'heatingAllowanceH'> & Partial<TimingOptions> = DEFAULT_TIMING): number {
+export function runDurationH(
+  needs: Pick<RunNeeds, 'durationH' | 'readPointsH'>,
+  t: Pick<TimingOptions, 'holdPerReadPointH' | 'heatingAllowanceH'> & Partial<TimingOptions> = DEFAULT_TIMING,
+): number {
   return needs.durationH + intermediateReadPoints(needs.readPointsH, needs.durationH).length * t.holdPerReadPointH + t.heatingAllowanceH;
 }
 
@@ -175,7 +178,9 @@ export function windowConflicts(
     if (peak + needs.sampleSize > rig.socketCount) {
       const until = Math.max(...peakRuns.map((c) => c.endMs));
       const who = peakRuns.map((c) => `${c.code} uses ${c.sockets}`).join(', ');
-      out.push(`${name} has ${rig.socketCount - peak} of ${rig.socketCount} sockets free until ${when(until)} (${who}); the plan needs ${needs.sampleSize}.`);
+      out.push(
+        `${name} has ${rig.socketCount - peak} of ${rig.socketCount} sockets free until ${when(until)} (${who}); the plan needs ${needs.sampleSize}.`,
+      );
     }
   }
   return out;

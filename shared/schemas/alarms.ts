@@ -121,7 +121,10 @@ export interface AlarmCounts {
 
 export const notificationListQuerySchema = z
   .object({
-    unread: z.enum(['true', 'false']).transform((v) => v === 'true').optional(),
+    unread: z
+      .enum(['true', 'false'])
+      .transform((v) => v === 'true')
+      .optional(),
     limit: intFromQuery(1, 200, 50),
   })
   .strict();

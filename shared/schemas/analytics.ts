@@ -94,7 +94,15 @@ export interface FitFigures {
   fit90: number;
   chiSquare60: number;
   chiSquare90: number;
-  constants: { boltzmannEvPerK: number; kelvinOffset: number; eaEv: number; useC: number; stressC: number; stressBasis: string; source: string };
+  constants: {
+    boltzmannEvPerK: number;
+    kelvinOffset: number;
+    eaEv: number;
+    useC: number;
+    stressC: number;
+    stressBasis: string;
+    source: string;
+  };
   method: string;
 }
 

@@ -44,7 +44,9 @@ export type DeviceTypeSummary = DeviceType & { lotCount: number; deviceCount: nu
  * Rules across fields (physics, not form layout). Used by the create schema and again by the
  * service after a partial update has been merged, so both paths give the same messages.
  */
-export function deviceTypeRuleIssues(d: Pick<DeviceTypeInput, 'bvcboV' | 'bvceoV' | 'thetaJcCPerW' | 'thetaJaCPerW'>): Array<{ path: string; message: string }> {
+export function deviceTypeRuleIssues(
+  d: Pick<DeviceTypeInput, 'bvcboV' | 'bvceoV' | 'thetaJcCPerW' | 'thetaJaCPerW'>,
+): Array<{ path: string; message: string }> {
   const out: Array<{ path: string; message: string }> = [];
   if (d.bvceoV !== null && d.bvceoV > d.bvcboV) {
     out.push({ path: 'bvceoV', message: 'BVCEO cannot be higher than BVCBO (the open-base breakdown is the lower of the two)' });
@@ -68,9 +70,9 @@ const withoutDefault = (s: z.ZodType): z.ZodType => (s instanceof z.ZodDefault ?
  */
 export const deviceTypePatchSchema = z
   .object(
-    Object.fromEntries(
-      Object.entries(deviceTypeInputSchema.shape).map(([k, v]) => [k, withoutDefault(v as z.ZodType).optional()]),
-    ) as { [K in keyof DeviceTypeInput]: z.ZodOptional<z.ZodType<DeviceTypeInput[K]>> },
+    Object.fromEntries(Object.entries(deviceTypeInputSchema.shape).map(([k, v]) => [k, withoutDefault(v as z.ZodType).optional()])) as {
+      [K in keyof DeviceTypeInput]: z.ZodOptional<z.ZodType<DeviceTypeInput[K]>>;
+    },
   )
   .strict()
   .refine((v) => Object.keys(v).length > 0, { message: 'Nothing to change' });
@@ -94,7 +96,10 @@ export const lotInputSchema = z.object({
    * server row by row (empty, too long, duplicate, already in the lot) so every bad row is
    * reported at once; see checkSerialRows.
    */
-  serials: z.array(z.string().max(1000, 'A serial cannot be that long')).max(MAX_SERIALS_PER_REQUEST, `At most ${MAX_SERIALS_PER_REQUEST} serials at a time`).default([]),
+  serials: z
+    .array(z.string().max(1000, 'A serial cannot be that long'))
+    .max(MAX_SERIALS_PER_REQUEST, `At most ${MAX_SERIALS_PER_REQUEST} serials at a time`)
+    .default([]),
 });
 export type LotInput = z.infer<typeof lotInputSchema>;
 
@@ -102,7 +107,10 @@ export type LotInput = z.infer<typeof lotInputSchema>;
 export const SERIAL_MAX_LENGTH = 40;
 
 export const addSerialsSchema = z.object({
-  serials: z.array(z.string().max(1000, 'A serial cannot be that long')).min(1, 'Give at least one serial').max(MAX_SERIALS_PER_REQUEST, `At most ${MAX_SERIALS_PER_REQUEST} serials at a time`),
+  serials: z
+    .array(z.string().max(1000, 'A serial cannot be that long'))
+    .min(1, 'Give at least one serial')
+    .max(MAX_SERIALS_PER_REQUEST, `At most ${MAX_SERIALS_PER_REQUEST} serials at a time`),
 });
 export type AddSerialsInput = z.infer<typeof addSerialsSchema>;
 

@@ -5,7 +5,6 @@ import { rigCodeInputSchema } from './rigs';
 
 export const floorRigParamSchema = z.object({ code: rigCodeInputSchema });
 
-
 /** One rig on the floor. Counts come from the rig's newest telemetry message and its current run. */
 export interface FloorTile {
   rigId: string;

@@ -47,7 +47,15 @@ export const ownColumn = (h: string): MeasurementColumn | null => {
 };
 
 /** Columns a file must carry (after mapping); the others may be absent. */
-export const REQUIRED_COLUMNS: readonly MeasurementColumn[] = ['serial', 'hfe', 'hfe_ic_a', 'hfe_vce_v', 'icbo_a', 'icbo_vcb_v', 'vcesat_v'];
+export const REQUIRED_COLUMNS: readonly MeasurementColumn[] = [
+  'serial',
+  'hfe',
+  'hfe_ic_a',
+  'hfe_vce_v',
+  'icbo_a',
+  'icbo_vcb_v',
+  'vcesat_v',
+];
 
 export const COLUMN_LABEL: Record<MeasurementColumn, string> = {
   serial: 'Serial',
@@ -157,7 +165,10 @@ export const manualReadingSchema = z
       }
     }
   });
-export const manualEntrySchema = z.array(manualReadingSchema).min(1, 'Enter at least one device').max(50, 'Enter at most 50 devices at a time; upload a file for more');
+export const manualEntrySchema = z
+  .array(manualReadingSchema)
+  .min(1, 'Enter at least one device')
+  .max(50, 'Enter at most 50 devices at a time; upload a file for more');
 export type ManualReading = z.infer<typeof manualReadingSchema>;
 
 // ---------------------------------------------------------------------------------------------
@@ -177,8 +188,15 @@ export interface RowResult {
   /** Converted values (SI) for rows that can be stored. */
   values?: {
     result: MeasurementResult;
-    hfe: number | null; hfeIcA: number | null; hfeVceV: number | null; icboA: number | null; icboVcbV: number | null; vcesatV: number | null;
-    bvceoV: number | null; measuredC: number; measuredAt: string;
+    hfe: number | null;
+    hfeIcA: number | null;
+    hfeVceV: number | null;
+    icboA: number | null;
+    icboVcbV: number | null;
+    vcesatV: number | null;
+    bvceoV: number | null;
+    measuredC: number;
+    measuredAt: string;
   };
   /** Why the row's measuring conditions differ from the device's time zero (judged only once confirmed). */
   conditionsFlag?: string | null;

@@ -2,7 +2,13 @@ import { z } from 'zod';
 import { num } from './devices';
 
 import { PLAN_KINDS, isCyclingKind, isHumidityKind, isPoweredKind, isReverseBiasKind, type PlanKind } from '../domain/stress';
-import { DEFAULT_BIAS_TOLERANCE_PCT, DEFAULT_EA_EV, DEFAULT_READ_POINTS_H, DEFAULT_USE_C, REVERSE_BIAS_FRACTION } from '../domain/standards';
+import {
+  DEFAULT_BIAS_TOLERANCE_PCT,
+  DEFAULT_EA_EV,
+  DEFAULT_READ_POINTS_H,
+  DEFAULT_USE_C,
+  REVERSE_BIAS_FRACTION,
+} from '../domain/standards';
 
 export { PLAN_KINDS, type PlanKind } from '../domain/stress';
 export const PLAN_KIND_LABEL: Record<PlanKind, string> = {

@@ -21,7 +21,11 @@ export const createRigSchema = z
     code: rigCodeInputSchema,
     name: z.string().trim().min(1, 'Enter a name').max(80),
     location: z.string().trim().max(80).default(''),
-    socketCount: z.number().int('Whole sockets only').min(1, 'At least one socket').max(MAX_RIG_SOCKETS, `At most ${MAX_RIG_SOCKETS} sockets`),
+    socketCount: z
+      .number()
+      .int('Whole sockets only')
+      .min(1, 'At least one socket')
+      .max(MAX_RIG_SOCKETS, `At most ${MAX_RIG_SOCKETS} sockets`),
     maxTempC: finite().min(25, 'At least 25 °C').max(500, 'At most 500 °C'),
     maxVoltageV: finite().positive('Must be above 0 V').max(10_000, 'At most 10 kV'),
     humidityCapable: z.boolean().default(false),

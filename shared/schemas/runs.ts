@@ -116,7 +116,8 @@ export const bookSampleSchema = z
   .superRefine((b, ctx) => {
     const seen = new Set<string>();
     b.parts.forEach((p, i) => {
-      if (seen.has(p.rigId)) ctx.addIssue({ code: 'custom', path: ['parts', i, 'rigId'], message: 'Each part of a sample goes to a different rig' });
+      if (seen.has(p.rigId))
+        ctx.addIssue({ code: 'custom', path: ['parts', i, 'rigId'], message: 'Each part of a sample goes to a different rig' });
       seen.add(p.rigId);
     });
   });
@@ -258,7 +259,16 @@ export interface RunDetail extends Run {
   socketsTaken: number[];
 }
 
-export const SOCKET_PROBLEMS = ['empty', 'duplicate', 'wrong-lot', 'unknown-serial', 'in-other-run', 'socket-taken', 'no-such-socket', 'too-many'] as const;
+export const SOCKET_PROBLEMS = [
+  'empty',
+  'duplicate',
+  'wrong-lot',
+  'unknown-serial',
+  'in-other-run',
+  'socket-taken',
+  'no-such-socket',
+  'too-many',
+] as const;
 export type SocketProblem = (typeof SOCKET_PROBLEMS)[number];
 
 export interface SocketFlag {

@@ -1,10 +1,7 @@
 import { z } from 'zod';
 import { roleSchema } from './auth';
 
-export const passwordSchema = z
-  .string()
-  .min(10, 'Use at least 10 characters')
-  .max(200, 'Use at most 200 characters');
+export const passwordSchema = z.string().min(10, 'Use at least 10 characters').max(200, 'Use at most 200 characters');
 
 export const createUserSchema = z.object({
   email: z.string().trim().toLowerCase().email('Enter an e-mail address').max(254),

@@ -28,7 +28,11 @@ export interface GainReference {
 }
 
 /** hFE referred to the reference temperature, and whether (and how) it was converted. */
-export function referredGain(hfe: number | null, measuredC: number, g: GainReference): { hfe: number | null; normalised: boolean; note: string | null } {
+export function referredGain(
+  hfe: number | null,
+  measuredC: number,
+  g: GainReference,
+): { hfe: number | null; normalised: boolean; note: string | null } {
   if (hfe === null) return { hfe: null, normalised: false, note: null };
   if (Math.abs(measuredC - g.referenceC) <= GAIN_REFERENCE_TOLERANCE_C) return { hfe, normalised: false, note: null };
   const referred = normaliseGainToReference({ hfe, measuredC, referenceC: g.referenceC, xtb: g.xtb });
@@ -110,7 +114,12 @@ const pctOf = (r: number, i: number) => (i !== 0 ? ((r - i) / i) * 100 : null);
  * - VCE(sat): |change| ≤ vcesatShiftV.
  * A parameter missing at either point is reported and left out of the verdict.
  */
-export function deviceDrift(p: { timeZero: DeviceReading; reading: DeviceReading; criteria: Criteria; /** false: `reason` left empty (bulk judging that never shows it) */ reasons?: boolean }): DeviceDrift {
+export function deviceDrift(p: {
+  timeZero: DeviceReading;
+  reading: DeviceReading;
+  criteria: Criteria;
+  /** false: `reason` left empty (bulk judging that never shows it) */ reasons?: boolean;
+}): DeviceDrift {
   const { timeZero: t0, reading: r, criteria: c } = p;
   const say = p.reasons !== false;
   const parameters: ParameterDrift[] = [];
@@ -132,8 +141,8 @@ export function deviceDrift(p: { timeZero: DeviceReading; reading: DeviceReading
       reason: !say
         ? ''
         : pass
-        ? `hFE ${r.hfe} within ±${c.hfeChangePct} % of ${t0.hfe}`
-        : `hFE ${r.hfe} outside ±${c.hfeChangePct} % of ${t0.hfe} (allowed ${+band.low.toPrecision(4)}–${+band.high.toPrecision(4)})`,
+          ? `hFE ${r.hfe} within ±${c.hfeChangePct} % of ${t0.hfe}`
+          : `hFE ${r.hfe} outside ±${c.hfeChangePct} % of ${t0.hfe} (allowed ${+band.low.toPrecision(4)}–${+band.high.toPrecision(4)})`,
     });
   }
 
@@ -152,7 +161,9 @@ export function deviceDrift(p: { timeZero: DeviceReading; reading: DeviceReading
       delta,
       allowed,
       pass,
-      reason: !say ? '' : `ICBO ${fmtA(r.icboA)} from ${fmtA(t0.icboA)}: change ${fmtA(delta)} ${pass ? 'within' : 'beyond'} the allowed ${fmtA(allowedChange)}`,
+      reason: !say
+        ? ''
+        : `ICBO ${fmtA(r.icboA)} from ${fmtA(t0.icboA)}: change ${fmtA(delta)} ${pass ? 'within' : 'beyond'} the allowed ${fmtA(allowedChange)}`,
     });
   }
 
@@ -169,7 +180,9 @@ export function deviceDrift(p: { timeZero: DeviceReading; reading: DeviceReading
       delta,
       allowed: { low: t0.vcesatV - c.vcesatShiftV, high: t0.vcesatV + c.vcesatShiftV },
       pass,
-      reason: !say ? '' : `VCE(sat) shifted ${+(delta * 1000).toFixed(1)} mV, ${pass ? 'within' : 'beyond'} ±${+(c.vcesatShiftV * 1000).toFixed(1)} mV`,
+      reason: !say
+        ? ''
+        : `VCE(sat) shifted ${+(delta * 1000).toFixed(1)} mV, ${pass ? 'within' : 'beyond'} ±${+(c.vcesatShiftV * 1000).toFixed(1)} mV`,
     });
   }
 
@@ -235,12 +248,7 @@ export interface PseudoFailure {
  * - 'log-ratio-origin': ln(ratio) = b·t (for leakage ratios reading/initial); limit is a ratio (e.g. 5).
  * Through-origin least squares: b = Σ t·y / Σ t².
  */
-export function pseudoFailureTime(p: {
-  hours: number[];
-  changes: number[];
-  limit: number;
-  model: DegradationModel;
-}): PseudoFailure {
+export function pseudoFailureTime(p: { hours: number[]; changes: number[]; limit: number; model: DegradationModel }): PseudoFailure {
   if (p.hours.length !== p.changes.length || p.hours.length === 0) {
     throw new RangeError('hours and changes must be non-empty and of equal length');
   }
@@ -373,7 +381,14 @@ export function welchT(a: SampleSummary, b: SampleSummary): { t: number; df: num
  *   x̄ ± t(1 − α/2; m − 1) · s · √(1 + 1/m),  α = 1 − confidence, s the sample standard deviation.
  * Needs at least two values.
  */
-export function predictionInterval(p: { values: number[]; confidence: number }): { lower: number; upper: number; mean: number; sd: number; t: number; m: number } {
+export function predictionInterval(p: { values: number[]; confidence: number }): {
+  lower: number;
+  upper: number;
+  mean: number;
+  sd: number;
+  t: number;
+  m: number;
+} {
   const m = p.values.length;
   if (m < 2) throw new RangeError('a prediction interval needs at least two values');
   if (!(p.confidence > 0 && p.confidence < 1)) throw new RangeError('confidence must be between 0 and 1');

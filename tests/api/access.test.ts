@@ -24,7 +24,9 @@ describe('route inventory', () => {
   it('every Express route on every API router was declared through ApiRouter (so it has an access rule)', () => {
     for (const r of t.routers) {
       const stack = (r.router as unknown as { stack: Array<{ route?: { path: string; methods?: Record<string, boolean> } }> }).stack;
-      const expressRoutes = stack.filter((l) => l.route).map((l) => `${Object.keys(l.route!.methods ?? {})[0]} ${r.prefix}${l.route!.path}`);
+      const expressRoutes = stack
+        .filter((l) => l.route)
+        .map((l) => `${Object.keys(l.route!.methods ?? {})[0]} ${r.prefix}${l.route!.path}`);
       const declared = r.routes.map((d) => `${d.method} ${d.path}`);
       expect(expressRoutes.sort()).toEqual(declared.sort());
     }

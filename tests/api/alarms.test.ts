@@ -32,7 +32,10 @@ const input = (fx: RunFixture, over: Partial<RaiseAlarmInput> = {}): RaiseAlarmI
 
 beforeAll(async () => {
   // Port 9 (discard): nothing listens, so queued e-mails fail fast and are only logged.
-  t = await createTestApp({ smtp: { host: '127.0.0.1', port: 9, from: 'Emberlot <emberlot@harrowgate-lab.example>' } }, { mail: { attempts: 1, timeoutMs: 1000 } });
+  t = await createTestApp(
+    { smtp: { host: '127.0.0.1', port: 9, from: 'Emberlot <emberlot@harrowgate-lab.example>' } },
+    { mail: { attempts: 1, timeoutMs: 1000 } },
+  );
   svc = t.ctx.services.alarms;
   a1 = await createRunFixture(t.ctx.ds, { rigCode: 'AL-01', sockets: 4 });
   a2 = await createRunFixture(t.ctx.ds, { rigCode: 'AL-02', sockets: 4 });
@@ -69,14 +72,22 @@ describe('alarm life cycle', () => {
   });
 
   it('acknowledged but still active: repeats keep updating it; acknowledged and cleared: the next occurrence is a new alarm', async () => {
-    const { alarm } = await svc.raise(input(a2, { kind: 'rig-offline', severity: 'critical', socketIndex: null, title: 'Rig AL-02 is offline' }));
+    const { alarm } = await svc.raise(
+      input(a2, { kind: 'rig-offline', severity: 'critical', socketIndex: null, title: 'Rig AL-02 is offline' }),
+    );
     const op = await t.signIn('operator');
-    expect((await op.post(`/api/alarms/${alarm.id}/acknowledge`).send({ note: 'Network switch rebooting, IT informed.' })).status).toBe(200);
-    const repeat = await svc.raise(input(a2, { kind: 'rig-offline', severity: 'critical', socketIndex: null, title: 'Rig AL-02 is offline' }));
+    expect((await op.post(`/api/alarms/${alarm.id}/acknowledge`).send({ note: 'Network switch rebooting, IT informed.' })).status).toBe(
+      200,
+    );
+    const repeat = await svc.raise(
+      input(a2, { kind: 'rig-offline', severity: 'critical', socketIndex: null, title: 'Rig AL-02 is offline' }),
+    );
     expect(repeat.alarm.id).toBe(alarm.id);
     expect(repeat.alarm.open).toBe(false);
     await svc.clear('rig-offline', a2.rig.id, null);
-    const next = await svc.raise(input(a2, { kind: 'rig-offline', severity: 'critical', socketIndex: null, title: 'Rig AL-02 is offline' }));
+    const next = await svc.raise(
+      input(a2, { kind: 'rig-offline', severity: 'critical', socketIndex: null, title: 'Rig AL-02 is offline' }),
+    );
     expect(next.created).toBe(true);
     expect(next.alarm.id).not.toBe(alarm.id);
   });
@@ -87,7 +98,14 @@ describe('GET /api/alarms', () => {
     await svc.raise(input(a1, { kind: 'runaway-trip', severity: 'critical', socketIndex: 7, title: 'Socket 7 on AL-01 tripped: runaway' }));
     const res = await (await t.signIn('manager')).get('/api/alarms');
     expect(res.status).toBe(200);
-    const items = res.body.items as Array<{ severity: string; open: boolean; kind: string; action: string; rigCode: string; runCode: string }>;
+    const items = res.body.items as Array<{
+      severity: string;
+      open: boolean;
+      kind: string;
+      action: string;
+      rigCode: string;
+      runCode: string;
+    }>;
     expect(items.every((a) => a.open)).toBe(true);
     expect(items[0].severity).toBe('critical');
     const ranks = items.map((a) => ({ critical: 0, warning: 1, info: 2 })[a.severity as 'critical']);
@@ -143,7 +161,8 @@ describe('GET /api/alarms', () => {
 describe('POST /api/alarms/:id/acknowledge', () => {
   let id: string;
   beforeAll(async () => {
-    id = (await svc.raise(input(a1, { kind: 'bias-out-of-tolerance', socketIndex: 9, title: 'Socket 9 on AL-01: bias out of tolerance' }))).alarm.id;
+    id = (await svc.raise(input(a1, { kind: 'bias-out-of-tolerance', socketIndex: 9, title: 'Socket 9 on AL-01: bias out of tolerance' })))
+      .alarm.id;
   });
 
   it('refuses a manager (403) and changes nothing', async () => {
@@ -160,7 +179,11 @@ describe('POST /api/alarms/:id/acknowledge', () => {
     expect(res.status).toBe(400);
     expect(res.body.error.fields.note[0]).toMatch(/Write a short note/);
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
-    const unknownField = await (await t.signIn('operator')).post(`/api/alarms/${id}/acknowledge`).send({ note: 'ok then', severity: 'info' });
+    const unknownField = await (
+      await t.signIn('operator')
+    )
+      .post(`/api/alarms/${id}/acknowledge`)
+      .send({ note: 'ok then', severity: 'info' });
     expect(unknownField.status).toBe(400);
   });
 
@@ -168,11 +191,19 @@ describe('POST /api/alarms/:id/acknowledge', () => {
     const eng = await t.signIn('engineer');
     const res = await eng.post(`/api/alarms/${id}/acknowledge`).send({ note: '  Supply channel 3 recalibrated.  ' });
     expect(res.status).toBe(200);
-    expect(res.body).toEqual(expect.objectContaining({ open: false, ackNote: 'Supply channel 3 recalibrated.', acknowledgedBy: expect.objectContaining({ name: 'Test engineer' }) }));
+    expect(res.body).toEqual(
+      expect.objectContaining({
+        open: false,
+        ackNote: 'Supply channel 3 recalibrated.',
+        acknowledgedBy: expect.objectContaining({ name: 'Test engineer' }),
+      }),
+    );
     expect(typeof res.body.acknowledgedAt).toBe('string');
     const audit = await t.ctx.ds.getRepository(AuditLogEntity).find({ where: { entityId: id } });
     expect(audit).toHaveLength(1);
-    expect(audit[0]).toEqual(expect.objectContaining({ action: 'alarm.acknowledge', actor: emailFor('engineer'), reason: 'Supply channel 3 recalibrated.' }));
+    expect(audit[0]).toEqual(
+      expect.objectContaining({ action: 'alarm.acknowledge', actor: emailFor('engineer'), reason: 'Supply channel 3 recalibrated.' }),
+    );
     expect(audit[0].details).toEqual(expect.objectContaining({ kind: 'bias-out-of-tolerance', socketIndex: 9 }));
     const again = await (await t.signIn('admin')).post(`/api/alarms/${id}/acknowledge`).send({ note: 'Me too' });
     expect(again.status).toBe(409);
@@ -180,7 +211,11 @@ describe('POST /api/alarms/:id/acknowledge', () => {
   });
 
   it('an unknown alarm is 404', async () => {
-    const res = await (await t.signIn('operator')).post('/api/alarms/00000000-0000-4000-8000-000000000002/acknowledge').send({ note: 'Checked' });
+    const res = await (
+      await t.signIn('operator')
+    )
+      .post('/api/alarms/00000000-0000-4000-8000-000000000002/acknowledge')
+      .send({ note: 'Checked' });
     expect(res.status).toBe(404);
   });
 });
@@ -194,7 +229,14 @@ describe('/api/notifications', () => {
     const list = await op.get('/api/notifications');
     expect(list.status).toBe(200);
     expect(list.body.unread).toBe(1);
-    expect(list.body.items[0]).toEqual(expect.objectContaining({ kind: 'leakage-jump', title: 'Socket 1 on AL-02: leakage jumped ×30', link: `/alarms?id=${alarm.id}`, readAt: null }));
+    expect(list.body.items[0]).toEqual(
+      expect.objectContaining({
+        kind: 'leakage-jump',
+        title: 'Socket 1 on AL-02: leakage jumped ×30',
+        link: `/alarms?id=${alarm.id}`,
+        readAt: null,
+      }),
+    );
 
     const engineer = await t.ctx.ds.getRepository(UserEntity).findOneByOrFail({ email: emailFor('engineer') });
     const theirs = await t.ctx.ds.getRepository(NotificationEntity).findOneByOrFail({ userId: engineer.id });
@@ -222,11 +264,17 @@ describe('/api/notifications', () => {
 });
 
 describe('run-scoped alarms', () => {
-  it('read-point-overdue belongs to its run: two runs on one rig give two alarms; leaving one hold clears only that run\'s', async () => {
+  it("read-point-overdue belongs to its run: two runs on one rig give two alarms; leaving one hold clears only that run's", async () => {
     // Rig AL-01's earlier run (finished, its final read point never measured) and its present one.
     const earlierRun = randomUUID();
     const overdue = (runId: string, readPointH: number): RaiseAlarmInput =>
-      input(a1, { kind: 'read-point-overdue', runId, socketIndex: null, title: `Read point ${readPointH} h not measured within 96 h`, details: { readPointH } });
+      input(a1, {
+        kind: 'read-point-overdue',
+        runId,
+        socketIndex: null,
+        title: `Read point ${readPointH} h not measured within 96 h`,
+        details: { readPointH },
+      });
     const first = await svc.raise(overdue(earlierRun, 1000));
     const second = await svc.raise(overdue(a1.run.id, 168));
     expect(first.created).toBe(true);
@@ -236,7 +284,18 @@ describe('run-scoped alarms', () => {
     expect(again).toMatchObject({ created: false, alarm: { id: second.alarm.id } });
 
     // The present run leaves its read-hold: its alarm clears, the earlier run's stays active.
-    await handleRunEvent(t.ctx, { type: 'state-changed', runId: a1.run.id, runCode: a1.run.code, rigId: a1.rig.id, rigCode: a1.rig.code, at: new Date().toISOString(), from: 'read-hold', to: 'heating', actor: 'operator', reason: null });
+    await handleRunEvent(t.ctx, {
+      type: 'state-changed',
+      runId: a1.run.id,
+      runCode: a1.run.code,
+      rigId: a1.rig.id,
+      rigCode: a1.rig.code,
+      at: new Date().toISOString(),
+      from: 'read-hold',
+      to: 'heating',
+      actor: 'operator',
+      reason: null,
+    });
     const rows = await t.ctx.ds.getRepository(AlarmEntity).findBy({ kind: 'read-point-overdue', rigId: a1.rig.id });
     const byRun = new Map(rows.map((r) => [r.runId, r]));
     expect(byRun.get(a1.run.id)?.clearedAt).not.toBeNull();
@@ -247,7 +306,9 @@ describe('run-scoped alarms', () => {
   it('a read-point-overdue alarm stored under the old key is moved to its run by the migration, then updated, not duplicated', async () => {
     const fx = await createRunFixture(t.ctx.ds, { rigCode: 'AL-03', sockets: 4 });
     const repo = t.ctx.ds.getRepository(AlarmEntity);
-    const raised = await svc.raise(input(fx, { kind: 'read-point-overdue', socketIndex: null, title: 'Read point 168 h not measured within 96 h' }));
+    const raised = await svc.raise(
+      input(fx, { kind: 'read-point-overdue', socketIndex: null, title: 'Read point 168 h not measured within 96 h' }),
+    );
     await repo.update({ id: raised.alarm.id }, { dedupeKey: `read-point-overdue:${fx.rig.id}:-` }); // as raised before
     const runner = t.ctx.ds.createQueryRunner();
     try {
@@ -255,8 +316,12 @@ describe('run-scoped alarms', () => {
     } finally {
       await runner.release();
     }
-    expect((await repo.findOneByOrFail({ id: raised.alarm.id })).dedupeKey).toBe(dedupeKeyFor('read-point-overdue', fx.rig.id, null, fx.run.id));
-    const again = await svc.raise(input(fx, { kind: 'read-point-overdue', socketIndex: null, title: 'Read point 168 h not measured within 96 h' }));
+    expect((await repo.findOneByOrFail({ id: raised.alarm.id })).dedupeKey).toBe(
+      dedupeKeyFor('read-point-overdue', fx.rig.id, null, fx.run.id),
+    );
+    const again = await svc.raise(
+      input(fx, { kind: 'read-point-overdue', socketIndex: null, title: 'Read point 168 h not measured within 96 h' }),
+    );
     expect(again).toMatchObject({ created: false, alarm: { id: raised.alarm.id } });
     expect(await repo.countBy({ kind: 'read-point-overdue', rigId: fx.rig.id })).toBe(1);
   });

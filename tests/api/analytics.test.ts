@@ -12,8 +12,21 @@ const ids: Record<string, string> = {};
 async function makeType(m: EntityManager, partNumber: string) {
   return m.save(
     m.create(DeviceTypeEntity, {
-      partNumber, polarity: 'NPN', bvcboV: 140, bvceoV: 80, bveboV: 6, icMaxA: 1.5, pMaxW: 12.5, tjMaxC: 150,
-      thetaJcCPerW: 10, thetaJaCPerW: 83.3, betaRef: 120, betaRefIcA: 0.15, betaRefTC: 25, xtb: 1.6, icboRefA: 20e-9,
+      partNumber,
+      polarity: 'NPN',
+      bvcboV: 140,
+      bvceoV: 80,
+      bveboV: 6,
+      icMaxA: 1.5,
+      pMaxW: 12.5,
+      tjMaxC: 150,
+      thetaJcCPerW: 10,
+      thetaJaCPerW: 83.3,
+      betaRef: 120,
+      betaRefIcA: 0.15,
+      betaRefTC: 25,
+      xtb: 1.6,
+      icboRefA: 20e-9,
     }),
   );
 }
@@ -21,9 +34,21 @@ async function makeType(m: EntityManager, partNumber: string) {
 async function makePlan(m: EntityManager, deviceTypeId: string, p: Partial<StressPlanEntity> = {}) {
   return m.save(
     m.create(StressPlanEntity, {
-      planKey: randomUUID(), version: 1, name: 'HTRB test plan', kind: 'htrb', deviceTypeId, chamberC: 145, humidityPct: null,
-      bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 }, durationH: 1000, readPointsH: [0, 168, 500, 1000],
-      sampleSize: 20, acceptNumber: 0, criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 }, eaEv: 0.7, useC: 55,
+      planKey: randomUUID(),
+      version: 1,
+      name: 'HTRB test plan',
+      kind: 'htrb',
+      deviceTypeId,
+      chamberC: 145,
+      humidityPct: null,
+      bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
+      durationH: 1000,
+      readPointsH: [0, 168, 500, 1000],
+      sampleSize: 20,
+      acceptNumber: 0,
+      criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
+      eaEv: 0.7,
+      useC: 55,
       ...p,
     }),
   );
@@ -41,10 +66,23 @@ async function lotWithRun(
   notes = '',
 ) {
   const lot = await m.save(m.create(LotEntity, { code, deviceTypeId: type.id, quantity: 1000, notes }));
-  const devices = await m.save(Array.from({ length: n }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `${code.slice(-1)}${String(i + 1).padStart(4, '0')}` })));
+  const devices = await m.save(
+    Array.from({ length: n }, (_, i) =>
+      m.create(DeviceEntity, { lotId: lot.id, serial: `${code.slice(-1)}${String(i + 1).padStart(4, '0')}` }),
+    ),
+  );
   await insertHistoryRun(m, {
-    code: `R-${code}`, plan, deviceType: type, rig, lots: [{ lot, devices, drift }], state: 'finished', startedAt: new Date('2026-03-01T00:00:00Z'),
-    stressHours: plan.durationH, measuredH: [...plan.readPointsH], noise: 0, ...extra,
+    code: `R-${code}`,
+    plan,
+    deviceType: type,
+    rig,
+    lots: [{ lot, devices, drift }],
+    state: 'finished',
+    startedAt: new Date('2026-03-01T00:00:00Z'),
+    stressHours: plan.durationH,
+    measuredH: [...plan.readPointsH],
+    noise: 0,
+    ...extra,
   });
   ids[code] = lot.id;
   return { lot, devices };
@@ -54,7 +92,16 @@ beforeAll(async () => {
   t = await createTestApp();
   await t.ctx.ds.transaction(async (m) => {
     const rig = await m.save(
-      m.create(RigEntity, { code: 'OV-95', name: 'test oven', socketCount: 256, maxTempC: 200, maxVoltageV: 800, mqttUsername: 'rig-ov-95', mqttSecretHash: 'x', credentialsIssuedAt: new Date() }),
+      m.create(RigEntity, {
+        code: 'OV-95',
+        name: 'test oven',
+        socketCount: 256,
+        maxTempC: 200,
+        maxVoltageV: 800,
+        mqttUsername: 'rig-ov-95',
+        mqttSecretHash: 'x',
+        credentialsIssuedAt: new Date(),
+      }),
     );
     // Four lots of one type with exact (noise-free) drift: three near −2.5 %, one at −12 % per 1000 h.
     const type = await makeType(m, 'HPD-T200');
@@ -64,16 +111,47 @@ beforeAll(async () => {
     await lotWithRun(m, 'HG9801-A', type, plan, rig, 20, { hfeDriftPctPer1000h: -2.0, leakageGrowthPer1000h: leak });
     await lotWithRun(m, 'HG9801-B', type, plan, rig, 20, { hfeDriftPctPer1000h: -2.5, leakageGrowthPer1000h: leak });
     await lotWithRun(m, 'HG9801-C', type, plan, rig, 20, { hfeDriftPctPer1000h: -3.0, leakageGrowthPer1000h: leak });
-    await lotWithRun(m, 'HG9801-D', type, plan, rig, 20, { hfeDriftPctPer1000h: -12, leakageGrowthPer1000h: leak }, {}, '=cmd|\' /C calc\'!A0');
+    await lotWithRun(
+      m,
+      'HG9801-D',
+      type,
+      plan,
+      rig,
+      20,
+      { hfeDriftPctPer1000h: -12, leakageGrowthPer1000h: leak },
+      {},
+      "=cmd|' /C calc'!A0",
+    );
     // Two devices of lot E fail at 1000 h; the plan accepts none.
-    await lotWithRun(m, 'HG9801-E', type, plan, rig, 20, { hfeDriftPctPer1000h: -2.2, leakageGrowthPer1000h: leak }, {
-      failures: [{ serial: 'E0003', atH: 1000, mode: 'leakage' }, { serial: 'E0009', atH: 1000, mode: 'gain' }],
-    });
+    await lotWithRun(
+      m,
+      'HG9801-E',
+      type,
+      plan,
+      rig,
+      20,
+      { hfeDriftPctPer1000h: -2.2, leakageGrowthPer1000h: leak },
+      {
+        failures: [
+          { serial: 'E0003', atH: 1000, mode: 'leakage' },
+          { serial: 'E0009', atH: 1000, mode: 'gain' },
+        ],
+      },
+    );
     // Another type, one lot in progress through 500 h, drifting −20 % per 1000 h: the typical device
     // reaches −15 % at 750 h, before the 1000 h target life.
     const type2 = await makeType(m, 'HPD-T300');
     const plan2 = await makePlan(m, type2.id, { sampleSize: 10 });
-    await lotWithRun(m, 'HG9802-P', type2, plan2, rig, 10, { hfeDriftPctPer1000h: -20, leakageGrowthPer1000h: 1 }, { state: 'stressing', stressHours: 560, measuredH: [0, 168, 500] });
+    await lotWithRun(
+      m,
+      'HG9802-P',
+      type2,
+      plan2,
+      rig,
+      10,
+      { hfeDriftPctPer1000h: -20, leakageGrowthPer1000h: 1 },
+      { state: 'stressing', stressHours: 560, measuredH: [0, 168, 500] },
+    );
     // The JESD85 case: 231 devices × 1000 h, 55 → 125 °C, Ea 0.7 eV, no failures.
     const type3 = await makeType(m, 'HPD-T400');
     ids.type3 = type3.id;
@@ -94,7 +172,13 @@ describe('lot verdicts', () => {
     const res = await mgr.get(`/api/analytics/lots?deviceTypeId=${ids.type}`);
     expect(res.status).toBe(200);
     const verdicts = Object.fromEntries(res.body.items.map((l: { lotCode: string; verdict: string }) => [l.lotCode, l.verdict]));
-    expect(verdicts).toEqual({ 'HG9801-A': 'passed', 'HG9801-B': 'passed', 'HG9801-C': 'passed', 'HG9801-D': 'drifting', 'HG9801-E': 'failed' });
+    expect(verdicts).toEqual({
+      'HG9801-A': 'passed',
+      'HG9801-B': 'passed',
+      'HG9801-C': 'passed',
+      'HG9801-D': 'drifting',
+      'HG9801-E': 'failed',
+    });
 
     const d = await mgr.get(`/api/analytics/lots/${ids['HG9801-D']}`);
     expect(d.status).toBe(200);
@@ -125,7 +209,9 @@ describe('lot verdicts', () => {
     const e = await mgr.get(`/api/analytics/lots/${ids['HG9801-E']}`);
     expect(e.body.verdict).toBe('failed');
     expect(e.body.fails).toBe(2);
-    expect(e.body.reasons[0]).toMatch(/^2 devices failed, accept number 0: E0003 at 1,000 h \(ICBO .* beyond the allowed 200 nA at 1,000 h\); E0009 at 1,000 h \(hFE .* outside ±15 % /);
+    expect(e.body.reasons[0]).toMatch(
+      /^2 devices failed, accept number 0: E0003 at 1,000 h \(ICBO .* beyond the allowed 200 nA at 1,000 h\); E0009 at 1,000 h \(hFE .* outside ±15 % /,
+    );
     const rp = e.body.readPoints.find((r: { hours: number }) => r.hours === 1000);
     expect(rp.cumulativeFails).toBe(2);
   });
@@ -184,7 +270,9 @@ describe('failure rate and sample size', () => {
     const res = await eng.get(`/api/analytics/device-types/${ids.type}`);
     expect(res.body).toMatchObject({ lots: 5, lotsPassed: 3, lotsDrifting: 1, lotsFailed: 1, failures: 2, deviceHours: 100 * 1000 });
     const all = await eng.get('/api/analytics/device-types');
-    expect(all.body.items.map((x: { partNumber: string }) => x.partNumber)).toEqual(expect.arrayContaining(['HPD-T200', 'HPD-T300', 'HPD-T400']));
+    expect(all.body.items.map((x: { partNumber: string }) => x.partNumber)).toEqual(
+      expect.arrayContaining(['HPD-T200', 'HPD-T300', 'HPD-T400']),
+    );
   });
 });
 
@@ -229,7 +317,9 @@ describe('demo history', () => {
     const mgr = await t.signIn('manager');
     const res = await mgr.get('/api/analytics/lots');
     const v = Object.fromEntries(
-      res.body.items.filter((l: { lotCode: string }) => l.lotCode.startsWith('HG26')).map((l: { lotCode: string; verdict: string }) => [l.lotCode, l.verdict]),
+      res.body.items
+        .filter((l: { lotCode: string }) => l.lotCode.startsWith('HG26'))
+        .map((l: { lotCode: string; verdict: string }) => [l.lotCode, l.verdict]),
     );
     // The demo re-seed (issue #19): A's 77 devices split over two rigs pass; B lacks four 1000 h
     // readings; F holds 48 of 77 with a recorded deviation (server/seed/seed-history.ts).
@@ -247,13 +337,17 @@ describe('demo history', () => {
     expect(c.run.state).toBe('stressing');
     expect(c.fails).toBe(0);
     // Drifting by its devices' degradation (two peer lots give a prediction interval too wide to judge by).
-    expect(c.reasons[0]).toMatch(/^Degradation: Weibull β [\d.]+, η [\d,]+ h from \d+ pseudo-failure times and \d+ suspensions?; [\d.]+ % projected to fail by the plan's 1,000 h, at or above the plan's LTPD of 2\.95 %\.$/);
+    expect(c.reasons[0]).toMatch(
+      /^Degradation: Weibull β [\d.]+, η [\d,]+ h from \d+ pseudo-failure times and \d+ suspensions?; [\d.]+ % projected to fail by the plan's 1,000 h, at or above the plan's LTPD of 2\.95 %\.$/,
+    );
     const e = res.body.items.find((l: { lotCode: string }) => l.lotCode === 'HG2610-E');
     expect(e.verdict).toBe('failed');
     const b = res.body.items.find((l: { lotCode: string }) => l.lotCode === 'HG2611-B');
     expect(b.reasons[0]).toBe('Read point 1,000 h: 4 of 77 devices not accounted for (4 no reading or disposition).');
     const f = res.body.items.find((l: { lotCode: string }) => l.lotCode === 'HG2608-F');
-    expect(f.reasons[0]).toMatch(/^48 of 77 devices: at 90 % confidence, 0 failures in 48 demonstrate an LTPD of 4\.68 %, not the plan's 2\.95 %\.$/);
+    expect(f.reasons[0]).toMatch(
+      /^48 of 77 devices: at 90 % confidence, 0 failures in 48 demonstrate an LTPD of 4\.68 %, not the plan's 2\.95 %\.$/,
+    );
     const a = await mgr.get(`/api/analytics/lots/${res.body.items.find((l: { lotCode: string }) => l.lotCode === 'HG2611-A').lotId}`);
     expect(a.body.plans[0].runs).toHaveLength(2);
     expect(a.body.plans[0].sample.booked).toBe(77);
@@ -268,14 +362,26 @@ describe('cached analysis', () => {
       const rig = await m.findOneByOrFail(RigEntity, { code: 'OV-95' });
       const type = await makeType(m, 'HPD-T500');
       const plan = await makePlan(m, type.id, { sampleSize: 10 });
-      const { lot } = await lotWithRun(m, 'HG9805-R', type, plan, rig, 10, { hfeDriftPctPer1000h: -2, leakageGrowthPer1000h: 1.1 }, {
-        state: 'stressing', stressHours: 560, measuredH: [0, 168, 500],
-      });
+      const { lot } = await lotWithRun(
+        m,
+        'HG9805-R',
+        type,
+        plan,
+        rig,
+        10,
+        { hfeDriftPctPer1000h: -2, leakageGrowthPer1000h: 1.1 },
+        {
+          state: 'stressing',
+          stressHours: 560,
+          measuredH: [0, 168, 500],
+        },
+      );
       lotId = lot.id;
       runId = (await m.findOneByOrFail(RunEntity, { code: 'R-HG9805-R' })).id;
     });
     const mgr = await t.signIn('manager');
-    const rp500 = (body: { readPoints: Array<{ hours: number; hfeChangePct: { mean: number } | null }> }) => body.readPoints.find((r) => r.hours === 500)!;
+    const rp500 = (body: { readPoints: Array<{ hours: number; hfeChangePct: { mean: number } | null }> }) =>
+      body.readPoints.find((r) => r.hours === 500)!;
 
     const first = await mgr.get(`/api/analytics/lots/${lotId}`);
     expect(first.status).toBe(200);
@@ -292,8 +398,15 @@ describe('cached analysis', () => {
     const hfe0 = zero.body.items.find((x: { serial: string }) => x.serial === 'R0003').hfe;
     const put = await eng.post(`/api/measurements/runs/${runId}/read-points/500/measurements`).send([
       {
-        serial: 'R0003', hfe: +(hfe0 * 0.7).toFixed(2), hfeIcA: r3.hfeIcA, hfeVceV: r3.hfeVceV, icboA: r3.icboA, icboVcbV: r3.icboVcbV,
-        vcesatV: r3.vcesatV, measuredC: r3.measuredC, measuredAt: r3.measuredAt,
+        serial: 'R0003',
+        hfe: +(hfe0 * 0.7).toFixed(2),
+        hfeIcA: r3.hfeIcA,
+        hfeVceV: r3.hfeVceV,
+        icboA: r3.icboA,
+        icboVcbV: r3.icboVcbV,
+        vcesatV: r3.vcesatV,
+        measuredC: r3.measuredC,
+        measuredAt: r3.measuredAt,
       },
     ]);
     expect(put.status).toBe(201);

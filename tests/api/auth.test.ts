@@ -13,7 +13,9 @@ afterAll(async () => {
 
 describe('sign-in', () => {
   it('signs in with the right password, sets an http-only SameSite cookie and returns the user', async () => {
-    const res = await request(t.app).post('/api/auth/sign-in').send({ email: emailFor('engineer'), password: TEST_PASSWORD });
+    const res = await request(t.app)
+      .post('/api/auth/sign-in')
+      .send({ email: emailFor('engineer'), password: TEST_PASSWORD });
     expect(res.status).toBe(200);
     expect(res.body.user).toMatchObject({ email: 'engineer@test.example', role: 'engineer' });
     expect(res.body.user.passwordHash).toBeUndefined();
@@ -29,7 +31,9 @@ describe('sign-in', () => {
   });
 
   it('gives one answer for a wrong password and for an unknown user alike', async () => {
-    const wrong = await request(t.app).post('/api/auth/sign-in').send({ email: emailFor('operator'), password: 'not-it-at-all' });
+    const wrong = await request(t.app)
+      .post('/api/auth/sign-in')
+      .send({ email: emailFor('operator'), password: 'not-it-at-all' });
     const unknown = await request(t.app).post('/api/auth/sign-in').send({ email: 'nobody@test.example', password: 'whatever-123' });
     for (const res of [wrong, unknown]) {
       expect(res.status).toBe(401);
@@ -83,7 +87,10 @@ describe('sign-in', () => {
 describe('session', () => {
   it('me → sign-out → me: 200 then 401 with "session has ended"', async () => {
     const agent = request.agent(t.app);
-    await agent.post('/api/auth/sign-in').send({ email: emailFor('admin'), password: TEST_PASSWORD }).expect(200);
+    await agent
+      .post('/api/auth/sign-in')
+      .send({ email: emailFor('admin'), password: TEST_PASSWORD })
+      .expect(200);
     const me = await agent.get('/api/auth/me');
     expect(me.status).toBe(200);
     expect(me.body.user.role).toBe('admin');
@@ -103,7 +110,10 @@ describe('session', () => {
 
   it('an expired session answers 401 "Your session has ended. Sign in again."', async () => {
     const agent = request.agent(t.app);
-    await agent.post('/api/auth/sign-in').send({ email: emailFor('engineer'), password: TEST_PASSWORD }).expect(200);
+    await agent
+      .post('/api/auth/sign-in')
+      .send({ email: emailFor('engineer'), password: TEST_PASSWORD })
+      .expect(200);
     await t.ctx.ds.query(`UPDATE "session" SET expire = now() - interval '1 minute'`);
     const res = await agent.get('/api/auth/me');
     expect(res.status).toBe(401);

@@ -49,15 +49,37 @@ describe('device types', () => {
       const agent = await t.signIn(role);
       const list = await agent.get('/api/device-types');
       expect(list.status).toBe(200);
-      expect(list.body.items).toEqual([expect.objectContaining({ id, partNumber: 'HPD-2N140', lotCount: 0, deviceCount: 0, planCount: 0 })]);
+      expect(list.body.items).toEqual([
+        expect.objectContaining({ id, partNumber: 'HPD-2N140', lotCount: 0, deviceCount: 0, planCount: 0 }),
+      ]);
     }
     const eng = await t.signIn('engineer');
     const one = await eng.get(`/api/device-types/${id}`);
     expect(one.status).toBe(200);
     expect(Object.keys(one.body).sort()).toEqual(
       [
-        'id', 'partNumber', 'description', 'kind', 'polarity', 'bvcboV', 'bvceoV', 'bveboV', 'icMaxA', 'pMaxW', 'pRatedAtC', 'tjMaxC',
-        'thetaJcCPerW', 'thetaJaCPerW', 'betaRef', 'betaRefIcA', 'betaRefTC', 'xtb', 'icboRefA', 'breakdownN', 'createdAt', 'updatedAt',
+        'id',
+        'partNumber',
+        'description',
+        'kind',
+        'polarity',
+        'bvcboV',
+        'bvceoV',
+        'bveboV',
+        'icMaxA',
+        'pMaxW',
+        'pRatedAtC',
+        'tjMaxC',
+        'thetaJcCPerW',
+        'thetaJaCPerW',
+        'betaRef',
+        'betaRefIcA',
+        'betaRefTC',
+        'xtb',
+        'icboRefA',
+        'breakdownN',
+        'createdAt',
+        'updatedAt',
       ].sort(),
     );
     const search = await eng.get('/api/device-types?q=2n1');
@@ -106,7 +128,10 @@ describe('device types', () => {
     expect(res.status).toBe(200);
     expect(res.body).toMatchObject({ description: 'Revised data sheet B', bvceoV: 85, xtb: 1.7, breakdownN: 4, bvcboV: 140 });
     const audit = await t.ctx.ds.getRepository(AuditLogEntity).findOneByOrFail({ action: 'device-type.update', entityId: id });
-    expect(audit.details).toMatchObject({ mode: 'patch', changes: { description: { to: 'Revised data sheet B' }, bvceoV: { from: 80, to: 85 } } });
+    expect(audit.details).toMatchObject({
+      mode: 'patch',
+      changes: { description: { to: 'Revised data sheet B' }, bvceoV: { from: 80, to: 85 } },
+    });
     expect(Object.keys(audit.details.changes).sort()).toEqual(['bvceoV', 'description']);
   });
 
@@ -115,7 +140,9 @@ describe('device types', () => {
     const before = await tableCounts(t.ctx.ds);
     const high = await eng.patch(`/api/device-types/${id}`).send({ bvceoV: 200 });
     expect(high.status).toBe(400);
-    expect(high.body.error.fields).toEqual({ bvceoV: ['BVCEO cannot be higher than BVCBO (the open-base breakdown is the lower of the two)'] });
+    expect(high.body.error.fields).toEqual({
+      bvceoV: ['BVCEO cannot be higher than BVCBO (the open-base breakdown is the lower of the two)'],
+    });
     const unknown = await eng.patch(`/api/device-types/${id}`).send({ colour: 'red' });
     expect(unknown.status).toBe(400);
     const empty = await eng.patch(`/api/device-types/${id}`).send({});

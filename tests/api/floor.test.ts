@@ -5,7 +5,15 @@ import request from 'supertest';
 import type { EntityManager } from 'typeorm';
 import { telemetryFromReadings, type SocketReading, type Telemetry } from '../../shared/mqtt';
 import type { FloorTile } from '../../shared/schemas/floor';
-import { AlarmEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunSocketEntity, StressPlanEntity } from '../../server/db/entities';
+import {
+  AlarmEntity,
+  DeviceEntity,
+  DeviceTypeEntity,
+  LotEntity,
+  RigEntity,
+  RunSocketEntity,
+  StressPlanEntity,
+} from '../../server/db/entities';
 import { ALARM_EVENT } from '../../server/modules/alarms/alarms.service';
 import { RUN_EVENT } from '../../server/modules/runs/run-events';
 import { TELEMETRY_LANDED } from '../../server/modules/telemetry/contracts';
@@ -43,30 +51,88 @@ function message(seq: number, atMs: number, sockets: number[], mod: (i: number) 
 async function makeFixtures(m: EntityManager) {
   const type = await m.save(
     m.create(DeviceTypeEntity, {
-      partNumber: 'HPD-T220N', polarity: 'NPN', bvcboV: 200, bvceoV: 120, bveboV: 6, icMaxA: 3, pMaxW: 40, tjMaxC: 150,
-      thetaJcCPerW: 1.5, thetaJaCPerW: 60, betaRef: 80, betaRefIcA: 0.5, betaRefTC: 25, xtb: 1.5, icboRefA: 10e-9,
+      partNumber: 'HPD-T220N',
+      polarity: 'NPN',
+      bvcboV: 200,
+      bvceoV: 120,
+      bveboV: 6,
+      icMaxA: 3,
+      pMaxW: 40,
+      tjMaxC: 150,
+      thetaJcCPerW: 1.5,
+      thetaJaCPerW: 60,
+      betaRef: 80,
+      betaRefIcA: 0.5,
+      betaRefTC: 25,
+      xtb: 1.5,
+      icboRefA: 10e-9,
     }),
   );
   const plan = await m.save(
     m.create(StressPlanEntity, {
-      planKey: randomUUID(), version: 1, name: 'Powered life 150 °C', kind: 'hotl', deviceTypeId: type.id, chamberC: 150, humidityPct: null,
-      bias: { vcbV: null, vebV: null, vceV: 40, ibA: 0.002, icA: null, tolerancePct: 5 }, durationH: 1000, readPointsH: [0, 168, 500, 1000],
-      sampleSize: 10, acceptNumber: 0, criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 }, eaEv: 0.7, useC: 55,
+      planKey: randomUUID(),
+      version: 1,
+      name: 'Powered life 150 °C',
+      kind: 'hotl',
+      deviceTypeId: type.id,
+      chamberC: 150,
+      humidityPct: null,
+      bias: { vcbV: null, vebV: null, vceV: 40, ibA: 0.002, icA: null, tolerancePct: 5 },
+      durationH: 1000,
+      readPointsH: [0, 168, 500, 1000],
+      sampleSize: 10,
+      acceptNumber: 0,
+      criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
+      eaEv: 0.7,
+      useC: 55,
     }),
   );
   const mk = (code: string) =>
-    m.save(m.create(RigEntity, { code, name: `Oven ${code}`, socketCount: SOCKETS, maxTempC: 200, maxVoltageV: 100, mqttUsername: `rig-${code.toLowerCase()}`, mqttSecretHash: 'x', credentialsIssuedAt: new Date() }));
+    m.save(
+      m.create(RigEntity, {
+        code,
+        name: `Oven ${code}`,
+        socketCount: SOCKETS,
+        maxTempC: 200,
+        maxVoltageV: 100,
+        mqttUsername: `rig-${code.toLowerCase()}`,
+        mqttSecretHash: 'x',
+        credentialsIssuedAt: new Date(),
+      }),
+    );
   const a = await mk('OV-81');
   await mk('OV-82');
   const lot = await m.save(m.create(LotEntity, { code: 'HPD-L9901', deviceTypeId: type.id, quantity: 10 }));
-  const devices = await m.save(Array.from({ length: 10 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `HPD-L9901-${String(i + 1).padStart(3, '0')}` })));
+  const devices = await m.save(
+    Array.from({ length: 10 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `HPD-L9901-${String(i + 1).padStart(3, '0')}` })),
+  );
   const run = await insertHistoryRun(m, {
-    code: 'HTOL-F-01', plan, deviceType: type, rig: a, lots: [{ lot, devices, drift: { hfeDriftPctPer1000h: 0, leakageGrowthPer1000h: 1 } }],
-    state: 'stressing', startedAt: new Date(T0 - 200 * 3600_000), stressHours: 150, measuredH: [], noise: 0,
+    code: 'HTOL-F-01',
+    plan,
+    deviceType: type,
+    rig: a,
+    lots: [{ lot, devices, drift: { hfeDriftPctPer1000h: 0, leakageGrowthPer1000h: 1 } }],
+    state: 'stressing',
+    startedAt: new Date(T0 - 200 * 3600_000),
+    stressHours: 150,
+    measuredH: [],
+    noise: 0,
   });
-  await m.update(RunSocketEntity, { runId: run.id, socketIndex: 3 }, { tripped: true, trippedAt: new Date(), tripReason: 'Case above runaway limit' });
+  await m.update(
+    RunSocketEntity,
+    { runId: run.id, socketIndex: 3 },
+    { tripped: true, trippedAt: new Date(), tripReason: 'Case above runaway limit' },
+  );
   const alarm = (ack: boolean) =>
-    m.create(AlarmEntity, { kind: 'runaway-warning', severity: 'warning', rigId: a.id, title: 'Socket warming', message: 'test', dedupeKey: randomUUID(), acknowledgedAt: ack ? new Date() : null });
+    m.create(AlarmEntity, {
+      kind: 'runaway-warning',
+      severity: 'warning',
+      rigId: a.id,
+      title: 'Socket warming',
+      message: 'test',
+      dedupeKey: randomUUID(),
+      acknowledgedAt: ack ? new Date() : null,
+    });
   await m.save([alarm(false), alarm(false), alarm(true)]);
   return a.id;
 }
@@ -77,7 +143,12 @@ beforeAll(async () => {
   // 20 minutes of telemetry at 1 message/s through the real ingest store (samples + rollups).
   const pool = pgPoolOf(t.ctx);
   const all = Array.from({ length: 1200 }, (_, k) =>
-    message(k + 1, T0 + k * 1000, Array.from({ length: 10 }, (_, i) => i), (i) => (i === 9 && k === 1199 ? { tripped: true, biasOn: false } : {})),
+    message(
+      k + 1,
+      T0 + k * 1000,
+      Array.from({ length: 10 }, (_, i) => i),
+      (i) => (i === 9 && k === 1199 ? { tripped: true, biasOn: false } : {}),
+    ),
   );
   // As the ingest does it: each committed batch folded into the accumulator, the held rollups
   // written by a later transaction (here one of their own).
@@ -112,13 +183,27 @@ describe('GET /api/floor', () => {
     expect(a.maxCaseC).toBe(152 + 9); // socket 9, seq 1200 % 4 = 0
     expect(a.run).toMatchObject({ code: 'HTOL-F-01', state: 'stressing', stressHours: 150, nextReadPointH: 168, hoursToNextReadPoint: 18 });
     expect(Date.parse(a.run!.nextReadPointEta!)).toBeGreaterThan(Date.now());
-    expect(b).toMatchObject({ code: 'OV-82', online: false, powered: 0, tripped: 0, empty: SOCKETS, openAlarms: 0, run: null, chamberC: null, lastSampleAt: null });
+    expect(b).toMatchObject({
+      code: 'OV-82',
+      online: false,
+      powered: 0,
+      tripped: 0,
+      empty: SOCKETS,
+      openAlarms: 0,
+      run: null,
+      chamberC: null,
+      lastSampleAt: null,
+    });
   });
 
   it('a socket tripped in the newest message and latched by the run counts once', async () => {
     const m = t.ctx.ds.manager;
     const [tile]: FloorTile[] = (await (await t.signIn('operator')).get('/api/floor')).body.items;
-    await m.update(RunSocketEntity, { runId: tile.run!.id, socketIndex: 9 }, { tripped: true, trippedAt: new Date(), tripReason: 'Case above runaway limit' });
+    await m.update(
+      RunSocketEntity,
+      { runId: tile.run!.id, socketIndex: 9 },
+      { tripped: true, trippedAt: new Date(), tripReason: 'Case above runaway limit' },
+    );
     try {
       const [again]: FloorTile[] = (await (await t.signIn('operator')).get('/api/floor')).body.items;
       expect(again).toMatchObject({ code: 'OV-81', tripped: 2, powered: 9, empty: 6 }); // sockets 3 and 9, as before
@@ -250,11 +335,21 @@ describe('GET /api/floor/stream (server-sent events)', () => {
     await new Promise<void>((r) => server.listen(0, '127.0.0.1', r));
     const port = (server.address() as AddressInfo).port;
     try {
-      const signIn = await request(t.app).post('/api/auth/sign-in').send({ email: emailFor('operator'), password: TEST_PASSWORD });
+      const signIn = await request(t.app)
+        .post('/api/auth/sign-in')
+        .send({ email: emailFor('operator'), password: TEST_PASSWORD });
       const cookie = (signIn.headers['set-cookie'] as unknown as string[]).map((c) => c.split(';')[0]).join('; ');
       const open = (withCookie: boolean) =>
         new Promise<http.IncomingMessage>((resolve, reject) => {
-          const req = http.get({ host: '127.0.0.1', port, path: '/api/floor/stream', headers: { Accept: 'text/event-stream', ...(withCookie ? { Cookie: cookie } : {}) } }, resolve);
+          const req = http.get(
+            {
+              host: '127.0.0.1',
+              port,
+              path: '/api/floor/stream',
+              headers: { Accept: 'text/event-stream', ...(withCookie ? { Cookie: cookie } : {}) },
+            },
+            resolve,
+          );
           req.on('error', reject);
         });
       const anon = await open(false);

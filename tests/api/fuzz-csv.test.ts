@@ -36,7 +36,17 @@ afterAll(async () => {
 // ---------------------------------------------------------------------------------------------
 // Files. Serials in these files are never on the run (Z…) or are refused cells, so no row can be stored.
 
-const FORMULAS = ['=HYPERLINK("http://evil.example","x")', '+cmd|\' /C calc\'!A0', '-2+3', '@SUM(A1:A2)', '=1+1', '\t=1', '=cmd|\' /C calc\'!A0', '+A1', '-A1*2'];
+const FORMULAS = [
+  '=HYPERLINK("http://evil.example","x")',
+  "+cmd|' /C calc'!A0",
+  '-2+3',
+  '@SUM(A1:A2)',
+  '=1+1',
+  '\t=1',
+  "=cmd|' /C calc'!A0",
+  '+A1',
+  '-A1*2',
+];
 
 interface CsvFile {
   kind: string;
@@ -49,7 +59,10 @@ const unknownRow = (i: number) => [`Z${i}`, ...goodCells].join(',');
 
 const measurementFile: fc.Arbitrary<CsvFile> = fc.oneof(
   fc
-    .array(fc.constantFrom('Serial No', 'gain', 'leak', 'Ib', 'x', 'hfe', 'serial', 'Vce', 'µA', 'when', ''), { minLength: 1, maxLength: 8 })
+    .array(fc.constantFrom('Serial No', 'gain', 'leak', 'Ib', 'x', 'hfe', 'serial', 'Vce', 'µA', 'when', ''), {
+      minLength: 1,
+      maxLength: 8,
+    })
     .map((h) => text('wrong columns', `${h.join(',')}\n${h.map(() => '1').join(',')}\n`)),
   fc.nat(20).map((n) => ({
     kind: 'UTF-16 with BOM',
@@ -57,18 +70,19 @@ const measurementFile: fc.Arbitrary<CsvFile> = fc.oneof(
   })),
   fc.nat(20).map((n) => ({
     kind: 'Latin-1 bytes',
-    bytes: Buffer.from(`${HEADER.replace('icbo_a', 'icbo_a (\u00b5A)')}\n${Array.from({ length: n + 1 }, (_, i) => `Z\u00e9${i},${goodCells.join(',')}`).join('\n')}\n`, 'latin1'),
+    bytes: Buffer.from(
+      `${HEADER.replace('icbo_a', 'icbo_a (\u00b5A)')}\n${Array.from({ length: n + 1 }, (_, i) => `Z\u00e9${i},${goodCells.join(',')}`).join('\n')}\n`,
+      'latin1',
+    ),
   })),
-  fc
-    .tuple(fc.constantFrom(...FORMULAS), fc.integer({ min: 0, max: 7 }), fc.nat(10))
-    .map(([f, col, n]) => {
-      const rows = Array.from({ length: n + 1 }, (_, i) => {
-        const cells = [`C${String((i % 10) + 1).padStart(3, '0')}`, ...goodCells];
-        cells[col] = f.includes(',') || f.includes('"') ? `"${f.replace(/"/g, '""')}"` : f;
-        return cells.join(',');
-      });
-      return text('formula injection in cells', `${HEADER}\n${rows.join('\n')}\n`);
-    }),
+  fc.tuple(fc.constantFrom(...FORMULAS), fc.integer({ min: 0, max: 7 }), fc.nat(10)).map(([f, col, n]) => {
+    const rows = Array.from({ length: n + 1 }, (_, i) => {
+      const cells = [`C${String((i % 10) + 1).padStart(3, '0')}`, ...goodCells];
+      cells[col] = f.includes(',') || f.includes('"') ? `"${f.replace(/"/g, '""')}"` : f;
+      return cells.join(',');
+    });
+    return text('formula injection in cells', `${HEADER}\n${rows.join('\n')}\n`);
+  }),
   fc.constantFrom('', '\n', '\r\n\r\n', '\uFEFF').map((s) => text('empty file / only a header', s)),
   fc.constantFrom(HEADER, `${HEADER}\n`, `\uFEFF${HEADER}\r\n`, `${HEADER}\n,,,,,,,,\n`).map((s) => text('empty file / only a header', s)),
   fc
@@ -87,18 +101,30 @@ const measurementFile: fc.Arbitrary<CsvFile> = fc.oneof(
 );
 
 const lotFile: fc.Arbitrary<CsvFile> = fc.oneof(
-  fc.array(fc.constantFrom('Serial No', 'code', 'id', 'x', 'lot', 'S/N'), { minLength: 2, maxLength: 6 }).map((h) => text('wrong columns', `${h.join(',')}\n${h.map(() => 'Q1').join(',')}\n`)),
-  fc.nat(10).map((n) => ({ kind: 'UTF-16 with BOM', bytes: Buffer.from(`\uFEFFserial\n${Array.from({ length: n + 1 }, (_, i) => `Q${i}`).join('\n')}\n`, 'utf16le') })),
-  fc.nat(10).map((n) => ({ kind: 'Latin-1 bytes', bytes: Buffer.from(`serial\n${Array.from({ length: n + 1 }, (_, i) => `Q\u00e9${i}`).join('\n')}\n`, 'latin1') })),
+  fc
+    .array(fc.constantFrom('Serial No', 'code', 'id', 'x', 'lot', 'S/N'), { minLength: 2, maxLength: 6 })
+    .map((h) => text('wrong columns', `${h.join(',')}\n${h.map(() => 'Q1').join(',')}\n`)),
+  fc.nat(10).map((n) => ({
+    kind: 'UTF-16 with BOM',
+    bytes: Buffer.from(`\uFEFFserial\n${Array.from({ length: n + 1 }, (_, i) => `Q${i}`).join('\n')}\n`, 'utf16le'),
+  })),
+  fc.nat(10).map((n) => ({
+    kind: 'Latin-1 bytes',
+    bytes: Buffer.from(`serial\n${Array.from({ length: n + 1 }, (_, i) => `Q\u00e9${i}`).join('\n')}\n`, 'latin1'),
+  })),
   // Formula-looking serials together with a serial already in the lot: the file is refused as a whole.
-  fc.tuple(fc.constantFrom(...FORMULAS), fc.nat(5)).map(([f, n]) =>
-    text('formula injection in cells', `serial\n${Array.from({ length: n + 1 }, () => `"${f.replace(/"/g, '""')}"`).join('\n')}\nC001\n`),
-  ),
+  fc
+    .tuple(fc.constantFrom(...FORMULAS), fc.nat(5))
+    .map(([f, n]) =>
+      text('formula injection in cells', `serial\n${Array.from({ length: n + 1 }, () => `"${f.replace(/"/g, '""')}"`).join('\n')}\nC001\n`),
+    ),
   fc.constantFrom('', '\n', '\r\n', '\uFEFF', 'serial', 'serial\n', 'SERIAL\r\n\r\n').map((s) => text('empty file / only a header', s)),
   fc
     .string({ unit: fc.constantFrom('Q', '1', ',', '"', '\n', '\r', ' ', '\u0000', '\t', 'x'), maxLength: 300 })
     .map((s) => text('random CSV-ish text', `serial\nC001\n${s}`)),
-  fc.uint8Array({ minLength: 1, maxLength: 2048 }).map((b) => ({ kind: 'binary garbage', bytes: Buffer.concat([Buffer.from('serial\nC001\n'), Buffer.from(b)]) })),
+  fc
+    .uint8Array({ minLength: 1, maxLength: 2048 })
+    .map((b) => ({ kind: 'binary garbage', bytes: Buffer.concat([Buffer.from('serial\nC001\n'), Buffer.from(b)]) })),
 );
 
 const megabyteOfGarbage = (seed: number): Buffer => {
@@ -200,14 +226,24 @@ const wellFormed = (file: string) => `${part('file', file, 'rp.csv')}--${B}--\r\
 const malformedMultipart: fc.Arbitrary<{ kind: string; body: string | Buffer; contentType: string }> = fc.oneof(
   // Cut before the part's closing delimiter, so the file itself is incomplete. (A body cut only
   // inside the final "--boundary--" still carries the whole file; busboy accepts it, rightly.)
-  fc
-    .integer({ min: 1, max: wellFormed(REFUSED_EVERYWHERE).indexOf(`\r\n--${B}--`) })
-    .map((cut) => ({ kind: 'truncated multipart', body: wellFormed(REFUSED_EVERYWHERE).slice(0, cut), contentType: `multipart/form-data; boundary=${B}` })),
-  fc.constantFrom('multipart/form-data', 'multipart/form-data; boundary=', 'multipart/form-data; boundary=Other', 'multipart/mixed; boundary=x', 'multipart/form-data; boundary="unterminated').map((ct) => ({
-    kind: 'wrong or missing boundary',
-    body: wellFormed(REFUSED_EVERYWHERE),
-    contentType: ct,
+  fc.integer({ min: 1, max: wellFormed(REFUSED_EVERYWHERE).indexOf(`\r\n--${B}--`) }).map((cut) => ({
+    kind: 'truncated multipart',
+    body: wellFormed(REFUSED_EVERYWHERE).slice(0, cut),
+    contentType: `multipart/form-data; boundary=${B}`,
   })),
+  fc
+    .constantFrom(
+      'multipart/form-data',
+      'multipart/form-data; boundary=',
+      'multipart/form-data; boundary=Other',
+      'multipart/mixed; boundary=x',
+      'multipart/form-data; boundary="unterminated',
+    )
+    .map((ct) => ({
+      kind: 'wrong or missing boundary',
+      body: wellFormed(REFUSED_EVERYWHERE),
+      contentType: ct,
+    })),
   fc
     .constantFrom(
       `--${B}\r\nContent-Disposition form-data name=file\r\n\r\nx\r\n--${B}--\r\n`,
@@ -218,12 +254,14 @@ const malformedMultipart: fc.Arbitrary<{ kind: string; body: string | Buffer; co
       '',
     )
     .map((body) => ({ kind: 'broken part headers', body, contentType: `multipart/form-data; boundary=${B}` })),
-  fc.constantFrom(
-    `${part('file', REFUSED_EVERYWHERE, 'a.csv')}${part('file', REFUSED_EVERYWHERE, 'b.csv')}--${B}--\r\n`,
-    `${part('upload', REFUSED_EVERYWHERE, 'a.csv')}--${B}--\r\n`,
-    `${Array.from({ length: 20 }, (_, i) => part(`f${i}`, 'x')).join('')}${part('file', REFUSED_EVERYWHERE, 'a.csv')}--${B}--\r\n`,
-    `${part('mapping', 'x'.repeat(70 * 1024))}${part('file', REFUSED_EVERYWHERE, 'a.csv')}--${B}--\r\n`,
-  ).map((body) => ({ kind: 'second file / unexpected field / too many fields', body, contentType: `multipart/form-data; boundary=${B}` })),
+  fc
+    .constantFrom(
+      `${part('file', REFUSED_EVERYWHERE, 'a.csv')}${part('file', REFUSED_EVERYWHERE, 'b.csv')}--${B}--\r\n`,
+      `${part('upload', REFUSED_EVERYWHERE, 'a.csv')}--${B}--\r\n`,
+      `${Array.from({ length: 20 }, (_, i) => part(`f${i}`, 'x')).join('')}${part('file', REFUSED_EVERYWHERE, 'a.csv')}--${B}--\r\n`,
+      `${part('mapping', 'x'.repeat(70 * 1024))}${part('file', REFUSED_EVERYWHERE, 'a.csv')}--${B}--\r\n`,
+    )
+    .map((body) => ({ kind: 'second file / unexpected field / too many fields', body, contentType: `multipart/form-data; boundary=${B}` })),
 );
 
 describe('malformed multipart envelopes on every upload route', () => {
@@ -257,11 +295,23 @@ describe('exports neutralise spreadsheet formulas', () => {
     const eng = await t.signIn('engineer');
     const formula = "=cmd|' /C calc'!A0";
     const type = await eng.post('/api/device-types').send({
-      partNumber: '@SUM(A1:A9)', polarity: 'NPN', bvcboV: 100, bvceoV: 60, bveboV: 5, icMaxA: 3, pMaxW: 40, tjMaxC: 150,
-      thetaJcCPerW: 3.125, thetaJaCPerW: 62.5, betaRef: 70, betaRefIcA: 1,
+      partNumber: '@SUM(A1:A9)',
+      polarity: 'NPN',
+      bvcboV: 100,
+      bvceoV: 60,
+      bveboV: 5,
+      icMaxA: 3,
+      pMaxW: 40,
+      tjMaxC: 150,
+      thetaJcCPerW: 3.125,
+      thetaJaCPerW: 62.5,
+      betaRef: 70,
+      betaRefIcA: 1,
     });
     expect(type.status).toBe(201);
-    const lot = await eng.post('/api/lots').send({ code: formula, deviceTypeId: type.body.id, quantity: 10, notes: '+HYPERLINK("http://evil.example")', dateCode: '-2+3' });
+    const lot = await eng
+      .post('/api/lots')
+      .send({ code: formula, deviceTypeId: type.body.id, quantity: 10, notes: '+HYPERLINK("http://evil.example")', dateCode: '-2+3' });
     expect(lot.status).toBe(201);
     const mgr = await t.signIn('manager');
     const res = await mgr.get(`/api/analytics/lots/${lot.body.id}/report.csv`).buffer(true);

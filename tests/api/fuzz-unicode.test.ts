@@ -49,7 +49,9 @@ beforeAll(async () => {
 }, 30_000);
 
 afterAll(async () => {
-  console.log(`${tally.report(`API unicode fuzz (seed ${FUZZ_SEED})`)}\n  ${reconciled} table-count reconciliations, all equal\n  ${timing.join('\n  ')}`);
+  console.log(
+    `${tally.report(`API unicode fuzz (seed ${FUZZ_SEED})`)}\n  ${reconciled} table-count reconciliations, all equal\n  ${timing.join('\n  ')}`,
+  );
   await srv?.close();
   await t?.close();
 });
@@ -60,7 +62,9 @@ describe('hostile strings in otherwise valid bodies', () => {
     const problems: string[] = [];
     const specs = bodySpecs(ids);
     // Creates and checks (not sign-in, user edits, revocation or run actions, which need a state to act on).
-    const targets = t.routes.filter((r) => bodySpecOf(specs, r) && r.method !== 'put' && !/sign-in|\/users\/:id|revoke|\/runs/.test(r.path));
+    const targets = t.routes.filter(
+      (r) => bodySpecOf(specs, r) && r.method !== 'put' && !/sign-in|\/users\/:id|revoke|\/runs/.test(r.path),
+    );
     for (const r of targets) {
       const key = keyOf(r);
       const spec = bodySpecOf(specs, r)!;
@@ -103,5 +107,4 @@ describe('hostile strings in otherwise valid bodies', () => {
     timing.push(`unicode in valid bodies: ${Date.now() - started} ms`);
     failWith(problems);
   }, 120_000);
-
 });

@@ -70,7 +70,9 @@ describe('malformed bodies on every POST/PUT/PATCH route', () => {
   it('the inventory has body routes; JSON ones without a sample body are still fuzzed with generic garbage', () => {
     expect(bodyRoutes().length).toBeGreaterThanOrEqual(20);
     const specs = bodySpecs(ids);
-    const unguided = bodyRoutes().filter((r) => !bodySpecOf(specs, r) && !NO_JSON_BODY.has(keyOf(r))).map(keyOf);
+    const unguided = bodyRoutes()
+      .filter((r) => !bodySpecOf(specs, r) && !NO_JSON_BODY.has(keyOf(r)))
+      .map(keyOf);
     if (unguided.length) console.warn(`fuzz: no sample body for ${unguided.join(', ')} (fuzzed with generic garbage only)`);
   });
 
@@ -97,7 +99,8 @@ describe('malformed bodies on every POST/PUT/PATCH route', () => {
         ms.set(q.kind, (ms.get(q.kind) ?? 0) + Date.now() - t0);
         // A route that takes no JSON body may ignore the garbage (and answer 2xx), never 5xx.
         const p = noBody && q.status === undefined ? replyProblems(res.status, res.body) : refusalProblems(res.status, res.body, q.status);
-        if (p.length) problems.push(`${key} #${i} [${q.kind}] ${show(q.raw ?? q.json)}${q.contentType ? ` (${q.contentType})` : ''} → ${p.join('; ')}`);
+        if (p.length)
+          problems.push(`${key} #${i} [${q.kind}] ${show(q.raw ?? q.json)}${q.contentType ? ` (${q.contentType})` : ''} → ${p.join('; ')}`);
       });
       const after = await tableCounts(t.ctx.ds);
       reconciled++;
@@ -105,7 +108,9 @@ describe('malformed bodies on every POST/PUT/PATCH route', () => {
       const health = await srv.clients.public.call('get', '/api/health');
       if (health.status !== 200) problems.push(`${key}: /api/health answered ${health.status} after the batch`);
     }
-    timing.push(`malformed bodies: ${Date.now() - started} ms (request time per category: ${[...ms].map(([k, v]) => `${k} ${v} ms`).join(', ')})`);
+    timing.push(
+      `malformed bodies: ${Date.now() - started} ms (request time per category: ${[...ms].map(([k, v]) => `${k} ${v} ms`).join(', ')})`,
+    );
     failWith(problems);
   }, 120_000);
 

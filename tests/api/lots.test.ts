@@ -9,8 +9,18 @@ beforeAll(async () => {
   t = await createTestApp();
   const eng = await t.signIn('engineer');
   const res = await eng.post('/api/device-types').send({
-    partNumber: 'HPD-3P90', polarity: 'PNP', bvcboV: 100, bvceoV: 60, bveboV: 5, icMaxA: 3, pMaxW: 40, tjMaxC: 150,
-    thetaJcCPerW: 3.125, thetaJaCPerW: 62.5, betaRef: 70, betaRefIcA: 1,
+    partNumber: 'HPD-3P90',
+    polarity: 'PNP',
+    bvcboV: 100,
+    bvceoV: 60,
+    bveboV: 5,
+    icMaxA: 3,
+    pMaxW: 40,
+    tjMaxC: 150,
+    thetaJcCPerW: 3.125,
+    thetaJaCPerW: 62.5,
+    betaRef: 70,
+    betaRefIcA: 1,
   });
   expect(res.status).toBe(201);
   typeId = res.body.id;
@@ -27,7 +37,11 @@ describe('lots', () => {
   it('creates a lot with a typed list of serials (trimmed), audited', async () => {
     const eng = await t.signIn('engineer');
     const res = await eng.post('/api/lots').send({
-      code: 'HG2609-D', deviceTypeId: typeId, quantity: 3000, dateCode: '2609', serials: ['D0002', ' D0001 ', 'D0003'],
+      code: 'HG2609-D',
+      deviceTypeId: typeId,
+      quantity: 3000,
+      dateCode: '2609',
+      serials: ['D0002', ' D0001 ', 'D0003'],
     });
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ code: 'HG2609-D', partNumber: 'HPD-3P90', quantity: 3000, deviceCount: 3 });
@@ -68,14 +82,20 @@ describe('lots', () => {
   it('refuses a new lot whose list has bad rows: reports every one, stores nothing (not even the lot)', async () => {
     const eng = await t.signIn('engineer');
     const before = await tableCounts(t.ctx.ds);
-    const res = await eng.post('/api/lots').send({ code: 'HG2611-X', deviceTypeId: typeId, quantity: 100, serials: ['X1', '', 'X1', 'Y'.repeat(41), 'X2'] });
+    const res = await eng
+      .post('/api/lots')
+      .send({ code: 'HG2611-X', deviceTypeId: typeId, quantity: 100, serials: ['X1', '', 'X1', 'Y'.repeat(41), 'X2'] });
     expect(res.status).toBe(422);
     expect(res.body.error.rows).toEqual([
       { row: 2, serial: '', reason: 'Empty serial' },
       { row: 3, serial: 'X1', reason: 'Duplicate of row 1' },
       { row: 4, serial: 'Y'.repeat(41), reason: 'Longer than 40 characters' },
     ]);
-    expect(res.body.error.fields).toEqual({ 'serials.2': ['Empty serial'], 'serials.3': ['Duplicate of row 1'], 'serials.4': ['Longer than 40 characters'] });
+    expect(res.body.error.fields).toEqual({
+      'serials.2': ['Empty serial'],
+      'serials.3': ['Duplicate of row 1'],
+      'serials.4': ['Longer than 40 characters'],
+    });
     expect(res.body.error.message).toBe('3 of 5 serials are not usable; nothing was stored. First: row 2 — Empty serial.');
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
   });
@@ -86,7 +106,9 @@ describe('lots', () => {
     const big = await eng.post('/api/lots').send({ code: 'HG2611-Y', deviceTypeId: typeId, quantity: 2, serials: ['A', 'B', 'C'] });
     expect(big.status).toBe(422);
     expect(big.body.error.message).toBe('Lot HG2611-Y holds 2 devices; 3 more would make 3. Check the list against the lot traveller.');
-    const unknown = await eng.post('/api/lots').send({ code: 'HG2611-Z', deviceTypeId: '00000000-0000-4000-8000-000000000000', quantity: 2 });
+    const unknown = await eng
+      .post('/api/lots')
+      .send({ code: 'HG2611-Z', deviceTypeId: '00000000-0000-4000-8000-000000000000', quantity: 2 });
     expect(unknown.status).toBe(422);
     expect(unknown.body.error.message).toBe('The device type for this lot was not found. Choose one from the list.');
     const invalid = await eng.post('/api/lots').send({ code: '', deviceTypeId: 'x', quantity: 0 });
@@ -113,10 +135,14 @@ describe('lots', () => {
     it('a good file with a "serial" header among other columns adds every serial', async () => {
       const eng = await t.signIn('engineer');
       const file = '\ufeffsocket,Serial,note\r\n1,D0101,ok\r\n2,"D0102",\r\n3,D0103,x\r\n';
-      const res = await eng.post(`/api/lots/${lotId}/serials/csv`).attach('file', csv(file), { filename: 'hg2609-d.csv', contentType: 'text/csv' });
+      const res = await eng
+        .post(`/api/lots/${lotId}/serials/csv`)
+        .attach('file', csv(file), { filename: 'hg2609-d.csv', contentType: 'text/csv' });
       expect(res.status).toBe(200);
       expect(res.body.deviceCount).toBe(8);
-      const audits = await t.ctx.ds.getRepository(AuditLogEntity).find({ where: { action: 'lot.serials.add', entityId: lotId }, order: { id: 'DESC' } });
+      const audits = await t.ctx.ds
+        .getRepository(AuditLogEntity)
+        .find({ where: { action: 'lot.serials.add', entityId: lotId }, order: { id: 'DESC' } });
       expect(audits[0].details).toMatchObject({ added: 3, source: 'file', fileName: 'hg2609-d.csv' });
     });
 
@@ -170,7 +196,9 @@ describe('lots', () => {
       const before = await tableCounts(t.ctx.ds);
       const wide = await eng.post(`/api/lots/${lotId}/serials/csv`).attach('file', csv('a,b\n1,2\n'), 'wide.csv');
       expect(wide.status).toBe(400);
-      expect(wide.body.error.message).toBe('The file has 2 columns and none is headed "serial". Add that header, or keep a single column of serials.');
+      expect(wide.body.error.message).toBe(
+        'The file has 2 columns and none is headed "serial". Add that header, or keep a single column of serials.',
+      );
       const empty = await eng.post(`/api/lots/${lotId}/serials/csv`).attach('file', csv('\n'), 'empty.csv');
       expect(empty.status).toBe(400);
       expect(empty.body.error.message).toBe('The file is empty: give one serial per line, or a column headed "serial".');

@@ -19,7 +19,10 @@ let mail: MailService;
 
 beforeAll(async () => {
   sink = await startMailSink({ port: 0 });
-  t = await createTestApp({ smtp: { host: '127.0.0.1', port: sink.port, from: 'Emberlot <emberlot@harrowgate-lab.example>' } }, { mail: { attempts: 3, backoffMs: 10, timeoutMs: 2000 } });
+  t = await createTestApp(
+    { smtp: { host: '127.0.0.1', port: sink.port, from: 'Emberlot <emberlot@harrowgate-lab.example>' } },
+    { mail: { attempts: 3, backoffMs: 10, timeoutMs: 2000 } },
+  );
   mail = t.ctx.services.mail;
 });
 afterAll(async () => {
@@ -36,7 +39,9 @@ describe('MailService', () => {
       text: 'Junction estimate 141.2 °C against a rating of 150.0 °C.\nLeave the socket de-energised.',
       kind: 'runaway-trip',
     });
-    expect(row).toEqual(expect.objectContaining({ status: 'sent', error: null, kind: 'runaway-trip', toAddress: 'operator@harrowgate-lab.example' }));
+    expect(row).toEqual(
+      expect.objectContaining({ status: 'sent', error: null, kind: 'runaway-trip', toAddress: 'operator@harrowgate-lab.example' }),
+    );
     const got = await sink.waitFor((m) => m.to.includes('operator@harrowgate-lab.example'));
     expect(got.subject).toBe('[Emberlot] Critical: Socket tripped: runaway (rig OV-03, socket 5)');
     expect(got.text).toContain('Junction estimate 141.2 °C against a rating of 150.0 °C.');
@@ -82,7 +87,13 @@ describe('GET /api/mail', () => {
     expect(res.body.total).toBe(5);
     expect(res.body.sent).toBe(2);
     expect(res.body.failed).toBe(3);
-    expect(res.body.items.map((m: { subject: string }) => m.subject)).toEqual(['Two', 'One', 'Accepted', 'Refused', expect.stringMatching(/^\[Emberlot\] Critical/)]);
+    expect(res.body.items.map((m: { subject: string }) => m.subject)).toEqual([
+      'Two',
+      'One',
+      'Accepted',
+      'Refused',
+      expect.stringMatching(/^\[Emberlot\] Critical/),
+    ]);
     const failed = await admin.get('/api/mail?status=failed');
     expect(failed.body.items.map((m: { subject: string }) => m.subject)).toEqual(['Two', 'One', 'Refused']);
     expect(failed.body.items[2].error).toMatch(/450/);
@@ -99,7 +110,8 @@ describe('mail sink', () => {
   it('decodes encoded-word subjects and quoted-printable bodies', () => {
     expect(decodeEncodedWords('=?UTF-8?Q?Tj_141=C2=B0C?=')).toBe('Tj 141°C');
     expect(decodeEncodedWords('=?UTF-8?B?VGogMTQxwrBD?=')).toBe('Tj 141°C');
-    const raw = 'Subject: x\r\nContent-Type: text/plain; charset=utf-8\r\nContent-Transfer-Encoding: quoted-printable\r\n\r\n141.2 =C2=B0C, a very long line that goes on=\r\n and on';
+    const raw =
+      'Subject: x\r\nContent-Type: text/plain; charset=utf-8\r\nContent-Transfer-Encoding: quoted-printable\r\n\r\n141.2 =C2=B0C, a very long line that goes on=\r\n and on';
     expect(readPlainText(raw).text).toBe('141.2 °C, a very long line that goes on and on');
   });
 
@@ -124,7 +136,12 @@ describe('mail sink', () => {
       expect(line).toMatch(/^\[mail-sink\] listening on smtp:\/\/127\.0\.0\.1:\d+/);
       const port = Number(/:(\d+),/.exec(line)![1]);
       const transport = nodemailer.createTransport({ host: '127.0.0.1', port, secure: false, ignoreTLS: true });
-      await transport.sendMail({ from: 'emberlot@harrowgate-lab.example', to: 'admin@harrowgate-lab.example', subject: 'Standalone check', text: 'Hello from the test.' });
+      await transport.sendMail({
+        from: 'emberlot@harrowgate-lab.example',
+        to: 'admin@harrowgate-lab.example',
+        subject: 'Standalone check',
+        text: 'Hello from the test.',
+      });
       transport.close();
       const files = fs.readdirSync(dir).filter((f) => f.endsWith('.eml'));
       expect(files).toHaveLength(1);

@@ -24,8 +24,21 @@ const BIAS_OFF = new Date('2026-02-10T08:00:00Z');
 async function makeType(m: EntityManager, partNumber: string) {
   return m.save(
     m.create(DeviceTypeEntity, {
-      partNumber, polarity: 'NPN', bvcboV: 140, bvceoV: 80, bveboV: 6, icMaxA: 1.5, pMaxW: 12.5, tjMaxC: 150,
-      thetaJcCPerW: 10, thetaJaCPerW: 83.3, betaRef: 120, betaRefIcA: 0.15, betaRefTC: 25, xtb: 1.6, icboRefA: 20e-9,
+      partNumber,
+      polarity: 'NPN',
+      bvcboV: 140,
+      bvceoV: 80,
+      bveboV: 6,
+      icMaxA: 1.5,
+      pMaxW: 12.5,
+      tjMaxC: 150,
+      thetaJcCPerW: 10,
+      thetaJaCPerW: 83.3,
+      betaRef: 120,
+      betaRefIcA: 0.15,
+      betaRefTC: 25,
+      xtb: 1.6,
+      icboRefA: 20e-9,
     }),
   );
 }
@@ -33,9 +46,21 @@ async function makeType(m: EntityManager, partNumber: string) {
 async function makePlan(m: EntityManager, deviceTypeId: string) {
   return m.save(
     m.create(StressPlanEntity, {
-      planKey: randomUUID(), version: 1, name: 'HTRB 145 °C test plan', kind: 'htrb', deviceTypeId, chamberC: 145, humidityPct: null,
-      bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 }, durationH: 1000, readPointsH: [0, 168, 500, 1000],
-      sampleSize: 10, acceptNumber: 0, criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 }, eaEv: 0.7, useC: 55,
+      planKey: randomUUID(),
+      version: 1,
+      name: 'HTRB 145 °C test plan',
+      kind: 'htrb',
+      deviceTypeId,
+      chamberC: 145,
+      humidityPct: null,
+      bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
+      durationH: 1000,
+      readPointsH: [0, 168, 500, 1000],
+      sampleSize: 10,
+      acceptNumber: 0,
+      criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
+      eaEv: 0.7,
+      useC: 55,
     }),
   );
 }
@@ -43,7 +68,14 @@ async function makePlan(m: EntityManager, deviceTypeId: string) {
 async function makeRig(m: EntityManager, code: string) {
   return m.save(
     m.create(RigEntity, {
-      code, name: code, socketCount: 64, maxTempC: 200, maxVoltageV: 800, mqttUsername: `rig-${code.toLowerCase()}`, mqttSecretHash: 'x', credentialsIssuedAt: new Date(),
+      code,
+      name: code,
+      socketCount: 64,
+      maxTempC: 200,
+      maxVoltageV: 800,
+      mqttUsername: `rig-${code.toLowerCase()}`,
+      mqttSecretHash: 'x',
+      credentialsIssuedAt: new Date(),
     }),
   );
 }
@@ -56,18 +88,38 @@ beforeAll(async () => {
     const rig = await makeRig(m, 'OV-91');
     const lot = await m.save(m.create(LotEntity, { code: 'HG9901-A', deviceTypeId: type.id, quantity: 100 }));
     const other = await m.save(m.create(LotEntity, { code: 'HG9901-B', deviceTypeId: type.id, quantity: 100 }));
-    const devices = await m.save(Array.from({ length: 12 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `A${String(i + 1).padStart(3, '0')}` })));
-    const otherDevices = await m.save(Array.from({ length: 3 }, (_, i) => m.create(DeviceEntity, { lotId: other.id, serial: `B${String(i + 1).padStart(3, '0')}` })));
+    const devices = await m.save(
+      Array.from({ length: 12 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `A${String(i + 1).padStart(3, '0')}` })),
+    );
+    const otherDevices = await m.save(
+      Array.from({ length: 3 }, (_, i) => m.create(DeviceEntity, { lotId: other.id, serial: `B${String(i + 1).padStart(3, '0')}` })),
+    );
     // Ten devices on the run; A011 and A012 are registered but not on it.
     const run = await insertHistoryRun(m, {
-      code: 'HTRB-T-01', plan, deviceType: type, rig, lots: [{ lot, devices: devices.slice(0, 10), drift: { hfeDriftPctPer1000h: 0, leakageGrowthPer1000h: 1 } }],
-      state: 'stressing', startedAt: new Date('2026-01-01T00:00:00Z'), stressHours: 600, measuredH: [], noise: 0,
+      code: 'HTRB-T-01',
+      plan,
+      deviceType: type,
+      rig,
+      lots: [{ lot, devices: devices.slice(0, 10), drift: { hfeDriftPctPer1000h: 0, leakageGrowthPer1000h: 1 } }],
+      state: 'stressing',
+      startedAt: new Date('2026-01-01T00:00:00Z'),
+      stressHours: 600,
+      measuredH: [],
+      noise: 0,
     });
     await m.update(RunEntity, { id: run.id }, { biasRemovedAt: BIAS_OFF });
     runId = run.id;
     const run2 = await insertHistoryRun(m, {
-      code: 'HTRB-T-02', plan, deviceType: type, rig: null, lots: [{ lot: other, devices: otherDevices, drift: { hfeDriftPctPer1000h: 0, leakageGrowthPer1000h: 1 } }],
-      state: 'stressing', startedAt: new Date('2026-01-01T00:00:00Z'), stressHours: 100, measuredH: [], noise: 0,
+      code: 'HTRB-T-02',
+      plan,
+      deviceType: type,
+      rig: null,
+      lots: [{ lot: other, devices: otherDevices, drift: { hfeDriftPctPer1000h: 0, leakageGrowthPer1000h: 1 } }],
+      state: 'stressing',
+      startedAt: new Date('2026-01-01T00:00:00Z'),
+      stressHours: 100,
+      measuredH: [],
+      noise: 0,
     });
     otherRunId = run2.id;
   });
@@ -82,7 +134,8 @@ const line = (serial: string, hfe: number | string, icbo: number | string = '20e
 const goodFile = (hfeBase = 120, at = '2025-12-31T20:00:00Z') =>
   [HEADER, ...Array.from({ length: 10 }, (_, i) => line(`A${String(i + 1).padStart(3, '0')}`, hfeBase + i, '20e-9', at))].join('\n') + '\n';
 
-const uploadPath = (h: number, preview = false, run = () => runId) => `/api/measurements/runs/${run()}/read-points/${h}/upload${preview ? '?preview=1' : ''}`;
+const uploadPath = (h: number, preview = false, run = () => runId) =>
+  `/api/measurements/runs/${run()}/read-points/${h}/upload${preview ? '?preview=1' : ''}`;
 
 describe('measurement upload', () => {
   it('stores a good time-zero file: every row inserted, the upload recorded and audited', async () => {
@@ -209,7 +262,16 @@ describe('measurement upload', () => {
   it('maps the file’s own headers and converts units chosen at upload (nA, mA, mV) to SI', async () => {
     const op = await t.signIn('operator');
     const file = ['Serial No;Gain;Ic mA;Vce;Leak nA;Vcb;Vsat mV;Temp', 'A010;117;150;5;22.5;112;225;25'].join('\r\n');
-    const mapping = { 'Serial No': 'serial', Gain: 'hfe', 'Ic mA': 'hfe_ic_a', Vce: 'hfe_vce_v', 'Leak nA': 'icbo_a', Vcb: 'icbo_vcb_v', 'Vsat mV': 'vcesat_v', Temp: 'temp_c' };
+    const mapping = {
+      'Serial No': 'serial',
+      Gain: 'hfe',
+      'Ic mA': 'hfe_ic_a',
+      Vce: 'hfe_vce_v',
+      'Leak nA': 'icbo_a',
+      Vcb: 'icbo_vcb_v',
+      'Vsat mV': 'vcesat_v',
+      Temp: 'temp_c',
+    };
     const res = await op
       .post(uploadPath(168, true))
       .field('mapping', JSON.stringify(mapping))
@@ -260,11 +322,23 @@ describe('measurement upload', () => {
 });
 
 describe('manual entry', () => {
-  const entry = (serial: string, hfe: number) => ({ serial, hfe, hfeIcA: 0.15, hfeVceV: 5, icboA: 21e-9, icboVcbV: 112, vcesatV: 0.221, measuredC: 25, measuredAt: '2026-02-12T09:00:00Z' });
+  const entry = (serial: string, hfe: number) => ({
+    serial,
+    hfe,
+    hfeIcA: 0.15,
+    hfeVceV: 5,
+    icboA: 21e-9,
+    icboVcbV: 112,
+    vcesatV: 0.221,
+    measuredC: 25,
+    measuredAt: '2026-02-12T09:00:00Z',
+  });
 
   it('stores a few devices typed in by hand', async () => {
     const eng = await t.signIn('engineer');
-    const res = await eng.post(`/api/measurements/runs/${runId}/read-points/168/measurements`).send([entry('A002', 119), entry('A003', 120)]);
+    const res = await eng
+      .post(`/api/measurements/runs/${runId}/read-points/168/measurements`)
+      .send([entry('A002', 119), entry('A003', 120)]);
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ inserted: 2, rejected: 0 });
   });
@@ -272,7 +346,9 @@ describe('manual entry', () => {
   it('all or nothing: one bad serial refuses the whole entry with a reason per row', async () => {
     const eng = await t.signIn('engineer');
     const before = await tableCounts(t.ctx.ds);
-    const res = await eng.post(`/api/measurements/runs/${runId}/read-points/168/measurements`).send([entry('A005', 119), entry('NOPE', 120)]);
+    const res = await eng
+      .post(`/api/measurements/runs/${runId}/read-points/168/measurements`)
+      .send([entry('A005', 119), entry('NOPE', 120)]);
     expect(res.status).toBe(422);
     expect(res.body.error.rows[1].reasons[0]).toMatch(/Unknown serial NOPE/);
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
@@ -280,7 +356,9 @@ describe('manual entry', () => {
 
   it('negative leakage in the JSON body is a 400 field error', async () => {
     const eng = await t.signIn('engineer');
-    const res = await eng.post(`/api/measurements/runs/${runId}/read-points/168/measurements`).send([{ ...entry('A005', 119), icboA: -1e-9 }]);
+    const res = await eng
+      .post(`/api/measurements/runs/${runId}/read-points/168/measurements`)
+      .send([{ ...entry('A005', 119), icboA: -1e-9 }]);
     expect(res.status).toBe(400);
     expect(res.body.error.fields['0.icboA']).toEqual(['Leakage cannot be negative']);
   });
@@ -292,7 +370,11 @@ describe('drift per device', () => {
     // A010 measured at 35 °C with a gain that, referred to 25 °C, equals its time-zero 129: no real change.
     const warmHfe = 129 * Math.pow((35 + 273.15) / (25 + 273.15), 1.6);
     // A001's leakage grows from 20 nA to 300 nA: change 280 nA > max(20 nA, 200 nA) → fails at 500 h.
-    const file = [HEADER, line('A010', warmHfe.toFixed(3), '20e-9', '2026-02-12T08:00:00Z', 35), line('A001', 120, '300e-9', '2026-02-12T08:00:00Z')].join('\n');
+    const file = [
+      HEADER,
+      line('A010', warmHfe.toFixed(3), '20e-9', '2026-02-12T08:00:00Z', 35),
+      line('A001', 120, '300e-9', '2026-02-12T08:00:00Z'),
+    ].join('\n');
     expect((await op.post(uploadPath(500)).attach('file', Buffer.from(file), 'rp500b.csv')).status).toBe(201);
     const res = await op.get(`/api/measurements/runs/${runId}/drift`);
     expect(res.status).toBe(200);
@@ -314,7 +396,12 @@ describe('drift per device', () => {
     const res = await op.get(`/api/measurements/runs/${runId}`);
     expect(res.status).toBe(200);
     expect(res.body.devices).toHaveLength(10);
-    expect(res.body.readPoints.map((r: { hours: number; reached: boolean }) => [r.hours, r.reached])).toEqual([[0, true], [168, true], [500, true], [1000, false]]);
+    expect(res.body.readPoints.map((r: { hours: number; reached: boolean }) => [r.hours, r.reached])).toEqual([
+      [0, true],
+      [168, true],
+      [500, true],
+      [1000, false],
+    ]);
     const list = await op.get('/api/measurements/runs');
     expect(list.body.items.map((r: { code: string }) => r.code)).toEqual(expect.arrayContaining(['HTRB-T-01', 'HTRB-T-02']));
   });

@@ -190,7 +190,9 @@ describe('plans', () => {
     expect(res.body.versions).toEqual([expect.objectContaining({ id: v1.id, version: 1, current: true })]);
     const row = await t.ctx.ds.getRepository(StressPlanEntity).findOneByOrFail({ id: v1.id });
     const expected = checkPlan(deviceTypeInputSchema.parse(demo('HPD-2N140')), planInputSchema.parse(htrbBody()));
-    expect(row.checkResult!.findings).toEqual(JSON.parse(JSON.stringify(expected.findings.map((f) => ({ ...f, order: Object.keys(f.numbers) })))));
+    expect(row.checkResult!.findings).toEqual(
+      JSON.parse(JSON.stringify(expected.findings.map((f) => ({ ...f, order: Object.keys(f.numbers) })))),
+    );
     expect(row.checkResult!.constants.warnFractionOfLimit).toBe(0.9);
     expect(row.checkResult!.device.ratings.bvcboV).toBe(140);
     const audit = await t.ctx.ds.getRepository(AuditLogEntity).findOneByOrFail({ action: 'plan.create', entityId: v1.id });
@@ -238,7 +240,10 @@ describe('plans', () => {
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ planKey: v1.planKey, version: 2, current: true, chamberC: 140 });
     expect(res.body.id).not.toBe(v1.id);
-    expect(res.body.versions.map((v: { version: number; current: boolean }) => [v.version, v.current])).toEqual([[2, true], [1, false]]);
+    expect(res.body.versions.map((v: { version: number; current: boolean }) => [v.version, v.current])).toEqual([
+      [2, true],
+      [1, false],
+    ]);
 
     const rowAfter = await t.ctx.ds.getRepository(StressPlanEntity).findOneByOrFail({ id: v1.id });
     expect({ ...rowAfter, current: true }).toEqual(rowBefore); // only the current flag moved
@@ -269,7 +274,9 @@ describe('plans', () => {
     const current = list.body.items.find((p: { planKey: string }) => p.planKey === v1.planKey);
     const moved = await eng.post(`/api/plans/${current.id}/versions`).send(htrbBody({ deviceTypeId: ids['HPD-3P90'], bias: { vcbV: 80 } }));
     expect(moved.status).toBe(422);
-    expect(moved.body.error.message).toBe("A new version keeps the plan's device type (HPD-2N140). Start a new plan for another device type.");
+    expect(moved.body.error.message).toBe(
+      "A new version keeps the plan's device type (HPD-2N140). Start a new plan for another device type.",
+    );
     const missing = await eng.post('/api/plans/00000000-0000-4000-8000-000000000000/versions').send(htrbBody());
     expect(missing.status).toBe(404);
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
@@ -327,7 +334,10 @@ describe('demo seed', () => {
       expect(blocked.map((r) => r.name)).toEqual(['DRAFT powered life, forced IB 0.6 mA, 85 °C chamber']);
       expect(blocked[0].checkResult?.findings.find((f) => f.code === 'thermal-runaway')?.severity).toBe('block');
       const htrb = rows.filter((r) => r.kind === 'htrb').sort((a, b) => a.version - b.version);
-      expect(htrb.map((r) => [r.version, r.current])).toEqual([[1, false], [2, true]]);
+      expect(htrb.map((r) => [r.version, r.current])).toEqual([
+        [1, false],
+        [2, true],
+      ]);
       expect(htrb[0].planKey).toBe(htrb[1].planKey);
       expect(htrb[0].createdAt.getTime()).toBeLessThan(htrb[1].createdAt.getTime());
       for (const r of rows) expect(r.createdById).not.toBeNull();

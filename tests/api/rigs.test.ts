@@ -38,7 +38,13 @@ describe('registering a rig issues MQTT credentials once', () => {
     const admin = await t.signIn('admin');
     const res = await admin.post('/api/rigs').send(OVEN);
     expect(res.status).toBe(201);
-    expect(res.body.rig).toMatchObject({ code: 'OV-11', socketCount: 32, mqttUsername: 'rig-ov-11', credentialsRevokedAt: null, online: false });
+    expect(res.body.rig).toMatchObject({
+      code: 'OV-11',
+      socketCount: 32,
+      mqttUsername: 'rig-ov-11',
+      credentialsRevokedAt: null,
+      online: false,
+    });
     expect(res.body.credentials.username).toBe('rig-ov-11');
     secret = res.body.credentials.secret;
     expect(secret).toMatch(/^[A-Za-z0-9_-]{32}$/);
@@ -134,7 +140,9 @@ describe('maintenance windows', () => {
 
   it('creates, lists and deletes a window (audited); readers can list', async () => {
     const admin = await t.signIn('admin');
-    const res = await admin.post('/api/rigs/OV-11/maintenance').send({ startsAt: inDays(2), endsAt: inDays(3), reason: 'Thermocouple calibration' });
+    const res = await admin
+      .post('/api/rigs/OV-11/maintenance')
+      .send({ startsAt: inDays(2), endsAt: inDays(3), reason: 'Thermocouple calibration' });
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ rigCode: 'OV-11', reason: 'Thermocouple calibration' });
     const list = await (await t.signIn('engineer')).get('/api/rigs/OV-11/maintenance');
@@ -164,7 +172,11 @@ describe('maintenance windows', () => {
     expect(long.status).toBe(400);
     const noDate = await admin.post('/api/rigs/OV-11/maintenance').send({ startsAt: 'tomorrow', endsAt: inDays(2), reason: 'Fan' });
     expect(noDate.status).toBe(400);
-    const eng = await (await t.signIn('engineer')).post('/api/rigs/OV-11/maintenance').send({ startsAt: inDays(20), endsAt: inDays(21), reason: 'Fan' });
+    const eng = await (
+      await t.signIn('engineer')
+    )
+      .post('/api/rigs/OV-11/maintenance')
+      .send({ startsAt: inDays(20), endsAt: inDays(21), reason: 'Fan' });
     expect(eng.status).toBe(403);
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
   });
@@ -172,7 +184,9 @@ describe('maintenance windows', () => {
 
 describe('telemetry admin views', () => {
   it('rejections and counters: admin and engineer only', async () => {
-    await t.ctx.ds.query(`INSERT INTO rejected_messages (topic, rig_code, reason, excerpt) VALUES ('emberlot/v1/rigs/OV-11/telemetry', 'OV-11', 'telemetry: payload is not valid JSON', '{"v":1,')`);
+    await t.ctx.ds.query(
+      `INSERT INTO rejected_messages (topic, rig_code, reason, excerpt) VALUES ('emberlot/v1/rigs/OV-11/telemetry', 'OV-11', 'telemetry: payload is not valid JSON', '{"v":1,')`,
+    );
     await t.ctx.ds.query(`INSERT INTO system_counters (name, value) VALUES ('ingest_rejected', 1)`);
     const admin = await t.signIn('admin');
     const rej = await admin.get('/api/telemetry/rejections?rig=OV-11');

@@ -74,7 +74,12 @@ async function land(chambers: number[], opts: { reboot?: boolean } = {}) {
 
 const run = () => t.ctx.ds.getRepository(RunEntity).findOneByOrFail({ id: runId });
 const socketHours = async () =>
-  Object.fromEntries((await t.ctx.ds.getRepository(RunSocketEntity).find({ where: { runId }, order: { socketIndex: 'ASC' } })).map((s) => [s.socketIndex, s.accruedHours]));
+  Object.fromEntries(
+    (await t.ctx.ds.getRepository(RunSocketEntity).find({ where: { runId }, order: { socketIndex: 'ASC' } })).map((s) => [
+      s.socketIndex,
+      s.accruedHours,
+    ]),
+  );
 const step = async (s: RunScheduler) => {
   await s.pass();
   await s.idle();
@@ -88,26 +93,53 @@ beforeAll(async () => {
   t.ctx.events.on(RUN_EVENT, (e: RunEvent) => events.push(e));
   const eng = await t.signIn('engineer');
   const type = await eng.post('/api/device-types').send(DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140'));
-  const lot = await eng.post('/api/lots').send({ code: 'HG2611-A', deviceTypeId: type.body.id, quantity: 100, serials: ['A0001', 'A0002', 'A0003'] });
+  const lot = await eng
+    .post('/api/lots')
+    .send({ code: 'HG2611-A', deviceTypeId: type.body.id, quantity: 100, serials: ['A0001', 'A0002', 'A0003'] });
   const plan = await eng.post('/api/plans').send({
-    name: 'HTRB 145 °C short', kind: 'htrb', deviceTypeId: type.body.id, chamberC: 145, bias: { vcbV: 112, tolerancePct: 5 },
-    durationH: 10, readPointsH: [0, 4, 10], sampleSize: 3, acceptNumber: 0, criteria: {},
+    name: 'HTRB 145 °C short',
+    kind: 'htrb',
+    deviceTypeId: type.body.id,
+    chamberC: 145,
+    bias: { vcbV: 112, tolerancePct: 5 },
+    durationH: 10,
+    readPointsH: [0, 4, 10],
+    sampleSize: 3,
+    acceptNumber: 0,
+    criteria: {},
   });
   expect(plan.status).toBe(201);
   rigId = (
     await t.ctx.ds.getRepository(RigEntity).save({
-      code: 'OV-01', name: 'Oven 1', socketCount: 4, maxTempC: 200, maxVoltageV: 800, mqttUsername: 'rig-ov-01', mqttSecretHash: 'x', credentialsIssuedAt: new Date(), online: true,
+      code: 'OV-01',
+      name: 'Oven 1',
+      socketCount: 4,
+      maxTempC: 200,
+      maxVoltageV: 800,
+      mqttUsername: 'rig-ov-01',
+      mqttSecretHash: 'x',
+      credentialsIssuedAt: new Date(),
+      online: true,
     })
   ).id;
   const booked = await eng.post('/api/runs').send({ planId: plan.body.id, lotIds: [lot.body.id], sampleSize: 3, rigId });
   expect(booked.status).toBe(201);
   runId = booked.body.id;
   const op = await t.signIn('operator');
-  const loaded = await op.put(`/api/runs/${runId}/sockets`).send({ rowVersion: booked.body.rowVersion, sockets: { 0: 'A0001', 1: 'A0002', 2: 'A0003' } });
+  const loaded = await op
+    .put(`/api/runs/${runId}/sockets`)
+    .send({ rowVersion: booked.body.rowVersion, sockets: { 0: 'A0001', 1: 'A0002', 2: 'A0003' } });
   expect(loaded.body.readyToStart).toBe(true);
   const started = await op.post(`/api/runs/${runId}/start`).send({ rowVersion: loaded.body.run.rowVersion });
   expect(started.body.state).toBe('heating');
-  scheduler = new RunScheduler(t.ctx, { rigLink: () => fake, cronExpression: null, listen: false, ambientCheckEveryMs: 0, overdueCheckEveryMs: 0, log: () => undefined });
+  scheduler = new RunScheduler(t.ctx, {
+    rigLink: () => fake,
+    cronExpression: null,
+    listen: false,
+    ambientCheckEveryMs: 0,
+    overdueCheckEveryMs: 0,
+    log: () => undefined,
+  });
 });
 afterAll(async () => {
   await scheduler?.stop();
@@ -154,7 +186,9 @@ describe('a run from heating to finished, driven by the scheduler', () => {
     expect(fake.sends[2].cmd).toMatchObject({ type: 'bias', on: false, sockets: [0, 1, 2] });
     expect(fake.sends[3].cmd).toMatchObject({ type: 'setpoint', setpointC: 25 });
     const due = events.filter((e) => e.type === 'read-point-due');
-    expect(due).toEqual([expect.objectContaining({ runId, rigCode: 'OV-01', readPointH: 4, readPointIndex: 1, stressHours: 4, final: false })]);
+    expect(due).toEqual([
+      expect.objectContaining({ runId, rigCode: 'OV-01', readPointH: 4, readPointIndex: 1, stressHours: 4, final: false }),
+    ]);
     const d = due[0] as Extract<RunEvent, { type: 'read-point-due' }>;
     expect(Date.parse(d.measureBy) - Date.parse(d.biasRemovedAt)).toBe(96 * 3_600_000);
   });
@@ -175,12 +209,27 @@ describe('a run from heating to finished, driven by the scheduler', () => {
       await step(scheduler);
       await step(scheduler);
       expect(overdue()).toEqual([
-        expect.objectContaining({ runId, rigCode: 'OV-01', readPointH: 4, final: false, biasRemovedAt: r.biasRemovedAt!.toISOString(), measureBy: new Date(off + 96 * 3_600_000).toISOString(), overdueH: 1 }),
+        expect.objectContaining({
+          runId,
+          rigCode: 'OV-01',
+          readPointH: 4,
+          final: false,
+          biasRemovedAt: r.biasRemovedAt!.toISOString(),
+          measureBy: new Date(off + 96 * 3_600_000).toISOString(),
+          overdueH: 1,
+        }),
       ]);
       expect(await t.ctx.ds.getRepository(AuditLogEntity).countBy({ entityId: runId, action: 'run.read-point-overdue' })).toBe(1);
       // A scheduler started afresh (a restart) does not report the same hold again. (No rig link: the
       // fake rig's command log is the later tests' evidence.)
-      const again = new RunScheduler(t.ctx, { rigLink: () => undefined, cronExpression: null, listen: false, ambientCheckEveryMs: 0, overdueCheckEveryMs: 0, log: () => undefined });
+      const again = new RunScheduler(t.ctx, {
+        rigLink: () => undefined,
+        cronExpression: null,
+        listen: false,
+        ambientCheckEveryMs: 0,
+        overdueCheckEveryMs: 0,
+        log: () => undefined,
+      });
       await step(again);
       await again.stop();
       expect(overdue()).toHaveLength(1);
@@ -189,8 +238,24 @@ describe('a run from heating to finished, driven by the scheduler', () => {
     }
     await handleRunEvent(t.ctx, overdue()[0]);
     const alarm = await t.ctx.ds.getRepository(AlarmEntity).findOneByOrFail({ kind: 'read-point-overdue', runId });
-    expect(alarm).toMatchObject({ severity: 'warning', rigId, title: expect.stringContaining('read point 4.0 h not measured within 96 h'), clearedAt: null });
-    await handleRunEvent(t.ctx, { type: 'state-changed', runId, runCode: r.code, rigId, rigCode: 'OV-01', at: new Date().toISOString(), from: 'read-hold', to: 'heating', actor: 'operator', reason: null });
+    expect(alarm).toMatchObject({
+      severity: 'warning',
+      rigId,
+      title: expect.stringContaining('read point 4.0 h not measured within 96 h'),
+      clearedAt: null,
+    });
+    await handleRunEvent(t.ctx, {
+      type: 'state-changed',
+      runId,
+      runCode: r.code,
+      rigId,
+      rigCode: 'OV-01',
+      at: new Date().toISOString(),
+      from: 'read-hold',
+      to: 'heating',
+      actor: 'operator',
+      reason: null,
+    });
     expect((await t.ctx.ds.getRepository(AlarmEntity).findOneByOrFail({ id: alarm.id })).clearedAt).not.toBeNull();
   });
 
@@ -215,7 +280,9 @@ describe('a run from heating to finished, driven by the scheduler', () => {
     await step(scheduler);
     await step(scheduler);
     const late = events.filter((e) => e.type === 'ambient-not-reached');
-    expect(late).toEqual([expect.objectContaining({ runId, elapsedStressH: 5.25, limitH: 5, setC: 145, lowC: 140.65, highC: 149.35, lastChamberC: 100 })]);
+    expect(late).toEqual([
+      expect.objectContaining({ runId, elapsedStressH: 5.25, limitH: 5, setC: 145, lowC: 140.65, highC: 149.35, lastChamberC: 100 }),
+    ]);
     expect(await t.ctx.ds.getRepository(AuditLogEntity).countBy({ entityId: runId, action: 'run.ambient-overdue' })).toBe(1);
   });
 
@@ -230,7 +297,14 @@ describe('a run from heating to finished, driven by the scheduler', () => {
 
     const sent = fake.sends.length;
     await scheduler.stop();
-    scheduler = new RunScheduler(t.ctx, { rigLink: () => fake, cronExpression: null, listen: false, ambientCheckEveryMs: 0, overdueCheckEveryMs: 0, log: () => undefined });
+    scheduler = new RunScheduler(t.ctx, {
+      rigLink: () => fake,
+      cronExpression: null,
+      listen: false,
+      ambientCheckEveryMs: 0,
+      overdueCheckEveryMs: 0,
+      log: () => undefined,
+    });
     await step(scheduler);
     expect(fake.sends.length).toBe(sent); // the rig already reports set point and bias: nothing to repeat
     expect((await run()).stressHours).toBe(5.75);
@@ -238,7 +312,7 @@ describe('a run from heating to finished, driven by the scheduler', () => {
   });
 
   // Issue #19: device-hours come from each socket's own accrual, not from n × the read point.
-  it('the sample evidence gives each device its credited hours: the tripped socket\'s device stopped at its trip', async () => {
+  it("the sample evidence gives each device its credited hours: the tripped socket's device stopped at its trip", async () => {
     const r = await run();
     expect(r.sampleId).not.toBeNull();
     const res = await (await t.signIn('manager')).get(`/api/evidence/samples/${r.sampleId}`);
@@ -294,7 +368,14 @@ describe('a run from heating to finished, driven by the scheduler', () => {
       'system:run.finish',
     ]);
     expect(events.filter((e) => e.type === 'state-changed').map((e) => (e as { to: string }).to)).toEqual([
-      'loading', 'heating', 'stressing', 'read-hold', 'heating', 'stressing', 'cooling', 'finished',
+      'loading',
+      'heating',
+      'stressing',
+      'read-hold',
+      'heating',
+      'stressing',
+      'cooling',
+      'finished',
     ]);
   });
 });

@@ -39,7 +39,10 @@ it('seeds a stressing, a heating, a loading and a booked run on demo rigs', asyn
 
 it('the scheduler commands the live demo runs right away (the floor moves)', async () => {
   const sent: Array<{ rig: string; cmdId: string; cmd: RigCommandBody }> = [];
-  const link: RigLink = { connected: () => true, send: async (rig, cmd, o) => (sent.push({ rig, cmdId: o!.cmdId!, cmd }), { v: 1, rig, cmdId: o!.cmdId!, ok: true }) };
+  const link: RigLink = {
+    connected: () => true,
+    send: async (rig, cmd, o) => (sent.push({ rig, cmdId: o!.cmdId!, cmd }), { v: 1, rig, cmdId: o!.cmdId!, ok: true }),
+  };
   const ctx = createContext(db.ds, configFromEnv({} as NodeJS.ProcessEnv));
   const s = new RunScheduler(ctx, { rigLink: () => link, cronExpression: null, listen: false, log: () => undefined });
   await s.pass();
@@ -71,7 +74,10 @@ describe('the demo evidence', () => {
 
   it('HG2611-A: 77 devices split over OV-01 (64) and OV-02 (13), every read point complete', async () => {
     const e = await sampleOf('HTRB-2611-A');
-    expect(e.runs.map((r) => `${r.code}:${r.rigCode}:${r.sampleSize}:${r.state}`)).toEqual(['HTRB-2611-A:OV-01:64:finished', 'HTRB-2611-A-2:OV-02:13:finished']);
+    expect(e.runs.map((r) => `${r.code}:${r.rigCode}:${r.sampleSize}:${r.state}`)).toEqual([
+      'HTRB-2611-A:OV-01:64:finished',
+      'HTRB-2611-A-2:OV-02:13:finished',
+    ]);
     expect([e.plannedSize, e.bookedSize, e.loadedSize, e.deviation]).toEqual([77, 77, 77, null]);
     expect(e.coverage.every((c) => c.complete)).toBe(true);
   });

@@ -14,8 +14,17 @@ const demo = (pn: string) => DEMO_DEVICE_TYPES.find((d) => d.partNumber === pn)!
 
 async function addRig(code: string, over: Partial<RigEntity> = {}): Promise<string> {
   const r = await t.ctx.ds.getRepository(RigEntity).save({
-    code, name: `Oven ${code}`, socketCount: 64, maxTempC: 200, maxVoltageV: 800, humidityCapable: false, maxHumidityPct: null,
-    mqttUsername: `rig-${code.toLowerCase()}`, mqttSecretHash: 'x', credentialsIssuedAt: new Date(), ...over,
+    code,
+    name: `Oven ${code}`,
+    socketCount: 64,
+    maxTempC: 200,
+    maxVoltageV: 800,
+    humidityCapable: false,
+    maxHumidityPct: null,
+    mqttUsername: `rig-${code.toLowerCase()}`,
+    mqttSecretHash: 'x',
+    credentialsIssuedAt: new Date(),
+    ...over,
   });
   return r.id;
 }
@@ -33,15 +42,28 @@ beforeAll(async () => {
     expect(res.status).toBe(201);
     ids[pn] = res.body.id;
   }
-  for (const [code, pn, prefix] of [['HG2611-A', 'HPD-2N140', 'A'], ['HG2612-C', 'HPD-2N140', 'C'], ['HG2609-D', 'HPD-3P90', 'D']]) {
+  for (const [code, pn, prefix] of [
+    ['HG2611-A', 'HPD-2N140', 'A'],
+    ['HG2612-C', 'HPD-2N140', 'C'],
+    ['HG2609-D', 'HPD-3P90', 'D'],
+  ]) {
     const res = await eng.post('/api/lots').send({ code, deviceTypeId: ids[pn], quantity: 2400, serials: serials(prefix, 12) });
     expect(res.status).toBe(201);
     ids[code] = res.body.id;
   }
   const plan = (patch: Record<string, unknown>) =>
     eng.post('/api/plans').send({
-      name: 'HTRB 145 °C, 80 % VCBO, 1000 h', kind: 'htrb', deviceTypeId: ids['HPD-2N140'], chamberC: 145, bias: { vcbV: 112 },
-      durationH: 1000, readPointsH: [0, 168, 500, 1000], sampleSize: 8, acceptNumber: 0, criteria: {}, ...patch,
+      name: 'HTRB 145 °C, 80 % VCBO, 1000 h',
+      kind: 'htrb',
+      deviceTypeId: ids['HPD-2N140'],
+      chamberC: 145,
+      bias: { vcbV: 112 },
+      durationH: 1000,
+      readPointsH: [0, 168, 500, 1000],
+      sampleSize: 8,
+      acceptNumber: 0,
+      criteria: {},
+      ...patch,
     });
   const ok = await plan({});
   expect(ok.status).toBe(201);
@@ -60,7 +82,8 @@ afterAll(async () => {
   await t.close();
 });
 
-const auditOf = (runId: string, action: string) => t.ctx.ds.getRepository(AuditLogEntity).find({ where: { entity: 'run', entityId: runId, action }, order: { id: 'ASC' } });
+const auditOf = (runId: string, action: string) =>
+  t.ctx.ds.getRepository(AuditLogEntity).find({ where: { entity: 'run', entityId: runId, action }, order: { id: 'ASC' } });
 
 describe('proposals', () => {
   it('ranks the rigs that can take the run and explains every refusal in words', async () => {
@@ -71,9 +94,16 @@ describe('proposals', () => {
     expect(res.body.options.map((o: { rigCode: string }) => o.rigCode)).toEqual(['OV-01']);
     expect(res.body.options[0].delayReasons).toEqual([]);
     expect(res.body.refusals).toEqual([
-      { rigId: ids['HC-05'], rigCode: 'HC-05', rigName: 'Oven HC-05', reasons: ['Oven HC-05 reaches at most 130 °C; the plan needs 145 °C.'] },
       {
-        rigId: ids['OV-04'], rigCode: 'OV-04', rigName: 'Oven OV-04',
+        rigId: ids['HC-05'],
+        rigCode: 'HC-05',
+        rigName: 'Oven HC-05',
+        reasons: ['Oven HC-05 reaches at most 130 °C; the plan needs 145 °C.'],
+      },
+      {
+        rigId: ids['OV-04'],
+        rigCode: 'OV-04',
+        rigName: 'Oven OV-04',
         reasons: ['Oven OV-04 holds 4 sockets; the plan needs 8.', 'Oven OV-04 supplies at most 100 V of bias; the plan needs 112 V.'],
       },
     ]);
@@ -104,11 +134,24 @@ describe('booking', () => {
     const eng = await t.signIn('engineer');
     const p = await eng.post('/api/runs/proposals').send({ planId: ids.plan, lotIds: [ids['HG2611-A']], sampleSize: 8 });
     const opt = p.body.options[0];
-    const res = await eng.post('/api/runs').send({ planId: ids.plan, lotIds: [ids['HG2611-A']], sampleSize: 8, rigId: opt.rigId, start: opt.start });
+    const res = await eng
+      .post('/api/runs')
+      .send({ planId: ids.plan, lotIds: [ids['HG2611-A']], sampleSize: 8, rigId: opt.rigId, start: opt.start });
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({
-      code: 'HTRB-2611-A', state: 'booked', sampleSize: 8, loadedCount: 0, stressHours: 0, targetH: 1000, nextReadPointH: 168,
-      rig: { code: 'OV-01' }, lots: [{ code: 'HG2611-A' }], partNumber: 'HPD-2N140', allowedActions: ['load', 'abort'], rowVersion: 1, override: null,
+      code: 'HTRB-2611-A',
+      state: 'booked',
+      sampleSize: 8,
+      loadedCount: 0,
+      stressHours: 0,
+      targetH: 1000,
+      nextReadPointH: 168,
+      rig: { code: 'OV-01' },
+      lots: [{ code: 'HG2611-A' }],
+      partNumber: 'HPD-2N140',
+      allowedActions: ['load', 'abort'],
+      rowVersion: 1,
+      override: null,
     });
     const [a] = await auditOf(res.body.id, 'run.book');
     expect(a.details).toMatchObject({ code: 'HTRB-2611-A', rig: 'OV-01', sampleSize: 8, lots: ['HG2611-A'], planVersion: 1 });
@@ -134,7 +177,9 @@ describe('booking', () => {
   it('books the blocked plan with an override reason; the reason and the findings are audited', async () => {
     const eng = await t.signIn('engineer');
     const reason = 'Margin study agreed with the customer; parts are sacrificial.';
-    const res = await eng.post('/api/runs').send({ planId: ids.hotPlan, lotIds: [ids['HG2612-C']], sampleSize: 4, deviation: SHORT, rigId: ids['OV-01'], override: { reason } });
+    const res = await eng
+      .post('/api/runs')
+      .send({ planId: ids.hotPlan, lotIds: [ids['HG2612-C']], sampleSize: 4, deviation: SHORT, rigId: ids['OV-01'], override: { reason } });
     expect(res.status).toBe(201);
     expect(res.body.override).toEqual({ reason, byName: 'Test engineer' });
     expect(res.body.code).toBe('HTRB-2612-C');
@@ -158,9 +203,18 @@ describe('booking', () => {
     const first = await t.ctx.ds.getRepository(RunEntity).findOneByOrFail({ id: ids.run });
     const start = new Date(first.scheduledStart!.getTime() + 60_000);
     const before = await tableCounts(t.ctx.ds);
-    const res = await eng.post('/api/runs').send({ planId: ids.coolerPlan, lotIds: [ids['HG2612-C']], sampleSize: 2, deviation: SHORT, rigId: ids['OV-01'], start: start.toISOString() });
+    const res = await eng.post('/api/runs').send({
+      planId: ids.coolerPlan,
+      lotIds: [ids['HG2612-C']],
+      sampleSize: 2,
+      deviation: SHORT,
+      rigId: ids['OV-01'],
+      start: start.toISOString(),
+    });
     expect(res.status).toBe(409);
-    expect(res.body.error.message).toMatch(/^The rig is no longer free at .*: Oven OV-01 runs HTRB-2611-A at 145 °C until .*; the plan needs 125 °C\. Ask for new proposals\.$/);
+    expect(res.body.error.message).toMatch(
+      /^The rig is no longer free at .*: Oven OV-01 runs HTRB-2611-A at 145 °C until .*; the plan needs 125 °C\. Ask for new proposals\.$/,
+    );
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
   });
 
@@ -174,7 +228,10 @@ describe('booking', () => {
     const tl = await mgr.get('/api/runs/timeline');
     expect(tl.status).toBe(200);
     const ov1 = tl.body.rows.find((r: { code: string }) => r.code === 'OV-01');
-    expect(ov1.bars.map((b: { code: string; state: string }) => `${b.code}:${b.state}`)).toEqual(['HTRB-2611-A:booked', 'HTRB-2612-C:booked']);
+    expect(ov1.bars.map((b: { code: string; state: string }) => `${b.code}:${b.state}`)).toEqual([
+      'HTRB-2611-A:booked',
+      'HTRB-2612-C:booked',
+    ]);
     expect(tl.body.rows.map((r: { code: string }) => r.code)).toEqual(['HC-05', 'OV-01', 'OV-04']);
     expect(tl.body.msPerClockH).toBe(1000);
   });
@@ -195,10 +252,28 @@ describe('socket loading', () => {
     expect(res.body.stored).toBe(false);
     expect(res.body.flags).toEqual([
       { socket: 2, serial: '', problem: 'empty', blocking: false, message: 'Socket 2 is left empty.' },
-      { socket: 3, serial: 'A0001', problem: 'duplicate', blocking: true, message: 'Serial A0001 is in socket 0 already; one device cannot sit in two sockets.' },
-      { socket: 4, serial: 'C0001', problem: 'wrong-lot', blocking: true, message: "Serial C0001 belongs to lot HG2612-C, not to this run's lot HG2611-A." },
+      {
+        socket: 3,
+        serial: 'A0001',
+        problem: 'duplicate',
+        blocking: true,
+        message: 'Serial A0001 is in socket 0 already; one device cannot sit in two sockets.',
+      },
+      {
+        socket: 4,
+        serial: 'C0001',
+        problem: 'wrong-lot',
+        blocking: true,
+        message: "Serial C0001 belongs to lot HG2612-C, not to this run's lot HG2611-A.",
+      },
       { socket: 5, serial: 'ZZ-404', problem: 'unknown-serial', blocking: true, message: 'Serial ZZ-404 is not registered in any lot.' },
-      { socket: 70, serial: 'A0003', problem: 'no-such-socket', blocking: true, message: 'Socket 70 does not exist: OV-01 has sockets 0–63.' },
+      {
+        socket: 70,
+        serial: 'A0003',
+        problem: 'no-such-socket',
+        blocking: true,
+        message: 'Socket 70 does not exist: OV-01 has sockets 0–63.',
+      },
     ]);
     expect(res.body).toMatchObject({ loaded: 2, needed: 8, readyToStart: false });
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
@@ -222,11 +297,19 @@ describe('socket loading', () => {
     const map = Object.fromEntries(serials('A', 7).map((s, i) => [String(i), s]));
     const res = await op.put(`/api/runs/${ids.run}/sockets`).send({ rowVersion: v, sockets: { ...map, 7: '' } });
     expect(res.status).toBe(200);
-    expect(res.body).toMatchObject({ stored: true, loaded: 7, needed: 8, readyToStart: false, summary: '7 of 8 devices are placed; 1 still to load.' });
+    expect(res.body).toMatchObject({
+      stored: true,
+      loaded: 7,
+      needed: 8,
+      readyToStart: false,
+      summary: '7 of 8 devices are placed; 1 still to load.',
+    });
     expect(res.body.run).toMatchObject({ state: 'loading', loadedCount: 7, rowVersion: v + 1 });
     const stale = await op.put(`/api/runs/${ids.run}/sockets`).send({ rowVersion: v, sockets: map });
     expect(stale.status).toBe(409);
-    expect(stale.body.error.message).toBe(`Run HTRB-2611-A changed since you loaded it (it is now loading, version ${v + 1}). Reload and try again.`);
+    expect(stale.body.error.message).toBe(
+      `Run HTRB-2611-A changed since you loaded it (it is now loading, version ${v + 1}). Reload and try again.`,
+    );
     const [a] = await auditOf(ids.run, 'run.load');
     expect(a.actor).toBe('operator@test.example');
     expect(a.details).toMatchObject({ from: 'booked', to: 'loading', loaded: 7, needed: 8, empty: 1 });
@@ -243,7 +326,12 @@ describe('socket loading', () => {
     const op = await t.signIn('operator');
     const map = Object.fromEntries(serials('A', 8).map((s, i) => [String(i), s]));
     const res = await op.put(`/api/runs/${ids.run}/sockets`).send({ rowVersion: await version(), sockets: map });
-    expect(res.body).toMatchObject({ stored: true, loaded: 8, readyToStart: true, summary: 'All 8 devices are placed; the run can start.' });
+    expect(res.body).toMatchObject({
+      stored: true,
+      loaded: 8,
+      readyToStart: true,
+      summary: 'All 8 devices are placed; the run can start.',
+    });
     expect(await t.ctx.ds.getRepository(RunSocketEntity).countBy({ runId: ids.run })).toBe(8);
   });
 });
@@ -254,7 +342,12 @@ describe('state changes by people', () => {
   it('is refused in maintenance, then starts: loading → heating, audited with the actor', async () => {
     const op = await t.signIn('operator');
     const now = Date.now();
-    const m = await t.ctx.ds.getRepository(RigMaintenanceEntity).save({ rigId: ids['OV-01'], startsAt: new Date(now - 60_000), endsAt: new Date(Date.UTC(2099, 0, 1, 12)), reason: 'thermocouple swap' });
+    const m = await t.ctx.ds.getRepository(RigMaintenanceEntity).save({
+      rigId: ids['OV-01'],
+      startsAt: new Date(now - 60_000),
+      endsAt: new Date(Date.UTC(2099, 0, 1, 12)),
+      reason: 'thermocouple swap',
+    });
     const refused = await op.post(`/api/runs/${ids.run}/start`).send({ rowVersion: await version() });
     expect(refused.status).toBe(409);
     expect(refused.body.error.message).toBe('Oven OV-01 is in maintenance until 2099-01-01 12:00 UTC (thermocouple swap).');
@@ -303,14 +396,26 @@ describe('state changes by people', () => {
     const again = await op.post(`/api/runs/${ids.run}/resume`).send({ rowVersion: await version() });
     expect(again.status).toBe(409);
     const detail = await op.get(`/api/runs/${ids.run}`);
-    expect(detail.body.audit.map((x: { action: string }) => x.action)).toEqual(['run.abort', 'run.resume', 'run.pause', 'run.start', 'run.load', 'run.load', 'run.book']);
+    expect(detail.body.audit.map((x: { action: string }) => x.action)).toEqual([
+      'run.abort',
+      'run.resume',
+      'run.pause',
+      'run.start',
+      'run.load',
+      'run.load',
+      'run.book',
+    ]);
   });
 
   it('a booked run can be cancelled (aborted) by an engineer; a manager may not', async () => {
     const mgr = await t.signIn('manager');
-    expect((await mgr.post(`/api/runs/${ids.hotRun}/abort`).send({ rowVersion: await version(ids.hotRun), reason: 'Not needed' })).status).toBe(403);
+    expect(
+      (await mgr.post(`/api/runs/${ids.hotRun}/abort`).send({ rowVersion: await version(ids.hotRun), reason: 'Not needed' })).status,
+    ).toBe(403);
     const eng = await t.signIn('engineer');
-    const res = await eng.post(`/api/runs/${ids.hotRun}/abort`).send({ rowVersion: await version(ids.hotRun), reason: 'Customer withdrew the request' });
+    const res = await eng
+      .post(`/api/runs/${ids.hotRun}/abort`)
+      .send({ rowVersion: await version(ids.hotRun), reason: 'Customer withdrew the request' });
     expect(res.body.state).toBe('aborted');
   });
 });
@@ -326,7 +431,9 @@ describe('booking a proposal whose start slid', () => {
     try {
       const t0 = Date.now();
       t.ctx.now = () => new Date(t0);
-      const ahead = await eng.post('/api/runs').send({ planId: ids.plan, lotIds: [ids['HG2611-A']], sampleSize: 2, deviation: SHORT, rigId, start: new Date(t0).toISOString() });
+      const ahead = await eng
+        .post('/api/runs')
+        .send({ planId: ids.plan, lotIds: [ids['HG2611-A']], sampleSize: 2, deviation: SHORT, rigId, start: new Date(t0).toISOString() });
       expect(ahead.status).toBe(201);
       const propose = async () => {
         const p = await eng.post('/api/runs/proposals').send({ planId: ids.coolerPlan, lotIds: [ids['HG2612-C']], sampleSize: 2 });
@@ -342,7 +449,9 @@ describe('booking a proposal whose start slid', () => {
       const before = await tableCounts(t.ctx.ds);
       const far = await eng.post('/api/runs').send(body);
       expect(far.status).toBe(409);
-      expect(far.body.error.message).toMatch(/^The rig is no longer free at .*: Oven OV-08 runs HTRB-2611-A.* at 145 °C until .*; the plan needs 125 °C\. Ask for new proposals\.$/);
+      expect(far.body.error.message).toMatch(
+        /^The rig is no longer free at .*: Oven OV-08 runs HTRB-2611-A.* at 145 °C until .*; the plan needs 125 °C\. Ask for new proposals\.$/,
+      );
       expect(await tableCounts(t.ctx.ds)).toEqual(before);
 
       // Half a clock hour later: the booking follows the slot to the new end of the run ahead.

@@ -15,7 +15,10 @@ import { createTestApp, emailFor, TEST_PASSWORD, type TestApp } from '../support
 
 const cookieOf = (res: { headers: Record<string, unknown> }) =>
   ((res.headers['set-cookie'] as string[] | undefined) ?? []).find((x) => x.startsWith(`${SESSION_COOKIE}=`)) ?? '';
-const sidOf = (res: { headers: Record<string, unknown> }) => cookieOf(res).split(';')[0].slice(SESSION_COOKIE.length + 1) || null;
+const sidOf = (res: { headers: Record<string, unknown> }) =>
+  cookieOf(res)
+    .split(';')[0]
+    .slice(SESSION_COOKIE.length + 1) || null;
 const setCookieOf = cookieOf;
 
 describe('a fresh app with EMBERLOT_SECURE_COOKIES=1: Secure cookie, account lockout, address throttling', () => {

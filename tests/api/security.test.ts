@@ -38,7 +38,6 @@ afterAll(async () => {
 });
 
 describe('sessions', () => {
-
   it('the session id changes at sign-in (no fixation): a planted or earlier id is never adopted, and the old one is dead', async () => {
     const first = await signIn(t.app, emailFor('operator'), TEST_PASSWORD);
     expect(first.status).toBe(200);
@@ -89,7 +88,9 @@ describe('passwords are never logged, echoed or audited', () => {
     const bodies: string[] = [];
     try {
       const admin = await t.signIn('admin');
-      const created = await admin.post('/api/users').send({ email: 'kiln.keeper@test.example', name: 'Kiln Keeper', role: 'operator', password: SECRET });
+      const created = await admin
+        .post('/api/users')
+        .send({ email: 'kiln.keeper@test.example', name: 'Kiln Keeper', role: 'operator', password: SECRET });
       expect(created.status).toBe(201);
       bodies.push(JSON.stringify(created.body));
       for (const pw of [SECRET, `${SECRET}-wrong`, `${SECRET}\u0000`, SECRET.repeat(20)]) {
@@ -97,12 +98,23 @@ describe('passwords are never logged, echoed or audited', () => {
         bodies.push(JSON.stringify(r.body));
       }
       // A duplicate user (409) and a too-short password (400) carry the password in the request too.
-      bodies.push(JSON.stringify((await admin.post('/api/users').send({ email: 'kiln.keeper@test.example', name: 'Again', role: 'operator', password: SECRET })).body));
+      bodies.push(
+        JSON.stringify(
+          (await admin.post('/api/users').send({ email: 'kiln.keeper@test.example', name: 'Again', role: 'operator', password: SECRET }))
+            .body,
+        ),
+      );
       bodies.push(JSON.stringify((await admin.patch(`/api/users/${created.body.id}`).send({ password: NEW_SECRET })).body));
       bodies.push(JSON.stringify((await signIn(t.app, 'kiln.keeper@test.example', NEW_SECRET)).body));
-      bodies.push(JSON.stringify((await admin.post('/api/users').send({ email: 'x@test.example', name: 'X', role: 'nobody', password: NEW_SECRET })).body));
+      bodies.push(
+        JSON.stringify(
+          (await admin.post('/api/users').send({ email: 'x@test.example', name: 'X', role: 'nobody', password: NEW_SECRET })).body,
+        ),
+      );
     } finally {
-      const logged = [...spies, stdout, stderr].flatMap((s) => s.mock.calls.map((c) => c.map((a) => (typeof a === 'string' ? a : JSON.stringify(a) ?? String(a))).join(' ')));
+      const logged = [...spies, stdout, stderr].flatMap((s) =>
+        s.mock.calls.map((c) => c.map((a) => (typeof a === 'string' ? a : (JSON.stringify(a) ?? String(a)))).join(' ')),
+      );
       spies.forEach((s) => s.mockRestore());
       stdout.mockRestore();
       stderr.mockRestore();
@@ -120,7 +132,6 @@ describe('passwords are never logged, echoed or audited', () => {
 });
 
 describe('security headers', () => {
-
   it.each([
     ['a success', '/api/health', 200],
     ['an API error', '/api/no-such-route', 404],
@@ -152,7 +163,15 @@ describe('security headers', () => {
 describe('upload file names cannot escape their folder', () => {
   let runId: string;
   let lotId: string;
-  const HOSTILE_NAMES = ['../../etc/passwd', '..\\..\\windows\\win.ini', '/etc/shadow', '....//....//evil.csv', 'C:\\temp\\x.csv', 'con.csv', 'a/../../../../tmp/pwned.csv'];
+  const HOSTILE_NAMES = [
+    '../../etc/passwd',
+    '..\\..\\windows\\win.ini',
+    '/etc/shadow',
+    '....//....//evil.csv',
+    'C:\\temp\\x.csv',
+    'con.csv',
+    'a/../../../../tmp/pwned.csv',
+  ];
 
   beforeAll(async () => {
     ({ runId, lotId } = await createRunFixture(t, 'SEC'));
@@ -165,7 +184,9 @@ describe('upload file names cannot escape their folder', () => {
     const eng = await t.signIn('engineer');
     const before = filesUnder(uploadDir());
     for (const [k, name] of HOSTILE_NAMES.entries()) {
-      const res = await eng.post(`/api/lots/${lotId}/serials/csv`).attach('file', Buffer.from(`serial\nSEC${k}\n`), { filename: name, contentType: 'text/csv' });
+      const res = await eng
+        .post(`/api/lots/${lotId}/serials/csv`)
+        .attach('file', Buffer.from(`serial\nSEC${k}\n`), { filename: name, contentType: 'text/csv' });
       expect([res.status, res.body.error]).toEqual([200, undefined]);
     }
     const audits = await t.ctx.ds.getRepository(AuditLogEntity).findBy({ action: 'lot.serials.add', entityId: lotId });
@@ -185,7 +206,9 @@ describe('upload file names cannot escape their folder', () => {
     const HEADER = 'serial,hfe,hfe_ic_a,hfe_vce_v,icbo_a,icbo_vcb_v,vcesat_v,temp_c,measured_at';
     const file = (k: number) => `${HEADER}\n${`C00${k + 1}`},${120 + k},0.15,5,20e-9,112,0.22,25,2025-12-31T20:00:00Z\n`;
     for (const [k, name] of HOSTILE_NAMES.slice(0, 5).entries()) {
-      const res = await op.post(`/api/measurements/runs/${runId}/read-points/0/upload`).attach('file', Buffer.from(file(k)), { filename: name, contentType: 'text/csv' });
+      const res = await op
+        .post(`/api/measurements/runs/${runId}/read-points/0/upload`)
+        .attach('file', Buffer.from(file(k)), { filename: name, contentType: 'text/csv' });
       expect(res.status).toBe(201);
     }
     const stored = await t.ctx.ds.getRepository(MeasurementUploadEntity).findBy({ runId });
@@ -195,7 +218,9 @@ describe('upload file names cannot escape their folder', () => {
       expect(u.fileName).not.toMatch(/^\.\.?$/);
     }
     const before = await tableCounts(t.ctx.ds);
-    const nul = await op.post(`/api/measurements/runs/${runId}/read-points/0/upload`).attach('file', Buffer.from(file(6)), { filename: 'rp0\u0000.csv', contentType: 'text/csv' });
+    const nul = await op
+      .post(`/api/measurements/runs/${runId}/read-points/0/upload`)
+      .attach('file', Buffer.from(file(6)), { filename: 'rp0\u0000.csv', contentType: 'text/csv' });
     expect(nul.status).toBeGreaterThanOrEqual(400);
     expect(nul.status).toBeLessThan(500);
     expect(apiErrorSchema.safeParse(nul.body).success).toBe(true);

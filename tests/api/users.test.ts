@@ -14,7 +14,9 @@ afterAll(async () => {
 describe('people (admin)', () => {
   it('adds a user, who can then sign in with the given role; the change is audited', async () => {
     const admin = await t.signIn('admin');
-    const res = await admin.post('/api/users').send({ email: 'New.Person@Test.Example', name: 'New Person', role: 'operator', password: 'a-long-password' });
+    const res = await admin
+      .post('/api/users')
+      .send({ email: 'New.Person@Test.Example', name: 'New Person', role: 'operator', password: 'a-long-password' });
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ email: 'new.person@test.example', role: 'operator', active: true });
     const signIn = await request(t.app).post('/api/auth/sign-in').send({ email: 'new.person@test.example', password: 'a-long-password' });
@@ -26,7 +28,9 @@ describe('people (admin)', () => {
   it('refuses a duplicate e-mail with 409 and changes nothing', async () => {
     const admin = await t.signIn('admin');
     const before = await tableCounts(t.ctx.ds);
-    const res = await admin.post('/api/users').send({ email: emailFor('manager'), name: 'Dup', role: 'manager', password: 'a-long-password' });
+    const res = await admin
+      .post('/api/users')
+      .send({ email: emailFor('manager'), name: 'Dup', role: 'manager', password: 'a-long-password' });
     expect(res.status).toBe(409);
     expect(res.body.error).toEqual({ code: 'conflict', message: 'A user with the e-mail manager@test.example already exists.' });
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
@@ -44,7 +48,9 @@ describe('people (admin)', () => {
 
   it('changes a role and deactivates; the deactivated user cannot sign in and loses open sessions', async () => {
     const admin = await t.signIn('admin');
-    const created = await admin.post('/api/users').send({ email: 'temp@test.example', name: 'Temp', role: 'manager', password: 'a-long-password' });
+    const created = await admin
+      .post('/api/users')
+      .send({ email: 'temp@test.example', name: 'Temp', role: 'manager', password: 'a-long-password' });
     const theirAgent = request.agent(t.app);
     await theirAgent.post('/api/auth/sign-in').send({ email: 'temp@test.example', password: 'a-long-password' }).expect(200);
     const role = await admin.patch(`/api/users/${created.body.id}`).send({ role: 'engineer' });

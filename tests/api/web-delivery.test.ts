@@ -31,7 +31,10 @@ beforeAll(async () => {
     fs.mkdirSync(path.dirname(path.join(webDir, rel)), { recursive: true });
     fs.writeFileSync(path.join(webDir, rel), data);
   };
-  write('index.html', `<!DOCTYPE html><html><head><title>Emberlot</title></head><body><div id="root"></div><script src="${SCRIPT}" defer></script>${'<!-- pad -->'.repeat(200)}</body></html>`);
+  write(
+    'index.html',
+    `<!DOCTYPE html><html><head><title>Emberlot</title></head><body><div id="root"></div><script src="${SCRIPT}" defer></script>${'<!-- pad -->'.repeat(200)}</body></html>`,
+  );
   write(SCRIPT, body);
   write(FONT, Buffer.from([0x77, 0x4f, 0x46, 0x32, 1, 2, 3, 4]));
   write('favicon.ico', Buffer.alloc(2000, 7));
@@ -70,7 +73,7 @@ describe('precompressed export', () => {
 
     const plain = await rawGet(SCRIPT, { 'Accept-Encoding': 'identity' });
     expect(plain.headers['content-encoding']).toBeUndefined();
-    expect((plain.body).toString()).toBe(body);
+    expect(plain.body.toString()).toBe(body);
   });
 });
 
@@ -114,7 +117,7 @@ describe('API compression', () => {
     const plain = await rawGet('/api/plans/templates', { 'Accept-Encoding': 'identity', Cookie: cookie });
     expect(plain.status).toBe(200);
     expect(plain.headers['content-encoding']).toBeUndefined();
-    const json = (plain.body).toString();
+    const json = plain.body.toString();
     expect(json.length).toBeGreaterThan(1024);
 
     const br = await rawGet('/api/plans/templates', { 'Accept-Encoding': 'gzip, br', Cookie: cookie });
@@ -122,7 +125,7 @@ describe('API compression', () => {
     expect(br.headers['cache-control']).toBe('no-store');
     const decoded = zlib.brotliDecompressSync(br.body).toString();
     expect(decoded).toBe(json);
-    expect((br.body).length).toBeLessThan(json.length / 2);
+    expect(br.body.length).toBeLessThan(json.length / 2);
   });
 
   it('leaves an answer under 1 KB and the live floor stream uncompressed', async () => {
@@ -132,10 +135,18 @@ describe('API compression', () => {
 
     const cookie = await sessionCookie('operator');
     const headers = await new Promise<http.IncomingHttpHeaders>((resolve, reject) => {
-      const req = http.get({ host: '127.0.0.1', port, path: '/api/floor/stream', headers: { Accept: 'text/event-stream', 'Accept-Encoding': 'br, gzip', Cookie: cookie } }, (res) => {
-        resolve(res.headers);
-        req.destroy();
-      });
+      const req = http.get(
+        {
+          host: '127.0.0.1',
+          port,
+          path: '/api/floor/stream',
+          headers: { Accept: 'text/event-stream', 'Accept-Encoding': 'br, gzip', Cookie: cookie },
+        },
+        (res) => {
+          resolve(res.headers);
+          req.destroy();
+        },
+      );
       req.on('error', (e) => (e.message.includes('aborted') || e.message.includes('socket hang up') ? undefined : reject(e)));
     });
     expect(headers['content-type']).toMatch(/^text\/event-stream/);
@@ -144,13 +155,18 @@ describe('API compression', () => {
 });
 
 async function sessionCookie(role: 'engineer' | 'operator'): Promise<string> {
-  const res = await request(t.app).post('/api/auth/sign-in').send({ email: emailFor(role), password: TEST_PASSWORD });
+  const res = await request(t.app)
+    .post('/api/auth/sign-in')
+    .send({ email: emailFor(role), password: TEST_PASSWORD });
   expect(res.status).toBe(200);
   return ((res.headers['set-cookie'] as unknown as string[]) ?? []).map((c) => c.split(';')[0]).join('; ');
 }
 
 /** The bytes as they travel (supertest would decode them first). */
-function rawGet(urlPath: string, headers: http.OutgoingHttpHeaders): Promise<{ status: number; headers: http.IncomingHttpHeaders; body: Buffer }> {
+function rawGet(
+  urlPath: string,
+  headers: http.OutgoingHttpHeaders,
+): Promise<{ status: number; headers: http.IncomingHttpHeaders; body: Buffer }> {
   return new Promise((resolve, reject) => {
     const req = http.get({ host: '127.0.0.1', port, path: urlPath, headers }, (res) => {
       const chunks: Buffer[] = [];

@@ -53,7 +53,13 @@ describe('session end on 401', () => {
     const onSessionEnded = jest.fn();
     const qc = createQueryClient({ onSessionEnded });
     await qc
-      .fetchQuery({ queryKey: ['me'], queryFn: () => api('/api/auth/me'), meta: { expectUnauthenticated: true }, retry: false, gcTime: Infinity })
+      .fetchQuery({
+        queryKey: ['me'],
+        queryFn: () => api('/api/auth/me'),
+        meta: { expectUnauthenticated: true },
+        retry: false,
+        gcTime: Infinity,
+      })
       .catch(() => {});
     expect(onSessionEnded).not.toHaveBeenCalled();
   });

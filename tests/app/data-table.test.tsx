@@ -30,7 +30,9 @@ const mode = (testID: string) => {
 
 test('a table on a wide window until the space it is given is narrower than minTableWidth', () => {
   setWidth(1440);
-  renderWithClient(<DataTable caption="Plans" columns={columns} rows={rows} rowKey={(r) => r.id} cardsBelow="desktop" minTableWidth={920} testID="t" />);
+  renderWithClient(
+    <DataTable caption="Plans" columns={columns} rows={rows} rowKey={(r) => r.id} cardsBelow="desktop" minTableWidth={920} testID="t" />,
+  );
   expect(mode('t')).toBe('table');
   act(() => fireEvent(screen.getByTestId('t'), 'layout', layout(1100)));
   expect(mode('t')).toBe('table');

@@ -5,13 +5,32 @@ import { mockFetch, renderWithClient, setWidth } from './support/render';
 jest.mock('expo-router', () => require('./support/expo-router'));
 
 const base = { notifyAlarms: true, notifyReadPoints: true, createdAt: '2025-10-01T00:00:00Z' };
-const admin = { ...base, id: '00000000-0000-4000-8000-000000000001', email: 'mara.quint@harrowgate.example', name: 'Mara Quint', role: 'admin', active: true, lastSignInAt: '2026-03-02T08:14:00Z' };
-const operator = { ...base, id: '00000000-0000-4000-8000-000000000002', email: 'tomas.feld@harrowgate.example', name: 'Tomas Feld', role: 'operator', active: true, lastSignInAt: null };
+const admin = {
+  ...base,
+  id: '00000000-0000-4000-8000-000000000001',
+  email: 'mara.quint@harrowgate.example',
+  name: 'Mara Quint',
+  role: 'admin',
+  active: true,
+  lastSignInAt: '2026-03-02T08:14:00Z',
+};
+const operator = {
+  ...base,
+  id: '00000000-0000-4000-8000-000000000002',
+  email: 'tomas.feld@harrowgate.example',
+  name: 'Tomas Feld',
+  role: 'operator',
+  active: true,
+  lastSignInAt: null,
+};
 
 beforeEach(() => setWidth(1440));
 
 test('lists people with role, status and last sign-in', async () => {
-  mockFetch({ 'GET /api/auth/me': { status: 200, body: { user: admin } }, 'GET /api/users': { status: 200, body: { items: [admin, operator] } } });
+  mockFetch({
+    'GET /api/auth/me': { status: 200, body: { user: admin } },
+    'GET /api/users': { status: 200, body: { items: [admin, operator] } },
+  });
   renderWithClient(<PeopleScreen />);
   expect(await screen.findByText('Tomas Feld')).toBeOnTheScreen();
   expect(screen.getByText('Floor operator')).toBeOnTheScreen();
@@ -37,7 +56,10 @@ test('deactivating asks first, then sends active: false', async () => {
 });
 
 test('the add form shows field errors from the shared schema without calling the API', async () => {
-  const fetch = mockFetch({ 'GET /api/auth/me': { status: 200, body: { user: admin } }, 'GET /api/users': { status: 200, body: { items: [admin] } } });
+  const fetch = mockFetch({
+    'GET /api/auth/me': { status: 200, body: { user: admin } },
+    'GET /api/users': { status: 200, body: { items: [admin] } },
+  });
   renderWithClient(<PeopleScreen />);
   fireEvent.press(await screen.findByRole('button', { name: 'Add person' }));
   fireEvent.changeText(screen.getByLabelText('E-mail'), 'nope');
@@ -55,7 +77,12 @@ test('a duplicate e-mail from the API shows beside the field', async () => {
   mockFetch({
     'GET /api/auth/me': { status: 200, body: { user: admin } },
     'GET /api/users': { status: 200, body: { items: [admin] } },
-    'POST /api/users': { status: 409, body: { error: { code: 'conflict', message: 'That e-mail is taken.', fields: { email: ['Someone already uses that e-mail address.'] } } } },
+    'POST /api/users': {
+      status: 409,
+      body: {
+        error: { code: 'conflict', message: 'That e-mail is taken.', fields: { email: ['Someone already uses that e-mail address.'] } },
+      },
+    },
   });
   renderWithClient(<PeopleScreen />);
   fireEvent.press(await screen.findByRole('button', { name: 'Add person' }));

@@ -7,7 +7,12 @@ import { renderWithClient, setWidth } from './support/render';
 
 jest.mock('expo-router', () => require('./support/expo-router'));
 
-const user = (role: Role) => ({ id: '0d5f7a8b-1c2d-4e3f-8a9b-0c1d2e3f4a5b', email: 'ines.brack@harrowgate.example', name: 'Ines Brack', role });
+const user = (role: Role) => ({
+  id: '0d5f7a8b-1c2d-4e3f-8a9b-0c1d2e3f4a5b',
+  email: 'ines.brack@harrowgate.example',
+  name: 'Ines Brack',
+  role,
+});
 
 const renderShell = (role: Role, pathname = '/floor') =>
   renderWithClient(
@@ -56,7 +61,7 @@ describe('shell on a wide screen (side rail)', () => {
     expect(screen.queryByRole('link', { name: 'Plans' })).toBeNull();
   });
 
-  test("a page of another role is not shown", () => {
+  test('a page of another role is not shown', () => {
     renderShell('operator', '/people');
     expect(screen.getByTestId('not-for-role')).toBeOnTheScreen();
     expect(screen.queryByText('Page content')).toBeNull();

@@ -42,7 +42,9 @@ test('posts the typed credentials to the sign-in endpoint and opens the role hom
 });
 
 test("shows the API's message on a 401 and stays on the page", async () => {
-  mockFetch({ 'POST /api/auth/sign-in': { status: 401, body: { error: { code: 'unauthenticated', message: 'Wrong e-mail or password.' } } } });
+  mockFetch({
+    'POST /api/auth/sign-in': { status: 401, body: { error: { code: 'unauthenticated', message: 'Wrong e-mail or password.' } } },
+  });
   renderWithClient(<SignInScreen />);
   fillAndSubmit('mara.quint@harrowgate.example', 'not it');
   expect(await screen.findByText('Wrong e-mail or password.')).toBeOnTheScreen();
@@ -50,7 +52,12 @@ test("shows the API's message on a 401 and stays on the page", async () => {
 });
 
 test('shows a throttling message from the API as it is', async () => {
-  mockFetch({ 'POST /api/auth/sign-in': { status: 429, body: { error: { code: 'too_many_requests', message: 'Too many attempts. Try again in 15 minutes.' } } } });
+  mockFetch({
+    'POST /api/auth/sign-in': {
+      status: 429,
+      body: { error: { code: 'too_many_requests', message: 'Too many attempts. Try again in 15 minutes.' } },
+    },
+  });
   renderWithClient(<SignInScreen />);
   fillAndSubmit('mara.quint@harrowgate.example', 'whatever');
   expect(await screen.findByText('Too many attempts. Try again in 15 minutes.')).toBeOnTheScreen();

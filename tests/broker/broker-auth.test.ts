@@ -9,7 +9,12 @@ const opened: MqttClient[] = [];
 const track = (c: MqttClient) => (opened.push(c), c);
 
 beforeAll(async () => {
-  eb = await createEmberlotBroker({ port: 0, authenticate: mapAuthenticate, maxPacketBytes: MAX, log: process.env.BROKER_LOG ? (l) => console.log(l) : undefined });
+  eb = await createEmberlotBroker({
+    port: 0,
+    authenticate: mapAuthenticate,
+    maxPacketBytes: MAX,
+    log: process.env.BROKER_LOG ? (l) => console.log(l) : undefined,
+  });
 });
 
 afterEach(async () => {
@@ -41,9 +46,9 @@ describe('broker authentication', () => {
 
   test('a wrong password is refused and counted', async () => {
     const before = eb.counters.authFailures;
-    await expect(
-      connectClient(eb.port, { clientId: 'rig-OV-01', username: 'rig-OV-01', password: 'guess' }),
-    ).rejects.toMatchObject({ code: 4 });
+    await expect(connectClient(eb.port, { clientId: 'rig-OV-01', username: 'rig-OV-01', password: 'guess' })).rejects.toMatchObject({
+      code: 4,
+    });
     expect(eb.counters.authFailures).toBe(before + 1);
   });
 
@@ -53,9 +58,9 @@ describe('broker authentication', () => {
 
   test("a rig cannot take another rig's client id (session takeover)", async () => {
     const before = eb.counters.authFailures;
-    await expect(
-      connectClient(eb.port, { clientId: 'rig-OV-02', username: 'rig-OV-01', password: 'ov01-secret' }),
-    ).rejects.toMatchObject({ code: 2 });
+    await expect(connectClient(eb.port, { clientId: 'rig-OV-02', username: 'rig-OV-01', password: 'ov01-secret' })).rejects.toMatchObject({
+      code: 2,
+    });
     await expect(
       connectClient(eb.port, { clientId: 'rig-OV-01', username: 'emberlot-server', password: 'server-secret' }),
     ).rejects.toMatchObject({ code: 2 });
@@ -93,12 +98,10 @@ describe('broker topic rules', () => {
     await rig.publishAsync(topics.commandAcks('OV-01'), 'a', { qos: 1 });
     await rig.publishAsync(topics.status('OV-01'), 's', { qos: 1 });
     await waitFor(() => got.length >= 3, 2000, 'three messages');
-    expect(got.map((m) => m.topic).sort()).toEqual(
-      [topics.commandAcks('OV-01'), topics.status('OV-01'), topics.telemetry('OV-01')].sort(),
-    );
+    expect(got.map((m) => m.topic).sort()).toEqual([topics.commandAcks('OV-01'), topics.status('OV-01'), topics.telemetry('OV-01')].sort());
   });
 
-  test("a rig cannot publish to its own commands (only the server can)", async () => {
+  test('a rig cannot publish to its own commands (only the server can)', async () => {
     const rig = track(await rigClient(eb.port, 'OV-01'));
     const before = eb.counters.spoofedPublishes;
     const closed = waitClosed(rig);
@@ -210,11 +213,7 @@ describe('revocation and last will', () => {
       { qos: 1, retain: true },
     );
     rig.stream.destroy(); // no DISCONNECT packet: the broker sees a dead socket
-    await waitFor(
-      () => got.some((m) => m.topic === topics.status('OV-02') && m.payload.includes('"online":false')),
-      3000,
-      'last will',
-    );
+    await waitFor(() => got.some((m) => m.topic === topics.status('OV-02') && m.payload.includes('"online":false')), 3000, 'last will');
     const lastWill = got.filter((m) => m.topic === topics.status('OV-02')).pop()!;
     const parsed = parseStatus(lastWill.payload);
     expect(parsed.ok && parsed.data.online).toBe(false);

@@ -55,16 +55,23 @@ test('broker process SIGKILLed and restarted mid-run: every sample stored once, 
   const fx = await createFaultRun(db.ds, type, 'OV-81');
   const sim = startSimRig(stack.brokerUrl, fx);
   sims.push(sim);
-  const drive = await driveRun(db.ds, stack, fx, sim, {
-    phase: 1,
-    atH: 1.5,
-    inject: async () => {
-      const exit = await stack.restartBroker('SIGKILL', 1000);
-      expect(exit.signal).toBe('SIGKILL');
-      // The rig saw the broker go.
-      expect(sim.rig.stats.disconnects).toBeGreaterThanOrEqual(1);
+  const drive = await driveRun(
+    db.ds,
+    stack,
+    fx,
+    sim,
+    {
+      phase: 1,
+      atH: 1.5,
+      inject: async () => {
+        const exit = await stack.restartBroker('SIGKILL', 1000);
+        expect(exit.signal).toBe('SIGKILL');
+        // The rig saw the broker go.
+        expect(sim.rig.stats.disconnects).toBeGreaterThanOrEqual(1);
+      },
     },
-  }, 55_000);
+    55_000,
+  );
   const f = await reconcile(db.ds, 'broker SIGKILL + restart', fx, sim, log, drive, started);
   printFigures({ ...f, startupS: stack.startupS } as typeof f);
   // The rig and the server's link both came back to the new broker.

@@ -72,20 +72,27 @@ test('PostgreSQL stopped (immediate) and restarted mid-run: every sample stored 
   const fx = await createFaultRun(ds, type, 'OV-85');
   sim = startSimRig(stack.brokerUrl, fx);
   const apiMark = stack.api.offset();
-  const drive = await driveRun(ds, stack, fx, sim, {
-    phase: 1,
-    atH: 1.5,
-    inject: async () => {
-      const pid = clusterPid(CLUSTER);
-      expect(pid).not.toBeNull();
-      process.kill(pid!, 'SIGQUIT'); // immediate shutdown
-      await waitUntil(() => clusterPid(CLUSTER) === null, 20_000, 'postmaster gone');
-      // The ingest notices on its next write and holds what arrives.
-      await stack.api.waitForLine(/database write failed/, 20_000, apiMark);
-      await new Promise((r) => setTimeout(r, 2000));
-      await pgClusterAsync('start', CLUSTER);
+  const drive = await driveRun(
+    ds,
+    stack,
+    fx,
+    sim,
+    {
+      phase: 1,
+      atH: 1.5,
+      inject: async () => {
+        const pid = clusterPid(CLUSTER);
+        expect(pid).not.toBeNull();
+        process.kill(pid!, 'SIGQUIT'); // immediate shutdown
+        await waitUntil(() => clusterPid(CLUSTER) === null, 20_000, 'postmaster gone');
+        // The ingest notices on its next write and holds what arrives.
+        await stack.api.waitForLine(/database write failed/, 20_000, apiMark);
+        await new Promise((r) => setTimeout(r, 2000));
+        await pgClusterAsync('start', CLUSTER);
+      },
     },
-  }, 70_000);
+    70_000,
+  );
   // The ingest said so once, and said when it was back.
   expect(stack.api.lines(/\[ingest\] database write failed/).length).toBe(1);
   expect(stack.api.lines(/\[ingest\] database back/).length).toBeGreaterThanOrEqual(1);

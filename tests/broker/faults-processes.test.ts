@@ -55,16 +55,23 @@ test('API server process SIGKILLed and restarted mid-run: every sample stored on
   const fx = await createFaultRun(db.ds, type, 'OV-83');
   const sim = startSimRig(stack.brokerUrl, fx);
   sims.push(sim);
-  const drive = await driveRun(db.ds, stack, fx, sim, {
-    phase: 2,
-    atH: 7,
-    inject: async () => {
-      const exit = await stack.restartApi('SIGKILL', 500);
-      expect(exit.signal).toBe('SIGKILL'); // no shutdown code ran: no drain, no goodbye
-      // The session lives in PostgreSQL: the operator stays signed in across the restart.
-      expect((await stack.client.request('GET', '/api/auth/me')).status).toBe(200);
+  const drive = await driveRun(
+    db.ds,
+    stack,
+    fx,
+    sim,
+    {
+      phase: 2,
+      atH: 7,
+      inject: async () => {
+        const exit = await stack.restartApi('SIGKILL', 500);
+        expect(exit.signal).toBe('SIGKILL'); // no shutdown code ran: no drain, no goodbye
+        // The session lives in PostgreSQL: the operator stays signed in across the restart.
+        expect((await stack.client.request('GET', '/api/auth/me')).status).toBe(200);
+      },
     },
-  }, 55_000);
+    55_000,
+  );
   const f = await reconcile(db.ds, 'API server SIGKILL + restart', fx, sim, log, drive, started);
   printFigures({ ...f, startupS: stack.startupS } as typeof f);
   expectBooksBalance(f, fx, log, sim.rig);

@@ -60,22 +60,31 @@ test('a rig that drops off for a simulated hour, again and again, replays: every
   const fx = await createFaultRun(db.ds, type, 'OV-87');
   // Off for 1 simulated hour every 6 simulated hours, from 1.5 s in: drops land in heating,
   // stressing, around the read point and in cooling, while commands are in flight.
-  const sim = startSimRig(stack.brokerUrl, fx, { faults: { dropOff: { afterWallS: 1.5, forWallS: HOUR_WALL_S, everyWallS: 6 * HOUR_WALL_S } } });
+  const sim = startSimRig(stack.brokerUrl, fx, {
+    faults: { dropOff: { afterWallS: 1.5, forWallS: HOUR_WALL_S, everyWallS: 6 * HOUR_WALL_S } },
+  });
   sims.push(sim);
   let dropsInStress = 0;
-  const drive = await driveRun(db.ds, stack, fx, sim, {
-    phase: 1,
-    atH: 2,
-    // And one drop on demand in the middle of stress (handle.dropFor), for good measure.
-    inject: async () => {
-      // dropFor does nothing while a scheduled drop is in progress: wait for the connection first.
-      await waitUntil(() => sim.rig.connected, 10_000, 'rig connected before the drop');
-      const before = sim.rig.stats.drops;
-      sim.rig.dropFor(HOUR_WALL_S * 1000);
-      dropsInStress = sim.rig.stats.drops - before;
-      await new Promise((r) => setTimeout(r, HOUR_WALL_S * 1000 + 200));
+  const drive = await driveRun(
+    db.ds,
+    stack,
+    fx,
+    sim,
+    {
+      phase: 1,
+      atH: 2,
+      // And one drop on demand in the middle of stress (handle.dropFor), for good measure.
+      inject: async () => {
+        // dropFor does nothing while a scheduled drop is in progress: wait for the connection first.
+        await waitUntil(() => sim.rig.connected, 10_000, 'rig connected before the drop');
+        const before = sim.rig.stats.drops;
+        sim.rig.dropFor(HOUR_WALL_S * 1000);
+        dropsInStress = sim.rig.stats.drops - before;
+        await new Promise((r) => setTimeout(r, HOUR_WALL_S * 1000 + 200));
+      },
     },
-  }, 55_000);
+    55_000,
+  );
   const f = await reconcile(db.ds, 'rig drops off 1 simulated h (repeated)', fx, sim, log, drive, started);
   printFigures({ ...f, drops: sim.rig.stats.drops, startupS: stack.startupS } as typeof f);
   expect(dropsInStress).toBe(1);

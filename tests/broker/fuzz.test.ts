@@ -36,7 +36,14 @@ const tally = new Tally();
 afterAll(() => console.log(tally.report(`MQTT fuzz (seed ${FUZZ_SEED})`)));
 
 const telemetry = () => ({
-  v: 1, rig: 'OV-01', seq: 42, ts: '2026-03-04T10:00:00.000Z', stressClockS: 151200, chamberC: 125.02, humidityPct: null, setpointC: 125,
+  v: 1,
+  rig: 'OV-01',
+  seq: 42,
+  ts: '2026-03-04T10:00:00.000Z',
+  stressClockS: 151200,
+  chamberC: 125.02,
+  humidityPct: null,
+  setpointC: 125,
   sockets: [
     { i: 0, caseC: 131.4, vV: 20, iA: 0.588, biasOn: true, tripped: false },
     { i: 1, caseC: 125.1, vV: 0, iA: 0, biasOn: false, tripped: true },
@@ -63,7 +70,9 @@ const CONTRACTS: Contract[] = [
 const physicalNonsense = (): fc.Arbitrary<unknown> =>
   fc.oneof(
     fc.double({ min: -1e6, max: -273.151, noNaN: true }).map((t) => ({ ...telemetry(), chamberC: t })),
-    fc.double({ min: -1e6, max: -273.151, noNaN: true }).map((t) => ({ ...telemetry(), sockets: [{ ...telemetry().sockets[0], caseC: t }] })),
+    fc
+      .double({ min: -1e6, max: -273.151, noNaN: true })
+      .map((t) => ({ ...telemetry(), sockets: [{ ...telemetry().sockets[0], caseC: t }] })),
     fc.constant({ ...telemetry(), sockets: [telemetry().sockets[0], telemetry().sockets[0]] }),
     fc.constant({ ...telemetry(), sockets: Array.from({ length: 257 }, (_, i) => ({ ...telemetry().sockets[0], i })) }),
     fc.constantFrom('NaN', 'Infinity', '-Infinity', '1e999').map((x) => ({ ...telemetry(), seq: x })),
@@ -80,7 +89,13 @@ interface Payload {
 
 const malformedPayload = (c: Contract): fc.Arbitrary<Payload> =>
   fc.oneof(
-    { weight: 8, arbitrary: mutatedBody(c.sample(), c.schema).map((b) => ({ kind: 'wrong types / missing fields / out of range', bytes: JSON.stringify(b) ?? 'null' })) },
+    {
+      weight: 8,
+      arbitrary: mutatedBody(c.sample(), c.schema).map((b) => ({
+        kind: 'wrong types / missing fields / out of range',
+        bytes: JSON.stringify(b) ?? 'null',
+      })),
+    },
     // Telemetry's physical nonsense (the other contracts draw another mutation instead).
     {
       weight: 2,
@@ -89,12 +104,24 @@ const malformedPayload = (c: Contract): fc.Arbitrary<Payload> =>
         bytes: JSON.stringify(b) ?? 'null',
       })),
     },
-    { weight: 2, arbitrary: fc.tuple(mutatedBody(c.sample(), c.schema), fc.nat(3)).map(([b, v]) => ({ kind: 'prototype-pollution keys', bytes: withPollutionKeys(b, v) })) },
     {
       weight: 2,
-      arbitrary: fc.integer({ min: 0, max: JSON.stringify(c.sample()).length - 1 }).map((cut) => ({ kind: 'truncated JSON', bytes: JSON.stringify(c.sample()).slice(0, cut) })),
+      arbitrary: fc
+        .tuple(mutatedBody(c.sample(), c.schema), fc.nat(3))
+        .map(([b, v]) => ({ kind: 'prototype-pollution keys', bytes: withPollutionKeys(b, v) })),
     },
-    { weight: 1, arbitrary: fc.integer({ min: 100, max: 20_000 }).map((d) => ({ kind: 'deeply nested', bytes: deepJson(d, d % 2 ? 'array' : 'object') })) },
+    {
+      weight: 2,
+      arbitrary: fc
+        .integer({ min: 0, max: JSON.stringify(c.sample()).length - 1 })
+        .map((cut) => ({ kind: 'truncated JSON', bytes: JSON.stringify(c.sample()).slice(0, cut) })),
+    },
+    {
+      weight: 1,
+      arbitrary: fc
+        .integer({ min: 100, max: 20_000 })
+        .map((d) => ({ kind: 'deeply nested', bytes: deepJson(d, d % 2 ? 'array' : 'object') })),
+    },
     { weight: 2, arbitrary: fc.uint8Array({ minLength: 0, maxLength: 300 }).map((b) => ({ kind: 'binary / not UTF-8', bytes: b })) },
     {
       weight: 2,
@@ -130,22 +157,26 @@ function reasonProblems(r: ParseResult<unknown>): string[] {
 }
 
 describe('MQTT payload parsers', () => {
-  test.each(CONTRACTS.map((c) => [c.name, c] as const))('%s: every malformed payload is rejected with a readable reason, none throws', (name, c) => {
-    const problems: string[] = [];
-    draw(malformedPayload(c), `mqtt ${name}`, PARSER_RUNS).forEach((p, i) => {
-      let r: ParseResult<unknown>;
-      try {
-        r = c.parse(p.bytes);
-      } catch (e) {
-        problems.push(`#${i} [${p.kind}] threw ${(e as Error).message}: ${show(p.bytes)}`);
-        return;
-      }
-      tally.add(`parser: ${p.kind}`);
-      const q = reasonProblems(r);
-      if (q.length) problems.push(`#${i} [${p.kind}] ${show(p.bytes)} → ${q.join('; ')}`);
-    });
-    if (problems.length) throw new Error(`${problems.length} problem(s); replay with EMBERLOT_FUZZ_SEED=${FUZZ_SEED}\n${problems.slice(0, 20).join('\n')}`);
-  });
+  test.each(CONTRACTS.map((c) => [c.name, c] as const))(
+    '%s: every malformed payload is rejected with a readable reason, none throws',
+    (name, c) => {
+      const problems: string[] = [];
+      draw(malformedPayload(c), `mqtt ${name}`, PARSER_RUNS).forEach((p, i) => {
+        let r: ParseResult<unknown>;
+        try {
+          r = c.parse(p.bytes);
+        } catch (e) {
+          problems.push(`#${i} [${p.kind}] threw ${(e as Error).message}: ${show(p.bytes)}`);
+          return;
+        }
+        tally.add(`parser: ${p.kind}`);
+        const q = reasonProblems(r);
+        if (q.length) problems.push(`#${i} [${p.kind}] ${show(p.bytes)} → ${q.join('; ')}`);
+      });
+      if (problems.length)
+        throw new Error(`${problems.length} problem(s); replay with EMBERLOT_FUZZ_SEED=${FUZZ_SEED}\n${problems.slice(0, 20).join('\n')}`);
+    },
+  );
 
   test('the samples the mutations start from are themselves valid (so the mutations are what is refused)', () => {
     for (const c of CONTRACTS) expect(c.parse(JSON.stringify(c.sample()))).toMatchObject({ ok: true });
@@ -172,7 +203,13 @@ describe('malformed payloads through a real broker', () => {
     server.on('message', (topic, payload) => {
       const parsed = parseRigTopic(topic);
       const r =
-        parsed?.kind === 'telemetry' ? parseTelemetry(payload) : parsed?.kind === 'status' ? parseStatus(payload) : parsed?.kind === 'command-acks' ? parseCommandAck(payload) : null;
+        parsed?.kind === 'telemetry'
+          ? parseTelemetry(payload)
+          : parsed?.kind === 'status'
+            ? parseStatus(payload)
+            : parsed?.kind === 'command-acks'
+              ? parseCommandAck(payload)
+              : null;
       verdicts.push({ topic, kind: parsed?.kind ?? '?', ok: !!r?.ok, reason: r && !r.ok ? r.reason : undefined });
     });
     await server.subscribeAsync(topics.all.everything, { qos: 1 });
@@ -186,7 +223,11 @@ describe('malformed payloads through a real broker', () => {
     let sent = 0;
     for (const { topic, c } of leaves) {
       // Under the broker's cap here (the cap itself has its own test below).
-      const payloads = draw(malformedPayload(c).filter((p) => Buffer.byteLength(p.bytes as string) < MAX - 512), `broker ${c.name}`, BROKER_RUNS);
+      const payloads = draw(
+        malformedPayload(c).filter((p) => Buffer.byteLength(p.bytes as string) < MAX - 512),
+        `broker ${c.name}`,
+        BROKER_RUNS,
+      );
       for (const p of payloads) {
         await rig.publishAsync(topic, Buffer.from(p.bytes as string), { qos: 1 });
         tally.add(`broker: ${c.name} ${p.kind}`);

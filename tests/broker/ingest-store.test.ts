@@ -30,18 +30,30 @@ afterAll(async () => {
 
 const message = (rig: string, seq: number): Telemetry =>
   telemetryFromReadings({
-  v: 2,
-  rig,
-  seq,
-  ts: new Date(Date.UTC(2026, 11, 2, 6, 0, seq)).toISOString(),
-  stressClockS: seq,
-  chamberC: 125,
-  humidityPct: null,
-  setpointC: 125,
-  sockets: Array.from({ length: 4 }, (_, i) => ({ i, caseC: 130 + i + seq / 100, vV: 20, iA: 0.25 + i / 1000, biasOn: i !== 2, tripped: i === 3 })),
+    v: 2,
+    rig,
+    seq,
+    ts: new Date(Date.UTC(2026, 11, 2, 6, 0, seq)).toISOString(),
+    stressClockS: seq,
+    chamberC: 125,
+    humidityPct: null,
+    setpointC: 125,
+    sockets: Array.from({ length: 4 }, (_, i) => ({
+      i,
+      caseC: 130 + i + seq / 100,
+      vV: 20,
+      iA: 0.25 + i / 1000,
+      biasOn: i !== 2,
+      tripped: i === 3,
+    })),
   });
 
-const item = (rig: string, seq: number): IngestItem => ({ kind: 'telemetry', rigCode: rig, msg: message(rig, seq), receivedAt: new Date() });
+const item = (rig: string, seq: number): IngestItem => ({
+  kind: 'telemetry',
+  rigCode: rig,
+  msg: message(rig, seq),
+  receivedAt: new Date(),
+});
 
 async function rowsOf(rig: string, seq: number): Promise<string[]> {
   const rows: Array<Record<string, unknown>> = await db.ds.query(
@@ -52,7 +64,10 @@ async function rowsOf(rig: string, seq: number): Promise<string[]> {
 }
 
 test('the rigs looked up with BEGIN: every valid code is found, "NULL" included', async () => {
-  const result = await writeBatch(pgPoolOf(ctx), CODES.map((c) => item(c, 1)));
+  const result = await writeBatch(
+    pgPoolOf(ctx),
+    CODES.map((c) => item(c, 1)),
+  );
   expect(result.rejected).toBe(0);
   expect(result.newMessages).toBe(3);
   expect(result.sampleRows).toBe(12);
@@ -70,23 +85,50 @@ test('the rigs looked up with BEGIN: every valid code is found, "NULL" included'
 test('values a 4-byte float cannot hold are stored as 0, and the batch around them commits', async () => {
   // PostgreSQL refuses '1e-50'::real ("out of range for type real", PostgreSQL 15 float4in); such a
   // value inside a COPY failed the whole batch, and the ingest retried it for ever.
-  const rejectedByPostgres = await pgPoolOf(ctx).query(`SELECT '1e-50'::real`).then(
-    () => false,
-    (err: Error) => /out of range for type real/.test(err.message),
-  );
+  const rejectedByPostgres = await pgPoolOf(ctx)
+    .query(`SELECT '1e-50'::real`)
+    .then(
+      () => false,
+      (err: Error) => /out of range for type real/.test(err.message),
+    );
   expect(rejectedByPostgres).toBe(true);
   const text = JSON.stringify({
-    v: 2, rig: 'B7', seq: 40, ts: '2026-12-02T06:00:40.000Z', stressClockS: 40, chamberC: 1e-50, humidityPct: 2e-45, setpointC: 125,
-    socket: [0, 1, 2, 3], caseC: [1e-50, -3e-46, 1e-40, 130.5], vV: [20, -1e-300, 0, 20], iA: [1e-300, 0.25, 0.25, 0.25], flags: [1, 1, 1, 1],
+    v: 2,
+    rig: 'B7',
+    seq: 40,
+    ts: '2026-12-02T06:00:40.000Z',
+    stressClockS: 40,
+    chamberC: 1e-50,
+    humidityPct: 2e-45,
+    setpointC: 125,
+    socket: [0, 1, 2, 3],
+    caseC: [1e-50, -3e-46, 1e-40, 130.5],
+    vV: [20, -1e-300, 0, 20],
+    iA: [1e-300, 0.25, 0.25, 0.25],
+    flags: [1, 1, 1, 1],
   });
   const parsed = parseTelemetry(text);
   if (!parsed.ok) throw new Error(parsed.reason);
-  expect(parsed.data).toMatchObject({ chamberC: 0, humidityPct: 0, caseC: [0, 0, 1e-40, 130.5], vV: [20, 0, 0, 20], iA: [1e-300, 0.25, 0.25, 0.25] });
-  const result = await writeBatch(pgPoolOf(ctx), [{ kind: 'telemetry', rigCode: 'B7', msg: parsed.data, receivedAt: new Date() }, item('B7', 41)]);
+  expect(parsed.data).toMatchObject({
+    chamberC: 0,
+    humidityPct: 0,
+    caseC: [0, 0, 1e-40, 130.5],
+    vV: [20, 0, 0, 20],
+    iA: [1e-300, 0.25, 0.25, 0.25],
+  });
+  const result = await writeBatch(pgPoolOf(ctx), [
+    { kind: 'telemetry', rigCode: 'B7', msg: parsed.data, receivedAt: new Date() },
+    item('B7', 41),
+  ]);
   expect(result.newMessages).toBe(2);
   const rows = (await rowsOf('B7', 40)).map((r) => JSON.parse(r) as { case_c: number; v_v: number; i_a: number });
   // 1e-40 is a subnormal float: kept (as the nearest float); the double column keeps 1e-300.
-  expect(rows.map((r) => [r.case_c, r.v_v])).toEqual([[0, 20], [0, 0], [1e-40, 0], [130.5, 20]]);
+  expect(rows.map((r) => [r.case_c, r.v_v])).toEqual([
+    [0, 20],
+    [0, 0],
+    [1e-40, 0],
+    [130.5, 20],
+  ]);
   expect(rows[0].i_a).toBe(1e-300);
   const [batch] = await db.ds.query(`SELECT chamber_c, humidity_pct FROM telemetry_batches WHERE rig_id = $1 AND seq = 40`, [ids.B7]);
   expect(batch).toEqual({ chamber_c: 0, humidity_pct: 0 });

@@ -38,7 +38,14 @@ function readings(rig: string, seq: number): TelemetryReadings {
     chamberC: 150 + (seq % 7) * 0.1,
     humidityPct: null,
     setpointC: 150,
-    sockets: Array.from({ length: SOCKETS }, (_, i) => ({ i, caseC: 151 + i * 0.05 + (seq % 5) * 0.01, vV: 40.2, iA: 0.1234 + i * 1e-4, biasOn: true, tripped: false })),
+    sockets: Array.from({ length: SOCKETS }, (_, i) => ({
+      i,
+      caseC: 151 + i * 0.05 + (seq % 5) * 0.01,
+      vV: 40.2,
+      iA: 0.1234 + i * 1e-4,
+      biasOn: true,
+      tripped: false,
+    })),
   };
 }
 
@@ -55,7 +62,15 @@ async function insertBaseline(pool: Pool, rigCode: string, msgs: Telemetry[]): P
     await client.query(
       `INSERT INTO telemetry_batches (rig_id, seq, ts, stress_clock_s, chamber_c, humidity_pct, setpoint_c)
        SELECT $1::uuid, * FROM unnest($2::bigint[], $3::timestamptz[], $4::float8[], $5::real[], $6::real[], $7::real[]) ON CONFLICT DO NOTHING`,
-      [id, msgs.map((m) => m.seq), msgs.map((m) => m.ts), msgs.map((m) => m.stressClockS), msgs.map((m) => m.chamberC), msgs.map((m) => m.humidityPct), msgs.map((m) => m.setpointC)],
+      [
+        id,
+        msgs.map((m) => m.seq),
+        msgs.map((m) => m.ts),
+        msgs.map((m) => m.stressClockS),
+        msgs.map((m) => m.chamberC),
+        msgs.map((m) => m.humidityPct),
+        msgs.map((m) => m.setpointC),
+      ],
     );
     const cols: [string[], number[], number[], number[], number[], number[], boolean[], boolean[]] = [[], [], [], [], [], [], [], []];
     for (const msg of msgs) {
@@ -118,7 +133,9 @@ test('COPY (the ingest) vs multi-row INSERT (baseline) for the socket rows (rows
   const median = (a: number[]) => [...a].sort((x, y) => x - y)[Math.floor(a.length / 2)];
   const copy = Math.round(median(rates.copy));
   const insert = Math.round(median(rates.insert));
-  console.log(`[bench] ${PER_BATCH} messages × ${SOCKETS} sockets per transaction: COPY ${copy} rows/s, INSERT unnest ${insert} rows/s (median of ${rounds - 1})`);
+  console.log(
+    `[bench] ${PER_BATCH} messages × ${SOCKETS} sockets per transaction: COPY ${copy} rows/s, INSERT unnest ${insert} rows/s (median of ${rounds - 1})`,
+  );
   expect(copy).toBeGreaterThan(2_000);
   expect(insert).toBeGreaterThan(2_000);
 });
@@ -128,7 +145,11 @@ test('end to end: MQTT → validate → batch → COPY → stored (samples/s)', 
     port: 0,
     authenticate: createPgAuthenticate({ pool: pgPoolOf(ctx), server: { username: 'srv', password: 'srv-pass' } }),
   });
-  const stop = await startTelemetry(ctx, { mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, username: 'srv', password: 'srv-pass' }, clientId: 'bench-server', log: () => undefined });
+  const stop = await startTelemetry(ctx, {
+    mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, username: 'srv', password: 'srv-pass' },
+    clientId: 'bench-server',
+    log: () => undefined,
+  });
   const rig = await connectClient(eb.port, { clientId: 'rig-BX-E2E', username: 'rig-bx-e2e', password: 'bench-secret' });
   try {
     await sleep(300);
@@ -138,14 +159,18 @@ test('end to end: MQTT → validate → batch → COPY → stored (samples/s)', 
     for (const p of payloads) rig.publish(topics.telemetry('BX-E2E'), p, { qos: 1 });
     let n = 0;
     while (Date.now() - t0 < 25_000) {
-      const [{ c }] = await db.ds.query(`SELECT count(*)::int AS c FROM telemetry_batches b JOIN rigs r ON r.id = b.rig_id WHERE r.code = 'BX-E2E'`);
+      const [{ c }] = await db.ds.query(
+        `SELECT count(*)::int AS c FROM telemetry_batches b JOIN rigs r ON r.id = b.rig_id WHERE r.code = 'BX-E2E'`,
+      );
       n = c;
       if (n >= N) break;
       await sleep(50);
     }
     const s = (Date.now() - t0) / 1000;
     const st = ctx.services.telemetryIngest!.stats();
-    console.log(`[bench] end to end: ${N} messages × ${SOCKETS} sockets in ${s.toFixed(2)} s = ${Math.round((N * SOCKETS) / s)} samples/s (${Math.round(N / s)} messages/s; ${st.batches} transactions, last ${st.lastBatchMs} ms; broker, publisher and server share one process)`);
+    console.log(
+      `[bench] end to end: ${N} messages × ${SOCKETS} sockets in ${s.toFixed(2)} s = ${Math.round((N * SOCKETS) / s)} samples/s (${Math.round(N / s)} messages/s; ${st.batches} transactions, last ${st.lastBatchMs} ms; broker, publisher and server share one process)`,
+    );
     expect(n).toBe(N);
   } finally {
     await rig.endAsync(true).catch(() => undefined);

@@ -14,7 +14,12 @@ import { parseCommand, topics, type SeqRange } from '../../shared/mqtt';
 import { configFromEnv } from '../../server/config';
 import { createContext } from '../../server/composition';
 import type { AppContext } from '../../server/context';
-import { RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigStatusChanged, type TelemetryLanded } from '../../server/modules/telemetry/contracts';
+import {
+  RIG_STATUS_CHANGED,
+  TELEMETRY_LANDED,
+  type RigStatusChanged,
+  type TelemetryLanded,
+} from '../../server/modules/telemetry/contracts';
 import { pgPoolOf, startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
 import { recoverRollups, ROLLUP_WATERMARK } from '../../server/modules/telemetry/rollups';
 import { createTestDb, insertTestRig, testDbConfig, type TestDb } from '../support/db';
@@ -78,7 +83,9 @@ beforeAll(async () => {
   ctx = createContext(db.ds, { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config });
   eb = await startBroker();
   port = eb.port;
-  ctx.events.on(TELEMETRY_LANDED, (l: TelemetryLanded) => landed.set(`${l.rigCode}|${l.seq}`, (landed.get(`${l.rigCode}|${l.seq}`) ?? 0) + 1));
+  ctx.events.on(TELEMETRY_LANDED, (l: TelemetryLanded) =>
+    landed.set(`${l.rigCode}|${l.seq}`, (landed.get(`${l.rigCode}|${l.seq}`) ?? 0) + 1),
+  );
   ctx.events.on(RIG_STATUS_CHANGED, (s: RigStatusChanged) => statusEvents.push(s));
   stopTelemetry = await startTelemetry(ctx, {
     mqtt: { url: `mqtt://127.0.0.1:${port}`, ...SERVER },
@@ -159,19 +166,41 @@ test('rollups lost in a crash are rebuilt exactly from the stored samples, only 
   await db.ds.query('DELETE FROM telemetry_rollups WHERE rig_id = $1 AND socket >= 4', [rig]);
   await db.ds.query('UPDATE telemetry_rollups SET n = n - 1, sum_c = sum_c - 100 WHERE rig_id = $1 AND socket = 1', [rig]);
   // A watermark later than every batch (+ the margin): nothing to rebuild, nothing touched.
-  await db.ds.query(`UPDATE system_counters SET value = (extract(epoch FROM now()) * 1000)::bigint + 600000 WHERE name = $1`, [ROLLUP_WATERMARK]);
+  await db.ds.query(`UPDATE system_counters SET value = (extract(epoch FROM now()) * 1000)::bigint + 600000 WHERE name = $1`, [
+    ROLLUP_WATERMARK,
+  ]);
   expect(await recoverRollups(pgPoolOf(ctx))).toBe(0);
   expect((await snapshot()).length).toBeLessThan(before.length);
   // The watermark of a real flush (the batches are seconds old): every touched minute rebuilt.
-  await db.ds.query(`UPDATE system_counters SET value = (extract(epoch FROM now()) * 1000)::bigint - 1000 WHERE name = $1`, [ROLLUP_WATERMARK]);
+  await db.ds.query(`UPDATE system_counters SET value = (extract(epoch FROM now()) * 1000)::bigint - 1000 WHERE name = $1`, [
+    ROLLUP_WATERMARK,
+  ]);
   expect(await recoverRollups(pgPoolOf(ctx))).toBeGreaterThan(0);
   const after = await snapshot();
   // Same rows; sums equal to the in-memory ones up to the real (float4) storage of the samples.
-  expect(after.map((r: { socket: number; minute: Date; n: number; min_c: number; max_c: number }) => [r.socket, r.minute.toISOString(), r.n, r.min_c, r.max_c])).toEqual(
-    before.map((r: { socket: number; minute: Date; n: number; min_c: number; max_c: number }) => [r.socket, r.minute.toISOString(), r.n, r.min_c, r.max_c]),
+  expect(
+    after.map((r: { socket: number; minute: Date; n: number; min_c: number; max_c: number }) => [
+      r.socket,
+      r.minute.toISOString(),
+      r.n,
+      r.min_c,
+      r.max_c,
+    ]),
+  ).toEqual(
+    before.map((r: { socket: number; minute: Date; n: number; min_c: number; max_c: number }) => [
+      r.socket,
+      r.minute.toISOString(),
+      r.n,
+      r.min_c,
+      r.max_c,
+    ]),
   );
-  after.forEach((r: { sum_c: string }, k: number) => expect(Math.abs(Number(r.sum_c) - Number(before[k].sum_c))).toBeLessThan(1e-3 * Math.max(1, Math.abs(Number(before[k].sum_c)))));
-  expect(await count('SELECT sum(n) AS n FROM telemetry_rollups WHERE rig_id = $1 AND socket = -1', [rig])).toBe(await count('SELECT count(*) AS n FROM telemetry_batches WHERE rig_id = $1', [rig]));
+  after.forEach((r: { sum_c: string }, k: number) =>
+    expect(Math.abs(Number(r.sum_c) - Number(before[k].sum_c))).toBeLessThan(1e-3 * Math.max(1, Math.abs(Number(before[k].sum_c)))),
+  );
+  expect(await count('SELECT sum(n) AS n FROM telemetry_rollups WHERE rig_id = $1 AND socket = -1', [rig])).toBe(
+    await count('SELECT count(*) AS n FROM telemetry_batches WHERE rig_id = $1', [rig]),
+  );
 });
 
 test('broker restarted mid-run: nothing lost, nothing stored twice', async () => {
@@ -211,7 +240,11 @@ test('a replay of already-stored seqs stores nothing twice but is confirmed agai
   expect((await counter('ingest_duplicates')) - dupsBefore).toBe(20);
   for (const s of range(1, 25)) expect(landed.get(`OV-02|${s}`)).toBe(1);
   // A seq re-used with different content is kept once and reported.
-  rig.publish(topics.telemetry('OV-02'), telemetryPayload('OV-02', 3, { chamberC: 99, ts: new Date(T_BASE + 86_400_000 / 2).toISOString() }), { qos: 1 });
+  rig.publish(
+    topics.telemetry('OV-02'),
+    telemetryPayload('OV-02', 3, { chamberC: 99, ts: new Date(T_BASE + 86_400_000 / 2).toISOString() }),
+    { qos: 1 },
+  );
   await waitFor(() => isConfirmed(3), 5000, 'conflict confirmation');
   await sleep(200);
   expect(await counter('ingest_seq_conflicts')).toBe(1);
@@ -223,7 +256,10 @@ test('malformed and unknown-rig messages are stored only as rejections, with rea
   const rig = await connectClient(port, { clientId: 'rig-OV-03', username: 'rig-ov-03', password: SECRETS['OV-03'] });
   const spoof = await connectClient(port, { clientId: 'emberlot-spoof-test', ...SERVER });
   clients.push(rig, spoof);
-  const countsBefore = { batches: await count('SELECT count(*) AS n FROM telemetry_batches'), samples: await count('SELECT count(*) AS n FROM telemetry_samples') };
+  const countsBefore = {
+    batches: await count('SELECT count(*) AS n FROM telemetry_batches'),
+    samples: await count('SELECT count(*) AS n FROM telemetry_samples'),
+  };
   const rejectedBefore = await counter('ingest_rejected');
   const T = topics.telemetry('OV-03');
   const bad: Array<[string, string]> = [
@@ -291,7 +327,9 @@ test('RigLink: a command is acknowledged; one sent while the rig is away waits a
   const ack = await link.send('OV-03', { type: 'setpoint', setpointC: 130 }, { cmdId: 'test:setpoint:1' });
   expect(ack).toMatchObject({ ok: true, cmdId: 'test:setpoint:1' });
   await expect(link.send('OV-03', { type: 'setpoint', setpointC: 900 })).rejects.toThrow(/Invalid command/);
-  await expect(link.send('OV-03', { type: 'setpoint', setpointC: 150 }, { cmdId: 'test:setpoint:2', timeoutMs: 3000 })).resolves.toMatchObject({ ok: true });
+  await expect(
+    link.send('OV-03', { type: 'setpoint', setpointC: 150 }, { cmdId: 'test:setpoint:2', timeoutMs: 3000 }),
+  ).resolves.toMatchObject({ ok: true });
   rig.dropFor(700);
   const later = link.send('OV-03', { type: 'bias', sockets: [0, 1], on: false }, { cmdId: 'test:bias:1', timeoutMs: 8000 });
   await expect(later).resolves.toMatchObject({ ok: true, cmdId: 'test:bias:1' });
@@ -303,7 +341,9 @@ test('RigLink: a command is acknowledged; one sent while the rig is away waits a
 test('buffer full (database down): new messages are turned away unconfirmed and counted in ingest_dropped', async () => {
   const { TelemetryIngest } = await import('../../server/modules/telemetry/ingest');
   let down = true;
-  const badPool = { connect: async () => Promise.reject(Object.assign(new Error('connect ECONNREFUSED 127.0.0.1:1'), { code: 'ECONNREFUSED' })) } as unknown as Pool;
+  const badPool = {
+    connect: async () => Promise.reject(Object.assign(new Error('connect ECONNREFUSED 127.0.0.1:1'), { code: 'ECONNREFUSED' })),
+  } as unknown as Pool;
   const stored: number[] = [];
   const lines: string[] = [];
   const ingest = new TelemetryIngest(

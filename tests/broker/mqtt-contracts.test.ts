@@ -50,7 +50,12 @@ describe('topics', () => {
     expect(topics.telemetry('OV-01')).toBe('emberlot/v1/rigs/OV-01/telemetry');
     expect(parseRigTopic('emberlot/v1/rigs/OV-01/command-acks')).toEqual({ rigCode: 'OV-01', kind: 'command-acks' });
     expect(rigCodeFromTopic(topics.status('HPD-RIG-7'))).toBe('HPD-RIG-7');
-    for (const t of ['emberlot/v2/rigs/OV-01/telemetry', 'emberlot/v1/rigs/ov-01/telemetry', 'emberlot/v1/rigs/OV-01/other', 'emberlot/v1/rigs/OV-01/telemetry/x']) {
+    for (const t of [
+      'emberlot/v2/rigs/OV-01/telemetry',
+      'emberlot/v1/rigs/ov-01/telemetry',
+      'emberlot/v1/rigs/OV-01/other',
+      'emberlot/v1/rigs/OV-01/telemetry/x',
+    ]) {
       expect(parseRigTopic(t)).toBeNull();
     }
     expect(() => topics.telemetry('OV/01')).toThrow('Invalid rig code');
@@ -85,7 +90,11 @@ describe('telemetry validation', () => {
 
   test.each([
     ['not JSON', 'nope{', 'payload is not valid JSON'],
-    ['implausible case temperature', { ...good(), sockets: [{ ...good().sockets[0], caseC: 900 }] }, 'sockets.0.caseC: Too big: expected number to be <=500'],
+    [
+      'implausible case temperature',
+      { ...good(), sockets: [{ ...good().sockets[0], caseC: 900 }] },
+      'sockets.0.caseC: Too big: expected number to be <=500',
+    ],
     ['below absolute zero', { ...good(), chamberC: -300 }, 'chamberC: Too small: expected number to be >=-273.15'],
     ['duplicate socket', { ...good(), sockets: [good().sockets[0], good().sockets[0]] }, 'sockets.1.i: socket index 0 appears twice'],
     ['seq not an integer', { ...good(), seq: 1.5 }, 'seq: Invalid input: expected int, received number'],
@@ -99,7 +108,10 @@ describe('telemetry validation', () => {
   test('more than 256 sockets is refused; so is a payload over the packet cap', () => {
     const many = { ...good(), sockets: Array.from({ length: 257 }, (_, i) => ({ ...good().sockets[0], i: i % 256 })) };
     expect(parseTelemetry(JSON.stringify(many)).ok).toBe(false);
-    expect(parseTelemetry('x'.repeat(MAX_PACKET_BYTES + 1))).toEqual({ ok: false, reason: `payload larger than ${MAX_PACKET_BYTES} bytes` });
+    expect(parseTelemetry('x'.repeat(MAX_PACKET_BYTES + 1))).toEqual({
+      ok: false,
+      reason: `payload larger than ${MAX_PACKET_BYTES} bytes`,
+    });
   });
 });
 
@@ -111,11 +123,48 @@ describe('telemetry validation', () => {
  */
 describe('telemetry fast path agrees with the zod schema', () => {
   const rnd = mulberry32(20261202);
-  const pick = <T,>(xs: readonly T[]): T => xs[Math.floor(rnd() * xs.length)];
+  const pick = <T>(xs: readonly T[]): T => xs[Math.floor(rnd() * xs.length)];
   const wild: unknown[] = [
-    0, -0, 1, -1, 1.5, 255, 256, -273.15, -273.16, 500, 500.01, 1e12, 1e12 + 1, 1e4, -1e4, 10_000.5, 1000, -1000.5, 100, 100.1,
-    Number.MAX_SAFE_INTEGER, Number.MAX_SAFE_INTEGER + 2, 1e300, null, true, false, '', '1', 'OV-01', 'ov-01', 'A', 'X'.repeat(33),
-    '2025-03-04T10:00:00Z', '2025-03-04T10:00:00+02:00', '2025-03-04 10:00:00', '2025-13-04T10:00:00Z', [], {}, [1], { i: 0 },
+    0,
+    -0,
+    1,
+    -1,
+    1.5,
+    255,
+    256,
+    -273.15,
+    -273.16,
+    500,
+    500.01,
+    1e12,
+    1e12 + 1,
+    1e4,
+    -1e4,
+    10_000.5,
+    1000,
+    -1000.5,
+    100,
+    100.1,
+    Number.MAX_SAFE_INTEGER,
+    Number.MAX_SAFE_INTEGER + 2,
+    1e300,
+    null,
+    true,
+    false,
+    '',
+    '1',
+    'OV-01',
+    'ov-01',
+    'A',
+    'X'.repeat(33),
+    '2025-03-04T10:00:00Z',
+    '2025-03-04T10:00:00+02:00',
+    '2025-03-04 10:00:00',
+    '2025-13-04T10:00:00Z',
+    [],
+    {},
+    [1],
+    { i: 0 },
   ];
   const validMessage = (): TelemetryReadings => {
     const n = 1 + Math.floor(rnd() * 8);
@@ -141,7 +190,9 @@ describe('telemetry fast path agrees with the zod schema', () => {
   };
   /** One change at the top level or in one socket: a wild value, a deleted key, an extra key. */
   const mutate = (m: Record<string, unknown>): void => {
-    const sockets = Array.isArray(m.sockets) ? (m.sockets as unknown[]).filter((x): x is Record<string, unknown> => typeof x === 'object' && x !== null && !Array.isArray(x)) : [];
+    const sockets = Array.isArray(m.sockets)
+      ? (m.sockets as unknown[]).filter((x): x is Record<string, unknown> => typeof x === 'object' && x !== null && !Array.isArray(x))
+      : [];
     const target: Record<string, unknown> = rnd() < 0.5 || !sockets.length ? m : pick(sockets);
     const r = rnd();
     if (r < 0.7) target[pick(Object.keys(target))] = pick(wild);
@@ -198,8 +249,19 @@ describe('telemetry in column form', () => {
   test('lands as the object form of the same content does; both forms round-trip', () => {
     const text = telemetryColumnsText(good());
     expect(JSON.parse(text)).toEqual({
-      v: 2, rig: 'OV-01', seq: 42, ts: '2025-03-04T10:00:00.000Z', stressClockS: 151200, chamberC: 125.02, humidityPct: null, setpointC: 125,
-      socket: [0, 1], caseC: [131.4, 125.1], vV: [20, 0], iA: [0.588, 0], flags: [1, 2],
+      v: 2,
+      rig: 'OV-01',
+      seq: 42,
+      ts: '2025-03-04T10:00:00.000Z',
+      stressClockS: 151200,
+      chamberC: 125.02,
+      humidityPct: null,
+      setpointC: 125,
+      socket: [0, 1],
+      caseC: [131.4, 125.1],
+      vV: [20, 0],
+      iA: [0.588, 0],
+      flags: [1, 2],
     });
     expect(parseTelemetry(Buffer.from(text))).toEqual({ ok: true, data: telemetryFromReadings({ ...good(), v: 2 }) });
     expect(parseTelemetry(JSON.stringify(good()))).toEqual({ ok: true, data: telemetryFromReadings(good()) });
@@ -207,7 +269,10 @@ describe('telemetry in column form', () => {
     if (!parsed.ok) throw new Error(parsed.reason);
     expect(telemetryColumnsText(parsed.data)).toBe(text);
     // A v1 message of 64 sockets against its column form: well under half the bytes.
-    const big = { ...good(), sockets: Array.from({ length: 64 }, (_, i) => ({ i, caseC: 95.37, vV: 20, iA: 0.29871, biasOn: true, tripped: false })) };
+    const big = {
+      ...good(),
+      sockets: Array.from({ length: 64 }, (_, i) => ({ i, caseC: 95.37, vV: 20, iA: 0.29871, biasOn: true, tripped: false })),
+    };
     expect(telemetryColumnsText(big).length).toBeLessThan(0.45 * JSON.stringify(big).length);
   });
 
@@ -216,8 +281,16 @@ describe('telemetry in column form', () => {
     ['a missing column', (c: Record<string, unknown>) => delete c.flags, 'flags: Invalid input: expected array, received undefined'],
     ['a repeated socket index', (c: Record<string, unknown>) => (c.socket = [3, 3]), 'socket.1: socket index 3 appears twice'],
     ['flags out of range', (c: Record<string, unknown>) => (c.flags = [1, 4]), 'flags.1: Too big: expected number to be <=3'],
-    ['an implausible case temperature', (c: Record<string, unknown>) => (c.caseC = [131.4, 900]), 'caseC.1: Too big: expected number to be <=500'],
-    ['no sockets', (c: Record<string, unknown>) => Object.assign(c, { socket: [], caseC: [], vV: [], iA: [], flags: [] }), 'socket: Too small: expected array to have >=1 items'],
+    [
+      'an implausible case temperature',
+      (c: Record<string, unknown>) => (c.caseC = [131.4, 900]),
+      'caseC.1: Too big: expected number to be <=500',
+    ],
+    [
+      'no sockets',
+      (c: Record<string, unknown>) => Object.assign(c, { socket: [], caseC: [], vV: [], iA: [], flags: [] }),
+      'socket: Too small: expected array to have >=1 items',
+    ],
   ])('%s is refused with a readable reason', (_label, change, reason) => {
     const c = columns(good());
     change(c);
@@ -226,8 +299,31 @@ describe('telemetry in column form', () => {
 
   test('mutated column messages: same verdict and reason as zod; the fast path accepts only what zod keeps unchanged', () => {
     const rnd = mulberry32(20261203);
-    const pick = <T,>(xs: readonly T[]): T => xs[Math.floor(rnd() * xs.length)];
-    const wild: unknown[] = [0, 1, 2, 3, 4, -1, 1.5, 255, 256, -273.16, 500.01, 1e4, -1e4, 1000.5, null, true, '1', [], {}, [1], 'OV-01', 'ov 1'];
+    const pick = <T>(xs: readonly T[]): T => xs[Math.floor(rnd() * xs.length)];
+    const wild: unknown[] = [
+      0,
+      1,
+      2,
+      3,
+      4,
+      -1,
+      1.5,
+      255,
+      256,
+      -273.16,
+      500.01,
+      1e4,
+      -1e4,
+      1000.5,
+      null,
+      true,
+      '1',
+      [],
+      {},
+      [1],
+      'OV-01',
+      'ov 1',
+    ];
     const valid = (): Record<string, unknown> => {
       const n = 1 + Math.floor(rnd() * 8);
       const first = Math.floor(rnd() * (256 - n));
@@ -235,7 +331,14 @@ describe('telemetry in column form', () => {
         ...good(),
         seq: 1 + Math.floor(rnd() * 1e6),
         humidityPct: rnd() < 0.5 ? null : rnd() * 100,
-        sockets: Array.from({ length: n }, (_, k) => ({ i: first + k, caseC: -40 + rnd() * 300, vV: (rnd() - 0.5) * 2000, iA: (rnd() - 0.5) * 10, biasOn: rnd() < 0.5, tripped: rnd() < 0.1 })),
+        sockets: Array.from({ length: n }, (_, k) => ({
+          i: first + k,
+          caseC: -40 + rnd() * 300,
+          vV: (rnd() - 0.5) * 2000,
+          iA: (rnd() - 0.5) * 10,
+          biasOn: rnd() < 0.5,
+          tripped: rnd() < 0.1,
+        })),
       });
     };
     const mutate = (m: Record<string, unknown>): void => {
@@ -289,7 +392,15 @@ describe('commands', () => {
       { v: 1, cmdId: 'a2', type: 'bias', sockets: 'all', on: true, vV: 160 },
       { v: 1, cmdId: 'a3', type: 'trip', socket: 5, reason: 'Tj projected above rating' },
       { v: 1, cmdId: 'a4', type: 'reset-trip', socket: 5 },
-      { v: 1, cmdId: 'a5', type: 'stored', ranges: [[1, 40], [42, 42]] },
+      {
+        v: 1,
+        cmdId: 'a5',
+        type: 'stored',
+        ranges: [
+          [1, 40],
+          [42, 42],
+        ],
+      },
     ];
     for (const b of bodies) expect(parseCommand(JSON.stringify(b))).toMatchObject({ ok: true });
     expect(parseCommand(JSON.stringify({ v: 1, cmdId: 'a6', type: 'stored', ranges: [[5, 4]] }))).toEqual({
@@ -310,7 +421,15 @@ describe('commands', () => {
   test('stored commands carry merged ranges and split when very long', () => {
     let n = 0;
     const [cmd] = buildStoredCommands([3, 1, 2, 7], () => `s${++n}`);
-    expect(cmd).toEqual({ v: 1, type: 'stored', cmdId: 's1', ranges: [[1, 3], [7, 7]] });
+    expect(cmd).toEqual({
+      v: 1,
+      type: 'stored',
+      cmdId: 's1',
+      ranges: [
+        [1, 3],
+        [7, 7],
+      ],
+    });
     expect(seqInRanges(2, cmd.ranges)).toBe(true);
     expect(seqInRanges(5, cmd.ranges)).toBe(false);
     const odd = Array.from({ length: 2500 }, (_, k) => 2 * k + 1); // 2500 separate ranges

@@ -45,7 +45,8 @@ describe('condition alarms', () => {
     setpointC: fx.plan.chamberC,
     ...socketColumns(sockets),
   });
-  const live = (rigId: string, kind: AlarmEntity['kind']) => t.ctx.ds.getRepository(AlarmEntity).find({ where: { rigId, kind }, order: { raisedAt: 'ASC' } });
+  const live = (rigId: string, kind: AlarmEntity['kind']) =>
+    t.ctx.ds.getRepository(AlarmEntity).find({ where: { rigId, kind }, order: { raisedAt: 'ASC' } });
 
   it('chamber out of its ±3 % band while stressing: one alarm, cleared on return, re-activated (not duplicated) on a repeat', async () => {
     const fx = await createRunFixture(t.ctx.ds, { rigCode: 'AB-01', sockets: 1, chamberC: 125, bias: { vceV: 10, ibA: 0.001 } });
@@ -76,7 +77,12 @@ describe('condition alarms', () => {
   });
 
   it('bias out of tolerance (measured vs plan) on one socket only', async () => {
-    const fx = await createRunFixture(t.ctx.ds, { rigCode: 'BT-01', sockets: 2, chamberC: 100, bias: { vceV: 20, ibA: 0.0015, tolerancePct: 5 } });
+    const fx = await createRunFixture(t.ctx.ds, {
+      rigCode: 'BT-01',
+      sockets: 2,
+      chamberC: 100,
+      bias: { vceV: 20, ibA: 0.0015, tolerancePct: 5 },
+    });
     for (let k = 1; k <= 4; k++) {
       t.ctx.events.emit(
         TELEMETRY_LANDED,

@@ -45,15 +45,31 @@ beforeAll(async () => {
   db = await createTestDb();
   sink = await startMailSink({ port: 0 });
   // The simulator's demo part: Tj max 150 °C, θjc 1.5 °C/W (HPD-T220N); the run's device type says the same.
-  fx = await createRunFixture(db.ds, { rigCode: RIG.code, sockets: 4, chamberC: 60, bias: { vceV: 20, ibA: 0.005 }, tjMaxC: 150, thetaJcCPerW: 1.5 });
-  await db.ds.getRepository(UserEntity).insert({ email: 'night.shift@harrowgate-lab.example', name: 'Night shift', role: 'operator', passwordHash: await bcrypt.hash('not-used-here', 4) });
+  fx = await createRunFixture(db.ds, {
+    rigCode: RIG.code,
+    sockets: 4,
+    chamberC: 60,
+    bias: { vceV: 20, ibA: 0.005 },
+    tjMaxC: 150,
+    thetaJcCPerW: 1.5,
+  });
+  await db.ds.getRepository(UserEntity).insert({
+    email: 'night.shift@harrowgate-lab.example',
+    name: 'Night shift',
+    role: 'operator',
+    passwordHash: await bcrypt.hash('not-used-here', 4),
+  });
   ctx = createContext(db.ds, {
     ...configFromEnv({} as NodeJS.ProcessEnv),
     db: db.config,
     smtp: { host: '127.0.0.1', port: sink.port, from: 'Emberlot <emberlot@harrowgate-lab.example>' },
   });
   eb = await createEmberlotBroker({ port: 0, authenticate });
-  stopTelemetry = await startTelemetry(ctx, { mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, ...SERVER }, clientId: 'emberlot-server-protection-e2e', sweepEveryMs: 60_000 });
+  stopTelemetry = await startTelemetry(ctx, {
+    mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, ...SERVER },
+    clientId: 'emberlot-server-protection-e2e',
+    sweepEveryMs: 60_000,
+  });
   feature = await startProtectionFeature(ctx, { mail: { attempts: 2, backoffMs: 10 } });
   await waitFor(() => ctx.services.rigLink!.connected(), 5000, 'server link');
 });
@@ -116,7 +132,12 @@ test('a poorly heat-sunk socket is tripped over MQTT before Tj max; its neighbou
   const alarms = await db.ds.getRepository(AlarmEntity).find({ where: { rigId: fx.rig.id, kind: 'runaway-trip' } });
   expect(alarms).toHaveLength(1);
   expect(alarms[0].details).toEqual(expect.objectContaining({ command: 'confirmed', cmdId: `trip:${RIG.code}:2:${fx.run.id}` }));
-  const mail = await sink.waitFor((m) => m.to.includes('night.shift@harrowgate-lab.example') && /Socket tripped: runaway/.test(m.subject), 5000);
+  const mail = await sink.waitFor(
+    (m) => m.to.includes('night.shift@harrowgate-lab.example') && /Socket tripped: runaway/.test(m.subject),
+    5000,
+  );
   expect(mail.text).toMatch(/Leave the socket de-energised/);
-  console.log(`End to end: socket 2 peak Tj ${peakTj[2].toFixed(1)} °C (Tj max ${s[2].device.tjMaxC} °C), margin ${(s[2].device.tjMaxC - peakTj[2]).toFixed(1)} °C; ${feature.monitor.tripLog[0]?.assessment.reason}`);
+  console.log(
+    `End to end: socket 2 peak Tj ${peakTj[2].toFixed(1)} °C (Tj max ${s[2].device.tjMaxC} °C), margin ${(s[2].device.tjMaxC - peakTj[2]).toFixed(1)} °C; ${feature.monitor.tripLog[0]?.assessment.reason}`,
+  );
 });

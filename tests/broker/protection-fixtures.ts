@@ -181,7 +181,10 @@ export class SocketSim {
   tripped = false;
   maxTjC: number;
 
-  constructor(readonly model: SocketModel, chamberC: number) {
+  constructor(
+    readonly model: SocketModel,
+    chamberC: number,
+  ) {
     this.caseC = chamberC;
     this.thetaCa = model.thetaCaCPerW;
     this.tjC = chamberC + model.thetaJcCPerW * this.powerAt(chamberC);

@@ -15,7 +15,17 @@ import type { CommandAck } from '../../shared/mqtt';
 import { configFromEnv } from '../../server/config';
 import { createContext } from '../../server/composition';
 import type { AppContext } from '../../server/context';
-import { AuditLogEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunEntity, RunLotEntity, RunSocketEntity, StressPlanEntity } from '../../server/db/entities';
+import {
+  AuditLogEntity,
+  DeviceEntity,
+  DeviceTypeEntity,
+  LotEntity,
+  RigEntity,
+  RunEntity,
+  RunLotEntity,
+  RunSocketEntity,
+  StressPlanEntity,
+} from '../../server/db/entities';
 import { RunsService } from '../../server/modules/runs/runs.service';
 import { RunScheduler } from '../../server/modules/scheduler/scheduler';
 import { type RigCommandBody, type RigLink } from '../../server/modules/telemetry/contracts';
@@ -60,42 +70,100 @@ async function until(state: string, timeoutMs = 15_000) {
   }
   const r = await run();
   const [b] = await db.ds.query('SELECT max(seq) AS s, count(*) AS n FROM telemetry_batches WHERE rig_id = $1', [rigId]);
-  throw new Error(`run did not reach ${state} (is ${last}, ${r.stressHours} h, seq ${r.accruedToSeq}; stored up to ${b.s} (${b.n}); sent ${sent.map((x) => x.cmdId.split(':').slice(2).join(':')).join(', ')}; rig setpoint ${rig.state().setpointC}, chamber ${rig.state().chamberC})`);
+  throw new Error(
+    `run did not reach ${state} (is ${last}, ${r.stressHours} h, seq ${r.accruedToSeq}; stored up to ${b.s} (${b.n}); sent ${sent.map((x) => x.cmdId.split(':').slice(2).join(':')).join(', ')}; rig setpoint ${rig.state().setpointC}, chamber ${rig.state().chamberC})`,
+  );
 }
 
 beforeAll(async () => {
   db = await createTestDb();
   const m = db.ds.manager;
   rigId = (
-    await m.save(m.create(RigEntity, {
-      code: 'OV-07', name: 'Oven 7', socketCount: 4, maxTempC: 200, maxVoltageV: 800,
-      mqttUsername: 'rig-ov-07', mqttSecretHash: await bcrypt.hash(SECRET, 4), credentialsIssuedAt: new Date(),
-    }))
+    await m.save(
+      m.create(RigEntity, {
+        code: 'OV-07',
+        name: 'Oven 7',
+        socketCount: 4,
+        maxTempC: 200,
+        maxVoltageV: 800,
+        mqttUsername: 'rig-ov-07',
+        mqttSecretHash: await bcrypt.hash(SECRET, 4),
+        credentialsIssuedAt: new Date(),
+      }),
+    )
   ).id;
-  const type = await m.save(m.create(DeviceTypeEntity, DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!));
+  const type = await m.save(
+    m.create(
+      DeviceTypeEntity,
+      DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!,
+    ),
+  );
   const lot = await m.save(m.create(LotEntity, { code: 'HG2611-A', deviceTypeId: type.id, quantity: 100 }));
   const devices = await m.save(['A0001', 'A0002', 'A0003', 'A0004'].map((serial) => m.create(DeviceEntity, { lotId: lot.id, serial })));
-  plan = await m.save(m.create(StressPlanEntity, {
-    planKey: randomUUID(), version: 1, name: 'HTRB 125 °C short', kind: 'htrb', deviceTypeId: type.id, chamberC: 125, humidityPct: null,
-    bias: { vcbV: 80, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 }, durationH: 12, readPointsH: [0, 4, 12],
-    sampleSize: 4, acceptNumber: 0, criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 2e-7, vcesatShiftV: 0.05 },
-  }));
-  const r = await m.save(m.create(RunEntity, {
-    code: 'HTRB-2611-A', planId: plan.id, rigId, state: 'loading', sampleSize: 4, stateChangedAt: new Date(), nextReadPoint: 1,
-    scheduledStart: new Date(), scheduledEnd: new Date(Date.now() + 60_000),
-  }));
+  plan = await m.save(
+    m.create(StressPlanEntity, {
+      planKey: randomUUID(),
+      version: 1,
+      name: 'HTRB 125 °C short',
+      kind: 'htrb',
+      deviceTypeId: type.id,
+      chamberC: 125,
+      humidityPct: null,
+      bias: { vcbV: 80, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
+      durationH: 12,
+      readPointsH: [0, 4, 12],
+      sampleSize: 4,
+      acceptNumber: 0,
+      criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 2e-7, vcesatShiftV: 0.05 },
+    }),
+  );
+  const r = await m.save(
+    m.create(RunEntity, {
+      code: 'HTRB-2611-A',
+      planId: plan.id,
+      rigId,
+      state: 'loading',
+      sampleSize: 4,
+      stateChangedAt: new Date(),
+      nextReadPoint: 1,
+      scheduledStart: new Date(),
+      scheduledEnd: new Date(Date.now() + 60_000),
+    }),
+  );
   runId = r.id;
   await m.insert(RunLotEntity, { runId, lotId: lot.id });
-  await m.insert(RunSocketEntity, devices.map((d, i) => ({ runId, deviceId: d.id, socketIndex: i })));
+  await m.insert(
+    RunSocketEntity,
+    devices.map((d, i) => ({ runId, deviceId: d.id, socketIndex: i })),
+  );
 
   ctx = createContext(db.ds, { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config });
-  eb = await createEmberlotBroker({ port: 0, authenticate: createPgAuthenticate({ pool: pgPoolOf(ctx), server: SERVER, verifiedCacheSize: 10 }) });
-  stopTelemetry = await startTelemetry(ctx, { mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, ...SERVER }, clientId: 'emberlot-server-lifecycle-test', sweepEveryMs: 60_000 });
+  eb = await createEmberlotBroker({
+    port: 0,
+    authenticate: createPgAuthenticate({ pool: pgPoolOf(ctx), server: SERVER, verifiedCacheSize: 10 }),
+  });
+  stopTelemetry = await startTelemetry(ctx, {
+    mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, ...SERVER },
+    clientId: 'emberlot-server-lifecycle-test',
+    sweepEveryMs: 60_000,
+  });
   await waitFor(() => ctx.services.rigLink!.connected(), 5000, 'server link');
   // 4 stress hours per wall second, a sample every 0.1 s (0.4 h); the oven lags 0.5 stress hour.
   rig = startRig({
-    rigCode: 'OV-07', brokerUrl: `mqtt://127.0.0.1:${eb.port}`, username: 'rig-ov-07', password: SECRET, sockets: 4, mode: 'reverse',
-    chamberC: 25, setpointC: 25, biasOn: false, vV: 0, stressHoursPerWallSecond: 4, samplePeriodWallS: 0.1, reconnectWallS: 0.1, resendAfterWallS: 1,
+    rigCode: 'OV-07',
+    brokerUrl: `mqtt://127.0.0.1:${eb.port}`,
+    username: 'rig-ov-07',
+    password: SECRET,
+    sockets: 4,
+    mode: 'reverse',
+    chamberC: 25,
+    setpointC: 25,
+    biasOn: false,
+    vV: 0,
+    stressHoursPerWallSecond: 4,
+    samplePeriodWallS: 0.1,
+    reconnectWallS: 0.1,
+    resendAfterWallS: 1,
   });
   await waitFor(() => rig.connected, 5000, 'simulated rig');
 });
@@ -112,12 +180,21 @@ const operator = { id: randomUUID(), email: 'operator@test.example', name: 'Test
 
 async function samplesBetween(fromSeq: number, toSeq: number): Promise<ClockSample[]> {
   const b: Array<Record<string, unknown>> = await db.ds.query(
-    `SELECT seq, stress_clock_s, chamber_c, humidity_pct FROM telemetry_batches WHERE rig_id = $1 AND seq BETWEEN $2 AND $3 ORDER BY seq`, [rigId, fromSeq, toSeq]);
+    `SELECT seq, stress_clock_s, chamber_c, humidity_pct FROM telemetry_batches WHERE rig_id = $1 AND seq BETWEEN $2 AND $3 ORDER BY seq`,
+    [rigId, fromSeq, toSeq],
+  );
   const s: Array<Record<string, unknown> & { bias_on: boolean; tripped: boolean }> = await db.ds.query(
-    `SELECT seq, socket, v_v, bias_on, tripped FROM telemetry_samples WHERE rig_id = $1 AND seq BETWEEN $2 AND $3 ORDER BY seq, socket`, [rigId, fromSeq, toSeq]);
+    `SELECT seq, socket, v_v, bias_on, tripped FROM telemetry_samples WHERE rig_id = $1 AND seq BETWEEN $2 AND $3 ORDER BY seq, socket`,
+    [rigId, fromSeq, toSeq],
+  );
   return b.map((x) => ({
-    seq: Number(x.seq), clockS: Number(x.stress_clock_s), chamberC: Number(x.chamber_c), humidityPct: null,
-    sockets: s.filter((y) => Number(y.seq) === Number(x.seq)).map((y) => ({ socket: Number(y.socket), vV: Number(y.v_v), biasOn: y.bias_on, tripped: y.tripped })),
+    seq: Number(x.seq),
+    clockS: Number(x.stress_clock_s),
+    chamberC: Number(x.chamber_c),
+    humidityPct: null,
+    sockets: s
+      .filter((y) => Number(y.seq) === Number(x.seq))
+      .map((y) => ({ socket: Number(y.socket), vV: Number(y.v_v), biasOn: y.bias_on, tripped: y.tripped })),
   }));
 }
 
@@ -153,7 +230,9 @@ test('measurements done → heats again; a scheduler restart mid-stress keeps ex
   await until('cooling');
   await until('finished');
 
-  const trail = await db.ds.getRepository(AuditLogEntity).find({ where: { entityId: runId, action: 'run.ambient-reached' }, order: { id: 'ASC' } });
+  const trail = await db.ds
+    .getRepository(AuditLogEntity)
+    .find({ where: { entityId: runId, action: 'run.ambient-reached' }, order: { id: 'ASC' } });
   const fromSeq = Number(trail[1].details.seq);
   const done = await run();
   const series = await samplesBetween(fromSeq, done.accruedToSeq);

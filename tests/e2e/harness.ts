@@ -36,8 +36,14 @@ export async function openBrowser(size: SizeName): Promise<BrowserContext> {
     viewport: SIZES[size],
     deviceScaleFactor: 1,
     args: [
-      '--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run',
-      '--disable-background-networking', '--disable-component-update', '--disable-sync',
+      '--headless',
+      '--no-sandbox',
+      '--disable-gpu',
+      '--disable-quic',
+      '--no-first-run',
+      '--disable-background-networking',
+      '--disable-component-update',
+      '--disable-sync',
       '--disable-dev-shm-usage',
     ],
   });
@@ -94,19 +100,39 @@ export function makeContext(baseUrl: string, size: SizeName, journey: string, pa
       const critical = result.violations.filter((v) => v.impact === 'critical');
       const serious = result.violations
         .filter((v) => v.impact === 'serious')
-        .map((v) => `${where}: ${v.id} (${v.nodes.length}) at ${v.nodes.slice(0, 3).map((x) => (x.html ?? x.target.join(' ')).slice(0, 160)).join(' | ')}`);
+        .map(
+          (v) =>
+            `${where}: ${v.id} (${v.nodes.length}) at ${v.nodes
+              .slice(0, 3)
+              .map((x) => (x.html ?? x.target.join(' ')).slice(0, 160))
+              .join(' | ')}`,
+        );
       a11yLog.push(...serious);
       if (critical.length) {
         throw new Error(
           `accessibility: critical violations on ${where}: ` +
-            critical.map((v) => `${v.id} — ${v.help} at ${v.nodes.slice(0, 3).map((x) => x.target.join(' ')).join(', ')}`).join('; '),
+            critical
+              .map(
+                (v) =>
+                  `${v.id} — ${v.help} at ${v.nodes
+                    .slice(0, 3)
+                    .map((x) => x.target.join(' '))
+                    .join(', ')}`,
+              )
+              .join('; '),
         );
       }
       return serious;
     },
     navTo: async (label) => {
       const link = page.getByRole('link', { name: label, exact: true });
-      if (size === 'phone' && !(await link.first().isVisible().catch(() => false))) {
+      if (
+        size === 'phone' &&
+        !(await link
+          .first()
+          .isVisible()
+          .catch(() => false))
+      ) {
         await page.getByRole('button', { name: 'More', exact: true }).click();
       }
       await link.first().click();

@@ -32,8 +32,13 @@ async function main(): Promise<number> {
   if (ownCluster) pg = startCluster(pgOpts);
   else
     pg = {
-      host: '127.0.0.1', port: Number(process.env.EMBERLOT_TEST_PG_PORT), user: 'emberlot',
-      password: process.env.EMBERLOT_DB_PASSWORD ?? 'emberlot-local-only', socketDir: '', dataDir: '', logFile: '',
+      host: '127.0.0.1',
+      port: Number(process.env.EMBERLOT_TEST_PG_PORT),
+      user: 'emberlot',
+      password: process.env.EMBERLOT_DB_PASSWORD ?? 'emberlot-local-only',
+      socketDir: '',
+      dataDir: '',
+      logFile: '',
     };
   const dbName = `emberlot_e2e_${process.pid}`;
   await dropDatabase(pg, dbName);
@@ -108,7 +113,8 @@ main().then(
   (c) => process.exit(c),
   (e) => {
     console.error('[e2e] could not run:', e);
-    if (process.env.EMBERLOT_E2E_RESULTS) fs.writeFileSync(process.env.EMBERLOT_E2E_RESULTS, JSON.stringify({ passed: 0, failed: 1, failures: [String(e)] }));
+    if (process.env.EMBERLOT_E2E_RESULTS)
+      fs.writeFileSync(process.env.EMBERLOT_E2E_RESULTS, JSON.stringify({ passed: 0, failed: 1, failures: [String(e)] }));
     console.log('e2e: 0 passed, 1 failed');
     process.exit(1);
   },

@@ -22,9 +22,29 @@ import type { DataSource } from 'typeorm';
 import { startRig, type RigConfig, type RigHandle } from '../../rig-simulator';
 import { HOURS_EPS, accrualConditionsFor, accrueSeries, type ClockSample } from '../../shared/scheduling';
 import type { DbConfig } from '../../server/config';
-import { DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunEntity, RunLotEntity, RunSocketEntity, StressPlanEntity, UserEntity } from '../../server/db/entities';
+import {
+  DeviceEntity,
+  DeviceTypeEntity,
+  LotEntity,
+  RigEntity,
+  RunEntity,
+  RunLotEntity,
+  RunSocketEntity,
+  StressPlanEntity,
+  UserEntity,
+} from '../../server/db/entities';
 import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
-import { apiClient, freePort, stackEnv, type Env, startApiProcess, startBrokerProcess, type ApiClient, type NodeProcess, type StackPorts } from '../support/processes';
+import {
+  apiClient,
+  freePort,
+  stackEnv,
+  type Env,
+  startApiProcess,
+  startBrokerProcess,
+  type ApiClient,
+  type NodeProcess,
+  type StackPorts,
+} from '../support/processes';
 import type { RigCommandLog } from './rig-command-log';
 
 export const OPERATOR = { email: 'operator@faults.example', password: 'faults-operator-pass' };
@@ -93,8 +113,18 @@ export async function startFaultStack(db: DbConfig): Promise<FaultStack> {
 /** The operator who starts runs and signs off read points, and the device type (once per database). */
 export async function seedBase(ds: DataSource): Promise<DeviceTypeEntity> {
   const m = ds.manager;
-  await m.insert(UserEntity, { email: OPERATOR.email, name: 'Faults operator', role: 'operator', passwordHash: await bcrypt.hash(OPERATOR.password, 4) });
-  return m.save(m.create(DeviceTypeEntity, DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!));
+  await m.insert(UserEntity, {
+    email: OPERATOR.email,
+    name: 'Faults operator',
+    role: 'operator',
+    passwordHash: await bcrypt.hash(OPERATOR.password, 4),
+  });
+  return m.save(
+    m.create(
+      DeviceTypeEntity,
+      DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!,
+    ),
+  );
 }
 
 export interface RunFixture {
@@ -111,27 +141,55 @@ export async function createFaultRun(ds: DataSource, type: DeviceTypeEntity, rig
   const secret = `${rigCode.toLowerCase()}-faults-secret`;
   const rig = await m.save(
     m.create(RigEntity, {
-      code: rigCode, name: `Oven ${rigCode}`, socketCount: SOCKETS, maxTempC: 200, maxVoltageV: 800,
-      mqttUsername: `rig-${rigCode.toLowerCase()}`, mqttSecretHash: await bcrypt.hash(secret, 4), credentialsIssuedAt: new Date(),
+      code: rigCode,
+      name: `Oven ${rigCode}`,
+      socketCount: SOCKETS,
+      maxTempC: 200,
+      maxVoltageV: 800,
+      mqttUsername: `rig-${rigCode.toLowerCase()}`,
+      mqttSecretHash: await bcrypt.hash(secret, 4),
+      credentialsIssuedAt: new Date(),
     }),
   );
   const lot = await m.save(m.create(LotEntity, { code: `HG-${rigCode}`, deviceTypeId: type.id, quantity: 100 }));
-  const devices = await m.save([1, 2, 3, 4].map((k) => m.create(DeviceEntity, { lotId: lot.id, serial: `${rigCode}-${String(k).padStart(3, '0')}` })));
+  const devices = await m.save(
+    [1, 2, 3, 4].map((k) => m.create(DeviceEntity, { lotId: lot.id, serial: `${rigCode}-${String(k).padStart(3, '0')}` })),
+  );
   const plan = await m.save(
     m.create(StressPlanEntity, {
-      planKey: randomUUID(), version: 1, name: `HTRB 125 °C faults ${rigCode}`, kind: 'htrb', deviceTypeId: type.id, chamberC: PLAN.chamberC, humidityPct: null,
-      bias: { vcbV: PLAN.vcbV, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 }, durationH: PLAN.durationH, readPointsH: PLAN.readPointsH,
-      sampleSize: SOCKETS, acceptNumber: 0, criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 2e-7, vcesatShiftV: 0.05 },
+      planKey: randomUUID(),
+      version: 1,
+      name: `HTRB 125 °C faults ${rigCode}`,
+      kind: 'htrb',
+      deviceTypeId: type.id,
+      chamberC: PLAN.chamberC,
+      humidityPct: null,
+      bias: { vcbV: PLAN.vcbV, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
+      durationH: PLAN.durationH,
+      readPointsH: PLAN.readPointsH,
+      sampleSize: SOCKETS,
+      acceptNumber: 0,
+      criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 2e-7, vcesatShiftV: 0.05 },
     }),
   );
   const run = await m.save(
     m.create(RunEntity, {
-      code: `HTRB-F-${rigCode}`, planId: plan.id, rigId: rig.id, state: 'loading', sampleSize: SOCKETS, stateChangedAt: new Date(), nextReadPoint: 1,
-      scheduledStart: new Date(), scheduledEnd: new Date(Date.now() + 3_600_000),
+      code: `HTRB-F-${rigCode}`,
+      planId: plan.id,
+      rigId: rig.id,
+      state: 'loading',
+      sampleSize: SOCKETS,
+      stateChangedAt: new Date(),
+      nextReadPoint: 1,
+      scheduledStart: new Date(),
+      scheduledEnd: new Date(Date.now() + 3_600_000),
     }),
   );
   await m.insert(RunLotEntity, { runId: run.id, lotId: lot.id });
-  await m.insert(RunSocketEntity, devices.map((d, i) => ({ runId: run.id, deviceId: d.id, socketIndex: i })));
+  await m.insert(
+    RunSocketEntity,
+    devices.map((d, i) => ({ runId: run.id, deviceId: d.id, socketIndex: i })),
+  );
   return { rigCode, rigId: rig.id, secret, runId: run.id, plan };
 }
 
@@ -148,8 +206,22 @@ export interface SimRig {
 
 export function startSimRig(brokerUrl: string, fx: RunFixture, extra: Partial<RigConfig> = {}): SimRig {
   const config: RigConfig = {
-    rigCode: fx.rigCode, brokerUrl, username: `rig-${fx.rigCode.toLowerCase()}`, password: fx.secret, sockets: SOCKETS, mode: 'reverse',
-    lots: ['HPD-L2403'], chamberC: 25, setpointC: 25, biasOn: false, vV: 0, ...CLOCK, reconnectWallS: 0.2, resendAfterWallS: 1, seed: 7, ...extra,
+    rigCode: fx.rigCode,
+    brokerUrl,
+    username: `rig-${fx.rigCode.toLowerCase()}`,
+    password: fx.secret,
+    sockets: SOCKETS,
+    mode: 'reverse',
+    lots: ['HPD-L2403'],
+    chamberC: 25,
+    setpointC: 25,
+    biasOn: false,
+    vV: 0,
+    ...CLOCK,
+    reconnectWallS: 0.2,
+    resendAfterWallS: 1,
+    seed: 7,
+    ...extra,
   };
   const rig = startRig(config);
   return {
@@ -173,7 +245,14 @@ export async function runRow(ds: DataSource, runId: string): Promise<RunEntity |
   }
 }
 
-export async function waitRun(ds: DataSource, runId: string, pred: (r: RunEntity) => boolean, timeoutMs: number, label: string, diag: () => string = () => ''): Promise<RunEntity> {
+export async function waitRun(
+  ds: DataSource,
+  runId: string,
+  pred: (r: RunEntity) => boolean,
+  timeoutMs: number,
+  label: string,
+  diag: () => string = () => '',
+): Promise<RunEntity> {
   const deadline = Date.now() + timeoutMs;
   let last: RunEntity | null = null;
   while (Date.now() < deadline) {
@@ -182,7 +261,9 @@ export async function waitRun(ds: DataSource, runId: string, pred: (r: RunEntity
     if (r && pred(r)) return r;
     await sleep(100);
   }
-  throw new Error(`run did not reach "${label}" within ${timeoutMs} ms (state ${last?.state}, ${last?.stressHours} h, accrued to seq ${last?.accruedToSeq}) ${diag()}`);
+  throw new Error(
+    `run did not reach "${label}" within ${timeoutMs} ms (state ${last?.state}, ${last?.stressHours} h, accrued to seq ${last?.accruedToSeq}) ${diag()}`,
+  );
 }
 
 export async function waitUntil(cond: () => boolean | Promise<boolean>, timeoutMs: number, label: string): Promise<void> {
@@ -200,7 +281,9 @@ export async function runAction(ds: DataSource, client: ApiClient, runId: string
   for (let k = 0; k < 20; k++) {
     const r = await runRow(ds, runId);
     if (r) {
-      const res = await client.request('POST', `/api/runs/${runId}/${action}`, { rowVersion: r.rowVersion }).catch((e: Error) => ({ status: 0, body: e.message }));
+      const res = await client
+        .request('POST', `/api/runs/${runId}/${action}`, { rowVersion: r.rowVersion })
+        .catch((e: Error) => ({ status: 0, body: e.message }));
       if (res.status === 200) return;
       last = `${res.status} ${JSON.stringify(res.body)}`;
     }
@@ -232,10 +315,18 @@ export interface DriveResult {
  * the rig shows bias off and the chamber set to ambient, wait for `finished`, then end sampling
  * and let the rig's outbox drain.
  */
-export async function driveRun(ds: DataSource, stack: FaultStack, fx: RunFixture, sim: SimRig, fault: FaultPoint | null, budgetMs: number): Promise<DriveResult> {
+export async function driveRun(
+  ds: DataSource,
+  stack: FaultStack,
+  fx: RunFixture,
+  sim: SimRig,
+  fault: FaultPoint | null,
+  budgetMs: number,
+): Promise<DriveResult> {
   const t0 = Date.now();
   const left = () => Math.max(1000, budgetMs - (Date.now() - t0));
-  const diag = () => `; rig seq ${sim.rig.lastSeq()}, unconfirmed ${sim.rig.outbox.size}, connected ${sim.rig.connected}, setpoint ${sim.rig.state().setpointC}, chamber ${sim.rig.state().chamberC.toFixed(1)}`;
+  const diag = () =>
+    `; rig seq ${sim.rig.lastSeq()}, unconfirmed ${sim.rig.outbox.size}, connected ${sim.rig.connected}, setpoint ${sim.rig.state().setpointC}, chamber ${sim.rig.state().chamberC.toFixed(1)}`;
   await waitUntil(() => sim.rig.connected, left(), `${fx.rigCode} connected`);
   await runAction(ds, stack.client, fx.runId, 'start');
   let faultAtH: number | null = null;
@@ -248,16 +339,34 @@ export async function driveRun(ds: DataSource, stack: FaultStack, fx: RunFixture
   const phase1 = (r: RunEntity) => r.state === 'stressing' && r.nextReadPoint === 1;
   const phase2 = (r: RunEntity) => r.state === 'stressing' && r.nextReadPoint === 2;
   if (fault?.phase === 1) {
-    const r = await waitRun(ds, fx.runId, (x) => (phase1(x) && x.stressHours >= fault.atH) || x.state === 'read-hold', left(), `phase 1 at ${fault.atH} h`, diag);
+    const r = await waitRun(
+      ds,
+      fx.runId,
+      (x) => (phase1(x) && x.stressHours >= fault.atH) || x.state === 'read-hold',
+      left(),
+      `phase 1 at ${fault.atH} h`,
+      diag,
+    );
     faultAtH = r.stressHours;
     outageS = await timed(fault.inject);
   }
   await waitRun(ds, fx.runId, (x) => x.state === 'read-hold', left(), 'read-hold at 4 h', diag);
   // The operator measures once the rig shows the bias removed and the oven going to ambient.
-  await waitUntil(() => sim.rig.state().sockets.every((s) => !s.biasOn) && sim.rig.state().setpointC === 25, left(), 'bias off and set point 25 °C at the rig');
+  await waitUntil(
+    () => sim.rig.state().sockets.every((s) => !s.biasOn) && sim.rig.state().setpointC === 25,
+    left(),
+    'bias off and set point 25 °C at the rig',
+  );
   await runAction(ds, stack.client, fx.runId, 'measurements-done');
   if (fault?.phase === 2) {
-    const r = await waitRun(ds, fx.runId, (x) => (phase2(x) && x.stressHours >= fault.atH) || ['cooling', 'finished'].includes(x.state), left(), `phase 2 at ${fault.atH} h`, diag);
+    const r = await waitRun(
+      ds,
+      fx.runId,
+      (x) => (phase2(x) && x.stressHours >= fault.atH) || ['cooling', 'finished'].includes(x.state),
+      left(),
+      `phase 2 at ${fault.atH} h`,
+      diag,
+    );
     faultAtH = r.stressHours;
     outageS = await timed(fault.inject);
   }
@@ -305,9 +414,13 @@ async function count(ds: DataSource, sql: string, params: unknown[]): Promise<nu
 
 async function storedSamples(ds: DataSource, rigId: string, fromSeq: number, toSeq: number): Promise<ClockSample[]> {
   const b: Array<Record<string, unknown>> = await ds.query(
-    `SELECT seq, stress_clock_s, chamber_c, humidity_pct FROM telemetry_batches WHERE rig_id = $1 AND seq BETWEEN $2 AND $3 ORDER BY seq`, [rigId, fromSeq, toSeq]);
+    `SELECT seq, stress_clock_s, chamber_c, humidity_pct FROM telemetry_batches WHERE rig_id = $1 AND seq BETWEEN $2 AND $3 ORDER BY seq`,
+    [rigId, fromSeq, toSeq],
+  );
   const s: Array<Record<string, unknown> & { bias_on: boolean; tripped: boolean }> = await ds.query(
-    `SELECT seq, socket, v_v, bias_on, tripped FROM telemetry_samples WHERE rig_id = $1 AND seq BETWEEN $2 AND $3 ORDER BY seq, socket`, [rigId, fromSeq, toSeq]);
+    `SELECT seq, socket, v_v, bias_on, tripped FROM telemetry_samples WHERE rig_id = $1 AND seq BETWEEN $2 AND $3 ORDER BY seq, socket`,
+    [rigId, fromSeq, toSeq],
+  );
   const bySeq = new Map<number, ClockSample['sockets']>();
   for (const y of s) {
     const k = Number(y.seq);
@@ -316,7 +429,10 @@ async function storedSamples(ds: DataSource, rigId: string, fromSeq: number, toS
     bySeq.set(k, l);
   }
   return b.map((x) => ({
-    seq: Number(x.seq), clockS: Number(x.stress_clock_s), chamberC: Number(x.chamber_c), humidityPct: x.humidity_pct === null ? null : Number(x.humidity_pct),
+    seq: Number(x.seq),
+    clockS: Number(x.stress_clock_s),
+    chamberC: Number(x.chamber_c),
+    humidityPct: x.humidity_pct === null ? null : Number(x.humidity_pct),
     sockets: bySeq.get(Number(x.seq)) ?? [],
   }));
 }
@@ -332,7 +448,9 @@ async function phases(ds: DataSource, runId: string) {
 
 /** The ingest's durable counters (system_counters); the figures report the change over a scenario. */
 export async function ingestCounters(ds: DataSource): Promise<{ duplicates: number; dropped: number }> {
-  const rows: Array<{ name: string; value: string }> = await ds.query(`SELECT name, value FROM system_counters WHERE name IN ('ingest_duplicates', 'ingest_dropped')`);
+  const rows: Array<{ name: string; value: string }> = await ds.query(
+    `SELECT name, value FROM system_counters WHERE name IN ('ingest_duplicates', 'ingest_dropped')`,
+  );
   const v = (n: string) => Number(rows.find((r) => r.name === n)?.value ?? 0);
   return { duplicates: v('ingest_duplicates'), dropped: v('ingest_dropped') };
 }
@@ -376,7 +494,8 @@ export async function reconcile(
   for (let k = 0; k < trail.length; k++) {
     if (trail[k].action !== 'run.ambient-reached') continue;
     const end = trail[k + 1];
-    if (!end || end.action === 'run.ambient-reached') throw new Error(`stressing phase from seq ${trail[k].details.seq} has no end in the audit trail`);
+    if (!end || end.action === 'run.ambient-reached')
+      throw new Error(`stressing phase from seq ${trail[k].details.seq} has no end in the audit trail`);
     const series = await storedSamples(ds, fx.rigId, Number(trail[k].details.seq), Number(end.details.seq));
     const r = accrueSeries(series.slice(1), cond, idx, { runH: acc.runH, socketH: acc.socketH, last: series[0], tripped: acc.tripped });
     acc = { runH: r.runH, socketH: r.socketH, tripped: r.tripped };
@@ -430,7 +549,12 @@ export function commandKind(runId: string, cmdId: string): string {
 
 /** Shared assertions for every scenario. */
 export function expectBooksBalance(f: Figures, fx: RunFixture, log: RigCommandLog, rig: RigHandle): void {
-  expect({ missing: f.missing, duplicateRows: f.duplicateRows, stored: f.stored, ingestDropped: f.ingestDropped }).toEqual({ missing: 0, duplicateRows: 0, stored: f.published, ingestDropped: 0 });
+  expect({ missing: f.missing, duplicateRows: f.duplicateRows, stored: f.stored, ingestDropped: f.ingestDropped }).toEqual({
+    missing: 0,
+    duplicateRows: 0,
+    stored: f.published,
+    ingestDropped: 0,
+  });
   expect(rig.outbox.size).toBe(0);
   expect(rig.stats.outboxOverflow).toBe(0);
   expect(f.hoursAccrued).toBe(f.hoursExpected);

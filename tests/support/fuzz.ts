@@ -16,7 +16,12 @@ import { DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunEntity, Stress
 import { insertHistoryRun } from '../../server/seed/seed-history';
 import type { RegisteredRoute } from '../../server/http/route';
 import { ROLES, type Role } from '../../shared/roles';
-import { acknowledgeAlarmSchema, alarmListQuerySchema, mailListQuerySchema, notificationListQuerySchema } from '../../shared/schemas/alarms';
+import {
+  acknowledgeAlarmSchema,
+  alarmListQuerySchema,
+  mailListQuerySchema,
+  notificationListQuerySchema,
+} from '../../shared/schemas/alarms';
 import { deviceTypeQuerySchema, lotListQuerySchema as analyticsLotQuerySchema } from '../../shared/schemas/analytics';
 import { signInSchema } from '../../shared/schemas/auth';
 import {
@@ -31,8 +36,23 @@ import { apiErrorSchema } from '../../shared/schemas/errors';
 import { floorChartQuerySchema } from '../../shared/schemas/floor';
 import { manualEntrySchema } from '../../shared/schemas/measurements';
 import { planInputSchema, planListQuerySchema, planTemplatesQuerySchema } from '../../shared/schemas/plans';
-import { createRigSchema, maintenanceInputSchema, rejectionsQuerySchema, revokeRigSchema, updateRigSchema } from '../../shared/schemas/rigs';
-import { abortRunSchema, bookRunSchema, bookSampleSchema, proposalInputSchema, runActionSchema, runListQuerySchema, socketLoadSchema, timelineQuerySchema } from '../../shared/schemas/runs';
+import {
+  createRigSchema,
+  maintenanceInputSchema,
+  rejectionsQuerySchema,
+  revokeRigSchema,
+  updateRigSchema,
+} from '../../shared/schemas/rigs';
+import {
+  abortRunSchema,
+  bookRunSchema,
+  bookSampleSchema,
+  proposalInputSchema,
+  runActionSchema,
+  runListQuerySchema,
+  socketLoadSchema,
+  timelineQuerySchema,
+} from '../../shared/schemas/runs';
 import { confirmReadingSchema, dispositionInputSchema, withdrawDispositionSchema } from '../../shared/schemas/evidence';
 import { createUserSchema, updateUserSchema } from '../../shared/schemas/users';
 import { emailFor, TEST_PASSWORD, type TestApp } from './api';
@@ -68,7 +88,21 @@ export const hostileNumber: fc.Arbitrary<number> = fc.oneof(
 
 /** Strings that look like numbers (or special values) but are strings in JSON. */
 export const numberLikeString: fc.Arbitrary<string> = fc.constantFrom(
-  'NaN', 'Infinity', '-Infinity', '+Infinity', '1e308', '-1e308', '1e309', '0x1F', '12abc', '4_2', ' 42 ', '١٢٣', '−5', '1,5', '',
+  'NaN',
+  'Infinity',
+  '-Infinity',
+  '+Infinity',
+  '1e308',
+  '-1e308',
+  '1e309',
+  '0x1F',
+  '12abc',
+  '4_2',
+  ' 42 ',
+  '١٢٣',
+  '−5',
+  '1,5',
+  '',
 );
 
 /** Any UTF-16 code unit: NUL, control characters and lone surrogates included. */
@@ -94,7 +128,7 @@ export const hostileString: fc.Arbitrary<string> = fc.oneof(
     '../../etc/passwd',
     '%00%2e%2e%2f',
     '${7*7}{{7*7}}',
-    '=cmd|\' /C calc\'!A0',
+    "=cmd|' /C calc'!A0",
     ' ',
   ),
   numberLikeString,
@@ -169,12 +203,14 @@ export function mutatedBody(sample: unknown, schema: ZodType): fc.Arbitrary<unkn
   const paths = pathsOf(sample);
   const ops: Array<fc.Arbitrary<unknown>> = [
     fc.tuple(fc.constantFrom(...paths), hostileValue).map(([p, v]) => setAt(sample, p, v)),
-    fc.tuple(fc.constantFrom(...paths), fc.constantFrom(...paths), hostileValue, hostileValue).map(([p, q, v, w]) => setAt(setAt(sample, p, v), q, w)),
+    fc
+      .tuple(fc.constantFrom(...paths), fc.constantFrom(...paths), hostileValue, hostileValue)
+      .map(([p, q, v, w]) => setAt(setAt(sample, p, v), q, w)),
     fc.constantFrom(...paths).map((p) => setAt(sample, p, undefined, true)),
     fc.constantFrom<unknown>([sample], [], 'body', 42, null, true, [[sample]]),
-    fc.dictionary(fc.constantFrom('x', 'admin', 'role', 'id', 'createdAt', 'isAdmin'), hostileValue, { minKeys: 1, maxKeys: 3 }).map((extra) =>
-      Array.isArray(sample) ? [...(sample as unknown[]), extra] : { ...(sample as object), ...extra },
-    ),
+    fc
+      .dictionary(fc.constantFrom('x', 'admin', 'role', 'id', 'createdAt', 'isAdmin'), hostileValue, { minKeys: 1, maxKeys: 3 })
+      .map((extra) => (Array.isArray(sample) ? [...(sample as unknown[]), extra] : { ...(sample as object), ...extra })),
   ];
   return fc.oneof(...ops).filter((b) => !schema.safeParse(b).success);
 }
@@ -228,7 +264,9 @@ export function malformedRequest(sample?: unknown, schema?: ZodType): fc.Arbitra
     { weight: 10, arbitrary: invalid.map((json) => ({ kind: 'wrong types / missing fields / huge numbers / unicode', json })) },
     {
       weight: 2,
-      arbitrary: fc.tuple(invalid, fc.nat(3)).map(([b, v]) => ({ kind: 'prototype-pollution keys', raw: withPollutionKeys(b, v), contentType: 'application/json' })),
+      arbitrary: fc
+        .tuple(invalid, fc.nat(3))
+        .map(([b, v]) => ({ kind: 'prototype-pollution keys', raw: withPollutionKeys(b, v), contentType: 'application/json' })),
     },
     {
       weight: 2,
@@ -241,7 +279,25 @@ export function malformedRequest(sample?: unknown, schema?: ZodType): fc.Arbitra
     {
       weight: 1,
       arbitrary: fc
-        .constantFrom('{', '{"a":1,}', "{'a':1}", '{"a":NaN}', '{"a":Infinity}', '{"a":-Infinity}', '{"a":01}', '{"a":1e999}', 'undefined', 'null', '"text"', '12', 'true', '\uFEFF{}', '{"a":"\\ud800"', '{"a":"\\u00"}', '/* */{}')
+        .constantFrom(
+          '{',
+          '{"a":1,}',
+          "{'a':1}",
+          '{"a":NaN}',
+          '{"a":Infinity}',
+          '{"a":-Infinity}',
+          '{"a":01}',
+          '{"a":1e999}',
+          'undefined',
+          'null',
+          '"text"',
+          '12',
+          'true',
+          '\uFEFF{}',
+          '{"a":"\\ud800"',
+          '{"a":"\\u00"}',
+          '/* */{}',
+        )
         .map((raw) => ({ kind: 'truncated JSON', raw, contentType: 'application/json' })),
     },
     {
@@ -266,7 +322,9 @@ export function malformedRequest(sample?: unknown, schema?: ZodType): fc.Arbitra
       weight: 2,
       arbitrary: fc.tuple(fc.constantFrom(...BAD_CHARSETS), invalid).map(([cs, b]) => ({
         kind: 'wrong charset',
-        raw: cs.startsWith('utf-16') ? Buffer.from(`\uFEFF${JSON.stringify(b) ?? 'null'}`, 'utf16le') : Buffer.from(JSON.stringify(b) ?? 'null', 'latin1'),
+        raw: cs.startsWith('utf-16')
+          ? Buffer.from(`\uFEFF${JSON.stringify(b) ?? 'null'}`, 'utf16le')
+          : Buffer.from(JSON.stringify(b) ?? 'null', 'latin1'),
         contentType: `application/json; charset=${cs}`,
       })),
     },
@@ -286,7 +344,13 @@ export function malformedRequest(sample?: unknown, schema?: ZodType): fc.Arbitra
       weight: 1,
       arbitrary: fc.tuple(fc.uint8Array({ minLength: 1, maxLength: 256 }), invalid).map(([bytes, b]) => ({
         kind: 'wrong charset',
-        raw: Buffer.concat([Buffer.from('{"x":"'), Buffer.from(bytes), Buffer.from('","body":'), Buffer.from(JSON.stringify(b) ?? 'null'), Buffer.from('}')]),
+        raw: Buffer.concat([
+          Buffer.from('{"x":"'),
+          Buffer.from(bytes),
+          Buffer.from('","body":'),
+          Buffer.from(JSON.stringify(b) ?? 'null'),
+          Buffer.from('}'),
+        ]),
         contentType: 'application/json; charset=utf-8',
       })),
     },
@@ -295,7 +359,12 @@ export function malformedRequest(sample?: unknown, schema?: ZodType): fc.Arbitra
 }
 
 /** The oversized request of a route (sent once per route: each is over 1 MB). */
-export const oversizedRequest = (): FuzzRequest => ({ kind: 'oversized body (> 1 MB)', raw: oversizedJson(), contentType: 'application/json', status: 413 });
+export const oversizedRequest = (): FuzzRequest => ({
+  kind: 'oversized body (> 1 MB)',
+  raw: oversizedJson(),
+  contentType: 'application/json',
+  status: 413,
+});
 
 // ---------------------------------------------------------------------------------------------
 // Query strings
@@ -303,18 +372,73 @@ export const oversizedRequest = (): FuzzRequest => ({ kind: 'oversized body (> 1
 /** Raw query strings of trouble: arrays, nested keys, bad percent-encoding, NUL, huge values. */
 export const hostileQueryString: fc.Arbitrary<string> = fc.oneof(
   fc.constantFrom(
-    'limit=NaN', 'limit=Infinity', 'limit=-1e308', 'limit=1e308', 'limit=1.5', 'limit=-1', 'offset=-5', 'offset=9e99',
-    'limit=1&limit=2', 'status[]=open', 'status[$ne]=x', '__proto__[polluted]=yes', 'constructor[prototype][polluted]=yes',
-    'q=%00', 'q=%E0%A4%A', 'q=%', 'q=%ZZ', `q=${'x'.repeat(10_000)}`, 'from=not-a-date&to=2026-13-45T99:99:99Z',
-    'deviceTypeId=../../etc/passwd', 'rigId=00000000-0000-0000-0000-00000000000G', 'ltpdPct=0', 'ltpdPct=100', 'ltpdPct=-273.16',
-    'acceptNumber=1e400', 'points=1', 'sockets=999', 'state=stressing%00', 'open=2', 'preview=maybe', 'unread=yes',
-    'kind=%F0%9F%94%A5', 'q=%D8%00', 'limit=%EF%BC%91',
+    'limit=NaN',
+    'limit=Infinity',
+    'limit=-1e308',
+    'limit=1e308',
+    'limit=1.5',
+    'limit=-1',
+    'offset=-5',
+    'offset=9e99',
+    'limit=1&limit=2',
+    'status[]=open',
+    'status[$ne]=x',
+    '__proto__[polluted]=yes',
+    'constructor[prototype][polluted]=yes',
+    'q=%00',
+    'q=%E0%A4%A',
+    'q=%',
+    'q=%ZZ',
+    `q=${'x'.repeat(10_000)}`,
+    'from=not-a-date&to=2026-13-45T99:99:99Z',
+    'deviceTypeId=../../etc/passwd',
+    'rigId=00000000-0000-0000-0000-00000000000G',
+    'ltpdPct=0',
+    'ltpdPct=100',
+    'ltpdPct=-273.16',
+    'acceptNumber=1e400',
+    'points=1',
+    'sockets=999',
+    'state=stressing%00',
+    'open=2',
+    'preview=maybe',
+    'unread=yes',
+    'kind=%F0%9F%94%A5',
+    'q=%D8%00',
+    'limit=%EF%BC%91',
   ),
   fc
-    .array(fc.tuple(fc.constantFrom('limit', 'offset', 'q', 'status', 'kind', 'state', 'deviceTypeId', 'rigId', 'runId', 'from', 'to', 'points', 'sockets', 'verdict', 'ltpdPct', 'acceptNumber', 'rig', 'severity', 'open', 'unread'), fc.oneof(hostileString, numberLikeString)), {
-      minLength: 1,
-      maxLength: 4,
-    })
+    .array(
+      fc.tuple(
+        fc.constantFrom(
+          'limit',
+          'offset',
+          'q',
+          'status',
+          'kind',
+          'state',
+          'deviceTypeId',
+          'rigId',
+          'runId',
+          'from',
+          'to',
+          'points',
+          'sockets',
+          'verdict',
+          'ltpdPct',
+          'acceptNumber',
+          'rig',
+          'severity',
+          'open',
+          'unread',
+        ),
+        fc.oneof(hostileString, numberLikeString),
+      ),
+      {
+        minLength: 1,
+        maxLength: 4,
+      },
+    )
     .map((pairs) => pairs.map(([k, v]) => `${k}=${encodeURIComponent(v.replace(/[\uD800-\uDFFF]/g, '\uFFFD'))}`).join('&')),
 );
 
@@ -324,9 +448,11 @@ export const hostileQueryString: fc.Arbitrary<string> = fc.oneof(
 /** Problems with a reply that should be a refusal: not 4xx, not the error shape, extra top-level keys. */
 export function refusalProblems(status: number, body: unknown, expected?: number): string[] {
   const out: string[] = [];
-  if (expected !== undefined ? status !== expected : status < 400 || status > 499) out.push(`status ${status}${expected ? ` (expected ${expected})` : ' (expected 4xx)'}`);
+  if (expected !== undefined ? status !== expected : status < 400 || status > 499)
+    out.push(`status ${status}${expected ? ` (expected ${expected})` : ' (expected 4xx)'}`);
   // The fuzz signs in with an admitted role: a 401/403 means the guard answered, not validation.
-  else if (expected === undefined && (status === 401 || status === 403)) out.push(`status ${status}: refused by the access guard, so validation was not exercised`);
+  else if (expected === undefined && (status === 401 || status === 403))
+    out.push(`status ${status}: refused by the access guard, so validation was not exercised`);
   const shape = apiErrorSchema.safeParse(body);
   if (!shape.success) out.push(`body is not the error shape: ${JSON.stringify(body)?.slice(0, 200)}`);
   else if (Object.keys(body as object).length !== 1) out.push(`extra top-level keys: ${Object.keys(body as object).join(', ')}`);
@@ -395,13 +521,31 @@ export interface FuzzIds {
 
 export const sampleBodies = (ids: FuzzIds) => ({
   deviceType: () => ({
-    partNumber: 'HPD-FZ90', polarity: 'PNP', bvcboV: 100, bvceoV: 60, bveboV: 5, icMaxA: 3, pMaxW: 40, tjMaxC: 150,
-    thetaJcCPerW: 3.125, thetaJaCPerW: 62.5, betaRef: 70, betaRefIcA: 1,
+    partNumber: 'HPD-FZ90',
+    polarity: 'PNP',
+    bvcboV: 100,
+    bvceoV: 60,
+    bveboV: 5,
+    icMaxA: 3,
+    pMaxW: 40,
+    tjMaxC: 150,
+    thetaJcCPerW: 3.125,
+    thetaJaCPerW: 62.5,
+    betaRef: 70,
+    betaRefIcA: 1,
   }),
   lot: () => ({ code: 'HG-FZ-02', deviceTypeId: ids.type, quantity: 500, dateCode: '2607', notes: 'fuzz fixture' }),
   plan: () => ({
-    name: 'HTRB 125 °C fuzz fixture', kind: 'htrb', deviceTypeId: ids.type, chamberC: 125, bias: { vcbV: 60 }, durationH: 1000,
-    readPointsH: [0, 168, 500, 1000], sampleSize: 77, acceptNumber: 0, criteria: {},
+    name: 'HTRB 125 °C fuzz fixture',
+    kind: 'htrb',
+    deviceTypeId: ids.type,
+    chamberC: 125,
+    bias: { vcbV: 60 },
+    durationH: 1000,
+    readPointsH: [0, 168, 500, 1000],
+    sampleSize: 77,
+    acceptNumber: 0,
+    criteria: {},
   }),
   rig: () => ({ code: 'OV-78', name: 'Fuzz oven', location: 'Bay F', socketCount: 32, maxTempC: 175, maxVoltageV: 100 }),
 });
@@ -417,7 +561,13 @@ export function bodySpecs(ids: FuzzIds): Array<[string | RegExp, BodySpec]> {
   const rowVersion = { rowVersion: 1 };
   return [
     ['post /api/auth/sign-in', { schema: signInSchema, sample: () => ({ email: 'nobody@test.example', password: 'not-the-password' }) }],
-    ['post /api/users', { schema: createUserSchema, sample: () => ({ email: 'new.person@test.example', name: 'New Person', role: 'operator', password: 'long-enough-password' }) }],
+    [
+      'post /api/users',
+      {
+        schema: createUserSchema,
+        sample: () => ({ email: 'new.person@test.example', name: 'New Person', role: 'operator', password: 'long-enough-password' }),
+      },
+    ],
     ['patch /api/users/:id', { schema: updateUserSchema, sample: () => ({ name: 'Renamed Person', notifyAlarms: false }) }],
     ['post /api/device-types', { schema: deviceTypeCreateSchema, sample: s.deviceType }],
     ['put /api/device-types/:id', { schema: deviceTypeCreateSchema, sample: s.deviceType }],
@@ -429,7 +579,10 @@ export function bodySpecs(ids: FuzzIds): Array<[string | RegExp, BodySpec]> {
     ['post /api/plans/:id/versions', { schema: planInputSchema, sample: s.plan }],
     [
       'post /api/measurements/runs/:runId/read-points/:hours/measurements',
-      { schema: manualEntrySchema, sample: () => [{ serial: 'FZ0001', hfe: 120, hfeIcA: 0.15, hfeVceV: 5, icboA: 2e-8, icboVcbV: 60, vcesatV: 0.22, measuredC: 25 }] },
+      {
+        schema: manualEntrySchema,
+        sample: () => [{ serial: 'FZ0001', hfe: 120, hfeIcA: 0.15, hfeVceV: 5, icboA: 2e-8, icboVcbV: 60, vcesatV: 0.22, measuredC: 25 }],
+      },
     ],
     ['post /api/alarms/:id/acknowledge', { schema: acknowledgeAlarmSchema, sample: () => ({ note: 'Clamp re-seated, socket 4 checked' }) }],
     ['post /api/rigs', { schema: createRigSchema, sample: s.rig }],
@@ -437,23 +590,46 @@ export function bodySpecs(ids: FuzzIds): Array<[string | RegExp, BodySpec]> {
     ['post /api/rigs/:code/revoke', { schema: revokeRigSchema, sample: () => ({ reason: 'Controller board swapped' }) }],
     [
       'post /api/rigs/:code/maintenance',
-      { schema: maintenanceInputSchema, sample: () => ({ startsAt: '2026-03-02T08:00:00Z', endsAt: '2026-03-02T12:00:00Z', reason: 'Thermocouple calibration' }) },
+      {
+        schema: maintenanceInputSchema,
+        sample: () => ({ startsAt: '2026-03-02T08:00:00Z', endsAt: '2026-03-02T12:00:00Z', reason: 'Thermocouple calibration' }),
+      },
     ],
     ['post /api/runs/proposals', { schema: proposalInputSchema, sample: () => ({ planId: ids.plan, lotIds: [ids.lot], sampleSize: 2 }) }],
     ['post /api/runs', { schema: bookRunSchema, sample: () => ({ planId: ids.plan, lotIds: [ids.lot], sampleSize: 2, rigId: ids.rigId }) }],
     [
       'post /api/runs/samples',
-      { schema: bookSampleSchema, sample: () => ({ planId: ids.plan, lotIds: [ids.lot], parts: [{ rigId: ids.rigId, sampleSize: 2 }], deviation: { reason: 'Fuzz fixture short sample' } }) },
+      {
+        schema: bookSampleSchema,
+        sample: () => ({
+          planId: ids.plan,
+          lotIds: [ids.lot],
+          parts: [{ rigId: ids.rigId, sampleSize: 2 }],
+          deviation: { reason: 'Fuzz fixture short sample' },
+        }),
+      },
     ],
     [
       'post /api/evidence/runs/:runId/dispositions',
       { schema: dispositionInputSchema, sample: () => ({ serial: 'FZ0001', readPointH: 0, kind: 'lost', reason: 'Dropped on the floor' }) },
     ],
-    ['post /api/evidence/dispositions/:id/withdraw', { schema: withdrawDispositionSchema, sample: () => ({ reason: 'Recorded against the wrong serial' }) }],
-    ['post /api/evidence/measurements/:id/confirm', { schema: confirmReadingSchema, sample: () => ({ reason: 'Tester re-calibrated; same fixture' }) }],
-    ['put /api/runs/:id/sockets', { schema: socketLoadSchema, sample: () => ({ ...rowVersion, sockets: { '0': 'FZ0001', '1': 'FZ0002' }, dryRun: true }) }],
+    [
+      'post /api/evidence/dispositions/:id/withdraw',
+      { schema: withdrawDispositionSchema, sample: () => ({ reason: 'Recorded against the wrong serial' }) },
+    ],
+    [
+      'post /api/evidence/measurements/:id/confirm',
+      { schema: confirmReadingSchema, sample: () => ({ reason: 'Tester re-calibrated; same fixture' }) },
+    ],
+    [
+      'put /api/runs/:id/sockets',
+      { schema: socketLoadSchema, sample: () => ({ ...rowVersion, sockets: { '0': 'FZ0001', '1': 'FZ0002' }, dryRun: true }) },
+    ],
     ['post /api/runs/:id/abort', { schema: abortRunSchema, sample: () => ({ ...rowVersion, reason: 'Wrong board fitted' }) }],
-    [/^post \/api\/runs\/:id\/(start|pause|resume|measurements-done)$/, { schema: runActionSchema, sample: () => ({ ...rowVersion, reason: 'Shift change' }) }],
+    [
+      /^post \/api\/runs\/:id\/(start|pause|resume|measurements-done)$/,
+      { schema: runActionSchema, sample: () => ({ ...rowVersion, reason: 'Shift change' }) },
+    ],
   ];
 }
 
@@ -538,7 +714,10 @@ export interface Reply {
   headers: Headers;
 }
 export class FuzzClient {
-  constructor(readonly base: string, readonly cookie = '') {}
+  constructor(
+    readonly base: string,
+    readonly cookie = '',
+  ) {}
   async call(method: string, path: string, init: { body?: string | Buffer; headers?: Record<string, string> } = {}): Promise<Reply> {
     const res = await fetch(this.base + path, {
       method: method.toUpperCase(),
@@ -575,7 +754,10 @@ export async function listenWithClients(t: TestApp): Promise<FuzzServer> {
       body: JSON.stringify({ email: emailFor(role), password: TEST_PASSWORD }),
     });
     if (res.status !== 200) throw new Error(`sign-in as ${role}: ${res.status} ${await res.text()}`);
-    const cookie = res.headers.getSetCookie().map((c) => c.split(';')[0]).join('; ');
+    const cookie = res.headers
+      .getSetCookie()
+      .map((c) => c.split(';')[0])
+      .join('; ');
     clients[role] = new FuzzClient(base, cookie);
   }
   return {
@@ -596,7 +778,10 @@ export function clientFor(s: FuzzServer, r: RegisteredRoute): FuzzClient {
 }
 
 export function sendFuzz(c: FuzzClient, method: RegisteredRoute['method'], url: string, q: FuzzRequest): Promise<Reply> {
-  const headers = { 'content-type': q.raw !== undefined ? (q.contentType ?? 'application/json') : 'application/json', ...(q.headers ?? {}) };
+  const headers = {
+    'content-type': q.raw !== undefined ? (q.contentType ?? 'application/json') : 'application/json',
+    ...(q.headers ?? {}),
+  };
   return c.call(method, url, { body: q.raw !== undefined ? q.raw : JSON.stringify(q.json), headers });
 }
 
@@ -622,27 +807,71 @@ export async function createRunFixture(t: TestApp, tag: string): Promise<{ runId
   await t.ctx.ds.transaction(async (m: EntityManager) => {
     const type = await m.save(
       m.create(DeviceTypeEntity, {
-        partNumber: `HPD-${tag}1`, polarity: 'NPN', bvcboV: 140, bvceoV: 80, bveboV: 6, icMaxA: 1.5, pMaxW: 12.5, tjMaxC: 150,
-        thetaJcCPerW: 10, thetaJaCPerW: 83.3, betaRef: 120, betaRefIcA: 0.15, betaRefTC: 25, xtb: 1.6, icboRefA: 20e-9,
+        partNumber: `HPD-${tag}1`,
+        polarity: 'NPN',
+        bvcboV: 140,
+        bvceoV: 80,
+        bveboV: 6,
+        icMaxA: 1.5,
+        pMaxW: 12.5,
+        tjMaxC: 150,
+        thetaJcCPerW: 10,
+        thetaJaCPerW: 83.3,
+        betaRef: 120,
+        betaRefIcA: 0.15,
+        betaRefTC: 25,
+        xtb: 1.6,
+        icboRefA: 20e-9,
       }),
     );
     const plan = await m.save(
       m.create(StressPlanEntity, {
-        planKey: randomUUID(), version: 1, name: `HTRB 145 °C ${tag} fixture`, kind: 'htrb', deviceTypeId: type.id, chamberC: 145, humidityPct: null,
-        bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 }, durationH: 1000, readPointsH: [0, 168, 500, 1000],
-        sampleSize: 10, acceptNumber: 0, criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 }, eaEv: 0.7, useC: 55,
+        planKey: randomUUID(),
+        version: 1,
+        name: `HTRB 145 °C ${tag} fixture`,
+        kind: 'htrb',
+        deviceTypeId: type.id,
+        chamberC: 145,
+        humidityPct: null,
+        bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
+        durationH: 1000,
+        readPointsH: [0, 168, 500, 1000],
+        sampleSize: 10,
+        acceptNumber: 0,
+        criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
+        eaEv: 0.7,
+        useC: 55,
       }),
     );
     const rigCode = `OV-9${tag.length}`;
     const rig = await m.save(
-      m.create(RigEntity, { code: rigCode, name: rigCode, socketCount: 64, maxTempC: 200, maxVoltageV: 800, mqttUsername: `rig-${rigCode.toLowerCase()}`, mqttSecretHash: 'x', credentialsIssuedAt: new Date() }),
+      m.create(RigEntity, {
+        code: rigCode,
+        name: rigCode,
+        socketCount: 64,
+        maxTempC: 200,
+        maxVoltageV: 800,
+        mqttUsername: `rig-${rigCode.toLowerCase()}`,
+        mqttSecretHash: 'x',
+        credentialsIssuedAt: new Date(),
+      }),
     );
     const lot = await m.save(m.create(LotEntity, { code: `HG99-${tag}`, deviceTypeId: type.id, quantity: 100 }));
     lotId = lot.id;
-    const devices = await m.save(Array.from({ length: 10 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `C${String(i + 1).padStart(3, '0')}` })));
+    const devices = await m.save(
+      Array.from({ length: 10 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `C${String(i + 1).padStart(3, '0')}` })),
+    );
     const run = await insertHistoryRun(m, {
-      code: `HTRB-${tag}-01`, plan, deviceType: type, rig, lots: [{ lot, devices, drift: { hfeDriftPctPer1000h: 0, leakageGrowthPer1000h: 1 } }],
-      state: 'stressing', startedAt: new Date('2026-01-01T00:00:00Z'), stressHours: 600, measuredH: [], noise: 0,
+      code: `HTRB-${tag}-01`,
+      plan,
+      deviceType: type,
+      rig,
+      lots: [{ lot, devices, drift: { hfeDriftPctPer1000h: 0, leakageGrowthPer1000h: 1 } }],
+      state: 'stressing',
+      startedAt: new Date('2026-01-01T00:00:00Z'),
+      stressHours: 600,
+      measuredH: [],
+      noise: 0,
     });
     await m.update(RunEntity, { id: run.id }, { biasRemovedAt: new Date('2026-02-10T08:00:00Z') });
     runId = run.id;

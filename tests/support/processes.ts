@@ -73,7 +73,14 @@ export function spawnTs(name: string, file: string, env: Env, echo = process.env
       text = text.slice(-65_536);
     }
     for (const l of s.split('\n')) if (l.trim() && all.length < 20_000) all.push(l);
-    if (echo) process.stdout.write(s.split('\n').filter(Boolean).map((l) => `[${name}] ${l}\n`).join(''));
+    if (echo)
+      process.stdout.write(
+        s
+          .split('\n')
+          .filter(Boolean)
+          .map((l) => `[${name}] ${l}\n`)
+          .join(''),
+      );
   };
   child.stdout!.on('data', on);
   child.stderr!.on('data', on);
@@ -210,7 +217,7 @@ export interface ApiClient {
 
 export function apiClient(baseUrl: string): ApiClient {
   let cookie = '';
-  const request = async <T,>(method: string, urlPath: string, body?: unknown): Promise<{ status: number; body: T }> => {
+  const request = async <T>(method: string, urlPath: string, body?: unknown): Promise<{ status: number; body: T }> => {
     const res = await fetch(`${baseUrl}${urlPath}`, {
       method,
       headers: { 'content-type': 'application/json', ...(cookie ? { cookie } : {}) },
@@ -245,7 +252,10 @@ export function apiClient(baseUrl: string): ApiClient {
  * Run scripts/pg-cluster.ts's startCluster/stopCluster in a child process: pg_ctl waits up to
  * tens of seconds and spawnSync would freeze the test process (and the simulated rigs in it).
  */
-export async function pgClusterAsync(action: 'start' | 'stop', opts: { name: string; port: number; fast?: boolean; password?: string }): Promise<void> {
+export async function pgClusterAsync(
+  action: 'start' | 'stop',
+  opts: { name: string; port: number; fast?: boolean; password?: string },
+): Promise<void> {
   const fn = action === 'start' ? 'startCluster' : 'stopCluster';
   const code = `require(${JSON.stringify(path.join(PROJECT_ROOT, 'scripts', 'pg-cluster.ts'))}).${fn}(${JSON.stringify({ ...opts, quiet: true })})`;
   const child = spawn(process.execPath, ['-r', '@swc-node/register', '-e', code], {

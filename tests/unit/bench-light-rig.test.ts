@@ -5,10 +5,27 @@
  * makes of the same values.
  */
 import { LightRig } from '../../bench/scenarios/light-rig';
-import { isPlainTelemetryColumns, parsePayload, parseTelemetry, socketReadings, telemetryColumnsSchema, telemetryColumnsText } from '../../shared/mqtt';
+import {
+  isPlainTelemetryColumns,
+  parsePayload,
+  parseTelemetry,
+  socketReadings,
+  telemetryColumnsSchema,
+  telemetryColumnsText,
+} from '../../shared/mqtt';
 
 const rig = (biasOn: boolean) =>
-  new LightRig({ rigCode: 'BI-07', username: 'u', password: 'p', brokerUrl: 'mqtt://127.0.0.1:1', sockets: 64, window: 20, resendMs: 5000, seed: 7, biasOn });
+  new LightRig({
+    rigCode: 'BI-07',
+    username: 'u',
+    password: 'p',
+    brokerUrl: 'mqtt://127.0.0.1:1',
+    sockets: 64,
+    window: 20,
+    resendMs: 5000,
+    seed: 7,
+    biasOn,
+  });
 
 test.each([true, false])('bias %s: valid column-form telemetry, byte for byte what telemetryColumnsText writes', (biasOn) => {
   const r = rig(biasOn);

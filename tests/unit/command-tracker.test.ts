@@ -66,7 +66,9 @@ test('after the ack, only reports with a higher seq than the server had then are
   expect(t.reportReflects('OV-01', 'setpoint', 'run:1:heat:b', 119)).toBe(false);
   // So a heat whose report looks satisfied is still sent when the report is older than the cool-down.
   const satisfiedByReport = true;
-  expect(t.ensure('OV-01', 'run:1:heat:b', heat, satisfiedByReport && t.reportReflects('OV-01', 'setpoint', 'run:1:heat:b', 119))).toBe('sent');
+  expect(t.ensure('OV-01', 'run:1:heat:b', heat, satisfiedByReport && t.reportReflects('OV-01', 'setpoint', 'run:1:heat:b', 119))).toBe(
+    'sent',
+  );
   expect(link.sent).toEqual(['run:1:cool:rp1', 'run:1:heat:b']);
 });
 

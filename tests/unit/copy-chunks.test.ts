@@ -10,15 +10,22 @@ import { telemetryFromReadings, type Telemetry } from '../../shared/mqtt';
 const rigId = '0b5f0e2c-6a0d-4c1e-9a57-3f2d8c1b7e44';
 const message = (seq: number): Telemetry =>
   telemetryFromReadings({
-  v: 1,
-  rig: 'BI-01',
-  seq,
-  ts: '2026-12-02T03:00:00.000Z',
-  stressClockS: seq,
-  chamberC: 85,
-  humidityPct: null,
-  setpointC: 85,
-  sockets: Array.from({ length: 64 }, (_, i) => ({ i, caseC: 95 + i / 100, vV: -20.5, iA: i === 3 ? 1e-9 : 0.30012, biasOn: i % 2 === 0, tripped: i === 5 })),
+    v: 1,
+    rig: 'BI-01',
+    seq,
+    ts: '2026-12-02T03:00:00.000Z',
+    stressClockS: seq,
+    chamberC: 85,
+    humidityPct: null,
+    setpointC: 85,
+    sockets: Array.from({ length: 64 }, (_, i) => ({
+      i,
+      caseC: 95 + i / 100,
+      vV: -20.5,
+      iA: i === 3 ? 1e-9 : 0.30012,
+      biasOn: i % 2 === 0,
+      tripped: i === 5,
+    })),
   });
 
 test('one small batch is one chunk with one line per socket', () => {

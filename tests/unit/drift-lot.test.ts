@@ -26,7 +26,14 @@ describe('gain referred to the reference temperature', () => {
 });
 
 describe('device drift across read points', () => {
-  const r = (h: number, hfe: number, icboA: number, vcesatV = 0.2, measuredC = 27) => ({ readPointH: h, hfe, icboA, vcesatV, measuredC, late: false });
+  const r = (h: number, hfe: number, icboA: number, vcesatV = 0.2, measuredC = 27) => ({
+    readPointH: h,
+    hfe,
+    icboA,
+    vcesatV,
+    measuredC,
+    late: false,
+  });
 
   it('first failed read point: ICBO 50 nA → 240 nA passes, 260 nA fails [pub: MIL-PRF-19500 slash-sheet delta limits]', () => {
     const d = driftOfDevice([r(0, 80, 50e-9), r(168, 80, 240e-9), r(500, 80, 260e-9), r(1000, 80, 100e-9)], criteria, gain);
@@ -65,7 +72,14 @@ function lotInput(code: string, rate: number, measuredH: number[], state = 'fini
     lotCode: code,
     socketIndex: i,
     ...driftOfDevice(
-      measuredH.map((h) => ({ readPointH: h, hfe: 100 * (1 + (rate * h) / 1000 / 100), icboA: 20e-9 * Math.pow(leakRatioPer1000h, h / 1000), vcesatV: 0.2, measuredC: 27, late: false })),
+      measuredH.map((h) => ({
+        readPointH: h,
+        hfe: 100 * (1 + (rate * h) / 1000 / 100),
+        icboA: 20e-9 * Math.pow(leakRatioPer1000h, h / 1000),
+        vcesatV: 0.2,
+        measuredC: 27,
+        late: false,
+      })),
       criteria,
       gain,
     ),
@@ -73,7 +87,21 @@ function lotInput(code: string, rate: number, measuredH: number[], state = 'fini
   return {
     lot: { id: code, code, deviceTypeId: 'type', partNumber: 'HPD-X', dateCode: '' },
     run: { id: `run-${code}`, code: `R-${code}`, state, stressHours: Math.max(...measuredH) },
-    plan: { id: 'plan', name: 'HTRB', kind: 'htrb', durationH: 1000, acceptNumber: 0, sampleSize: 10, chamberC: 125, eaEv: 0.7, useC: 55, stressC: 125, stressBasis: 'chamber temperature', readPointsH: [0, 168, 500, 1000], criteria },
+    plan: {
+      id: 'plan',
+      name: 'HTRB',
+      kind: 'htrb',
+      durationH: 1000,
+      acceptNumber: 0,
+      sampleSize: 10,
+      chamberC: 125,
+      eaEv: 0.7,
+      useC: 55,
+      stressC: 125,
+      stressBasis: 'chamber temperature',
+      readPointsH: [0, 168, 500, 1000],
+      criteria,
+    },
     devices,
   };
 }
@@ -149,7 +177,12 @@ describe('CSV rows and cells', () => {
   it('rows report their file line; a semicolon file with a BOM parses; missing measured_at uses the upload time', () => {
     const now = new Date('2026-05-01T00:00:00Z');
     const text = '\uFEFFserial;hfe;hfe_ic_a;hfe_vce_v;icbo_a;icbo_vcb_v;vcesat_v\n\nA1;100;0.15;5;20;112;0.2\nA2;abc;0.15;5;20;112;0.2\n';
-    const out = parseMeasurementCsv(Buffer.from(text), { mapping: {}, units: { icbo: 'nA', hfeIc: 'A', vcesat: 'V' }, defaultTempC: 25, now });
+    const out = parseMeasurementCsv(Buffer.from(text), {
+      mapping: {},
+      units: { icbo: 'nA', hfeIc: 'A', vcesat: 'V' },
+      defaultTempC: 25,
+      now,
+    });
     expect(out.rows.map((r) => r.row)).toEqual([3, 4]);
     expect(out.rows[0].values).toMatchObject({ icboA: 20e-9, measuredC: 25, measuredAt: now });
     expect(out.rows[1].reasons).toEqual(['hfe "abc" is not a number.']);
@@ -157,8 +190,14 @@ describe('CSV rows and cells', () => {
 
   it('a measured_at without a zone is read as UTC; one in the future is refused', () => {
     const now = new Date('2026-05-01T00:00:00Z');
-    const text = 'serial,hfe,hfe_ic_a,hfe_vce_v,icbo_a,icbo_vcb_v,vcesat_v,measured_at\nA1,100,0.15,5,2e-8,112,0.2,2026-04-30 10:00\nA2,100,0.15,5,2e-8,112,0.2,2026-06-01T00:00:00Z\n';
-    const out = parseMeasurementCsv(Buffer.from(text), { mapping: {}, units: { icbo: 'A', hfeIc: 'A', vcesat: 'V' }, defaultTempC: 25, now });
+    const text =
+      'serial,hfe,hfe_ic_a,hfe_vce_v,icbo_a,icbo_vcb_v,vcesat_v,measured_at\nA1,100,0.15,5,2e-8,112,0.2,2026-04-30 10:00\nA2,100,0.15,5,2e-8,112,0.2,2026-06-01T00:00:00Z\n';
+    const out = parseMeasurementCsv(Buffer.from(text), {
+      mapping: {},
+      units: { icbo: 'A', hfeIc: 'A', vcesat: 'V' },
+      defaultTempC: 25,
+      now,
+    });
     expect(out.rows[0].values!.measuredAt.toISOString()).toBe('2026-04-30T10:00:00.000Z');
     expect(out.rows[1].reasons[0]).toMatch(/lies in the future/);
   });

@@ -12,11 +12,15 @@ type Message = { ruleId: string | null; line: number };
 
 /** Lints `code` as if it were the file `file` (relative to the repository root). */
 function lint(file: string, code: string): Message[] {
-  const r = spawnSync(process.execPath, [path.join(ROOT, 'node_modules/eslint/bin/eslint.js'), '--stdin', '--stdin-filename', file, '--format', 'json'], {
-    cwd: ROOT,
-    input: code,
-    encoding: 'utf8',
-  });
+  const r = spawnSync(
+    process.execPath,
+    [path.join(ROOT, 'node_modules/eslint/bin/eslint.js'), '--stdin', '--stdin-filename', file, '--format', 'json'],
+    {
+      cwd: ROOT,
+      input: code,
+      encoding: 'utf8',
+    },
+  );
   if (r.status !== 0 && r.status !== 1) throw new Error(`eslint exited ${r.status}: ${r.stderr}`);
   const [result] = JSON.parse(r.stdout) as Array<{ messages: Message[] }>;
   return result.messages;
@@ -34,7 +38,7 @@ test('a type assertion to a contract type is reported; annotation, satisfies and
     'export const d = JSON.parse("{}") as PlanInput[];', // 6: cast (array of a contract)
     "export const e = JSON.parse('{}') as { plan: PlanInput | null };", // 7: cast (a contract inside a shape)
     "export const f = JSON.parse('{}') as unknown;", // 8
-    "export const g = Object.keys({}) as Array<keyof PlanInput>;", // 9: a key, not contract data
+    'export const g = Object.keys({}) as Array<keyof PlanInput>;', // 9: a key, not contract data
     "export const h = <RigCommandBody>JSON.parse('{}');", // 10: angle-bracket cast
   ].join('\n');
   expect(linesOf(lint('server/modules/telemetry/lint-sample.ts', code), 'emberlot/no-contract-cast')).toEqual([3, 6, 7, 10]);

@@ -89,7 +89,7 @@ describe('self-heating solver against the linear-gain closed form', () => {
   });
 
   test('runaway when K·a ≥ 1', () => {
-    const { powerAt, k } = linear({ theta: 50, vce: 20, ib: 1e-3, beta0: 100, a: 0.012, t0: 25, });
+    const { powerAt, k } = linear({ theta: 50, vce: 20, ib: 1e-3, beta0: 100, a: 0.012, t0: 25 });
     expect(k * 0.012).toBeGreaterThanOrEqual(1);
     const r = solveSelfHeating({ ambientC: 25, thetaCPerW: 50, powerAt });
     // [pub: textbook thermal-stability criterion] K·a = 1.2 ≥ 1 → no stable steady state

@@ -121,7 +121,8 @@ test('the runaway verdict: calm without a trend, not judged with bias off; a lat
   const st = judge.socketState(judge.newRig('OV-1'), 0);
   const dev = judge.deviceFor(null, 0);
   expect(dev?.device).toEqual({ tjMaxC: 150, thetaJcCPerW: 2 }); // the conservative default device
-  for (let k = 0; k < 3; k++) expect(judge.runaway(st, dev, sample({ tS: k, vV: 40, iA: 0.1, caseC: 120 }), undefined)).toBe(k < 2 ? 'calm' : 'calm-long');
+  for (let k = 0; k < 3; k++)
+    expect(judge.runaway(st, dev, sample({ tS: k, vV: 40, iA: 0.1, caseC: 120 }), undefined)).toBe(k < 2 ? 'calm' : 'calm-long');
   expect(judge.runaway(st, dev, sample({ tS: 4, biasOn: false }), undefined)).toBe('not-judged');
   judge.tripIssued(st, 'trip:OV-1:0:norun', 'test');
   expect(judge.runaway(st, dev, sample({ tS: 5 }), undefined)).toBe('not-judged');

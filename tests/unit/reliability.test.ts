@@ -19,8 +19,7 @@ import {
 } from '../../shared/reliability';
 
 /** ±2 % on acceleration and FIT (REFERENCE.md: examples differ in k and the kelvin offset). */
-const within2pct = (actual: number, expected: number) =>
-  expect(Math.abs(actual / expected - 1)).toBeLessThanOrEqual(0.02);
+const within2pct = (actual: number, expected: number) => expect(Math.abs(actual / expected - 1)).toBeLessThanOrEqual(0.02);
 
 describe('constants', () => {
   test('Boltzmann constant', () => {

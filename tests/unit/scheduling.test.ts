@@ -59,7 +59,9 @@ describe('run length (plan hours + read-point holds + heating allowance)', () =>
     expect(runDurationH(needs(), { holdPerReadPointH: 24, heatingAllowanceH: 2, msPerClockH: H })).toBe(1050);
   });
   it('a plan with only 0 and the end holds nothing', () => {
-    expect(runDurationH(needs({ durationH: 168, readPointsH: [0, 168] }), { holdPerReadPointH: 24, heatingAllowanceH: 2, msPerClockH: H })).toBe(170);
+    expect(
+      runDurationH(needs({ durationH: 168, readPointsH: [0, 168] }), { holdPerReadPointH: 24, heatingAllowanceH: 2, msPerClockH: H }),
+    ).toBe(170);
   });
   it('the demo clock rate (stress hours per wall second) maps to wall ms per clock hour', () => {
     expect(msPerClockHFor(1)).toBe(1000);
@@ -75,7 +77,9 @@ describe('static checks: each refusal in words with its numbers', () => {
     expect(staticRefusals(rig('OV-04', { socketCount: 32 }), needs())).toEqual(['Oven OV-04 holds 32 sockets; the plan needs 45.']);
   });
   it('chamber too hot for the rig', () => {
-    expect(staticRefusals(rig('OV-03', { maxTempC: 175 }), needs({ chamberC: 200 }))).toEqual(['Oven OV-03 reaches at most 175 °C; the plan needs 200 °C.']);
+    expect(staticRefusals(rig('OV-03', { maxTempC: 175 }), needs({ chamberC: 200 }))).toEqual([
+      'Oven OV-03 reaches at most 175 °C; the plan needs 200 °C.',
+    ]);
   });
   it('bias voltage beyond the supply', () => {
     expect(staticRefusals(rig('OV-03', { maxVoltageV: 100 }), needs({ biasV: 560 }))).toEqual([
@@ -83,7 +87,9 @@ describe('static checks: each refusal in words with its numbers', () => {
     ]);
   });
   it('humidity on a dry oven, and above a humidity chamber’s limit', () => {
-    expect(staticRefusals(rig('OV-01'), needs({ chamberC: 85, humidityPct: 85 }))).toEqual(['Oven OV-01 has no humidity control; the plan needs 85 % RH.']);
+    expect(staticRefusals(rig('OV-01'), needs({ chamberC: 85, humidityPct: 85 }))).toEqual([
+      'Oven OV-01 has no humidity control; the plan needs 85 % RH.',
+    ]);
     expect(staticRefusals(rig('HC-05', { humidityCapable: true, maxHumidityPct: 95 }), needs({ chamberC: 85, humidityPct: 98 }))).toEqual([
       'Oven HC-05 holds at most 95 % RH; the plan needs 98 % RH.',
     ]);
@@ -100,7 +106,15 @@ describe('static checks: each refusal in words with its numbers', () => {
 describe('window checks: maintenance, one chamber condition per oven, sockets shared, no overlap', () => {
   const r = rig('OV-02');
   const busy = (over: Partial<Commitment>): Commitment => ({
-    runId: 'x', code: 'HTRB-2611-A', rigId: r.id, startMs: T0, endMs: T0 + 100 * H, chamberC: 150, humidityPct: null, sockets: 40, ...over,
+    runId: 'x',
+    code: 'HTRB-2611-A',
+    rigId: r.id,
+    startMs: T0,
+    endMs: T0 + 100 * H,
+    chamberC: 150,
+    humidityPct: null,
+    sockets: 40,
+    ...over,
   });
 
   it('maintenance overlapping the window', () => {
@@ -146,7 +160,12 @@ describe('window checks: maintenance, one chamber condition per oven, sockets sh
 describe('LPT list scheduling', () => {
   const A = rig('OV-01');
   const B = rig('OV-02');
-  const job = (code: string, hours: number, over: Partial<Job> = {}): Job => ({ ...needs({ durationH: hours, readPointsH: [0, hours] }), id: code, code, ...over });
+  const job = (code: string, hours: number, over: Partial<Job> = {}): Job => ({
+    ...needs({ durationH: hours, readPointsH: [0, hours] }),
+    id: code,
+    code,
+    ...over,
+  });
 
   it('3 runs of 4, 2 and 2 h on 2 equal rigs: makespan 4 h (optimal: the total is 8 h on 2 rigs)', () => {
     const p = planSchedule([job('R2a', 2), job('R4', 4), job('R2b', 2)], [A, B], [], [], T0, BARE);
@@ -166,7 +185,9 @@ describe('LPT list scheduling', () => {
 
   it('capabilities decide: the humidity run goes to the humidity chamber even though it is busy', () => {
     const hc = rig('HC-05', { humidityCapable: true, maxHumidityPct: 95, maxTempC: 130 });
-    const fixed: Commitment[] = [{ runId: 'f', code: 'THB-2608-F', rigId: hc.id, startMs: T0, endMs: T0 + 3 * H, chamberC: 85, humidityPct: 85, sockets: 48 }];
+    const fixed: Commitment[] = [
+      { runId: 'f', code: 'THB-2608-F', rigId: hc.id, startMs: T0, endMs: T0 + 3 * H, chamberC: 85, humidityPct: 85, sockets: 48 },
+    ];
     const p = planSchedule([job('THB', 2, { chamberC: 85, humidityPct: 85 }), job('HTRB', 6)], [A, hc], fixed, [], T0, BARE);
     expect(p.assignments.find((a) => a.code === 'THB')).toMatchObject({ rigCode: 'HC-05', startMs: T0 + 3 * H, endMs: T0 + 5 * H });
     expect(p.assignments.find((a) => a.code === 'HTRB')).toMatchObject({ rigCode: 'OV-01', startMs: T0 });
@@ -179,8 +200,24 @@ describe('LPT list scheduling', () => {
 
   it('proposals: ranked by finish, then the tighter board; refusals with reasons', () => {
     const small = rig('OV-04', { socketCount: 48 });
-    const busyA: Commitment = { runId: 'b', code: 'HTRB-2612-C', rigId: A.id, startMs: T0, endMs: T0 + 10 * H, chamberC: 125, humidityPct: null, sockets: 64 };
-    const p = proposeRigs(needs({ durationH: 5, readPointsH: [0, 5] }), [A, B, small, rig('OV-03', { socketCount: 32 })], [busyA], [], T0, BARE);
+    const busyA: Commitment = {
+      runId: 'b',
+      code: 'HTRB-2612-C',
+      rigId: A.id,
+      startMs: T0,
+      endMs: T0 + 10 * H,
+      chamberC: 125,
+      humidityPct: null,
+      sockets: 64,
+    };
+    const p = proposeRigs(
+      needs({ durationH: 5, readPointsH: [0, 5] }),
+      [A, B, small, rig('OV-03', { socketCount: 32 })],
+      [busyA],
+      [],
+      T0,
+      BARE,
+    );
     expect(p.options.map((o) => [o.rigCode, (o.startMs - T0) / H, o.spareSockets])).toEqual([
       ['OV-04', 0, 3],
       ['OV-02', 0, 19],
@@ -219,12 +256,21 @@ describe('hour accrual', () => {
 
   const cond: AccrualConditions = { setC: 125, humidityPct: null, biasV: 80, biasTolerancePct: 5, runNeedsBiasedSocket: true };
   const on = (socket: number, vV = 80) => ({ socket, vV, biasOn: true, tripped: false });
-  const s = (seq: number, clockS: number, chamberC = 125, sockets = [on(0), on(1)]): ClockSample => ({ seq, clockS, chamberC, humidityPct: null, sockets });
+  const s = (seq: number, clockS: number, chamberC = 125, sockets = [on(0), on(1)]): ClockSample => ({
+    seq,
+    clockS,
+    chamberC,
+    humidityPct: null,
+    sockets,
+  });
 
   it('an interval counts when the chamber held at both ends; the run and each biased socket get Δclock', () => {
     const r = accrueInterval(s(1, 0), s(2, 900), cond, [0, 1]);
     expect(r.runS).toBe(900);
-    expect([...r.socketS]).toEqual([[0, 900], [1, 900]]);
+    expect([...r.socketS]).toEqual([
+      [0, 900],
+      [1, 900],
+    ]);
   });
 
   it('chamber out of band at either end: nothing counts [pub: MIL-STD-750 general requirements §4.5]', () => {
@@ -236,7 +282,12 @@ describe('hour accrual', () => {
   it('per socket: bias off, tripped, or outside the bias tolerance (±5 % of 80 V = 76–84 V) does not count', () => {
     const r = accrueInterval(
       s(1, 0, 125, [on(0), on(1), on(2), on(3, 84)]),
-      s(2, 600, 125, [{ socket: 0, vV: 0, biasOn: false, tripped: false }, { socket: 1, vV: 0, biasOn: false, tripped: true }, on(2, 75.9), on(3, 84)]),
+      s(2, 600, 125, [
+        { socket: 0, vV: 0, biasOn: false, tripped: false },
+        { socket: 1, vV: 0, biasOn: false, tripped: true },
+        on(2, 75.9),
+        on(3, 84),
+      ]),
       cond,
       [0, 1, 2, 3],
     );
@@ -272,7 +323,12 @@ describe('hour accrual', () => {
     const samples = Array.from({ length: 200 }, (_, i) => s(i + 1, i * 917.3, i % 37 === 5 ? 110 : 125 + Math.sin(i) * 2));
     const whole = accrueSeries(samples, cond, [0, 1]);
     const first = accrueSeries(samples.slice(0, 77), cond, [0, 1]);
-    const rest = accrueSeries(samples.slice(77), cond, [0, 1], { runH: first.runH, socketH: first.socketH, last: first.last, tripped: first.tripped });
+    const rest = accrueSeries(samples.slice(77), cond, [0, 1], {
+      runH: first.runH,
+      socketH: first.socketH,
+      last: first.last,
+      tripped: first.tripped,
+    });
     expect(rest.runH).toBe(whole.runH);
     expect(rest.socketH).toEqual(whole.socketH);
   });
@@ -298,4 +354,3 @@ describe('the bias command a plan asks of the rig', () => {
     expect(planBiasSettings({ kind: 'iol', bias: { ...bias, vceV: 20, icA: 0.5 } })).toEqual({ vV: 20, icA: 0.5 });
   });
 });
-

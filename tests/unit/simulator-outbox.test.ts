@@ -9,7 +9,12 @@ describe('rig outbox', () => {
   test('keeps unconfirmed samples and drops exactly the confirmed ones', () => {
     const o = new Outbox(100);
     fill(o, 1, 10);
-    expect(o.confirm([[2, 4], [7, 7]])).toBe(4);
+    expect(
+      o.confirm([
+        [2, 4],
+        [7, 7],
+      ]),
+    ).toBe(4);
     expect(o.pending().map((e) => e.seq)).toEqual([1, 5, 6, 8, 9, 10]);
     expect(o.confirm([[2, 4]])).toBe(0); // a repeated confirmation is harmless
     expect(o.confirm([[1, 1_000_000]])).toBe(6); // a wide range takes the map-scan path

@@ -187,7 +187,16 @@ describe('regulated collector current (the rig servoes IB to hold IC)', () => {
     createRigState({
       rigCode: 'OV-04',
       chamberC: over.chamberC ?? 100,
-      sockets: [{ device: device(over.dev), biasOn: true, vV: 20, thetaCaCPerW: 2, caseTauS: 120, ...(over.icA !== undefined ? { icA: over.icA } : { ibA: over.ibA }) }],
+      sockets: [
+        {
+          device: device(over.dev),
+          biasOn: true,
+          vV: 20,
+          thetaCaCPerW: 2,
+          caseTauS: 120,
+          ...(over.icA !== undefined ? { icA: over.icA } : { ibA: over.ibA }),
+        },
+      ],
     });
 
   test('IC stays at the set point while the gain rises with Tj; forced IB lets it climb with β(T)', () => {
@@ -217,7 +226,11 @@ describe('regulated collector current (the rig servoes IB to hold IC)', () => {
 
   test('leakage above the set point flows regardless: the regulator cannot drive IB below zero', () => {
     // A leaky part (100 nA at 25 °C) at 175 °C and a 1 mA set point: (β+1)·ICBO is about half an ampere.
-    const s = createRigState({ rigCode: 'OV-04', chamberC: 175, sockets: [{ device: device({ icboRefA: 1e-7 }), biasOn: true, vV: 20, icA: 0.001 }] }).sockets[0];
+    const s = createRigState({
+      rigCode: 'OV-04',
+      chamberC: 175,
+      sockets: [{ device: device({ icboRefA: 1e-7 }), biasOn: true, vV: 20, icA: 0.001 }],
+    }).sockets[0];
     const b = deviceGain(s.device, s.tjC, 0);
     const leak = (b + 1) * deviceLeakage(s.device, s.tjC, 0);
     expect(leak).toBeGreaterThan(0.1);

@@ -10,8 +10,10 @@ export function alarmsRoutes(ctx: AppContext): ApiRouter {
   r.get('/', { access: 'signed-in', query: alarmListQuerySchema }, ({ query }) => svc().list(query));
   r.get('/counts', { access: 'signed-in' }, () => svc().counts());
   r.get('/:id', { access: 'signed-in', params: idParamSchema }, ({ params }) => svc().get(params.id));
-  r.post('/:id/acknowledge', { access: rolesFor('alarm.acknowledge'), params: idParamSchema, body: acknowledgeAlarmSchema }, ({ user, params, body }) =>
-    svc().acknowledge(user, params.id, body),
+  r.post(
+    '/:id/acknowledge',
+    { access: rolesFor('alarm.acknowledge'), params: idParamSchema, body: acknowledgeAlarmSchema },
+    ({ user, params, body }) => svc().acknowledge(user, params.id, body),
   );
   return r;
 }

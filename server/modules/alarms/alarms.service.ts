@@ -126,7 +126,13 @@ export class AlarmsService {
    * The condition behind this key went away. Returns the cleared alarm, or null if none was active.
    * `runId` picks the run for run-scoped kinds (RUN_SCOPED_KINDS); other kinds ignore it.
    */
-  async clear(kind: AlarmKindName, rigId: string | null, socketIndex: number | null, details?: Record<string, unknown>, runId: string | null = null): Promise<Alarm | null> {
+  async clear(
+    kind: AlarmKindName,
+    rigId: string | null,
+    socketIndex: number | null,
+    details?: Record<string, unknown>,
+    runId: string | null = null,
+  ): Promise<Alarm | null> {
     const key = dedupeKeyFor(kind, rigId, socketIndex, runId);
     const row = await this.ctx.ds.transaction(async (m) => {
       await lockAlarmKey(m, key);
@@ -143,7 +149,9 @@ export class AlarmsService {
   }
 
   /** Keys of alarms whose condition still holds (for monitors restarting). */
-  async activeKeys(kinds: readonly AlarmKindName[]): Promise<Array<{ key: string; kind: AlarmKindName; rigId: string | null; socketIndex: number | null }>> {
+  async activeKeys(
+    kinds: readonly AlarmKindName[],
+  ): Promise<Array<{ key: string; kind: AlarmKindName; rigId: string | null; socketIndex: number | null }>> {
     const rows = await this.ctx.ds.getRepository(AlarmEntity).find({
       where: { clearedAt: IsNull(), kind: In([...kinds] as AlarmEntity['kind'][]) },
       select: { dedupeKey: true, kind: true, rigId: true, socketIndex: true },
@@ -169,9 +177,7 @@ export class AlarmsService {
       if (!a) throw notFound('The alarm');
       if (a.acknowledgedAt) {
         const by = a.acknowledgedById ? await m.findOne(UserEntity, { where: { id: a.acknowledgedById } }) : null;
-        throw conflict(
-          `This alarm was already acknowledged${by ? ` by ${by.name}` : ''} at ${formatUtc(a.acknowledgedAt)}.`,
-        );
+        throw conflict(`This alarm was already acknowledged${by ? ` by ${by.name}` : ''} at ${formatUtc(a.acknowledgedAt)}.`);
       }
       a.acknowledgedAt = this.ctx.now();
       a.acknowledgedById = actor.id;
@@ -184,7 +190,14 @@ export class AlarmsService {
           entity: 'alarm',
           entityId: a.id,
           reason: input.note,
-          details: { kind: a.kind, severity: a.severity, rigId: a.rigId, runId: a.runId, socketIndex: a.socketIndex, cleared: a.clearedAt !== null },
+          details: {
+            kind: a.kind,
+            severity: a.severity,
+            rigId: a.rigId,
+            runId: a.runId,
+            socketIndex: a.socketIndex,
+            cleared: a.clearedAt !== null,
+          },
         },
         m,
       );
@@ -212,7 +225,9 @@ export class AlarmsService {
         perRig.set(r.rig_id, e);
       }
     }
-    const rigs = perRig.size ? await this.ctx.ds.getRepository(RigEntity).find({ where: { id: In([...perRig.keys()]) }, select: { id: true, code: true } }) : [];
+    const rigs = perRig.size
+      ? await this.ctx.ds.getRepository(RigEntity).find({ where: { id: In([...perRig.keys()]) }, select: { id: true, code: true } })
+      : [];
     const codeOf = new Map(rigs.map((r) => [r.id, r.code]));
     const byRig = [...perRig.entries()]
       .map(([rigId, e]) => ({ rigId, rigCode: codeOf.get(rigId) ?? '?', ...e }))
@@ -222,7 +237,8 @@ export class AlarmsService {
 
   /** Entities → response objects, with rig / run codes and the acknowledging person's name. */
   async toAlarms(rows: AlarmEntity[], m: EntityManager = this.ctx.ds.manager): Promise<Alarm[]> {
-    const ids = <K extends keyof AlarmEntity>(k: K) => [...new Set(rows.map((r) => r[k]).filter((v): v is NonNullable<AlarmEntity[K]> => !!v))] as string[];
+    const ids = <K extends keyof AlarmEntity>(k: K) =>
+      [...new Set(rows.map((r) => r[k]).filter((v): v is NonNullable<AlarmEntity[K]> => !!v))] as string[];
     const rigIds = ids('rigId');
     const runIds = ids('runId');
     const userIds = ids('acknowledgedById');

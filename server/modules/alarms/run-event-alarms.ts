@@ -11,7 +11,8 @@ import { formatUtc } from '../../../shared/domain/format';
 import type { AppContext } from '../../context';
 import type { RunEvent } from '../../events';
 
-const f1 = (x: number | null | undefined) => (x === null || x === undefined || !Number.isFinite(x) ? 'n/a' : (Math.round(x * 10) / 10).toFixed(1));
+const f1 = (x: number | null | undefined) =>
+  x === null || x === undefined || !Number.isFinite(x) ? 'n/a' : (Math.round(x * 10) / 10).toFixed(1);
 const when = (iso: string) => formatUtc(iso);
 
 export async function handleRunEvent(ctx: AppContext, e: RunEvent): Promise<void> {
@@ -31,7 +32,15 @@ export async function handleRunEvent(ctx: AppContext, e: RunEvent): Promise<void
           `${f1(e.elapsedStressH)} stress hours after heating began (limit ${f1(e.limitH)} h). ` +
           `Last chamber reading: ${e.lastChamberC === null ? 'none' : `${f1(e.lastChamberC)} °C`}.`,
         action: 'Check the oven: door seal, heater, controller and set point. Stress hours do not accrue until the chamber is in band.',
-        details: { setC: e.setC, lowC: e.lowC, highC: e.highC, lastChamberC: e.lastChamberC, elapsedStressH: e.elapsedStressH, limitH: e.limitH, heatingSince: e.heatingSince },
+        details: {
+          setC: e.setC,
+          lowC: e.lowC,
+          highC: e.highC,
+          lastChamberC: e.lastChamberC,
+          elapsedStressH: e.elapsedStressH,
+          limitH: e.limitH,
+          heatingSince: e.heatingSince,
+        },
       });
       return;
     }
@@ -79,8 +88,7 @@ export async function handleRunEvent(ctx: AppContext, e: RunEvent): Promise<void
         message:
           `Bias came off${where} at ${when(e.biasRemovedAt)}; the devices were to be measured by ${when(e.measureBy)} ` +
           `and no measurements for this read point have been uploaded (${f1(e.overdueH)} h late).`,
-        action:
-          `Measure and upload now, and record the delay in the run: the test standard (JESD22-A108) expects electrical tests within ${MEASURE_WITHIN_H} h of removing bias, and parametric drift may relax with the time off stress.`,
+        action: `Measure and upload now, and record the delay in the run: the test standard (JESD22-A108) expects electrical tests within ${MEASURE_WITHIN_H} h of removing bias, and parametric drift may relax with the time off stress.`,
         details: { readPointH: e.readPointH, final: e.final, biasRemovedAt: e.biasRemovedAt, measureBy: e.measureBy, overdueH: e.overdueH },
       });
       return;

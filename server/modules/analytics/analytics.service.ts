@@ -1,5 +1,12 @@
 import type { DataSource } from 'typeorm';
-import type { DeviceTypeSummary, LotDetail, LotPlanView, LotSummary, LotVerdict, PlanAcceleration } from '../../../shared/schemas/analytics';
+import type {
+  DeviceTypeSummary,
+  LotDetail,
+  LotPlanView,
+  LotSummary,
+  LotVerdict,
+  PlanAcceleration,
+} from '../../../shared/schemas/analytics';
 import { chiSquareQuantile, constantsUsed, sampleSizeForLtpd, arrheniusFactor } from '../../../shared/reliability';
 import { DeviceTypeEntity } from '../../db/entities';
 import { notFound } from '../../http/errors';
@@ -34,7 +41,15 @@ export class AnalyticsService {
       planVerdicts: a.judgement.plans.map((p) => ({ planId: p.planId, planName: p.planName, verdict: p.verdict })),
       run: c.run,
       plan: c.plan
-        ? { id: c.plan.id, name: c.plan.name, kind: c.plan.kind, durationH: c.plan.durationH, acceptNumber: c.plan.acceptNumber, sampleSize: c.plan.sampleSize, chamberC: c.plan.chamberC }
+        ? {
+            id: c.plan.id,
+            name: c.plan.name,
+            kind: c.plan.kind,
+            durationH: c.plan.durationH,
+            acceptNumber: c.plan.acceptNumber,
+            sampleSize: c.plan.sampleSize,
+            chamberC: c.plan.chamberC,
+          }
         : null,
       devicesOnTest: c.lotDevices.length,
       fails: c.fails,
@@ -62,7 +77,10 @@ export class AnalyticsService {
     const c = a.core;
     const plans: LotPlanView[] = a.judgement.plans.map((p) => {
       const pc = a.evidence.plans.find((x) => x.plan.planId === p.planId)!.plan;
-      return { ...p, fit: planFit({ exposure: p.exposure, eaEv: pc.eaEv, useC: pc.useC, stressC: pc.stressC, stressBasis: pc.stressBasis }) };
+      return {
+        ...p,
+        fit: planFit({ exposure: p.exposure, eaEv: pc.eaEv, useC: pc.useC, stressC: pc.stressC, stressBasis: pc.stressBasis }),
+      };
     });
     return {
       ...this.toSummary(a),

@@ -72,9 +72,15 @@ export function lotCore(input: LotCoreInput): LotCore {
     if (!at.length) continue;
     const param = (name: 'hfe' | 'icbo' | 'vcesat') =>
       at.map((x) => x.r!.parameters?.find((p) => p.parameter === name)).filter((p) => p && p.pass !== null);
-    const hfe = param('hfe').map((p) => p!.changePct!).filter((v) => v !== null && Number.isFinite(v));
-    const icbo = param('icbo').map((p) => p!.ratio!).filter((v) => v !== null && Number.isFinite(v));
-    const vce = param('vcesat').map((p) => p!.delta! * 1000).filter((v) => Number.isFinite(v));
+    const hfe = param('hfe')
+      .map((p) => p!.changePct!)
+      .filter((v) => v !== null && Number.isFinite(v));
+    const icbo = param('icbo')
+      .map((p) => p!.ratio!)
+      .filter((v) => v !== null && Number.isFinite(v));
+    const vce = param('vcesat')
+      .map((p) => p!.delta! * 1000)
+      .filter((v) => Number.isFinite(v));
     readPoints.push({
       hours: h,
       devicesMeasured: at.length,
@@ -132,8 +138,14 @@ export function lotCore(input: LotCoreInput): LotCore {
 export function lotTrends(readPoints: LotReadPointStats[], devices: DeviceDriftView[], c: Criteria, horizonH: number): TrendFit[] {
   const out: TrendFit[] = [];
   const steps = 20;
-  const lineOf = (f: (t: number) => number) => Array.from({ length: steps + 1 }, (_, i) => (horizonH * i) / steps).map((t) => ({ hours: t, value: round(f(t), 6) }));
-  const fit = (parameter: TrendFit['parameter'], model: TrendFit['model'], points: Array<{ hours: number; value: number }>, limitFor: (slopeSign: number) => number | null) => {
+  const lineOf = (f: (t: number) => number) =>
+    Array.from({ length: steps + 1 }, (_, i) => (horizonH * i) / steps).map((t) => ({ hours: t, value: round(f(t), 6) }));
+  const fit = (
+    parameter: TrendFit['parameter'],
+    model: TrendFit['model'],
+    points: Array<{ hours: number; value: number }>,
+    limitFor: (slopeSign: number) => number | null,
+  ) => {
     if (!points.length) return;
     const hours = points.map((p) => p.hours);
     const changes = points.map((p) => p.value);
@@ -184,7 +196,13 @@ export function lotTrends(readPoints: LotReadPointStats[], devices: DeviceDriftV
  * FIT at 60 % and 90 % from one plan's exposure: the failures counted by the verdict and the sum of
  * the devices' credited hours (each socket's own accrual), chi-square (JESD85).
  */
-export function planFit(p: { exposure: { devices: number; deviceHours: number; failures: number }; eaEv: number; useC: number; stressC: number; stressBasis: string }): FitFigures | null {
+export function planFit(p: {
+  exposure: { devices: number; deviceHours: number; failures: number };
+  eaEv: number;
+  useC: number;
+  stressC: number;
+  stressBasis: string;
+}): FitFigures | null {
   if (!(p.exposure.devices > 0 && p.exposure.deviceHours > 0)) return null;
   return fitFigures({
     failures: p.exposure.failures,
@@ -202,7 +220,10 @@ export function planFit(p: { exposure: { devices: number; deviceHours: number; f
  * humidity), the steady junction temperature from the plan check on powered ones (operating life,
  * intermittent life), where self-heating puts the junction far above the chamber.
  */
-export function stressTemperature(plan: { kind: string; chamberC: number; checkResult?: { derived?: { tjC?: unknown } } | null }): { stressC: number; stressBasis: string } {
+export function stressTemperature(plan: { kind: string; chamberC: number; checkResult?: { derived?: { tjC?: unknown } } | null }): {
+  stressC: number;
+  stressBasis: string;
+} {
   const tj = plan.checkResult?.derived?.tjC;
   if (isPoweredKindName(plan.kind) && typeof tj === 'number' && Number.isFinite(tj) && tj > plan.chamberC) {
     return { stressC: tj, stressBasis: 'junction temperature from the plan check (powered stress)' };
@@ -210,7 +231,15 @@ export function stressTemperature(plan: { kind: string; chamberC: number; checkR
   return { stressC: plan.chamberC, stressBasis: 'chamber temperature' };
 }
 
-export function fitFigures(p: { failures: number; devices: number; hoursEach: number; eaEv: number; useC: number; stressC: number; stressBasis?: string }): FitFigures {
+export function fitFigures(p: {
+  failures: number;
+  devices: number;
+  hoursEach: number;
+  eaEv: number;
+  useC: number;
+  stressC: number;
+  stressBasis?: string;
+}): FitFigures {
   const af = arrheniusFactor({ eaEv: p.eaEv, useC: p.useC, stressC: p.stressC });
   const base = { failures: p.failures, devices: p.devices, hoursEach: p.hoursEach, accelerationFactor: af };
   const f60 = fitUpperBoundDetails({ ...base, confidence: 0.6 });
@@ -225,8 +254,13 @@ export function fitFigures(p: { failures: number; devices: number; hoursEach: nu
     chiSquare60: f60.chiSquare,
     chiSquare90: f90.chiSquare,
     constants: {
-      boltzmannEvPerK: k.boltzmannEvPerK, kelvinOffset: k.kelvinOffset, eaEv: p.eaEv, useC: p.useC, stressC: p.stressC,
-      stressBasis: p.stressBasis ?? 'chamber temperature', source: k.boltzmannSource,
+      boltzmannEvPerK: k.boltzmannEvPerK,
+      kelvinOffset: k.kelvinOffset,
+      eaEv: p.eaEv,
+      useC: p.useC,
+      stressC: p.stressC,
+      stressBasis: p.stressBasis ?? 'chamber temperature',
+      source: k.boltzmannSource,
     },
     method: `Arrhenius acceleration (JEDEC JEP122 / JESD85), stress at the ${p.stressBasis ?? 'chamber temperature'}; chi-square upper bound (JESD85)`,
   };

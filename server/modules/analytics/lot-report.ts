@@ -36,16 +36,30 @@ export function lotReportCsv(d: LotDetail, extra: { notes: string; generatedAt: 
   kv('Device type', d.partNumber);
   kv('Date code', d.dateCode);
   kv('Lot notes', extra.notes);
-  kv('Plan', d.plan ? `${d.plan.name} (${d.plan.kind}, ${d.plan.chamberC} °C, ${d.plan.durationH} h, n ${d.plan.sampleSize}, accept ${d.plan.acceptNumber})` : 'none');
+  kv(
+    'Plan',
+    d.plan
+      ? `${d.plan.name} (${d.plan.kind}, ${d.plan.chamberC} °C, ${d.plan.durationH} h, n ${d.plan.sampleSize}, accept ${d.plan.acceptNumber})`
+      : 'none',
+  );
   kv('Run', d.run ? `${d.run.code} (${d.run.state}, ${d.run.stressHours} h)` : 'none');
   kv('Verdict', LOT_VERDICT_LABEL[d.verdict]);
   for (const r of d.reasons) kv('Reason', r);
   for (const p of d.plans) {
     const s = p.sample;
     kv(`Plan verdict: ${p.planName}`, LOT_VERDICT_LABEL[p.verdict]);
-    kv(`Sample: ${p.planName}`, `runs ${p.runs.map((r) => r.runCode).join(' + ')}; planned ${s.planned}, booked ${s.booked}, judged ${s.judged}, failures ${s.failures}; LTPD demonstrated ${s.demonstratedLtpd === null ? '—' : `${+(s.demonstratedLtpd * 100).toPrecision(3)} %`}, plan ${+(s.planLtpd * 100).toPrecision(3)} % at ${s.confidence * 100} %`);
-    if (s.deviation) kv(`Sample deviation: ${p.planName}`, `${s.deviation.sampleSize} devices: ${s.deviation.reason} (${s.deviation.by}, ${s.deviation.at})`);
-    for (const r of p.readPoints) if (r.due && !r.complete) kv(`Incomplete read point (h): ${p.planName}`, `${r.hours}: ${r.missing.map((m) => `${m.serial} (${m.why})`).join('; ')}`);
+    kv(
+      `Sample: ${p.planName}`,
+      `runs ${p.runs.map((r) => r.runCode).join(' + ')}; planned ${s.planned}, booked ${s.booked}, judged ${s.judged}, failures ${s.failures}; LTPD demonstrated ${s.demonstratedLtpd === null ? '—' : `${+(s.demonstratedLtpd * 100).toPrecision(3)} %`}, plan ${+(s.planLtpd * 100).toPrecision(3)} % at ${s.confidence * 100} %`,
+    );
+    if (s.deviation)
+      kv(
+        `Sample deviation: ${p.planName}`,
+        `${s.deviation.sampleSize} devices: ${s.deviation.reason} (${s.deviation.by}, ${s.deviation.at})`,
+      );
+    for (const r of p.readPoints)
+      if (r.due && !r.complete)
+        kv(`Incomplete read point (h): ${p.planName}`, `${r.hours}: ${r.missing.map((m) => `${m.serial} (${m.why})`).join('; ')}`);
     kv(`Degradation: ${p.planName}`, p.degradation.note);
   }
   kv('Pseudo-failure time (h)', d.pseudoFailureH);
@@ -56,31 +70,79 @@ export function lotReportCsv(d: LotDetail, extra: { notes: string; generatedAt: 
     kv('Equivalent device-hours', d.fit.equivalentDeviceHours);
     kv('FIT upper bound 60 %', d.fit.fit60);
     kv('FIT upper bound 90 %', d.fit.fit90);
-    kv('Constants', `k ${d.fit.constants.boltzmannEvPerK} eV/K (${d.fit.constants.source}), Ea ${d.fit.constants.eaEv} eV, use ${d.fit.constants.useC} °C, stress ${+d.fit.constants.stressC.toPrecision(4)} °C (${d.fit.constants.stressBasis})`);
+    kv(
+      'Constants',
+      `k ${d.fit.constants.boltzmannEvPerK} eV/K (${d.fit.constants.source}), Ea ${d.fit.constants.eaEv} eV, use ${d.fit.constants.useC} °C, stress ${+d.fit.constants.stressC.toPrecision(4)} °C (${d.fit.constants.stressBasis})`,
+    );
   }
   kv('Caution', d.caution);
   lines.push('');
   lines.push(
     csvLine([
-      'Read point (h)', 'Devices', 'Late', 'hFE change mean %', 'hFE change sd %', 'hFE change p5 %', 'hFE change median %', 'hFE change p95 %',
-      'ICBO ratio median', 'ICBO ratio p95', 'VCE(sat) shift mean mV', 'Failing', 'Cumulative fails',
+      'Read point (h)',
+      'Devices',
+      'Late',
+      'hFE change mean %',
+      'hFE change sd %',
+      'hFE change p5 %',
+      'hFE change median %',
+      'hFE change p95 %',
+      'ICBO ratio median',
+      'ICBO ratio p95',
+      'VCE(sat) shift mean mV',
+      'Failing',
+      'Cumulative fails',
     ]),
   );
   for (const r of d.readPoints) {
     lines.push(
       csvLine([
-        r.hours, r.devicesMeasured, r.late, r.hfeChangePct?.mean, r.hfeChangePct?.sd, r.hfeChangePct?.p5, r.hfeChangePct?.median, r.hfeChangePct?.p95,
-        r.icboRatio?.median, r.icboRatio?.p95, r.vcesatShiftMv?.mean, r.failing, r.cumulativeFails,
+        r.hours,
+        r.devicesMeasured,
+        r.late,
+        r.hfeChangePct?.mean,
+        r.hfeChangePct?.sd,
+        r.hfeChangePct?.p5,
+        r.hfeChangePct?.median,
+        r.hfeChangePct?.p95,
+        r.icboRatio?.median,
+        r.icboRatio?.p95,
+        r.vcesatShiftMv?.mean,
+        r.failing,
+        r.cumulativeFails,
       ]),
     );
   }
   lines.push('');
-  lines.push(csvLine(['Serial', 'Socket', 'Status', 'First failed (h)', 'Failed parameters', 'Latest read point (h)', 'hFE change %', 'ICBO ratio', 'VCE(sat) shift mV', 'hFE referred to reference temperature', 'Late reading']));
+  lines.push(
+    csvLine([
+      'Serial',
+      'Socket',
+      'Status',
+      'First failed (h)',
+      'Failed parameters',
+      'Latest read point (h)',
+      'hFE change %',
+      'ICBO ratio',
+      'VCE(sat) shift mV',
+      'hFE referred to reference temperature',
+      'Late reading',
+    ]),
+  );
   for (const x of d.devices) {
     lines.push(
       csvLine([
-        x.serial, x.socketIndex, x.status, x.firstFailedH, x.failedParameters.map((p) => PARAM[p]).join(' '), x.latestH,
-        x.hfeChangePct, x.icboRatio, x.vcesatShiftMv, x.hfeNormalised, x.late,
+        x.serial,
+        x.socketIndex,
+        x.status,
+        x.firstFailedH,
+        x.failedParameters.map((p) => PARAM[p]).join(' '),
+        x.latestH,
+        x.hfeChangePct,
+        x.icboRatio,
+        x.vcesatShiftMv,
+        x.hfeNormalised,
+        x.late,
       ]),
     );
   }
@@ -102,7 +164,8 @@ export function pdfText(s: string): string {
     .replace(/[^\x20-\x7E\u00A0-\u00FF\n]/g, '?');
 }
 
-const fmt = (v: number | null | undefined, digits = 3) => (v === null || v === undefined || !Number.isFinite(v) ? '-' : String(+v.toPrecision(digits)));
+const fmt = (v: number | null | undefined, digits = 3) =>
+  v === null || v === undefined || !Number.isFinite(v) ? '-' : String(+v.toPrecision(digits));
 
 export function lotReportPdf(d: LotDetail, extra: { notes: string; generatedAt: Date }): Promise<Buffer> {
   return new Promise((resolve, reject) => {
@@ -120,7 +183,11 @@ export function lotReportPdf(d: LotDetail, extra: { notes: string; generatedAt: 
     doc.moveDown(0.8).fillColor('#000000').fontSize(10);
     t(`Device type: ${d.partNumber}    Date code: ${d.dateCode || '-'}`);
     if (extra.notes) t(`Lot notes: ${extra.notes}`);
-    t(d.plan ? `Plan: ${d.plan.name} (${d.plan.kind.toUpperCase()}, chamber ${d.plan.chamberC} °C, ${d.plan.durationH} h, n ${d.plan.sampleSize}, accept ${d.plan.acceptNumber})` : 'Plan: none');
+    t(
+      d.plan
+        ? `Plan: ${d.plan.name} (${d.plan.kind.toUpperCase()}, chamber ${d.plan.chamberC} °C, ${d.plan.durationH} h, n ${d.plan.sampleSize}, accept ${d.plan.acceptNumber})`
+        : 'Plan: none',
+    );
     t(d.run ? `Run: ${d.run.code}, ${d.run.state}, ${fmt(d.run.stressHours, 5)} stress hours` : 'Run: none');
     if (d.criteria) {
       t(
@@ -131,18 +198,35 @@ export function lotReportPdf(d: LotDetail, extra: { notes: string; generatedAt: 
     doc.moveDown(0.8).font('Helvetica-Bold').fontSize(13);
     t(`Verdict: ${LOT_VERDICT_LABEL[d.verdict]}`);
     for (const p of d.plans) {
-      t(`${p.planName}: ${LOT_VERDICT_LABEL[p.verdict]} (${p.sample.judged} of ${p.sample.planned} devices judged, ${p.sample.failures} failed)`, { indent: 8 });
+      t(
+        `${p.planName}: ${LOT_VERDICT_LABEL[p.verdict]} (${p.sample.judged} of ${p.sample.planned} devices judged, ${p.sample.failures} failed)`,
+        { indent: 8 },
+      );
     }
     doc.font('Helvetica').fontSize(10);
     for (const r of d.reasons) t(`- ${r}`, { indent: 8 });
     if (d.gainReference.normalisedReadings > 0) {
-      t(`${d.gainReference.normalisedReadings} hFE readings were measured away from ${d.gainReference.referenceC} °C and referred to it (XTB ${d.gainReference.xtb}).`);
+      t(
+        `${d.gainReference.normalisedReadings} hFE readings were measured away from ${d.gainReference.referenceC} °C and referred to it (XTB ${d.gainReference.xtb}).`,
+      );
     }
 
     doc.moveDown(0.8).font('Helvetica-Bold').fontSize(12);
     t('Drift per read point');
     doc.font('Helvetica').fontSize(8.5);
-    const cols = ['Hours', 'Devices', 'Late', 'hFE mean %', 'hFE sd', 'hFE p5', 'hFE p95', 'ICBO x med', 'ICBO x p95', 'VCEsat mV', 'Fails'];
+    const cols = [
+      'Hours',
+      'Devices',
+      'Late',
+      'hFE mean %',
+      'hFE sd',
+      'hFE p5',
+      'hFE p95',
+      'ICBO x med',
+      'ICBO x p95',
+      'VCEsat mV',
+      'Fails',
+    ];
     const widths = [40, 42, 30, 52, 40, 40, 40, 52, 52, 52, 34];
     const row = (cells: string[], bold = false) => {
       const y = doc.y;
@@ -158,8 +242,17 @@ export function lotReportPdf(d: LotDetail, extra: { notes: string; generatedAt: 
     row(cols, true);
     for (const r of d.readPoints) {
       row([
-        fmt(r.hours, 5), String(r.devicesMeasured), String(r.late), fmt(r.hfeChangePct?.mean), fmt(r.hfeChangePct?.sd), fmt(r.hfeChangePct?.p5),
-        fmt(r.hfeChangePct?.p95), fmt(r.icboRatio?.median), fmt(r.icboRatio?.p95), fmt(r.vcesatShiftMv?.mean), String(r.cumulativeFails),
+        fmt(r.hours, 5),
+        String(r.devicesMeasured),
+        String(r.late),
+        fmt(r.hfeChangePct?.mean),
+        fmt(r.hfeChangePct?.sd),
+        fmt(r.hfeChangePct?.p5),
+        fmt(r.hfeChangePct?.p95),
+        fmt(r.icboRatio?.median),
+        fmt(r.icboRatio?.p95),
+        fmt(r.vcesatShiftMv?.mean),
+        String(r.cumulativeFails),
       ]);
     }
 
@@ -190,7 +283,10 @@ export function lotReportPdf(d: LotDetail, extra: { notes: string; generatedAt: 
       doc.moveDown(0.8).font('Helvetica-Bold').fontSize(12);
       t('Failed devices');
       doc.font('Helvetica').fontSize(10);
-      for (const x of failed) t(`${x.serial} (socket ${x.socketIndex}): first failed at ${fmt(x.firstFailedH, 5)} h - ${x.failedParameters.map((p) => PARAM[p]).join(', ')}`);
+      for (const x of failed)
+        t(
+          `${x.serial} (socket ${x.socketIndex}): first failed at ${fmt(x.firstFailedH, 5)} h - ${x.failedParameters.map((p) => PARAM[p]).join(', ')}`,
+        );
     }
 
     doc.moveDown(1.2).font('Helvetica-Oblique').fontSize(9).fillColor('#7a4b00');

@@ -13,7 +13,14 @@ import type { Criteria } from '../../../shared/schemas/plans';
 import type { PlanKind } from '../../../shared/domain/stress';
 import type { MeasurementResult } from '../../../shared/evidence';
 import { judgeLot, controlValues, type LotJudgement } from '../../../shared/verdict/judge';
-import { dateFromDateCode, planConditionsKey, type DeviceEvidence, type LotEvidence, type PeerLot, type PlanEvidence } from '../../../shared/verdict/evidence';
+import {
+  dateFromDateCode,
+  planConditionsKey,
+  type DeviceEvidence,
+  type LotEvidence,
+  type PeerLot,
+  type PlanEvidence,
+} from '../../../shared/verdict/evidence';
 import { runDrift, type DriftReading, type DriftSource } from '../measurements/measurements.service';
 import { lotCore, stressTemperature, type LotFigures } from './lot-analysis';
 
@@ -195,20 +202,33 @@ const num = (v: unknown) => (typeof v === 'string' ? Number(v) : (v as number | 
 
 /** The part's rows, read with raw SQL (no entity hydration); null when the type is gone. */
 export async function loadPart(m: EntityManager, typeId: string): Promise<PartData | null> {
-  const [type]: TypeRow[] = await m.query(`SELECT id, part_number AS "partNumber", beta_ref_tc AS "betaRefTC", xtb FROM device_types WHERE id = $1`, [typeId]);
+  const [type]: TypeRow[] = await m.query(
+    `SELECT id, part_number AS "partNumber", beta_ref_tc AS "betaRefTC", xtb FROM device_types WHERE id = $1`,
+    [typeId],
+  );
   if (!type) return null;
   const lots: LotRow[] = await m.query(
     `SELECT id, code, device_type_id AS "deviceTypeId", date_code AS "dateCode" FROM lots WHERE device_type_id = $1 ORDER BY code ASC`,
     [typeId],
   );
   const empty: PartData = {
-    type, lots, runLots: [], runs: new Map(), plans: new Map(), devicesByRun: new Map(), readingsByRun: new Map(), extrasByRun: new Map(),
-    samples: new Map(), dispositions: [], sockets: new Map(),
+    type,
+    lots,
+    runLots: [],
+    runs: new Map(),
+    plans: new Map(),
+    devicesByRun: new Map(),
+    readingsByRun: new Map(),
+    extrasByRun: new Map(),
+    samples: new Map(),
+    dispositions: [],
+    sockets: new Map(),
   };
   if (!lots.length) return empty;
-  const runLots: PartData['runLots'] = await m.query(`SELECT run_id AS "runId", lot_id AS "lotId" FROM run_lots WHERE lot_id = ANY($1::uuid[])`, [
-    lots.map((l) => l.id),
-  ]);
+  const runLots: PartData['runLots'] = await m.query(
+    `SELECT run_id AS "runId", lot_id AS "lotId" FROM run_lots WHERE lot_id = ANY($1::uuid[])`,
+    [lots.map((l) => l.id)],
+  );
   const runIds = [...new Set(runLots.map((r) => r.runId))];
   if (!runIds.length) return { ...empty, runLots };
   const runRows: RunRow[] = await m.query(
@@ -259,7 +279,25 @@ export async function loadPart(m: EntityManager, typeId: string): Promise<PartDa
   const extrasByRun = new Map<string, ReadingExtra[]>();
   for (const { runId, readings } of perRun) {
     const rows = JSON.parse(readings) as Array<
-      [string, unknown, unknown, unknown, unknown, unknown, boolean, MeasurementResult, unknown, unknown, unknown, unknown, string | null, string | null, string | null, string | null, string | null]
+      [
+        string,
+        unknown,
+        unknown,
+        unknown,
+        unknown,
+        unknown,
+        boolean,
+        MeasurementResult,
+        unknown,
+        unknown,
+        unknown,
+        unknown,
+        string | null,
+        string | null,
+        string | null,
+        string | null,
+        string | null,
+      ]
     >;
     readingsByRun.set(
       runId,
@@ -294,7 +332,11 @@ export async function loadPart(m: EntityManager, typeId: string): Promise<PartDa
       `SELECT run_id AS "runId", device_id AS "deviceId", read_point_h AS "readPointH", kind, reason, by_name AS "byName", at FROM device_dispositions WHERE run_id = ANY($1::uuid[])`,
       [runIds],
     )
-  ).map((d: DispositionRow & { at: Date; readPointH: unknown }) => ({ ...d, readPointH: num(d.readPointH)!, at: new Date(d.at).toISOString() }));
+  ).map((d: DispositionRow & { at: Date; readPointH: unknown }) => ({
+    ...d,
+    readPointH: num(d.readPointH)!,
+    at: new Date(d.at).toISOString(),
+  }));
   return {
     type,
     lots,
@@ -313,7 +355,14 @@ export async function loadPart(m: EntityManager, typeId: string): Promise<PartDa
 /** Credited hours and trips of the runs' sockets, keyed run:device. */
 async function socketHours(m: EntityManager, runIds: string[]): Promise<Map<string, SocketHours>> {
   if (!runIds.length) return new Map();
-  const rows: Array<{ runId: string; deviceId: string; accruedHours: number; tripped: boolean; trippedAt: Date | null; tripReason: string | null }> = await m.query(
+  const rows: Array<{
+    runId: string;
+    deviceId: string;
+    accruedHours: number;
+    tripped: boolean;
+    trippedAt: Date | null;
+    tripReason: string | null;
+  }> = await m.query(
     `SELECT run_id AS "runId", device_id AS "deviceId", accrued_hours AS "accruedHours", tripped, tripped_at AS "trippedAt", trip_reason AS "tripReason"
        FROM run_sockets WHERE run_id = ANY($1::uuid[])`,
     [runIds],
@@ -321,7 +370,12 @@ async function socketHours(m: EntityManager, runIds: string[]): Promise<Map<stri
   return new Map(
     rows.map((r) => [
       `${r.runId}:${r.deviceId}`,
-      { accruedHours: Number(r.accruedHours), tripped: r.tripped, trippedAt: r.trippedAt ? new Date(r.trippedAt).toISOString() : null, tripReason: r.tripReason },
+      {
+        accruedHours: Number(r.accruedHours),
+        tripped: r.tripped,
+        trippedAt: r.trippedAt ? new Date(r.trippedAt).toISOString() : null,
+        tripReason: r.tripReason,
+      },
     ]),
   );
 }
@@ -414,7 +468,12 @@ export class PartAnalysis {
           return { runId: r.id, runCode: r.code, rigCode: r.rigCode, state: r.state, stressHours: r.stressHours };
         }),
         deviation: sample?.deviationReason
-          ? { sampleSize: sample.bookedSize, reason: sample.deviationReason, by: sample.deviationBy ?? 'unknown', at: sample.deviationAt ? new Date(sample.deviationAt).toISOString() : '' }
+          ? {
+              sampleSize: sample.bookedSize,
+              reason: sample.deviationReason,
+              by: sample.deviationBy ?? 'unknown',
+              at: sample.deviationAt ? new Date(sample.deviationAt).toISOString() : '',
+            }
           : null,
         devices: s.devices.map((d) => {
           const sock = this.sockets.get(`${d.runId}:${d.deviceId}`);
@@ -464,8 +523,16 @@ function planConditions(plan: PlanRow): PlanEvidence['plan'] {
     kind: plan.kind as PlanKind,
     chamberC: plan.chamberC,
     humidityPct: plan.humidityPct ?? null,
-    bias: { vcbV: plan.bias?.vcbV ?? null, vebV: plan.bias?.vebV ?? null, vceV: plan.bias?.vceV ?? null, ibA: plan.bias?.ibA ?? null, icA: plan.bias?.icA ?? null },
-    cycle: plan.cycle ? { onMin: plan.cycle.onMin, offMin: plan.cycle.offMin, deltaTjC: plan.cycle.deltaTjC, cycles: plan.cycle.cycles } : null,
+    bias: {
+      vcbV: plan.bias?.vcbV ?? null,
+      vebV: plan.bias?.vebV ?? null,
+      vceV: plan.bias?.vceV ?? null,
+      ibA: plan.bias?.ibA ?? null,
+      icA: plan.bias?.icA ?? null,
+    },
+    cycle: plan.cycle
+      ? { onMin: plan.cycle.onMin, offMin: plan.cycle.offMin, deltaTjC: plan.cycle.deltaTjC, cycles: plan.cycle.cycles }
+      : null,
     durationH: plan.durationH,
     readPointsH: [...plan.readPointsH].sort((a, b) => a - b),
     sampleSize: plan.sampleSize,
@@ -540,7 +607,9 @@ function lotEntries(data: PartData): LotEntry[] {
     if (!d) {
       const plan = plans.get(run.planId)!;
       // Lot analytics reads the numbers only: the per-parameter reason texts are not built.
-      d = runDrift({ run, plan, deviceType: type, devices: devicesByRun.get(run.id) ?? [] }, readingsByRun.get(run.id) ?? [], { reasons: false });
+      d = runDrift({ run, plan, deviceType: type, devices: devicesByRun.get(run.id) ?? [] }, readingsByRun.get(run.id) ?? [], {
+        reasons: false,
+      });
       drift.set(run.id, d);
     }
     const left = lotsLeft.get(run.id)! - 1;
@@ -596,7 +665,9 @@ function lotEntries(data: PartData): LotEntry[] {
             measuredAt: x.measuredAt,
             late: r.late,
             conditionDifferences: x.conditionsFlag ? [x.conditionsFlag] : [],
-            confirmed: x.confirmedAt ? { by: x.confirmedBy ?? 'unknown', at: new Date(x.confirmedAt).toISOString(), note: x.confirmReason ?? '' } : null,
+            confirmed: x.confirmedAt
+              ? { by: x.confirmedBy ?? 'unknown', at: new Date(x.confirmedAt).toISOString(), note: x.confirmReason ?? '' }
+              : null,
           };
           const list = byDevice.get(r.deviceId);
           if (list) list.push(ev);
@@ -610,7 +681,13 @@ function lotEntries(data: PartData): LotEntry[] {
             runId: rid,
             socketIndex: d.socketIndex,
             readings: (byDevice.get(d.deviceId) ?? []).sort((a, b) => a.readPointH - b.readPointH),
-            dispositions: (dispositionsOf.get(`${rid}:${d.deviceId}`) ?? []).map((x) => ({ kind: x.kind, readPointH: x.readPointH, reason: x.reason, by: x.byName, at: x.at })),
+            dispositions: (dispositionsOf.get(`${rid}:${d.deviceId}`) ?? []).map((x) => ({
+              kind: x.kind,
+              readPointH: x.readPointH,
+              reason: x.reason,
+              by: x.byName,
+              at: x.at,
+            })),
           }));
       });
       return { planId: runs.get(runIds[0])!.planId, sampleId: sid, runIds, devices };
@@ -627,7 +704,12 @@ function lotEntries(data: PartData): LotEntry[] {
     };
     const peers: PeerLot[] = samples.map((s) => {
       const pc = planConditions(plans.get(s.planId)!);
-      const pe: PlanEvidence = { plan: pc, runs: [], deviation: null, devices: s.devices.map((d) => ({ ...d, creditedHours: 0, trip: null })) };
+      const pe: PlanEvidence = {
+        plan: pc,
+        runs: [],
+        deviation: null,
+        devices: s.devices.map((d) => ({ ...d, creditedHours: 0, trip: null })),
+      };
       return { lotId: lot.id, lotCode: lot.code, productionDate, conditionsKey: planConditionsKey(pc), values: controlValues(pe, gain) };
     });
     return {
@@ -676,7 +758,10 @@ export class PartCache {
     return order.map((id) => byId.get(id)).filter((a): a is Analysed => !!a);
   }
 
-  private async read(sel: { typeIds?: string[] } | { lotId: string }, ordered: boolean): Promise<{ parts: PartAnalysis[]; order: string[] }> {
+  private async read(
+    sel: { typeIds?: string[] } | { lotId: string },
+    ordered: boolean,
+  ): Promise<{ parts: PartAnalysis[]; order: string[] }> {
     return this.ds.transaction('REPEATABLE READ', async (m) => {
       let typeIds: string[];
       if ('lotId' in sel) {
@@ -692,9 +777,11 @@ export class PartCache {
       // Lots of several parts interleave in PostgreSQL's collation order of their codes.
       const order: string[] =
         ordered && parts.length > 1
-          ? (await m.query(`SELECT id FROM lots WHERE device_type_id = ANY($1::uuid[]) ORDER BY code ASC`, [parts.map((p) => p.deviceTypeId)])).map(
-              (r: { id: string }) => r.id,
-            )
+          ? (
+              await m.query(`SELECT id FROM lots WHERE device_type_id = ANY($1::uuid[]) ORDER BY code ASC`, [
+                parts.map((p) => p.deviceTypeId),
+              ])
+            ).map((r: { id: string }) => r.id)
           : [];
       return { parts, order };
     });
@@ -706,7 +793,11 @@ export class PartCache {
       const part =
         hit.version.runs === version.runs
           ? hit
-          : hit.withRuns(await m.query(`SELECT ${RUN_STATUS_COLUMNS} FROM runs WHERE id = ANY($1::uuid[])`, [hit.runIds]), await socketHours(m, hit.runIds), version);
+          : hit.withRuns(
+              await m.query(`SELECT ${RUN_STATUS_COLUMNS} FROM runs WHERE id = ANY($1::uuid[])`, [hit.runIds]),
+              await socketHours(m, hit.runIds),
+              version,
+            );
       this.remember(part);
       return part;
     }

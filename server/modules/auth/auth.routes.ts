@@ -106,4 +106,3 @@ export function authRoutes(ctx: AppContext): ApiRouter {
   });
   return r;
 }
-

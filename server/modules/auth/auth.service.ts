@@ -12,8 +12,7 @@ export const LOCKOUT_MINUTES = 15;
  * The one answer to an unknown e-mail, a wrong password and a locked account alike: a different
  * lockout message told an outsider which e-mail addresses have accounts (issue #18, point 10).
  */
-export const SIGN_IN_REFUSED =
-  `Wrong e-mail or password. After ${LOCKOUT_AFTER} wrong passwords in a row an account is locked for ${LOCKOUT_MINUTES} minutes; an administrator can unlock it sooner.`;
+export const SIGN_IN_REFUSED = `Wrong e-mail or password. After ${LOCKOUT_AFTER} wrong passwords in a row an account is locked for ${LOCKOUT_MINUTES} minutes; an administrator can unlock it sooner.`;
 
 // Compared against when the e-mail is unknown, so both paths cost one bcrypt compare.
 const DUMMY_HASH = bcrypt.hashSync('emberlot-timing-equaliser', 10);
@@ -23,7 +22,11 @@ export type SignInResult = { ok: true; user: SessionUser } | { ok: false; messag
 export const toSessionUser = (u: UserEntity): SessionUser => ({ id: u.id, email: u.email, name: u.name, role: u.role });
 
 export class AuthService {
-  constructor(private readonly ds: DataSource, private readonly audit: AuditService, private readonly now: () => Date) {}
+  constructor(
+    private readonly ds: DataSource,
+    private readonly audit: AuditService,
+    private readonly now: () => Date,
+  ) {}
 
   async verify(email: string, password: string): Promise<SignInResult> {
     const repo = this.ds.getRepository(UserEntity);
@@ -45,7 +48,13 @@ export class AuthService {
       const lock = failed >= LOCKOUT_AFTER ? new Date(now.getTime() + LOCKOUT_MINUTES * 60000) : null;
       await repo.update(u.id, { failedSignIns: lock ? 0 : failed, lockedUntil: lock });
       if (lock) {
-        await this.audit.record({ actor: 'system', action: 'user.locked', entity: 'user', entityId: u.id, details: { after: LOCKOUT_AFTER } });
+        await this.audit.record({
+          actor: 'system',
+          action: 'user.locked',
+          entity: 'user',
+          entityId: u.id,
+          details: { after: LOCKOUT_AFTER },
+        });
       }
       return { ok: false, message: SIGN_IN_REFUSED };
     }

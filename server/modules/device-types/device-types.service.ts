@@ -14,8 +14,25 @@ import { deviceTypeUsage } from './device-types.data';
 
 /** Every rating field, in the order the schema lists them (used to map and to diff). */
 export const DEVICE_TYPE_FIELDS = [
-  'partNumber', 'description', 'kind', 'polarity', 'bvcboV', 'bvceoV', 'bveboV', 'icMaxA', 'pMaxW', 'pRatedAtC', 'tjMaxC',
-  'thetaJcCPerW', 'thetaJaCPerW', 'betaRef', 'betaRefIcA', 'betaRefTC', 'xtb', 'icboRefA', 'breakdownN',
+  'partNumber',
+  'description',
+  'kind',
+  'polarity',
+  'bvcboV',
+  'bvceoV',
+  'bveboV',
+  'icMaxA',
+  'pMaxW',
+  'pRatedAtC',
+  'tjMaxC',
+  'thetaJcCPerW',
+  'thetaJaCPerW',
+  'betaRef',
+  'betaRefIcA',
+  'betaRefTC',
+  'xtb',
+  'icboRefA',
+  'breakdownN',
 ] as const satisfies ReadonlyArray<keyof DeviceTypeInput>;
 
 /** The ratings of an entity as the plan check takes them. */
@@ -49,13 +66,18 @@ export function toDeviceType(e: DeviceTypeEntity): DeviceType {
 
 const duplicatePart = (partNumber: string) => conflict(`A device type with the part number ${partNumber} already exists.`);
 /** Two people saving the same part number at once: the unique index decides, and the loser gets the same 409. */
-const uniqueToConflict = (partNumber: string) => (e: unknown): never => {
-  if ((e as { code?: string }).code === '23505') throw duplicatePart(partNumber);
-  throw e;
-};
+const uniqueToConflict =
+  (partNumber: string) =>
+  (e: unknown): never => {
+    if ((e as { code?: string }).code === '23505') throw duplicatePart(partNumber);
+    throw e;
+  };
 
 export class DeviceTypesService {
-  constructor(private readonly ds: DataSource, private readonly audit: AuditService) {}
+  constructor(
+    private readonly ds: DataSource,
+    private readonly audit: AuditService,
+  ) {}
 
   async list(q?: string): Promise<DeviceTypeSummary[]> {
     const like = q ? ILike(`%${q.replace(/[\\%_]/g, (c) => `\\${c}`)}%`) : undefined;
@@ -64,7 +86,10 @@ export class DeviceTypesService {
       order: { partNumber: 'ASC' },
     });
     if (rows.length === 0) return [];
-    const counts = await deviceTypeUsage(this.ds.manager, rows.map((r) => r.id));
+    const counts = await deviceTypeUsage(
+      this.ds.manager,
+      rows.map((r) => r.id),
+    );
     const byId = new Map(counts.map((c) => [c.id, c]));
     return rows.map((r) => {
       const c = byId.get(r.id);
@@ -122,7 +147,13 @@ export class DeviceTypesService {
       Object.assign(e, merged);
       const saved = await m.save(e).catch(uniqueToConflict(merged.partNumber));
       await this.audit.record(
-        { actor, action: 'device-type.update', entity: 'device-type', entityId: e.id, details: { mode, partNumber: e.partNumber, changes } },
+        {
+          actor,
+          action: 'device-type.update',
+          entity: 'device-type',
+          entityId: e.id,
+          details: { mode, partNumber: e.partNumber, changes },
+        },
         m,
       );
       return toDeviceType(saved);

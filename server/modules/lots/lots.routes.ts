@@ -34,13 +34,23 @@ export function lotsRoutes(ctx: AppContext): ApiRouter {
   r.post('/:id/serials/csv', { access: rolesFor('lot.edit'), params: idParamSchema }, async ({ user, params, req, res }) => {
     const file = await receiveFile(req, res);
     const rows = readSerialCsv(file.buffer);
-    return svc.addSerials(user, params.id, rows.map((x) => x.serial), { kind: 'file', lines: rows.map((x) => x.line), fileName: file.originalname });
+    return svc.addSerials(
+      user,
+      params.id,
+      rows.map((x) => x.serial),
+      { kind: 'file', lines: rows.map((x) => x.line), fileName: file.originalname },
+    );
   });
   // Reads a file for the new-lot form without storing anything: the serials it holds, and its bad rows.
   r.post('/serials/parse-csv', { access: rolesFor('lot.edit') }, async ({ req, res }) => {
     const file = await receiveFile(req, res);
     const rows = readSerialCsv(file.buffer);
-    const { serials, problems } = checkSerialRows(rows.map((x) => x.serial), new Set(), (i) => rows[i].line, 'the lot');
+    const { serials, problems } = checkSerialRows(
+      rows.map((x) => x.serial),
+      new Set(),
+      (i) => rows[i].line,
+      'the lot',
+    );
     return { serials, rows: problems, total: rows.length };
   });
   return r;

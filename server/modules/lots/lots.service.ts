@@ -51,7 +51,10 @@ const LOT_SELECT = `
     FROM lots l JOIN device_types dt ON dt.id = l.device_type_id`;
 
 export class LotsService {
-  constructor(private readonly ds: DataSource, private readonly audit: AuditService) {}
+  constructor(
+    private readonly ds: DataSource,
+    private readonly audit: AuditService,
+  ) {}
 
   async list(filter: { deviceTypeId?: string; q?: string }): Promise<Lot[]> {
     const where: string[] = [];
@@ -89,7 +92,15 @@ export class LotsService {
       if (problems.length) throw badSerialsError(problems, input.serials.length, 'list');
       this.assertFits(input.code, input.quantity, 0, serials.length);
       const lot = await m
-        .save(m.create(LotEntity, { code: input.code, deviceTypeId: type.id, quantity: input.quantity, dateCode: input.dateCode, notes: input.notes }))
+        .save(
+          m.create(LotEntity, {
+            code: input.code,
+            deviceTypeId: type.id,
+            quantity: input.quantity,
+            dateCode: input.dateCode,
+            notes: input.notes,
+          }),
+        )
         .catch((e) => {
           // Two people creating the same code at once: the unique index decides.
           if ((e as { code?: string }).code === '23505') throw conflict(`A lot with the code ${input.code} already exists.`);
@@ -98,7 +109,10 @@ export class LotsService {
       await this.insertSerials(m, lot.id, serials);
       await this.audit.record(
         {
-          actor, action: 'lot.create', entity: 'lot', entityId: lot.id,
+          actor,
+          action: 'lot.create',
+          entity: 'lot',
+          entityId: lot.id,
           details: { code: lot.code, partNumber: type.partNumber, quantity: lot.quantity, serials: serials.length },
         },
         m,
@@ -120,9 +134,7 @@ export class LotsService {
       // Only look up serials that could be stored: a control character (NUL above all) would make
       // PostgreSQL fail the query; checkSerialRows reports those rows with their reason instead.
       const trimmed = [...new Set(candidates.map((c) => c.trim()).filter((c) => c !== '' && !/[\u0000-\u001f\u007f]/.test(c)))];
-      const present = trimmed.length
-        ? await m.find(DeviceEntity, { where: { lotId, serial: In(trimmed) }, select: { serial: true } })
-        : [];
+      const present = trimmed.length ? await m.find(DeviceEntity, { where: { lotId, serial: In(trimmed) }, select: { serial: true } }) : [];
       const rowOf = source.kind === 'file' ? (i: number) => source.lines[i] : undefined;
       const { serials, problems } = checkSerialRows(candidates, new Set(present.map((d) => d.serial)), rowOf, `lot ${lot.code}`);
       if (problems.length) throw badSerialsError(problems, candidates.length, source.kind);
@@ -131,8 +143,16 @@ export class LotsService {
       await this.insertSerials(m, lot.id, serials);
       await this.audit.record(
         {
-          actor, action: 'lot.serials.add', entity: 'lot', entityId: lot.id,
-          details: { code: lot.code, added: serials.length, source: source.kind, ...(source.kind === 'file' ? { fileName: source.fileName } : {}) },
+          actor,
+          action: 'lot.serials.add',
+          entity: 'lot',
+          entityId: lot.id,
+          details: {
+            code: lot.code,
+            added: serials.length,
+            source: source.kind,
+            ...(source.kind === 'file' ? { fileName: source.fileName } : {}),
+          },
         },
         m,
       );
@@ -151,7 +171,10 @@ export class LotsService {
 
   private async insertSerials(m: EntityManager, lotId: string, serials: string[]) {
     for (let i = 0; i < serials.length; i += 1000) {
-      await m.insert(DeviceEntity, serials.slice(i, i + 1000).map((serial) => ({ lotId, serial })));
+      await m.insert(
+        DeviceEntity,
+        serials.slice(i, i + 1000).map((serial) => ({ lotId, serial })),
+      );
     }
   }
 }

@@ -51,7 +51,10 @@ export class MailService {
   private readonly opts: Required<MailServiceOptions>;
   readonly stats = { sent: 0, failed: 0, retries: 0 };
 
-  constructor(private readonly ctx: AppContext, opts: MailServiceOptions = {}) {
+  constructor(
+    private readonly ctx: AppContext,
+    opts: MailServiceOptions = {},
+  ) {
     this.opts = { attempts: opts.attempts ?? 3, backoffMs: opts.backoffMs ?? 500, timeoutMs: opts.timeoutMs ?? 10_000 };
   }
 

@@ -59,7 +59,6 @@ export function looksLikeFormula(raw: string): boolean {
   return false;
 }
 
-
 function decode(buf: Buffer): string {
   if (buf.includes(0)) throw unprocessable('The file is not a text CSV file (it contains binary data).');
   const utf8 = buf.toString('utf8');
@@ -81,7 +80,10 @@ const unitOf = (col: MeasurementColumn, units: Units): string | null =>
  * Parse the file into rows. Whole-file problems (not CSV, no header, a required column missing,
  * too many rows) throw a 422; row problems are collected per row.
  */
-export function parseMeasurementCsv(buf: Buffer, opts: { mapping: ColumnMapping; units: Units; defaultTempC: number; now: Date }): ParsedFile {
+export function parseMeasurementCsv(
+  buf: Buffer,
+  opts: { mapping: ColumnMapping; units: Units; defaultTempC: number; now: Date },
+): ParsedFile {
   const text = decode(buf);
   let records: Array<{ record: string[]; info: { lines: number } }>;
   try {
@@ -203,7 +205,9 @@ export function parseMeasurementCsv(buf: Buffer, opts: { mapping: ColumnMapping;
     if (hfeIcA !== null && !(hfeIcA > 0)) reasons.push(`The hFE test current must be above 0 ${UNIT_LABEL[opts.units.hfeIc]}.`);
     if (hfeVceV !== null && !(hfeVceV > 0)) reasons.push('The hFE test voltage must be above 0 V.');
     if (icboA !== null && icboA < 0) {
-      reasons.push(`Negative leakage: ICBO ${+(icboA / UNIT_FACTOR[opts.units.icbo]).toPrecision(6)} ${UNIT_LABEL[opts.units.icbo]} is below zero.`);
+      reasons.push(
+        `Negative leakage: ICBO ${+(icboA / UNIT_FACTOR[opts.units.icbo]).toPrecision(6)} ${UNIT_LABEL[opts.units.icbo]} is below zero.`,
+      );
     }
     if (icboA !== null && icboA > 1) reasons.push('ICBO above 1 A is not a leakage reading; check the unit.');
     if (icboVcbV !== null && !(icboVcbV > 0)) reasons.push('The ICBO test voltage must be above 0 V.');

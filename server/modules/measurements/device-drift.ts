@@ -63,6 +63,12 @@ export function driftOfDevice(
     }
     points.push(base);
   }
-  const status: DeviceDriftView['status'] = !sorted.length ? 'not-measured' : !zero ? 'no-time-zero' : firstFailedH !== null ? 'fail' : 'pass';
+  const status: DeviceDriftView['status'] = !sorted.length
+    ? 'not-measured'
+    : !zero
+      ? 'no-time-zero'
+      : firstFailedH !== null
+        ? 'fail'
+        : 'pass';
   return { status, firstFailedH, readPoints: points };
 }

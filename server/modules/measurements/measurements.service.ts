@@ -14,7 +14,15 @@ import {
   type UploadResult,
 } from '../../../shared/schemas/measurements';
 import { conditionDifferences, isCatastrophic, isJudgeable, type MeasuringConditions } from '../../../shared/evidence';
-import { DeviceDispositionEntity, DeviceEntity, LotEntity, MeasurementEntity, MeasurementUploadEntity, RunEntity, RunSocketEntity } from '../../db/entities';
+import {
+  DeviceDispositionEntity,
+  DeviceEntity,
+  LotEntity,
+  MeasurementEntity,
+  MeasurementUploadEntity,
+  RunEntity,
+  RunSocketEntity,
+} from '../../db/entities';
 import { conflict, unprocessable } from '../../http/errors';
 import type { AuditService } from '../audit/audit.service';
 import { parseMeasurementCsv, type ParsedRow, type ParsedValues } from './csv-rows';
@@ -144,10 +152,13 @@ export class MeasurementsService {
     if (!planned.includes(hours)) {
       throw unprocessable(`Read point ${hours} h is not in plan "${b.plan.name}" (read points ${planned.join(' / ')} h).`);
     }
-    if (b.run.state === 'booked' && hours > 0) throw unprocessable(`Run ${b.run.code} has not started; only time-zero (0 h) readings can be stored.`);
+    if (b.run.state === 'booked' && hours > 0)
+      throw unprocessable(`Run ${b.run.code} has not started; only time-zero (0 h) readings can be stored.`);
     if (b.run.state === 'aborted') throw unprocessable(`Run ${b.run.code} was aborted; its readings can no longer change.`);
     if (!this.reached(b.run, hours)) {
-      throw unprocessable(`Run ${b.run.code} has accrued ${+b.run.stressHours.toFixed(1)} stress hours; the ${hours} h read point is not reached yet.`);
+      throw unprocessable(
+        `Run ${b.run.code} has accrued ${+b.run.stressHours.toFixed(1)} stress hours; the ${hours} h read point is not reached yet.`,
+      );
     }
     if (!b.devices.length) throw unprocessable(`Run ${b.run.code} has no socket map yet, so no device can be matched.`);
   }
@@ -162,7 +173,13 @@ export class MeasurementsService {
     const fileName = (p.file.originalname || 'upload.csv').slice(0, 200);
     const previous = await this.ds.getRepository(MeasurementUploadEntity).findOne({ where: { runId: p.runId, fileSha256: sha } });
     const previousUpload = previous
-      ? { id: previous.id, readPointH: previous.readPointH, createdAt: previous.createdAt.toISOString(), rowsStored: previous.rowsStored, rowsRejected: previous.rowsRejected }
+      ? {
+          id: previous.id,
+          readPointH: previous.readPointH,
+          createdAt: previous.createdAt.toISOString(),
+          rowsStored: previous.rowsStored,
+          rowsRejected: previous.rowsRejected,
+        }
       : undefined;
     if (previous && previous.readPointH !== p.hours) {
       throw conflict(
@@ -197,7 +214,12 @@ export class MeasurementsService {
       };
     }
 
-    const parsed = parseMeasurementCsv(p.file.buffer, { mapping: p.fields.mapping, units: p.fields.units, defaultTempC: p.fields.defaultTempC, now: this.now() });
+    const parsed = parseMeasurementCsv(p.file.buffer, {
+      mapping: p.fields.mapping,
+      units: p.fields.units,
+      defaultTempC: p.fields.defaultTempC,
+      now: this.now(),
+    });
     const checked = await this.checkRows(this.ds.manager, b, p.hours, parsed.rows, 'row');
     const result = this.summarise(checked);
     const body: UploadResult = {
@@ -240,7 +262,15 @@ export class MeasurementsService {
             action: 'measurement.upload',
             entity: 'run',
             entityId: p.runId,
-            details: { readPointH: p.hours, fileName, fileSha256: sha, inserted: body.inserted, replaced: body.replaced, rejected: body.rejected, late: body.late },
+            details: {
+              readPointH: p.hours,
+              fileName,
+              fileSha256: sha,
+              inserted: body.inserted,
+              replaced: body.replaced,
+              rejected: body.rejected,
+              late: body.late,
+            },
           },
           m,
         );
@@ -276,19 +306,30 @@ export class MeasurementsService {
         values: reasons.length
           ? null
           : it.result !== 'measured'
-            ? { result: it.result, hfe: null, hfeIcA: null, hfeVceV: null, icboA: null, icboVcbV: null, vcesatV: null, bvceoV: null, measuredC: it.measuredC, measuredAt }
+            ? {
+                result: it.result,
+                hfe: null,
+                hfeIcA: null,
+                hfeVceV: null,
+                icboA: null,
+                icboVcbV: null,
+                vcesatV: null,
+                bvceoV: null,
+                measuredC: it.measuredC,
+                measuredAt,
+              }
             : {
-              result: it.result,
-              hfe: it.hfe ?? null,
-              hfeIcA: it.hfeIcA ?? null,
-              hfeVceV: it.hfeVceV ?? null,
-              icboA: it.icboA ?? null,
-              icboVcbV: it.icboVcbV ?? null,
-              vcesatV: it.vcesatV ?? null,
-              bvceoV: it.bvceoV ?? null,
-              measuredC: it.measuredC,
-              measuredAt,
-            },
+                result: it.result,
+                hfe: it.hfe ?? null,
+                hfeIcA: it.hfeIcA ?? null,
+                hfeVceV: it.hfeVceV ?? null,
+                icboA: it.icboA ?? null,
+                icboVcbV: it.icboVcbV ?? null,
+                vcesatV: it.vcesatV ?? null,
+                bvceoV: it.bvceoV ?? null,
+                measuredC: it.measuredC,
+                measuredAt,
+              },
       };
     });
     const checked = await this.checkRows(this.ds.manager, b, hours, parsed, 'entry');
@@ -306,12 +347,20 @@ export class MeasurementsService {
       notes: ['Manual entry stores all devices or none. A device already measured at this read point gets the new reading.'],
     };
     if (body.rejected) {
-      throw unprocessable(`${body.rejected} of ${body.rowsTotal} entries have a problem (see rows). Nothing was stored.`, { rows: body.rows });
+      throw unprocessable(`${body.rejected} of ${body.rowsTotal} entries have a problem (see rows). Nothing was stored.`, {
+        rows: body.rows,
+      });
     }
     await this.ds.transaction(async (m) => {
       await this.write(m, b, hours, checked, { uploadId: null, enteredById: actor.id });
       await this.audit.record(
-        { actor, action: 'measurement.manual', entity: 'run', entityId: runId, details: { readPointH: hours, serials: items.map((i) => i.serial), inserted: body.inserted, replaced: body.replaced } },
+        {
+          actor,
+          action: 'measurement.manual',
+          entity: 'run',
+          entityId: runId,
+          details: { readPointH: hours, serials: items.map((i) => i.serial), inserted: body.inserted, replaced: body.replaced },
+        },
         m,
       );
     });
@@ -388,9 +437,7 @@ export class MeasurementsService {
       reasons: c.reasons,
       late: c.outcome !== 'rejected' && c.late,
       ...(c.outcome !== 'rejected' && c.conditionsFlag ? { conditionsFlag: c.conditionsFlag } : {}),
-      ...(c.values && c.outcome !== 'rejected'
-        ? { values: { ...c.values, measuredAt: c.values.measuredAt.toISOString() } }
-        : {}),
+      ...(c.values && c.outcome !== 'rejected' ? { values: { ...c.values, measuredAt: c.values.measuredAt.toISOString() } } : {}),
     }));
     const count = (o: RowResult['outcome']) => rows.filter((r) => r.outcome === o).length;
     return {
@@ -405,7 +452,13 @@ export class MeasurementsService {
   }
 
   /** Upsert per (run, device, read point), then refresh each device's first-failed read point. */
-  private async write(m: EntityManager, b: RunBundle, hours: number, rows: CheckedRow[], src: { uploadId: string | null; enteredById: string }) {
+  private async write(
+    m: EntityManager,
+    b: RunBundle,
+    hours: number,
+    rows: CheckedRow[],
+    src: { uploadId: string | null; enteredById: string },
+  ) {
     const good = rows.filter((r) => r.outcome === 'insert' || r.outcome === 'replace');
     if (good.length) {
       await m
@@ -424,7 +477,21 @@ export class MeasurementsService {
           })),
         )
         .orUpdate(
-          ['result', 'hfe', 'hfe_ic_a', 'hfe_vce_v', 'icbo_a', 'icbo_vcb_v', 'vcesat_v', 'bvceo_v', 'measured_c', 'measured_at', 'late', 'upload_id', 'entered_by_id'],
+          [
+            'result',
+            'hfe',
+            'hfe_ic_a',
+            'hfe_vce_v',
+            'icbo_a',
+            'icbo_vcb_v',
+            'vcesat_v',
+            'bvceo_v',
+            'measured_c',
+            'measured_at',
+            'late',
+            'upload_id',
+            'entered_by_id',
+          ],
           ['run_id', 'device_id', 'read_point_h'],
         )
         .execute();
@@ -503,7 +570,11 @@ export async function refreshConditionFlags(m: EntityManager, runId: string) {
     const zero = t0.get(x.deviceId);
     const flag = zero && x.result === 'measured' ? conditionFlagText(zero, x) : null;
     if (flag !== x.conditionsFlag) {
-      await m.update(MeasurementEntity, { id: x.id }, { conditionsFlag: flag, confirmedAt: null, confirmedById: null, confirmReason: null });
+      await m.update(
+        MeasurementEntity,
+        { id: x.id },
+        { conditionsFlag: flag, confirmedAt: null, confirmedById: null, confirmReason: null },
+      );
     }
   }
 }

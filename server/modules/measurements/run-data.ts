@@ -81,4 +81,3 @@ export async function runDevices(m: EntityManager, runIds: string[]): Promise<Ma
   }
   return out;
 }
-

@@ -75,9 +75,11 @@ export class NotificationsService {
       select: { id: true, email: true, name: true },
     });
     if (users.length === 0) return [];
-    await this.ctx.ds.getRepository(NotificationEntity).insert(
-      users.map((u) => ({ userId: u.id, kind: clip(a.kind, 32), title: clip(a.title, 200), body: a.body, link: a.link, readAt: null })),
-    );
+    await this.ctx.ds
+      .getRepository(NotificationEntity)
+      .insert(
+        users.map((u) => ({ userId: u.id, kind: clip(a.kind, 32), title: clip(a.title, 200), body: a.body, link: a.link, readAt: null })),
+      );
     const mail = this.ctx.services.mail;
     for (const u of users) {
       mail.enqueue({ to: u.email, subject: clip(a.subject ?? a.title, 200), text: a.mailText ?? a.body, kind: a.kind });

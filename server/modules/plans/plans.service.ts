@@ -88,7 +88,10 @@ function toSummary(e: StressPlanEntity, device: DeviceTypeEntity): PlanSummary {
 function stable(v: unknown): string {
   if (Array.isArray(v)) return `[${v.map(stable).join(',')}]`;
   if (v && typeof v === 'object') {
-    return `{${Object.keys(v).sort().map((k) => `${JSON.stringify(k)}:${stable((v as Record<string, unknown>)[k])}`).join(',')}}`;
+    return `{${Object.keys(v)
+      .sort()
+      .map((k) => `${JSON.stringify(k)}:${stable((v as Record<string, unknown>)[k])}`)
+      .join(',')}}`;
   }
   return JSON.stringify(v);
 }
@@ -97,11 +100,19 @@ function stable(v: unknown): string {
 const normalise = (p: PlanInput): PlanInput => ({ ...p, readPointsH: [...p.readPointsH].sort((a, b) => a - b) });
 
 export class PlansService {
-  constructor(private readonly ds: DataSource, private readonly audit: AuditService, private readonly now: () => Date) {}
+  constructor(
+    private readonly ds: DataSource,
+    private readonly audit: AuditService,
+    private readonly now: () => Date,
+  ) {}
 
   async list(filter: { kind?: PlanKind; deviceTypeId?: string }): Promise<PlanSummary[]> {
     const rows = await this.ds.getRepository(StressPlanEntity).find({
-      where: { current: true, ...(filter.kind ? { kind: filter.kind } : {}), ...(filter.deviceTypeId ? { deviceTypeId: filter.deviceTypeId } : {}) },
+      where: {
+        current: true,
+        ...(filter.kind ? { kind: filter.kind } : {}),
+        ...(filter.deviceTypeId ? { deviceTypeId: filter.deviceTypeId } : {}),
+      },
       relations: { deviceType: true },
       order: { createdAt: 'DESC', name: 'ASC' },
     });
@@ -153,7 +164,10 @@ export class PlansService {
       const saved = await this.saveVersion(m, actor, normalise(input), randomUUID(), 1);
       await this.audit.record(
         {
-          actor, action: 'plan.create', entity: 'plan', entityId: saved.id,
+          actor,
+          action: 'plan.create',
+          entity: 'plan',
+          entityId: saved.id,
           details: { planKey: saved.planKey, version: 1, name: saved.name, kind: saved.kind, checkStatus: statusOf(saved) },
         },
         m,
@@ -179,11 +193,15 @@ export class PlansService {
         lock: { mode: 'pessimistic_write' },
       });
       if (!latest || latest.id !== base.id || !base.current) {
-        throw conflict(`This is version ${base.version} of “${base.name}”; version ${latest?.version} is newer. Open the newest version and edit that.`);
+        throw conflict(
+          `This is version ${base.version} of “${base.name}”; version ${latest?.version} is newer. Open the newest version and edit that.`,
+        );
       }
       if (input.deviceTypeId !== base.deviceTypeId) {
         const d = await m.findOneBy(DeviceTypeEntity, { id: base.deviceTypeId });
-        throw unprocessable(`A new version keeps the plan's device type (${d?.partNumber ?? 'unknown'}). Start a new plan for another device type.`);
+        throw unprocessable(
+          `A new version keeps the plan's device type (${d?.partNumber ?? 'unknown'}). Start a new plan for another device type.`,
+        );
       }
       await m.update(StressPlanEntity, { id: base.id }, { current: false });
       const saved = await this.saveVersion(m, actor, normalise(input), base.planKey, base.version + 1);
@@ -192,7 +210,10 @@ export class PlansService {
       const changed = (Object.keys(after) as Array<keyof PlanInput>).filter((k) => stable(before[k]) !== stable(after[k]));
       await this.audit.record(
         {
-          actor, action: 'plan.version', entity: 'plan', entityId: saved.id,
+          actor,
+          action: 'plan.version',
+          entity: 'plan',
+          entityId: saved.id,
           details: { planKey: saved.planKey, version: saved.version, previousId: base.id, changed, checkStatus: statusOf(saved) },
         },
         m,
@@ -202,7 +223,13 @@ export class PlansService {
     return this.get(newId);
   }
 
-  private async saveVersion(m: EntityManager, actor: SessionUser, input: PlanInput, planKey: string, version: number): Promise<StressPlanEntity> {
+  private async saveVersion(
+    m: EntityManager,
+    actor: SessionUser,
+    input: PlanInput,
+    planKey: string,
+    version: number,
+  ): Promise<StressPlanEntity> {
     const d = await this.deviceFor(m, input.deviceTypeId);
     const checkResult = runPlanCheck({ id: d.id, ...toDeviceTypeInput(d) }, input, this.now());
     return m.save(

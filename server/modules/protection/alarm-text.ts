@@ -21,7 +21,8 @@ export const BIAS_ACTION =
 export const LEAKAGE_ACTION =
   'The device may be degrading or breaking down. Watch its current; if it keeps climbing, remove bias from the socket and note the device for failure analysis.';
 
-export const f1 = (x: number | null | undefined) => (x === null || x === undefined || !Number.isFinite(x) ? 'n/a' : (Math.round(x * 10) / 10).toFixed(1));
+export const f1 = (x: number | null | undefined) =>
+  x === null || x === undefined || !Number.isFinite(x) ? 'n/a' : (Math.round(x * 10) / 10).toFixed(1);
 export const round = (x: number | null, digits = 3) => (x === null || !Number.isFinite(x) ? null : Number(x.toFixed(digits)));
 export const clip = (s: string, n: number) => (s.length > n ? s.slice(0, n - 1) + '…' : s);
 
@@ -46,7 +47,12 @@ export function numbersText(a: SocketAssessment, d: ProtectionDevice): string {
   return parts.join('; ') + '.';
 }
 
-export function assessmentDetails(a: SocketAssessment, d: ProtectionDevice, s: SocketSample, serial: string | null): Record<string, unknown> {
+export function assessmentDetails(
+  a: SocketAssessment,
+  d: ProtectionDevice,
+  s: SocketSample,
+  serial: string | null,
+): Record<string, unknown> {
   return {
     tjC: round(a.tjC, 2),
     tjMaxC: d.tjMaxC,
@@ -74,7 +80,14 @@ export interface SocketPlace {
   socket: number;
 }
 
-export function runawayWarningAlarm(p: SocketPlace, runId: string | null, a: SocketAssessment, device: ProtectionDevice, sample: SocketSample, serial: string | null): RaiseAlarmInput {
+export function runawayWarningAlarm(
+  p: SocketPlace,
+  runId: string | null,
+  a: SocketAssessment,
+  device: ProtectionDevice,
+  sample: SocketSample,
+  serial: string | null,
+): RaiseAlarmInput {
   return {
     kind: 'runaway-warning',
     severity: 'warning',
@@ -137,12 +150,17 @@ export function tripOutcome(trip: TripAlarm, outcome: { ok: true } | { ok: false
   return {
     ...trip.input,
     message,
-    details: { ...trip.input.details, command: outcome.ok ? 'confirmed' : 'not confirmed', commandError: outcome.ok ? null : outcome.error },
+    details: {
+      ...trip.input.details,
+      command: outcome.ok ? 'confirmed' : 'not confirmed',
+      commandError: outcome.ok ? null : outcome.error,
+    },
   };
 }
 
 /** An earlier trip alarm's message once a resent command was confirmed. */
-export const confirmedLaterMessage = (message: string) => message.replace(/ The rig did NOT confirm.*$/, ' The rig confirmed the trip on a later attempt.');
+export const confirmedLaterMessage = (message: string) =>
+  message.replace(/ The rig did NOT confirm.*$/, ' The rig confirmed the trip on a later attempt.');
 
 export function rigOfflineAlarm(s: { rigId: string; rigCode: string; at: Date }, run: RunContext | null): RaiseAlarmInput {
   const when = s.at.toISOString().slice(0, 19).replace('T', ' ');
@@ -162,7 +180,11 @@ export function rigOfflineAlarm(s: { rigId: string; rigCode: string; at: Date },
   };
 }
 
-export function ambientAlarm(m: { rigId: string; rigCode: string; chamberC: number; setpointC: number | null }, run: RunContext, out: AmbientOut): RaiseAlarmInput {
+export function ambientAlarm(
+  m: { rigId: string; rigCode: string; chamberC: number; setpointC: number | null },
+  run: RunContext,
+  out: AmbientOut,
+): RaiseAlarmInput {
   const { setC: set, bandC: band, deviationC: dev } = out;
   return {
     kind: 'ambient-out-of-band',

@@ -7,7 +7,14 @@ import { isAlarmKind, type AlarmKindName } from '../../../shared/schemas/alarms'
 import { dedupeKeyFor, type AlarmsService, type RaiseAlarmInput } from '../alarms/alarms.service';
 
 /** The kinds protection raises; active ones are read back at start so they can clear after a restart. */
-export const PROTECTION_ALARM_KINDS: readonly AlarmKindName[] = ['runaway-warning', 'runaway-trip', 'rig-offline', 'ambient-out-of-band', 'bias-out-of-tolerance', 'leakage-jump'];
+export const PROTECTION_ALARM_KINDS: readonly AlarmKindName[] = [
+  'runaway-warning',
+  'runaway-trip',
+  'rig-offline',
+  'ambient-out-of-band',
+  'bias-out-of-tolerance',
+  'leakage-jump',
+];
 
 /** Active condition keys (`kind:rig:socket`) → last refresh, with a count per rig for a cheap "none here". */
 export class ActiveConditions {

@@ -11,7 +11,15 @@
  * hold NaN, never null.
  */
 import { DEFAULT_BIAS_TOLERANCE_PCT } from '../../../shared/domain/standards';
-import { SocketTrend, assessTrend, judgeTrend, type ProtectionDevice, type ProtectionOptions, type SocketAssessment, type SocketSample } from '../../../shared/safety/protection';
+import {
+  SocketTrend,
+  assessTrend,
+  judgeTrend,
+  type ProtectionDevice,
+  type ProtectionOptions,
+  type SocketAssessment,
+  type SocketSample,
+} from '../../../shared/safety/protection';
 // From the modules themselves, not the index files: their re-exports compile to one shared keyed
 // getter, which V8 does not inline (it was ~4 % of the ingest's CPU in the per-socket loops).
 import { STRESS_FAMILY } from '../../../shared/domain/stress';
@@ -181,7 +189,8 @@ export class SocketJudge {
       return d;
     }
     if (this.opts.defaultDevice) {
-      if (this.defaultDeviceInfo?.device !== this.opts.defaultDevice) this.defaultDeviceInfo = { device: this.opts.defaultDevice, serial: null, partNumber: null, trips: 0 };
+      if (this.defaultDeviceInfo?.device !== this.opts.defaultDevice)
+        this.defaultDeviceInfo = { device: this.opts.defaultDevice, serial: null, partNumber: null, trips: 0 };
       return this.defaultDeviceInfo;
     }
     return null;
@@ -312,9 +321,11 @@ export class SocketJudge {
     const outside = (set: number, measured: number) => Math.abs(measured - set) > (tol / 100) * set;
     let off: BiasOff | null = null;
     if (isReverseBias(run)) {
-      if (b.vcbV && outside(b.vcbV, sample.vV)) off = { what: 'reverse voltage', unit: 'V', set: b.vcbV, measured: sample.vV, tolerancePct: tol };
+      if (b.vcbV && outside(b.vcbV, sample.vV))
+        off = { what: 'reverse voltage', unit: 'V', set: b.vcbV, measured: sample.vV, tolerancePct: tol };
     } else if (b.vceV && outside(b.vceV, sample.vV)) off = { what: 'VCE', unit: 'V', set: b.vceV, measured: sample.vV, tolerancePct: tol };
-    else if (b.icA && outside(b.icA, sample.iA)) off = { what: 'collector current', unit: 'A', set: b.icA, measured: sample.iA, tolerancePct: tol };
+    else if (b.icA && outside(b.icA, sample.iA))
+      off = { what: 'collector current', unit: 'A', set: b.icA, measured: sample.iA, tolerancePct: tol };
     if (off) {
       st.biasOut++;
       st.biasIn = 0;
@@ -345,7 +356,15 @@ export class SocketJudge {
     const ratio = sample.iA / st.lastI;
     if (ratio < factor * thermal) return undefined;
     st.leakBaseline = st.lastI;
-    return { fromA: st.lastI, toA: sample.iA, ratio, factor, caseC: sample.caseC, caseDeltaC: sample.caseC - st.lastCaseC, stressClockS: sample.tS };
+    return {
+      fromA: st.lastI,
+      toA: sample.iA,
+      ratio,
+      factor,
+      caseC: sample.caseC,
+      caseDeltaC: sample.caseC - st.lastCaseC,
+      stressClockS: sample.tS,
+    };
   }
 
   /** What the next sample's checks compare with. */

@@ -15,7 +15,13 @@
  * run an energised socket is judged with conservative defaults (`defaultDevice`, Tj max 150 °C,
  * θjc 2 °C/W) — set `defaultDevice: null` to skip such sockets instead.
  */
-import { DEFAULT_PROTECTION_OPTIONS, type ProtectionDevice, type ProtectionOptions, type SocketAssessment, type SocketSample } from '../../../shared/safety/protection';
+import {
+  DEFAULT_PROTECTION_OPTIONS,
+  type ProtectionDevice,
+  type ProtectionOptions,
+  type SocketAssessment,
+  type SocketSample,
+} from '../../../shared/safety/protection';
 // From the modules themselves, not shared/mqtt's index: its re-exports compile to one shared keyed
 // getter, which V8 does not inline (it was ~4 % of the ingest's CPU in the per-socket loops).
 import { FLAG_TRIPPED } from '../../../shared/mqtt/payloads';
@@ -23,7 +29,15 @@ import type { AlarmKindName } from '../../../shared/schemas/alarms';
 import type { AppContext } from '../../context';
 import type { RunState } from '../../db/entities';
 import { RIG_STATUS_CHANGED, RUN_EVENT, TELEMETRY_LANDED, type RigStatusChanged, type RunEvent, type TelemetryLanded } from '../../events';
-import { ambientAlarm, biasAlarm, leakageAlarm, rigOfflineAlarm, runawayWarningAlarm, tripCommandReason, type SocketPlace } from './alarm-text';
+import {
+  ambientAlarm,
+  biasAlarm,
+  leakageAlarm,
+  rigOfflineAlarm,
+  runawayWarningAlarm,
+  tripCommandReason,
+  type SocketPlace,
+} from './alarm-text';
 import { ConditionAlarms } from './conditions';
 import { SocketJudge, type DeviceInfo, type RigState, type SocketState } from './judge';
 import { hasActiveRun, loadRunContext, type RunContext } from './run-context';
@@ -100,7 +114,15 @@ export class ProtectionMonitor {
   private started = false;
   readonly stats = { messages: 0, staleSkipped: 0, assessments: 0, trips: 0, tripSendFailures: 0, warnings: 0, errors: 0 };
   /** Every trip decision, for tests and the log. */
-  readonly tripLog: Array<{ rigCode: string; socket: number; runId: string | null; cmdId: string; assessment: SocketAssessment; sample: SocketSample; at: Date }> = [];
+  readonly tripLog: Array<{
+    rigCode: string;
+    socket: number;
+    runId: string | null;
+    cmdId: string;
+    assessment: SocketAssessment;
+    sample: SocketSample;
+    at: Date;
+  }> = [];
 
   private readonly judge: SocketJudge;
   /** The alarms this monitor believes active, raised and cleared through it. */
@@ -111,7 +133,10 @@ export class ProtectionMonitor {
   /** A few messages per turn of the event loop (turns.ts). */
   private readonly turns = new TurnGate(MESSAGES_PER_TURN);
 
-  constructor(private readonly ctx: AppContext, opts: Partial<ProtectionMonitorOptions> = {}) {
+  constructor(
+    private readonly ctx: AppContext,
+    opts: Partial<ProtectionMonitorOptions> = {},
+  ) {
     this.opts = { ...DEFAULT_MONITOR_OPTIONS, ...opts, protection: { ...DEFAULT_MONITOR_OPTIONS.protection, ...(opts.protection ?? {}) } };
     this.judge = new SocketJudge({ ...this.opts, protection: { ...DEFAULT_PROTECTION_OPTIONS, ...this.opts.protection } });
     const alarms = () => this.alarms;
@@ -257,7 +282,8 @@ export class ProtectionMonitor {
       return;
     }
     // Telemetry proves the rig is back.
-    if (this.conditions.isActive('rig-offline', m.rigId, null)) await this.conditions.clear('rig-offline', m.rigId, null, { telemetryAt: m.ts.toISOString() });
+    if (this.conditions.isActive('rig-offline', m.rigId, null))
+      await this.conditions.clear('rig-offline', m.rigId, null, { telemetryAt: m.ts.toISOString() });
 
     const run = await this.runFor(m.rigId);
     const baselineTjC = this.judge.peerBaseline(m, run);
@@ -283,12 +309,15 @@ export class ProtectionMonitor {
     const sample = this.judge.sampleAt(m, k);
     if ((m.flags[k] & FLAG_TRIPPED) !== 0) {
       this.judge.latchHeld(st);
-      if (this.conditions.isActive('runaway-warning', m.rigId, i)) return this.conditions.clear('runaway-warning', m.rigId, i, { reason: 'socket tripped' });
+      if (this.conditions.isActive('runaway-warning', m.rigId, i))
+        return this.conditions.clear('runaway-warning', m.rigId, i, { reason: 'socket tripped' });
       return undefined;
     }
     if (this.judge.latchReset(st)) {
       // The trip's condition is over (the alarm stays until acknowledged).
-      return this.conditions.clear('runaway-trip', m.rigId, i, { reason: 'trip latch reset' }).then(() => this.judgeSocket(m, rig, run, i, st, sample, baselineTjC));
+      return this.conditions
+        .clear('runaway-trip', m.rigId, i, { reason: 'trip latch reset' })
+        .then(() => this.judgeSocket(m, rig, run, i, st, sample, baselineTjC));
     }
     return this.judgeSocket(m, rig, run, i, st, sample, baselineTjC);
   }
@@ -328,13 +357,27 @@ export class ProtectionMonitor {
   }
 
   /** Bias, then leakage (each may write), then remember this sample for the next one. */
-  private checkRunSocket(m: TelemetryLanded, run: RunContext | null, i: number, st: SocketState, sample: SocketSample): Promise<void> | undefined {
+  private checkRunSocket(
+    m: TelemetryLanded,
+    run: RunContext | null,
+    i: number,
+    st: SocketState,
+    sample: SocketSample,
+  ): Promise<void> | undefined {
     if (!run || st.tripCmdId) return this.judge.remember(st, sample);
     const bias = this.onBias(m, run, i, st, sample);
-    return bias ? bias.then(() => this.checkLeakageThenRemember(m, run, i, st, sample)) : this.checkLeakageThenRemember(m, run, i, st, sample);
+    return bias
+      ? bias.then(() => this.checkLeakageThenRemember(m, run, i, st, sample))
+      : this.checkLeakageThenRemember(m, run, i, st, sample);
   }
 
-  private checkLeakageThenRemember(m: TelemetryLanded, run: RunContext, i: number, st: SocketState, sample: SocketSample): Promise<void> | undefined {
+  private checkLeakageThenRemember(
+    m: TelemetryLanded,
+    run: RunContext,
+    i: number,
+    st: SocketState,
+    sample: SocketSample,
+  ): Promise<void> | undefined {
     const leak = this.onLeakage(m, run, i, st, sample);
     return leak ? leak.then(() => this.judge.remember(st, sample)) : this.judge.remember(st, sample);
   }
@@ -344,7 +387,9 @@ export class ProtectionMonitor {
     const v = this.judge.bias(run, st, sample);
     if (v === undefined) return undefined;
     if (v === 'clear-due') {
-      return this.conditions.isActive('bias-out-of-tolerance', m.rigId, i) ? this.conditions.clear('bias-out-of-tolerance', m.rigId, i, { vV: sample.vV, iA: sample.iA }) : undefined;
+      return this.conditions.isActive('bias-out-of-tolerance', m.rigId, i)
+        ? this.conditions.clear('bias-out-of-tolerance', m.rigId, i, { vV: sample.vV, iA: sample.iA })
+        : undefined;
     }
     return this.conditions.raise(biasAlarm(placeOf(m, i), run, v));
   }
@@ -366,7 +411,8 @@ export class ProtectionMonitor {
         await this.conditions.clear('ambient-out-of-band', m.rigId, null, { reason: run ? `run ${run.state}` : 'no active run' });
       }
     } else if (v === 'clear-due') {
-      if (this.conditions.isActive('ambient-out-of-band', m.rigId, null)) await this.conditions.clear('ambient-out-of-band', m.rigId, null, { chamberC: m.chamberC });
+      if (this.conditions.isActive('ambient-out-of-band', m.rigId, null))
+        await this.conditions.clear('ambient-out-of-band', m.rigId, null, { chamberC: m.chamberC });
     } else if (run) {
       await this.conditions.raise(ambientAlarm(m, run, v));
     }
@@ -376,7 +422,15 @@ export class ProtectionMonitor {
   // Trip
 
   /** Decided: the command id, the socket's state and the log now; delivery and records in the background. */
-  private startTrip(m: TelemetryLanded, run: RunContext | null, socket: number, st: SocketState, sample: SocketSample, a: SocketAssessment, dev: DeviceInfo): void {
+  private startTrip(
+    m: TelemetryLanded,
+    run: RunContext | null,
+    socket: number,
+    st: SocketState,
+    sample: SocketSample,
+    a: SocketAssessment,
+    dev: DeviceInfo,
+  ): void {
     const runSocket = run?.sockets.get(socket);
     // The socket's own run when several runs share the oven; else the rig's run.
     const runId = runSocket?.runId ?? run?.runId ?? null;
@@ -390,7 +444,17 @@ export class ProtectionMonitor {
     this.tripLog.push({ rigCode: m.rigCode, socket, runId, cmdId, assessment: a, sample, at });
     if (this.tripLog.length > 1000) this.tripLog.shift();
     this.track(
-      this.trips.deliver(st, { place: placeOf(m, socket), run: { runId, runCode }, cmdId, reason, assessment: a, device: dev.device, serial: dev.serial, sample, at }),
+      this.trips.deliver(st, {
+        place: placeOf(m, socket),
+        run: { runId, runCode },
+        cmdId,
+        reason,
+        assessment: a,
+        device: dev.device,
+        serial: dev.serial,
+        sample,
+        at,
+      }),
     );
   }
 }

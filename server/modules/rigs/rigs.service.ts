@@ -118,7 +118,13 @@ export class RigsService {
         }),
       );
       await this.ctx.audit.record(
-        { actor, action: 'rig.create', entity: 'rig', entityId: rig.id, details: { code: rig.code, socketCount: rig.socketCount, mqttUsername: username } },
+        {
+          actor,
+          action: 'rig.create',
+          entity: 'rig',
+          entityId: rig.id,
+          details: { code: rig.code, socketCount: rig.socketCount, mqttUsername: username },
+        },
         m,
       );
       return { rig: toRig(rig), credentials: { username, secret, issuedAt: issuedAt.toISOString() } };
@@ -173,10 +179,14 @@ export class RigsService {
   async revoke(actor: SessionUser, code: string, reason: string): Promise<Rig & { disconnectRequested: boolean }> {
     const rig = await this.ds.transaction(async (m) => {
       const r = await this.findByCode(code, m, true);
-      if (r.credentialsRevokedAt) throw conflict(`The credentials of rig ${code} were already revoked on ${r.credentialsRevokedAt.toISOString()}.`);
+      if (r.credentialsRevokedAt)
+        throw conflict(`The credentials of rig ${code} were already revoked on ${r.credentialsRevokedAt.toISOString()}.`);
       r.credentialsRevokedAt = this.ctx.now();
       await m.save(r);
-      await this.ctx.audit.record({ actor, action: 'rig.credentials.revoke', entity: 'rig', entityId: r.id, reason, details: { code: r.code } }, m);
+      await this.ctx.audit.record(
+        { actor, action: 'rig.credentials.revoke', entity: 'rig', entityId: r.id, reason, details: { code: r.code } },
+        m,
+      );
       return r;
     });
     // After COMMIT, so a rig reconnecting at once is refused by the broker's database check.
@@ -193,7 +203,8 @@ export class RigsService {
   async addMaintenance(actor: SessionUser, code: string, input: MaintenanceInput): Promise<MaintenanceWindow> {
     const startsAt = new Date(input.startsAt);
     const endsAt = new Date(input.endsAt);
-    if (endsAt.getTime() <= this.ctx.now().getTime()) throw unprocessable('The window has already ended; book maintenance that is still to come.');
+    if (endsAt.getTime() <= this.ctx.now().getTime())
+      throw unprocessable('The window has already ended; book maintenance that is still to come.');
     return this.ds.transaction(async (m) => {
       const rig = await this.findByCode(code, m, true);
       const overlap = await overlappingMaintenance(m, rig.id, startsAt, endsAt);
@@ -202,9 +213,18 @@ export class RigsService {
           `Rig ${code} already has maintenance from ${overlap.startsAt.toISOString()} to ${overlap.endsAt.toISOString()} (${overlap.reason}); windows may not overlap.`,
         );
       }
-      const w = await m.save(m.create(RigMaintenanceEntity, { rigId: rig.id, startsAt, endsAt, reason: input.reason, createdById: actor.id }));
+      const w = await m.save(
+        m.create(RigMaintenanceEntity, { rigId: rig.id, startsAt, endsAt, reason: input.reason, createdById: actor.id }),
+      );
       await this.ctx.audit.record(
-        { actor, action: 'rig.maintenance.create', entity: 'rig', entityId: rig.id, reason: input.reason, details: { windowId: w.id, startsAt: input.startsAt, endsAt: input.endsAt } },
+        {
+          actor,
+          action: 'rig.maintenance.create',
+          entity: 'rig',
+          entityId: rig.id,
+          reason: input.reason,
+          details: { windowId: w.id, startsAt: input.startsAt, endsAt: input.endsAt },
+        },
         m,
       );
       return toWindow(w, rig.code);
@@ -218,7 +238,13 @@ export class RigsService {
       if (!w) throw notFound('The maintenance window');
       await m.delete(RigMaintenanceEntity, { id });
       await this.ctx.audit.record(
-        { actor, action: 'rig.maintenance.delete', entity: 'rig', entityId: rig.id, details: { windowId: id, startsAt: w.startsAt.toISOString(), endsAt: w.endsAt.toISOString() } },
+        {
+          actor,
+          action: 'rig.maintenance.delete',
+          entity: 'rig',
+          entityId: rig.id,
+          details: { windowId: id, startsAt: w.startsAt.toISOString(), endsAt: w.endsAt.toISOString() },
+        },
         m,
       );
     });

@@ -48,7 +48,12 @@ export interface StepOutcome {
   more?: boolean;
 }
 
-const base = (run: RunEntity, rig: RigEntity | null) => ({ runId: run.id, runCode: run.code, rigId: rig?.id ?? run.rigId, rigCode: rig?.code ?? null });
+const base = (run: RunEntity, rig: RigEntity | null) => ({
+  runId: run.id,
+  runCode: run.code,
+  rigId: rig?.id ?? run.rigId,
+  rigCode: rig?.code ?? null,
+});
 
 /**
  * Change state (row_version + 1) and audit it in the caller's transaction; returns the
@@ -98,16 +103,33 @@ export function firstReadPointIndex(readPointsH: number[]): number {
  * Heating: find the first sample after the heating boundary (accrued_to_seq) with the chamber
  * within ±3 % of set (and humidity within band). Found → stressing, accrual starts from that sample.
  */
-export async function heatingStep(m: EntityManager, deps: EngineDeps, run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<StepOutcome> {
+export async function heatingStep(
+  m: EntityManager,
+  deps: EngineDeps,
+  run: RunEntity,
+  plan: StressPlanEntity,
+  rig: RigEntity,
+): Promise<StepOutcome> {
   const band = chamberBand(plan.chamberC);
-  const hum = plan.humidityPct === null ? null : { lowPct: plan.humidityPct - HUMIDITY_TOLERANCE_RH, highPct: plan.humidityPct + HUMIDITY_TOLERANCE_RH };
+  const hum =
+    plan.humidityPct === null
+      ? null
+      : { lowPct: plan.humidityPct - HUMIDITY_TOLERANCE_RH, highPct: plan.humidityPct + HUMIDITY_TOLERANCE_RH };
   const b = await firstInBand(m, rig.id, run.accruedToSeq, band, hum);
   if (!b) return { changed: false, events: [] };
-  const ev = await transitionRun(m, deps, run, rig, 'stressing', { ambientReachedAt: deps.now(), accruedToSeq: b.seq, accruedToClockS: b.clockS }, {
-    actor: 'system',
-    action: 'run.ambient-reached',
-    details: { seq: b.seq, chamberC: b.chamberC, stressClockS: b.clockS, lowC: band.lowC, highC: band.highC },
-  });
+  const ev = await transitionRun(
+    m,
+    deps,
+    run,
+    rig,
+    'stressing',
+    { ambientReachedAt: deps.now(), accruedToSeq: b.seq, accruedToClockS: b.clockS },
+    {
+      actor: 'system',
+      action: 'run.ambient-reached',
+      details: { seq: b.seq, chamberC: b.chamberC, stressClockS: b.clockS, lowC: band.lowC, highC: band.highC },
+    },
+  );
   return { changed: true, to: 'stressing', events: [ev] };
 }
 
@@ -116,7 +138,13 @@ export async function heatingStep(m: EntityManager, deps: EngineDeps, run: RunEn
  * (→ read-hold) or at the end of stress (→ cooling). Hours are added interval by interval in seq
  * order, so the total does not depend on how the telemetry was chunked (or on restarts).
  */
-export async function accrueStep(m: EntityManager, deps: EngineDeps, run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<StepOutcome> {
+export async function accrueStep(
+  m: EntityManager,
+  deps: EngineDeps,
+  run: RunEntity,
+  plan: StressPlanEntity,
+  rig: RigEntity,
+): Promise<StepOutcome> {
   const now = deps.now();
   const sockets = await m.find(RunSocketEntity, { where: { runId: run.id }, order: { socketIndex: 'ASC' } });
   const socketIdx = sockets.map((s) => s.socketIndex);
@@ -176,7 +204,12 @@ export async function accrueStep(m: EntityManager, deps: EngineDeps, run: RunEnt
   }
   if (!processed) return { changed: false, events: [] };
 
-  await m.query(`UPDATE runs SET stress_hours = $1, accrued_to_seq = $2, accrued_to_clock_s = $3 WHERE id = $4`, [hours, lastSeq, lastClock, run.id]);
+  await m.query(`UPDATE runs SET stress_hours = $1, accrued_to_seq = $2, accrued_to_clock_s = $3 WHERE id = $4`, [
+    hours,
+    lastSeq,
+    lastClock,
+    run.id,
+  ]);
   run.stressHours = hours;
   run.accruedToSeq = lastSeq;
   run.accruedToClockS = lastClock;
@@ -197,27 +230,56 @@ export async function accrueStep(m: EntityManager, deps: EngineDeps, run: RunEnt
   if (outcome === 'cooling') {
     const finalIdx = rps.findIndex((h) => h >= plan.durationH);
     events.push(
-      await transitionRun(m, deps, run, rig, 'cooling', { nextReadPoint: rps.length, biasRemovedAt: now }, {
-        actor: 'system',
-        action: 'run.stress-complete',
-        details: { stressHours: hours, targetH: plan.durationH, seq: lastSeq },
-      }),
+      await transitionRun(
+        m,
+        deps,
+        run,
+        rig,
+        'cooling',
+        { nextReadPoint: rps.length, biasRemovedAt: now },
+        {
+          actor: 'system',
+          action: 'run.stress-complete',
+          details: { stressHours: hours, targetH: plan.durationH, seq: lastSeq },
+        },
+      ),
     );
     events.push(readPointDue(run, rig, finalIdx >= 0 ? rps[finalIdx] : plan.durationH, finalIdx, hours, now, true));
   } else if (outcome === 'read-hold') {
     events.push(
-      await transitionRun(m, deps, run, rig, 'read-hold', { nextReadPoint: holdIndex + 1, biasRemovedAt: now }, {
-        actor: 'system',
-        action: 'run.read-point',
-        details: { readPointH: rps[holdIndex], stressHours: hours, seq: lastSeq },
-      }),
+      await transitionRun(
+        m,
+        deps,
+        run,
+        rig,
+        'read-hold',
+        { nextReadPoint: holdIndex + 1, biasRemovedAt: now },
+        {
+          actor: 'system',
+          action: 'run.read-point',
+          details: { readPointH: rps[holdIndex], stressHours: hours, seq: lastSeq },
+        },
+      ),
     );
     events.push(readPointDue(run, rig, rps[holdIndex], holdIndex, hours, now, false));
   }
-  return { changed: true, to: outcome ?? undefined, events, more: !outcome && processed === batches.length && batches.length === ACCRUAL_CHUNK };
+  return {
+    changed: true,
+    to: outcome ?? undefined,
+    events,
+    more: !outcome && processed === batches.length && batches.length === ACCRUAL_CHUNK,
+  };
 }
 
-function readPointDue(run: RunEntity, rig: RigEntity, readPointH: number, index: number, hours: number, at: Date, final: boolean): PendingEvent {
+function readPointDue(
+  run: RunEntity,
+  rig: RigEntity,
+  readPointH: number,
+  index: number,
+  hours: number,
+  at: Date,
+  final: boolean,
+): PendingEvent {
   return {
     type: 'read-point-due',
     ...base(run, rig),

@@ -8,7 +8,15 @@ import type { AppContext } from '../../context';
 import { describeErrorForLog } from '../../db/safe-logger';
 
 export { RUN_EVENT };
-export type { AmbientNotReachedEvent, CommandFailedEvent, PendingRunEvent, ReadPointDueEvent, ReadPointOverdueEvent, RunEvent, StateChangedEvent } from '../../events';
+export type {
+  AmbientNotReachedEvent,
+  CommandFailedEvent,
+  PendingRunEvent,
+  ReadPointDueEvent,
+  ReadPointOverdueEvent,
+  RunEvent,
+  StateChangedEvent,
+} from '../../events';
 
 /** Measure within this many hours of removing bias [pub: JESD22-A108 — wording not checked]. */
 export { MEASURE_WITHIN_H } from '../../../shared/domain/standards';

@@ -54,7 +54,10 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
   const rigIds = [...new Set(runs.map((r) => r.rigId).filter((x): x is string => !!x))];
   const plans = new Map((await m.find(StressPlanEntity, { where: { id: In(planIds) } })).map((p) => [p.id, p]));
   const types = new Map(
-    (await m.find(DeviceTypeEntity, { where: { id: In([...new Set([...plans.values()].map((p) => p.deviceTypeId))]) } })).map((t) => [t.id, t]),
+    (await m.find(DeviceTypeEntity, { where: { id: In([...new Set([...plans.values()].map((p) => p.deviceTypeId))]) } })).map((t) => [
+      t.id,
+      t,
+    ]),
   );
   const rigs = new Map((rigIds.length ? await m.find(RigEntity, { where: { id: In(rigIds) } }) : []).map((r) => [r.id, r]));
   const runLots = await m.find(RunLotEntity, { where: { runId: In(ids) } });
@@ -69,7 +72,9 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
   const sampleIds = [...new Set(runs.map((r) => r.sampleId).filter((x): x is string => !!x))];
   const samples = new Map((sampleIds.length ? await m.find(SampleEntity, { where: { id: In(sampleIds) } }) : []).map((x) => [x.id, x]));
   const sampleRuns: Array<{ sample_id: string; codes: string[] }> = sampleIds.length
-    ? await m.query(`SELECT sample_id, array_agg(code ORDER BY code) AS codes FROM runs WHERE sample_id = ANY($1) GROUP BY sample_id`, [sampleIds])
+    ? await m.query(`SELECT sample_id, array_agg(code ORDER BY code) AS codes FROM runs WHERE sample_id = ANY($1) GROUP BY sample_id`, [
+        sampleIds,
+      ])
     : [];
   const codesBySample = new Map(sampleRuns.map((x) => [x.sample_id, x.codes]));
   const userIds = [...new Set(runs.map((r) => r.overrideById).filter((x): x is string => !!x))];
@@ -112,7 +117,9 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
       ambientReachedAt: iso(r.ambientReachedAt),
       biasRemovedAt: iso(r.biasRemovedAt),
       abortReason: r.abortReason,
-      override: r.overrideReason ? { reason: r.overrideReason, byName: r.overrideById ? (users.get(r.overrideById)?.name ?? null) : null } : null,
+      override: r.overrideReason
+        ? { reason: r.overrideReason, byName: r.overrideById ? (users.get(r.overrideById)?.name ?? null) : null }
+        : null,
       allowedActions: [...allowedActions(r.state)],
       rowVersion: r.rowVersion,
       createdAt: r.createdAt.toISOString(),
@@ -143,7 +150,15 @@ export async function sampleView(m: EntityManager, sampleId: string): Promise<Sa
 }
 
 export async function runSockets(m: EntityManager, runId: string): Promise<RunSocket[]> {
-  const rows: Array<{ socket: number; serial: string; lot: string; hours: number | string; tripped: boolean; reason: string | null; failed: number | string | null }> = await m.query(
+  const rows: Array<{
+    socket: number;
+    serial: string;
+    lot: string;
+    hours: number | string;
+    tripped: boolean;
+    reason: string | null;
+    failed: number | string | null;
+  }> = await m.query(
     `SELECT s.socket_index AS socket, d.serial, l.code AS lot, s.accrued_hours AS hours, s.tripped, s.trip_reason AS reason, s.failed_at_h AS failed
      FROM run_sockets s JOIN devices d ON d.id = s.device_id JOIN lots l ON l.id = d.lot_id
      WHERE s.run_id = $1 ORDER BY s.socket_index`,
@@ -162,7 +177,14 @@ export async function runSockets(m: EntityManager, runId: string): Promise<RunSo
 
 export async function runAudit(m: EntityManager, runId: string): Promise<RunAuditEntry[]> {
   const rows = await m.find(AuditLogEntity, { where: { entity: 'run', entityId: runId }, order: { id: 'DESC' }, take: 200 });
-  return rows.map((a) => ({ id: String(a.id), at: a.at.toISOString(), actor: a.actor, action: a.action, reason: a.reason, details: a.details }));
+  return rows.map((a) => ({
+    id: String(a.id),
+    at: a.at.toISOString(),
+    actor: a.actor,
+    action: a.action,
+    reason: a.reason,
+    details: a.details,
+  }));
 }
 
 const ON_RIG_IN_SQL = sqlStateList(ON_RIG_STATES);
@@ -180,5 +202,10 @@ export async function socketsTakenOnRig(m: EntityManager, rigId: string, exceptR
 export async function toRunDetail(m: EntityManager, run: RunEntity): Promise<RunDetail> {
   const [base] = await toRuns(m, [run]);
   const taken = run.rigId ? await socketsTakenOnRig(m, run.rigId, run.id) : new Map<number, string>();
-  return { ...base, sockets: await runSockets(m, run.id), audit: await runAudit(m, run.id), socketsTaken: [...taken.keys()].sort((a, b) => a - b) };
+  return {
+    ...base,
+    sockets: await runSockets(m, run.id),
+    audit: await runAudit(m, run.id),
+    socketsTaken: [...taken.keys()].sort((a, b) => a - b),
+  };
 }

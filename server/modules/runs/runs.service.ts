@@ -127,13 +127,16 @@ export class RunsService {
     const runs = await m
       .createQueryBuilder(RunEntity, 'r')
       .where('r.rigId IS NOT NULL')
-      .andWhere(
-        '(r.state IN (:...open) OR (r.finishedAt IS NOT NULL AND r.finishedAt > :recent))',
-        { open: [...SCHEDULED_STATES], recent: new Date(now - recentMs) },
-      )
+      .andWhere('(r.state IN (:...open) OR (r.finishedAt IS NOT NULL AND r.finishedAt > :recent))', {
+        open: [...SCHEDULED_STATES],
+        recent: new Date(now - recentMs),
+      })
       .getMany();
     const plans = new Map(
-      (runs.length ? await m.find(StressPlanEntity, { where: { id: In([...new Set(runs.map((r) => r.planId))]) } }) : []).map((p) => [p.id, p]),
+      (runs.length ? await m.find(StressPlanEntity, { where: { id: In([...new Set(runs.map((r) => r.planId))]) } }) : []).map((p) => [
+        p.id,
+        p,
+      ]),
     );
     const bars = runs.map((r) => {
       const plan = plans.get(r.planId)!;
@@ -220,7 +223,9 @@ export class RunsService {
     }
     let check = plan.checkResult;
     if (!check) check = runPlanCheck({ id: type.id, ...toDeviceTypeInput(type) }, toPlanInput(plan), this.ctx.now());
-    const blockingFindings = check.findings.filter((f) => f.severity === 'block').map((f) => ({ code: f.code, title: f.title, explanation: f.explanation }));
+    const blockingFindings = check.findings
+      .filter((f) => f.severity === 'block')
+      .map((f) => ({ code: f.code, title: f.title, explanation: f.explanation }));
     return { plan, type, lots, problems, blockingFindings };
   }
 
@@ -231,7 +236,14 @@ export class RunsService {
     const notBefore = Math.max(now, input.notBefore ? Date.parse(input.notBefore) : now);
     const inputs = await loadSchedulingInputs(m, now, this.timing);
     const needs = needsOf(plan, input.sampleSize);
-    const p = proposeRigs(needs, inputs.rigs.map((r) => ({ ...r })), inputs.commitments, inputs.maintenance, notBefore, this.timing);
+    const p = proposeRigs(
+      needs,
+      inputs.rigs.map((r) => ({ ...r })),
+      inputs.commitments,
+      inputs.maintenance,
+      notBefore,
+      this.timing,
+    );
     const byId = new Map(inputs.rigs.map((r) => [r.id, r]));
     return {
       plan: planRef(plan),
@@ -273,7 +285,11 @@ export class RunsService {
     return this.ds.transaction(async (m) => {
       await m.query('SELECT pg_advisory_xact_lock($1)', [BOOKING_LOCK]);
       const total = input.parts.reduce((a, p) => a + p.sampleSize, 0);
-      const { plan, type, lots, problems, blockingFindings } = await this.requestContext(m, { planId: input.planId, lotIds: input.lotIds, sampleSize: total });
+      const { plan, type, lots, problems, blockingFindings } = await this.requestContext(m, {
+        planId: input.planId,
+        lotIds: input.lotIds,
+        sampleSize: total,
+      });
       if (problems.length) throw unprocessable(problems.join(' '), { problems });
       const overridden = blockingFindings.length > 0;
       if (overridden && !input.override) {
@@ -304,7 +320,18 @@ export class RunsService {
       );
       const runs: RunEntity[] = [];
       for (const part of input.parts) {
-        runs.push(await this.bookOne(m, actor, { plan, type, lots, sample, part, overridden, overrideReason: input.override?.reason ?? null, findings: blockingFindings }));
+        runs.push(
+          await this.bookOne(m, actor, {
+            plan,
+            type,
+            lots,
+            sample,
+            part,
+            overridden,
+            overrideReason: input.override?.reason ?? null,
+            findings: blockingFindings,
+          }),
+        );
       }
       await this.ctx.audit.record(
         {
@@ -360,7 +387,14 @@ export class RunsService {
     if (input.start) {
       requestedStartMs = Math.max(now, Date.parse(input.start));
       startMs = requestedStartMs;
-      const clash = windowConflicts(rig, needs, startMs, startMs + runDurationMs(needs, this.timing), inputs.commitments, inputs.maintenance);
+      const clash = windowConflicts(
+        rig,
+        needs,
+        startMs,
+        startMs + runDurationMs(needs, this.timing),
+        inputs.commitments,
+        inputs.maintenance,
+      );
       if (clash.length) {
         // A proposal's start is often the projected end of the run ahead of it, and that
         // projection slides with the clock (an overdue booking, a run still stressing): seconds
@@ -379,7 +413,11 @@ export class RunsService {
       startMs = slot.startMs;
     }
     const endMs = startMs + runDurationMs(needs, this.timing);
-    const code = await this.newCode(m, plan.kind, lots.map((l) => l.code));
+    const code = await this.newCode(
+      m,
+      plan.kind,
+      lots.map((l) => l.code),
+    );
     const at = this.ctx.now();
     const saved = await m.save(
       m.create(RunEntity, {
@@ -398,7 +436,10 @@ export class RunsService {
         createdById: actor.id,
       }),
     );
-    await m.insert(RunLotEntity, lots.map((l) => ({ runId: saved.id, lotId: l.id })));
+    await m.insert(
+      RunLotEntity,
+      lots.map((l) => ({ runId: saved.id, lotId: l.id })),
+    );
     await this.ctx.audit.record(
       {
         actor,
@@ -418,7 +459,10 @@ export class RunsService {
           scheduledStart: new Date(startMs).toISOString(),
           scheduledEnd: new Date(endMs).toISOString(),
           ...(requestedStartMs !== null && startMs !== requestedStartMs
-            ? { requestedStart: new Date(requestedStartMs).toISOString(), slidH: Math.round(((startMs - requestedStartMs) / this.timing.msPerClockH) * 100) / 100 }
+            ? {
+                requestedStart: new Date(requestedStartMs).toISOString(),
+                slidH: Math.round(((startMs - requestedStartMs) / this.timing.msPerClockH) * 100) / 100,
+              }
             : {}),
         },
       },
@@ -459,7 +503,9 @@ export class RunsService {
     await this.ds.transaction(async (m) => {
       const run = await this.lockRun(m, id, input.rowVersion);
       if (!allowedActions(run.state).includes('load')) {
-        throw conflict(`Run ${run.code} is ${RUN_STATE_LABEL[run.state].toLowerCase()}; sockets can only be loaded while it is booked or loading.`);
+        throw conflict(
+          `Run ${run.code} is ${RUN_STATE_LABEL[run.state].toLowerCase()}; sockets can only be loaded while it is booked or loading.`,
+        );
       }
       if (!run.rigId) throw unprocessable(`Run ${run.code} has no rig yet.`);
       const rig = await m.findOneByOrFail(RigEntity, { id: run.rigId });
@@ -471,11 +517,22 @@ export class RunsService {
         : loaded === run.sampleSize
           ? `All ${run.sampleSize} devices are placed; the run can start.`
           : `${loaded} of ${run.sampleSize} devices are placed; ${run.sampleSize - loaded} still to load.`;
-      result = { stored: false, needed: run.sampleSize, loaded, flags, readyToStart: !blocking.length && loaded === run.sampleSize, summary };
+      result = {
+        stored: false,
+        needed: run.sampleSize,
+        loaded,
+        flags,
+        readyToStart: !blocking.length && loaded === run.sampleSize,
+        summary,
+      };
       if (input.dryRun) return;
       if (blocking.length) throw unprocessable(summary, { flags });
       await m.delete(RunSocketEntity, { runId: run.id });
-      if (assignments.length) await m.insert(RunSocketEntity, assignments.map((a) => ({ runId: run.id, socketIndex: a.socket, deviceId: a.deviceId })));
+      if (assignments.length)
+        await m.insert(
+          RunSocketEntity,
+          assignments.map((a) => ({ runId: run.id, socketIndex: a.socket, deviceId: a.deviceId })),
+        );
       const details = { loaded, needed: run.sampleSize, empty: flags.filter((f) => f.problem === 'empty').length };
       if (run.state === 'booked') {
         ev = await transitionRun(m, this.deps, run, rig, 'loading', {}, { actor, action: 'run.load', details });
@@ -504,7 +561,10 @@ export class RunsService {
     const lots = await m.find(LotEntity, { where: { id: In([...lotIds]) }, order: { code: 'ASC' } });
     const serials = [...new Set(entries.map((e) => e.serial).filter(Boolean))];
     const devices: Array<{ id: string; serial: string; lot_id: string; lot_code: string }> = serials.length
-      ? await m.query(`SELECT d.id, d.serial, d.lot_id, l.code AS lot_code FROM devices d JOIN lots l ON l.id = d.lot_id WHERE d.serial = ANY($1)`, [serials])
+      ? await m.query(
+          `SELECT d.id, d.serial, d.lot_id, l.code AS lot_code FROM devices d JOIN lots l ON l.id = d.lot_id WHERE d.serial = ANY($1)`,
+          [serials],
+        )
       : [];
     const busy: Array<{ device_id: string; code: string }> = devices.length
       ? await m.query(
@@ -540,7 +600,12 @@ export class RunsService {
       const mine = matches.find((d) => lotIds.has(d.lot_id));
       if (!mine) {
         if (matches.length) {
-          flag(e.socket, e.serial, 'wrong-lot', `Serial ${e.serial} belongs to lot ${matches.map((d) => d.lot_code).join(' / ')}, not to this run's lot${lots.length === 1 ? '' : 's'} ${lotList}.`);
+          flag(
+            e.socket,
+            e.serial,
+            'wrong-lot',
+            `Serial ${e.serial} belongs to lot ${matches.map((d) => d.lot_code).join(' / ')}, not to this run's lot${lots.length === 1 ? '' : 's'} ${lotList}.`,
+          );
         } else {
           flag(e.socket, e.serial, 'unknown-serial', `Serial ${e.serial} is not registered in any lot.`);
         }
@@ -555,7 +620,12 @@ export class RunsService {
     }
     if (assignments.length > run.sampleSize) {
       const extra = assignments[run.sampleSize];
-      flag(extra.socket, entries.find((e) => e.socket === extra.socket)?.serial ?? '', 'too-many', `The run is for ${run.sampleSize} devices; the map places ${assignments.length}.`);
+      flag(
+        extra.socket,
+        entries.find((e) => e.socket === extra.socket)?.serial ?? '',
+        'too-many',
+        `The run is for ${run.sampleSize} devices; the map places ${assignments.length}.`,
+      );
     }
     flags.sort((a, b) => a.socket - b.socket);
     return { flags, assignments };
@@ -591,14 +661,31 @@ export class RunsService {
       const plan = await m.findOneByOrFail(StressPlanEntity, { id: run.planId });
       const now = this.ctx.now();
       const reason = input.reason?.trim() || null;
-      const reheat = async (): Promise<Partial<RunEntity>> => ({ heatingSince: now, accruedToSeq: rig ? await maxSeq(m, rig.id) : 0, accruedToClockS: null });
+      const reheat = async (): Promise<Partial<RunEntity>> => ({
+        heatingSince: now,
+        accruedToSeq: rig ? await maxSeq(m, rig.id) : 0,
+        accruedToClockS: null,
+      });
       switch (action) {
         case 'start': {
           if (!rig) throw unprocessable(`Run ${run.code} has no rig.`);
           await this.checkStart(m, run, rig, plan, now.getTime());
-          events.push(await transitionRun(m, this.deps, run, rig, 'heating', { startedAt: run.startedAt ?? now, ambientReachedAt: null, ...(await reheat()) }, {
-            actor, action: 'run.start', reason, details: { rig: rig.code, setC: plan.chamberC, humidityPct: plan.humidityPct },
-          }));
+          events.push(
+            await transitionRun(
+              m,
+              this.deps,
+              run,
+              rig,
+              'heating',
+              { startedAt: run.startedAt ?? now, ambientReachedAt: null, ...(await reheat()) },
+              {
+                actor,
+                action: 'run.start',
+                reason,
+                details: { rig: rig.code, setC: plan.chamberC, humidityPct: plan.humidityPct },
+              },
+            ),
+          );
           break;
         }
         case 'pause': {
@@ -607,32 +694,82 @@ export class RunsService {
             for (let k = 0; k < 20; k++) {
               const out = await accrueStep(m, this.deps, run, plan, rig);
               events.push(...out.events);
-              if (out.to) throw conflict(`Run ${run.code} reached a read point just now and is ${RUN_STATE_LABEL[run.state].toLowerCase()}; reload.`);
+              if (out.to)
+                throw conflict(`Run ${run.code} reached a read point just now and is ${RUN_STATE_LABEL[run.state].toLowerCase()}; reload.`);
               if (!out.more) break;
             }
           }
-          events.push(await transitionRun(m, this.deps, run, rig, 'paused', {}, { actor, action: 'run.pause', reason, details: { stressHours: run.stressHours } }));
+          events.push(
+            await transitionRun(
+              m,
+              this.deps,
+              run,
+              rig,
+              'paused',
+              {},
+              { actor, action: 'run.pause', reason, details: { stressHours: run.stressHours } },
+            ),
+          );
           break;
         }
         case 'resume': {
           if (rig) await this.checkChamberFree(m, run, rig, plan);
-          events.push(await transitionRun(m, this.deps, run, rig, 'heating', { ambientReachedAt: null, ...(await reheat()) }, {
-            actor, action: 'run.resume', reason, details: { stressHours: run.stressHours },
-          }));
+          events.push(
+            await transitionRun(
+              m,
+              this.deps,
+              run,
+              rig,
+              'heating',
+              { ambientReachedAt: null, ...(await reheat()) },
+              {
+                actor,
+                action: 'run.resume',
+                reason,
+                details: { stressHours: run.stressHours },
+              },
+            ),
+          );
           break;
         }
         case 'measurements-done': {
           const rps = [...plan.readPointsH].sort((a, b) => a - b);
           const at = rps[run.nextReadPoint - 1];
-          events.push(await transitionRun(m, this.deps, run, rig, 'heating', { ambientReachedAt: null, ...(await reheat()) }, {
-            actor, action: 'run.measurements-done', reason, details: { readPointH: at ?? null, stressHours: run.stressHours },
-          }));
+          events.push(
+            await transitionRun(
+              m,
+              this.deps,
+              run,
+              rig,
+              'heating',
+              { ambientReachedAt: null, ...(await reheat()) },
+              {
+                actor,
+                action: 'run.measurements-done',
+                reason,
+                details: { readPointH: at ?? null, stressHours: run.stressHours },
+              },
+            ),
+          );
           break;
         }
         case 'abort': {
-          events.push(await transitionRun(m, this.deps, run, rig, 'aborted', { abortReason: reason, finishedAt: now }, {
-            actor, action: 'run.abort', reason, details: { stressHours: run.stressHours, wasState: run.state },
-          }));
+          events.push(
+            await transitionRun(
+              m,
+              this.deps,
+              run,
+              rig,
+              'aborted',
+              { abortReason: reason, finishedAt: now },
+              {
+                actor,
+                action: 'run.abort',
+                reason,
+                details: { stressHours: run.stressHours, wasState: run.state },
+              },
+            ),
+          );
           break;
         }
       }
@@ -660,10 +797,10 @@ export class RunsService {
     }
     const maint = await m.find(RigMaintenanceEntity, { where: { rigId: rig.id } });
     const now = maint.find((x) => x.startsAt.getTime() <= nowMs && x.endsAt.getTime() > nowMs);
-    if (now) throw conflict(`Oven ${rig.code} is in maintenance until ${when(now.endsAt.getTime())}${now.reason ? ` (${now.reason})` : ''}.`);
+    if (now)
+      throw conflict(`Oven ${rig.code} is in maintenance until ${when(now.endsAt.getTime())}${now.reason ? ` (${now.reason})` : ''}.`);
     const refusals = staticRefusals(rig, needsOf(plan, run.sampleSize));
     if (refusals.length) throw unprocessable(refusals.join(' '));
     await this.checkChamberFree(m, run, rig, plan);
   }
 }
-

@@ -34,7 +34,12 @@ export function timingFrom(config: Pick<ServerConfig, 'clockRate'>, env: NodeJS.
  * stress hours, the holds of the read points still ahead (and the one it waits in), and a heat-up
  * when it is heating or paused — never before its booked end.
  */
-export function projectedWindow(run: RunEntity, plan: StressPlanEntity, nowMs: number, t: TimingOptions): { startMs: number; endMs: number } {
+export function projectedWindow(
+  run: RunEntity,
+  plan: StressPlanEntity,
+  nowMs: number,
+  t: TimingOptions,
+): { startMs: number; endMs: number } {
   const booked = {
     startMs: run.scheduledStart?.getTime() ?? nowMs,
     endMs: run.scheduledEnd?.getTime() ?? nowMs + runDurationMs(plan, t),
@@ -70,7 +75,16 @@ export async function loadSchedulingInputs(m: EntityManager, nowMs: number, t: T
   const commitments: Commitment[] = runs.map((r) => {
     const plan = plans.get(r.planId)!;
     const w = projectedWindow(r, plan, nowMs, t);
-    return { runId: r.id, code: r.code, rigId: r.rigId!, startMs: w.startMs, endMs: w.endMs, chamberC: plan.chamberC, humidityPct: plan.humidityPct, sockets: r.sampleSize };
+    return {
+      runId: r.id,
+      code: r.code,
+      rigId: r.rigId!,
+      startMs: w.startMs,
+      endMs: w.endMs,
+      chamberC: plan.chamberC,
+      humidityPct: plan.humidityPct,
+      sockets: r.sampleSize,
+    };
   });
   const maint = await m.find(RigMaintenanceEntity, { where: { endsAt: MoreThan(new Date(nowMs)) } });
   const maintenance = maint.map((x) => ({ rigId: x.rigId, startMs: x.startsAt.getTime(), endMs: x.endsAt.getTime(), reason: x.reason }));

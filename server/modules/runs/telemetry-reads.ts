@@ -41,12 +41,22 @@ export async function batchAt(m: EntityManager, rigId: string, seq: number): Pro
 }
 
 export async function batchesAfter(m: EntityManager, rigId: string, afterSeq: number, limit: number): Promise<BatchRow[]> {
-  const rows = await m.query(`SELECT ${COLS} FROM telemetry_batches WHERE rig_id = $1 AND seq > $2 ORDER BY seq LIMIT $3`, [rigId, afterSeq, limit]);
+  const rows = await m.query(`SELECT ${COLS} FROM telemetry_batches WHERE rig_id = $1 AND seq > $2 ORDER BY seq LIMIT $3`, [
+    rigId,
+    afterSeq,
+    limit,
+  ]);
   return rows.map(toBatch);
 }
 
 /** Socket readings of the given sockets for seqs in [fromSeq, toSeq], grouped by seq. */
-export async function socketSamples(m: EntityManager, rigId: string, fromSeq: number, toSeq: number, sockets: number[]): Promise<Map<number, SocketSample[]>> {
+export async function socketSamples(
+  m: EntityManager,
+  rigId: string,
+  fromSeq: number,
+  toSeq: number,
+  sockets: number[],
+): Promise<Map<number, SocketSample[]>> {
   const out = new Map<number, SocketSample[]>();
   if (!sockets.length || toSeq < fromSeq) return out;
   const rows: Array<Record<string, unknown>> = await m.query(
@@ -93,7 +103,11 @@ export async function firstInBand(
 }
 
 /** Stress-clock seconds elapsed from batch `fromSeq` on (sum of forward steps; a reboot adds nothing). */
-export async function clockElapsedS(m: EntityManager, rigId: string, fromSeq: number): Promise<{ elapsedS: number; lastChamberC: number | null }> {
+export async function clockElapsedS(
+  m: EntityManager,
+  rigId: string,
+  fromSeq: number,
+): Promise<{ elapsedS: number; lastChamberC: number | null }> {
   const [r] = await m.query(
     `SELECT coalesce(sum(greatest(d, 0)), 0) AS elapsed,
             (SELECT chamber_c FROM telemetry_batches WHERE rig_id = $1 ORDER BY seq DESC LIMIT 1) AS last_c

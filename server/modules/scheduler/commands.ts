@@ -69,24 +69,24 @@ export class CommandTracker {
     this.newest.set(newestKey, newest);
     const link = this.link();
     const p: Promise<CommandAck> = link ? link.send(rigCode, cmd, { cmdId }) : Promise.reject(new Error('no rig link (MQTT not started)'));
-    const done = p.then(
-      (ack) => {
+    const done = p
+      .then((ack) => {
         if (ack && ack.ok === false) throw new Error(ack.error ?? 'the rig refused the command');
         entry.status = 'ok';
         entry.lastAt = this.now();
         // Read in the ack's own turn of the event loop: no telemetry can have arrived since it.
         newest.seqAtAck = link?.seqSeen?.(rigCode) ?? null;
         newest.status = 'ok';
-      },
-    ).catch((err: unknown) => {
-      newest.status = 'failed';
-      entry.status = 'failed';
-      entry.lastAt = this.now();
-      entry.error = err instanceof Error ? err.message : String(err);
-      if (attempts === REPORT_AFTER_ATTEMPTS || (attempts > REPORT_AFTER_ATTEMPTS && (attempts - REPORT_AFTER_ATTEMPTS) % 10 === 0)) {
-        this.onFailure({ cmdId, rigCode, ok: false, attempts, error: entry.error }, cmd);
-      }
-    });
+      })
+      .catch((err: unknown) => {
+        newest.status = 'failed';
+        entry.status = 'failed';
+        entry.lastAt = this.now();
+        entry.error = err instanceof Error ? err.message : String(err);
+        if (attempts === REPORT_AFTER_ATTEMPTS || (attempts > REPORT_AFTER_ATTEMPTS && (attempts - REPORT_AFTER_ATTEMPTS) % 10 === 0)) {
+          this.onFailure({ cmdId, rigCode, ok: false, attempts, error: entry.error }, cmd);
+        }
+      });
     this.inflight.add(done);
     void done.finally(() => this.inflight.delete(done));
     return 'sent';

@@ -16,7 +16,16 @@
  */
 import cron, { type ScheduledTask } from 'node-cron';
 import type { EntityManager } from 'typeorm';
-import { chamberBand, planBiasSettings, planBiasV, planSchedule, socketBiased, accrualConditionsFor, type Job, when } from '../../../shared/scheduling';
+import {
+  chamberBand,
+  planBiasSettings,
+  planBiasV,
+  planSchedule,
+  socketBiased,
+  accrualConditionsFor,
+  type Job,
+  when,
+} from '../../../shared/scheduling';
 import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H, ROOM_AMBIENT_C as AMBIENT_C } from '../../../shared/domain/standards';
 import type { RunState } from '../../../shared/schemas/runs';
 import type { AppContext } from '../../context';
@@ -72,11 +81,18 @@ export class RunScheduler {
   private replanWanted: string | null = null;
   private readonly log: (line: string) => void;
 
-  constructor(private readonly ctx: AppContext, private readonly opts: SchedulerOptions = {}) {
+  constructor(
+    private readonly ctx: AppContext,
+    private readonly opts: SchedulerOptions = {},
+  ) {
     const link = opts.rigLink ?? (() => ctx.services.rigLink);
     this.deps = { audit: ctx.audit, now: () => ctx.now() };
     this.log = opts.log ?? ((l) => console.log(`[scheduler] ${l}`));
-    this.commands = new CommandTracker(link, () => ctx.now().getTime(), (o, cmd) => void this.reportFailure(o.cmdId, o.rigCode, cmd, o.attempts, o.error ?? ''));
+    this.commands = new CommandTracker(
+      link,
+      () => ctx.now().getTime(),
+      (o, cmd) => void this.reportFailure(o.cmdId, o.rigCode, cmd, o.attempts, o.error ?? ''),
+    );
   }
 
   start(): void {
@@ -95,7 +111,10 @@ export class RunScheduler {
       };
       this.ctx.events.on(TELEMETRY_LANDED, onLanded);
       this.ctx.events.on(RIG_STATUS_CHANGED, onStatus);
-      this.offListeners.push(() => this.ctx.events.off(TELEMETRY_LANDED, onLanded), () => this.ctx.events.off(RIG_STATUS_CHANGED, onStatus));
+      this.offListeners.push(
+        () => this.ctx.events.off(TELEMETRY_LANDED, onLanded),
+        () => this.ctx.events.off(RIG_STATUS_CHANGED, onStatus),
+      );
     }
     this.kick();
   }
@@ -185,7 +204,7 @@ export class RunScheduler {
       if (this.overdueSettled.has(key)) continue;
       const rps = sortedReadPoints({ readPointsH: r.read_points_h });
       const final = r.state !== 'read-hold';
-      const readPointH = final ? rps.find((h) => h >= r.duration_h) ?? r.duration_h : rps[r.next_read_point - 1];
+      const readPointH = final ? (rps.find((h) => h >= r.duration_h) ?? r.duration_h) : rps[r.next_read_point - 1];
       if (readPointH === undefined) continue;
       if (await data.hasMeasurementAt(this.ctx.ds.manager, r.id, readPointH)) {
         this.overdueSettled.add(key);
@@ -264,7 +283,7 @@ export class RunScheduler {
     const sockets = await data.runSockets(m, run.id);
     const live = sockets.filter((s) => !s.tripped).map((s) => s.socketIndex);
     const all = sockets.map((s) => s.socketIndex);
-    const readings = latest ? (await socketSamples(m, rig.id, latest.seq, latest.seq, all)).get(latest.seq) ?? [] : [];
+    const readings = latest ? ((await socketSamples(m, rig.id, latest.seq, latest.seq, all)).get(latest.seq) ?? []) : [];
     const reading = new Map(readings.map((r) => [r.socket, r]));
     const cond = accrualConditionsFor(plan);
     const setpointIs = (c: number, b: BatchRow | null) => !!b && Math.abs(b.setpointC - c) < 0.05;
@@ -279,7 +298,12 @@ export class RunScheduler {
         ? {
             cmdId: `run:${run.id}:off:${phase}`,
             cmd: { type: 'bias', sockets: all, on: false },
-            satisfied: !!latest && all.every((k) => { const r = reading.get(k); return !r || !r.biasOn || r.tripped; }),
+            satisfied:
+              !!latest &&
+              all.every((k) => {
+                const r = reading.get(k);
+                return !r || !r.biasOn || r.tripped;
+              }),
           }
         : null;
     const cool = async (phase: string): Promise<Want | null> =>
@@ -336,18 +360,31 @@ export class RunScheduler {
   private async coolingStep(m: EntityManager, run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<StepOutcome> {
     const latest = await latestBatch(m, rig.id);
     const sockets = (await data.runSockets(m, run.id)).map((s) => s.socketIndex);
-    const readings = latest ? (await socketSamples(m, rig.id, latest.seq, latest.seq, sockets)).get(latest.seq) ?? [] : [];
+    const readings = latest ? ((await socketSamples(m, rig.id, latest.seq, latest.seq, sockets)).get(latest.seq) ?? []) : [];
     const biasOff =
       this.commands.acked(`run:${run.id}:off:end`) ||
-      (!!latest && latest.seq > run.accruedToSeq && sockets.every((k) => { const r = readings.find((x) => x.socket === k); return !r || !r.biasOn || r.tripped; }));
+      (!!latest &&
+        latest.seq > run.accruedToSeq &&
+        sockets.every((k) => {
+          const r = readings.find((x) => x.socket === k);
+          return !r || !r.biasOn || r.tripped;
+        }));
     if (!biasOff) return { changed: false, events: [] };
     const shared = await data.otherRunNeedsHeat(m, rig.id, run.id);
     if (!shared && !(latest && latest.chamberC <= COOL_SAFE_C)) return { changed: false, events: [] };
-    const ev = await transitionRun(m, this.deps, run, rig, 'finished', { finishedAt: this.ctx.now() }, {
-      actor: 'system',
-      action: 'run.finish',
-      details: { stressHours: run.stressHours, targetH: plan.durationH, chamberC: latest?.chamberC ?? null, ovenKeptHot: shared },
-    });
+    const ev = await transitionRun(
+      m,
+      this.deps,
+      run,
+      rig,
+      'finished',
+      { finishedAt: this.ctx.now() },
+      {
+        actor: 'system',
+        action: 'run.finish',
+        details: { stressHours: run.stressHours, targetH: plan.durationH, chamberC: latest?.chamberC ?? null, ovenKeptHot: shared },
+      },
+    );
     return { changed: true, to: 'finished', events: [ev] };
   }
 
@@ -464,7 +501,14 @@ export class RunScheduler {
           rigIds: inputs.rigs.filter((g) => g.online || g.id === r.rigId).map((g) => g.id),
         };
       });
-      const plan = planSchedule(jobs, inputs.rigs.map((r) => ({ ...r })), fixed, inputs.maintenance, nowMs, t);
+      const plan = planSchedule(
+        jobs,
+        inputs.rigs.map((r) => ({ ...r })),
+        fixed,
+        inputs.maintenance,
+        nowMs,
+        t,
+      );
       let moved = 0;
       for (const a of plan.assignments) {
         const r = booked.find((b) => b.id === a.jobId)!;
@@ -478,7 +522,13 @@ export class RunScheduler {
             entity: 'run',
             entityId: r.id,
             reason: why,
-            details: { fromRig, toRig: a.rigCode, fromStart: r.scheduledStart?.toISOString() ?? null, toStart: new Date(a.startMs).toISOString(), toEnd: new Date(a.endMs).toISOString() },
+            details: {
+              fromRig,
+              toRig: a.rigCode,
+              fromStart: r.scheduledStart?.toISOString() ?? null,
+              toStart: new Date(a.startMs).toISOString(),
+              toEnd: new Date(a.endMs).toISOString(),
+            },
           },
           m,
         );

@@ -38,4 +38,3 @@ export interface RigLink {
   /** Commands sent and not yet answered (the telemetry stats screen). Optional for fakes. */
   pendingCount?(): number;
 }
-

@@ -57,7 +57,6 @@ export const COUNTERS = {
   statusMessages: 'ingest_status_messages',
 } as const;
 
-
 interface RigRow {
   id: string;
   code: string;
@@ -72,7 +71,10 @@ interface RigRow {
  * own transaction, so a deactivation applies to the very next batch. O(sockets), no allocation
  * unless refused: the hot path.
  */
-export function registrationProblem(rig: Pick<RigRow, 'code' | 'active' | 'socket_count' | 'humidity_capable'>, msg: Telemetry): string | null {
+export function registrationProblem(
+  rig: Pick<RigRow, 'code' | 'active' | 'socket_count' | 'humidity_capable'>,
+  msg: Telemetry,
+): string | null {
   if (!rig.active) return `rig ${rig.code} is deactivated; its telemetry is not stored`;
   if (msg.humidityPct !== null && !rig.humidity_capable) {
     return `humidity ${msg.humidityPct} % from rig ${rig.code}, which is registered without humidity control`;
@@ -80,7 +82,8 @@ export function registrationProblem(rig: Pick<RigRow, 'code' | 'active' | 'socke
   const socket = msg.socket;
   const count = rig.socket_count;
   for (let k = 0; k < socket.length; k++) {
-    if (socket[k] >= count) return `socket ${socket[k]} does not exist on rig ${rig.code} (registered with ${count} sockets, 0–${count - 1})`;
+    if (socket[k] >= count)
+      return `socket ${socket[k]} does not exist on rig ${rig.code} (registered with ${count} sockets, 0–${count - 1})`;
   }
   return null;
 }
@@ -258,7 +261,12 @@ interface DuplicateMessage {
   at: Date;
 }
 
-async function writeInTransaction(client: PoolClient, items: IngestItem[], extras: BatchExtras, rigs: Map<string, RigRow>): Promise<BatchResult> {
+async function writeInTransaction(
+  client: PoolClient,
+  items: IngestItem[],
+  extras: BatchExtras,
+  rigs: Map<string, RigRow>,
+): Promise<BatchResult> {
   const sorted = sortItems(items, rigs);
   const { telemetry, rejects } = sorted;
   // 1. Message headers, de-duplicated on (rig_id, seq).
@@ -278,7 +286,19 @@ async function writeInTransaction(client: PoolClient, items: IngestItem[], extra
   // 5. Rejections, with the reason and an excerpt.
   if (rejects.length) await insertRejections(client, rejects);
   // 6. Durable counters.
-  await addCounters(client, batchCounters(extras.counters, items.length, fresh.length, sampleRows, dups.length, rejects.length, seqConflicts, sorted.statusMessages));
+  await addCounters(
+    client,
+    batchCounters(
+      extras.counters,
+      items.length,
+      fresh.length,
+      sampleRows,
+      dups.length,
+      rejects.length,
+      seqConflicts,
+      sorted.statusMessages,
+    ),
+  );
   return batchResult(telemetry, fresh, dups.length, states, sampleRows, rejects.length);
 }
 
@@ -303,19 +323,37 @@ function sortItems(items: IngestItem[], rigs: Map<string, RigRow>): SortedItems 
     if (!rig) {
       const topic = `emberlot/v1/rigs/${it.rigCode}/${it.kind}`;
       const body = it.kind === 'telemetry' ? `seq ${it.msg.seq}, ${it.msg.socket.length} sockets` : `online ${it.status.online}`;
-      rejects.push({ topic, rigCode: it.rigCode, reason: `unknown rig code ${it.rigCode} (not registered)`, excerpt: body, at: it.receivedAt });
+      rejects.push({
+        topic,
+        rigCode: it.rigCode,
+        reason: `unknown rig code ${it.rigCode} (not registered)`,
+        excerpt: body,
+        at: it.receivedAt,
+      });
       continue;
     }
     if (it.kind === 'telemetry') {
       const problem = registrationProblem(rig, it.msg);
       if (problem) {
         const excerpt = `seq ${it.msg.seq}, ts ${it.msg.ts}, ${it.msg.socket.length} sockets, humidity ${it.msg.humidityPct ?? 'none'}`;
-        rejects.push({ topic: `emberlot/v1/rigs/${rig.code}/telemetry`, rigCode: rig.code, reason: `telemetry: ${problem}`, excerpt, at: it.receivedAt });
+        rejects.push({
+          topic: `emberlot/v1/rigs/${rig.code}/telemetry`,
+          rigCode: rig.code,
+          reason: `telemetry: ${problem}`,
+          excerpt,
+          at: it.receivedAt,
+        });
         continue;
       }
     } else if (!rig.active && it.status.online) {
       // A deactivated rig is not marked online (its last will, online:false, still lands).
-      rejects.push({ topic: `emberlot/v1/rigs/${rig.code}/status`, rigCode: rig.code, reason: `status: rig ${rig.code} is deactivated`, excerpt: `online ${it.status.online}`, at: it.receivedAt });
+      rejects.push({
+        topic: `emberlot/v1/rigs/${rig.code}/status`,
+        rigCode: rig.code,
+        reason: `status: rig ${rig.code} is deactivated`,
+        excerpt: `online ${it.status.online}`,
+        at: it.receivedAt,
+      });
       continue;
     }
     const s = stateOf(rig);
@@ -429,7 +467,13 @@ async function insertRejections(client: PoolClient, rejects: Rejection[]): Promi
   await client.query(
     `INSERT INTO rejected_messages (at, topic, rig_code, reason, excerpt)
      SELECT * FROM unnest($1::timestamptz[], $2::varchar[], $3::varchar[], $4::text[], $5::text[])`,
-    [rejects.map((r) => r.at), rejects.map((r) => r.topic.slice(0, 200)), rejects.map((r) => r.rigCode?.slice(0, 32) ?? null), rejects.map((r) => r.reason), rejects.map((r) => r.excerpt)],
+    [
+      rejects.map((r) => r.at),
+      rejects.map((r) => r.topic.slice(0, 200)),
+      rejects.map((r) => r.rigCode?.slice(0, 32) ?? null),
+      rejects.map((r) => r.reason),
+      rejects.map((r) => r.excerpt),
+    ],
   );
 }
 
@@ -457,7 +501,14 @@ function batchCounters(
 }
 
 /** What the caller confirms and announces after COMMIT. */
-function batchResult(telemetry: TelemetryIn[], fresh: FreshMessage[], duplicates: number, states: RigBatchState[], sampleRows: number, rejected: number): BatchResult {
+function batchResult(
+  telemetry: TelemetryIn[],
+  fresh: FreshMessage[],
+  duplicates: number,
+  states: RigBatchState[],
+  sampleRows: number,
+  rejected: number,
+): BatchResult {
   const storedByRig = new Map<string, number[]>();
   for (const t of telemetry) {
     let list = storedByRig.get(t.rig.code);

@@ -12,7 +12,15 @@
 import type { Pool } from 'pg';
 // From the modules themselves, not shared/mqtt's index: its re-exports compile to one shared keyed
 // getter, which V8 does not inline (it was ~4 % of the ingest's CPU in the per-socket loops).
-import { buildStoredCommands, parseCommandAck, parseStatus, parseTelemetry, telemetryTimeProblem, type CommandAck, type StoredCommand } from '../../../shared/mqtt/payloads';
+import {
+  buildStoredCommands,
+  parseCommandAck,
+  parseStatus,
+  parseTelemetry,
+  telemetryTimeProblem,
+  type CommandAck,
+  type StoredCommand,
+} from '../../../shared/mqtt/payloads';
 import { storableText } from '../../../shared/storable-text';
 import { parseRigTopic } from '../../../shared/mqtt/topics';
 import { RIG_STATUS_CHANGED, TELEMETRY_LANDED, type EmberlotEventName, type EventBus } from '../../events';
@@ -78,7 +86,8 @@ export function excerptOf(payload: Buffer | string): string {
   return clean.length > EXCERPT_CHARS ? `${clean.slice(0, EXCERPT_CHARS)}… (${size} bytes)` : clean;
 }
 
-const mismatch = (kind: string, bodyRig: string, topicRig: string) => `${kind}: payload names rig ${bodyRig} but the topic is rig ${topicRig}`;
+const mismatch = (kind: string, bodyRig: string, topicRig: string) =>
+  `${kind}: payload names rig ${bodyRig} but the topic is rig ${topicRig}`;
 
 export class TelemetryIngest {
   private items: IngestItem[] = [];
@@ -118,7 +127,10 @@ export class TelemetryIngest {
     merged: 0,
   };
 
-  constructor(private readonly deps: IngestDeps, opts: IngestOptions = {}) {
+  constructor(
+    private readonly deps: IngestDeps,
+    opts: IngestOptions = {},
+  ) {
     this.opts = {
       maxBatch: opts.maxBatch ?? 200,
       windowMs: opts.windowMs ?? 50,
@@ -196,7 +208,9 @@ export class TelemetryIngest {
       this.pendingCounters[COUNTERS.dropped] = (this.pendingCounters[COUNTERS.dropped] ?? 0) + 1;
       if (!this.pressureLogged) {
         this.pressureLogged = true;
-        this.opts.log(`buffer full (${this.opts.bufferLimit} messages): new telemetry is not confirmed and stays with the rigs (counted in ${COUNTERS.dropped})`);
+        this.opts.log(
+          `buffer full (${this.opts.bufferLimit} messages): new telemetry is not confirmed and stays with the rigs (counted in ${COUNTERS.dropped})`,
+        );
       }
       return;
     }
@@ -213,7 +227,14 @@ export class TelemetryIngest {
     }
     this.rejectCount++;
     // Storable whatever the payload held (a topic or reason may quote it): one bad row would fail its whole batch.
-    this.push({ kind: 'reject', topic: storableText(topic), rigCode, reason: storableText(reason.slice(0, 1000)), excerpt: storableText(excerptOf(payload)), receivedAt });
+    this.push({
+      kind: 'reject',
+      topic: storableText(topic),
+      rigCode,
+      reason: storableText(reason.slice(0, 1000)),
+      excerpt: storableText(excerptOf(payload)),
+      receivedAt,
+    });
   }
 
   private push(item: IngestItem): void {

@@ -29,7 +29,12 @@ export interface MqttRigLinkOptions {
 }
 
 export class RigCommandError extends Error {
-  constructor(message: string, readonly rigCode: string, readonly cmdId: string, readonly reason: 'timeout' | 'refused' | 'invalid' | 'stopped') {
+  constructor(
+    message: string,
+    readonly rigCode: string,
+    readonly cmdId: string,
+    readonly reason: 'timeout' | 'refused' | 'invalid' | 'stopped',
+  ) {
     super(message);
     this.name = 'RigCommandError';
   }
@@ -94,13 +99,16 @@ export class MqttRigLink implements RigLink {
       // message until the server's `stored` names it and re-sends it otherwise — and with a clean
       // session QoS 1 could not cover a dropped connection anyway. It saves a PUBACK per message
       // here and the broker's in-flight bookkeeping. Status and acks stay at QoS 1.
-      c.subscribe({ [topics.all.telemetry]: { qos: 0 }, [topics.all.status]: { qos: 1 }, [topics.all.commandAcks]: { qos: 1 } }, (err, granted) => {
-        const refused = (granted ?? []).filter((g) => g.qos === 128);
-        if (err || refused.length) this.log(`subscription refused: ${err?.message ?? refused.map((g) => g.topic).join(', ')}`);
-        // Acks can arrive now: (re)send everything still waiting.
-        for (const p of this.pending.values()) this.publishPending(p);
-        for (const rig of this.revokes) this.publishRevoke(rig);
-      });
+      c.subscribe(
+        { [topics.all.telemetry]: { qos: 0 }, [topics.all.status]: { qos: 1 }, [topics.all.commandAcks]: { qos: 1 } },
+        (err, granted) => {
+          const refused = (granted ?? []).filter((g) => g.qos === 128);
+          if (err || refused.length) this.log(`subscription refused: ${err?.message ?? refused.map((g) => g.topic).join(', ')}`);
+          // Acks can arrive now: (re)send everything still waiting.
+          for (const p of this.pending.values()) this.publishPending(p);
+          for (const rig of this.revokes) this.publishRevoke(rig);
+        },
+      );
     });
     c.on('close', () => {
       if (this.stopped) return;
@@ -143,7 +151,9 @@ export class MqttRigLink implements RigLink {
     const cmdId = opts.cmdId ?? `srv-${this.boot}-${++this.cmdCounter}`;
     const parsed = commandSchema.safeParse({ ...command, v: 1, cmdId, ts: new Date().toISOString() });
     if (!parsed.success) {
-      return Promise.reject(new RigCommandError(`Invalid command for ${rigCode}: ${describeIssues(parsed.error)}`, rigCode, cmdId, 'invalid'));
+      return Promise.reject(
+        new RigCommandError(`Invalid command for ${rigCode}: ${describeIssues(parsed.error)}`, rigCode, cmdId, 'invalid'),
+      );
     }
     if (this.stopped) return Promise.reject(new RigCommandError('The rig link is stopped.', rigCode, cmdId, 'stopped'));
     let topic: string;
@@ -181,7 +191,14 @@ export class MqttRigLink implements RigLink {
       timer: setTimeout(() => {
         this.pending.delete(key);
         const where = this.connected() ? `rig ${rigCode} did not acknowledge` : 'the MQTT broker is not reachable';
-        reject(new RigCommandError(`Command ${parsed.data.type} (${cmdId}) timed out after ${timeoutMs} ms: ${where}.`, rigCode, cmdId, 'timeout'));
+        reject(
+          new RigCommandError(
+            `Command ${parsed.data.type} (${cmdId}) timed out after ${timeoutMs} ms: ${where}.`,
+            rigCode,
+            cmdId,
+            'timeout',
+          ),
+        );
       }, timeoutMs),
     };
     this.pending.set(key, p);
@@ -197,7 +214,15 @@ export class MqttRigLink implements RigLink {
     this.pending.delete(key);
     clearTimeout(p.timer);
     if (ack.ok) p.resolve(ack);
-    else p.reject(new RigCommandError(`Rig ${rigCode} refused command ${ack.cmdId}: ${ack.error ?? 'no reason given'}`, rigCode, ack.cmdId, 'refused'));
+    else
+      p.reject(
+        new RigCommandError(
+          `Rig ${rigCode} refused command ${ack.cmdId}: ${ack.error ?? 'no reason given'}`,
+          rigCode,
+          ack.cmdId,
+          'refused',
+        ),
+      );
   }
 
   /** Confirm stored seqs to a rig. Not queued while offline: the rig re-sends and gets confirmed again. */

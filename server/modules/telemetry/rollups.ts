@@ -175,7 +175,9 @@ export async function recoverRollups(pool: Pool): Promise<number> {
   const client = await pool.connect();
   try {
     await client.query('BEGIN');
-    const { rows } = await client.query<{ value: string }>('SELECT value FROM system_counters WHERE name = $1 FOR UPDATE', [ROLLUP_WATERMARK]);
+    const { rows } = await client.query<{ value: string }>('SELECT value FROM system_counters WHERE name = $1 FOR UPDATE', [
+      ROLLUP_WATERMARK,
+    ]);
     let rebuilt = 0;
     if (rows.length) {
       const since = new Date(Number(rows[0].value) - RECOVERY_MARGIN_MS);

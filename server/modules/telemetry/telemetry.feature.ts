@@ -81,7 +81,8 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
     try {
       const rows = await markQuietRigsOffline(ctx.ds, new Date(ctx.now().getTime() - offlineAfterMs));
       const at = ctx.now();
-      for (const r of rows) ctx.events.emit(RIG_STATUS_CHANGED, { rigId: r.id, rigCode: r.code, online: false, at } satisfies RigStatusChanged);
+      for (const r of rows)
+        ctx.events.emit(RIG_STATUS_CHANGED, { rigId: r.id, rigCode: r.code, online: false, at } satisfies RigStatusChanged);
     } catch {
       /* database down: the ingest reports that */
     } finally {

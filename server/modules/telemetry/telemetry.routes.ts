@@ -6,7 +6,9 @@ import { ApiRouter } from '../../http/route';
 export function telemetryRoutes(ctx: AppContext): ApiRouter {
   const svc = ctx.services.telemetry;
   const r = new ApiRouter('/api/telemetry');
-  r.get('/rejections', { access: rolesFor('telemetry.inspect'), query: rejectionsQuerySchema }, async ({ query }) => ({ items: await svc.rejections(query) }));
+  r.get('/rejections', { access: rolesFor('telemetry.inspect'), query: rejectionsQuerySchema }, async ({ query }) => ({
+    items: await svc.rejections(query),
+  }));
   r.get('/stats', { access: rolesFor('telemetry.inspect') }, () => svc.stats());
   return r;
 }

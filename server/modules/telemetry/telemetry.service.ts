@@ -13,7 +13,14 @@ export class TelemetryService {
 
   async rejections(q: { limit: number; rig?: string }): Promise<RejectedMessage[]> {
     const rows = await recentRejections(this.ds, q.limit, q.rig ?? null);
-    return rows.map((r) => ({ id: String(r.id), at: r.at.toISOString(), topic: r.topic, rigCode: r.rig_code, reason: r.reason, excerpt: r.excerpt }));
+    return rows.map((r) => ({
+      id: String(r.id),
+      at: r.at.toISOString(),
+      topic: r.topic,
+      rigCode: r.rig_code,
+      reason: r.reason,
+      excerpt: r.excerpt,
+    }));
   }
 
   async stats(): Promise<TelemetryStats> {

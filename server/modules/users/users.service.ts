@@ -26,7 +26,10 @@ export function toUser(u: UserEntity): User {
 }
 
 export class UsersService {
-  constructor(private readonly ds: DataSource, private readonly audit: AuditService) {}
+  constructor(
+    private readonly ds: DataSource,
+    private readonly audit: AuditService,
+  ) {}
 
   async list(): Promise<User[]> {
     const rows = await this.ds.getRepository(UserEntity).find({ order: { active: 'DESC', name: 'ASC' } });
@@ -39,7 +42,10 @@ export class UsersService {
       if (exists) throw conflict(`A user with the e-mail ${input.email} already exists.`);
       const passwordHash = await bcrypt.hash(input.password, BCRYPT_ROUNDS);
       const u = await m.save(m.create(UserEntity, { email: input.email, name: input.name, role: input.role, passwordHash }));
-      await this.audit.record({ actor, action: 'user.create', entity: 'user', entityId: u.id, details: { email: u.email, role: u.role } }, m);
+      await this.audit.record(
+        { actor, action: 'user.create', entity: 'user', entityId: u.id, details: { email: u.email, role: u.role } },
+        m,
+      );
       return toUser(u);
     });
   }

@@ -28,7 +28,8 @@ export function mockFetch(routes: Record<string, Route | ((init: RequestInit) =>
   const fn = jest.fn(async (url: string, init: RequestInit = {}) => {
     const key = `${init.method ?? 'GET'} ${url}`;
     const r = routes[key];
-    const ans = typeof r === 'function' ? r(init) : r ?? { status: 404, body: { error: { code: 'not_found', message: `No mock for ${key}` } } };
+    const ans =
+      typeof r === 'function' ? r(init) : (r ?? { status: 404, body: { error: { code: 'not_found', message: `No mock for ${key}` } } });
     return {
       ok: ans.status >= 200 && ans.status < 300,
       status: ans.status,

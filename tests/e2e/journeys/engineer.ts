@@ -51,7 +51,10 @@ export const engineerPlanBook: Journey = {
     await j.shot('device-type-added');
 
     // Open it: ratings as entered.
-    await page.getByRole('button', { name: `Open ${partNumber}` }).first().click();
+    await page
+      .getByRole('button', { name: `Open ${partNumber}` })
+      .first()
+      .click();
     await page.waitForURL((u) => u.pathname.startsWith('/devices/'));
     await expect(page.getByRole('heading', { name: partNumber }).first()).toBeVisible();
     await expect(page.getByText('200 V').first()).toBeVisible();
@@ -122,7 +125,9 @@ export const engineerPlanBook: Journey = {
     await expect(proposals).toBeVisible();
     // 45 of the plan's 77: booked only with a recorded deviation (issue #19).
     await expect(proposals.getByText('The plan asks for 77 devices; this booking holds 45 (32 short).', { exact: false })).toBeVisible();
-    await proposals.getByLabel('Deviation reason (engineer, recorded in the audit trail)').fill('Engineering evaluation of the passivation trial, not a qualification');
+    await proposals
+      .getByLabel('Deviation reason (engineer, recorded in the audit trail)')
+      .fill('Engineering evaluation of the passivation trial, not a qualification');
     // Rigs that cannot take it say why, with numbers.
     await expect(proposals.getByText('Rigs that cannot take it')).toBeVisible();
     await expect(proposals.getByText(/^Oven HC-05 reaches at most 130 °C; the plan needs 14[\d.]+ °C\.$/)).toBeVisible();
@@ -142,9 +147,17 @@ export const engineerPlanBook: Journey = {
     const rigBooked = 'OV-01';
     for (let attempt = 1; ; attempt++) {
       await proposals.getByRole('button', { name: `Book on ${rigBooked}` }).click();
-      const booked = await page.waitForURL((u) => u.pathname.startsWith('/runs/'), { timeout: 8000 }).then(() => true, () => false);
+      const booked = await page
+        .waitForURL((u) => u.pathname.startsWith('/runs/'), { timeout: 8000 })
+        .then(
+          () => true,
+          () => false,
+        );
       if (booked) break;
-      const why = (await proposals.innerText()).split('\n').filter((l) => /no longer free|Ask for new proposals|was not found|could not|went wrong|try again/i.test(l)).join(' | ');
+      const why = (await proposals.innerText())
+        .split('\n')
+        .filter((l) => /no longer free|Ask for new proposals|was not found|could not|went wrong|try again/i.test(l))
+        .join(' | ');
       j.log(`booking attempt ${attempt} on ${rigBooked} refused: ${why || '(no message shown)'}`);
       if (attempt === 3) throw new Error(`booking on ${rigBooked} failed 3 times: ${why || 'no message shown'}`);
       await page.getByRole('button', { name: 'Find rigs' }).click();

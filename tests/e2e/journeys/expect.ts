@@ -19,9 +19,13 @@ export function expect(locator: Locator) {
     toBeHidden: (timeout?: number) => poll(`${desc} to be hidden`, async () => !(await locator.first().isVisible()), timeout),
     toHaveCount: (n: number, timeout = 3000) => poll(`${desc} to have count ${n}`, async () => (await locator.count()) === n, timeout),
     toContainText: (text: string | RegExp, timeout?: number) =>
-      poll(`${desc} to contain ${text}`, async () => {
-        const t = (await locator.first().innerText()) ?? '';
-        return typeof text === 'string' ? t.includes(text) : text.test(t);
-      }, timeout),
+      poll(
+        `${desc} to contain ${text}`,
+        async () => {
+          const t = (await locator.first().innerText()) ?? '';
+          return typeof text === 'string' ? t.includes(text) : text.test(t);
+        },
+        timeout,
+      ),
   };
 }

@@ -56,7 +56,11 @@ export const adminPeople: Journey = {
     await page.getByRole('button', { name: 'Add person' }).first().click();
     await page.getByLabel('Full name').fill(name);
     await page.getByLabel('E-mail').fill(email);
-    await page.getByRole('radio', { name: 'Floor operator' }).or(page.getByRole('button', { name: 'Floor operator' })).first().click();
+    await page
+      .getByRole('radio', { name: 'Floor operator' })
+      .or(page.getByRole('button', { name: 'Floor operator' }))
+      .first()
+      .click();
     await page.getByLabel('First password').fill('a-long-first-password');
     await j.shot('add-person-form');
     await page.getByTestId('add-person-submit').click();
@@ -65,11 +69,19 @@ export const adminPeople: Journey = {
 
     await page.getByRole('button', { name: `Change role of ${name}` }).click();
     const roleDialog = page.getByRole('dialog');
-    await roleDialog.getByRole('radio', { name: 'Quality manager' }).or(roleDialog.getByRole('button', { name: 'Quality manager' })).first().click();
+    await roleDialog
+      .getByRole('radio', { name: 'Quality manager' })
+      .or(roleDialog.getByRole('button', { name: 'Quality manager' }))
+      .first()
+      .click();
     await roleDialog.getByRole('button', { name: 'Save role' }).click();
     await expect(page.getByRole('dialog')).toHaveCount(0);
 
-    await page.getByRole('button', { name: new RegExp(`^Deactivate ${name}$`) }).or(page.getByRole('button', { name: `Deactivate` }).last()).first().click();
+    await page
+      .getByRole('button', { name: new RegExp(`^Deactivate ${name}$`) })
+      .or(page.getByRole('button', { name: `Deactivate` }).last())
+      .first()
+      .click();
     await page.getByRole('dialog').getByRole('button', { name: 'Deactivate' }).click();
     await expect(page.getByRole('dialog')).toHaveCount(0);
     await j.shot('person-deactivated');

@@ -11,4 +11,15 @@ import { operatorFloor } from './operator';
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
  * admin-rigs stays last: the rig it registers is offline and would show in the others' screens.
  */
-export const JOURNEYS: Journey[] = [signInEveryRole, signInErrors, adminPeople, engineerPlanBook, engineerSplitSample, operatorFloor, operatorReadPointEvidence, managerTrends, managerLotVerdicts, adminRigs];
+export const JOURNEYS: Journey[] = [
+  signInEveryRole,
+  signInErrors,
+  adminPeople,
+  engineerPlanBook,
+  engineerSplitSample,
+  operatorFloor,
+  operatorReadPointEvidence,
+  managerTrends,
+  managerLotVerdicts,
+  adminRigs,
+];

@@ -39,7 +39,10 @@ export const managerTrends: Journey = {
     await j.shot('trends-drifting-only');
 
     // --- The lot ------------------------------------------------------------------------
-    await page.getByRole('button', { name: `Open lot ${DRIFTING_LOT}` }).first().click();
+    await page
+      .getByRole('button', { name: `Open lot ${DRIFTING_LOT}` })
+      .first()
+      .click();
     await page.waitForURL((u) => u.pathname.startsWith('/trends/lots/'));
     await expect(page.getByRole('heading', { name: DRIFTING_LOT }).first()).toBeVisible(30000);
     await expect(page.getByTestId('verdict-drifting').first()).toBeVisible();
@@ -68,13 +71,17 @@ export const managerTrends: Journey = {
     const csv = await fetchFile('export-csv');
     if (csv.d.suggestedFilename() !== `lot-${DRIFTING_LOT}-report.csv`) throw new Error(`CSV named ${csv.d.suggestedFilename()}`);
     const csvText = csv.head.toString('utf8');
-    if (!csvText.includes(DRIFTING_LOT) || csvText.split('\n').length < 5) throw new Error(`CSV report looks empty: ${csvText.slice(0, 200)}`);
+    if (!csvText.includes(DRIFTING_LOT) || csvText.split('\n').length < 5)
+      throw new Error(`CSV report looks empty: ${csvText.slice(0, 200)}`);
     const pdf = await fetchFile('export-pdf');
     if (pdf.d.suggestedFilename() !== `lot-${DRIFTING_LOT}-report.pdf`) throw new Error(`PDF named ${pdf.d.suggestedFilename()}`);
     if (pdf.head.subarray(0, 5).toString('latin1') !== '%PDF-') throw new Error('the PDF report does not start with %PDF-');
     // The same addresses answer 200 with the right content type.
     const lotId = new URL(page.url()).pathname.split('/').pop();
-    for (const [kind, type] of [['csv', 'text/csv'], ['pdf', 'application/pdf']] as const) {
+    for (const [kind, type] of [
+      ['csv', 'text/csv'],
+      ['pdf', 'application/pdf'],
+    ] as const) {
       const r = await page.request.get(`${j.baseUrl}/api/analytics/lots/${lotId}/report.${kind}`);
       if (r.status() !== 200 || !(r.headers()['content-type'] ?? '').startsWith(type)) {
         throw new Error(`report.${kind}: ${r.status()} ${r.headers()['content-type']}`);

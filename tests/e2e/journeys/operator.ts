@@ -119,12 +119,19 @@ export const operatorFloor: Journey = {
     await expect(page.getByText(`Acknowledged: ${alarmTitle}.`)).toBeVisible();
     // It now sits under "Acknowledged" with the note and who wrote it.
     await page.getByRole('radio', { name: 'Acknowledged', exact: true }).click();
-    await expect(page.getByText(new RegExp(`^Acknowledged by Priya Castell on .*: “${note.replace(/[().]/g, '\\$&')}”$`)).first()).toBeVisible();
+    await expect(
+      page.getByText(new RegExp(`^Acknowledged by Priya Castell on .*: “${note.replace(/[().]/g, '\\$&')}”$`)).first(),
+    ).toBeVisible();
     await j.shot('alarm-acknowledged');
 
     // --- Read points: a tester's CSV with one bad row -------------------------------------
-    const board = (await (await page.request.get(`${j.baseUrl}/api/floor/rigs/OV-03`)).json()) as { sockets: Array<{ serial: string | null }> };
-    const serials = board.sockets.map((s) => s.serial).filter((s): s is string => !!s).slice(0, 3);
+    const board = (await (await page.request.get(`${j.baseUrl}/api/floor/rigs/OV-03`)).json()) as {
+      sockets: Array<{ serial: string | null }>;
+    };
+    const serials = board.sockets
+      .map((s) => s.serial)
+      .filter((s): s is string => !!s)
+      .slice(0, 3);
     if (serials.length < 3) throw new Error('OV-03 has fewer than three loaded sockets');
     const csv = [
       'serial,hfe,hfe_ic_a,hfe_vce_v,icbo_a,icbo_vcb_v,vcesat_v',
@@ -138,7 +145,9 @@ export const operatorFloor: Journey = {
     await page.getByRole('radio', { name: /^HOTL-2609-D-2 · HG2609-D · / }).click();
     await page.getByRole('radio', { name: /^0 h · \d+\/40 stored/ }).click();
     await expect(page.getByTestId('upload-panel')).toBeVisible();
-    await page.getByTestId('csv-file-input').setInputFiles({ name: `read-point-0h-${j.size}.csv`, mimeType: 'text/csv', buffer: Buffer.from(csv) });
+    await page
+      .getByTestId('csv-file-input')
+      .setInputFiles({ name: `read-point-0h-${j.size}.csv`, mimeType: 'text/csv', buffer: Buffer.from(csv) });
     await expect(page.getByText(`read-point-0h-${j.size}.csv`)).toBeVisible();
     await expect(page.getByTestId('column-summary')).toContainText('Serial ← serial');
     await page.getByTestId('upload-preview').click();

@@ -1,12 +1,6 @@
 import { deviceTypeInputSchema, type DeviceTypeInput } from '../../../shared/schemas/devices';
 import { planInputSchema, type PlanInput } from '../../../shared/schemas/plans';
-import {
-  criticalAmbient,
-  estimateBvceo,
-  gainAtTemperature,
-  leakageAtTemperature,
-  thermalOperatingPoint,
-} from '../../../shared/physics';
+import { criticalAmbient, estimateBvceo, gainAtTemperature, leakageAtTemperature, thermalOperatingPoint } from '../../../shared/physics';
 import { checkPlan, type PlanCheck } from '../../../shared/safety';
 
 const device = (over: Partial<DeviceTypeInput> = {}): DeviceTypeInput =>

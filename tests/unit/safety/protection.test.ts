@@ -78,7 +78,10 @@ function runDetector(samples: SocketSample[], dev: { tjMaxC: number; thetaJcCPer
   return results;
 }
 
-const forcedIb = (ibA: number, xtb = 1.5) => (tj: number) => ibA * gainAtTemperature({ betaRef: 100, tRefC: 25, tC: tj, xtb });
+const forcedIb =
+  (ibA: number, xtb = 1.5) =>
+  (tj: number) =>
+    ibA * gainAtTemperature({ betaRef: 100, tRefC: 25, tC: tj, xtb });
 const dev = { tjMaxC: 150, thetaJcCPerW: 5 };
 
 describe('projection', () => {
@@ -109,8 +112,19 @@ describe('live runaway detector', () => {
   test('a junction held near its rating by the stress itself is not a runaway (regression: the demo HTRB board tripped every socket)', () => {
     // common practice: HTRB holds the junction near Tj max (chamber 145 °C on a 150 °C part) with
     // negligible self-heating (160 V × 60 nA ≈ 10 µW); the margin rule must not fire on that alone.
-    const htrb: SocketSample[] = Array.from({ length: 40 }, (_, k) => ({ tS: k * 5, caseC: 145 + 0.05 * Math.sin(k), vV: 160, iA: 60e-9, chamberC: 145, biasOn: true }));
-    expect(runDetector(htrb, dev).map((r) => r.action).filter((a) => a !== 'none')).toEqual([]);
+    const htrb: SocketSample[] = Array.from({ length: 40 }, (_, k) => ({
+      tS: k * 5,
+      caseC: 145 + 0.05 * Math.sin(k),
+      vV: 160,
+      iA: 60e-9,
+      chamberC: 145,
+      biasOn: true,
+    }));
+    expect(
+      runDetector(htrb, dev)
+        .map((r) => r.action)
+        .filter((a) => a !== 'none'),
+    ).toEqual([]);
     // A powered-life board whose peers all run at 141 °C: a socket at 141.5 °C is one of them …
     const s: SocketSample = { tS: 0, caseC: 131.5, vV: 10, iA: 0.2, chamberC: 25, biasOn: true };
     expect(assessSocket([s], dev, { baselineTjC: 141 }).action).toBe('none');
@@ -266,8 +280,34 @@ describe('live runaway detector', () => {
 
 describe('judgeTrend (what live protection calls per sample) decides as assessTrend does', () => {
   test('a runaway and a sound socket judged in turn: same action every sample, no numbers carried over between them', () => {
-    const hot = simulate({ ambientC: () => 110, thetaJc: 1, thetaCa: 39, tauS: 120, vV: 10, currentAt: forcedIb(0.6e-3), biasOn: (t) => t >= 120, sampleS: 2, durationS: 2400, caseNoiseC: 0.3, currentNoise: 0.01, seed: 7 });
-    const calm = simulate({ ambientC: () => 110, thetaJc: 1, thetaCa: 20, tauS: 120, vV: 10, currentAt: () => 0.05, biasOn: (t) => t >= 120, sampleS: 2, durationS: 2400, caseNoiseC: 0.3, currentNoise: 0.01, seed: 8 });
+    const hot = simulate({
+      ambientC: () => 110,
+      thetaJc: 1,
+      thetaCa: 39,
+      tauS: 120,
+      vV: 10,
+      currentAt: forcedIb(0.6e-3),
+      biasOn: (t) => t >= 120,
+      sampleS: 2,
+      durationS: 2400,
+      caseNoiseC: 0.3,
+      currentNoise: 0.01,
+      seed: 7,
+    });
+    const calm = simulate({
+      ambientC: () => 110,
+      thetaJc: 1,
+      thetaCa: 20,
+      tauS: 120,
+      vV: 10,
+      currentAt: () => 0.05,
+      biasOn: (t) => t >= 120,
+      sampleS: 2,
+      durationS: 2400,
+      caseNoiseC: 0.3,
+      currentNoise: 0.01,
+      seed: 8,
+    });
     const device = { tjMaxC: 150, thetaJcCPerW: 1 };
     const a = new SocketTrend(300, 600);
     const b = new SocketTrend(300, 600);
@@ -282,7 +322,10 @@ describe('judgeTrend (what live protection calls per sample) decides as assessTr
       // B's full assessment after A's: the scratch judgeTrend fills is not read across sockets.
       const fullB = assessTrend(b, device);
       expect(actionB).toBe(fullB.action);
-      expect(fullB.tjC).toBeCloseTo(calm.samples[k].caseC + (calm.samples[k].biasOn ? device.thetaJcCPerW * calm.samples[k].vV * calm.samples[k].iA : 0), 9);
+      expect(fullB.tjC).toBeCloseTo(
+        calm.samples[k].caseC + (calm.samples[k].biasOn ? device.thetaJcCPerW * calm.samples[k].vV * calm.samples[k].iA : 0),
+        9,
+      );
       seen.add(actionA);
       if (actionA === 'trip') break;
     }
@@ -290,4 +333,3 @@ describe('judgeTrend (what live protection calls per sample) decides as assessTr
     expect([...seen].sort()).toEqual(['none', 'trip', 'warn']);
   });
 });
-

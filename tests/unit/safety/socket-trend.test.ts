@@ -17,7 +17,8 @@ import { mulberry32 } from '../../../shared/random';
 function batchWindow(history: TrendSample[], windowS: number, maxSamples: number): TrendSample[] {
   const last = history[history.length - 1];
   let start = history.length;
-  while (start > 0 && history[start - 1].biasOn && history[start - 1].tS >= last.tS - windowS && history.length - start < maxSamples) start--;
+  while (start > 0 && history[start - 1].biasOn && history[start - 1].tS >= last.tS - windowS && history.length - start < maxSamples)
+    start--;
   return history.slice(start);
 }
 
@@ -26,14 +27,24 @@ function expectClose(actual: number, expected: number, rel: number, label: strin
   if (!(Math.abs(actual - expected) <= tol)) throw new Error(`${label}: ${actual} vs reference ${expected} (tolerance ${tol})`);
 }
 
-function checkAgainstReference(trend: SocketTrend, history: TrendSample[], thetaJc: number, windowS: number, maxSamples: number, label: string): number {
+function checkAgainstReference(
+  trend: SocketTrend,
+  history: TrendSample[],
+  thetaJc: number,
+  windowS: number,
+  maxSamples: number,
+  label: string,
+): number {
   const w = batchWindow(history, windowS, maxSamples);
   expect(trend.count).toBe(w.length);
   if (w.length < 6) return 0;
   const last = w[w.length - 1];
   const xs = w.map((s) => s.tS - last.tS);
   const tj = w.map((s) => s.caseC + thetaJc * s.vV * s.iA);
-  const ols = jStat.models.ols(tj, xs.map((x) => [1, x, x * x]));
+  const ols = jStat.models.ols(
+    tj,
+    xs.map((x) => [1, x, x * x]),
+  );
   const fit = trend.quadraticFit();
   expect(fit).not.toBeNull();
   expectClose(fit!.c0, ols.coef[0], 1e-7, `${label} c0`);
@@ -87,12 +98,20 @@ describe('SocketTrend (incremental) equals batch least squares (jStat OLS, simpl
       const biasOn = !(k % 1300 > 1290);
       const tj = 90 + 8 * Math.sin(t / 400) + 0.002 * (t % 700);
       const i = 0.08 + 0.02 * Math.sin(t / 250) + 0.001 * (rand() - 0.5);
-      const s: TrendSample = { tS: t, caseC: tj - thetaJc * 20 * i + 0.2 * (rand() - 0.5), vV: 20, iA: i, chamberC: 70 + 0.1 * (rand() - 0.5), biasOn };
+      const s: TrendSample = {
+        tS: t,
+        caseC: tj - thetaJc * 20 * i + 0.2 * (rand() - 0.5),
+        vV: 20,
+        iA: i,
+        chamberC: 70 + 0.1 * (rand() - 0.5),
+        biasOn,
+      };
       trend.push(s, thetaJc);
       if (k === 3000) history = [];
       history.push(s);
       if (!biasOn) history = [s];
-      if (k % 37 === 0 || k === 4000 || k === 4999) checked += checkAgainstReference(trend, history, thetaJc, windowS, maxSamples, `sample ${k}`);
+      if (k % 37 === 0 || k === 4000 || k === 4999)
+        checked += checkAgainstReference(trend, history, thetaJc, windowS, maxSamples, `sample ${k}`);
     }
     expect(checked).toBeGreaterThan(100);
   });
@@ -101,7 +120,14 @@ describe('SocketTrend (incremental) equals batch least squares (jStat OLS, simpl
     const trend = new SocketTrend(300, 50);
     const history: TrendSample[] = [];
     for (let k = 0; k < 400; k++) {
-      const s: TrendSample = { tS: k * 0.25, caseC: 100 + 0.01 * k + 0.05 * Math.cos(k), vV: 15, iA: 0.05 + 1e-5 * k, chamberC: 85, biasOn: true };
+      const s: TrendSample = {
+        tS: k * 0.25,
+        caseC: 100 + 0.01 * k + 0.05 * Math.cos(k),
+        vV: 15,
+        iA: 0.05 + 1e-5 * k,
+        chamberC: 85,
+        biasOn: true,
+      };
       trend.push(s, 2);
       history.push(s);
     }
@@ -113,7 +139,14 @@ describe('SocketTrend (incremental) equals batch least squares (jStat OLS, simpl
     const trend = new SocketTrend(3000, 2000);
     const history: TrendSample[] = [];
     for (let k = 0; k < 1500; k++) {
-      const s: TrendSample = { tS: 1e5 + k, caseC: 110 + 3 * Math.sin(k / 90) + 0.02 * Math.cos(7 * k), vV: 12, iA: 0.2 + 0.01 * Math.sin(k / 60), chamberC: 100, biasOn: true };
+      const s: TrendSample = {
+        tS: 1e5 + k,
+        caseC: 110 + 3 * Math.sin(k / 90) + 0.02 * Math.cos(7 * k),
+        vV: 12,
+        iA: 0.2 + 0.01 * Math.sin(k / 60),
+        chamberC: 100,
+        biasOn: true,
+      };
       trend.push(s, 1.2);
       history.push(s);
       if (k === 511 || k === 512 || k === 1499) expect(checkAgainstReference(trend, history, 1.2, 3000, 2000, `grow ${k}`)).toBe(1);
@@ -128,7 +161,14 @@ describe('SocketTrend (incremental) equals batch least squares (jStat OLS, simpl
     const history: TrendSample[] = [];
     const rand = mulberry32(7);
     for (let k = 0; k < 3000; k++) {
-      const s: TrendSample = { tS: k, caseC: 105 + 4 * Math.sin(k / 70) + 0.3 * rand(), vV: 18, iA: 0.1 + 0.005 * Math.cos(k / 40), chamberC: 90, biasOn: true };
+      const s: TrendSample = {
+        tS: k,
+        caseC: 105 + 4 * Math.sin(k / 70) + 0.3 * rand(),
+        vV: 18,
+        iA: 0.1 + 0.005 * Math.cos(k / 40),
+        chamberC: 90,
+        biasOn: true,
+      };
       renumbered.push(s, 1.7);
       plain.push(s, 1.7);
       history.push(s);
