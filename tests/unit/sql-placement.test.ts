@@ -18,6 +18,7 @@ const DATA_FILES = new Set([
   'server/modules/runs/telemetry-reads.ts', // stored telemetry as the run engine reads it
   'server/modules/telemetry/ingest-store.ts', // the ingest transaction (hot path: left as it is)
   'server/modules/telemetry/rollups.ts', // per-minute rollups, written every few seconds (hot path)
+  'server/modules/telemetry/rejections-retention.ts', // the rejected_messages retention: two DELETEs and their limits
 ]);
 
 /** Services that still hold SQL of their own, and why they were left this round. */

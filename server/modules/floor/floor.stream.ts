@@ -11,6 +11,7 @@
  * deleted (a deactivated user's, a changed role's or password's sessions are deleted) or whose
  * user is no longer active, and ends them with `event: end`.
  */
+import { liveSessionIds } from './floor.data';
 import type { Response } from 'express';
 import type { FloorStreamEvent, FloorTile } from '../../../shared/schemas/floor';
 import type { AppContext } from '../../context';
@@ -110,13 +111,7 @@ export class FloorStream {
     this.checking = true;
     try {
       const sids = Array.from(new Set(Array.from(this.owners.values(), (o) => o.sid)));
-      const rows: Array<{ sid: string }> = await this.ctx.ds.query(
-        `SELECT s.sid FROM "session" s
-         JOIN users u ON u.id::text = s.sess->'passport'->>'user' AND u.active
-         WHERE s.sid = ANY($1::varchar[]) AND s.expire > now()`,
-        [sids],
-      );
-      const live = new Set(rows.map((r) => r.sid));
+      const live = await liveSessionIds(this.ctx.ds, sids);
       this.endWhere((o) => !live.has(o.sid), 'session ended');
     } catch {
       /* database hiccup: check again next time */
