@@ -18,8 +18,10 @@ export const JOURNEYS: Journey[] = [
   engineerPlanBook,
   engineerSplitSample,
   operatorFloor,
-  operatorReadPointEvidence,
   managerTrends,
+  // Before the evidence journey: that one enters dead devices on HG2611-B, whose missing 1000 h
+  // readings this one shows as an incomplete read point.
   managerLotVerdicts,
+  operatorReadPointEvidence,
   adminRigs,
 ];
