@@ -84,11 +84,15 @@ export class SignInThrottle {
     const credKey = sha256(`${username}\0${password}`);
     const known = this.knownGood.has(credKey);
     if (!known) {
-      const nameWait = this.waitMs(name, this.o.freeFailuresPerName, name.inFlight >= this.o.checksInFlightPerName, now);
+      const nameWait = this.waitMs(name, this.o.freeFailuresPerName, name.inFlight >= this.o.checksInFlightPerName, true, now);
+      // An address with no failure is many rigs behind one gateway reconnecting at once (after a
+      // broker restart): their checks in flight are not failures, or the 21st rig would be refused.
+      const addrFailed = addr.failures > 0;
       const addrWait = this.waitMs(
         addr,
         this.o.freeFailuresPerAddress,
-        addr.failures > 0 && addr.inFlight >= this.o.checksInFlightAfterFailurePerAddress,
+        addrFailed && addr.inFlight >= this.o.checksInFlightAfterFailurePerAddress,
+        addrFailed,
         now,
       );
       if (nameWait > 0 || addrWait > 0) {
@@ -147,11 +151,11 @@ export class SignInThrottle {
   }
 
   /** Milliseconds until this key may try again (0 = now). */
-  private waitMs(e: Entry, free: number, busy: boolean, now: number): number {
+  private waitMs(e: Entry, free: number, busy: boolean, inFlightCounts: boolean, now: number): number {
     if (e.lockedUntil > now) return e.lockedUntil - now;
     if (e.inFlight === 0) return 0;
-    // Attempts still being checked count as failures until they succeed.
-    return busy || e.failures + e.inFlight >= free ? this.o.baseLockMs : 0;
+    // Attempts still being checked count as failures until they succeed (where `inFlightCounts`).
+    return busy || e.failures + (inFlightCounts ? e.inFlight : 0) >= free ? this.o.baseLockMs : 0;
   }
 
   private fail(e: Entry, free: number, at: number): void {

@@ -110,3 +110,15 @@ test('a rig passing its own locked name with known credentials does not lift the
   if (again.ok) again.done(true);
   expect(th.begin('rig-g', 'guess', '10.9.9.9')).toMatchObject({ ok: false, key: 'name' });
 });
+
+test('forty rigs behind one address reconnecting at once are all checked (regression: the 21st was refused)', () => {
+  // The bench's 40 rigs on 127.0.0.1 after a start: more than the address's free failures, none failed.
+  const { th } = make({ freeFailuresPerAddress: 20 });
+  const all = Array.from({ length: 40 }, (_, k) => th.begin(`rig-r${k}`, 'right', '127.0.0.1'));
+  expect(all.filter((v) => v.ok)).toHaveLength(40);
+  for (const v of all) if (v.ok) v.done(true);
+  // Once the address has failed, its checks in flight count again: a burst is held to the allowance.
+  fail(th, 'rig-typo', '127.0.0.1');
+  const burst = Array.from({ length: 40 }, (_, k) => th.begin(`rig-s${k}`, 'wrong', '127.0.0.1'));
+  expect(burst.filter((v) => v.ok).length).toBeLessThanOrEqual(2);
+});
