@@ -21,15 +21,8 @@ const DATA_FILES = new Set([
   'server/modules/telemetry/rejections-retention.ts', // the rejected_messages retention: two DELETEs and their limits
 ]);
 
-/** Services that still hold SQL of their own, and why they were left this round. */
-const NOT_YET_MOVED = new Set([
-  'server/modules/floor/floor.service.ts', // the one floor statement and its shared read; the run-state literals are being folded into shared/domain
-  'server/modules/lots/lots.service.ts', // lot evidence is being reworked (issue #19)
-  'server/modules/measurements/measurements.service.ts', // lot evidence is being reworked (issue #19)
-  'server/modules/runs/run-engine.ts', // accrual updates; run-state literals are being folded into shared/domain
-  'server/modules/runs/run-view.ts', // run-state literal in SQL is being folded into shared/domain
-  'server/modules/runs/runs.service.ts', // booking and loading; run-state literals are being folded into shared/domain
-]);
+/** Services that still hold SQL of their own, and why they were left this round (none left: issue #17 item 3). */
+const NOT_YET_MOVED = new Set<string>([]);
 
 function moduleFiles(): string[] {
   const out: string[] = [];

@@ -4,6 +4,7 @@ import { checkSerialRows, type Lot, type LotDetail, type LotInput, type SerialRo
 import { DeviceEntity, DeviceTypeEntity, LotEntity } from '../../db/entities';
 import { AppError, conflict, notFound, unprocessable } from '../../http/errors';
 import type { AuditService } from '../audit/audit.service';
+import { listLotRows, lotRowsById, type LotRow } from './lots.data';
 
 /**
  * Serial lists are stored whole or not at all. If any row is bad (empty, too long, a control
@@ -21,18 +22,6 @@ export function badSerialsError(problems: SerialRowProblem[], total: number, whe
   return new AppError('unprocessable', message, fields, { rows: problems });
 }
 
-interface LotRow {
-  id: string;
-  code: string;
-  device_type_id: string;
-  part_number: string;
-  quantity: number;
-  date_code: string;
-  notes: string;
-  device_count: number;
-  created_at: Date;
-}
-
 const toLot = (r: LotRow): Lot => ({
   id: r.id,
   code: r.code,
@@ -45,11 +34,6 @@ const toLot = (r: LotRow): Lot => ({
   createdAt: new Date(r.created_at).toISOString(),
 });
 
-const LOT_SELECT = `
-  SELECT l.id, l.code, l.device_type_id, dt.part_number, l.quantity, l.date_code, l.notes, l.created_at,
-         (SELECT count(*)::int FROM devices d WHERE d.lot_id = l.id) AS device_count
-    FROM lots l JOIN device_types dt ON dt.id = l.device_type_id`;
-
 export class LotsService {
   constructor(
     private readonly ds: DataSource,
@@ -57,25 +41,12 @@ export class LotsService {
   ) {}
 
   async list(filter: { deviceTypeId?: string; q?: string }): Promise<Lot[]> {
-    const where: string[] = [];
-    const params: unknown[] = [];
-    if (filter.deviceTypeId) {
-      params.push(filter.deviceTypeId);
-      where.push(`l.device_type_id = $${params.length}`);
-    }
-    if (filter.q) {
-      params.push(`%${filter.q.replace(/[\\%_]/g, (c) => `\\${c}`)}%`);
-      where.push(`l.code ILIKE $${params.length}`);
-    }
-    const rows: LotRow[] = await this.ds.query(
-      `${LOT_SELECT} ${where.length ? `WHERE ${where.join(' AND ')}` : ''} ORDER BY l.created_at DESC, l.code LIMIT 500`,
-      params,
-    );
+    const rows = await listLotRows(this.ds, filter);
     return rows.map(toLot);
   }
 
   async get(id: string, m: EntityManager = this.ds.manager): Promise<LotDetail> {
-    const [row]: LotRow[] = await m.query(`${LOT_SELECT} WHERE l.id = $1`, [id]);
+    const [row] = await lotRowsById(m, id);
     if (!row) throw notFound('The lot');
     const devices = await m.find(DeviceEntity, { where: { lotId: id }, order: { serial: 'ASC' } });
     return { ...toLot(row), serials: devices.map((d) => ({ id: d.id, serial: d.serial })) };

@@ -14,20 +14,13 @@ import {
   type UploadResult,
 } from '../../../shared/schemas/measurements';
 import { conditionDifferences, isCatastrophic, isJudgeable, type MeasuringConditions } from '../../../shared/evidence';
-import {
-  DeviceDispositionEntity,
-  DeviceEntity,
-  LotEntity,
-  MeasurementEntity,
-  MeasurementUploadEntity,
-  RunEntity,
-  RunSocketEntity,
-} from '../../db/entities';
+import { DeviceDispositionEntity, MeasurementEntity, MeasurementUploadEntity, RunEntity, RunSocketEntity } from '../../db/entities';
 import { conflict, unprocessable } from '../../http/errors';
 import type { AuditService } from '../audit/audit.service';
 import { parseMeasurementCsv, type ParsedRow, type ParsedValues } from './csv-rows';
 import { driftOfDevice, GAIN_LAW, GAIN_LAW_SOURCE, type ReadingInput } from './device-drift';
 import { loadRunBundle, type RunBundle, type RunDeviceRow } from './run-data';
+import { lotCodesOfSerials, readPointCounts, upsertMeasurements } from './measurements.data';
 
 /** The rule for files sent more than once, shown with every upload answer. */
 export const REUPLOAD_RULE =
@@ -82,10 +75,7 @@ export class MeasurementsService {
   }
 
   private async summary(m: EntityManager, b: RunBundle): Promise<MeasurementRunSummary> {
-    const counts: Array<{ h: number; n: number; late: number }> = await m.query(
-      `SELECT read_point_h AS h, count(*)::int AS n, count(*) FILTER (WHERE late)::int AS late FROM measurements WHERE run_id = $1 GROUP BY read_point_h`,
-      [b.run.id],
-    );
+    const counts = await readPointCounts(m, b.run.id);
     const byH = new Map(counts.map((c) => [Number(c.h), c]));
     return {
       id: b.run.id,
@@ -374,13 +364,10 @@ export class MeasurementsService {
     const unknownSerials = [...new Set(rows.map((r) => r.serial).filter((s): s is string => !!s && !bySerial.has(s.toLowerCase())))];
     const elsewhere = new Map<string, string>();
     if (unknownSerials.length) {
-      const found: Array<{ serial: string; code: string }> = await m
-        .createQueryBuilder(DeviceEntity, 'd')
-        .innerJoin(LotEntity, 'l', 'l.id = d.lotId')
-        .select('d.serial', 'serial')
-        .addSelect('l.code', 'code')
-        .where('lower(d.serial) IN (:...s)', { s: unknownSerials.map((s) => s.toLowerCase()) })
-        .getRawMany();
+      const found = await lotCodesOfSerials(
+        m,
+        unknownSerials.map((s) => s.toLowerCase()),
+      );
       for (const f of found) elsewhere.set(f.serial.toLowerCase(), f.code);
     }
     const existing = new Map(
@@ -461,40 +448,18 @@ export class MeasurementsService {
   ) {
     const good = rows.filter((r) => r.outcome === 'insert' || r.outcome === 'replace');
     if (good.length) {
-      await m
-        .createQueryBuilder()
-        .insert()
-        .into(MeasurementEntity)
-        .values(
-          good.map((r) => ({
-            runId: b.run.id,
-            deviceId: r.deviceId!,
-            readPointH: hours,
-            ...r.values!,
-            late: r.late,
-            uploadId: src.uploadId,
-            enteredById: src.enteredById,
-          })),
-        )
-        .orUpdate(
-          [
-            'result',
-            'hfe',
-            'hfe_ic_a',
-            'hfe_vce_v',
-            'icbo_a',
-            'icbo_vcb_v',
-            'vcesat_v',
-            'bvceo_v',
-            'measured_c',
-            'measured_at',
-            'late',
-            'upload_id',
-            'entered_by_id',
-          ],
-          ['run_id', 'device_id', 'read_point_h'],
-        )
-        .execute();
+      await upsertMeasurements(
+        m,
+        good.map((r) => ({
+          runId: b.run.id,
+          deviceId: r.deviceId!,
+          readPointH: hours,
+          ...r.values!,
+          late: r.late,
+          uploadId: src.uploadId,
+          enteredById: src.enteredById,
+        })),
+      );
     }
     await refreshConditionFlags(m, b.run.id);
     await refreshFirstFailures(m, b);

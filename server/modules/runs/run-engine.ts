@@ -24,6 +24,7 @@ import { measureByMs } from '../../../shared/domain/standards';
 import type { PendingRunEvent } from './run-events';
 import { sortedReadPoints } from './run-view';
 import { batchAt, batchesAfter, firstInBand, socketSamples, toClockSample } from './telemetry-reads';
+import { storeRunAccrual, storeSocketAccrual } from './runs.data';
 
 /** A missing seq is waited for this long (it may still arrive from the rig's outbox) before it is skipped. */
 export const GAP_WAIT_MS = 30_000;
@@ -204,25 +205,19 @@ export async function accrueStep(
   }
   if (!processed) return { changed: false, events: [] };
 
-  await m.query(`UPDATE runs SET stress_hours = $1, accrued_to_seq = $2, accrued_to_clock_s = $3 WHERE id = $4`, [
-    hours,
-    lastSeq,
-    lastClock,
-    run.id,
-  ]);
+  await storeRunAccrual(m, run.id, hours, lastSeq, lastClock);
   run.stressHours = hours;
   run.accruedToSeq = lastSeq;
   run.accruedToClockS = lastClock;
   const changedSockets = [...new Set([...touched, ...newlyTripped])];
   if (changedSockets.length) {
-    await m.query(
-      `UPDATE run_sockets rs SET accrued_hours = v.h,
-         tripped = rs.tripped OR v.t,
-         tripped_at = CASE WHEN v.t AND NOT rs.tripped THEN $4::timestamptz ELSE rs.tripped_at END,
-         trip_reason = CASE WHEN v.t AND NOT rs.tripped THEN coalesce(rs.trip_reason, 'Tripped at the rig (seen in telemetry)') ELSE rs.trip_reason END
-       FROM unnest($1::int[], $2::float8[], $3::bool[]) AS v(socket, h, t)
-       WHERE rs.run_id = $5 AND rs.socket_index = v.socket`,
-      [changedSockets, changedSockets.map((k) => socketH.get(k) ?? 0), changedSockets.map((k) => newlyTripped.has(k)), now, run.id],
+    await storeSocketAccrual(
+      m,
+      run.id,
+      now,
+      changedSockets,
+      changedSockets.map((k) => socketH.get(k) ?? 0),
+      changedSockets.map((k) => newlyTripped.has(k)),
     );
   }
 

@@ -1,7 +1,7 @@
 /** Entities → API objects for runs (entities never leave the server). Batched for lists. */
 import { In, type EntityManager } from 'typeorm';
-import { ON_RIG_STATES, sqlStateList } from '../../../shared/domain/run-states';
 import { planBiasV } from '../../../shared/scheduling';
+import { runCodesOfSamples, runSocketRows, runsOfSample, socketCountsOfRuns, socketsHeldOnRig } from './runs.data';
 import {
   allowedActions,
   RUN_STATE_LABEL,
@@ -10,7 +10,6 @@ import {
   type RunDetail,
   type RunPlanRef,
   type RunSocket,
-  type RunState,
   type SampleView,
 } from '../../../shared/schemas/runs';
 import {
@@ -64,18 +63,11 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
   const lots = new Map(
     (runLots.length ? await m.find(LotEntity, { where: { id: In([...new Set(runLots.map((l) => l.lotId))]) } }) : []).map((l) => [l.id, l]),
   );
-  const counts: Array<{ run_id: string; loaded: number; tripped: number }> = await m.query(
-    `SELECT run_id, count(*)::int AS loaded, count(*) FILTER (WHERE tripped)::int AS tripped FROM run_sockets WHERE run_id = ANY($1) GROUP BY run_id`,
-    [ids],
-  );
+  const counts = await socketCountsOfRuns(m, ids);
   const countBy = new Map(counts.map((c) => [c.run_id, c]));
   const sampleIds = [...new Set(runs.map((r) => r.sampleId).filter((x): x is string => !!x))];
   const samples = new Map((sampleIds.length ? await m.find(SampleEntity, { where: { id: In(sampleIds) } }) : []).map((x) => [x.id, x]));
-  const sampleRuns: Array<{ sample_id: string; codes: string[] }> = sampleIds.length
-    ? await m.query(`SELECT sample_id, array_agg(code ORDER BY code) AS codes FROM runs WHERE sample_id = ANY($1) GROUP BY sample_id`, [
-        sampleIds,
-      ])
-    : [];
+  const sampleRuns = sampleIds.length ? await runCodesOfSamples(m, sampleIds) : [];
   const codesBySample = new Map(sampleRuns.map((x) => [x.sample_id, x.codes]));
   const userIds = [...new Set(runs.map((r) => r.overrideById).filter((x): x is string => !!x))];
   const users = new Map((userIds.length ? await m.find(UserEntity, { where: { id: In(userIds) } }) : []).map((u) => [u.id, u]));
@@ -135,10 +127,7 @@ function sampleRef(s: SampleEntity | undefined, runCodes: string[]): Run['sample
 /** A sample with its runs and the deviation (who, when, why). */
 export async function sampleView(m: EntityManager, sampleId: string): Promise<SampleView> {
   const s = await m.findOneByOrFail(SampleEntity, { id: sampleId });
-  const runs: Array<{ id: string; code: string; rig_code: string | null; sample_size: number; state: RunState }> = await m.query(
-    `SELECT r.id, r.code, g.code AS rig_code, r.sample_size, r.state FROM runs r LEFT JOIN rigs g ON g.id = r.rig_id WHERE r.sample_id = $1 ORDER BY r.code`,
-    [sampleId],
-  );
+  const runs = await runsOfSample(m, sampleId);
   const by = s.deviationById ? await m.findOneBy(UserEntity, { id: s.deviationById }) : null;
   return {
     id: s.id,
@@ -150,20 +139,7 @@ export async function sampleView(m: EntityManager, sampleId: string): Promise<Sa
 }
 
 export async function runSockets(m: EntityManager, runId: string): Promise<RunSocket[]> {
-  const rows: Array<{
-    socket: number;
-    serial: string;
-    lot: string;
-    hours: number | string;
-    tripped: boolean;
-    reason: string | null;
-    failed: number | string | null;
-  }> = await m.query(
-    `SELECT s.socket_index AS socket, d.serial, l.code AS lot, s.accrued_hours AS hours, s.tripped, s.trip_reason AS reason, s.failed_at_h AS failed
-     FROM run_sockets s JOIN devices d ON d.id = s.device_id JOIN lots l ON l.id = d.lot_id
-     WHERE s.run_id = $1 ORDER BY s.socket_index`,
-    [runId],
-  );
+  const rows = await runSocketRows(m, runId);
   return rows.map((x) => ({
     socket: Number(x.socket),
     serial: x.serial,
@@ -187,15 +163,9 @@ export async function runAudit(m: EntityManager, runId: string): Promise<RunAudi
   }));
 }
 
-const ON_RIG_IN_SQL = sqlStateList(ON_RIG_STATES);
-
 /** Sockets of the rig held by other runs that sit on it now. */
 export async function socketsTakenOnRig(m: EntityManager, rigId: string, exceptRunId: string): Promise<Map<number, string>> {
-  const rows: Array<{ socket_index: number; code: string }> = await m.query(
-    `SELECT s.socket_index, r.code FROM run_sockets s JOIN runs r ON r.id = s.run_id
-     WHERE r.rig_id = $1 AND r.id <> $2 AND r.state IN ${ON_RIG_IN_SQL}`,
-    [rigId, exceptRunId],
-  );
+  const rows = await socketsHeldOnRig(m, rigId, exceptRunId);
   return new Map(rows.map((x) => [Number(x.socket_index), x.code]));
 }
 

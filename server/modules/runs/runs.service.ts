@@ -17,7 +17,7 @@ import {
   type RunNeeds,
   type TimingOptions,
 } from '../../../shared/scheduling';
-import { DRIVEN_STATES, sqlStateList } from '../../../shared/domain/run-states';
+import { DRIVEN_STATES } from '../../../shared/domain/run-states';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import {
   allowedActions,
@@ -63,6 +63,7 @@ import { maxSeq } from './telemetry-reads';
 import { emitRunEvent, type PendingRunEvent } from './run-events';
 import { planRef, sampleView, socketsTakenOnRig, toRunDetail, toRuns } from './run-view';
 import { loadSchedulingInputs, projectedWindow, SCHEDULED_STATES, timingFrom } from './scheduling-data';
+import { advisoryXactLock, bumpRunRowVersion, devicesBySerial, devicesInOpenRuns, timelineRuns } from './runs.data';
 
 /** Serialises bookings (one transaction at a time decides who gets a rig window). */
 const BOOKING_LOCK = 478_001;
@@ -124,14 +125,7 @@ export class RunsService {
     const t = this.timing;
     const rigs = await m.find(RigEntity, { order: { code: 'ASC' } });
     const recentMs = 14 * 24 * t.msPerClockH;
-    const runs = await m
-      .createQueryBuilder(RunEntity, 'r')
-      .where('r.rigId IS NOT NULL')
-      .andWhere('(r.state IN (:...open) OR (r.finishedAt IS NOT NULL AND r.finishedAt > :recent))', {
-        open: [...SCHEDULED_STATES],
-        recent: new Date(now - recentMs),
-      })
-      .getMany();
+    const runs = await timelineRuns(m, SCHEDULED_STATES, new Date(now - recentMs));
     const plans = new Map(
       (runs.length ? await m.find(StressPlanEntity, { where: { id: In([...new Set(runs.map((r) => r.planId))]) } }) : []).map((p) => [
         p.id,
@@ -283,7 +277,7 @@ export class RunsService {
 
   private async bookParts(actor: SessionUser, input: BookSampleInput): Promise<{ sample: SampleEntity; runs: RunEntity[] }> {
     return this.ds.transaction(async (m) => {
-      await m.query('SELECT pg_advisory_xact_lock($1)', [BOOKING_LOCK]);
+      await advisoryXactLock(m, BOOKING_LOCK);
       const total = input.parts.reduce((a, p) => a + p.sampleSize, 0);
       const { plan, type, lots, problems, blockingFindings } = await this.requestContext(m, {
         planId: input.planId,
@@ -537,7 +531,7 @@ export class RunsService {
       if (run.state === 'booked') {
         ev = await transitionRun(m, this.deps, run, rig, 'loading', {}, { actor, action: 'run.load', details });
       } else {
-        await m.query(`UPDATE runs SET row_version = row_version + 1, updated_at = now() WHERE id = $1`, [run.id]);
+        await bumpRunRowVersion(m, run.id);
         await this.ctx.audit.record({ actor, action: 'run.load', entity: 'run', entityId: run.id, details }, m);
       }
       result.stored = true;
@@ -560,17 +554,12 @@ export class RunsService {
     const lotIds = new Set(runLots.map((l) => l.lotId));
     const lots = await m.find(LotEntity, { where: { id: In([...lotIds]) }, order: { code: 'ASC' } });
     const serials = [...new Set(entries.map((e) => e.serial).filter(Boolean))];
-    const devices: Array<{ id: string; serial: string; lot_id: string; lot_code: string }> = serials.length
-      ? await m.query(
-          `SELECT d.id, d.serial, d.lot_id, l.code AS lot_code FROM devices d JOIN lots l ON l.id = d.lot_id WHERE d.serial = ANY($1)`,
-          [serials],
-        )
-      : [];
-    const busy: Array<{ device_id: string; code: string }> = devices.length
-      ? await m.query(
-          `SELECT s.device_id, r.code FROM run_sockets s JOIN runs r ON r.id = s.run_id
-           WHERE s.device_id = ANY($1) AND r.id <> $2 AND r.state NOT IN ${sqlStateList(TERMINAL_STATES)}`,
-          [devices.map((d) => d.id), run.id],
+    const devices = serials.length ? await devicesBySerial(m, serials) : [];
+    const busy = devices.length
+      ? await devicesInOpenRuns(
+          m,
+          devices.map((d) => d.id),
+          run.id,
         )
       : [];
     const busyBy = new Map(busy.map((b) => [b.device_id, b.code]));
