@@ -99,14 +99,11 @@ export function readPointClock(startedAt: Date, readPointsH: number[]) {
   );
 }
 
-/** Insert a run with its lots, socket map and generated readings. */
-export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Promise<RunEntity> {
-  const plannedH = [...s.plan.readPointsH].sort((a, b) => a - b);
-  const clock = readPointClock(s.startedAt, plannedH);
-  const lastDone = s.measuredH.filter((h) => h > 0).pop();
-  const biasRemovedAt = lastDone !== undefined ? clock.get(lastDone)!.biasOff : null;
-  const finishedAt = s.state === 'finished' ? (biasRemovedAt ?? new Date(s.startedAt.getTime() + s.stressHours * H)) : null;
-  const deviceCount = s.lots.reduce((n, l) => n + l.devices.length, 0);
+type HistorySocket = { device: DeviceEntity; socketIndex: number; drift: LotDrift; lotCode: string };
+type MeasurementRow = Partial<Omit<MeasurementEntity, 'run' | 'device'>>;
+
+/** The run's sample: the one it joins (booked size grows) or a new one, with the deviation when short. */
+async function historySample(m: EntityManager, s: HistoryRunSpec, deviceCount: number): Promise<string> {
   let sampleId = s.sampleId;
   if (sampleId) {
     await m.query(`UPDATE samples SET booked_size = booked_size + $2 WHERE id = $1`, [sampleId, deviceCount]);
@@ -125,6 +122,18 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
     );
     sampleId = sample.id;
   }
+  return sampleId;
+}
+
+/** Insert a run with its lots, socket map and generated readings. */
+export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Promise<RunEntity> {
+  const plannedH = [...s.plan.readPointsH].sort((a, b) => a - b);
+  const clock = readPointClock(s.startedAt, plannedH);
+  const lastDone = s.measuredH.filter((h) => h > 0).pop();
+  const biasRemovedAt = lastDone !== undefined ? clock.get(lastDone)!.biasOff : null;
+  const finishedAt = s.state === 'finished' ? (biasRemovedAt ?? new Date(s.startedAt.getTime() + s.stressHours * H)) : null;
+  const deviceCount = s.lots.reduce((n, l) => n + l.devices.length, 0);
+  const sampleId = await historySample(m, s, deviceCount);
   const run = await m.save(
     m.create(RunEntity, {
       sampleId,
@@ -150,8 +159,26 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
     RunLotEntity,
     s.lots.map((l) => ({ runId: run.id, lotId: l.lot.id })),
   );
+  const sockets = await insertHistorySockets(m, s, run, plannedH);
+  const rows = sockets.flatMap((x) => deviceReadings(s, run, x, clock));
+  for (let i = 0; i < rows.length; i += 500) await m.insert(MeasurementEntity, rows.slice(i, i + 500));
+  await refreshConditionFlags(m, run.id);
+  if (s.confirmFlags) {
+    const flagged = await m.query(
+      `UPDATE measurements SET confirmed_at = measured_at + interval '2 hours', confirmed_by_id = $2, confirm_reason = $3
+       WHERE run_id = $1 AND conditions_flag IS NOT NULL RETURNING id`,
+      [run.id, s.confirmFlags.byId, s.confirmFlags.reason],
+    );
+    void flagged;
+  }
+  await refreshFirstFailures(m, await loadRunBundle(m, run.id));
+  return run;
+}
+
+/** The socket map (tripped sockets keep the hours of their trip) and the removal and trip dispositions. */
+async function insertHistorySockets(m: EntityManager, s: HistoryRunSpec, run: RunEntity, plannedH: number[]): Promise<HistorySocket[]> {
   let socket = 0;
-  const sockets: Array<{ device: DeviceEntity; socketIndex: number; drift: LotDrift; lotCode: string }> = [];
+  const sockets: HistorySocket[] = [];
   for (const l of s.lots)
     for (const d of l.devices) sockets.push({ device: d, socketIndex: socket++, drift: l.drift, lotCode: l.lot.code });
   await m.insert(
@@ -185,10 +212,6 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
       at: new Date(s.startedAt.getTime() + r.atH * H),
     });
   }
-  const afterTrip = (serial: string, h: number) => {
-    const trip = s.trips?.find((tr) => tr.serial === serial);
-    return trip && trip.disposition !== 'reseated' && h > trip.atH;
-  };
   for (const tr of s.trips ?? []) {
     const x = sockets.find((k) => k.device.serial === tr.serial);
     if (!x) continue;
@@ -209,88 +232,83 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
       at: new Date(s.startedAt.getTime() + next * H),
     });
   }
+  return sockets;
+}
 
+/** One device's generated readings (its own seeded noise), skipping what the spec says was never measured. */
+function deviceReadings(s: HistoryRunSpec, run: RunEntity, x: HistorySocket, clock: ReturnType<typeof readPointClock>): MeasurementRow[] {
+  const afterTrip = (serial: string, h: number) => {
+    const trip = s.trips?.find((tr) => tr.serial === serial);
+    return trip && trip.disposition !== 'reseated' && h > trip.atH;
+  };
   const noise = s.noise ?? 1;
   const t = s.deviceType;
-  const rows: Array<Partial<Omit<MeasurementEntity, 'run' | 'device'>>> = [];
-  for (const x of sockets) {
-    const rnd = mulberry32(seedOf(`${x.lotCode}/${x.device.serial}`));
-    const z = normal(rnd);
-    const hfe0 = t.betaRef * (1 + 0.08 * noise * z());
-    const slopeScale = 1 + 0.25 * noise * z();
-    const leak0 = (t.icboRefA ?? 20e-9) * Math.exp(0.3 * noise * z());
-    const leakScale = 1 + 0.15 * noise * z();
-    const vce0 = 0.22 + 0.02 * noise * z();
-    const bv0 = (t.bvceoV ?? t.bvcboV / 2) * (1.15 + 0.03 * noise * z());
-    for (const h of s.measuredH) {
-      if (afterTrip(x.device.serial, h)) continue;
-      if (s.removed?.some((r) => r.serial === x.device.serial && h >= r.atH)) continue;
-      if (s.missing?.some((mi) => mi.serial === x.device.serial && mi.atH === h)) continue;
-      const dead = s.catastrophic?.find((c) => c.serial === x.device.serial && h >= c.atH);
-      if (dead && h > dead.atH) continue; // dead at an earlier read point: nothing more to measure
-      const fail = s.failures?.find((f) => f.serial === x.device.serial && h >= f.atH);
-      let hfe = hfe0 * (1 + (x.drift.hfeDriftPctPer1000h * (h / 1000) * slopeScale + 0.4 * noise * z() * (h > 0 ? 1 : 0)) / 100);
-      let icbo = leak0 * Math.pow(x.drift.leakageGrowthPer1000h, (h / 1000) * leakScale) * (h > 0 ? Math.exp(0.05 * noise * z()) : 1);
-      if (fail?.mode === 'leakage') icbo *= 40;
-      if (fail?.mode === 'gain') hfe *= 0.78;
-      const warm = s.warm && s.warm.atH === h && s.warm.serials.includes(x.device.serial) ? s.warm.tempC : null;
-      const measuredC = warm ?? t.betaRefTC;
-      // A warm tester reads a higher gain: β(T) = β_ref·(T/T_ref)^XTB.
-      if (warm !== null) hfe *= Math.pow((warm + 273.15) / (t.betaRefTC + 273.15), t.xtb);
-      const late = s.late?.some((l) => l.serial === x.device.serial && l.atH === h) ?? false;
-      const when = clock.get(h)!;
-      if (dead) {
-        rows.push({
-          runId: run.id,
-          deviceId: x.device.id,
-          readPointH: h,
-          result: dead.result,
-          hfe: null,
-          hfeIcA: null,
-          hfeVceV: null,
-          icboA: null,
-          icboVcbV: null,
-          vcesatV: null,
-          bvceoV: null,
-          measuredC,
-          measuredAt: when.measured,
-          late: false,
-          uploadId: null,
-          enteredById: s.createdById ?? null,
-        });
-        continue;
-      }
+  const rows: MeasurementRow[] = [];
+  const rnd = mulberry32(seedOf(`${x.lotCode}/${x.device.serial}`));
+  const z = normal(rnd);
+  const hfe0 = t.betaRef * (1 + 0.08 * noise * z());
+  const slopeScale = 1 + 0.25 * noise * z();
+  const leak0 = (t.icboRefA ?? 20e-9) * Math.exp(0.3 * noise * z());
+  const leakScale = 1 + 0.15 * noise * z();
+  const vce0 = 0.22 + 0.02 * noise * z();
+  const bv0 = (t.bvceoV ?? t.bvcboV / 2) * (1.15 + 0.03 * noise * z());
+  for (const h of s.measuredH) {
+    if (afterTrip(x.device.serial, h)) continue;
+    if (s.removed?.some((r) => r.serial === x.device.serial && h >= r.atH)) continue;
+    if (s.missing?.some((mi) => mi.serial === x.device.serial && mi.atH === h)) continue;
+    const dead = s.catastrophic?.find((c) => c.serial === x.device.serial && h >= c.atH);
+    if (dead && h > dead.atH) continue; // dead at an earlier read point: nothing more to measure
+    const fail = s.failures?.find((f) => f.serial === x.device.serial && h >= f.atH);
+    let hfe = hfe0 * (1 + (x.drift.hfeDriftPctPer1000h * (h / 1000) * slopeScale + 0.4 * noise * z() * (h > 0 ? 1 : 0)) / 100);
+    let icbo = leak0 * Math.pow(x.drift.leakageGrowthPer1000h, (h / 1000) * leakScale) * (h > 0 ? Math.exp(0.05 * noise * z()) : 1);
+    if (fail?.mode === 'leakage') icbo *= 40;
+    if (fail?.mode === 'gain') hfe *= 0.78;
+    const warm = s.warm && s.warm.atH === h && s.warm.serials.includes(x.device.serial) ? s.warm.tempC : null;
+    const measuredC = warm ?? t.betaRefTC;
+    // A warm tester reads a higher gain: β(T) = β_ref·(T/T_ref)^XTB.
+    if (warm !== null) hfe *= Math.pow((warm + 273.15) / (t.betaRefTC + 273.15), t.xtb);
+    const late = s.late?.some((l) => l.serial === x.device.serial && l.atH === h) ?? false;
+    const when = clock.get(h)!;
+    if (dead) {
       rows.push({
         runId: run.id,
         deviceId: x.device.id,
         readPointH: h,
-        hfe: +hfe.toFixed(2),
-        hfeIcA: t.betaRefIcA,
-        hfeVceV: 5,
-        icboA: +icbo.toPrecision(4),
-        icboVcbV: Math.round(t.bvcboV * 0.8),
-        vcesatV: +(vce0 + (0.001 * (h / 1000) + 0.001 * noise * z()) * (h > 0 ? 1 : 0)).toFixed(4),
-        bvceoV: +bv0.toFixed(1),
+        result: dead.result,
+        hfe: null,
+        hfeIcA: null,
+        hfeVceV: null,
+        icboA: null,
+        icboVcbV: null,
+        vcesatV: null,
+        bvceoV: null,
         measuredC,
-        measuredAt: late ? new Date(when.biasOff.getTime() + 100 * H) : when.measured,
-        late: h > 0 && late,
+        measuredAt: when.measured,
+        late: false,
         uploadId: null,
         enteredById: s.createdById ?? null,
       });
+      continue;
     }
+    rows.push({
+      runId: run.id,
+      deviceId: x.device.id,
+      readPointH: h,
+      hfe: +hfe.toFixed(2),
+      hfeIcA: t.betaRefIcA,
+      hfeVceV: 5,
+      icboA: +icbo.toPrecision(4),
+      icboVcbV: Math.round(t.bvcboV * 0.8),
+      vcesatV: +(vce0 + (0.001 * (h / 1000) + 0.001 * noise * z()) * (h > 0 ? 1 : 0)).toFixed(4),
+      bvceoV: +bv0.toFixed(1),
+      measuredC,
+      measuredAt: late ? new Date(when.biasOff.getTime() + 100 * H) : when.measured,
+      late: h > 0 && late,
+      uploadId: null,
+      enteredById: s.createdById ?? null,
+    });
   }
-  for (let i = 0; i < rows.length; i += 500) await m.insert(MeasurementEntity, rows.slice(i, i + 500));
-  await refreshConditionFlags(m, run.id);
-  if (s.confirmFlags) {
-    const flagged = await m.query(
-      `UPDATE measurements SET confirmed_at = measured_at + interval '2 hours', confirmed_by_id = $2, confirm_reason = $3
-       WHERE run_id = $1 AND conditions_flag IS NOT NULL RETURNING id`,
-      [run.id, s.confirmFlags.byId, s.confirmFlags.reason],
-    );
-    void flagged;
-  }
-  await refreshFirstFailures(m, await loadRunBundle(m, run.id));
-  return run;
+  return rows;
 }
 
 /** A current plan of this type and kind (not a draft), else any current one, else a minimal new one. */

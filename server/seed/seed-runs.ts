@@ -98,13 +98,8 @@ const DEMO_LIVE_RUNS: DemoLiveRun[] = [
   },
 ];
 
-async function insertLiveRun(
-  m: EntityManager,
-  s: DemoLiveRun,
-  engineer: UserEntity | null,
-  operator: UserEntity | null,
-  log: (l: string) => void,
-) {
+/** The run's part, rig, lots and plan, when the demo data has them and the rig can take the run; else null (logged). */
+async function liveRunTarget(m: EntityManager, s: DemoLiveRun, log: (l: string) => void) {
   const type = await m.findOne(DeviceTypeEntity, { where: { partNumber: s.partNumber } });
   const rig = await m.findOne(RigEntity, { where: { code: s.rig } });
   const lots = await m.find(LotEntity, { where: { code: In(s.lots) }, order: { code: 'ASC' } });
@@ -127,7 +122,19 @@ async function insertLiveRun(
   if (refusals.length) return log(`[seed] runs: ${s.code} skipped: ${refusals.join(' ')}`);
   const busy = await m.count(RunEntity, { where: { rigId: rig.id, state: In([...ON_RIG_STATES]) } });
   if (busy && s.state !== 'booked') return log(`[seed] runs: ${s.code} skipped (${rig.code} is in use)`);
+  return { rig, lots, plan, sampleSize };
+}
 
+async function insertLiveRun(
+  m: EntityManager,
+  s: DemoLiveRun,
+  engineer: UserEntity | null,
+  operator: UserEntity | null,
+  log: (l: string) => void,
+) {
+  const target = await liveRunTarget(m, s, log);
+  if (!target) return;
+  const { rig, lots, plan, sampleSize } = target;
   const timing = timingFrom(configFromEnv());
   const now = Date.now();
   const hours = s.stressHours ?? 0;

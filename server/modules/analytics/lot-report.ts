@@ -167,6 +167,123 @@ export function pdfText(s: string): string {
 const fmt = (v: number | null | undefined, digits = 3) =>
   v === null || v === undefined || !Number.isFinite(v) ? '-' : String(+v.toPrecision(digits));
 
+type Pdf = PDFKit.PDFDocument;
+/** Writes one paragraph in the current font, spelled for the standard PDF fonts. */
+type Write = (s: string, opts?: PDFKit.Mixins.TextOptions) => Pdf;
+
+function writeHeading(doc: Pdf, t: Write, d: LotDetail, extra: { notes: string; generatedAt: Date }) {
+  doc.font('Helvetica-Bold').fontSize(18);
+  t(`Lot ${d.lotCode} - drift report`);
+  doc.font('Helvetica').fontSize(9).fillColor('#555555');
+  t(`Generated ${formatUtc(extra.generatedAt)} by Emberlot`);
+  doc.moveDown(0.8).fillColor('#000000').fontSize(10);
+  t(`Device type: ${d.partNumber}    Date code: ${d.dateCode || '-'}`);
+  if (extra.notes) t(`Lot notes: ${extra.notes}`);
+  t(
+    d.plan
+      ? `Plan: ${d.plan.name} (${d.plan.kind.toUpperCase()}, chamber ${d.plan.chamberC} °C, ${d.plan.durationH} h, n ${d.plan.sampleSize}, accept ${d.plan.acceptNumber})`
+      : 'Plan: none',
+  );
+  t(d.run ? `Run: ${d.run.code}, ${d.run.state}, ${fmt(d.run.stressHours, 5)} stress hours` : 'Run: none');
+  if (d.criteria) {
+    t(
+      `Criteria: hFE within ±${d.criteria.hfeChangePct} %; ICBO change <= max(${d.criteria.leakageMultiple - 1}× initial, ${fmt(d.criteria.leakageFloorA * 1e9)} nA); VCE(sat) shift <= ${fmt(d.criteria.vcesatShiftV * 1000)} mV`,
+    );
+  }
+}
+
+function writeVerdict(doc: Pdf, t: Write, d: LotDetail) {
+  doc.moveDown(0.8).font('Helvetica-Bold').fontSize(13);
+  t(`Verdict: ${LOT_VERDICT_LABEL[d.verdict]}`);
+  for (const p of d.plans) {
+    t(
+      `${p.planName}: ${LOT_VERDICT_LABEL[p.verdict]} (${p.sample.judged} of ${p.sample.planned} devices judged, ${p.sample.failures} failed)`,
+      { indent: 8 },
+    );
+  }
+  doc.font('Helvetica').fontSize(10);
+  for (const r of d.reasons) t(`- ${r}`, { indent: 8 });
+  if (d.gainReference.normalisedReadings > 0) {
+    t(
+      `${d.gainReference.normalisedReadings} hFE readings were measured away from ${d.gainReference.referenceC} °C and referred to it (XTB ${d.gainReference.xtb}).`,
+    );
+  }
+}
+
+function writeDriftTable(doc: Pdf, t: Write, d: LotDetail) {
+  doc.moveDown(0.8).font('Helvetica-Bold').fontSize(12);
+  t('Drift per read point');
+  doc.font('Helvetica').fontSize(8.5);
+  const cols = ['Hours', 'Devices', 'Late', 'hFE mean %', 'hFE sd', 'hFE p5', 'hFE p95', 'ICBO x med', 'ICBO x p95', 'VCEsat mV', 'Fails'];
+  const widths = [40, 42, 30, 52, 40, 40, 40, 52, 52, 52, 34];
+  const row = (cells: string[], bold = false) => {
+    const y = doc.y;
+    let x = doc.page.margins.left;
+    doc.font(bold ? 'Helvetica-Bold' : 'Helvetica');
+    cells.forEach((c, i) => {
+      doc.text(pdfText(c), x, y, { width: widths[i] - 4, lineBreak: false });
+      x += widths[i];
+    });
+    doc.x = doc.page.margins.left;
+    doc.y = y + 13;
+  };
+  row(cols, true);
+  for (const r of d.readPoints) {
+    row([
+      fmt(r.hours, 5),
+      String(r.devicesMeasured),
+      String(r.late),
+      fmt(r.hfeChangePct?.mean),
+      fmt(r.hfeChangePct?.sd),
+      fmt(r.hfeChangePct?.p5),
+      fmt(r.hfeChangePct?.p95),
+      fmt(r.icboRatio?.median),
+      fmt(r.icboRatio?.p95),
+      fmt(r.vcesatShiftMv?.mean),
+      String(r.cumulativeFails),
+    ]);
+  }
+}
+
+function writeTrends(doc: Pdf, t: Write, d: LotDetail) {
+  doc.moveDown(0.8).font('Helvetica-Bold').fontSize(12);
+  t('Trend and pseudo-failure time');
+  doc.font('Helvetica').fontSize(10);
+  for (const tr of d.trends) {
+    t(
+      `${PARAM[tr.parameter]}: ${tr.model === 'log-ratio-origin' ? 'ln(ratio)' : 'change'} = ${fmt(tr.slopePerHour, 4)} per hour (line through the origin); limit ${fmt(tr.limit)}; ` +
+        (tr.pseudoFailureH === null ? 'no crossing projected.' : `crossing at ${fmt(tr.pseudoFailureH, 4)} h.`),
+    );
+  }
+}
+
+function writeFailureRate(doc: Pdf, t: Write, d: LotDetail) {
+  doc.moveDown(0.8).font('Helvetica-Bold').fontSize(12);
+  t('Failure rate');
+  doc.font('Helvetica').fontSize(10);
+  if (d.fit) {
+    t(
+      `${d.fit.failures} failures in ${d.fit.devices} devices × ${fmt(d.fit.hoursEach, 5)} h = ${fmt(d.fit.deviceHours, 6)} device-hours; ` +
+        `acceleration factor ${fmt(d.fit.accelerationFactor, 4)} (Ea ${d.fit.constants.eaEv} eV, use ${d.fit.constants.useC} °C, stress ${fmt(d.fit.constants.stressC, 4)} °C, ${d.fit.constants.stressBasis}).`,
+    );
+    t(`FIT upper bound: ${fmt(d.fit.fit60, 4)} at 60 % confidence, ${fmt(d.fit.fit90, 4)} at 90 % (${d.fit.method}).`);
+    t(`k = ${d.fit.constants.boltzmannEvPerK} eV/K (${d.fit.constants.source}), T(K) = T(°C) + ${d.fit.constants.kelvinOffset}.`);
+  } else t('No read point after time zero yet.');
+}
+
+function writeFailedDevices(doc: Pdf, t: Write, d: LotDetail) {
+  const failed = d.devices.filter((x) => x.firstFailedH !== null);
+  if (failed.length) {
+    doc.moveDown(0.8).font('Helvetica-Bold').fontSize(12);
+    t('Failed devices');
+    doc.font('Helvetica').fontSize(10);
+    for (const x of failed)
+      t(
+        `${x.serial} (socket ${x.socketIndex}): first failed at ${fmt(x.firstFailedH, 5)} h - ${x.failedParameters.map((p) => PARAM[p]).join(', ')}`,
+      );
+  }
+}
+
 export function lotReportPdf(d: LotDetail, extra: { notes: string; generatedAt: Date }): Promise<Buffer> {
   return new Promise((resolve, reject) => {
     const doc = new PDFDocument({ size: 'A4', margin: 48, info: { Title: `Lot ${d.lotCode} drift report`, Author: 'Emberlot' } });
@@ -174,120 +291,14 @@ export function lotReportPdf(d: LotDetail, extra: { notes: string; generatedAt: 
     doc.on('data', (c: Buffer) => chunks.push(c));
     doc.on('end', () => resolve(Buffer.concat(chunks)));
     doc.on('error', reject);
-    const t = (s: string, opts?: PDFKit.Mixins.TextOptions) => doc.text(pdfText(s), opts);
+    const t: Write = (s, opts) => doc.text(pdfText(s), opts);
 
-    doc.font('Helvetica-Bold').fontSize(18);
-    t(`Lot ${d.lotCode} - drift report`);
-    doc.font('Helvetica').fontSize(9).fillColor('#555555');
-    t(`Generated ${formatUtc(extra.generatedAt)} by Emberlot`);
-    doc.moveDown(0.8).fillColor('#000000').fontSize(10);
-    t(`Device type: ${d.partNumber}    Date code: ${d.dateCode || '-'}`);
-    if (extra.notes) t(`Lot notes: ${extra.notes}`);
-    t(
-      d.plan
-        ? `Plan: ${d.plan.name} (${d.plan.kind.toUpperCase()}, chamber ${d.plan.chamberC} °C, ${d.plan.durationH} h, n ${d.plan.sampleSize}, accept ${d.plan.acceptNumber})`
-        : 'Plan: none',
-    );
-    t(d.run ? `Run: ${d.run.code}, ${d.run.state}, ${fmt(d.run.stressHours, 5)} stress hours` : 'Run: none');
-    if (d.criteria) {
-      t(
-        `Criteria: hFE within ±${d.criteria.hfeChangePct} %; ICBO change <= max(${d.criteria.leakageMultiple - 1}× initial, ${fmt(d.criteria.leakageFloorA * 1e9)} nA); VCE(sat) shift <= ${fmt(d.criteria.vcesatShiftV * 1000)} mV`,
-      );
-    }
-
-    doc.moveDown(0.8).font('Helvetica-Bold').fontSize(13);
-    t(`Verdict: ${LOT_VERDICT_LABEL[d.verdict]}`);
-    for (const p of d.plans) {
-      t(
-        `${p.planName}: ${LOT_VERDICT_LABEL[p.verdict]} (${p.sample.judged} of ${p.sample.planned} devices judged, ${p.sample.failures} failed)`,
-        { indent: 8 },
-      );
-    }
-    doc.font('Helvetica').fontSize(10);
-    for (const r of d.reasons) t(`- ${r}`, { indent: 8 });
-    if (d.gainReference.normalisedReadings > 0) {
-      t(
-        `${d.gainReference.normalisedReadings} hFE readings were measured away from ${d.gainReference.referenceC} °C and referred to it (XTB ${d.gainReference.xtb}).`,
-      );
-    }
-
-    doc.moveDown(0.8).font('Helvetica-Bold').fontSize(12);
-    t('Drift per read point');
-    doc.font('Helvetica').fontSize(8.5);
-    const cols = [
-      'Hours',
-      'Devices',
-      'Late',
-      'hFE mean %',
-      'hFE sd',
-      'hFE p5',
-      'hFE p95',
-      'ICBO x med',
-      'ICBO x p95',
-      'VCEsat mV',
-      'Fails',
-    ];
-    const widths = [40, 42, 30, 52, 40, 40, 40, 52, 52, 52, 34];
-    const row = (cells: string[], bold = false) => {
-      const y = doc.y;
-      let x = doc.page.margins.left;
-      doc.font(bold ? 'Helvetica-Bold' : 'Helvetica');
-      cells.forEach((c, i) => {
-        doc.text(pdfText(c), x, y, { width: widths[i] - 4, lineBreak: false });
-        x += widths[i];
-      });
-      doc.x = doc.page.margins.left;
-      doc.y = y + 13;
-    };
-    row(cols, true);
-    for (const r of d.readPoints) {
-      row([
-        fmt(r.hours, 5),
-        String(r.devicesMeasured),
-        String(r.late),
-        fmt(r.hfeChangePct?.mean),
-        fmt(r.hfeChangePct?.sd),
-        fmt(r.hfeChangePct?.p5),
-        fmt(r.hfeChangePct?.p95),
-        fmt(r.icboRatio?.median),
-        fmt(r.icboRatio?.p95),
-        fmt(r.vcesatShiftMv?.mean),
-        String(r.cumulativeFails),
-      ]);
-    }
-
-    doc.moveDown(0.8).font('Helvetica-Bold').fontSize(12);
-    t('Trend and pseudo-failure time');
-    doc.font('Helvetica').fontSize(10);
-    for (const tr of d.trends) {
-      t(
-        `${PARAM[tr.parameter]}: ${tr.model === 'log-ratio-origin' ? 'ln(ratio)' : 'change'} = ${fmt(tr.slopePerHour, 4)} per hour (line through the origin); limit ${fmt(tr.limit)}; ` +
-          (tr.pseudoFailureH === null ? 'no crossing projected.' : `crossing at ${fmt(tr.pseudoFailureH, 4)} h.`),
-      );
-    }
-
-    doc.moveDown(0.8).font('Helvetica-Bold').fontSize(12);
-    t('Failure rate');
-    doc.font('Helvetica').fontSize(10);
-    if (d.fit) {
-      t(
-        `${d.fit.failures} failures in ${d.fit.devices} devices × ${fmt(d.fit.hoursEach, 5)} h = ${fmt(d.fit.deviceHours, 6)} device-hours; ` +
-          `acceleration factor ${fmt(d.fit.accelerationFactor, 4)} (Ea ${d.fit.constants.eaEv} eV, use ${d.fit.constants.useC} °C, stress ${fmt(d.fit.constants.stressC, 4)} °C, ${d.fit.constants.stressBasis}).`,
-      );
-      t(`FIT upper bound: ${fmt(d.fit.fit60, 4)} at 60 % confidence, ${fmt(d.fit.fit90, 4)} at 90 % (${d.fit.method}).`);
-      t(`k = ${d.fit.constants.boltzmannEvPerK} eV/K (${d.fit.constants.source}), T(K) = T(°C) + ${d.fit.constants.kelvinOffset}.`);
-    } else t('No read point after time zero yet.');
-
-    const failed = d.devices.filter((x) => x.firstFailedH !== null);
-    if (failed.length) {
-      doc.moveDown(0.8).font('Helvetica-Bold').fontSize(12);
-      t('Failed devices');
-      doc.font('Helvetica').fontSize(10);
-      for (const x of failed)
-        t(
-          `${x.serial} (socket ${x.socketIndex}): first failed at ${fmt(x.firstFailedH, 5)} h - ${x.failedParameters.map((p) => PARAM[p]).join(', ')}`,
-        );
-    }
+    writeHeading(doc, t, d, extra);
+    writeVerdict(doc, t, d);
+    writeDriftTable(doc, t, d);
+    writeTrends(doc, t, d);
+    writeFailureRate(doc, t, d);
+    writeFailedDevices(doc, t, d);
 
     doc.moveDown(1.2).font('Helvetica-Oblique').fontSize(9).fillColor('#7a4b00');
     t(`Caution: ${d.caution}`);

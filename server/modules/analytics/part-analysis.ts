@@ -231,6 +231,27 @@ export async function loadPart(m: EntityManager, typeId: string): Promise<PartDa
   );
   const runIds = [...new Set(runLots.map((r) => r.runId))];
   if (!runIds.length) return { ...empty, runLots };
+  const { runRows, planRows, sampleRows } = await loadRunRows(m, runIds);
+  const devicesByRun = await loadSocketMaps(m, runIds);
+  const { readingsByRun, extrasByRun } = await loadReadings(m, runIds);
+  const dispositions = await loadDispositions(m, runIds);
+  return {
+    type,
+    lots,
+    runLots,
+    runs: new Map(runRows.map((r) => [r.id, r])),
+    plans: new Map(planRows.map((p) => [p.id, p])),
+    devicesByRun,
+    readingsByRun,
+    extrasByRun,
+    samples: new Map(sampleRows.map((x) => [x.id, x])),
+    dispositions,
+    sockets: await socketHours(m, runIds),
+  };
+}
+
+/** The runs, their plans and their linked samples. */
+async function loadRunRows(m: EntityManager, runIds: string[]) {
   const runRows: RunRow[] = await m.query(
     `SELECT u.id, u.code, u.state, u.stress_hours AS "stressHours", u.plan_id AS "planId", u.created_at AS "createdAt", u.sample_id AS "sampleId", g.code AS "rigCode"
        FROM runs u LEFT JOIN rigs g ON g.id = u.rig_id WHERE u.id = ANY($1::uuid[])`,
@@ -250,7 +271,11 @@ export async function loadPart(m: EntityManager, typeId: string): Promise<PartDa
         [sampleIds],
       )
     : [];
-  // The socket map as one JSON text per run (socket order), like the readings below.
+  return { runRows, planRows, sampleRows };
+}
+
+/** The runs' socket maps: one JSON text per run (socket order), like the readings. */
+async function loadSocketMaps(m: EntityManager, runIds: string[]): Promise<Map<string, SocketDevice[]>> {
   const socketMaps: Array<{ runId: string; devices: string }> = await m.query(
     `SELECT s.run_id AS "runId", json_agg(json_build_array(s.socket_index, s.device_id, d.serial, d.lot_id, l.code) ORDER BY s.socket_index)::text AS devices
        FROM run_sockets s JOIN devices d ON d.id = s.device_id JOIN lots l ON l.id = d.lot_id
@@ -266,6 +291,11 @@ export async function loadPart(m: EntityManager, typeId: string): Promise<PartDa
       rows.map(([socketIndex, deviceId, serial, lotId, lotCode]) => ({ deviceId, serial, lotId, lotCode, socketIndex })),
     );
   }
+  return devicesByRun;
+}
+
+/** The runs' readings, split into what drift reads and what the verdict adds. */
+async function loadReadings(m: EntityManager, runIds: string[]) {
   // One JSON text per run, a reading as [device, h, hFE, ICBO, VCE(sat), °C, late, …what the verdict
   // adds]: PostgreSQL does the per-value text work either way, but one JSON.parse per run costs a
   // fraction of node-pg building ~40 k row objects field by field.
@@ -327,6 +357,11 @@ export async function loadPart(m: EntityManager, typeId: string): Promise<PartDa
       })),
     );
   }
+  return { readingsByRun, extrasByRun };
+}
+
+/** The runs' device dispositions (times as ISO text). */
+async function loadDispositions(m: EntityManager, runIds: string[]): Promise<DispositionRow[]> {
   const dispositions: DispositionRow[] = (
     await m.query(
       `SELECT run_id AS "runId", device_id AS "deviceId", read_point_h AS "readPointH", kind, reason, by_name AS "byName", at FROM device_dispositions WHERE run_id = ANY($1::uuid[])`,
@@ -337,19 +372,7 @@ export async function loadPart(m: EntityManager, typeId: string): Promise<PartDa
     readPointH: num(d.readPointH)!,
     at: new Date(d.at).toISOString(),
   }));
-  return {
-    type,
-    lots,
-    runLots,
-    runs: new Map(runRows.map((r) => [r.id, r])),
-    plans: new Map(planRows.map((p) => [p.id, p])),
-    devicesByRun,
-    readingsByRun,
-    extrasByRun,
-    samples: new Map(sampleRows.map((x) => [x.id, x])),
-    dispositions,
-    sockets: await socketHours(m, runIds),
-  };
+  return dispositions;
 }
 
 /** Credited hours and trips of the runs' sockets, keyed run:device. */
@@ -544,8 +567,18 @@ function planConditions(plan: PlanRow): PlanEvidence['plan'] {
   };
 }
 
-function lotEntries(data: PartData): LotEntry[] {
-  const { type, runs, plans, devicesByRun, readingsByRun, extrasByRun } = data;
+/** The sample a run belongs to: its linked sample, else the run alone. */
+const sampleOf = (r: RunRow) => r.sampleId ?? r.id;
+
+function pushTo<K, V>(map: Map<K, V[]>, key: K, value: V) {
+  const list = map.get(key);
+  if (list) list.push(value);
+  else map.set(key, [value]);
+}
+
+/** Lookups over the part's rows that every lot's choice reads. */
+function partIndexes(data: PartData) {
+  const { runs, devicesByRun, readingsByRun } = data;
   const measuredLotsByRun = new Map<string, Set<string>>();
   for (const [rid, ms] of readingsByRun) {
     const lotOf = new Map((devicesByRun.get(rid) ?? []).map((d) => [d.deviceId, d.lotId]));
@@ -557,52 +590,50 @@ function lotEntries(data: PartData): LotEntry[] {
     measuredLotsByRun.set(rid, measured);
   }
   const runIdsByLot = new Map<string, string[]>();
-  for (const rl of data.runLots) {
-    const list = runIdsByLot.get(rl.lotId);
-    if (list) list.push(rl.runId);
-    else runIdsByLot.set(rl.lotId, [rl.runId]);
-  }
-  const sampleOf = (r: RunRow) => r.sampleId ?? r.id;
+  for (const rl of data.runLots) pushTo(runIdsByLot, rl.lotId, rl.runId);
   const runsOfSample = new Map<string, RunRow[]>();
-  for (const r of runs.values()) {
-    const list = runsOfSample.get(sampleOf(r));
-    if (list) list.push(r);
-    else runsOfSample.set(sampleOf(r), [r]);
-  }
+  for (const r of runs.values()) pushTo(runsOfSample, sampleOf(r), r);
   for (const list of runsOfSample.values()) list.sort((a, b) => a.code.localeCompare(b.code));
   const dispositionsOf = new Map<string, DispositionRow[]>();
-  for (const d of data.dispositions) {
-    const k = `${d.runId}:${d.deviceId}`;
-    const list = dispositionsOf.get(k);
-    if (list) list.push(d);
-    else dispositionsOf.set(k, [d]);
-  }
+  for (const d of data.dispositions) pushTo(dispositionsOf, `${d.runId}:${d.deviceId}`, d);
+  return { measuredLotsByRun, runIdsByLot, runsOfSample, dispositionsOf };
+}
 
-  const chosen = data.lots.map((lot) => {
-    const lotRuns = (runIdsByLot.get(lot.id) ?? [])
-      .map((id) => runs.get(id)!)
-      .filter(Boolean)
-      .sort((a, b) => b.createdAt.getTime() - a.createdAt.getTime());
-    const measured = (r: RunRow) => measuredLotsByRun.get(r.id)?.has(lot.id) ?? false;
-    const run = lotRuns.find(measured) ?? lotRuns.find((r) => r.state !== 'aborted') ?? null;
-    // Per plan, the most recent sample with readings of this lot (else the most recent one not aborted).
-    const byPlan = new Map<string, string>();
-    for (const r of lotRuns) if (!byPlan.has(r.planId) && measured(r)) byPlan.set(r.planId, sampleOf(r));
-    for (const r of lotRuns) if (!byPlan.has(r.planId) && r.state !== 'aborted') byPlan.set(r.planId, sampleOf(r));
-    if (run) byPlan.set(run.planId, sampleOf(run));
-    const sampleRunIds = (sid: string) => (runsOfSample.get(sid) ?? []).filter((r) => lotRuns.includes(r)).map((r) => r.id);
-    const primaryRunIds = run ? sampleRunIds(sampleOf(run)) : [];
-    const sampleIds = [...byPlan.values()];
-    const used = new Set(sampleIds.flatMap(sampleRunIds));
-    return { lot, lotRuns, run, primaryRunIds, sampleIds, sampleRunIds, used };
-  });
+type PartIndexes = ReturnType<typeof partIndexes>;
 
-  // A run's drift covers all its lots' devices: computed once, and dropped after its last lot so
-  // the drift views (several kB per device) never pile up for the whole part.
+/** A lot's runs, its primary run and, per plan, the sample its evidence comes from. */
+function chooseLotRuns(data: PartData, ix: PartIndexes, lot: LotRow) {
+  const { runs } = data;
+  const lotRuns = (ix.runIdsByLot.get(lot.id) ?? [])
+    .map((id) => runs.get(id)!)
+    .filter(Boolean)
+    .sort((a, b) => b.createdAt.getTime() - a.createdAt.getTime());
+  const measured = (r: RunRow) => ix.measuredLotsByRun.get(r.id)?.has(lot.id) ?? false;
+  const run = lotRuns.find(measured) ?? lotRuns.find((r) => r.state !== 'aborted') ?? null;
+  // Per plan, the most recent sample with readings of this lot (else the most recent one not aborted).
+  const byPlan = new Map<string, string>();
+  for (const r of lotRuns) if (!byPlan.has(r.planId) && measured(r)) byPlan.set(r.planId, sampleOf(r));
+  for (const r of lotRuns) if (!byPlan.has(r.planId) && r.state !== 'aborted') byPlan.set(r.planId, sampleOf(r));
+  if (run) byPlan.set(run.planId, sampleOf(run));
+  const sampleRunIds = (sid: string) => (ix.runsOfSample.get(sid) ?? []).filter((r) => lotRuns.includes(r)).map((r) => r.id);
+  const primaryRunIds = run ? sampleRunIds(sampleOf(run)) : [];
+  const sampleIds = [...byPlan.values()];
+  const used = new Set(sampleIds.flatMap(sampleRunIds));
+  return { lot, lotRuns, run, primaryRunIds, sampleIds, sampleRunIds, used };
+}
+
+type ChosenLot = ReturnType<typeof chooseLotRuns>;
+
+/**
+ * A run's drift covers all its lots' devices: computed once, and dropped after its last lot so
+ * the drift views (several kB per device) never pile up for the whole part.
+ */
+function driftPerRun(data: PartData, chosen: ChosenLot[]) {
+  const { type, plans, devicesByRun, readingsByRun } = data;
   const lotsLeft = new Map<string, number>();
   for (const c of chosen) for (const id of c.primaryRunIds) lotsLeft.set(id, (lotsLeft.get(id) ?? 0) + 1);
   const drift = new Map<string, ReturnType<typeof runDrift>>();
-  const driftOf = (run: RunRow) => {
+  return (run: RunRow) => {
     let d = drift.get(run.id);
     if (!d) {
       const plan = plans.get(run.planId)!;
@@ -617,111 +648,131 @@ function lotEntries(data: PartData): LotEntry[] {
     if (left === 0) drift.delete(run.id);
     return d;
   };
+}
 
-  const gain = { referenceC: type.betaRefTC, xtb: type.xtb };
-  return chosen.map(({ lot, lotRuns, run, primaryRunIds, sampleIds, sampleRunIds, used }) => {
-    const plan = run ? plans.get(run.planId)! : null;
-    const { devices: _views, ...figures } = lotCore({
-      lot: { id: lot.id, code: lot.code, deviceTypeId: lot.deviceTypeId, partNumber: type.partNumber, dateCode: lot.dateCode },
-      run: run ? { id: run.id, code: run.code, state: run.state, stressHours: run.stressHours } : null,
-      plan: plan
-        ? {
-            id: plan.id,
-            name: plan.name,
-            kind: plan.kind,
-            durationH: plan.durationH,
-            acceptNumber: plan.acceptNumber,
-            sampleSize: plan.sampleSize,
-            chamberC: plan.chamberC,
-            eaEv: plan.eaEv,
-            useC: plan.useC,
-            ...stressTemperature({ kind: plan.kind, chamberC: plan.chamberC, checkResult: { derived: { tjC: plan.tjC } } }),
-            readPointsH: [...plan.readPointsH],
-            criteria: plan.criteria,
-          }
+/** The plan as lotCore reads it. */
+function lotCorePlan(plan: PlanRow) {
+  return {
+    id: plan.id,
+    name: plan.name,
+    kind: plan.kind,
+    durationH: plan.durationH,
+    acceptNumber: plan.acceptNumber,
+    sampleSize: plan.sampleSize,
+    chamberC: plan.chamberC,
+    eaEv: plan.eaEv,
+    useC: plan.useC,
+    ...stressTemperature({ kind: plan.kind, chamberC: plan.chamberC, checkResult: { derived: { tjC: plan.tjC } } }),
+    readPointsH: [...plan.readPointsH],
+    criteria: plan.criteria,
+  };
+}
+
+/** One run's readings as evidence, grouped by device (in reading order). */
+function readingsByDevice(data: PartData, rid: string) {
+  const extras = data.extrasByRun.get(rid) ?? [];
+  const readings = data.readingsByRun.get(rid) ?? [];
+  const byDevice = new Map<string, DeviceEvidence['readings']>();
+  readings.forEach((r, i) => {
+    const x = extras[i];
+    const ev: DeviceEvidence['readings'][number] = {
+      readPointH: r.readPointH,
+      result: x.result,
+      hfe: r.hfe,
+      hfeIcA: x.hfeIcA,
+      hfeVceV: x.hfeVceV,
+      icboA: r.icboA,
+      icboVcbV: x.icboVcbV,
+      vcesatV: r.vcesatV,
+      bvceoV: x.bvceoV,
+      measuredC: r.measuredC,
+      measuredAt: x.measuredAt,
+      late: r.late,
+      conditionDifferences: x.conditionsFlag ? [x.conditionsFlag] : [],
+      confirmed: x.confirmedAt
+        ? { by: x.confirmedBy ?? 'unknown', at: new Date(x.confirmedAt).toISOString(), note: x.confirmReason ?? '' }
         : null,
-      devices: primaryRunIds.flatMap((id) => driftOf(runs.get(id)!).devices.filter((d) => d.lotId === lot.id)),
-    });
-
-    const samples: LotSample[] = sampleIds.map((sid) => {
-      const runIds = sampleRunIds(sid);
-      const devices = runIds.flatMap((rid) => {
-        const extras = extrasByRun.get(rid) ?? [];
-        const readings = readingsByRun.get(rid) ?? [];
-        const byDevice = new Map<string, DeviceEvidence['readings']>();
-        readings.forEach((r, i) => {
-          const x = extras[i];
-          const ev: DeviceEvidence['readings'][number] = {
-            readPointH: r.readPointH,
-            result: x.result,
-            hfe: r.hfe,
-            hfeIcA: x.hfeIcA,
-            hfeVceV: x.hfeVceV,
-            icboA: r.icboA,
-            icboVcbV: x.icboVcbV,
-            vcesatV: r.vcesatV,
-            bvceoV: x.bvceoV,
-            measuredC: r.measuredC,
-            measuredAt: x.measuredAt,
-            late: r.late,
-            conditionDifferences: x.conditionsFlag ? [x.conditionsFlag] : [],
-            confirmed: x.confirmedAt
-              ? { by: x.confirmedBy ?? 'unknown', at: new Date(x.confirmedAt).toISOString(), note: x.confirmReason ?? '' }
-              : null,
-          };
-          const list = byDevice.get(r.deviceId);
-          if (list) list.push(ev);
-          else byDevice.set(r.deviceId, [ev]);
-        });
-        return (devicesByRun.get(rid) ?? [])
-          .filter((d) => d.lotId === lot.id)
-          .map((d) => ({
-            deviceId: d.deviceId,
-            serial: d.serial,
-            runId: rid,
-            socketIndex: d.socketIndex,
-            readings: (byDevice.get(d.deviceId) ?? []).sort((a, b) => a.readPointH - b.readPointH),
-            dispositions: (dispositionsOf.get(`${rid}:${d.deviceId}`) ?? []).map((x) => ({
-              kind: x.kind,
-              readPointH: x.readPointH,
-              reason: x.reason,
-              by: x.byName,
-              at: x.at,
-            })),
-          }));
-      });
-      return { planId: runs.get(runIds[0])!.planId, sampleId: sid, runIds, devices };
-    });
-    const productionDate = dateFromDateCode(lot.dateCode);
-    const lotEv: LotEvidence['lot'] = {
-      id: lot.id,
-      code: lot.code,
-      partNumber: type.partNumber,
-      deviceTypeId: lot.deviceTypeId,
-      dateCode: lot.dateCode,
-      productionDate,
-      productionDateSource: productionDate ? 'date-code' : null,
     };
-    const peers: PeerLot[] = samples.map((s) => {
-      const pc = planConditions(plans.get(s.planId)!);
-      const pe: PlanEvidence = {
-        plan: pc,
-        runs: [],
-        deviation: null,
-        devices: s.devices.map((d) => ({ ...d, creditedHours: 0, trip: null })),
-      };
-      return { lotId: lot.id, lotCode: lot.code, productionDate, conditionsKey: planConditionsKey(pc), values: controlValues(pe, gain) };
-    });
-    return {
-      figures,
-      runId: run?.id ?? null,
-      otherRunIds: lotRuns.filter((r) => !used.has(r.id)).map((r) => r.id),
-      gain,
-      lot: lotEv,
-      samples,
-      peers,
-    };
+    pushTo(byDevice, r.deviceId, ev);
   });
+  return byDevice;
+}
+
+/** The lot's devices of one run with their readings and dispositions. */
+function lotRunDevices(data: PartData, ix: PartIndexes, lotId: string, rid: string) {
+  const byDevice = readingsByDevice(data, rid);
+  return (data.devicesByRun.get(rid) ?? [])
+    .filter((d) => d.lotId === lotId)
+    .map((d) => ({
+      deviceId: d.deviceId,
+      serial: d.serial,
+      runId: rid,
+      socketIndex: d.socketIndex,
+      readings: (byDevice.get(d.deviceId) ?? []).sort((a, b) => a.readPointH - b.readPointH),
+      dispositions: (ix.dispositionsOf.get(`${rid}:${d.deviceId}`) ?? []).map((x) => ({
+        kind: x.kind,
+        readPointH: x.readPointH,
+        reason: x.reason,
+        by: x.byName,
+        at: x.at,
+      })),
+    }));
+}
+
+/** One lot's entry: its figures, its samples as evidence and its peer values per sample. */
+function lotEntry(data: PartData, ix: PartIndexes, c: ChosenLot, driftOf: (run: RunRow) => ReturnType<typeof runDrift>): LotEntry {
+  const { type, runs, plans } = data;
+  const { lot, lotRuns, run, primaryRunIds, sampleIds, sampleRunIds, used } = c;
+  const gain = { referenceC: type.betaRefTC, xtb: type.xtb };
+  const plan = run ? plans.get(run.planId)! : null;
+  const { devices: _views, ...figures } = lotCore({
+    lot: { id: lot.id, code: lot.code, deviceTypeId: lot.deviceTypeId, partNumber: type.partNumber, dateCode: lot.dateCode },
+    run: run ? { id: run.id, code: run.code, state: run.state, stressHours: run.stressHours } : null,
+    plan: plan ? lotCorePlan(plan) : null,
+    devices: primaryRunIds.flatMap((id) => driftOf(runs.get(id)!).devices.filter((d) => d.lotId === lot.id)),
+  });
+
+  const samples: LotSample[] = sampleIds.map((sid) => {
+    const runIds = sampleRunIds(sid);
+    const devices = runIds.flatMap((rid) => lotRunDevices(data, ix, lot.id, rid));
+    return { planId: runs.get(runIds[0])!.planId, sampleId: sid, runIds, devices };
+  });
+  const productionDate = dateFromDateCode(lot.dateCode);
+  const lotEv: LotEvidence['lot'] = {
+    id: lot.id,
+    code: lot.code,
+    partNumber: type.partNumber,
+    deviceTypeId: lot.deviceTypeId,
+    dateCode: lot.dateCode,
+    productionDate,
+    productionDateSource: productionDate ? 'date-code' : null,
+  };
+  const peers: PeerLot[] = samples.map((s) => {
+    const pc = planConditions(plans.get(s.planId)!);
+    const pe: PlanEvidence = {
+      plan: pc,
+      runs: [],
+      deviation: null,
+      devices: s.devices.map((d) => ({ ...d, creditedHours: 0, trip: null })),
+    };
+    return { lotId: lot.id, lotCode: lot.code, productionDate, conditionsKey: planConditionsKey(pc), values: controlValues(pe, gain) };
+  });
+  return {
+    figures,
+    runId: run?.id ?? null,
+    otherRunIds: lotRuns.filter((r) => !used.has(r.id)).map((r) => r.id),
+    gain,
+    lot: lotEv,
+    samples,
+    peers,
+  };
+}
+
+function lotEntries(data: PartData): LotEntry[] {
+  const ix = partIndexes(data);
+  const chosen = data.lots.map((lot) => chooseLotRuns(data, ix, lot));
+  const driftOf = driftPerRun(data, chosen);
+  return chosen.map((c) => lotEntry(data, ix, c, driftOf));
 }
 
 /**

@@ -76,18 +76,13 @@ function detectDelimiter(text: string): string {
 const unitOf = (col: MeasurementColumn, units: Units): string | null =>
   col === 'icbo_a' ? units.icbo : col === 'hfe_ic_a' ? units.hfeIc : col === 'vcesat_v' ? units.vcesat : null;
 
-/**
- * Parse the file into rows. Whole-file problems (not CSV, no header, a required column missing,
- * too many rows) throw a 422; row problems are collected per row.
- */
-export function parseMeasurementCsv(
-  buf: Buffer,
-  opts: { mapping: ColumnMapping; units: Units; defaultTempC: number; now: Date },
-): ParsedFile {
-  const text = decode(buf);
-  let records: Array<{ record: string[]; info: { lines: number } }>;
+type CsvRecord = { record: string[]; info: { lines: number } };
+type ParseOptions = { mapping: ColumnMapping; units: Units; defaultTempC: number; now: Date };
+
+/** The file's records (header first); a file that is not CSV throws a 422. */
+function readRecords(text: string): CsvRecord[] {
   try {
-    records = parse(text, {
+    return parse(text, {
       delimiter: detectDelimiter(text),
       bom: true,
       info: true,
@@ -96,18 +91,15 @@ export function parseMeasurementCsv(
       skip_empty_lines: true,
       skip_records_with_empty_values: true,
       trim: true,
-    }) as unknown as Array<{ record: string[]; info: { lines: number } }>;
+    }) as unknown as CsvRecord[];
   } catch (e) {
     throw unprocessable(`The file could not be read as CSV (${(e as Error).message.split('\n')[0]}).`);
   }
-  if (records.length === 0) throw unprocessable('The file is empty.');
-  const header = records[0].record;
-  if (records.length - 1 > UPLOAD_MAX_ROWS) {
-    throw unprocessable(`The file has ${records.length - 1} rows; upload at most ${UPLOAD_MAX_ROWS} at a time.`);
-  }
+}
 
-  // Header → our column: the mapping first, then a header that already is our name.
-  const mappingByNorm = new Map(Object.entries(opts.mapping).map(([k, v]) => [k.trim(), v]));
+/** Header → our column: the mapping first, then a header that already is our name. */
+function mapHeader(header: string[], mapping: ColumnMapping) {
+  const mappingByNorm = new Map(Object.entries(mapping).map(([k, v]) => [k.trim(), v]));
   for (const k of mappingByNorm.keys()) {
     if (!header.includes(k)) {
       throw unprocessable(`The column mapping names "${k}", which is not a column of this file. Its columns are: ${header.join(', ')}.`);
@@ -118,7 +110,7 @@ export function parseMeasurementCsv(
   header.forEach((h, i) => {
     const mapped = mappingByNorm.get(h);
     const own = ownColumn(h);
-    const target = mapped ?? (own && !Object.values(opts.mapping).includes(own) ? own : null);
+    const target = mapped ?? (own && !Object.values(mapping).includes(own) ? own : null);
     if (target && indexOf.has(target)) {
       throw unprocessable(`Two columns of the file ("${header[indexOf.get(target)!]}" and "${h}") both give ${target}; map only one.`);
     }
@@ -132,131 +124,169 @@ export function parseMeasurementCsv(
       { missingColumns: missing, columns },
     );
   }
+  return { columns, indexOf };
+}
 
-  const rows: ParsedRow[] = [];
-  for (const { record, info } of records.slice(1)) {
-    const reasons: string[] = [];
-    const cell = (c: MeasurementColumn): string | null => {
-      const i = indexOf.get(c);
-      if (i === undefined) return null;
-      const v = record[i];
-      return v === undefined ? '' : v;
-    };
-    if (record.length !== header.length) {
-      reasons.push(`The row has ${record.length} cells; the header has ${header.length}.`);
-    }
-    for (const [c, i] of indexOf) {
-      const v = record[i];
-      if (v !== undefined && looksLikeFormula(v)) {
-        reasons.push(`The ${c} cell "${v.slice(0, 20)}" looks like a spreadsheet formula; formula cells are refused.`);
-      }
-    }
-    const serialRaw = cell('serial') ?? '';
-    const serial = serialRaw && !looksLikeFormula(serialRaw) ? serialRaw : null;
-    if (!serialRaw) reasons.push('The serial is empty.');
-    else if (serialRaw.length > 40) reasons.push('The serial is longer than 40 characters.');
-    const lotRaw = cell('lot');
-    const lot = lotRaw && !looksLikeFormula(lotRaw) ? lotRaw : null;
+type Cell = (c: MeasurementColumn) => string | null;
 
-    // A dead device: the result column says so (OPEN, SHORT, NO READING), or the tester wrote the
-    // word in place of a value. Its values may then be empty and are not stored.
-    const resultRaw = cell('result');
-    let result: MeasurementResult = 'measured';
-    if (resultRaw && !looksLikeFormula(resultRaw)) {
-      const word = catastrophicWord(resultRaw);
-      if (word) result = word;
-      else if (!/^(measured|ok|pass)$/i.test(resultRaw.trim())) {
-        reasons.push(`result "${resultRaw.slice(0, 20)}" is not one of: empty, measured, OPEN, SHORT, NO READING.`);
-      }
-    }
-    const NUMERIC: MeasurementColumn[] = ['hfe', 'hfe_ic_a', 'hfe_vce_v', 'icbo_a', 'icbo_vcb_v', 'vcesat_v', 'bvceo_v'];
-    if (result === 'measured') {
-      const words = new Set(NUMERIC.map((c) => catastrophicWord(cell(c))).filter((w): w is CatastrophicResult => w !== null));
-      if (words.size === 1) result = [...words][0];
-      else if (words.size > 1) reasons.push(`The row says both ${[...words].join(' and ')}; give one result.`);
-    }
-    const dead = result !== 'measured';
-    const number = (c: MeasurementColumn, required: boolean): number | null => {
-      const raw = cell(c);
-      if (raw === null || raw === '') {
-        if (required && !dead) reasons.push(`${c} is empty.`);
-        return null;
-      }
-      if (dead && c !== 'temp_c') return null; // a dead device's words or leftover values are not stored
-      if (catastrophicWord(raw)) return null; // two different words: reported once above
-      if (looksLikeFormula(raw)) return null; // already reported
-      if (!NUMBER.test(raw)) {
-        reasons.push(`${c} "${raw.slice(0, 20)}" is not a number.`);
-        return null;
-      }
-      const unit = unitOf(c, opts.units);
-      return Number(raw) * (unit ? UNIT_FACTOR[unit] : 1);
-    };
-    const hfe = number('hfe', true);
-    const hfeIcA = number('hfe_ic_a', true);
-    const hfeVceV = number('hfe_vce_v', true);
-    const icboA = number('icbo_a', true);
-    const icboVcbV = number('icbo_vcb_v', true);
-    const vcesatV = number('vcesat_v', true);
-    const bvceoV = number('bvceo_v', false);
-    const tempC = number('temp_c', false);
+const NUMERIC: MeasurementColumn[] = ['hfe', 'hfe_ic_a', 'hfe_vce_v', 'icbo_a', 'icbo_vcb_v', 'vcesat_v', 'bvceo_v'];
 
-    if (hfe !== null && !(hfe > 0 && hfe < 100000)) reasons.push(`hFE ${hfe} is outside 0–100000.`);
-    if (hfeIcA !== null && !(hfeIcA > 0)) reasons.push(`The hFE test current must be above 0 ${UNIT_LABEL[opts.units.hfeIc]}.`);
-    if (hfeVceV !== null && !(hfeVceV > 0)) reasons.push('The hFE test voltage must be above 0 V.');
-    if (icboA !== null && icboA < 0) {
-      reasons.push(
-        `Negative leakage: ICBO ${+(icboA / UNIT_FACTOR[opts.units.icbo]).toPrecision(6)} ${UNIT_LABEL[opts.units.icbo]} is below zero.`,
-      );
+/**
+ * A dead device: the result column says so (OPEN, SHORT, NO READING), or the tester wrote the
+ * word in place of a value. Its values may then be empty and are not stored.
+ */
+function rowResult(cell: Cell, reasons: string[]): MeasurementResult {
+  const resultRaw = cell('result');
+  let result: MeasurementResult = 'measured';
+  if (resultRaw && !looksLikeFormula(resultRaw)) {
+    const word = catastrophicWord(resultRaw);
+    if (word) result = word;
+    else if (!/^(measured|ok|pass)$/i.test(resultRaw.trim())) {
+      reasons.push(`result "${resultRaw.slice(0, 20)}" is not one of: empty, measured, OPEN, SHORT, NO READING.`);
     }
-    if (icboA !== null && icboA > 1) reasons.push('ICBO above 1 A is not a leakage reading; check the unit.');
-    if (icboVcbV !== null && !(icboVcbV > 0)) reasons.push('The ICBO test voltage must be above 0 V.');
-    if (vcesatV !== null && (vcesatV < 0 || vcesatV > 100)) reasons.push(`VCE(sat) ${vcesatV} V is outside 0–100 V.`);
-    if (bvceoV !== null && !(bvceoV > 0)) reasons.push('BVCEO must be above 0 V.');
-    if (tempC !== null && (tempC < -65 || tempC > 300)) reasons.push(`temp_c ${tempC} °C is outside −65–300 °C.`);
-
-    let measuredAt: Date | null = opts.now;
-    const at = cell('measured_at');
-    if (at) {
-      if (looksLikeFormula(at)) measuredAt = null;
-      else if (!DATE_TIME.test(at)) {
-        reasons.push(`measured_at "${at.slice(0, 30)}" is not an ISO date-time (e.g. 2026-03-14T09:30:00Z).`);
-        measuredAt = null;
-      } else {
-        const hasZone = /(Z|[+-]\d{2}:?\d{2})$/i.test(at);
-        const d = new Date(hasZone ? at.replace(' ', 'T') : `${at.replace(' ', 'T')}${at.length === 10 ? 'T00:00:00' : ''}Z`);
-        if (Number.isNaN(d.getTime())) {
-          reasons.push(`measured_at "${at.slice(0, 30)}" is not a real date.`);
-          measuredAt = null;
-        } else if (d.getTime() > opts.now.getTime() + 10 * 60_000) {
-          reasons.push(`measured_at ${d.toISOString()} lies in the future.`);
-          measuredAt = null;
-        } else measuredAt = d;
-      }
-    }
-
-    const ok = reasons.length === 0;
-    rows.push({
-      row: info.lines,
-      serial,
-      lot,
-      reasons,
-      values: ok
-        ? {
-            result,
-            hfe,
-            hfeIcA,
-            hfeVceV,
-            icboA,
-            icboVcbV,
-            vcesatV,
-            bvceoV,
-            measuredC: tempC ?? opts.defaultTempC,
-            measuredAt: measuredAt!,
-          }
-        : null,
-    });
   }
+  if (result === 'measured') {
+    const words = new Set(NUMERIC.map((c) => catastrophicWord(cell(c))).filter((w): w is CatastrophicResult => w !== null));
+    if (words.size === 1) result = [...words][0];
+    else if (words.size > 1) reasons.push(`The row says both ${[...words].join(' and ')}; give one result.`);
+  }
+  return result;
+}
+
+/** The row's numbers in SI (null when empty, refused or not stored for a dead device). */
+function rowNumbers(cell: Cell, dead: boolean, units: Units, reasons: string[]) {
+  const number = (c: MeasurementColumn, required: boolean): number | null => {
+    const raw = cell(c);
+    if (raw === null || raw === '') {
+      if (required && !dead) reasons.push(`${c} is empty.`);
+      return null;
+    }
+    if (dead && c !== 'temp_c') return null; // a dead device's words or leftover values are not stored
+    if (catastrophicWord(raw)) return null; // two different words: reported once above
+    if (looksLikeFormula(raw)) return null; // already reported
+    if (!NUMBER.test(raw)) {
+      reasons.push(`${c} "${raw.slice(0, 20)}" is not a number.`);
+      return null;
+    }
+    const unit = unitOf(c, units);
+    return Number(raw) * (unit ? UNIT_FACTOR[unit] : 1);
+  };
+  return {
+    hfe: number('hfe', true),
+    hfeIcA: number('hfe_ic_a', true),
+    hfeVceV: number('hfe_vce_v', true),
+    icboA: number('icbo_a', true),
+    icboVcbV: number('icbo_vcb_v', true),
+    vcesatV: number('vcesat_v', true),
+    bvceoV: number('bvceo_v', false),
+    tempC: number('temp_c', false),
+  };
+}
+
+/** The plausibility checks on the row's numbers. */
+function checkRanges(n: ReturnType<typeof rowNumbers>, units: Units, reasons: string[]) {
+  const { hfe, hfeIcA, hfeVceV, icboA, icboVcbV, vcesatV, bvceoV, tempC } = n;
+  if (hfe !== null && !(hfe > 0 && hfe < 100000)) reasons.push(`hFE ${hfe} is outside 0–100000.`);
+  if (hfeIcA !== null && !(hfeIcA > 0)) reasons.push(`The hFE test current must be above 0 ${UNIT_LABEL[units.hfeIc]}.`);
+  if (hfeVceV !== null && !(hfeVceV > 0)) reasons.push('The hFE test voltage must be above 0 V.');
+  if (icboA !== null && icboA < 0) {
+    reasons.push(`Negative leakage: ICBO ${+(icboA / UNIT_FACTOR[units.icbo]).toPrecision(6)} ${UNIT_LABEL[units.icbo]} is below zero.`);
+  }
+  if (icboA !== null && icboA > 1) reasons.push('ICBO above 1 A is not a leakage reading; check the unit.');
+  if (icboVcbV !== null && !(icboVcbV > 0)) reasons.push('The ICBO test voltage must be above 0 V.');
+  if (vcesatV !== null && (vcesatV < 0 || vcesatV > 100)) reasons.push(`VCE(sat) ${vcesatV} V is outside 0–100 V.`);
+  if (bvceoV !== null && !(bvceoV > 0)) reasons.push('BVCEO must be above 0 V.');
+  if (tempC !== null && (tempC < -65 || tempC > 300)) reasons.push(`temp_c ${tempC} °C is outside −65–300 °C.`);
+}
+
+/** The row's measuring time: the cell when given (ISO, not in the future), else now; null when refused. */
+function rowMeasuredAt(at: string | null, now: Date, reasons: string[]): Date | null {
+  if (!at) return now;
+  if (looksLikeFormula(at)) return null;
+  if (!DATE_TIME.test(at)) {
+    reasons.push(`measured_at "${at.slice(0, 30)}" is not an ISO date-time (e.g. 2026-03-14T09:30:00Z).`);
+    return null;
+  }
+  const hasZone = /(Z|[+-]\d{2}:?\d{2})$/i.test(at);
+  const d = new Date(hasZone ? at.replace(' ', 'T') : `${at.replace(' ', 'T')}${at.length === 10 ? 'T00:00:00' : ''}Z`);
+  if (Number.isNaN(d.getTime())) {
+    reasons.push(`measured_at "${at.slice(0, 30)}" is not a real date.`);
+    return null;
+  }
+  if (d.getTime() > now.getTime() + 10 * 60_000) {
+    reasons.push(`measured_at ${d.toISOString()} lies in the future.`);
+    return null;
+  }
+  return d;
+}
+
+/** One data row: its serial, lot, values in SI and every reason it cannot be stored. */
+function parseRow({ record, info }: CsvRecord, header: string[], indexOf: Map<MeasurementColumn, number>, opts: ParseOptions): ParsedRow {
+  const reasons: string[] = [];
+  const cell = (c: MeasurementColumn): string | null => {
+    const i = indexOf.get(c);
+    if (i === undefined) return null;
+    const v = record[i];
+    return v === undefined ? '' : v;
+  };
+  if (record.length !== header.length) {
+    reasons.push(`The row has ${record.length} cells; the header has ${header.length}.`);
+  }
+  for (const [c, i] of indexOf) {
+    const v = record[i];
+    if (v !== undefined && looksLikeFormula(v)) {
+      reasons.push(`The ${c} cell "${v.slice(0, 20)}" looks like a spreadsheet formula; formula cells are refused.`);
+    }
+  }
+  const serialRaw = cell('serial') ?? '';
+  const serial = serialRaw && !looksLikeFormula(serialRaw) ? serialRaw : null;
+  if (!serialRaw) reasons.push('The serial is empty.');
+  else if (serialRaw.length > 40) reasons.push('The serial is longer than 40 characters.');
+  const lotRaw = cell('lot');
+  const lot = lotRaw && !looksLikeFormula(lotRaw) ? lotRaw : null;
+
+  const result = rowResult(cell, reasons);
+  const n = rowNumbers(cell, result !== 'measured', opts.units, reasons);
+  checkRanges(n, opts.units, reasons);
+  const measuredAt = rowMeasuredAt(cell('measured_at'), opts.now, reasons);
+
+  const ok = reasons.length === 0;
+  return {
+    row: info.lines,
+    serial,
+    lot,
+    reasons,
+    values: ok
+      ? {
+          result,
+          hfe: n.hfe,
+          hfeIcA: n.hfeIcA,
+          hfeVceV: n.hfeVceV,
+          icboA: n.icboA,
+          icboVcbV: n.icboVcbV,
+          vcesatV: n.vcesatV,
+          bvceoV: n.bvceoV,
+          measuredC: n.tempC ?? opts.defaultTempC,
+          measuredAt: measuredAt!,
+        }
+      : null,
+  };
+}
+
+/**
+ * Parse the file into rows. Whole-file problems (not CSV, no header, a required column missing,
+ * too many rows) throw a 422; row problems are collected per row.
+ */
+export function parseMeasurementCsv(buf: Buffer, opts: ParseOptions): ParsedFile {
+  const text = decode(buf);
+  const records = readRecords(text);
+  if (records.length === 0) throw unprocessable('The file is empty.');
+  const header = records[0].record;
+  if (records.length - 1 > UPLOAD_MAX_ROWS) {
+    throw unprocessable(`The file has ${records.length - 1} rows; upload at most ${UPLOAD_MAX_ROWS} at a time.`);
+  }
+  const { columns, indexOf } = mapHeader(header, opts.mapping);
+  const rows = records.slice(1).map((r) => parseRow(r, header, indexOf, opts));
   if (rows.length === 0) throw unprocessable('The file has a header but no rows.');
   return { columns, rows };
 }

@@ -51,6 +51,34 @@ interface CheckedRow extends ParsedRow {
   outcome: RowResult['outcome'];
 }
 
+/** The answer to a file stored before for this read point: nothing is stored again. */
+function alreadyStored(
+  previous: MeasurementUploadEntity,
+  base: Pick<UploadResult, 'runId' | 'readPointH' | 'fileName' | 'fileSha256'>,
+  previousUpload: UploadResult['previousUpload'],
+): UploadResult {
+  const rows: RowResult[] = previous.rowErrors ?? [];
+  return {
+    ...base,
+    status: 'already-stored',
+    uploadId: previous.id,
+    rowsTotal: previous.rowsTotal,
+    stored: 0,
+    inserted: 0,
+    replaced: 0,
+    unchanged: previous.rowsStored,
+    rejected: previous.rowsRejected,
+    late: 0,
+    columns: {},
+    rows,
+    previousUpload,
+    notes: [
+      `This exact file was already stored on ${formatUtc(previous.createdAt)} (${previous.rowsStored} rows stored, ${previous.rowsRejected} refused); nothing was stored again.`,
+      REUPLOAD_RULE,
+    ],
+  };
+}
+
 export class MeasurementsService {
   constructor(
     private readonly ds: DataSource,
@@ -178,31 +206,7 @@ export class MeasurementsService {
       );
     }
     const base = { runId: p.runId, readPointH: p.hours, fileName, fileSha256: sha, notes: [REUPLOAD_RULE] };
-    if (previous && !p.preview) {
-      const rows: RowResult[] = previous.rowErrors ?? [];
-      return {
-        status: 200,
-        body: {
-          ...base,
-          status: 'already-stored',
-          uploadId: previous.id,
-          rowsTotal: previous.rowsTotal,
-          stored: 0,
-          inserted: 0,
-          replaced: 0,
-          unchanged: previous.rowsStored,
-          rejected: previous.rowsRejected,
-          late: 0,
-          columns: {},
-          rows,
-          previousUpload,
-          notes: [
-            `This exact file was already stored on ${formatUtc(previous.createdAt)} (${previous.rowsStored} rows stored, ${previous.rowsRejected} refused); nothing was stored again.`,
-            REUPLOAD_RULE,
-          ],
-        },
-      };
-    }
+    if (previous && !p.preview) return { status: 200, body: alreadyStored(previous, base, previousUpload) };
 
     const parsed = parseMeasurementCsv(p.file.buffer, {
       mapping: p.fields.mapping,
@@ -231,42 +235,7 @@ export class MeasurementsService {
     }
 
     try {
-      const uploadId = await this.ds.transaction(async (m) => {
-        const up = await m.save(
-          m.create(MeasurementUploadEntity, {
-            runId: p.runId,
-            readPointH: p.hours,
-            fileSha256: sha,
-            fileName,
-            rowsTotal: body.rowsTotal,
-            rowsStored: body.stored + body.unchanged,
-            rowsRejected: body.rejected,
-            rowErrors: body.rows.filter((r) => r.outcome === 'rejected'),
-            uploadedById: actor.id,
-          }),
-        );
-        await this.write(m, b, p.hours, checked, { uploadId: up.id, enteredById: actor.id });
-        await this.audit.record(
-          {
-            actor,
-            action: 'measurement.upload',
-            entity: 'run',
-            entityId: p.runId,
-            details: {
-              readPointH: p.hours,
-              fileName,
-              fileSha256: sha,
-              inserted: body.inserted,
-              replaced: body.replaced,
-              rejected: body.rejected,
-              late: body.late,
-            },
-          },
-          m,
-        );
-        return up.id;
-      });
-      body.uploadId = uploadId;
+      body.uploadId = await this.storeUpload(actor, p, b, checked, body);
       return { status: 201, body };
     } catch (e) {
       // Two identical uploads at once: the unique index lets one through; the other is "already stored".
@@ -275,6 +244,52 @@ export class MeasurementsService {
       }
       throw e;
     }
+  }
+
+  /** One transaction: the upload row, its readings and the audit entry; gives the upload's id. */
+  private async storeUpload(
+    actor: SessionUser,
+    p: { runId: string; hours: number },
+    b: RunBundle,
+    checked: CheckedRow[],
+    body: UploadResult,
+  ): Promise<string> {
+    const { fileName, fileSha256: sha } = body;
+    return this.ds.transaction(async (m) => {
+      const up = await m.save(
+        m.create(MeasurementUploadEntity, {
+          runId: p.runId,
+          readPointH: p.hours,
+          fileSha256: sha,
+          fileName,
+          rowsTotal: body.rowsTotal,
+          rowsStored: body.stored + body.unchanged,
+          rowsRejected: body.rejected,
+          rowErrors: body.rows.filter((r) => r.outcome === 'rejected'),
+          uploadedById: actor.id,
+        }),
+      );
+      await this.write(m, b, p.hours, checked, { uploadId: up.id, enteredById: actor.id });
+      await this.audit.record(
+        {
+          actor,
+          action: 'measurement.upload',
+          entity: 'run',
+          entityId: p.runId,
+          details: {
+            readPointH: p.hours,
+            fileName,
+            fileSha256: sha,
+            inserted: body.inserted,
+            replaced: body.replaced,
+            rejected: body.rejected,
+            late: body.late,
+          },
+        },
+        m,
+      );
+      return up.id;
+    });
   }
 
   async manual(actor: SessionUser, runId: string, hours: number, items: ManualReading[]): Promise<UploadResult> {

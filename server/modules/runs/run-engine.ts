@@ -23,7 +23,7 @@ import type { SessionUser } from '../../../shared/schemas/auth';
 import { measureByMs } from '../../../shared/domain/standards';
 import type { PendingRunEvent } from './run-events';
 import { sortedReadPoints } from './run-view';
-import { batchAt, batchesAfter, firstInBand, socketSamples, toClockSample } from './telemetry-reads';
+import { batchAt, batchesAfter, firstInBand, socketSamples, toClockSample, type BatchRow } from './telemetry-reads';
 import { storeRunAccrual, storeSocketAccrual } from './runs.data';
 
 /** A missing seq is waited for this long (it may still arrive from the rig's outbox) before it is skipped. */
@@ -134,77 +134,84 @@ export async function heatingStep(
   return { changed: true, to: 'stressing', events: [ev] };
 }
 
+/** Where accrual stands after folding a chunk of telemetry. */
+interface AccrualFold {
+  hours: number;
+  socketH: Map<number, number>;
+  touched: Set<number>;
+  newlyTripped: Set<number>;
+  lastSeq: number;
+  lastClock: number | null;
+  outcome: 'read-hold' | 'cooling' | null;
+  holdIndex: number;
+  processed: number;
+}
+
 /**
- * Stressing: accrue the telemetry after accrued_to_seq (one chunk), then stop at a read point
- * (→ read-hold) or at the end of stress (→ cooling). Hours are added interval by interval in seq
- * order, so the total does not depend on how the telemetry was chunked (or on restarts).
+ * Adds the chunk's intervals in seq order, stopping at a gap still worth waiting for, at the end
+ * of stress or at a read point.
  */
-export async function accrueStep(
-  m: EntityManager,
-  deps: EngineDeps,
+function foldBatches(
   run: RunEntity,
   plan: StressPlanEntity,
-  rig: RigEntity,
-): Promise<StepOutcome> {
-  const now = deps.now();
-  const sockets = await m.find(RunSocketEntity, { where: { runId: run.id }, order: { socketIndex: 'ASC' } });
+  rps: number[],
+  sockets: RunSocketEntity[],
+  batches: BatchRow[],
+  samples: Awaited<ReturnType<typeof socketSamples>>,
+  firstPrev: ClockSample | null,
+  now: Date,
+): AccrualFold {
   const socketIdx = sockets.map((s) => s.socketIndex);
   const latched = new Set(sockets.filter((s) => s.tripped).map((s) => s.socketIndex));
   const cond = accrualConditionsFor(plan);
-
-  const batches = await batchesAfter(m, rig.id, run.accruedToSeq, ACCRUAL_CHUNK);
-  if (!batches.length) return { changed: false, events: [] };
-  const fromSeq = run.accruedToSeq > 0 ? run.accruedToSeq : batches[0].seq;
-  const samples = await socketSamples(m, rig.id, fromSeq, batches[batches.length - 1].seq, socketIdx);
-  let prev: ClockSample | null = null;
-  if (run.accruedToSeq > 0) {
-    const pb = await batchAt(m, rig.id, run.accruedToSeq);
-    if (pb) prev = toClockSample(pb, samples.get(pb.seq) ?? []);
-  }
-
-  const rps = sortedReadPoints(plan);
-  let hours = run.stressHours;
-  const socketH = new Map(sockets.map((s) => [s.socketIndex, s.accruedHours]));
-  const touched = new Set<number>();
-  const newlyTripped = new Set<number>();
-  let lastSeq = run.accruedToSeq;
-  let lastClock = run.accruedToClockS;
-  let outcome: 'read-hold' | 'cooling' | null = null;
-  let holdIndex = -1;
-  let processed = 0;
-
+  let prev = firstPrev;
+  const f: AccrualFold = {
+    hours: run.stressHours,
+    socketH: new Map(sockets.map((s) => [s.socketIndex, s.accruedHours])),
+    touched: new Set<number>(),
+    newlyTripped: new Set<number>(),
+    lastSeq: run.accruedToSeq,
+    lastClock: run.accruedToClockS,
+    outcome: null,
+    holdIndex: -1,
+    processed: 0,
+  };
   for (const b of batches) {
     if (prev && b.seq !== prev.seq + 1 && now.getTime() - b.storedAt.getTime() < GAP_WAIT_MS) break;
     const cur = toClockSample(b, samples.get(b.seq) ?? []);
     const r = accrueInterval(prev, cur, cond, socketIdx, latched);
-    hours = hours + r.runS / 3600;
+    f.hours = f.hours + r.runS / 3600;
     for (const [k, s] of r.socketS) {
-      socketH.set(k, (socketH.get(k) ?? 0) + s / 3600);
-      touched.add(k);
+      f.socketH.set(k, (f.socketH.get(k) ?? 0) + s / 3600);
+      f.touched.add(k);
     }
     for (const k of r.newlyTripped) {
       latched.add(k);
-      newlyTripped.add(k);
+      f.newlyTripped.add(k);
     }
     prev = cur;
-    lastSeq = b.seq;
-    lastClock = b.clockS;
-    processed++;
-    if (reachedH(hours, plan.durationH)) {
-      outcome = 'cooling';
+    f.lastSeq = b.seq;
+    f.lastClock = b.clockS;
+    f.processed++;
+    if (reachedH(f.hours, plan.durationH)) {
+      f.outcome = 'cooling';
       break;
     }
     let idx = run.nextReadPoint;
     while (idx < rps.length && rps[idx] <= 0) idx++;
-    if (idx < rps.length && rps[idx] < plan.durationH && reachedH(hours, rps[idx])) {
-      while (idx + 1 < rps.length && rps[idx + 1] < plan.durationH && reachedH(hours, rps[idx + 1])) idx++;
-      outcome = 'read-hold';
-      holdIndex = idx;
+    if (idx < rps.length && rps[idx] < plan.durationH && reachedH(f.hours, rps[idx])) {
+      while (idx + 1 < rps.length && rps[idx + 1] < plan.durationH && reachedH(f.hours, rps[idx + 1])) idx++;
+      f.outcome = 'read-hold';
+      f.holdIndex = idx;
       break;
     }
   }
-  if (!processed) return { changed: false, events: [] };
+  return f;
+}
 
+/** Stores the run's and the sockets' accrued hours (and trips seen in telemetry). */
+async function saveAccrual(m: EntityManager, run: RunEntity, f: AccrualFold, now: Date): Promise<void> {
+  const { hours, lastSeq, lastClock, socketH, touched, newlyTripped } = f;
   await storeRunAccrual(m, run.id, hours, lastSeq, lastClock);
   run.stressHours = hours;
   run.accruedToSeq = lastSeq;
@@ -220,9 +227,22 @@ export async function accrueStep(
       changedSockets.map((k) => newlyTripped.has(k)),
     );
   }
+}
 
+/** The end of stress (→ cooling) or a read point (→ read-hold) with its read-point-due event. */
+async function stopEvents(
+  m: EntityManager,
+  deps: EngineDeps,
+  run: RunEntity,
+  plan: StressPlanEntity,
+  rig: RigEntity,
+  rps: number[],
+  f: AccrualFold,
+  now: Date,
+): Promise<PendingEvent[]> {
+  const { hours, lastSeq, holdIndex } = f;
   const events: PendingEvent[] = [];
-  if (outcome === 'cooling') {
+  if (f.outcome === 'cooling') {
     const finalIdx = rps.findIndex((h) => h >= plan.durationH);
     events.push(
       await transitionRun(
@@ -240,7 +260,7 @@ export async function accrueStep(
       ),
     );
     events.push(readPointDue(run, rig, finalIdx >= 0 ? rps[finalIdx] : plan.durationH, finalIdx, hours, now, true));
-  } else if (outcome === 'read-hold') {
+  } else if (f.outcome === 'read-hold') {
     events.push(
       await transitionRun(
         m,
@@ -258,11 +278,45 @@ export async function accrueStep(
     );
     events.push(readPointDue(run, rig, rps[holdIndex], holdIndex, hours, now, false));
   }
+  return events;
+}
+
+/**
+ * Stressing: accrue the telemetry after accrued_to_seq (one chunk), then stop at a read point
+ * (→ read-hold) or at the end of stress (→ cooling). Hours are added interval by interval in seq
+ * order, so the total does not depend on how the telemetry was chunked (or on restarts).
+ */
+export async function accrueStep(
+  m: EntityManager,
+  deps: EngineDeps,
+  run: RunEntity,
+  plan: StressPlanEntity,
+  rig: RigEntity,
+): Promise<StepOutcome> {
+  const now = deps.now();
+  const sockets = await m.find(RunSocketEntity, { where: { runId: run.id }, order: { socketIndex: 'ASC' } });
+  const socketIdx = sockets.map((s) => s.socketIndex);
+
+  const batches = await batchesAfter(m, rig.id, run.accruedToSeq, ACCRUAL_CHUNK);
+  if (!batches.length) return { changed: false, events: [] };
+  const fromSeq = run.accruedToSeq > 0 ? run.accruedToSeq : batches[0].seq;
+  const samples = await socketSamples(m, rig.id, fromSeq, batches[batches.length - 1].seq, socketIdx);
+  let prev: ClockSample | null = null;
+  if (run.accruedToSeq > 0) {
+    const pb = await batchAt(m, rig.id, run.accruedToSeq);
+    if (pb) prev = toClockSample(pb, samples.get(pb.seq) ?? []);
+  }
+
+  const rps = sortedReadPoints(plan);
+  const f = foldBatches(run, plan, rps, sockets, batches, samples, prev, now);
+  if (!f.processed) return { changed: false, events: [] };
+  await saveAccrual(m, run, f, now);
+  const events = await stopEvents(m, deps, run, plan, rig, rps, f, now);
   return {
     changed: true,
-    to: outcome ?? undefined,
+    to: f.outcome ?? undefined,
     events,
-    more: !outcome && processed === batches.length && batches.length === ACCRUAL_CHUNK,
+    more: !f.outcome && f.processed === batches.length && batches.length === ACCRUAL_CHUNK,
   };
 }
 

@@ -68,6 +68,29 @@ import { advisoryXactLock, bumpRunRowVersion, devicesBySerial, devicesInOpenRuns
 /** Serialises bookings (one transaction at a time decides who gets a rig window). */
 const BOOKING_LOCK = 478_001;
 
+/** What a run action works on, read in its transaction. */
+interface ActionContext {
+  m: EntityManager;
+  actor: SessionUser;
+  run: RunEntity;
+  rig: RigEntity | null;
+  plan: StressPlanEntity;
+  now: Date;
+  reason: string | null;
+}
+
+/** One part of a sample booking: what bookOne books onto one rig. */
+interface BookingPart {
+  plan: StressPlanEntity;
+  type: DeviceTypeEntity;
+  lots: LotEntity[];
+  sample: SampleEntity;
+  part: BookSampleInput['parts'][number];
+  overridden: boolean;
+  overrideReason: string | null;
+  findings: Array<{ code: string; title: string }>;
+}
+
 const needsOf = (plan: StressPlanEntity, sampleSize: number): RunNeeds => ({
   chamberC: plan.chamberC,
   humidityPct: plan.humidityPct,
@@ -354,59 +377,15 @@ export class RunsService {
     });
   }
 
-  private async bookOne(
-    m: EntityManager,
-    actor: SessionUser,
-    b: {
-      plan: StressPlanEntity;
-      type: DeviceTypeEntity;
-      lots: LotEntity[];
-      sample: SampleEntity;
-      part: BookSampleInput['parts'][number];
-      overridden: boolean;
-      overrideReason: string | null;
-      findings: Array<{ code: string; title: string }>;
-    },
-  ): Promise<RunEntity> {
-    const { plan, type, lots, part: input, overridden } = b;
+  private async bookOne(m: EntityManager, actor: SessionUser, b: BookingPart): Promise<RunEntity> {
+    const { plan, lots, part: input, overridden } = b;
     const rig = await m.findOne(RigEntity, { where: { id: input.rigId } });
     if (!rig) throw unprocessable('The chosen rig was not found. Choose one of the proposals.');
-    const now = this.ctx.now().getTime();
     const needs = needsOf(plan, input.sampleSize);
     const refusals = staticRefusals(rig, needs);
     if (refusals.length) throw unprocessable(refusals.join(' '), { reasons: refusals });
-    const inputs = await loadSchedulingInputs(m, now, this.timing);
-    let startMs: number;
-    let requestedStartMs: number | null = null;
-    if (input.start) {
-      requestedStartMs = Math.max(now, Date.parse(input.start));
-      startMs = requestedStartMs;
-      const clash = windowConflicts(
-        rig,
-        needs,
-        startMs,
-        startMs + runDurationMs(needs, this.timing),
-        inputs.commitments,
-        inputs.maintenance,
-      );
-      if (clash.length) {
-        // A proposal's start is often the projected end of the run ahead of it, and that
-        // projection slides with the clock (an overdue booking, a run still stressing): seconds
-        // after proposing, the same slot starts a little later. Follow it, within a tolerance;
-        // anything more is a different slot and needs new proposals.
-        const slot = earliestSlot(rig, needs, requestedStartMs, inputs.commitments, inputs.maintenance, this.timing);
-        const slideH = slot ? (slot.startMs - requestedStartMs) / this.timing.msPerClockH : Number.POSITIVE_INFINITY;
-        if (!slot || slideH > bookingSlideToleranceH(needs, this.timing)) {
-          throw conflict(`The rig is no longer free at ${when(startMs)}: ${clash.join(' ')} Ask for new proposals.`, { reasons: clash });
-        }
-        startMs = slot.startMs;
-      }
-    } else {
-      const slot = earliestSlot(rig, needs, now, inputs.commitments, inputs.maintenance, this.timing);
-      if (!slot) throw unprocessable(`Oven ${rig.code} cannot take this run.`);
-      startMs = slot.startMs;
-    }
-    const endMs = startMs + runDurationMs(needs, this.timing);
+    const window = await this.bookingWindow(m, rig, needs, input.start);
+    const { startMs, endMs } = window;
     const code = await this.newCode(
       m,
       plan.kind,
@@ -434,6 +413,67 @@ export class RunsService {
       RunLotEntity,
       lots.map((l) => ({ runId: saved.id, lotId: l.id })),
     );
+    await this.auditBooking(m, actor, b, rig, saved, window);
+    return saved;
+  }
+
+  /**
+   * The booked run's window on the rig: the requested start (following a proposal's slot that slid
+   * within tolerance) or the earliest free slot.
+   */
+  private async bookingWindow(
+    m: EntityManager,
+    rig: RigEntity,
+    needs: RunNeeds,
+    start: string | undefined,
+  ): Promise<{ startMs: number; endMs: number; requestedStartMs: number | null }> {
+    const now = this.ctx.now().getTime();
+    const inputs = await loadSchedulingInputs(m, now, this.timing);
+    let startMs: number;
+    let requestedStartMs: number | null = null;
+    if (start) {
+      requestedStartMs = Math.max(now, Date.parse(start));
+      startMs = requestedStartMs;
+      const clash = windowConflicts(
+        rig,
+        needs,
+        startMs,
+        startMs + runDurationMs(needs, this.timing),
+        inputs.commitments,
+        inputs.maintenance,
+      );
+      if (clash.length) {
+        // A proposal's start is often the projected end of the run ahead of it, and that
+        // projection slides with the clock (an overdue booking, a run still stressing): seconds
+        // after proposing, the same slot starts a little later. Follow it, within a tolerance;
+        // anything more is a different slot and needs new proposals.
+        const slot = earliestSlot(rig, needs, requestedStartMs, inputs.commitments, inputs.maintenance, this.timing);
+        const slideH = slot ? (slot.startMs - requestedStartMs) / this.timing.msPerClockH : Number.POSITIVE_INFINITY;
+        if (!slot || slideH > bookingSlideToleranceH(needs, this.timing)) {
+          throw conflict(`The rig is no longer free at ${when(startMs)}: ${clash.join(' ')} Ask for new proposals.`, { reasons: clash });
+        }
+        startMs = slot.startMs;
+      }
+    } else {
+      const slot = earliestSlot(rig, needs, now, inputs.commitments, inputs.maintenance, this.timing);
+      if (!slot) throw unprocessable(`Oven ${rig.code} cannot take this run.`);
+      startMs = slot.startMs;
+    }
+    return { startMs, endMs: startMs + runDurationMs(needs, this.timing), requestedStartMs };
+  }
+
+  /** The booking's audit entries: the booking, and the override when the plan check was overridden. */
+  private async auditBooking(
+    m: EntityManager,
+    actor: SessionUser,
+    b: BookingPart,
+    rig: RigEntity,
+    saved: RunEntity,
+    window: { startMs: number; endMs: number; requestedStartMs: number | null },
+  ): Promise<void> {
+    const { plan, type, lots, part: input, overridden } = b;
+    const { startMs, endMs, requestedStartMs } = window;
+    const code = saved.code;
     await this.ctx.audit.record(
       {
         actor,
@@ -475,7 +515,6 @@ export class RunsService {
         m,
       );
     }
-    return saved;
   }
 
   private async newCode(m: EntityManager, kind: string, lotCodes: string[]): Promise<string> {
@@ -648,123 +687,138 @@ export class RunsService {
       if (!allowedActions(run.state).includes(action)) throw this.refuseAction(run, action);
       const rig = run.rigId ? await m.findOneBy(RigEntity, { id: run.rigId }) : null;
       const plan = await m.findOneByOrFail(StressPlanEntity, { id: run.planId });
-      const now = this.ctx.now();
-      const reason = input.reason?.trim() || null;
-      const reheat = async (): Promise<Partial<RunEntity>> => ({
-        heatingSince: now,
-        accruedToSeq: rig ? await maxSeq(m, rig.id) : 0,
-        accruedToClockS: null,
-      });
+      const a: ActionContext = { m, actor, run, rig, plan, now: this.ctx.now(), reason: input.reason?.trim() || null };
       switch (action) {
-        case 'start': {
-          if (!rig) throw unprocessable(`Run ${run.code} has no rig.`);
-          await this.checkStart(m, run, rig, plan, now.getTime());
-          events.push(
-            await transitionRun(
-              m,
-              this.deps,
-              run,
-              rig,
-              'heating',
-              { startedAt: run.startedAt ?? now, ambientReachedAt: null, ...(await reheat()) },
-              {
-                actor,
-                action: 'run.start',
-                reason,
-                details: { rig: rig.code, setC: plan.chamberC, humidityPct: plan.humidityPct },
-              },
-            ),
-          );
+        case 'start':
+          events.push(await this.startRun(a));
           break;
-        }
-        case 'pause': {
-          if (run.state === 'stressing' && rig) {
-            // Count the telemetry that landed up to now before the pause (exact hours).
-            for (let k = 0; k < 20; k++) {
-              const out = await accrueStep(m, this.deps, run, plan, rig);
-              events.push(...out.events);
-              if (out.to)
-                throw conflict(`Run ${run.code} reached a read point just now and is ${RUN_STATE_LABEL[run.state].toLowerCase()}; reload.`);
-              if (!out.more) break;
-            }
-          }
-          events.push(
-            await transitionRun(
-              m,
-              this.deps,
-              run,
-              rig,
-              'paused',
-              {},
-              { actor, action: 'run.pause', reason, details: { stressHours: run.stressHours } },
-            ),
-          );
+        case 'pause':
+          events.push(...(await this.pauseRun(a)));
           break;
-        }
-        case 'resume': {
-          if (rig) await this.checkChamberFree(m, run, rig, plan);
-          events.push(
-            await transitionRun(
-              m,
-              this.deps,
-              run,
-              rig,
-              'heating',
-              { ambientReachedAt: null, ...(await reheat()) },
-              {
-                actor,
-                action: 'run.resume',
-                reason,
-                details: { stressHours: run.stressHours },
-              },
-            ),
-          );
+        case 'resume':
+          events.push(await this.resumeRun(a));
           break;
-        }
-        case 'measurements-done': {
-          const rps = [...plan.readPointsH].sort((a, b) => a - b);
-          const at = rps[run.nextReadPoint - 1];
-          events.push(
-            await transitionRun(
-              m,
-              this.deps,
-              run,
-              rig,
-              'heating',
-              { ambientReachedAt: null, ...(await reheat()) },
-              {
-                actor,
-                action: 'run.measurements-done',
-                reason,
-                details: { readPointH: at ?? null, stressHours: run.stressHours },
-              },
-            ),
-          );
+        case 'measurements-done':
+          events.push(await this.measurementsDone(a));
           break;
-        }
-        case 'abort': {
-          events.push(
-            await transitionRun(
-              m,
-              this.deps,
-              run,
-              rig,
-              'aborted',
-              { abortReason: reason, finishedAt: now },
-              {
-                actor,
-                action: 'run.abort',
-                reason,
-                details: { stressHours: run.stressHours, wasState: run.state },
-              },
-            ),
-          );
+        case 'abort':
+          events.push(await this.abortRun(a));
           break;
-        }
       }
     });
     for (const e of events) emitRunEvent(this.ctx, e);
     return this.get(id);
+  }
+
+  /** Heating starts over: accrual resumes after the rig's latest stored telemetry. */
+  private async reheat({ m, rig, now }: ActionContext): Promise<Partial<RunEntity>> {
+    return {
+      heatingSince: now,
+      accruedToSeq: rig ? await maxSeq(m, rig.id) : 0,
+      accruedToClockS: null,
+    };
+  }
+
+  private async startRun(a: ActionContext): Promise<PendingRunEvent> {
+    const { m, actor, run, rig, plan, now, reason } = a;
+    if (!rig) throw unprocessable(`Run ${run.code} has no rig.`);
+    await this.checkStart(m, run, rig, plan, now.getTime());
+    return transitionRun(
+      m,
+      this.deps,
+      run,
+      rig,
+      'heating',
+      { startedAt: run.startedAt ?? now, ambientReachedAt: null, ...(await this.reheat(a)) },
+      {
+        actor,
+        action: 'run.start',
+        reason,
+        details: { rig: rig.code, setC: plan.chamberC, humidityPct: plan.humidityPct },
+      },
+    );
+  }
+
+  /** Pause; a stressing run first counts the telemetry that landed up to now (exact hours). */
+  private async pauseRun({ m, actor, run, rig, plan, reason }: ActionContext): Promise<PendingRunEvent[]> {
+    const events: PendingRunEvent[] = [];
+    if (run.state === 'stressing' && rig) {
+      for (let k = 0; k < 20; k++) {
+        const out = await accrueStep(m, this.deps, run, plan, rig);
+        events.push(...out.events);
+        if (out.to)
+          throw conflict(`Run ${run.code} reached a read point just now and is ${RUN_STATE_LABEL[run.state].toLowerCase()}; reload.`);
+        if (!out.more) break;
+      }
+    }
+    events.push(
+      await transitionRun(
+        m,
+        this.deps,
+        run,
+        rig,
+        'paused',
+        {},
+        { actor, action: 'run.pause', reason, details: { stressHours: run.stressHours } },
+      ),
+    );
+    return events;
+  }
+
+  private async resumeRun(a: ActionContext): Promise<PendingRunEvent> {
+    const { m, actor, run, rig, plan, reason } = a;
+    if (rig) await this.checkChamberFree(m, run, rig, plan);
+    return transitionRun(
+      m,
+      this.deps,
+      run,
+      rig,
+      'heating',
+      { ambientReachedAt: null, ...(await this.reheat(a)) },
+      {
+        actor,
+        action: 'run.resume',
+        reason,
+        details: { stressHours: run.stressHours },
+      },
+    );
+  }
+
+  private async measurementsDone(a: ActionContext): Promise<PendingRunEvent> {
+    const { m, actor, run, rig, plan, reason } = a;
+    const rps = [...plan.readPointsH].sort((x, y) => x - y);
+    const at = rps[run.nextReadPoint - 1];
+    return transitionRun(
+      m,
+      this.deps,
+      run,
+      rig,
+      'heating',
+      { ambientReachedAt: null, ...(await this.reheat(a)) },
+      {
+        actor,
+        action: 'run.measurements-done',
+        reason,
+        details: { readPointH: at ?? null, stressHours: run.stressHours },
+      },
+    );
+  }
+
+  private async abortRun({ m, actor, run, rig, now, reason }: ActionContext): Promise<PendingRunEvent> {
+    return transitionRun(
+      m,
+      this.deps,
+      run,
+      rig,
+      'aborted',
+      { abortReason: reason, finishedAt: now },
+      {
+        actor,
+        action: 'run.abort',
+        reason,
+        details: { stressHours: run.stressHours, wasState: run.state },
+      },
+    );
   }
 
   /** One chamber condition per oven: runs already heated in it must share the plan's set point. */
