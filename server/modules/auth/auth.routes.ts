@@ -79,8 +79,11 @@ export function authRoutes(ctx: AppContext): ApiRouter {
         // passport 0.7 regenerates the session on login (no session fixation).
         req.logIn(user, (e) => {
           if (e) return reject(e);
-          void ctx.audit.record({ actor: user, action: 'user.sign-in', entity: 'user', entityId: user.id });
-          resolve({ user });
+          // Recorded before answering: a sign-in's audit row landing after the response made the
+          // next request's "nothing changed" table counts flaky.
+          ctx.audit
+            .record({ actor: user, action: 'user.sign-in', entity: 'user', entityId: user.id })
+            .then(() => resolve({ user }), reject);
         });
       })(req, res, (e: unknown) => reject(e));
     });
