@@ -5,31 +5,12 @@ import { SEED_STEPS } from '../../server/seed/seed';
 import { insertHistoryRun, type HistoryRunSpec } from '../../server/seed/seed-history';
 import { jStat } from 'jstat';
 import { createTestApp, type TestApp } from '../support/api';
+import { insertTestDeviceType } from '../support/db';
 
 let t: TestApp;
 const ids: Record<string, string> = {};
 
-async function makeType(m: EntityManager, partNumber: string) {
-  return m.save(
-    m.create(DeviceTypeEntity, {
-      partNumber,
-      polarity: 'NPN',
-      bvcboV: 140,
-      bvceoV: 80,
-      bveboV: 6,
-      icMaxA: 1.5,
-      pMaxW: 12.5,
-      tjMaxC: 150,
-      thetaJcCPerW: 10,
-      thetaJaCPerW: 83.3,
-      betaRef: 120,
-      betaRefIcA: 0.15,
-      betaRefTC: 25,
-      xtb: 1.6,
-      icboRefA: 20e-9,
-    }),
-  );
-}
+const makeType = insertTestDeviceType;
 
 async function makePlan(m: EntityManager, deviceTypeId: string, p: Partial<StressPlanEntity> = {}) {
   return m.save(

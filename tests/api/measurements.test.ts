@@ -3,7 +3,6 @@ import type { EntityManager } from 'typeorm';
 import {
   AuditLogEntity,
   DeviceEntity,
-  DeviceTypeEntity,
   LotEntity,
   MeasurementEntity,
   MeasurementUploadEntity,
@@ -14,34 +13,14 @@ import {
 } from '../../server/db/entities';
 import { insertHistoryRun } from '../../server/seed/seed-history';
 import { createTestApp, type TestApp } from '../support/api';
-import { tableCounts } from '../support/db';
+import { insertTestDeviceType, tableCounts } from '../support/db';
 
 let t: TestApp;
 let runId: string;
 let otherRunId: string;
 const BIAS_OFF = new Date('2026-02-10T08:00:00Z');
 
-async function makeType(m: EntityManager, partNumber: string) {
-  return m.save(
-    m.create(DeviceTypeEntity, {
-      partNumber,
-      polarity: 'NPN',
-      bvcboV: 140,
-      bvceoV: 80,
-      bveboV: 6,
-      icMaxA: 1.5,
-      pMaxW: 12.5,
-      tjMaxC: 150,
-      thetaJcCPerW: 10,
-      thetaJaCPerW: 83.3,
-      betaRef: 120,
-      betaRefIcA: 0.15,
-      betaRefTC: 25,
-      xtb: 1.6,
-      icboRefA: 20e-9,
-    }),
-  );
-}
+const makeType = insertTestDeviceType;
 
 async function makePlan(m: EntityManager, deviceTypeId: string) {
   return m.save(

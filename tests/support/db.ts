@@ -2,10 +2,10 @@ import 'reflect-metadata';
 import { randomBytes } from 'node:crypto';
 import bcrypt from 'bcryptjs';
 import { Client } from 'pg';
-import type { DataSource } from 'typeorm';
+import type { DataSource, EntityManager } from 'typeorm';
 import type { DbConfig } from '../../server/config';
 import { createDataSource } from '../../server/db/data-source';
-import { RigEntity } from '../../server/db/entities';
+import { DeviceTypeEntity, RigEntity } from '../../server/db/entities';
 
 /** The template database holds the migrated schema; each test file clones it (~100 ms). */
 export const TEMPLATE_DB = 'emberlot_template';
@@ -87,4 +87,27 @@ export async function insertTestRig(
     credentialsIssuedAt: new Date(),
   });
   return rows.identifiers[0].id as string;
+}
+
+/** One NPN power transistor's ratings (an invented part) for tests that need a device type to hang lots on. */
+export function insertTestDeviceType(m: EntityManager, partNumber: string): Promise<DeviceTypeEntity> {
+  return m.save(
+    m.create(DeviceTypeEntity, {
+      partNumber,
+      polarity: 'NPN',
+      bvcboV: 140,
+      bvceoV: 80,
+      bveboV: 6,
+      icMaxA: 1.5,
+      pMaxW: 12.5,
+      tjMaxC: 150,
+      thetaJcCPerW: 10,
+      thetaJaCPerW: 83.3,
+      betaRef: 120,
+      betaRefIcA: 0.15,
+      betaRefTC: 25,
+      xtb: 1.6,
+      icboRefA: 20e-9,
+    }),
+  );
 }

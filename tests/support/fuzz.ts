@@ -12,8 +12,9 @@ import * as http from 'node:http';
 import type { AddressInfo } from 'node:net';
 import type { EntityManager } from 'typeorm';
 import type { ZodType } from 'zod';
-import { DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunEntity, StressPlanEntity } from '../../server/db/entities';
+import { DeviceEntity, LotEntity, RigEntity, RunEntity, StressPlanEntity } from '../../server/db/entities';
 import { insertHistoryRun } from '../../server/seed/seed-history';
+import { insertTestDeviceType } from './db';
 import type { RegisteredRoute } from '../../server/http/route';
 import { ROLES, type Role } from '../../shared/roles';
 import {
@@ -805,25 +806,7 @@ export async function createRunFixture(t: TestApp, tag: string): Promise<{ runId
   let runId = '';
   let lotId = '';
   await t.ctx.ds.transaction(async (m: EntityManager) => {
-    const type = await m.save(
-      m.create(DeviceTypeEntity, {
-        partNumber: `HPD-${tag}1`,
-        polarity: 'NPN',
-        bvcboV: 140,
-        bvceoV: 80,
-        bveboV: 6,
-        icMaxA: 1.5,
-        pMaxW: 12.5,
-        tjMaxC: 150,
-        thetaJcCPerW: 10,
-        thetaJaCPerW: 83.3,
-        betaRef: 120,
-        betaRefIcA: 0.15,
-        betaRefTC: 25,
-        xtb: 1.6,
-        icboRefA: 20e-9,
-      }),
-    );
+    const type = await insertTestDeviceType(m, `HPD-${tag}1`);
     const plan = await m.save(
       m.create(StressPlanEntity, {
         planKey: randomUUID(),
