@@ -1,6 +1,6 @@
 /** Applying server commands to the rig state (pure). `stored` is handled by the outbox. */
-import { parseCommand, type RigCommand, type StoredCommand } from '../shared/mqtt';
-import type { RigState, SocketState } from './physics';
+import { parseCommand, type BiasCycle, type RigCommand, type StoredCommand } from '../shared/mqtt';
+import type { CycleProgram, RigState, SocketState } from './physics';
 
 export interface ApplyResult {
   state: RigState;
@@ -55,6 +55,8 @@ export function applyCommand(state: RigState, cmd: Exclude<RigCommand, { type: '
         // A forced IB replaces regulation; a regulated IC replaces the forced IB.
         ...(cmd.iA !== undefined ? (s.mode === 'powered' ? { ibA: cmd.iA, icSetA: null } : { complianceA: cmd.iA }) : {}),
         ...(cmd.icA !== undefined ? { icSetA: cmd.icA } : {}),
+        // A cycling program belongs to one bias-on: without `cycle` the power is continuous.
+        cycle: cmd.on && cmd.cycle ? cycleProgram(cmd.cycle, s.cycle) : null,
       }));
       return { state: next, ok: true };
     }
@@ -74,6 +76,12 @@ export function applyCommand(state: RigState, cmd: Exclude<RigCommand, { type: '
       };
     }
   }
+}
+
+/** A socket's cycling program from a bias command; a repeated program keeps its phase and drive. */
+function cycleProgram(c: BiasCycle, was: CycleProgram | null | undefined): CycleProgram {
+  if (was && was.onS === c.onS && was.offS === c.offS && was.deltaTjC === c.deltaTjC) return was;
+  return { onS: c.onS, offS: c.offS, deltaTjC: c.deltaTjC, phaseS: 0, hotTjC: null, driveScale: was?.driveScale ?? 1 };
 }
 
 /** What the rig does with one message on its command topic. */

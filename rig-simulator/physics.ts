@@ -15,6 +15,7 @@
  * (θ·∂P/∂Tj ≥ 1) runs away exactly as the steady-state criterion predicts.
  */
 import { gainAtTemperature, leakageAtTemperature } from '../shared/physics';
+import { junctionFromTsp, tspAt, TYPICAL_VBE_SLOPE_V_PER_K, type TspCalibration } from '../shared/physics/tsp';
 import { createRng, gaussian, hashString } from './rng';
 
 export type BiasMode = 'powered' | 'reverse';
@@ -43,6 +44,32 @@ export interface DeviceModel {
   leakageRatioPer1000h: number;
   /** What the device becomes when destroyed by overheating. */
   failMode: FailMode;
+  /** Its temperature-sensitive parameter (VBE at the sense current); default DEFAULT_TSP. */
+  tsp?: TspCalibration;
+}
+
+/** VBE at a small sense current: ≈ 0.65 V at 25 °C, −2 mV/K [pub: JESD51-1, typical silicon]. */
+export const DEFAULT_TSP: TspCalibration = { v0V: 0.65, t0C: 25, slopeVPerK: TYPICAL_VBE_SLOPE_V_PER_K };
+/** The rig reads the TSP with this resolution (0.1 mV ≈ 0.05 K). */
+export const TSP_RESOLUTION_V = 1e-4;
+/** A rig with swing control aims this many kelvin above the planned ΔTj (inside the band, cycling.ts). */
+export const SWING_AIM_ABOVE_K = 3;
+
+/**
+ * A socket's power-cycling program (bias command `cycle`): power on for onS, off for offS, and the
+ * junction swing measured from the TSP at the end of each on-time (hot) and off-time (cold). The
+ * rig scales the socket's drive after each cycle toward the planned swing (within ×0.5…×2 of the
+ * commanded drive), as a power-cycling rig with swing control does.
+ */
+export interface CycleProgram {
+  onS: number;
+  offS: number;
+  deltaTjC: number;
+  /** Stress seconds into the current cycle (on first, then off). */
+  phaseS: number;
+  /** Tj read from the TSP at the end of this cycle's on-time. */
+  hotTjC: number | null;
+  driveScale: number;
 }
 
 export interface SocketState {
@@ -84,6 +111,11 @@ export interface SocketState {
   powerW: number;
   /** Stress hours accumulated under bias: drives drift. */
   stressH: number;
+  /** Power cycling: the program (null/absent = continuous), completed cycles since boot, swings since the last report. */
+  cycle?: CycleProgram | null;
+  cycleCount?: number;
+  swingLowC?: number | null;
+  swingHighC?: number | null;
 }
 
 export interface RigState {
@@ -129,9 +161,15 @@ export function isEnergised(s: Pick<SocketState, 'biasOn' | 'tripped'>): boolean
   return s.biasOn && !s.tripped;
 }
 
+/** True when power flows now: energised, and in the on-time of a cycling program. */
+export function powerFlows(s: Pick<SocketState, 'biasOn' | 'tripped' | 'cycle'>): boolean {
+  return isEnergised(s) && (!s.cycle || s.cycle.phaseS < s.cycle.onS);
+}
+
 /** Electrical operating point of a socket at a junction temperature (pure). */
 export function socketElectrical(s: SocketState, tjC: number): { iA: number; vOutV: number; powerW: number } {
-  if (!isEnergised(s) || s.destroyed === 'open') return { iA: 0, vOutV: 0, powerW: 0 };
+  if (!powerFlows(s) || s.destroyed === 'open') return { iA: 0, vOutV: 0, powerW: 0 };
+  const scale = s.cycle ? s.cycle.driveScale : 1;
   if (s.destroyed === 'short') {
     const i = Math.min(s.complianceA, s.vV / SHORT_OHMS);
     return { iA: i, vOutV: i * SHORT_OHMS, powerW: i * i * SHORT_OHMS };
@@ -146,13 +184,14 @@ export function socketElectrical(s: SocketState, tjC: number): { iA: number; vOu
   if (s.icSetA !== undefined && s.icSetA !== null) {
     // Regulated IC: the base drive is whatever holds IC at the set point. The regulator cannot drive
     // IB below zero, so once leakage alone ((β+1)·ICBO) exceeds the set point it flows regardless.
-    const target = Math.min(s.complianceA, s.icSetA);
+    const target = Math.min(s.complianceA, s.icSetA * scale);
     const ib = Math.max(0, (target - leakA) / beta);
     const ic = Math.min(s.complianceA, Math.max(target, leakA));
     return { iA: ic, vOutV: s.vV, powerW: s.vV * ic + VBE_V * ib };
   }
-  const ic = Math.min(s.complianceA, beta * s.ibA + leakA);
-  return { iA: ic, vOutV: s.vV, powerW: s.vV * ic + VBE_V * s.ibA };
+  const ib = s.ibA * scale;
+  const ic = Math.min(s.complianceA, beta * ib + leakA);
+  return { iA: ic, vOutV: s.vV, powerW: s.vV * ic + VBE_V * ib };
 }
 
 /** Dissipation as a function of Tj for a socket (for steady-state solvers and tests). */
@@ -191,6 +230,66 @@ function stepSocket(s: SocketState, chamberC: number, h: number): SocketState {
   return next;
 }
 
+/** Tj as the rig reads it from the socket's TSP (the sense voltage at the ADC's resolution). */
+export function tspJunctionC(s: SocketState): number {
+  const cal = s.device.tsp ?? DEFAULT_TSP;
+  const v = Math.round(tspAt(s.tjC, cal) / TSP_RESOLUTION_V) * TSP_RESOLUTION_V;
+  return junctionFromTsp(v, cal);
+}
+
+/** After a completed cycle: count it, keep its swing for the report, and steer the drive toward the planned swing. */
+function completeCycle(s: SocketState, p: CycleProgram, coldTjC: number): SocketState {
+  const swing = p.hotTjC === null ? null : Math.max(0, p.hotTjC - coldTjC);
+  let driveScale = p.driveScale;
+  if (swing !== null && swing > 0.5) {
+    const step = Math.min(1.25, Math.max(0.8, (p.deltaTjC + SWING_AIM_ABOVE_K) / swing));
+    driveScale = Math.min(2, Math.max(0.5, driveScale * step));
+  }
+  return {
+    ...s,
+    cycle: { ...p, phaseS: 0, hotTjC: null, driveScale },
+    cycleCount: (s.cycleCount ?? 0) + 1,
+    swingLowC: swing === null ? (s.swingLowC ?? null) : Math.min(s.swingLowC ?? Infinity, swing),
+    swingHighC: swing === null ? (s.swingHighC ?? null) : Math.max(s.swingHighC ?? -Infinity, swing),
+  };
+}
+
+/** stepSocket for a socket under a cycling program: split at the on/off switching instants. */
+function stepCyclingSocket(s: SocketState, chamberC: number, h: number): SocketState {
+  let cur = s;
+  let left = h;
+  while (left > 1e-9 && cur.cycle && isEnergised(cur)) {
+    const p: CycleProgram = cur.cycle;
+    const on = p.phaseS < p.onS;
+    const toSwitch = (on ? p.onS : p.onS + p.offS) - p.phaseS;
+    const seg = Math.min(left, toSwitch);
+    cur = stepSocket(cur, chamberC, seg);
+    left -= seg;
+    const phaseS = p.phaseS + seg;
+    if (seg < toSwitch - 1e-9) {
+      cur = { ...cur, cycle: { ...p, phaseS } };
+    } else if (on) {
+      // End of the on-time: power off, read the hot junction from the TSP.
+      cur = { ...cur, cycle: { ...p, phaseS: p.onS, hotTjC: tspJunctionC(cur) } };
+      cur = withElectrical(cur);
+    } else {
+      cur = withElectrical(completeCycle(cur, p, tspJunctionC(cur)));
+    }
+  }
+  return left > 1e-9 ? stepSocket(cur, chamberC, left) : cur;
+}
+
+function withElectrical(s: SocketState): SocketState {
+  const e = socketElectrical(s, s.tjC);
+  return { ...s, iA: e.iA, vOutV: e.vOutV, powerW: e.powerW };
+}
+
+/** The swings since the last report are cleared once a message carried them. */
+export function clearSwingReports(state: RigState): RigState {
+  if (!state.sockets.some((s) => s.swingLowC != null)) return state;
+  return { ...state, sockets: state.sockets.map((s) => (s.swingLowC != null ? { ...s, swingLowC: null, swingHighC: null } : s)) };
+}
+
 /** Advance the whole rig by dtS stress seconds (pure; splits into stable sub-steps). */
 export function stepRig(state: RigState, dtS: number): RigState {
   if (!(dtS > 0)) return state;
@@ -204,7 +303,7 @@ export function stepRig(state: RigState, dtS: number): RigState {
     if (state.humiditySetpointPct === null) humidityPct = null;
     else humidityPct = lag(humidityPct ?? 0, state.humiditySetpointPct, h, state.chamberTauS);
     const c = chamberC;
-    sockets = sockets.map((s) => stepSocket(s, c, h));
+    sockets = sockets.map((s) => (s.cycle && isEnergised(s) ? stepCyclingSocket(s, c, h) : stepSocket(s, c, h)));
   }
   return { ...state, stressClockS: state.stressClockS + dtS, chamberC, humidityPct, sockets };
 }

@@ -10,6 +10,7 @@ import { Outbox, type OutboxEntry } from './outbox';
 import {
   DEFAULTS,
   DEMO_LOTS,
+  clearSwingReports,
   createRigState,
   makeLotDevices,
   stepRig,
@@ -376,6 +377,7 @@ class SimulatedRig implements RigHandle {
     this.stats.samples++;
     this.maybeJumpClock();
     const message = buildTelemetry(this.physics, this.seq, this.rigNow(), { noise: this.faults.noise, rng: this.rng });
+    this.physics = clearSwingReports(this.physics);
     const payload = this.config.telemetryForm === 'objects' ? JSON.stringify(message) : telemetryColumnsText(message);
     this.publishSample(this.seq, payload);
     this.maybeSendMalformed();

@@ -24,6 +24,9 @@ export function buildTelemetry(
   const currentNoise = (opts.noise?.currentPct ?? 0) / 100;
   const rng = opts.rng ?? Math.random;
   const t = (c: number) => round(clamp(c + (tempNoise ? tempNoise * gaussian(rng) : 0), TEMP_MIN_C, TEMP_MAX_C), 2);
+  // A rig that has cycled reports every socket's counter and swings (all sockets or none).
+  const cycling = state.sockets.some((s) => s.cycle || (s.cycleCount ?? 0) > 0);
+  const swing = (x: number | null | undefined) => (x === null || x === undefined ? null : round(x, 2));
   return {
     v: 1,
     rig: state.rigCode,
@@ -43,6 +46,7 @@ export function buildTelemetry(
         iA: sig(clamp(Math.max(0, noisyI), 0, CURRENT_LIMIT_A)),
         biasOn: on,
         tripped: s.tripped,
+        ...(cycling ? { cycles: s.cycleCount ?? 0, dTjLowC: swing(s.swingLowC), dTjHighC: swing(s.swingHighC) } : {}),
       };
     }),
   };

@@ -49,6 +49,17 @@ export const cmdIdSchema = z
   .max(64)
   .regex(/^[A-Za-z0-9._:-]+$/, 'cmdId: letters, digits, . _ : -');
 
+/** A cycle counter: completed power cycles since the rig booted. */
+export const MAX_CYCLE_COUNT = 2_147_483_647;
+const cycleCount = () => z.number().int().min(0).max(MAX_CYCLE_COUNT);
+/** A junction swing, K (null: no cycle completed since the previous message). */
+const swingC = () =>
+  z
+    .number()
+    .min(0)
+    .max(TEMP_MAX_C - TEMP_MIN_C)
+    .nullable();
+
 /** One socket's reading at the sample instant. */
 export const socketReadingSchema = z.object({
   /** 0-based socket index on the rig board. */
@@ -61,6 +72,14 @@ export const socketReadingSchema = z.object({
   iA: amps(),
   biasOn: z.boolean(),
   tripped: z.boolean(),
+  /**
+   * Power cycling only (see biasCycleSchema): completed cycles since the rig booted, and the
+   * smallest and largest junction swing (K, from the socket's temperature-sensitive parameter) of
+   * the cycles completed since the previous message, null when none completed.
+   */
+  cycles: cycleCount().optional(),
+  dTjLowC: swingC().optional(),
+  dTjHighC: swingC().optional(),
 });
 export type SocketReading = z.infer<typeof socketReadingSchema>;
 
@@ -93,13 +112,29 @@ export const telemetrySchema = z
   })
   .superRefine((t, ctx) => {
     const seen = new Set<number>();
+    const cycling = t.sockets[0]?.cycles !== undefined;
     t.sockets.forEach((s, k) => {
       if (seen.has(s.i)) {
         ctx.addIssue({ code: 'custom', path: ['sockets', k, 'i'], message: `socket index ${s.i} appears twice` });
       }
       seen.add(s.i);
+      if ((s.cycles !== undefined) !== cycling) {
+        ctx.addIssue({ code: 'custom', path: ['sockets', k, 'cycles'], message: 'cycles must be given for every socket or for none' });
+      }
+      if (s.cycles === undefined && (s.dTjLowC !== undefined || s.dTjHighC !== undefined)) {
+        ctx.addIssue({ code: 'custom', path: ['sockets', k, 'dTjLowC'], message: 'a junction swing needs the cycle count' });
+      }
+      const swingProblem = swingPairProblem(s.dTjLowC ?? null, s.dTjHighC ?? null);
+      if (swingProblem) ctx.addIssue({ code: 'custom', path: ['sockets', k, 'dTjLowC'], message: swingProblem });
     });
   });
+
+/** Why a (smallest, largest) junction-swing pair is inconsistent, or null. */
+function swingPairProblem(low: number | null, high: number | null): string | null {
+  if ((low === null) !== (high === null)) return 'dTjLowC and dTjHighC are both null or both numbers';
+  if (low !== null && high !== null && low > high) return `dTjLowC ${low} is above dTjHighC ${high}`;
+  return null;
+}
 export type TelemetryObjects = z.infer<typeof telemetrySchema>;
 
 /** `flags` bits of the column form. */
@@ -132,11 +167,29 @@ export const telemetryColumnsSchema = z
           .max(FLAG_BIAS_ON | FLAG_TRIPPED),
       )
       .max(MAX_SOCKETS),
+    /** Power cycling only, all three or none: as version 1's per-socket fields. */
+    cycles: z.array(cycleCount()).max(MAX_SOCKETS).optional(),
+    dTjLowC: z.array(swingC()).max(MAX_SOCKETS).optional(),
+    dTjHighC: z.array(swingC()).max(MAX_SOCKETS).optional(),
   })
   .superRefine((t, ctx) => {
     const n = t.socket.length;
     for (const key of ['caseC', 'vV', 'iA', 'flags'] as const) {
       if (t[key].length !== n) ctx.addIssue({ code: 'custom', path: [key], message: `${t[key].length} values for ${n} sockets` });
+    }
+    const cycleKeys = (['cycles', 'dTjLowC', 'dTjHighC'] as const).filter((key) => t[key] !== undefined);
+    if (cycleKeys.length !== 0 && cycleKeys.length !== 3) {
+      ctx.addIssue({ code: 'custom', path: [cycleKeys[0]], message: 'cycles, dTjLowC and dTjHighC come together' });
+    }
+    for (const key of cycleKeys) {
+      const a = t[key]!;
+      if (a.length !== n) ctx.addIssue({ code: 'custom', path: [key], message: `${a.length} values for ${n} sockets` });
+    }
+    if (t.dTjLowC && t.dTjHighC) {
+      for (let k = 0; k < n; k++) {
+        const problem = swingPairProblem(t.dTjLowC[k] ?? null, t.dTjHighC[k] ?? null);
+        if (problem) ctx.addIssue({ code: 'custom', path: ['dTjLowC', k], message: problem });
+      }
     }
     const seen = new Set<number>();
     t.socket.forEach((i, k) => {
@@ -155,7 +208,7 @@ export type TelemetryColumns = z.infer<typeof telemetryColumnsSchema>;
 export type Telemetry = Omit<TelemetryColumns, 'v'> & { v: 1 | 2 };
 
 /** The per-socket columns of a telemetry message (element k of each = one socket). */
-export type TelemetrySocketColumns = Pick<TelemetryColumns, 'socket' | 'caseC' | 'vV' | 'iA' | 'flags'>;
+export type TelemetrySocketColumns = Pick<TelemetryColumns, 'socket' | 'caseC' | 'vV' | 'iA' | 'flags' | 'cycles' | 'dTjLowC' | 'dTjHighC'>;
 
 /** Telemetry with one object per socket (version 1's shape, `v` 1 or 2): what a rig builds. */
 export type TelemetryReadings = Omit<TelemetryObjects, 'v'> & { v: 1 | 2 };
@@ -179,7 +232,17 @@ export function socketColumns(sockets: readonly SocketReading[]): TelemetrySocke
     iA[k] = s.iA;
     flags[k] = socketFlags(s.biasOn, s.tripped);
   }
-  return { socket, caseC, vV, iA, flags };
+  if (n === 0 || sockets[0].cycles === undefined) return { socket, caseC, vV, iA, flags };
+  return {
+    socket,
+    caseC,
+    vV,
+    iA,
+    flags,
+    cycles: sockets.map((s) => s.cycles ?? 0),
+    dTjLowC: sockets.map((s) => s.dTjLowC ?? null),
+    dTjHighC: sockets.map((s) => s.dTjHighC ?? null),
+  };
 }
 
 /** Telemetry with per-socket objects (version 1, or a rig's own) → the one shape receivers handle. */
@@ -201,6 +264,7 @@ export function telemetryFromReadings(t: Omit<TelemetryObjects, 'v'> & { v?: 1 |
 export function socketReadings(c: TelemetrySocketColumns): SocketReading[] {
   const n = c.socket.length;
   const out: SocketReading[] = new Array(n);
+  const { cycles, dTjLowC, dTjHighC } = c;
   for (let k = 0; k < n; k++) {
     const flags = c.flags[k];
     out[k] = {
@@ -210,6 +274,7 @@ export function socketReadings(c: TelemetrySocketColumns): SocketReading[] {
       iA: c.iA[k],
       biasOn: (flags & FLAG_BIAS_ON) !== 0,
       tripped: (flags & FLAG_TRIPPED) !== 0,
+      ...(cycles && dTjLowC && dTjHighC ? { cycles: cycles[k], dTjLowC: dTjLowC[k], dTjHighC: dTjHighC[k] } : {}),
     };
   }
   return out;
@@ -232,6 +297,7 @@ export function telemetryColumnsText(t: Omit<TelemetryObjects, 'v'> | Omit<Telem
     vV: c.vV,
     iA: c.iA,
     flags: c.flags,
+    ...(c.cycles && c.dTjLowC && c.dTjHighC ? { cycles: c.cycles, dTjLowC: c.dTjLowC, dTjHighC: c.dTjHighC } : {}),
   };
   return JSON.stringify(body);
 }
@@ -267,6 +333,20 @@ export const setpointCommandSchema = z.object({
 });
 
 /**
+ * Power cycling (intermittent operating life, MIL-STD-750 method 1037): with `on: true`, the
+ * sockets' power switches on for `onS` and off for `offS` stress-clock seconds, over and over, and
+ * the rig reports each socket's completed cycles and junction swing (telemetry `cycles`,
+ * `dTjLowC`, `dTjHighC`). `deltaTjC` is the planned swing a rig with swing control aims at.
+ * Unlike the other bias settings it is not kept: a bias-on without `cycle` powers continuously.
+ */
+export const biasCycleSchema = z.object({
+  onS: z.number().positive().max(86_400),
+  offS: z.number().positive().max(86_400),
+  deltaTjC: z.number().positive().max(TEMP_MAX_C),
+});
+export type BiasCycle = z.infer<typeof biasCycleSchema>;
+
+/**
  * Bias on/off for some sockets. `vV` = VCE (powered) or reverse voltage (reverse bias);
  * `iA` = forced base drive IB under powered bias, the supply's current limit under reverse bias;
  * `icA` = collector current the rig regulates under powered bias (it servoes the base drive), for
@@ -281,6 +361,7 @@ export const biasCommandSchema = z.object({
   vV: volts().optional(),
   iA: amps().optional(),
   icA: z.number().min(0).max(CURRENT_LIMIT_A).optional(),
+  cycle: biasCycleSchema.optional(),
 });
 
 /** Remove bias from one socket at once and latch it off until `reset-trip`. */
@@ -492,6 +573,25 @@ const COLUMN_KEYS = [
   'flags',
 ] as const;
 
+/** Version 2's keys with the power-cycling columns. */
+const COLUMN_CYCLE_KEYS = [...COLUMN_KEYS, 'cycles', 'dTjLowC', 'dTjHighC'] as const;
+
+/** The cycle columns' rules by hand (cycle counts; swing pairs both null or low ≤ high). */
+function isPlainCycleColumns(j: Record<string, unknown>, n: number): boolean {
+  const { cycles, dTjLowC: lo, dTjHighC: hi } = j;
+  if (!Array.isArray(cycles) || !Array.isArray(lo) || !Array.isArray(hi)) return false;
+  if (cycles.length !== n || lo.length !== n || hi.length !== n) return false;
+  const maxSwing = TEMP_MAX_C - TEMP_MIN_C;
+  for (let k = 0; k < n; k++) {
+    if (!isIndex(cycles[k], 0, MAX_CYCLE_COUNT)) return false;
+    const a: unknown = lo[k];
+    const b: unknown = hi[k];
+    if (a === null && b === null) continue;
+    if (!inRange(a, 0, maxSwing) || !inRange(b, 0, maxSwing) || (a as number) > (b as number)) return false;
+  }
+  return true;
+}
+
 /** An array of exactly n numbers, each within [lo, hi]. */
 function numbersIn(a: unknown, n: number, lo: number, hi: number): boolean {
   if (!Array.isArray(a) || a.length !== n) return false;
@@ -507,7 +607,9 @@ function numbersIn(a: unknown, n: number, lo: number, hi: number): boolean {
  * schema accepts `j` and would return a value equal to it (exactly its keys, every value valid).
  */
 export function isPlainTelemetryColumns(j: unknown): j is TelemetryColumns {
-  if (!hasExactly(j, COLUMN_KEYS) || !isPlainHeader(j, 2)) return false;
+  const cycling = hasExactly(j, COLUMN_CYCLE_KEYS);
+  if (!cycling && !hasExactly(j, COLUMN_KEYS)) return false;
+  if (!isPlainHeader(j, 2)) return false;
   const socket = j.socket;
   if (!Array.isArray(socket) || socket.length < 1 || socket.length > MAX_SOCKETS) return false;
   const n = socket.length;
@@ -519,6 +621,7 @@ export function isPlainTelemetryColumns(j: unknown): j is TelemetryColumns {
     return false;
   const flags = j.flags;
   if (!Array.isArray(flags) || flags.length !== n) return false;
+  if (cycling && !isPlainCycleColumns(j, n)) return false;
   const gen = nextSeenGeneration();
   for (let k = 0; k < n; k++) {
     const i: unknown = socket[k];
@@ -549,6 +652,13 @@ function flushInPlace(a: number[]): void {
   }
 }
 
+function flushSwings(a: Array<number | null>): void {
+  for (let k = 0; k < a.length; k++) {
+    const x = a[k];
+    if (x !== null && x !== 0 && x < REAL_FLUSH_BELOW) a[k] = 0;
+  }
+}
+
 /**
  * Valid telemetry with every value its database column can hold: the fields stored as `real`
  * (chamber, set point, humidity, case temperature, voltage) flushed to 0 below REAL_FLUSH_BELOW.
@@ -560,6 +670,8 @@ export function withStorableReals(t: Telemetry): Telemetry {
   if (t.humidityPct !== null) t.humidityPct = flushed(t.humidityPct);
   flushInPlace(t.caseC);
   flushInPlace(t.vV);
+  if (t.dTjLowC) flushSwings(t.dTjLowC);
+  if (t.dTjHighC) flushSwings(t.dTjHighC);
   return t;
 }
 

@@ -16,6 +16,7 @@
  */
 
 import { CHAMBER_TOLERANCE_PCT, HUMIDITY_TOLERANCE_RH } from '../domain/standards';
+import type { SocketCycleReport } from './cycling';
 
 export { CHAMBER_TOLERANCE_PCT, HUMIDITY_TOLERANCE_RH };
 
@@ -51,6 +52,8 @@ export interface SocketSample {
   vV: number;
   biasOn: boolean;
   tripped: boolean;
+  /** A cycling rig's cycle report (shared/scheduling/cycling.ts); absent otherwise. */
+  cycle?: SocketCycleReport;
 }
 
 export interface ClockSample {
@@ -136,6 +139,18 @@ export const HOURS_EPS = 1e-9;
 /** Has `hours` reached `targetH` (within HOURS_EPS)? */
 export function reachedH(hours: number, targetH: number): boolean {
   return hours >= targetH - HOURS_EPS;
+}
+
+/**
+ * The share of an interval's increment `add` that brings `before` up to `target`: 1 when the
+ * interval ends short of the target (or reaches it within HOURS_EPS), else (target − before) / add.
+ * Accrual stops a run at its target exactly — hours (and each socket's hours) interpolated within
+ * the last interval — instead of crediting the whole interval and ending a sample late (a 12.0 h
+ * target on 0.3 h samples once ended at 12.2 h).
+ */
+export function shareToTarget(before: number, add: number, target: number): number {
+  if (!(add > 0) || before + add <= target + HOURS_EPS) return 1;
+  return Math.min(1, Math.max(0, (target - before) / add));
 }
 
 export interface SeriesAccrual {

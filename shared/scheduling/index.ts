@@ -2,13 +2,16 @@
 export * from './constraints';
 export * from './heuristic';
 export * from './accrual';
+export * from './cycling';
 
 import type { Bias } from '../schemas/plans';
 import { DEFAULT_BIAS_TOLERANCE_PCT } from '../domain/standards';
 import { isCyclingKind, isPoweredKind, isReverseBiasKind, type PlanKind } from '../domain/stress';
 import type { AccrualConditions } from './accrual';
+import { planCycleCommand, type PlanCycle } from './cycling';
 
 type PlanLike = { kind: PlanKind; bias: Bias };
+type BiasSettings = { vV?: number; iA?: number; icA?: number; cycle?: { onS: number; offS: number; deltaTjC: number } };
 
 /** The bias voltage a run applies (and the rig must supply): VCB under reverse bias, VCE when powered. */
 export function planBiasV(plan: PlanLike): number | null {
@@ -23,14 +26,17 @@ export function planBiasV(plan: PlanLike): number | null {
  * so the rig must get the same one. Reverse-bias kinds send no current: the rig keeps its supply's
  * current limit.
  */
-export function planBiasSettings(plan: PlanLike): { vV?: number; iA?: number; icA?: number } {
-  const out: { vV?: number; iA?: number; icA?: number } = {};
+export function planBiasSettings(plan: PlanLike & { cycle?: PlanCycle | null }): BiasSettings {
+  const out: BiasSettings = {};
   const v = planBiasV(plan);
   if (v !== null) out.vV = v;
   if (isPoweredKind(plan.kind)) {
     if (plan.bias.icA !== null && plan.bias.icA !== undefined) out.icA = plan.bias.icA;
     else if (plan.bias.ibA !== null && plan.bias.ibA !== undefined) out.iA = plan.bias.ibA;
   }
+  // A cycling plan's on/off timing and swing go with every bias-on (shared/scheduling/cycling.ts).
+  const cycle = planCycleCommand({ kind: plan.kind, cycle: plan.cycle ?? null });
+  if (cycle) out.cycle = cycle;
   return out;
 }
 
@@ -39,7 +45,9 @@ export function accrualConditionsFor(plan: PlanLike & { chamberC: number; humidi
   return {
     setC: plan.chamberC,
     humidityPct: plan.humidityPct,
-    biasV: planBiasV(plan),
+    // A cycling socket's supply is off half of each cycle by design: its bias counts while the
+    // cycling program runs (biasOn), and the swing it reports is the stress evidence (cycling.ts).
+    biasV: isCyclingKind(plan.kind) ? null : planBiasV(plan),
     biasTolerancePct: plan.bias.tolerancePct ?? DEFAULT_BIAS_TOLERANCE_PCT,
     runNeedsBiasedSocket: !isCyclingKind(plan.kind),
   };

@@ -69,6 +69,8 @@ export class RunEntity {
   @Column({ type: 'timestamptz' }) stateChangedAt: Date;
   /** Stress hours accrued by the run while conditions held (MIL-STD-750 general requirements). */
   @Column({ type: 'double precision', default: 0 }) stressHours: number;
+  /** Power cycling: the run's credited cycles (its read points and end count these; shared/scheduling/cycling.ts). */
+  @Column({ type: 'int', default: 0 }) cyclesDone: number;
   /** Index into the plan's read points of the next read point to reach. */
   @Column({ type: 'int', default: 0 }) nextReadPoint: number;
   /** Telemetry sequence number up to which hours have been accrued (restart-exact accounting). */
@@ -121,4 +123,10 @@ export class RunSocketEntity {
   @Column({ type: 'text', nullable: true }) tripReason: string | null;
   /** Read point (hours) at which this device first failed its criteria; null while passing. */
   @Column({ type: 'double precision', nullable: true }) failedAtH: number | null;
+  /** Power cycling: cycles credited (swing within the plan's band), and cycles completed but not credited. */
+  @Column({ type: 'int', default: 0 }) cyclesDone: number;
+  @Column({ type: 'int', default: 0 }) cyclesMissed: number;
+  /** The smallest / largest junction swing (K) the rig last reported for this socket. */
+  @Column({ type: 'real', nullable: true }) lastDTjLowC: number | null;
+  @Column({ type: 'real', nullable: true }) lastDTjHighC: number | null;
 }

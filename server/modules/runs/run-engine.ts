@@ -10,10 +10,15 @@
 import type { EntityManager } from 'typeorm';
 import {
   accrualConditionsFor,
+  accrueCycleInterval,
   accrueInterval,
   chamberBand,
+  countsCycles,
+  cycleBand,
   HUMIDITY_TOLERANCE_RH,
   reachedH,
+  readPointCycles,
+  shareToTarget,
   type ClockSample,
 } from '../../../shared/scheduling';
 import { RUN_STATE_LABEL, type RunState } from '../../../shared/schemas/runs';
@@ -25,6 +30,7 @@ import type { PendingRunEvent } from './run-events';
 import { sortedReadPoints } from './run-view';
 import { batchAt, batchesAfter, firstInBand, socketSamples, toClockSample, type BatchRow } from './telemetry-reads';
 import { storeRunAccrual, storeSocketAccrual } from './runs.data';
+import { storeRunCycles, storeSocketCycles } from './cycles.data';
 
 /** A missing seq is waited for this long (it may still arrive from the rig's outbox) before it is skipped. */
 export const GAP_WAIT_MS = 30_000;
@@ -145,11 +151,68 @@ interface AccrualFold {
   outcome: 'read-hold' | 'cooling' | null;
   holdIndex: number;
   processed: number;
+  /** Power cycling (null for plans counted in hours): credited cycles of the run and per socket. */
+  cycles: CycleFold | null;
+}
+
+interface CycleFold {
+  run: number;
+  done: Map<number, number>;
+  missed: Map<number, number>;
+  lastLow: Map<number, number | null>;
+  lastHigh: Map<number, number | null>;
+  touched: Set<number>;
+}
+
+/**
+ * Where a run stops next: its first read point still ahead (index into rps) or its end (-1), as a
+ * target in the run's own measure — hours, or cycles for a cycling plan (read points in hours map
+ * onto cycles by readPointCycles).
+ */
+function nextStop(run: RunEntity, plan: StressPlanEntity, rps: number[]): { index: number; target: number } {
+  const inCycles = countsCycles(plan);
+  const measure = (h: number) => (inCycles ? readPointCycles(plan, h) : h);
+  let idx = run.nextReadPoint;
+  while (idx < rps.length && rps[idx] <= 0) idx++;
+  if (idx < rps.length && rps[idx] < plan.durationH) return { index: idx, target: measure(rps[idx]) };
+  return { index: -1, target: inCycles ? plan.cycle!.cycles : plan.durationH };
+}
+
+/** Adds one interval's cycles (run and sockets), clipped so the run's count stops at `target`, and notes the swings reported. */
+function foldCycles(
+  c: CycleFold,
+  prev: ClockSample | null,
+  cur: ClockSample,
+  chamberHeld: boolean,
+  runSockets: number[],
+  latched: ReadonlySet<number>,
+  plan: StressPlanEntity,
+  target: number,
+): void {
+  for (const s of cur.sockets) {
+    if (s.cycle && s.cycle.dTjHighC !== null) {
+      c.lastLow.set(s.socket, s.cycle.dTjLowC);
+      c.lastHigh.set(s.socket, s.cycle.dTjHighC);
+      c.touched.add(s.socket);
+    }
+  }
+  if (!prev) return;
+  const r = accrueCycleInterval(prev.sockets, cur.sockets, chamberHeld, runSockets, latched, cycleBand(plan.cycle!.deltaTjC));
+  const room = Math.max(0, target - c.run);
+  for (const [k, ic] of r.sockets) {
+    const counted = Math.min(ic.counted, room);
+    c.done.set(k, (c.done.get(k) ?? 0) + counted);
+    c.missed.set(k, (c.missed.get(k) ?? 0) + (ic.completed - ic.counted));
+    c.touched.add(k);
+  }
+  c.run += Math.min(r.run, room);
 }
 
 /**
  * Adds the chunk's intervals in seq order, stopping at a gap still worth waiting for, at the end
- * of stress or at a read point.
+ * of stress or at a read point. The interval that crosses the next stop is credited only up to
+ * it (hours interpolated within the interval, cycles counted up to the target), so a run stops at
+ * its target exactly, never a sample late.
  */
 function foldBatches(
   run: RunEntity,
@@ -164,6 +227,7 @@ function foldBatches(
   const socketIdx = sockets.map((s) => s.socketIndex);
   const latched = new Set(sockets.filter((s) => s.tripped).map((s) => s.socketIndex));
   const cond = accrualConditionsFor(plan);
+  const inCycles = countsCycles(plan);
   let prev = firstPrev;
   const f: AccrualFold = {
     hours: run.stressHours,
@@ -175,16 +239,30 @@ function foldBatches(
     outcome: null,
     holdIndex: -1,
     processed: 0,
+    cycles: inCycles
+      ? {
+          run: run.cyclesDone,
+          done: new Map(sockets.map((s) => [s.socketIndex, s.cyclesDone])),
+          missed: new Map(sockets.map((s) => [s.socketIndex, s.cyclesMissed])),
+          lastLow: new Map(sockets.map((s) => [s.socketIndex, s.lastDTjLowC])),
+          lastHigh: new Map(sockets.map((s) => [s.socketIndex, s.lastDTjHighC])),
+          touched: new Set<number>(),
+        }
+      : null,
   };
   for (const b of batches) {
     if (prev && b.seq !== prev.seq + 1 && now.getTime() - b.storedAt.getTime() < GAP_WAIT_MS) break;
     const cur = toClockSample(b, samples.get(b.seq) ?? []);
     const r = accrueInterval(prev, cur, cond, socketIdx, latched);
-    f.hours = f.hours + r.runS / 3600;
-    for (const [k, s] of r.socketS) {
-      f.socketH.set(k, (f.socketH.get(k) ?? 0) + s / 3600);
+    const stop = nextStop(run, plan, rps);
+    // Hours: only up to the next stop when the run is counted in hours (interpolated within the interval).
+    const share = inCycles ? 1 : shareToTarget(f.hours, r.runS / 3600, stop.target);
+    f.hours = f.hours + (r.runS / 3600) * share;
+    for (const [k, sec] of r.socketS) {
+      f.socketH.set(k, (f.socketH.get(k) ?? 0) + (sec / 3600) * share);
       f.touched.add(k);
     }
+    if (f.cycles) foldCycles(f.cycles, r.dtS > 0 ? prev : null, cur, r.chamberHeld, socketIdx, latched, plan, stop.target);
     for (const k of r.newlyTripped) {
       latched.add(k);
       f.newlyTripped.add(k);
@@ -193,18 +271,20 @@ function foldBatches(
     f.lastSeq = b.seq;
     f.lastClock = b.clockS;
     f.processed++;
-    if (reachedH(f.hours, plan.durationH)) {
+    const progress = f.cycles ? f.cycles.run : f.hours;
+    const reached = f.cycles ? progress >= stop.target : reachedH(progress, stop.target);
+    if (!reached) continue;
+    if (!f.cycles) f.hours = stop.target; // exactly the target, not a float sum a hair below it
+    if (stop.index < 0) {
       f.outcome = 'cooling';
       break;
     }
-    let idx = run.nextReadPoint;
-    while (idx < rps.length && rps[idx] <= 0) idx++;
-    if (idx < rps.length && rps[idx] < plan.durationH && reachedH(f.hours, rps[idx])) {
-      while (idx + 1 < rps.length && rps[idx + 1] < plan.durationH && reachedH(f.hours, rps[idx + 1])) idx++;
-      f.outcome = 'read-hold';
-      f.holdIndex = idx;
-      break;
-    }
+    f.outcome = 'read-hold';
+    f.holdIndex = stop.index;
+    // Read points that fall on the same cycle count are held once.
+    const measure = (h: number) => (countsCycles(plan) ? readPointCycles(plan, h) : h);
+    while (f.holdIndex + 1 < rps.length && rps[f.holdIndex + 1] < plan.durationH && measure(rps[f.holdIndex + 1]) <= stop.target) f.holdIndex++;
+    break;
   }
   return f;
 }
@@ -216,6 +296,7 @@ async function saveAccrual(m: EntityManager, run: RunEntity, f: AccrualFold, now
   run.stressHours = hours;
   run.accruedToSeq = lastSeq;
   run.accruedToClockS = lastClock;
+  if (f.cycles) await saveCycles(m, run, f.cycles);
   const changedSockets = [...new Set([...touched, ...newlyTripped])];
   if (changedSockets.length) {
     await storeSocketAccrual(
@@ -227,6 +308,22 @@ async function saveAccrual(m: EntityManager, run: RunEntity, f: AccrualFold, now
       changedSockets.map((k) => newlyTripped.has(k)),
     );
   }
+}
+
+async function saveCycles(m: EntityManager, run: RunEntity, c: CycleFold): Promise<void> {
+  if (c.run !== run.cyclesDone) await storeRunCycles(m, run.id, c.run);
+  run.cyclesDone = c.run;
+  await storeSocketCycles(
+    m,
+    run.id,
+    [...c.touched].map((k) => ({
+      socket: k,
+      done: c.done.get(k) ?? 0,
+      missed: c.missed.get(k) ?? 0,
+      low: c.lastLow.get(k) ?? null,
+      high: c.lastHigh.get(k) ?? null,
+    })),
+  );
 }
 
 /** The end of stress (→ cooling) or a read point (→ read-hold) with its read-point-due event. */
@@ -255,7 +352,12 @@ async function stopEvents(
         {
           actor: 'system',
           action: 'run.stress-complete',
-          details: { stressHours: hours, targetH: plan.durationH, seq: lastSeq },
+          details: {
+            stressHours: hours,
+            targetH: plan.durationH,
+            seq: lastSeq,
+            ...(f.cycles ? { cycles: f.cycles.run, targetCycles: plan.cycle?.cycles ?? null } : {}),
+          },
         },
       ),
     );
@@ -272,7 +374,7 @@ async function stopEvents(
         {
           actor: 'system',
           action: 'run.read-point',
-          details: { readPointH: rps[holdIndex], stressHours: hours, seq: lastSeq },
+          details: { readPointH: rps[holdIndex], stressHours: hours, seq: lastSeq, ...(f.cycles ? { cycles: f.cycles.run } : {}) },
         },
       ),
     );
@@ -300,7 +402,7 @@ export async function accrueStep(
   const batches = await batchesAfter(m, rig.id, run.accruedToSeq, ACCRUAL_CHUNK);
   if (!batches.length) return { changed: false, events: [] };
   const fromSeq = run.accruedToSeq > 0 ? run.accruedToSeq : batches[0].seq;
-  const samples = await socketSamples(m, rig.id, fromSeq, batches[batches.length - 1].seq, socketIdx);
+  const samples = await socketSamples(m, rig.id, fromSeq, batches[batches.length - 1].seq, socketIdx, countsCycles(plan));
   let prev: ClockSample | null = null;
   if (run.accruedToSeq > 0) {
     const pb = await batchAt(m, rig.id, run.accruedToSeq);

@@ -49,25 +49,39 @@ export async function batchesAfter(m: EntityManager, rigId: string, afterSeq: nu
   return rows.map(toBatch);
 }
 
-/** Socket readings of the given sockets for seqs in [fromSeq, toSeq], grouped by seq. */
+/**
+ * Socket readings of the given sockets for seqs in [fromSeq, toSeq], grouped by seq; with
+ * `withCycles` each reading also carries the rig's power-cycling report (telemetry_cycles) when
+ * there is one.
+ */
 export async function socketSamples(
   m: EntityManager,
   rigId: string,
   fromSeq: number,
   toSeq: number,
   sockets: number[],
+  withCycles = false,
 ): Promise<Map<number, SocketSample[]>> {
   const out = new Map<number, SocketSample[]>();
   if (!sockets.length || toSeq < fromSeq) return out;
   const rows: Array<Record<string, unknown>> = await m.query(
-    `SELECT seq, socket, v_v, bias_on, tripped FROM telemetry_samples
+    withCycles
+      ? `SELECT s.seq, s.socket, s.v_v, s.bias_on, s.tripped, c.cycles, c.d_tj_low_c, c.d_tj_high_c FROM telemetry_samples s
+         LEFT JOIN telemetry_cycles c ON c.rig_id = s.rig_id AND c.seq = s.seq AND c.socket = s.socket
+         WHERE s.rig_id = $1 AND s.seq >= $2 AND s.seq <= $3 AND s.socket = ANY($4::smallint[]) ORDER BY s.seq, s.socket`
+      : `SELECT seq, socket, v_v, bias_on, tripped FROM telemetry_samples
      WHERE rig_id = $1 AND seq >= $2 AND seq <= $3 AND socket = ANY($4::smallint[]) ORDER BY seq, socket`,
     [rigId, fromSeq, toSeq, sockets],
   );
+  const num = (x: unknown): number | null => (x === null || x === undefined ? null : Number(x));
   for (const r of rows) {
     const seq = Number(r.seq);
     const list = out.get(seq) ?? [];
-    list.push({ socket: Number(r.socket), vV: Number(r.v_v), biasOn: Boolean(r.bias_on), tripped: Boolean(r.tripped) });
+    const sample: SocketSample = { socket: Number(r.socket), vV: Number(r.v_v), biasOn: Boolean(r.bias_on), tripped: Boolean(r.tripped) };
+    if (withCycles && r.cycles !== null && r.cycles !== undefined) {
+      sample.cycle = { cycles: Number(r.cycles), dTjLowC: num(r.d_tj_low_c), dTjHighC: num(r.d_tj_high_c) };
+    }
+    list.push(sample);
     out.set(seq, list);
   }
   return out;

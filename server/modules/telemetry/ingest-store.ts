@@ -140,6 +140,27 @@ async function copySamples(client: PoolClient, rows: Array<{ rigId: string; msg:
   await pipeline(Readable.from(sampleCopyChunks(rows)), stream);
 }
 
+/** Power-cycling reports of the new messages that carry them (cycling rigs only; shared/mqtt/payloads.ts). */
+export function cycleCopyText(rows: Array<{ rigId: string; msg: Telemetry }>): string {
+  const nul = (x: number | null) => (x === null ? '\\N' : f(x));
+  let s = '';
+  for (const { rigId, msg } of rows) {
+    const { socket, cycles, dTjLowC, dTjHighC } = msg;
+    if (!cycles || !dTjLowC || !dTjHighC) continue;
+    for (let k = 0; k < socket.length; k++) {
+      s += `${rigId}\t${msg.seq}\t${socket[k]}\t${cycles[k]}\t${nul(dTjLowC[k])}\t${nul(dTjHighC[k])}\n`;
+    }
+  }
+  return s;
+}
+
+async function copyCycles(client: PoolClient, rows: Array<{ rigId: string; msg: Telemetry }>): Promise<void> {
+  const text = cycleCopyText(rows);
+  if (!text) return;
+  const stream = client.query(copyFrom('COPY telemetry_cycles (rig_id, seq, socket, cycles, d_tj_low_c, d_tj_high_c) FROM STDIN'));
+  await pipeline(Readable.from([Buffer.from(text, 'latin1')]), stream);
+}
+
 async function addCounters(client: PoolClient, deltas: Record<string, number>): Promise<void> {
   // Sorted: a fixed lock order for transactions in flight together.
   const entries = Object.entries(deltas)
@@ -278,6 +299,7 @@ async function writeInTransaction(
   let sampleRows = 0;
   for (const r of fresh) sampleRows += r.msg.socket.length;
   if (fresh.length) await copySamples(client, fresh);
+  if (fresh.length) await copyCycles(client, fresh);
   const rollups = extras.rollups ?? [];
   if (rollups.length) await upsertRollups(client, rollups);
   // 4. Rigs' live columns. Sorted by id: a fixed lock order for transactions in flight together.
