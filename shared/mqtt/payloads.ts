@@ -179,7 +179,8 @@ export const telemetryColumnsSchema = z
     }
     const cycleKeys = (['cycles', 'dTjLowC', 'dTjHighC'] as const).filter((key) => t[key] !== undefined);
     if (cycleKeys.length !== 0 && cycleKeys.length !== 3) {
-      ctx.addIssue({ code: 'custom', path: [cycleKeys[0]], message: 'cycles, dTjLowC and dTjHighC come together' });
+      const missing = (['cycles', 'dTjLowC', 'dTjHighC'] as const).find((key) => t[key] === undefined)!;
+      ctx.addIssue({ code: 'custom', path: [missing], message: 'missing: cycles, dTjLowC and dTjHighC come together' });
     }
     for (const key of cycleKeys) {
       const a = t[key]!;

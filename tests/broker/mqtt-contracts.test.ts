@@ -323,10 +323,21 @@ describe('telemetry in column form', () => {
       [1],
       'OV-01',
       'ov 1',
+      773.15,
+      773.16,
+      -0.1,
+      2147483647,
+      2147483648,
     ];
+    /** A power-cycling report: a counter and either no swing or a (low ≤ high) pair. */
+    const cycleReport = () => {
+      const low = rnd() < 0.3 ? null : rnd() * 150;
+      return { cycles: Math.floor(rnd() * 1e6), dTjLowC: low, dTjHighC: low === null ? null : low + rnd() * 10 };
+    };
     const valid = (): Record<string, unknown> => {
       const n = 1 + Math.floor(rnd() * 8);
       const first = Math.floor(rnd() * (256 - n));
+      const cycling = rnd() < 0.4;
       return columns({
         ...good(),
         seq: 1 + Math.floor(rnd() * 1e6),
@@ -338,6 +349,7 @@ describe('telemetry in column form', () => {
           iA: (rnd() - 0.5) * 10,
           biasOn: rnd() < 0.5,
           tripped: rnd() < 0.1,
+          ...(cycling ? cycleReport() : {}),
         })),
       });
     };
@@ -355,6 +367,7 @@ describe('telemetry in column form', () => {
     };
     let refused = 0;
     let fast = 0;
+    let fastCycling = 0;
     let stripped = 0;
     for (let k = 0; k < 4000; k++) {
       const m = valid();
@@ -365,6 +378,7 @@ describe('telemetry in column form', () => {
       const reference = telemetryColumnsSchema.safeParse(json);
       if (isPlainTelemetryColumns(json)) {
         fast++;
+        if (json.cycles) fastCycling++;
         expect(reference.success).toBe(true);
         expect(reference.data).toEqual(json);
       }
@@ -381,7 +395,41 @@ describe('telemetry in column form', () => {
     }
     expect(refused).toBeGreaterThan(1500);
     expect(fast).toBeGreaterThan(500);
+    expect(fastCycling).toBeGreaterThan(150);
     expect(stripped).toBeGreaterThan(20);
+  });
+
+  test('power-cycling columns round-trip through both forms', () => {
+    const t = {
+      ...good(),
+      sockets: good().sockets.map((x, k) => ({ ...x, cycles: 41 + k, dTjLowC: k ? null : 103.5, dTjHighC: k ? null : 104.25 })),
+    };
+    const text = telemetryColumnsText(t);
+    expect(JSON.parse(text)).toMatchObject({ cycles: [41, 42], dTjLowC: [103.5, null], dTjHighC: [104.25, null] });
+    const fromColumns = parseTelemetry(text);
+    const fromObjects = parseTelemetry(JSON.stringify(t));
+    expect(fromColumns).toEqual({ ok: true, data: telemetryFromReadings({ ...t, v: 2 }) });
+    expect(fromObjects).toEqual({ ok: true, data: telemetryFromReadings(t) });
+    if (!fromColumns.ok) throw new Error(fromColumns.reason);
+    expect(telemetryColumnsText(fromColumns.data)).toBe(text);
+  });
+
+  const cycling = () => ({ ...columns(good()), cycles: [5, 6], dTjLowC: [100, null], dTjHighC: [101, null] });
+  test.each([
+    ['cycles without swings', (c: Record<string, unknown>) => delete c.dTjHighC, 'dTjHighC: missing: cycles, dTjLowC and dTjHighC come together'],
+    ['a swing pair upside down', (c: Record<string, unknown>) => (c.dTjLowC = [102, null]), 'dTjLowC.0: dTjLowC 102 is above dTjHighC 101'],
+    [
+      'half a swing pair',
+      (c: Record<string, unknown>) => (c.dTjHighC = [101, 99]),
+      'dTjLowC.1: dTjLowC and dTjHighC are both null or both numbers',
+    ],
+    ['a negative counter', (c: Record<string, unknown>) => (c.cycles = [5, -1]), 'cycles.1: Too small: expected number to be >=0'],
+    ['a cycle column too short', (c: Record<string, unknown>) => (c.cycles = [5]), 'cycles: 1 values for 2 sockets'],
+  ])('%s is refused with a readable reason', (_label, change, reason) => {
+    const c = cycling();
+    expect(parseTelemetry(JSON.stringify(c)).ok).toBe(true);
+    change(c);
+    expect(parseTelemetry(JSON.stringify(c))).toEqual({ ok: false, reason });
   });
 });
 
