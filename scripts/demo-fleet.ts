@@ -9,7 +9,9 @@ import * as fs from 'node:fs';
 import * as path from 'node:path';
 import type { DataSource } from 'typeorm';
 import { ON_RIG_STATES } from '../shared/domain/run-states';
-import { REVERSE_BIAS_KINDS } from '../shared/domain/stress';
+import { REVERSE_BIAS_KINDS, isCyclingKind, PLAN_KINDS } from '../shared/domain/stress';
+
+const isCyclingKindName = (kind: string): boolean => PLAN_KINDS.some((k) => k === kind && isCyclingKind(k));
 import type { Bias } from '../shared/schemas/plans';
 import { DEMO_LOTS, demoRigSecret, rigMqttUsername } from '../server/seed/demo-data';
 
@@ -27,6 +29,7 @@ interface SocketRow {
   xtb: number;
   icbo_ref_a: number | null;
   theta_jc_c_per_w: number;
+  theta_ja_c_per_w: number;
   tj_max_c: number;
 }
 
@@ -35,6 +38,21 @@ function spread(seed: string, pct: number): number {
   for (const c of seed) h = Math.imul(h ^ c.charCodeAt(0), 16777619);
   const u = ((h >>> 0) % 10000) / 10000; // 0..1
   return 1 + (u * 2 - 1) * pct;
+}
+
+/**
+ * A power-cycling bench: the parts sit in free air (case-to-ambient = θja − θjc, a short case time
+ * constant) so the on-time swings the junction by the planned ΔTj; the clock runs at 120 stress
+ * seconds per wall second (a message per minute of stress, two per on-time) — 15,000 cycles of
+ * 2 + 2 min take about 8 wall hours, so the demo shows the count moving, not the end.
+ */
+function cyclingBench(sockets: SocketRow[]): Record<string, unknown> {
+  const s = sockets[0];
+  return {
+    thetaCaCPerW: Math.max(1, Number(s.theta_ja_c_per_w) - Number(s.theta_jc_c_per_w)),
+    caseTauStressS: 15,
+    stressHoursPerWallSecond: 120 / 3600,
+  };
 }
 
 export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ rigs: number; loaded: number }> {
@@ -73,7 +91,7 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
     const sockets: SocketRow[] = run
       ? await ds.query(
           `SELECT s.socket_index, d.serial, l.code AS lot_code, t.part_number, t.beta_ref, t.beta_ref_tc, t.xtb, t.icbo_ref_a,
-                  t.theta_jc_c_per_w, t.tj_max_c
+                  t.theta_jc_c_per_w, t.theta_ja_c_per_w, t.tj_max_c
              FROM run_sockets s JOIN devices d ON d.id = s.device_id JOIN lots l ON l.id = d.lot_id
              JOIN device_types t ON t.id = l.device_type_id
             WHERE s.run_id = $1 ORDER BY s.socket_index`,
@@ -107,12 +125,14 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
       };
     });
     const stressing = run.state === 'stressing';
+    const cycling = isCyclingKindName(run.kind);
     const bias = run.bias ?? {};
     const entry: Record<string, unknown> = {
       ...base,
       devices,
       mode: reverse ? 'reverse' : 'powered',
-      biasOn: stressing,
+      // A cycling bench starts unbiased: the scheduler's bias command brings the on/off program.
+      biasOn: stressing && !cycling,
       chamberC: stressing ? run.chamber_c : 25,
       setpointC: stressing ? run.chamber_c : 25,
       humidityPct: run.humidity_pct,
@@ -120,7 +140,8 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
       // Powered: the plan's forced IB, or the collector current the rig regulates (icA).
       ...(reverse ? { iA: 0.001 } : bias.icA ? { icA: bias.icA } : { iA: bias.ibA ?? 0.001 }),
     };
-    if (!reverse && !faultPlaced && devices.length > 5) {
+    if (cycling) Object.assign(entry, cyclingBench(sockets));
+    if (!reverse && !cycling && !faultPlaced && devices.length > 5) {
       // Sockets 5 and 11: their thermal pads dry out, the case-to-chamber resistance climbing toward
       // 60 °C/W at 60 °C/W per stress hour, and each junction heads for Tj max until protection trips
       // it. This rig runs a slower clock (0.04 stress h per wall second, 72 stress seconds between

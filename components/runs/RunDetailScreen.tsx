@@ -35,6 +35,7 @@ import {
   type SocketLoadResult,
 } from '@/shared/schemas/runs';
 import { RUN_STATE_TONE, columnToSocketMap, hours } from './run-look';
+import { RunCyclesCard, socketCyclesText } from './RunCycles';
 
 const AUDIT_LABEL: Record<string, string> = {
   'run.book': 'Booked',
@@ -142,7 +143,7 @@ function stateNote(run: RunDetail): { tone: 'info' | 'warn' | 'danger' | 'ok'; t
     case 'cooling':
       return {
         tone: 'info',
-        text: 'Stress hours complete. Bias is off and the chamber is cooling; the run finishes when it is safe to open.',
+        text: `${run.cycles ? 'Cycle target reached' : 'Stress hours complete'}. Bias is off and the chamber is cooling; the run finishes when it is safe to open.`,
       };
     case 'aborted':
       return { tone: 'danger', text: `Aborted: ${run.abortReason ?? 'no reason given'}` };
@@ -319,6 +320,7 @@ export function RunDetailScreen({ id }: { id: string }) {
     { key: 'serial', title: 'Serial', flex: 1, render: (s) => s.serial },
     { key: 'lot', title: 'Lot', flex: 1, render: (s) => s.lotCode },
     { key: 'hours', title: 'Hours', flex: 0.8, render: (s) => hours(s.accruedHours) },
+    ...(query.data?.cycles ? [{ key: 'cycles', title: 'Cycles · last ΔTj', flex: 1.6, render: socketCyclesText }] : []),
     {
       key: 'status',
       title: 'Status',
@@ -360,7 +362,8 @@ export function RunDetailScreen({ id }: { id: string }) {
               {run.rig && !run.rig.online && DRIVEN_STATES.includes(run.state) ? (
                 <Banner tone="danger">{`${run.rig.code} is offline: no telemetry, so no hours count and commands wait until it is back.`}</Banner>
               ) : null}
-              <Card title="Stress hours">
+              {run.cycles ? <RunCyclesCard cycles={run.cycles} sockets={run.sockets} /> : null}
+              <Card title={run.cycles ? 'Chamber hours' : 'Stress hours'}>
                 <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
                   <Fact label="Accrued" value={hours(run.stressHours)} />
                   <Fact label="Next read point" value={run.nextReadPointH === null ? 'None left' : hours(run.nextReadPointH)} />

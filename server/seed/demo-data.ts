@@ -260,6 +260,16 @@ export const DEMO_RIGS: Array<{
     humidityCapable: false,
     maxHumidityPct: null,
   },
+  {
+    code: 'CY-07',
+    name: 'Cycling bench 7 · power on/off, TSP read-out',
+    location: 'Bay C',
+    socketCount: 16,
+    maxTempC: 150,
+    maxVoltageV: 60,
+    humidityCapable: false,
+    maxHumidityPct: null,
+  },
 ];
 
 /** Demo rig MQTT secrets are predictable so the simulator can sign in; real rigs get random ones. */

@@ -42,6 +42,8 @@ interface DemoLiveRun {
   /** Sockets loaded (loading state); default all. */
   loaded?: number;
   stressHours?: number;
+  /** Cycling runs: cycles credited so far (run and every socket). */
+  cycles?: number;
   /** Booked runs: start this many stress-clock hours from now. */
   startsInH?: number;
   /** Why the sample may be smaller than the plan asks (recorded deviation, issue #19). */
@@ -83,6 +85,21 @@ const DEMO_LIVE_RUNS: DemoLiveRun[] = [
     skip: 0,
     loaded: 20,
     deviation: 'Quarterly reel-stock monitor: one cycling board (32 devices) by the monitor procedure.',
+  },
+  {
+    // Power cycling for real (issue #20 item 1): the simulated bench switches power, reads each
+    // cycle's junction swing from the devices' TSP and the run counts cycles toward 15,000.
+    code: 'IOL-2605-J',
+    partNumber: 'HPD-S230',
+    kind: 'iol',
+    lots: ['HG2605-H'],
+    rig: 'CY-07',
+    state: 'stressing',
+    perLot: 16,
+    skip: 32,
+    stressHours: 120,
+    cycles: 1800,
+    deviation: 'Reel-stock cycling monitor: one 16-socket bench by the monitor procedure.',
   },
   {
     code: 'HTRB-2611-A+1',
@@ -168,6 +185,7 @@ async function insertLiveRun(
       startedAt: started ? new Date(startMs) : null,
       stateChangedAt: new Date(started ? now - hours * timing.msPerClockH : now),
       stressHours: hours,
+      cyclesDone: s.cycles ?? 0,
       nextReadPoint: Math.max(firstReadPointIndex(plan.readPointsH), rps.filter((h) => h <= hours).length),
       heatingSince: started ? new Date(s.state === 'heating' ? now : startMs) : null,
       ambientReachedAt: s.state === 'stressing' ? new Date(startMs + timing.heatingAllowanceH * timing.msPerClockH) : null,
@@ -221,7 +239,7 @@ async function insertLiveRun(
   const load = devices.slice(0, Math.min(s.loaded ?? devices.length, rig.socketCount));
   await m.insert(
     RunSocketEntity,
-    load.map((d, i) => ({ runId: run.id, deviceId: d.id, socketIndex: i, accruedHours: hours })),
+    load.map((d, i) => ({ runId: run.id, deviceId: d.id, socketIndex: i, accruedHours: hours, cyclesDone: s.cycles ?? 0 })),
   );
   await audit(operator, 'run.load', { from: 'booked', to: 'loading', loaded: load.length, needed: sampleSize });
   if (started) await audit(operator, 'run.start', { from: 'loading', to: 'heating', rig: rig.code, setC: plan.chamberC });

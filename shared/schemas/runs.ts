@@ -219,6 +219,11 @@ export interface Run {
   stateChangedAt: string;
   stressHours: number;
   targetH: number;
+  /**
+   * Power cycling (a cycling plan): the credited cycles, the target, and the cycle count of the
+   * next read point; its read points and end are counted in cycles. Null for plans in hours.
+   */
+  cycles: RunCycles | null;
   /** Next read point to reach (hours), or null after the last. */
   nextReadPointH: number | null;
   /** The read point the run is held at (read-hold) or last reached. */
@@ -233,6 +238,17 @@ export interface Run {
   createdAt: string;
 }
 
+export interface RunCycles {
+  done: number;
+  target: number;
+  nextReadPointCycles: number | null;
+  /** Planned junction swing (K) and the band a cycle's swing must lie in to count. */
+  deltaTjC: number;
+  band: { lowC: number; highC: number };
+  onMin: number;
+  offMin: number;
+}
+
 export interface RunSocket {
   socket: number;
   serial: string;
@@ -241,6 +257,8 @@ export interface RunSocket {
   tripped: boolean;
   tripReason: string | null;
   failedAtH: number | null;
+  /** Power cycling only: credited and missed cycles and the junction swing (K) last reported. */
+  cycles?: { done: number; missed: number; lastDTjLowC: number | null; lastDTjHighC: number | null };
 }
 
 export interface RunAuditEntry {

@@ -1,12 +1,14 @@
 /** Entities → API objects for runs (entities never leave the server). Batched for lists. */
 import { In, type EntityManager } from 'typeorm';
-import { planBiasV } from '../../../shared/scheduling';
+import { countsCycles, cycleBand, planBiasV, readPointCycles } from '../../../shared/scheduling';
+import { socketCyclesOfRun } from './cycles.data';
 import { runCodesOfSamples, runSocketRows, runsOfSample, socketCountsOfRuns, socketsHeldOnRig } from './runs.data';
 import {
   allowedActions,
   RUN_STATE_LABEL,
   type Run,
   type RunAuditEntry,
+  type RunCycles,
   type RunDetail,
   type RunPlanRef,
   type RunSocket,
@@ -103,6 +105,7 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
       stateChangedAt: r.stateChangedAt.toISOString(),
       stressHours: r.stressHours,
       targetH: plan.durationH,
+      cycles: runCycles(r, plan, rps),
       nextReadPointH: r.nextReadPoint < rps.length ? rps[r.nextReadPoint] : null,
       lastReadPointH: last ?? null,
       heatingSince: iso(r.heatingSince),
@@ -117,6 +120,21 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
       createdAt: r.createdAt.toISOString(),
     };
   });
+}
+
+/** A cycling run's count against its target and next read point (shared/scheduling/cycling.ts). */
+function runCycles(r: RunEntity, plan: StressPlanEntity, rps: number[]): RunCycles | null {
+  if (!countsCycles(plan)) return null;
+  const next = r.nextReadPoint < rps.length ? rps[r.nextReadPoint] : null;
+  return {
+    done: r.cyclesDone,
+    target: plan.cycle.cycles,
+    nextReadPointCycles: next === null ? null : readPointCycles(plan, next),
+    deltaTjC: plan.cycle.deltaTjC,
+    band: cycleBand(plan.cycle.deltaTjC),
+    onMin: plan.cycle.onMin,
+    offMin: plan.cycle.offMin,
+  };
 }
 
 function sampleRef(s: SampleEntity | undefined, runCodes: string[]): Run['sample'] {
@@ -172,9 +190,17 @@ export async function socketsTakenOnRig(m: EntityManager, rigId: string, exceptR
 export async function toRunDetail(m: EntityManager, run: RunEntity): Promise<RunDetail> {
   const [base] = await toRuns(m, [run]);
   const taken = run.rigId ? await socketsTakenOnRig(m, run.rigId, run.id) : new Map<number, string>();
+  const sockets = await runSockets(m, run.id);
+  if (base.cycles) {
+    const cycles = new Map((await socketCyclesOfRun(m, run.id)).map((c) => [c.socket, c]));
+    for (const s of sockets) {
+      const c = cycles.get(s.socket);
+      if (c) s.cycles = { done: c.cyclesDone, missed: c.cyclesMissed, lastDTjLowC: c.lastDTjLowC, lastDTjHighC: c.lastDTjHighC };
+    }
+  }
   return {
     ...base,
-    sockets: await runSockets(m, run.id),
+    sockets,
     audit: await runAudit(m, run.id),
     socketsTaken: [...taken.keys()].sort((a, b) => a - b),
   };
