@@ -20,6 +20,8 @@ import { RigChart } from '@/components/charts/LazyCharts';
 import { fmtHours, rigState } from './RigTile';
 import { SocketBoard, TempLegend } from './SocketBoard';
 import { fmtC } from './temp-scale';
+import { grouped } from '@/shared/domain/format';
+import { swingText } from '@/components/runs/RunCycles';
 
 const SPANS = [
   { value: '15m', label: '15 min' },
@@ -58,6 +60,8 @@ function SocketDetail({ s, plotted, onTogglePlot }: { s: FloorSocket; plotted: b
         />
         <Row label="Bias" value={s.tripped ? 'Tripped (latched off)' : s.caseC === null ? '—' : s.biasOn ? 'On' : 'Off'} />
         {s.tripReason ? <Row label="Trip reason" value={s.tripReason} /> : null}
+        {s.cycles ? <Row label="Cycles" value={`${grouped(s.cycles.done)} / ${grouped(s.cycles.target)}`} /> : null}
+        {s.cycles ? <Row label="Last ΔTj (from the TSP)" value={swingText(s.cycles.lastDTjLowC, s.cycles.lastDTjHighC)} /> : null}
       </View>
       <Button size="sm" variant="secondary" label={plotted ? 'Remove from chart' : 'Plot on the chart'} onPress={onTogglePlot} />
     </Card>

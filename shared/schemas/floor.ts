@@ -54,6 +54,8 @@ export interface FloorSocket {
   /** Device loaded by the current run, if any. */
   serial: string | null;
   tripReason: string | null;
+  /** Power cycling (a cycling run): the socket's credited cycles of the run's target and its last swing (K). */
+  cycles?: { done: number; target: number; lastDTjLowC: number | null; lastDTjHighC: number | null };
 }
 
 export interface FloorBoard {

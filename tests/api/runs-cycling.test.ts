@@ -205,7 +205,14 @@ describe('intermittent operating life in cycles', () => {
     await step();
     expect((await runOf(b)).state).toBe('stressing');
     const bias = fake.sends.filter((s) => s.rigCode === 'OV-22' && s.cmd.type === 'bias');
-    expect(bias[0].cmd).toMatchObject({ type: 'bias', on: true, sockets: [0, 1, 2], vV: 10, icA: 0.02, cycle: { onS: 120, offS: 120, deltaTjC: 100 } });
+    expect(bias[0].cmd).toMatchObject({
+      type: 'bias',
+      on: true,
+      sockets: [0, 1, 2],
+      vV: 10,
+      icA: 0.02,
+      cycle: { onS: 120, offS: 120, deltaTjC: 100 },
+    });
   });
 
   it('with every socket off, 40 cycles’ worth of chamber time (2.67 h > 2 h) does not finish it', async () => {
@@ -244,5 +251,43 @@ describe('intermittent operating life in cycles', () => {
     expect(r.cyclesDone).toBe(30);
     const sockets = await socketCyclesOfRun(t.ctx.ds.manager, b.runId);
     expect(sockets.map((s) => s.cyclesDone)).toEqual([30, 30, 0]);
+  });
+
+  it('the run page’s API gives cycles against the target and each socket’s count and last swing', async () => {
+    const op = await t.signIn('operator');
+    const res = await op.get(`/api/runs/${b.runId}`);
+    expect(res.status).toBe(200);
+    expect(res.body.cycles).toEqual({
+      done: 30,
+      target: 30,
+      nextReadPointCycles: null,
+      deltaTjC: 100,
+      band: { lowC: 100, highC: 125 },
+      onMin: 2,
+      offMin: 2,
+    });
+    expect(res.body.sockets.map((s: { cycles: unknown }) => s.cycles)).toEqual([
+      { done: 30, missed: 1, lastDTjLowC: 104, lastDTjHighC: 104 },
+      { done: 30, missed: 1, lastDTjLowC: 105, lastDTjHighC: 105 },
+      { done: 0, missed: 33, lastDTjLowC: 90, lastDTjHighC: 90 },
+    ]);
+    // A run counted in hours has no cycles.
+    const htrb = await t.ctx.ds
+      .getRepository(RunEntity)
+      .findOneByOrFail({ rigId: (await t.ctx.ds.getRepository(RigEntity).findOneByOrFail({ code: 'OV-21' })).id });
+    expect((await op.get(`/api/runs/${htrb.id}`)).body.cycles).toBeNull();
+  });
+
+  it('the rig’s socket detail gives each loaded socket’s cycles of the target and last swing', async () => {
+    const op = await t.signIn('operator');
+    const res = await op.get('/api/floor/rigs/OV-22');
+    expect(res.status).toBe(200);
+    const cycles = res.body.sockets.map((s: { index: number; cycles?: unknown }) => [s.index, s.cycles ?? null]);
+    expect(cycles).toEqual([
+      [0, { done: 30, target: 30, lastDTjLowC: 104, lastDTjHighC: 104 }],
+      [1, { done: 30, target: 30, lastDTjLowC: 105, lastDTjHighC: 105 }],
+      [2, { done: 0, target: 30, lastDTjLowC: 90, lastDTjHighC: 90 }],
+      [3, null],
+    ]);
   });
 });

@@ -23,9 +23,11 @@ import {
   type FloorTile,
 } from '../../../shared/schemas/floor';
 import { ON_RIG_STATES } from '../../../shared/domain/run-states';
+import type { EntityManager } from 'typeorm';
 import type { AppContext } from '../../context';
 import { notFound } from '../../http/errors';
 import { ALARM_EVENT, RUN_EVENT } from '../../events';
+import { runCycleTarget, socketCyclesOfRun } from '../runs/cycles.data';
 import { boardRows, chartRows, hottestSockets, newestBatchTs, readTileRows, rigIdRows, type TileRow } from './floor.data';
 
 const round = (n: number, d = 2) => Math.round(n * 10 ** d) / 10 ** d;
@@ -134,6 +136,7 @@ export class FloorService {
       serial: r.serial,
       tripReason: r.trip_reason,
     }));
+    if (tile.run) await addSocketCycles(this.ctx.ds.manager, tile.run.id, sockets);
     const hasSample = rows.some((r) => r.case_c !== null);
     return {
       tile,
@@ -177,5 +180,16 @@ export class FloorService {
       chamber: series.get(-1) ?? [],
       sockets: sockets.map((socket) => ({ socket, points: series.get(socket) ?? [] })),
     };
+  }
+}
+
+/** A cycling run's per-socket cycles and last swing on the board's sockets (its devices only). */
+async function addSocketCycles(m: EntityManager, runId: string, sockets: FloorSocket[]): Promise<void> {
+  const target = await runCycleTarget(m, runId);
+  if (target === null) return;
+  const bySocket = new Map((await socketCyclesOfRun(m, runId)).map((c) => [c.socket, c]));
+  for (const s of sockets) {
+    const c = bySocket.get(s.index);
+    if (c) s.cycles = { done: c.cyclesDone, target, lastDTjLowC: c.lastDTjLowC, lastDTjHighC: c.lastDTjHighC };
   }
 }

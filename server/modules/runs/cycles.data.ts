@@ -1,5 +1,6 @@
 /** SQL of power-cycling accrual and its per-socket read (shared/scheduling/cycling.ts). */
 import type { EntityManager } from 'typeorm';
+import { isCyclingKind, PLAN_KINDS } from '../../../shared/domain/stress';
 
 /** The run's credited cycles (its read points and end count them). */
 export async function storeRunCycles(m: EntityManager, runId: string, cycles: number): Promise<void> {
@@ -59,3 +60,16 @@ export async function socketCyclesOfRun(m: EntityManager, runId: string): Promis
     accruedHours: Number(r.accrued_hours),
   }));
 }
+
+/** The cycle target of a run counted in cycles (its plan is a cycling kind with cycle settings), else null. */
+export async function runCycleTarget(m: EntityManager, runId: string): Promise<number | null> {
+  const rows: Array<{ kind: string; cycles: unknown }> = await m.query(
+    `SELECT p.kind, p.cycle->'cycles' AS cycles FROM runs r JOIN stress_plans p ON p.id = r.plan_id WHERE r.id = $1`,
+    [runId],
+  );
+  const r = rows[0];
+  if (!r || !isCyclingKindName(r.kind) || r.cycles === null || r.cycles === undefined) return null;
+  return Number(r.cycles);
+}
+
+const isCyclingKindName = (kind: string): boolean => PLAN_KINDS.some((k) => k === kind && isCyclingKind(k));
