@@ -58,7 +58,10 @@ export function readPointCycles(plan: { durationH: number; cycle: PlanCycle }, r
 }
 
 /** The on/off timing a bias command carries for a cycling plan (stress-clock seconds), or null. */
-export function planCycleCommand(plan: { kind: PlanKind; cycle: PlanCycle | null }): { onS: number; offS: number; deltaTjC: number } | null {
+export function planCycleCommand(plan: {
+  kind: PlanKind;
+  cycle: PlanCycle | null;
+}): { onS: number; offS: number; deltaTjC: number } | null {
   if (!countsCycles(plan)) return null;
   return { onS: plan.cycle.onMin * 60, offS: plan.cycle.offMin * 60, deltaTjC: plan.cycle.deltaTjC };
 }

@@ -76,7 +76,12 @@ beforeAll(async () => {
       }),
     )
   ).id;
-  const type = await m.save(m.create(DeviceTypeEntity, DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!));
+  const type = await m.save(
+    m.create(
+      DeviceTypeEntity,
+      DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!,
+    ),
+  );
   const lot = await m.save(m.create(LotEntity, { code: 'HG2611-C', deviceTypeId: type.id, quantity: 100 }));
   const devices = await m.save(['C0001', 'C0002', 'C0003'].map((serial) => m.create(DeviceEntity, { lotId: lot.id, serial })));
   // 30 cycles of 1 + 1 min = 1 h; ΔTj ≥ 100 K [pub: MIL-STD-750 method 1037 as used by AEC-Q101 — memory, confirm].
@@ -200,7 +205,9 @@ test('a simulated IOL run cycles, counts the cycles within its ΔTj band and end
   for (const s of sockets) expect(counters[s.socket]).toBeGreaterThanOrEqual(s.cyclesDone + s.cyclesMissed);
   expect(counters[3]).toBe(0); // the empty socket never cycled
   // Stored reports: every message of the run carries a row per socket.
-  const [{ n }] = await db.ds.query(`SELECT count(*)::int AS n FROM telemetry_cycles c JOIN rigs g ON g.id = c.rig_id WHERE g.code = 'OV-08'`);
+  const [{ n }] = await db.ds.query(
+    `SELECT count(*)::int AS n FROM telemetry_cycles c JOIN rigs g ON g.id = c.rig_id WHERE g.code = 'OV-08'`,
+  );
   expect(n).toBeGreaterThan(TARGET_CYCLES * 3 * 4 * 0.9);
   // Bias is off at the rig once stress ended, and with it the cycling program.
   await waitFor(() => rig.state().sockets.every((s) => !s.biasOn && !s.cycle), 5000, 'bias off at the rig');

@@ -416,7 +416,11 @@ describe('telemetry in column form', () => {
 
   const cycling = () => ({ ...columns(good()), cycles: [5, 6], dTjLowC: [100, null], dTjHighC: [101, null] });
   test.each([
-    ['cycles without swings', (c: Record<string, unknown>) => delete c.dTjHighC, 'dTjHighC: missing: cycles, dTjLowC and dTjHighC come together'],
+    [
+      'cycles without swings',
+      (c: Record<string, unknown>) => delete c.dTjHighC,
+      'dTjHighC: missing: cycles, dTjLowC and dTjHighC come together',
+    ],
     ['a swing pair upside down', (c: Record<string, unknown>) => (c.dTjLowC = [102, null]), 'dTjLowC.0: dTjLowC 102 is above dTjHighC 101'],
     [
       'half a swing pair',

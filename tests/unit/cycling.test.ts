@@ -68,8 +68,12 @@ describe('the cycle band and counter', () => {
   });
 
   it('a counter that went back (rig reboot), no new cycle or a missing report credits nothing', () => {
-    expect(intervalCycles({ cycles: 500, dTjLowC: 104, dTjHighC: 104 }, { cycles: 2, dTjLowC: 104, dTjHighC: 104 }, band).completed).toBe(0);
-    expect(intervalCycles({ cycles: 5, dTjLowC: null, dTjHighC: null }, { cycles: 5, dTjLowC: null, dTjHighC: null }, band).completed).toBe(0);
+    expect(intervalCycles({ cycles: 500, dTjLowC: 104, dTjHighC: 104 }, { cycles: 2, dTjLowC: 104, dTjHighC: 104 }, band).completed).toBe(
+      0,
+    );
+    expect(intervalCycles({ cycles: 5, dTjLowC: null, dTjHighC: null }, { cycles: 5, dTjLowC: null, dTjHighC: null }, band).completed).toBe(
+      0,
+    );
     expect(intervalCycles(undefined, { cycles: 6, dTjLowC: 104, dTjHighC: 104 }, band).completed).toBe(0);
     // Cycles completed but no swing reported: no evidence of the swing, nothing credited.
     expect(intervalCycles({ cycles: 5, dTjLowC: null, dTjHighC: null }, { cycles: 6, dTjLowC: null, dTjHighC: null }, band)).toEqual({

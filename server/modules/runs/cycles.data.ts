@@ -19,7 +19,14 @@ export async function storeSocketCycles(
     `UPDATE run_sockets rs SET cycles_done = v.done, cycles_missed = v.missed, last_d_tj_low_c = v.low, last_d_tj_high_c = v.high
        FROM unnest($1::int[], $2::int[], $3::int[], $4::real[], $5::real[]) AS v(socket, done, missed, low, high)
       WHERE rs.run_id = $6 AND rs.socket_index = v.socket`,
-    [sorted.map((r) => r.socket), sorted.map((r) => r.done), sorted.map((r) => r.missed), sorted.map((r) => r.low), sorted.map((r) => r.high), runId],
+    [
+      sorted.map((r) => r.socket),
+      sorted.map((r) => r.done),
+      sorted.map((r) => r.missed),
+      sorted.map((r) => r.low),
+      sorted.map((r) => r.high),
+      runId,
+    ],
   );
 }
 

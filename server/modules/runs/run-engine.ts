@@ -283,7 +283,8 @@ function foldBatches(
     f.holdIndex = stop.index;
     // Read points that fall on the same cycle count are held once.
     const measure = (h: number) => (countsCycles(plan) ? readPointCycles(plan, h) : h);
-    while (f.holdIndex + 1 < rps.length && rps[f.holdIndex + 1] < plan.durationH && measure(rps[f.holdIndex + 1]) <= stop.target) f.holdIndex++;
+    while (f.holdIndex + 1 < rps.length && rps[f.holdIndex + 1] < plan.durationH && measure(rps[f.holdIndex + 1]) <= stop.target)
+      f.holdIndex++;
     break;
   }
   return f;

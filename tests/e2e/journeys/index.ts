@@ -1,5 +1,6 @@
 import type { Journey } from '../harness';
 import { adminRigs } from './admin-rigs';
+import { operatorCycling } from './cycling';
 import { engineerPlanBook } from './engineer';
 import { engineerSplitSample, operatorReadPointEvidence } from './evidence';
 import { adminPeople, signInErrors, signInEveryRole } from './foundation';
@@ -23,5 +24,6 @@ export const JOURNEYS: Journey[] = [
   // readings this one shows as an incomplete read point.
   managerLotVerdicts,
   operatorReadPointEvidence,
+  operatorCycling,
   adminRigs,
 ];
