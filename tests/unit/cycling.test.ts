@@ -18,6 +18,10 @@ import { IOL_CYCLES, IOL_DELTA_TJ_C, IOL_OFF_MIN, IOL_ON_MIN } from '../../share
 import { parseTelemetry, telemetrySchema } from '../../shared/mqtt';
 import { applyCommand, buildTelemetry, createRigState, DEMO_PART, stepRig, type DeviceModel } from '../../rig-simulator';
 import { clearSwingReports, tspJunctionC } from '../../rig-simulator/physics';
+import { DEFAULT_PROTECTION_OPTIONS, type SocketSample as ProtectionSample } from '../../shared/safety/protection';
+import { SocketJudge, type JudgeOptions } from '../../server/modules/protection/judge';
+import { DEFAULT_MONITOR_OPTIONS } from '../../server/modules/protection/protection.monitor';
+import type { RunContext } from '../../server/modules/protection/run-context';
 
 describe('junction temperature from a TSP (VBE at a sense current)', () => {
   // [pub: JESD51-1 electrical test method; check values in REFERENCE.md A7]
@@ -234,5 +238,37 @@ describe('the simulator’s cycling sockets', () => {
     expect(t.sockets[0].dTjLowC).toBeGreaterThan(0);
     const parsed = parseTelemetry(JSON.stringify(t));
     expect(parsed.ok && parsed.data.cycles).toEqual([2, 0]);
+  });
+});
+
+describe('protection’s bias check on a cycling socket', () => {
+  const judgeOpts: JudgeOptions = { ...DEFAULT_MONITOR_OPTIONS, protection: DEFAULT_PROTECTION_OPTIONS };
+  const ctx = (kind: RunContext['planKind']): RunContext => ({
+    runId: 'r-1',
+    runCode: 'IOL-1',
+    state: 'stressing',
+    planKind: kind,
+    chamberC: 25,
+    bias: { vcbV: null, vebV: null, vceV: 20, ibA: null, icA: 0.1, tolerancePct: 5 },
+    planDevice: { tjMaxC: 150, thetaJcCPerW: 1.5 },
+    planPartNumber: 'HPD-T220N',
+    sockets: new Map(),
+  });
+  const at = (vV: number, iA: number): ProtectionSample => ({ tS: 0, caseC: 40, vV, iA, chamberC: 25, biasOn: true });
+
+  it('the off-time (0 V, 0 A) and a steered current (0.13 A of 0.1 A) raise nothing; a wrong VCE while on still does', () => {
+    const judge = new SocketJudge(judgeOpts);
+    const st = judge.socketState(judge.newRig('CY-1'), 0);
+    const iol = ctx('iol');
+    for (let k = 0; k < 5; k++) expect(judge.bias(iol, st, at(0, 0))).toBeUndefined();
+    for (let k = 0; k < 5; k++)
+      expect(judge.bias(iol, st, at(20, 0.13))).not.toEqual(expect.objectContaining({ what: expect.any(String) }));
+    judge.bias(iol, st, at(17, 0.1));
+    expect(judge.bias(iol, st, at(17, 0.1))).toMatchObject({ what: 'VCE', set: 20, measured: 17 });
+    // The same readings on a continuously powered plan: the off-time is a fault there.
+    const hotl = ctx('hotl');
+    const st2 = judge.socketState(judge.newRig('OV-1'), 0);
+    judge.bias(hotl, st2, at(0, 0));
+    expect(judge.bias(hotl, st2, at(0, 0))).toMatchObject({ what: 'VCE', set: 20, measured: 0 });
   });
 });

@@ -34,6 +34,7 @@ export interface TileRow {
   stress_hours: number | null;
   next_read_point: number | null;
   read_points_h: number[] | null;
+  plan_kind: string | null;
   loaded: number;
   powered: number;
   tripped: number;
@@ -66,7 +67,7 @@ SELECT r.id, r.code, r.name, r.location, r.active, r.online, r.last_seen_at, r.c
        r.humidity_pct, r.max_temp_c, r.socket_count,
        b.ts AS last_ts,
        run.id AS run_id, run.code AS run_code, run.state AS run_state, run.stress_hours, run.next_read_point,
-       p.read_points_h,
+       p.read_points_h, p.kind AS plan_kind,
        COALESCE(rm.loaded, 0)::int AS loaded, COALESCE(ts.powered, 0)::int AS powered,
        (COALESCE(ts.tripped, 0) + COALESCE(cardinality(rm.latched), 0) - COALESCE(ts.tripped_latched, 0))::int AS tripped,
        ts.max_case_c,

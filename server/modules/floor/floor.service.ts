@@ -23,6 +23,7 @@ import {
   type FloorTile,
 } from '../../../shared/schemas/floor';
 import { ON_RIG_STATES } from '../../../shared/domain/run-states';
+import { isCyclingKind, PLAN_KINDS } from '../../../shared/domain/stress';
 import type { EntityManager } from 'typeorm';
 import type { AppContext } from '../../context';
 import { notFound } from '../../http/errors';
@@ -61,7 +62,9 @@ export class FloorService {
     let run: FloorTile['run'] = null;
     if (r.run_id && r.run_code && r.run_state) {
       const stressHours = r.stress_hours ?? 0;
-      const next = r.run_state === 'stressing' ? nextReadPoint(r.read_points_h, r.next_read_point, stressHours) : null;
+      // A cycling run's read points come in cycles (its run page shows them), not in chamber hours.
+      const inHours = !PLAN_KINDS.some((k) => k === r.plan_kind && isCyclingKind(k));
+      const next = r.run_state === 'stressing' && inHours ? nextReadPoint(r.read_points_h, r.next_read_point, stressHours) : null;
       const left = next !== null ? round(next - stressHours, 3) : null;
       // clockRate = stress hours per wall second in demo mode.
       const rate = this.ctx.config.clockRate > 0 ? this.ctx.config.clockRate : 1;

@@ -22,7 +22,7 @@ import {
 } from '../../../shared/safety/protection';
 // From the modules themselves, not the index files: their re-exports compile to one shared keyed
 // getter, which V8 does not inline (it was ~4 % of the ingest's CPU in the per-socket loops).
-import { STRESS_FAMILY } from '../../../shared/domain/stress';
+import { isCyclingKind, STRESS_FAMILY } from '../../../shared/domain/stress';
 import { FLAG_BIAS_ON, FLAG_TRIPPED, MAX_SOCKETS } from '../../../shared/mqtt/payloads';
 import type { RunState } from '../../db/entities';
 import type { TelemetryLanded } from '../telemetry/contracts';
@@ -311,7 +311,11 @@ export class SocketJudge {
    * built only when a quantity is out: this runs for every socket of every message.)
    */
   bias(run: RunContext, st: SocketState, sample: SocketSample): BiasOff | 'clear-due' | undefined {
-    const judged = run.state === 'stressing' && sample.biasOn;
+    // Power cycling: the supply is off half of each cycle by design and the rig steers its drive
+    // toward the planned junction swing, so a cycling socket's VCE is judged only while power
+    // flows and its current not at all (the swing is judged by cycle accrual, shared/scheduling/cycling.ts).
+    const cycling = isCyclingKind(run.planKind);
+    const judged = run.state === 'stressing' && sample.biasOn && !(cycling && sample.vV === 0);
     if (!judged) {
       st.biasOut = st.biasIn = 0;
       return undefined;
@@ -324,7 +328,7 @@ export class SocketJudge {
       if (b.vcbV && outside(b.vcbV, sample.vV))
         off = { what: 'reverse voltage', unit: 'V', set: b.vcbV, measured: sample.vV, tolerancePct: tol };
     } else if (b.vceV && outside(b.vceV, sample.vV)) off = { what: 'VCE', unit: 'V', set: b.vceV, measured: sample.vV, tolerancePct: tol };
-    else if (b.icA && outside(b.icA, sample.iA))
+    else if (b.icA && !cycling && outside(b.icA, sample.iA))
       off = { what: 'collector current', unit: 'A', set: b.icA, measured: sample.iA, tolerancePct: tol };
     if (off) {
       st.biasOut++;
