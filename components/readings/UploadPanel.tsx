@@ -1,6 +1,15 @@
 import { useState } from 'react';
 import { View } from 'react-native';
-import { COLUMN_LABEL, CURRENT_UNITS, LEAKAGE_UNITS, MEASUREMENT_COLUMNS, REQUIRED_COLUMNS, UNIT_LABEL, UPLOAD_MAX_BYTES, VOLTAGE_UNITS } from '@/shared/domain/measurement-columns';
+import {
+  COLUMN_LABEL,
+  CURRENT_UNITS,
+  LEAKAGE_UNITS,
+  MEASUREMENT_COLUMNS,
+  REQUIRED_COLUMNS,
+  UNIT_LABEL,
+  UPLOAD_MAX_BYTES,
+  VOLTAGE_UNITS,
+} from '@/shared/domain/measurement-columns';
 import type { UploadResult, Units } from '@/shared/schemas/measurements';
 import { describeError } from '@/components/queries/api';
 import { RowsError, useUploadReadings, type PickedFile } from '@/components/queries/measurements';
