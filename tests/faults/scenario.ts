@@ -497,7 +497,19 @@ export async function reconcile(
     if (!end || end.action === 'run.ambient-reached')
       throw new Error(`stressing phase from seq ${trail[k].details.seq} has no end in the audit trail`);
     const series = await storedSamples(ds, fx.rigId, Number(trail[k].details.seq), Number(end.details.seq));
-    const r = accrueSeries(series.slice(1), cond, idx, { runH: acc.runH, socketH: acc.socketH, last: series[0], tripped: acc.tripped });
+    const from = { runH: acc.runH, socketH: acc.socketH, last: series[0], tripped: acc.tripped };
+    const r = accrueSeries(series.slice(1), cond, idx, from);
+    // A phase that stopped at a read point or the end is credited up to that target: the interval
+    // that crossed it counts in proportion (the engine stops at the target exactly, never a sample late).
+    const target =
+      end.action === 'run.read-point' ? Number(end.details.readPointH) : end.action === 'run.stress-complete' ? fx.plan.durationH : null;
+    if (target !== null && r.runH > target + HOURS_EPS) {
+      const before = accrueSeries(series.slice(1, -1), cond, idx, from);
+      if (!(before.runH < target)) throw new Error(`phase to ${target} h ran on past it: ${before.runH} h before its last sample`);
+      const share = (target - before.runH) / (r.runH - before.runH);
+      for (const k of idx) r.socketH[k] = before.socketH[k] + (r.socketH[k] - before.socketH[k]) * share;
+      r.runH = target;
+    } else if (target !== null && r.runH >= target - HOURS_EPS) r.runH = target;
     acc = { runH: r.runH, socketH: r.socketH, tripped: r.tripped };
     if (end.action === 'run.read-point') {
       readPoints++;
