@@ -359,8 +359,10 @@ export function RunDetailScreen({ id }: { id: string }) {
               <Card title={run.cycles ? 'Chamber hours' : 'Stress hours'}>
                 <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
                   <Fact label="Accrued" value={hours(run.stressHours)} />
-                  <Fact label="Next read point" value={run.nextReadPointH === null ? 'None left' : hours(run.nextReadPointH)} />
-                  <Fact label="Target" value={hours(run.targetH)} />
+                  {run.cycles ? null : (
+                    <Fact label="Next read point" value={run.nextReadPointH === null ? 'None left' : hours(run.nextReadPointH)} />
+                  )}
+                  {run.cycles ? null : <Fact label="Target" value={hours(run.targetH)} />}
                   <Fact
                     label="Chamber"
                     value={`${run.plan.chamberC} °C${run.plan.humidityPct !== null ? ` / ${run.plan.humidityPct} % RH` : ''}`}
@@ -370,7 +372,7 @@ export function RunDetailScreen({ id }: { id: string }) {
                     value={`${run.loadedCount} of ${run.sampleSize}${run.trippedCount ? ` · ${run.trippedCount} tripped` : ''}`}
                   />
                 </View>
-                <Progress run={run} />
+                {run.cycles ? null : <Progress run={run} />}
                 <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
                   <Fact label="Booked" value={`${formatDateTime(run.scheduledStart, '—')} → ${formatDateTime(run.scheduledEnd, '—')}`} />
                   <Fact label="Started" value={formatDateTime(run.startedAt, 'Not yet')} />
