@@ -219,3 +219,8 @@ export function mechanismFit(x: MechanismExposure, failures: number) {
   };
   return { f60: fitUpperBoundDetails({ ...base, confidence: 0.6 }), f90: fitUpperBoundDetails({ ...base, confidence: 0.9 }) };
 }
+
+/** The model parameters in words, as the lot screen and the exports print them: "Ea 0.7 eV (plan), n 2.66 (assumed (from memory))". */
+export function describeParameters(parameters: readonly ModelParameter[]): string {
+  return parameters.map((p) => `${p.name} ${+p.value.toPrecision(4)}${p.unit ? ` ${p.unit}` : ''} (${p.source})`).join(', ');
+}
