@@ -26,7 +26,8 @@ const accColumns: Column<PlanAcceleration>[] = [
     key: 'cond',
     title: 'Mechanism · Ea · use → mean Tj',
     flex: 1.6,
-    render: (a) => `${MECHANISM_LABEL[a.mechanism]} · ${a.eaEv} eV · ${a.useC} → ${sig(a.stressC, 4)} °C (${a.stressBasis.startsWith('estimated') ? 'junction' : 'chamber'})`,
+    render: (a) =>
+      `${MECHANISM_LABEL[a.mechanism]} · ${a.eaEv} eV · ${a.useC} → ${sig(a.stressC, 4)} °C (${a.stressBasis.startsWith('estimated') ? 'junction' : 'chamber'})`,
   },
   { key: 'af', title: 'Acceleration', flex: 0.9, align: 'right', render: (a) => `${sig(a.accelerationFactor)}×` },
   { key: 'dh', title: 'Device-hours', flex: 1, align: 'right', render: (a) => Math.round(a.deviceHours).toLocaleString('en-GB') },

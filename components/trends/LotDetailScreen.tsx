@@ -113,8 +113,18 @@ function FitCard({ lot }: { lot: LotDetail }) {
           <Text variant="caption" testID="fit-junction">
             {f.junction.tjMeanC === null
               ? 'No junction history.'
-              : `Junction over the credited hours: mean ${sig(f.junction.tjMeanC, 4)} °C, ${sig(f.junction.tjMinC!, 4)}–${sig(f.junction.tjMaxC!, 4)} °C; ${f.constants.stressBasis}.`}
+              : `Junction over the credited hours: mean ${sig(f.junction.tjMeanC, 4)} °C${
+                  sig(f.junction.tjMinC!, 4) === sig(f.junction.tjMaxC!, 4)
+                    ? ''
+                    : `, ${sig(f.junction.tjMinC!, 4)}–${sig(f.junction.tjMaxC!, 4)} °C`
+                }; ${f.constants.stressBasis}.`}
           </Text>
+          {f.accelerationFactor < 1 ? (
+            <Text variant="caption" testID="fit-decelerated">
+              The junction ran below the use temperature ({f.constants.useC} °C): these hours count for less than field hours, so the bound
+              is wide. A plan meant to accelerate needs the junction above the use temperature.
+            </Text>
+          ) : null}
           <Text variant="caption" tone="muted" testID="fit-model">
             {f.model}; {describeParameters(f.parameters)}. k = {f.constants.boltzmannEvPerK} eV/K ({f.constants.source}), T(K) = T(°C) +{' '}
             {f.constants.kelvinOffset}.

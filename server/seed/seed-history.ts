@@ -209,11 +209,7 @@ async function insertHistorySockets(m: EntityManager, s: HistoryRunSpec, run: Ru
       const stressSegments =
         s.junctionC === undefined || !(hours > 0)
           ? null
-          : [
-              s.plan.humidityPct === null
-                ? { hours, tjC: s.junctionC }
-                : { hours, tjC: s.junctionC, rhPct: s.plan.humidityPct },
-            ];
+          : [s.plan.humidityPct === null ? { hours, tjC: s.junctionC } : { hours, tjC: s.junctionC, rhPct: s.plan.humidityPct }];
       return trip
         ? {
             stressSegments,

@@ -71,7 +71,8 @@ export interface StressSegment {
 
 function checkSegment(s: StressSegment): void {
   if (!(s.hours >= 0) || !Number.isFinite(s.hours)) throw new RangeError('segment hours must be finite and ≥ 0');
-  if (!Number.isFinite(s.tjC) || s.tjC <= -KELVIN_OFFSET_K) throw new RangeError('segment junction temperature must be finite and above absolute zero');
+  if (!Number.isFinite(s.tjC) || s.tjC <= -KELVIN_OFFSET_K)
+    throw new RangeError('segment junction temperature must be finite and above absolute zero');
 }
 
 /**
@@ -126,7 +127,8 @@ export function addStressSegment(segments: StressSegment[], s: StressSegment): v
   const key = Math.round(s.tjC / SEGMENT_BIN_K);
   const rhKey = rh === null ? null : Math.round(rh);
   const at = segments.find(
-    (x) => Math.round(x.tjC / SEGMENT_BIN_K) === key && (x.rhPct == null ? rhKey === null : rhKey !== null && Math.round(x.rhPct) === rhKey),
+    (x) =>
+      Math.round(x.tjC / SEGMENT_BIN_K) === key && (x.rhPct == null ? rhKey === null : rhKey !== null && Math.round(x.rhPct) === rhKey),
   );
   if (!at) {
     segments.push(rh === null ? { hours: s.hours, tjC: s.tjC } : { hours: s.hours, tjC: s.tjC, rhPct: rh });

@@ -13,13 +13,7 @@
  * powered one (the junction sits above the chamber), which only raises the FIT bound.
  */
 import type { PlanKind } from '../domain/stress';
-import {
-  coffinMansonFactor,
-  equivalentHumidityHours,
-  equivalentStressHours,
-  fitUpperBoundDetails,
-  type StressSegment,
-} from './index';
+import { coffinMansonFactor, equivalentHumidityHours, equivalentStressHours, fitUpperBoundDetails, type StressSegment } from './index';
 
 export type StressMechanism = 'temperature' | 'humidity' | 'cycling';
 export const STRESS_MECHANISMS: readonly StressMechanism[] = ['temperature', 'humidity', 'cycling'];
@@ -170,7 +164,7 @@ export function mechanismExposure(plan: MechanismPlan, devices: readonly DeviceE
       parameters: [
         ea,
         use,
-        { name: 'n', value: n, unit: '', source: 'assumed (from memory)' },
+        { name: 'n', value: n, unit: '', source: 'assumed, from memory' },
         { name: 'use humidity', value: PECK_USE_RH_PCT, unit: '% RH', source: 'assumed field condition' },
       ],
       equivalentDeviceHours: eq,
@@ -179,7 +173,7 @@ export function mechanismExposure(plan: MechanismPlan, devices: readonly DeviceE
   }
   const m = COFFIN_MANSON_EXPONENT;
   const parameters: ModelParameter[] = [
-    { name: 'm', value: m, unit: '', source: 'assumed (from memory)' },
+    { name: 'm', value: m, unit: '', source: 'assumed, from memory' },
     { name: 'use ΔTj', value: COFFIN_MANSON_USE_DELTA_TJ_C, unit: 'K', source: 'assumed field condition' },
     { name: 'use cycles per day', value: FIELD_CYCLES_PER_DAY, unit: '', source: 'assumed field condition' },
   ];
@@ -220,7 +214,7 @@ export function mechanismFit(x: MechanismExposure, failures: number) {
   return { f60: fitUpperBoundDetails({ ...base, confidence: 0.6 }), f90: fitUpperBoundDetails({ ...base, confidence: 0.9 }) };
 }
 
-/** The model parameters in words, as the lot screen and the exports print them: "Ea 0.7 eV (plan), n 2.66 (assumed (from memory))". */
+/** The model parameters in words, as the lot screen and the exports print them: "Ea 0.7 eV (plan), n 2.66 (assumed, from memory)". */
 export function describeParameters(parameters: readonly ModelParameter[]): string {
   return parameters.map((p) => `${p.name} ${+p.value.toPrecision(4)}${p.unit ? ` ${p.unit}` : ''} (${p.source})`).join(', ');
 }

@@ -112,7 +112,13 @@ export interface FitFigures {
   model: string;
   parameters: ModelParameter[];
   /** Where each device's temperature history came from, and its range. */
-  junction: { devicesFromTelemetry: number; devicesFromChamber: number; tjMeanC: number | null; tjMinC: number | null; tjMaxC: number | null };
+  junction: {
+    devicesFromTelemetry: number;
+    devicesFromChamber: number;
+    tjMeanC: number | null;
+    tjMinC: number | null;
+    tjMaxC: number | null;
+  };
 }
 
 export interface LotDevice {

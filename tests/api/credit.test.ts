@@ -311,7 +311,7 @@ describe('FIT per mechanism, never pooled', () => {
     expect(res.body.mechanisms.some((x: { fit60: number }) => Math.abs(x.fit60 - pooled) < 1e-6 * pooled)).toBe(false);
     expect(byMech.humidity.parameters).toEqual(
       expect.arrayContaining([
-        { name: 'n', value: 2.66, unit: '', source: 'assumed (from memory)' },
+        { name: 'n', value: 2.66, unit: '', source: 'assumed, from memory' },
         { name: 'use humidity', value: 60, unit: '% RH', source: 'assumed field condition' },
       ]),
     );

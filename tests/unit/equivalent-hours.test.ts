@@ -21,6 +21,8 @@ import {
   type DeviceExposure,
   type MechanismPlan,
 } from '../../shared/reliability/mechanisms';
+import { junctionFromTelemetry } from '../../shared/physics';
+import { intervalSegments, type SocketSegments } from '../../server/modules/runs/stress-segments';
 
 /** ±2 % on acceleration and FIT (REFERENCE.md: published examples differ in k and the kelvin offset). */
 const within2pct = (actual: number, expected: number) => expect(Math.abs(actual / expected - 1)).toBeLessThanOrEqual(0.02);
@@ -62,7 +64,10 @@ describe('equivalentHumidityHours (Peck)', () => {
   });
 
   test('1 h at 85 °C/85 % from 30 °C/70 %, n 2.7, Ea 0.75 eV = 138.81 h [REFERENCE A4, calc; JEP122D parameters via a secondary source]', () => {
-    within2pct(equivalentHumidityHours({ segments: [{ hours: 1, tjC: 85, rhPct: 85 }], eaEv: 0.75, n: 2.7, useC: 30, rhUsePct: 70 }), 138.81);
+    within2pct(
+      equivalentHumidityHours({ segments: [{ hours: 1, tjC: 85, rhPct: 85 }], eaEv: 0.75, n: 2.7, useC: 30, rhUsePct: 70 }),
+      138.81,
+    );
   });
 
   test('130 °C vs 85 °C at the same 85 % RH, Ea 0.9 eV: 25.92 × [REFERENCE A4, calc]', () => {
@@ -142,7 +147,8 @@ describe('FIT per mechanism', () => {
     ]);
     expect(x.devicesFromChamber).toBe(1);
     expect(x.devicesFromTelemetry).toBe(1);
-    const expected = 140 * arrheniusFactor({ eaEv: 0.7, useC: 55, stressC: 125 }) + 60 * arrheniusFactor({ eaEv: 0.7, useC: 55, stressC: 150 });
+    const expected =
+      140 * arrheniusFactor({ eaEv: 0.7, useC: 55, stressC: 125 }) + 60 * arrheniusFactor({ eaEv: 0.7, useC: 55, stressC: 150 });
     expect(x.equivalentDeviceHours).toBeCloseTo(expected, 6);
     expect(x.tjMinC).toBe(125);
     expect(x.tjMaxC).toBe(150);
@@ -196,5 +202,34 @@ describe('FIT per mechanism', () => {
       expect(x.unavailable).toMatch(/not recorded/);
       expect(mechanismFit(x, 0)).toBeNull();
     });
+  });
+});
+
+describe('the junction behind the credit', () => {
+  test('Tj = T_case + θjc·|V·I|: 30 °C case, 12 W, θjc 4.181 K/W → 80.17 °C [REFERENCE A7, JESD51-1 / JEDEC dictionary]', () => {
+    expect(junctionFromTelemetry({ caseC: 30, vV: 12, iA: 1, thetaJcCPerW: 4.181 })).toBeCloseTo(80.17, 2);
+  });
+
+  test('reverse bias: 560 V × 2 µA leakage through θjc 10 K/W adds 0.0112 K, so Tj ≈ the socket temperature (JESD51 definition)', () => {
+    expect(junctionFromTelemetry({ caseC: 145, vV: -560, iA: 2e-6, thetaJcCPerW: 10 }) - 145).toBeCloseTo(0.0112, 6);
+  });
+
+  test('an interval is credited at the mean of the junction at both ends, with the chamber humidity for humidity plans', () => {
+    const into: SocketSegments = { thetaJc: new Map([[0, 5]]), bySocket: new Map() };
+    const sample = (seq: number, caseC: number, rh: number) => ({
+      seq,
+      clockS: seq * 900,
+      chamberC: 85,
+      humidityPct: rh,
+      sockets: [{ socket: 0, vV: 10, iA: 0.2, biasOn: true, tripped: false, caseC }],
+    });
+    // ends: 30 + 5·2 = 40 °C and 34 + 5·2 = 44 °C → 42 °C over 0.25 h; RH (84 + 86)/2 = 85 %
+    intervalSegments(into, sample(1, 30, 84), sample(2, 34, 86), new Map([[0, 900]]), true);
+    expect(into.bySocket.get(0)).toEqual([{ hours: 0.25, tjC: 42, rhPct: 85 }]);
+    // a socket with no case reading adds nothing (its hours fall back on the chamber in the FIT)
+    const noCase = { seq: 3, clockS: 2700, chamberC: 85, humidityPct: 85, sockets: [{ socket: 0, vV: 10, biasOn: true, tripped: false }] };
+    intervalSegments(into, sample(2, 34, 86), noCase, new Map([[0, 900]]), true);
+    expect(into.bySocket.get(0)).toHaveLength(1);
+    expect(into.bySocket.get(0)![0].hours).toBe(0.25);
   });
 });

@@ -280,9 +280,19 @@ export function stressTemperature(plan: { kind: string; chamberC: number; checkR
 }
 
 /** FIT of a temperature-mechanism exposure of `devices` × `hoursEach` held at one temperature (worked examples, tests). */
-export function fitFigures(p: { failures: number; devices: number; hoursEach: number; eaEv: number; useC: number; stressC: number }): FitFigures {
+export function fitFigures(p: {
+  failures: number;
+  devices: number;
+  hoursEach: number;
+  eaEv: number;
+  useC: number;
+  stressC: number;
+}): FitFigures {
   const plan: MechanismPlan = { kind: 'htrb', eaEv: p.eaEv, useC: p.useC, chamberC: p.stressC, humidityPct: null };
-  const devices = Array.from({ length: p.devices }, () => ({ creditedHours: p.hoursEach, segments: [{ hours: p.hoursEach, tjC: p.stressC }] }));
+  const devices = Array.from({ length: p.devices }, () => ({
+    creditedHours: p.hoursEach,
+    segments: [{ hours: p.hoursEach, tjC: p.stressC }],
+  }));
   const fit = exposureFit(mechanismExposure(plan, devices), p.failures, plan);
   if (!fit) throw new RangeError('devices and hours must be positive');
   return fit;

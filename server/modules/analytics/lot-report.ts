@@ -86,7 +86,8 @@ export function lotReportCsv(d: LotDetail, extra: { notes: string; generatedAt: 
     );
   }
   for (const p of d.plans) {
-    if (p.fit) kv(`FIT 60 % / 90 %: ${p.planName} (${p.fit.mechanismLabel})`, `${+p.fit.fit60.toPrecision(4)} / ${+p.fit.fit90.toPrecision(4)}`);
+    if (p.fit)
+      kv(`FIT 60 % / 90 %: ${p.planName} (${p.fit.mechanismLabel})`, `${+p.fit.fit60.toPrecision(4)} / ${+p.fit.fit90.toPrecision(4)}`);
     else if (p.fitUnavailable) kv(`FIT: ${p.planName}`, p.fitUnavailable);
   }
   kv('Caution', d.caution);
