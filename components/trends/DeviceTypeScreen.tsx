@@ -2,7 +2,7 @@ import { useLocalSearchParams, useRouter, type Href } from 'expo-router';
 import { useState } from 'react';
 import { Pressable, View } from 'react-native';
 import type { PlanAcceleration } from '@/shared/schemas/analytics';
-import { MECHANISM_LABEL, describeParameters } from '@/shared/reliability/mechanisms';
+import { MECHANISM_LABEL, describeParameters } from '@/shared/reliability/mechanism-names';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { useDeviceTypeSummary } from '@/components/queries/analytics';

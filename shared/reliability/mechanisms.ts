@@ -13,24 +13,17 @@
  * powered one (the junction sits above the chamber), which only raises the FIT bound.
  */
 import type { PlanKind } from '../domain/stress';
+import { MECHANISM_LABEL, MECHANISM_OF_KIND, type ModelParameter, type StressMechanism } from './mechanism-names';
 import { coffinMansonFactor, equivalentHumidityHours, equivalentStressHours, fitUpperBoundDetails, type StressSegment } from './index';
 
-export type StressMechanism = 'temperature' | 'humidity' | 'cycling';
-export const STRESS_MECHANISMS: readonly StressMechanism[] = ['temperature', 'humidity', 'cycling'];
-
-/** HTRB and powered life accelerate thermally activated mechanisms; THB corrosion by humidity; IOL fatigue by cycling. */
-export const MECHANISM_OF_KIND: Record<PlanKind, StressMechanism> = {
-  htrb: 'temperature',
-  hotl: 'temperature',
-  thb: 'humidity',
-  iol: 'cycling',
-};
-
-export const MECHANISM_LABEL: Record<StressMechanism, string> = {
-  temperature: 'Temperature (Arrhenius)',
-  humidity: 'Humidity (Peck)',
-  cycling: 'Power cycling (Coffin–Manson)',
-};
+export {
+  MECHANISM_LABEL,
+  MECHANISM_OF_KIND,
+  STRESS_MECHANISMS,
+  describeParameters,
+  type ModelParameter,
+  type StressMechanism,
+} from './mechanism-names';
 
 /** Peck humidity exponent n (recalled value, ≈ 2.66 — from memory, not checked against a text). */
 export const PECK_HUMIDITY_EXPONENT = 2.66;
@@ -41,15 +34,6 @@ export const COFFIN_MANSON_EXPONENT = 2;
 /** Use-condition junction swing (K) and cycles per day the cycling FIT is stated at (assumed field use). */
 export const COFFIN_MANSON_USE_DELTA_TJ_C = 50;
 export const FIELD_CYCLES_PER_DAY = 1;
-
-/** One model parameter as shown beside a FIT and written into the exports. */
-export interface ModelParameter {
-  name: string;
-  value: number;
-  unit: string;
-  /** Where the value comes from: the plan, the telemetry, or the product's stated assumption. */
-  source: string;
-}
 
 /** Cycles a device saw and its measured junction swing (from the power-cycling accrual). */
 export interface CyclingExposure {
@@ -212,9 +196,4 @@ export function mechanismFit(x: MechanismExposure, failures: number) {
     accelerationFactor: x.equivalentDeviceHours / x.deviceHours,
   };
   return { f60: fitUpperBoundDetails({ ...base, confidence: 0.6 }), f90: fitUpperBoundDetails({ ...base, confidence: 0.9 }) };
-}
-
-/** The model parameters in words, as the lot screen and the exports print them: "Ea 0.7 eV (plan), n 2.66 (assumed, from memory)". */
-export function describeParameters(parameters: readonly ModelParameter[]): string {
-  return parameters.map((p) => `${p.name} ${+p.value.toPrecision(4)}${p.unit ? ` ${p.unit}` : ''} (${p.source})`).join(', ');
 }

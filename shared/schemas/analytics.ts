@@ -10,7 +10,7 @@
  */
 import { z } from 'zod';
 import type { PlanJudgement } from '../verdict/judge';
-import type { ModelParameter, StressMechanism } from '../reliability/mechanisms';
+import type { ModelParameter, StressMechanism } from '../reliability/mechanism-names';
 
 export const LOT_VERDICTS = ['passed', 'drifting', 'failed', 'incomplete', 'insufficient-sample', 'in-progress', 'untested'] as const;
 export type LotVerdict = (typeof LOT_VERDICTS)[number];

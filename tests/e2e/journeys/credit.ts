@@ -58,5 +58,20 @@ export const managerLotCredit: Journey = {
     await model.scrollIntoViewIfNeeded();
     await j.checkA11y('lot failure rate: humidity');
     await j.shot('fit-humidity');
+
+    // --- The part's record: one FIT per mechanism, none pooled ---------------------------------
+    const types = await (await page.request.get(`${j.baseUrl}/api/analytics/device-types`)).json();
+    const part = (types.items as Array<{ partNumber: string; deviceTypeId: string }>).find((x) => x.partNumber === 'HPD-3P90');
+    if (!part) throw new Error('no HPD-3P90 summary');
+    await page.goto(`${j.baseUrl}/trends/types/${part.deviceTypeId}`);
+    await expect(page.getByTestId('device-type-summary-screen')).toBeVisible(30000);
+    const row = page.getByTestId('mechanism-temperature');
+    await expect(row).toContainText('Temperature (Arrhenius):');
+    await expect(row).toContainText('FIT at 60 %');
+    await expect(page.getByTestId('mechanism-humidity')).toHaveCount(0);
+    await expect(page.getByText(/One FIT per failure mechanism, never pooled/).first()).toBeVisible();
+    await row.scrollIntoViewIfNeeded();
+    await j.checkA11y('device type: FIT per mechanism');
+    await j.shot('part-fit-per-mechanism');
   },
 };
