@@ -4,6 +4,7 @@ import { engineerPlanBook } from './engineer';
 import { engineerSplitSample, operatorReadPointEvidence } from './evidence';
 import { adminPeople, signInErrors, signInEveryRole } from './foundation';
 import { managerTrends } from './manager';
+import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
 
@@ -23,5 +24,6 @@ export const JOURNEYS: Journey[] = [
   // readings this one shows as an incomplete read point.
   managerLotVerdicts,
   operatorReadPointEvidence,
+  managerLotCredit,
   adminRigs,
 ];
