@@ -54,6 +54,9 @@ export interface SocketSample {
   tripped: boolean;
   /** A cycling rig's cycle report (shared/scheduling/cycling.ts); absent otherwise. */
   cycle?: SocketCycleReport;
+  /** Case (socket) temperature and current, for the junction estimate behind equivalent hours. */
+  caseC?: number;
+  iA?: number;
 }
 
 export interface ClockSample {

@@ -10,6 +10,7 @@ import {
   UpdateDateColumn,
   VersionColumn,
 } from 'typeorm';
+import type { StressSegment } from '../../../shared/reliability';
 import { bigintNumber } from './columns';
 import { DeviceEntity, LotEntity } from './lot.entity';
 import { RigEntity } from './rig.entity';
@@ -129,4 +130,9 @@ export class RunSocketEntity {
   /** The smallest / largest junction swing (K) the rig last reported for this socket. */
   @Column({ type: 'real', nullable: true }) lastDTjLowC: number | null;
   @Column({ type: 'real', nullable: true }) lastDTjHighC: number | null;
+  /**
+   * The credited hours by estimated junction temperature (and chamber humidity), from the socket's
+   * telemetry (shared/reliability addStressSegment); null for hours accrued before it was recorded.
+   */
+  @Column({ type: 'jsonb', nullable: true }) stressSegments: StressSegment[] | null;
 }

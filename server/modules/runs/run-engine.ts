@@ -29,7 +29,8 @@ import { measureByMs } from '../../../shared/domain/standards';
 import type { PendingRunEvent } from './run-events';
 import { sortedReadPoints } from './run-view';
 import { batchAt, batchesAfter, firstInBand, socketSamples, toClockSample, type BatchRow } from './telemetry-reads';
-import { storeRunAccrual, storeSocketAccrual } from './runs.data';
+import { socketThetaJc, storeRunAccrual, storeSocketAccrual, storeSocketSegments } from './runs.data';
+import { intervalSegments, type SocketSegments } from './stress-segments';
 import { storeRunCycles, storeSocketCycles } from './cycles.data';
 
 /** A missing seq is waited for this long (it may still arrive from the rig's outbox) before it is skipped. */
@@ -151,6 +152,8 @@ interface AccrualFold {
   outcome: 'read-hold' | 'cooling' | null;
   holdIndex: number;
   processed: number;
+  /** Credited hours by estimated junction temperature, per socket (stress-segments.ts). */
+  segments: SocketSegments;
   /** Power cycling (null for plans counted in hours): credited cycles of the run and per socket. */
   cycles: CycleFold | null;
 }
@@ -223,6 +226,7 @@ function foldBatches(
   samples: Awaited<ReturnType<typeof socketSamples>>,
   firstPrev: ClockSample | null,
   now: Date,
+  segments: SocketSegments,
 ): AccrualFold {
   const socketIdx = sockets.map((s) => s.socketIndex);
   const latched = new Set(sockets.filter((s) => s.tripped).map((s) => s.socketIndex));
@@ -249,6 +253,7 @@ function foldBatches(
           touched: new Set<number>(),
         }
       : null,
+    segments,
   };
   for (const b of batches) {
     if (prev && b.seq !== prev.seq + 1 && now.getTime() - b.storedAt.getTime() < GAP_WAIT_MS) break;
@@ -263,6 +268,9 @@ function foldBatches(
       f.touched.add(k);
     }
     if (f.cycles) foldCycles(f.cycles, r.dtS > 0 ? prev : null, cur, r.chamberHeld, socketIdx, latched, plan, stop.target);
+    // Junction-temperature segments get the hours credited (the crossing interval in proportion).
+    const credited = share === 1 ? r.socketS : new Map([...r.socketS].map(([k, sec]) => [k, sec * share]));
+    if (prev) intervalSegments(f.segments, prev, cur, credited, plan.humidityPct !== null);
     for (const k of r.newlyTripped) {
       latched.add(k);
       f.newlyTripped.add(k);
@@ -309,6 +317,13 @@ async function saveAccrual(m: EntityManager, run: RunEntity, f: AccrualFold, now
       changedSockets.map((k) => newlyTripped.has(k)),
     );
   }
+  const withSegments = [...touched].filter((k) => f.segments.bySocket.has(k)).sort((a, b) => a - b);
+  await storeSocketSegments(
+    m,
+    run.id,
+    withSegments,
+    withSegments.map((k) => JSON.stringify(f.segments.bySocket.get(k))),
+  );
 }
 
 async function saveCycles(m: EntityManager, run: RunEntity, c: CycleFold): Promise<void> {
@@ -411,7 +426,11 @@ export async function accrueStep(
   }
 
   const rps = sortedReadPoints(plan);
-  const f = foldBatches(run, plan, rps, sockets, batches, samples, prev, now);
+  const segments: SocketSegments = {
+    thetaJc: await socketThetaJc(m, run.id),
+    bySocket: new Map(sockets.map((s) => [s.socketIndex, s.stressSegments ?? []])),
+  };
+  const f = foldBatches(run, plan, rps, sockets, batches, samples, prev, now, segments);
   if (!f.processed) return { changed: false, events: [] };
   await saveAccrual(m, run, f, now);
   const events = await stopEvents(m, deps, run, plan, rig, rps, f, now);

@@ -66,10 +66,10 @@ export async function socketSamples(
   if (!sockets.length || toSeq < fromSeq) return out;
   const rows: Array<Record<string, unknown>> = await m.query(
     withCycles
-      ? `SELECT s.seq, s.socket, s.v_v, s.bias_on, s.tripped, c.cycles, c.d_tj_low_c, c.d_tj_high_c FROM telemetry_samples s
+      ? `SELECT s.seq, s.socket, s.v_v, s.bias_on, s.tripped, s.case_c, s.i_a, c.cycles, c.d_tj_low_c, c.d_tj_high_c FROM telemetry_samples s
          LEFT JOIN telemetry_cycles c ON c.rig_id = s.rig_id AND c.seq = s.seq AND c.socket = s.socket
          WHERE s.rig_id = $1 AND s.seq >= $2 AND s.seq <= $3 AND s.socket = ANY($4::smallint[]) ORDER BY s.seq, s.socket`
-      : `SELECT seq, socket, v_v, bias_on, tripped FROM telemetry_samples
+      : `SELECT seq, socket, v_v, bias_on, tripped, case_c, i_a FROM telemetry_samples
      WHERE rig_id = $1 AND seq >= $2 AND seq <= $3 AND socket = ANY($4::smallint[]) ORDER BY seq, socket`,
     [rigId, fromSeq, toSeq, sockets],
   );
@@ -77,7 +77,14 @@ export async function socketSamples(
   for (const r of rows) {
     const seq = Number(r.seq);
     const list = out.get(seq) ?? [];
-    const sample: SocketSample = { socket: Number(r.socket), vV: Number(r.v_v), biasOn: Boolean(r.bias_on), tripped: Boolean(r.tripped) };
+    const sample: SocketSample = {
+      socket: Number(r.socket),
+      vV: Number(r.v_v),
+      biasOn: Boolean(r.bias_on),
+      tripped: Boolean(r.tripped),
+      caseC: Number(r.case_c),
+      iA: Number(r.i_a),
+    };
     if (withCycles && r.cycles !== null && r.cycles !== undefined) {
       sample.cycle = { cycles: Number(r.cycles), dTjLowC: num(r.d_tj_low_c), dTjHighC: num(r.d_tj_high_c) };
     }

@@ -5,6 +5,7 @@ import { engineerPlanBook } from './engineer';
 import { engineerSplitSample, operatorReadPointEvidence } from './evidence';
 import { adminPeople, signInErrors, signInEveryRole } from './foundation';
 import { managerTrends } from './manager';
+import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
 
@@ -25,5 +26,6 @@ export const JOURNEYS: Journey[] = [
   managerLotVerdicts,
   operatorReadPointEvidence,
   operatorCycling,
+  managerLotCredit,
   adminRigs,
 ];
