@@ -306,11 +306,6 @@ export function judgeTrend(
         slope = fitSlope;
         rising = up;
         seconds = s;
-      } else {
-        // Early, few samples: the slope's own standard error is itself uncertain, so noise alone can
-        // pass the z test. A climb also has to amount to selfHeatAllowanceC over the stretch.
-        earlyClimb =
-          s !== null && s < opts.horizonS && linearS < opts.projectionRateFactor * opts.horizonS && fitSlope * trend.spanS >= opts.selfHeatAllowanceC;
       }
     }
     if (established) {
@@ -318,6 +313,15 @@ export function judgeTrend(
       loopGain = lgLoopGain;
       thetaCa = lgThetaCa;
     }
+  }
+
+  if (trend.lastBiasOn && trend.count >= 3 && trend.spanS < opts.minTrendS) {
+    // Before the trend is established (a fit of few samples has an uncertain standard error, so
+    // noise can pass its z test): a climb of at least selfHeatAllowanceC since bias came on, still
+    // going at the last step at a rate that reaches Tj max within horizonS.
+    const dt = trend.timeBack(0) - trend.timeBack(1);
+    const rate = dt > 0 ? (tj - trend.tjBack(1)) / dt : 0;
+    earlyClimb = tj - trend.tjBack(trend.count - 1) >= opts.selfHeatAllowanceC && rate > 0 && device.tjMaxC - tj < rate * opts.horizonS;
   }
 
   // No closures here: this runs for every socket-sample, and each one allocated.
