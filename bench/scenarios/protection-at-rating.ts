@@ -51,7 +51,11 @@ function boardSpec(k: number): HtrbBoardSpec {
     chamberSwingC: 0.5,
     chamberSwingPeriodS: 600,
     seed: 4400 + k,
-    injected: [...picks].map((socket) => ({ socket, onsetS: 300 + Math.round(rand() * 900), growthDoublingS: 30 + Math.round(rand() * 90) })),
+    injected: [...picks].map((socket) => ({
+      socket,
+      onsetS: 300 + Math.round(rand() * 900),
+      growthDoublingS: 30 + Math.round(rand() * 90),
+    })),
   };
 }
 
@@ -92,6 +96,8 @@ export function runProtectionAtRating(log: (l: string) => void) {
     judgedSocketSamples: judged,
     judgeMicrosecondsPerSocketSample: Math.round((ms * 1000 * 100) / judged) / 100,
   };
-  log(`  protection.atRating: ${out.falseTrips} false trips of ${out.healthy}; ${out.trippedBeforeLimit}/${out.injected} runaways tripped below ${LIMIT_C} °C`);
+  log(
+    `  protection.atRating: ${out.falseTrips} false trips of ${out.healthy}; ${out.trippedBeforeLimit}/${out.injected} runaways tripped below ${LIMIT_C} °C`,
+  );
   return out;
 }

@@ -49,7 +49,10 @@ export function TripResetDialog({ socket, rigCode, run, onClose, onDone }: Props
       confirmDisabled={tooShort}
       testID="trip-reset-dialog"
     >
-      <SafetyCaution compact context="Re-energise only after the cause of the trip is found and put right; the socket will be at full bias at once." />
+      <SafetyCaution
+        compact
+        context="Re-energise only after the cause of the trip is found and put right; the socket will be at full bias at once."
+      />
       {socket?.tripReason ? (
         <Text variant="caption" tone="muted">
           Tripped: {socket.tripReason}

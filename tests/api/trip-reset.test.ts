@@ -19,7 +19,10 @@ const REASON = 'Thermal pad replaced and clamp torque checked on socket 2';
 async function trip(socket: number): Promise<void> {
   await t.ctx.ds
     .getRepository(RunSocketEntity)
-    .update({ runId: fx.run.id, socketIndex: socket }, { tripped: true, trippedAt: new Date(), tripReason: 'Tj 147.0 °C (max 150.0 °C) rising with loop gain 1.30 ≥ 1: thermal runaway' });
+    .update(
+      { runId: fx.run.id, socketIndex: socket },
+      { tripped: true, trippedAt: new Date(), tripReason: 'Tj 147.0 °C (max 150.0 °C) rising with loop gain 1.30 ≥ 1: thermal runaway' },
+    );
 }
 
 beforeAll(async () => {

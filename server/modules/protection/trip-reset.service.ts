@@ -33,7 +33,9 @@ export class TripResetService {
       const { run, rig, plan, runSocket, tripAlarm } = rows;
       if (!rig || !plan?.deviceType) throw conflict(`Run ${run.code} is not on a rig.`);
       if (run.state !== 'stressing')
-        throw conflict(`Run ${run.code} is ${run.state}: a trip is reset while the run is stressing, so that the socket can be energised again.`);
+        throw conflict(
+          `Run ${run.code} is ${run.state}: a trip is reset while the run is stressing, so that the socket can be energised again.`,
+        );
       if (!runSocket) throw unprocessable(`Run ${run.code} has no device in socket ${socket} of ${rig.code}.`);
       if (!runSocket.tripped) throw conflict(`Socket ${socket} of ${rig.code} (run ${run.code}) is not tripped.`);
       const type = runSocket.device?.lot?.deviceType ?? plan.deviceType;
