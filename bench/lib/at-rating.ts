@@ -86,6 +86,7 @@ export function judgeHtrbBoard(spec: HtrbBoardSpec, durationS: number, protectio
     const t0 = performance.now();
     judge.admit(rig, m);
     const baseline = judge.peerBaseline(m, null);
+    const spread = judge.peerSpreadC;
     judge.touch(rig, m);
     const trips: Array<{ i: number; reason: string }> = [];
     for (let k = 0; k < n; k++) {
@@ -96,7 +97,7 @@ export function judgeHtrbBoard(spec: HtrbBoardSpec, durationS: number, protectio
       }
       judge.latchReset(st);
       const sample = judge.sampleAt(m, k);
-      const v = judge.runaway(st, judge.deviceFor(null, k), sample, baseline);
+      const v = judge.runaway(st, judge.deviceFor(null, k), sample, baseline, spread);
       judged++;
       if (typeof v === 'object' && v.action === 'trip') {
         trips.push({ i: k, reason: v.reason });

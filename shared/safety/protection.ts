@@ -97,6 +97,19 @@ export interface ProtectionOptions {
    */
   baselineTjC?: number;
   /**
+   * The robust spread (1.4826 × median absolute deviation, °C) of the energised peers' junctions
+   * around that median; absent or NaN without peers. See peerOutlierZ.
+   */
+  peerSpreadC?: number;
+  /**
+   * Within the margin zone, a socket further above its peers' median than both peerOutlierMinC and
+   * peerOutlierZ × peerSpreadC is not part of the oven's spread (σ 3–6 °C puts 4σ at 12–24 °C): a
+   * failing heat sink holding its junction 30 K above the board trips even when steady. Emberlot's
+   * choice (a 4σ outlier of a normal spread is 3 in 100,000 sockets), not a standard's.
+   */
+  peerOutlierMinC: number;
+  peerOutlierZ: number;
+  /**
    * Trip when Tj max is projected within this many stress-clock seconds. Default 60 s: several
    * telemetry intervals (rigs report every few seconds) for the trend to confirm, the command round
    * trip over MQTT and the rig's bias relay, with room to spare; raise it for slow telemetry.
@@ -137,6 +150,8 @@ export const DEFAULT_PROTECTION_OPTIONS: ProtectionOptions = {
   marginC: 10,
   selfHeatAllowanceC: 3,
   marginLoopGain: 0.5,
+  peerOutlierMinC: 10,
+  peerOutlierZ: 4,
   horizonS: 60,
   projectionRateFactor: 2,
   warnExtraMarginC: 10,
@@ -231,6 +246,8 @@ const f1 = (x: number) => (Math.round(x * 10) / 10).toFixed(1);
  *    the socket runs selfHeatAllowanceC above its peers (median) and is projected to reach Tj max
  *    within horizonS (a socket with no heat sinking from bias-on climbs from the zone's edge to Tj
  *    max in seconds).
+ * 5. in the margin zone, Tj sits further above its peers' median than peerOutlierMinC and
+ *    peerOutlierZ × their robust spread: not oven spread but a failing heat path (even if steady).
  * Warn when Tj is within a further warnExtraMarginC and rising above its baseline, the loop gain is
  * ≥ warnLoopGain, or the projection is within warnHorizonFactor × horizonS.
  */
@@ -242,7 +259,7 @@ export function assessSocket(
   const opts = { ...DEFAULT_PROTECTION_OPTIONS, ...options };
   const trend = new SocketTrend(opts.windowS, Math.max(history.length, 1));
   for (const s of history) trend.push(s, device.thetaJcCPerW);
-  return assessTrend(trend, device, opts, opts.baselineTjC);
+  return assessTrend(trend, device, opts, opts.baselineTjC, opts.peerSpreadC ?? NaN);
 }
 
 /**
@@ -269,6 +286,7 @@ export function judgeTrend(
   device: ProtectionDevice,
   opts: ProtectionOptions = DEFAULT_PROTECTION_OPTIONS,
   baselineTjC: number | undefined = opts.baselineTjC,
+  peerSpreadC: number = opts.peerSpreadC ?? NaN,
 ): ProtectionAction {
   if (!trend.hasLast) {
     J.fill(NaN);
@@ -343,6 +361,14 @@ export function judgeTrend(
   } else if (inZone && rising && loopGain !== null && loopGain >= opts.marginLoopGain) {
     action = 'trip';
     text = `${tjDescription(tj, tjMaxC)} is within ${opts.marginC} °C of the rating and still rising with loop gain ${fmtGain(loopGain)}: leakage and temperature feed each other`;
+  } else if (
+    inZone &&
+    baselineTjC !== undefined &&
+    peerSpreadC >= 0 &&
+    tj - baselineTjC >= Math.max(opts.peerOutlierMinC, opts.peerOutlierZ * peerSpreadC)
+  ) {
+    action = 'trip';
+    text = `${tjDescription(tj, tjMaxC)} is within ${opts.marginC} °C of the rating and ${f1(tj - baselineTjC)} °C above its peers, beyond the board's spread (±${f1(peerSpreadC)} °C): its heat path is failing`;
   } else if (inZone && earlyClimb && aboveBaseline) {
     action = 'trip';
     text = `${tjDescription(tj, tjMaxC)} is within ${opts.marginC} °C of the rating, ${f1(tj - baseline)} °C above its peers/chamber and climbing fast`;
@@ -376,6 +402,7 @@ export function assessTrend(
   device: ProtectionDevice,
   opts: ProtectionOptions = DEFAULT_PROTECTION_OPTIONS,
   baselineTjC: number | undefined = opts.baselineTjC,
+  peerSpreadC: number = opts.peerSpreadC ?? NaN,
 ): SocketAssessment {
   if (!trend.hasLast)
     return {
@@ -387,7 +414,7 @@ export function assessTrend(
       action: 'none',
       reason: 'No samples yet',
     };
-  const action = judgeTrend(trend, device, opts, baselineTjC);
+  const action = judgeTrend(trend, device, opts, baselineTjC, peerSpreadC);
   return new Assessment(
     J[J_TJ],
     orNull(J[J_LOOP_GAIN]),

@@ -77,6 +77,40 @@ describe('oven spread at rating is not runaway', () => {
   });
 });
 
+describe('a failing heat path far beyond the board spread', () => {
+  // A steady socket: 5 min of samples at one junction temperature (noise ±0.1 °C).
+  const steady = (tjC: number): SocketSample[] =>
+    Array.from({ length: 300 }, (_, k) => ({
+      tS: k,
+      caseC: tjC - 1.5 * 20 * 0.1 + 0.1 * Math.sin(k),
+      vV: 20,
+      iA: 0.1,
+      chamberC: 100,
+      biasOn: true,
+    }));
+  const device = { tjMaxC: 150, thetaJcCPerW: 1.5, thetaJaCPerW: 62 };
+
+  test('30 °C above its peers (spread ±4 °C) within 10 °C of Tj max trips, steady or not', () => {
+    const a = assessSocket(steady(145), device, { baselineTjC: 115, peerSpreadC: 4 });
+    expect(a.action).toBe('trip');
+    // Tj = case + θjc·P = 145 °C ± the 0.1 °C ripple of the last sample
+    expect(a.tjC!).toBeCloseTo(145, 0);
+    expect(a.reason).toMatch(
+      /is within 10 °C of the rating and (29|30)\.\d °C above its peers, beyond the board's spread \(±4\.0 °C\): its heat path is failing$/,
+    );
+  });
+
+  test('8 °C above its peers (spread ±4 °C: 2σ) is spread; 12 °C above with spread ±4 °C is under 4σ = 16 °C; neither trips', () => {
+    expect(assessSocket(steady(148), device, { baselineTjC: 140, peerSpreadC: 4 }).action).toBe('none');
+    expect(assessSocket(steady(145), device, { baselineTjC: 133, peerSpreadC: 4 }).action).toBe('none');
+    // With a tight board (±0.3 °C) the floor of 10 °C applies: 11 °C above trips, 9 °C does not.
+    expect(assessSocket(steady(145), device, { baselineTjC: 134, peerSpreadC: 0.3 }).action).toBe('trip');
+    expect(assessSocket(steady(145), device, { baselineTjC: 136, peerSpreadC: 0.3 }).action).toBe('none');
+    // Without peers (no spread known) the rule does not apply.
+    expect(assessSocket(steady(145), device, { baselineTjC: 115 }).action).toBe('none');
+  });
+});
+
 describe('leakage runaways at rating are tripped before Tj max', () => {
   const seeds = [201, 202, 203, 204, 205, 206];
 
