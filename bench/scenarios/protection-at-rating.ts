@@ -89,6 +89,7 @@ export function runProtectionAtRating(log: (l: string) => void) {
       loopGain: injected.filter((s) => /loop gain/.test(s.reason ?? '')).length,
       projection: injected.filter((s) => /projected/.test(s.reason ?? '')).length,
       earlyClimb: injected.filter((s) => /climbing fast/.test(s.reason ?? '')).length,
+      peerOutlier: injected.filter((s) => /beyond the board's spread/.test(s.reason ?? '')).length,
       hardLimit: injected.filter((s) => /has reached the rating/.test(s.reason ?? '')).length,
     },
     falseTripSockets: healthy.filter((s) => s.trippedAtS !== null).map((s) => `board ${s.board}/${s.socket}: ${s.reason}`),
