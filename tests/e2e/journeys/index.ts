@@ -7,6 +7,7 @@ import { managerTrends } from './manager';
 import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
+import { engineerTripReset } from './trip-reset';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -25,5 +26,6 @@ export const JOURNEYS: Journey[] = [
   managerLotVerdicts,
   operatorReadPointEvidence,
   managerLotCredit,
+  engineerTripReset,
   adminRigs,
 ];
