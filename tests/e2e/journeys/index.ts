@@ -8,6 +8,7 @@ import { managerTrends } from './manager';
 import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
+import { engineerTripReset } from './trip-reset';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -27,5 +28,6 @@ export const JOURNEYS: Journey[] = [
   operatorReadPointEvidence,
   operatorCycling,
   managerLotCredit,
+  engineerTripReset,
   adminRigs,
 ];
