@@ -23,7 +23,7 @@ export const PLAN_HELP = {
     'Stress temperature: the minimum the chamber must hold (the rating itself for HTRB). The rig aims at the middle of the band; ' +
     'hours outside the band do not count. Hot ovens: follow the lab’s safety rules before opening one.',
   chamberBand:
-    'Band in kelvin below and above the stress temperature where hours count. Empty = the method’s band: HTRB +5/−0 K, THB ± 2 K, powered ± 5 K (from memory — confirm against the method you follow).',
+    'Band in kelvin below and above the stress temperature where hours count; leave both empty for the method’s band (from memory — confirm against the method you follow).',
   humidityPct: 'Relative humidity for a humidity stress (85 % for THB).',
   vcbV: 'Collector-base reverse voltage on every device (magnitude; PNP parts are biased the other way by the board).',
   vebV: 'Emitter-base reverse voltage, if the board applies one. Leave empty for an open or shorted emitter. Never above BVEBO.',
