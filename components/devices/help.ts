@@ -43,7 +43,8 @@ export const DEVICE_HELP = {
     'Second breakdown: the collector-emitter voltage where the data sheet’s safe-operating-area line leaves the constant-power line. ' +
     'Above it the allowed current falls faster than power alone says; powered plans above the knee are checked against it. ' +
     'The default is a guess — read it off the SOA plot.',
-  sbSlopeN: 'Slope n of the second-breakdown line, I·V^n = constant (the constant-power line is n = 1); read it from two points of the SOA plot.',
+  sbSlopeN:
+    'Slope n of the second-breakdown line, I·V^n = constant (the constant-power line is n = 1); read it from two points of the SOA plot.',
   breakdownN: 'Exponent n in BVCEO ≈ BVCBO / β^(1/n), used only when BVCEO is empty (2–6; 3 is a fair guess for silicon).',
   description: 'A line that helps people tell parts apart: package, voltage class, use.',
 } as const;
