@@ -16,7 +16,8 @@ export const DEMO_USERS: Array<{ email: string; name: string; role: Role; passwo
 
 /** Optional here: the hot-leakage point and the S/b line (absent = none / the defaults, as the database columns say). */
 type OptionalRatings = 'icboHotA' | 'icboHotC' | 'icboHotVcbV' | 'sbKneeV' | 'sbSlopeN';
-type DemoType = Omit<DeviceTypeInput, 'description' | OptionalRatings> & Partial<Pick<DeviceTypeInput, OptionalRatings>> & { description: string };
+type DemoType = Omit<DeviceTypeInput, 'description' | OptionalRatings> &
+  Partial<Pick<DeviceTypeInput, OptionalRatings>> & { description: string };
 
 export const DEMO_DEVICE_TYPES: DemoType[] = [
   {

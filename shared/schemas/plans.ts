@@ -133,7 +133,11 @@ export const planInputSchema = z
       ctx.addIssue({ code: 'custom', path: ['cycle'], message: 'Intermittent plans need on/off times' });
     }
     if (p.chamberBand && p.chamberBand.belowK + p.chamberBand.aboveK <= 0) {
-      ctx.addIssue({ code: 'custom', path: ['chamberBand', 'aboveK'], message: 'The chamber band needs some width (no chamber holds a temperature exactly)' });
+      ctx.addIssue({
+        code: 'custom',
+        path: ['chamberBand', 'aboveK'],
+        message: 'The chamber band needs some width (no chamber holds a temperature exactly)',
+      });
     }
   })
   .transform((p) => ({ ...p, chamberBand: p.chamberBand ?? { ...METHOD_CHAMBER_BAND_K[p.kind] } }));

@@ -9,7 +9,11 @@ import { forwardSoaLimit } from '../../physics';
 import { A, C, V, W, numbers, pct, sig, titled } from './format';
 import { WARN_FRACTION_OF_LIMIT, type PlanRule, type Severity } from './types';
 
-const LIMITED_BY = { 'ic-max': 'IC max', thermal: 'the power the case temperature allows', 'second-breakdown': 'second breakdown' } as const;
+const LIMITED_BY = {
+  'ic-max': 'IC max',
+  thermal: 'the power the case temperature allows',
+  'second-breakdown': 'second breakdown',
+} as const;
 
 export const forwardSoa: PlanRule = ({ plan, device, derived, chamber }) => {
   const vce = plan.bias.vceV;

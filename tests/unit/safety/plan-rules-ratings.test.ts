@@ -55,7 +55,9 @@ describe('the plan body carries a chamber band in kelvin', () => {
   });
   test('a negative or zero-width band is refused with a clear message', () => {
     const bad = (chamberBand: unknown) =>
-      planInputSchema.safeParse({ ...plan('htrb', 150, { vcbV: 160 }), chamberBand }).error?.issues.map((i) => `${i.path.join('.')}: ${i.message}`);
+      planInputSchema
+        .safeParse({ ...plan('htrb', 150, { vcbV: 160 }), chamberBand })
+        .error?.issues.map((i) => `${i.path.join('.')}: ${i.message}`);
     expect(bad({ belowK: -1, aboveK: 5 })).toEqual(['chamberBand.belowK: A band cannot be negative']);
     expect(bad({ belowK: 0, aboveK: 0 })).toEqual([
       'chamberBand.aboveK: The chamber band needs some width (no chamber holds a temperature exactly)',
@@ -90,8 +92,10 @@ describe('temperatures judged by kelvin margins, not % of °C', () => {
   });
   test('cycling peak: 25 + 115 = 140 °C ok, 25 + 121 = 146 °C warns, 25 + 126 = 151 °C blocks [pub: MIL-STD-750 method 1037 swing; margin practice]', () => {
     const peak = (deltaTjC: number) =>
-      finding(checkPlan(device(), plan('iol', 25, { vceV: 10, icA: 0.05 }, { cycle: { onMin: 2, offMin: 2, deltaTjC, cycles: 15000 } })), 'cycle-peak-junction')
-        .severity;
+      finding(
+        checkPlan(device(), plan('iol', 25, { vceV: 10, icA: 0.05 }, { cycle: { onMin: 2, offMin: 2, deltaTjC, cycles: 15000 } })),
+        'cycle-peak-junction',
+      ).severity;
     expect([peak(115), peak(121), peak(126)]).toEqual(['ok', 'warn', 'block']);
   });
 });
@@ -127,7 +131,17 @@ describe('leakage from the hot point', () => {
 describe('forward SOA for powered bipolar plans', () => {
   // A heat-sunk 100 W part (θja 2.5 K/W as mounted), S/b knee 15 V, n 2 (invented data sheet)
   const power = () =>
-    device({ icMaxA: 10, pMaxW: 100, tjMaxC: 175, thetaJcCPerW: 1.25, thetaJaCPerW: 2.5, bvcboV: 200, bvceoV: 120, sbKneeV: 15, sbSlopeN: 2 });
+    device({
+      icMaxA: 10,
+      pMaxW: 100,
+      tjMaxC: 175,
+      thetaJcCPerW: 1.25,
+      thetaJaCPerW: 2.5,
+      bvcboV: 200,
+      bvceoV: 120,
+      sbKneeV: 15,
+      sbSlopeN: 2,
+    });
   test('a 25 V powered plan beyond SOA is refused with numbers [calc: REFERENCE A6 formulas; k_sb practice]', () => {
     const r = checkPlan(power(), plan('hotl', 25, { vceV: 25, icA: 2 }));
     const f = finding(r, 'forward-soa');
