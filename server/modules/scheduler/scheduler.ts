@@ -494,7 +494,7 @@ export class RunScheduler {
         return {
           id: r.id,
           code: r.code,
-          chamberC: p.chamberC,
+          chamberC: chamberSetpointC(p.chamberC, p.chamberBand),
           humidityPct: p.humidityPct,
           biasV: planBiasV(p),
           sampleSize: r.sampleSize,

@@ -30,7 +30,7 @@ export const junctionTemperature: PlanRule = ({ plan, device, chamber, derived }
         severity: sev,
         title: titled(
           sev,
-          atRating ? 'Predicted junction above the rating and its band' : 'Predicted junction above its rating',
+          'Predicted junction above its rating',
           'Predicted junction close to its rating',
           atRating && tj >= device.tjMaxC ? 'Predicted junction at its rating, within the band' : 'Predicted junction within its rating',
         ),
