@@ -5,7 +5,7 @@ export * from './accrual';
 export * from './cycling';
 
 import type { Bias } from '../schemas/plans';
-import { DEFAULT_BIAS_TOLERANCE_PCT } from '../domain/standards';
+import { DEFAULT_BIAS_TOLERANCE_PCT, type ChamberBandK } from '../domain/standards';
 import { isCyclingKind, isPoweredKind, isReverseBiasKind, type PlanKind } from '../domain/stress';
 import type { AccrualConditions } from './accrual';
 import { planCycleCommand, type PlanCycle } from './cycling';
@@ -41,9 +41,12 @@ export function planBiasSettings(plan: PlanLike & { cycle?: PlanCycle | null }):
 }
 
 /** Accrual conditions of a plan version. */
-export function accrualConditionsFor(plan: PlanLike & { chamberC: number; humidityPct: number | null }): AccrualConditions {
+export function accrualConditionsFor(
+  plan: PlanLike & { chamberC: number; humidityPct: number | null; chamberBand: ChamberBandK },
+): AccrualConditions {
   return {
     setC: plan.chamberC,
+    band: plan.chamberBand,
     humidityPct: plan.humidityPct,
     // A cycling socket's supply is off half of each cycle by design: its bias counts while the
     // cycling program runs (biasOn), and the swing it reports is the stress evidence (cycling.ts).

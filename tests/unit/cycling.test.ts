@@ -249,6 +249,7 @@ describe('protection’s bias check on a cycling socket', () => {
     state: 'stressing',
     planKind: kind,
     chamberC: 25,
+    chamberBand: { belowK: 0, aboveK: 5 },
     bias: { vcbV: null, vebV: null, vceV: 20, ibA: null, icA: 0.1, tolerancePct: 5 },
     planDevice: { tjMaxC: 150, thetaJcCPerW: 1.5 },
     planPartNumber: 'HPD-T220N',

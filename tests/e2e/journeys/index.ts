@@ -8,6 +8,7 @@ import { managerTrends } from './manager';
 import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
+import { engineerRatings } from './ratings';
 import { engineerTripReset } from './trip-reset';
 
 /**
@@ -29,5 +30,6 @@ export const JOURNEYS: Journey[] = [
   operatorCycling,
   managerLotCredit,
   engineerTripReset,
+  engineerRatings,
   adminRigs,
 ];
