@@ -10,6 +10,8 @@ import type {
 import { chiSquareQuantile, constantsUsed, sampleSizeForLtpd, arrheniusFactor } from '../../../shared/reliability';
 import { DeviceTypeEntity } from '../../db/entities';
 import { notFound } from '../../http/errors';
+import { lotCorrectedVersions, recordDeviationVersions } from '../measurements/measurements.data';
+import { lotVersionView } from '../measurements/record-gate';
 import { LOT_CAUTION, planFit } from './lot-analysis';
 import { PartCache, type Analysed } from './part-analysis';
 
@@ -94,6 +96,10 @@ export class AnalyticsService {
       gainReference: { ...a.gainReference, normalisedReadings: c.normalisedReadings },
       otherRuns: a.otherRuns,
       caution: LOT_CAUTION,
+      records: {
+        corrections: (await lotCorrectedVersions(this.ds.manager, lotId)).map(lotVersionView),
+        deviations: (await recordDeviationVersions(this.ds.manager, { lotId })).map(lotVersionView),
+      },
     };
   }
 
