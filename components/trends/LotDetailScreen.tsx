@@ -20,6 +20,7 @@ import { downloadReport } from './exportReport';
 import { hours, PARAM_LABEL, pct, sig } from './format';
 import { LotDistributionChart } from '@/components/charts/LazyCharts';
 import { LotPlanJudgement } from './LotPlanJudgement';
+import { LotRecordsCard } from './LotRecordsCard';
 import { VerdictPill } from './verdict';
 
 const DEVICE_STATUS = {
@@ -294,6 +295,7 @@ export function LotDetailScreen() {
                 </View>
               </>
             )}
+            <LotRecordsCard lot={l} />
             <Banner tone="warn" title="Caution">
               {l.caution}
             </Banner>
