@@ -6,6 +6,7 @@ import { adminPeople, signInErrors, signInEveryRole } from './foundation';
 import { managerTrends } from './manager';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
+import { operatorCorrectReading } from './records';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -23,5 +24,7 @@ export const JOURNEYS: Journey[] = [
   // readings this one shows as an incomplete read point.
   managerLotVerdicts,
   operatorReadPointEvidence,
+  // Corrects a 168 h reading of HG2612-C (in progress): after every journey that reads that lot.
+  operatorCorrectReading,
   adminRigs,
 ];
