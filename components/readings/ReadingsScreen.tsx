@@ -16,7 +16,7 @@ import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
 import { CoveragePanel } from './CoveragePanel';
-import { ManualEntryForm } from './ManualEntryForm';
+import { ManualEntryForm } from '@/components/forms/LazyForms';
 import { StoredReadingsPanel } from './StoredReadingsPanel';
 import { UploadPanel } from './UploadPanel';
 import { UploadsPanel } from './UploadsPanel';
