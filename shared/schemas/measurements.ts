@@ -9,6 +9,10 @@
  *   POST /api/measurements/runs/:runId/read-points/:hours/measurements  JSON array (manual entry)
  *   GET  /api/measurements/runs/:runId/read-points/:hours             stored readings of a read point
  *   GET  /api/measurements/runs/:runId/drift                          drift per device
+ *   POST /api/measurements/readings/:id/corrections                   a new version of one reading, with its reason
+ *   GET  /api/measurements/runs/:runId/devices/:deviceId/history      every version of a device's readings
+ *   GET  /api/measurements/runs/:runId/uploads                        stored uploads, each with its file's path
+ *   GET  /api/measurements/uploads/:uploadId/file                     the uploaded file, byte for byte
  */
 import { z } from 'zod';
 import { num } from './devices';

@@ -171,10 +171,12 @@ describe('corrections are new versions', () => {
     const ok = await op.post(`/api/measurements/readings/${id}/corrections`).send({ ...body, reason: 'Re-measured on the second tester' });
     expect(ok.status).toBe(201);
     expect(ok.body).toMatchObject({ id, hfe: 122, version: 3, changeReason: 'Re-measured on the second tester' });
+    const unchanged = await tableCounts(t.ctx.ds);
     const same = await op
       .post(`/api/measurements/readings/${id}/corrections`)
       .send({ ...body, reason: 'Re-measured on the second tester' });
     expect(same.status).toBe(422);
+    expect(await tableCounts(t.ctx.ds)).toEqual(unchanged);
     expect(same.body.error.message).toMatch(/equal the stored reading of R1 at 168 h; nothing was corrected/);
     const h = await op.get(historyOf('R1'));
     expect(h.body.versions.filter((v: { readPointH: number }) => v.readPointH === 168).map((v: { hfe: number }) => v.hfe)).toEqual([

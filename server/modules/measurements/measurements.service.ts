@@ -386,6 +386,9 @@ export class MeasurementsService {
         rows: body.rows,
       });
     }
+    if (opts.correction && body.replaced === 0) {
+      throw unprocessable(`The values given equal the stored reading of ${items[0].serial} at ${hours} h; nothing was corrected.`);
+    }
     const records = await gateRows(this.ds.manager, b, hours, checked, actor, (row) => items[row.row - 1]?.reason);
     await this.ds.transaction(async (m) => {
       await this.write(m, b, hours, checked, { uploadId: null, enteredById: actor.id }, records);
@@ -547,12 +550,9 @@ export class MeasurementsService {
     const { reason, ...values } = input;
     const measuredAt = values.measuredAt ?? x.measuredAt.toISOString();
     const item = { serial: device.serial, lot: device.lotCode, ...values, measuredAt, reason };
-    const result = await this.manual(actor, x.runId, x.readPointH, [item], {
+    await this.manual(actor, x.runId, x.readPointH, [item], {
       correction: true,
     });
-    if (result.replaced === 0) {
-      throw unprocessable(`The values given equal the stored reading of ${device.serial} at ${x.readPointH} h; nothing was corrected.`);
-    }
     const now = (await this.readings(x.runId, x.readPointH)).find((r) => r.deviceId === x.deviceId);
     return now!;
   }
