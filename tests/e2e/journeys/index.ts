@@ -4,6 +4,7 @@ import { engineerPlanBook } from './engineer';
 import { engineerSplitSample, operatorReadPointEvidence } from './evidence';
 import { adminPeople, signInErrors, signInEveryRole } from './foundation';
 import { managerTrends } from './manager';
+import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
 import { operatorCorrectReading } from './records';
@@ -24,6 +25,7 @@ export const JOURNEYS: Journey[] = [
   // readings this one shows as an incomplete read point.
   managerLotVerdicts,
   operatorReadPointEvidence,
+  managerLotCredit,
   // Corrects a 168 h reading of HG2612-C (in progress): after every journey that reads that lot.
   operatorCorrectReading,
   adminRigs,
