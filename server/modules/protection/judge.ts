@@ -10,7 +10,7 @@
  * bias or leakage finding) is built only when there is something to report. Per-sample fields
  * hold NaN, never null.
  */
-import { DEFAULT_BIAS_TOLERANCE_PCT } from '../../../shared/domain/standards';
+import { DEFAULT_BIAS_TOLERANCE_PCT, chamberSetpointC } from '../../../shared/domain/standards';
 import {
   SocketTrend,
   assessTrend,
@@ -33,7 +33,6 @@ export interface JudgeOptions {
   protection: ProtectionOptions;
   historyMaxSamples: number;
   defaultDevice: ProtectionDevice | null;
-  ambientBandPct: number;
   ambientBandMinC: number;
   debounceSamples: number;
   leakageJumpFactor: number;
@@ -123,6 +122,11 @@ export class SocketJudge {
   private defaultDeviceInfo: DeviceInfo | null = null;
   /** peerBaseline's scratch: one slot per socket a message can carry. */
   private readonly peerScratch = new Float64Array(MAX_SOCKETS);
+  /**
+   * The robust spread (1.4826 × MAD, °C) of the peers peerBaseline last saw; NaN without peers.
+   * Read it right after peerBaseline (the monitor keeps it with the baseline for the message).
+   */
+  peerSpreadC = NaN;
 
   constructor(opts: JudgeOptions) {
     this.opts = opts;
@@ -212,10 +216,16 @@ export class SocketJudge {
       if (!dev) continue;
       tjs[n++] = caseC[k] + dev.device.thetaJcCPerW * Math.abs(vV[k]) * Math.abs(iA[k]);
     }
+    this.peerSpreadC = NaN;
     if (n < 3) return undefined;
     const sorted = tjs.subarray(0, n).sort();
     const mid = n >> 1;
-    return n % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
+    const median = n % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
+    // Median absolute deviation, in the same scratch (the sorted values are no longer needed).
+    for (let k = 0; k < n; k++) sorted[k] = Math.abs(sorted[k] - median);
+    sorted.sort();
+    this.peerSpreadC = 1.4826 * (n % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2);
+    return median;
   }
 
   /**
@@ -268,18 +278,24 @@ export class SocketJudge {
   }
 
   /** The sample into the socket's window, then the runaway verdict. */
-  runaway(st: SocketState, dev: DeviceInfo | null, sample: SocketSample, baselineTjC: number | undefined): RunawayVerdict {
+  runaway(
+    st: SocketState,
+    dev: DeviceInfo | null,
+    sample: SocketSample,
+    baselineTjC: number | undefined,
+    peerSpreadC = NaN,
+  ): RunawayVerdict {
     st.trend.push(sample, dev?.device.thetaJcCPerW ?? 0);
     if (!dev || !sample.biasOn || st.tripCmdId) return 'not-judged';
     const p = this.opts.protection;
     // The decision first, allocating nothing; the assessment itself (same inputs, same answer)
     // only when there is something to report.
-    if (judgeTrend(st.trend, dev.device, p, baselineTjC) === 'none') {
+    if (judgeTrend(st.trend, dev.device, p, baselineTjC, peerSpreadC) === 'none') {
       st.warnStreak = 0;
       st.calm++;
       return st.calm >= this.opts.warnClearSamples ? 'calm-long' : 'calm';
     }
-    const a = assessTrend(st.trend, dev.device, p, baselineTjC);
+    const a = assessTrend(st.trend, dev.device, p, baselineTjC, peerSpreadC);
     if (a.action === 'warn') {
       st.calm = 0;
       st.warnStreak++;
@@ -288,8 +304,8 @@ export class SocketJudge {
   }
 
   /** The assessment behind a 'calm-long' verdict (its reason clears the warning). */
-  calmAssessment(st: SocketState, dev: DeviceInfo, baselineTjC: number | undefined): SocketAssessment {
-    return assessTrend(st.trend, dev.device, this.opts.protection, baselineTjC);
+  calmAssessment(st: SocketState, dev: DeviceInfo, baselineTjC: number | undefined, peerSpreadC = NaN): SocketAssessment {
+    return assessTrend(st.trend, dev.device, this.opts.protection, baselineTjC, peerSpreadC);
   }
 
   /** A 'warn' assessment that has held for warnAfterSamples. */
@@ -378,7 +394,7 @@ export class SocketJudge {
   }
 
   /**
-   * The chamber against the run's set point (± ambientBandPct, at least ± ambientBandMinC) while
+   * The chamber against the run's band (centre ± half its width, at least ± ambientBandMinC) while
    * stressing: out of band for debounceSamples, 'clear-due' once back in for as long, 'no-stress'
    * when no run is stressing (a live alarm no longer applies), else undefined.
    */
@@ -387,8 +403,9 @@ export class SocketJudge {
       rig.ambientOut = rig.ambientIn = 0;
       return 'no-stress';
     }
-    const set = run.chamberC;
-    const band = Math.max((this.opts.ambientBandPct / 100) * Math.abs(set), this.opts.ambientBandMinC);
+    // The plan's band in kelvin (a minimum with +x/−0 for HTRB), as its centre ± half-width.
+    const set = chamberSetpointC(run.chamberC, run.chamberBand);
+    const band = Math.max((run.chamberBand.belowK + run.chamberBand.aboveK) / 2, this.opts.ambientBandMinC);
     const dev = chamberC - set;
     if (Math.abs(dev) > band) {
       rig.ambientOut++;

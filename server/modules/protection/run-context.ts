@@ -5,6 +5,7 @@
  */
 import { In } from 'typeorm';
 import { ON_RIG_STATES } from '../../../shared/domain/run-states';
+import type { ChamberBandK } from '../../../shared/domain/standards';
 import type { ProtectionDevice } from '../../../shared/safety/protection';
 import type { Bias, PlanKind } from '../../../shared/schemas/plans';
 import type { AppContext } from '../../context';
@@ -29,6 +30,8 @@ export interface RunContext {
   state: RunState;
   planKind: PlanKind;
   chamberC: number;
+  /** The plan's chamber band (K below / above chamberC). */
+  chamberBand: ChamberBandK;
   bias: Bias;
   /** The plan's part: used for an energised socket missing from the socket map. */
   planDevice: ProtectionDevice;
@@ -36,9 +39,10 @@ export interface RunContext {
   sockets: Map<number, SocketDevice>;
 }
 
-export const deviceOf = (t: Pick<DeviceTypeEntity, 'tjMaxC' | 'thetaJcCPerW'>): ProtectionDevice => ({
+export const deviceOf = (t: Pick<DeviceTypeEntity, 'tjMaxC' | 'thetaJcCPerW' | 'thetaJaCPerW'>): ProtectionDevice => ({
   tjMaxC: t.tjMaxC,
   thetaJcCPerW: t.thetaJcCPerW,
+  thetaJaCPerW: t.thetaJaCPerW,
 });
 
 /**
@@ -92,6 +96,7 @@ export async function loadRunContext(ctx: AppContext, rigId: string): Promise<Ru
     state: run.state,
     planKind: plan.kind,
     chamberC: plan.chamberC,
+    chamberBand: plan.chamberBand,
     bias: plan.bias,
     planDevice: deviceOf(plan.deviceType),
     planPartNumber: plan.deviceType.partNumber,

@@ -7,7 +7,9 @@ import { managerTrends } from './manager';
 import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
+import { engineerRatings } from './ratings';
 import { operatorCorrectReading } from './records';
+import { engineerTripReset } from './trip-reset';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -26,6 +28,8 @@ export const JOURNEYS: Journey[] = [
   managerLotVerdicts,
   operatorReadPointEvidence,
   managerLotCredit,
+  engineerTripReset,
+  engineerRatings,
   // Corrects a 168 h reading of HG2612-C (in progress): after every journey that reads that lot.
   operatorCorrectReading,
   adminRigs,
