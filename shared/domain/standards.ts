@@ -53,6 +53,23 @@ export const LEGACY_CHAMBER_TOLERANCE_PCT = 3;
 export function chamberLimits(setC: number, band: ChamberBandK): { lowC: number; highC: number } {
   return { lowC: setC - band.belowK, highC: setC + band.aboveK };
 }
+/**
+ * Headroom above the chamber band's top before protection's hard trip, for a reverse-bias stress
+ * planned at or above the part's rating (HTRB at Tj max with a +5/−0 K band): the junction of a
+ * reverse-biased part sits at the chamber plus tenths of a kelvin of leakage heating, so a trip at
+ * the data sheet's Tj max would trip every healthy socket. 5 K leaves room for the oven's swing and
+ * socket spread (Emberlot's choice, not a standard's; bench protection.atRating).
+ */
+export const RATED_STRESS_HEADROOM_K = 5;
+/**
+ * The junction temperature at which protection trips outright: the part's Tj max, or for a
+ * reverse-bias stress whose band reaches past Tj max − RATED_STRESS_HEADROOM_K, the band's top plus
+ * that headroom. Powered stresses always keep Tj max (their junction is held below it on purpose).
+ */
+export function protectionLimitC(p: { tjMaxC: number; reverseBias: boolean; chamberC: number; band: ChamberBandK }): number {
+  if (!p.reverseBias) return p.tjMaxC;
+  return Math.max(p.tjMaxC, chamberLimits(p.chamberC, p.band).highC + RATED_STRESS_HEADROOM_K);
+}
 /** Where the rig's controller is aimed: the middle of the band (a one-sided band puts it above the minimum). */
 export function chamberSetpointC(setC: number, band: ChamberBandK): number {
   return setC + (band.aboveK - band.belowK) / 2;
