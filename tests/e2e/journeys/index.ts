@@ -9,6 +9,7 @@ import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
 import { engineerRatings } from './ratings';
+import { operatorCorrectReading } from './records';
 import { engineerTripReset } from './trip-reset';
 
 /**
@@ -31,5 +32,7 @@ export const JOURNEYS: Journey[] = [
   managerLotCredit,
   engineerTripReset,
   engineerRatings,
+  // Corrects a 168 h reading of HG2612-C (in progress): after every journey that reads that lot.
+  operatorCorrectReading,
   adminRigs,
 ];
