@@ -16,6 +16,9 @@ import { floorRoutes } from './floor/floor.routes';
 import { telemetryRoutes } from './telemetry/telemetry.routes';
 import { runsRoutes } from './runs/runs.routes';
 import { evidenceRoutes } from './evidence/evidence.routes';
+import { approvalsRoutes } from './approvals/approvals.routes';
+import { signoffRoutes } from './signoff/signoff.routes';
+import { auditRoutes } from './audit/audit.routes';
 
 /** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
 export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
@@ -35,6 +38,9 @@ export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
   telemetryRoutes,
   runsRoutes,
   evidenceRoutes,
+  approvalsRoutes,
+  signoffRoutes,
+  auditRoutes,
 ];
 
 export function apiRouters(ctx: AppContext): ApiRouter[] {

@@ -105,7 +105,7 @@ export function authRoutes(ctx: AppContext): ApiRouter {
 
   r.get('/me', { access: 'signed-in' }, async ({ user }) => {
     const u = await ctx.ds.getRepository(UserEntity).findOneByOrFail({ id: user.id });
-    return { user: { ...user, notifyAlarms: u.notifyAlarms, notifyReadPoints: u.notifyReadPoints } };
+    return { user: { ...user, notifyAlarms: u.notifyAlarms, notifyReadPoints: u.notifyReadPoints, safetyApprover: u.safetyApprover } };
   });
   return r;
 }
