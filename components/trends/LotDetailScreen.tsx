@@ -21,6 +21,7 @@ import { hours, PARAM_LABEL, pct, sig } from './format';
 import { LotDistributionChart } from '@/components/charts/LazyCharts';
 import { LotPlanJudgement } from './LotPlanJudgement';
 import { VerdictPill } from './verdict';
+import { VerdictSignatures } from '@/components/signoff/VerdictSignatures';
 
 const DEVICE_STATUS = {
   pass: { tone: 'ok', label: 'Within criteria' },
@@ -230,6 +231,7 @@ export function LotDetailScreen() {
                 ) : null}
               </View>
             </Card>
+            <VerdictSignatures lotId={l.lotId} />
             {l.verdict === 'untested' ? (
               <EmptyState title="No readings" message="This lot has not been on a stress run yet." />
             ) : (

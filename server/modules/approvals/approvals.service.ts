@@ -75,7 +75,8 @@ export class ApprovalsService {
       // One open request per plan version at a time: two engineers asking at once queue on the plan row.
       await m.findOne(StressPlanEntity, { where: { id: plan.id }, lock: { mode: 'pessimistic_write' } });
       const blocks = blockingFindings(plan, type, this.now());
-      if (!blocks.length) throw unprocessable(`The plan check of "${plan.name}" (version ${plan.version}) blocks nothing; book it as it is.`);
+      if (!blocks.length)
+        throw unprocessable(`The plan check of "${plan.name}" (version ${plan.version}) blocks nothing; book it as it is.`);
       const never = blocks.filter((f) => f.neverOverride);
       if (never.length) throw unprocessable(neverOverridableMessage(plan, never), { neverOverride: never.map((f) => f.code) });
       const open = await m.findOne(OverrideRequestEntity, { where: { planId: plan.id, state: In(['pending', 'approved']) } });
@@ -149,7 +150,13 @@ export class ApprovalsService {
           entity: 'plan',
           entityId: plan.id,
           reason: input.note || null,
-          details: { requestId: r.id, planName: plan.name, planVersion: plan.version, requestedById: r.requestedById, findings: r.findings },
+          details: {
+            requestId: r.id,
+            planName: plan.name,
+            planVersion: plan.version,
+            requestedById: r.requestedById,
+            findings: r.findings,
+          },
         },
         m,
       );
@@ -169,7 +176,8 @@ export class ApprovalsService {
       'It can be booked only with an approved override: an engineer asks for one with a reason, and a second person holding the safety approval approves it.';
     if (!requestId) throw unprocessable(ask, { blockingFindings: blocks });
     const r = await m.findOne(OverrideRequestEntity, { where: { id: requestId }, lock: { mode: 'pessimistic_write' } });
-    if (!r || r.planId !== plan.id) throw unprocessable(`That override request is not for "${plan.name}" (version ${plan.version}). ${ask}`);
+    if (!r || r.planId !== plan.id)
+      throw unprocessable(`That override request is not for "${plan.name}" (version ${plan.version}). ${ask}`);
     if (r.state !== 'approved') {
       throw unprocessable(
         r.state === 'pending'

@@ -19,8 +19,7 @@ import type { AuditService } from '../audit/audit.service';
 import { LOCKOUT_AFTER, LOCKOUT_MINUTES, type AuthService } from '../auth/auth.service';
 import { sha256Hex } from '../audit/audit-chain';
 
-export const WRONG_SIGNING_PASSWORD =
-  `Wrong password: nothing was signed. After ${LOCKOUT_AFTER} wrong passwords in a row the account is locked for ${LOCKOUT_MINUTES} minutes.`;
+export const WRONG_SIGNING_PASSWORD = `Wrong password: nothing was signed. After ${LOCKOUT_AFTER} wrong passwords in a row the account is locked for ${LOCKOUT_MINUTES} minutes.`;
 
 const toView = (s: VerdictSignatureEntity, currentHash: string): VerdictSignature => ({
   id: s.id,
@@ -64,7 +63,9 @@ export class SignoffService {
   async sign(actor: SessionUser, lotId: string, input: SignVerdictInput): Promise<LotSignoff> {
     const d = await this.signedData(lotId);
     if (UNSIGNABLE_VERDICTS.includes(d.verdict)) {
-      throw unprocessable(`Lot ${d.lotCode} is ${LOT_VERDICT_LABEL[d.verdict].toLowerCase()}: a verdict can be signed once the stress is over.`);
+      throw unprocessable(
+        `Lot ${d.lotCode} is ${LOT_VERDICT_LABEL[d.verdict].toLowerCase()}: a verdict can be signed once the stress is over.`,
+      );
     }
     const check = await this.auth.verify(actor.email, input.password);
     if (!check.ok || check.user.id !== actor.id) throw forbidden(WRONG_SIGNING_PASSWORD);
