@@ -18,7 +18,7 @@ import { runsRoutes } from './runs/runs.routes';
 import { evidenceRoutes } from './evidence/evidence.routes';
 import { approvalsRoutes } from './approvals/approvals.routes';
 import { signoffRoutes } from './signoff/signoff.routes';
-import { auditRoutes } from './audit/audit.routes';
+import { auditRoutes } from './audit-log/audit-log.routes';
 
 /** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
 export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
