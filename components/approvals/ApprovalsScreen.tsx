@@ -114,7 +114,7 @@ function RequestCard({ r, canDecide, own }: { r: OverrideRequest; canDecide: boo
 export function ApprovalsScreen() {
   const me = useMe();
   const all = useOverrideRequests({});
-  const canDecide = me.data?.safetyApprover === true;
+  const canDecide = all.data?.canDecide === true;
   return (
     <Screen width="wide" testID="approvals-screen">
       <Header
@@ -123,19 +123,19 @@ export function ApprovalsScreen() {
         subtitle="Plans booked despite a blocking plan-check finding need a second person's approval. Reverse bias beyond the rated breakdown is never approved."
       />
       <SafetyCaution compact context="An approved override lets a plan run outside the plan check's limits." />
-      {canDecide ? null : (
+      {all.data && !canDecide ? (
         <Banner tone="info">
           You can read the queue; deciding needs the safety-approval permission, which an administrator grants on People.
         </Banner>
-      )}
+      ) : null}
       <QueryState
         query={all}
         loadingLabel="Loading override requests…"
         errorTitle="Could not load override requests"
-        isEmpty={(list) => list.length === 0}
+        isEmpty={(d) => d.items.length === 0}
         empty={<EmptyState title="No override requests" message="When an engineer asks to run a blocked plan, the request waits here." />}
       >
-        {(list) => {
+        {({ items: list }) => {
           const pending = list.filter((r) => r.state === 'pending');
           const done = list.filter((r) => r.state !== 'pending');
           return (

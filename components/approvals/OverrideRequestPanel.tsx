@@ -26,7 +26,7 @@ export function OverrideRequestPanel({ planId, onApproved }: Props) {
   const requests = useOverrideRequests({ planId });
   const ask = useRequestOverride();
   const [reason, setReason] = useState('');
-  const list = requests.data ?? [];
+  const list = requests.data?.items ?? [];
   const approved = list.find((r) => r.state === 'approved');
   const pending = list.find((r) => r.state === 'pending');
   const refused = list.find((r) => r.state === 'refused');

@@ -25,7 +25,7 @@ const qs = (o: Record<string, string | undefined>) => {
 export function useOverrideRequests(filter: { state?: OverrideRequestState; planId?: string }, enabled = true) {
   return useQuery({
     queryKey: overrideKeys.list(filter),
-    queryFn: ({ signal }) => api<{ items: OverrideRequest[] }>(`/api/override-requests${qs(filter)}`, { signal }).then((r) => r.items),
+    queryFn: ({ signal }) => api<{ items: OverrideRequest[]; canDecide: boolean }>(`/api/override-requests${qs(filter)}`, { signal }),
     enabled,
     refetchInterval: 15_000,
   });

@@ -72,7 +72,9 @@ describe('asking for an override', () => {
     expect(short.body.error.fields.reason).toEqual(['Write at least 10 characters on why the plan may run anyway']);
     const none = await eng.post('/api/override-requests').send({ planId: ids.okPlan, reason: REASON });
     expect(none.status).toBe(422);
-    expect(none.body.error.message).toBe('The plan check of "HTRB 145 °C, 80 % VCBO, 1000 h" (version 1) blocks nothing; book it as it is.');
+    expect(none.body.error.message).toBe(
+      'The plan check of "HTRB 145 °C, 80 % VCBO, 1000 h" (version 1) blocks nothing; book it as it is.',
+    );
     const never = await eng.post('/api/override-requests').send({ planId: ids.avalanchePlan, reason: REASON });
     expect(never.status).toBe(422);
     expect(never.body.error.message).toMatch(
@@ -87,7 +89,11 @@ describe('asking for an override', () => {
     const eng = await t.signIn('engineer');
     const res = await eng.post('/api/override-requests').send({ planId: ids.hotPlan, reason: REASON });
     expect(res.status).toBe(201);
-    expect(res.body).toMatchObject({ state: 'pending', reason: REASON, plan: { name: 'HTRB 160 °C', version: 1, partNumber: 'HPD-2N140' } });
+    expect(res.body).toMatchObject({
+      state: 'pending',
+      reason: REASON,
+      plan: { name: 'HTRB 160 °C', version: 1, partNumber: 'HPD-2N140' },
+    });
     expect(res.body.requestedBy.name).toBe('Test engineer');
     ids.req = res.body.id;
     const a = await t.ctx.ds.getRepository(AuditLogEntity).findOneByOrFail({ action: 'override.request', entityId: ids.hotPlan });
@@ -142,6 +148,8 @@ describe('deciding an override', () => {
     const mgr = await t.signIn('manager');
     const queue = await mgr.get('/api/override-requests?state=pending');
     expect(queue.body.items.map((r: { id: string }) => r.id)).toEqual([ids.req]);
+    expect(queue.body.canDecide).toBe(true);
+    expect((await (await t.signIn('admin')).get('/api/override-requests')).body.canDecide).toBe(false);
     const noNote = await mgr.post(`/api/override-requests/${ids.req}/decision`).send({ decision: 'refuse' });
     expect(noNote.status).toBe(400);
     expect(noNote.body.error.fields.note).toEqual(['Write at least 10 characters on why it is refused']);
@@ -152,7 +160,9 @@ describe('deciding an override', () => {
     expect(a.actorId).toBe(mgrId);
     expect(a.details.requestId).toBe(ids.req);
     expect(a.details.findings.find((f: { code: string }) => f.code === 'chamber-vs-tjmax').numbers.chamberC.value).toBe(160);
-    const again = await mgr.post(`/api/override-requests/${ids.req}/decision`).send({ decision: 'refuse', note: 'Changed my mind entirely.' });
+    const again = await mgr
+      .post(`/api/override-requests/${ids.req}/decision`)
+      .send({ decision: 'refuse', note: 'Changed my mind entirely.' });
     expect(again.status).toBe(409);
   });
 
@@ -161,7 +171,9 @@ describe('deciding an override', () => {
     const req = await eng.post('/api/override-requests').send({ planId: ids.nearPlan, reason: REASON });
     expect(req.status).toBe(201);
     const mgr = await t.signIn('manager');
-    const res = await mgr.post(`/api/override-requests/${req.body.id}/decision`).send({ decision: 'refuse', note: 'Run it at 80 % of BVCBO instead.' });
+    const res = await mgr
+      .post(`/api/override-requests/${req.body.id}/decision`)
+      .send({ decision: 'refuse', note: 'Run it at 80 % of BVCBO instead.' });
     expect(res.status).toBe(200);
     expect(res.body.state).toBe('refused');
     const a = await t.ctx.ds.getRepository(AuditLogEntity).findOneByOrFail({ action: 'override.refuse', entityId: ids.nearPlan });

@@ -9,7 +9,11 @@ export function approvalsRoutes(ctx: AppContext): ApiRouter {
   const svc = ctx.services.approvals;
   const r = new ApiRouter('/api/override-requests');
   const deciders = rolesFor('override.decide');
-  r.get('/', { access: deciders, query: overrideListQuerySchema }, async ({ query }) => ({ items: await svc.list(query) }));
+  // `canDecide`: whether the reader holds the safety-approval grant (the screen shows the buttons).
+  r.get('/', { access: deciders, query: overrideListQuerySchema }, async ({ user, query }) => ({
+    items: await svc.list(query),
+    canDecide: await svc.holdsGrant(user),
+  }));
   r.post('/', { access: rolesFor('override.request'), body: overrideRequestInputSchema, status: 201 }, ({ user, body }) =>
     svc.request(user, body),
   );

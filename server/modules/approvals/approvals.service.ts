@@ -126,6 +126,11 @@ export class ApprovalsService {
     return this.views(rows);
   }
 
+  async holdsGrant(actor: SessionUser): Promise<boolean> {
+    const me = await this.ds.getRepository(UserEntity).findOneBy({ id: actor.id });
+    return !!me?.safetyApprover;
+  }
+
   async decide(actor: SessionUser, id: string, input: OverrideDecisionInput): Promise<OverrideRequest> {
     await this.ds.transaction(async (m) => {
       const me = await m.findOneByOrFail(UserEntity, { id: actor.id });

@@ -6,6 +6,7 @@ import { adminPeople, signInErrors, signInEveryRole } from './foundation';
 import { managerTrends } from './manager';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
+import { signoffApprovalsAudit } from './signoff';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -23,5 +24,6 @@ export const JOURNEYS: Journey[] = [
   // readings this one shows as an incomplete read point.
   managerLotVerdicts,
   operatorReadPointEvidence,
+  signoffApprovalsAudit,
   adminRigs,
 ];
