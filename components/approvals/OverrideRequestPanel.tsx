@@ -53,7 +53,7 @@ export function OverrideRequestPanel({ planId, onApproved }: Props) {
       <View style={{ gap: space.xs }} testID="override-pending">
         <StatusPill tone="attention" label="Waiting for approval" size="sm" />
         <Text variant="caption">
-          {pending.requestedBy.name} asked on {formatDateTime(pending.requestedAt)}: “{pending.reason}”. A second person holding the safety
+          {pending.requestedBy.name} asked on {formatDateTime(pending.requestedAt)}: “{pending.reason}” A second person holding the safety
           approval decides it under Approvals; you cannot approve your own request.
         </Text>
       </View>

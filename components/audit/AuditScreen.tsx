@@ -161,7 +161,7 @@ export function AuditScreen() {
             <Text variant="caption" tone="muted" testID="audit-count">
               {p.more
                 ? `The newest ${p.items.length} matching entries; narrow the filter or export for more.`
-                : `${p.items.length} entries.`}
+                : `${p.items.length} ${p.items.length === 1 ? 'entry' : 'entries'}.`}
             </Text>
             <DataTable
               caption="Audit log entries"
