@@ -14,7 +14,7 @@ import { Field } from '@/components/ui/Field';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { Banner } from '@/components/ui/Banner';
-import { OVERRIDE_REQUEST_REASON_MIN } from '@/shared/schemas/approvals';
+import { OVERRIDE_REASON_MIN } from '@/shared/schemas/approvals';
 
 interface Props {
   planId: string;
@@ -30,7 +30,7 @@ export function OverrideRequestPanel({ planId, onApproved }: Props) {
   const approved = list.find((r) => r.state === 'approved');
   const pending = list.find((r) => r.state === 'pending');
   const refused = list.find((r) => r.state === 'refused');
-  const reasonOk = reason.trim().length >= OVERRIDE_REQUEST_REASON_MIN;
+  const reasonOk = reason.trim().length >= OVERRIDE_REASON_MIN;
 
   useEffect(() => {
     onApproved(approved?.id ?? null);
@@ -71,8 +71,8 @@ export function OverrideRequestPanel({ planId, onApproved }: Props) {
         multiline
         value={reason}
         onChangeText={setReason}
-        help={`At least ${OVERRIDE_REQUEST_REASON_MIN} characters. The request, the approval and the findings' numbers are recorded in the audit trail.`}
-        error={reason && !reasonOk ? `Write at least ${OVERRIDE_REQUEST_REASON_MIN} characters` : undefined}
+        help={`At least ${OVERRIDE_REASON_MIN} characters. The request, the approval and the findings' numbers are recorded in the audit trail.`}
+        error={reason && !reasonOk ? `Write at least ${OVERRIDE_REASON_MIN} characters` : undefined}
         testID="override-reason"
       />
       <View style={{ flexDirection: 'row' }}>

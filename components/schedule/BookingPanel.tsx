@@ -22,7 +22,7 @@ import { Loading } from '@/components/ui/Loading';
 import { Badge, StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { DEVIATION_REASON_MIN, sampleShortfall } from '@/shared/evidence';
-import { type ProposalOption, type ProposalResult } from '@/shared/schemas/runs';
+import type { ProposalOption, ProposalResult } from '@/shared/schemas/runs';
 import { OverrideRequestPanel } from '@/components/approvals/OverrideRequestPanel';
 
 function Chip({ label, selected, onPress, hint }: { label: string; selected: boolean; onPress: () => void; hint?: string }) {

@@ -1,9 +1,8 @@
 import { z } from 'zod';
 
-/** Shortest reason an engineer may give for asking to run a plan despite a blocking finding. */
-export const OVERRIDE_REQUEST_REASON_MIN = 10;
-/** Shortest note an approver gives when refusing (an approval may be given without one). */
-export const OVERRIDE_REFUSAL_NOTE_MIN = 10;
+import { OVERRIDE_REASON_MIN, OVERRIDE_REFUSAL_NOTE_MIN } from '../domain/reasons';
+
+export { OVERRIDE_REASON_MIN, OVERRIDE_REFUSAL_NOTE_MIN } from '../domain/reasons';
 
 export const OVERRIDE_REQUEST_STATES = ['pending', 'approved', 'refused', 'used'] as const;
 export type OverrideRequestState = (typeof OVERRIDE_REQUEST_STATES)[number];
@@ -19,7 +18,7 @@ export const overrideRequestInputSchema = z.object({
   reason: z
     .string()
     .trim()
-    .min(OVERRIDE_REQUEST_REASON_MIN, `Write at least ${OVERRIDE_REQUEST_REASON_MIN} characters on why the plan may run anyway`)
+    .min(OVERRIDE_REASON_MIN, `Write at least ${OVERRIDE_REASON_MIN} characters on why the plan may run anyway`)
     .max(2000),
 });
 export type OverrideRequestInput = z.infer<typeof overrideRequestInputSchema>;
