@@ -30,7 +30,11 @@ export const overrideDecisionSchema = z
   })
   .superRefine((d, ctx) => {
     if (d.decision === 'refuse' && d.note.length < OVERRIDE_REFUSAL_NOTE_MIN) {
-      ctx.addIssue({ code: 'custom', path: ['note'], message: `Write at least ${OVERRIDE_REFUSAL_NOTE_MIN} characters on why it is refused` });
+      ctx.addIssue({
+        code: 'custom',
+        path: ['note'],
+        message: `Write at least ${OVERRIDE_REFUSAL_NOTE_MIN} characters on why it is refused`,
+      });
     }
   });
 export type OverrideDecisionInput = z.infer<typeof overrideDecisionSchema>;

@@ -15,7 +15,10 @@ let t: TestApp;
 const ROOT = path.resolve(__dirname, '../..');
 
 /** `npm run audit:verify` against the test's own database (the script, as a lab would run it). */
-async function auditVerify(): Promise<{ code: number; last: { ok: boolean; checked: number; firstBreak: { id: string; problem: string } | null } }> {
+async function auditVerify(): Promise<{
+  code: number;
+  last: { ok: boolean; checked: number; firstBreak: { id: string; problem: string } | null };
+}> {
   const env = {
     ...process.env,
     EMBERLOT_DB_HOST: t.db.config.host,
@@ -136,7 +139,12 @@ describe('the hash chain', () => {
     const count = await t.ctx.ds.getRepository(AuditLogEntity).count();
     expect(clean.last).toEqual({ ok: true, checked: count, firstBreak: null });
     // "Un-fail" a record the way an insider would: straight in SQL, bypassing the application.
-    const target = await t.ctx.ds.getRepository(AuditLogEntity).findOneByOrFail({ action: 'user.create', entityId: (await t.ctx.ds.query(`SELECT id FROM users WHERE email = 'brook@harrowgate.example'`))[0].id });
+    const target = await t.ctx.ds
+      .getRepository(AuditLogEntity)
+      .findOneByOrFail({
+        action: 'user.create',
+        entityId: (await t.ctx.ds.query(`SELECT id FROM users WHERE email = 'brook@harrowgate.example'`))[0].id,
+      });
     await t.ctx.ds.query(`UPDATE audit_log SET details = jsonb_set(details, '{role}', '"admin"') WHERE id = $1`, [target.id]);
     const tampered = await auditVerify();
     expect(tampered.code).toBe(1);

@@ -53,7 +53,9 @@ beforeAll(async () => {
     const mk = async (code: string, state: 'finished' | 'stressing') => {
       const lot = await m.save(m.create(LotEntity, { code, deviceTypeId: type.id, quantity: 1000, notes: '' }));
       const devices = await m.save(
-        Array.from({ length: 20 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `${code.slice(-1)}${String(i + 1).padStart(4, '0')}` })),
+        Array.from({ length: 20 }, (_, i) =>
+          m.create(DeviceEntity, { lotId: lot.id, serial: `${code.slice(-1)}${String(i + 1).padStart(4, '0')}` }),
+        ),
       );
       await insertHistoryRun(m, {
         code: `R-${code}`,
@@ -109,7 +111,12 @@ describe('signing a lot verdict', () => {
     expect(res.body.verdict).toBe('passed');
     expect(res.body.signatures).toHaveLength(1);
     const s = res.body.signatures[0];
-    expect(s).toMatchObject({ verdict: 'passed', meaning: 'approved', signer: { name: 'Test manager', email: 'manager@test.example' }, stale: false });
+    expect(s).toMatchObject({
+      verdict: 'passed',
+      meaning: 'approved',
+      signer: { name: 'Test manager', email: 'manager@test.example' },
+      stale: false,
+    });
     expect(Math.abs(Date.parse(s.signedAt) - Date.now())).toBeLessThan(60_000);
     // The hash is SHA-256 (FIPS 180-4, via node:crypto) of exactly the stored canonical JSON, which
     // is the evidence the analytics service judged, read independently here.
@@ -119,7 +126,9 @@ describe('signing a lot verdict', () => {
     expect(row.data).toBe(canonicalJson({ lotId, lotCode: 'HG9901-A', verdict: 'passed', evidence: judged.evidence }));
     expect(res.body.currentHash).toBe(s.dataHash);
     const audit = await t.ctx.ds.query(`SELECT actor, details FROM audit_log WHERE action = 'verdict.sign' AND entity_id = $1`, [lotId]);
-    expect(audit).toEqual([{ actor: 'manager@test.example', details: expect.objectContaining({ meaning: 'approved', dataHash: s.dataHash, verdict: 'passed' }) }]);
+    expect(audit).toEqual([
+      { actor: 'manager@test.example', details: expect.objectContaining({ meaning: 'approved', dataHash: s.dataHash, verdict: 'passed' }) },
+    ]);
     // Reading it again (nothing changed) gives the same hash: the canonical form is stable.
     const again = await mgr.get(`/api/signoff/lots/${lotId}`);
     expect(again.body.signatures[0].stale).toBe(false);

@@ -50,12 +50,21 @@ export function checkChain(
     if (r.prevHash !== last) {
       return {
         last,
-        problem: { id: r.id, problem: `entry ${r.id} links to ${r.prevHash ?? 'nothing'}, but the entry before it hashes to ${last ?? 'nothing'}` },
+        problem: {
+          id: r.id,
+          problem: `entry ${r.id} links to ${r.prevHash ?? 'nothing'}, but the entry before it hashes to ${last ?? 'nothing'}`,
+        },
       };
     }
     const h = entryHash(r);
     if (r.hash !== h) {
-      return { last, problem: { id: r.id, problem: `entry ${r.id} was changed after it was written (its content hashes to ${h}, stored ${r.hash ?? 'nothing'})` } };
+      return {
+        last,
+        problem: {
+          id: r.id,
+          problem: `entry ${r.id} was changed after it was written (its content hashes to ${h}, stored ${r.hash ?? 'nothing'})`,
+        },
+      };
     }
     last = h;
   }

@@ -29,10 +29,9 @@ export function chainBatch(m: EntityManager, afterId: string, take: number): Pro
 export function findEntries(m: EntityManager, q: AuditQuery, limit: number): Promise<AuditLogEntity[]> {
   const b = m.getRepository(AuditLogEntity).createQueryBuilder('a');
   if (q.actor) {
-    b.andWhere(
-      `(a.actor ILIKE :actor ESCAPE '\\' OR a.actor_id IN (SELECT u.id FROM users u WHERE u.name ILIKE :actor ESCAPE '\\'))`,
-      { actor: `%${likeEscape(q.actor)}%` },
-    );
+    b.andWhere(`(a.actor ILIKE :actor ESCAPE '\\' OR a.actor_id IN (SELECT u.id FROM users u WHERE u.name ILIKE :actor ESCAPE '\\'))`, {
+      actor: `%${likeEscape(q.actor)}%`,
+    });
   }
   if (q.entity) b.andWhere('a.entity = :entity', { entity: q.entity });
   if (q.entityId) b.andWhere('a.entity_id = :entityId', { entityId: q.entityId });

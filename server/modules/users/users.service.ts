@@ -84,7 +84,9 @@ export class UsersService {
       if (input.safetyApprover !== undefined) {
         const role = input.role ?? u.role;
         if (input.safetyApprover && !can(role, 'override.decide')) {
-          throw unprocessable(`Someone with the ${role} role cannot decide safety overrides; grant the safety approval to an engineer, manager or administrator.`);
+          throw unprocessable(
+            `Someone with the ${role} role cannot decide safety overrides; grant the safety approval to an engineer, manager or administrator.`,
+          );
         }
         u.safetyApprover = changes.safetyApprover = input.safetyApprover;
       }

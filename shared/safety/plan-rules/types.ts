@@ -39,7 +39,8 @@ export interface Finding {
 }
 
 /** Whether a blocking finding may be overridden with a second person's approval (the flag set by its rule). */
-export const isOverridable = (f: { severity: string; neverOverride?: boolean }): boolean => f.severity === 'block' && f.neverOverride !== true;
+export const isOverridable = (f: { severity: string; neverOverride?: boolean }): boolean =>
+  f.severity === 'block' && f.neverOverride !== true;
 
 export interface PlanDerived {
   allowedVcbV: number | null;
