@@ -139,12 +139,10 @@ describe('the hash chain', () => {
     const count = await t.ctx.ds.getRepository(AuditLogEntity).count();
     expect(clean.last).toEqual({ ok: true, checked: count, firstBreak: null });
     // "Un-fail" a record the way an insider would: straight in SQL, bypassing the application.
-    const target = await t.ctx.ds
-      .getRepository(AuditLogEntity)
-      .findOneByOrFail({
-        action: 'user.create',
-        entityId: (await t.ctx.ds.query(`SELECT id FROM users WHERE email = 'brook@harrowgate.example'`))[0].id,
-      });
+    const target = await t.ctx.ds.getRepository(AuditLogEntity).findOneByOrFail({
+      action: 'user.create',
+      entityId: (await t.ctx.ds.query(`SELECT id FROM users WHERE email = 'brook@harrowgate.example'`))[0].id,
+    });
     await t.ctx.ds.query(`UPDATE audit_log SET details = jsonb_set(details, '{role}', '"admin"') WHERE id = $1`, [target.id]);
     const tampered = await auditVerify();
     expect(tampered.code).toBe(1);
