@@ -21,7 +21,9 @@ import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { sigFigures } from '@/shared/domain/format';
-import { OVERRIDE_REFUSAL_NOTE_MIN, OVERRIDE_REQUEST_STATE_LABEL, type OverrideRequest } from '@/shared/schemas/approvals';
+import { OVERRIDE_REFUSAL_NOTE_MIN } from '@/shared/domain/reasons';
+import { OVERRIDE_REQUEST_STATE_LABEL } from '@/shared/domain/signoff';
+import type { OverrideRequest } from '@/shared/schemas/approvals';
 
 const TONE = { pending: 'attention', approved: 'ok', refused: 'danger', used: 'idle' } as const;
 

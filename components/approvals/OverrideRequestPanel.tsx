@@ -14,7 +14,7 @@ import { Field } from '@/components/ui/Field';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { Banner } from '@/components/ui/Banner';
-import { OVERRIDE_REASON_MIN } from '@/shared/schemas/approvals';
+import { OVERRIDE_REASON_MIN } from '@/shared/domain/reasons';
 
 interface Props {
   planId: string;

@@ -17,8 +17,8 @@ import { Field } from '@/components/ui/Field';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
-import { LOT_VERDICT_LABEL } from '@/shared/schemas/analytics';
-import { SIGNATURE_MEANINGS, SIGNATURE_MEANING_LABEL, type SignatureMeaning } from '@/shared/schemas/signoff';
+import { LOT_VERDICT_LABEL } from '@/shared/domain/verdicts';
+import { SIGNATURE_MEANINGS, SIGNATURE_MEANING_LABEL, type SignatureMeaning } from '@/shared/domain/signoff';
 
 const MEANING_CHOICES = SIGNATURE_MEANINGS.map((m) => ({ value: m, label: SIGNATURE_MEANING_LABEL[m] }));
 

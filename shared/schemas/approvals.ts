@@ -4,14 +4,10 @@ import { OVERRIDE_REASON_MIN, OVERRIDE_REFUSAL_NOTE_MIN } from '../domain/reason
 
 export { OVERRIDE_REASON_MIN, OVERRIDE_REFUSAL_NOTE_MIN } from '../domain/reasons';
 
-export const OVERRIDE_REQUEST_STATES = ['pending', 'approved', 'refused', 'used'] as const;
-export type OverrideRequestState = (typeof OVERRIDE_REQUEST_STATES)[number];
-export const OVERRIDE_REQUEST_STATE_LABEL: Record<OverrideRequestState, string> = {
-  pending: 'Waiting for approval',
-  approved: 'Approved',
-  refused: 'Refused',
-  used: 'Used by a booking',
-};
+import { OVERRIDE_REQUEST_STATES } from '../domain/signoff';
+
+export { OVERRIDE_REQUEST_STATES, OVERRIDE_REQUEST_STATE_LABEL, type OverrideRequestState } from '../domain/signoff';
+import type { OverrideRequestState } from '../domain/signoff';
 
 export const overrideRequestInputSchema = z.object({
   planId: z.string().uuid('Choose a plan'),

@@ -1,19 +1,9 @@
 import { z } from 'zod';
-import type { LotVerdict } from './analytics';
+import type { LotVerdict } from '../domain/verdicts';
 
-/**
- * The meaning a signer states (21 CFR Part 11 §11.50(a)(3): a signed record shows the meaning of
- * the signature, such as review or approval).
- */
-export const SIGNATURE_MEANINGS = ['reviewed', 'approved'] as const;
-export type SignatureMeaning = (typeof SIGNATURE_MEANINGS)[number];
-export const SIGNATURE_MEANING_LABEL: Record<SignatureMeaning, string> = {
-  reviewed: 'Reviewed',
-  approved: 'Approved for release',
-};
+import { SIGNATURE_MEANINGS, type SignatureMeaning } from '../domain/signoff';
 
-/** Verdicts that are still moving (stress running, nothing tested) cannot be signed. */
-export const UNSIGNABLE_VERDICTS: readonly LotVerdict[] = ['in-progress', 'untested'];
+export { SIGNATURE_MEANINGS, SIGNATURE_MEANING_LABEL, UNSIGNABLE_VERDICTS, type SignatureMeaning } from '../domain/signoff';
 
 export const signVerdictSchema = z.object({
   password: z.string({ error: 'Enter your password to sign' }).min(1, 'Enter your password to sign').max(200),
