@@ -58,7 +58,7 @@ export function authRoutes(ctx: AppContext): ApiRouter {
   const r = new ApiRouter('/api/auth');
   const limiter = rateLimit({
     windowMs: SIGN_IN_WINDOW_MS,
-    limit: SIGN_IN_MAX_PER_WINDOW,
+    limit: ctx.config.signInMaxPerWindow ?? SIGN_IN_MAX_PER_WINDOW,
     standardHeaders: 'draft-7',
     legacyHeaders: false,
     handler: (_req, res) => {
