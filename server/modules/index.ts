@@ -16,6 +16,7 @@ import { floorRoutes } from './floor/floor.routes';
 import { telemetryRoutes } from './telemetry/telemetry.routes';
 import { runsRoutes } from './runs/runs.routes';
 import { evidenceRoutes } from './evidence/evidence.routes';
+import { protectionRoutes } from './protection/protection.routes';
 import { approvalsRoutes } from './approvals/approvals.routes';
 import { signoffRoutes } from './signoff/signoff.routes';
 import { auditRoutes } from './audit-log/audit-log.routes';
@@ -38,6 +39,7 @@ export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
   telemetryRoutes,
   runsRoutes,
   evidenceRoutes,
+  protectionRoutes,
   approvalsRoutes,
   signoffRoutes,
   auditRoutes,

@@ -4,8 +4,10 @@ import { engineerPlanBook } from './engineer';
 import { engineerSplitSample, operatorReadPointEvidence } from './evidence';
 import { adminPeople, signInErrors, signInEveryRole } from './foundation';
 import { managerTrends } from './manager';
+import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
+import { engineerTripReset } from './trip-reset';
 import { signoffApprovalsAudit } from './signoff';
 
 /**
@@ -24,6 +26,8 @@ export const JOURNEYS: Journey[] = [
   // readings this one shows as an incomplete read point.
   managerLotVerdicts,
   operatorReadPointEvidence,
+  managerLotCredit,
+  engineerTripReset,
   signoffApprovalsAudit,
   adminRigs,
 ];
