@@ -7,6 +7,7 @@ import { managerTrends } from './manager';
 import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
+import { engineerRatings } from './ratings';
 import { engineerTripReset } from './trip-reset';
 import { signoffApprovalsAudit } from './signoff';
 
@@ -28,6 +29,7 @@ export const JOURNEYS: Journey[] = [
   operatorReadPointEvidence,
   managerLotCredit,
   engineerTripReset,
+  engineerRatings,
   signoffApprovalsAudit,
   adminRigs,
 ];
