@@ -9,6 +9,7 @@ export * from './measurement.entity';
 export * from './alarm.entity';
 export * from './audit-log.entity';
 export * from './evidence.entity';
+export * from './signoff.entity';
 
 import { UserEntity } from './user.entity';
 import { DeviceTypeEntity } from './device-type.entity';
@@ -27,6 +28,7 @@ import { MeasurementEntity, MeasurementFileEntity, MeasurementUploadEntity, Meas
 import { AlarmEntity, MailLogEntity, NotificationEntity } from './alarm.entity';
 import { AuditLogEntity } from './audit-log.entity';
 import { DeviceDispositionEntity } from './evidence.entity';
+import { OverrideRequestEntity, VerdictSignatureEntity } from './signoff.entity';
 
 export const ENTITIES = [
   UserEntity,
@@ -54,4 +56,6 @@ export const ENTITIES = [
   AuditLogEntity,
   SampleEntity,
   DeviceDispositionEntity,
+  OverrideRequestEntity,
+  VerdictSignatureEntity,
 ];
