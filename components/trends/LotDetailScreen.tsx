@@ -24,6 +24,7 @@ import { LotDistributionChart } from '@/components/charts/LazyCharts';
 import { LotPlanJudgement } from './LotPlanJudgement';
 import { LotRecordsCard } from './LotRecordsCard';
 import { VerdictPill } from './verdict';
+import { VerdictSignatures } from '@/components/signoff/VerdictSignatures';
 
 const DEVICE_STATUS = {
   pass: { tone: 'ok', label: 'Within criteria' },
@@ -257,6 +258,7 @@ export function LotDetailScreen() {
                 ) : null}
               </View>
             </Card>
+            <VerdictSignatures lotId={l.lotId} />
             {l.verdict === 'untested' ? (
               <EmptyState title="No readings" message="This lot has not been on a stress run yet." />
             ) : (

@@ -169,6 +169,8 @@ export interface CheckFinding {
   numbers: Record<string, CheckFindingNumber>;
   /** The keys of `numbers` in the order the check gave them (a jsonb column does not keep key order). */
   order?: string[];
+  /** A blocking finding no approval may override (shared/safety/plan-rules/types.ts). */
+  neverOverride?: boolean;
 }
 
 /**

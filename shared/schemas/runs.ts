@@ -65,25 +65,14 @@ export const deviationSchema = z.object({
     .max(2000),
 });
 
-import { OVERRIDE_REASON_MIN } from '../domain/reasons';
-export { OVERRIDE_REASON_MIN } from '../domain/reasons';
-
 export const bookRunSchema = proposalInputSchema.extend({
   rigId: uuid('rig'),
   /** Start of the chosen proposal; omitted = the earliest feasible start on the rig. */
   start: isoTime().optional(),
   /** Booking fewer devices than the plan asks (engineer's written reason, audited). */
   deviation: deviationSchema.optional(),
-  /** Book despite blocking plan-check findings (engineer's written reason, audited). */
-  override: z
-    .object({
-      reason: z
-        .string()
-        .trim()
-        .min(OVERRIDE_REASON_MIN, `Write at least ${OVERRIDE_REASON_MIN} characters on why the plan may run anyway`)
-        .max(2000),
-    })
-    .optional(),
+  /** Book despite blocking plan-check findings: an override request approved by a second person (shared/schemas/approvals). */
+  override: z.object({ requestId: uuid('override request') }).optional(),
 });
 export type BookRunInput = z.infer<typeof bookRunSchema>;
 

@@ -10,6 +10,7 @@ export * from './alarm.entity';
 export * from './audit-log.entity';
 export * from './evidence.entity';
 export * from './telemetry-cycle.entity';
+export * from './signoff.entity';
 
 import { UserEntity } from './user.entity';
 import { DeviceTypeEntity } from './device-type.entity';
@@ -29,6 +30,7 @@ import { AlarmEntity, MailLogEntity, NotificationEntity } from './alarm.entity';
 import { AuditLogEntity } from './audit-log.entity';
 import { DeviceDispositionEntity } from './evidence.entity';
 import { TelemetryCycleEntity } from './telemetry-cycle.entity';
+import { OverrideRequestEntity, VerdictSignatureEntity } from './signoff.entity';
 
 export const ENTITIES = [
   UserEntity,
@@ -57,4 +59,6 @@ export const ENTITIES = [
   SampleEntity,
   DeviceDispositionEntity,
   TelemetryCycleEntity,
+  OverrideRequestEntity,
+  VerdictSignatureEntity,
 ];

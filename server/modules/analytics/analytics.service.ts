@@ -16,7 +16,7 @@ import {
   type DeviceExposure,
   type MechanismPlan,
 } from '../../../shared/reliability/mechanisms';
-import type { PlanEvidence } from '../../../shared/verdict/evidence';
+import type { LotEvidence, PlanEvidence } from '../../../shared/verdict/evidence';
 import type { PlanJudgement } from '../../../shared/verdict/judge';
 import { DeviceTypeEntity } from '../../db/entities';
 import { notFound } from '../../http/errors';
@@ -80,6 +80,17 @@ export class AnalyticsService {
   async lots(filter: { deviceTypeId?: string; verdict?: LotVerdict }): Promise<LotSummary[]> {
     const all = await this.parts.lots(filter.deviceTypeId ? [filter.deviceTypeId] : undefined);
     return all.filter((a) => !filter.verdict || a.verdict === filter.verdict).map((a) => this.toSummary(a));
+  }
+
+  /**
+   * What a lot verdict stands on, as judged: the lot's evidence (the contract judgeLot reads) and
+   * the verdict it gave. A signature's hash covers exactly this (server/modules/signoff).
+   */
+  async judgedEvidence(lotId: string): Promise<{ lotCode: string; verdict: LotVerdict; evidence: LotEvidence }> {
+    const [part] = await this.parts.get({ lotId });
+    const a = part?.lot(lotId);
+    if (!a) throw notFound('The lot');
+    return { lotCode: a.core.lot.code, verdict: a.verdict, evidence: a.evidence };
   }
 
   async lot(lotId: string): Promise<LotDetail> {

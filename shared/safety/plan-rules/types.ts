@@ -41,7 +41,16 @@ export interface Finding {
   title: string;
   explanation: string;
   numbers: Record<string, FindingNumber>;
+  /**
+   * True when no approval may override this blocking finding: reverse bias beyond the rated
+   * breakdown itself (BVCBO, BVEBO) puts every part into avalanche (Emberlot's safety policy).
+   */
+  neverOverride?: boolean;
 }
+
+/** Whether a blocking finding may be overridden with a second person's approval (the flag set by its rule). */
+export const isOverridable = (f: { severity: string; neverOverride?: boolean }): boolean =>
+  f.severity === 'block' && f.neverOverride !== true;
 
 export interface PlanDerived {
   allowedVcbV: number | null;

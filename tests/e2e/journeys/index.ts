@@ -11,6 +11,7 @@ import { operatorFloor } from './operator';
 import { engineerRatings } from './ratings';
 import { operatorCorrectReading } from './records';
 import { engineerTripReset } from './trip-reset';
+import { signoffApprovalsAudit } from './signoff';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -34,5 +35,6 @@ export const JOURNEYS: Journey[] = [
   engineerRatings,
   // Corrects a 168 h reading of HG2612-C (in progress): after every journey that reads that lot.
   operatorCorrectReading,
+  signoffApprovalsAudit,
   adminRigs,
 ];
