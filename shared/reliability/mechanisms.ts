@@ -180,6 +180,8 @@ export function equivalentCycles(devices: readonly DeviceExposure[], m: number, 
   let sum = 0;
   for (const d of devices) {
     const c = d.cycling;
+    // A device that counted no cycles (its run not yet cycling) adds none; it needs no swing.
+    if (c && c.cycles === 0) continue;
     if (!c || !Number.isFinite(c.cycles) || c.cycles < 0 || !(c.deltaTjC > 0)) return null;
     sum += c.cycles * coffinMansonFactor({ deltaTTestC: c.deltaTjC, deltaTUseC: useDeltaTjC, m });
   }

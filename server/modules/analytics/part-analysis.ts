@@ -13,6 +13,7 @@ import type { Criteria } from '../../../shared/schemas/plans';
 import type { PlanKind } from '../../../shared/domain/stress';
 import type { MeasurementResult } from '../../../shared/evidence';
 import type { StressSegment } from '../../../shared/reliability';
+import type { CyclingExposure } from '../../../shared/reliability/mechanisms';
 import { judgeLot, controlValues, type LotJudgement } from '../../../shared/verdict/judge';
 import {
   dateFromDateCode,
@@ -74,6 +75,11 @@ interface SocketHours {
   accruedHours: number;
   /** Credited hours by estimated junction temperature (run_sockets.stress_segments). */
   segments: StressSegment[] | null;
+  /**
+   * Power cycling (run_sockets.cycles_done, last_d_tj_low_c): credited cycles and the smallest junction
+   * swing last reported — the smaller swing, so Coffin–Manson never credits more than was seen.
+   */
+  cycling: CyclingExposure | null;
   tripped: boolean;
   trippedAt: string | null;
   tripReason: string | null;
@@ -389,9 +395,11 @@ async function socketHours(m: EntityManager, runIds: string[]): Promise<Map<stri
     trippedAt: Date | null;
     tripReason: string | null;
     segments: StressSegment[] | null;
+    cyclesDone: number | null;
+    dTjLowC: number | null;
   }> = await m.query(
     `SELECT run_id AS "runId", device_id AS "deviceId", accrued_hours AS "accruedHours", tripped, tripped_at AS "trippedAt", trip_reason AS "tripReason",
-            stress_segments AS segments
+            stress_segments AS segments, cycles_done AS "cyclesDone", last_d_tj_low_c AS "dTjLowC"
        FROM run_sockets WHERE run_id = ANY($1::uuid[])`,
     [runIds],
   );
@@ -401,6 +409,13 @@ async function socketHours(m: EntityManager, runIds: string[]): Promise<Map<stri
       {
         accruedHours: Number(r.accruedHours),
         segments: Array.isArray(r.segments) ? r.segments : null,
+        // No cycles counted: none to credit (and no swing needed); cycles without a reported swing: unknown.
+        cycling:
+          Number(r.cyclesDone) === 0
+            ? { cycles: 0, deltaTjC: 0 }
+            : Number(r.dTjLowC) > 0
+              ? { cycles: Number(r.cyclesDone), deltaTjC: Number(r.dTjLowC) }
+              : null,
         tripped: r.tripped,
         trippedAt: r.trippedAt ? new Date(r.trippedAt).toISOString() : null,
         tripReason: r.tripReason,
@@ -514,6 +529,7 @@ export class PartAnalysis {
             trip: sock?.tripped ? { atH: sock.accruedHours, at: sock.trippedAt, reason: sock.tripReason } : null,
             // Only with the socket's own accrual: a fallback on the run's hours has no history of its own.
             stressSegments: sock && (sock.accruedHours > 0 || sock.tripped) ? sock.segments : null,
+            cycling: sock?.cycling ?? null,
           };
         }),
       };
