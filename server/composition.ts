@@ -27,6 +27,7 @@ import { NotificationsService } from './modules/notifications/notifications.serv
 import { PlansService } from './modules/plans/plans.service';
 import type { ProtectionMonitor } from './modules/protection/protection.monitor';
 import { RigsService } from './modules/rigs/rigs.service';
+import { LabSettingsService } from './modules/lab-settings/lab-settings.service';
 import { RunsService } from './modules/runs/runs.service';
 import type { RunScheduler } from './modules/scheduler/scheduler';
 import type { RigLink } from './modules/telemetry/contracts';
@@ -48,6 +49,7 @@ export interface Services {
   evidence: EvidenceService;
   runs: RunsService;
   rigs: RigsService;
+  labSettings: LabSettingsService;
   floor: FloorService;
   floorStream: FloorStream;
   telemetry: TelemetryService;
@@ -103,6 +105,7 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     evidence: new EvidenceService(ctx.ds, ctx.audit, now),
     runs: new RunsService(ctx),
     rigs: new RigsService(ctx),
+    labSettings: new LabSettingsService(ctx),
     floor,
     floorStream: new FloorStream(ctx, floor),
     telemetry: new TelemetryService(ctx),

@@ -37,6 +37,8 @@ export const PERMISSIONS = {
   'trends.read': ['admin', 'engineer', 'manager'],
   'rig.read': ['admin', 'engineer', 'operator', 'manager'],
   'rig.manage': ['admin'],
+  // The lab's hold temperatures (bias off, safe to open): admins, audited.
+  'lab-settings.manage': ['admin'],
   'telemetry.inspect': ['admin', 'engineer'],
   'user.manage': ['admin'],
   'mail.read': ['admin'],

@@ -9,6 +9,7 @@ export * from './measurement.entity';
 export * from './alarm.entity';
 export * from './audit-log.entity';
 export * from './evidence.entity';
+export * from './lab-settings.entity';
 
 import { UserEntity } from './user.entity';
 import { DeviceTypeEntity } from './device-type.entity';
@@ -27,6 +28,7 @@ import { MeasurementEntity, MeasurementUploadEntity } from './measurement.entity
 import { AlarmEntity, MailLogEntity, NotificationEntity } from './alarm.entity';
 import { AuditLogEntity } from './audit-log.entity';
 import { DeviceDispositionEntity } from './evidence.entity';
+import { LabSettingsEntity } from './lab-settings.entity';
 
 export const ENTITIES = [
   UserEntity,
@@ -52,4 +54,5 @@ export const ENTITIES = [
   AuditLogEntity,
   SampleEntity,
   DeviceDispositionEntity,
+  LabSettingsEntity,
 ];

@@ -229,7 +229,7 @@ async function saveAccrual(m: EntityManager, run: RunEntity, f: AccrualFold, now
   }
 }
 
-/** The end of stress (→ cooling) or a read point (→ read-hold) with its read-point-due event. */
+/** The end of stress (→ cooling) or a read point (→ read-hold). */
 async function stopEvents(
   m: EntityManager,
   deps: EngineDeps,
@@ -242,8 +242,9 @@ async function stopEvents(
 ): Promise<PendingEvent[]> {
   const { hours, lastSeq, holdIndex } = f;
   const events: PendingEvent[] = [];
+  // Bias stays on here: the hold's sequence (shared/holds, scheduler.ts) cools under bias first and
+  // records biasRemovedAt (and the read-point-due event) when bias comes off.
   if (f.outcome === 'cooling') {
-    const finalIdx = rps.findIndex((h) => h >= plan.durationH);
     events.push(
       await transitionRun(
         m,
@@ -251,7 +252,7 @@ async function stopEvents(
         run,
         rig,
         'cooling',
-        { nextReadPoint: rps.length, biasRemovedAt: now },
+        { nextReadPoint: rps.length, biasRemovedAt: null, holdPhase: 'cool-under-bias', holdPhaseSince: now },
         {
           actor: 'system',
           action: 'run.stress-complete',
@@ -259,7 +260,6 @@ async function stopEvents(
         },
       ),
     );
-    events.push(readPointDue(run, rig, finalIdx >= 0 ? rps[finalIdx] : plan.durationH, finalIdx, hours, now, true));
   } else if (f.outcome === 'read-hold') {
     events.push(
       await transitionRun(
@@ -268,7 +268,7 @@ async function stopEvents(
         run,
         rig,
         'read-hold',
-        { nextReadPoint: holdIndex + 1, biasRemovedAt: now },
+        { nextReadPoint: holdIndex + 1, biasRemovedAt: null, holdPhase: 'cool-under-bias', holdPhaseSince: now },
         {
           actor: 'system',
           action: 'run.read-point',
@@ -276,7 +276,6 @@ async function stopEvents(
         },
       ),
     );
-    events.push(readPointDue(run, rig, rps[holdIndex], holdIndex, hours, now, false));
   }
   return events;
 }
@@ -320,7 +319,8 @@ export async function accrueStep(
   };
 }
 
-function readPointDue(
+/** Bias came off at a read point (the hold's sequence, scheduler.ts): measure by `at` + 96 h. */
+export function readPointDue(
   run: RunEntity,
   rig: RigEntity,
   readPointH: number,
