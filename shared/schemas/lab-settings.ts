@@ -13,7 +13,7 @@ export const updateLabSettingsSchema = z
   .object({
     coolUnderBiasToC: celsius('Remove bias at', HOLD_SETTING_LIMITS.coolUnderBiasToMaxC).optional(),
     safeToOpenC: celsius('Safe to open at', HOLD_SETTING_LIMITS.safeToOpenMaxC).optional(),
-    reason: z.string().trim().min(3, 'Say why the setting changes').max(200),
+    reason: z.string({ message: 'Say why the setting changes' }).trim().min(3, 'Say why the setting changes').max(200),
   })
   .strict()
   .refine((v) => v.coolUnderBiasToC !== undefined || v.safeToOpenC !== undefined, { message: 'Nothing to change' });

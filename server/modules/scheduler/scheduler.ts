@@ -401,7 +401,8 @@ export class RunScheduler {
     return {
       cmdId: `run:${run.id}:cool:${key}${humid ? `:${Math.round(c.setpointC)}` : ''}`,
       cmd: { type: 'setpoint', setpointC: c.setpointC, ...(c.humidityOff ? { humidityPct: null } : {}) },
-      satisfied: !!latest && Math.abs(latest.setpointC - c.setpointC) < 0.05,
+      // Reports carry no humidity set point: a command that turns humidity off is sent (once per cmdId) regardless.
+      satisfied: !c.humidityOff && !!latest && Math.abs(latest.setpointC - c.setpointC) < 0.05,
     };
   }
 
