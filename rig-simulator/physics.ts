@@ -116,9 +116,13 @@ export const ROOM_AIR = { tC: ROOM_AMBIENT_C, rhPct: 50 } as const;
 const ROOM_VAPOUR_HPA = vapourPressureHpa(ROOM_AIR.tC, ROOM_AIR.rhPct);
 
 /** One humidity sub-step: vapour toward its target, condensed down to saturation; the sensor's RH. */
-function stepVapour(state: RigState, vapourHpa: number, chamberC: number, h: number): { vapourHpa: number; rhPct: number; saturated: boolean } {
-  const target =
-    state.humiditySetpointPct === null ? ROOM_VAPOUR_HPA : vapourPressureHpa(chamberC, state.humiditySetpointPct);
+function stepVapour(
+  state: RigState,
+  vapourHpa: number,
+  chamberC: number,
+  h: number,
+): { vapourHpa: number; rhPct: number; saturated: boolean } {
+  const target = state.humiditySetpointPct === null ? ROOM_VAPOUR_HPA : vapourPressureHpa(chamberC, state.humiditySetpointPct);
   let e = lag(vapourHpa, target, h, state.chamberTauS);
   const sat = saturationVapourPressureHpa(chamberC);
   const saturated = e >= sat;

@@ -101,16 +101,12 @@ export function coolingSetpointC(i: Pick<HoldInput, 'chamberC' | 'humidityPct' |
 
 /** One step of the hold: the phase it is in now, the chamber command and whether bias comes off. */
 export function holdStep(i: HoldInput): HoldDecision {
-  let phase: HoldPhase = i.phase ?? 'cool-under-bias';
-  if (!BIASED_HOLD_PHASES.includes(phase) || !i.anyBiased) {
-    phase = 'bias-off';
-  } else if (i.ovenNeededHot) {
-    return { phase: 'oven-shared', chamber: null, biasOff: false };
-  } else if (i.chamberC !== null && i.chamberC <= i.settings.coolUnderBiasToC) {
-    phase = 'bias-off';
-  } else {
+  const biased = BIASED_HOLD_PHASES.includes(i.phase ?? 'cool-under-bias') && i.anyBiased;
+  if (biased && i.ovenNeededHot) return { phase: 'oven-shared', chamber: null, biasOff: false };
+  if (biased && !(i.chamberC !== null && i.chamberC <= i.settings.coolUnderBiasToC)) {
     return { phase: 'cool-under-bias', chamber: { setpointC: coolingSetpointC(i), humidityOff: i.humidityControlled }, biasOff: false };
   }
+  // Bias comes off now (or is off already): cool on to safe-to-open unless the oven is kept hot.
   const open = i.chamberC !== null && i.chamberC <= i.settings.safeToOpenC;
   return {
     phase: open ? 'safe-to-open' : 'bias-off',
@@ -120,6 +116,14 @@ export function holdStep(i: HoldInput): HoldDecision {
 }
 
 const c0 = (c: number) => `${Math.round(c)} °C`;
+
+/** Short names of the hold's steps (rig chart marks, audit trail). */
+export const HOLD_PHASE_LABEL: Record<HoldPhase, string> = {
+  'cool-under-bias': 'Cooling under bias',
+  'oven-shared': 'Held under bias (oven shared)',
+  'bias-off': 'Bias off',
+  'safe-to-open': 'Safe to open',
+};
 
 /** The operator's words for a hold phase (run page, floor). */
 export function holdPhaseText(phase: HoldPhase, s: HoldSettings, chamberC: number | null): string {
@@ -135,7 +139,3 @@ export function holdPhaseText(phase: HoldPhase, s: HoldSettings, chamberC: numbe
       return `At or below ${c0(s.safeToOpenC)}, the lab's safe-to-open temperature${now}.`;
   }
 }
-
-/** The caution shown wherever the oven may be opened. */
-export const HOT_OVEN_CAUTION =
-  'Hot parts, sockets and boards can burn. Follow the lab’s rules for opening an oven and check the temperature yourself: a software reading is no substitute for the rig’s interlocks.';

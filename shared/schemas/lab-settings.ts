@@ -6,7 +6,10 @@ const celsius = (label: string, maxC: number) =>
   z
     .number({ error: `${label}: enter a temperature in °C` })
     .finite(`${label}: enter a temperature in °C`)
-    .min(HOLD_SETTING_LIMITS.minC, `${label}: at least ${HOLD_SETTING_LIMITS.minC} °C (the chamber cools towards room ambient and never quite reaches it)`)
+    .min(
+      HOLD_SETTING_LIMITS.minC,
+      `${label}: at least ${HOLD_SETTING_LIMITS.minC} °C (the chamber cools towards room ambient and never quite reaches it)`,
+    )
     .max(maxC, `${label}: at most ${maxC} °C`);
 
 export const updateLabSettingsSchema = z

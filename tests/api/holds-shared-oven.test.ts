@@ -7,7 +7,16 @@
  */
 import { randomUUID } from 'node:crypto';
 import type { CommandAck } from '../../shared/mqtt';
-import { AuditLogEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunEntity, RunSocketEntity, StressPlanEntity } from '../../server/db/entities';
+import {
+  AuditLogEntity,
+  DeviceEntity,
+  DeviceTypeEntity,
+  LotEntity,
+  RigEntity,
+  RunEntity,
+  RunSocketEntity,
+  StressPlanEntity,
+} from '../../server/db/entities';
 import { RunScheduler } from '../../server/modules/scheduler/scheduler';
 import type { RigCommandBody, RigLink } from '../../server/modules/telemetry/contracts';
 import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
@@ -57,7 +66,8 @@ const step = async () => {
   await scheduler.idle();
 };
 const run = (k: 'A' | 'B') => t.ctx.ds.getRepository(RunEntity).findOneByOrFail({ id: ids[k] });
-const sentFor = (k: 'A' | 'B') => fake.sends.filter((x) => x.cmdId.startsWith(`run:${ids[k]}:`)).map((x) => x.cmdId.split(':').slice(2).join(':'));
+const sentFor = (k: 'A' | 'B') =>
+  fake.sends.filter((x) => x.cmdId.startsWith(`run:${ids[k]}:`)).map((x) => x.cmdId.split(':').slice(2).join(':'));
 
 jest.setTimeout(30_000);
 
@@ -79,7 +89,12 @@ beforeAll(async () => {
       }),
     )
   ).id;
-  const type = await m.save(m.create(DeviceTypeEntity, DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!));
+  const type = await m.save(
+    m.create(
+      DeviceTypeEntity,
+      DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!,
+    ),
+  );
   const lot = await m.save(m.create(LotEntity, { code: 'HG2611-S', deviceTypeId: type.id, quantity: 100 }));
   const devices = await m.save(['S0001', 'S0002', 'S0003', 'S0004'].map((serial) => m.create(DeviceEntity, { lotId: lot.id, serial })));
   for (const [k, readPointsH, sockets] of [

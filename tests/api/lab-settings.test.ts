@@ -34,7 +34,11 @@ describe('lab settings', () => {
   });
 
   it.each([
-    [{ safeToOpenC: 25, reason: 'Colder' }, 'safeToOpenC', 'Safe to open at: at least 26 °C (the chamber cools towards room ambient and never quite reaches it)'],
+    [
+      { safeToOpenC: 25, reason: 'Colder' },
+      'safeToOpenC',
+      'Safe to open at: at least 26 °C (the chamber cools towards room ambient and never quite reaches it)',
+    ],
     [{ safeToOpenC: 61, reason: 'Hotter' }, 'safeToOpenC', 'Safe to open at: at most 60 °C'],
     [{ coolUnderBiasToC: 101, reason: 'Hotter' }, 'coolUnderBiasToC', 'Remove bias at: at most 100 °C'],
     [{ coolUnderBiasToC: '40', reason: 'Text' }, 'coolUnderBiasToC', 'Remove bias at: enter a temperature in °C'],

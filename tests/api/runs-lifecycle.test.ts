@@ -202,7 +202,9 @@ describe('a run from heating to finished, driven by the scheduler', () => {
     expect(r.biasRemovedAt).not.toBeNull();
     expect(fake.sends.slice(3).map((x) => x.cmdId)).toEqual([`run:${runId}:off:rp1`]);
     expect(fake.sends[3].cmd).toMatchObject({ type: 'bias', on: false, sockets: [0, 1, 2] });
-    const phases = await t.ctx.ds.getRepository(AuditLogEntity).find({ where: { entityId: runId, action: 'run.hold-phase' }, order: { id: 'ASC' } });
+    const phases = await t.ctx.ds
+      .getRepository(AuditLogEntity)
+      .find({ where: { entityId: runId, action: 'run.hold-phase' }, order: { id: 'ASC' } });
     expect(phases.map((a) => [a.details.from, a.details.to, a.details.chamberC])).toEqual([['cool-under-bias', 'safe-to-open', 35]]);
     const due = events.filter((e) => e.type === 'read-point-due');
     expect(due).toEqual([

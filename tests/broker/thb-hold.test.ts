@@ -89,7 +89,12 @@ beforeAll(async () => {
       }),
     )
   ).id;
-  const type = await m.save(m.create(DeviceTypeEntity, DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!));
+  const type = await m.save(
+    m.create(
+      DeviceTypeEntity,
+      DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!,
+    ),
+  );
   const lot = await m.save(m.create(LotEntity, { code: 'HG2611-H', deviceTypeId: type.id, quantity: 100 }));
   const devices = await m.save(['H0001', 'H0002', 'H0003', 'H0004'].map((serial) => m.create(DeviceEntity, { lotId: lot.id, serial })));
   const plan = await m.save(
@@ -197,7 +202,8 @@ test('THB read point and end of stress: humidity off first, a stepped ramp, neve
   const waitBiasOff = async () => {
     const deadline = Date.now() + 20_000;
     while ((await run()).biasRemovedAt === null) {
-      if (Date.now() > deadline) throw new Error(`bias never came off (chamber ${rig.state().chamberC} °C, RH ${rig.state().humidityPct} %)`);
+      if (Date.now() > deadline)
+        throw new Error(`bias never came off (chamber ${rig.state().chamberC} °C, RH ${rig.state().humidityPct} %)`);
       await new Promise((r) => setTimeout(r, 50));
     }
   };

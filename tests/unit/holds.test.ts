@@ -27,7 +27,7 @@ import { DEMO_PART, createRigState, stepRig, type DeviceModel, type RigState } f
  * coefficients are checked below against the release's own verification values (Table 35).
  */
 const IF97_N = [
-  0, 0.11670521452767e4, -0.72421316598842e6, -0.17073846940092e2, 0.12020824702470e5, -0.32325550322333e7, 0.1491510861353e2,
+  0, 0.11670521452767e4, -0.72421316598842e6, -0.17073846940092e2, 0.1202082470247e5, -0.32325550322333e7, 0.1491510861353e2,
   -0.48232657361591e4, 0.40511340542057e6, -0.23855557567849, 0.65017534844798e3,
 ];
 function if97SaturationMPa(tK: number): number {
@@ -135,7 +135,11 @@ describe('the hold sequence', () => {
   });
 
   test('at the "remove bias at" temperature: bias off; safe to open only at or below its own setting', () => {
-    expect(holdStep(base({ chamberC: 35 }))).toEqual({ phase: 'safe-to-open', chamber: { setpointC: 25, humidityOff: false }, biasOff: true });
+    expect(holdStep(base({ chamberC: 35 }))).toEqual({
+      phase: 'safe-to-open',
+      chamber: { setpointC: 25, humidityOff: false },
+      biasOff: true,
+    });
     const s = { coolUnderBiasToC: 55, safeToOpenC: 40 };
     expect(holdStep(base({ chamberC: 54, settings: s }))).toMatchObject({ phase: 'bias-off', biasOff: true });
     expect(holdStep(base({ phase: 'bias-off', chamberC: 40.2, settings: s }))).toMatchObject({ phase: 'bias-off', biasOff: true });
@@ -227,7 +231,9 @@ describe('a THB cool-down in the simulated chamber', () => {
         settings: DEFAULT_HOLD_SETTINGS,
       });
       phase = d.phase;
-      return d.chamber ? { ...st, setpointC: d.chamber.setpointC, humiditySetpointPct: d.chamber.humidityOff ? null : st.humiditySetpointPct } : st;
+      return d.chamber
+        ? { ...st, setpointC: d.chamber.setpointC, humiditySetpointPct: d.chamber.humidityOff ? null : st.humiditySetpointPct }
+        : st;
     }, 48 * 3600);
     expect(phase).toBe('safe-to-open');
     expect(s.condensationS).toBe(0);

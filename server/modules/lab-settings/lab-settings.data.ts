@@ -7,7 +7,10 @@ export const LAB_SETTINGS_ID = 1;
 
 /** The row, locked for update when `lock` (inside a transaction). Null only before the migration's seed row. */
 export function findLabSettings(m: EntityManager, lock = false): Promise<LabSettingsEntity | null> {
-  return m.findOne(LabSettingsEntity, { where: { id: LAB_SETTINGS_ID }, ...(lock ? { lock: { mode: 'pessimistic_write' as const } } : {}) });
+  return m.findOne(LabSettingsEntity, {
+    where: { id: LAB_SETTINGS_ID },
+    ...(lock ? { lock: { mode: 'pessimistic_write' as const } } : {}),
+  });
 }
 
 /** The hold temperatures the scheduler uses (the defaults if the row is missing). */

@@ -27,7 +27,8 @@ export class LabSettingsService {
 
   async update(actor: SessionUser, input: UpdateLabSettingsInput): Promise<LabSettings> {
     await this.ctx.ds.transaction(async (m) => {
-      const row = (await findLabSettings(m, true)) ?? Object.assign(new LabSettingsEntity(), { id: LAB_SETTINGS_ID, ...DEFAULT_HOLD_SETTINGS });
+      const row =
+        (await findLabSettings(m, true)) ?? Object.assign(new LabSettingsEntity(), { id: LAB_SETTINGS_ID, ...DEFAULT_HOLD_SETTINGS });
       const before = { coolUnderBiasToC: row.coolUnderBiasToC, safeToOpenC: row.safeToOpenC };
       const after = {
         coolUnderBiasToC: input.coolUnderBiasToC ?? row.coolUnderBiasToC,

@@ -90,11 +90,19 @@ export async function otherRunsNeedingHeat(m: EntityManager, rigId: string, runI
  * A hold's new phase (shared/holds); `biasRemovedAt` when bias comes off now. Not a state change:
  * no row_version bump, so people's actions on the run stay valid.
  */
-export async function setHoldPhase(m: EntityManager, runId: string, phase: HoldPhase, since: Date, biasRemovedAt: Date | null): Promise<void> {
-  await m.query(
-    `UPDATE runs SET hold_phase = $2, hold_phase_since = $3, bias_removed_at = COALESCE($4, bias_removed_at) WHERE id = $1`,
-    [runId, phase, since, biasRemovedAt],
-  );
+export async function setHoldPhase(
+  m: EntityManager,
+  runId: string,
+  phase: HoldPhase,
+  since: Date,
+  biasRemovedAt: Date | null,
+): Promise<void> {
+  await m.query(`UPDATE runs SET hold_phase = $2, hold_phase_since = $3, bias_removed_at = COALESCE($4, bias_removed_at) WHERE id = $1`, [
+    runId,
+    phase,
+    since,
+    biasRemovedAt,
+  ]);
 }
 
 export function runSockets(m: EntityManager, runId: string): Promise<RunSocketEntity[]> {

@@ -396,7 +396,13 @@ export class RunScheduler {
   }
 
   /** The chamber command of a hold: one cmdId per hold for a dry plan, one per ramp step for a humidity plan. */
-  private holdChamberWant(run: RunEntity, plan: StressPlanEntity, key: string, c: NonNullable<HoldDecision['chamber']>, latest: BatchRow | null): Want {
+  private holdChamberWant(
+    run: RunEntity,
+    plan: StressPlanEntity,
+    key: string,
+    c: NonNullable<HoldDecision['chamber']>,
+    latest: BatchRow | null,
+  ): Want {
     const humid = plan.humidityPct !== null;
     return {
       cmdId: `run:${run.id}:cool:${key}${humid ? `:${Math.round(c.setpointC)}` : ''}`,
@@ -426,7 +432,8 @@ export class RunScheduler {
     const now = this.ctx.now();
     const biasComesOff = decision.biasOff && !run.biasRemovedAt;
     await data.setHoldPhase(m, run.id, decision.phase, now, biasComesOff ? now : null);
-    const dew = input.chamberC !== null && input.humidityPct !== null && input.humidityPct > 0 ? dewPointC(input.chamberC, input.humidityPct) : null;
+    const dew =
+      input.chamberC !== null && input.humidityPct !== null && input.humidityPct > 0 ? dewPointC(input.chamberC, input.humidityPct) : null;
     await this.ctx.audit.record(
       {
         actor: 'system',
@@ -477,7 +484,12 @@ export class RunScheduler {
       {
         actor: 'system',
         action: 'run.finish',
-        details: { stressHours: run.stressHours, targetH: plan.durationH, chamberC: latest?.chamberC ?? null, ovenKeptHot: others.length > 0 },
+        details: {
+          stressHours: run.stressHours,
+          targetH: plan.durationH,
+          chamberC: latest?.chamberC ?? null,
+          ovenKeptHot: others.length > 0,
+        },
       },
     );
     return { changed: true, to: 'finished', events: [...step.events, ev] };
