@@ -57,7 +57,15 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
   const last = (d: { avg: number }[]) => (d.length ? `${d[d.length - 1].avg.toFixed(1)} °C` : 'no data');
   const marks = (chart.holdSteps ?? []).filter((m) => Date.parse(m.t) >= from && Date.parse(m.t) <= to);
   const hhmmss = (ms: number) => new Date(ms).toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit', second: '2-digit' });
-  const markText = marks.map((m) => `${hhmmss(Date.parse(m.t))} ${m.runCode}: ${HOLD_PHASE_LABEL[m.step]}`);
+  // "Safe to open" straight from a biased step also means bias came off there.
+  const markText = marks.map((m, i) => {
+    const prev = marks
+      .slice(0, i)
+      .reverse()
+      .find((x) => x.runCode === m.runCode);
+    const biasOffToo = m.step === 'safe-to-open' && !!prev && (prev.step === 'cool-under-bias' || prev.step === 'oven-shared');
+    return `${hhmmss(Date.parse(m.t))} ${m.runCode}: ${biasOffToo ? 'Bias off; safe to open' : HOLD_PHASE_LABEL[m.step]}`;
+  });
   const description =
     `Temperatures from ${hhmm(from)} to ${hhmm(to)}: ` +
     series.map((s) => `${s.name} last ${last(s.data)}`).join('; ') +

@@ -26,7 +26,7 @@ import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { CHAMBER_TOLERANCE_PCT, measureByMs } from '@/shared/domain/standards';
 import { DRIVEN_STATES } from '@/shared/domain/run-states';
-import { DEFAULT_HOLD_SETTINGS, HOLD_PHASE_LABEL, holdPhaseText } from '@/shared/holds/sequence';
+import { DEFAULT_HOLD_SETTINGS, HOLD_PHASES, HOLD_PHASE_LABEL, holdPhaseText } from '@/shared/holds/sequence';
 import {
   RUN_ACTIONS,
   RUN_ACTION_LABEL,
@@ -55,6 +55,14 @@ const AUDIT_LABEL: Record<string, string> = {
   'run.abort': 'Aborted',
   'run.replan': 'Moved by re-planning',
 };
+
+/** A hold step names the step it reached ("Hold: Bias off"). */
+function auditLabel(a: RunDetail['audit'][number]): string {
+  const to = HOLD_PHASES.find((p) => p === a.details.to);
+  if (a.action === 'run.hold-phase' && to)
+    return `Hold: ${HOLD_PHASE_LABEL[to]}${a.details.from !== 'bias-off' && to === 'safe-to-open' ? ' (bias off)' : ''}`;
+  return AUDIT_LABEL[a.action] ?? a.action;
+}
 
 const FLAG_WORD: Record<SocketFlag['problem'], string> = {
   empty: 'Empty',
@@ -448,7 +456,7 @@ export function RunDetailScreen({ id }: { id: string }) {
               <Card title="Audit trail" description="Who changed what, when and why.">
                 {run.audit.map((a) => (
                   <View key={a.id} style={{ borderTopWidth: 1, borderColor: colors.border, paddingTop: space.xs, gap: 2 }}>
-                    <Text variant="label">{AUDIT_LABEL[a.action] ?? a.action}</Text>
+                    <Text variant="label">{auditLabel(a)}</Text>
                     <Text variant="caption" tone="muted">
                       {formatDateTime(a.at)} · {a.actor}
                     </Text>

@@ -3,6 +3,7 @@ import { adminRigs } from './admin-rigs';
 import { engineerPlanBook } from './engineer';
 import { engineerSplitSample, operatorReadPointEvidence } from './evidence';
 import { adminPeople, signInErrors, signInEveryRole } from './foundation';
+import { holdsReadPoint } from './holds';
 import { managerTrends } from './manager';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
@@ -23,5 +24,6 @@ export const JOURNEYS: Journey[] = [
   // readings this one shows as an incomplete read point.
   managerLotVerdicts,
   operatorReadPointEvidence,
+  holdsReadPoint,
   adminRigs,
 ];
