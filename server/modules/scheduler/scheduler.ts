@@ -30,10 +30,10 @@ import {
   type Job,
   when,
 } from '../../../shared/scheduling';
-import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H, ROOM_AMBIENT_C as AMBIENT_C } from '../../../shared/domain/standards';
+import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H } from '../../../shared/domain/standards';
 import type { RunState } from '../../../shared/schemas/runs';
 import { dewPointC } from '../../../shared/holds/dew-point';
-import { holdStep, type HoldDecision, type HoldInput } from '../../../shared/holds/sequence';
+import { coolingSetpointC, holdStep, type HoldDecision, type HoldInput } from '../../../shared/holds/sequence';
 import { readHoldSettings } from '../lab-settings/lab-settings.data';
 import type { AppContext } from '../../context';
 import type { RigEntity, RunEntity, StressPlanEntity } from '../../db/entities';
@@ -320,14 +320,25 @@ export class RunScheduler {
       const o = d.biasOff ? off(key) : null;
       if (o) out.push(o);
     };
+    // An aborted run cools at once, a humidity plan's chamber still no lower than its dew point + margin (shared/holds).
     const cool = async (phase: string): Promise<Want | null> =>
       (await this.ovenShared(run))
         ? null
-        : {
-            cmdId: `run:${run.id}:cool:${phase}`,
-            cmd: { type: 'setpoint', setpointC: AMBIENT_C, ...(plan.humidityPct !== null ? { humidityPct: null } : {}) },
-            satisfied: !!latest && latest.setpointC <= AMBIENT_C + 0.05,
-          };
+        : this.holdChamberWant(
+            run,
+            plan,
+            phase,
+            {
+              setpointC: coolingSetpointC({
+                chamberC: latest?.chamberC ?? null,
+                humidityPct: latest?.humidityPct ?? null,
+                humidityControlled: plan.humidityPct !== null,
+                planChamberC: plan.chamberC,
+              }),
+              humidityOff: plan.humidityPct !== null,
+            },
+            latest,
+          );
     switch (run.state as RunState) {
       case 'heating':
         out.push(heat());

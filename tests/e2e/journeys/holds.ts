@@ -31,15 +31,23 @@ export const holdsReadPoint: Journey = {
     if (!run || run.holdPhase !== 'safe-to-open') throw new Error(`${RUN} did not finish its hold's cool-down: ${JSON.stringify(run)}`);
     j.log(`${RUN}: ${run.state}, hold ${run.holdPhase}, bias off ${run.biasRemovedAt}`);
 
+    // Both sizes share one stack, and the admin step below changes the safe-to-open setting: read it first.
+    const lab = (await (await page.request.get(`${j.baseUrl}/api/lab-settings`)).json()) as {
+      coolUnderBiasToC: number;
+      safeToOpenC: number;
+    };
+
     // --- The run page: the hold, the lab's temperatures, the caution, the audit trail ----------
     await page.goto(`${j.baseUrl}/runs/${run.id}`);
     await expect(page.getByRole('heading', { name: RUN }).first()).toBeVisible();
     const card = page.getByTestId('hold-card');
     await expect(card).toBeVisible();
     await expect(page.getByTestId('hold-phase')).toContainText('Safe to open');
-    await expect(page.getByTestId('hold-phase-text')).toContainText("At or below 40 °C, the lab's safe-to-open temperature.");
-    await expect(card).toContainText('Lab settings: bias off at 35 °C, safe to open at 40 °C.');
-    await expect(card).toContainText('Safe to open by the lab’s 40 °C setting, yet parts and boards can still be hot.');
+    await expect(page.getByTestId('hold-phase-text')).toContainText(
+      `At or below ${lab.safeToOpenC} °C, the lab's safe-to-open temperature.`,
+    );
+    await expect(card).toContainText(`Lab settings: bias off at ${lab.coolUnderBiasToC} °C, safe to open at ${lab.safeToOpenC} °C.`);
+    await expect(card).toContainText(`Safe to open by the lab’s ${lab.safeToOpenC} °C setting, yet parts and boards can still be hot.`);
     await expect(card).toContainText("A software trip is no substitute for the rig's hardware interlocks.");
     await expect(page.getByText(/^Read point 168(\.0)? h: bias off since /)).toBeVisible();
     await expect(page.getByText('Read point reached; cooling under bias').first()).toBeVisible();
@@ -52,6 +60,8 @@ export const holdsReadPoint: Journey = {
     await page.goto(`${j.baseUrl}/floor/${RIG}`);
     await expect(page.getByRole('heading', { name: `Rig ${RIG}` }).first()).toBeVisible();
     await expect(page.getByTestId('rig-chart')).toBeVisible(20000);
+    // The last 15 minutes come from every sample (the hour view averages per minute).
+    await page.getByRole('radio', { name: '15 min', exact: true }).click();
     const steps = page.getByTestId('hold-steps');
     await expect(steps).toBeVisible(20000);
     await expect(steps).toContainText(`${RUN}: Cooling under bias`);
@@ -69,7 +79,8 @@ export const holdsReadPoint: Journey = {
     await page.waitForURL((u) => u.pathname === '/rigs');
     const panel = page.getByTestId('hold-settings');
     await expect(panel).toBeVisible();
-    await expect(page.getByTestId('hold-safe-value')).toContainText('40 °C');
+    await expect(page.getByTestId('hold-safe-value')).toContainText(`${lab.safeToOpenC} °C`);
+    const next = lab.safeToOpenC === 45 ? 42 : 45;
     await page.getByTestId('hold-edit').click();
     await page.getByTestId('hold-safe-to-open').fill('75');
     await page.getByTestId('hold-reason').fill(`Journey check (${j.size})`);
@@ -77,9 +88,9 @@ export const holdsReadPoint: Journey = {
     await expect(panel).toContainText('Safe to open at: at most 60 °C');
     await panel.scrollIntoViewIfNeeded();
     await j.shot('hold-settings-refused');
-    await page.getByTestId('hold-safe-to-open').fill('45');
+    await page.getByTestId('hold-safe-to-open').fill(String(next));
     await page.getByTestId('hold-save').click();
-    await expect(page.getByTestId('hold-safe-value')).toContainText('45 °C');
+    await expect(page.getByTestId('hold-safe-value')).toContainText(`${next} °C`);
     await expect(panel).toContainText(/Changed .* by /);
     await j.checkA11y('hold settings');
     await j.shot('hold-settings-saved');
