@@ -20,8 +20,8 @@ import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { HoldSettingsPanel } from './HoldSettingsPanel';
-import { MaintenancePanel } from './MaintenancePanel';
-import { RegisterRigForm } from './RegisterRigForm';
+import { MaintenancePanel } from '@/components/forms/LazyForms';
+import { RegisterRigForm } from '@/components/forms/LazyForms';
 import { SecretReveal } from './SecretReveal';
 
 type Pending = { kind: 'rotate'; rig: Rig } | { kind: 'revoke'; rig: Rig } | null;
