@@ -162,7 +162,10 @@ export async function runWeb(b: BenchEnv, log: (l: string) => void) {
       taskMs.push(Math.round((after.task - before.task) * 1000));
       const doc = sent.find((r) => r.type === 'Document');
       const at = (re: RegExp) => sent.find((r) => re.test(new URL(r.url).pathname));
-      for (const [key, re] of [['me', /^\/api\/auth\/me$/], ['floor', /^\/api\/floor$/]] as const) {
+      for (const [key, re] of [
+        ['me', /^\/api\/auth\/me$/],
+        ['floor', /^\/api\/floor$/],
+      ] as const) {
         const r = at(re);
         if (doc && r) apiStart[key].push(Math.round((r.at - doc.at) * 1000));
       }
@@ -185,7 +188,10 @@ export async function runWeb(b: BenchEnv, log: (l: string) => void) {
       floorReloadKb: kb(reloadBytes),
       floorReloadScriptMs: median(scriptMs),
       floorReloadTaskMs: median(taskMs),
-      floorReloadApiStartMs: { me: apiStart.me.length ? median(apiStart.me) : null, floor: apiStart.floor.length ? median(apiStart.floor) : null },
+      floorReloadApiStartMs: {
+        me: apiStart.me.length ? median(apiStart.me) : null,
+        floor: apiStart.floor.length ? median(apiStart.floor) : null,
+      },
     };
     log(
       `web: cold sign-in ${result.coldSignInKb} KB, paint ${signInPaintMs} ms, sign-in → floor ${signInToFloorMs} ms, floor reload median ${result.floorReloadMs} ms`,

@@ -16,6 +16,7 @@ import { floorRoutes } from './floor/floor.routes';
 import { telemetryRoutes } from './telemetry/telemetry.routes';
 import { runsRoutes } from './runs/runs.routes';
 import { evidenceRoutes } from './evidence/evidence.routes';
+import { protectionRoutes } from './protection/protection.routes';
 import { labSettingsRoutes } from './lab-settings/lab-settings.routes';
 
 /** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
@@ -36,6 +37,7 @@ export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
   telemetryRoutes,
   runsRoutes,
   evidenceRoutes,
+  protectionRoutes,
   labSettingsRoutes,
 ];
 

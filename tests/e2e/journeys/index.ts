@@ -5,8 +5,10 @@ import { engineerSplitSample, operatorReadPointEvidence } from './evidence';
 import { adminPeople, signInErrors, signInEveryRole } from './foundation';
 import { holdsReadPoint } from './holds';
 import { managerTrends } from './manager';
+import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
+import { engineerTripReset } from './trip-reset';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -24,6 +26,8 @@ export const JOURNEYS: Journey[] = [
   // readings this one shows as an incomplete read point.
   managerLotVerdicts,
   operatorReadPointEvidence,
+  managerLotCredit,
+  engineerTripReset,
   holdsReadPoint,
   adminRigs,
 ];
