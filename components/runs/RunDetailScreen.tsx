@@ -24,7 +24,7 @@ import { QueryState } from '@/components/ui/QueryState';
 import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
-import { CHAMBER_TOLERANCE_PCT, measureByMs } from '@/shared/domain/standards';
+import { bandRange, measureByMs } from '@/shared/domain/standards';
 import { DRIVEN_STATES } from '@/shared/domain/run-states';
 import { DEFAULT_HOLD_SETTINGS, HOLD_PHASES, HOLD_PHASE_LABEL, holdPhaseText } from '@/shared/holds/sequence';
 import { RUN_ACTIONS, RUN_ACTION_LABEL } from '@/shared/domain/run-states';
@@ -132,7 +132,7 @@ function stateNote(run: RunDetail): { tone: 'info' | 'warn' | 'danger' | 'ok'; t
     case 'heating':
       return {
         tone: 'info',
-        text: `Heating since ${formatDateTime(run.heatingSince)}: hours count once the chamber is within ±${CHAMBER_TOLERANCE_PCT} % of ${run.plan.chamberC} °C.`,
+        text: `Heating since ${formatDateTime(run.heatingSince)}: hours count once the chamber is within ${bandRange(run.plan.chamberC, run.plan.chamberBand)}.`,
       };
     case 'read-hold': {
       if (!run.biasRemovedAt) {

@@ -22,6 +22,7 @@ import { downloadReport } from './exportReport';
 import { hours, PARAM_LABEL, pct, sig } from './format';
 import { LotDistributionChart } from '@/components/charts/LazyCharts';
 import { LotPlanJudgement } from './LotPlanJudgement';
+import { LotRecordsCard } from './LotRecordsCard';
 import { VerdictPill } from './verdict';
 
 const DEVICE_STATUS = {
@@ -320,6 +321,7 @@ export function LotDetailScreen() {
                 </View>
               </>
             )}
+            <LotRecordsCard lot={l} />
             <Banner tone="warn" title="Caution">
               {l.caution}
             </Banner>

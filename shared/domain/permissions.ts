@@ -37,6 +37,10 @@ export const PERMISSIONS = {
   'reading.confirm': ['engineer'],
   'measurement.read': ['admin', 'engineer', 'operator', 'manager'],
   'measurement.upload': ['engineer', 'operator'],
+  // A correction is a new version with a reason; time zero after Start, a change to a finished
+  // run's readings or withdrawing a failure is a deviation on the lot: an engineer's call (issue #21).
+  'measurement.correct': ['engineer', 'operator'],
+  'measurement.deviation': ['engineer'],
   'trends.read': ['admin', 'engineer', 'manager'],
   'rig.read': ['admin', 'engineer', 'operator', 'manager'],
   'rig.manage': ['admin'],

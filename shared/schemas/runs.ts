@@ -4,6 +4,7 @@ import { DEVIATION_REASON_MIN } from '../evidence';
 
 import { RUN_STATES, type RunState } from '../domain/run-states';
 import type { HoldPhase } from '../holds/sequence';
+import type { ChamberBandK } from '../domain/standards';
 
 export { RUN_STATES, ON_RIG_STATES, DRIVEN_STATES, HEAT_STATES, TERMINAL_STATES, type RunState } from '../domain/run-states';
 
@@ -176,6 +177,8 @@ export interface RunPlanRef {
   version: number;
   kind: PlanKind;
   chamberC: number;
+  /** The band in kelvin below / above chamberC where hours count. */
+  chamberBand: ChamberBandK;
   humidityPct: number | null;
   durationH: number;
   readPointsH: number[];

@@ -98,7 +98,7 @@ describe('proposals', () => {
         rigId: ids['HC-05'],
         rigCode: 'HC-05',
         rigName: 'Oven HC-05',
-        reasons: ['Oven HC-05 reaches at most 130 °C; the plan needs 145 °C.'],
+        reasons: ['Oven HC-05 reaches at most 130 °C; the plan needs 147.5 °C.'],
       },
       {
         rigId: ids['OV-04'],
@@ -213,7 +213,8 @@ describe('booking', () => {
     });
     expect(res.status).toBe(409);
     expect(res.body.error.message).toMatch(
-      /^The rig is no longer free at .*: Oven OV-01 runs HTRB-2611-A at 145 °C until .*; the plan needs 125 °C\. Ask for new proposals\.$/,
+      // set points are the middle of each plan's +5/−0 K band (145 → 147.5 °C, 125 → 127.5 °C)
+      /^The rig is no longer free at .*: Oven OV-01 runs HTRB-2611-A at 147\.5 °C until .*; the plan needs 127\.5 °C\. (.* )?Ask for new proposals\.$/,
     );
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
   });
@@ -450,7 +451,7 @@ describe('booking a proposal whose start slid', () => {
       const far = await eng.post('/api/runs').send(body);
       expect(far.status).toBe(409);
       expect(far.body.error.message).toMatch(
-        /^The rig is no longer free at .*: Oven OV-08 runs HTRB-2611-A.* at 145 °C until .*; the plan needs 125 °C\. Ask for new proposals\.$/,
+        /^The rig is no longer free at .*: Oven OV-08 runs HTRB-2611-A.* at 147\.5 °C until .*; the plan needs 127\.5 °C\. Ask for new proposals\.$/,
       );
       expect(await tableCounts(t.ctx.ds)).toEqual(before);
 

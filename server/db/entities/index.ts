@@ -24,7 +24,7 @@ import {
   TelemetryRollupEntity,
   TelemetrySampleEntity,
 } from './telemetry.entity';
-import { MeasurementEntity, MeasurementUploadEntity } from './measurement.entity';
+import { MeasurementEntity, MeasurementFileEntity, MeasurementUploadEntity, MeasurementVersionEntity } from './measurement.entity';
 import { AlarmEntity, MailLogEntity, NotificationEntity } from './alarm.entity';
 import { AuditLogEntity } from './audit-log.entity';
 import { DeviceDispositionEntity } from './evidence.entity';
@@ -48,6 +48,8 @@ export const ENTITIES = [
   SystemCounterEntity,
   MeasurementEntity,
   MeasurementUploadEntity,
+  MeasurementVersionEntity,
+  MeasurementFileEntity,
   AlarmEntity,
   NotificationEntity,
   MailLogEntity,

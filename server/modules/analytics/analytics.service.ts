@@ -20,6 +20,8 @@ import type { PlanEvidence } from '../../../shared/verdict/evidence';
 import type { PlanJudgement } from '../../../shared/verdict/judge';
 import { DeviceTypeEntity } from '../../db/entities';
 import { notFound } from '../../http/errors';
+import { lotCorrectedVersions, recordDeviationVersions } from '../measurements/measurements.data';
+import { lotVersionView } from '../measurements/record-gate';
 import { LOT_CAUTION, junctionBasis, planFit } from './lot-analysis';
 import { PartCache, type Analysed } from './part-analysis';
 
@@ -102,6 +104,10 @@ export class AnalyticsService {
       gainReference: { ...a.gainReference, normalisedReadings: c.normalisedReadings },
       otherRuns: a.otherRuns,
       caution: LOT_CAUTION,
+      records: {
+        corrections: (await lotCorrectedVersions(this.ds.manager, lotId)).map(lotVersionView),
+        deviations: (await recordDeviationVersions(this.ds.manager, { lotId })).map(lotVersionView),
+      },
     };
   }
 

@@ -19,6 +19,7 @@ import {
 } from '../../../shared/scheduling';
 import { DRIVEN_STATES } from '../../../shared/domain/run-states';
 import { BIASED_HOLD_PHASES } from '../../../shared/holds/sequence';
+import { chamberSetpointC } from '../../../shared/domain/standards';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import {
   allowedActions,
@@ -93,7 +94,8 @@ interface BookingPart {
 }
 
 const needsOf = (plan: StressPlanEntity, sampleSize: number): RunNeeds => ({
-  chamberC: plan.chamberC,
+  // The oven must reach, and share, the set point it is driven to (the middle of the plan's band).
+  chamberC: chamberSetpointC(plan.chamberC, plan.chamberBand),
   humidityPct: plan.humidityPct,
   biasV: planBiasV(plan),
   sampleSize,
@@ -101,8 +103,10 @@ const needsOf = (plan: StressPlanEntity, sampleSize: number): RunNeeds => ({
   readPointsH: plan.readPointsH,
 });
 
-const condition = (p: Pick<StressPlanEntity, 'chamberC' | 'humidityPct'>) =>
-  p.humidityPct === null ? `${+p.chamberC.toFixed(2)} °C` : `${+p.chamberC.toFixed(2)} °C / ${+p.humidityPct.toFixed(2)} % RH`;
+const condition = (p: Pick<StressPlanEntity, 'chamberC' | 'chamberBand' | 'humidityPct'>) => {
+  const c = `${+chamberSetpointC(p.chamberC, p.chamberBand).toFixed(2)} °C`;
+  return p.humidityPct === null ? c : `${c} / ${+p.humidityPct.toFixed(2)} % RH`;
+};
 
 /**
  * How far booking may follow a proposed start that slid (see book): 1 clock hour, or 5 % of the
@@ -832,7 +836,8 @@ export class RunsService {
     const others = await m.find(RunEntity, { where: { rigId: rig.id, state: In([...DRIVEN_STATES]), id: Not(run.id) } });
     for (const o of others) {
       const op = await m.findOneByOrFail(StressPlanEntity, { id: o.planId });
-      if (op.chamberC !== plan.chamberC || (op.humidityPct ?? null) !== (plan.humidityPct ?? null)) {
+      const same = chamberSetpointC(op.chamberC, op.chamberBand) === chamberSetpointC(plan.chamberC, plan.chamberBand);
+      if (!same || (op.humidityPct ?? null) !== (plan.humidityPct ?? null)) {
         throw conflict(`Oven ${rig.code} holds run ${o.code} at ${condition(op)}; this plan needs ${condition(plan)}.`);
       }
     }

@@ -30,7 +30,7 @@ import {
   type Job,
   when,
 } from '../../../shared/scheduling';
-import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H } from '../../../shared/domain/standards';
+import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H, chamberSetpointC } from '../../../shared/domain/standards';
 import type { RunState } from '../../../shared/schemas/runs';
 import { dewPointC } from '../../../shared/holds/dew-point';
 import { coolingSetpointC, holdStep, type HoldDecision, type HoldInput } from '../../../shared/holds/sequence';
@@ -295,11 +295,13 @@ export class RunScheduler {
     const reading = new Map(readings.map((r) => [r.socket, r]));
     const cond = accrualConditionsFor(plan);
     const setpointIs = (c: number, b: BatchRow | null) => !!b && Math.abs(b.setpointC - c) < 0.05;
+    // The controller aims at the middle of the band (a one-sided band: above the stated minimum).
+    const setpointC = chamberSetpointC(plan.chamberC, plan.chamberBand);
     const out: Want[] = [];
     const heat = (): Want => ({
       cmdId: `run:${run.id}:heat:${b36(run.heatingSince)}`,
-      cmd: { type: 'setpoint', setpointC: plan.chamberC, ...(plan.humidityPct !== null ? { humidityPct: plan.humidityPct } : {}) },
-      satisfied: setpointIs(plan.chamberC, latest),
+      cmd: { type: 'setpoint', setpointC: setpointC, ...(plan.humidityPct !== null ? { humidityPct: plan.humidityPct } : {}) },
+      satisfied: setpointIs(setpointC, latest),
     });
     const off = (phase: string): Want | null =>
       all.length
@@ -333,7 +335,7 @@ export class RunScheduler {
                 chamberC: latest?.chamberC ?? null,
                 humidityPct: latest?.humidityPct ?? null,
                 humidityControlled: plan.humidityPct !== null,
-                planChamberC: plan.chamberC,
+                planChamberC: chamberSetpointC(plan.chamberC, plan.chamberBand),
               }),
               humidityOff: plan.humidityPct !== null,
             },
@@ -399,7 +401,7 @@ export class RunScheduler {
         humidityPct: latest?.humidityPct ?? null,
         anyBiased,
         ovenNeededHot: others.length > 0,
-        planChamberC: plan.chamberC,
+        planChamberC: chamberSetpointC(plan.chamberC, plan.chamberBand),
         humidityControlled: plan.humidityPct !== null,
         settings: await readHoldSettings(m),
       },
@@ -519,7 +521,7 @@ export class RunScheduler {
     const done = await data.lastRunAudit(this.ctx.ds.manager, run.id, 'run.ambient-overdue');
     this.ambientCheckedAt.set(key, -1);
     if (done && done.details?.heatingSince === heatingSince) return;
-    const band = chamberBand(plan.chamberC);
+    const band = chamberBand(plan.chamberC, plan.chamberBand);
     await this.ctx.audit.record({
       actor: 'system',
       action: 'run.ambient-overdue',
@@ -610,7 +612,7 @@ export class RunScheduler {
         return {
           id: r.id,
           code: r.code,
-          chamberC: p.chamberC,
+          chamberC: chamberSetpointC(p.chamberC, p.chamberBand),
           humidityPct: p.humidityPct,
           biasV: planBiasV(p),
           sampleSize: r.sampleSize,

@@ -8,6 +8,8 @@ import { managerTrends } from './manager';
 import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
+import { engineerRatings } from './ratings';
+import { operatorCorrectReading } from './records';
 import { engineerTripReset } from './trip-reset';
 
 /**
@@ -28,6 +30,9 @@ export const JOURNEYS: Journey[] = [
   operatorReadPointEvidence,
   managerLotCredit,
   engineerTripReset,
+  engineerRatings,
+  // Corrects a 168 h reading of HG2612-C (in progress): after every journey that reads that lot.
+  operatorCorrectReading,
   holdsReadPoint,
   adminRigs,
 ];
