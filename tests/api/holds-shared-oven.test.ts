@@ -21,6 +21,7 @@ import { RunScheduler } from '../../server/modules/scheduler/scheduler';
 import type { RigCommandBody, RigLink } from '../../server/modules/telemetry/contracts';
 import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
 import { createTestApp, type TestApp } from '../support/api';
+import { chamberSetpointC } from '../../shared/domain/standards';
 
 class FakeRig implements RigLink {
   setpointC = 145;
@@ -44,6 +45,7 @@ const ids: Record<'A' | 'B', string> = { A: '', B: '' };
 const fake = new FakeRig();
 let scheduler: RunScheduler;
 let seq = 0;
+let heldAtStartC = 0;
 
 async function land(chambers: number[]) {
   for (const c of chambers) {
@@ -118,6 +120,8 @@ beforeAll(async () => {
         criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 2e-7, vcesatShiftV: 0.05 },
       }),
     );
+    // The rig already sits at the plans' controller set point (the middle of the chamber band).
+    fake.setpointC = chamberSetpointC(plan.chamberC, plan.chamberBand);
     const now = new Date();
     ids[k] = (
       await m.save(
@@ -142,6 +146,7 @@ beforeAll(async () => {
       sockets.map((s) => ({ runId: ids[k], deviceId: devices[s].id, socketIndex: s })),
     );
   }
+  heldAtStartC = fake.setpointC;
   scheduler = new RunScheduler(t.ctx, {
     rigLink: () => fake,
     cronExpression: null,
@@ -164,7 +169,7 @@ describe('a read-point hold in a shared oven', () => {
     expect(a).toMatchObject({ state: 'read-hold', holdPhase: 'oven-shared', biasRemovedAt: null, stressHours: 1 });
     expect((await run('B')).state).toBe('stressing');
     expect(sentFor('A')).toEqual([]);
-    expect(fake.setpointC).toBe(145);
+    expect(fake.setpointC).toBe(heldAtStartC);
     expect([fake.bias.get(0), fake.bias.get(1)]).toEqual([true, true]);
     const audit = await t.ctx.ds.getRepository(AuditLogEntity).findOneByOrFail({ entityId: ids.A, action: 'run.hold-phase' });
     expect(audit.reason).toBe('The oven is kept hot for HTRB-2611-SB: the hold waits under bias.');
