@@ -17,6 +17,8 @@
 import { gainAtTemperature, leakageAtTemperature } from '../shared/physics';
 import { junctionFromTsp, tspAt, TYPICAL_VBE_SLOPE_V_PER_K, type TspCalibration } from '../shared/physics/tsp';
 import { createRng, gaussian, hashString } from './rng';
+import { relativeHumidityPct, saturationVapourPressureHpa, vapourPressureHpa } from '../shared/holds/dew-point';
+import { ROOM_AMBIENT_C } from '../shared/domain/standards';
 
 export type BiasMode = 'powered' | 'reverse';
 export type FailMode = 'short' | 'open';
@@ -125,11 +127,39 @@ export interface RigState {
   chamberC: number;
   setpointC: number;
   chamberTauS: number;
+  /** Relative humidity the chamber's sensor reads, % (null: no humidity sensor). Derived from vapourHpa. */
   humidityPct: number | null;
   humiditySetpointPct: number | null;
+  /**
+   * Water vapour in the chamber air, hPa (null without humidity control). The humidifier drives it
+   * toward the set RH at the present dry bulb; with control off the chamber purges toward room air.
+   * Vapour above saturation condenses on the coldest surfaces (the parts): condensationS counts it.
+   */
+  vapourHpa: number | null;
+  /** Stress seconds during which the air was saturated (dry bulb at or below the dew point). */
+  condensationS: number;
   maxTempC: number;
   humidityCapable: boolean;
   sockets: SocketState[];
+}
+
+/** Room air a humidity chamber purges toward with its control off: 25 °C / 50 % RH [practice: a lab's conditioned air]. */
+export const ROOM_AIR = { tC: ROOM_AMBIENT_C, rhPct: 50 } as const;
+const ROOM_VAPOUR_HPA = vapourPressureHpa(ROOM_AIR.tC, ROOM_AIR.rhPct);
+
+/** One humidity sub-step: vapour toward its target, condensed down to saturation; the sensor's RH. */
+function stepVapour(
+  state: RigState,
+  vapourHpa: number,
+  chamberC: number,
+  h: number,
+): { vapourHpa: number; rhPct: number; saturated: boolean } {
+  const target = state.humiditySetpointPct === null ? ROOM_VAPOUR_HPA : vapourPressureHpa(chamberC, state.humiditySetpointPct);
+  let e = lag(vapourHpa, target, h, state.chamberTauS);
+  const sat = saturationVapourPressureHpa(chamberC);
+  const saturated = e >= sat;
+  if (saturated) e = sat;
+  return { vapourHpa: e, rhPct: relativeHumidityPct(chamberC, e), saturated };
 }
 
 export const DESTROY_MARGIN_C = 50;
@@ -297,15 +327,21 @@ export function stepRig(state: RigState, dtS: number): RigState {
   const h = dtS / n;
   let chamberC = state.chamberC;
   let humidityPct = state.humidityPct;
+  let vapourHpa = state.vapourHpa;
+  let condensationS = state.condensationS;
   let sockets = state.sockets;
   for (let k = 0; k < n; k++) {
     chamberC = lag(chamberC, state.setpointC, h, state.chamberTauS);
-    if (state.humiditySetpointPct === null) humidityPct = null;
-    else humidityPct = lag(humidityPct ?? 0, state.humiditySetpointPct, h, state.chamberTauS);
+    if (vapourHpa !== null) {
+      const v = stepVapour(state, vapourHpa, chamberC, h);
+      vapourHpa = v.vapourHpa;
+      humidityPct = v.rhPct;
+      if (v.saturated) condensationS += h;
+    }
     const c = chamberC;
     sockets = sockets.map((s) => (s.cycle && isEnergised(s) ? stepCyclingSocket(s, c, h) : stepSocket(s, c, h)));
   }
-  return { ...state, stressClockS: state.stressClockS + dtS, chamberC, humidityPct, sockets };
+  return { ...state, stressClockS: state.stressClockS + dtS, chamberC, humidityPct, vapourHpa, condensationS, sockets };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -423,16 +459,20 @@ export const DEFAULTS = {
 export function createRigState(setup: RigSetup): RigState {
   const chamberC = setup.chamberC ?? 25;
   const humidity = setup.humidityPct ?? null;
+  const humidityCapable = setup.humidityCapable ?? humidity !== null;
+  const vapourHpa = !humidityCapable ? null : humidity !== null ? vapourPressureHpa(chamberC, humidity) : ROOM_VAPOUR_HPA;
   return {
     rigCode: setup.rigCode,
     stressClockS: 0,
     chamberC,
     setpointC: setup.setpointC ?? chamberC,
     chamberTauS: setup.chamberTauS ?? DEFAULTS.chamberTauS,
-    humidityPct: humidity,
+    humidityPct: vapourHpa === null ? null : relativeHumidityPct(chamberC, vapourHpa),
     humiditySetpointPct: humidity,
+    vapourHpa,
+    condensationS: 0,
     maxTempC: setup.maxTempC ?? DEFAULTS.maxTempC,
-    humidityCapable: setup.humidityCapable ?? humidity !== null,
+    humidityCapable,
     sockets: setup.sockets.map((s, i) => {
       const mode = s.mode ?? 'powered';
       const socket: SocketState = {

@@ -30,6 +30,7 @@ import { PlansService } from './modules/plans/plans.service';
 import type { ProtectionMonitor } from './modules/protection/protection.monitor';
 import { TripResetService } from './modules/protection/trip-reset.service';
 import { RigsService } from './modules/rigs/rigs.service';
+import { LabSettingsService } from './modules/lab-settings/lab-settings.service';
 import { RunsService } from './modules/runs/runs.service';
 import type { RunScheduler } from './modules/scheduler/scheduler';
 import type { RigLink } from './modules/telemetry/contracts';
@@ -53,6 +54,7 @@ export interface Services {
   signoff: SignoffService;
   runs: RunsService;
   rigs: RigsService;
+  labSettings: LabSettingsService;
   floor: FloorService;
   floorStream: FloorStream;
   telemetry: TelemetryService;
@@ -113,6 +115,7 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     signoff: new SignoffService(ctx.ds, ctx.audit, auth, analytics, now),
     runs: new RunsService(ctx),
     rigs: new RigsService(ctx),
+    labSettings: new LabSettingsService(ctx),
     floor,
     floorStream: new FloorStream(ctx, floor),
     telemetry: new TelemetryService(ctx),

@@ -2,6 +2,7 @@ import { useState } from 'react';
 import { View } from 'react-native';
 import { VictoryAxis, VictoryChart, VictoryLegend, VictoryLine } from 'victory-native';
 import type { FloorChart } from '@/shared/schemas/floor';
+import { HOLD_PHASE_LABEL, type HoldPhase } from '@/shared/holds/sequence';
 import { colors, fonts, space } from '@/components/theme/tokens';
 import { Text } from '@/components/ui/Text';
 
@@ -27,6 +28,14 @@ const SOCKET_SERIES = [
   { color: '#57524A', dash: '12,3' },
 ];
 
+/** Hold steps: a vertical line each (solid = bias still on, dashed = bias off), named in the list under the chart. */
+const HOLD_MARK: Record<HoldPhase, { color: string; dash?: string }> = {
+  'cool-under-bias': { color: '#1E4F86' },
+  'oven-shared': { color: '#7A4F00' },
+  'bias-off': { color: '#A3211B', dash: '5,3' },
+  'safe-to-open': { color: '#1F6B3F', dash: '5,3' },
+};
+
 const hhmm = (ms: number) => new Date(ms).toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit' });
 
 export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string }) {
@@ -46,8 +55,22 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
   const from = Date.parse(chart.from);
   const to = Date.parse(chart.to);
   const last = (d: { avg: number }[]) => (d.length ? `${d[d.length - 1].avg.toFixed(1)} °C` : 'no data');
+  const marks = (chart.holdSteps ?? []).filter((m) => Date.parse(m.t) >= from && Date.parse(m.t) <= to);
+  const hhmmss = (ms: number) => new Date(ms).toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit', second: '2-digit' });
+  // "Safe to open" straight from a biased step also means bias came off there.
+  const markText = marks.map((m, i) => {
+    const prev = marks
+      .slice(0, i)
+      .reverse()
+      .find((x) => x.runCode === m.runCode);
+    const biasOffToo = m.step === 'safe-to-open' && !!prev && (prev.step === 'cool-under-bias' || prev.step === 'oven-shared');
+    return `${hhmmss(Date.parse(m.t))} ${m.runCode}: ${biasOffToo ? 'Bias off; safe to open' : HOLD_PHASE_LABEL[m.step]}`;
+  });
   const description =
-    `Temperatures from ${hhmm(from)} to ${hhmm(to)}: ` + series.map((s) => `${s.name} last ${last(s.data)}`).join('; ') + '.';
+    `Temperatures from ${hhmm(from)} to ${hhmm(to)}: ` +
+    series.map((s) => `${s.name} last ${last(s.data)}`).join('; ') +
+    '.' +
+    (markText.length ? ` Hold steps: ${markText.join('; ')}.` : '');
   return (
     <View
       testID={testID}
@@ -76,6 +99,16 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
                 style={{ data: { stroke: s.style.color, strokeWidth: s.style.width, strokeDasharray: s.style.dash } }}
               />
             ))}
+            {marks.map((m, i) => (
+              <VictoryLine
+                key={`mark-${i}`}
+                data={[
+                  { x: Date.parse(m.t), y: yMin },
+                  { x: Date.parse(m.t), y: yMax },
+                ]}
+                style={{ data: { stroke: HOLD_MARK[m.step].color, strokeWidth: 2, strokeDasharray: HOLD_MARK[m.step].dash } }}
+              />
+            ))}
           </VictoryChart>
           <VictoryLegend
             standalone
@@ -91,6 +124,17 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
               symbol: { fill: s.style.color, type: 'square' },
             }))}
           />
+          {marks.length ? (
+            <View style={{ paddingHorizontal: space.xs, gap: 2 }} testID="hold-steps">
+              <Text variant="label">Hold steps (vertical lines; dashed once bias is off)</Text>
+              {marks.map((m, i) => (
+                <View key={`step-${i}`} style={{ flexDirection: 'row', gap: space.xs, alignItems: 'center' }}>
+                  <View style={{ width: 14, height: 3, backgroundColor: HOLD_MARK[m.step].color }} />
+                  <Text variant="caption">{markText[i]}</Text>
+                </View>
+              ))}
+            </View>
+          ) : null}
           <Text variant="caption" tone="muted" style={{ paddingHorizontal: space.xs }}>
             {chart.source === 'raw' ? 'From every sample' : 'From per-minute averages'}, one point per{' '}
             {Math.max(1, Math.round(chart.bucketMs / 1000))} s.

@@ -19,6 +19,7 @@ import { QueryState } from '@/components/ui/QueryState';
 import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
+import { HoldSettingsPanel } from './HoldSettingsPanel';
 import { MaintenancePanel } from '@/components/forms/LazyForms';
 import { RegisterRigForm } from '@/components/forms/LazyForms';
 import { SecretReveal } from './SecretReveal';
@@ -284,6 +285,7 @@ export function RigsScreen() {
         )}
       </QueryState>
       {maintFor ? <MaintenancePanel rig={maintFor} canEdit={canManage} onClose={() => setMaintFor(null)} /> : null}
+      <HoldSettingsPanel />
       <IngestHealth />
       <SafetyCaution compact />
 

@@ -10,6 +10,7 @@ import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { describeError } from '@/components/queries/api';
 import { useCan } from '@/components/queries/auth';
+import { useLabSettings } from '@/components/queries/lab-settings';
 import { SocketFlagsError, useLoadSockets, useRun, useRunAction } from '@/components/queries/runs';
 import { colors, radius, space, tones } from '@/components/theme/tokens';
 import { Banner } from '@/components/ui/Banner';
@@ -25,6 +26,7 @@ import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { bandRange, measureByMs } from '@/shared/domain/standards';
 import { DRIVEN_STATES } from '@/shared/domain/run-states';
+import { DEFAULT_HOLD_SETTINGS, HOLD_PHASES, HOLD_PHASE_LABEL, holdPhaseText } from '@/shared/holds/sequence';
 import { RUN_ACTIONS, RUN_ACTION_LABEL } from '@/shared/domain/run-states';
 import type { RunAction, RunDetail, RunSocket, SocketFlag, SocketLoadResult } from '@/shared/schemas/runs';
 import { RUN_STATE_TONE, columnToSocketMap, hours } from './run-look';
@@ -37,15 +39,24 @@ const AUDIT_LABEL: Record<string, string> = {
   'run.start': 'Started',
   'run.ambient-reached': 'Chamber reached its set point; stress hours count',
   'run.ambient-overdue': 'Chamber late reaching its set point',
-  'run.read-point': 'Read point reached; bias off',
+  'run.read-point': 'Read point reached; cooling under bias',
+  'run.hold-phase': 'Hold step',
   'run.measurements-done': 'Measurements done; heating again',
   'run.pause': 'Paused',
   'run.resume': 'Resumed',
-  'run.stress-complete': 'Stress hours complete; cooling',
+  'run.stress-complete': 'Stress hours complete; cooling under bias',
   'run.finish': 'Finished',
   'run.abort': 'Aborted',
   'run.replan': 'Moved by re-planning',
 };
+
+/** A hold step names the step it reached ("Hold: Bias off"). */
+function auditLabel(a: RunDetail['audit'][number]): string {
+  const to = HOLD_PHASES.find((p) => p === a.details.to);
+  if (a.action === 'run.hold-phase' && to)
+    return `Hold: ${HOLD_PHASE_LABEL[to]}${a.details.from !== 'bias-off' && to === 'safe-to-open' ? ' (bias off)' : ''}`;
+  return AUDIT_LABEL[a.action] ?? a.action;
+}
 
 const FLAG_WORD: Record<SocketFlag['problem'], string> = {
   empty: 'Empty',
@@ -125,7 +136,13 @@ function stateNote(run: RunDetail): { tone: 'info' | 'warn' | 'danger' | 'ok'; t
         text: `Heating since ${formatDateTime(run.heatingSince)}: hours count once the chamber is within ${bandRange(run.plan.chamberC, run.plan.chamberBand)}.`,
       };
     case 'read-hold': {
-      const measureBy = run.biasRemovedAt ? new Date(measureByMs(Date.parse(run.biasRemovedAt))).toISOString() : null;
+      if (!run.biasRemovedAt) {
+        return {
+          tone: 'info',
+          text: `Read point ${hours(run.lastReadPointH)} reached. The devices stay biased while the chamber cools; measure them once bias is off.`,
+        };
+      }
+      const measureBy = new Date(measureByMs(Date.parse(run.biasRemovedAt))).toISOString();
       return {
         tone: 'warn',
         text: `Read point ${hours(run.lastReadPointH)}: bias off since ${formatDateTime(run.biasRemovedAt)}. Measure the devices by ${formatDateTime(measureBy)}, then mark the measurements done to heat again.`,
@@ -136,7 +153,9 @@ function stateNote(run: RunDetail): { tone: 'info' | 'warn' | 'danger' | 'ok'; t
     case 'cooling':
       return {
         tone: 'info',
-        text: `${run.cycles ? 'Cycle target reached' : 'Stress hours complete'}. Bias is off and the chamber is cooling; the run finishes when it is safe to open.`,
+        text: run.biasRemovedAt
+          ? `${run.cycles ? 'Cycle target reached' : 'Stress hours complete'}. Bias is off and the chamber is cooling; the run finishes when it is safe to open.`
+          : `${run.cycles ? 'Cycle target reached' : 'Stress hours complete'}. The chamber cools with bias still on; bias comes off at the lab’s temperature, and the run finishes when it is safe to open.`,
       };
     case 'aborted':
       return { tone: 'danger', text: `Aborted: ${run.abortReason ?? 'no reason given'}` };
@@ -145,6 +164,40 @@ function stateNote(run: RunDetail): { tone: 'info' | 'warn' | 'danger' | 'ok'; t
     default:
       return null;
   }
+}
+
+/** Where the hold stands (cooling under bias, bias off, safe to open), with the lab's temperatures and the caution. */
+function HoldCard({ run }: { run: RunDetail }) {
+  const settings = useLabSettings();
+  if (!run.holdPhase) return null;
+  const s = settings.data ?? DEFAULT_HOLD_SETTINGS;
+  const open = run.holdPhase === 'safe-to-open';
+  return (
+    <Card title={run.state === 'cooling' ? 'End of stress' : 'Read-point hold'} testID="hold-card">
+      <View style={{ flexDirection: 'row', gap: space.xs, alignItems: 'center', flexWrap: 'wrap' }}>
+        <StatusPill
+          tone={open ? 'ok' : run.holdPhase === 'oven-shared' ? 'attention' : 'info'}
+          label={HOLD_PHASE_LABEL[run.holdPhase]}
+          testID="hold-phase"
+        />
+        <Text variant="caption" tone="muted">
+          since {formatDateTime(run.holdPhaseSince)}
+        </Text>
+      </View>
+      <Text testID="hold-phase-text">{holdPhaseText(run.holdPhase, s, null)}</Text>
+      <Text variant="caption" tone="muted">
+        {`Lab settings: bias off at ${s.coolUnderBiasToC} °C, safe to open at ${s.safeToOpenC} °C. The rig chart on the floor shows each step.`}
+      </Text>
+      <SafetyCaution
+        compact
+        context={
+          open
+            ? `Safe to open by the lab’s ${s.safeToOpenC} °C setting, yet parts and boards can still be hot.`
+            : `Do not open ${run.rig?.code ?? 'the oven'}: it is above the lab’s safe-to-open ${s.safeToOpenC} °C${run.biasRemovedAt ? '' : ' and the devices are still biased'}.`
+        }
+      />
+    </Card>
+  );
 }
 
 function Actions({ run, may }: { run: RunDetail; may: (a: RunAction) => boolean }) {
@@ -379,6 +432,7 @@ export function RunDetailScreen({ id }: { id: string }) {
                   <Fact label="In this state since" value={formatDateTime(run.stateChangedAt)} />
                 </View>
               </Card>
+              <HoldCard run={run} />
               {run.allowedActions.length ? (
                 <Card title="Actions">
                   <Actions run={run} may={may} />
@@ -400,7 +454,7 @@ export function RunDetailScreen({ id }: { id: string }) {
               <Card title="Audit trail" description="Who changed what, when and why.">
                 {run.audit.map((a) => (
                   <View key={a.id} style={{ borderTopWidth: 1, borderColor: colors.border, paddingTop: space.xs, gap: 2 }}>
-                    <Text variant="label">{AUDIT_LABEL[a.action] ?? a.action}</Text>
+                    <Text variant="label">{auditLabel(a)}</Text>
                     <Text variant="caption" tone="muted">
                       {formatDateTime(a.at)} · {a.actor}
                     </Text>

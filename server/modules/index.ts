@@ -20,6 +20,7 @@ import { protectionRoutes } from './protection/protection.routes';
 import { approvalsRoutes } from './approvals/approvals.routes';
 import { signoffRoutes } from './signoff/signoff.routes';
 import { auditRoutes } from './audit-log/audit-log.routes';
+import { labSettingsRoutes } from './lab-settings/lab-settings.routes';
 
 /** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
 export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
@@ -43,6 +44,7 @@ export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
   approvalsRoutes,
   signoffRoutes,
   auditRoutes,
+  labSettingsRoutes,
 ];
 
 export function apiRouters(ctx: AppContext): ApiRouter[] {

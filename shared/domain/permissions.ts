@@ -44,6 +44,8 @@ export const PERMISSIONS = {
   'trends.read': ['admin', 'engineer', 'manager'],
   'rig.read': ['admin', 'engineer', 'operator', 'manager'],
   'rig.manage': ['admin'],
+  // The lab's hold temperatures (bias off, safe to open): admins, audited.
+  'lab-settings.manage': ['admin'],
   'telemetry.inspect': ['admin', 'engineer'],
   'user.manage': ['admin'],
   // Safety approvals: an engineer asks to run a plan despite a blocking finding; a second person

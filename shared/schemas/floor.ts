@@ -1,4 +1,5 @@
 /** Live floor API (/api/floor): rig tiles, a rig's socket board, its temperature chart. */
+import type { HoldPhase } from '../holds/sequence';
 import { z } from 'zod';
 import type { RunState } from '../domain/run-states';
 import { rigCodeInputSchema } from './rigs';
@@ -113,6 +114,8 @@ export interface FloorChart {
   bucketMs: number;
   chamber: ChartPoint[];
   sockets: Array<{ socket: number; points: ChartPoint[] }>;
+  /** Steps of read-point holds and ends of stress in the window (shared/holds): cooling under bias, bias off, … */
+  holdSteps: Array<{ t: string; runCode: string; step: HoldPhase }>;
 }
 
 /** Server-sent events on GET /api/floor/stream. */

@@ -3,6 +3,7 @@ import type { PlanKind } from './plans';
 import { DEVIATION_REASON_MIN } from '../evidence';
 
 import { RUN_STATES, type RunState } from '../domain/run-states';
+import type { HoldPhase } from '../holds/sequence';
 import type { ChamberBandK } from '../domain/standards';
 
 export { RUN_STATES, ON_RIG_STATES, DRIVEN_STATES, HEAT_STATES, TERMINAL_STATES, type RunState } from '../domain/run-states';
@@ -215,6 +216,9 @@ export interface Run {
   heatingSince: string | null;
   ambientReachedAt: string | null;
   biasRemovedAt: string | null;
+  /** Where a read-point hold or the end of stress stands (shared/holds); null outside them. */
+  holdPhase: HoldPhase | null;
+  holdPhaseSince: string | null;
   abortReason: string | null;
   override: { reason: string; byName: string | null } | null;
   allowedActions: RunAction[];

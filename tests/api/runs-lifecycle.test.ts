@@ -1,8 +1,9 @@
 /**
  * A whole short run driven by the scheduler through a fake RigLink, with synthetic telemetry rows
  * written straight into telemetry_batches / telemetry_samples (as ingest would): heating → ambient
- * → stressing → read point (bias off, hold) → measurements done → heating (ambient late: alarm
- * event) → stressing → a scheduler restart mid-run → a rig reboot → cooling → finished.
+ * → stressing → read point (cool under bias, then bias off: the hold's sequence, shared/holds) →
+ * measurements done → heating (ambient late: alarm event) → stressing → a scheduler restart mid-run
+ * → a rig reboot → cooling under bias → bias off → finished.
  * Hours are asserted exactly; after the restart no command is sent again.
  * Stress clock: 900 s per sample (0.25 h).
  */
@@ -169,7 +170,7 @@ describe('a run from heating to finished, driven by the scheduler', () => {
     expect(fake.sends[1].cmd).toMatchObject({ type: 'bias', on: true, sockets: [0, 1, 2], vV: 112 });
   });
 
-  it('accrues from the stored telemetry: out-of-band and unbiased intervals do not count, a tripped socket stops; read point 4 h → hold', async () => {
+  it('accrues from the stored telemetry: out-of-band and unbiased intervals do not count, a tripped socket stops; read point 4 h → hold, cooling under bias', async () => {
     // seq 5…23: chamber 150.5 °C (above the band's 150) at seq 15; socket 2 trips at seq 12.
     for (let s = 5; s <= 23; s++) {
       if (s === 12) fake.trip(2);
@@ -178,14 +179,34 @@ describe('a run from heating to finished, driven by the scheduler', () => {
     await step(scheduler);
     const r = await run();
     // Intervals 5→6 … 22→23 (18) minus 14→15 and 15→16 = 16 × 0.25 h; 4→5 had no bias yet.
-    expect(r).toMatchObject({ state: 'read-hold', stressHours: 4, accruedToSeq: 23, nextReadPoint: 2 });
-    expect(r.biasRemovedAt).not.toBeNull();
+    expect(r).toMatchObject({ state: 'read-hold', stressHours: 4, accruedToSeq: 23, nextReadPoint: 2, holdPhase: 'cool-under-bias' });
+    expect(r.biasRemovedAt).toBeNull();
     expect(await socketHours()).toEqual({ 0: 4, 1: 4, 2: 1.5 });
     const tripped = await t.ctx.ds.getRepository(RunSocketEntity).findOneByOrFail({ runId, socketIndex: 2 });
     expect(tripped.tripped).toBe(true);
-    expect(fake.sends.slice(2).map((x) => x.cmdId)).toEqual([`run:${runId}:off:rp1`, `run:${runId}:cool:rp1`]);
-    expect(fake.sends[2].cmd).toMatchObject({ type: 'bias', on: false, sockets: [0, 1, 2] });
-    expect(fake.sends[3].cmd).toMatchObject({ type: 'setpoint', setpointC: 25 });
+    // The chamber cools first; bias stays on [pub: MIL-M-38510/757C §4.5.2 — cool under bias].
+    expect(fake.sends.slice(2).map((x) => x.cmdId)).toEqual([`run:${runId}:cool:rp1`]);
+    expect(fake.sends[2].cmd).toMatchObject({ type: 'setpoint', setpointC: 25 });
+    expect(events.filter((e) => e.type === 'read-point-due')).toEqual([]);
+  });
+
+  it('the hold removes bias only at the lab\'s "remove bias at" temperature (35 °C by default); then the 96 h window starts', async () => {
+    await land([40]);
+    await step(scheduler);
+    expect(await run()).toMatchObject({ holdPhase: 'cool-under-bias', biasRemovedAt: null });
+    expect(fake.sends).toHaveLength(3);
+    expect([...fake.bias.values()].filter((b) => b.on)).toHaveLength(2); // sockets 0 and 1 still biased (2 tripped)
+    await land([35]);
+    await step(scheduler);
+    const r = await run();
+    expect(r.holdPhase).toBe('safe-to-open'); // 35 °C is also below the 40 °C safe-to-open default
+    expect(r.biasRemovedAt).not.toBeNull();
+    expect(fake.sends.slice(3).map((x) => x.cmdId)).toEqual([`run:${runId}:off:rp1`]);
+    expect(fake.sends[3].cmd).toMatchObject({ type: 'bias', on: false, sockets: [0, 1, 2] });
+    const phases = await t.ctx.ds
+      .getRepository(AuditLogEntity)
+      .find({ where: { entityId: runId, action: 'run.hold-phase' }, order: { id: 'ASC' } });
+    expect(phases.map((a) => [a.details.from, a.details.to, a.details.chamberC])).toEqual([['cool-under-bias', 'safe-to-open', 35]]);
     const due = events.filter((e) => e.type === 'read-point-due');
     expect(due).toEqual([
       expect.objectContaining({ runId, rigCode: 'OV-01', readPointH: 4, readPointIndex: 1, stressHours: 4, final: false }),
@@ -261,7 +282,7 @@ describe('a run from heating to finished, driven by the scheduler', () => {
   });
 
   it('nothing accrues during the hold; measurements done → heating again with a new set-point command', async () => {
-    await land([60, 40]);
+    // (The hold's two samples above, 40 and 35 °C, carried bias on sockets 0 and 1.)
     await step(scheduler);
     expect((await run()).stressHours).toBe(4);
     const op = await t.signIn('operator');
@@ -331,13 +352,16 @@ describe('a run from heating to finished, driven by the scheduler', () => {
     // 55→56 reboot: 0; 56→57 … 72→73: 17 × 0.25 = 4.25 h → 10 h exactly at seq 73.
     expect(r).toMatchObject({ state: 'cooling', stressHours: 10, accruedToSeq: 73, nextReadPoint: 3 });
     expect(await socketHours()).toEqual({ 0: 10, 1: 10, 2: 1.5 });
-    expect(fake.sends.slice(-2).map((x) => x.cmdId)).toEqual([`run:${runId}:off:end`, `run:${runId}:cool:end`]);
-    expect(events.filter((e) => e.type === 'read-point-due').pop()).toMatchObject({ readPointH: 10, readPointIndex: 2, final: true });
+    expect(fake.sends.slice(-1).map((x) => x.cmdId)).toEqual([`run:${runId}:cool:end`]);
+    expect(events.filter((e) => e.type === 'read-point-due').pop()).toMatchObject({ readPointH: 4, final: false });
     await land([80]);
     await step(scheduler);
-    expect((await run()).state).toBe('cooling'); // still too hot to open
-    await land([35]);
+    expect(await run()).toMatchObject({ state: 'cooling', holdPhase: 'cool-under-bias', biasRemovedAt: null }); // bias on, still too hot
+    await land([34]);
     await step(scheduler);
+    expect(fake.sends.slice(-1).map((x) => x.cmdId)).toEqual([`run:${runId}:off:end`]);
+    expect(events.filter((e) => e.type === 'read-point-due').pop()).toMatchObject({ readPointH: 10, readPointIndex: 2, final: true });
+    await step(scheduler); // the bias-off command is acknowledged: safe to open → finished
     const done = await run();
     expect(done.state).toBe('finished');
     expect(done.finishedAt).not.toBeNull();
@@ -361,11 +385,13 @@ describe('a run from heating to finished, driven by the scheduler', () => {
       'operator@test.example:run.start',
       'system:run.ambient-reached',
       'system:run.read-point',
+      'system:run.hold-phase',
       'system:run.read-point-overdue',
       'operator@test.example:run.measurements-done',
       'system:run.ambient-overdue',
       'system:run.ambient-reached',
       'system:run.stress-complete',
+      'system:run.hold-phase',
       'system:run.finish',
     ]);
     expect(events.filter((e) => e.type === 'state-changed').map((e) => (e as { to: string }).to)).toEqual([

@@ -1,7 +1,7 @@
 /**
  * A short run through the real pieces: the Emberlot broker, the server's telemetry feature (ingest
  * + RigLink over MQTT), the rig simulator on an accelerated clock and the scheduler (node-cron +
- * TELEMETRY_LANDED). Heating → stressing → read point (bias off at the rig) → measurements done →
+ * TELEMETRY_LANDED). Heating → stressing → read point (cooled under bias, then bias off at the rig) → measurements done →
  * scheduler restart mid-stress → cooling → finished. The hours after the restart equal the accrual
  * rule applied to the stored telemetry, and no cmdId reaches the rig twice.
  */
@@ -176,6 +176,14 @@ afterAll(async () => {
   await db?.drop();
 });
 
+async function waitAsync(cond: () => Promise<boolean>, label: string, timeoutMs = 5000): Promise<void> {
+  const deadline = Date.now() + timeoutMs;
+  while (!(await cond())) {
+    if (Date.now() > deadline) throw new Error(`timed out waiting for ${label}`);
+    await new Promise((r) => setTimeout(r, 20));
+  }
+}
+
 const operator = { id: randomUUID(), email: 'operator@test.example', name: 'Test operator', role: 'operator' as const };
 
 async function samplesBetween(fromSeq: number, toSeq: number): Promise<ClockSample[]> {
@@ -198,7 +206,7 @@ async function samplesBetween(fromSeq: number, toSeq: number): Promise<ClockSamp
   }));
 }
 
-test('heating → stressing → read point: the rig heats, biases, and drops bias at 4 h', async () => {
+test('heating → stressing → read point: the rig heats, biases, and at 4 h cools under bias before bias comes off', async () => {
   const svc = new RunsService(ctx);
   await svc.act(operator, runId, 'start', { rowVersion: (await run()).rowVersion });
   scheduler = newScheduler();
@@ -207,9 +215,26 @@ test('heating → stressing → read point: the rig heats, biases, and drops bia
   await until('read-hold');
   const r = await run();
   expect(r.stressHours).toBe(4); // the interval that crossed 4 h credited up to it (shareToTarget, shared/scheduling/accrual.ts)
-  await waitFor(() => rig.state().sockets.every((s) => !s.biasOn), 5000, 'bias off at the rig');
   await waitFor(() => rig.state().setpointC === 25, 5000, 'chamber to ambient');
-  expect(sent.map((x) => x.cmd.type)).toEqual(['setpoint', 'bias', 'bias', 'setpoint']);
+  await waitFor(() => rig.state().sockets.every((s) => !s.biasOn), 5000, 'bias off at the rig');
+  // The cool-down command went out before the bias-off command [pub: MIL-M-38510/757C §4.5.2].
+  expect(sent.map((x) => x.cmd.type)).toEqual(['setpoint', 'bias', 'setpoint', 'bias']);
+  await waitAsync(async () => (await run()).biasRemovedAt !== null, 'bias removal recorded');
+  // The stored telemetry shows the sequence: the chamber falls from the stress temperature with bias
+  // on, and bias is first seen off only at or below the lab's "remove bias at" 35 °C.
+  const [hold] = await db.ds.query(`SELECT details FROM audit_log WHERE entity_id = $1 AND action = 'run.read-point'`, [runId]);
+  await scheduler.idle();
+  await waitAsync(
+    async () => (await samplesBetween(Number(hold.details.seq), Number.MAX_SAFE_INTEGER)).some((x) => x.sockets.every((s) => !s.biasOn)),
+    'an unbiased sample stored',
+  );
+  const after = await samplesBetween(Number(hold.details.seq), Number.MAX_SAFE_INTEGER);
+  const firstOff = after.findIndex((x) => x.sockets.every((s) => !s.biasOn));
+  const biasedCooling = after.slice(0, firstOff);
+  expect(biasedCooling.every((x) => x.sockets.every((s) => s.biasOn))).toBe(true);
+  expect(Math.max(...biasedCooling.map((x) => x.chamberC))).toBeGreaterThan(120);
+  expect(Math.min(...biasedCooling.map((x) => x.chamberC))).toBeLessThan(60); // cooled well down while still biased
+  expect(after[firstOff].chamberC).toBeLessThanOrEqual(35);
 });
 
 test('measurements done → heats again; a scheduler restart mid-stress keeps exact hours and repeats no command', async () => {
@@ -242,7 +267,7 @@ test('measurements done → heats again; a scheduler restart mid-stress keeps ex
   expect(beforeLast.runH).toBeLessThan(12);
   expect(done.stressHours).toBe(12);
   // After the restart only the end-of-stress commands went out; no cmdId was ever sent twice.
-  expect(sent.slice(sentBefore).map((x) => x.cmdId)).toEqual([`run:${runId}:off:end`, `run:${runId}:cool:end`]);
+  expect(sent.slice(sentBefore).map((x) => x.cmdId)).toEqual([`run:${runId}:cool:end`, `run:${runId}:off:end`]);
   const ids = sent.map((x) => x.cmdId);
   expect(new Set(ids).size).toBe(ids.length);
   expect(rig.state().sockets.every((s) => !s.biasOn)).toBe(true);

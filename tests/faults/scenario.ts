@@ -551,7 +551,8 @@ export async function reconcile(
 
 /** The commands a run of this plan needs, in order, by the kind encoded in the scheduler's cmdId. */
 export function expectedCommandKinds(): string[] {
-  return ['heat', 'bias', 'off:rp1', 'cool:rp1', 'heat', 'bias', 'off:end', 'cool:end'];
+  // A hold cools under bias first, then removes bias (shared/holds).
+  return ['heat', 'bias', 'cool:rp1', 'off:rp1', 'heat', 'bias', 'cool:end', 'off:end'];
 }
 
 export function commandKind(runId: string, cmdId: string): string {

@@ -11,6 +11,7 @@ export * from './audit-log.entity';
 export * from './evidence.entity';
 export * from './telemetry-cycle.entity';
 export * from './signoff.entity';
+export * from './lab-settings.entity';
 
 import { UserEntity } from './user.entity';
 import { DeviceTypeEntity } from './device-type.entity';
@@ -31,6 +32,7 @@ import { AuditLogEntity } from './audit-log.entity';
 import { DeviceDispositionEntity } from './evidence.entity';
 import { TelemetryCycleEntity } from './telemetry-cycle.entity';
 import { OverrideRequestEntity, VerdictSignatureEntity } from './signoff.entity';
+import { LabSettingsEntity } from './lab-settings.entity';
 
 export const ENTITIES = [
   UserEntity,
@@ -61,4 +63,5 @@ export const ENTITIES = [
   TelemetryCycleEntity,
   OverrideRequestEntity,
   VerdictSignatureEntity,
+  LabSettingsEntity,
 ];

@@ -17,6 +17,7 @@ import { RigEntity } from './rig.entity';
 import { StressPlanEntity } from './stress-plan.entity';
 
 import type { RunState } from '../../../shared/domain/run-states';
+import type { HoldPhase } from '../../../shared/holds/sequence';
 
 /** Run lifecycle states: declared in shared/domain/run-states.ts. */
 export type { RunState };
@@ -81,6 +82,9 @@ export class RunEntity {
   @Column({ type: 'timestamptz', nullable: true }) heatingSince: Date | null;
   @Column({ type: 'timestamptz', nullable: true }) ambientReachedAt: Date | null;
   @Column({ type: 'timestamptz', nullable: true }) biasRemovedAt: Date | null;
+  /** Where a read-point hold or the end of stress stands (shared/holds HOLD_PHASES); null outside them. */
+  @Column({ type: 'varchar', length: 24, nullable: true }) holdPhase: HoldPhase | null;
+  @Column({ type: 'timestamptz', nullable: true }) holdPhaseSince: Date | null;
   @Column({ type: 'text', nullable: true }) abortReason: string | null;
   /** Engineer's written reason for booking despite a blocking plan-check finding. */
   @Column({ type: 'text', nullable: true }) overrideReason: string | null;

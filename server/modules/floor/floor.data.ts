@@ -142,6 +142,22 @@ export function hottestSockets(ds: DataSource, rigId: string): Promise<Array<{ s
 
 export type ChartRow = { socket: number; k: number; avg: number; min: number; max: number };
 
+/** Steps of read-point holds on a rig's runs between from and to (the audit trail): the chart marks them. */
+export async function holdStepRows(
+  ds: DataSource,
+  rigId: string,
+  from: Date,
+  to: Date,
+): Promise<Array<{ at: Date; action: string; to: string | null; code: string }>> {
+  return ds.query(
+    `SELECT a.at, a.action, a.details->>'to' AS "to", r.code FROM runs r
+     JOIN audit_log a ON a.entity = 'run' AND a.entity_id = r.id::text
+     WHERE r.rig_id = $1 AND a.action IN ('run.read-point', 'run.stress-complete', 'run.hold-phase') AND a.at >= $2 AND a.at <= $3
+     ORDER BY a.at, a.id LIMIT 100`,
+    [rigId, from, to],
+  );
+}
+
 /** A rig's chart rows, `points` buckets of `bucketMs` from `from`: raw samples or per-minute rollups. */
 export async function chartRows(
   ds: DataSource,

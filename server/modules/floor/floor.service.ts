@@ -29,7 +29,8 @@ import type { AppContext } from '../../context';
 import { notFound } from '../../http/errors';
 import { ALARM_EVENT, RUN_EVENT } from '../../events';
 import { runCycleTarget, socketCyclesOfRun } from '../runs/cycles.data';
-import { boardRows, chartRows, hottestSockets, newestBatchTs, readTileRows, rigIdRows, type TileRow } from './floor.data';
+import { HOLD_PHASES, type HoldPhase } from '../../../shared/holds/sequence';
+import { boardRows, chartRows, holdStepRows, hottestSockets, newestBatchTs, readTileRows, rigIdRows, type TileRow } from './floor.data';
 
 const round = (n: number, d = 2) => Math.round(n * 10 ** d) / 10 ** d;
 
@@ -182,6 +183,10 @@ export class FloorService {
       bucketMs: Math.round(bucketMs),
       chamber: series.get(-1) ?? [],
       sockets: sockets.map((socket) => ({ socket, points: series.get(socket) ?? [] })),
+      holdSteps: (await holdStepRows(this.ctx.ds, rigId, from, to)).flatMap((r) => {
+        const step: HoldPhase | null = r.action === 'run.hold-phase' ? (HOLD_PHASES.find((p) => p === r.to) ?? null) : 'cool-under-bias';
+        return step ? [{ t: new Date(r.at).toISOString(), runCode: r.code, step }] : [];
+      }),
     };
   }
 }

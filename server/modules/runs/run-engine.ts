@@ -342,7 +342,7 @@ async function saveCycles(m: EntityManager, run: RunEntity, c: CycleFold): Promi
   );
 }
 
-/** The end of stress (→ cooling) or a read point (→ read-hold) with its read-point-due event. */
+/** The end of stress (→ cooling) or a read point (→ read-hold). */
 async function stopEvents(
   m: EntityManager,
   deps: EngineDeps,
@@ -355,8 +355,9 @@ async function stopEvents(
 ): Promise<PendingEvent[]> {
   const { hours, lastSeq, holdIndex } = f;
   const events: PendingEvent[] = [];
+  // Bias stays on here: the hold's sequence (shared/holds, scheduler.ts) cools under bias first and
+  // records biasRemovedAt (and the read-point-due event) when bias comes off.
   if (f.outcome === 'cooling') {
-    const finalIdx = rps.findIndex((h) => h >= plan.durationH);
     events.push(
       await transitionRun(
         m,
@@ -364,7 +365,7 @@ async function stopEvents(
         run,
         rig,
         'cooling',
-        { nextReadPoint: rps.length, biasRemovedAt: now },
+        { nextReadPoint: rps.length, biasRemovedAt: null, holdPhase: 'cool-under-bias', holdPhaseSince: now },
         {
           actor: 'system',
           action: 'run.stress-complete',
@@ -377,7 +378,6 @@ async function stopEvents(
         },
       ),
     );
-    events.push(readPointDue(run, rig, finalIdx >= 0 ? rps[finalIdx] : plan.durationH, finalIdx, hours, now, true));
   } else if (f.outcome === 'read-hold') {
     events.push(
       await transitionRun(
@@ -386,7 +386,7 @@ async function stopEvents(
         run,
         rig,
         'read-hold',
-        { nextReadPoint: holdIndex + 1, biasRemovedAt: now },
+        { nextReadPoint: holdIndex + 1, biasRemovedAt: null, holdPhase: 'cool-under-bias', holdPhaseSince: now },
         {
           actor: 'system',
           action: 'run.read-point',
@@ -394,7 +394,6 @@ async function stopEvents(
         },
       ),
     );
-    events.push(readPointDue(run, rig, rps[holdIndex], holdIndex, hours, now, false));
   }
   return events;
 }
@@ -442,7 +441,8 @@ export async function accrueStep(
   };
 }
 
-function readPointDue(
+/** Bias came off at a read point (the hold's sequence, scheduler.ts): measure by `at` + 96 h. */
+export function readPointDue(
   run: RunEntity,
   rig: RigEntity,
   readPointH: number,

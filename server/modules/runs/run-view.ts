@@ -112,6 +112,8 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
       heatingSince: iso(r.heatingSince),
       ambientReachedAt: iso(r.ambientReachedAt),
       biasRemovedAt: iso(r.biasRemovedAt),
+      holdPhase: r.state === 'read-hold' || r.state === 'cooling' ? r.holdPhase : null,
+      holdPhaseSince: r.state === 'read-hold' || r.state === 'cooling' ? iso(r.holdPhaseSince) : null,
       abortReason: r.abortReason,
       override: r.overrideReason
         ? { reason: r.overrideReason, byName: r.overrideById ? (users.get(r.overrideById)?.name ?? null) : null }

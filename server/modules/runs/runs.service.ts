@@ -18,6 +18,7 @@ import {
   type TimingOptions,
 } from '../../../shared/scheduling';
 import { DRIVEN_STATES } from '../../../shared/domain/run-states';
+import { BIASED_HOLD_PHASES } from '../../../shared/holds/sequence';
 import { chamberSetpointC } from '../../../shared/domain/standards';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import {
@@ -792,13 +793,18 @@ export class RunsService {
     const { m, actor, run, rig, plan, reason } = a;
     const rps = [...plan.readPointsH].sort((x, y) => x - y);
     const at = rps[run.nextReadPoint - 1];
+    if (run.holdPhase && BIASED_HOLD_PHASES.includes(run.holdPhase)) {
+      throw conflict(
+        `Run ${run.code} is still under bias (${run.holdPhase === 'oven-shared' ? 'held hot: the oven is shared with a run under stress' : 'cooling under bias'}); measure after bias comes off.`,
+      );
+    }
     return transitionRun(
       m,
       this.deps,
       run,
       rig,
       'heating',
-      { ambientReachedAt: null, ...(await this.reheat(a)) },
+      { ambientReachedAt: null, holdPhase: null, holdPhaseSince: null, ...(await this.reheat(a)) },
       {
         actor,
         action: 'run.measurements-done',

@@ -5,6 +5,7 @@
 import { MEASURE_PENDING_STATES, sqlStateList } from '../../../shared/domain/run-states';
 import { In, IsNull, MoreThan, Not, type EntityManager } from 'typeorm';
 import { DRIVEN_STATES, HEAT_STATES, type RunState } from '../../../shared/schemas/runs';
+import type { HoldPhase } from '../../../shared/holds/sequence';
 import { AuditLogEntity, RigEntity, RunEntity, RunSocketEntity, StressPlanEntity } from '../../db/entities';
 
 /** Runs the scheduler drives: every driven state, and aborted runs that started, until `abortedSince`. */
@@ -77,6 +78,31 @@ export function findPlan(m: EntityManager, planId: string): Promise<StressPlanEn
 /** Does another run in this oven need the chamber hot? */
 export async function otherRunNeedsHeat(m: EntityManager, rigId: string, runId: string): Promise<boolean> {
   return (await m.count(RunEntity, { where: { rigId, id: Not(runId), state: In([...HEAT_STATES]) } })) > 0;
+}
+
+/** The codes of the other runs in this oven that need the chamber hot. */
+export async function otherRunsNeedingHeat(m: EntityManager, rigId: string, runId: string): Promise<string[]> {
+  const rows = await m.find(RunEntity, { where: { rigId, id: Not(runId), state: In([...HEAT_STATES]) }, order: { code: 'ASC' } });
+  return rows.map((r) => r.code);
+}
+
+/**
+ * A hold's new phase (shared/holds); `biasRemovedAt` when bias comes off now. Not a state change:
+ * no row_version bump, so people's actions on the run stay valid.
+ */
+export async function setHoldPhase(
+  m: EntityManager,
+  runId: string,
+  phase: HoldPhase,
+  since: Date,
+  biasRemovedAt: Date | null,
+): Promise<void> {
+  await m.query(`UPDATE runs SET hold_phase = $2, hold_phase_since = $3, bias_removed_at = COALESCE($4, bias_removed_at) WHERE id = $1`, [
+    runId,
+    phase,
+    since,
+    biasRemovedAt,
+  ]);
 }
 
 export function runSockets(m: EntityManager, runId: string): Promise<RunSocketEntity[]> {

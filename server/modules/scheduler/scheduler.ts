@@ -5,10 +5,14 @@
  *               is within ±3 % of set; 'ambient-not-reached' after 5 stress-clock hours;
  *   stressing — bias on for the run's sockets (run:<id>:bias:<phase>); accrue hours from the
  *               database; at a read point → read-hold, at the plan's hours → cooling;
- *   paused / read-hold / cooling / just aborted — bias off (run:<id>:off:…); the chamber goes to
- *               ambient when no other run in the oven needs the heat (run:<id>:cool:…);
- *   cooling   — → finished once bias is off and the chamber is at or below 40 °C (or the oven
- *               stays hot for another run).
+ *   read-hold / cooling — the hold's sequence (shared/holds): cool under bias (run:<id>:cool:…) to
+ *               the lab's "remove bias at" temperature, humidity plans dew-point safe; then bias off
+ *               (run:<id>:off:…, biasRemovedAt, read-point-due); then cool to the lab's safe-to-open
+ *               temperature. While another run in the oven needs it hot, the hold waits under bias;
+ *   paused / just aborted — bias off (run:<id>:off:…); the chamber goes to ambient when no other
+ *               run in the oven needs the heat (run:<id>:cool:…);
+ *   cooling   — → finished once the chamber is safe to open (or bias is off and the oven stays
+ *               hot for another run).
  * Before any command it compares the rig's last stored report with what it wants, so a restarted
  * server sends nothing the rig already did — but a report older than a command of the same kind
  * still on its way (or acked after the report) does not count (CommandTracker.reportReflects). It also re-plans booked runs when a rig goes offline
@@ -26,8 +30,11 @@ import {
   type Job,
   when,
 } from '../../../shared/scheduling';
-import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H, ROOM_AMBIENT_C as AMBIENT_C, chamberSetpointC } from '../../../shared/domain/standards';
+import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H, chamberSetpointC } from '../../../shared/domain/standards';
 import type { RunState } from '../../../shared/schemas/runs';
+import { dewPointC } from '../../../shared/holds/dew-point';
+import { coolingSetpointC, holdStep, type HoldDecision, type HoldInput } from '../../../shared/holds/sequence';
+import { readHoldSettings } from '../lab-settings/lab-settings.data';
 import type { AppContext } from '../../context';
 import type { RigEntity, RunEntity, StressPlanEntity } from '../../db/entities';
 import { MEASURE_WITHIN_H, emitRunEvent } from '../runs/run-events';
@@ -36,11 +43,11 @@ import { loadSchedulingInputs, projectedWindow, timingFrom } from '../runs/sched
 import { RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigStatusChanged } from '../../events';
 import type { RigCommandBody, RigLink } from '../telemetry/contracts';
 import { CommandTracker } from './commands';
-import { accrueStep, heatingStep, transitionRun, type EngineDeps, type StepOutcome } from '../runs/run-engine';
+import { accrueStep, heatingStep, readPointDue, transitionRun, type EngineDeps, type StepOutcome } from '../runs/run-engine';
 import { clockElapsedS, latestBatch, socketSamples, type BatchRow } from '../runs/telemetry-reads';
+import type { SocketSample } from '../../../shared/scheduling';
 import * as data from './scheduler.data';
 
-export const COOL_SAFE_C = 40;
 /** Aborted runs keep being made safe (bias off) for this long after the abort. */
 const ABORT_SAFE_WINDOW_MS = 24 * 3_600_000;
 
@@ -248,6 +255,7 @@ export class RunScheduler {
         const { run, plan, rig } = locked;
         if (run.state === 'heating') return heatingStep(m, this.deps, run, plan, rig);
         if (run.state === 'stressing') return accrueStep(m, this.deps, run, plan, rig);
+        if (run.state === 'read-hold') return this.holdPhaseStep(m, run, plan, rig);
         if (run.state === 'cooling') return this.coolingStep(m, run, plan, rig);
         return null;
       });
@@ -308,14 +316,31 @@ export class RunScheduler {
               }),
           }
         : null;
+    const hold = async (key: string): Promise<void> => {
+      const d = holdStep((await this.holdInput(m, run, plan, rig, latest, readings)).input);
+      if (d.chamber) out.push(this.holdChamberWant(run, plan, key, d.chamber, latest));
+      const o = d.biasOff ? off(key) : null;
+      if (o) out.push(o);
+    };
+    // An aborted run cools at once, a humidity plan's chamber still no lower than its dew point + margin (shared/holds).
     const cool = async (phase: string): Promise<Want | null> =>
       (await this.ovenShared(run))
         ? null
-        : {
-            cmdId: `run:${run.id}:cool:${phase}`,
-            cmd: { type: 'setpoint', setpointC: AMBIENT_C, ...(plan.humidityPct !== null ? { humidityPct: null } : {}) },
-            satisfied: !!latest && latest.setpointC <= AMBIENT_C + 0.05,
-          };
+        : this.holdChamberWant(
+            run,
+            plan,
+            phase,
+            {
+              setpointC: coolingSetpointC({
+                chamberC: latest?.chamberC ?? null,
+                humidityPct: latest?.humidityPct ?? null,
+                humidityControlled: plan.humidityPct !== null,
+                planChamberC: chamberSetpointC(plan.chamberC, plan.chamberBand),
+              }),
+              humidityOff: plan.humidityPct !== null,
+            },
+            latest,
+          );
     switch (run.state as RunState) {
       case 'heating':
         out.push(heat());
@@ -336,14 +361,12 @@ export class RunScheduler {
         if (o) out.push(o);
         break;
       }
-      case 'read-hold': {
-        const o = off(`rp${run.nextReadPoint - 1}`);
-        if (o) out.push(o);
-        const c = await cool(`rp${run.nextReadPoint - 1}`);
-        if (c) out.push(c);
+      case 'read-hold':
+        await hold(`rp${run.nextReadPoint - 1}`);
         break;
-      }
       case 'cooling':
+        await hold('end');
+        break;
       case 'aborted': {
         const o = off('end');
         if (o) out.push(o);
@@ -358,22 +381,112 @@ export class RunScheduler {
     return out;
   }
 
-  /** Cooling → finished once the bias is off and the chamber is safe to open (or kept hot for another run). */
-  private async coolingStep(m: EntityManager, run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<StepOutcome> {
+  /** The hold's inputs from the rig's latest report (and the other runs that keep the oven hot). */
+  private async holdInput(
+    m: EntityManager,
+    run: RunEntity,
+    plan: StressPlanEntity,
+    rig: RigEntity,
+    latest: BatchRow | null,
+    readings: SocketSample[],
+  ): Promise<{ input: HoldInput; others: string[] }> {
+    const others = await data.otherRunsNeedingHeat(m, rig.id, run.id);
+    const sockets = new Set((await data.runSockets(m, run.id)).map((s) => s.socketIndex));
+    const anyBiased = !!latest && readings.some((r) => sockets.has(r.socket) && r.biasOn && !r.tripped);
+    return {
+      others,
+      input: {
+        phase: run.holdPhase,
+        chamberC: latest?.chamberC ?? null,
+        humidityPct: latest?.humidityPct ?? null,
+        anyBiased,
+        ovenNeededHot: others.length > 0,
+        planChamberC: chamberSetpointC(plan.chamberC, plan.chamberBand),
+        humidityControlled: plan.humidityPct !== null,
+        settings: await readHoldSettings(m),
+      },
+    };
+  }
+
+  /** The chamber command of a hold: one cmdId per hold for a dry plan, one per ramp step for a humidity plan. */
+  private holdChamberWant(
+    run: RunEntity,
+    plan: StressPlanEntity,
+    key: string,
+    c: NonNullable<HoldDecision['chamber']>,
+    latest: BatchRow | null,
+  ): Want {
+    const humid = plan.humidityPct !== null;
+    return {
+      cmdId: `run:${run.id}:cool:${key}${humid ? `:${Math.round(c.setpointC)}` : ''}`,
+      cmd: { type: 'setpoint', setpointC: c.setpointC, ...(c.humidityOff ? { humidityPct: null } : {}) },
+      // Reports carry no humidity set point: a command that turns humidity off is sent (once per cmdId) regardless.
+      satisfied: !c.humidityOff && !!latest && Math.abs(latest.setpointC - c.setpointC) < 0.05,
+    };
+  }
+
+  /**
+   * A hold's phase from the rig's latest report (locked with the run): stored when it changes,
+   * audited; when bias comes off, biasRemovedAt and the read-point-due event (the 96 h window
+   * starts then, not at the read point).
+   */
+  private async holdPhaseStep(
+    m: EntityManager,
+    run: RunEntity,
+    plan: StressPlanEntity,
+    rig: RigEntity,
+  ): Promise<StepOutcome & { decision: HoldDecision; input: HoldInput; latest: BatchRow | null; others: string[] }> {
     const latest = await latestBatch(m, rig.id);
     const sockets = (await data.runSockets(m, run.id)).map((s) => s.socketIndex);
     const readings = latest ? ((await socketSamples(m, rig.id, latest.seq, latest.seq, sockets)).get(latest.seq) ?? []) : [];
-    const biasOff =
-      this.commands.acked(`run:${run.id}:off:end`) ||
-      (!!latest &&
-        latest.seq > run.accruedToSeq &&
-        sockets.every((k) => {
-          const r = readings.find((x) => x.socket === k);
-          return !r || !r.biasOn || r.tripped;
-        }));
-    if (!biasOff) return { changed: false, events: [] };
-    const shared = await data.otherRunNeedsHeat(m, rig.id, run.id);
-    if (!shared && !(latest && latest.chamberC <= COOL_SAFE_C)) return { changed: false, events: [] };
+    const { input, others } = await this.holdInput(m, run, plan, rig, latest, readings);
+    const decision = holdStep(input);
+    if (decision.phase === run.holdPhase) return { changed: false, events: [], decision, input, latest, others };
+    const now = this.ctx.now();
+    const biasComesOff = decision.biasOff && !run.biasRemovedAt;
+    await data.setHoldPhase(m, run.id, decision.phase, now, biasComesOff ? now : null);
+    const dew =
+      input.chamberC !== null && input.humidityPct !== null && input.humidityPct > 0 ? dewPointC(input.chamberC, input.humidityPct) : null;
+    await this.ctx.audit.record(
+      {
+        actor: 'system',
+        action: 'run.hold-phase',
+        entity: 'run',
+        entityId: run.id,
+        reason: decision.phase === 'oven-shared' ? `The oven is kept hot for ${others.join(', ')}: the hold waits under bias.` : null,
+        details: {
+          from: run.holdPhase,
+          to: decision.phase,
+          chamberC: input.chamberC,
+          humidityPct: input.humidityPct,
+          dewPointC: dew,
+          ...input.settings,
+          ...(others.length ? { ovenKeptHotFor: others } : {}),
+        },
+      },
+      m,
+    );
+    const events: StepOutcome['events'] = [];
+    if (biasComesOff) {
+      const rps = sortedReadPoints(plan);
+      const final = run.state === 'cooling';
+      const idx = final ? rps.findIndex((h) => h >= plan.durationH) : run.nextReadPoint - 1;
+      const readPointH = final ? (idx >= 0 ? rps[idx] : plan.durationH) : rps[idx];
+      events.push(readPointDue(run, rig, readPointH, idx, run.stressHours, now, final));
+      run.biasRemovedAt = now;
+    }
+    run.holdPhase = decision.phase;
+    run.holdPhaseSince = now;
+    return { changed: true, events, decision, input, latest, others };
+  }
+
+  /** Cooling → finished once the chamber is safe to open, or bias is off and the oven stays hot for another run. */
+  private async coolingStep(m: EntityManager, run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<StepOutcome> {
+    const step = await this.holdPhaseStep(m, run, plan, rig);
+    const { decision, input, latest, others } = step;
+    const biasOff = this.commands.acked(`run:${run.id}:off:end`) || (!!latest && latest.seq > run.accruedToSeq && !input.anyBiased);
+    const done = decision.biasOff && biasOff && (decision.phase === 'safe-to-open' || others.length > 0);
+    if (!done) return { changed: step.changed, events: step.events };
     const ev = await transitionRun(
       m,
       this.deps,
@@ -384,10 +497,15 @@ export class RunScheduler {
       {
         actor: 'system',
         action: 'run.finish',
-        details: { stressHours: run.stressHours, targetH: plan.durationH, chamberC: latest?.chamberC ?? null, ovenKeptHot: shared },
+        details: {
+          stressHours: run.stressHours,
+          targetH: plan.durationH,
+          chamberC: latest?.chamberC ?? null,
+          ovenKeptHot: others.length > 0,
+        },
       },
     );
-    return { changed: true, to: 'finished', events: [ev] };
+    return { changed: true, to: 'finished', events: [...step.events, ev] };
   }
 
   /** 'ambient-not-reached' once per heating phase when 5 stress-clock hours pass without the band. */

@@ -4,6 +4,7 @@ import { operatorCycling } from './cycling';
 import { engineerPlanBook } from './engineer';
 import { engineerSplitSample, operatorReadPointEvidence } from './evidence';
 import { adminPeople, signInErrors, signInEveryRole } from './foundation';
+import { holdsReadPoint } from './holds';
 import { managerTrends } from './manager';
 import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
@@ -36,5 +37,6 @@ export const JOURNEYS: Journey[] = [
   // Corrects a 168 h reading of HG2612-C (in progress): after every journey that reads that lot.
   operatorCorrectReading,
   signoffApprovalsAudit,
+  holdsReadPoint,
   adminRigs,
 ];
