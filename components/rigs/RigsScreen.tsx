@@ -20,6 +20,7 @@ import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { MaintenancePanel } from './MaintenancePanel';
+import { ServiceDatesPanel } from './ServiceDatesPanel';
 import { RegisterRigForm } from './RegisterRigForm';
 import { SecretReveal } from './SecretReveal';
 
@@ -284,6 +285,7 @@ export function RigsScreen() {
         )}
       </QueryState>
       {maintFor ? <MaintenancePanel rig={maintFor} canEdit={canManage} onClose={() => setMaintFor(null)} /> : null}
+      {maintFor ? <ServiceDatesPanel rig={rigs.data?.find((r) => r.id === maintFor.id) ?? maintFor} canEdit={canManage} /> : null}
       <IngestHealth />
       <SafetyCaution compact />
 

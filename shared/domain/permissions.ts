@@ -25,6 +25,7 @@ export const PERMISSIONS = {
   'run.resume': ['operator', 'engineer'],
   'run.measurements-done': ['operator', 'engineer'],
   'run.abort': ['operator', 'engineer'],
+  'run.retry': ['operator', 'engineer'],
   'alarm.acknowledge': ['operator', 'engineer', 'admin'],
   // Lot-verdict evidence: the floor and engineers record dispositions; withdrawing one or letting a
   // flagged reading be judged is an engineer's call.

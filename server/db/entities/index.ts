@@ -13,7 +13,7 @@ export * from './evidence.entity';
 import { UserEntity } from './user.entity';
 import { DeviceTypeEntity } from './device-type.entity';
 import { DeviceEntity, LotEntity } from './lot.entity';
-import { RigEntity, RigMaintenanceEntity } from './rig.entity';
+import { RigEntity, RigMaintenanceEntity, RigServiceRecordEntity } from './rig.entity';
 import { StressPlanEntity } from './stress-plan.entity';
 import { RunEntity, RunLotEntity, RunSocketEntity, SampleEntity } from './run.entity';
 import {
@@ -52,4 +52,5 @@ export const ENTITIES = [
   AuditLogEntity,
   SampleEntity,
   DeviceDispositionEntity,
+  RigServiceRecordEntity,
 ];

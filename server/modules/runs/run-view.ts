@@ -109,6 +109,7 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
       ambientReachedAt: iso(r.ambientReachedAt),
       biasRemovedAt: iso(r.biasRemovedAt),
       abortReason: r.abortReason,
+      fault: r.faultAt && r.faultReason ? { at: r.faultAt.toISOString(), reason: r.faultReason } : null,
       override: r.overrideReason
         ? { reason: r.overrideReason, byName: r.overrideById ? (users.get(r.overrideById)?.name ?? null) : null }
         : null,
