@@ -48,21 +48,25 @@ export async function reportSockets(
   }
 }
 
-/** A time-zero (0 h) reading for every device loaded in the run (or for the first `only` of them). */
+/** A time-zero (0 h) reading for every device loaded in the run (or the first `only` of them) that has none yet. */
 export async function recordTimeZero(ds: DataSource, runId: string, only?: number): Promise<number> {
   const loaded = await ds.getRepository(RunSocketEntity).find({ where: { runId }, order: { socketIndex: 'ASC' } });
-  const rows = loaded.slice(0, only ?? loaded.length).map((s) => ({
-    runId,
-    deviceId: s.deviceId,
-    readPointH: 0,
-    hfe: 120,
-    hfeIcA: 0.15,
-    hfeVceV: 10,
-    icboA: 2e-8,
-    icboVcbV: 100,
-    measuredC: 25,
-    measuredAt: new Date(),
-  }));
+  const have = new Set((await ds.getRepository(MeasurementEntity).find({ where: { runId, readPointH: 0 } })).map((x) => x.deviceId));
+  const rows = loaded
+    .slice(0, only ?? loaded.length)
+    .filter((s) => !have.has(s.deviceId))
+    .map((s) => ({
+      runId,
+      deviceId: s.deviceId,
+      readPointH: 0,
+      hfe: 120,
+      hfeIcA: 0.15,
+      hfeVceV: 10,
+      icboA: 2e-8,
+      icboVcbV: 100,
+      measuredC: 25,
+      measuredAt: new Date(),
+    }));
   if (rows.length) await ds.getRepository(MeasurementEntity).insert(rows);
   return rows.length;
 }
