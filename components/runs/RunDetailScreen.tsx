@@ -203,6 +203,7 @@ function Actions({ run, may }: { run: RunDetail; may: (a: RunAction) => boolean 
             variant={a === 'start' || a === 'resume' || a === 'measurements-done' || a === 'retry' ? 'primary' : 'secondary'}
             busy={act.isPending && act.variables?.action === a}
             busyLabel="Working…"
+            disabled={a === 'start' && run.loadedCount !== run.sampleSize}
             onPress={() => {
               act.reset();
               if (a === 'start') setStartOpen(true);

@@ -27,6 +27,17 @@ export interface CommandOutcome {
 /** The rig's ok:false answer: reported at once (a resend gets the same answer), unlike a missing ack. */
 class RefusedByRig extends Error {}
 
+/**
+ * The rig's own words when it refused: an ok:false ack, or the MQTT link's RigCommandError with
+ * reason 'refused' (it rejects instead of resolving); null for a missing answer.
+ */
+function refusal(err: unknown): string | null {
+  if (err instanceof RefusedByRig) return err.message;
+  const e = err as { reason?: unknown; rigError?: unknown; message?: unknown } | null;
+  if (e && e.reason === 'refused') return typeof e.rigError === 'string' ? e.rigError : String(e.message ?? 'the rig refused the command');
+  return null;
+}
+
 /** Retry after 2, 4, 8 … s, at most a minute apart. */
 export const backoffMs = (attempts: number) => Math.min(60_000, 1000 * 2 ** attempts);
 /** Report a command the rig did not answer after this many attempts (and every 10 after); a refusal at once. */
@@ -87,8 +98,9 @@ export class CommandTracker {
         newest.status = 'failed';
         entry.status = 'failed';
         entry.lastAt = this.now();
-        entry.error = err instanceof Error ? err.message : String(err);
-        const refused = err instanceof RefusedByRig;
+        const refusedWith = refusal(err);
+        entry.error = refusedWith ?? (err instanceof Error ? err.message : String(err));
+        const refused = refusedWith !== null;
         const first = refused ? 1 : REPORT_AFTER_ATTEMPTS;
         if (attempts === first || (attempts > first && (attempts - first) % 10 === 0)) {
           this.onFailure({ cmdId, rigCode, ok: false, attempts, error: entry.error, refused }, cmd);
