@@ -6,6 +6,7 @@ import { adminPeople, signInErrors, signInEveryRole } from './foundation';
 import { managerTrends } from './manager';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
+import { operatorStartPermit } from './start-permit';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -23,5 +24,7 @@ export const JOURNEYS: Journey[] = [
   // readings this one shows as an incomplete read point.
   managerLotVerdicts,
   operatorReadPointEvidence,
+  // Books and starts a run on OV-04 (idle in the demo): after every journey that reads the schedule.
+  operatorStartPermit,
   adminRigs,
 ];
