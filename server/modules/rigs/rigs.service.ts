@@ -5,7 +5,7 @@ import type { SessionUser } from '../../../shared/schemas/auth';
 import { interlockDueAt } from '../../../shared/domain/standards';
 import {
   rigMqttUsernameFor,
-  type RigServiceKind,
+  RIG_SERVICE_KINDS,
   type RigServiceRecord,
   type ServiceRecordInput,
   type CreateRigInput,
@@ -212,7 +212,7 @@ export class RigsService {
     return rows.map((r) => ({
       id: r.id,
       rigCode: rig.code,
-      kind: r.kind as RigServiceKind,
+      kind: RIG_SERVICE_KINDS.find((k) => k === r.kind) ?? 'calibration',
       doneAt: r.doneAt.toISOString(),
       dueAt: r.dueAt?.toISOString() ?? null,
       note: r.note,

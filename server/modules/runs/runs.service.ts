@@ -17,7 +17,6 @@ import {
   type RunNeeds,
   type TimingOptions,
 } from '../../../shared/scheduling';
-import { DRIVEN_STATES } from '../../../shared/domain/run-states';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import {
   allowedActions,
@@ -103,9 +102,6 @@ const needsOf = (plan: StressPlanEntity, sampleSize: number): RunNeeds => ({
   durationH: plan.durationH,
   readPointsH: plan.readPointsH,
 });
-
-const condition = (p: Pick<StressPlanEntity, 'chamberC' | 'humidityPct'>) =>
-  p.humidityPct === null ? `${+p.chamberC.toFixed(2)} °C` : `${+p.chamberC.toFixed(2)} °C / ${+p.humidityPct.toFixed(2)} % RH`;
 
 /**
  * How far booking may follow a proposed start that slid (see book): 1 clock hour, or 5 % of the
