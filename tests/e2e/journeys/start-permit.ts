@@ -27,8 +27,9 @@ async function json<T>(
  * then, with the readings stored, the confirmation with the plan's temperature and voltage and the
  * high-voltage / hot-oven caution. The powered plan's regulated-current bias is refused by the
  * reverse-bias board: the run goes into the fault state, the page shows the banner and "Rig fault"
- * instead of "Under stress", and offers Retry after fix. Uses lot HG2610-E serials E0121–E0124,
- * which no other journey reads; runs after every journey that reads OV-04 or the schedule.
+ * instead of "Under stress", and offers Retry after fix; the run is then aborted (both sizes share the
+ * stack). Uses lot HG2610-E serials E0121–E0128, which no other journey reads; runs after every
+ * journey that reads OV-04 or the schedule.
  */
 export const operatorStartPermit: Journey = {
   name: 'operator-start-permit',
@@ -58,7 +59,8 @@ export const operatorStartPermit: Journey = {
       }),
       'booking',
     );
-    const serials = ['E0121', 'E0122', 'E0123', 'E0124'];
+    const first = j.size === 'phone' ? 121 : 125;
+    const serials = [0, 1, 2, 3].map((k) => `E0${first + k}`);
     const op = await apiAs(j.baseUrl, DEMO.operator);
     await json(
       op.put(`/api/runs/${booked.id}/sockets`, {
@@ -80,7 +82,7 @@ export const operatorStartPermit: Journey = {
     const timeZero = page.getByTestId('permit-time-zero');
     await expect(timeZero).toContainText('Missing');
     await expect(timeZero).toContainText(
-      '4 of 4 loaded devices have no time-zero (0 h) reading: E0121 (socket 0), E0122 (socket 1), E0123 (socket 2), E0124 (socket 3).',
+      `4 of 4 loaded devices have no time-zero (0 h) reading: ${serials.map((s, k) => `${s} (socket ${k})`).join(', ')}.`,
     );
     await expect(page.getByTestId('permit-sockets')).toContainText(
       /OV-04 reports 4 sockets \(0–3\) in its latest telemetry .*; all 4 loaded sockets are among them\./,
@@ -143,6 +145,17 @@ export const operatorStartPermit: Journey = {
     await expect(page.getByTestId('rig-tile-OV-04')).toContainText('Rig fault');
     await page.getByTestId('rig-tile-OV-04').scrollIntoViewIfNeeded();
     await j.shot('floor-rig-fault');
+
+    // Both sizes share the stack: the run leaves the fault state by abort (with a reason), which
+    // frees OV-04's sockets for the next size.
+    const now = await json<{ rowVersion: number }>(op.get(`/api/runs/${booked.id}`), 'run');
+    const aborted = await json<{ state: string }>(
+      op.post(`/api/runs/${booked.id}/abort`, {
+        data: { rowVersion: now.rowVersion, reason: 'Reverse-bias board fitted; the powered board is not available.' },
+      }),
+      'abort',
+    );
+    if (aborted.state !== 'aborted') throw new Error(`abort left the run ${aborted.state}`);
     await eng.dispose();
     await op.dispose();
   },
