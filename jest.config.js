@@ -32,7 +32,13 @@ module.exports = {
       displayName: 'app',
       preset: 'jest-expo',
       roots: ['<rootDir>/tests/app'],
-      moduleNameMapper: { '\\.woff2$': '<rootDir>/tests/app/support/asset-stub.js', '^@/(.*)$': '<rootDir>/$1' },
+      moduleNameMapper: {
+        '\\.woff2$': '<rootDir>/tests/app/support/asset-stub.js',
+        // jest runs no dynamic import() without --experimental-vm-modules: screens get the forms
+        // directly (the lazy path is exercised by the browser journeys).
+        '^@/components/forms/LazyForms$': '<rootDir>/components/forms/form-kit.ts',
+        '^@/(.*)$': '<rootDir>/$1',
+      },
     },
   ],
 };

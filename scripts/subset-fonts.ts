@@ -3,7 +3,8 @@
  * Latin (Basic, Latin-1, Extended-A), the punctuation, arrows, Greek and maths signs of the trade
  * (°, µ, Ω, ±, −, ≤, ≥, β, θ, Δ…) and every character in the app's own source. A character outside the
  * set still shows, in the system face (browsers fall back per character). The three faces drop from
- * 3 × 78 KB of TTF to a fraction of that on the wire; the output is committed (assets/fonts) so no
+ * 3 × 78 KB of TTF to a fraction of that on the wire, each in a core and an extension file
+ * (components/theme/font-subsets.ts); the output is committed (assets/fonts) so no
  * install or export step needs this script's WebAssembly.
  * Source: @expo-google-fonts/lexend (SIL Open Font License 1.1, which permits subsetting; LICENSE beside
  * the output).
@@ -11,6 +12,7 @@
 import * as fs from 'node:fs';
 import * as path from 'node:path';
 import subsetFont from 'subset-font';
+import { isCoreCodePoint } from '../components/theme/font-subsets';
 
 const ROOT = path.join(__dirname, '..');
 const FACES = ['400Regular', '500Medium', '600SemiBold'] as const;
@@ -54,11 +56,20 @@ async function main(): Promise<void> {
   const text = fontText();
   const pkg = path.dirname(require.resolve('@expo-google-fonts/lexend/package.json'));
   fs.mkdirSync(FONT_DIR, { recursive: true });
+  // Two files per weight, split by character (components/theme/font-subsets.ts): the core one loads
+  // with every screen, the extension only when a screen shows one of its characters.
+  const core = [...text].filter((ch) => isCoreCodePoint(ch.codePointAt(0)!)).join('');
+  const extension = [...text].filter((ch) => !isCoreCodePoint(ch.codePointAt(0)!)).join('');
   for (const face of FACES) {
     const ttf = fs.readFileSync(path.join(pkg, face, `Lexend_${face}.ttf`));
-    const woff2 = await subsetFont(ttf, text, { targetFormat: 'woff2' });
-    fs.writeFileSync(path.join(FONT_DIR, `Lexend_${face}.woff2`), woff2);
-    console.log(`[fonts] Lexend ${face}: ${ttf.length} B TTF → ${woff2.length} B WOFF2 (${[...text].length} characters)`);
+    for (const [suffix, chars] of [
+      ['', core],
+      ['-ext', extension],
+    ] as const) {
+      const woff2 = await subsetFont(ttf, chars, { targetFormat: 'woff2' });
+      fs.writeFileSync(path.join(FONT_DIR, `Lexend_${face}${suffix}.woff2`), woff2);
+      console.log(`[fonts] Lexend ${face}${suffix}: ${ttf.length} B TTF → ${woff2.length} B WOFF2 (${[...chars].length} characters)`);
+    }
   }
   fs.copyFileSync(path.join(pkg, 'LICENSE_FONT'), path.join(FONT_DIR, 'LICENSE-Lexend-OFL.txt'));
 }

@@ -1,6 +1,7 @@
 /** How alarm severities and numbers read on screen. Severity always shows as text + shape, never colour alone. */
 import type { Tone } from '@/components/theme/tokens';
-import { ALARM_KIND_LABEL, SEVERITY_LABEL, type Alarm, type AlarmSeverityName } from '@/shared/schemas/alarms';
+import { ALARM_KIND_LABEL, SEVERITY_LABEL } from '@/shared/domain/alarms';
+import type { Alarm, AlarmSeverityName } from '@/shared/schemas/alarms';
 
 export const SEVERITY_TONE: Record<AlarmSeverityName, Tone> = { critical: 'danger', warning: 'attention', info: 'info' };
 

@@ -2,7 +2,7 @@ import { useRef, useState } from 'react';
 import { ScrollView, TextInput, View } from 'react-native';
 import { router, useLocalSearchParams, type Href } from 'expo-router';
 import { ROLE_HOME } from '@/shared/roles';
-import { signInSchema } from '@/shared/schemas/auth';
+import { checkSignIn } from '@/shared/domain/sign-in';
 import { BrandLockup, BrandMark } from '@/components/brand/BrandMark';
 import { SESSION_ENDED_MESSAGE, useSignIn } from '@/components/queries/auth';
 import { describeError } from '@/components/queries/api';
@@ -35,18 +35,13 @@ function SignInForm() {
 
   const submit = () => {
     if (signIn.isPending) return;
-    const parsed = signInSchema.safeParse({ email, password });
-    if (!parsed.success) {
-      const next: FieldErrors = {};
-      for (const issue of parsed.error.issues) {
-        const k = issue.path[0] as keyof FieldErrors;
-        if (!next[k]) next[k] = issue.message;
-      }
-      setErrors(next);
+    const checked = checkSignIn({ email, password });
+    if (!checked.ok) {
+      setErrors(checked.errors);
       return;
     }
     setErrors({});
-    signIn.mutate(parsed.data, {
+    signIn.mutate(checked.body, {
       onSuccess: (user) => router.replace(ROLE_HOME[user.role] as Href),
     });
   };

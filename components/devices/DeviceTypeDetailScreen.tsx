@@ -2,7 +2,7 @@ import { router, useLocalSearchParams, type Href } from 'expo-router';
 import { useState } from 'react';
 import { View } from 'react-native';
 import type { DeviceType } from '@/shared/schemas/devices';
-import { PLAN_KIND_LABEL } from '@/shared/schemas/plans';
+import { PLAN_KIND_LABEL } from '@/shared/domain/stress';
 import { formatDateTime } from '@/components/common/format';
 import { Columns } from '@/components/layout/Content';
 import { Header } from '@/components/layout/Header';
@@ -19,11 +19,11 @@ import { QueryState } from '@/components/ui/QueryState';
 import { Badge } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { CheckStatusPill } from '@/components/plans/CheckStatusPill';
-import { DeviceTypeForm } from './DeviceTypeForm';
+import { DeviceTypeForm } from '@/components/forms/LazyForms';
 import { LotTable, lotHref } from './DevicesScreen';
 import { amps, celsius, sig, volts, watts } from './format';
 import { DEVICE_HELP } from './help';
-import { NewLotForm } from './NewLotForm';
+import { NewLotForm } from '@/components/forms/LazyForms';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 

@@ -1,6 +1,7 @@
 import { useState } from 'react';
 import { View } from 'react-native';
-import { DEVICE_KINDS, POLARITIES, deviceTypeCreateSchema, type DeviceType, type DeviceTypeInput } from '@/shared/schemas/devices';
+import { DEVICE_KINDS, POLARITIES } from '@/shared/domain/devices';
+import { deviceTypeCreateSchema, type DeviceType, type DeviceTypeInput } from '@/shared/schemas/devices';
 import { Columns } from '@/components/layout/Content';
 import { describeError, isApiError } from '@/components/queries/api';
 import { useCreateDeviceType, useUpdateDeviceType } from '@/components/queries/device-types';

@@ -17,7 +17,7 @@ import { Field } from '@/components/ui/Field';
 import { QueryState } from '@/components/ui/QueryState';
 import { Badge } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
-import { DeviceTypeForm } from './DeviceTypeForm';
+import { DeviceTypeForm } from '@/components/forms/LazyForms';
 import { volts } from './format';
 
 export const deviceHref = (id: string) => `/devices/${id}` as Href;

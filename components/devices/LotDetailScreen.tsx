@@ -1,7 +1,8 @@
 import { router, useLocalSearchParams, type Href } from 'expo-router';
 import { useMemo, useState } from 'react';
 import { View } from 'react-native';
-import { checkSerialRows, splitPastedSerials, type LotDetail } from '@/shared/schemas/devices';
+import { checkSerialRows, splitPastedSerials } from '@/shared/domain/devices';
+import type { LotDetail } from '@/shared/schemas/devices';
 import { formatDateTime } from '@/components/common/format';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';

@@ -1,6 +1,7 @@
 import { useMemo, useState } from 'react';
 import { View } from 'react-native';
-import { checkSerialRows, lotInputSchema, splitPastedSerials, type LotDetail, type SerialRowProblem } from '@/shared/schemas/devices';
+import { checkSerialRows, splitPastedSerials } from '@/shared/domain/devices';
+import { lotInputSchema, type LotDetail, type SerialRowProblem } from '@/shared/schemas/devices';
 import { Columns } from '@/components/layout/Content';
 import { describeError, isApiError } from '@/components/queries/api';
 import { rowsFromError, useCreateLot, useParseSerialFile } from '@/components/queries/lots';

@@ -18,7 +18,7 @@ import { EmptyState } from '@/components/ui/EmptyState';
 import { QueryState } from '@/components/ui/QueryState';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
-import { AddPersonForm } from './AddPersonForm';
+import { AddPersonForm } from '@/components/forms/LazyForms';
 import { ROLE_CHOICES } from './roles';
 
 type Pending = { kind: 'role'; user: User; role: Role } | { kind: 'active'; user: User } | null;

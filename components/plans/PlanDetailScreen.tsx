@@ -1,6 +1,7 @@
 import { router, useLocalSearchParams, type Href } from 'expo-router';
 import { View } from 'react-native';
-import { PLAN_KIND_LABEL, type PlanDetail } from '@/shared/schemas/plans';
+import { PLAN_KIND_LABEL } from '@/shared/domain/stress';
+import type { PlanDetail } from '@/shared/schemas/plans';
 import { formatDateTime } from '@/components/common/format';
 import { amps, celsius, sig, volts } from '@/components/devices/format';
 import { deviceHref } from '@/components/devices/DevicesScreen';

@@ -1,7 +1,8 @@
 import { router, type Href } from 'expo-router';
 import { useState } from 'react';
 import { View } from 'react-native';
-import { PLAN_KINDS, PLAN_KIND_LABEL, type PlanKind, type PlanSummary } from '@/shared/schemas/plans';
+import { PLAN_KINDS, PLAN_KIND_LABEL } from '@/shared/domain/stress';
+import type { PlanKind, PlanSummary } from '@/shared/schemas/plans';
 import { amps, celsius, volts } from '@/components/devices/format';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';

@@ -2,7 +2,7 @@
  * The one way the app talks to the API: same origin, session cookie, JSON in and out.
  * Every failure becomes an ApiError so screens can show one plain sentence (see describeError).
  */
-import { apiErrorSchema, type ErrorCode } from '@/shared/schemas/errors';
+import { readApiError, type ErrorCode } from '@/shared/domain/api-error';
 
 /** A request that takes longer than this is abandoned, so no spinner runs forever. */
 export const REQUEST_TIMEOUT_MS = 20_000;
@@ -136,9 +136,9 @@ export async function api<T>(path: string, opts: RequestOptions = {}): Promise<T
   }
   const body = await parseBody(res);
   if (res.ok) return serverBody<T>(body);
-  const parsed = apiErrorSchema.safeParse(body);
-  if (parsed.success) {
-    const { code, message, fields } = parsed.data.error;
+  const error = readApiError(body);
+  if (error) {
+    const { code, message, fields } = error;
     throw new ApiError(res.status, code, message, fields);
   }
   throw new ApiError(res.status, fallbackCode(res.status), `The server answered ${res.status}.`);

@@ -9,7 +9,7 @@ import type {
   Units,
   ColumnMapping,
 } from '@/shared/schemas/measurements';
-import { apiErrorSchema } from '@/shared/schemas/errors';
+import { readApiError } from '@/shared/domain/api-error';
 import { api, ApiError, serverBody } from './api';
 
 export const measurementKeys = {
@@ -104,11 +104,11 @@ export function uploadReadings(input: UploadInput): Promise<UploadResult> {
         return reject(new ApiError(xhr.status, 'bad_response', 'The server sent an answer Emberlot could not read.'));
       }
       if (xhr.status >= 200 && xhr.status < 300) return resolve(serverBody<UploadResult>(body));
-      const parsed = apiErrorSchema.safeParse(body);
-      if (!parsed.success) return reject(new ApiError(xhr.status, 'internal', `The server answered ${xhr.status}.`));
+      const error = readApiError(body);
+      if (!error) return reject(new ApiError(xhr.status, 'internal', `The server answered ${xhr.status}.`));
       const rows = serverBody<{ error: { rows?: RowResult[] } }>(body).error.rows;
-      if (rows) return reject(new RowsError(xhr.status, parsed.data.error.message, rows));
-      reject(new ApiError(xhr.status, parsed.data.error.code, parsed.data.error.message, parsed.data.error.fields));
+      if (rows) return reject(new RowsError(xhr.status, error.message, rows));
+      reject(new ApiError(xhr.status, error.code, error.message, error.fields));
     };
     xhr.send(form);
   });
@@ -139,11 +139,11 @@ export function useManualEntry() {
       });
       const body = await res.json().catch(() => undefined);
       if (res.ok) return serverBody<UploadResult>(body);
-      const parsed = apiErrorSchema.safeParse(body);
-      if (!parsed.success) throw new ApiError(res.status, 'internal', `The server answered ${res.status}.`);
+      const error = readApiError(body);
+      if (!error) throw new ApiError(res.status, 'internal', `The server answered ${res.status}.`);
       const rows = serverBody<{ error: { rows?: RowResult[] } }>(body).error.rows;
-      if (rows) throw new RowsError(res.status, parsed.data.error.message, rows);
-      throw new ApiError(res.status, parsed.data.error.code, parsed.data.error.message, parsed.data.error.fields);
+      if (rows) throw new RowsError(res.status, error.message, rows);
+      throw new ApiError(res.status, error.code, error.message, error.fields);
     },
     onSuccess: () => qc.invalidateQueries({ queryKey: measurementKeys.all }),
   });

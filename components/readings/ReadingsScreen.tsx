@@ -15,7 +15,7 @@ import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
 import { CoveragePanel } from './CoveragePanel';
-import { ManualEntryForm } from './ManualEntryForm';
+import { ManualEntryForm } from '@/components/forms/LazyForms';
 import { UploadPanel } from './UploadPanel';
 
 /** Runs listed by how soon they need read-point work. */

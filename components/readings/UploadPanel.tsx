@@ -9,9 +9,8 @@ import {
   UNIT_LABEL,
   UPLOAD_MAX_BYTES,
   VOLTAGE_UNITS,
-  type UploadResult,
-  type Units,
-} from '@/shared/schemas/measurements';
+} from '@/shared/domain/measurement-columns';
+import type { UploadResult, Units } from '@/shared/schemas/measurements';
 import { describeError } from '@/components/queries/api';
 import { RowsError, useUploadReadings, type PickedFile } from '@/components/queries/measurements';
 import { colors, radius, space } from '@/components/theme/tokens';

@@ -1,10 +1,5 @@
-import {
-  MEASUREMENT_COLUMNS,
-  ownColumn,
-  REQUIRED_COLUMNS,
-  type ColumnMapping,
-  type MeasurementColumn,
-} from '@/shared/schemas/measurements';
+import { MEASUREMENT_COLUMNS, ownColumn, REQUIRED_COLUMNS } from '@/shared/domain/measurement-columns';
+import type { ColumnMapping, MeasurementColumn } from '@/shared/schemas/measurements';
 
 /** The header cells of a CSV's first line (same delimiter rule as the server: , ; or tab, whichever is most common). */
 export function csvHeaders(text: string): string[] {

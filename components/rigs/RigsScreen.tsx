@@ -19,9 +19,8 @@ import { QueryState } from '@/components/ui/QueryState';
 import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
-import { MaintenancePanel } from './MaintenancePanel';
-import { ServiceDatesPanel } from './ServiceDatesPanel';
-import { RegisterRigForm } from './RegisterRigForm';
+import { MaintenancePanel, ServiceDatesPanel } from '@/components/forms/LazyForms';
+import { RegisterRigForm } from '@/components/forms/LazyForms';
 import { SecretReveal } from './SecretReveal';
 
 type Pending = { kind: 'rotate'; rig: Rig } | { kind: 'revoke'; rig: Rig } | null;

@@ -25,15 +25,8 @@ import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { CHAMBER_TOLERANCE_PCT, measureByMs } from '@/shared/domain/standards';
 import { DRIVEN_STATES } from '@/shared/domain/run-states';
-import {
-  RUN_ACTIONS,
-  RUN_ACTION_LABEL,
-  type RunAction,
-  type RunDetail,
-  type RunSocket,
-  type SocketFlag,
-  type SocketLoadResult,
-} from '@/shared/schemas/runs';
+import { RUN_ACTIONS, RUN_ACTION_LABEL } from '@/shared/domain/run-states';
+import type { RunAction, RunDetail, RunSocket, SocketFlag, SocketLoadResult } from '@/shared/schemas/runs';
 import { RUN_STATE_TONE, columnToSocketMap, hours } from './run-look';
 
 const AUDIT_LABEL: Record<string, string> = {

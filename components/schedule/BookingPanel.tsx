@@ -22,7 +22,8 @@ import { Loading } from '@/components/ui/Loading';
 import { Badge, StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { DEVIATION_REASON_MIN, sampleShortfall } from '@/shared/evidence';
-import { OVERRIDE_REASON_MIN, type ProposalOption, type ProposalResult } from '@/shared/schemas/runs';
+import { OVERRIDE_REASON_MIN } from '@/shared/domain/reasons';
+import type { ProposalOption, ProposalResult } from '@/shared/schemas/runs';
 
 function Chip({ label, selected, onPress, hint }: { label: string; selected: boolean; onPress: () => void; hint?: string }) {
   return (

@@ -1,7 +1,8 @@
 import { useState } from 'react';
 import { View } from 'react-native';
 import { VictoryArea, VictoryAxis, VictoryChart, VictoryLegend, VictoryLine, VictoryScatter } from 'victory-native';
-import { LOT_VERDICT_LABEL, type LotSummary } from '@/shared/schemas/analytics';
+import { LOT_VERDICT_LABEL } from '@/shared/domain/verdicts';
+import type { LotSummary } from '@/shared/schemas/analytics';
 import { colors, space } from '@/components/theme/tokens';
 import { Text } from '@/components/ui/Text';
 import { axisStyle, legendStyle, LIMIT_FILL, LIMIT_STROKE, seriesAt } from './chart-style';

@@ -1,7 +1,8 @@
 import { useLocalSearchParams, useRouter, type Href } from 'expo-router';
 import { useState } from 'react';
 import { View } from 'react-native';
-import { LOT_VERDICT_LABEL, type LotDetail, type LotDevice, type LotReadPointStats } from '@/shared/schemas/analytics';
+import { LOT_VERDICT_LABEL } from '@/shared/domain/verdicts';
+import type { LotDetail, LotDevice, LotReadPointStats } from '@/shared/schemas/analytics';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { describeError } from '@/components/queries/api';

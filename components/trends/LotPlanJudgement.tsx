@@ -1,7 +1,7 @@
 import { View } from 'react-native';
 import type { LotPlanView } from '@/shared/schemas/analytics';
 import type { DeviceDegradation, PeerCheck, ReadPointStatus } from '@/shared/verdict/judge';
-import { EXTRAPOLATION_LIMIT, PEER_CHART_MIN_LOTS } from '@/shared/verdict/judge';
+import { EXTRAPOLATION_LIMIT, PEER_CHART_MIN_LOTS } from '@/shared/verdict/rules';
 import { space } from '@/components/theme/tokens';
 import { Banner } from '@/components/ui/Banner';
 import { Card } from '@/components/ui/Card';

@@ -1,7 +1,8 @@
 import { useRouter, type Href } from 'expo-router';
 import { useMemo, useState } from 'react';
 import { Pressable, View } from 'react-native';
-import { LOT_VERDICT_LABEL, LOT_VERDICTS, type LotSummary, type LotVerdict } from '@/shared/schemas/analytics';
+import { LOT_VERDICT_LABEL, LOT_VERDICTS } from '@/shared/domain/verdicts';
+import type { LotSummary, LotVerdict } from '@/shared/schemas/analytics';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { useDeviceTypeSummaries, useLotSummaries } from '@/components/queries/analytics';

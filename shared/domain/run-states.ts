@@ -38,3 +38,16 @@ export const MEASURE_PENDING_STATES: readonly RunState[] = ['read-hold', 'coolin
 
 /** SQL list literal of a state set, for raw queries: `state IN ${sqlStateList(ON_RIG_STATES)}`. */
 export const sqlStateList = (states: readonly RunState[]): string => `(${states.map((s) => `'${s}'`).join(',')})`;
+
+export const RUN_ACTIONS = ['load', 'start', 'pause', 'resume', 'abort', 'measurements-done', 'retry'] as const;
+export type RunAction = (typeof RUN_ACTIONS)[number];
+
+export const RUN_ACTION_LABEL: Record<RunAction, string> = {
+  load: 'Load sockets',
+  start: 'Start',
+  pause: 'Pause',
+  resume: 'Resume',
+  abort: 'Abort',
+  'measurements-done': 'Measurements done',
+  retry: 'Retry after fix',
+};

@@ -36,3 +36,10 @@ export const REVERSE_BIAS_KINDS: ReadonlySet<string> = new Set(PLAN_KINDS.filter
 /** Whether a kind read back as a string (database, fleet file) is a powered one. */
 export const isPoweredKindName = (kind: string): boolean =>
   (PLAN_KINDS as readonly string[]).includes(kind) && isPoweredKind(kind as PlanKind);
+
+export const PLAN_KIND_LABEL: Record<PlanKind, string> = {
+  htrb: 'High-temperature reverse bias',
+  hotl: 'Powered operating life',
+  iol: 'Intermittent operating life',
+  thb: 'Temperature-humidity-bias',
+};

@@ -11,17 +11,8 @@
 import { z } from 'zod';
 import type { PlanJudgement } from '../verdict/judge';
 
-export const LOT_VERDICTS = ['passed', 'drifting', 'failed', 'incomplete', 'insufficient-sample', 'in-progress', 'untested'] as const;
-export type LotVerdict = (typeof LOT_VERDICTS)[number];
-export const LOT_VERDICT_LABEL: Record<LotVerdict, string> = {
-  passed: 'Passed',
-  drifting: 'Drifting',
-  failed: 'Failed',
-  incomplete: 'Incomplete',
-  'insufficient-sample': 'Insufficient sample',
-  'in-progress': 'In progress',
-  untested: 'Not tested',
-};
+import { LOT_VERDICTS, type LotVerdict } from '../domain/verdicts';
+export { LOT_VERDICTS, LOT_VERDICT_LABEL, type LotVerdict } from '../domain/verdicts';
 
 export const lotParamsSchema = z.object({ lotId: z.string().uuid('Not a valid lot id') });
 export const deviceTypeParamsSchema = z.object({ id: z.string().uuid('Not a valid device type id') });

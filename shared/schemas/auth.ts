@@ -1,11 +1,12 @@
 import { z } from 'zod';
 import { ROLES } from '../roles';
+import { PASSWORD_MAX, SIGN_IN_WORDS } from '../domain/sign-in';
 
 export const roleSchema = z.enum(ROLES);
 
 export const signInSchema = z.object({
-  email: z.string().trim().toLowerCase().email('Enter an e-mail address'),
-  password: z.string().min(1, 'Enter your password').max(200),
+  email: z.string().trim().toLowerCase().email(SIGN_IN_WORDS.email),
+  password: z.string().min(1, SIGN_IN_WORDS.password).max(PASSWORD_MAX),
 });
 export type SignInInput = z.infer<typeof signInSchema>;
 

@@ -4,8 +4,8 @@ import { z } from 'zod';
 export const num = () => z.number().finite();
 export const positive = () => num().positive();
 
-export const DEVICE_KINDS = ['bjt', 'mosfet', 'diode'] as const;
-export const POLARITIES = ['NPN', 'PNP', 'N-channel', 'P-channel', 'rectifier'] as const;
+import { DEVICE_KINDS, POLARITIES } from '../domain/devices';
+export { DEVICE_KINDS, POLARITIES, SERIAL_MAX_LENGTH, checkSerialRows, splitPastedSerials, type SerialRowProblem } from '../domain/devices';
 
 /** Ratings and thermal data of a part number, as on its data sheet. Voltages are magnitudes. */
 export const deviceTypeInputSchema = z.object({
@@ -103,9 +103,6 @@ export const lotInputSchema = z.object({
 });
 export type LotInput = z.infer<typeof lotInputSchema>;
 
-/** Longest serial a device may have (database column width). */
-export const SERIAL_MAX_LENGTH = 40;
-
 export const addSerialsSchema = z.object({
   serials: z
     .array(z.string().max(1000, 'A serial cannot be that long'))
@@ -133,50 +130,4 @@ export interface Lot {
 }
 export interface LotDetail extends Lot {
   serials: Array<{ id: string; serial: string }>;
-}
-
-/** One refused serial: its row (1-based position in the list, or line of the file) and why. */
-export interface SerialRowProblem {
-  row: number;
-  serial: string;
-  reason: string;
-}
-
-/** Splits a pasted list: one serial per line, or separated by commas, semicolons or tabs; blank entries are dropped. */
-export function splitPastedSerials(text: string): string[] {
-  return text
-    .split(/[\r\n,;\t]/)
-    .map((s) => s.trim())
-    .filter((s) => s !== '');
-}
-
-/**
- * Checks a list of candidate serials: trims each, then reports every empty one, every one longer
- * than SERIAL_MAX_LENGTH, every one with a control character, every repeat of an earlier row, and
- * every one already in the lot.
- * `rowOf(i)` maps a list index to the row number shown to the person (position or file line).
- */
-export function checkSerialRows(
-  candidates: string[],
-  existing: ReadonlySet<string>,
-  rowOf: (index: number) => number = (i) => i + 1,
-  lotCode = 'the lot',
-): { serials: string[]; problems: SerialRowProblem[] } {
-  const serials: string[] = [];
-  const problems: SerialRowProblem[] = [];
-  const firstRow = new Map<string, number>();
-  candidates.forEach((raw, i) => {
-    const serial = raw.trim();
-    const row = rowOf(i);
-    if (serial === '') problems.push({ row, serial, reason: 'Empty serial' });
-    else if (serial.length > SERIAL_MAX_LENGTH) problems.push({ row, serial, reason: `Longer than ${SERIAL_MAX_LENGTH} characters` });
-    else if (/[\u0000-\u001f\u007f]/.test(serial)) problems.push({ row, serial, reason: 'Contains a line break or control character' });
-    else if (firstRow.has(serial)) problems.push({ row, serial, reason: `Duplicate of row ${firstRow.get(serial)}` });
-    else if (existing.has(serial)) problems.push({ row, serial, reason: `Already in ${lotCode}` });
-    else {
-      firstRow.set(serial, row);
-      serials.push(serial);
-    }
-  });
-  return { serials, problems };
 }

@@ -11,12 +11,7 @@ import {
 } from '../domain/standards';
 
 export { PLAN_KINDS, type PlanKind } from '../domain/stress';
-export const PLAN_KIND_LABEL: Record<PlanKind, string> = {
-  htrb: 'High-temperature reverse bias',
-  hotl: 'Powered operating life',
-  iol: 'Intermittent operating life',
-  thb: 'Temperature-humidity-bias',
-};
+export { PLAN_KIND_LABEL } from '../domain/stress';
 
 /** Bias applied to each device. Reverse-bias kinds use vcbV (and optionally vebV); powered kinds use vceV with ibA or icA. */
 export const biasSchema = z.object({

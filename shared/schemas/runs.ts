@@ -19,18 +19,8 @@ export const RUN_STATE_LABEL: Record<RunState, string> = {
   aborted: 'Aborted',
 };
 
-export const RUN_ACTIONS = ['load', 'start', 'pause', 'resume', 'abort', 'measurements-done', 'retry'] as const;
-export type RunAction = (typeof RUN_ACTIONS)[number];
-
-export const RUN_ACTION_LABEL: Record<RunAction, string> = {
-  load: 'Load sockets',
-  start: 'Start',
-  pause: 'Pause',
-  resume: 'Resume',
-  abort: 'Abort',
-  'measurements-done': 'Measurements done',
-  retry: 'Retry after fix',
-};
+import { type RunAction } from '../domain/run-states';
+export { RUN_ACTIONS, type RunAction, RUN_ACTION_LABEL } from '../domain/run-states';
 
 /** What a person may do in each state (the scheduler makes the other moves). */
 export const ACTIONS_BY_STATE: Record<RunState, readonly RunAction[]> = {
@@ -76,7 +66,8 @@ export const deviationSchema = z.object({
     .max(2000),
 });
 
-export const OVERRIDE_REASON_MIN = 10;
+import { OVERRIDE_REASON_MIN } from '../domain/reasons';
+export { OVERRIDE_REASON_MIN } from '../domain/reasons';
 
 export const bookRunSchema = proposalInputSchema.extend({
   rigId: uuid('rig'),

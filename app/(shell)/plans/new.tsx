@@ -1,3 +1,3 @@
-import { PlanFormScreen } from '@/components/plans/PlanFormScreen';
+import { PlanFormScreen } from '@/components/forms/LazyForms';
 
 export default PlanFormScreen;
