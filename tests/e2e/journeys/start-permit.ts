@@ -61,6 +61,17 @@ export const operatorStartPermit: Journey = {
     );
     const first = j.size === 'phone' ? 121 : 125;
     const serials = [0, 1, 2, 3].map((k) => `E0${first + k}`);
+    // Both sizes share the stack: a run this journey left open on OV-04 (a failed earlier size) is aborted first.
+    const open = await json<{ items: Array<{ id: string; code: string; rowVersion: number }> }>(
+      eng.get(`/api/runs?rigId=${rig.rigId}&open=1`),
+      'open runs on OV-04',
+    );
+    for (const r of open.items.filter((x) => x.code.startsWith('HOTL-2610-E'))) {
+      await json(
+        eng.post(`/api/runs/${r.id}/abort`, { data: { rowVersion: r.rowVersion, reason: 'Left open by an earlier journey size.' } }),
+        'cleanup',
+      );
+    }
     const op = await apiAs(j.baseUrl, DEMO.operator);
     await json(
       op.put(`/api/runs/${booked.id}/sockets`, {
@@ -95,6 +106,7 @@ export const operatorStartPermit: Journey = {
     const confirm = page.getByRole('button', { name: 'Confirm and start' });
     if ((await confirm.getAttribute('aria-disabled')) !== 'true' && !(await confirm.isDisabled()))
       throw new Error('Confirm and start is offered while the permit refuses');
+    await expect(page.getByRole('dialog')).toBeVisible(); // the modal settled (its role is set once it has opened)
     await j.checkA11y('start permit refused');
     await j.shot('start-permit-refused');
     await page.getByRole('button', { name: 'Cancel' }).click();
@@ -123,6 +135,9 @@ export const operatorStartPermit: Journey = {
     await expect(caution).toContainText(
       /Confirm: OV-04 heats its chamber to \d+(\.\d+)? °C and applies powered at VCE \d+(\.\d+)? V to 4 devices\./,
     );
+    await expect(page.getByRole('dialog')).toBeVisible();
+    const go = page.getByRole('button', { name: 'Confirm and start' });
+    for (let k = 0; k < 50 && (await go.getAttribute('aria-disabled')) === 'true'; k++) await page.waitForTimeout(100);
     await j.checkA11y('start confirmation');
     await j.shot('start-confirmation');
     await page.getByRole('button', { name: 'Confirm and start' }).click();
