@@ -7,7 +7,10 @@
  * - signInPaintMs: navigation start → the e-mail field visible;
  * - signInToFloorMs / floorKb: pressing "Sign in" → the floor's summary line shows its rig count, and
  *   the bytes that took;
- * - floorReloadMs: reload of the signed-in floor (warm cache) → the summary line, median of 5 (and each).
+ * - floorReloadMs: reload of the signed-in floor (warm cache) → the summary line, median of 5 (and each);
+ *   where that time goes, per reload (medians): main-thread script time (`floorReloadScriptMs`, CDP
+ *   Performance ScriptDuration, slowed 4×), all main-thread tasks (`floorReloadTaskMs`), and when the
+ *   session check and the floor's data were requested after the document (`floorReloadApiStartMs`).
  * Loopback has no network latency: these are CPU and byte figures, not a mobile-network model.
  */
 import * as fs from 'node:fs';
@@ -134,13 +137,38 @@ export async function runWeb(b: BenchEnv, log: (l: string) => void) {
 
     // Reloads of the signed-in floor, warm cache.
     const reloads: number[] = [];
+    const scriptMs: number[] = [];
+    const taskMs: number[] = [];
+    const apiStart: Record<string, number[]> = { me: [], floor: [] };
     let reloadBytes = 0;
+    await cdp.send('Performance.enable');
+    const perf = async () => {
+      const { metrics } = await cdp.send('Performance.getMetrics');
+      const get = (name: string) => metrics.find((m) => m.name === name)?.value ?? 0;
+      return { script: get('ScriptDuration'), task: get('TaskDuration') };
+    };
+    const sent: Array<{ url: string; type: string; at: number }> = [];
+    cdp.on('Network.requestWillBeSent', (e) => sent.push({ url: e.request.url, type: e.type ?? 'Other', at: e.timestamp }));
     for (let i = 0; i < RELOADS; i++) {
       wire.reset();
+      sent.length = 0;
+      const before = await perf();
       const t = Date.now();
       await page.reload({ waitUntil: 'commit' });
       await floorReady(page);
       reloads.push(Date.now() - t);
+      const after = await perf();
+      scriptMs.push(Math.round((after.script - before.script) * 1000));
+      taskMs.push(Math.round((after.task - before.task) * 1000));
+      const doc = sent.find((r) => r.type === 'Document');
+      const at = (re: RegExp) => sent.find((r) => re.test(new URL(r.url).pathname));
+      for (const [key, re] of [
+        ['me', /^\/api\/auth\/me$/],
+        ['floor', /^\/api\/floor$/],
+      ] as const) {
+        const r = at(re);
+        if (doc && r) apiStart[key].push(Math.round((r.at - doc.at) * 1000));
+      }
       await wire.quiet();
       reloadBytes = wire.bytes;
     }
@@ -158,6 +186,12 @@ export async function runWeb(b: BenchEnv, log: (l: string) => void) {
       floorReloadMs: median(reloads),
       floorReloadsMs: reloads,
       floorReloadKb: kb(reloadBytes),
+      floorReloadScriptMs: median(scriptMs),
+      floorReloadTaskMs: median(taskMs),
+      floorReloadApiStartMs: {
+        me: apiStart.me.length ? median(apiStart.me) : null,
+        floor: apiStart.floor.length ? median(apiStart.floor) : null,
+      },
     };
     log(
       `web: cold sign-in ${result.coldSignInKb} KB, paint ${signInPaintMs} ms, sign-in → floor ${signInToFloorMs} ms, floor reload median ${result.floorReloadMs} ms`,

@@ -2,6 +2,7 @@ import { useLocalSearchParams, useRouter, type Href } from 'expo-router';
 import { useState } from 'react';
 import { Pressable, View } from 'react-native';
 import type { PlanAcceleration } from '@/shared/schemas/analytics';
+import { MECHANISM_LABEL, describeParameters } from '@/shared/reliability/mechanism-names';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { useDeviceTypeSummary } from '@/components/queries/analytics';
@@ -23,9 +24,10 @@ const accColumns: Column<PlanAcceleration>[] = [
   { key: 'plan', title: 'Plan', flex: 2, card: 'title', render: (a) => a.planName },
   {
     key: 'cond',
-    title: 'Ea · use → stress',
+    title: 'Mechanism · Ea · use → mean Tj',
     flex: 1.6,
-    render: (a) => `${a.eaEv} eV · ${a.useC} → ${sig(a.stressC, 4)} °C (${a.stressBasis.startsWith('junction') ? 'junction' : 'chamber'})`,
+    render: (a) =>
+      `${MECHANISM_LABEL[a.mechanism]} · ${a.eaEv} eV · ${a.useC} → ${sig(a.stressC, 4)} °C (${a.stressBasis.startsWith('estimated') ? 'junction' : 'chamber'})`,
   },
   { key: 'af', title: 'Acceleration', flex: 0.9, align: 'right', render: (a) => `${sig(a.accelerationFactor)}×` },
   { key: 'dh', title: 'Device-hours', flex: 1, align: 'right', render: (a) => Math.round(a.deviceHours).toLocaleString('en-GB') },
@@ -66,8 +68,6 @@ export function DeviceTypeScreen() {
                   ['Devices tested', t.devicesTested.toLocaleString('en-GB')],
                   ['Device-hours', Math.round(t.deviceHours).toLocaleString('en-GB')],
                   ['Failures', String(t.failures)],
-                  ['FIT at 60 %', t.fit60 === null ? '—' : sig(t.fit60)],
-                  ['FIT at 90 %', t.fit90 === null ? '—' : sig(t.fit90)],
                 ].map(([k, v]) => (
                   <View key={k}>
                     <Text variant="caption" tone="muted">
@@ -77,9 +77,21 @@ export function DeviceTypeScreen() {
                   </View>
                 ))}
               </View>
+              {t.mechanisms.map((m) => (
+                <View key={m.mechanism} style={{ gap: space.xs }} testID={`mechanism-${m.mechanism}`}>
+                  <Text variant="label">
+                    {m.label}: {m.fit60 === null ? '—' : sig(m.fit60)} FIT at 60 %, {m.fit90 === null ? '—' : sig(m.fit90)} at 90 %
+                  </Text>
+                  <Text variant="caption" tone="muted">
+                    {m.unavailable ??
+                      `${m.failures} failure${m.failures === 1 ? '' : 's'}, ${Math.round(m.equivalentDeviceHours).toLocaleString('en-GB')} equivalent device-hours at use conditions from ${m.plans} plan${m.plans === 1 ? '' : 's'}. ${m.model}; ${describeParameters(m.parameters)}.`}
+                  </Text>
+                </View>
+              ))}
               <Text variant="caption" tone="muted">
-                FIT pooled over every lot with readings: χ²(confidence; 2r + 2) / (2 · Σ devices × hours × acceleration) × 10⁹ (JESD85). k ={' '}
-                {t.constants.boltzmannEvPerK} eV/K ({t.constants.source}), T(K) = T(°C) + {t.constants.kelvinOffset}.
+                One FIT per failure mechanism, never pooled: χ²(confidence; 2r + 2) / (2 · Σ equivalent device-hours) × 10⁹ (JESD85), each
+                device credited at its junction estimated from its socket&apos;s telemetry. k = {t.constants.boltzmannEvPerK} eV/K (
+                {t.constants.source}), T(K) = T(°C) + {t.constants.kelvinOffset}.
               </Text>
             </Card>
             {t.accelerations.length ? (

@@ -3,6 +3,7 @@ import { useState } from 'react';
 import { View } from 'react-native';
 import { LOT_VERDICT_LABEL } from '@/shared/domain/verdicts';
 import type { LotDetail, LotDevice, LotReadPointStats } from '@/shared/schemas/analytics';
+import { describeParameters } from '@/shared/reliability/mechanism-names';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { describeError } from '@/components/queries/api';
@@ -65,14 +66,23 @@ function ExportButtons({ lot }: { lot: LotDetail }) {
 
 function FitCard({ lot }: { lot: LotDetail }) {
   const f = lot.fit;
+  const unavailable = lot.plans.find((p) => p.planId === lot.plan?.id)?.fitUnavailable ?? null;
   return (
     <Card
-      title="Failure rate"
-      description="Upper bound at 60 % and 90 % confidence, chi-square method, Arrhenius acceleration from stress to use temperature; device-hours are each device's credited hours (its socket's own accrual)."
+      title={f ? `Failure rate · ${f.mechanismLabel}` : 'Failure rate'}
+      description="Upper bound at 60 % and 90 % confidence, chi-square method, for the one failure mechanism this stress accelerates (never pooled with others). Each device is credited by its own hours at the junction temperature estimated from its socket's telemetry."
     >
       {f ? (
         <View style={{ gap: space.xs }}>
           <View style={{ flexDirection: 'row', gap: space.lg, flexWrap: 'wrap' }}>
+            <View>
+              <Text variant="caption" tone="muted">
+                Mechanism
+              </Text>
+              <Text variant="title" testID="fit-mechanism">
+                {f.mechanismLabel}
+              </Text>
+            </View>
             <View>
               <Text variant="caption" tone="muted">
                 FIT at 60 %
@@ -91,23 +101,38 @@ function FitCard({ lot }: { lot: LotDetail }) {
             </View>
             <View>
               <Text variant="caption" tone="muted">
-                Acceleration factor
+                Mean acceleration
               </Text>
               <Text variant="title">{sig(f.accelerationFactor)}</Text>
             </View>
           </View>
           <Text variant="caption">
             {f.failures} failure{f.failures === 1 ? '' : 's'} in {Math.round(f.deviceHours).toLocaleString('en-GB')} device-hours credited
-            to {f.devices} devices (mean {hours(f.hoursEach)} each) ({Math.round(f.equivalentDeviceHours).toLocaleString('en-GB')} at use
-            conditions).
+            to {f.devices} devices (mean {hours(f.hoursEach)} each), {Math.round(f.equivalentDeviceHours).toLocaleString('en-GB')} at use
+            conditions.
           </Text>
-          <Text variant="caption" tone="muted">
-            Ea {f.constants.eaEv} eV, use {f.constants.useC} °C, stress {sig(f.constants.stressC, 4)} °C ({f.constants.stressBasis}), k ={' '}
-            {f.constants.boltzmannEvPerK} eV/K ({f.constants.source}), T(K) = T(°C) + {f.constants.kelvinOffset}. {f.method}.
+          <Text variant="caption" testID="fit-junction">
+            {f.junction.tjMeanC === null
+              ? 'No junction history.'
+              : `Junction over the credited hours: mean ${sig(f.junction.tjMeanC, 4)} °C${
+                  sig(f.junction.tjMinC!, 4) === sig(f.junction.tjMaxC!, 4)
+                    ? ''
+                    : `, ${sig(f.junction.tjMinC!, 4)}–${sig(f.junction.tjMaxC!, 4)} °C`
+                }; ${f.constants.stressBasis}.`}
+          </Text>
+          {f.accelerationFactor < 1 ? (
+            <Text variant="caption" testID="fit-decelerated">
+              The junction ran below the use temperature ({f.constants.useC} °C): these hours count for less than field hours, so the bound
+              is wide. A plan meant to accelerate needs the junction above the use temperature.
+            </Text>
+          ) : null}
+          <Text variant="caption" tone="muted" testID="fit-model">
+            {f.model}; {describeParameters(f.parameters)}. k = {f.constants.boltzmannEvPerK} eV/K ({f.constants.source}), T(K) = T(°C) +{' '}
+            {f.constants.kelvinOffset}.
           </Text>
         </View>
       ) : (
-        <Text tone="muted">No read point after time zero yet.</Text>
+        <Text tone="muted">{unavailable ?? 'No read point after time zero yet.'}</Text>
       )}
     </Card>
   );

@@ -233,9 +233,13 @@ export function LotPlanJudgement({ plan: p }: { plan: LotPlanView }) {
 
       {p.fit ? (
         <Text variant="caption" testID="plan-fit">
-          FIT {sig(p.fit.fit60)} at 60 %, {sig(p.fit.fit90)} at 90 %: {p.fit.failures} failure{p.fit.failures === 1 ? '' : 's'} in{' '}
-          {Math.round(p.fit.deviceHours).toLocaleString('en-GB')} device-hours credited to {p.fit.devices} devices (each socket's own
-          hours), acceleration factor {sig(p.fit.accelerationFactor)}.
+          {p.fit.mechanismLabel} FIT {sig(p.fit.fit60)} at 60 %, {sig(p.fit.fit90)} at 90 %: {p.fit.failures} failure
+          {p.fit.failures === 1 ? '' : 's'} in {Math.round(p.fit.deviceHours).toLocaleString('en-GB')} device-hours credited to{' '}
+          {p.fit.devices} devices (each socket's own hours at its estimated junction), mean acceleration {sig(p.fit.accelerationFactor)}.
+        </Text>
+      ) : p.fitUnavailable ? (
+        <Text variant="caption" tone="muted" testID="plan-fit">
+          {p.fitUnavailable}
         </Text>
       ) : null}
     </View>

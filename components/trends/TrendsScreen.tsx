@@ -231,7 +231,8 @@ export function TrendsScreen() {
                       progress
                     </Text>
                     <Text variant="label">
-                      {Math.round(t.deviceHours).toLocaleString('en-GB')} device-hours · FIT (60 %) {t.fit60 === null ? '—' : sig(t.fit60)}
+                      {Math.round(t.deviceHours).toLocaleString('en-GB')} device-hours
+                      {t.mechanisms.map((m) => ` · ${m.label} FIT (60 %) ${m.fit60 === null ? '—' : sig(m.fit60)}`).join('')}
                     </Text>
                   </Card>
                 </Pressable>

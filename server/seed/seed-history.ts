@@ -10,6 +10,7 @@
 import type { DataSource, EntityManager } from 'typeorm';
 import { In } from 'typeorm';
 import { ON_RIG_STATES } from '../../shared/domain/run-states';
+import { isPoweredKindName } from '../../shared/domain/stress';
 import type { PlanKind } from '../../shared/schemas/plans';
 import {
   DeviceEntity,
@@ -86,6 +87,25 @@ export interface HistoryRunSpec {
   removed?: Array<{ serial: string; atH: number; kind: 'lost' | 'damaged' | 'excluded'; reason: string }>;
   /** Readings flagged for their conditions are confirmed by this engineer with this note. */
   confirmFlags?: { byId: string | null; reason: string };
+  /**
+   * The junction the sockets' telemetry put the devices at over their credited hours (°C); stored as
+   * each socket's stress segments, with the plan's humidity. Absent: no junction record (the FIT
+   * credits such hours at the chamber temperature).
+   */
+  junctionC?: number;
+}
+
+/** Case rise of a heat-sunk board above the chamber under powered bias, K (the demo's boards). */
+export const HEAT_SUNK_CASE_RISE_C = 4;
+
+/**
+ * The junction a demo history run's telemetry would have shown: the chamber under reverse bias
+ * (leakage power is negligible), the heat-sunk case plus θjc × VCE·IC under powered bias.
+ */
+export function historyJunctionC(plan: StressPlanEntity, type: DeviceTypeEntity): number {
+  const p = (plan.bias?.vceV ?? 0) * (plan.bias?.icA ?? 0);
+  if (!isPoweredKindName(plan.kind) || !(p > 0)) return plan.chamberC;
+  return plan.chamberC + HEAT_SUNK_CASE_RISE_C + type.thetaJcCPerW * p;
 }
 
 /** Wall-clock time of each read point: 24 h hold per earlier read point, bias off at the read point. */
@@ -185,8 +205,14 @@ async function insertHistorySockets(m: EntityManager, s: HistoryRunSpec, run: Ru
     RunSocketEntity,
     sockets.map((x) => {
       const trip = s.trips?.find((tr) => tr.serial === x.device.serial);
+      const hours = trip ? trip.atH : s.stressHours;
+      const stressSegments =
+        s.junctionC === undefined || !(hours > 0)
+          ? null
+          : [s.plan.humidityPct === null ? { hours, tjC: s.junctionC } : { hours, tjC: s.junctionC, rhPct: s.plan.humidityPct }];
       return trip
         ? {
+            stressSegments,
             runId: run.id,
             deviceId: x.device.id,
             socketIndex: x.socketIndex,
@@ -195,7 +221,7 @@ async function insertHistorySockets(m: EntityManager, s: HistoryRunSpec, run: Ru
             trippedAt: new Date(s.startedAt.getTime() + trip.atH * H),
             tripReason: 'Runaway: junction rising on its own (protection trip)',
           }
-        : { runId: run.id, deviceId: x.device.id, socketIndex: x.socketIndex, accruedHours: s.stressHours };
+        : { runId: run.id, deviceId: x.device.id, socketIndex: x.socketIndex, accruedHours: s.stressHours, stressSegments };
     }),
   );
   for (const r of s.removed ?? []) {
@@ -512,6 +538,7 @@ export async function seedHistory(ds: DataSource): Promise<void> {
           sampleId,
           confirmFlags: r.confirmFlags ? { byId: engineer?.id ?? null, reason: r.confirmFlags } : undefined,
           createdById: engineer?.id ?? null,
+          junctionC: historyJunctionC(plan, type),
         });
         sampleId = run.sampleId ?? undefined;
         taken += parts[i].n;

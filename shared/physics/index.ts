@@ -58,6 +58,16 @@ export function junctionTemperature(p: { referenceC: number; thetaCPerW: number;
   return p.referenceC + p.thetaCPerW * p.powerW;
 }
 
+/**
+ * A socket's junction estimated from its measured telemetry: Tj = T_case + θjc · |V · I| (JEDEC
+ * JESD51 definitions). Under reverse bias the power is the leakage's, tiny, so Tj ≈ the socket's
+ * case temperature; under powered bias V · I is VCE · IC (the base drive's VBE · IB is not
+ * reported and is left out: a slight under-estimate). The same estimate live protection uses.
+ */
+export function junctionFromTelemetry(p: { caseC: number; vV: number; iA: number; thetaJcCPerW: number }): number {
+  return junctionTemperature({ referenceC: p.caseC, thetaCPerW: p.thetaJcCPerW, powerW: Math.abs(p.vV * p.iA) });
+}
+
 /** P_max(T) = (Tj_max − T)/θ, clamped at 0 (no negative allowance when T ≥ Tj_max). */
 export function deratedPowerLimit(p: { tjMaxC: number; tC: number; thetaCPerW: number }): number {
   return Math.max(0, (p.tjMaxC - p.tC) / p.thetaCPerW);

@@ -55,6 +55,92 @@ export function coffinMansonFactor(p: { deltaTTestC: number; deltaTUseC: number;
 }
 
 // ---------------------------------------------------------------------------------------------
+// Equivalent stress time from a measured temperature history
+// ---------------------------------------------------------------------------------------------
+
+/**
+ * A stretch of credited stress time at one (estimated) junction temperature, and for humidity
+ * stress the chamber's relative humidity over it.
+ */
+export interface StressSegment {
+  hours: number;
+  tjC: number;
+  /** Relative humidity (%) over the stretch; null or absent without humidity control. */
+  rhPct?: number | null;
+}
+
+function checkSegment(s: StressSegment): void {
+  if (!(s.hours >= 0) || !Number.isFinite(s.hours)) throw new RangeError('segment hours must be finite and ≥ 0');
+  if (!Number.isFinite(s.tjC) || s.tjC <= -KELVIN_OFFSET_K)
+    throw new RangeError('segment junction temperature must be finite and above absolute zero');
+}
+
+/**
+ * Hours at the use temperature equivalent to a temperature history: t_eq = Σ hours · AF(tjC), the
+ * integral of the Arrhenius factor over the credited time (JEDEC JEP122; equivalent time is common
+ * practice). The history is each device's estimated junction, not a plan's prediction.
+ */
+export function equivalentStressHours(p: { segments: readonly StressSegment[]; eaEv: number; useC: number }): number {
+  let sum = 0;
+  for (const s of p.segments) {
+    checkSegment(s);
+    if (s.hours > 0) sum += s.hours * arrheniusFactor({ eaEv: p.eaEv, useC: p.useC, stressC: s.tjC });
+  }
+  return sum;
+}
+
+/**
+ * Humidity: Σ hours · Peck AF at each stretch's junction temperature and humidity,
+ * AF = (RH_s/RH_u)^n · exp[(Ea/k)(1/T_u − 1/T_s)] (Peck; JEDEC JEP122). A stretch without a
+ * humidity reading earns nothing (its humidity is unknown).
+ */
+export function equivalentHumidityHours(p: {
+  segments: readonly StressSegment[];
+  eaEv: number;
+  n: number;
+  useC: number;
+  rhUsePct: number;
+}): number {
+  if (!(p.rhUsePct > 0 && p.rhUsePct <= 100)) throw new RangeError('use humidity must be between 0 and 100 %');
+  let sum = 0;
+  for (const s of p.segments) {
+    checkSegment(s);
+    if (!(s.hours > 0) || s.rhPct == null || !(s.rhPct > 0)) continue;
+    sum += s.hours * peckFactor({ rhUsePct: p.rhUsePct, rhStressPct: s.rhPct, useC: p.useC, stressC: s.tjC, n: p.n, eaEv: p.eaEv });
+  }
+  return sum;
+}
+
+/** Junction temperatures within this many kelvin (and humidity within 1 % RH) share a stored segment. */
+export const SEGMENT_BIN_K = 0.5;
+
+/**
+ * Adds a stretch to a device's segment list in place, merging it into the stretch of the same
+ * temperature bin (SEGMENT_BIN_K) and humidity (1 % RH): the stored temperature and humidity are
+ * the hour-weighted means of what was merged, so a list stays short (a few dozen entries for a
+ * whole run) while the sum of hours is exact and the Arrhenius sum is off by far less than the
+ * bin (second order in the spread within a bin).
+ */
+export function addStressSegment(segments: StressSegment[], s: StressSegment): void {
+  if (!(s.hours > 0) || !Number.isFinite(s.tjC)) return;
+  const rh = s.rhPct ?? null;
+  const key = Math.round(s.tjC / SEGMENT_BIN_K);
+  const rhKey = rh === null ? null : Math.round(rh);
+  const at = segments.find(
+    (x) =>
+      Math.round(x.tjC / SEGMENT_BIN_K) === key && (x.rhPct == null ? rhKey === null : rhKey !== null && Math.round(x.rhPct) === rhKey),
+  );
+  if (!at) {
+    segments.push(rh === null ? { hours: s.hours, tjC: s.tjC } : { hours: s.hours, tjC: s.tjC, rhPct: rh });
+    return;
+  }
+  const hours = at.hours + s.hours;
+  at.tjC = (at.tjC * at.hours + s.tjC * s.hours) / hours;
+  if (rh !== null && at.rhPct != null) at.rhPct = (at.rhPct * at.hours + rh * s.hours) / hours;
+  at.hours = hours;
+}
+
+// ---------------------------------------------------------------------------------------------
 // Failure rate
 // ---------------------------------------------------------------------------------------------
 

@@ -51,6 +51,9 @@ export interface SocketSample {
   vV: number;
   biasOn: boolean;
   tripped: boolean;
+  /** Case (socket) temperature and current, for the junction estimate behind equivalent hours. */
+  caseC?: number;
+  iA?: number;
 }
 
 export interface ClockSample {

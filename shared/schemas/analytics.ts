@@ -10,6 +10,7 @@
  */
 import { z } from 'zod';
 import type { PlanJudgement } from '../verdict/judge';
+import type { ModelParameter, StressMechanism } from '../reliability/mechanism-names';
 
 import { LOT_VERDICTS, type LotVerdict } from '../domain/verdicts';
 export { LOT_VERDICTS, LOT_VERDICT_LABEL, type LotVerdict } from '../domain/verdicts';
@@ -90,11 +91,25 @@ export interface FitFigures {
     kelvinOffset: number;
     eaEv: number;
     useC: number;
+    /** Hour-weighted mean of the devices' estimated junction over their credited hours. */
     stressC: number;
     stressBasis: string;
     source: string;
   };
   method: string;
+  /** The failure mechanism this FIT is for (never pooled across mechanisms), its model and parameters. */
+  mechanism: StressMechanism;
+  mechanismLabel: string;
+  model: string;
+  parameters: ModelParameter[];
+  /** Where each device's temperature history came from, and its range. */
+  junction: {
+    devicesFromTelemetry: number;
+    devicesFromChamber: number;
+    tjMeanC: number | null;
+    tjMinC: number | null;
+    tjMaxC: number | null;
+  };
 }
 
 export interface LotDevice {
@@ -162,6 +177,8 @@ export interface LotDetail extends LotSummary {
 /** One plan's judgement of a lot, with its FIT from the devices' credited hours. */
 export interface LotPlanView extends PlanJudgement {
   fit: FitFigures | null;
+  /** Why there is no FIT for this plan's mechanism (e.g. cycles not recorded), else null. */
+  fitUnavailable: string | null;
 }
 
 export interface PlanAcceleration {
@@ -170,9 +187,11 @@ export interface PlanAcceleration {
   kind: string;
   eaEv: number;
   useC: number;
+  /** Hour-weighted mean estimated junction of the devices (from their sockets' telemetry). */
   stressC: number;
-  /** Chamber, or the plan check's junction temperature on powered stresses. */
   stressBasis: string;
+  mechanism: StressMechanism;
+  /** Equivalent / credited device-hours (the devices' own histories). */
   accelerationFactor: number;
   devices: number;
   deviceHours: number;
@@ -195,10 +214,8 @@ export interface DeviceTypeSummary {
   devicesTested: number;
   failures: number;
   deviceHours: number;
-  equivalentDeviceHours: number;
-  /** Pooled over all plans: χ²(CL; 2r+2) / (2·Σ N·H·AF) × 10⁹. */
-  fit60: number | null;
-  fit90: number | null;
+  /** One FIT per failure mechanism: χ²(CL; 2r+2) / (2·Σ equivalent device-hours) × 10⁹ over that mechanism's plans only. */
+  mechanisms: MechanismFitSummary[];
   accelerations: PlanAcceleration[];
   nextQualification: {
     ltpdPct: number;
@@ -209,4 +226,21 @@ export interface DeviceTypeSummary {
   };
   constants: { boltzmannEvPerK: number; kelvinOffset: number; source: string };
   lotVerdicts: Array<{ lotId: string; lotCode: string; verdict: LotVerdict }>;
+}
+
+/** A device type's failure rate for one mechanism, from the plans that stress it. */
+export interface MechanismFitSummary {
+  mechanism: StressMechanism;
+  label: string;
+  model: string;
+  parameters: ModelParameter[];
+  plans: number;
+  devices: number;
+  deviceHours: number;
+  equivalentDeviceHours: number;
+  failures: number;
+  fit60: number | null;
+  fit90: number | null;
+  /** Why no FIT is given (e.g. cycles not recorded), else null. */
+  unavailable: string | null;
 }

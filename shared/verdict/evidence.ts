@@ -8,6 +8,8 @@
  */
 import type { Criteria, EndPointLimits } from '../schemas/plans';
 import type { PlanKind } from '../domain/stress';
+import type { StressSegment } from '../reliability';
+import type { CyclingExposure } from '../reliability/mechanisms';
 import type { CatastrophicResult, DispositionKind } from '../evidence';
 
 // The rules of the evidence (catastrophic results, disposition kinds, the measuring-condition
@@ -176,6 +178,10 @@ export interface DeviceEvidence {
   socketIndex: number;
   /** Stress hours credited to this device (its socket's accrual; a trip ends it). */
   creditedHours: number;
+  /** The credited hours by estimated junction temperature (its socket's telemetry); null/absent when not recorded. */
+  stressSegments?: StressSegment[] | null;
+  /** Power cycling: cycles counted and the measured junction swing; null/absent until recorded per socket. */
+  cycling?: CyclingExposure | null;
   readings: ReadingEvidence[];
   /** A tripped device without a trip-failure, reseated or excluded disposition is undecided: its later read points are incomplete. */
   dispositions: Disposition[];

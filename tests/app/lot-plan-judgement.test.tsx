@@ -15,7 +15,7 @@ for (const w of [1440, 390]) {
     // two degrading devices so the life table has crossings
     pe.devices[0].readings = [0, 168, 500, 1000].map((h) => reading(h, { hfe: 100 * (1 - (10 * h) / 1000 / 100) }));
     const plan = judgeLot(lotEvidence([pe]), []).plans[0];
-    renderWithClient(<LotPlanJudgement plan={{ ...plan, fit: null }} />);
+    renderWithClient(<LotPlanJudgement plan={{ ...plan, fit: null, fitUnavailable: null }} />);
     expect(screen.getByTestId('verdict-incomplete')).toBeOnTheScreen();
     expect(screen.getByText('Read point 1,000 h is incomplete')).toBeOnTheScreen();
     expect(screen.getByText('1 of 77 devices have no reading that counts yet: S006 (no reading or disposition).')).toBeOnTheScreen();

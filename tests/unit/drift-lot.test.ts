@@ -147,15 +147,18 @@ describe('FIT figures', () => {
   });
 
   it('from credited hours: 1 failure in 231,000 device-hours is the same 112.8 FIT, one device tripped early lowers the hours', () => {
-    const at = { eaEv: 0.7, useC: 55, stressC: 125, stressBasis: 'chamber temperature' };
+    const plan = { kind: 'htrb' as const, eaEv: 0.7, useC: 55, chamberC: 125, humidityPct: null };
+    const at125 = (h: number) => ({ creditedHours: h, segments: [{ hours: h, tjC: 125 }] });
     // [pub: JESD85] as above, device-hours summed per device
-    const full = planFit({ exposure: { devices: 231, deviceHours: 231_000, failures: 1 }, ...at })!;
+    const full = planFit({ plan, devices: Array.from({ length: 231 }, () => at125(1000)), failures: 1 }).fit!;
     expect(Math.abs(full.fit60 / 112.8 - 1)).toBeLessThan(0.02);
+    expect(full.mechanism).toBe('temperature');
     // a socket tripped at 50 h credits 50 h, not 1,000 h: λ ∝ 1/Σ hours
-    const tripped = planFit({ exposure: { devices: 231, deviceHours: 230_050, failures: 1 }, ...at })!;
+    const devices = [...Array.from({ length: 230 }, () => at125(1000)), at125(50)];
+    const tripped = planFit({ plan, devices, failures: 1 }).fit!;
     expect(tripped.deviceHours).toBeCloseTo(230_050, 6);
     expect(tripped.fit60 / full.fit60).toBeCloseTo(231_000 / 230_050, 10);
-    expect(planFit({ exposure: { devices: 0, deviceHours: 0, failures: 0 }, ...at })).toBeNull();
+    expect(planFit({ plan, devices: [], failures: 0 }).fit).toBeNull();
   });
 });
 

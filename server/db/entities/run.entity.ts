@@ -10,6 +10,7 @@ import {
   UpdateDateColumn,
   VersionColumn,
 } from 'typeorm';
+import type { StressSegment } from '../../../shared/reliability';
 import { bigintNumber } from './columns';
 import { DeviceEntity, LotEntity } from './lot.entity';
 import { RigEntity } from './rig.entity';
@@ -124,4 +125,9 @@ export class RunSocketEntity {
   @Column({ type: 'text', nullable: true }) tripReason: string | null;
   /** Read point (hours) at which this device first failed its criteria; null while passing. */
   @Column({ type: 'double precision', nullable: true }) failedAtH: number | null;
+  /**
+   * The credited hours by estimated junction temperature (and chamber humidity), from the socket's
+   * telemetry (shared/reliability addStressSegment); null for hours accrued before it was recorded.
+   */
+  @Column({ type: 'jsonb', nullable: true }) stressSegments: StressSegment[] | null;
 }

@@ -5,12 +5,22 @@ import type {
   LotPlanView,
   LotSummary,
   LotVerdict,
+  MechanismFitSummary,
   PlanAcceleration,
 } from '../../../shared/schemas/analytics';
-import { chiSquareQuantile, constantsUsed, sampleSizeForLtpd, arrheniusFactor } from '../../../shared/reliability';
+import { chiSquareQuantile, constantsUsed, sampleSizeForLtpd } from '../../../shared/reliability';
+import {
+  MECHANISM_OF_KIND,
+  STRESS_MECHANISMS,
+  mechanismExposure,
+  type DeviceExposure,
+  type MechanismPlan,
+} from '../../../shared/reliability/mechanisms';
+import type { PlanEvidence } from '../../../shared/verdict/evidence';
+import type { PlanJudgement } from '../../../shared/verdict/judge';
 import { DeviceTypeEntity } from '../../db/entities';
 import { notFound } from '../../http/errors';
-import { LOT_CAUTION, planFit } from './lot-analysis';
+import { LOT_CAUTION, junctionBasis, planFit } from './lot-analysis';
 import { PartCache, type Analysed } from './part-analysis';
 
 export class AnalyticsService {
@@ -76,11 +86,9 @@ export class AnalyticsService {
     if (!a) throw notFound('The lot');
     const c = a.core;
     const plans: LotPlanView[] = a.judgement.plans.map((p) => {
-      const pc = a.evidence.plans.find((x) => x.plan.planId === p.planId)!.plan;
-      return {
-        ...p,
-        fit: planFit({ exposure: p.exposure, eaEv: pc.eaEv, useC: pc.useC, stressC: pc.stressC, stressBasis: pc.stressBasis }),
-      };
+      const pe = a.evidence.plans.find((x) => x.plan.planId === p.planId)!;
+      const { fit, unavailable } = planFit({ plan: pe.plan, devices: countedExposure(pe, p), failures: p.exposure.failures });
+      return { ...p, fit, fitUnavailable: unavailable };
     });
     return {
       ...this.toSummary(a),
@@ -111,44 +119,77 @@ export class AnalyticsService {
   }
 
   /**
-   * Pooled over every lot and plan with readings: device-hours are the sum of each device's credited
-   * hours (its socket's accrual, not N × the latest read point),
-   * each plan's Arrhenius factor (plan Ea and use temperature vs chamber — junction on powered
-   * stresses, see stressTemperature), and the χ² upper bound
-   * χ²(CL; 2r+2) / (2·Σ N·H·AF) × 10⁹ (JESD85).
+   * One failure rate per mechanism (never pooled across mechanisms): over every lot and plan with
+   * readings that stress it, each device's equivalent hours from its own junction history
+   * (shared/reliability/mechanisms), and the χ² upper bound χ²(CL; 2r+2) / (2·Σ t_eq) × 10⁹ (JESD85).
    */
   private typeSummary(t: DeviceTypeEntity, lots: Analysed[], q: { ltpdPct: number; acceptNumber: number }): DeviceTypeSummary {
-    const byPlan = new Map<string, PlanAcceleration>();
+    const byPlan = new Map<string, { acc: PlanAcceleration; devices: DeviceExposure[]; plan: MechanismPlan }>();
     for (const a of lots) {
       for (const p of a.judgement.plans) {
-        const pc = a.evidence.plans.find((x) => x.plan.planId === p.planId)!.plan;
+        const pe = a.evidence.plans.find((x) => x.plan.planId === p.planId)!;
+        const pc = pe.plan;
         if (p.latestH === null || p.exposure.deviceHours <= 0) continue;
-        const af = arrheniusFactor({ eaEv: pc.eaEv, useC: pc.useC, stressC: pc.stressC });
-        const acc = byPlan.get(pc.planId) ?? {
-          planId: pc.planId,
-          planName: pc.name,
-          kind: pc.kind,
-          eaEv: pc.eaEv,
-          useC: pc.useC,
-          stressC: pc.stressC,
-          stressBasis: pc.stressBasis,
-          accelerationFactor: af,
-          devices: 0,
-          deviceHours: 0,
-          equivalentDeviceHours: 0,
-          failures: 0,
+        const entry = byPlan.get(pc.planId) ?? {
+          plan: pc,
+          devices: [],
+          acc: {
+            planId: pc.planId,
+            planName: pc.name,
+            kind: pc.kind,
+            eaEv: pc.eaEv,
+            useC: pc.useC,
+            stressC: pc.chamberC,
+            stressBasis: '',
+            mechanism: MECHANISM_OF_KIND[pc.kind],
+            accelerationFactor: 0,
+            devices: 0,
+            deviceHours: 0,
+            equivalentDeviceHours: 0,
+            failures: 0,
+          },
         };
-        acc.devices += p.exposure.devices;
-        acc.deviceHours += p.exposure.deviceHours;
-        acc.equivalentDeviceHours += p.exposure.deviceHours * af;
-        acc.failures += p.exposure.failures;
-        byPlan.set(pc.planId, acc);
+        entry.devices.push(...countedExposure(pe, p));
+        entry.acc.failures += p.exposure.failures;
+        byPlan.set(pc.planId, entry);
       }
     }
-    const accelerations = [...byPlan.values()];
+    const perPlan = [...byPlan.values()].map(({ acc, devices, plan }) => {
+      const x = mechanismExposure(plan, devices);
+      acc.devices = x.devices;
+      acc.deviceHours = x.deviceHours;
+      acc.equivalentDeviceHours = x.equivalentDeviceHours;
+      acc.accelerationFactor = x.deviceHours > 0 ? x.equivalentDeviceHours / x.deviceHours : 0;
+      acc.stressC = x.tjMeanC ?? plan.chamberC;
+      acc.stressBasis = junctionBasis(x);
+      return { acc, x };
+    });
+    const accelerations = perPlan.map((p) => p.acc);
     const failures = accelerations.reduce((s, x) => s + x.failures, 0);
-    const eq = accelerations.reduce((s, x) => s + x.equivalentDeviceHours, 0);
-    const fitAt = (cl: number) => (eq > 0 ? (chiSquareQuantile(cl, 2 * failures + 2) / (2 * eq)) * 1e9 : null);
+    const mechanisms: MechanismFitSummary[] = STRESS_MECHANISMS.flatMap((mech) => {
+      const mine = perPlan.filter((p) => p.x.mechanism === mech);
+      if (!mine.length) return [];
+      const unavailable = mine.find((p) => p.x.unavailable)?.x.unavailable ?? null;
+      const r = mine.reduce((s, p) => s + p.acc.failures, 0);
+      const eq = unavailable ? 0 : mine.reduce((s, p) => s + p.x.equivalentDeviceHours, 0);
+      const fitAt = (cl: number) => (eq > 0 ? (chiSquareQuantile(cl, 2 * r + 2) / (2 * eq)) * 1e9 : null);
+      return [
+        {
+          mechanism: mech,
+          label: mine[0].x.label,
+          model: mine[0].x.model,
+          parameters: mine[0].x.parameters,
+          plans: mine.length,
+          devices: mine.reduce((s, p) => s + p.x.devices, 0),
+          deviceHours: mine.reduce((s, p) => s + p.x.deviceHours, 0),
+          equivalentDeviceHours: eq,
+          failures: r,
+          fit60: fitAt(0.6),
+          fit90: fitAt(0.9),
+          unavailable,
+        },
+      ];
+    });
     const count = (v: LotVerdict) => lots.filter((a) => a.verdict === v).length;
     const k = constantsUsed();
     return {
@@ -166,9 +207,7 @@ export class AnalyticsService {
       devicesTested: accelerations.reduce((s, x) => s + x.devices, 0),
       failures,
       deviceHours: accelerations.reduce((s, x) => s + x.deviceHours, 0),
-      equivalentDeviceHours: eq,
-      fit60: fitAt(0.6),
-      fit90: fitAt(0.9),
+      mechanisms,
       accelerations,
       nextQualification: {
         ltpdPct: q.ltpdPct,
@@ -181,4 +220,12 @@ export class AnalyticsService {
       lotVerdicts: lots.map((a) => ({ lotId: a.core.lot.id, lotCode: a.core.lot.code, verdict: a.verdict })),
     };
   }
+}
+
+/** The devices the verdict counts for a plan (its exposure), with their credited hours and histories. */
+function countedExposure(pe: PlanEvidence, p: PlanJudgement): DeviceExposure[] {
+  const counted = new Set(p.devices.map((d) => `${d.runId}:${d.deviceId}`));
+  return pe.devices
+    .filter((d) => counted.has(`${d.runId}:${d.deviceId}`))
+    .map((d) => ({ creditedHours: d.creditedHours, segments: d.stressSegments ?? null, cycling: d.cycling ?? null }));
 }

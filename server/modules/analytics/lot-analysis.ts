@@ -7,12 +7,20 @@ import type { FitFigures, LotDevice, LotReadPointStats, TrendFit } from '../../.
 import type { DeviceDriftView } from '../../../shared/schemas/measurements';
 import type { Criteria } from '../../../shared/schemas/plans';
 import { isPoweredKindName } from '../../../shared/domain/stress';
-import { arrheniusFactor, constantsUsed, fitUpperBoundDetails } from '../../../shared/reliability';
+import { constantsUsed } from '../../../shared/reliability';
+import {
+  mechanismExposure,
+  mechanismFit,
+  type DeviceExposure,
+  type MechanismExposure,
+  type MechanismPlan,
+} from '../../../shared/reliability/mechanisms';
 import { lotDriftSummary, pseudoFailureTime } from '../../../shared/stats';
 
 export const LOT_CAUTION =
-  'Projections extrapolate a straight-line fit beyond the measured read points and the FIT figures assume a single ' +
-  'thermally activated mechanism (Arrhenius); confirm with failure analysis before shipping or holding a lot.';
+  'Projections extrapolate a straight-line fit beyond the measured read points, and each FIT figure holds for the one ' +
+  'failure mechanism its stress accelerates, with the model parameters named beside it; confirm with failure analysis ' +
+  'before shipping or holding a lot.';
 
 export interface LotCoreInput {
   lot: { id: string; code: string; deviceTypeId: string; partNumber: string; dateCode: string };
@@ -193,26 +201,66 @@ export function lotTrends(readPoints: LotReadPointStats[], devices: DeviceDriftV
 }
 
 /**
- * FIT at 60 % and 90 % from one plan's exposure: the failures counted by the verdict and the sum of
- * the devices' credited hours (each socket's own accrual), chi-square (JESD85).
+ * FIT at 60 % and 90 % for the plan kind's failure mechanism, from the devices the verdict counts:
+ * each device's equivalent hours integrate the mechanism's acceleration over its own credited
+ * hours at the junction estimated from its socket's telemetry (shared/reliability/mechanisms),
+ * chi-square (JESD85). `unavailable` says why there is none (e.g. cycles not recorded).
  */
-export function planFit(p: {
-  exposure: { devices: number; deviceHours: number; failures: number };
-  eaEv: number;
-  useC: number;
-  stressC: number;
-  stressBasis: string;
-}): FitFigures | null {
-  if (!(p.exposure.devices > 0 && p.exposure.deviceHours > 0)) return null;
-  return fitFigures({
-    failures: p.exposure.failures,
-    devices: p.exposure.devices,
-    hoursEach: p.exposure.deviceHours / p.exposure.devices,
-    eaEv: p.eaEv,
-    useC: p.useC,
-    stressC: p.stressC,
-    stressBasis: p.stressBasis,
-  });
+export function planFit(p: { plan: MechanismPlan; devices: readonly DeviceExposure[]; failures: number }): {
+  fit: FitFigures | null;
+  unavailable: string | null;
+} {
+  const x = mechanismExposure(p.plan, p.devices);
+  if (x.unavailable) return { fit: null, unavailable: x.unavailable };
+  return { fit: exposureFit(x, p.failures, p.plan), unavailable: null };
+}
+
+/** A stress basis in words: where the devices' junction histories came from. */
+export function junctionBasis(x: Pick<MechanismExposure, 'devicesFromTelemetry' | 'devicesFromChamber'>): string {
+  const n = (k: number) => `${k} device${k === 1 ? '' : 's'}`;
+  if (!x.devicesFromChamber) return `estimated junction from socket telemetry (${n(x.devicesFromTelemetry)})`;
+  if (!x.devicesFromTelemetry) return `chamber temperature (no junction record, ${n(x.devicesFromChamber)})`;
+  return `estimated junction from socket telemetry (${n(x.devicesFromTelemetry)}), chamber temperature where none was recorded (${n(x.devicesFromChamber)})`;
+}
+
+function exposureFit(x: MechanismExposure, failures: number, plan: { eaEv: number; useC: number; chamberC: number }): FitFigures | null {
+  const f = mechanismFit(x, failures);
+  if (!f) return null;
+  const k = constantsUsed();
+  const stressBasis = junctionBasis(x);
+  return {
+    failures,
+    devices: x.devices,
+    hoursEach: x.deviceHours / x.devices,
+    accelerationFactor: x.equivalentDeviceHours / x.deviceHours,
+    deviceHours: x.deviceHours,
+    equivalentDeviceHours: x.equivalentDeviceHours,
+    fit60: f.f60.fit,
+    fit90: f.f90.fit,
+    chiSquare60: f.f60.chiSquare,
+    chiSquare90: f.f90.chiSquare,
+    constants: {
+      boltzmannEvPerK: k.boltzmannEvPerK,
+      kelvinOffset: k.kelvinOffset,
+      eaEv: plan.eaEv,
+      useC: plan.useC,
+      stressC: x.tjMeanC ?? plan.chamberC,
+      stressBasis,
+      source: k.boltzmannSource,
+    },
+    method: `${x.model}; chi-square upper bound (JESD85)`,
+    mechanism: x.mechanism,
+    mechanismLabel: x.label,
+    model: x.model,
+    parameters: x.parameters,
+    junction: {
+      devicesFromTelemetry: x.devicesFromTelemetry,
+      devicesFromChamber: x.devicesFromChamber,
+      tjMeanC: x.tjMeanC,
+      tjMinC: x.tjMinC,
+      tjMaxC: x.tjMaxC,
+    },
+  };
 }
 
 /**
@@ -231,6 +279,7 @@ export function stressTemperature(plan: { kind: string; chamberC: number; checkR
   return { stressC: plan.chamberC, stressBasis: 'chamber temperature' };
 }
 
+/** FIT of a temperature-mechanism exposure of `devices` × `hoursEach` held at one temperature (worked examples, tests). */
 export function fitFigures(p: {
   failures: number;
   devices: number;
@@ -238,30 +287,13 @@ export function fitFigures(p: {
   eaEv: number;
   useC: number;
   stressC: number;
-  stressBasis?: string;
 }): FitFigures {
-  const af = arrheniusFactor({ eaEv: p.eaEv, useC: p.useC, stressC: p.stressC });
-  const base = { failures: p.failures, devices: p.devices, hoursEach: p.hoursEach, accelerationFactor: af };
-  const f60 = fitUpperBoundDetails({ ...base, confidence: 0.6 });
-  const f90 = fitUpperBoundDetails({ ...base, confidence: 0.9 });
-  const k = constantsUsed();
-  return {
-    ...base,
-    deviceHours: p.devices * p.hoursEach,
-    equivalentDeviceHours: f60.equivalentDeviceHours,
-    fit60: f60.fit,
-    fit90: f90.fit,
-    chiSquare60: f60.chiSquare,
-    chiSquare90: f90.chiSquare,
-    constants: {
-      boltzmannEvPerK: k.boltzmannEvPerK,
-      kelvinOffset: k.kelvinOffset,
-      eaEv: p.eaEv,
-      useC: p.useC,
-      stressC: p.stressC,
-      stressBasis: p.stressBasis ?? 'chamber temperature',
-      source: k.boltzmannSource,
-    },
-    method: `Arrhenius acceleration (JEDEC JEP122 / JESD85), stress at the ${p.stressBasis ?? 'chamber temperature'}; chi-square upper bound (JESD85)`,
-  };
+  const plan: MechanismPlan = { kind: 'htrb', eaEv: p.eaEv, useC: p.useC, chamberC: p.stressC, humidityPct: null };
+  const devices = Array.from({ length: p.devices }, () => ({
+    creditedHours: p.hoursEach,
+    segments: [{ hours: p.hoursEach, tjC: p.stressC }],
+  }));
+  const fit = exposureFit(mechanismExposure(plan, devices), p.failures, plan);
+  if (!fit) throw new RangeError('devices and hours must be positive');
+  return fit;
 }

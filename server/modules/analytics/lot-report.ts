@@ -9,6 +9,7 @@
 import { formatUtc } from '../../../shared/domain/format';
 import PDFDocument from 'pdfkit';
 import { LOT_VERDICT_LABEL, type LotDetail } from '../../../shared/schemas/analytics';
+import { describeParameters } from '../../../shared/reliability/mechanisms';
 
 export type Cell = string | number | boolean | null | undefined;
 
@@ -65,6 +66,15 @@ export function lotReportCsv(d: LotDetail, extra: { notes: string; generatedAt: 
   kv('Pseudo-failure time (h)', d.pseudoFailureH);
   kv('Pseudo-failure parameter', d.pseudoFailureParameter ? PARAM[d.pseudoFailureParameter] : '');
   if (d.fit) {
+    kv('Failure mechanism', d.fit.mechanismLabel);
+    kv('Model', d.fit.model);
+    kv('Model parameters', describeParameters(d.fit.parameters));
+    kv(
+      'Junction over credited hours (°C)',
+      d.fit.junction.tjMeanC === null
+        ? ''
+        : `mean ${+d.fit.junction.tjMeanC.toPrecision(4)}, ${+d.fit.junction.tjMinC!.toPrecision(4)} to ${+d.fit.junction.tjMaxC!.toPrecision(4)}`,
+    );
     kv('Acceleration factor', d.fit.accelerationFactor);
     kv('Device-hours', d.fit.deviceHours);
     kv('Equivalent device-hours', d.fit.equivalentDeviceHours);
@@ -74,6 +84,11 @@ export function lotReportCsv(d: LotDetail, extra: { notes: string; generatedAt: 
       'Constants',
       `k ${d.fit.constants.boltzmannEvPerK} eV/K (${d.fit.constants.source}), Ea ${d.fit.constants.eaEv} eV, use ${d.fit.constants.useC} °C, stress ${+d.fit.constants.stressC.toPrecision(4)} °C (${d.fit.constants.stressBasis})`,
     );
+  }
+  for (const p of d.plans) {
+    if (p.fit)
+      kv(`FIT 60 % / 90 %: ${p.planName} (${p.fit.mechanismLabel})`, `${+p.fit.fit60.toPrecision(4)} / ${+p.fit.fit90.toPrecision(4)}`);
+    else if (p.fitUnavailable) kv(`FIT: ${p.planName}`, p.fitUnavailable);
   }
   kv('Caution', d.caution);
   lines.push('');
@@ -262,13 +277,18 @@ function writeFailureRate(doc: Pdf, t: Write, d: LotDetail) {
   t('Failure rate');
   doc.font('Helvetica').fontSize(10);
   if (d.fit) {
+    t(`Mechanism: ${d.fit.mechanismLabel}. ${d.fit.model}; ${describeParameters(d.fit.parameters)}.`);
+    if (d.fit.junction.tjMeanC !== null)
+      t(
+        `Estimated junction over the credited hours: mean ${fmt(d.fit.junction.tjMeanC, 4)} °C, ${fmt(d.fit.junction.tjMinC!, 4)} to ${fmt(d.fit.junction.tjMaxC!, 4)} °C.`,
+      );
     t(
       `${d.fit.failures} failures in ${d.fit.devices} devices × ${fmt(d.fit.hoursEach, 5)} h = ${fmt(d.fit.deviceHours, 6)} device-hours; ` +
-        `acceleration factor ${fmt(d.fit.accelerationFactor, 4)} (Ea ${d.fit.constants.eaEv} eV, use ${d.fit.constants.useC} °C, stress ${fmt(d.fit.constants.stressC, 4)} °C, ${d.fit.constants.stressBasis}).`,
+        `mean acceleration factor ${fmt(d.fit.accelerationFactor, 4)} (Ea ${d.fit.constants.eaEv} eV, use ${d.fit.constants.useC} °C, mean junction ${fmt(d.fit.constants.stressC, 4)} °C, ${d.fit.constants.stressBasis}).`,
     );
     t(`FIT upper bound: ${fmt(d.fit.fit60, 4)} at 60 % confidence, ${fmt(d.fit.fit90, 4)} at 90 % (${d.fit.method}).`);
     t(`k = ${d.fit.constants.boltzmannEvPerK} eV/K (${d.fit.constants.source}), T(K) = T(°C) + ${d.fit.constants.kelvinOffset}.`);
-  } else t('No read point after time zero yet.');
+  } else t(d.plans.find((p) => p.planId === d.plan?.id)?.fitUnavailable ?? 'No read point after time zero yet.');
 }
 
 function writeFailedDevices(doc: Pdf, t: Write, d: LotDetail) {

@@ -12,6 +12,7 @@ import type { LotVerdict } from '../../../shared/schemas/analytics';
 import type { Criteria } from '../../../shared/schemas/plans';
 import type { PlanKind } from '../../../shared/domain/stress';
 import type { MeasurementResult } from '../../../shared/evidence';
+import type { StressSegment } from '../../../shared/reliability';
 import { judgeLot, controlValues, type LotJudgement } from '../../../shared/verdict/judge';
 import {
   dateFromDateCode,
@@ -71,6 +72,8 @@ interface SampleRow {
 /** A socket's credited hours and trip (changes while the run stresses: read with the run status). */
 interface SocketHours {
   accruedHours: number;
+  /** Credited hours by estimated junction temperature (run_sockets.stress_segments). */
+  segments: StressSegment[] | null;
   tripped: boolean;
   trippedAt: string | null;
   tripReason: string | null;
@@ -385,8 +388,10 @@ async function socketHours(m: EntityManager, runIds: string[]): Promise<Map<stri
     tripped: boolean;
     trippedAt: Date | null;
     tripReason: string | null;
+    segments: StressSegment[] | null;
   }> = await m.query(
-    `SELECT run_id AS "runId", device_id AS "deviceId", accrued_hours AS "accruedHours", tripped, tripped_at AS "trippedAt", trip_reason AS "tripReason"
+    `SELECT run_id AS "runId", device_id AS "deviceId", accrued_hours AS "accruedHours", tripped, tripped_at AS "trippedAt", trip_reason AS "tripReason",
+            stress_segments AS segments
        FROM run_sockets WHERE run_id = ANY($1::uuid[])`,
     [runIds],
   );
@@ -395,6 +400,7 @@ async function socketHours(m: EntityManager, runIds: string[]): Promise<Map<stri
       `${r.runId}:${r.deviceId}`,
       {
         accruedHours: Number(r.accruedHours),
+        segments: Array.isArray(r.segments) ? r.segments : null,
         tripped: r.tripped,
         trippedAt: r.trippedAt ? new Date(r.trippedAt).toISOString() : null,
         tripReason: r.tripReason,
@@ -506,6 +512,8 @@ export class PartAnalysis {
             // The socket's own accrual (a trip latches it); a socket that never accrued falls back on the run's hours.
             creditedHours: sock && (sock.accruedHours > 0 || sock.tripped) ? sock.accruedHours : run.stressHours,
             trip: sock?.tripped ? { atH: sock.accruedHours, at: sock.trippedAt, reason: sock.tripReason } : null,
+            // Only with the socket's own accrual: a fallback on the run's hours has no history of its own.
+            stressSegments: sock && (sock.accruedHours > 0 || sock.tripped) ? sock.segments : null,
           };
         }),
       };

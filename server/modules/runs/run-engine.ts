@@ -24,7 +24,8 @@ import { measureByMs } from '../../../shared/domain/standards';
 import type { PendingRunEvent } from './run-events';
 import { sortedReadPoints } from './run-view';
 import { batchAt, batchesAfter, firstInBand, socketSamples, toClockSample, type BatchRow } from './telemetry-reads';
-import { storeRunAccrual, storeSocketAccrual } from './runs.data';
+import { socketThetaJc, storeRunAccrual, storeSocketAccrual, storeSocketSegments } from './runs.data';
+import { intervalSegments, type SocketSegments } from './stress-segments';
 
 /** A missing seq is waited for this long (it may still arrive from the rig's outbox) before it is skipped. */
 export const GAP_WAIT_MS = 30_000;
@@ -145,6 +146,8 @@ interface AccrualFold {
   outcome: 'read-hold' | 'cooling' | null;
   holdIndex: number;
   processed: number;
+  /** Credited hours by estimated junction temperature, per socket (stress-segments.ts). */
+  segments: SocketSegments;
 }
 
 /**
@@ -160,6 +163,7 @@ function foldBatches(
   samples: Awaited<ReturnType<typeof socketSamples>>,
   firstPrev: ClockSample | null,
   now: Date,
+  segments: SocketSegments,
 ): AccrualFold {
   const socketIdx = sockets.map((s) => s.socketIndex);
   const latched = new Set(sockets.filter((s) => s.tripped).map((s) => s.socketIndex));
@@ -175,6 +179,7 @@ function foldBatches(
     outcome: null,
     holdIndex: -1,
     processed: 0,
+    segments,
   };
   for (const b of batches) {
     if (prev && b.seq !== prev.seq + 1 && now.getTime() - b.storedAt.getTime() < GAP_WAIT_MS) break;
@@ -185,6 +190,7 @@ function foldBatches(
       f.socketH.set(k, (f.socketH.get(k) ?? 0) + s / 3600);
       f.touched.add(k);
     }
+    if (prev) intervalSegments(f.segments, prev, cur, r.socketS, plan.humidityPct !== null);
     for (const k of r.newlyTripped) {
       latched.add(k);
       f.newlyTripped.add(k);
@@ -227,6 +233,13 @@ async function saveAccrual(m: EntityManager, run: RunEntity, f: AccrualFold, now
       changedSockets.map((k) => newlyTripped.has(k)),
     );
   }
+  const withSegments = [...touched].filter((k) => f.segments.bySocket.has(k)).sort((a, b) => a - b);
+  await storeSocketSegments(
+    m,
+    run.id,
+    withSegments,
+    withSegments.map((k) => JSON.stringify(f.segments.bySocket.get(k))),
+  );
 }
 
 /** The end of stress (→ cooling) or a read point (→ read-hold) with its read-point-due event. */
@@ -308,7 +321,11 @@ export async function accrueStep(
   }
 
   const rps = sortedReadPoints(plan);
-  const f = foldBatches(run, plan, rps, sockets, batches, samples, prev, now);
+  const segments: SocketSegments = {
+    thetaJc: await socketThetaJc(m, run.id),
+    bySocket: new Map(sockets.map((s) => [s.socketIndex, s.stressSegments ?? []])),
+  };
+  const f = foldBatches(run, plan, rps, sockets, batches, samples, prev, now, segments);
   if (!f.processed) return { changed: false, events: [] };
   await saveAccrual(m, run, f, now);
   const events = await stopEvents(m, deps, run, plan, rig, rps, f, now);

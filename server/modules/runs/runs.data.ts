@@ -43,6 +43,28 @@ export async function storeSocketAccrual(
   );
 }
 
+/** Accrual: θjc of the device type loaded in each of the run's sockets (for the junction estimate). */
+export async function socketThetaJc(m: EntityManager, runId: string): Promise<Map<number, number>> {
+  const rows: Array<{ socket: number; theta: unknown }> = await m.query(
+    `SELECT s.socket_index AS socket, t.theta_jc_c_per_w AS theta
+       FROM run_sockets s JOIN devices d ON d.id = s.device_id JOIN lots l ON l.id = d.lot_id JOIN device_types t ON t.id = l.device_type_id
+      WHERE s.run_id = $1`,
+    [runId],
+  );
+  return new Map(rows.map((r) => [Number(r.socket), Number(r.theta)]));
+}
+
+/** Accrual: each changed socket's credited hours by junction temperature (whole list, jsonb). */
+export async function storeSocketSegments(m: EntityManager, runId: string, sockets: number[], segments: string[]): Promise<void> {
+  if (!sockets.length) return;
+  await m.query(
+    `UPDATE run_sockets rs SET stress_segments = v.seg::jsonb
+       FROM unnest($1::int[], $2::text[]) AS v(socket, seg)
+       WHERE rs.run_id = $3 AND rs.socket_index = v.socket`,
+    [sockets, segments, runId],
+  );
+}
+
 /** Loaded and tripped socket counts of these runs (runs with no sockets have no row). */
 export function socketCountsOfRuns(
   m: EntityManager,

@@ -60,14 +60,21 @@ export async function socketSamples(
   const out = new Map<number, SocketSample[]>();
   if (!sockets.length || toSeq < fromSeq) return out;
   const rows: Array<Record<string, unknown>> = await m.query(
-    `SELECT seq, socket, v_v, bias_on, tripped FROM telemetry_samples
+    `SELECT seq, socket, v_v, bias_on, tripped, case_c, i_a FROM telemetry_samples
      WHERE rig_id = $1 AND seq >= $2 AND seq <= $3 AND socket = ANY($4::smallint[]) ORDER BY seq, socket`,
     [rigId, fromSeq, toSeq, sockets],
   );
   for (const r of rows) {
     const seq = Number(r.seq);
     const list = out.get(seq) ?? [];
-    list.push({ socket: Number(r.socket), vV: Number(r.v_v), biasOn: Boolean(r.bias_on), tripped: Boolean(r.tripped) });
+    list.push({
+      socket: Number(r.socket),
+      vV: Number(r.v_v),
+      biasOn: Boolean(r.bias_on),
+      tripped: Boolean(r.tripped),
+      caseC: Number(r.case_c),
+      iA: Number(r.i_a),
+    });
     out.set(seq, list);
   }
   return out;

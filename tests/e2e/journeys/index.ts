@@ -4,6 +4,7 @@ import { engineerPlanBook } from './engineer';
 import { engineerSplitSample, operatorReadPointEvidence } from './evidence';
 import { adminPeople, signInErrors, signInEveryRole } from './foundation';
 import { managerTrends } from './manager';
+import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
 import { operatorStartPermit } from './start-permit';
@@ -24,6 +25,7 @@ export const JOURNEYS: Journey[] = [
   // readings this one shows as an incomplete read point.
   managerLotVerdicts,
   operatorReadPointEvidence,
+  managerLotCredit,
   // Books and starts a run on OV-04 (idle in the demo): after every journey that reads the schedule.
   operatorStartPermit,
   adminRigs,
