@@ -47,6 +47,17 @@ export const operatorStartPermit: Journey = {
     const timeline = await json<{ rows: Array<{ rigId: string; code: string }> }>(eng.get('/api/runs/timeline'), 'timeline');
     const rig = timeline.rows.find((r) => r.code === 'OV-04');
     if (!plan || !lot || !rig) throw new Error('the demo data lacks the HPD-3P90 powered-life plan, lot HG2610-E or rig OV-04');
+    // Both sizes share the stack: a run this journey left open on OV-04 (a failed earlier size) is aborted first.
+    const open = await json<{ items: Array<{ id: string; code: string; rowVersion: number }> }>(
+      eng.get(`/api/runs?rigId=${rig.rigId}&open=1`),
+      'open runs on OV-04',
+    );
+    for (const r of open.items.filter((x) => x.code.startsWith('HOTL-2610-E'))) {
+      await json(
+        eng.post(`/api/runs/${r.id}/abort`, { data: { rowVersion: r.rowVersion, reason: 'Left open by an earlier journey size.' } }),
+        'cleanup',
+      );
+    }
     const booked = await json<{ id: string; code: string; rowVersion: number }>(
       eng.post('/api/runs', {
         data: {
@@ -61,17 +72,6 @@ export const operatorStartPermit: Journey = {
     );
     const first = j.size === 'phone' ? 121 : 125;
     const serials = [0, 1, 2, 3].map((k) => `E0${first + k}`);
-    // Both sizes share the stack: a run this journey left open on OV-04 (a failed earlier size) is aborted first.
-    const open = await json<{ items: Array<{ id: string; code: string; rowVersion: number }> }>(
-      eng.get(`/api/runs?rigId=${rig.rigId}&open=1`),
-      'open runs on OV-04',
-    );
-    for (const r of open.items.filter((x) => x.code.startsWith('HOTL-2610-E'))) {
-      await json(
-        eng.post(`/api/runs/${r.id}/abort`, { data: { rowVersion: r.rowVersion, reason: 'Left open by an earlier journey size.' } }),
-        'cleanup',
-      );
-    }
     const op = await apiAs(j.baseUrl, DEMO.operator);
     await json(
       op.put(`/api/runs/${booked.id}/sockets`, {
