@@ -18,6 +18,7 @@ import { runAnalytics } from './scenarios/analytics';
 import { runApi } from './scenarios/api';
 import { runIngest } from './scenarios/ingest';
 import { runProtection } from './scenarios/protection';
+import { runProtectionAtRating } from './scenarios/protection-at-rating';
 import { runWeb } from './scenarios/web';
 
 /** Hard stop for the whole run (every loop inside is bounded too). */
@@ -53,7 +54,7 @@ async function main(): Promise<number> {
     rss.start();
     const scenarios: Array<[string, () => Promise<unknown>]> = [
       ['ingest', () => runIngest(env!, rss!, log)],
-      ['protection', () => runProtection(env!, log)],
+      ['protection', async () => ({ ...(await runProtection(env!, log)), atRating: runProtectionAtRating(log) })],
       ['analytics', () => runAnalytics(env!, log)],
       ['api', () => runApi(env!, log)],
       ['web', () => runWeb(env!, log)],

@@ -26,6 +26,7 @@ import { MeasurementsService } from './modules/measurements/measurements.service
 import { NotificationsService } from './modules/notifications/notifications.service';
 import { PlansService } from './modules/plans/plans.service';
 import type { ProtectionMonitor } from './modules/protection/protection.monitor';
+import { TripResetService } from './modules/protection/trip-reset.service';
 import { RigsService } from './modules/rigs/rigs.service';
 import { RunsService } from './modules/runs/runs.service';
 import type { RunScheduler } from './modules/scheduler/scheduler';
@@ -53,6 +54,7 @@ export interface Services {
   telemetry: TelemetryService;
   alarms: AlarmsService;
   notifications: NotificationsService;
+  tripResets: TripResetService;
   /** Replaced (typed) when protection starts with its own retry options (protection/start.ts). */
   mail: MailService;
   /** Live parts: set while the background features run, undefined otherwise (or a test's fake link). */
@@ -108,6 +110,7 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     telemetry: new TelemetryService(ctx),
     alarms: new AlarmsService(ctx),
     notifications: new NotificationsService(ctx),
+    tripResets: new TripResetService(ctx),
     mail,
     rigLink: undefined,
     telemetryIngest: undefined,

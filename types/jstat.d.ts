@@ -16,6 +16,9 @@ declare module 'jstat' {
       inv(p: number, alpha: number, beta: number): number;
       cdf(x: number, alpha: number, beta: number): number;
     };
+    normal: {
+      cdf(x: number, mean: number, sd: number): number;
+    };
     studentt: {
       cdf(x: number, dof: number): number;
       inv(p: number, dof: number): number;

@@ -20,6 +20,10 @@ import { RigChart } from '@/components/charts/LazyCharts';
 import { fmtHours, rigState } from './RigTile';
 import { SocketBoard, TempLegend } from './SocketBoard';
 import { fmtC } from './temp-scale';
+import { TripResetDialog, rigAnswerText } from './TripResetDialog';
+import { useCan } from '@/components/queries/auth';
+import { Banner } from '@/components/ui/Banner';
+import type { TripResetResult } from '@/shared/schemas/protection';
 
 const SPANS = [
   { value: '15m', label: '15 min' },
@@ -40,7 +44,18 @@ function Row({ label, value }: { label: string; value: string }) {
   );
 }
 
-function SocketDetail({ s, plotted, onTogglePlot }: { s: FloorSocket; plotted: boolean; onTogglePlot: () => void }) {
+function SocketDetail({
+  s,
+  plotted,
+  onTogglePlot,
+  onResetTrip,
+}: {
+  s: FloorSocket;
+  plotted: boolean;
+  onTogglePlot: () => void;
+  /** Offered for a tripped socket of a stressing run to those who may reset it. */
+  onResetTrip?: () => void;
+}) {
   const fmt = (n: number | null, unit: string, digits = 3) => (n === null ? '—' : `${Number(n.toPrecision(digits))} ${unit}`);
   return (
     <Card
@@ -60,6 +75,7 @@ function SocketDetail({ s, plotted, onTogglePlot }: { s: FloorSocket; plotted: b
         {s.tripReason ? <Row label="Trip reason" value={s.tripReason} /> : null}
       </View>
       <Button size="sm" variant="secondary" label={plotted ? 'Remove from chart' : 'Plot on the chart'} onPress={onTogglePlot} />
+      {onResetTrip ? <Button size="sm" variant="danger" label="Reset trip…" onPress={onResetTrip} testID="reset-trip" /> : null}
     </Card>
   );
 }
@@ -69,6 +85,9 @@ function Board({ board, code }: { board: FloorBoard; code: string }) {
   const [selected, setSelected] = useState<number | null>(null);
   const [plotted, setPlotted] = useState<number[] | null>(null);
   const [span, setSpan] = useState<ChartSpan>('1h');
+  const can = useCan();
+  const [resetting, setResetting] = useState<FloorSocket | null>(null);
+  const [resetDone, setResetDone] = useState<TripResetResult | null>(null);
   const chart = useRigChart(code, span, plotted ?? []);
   const shownSockets = plotted ?? chart.data?.sockets.map((s) => s.socket) ?? [];
   const sel = selected !== null ? (board.sockets.find((s) => s.index === selected) ?? null) : null;
@@ -106,7 +125,19 @@ function Board({ board, code }: { board: FloorBoard; code: string }) {
             ) : null}
             <Row label="Last heard" value={formatDateTime(t.lastSeenAt)} />
           </Card>
-          {sel ? <SocketDetail s={sel} plotted={shownSockets.includes(sel.index)} onTogglePlot={() => toggle(sel.index)} /> : null}
+          {resetDone ? (
+            <Banner tone={resetDone.rig.bias.status === 'confirmed' ? 'ok' : 'warn'} testID="trip-reset-done">
+              {`Socket ${resetDone.socket} reset (plan check ${resetDone.planCheck.status}). ${rigAnswerText(resetDone)}`}
+            </Banner>
+          ) : null}
+          {sel ? (
+            <SocketDetail
+              s={sel}
+              plotted={shownSockets.includes(sel.index)}
+              onTogglePlot={() => toggle(sel.index)}
+              onResetTrip={sel.tripped && t.run?.state === 'stressing' && can('run.reset-trip') ? () => setResetting(sel) : undefined}
+            />
+          ) : null}
         </View>
       </View>
       <Card
@@ -120,6 +151,16 @@ function Board({ board, code }: { board: FloorBoard; code: string }) {
           {(c) => <RigChart chart={c} testID="rig-chart" />}
         </QueryState>
       </Card>
+      <TripResetDialog
+        socket={resetting}
+        rigCode={code}
+        run={t.run}
+        onClose={() => setResetting(null)}
+        onDone={(r) => {
+          setResetting(null);
+          setResetDone(r);
+        }}
+      />
     </>
   );
 }

@@ -16,6 +16,7 @@ import { floorRoutes } from './floor/floor.routes';
 import { telemetryRoutes } from './telemetry/telemetry.routes';
 import { runsRoutes } from './runs/runs.routes';
 import { evidenceRoutes } from './evidence/evidence.routes';
+import { protectionRoutes } from './protection/protection.routes';
 
 /** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
 export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
@@ -35,6 +36,7 @@ export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
   telemetryRoutes,
   runsRoutes,
   evidenceRoutes,
+  protectionRoutes,
 ];
 
 export function apiRouters(ctx: AppContext): ApiRouter[] {

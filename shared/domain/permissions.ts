@@ -26,6 +26,9 @@ export const PERMISSIONS = {
   'run.measurements-done': ['operator', 'engineer'],
   'run.abort': ['operator', 'engineer'],
   'run.retry': ['operator', 'engineer'],
+  // A protection trip is reset by the floor or an engineer, with a reason, after the plan check
+  // passes again for that socket's device (server/modules/protection/trip-reset.service.ts).
+  'run.reset-trip': ['operator', 'engineer'],
   'alarm.acknowledge': ['operator', 'engineer', 'admin'],
   // Lot-verdict evidence: the floor and engineers record dispositions; withdrawing one or letting a
   // flagged reading be judged is an engineer's call.

@@ -22,7 +22,8 @@
  *   line of P on T_case (simple-statistics), converted to the junction by ∂P/∂Tj = s/(1 + θjc·s)
  *   because Tj = T_case + θjc·P. Using the case rather than Tj as regressor keeps current noise out
  *   of both axes. Reported only when the case moved at least `minCaseSpanC` and the slope is
- *   significant; otherwise null (the window is too steady to show the feedback).
+ *   significant; otherwise null (the window is too steady to show the feedback). θca is bounded by
+ *   θja − θjc (DEFAULT_MAX_THETA_JA_C_PER_W): an oven spot a few kelvin hotter is not self-heating.
  *   Known bias: while the socket is still warming, part of the heat goes into thermal mass, the case
  *   sits below θca·P and the fitted θca (hence the loop gain) reads low. The loop-gain rule therefore
  *   catches quasi-static runaway (a chamber or socket drifting past its critical point); fast
@@ -55,30 +56,72 @@ export type SocketSample = TrendSample;
 export interface ProtectionDevice {
   tjMaxC: number;
   thetaJcCPerW: number;
+  /**
+   * Junction-to-ambient in free air (the data sheet's θja): the most a socket's heat path can be,
+   * so the fitted θca is bounded by θja − θjc. Absent: DEFAULT_MAX_THETA_JA_C_PER_W.
+   */
+  thetaJaCPerW?: number;
 }
+
+/**
+ * θja bound when the device gives none: 80 °C/W, above a TO-220 in free air (about 62 °C/W —
+ * from memory) and a TO-247's (about 40 °C/W — from memory). Why a bound at all: θca is fitted
+ * through the origin from (T_case − T_chamber) = θca·P, so a socket that sits 5 K above the chamber
+ * because of where it is in the oven, with the milliwatts of reverse bias, reads as θca ≈ 1000 °C/W
+ * and an absurd loop gain. A socket cannot hold its die hotter than free air would.
+ */
+export const DEFAULT_MAX_THETA_JA_C_PER_W = 80;
 
 export interface ProtectionOptions {
   /**
-   * Trip when Tj ≥ Tj max − marginC AND the socket runs at least selfHeatAllowanceC above its
-   * baseline (always at Tj ≥ Tj max). A stress meant to hold the junction near its rating (HTRB at
-   * 145 °C on a 150 °C part, powered life at Tj max − 5 °C) is not a runaway by itself; a socket
-   * heating beyond its peers on the same board is.
+   * The margin zone: Tj ≥ Tj max − marginC. Being in it is not a reason to trip by itself — HTRB
+   * at its rating holds every junction there on purpose, and oven non-uniformity (σ 3–6 °C) puts a
+   * quarter of the healthy sockets a few kelvin above their peers' median. Inside the zone a socket
+   * is tripped only when it is still climbing AND shows thermal feedback: its fitted loop gain is at
+   * least marginLoopGain, or (before the trend is established) it runs selfHeatAllowanceC above its
+   * peers and is projected to reach Tj max within horizonS. See judgeTrend for the criterion.
    */
   marginC: number;
-  /** See marginC: °C a socket must run above its baseline for the margin rule to apply. */
+  /** See marginC: °C a rising socket must run above its baseline for the early (pre-trend) zone rule. */
   selfHeatAllowanceC: number;
+  /**
+   * Inside the margin zone, a rising socket whose loop gain θ·∂P/∂Tj has reached this is tripped:
+   * the loop is approaching the stability limit G = 1 with no temperature margin left. At G = 0.5
+   * a stable socket's rise above the chamber is already doubled (ΔT = θ·P₀/(1 − G)); Emberlot's
+   * choice, not a standard's.
+   */
+  marginLoopGain: number;
   /**
    * The junction temperature this socket is expected to run at: the median of its energised peers
    * on the same rig (the monitor passes it). Absent: the chamber temperature of the latest sample.
    */
   baselineTjC?: number;
   /**
+   * The robust spread (1.4826 × median absolute deviation, °C) of the energised peers' junctions
+   * around that median; absent or NaN without peers. See peerOutlierZ.
+   */
+  peerSpreadC?: number;
+  /**
+   * Within the margin zone, a socket further above its peers' median than both peerOutlierMinC and
+   * peerOutlierZ × peerSpreadC is not part of the oven's spread (σ 3–6 °C puts 4σ at 12–24 °C): a
+   * failing heat sink holding its junction 30 K above the board trips even when steady. Emberlot's
+   * choice (a 4σ outlier of a normal spread is 3 in 100,000 sockets), not a standard's.
+   */
+  peerOutlierMinC: number;
+  peerOutlierZ: number;
+  /**
    * Trip when Tj max is projected within this many stress-clock seconds. Default 60 s: several
    * telemetry intervals (rigs report every few seconds) for the trend to confirm, the command round
    * trip over MQTT and the rig's bias relay, with room to spare; raise it for slow telemetry.
    */
   horizonS: number;
-  /** Warn when Tj ≥ Tj max − marginC − warnExtraMarginC. */
+  /**
+   * The projection counts only when the current slope alone would reach Tj max within this many
+   * horizons: curvature may shorten the time, not supply all of it (the oven's swing has little
+   * slope and much curvature at each trough).
+   */
+  projectionRateFactor: number;
+  /** Warn when Tj ≥ Tj max − marginC − warnExtraMarginC while rising above the baseline. */
   warnExtraMarginC: number;
   /** Warn when the projection is within this multiple of the trip horizon. */
   warnHorizonFactor: number;
@@ -91,7 +134,8 @@ export interface ProtectionOptions {
   /**
    * Trend rules (projection, loop gain) wait until the bias-on stretch spans this many seconds:
    * just after bias is applied a settling approach still looks straight, and a straight-line
-   * projection of it would cry wolf. The temperature threshold applies from the first sample.
+   * projection of it would cry wolf. Before that only the hard limit and the early zone rule
+   * (rising, above its peers, within the margin zone) apply.
    */
   minTrendS: number;
   /** Standard errors a slope or curvature must exceed to count. */
@@ -105,7 +149,11 @@ export interface ProtectionOptions {
 export const DEFAULT_PROTECTION_OPTIONS: ProtectionOptions = {
   marginC: 10,
   selfHeatAllowanceC: 3,
+  marginLoopGain: 0.5,
+  peerOutlierMinC: 10,
+  peerOutlierZ: 4,
   horizonS: 60,
+  projectionRateFactor: 2,
   warnExtraMarginC: 10,
   warnHorizonFactor: 5,
   warnLoopGain: 0.5,
@@ -154,7 +202,8 @@ const REG = new Float64Array(REG_LEN);
 let lgLoopGain: number | null = null;
 let lgThetaCa: number | null = null;
 
-function estimateLoopGain(trend: SocketTrend, thetaJc: number, opts: ProtectionOptions): void {
+function estimateLoopGain(trend: SocketTrend, device: ProtectionDevice, opts: ProtectionOptions): void {
+  const thetaJc = device.thetaJcCPerW;
   trend.caseRegressionTo(REG);
   lgLoopGain = null;
   lgThetaCa = null;
@@ -168,19 +217,39 @@ function estimateLoopGain(trend: SocketTrend, thetaJc: number, opts: ProtectionO
   const se = Math.sqrt(REG[REG_RSS] / (n - 2) / sxx);
   if (!(Math.abs(s) > opts.significanceZ * se)) return;
   const dPdTj = s / (1 + thetaJc * s);
-  lgLoopGain = (thetaJc + Math.max(0, thetaCa)) * dPdTj;
+  const thetaCaMax = Math.max(0, (device.thetaJaCPerW ?? DEFAULT_MAX_THETA_JA_C_PER_W) - thetaJc);
+  lgLoopGain = (thetaJc + Math.min(thetaCaMax, Math.max(0, thetaCa))) * dPdTj;
 }
 
+/** A fitted loop gain far above 1 only says "runaway": the digits would be noise. */
+const fmtGain = (g: number) => (g > 10 ? 'above 10' : g.toFixed(2));
 const f1 = (x: number) => (Math.round(x * 10) / 10).toFixed(1);
 
 /**
- * Decide for the latest sample of one socket. Trip when:
- * 1. Tj ≥ Tj max, or Tj ≥ Tj max − marginC while the socket runs selfHeatAllowanceC above its
- *    baseline (peers' median junction, else the chamber); or
+ * Decide for the latest sample of one socket.
+ *
+ * The criterion is the thermal-runaway stability condition of a device and its heat path: with
+ * θ = θjc + θca and P(Tj) the dissipation, the loop is stable while the loop gain
+ * G = θ·∂P/∂Tj < 1 and runs away once θ·∂P/∂Tj ≥ 1 (the thermal-stability condition
+ * ∂P/∂Tj < 1/θ of bipolar transistor texts, e.g. Millman & Halkias, Integrated Electronics,
+ * 1972, on thermal runaway — from memory). Under reverse bias P = V·I(T), so
+ * G = θ·P·d(ln I)/dT: leakage and temperature feeding each other. A stable socket settles at
+ * Ta + θ·P/(1 − G) wherever that is: a steady socket a few kelvin above its peers is spread, not
+ * runaway.
+ *
+ * Trip when:
+ * 1. Tj ≥ Tj max (the hard limit, whatever the trend); or
  * 2. the loop-gain estimate is ≥ 1 and Tj is (significantly) rising; or
- * 3. Tj max is projected within horizonS.
- * Warn when Tj is within a further warnExtraMarginC, the loop gain is ≥ warnLoopGain, or the
- * projection is within warnHorizonFactor × horizonS.
+ * 3. Tj max is projected within horizonS; or
+ * 4. Tj ≥ Tj max − marginC (the margin zone) and Tj is still rising, and either the loop gain has
+ *    reached marginLoopGain (approaching 1), or — before the trend is established (minTrendS) —
+ *    the socket runs selfHeatAllowanceC above its peers (median) and is projected to reach Tj max
+ *    within horizonS (a socket with no heat sinking from bias-on climbs from the zone's edge to Tj
+ *    max in seconds).
+ * 5. in the margin zone, Tj sits further above its peers' median than peerOutlierMinC and
+ *    peerOutlierZ × their robust spread: not oven spread but a failing heat path (even if steady).
+ * Warn when Tj is within a further warnExtraMarginC and rising above its baseline, the loop gain is
+ * ≥ warnLoopGain, or the projection is within warnHorizonFactor × horizonS.
  */
 export function assessSocket(
   history: SocketSample[],
@@ -190,7 +259,7 @@ export function assessSocket(
   const opts = { ...DEFAULT_PROTECTION_OPTIONS, ...options };
   const trend = new SocketTrend(opts.windowS, Math.max(history.length, 1));
   for (const s of history) trend.push(s, device.thetaJcCPerW);
-  return assessTrend(trend, device, opts, opts.baselineTjC);
+  return assessTrend(trend, device, opts, opts.baselineTjC, opts.peerSpreadC ?? NaN);
 }
 
 /**
@@ -217,6 +286,7 @@ export function judgeTrend(
   device: ProtectionDevice,
   opts: ProtectionOptions = DEFAULT_PROTECTION_OPTIONS,
   baselineTjC: number | undefined = opts.baselineTjC,
+  peerSpreadC: number = opts.peerSpreadC ?? NaN,
 ): ProtectionAction {
   if (!trend.hasLast) {
     J.fill(NaN);
@@ -232,45 +302,83 @@ export function judgeTrend(
   let rising = false;
   let loopGain: number | null = null;
   let thetaCa: number | null = null;
+  /** Before minTrendS: rising and projected to Tj max within horizonS (only the zone rules read it). */
+  let earlyClimb = false;
+  /** Seconds to Tj max at the current slope alone (Infinity when not rising). */
+  let linearS = Infinity;
 
-  if (trend.lastBiasOn && trend.count >= opts.minSamples && trend.spanS >= opts.minTrendS) {
+  if (trend.lastBiasOn && trend.count >= opts.minSamples) {
+    const established = trend.spanS >= opts.minTrendS;
     if (trend.quadraticFitTo(FIT)) {
       const fitSlope = FIT[FIT_SLOPE];
-      slope = fitSlope;
-      rising = fitSlope > opts.minRiseCPerS && fitSlope > opts.significanceZ * FIT[FIT_SLOPE_SE];
+      const up = fitSlope > opts.minRiseCPerS && fitSlope > opts.significanceZ * FIT[FIT_SLOPE_SE];
       const accel = Math.abs(FIT[FIT_ACCEL]) > opts.significanceZ * FIT[FIT_ACCEL_SE] ? FIT[FIT_ACCEL] : 0;
-      if (rising) seconds = projectSecondsToLimit(device.tjMaxC - Math.max(FIT[FIT_C0], tj), fitSlope, accel);
+      const gap = device.tjMaxC - Math.max(FIT[FIT_C0], tj);
+      const s = up ? projectSecondsToLimit(gap, fitSlope, accel) : null;
+      // A projection that needs the curvature to get there in time must also be rising at a real
+      // rate: the oven's control swing gives a small slope with a large curvature near each trough,
+      // which, extrapolated as exponential growth, once "reached" the rating of a healthy socket
+      // sitting 5 °C under it (tests/unit/safety/protection-at-rating.test.ts).
+      linearS = up ? gap / fitSlope : Infinity;
+      if (established) {
+        slope = fitSlope;
+        rising = up;
+        seconds = s;
+      }
     }
-    estimateLoopGain(trend, device.thetaJcCPerW, opts);
-    loopGain = lgLoopGain;
-    thetaCa = lgThetaCa;
+    if (established) {
+      estimateLoopGain(trend, device, opts);
+      loopGain = lgLoopGain;
+      thetaCa = lgThetaCa;
+    }
+  }
+
+  if (trend.lastBiasOn && trend.count >= 3 && trend.spanS < opts.minTrendS) {
+    // Before the trend is established (a fit of few samples has an uncertain standard error, so
+    // noise can pass its z test): a climb of at least selfHeatAllowanceC since bias came on, still
+    // going at the last step at a rate that reaches Tj max within horizonS.
+    const dt = trend.timeBack(0) - trend.timeBack(1);
+    const rate = dt > 0 ? (tj - trend.tjBack(1)) / dt : 0;
+    earlyClimb = tj - trend.tjBack(trend.count - 1) >= opts.selfHeatAllowanceC && rate > 0 && device.tjMaxC - tj < rate * opts.horizonS;
   }
 
   // No closures here: this runs for every socket-sample, and each one allocated.
   const tjMaxC = device.tjMaxC;
   const baseline = baselineTjC ?? trend.lastChamberC;
   const aboveBaseline = tj - baseline >= opts.selfHeatAllowanceC;
+  const inZone = tj >= tripAt;
   let action: ProtectionAction = 'none';
   let text: string | null = null;
   if (tj >= tjMaxC) {
     action = 'trip';
     text = `${tjDescription(tj, tjMaxC)} has reached the rating`;
-  } else if (tj >= tripAt && aboveBaseline) {
-    action = 'trip';
-    text = `${tjDescription(tj, tjMaxC)} is within ${opts.marginC} °C of the rating and ${f1(tj - baseline)} °C above its peers/chamber`;
   } else if (loopGain !== null && loopGain >= 1 && rising) {
     action = 'trip';
-    text = `${tjDescription(tj, tjMaxC)} rising with loop gain ${loopGain.toFixed(2)} ≥ 1: thermal runaway`;
-  } else if (seconds !== null && seconds < opts.horizonS) {
+    text = `${tjDescription(tj, tjMaxC)} rising with loop gain ${fmtGain(loopGain)} ≥ 1: thermal runaway`;
+  } else if (seconds !== null && seconds < opts.horizonS && linearS < opts.projectionRateFactor * opts.horizonS) {
     action = 'trip';
     text = `${tjDescription(tj, tjMaxC)} projected to reach the rating in ${Math.round(seconds)} s`;
-  } else if (tj >= tripAt - opts.warnExtraMarginC && aboveBaseline) {
+  } else if (inZone && rising && loopGain !== null && loopGain >= opts.marginLoopGain) {
+    action = 'trip';
+    text = `${tjDescription(tj, tjMaxC)} is within ${opts.marginC} °C of the rating and still rising with loop gain ${fmtGain(loopGain)}: leakage and temperature feed each other`;
+  } else if (
+    inZone &&
+    baselineTjC !== undefined &&
+    peerSpreadC >= 0 &&
+    tj - baselineTjC >= Math.max(opts.peerOutlierMinC, opts.peerOutlierZ * peerSpreadC)
+  ) {
+    action = 'trip';
+    text = `${tjDescription(tj, tjMaxC)} is within ${opts.marginC} °C of the rating and ${f1(tj - baselineTjC)} °C above its peers, beyond the board's spread (±${f1(peerSpreadC)} °C): its heat path is failing`;
+  } else if (inZone && earlyClimb && aboveBaseline) {
+    action = 'trip';
+    text = `${tjDescription(tj, tjMaxC)} is within ${opts.marginC} °C of the rating, ${f1(tj - baseline)} °C above its peers/chamber and climbing fast`;
+  } else if (tj >= tripAt - opts.warnExtraMarginC && aboveBaseline && (rising || earlyClimb)) {
     action = 'warn';
-    text = `${tjDescription(tj, tjMaxC)} within ${opts.marginC + opts.warnExtraMarginC} °C of the rating`;
+    text = `${tjDescription(tj, tjMaxC)} within ${opts.marginC + opts.warnExtraMarginC} °C of the rating and rising above its peers`;
   } else if (loopGain !== null && loopGain >= opts.warnLoopGain) {
     action = 'warn';
     text = `${tjDescription(tj, tjMaxC)}, loop gain ${loopGain.toFixed(2)}: strong thermal feedback`;
-  } else if (seconds !== null && seconds < opts.warnHorizonFactor * opts.horizonS) {
+  } else if (seconds !== null && seconds < opts.warnHorizonFactor * opts.horizonS && linearS < opts.warnHorizonFactor * opts.horizonS) {
     action = 'warn';
     text = `${tjDescription(tj, tjMaxC)} projected to reach the rating in ${Math.round(seconds)} s`;
   }
@@ -294,6 +402,7 @@ export function assessTrend(
   device: ProtectionDevice,
   opts: ProtectionOptions = DEFAULT_PROTECTION_OPTIONS,
   baselineTjC: number | undefined = opts.baselineTjC,
+  peerSpreadC: number = opts.peerSpreadC ?? NaN,
 ): SocketAssessment {
   if (!trend.hasLast)
     return {
@@ -305,7 +414,7 @@ export function assessTrend(
       action: 'none',
       reason: 'No samples yet',
     };
-  const action = judgeTrend(trend, device, opts, baselineTjC);
+  const action = judgeTrend(trend, device, opts, baselineTjC, peerSpreadC);
   return new Assessment(
     J[J_TJ],
     orNull(J[J_LOOP_GAIN]),

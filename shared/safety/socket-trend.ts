@@ -191,6 +191,20 @@ export class SocketTrend {
     return this.count > 0 ? this.timeAt(this.end - 1) - this.timeAt(this.start) : 0;
   }
 
+  /**
+   * The junction estimate of the k-th newest sample of the stretch (0 = latest), and its time; NaN
+   * when the stretch holds fewer. Protection's early rule reads the first and the previous sample.
+   */
+  tjBack(k: number): number {
+    if (k < 0 || k >= this.count) return NaN;
+    const at = HEAD + ((this.end - 1 - k) & (this.cap - 1)) * STRIDE;
+    return this.b[at + F_CASE] + this.b[S_THETA_JC] * this.b[at + F_POWER];
+  }
+
+  timeBack(k: number): number {
+    return k < 0 || k >= this.count ? NaN : this.timeAt(this.end - 1 - k);
+  }
+
   private timeAt(k: number): number {
     return this.b[HEAD + (k & (this.cap - 1)) * STRIDE + F_T];
   }

@@ -123,6 +123,11 @@ export class SocketJudge {
   private defaultDeviceInfo: DeviceInfo | null = null;
   /** peerBaseline's scratch: one slot per socket a message can carry. */
   private readonly peerScratch = new Float64Array(MAX_SOCKETS);
+  /**
+   * The robust spread (1.4826 × MAD, °C) of the peers peerBaseline last saw; NaN without peers.
+   * Read it right after peerBaseline (the monitor keeps it with the baseline for the message).
+   */
+  peerSpreadC = NaN;
 
   constructor(opts: JudgeOptions) {
     this.opts = opts;
@@ -212,10 +217,16 @@ export class SocketJudge {
       if (!dev) continue;
       tjs[n++] = caseC[k] + dev.device.thetaJcCPerW * Math.abs(vV[k]) * Math.abs(iA[k]);
     }
+    this.peerSpreadC = NaN;
     if (n < 3) return undefined;
     const sorted = tjs.subarray(0, n).sort();
     const mid = n >> 1;
-    return n % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
+    const median = n % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
+    // Median absolute deviation, in the same scratch (the sorted values are no longer needed).
+    for (let k = 0; k < n; k++) sorted[k] = Math.abs(sorted[k] - median);
+    sorted.sort();
+    this.peerSpreadC = 1.4826 * (n % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2);
+    return median;
   }
 
   /**
@@ -268,18 +279,24 @@ export class SocketJudge {
   }
 
   /** The sample into the socket's window, then the runaway verdict. */
-  runaway(st: SocketState, dev: DeviceInfo | null, sample: SocketSample, baselineTjC: number | undefined): RunawayVerdict {
+  runaway(
+    st: SocketState,
+    dev: DeviceInfo | null,
+    sample: SocketSample,
+    baselineTjC: number | undefined,
+    peerSpreadC = NaN,
+  ): RunawayVerdict {
     st.trend.push(sample, dev?.device.thetaJcCPerW ?? 0);
     if (!dev || !sample.biasOn || st.tripCmdId) return 'not-judged';
     const p = this.opts.protection;
     // The decision first, allocating nothing; the assessment itself (same inputs, same answer)
     // only when there is something to report.
-    if (judgeTrend(st.trend, dev.device, p, baselineTjC) === 'none') {
+    if (judgeTrend(st.trend, dev.device, p, baselineTjC, peerSpreadC) === 'none') {
       st.warnStreak = 0;
       st.calm++;
       return st.calm >= this.opts.warnClearSamples ? 'calm-long' : 'calm';
     }
-    const a = assessTrend(st.trend, dev.device, p, baselineTjC);
+    const a = assessTrend(st.trend, dev.device, p, baselineTjC, peerSpreadC);
     if (a.action === 'warn') {
       st.calm = 0;
       st.warnStreak++;
@@ -288,8 +305,8 @@ export class SocketJudge {
   }
 
   /** The assessment behind a 'calm-long' verdict (its reason clears the warning). */
-  calmAssessment(st: SocketState, dev: DeviceInfo, baselineTjC: number | undefined): SocketAssessment {
-    return assessTrend(st.trend, dev.device, this.opts.protection, baselineTjC);
+  calmAssessment(st: SocketState, dev: DeviceInfo, baselineTjC: number | undefined, peerSpreadC = NaN): SocketAssessment {
+    return assessTrend(st.trend, dev.device, this.opts.protection, baselineTjC, peerSpreadC);
   }
 
   /** A 'warn' assessment that has held for warnAfterSamples. */

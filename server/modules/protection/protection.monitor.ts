@@ -287,11 +287,12 @@ export class ProtectionMonitor {
 
     const run = await this.runFor(m.rigId);
     const baselineTjC = this.judge.peerBaseline(m, run);
+    const spreadC = this.judge.peerSpreadC;
     this.warmSink = this.judge.touch(rig, m);
     for (let k = 0; k < m.socket.length; k++) {
       // Most sockets are judged without waiting on anything: only an alarm to raise or clear, or a
       // bias/leakage check that writes, hands back a promise.
-      const pending = this.onSocket(m, rig, run, k, baselineTjC);
+      const pending = this.onSocket(m, rig, run, k, baselineTjC, spreadC);
       if (pending) await pending;
     }
     await this.onAmbient(m, rig, run);
@@ -303,7 +304,14 @@ export class ProtectionMonitor {
    * microtask for each of thousands of sockets per second was a good part of the ingest's CPU. The
    * steps and their order are the same either way.
    */
-  private onSocket(m: TelemetryLanded, rig: RigState, run: RunContext | null, k: number, baselineTjC?: number): Promise<void> | undefined {
+  private onSocket(
+    m: TelemetryLanded,
+    rig: RigState,
+    run: RunContext | null,
+    k: number,
+    baselineTjC: number | undefined,
+    spreadC: number,
+  ): Promise<void> | undefined {
     const i = m.socket[k];
     const st = this.judge.socketState(rig, i);
     const sample = this.judge.sampleAt(m, k);
@@ -317,9 +325,9 @@ export class ProtectionMonitor {
       // The trip's condition is over (the alarm stays until acknowledged).
       return this.conditions
         .clear('runaway-trip', m.rigId, i, { reason: 'trip latch reset' })
-        .then(() => this.judgeSocket(m, rig, run, i, st, sample, baselineTjC));
+        .then(() => this.judgeSocket(m, rig, run, i, st, sample, baselineTjC, spreadC));
     }
-    return this.judgeSocket(m, rig, run, i, st, sample, baselineTjC);
+    return this.judgeSocket(m, rig, run, i, st, sample, baselineTjC, spreadC);
   }
 
   /** The runaway verdict of an untripped socket, then its bias and leakage checks. */
@@ -331,20 +339,23 @@ export class ProtectionMonitor {
     st: SocketState,
     sample: SocketSample,
     baselineTjC: number | undefined,
+    spreadC: number,
   ): Promise<void> | undefined {
     if (this.judge.tripNeedsResend(st, sample)) {
       // Still energised and the command never got through: try again with the same cmdId.
       this.track(this.trips.resend({ rigId: m.rigId, rigCode: m.rigCode, socket: i }, run?.runId ?? null, st));
     }
     const dev = this.judge.deviceFor(run, i);
-    const v = this.judge.runaway(st, dev, sample, baselineTjC);
+    const v = this.judge.runaway(st, dev, sample, baselineTjC, spreadC);
     let alarm: Promise<void> | undefined;
     if (v !== 'not-judged') this.stats.assessments++;
     if (v === 'not-judged' || v === 'calm') {
       // nothing to report
     } else if (v === 'calm-long') {
       if (dev && this.conditions.isActive('runaway-warning', m.rigId, i)) {
-        alarm = this.conditions.clear('runaway-warning', m.rigId, i, { reason: this.judge.calmAssessment(st, dev, baselineTjC).reason });
+        alarm = this.conditions.clear('runaway-warning', m.rigId, i, {
+          reason: this.judge.calmAssessment(st, dev, baselineTjC, spreadC).reason,
+        });
       }
     } else if (dev) {
       if (v.action === 'trip') this.startTrip(m, run, i, st, sample, v, dev);

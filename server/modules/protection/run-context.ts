@@ -36,9 +36,10 @@ export interface RunContext {
   sockets: Map<number, SocketDevice>;
 }
 
-export const deviceOf = (t: Pick<DeviceTypeEntity, 'tjMaxC' | 'thetaJcCPerW'>): ProtectionDevice => ({
+export const deviceOf = (t: Pick<DeviceTypeEntity, 'tjMaxC' | 'thetaJcCPerW' | 'thetaJaCPerW'>): ProtectionDevice => ({
   tjMaxC: t.tjMaxC,
   thetaJcCPerW: t.thetaJcCPerW,
+  thetaJaCPerW: t.thetaJaCPerW,
 });
 
 /**

@@ -7,6 +7,7 @@ import { managerTrends } from './manager';
 import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
+import { engineerTripReset } from './trip-reset';
 import { operatorStartPermit } from './start-permit';
 
 /**
@@ -26,6 +27,7 @@ export const JOURNEYS: Journey[] = [
   managerLotVerdicts,
   operatorReadPointEvidence,
   managerLotCredit,
+  engineerTripReset,
   // Books and starts a run on OV-04 (idle in the demo): after every journey that reads the schedule.
   operatorStartPermit,
   adminRigs,
