@@ -9,6 +9,7 @@ import * as fs from 'node:fs';
 import * as path from 'node:path';
 import type { DataSource } from 'typeorm';
 import { ON_RIG_STATES } from '../shared/domain/run-states';
+import { chamberSetpointC, type ChamberBandK } from '../shared/domain/standards';
 import { REVERSE_BIAS_KINDS } from '../shared/domain/stress';
 import type { Bias } from '../shared/schemas/plans';
 import { DEMO_LOTS, demoRigSecret, rigMqttUsername } from '../server/seed/demo-data';
@@ -47,10 +48,11 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
     state: string;
     kind: string;
     chamber_c: number;
+    chamber_band: ChamberBandK;
     humidity_pct: number | null;
     bias: Partial<Bias> | null;
   }> = await ds.query(
-    `SELECT r.id, r.rig_id, r.state, p.kind, p.chamber_c, p.humidity_pct, p.bias
+    `SELECT r.id, r.rig_id, r.state, p.kind, p.chamber_c, p.chamber_band, p.humidity_pct, p.bias
          FROM runs r JOIN stress_plans p ON p.id = r.plan_id
         WHERE r.rig_id IS NOT NULL AND r.state = ANY($1) ORDER BY r.created_at`,
     [ON_RIG_STATES],
@@ -113,8 +115,8 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
       devices,
       mode: reverse ? 'reverse' : 'powered',
       biasOn: stressing,
-      chamberC: stressing ? run.chamber_c : 25,
-      setpointC: stressing ? run.chamber_c : 25,
+      chamberC: stressing ? chamberSetpointC(run.chamber_c, run.chamber_band) : 25,
+      setpointC: stressing ? chamberSetpointC(run.chamber_c, run.chamber_band) : 25,
       humidityPct: run.humidity_pct,
       vV: reverse ? (bias.vcbV ?? 0) : (bias.vceV ?? 0),
       // Powered: the plan's forced IB, or the collector current the rig regulates (icA).

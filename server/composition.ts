@@ -13,6 +13,8 @@ import type { ServerConfig } from './config';
 import type { AppContext } from './context';
 import { createEventBus } from './events';
 import { AnalyticsService } from './modules/analytics/analytics.service';
+import { ApprovalsService } from './modules/approvals/approvals.service';
+import { SignoffService } from './modules/signoff/signoff.service';
 import { AlarmsService } from './modules/alarms/alarms.service';
 import { AuditService } from './modules/audit/audit.service';
 import { AuthService } from './modules/auth/auth.service';
@@ -47,6 +49,8 @@ export interface Services {
   measurements: MeasurementsService;
   analytics: AnalyticsService;
   evidence: EvidenceService;
+  approvals: ApprovalsService;
+  signoff: SignoffService;
   runs: RunsService;
   rigs: RigsService;
   floor: FloorService;
@@ -93,16 +97,20 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
   const now = () => ctx.now();
   const floor = new FloorService(ctx);
   const mail = new MailService(ctx, overrides.mail);
+  const auth = new AuthService(ctx.ds, ctx.audit, now);
+  const analytics = new AnalyticsService(ctx.ds);
   return {
     passport: new Passport(),
-    auth: new AuthService(ctx.ds, ctx.audit, now),
+    auth,
     users: new UsersService(ctx.ds, ctx.audit),
     deviceTypes: new DeviceTypesService(ctx.ds, ctx.audit),
     lots: new LotsService(ctx.ds, ctx.audit),
     plans: new PlansService(ctx.ds, ctx.audit, now),
     measurements: new MeasurementsService(ctx.ds, ctx.audit, now),
-    analytics: new AnalyticsService(ctx.ds),
+    analytics,
     evidence: new EvidenceService(ctx.ds, ctx.audit, now),
+    approvals: new ApprovalsService(ctx.ds, ctx.audit, now),
+    signoff: new SignoffService(ctx.ds, ctx.audit, auth, analytics, now),
     runs: new RunsService(ctx),
     rigs: new RigsService(ctx),
     floor,

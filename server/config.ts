@@ -40,6 +40,12 @@ export interface ServerConfig {
   /** Telemetry messages per ingest transaction, and transactions in flight (telemetry/ingest.ts). */
   ingestMaxBatch: number;
   ingestInFlight: number;
+  /**
+   * Sign-in attempts per client address per 15 min (EMBERLOT_SIGN_IN_MAX_PER_WINDOW; default
+   * SIGN_IN_MAX_PER_WINDOW in auth.routes.ts). The browser journeys sign every role in from one
+   * address many times and raise it for their own stack only.
+   */
+  signInMaxPerWindow?: number;
 }
 
 export type TrustProxy = false | number | string[];
@@ -143,5 +149,6 @@ export function configFromEnv(env: Env = process.env): ServerConfig {
     rollupFlushMs: Math.max(100, int(env.EMBERLOT_ROLLUP_FLUSH_MS, 5_000)),
     ingestMaxBatch: Math.max(1, int(env.EMBERLOT_INGEST_MAX_BATCH, 200)),
     ingestInFlight: Math.max(1, int(env.EMBERLOT_INGEST_IN_FLIGHT, 2)),
+    ...(env.EMBERLOT_SIGN_IN_MAX_PER_WINDOW ? { signInMaxPerWindow: Math.max(1, int(env.EMBERLOT_SIGN_IN_MAX_PER_WINDOW, 30)) } : {}),
   };
 }

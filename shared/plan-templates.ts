@@ -9,8 +9,9 @@
  */
 import { grouped, sigFigures } from './domain/format';
 import {
-  CHAMBER_TOLERANCE_PCT,
   DEFAULT_BIAS_TOLERANCE_PCT,
+  METHOD_CHAMBER_BAND_K,
+  bandText,
   DEFAULT_DURATION_H,
   DEFAULT_EA_EV,
   DEFAULT_READ_POINTS_H,
@@ -19,6 +20,7 @@ import {
   ROOM_AMBIENT_C,
 } from './domain/standards';
 import { estimateBvceo } from './physics';
+import { JUNCTION_WARN_MARGIN_K } from './safety/plan-rules/types';
 import type { DeviceTypeInput } from './schemas/devices';
 import { criteriaSchema, PLAN_KIND_LABEL, type PlanInput, type PlanTemplate, type TemplateRule } from './schemas/plans';
 
@@ -28,7 +30,7 @@ export const SOURCES = {
   iol: '[pub: MIL-STD-750 method 1037 as used by AEC-Q101]',
   thb: '[pub: JESD22-A101]',
   readPoints: '[practice]',
-  chamberBand: '[pub: MIL-STD-750 general requirements §4.5]',
+  chamberBand: '[memory: JESD22-A108 / MIL-STD-750 — stress temperature a minimum, +5/−0 K; confirm]',
   criteria: '[pub: MIL-PRF-19500 slash-sheet delta limits]',
   ea: '[practice]',
   aecSampleMemory: '[memory: AEC-Q101 test table — 3 lots × 77, accept 0; confirm against the current revision]',
@@ -39,10 +41,8 @@ export const SOURCES = {
 export const TEMPLATE_READ_POINTS_H = DEFAULT_READ_POINTS_H;
 export const TEMPLATE_DURATION_H = DEFAULT_DURATION_H;
 export { REVERSE_BIAS_FRACTION };
-/** Chamber held within ± this fraction of its set point (°C value). */
-export const CHAMBER_BAND = CHAMBER_TOLERANCE_PCT / 100;
-/** Powered life: aim the junction this far below Tj max (spread of θja and gain across a lot). */
-export const POWERED_TJ_MARGIN_C = 5;
+/** Powered life: aim the junction this far below Tj max (spread of θja and gain across a lot) — the plan check's warning margin. */
+export const POWERED_TJ_MARGIN_C = JUNCTION_WARN_MARGIN_K;
 /** Powered life and cycling run from room ambient; the parts heat themselves. */
 export const POWERED_AMBIENT_C = ROOM_AMBIENT_C;
 /** Preferred collector-emitter voltage for powered stresses: VCB 10–30 V in the source. */
@@ -82,11 +82,6 @@ const amps = (a: number) => (a < 1 ? `${sig(a * 1000)} mA` : `${sig(a)} A`);
 /** Reverse bias at `fraction` of BVCBO, to 0.1 V, never above the exact fraction. */
 export function reverseBiasVoltage(bvcboV: number, fraction = REVERSE_BIAS_FRACTION): number {
   return roundDown(bvcboV * fraction, 0.1);
-}
-
-/** Highest whole-degree chamber set point whose +3 % band edge stays at or below Tj max. */
-export function chamberBelowTjMax(tjMaxC: number): number {
-  return Math.floor(tjMaxC / (1 + CHAMBER_BAND) + 1e-9);
 }
 
 function bvceoOf(d: Device): { v: number; estimated: boolean } {
@@ -169,7 +164,7 @@ function htrb(d?: Device): PlanTemplate {
         { label: 'VCB', value: '80 % of the rated BVCBO', source: SOURCES.htrb },
         {
           label: 'Chamber',
-          value: `Tj max less the +${CHAMBER_TOLERANCE_PCT} % chamber band`,
+          value: `Tj max as the minimum, band ${bandText(METHOD_CHAMBER_BAND_K.htrb)}`,
           source: `${SOURCES.htrb} Tj at rated max; band ${SOURCES.chamberBand}`,
         },
         { label: 'Sample', value: `${HTRB_SAMPLE.n} per lot, accept ${HTRB_SAMPLE.c} (3 lots for a qualification)`, source: SOURCES.htrb },
@@ -177,14 +172,16 @@ function htrb(d?: Device): PlanTemplate {
       ],
     };
   }
-  const chamberC = chamberBelowTjMax(d.tjMaxC);
+  const chamberC = d.tjMaxC;
+  const band = METHOD_CHAMBER_BAND_K.htrb;
   const vcbV = reverseBiasVoltage(d.bvcboV);
-  const title = `HTRB ${chamberC} °C, 80 % VCBO, 1000 h (JESD22-A108)`;
+  const title = `HTRB ${sig(chamberC, 4)} °C (Tj max), 80 % VCBO, 1000 h (JESD22-A108)`;
   const plan: PlanInput = {
     ...basePlan(d),
     name: title,
     kind: 'htrb',
     chamberC,
+    chamberBand: { ...band },
     humidityPct: null,
     bias: { vcbV, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: DEFAULT_BIAS_TOLERANCE_PCT },
     sampleSize: HTRB_SAMPLE.n,
@@ -203,7 +200,7 @@ function htrb(d?: Device): PlanTemplate {
       { label: 'VCB', value: `${sig(vcbV)} V = 80 % of BVCBO ${sig(d.bvcboV)} V`, source: SOURCES.htrb },
       {
         label: 'Chamber',
-        value: `${chamberC} °C: Tj max ${sig(d.tjMaxC)} °C less the +${CHAMBER_TOLERANCE_PCT} % chamber band (top of band ${sig(chamberC * (1 + CHAMBER_BAND), 4)} °C)`,
+        value: `${sig(chamberC, 4)} °C = Tj max as the minimum, band ${bandText(band)} (${sig(chamberC, 4)}–${sig(chamberC + band.aboveK, 4)} °C)`,
         source: `${SOURCES.htrb} Tj at rated max; band ${SOURCES.chamberBand}`,
       },
       { label: 'Duration', value: '1000 h', source: SOURCES.htrb },
@@ -249,6 +246,7 @@ function hotl(d?: Device): PlanTemplate {
     name: title,
     kind: 'hotl',
     chamberC,
+    chamberBand: { ...METHOD_CHAMBER_BAND_K.hotl },
     humidityPct: null,
     bias: { vcbV: null, vebV: null, vceV: op.vceV, ibA: null, icA: op.icA, tolerancePct: DEFAULT_BIAS_TOLERANCE_PCT },
     sampleSize: HOTL_SAMPLE.n,
@@ -328,6 +326,7 @@ function iol(d?: Device): PlanTemplate {
     name: title,
     kind: 'iol',
     chamberC,
+    chamberBand: { ...METHOD_CHAMBER_BAND_K.iol },
     humidityPct: null,
     bias: { vcbV: null, vebV: null, vceV: op.vceV, ibA: null, icA: op.icA, tolerancePct: DEFAULT_BIAS_TOLERANCE_PCT },
     durationH: IOL_CYCLES * cycleH,
@@ -362,7 +361,11 @@ function thb(d?: Device): PlanTemplate {
     'Temperature-humidity-bias: 85 °C and 85 % relative humidity with the junction reverse biased. Moisture ' +
     'and the field together drive corrosion and ionic leakage through the package; bias is kept low in power ' +
     'so the part does not dry itself out.';
-  const rhRule: TemplateRule = { label: 'Chamber', value: `${THB_CHAMBER_C} °C / ${THB_RH_PCT} % RH`, source: SOURCES.thb };
+  const rhRule: TemplateRule = {
+    label: 'Chamber',
+    value: `${THB_CHAMBER_C} °C ${bandText(METHOD_CHAMBER_BAND_K.thb)} / ${THB_RH_PCT} % RH`,
+    source: `${SOURCES.thb} [memory: 85 ± 2 °C — confirm]`,
+  };
   if (!d) {
     return {
       key: 'thb',
@@ -386,6 +389,7 @@ function thb(d?: Device): PlanTemplate {
     name: title,
     kind: 'thb',
     chamberC: THB_CHAMBER_C,
+    chamberBand: { ...METHOD_CHAMBER_BAND_K.thb },
     humidityPct: THB_RH_PCT,
     bias: { vcbV, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: DEFAULT_BIAS_TOLERANCE_PCT },
     sampleSize: THB_SAMPLE.n,

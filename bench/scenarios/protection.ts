@@ -27,6 +27,7 @@ import { randomUUID } from 'node:crypto';
 import bcrypt from 'bcryptjs';
 import { initialRigState, startRig, type RigConfig, type RigHandle } from '../../rig-simulator';
 import { DEMO_PART } from '../../rig-simulator/physics';
+import { METHOD_CHAMBER_BAND_K } from '../../shared/domain/standards';
 import type { BenchEnv } from '../lib/environment';
 import { BENCH_CLOCK_RATE } from '../lib/environment';
 import { percentile, round } from '../lib/http';
@@ -130,8 +131,8 @@ async function createFixtures(b: BenchEnv, configs: RigConfig[]): Promise<void> 
     }
     const [plan] = await m.query(
       `INSERT INTO stress_plans (plan_key, version, name, kind, device_type_id, chamber_c, humidity_pct, bias, duration_h, read_points_h,
-         sample_size, accept_number, criteria, notes)
-       VALUES ($1, 1, $2, 'hotl', $3, $4, NULL, $5, 1000, '[0, 1000]', $6, 0, $7, 'Protection bench plan') RETURNING id`,
+         sample_size, accept_number, criteria, notes, chamber_band)
+       VALUES ($1, 1, $2, 'hotl', $3, $4, NULL, $5, 1000, '[0, 1000]', $6, 0, $7, 'Protection bench plan', $8) RETURNING id`,
       [
         randomUUID(),
         `Powered life ${spec.chamberC} °C, VCE ${spec.vV} V, IB ${spec.iA * 1000} mA (bench ${cfg.rigCode})`,
@@ -140,6 +141,7 @@ async function createFixtures(b: BenchEnv, configs: RigConfig[]): Promise<void> 
         JSON.stringify({ vcbV: null, vebV: null, vceV: spec.vV, ibA: spec.iA, icA: null, tolerancePct: 5 }),
         SOCKETS,
         JSON.stringify({ hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 }),
+        JSON.stringify(METHOD_CHAMBER_BAND_K.hotl),
       ],
     );
     const [run] = await m.query(

@@ -1,6 +1,8 @@
 import { router, useLocalSearchParams, type Href } from 'expo-router';
 import { useState } from 'react';
 import { View } from 'react-native';
+import { leakageDoublingC } from '@/shared/physics';
+import { ICBO_REF_C } from '@/shared/safety/plan-rules/types';
 import type { DeviceType } from '@/shared/schemas/devices';
 import { PLAN_KIND_LABEL } from '@/shared/domain/stress';
 import { formatDateTime } from '@/components/common/format';
@@ -167,11 +169,33 @@ function Ratings({ d }: { d: DeviceType }) {
           value={`${sig(d.thetaJaCPerW)} °C/W`}
           help="Junction to free air: used for the junction in a chamber and for runaway."
         />
+        <Rating
+          label="Second breakdown"
+          value={`knee ${sig(d.sbKneeV)} V, slope n ${sig(d.sbSlopeN)}`}
+          help="Forward SOA above the knee: I·V^n = constant. Powered plans are checked against it."
+        />
       </Card>
       <Card title="Gain and leakage" padding="md">
         <Rating label="hFE" value={`${sig(d.betaRef)} at ${amps(d.betaRefIcA)}, ${d.betaRefTC} °C`} />
         <Rating label="XTB" value={sig(d.xtb)} help="Gain rises as (T/T_ref)^XTB, kelvin." />
-        <Rating label="ICBO at 25 °C" value={d.icboRefA === null ? 'not given' : amps(d.icboRefA)} help="Roughly doubles every 10 °C." />
+        <Rating
+          label="ICBO at 25 °C"
+          value={d.icboRefA === null ? 'not given' : amps(d.icboRefA)}
+          help={d.icboHotA === null ? 'Taken to double every 10 °C (no hot-leakage point).' : undefined}
+        />
+        <Rating
+          label="Hot-leakage point"
+          value={
+            d.icboHotA === null || d.icboHotC === null || d.icboHotVcbV === null
+              ? 'not given'
+              : `${amps(d.icboHotA)} at ${sig(d.icboHotC)} °C, VCB ${sig(d.icboHotVcbV)} V`
+          }
+          help={
+            d.icboHotA !== null && d.icboHotC !== null && d.icboRefA !== null
+              ? `Doubles every ${sig(leakageDoublingC({ i1A: d.icboRefA, t1C: ICBO_REF_C, i2A: d.icboHotA, t2C: d.icboHotC }))} °C between the two points.`
+              : undefined
+          }
+        />
         <Text variant="caption" tone="subtle">
           Updated {formatDateTime(d.updatedAt)}
         </Text>

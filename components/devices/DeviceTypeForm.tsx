@@ -14,6 +14,7 @@ import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
 import { numText, parseNum } from './format';
 import { DEVICE_HELP } from './help';
+import { DEFAULT_SB_KNEE_V, DEFAULT_SB_SLOPE_N } from '@/shared/domain/standards';
 
 type NumKey =
   | 'bvcboV'
@@ -30,13 +31,18 @@ type NumKey =
   | 'betaRefTC'
   | 'xtb'
   | 'icboRefA'
+  | 'icboHotA'
+  | 'icboHotC'
+  | 'icboHotVcbV'
+  | 'sbKneeV'
+  | 'sbSlopeN'
   | 'breakdownN';
 type Key = NumKey | 'partNumber' | 'description' | 'kind' | 'polarity';
 
-/** ICBO is typed in nA (how data sheets give it); everything else in SI units. */
-const SCALE: Partial<Record<NumKey, number>> = { icboRefA: 1e9 };
+/** ICBO is typed in nA at 25 °C and µA hot (how data sheets give them); everything else in SI units. */
+const SCALE: Partial<Record<NumKey, number>> = { icboRefA: 1e9, icboHotA: 1e6 };
 /** Optional numbers: empty means "not given" (null), not "use the default". */
-const NULLABLE: NumKey[] = ['bvceoV', 'icboRefA'];
+const NULLABLE: NumKey[] = ['bvceoV', 'icboRefA', 'icboHotA', 'icboHotC', 'icboHotVcbV'];
 
 const EMPTY: Record<NumKey, string> = {
   bvcboV: '',
@@ -53,6 +59,11 @@ const EMPTY: Record<NumKey, string> = {
   betaRefTC: '25',
   xtb: '1.5',
   icboRefA: '',
+  icboHotA: '',
+  icboHotC: '',
+  icboHotVcbV: '',
+  sbKneeV: numText(DEFAULT_SB_KNEE_V),
+  sbSlopeN: numText(DEFAULT_SB_SLOPE_N),
   breakdownN: '3',
 };
 
@@ -217,6 +228,18 @@ export function DeviceTypeForm({ device, onDone, onCancel }: Props) {
         {num('xtb', 'XTB', '–')}
       </Columns>
       {num('icboRefA', 'ICBO at 25 °C', 'nA, optional')}
+      <Text variant="caption">Hot-leakage point, as the data sheet states it (all three, or none):</Text>
+      <Columns>
+        {num('icboHotA', 'Hot ICBO', 'µA')}
+        {num('icboHotC', 'at', '°C')}
+        {num('icboHotVcbV', 'at VCB', 'V')}
+      </Columns>
+
+      <Section title="Forward safe operating area" />
+      <Columns>
+        {num('sbKneeV', 'S/b knee', 'V')}
+        {num('sbSlopeN', 'S/b slope n', '–')}
+      </Columns>
 
       <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
         <Button

@@ -33,6 +33,18 @@ export const DEVICE_HELP = {
   icboRefA:
     'ICBO: collector-base leakage at 25 °C, in nA. It roughly doubles every 10 °C, so at 150 °C it can heat the junction on its own; ' +
     'leave empty to skip the leakage self-heating check.',
+  icboHotA:
+    'Hot-leakage point: the collector-base leakage the data sheet guarantees at a high temperature (µA), with that temperature and VCB. ' +
+    'With it the plan check takes leakage between the two points by the two-point law instead of "doubles every 10 °C", and scales it ' +
+    'up as √V to a higher plan VCB (an assumption). A high-voltage HTRB then stops looking like runaway when the part does not run away.',
+  icboHotC: 'Temperature (°C) of the hot-leakage point, as the data sheet states it (often 125 or 150 °C).',
+  icboHotVcbV: 'VCB (V) at which the hot leakage is stated.',
+  sbKneeV:
+    'Second breakdown: the collector-emitter voltage where the data sheet’s safe-operating-area line leaves the constant-power line. ' +
+    'Above it the allowed current falls faster than power alone says; powered plans above the knee are checked against it. ' +
+    'The default is a guess — read it off the SOA plot.',
+  sbSlopeN:
+    'Slope n of the second-breakdown line, I·V^n = constant (the constant-power line is n = 1); read it from two points of the SOA plot.',
   breakdownN: 'Exponent n in BVCEO ≈ BVCBO / β^(1/n), used only when BVCEO is empty (2–6; 3 is a fair guess for silicon).',
   description: 'A line that helps people tell parts apart: package, voltage class, use.',
 } as const;

@@ -33,6 +33,9 @@ export const PlanFormScreen = lazyForm<Record<string, never>>('PlanFormScreen', 
 export const ManualEntryForm = lazyForm<ComponentProps<typeof Kit.ManualEntryForm>>('ManualEntryForm', () =>
   kit().then((m) => m.ManualEntryForm),
 );
+export const CorrectReadingForm = lazyForm<ComponentProps<typeof Kit.CorrectReadingForm>>('CorrectReadingForm', () =>
+  kit().then((m) => m.CorrectReadingForm),
+);
 export const MaintenancePanel = lazyForm<ComponentProps<typeof Kit.MaintenancePanel>>('MaintenancePanel', () =>
   kit().then((m) => m.MaintenancePanel),
 );

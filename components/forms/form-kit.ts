@@ -9,6 +9,7 @@ export { NewLotForm } from '@/components/devices/NewLotForm';
 export { AddPersonForm } from '@/components/people/AddPersonForm';
 export { PlanFormScreen } from '@/components/plans/PlanFormScreen';
 export { ManualEntryForm } from '@/components/readings/ManualEntryForm';
+export { CorrectReadingForm } from '@/components/readings/CorrectReadingForm';
 export { MaintenancePanel } from '@/components/rigs/MaintenancePanel';
 export { RegisterRigForm } from '@/components/rigs/RegisterRigForm';
 export { ServiceDatesPanel } from '@/components/rigs/ServiceDatesPanel';

@@ -12,6 +12,8 @@ export type NavIconName =
   | 'people'
   | 'mail'
   | 'rigs'
+  | 'approvals'
+  | 'audit'
   | 'more'
   | 'account'
   | 'signout';
@@ -93,6 +95,17 @@ export function NavIcon({ name, color, size = 24, accent }: Props) {
           <Path d="M4 9h16M4 15h16" {...s} />
           <Circle cx={16.5} cy={6} r={1.1} fill={a} />
           <Path d="M7 12h5M7 18h5" {...s} />
+        </>
+      ) : name === 'approvals' ? (
+        <>
+          <Path d="M12 3l7 3v5.5c0 4.2-2.9 7.8-7 9.5-4.1-1.7-7-5.3-7-9.5V6z" {...s} />
+          <Path d="M8.8 12.2l2.2 2.2 4.2-4.4" {...s} stroke={a} />
+        </>
+      ) : name === 'audit' ? (
+        <>
+          <Path d="M5 5h9M5 10h9M5 15h6" {...s} />
+          <Rect x={14.5} y={13} width={5} height={3.6} rx={1.8} {...s} stroke={a} />
+          <Rect x={16.5} y={16.8} width={5} height={3.6} rx={1.8} {...s} />
         </>
       ) : name === 'more' ? (
         <>

@@ -1,5 +1,6 @@
 import { useState } from 'react';
 import { View } from 'react-native';
+import { can } from '@/shared/domain/permissions';
 import { ROLE_LABEL, type Role } from '@/shared/roles';
 import type { User } from '@/shared/schemas/users';
 import { formatDateTime } from '@/components/common/format';
@@ -60,6 +61,22 @@ export function PeopleScreen() {
 
   const isSelf = (u: User) => me.data?.id === u.id;
 
+  /** The per-user safety-approval grant: saved at once, audited on the server. */
+  const toggleApprover = (u: User) => {
+    setNotice(null);
+    update.mutate(
+      { id: u.id, patch: { safetyApprover: !u.safetyApprover } },
+      {
+        onSuccess: (x) =>
+          setNotice(
+            x.safetyApprover
+              ? `${x.name} may now approve other people's safety overrides.`
+              : `${x.name} no longer approves safety overrides.`,
+          ),
+      },
+    );
+  };
+
   const columns: Column<User>[] = [
     { key: 'name', title: 'Name', flex: 1.3, card: 'title', render: (u) => u.name },
     {
@@ -81,6 +98,19 @@ export function PeopleScreen() {
       render: (u) =>
         u.active ? <StatusPill tone="ok" label="Active" size="sm" /> : <StatusPill tone="idle" label="Deactivated" size="sm" />,
     },
+    {
+      key: 'approver',
+      title: 'Safety approval',
+      flex: 1.2,
+      render: (u) =>
+        u.safetyApprover ? (
+          <StatusPill tone="attention" label="Approves overrides" size="sm" testID={`approver-${u.email}`} />
+        ) : (
+          <Text variant="caption" tone="muted">
+            —
+          </Text>
+        ),
+    },
     { key: 'last', title: 'Last sign-in', flex: 1.3, render: (u) => formatDateTime(u.lastSignInAt) },
     {
       key: 'actions',
@@ -94,6 +124,16 @@ export function PeopleScreen() {
           </Text>
         ) : (
           <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
+            {can(u.role, 'override.decide') || u.safetyApprover ? (
+              <Button
+                size="sm"
+                variant="quiet"
+                label={u.safetyApprover ? 'Withdraw approval' : 'Grant approval'}
+                accessibilityLabel={`${u.safetyApprover ? 'Withdraw the safety approval of' : 'Grant the safety approval to'} ${u.name}`}
+                busy={update.isPending && update.variables?.id === u.id && update.variables.patch.safetyApprover !== undefined}
+                onPress={() => toggleApprover(u)}
+              />
+            ) : null}
             <Button
               size="sm"
               label="Change role"
@@ -131,6 +171,7 @@ export function PeopleScreen() {
           )
         }
       />
+      {update.isError && !pending ? <Banner tone="danger">{describeError(update.error)}</Banner> : null}
       {notice ? (
         <Banner tone="ok" action={<Button size="sm" variant="quiet" label="Dismiss" onPress={() => setNotice(null)} />}>
           {notice}
@@ -158,7 +199,7 @@ export function PeopleScreen() {
             columns={columns}
             rows={[...list].sort((a, b) => Number(b.active) - Number(a.active) || a.name.localeCompare(b.name))}
             rowKey={(u) => u.id}
-            minTableWidth={860}
+            minTableWidth={1000}
             testID="people-table"
           />
         )}

@@ -1,5 +1,6 @@
 import { router, useLocalSearchParams, type Href } from 'expo-router';
 import { View } from 'react-native';
+import { bandRange, bandText } from '@/shared/domain/standards';
 import { PLAN_KIND_LABEL } from '@/shared/domain/stress';
 import type { PlanDetail } from '@/shared/schemas/plans';
 import { formatDateTime } from '@/components/common/format';
@@ -112,6 +113,7 @@ function PlanView({ p, canWrite }: { p: PlanDetail; canWrite: boolean }) {
           </Text>
           <Row label="Device" value={p.device.partNumber} />
           <Row label="Chamber" value={`${celsius(p.chamberC)}${p.humidityPct !== null ? `, ${p.humidityPct} % RH` : ''}`} />
+          <Row label="Band" value={`${bandText(p.chamberBand)}: hours count at ${bandRange(p.chamberC, p.chamberBand)}`} />
           {p.bias.vcbV !== null ? <Row label="VCB" value={volts(p.bias.vcbV)} /> : null}
           {p.bias.vebV !== null ? <Row label="VEB" value={volts(p.bias.vebV)} /> : null}
           {p.bias.vceV !== null ? <Row label="VCE" value={volts(p.bias.vceV)} /> : null}
@@ -148,7 +150,10 @@ function PlanView({ p, canWrite }: { p: PlanDetail; canWrite: boolean }) {
         </Banner>
       ) : null}
       {maxV > 0 ? (
-        <SafetyCaution compact context={`This plan puts up to ${sig(maxV)} V on every socket in a ${sig(p.chamberC, 4)} °C chamber.`} />
+        <SafetyCaution
+          compact
+          context={`This plan puts up to ${sig(maxV)} V on every socket in a chamber at up to ${sig(p.chamberC + p.chamberBand.aboveK, 4)} °C.`}
+        />
       ) : null}
       <PlanCheckPanel
         check={p.checkResult}

@@ -14,6 +14,7 @@ import { Loading } from '@/components/ui/Loading';
 import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
+import { METHOD_CHAMBER_BAND_K, bandText } from '@/shared/domain/standards';
 import type { DeviceType } from '@/shared/schemas/devices';
 import { PLAN_KINDS, PLAN_KIND_LABEL } from '@/shared/domain/stress';
 import type { PlanTemplate } from '@/shared/schemas/plans';
@@ -158,8 +159,17 @@ export function ConditionsCard({ f, device }: { f: FormBinding; device: DeviceTy
   return (
     <Card title="Conditions and bias">
       <Columns>
-        <NumField f={f} k="chamberC" label="Chamber (°C)" help={PLAN_HELP.chamberC} />
+        <NumField f={f} k="chamberC" label="Stress temperature (°C, minimum)" help={PLAN_HELP.chamberC} />
         {shown.humidity ? <NumField f={f} k="humidityPct" label="Relative humidity (%)" help={PLAN_HELP.humidityPct} /> : tolerance}
+      </Columns>
+      <Columns>
+        <NumField
+          f={f}
+          k="bandBelowK"
+          label="Band below (K)"
+          help={PLAN_HELP.chamberBand + (s.kind ? ` This stress: ${bandText(METHOD_CHAMBER_BAND_K[s.kind])}.` : '')}
+        />
+        <NumField f={f} k="bandAboveK" label="Band above (K)" />
       </Columns>
       {shown.humidity ? tolerance : null}
       {shown.reverse ? (

@@ -1,4 +1,4 @@
-import { CHAMBER_TOLERANCE_PCT, DEFAULT_DURATION_H, DEFAULT_READ_POINTS_H, MEASURE_WITHIN_H } from '@/shared/domain/standards';
+import { DEFAULT_DURATION_H, DEFAULT_READ_POINTS_H, MEASURE_WITHIN_H } from '@/shared/domain/standards';
 import type { PlanKind } from '@/shared/schemas/plans';
 
 /** What each stress is for, in the lab's words. */
@@ -19,7 +19,11 @@ export const KIND_HELP: Record<PlanKind, string> = {
 };
 
 export const PLAN_HELP = {
-  chamberC: `Oven set point. The chamber must hold within ±${CHAMBER_TOLERANCE_PCT} % of it; hours outside that band do not count (MIL-STD-750 general requirements).`,
+  chamberC:
+    'Stress temperature: the minimum the chamber must hold (the rating itself for HTRB). The rig aims at the middle of the band; ' +
+    'hours outside the band do not count. Hot ovens: follow the lab’s safety rules before opening one.',
+  chamberBand:
+    'Band in kelvin below and above the stress temperature where hours count; leave both empty for the method’s band (from memory — confirm against the method you follow).',
   humidityPct: 'Relative humidity for a humidity stress (85 % for THB).',
   vcbV: 'Collector-base reverse voltage on every device (magnitude; PNP parts are biased the other way by the board).',
   vebV: 'Emitter-base reverse voltage, if the board applies one. Leave empty for an open or shorted emitter. Never above BVEBO.',

@@ -22,6 +22,9 @@ export interface FormState {
   kind: PlanKind | undefined;
   deviceTypeId: string | undefined;
   chamberC: string;
+  /** Chamber band in kelvin below / above the stress temperature; both empty = the method's band. */
+  bandBelowK: string;
+  bandAboveK: string;
   humidityPct: string;
   vcbV: string;
   vebV: string;
@@ -58,6 +61,8 @@ export const EMPTY_FORM: FormState = {
   kind: undefined,
   deviceTypeId: undefined,
   chamberC: '',
+  bandBelowK: '',
+  bandAboveK: '',
   humidityPct: '',
   vcbV: '',
   vebV: '',
@@ -103,6 +108,8 @@ export function formFromPlan(p: PlanInput): FormState {
     kind: p.kind,
     deviceTypeId: p.deviceTypeId,
     chamberC: numText(p.chamberC),
+    bandBelowK: numText(p.chamberBand.belowK),
+    bandAboveK: numText(p.chamberBand.aboveK),
     humidityPct: numText(p.humidityPct),
     vcbV: numText(p.bias.vcbV),
     vebV: numText(p.bias.vebV),
@@ -153,6 +160,10 @@ export function rawFromForm(s: FormState): Record<string, unknown> {
     kind: s.kind,
     deviceTypeId: s.deviceTypeId,
     chamberC: scaled(s.chamberC, 1),
+    chamberBand:
+      s.bandBelowK.trim() === '' && s.bandAboveK.trim() === ''
+        ? null
+        : { belowK: scaled(s.bandBelowK, 1), aboveK: scaled(s.bandAboveK, 1) },
     humidityPct: humidity ? orNull(s.humidityPct) : null,
     bias: {
       vcbV: reverse ? orNull(s.vcbV) : null,
@@ -198,6 +209,9 @@ const PATH_TO_FIELD: Record<string, FormKey> = {
   'cycle.offMin': 'offMin',
   'cycle.deltaTjC': 'deltaTjC',
   'cycle.cycles': 'cycles',
+  'chamberBand.belowK': 'bandBelowK',
+  'chamberBand.aboveK': 'bandAboveK',
+  chamberBand: 'bandAboveK',
   cycle: 'onMin',
   breakdownDerating: 'deratingPct',
   readPointsH: 'readPoints',
@@ -208,6 +222,8 @@ export const FIELD_LABEL: Partial<Record<FormKey, string>> = {
   kind: 'Stress',
   deviceTypeId: 'Device type',
   chamberC: 'Chamber',
+  bandBelowK: 'Band below',
+  bandAboveK: 'Band above',
   humidityPct: 'Humidity',
   vcbV: 'VCB',
   vebV: 'VEB',

@@ -1,10 +1,13 @@
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type {
+  CorrectionInput,
+  DeviceHistory,
   ManualReading,
   MeasurementRunDetail,
   MeasurementRunSummary,
   RowResult,
   StoredReading,
+  UploadRecord,
   UploadResult,
   Units,
   ColumnMapping,
@@ -17,6 +20,8 @@ export const measurementKeys = {
   runs: () => ['measurements', 'runs'] as const,
   run: (id: string) => ['measurements', 'runs', id] as const,
   readings: (id: string, h: number) => ['measurements', 'runs', id, 'read-points', h] as const,
+  history: (id: string, deviceId: string) => ['measurements', 'runs', id, 'history', deviceId] as const,
+  uploads: (id: string) => ['measurements', 'runs', id, 'uploads'] as const,
 };
 
 const STALE_MS = 30_000;
@@ -73,6 +78,8 @@ export interface UploadInput {
   mapping: ColumnMapping;
   units: Units;
   defaultTempC: number;
+  /** Why the file replaces stored readings (needed when it does). */
+  reason?: string;
   onProgress?: (fraction: number) => void;
 }
 
@@ -83,6 +90,7 @@ export function uploadReadings(input: UploadInput): Promise<UploadResult> {
     form.append('mapping', JSON.stringify(input.mapping));
     form.append('units', JSON.stringify(input.units));
     form.append('defaultTempC', String(input.defaultTempC));
+    if (input.reason) form.append('reason', input.reason);
     if (input.file.blob) form.append('file', input.file.blob, input.file.name);
     else form.append('file', { uri: input.file.uri, name: input.file.name, type: input.file.type ?? 'text/csv' } as unknown as Blob);
     const xhr = new XMLHttpRequest();
@@ -145,6 +153,39 @@ export function useManualEntry() {
       if (rows) throw new RowsError(res.status, error.message, rows);
       throw new ApiError(res.status, error.code, error.message, error.fields);
     },
+    onSuccess: () => qc.invalidateQueries({ queryKey: measurementKeys.all }),
+  });
+}
+
+/** Every version of one device's readings in a run (reason, person, time of each correction). */
+export function useDeviceHistory(runId: string, deviceId: string | undefined) {
+  return useQuery({
+    queryKey: measurementKeys.history(runId, deviceId ?? ''),
+    queryFn: ({ signal }) =>
+      api<DeviceHistory>(`/api/measurements/runs/${encodeURIComponent(runId)}/devices/${encodeURIComponent(deviceId!)}/history`, {
+        signal,
+      }),
+    enabled: !!deviceId,
+    staleTime: STALE_MS,
+  });
+}
+
+/** The run's stored uploads, each with the path of its kept file. */
+export function useRunUploads(runId: string) {
+  return useQuery({
+    queryKey: measurementKeys.uploads(runId),
+    queryFn: ({ signal }) =>
+      api<{ items: UploadRecord[] }>(`/api/measurements/runs/${encodeURIComponent(runId)}/uploads`, { signal }).then((r) => r.items),
+    staleTime: STALE_MS,
+  });
+}
+
+/** A correction: a new version of one reading, with its reason. */
+export function useCorrectReading() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (p: { id: string; body: CorrectionInput }) =>
+      api<StoredReading>(`/api/measurements/readings/${encodeURIComponent(p.id)}/corrections`, { method: 'POST', body: p.body }),
     onSuccess: () => qc.invalidateQueries({ queryKey: measurementKeys.all }),
   });
 }

@@ -1,4 +1,5 @@
 import { MEASURE_WITHIN_H } from '@/shared/domain/standards';
+import { CORRECTION_REASON_MIN } from '@/shared/domain/records';
 import { useState } from 'react';
 import { View } from 'react-native';
 import { manualReadingSchema, type ManualReading, type UploadResult } from '@/shared/schemas/measurements';
@@ -47,6 +48,7 @@ export function ManualEntryForm({ runId, hours }: { runId: string; hours: number
   const [errors, setErrors] = useState<Record<string, string>>({});
   const [result, setResult] = useState<UploadResult | null>(null);
   const [failure, setFailure] = useState<{ message: string; rows?: RowsError['rows'] } | null>(null);
+  const [reason, setReason] = useState('');
 
   const set = <K extends keyof Draft>(i: number, k: K, v: Draft[K]) => {
     setResult(null);
@@ -74,7 +76,8 @@ export function ManualEntryForm({ runId, hours }: { runId: string; hours: number
               measuredC: n(r.tempC),
             },
       );
-      if (parsed.success) items.push(parsed.data);
+      // The reason travels with every device; the server keeps it only where one is needed.
+      if (parsed.success) items.push(reason.trim() ? { ...parsed.data, reason: reason.trim() } : parsed.data);
       else {
         const map: Record<string, keyof Draft> = {
           serial: 'serial',
@@ -162,6 +165,14 @@ export function ManualEntryForm({ runId, hours }: { runId: string; hours: number
             ) : null}
           </View>
         ))}
+        <Field
+          label="Reason for a correction"
+          multiline
+          value={reason}
+          onChangeText={setReason}
+          accessibilityLabel="Manual entry reason"
+          help={`Needed when a device already has a reading here (it is kept as an earlier version), and for time zero after Start (an engineer's deviation). At least ${CORRECTION_REASON_MIN} characters.`}
+        />
         <View style={{ flexDirection: 'row', gap: space.sm, flexWrap: 'wrap' }}>
           <Button
             variant="secondary"

@@ -1,5 +1,6 @@
 import { formatDateTime } from '@/components/common/format';
 import { MEASURE_WITHIN_H } from '@/shared/domain/standards';
+import { timeZeroLocked } from '@/shared/domain/records';
 import { useMemo, useState } from 'react';
 import { View } from 'react-native';
 import type { MeasurementRunSummary } from '@/shared/schemas/measurements';
@@ -16,7 +17,9 @@ import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
 import { CoveragePanel } from './CoveragePanel';
 import { ManualEntryForm } from '@/components/forms/LazyForms';
+import { StoredReadingsPanel } from './StoredReadingsPanel';
 import { UploadPanel } from './UploadPanel';
+import { UploadsPanel } from './UploadsPanel';
 
 /** Runs listed by how soon they need read-point work. */
 const STATE_ORDER: readonly string[] = ['read-hold', 'cooling', 'fault', 'paused', 'stressing', 'heating', 'loading', 'booked', 'finished'];
@@ -99,12 +102,19 @@ export function ReadingsScreen() {
                       {chosen && r.deviceCount > 0 ? (
                         <>
                           <CoveragePanel key={`c-${r.id}-${chosen.hours}`} runId={r.id} hours={chosen.hours} />
+                          <StoredReadingsPanel
+                            key={`s-${r.id}-${chosen.hours}`}
+                            runId={r.id}
+                            hours={chosen.hours}
+                            timeZeroLocked={timeZeroLocked({ state: r.state, startedAt: r.startedAt })}
+                          />
                           <UploadPanel key={`${r.id}-${chosen.hours}`} runId={r.id} hours={chosen.hours} />
                           <ManualEntryForm key={`m-${r.id}-${chosen.hours}`} runId={r.id} hours={chosen.hours} />
                         </>
                       ) : (
                         <Text tone="muted">Choose a read point to upload or enter readings.</Text>
                       )}
+                      {r.deviceCount > 0 ? <UploadsPanel key={`u-${r.id}`} runId={r.id} /> : null}
                     </View>
                   );
                 }}

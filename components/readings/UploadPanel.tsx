@@ -1,4 +1,5 @@
 import { useState } from 'react';
+import { CORRECTION_REASON_MIN } from '@/shared/domain/records';
 import { View } from 'react-native';
 import {
   COLUMN_LABEL,
@@ -58,6 +59,7 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
   const [stored, setStored] = useState<UploadResult | null>(null);
   const [progress, setProgress] = useState<number | null>(null);
   const [error, setError] = useState<{ message: string; rows?: RowsError['rows'] } | null>(null);
+  const [reason, setReason] = useState('');
 
   const reset = () => {
     setPreview(null);
@@ -102,6 +104,7 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
         mapping: toMapping(choice),
         units,
         defaultTempC: temp,
+        reason: reason.trim() || undefined,
         onProgress: isPreview ? undefined : setProgress,
       },
       {
@@ -218,6 +221,14 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
                 error={tempError}
                 help="hFE measured away from the part's reference temperature is referred to it before drift is judged."
               />
+              <Field
+                label="Reason for a corrected file"
+                multiline
+                value={reason}
+                onChangeText={setReason}
+                accessibilityLabel="Upload reason"
+                help={`Needed when the file replaces stored readings (they stay as earlier versions), and for time zero after Start (an engineer's deviation). At least ${CORRECTION_REASON_MIN} characters.`}
+              />
             </View>
             <View style={{ flexDirection: 'row', gap: space.sm, flexWrap: 'wrap' }}>
               <Button
@@ -257,7 +268,7 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
         {preview ? (
           <View style={{ gap: space.sm }} testID="upload-preview-result">
             <Banner tone={preview.rejected ? 'warn' : 'ok'} title="Checked — nothing stored yet">
-              {`${preview.rowsTotal} rows: ${preview.inserted} new, ${preview.replaced} replace a stored reading, ${preview.unchanged} already stored, ${preview.rejected} refused${preview.late ? `, ${preview.late} late` : ''}. ${preview.notes.join(' ')}`}
+              {`${preview.rowsTotal} rows: ${preview.inserted} new, ${preview.replaced} replace a stored reading${preview.replaced ? ' (needs a reason)' : ''}, ${preview.unchanged} already stored, ${preview.rejected} refused${preview.late ? `, ${preview.late} late` : ''}. ${preview.notes.join(' ')}`}
             </Banner>
             <RowOutcomes rows={preview.rows} testID="upload-preview-rows" />
           </View>

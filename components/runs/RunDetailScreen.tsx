@@ -23,7 +23,7 @@ import { QueryState } from '@/components/ui/QueryState';
 import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
-import { CHAMBER_TOLERANCE_PCT, measureByMs } from '@/shared/domain/standards';
+import { bandRange, measureByMs } from '@/shared/domain/standards';
 import { DRIVEN_STATES } from '@/shared/domain/run-states';
 import { RUN_ACTIONS, RUN_ACTION_LABEL } from '@/shared/domain/run-states';
 import type { RunAction, RunDetail, RunSocket, SocketFlag, SocketLoadResult } from '@/shared/schemas/runs';
@@ -123,7 +123,7 @@ function stateNote(run: RunDetail): { tone: 'info' | 'warn' | 'danger' | 'ok'; t
     case 'heating':
       return {
         tone: 'info',
-        text: `Heating since ${formatDateTime(run.heatingSince)}: hours count once the chamber is within ±${CHAMBER_TOLERANCE_PCT} % of ${run.plan.chamberC} °C.`,
+        text: `Heating since ${formatDateTime(run.heatingSince)}: hours count once the chamber is within ${bandRange(run.plan.chamberC, run.plan.chamberBand)}.`,
       };
     case 'read-hold': {
       const measureBy = run.biasRemovedAt ? new Date(measureByMs(Date.parse(run.biasRemovedAt))).toISOString() : null;

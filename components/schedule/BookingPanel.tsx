@@ -1,7 +1,7 @@
 /**
  * Booking (engineers): plan version + lots + sample size → rigs that can take the run, ranked by
  * finish, with the reasons others cannot → book. A plan whose check blocks needs a written
- * override reason (at least 10 characters), which is audited. A sample smaller than the plan's
+ * override approved by a second person (OverrideRequestPanel), which is audited. A sample smaller than the plan's
  * needs a recorded deviation; a sample larger than one rig is split across two rigs and booked
  * together (one run per rig, judged as one sample).
  */
@@ -22,8 +22,8 @@ import { Loading } from '@/components/ui/Loading';
 import { Badge, StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { DEVIATION_REASON_MIN, sampleShortfall } from '@/shared/evidence';
-import { OVERRIDE_REASON_MIN } from '@/shared/domain/reasons';
 import type { ProposalOption, ProposalResult } from '@/shared/schemas/runs';
+import { OverrideRequestPanel } from '@/components/approvals/OverrideRequestPanel';
 
 function Chip({ label, selected, onPress, hint }: { label: string; selected: boolean; onPress: () => void; hint?: string }) {
   return (
@@ -59,7 +59,8 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
   const lots = useLots({ deviceTypeId: current?.device.id });
   const [lotIds, setLotIds] = useState<string[]>([]);
   const [sample, setSample] = useState('');
-  const [reason, setReason] = useState('');
+  /** The approved override request this booking uses (a blocked plan needs one). */
+  const [approvedRequest, setApprovedRequest] = useState<string | null>(null);
   const [deviation, setDeviation] = useState('');
   /** Split: devices on the first rig (the rest go to a second rig, booked together as one sample). */
   const [split, setSplit] = useState(false);
@@ -94,11 +95,11 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
   const result = proposals.data;
   const result2 = split ? proposals2.data : undefined;
   const blocks = (result?.blockingFindings.length ?? 0) > 0;
-  const reasonOk = reason.trim().length >= OVERRIDE_REASON_MIN;
+  const reasonOk = approvedRequest !== null;
   const shortfall = current ? sampleShortfall(current.sampleSize, sampleSize || 0) : null;
   const deviationOk = !shortfall || deviation.trim().length >= DEVIATION_REASON_MIN;
   const extras = () => ({
-    ...(blocks ? { override: { reason: reason.trim() } } : {}),
+    ...(blocks && approvedRequest ? { override: { requestId: approvedRequest } } : {}),
     ...(shortfall ? { deviation: { reason: deviation.trim() } } : {}),
   });
 
@@ -314,14 +315,7 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
                     {f.title}: {f.explanation}
                   </Text>
                 ))}
-                <Field
-                  label="Override reason (engineer, recorded in the audit trail)"
-                  multiline
-                  value={reason}
-                  onChangeText={setReason}
-                  help={`At least ${OVERRIDE_REASON_MIN} characters: why this plan may run despite the finding.`}
-                  error={reason && !reasonOk ? `Write at least ${OVERRIDE_REASON_MIN} characters` : undefined}
-                />
+                {versionId ? <OverrideRequestPanel planId={versionId} onApproved={setApprovedRequest} /> : null}
               </View>
             </Banner>
           ) : null}

@@ -22,6 +22,8 @@ export const DESTINATIONS: readonly Destination[] = [
   { path: '/people', label: 'People', icon: 'people', permission: 'page.people' },
   { path: '/mail', label: 'Mail log', icon: 'mail', permission: 'page.mail' },
   { path: '/rigs', label: 'Rigs', icon: 'rigs', permission: 'page.rigs' },
+  { path: '/approvals', label: 'Approvals', icon: 'approvals', permission: 'page.approvals' },
+  { path: '/audit', label: 'Audit log', icon: 'audit', permission: 'page.audit' },
 ];
 
 /** Pages every signed-in person may open, outside the role menus. */

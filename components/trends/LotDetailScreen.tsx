@@ -22,7 +22,9 @@ import { downloadReport } from './exportReport';
 import { hours, PARAM_LABEL, pct, sig } from './format';
 import { LotDistributionChart } from '@/components/charts/LazyCharts';
 import { LotPlanJudgement } from './LotPlanJudgement';
+import { LotRecordsCard } from './LotRecordsCard';
 import { VerdictPill } from './verdict';
+import { VerdictSignatures } from '@/components/signoff/VerdictSignatures';
 
 const DEVICE_STATUS = {
   pass: { tone: 'ok', label: 'Within criteria' },
@@ -256,6 +258,7 @@ export function LotDetailScreen() {
                 ) : null}
               </View>
             </Card>
+            <VerdictSignatures lotId={l.lotId} />
             {l.verdict === 'untested' ? (
               <EmptyState title="No readings" message="This lot has not been on a stress run yet." />
             ) : (
@@ -320,6 +323,7 @@ export function LotDetailScreen() {
                 </View>
               </>
             )}
+            <LotRecordsCard lot={l} />
             <Banner tone="warn" title="Caution">
               {l.caution}
             </Banner>

@@ -17,6 +17,9 @@ import { telemetryRoutes } from './telemetry/telemetry.routes';
 import { runsRoutes } from './runs/runs.routes';
 import { evidenceRoutes } from './evidence/evidence.routes';
 import { protectionRoutes } from './protection/protection.routes';
+import { approvalsRoutes } from './approvals/approvals.routes';
+import { signoffRoutes } from './signoff/signoff.routes';
+import { auditRoutes } from './audit-log/audit-log.routes';
 
 /** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
 export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
@@ -37,6 +40,9 @@ export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
   runsRoutes,
   evidenceRoutes,
   protectionRoutes,
+  approvalsRoutes,
+  signoffRoutes,
+  auditRoutes,
 ];
 
 export function apiRouters(ctx: AppContext): ApiRouter[] {

@@ -14,7 +14,10 @@ export const DEMO_USERS: Array<{ email: string; name: string; role: Role; passwo
   { email: 'manager@harrowgate-lab.example', name: 'Henrik Aldous', role: 'manager', password: 'harrow-manager-1' },
 ];
 
-type DemoType = Omit<DeviceTypeInput, 'description'> & { description: string };
+/** Optional here: the hot-leakage point and the S/b line (absent = none / the defaults, as the database columns say). */
+type OptionalRatings = 'icboHotA' | 'icboHotC' | 'icboHotVcbV' | 'sbKneeV' | 'sbSlopeN';
+type DemoType = Omit<DeviceTypeInput, 'description' | OptionalRatings> &
+  Partial<Pick<DeviceTypeInput, OptionalRatings>> & { description: string };
 
 export const DEMO_DEVICE_TYPES: DemoType[] = [
   {
@@ -78,6 +81,12 @@ export const DEMO_DEVICE_TYPES: DemoType[] = [
     betaRefTC: 25,
     xtb: 1.4,
     icboRefA: 100e-9,
+    // Invented hot-leakage point, as a data sheet states it: ICBO ≤ 10 µA at Tc 150 °C, VCB 700 V
+    // (the 25 °C figure is a guaranteed maximum well above typical, so the two-point law doubles
+    // every ~19 °C). With it the part's HTRB at Tj max passes the plan check.
+    icboHotA: 10e-6,
+    icboHotC: 150,
+    icboHotVcbV: 700,
     breakdownN: 4,
   },
   {

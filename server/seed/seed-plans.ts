@@ -29,7 +29,7 @@ export function demoPlans(types: Map<string, DeviceTypeEntity>): PlanInput[][] {
     ...htrbV2,
     name: 'HTRB 140 °C, 80 % VCBO, 1000 h (JESD22-A108)',
     chamberC: 140,
-    notes: 'First draft at 140 °C; raised to the template chamber (Tj max less the +3 % band) in version 2.',
+    notes: 'First draft at 140 °C; raised to Tj max (the method’s stress temperature, band +5/−0 K) in version 2.',
   };
   return [
     [htrbV1, htrbV2],

@@ -14,7 +14,6 @@ import type { RunState } from '../../shared/schemas/runs';
 import { configFromEnv } from '../config';
 import { sampleShortfall } from '../../shared/evidence';
 import {
-  AuditLogEntity,
   DeviceEntity,
   DeviceTypeEntity,
   LotEntity,
@@ -28,6 +27,7 @@ import {
 } from '../db/entities';
 import { timingFrom } from '../modules/runs/scheduling-data';
 import { firstReadPointIndex } from '../modules/runs/run-engine';
+import { AuditService } from '../modules/audit/audit.service';
 
 interface DemoLiveRun {
   code: string;
@@ -178,19 +178,10 @@ async function insertLiveRun(
     RunLotEntity,
     lots.map((l) => ({ runId: run.id, lotId: l.id })),
   );
-  const audit = (actor: UserEntity | null, action: string, details: Record<string, unknown>) => {
-    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- TypeORM's insert typing cannot take `unknown` values in a jsonb column
-    const row: Record<string, any> = { seeded: true, ...details };
-    return m.insert(AuditLogEntity, {
-      actorId: actor?.id ?? null,
-      actor: actor?.email ?? 'system',
-      action,
-      entity: 'run',
-      entityId: run.id,
-      reason: null,
-      details: row,
-    });
-  };
+  // Through the audit log's single writer, so the seeded entries are chained like any other.
+  const auditLog = new AuditService(m.connection);
+  const audit = (actor: UserEntity | null, action: string, details: Record<string, unknown>) =>
+    auditLog.record({ actor: actor ?? 'system', action, entity: 'run', entityId: run.id, details: { seeded: true, ...details } }, m);
   await audit(engineer, 'run.book', {
     code: s.code,
     rig: rig.code,
@@ -201,17 +192,17 @@ async function insertLiveRun(
     planVersion: plan.version,
   });
   if (short) {
-    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- as above: a jsonb column
-    const details: Record<string, any> = { seeded: true, plannedSize: plan.sampleSize, bookedSize: sampleSize, runs: [s.code] };
-    await m.insert(AuditLogEntity, {
-      actorId: engineer?.id ?? null,
-      actor: engineer?.email ?? 'system',
-      action: 'sample.deviation',
-      entity: 'sample',
-      entityId: sample.id,
-      reason: sample.deviationReason,
-      details,
-    });
+    await auditLog.record(
+      {
+        actor: engineer ?? 'system',
+        action: 'sample.deviation',
+        entity: 'sample',
+        entityId: sample.id,
+        reason: sample.deviationReason,
+        details: { seeded: true, plannedSize: plan.sampleSize, bookedSize: sampleSize, runs: [s.code] },
+      },
+      m,
+    );
   }
   if (s.state === 'booked') return;
 

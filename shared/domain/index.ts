@@ -7,3 +7,4 @@ export * from './run-states';
 export * from './standards';
 export * from './permissions';
 export * from './format';
+export * from './records';

@@ -38,11 +38,22 @@ export const PERMISSIONS = {
   'reading.confirm': ['engineer'],
   'measurement.read': ['admin', 'engineer', 'operator', 'manager'],
   'measurement.upload': ['engineer', 'operator'],
+  // A correction is a new version with a reason; time zero after Start, a change to a finished
+  // run's readings or withdrawing a failure is a deviation on the lot: an engineer's call (issue #21).
+  'measurement.correct': ['engineer', 'operator'],
+  'measurement.deviation': ['engineer'],
   'trends.read': ['admin', 'engineer', 'manager'],
   'rig.read': ['admin', 'engineer', 'operator', 'manager'],
   'rig.manage': ['admin'],
   'telemetry.inspect': ['admin', 'engineer'],
   'user.manage': ['admin'],
+  // Safety approvals: an engineer asks to run a plan despite a blocking finding; a second person
+  // of these roles who also holds the per-user safety-approval grant (People) decides it.
+  'override.request': ['engineer'],
+  'override.decide': ['engineer', 'manager', 'admin'],
+  // Signing a lot verdict (an electronic signature, 21 CFR Part 11 §11.50/§11.200).
+  'verdict.sign': ['engineer', 'manager'],
+  'audit.read': ['admin', 'manager'],
   'mail.read': ['admin'],
   // Places in the app's navigation (components/shell/destinations.ts).
   'page.floor': ['operator', 'engineer', 'admin'],
@@ -53,6 +64,8 @@ export const PERMISSIONS = {
   'page.schedule': ['engineer', 'operator', 'manager'],
   'page.trends': ['manager', 'engineer'],
   'page.people': ['admin'],
+  'page.approvals': ['engineer', 'manager', 'admin'],
+  'page.audit': ['admin', 'manager'],
   'page.mail': ['admin'],
   'page.rigs': ['admin', 'engineer'],
 } satisfies Record<string, readonly Role[]>;

@@ -4,6 +4,8 @@
  * practice, [memory] recalled, not checked against the text).
  */
 
+import type { PlanKind } from './stress';
+
 const H_MS = 3_600_000;
 
 /**
@@ -18,8 +20,71 @@ export const measureByMs = (biasRemovedAtMs: number): number => biasRemovedAtMs 
 export const isLateReading = (biasRemovedAtMs: number, measuredAtMs: number): boolean =>
   measuredAtMs - biasRemovedAtMs > MEASURE_WITHIN_H * H_MS;
 
-/** Chamber held within ± this percent of its set temperature [pub: MIL-STD-750 general requirements §4.5]. */
-export const CHAMBER_TOLERANCE_PCT = 3;
+/**
+ * The stress temperature is a minimum with a band in kelvin: the chamber counts as "at temperature"
+ * from `setC − belowK` to `setC + aboveK`. Kelvin, not a percentage of the Celsius value (3 % of
+ * 0 °C is no band at all, 3 % of 25 °C is 0.75 K).
+ */
+export interface ChamberBandK {
+  belowK: number;
+  aboveK: number;
+}
+/** Widest band a plan may state on either side (K). */
+export const CHAMBER_BAND_MAX_K = 20;
+/**
+ * The methods' bands, per stress kind (plans default to these; a plan may state its own):
+ * - htrb: the stress temperature a minimum, +5/−0 K [memory: JESD22-A108 and MIL-STD-750 state the
+ *   temperature as a minimum with a one-sided tolerance — confirm the figure; JESD22-A103D Table 1
+ *   uses −0/+10 °C for storage, pub].
+ * - thb: 85 ± 2 °C [memory: JESD22-A101, 85 ± 2 °C / 85 ± 5 % RH — confirm].
+ * - hotl, iol: room ambient ± 5 K; the stress is the junction the parts heat themselves to
+ *   [practice].
+ */
+export const METHOD_CHAMBER_BAND_K: Readonly<Record<PlanKind, Readonly<ChamberBandK>>> = {
+  htrb: { belowK: 0, aboveK: 5 },
+  thb: { belowK: 2, aboveK: 2 },
+  hotl: { belowK: 5, aboveK: 5 },
+  iol: { belowK: 5, aboveK: 5 },
+};
+/** Plans saved before bands were per plan kept the ±3 % of their set value they ran with [pub: MIL-STD-750 general requirements §4.5]. */
+export const LEGACY_CHAMBER_TOLERANCE_PCT = 3;
+
+/** The chamber's accepted range for a set point and band (°C). */
+export function chamberLimits(setC: number, band: ChamberBandK): { lowC: number; highC: number } {
+  return { lowC: setC - band.belowK, highC: setC + band.aboveK };
+}
+/**
+ * Headroom above the chamber band's top before protection's hard trip, for a reverse-bias stress
+ * planned at or above the part's rating (HTRB at Tj max with a +5/−0 K band): the junction of a
+ * reverse-biased part sits at the chamber plus tenths of a kelvin of leakage heating, so a trip at
+ * the data sheet's Tj max would trip every healthy socket. 5 K leaves room for the oven's swing and
+ * socket spread (Emberlot's choice, not a standard's; bench protection.atRating).
+ */
+export const RATED_STRESS_HEADROOM_K = 5;
+/**
+ * The junction temperature at which protection trips outright: the part's Tj max, or for a
+ * reverse-bias stress whose band reaches past Tj max − RATED_STRESS_HEADROOM_K, the band's top plus
+ * that headroom. Powered stresses always keep Tj max (their junction is held below it on purpose).
+ */
+export function protectionLimitC(p: { tjMaxC: number; reverseBias: boolean; chamberC: number; band: ChamberBandK }): number {
+  if (!p.reverseBias) return p.tjMaxC;
+  return Math.max(p.tjMaxC, chamberLimits(p.chamberC, p.band).highC + RATED_STRESS_HEADROOM_K);
+}
+/** Where the rig's controller is aimed: the middle of the band (a one-sided band puts it above the minimum). */
+export function chamberSetpointC(setC: number, band: ChamberBandK): number {
+  return setC + (band.aboveK - band.belowK) / 2;
+}
+/** The accepted range in words: "150–155 °C". */
+export function bandRange(setC: number, band: ChamberBandK): string {
+  const l = chamberLimits(setC, band);
+  const n = (x: number) => String(+x.toFixed(2));
+  return `${n(l.lowC)}–${n(l.highC)} °C`;
+}
+/** The band in words: "+5/−0 K" or "± 2 K". */
+export function bandText(band: ChamberBandK): string {
+  const n = (x: number) => String(+x.toFixed(2));
+  return band.aboveK === band.belowK ? `± ${n(band.aboveK)} K` : `+${n(band.aboveK)}/−${n(band.belowK)} K`;
+}
 /** Humidity held within ± this many % RH of set [memory: JESD22-A101, 85 °C / 85 ± 5 % RH]. */
 export const HUMIDITY_TOLERANCE_RH = 5;
 /** The chamber must reach its set ambient within this many stress hours [pub: MIL-STD-750 general requirements §4.5]. */
@@ -50,3 +115,18 @@ export const DEFAULT_BIAS_TOLERANCE_PCT = 5;
 export const DEFAULT_EA_EV = 0.7;
 /** Use (field) junction temperature for acceleration factors when the lab gives none [practice: 55 °C]. */
 export const DEFAULT_USE_C = 55;
+
+/**
+ * Second breakdown of a bipolar transistor, when the data sheet's SOA plot is not entered: the S/b
+ * line I·V^n = const leaves the thermal (constant-power) line at this knee voltage…
+ * [practice: power-transistor SOA plots commonly leave the thermal line at 20–40 V; the low end taken — from memory, confirm].
+ */
+export const DEFAULT_SB_KNEE_V = 20;
+/** …and falls with this exponent n (I ∝ V^−n; the thermal line is n = 1) [memory: S/b lines fall at n ≈ 1.5–2.5 — confirm]. */
+export const DEFAULT_SB_SLOPE_N = 2;
+/**
+ * The S/b current limit derates with case temperature more gently than power: linearly from 100 %
+ * at the power rating's case temperature to this fraction at Tj max [practice: the data sheets' own
+ * S/b derating curves; reproduces the reference check k_sb 0.75 at 100 °C on a 175 °C part].
+ */
+export const SB_DERATING_AT_TJMAX = 0.5;

@@ -247,10 +247,16 @@ export interface LeakageLoopInput {
   iLeakRefA: number;
   tRefC: number;
   doublingC?: number;
+  /** Leakage at the bias vrV as a function of °C; overrides the reference point and doubling step (e.g. hotPointLeakage). */
+  leakageAtC?: (tC: number) => number;
 }
 
+const leakageOf = (p: LeakageLoopInput) =>
+  p.leakageAtC ?? ((tC: number) => leakageAtTemperature({ iRefA: p.iLeakRefA, tRefC: p.tRefC, tC, doublingC: p.doublingC }));
+
 export function reverseBiasPower(p: LeakageLoopInput): (tC: number) => number {
-  return (tC: number) => p.vrV * leakageAtTemperature({ iRefA: p.iLeakRefA, tRefC: p.tRefC, tC, doublingC: p.doublingC });
+  const leak = leakageOf(p);
+  return (tC: number) => p.vrV * leak(tC);
 }
 
 export interface ReverseBiasOperatingPoint {
@@ -267,7 +273,7 @@ export function reverseBiasOperatingPoint(p: LeakageLoopInput & { ambientC: numb
   const r = solveSelfHeating({ ambientC: p.ambientC, thetaCPerW: p.thetaCPerW, powerAt: reverseBiasPower(p) });
   return {
     tjC: r.tjC,
-    iA: leakageAtTemperature({ iRefA: p.iLeakRefA, tRefC: p.tRefC, tC: r.evaluatedAtC, doublingC: p.doublingC }),
+    iA: leakageOf(p)(r.evaluatedAtC),
     powerW: r.powerW,
     loopGain: r.loopGain,
     runaway: r.runaway,
@@ -277,4 +283,139 @@ export function reverseBiasOperatingPoint(p: LeakageLoopInput & { ambientC: numb
 /** Highest ambient with a stable reverse-bias operating point. */
 export function criticalAmbientReverseBias(p: LeakageLoopInput): number {
   return criticalAmbientFor({ thetaCPerW: p.thetaCPerW, powerAt: reverseBiasPower(p) });
+}
+
+// ---------------------------------------------------------------------------------------------
+// Leakage from two data-sheet points
+// ---------------------------------------------------------------------------------------------
+
+/** Boltzmann constant (eV/K) [pub: CODATA 2018]. */
+export const BOLTZMANN_EV_PER_K = 8.617333262e-5;
+/** Silicon band gap at room temperature (eV) [pub: Sze, Physics of Semiconductor Devices — 1.12 eV]. */
+export const SILICON_EG_EV = 1.12;
+/**
+ * Leakage against reverse voltage: generation current ∝ depletion width ∝ √V for an abrupt
+ * junction [memory: Sze, p-n junction chapter — confirm]. Used only to scale a data-sheet point up
+ * to a higher plan VCB (never down: a lower VCB keeps the point's current, which over-states it).
+ * Avalanche multiplication close to breakdown is not included; data sheets usually state the hot
+ * point at or near the rated VCB, where it already is.
+ */
+export const LEAKAGE_VOLTAGE_EXPONENT = 0.5;
+
+/** Temperature step per doubling from two points: (t2 − t1)·ln2 / ln(i2/i1) (°C per doubling). */
+export function leakageDoublingC(p: { i1A: number; t1C: number; i2A: number; t2C: number }): number {
+  return ((p.t2C - p.t1C) * Math.LN2) / Math.log(p.i2A / p.i1A);
+}
+
+/**
+ * Diffusion leakage ∝ n_i² ∝ T³·exp(−Eg/kT): the ratio I(t2)/I(t1) [memory: Sze, p-n junction
+ * chapter — the steepest of the leakage mechanisms; confirm]. Check (REFERENCE A5): 25 → 125 °C ≈ 1.355e5.
+ */
+export function diffusionLeakageRatio(t1C: number, t2C: number, egEv = SILICON_EG_EV): number {
+  const t1 = toK(t1C);
+  const t2 = toK(t2C);
+  return Math.pow(t2 / t1, 3) * Math.exp((egEv / BOLTZMANN_EV_PER_K) * (1 / t1 - 1 / t2));
+}
+
+export interface HotLeakageModel {
+  /** Leakage (A) at the plan's VCB as a function of °C. */
+  leakageAtC: (tC: number) => number;
+  /** °C per doubling between the points (the two-point law), or the fallback step when there is one point. */
+  doublingC: number;
+  /** Voltage factor applied to the data-sheet points (≥ 1). */
+  voltageFactor: number;
+}
+
+/**
+ * Leakage from the data sheet's hot point (ICBO at tC and vcbV), with the 25 °C figure when given:
+ * - between the points and below, the two-point law (a constant doubling step, leakageDoublingC);
+ *   with the hot point alone, `fallbackDoublingC` (common practice: 10 °C);
+ * - above the hot point, the steeper of that law and diffusion leakage (n_i²), so extrapolating
+ *   beyond the sheet's point never flattens the curve (the 10 °C rule under-predicts diffusion
+ *   leakage at 125–150 °C: ×5.66 against ×8.26 — REFERENCE A5);
+ * - both points are taken at the hot point's VCB and scaled by (vcbV / point VCB)^LEAKAGE_VOLTAGE_EXPONENT
+ *   when the plan's VCB is higher.
+ */
+export function hotPointLeakage(p: {
+  hot: { iA: number; tC: number; vcbV: number };
+  ref: { iA: number; tC: number } | null;
+  vcbV: number;
+  fallbackDoublingC: number;
+}): HotLeakageModel {
+  const { hot } = p;
+  const doublingC =
+    p.ref && p.ref.iA < hot.iA && p.ref.tC < hot.tC
+      ? leakageDoublingC({ i1A: p.ref.iA, t1C: p.ref.tC, i2A: hot.iA, t2C: hot.tC })
+      : p.fallbackDoublingC;
+  const voltageFactor = Math.max(1, Math.pow(p.vcbV / hot.vcbV, LEAKAGE_VOLTAGE_EXPONENT));
+  const iHot = hot.iA * voltageFactor;
+  const leakageAtC = (tC: number): number => {
+    const law = iHot * Math.pow(2, (tC - hot.tC) / doublingC);
+    return tC <= hot.tC ? law : Math.max(law, iHot * diffusionLeakageRatio(hot.tC, tC));
+  };
+  return { leakageAtC, doublingC, voltageFactor };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Forward safe operating area (bipolar)
+// ---------------------------------------------------------------------------------------------
+
+/** Slope n of the second-breakdown line through two SOA points: n = ln(I1/I2)/ln(V2/V1). */
+export function sbSlopeFromPoints(p: { i1A: number; v1V: number; i2A: number; v2V: number }): number {
+  return Math.log(p.i1A / p.i2A) / Math.log(p.v2V / p.v1V);
+}
+
+/** Knee of an S/b line through (vV, iA) with slope n: where it meets the power rating, I·V = pMaxW. */
+export function sbKneeFromPoint(p: { iA: number; vV: number; n: number; pMaxW: number }): number {
+  return Math.pow(p.pMaxW / (p.iA * Math.pow(p.vV, p.n)), 1 / (1 - p.n));
+}
+
+/** S/b current at VCE for a line leaving the power rating at kneeV with slope n (∞ at or below the knee). */
+export function secondBreakdownCurrent(p: { vceV: number; kneeV: number; slopeN: number; pMaxW: number }): number {
+  if (p.vceV <= p.kneeV) return Infinity;
+  return (p.pMaxW / p.kneeV) * Math.pow(p.vceV / p.kneeV, -p.slopeN);
+}
+
+/** S/b derating with case temperature: 1 at the power rating's case temperature, falling linearly to `atTjMax` at Tj max. */
+export function sbDerating(p: { tCaseC: number; pRatedAtC: number; tjMaxC: number; atTjMax: number }): number {
+  const x = (p.tCaseC - p.pRatedAtC) / (p.tjMaxC - p.pRatedAtC);
+  return 1 - (1 - p.atTjMax) * Math.min(1, Math.max(0, x));
+}
+
+export interface ForwardSoaLimit {
+  /** Power the case temperature allows: min(Ptot, (Tj max − Tc)/θjc). */
+  thermalW: number;
+  thermalA: number;
+  /** S/b current at VCE after derating (∞ at or below the knee). */
+  sbA: number;
+  sbDerating: number;
+  icMaxA: number;
+  allowedA: number;
+  limitedBy: 'ic-max' | 'thermal' | 'second-breakdown';
+}
+
+/**
+ * Allowed collector current at (VCE, Tc): min(IC max, P_D(Tc)/VCE, k_sb(Tc)·I_sb(VCE))
+ * [REFERENCE A6: θjc = (Tj max − 25)/P_D25, P_D(Tc) = (Tj max − Tc)/θjc, I_sb = I1·(V/V1)^−n;
+ * methods MIL-STD-750 3051/3052/3053 from memory — confirm]. VCE against BVCEO is the breakdown rule's.
+ */
+export function forwardSoaLimit(p: {
+  vceV: number;
+  tCaseC: number;
+  icMaxA: number;
+  pMaxW: number;
+  pRatedAtC: number;
+  tjMaxC: number;
+  thetaJcCPerW: number;
+  kneeV: number;
+  slopeN: number;
+  sbAtTjMax: number;
+}): ForwardSoaLimit {
+  const thermalW = Math.min(p.pMaxW, Math.max(0, (p.tjMaxC - p.tCaseC) / p.thetaJcCPerW));
+  const thermalA = thermalW / p.vceV;
+  const k = sbDerating({ tCaseC: p.tCaseC, pRatedAtC: p.pRatedAtC, tjMaxC: p.tjMaxC, atTjMax: p.sbAtTjMax });
+  const sbA = k * secondBreakdownCurrent({ vceV: p.vceV, kneeV: p.kneeV, slopeN: p.slopeN, pMaxW: p.pMaxW });
+  const allowedA = Math.min(p.icMaxA, thermalA, sbA);
+  const limitedBy = p.icMaxA <= thermalA && p.icMaxA <= sbA ? 'ic-max' : thermalA <= sbA ? 'thermal' : 'second-breakdown';
+  return { thermalW, thermalA, sbA, sbDerating: k, icMaxA: p.icMaxA, allowedA, limitedBy };
 }

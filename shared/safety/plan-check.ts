@@ -10,7 +10,10 @@
  *   only by the case-to-chamber rise).
  * - Junction temperature and the runaway loop use θja from chamber ambient (device in free air in the
  *   chamber; conservative for a heatsinked rig, which has a lower junction-to-ambient resistance).
- * - Leakage given at 25 °C and doubling every 10 °C (common practice).
+ * - Leakage from the device's hot-leakage point (ICBO at a stated T and VCB) by the two-point law
+ *   when given (shared/physics hotPointLeakage), else the 25 °C figure doubling every 10 °C (common practice).
+ * - Temperatures are judged by margins in kelvin and against the plan's chamber band, never as a
+ *   percentage of a Celsius value; a reverse-bias stress at Tj max (the method's condition) is not a warning.
  */
 import type { DeviceTypeInput } from '../schemas/devices';
 import type { PlanInput } from '../schemas/plans';
@@ -19,6 +22,7 @@ import { junctionTemperature } from './plan-rules/junction';
 import { activeRegion, cyclePeakJunction, dissipation, icVsIcMax, operatingPoint } from './plan-rules/powered';
 import { chamberVsTjMax, vcbVsBvcbo, vceVsBvceo, vebVsBvebo } from './plan-rules/ratings';
 import { leakageSelfHeating } from './plan-rules/reverse-bias';
+import { forwardSoa } from './plan-rules/soa';
 import type { CheckContext, PlanCheck, PlanRule } from './plan-rules/types';
 
 export * from './plan-rules/types';
@@ -33,6 +37,7 @@ export const PLAN_RULES: readonly PlanRule[] = [
   operatingPoint,
   icVsIcMax,
   dissipation,
+  forwardSoa,
   cyclePeakJunction,
   leakageSelfHeating,
   junctionTemperature,
@@ -45,6 +50,7 @@ export function checkPlan(device: DeviceTypeInput, plan: PlanInput, rules: reado
     device,
     plan,
     chamber,
+    chamberTop: chamber + plan.chamberBand.aboveK,
     derating: plan.breakdownDerating,
     betaAtChamber,
     powered: { forcedIb: false, runaway: false },
@@ -62,6 +68,8 @@ export function checkPlan(device: DeviceTypeInput, plan: PlanInput, rules: reado
       criticalAmbientC: null,
       runawayMarginC: null,
       leakageAtTjA: null,
+      leakageDoublingC: null,
+      soaAllowedIcA: null,
     },
   };
   const findings = rules.flatMap((rule) => rule(c));

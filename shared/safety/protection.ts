@@ -29,6 +29,7 @@
  *   catches quasi-static runaway (a chamber or socket drifting past its critical point); fast
  *   transients are caught by the time-to-limit projection and the temperature threshold.
  */
+import { RATED_STRESS_HEADROOM_K } from '../domain/standards';
 import {
   FIT_ACCEL,
   FIT_ACCEL_SE,
@@ -54,7 +55,10 @@ export { SocketTrend };
 export type SocketSample = TrendSample;
 
 export interface ProtectionDevice {
+  /** The junction at which protection trips outright: Tj max, or a run's raised limit (protectionLimitC). */
   tjMaxC: number;
+  /** The data sheet's Tj max, when tjMaxC is a run's limit above it (an HTRB at rating); named in trip reasons. */
+  ratedTjMaxC?: number;
   thetaJcCPerW: number;
   /**
    * Junction-to-ambient in free air (the data sheet's θja): the most a socket's heat path can be,
@@ -351,16 +355,16 @@ export function judgeTrend(
   let text: string | null = null;
   if (tj >= tjMaxC) {
     action = 'trip';
-    text = `${tjDescription(tj, tjMaxC)} has reached the rating`;
+    text = `${tjDescription(tj, tjMaxC, device.ratedTjMaxC)} has reached ${device.ratedTjMaxC !== undefined && device.ratedTjMaxC < tjMaxC ? 'the run limit' : 'the rating'}`;
   } else if (loopGain !== null && loopGain >= 1 && rising) {
     action = 'trip';
-    text = `${tjDescription(tj, tjMaxC)} rising with loop gain ${fmtGain(loopGain)} ≥ 1: thermal runaway`;
+    text = `${tjDescription(tj, tjMaxC, device.ratedTjMaxC)} rising with loop gain ${fmtGain(loopGain)} ≥ 1: thermal runaway`;
   } else if (seconds !== null && seconds < opts.horizonS && linearS < opts.projectionRateFactor * opts.horizonS) {
     action = 'trip';
-    text = `${tjDescription(tj, tjMaxC)} projected to reach the rating in ${Math.round(seconds)} s`;
+    text = `${tjDescription(tj, tjMaxC, device.ratedTjMaxC)} projected to reach the rating in ${Math.round(seconds)} s`;
   } else if (inZone && rising && loopGain !== null && loopGain >= opts.marginLoopGain) {
     action = 'trip';
-    text = `${tjDescription(tj, tjMaxC)} is within ${opts.marginC} °C of the rating and still rising with loop gain ${fmtGain(loopGain)}: leakage and temperature feed each other`;
+    text = `${tjDescription(tj, tjMaxC, device.ratedTjMaxC)} is within ${opts.marginC} °C of the rating and still rising with loop gain ${fmtGain(loopGain)}: leakage and temperature feed each other`;
   } else if (
     inZone &&
     baselineTjC !== undefined &&
@@ -368,19 +372,19 @@ export function judgeTrend(
     tj - baselineTjC >= Math.max(opts.peerOutlierMinC, opts.peerOutlierZ * peerSpreadC)
   ) {
     action = 'trip';
-    text = `${tjDescription(tj, tjMaxC)} is within ${opts.marginC} °C of the rating and ${f1(tj - baselineTjC)} °C above its peers, beyond the board's spread (±${f1(peerSpreadC)} °C): its heat path is failing`;
+    text = `${tjDescription(tj, tjMaxC, device.ratedTjMaxC)} is within ${opts.marginC} °C of the rating and ${f1(tj - baselineTjC)} °C above its peers, beyond the board's spread (±${f1(peerSpreadC)} °C): its heat path is failing`;
   } else if (inZone && earlyClimb && aboveBaseline) {
     action = 'trip';
-    text = `${tjDescription(tj, tjMaxC)} is within ${opts.marginC} °C of the rating, ${f1(tj - baseline)} °C above its peers/chamber and climbing fast`;
+    text = `${tjDescription(tj, tjMaxC, device.ratedTjMaxC)} is within ${opts.marginC} °C of the rating, ${f1(tj - baseline)} °C above its peers/chamber and climbing fast`;
   } else if (tj >= tripAt - opts.warnExtraMarginC && aboveBaseline && (rising || earlyClimb)) {
     action = 'warn';
-    text = `${tjDescription(tj, tjMaxC)} within ${opts.marginC + opts.warnExtraMarginC} °C of the rating and rising above its peers`;
+    text = `${tjDescription(tj, tjMaxC, device.ratedTjMaxC)} within ${opts.marginC + opts.warnExtraMarginC} °C of the rating and rising above its peers`;
   } else if (loopGain !== null && loopGain >= opts.warnLoopGain) {
     action = 'warn';
-    text = `${tjDescription(tj, tjMaxC)}, loop gain ${loopGain.toFixed(2)}: strong thermal feedback`;
+    text = `${tjDescription(tj, tjMaxC, device.ratedTjMaxC)}, loop gain ${loopGain.toFixed(2)}: strong thermal feedback`;
   } else if (seconds !== null && seconds < opts.warnHorizonFactor * opts.horizonS && linearS < opts.warnHorizonFactor * opts.horizonS) {
     action = 'warn';
-    text = `${tjDescription(tj, tjMaxC)} projected to reach the rating in ${Math.round(seconds)} s`;
+    text = `${tjDescription(tj, tjMaxC, device.ratedTjMaxC)} projected to reach the rating in ${Math.round(seconds)} s`;
   }
   // With 'none' (the usual case) there is no text: Assessment builds the reason only if somebody reads it.
   J[J_TJ] = tj;
@@ -428,7 +432,10 @@ export function assessTrend(
   );
 }
 
-const tjDescription = (tj: number, tjMaxC: number) => `Tj ${f1(tj)} °C (max ${f1(tjMaxC)} °C)`;
+const tjDescription = (tj: number, tjMaxC: number, ratedC?: number) =>
+  ratedC !== undefined && ratedC < tjMaxC
+    ? `Tj ${f1(tj)} °C (run limit ${f1(tjMaxC)} °C: the plan's band top + ${RATED_STRESS_HEADROOM_K} K; rated ${f1(ratedC)} °C)`
+    : `Tj ${f1(tj)} °C (max ${f1(tjMaxC)} °C)`;
 
 class Assessment implements SocketAssessment {
   #text: string | null;

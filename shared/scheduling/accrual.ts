@@ -4,8 +4,9 @@
  *
  * An interval between two consecutive samples (seq n → n + 1) counts when the conditions held at
  * both ends:
- * - the chamber within ±3 % of its set temperature [pub: MIL-STD-750 general requirements §4.5]
- *   (set 125 °C → 121.25–128.75 °C), and for humidity plans the humidity within ±5 % RH of set
+ * - the chamber within the plan's band in kelvin around its stress temperature (a minimum with a
+ *   one-sided band for HTRB: set 150 °C, +5/−0 K → 150–155 °C; shared/domain/standards.ts), and
+ *   for humidity plans the humidity within ±5 % RH of set
  *   [memory: JESD22-A101, 85 °C / 85 ± 5 % RH];
  * - per socket: bias on, not tripped, and the bias voltage within the plan's tolerance.
  * The run's own clock counts when the chamber held and at least one of its sockets counted (for
@@ -15,28 +16,29 @@
  * Once a socket has tripped it stays out for the rest of the run (latched).
  */
 
-import { CHAMBER_TOLERANCE_PCT, HUMIDITY_TOLERANCE_RH } from '../domain/standards';
+import { HUMIDITY_TOLERANCE_RH, chamberLimits, type ChamberBandK } from '../domain/standards';
 
-export { CHAMBER_TOLERANCE_PCT, HUMIDITY_TOLERANCE_RH };
+export { HUMIDITY_TOLERANCE_RH };
 
 export interface Band {
   lowC: number;
   highC: number;
 }
 
-/** Allowed chamber band: set ± 3 % of the set value (°C). */
-export function chamberBand(setC: number, tolerancePct = CHAMBER_TOLERANCE_PCT): Band {
-  const d = (Math.abs(setC) * tolerancePct) / 100;
-  return { lowC: setC - d, highC: setC + d };
+/** Allowed chamber range: set − belowK … set + aboveK (°C). */
+export function chamberBand(setC: number, band: ChamberBandK): Band {
+  return chamberLimits(setC, band);
 }
 
-export function chamberWithinBand(chamberC: number, setC: number, tolerancePct = CHAMBER_TOLERANCE_PCT): boolean {
-  const b = chamberBand(setC, tolerancePct);
+export function chamberWithinBand(chamberC: number, setC: number, band: ChamberBandK): boolean {
+  const b = chamberBand(setC, band);
   return chamberC >= b.lowC && chamberC <= b.highC;
 }
 
 export interface AccrualConditions {
   setC: number;
+  /** The plan's chamber band (K below / above setC). */
+  band: ChamberBandK;
   humidityPct: number | null;
   /** Bias voltage magnitude the sockets should show, or null to check bias on/off only. */
   biasV: number | null;
@@ -66,7 +68,7 @@ export interface ClockSample {
 }
 
 export function conditionsHeld(s: Pick<ClockSample, 'chamberC' | 'humidityPct'>, c: AccrualConditions): boolean {
-  if (!chamberWithinBand(s.chamberC, c.setC)) return false;
+  if (!chamberWithinBand(s.chamberC, c.setC, c.band)) return false;
   if (c.humidityPct !== null) {
     if (s.humidityPct === null || Math.abs(s.humidityPct - c.humidityPct) > HUMIDITY_TOLERANCE_RH) return false;
   }

@@ -4,7 +4,7 @@ export * from './heuristic';
 export * from './accrual';
 
 import type { Bias } from '../schemas/plans';
-import { DEFAULT_BIAS_TOLERANCE_PCT } from '../domain/standards';
+import { DEFAULT_BIAS_TOLERANCE_PCT, type ChamberBandK } from '../domain/standards';
 import { isCyclingKind, isPoweredKind, isReverseBiasKind, type PlanKind } from '../domain/stress';
 import type { AccrualConditions } from './accrual';
 
@@ -35,9 +35,12 @@ export function planBiasSettings(plan: PlanLike): { vV?: number; iA?: number; ic
 }
 
 /** Accrual conditions of a plan version. */
-export function accrualConditionsFor(plan: PlanLike & { chamberC: number; humidityPct: number | null }): AccrualConditions {
+export function accrualConditionsFor(
+  plan: PlanLike & { chamberC: number; humidityPct: number | null; chamberBand: ChamberBandK },
+): AccrualConditions {
   return {
     setC: plan.chamberC,
+    band: plan.chamberBand,
     humidityPct: plan.humidityPct,
     biasV: planBiasV(plan),
     biasTolerancePct: plan.bias.tolerancePct ?? DEFAULT_BIAS_TOLERANCE_PCT,

@@ -10,6 +10,8 @@
  */
 import { z } from 'zod';
 import type { PlanJudgement } from '../verdict/judge';
+import type { RecordDeviationKind } from '../domain/records';
+import type { MeasurementResult } from '../evidence';
 import type { ModelParameter, StressMechanism } from '../reliability/mechanism-names';
 
 import { LOT_VERDICTS, type LotVerdict } from '../domain/verdicts';
@@ -172,6 +174,32 @@ export interface LotDetail extends LotSummary {
   /** Other runs this lot was on (the analysis uses `run`). */
   otherRuns: Array<{ id: string; code: string; state: string }>;
   caution: string;
+  /** Changes after entry (issue #21): every version of each corrected reading, and the deviations recorded. */
+  records: LotRecords;
+}
+
+/** One version of a corrected reading of the lot (the earlier ones stay, in the screen and the exports). */
+export interface LotReadingVersion {
+  runCode: string;
+  serial: string;
+  readPointH: number;
+  version: number;
+  current: boolean;
+  result: MeasurementResult;
+  hfe: number | null;
+  icboA: number | null;
+  vcesatV: number | null;
+  measuredAt: string;
+  enteredByName: string | null;
+  reason: string | null;
+  deviation: RecordDeviationKind[];
+  recordedAt: string;
+}
+
+export interface LotRecords {
+  corrections: LotReadingVersion[];
+  /** Versions that recorded a deviation on the lot (time zero after Start, finished run changed, failure withdrawn). */
+  deviations: LotReadingVersion[];
 }
 
 /** One plan's judgement of a lot, with its FIT from the devices' credited hours. */

@@ -19,5 +19,7 @@ export const sessionUserSchema = z.object({
   /** Present on GET /api/auth/me: the user's own notification subscriptions. */
   notifyAlarms: z.boolean().optional(),
   notifyReadPoints: z.boolean().optional(),
+  /** Present on GET /api/auth/me: holds the per-user safety-approval grant. */
+  safetyApprover: z.boolean().optional(),
 });
 export type SessionUser = z.infer<typeof sessionUserSchema>;

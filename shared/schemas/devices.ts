@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { DEFAULT_SB_KNEE_V, DEFAULT_SB_SLOPE_N } from '../domain/standards';
 
 /** Finite number: rejects NaN and ±Infinity, which JSON cannot carry anyway but forms can. */
 export const num = () => z.number().finite();
@@ -30,8 +31,15 @@ export const deviceTypeInputSchema = z.object({
   betaRefTC: num().min(-55).max(200).default(25),
   /** Gain-temperature exponent XTB of β(T) = β_ref·(T/T_ref)^XTB (kelvin). */
   xtb: num().min(-5).max(5).default(1.5),
-  /** Collector-base leakage at 25 °C (A) and the VCB it was measured at. */
+  /** Collector-base leakage at 25 °C (A), taken at the hot point's VCB when one is given. */
   icboRefA: positive().max(1).nullable().default(null),
+  /** Hot-leakage point as data sheets state it: ICBO (A) at a stated temperature (°C) and VCB (V); all three or none. */
+  icboHotA: positive().max(1).nullable().default(null),
+  icboHotC: num().min(26, 'The hot point must be above 25 °C').max(250).nullable().default(null),
+  icboHotVcbV: positive().max(10000).nullable().default(null),
+  /** Second breakdown (forward SOA): knee voltage where the S/b line leaves the thermal line, and its slope n in I·V^n = const. */
+  sbKneeV: positive().max(10000).default(DEFAULT_SB_KNEE_V),
+  sbSlopeN: num().gt(1, 'The S/b slope must be steeper than the thermal line (n > 1)').max(6).default(DEFAULT_SB_SLOPE_N),
   /** Exponent n in BVCEO ≈ BVCBO / β^(1/n), used only when bvceoV is null. */
   breakdownN: num().min(1).max(10).default(3),
 });
@@ -45,9 +53,20 @@ export type DeviceTypeSummary = DeviceType & { lotCount: number; deviceCount: nu
  * service after a partial update has been merged, so both paths give the same messages.
  */
 export function deviceTypeRuleIssues(
-  d: Pick<DeviceTypeInput, 'bvcboV' | 'bvceoV' | 'thetaJcCPerW' | 'thetaJaCPerW'>,
+  d: Pick<DeviceTypeInput, 'bvcboV' | 'bvceoV' | 'thetaJcCPerW' | 'thetaJaCPerW' | 'icboRefA' | 'icboHotA' | 'icboHotC' | 'icboHotVcbV'>,
 ): Array<{ path: string; message: string }> {
   const out: Array<{ path: string; message: string }> = [];
+  const hot = [d.icboHotA, d.icboHotC, d.icboHotVcbV];
+  if (hot.some((x) => x !== null) && hot.some((x) => x === null)) {
+    const missing = d.icboHotA === null ? 'icboHotA' : d.icboHotC === null ? 'icboHotC' : 'icboHotVcbV';
+    out.push({ path: missing, message: 'A hot-leakage point needs ICBO, its temperature and its VCB together' });
+  }
+  if (d.icboHotA !== null && d.icboRefA !== null && d.icboHotA <= d.icboRefA) {
+    out.push({ path: 'icboHotA', message: 'Hot ICBO must be above the 25 °C figure (leakage grows with temperature)' });
+  }
+  if (d.icboHotVcbV !== null && d.icboHotVcbV > d.bvcboV) {
+    out.push({ path: 'icboHotVcbV', message: 'The hot point’s VCB cannot exceed BVCBO' });
+  }
   if (d.bvceoV !== null && d.bvceoV > d.bvcboV) {
     out.push({ path: 'bvceoV', message: 'BVCEO cannot be higher than BVCBO (the open-base breakdown is the lower of the two)' });
   }

@@ -6,6 +6,7 @@
 import { z } from 'zod';
 import { CONFIRM_REASON_MIN, DISPOSITION_KINDS, DISPOSITION_REASON_MIN, type DispositionKind, type MeasurementResult } from '../evidence';
 import { num } from './devices';
+import type { RecordDeviationKind } from '../domain/records';
 
 const uuid = (what: string) => z.string().uuid(`Not a valid ${what} id`);
 
@@ -131,6 +132,19 @@ export interface SampleEvidence {
   readPointsH: number[];
   devices: EvidenceDevice[];
   coverage: ReadPointCoverageView[];
+  /** Readings changed as a deviation (time zero after Start, a finished run changed, a failure withdrawn), oldest first. */
+  recordDeviations: RecordDeviationView[];
+}
+
+export interface RecordDeviationView {
+  runCode: string;
+  serial: string;
+  readPointH: number;
+  version: number;
+  kinds: RecordDeviationKind[];
+  reason: string | null;
+  byName: string | null;
+  at: string;
 }
 
 export interface RunCoverage {

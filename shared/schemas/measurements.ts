@@ -9,10 +9,15 @@
  *   POST /api/measurements/runs/:runId/read-points/:hours/measurements  JSON array (manual entry)
  *   GET  /api/measurements/runs/:runId/read-points/:hours             stored readings of a read point
  *   GET  /api/measurements/runs/:runId/drift                          drift per device
+ *   POST /api/measurements/readings/:id/corrections                   a new version of one reading, with its reason
+ *   GET  /api/measurements/runs/:runId/devices/:deviceId/history      every version of a device's readings
+ *   GET  /api/measurements/runs/:runId/uploads                        stored uploads, each with its file's path
+ *   GET  /api/measurements/uploads/:uploadId/file                     the uploaded file, byte for byte
  */
 import { z } from 'zod';
 import { num } from './devices';
 import { MEASUREMENT_RESULTS, type MeasurementResult } from '../evidence';
+import { CORRECTION_REASON_MIN, type RecordDeviationKind } from '../domain/records';
 
 import { MEASUREMENT_COLUMNS, type MeasurementColumn, LEAKAGE_UNITS, CURRENT_UNITS, VOLTAGE_UNITS } from '../domain/measurement-columns';
 export {
@@ -48,6 +53,13 @@ export const columnMappingSchema = z.record(z.string().trim().min(1).max(100), z
 );
 export type ColumnMapping = z.infer<typeof columnMappingSchema>;
 
+/** A reason for a correction or a deviation (CORRECTION_REASON_MIN characters at least). */
+export const correctionReasonSchema = z
+  .string()
+  .trim()
+  .min(CORRECTION_REASON_MIN, `Give the reason for the change in at least ${CORRECTION_REASON_MIN} characters`)
+  .max(500, 'Keep the reason under 500 characters');
+
 /** A multipart text field holding JSON (mapping, units) → parsed object, or the default when absent. */
 const jsonField = <T extends z.ZodType>(schema: T) =>
   z.preprocess((v, ctx) => {
@@ -67,6 +79,8 @@ export const uploadFieldsSchema = z.object({
   units: jsonField(unitsSchema.default({ icbo: 'A', hfeIc: 'A', vcesat: 'V' })),
   /** Temperature assumed for rows without temp_c. */
   defaultTempC: z.coerce.number().finite().min(-65).max(300).default(25),
+  /** Why this file replaces stored values (needed when it does; shared/domain/records.ts). */
+  reason: correctionReasonSchema.optional(),
 });
 export type UploadFields = z.infer<typeof uploadFieldsSchema>;
 
@@ -87,37 +101,64 @@ export const uploadQuerySchema = z.object({
 /** Upload limits. */
 export { UPLOAD_MAX_BYTES, UPLOAD_MAX_ROWS } from '../domain/measurement-columns';
 
+/** A reading's values, SI units (shared by manual entry and a correction). */
+const readingValuesShape = {
+  result: z.enum(MEASUREMENT_RESULTS).default('measured'),
+  hfe: num().positive('hFE must be above 0').max(100000).nullable().optional(),
+  hfeIcA: num().positive().max(1000).nullable().optional(),
+  hfeVceV: num().positive().max(10000).nullable().optional(),
+  icboA: num().min(0, 'Leakage cannot be negative').max(1).nullable().optional(),
+  icboVcbV: num().positive().max(10000).nullable().optional(),
+  vcesatV: num().min(0).max(100).nullable().optional(),
+  bvceoV: num().positive().max(10000).nullable().optional(),
+  measuredC: num().min(-65).max(300).default(25),
+  measuredAt: z.string().datetime({ offset: true, message: 'Use an ISO date-time' }).optional(),
+};
+
+/** A dead device (result open / short / no-reading) comes without values; a measured one needs them all (BVCEO optional). */
+function requireValues(
+  r: { result: MeasurementResult } & Partial<Record<'hfe' | 'hfeIcA' | 'hfeVceV' | 'icboA' | 'icboVcbV' | 'vcesatV', number | null>>,
+  ctx: z.RefinementCtx,
+) {
+  if (r.result !== 'measured') return;
+  for (const k of ['hfe', 'hfeIcA', 'hfeVceV', 'icboA', 'icboVcbV', 'vcesatV'] as const) {
+    if (r[k] === null || r[k] === undefined) {
+      ctx.addIssue({ code: 'custom', path: [k], message: 'Enter a value, or choose open, short or no reading for a dead device' });
+    }
+  }
+}
+
 /**
  * One device's reading entered by hand, SI units. A dead device (result open / short / no-reading)
- * is entered without values; a measured one needs them all (BVCEO optional).
+ * is entered without values; a measured one needs them all (BVCEO optional). `reason` is needed
+ * when the entry replaces a stored value or is a deviation (shared/domain/records.ts).
  */
 export const manualReadingSchema = z
   .object({
     serial: z.string().trim().min(1, 'Enter the serial').max(40),
     lot: z.string().trim().max(40).optional(),
-    result: z.enum(MEASUREMENT_RESULTS).default('measured'),
-    hfe: num().positive('hFE must be above 0').max(100000).nullable().optional(),
-    hfeIcA: num().positive().max(1000).nullable().optional(),
-    hfeVceV: num().positive().max(10000).nullable().optional(),
-    icboA: num().min(0, 'Leakage cannot be negative').max(1).nullable().optional(),
-    icboVcbV: num().positive().max(10000).nullable().optional(),
-    vcesatV: num().min(0).max(100).nullable().optional(),
-    bvceoV: num().positive().max(10000).nullable().optional(),
-    measuredC: num().min(-65).max(300).default(25),
-    measuredAt: z.string().datetime({ offset: true, message: 'Use an ISO date-time' }).optional(),
+    ...readingValuesShape,
+    reason: correctionReasonSchema.optional(),
   })
-  .superRefine((r, ctx) => {
-    if (r.result !== 'measured') return;
-    for (const k of ['hfe', 'hfeIcA', 'hfeVceV', 'icboA', 'icboVcbV', 'vcesatV'] as const) {
-      if (r[k] === null || r[k] === undefined) {
-        ctx.addIssue({ code: 'custom', path: [k], message: 'Enter a value, or choose open, short or no reading for a dead device' });
-      }
-    }
-  });
+  .superRefine(requireValues);
 export const manualEntrySchema = z
   .array(manualReadingSchema)
   .min(1, 'Enter at least one device')
   .max(50, 'Enter at most 50 devices at a time; upload a file for more');
+
+/** POST /api/measurements/readings/:id/corrections: the reading's new values and why (always). */
+export const correctionSchema = z
+  .object({ ...readingValuesShape, reason: correctionReasonSchema })
+  .strict()
+  .superRefine(requireValues);
+export type CorrectionInput = z.infer<typeof correctionSchema>;
+
+export const readingParamsSchema = z.object({ id: z.string().uuid('Not a valid reading id') });
+export const uploadParamsSchema = z.object({ uploadId: z.string().uuid('Not a valid upload id') });
+export const deviceHistoryParamsSchema = z.object({
+  runId: z.string().uuid('Not a valid run id'),
+  deviceId: z.string().uuid('Not a valid device id'),
+});
 export type ManualReading = z.infer<typeof manualReadingSchema>;
 
 // ---------------------------------------------------------------------------------------------
@@ -237,6 +278,62 @@ export interface StoredReading {
   result: MeasurementResult;
   conditionsFlag: string | null;
   confirmedAt: string | null;
+  /** 1 = as first entered; more = corrected (the earlier versions are in the device's history). */
+  version: number;
+  /** Why the current version replaced the one before. */
+  changeReason: string | null;
+  /** Deviation kinds the current version recorded on the lot (labels in shared/domain/records.ts). */
+  deviation: RecordDeviationKind[];
+}
+
+/** One version of a reading (GET …/runs/:runId/devices/:deviceId/history). */
+export interface ReadingVersion {
+  measurementId: string;
+  readPointH: number;
+  version: number;
+  current: boolean;
+  result: MeasurementResult;
+  hfe: number | null;
+  hfeIcA: number | null;
+  hfeVceV: number | null;
+  icboA: number | null;
+  icboVcbV: number | null;
+  vcesatV: number | null;
+  bvceoV: number | null;
+  measuredC: number;
+  measuredAt: string;
+  late: boolean;
+  uploadId: string | null;
+  fileName: string | null;
+  enteredByName: string | null;
+  reason: string | null;
+  deviation: RecordDeviationKind[];
+  recordedAt: string;
+}
+
+export interface DeviceHistory {
+  runId: string;
+  runCode: string;
+  deviceId: string;
+  serial: string;
+  lotCode: string;
+  versions: ReadingVersion[];
+}
+
+/** An upload's record (GET /api/measurements/runs/:runId/uploads); the file is at `downloadPath`. */
+export interface UploadRecord {
+  id: string;
+  readPointH: number;
+  fileName: string;
+  fileSha256: string;
+  sizeBytes: number | null;
+  rowsTotal: number;
+  rowsStored: number;
+  rowsRejected: number;
+  uploadedByName: string | null;
+  createdAt: string;
+  /** Null when the upload predates keeping files (only its hash was stored then). */
+  downloadPath: string | null;
 }
 
 export interface ParameterDriftView {

@@ -3,7 +3,9 @@ import { num } from './devices';
 
 import { PLAN_KINDS, isCyclingKind, isHumidityKind, isPoweredKind, isReverseBiasKind, type PlanKind } from '../domain/stress';
 import {
+  CHAMBER_BAND_MAX_K,
   DEFAULT_BIAS_TOLERANCE_PCT,
+  METHOD_CHAMBER_BAND_K,
   DEFAULT_EA_EV,
   DEFAULT_READ_POINTS_H,
   DEFAULT_USE_C,
@@ -70,12 +72,20 @@ export const cycleSchema = z.object({
   cycles: z.number().int().positive().max(1_000_000),
 });
 
+/** The chamber band in kelvin below and above the stated stress temperature (see METHOD_CHAMBER_BAND_K). */
+export const chamberBandSchema = z.object({
+  belowK: num().min(0, 'A band cannot be negative').max(CHAMBER_BAND_MAX_K, `At most ${CHAMBER_BAND_MAX_K} K`),
+  aboveK: num().min(0, 'A band cannot be negative').max(CHAMBER_BAND_MAX_K, `At most ${CHAMBER_BAND_MAX_K} K`),
+});
+
 export const planInputSchema = z
   .object({
     name: z.string().trim().min(1, 'Name the plan').max(120),
     kind: z.enum(PLAN_KINDS),
     deviceTypeId: z.string().uuid('Choose a device type'),
     chamberC: num().min(-65).max(300),
+    /** Band around chamberC in kelvin; absent or null = the method's band for the kind. */
+    chamberBand: chamberBandSchema.nullable().default(null),
     humidityPct: num().min(0).max(100).nullable().default(null),
     bias: biasSchema,
     durationH: num().positive().max(100000),
@@ -117,8 +127,19 @@ export const planInputSchema = z
     if (isCyclingKind(p.kind) && p.cycle === null) {
       ctx.addIssue({ code: 'custom', path: ['cycle'], message: 'Intermittent plans need on/off times' });
     }
-  });
+    if (p.chamberBand && p.chamberBand.belowK + p.chamberBand.aboveK <= 0) {
+      ctx.addIssue({
+        code: 'custom',
+        path: ['chamberBand', 'aboveK'],
+        message: 'The chamber band needs some width (no chamber holds a temperature exactly)',
+      });
+    }
+  })
+  .transform((p) => ({ ...p, chamberBand: p.chamberBand ?? { ...METHOD_CHAMBER_BAND_K[p.kind] } }));
+/** A plan as the server keeps it: the band resolved (the method's when the body gave none). */
 export type PlanInput = z.infer<typeof planInputSchema>;
+/** A plan body as sent (the band may be left out). */
+export type PlanBody = z.input<typeof planInputSchema>;
 
 // ---------------------------------------------------------------------------------------------
 // API shapes for /api/plans (requests beyond the plan body itself, and responses)
@@ -148,6 +169,8 @@ export interface CheckFinding {
   numbers: Record<string, CheckFindingNumber>;
   /** The keys of `numbers` in the order the check gave them (a jsonb column does not keep key order). */
   order?: string[];
+  /** A blocking finding no approval may override (shared/safety/plan-rules/types.ts). */
+  neverOverride?: boolean;
 }
 
 /**

@@ -3,6 +3,7 @@ import type { PlanKind } from './plans';
 import { DEVIATION_REASON_MIN } from '../evidence';
 
 import { RUN_STATES, type RunState } from '../domain/run-states';
+import type { ChamberBandK } from '../domain/standards';
 
 export { RUN_STATES, ON_RIG_STATES, DRIVEN_STATES, HEAT_STATES, TERMINAL_STATES, type RunState } from '../domain/run-states';
 
@@ -66,25 +67,14 @@ export const deviationSchema = z.object({
     .max(2000),
 });
 
-import { OVERRIDE_REASON_MIN } from '../domain/reasons';
-export { OVERRIDE_REASON_MIN } from '../domain/reasons';
-
 export const bookRunSchema = proposalInputSchema.extend({
   rigId: uuid('rig'),
   /** Start of the chosen proposal; omitted = the earliest feasible start on the rig. */
   start: isoTime().optional(),
   /** Booking fewer devices than the plan asks (engineer's written reason, audited). */
   deviation: deviationSchema.optional(),
-  /** Book despite blocking plan-check findings (engineer's written reason, audited). */
-  override: z
-    .object({
-      reason: z
-        .string()
-        .trim()
-        .min(OVERRIDE_REASON_MIN, `Write at least ${OVERRIDE_REASON_MIN} characters on why the plan may run anyway`)
-        .max(2000),
-    })
-    .optional(),
+  /** Book despite blocking plan-check findings: an override request approved by a second person (shared/schemas/approvals). */
+  override: z.object({ requestId: uuid('override request') }).optional(),
 });
 export type BookRunInput = z.infer<typeof bookRunSchema>;
 
@@ -219,6 +209,8 @@ export interface RunPlanRef {
   version: number;
   kind: PlanKind;
   chamberC: number;
+  /** The band in kelvin below / above chamberC where hours count. */
+  chamberBand: ChamberBandK;
   humidityPct: number | null;
   durationH: number;
   readPointsH: number[];

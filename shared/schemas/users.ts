@@ -19,6 +19,8 @@ export const updateUserSchema = z
     password: passwordSchema.optional(),
     notifyAlarms: z.boolean().optional(),
     notifyReadPoints: z.boolean().optional(),
+    /** The per-user grant to approve safety overrides (admins only). */
+    safetyApprover: z.boolean().optional(),
   })
   .strict()
   .refine((v) => Object.keys(v).length > 0, { message: 'Nothing to change' });
@@ -32,6 +34,7 @@ export const userSchema = z.object({
   active: z.boolean(),
   notifyAlarms: z.boolean(),
   notifyReadPoints: z.boolean(),
+  safetyApprover: z.boolean(),
   lastSignInAt: z.string().nullable(),
   createdAt: z.string(),
 });

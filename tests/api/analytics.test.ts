@@ -390,6 +390,7 @@ describe('cached analysis', () => {
         vcesatV: r3.vcesatV,
         measuredC: r3.measuredC,
         measuredAt: r3.measuredAt,
+        reason: 'Re-read from the tester log',
       },
     ]);
     expect(put.status).toBe(201);

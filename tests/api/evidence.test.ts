@@ -237,9 +237,11 @@ describe('readings, dispositions and coverage', () => {
     });
   });
 
+  // A file that replaces stored readings needs a reason (shared/domain/records.ts); a first entry ignores it.
   const upload = async (csv: string, hours = 168) =>
     (await t.signIn('operator'))
       .post(`/api/measurements/runs/${runId}/read-points/${hours}/upload`)
+      .field('reason', 'Re-measured at the read point')
       .attach('file', Buffer.from(csv), 'rp168.csv');
   const coverage = async () => (await (await t.signIn('manager')).get(`/api/evidence/runs/${runId}/coverage`)).body;
 
@@ -296,7 +298,7 @@ describe('readings, dispositions and coverage', () => {
     expect(missing.body.error.fields['0.hfeIcA']).toEqual(['Enter a value, or choose open, short or no reading for a dead device']);
     const res = await op
       .post(`/api/measurements/runs/${runId}/read-points/168/measurements`)
-      .send([{ serial: 'C0004', result: 'no-reading' }]);
+      .send([{ serial: 'C0004', result: 'no-reading', reason: 'Re-test: the tester could not bias it' }]);
     expect(res.status).toBe(201);
     expect(
       await t.ctx.ds.getRepository(MeasurementEntity).findOneByOrFail({ runId, deviceId: devices[3].id, readPointH: 168 }),

@@ -117,9 +117,13 @@ const uploadPath = (h: number, preview = false, run = () => runId) =>
   `/api/measurements/runs/${run()}/read-points/${h}/upload${preview ? '?preview=1' : ''}`;
 
 describe('measurement upload', () => {
+  // HTRB-T-01 has started, so time zero is an engineer's entry with a reason (a deviation;
+  // tests/api/records.test.ts covers the rule itself).
+  const LATE_T0 = 'Time zero entered after Start in this test';
+
   it('stores a good time-zero file: every row inserted, the upload recorded and audited', async () => {
-    const op = await t.signIn('operator');
-    const res = await op.post(uploadPath(0)).attach('file', Buffer.from(goodFile()), 'tz.csv');
+    const eng = await t.signIn('engineer');
+    const res = await eng.post(uploadPath(0)).field('reason', LATE_T0).attach('file', Buffer.from(goodFile()), 'tz.csv');
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ status: 'stored', rowsTotal: 10, stored: 10, inserted: 10, replaced: 0, rejected: 0 });
     expect(res.body.rows.map((r: { row: number }) => r.row)).toEqual([2, 3, 4, 5, 6, 7, 8, 9, 10, 11]);
@@ -149,10 +153,10 @@ describe('measurement upload', () => {
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
   });
 
-  it('a corrected file replaces readings device by device (upsert per run, device, read point)', async () => {
-    const op = await t.signIn('operator');
+  it('a corrected file replaces readings device by device (a new version per changed reading)', async () => {
+    const eng = await t.signIn('engineer');
     const corrected = goodFile().replace('A001,120,', 'A001,121.5,');
-    const res = await op.post(uploadPath(0)).attach('file', Buffer.from(corrected), 'tz-corrected.csv');
+    const res = await eng.post(uploadPath(0)).field('reason', LATE_T0).attach('file', Buffer.from(corrected), 'tz-corrected.csv');
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ inserted: 0, replaced: 1, unchanged: 9, stored: 1 });
     expect(await t.ctx.ds.getRepository(MeasurementEntity).count({ where: { runId, readPointH: 0 } })).toBe(10);

@@ -155,11 +155,12 @@ describe('a run from heating to finished, driven by the scheduler', () => {
     await step(scheduler);
     expect(fake.sends).toHaveLength(1);
     expect(fake.sends[0].cmdId).toMatch(new RegExp(`^run:${runId}:heat:`));
-    expect(fake.sends[0].cmd).toMatchObject({ type: 'setpoint', setpointC: 145 });
-    expect(fake.setpointC).toBe(145);
+    // HTRB 145 °C with the method's +5/−0 K band [memory: JESD22-A108 — confirm]: the rig aims at the middle, 147.5 °C
+    expect(fake.sends[0].cmd).toMatchObject({ type: 'setpoint', setpointC: 147.5 });
+    expect(fake.setpointC).toBe(147.5);
   });
 
-  it('the chamber below the ±3 % band keeps it heating; the first sample in band (≥ 140.65 °C) starts stress; bias goes on', async () => {
+  it('the chamber below the stress temperature (a minimum, 145 °C) keeps it heating; the first sample in band (145–150 °C) starts stress; bias goes on', async () => {
     await land([100, 120, 140]);
     await step(scheduler);
     expect((await run()).state).toBe('heating');
@@ -172,10 +173,10 @@ describe('a run from heating to finished, driven by the scheduler', () => {
   });
 
   it('accrues from the stored telemetry: out-of-band and unbiased intervals do not count, a tripped socket stops; read point 4 h → hold', async () => {
-    // seq 5…23: chamber 150 °C (above 149.35) at seq 15; socket 2 trips at seq 12.
+    // seq 5…23: chamber 150.5 °C (above the band's 150) at seq 15; socket 2 trips at seq 12.
     for (let s = 5; s <= 23; s++) {
       if (s === 12) fake.trip(2);
-      await land([s === 15 ? 150 : 145]);
+      await land([s === 15 ? 150.5 : 145]);
     }
     await step(scheduler);
     const r = await run();
@@ -271,7 +272,7 @@ describe('a run from heating to finished, driven by the scheduler', () => {
     expect(res.body.state).toBe('heating');
     await step(scheduler);
     expect(fake.sends).toHaveLength(5);
-    expect(fake.sends[4].cmd).toMatchObject({ type: 'setpoint', setpointC: 145 });
+    expect(fake.sends[4].cmd).toMatchObject({ type: 'setpoint', setpointC: 147.5 });
     expect(fake.sends[4].cmdId).not.toBe(fake.sends[0].cmdId);
   });
 
@@ -284,7 +285,7 @@ describe('a run from heating to finished, driven by the scheduler', () => {
     await step(scheduler);
     const late = events.filter((e) => e.type === 'ambient-not-reached');
     expect(late).toEqual([
-      expect.objectContaining({ runId, elapsedStressH: 5.25, limitH: 5, setC: 145, lowC: 140.65, highC: 149.35, lastChamberC: 100 }),
+      expect.objectContaining({ runId, elapsedStressH: 5.25, limitH: 5, setC: 145, lowC: 145, highC: 150, lastChamberC: 100 }),
     ]);
     expect(await t.ctx.ds.getRepository(AuditLogEntity).countBy({ entityId: runId, action: 'run.ambient-overdue' })).toBe(1);
   });

@@ -2,10 +2,10 @@
  * /api/runs: proposals with reasons, booking (and the plan-check override), socket loading with
  * its flags, the people-driven state changes with optimistic locking, every change audited.
  */
-import { AuditLogEntity, RigEntity, RigMaintenanceEntity, RunEntity, RunSocketEntity } from '../../server/db/entities';
+import { AuditLogEntity, RigEntity, RigMaintenanceEntity, RunEntity, RunSocketEntity, UserEntity } from '../../server/db/entities';
 import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
 import { msPerClockHFor } from '../../shared/scheduling';
-import { createTestApp, type TestApp } from '../support/api';
+import { createTestApp, emailFor, type TestApp } from '../support/api';
 import { tableCounts } from '../support/db';
 import { grantStartPermit } from '../support/permit';
 
@@ -99,7 +99,7 @@ describe('proposals', () => {
         rigId: ids['HC-05'],
         rigCode: 'HC-05',
         rigName: 'Oven HC-05',
-        reasons: ['Oven HC-05 reaches at most 130 °C; the plan needs 145 °C.'],
+        reasons: ['Oven HC-05 reaches at most 130 °C; the plan needs 147.5 °C.'],
       },
       {
         rigId: ids['OV-04'],
@@ -159,7 +159,7 @@ describe('booking', () => {
     ids.run = res.body.id;
   });
 
-  it('refuses a plan whose check blocks unless an engineer writes a reason (≥ 10 characters); nothing stored', async () => {
+  it('refuses a plan whose check blocks unless an approved override is named; nothing stored', async () => {
     const eng = await t.signIn('engineer');
     const before = await tableCounts(t.ctx.ds);
     const body = { planId: ids.hotPlan, lotIds: [ids['HG2612-C']], sampleSize: 4, deviation: SHORT, rigId: ids['OV-01'] };
@@ -167,20 +167,33 @@ describe('booking', () => {
     expect(refused.status).toBe(422);
     expect(refused.body.error.message).toBe(
       'The plan check blocks "HTRB 160 °C (beyond Tj max)" (version 1): Chamber hotter than the junction rating; Predicted junction above its rating. ' +
-        'An engineer may book it anyway with a written reason of at least 10 characters.',
+        'It can be booked only with an approved override: an engineer asks for one with a reason, and a second person holding the safety approval approves it.',
     );
-    const short = await eng.post('/api/runs').send({ ...body, override: { reason: 'because' } });
-    expect(short.status).toBe(400);
-    expect(short.body.error.fields['override.reason']).toEqual(['Write at least 10 characters on why the plan may run anyway']);
+    const bad = await eng.post('/api/runs').send({ ...body, override: { requestId: 'because' } });
+    expect(bad.status).toBe(400);
+    expect(bad.body.error.fields['override.requestId']).toEqual(['Not a valid override request id']);
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
   });
 
-  it('books the blocked plan with an override reason; the reason and the findings are audited', async () => {
+  it('books the blocked plan with an override approved by a second person; the request, approval and findings are audited', async () => {
     const eng = await t.signIn('engineer');
+    const admin = await t.signIn('admin');
+    const mgrUser = await t.ctx.ds.getRepository(UserEntity).findOneByOrFail({ email: emailFor('manager') });
+    expect((await admin.patch(`/api/users/${mgrUser.id}`).send({ safetyApprover: true })).status).toBe(200);
     const reason = 'Margin study agreed with the customer; parts are sacrificial.';
-    const res = await eng
-      .post('/api/runs')
-      .send({ planId: ids.hotPlan, lotIds: [ids['HG2612-C']], sampleSize: 4, deviation: SHORT, rigId: ids['OV-01'], override: { reason } });
+    const asked = await eng.post('/api/override-requests').send({ planId: ids.hotPlan, reason });
+    expect(asked.status).toBe(201);
+    const mgr = await t.signIn('manager');
+    const approved = await mgr.post(`/api/override-requests/${asked.body.id}/decision`).send({ decision: 'approve' });
+    expect(approved.status).toBe(200);
+    const res = await eng.post('/api/runs').send({
+      planId: ids.hotPlan,
+      lotIds: [ids['HG2612-C']],
+      sampleSize: 4,
+      deviation: SHORT,
+      rigId: ids['OV-01'],
+      override: { requestId: asked.body.id },
+    });
     expect(res.status).toBe(201);
     expect(res.body.override).toEqual({ reason, byName: 'Test engineer' });
     expect(res.body.code).toBe('HTRB-2612-C');
@@ -192,10 +205,24 @@ describe('booking', () => {
     expect(gap).toBeLessThan(10_000);
     const [o] = await auditOf(res.body.id, 'run.override');
     expect(o.reason).toBe(reason);
-    expect(o.details.findings).toEqual([
-      { code: 'chamber-vs-tjmax', title: 'Chamber hotter than the junction rating' },
-      { code: expect.any(String), title: 'Predicted junction above its rating' },
+    expect(o.details.approvedById).toBe(mgrUser.id);
+    expect(o.details.findings.map((f: { code: string; title: string }) => [f.code, f.title])).toEqual([
+      ['chamber-vs-tjmax', 'Chamber hotter than the junction rating'],
+      [expect.any(String), 'Predicted junction above its rating'],
     ]);
+    // The numbers overridden: chamber 160 °C against Tj max (HPD-2N140: 150 °C in the demo ratings).
+    expect(o.details.findings[0].numbers.chamberC.value).toBe(160);
+    // Used once: a second booking with the same request is refused.
+    const again = await eng.post('/api/runs').send({
+      planId: ids.hotPlan,
+      lotIds: [ids['HG2612-C']],
+      sampleSize: 2,
+      deviation: SHORT,
+      rigId: ids['OV-01'],
+      override: { requestId: asked.body.id },
+    });
+    expect(again.status).toBe(422);
+    expect(again.body.error.message).toBe('The override request was already used by another booking; ask for a new one.');
     ids.hotRun = res.body.id;
   });
 
@@ -214,7 +241,8 @@ describe('booking', () => {
     });
     expect(res.status).toBe(409);
     expect(res.body.error.message).toMatch(
-      /^The rig is no longer free at .*: Oven OV-01 runs HTRB-2611-A at 145 °C until .*; the plan needs 125 °C\. Ask for new proposals\.$/,
+      // set points are the middle of each plan's +5/−0 K band (145 → 147.5 °C, 125 → 127.5 °C)
+      /^The rig is no longer free at .*: Oven OV-01 runs HTRB-2611-A at 147\.5 °C until .*; the plan needs 127\.5 °C\. (.* )?Ask for new proposals\.$/,
     );
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
   });
@@ -454,7 +482,7 @@ describe('booking a proposal whose start slid', () => {
       const far = await eng.post('/api/runs').send(body);
       expect(far.status).toBe(409);
       expect(far.body.error.message).toMatch(
-        /^The rig is no longer free at .*: Oven OV-08 runs HTRB-2611-A.* at 145 °C until .*; the plan needs 125 °C\. Ask for new proposals\.$/,
+        /^The rig is no longer free at .*: Oven OV-08 runs HTRB-2611-A.* at 147\.5 °C until .*; the plan needs 127\.5 °C\. Ask for new proposals\.$/,
       );
       expect(await tableCounts(t.ctx.ds)).toEqual(before);
 

@@ -202,12 +202,14 @@ describe('upload file names cannot escape their folder', () => {
   });
 
   it('measurement files: the stored file name is a bare name; a NUL in the name is refused with a 4xx and stores nothing', async () => {
-    const op = await t.signIn('operator');
+    // Time zero after Start is an engineer's entry with a reason (shared/domain/records.ts).
+    const op = await t.signIn('engineer');
     const HEADER = 'serial,hfe,hfe_ic_a,hfe_vce_v,icbo_a,icbo_vcb_v,vcesat_v,temp_c,measured_at';
     const file = (k: number) => `${HEADER}\n${`C00${k + 1}`},${120 + k},0.15,5,20e-9,112,0.22,25,2025-12-31T20:00:00Z\n`;
     for (const [k, name] of HOSTILE_NAMES.slice(0, 5).entries()) {
       const res = await op
         .post(`/api/measurements/runs/${runId}/read-points/0/upload`)
+        .field('reason', 'Time zero entered after Start for this check')
         .attach('file', Buffer.from(file(k)), { filename: name, contentType: 'text/csv' });
       expect(res.status).toBe(201);
     }
@@ -220,6 +222,7 @@ describe('upload file names cannot escape their folder', () => {
     const before = await tableCounts(t.ctx.ds);
     const nul = await op
       .post(`/api/measurements/runs/${runId}/read-points/0/upload`)
+      .field('reason', 'Time zero entered after Start for this check')
       .attach('file', Buffer.from(file(6)), { filename: 'rp0\u0000.csv', contentType: 'text/csv' });
     expect(nul.status).toBeGreaterThanOrEqual(400);
     expect(nul.status).toBeLessThan(500);

@@ -21,14 +21,27 @@ const renderShell = (role: Role, pathname = '/floor') =>
     </ShellFrame>,
   );
 
-const ALL = ['Floor', 'Alarms', 'Read points', 'Plans', 'Devices & lots', 'Schedule', 'Lot trends', 'People', 'Mail log', 'Rigs'];
+const ALL = [
+  'Floor',
+  'Alarms',
+  'Read points',
+  'Plans',
+  'Devices & lots',
+  'Schedule',
+  'Lot trends',
+  'People',
+  'Mail log',
+  'Rigs',
+  'Approvals',
+  'Audit log',
+];
 
 describe('destinations per role (from the product brief)', () => {
   test.each<[Role, string[]]>([
     ['operator', ['Floor', 'Alarms', 'Read points', 'Schedule']],
-    ['engineer', ['Floor', 'Alarms', 'Read points', 'Plans', 'Devices & lots', 'Schedule', 'Lot trends', 'Rigs']],
-    ['manager', ['Devices & lots', 'Schedule', 'Lot trends']],
-    ['admin', ['Floor', 'Alarms', 'People', 'Mail log', 'Rigs']],
+    ['engineer', ['Floor', 'Alarms', 'Read points', 'Plans', 'Devices & lots', 'Schedule', 'Lot trends', 'Rigs', 'Approvals']],
+    ['manager', ['Devices & lots', 'Schedule', 'Lot trends', 'Approvals', 'Audit log']],
+    ['admin', ['Floor', 'Alarms', 'People', 'Mail log', 'Rigs', 'Approvals', 'Audit log']],
   ])('%s', (role, labels) => {
     expect(destinationsFor(role).map((d) => d.label)).toEqual(labels);
   });
@@ -36,7 +49,7 @@ describe('destinations per role (from the product brief)', () => {
   test('a phone shows at most four places before "More"', () => {
     const { tabs, overflow } = splitForPhone(destinationsFor('engineer'));
     expect(tabs.map((d) => d.label)).toEqual(['Floor', 'Alarms', 'Read points', 'Plans']);
-    expect(overflow.map((d) => d.label)).toEqual(['Devices & lots', 'Schedule', 'Lot trends', 'Rigs']);
+    expect(overflow.map((d) => d.label)).toEqual(['Devices & lots', 'Schedule', 'Lot trends', 'Rigs', 'Approvals']);
   });
 });
 

@@ -119,6 +119,9 @@ export async function createRunFixture(ds: DataSource, spec: RunFixtureSpec): Pr
       kind,
       deviceTypeId: deviceType.id,
       chamberC: spec.chamberC ?? 100,
+      // Symmetric (±3 % of the set point, as plans had before bands in kelvin): these rigs are
+      // driven at chamberC itself, not at the middle of a one-sided band.
+      chamberBand: { belowK: 0.03 * (spec.chamberC ?? 100), aboveK: 0.03 * (spec.chamberC ?? 100) },
       humidityPct: null,
       bias,
       durationH: 1000,

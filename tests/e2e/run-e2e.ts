@@ -51,6 +51,9 @@ async function main(): Promise<number> {
     EMBERLOT_MQTT_PORT: String(E2E_PORTS.mqtt),
     EMBERLOT_SMTP_PORT: String(E2E_PORTS.smtp),
     EMBERLOT_WEB_DIR: WEB_DIR,
+    // Every journey signs roles in from this one address: the per-address limit (30 per 15 min)
+    // would stop the later journeys. The limit itself is tested in tests/api/security-throttle.test.ts.
+    EMBERLOT_SIGN_IN_MAX_PER_WINDOW: '1000',
     EMBERLOT_SIM_CONFIG: path.join(PROJECT_ROOT, '.data', `e2e-fleet-${process.pid}.json`),
     // This stack's own secrets: its cluster's password, the rest generated into a file of its own.
     EMBERLOT_DB_PASSWORD: pg.password,

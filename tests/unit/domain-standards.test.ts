@@ -1,5 +1,12 @@
 /** shared/domain: the standards' windows and the stress families, with the checks from the reference list. */
-import { CHAMBER_TOLERANCE_PCT, MEASURE_WITHIN_H, isLateReading, measureByMs } from '../../shared/domain/standards';
+import {
+  METHOD_CHAMBER_BAND_K,
+  MEASURE_WITHIN_H,
+  bandText,
+  chamberSetpointC,
+  isLateReading,
+  measureByMs,
+} from '../../shared/domain/standards';
 import { PLAN_KINDS, REVERSE_BIAS_KINDS, STRESS_FAMILY, isPoweredKindName } from '../../shared/domain/stress';
 import { chamberBand } from '../../shared/scheduling';
 
@@ -15,12 +22,19 @@ describe('measuring window [pub: MIL-STD-883 method 1008.2; MIL-PRF-19500/308D �
   });
 });
 
-describe('chamber band [pub: MIL-STD-750 general requirements §4.5 — ±3 % of set]', () => {
-  it('set 125 °C → 121.25–128.75 °C', () => {
-    expect(CHAMBER_TOLERANCE_PCT).toBe(3);
-    const b = chamberBand(125);
-    expect(b.lowC).toBeCloseTo(121.25, 10);
-    expect(b.highC).toBeCloseTo(128.75, 10);
+describe('chamber band in kelvin, per method', () => {
+  it('HTRB: the stress temperature is a minimum, +5/−0 K [memory: JESD22-A108 / MIL-STD-750 — confirm]', () => {
+    expect(METHOD_CHAMBER_BAND_K.htrb).toEqual({ belowK: 0, aboveK: 5 });
+    const b = chamberBand(150, METHOD_CHAMBER_BAND_K.htrb);
+    expect(b).toEqual({ lowC: 150, highC: 155 });
+    // the rig is aimed at the middle of the band, above the minimum
+    expect(chamberSetpointC(150, METHOD_CHAMBER_BAND_K.htrb)).toBe(152.5);
+    expect(bandText(METHOD_CHAMBER_BAND_K.htrb)).toBe('+5/−0 K');
+  });
+  it('THB: 85 ± 2 °C [memory: JESD22-A101 — confirm]; a symmetric band keeps the set point', () => {
+    expect(METHOD_CHAMBER_BAND_K.thb).toEqual({ belowK: 2, aboveK: 2 });
+    expect(chamberSetpointC(85, METHOD_CHAMBER_BAND_K.thb)).toBe(85);
+    expect(bandText(METHOD_CHAMBER_BAND_K.thb)).toBe('± 2 K');
   });
 });
 

@@ -132,7 +132,15 @@ describe('validation through planInputSchema', () => {
     });
     expect(plan!.criteria.leakageFloorA).toBeCloseTo(200e-9, 15); // 200 nA typed, × 1e-9 in floating point
     expect(incompleteReason(htrb, errors)).toBeNull();
-    expect(formFromPlan(plan!)).toEqual({ ...htrb, vceV: '', icmA: '' });
+    // an empty band is the method's (HTRB +5/−0 K [memory: JESD22-A108 — confirm]), shown filled in once parsed
+    expect(plan!.chamberBand).toEqual({ belowK: 0, aboveK: 5 });
+    expect(formFromPlan(plan!)).toEqual({ ...htrb, vceV: '', icmA: '', bandBelowK: '0', bandAboveK: '5' });
+  });
+
+  it('a band typed in kelvin goes to the body; one side left empty is an error on that field', () => {
+    expect(validateForm({ ...htrb, bandBelowK: '0', bandAboveK: '10' }).plan!.chamberBand).toEqual({ belowK: 0, aboveK: 10 });
+    expect(validateForm({ ...htrb, bandBelowK: '', bandAboveK: '10' }).errors).toEqual({ bandBelowK: 'Enter a number' });
+    expect(validateForm({ ...htrb, bandBelowK: '-1', bandAboveK: '5' }).errors).toEqual({ bandBelowK: 'A band cannot be negative' });
   });
 
   it('maps the API’s field errors onto the form’s fields', () => {

@@ -19,6 +19,7 @@ function run(kind: RunContext['planKind'], bias: Partial<RunContext['bias']>, st
     state,
     planKind: kind,
     chamberC: 150,
+    chamberBand: { belowK: 0, aboveK: 5 },
     bias: { vcbV: null, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5, ...bias },
     planDevice: { tjMaxC: 150, thetaJcCPerW: 2 },
     planPartNumber: 'HPD-2N100',
@@ -90,15 +91,18 @@ describe('leakage jump under reverse bias (×leakageJumpFactor beyond the temper
   });
 });
 
-test('chamber band: ± 3 % of 150 °C = ± 4.5 °C; 155 °C is out after two samples, back in after two', () => {
+test('chamber band: 150 °C +5/−0 K is 152.5 ± 2.5 °C; 155.5 °C is out after two samples, back in after two [memory: JESD22-A108 +5/−0 — confirm]', () => {
   const judge = new SocketJudge(OPTS);
   const rig = judge.newRig('OV-1');
   const r = run('htrb', { vcbV: 40 });
-  expect(judge.ambient(rig, r, 155)).toBeUndefined();
-  const out = judge.ambient(rig, r, 155);
-  expect(out).toEqual({ setC: 150, bandC: 4.5, deviationC: 5 });
-  expect(judge.ambient(rig, r, 154)).toBeUndefined();
-  expect(judge.ambient(rig, r, 154)).toBe('clear-due');
+  expect(judge.ambient(rig, r, 155.5)).toBeUndefined();
+  const out = judge.ambient(rig, r, 155.5);
+  expect(out).toEqual({ setC: 152.5, bandC: 2.5, deviationC: 3 });
+  expect(judge.ambient(rig, r, 150)).toBeUndefined();
+  expect(judge.ambient(rig, r, 150)).toBe('clear-due');
+  // below the minimum is out too
+  expect(judge.ambient(rig, r, 149.9)).toBeUndefined();
+  expect(judge.ambient(rig, r, 149.9)).toEqual({ setC: 152.5, bandC: 2.5, deviationC: expect.closeTo(-2.6, 10) });
   expect(judge.ambient(rig, run('htrb', { vcbV: 40 }, 'paused'), 100)).toBe('no-stress');
   expect(rig.ambientIn).toBe(0);
 });

@@ -245,16 +245,31 @@ describe('hour accrual', () => {
     expect(reachedH(12 - HOURS_EPS / 2, 12)).toBe(true);
   });
 
-  // [pub: MIL-STD-750 general requirements §4.5] chamber within ±3 % of set; set 125 °C → 121.25–128.75 °C.
-  it('±3 % band: set 125 °C → 121.25–128.75 °C counts [pub: MIL-STD-750 general requirements §4.5]', () => {
-    expect(chamberBand(125)).toEqual({ lowC: 121.25, highC: 128.75 });
-    expect(chamberWithinBand(121.25, 125)).toBe(true);
-    expect(chamberWithinBand(128.75, 125)).toBe(true);
-    expect(chamberWithinBand(121.2, 125)).toBe(false);
-    expect(chamberWithinBand(128.8, 125)).toBe(false);
+  // [pub: JESD22-A103D Table 1] condition B: +150 °C, −0/+10 → 149 °C is out, 159 °C is in.
+  it('a one-sided band in kelvin: 150 °C −0/+10 K → 149 out, 150 and 159 in, 160.01 out [pub: JESD22-A103D Table 1]', () => {
+    const b = { belowK: 0, aboveK: 10 };
+    expect(chamberBand(150, b)).toEqual({ lowC: 150, highC: 160 });
+    expect(chamberWithinBand(149, 150, b)).toBe(false);
+    expect(chamberWithinBand(150, 150, b)).toBe(true);
+    expect(chamberWithinBand(159, 150, b)).toBe(true);
+    expect(chamberWithinBand(160.01, 150, b)).toBe(false);
   });
 
-  const cond: AccrualConditions = { setC: 125, humidityPct: null, biasV: 80, biasTolerancePct: 5, runNeedsBiasedSocket: true };
+  it('a band in kelvin at 0 °C is as wide as anywhere else (± 3 % of 0 °C was no band at all) [practice]', () => {
+    const b = { belowK: 2, aboveK: 2 };
+    expect(chamberWithinBand(1.5, 0, b)).toBe(true);
+    expect(chamberWithinBand(-2, 0, b)).toBe(true);
+    expect(chamberWithinBand(2.1, 0, b)).toBe(false);
+  });
+
+  const cond: AccrualConditions = {
+    setC: 125,
+    band: { belowK: 3.75, aboveK: 3.75 },
+    humidityPct: null,
+    biasV: 80,
+    biasTolerancePct: 5,
+    runNeedsBiasedSocket: true,
+  };
   const on = (socket: number, vV = 80) => ({ socket, vV, biasOn: true, tripped: false });
   const s = (seq: number, clockS: number, chamberC = 125, sockets = [on(0), on(1)]): ClockSample => ({
     seq,

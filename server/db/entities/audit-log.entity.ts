@@ -15,4 +15,8 @@ export class AuditLogEntity {
   @Column({ type: 'text', nullable: true }) reason: string | null;
   // eslint-disable-next-line @typescript-eslint/no-explicit-any -- TypeORM's insert/update typing cannot take `unknown` inside a jsonb column
   @Column({ type: 'jsonb', default: () => "'{}'" }) details: Record<string, any>;
+  /** The hash of the entry before this one (null for the first): the chain (audit-chain.ts). */
+  @Column({ type: 'char', length: 64, nullable: true }) prevHash: string | null;
+  /** SHA-256 of the previous hash and this entry's canonical JSON. */
+  @Column({ type: 'char', length: 64, nullable: true }) hash: string | null;
 }

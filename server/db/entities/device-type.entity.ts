@@ -22,6 +22,13 @@ export class DeviceTypeEntity {
   @Column({ type: 'double precision', default: 25 }) betaRefTC: number;
   @Column({ type: 'double precision', default: 1.5 }) xtb: number;
   @Column({ type: 'double precision', nullable: true }) icboRefA: number | null;
+  /** Hot-leakage point: ICBO at a stated temperature and VCB (all three or none). */
+  @Column({ type: 'double precision', nullable: true }) icboHotA: number | null;
+  @Column({ type: 'double precision', nullable: true }) icboHotC: number | null;
+  @Column({ type: 'double precision', nullable: true }) icboHotVcbV: number | null;
+  /** Second breakdown: knee voltage and slope n of I·V^n = const (defaults in shared/domain/standards.ts). */
+  @Column({ type: 'double precision', default: 20 }) sbKneeV: number;
+  @Column({ type: 'double precision', default: 2 }) sbSlopeN: number;
   @Column({ type: 'double precision', default: 3 }) breakdownN: number;
   @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
   @UpdateDateColumn({ type: 'timestamptz' }) updatedAt: Date;

@@ -9,6 +9,7 @@ export * from './measurement.entity';
 export * from './alarm.entity';
 export * from './audit-log.entity';
 export * from './evidence.entity';
+export * from './signoff.entity';
 
 import { UserEntity } from './user.entity';
 import { DeviceTypeEntity } from './device-type.entity';
@@ -23,10 +24,11 @@ import {
   TelemetryRollupEntity,
   TelemetrySampleEntity,
 } from './telemetry.entity';
-import { MeasurementEntity, MeasurementUploadEntity } from './measurement.entity';
+import { MeasurementEntity, MeasurementFileEntity, MeasurementUploadEntity, MeasurementVersionEntity } from './measurement.entity';
 import { AlarmEntity, MailLogEntity, NotificationEntity } from './alarm.entity';
 import { AuditLogEntity } from './audit-log.entity';
 import { DeviceDispositionEntity } from './evidence.entity';
+import { OverrideRequestEntity, VerdictSignatureEntity } from './signoff.entity';
 
 export const ENTITIES = [
   UserEntity,
@@ -46,6 +48,8 @@ export const ENTITIES = [
   SystemCounterEntity,
   MeasurementEntity,
   MeasurementUploadEntity,
+  MeasurementVersionEntity,
+  MeasurementFileEntity,
   AlarmEntity,
   NotificationEntity,
   MailLogEntity,
@@ -53,4 +57,6 @@ export const ENTITIES = [
   SampleEntity,
   DeviceDispositionEntity,
   RigServiceRecordEntity,
+  OverrideRequestEntity,
+  VerdictSignatureEntity,
 ];

@@ -1,4 +1,5 @@
-import { Column, CreateDateColumn, Entity, Index, JoinColumn, ManyToOne, PrimaryGeneratedColumn } from 'typeorm';
+import { BeforeInsert, Column, CreateDateColumn, Entity, Index, JoinColumn, ManyToOne, PrimaryGeneratedColumn } from 'typeorm';
+import { METHOD_CHAMBER_BAND_K, type ChamberBandK } from '../../../shared/domain/standards';
 import type { Bias, Criteria, PlanCheckResult, PlanInput, PlanKind } from '../../../shared/schemas/plans';
 import { DeviceTypeEntity } from './device-type.entity';
 
@@ -19,6 +20,8 @@ export class StressPlanEntity {
   @JoinColumn({ name: 'device_type_id' })
   deviceType?: DeviceTypeEntity;
   @Column({ type: 'double precision' }) chamberC: number;
+  /** Band in kelvin around chamberC where the chamber counts as at temperature (a minimum with +x/−0 for HTRB). */
+  @Column({ type: 'jsonb' }) chamberBand: ChamberBandK;
   @Column({ type: 'double precision', nullable: true }) humidityPct: number | null;
   @Column({ type: 'jsonb' }) bias: Bias;
   @Column({ type: 'double precision' }) durationH: number;
@@ -37,4 +40,10 @@ export class StressPlanEntity {
   @Column({ type: 'boolean', default: true }) current: boolean;
   @Column({ type: 'uuid', nullable: true }) createdById: string | null;
   @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
+
+  /** A version created without a band (fixtures, seeds) gets its method's band, as the API's schema gives one. */
+  @BeforeInsert()
+  defaultChamberBand(): void {
+    this.chamberBand ??= { ...METHOD_CHAMBER_BAND_K[this.kind] };
+  }
 }

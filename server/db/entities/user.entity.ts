@@ -14,6 +14,8 @@ export class UserEntity {
   @Column({ type: 'timestamptz', nullable: true }) lastSignInAt: Date | null;
   @Column({ type: 'boolean', default: true }) notifyAlarms: boolean;
   @Column({ type: 'boolean', default: true }) notifyReadPoints: boolean;
+  /** The per-user grant to approve another person's safety override (admins grant it on People). */
+  @Column({ type: 'boolean', default: false }) safetyApprover: boolean;
   @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
   @UpdateDateColumn({ type: 'timestamptz' }) updatedAt: Date;
 }

@@ -16,10 +16,12 @@ import {
   type DeviceExposure,
   type MechanismPlan,
 } from '../../../shared/reliability/mechanisms';
-import type { PlanEvidence } from '../../../shared/verdict/evidence';
+import type { LotEvidence, PlanEvidence } from '../../../shared/verdict/evidence';
 import type { PlanJudgement } from '../../../shared/verdict/judge';
 import { DeviceTypeEntity } from '../../db/entities';
 import { notFound } from '../../http/errors';
+import { lotCorrectedVersions, recordDeviationVersions } from '../measurements/measurements.data';
+import { lotVersionView } from '../measurements/record-gate';
 import { LOT_CAUTION, junctionBasis, planFit } from './lot-analysis';
 import { PartCache, type Analysed } from './part-analysis';
 
@@ -80,6 +82,17 @@ export class AnalyticsService {
     return all.filter((a) => !filter.verdict || a.verdict === filter.verdict).map((a) => this.toSummary(a));
   }
 
+  /**
+   * What a lot verdict stands on, as judged: the lot's evidence (the contract judgeLot reads) and
+   * the verdict it gave. A signature's hash covers exactly this (server/modules/signoff).
+   */
+  async judgedEvidence(lotId: string): Promise<{ lotCode: string; verdict: LotVerdict; evidence: LotEvidence }> {
+    const [part] = await this.parts.get({ lotId });
+    const a = part?.lot(lotId);
+    if (!a) throw notFound('The lot');
+    return { lotCode: a.core.lot.code, verdict: a.verdict, evidence: a.evidence };
+  }
+
   async lot(lotId: string): Promise<LotDetail> {
     const [part] = await this.parts.get({ lotId });
     const a = part?.lot(lotId);
@@ -102,6 +115,10 @@ export class AnalyticsService {
       gainReference: { ...a.gainReference, normalisedReadings: c.normalisedReadings },
       otherRuns: a.otherRuns,
       caution: LOT_CAUTION,
+      records: {
+        corrections: (await lotCorrectedVersions(this.ds.manager, lotId)).map(lotVersionView),
+        deviations: (await recordDeviationVersions(this.ds.manager, { lotId })).map(lotVersionView),
+      },
     };
   }
 

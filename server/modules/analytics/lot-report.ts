@@ -8,7 +8,8 @@
  */
 import { formatUtc } from '../../../shared/domain/format';
 import PDFDocument from 'pdfkit';
-import { LOT_VERDICT_LABEL, type LotDetail } from '../../../shared/schemas/analytics';
+import { LOT_VERDICT_LABEL, type LotDetail, type LotReadingVersion } from '../../../shared/schemas/analytics';
+import { RECORD_DEVIATION_LABEL } from '../../../shared/domain/records';
 import { describeParameters } from '../../../shared/reliability/mechanisms';
 
 export type Cell = string | number | boolean | null | undefined;
@@ -161,7 +162,90 @@ export function lotReportCsv(d: LotDetail, extra: { notes: string; generatedAt: 
       ]),
     );
   }
+  writeRecordsCsv(lines, d);
   return `\uFEFF${lines.join('\r\n')}\r\n`;
+}
+
+const deviationLabels = (v: LotReadingVersion) => v.deviation.map((k) => RECORD_DEVIATION_LABEL[k]).join('; ');
+
+/** Every version of each corrected reading (the earlier values stay in the record), then the deviations. */
+function writeRecordsCsv(lines: string[], d: LotDetail) {
+  lines.push('');
+  lines.push(csvLine(['Corrected readings: every version (the current one marked)']));
+  lines.push(
+    csvLine([
+      'Run',
+      'Serial',
+      'Read point (h)',
+      'Version',
+      'Current',
+      'Result',
+      'hFE',
+      'ICBO (A)',
+      'VCE(sat) (V)',
+      'Measured at',
+      'Entered by',
+      'Recorded at',
+      'Reason',
+      'Deviation',
+    ]),
+  );
+  if (!d.records.corrections.length) lines.push(csvLine(['none']));
+  for (const v of d.records.corrections) {
+    lines.push(
+      csvLine([
+        v.runCode,
+        v.serial,
+        v.readPointH,
+        v.version,
+        v.current,
+        v.result,
+        v.hfe,
+        v.icboA,
+        v.vcesatV,
+        formatUtc(new Date(v.measuredAt)),
+        v.enteredByName,
+        formatUtc(new Date(v.recordedAt)),
+        v.reason,
+        deviationLabels(v),
+      ]),
+    );
+  }
+  lines.push('');
+  lines.push(csvLine(['Record deviations', d.records.deviations.length]));
+  for (const v of d.records.deviations) {
+    lines.push(
+      csvLine([
+        v.runCode,
+        v.serial,
+        v.readPointH,
+        v.version,
+        deviationLabels(v),
+        v.reason,
+        v.enteredByName,
+        formatUtc(new Date(v.recordedAt)),
+      ]),
+    );
+  }
+}
+
+function writeRecordsPdf(doc: Pdf, t: Write, d: LotDetail) {
+  const { corrections, deviations } = d.records;
+  if (!corrections.length && !deviations.length) return;
+  doc.moveDown(0.8).font('Helvetica-Bold').fontSize(12);
+  t('Corrected readings and record deviations');
+  doc.font('Helvetica').fontSize(9);
+  for (const v of corrections) {
+    t(
+      `${v.runCode} ${v.serial} at ${v.readPointH} h, version ${v.version}${v.current ? ' (current)' : ' (superseded)'}: ${v.result === 'measured' ? `hFE ${fmt(v.hfe, 4)}, ICBO ${fmt(v.icboA, 3)} A, VCE(sat) ${fmt(v.vcesatV, 3)} V` : v.result}` +
+        ` - by ${v.enteredByName ?? 'unknown'}, ${formatUtc(new Date(v.recordedAt))}${v.reason ? `; reason: ${v.reason}` : ''}`,
+    );
+  }
+  for (const v of deviations) {
+    t(
+      `Deviation: ${deviationLabels(v)} - ${v.runCode} ${v.serial} at ${v.readPointH} h; reason: ${v.reason ?? ''} (${v.enteredByName ?? 'unknown'}, ${formatUtc(new Date(v.recordedAt))})`,
+    );
+  }
 }
 
 /** The standard PDF fonts cover WinAnsi only: spell out what they cannot draw. */
@@ -319,6 +403,7 @@ export function lotReportPdf(d: LotDetail, extra: { notes: string; generatedAt: 
     writeTrends(doc, t, d);
     writeFailureRate(doc, t, d);
     writeFailedDevices(doc, t, d);
+    writeRecordsPdf(doc, t, d);
 
     doc.moveDown(1.2).font('Helvetica-Oblique').fontSize(9).fillColor('#7a4b00');
     t(`Caution: ${d.caution}`);

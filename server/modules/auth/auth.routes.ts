@@ -58,7 +58,7 @@ export function authRoutes(ctx: AppContext): ApiRouter {
   const r = new ApiRouter('/api/auth');
   const limiter = rateLimit({
     windowMs: SIGN_IN_WINDOW_MS,
-    limit: SIGN_IN_MAX_PER_WINDOW,
+    limit: ctx.config.signInMaxPerWindow ?? SIGN_IN_MAX_PER_WINDOW,
     standardHeaders: 'draft-7',
     legacyHeaders: false,
     handler: (_req, res) => {
@@ -105,7 +105,7 @@ export function authRoutes(ctx: AppContext): ApiRouter {
 
   r.get('/me', { access: 'signed-in' }, async ({ user }) => {
     const u = await ctx.ds.getRepository(UserEntity).findOneByOrFail({ id: user.id });
-    return { user: { ...user, notifyAlarms: u.notifyAlarms, notifyReadPoints: u.notifyReadPoints } };
+    return { user: { ...user, notifyAlarms: u.notifyAlarms, notifyReadPoints: u.notifyReadPoints, safetyApprover: u.safetyApprover } };
   });
   return r;
 }

@@ -32,6 +32,11 @@ export const DEVICE_TYPE_FIELDS = [
   'betaRefTC',
   'xtb',
   'icboRefA',
+  'icboHotA',
+  'icboHotC',
+  'icboHotVcbV',
+  'sbKneeV',
+  'sbSlopeN',
   'breakdownN',
 ] as const satisfies ReadonlyArray<keyof DeviceTypeInput>;
 
@@ -56,6 +61,11 @@ export function toDeviceTypeInput(e: DeviceTypeEntity): DeviceTypeInput {
     betaRefTC: e.betaRefTC,
     xtb: e.xtb,
     icboRefA: e.icboRefA,
+    icboHotA: e.icboHotA,
+    icboHotC: e.icboHotC,
+    icboHotVcbV: e.icboHotVcbV,
+    sbKneeV: e.sbKneeV,
+    sbSlopeN: e.sbSlopeN,
     breakdownN: e.breakdownN,
   };
 }

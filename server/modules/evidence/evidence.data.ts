@@ -8,6 +8,8 @@ import { DISPOSITION_LABEL, readPointCoverage, type MeasurementResult } from '..
 import type { Disposition, EvidenceDevice, EvidenceReading, ReadPointCoverageView, SampleEvidence } from '../../../shared/schemas/evidence';
 import { RunEntity, SampleEntity, StressPlanEntity, UserEntity } from '../../db/entities';
 import { notFound } from '../../http/errors';
+import { recordDeviationVersions } from '../measurements/measurements.data';
+import { deviationKinds } from '../measurements/record-gate';
 
 /** A raw SQL row; each reader below converts its columns explicitly. */
 // eslint-disable-next-line @typescript-eslint/no-explicit-any -- node-pg rows are untyped; the fields are read and converted one by one
@@ -170,6 +172,16 @@ export async function loadSampleEvidence(m: EntityManager, sampleId: string): Pr
     readPointsH,
     devices,
     coverage: coverageOf(runs, readPointsH, devices, readings, dispositions),
+    recordDeviations: (await recordDeviationVersions(m, { runIds })).map((v) => ({
+      runCode: v.runCode,
+      serial: v.serial,
+      readPointH: v.readPointH,
+      version: v.version,
+      kinds: deviationKinds(v.deviation),
+      reason: v.reason,
+      byName: v.enteredByName,
+      at: v.recordedAt.toISOString(),
+    })),
   };
 }
 

@@ -1,7 +1,11 @@
 import { rolesFor } from '../../../shared/domain/permissions';
 import type { Request, Response } from 'express';
 import {
+  correctionSchema,
+  deviceHistoryParamsSchema,
   manualEntrySchema,
+  readingParamsSchema,
+  uploadParamsSchema,
   readPointParamsSchema,
   runParamsSchema,
   UPLOAD_MAX_BYTES,
@@ -28,6 +32,12 @@ function receiveFile(req: Request, res: Response): Promise<void> {
       reject(err);
     }),
   );
+}
+
+/** attachment; filename (ASCII fallback) and filename* (RFC 6266 / RFC 5987) for the original UTF-8 name. */
+function contentDisposition(name: string): string {
+  const ascii = name.replace(/[^\x20-\x7e]|["\\]/g, '_');
+  return `attachment; filename="${ascii}"; filename*=UTF-8''${encodeURIComponent(name)}`;
 }
 
 /**
@@ -70,5 +80,28 @@ export function measurementsRoutes(ctx: AppContext): ApiRouter {
     { access: writers, params: readPointParamsSchema, body: manualEntrySchema, status: 201 },
     ({ user, params, body }) => svc.manual(user, params.runId, params.hours, body),
   );
+
+  // Records (issue #21): a correction is a new version with its reason; the history keeps them all;
+  // every stored upload's file can be downloaded byte for byte.
+  r.post(
+    '/readings/:id/corrections',
+    { access: rolesFor('measurement.correct'), params: readingParamsSchema, body: correctionSchema, status: 201 },
+    ({ user, params, body }) => svc.correct(user, params.id, body),
+  );
+  r.get('/runs/:runId/devices/:deviceId/history', { access: readers, params: deviceHistoryParamsSchema }, ({ params }) =>
+    svc.history(params.runId, params.deviceId),
+  );
+  r.get('/runs/:runId/uploads', { access: readers, params: runParamsSchema }, async ({ params }) => ({
+    items: await svc.uploads(params.runId),
+  }));
+  r.get('/uploads/:uploadId/file', { access: readers, params: uploadParamsSchema }, async ({ params, res }) => {
+    const f = await svc.file(params.uploadId);
+    res.setHeader('Content-Type', 'text/csv; charset=utf-8');
+    res.setHeader('Content-Disposition', contentDisposition(f.fileName));
+    res.setHeader('X-Content-SHA256', f.fileSha256);
+    res.setHeader('Cache-Control', 'private, no-store');
+    res.status(200).end(f.content);
+    return HANDLED;
+  });
   return r;
 }

@@ -4,6 +4,8 @@ import { formatUtc } from '../../../shared/domain/format';
 import { Not, type DataSource, type EntityManager } from 'typeorm';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import {
+  type CorrectionInput,
+  type DeviceHistory,
   type ManualReading,
   type MeasurementRunDetail,
   type MeasurementRunSummary,
@@ -11,21 +13,32 @@ import {
   type RunDriftResult,
   type StoredReading,
   type UploadFields,
+  type UploadRecord,
   type UploadResult,
 } from '../../../shared/schemas/measurements';
-import { conditionDifferences, isCatastrophic, isJudgeable, type MeasuringConditions } from '../../../shared/evidence';
-import { DeviceDispositionEntity, MeasurementEntity, MeasurementUploadEntity, RunEntity, RunSocketEntity } from '../../db/entities';
-import { conflict, unprocessable } from '../../http/errors';
+import { MeasurementEntity, MeasurementUploadEntity, RunEntity } from '../../db/entities';
+import { conflict, notFound, unprocessable } from '../../http/errors';
 import type { AuditService } from '../audit/audit.service';
 import { parseMeasurementCsv, type ParsedRow, type ParsedValues } from './csv-rows';
-import { driftOfDevice, GAIN_LAW, GAIN_LAW_SOURCE, type ReadingInput } from './device-drift';
+import { conditionFlagText, refreshConditionFlags, refreshFirstFailures, runDrift } from './judgement';
 import { loadRunBundle, type RunBundle, type RunDeviceRow } from './run-data';
-import { lotCodesOfSerials, readPointCounts, upsertMeasurements } from './measurements.data';
+import {
+  deviceVersions,
+  keepFile,
+  lotCodesOfSerials,
+  readPointCounts,
+  runUploads,
+  uploadWithFile,
+  upsertMeasurements,
+} from './measurements.data';
+import { deviationKinds, gateRows, type RowRecord } from './record-gate';
+
+export { conditionFlagText, refreshConditionFlags, refreshFirstFailures, runDrift, type DriftReading, type DriftSource } from './judgement';
 
 /** The rule for files sent more than once, shown with every upload answer. */
 export const REUPLOAD_RULE =
-  'The same file (same bytes) sent again for this run stores nothing. A corrected file replaces, device by device, ' +
-  'the reading already stored for this run and read point; devices not in the file keep their readings.';
+  'The same file (same bytes) sent again for this run stores nothing. A corrected file, sent with a reason, adds a new ' +
+  'version of each changed reading (the earlier one stays in the device history); devices not in the file keep their readings.';
 
 const SAME_TOLERANCE = 1e-12;
 const sameValues = (m: MeasurementEntity, v: ParsedValues) =>
@@ -157,6 +170,9 @@ export class MeasurementsService {
         result: r.result,
         conditionsFlag: r.conditionsFlag,
         confirmedAt: r.confirmedAt?.toISOString() ?? null,
+        version: r.version,
+        changeReason: r.changeReason,
+        deviation: deviationKinds(r.deviation),
       }))
       .sort((a, b2) => (devices.get(a.deviceId)?.socketIndex ?? 0) - (devices.get(b2.deviceId)?.socketIndex ?? 0));
   }
@@ -185,6 +201,7 @@ export class MeasurementsService {
     actor: SessionUser,
     p: { runId: string; hours: number; preview: boolean; file: { buffer: Buffer; originalname: string }; fields: UploadFields },
   ): Promise<{ status: number; body: UploadResult }> {
+    // The file is kept (measurement_files) only with an upload that stored something.
     const b = await loadRunBundle(this.ds.manager, p.runId);
     this.checkReadPoint(b, p.hours);
     const sha = createHash('sha256').update(p.file.buffer).digest('hex');
@@ -234,8 +251,9 @@ export class MeasurementsService {
       });
     }
 
+    const records = await gateRows(this.ds.manager, b, p.hours, checked, actor, () => p.fields.reason);
     try {
-      body.uploadId = await this.storeUpload(actor, p, b, checked, body);
+      body.uploadId = await this.storeUpload(actor, p, b, checked, body, records);
       return { status: 201, body };
     } catch (e) {
       // Two identical uploads at once: the unique index lets one through; the other is "already stored".
@@ -249,13 +267,15 @@ export class MeasurementsService {
   /** One transaction: the upload row, its readings and the audit entry; gives the upload's id. */
   private async storeUpload(
     actor: SessionUser,
-    p: { runId: string; hours: number },
+    p: { runId: string; hours: number; file: { buffer: Buffer }; fields: UploadFields },
     b: RunBundle,
     checked: CheckedRow[],
     body: UploadResult,
+    records: Map<number, RowRecord>,
   ): Promise<string> {
     const { fileName, fileSha256: sha } = body;
     return this.ds.transaction(async (m) => {
+      await keepFile(m, sha, p.file.buffer);
       const up = await m.save(
         m.create(MeasurementUploadEntity, {
           runId: p.runId,
@@ -269,14 +289,16 @@ export class MeasurementsService {
           uploadedById: actor.id,
         }),
       );
-      await this.write(m, b, p.hours, checked, { uploadId: up.id, enteredById: actor.id });
+      await this.write(m, b, p.hours, checked, { uploadId: up.id, enteredById: actor.id }, records);
       await this.audit.record(
         {
           actor,
           action: 'measurement.upload',
           entity: 'run',
           entityId: p.runId,
+          reason: p.fields.reason ?? undefined,
           details: {
+            deviations: deviationSummary(checked, records),
             readPointH: p.hours,
             fileName,
             fileSha256: sha,
@@ -292,7 +314,13 @@ export class MeasurementsService {
     });
   }
 
-  async manual(actor: SessionUser, runId: string, hours: number, items: ManualReading[]): Promise<UploadResult> {
+  async manual(
+    actor: SessionUser,
+    runId: string,
+    hours: number,
+    items: Array<ManualReading | (Omit<ManualReading, 'reason'> & { reason: string })>,
+    opts: { correction?: boolean } = {},
+  ): Promise<UploadResult> {
     const b = await loadRunBundle(this.ds.manager, runId);
     this.checkReadPoint(b, hours);
     const now = this.now();
@@ -349,22 +377,37 @@ export class MeasurementsService {
       columns: {},
       rowsTotal: checked.length,
       ...result,
-      notes: ['Manual entry stores all devices or none. A device already measured at this read point gets the new reading.'],
+      notes: [
+        'Manual entry stores all devices or none. A device already measured at this read point gets a new version of its reading (with the reason given); the earlier one stays in its history.',
+      ],
     };
     if (body.rejected) {
       throw unprocessable(`${body.rejected} of ${body.rowsTotal} entries have a problem (see rows). Nothing was stored.`, {
         rows: body.rows,
       });
     }
+    if (opts.correction && body.replaced === 0) {
+      throw unprocessable(`The values given equal the stored reading of ${items[0].serial} at ${hours} h; nothing was corrected.`);
+    }
+    const records = await gateRows(this.ds.manager, b, hours, checked, actor, (row) => items[row.row - 1]?.reason);
     await this.ds.transaction(async (m) => {
-      await this.write(m, b, hours, checked, { uploadId: null, enteredById: actor.id });
+      await this.write(m, b, hours, checked, { uploadId: null, enteredById: actor.id }, records);
       await this.audit.record(
         {
           actor,
-          action: 'measurement.manual',
+          action: opts.correction ? 'measurement.correct' : 'measurement.manual',
           entity: 'run',
           entityId: runId,
-          details: { readPointH: hours, serials: items.map((i) => i.serial), inserted: body.inserted, replaced: body.replaced },
+          details: {
+            readPointH: hours,
+            serials: items.map((i) => i.serial),
+            inserted: body.inserted,
+            replaced: body.replaced,
+            corrections: checked
+              .filter((c) => records.get(c.row)?.reason)
+              .map((c) => ({ serial: c.serial, reason: records.get(c.row)!.reason })),
+            deviations: deviationSummary(checked, records),
+          },
         },
         m,
       );
@@ -460,9 +503,12 @@ export class MeasurementsService {
     hours: number,
     rows: CheckedRow[],
     src: { uploadId: string | null; enteredById: string },
+    records: Map<number, RowRecord>,
   ) {
     const good = rows.filter((r) => r.outcome === 'insert' || r.outcome === 'replace');
     if (good.length) {
+      // A new version is a new reading: its measuring conditions are judged again, so an earlier
+      // confirmation of a flag does not carry over (confirmed_* are in the upsert's update list).
       await upsertMeasurements(
         m,
         good.map((r) => ({
@@ -473,11 +519,109 @@ export class MeasurementsService {
           late: r.late,
           uploadId: src.uploadId,
           enteredById: src.enteredById,
+          conditionsFlag: r.conditionsFlag,
+          changeReason: records.get(r.row)?.reason ?? null,
+          deviation: records.get(r.row)?.deviations.join(',') || null,
+          confirmedAt: null,
+          confirmedById: null,
+          confirmReason: null,
         })),
       );
     }
     await refreshConditionFlags(m, b.run.id);
     await refreshFirstFailures(m, b);
+  }
+
+  // -------------------------------------------------------------------------------------------
+  // Corrections, history, kept files
+  // -------------------------------------------------------------------------------------------
+
+  /**
+   * A correction of one stored reading: a new version with its reason (the earlier one stays in
+   * measurement_versions). The same rules as manual entry apply (shared/domain/records.ts).
+   */
+  async correct(actor: SessionUser, measurementId: string, input: CorrectionInput): Promise<StoredReading> {
+    const x = await this.ds.getRepository(MeasurementEntity).findOneBy({ id: measurementId });
+    if (!x) throw notFound('The reading');
+    const b = await loadRunBundle(this.ds.manager, x.runId);
+    const device = b.devices.find((d) => d.deviceId === x.deviceId);
+    if (!device) throw unprocessable("This reading belongs to a device that is no longer in the run's socket map.");
+    // A correction keeps the time of measuring unless a new one is given (a value fixed, not re-measured).
+    const { reason, ...values } = input;
+    const measuredAt = values.measuredAt ?? x.measuredAt.toISOString();
+    const item = { serial: device.serial, lot: device.lotCode, ...values, measuredAt, reason };
+    await this.manual(actor, x.runId, x.readPointH, [item], {
+      correction: true,
+    });
+    const now = (await this.readings(x.runId, x.readPointH)).find((r) => r.deviceId === x.deviceId);
+    return now!;
+  }
+
+  /** Every version of a device's readings in a run (GET …/runs/:runId/devices/:deviceId/history). */
+  async history(runId: string, deviceId: string): Promise<DeviceHistory> {
+    const b = await loadRunBundle(this.ds.manager, runId);
+    const device = b.devices.find((d) => d.deviceId === deviceId);
+    if (!device) throw notFound('The device on this run');
+    const rows = await deviceVersions(this.ds.manager, runId, deviceId);
+    return {
+      runId,
+      runCode: b.run.code,
+      deviceId,
+      serial: device.serial,
+      lotCode: device.lotCode,
+      versions: rows.map((v) => ({
+        measurementId: v.measurementId,
+        readPointH: v.readPointH,
+        version: v.version,
+        current: v.version === v.currentVersion,
+        result: v.result,
+        hfe: v.hfe,
+        hfeIcA: v.hfeIcA,
+        hfeVceV: v.hfeVceV,
+        icboA: v.icboA,
+        icboVcbV: v.icboVcbV,
+        vcesatV: v.vcesatV,
+        bvceoV: v.bvceoV,
+        measuredC: v.measuredC,
+        measuredAt: v.measuredAt.toISOString(),
+        late: v.late,
+        uploadId: v.uploadId,
+        fileName: v.fileName,
+        enteredByName: v.enteredByName,
+        reason: v.reason,
+        deviation: deviationKinds(v.deviation),
+        recordedAt: v.recordedAt.toISOString(),
+      })),
+    };
+  }
+
+  /** The run's uploads, each with the path of its kept file. */
+  async uploads(runId: string): Promise<UploadRecord[]> {
+    await loadRunBundle(this.ds.manager, runId);
+    const rows = await runUploads(this.ds.manager, runId);
+    return rows.map((r) => ({
+      id: r.id,
+      readPointH: Number(r.read_point_h),
+      fileName: r.file_name,
+      fileSha256: r.file_sha256,
+      sizeBytes: r.size_bytes === null ? null : Number(r.size_bytes),
+      rowsTotal: Number(r.rows_total),
+      rowsStored: Number(r.rows_stored),
+      rowsRejected: Number(r.rows_rejected),
+      uploadedByName: r.uploaded_by_name ?? null,
+      createdAt: new Date(r.created_at).toISOString(),
+      downloadPath: r.size_bytes === null ? null : `/api/measurements/uploads/${r.id}/file`,
+    }));
+  }
+
+  /** The exact bytes of an upload's file, as stored. */
+  async file(uploadId: string): Promise<{ fileName: string; fileSha256: string; content: Buffer }> {
+    const up = await uploadWithFile(this.ds.manager, uploadId);
+    if (!up) throw notFound('The upload');
+    if (!up.content) {
+      throw notFound(`The file of upload ${up.fileName} (stored before files were kept; only its SHA-256 ${up.fileSha256} is on record)`);
+    }
+    return { fileName: up.fileName, fileSha256: up.fileSha256, content: up.content };
   }
 
   // -------------------------------------------------------------------------------------------
@@ -491,91 +635,9 @@ export class MeasurementsService {
   }
 }
 
-/**
- * What runDrift reads of a run: a RunBundle has it all; analytics passes rows read with raw SQL
- * (no entity hydration) for whole part numbers at a time.
- */
-export interface DriftSource {
-  run: Pick<RunBundle['run'], 'id' | 'code'>;
-  plan: Pick<RunBundle['plan'], 'criteria' | 'readPointsH'>;
-  deviceType: Pick<RunBundle['deviceType'], 'betaRefTC' | 'xtb'>;
-  devices: Array<Pick<RunDeviceRow, 'deviceId' | 'serial' | 'lotId' | 'lotCode' | 'socketIndex'>>;
-}
-
-/** One stored reading as drift needs it (a MeasurementEntity is one). */
-export type DriftReading = ReadingInput & { deviceId: string };
-
-export function runDrift(b: DriftSource, ms: readonly DriftReading[], opts: { reasons?: boolean } = {}): RunDriftResult {
-  // Push into one list per device: copying the list per reading made a run's grouping quadratic.
-  const byDevice = new Map<string, DriftReading[]>();
-  for (const x of ms) {
-    const list = byDevice.get(x.deviceId);
-    if (list) list.push(x);
-    else byDevice.set(x.deviceId, [x]);
-  }
-  const gain = { referenceC: b.deviceType.betaRefTC, xtb: b.deviceType.xtb };
-  const criteria = b.plan.criteria;
-  return {
-    runId: b.run.id,
-    runCode: b.run.code,
-    criteria,
-    readPointsH: [...b.plan.readPointsH].sort((x, y) => x - y),
-    gainReference: { ...gain, law: GAIN_LAW, source: GAIN_LAW_SOURCE },
-    devices: b.devices.map((d) => ({
-      deviceId: d.deviceId,
-      serial: d.serial,
-      lotId: d.lotId,
-      lotCode: d.lotCode,
-      socketIndex: d.socketIndex,
-      ...driftOfDevice(byDevice.get(d.deviceId) ?? [], criteria, gain, opts.reasons !== false),
-    })),
-  };
-}
-
-/** A reading's conditions against its device's time zero, as one text (null when they agree). */
-export function conditionFlagText(t0: MeasuringConditions, r: MeasuringConditions): string | null {
-  const diffs = conditionDifferences(t0, r);
-  return diffs.length ? diffs.join(' ') : null;
-}
-
-/**
- * Every later reading of the run compared with its device's time zero (which may itself have been
- * corrected): a changed flag is stored and any earlier confirmation of it is withdrawn.
- */
-export async function refreshConditionFlags(m: EntityManager, runId: string) {
-  const ms = await m.find(MeasurementEntity, { where: { runId } });
-  const t0 = new Map(ms.filter((x) => x.readPointH === 0 && x.result === 'measured').map((x) => [x.deviceId, x]));
-  for (const x of ms) {
-    if (x.readPointH === 0) continue;
-    const zero = t0.get(x.deviceId);
-    const flag = zero && x.result === 'measured' ? conditionFlagText(zero, x) : null;
-    if (flag !== x.conditionsFlag) {
-      await m.update(
-        MeasurementEntity,
-        { id: x.id },
-        { conditionsFlag: flag, confirmedAt: null, confirmedById: null, confirmReason: null },
-      );
-    }
-  }
-}
-
-/**
- * run_sockets.failed_at_h mirrors the judgement so the floor and scheduler can see it: the first
- * read point failing the plan's deltas, with a catastrophic result (open, short, no reading), or a
- * trip recorded as a failure — whichever comes first.
- */
-export async function refreshFirstFailures(m: EntityManager, b: RunBundle) {
-  const ms = await m.find(MeasurementEntity, { where: { runId: b.run.id } });
-  const drift = runDrift(b, ms.filter(isJudgeable));
-  const trips = await m.find(DeviceDispositionEntity, { where: { runId: b.run.id, kind: 'trip-failure' } });
-  const earliest = (a: number | null, c: number | null) => (a === null ? c : c === null ? a : Math.min(a, c));
-  for (const d of drift.devices) {
-    let first = d.firstFailedH;
-    for (const x of ms) if (x.deviceId === d.deviceId && isCatastrophic(x.result)) first = earliest(first, x.readPointH);
-    for (const t of trips) if (t.deviceId === d.deviceId) first = earliest(first, t.readPointH);
-    const current = b.devices.find((x) => x.deviceId === d.deviceId)?.failedAtH ?? null;
-    if (current !== first) {
-      await m.update(RunSocketEntity, { runId: b.run.id, deviceId: d.deviceId }, { failedAtH: first });
-    }
-  }
+/** The deviations a write recorded, for the audit entry. */
+function deviationSummary(rows: Array<{ row: number; serial: string | null }>, records: Map<number, RowRecord>) {
+  return rows
+    .filter((r) => records.get(r.row)?.deviations.length)
+    .map((r) => ({ serial: r.serial, kinds: records.get(r.row)!.deviations, reason: records.get(r.row)!.reason }));
 }

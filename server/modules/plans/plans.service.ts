@@ -32,6 +32,7 @@ export function toPlanInput(e: StressPlanEntity): PlanInput {
     kind: e.kind,
     deviceTypeId: e.deviceTypeId,
     chamberC: e.chamberC,
+    chamberBand: e.chamberBand,
     humidityPct: e.humidityPct,
     bias: e.bias,
     durationH: e.durationH,

@@ -10,7 +10,7 @@
  * bias or leakage finding) is built only when there is something to report. Per-sample fields
  * hold NaN, never null.
  */
-import { DEFAULT_BIAS_TOLERANCE_PCT } from '../../../shared/domain/standards';
+import { DEFAULT_BIAS_TOLERANCE_PCT, chamberSetpointC } from '../../../shared/domain/standards';
 import {
   SocketTrend,
   assessTrend,
@@ -33,7 +33,6 @@ export interface JudgeOptions {
   protection: ProtectionOptions;
   historyMaxSamples: number;
   defaultDevice: ProtectionDevice | null;
-  ambientBandPct: number;
   ambientBandMinC: number;
   debounceSamples: number;
   leakageJumpFactor: number;
@@ -395,7 +394,7 @@ export class SocketJudge {
   }
 
   /**
-   * The chamber against the run's set point (± ambientBandPct, at least ± ambientBandMinC) while
+   * The chamber against the run's band (centre ± half its width, at least ± ambientBandMinC) while
    * stressing: out of band for debounceSamples, 'clear-due' once back in for as long, 'no-stress'
    * when no run is stressing (a live alarm no longer applies), else undefined.
    */
@@ -404,8 +403,9 @@ export class SocketJudge {
       rig.ambientOut = rig.ambientIn = 0;
       return 'no-stress';
     }
-    const set = run.chamberC;
-    const band = Math.max((this.opts.ambientBandPct / 100) * Math.abs(set), this.opts.ambientBandMinC);
+    // The plan's band in kelvin (a minimum with +x/−0 for HTRB), as its centre ± half-width.
+    const set = chamberSetpointC(run.chamberC, run.chamberBand);
+    const band = Math.max((run.chamberBand.belowK + run.chamberBand.aboveK) / 2, this.opts.ambientBandMinC);
     const dev = chamberC - set;
     if (Math.abs(dev) > band) {
       rig.ambientOut++;

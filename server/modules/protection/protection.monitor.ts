@@ -54,9 +54,7 @@ export interface ProtectionMonitorOptions {
   historyMaxSamples: number;
   /** Device data for an energised socket on a rig without an active run; null = skip such sockets. */
   defaultDevice: ProtectionDevice | null;
-  /** Chamber band while stressing: ± this percent of the plan's set point … */
-  ambientBandPct: number;
-  /** … but never narrower than ± this many °C. */
+  /** Chamber band while stressing: the plan's band (kelvin), but never narrower than ± this many °C. */
   ambientBandMinC: number;
   /** Consecutive samples a condition (chamber band, bias) must hold before it raises or clears. */
   debounceSamples: number;
@@ -88,7 +86,6 @@ export const DEFAULT_MONITOR_OPTIONS: ProtectionMonitorOptions = {
   protection: {},
   historyMaxSamples: 600,
   defaultDevice: { tjMaxC: 150, thetaJcCPerW: 2 },
-  ambientBandPct: 3,
   ambientBandMinC: 1,
   debounceSamples: 2,
   leakageJumpFactor: 5,

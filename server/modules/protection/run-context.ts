@@ -5,6 +5,8 @@
  */
 import { In } from 'typeorm';
 import { ON_RIG_STATES } from '../../../shared/domain/run-states';
+import { protectionLimitC, type ChamberBandK } from '../../../shared/domain/standards';
+import { isReverseBiasKind } from '../../../shared/domain/stress';
 import type { ProtectionDevice } from '../../../shared/safety/protection';
 import type { Bias, PlanKind } from '../../../shared/schemas/plans';
 import type { AppContext } from '../../context';
@@ -29,6 +31,8 @@ export interface RunContext {
   state: RunState;
   planKind: PlanKind;
   chamberC: number;
+  /** The plan's chamber band (K below / above chamberC). */
+  chamberBand: ChamberBandK;
   bias: Bias;
   /** The plan's part: used for an energised socket missing from the socket map. */
   planDevice: ProtectionDevice;
@@ -36,11 +40,21 @@ export interface RunContext {
   sockets: Map<number, SocketDevice>;
 }
 
-export const deviceOf = (t: Pick<DeviceTypeEntity, 'tjMaxC' | 'thetaJcCPerW' | 'thetaJaCPerW'>): ProtectionDevice => ({
-  tjMaxC: t.tjMaxC,
-  thetaJcCPerW: t.thetaJcCPerW,
-  thetaJaCPerW: t.thetaJaCPerW,
-});
+/** What the judge needs of a part: with `plan`, the run's hard limit (protectionLimitC: an HTRB at rating trips above its band, not at Tj max). */
+export const deviceOf = (
+  t: Pick<DeviceTypeEntity, 'tjMaxC' | 'thetaJcCPerW' | 'thetaJaCPerW'>,
+  plan?: Pick<StressPlanEntity, 'kind' | 'chamberC' | 'chamberBand'>,
+): ProtectionDevice => {
+  const limit = plan
+    ? protectionLimitC({ tjMaxC: t.tjMaxC, reverseBias: isReverseBiasKind(plan.kind), chamberC: plan.chamberC, band: plan.chamberBand })
+    : t.tjMaxC;
+  return {
+    tjMaxC: limit,
+    ...(limit > t.tjMaxC ? { ratedTjMaxC: t.tjMaxC } : {}),
+    thetaJcCPerW: t.thetaJcCPerW,
+    thetaJaCPerW: t.thetaJaCPerW,
+  };
+};
 
 /**
  * The active runs on a rig with their merged socket map, or null when the rig has none. Runs may
@@ -79,7 +93,7 @@ export async function loadRunContext(ctx: AppContext, rigId: string): Promise<Ru
   for (const r of rows) {
     const type = r.device?.lot?.deviceType;
     sockets.set(r.socketIndex, {
-      device: deviceOf(type ?? plan.deviceType),
+      device: deviceOf(type ?? plan.deviceType, plan),
       serial: r.device?.serial ?? '?',
       partNumber: (type ?? plan.deviceType).partNumber,
       trips: trips.get(`${r.runId}:${r.socketIndex}`) ?? 0,
@@ -93,8 +107,9 @@ export async function loadRunContext(ctx: AppContext, rigId: string): Promise<Ru
     state: run.state,
     planKind: plan.kind,
     chamberC: plan.chamberC,
+    chamberBand: plan.chamberBand,
     bias: plan.bias,
-    planDevice: deviceOf(plan.deviceType),
+    planDevice: deviceOf(plan.deviceType, plan),
     planPartNumber: plan.deviceType.partNumber,
     sockets,
   };

@@ -103,7 +103,7 @@ export function firstReadPointIndex(readPointsH: number[]): number {
 
 /**
  * Heating: find the first sample after the heating boundary (accrued_to_seq) with the chamber
- * within ±3 % of set (and humidity within band). Found → stressing, accrual starts from that sample.
+ * within the plan's band (and humidity within band). Found → stressing, accrual starts from that sample.
  */
 export async function heatingStep(
   m: EntityManager,
@@ -112,7 +112,7 @@ export async function heatingStep(
   plan: StressPlanEntity,
   rig: RigEntity,
 ): Promise<StepOutcome> {
-  const band = chamberBand(plan.chamberC);
+  const band = chamberBand(plan.chamberC, plan.chamberBand);
   const hum =
     plan.humidityPct === null
       ? null

@@ -38,6 +38,7 @@ export function planRef(p: StressPlanEntity): RunPlanRef {
     version: p.version,
     kind: p.kind,
     chamberC: p.chamberC,
+    chamberBand: p.chamberBand,
     humidityPct: p.humidityPct,
     durationH: p.durationH,
     readPointsH: sortedReadPoints(p),

@@ -17,6 +17,7 @@ import {
   type RunNeeds,
   type TimingOptions,
 } from '../../../shared/scheduling';
+import { chamberSetpointC } from '../../../shared/domain/standards';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import {
   allowedActions,
@@ -54,12 +55,11 @@ import {
   RunSocketEntity,
   SampleEntity,
   StressPlanEntity,
+  type OverrideRequestEntity,
 } from '../../db/entities';
 import { DEVIATION_REASON_MIN, sampleShortfall } from '../../../shared/evidence';
 import { AppError, conflict, notFound, unprocessable } from '../../http/errors';
-import { toDeviceTypeInput } from '../device-types/device-types.service';
-import { runPlanCheck } from '../plans/plan-check-result';
-import { toPlanInput } from '../plans/plans.service';
+import { blockingFindings, type BlockingFinding } from '../approvals/approvals.service';
 import { accrueStep, firstReadPointIndex, transitionRun, type EngineDeps } from './run-engine';
 import { maxSeq } from './telemetry-reads';
 import { emitRunEvent, type PendingRunEvent } from './run-events';
@@ -90,12 +90,14 @@ interface BookingPart {
   sample: SampleEntity;
   part: BookSampleInput['parts'][number];
   overridden: boolean;
-  overrideReason: string | null;
-  findings: Array<{ code: string; title: string }>;
+  /** The approved override request this booking uses (when the plan check blocks). */
+  approval: OverrideRequestEntity | null;
+  findings: BlockingFinding[];
 }
 
 const needsOf = (plan: StressPlanEntity, sampleSize: number): RunNeeds => ({
-  chamberC: plan.chamberC,
+  // The oven must reach, and share, the set point it is driven to (the middle of the plan's band).
+  chamberC: chamberSetpointC(plan.chamberC, plan.chamberBand),
   humidityPct: plan.humidityPct,
   biasV: planBiasV(plan),
   sampleSize,
@@ -238,17 +240,14 @@ export class RunsService {
         `${lots.length === 1 ? `Lot ${lots[0].code} has` : `Lots ${lots.map((l) => l.code).join(', ')} have`} ${registered} registered devices; the run needs ${input.sampleSize}.`,
       );
     }
-    let check = plan.checkResult;
-    if (!check) check = runPlanCheck({ id: type.id, ...toDeviceTypeInput(type) }, toPlanInput(plan), this.ctx.now());
-    const blockingFindings = check.findings
-      .filter((f) => f.severity === 'block')
-      .map((f) => ({ code: f.code, title: f.title, explanation: f.explanation }));
-    return { plan, type, lots, problems, blockingFindings };
+    const blocks = blockingFindings(plan, type, this.ctx.now());
+    return { plan, type, lots, problems, blocks };
   }
 
   async propose(input: ProposalInput): Promise<ProposalResult> {
     const m = this.ds.manager;
-    const { plan, problems, blockingFindings } = await this.requestContext(m, input);
+    const { plan, problems, blocks } = await this.requestContext(m, input);
+    const blockingFindings = blocks.map((f) => ({ code: f.code, title: f.title, explanation: f.explanation }));
     const now = this.ctx.now().getTime();
     const notBefore = Math.max(now, input.notBefore ? Date.parse(input.notBefore) : now);
     const inputs = await loadSchedulingInputs(m, now, this.timing);
@@ -302,20 +301,15 @@ export class RunsService {
     return this.ds.transaction(async (m) => {
       await advisoryXactLock(m, BOOKING_LOCK);
       const total = input.parts.reduce((a, p) => a + p.sampleSize, 0);
-      const { plan, type, lots, problems, blockingFindings } = await this.requestContext(m, {
+      const { plan, type, lots, problems, blocks } = await this.requestContext(m, {
         planId: input.planId,
         lotIds: input.lotIds,
         sampleSize: total,
       });
       if (problems.length) throw unprocessable(problems.join(' '), { problems });
-      const overridden = blockingFindings.length > 0;
-      if (overridden && !input.override) {
-        throw unprocessable(
-          `The plan check blocks "${plan.name}" (version ${plan.version}): ${blockingFindings.map((f) => f.title).join('; ')}. ` +
-            'An engineer may book it anyway with a written reason of at least 10 characters.',
-          { blockingFindings },
-        );
-      }
+      const overridden = blocks.length > 0;
+      // A blocking finding needs an override approved by a second person (approvals.service.ts).
+      const approval = overridden ? await this.ctx.services.approvals.useForBooking(m, plan, input.override?.requestId, blocks) : null;
       const shortfall = sampleShortfall(plan.sampleSize, total);
       if (shortfall && !input.deviation) {
         throw unprocessable(
@@ -345,11 +339,12 @@ export class RunsService {
             sample,
             part,
             overridden,
-            overrideReason: input.override?.reason ?? null,
-            findings: blockingFindings,
+            approval,
+            findings: blocks,
           }),
         );
       }
+      if (approval) await this.ctx.services.approvals.markUsed(m, approval.id, sample.id);
       await this.ctx.audit.record(
         {
           actor,
@@ -404,8 +399,8 @@ export class RunsService {
         scheduledEnd: new Date(endMs),
         stateChangedAt: at,
         nextReadPoint: firstReadPointIndex(plan.readPointsH),
-        overrideReason: overridden ? b.overrideReason : null,
-        overrideById: overridden ? actor.id : null,
+        overrideReason: overridden ? (b.approval?.reason ?? null) : null,
+        overrideById: overridden ? (b.approval?.requestedById ?? null) : null,
         createdById: actor.id,
       }),
     );
@@ -509,8 +504,15 @@ export class RunsService {
           action: 'run.override',
           entity: 'run',
           entityId: saved.id,
-          reason: b.overrideReason,
-          details: { planId: plan.id, planVersion: plan.version, findings: b.findings.map((f) => ({ code: f.code, title: f.title })) },
+          reason: b.approval?.reason ?? null,
+          details: {
+            planId: plan.id,
+            planVersion: plan.version,
+            requestId: b.approval?.id ?? null,
+            requestedById: b.approval?.requestedById ?? null,
+            approvedById: b.approval?.decidedById ?? null,
+            findings: b.findings.map((f) => ({ code: f.code, title: f.title, numbers: f.numbers })),
+          },
         },
         m,
       );

@@ -13,6 +13,7 @@ import {
   type TimingOptions,
 } from '../../../shared/scheduling';
 import { ON_RIG_STATES, type RunState } from '../../../shared/schemas/runs';
+import { chamberSetpointC } from '../../../shared/domain/standards';
 import type { ServerConfig } from '../../config';
 import { RigEntity, RigMaintenanceEntity, RunEntity, StressPlanEntity } from '../../db/entities';
 
@@ -82,7 +83,7 @@ export async function loadSchedulingInputs(m: EntityManager, nowMs: number, t: T
       rigId: r.rigId!,
       startMs: w.startMs,
       endMs: w.endMs,
-      chamberC: plan.chamberC,
+      chamberC: chamberSetpointC(plan.chamberC, plan.chamberBand),
       humidityPct: plan.humidityPct,
       sockets: r.sampleSize,
     };

@@ -15,7 +15,7 @@
  */
 import { In, Not, type EntityManager } from 'typeorm';
 import { DRIVEN_STATES } from '../../../shared/domain/run-states';
-import { calibrationExpiresAt, INTERLOCK_TEST_VALID_DAYS, interlockDueAt } from '../../../shared/domain/standards';
+import { calibrationExpiresAt, chamberSetpointC, INTERLOCK_TEST_VALID_DAYS, interlockDueAt } from '../../../shared/domain/standards';
 import { formatUtc } from '../../../shared/domain/format';
 import { isPoweredKind } from '../../../shared/domain/stress';
 import { planBiasV, staticRefusals, when, type RunNeeds } from '../../../shared/scheduling';
@@ -25,8 +25,10 @@ import { devicesWithoutTimeZero } from './runs.data';
 import { reportedSockets } from './telemetry-reads';
 
 const day = (d: Date) => d.toISOString().slice(0, 10);
-const condition = (p: Pick<StressPlanEntity, 'chamberC' | 'humidityPct'>) =>
-  p.humidityPct === null ? `${+p.chamberC.toFixed(2)} °C` : `${+p.chamberC.toFixed(2)} °C / ${+p.humidityPct.toFixed(2)} % RH`;
+const condition = (p: Pick<StressPlanEntity, 'chamberC' | 'chamberBand' | 'humidityPct'>) => {
+  const c = `${+chamberSetpointC(p.chamberC, p.chamberBand).toFixed(2)} °C`;
+  return p.humidityPct === null ? c : `${c} / ${+p.humidityPct.toFixed(2)} % RH`;
+};
 
 /** "0–3", "0–3, 8, 10–12": socket indexes as ranges. */
 export function socketRanges(sockets: readonly number[]): string {
@@ -46,7 +48,8 @@ export async function chamberConflict(m: EntityManager, run: RunEntity, rig: Rig
   const others = await m.find(RunEntity, { where: { rigId: rig.id, state: In([...DRIVEN_STATES]), id: Not(run.id) } });
   for (const o of others) {
     const op = await m.findOneByOrFail(StressPlanEntity, { id: o.planId });
-    if (op.chamberC !== plan.chamberC || (op.humidityPct ?? null) !== (plan.humidityPct ?? null)) {
+    const same = chamberSetpointC(op.chamberC, op.chamberBand) === chamberSetpointC(plan.chamberC, plan.chamberBand);
+    if (!same || (op.humidityPct ?? null) !== (plan.humidityPct ?? null)) {
       return `Oven ${rig.code} holds run ${o.code} at ${condition(op)}; this plan needs ${condition(plan)}.`;
     }
   }

@@ -29,7 +29,7 @@ import {
   type Job,
   when,
 } from '../../../shared/scheduling';
-import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H, ROOM_AMBIENT_C as AMBIENT_C } from '../../../shared/domain/standards';
+import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H, ROOM_AMBIENT_C as AMBIENT_C, chamberSetpointC } from '../../../shared/domain/standards';
 import { FAULTABLE_STATES } from '../../../shared/domain/run-states';
 import type { RunState } from '../../../shared/schemas/runs';
 import type { AppContext } from '../../context';
@@ -292,11 +292,13 @@ export class RunScheduler {
     const reading = new Map(readings.map((r) => [r.socket, r]));
     const cond = accrualConditionsFor(plan);
     const setpointIs = (c: number, b: BatchRow | null) => !!b && Math.abs(b.setpointC - c) < 0.05;
+    // The controller aims at the middle of the band (a one-sided band: above the stated minimum).
+    const setpointC = chamberSetpointC(plan.chamberC, plan.chamberBand);
     const out: Want[] = [];
     const heat = (): Want => ({
       cmdId: `run:${run.id}:heat:${b36(run.heatingSince)}`,
-      cmd: { type: 'setpoint', setpointC: plan.chamberC, ...(plan.humidityPct !== null ? { humidityPct: plan.humidityPct } : {}) },
-      satisfied: setpointIs(plan.chamberC, latest),
+      cmd: { type: 'setpoint', setpointC: setpointC, ...(plan.humidityPct !== null ? { humidityPct: plan.humidityPct } : {}) },
+      satisfied: setpointIs(setpointC, latest),
     });
     const off = (phase: string): Want | null =>
       all.length
@@ -422,7 +424,7 @@ export class RunScheduler {
     const done = await data.lastRunAudit(this.ctx.ds.manager, run.id, 'run.ambient-overdue');
     this.ambientCheckedAt.set(key, -1);
     if (done && done.details?.heatingSince === heatingSince) return;
-    const band = chamberBand(plan.chamberC);
+    const band = chamberBand(plan.chamberC, plan.chamberBand);
     await this.ctx.audit.record({
       actor: 'system',
       action: 'run.ambient-overdue',
@@ -571,7 +573,7 @@ export class RunScheduler {
         return {
           id: r.id,
           code: r.code,
-          chamberC: p.chamberC,
+          chamberC: chamberSetpointC(p.chamberC, p.chamberBand),
           humidityPct: p.humidityPct,
           biasV: planBiasV(p),
           sampleSize: r.sampleSize,

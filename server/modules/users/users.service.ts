@@ -20,6 +20,7 @@ export function toUser(u: UserEntity): User {
     active: u.active,
     notifyAlarms: u.notifyAlarms,
     notifyReadPoints: u.notifyReadPoints,
+    safetyApprover: u.safetyApprover,
     lastSignInAt: u.lastSignInAt ? u.lastSignInAt.toISOString() : null,
     createdAt: u.createdAt.toISOString(),
   };
@@ -80,6 +81,15 @@ export class UsersService {
       }
       if (input.notifyAlarms !== undefined) u.notifyAlarms = changes.notifyAlarms = input.notifyAlarms;
       if (input.notifyReadPoints !== undefined) u.notifyReadPoints = changes.notifyReadPoints = input.notifyReadPoints;
+      if (input.safetyApprover !== undefined) {
+        const role = input.role ?? u.role;
+        if (input.safetyApprover && !can(role, 'override.decide')) {
+          throw unprocessable(
+            `Someone with the ${role} role cannot decide safety overrides; grant the safety approval to an engineer, manager or administrator.`,
+          );
+        }
+        u.safetyApprover = changes.safetyApprover = input.safetyApprover;
+      }
       if (input.password !== undefined) {
         u.passwordHash = await bcrypt.hash(input.password, BCRYPT_ROUNDS);
         changes.password = 'changed';

@@ -5,7 +5,9 @@
 import { isCyclingKind, isPoweredKind } from '../../domain/stress';
 import { ACTIVE_REGION_MIN_VCE_V, MOSFET_THERMAL_NOTE, criticalAmbient, junctionTemperature, thermalOperatingPoint } from '../../physics';
 import { A, C, V, W, againstLimit, numbers, pct, sig, titled } from './format';
+import { againstTemperature } from './junction';
 import {
+  JUNCTION_WARN_MARGIN_K,
   LOOP_GAIN_BLOCK,
   LOOP_GAIN_WARN,
   RUNAWAY_MARGIN_WARN_C,
@@ -218,7 +220,7 @@ export const dissipation: PlanRule = (c) => {
 export const cyclePeakJunction: PlanRule = ({ plan, device, chamber }) => {
   if (!isCyclingKind(plan.kind) || !plan.cycle) return [];
   const peak = chamber + plan.cycle.deltaTjC;
-  const sev = againstLimit(peak, device.tjMaxC);
+  const sev = againstTemperature(peak, device.tjMaxC, device.tjMaxC, JUNCTION_WARN_MARGIN_K);
   return [
     {
       code: 'cycle-peak-junction',
@@ -231,7 +233,7 @@ export const cyclePeakJunction: PlanRule = ({ plan, device, chamber }) => {
       ),
       explanation:
         `A junction swing of ${sig(plan.cycle.deltaTjC)} °C from a ${C(chamber)} chamber peaks at about ${C(peak)} ` +
-        `against ${C(device.tjMaxC)} rated.`,
+        `against ${C(device.tjMaxC)} rated (${sig(device.tjMaxC - peak)} K of margin; less than ${JUNCTION_WARN_MARGIN_K} K warns).`,
       numbers: numbers([
         ['peakTjC', peak, '°C', 'Peak junction temperature'],
         ['deltaTjC', plan.cycle.deltaTjC, '°C', 'Planned junction swing'],

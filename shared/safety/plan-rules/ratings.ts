@@ -55,6 +55,7 @@ export const vcbVsBvcbo: PlanRule = ({ plan, device, derating, derived }) => {
         ['allowedVcbV', allowed, 'V', 'Derated allowance'],
         ['fractionOfRating', frac, '', 'Fraction of rating'],
       ]),
+      ...(vcb > device.bvcboV ? { neverOverride: true } : {}),
     },
   ];
 };
@@ -86,6 +87,7 @@ export const vebVsBvebo: PlanRule = ({ plan, device, derating }) => {
         ['vebV', v, 'V', 'Applied VEB'],
         ['bveboV', device.bveboV, 'V', 'Rated BVEBO'],
       ]),
+      ...(v > device.bveboV ? { neverOverride: true } : {}),
     },
   ];
 };

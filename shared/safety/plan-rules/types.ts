@@ -2,8 +2,18 @@
 import type { DeviceTypeInput } from '../../schemas/devices';
 import type { PlanInput } from '../../schemas/plans';
 
-/** A value at or above this fraction of a limit (a rating, or a derived limit) is a warning. */
+/**
+ * A current, power or voltage at or above this fraction of its limit (a rating, or a derived limit)
+ * is a warning. Temperatures are never judged as a fraction of a Celsius value (90 % of 150 °C
+ * means nothing physical): they use margins in kelvin (JUNCTION_WARN_MARGIN_K).
+ */
 export const WARN_FRACTION_OF_LIMIT = 0.9;
+/**
+ * A predicted powered junction (or a cycling peak) less than this many kelvin below Tj max warns:
+ * the spread of θja and gain across a lot moves the junction by a few kelvin (Emberlot's choice;
+ * the powered templates aim exactly this far below the rating).
+ */
+export const JUNCTION_WARN_MARGIN_K = 5;
 /** Loop gain θ·∂P/∂Tj at or above this warns (half-way to runaway). */
 export const LOOP_GAIN_WARN = 0.5;
 /** Loop gain at or above this blocks: no stable operating point (textbook stability criterion). */
@@ -31,7 +41,16 @@ export interface Finding {
   title: string;
   explanation: string;
   numbers: Record<string, FindingNumber>;
+  /**
+   * True when no approval may override this blocking finding: reverse bias beyond the rated
+   * breakdown itself (BVCBO, BVEBO) puts every part into avalanche (Emberlot's safety policy).
+   */
+  neverOverride?: boolean;
 }
+
+/** Whether a blocking finding may be overridden with a second person's approval (the flag set by its rule). */
+export const isOverridable = (f: { severity: string; neverOverride?: boolean }): boolean =>
+  f.severity === 'block' && f.neverOverride !== true;
 
 export interface PlanDerived {
   allowedVcbV: number | null;
@@ -49,6 +68,10 @@ export interface PlanDerived {
   criticalAmbientC: number | null;
   runawayMarginC: number | null;
   leakageAtTjA: number | null;
+  /** °C per leakage doubling the leakage rule used (two-point law from the hot point, else the common-practice step). */
+  leakageDoublingC: number | null;
+  /** Allowed collector current at the plan's VCE and case temperature (forward SOA), powered bipolar plans. */
+  soaAllowedIcA: number | null;
 }
 
 export interface PlanCheck {
@@ -65,7 +88,10 @@ export interface PlanCheck {
 export interface CheckContext {
   device: DeviceTypeInput;
   plan: PlanInput;
+  /** The plan's stress temperature (the minimum of its band). */
   chamber: number;
+  /** Top of the plan's chamber band: the hottest ambient the plan accepts. */
+  chamberTop: number;
   derating: number;
   betaAtChamber: number;
   derived: PlanDerived;

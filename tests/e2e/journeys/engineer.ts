@@ -117,7 +117,7 @@ export const engineerPlanBook: Journey = {
     await j.shot('schedule');
 
     await page.getByRole('button', { name: 'Book a run' }).click();
-    await page.getByRole('checkbox', { name: 'HTRB 145 °C, 80 % VCBO, 1000 h (JESD22-A108) · HPD-2N140' }).click();
+    await page.getByRole('checkbox', { name: 'HTRB 150 °C (Tj max), 80 % VCBO, 1000 h (JESD22-A108) · HPD-2N140' }).click();
     await page.getByRole('checkbox', { name: /^HG2612-C \(\d+ registered\)$/ }).click();
     await page.getByLabel('Devices (sample size)').fill('45');
     await page.getByRole('button', { name: 'Find rigs' }).click();
@@ -130,7 +130,7 @@ export const engineerPlanBook: Journey = {
       .fill('Engineering evaluation of the passivation trial, not a qualification');
     // Rigs that cannot take it say why, with numbers.
     await expect(proposals.getByText('Rigs that cannot take it')).toBeVisible();
-    await expect(proposals.getByText(/^Oven HC-05 reaches at most 130 °C; the plan needs 14[\d.]+ °C\.$/)).toBeVisible();
+    await expect(proposals.getByText(/^Oven HC-05 reaches at most 130 °C; the plan needs 15[\d.]+ °C\.$/)).toBeVisible();
     await expect(proposals.getByText('Oven OV-04 supplies at most 100 V of bias; the plan needs 112 V.')).toBeVisible();
     // The earliest finish is offered first, with why it waits.
     await expect(proposals.getByText('Earliest finish')).toBeVisible();
@@ -175,7 +175,7 @@ export const engineerPlanBook: Journey = {
     // The run sits on its rig's row of the timeline.
     await j.navTo('Schedule');
     await page.waitForURL((u) => u.pathname === '/schedule');
-    const bar = page.getByRole('link', { name: new RegExp(`^Open run ${code}, Booked, 0 h of 1000 h, 45 devices at 14[\\d.]+ °C`) });
+    const bar = page.getByRole('link', { name: new RegExp(`^Open run ${code}, Booked, 0 h of 1000 h, 45 devices at 15[\\d.]+ °C`) });
     await expect(bar).toHaveCount(1, 15000);
     await bar.scrollIntoViewIfNeeded();
     await expect(bar).toBeVisible();

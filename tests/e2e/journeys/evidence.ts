@@ -16,7 +16,7 @@ export const engineerSplitSample: Journey = {
     await j.navTo('Schedule');
     await page.waitForURL((u) => u.pathname === '/schedule');
     await page.getByRole('button', { name: 'Book a run' }).click();
-    await page.getByRole('checkbox', { name: 'HTRB 145 °C, 80 % VCBO, 1000 h (JESD22-A108) · HPD-2N140' }).click();
+    await page.getByRole('checkbox', { name: 'HTRB 150 °C (Tj max), 80 % VCBO, 1000 h (JESD22-A108) · HPD-2N140' }).click();
     await page.getByRole('checkbox', { name: /^HG2611-A \(\d+ registered\)$/ }).click();
     const planSize = await page.getByLabel('Devices (sample size)').inputValue();
     if (planSize !== '77') throw new Error(`the sample size starts at ${planSize}, not the plan's 77`);

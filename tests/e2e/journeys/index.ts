@@ -7,7 +7,10 @@ import { managerTrends } from './manager';
 import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
+import { engineerRatings } from './ratings';
+import { operatorCorrectReading } from './records';
 import { engineerTripReset } from './trip-reset';
+import { signoffApprovalsAudit } from './signoff';
 import { operatorStartPermit } from './start-permit';
 
 /**
@@ -28,6 +31,10 @@ export const JOURNEYS: Journey[] = [
   operatorReadPointEvidence,
   managerLotCredit,
   engineerTripReset,
+  engineerRatings,
+  // Corrects a 168 h reading of HG2612-C (in progress): after every journey that reads that lot.
+  operatorCorrectReading,
+  signoffApprovalsAudit,
   // Books and starts a run on OV-04 (idle in the demo): after every journey that reads the schedule.
   operatorStartPermit,
   adminRigs,

@@ -1,0 +1,3 @@
+import { ApprovalsScreen } from '@/components/approvals/ApprovalsScreen';
+
+export default ApprovalsScreen;

@@ -1,0 +1,3 @@
+import { AuditScreen } from '@/components/audit/AuditScreen';
+
+export default AuditScreen;
