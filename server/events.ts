@@ -45,7 +45,8 @@ export interface AlarmEvent {
  *                      `measureBy` (biasRemovedAt + 96 h); `final` = the end of stress. → notices.
  *  read-point-overdue  a read point still has no measurements MEASURE_WITHIN_H after bias came off.
  *                      Once per hold. → alarm.
- *  command-failed      a rig command needed by the run failed (no ack / ok:false) several times. → alarm.
+ *  command-failed      a rig command needed by the run was refused (ok:false, at once) or not answered
+ *                      (after a few attempts); the run goes into fault when it was running. → alarm.
  */
 interface RunEventBase {
   runId: string;
@@ -98,8 +99,14 @@ export interface CommandFailedEvent extends RunEventBase {
   type: 'command-failed';
   cmdId: string;
   command: 'setpoint' | 'bias';
+  /** For bias: on or off. */
+  biasOn?: boolean;
   attempts: number;
   error: string;
+  /** The rig answered ok:false (else: it did not answer). */
+  refused?: boolean;
+  /** The run went into the fault state because of it. */
+  faulted?: boolean;
 }
 
 export type RunEvent = StateChangedEvent | AmbientNotReachedEvent | ReadPointDueEvent | ReadPointOverdueEvent | CommandFailedEvent;

@@ -13,6 +13,7 @@ const RUN_STATE_LABEL: Record<string, string> = {
   paused: 'Paused',
   'read-hold': 'Read-point hold',
   cooling: 'Cooling',
+  fault: 'Rig fault',
 };
 
 /** The pill: connection first (offline outranks everything), then what the run is doing. */
@@ -21,6 +22,9 @@ export function rigState(t: FloorTile): { tone: Tone; label: string } {
   if (!t.online) return { tone: 'danger', label: 'Offline' };
   if (t.tripped > 0)
     return { tone: 'attention', label: t.run ? `${RUN_STATE_LABEL[t.run.state] ?? t.run.state} · trips` : 'Online · trips' };
+  if (t.run?.state === 'fault') return { tone: 'danger', label: 'Rig fault' };
+  // Under stress with no socket powered is not stress: say so rather than a green "Stressing".
+  if (t.run?.state === 'stressing' && t.powered === 0) return { tone: 'attention', label: 'Stressing · 0 powered' };
   if (t.run) return { tone: t.run.state === 'paused' ? 'attention' : 'ok', label: RUN_STATE_LABEL[t.run.state] ?? t.run.state };
   return { tone: 'idle', label: 'Online · idle' };
 }

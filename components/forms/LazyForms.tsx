@@ -42,3 +42,6 @@ export const MaintenancePanel = lazyForm<ComponentProps<typeof Kit.MaintenancePa
 export const RegisterRigForm = lazyForm<ComponentProps<typeof Kit.RegisterRigForm>>('RegisterRigForm', () =>
   kit().then((m) => m.RegisterRigForm),
 );
+export const ServiceDatesPanel = lazyForm<ComponentProps<typeof Kit.ServiceDatesPanel>>('ServiceDatesPanel', () =>
+  kit().then((m) => m.ServiceDatesPanel),
+);

@@ -12,3 +12,4 @@ export { ManualEntryForm } from '@/components/readings/ManualEntryForm';
 export { CorrectReadingForm } from '@/components/readings/CorrectReadingForm';
 export { MaintenancePanel } from '@/components/rigs/MaintenancePanel';
 export { RegisterRigForm } from '@/components/rigs/RegisterRigForm';
+export { ServiceDatesPanel } from '@/components/rigs/ServiceDatesPanel';

@@ -5,7 +5,9 @@ import type {
   MaintenanceWindow,
   RejectedMessage,
   Rig,
+  RigServiceRecord,
   RigWithCredentials,
+  ServiceRecordInput,
   TelemetryStats,
 } from '@/shared/schemas/rigs';
 import { api } from './api';
@@ -15,6 +17,7 @@ export const rigKeys = {
   all: ['rigs'] as const,
   list: () => ['rigs', 'list'] as const,
   maintenance: (code: string) => ['rigs', 'maintenance', code] as const,
+  service: (code: string) => ['rigs', 'service', code] as const,
   rejections: () => ['rigs', 'telemetry', 'rejections'] as const,
   stats: () => ['rigs', 'telemetry', 'stats'] as const,
 };
@@ -94,5 +97,24 @@ export function useRejections(enabled = true) {
     queryFn: ({ signal }) => api<{ items: RejectedMessage[] }>('/api/telemetry/rejections?limit=50', { signal }).then((r) => r.items),
     enabled,
     staleTime: 30_000,
+  });
+}
+
+/** The calibration and interlock-test record behind a rig's start-permit dates. */
+export function useServiceRecords(code: string | null) {
+  return useQuery({
+    queryKey: rigKeys.service(code ?? ''),
+    queryFn: ({ signal }) => api<{ items: RigServiceRecord[] }>(`/api/rigs/${enc(code!)}/service-records`, { signal }).then((r) => r.items),
+    enabled: !!code,
+    staleTime: STALE.adminList,
+  });
+}
+
+export function useAddServiceRecord(code: string) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (input: ServiceRecordInput) => api<Rig>(`/api/rigs/${enc(code)}/service-records`, { method: 'POST', body: input }),
+    onSuccess: () =>
+      Promise.all([qc.invalidateQueries({ queryKey: rigKeys.service(code) }), qc.invalidateQueries({ queryKey: rigKeys.list() })]),
   });
 }

@@ -11,6 +11,7 @@ import type {
   SampleBooking,
   SocketFlag,
   SocketLoadResult,
+  StartPermit,
   Timeline,
 } from '@/shared/schemas/runs';
 import { api, ApiError } from './api';
@@ -20,7 +21,18 @@ export const runKeys = {
   list: (f: { open?: boolean }) => ['runs', 'list', f.open ? 'open' : 'all'] as const,
   one: (id: string) => ['runs', 'one', id] as const,
   timeline: () => ['runs', 'timeline'] as const,
+  permit: (id: string) => ['runs', 'permit', id] as const,
 };
+
+/** The start permit: each check Start makes and what it will ask to confirm (read when the dialog opens). */
+export function useStartPermit(id: string, enabled: boolean) {
+  return useQuery({
+    queryKey: runKeys.permit(id),
+    queryFn: ({ signal }) => api<StartPermit>(`/api/runs/${encodeURIComponent(id)}/permit`, { signal }),
+    enabled,
+    staleTime: 0,
+  });
+}
 
 /** Live screens refresh this often (the scheduler moves runs on its own). */
 export const RUN_REFRESH_MS = 3_000;
@@ -114,7 +126,8 @@ export function useRunAction(runId: string) {
     mutationFn: (v: { action: Exclude<RunAction, 'load'>; rowVersion: number; reason?: string }) =>
       api<RunDetail>(`/api/runs/${encodeURIComponent(runId)}/${v.action}`, {
         method: 'POST',
-        body: { rowVersion: v.rowVersion, ...(v.reason ? { reason: v.reason } : {}) },
+        // Start is only ever sent from its confirmation dialog (the plan's voltage and temperature shown).
+        body: { rowVersion: v.rowVersion, ...(v.reason ? { reason: v.reason } : {}), ...(v.action === 'start' ? { confirm: true } : {}) },
       }),
     onSuccess: (run) => {
       qc.setQueryData(runKeys.one(runId), run);

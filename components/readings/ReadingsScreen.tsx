@@ -22,7 +22,7 @@ import { UploadPanel } from './UploadPanel';
 import { UploadsPanel } from './UploadsPanel';
 
 /** Runs listed by how soon they need read-point work. */
-const STATE_ORDER: readonly string[] = ['read-hold', 'cooling', 'paused', 'stressing', 'heating', 'loading', 'booked', 'finished'];
+const STATE_ORDER: readonly string[] = ['read-hold', 'cooling', 'fault', 'paused', 'stressing', 'heating', 'loading', 'booked', 'finished'];
 
 const runLabel = (r: MeasurementRunSummary) => `${r.code} · ${r.lots.map((l) => l.code).join(', ') || r.partNumber} · ${r.state}`;
 

@@ -20,7 +20,7 @@ import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { HoldSettingsPanel } from './HoldSettingsPanel';
-import { MaintenancePanel } from '@/components/forms/LazyForms';
+import { MaintenancePanel, ServiceDatesPanel } from '@/components/forms/LazyForms';
 import { RegisterRigForm } from '@/components/forms/LazyForms';
 import { SecretReveal } from './SecretReveal';
 
@@ -285,6 +285,7 @@ export function RigsScreen() {
         )}
       </QueryState>
       {maintFor ? <MaintenancePanel rig={maintFor} canEdit={canManage} onClose={() => setMaintFor(null)} /> : null}
+      {maintFor ? <ServiceDatesPanel rig={rigs.data?.find((r) => r.id === maintFor.id) ?? maintFor} canEdit={canManage} /> : null}
       <HoldSettingsPanel />
       <IngestHealth />
       <SafetyCaution compact />

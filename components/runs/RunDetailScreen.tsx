@@ -11,7 +11,7 @@ import { Screen } from '@/components/layout/Screen';
 import { describeError } from '@/components/queries/api';
 import { useCan } from '@/components/queries/auth';
 import { useLabSettings } from '@/components/queries/lab-settings';
-import { SocketFlagsError, useLoadSockets, useRun, useRunAction } from '@/components/queries/runs';
+import { SocketFlagsError, useLoadSockets, useRun, useRunAction, useStartPermit } from '@/components/queries/runs';
 import { colors, radius, space, tones } from '@/components/theme/tokens';
 import { Banner } from '@/components/ui/Banner';
 import { Button } from '@/components/ui/Button';
@@ -48,6 +48,8 @@ const AUDIT_LABEL: Record<string, string> = {
   'run.finish': 'Finished',
   'run.abort': 'Aborted',
   'run.replan': 'Moved by re-planning',
+  'run.fault': 'Rig fault: a command was refused or not confirmed',
+  'run.retry': 'Retried after a fix; heating again',
 };
 
 /** A hold step names the step it reached ("Hold: Bias off"). */
@@ -157,6 +159,11 @@ function stateNote(run: RunDetail): { tone: 'info' | 'warn' | 'danger' | 'ok'; t
           ? `${run.cycles ? 'Cycle target reached' : 'Stress hours complete'}. Bias is off and the chamber is cooling; the run finishes when it is safe to open.`
           : `${run.cycles ? 'Cycle target reached' : 'Stress hours complete'}. The chamber cools with bias still on; bias comes off at the lab’s temperature, and the run finishes when it is safe to open.`,
       };
+    case 'fault':
+      return {
+        tone: 'danger',
+        text: `Rig fault since ${formatDateTime(run.fault?.at ?? run.stateChangedAt)}: ${run.fault?.reason ?? 'the rig refused or did not confirm a command.'} Emberlot is removing bias from the run's sockets and no stress hours count. Find the cause at the rig, then choose Retry after fix (say what was fixed) or abort the run.`,
+      };
     case 'aborted':
       return { tone: 'danger', text: `Aborted: ${run.abortReason ?? 'no reason given'}` };
     case 'finished':
@@ -204,6 +211,9 @@ function Actions({ run, may }: { run: RunDetail; may: (a: RunAction) => boolean 
   const act = useRunAction(run.id);
   const [abortOpen, setAbortOpen] = useState(false);
   const [abortReason, setAbortReason] = useState('');
+  const [startOpen, setStartOpen] = useState(false);
+  const [retryOpen, setRetryOpen] = useState(false);
+  const [retryReason, setRetryReason] = useState('');
   const [note, setNote] = useState('');
   const actions = run.allowedActions.filter((a): a is Exclude<RunAction, 'load' | 'abort'> => a !== 'load' && a !== 'abort' && may(a));
   if (!RUN_ACTIONS.some(may)) return <Text tone="muted">Operators and engineers start, pause and abort runs.</Text>;
@@ -215,10 +225,14 @@ function Actions({ run, may }: { run: RunDetail; may: (a: RunAction) => boolean 
           setNote('');
           setAbortOpen(false);
           setAbortReason('');
+          setStartOpen(false);
+          setRetryOpen(false);
+          setRetryReason('');
         },
       },
     );
-  const energises = actions.includes('start') || actions.includes('resume') || actions.includes('measurements-done');
+  const energises =
+    actions.includes('start') || actions.includes('resume') || actions.includes('measurements-done') || actions.includes('retry');
   return (
     <View style={{ gap: space.sm }}>
       {energises ? (
@@ -233,18 +247,55 @@ function Actions({ run, may }: { run: RunDetail; may: (a: RunAction) => boolean 
           <Button
             key={a}
             label={RUN_ACTION_LABEL[a]}
-            variant={a === 'start' || a === 'resume' || a === 'measurements-done' ? 'primary' : 'secondary'}
+            variant={a === 'start' || a === 'resume' || a === 'measurements-done' || a === 'retry' ? 'primary' : 'secondary'}
             busy={act.isPending && act.variables?.action === a}
             busyLabel="Working…"
             disabled={a === 'start' && run.loadedCount !== run.sampleSize}
-            onPress={() => run1(a, note.trim() || undefined)}
+            onPress={() => {
+              act.reset();
+              if (a === 'start') setStartOpen(true);
+              else if (a === 'retry') setRetryOpen(true);
+              else run1(a, note.trim() || undefined);
+            }}
           />
         ))}
         {run.allowedActions.includes('abort') && may('abort') ? (
           <Button label="Abort run" variant="danger" onPress={() => setAbortOpen(true)} />
         ) : null}
       </View>
-      {act.isError && !abortOpen ? <Banner tone="danger">{describeError(act.error)}</Banner> : null}
+      {act.isError && !abortOpen && !startOpen && !retryOpen ? <Banner tone="danger">{describeError(act.error)}</Banner> : null}
+      <StartDialog
+        run={run}
+        visible={startOpen}
+        busy={act.isPending}
+        error={act.isError ? describeError(act.error) : null}
+        onCancel={() => {
+          setStartOpen(false);
+          act.reset();
+        }}
+        onConfirm={() => run1('start', note.trim() || undefined)}
+      />
+      <ConfirmDialog
+        visible={retryOpen}
+        title={`Retry ${run.code} after the fix?`}
+        message="The run heats again and gets fresh commands; the start checks must pass again. If the rig still refuses, the run goes back into fault. Say what was fixed; it is kept in the audit trail."
+        confirmLabel="Retry after fix"
+        confirmDisabled={retryReason.trim().length < 5}
+        busy={act.isPending}
+        testID="retry-dialog"
+        onCancel={() => {
+          setRetryOpen(false);
+          act.reset();
+        }}
+        onConfirm={() => run1('retry', retryReason.trim())}
+      >
+        <SafetyCaution
+          compact
+          context={`${run.rig?.code ?? 'The rig'} heats to ${run.plan.chamberC} °C${run.plan.biasV ? ` and applies ${run.plan.biasV} V of bias` : ''}.`}
+        />
+        <Field label="What was fixed" value={retryReason} onChangeText={setRetryReason} multiline help="At least 5 characters." />
+        {act.isError ? <Banner tone="danger">{describeError(act.error)}</Banner> : null}
+      </ConfirmDialog>
       <ConfirmDialog
         visible={abortOpen}
         title={`Abort ${run.code}?`}
@@ -263,6 +314,67 @@ function Actions({ run, may }: { run: RunDetail; may: (a: RunAction) => boolean 
         {act.isError ? <Banner tone="danger">{describeError(act.error)}</Banner> : null}
       </ConfirmDialog>
     </View>
+  );
+}
+
+/**
+ * Start asks first: the start permit's checks (each failed one names what is missing; Start stays
+ * off while any fails) and the plan's voltage and temperature with the high-voltage and hot-oven
+ * caution, which the person confirms.
+ */
+function StartDialog(p: {
+  run: RunDetail;
+  visible: boolean;
+  busy: boolean;
+  error: string | null;
+  onCancel: () => void;
+  onConfirm: () => void;
+}) {
+  const { run } = p;
+  const permit = useStartPermit(run.id, p.visible);
+  const data = permit.data;
+  const c = data?.confirm;
+  const rh = c?.humidityPct !== null && c?.humidityPct !== undefined ? ` at ${c.humidityPct} % RH` : '';
+  return (
+    <ConfirmDialog
+      visible={p.visible}
+      title={`Start ${run.code}?`}
+      confirmLabel="Confirm and start"
+      confirmDisabled={!data?.ok}
+      busy={p.busy}
+      testID="start-dialog"
+      onCancel={p.onCancel}
+      onConfirm={p.onConfirm}
+    >
+      {permit.isPending ? <Text tone="muted">Checking the start permit…</Text> : null}
+      {permit.isError ? <Banner tone="danger">{describeError(permit.error)}</Banner> : null}
+      {data ? (
+        <View style={{ gap: space.sm }}>
+          <View accessibilityLabel="Start checks" style={{ gap: space.xs }}>
+            {data.checks.map((k) => (
+              <View key={k.key} testID={`permit-${k.key}`} style={{ flexDirection: 'row', gap: space.xs, alignItems: 'flex-start' }}>
+                <StatusPill tone={k.ok ? 'ok' : 'danger'} size="sm" label={k.ok ? 'OK' : 'Missing'} />
+                <View style={{ flex: 1, gap: 2 }}>
+                  <Text variant="label">{k.label}</Text>
+                  <Text variant="caption">{k.message}</Text>
+                </View>
+              </View>
+            ))}
+          </View>
+          {data.ok && c ? (
+            <SafetyCaution
+              testID="start-confirm-caution"
+              context={`Confirm: ${c.rigCode ?? 'the rig'} heats its chamber to ${c.chamberC} °C${rh} and applies ${c.biasText} to ${run.sampleSize} devices.`}
+            />
+          ) : (
+            <Banner tone="danger" testID="start-refused">
+              {`${run.code} cannot start until every check passes; nothing has been switched on.`}
+            </Banner>
+          )}
+        </View>
+      ) : null}
+      {p.error ? <Banner tone="danger">{p.error}</Banner> : null}
+    </ConfirmDialog>
   );
 }
 

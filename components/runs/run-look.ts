@@ -10,6 +10,7 @@ export const RUN_STATE_TONE: Record<RunState, Tone> = {
   paused: 'attention',
   'read-hold': 'info',
   cooling: 'info',
+  fault: 'danger',
   finished: 'idle',
   aborted: 'danger',
 };

@@ -1,6 +1,6 @@
 import bcrypt from 'bcryptjs';
 import type { DataSource } from 'typeorm';
-import { DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, UserEntity } from '../db/entities';
+import { DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RigServiceRecordEntity, UserEntity } from '../db/entities';
 import { BCRYPT_ROUNDS } from '../modules/users/users.service';
 import { DEMO_DEVICE_TYPES, DEMO_DEVICES_PER_LOT, DEMO_LOTS, DEMO_RIGS, DEMO_USERS, demoRigSecret, rigMqttUsername } from './demo-data';
 import { seedPlans } from './seed-plans';
@@ -41,13 +41,25 @@ async function seedDevicesAndLots(ds: DataSource) {
 
 async function seedRigs(ds: DataSource) {
   const now = new Date();
+  const day = 86_400_000;
+  // The start permit's dates: calibrated 245 days ago and due in 120, interlocks tested 5 days ago.
+  const calibratedAt = new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), now.getUTCDate()) - 245 * day);
+  const calibrationDueAt = new Date(calibratedAt.getTime() + 365 * day);
+  const interlockTestedAt = new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), now.getUTCDate()) - 5 * day);
   for (const r of DEMO_RIGS) {
-    await ds.getRepository(RigEntity).insert({
+    const ids = await ds.getRepository(RigEntity).insert({
       ...r,
       mqttUsername: rigMqttUsername(r.code),
       mqttSecretHash: await bcrypt.hash(demoRigSecret(r.code), BCRYPT_ROUNDS),
       credentialsIssuedAt: now,
+      calibrationDueAt,
+      interlockTestedAt,
     });
+    const rigId = ids.identifiers[0].id as string;
+    await ds.getRepository(RigServiceRecordEntity).insert([
+      { rigId, kind: 'calibration', doneAt: calibratedAt, dueAt: calibrationDueAt, note: 'Thermocouples and bias supplies, yearly' },
+      { rigId, kind: 'interlock-test', doneAt: interlockTestedAt, dueAt: null, note: 'Door, over-temperature and HV interlocks' },
+    ]);
   }
 }
 

@@ -25,6 +25,7 @@ export const PERMISSIONS = {
   'run.resume': ['operator', 'engineer'],
   'run.measurements-done': ['operator', 'engineer'],
   'run.abort': ['operator', 'engineer'],
+  'run.retry': ['operator', 'engineer'],
   // A protection trip is reset by the floor or an engineer, with a reason, after the plan check
   // passes again for that socket's device (server/modules/protection/trip-reset.service.ts).
   'run.reset-trip': ['operator', 'engineer'],

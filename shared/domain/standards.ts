@@ -98,6 +98,17 @@ export const DEFAULT_READ_POINTS_H: readonly number[] = [0, 168, 500, 1000];
 export const DEFAULT_DURATION_H = 1000;
 /** Reverse bias as a fraction of the rated breakdown [pub: JESD22-A108; AEC-Q101 test table — 80 %]. */
 export const REVERSE_BIAS_FRACTION = 0.8;
+/**
+ * A rig's hardware-interlock test (door, over-temperature cut-out, high-voltage discharge) counts
+ * for this many days; a run may not start on a rig whose last test is older (Emberlot's default,
+ * not from a standard: the lab's own safety rules set the interval and may ask for more).
+ */
+export const INTERLOCK_TEST_VALID_DAYS = 30;
+const DAY_MS = 86_400_000;
+/** The last moment an interlock test done at `testedAt` still counts (check: tested 2026-01-01 → until 2026-01-31 00:00 UTC). */
+export const interlockDueAt = (testedAt: Date): Date => new Date(testedAt.getTime() + INTERLOCK_TEST_VALID_DAYS * DAY_MS);
+/** A calibration due on a day still counts through the end of that day (UTC). */
+export const calibrationExpiresAt = (dueAt: Date): Date => new Date(dueAt.getTime() + DAY_MS);
 /** Bias band for hour accrual, ± percent of set (Emberlot's default, not from a standard). */
 export const DEFAULT_BIAS_TOLERANCE_PCT = 5;
 /** Activation energy when the lab has none [practice: 0.7 eV]. */

@@ -80,6 +80,10 @@ export interface Rig {
   chamberC: number | null;
   setpointC: number | null;
   humidityPct: number | null;
+  /** The start permit's dates (null = never recorded); interlockDueAt = last test + INTERLOCK_TEST_VALID_DAYS. */
+  calibrationDueAt: string | null;
+  interlockTestedAt: string | null;
+  interlockDueAt: string | null;
   createdAt: string;
 }
 
@@ -154,4 +158,41 @@ export interface TelemetryStats {
     lastBatchMs: number | null;
     pendingCommands: number;
   } | null;
+}
+
+/** The maintenance record behind the start permit's dates. */
+export const RIG_SERVICE_KINDS = ['calibration', 'interlock-test'] as const;
+export type RigServiceKind = (typeof RIG_SERVICE_KINDS)[number];
+export const RIG_SERVICE_LABEL: Record<RigServiceKind, string> = { calibration: 'Calibration', 'interlock-test': 'Interlock test' };
+
+const day = (what: string) => z.iso.date({ message: `Enter ${what} as YYYY-MM-DD` });
+const serviceNote = () => z.string().trim().max(200, 'At most 200 characters').default('');
+
+/**
+ * POST /api/rigs/:code/service-records. A calibration names the day it was done and the day it is
+ * next due; an interlock test the day it was done (it counts for INTERLOCK_TEST_VALID_DAYS).
+ */
+export const serviceRecordInputSchema = z
+  .discriminatedUnion('kind', [
+    z
+      .object({ kind: z.literal('calibration'), doneOn: day('the calibration date'), dueOn: day('the next due date'), note: serviceNote() })
+      .strict(),
+    z.object({ kind: z.literal('interlock-test'), doneOn: day('the test date'), note: serviceNote() }).strict(),
+  ])
+  .superRefine((r, ctx) => {
+    if (r.kind === 'calibration' && !(r.dueOn > r.doneOn)) {
+      ctx.addIssue({ code: 'custom', path: ['dueOn'], message: 'The next calibration falls due after the one just done' });
+    }
+  });
+export type ServiceRecordInput = z.infer<typeof serviceRecordInputSchema>;
+
+export interface RigServiceRecord {
+  id: string;
+  rigCode: string;
+  kind: RigServiceKind;
+  doneAt: string;
+  dueAt: string | null;
+  note: string;
+  byName: string | null;
+  createdAt: string;
 }

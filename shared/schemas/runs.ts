@@ -16,6 +16,7 @@ export const RUN_STATE_LABEL: Record<RunState, string> = {
   paused: 'Paused',
   'read-hold': 'Read-point hold',
   cooling: 'Cooling',
+  fault: 'Rig fault',
   finished: 'Finished',
   aborted: 'Aborted',
 };
@@ -32,6 +33,7 @@ export const ACTIONS_BY_STATE: Record<RunState, readonly RunAction[]> = {
   paused: ['resume', 'abort'],
   'read-hold': ['measurements-done', 'abort'],
   cooling: ['abort'],
+  fault: ['retry', 'abort'],
   finished: [],
   aborted: [],
 };
@@ -145,6 +147,48 @@ export const abortRunSchema = z.object({
 });
 export type AbortRunInput = z.infer<typeof abortRunSchema>;
 
+/**
+ * Start: the person confirms the plan's voltage and temperature (with the high-voltage and hot-oven
+ * caution) that the start permit showed them; the server refuses a start without it.
+ */
+export const startRunSchema = runActionSchema.extend({
+  confirm: z.literal(true, { message: "Confirm the plan's voltage and temperature before starting" }),
+});
+export type StartRunInput = z.infer<typeof startRunSchema>;
+
+/** Leave the fault state once the cause is fixed: heat again (the reason is audited). */
+export const retryRunSchema = z.object({
+  rowVersion: rowVersion(),
+  reason: z.string().trim().min(5, 'Say what was fixed (at least 5 characters)').max(2000),
+});
+export type RetryRunInput = z.infer<typeof retryRunSchema>;
+
+/** One check of the start permit (GET /api/runs/:id/permit); each failed one names what is missing. */
+export const PERMIT_CHECKS = ['loading', 'time-zero', 'sockets', 'calibration', 'interlock', 'maintenance', 'oven'] as const;
+export type PermitCheckKey = (typeof PERMIT_CHECKS)[number];
+export interface PermitCheck {
+  key: PermitCheckKey;
+  label: string;
+  ok: boolean;
+  /** What was found: the numbers when it passes, what is missing when it does not. */
+  message: string;
+}
+
+/** What Start will ask the person to confirm, and whether the run may start at all. */
+export interface StartPermit {
+  runId: string;
+  ok: boolean;
+  checks: PermitCheck[];
+  confirm: {
+    rigCode: string | null;
+    chamberC: number;
+    humidityPct: number | null;
+    biasV: number | null;
+    /** The bias in words, e.g. "reverse bias of 560 V" or "powered at VCE 20 V". */
+    biasText: string;
+  };
+}
+
 /** Socket index (0-based, as on the rig board) → device serial; "" marks a socket left empty. */
 export const socketLoadSchema = z.object({
   rowVersion: rowVersion(),
@@ -220,6 +264,8 @@ export interface Run {
   holdPhase: HoldPhase | null;
   holdPhaseSince: string | null;
   abortReason: string | null;
+  /** Why the run is in (or last entered) the fault state; null when it never was. */
+  fault: { at: string; reason: string } | null;
   override: { reason: string; byName: string | null } | null;
   allowedActions: RunAction[];
   rowVersion: number;

@@ -16,6 +16,7 @@ import { RunScheduler } from '../../server/modules/scheduler/scheduler';
 import type { RigCommandBody, RigLink } from '../../server/modules/telemetry/contracts';
 import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
 import { createTestApp, type TestApp } from '../support/api';
+import { grantStartPermit } from '../support/permit';
 
 /** A rig that applies each cmdId once and keeps the bias it was sent. */
 class FakeRig implements RigLink {
@@ -131,7 +132,9 @@ beforeAll(async () => {
     .put(`/api/runs/${runId}/sockets`)
     .send({ rowVersion: booked.body.rowVersion, sockets: { 0: 'K0001', 1: 'K0002', 2: 'K0003' } });
   expect(loaded.body.readyToStart).toBe(true);
-  const started = await op.post(`/api/runs/${runId}/start`).send({ rowVersion: loaded.body.run.rowVersion });
+  // The start permit; the rig's report sits at seq 0 with the stress clock of its first sample, so it changes no count.
+  await grantStartPermit(t.ctx.ds, runId, rigId, { seq: 0, clockS: 900 });
+  const started = await op.post(`/api/runs/${runId}/start`).send({ rowVersion: loaded.body.run.rowVersion, confirm: true });
   expect(started.body.state).toBe('heating');
   scheduler = new RunScheduler(t.ctx, {
     rigLink: () => fake,

@@ -15,6 +15,7 @@ import { RunScheduler } from '../../server/modules/scheduler/scheduler';
 import type { RigCommandBody, RigLink } from '../../server/modules/telemetry/contracts';
 import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
 import { createTestApp, type TestApp } from '../support/api';
+import { grantStartPermit } from '../support/permit';
 
 const SOCKETS = [0, 1, 2, 3];
 
@@ -132,7 +133,8 @@ async function startRun(code: string, partNumber: string, lotCode: string, plan:
     .put(`/api/runs/${booked.body.id}/sockets`)
     .send({ rowVersion: booked.body.rowVersion, sockets: { 0: serials[0], 1: serials[1], 2: serials[2] } });
   expect(loaded.body.readyToStart).toBe(true);
-  const started = await op.post(`/api/runs/${booked.body.id}/start`).send({ rowVersion: loaded.body.run.rowVersion });
+  await grantStartPermit(t.ctx.ds, booked.body.id, rigId, { seq: 0, clockS: 0 });
+  const started = await op.post(`/api/runs/${booked.body.id}/start`).send({ rowVersion: loaded.body.run.rowVersion, confirm: true });
   expect(started.body.state).toBe('heating');
   return { code, rigId, runId: booked.body.id, seq: 0, clockS: 0, counters: [0, 0, 0, 0] };
 }

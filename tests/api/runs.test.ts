@@ -7,6 +7,7 @@ import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
 import { msPerClockHFor } from '../../shared/scheduling';
 import { createTestApp, emailFor, type TestApp } from '../support/api';
 import { tableCounts } from '../support/db';
+import { grantStartPermit } from '../support/permit';
 
 let t: TestApp;
 const ids: Record<string, string> = {};
@@ -345,9 +346,9 @@ describe('socket loading', () => {
 
   it('start is refused until every device is loaded', async () => {
     const op = await t.signIn('operator');
-    const res = await op.post(`/api/runs/${ids.run}/start`).send({ rowVersion: await version() });
+    const res = await op.post(`/api/runs/${ids.run}/start`).send({ rowVersion: await version(), confirm: true });
     expect(res.status).toBe(422);
-    expect(res.body.error.message).toBe('Load all 8 devices before starting; 7 sockets are loaded.');
+    expect(res.body.error.message).toMatch(/^Run HTRB-2611-A cannot start: Load all 8 devices before starting; 7 sockets are loaded\. /);
   });
 
   it('loads the eighth device, then the run is ready', async () => {
@@ -376,12 +377,15 @@ describe('state changes by people', () => {
       endsAt: new Date(Date.UTC(2099, 0, 1, 12)),
       reason: 'thermocouple swap',
     });
-    const refused = await op.post(`/api/runs/${ids.run}/start`).send({ rowVersion: await version() });
-    expect(refused.status).toBe(409);
-    expect(refused.body.error.message).toBe('Oven OV-01 is in maintenance until 2099-01-01 12:00 UTC (thermocouple swap).');
+    await grantStartPermit(t.ctx.ds, ids.run, ids['OV-01']);
+    const refused = await op.post(`/api/runs/${ids.run}/start`).send({ rowVersion: await version(), confirm: true });
+    expect(refused.status).toBe(422);
+    expect(refused.body.error.message).toBe(
+      'Run HTRB-2611-A cannot start: Oven OV-01 is in maintenance until 2099-01-01 12:00 UTC (thermocouple swap). Nothing was started.',
+    );
     await t.ctx.ds.getRepository(RigMaintenanceEntity).delete({ id: m.id });
 
-    const res = await op.post(`/api/runs/${ids.run}/start`).send({ rowVersion: await version() });
+    const res = await op.post(`/api/runs/${ids.run}/start`).send({ rowVersion: await version(), confirm: true });
     expect(res.status).toBe(200);
     expect(res.body).toMatchObject({ state: 'heating', allowedActions: ['pause', 'abort'] });
     expect(res.body.startedAt).not.toBeNull();

@@ -33,6 +33,7 @@ import { type RigCommandBody, type RigLink } from '../../server/modules/telemetr
 import { pgPoolOf, startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
 import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
 import { createTestDb, type TestDb } from '../support/db';
+import { recordTimeZero, setRigServiceDates } from '../support/permit';
 import { waitFor } from './mqtt-test-helpers';
 
 jest.setTimeout(60_000);
@@ -47,6 +48,7 @@ let ctx: AppContext;
 let stopTelemetry: (() => Promise<void>) | null = null;
 let rig: RigHandle;
 let runId: string;
+let rigId: string;
 let scheduler: RunScheduler | null = null;
 const sent: Array<{ cmdId: string; cmd: RigCommandBody }> = [];
 
@@ -62,7 +64,7 @@ const run = () => db.ds.getRepository(RunEntity).findOneByOrFail({ id: runId });
 beforeAll(async () => {
   db = await createTestDb();
   const m = db.ds.manager;
-  const rigId = (
+  rigId = (
     await m.save(
       m.create(RigEntity, {
         code: 'OV-08',
@@ -178,7 +180,13 @@ async function until(state: string | string[], timeoutMs: number) {
 
 test('a simulated IOL run cycles, counts the cycles within its ΔTj band and ends at its cycle target', async () => {
   const operator = { id: randomUUID(), email: 'operator@test.example', name: 'Test operator', role: 'operator' as const };
-  await new RunsService(ctx).act(operator, runId, 'start', { rowVersion: (await run()).rowVersion });
+  // The start permit: service dates, time-zero readings, and the sockets from the rig's own stored telemetry.
+  await setRigServiceDates(db.ds, rigId);
+  await recordTimeZero(db.ds, runId);
+  for (let k = 0; k < 100 && !(await db.ds.query('SELECT 1 FROM telemetry_batches WHERE rig_id = $1 LIMIT 1', [rigId])).length; k++) {
+    await new Promise((r) => setTimeout(r, 50));
+  }
+  await new RunsService(ctx).act(operator, runId, 'start', { rowVersion: (await run()).rowVersion, confirm: true });
   scheduler = new RunScheduler(ctx, { rigLink: () => spyLink, log: () => undefined, ambientCheckEveryMs: 0 });
   scheduler.start();
   await until(['stressing', 'cooling', 'finished'], 15_000);

@@ -147,13 +147,17 @@ describe('condition alarms', () => {
     t.ctx.events.emit(TELEMETRY_LANDED, landed(fx, 5, 100, hot));
     await feature.idle();
     let [a] = await live(fx.rig.id, 'runaway-trip');
-    expect(a.message).toMatch(/did NOT confirm the trip command/);
+    expect(a.message).toMatch(/The rig did not confirm the trip \(.*\), so the socket may still be energised\.$/);
+    expect(a.message).not.toContain('trip:NC-01'); // the command's internal id stays in the details
+    expect(a.details.action).toMatch(/^Remove bias from socket 0 at NC-01 now/);
     expect(a.details.command).toBe('not confirmed');
     link.unreachable.delete('NC-01');
     t.ctx.events.emit(TELEMETRY_LANDED, landed(fx, 10, 100, hot));
     await feature.idle();
     [a] = await live(fx.rig.id, 'runaway-trip');
     expect(a.details.command).toBe('confirmed');
+    expect(a.message).toMatch(/^Emberlot removed bias from socket 0 on NC-01.* The rig confirmed the trip on a later attempt\.$/);
+    expect(a.details.action).toMatch(/^Leave the socket de-energised/);
     const ids = new Set(link.sent.filter((c) => c.rigCode === 'NC-01').map((c) => c.cmdId));
     expect([...ids]).toEqual([`trip:NC-01:0:${fx.run.id}`]);
     expect(await t.ctx.ds.getRepository(AlarmEntity).count({ where: { rigId: fx.rig.id } })).toBe(1);

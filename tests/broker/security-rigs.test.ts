@@ -217,8 +217,9 @@ describe('point 6: text from rigs is made storable', () => {
     const alarm = await repo.findOneByOrFail({ rigId: rigIds['SR-03'], kind: 'runaway-trip' });
     expect(trips.length).toBeGreaterThanOrEqual(1);
     expect(alarm.socketIndex).toBe(1);
-    expect(alarm.message).toContain('The rig did NOT confirm the trip command');
-    expect(alarm.message).toContain('remove bias from this socket at the rig now');
+    expect(alarm.message).toContain('The rig did not confirm the trip');
+    expect(alarm.message).toContain('so the socket may still be energised');
+    expect((alarm.details as Record<string, unknown>).action).toContain('Remove bias from socket 1 at SR-03 now');
     // The NUL became U+FFFD; the rest of the rig's words are kept.
     expect(alarm.message).toContain('bias relay welded\uFFFD interlock open');
     expect((alarm.details as Record<string, unknown>).commandError).toEqual(

@@ -46,6 +46,7 @@ import {
   type StackPorts,
 } from '../support/processes';
 import type { RigCommandLog } from './rig-command-log';
+import { recordTimeZero, setRigServiceDates } from '../support/permit';
 
 export const OPERATOR = { email: 'operator@faults.example', password: 'faults-operator-pass' };
 /** Stress hours per wall second and wall seconds per sample: 0.2 stress hour per sample. */
@@ -190,6 +191,9 @@ export async function createFaultRun(ds: DataSource, type: DeviceTypeEntity, rig
     RunSocketEntity,
     devices.map((d, i) => ({ runId: run.id, deviceId: d.id, socketIndex: i })),
   );
+  // The start permit's dates and time-zero readings; the sockets report comes from the simulated rig.
+  await setRigServiceDates(ds, rig.id);
+  await recordTimeZero(ds, run.id);
   return { rigCode, rigId: rig.id, secret, runId: run.id, plan };
 }
 
@@ -282,7 +286,7 @@ export async function runAction(ds: DataSource, client: ApiClient, runId: string
     const r = await runRow(ds, runId);
     if (r) {
       const res = await client
-        .request('POST', `/api/runs/${runId}/${action}`, { rowVersion: r.rowVersion })
+        .request('POST', `/api/runs/${runId}/${action}`, { rowVersion: r.rowVersion, ...(action === 'start' ? { confirm: true } : {}) })
         .catch((e: Error) => ({ status: 0, body: e.message }));
       if (res.status === 200) return;
       last = `${res.status} ${JSON.stringify(res.body)}`;

@@ -16,7 +16,7 @@ export * from './lab-settings.entity';
 import { UserEntity } from './user.entity';
 import { DeviceTypeEntity } from './device-type.entity';
 import { DeviceEntity, LotEntity } from './lot.entity';
-import { RigEntity, RigMaintenanceEntity } from './rig.entity';
+import { RigEntity, RigMaintenanceEntity, RigServiceRecordEntity } from './rig.entity';
 import { StressPlanEntity } from './stress-plan.entity';
 import { RunEntity, RunLotEntity, RunSocketEntity, SampleEntity } from './run.entity';
 import {
@@ -61,6 +61,7 @@ export const ENTITIES = [
   SampleEntity,
   DeviceDispositionEntity,
   TelemetryCycleEntity,
+  RigServiceRecordEntity,
   OverrideRequestEntity,
   VerdictSignatureEntity,
   LabSettingsEntity,

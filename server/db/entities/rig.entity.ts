@@ -28,6 +28,29 @@ export class RigEntity {
   @Column({ type: 'double precision', nullable: true }) chamberC: number | null;
   @Column({ type: 'double precision', nullable: true }) setpointC: number | null;
   @Column({ type: 'double precision', nullable: true }) humidityPct: number | null;
+  /** The date the rig's measuring chain (thermocouples, bias supplies) is next due for calibration; null = never recorded. */
+  @Column({ type: 'timestamptz', nullable: true }) calibrationDueAt: Date | null;
+  /** When the hardware interlocks (door, over-temperature, HV) were last tested; null = never recorded. */
+  @Column({ type: 'timestamptz', nullable: true }) interlockTestedAt: Date | null;
+  @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
+}
+
+/** The maintenance record behind a rig's calibration-due and interlock-test dates: one row per entry. */
+@Entity('rig_service_records')
+export class RigServiceRecordEntity {
+  @PrimaryGeneratedColumn('uuid') id: string;
+  @Index() @Column({ type: 'uuid' }) rigId: string;
+  @ManyToOne(() => RigEntity, { onDelete: 'CASCADE' })
+  @JoinColumn({ name: 'rig_id' })
+  rig?: RigEntity;
+  /** 'calibration' or 'interlock-test'. */
+  @Column({ type: 'varchar', length: 20 }) kind: string;
+  /** When the work was done. */
+  @Column({ type: 'timestamptz' }) doneAt: Date;
+  /** Calibration: when it is next due. Interlock test: null (valid for INTERLOCK_TEST_VALID_DAYS). */
+  @Column({ type: 'timestamptz', nullable: true }) dueAt: Date | null;
+  @Column({ type: 'varchar', length: 200, default: '' }) note: string;
+  @Column({ type: 'uuid', nullable: true }) createdById: string | null;
   @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
 }
 

@@ -86,6 +86,9 @@ export class RunEntity {
   @Column({ type: 'varchar', length: 24, nullable: true }) holdPhase: HoldPhase | null;
   @Column({ type: 'timestamptz', nullable: true }) holdPhaseSince: Date | null;
   @Column({ type: 'text', nullable: true }) abortReason: string | null;
+  /** Why the run went into the fault state (the rig's refusal in words) and when; kept after a retry. */
+  @Column({ type: 'text', nullable: true }) faultReason: string | null;
+  @Column({ type: 'timestamptz', nullable: true }) faultAt: Date | null;
   /** Engineer's written reason for booking despite a blocking plan-check finding. */
   @Column({ type: 'text', nullable: true }) overrideReason: string | null;
   @Column({ type: 'uuid', nullable: true }) overrideById: string | null;

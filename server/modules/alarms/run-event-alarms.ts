@@ -1,7 +1,8 @@
 /**
  * Run events (RUN_EVENT, server/events.ts) → alarms, notifications and e-mails:
  * - ambient-not-reached → warning alarm (cleared when the run reaches stressing or ends);
- * - command-failed → critical alarm (cleared on the run's next state change);
+ * - command-failed → critical alarm; the run is in fault when it was running (cleared when the run
+ *   leaves the fault state — retried or aborted — or on its next state change otherwise);
  * - read-point-due → in-app notice + e-mail to people with read-point notices on (no alarm);
  * - read-point-overdue → warning alarm (cleared when a held run moves on);
  * - state-changed → clears the alarms the new state makes moot.
@@ -9,7 +10,9 @@
 import { MEASURE_WITHIN_H } from '../../../shared/domain/standards';
 import { formatUtc } from '../../../shared/domain/format';
 import type { AppContext } from '../../context';
-import type { RunEvent } from '../../events';
+import type { CommandFailedEvent, RunEvent } from '../../events';
+import type { RaiseAlarmInput } from './alarms.service';
+import { commandErrorWords } from './command-words';
 
 const f1 = (x: number | null | undefined) =>
   x === null || x === undefined || !Number.isFinite(x) ? 'n/a' : (Math.round(x * 10) / 10).toFixed(1);
@@ -45,17 +48,7 @@ export async function handleRunEvent(ctx: AppContext, e: RunEvent): Promise<void
       return;
     }
     case 'command-failed': {
-      await alarms.raise({
-        kind: 'command-failed',
-        severity: 'critical',
-        rigId: e.rigId,
-        runId: e.runId,
-        socketIndex: null,
-        title: `Run ${e.runCode}${where}: ${e.command} command failed`,
-        message: `The ${e.command} command for run ${e.runCode}${where} was not confirmed after ${e.attempts} attempts (${e.error}). The rig may not be in the state the run expects.`,
-        action: "Check the rig's controller and connection, and what it is actually doing (set point, bias) before the run goes on.",
-        details: { cmdId: e.cmdId, command: e.command, attempts: e.attempts, error: e.error },
-      });
+      await alarms.raise(commandFailedAlarm(e));
       return;
     }
     case 'read-point-due': {
@@ -98,8 +91,49 @@ export async function handleRunEvent(ctx: AppContext, e: RunEvent): Promise<void
       if (e.to === 'stressing' || e.to === 'finished' || e.to === 'aborted') {
         await alarms.clear('ambient-not-reached', e.rigId, null, { runState: e.to });
       }
-      await alarms.clear('command-failed', e.rigId, null, { runState: e.to });
+      if (e.to !== 'fault') await alarms.clear('command-failed', e.rigId, null, { runState: e.to });
       return;
     }
   }
+}
+
+/**
+ * The alarm for a refused or unanswered rig command, in the operator's words: what the rig said,
+ * what Emberlot did (the run is in fault, bias off), and one thing to do. The command's internal id
+ * stays in the details, out of the text.
+ */
+export function commandFailedAlarm(e: Omit<CommandFailedEvent, 'at'>): RaiseAlarmInput {
+  const where = e.rigCode ? ` on ${e.rigCode}` : '';
+  const rig = e.rigCode ?? 'The rig';
+  const what = e.command === 'setpoint' ? 'chamber set-point' : e.biasOn === false ? 'bias-off' : 'bias-on';
+  const words = commandErrorWords(e.error);
+  const happened = e.refused
+    ? `${rig} refused the ${what} command for run ${e.runCode}: "${words}".`
+    : `${rig} did not confirm the ${what} command for run ${e.runCode} after ${e.attempts} attempts (${words}).`;
+  const consequence = e.faulted
+    ? ' The run is in fault: Emberlot asks the rig to remove bias from its sockets, and no stress hours count until someone retries after the fix or aborts the run.'
+    : ' The rig may not be in the state the run expects.';
+  return {
+    kind: 'command-failed',
+    severity: 'critical',
+    rigId: e.rigId,
+    runId: e.runId,
+    socketIndex: null,
+    title: e.faulted
+      ? `Run ${e.runCode}${where} in fault: ${what} command ${e.refused ? 'refused' : 'not confirmed'}`
+      : `Run ${e.runCode}${where}: ${what} command ${e.refused ? 'refused' : 'not confirmed'}`,
+    message: happened + consequence,
+    action: e.faulted
+      ? "Check at the rig what it is doing (set point, bias) and fix the cause (board fitted, socket count, supply, controller) before choosing Retry after fix on the run page; abort the run if it cannot go on. The rig's hardware interlocks remain the primary protection."
+      : "Check at the rig what it is doing (set point, bias) and its controller and connection before the run goes on. The rig's hardware interlocks remain the primary protection.",
+    details: {
+      cmdId: e.cmdId,
+      rigCommand: e.command,
+      biasOn: e.biasOn ?? null,
+      attempts: e.attempts,
+      error: e.error,
+      refused: e.refused ?? false,
+      runInFault: e.faulted ?? false,
+    },
+  };
 }

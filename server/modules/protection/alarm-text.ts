@@ -7,9 +7,13 @@ import type { ProtectionDevice, SocketAssessment, SocketSample } from '../../../
 import type { RaiseAlarmInput } from '../alarms/alarms.service';
 import type { AmbientOut, BiasOff, LeakageJump } from './judge';
 import type { RunContext } from './run-context';
+import { commandErrorWords } from '../alarms/command-words';
 
 export const TRIP_ACTION =
   "Leave the socket de-energised; check heat sinking and bias before a reset; the rig's hardware interlocks remain the primary protection.";
+/** The one instruction when the rig did not confirm a trip: the socket may still be energised. */
+export const tripUnconfirmedAction = (socket: number, rigCode: string) =>
+  `Remove bias from socket ${socket} at ${rigCode} now with the rig's own controls and keep it off; do not open a hot or energised oven. Once it is off, check heat sinking and bias before a reset. The rig's hardware interlocks remain the primary protection.`;
 export const WARN_ACTION =
   "Watch this socket and check its heat sinking (clamp, pad, airflow) and bias. Emberlot trips it if the junction keeps heading for its rating; the rig's hardware interlocks remain the primary protection.";
 export const OFFLINE_ACTION =
@@ -107,11 +111,20 @@ export const tripCommandReason = (a: SocketAssessment) => clip(`Emberlot protect
 /** The reason stored on the run socket. */
 export const tripRecordReason = (a: SocketAssessment) => clip(a.reason, 1000);
 
-/** A trip's alarm before the rig answered, and its message once it did (tripOutcome). */
+/**
+ * A trip's alarm before the rig answered, and its message once it did (tripOutcome). `baseMessage`
+ * is "<where>: <reason>. <numbers>"; each outcome says in its own words what happened to the bias.
+ */
 export interface TripAlarm {
   input: RaiseAlarmInput;
   baseMessage: string;
+  rigCode: string;
 }
+
+const SENT = 'Emberlot is removing bias from ';
+const DONE = 'Emberlot removed bias from ';
+const TRIED = 'Emberlot sent a trip to ';
+const NOT_CONFIRMED = ' The rig did not confirm the trip';
 
 export function tripAlarm(
   p: SocketPlace,
@@ -125,9 +138,10 @@ export function tripAlarm(
   const { rigCode, socket } = p;
   const details = { ...assessmentDetails(a, device, sample, serial), cmdId, command: 'sent' };
   const where = `socket ${socket} on ${rigCode}${serial ? ` (device ${serial}` + (run.runCode ? `, run ${run.runCode})` : ')') : run.runCode ? ` (run ${run.runCode})` : ''}`;
-  const baseMessage = `Emberlot removed bias from ${where}: ${a.reason}. ${numbersText(a, device)}`;
+  const baseMessage = `${where}: ${a.reason}. ${numbersText(a, device)}`;
   return {
     baseMessage,
+    rigCode,
     input: {
       kind: 'runaway-trip',
       severity: 'critical',
@@ -135,32 +149,41 @@ export function tripAlarm(
       runId: run.runId,
       socketIndex: socket,
       title: `Socket ${socket} on ${rigCode} tripped: runaway`,
-      message: baseMessage,
+      message: SENT + baseMessage,
       action: TRIP_ACTION,
       details,
     },
   };
 }
 
-/** The trip alarm once the rig confirmed the command, or did not (then: remove bias at the rig). */
+/**
+ * The trip alarm once the rig confirmed the command, or did not. Not confirmed, message and action
+ * give one instruction (remove bias at the rig now: the socket may still be energised), with the
+ * failure in words, never the command's internal id.
+ */
 export function tripOutcome(trip: TripAlarm, outcome: { ok: true } | { ok: false; error: string }): RaiseAlarmInput {
+  const { input } = trip;
+  const socket = input.socketIndex ?? 0;
   const message = outcome.ok
-    ? `${trip.baseMessage} The rig confirmed the trip.`
-    : `${trip.baseMessage} The rig did NOT confirm the trip command (${outcome.error}): remove bias from this socket at the rig now.`;
+    ? `${DONE}${trip.baseMessage} The rig confirmed the trip.`
+    : `${TRIED}${trip.baseMessage}${NOT_CONFIRMED} (${commandErrorWords(outcome.error)}), so the socket may still be energised.`;
   return {
-    ...trip.input,
+    ...input,
     message,
+    action: outcome.ok ? TRIP_ACTION : tripUnconfirmedAction(socket, trip.rigCode),
     details: {
-      ...trip.input.details,
+      ...input.details,
       command: outcome.ok ? 'confirmed' : 'not confirmed',
       commandError: outcome.ok ? null : outcome.error,
     },
   };
 }
 
-/** An earlier trip alarm's message once a resent command was confirmed. */
+/** An earlier trip alarm's message once a resent command was confirmed (its action: TRIP_ACTION again). */
 export const confirmedLaterMessage = (message: string) =>
-  message.replace(/ The rig did NOT confirm.*$/, ' The rig confirmed the trip on a later attempt.');
+  message.startsWith(TRIED)
+    ? DONE + message.slice(TRIED.length).replace(/ The rig did not confirm the trip.*$/, ' The rig confirmed the trip on a later attempt.')
+    : message;
 
 export function rigOfflineAlarm(s: { rigId: string; rigCode: string; at: Date }, run: RunContext | null): RaiseAlarmInput {
   const when = s.at.toISOString().slice(0, 19).replace('T', ' ');

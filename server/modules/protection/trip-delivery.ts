@@ -10,7 +10,7 @@ import type { ProtectionDevice, SocketAssessment, SocketSample } from '../../../
 import type { AppContext } from '../../context';
 import type { AlarmsService } from '../alarms/alarms.service';
 import type { RigLink } from '../telemetry/contracts';
-import { confirmedLaterMessage, tripAlarm, tripOutcome, tripRecordReason, type SocketPlace } from './alarm-text';
+import { TRIP_ACTION, confirmedLaterMessage, tripAlarm, tripOutcome, tripRecordReason, type SocketPlace } from './alarm-text';
 import type { ConditionAlarms } from './conditions';
 import type { SocketState } from './judge';
 import { markSocketTripped } from './protection.data';
@@ -100,7 +100,7 @@ export class TripDelivery {
       socketIndex: place.socket,
       title: a.title,
       message: confirmedLaterMessage(a.message),
-      action: a.action,
+      action: TRIP_ACTION,
       details: { ...a.details, command: 'confirmed', commandError: null },
     });
   }

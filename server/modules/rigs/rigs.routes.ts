@@ -3,6 +3,7 @@ import {
   createRigSchema,
   maintenanceInputSchema,
   revokeRigSchema,
+  serviceRecordInputSchema,
   rigCodeParamSchema,
   rigMaintenanceParamSchema,
   updateRigSchema,
@@ -25,6 +26,15 @@ export function rigsRoutes(ctx: AppContext): ApiRouter {
   );
   r.post('/:code/revoke', { access: rolesFor('rig.manage'), params: rigCodeParamSchema, body: revokeRigSchema }, ({ user, params, body }) =>
     svc.revoke(user, params.code, body.reason),
+  );
+  // The start permit's dates: calibration due, last interlock test (each entry kept as a record).
+  r.get('/:code/service-records', { access: rolesFor('rig.read'), params: rigCodeParamSchema }, async ({ params }) => ({
+    items: await svc.listServiceRecords(params.code),
+  }));
+  r.post(
+    '/:code/service-records',
+    { access: rolesFor('rig.manage'), params: rigCodeParamSchema, body: serviceRecordInputSchema, status: 201 },
+    ({ user, params, body }) => svc.addServiceRecord(user, params.code, body),
   );
   r.get('/:code/maintenance', { access: rolesFor('rig.read'), params: rigCodeParamSchema }, async ({ params }) => ({
     items: await svc.listMaintenance(params.code),

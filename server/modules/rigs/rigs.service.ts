@@ -2,8 +2,12 @@ import { randomBytes } from 'node:crypto';
 import bcrypt from 'bcryptjs';
 import type { EntityManager } from 'typeorm';
 import type { SessionUser } from '../../../shared/schemas/auth';
+import { interlockDueAt } from '../../../shared/domain/standards';
 import {
   rigMqttUsernameFor,
+  RIG_SERVICE_KINDS,
+  type RigServiceRecord,
+  type ServiceRecordInput,
   type CreateRigInput,
   type MaintenanceInput,
   type MaintenanceWindow,
@@ -12,8 +16,8 @@ import {
   type UpdateRigInput,
 } from '../../../shared/schemas/rigs';
 import type { AppContext } from '../../context';
-import { RigEntity, RigMaintenanceEntity } from '../../db/entities';
-import { conflict, notFound, unprocessable } from '../../http/errors';
+import { RigEntity, RigMaintenanceEntity, RigServiceRecordEntity, UserEntity } from '../../db/entities';
+import { badRequest, conflict, notFound, unprocessable } from '../../http/errors';
 import { BCRYPT_ROUNDS } from '../users/users.service';
 import { overlappingMaintenance } from './rigs.data';
 
@@ -38,6 +42,9 @@ export function toRig(r: RigEntity): Rig {
     chamberC: r.chamberC,
     setpointC: r.setpointC,
     humidityPct: r.humidityPct,
+    calibrationDueAt: r.calibrationDueAt?.toISOString() ?? null,
+    interlockTestedAt: r.interlockTestedAt?.toISOString() ?? null,
+    interlockDueAt: r.interlockTestedAt ? interlockDueAt(r.interlockTestedAt).toISOString() : null,
     createdAt: r.createdAt.toISOString(),
   };
 }
@@ -192,6 +199,65 @@ export class RigsService {
     // After COMMIT, so a rig reconnecting at once is refused by the broker's database check.
     const disconnectRequested = await this.kick(code);
     return { ...toRig(rig), disconnectRequested };
+  }
+
+  async listServiceRecords(code: string): Promise<RigServiceRecord[]> {
+    const rig = await this.findByCode(code);
+    const rows = await this.ds
+      .getRepository(RigServiceRecordEntity)
+      .find({ where: { rigId: rig.id }, order: { doneAt: 'DESC', createdAt: 'DESC' } });
+    const ids = [...new Set(rows.map((r) => r.createdById).filter((x): x is string => !!x))];
+    const users = ids.length ? await this.ds.getRepository(UserEntity).findBy(ids.map((id) => ({ id }))) : [];
+    const names = new Map(users.map((u) => [u.id, u.name]));
+    return rows.map((r) => ({
+      id: r.id,
+      rigCode: rig.code,
+      kind: RIG_SERVICE_KINDS.find((k) => k === r.kind) ?? 'calibration',
+      doneAt: r.doneAt.toISOString(),
+      dueAt: r.dueAt?.toISOString() ?? null,
+      note: r.note,
+      byName: r.createdById ? (names.get(r.createdById) ?? null) : null,
+      createdAt: r.createdAt.toISOString(),
+    }));
+  }
+
+  /**
+   * A calibration or interlock test entered by an admin: kept as a record, and the rig's date moves
+   * to it (the start permit reads the rig's dates). Work done in the future is refused.
+   */
+  async addServiceRecord(actor: SessionUser, code: string, input: ServiceRecordInput): Promise<Rig> {
+    const doneAt = new Date(`${input.doneOn}T00:00:00Z`);
+    const now = this.ctx.now();
+    if (doneAt.getTime() > now.getTime()) {
+      const what = input.kind === 'calibration' ? 'calibration' : 'interlock test';
+      throw badRequest(`The ${what} date ${input.doneOn} lies in the future; enter work that was done.`, { doneOn: ['Not in the future'] });
+    }
+    const dueAt = input.kind === 'calibration' ? new Date(`${input.dueOn}T00:00:00Z`) : null;
+    return this.ds.transaction(async (m) => {
+      const rig = await this.findByCode(code, m, true);
+      const rec = await m.save(
+        m.create(RigServiceRecordEntity, { rigId: rig.id, kind: input.kind, doneAt, dueAt, note: input.note, createdById: actor.id }),
+      );
+      const before = {
+        calibrationDueAt: rig.calibrationDueAt?.toISOString() ?? null,
+        interlockTestedAt: rig.interlockTestedAt?.toISOString() ?? null,
+      };
+      if (input.kind === 'calibration') rig.calibrationDueAt = dueAt;
+      else if (!rig.interlockTestedAt || doneAt.getTime() >= rig.interlockTestedAt.getTime()) rig.interlockTestedAt = doneAt;
+      await m.update(RigEntity, { id: rig.id }, { calibrationDueAt: rig.calibrationDueAt, interlockTestedAt: rig.interlockTestedAt });
+      await this.ctx.audit.record(
+        {
+          actor,
+          action: input.kind === 'calibration' ? 'rig.calibration' : 'rig.interlock-test',
+          entity: 'rig',
+          entityId: rig.id,
+          reason: input.note || null,
+          details: { recordId: rec.id, doneOn: input.doneOn, ...(input.kind === 'calibration' ? { dueOn: input.dueOn } : {}), before },
+        },
+        m,
+      );
+      return toRig(rig);
+    });
   }
 
   async listMaintenance(code: string): Promise<MaintenanceWindow[]> {

@@ -115,6 +115,7 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
       holdPhase: r.state === 'read-hold' || r.state === 'cooling' ? r.holdPhase : null,
       holdPhaseSince: r.state === 'read-hold' || r.state === 'cooling' ? iso(r.holdPhaseSince) : null,
       abortReason: r.abortReason,
+      fault: r.faultAt && r.faultReason ? { at: r.faultAt.toISOString(), reason: r.faultReason } : null,
       override: r.overrideReason
         ? { reason: r.overrideReason, byName: r.overrideById ? (users.get(r.overrideById)?.name ?? null) : null }
         : null,

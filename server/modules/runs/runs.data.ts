@@ -174,3 +174,14 @@ export function devicesInOpenRuns(
     [deviceIds, exceptRunId],
   );
 }
+
+/** Serials of the run's loaded devices that have no reading at time zero (read point 0 h) for this run, in socket order. */
+export async function devicesWithoutTimeZero(m: EntityManager, runId: string): Promise<Array<{ socket_index: number; serial: string }>> {
+  return m.query(
+    `SELECT s.socket_index, d.serial FROM run_sockets s JOIN devices d ON d.id = s.device_id
+     WHERE s.run_id = $1
+       AND NOT EXISTS (SELECT 1 FROM measurements x WHERE x.run_id = s.run_id AND x.device_id = s.device_id AND x.read_point_h = 0)
+     ORDER BY s.socket_index`,
+    [runId],
+  );
+}

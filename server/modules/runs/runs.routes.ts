@@ -4,10 +4,12 @@ import {
   bookRunSchema,
   bookSampleSchema,
   proposalInputSchema,
+  retryRunSchema,
   runActionSchema,
   runIdParamSchema,
   runListQuerySchema,
   socketLoadSchema,
+  startRunSchema,
   timelineQuerySchema,
 } from '../../../shared/schemas/runs';
 import type { AppContext } from '../../context';
@@ -26,7 +28,16 @@ export function runsRoutes(ctx: AppContext): ApiRouter {
   r.put('/:id/sockets', { access: rolesFor('run.load'), params: runIdParamSchema, body: socketLoadSchema }, ({ user, params, body }) =>
     svc.loadSockets(user, params.id, body),
   );
-  for (const action of ['start', 'pause', 'resume', 'measurements-done'] as const) {
+  // The start permit (every check Start makes) and Start itself, which needs the confirmation.
+  r.get('/:id/permit', { access: 'signed-in', params: runIdParamSchema }, ({ params }) => svc.permit(params.id));
+  r.post('/:id/start', { access: rolesFor('run.start'), params: runIdParamSchema, body: startRunSchema }, ({ user, params, body }) =>
+    svc.act(user, params.id, 'start', body),
+  );
+  // Out of the fault state once the cause is fixed (what was fixed is audited).
+  r.post('/:id/retry', { access: rolesFor('run.retry'), params: runIdParamSchema, body: retryRunSchema }, ({ user, params, body }) =>
+    svc.act(user, params.id, 'retry', body),
+  );
+  for (const action of ['pause', 'resume', 'measurements-done'] as const) {
     r.post(
       `/:id/${action}`,
       { access: rolesFor(`run.${action}`), params: runIdParamSchema, body: runActionSchema },

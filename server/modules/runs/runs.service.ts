@@ -35,6 +35,9 @@ import {
   type Run,
   type RunAction,
   type RunActionInput,
+  type RetryRunInput,
+  type StartPermit,
+  type StartRunInput,
   type RunDetail,
   type RunState,
   type SocketFlag,
@@ -64,6 +67,7 @@ import { maxSeq } from './telemetry-reads';
 import { emitRunEvent, type PendingRunEvent } from './run-events';
 import { planRef, sampleView, socketsTakenOnRig, toRunDetail, toRuns } from './run-view';
 import { loadSchedulingInputs, projectedWindow, SCHEDULED_STATES, timingFrom } from './scheduling-data';
+import { chamberConflict, startPermit } from './start-permit';
 import { advisoryXactLock, bumpRunRowVersion, devicesBySerial, devicesInOpenRuns, timelineRuns } from './runs.data';
 
 /** Serialises bookings (one transaction at a time decides who gets a rig window). */
@@ -102,11 +106,6 @@ const needsOf = (plan: StressPlanEntity, sampleSize: number): RunNeeds => ({
   durationH: plan.durationH,
   readPointsH: plan.readPointsH,
 });
-
-const condition = (p: Pick<StressPlanEntity, 'chamberC' | 'chamberBand' | 'humidityPct'>) => {
-  const c = `${+chamberSetpointC(p.chamberC, p.chamberBand).toFixed(2)} °C`;
-  return p.humidityPct === null ? c : `${c} / ${+p.humidityPct.toFixed(2)} % RH`;
-};
 
 /**
  * How far booking may follow a proposed start that slid (see book): 1 clock hour, or 5 % of the
@@ -683,9 +682,30 @@ export class RunsService {
     return conflict(`Run ${run.code} is ${RUN_STATE_LABEL[run.state].toLowerCase()}; "${RUN_ACTION_LABEL[action]}" is not possible now.`);
   }
 
-  async act(actor: SessionUser, id: string, action: Exclude<RunAction, 'load' | 'abort'>, input: RunActionInput): Promise<RunDetail>;
-  async act(actor: SessionUser, id: string, action: 'abort', input: AbortRunInput): Promise<RunDetail>;
-  async act(actor: SessionUser, id: string, action: Exclude<RunAction, 'load'>, input: RunActionInput | AbortRunInput): Promise<RunDetail> {
+  /** The start permit: every check Start makes, and what the person will be asked to confirm. */
+  async permit(id: string): Promise<StartPermit> {
+    const m = this.ds.manager;
+    const run = await m.findOneBy(RunEntity, { id });
+    if (!run) throw notFound('The run');
+    const rig = run.rigId ? await m.findOneBy(RigEntity, { id: run.rigId }) : null;
+    const plan = await m.findOneByOrFail(StressPlanEntity, { id: run.planId });
+    return startPermit(m, run, rig, plan, needsOf(plan, run.sampleSize), this.ctx.now().getTime());
+  }
+
+  async act(
+    actor: SessionUser,
+    id: string,
+    action: Exclude<RunAction, 'load' | 'abort' | 'start' | 'retry'>,
+    input: RunActionInput,
+  ): Promise<RunDetail>;
+  async act(actor: SessionUser, id: string, action: 'start', input: StartRunInput): Promise<RunDetail>;
+  async act(actor: SessionUser, id: string, action: 'abort' | 'retry', input: AbortRunInput | RetryRunInput): Promise<RunDetail>;
+  async act(
+    actor: SessionUser,
+    id: string,
+    action: Exclude<RunAction, 'load'>,
+    input: RunActionInput | AbortRunInput | StartRunInput | RetryRunInput,
+  ): Promise<RunDetail> {
     const events: PendingRunEvent[] = [];
     await this.ds.transaction(async (m) => {
       const run = await this.lockRun(m, id, input.rowVersion);
@@ -695,7 +715,13 @@ export class RunsService {
       const a: ActionContext = { m, actor, run, rig, plan, now: this.ctx.now(), reason: input.reason?.trim() || null };
       switch (action) {
         case 'start':
+          if (!('confirm' in input) || input.confirm !== true) {
+            throw unprocessable("Confirm the plan's voltage and temperature before starting; nothing was started.");
+          }
           events.push(await this.startRun(a));
+          break;
+        case 'retry':
+          events.push(await this.retryRun(a));
           break;
         case 'pause':
           events.push(...(await this.pauseRun(a)));
@@ -727,7 +753,11 @@ export class RunsService {
   private async startRun(a: ActionContext): Promise<PendingRunEvent> {
     const { m, actor, run, rig, plan, now, reason } = a;
     if (!rig) throw unprocessable(`Run ${run.code} has no rig.`);
-    await this.checkStart(m, run, rig, plan, now.getTime());
+    const permit = await startPermit(m, run, rig, plan, needsOf(plan, run.sampleSize), now.getTime());
+    const failed = permit.checks.filter((c) => !c.ok);
+    if (failed.length) {
+      throw unprocessable(`Run ${run.code} cannot start: ${failed.map((c) => c.message).join(' ')} Nothing was started.`, { permit });
+    }
     return transitionRun(
       m,
       this.deps,
@@ -739,7 +769,44 @@ export class RunsService {
         actor,
         action: 'run.start',
         reason,
-        details: { rig: rig.code, setC: plan.chamberC, humidityPct: plan.humidityPct },
+        details: {
+          rig: rig.code,
+          setC: plan.chamberC,
+          humidityPct: plan.humidityPct,
+          confirmed: { chamberC: plan.chamberC, biasV: permit.confirm.biasV, bias: permit.confirm.biasText },
+          permit: permit.checks.map((c) => c.message),
+        },
+      },
+    );
+  }
+
+  /**
+   * Leave the fault state after the cause was fixed: the run heats again (new command ids, so the
+   * rig gets fresh commands) and the same permit checks as at start must pass; the person says what
+   * was fixed (audited). A rig that still refuses puts the run back into fault.
+   */
+  private async retryRun(a: ActionContext): Promise<PendingRunEvent> {
+    const { m, actor, run, rig, plan, now, reason } = a;
+    if (!rig) throw unprocessable(`Run ${run.code} has no rig.`);
+    const permit = await startPermit(m, run, rig, plan, needsOf(plan, run.sampleSize), now.getTime());
+    const failed = permit.checks.filter((c) => !c.ok);
+    if (failed.length) {
+      throw unprocessable(`Run ${run.code} cannot heat again yet: ${failed.map((c) => c.message).join(' ')} It stays in fault.`, {
+        permit,
+      });
+    }
+    return transitionRun(
+      m,
+      this.deps,
+      run,
+      rig,
+      'heating',
+      { ambientReachedAt: null, ...(await this.reheat(a)) },
+      {
+        actor,
+        action: 'run.retry',
+        reason,
+        details: { fault: run.faultReason, faultAt: run.faultAt?.toISOString() ?? null, stressHours: run.stressHours },
       },
     );
   }
@@ -833,28 +900,7 @@ export class RunsService {
 
   /** One chamber condition per oven: runs already heated in it must share the plan's set point. */
   private async checkChamberFree(m: EntityManager, run: RunEntity, rig: RigEntity, plan: StressPlanEntity) {
-    const others = await m.find(RunEntity, { where: { rigId: rig.id, state: In([...DRIVEN_STATES]), id: Not(run.id) } });
-    for (const o of others) {
-      const op = await m.findOneByOrFail(StressPlanEntity, { id: o.planId });
-      const same = chamberSetpointC(op.chamberC, op.chamberBand) === chamberSetpointC(plan.chamberC, plan.chamberBand);
-      if (!same || (op.humidityPct ?? null) !== (plan.humidityPct ?? null)) {
-        throw conflict(`Oven ${rig.code} holds run ${o.code} at ${condition(op)}; this plan needs ${condition(plan)}.`);
-      }
-    }
-  }
-
-  private async checkStart(m: EntityManager, run: RunEntity, rig: RigEntity, plan: StressPlanEntity, nowMs: number) {
-    if (!rig.active) throw unprocessable(`Oven ${rig.code} is decommissioned.`);
-    const loaded = await m.count(RunSocketEntity, { where: { runId: run.id } });
-    if (loaded !== run.sampleSize) {
-      throw unprocessable(`Load all ${run.sampleSize} devices before starting; ${loaded} socket${loaded === 1 ? ' is' : 's are'} loaded.`);
-    }
-    const maint = await m.find(RigMaintenanceEntity, { where: { rigId: rig.id } });
-    const now = maint.find((x) => x.startsAt.getTime() <= nowMs && x.endsAt.getTime() > nowMs);
-    if (now)
-      throw conflict(`Oven ${rig.code} is in maintenance until ${when(now.endsAt.getTime())}${now.reason ? ` (${now.reason})` : ''}.`);
-    const refusals = staticRefusals(rig, needsOf(plan, run.sampleSize));
-    if (refusals.length) throw unprocessable(refusals.join(' '));
-    await this.checkChamberFree(m, run, rig, plan);
+    const clash = await chamberConflict(m, run, rig, plan);
+    if (clash) throw conflict(clash);
   }
 }

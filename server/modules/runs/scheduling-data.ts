@@ -53,7 +53,8 @@ export function projectedWindow(
   const remainingH = Math.max(0, plan.durationH - run.stressHours);
   const ahead = intermediateReadPoints(plan.readPointsH, plan.durationH).filter((h) => h > run.stressHours).length;
   const holding = run.state === 'read-hold' ? 1 : 0;
-  const heat = run.state === 'heating' || run.state === 'paused' || run.state === 'read-hold' ? t.heatingAllowanceH : 0;
+  const heat =
+    run.state === 'heating' || run.state === 'paused' || run.state === 'read-hold' || run.state === 'fault' ? t.heatingAllowanceH : 0;
   const remainingMs = (remainingH + (ahead + holding) * t.holdPerReadPointH + heat) * t.msPerClockH;
   const startMs = run.startedAt?.getTime() ?? booked.startMs;
   return { startMs, endMs: Math.max(booked.endMs, nowMs + remainingMs) };

@@ -138,3 +138,15 @@ export async function clockElapsedS(
   );
   return { elapsedS: Number(r.elapsed), lastChamberC: r.last_c === null ? null : Number(r.last_c) };
 }
+
+/** The sockets in the rig's latest stored telemetry (what the rig itself reports), with that message's time; null = it never reported. */
+export async function reportedSockets(m: EntityManager, rigId: string): Promise<{ sockets: number[]; ts: Date } | null> {
+  const rows: Array<{ socket: number | null; ts: Date | string }> = await m.query(
+    `SELECT s.socket, b.ts FROM (SELECT seq, ts FROM telemetry_batches WHERE rig_id = $1 ORDER BY seq DESC LIMIT 1) b
+     LEFT JOIN telemetry_samples s ON s.rig_id = $1 AND s.seq = b.seq ORDER BY s.socket`,
+    [rigId],
+  );
+  if (!rows.length) return null;
+  const ts = rows[0].ts instanceof Date ? rows[0].ts : new Date(rows[0].ts);
+  return { sockets: rows.filter((r) => r.socket !== null).map((r) => Number(r.socket)), ts };
+}

@@ -20,11 +20,27 @@ export interface CommandOutcome {
   ok: boolean;
   attempts: number;
   error?: string;
+  /** The rig answered ok:false (it will refuse again); false = no answer in time or no link. */
+  refused: boolean;
+}
+
+/** The rig's ok:false answer: reported at once (a resend gets the same answer), unlike a missing ack. */
+class RefusedByRig extends Error {}
+
+/**
+ * The rig's own words when it refused: an ok:false ack, or the MQTT link's RigCommandError with
+ * reason 'refused' (it rejects instead of resolving); null for a missing answer.
+ */
+function refusal(err: unknown): string | null {
+  if (err instanceof RefusedByRig) return err.message;
+  const e = err as { reason?: unknown; rigError?: unknown; message?: unknown } | null;
+  if (e && e.reason === 'refused') return typeof e.rigError === 'string' ? e.rigError : String(e.message ?? 'the rig refused the command');
+  return null;
 }
 
 /** Retry after 2, 4, 8 … s, at most a minute apart. */
 export const backoffMs = (attempts: number) => Math.min(60_000, 1000 * 2 ** attempts);
-/** Report a failing command after this many attempts (and every 10 after). */
+/** Report a command the rig did not answer after this many attempts (and every 10 after); a refusal at once. */
 export const REPORT_AFTER_ATTEMPTS = 3;
 
 /** The newest command of one type sent to one rig, kept after the command stops being wanted. */
@@ -71,7 +87,7 @@ export class CommandTracker {
     const p: Promise<CommandAck> = link ? link.send(rigCode, cmd, { cmdId }) : Promise.reject(new Error('no rig link (MQTT not started)'));
     const done = p
       .then((ack) => {
-        if (ack && ack.ok === false) throw new Error(ack.error ?? 'the rig refused the command');
+        if (ack && ack.ok === false) throw new RefusedByRig(ack.error ?? 'the rig refused the command');
         entry.status = 'ok';
         entry.lastAt = this.now();
         // Read in the ack's own turn of the event loop: no telemetry can have arrived since it.
@@ -82,9 +98,12 @@ export class CommandTracker {
         newest.status = 'failed';
         entry.status = 'failed';
         entry.lastAt = this.now();
-        entry.error = err instanceof Error ? err.message : String(err);
-        if (attempts === REPORT_AFTER_ATTEMPTS || (attempts > REPORT_AFTER_ATTEMPTS && (attempts - REPORT_AFTER_ATTEMPTS) % 10 === 0)) {
-          this.onFailure({ cmdId, rigCode, ok: false, attempts, error: entry.error }, cmd);
+        const refusedWith = refusal(err);
+        entry.error = refusedWith ?? (err instanceof Error ? err.message : String(err));
+        const refused = refusedWith !== null;
+        const first = refused ? 1 : REPORT_AFTER_ATTEMPTS;
+        if (attempts === first || (attempts > first && (attempts - first) % 10 === 0)) {
+          this.onFailure({ cmdId, rigCode, ok: false, attempts, error: entry.error, refused }, cmd);
         }
       });
     this.inflight.add(done);

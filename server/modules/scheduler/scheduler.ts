@@ -13,6 +13,9 @@
  *               run in the oven needs the heat (run:<id>:cool:…);
  *   cooling   — → finished once the chamber is safe to open (or bias is off and the oven stays
  *               hot for another run).
+ *   fault     — bias off for the run's sockets the rig reports; nothing else until a person retries
+ *               or aborts. A command the rig refuses (at once) or leaves unanswered (after a few
+ *               attempts) moves a running run into fault, with a critical alarm (reportFailure).
  * Before any command it compares the rig's last stored report with what it wants, so a restarted
  * server sends nothing the rig already did — but a report older than a command of the same kind
  * still on its way (or acked after the report) does not count (CommandTracker.reportReflects). It also re-plans booked runs when a rig goes offline
@@ -30,19 +33,21 @@ import {
   type Job,
   when,
 } from '../../../shared/scheduling';
-import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H, chamberSetpointC } from '../../../shared/domain/standards';
+import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H, ROOM_AMBIENT_C as AMBIENT_C, chamberSetpointC } from '../../../shared/domain/standards';
+import { FAULTABLE_STATES } from '../../../shared/domain/run-states';
 import type { RunState } from '../../../shared/schemas/runs';
 import { dewPointC } from '../../../shared/holds/dew-point';
 import { coolingSetpointC, holdStep, type HoldDecision, type HoldInput } from '../../../shared/holds/sequence';
 import { readHoldSettings } from '../lab-settings/lab-settings.data';
 import type { AppContext } from '../../context';
 import type { RigEntity, RunEntity, StressPlanEntity } from '../../db/entities';
-import { MEASURE_WITHIN_H, emitRunEvent } from '../runs/run-events';
+import { MEASURE_WITHIN_H, emitRunEvent, type PendingRunEvent } from '../runs/run-events';
 import { sortedReadPoints } from '../runs/run-view';
 import { loadSchedulingInputs, projectedWindow, timingFrom } from '../runs/scheduling-data';
 import { RIG_STATUS_CHANGED, TELEMETRY_LANDED, type RigStatusChanged } from '../../events';
 import type { RigCommandBody, RigLink } from '../telemetry/contracts';
 import { CommandTracker } from './commands';
+import { commandErrorWords } from '../alarms/command-words';
 import { accrueStep, heatingStep, readPointDue, transitionRun, type EngineDeps, type StepOutcome } from '../runs/run-engine';
 import { clockElapsedS, latestBatch, socketSamples, type BatchRow } from '../runs/telemetry-reads';
 import type { SocketSample } from '../../../shared/scheduling';
@@ -98,7 +103,7 @@ export class RunScheduler {
     this.commands = new CommandTracker(
       link,
       () => ctx.now().getTime(),
-      (o, cmd) => void this.reportFailure(o.cmdId, o.rigCode, cmd, o.attempts, o.error ?? ''),
+      (o, cmd) => void this.reportFailure(o.cmdId, o.rigCode, cmd, o.attempts, o.error ?? '', o.refused),
     );
   }
 
@@ -364,6 +369,22 @@ export class RunScheduler {
       case 'read-hold':
         await hold(`rp${run.nextReadPoint - 1}`);
         break;
+      case 'fault': {
+        // Only the sockets the rig reports: a socket it does not have cannot be biased, and naming
+        // it would make the rig refuse the bias-off as well.
+        const reported = all.filter((k) => reading.has(k));
+        if (reported.length) {
+          out.push({
+            cmdId: `run:${run.id}:off:f${b36(run.faultAt)}`,
+            cmd: { type: 'bias', sockets: reported, on: false },
+            satisfied: reported.every((k) => {
+              const r = reading.get(k);
+              return !r || !r.biasOn || r.tripped;
+            }),
+          });
+        }
+        break;
+      }
       case 'cooling':
         await hold('end');
         break;
@@ -546,12 +567,32 @@ export class RunScheduler {
     });
   }
 
-  private async reportFailure(cmdId: string, rigCode: string, cmd: RigCommandBody, attempts: number, error: string): Promise<void> {
+  /**
+   * A command the rig refused or did not answer: a running run goes into fault (bias comes off, no
+   * hours count, a person retries after the fix or aborts), and a critical alarm says what happened.
+   */
+  private async reportFailure(
+    cmdId: string,
+    rigCode: string,
+    cmd: RigCommandBody,
+    attempts: number,
+    error: string,
+    refused: boolean,
+  ): Promise<void> {
     const runId = /^run:([0-9a-f-]{36}):/.exec(cmdId)?.[1];
     if (!runId) return;
     const run = await data.findRun(this.ctx.ds.manager, runId).catch(() => null);
     if (!run) return;
-    this.log(`command ${cmdId} to ${rigCode} failed ${attempts}×: ${error}`);
+    this.log(`command ${cmdId} to ${rigCode} ${refused ? 'refused' : 'unanswered'} (${attempts}×): ${error}`);
+    const command = cmd.type === 'setpoint' ? 'setpoint' : 'bias';
+    const biasOn = cmd.type === 'bias' ? cmd.on : undefined;
+    let faulted: PendingRunEvent | null = null;
+    try {
+      faulted = await this.faultRun(runId, rigCode, { command, biasOn, attempts, error, refused, cmdId });
+    } catch (e) {
+      this.log(`run ${run.code}: could not record the fault: ${e instanceof Error ? e.message : String(e)}`);
+    }
+    if (faulted) emitRunEvent(this.ctx, faulted);
     emitRunEvent(this.ctx, {
       type: 'command-failed',
       runId,
@@ -559,9 +600,47 @@ export class RunScheduler {
       rigId: run.rigId,
       rigCode,
       cmdId,
-      command: cmd.type === 'setpoint' ? 'setpoint' : 'bias',
+      command,
+      ...(biasOn === undefined ? {} : { biasOn }),
       attempts,
       error,
+      refused,
+      faulted: !!faulted,
+    });
+  }
+
+  /** Running run → fault (locked, audited as run.fault); null when the run is not in a state that faults. */
+  private async faultRun(
+    runId: string,
+    rigCode: string,
+    f: { command: 'setpoint' | 'bias'; biasOn?: boolean; attempts: number; error: string; refused: boolean; cmdId: string },
+  ): Promise<PendingRunEvent | null> {
+    return this.ctx.ds.transaction(async (m) => {
+      const locked = await data.runOnRig(m, runId, true);
+      if (!locked || !FAULTABLE_STATES.includes(locked.run.state)) return null;
+      const { run, rig } = locked;
+      const reason = faultReason(rigCode, f);
+      return transitionRun(
+        m,
+        this.deps,
+        run,
+        rig,
+        'fault',
+        { faultReason: reason, faultAt: this.ctx.now() },
+        {
+          actor: 'system',
+          action: 'run.fault',
+          reason,
+          details: {
+            command: f.command,
+            biasOn: f.biasOn ?? null,
+            refused: f.refused,
+            attempts: f.attempts,
+            rigError: f.error,
+            cmdId: f.cmdId,
+          },
+        },
+      );
     });
   }
 
@@ -658,6 +737,24 @@ export class RunScheduler {
       return moved;
     });
   }
+}
+
+/** A command's name in the operator's words: "the bias-on command", "the set-point command". */
+export function commandWords(command: 'setpoint' | 'bias', biasOn?: boolean): string {
+  if (command === 'setpoint') return 'the chamber set-point command';
+  return biasOn === false ? 'the bias-off command' : 'the bias-on command';
+}
+
+/** Why a run went into fault, in the operator's words (stored on the run and in the audit). */
+export function faultReason(
+  rigCode: string,
+  f: { command: 'setpoint' | 'bias'; biasOn?: boolean; attempts: number; error: string; refused: boolean },
+): string {
+  const what = commandWords(f.command, f.biasOn);
+  const words = commandErrorWords(f.error);
+  return f.refused
+    ? `${rigCode} refused ${what}: "${words}".`
+    : `${rigCode} did not confirm ${what} after ${f.attempts} attempts (${words}).`;
 }
 
 /** Start the scheduler for the API process; returns its stop function. */

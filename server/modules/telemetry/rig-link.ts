@@ -34,6 +34,8 @@ export class RigCommandError extends Error {
     readonly rigCode: string,
     readonly cmdId: string,
     readonly reason: 'timeout' | 'refused' | 'invalid' | 'stopped',
+    /** The rig's own words when it refused (ack.error). */
+    readonly rigError: string | null = null,
   ) {
     super(message);
     this.name = 'RigCommandError';
@@ -221,6 +223,7 @@ export class MqttRigLink implements RigLink {
           rigCode,
           ack.cmdId,
           'refused',
+          ack.error ?? 'no reason given',
         ),
       );
   }

@@ -13,6 +13,7 @@ import { engineerRatings } from './ratings';
 import { operatorCorrectReading } from './records';
 import { engineerTripReset } from './trip-reset';
 import { signoffApprovalsAudit } from './signoff';
+import { operatorStartPermit } from './start-permit';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -38,5 +39,7 @@ export const JOURNEYS: Journey[] = [
   operatorCorrectReading,
   signoffApprovalsAudit,
   holdsReadPoint,
+  // Books and starts a run on OV-04 (idle in the demo): after every journey that reads the schedule.
+  operatorStartPermit,
   adminRigs,
 ];
