@@ -17,7 +17,6 @@ import {
   type RunNeeds,
   type TimingOptions,
 } from '../../../shared/scheduling';
-import { DRIVEN_STATES } from '../../../shared/domain/run-states';
 import { BIASED_HOLD_PHASES } from '../../../shared/holds/sequence';
 import { chamberSetpointC } from '../../../shared/domain/standards';
 import type { SessionUser } from '../../../shared/schemas/auth';

@@ -33,7 +33,7 @@ import {
   type Job,
   when,
 } from '../../../shared/scheduling';
-import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H, ROOM_AMBIENT_C as AMBIENT_C, chamberSetpointC } from '../../../shared/domain/standards';
+import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H, chamberSetpointC } from '../../../shared/domain/standards';
 import { FAULTABLE_STATES } from '../../../shared/domain/run-states';
 import type { RunState } from '../../../shared/schemas/runs';
 import { dewPointC } from '../../../shared/holds/dew-point';
