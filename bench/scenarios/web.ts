@@ -158,8 +158,11 @@ export async function runWeb(b: BenchEnv, log: (l: string) => void) {
       await floorReady(page);
       reloads.push(Date.now() - t);
       const after = await perf();
-      scriptMs.push(Math.round((after.script - before.script) * 1000));
-      taskMs.push(Math.round((after.task - before.task) * 1000));
+      // The metrics restart with the new document on a reload (deltas came out negative): take the
+      // new document's own totals unless they kept counting from before.
+      const fresh = after.task < before.task;
+      scriptMs.push(Math.round((fresh ? after.script : after.script - before.script) * 1000));
+      taskMs.push(Math.round((fresh ? after.task : after.task - before.task) * 1000));
       const doc = sent.find((r) => r.type === 'Document');
       const at = (re: RegExp) => sent.find((r) => re.test(new URL(r.url).pathname));
       for (const [key, re] of [
