@@ -1,7 +1,7 @@
 import { router, useLocalSearchParams, type Href } from 'expo-router';
 import { useState } from 'react';
 import { View } from 'react-native';
-import { leakageDoublingC } from '@/shared/physics';
+import { leakageDoublingC } from '@/shared/physics/doubling';
 import { ICBO_REF_C } from '@/shared/safety/plan-rules/types';
 import type { DeviceType } from '@/shared/schemas/devices';
 import { PLAN_KIND_LABEL } from '@/shared/domain/stress';

@@ -2,7 +2,7 @@ import { useState } from 'react';
 import { View } from 'react-native';
 import { VictoryAxis, VictoryChart, VictoryLegend, VictoryLine } from 'victory-native';
 import type { FloorChart } from '@/shared/schemas/floor';
-import { HOLD_PHASE_LABEL, type HoldPhase } from '@/shared/holds/sequence';
+import { HOLD_PHASE_LABEL, type HoldPhase } from '@/shared/holds/words';
 import { colors, fonts, space } from '@/components/theme/tokens';
 import { Text } from '@/components/ui/Text';
 

@@ -17,7 +17,7 @@ import { Field } from '@/components/ui/Field';
 import { QueryState } from '@/components/ui/QueryState';
 import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { Text } from '@/components/ui/Text';
-import { HOLD_SETTING_LIMITS } from '@/shared/holds/sequence';
+import { HOLD_SETTING_LIMITS } from '@/shared/holds/words';
 import type { LabSettings } from '@/shared/schemas/lab-settings';
 
 function EditForm({ s, onDone }: { s: LabSettings; onDone: () => void }) {

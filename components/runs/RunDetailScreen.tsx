@@ -26,7 +26,7 @@ import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { bandRange, measureByMs } from '@/shared/domain/standards';
 import { DRIVEN_STATES } from '@/shared/domain/run-states';
-import { DEFAULT_HOLD_SETTINGS, HOLD_PHASES, HOLD_PHASE_LABEL, holdPhaseText } from '@/shared/holds/sequence';
+import { DEFAULT_HOLD_SETTINGS, HOLD_PHASES, HOLD_PHASE_LABEL, holdPhaseText } from '@/shared/holds/words';
 import { RUN_ACTIONS, RUN_ACTION_LABEL } from '@/shared/domain/run-states';
 import type { RunAction, RunDetail, RunSocket, SocketFlag, SocketLoadResult } from '@/shared/schemas/runs';
 import { RUN_STATE_TONE, columnToSocketMap, hours } from './run-look';

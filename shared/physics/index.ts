@@ -302,10 +302,8 @@ export const SILICON_EG_EV = 1.12;
  */
 export const LEAKAGE_VOLTAGE_EXPONENT = 0.5;
 
-/** Temperature step per doubling from two points: (t2 − t1)·ln2 / ln(i2/i1) (°C per doubling). */
-export function leakageDoublingC(p: { i1A: number; t1C: number; i2A: number; t2C: number }): number {
-  return ((p.t2C - p.t1C) * Math.LN2) / Math.log(p.i2A / p.i1A);
-}
+import { leakageDoublingC } from './doubling';
+export { leakageDoublingC };
 
 /**
  * Diffusion leakage ∝ n_i² ∝ T³·exp(−Eg/kT): the ratio I(t2)/I(t1) [memory: Sze, p-n junction
