@@ -71,3 +71,14 @@ export const UNIT_LABEL: Record<string, string> = { pA: 'pA', nA: 'nA', uA: 'µA
 
 export const UPLOAD_MAX_BYTES = 2 * 1024 * 1024;
 export const UPLOAD_MAX_ROWS = 5000;
+
+/** A reading's measured values and their test conditions, in SI units (A, V); null where not measured. */
+export interface ReadingValues {
+  hfe: number | null;
+  hfeIcA: number | null;
+  hfeVceV: number | null;
+  icboA: number | null;
+  icboVcbV: number | null;
+  vcesatV: number | null;
+  bvceoV: number | null;
+}

@@ -15,6 +15,7 @@
  *   GET  /api/measurements/uploads/:uploadId/file                     the uploaded file, byte for byte
  */
 import { z } from 'zod';
+import type { ReadingValues } from '../domain/measurement-columns';
 import { num } from './devices';
 import { MEASUREMENT_RESULTS, type MeasurementResult } from '../evidence';
 import { CORRECTION_REASON_MIN, type RecordDeviationKind } from '../domain/records';
@@ -257,19 +258,12 @@ export interface MeasurementRunDetail extends MeasurementRunSummary {
   devices: RunDevice[];
 }
 
-export interface StoredReading {
+export interface StoredReading extends ReadingValues {
   id: string;
   deviceId: string;
   serial: string;
   lotCode: string;
   readPointH: number;
-  hfe: number | null;
-  hfeIcA: number | null;
-  hfeVceV: number | null;
-  icboA: number | null;
-  icboVcbV: number | null;
-  vcesatV: number | null;
-  bvceoV: number | null;
   measuredC: number;
   measuredAt: string;
   late: boolean;
@@ -287,19 +281,12 @@ export interface StoredReading {
 }
 
 /** One version of a reading (GET …/runs/:runId/devices/:deviceId/history). */
-export interface ReadingVersion {
+export interface ReadingVersion extends ReadingValues {
   measurementId: string;
   readPointH: number;
   version: number;
   current: boolean;
   result: MeasurementResult;
-  hfe: number | null;
-  hfeIcA: number | null;
-  hfeVceV: number | null;
-  icboA: number | null;
-  icboVcbV: number | null;
-  vcesatV: number | null;
-  bvceoV: number | null;
   measuredC: number;
   measuredAt: string;
   late: boolean;

@@ -4,6 +4,7 @@
  * corrections, record deviations) that evidence, analytics and sign-off call.
  */
 import type { EntityManager, QueryDeepPartialEntity } from 'typeorm';
+import type { ReadingValues } from '../../../shared/domain/measurement-columns';
 import { DeviceEntity, LotEntity, MeasurementEntity } from '../../db/entities';
 import type { MeasurementResult } from '../../../shared/evidence';
 
@@ -69,7 +70,7 @@ type SqlRow = Record<string, any>;
 const n = (v: unknown) => (v === null || v === undefined ? null : Number(v));
 
 /** One version of one reading, as the history and the exports show it. */
-export interface ReadingVersionRow {
+export interface ReadingVersionRow extends ReadingValues {
   measurementId: string;
   runId: string;
   runCode: string;
@@ -81,13 +82,6 @@ export interface ReadingVersionRow {
   /** The version `measurements` holds now (the current one). */
   currentVersion: number;
   result: MeasurementResult;
-  hfe: number | null;
-  hfeIcA: number | null;
-  hfeVceV: number | null;
-  icboA: number | null;
-  icboVcbV: number | null;
-  vcesatV: number | null;
-  bvceoV: number | null;
   measuredC: number;
   measuredAt: Date;
   late: boolean;
@@ -176,20 +170,13 @@ export async function recordDeviationVersions(
 }
 
 /** One current reading of a lot's device (the latest version only). */
-export interface CurrentLotReading {
+export interface CurrentLotReading extends ReadingValues {
   measurementId: string;
   runId: string;
   deviceId: string;
   readPointH: number;
   version: number;
   result: MeasurementResult;
-  hfe: number | null;
-  hfeIcA: number | null;
-  hfeVceV: number | null;
-  icboA: number | null;
-  icboVcbV: number | null;
-  vcesatV: number | null;
-  bvceoV: number | null;
   measuredC: number;
   measuredAt: string;
   late: boolean;
