@@ -33,7 +33,7 @@ import { type RigCommandBody, type RigLink } from '../../server/modules/telemetr
 import { pgPoolOf, startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
 import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
 import { createTestDb, type TestDb } from '../support/db';
-import { recordTimeZero, setRigServiceDates } from '../support/permit';
+import { permitFromLiveRig } from '../support/permit';
 import { waitFor } from './mqtt-test-helpers';
 
 jest.setTimeout(60_000);
@@ -181,11 +181,7 @@ async function until(state: string | string[], timeoutMs: number) {
 test('a simulated IOL run cycles, counts the cycles within its ΔTj band and ends at its cycle target', async () => {
   const operator = { id: randomUUID(), email: 'operator@test.example', name: 'Test operator', role: 'operator' as const };
   // The start permit: service dates, time-zero readings, and the sockets from the rig's own stored telemetry.
-  await setRigServiceDates(db.ds, rigId);
-  await recordTimeZero(db.ds, runId);
-  for (let k = 0; k < 100 && !(await db.ds.query('SELECT 1 FROM telemetry_batches WHERE rig_id = $1 LIMIT 1', [rigId])).length; k++) {
-    await new Promise((r) => setTimeout(r, 50));
-  }
+  await permitFromLiveRig(db.ds, runId, rigId);
   await new RunsService(ctx).act(operator, runId, 'start', { rowVersion: (await run()).rowVersion, confirm: true });
   scheduler = new RunScheduler(ctx, { rigLink: () => spyLink, log: () => undefined, ambientCheckEveryMs: 0 });
   scheduler.start();

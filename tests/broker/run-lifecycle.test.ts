@@ -33,7 +33,7 @@ import { pgPoolOf, startTelemetry } from '../../server/modules/telemetry/telemet
 import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
 import { createTestDb, type TestDb } from '../support/db';
 import { waitFor } from './mqtt-test-helpers';
-import { recordTimeZero, setRigServiceDates } from '../support/permit';
+import { permitFromLiveRig } from '../support/permit';
 
 jest.setTimeout(30_000);
 
@@ -137,8 +137,6 @@ beforeAll(async () => {
     RunSocketEntity,
     devices.map((d, i) => ({ runId, deviceId: d.id, socketIndex: i })),
   );
-  await setRigServiceDates(db.ds, rigId);
-  await recordTimeZero(db.ds, runId);
 
   ctx = createContext(db.ds, { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config });
   eb = await createEmberlotBroker({
@@ -211,10 +209,7 @@ async function samplesBetween(fromSeq: number, toSeq: number): Promise<ClockSamp
 
 test('heating → stressing → read point: the rig heats, biases, and at 4 h cools under bias before bias comes off', async () => {
   const svc = new RunsService(ctx);
-  // The start permit reads the sockets from the rig's own stored telemetry.
-  for (let k = 0; k < 100 && !(await db.ds.query('SELECT 1 FROM telemetry_batches WHERE rig_id = $1 LIMIT 1', [rigId])).length; k++) {
-    await new Promise((r) => setTimeout(r, 50));
-  }
+  await permitFromLiveRig(db.ds, runId, rigId);
   await svc.act(operator, runId, 'start', { rowVersion: (await run()).rowVersion, confirm: true });
   scheduler = newScheduler();
   scheduler.start();

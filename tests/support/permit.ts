@@ -87,3 +87,15 @@ export async function grantStartPermit(
   if (!reported.length) await reportSockets(ds, rigId, sockets, { seq: opts.seq, clockS: opts.clockS });
   await recordTimeZero(ds, runId);
 }
+
+/**
+ * For a test with a real simulated rig: waits (up to 5 s) until the rig's own telemetry is stored —
+ * the permit reads the reported sockets from it — after giving the service dates and time-zero readings.
+ */
+export async function permitFromLiveRig(ds: DataSource, runId: string, rigId: string): Promise<void> {
+  await setRigServiceDates(ds, rigId);
+  await recordTimeZero(ds, runId);
+  for (let k = 0; k < 100 && !(await ds.query('SELECT 1 FROM telemetry_batches WHERE rig_id = $1 LIMIT 1', [rigId])).length; k++) {
+    await new Promise((r) => setTimeout(r, 50));
+  }
+}
