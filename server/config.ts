@@ -20,7 +20,8 @@ export interface ServerConfig {
   host: string;
   port: number;
   db: DbConfig;
-  mqtt: { url: string; username: string; password: string };
+  /** `rigHost`/`rigPort`: where a rig's controller reaches the broker, shown beside a new secret. */
+  mqtt: { url: string; username: string; password: string; rigHost: string; rigPort: number };
   smtp: { host: string; port: number; from: string };
   sessionSecret: string;
   /** Secure cookies need https; off for the loopback demo unless EMBERLOT_SECURE_COOKIES=1. */
@@ -123,6 +124,18 @@ export function dbConfigFromEnv(env: Env = process.env): DbConfig {
   };
 }
 
+/**
+ * The broker address rigs use: EMBERLOT_MQTT_RIG_HOST / EMBERLOT_MQTT_RIG_PORT when the lab network
+ * reaches the broker under another name, else the host and port of the server's own broker URL.
+ */
+function rigBrokerAddress(env: Env): { rigHost: string; rigPort: number } {
+  const url = new URL(env.EMBERLOT_MQTT_URL ?? `mqtt://127.0.0.1:${int(env.EMBERLOT_MQTT_PORT, 18830)}`);
+  return {
+    rigHost: env.EMBERLOT_MQTT_RIG_HOST || url.hostname,
+    rigPort: int(env.EMBERLOT_MQTT_RIG_PORT, url.port ? Number(url.port) : 1883),
+  };
+}
+
 export function configFromEnv(env: Env = process.env): ServerConfig {
   return {
     host: env.EMBERLOT_HOST ?? '127.0.0.1',
@@ -132,6 +145,7 @@ export function configFromEnv(env: Env = process.env): ServerConfig {
       url: env.EMBERLOT_MQTT_URL ?? `mqtt://127.0.0.1:${int(env.EMBERLOT_MQTT_PORT, 18830)}`,
       username: env.EMBERLOT_MQTT_SERVER_USER ?? 'emberlot-server',
       password: env.EMBERLOT_MQTT_SERVER_PASSWORD || LOOPBACK_ONLY_SECRETS.mqttServerPassword,
+      ...rigBrokerAddress(env),
     },
     smtp: {
       host: '127.0.0.1',

@@ -8,6 +8,7 @@
  * result against the device's ratings like any other plan.
  */
 import { grouped, sigFigures } from './domain/format';
+import { sourceText } from './domain/source-words';
 import {
   DEFAULT_BIAS_TOLERANCE_PCT,
   METHOD_CHAMBER_BAND_K,
@@ -143,7 +144,7 @@ const commonRules: TemplateRule[] = [
 ];
 
 function notesFor(title: string, sources: string[]): string {
-  return `From the template "${title}". Sources: ${sources.join('; ')}. Review every number against the device's data sheet before booking.`;
+  return `From the template "${title}". Sources: ${sources.map(sourceText).join('; ')}. Review every number against the device's data sheet before booking.`;
 }
 
 function htrb(d?: Device): PlanTemplate {

@@ -2,6 +2,7 @@ import { useState } from 'react';
 import { View } from 'react-native';
 import { VictoryAxis, VictoryChart, VictoryLegend, VictoryLine } from 'victory-native';
 import type { FloorChart } from '@/shared/schemas/floor';
+import { formatLocalTime } from '@/shared/domain/format';
 import { HOLD_PHASE_LABEL, type HoldPhase } from '@/shared/holds/words';
 import { colors, fonts, space } from '@/components/theme/tokens';
 import { Text } from '@/components/ui/Text';
@@ -36,7 +37,7 @@ const HOLD_MARK: Record<HoldPhase, { color: string; dash?: string }> = {
   'safe-to-open': { color: '#1F6B3F', dash: '5,3' },
 };
 
-const hhmm = (ms: number) => new Date(ms).toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit' });
+const hhmm = (ms: number) => formatLocalTime(ms);
 
 export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string }) {
   const [width, setWidth] = useState(0);
@@ -56,7 +57,7 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
   const to = Date.parse(chart.to);
   const last = (d: { avg: number }[]) => (d.length ? `${d[d.length - 1].avg.toFixed(1)} °C` : 'no data');
   const marks = (chart.holdSteps ?? []).filter((m) => Date.parse(m.t) >= from && Date.parse(m.t) <= to);
-  const hhmmss = (ms: number) => new Date(ms).toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit', second: '2-digit' });
+  const hhmmss = (ms: number) => formatLocalTime(ms, true);
   // "Safe to open" straight from a biased step also means bias came off there.
   const markText = marks.map((m, i) => {
     const prev = marks

@@ -3,6 +3,7 @@ import { useState } from 'react';
 import { View } from 'react-native';
 import type { FloorBoard, FloorSocket } from '@/shared/schemas/floor';
 import { formatDateTime } from '@/components/common/format';
+import { boardCaption } from './board-caption';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { useFloorStream, useRigBoard, useRigChart, type ChartSpan } from '@/components/queries/floor';
@@ -105,11 +106,7 @@ function Board({ board, code }: { board: FloorBoard; code: string }) {
       <View style={{ flexDirection: gtTablet ? 'row' : 'column', gap: space.lg, alignItems: 'flex-start' }}>
         <Card
           title="Socket board"
-          description={
-            board.sampleAt
-              ? `Readings of message ${board.seq}, ${formatDateTime(board.sampleAt)} (rig clock). Tap a socket for its readings.`
-              : 'No telemetry from this rig yet.'
-          }
+          description={boardCaption(board)}
           style={{ flex: gtTablet ? 3 : undefined, alignSelf: 'stretch' }}
         >
           <SocketBoard sockets={board.sockets} selected={selected} onSelect={setSelected} cell={gtPhone ? 60 : 52} />

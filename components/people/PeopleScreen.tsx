@@ -1,5 +1,5 @@
 import { useState } from 'react';
-import { View } from 'react-native';
+import { Platform, View, type TextStyle } from 'react-native';
 import { can } from '@/shared/domain/permissions';
 import { ROLE_LABEL, type Role } from '@/shared/roles';
 import type { User } from '@/shared/schemas/users';
@@ -21,6 +21,12 @@ import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
 import { AddPersonForm } from '@/components/forms/LazyForms';
 import { ROLE_CHOICES } from './roles';
+import { matchesPerson } from './person-search';
+import { Field } from '@/components/ui/Field';
+import { countOf } from '@/shared/domain/format';
+
+/** Lets a long e-mail address break between any two characters (react-native-web passes it to CSS). */
+const WRAP_ANYWHERE: TextStyle = { flexShrink: 1, ...(Platform.OS === 'web' ? { wordBreak: 'break-all' } : {}) };
 
 type Pending = { kind: 'role'; user: User; role: Role } | { kind: 'active'; user: User } | null;
 
@@ -32,6 +38,7 @@ export function PeopleScreen() {
   const [adding, setAdding] = useState(false);
   const [pending, setPending] = useState<Pending>(null);
   const [notice, setNotice] = useState<string | null>(null);
+  const [query, setQuery] = useState('');
 
   const close = () => {
     setPending(null);
@@ -82,10 +89,11 @@ export function PeopleScreen() {
     {
       key: 'email',
       title: 'E-mail',
-      flex: 2,
+      flex: 2.4,
       card: 'subtitle',
       render: (u) => (
-        <Text variant="label" tone="muted" numberOfLines={1}>
+        // The whole address, wrapped at any character when the column is narrow (never cut off).
+        <Text variant="label" tone="muted" style={WRAP_ANYWHERE}>
           {u.email}
         </Text>
       ),
@@ -193,16 +201,35 @@ export function PeopleScreen() {
         isEmpty={(list) => list.length === 0}
         empty={<EmptyState title="Nobody here yet" message="Add the first engineers, operators and managers so they can sign in." />}
       >
-        {(list) => (
-          <DataTable
-            caption="People who can sign in"
-            columns={columns}
-            rows={[...list].sort((a, b) => Number(b.active) - Number(a.active) || a.name.localeCompare(b.name))}
-            rowKey={(u) => u.id}
-            minTableWidth={1000}
-            testID="people-table"
-          />
-        )}
+        {(list) => {
+          const shown = list.filter((u) => matchesPerson(u, query));
+          return (
+            <View style={{ gap: space.sm }}>
+              <Field
+                label="Search people"
+                value={query}
+                onChangeText={setQuery}
+                placeholder="Name, e-mail or role"
+                help={query.trim() ? `${countOf(shown.length, 'person', 'people')} of ${list.length} shown` : undefined}
+                autoCapitalize="none"
+                autoCorrect={false}
+                testID="people-search"
+              />
+              {shown.length ? (
+                <DataTable
+                  caption="People who can sign in"
+                  columns={columns}
+                  rows={[...shown].sort((a, b) => Number(b.active) - Number(a.active) || a.name.localeCompare(b.name))}
+                  rowKey={(u) => u.id}
+                  minTableWidth={1000}
+                  testID="people-table"
+                />
+              ) : (
+                <EmptyState title="Nobody matches" message={`No name, e-mail address or role contains “${query.trim()}”.`} />
+              )}
+            </View>
+          );
+        }}
       </QueryState>
 
       <ConfirmDialog

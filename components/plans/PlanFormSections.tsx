@@ -19,6 +19,7 @@ import type { DeviceType } from '@/shared/schemas/devices';
 import { PLAN_KINDS, PLAN_KIND_LABEL } from '@/shared/domain/stress';
 import type { PlanTemplate } from '@/shared/schemas/plans';
 import { KIND_HELP, PLAN_HELP } from './help';
+import { SourceNote } from './SourceNote';
 import { fieldsFor, maxBiasV, type FormErrors, type FormKey, type FormState } from './plan-form-model';
 import { KIND_SHORT } from './PlansScreen';
 
@@ -335,20 +336,21 @@ function TemplateRow({
     >
       <Text variant="bodyStrong">{t.title}</Text>
       <Text variant="caption" tone="muted">
-        Sources: {t.sources.join('; ')}
+        Sources:
       </Text>
+      <SourceNote source={t.sources.join(' ')} testID={`template-sources-${t.key}`} />
       {open ? (
         <View style={{ gap: 2 }}>
           {t.rules.map((r) => (
-            <Text key={r.label} variant="caption">
-              <Text variant="caption" style={{ fontWeight: '600' }}>
-                {r.label}:{' '}
+            <View key={r.label} style={{ gap: 2 }}>
+              <Text variant="caption">
+                <Text variant="caption" style={{ fontWeight: '600' }}>
+                  {r.label}:{' '}
+                </Text>
+                {r.value}
               </Text>
-              {r.value}{' '}
-              <Text variant="caption" tone="subtle">
-                {r.source}
-              </Text>
-            </Text>
+              <SourceNote source={r.source} />
+            </View>
           ))}
         </View>
       ) : null}

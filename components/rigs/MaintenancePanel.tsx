@@ -1,4 +1,5 @@
 import { useState } from 'react';
+import { plainFieldMessage } from '@/shared/domain/api-error';
 import { View } from 'react-native';
 import { maintenanceInputSchema, type Rig } from '@/shared/schemas/rigs';
 import { formatDateTime } from '@/components/common/format';
@@ -40,7 +41,7 @@ export function MaintenancePanel({ rig, canEdit, onClose }: { rig: Rig; canEdit:
     if (!s) next.startsAt = 'Use the form 2031-03-04 08:00';
     if (!e) next.endsAt = 'Use the form 2031-03-04 17:00';
     const parsed = s && e ? maintenanceInputSchema.safeParse({ startsAt: s, endsAt: e, reason }) : null;
-    if (parsed && !parsed.success) for (const i of parsed.error.issues) next[i.path[0] as keyof Errors] ??= i.message;
+    if (parsed && !parsed.success) for (const i of parsed.error.issues) next[i.path[0] as keyof Errors] ??= plainFieldMessage(i.message);
     if (!parsed?.success) {
       if (!next.reason && reason.trim().length < 3) next.reason = 'Say what the maintenance is for';
       setErrors(next);

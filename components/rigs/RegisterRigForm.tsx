@@ -1,4 +1,5 @@
 import { useState } from 'react';
+import { plainFieldMessage } from '@/shared/domain/api-error';
 import { View } from 'react-native';
 import { createRigSchema, type RigWithCredentials } from '@/shared/schemas/rigs';
 import { Columns } from '@/components/layout/Content';
@@ -38,7 +39,7 @@ export function RegisterRigForm({ onCreated, onCancel }: { onCreated: (r: RigWit
       const next: Errors = {};
       for (const issue of parsed.error.issues) {
         const k = issue.path[0] as Key;
-        if (!next[k]) next[k] = issue.code === 'invalid_type' ? 'Enter a number' : issue.message;
+        if (!next[k]) next[k] = plainFieldMessage(issue.message);
       }
       setErrors(next);
       return;

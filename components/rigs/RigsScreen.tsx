@@ -23,19 +23,10 @@ import { HoldSettingsPanel } from './HoldSettingsPanel';
 import { MaintenancePanel, ServiceDatesPanel } from '@/components/forms/LazyForms';
 import { RegisterRigForm } from '@/components/forms/LazyForms';
 import { SecretReveal } from './SecretReveal';
+import { intakeFigures } from './intake-figures';
+import { RigServiceSheet } from './RigServiceSheet';
 
 type Pending = { kind: 'rotate'; rig: Rig } | { kind: 'revoke'; rig: Rig } | null;
-
-const COUNTER_LABEL: Record<string, string> = {
-  ingest_messages: 'Messages stored',
-  ingest_samples: 'Socket readings stored',
-  ingest_duplicates: 'Re-sent duplicates (stored once)',
-  ingest_rejected: 'Messages refused',
-  ingest_dropped: 'Turned away (buffer full)',
-  ingest_seq_conflicts: 'Reused sequence numbers',
-  ingest_batches: 'Database transactions',
-  ingest_status_messages: 'Status messages',
-};
 
 function IngestHealth() {
   const stats = useTelemetryStats();
@@ -69,13 +60,13 @@ function IngestHealth() {
               </View>
             ) : null}
             <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.lg }}>
-              {Object.entries(s.counters).map(([k, n]) => (
-                <View key={k} style={{ minWidth: 140 }}>
+              {intakeFigures(s.counters).map((f) => (
+                <View key={f.key} style={{ minWidth: 140 }} testID={`intake-${f.key}`}>
                   <Text variant="overline" tone="subtle">
-                    {COUNTER_LABEL[k] ?? k}
+                    {f.label}
                   </Text>
-                  <Text variant="heading" tone={(k === 'ingest_dropped' || k === 'ingest_seq_conflicts') && n > 0 ? 'danger' : 'default'}>
-                    {n.toLocaleString('en-GB')}
+                  <Text variant={f.kind === 'time' ? 'bodyStrong' : 'heading'} tone={f.alert ? 'danger' : 'default'}>
+                    {f.value}
                   </Text>
                 </View>
               ))}
@@ -284,8 +275,12 @@ export function RigsScreen() {
           <DataTable caption="Registered rigs" columns={columns} rows={list} rowKey={(r) => r.id} minTableWidth={860} testID="rigs-table" />
         )}
       </QueryState>
-      {maintFor ? <MaintenancePanel rig={maintFor} canEdit={canManage} onClose={() => setMaintFor(null)} /> : null}
-      {maintFor ? <ServiceDatesPanel rig={rigs.data?.find((r) => r.id === maintFor.id) ?? maintFor} canEdit={canManage} /> : null}
+      {maintFor ? (
+        <RigServiceSheet title={`Maintenance of rig ${maintFor.code}`} onClose={() => setMaintFor(null)}>
+          <MaintenancePanel rig={maintFor} canEdit={canManage} onClose={() => setMaintFor(null)} />
+          <ServiceDatesPanel rig={rigs.data?.find((r) => r.id === maintFor.id) ?? maintFor} canEdit={canManage} />
+        </RigServiceSheet>
+      ) : null}
       <HoldSettingsPanel />
       <IngestHealth />
       <SafetyCaution compact />

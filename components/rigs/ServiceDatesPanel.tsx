@@ -5,6 +5,7 @@
  * is past due or whose interlock test is older than INTERLOCK_TEST_VALID_DAYS.
  */
 import { useState } from 'react';
+import { plainFieldMessage } from '@/shared/domain/api-error';
 import { View } from 'react-native';
 import { INTERLOCK_TEST_VALID_DAYS } from '@/shared/domain/standards';
 import { RIG_SERVICE_LABEL, serviceRecordInputSchema, type Rig, type RigServiceKind } from '@/shared/schemas/rigs';
@@ -33,7 +34,7 @@ function Entry({ rig, kind }: { rig: Rig; kind: RigServiceKind }) {
     const parsed = serviceRecordInputSchema.safeParse(kind === 'calibration' ? { kind, doneOn, dueOn, note } : { kind, doneOn, note });
     if (!parsed.success) {
       const next: Errors = {};
-      for (const i of parsed.error.issues) next[i.path[0] as keyof Errors] ??= i.message;
+      for (const i of parsed.error.issues) next[i.path[0] as keyof Errors] ??= plainFieldMessage(i.message);
       setErrors(next);
       return;
     }

@@ -1,6 +1,7 @@
 /** How run states look on every screen: a tone (always with the state's words) and short formats. */
 import type { Tone } from '@/components/theme/tokens';
 import type { RunState } from '@/shared/schemas/runs';
+import { formatLocalCompact } from '@/shared/domain/format';
 
 export const RUN_STATE_TONE: Record<RunState, Tone> = {
   booked: 'idle',
@@ -21,14 +22,12 @@ export function hours(h: number | null | undefined): string {
   return `${+h.toFixed(1)} h`;
 }
 
-/** Compact time for dense places: "14:05" today, "3 Mar 14:05" otherwise. */
+/** Compact time for dense places: "14:05" today, "2026-03-03 14:05" otherwise (shared/domain/format.ts). */
 export function shortTime(iso: string | null | undefined): string {
   if (!iso) return '—';
   const d = new Date(iso);
   if (Number.isNaN(d.getTime())) return '—';
-  const sameDay = d.toDateString() === new Date().toDateString();
-  const time = d.toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit' });
-  return sameDay ? time : `${d.toLocaleDateString('en-GB', { day: 'numeric', month: 'short' })} ${time}`;
+  return formatLocalCompact(d);
 }
 
 /** A pasted column of serials → socket map from `first` on; blank lines stay as empty sockets. */

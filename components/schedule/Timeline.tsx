@@ -4,6 +4,7 @@
  * width on a wide screen.
  */
 import { formatDateTime } from '@/components/common/format';
+import { formatLocalDate, formatLocalTime } from '@/shared/domain/format';
 import { useRouter } from 'expo-router';
 import { useState } from 'react';
 import { Pressable, ScrollView, View, type LayoutChangeEvent } from 'react-native';
@@ -40,12 +41,10 @@ const STEPS_MS = [
 ].map((s) => s * 1000);
 
 function tickLabel(ms: number, step: number): string {
-  const d = new Date(ms);
-  if (step < 60_000) return d.toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit', second: '2-digit' });
-  if (step < 3_600_000) return d.toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit' });
-  if (step < 86_400_000)
-    return `${d.toLocaleDateString('en-GB', { day: 'numeric', month: 'short' })} ${d.toLocaleTimeString('en-GB', { hour: '2-digit' })}h`;
-  return d.toLocaleDateString('en-GB', { day: 'numeric', month: 'short' });
+  if (step < 60_000) return formatLocalTime(ms, true);
+  // Hour steps name the day at midnight, so a scale that spans days still says which day.
+  if (step < 86_400_000) return formatLocalTime(ms) === '00:00' ? formatLocalDate(ms) : formatLocalTime(ms);
+  return formatLocalDate(ms);
 }
 
 function Hatch({ width, height, label }: { width: number; height: number; label: string }) {

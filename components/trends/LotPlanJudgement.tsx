@@ -9,6 +9,7 @@ import { DataTable, type Column } from '@/components/ui/DataTable';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { hours, PARAM_LABEL, sig } from './format';
+import { formatLocalDate } from '@/shared/domain/format';
 import { VerdictPill } from './verdict';
 
 const ltpd = (f: number | null) => (f === null ? '—' : `${sig(f * 100, 3)} %`);
@@ -156,7 +157,7 @@ export function LotPlanJudgement({ plan: p }: { plan: LotPlanView }) {
           </View>
           {s.deviation ? (
             <Text variant="caption">
-              Recorded deviation: {s.deviation.sampleSize} devices — {s.deviation.reason} ({s.deviation.by}, {s.deviation.at.slice(0, 10)}).
+              Recorded deviation: {s.deviation.sampleSize} devices — {s.deviation.reason} ({s.deviation.by}, {formatLocalDate(s.deviation.at)}).
             </Text>
           ) : null}
         </View>

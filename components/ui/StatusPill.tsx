@@ -23,6 +23,8 @@ export function StatusPill({ tone, label, size = 'md', testID }: Props) {
         flexDirection: 'row',
         alignItems: 'center',
         alignSelf: 'flex-start',
+        // Within its cell: a long label ("Revoked 2026-12-04 09:30") wraps instead of running under the next column.
+        maxWidth: '100%',
         gap: space.xs - 2,
         paddingLeft: size === 'sm' ? 6 : space.xs,
         paddingRight: size === 'sm' ? space.xs : space.sm,
@@ -34,7 +36,7 @@ export function StatusPill({ tone, label, size = 'md', testID }: Props) {
       }}
     >
       <StatusShape tone={tone} size={size === 'sm' ? 12 : 14} />
-      <Text variant={size === 'sm' ? 'caption' : 'label'} style={{ color: t.fg }} numberOfLines={1}>
+      <Text variant={size === 'sm' ? 'caption' : 'label'} style={{ color: t.fg, flexShrink: 1 }} numberOfLines={2}>
         {label}
       </Text>
     </View>

@@ -1,6 +1,7 @@
 import type { ErrorRequestHandler } from 'express';
 import { ZodError } from 'zod';
 import type { ErrorCode } from '../../shared/schemas/errors';
+import { plainFieldMessage } from '../../shared/domain/api-error';
 import { describeErrorForLog } from '../db/safe-logger';
 
 const STATUS: Record<ErrorCode, number> = {
@@ -46,7 +47,7 @@ export function zodFields(err: ZodError): Record<string, string[]> {
   const fields: Record<string, string[]> = {};
   for (const issue of err.issues) {
     const key = issue.path.length ? issue.path.map(String).join('.') : '_';
-    (fields[key] ??= []).push(issue.message);
+    (fields[key] ??= []).push(plainFieldMessage(issue.message));
   }
   return fields;
 }

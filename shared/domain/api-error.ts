@@ -35,5 +35,37 @@ export function readApiError(body: unknown): ApiErrorDetail | null {
   const { code, message, fields } = body.error;
   if (!isErrorCode(code) || typeof message !== 'string') return null;
   if (fields === undefined) return { code, message };
-  return isFieldMap(fields) ? { code, message, fields } : null;
+  if (!isFieldMap(fields)) return null;
+  const plain = Object.fromEntries(Object.entries(fields).map(([k, list]) => [k, list.map(plainFieldMessage)]));
+  return { code, message, fields: plain };
+}
+
+/**
+ * A validator's default wording in plain words for a form: zod's English defaults ("Invalid
+ * input: expected number, received undefined", "Too small: expected number to be >=1") become
+ * what a person should do ("Enter a number", "Enter at least 1"). A message a schema wrote itself
+ * ("Enter a part number") passes unchanged. Used by the API's field errors (server/http/errors.ts),
+ * by `readApiError` for the app, and by forms that check with a schema before sending.
+ */
+export function plainFieldMessage(message: string): string {
+  const m = message;
+  let r: RegExpExecArray | null;
+  if (/^Invalid input: expected (number|int|bigint), received/.test(m)) return 'Enter a number';
+  if (/^Invalid input: expected boolean, received/.test(m)) return 'Choose yes or no';
+  if (/^Invalid input: expected \w+, received (undefined|null)$/.test(m)) return 'Fill this in';
+  if ((r = /^Too small: expected number to be >=(-?[\d.e+-]+)$/.exec(m))) return `Enter at least ${r[1]}`;
+  if ((r = /^Too small: expected number to be >(-?[\d.e+-]+)$/.exec(m))) return `Enter more than ${r[1]}`;
+  if ((r = /^Too big: expected number to be <=(-?[\d.e+-]+)$/.exec(m))) return `Enter at most ${r[1]}`;
+  if ((r = /^Too big: expected number to be <(-?[\d.e+-]+)$/.exec(m))) return `Enter less than ${r[1]}`;
+  if ((r = /^Too small: expected string to have >=(\d+) characters?$/.exec(m))) return r[1] === '1' ? 'Fill this in' : `Use at least ${r[1]} characters`;
+  if ((r = /^Too big: expected string to have <=(\d+) characters?$/.exec(m))) return `Use at most ${r[1]} characters`;
+  if ((r = /^Too small: expected array to have >=(\d+) items?$/.exec(m))) return `Give at least ${r[1]}`;
+  if ((r = /^Too big: expected array to have <=(\d+) items?$/.exec(m))) return `Give at most ${r[1]}`;
+  if (/^Invalid input: expected int, received number$/.test(m) || /^Invalid input: expected an integer/.test(m)) return 'Enter a whole number';
+  if (/^Invalid option: expected one of/.test(m)) return 'Choose one of the offered values';
+  if (/^Unrecognized keys?:/.test(m)) return 'Not expected here';
+  if (/^Invalid (ISO )?(datetime|date)/.test(m)) return 'Enter a date and time such as 2031-03-04 08:00';
+  if (/^Invalid (email|e-mail)/i.test(m)) return 'Enter an e-mail address';
+  if (/^Invalid (input|string|UUID|uuid)\b/.test(m)) return 'This value is not valid';
+  return m;
 }

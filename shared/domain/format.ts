@@ -23,6 +23,39 @@ export function formatLocal(at: Date | string | number): string {
   return `${d.getFullYear()}-${pad(d.getMonth() + 1)}-${pad(d.getDate())} ${pad(d.getHours())}:${pad(d.getMinutes())}`;
 }
 
+/** "2026-03-02" in the viewer's zone — a day on its own (axis ticks of a week or more). */
+export function formatLocalDate(at: Date | string | number): string {
+  const d = toDate(at);
+  return `${d.getFullYear()}-${pad(d.getMonth() + 1)}-${pad(d.getDate())}`;
+}
+
+/** "09:00" (or "09:00:05" with seconds) in the viewer's zone — a time on its own (chart axes, today's events). */
+export function formatLocalTime(at: Date | string | number, withSeconds = false): string {
+  const d = toDate(at);
+  const hm = `${pad(d.getHours())}:${pad(d.getMinutes())}`;
+  return withSeconds ? `${hm}:${pad(d.getSeconds())}` : hm;
+}
+
+/**
+ * Compact form for dense places: the time alone when `at` falls on the same local day as `now`,
+ * else the full date and time — the same year-first style, never a month name.
+ */
+export function formatLocalCompact(at: Date | string | number, now: Date | number = Date.now()): string {
+  const d = toDate(at);
+  return formatLocalDate(d) === formatLocalDate(toDate(now)) ? formatLocalTime(d) : formatLocal(d);
+}
+
+/**
+ * A count with its noun in the right number: (1, 'row') → "1 row", (5, 'row') → "5 rows",
+ * (2, 'reply', 'replies') → "2 replies". Thousands are grouped ("15,000 rows").
+ */
+export function countOf(n: number, singular: string, plural = `${singular}s`): string {
+  return `${grouped(n)} ${n === 1 ? singular : plural}`;
+}
+
+/** The noun alone in the right number for `n`, for sentences that put the count elsewhere. */
+export const nounFor = (n: number, singular: string, plural = `${singular}s`): string => (n === 1 ? singular : plural);
+
 /** A finite number to `digits` significant figures without float noise ("0.3", "1.23e-7" stays exact). */
 export function sigFigures(x: number, digits = 3): string {
   if (!Number.isFinite(x)) return String(x);

@@ -92,6 +92,8 @@ export interface RigCredentials {
   username: string;
   secret: string;
   issuedAt: string;
+  /** Where the rig's controller connects (the server's configured broker address for rigs). */
+  broker: { host: string; port: number };
 }
 
 export interface RigWithCredentials {

@@ -56,11 +56,10 @@ export interface JourneyContext {
   /** Save a screenshot named after the step (tests/e2e/screenshots/<size>/<journey>-<n>-<step>.png). */
   shot: (step: string) => Promise<void>;
   /**
-   * axe-core on the current page: fails on critical violations, returns the serious ones.
-   * `known` turns off axe rules for an already-reported defect on this screen (each with what it
-   * is); they are listed with the findings so they are not forgotten.
+   * axe-core on the current page: fails on any serious or critical violation (no exceptions list:
+   * a finding is fixed, not switched off). Moderate and minor ones are logged.
    */
-  checkA11y: (where: string, known?: Array<{ rule: string; defect: string }>) => Promise<string[]>;
+  checkA11y: (where: string) => Promise<void>;
   signIn: (email: string, password: string) => Promise<void>;
   log: (m: string) => void;
   /** Shared between the two sizes of one journey (e.g. a name made unique per size). */
@@ -90,39 +89,19 @@ export function makeContext(baseUrl: string, size: SizeName, journey: string, pa
       n += 1;
       await page.screenshot({ path: path.join(dir, `${journey}-${String(n).padStart(2, '0')}-${step}.png`), fullPage: false });
     },
-    checkA11y: async (where, known = []) => {
+    checkA11y: async (where) => {
       await page.evaluate(AXE_SOURCE);
-      const rules = Object.fromEntries(known.map((k) => [k.rule, { enabled: false }]));
-      a11yLog.push(...known.map((k) => `${where}: rule ${k.rule} NOT CHECKED — known defect: ${k.defect}`));
-      const result = (await page.evaluate(`axe.run(document, ${JSON.stringify({ resultTypes: ['violations'], rules })})`)) as {
+      const result = (await page.evaluate(`axe.run(document, ${JSON.stringify({ resultTypes: ['violations'] })})`)) as {
         violations: Array<{ id: string; impact: string; help: string; nodes: Array<{ target: string[]; html?: string }> }>;
       };
-      const critical = result.violations.filter((v) => v.impact === 'critical');
-      const serious = result.violations
-        .filter((v) => v.impact === 'serious')
-        .map(
-          (v) =>
-            `${where}: ${v.id} (${v.nodes.length}) at ${v.nodes
-              .slice(0, 3)
-              .map((x) => (x.html ?? x.target.join(' ')).slice(0, 160))
-              .join(' | ')}`,
-        );
-      a11yLog.push(...serious);
-      if (critical.length) {
-        throw new Error(
-          `accessibility: critical violations on ${where}: ` +
-            critical
-              .map(
-                (v) =>
-                  `${v.id} — ${v.help} at ${v.nodes
-                    .slice(0, 3)
-                    .map((x) => x.target.join(' '))
-                    .join(', ')}`,
-              )
-              .join('; '),
-        );
-      }
-      return serious;
+      const describe = (v: (typeof result.violations)[number]) =>
+        `${where}: ${v.id} (${v.impact}, ${v.nodes.length}) — ${v.help} at ${v.nodes
+          .slice(0, 3)
+          .map((x) => (x.html ?? x.target.join(' ')).slice(0, 160))
+          .join(' | ')}`;
+      a11yLog.push(...result.violations.filter((v) => v.impact !== 'serious' && v.impact !== 'critical').map(describe));
+      const failing = result.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
+      if (failing.length) throw new Error(`accessibility: ${failing.map(describe).join('; ')}`);
     },
     navTo: async (label) => {
       const link = page.getByRole('link', { name: label, exact: true });

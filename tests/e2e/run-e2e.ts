@@ -104,7 +104,7 @@ async function main(): Promise<number> {
     if (ownCluster) destroyCluster({ ...pgOpts, quiet: true });
     fs.rmSync(env.EMBERLOT_SIM_CONFIG!, { force: true });
   }
-  if (a11y.length) console.log(`[e2e] serious (non-critical) accessibility findings:\n  ${[...new Set(a11y)].join('\n  ')}`);
+  if (a11y.length) console.log(`[e2e] moderate and minor accessibility findings:\n  ${[...new Set(a11y)].join('\n  ')}`);
   const result = { passed, failed: failures.length, failures, seconds: Math.round((Date.now() - t0) / 1000) };
   if (process.env.EMBERLOT_E2E_RESULTS) fs.writeFileSync(process.env.EMBERLOT_E2E_RESULTS, JSON.stringify(result));
   console.log(`[e2e] screenshots in ${path.relative(PROJECT_ROOT, SCREENSHOT_DIR)}/`);

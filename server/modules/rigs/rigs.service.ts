@@ -69,6 +69,11 @@ export function newRigSecret(): string {
 export class RigsService {
   constructor(private readonly ctx: AppContext) {}
 
+  /** The broker address a rig connects to, from the server's configuration. */
+  private broker(): { host: string; port: number } {
+    return { host: this.ctx.config.mqtt.rigHost, port: this.ctx.config.mqtt.rigPort };
+  }
+
   private get ds() {
     return this.ctx.ds;
   }
@@ -134,7 +139,7 @@ export class RigsService {
         },
         m,
       );
-      return { rig: toRig(rig), credentials: { username, secret, issuedAt: issuedAt.toISOString() } };
+      return { rig: toRig(rig), credentials: { username, secret, issuedAt: issuedAt.toISOString(), broker: this.broker() } };
     });
   }
 
@@ -177,7 +182,13 @@ export class RigsService {
         { actor, action: 'rig.credentials.rotate', entity: 'rig', entityId: rig.id, details: { code: rig.code, wasRevoked } },
         m,
       );
-      return { rig: toRig(rig), credentials: { username: rig.mqttUsername, secret, issuedAt: rig.credentialsIssuedAt.toISOString() } };
+      return { rig: toRig(rig), credentials: {
+          username: rig.mqttUsername,
+          secret,
+          issuedAt: rig.credentialsIssuedAt.toISOString(),
+          broker: this.broker(),
+        },
+      };
     });
     await this.kick(code); // the rig reconnects with the new secret (after it is installed)
     return out;

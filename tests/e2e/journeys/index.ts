@@ -1,4 +1,5 @@
 import type { Journey } from '../harness';
+import { accessibilityEveryScreen } from './accessibility';
 import { adminRigs } from './admin-rigs';
 import { operatorCycling } from './cycling';
 import { engineerPlanBook } from './engineer';
@@ -41,5 +42,7 @@ export const JOURNEYS: Journey[] = [
   holdsReadPoint,
   // Books and starts a run on OV-04 (idle in the demo): after every journey that reads the schedule.
   operatorStartPermit,
+  // Every screen of every role under axe: after the journeys that add data, before the offline rig.
+  accessibilityEveryScreen,
   adminRigs,
 ];
