@@ -20,6 +20,7 @@ import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
 import { deviceHref } from './DevicesScreen';
 import { CSV_HELP, FilePickButton, SERIAL_POLICY, SerialGrid, SerialPreview, SerialProblems } from './SerialInputs';
+import { countOf } from '@/shared/domain/format';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
@@ -140,7 +141,7 @@ function AddSerials({ lot }: { lot: LotDetail }) {
           {add.isError && pasteRows.length === 0 ? <Banner tone="danger">{describeError(add.error)}</Banner> : null}
           <SerialProblems rows={pasteRows} where="list" />
           <Button
-            label={serials.length ? `Add ${serials.length} serial${serials.length === 1 ? '' : 's'}` : 'Add serials'}
+            label={serials.length ? `Add ${countOf(serials.length, 'serial')}` : 'Add serials'}
             variant="primary"
             disabled={serials.length === 0 || localProblems.length > 0}
             busy={add.isPending}
@@ -150,7 +151,7 @@ function AddSerials({ lot }: { lot: LotDetail }) {
                 { serials },
                 {
                   onSuccess: (l) => {
-                    setNotice(`${serials.length} serial${serials.length === 1 ? '' : 's'} added; the lot now has ${l.deviceCount}.`);
+                    setNotice(`${countOf(serials.length, 'serial')} added; the lot now has ${l.deviceCount}.`);
                     setPasted('');
                   },
                 },
@@ -184,9 +185,7 @@ function AddSerials({ lot }: { lot: LotDetail }) {
           <SerialProblems
             rows={fileRows}
             where="file"
-            title={
-              lastFile ? `${lastFile}: ${fileRows.length} line${fileRows.length === 1 ? '' : 's'} to fix — nothing was stored` : undefined
-            }
+            title={lastFile ? `${lastFile}: ${countOf(fileRows.length, 'line')} to fix — nothing was stored` : undefined}
           />
         </View>
       )}

@@ -14,6 +14,7 @@ import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
 import { parseNum } from './format';
 import { CSV_HELP, FilePickButton, SERIAL_POLICY, SerialPreview, SerialProblems } from './SerialInputs';
+import { countOf } from '@/shared/domain/format';
 
 type Key = 'code' | 'quantity' | 'dateCode' | 'notes';
 
@@ -167,7 +168,7 @@ export function NewLotForm({ deviceTypeId, partNumber, onCreated, onCancel }: Pr
       {serverRows.length ? <SerialProblems rows={serverRows} where="list" /> : null}
       <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
         <Button
-          label={serials.length ? `Register lot with ${serials.length} serial${serials.length === 1 ? '' : 's'}` : 'Register lot'}
+          label={serials.length ? `Register lot with ${countOf(serials.length, 'serial')}` : 'Register lot'}
           variant="primary"
           onPress={submit}
           busy={create.isPending}

@@ -7,6 +7,7 @@ import { Banner } from '@/components/ui/Banner';
 import { Button } from '@/components/ui/Button';
 import { StatusShape } from '@/components/ui/StatusShape';
 import { Text } from '@/components/ui/Text';
+import { countOf } from '@/shared/domain/format';
 
 /** How a serial list is accepted (shown beside every serial entry). */
 export const SERIAL_POLICY =
@@ -53,7 +54,7 @@ export function SerialPreview({ serials }: { serials: string[] }) {
   if (serials.length === 0) return null;
   return (
     <Text variant="caption" tone="muted" testID="serial-preview">
-      {serials.length.toLocaleString('en-GB')} serial{serials.length === 1 ? '' : 's'}: {serials.slice(0, 6).join(', ')}
+      {countOf(serials.length, 'serial')}: {serials.slice(0, 6).join(', ')}
       {serials.length > 6 ? ', …' : ''}
     </Text>
   );

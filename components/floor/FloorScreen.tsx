@@ -11,6 +11,7 @@ import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { RigTile } from './RigTile';
+import { countOf } from '@/shared/domain/format';
 
 export function LiveIndicator({ state }: { state: StreamState }) {
   if (state === 'live') return <StatusPill tone="ok" label="Live" size="sm" testID="floor-live" />;
@@ -22,7 +23,7 @@ function summary(tiles: FloorTile[]): string {
   const online = tiles.filter((t) => t.online).length;
   const running = tiles.filter((t) => t.run).length;
   const alarms = tiles.reduce((n, t) => n + t.openAlarms, 0);
-  return `${online} of ${tiles.length} rigs online · ${running} running · ${alarms} open alarm${alarms === 1 ? '' : 's'}`;
+  return `${online} of ${countOf(tiles.length, 'rig')} online · ${running} running · ${countOf(alarms, 'open alarm')}`;
 }
 
 /** Operator home: every rig as a tile, updated live. Phone: one column; wider: a grid. */

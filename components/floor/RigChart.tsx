@@ -3,6 +3,7 @@ import { View } from 'react-native';
 import { VictoryAxis, VictoryChart, VictoryLegend, VictoryLine } from 'victory-native';
 import type { FloorChart } from '@/shared/schemas/floor';
 import { formatLocalTime } from '@/shared/domain/format';
+import { endPadding } from '@/components/charts/axis';
 import { HOLD_PHASE_LABEL, type HoldPhase } from '@/shared/holds/words';
 import { colors, fonts, space } from '@/components/theme/tokens';
 import { Text } from '@/components/ui/Text';
@@ -87,11 +88,12 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
           <VictoryChart
             width={width}
             height={phone ? 240 : 300}
-            padding={{ top: 12, bottom: 44, left: 56, right: phone ? 12 : 24 }}
+            padding={{ top: 12, bottom: 44, left: 56, right: endPadding(hhmm(to), phone ? 12 : 24) }}
             domain={{ x: [from, to], y: [yMin, yMax] }}
             scale={{ x: 'time' }}
           >
             <VictoryAxis tickCount={phone ? 3 : 6} tickFormat={(t: number) => hhmm(t)} style={axisStyle} />
+            {/* Temperatures in °C: 0 °C means nothing here, so the axis spans the readings (a 145 ± 3 °C band would be a flat line from 0). */}
             <VictoryAxis dependentAxis label="°C" tickFormat={(t: number) => `${t}`} style={axisStyle} />
             {series.map((s) => (
               <VictoryLine

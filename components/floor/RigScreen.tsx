@@ -4,6 +4,7 @@ import { View } from 'react-native';
 import type { FloorBoard, FloorSocket } from '@/shared/schemas/floor';
 import { formatDateTime } from '@/components/common/format';
 import { boardCaption } from './board-caption';
+import { HOTTEST_RULE_TEXT } from '@/shared/domain/hottest-sockets';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { useFloorStream, useRigBoard, useRigChart, type ChartSpan } from '@/components/queries/floor';
@@ -106,7 +107,7 @@ function Board({ board, code }: { board: FloorBoard; code: string }) {
       <View style={{ flexDirection: gtTablet ? 'row' : 'column', gap: space.lg, alignItems: 'flex-start' }}>
         <Card
           title="Socket board"
-          description={boardCaption(board)}
+          description={boardCaption(board.sampleAt, board.tile.run)}
           style={{ flex: gtTablet ? 3 : undefined, alignSelf: 'stretch' }}
         >
           <SocketBoard sockets={board.sockets} selected={selected} onSelect={setSelected} cell={gtPhone ? 60 : 52} />
@@ -143,9 +144,7 @@ function Board({ board, code }: { board: FloorBoard; code: string }) {
       </View>
       <Card
         title="Temperatures"
-        description={
-          plotted ? 'Chamber and the sockets you chose.' : 'Chamber and the three hottest sockets; tap a socket to choose others.'
-        }
+        description={plotted ? 'Chamber and the sockets you chose.' : `Chamber and ${HOTTEST_RULE_TEXT}; tap a socket to choose others.`}
       >
         <SegmentedChoice label="Period" hideLabel options={SPANS} value={span} onChange={setSpan} testID="chart-span" />
         <QueryState query={chart} loadingLabel="Loading the chart…" errorTitle="Could not load the chart" loadingVariant="spinner">

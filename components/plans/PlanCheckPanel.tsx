@@ -9,6 +9,7 @@ import { Card } from '@/components/ui/Card';
 import { StatusShape } from '@/components/ui/StatusShape';
 import { Text } from '@/components/ui/Text';
 import { CheckStatusPill } from './CheckStatusPill';
+import { countOf } from '@/shared/domain/format';
 
 const SEVERITY: Record<CheckFinding['severity'], { tone: Tone; word: string; order: number }> = {
   block: { tone: 'danger', word: 'Refuses', order: 0 },
@@ -117,8 +118,7 @@ export function PlanCheckPanel({ check, pending, incomplete, error, title = 'Pla
             <View style={{ flexDirection: 'row', alignItems: 'center', gap: space.sm, flexWrap: 'wrap' }}>
               <CheckStatusPill status={check.status} />
               <Text variant="caption" tone="muted">
-                {blocks ? `${blocks} refusal${blocks === 1 ? '' : 's'}` : 'No refusals'} · {warns} warning{warns === 1 ? '' : 's'} ·{' '}
-                {ok.length} OK
+                {blocks ? `${countOf(blocks, 'refusal')}` : 'No refusals'} · {countOf(warns, 'warning')} · {ok.length} OK
                 {pending ? ' · updating…' : ''}
               </Text>
             </View>
@@ -137,7 +137,7 @@ export function PlanCheckPanel({ check, pending, incomplete, error, title = 'Pla
               <Button
                 size="sm"
                 variant="quiet"
-                label={showOk ? 'Hide the checks that pass' : `Show the ${ok.length} check${ok.length === 1 ? '' : 's'} that pass`}
+                label={showOk ? 'Hide the checks that pass' : `Show the ${countOf(ok.length, 'check')} that pass`}
                 onPress={() => setShowOk(!showOk)}
               />
             ) : null}

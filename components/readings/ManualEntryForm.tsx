@@ -14,6 +14,7 @@ import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
 import { MEASUREMENT_RESULT_LABEL, MEASUREMENT_RESULTS, type MeasurementResult } from '@/shared/evidence';
 import { RowOutcomes } from './RowOutcomes';
+import { countOf, nounFor } from '@/shared/domain/format';
 
 interface Draft {
   result: MeasurementResult;
@@ -182,7 +183,7 @@ export function ManualEntryForm({ runId, hours }: { runId: string; hours: number
           />
           <Button
             variant="primary"
-            label={`Store ${rows.length} reading${rows.length === 1 ? '' : 's'}`}
+            label={`Store ${countOf(rows.length, 'reading')}`}
             onPress={submit}
             busy={entry.isPending}
             busyLabel="Storing…"
@@ -197,7 +198,7 @@ export function ManualEntryForm({ runId, hours }: { runId: string; hours: number
         {failure?.rows ? <RowOutcomes rows={failure.rows} noun="Device" /> : null}
         {result ? (
           <Banner tone="ok" title="Stored">
-            {`${result.inserted} new and ${result.replaced} replaced reading${result.inserted + result.replaced === 1 ? '' : 's'}${result.late ? `; ${result.late} flagged late (more than ${MEASURE_WITHIN_H} h after bias was removed)` : ''}.`}
+            {`${result.inserted} new and ${result.replaced} replaced ${nounFor(result.inserted + result.replaced, 'reading')}${result.late ? `; ${result.late} flagged late (more than ${MEASURE_WITHIN_H} h after bias was removed)` : ''}.`}
           </Banner>
         ) : null}
       </View>

@@ -24,6 +24,7 @@ import { Text } from '@/components/ui/Text';
 import { csvHeaders, doubleUsed, guessColumns, missingRequired, toMapping, type ColumnChoice } from './csv-header';
 import { CsvFilePicker } from './CsvFilePicker';
 import { RowOutcomes } from './RowOutcomes';
+import { countOf, nounFor } from '@/shared/domain/format';
 
 const NONE = '__none__';
 
@@ -241,7 +242,7 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
                 testID="upload-preview"
               />
               <Button
-                label={preview ? `Store ${preview.stored} reading${preview.stored === 1 ? '' : 's'}` : 'Store readings'}
+                label={preview ? `Store ${countOf(preview.stored, 'reading')}` : 'Store readings'}
                 variant="primary"
                 onPress={() => send(false)}
                 disabled={!ready || !preview || preview.stored === 0}
@@ -281,7 +282,7 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
             >
               {stored.status === 'already-stored'
                 ? stored.notes[0]
-                : `${stored.inserted} new and ${stored.replaced} replaced readings stored; ${stored.rejected} rows refused${stored.late ? `; ${stored.late} flagged late` : ''}.`}
+                : `${stored.inserted} new and ${stored.replaced} replaced ${nounFor(stored.inserted + stored.replaced, 'reading')} stored; ${countOf(stored.rejected, 'row')} refused${stored.late ? `; ${stored.late} flagged late` : ''}.`}
             </Banner>
             {stored.rejected ? <RowOutcomes rows={stored.rows} /> : null}
           </View>

@@ -11,6 +11,7 @@ import { Button } from '@/components/ui/Button';
 import { Card } from '@/components/ui/Card';
 import { QueryState } from '@/components/ui/QueryState';
 import { Text } from '@/components/ui/Text';
+import { countOf } from '@/shared/domain/format';
 
 export function UploadsPanel({ runId }: { runId: string }) {
   const uploads = useRunUploads(runId);
@@ -33,7 +34,7 @@ export function UploadsPanel({ runId }: { runId: string }) {
               >
                 <Text variant="label">{`${u.fileName} · ${u.readPointH} h`}</Text>
                 <Text variant="caption" tone="muted">
-                  {`${u.rowsStored} rows stored, ${u.rowsRejected} refused · ${u.uploadedByName ?? 'unknown'} · ${formatDateTime(u.createdAt)} · SHA-256 ${u.fileSha256.slice(0, 12)}…`}
+                  {`${countOf(u.rowsStored, 'row')} stored, ${u.rowsRejected} refused · ${u.uploadedByName ?? 'unknown'} · ${formatDateTime(u.createdAt)} · SHA-256 ${u.fileSha256.slice(0, 12)}…`}
                 </Text>
                 {u.downloadPath ? (
                   <View style={{ flexDirection: 'row' }}>

@@ -31,6 +31,7 @@ import { RUN_ACTIONS, RUN_ACTION_LABEL } from '@/shared/domain/run-states';
 import type { RunAction, RunDetail, RunSocket, SocketFlag, SocketLoadResult } from '@/shared/schemas/runs';
 import { RUN_STATE_TONE, columnToSocketMap, hours } from './run-look';
 import { RunCyclesCard, socketCyclesText } from './RunCycles';
+import { countOf } from '@/shared/domain/format';
 
 const AUDIT_LABEL: Record<string, string> = {
   'run.book': 'Booked',
@@ -423,7 +424,7 @@ function Loading({ run }: { run: RunDetail }) {
             placeholder={'A0001\nA0002\nA0003'}
             autoCapitalize="characters"
             autoCorrect={false}
-            help={`${count} line${count === 1 ? '' : 's'} → sockets ${firstN}–${firstN + Math.max(count, 1) - 1}. The run needs ${run.sampleSize} devices.`}
+            help={`${countOf(count, 'line')} → sockets ${firstN}–${firstN + Math.max(count, 1) - 1}. The run needs ${run.sampleSize} devices.`}
           />
         </View>
       </View>

@@ -16,6 +16,7 @@ import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
 import { sig } from './format';
 import { VerdictPill } from './verdict';
+import { countOf } from '@/shared/domain/format';
 
 const LTPDS = ['1', '2', '3', '5', '10'] as const;
 const ACCEPTS = ['0', '1', '2'] as const;
@@ -84,7 +85,7 @@ export function DeviceTypeScreen() {
                   </Text>
                   <Text variant="caption" tone="muted">
                     {m.unavailable ??
-                      `${m.failures} failure${m.failures === 1 ? '' : 's'}, ${Math.round(m.equivalentDeviceHours).toLocaleString('en-GB')} equivalent device-hours at use conditions from ${m.plans} plan${m.plans === 1 ? '' : 's'}. ${m.model}; ${describeParameters(m.parameters)}.`}
+                      `${countOf(m.failures, 'failure')}, ${Math.round(m.equivalentDeviceHours).toLocaleString('en-GB')} equivalent device-hours at use conditions from ${countOf(m.plans, 'plan')}. ${m.model}; ${describeParameters(m.parameters)}.`}
                   </Text>
                 </View>
               ))}

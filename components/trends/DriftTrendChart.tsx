@@ -7,6 +7,7 @@ import { colors, space } from '@/components/theme/tokens';
 import { Text } from '@/components/ui/Text';
 import { axisStyle, legendStyle, LIMIT_FILL, LIMIT_STROKE, seriesAt } from './chart-style';
 import { sig } from './format';
+import { domainWithZero, endPadding } from '@/components/charts/axis';
 
 interface Props {
   lots: LotSummary[];
@@ -26,8 +27,10 @@ export function DriftTrendChart({ lots, testID }: Props) {
   const ticks = [...new Set(shown.flatMap((l) => l.hfeTrend.map((p) => p.hours)))].sort((a, b) => a - b);
   const maxX = Math.max(...ticks, 1);
   const ys = shown.flatMap((l) => l.hfeTrend.map((p) => p.value));
-  const yMin = Math.floor(Math.min(-limit, ...ys) - 2);
-  const yMax = Math.ceil(Math.max(4, ...ys) + 1);
+  // A drift from time zero: the axis always holds 0 and the ±limit band.
+  const [lo, hi] = domainWithZero([-limit, limit, ...ys], { padFraction: 0.05 });
+  const yMin = Math.floor(lo);
+  const yMax = Math.ceil(hi);
   const description =
     `Mean hFE change by lot: ` +
     shown
@@ -50,7 +53,7 @@ export function DriftTrendChart({ lots, testID }: Props) {
           <VictoryChart
             width={width}
             height={height}
-            padding={{ top: 16, bottom: 48, left: 56, right: phone ? 12 : 24 }}
+            padding={{ top: 16, bottom: 48, left: 56, right: endPadding(String(maxX), phone ? 12 : 24) }}
             domain={{ x: [0, maxX], y: [yMin, yMax] }}
           >
             <VictoryArea

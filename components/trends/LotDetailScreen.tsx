@@ -25,6 +25,7 @@ import { LotPlanJudgement } from './LotPlanJudgement';
 import { LotRecordsCard } from './LotRecordsCard';
 import { VerdictPill } from './verdict';
 import { VerdictSignatures } from '@/components/signoff/VerdictSignatures';
+import { countOf } from '@/shared/domain/format';
 
 const DEVICE_STATUS = {
   pass: { tone: 'ok', label: 'Within criteria' },
@@ -109,9 +110,8 @@ function FitCard({ lot }: { lot: LotDetail }) {
             </View>
           </View>
           <Text variant="caption">
-            {f.failures} failure{f.failures === 1 ? '' : 's'} in {Math.round(f.deviceHours).toLocaleString('en-GB')} device-hours credited
-            to {f.devices} devices (mean {hours(f.hoursEach)} each), {Math.round(f.equivalentDeviceHours).toLocaleString('en-GB')} at use
-            conditions.
+            {countOf(f.failures, 'failure')} in {Math.round(f.deviceHours).toLocaleString('en-GB')} device-hours credited to {f.devices}{' '}
+            devices (mean {hours(f.hoursEach)} each), {Math.round(f.equivalentDeviceHours).toLocaleString('en-GB')} at use conditions.
           </Text>
           <Text variant="caption" testID="fit-junction">
             {f.junction.tjMeanC === null

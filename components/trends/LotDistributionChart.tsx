@@ -7,6 +7,7 @@ import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
 import { axisStyle, legendStyle, LIMIT_STROKE } from './chart-style';
 import { hours, sig } from './format';
+import { domainWithZero, endPadding } from '@/components/charts/axis';
 
 type Param = 'hfe' | 'icbo' | 'vcesat';
 const PARAMS = [
@@ -48,8 +49,8 @@ export function LotDistributionChart({ lot }: { lot: LotDetail }) {
   const maxX = Math.max(lot.plan?.durationH ?? 0, ...points.map((p) => p.x), 1);
   const fitLine = trend ? trend.line.filter((p) => p.hours <= maxX).map((p) => ({ x: p.hours, y: p.value })) : [];
   const ys = [...points.flatMap((p) => [p.p5, p.p95]), ...limits, ...fitLine.map((p) => p.y)];
-  const pad = (Math.max(...ys) - Math.min(...ys)) * 0.08 || 1;
-  const domainY: [number, number] = [Math.min(...ys) - pad, Math.max(...ys) + pad];
+  // Every parameter here is read from zero: a drift (hFE %, VCE(sat) mV) or a ratio (ICBO / initial, never negative).
+  const domainY = domainWithZero(ys, { floorAtZero: param === 'icbo' });
   const ticks = [...new Set([...(lot.readPointsH ?? []), ...points.map((p) => p.x)])].sort((a, b) => a - b);
   const unit = param === 'hfe' ? '%' : param === 'icbo' ? '×' : 'mV';
   const label =
@@ -73,7 +74,7 @@ export function LotDistributionChart({ lot }: { lot: LotDetail }) {
             <VictoryChart
               width={width}
               height={phone ? 260 : 320}
-              padding={{ top: 16, bottom: 48, left: 60, right: phone ? 12 : 24 }}
+              padding={{ top: 16, bottom: 48, left: 60, right: endPadding(String(ticks[ticks.length - 1] ?? maxX), phone ? 12 : 24) }}
               domain={{ x: [0, maxX], y: domainY }}
             >
               <VictoryArea

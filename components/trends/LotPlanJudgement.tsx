@@ -9,7 +9,7 @@ import { DataTable, type Column } from '@/components/ui/DataTable';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { hours, PARAM_LABEL, sig } from './format';
-import { formatLocalDate } from '@/shared/domain/format';
+import { formatLocalDate, countOf } from '@/shared/domain/format';
 import { VerdictPill } from './verdict';
 
 const ltpd = (f: number | null) => (f === null ? '—' : `${sig(f * 100, 3)} %`);
@@ -157,7 +157,8 @@ export function LotPlanJudgement({ plan: p }: { plan: LotPlanView }) {
           </View>
           {s.deviation ? (
             <Text variant="caption">
-              Recorded deviation: {s.deviation.sampleSize} devices — {s.deviation.reason} ({s.deviation.by}, {formatLocalDate(s.deviation.at)}).
+              Recorded deviation: {s.deviation.sampleSize} devices — {s.deviation.reason} ({s.deviation.by},{' '}
+              {formatLocalDate(s.deviation.at)}).
             </Text>
           ) : null}
         </View>
@@ -234,9 +235,9 @@ export function LotPlanJudgement({ plan: p }: { plan: LotPlanView }) {
 
       {p.fit ? (
         <Text variant="caption" testID="plan-fit">
-          {p.fit.mechanismLabel} FIT {sig(p.fit.fit60)} at 60 %, {sig(p.fit.fit90)} at 90 %: {p.fit.failures} failure
-          {p.fit.failures === 1 ? '' : 's'} in {Math.round(p.fit.deviceHours).toLocaleString('en-GB')} device-hours credited to{' '}
-          {p.fit.devices} devices (each socket's own hours at its estimated junction), mean acceleration {sig(p.fit.accelerationFactor)}.
+          {p.fit.mechanismLabel} FIT {sig(p.fit.fit60)} at 60 %, {sig(p.fit.fit90)} at 90 %: {countOf(p.fit.failures, 'failure')} in{' '}
+          {Math.round(p.fit.deviceHours).toLocaleString('en-GB')} device-hours credited to {p.fit.devices} devices (each socket's own hours
+          at its estimated junction), mean acceleration {sig(p.fit.accelerationFactor)}.
         </Text>
       ) : p.fitUnavailable ? (
         <Text variant="caption" tone="muted" testID="plan-fit">

@@ -11,6 +11,7 @@ import { Card } from '@/components/ui/Card';
 import { Text } from '@/components/ui/Text';
 import { RECORD_DEVIATION_LABEL } from '@/shared/domain/records';
 import type { LotDetail } from '@/shared/schemas/analytics';
+import { countOf } from '@/shared/domain/format';
 
 export function LotRecordsCard({ lot }: { lot: LotDetail }) {
   const { corrections, deviations } = lot.records;
@@ -18,7 +19,7 @@ export function LotRecordsCard({ lot }: { lot: LotDetail }) {
   return (
     <Card title="Corrected readings" description="Every version stays on record; the verdict uses the current one." testID="lot-records">
       {deviations.length ? (
-        <Banner tone="warn" title={`${deviations.length} deviation${deviations.length === 1 ? '' : 's'} in the records`}>
+        <Banner tone="warn" title={`${countOf(deviations.length, 'deviation')} in the records`}>
           {deviations
             .map(
               (d) =>

@@ -48,8 +48,13 @@ export function sourceParts(source: string): SourcePart[] {
   return parts;
 }
 
-/** The same as one plain sentence (a plan's notes, a PDF line): parts joined, no brackets. */
-export const sourceText = (source: string): string =>
-  sourceParts(source)
-    .map((p) => p.text)
-    .join('; ');
+/** The same as one plain sentence (a plan's notes, a PDF line): tags in words, no brackets. */
+export function sourceText(source: string): string {
+  const parts = sourceParts(source);
+  let out = '';
+  parts.forEach((p, i) => {
+    if (i > 0) out += p.kind === 'text' || parts[i - 1]!.kind === 'text' ? ' ' : '; ';
+    out += p.text;
+  });
+  return out.replace(/\s+\)/g, ')');
+}

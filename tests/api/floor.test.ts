@@ -297,7 +297,7 @@ describe('GET /api/floor/rigs/:code/chart', () => {
     }
     const two = await agent.get(url(`from=${iso(T0)}&to=${iso(T0 + 1200_000)}&points=2`));
     expect(two.body.chamber.length).toBeLessThanOrEqual(2);
-    // Default sockets: the three hottest in the newest message.
+    // Default sockets: the three with the highest mean case temperature over the window (hottestByMean).
     expect(two.body.sockets.map((s: { socket: number }) => s.socket)).toEqual([7, 8, 9]);
   });
 

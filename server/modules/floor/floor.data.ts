@@ -131,12 +131,27 @@ export function newestBatchTs(ds: DataSource, rigId: string): Promise<Array<{ ts
   ]);
 }
 
-/** The three hottest sockets (by case temperature) of the rig's newest message. */
-export function hottestSockets(ds: DataSource, rigId: string): Promise<Array<{ socket: number }>> {
+/** Case temperature per socket in the rig's newest message (the fallback when no minute of the window is summarised yet). */
+export function newestCaseTemps(ds: DataSource, rigId: string): Promise<Array<{ socket: number; mean_c: number | null }>> {
   return ds.query(
-    `SELECT ts.socket FROM rigs r JOIN telemetry_samples ts ON ts.rig_id = r.id AND ts.seq = r.last_seq
-         WHERE r.id = $1 ORDER BY ts.case_c DESC, ts.socket LIMIT 3`,
+    `SELECT ts.socket, ts.case_c AS mean_c FROM rigs r JOIN telemetry_samples ts ON ts.rig_id = r.id AND ts.seq = r.last_seq
+         WHERE r.id = $1`,
     [rigId],
+  );
+}
+
+/** Mean case temperature per socket over [from, to) from the per-minute rollups (socket −1, the chamber, left out). */
+export function meanCaseTemps(
+  ds: DataSource,
+  rigId: string,
+  from: Date,
+  to: Date,
+): Promise<Array<{ socket: number; mean_c: number | null }>> {
+  return ds.query(
+    `SELECT u.socket, sum(u.sum_c) / NULLIF(sum(u.n), 0) AS mean_c FROM telemetry_rollups u
+         WHERE u.rig_id = $1 AND u.socket >= 0 AND u.minute >= date_trunc('minute', $2::timestamptz) AND u.minute < $3
+         GROUP BY u.socket`,
+    [rigId, from, to],
   );
 }
 

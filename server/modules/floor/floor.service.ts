@@ -30,7 +30,18 @@ import { notFound } from '../../http/errors';
 import { ALARM_EVENT, RUN_EVENT } from '../../events';
 import { runCycleTarget, socketCyclesOfRun } from '../runs/cycles.data';
 import { HOLD_PHASES, type HoldPhase } from '../../../shared/holds/sequence';
-import { boardRows, chartRows, holdStepRows, hottestSockets, newestBatchTs, readTileRows, rigIdRows, type TileRow } from './floor.data';
+import {
+  boardRows,
+  chartRows,
+  holdStepRows,
+  meanCaseTemps,
+  newestBatchTs,
+  newestCaseTemps,
+  readTileRows,
+  rigIdRows,
+  type TileRow,
+} from './floor.data';
+import { hottestByMean } from '../../../shared/domain/hottest-sockets';
 
 const round = (n: number, d = 2) => Math.round(n * 10 ** d) / 10 ** d;
 
@@ -164,8 +175,11 @@ export class FloorService {
     const bucketMs = spanMs / points;
     let sockets = q.sockets;
     if (!sockets) {
-      const hot = await hottestSockets(this.ctx.ds, rigId);
-      sockets = hot.map((h) => h.socket).sort((a, b) => a - b);
+      // Highest mean over the shown window (HOTTEST_RULE_TEXT); before its first minute is summarised, the newest message.
+      const toRows = (rows: Array<{ socket: number; mean_c: number | null }>) =>
+        rows.map((r) => ({ socket: Number(r.socket), meanC: r.mean_c === null ? null : Number(r.mean_c) }));
+      sockets = hottestByMean(toRows(await meanCaseTemps(this.ctx.ds, rigId, from, to)));
+      if (!sockets.length) sockets = hottestByMean(toRows(await newestCaseTemps(this.ctx.ds, rigId)));
     }
     const source: FloorChart['source'] = spanMs <= CHART_RAW_SPAN_MS ? 'raw' : 'rollup';
     const rows = await chartRows(this.ctx.ds, source, rigId, from, to, bucketMs, points, sockets);
