@@ -108,8 +108,9 @@ export function DriftTrendChart({ lots, testID }: Props) {
           <VictoryLegend
             standalone
             width={width}
-            height={Math.ceil(shown.length / (phone ? 2 : 4)) * 26 + 34}
-            itemsPerRow={phone ? 2 : 4}
+            // One entry per row on a phone: "HG2612-C · Drifting" does not fit half a phone width.
+            height={Math.ceil(shown.length / (phone ? 1 : 4)) * 26 + 34}
+            itemsPerRow={phone ? 1 : 4}
             gutter={phone ? 12 : 24}
             orientation="horizontal"
             style={legendStyle}

@@ -62,6 +62,7 @@ export function LotDistributionChart({ lot }: { lot: LotDetail }) {
     <View style={{ gap: space.sm }}>
       <SegmentedChoice label="Parameter" options={PARAMS} value={param} onChange={(v) => setParam(v as Param)} testID="lot-chart-param" />
       <View
+        testID="lot-chart"
         onLayout={(e) => setWidth(Math.round(e.nativeEvent.layout.width))}
         accessible
         accessibilityRole="image"

@@ -132,6 +132,14 @@ describe('hottestByMean: the rig chart’s default sockets', () => {
     // The order rows arrive in does not matter: the same window always gives the same sockets.
     expect(hottestByMean([...rows].reverse())).toEqual([1, 2, 7]);
   });
+  it('means within the same degree compare equal, so tenths that wander between loads change nothing', () => {
+    const load1 = [0, 1, 2, 3].map((socket) => ({ socket, meanC: [150.2, 150.4, 149.9, 150.1][socket]! }));
+    const load2 = [0, 1, 2, 3].map((socket) => ({ socket, meanC: [150.1, 149.8, 150.3, 150.2][socket]! }));
+    expect(hottestByMean(load1)).toEqual([0, 1, 2]);
+    expect(hottestByMean(load2)).toEqual([0, 1, 2]);
+    // A socket a degree or more hotter still comes first (a runaway is never hidden by the rounding).
+    expect(hottestByMean([...load1, { socket: 9, meanC: 151.6 }])).toEqual([0, 1, 9]);
+  });
   it('a tie for the last place goes to the lower socket number', () => {
     expect(
       hottestByMean(

@@ -140,7 +140,7 @@ export function newestCaseTemps(ds: DataSource, rigId: string): Promise<Array<{ 
   );
 }
 
-/** Mean case temperature per socket over [from, to) from the per-minute rollups (socket −1, the chamber, left out). */
+/** Mean case temperature per socket over the whole minutes of [from, to) from the per-minute rollups (socket −1, the chamber, left out). */
 export function meanCaseTemps(
   ds: DataSource,
   rigId: string,
@@ -149,7 +149,7 @@ export function meanCaseTemps(
 ): Promise<Array<{ socket: number; mean_c: number | null }>> {
   return ds.query(
     `SELECT u.socket, sum(u.sum_c) / NULLIF(sum(u.n), 0) AS mean_c FROM telemetry_rollups u
-         WHERE u.rig_id = $1 AND u.socket >= 0 AND u.minute >= date_trunc('minute', $2::timestamptz) AND u.minute < $3
+         WHERE u.rig_id = $1 AND u.socket >= 0 AND u.minute >= date_trunc('minute', $2::timestamptz) AND u.minute < date_trunc('minute', $3::timestamptz)
          GROUP BY u.socket`,
     [rigId, from, to],
   );

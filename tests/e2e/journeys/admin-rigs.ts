@@ -20,6 +20,65 @@ export const adminRigs: Journey = {
     await j.checkA11y('rigs');
     await j.shot('rigs');
 
+    // Status pills stay inside their cells: no text of a row lies under one of its buttons (at
+    // 1440 px the pills ran under "Maintenance").
+    const overlaps = await page.getByTestId('rigs-table').evaluate((table) => {
+      // (No DOM lib in this tsconfig: NodeLists are read by index.)
+      const all = table.querySelectorAll('*');
+      const els = Array.from({ length: all.length }, (_, i) => all[i]!);
+      const buttons = els.filter((e) => e.getAttribute('role') === 'button' || e.tagName === 'BUTTON');
+      const texts = els.filter((e) => e.children.length === 0 && (e.textContent ?? '').trim() && !buttons.some((b) => b.contains(e)));
+      const hits: string[] = [];
+      for (const b of buttons) {
+        const r = b.getBoundingClientRect();
+        for (const t of texts) {
+          const q = t.getBoundingClientRect();
+          const w = Math.min(r.right, q.right) - Math.max(r.left, q.left);
+          const h = Math.min(r.bottom, q.bottom) - Math.max(r.top, q.top);
+          if (w > 2 && h > 2) hits.push(`${(t.textContent ?? '').trim()} under ${(b.textContent ?? '').trim()}`);
+        }
+      }
+      return hits;
+    });
+    if (overlaps.length) throw new Error(`rigs table: text under a button: ${overlaps.slice(0, 3).join('; ')}`);
+
+    // Intake health in words: labelled values and a date, no raw counter key or epoch.
+    const health = await page.getByTestId('ingest-health').innerText();
+    if (/[A-Za-z]+_[A-Za-z]+|\b\d{13}\b/.test(health)) throw new Error(`intake health shows raw internals: ${health.slice(0, 200)}`);
+    if (await page.getByTestId('intake-rollups_flushed_at_ms').count())
+      await expect(page.getByTestId('intake-rollups_flushed_at_ms')).toContainText(
+        /Per-minute summaries written up to\s+(\d{4}-\d{2}-\d{2} \d{2}:\d{2}|Not yet)/i,
+      );
+
+    // Maintenance opens where the person is: a sheet in view, even for the last rig of the list.
+    await page
+      .getByRole('button', { name: /^Maintenance of rig / })
+      .last()
+      .click();
+    const sheet = page.getByTestId('rig-service-sheet');
+    await expect(sheet).toBeVisible();
+    await expect(page.getByTestId('maintenance-panel')).toBeVisible();
+    const box = await page.getByTestId('maintenance-panel').boundingBox();
+    const view = page.viewportSize()!;
+    if (!box || box.y < 0 || box.y > view.height - 80)
+      throw new Error(`the maintenance panel is out of view (top at ${box?.y} of ${view.height} px)`);
+    await page.getByRole('button', { name: 'Book maintenance' }).click();
+    await expect(page.getByText('Use the form 2031-03-04 08:00')).toBeVisible();
+    await j.checkA11y('maintenance sheet');
+    await j.shot('maintenance-sheet');
+    await page.getByTestId('maintenance-panel').getByRole('button', { name: 'Close' }).click();
+    await expect(sheet).toHaveCount(0);
+
+    // A field the server refuses gets a message in words beside it, not the validator's text.
+    await page.getByTestId('hold-edit').click();
+    await page.getByTestId('hold-bias-off-at').fill('');
+    await page.getByTestId('hold-reason').fill('Checking the form');
+    await page.getByTestId('hold-save').click();
+    await expect(page.getByTestId('hold-settings-form')).toContainText(/enter a temperature in °C|Enter a number/);
+    if (/expected \w+, received/.test(await page.getByTestId('hold-settings-form').innerText())) throw new Error('validator text shown');
+    await j.shot('hold-field-error');
+    await page.getByTestId('hold-settings-form').getByRole('button', { name: 'Cancel' }).click();
+
     await page.getByTestId('register-rig').click();
     await page.getByTestId('rig-code').fill(code);
     await page.getByTestId('rig-name').fill(`Bench oven for the ${j.size} journey`);
@@ -35,6 +94,14 @@ export const adminRigs: Journey = {
     await expect(page.getByTestId('secret-username')).toContainText(`rig-${code.toLowerCase()}`);
     const secret = (await page.getByTestId('secret-value').innerText()).trim();
     if (secret.length < 16) throw new Error(`the one-time secret looks too short: ${secret.length} characters`);
+    // The broker address from the server's configuration (this stack: MQTT on the API port + 1), and a copy button.
+    await expect(page.getByTestId('secret-broker-host')).toContainText('127.0.0.1');
+    await expect(page.getByTestId('secret-broker-port')).toContainText(String(Number(new URL(j.baseUrl).port) + 1));
+    await page.context().grantPermissions(['clipboard-read', 'clipboard-write'], { origin: j.baseUrl });
+    await page.getByRole('button', { name: 'Copy the secret' }).click();
+    await expect(page.getByTestId('secret-value-copied')).toContainText('Secret copied to the clipboard.');
+    const copied = await page.evaluate('navigator.clipboard.readText()');
+    if (copied !== secret) throw new Error('the clipboard does not hold the secret');
     await j.checkA11y('secret reveal');
     await j.shot('secret-shown-once');
 

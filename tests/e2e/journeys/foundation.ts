@@ -67,6 +67,23 @@ export const adminPeople: Journey = {
     await expect(page.getByText(email).first()).toBeVisible();
     await j.shot('person-added');
 
+    // The whole address is shown (it was cut with an ellipsis at 1440 px).
+    const cut = await page
+      .getByText(email, { exact: true })
+      .first()
+      .evaluate((el) => el.scrollWidth > el.clientWidth + 1 || el.scrollHeight > el.clientHeight + 1);
+    if (cut) throw new Error(`the e-mail address ${email} is cut off`);
+    // Search by name, e-mail or role (in the browser: the list is loaded whole).
+    await page.getByTestId('people-search').fill(`e2e-${j.unique}`);
+    await expect(page.getByTestId('people-table')).toContainText(email);
+    await expect(page.getByTestId('people-table')).toContainText(name);
+    if ((await page.getByTestId('people-table').innerText()).includes(DEMO.engineer.email))
+      throw new Error('search kept a person who does not match');
+    await j.shot('people-search');
+    await page.getByTestId('people-search').fill('nobody-has-this-name');
+    await expect(page.getByText('Nobody matches')).toBeVisible();
+    await page.getByTestId('people-search').fill('');
+
     await page.getByRole('button', { name: `Change role of ${name}` }).click();
     const roleDialog = page.getByRole('dialog');
     await roleDialog
