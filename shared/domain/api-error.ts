@@ -57,13 +57,15 @@ export function plainFieldMessage(message: string): string {
   if ((r = /^Too small: expected number to be >(-?[\d.e+-]+)$/.exec(m))) return `Enter more than ${r[1]}`;
   if ((r = /^Too big: expected number to be <=(-?[\d.e+-]+)$/.exec(m))) return `Enter at most ${r[1]}`;
   if ((r = /^Too big: expected number to be <(-?[\d.e+-]+)$/.exec(m))) return `Enter less than ${r[1]}`;
-  if ((r = /^Too small: expected string to have >=(\d+) characters?$/.exec(m))) return r[1] === '1' ? 'Fill this in' : `Use at least ${r[1]} characters`;
+  if ((r = /^Too small: expected string to have >=(\d+) characters?$/.exec(m)))
+    return r[1] === '1' ? 'Fill this in' : `Use at least ${r[1]} characters`;
   if ((r = /^Too big: expected string to have <=(\d+) characters?$/.exec(m))) return `Use at most ${r[1]} characters`;
   if ((r = /^Too small: expected array to have >=(\d+) items?$/.exec(m))) return `Give at least ${r[1]}`;
   if ((r = /^Too big: expected array to have <=(\d+) items?$/.exec(m))) return `Give at most ${r[1]}`;
-  if (/^Invalid input: expected int, received number$/.test(m) || /^Invalid input: expected an integer/.test(m)) return 'Enter a whole number';
-  if (/^Invalid option: expected one of/.test(m)) return 'Choose one of the offered values';
-  if (/^Unrecognized keys?:/.test(m)) return 'Not expected here';
+  if (/^Invalid input: expected int, received number$/.test(m) || /^Invalid input: expected an integer/.test(m))
+    return 'Enter a whole number';
+  if ((r = /^Invalid option: expected one of (.+)$/.exec(m))) return `Choose one of ${r[1].replace(/"/g, '').split('|').join(', ')}`;
+  if ((r = /^Unrecognized keys?: (.+)$/.exec(m))) return `Remove what is not expected here: ${r[1].replace(/"/g, '')}`;
   if (/^Invalid (ISO )?(datetime|date)/.test(m)) return 'Enter a date and time such as 2031-03-04 08:00';
   if (/^Invalid (email|e-mail)/i.test(m)) return 'Enter an e-mail address';
   if (/^Invalid (input|string|UUID|uuid)\b/.test(m)) return 'This value is not valid';

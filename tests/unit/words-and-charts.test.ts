@@ -82,7 +82,8 @@ describe('plainFieldMessage: validator defaults in words for a form', () => {
     ['Enter more than 0', z.number().positive(), 0],
     ['Use at least 3 characters', z.string().min(3), 'ab'],
     ['Use at most 5 characters', z.string().max(5), 'abcdefg'],
-    ['Choose one of the offered values', z.enum(['a', 'b']), 'c'],
+    ['Choose one of a, b', z.enum(['a', 'b']), 'c'],
+    ['Remove what is not expected here: extra', z.object({ a: z.number() }).strict(), { a: 1, extra: 1 }],
     ['Choose yes or no', z.boolean(), undefined],
   ])('→ %s', (plain, schema, value) => {
     const raw = messageOf(schema as z.ZodType, value);
