@@ -47,7 +47,9 @@ function Secret({ label, value, testID, copyLabel }: { label: string; value: str
       </View>
       {copied ? (
         <Text variant="caption" tone={copied === 'yes' ? 'muted' : 'danger'} accessibilityLiveRegion="polite" testID={`${testID}-copied`}>
-          {copied === 'yes' ? `${label} copied to the clipboard.` : 'This browser did not allow copying: select the text and copy it by hand.'}
+          {copied === 'yes'
+            ? `${label} copied to the clipboard.`
+            : 'This browser did not allow copying: select the text and copy it by hand.'}
         </Text>
       ) : null}
     </View>

@@ -182,7 +182,9 @@ export class RigsService {
         { actor, action: 'rig.credentials.rotate', entity: 'rig', entityId: rig.id, details: { code: rig.code, wasRevoked } },
         m,
       );
-      return { rig: toRig(rig), credentials: {
+      return {
+        rig: toRig(rig),
+        credentials: {
           username: rig.mqttUsername,
           secret,
           issuedAt: rig.credentialsIssuedAt.toISOString(),
