@@ -21,6 +21,7 @@ import {
   pctText,
   table,
   type Pdf,
+  FONT,
 } from './pdf-doc';
 import type {
   LotReportData,
@@ -75,7 +76,7 @@ export function writePlanSamples(doc: Pdf, plans: readonly ReportPlan[]): void {
     ]),
     (i) => (plans[i].failures > plans[i].acceptNumber ? ALERT : null),
   );
-  doc.font('Helvetica').fontSize(7.5).fillColor(MUTED);
+  doc.font(FONT.regular).fontSize(7.5).fillColor(MUTED);
   para(
     doc,
     `LTPD at ${plans[0] ? fmt(plans[0].confidence * 100) : '90'} % confidence: the plan's from its sample and accept number, the one shown from the devices judged and the failures seen (exact binomial).`,
@@ -95,14 +96,14 @@ export function writeDeviceTable(doc: Pdf, rows: readonly ReportDeviceRow[]): vo
   table(
     doc,
     [
-      { header: 'Serial', width: 50 },
-      { header: 'Run / socket', width: 74 },
-      { header: 'Status', width: 42 },
+      { header: 'Serial', width: 46 },
+      { header: 'Run / socket', width: 102 },
+      { header: 'Status', width: 34 },
       { header: 'Failed at', width: 40, align: 'right' },
-      { header: 'hFE %', width: 36, align: 'right' },
-      { header: 'ICBO x', width: 36, align: 'right' },
-      { header: 'VCEsat mV', width: 44, align: 'right' },
-      { header: 'Why / disposition', width: contentWidth(doc) - 322 },
+      { header: 'hFE %', width: 34, align: 'right' },
+      { header: 'ICBO x', width: 34, align: 'right' },
+      { header: 'VCEsat mV', width: 40, align: 'right' },
+      { header: 'Why / disposition', width: contentWidth(doc) - 330 },
     ],
     rows.map((r) => [
       r.serial,
@@ -116,7 +117,7 @@ export function writeDeviceTable(doc: Pdf, rows: readonly ReportDeviceRow[]): vo
     ]),
     (i) => (rows[i].status === 'fail' ? ALERT : null),
   );
-  doc.font('Helvetica').fontSize(7.5).fillColor(MUTED);
+  doc.font(FONT.regular).fontSize(7.5).fillColor(MUTED);
   para(doc, 'Drift columns: the latest read point of the run analysed; hFE change in %, ICBO as a ratio to time zero, VCE(sat) shift in mV.');
   doc.fillColor(INK).fontSize(9.5);
 }
@@ -128,15 +129,15 @@ export function writeSignatures(doc: Pdf, signatures: readonly ReportSignature[]
   }
   for (const s of signatures) {
     keepTogether(doc, 44);
-    doc.font('Helvetica-Bold').fontSize(9.5).fillColor(s.stale ? MUTED : INK);
+    doc.font(FONT.bold).fontSize(9.5).fillColor(s.stale ? MUTED : INK);
     para(doc, `${s.name} <${s.email}> - ${s.meaning}`);
-    doc.font('Helvetica').fontSize(8.5);
+    doc.font(FONT.regular).fontSize(8.5);
     para(doc, `Signed ${formatUtc(s.signedAt)} for the verdict "${s.verdict}"${s.stale ? '; the data has changed since, so this signature no longer covers the verdict' : ''}.`);
-    doc.font('Courier').fontSize(7.5);
+    doc.font(FONT.mono).fontSize(7.5);
     para(doc, `SHA-256 ${s.dataHash}`);
     doc.moveDown(0.3);
   }
-  doc.font('Helvetica').fontSize(7.5).fillColor(MUTED);
+  doc.font(FONT.regular).fontSize(7.5).fillColor(MUTED);
   para(doc, `The judged evidence as it stands now hashes to SHA-256 ${currentHash} (canonical JSON; a signature covers the verdict when its hash is the same).`);
   doc.fillColor(INK).fontSize(9.5);
 }
@@ -166,7 +167,7 @@ export function writeEquipment(doc: Pdf, rows: readonly ReportEquipment[]): void
       day(r.interlockTestedAt),
     ]),
   );
-  doc.font('Helvetica').fontSize(7.5).fillColor(CAUTION_INK);
+  doc.font(FONT.regular).fontSize(7.5).fillColor(CAUTION_INK);
   para(
     doc,
     'A software trip is no substitute for the rig hardware interlocks: the dates above are the records the start permit checked, not a test of the interlocks. Follow the lab safety rules and local codes for high voltage and hot ovens.',
@@ -205,7 +206,7 @@ export function writeReliability(doc: Pdf, rows: readonly ReportReliability[]): 
           ],
     ),
   );
-  doc.font('Helvetica').fontSize(7.5).fillColor(MUTED);
+  doc.font(FONT.regular).fontSize(7.5).fillColor(MUTED);
   for (const r of rows) if (!r.unavailable) para(doc, `${r.planName}: ${r.model}; ${r.parameters}. Method: ${r.method}.`);
   doc.fillColor(INK).fontSize(9.5);
 }

@@ -15,7 +15,7 @@ import { formatUtc } from '../../../shared/domain/format';
 import { PLAN_KIND_LABEL } from '../../../shared/schemas/plans';
 import { SOURCES } from '../../../shared/plan-templates';
 import { writeTraceability } from './blocks';
-import { ALERT, CAUTION_INK, contentWidth, field, fmt, footers, heading, INK, MUTED, newPdf, para, pctText, table } from './pdf-doc';
+import { ALERT, CAUTION_INK, contentWidth, field, fmt, footers, heading, INK, MUTED, newPdf, para, pctText, table, FONT } from './pdf-doc';
 import type { LotReportData, ReportPlan, ReportSignature } from './report-data';
 import type { PlanConditionRow } from './reports.data';
 
@@ -71,9 +71,9 @@ export async function certificatePdf({ report: r, plans }: CertificateInput): Pr
   const signed = approvals(r.signatures);
   const number = certificateNumber(r.lot.code, r.evidenceHash);
   const { doc, done } = newPdf({ title: `Certificate of conformance ${number}`, subject: `${r.lot.partNumber} lot ${r.lot.code}` });
-  doc.font('Helvetica-Bold').fontSize(20).fillColor(INK);
+  doc.font(FONT.bold).fontSize(20).fillColor(INK);
   para(doc, 'Certificate of conformance');
-  doc.font('Helvetica').fontSize(9).fillColor(MUTED);
+  doc.font(FONT.regular).fontSize(9).fillColor(MUTED);
   para(doc, `No. ${number}    Issued ${formatUtc(r.generatedAt)} by Emberlot`);
   doc.moveDown(0.6).fillColor(INK);
 
@@ -84,9 +84,9 @@ export async function certificatePdf({ report: r, plans }: CertificateInput): Pr
   const byId = new Map(plans.map((p) => [p.id, p]));
   for (const p of r.plans) {
     const c = byId.get(p.planId);
-    doc.font('Helvetica-Bold').fontSize(9.5);
+    doc.font(FONT.bold).fontSize(9.5);
     para(doc, `${p.planName}${c ? ` (version ${c.version})` : ''}`);
-    doc.font('Helvetica').fontSize(9);
+    doc.font(FONT.regular).fontSize(9);
     if (c) {
       field(doc, 'Conditions', conditions(c));
       field(doc, 'Method', sourceWords(SOURCE_BY_KIND[c.kind]));
@@ -98,7 +98,7 @@ export async function certificatePdf({ report: r, plans }: CertificateInput): Pr
   }
 
   heading(doc, 'Statement', 80);
-  doc.font('Helvetica').fontSize(9.5);
+  doc.font(FONT.regular).fontSize(9.5);
   para(
     doc,
     `We certify that the sample drawn from lot ${r.lot.code} of ${r.lot.partNumber} was stressed and measured under the plan(s) above, ` +
@@ -118,11 +118,11 @@ export async function certificatePdf({ report: r, plans }: CertificateInput): Pr
     ],
     signed.map((s) => [s.name, s.email, s.meaning, formatUtc(s.signedAt)]),
   );
-  doc.moveDown(0.4).font('Helvetica').fontSize(8.5).fillColor(INK);
+  doc.moveDown(0.4).font(FONT.regular).fontSize(8.5).fillColor(INK);
   para(doc, 'The signatures are electronic (printed name, meaning and time of signing) and sign the SHA-256 of the judged evidence:');
-  doc.font('Courier').fontSize(8.5);
+  doc.font(FONT.mono).fontSize(8.5);
   para(doc, r.evidenceHash);
-  doc.font('Helvetica').fontSize(7.5).fillColor(MUTED);
+  doc.font(FONT.regular).fontSize(7.5).fillColor(MUTED);
   para(
     doc,
     'Issue rule: the lot verdict judged now is "passed" and at least one current signature approves it for release (its hash equals the one above). ' +

@@ -5,7 +5,7 @@
  * drawn at its edge as open triangles and counted under the chart.
  */
 import { clampTo, mapLinear, niceScale, placeLabels, tickLabel, yDomain } from './chart-scale';
-import { ALERT, INK, MUTED, RULE, pdfText, type Box, type Pdf } from './pdf-doc';
+import { ALERT, INK, MUTED, RULE, pdfText, type Box, type Pdf, FONT } from './pdf-doc';
 
 export interface DriftSeries {
   /** The device (serial). */
@@ -38,9 +38,9 @@ export function driftChartLayout(chart: DriftChart) {
 export function drawDriftChart(doc: Pdf, box: Box, chart: DriftChart): void {
   const { x: xs, y: ys, beyond } = driftChartLayout(chart);
   doc.save();
-  doc.font('Helvetica-Bold').fontSize(9.5).fillColor(INK);
+  doc.font(FONT.bold).fontSize(9.5).fillColor(INK);
   doc.text(pdfText(chart.title), box.x, box.y, { width: box.w, lineBreak: false });
-  doc.font('Helvetica').fontSize(7);
+  doc.font(FONT.regular).fontSize(7);
   const yLabels = ys.ticks.map(tickLabel);
   const gutter = Math.max(...yLabels.map((l) => doc.widthOfString(l))) + 6;
   const plot = { x: box.x + gutter + 12, y: box.y + 16, w: box.w - gutter - 16, h: box.h - 16 - 30 };
@@ -73,7 +73,9 @@ export function drawDriftChart(doc: Pdf, box: Box, chart: DriftChart): void {
   for (const l of chart.limits) {
     if (l.y < ys.min || l.y > ys.max) continue;
     doc.lineWidth(0.8).strokeColor(ALERT).dash(4, { space: 3 }).moveTo(plot.x, py(l.y)).lineTo(plot.x + plot.w, py(l.y)).stroke().undash();
-    doc.fillColor(ALERT).text(pdfText(l.label), plot.x + 3, py(l.y) + (l.y >= 0 ? -9 : 2), { lineBreak: false });
+    // Above a positive limit, below a negative one, but never outside the plot.
+    const above = l.y >= 0 && py(l.y) - 9 >= plot.y;
+    doc.fillColor(ALERT).text(pdfText(l.label), plot.x + 3, py(l.y) + (above ? -9 : 2), { lineBreak: false });
   }
 
   // Devices: passing ones first (grey), failed ones on top (red).
@@ -110,7 +112,7 @@ export function drawDriftChart(doc: Pdf, box: Box, chart: DriftChart): void {
   ]
     .filter(Boolean)
     .join(' ');
-  doc.font('Helvetica').fontSize(7).fillColor(MUTED).text(pdfText(words), box.x, box.y + box.h - 6, { width: box.w });
+  doc.font(FONT.regular).fontSize(7).fillColor(MUTED).text(pdfText(words), box.x, box.y + box.h - 6, { width: box.w });
   doc.restore();
   doc.x = doc.page.margins.left;
   doc.y = Math.max(doc.y, box.y + box.h + 4);

@@ -7,7 +7,7 @@ import { LOT_VERDICT_LABEL, type LotDetail, type LotReadingVersion } from '../..
 import { RECORD_DEVIATION_LABEL } from '../../../shared/domain/records';
 import { describeParameters } from '../../../shared/reliability/mechanisms';
 import { writeLotSection } from './blocks';
-import { CAUTION_INK, footers, heading, MUTED, newPdf, para, pdfText } from './pdf-doc';
+import { CAUTION_INK, footers, heading, MUTED, newPdf, para, pdfText, FONT } from './pdf-doc';
 import type { LotReportData } from './report-data';
 import { csvLine, type Cell } from './csv';
 
@@ -285,15 +285,15 @@ function writeReportBlocksCsv(lines: string[], r: LotReportData) {
 /** The lot report PDF: a title, the lot section (every block), the drift table and the caution. */
 export async function lotReportPdf(r: LotReportData): Promise<Buffer> {
   const { doc, done } = newPdf({ title: `Lot ${r.lot.code} report`, subject: `${r.lot.partNumber} lot ${r.lot.code}` });
-  doc.font('Helvetica-Bold').fontSize(18);
+  doc.font(FONT.bold).fontSize(18);
   para(doc, `Lot ${r.lot.code} - reliability report`);
-  doc.font('Helvetica').fontSize(9).fillColor(MUTED);
+  doc.font(FONT.regular).fontSize(9).fillColor(MUTED);
   para(doc, `${r.lot.partNumber}. Generated ${formatUtc(r.generatedAt)} by Emberlot.${r.run ? ` Drift from run ${r.run.code} (${r.run.state}).` : ''}`);
   doc.fillColor('#000000');
   writeLotSection(doc, r);
   writeDriftTablePdf(doc, r.detail);
   heading(doc, 'Caution', 40);
-  doc.font('Helvetica-Oblique').fontSize(9).fillColor(CAUTION_INK);
+  doc.font(FONT.regular).fontSize(9).fillColor(CAUTION_INK);
   para(doc, r.caution);
   footers(doc, `Emberlot - lot ${r.lot.code} - generated ${formatUtc(r.generatedAt)}`);
   doc.end();
@@ -310,7 +310,7 @@ function writeDriftTablePdf(doc: PDFKit.PDFDocument, d: LotDetail) {
     if (doc.y + 13 > doc.page.height - doc.page.margins.bottom) doc.addPage();
     const y = doc.y;
     let x = doc.page.margins.left;
-    doc.font(bold ? 'Helvetica-Bold' : 'Helvetica').fontSize(8);
+    doc.font(bold ? FONT.bold : FONT.regular).fontSize(8);
     cells.forEach((c, i) => {
       doc.text(pdfText(c), x, y, { width: widths[i] - 4, lineBreak: false });
       x += widths[i];

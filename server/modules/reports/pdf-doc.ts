@@ -4,6 +4,17 @@
  */
 import PDFDocument from 'pdfkit';
 
+/**
+ * Lexend (the app's typeface, SIL OFL) embedded as subsets: a viewer draws exactly the glyphs and
+ * widths the line breaks were measured with. With the unembedded standard fonts, a viewer without
+ * Helvetica-compatible metrics substituted a wider face and lines ran past the margin.
+ */
+const FONT_FILES = {
+  regular: require.resolve('@expo-google-fonts/lexend/400Regular/Lexend_400Regular.ttf'),
+  bold: require.resolve('@expo-google-fonts/lexend/600SemiBold/Lexend_600SemiBold.ttf'),
+} as const;
+export const FONT = { regular: 'Body', bold: 'Body-Bold', mono: 'Courier' } as const;
+
 export type Pdf = PDFKit.PDFDocument;
 
 /** A rectangle on the page, in PDF points (1/72 in), y downwards from the top. */
@@ -29,6 +40,9 @@ export function newPdf(info: { title: string; subject?: string }): { doc: Pdf; d
     bufferPages: true,
     info: { Title: pdfText(info.title), Author: 'Emberlot', ...(info.subject ? { Subject: pdfText(info.subject) } : {}) },
   });
+  doc.registerFont(FONT.regular, FONT_FILES.regular);
+  doc.registerFont(FONT.bold, FONT_FILES.bold);
+  doc.font(FONT.regular);
   const chunks: Buffer[] = [];
   const done = new Promise<Buffer>((resolve, reject) => {
     doc.on('data', (c: Buffer) => chunks.push(c));
@@ -46,6 +60,10 @@ export function pdfText(s: string): string {
     .replace(/≥/g, '>=')
     .replace(/σ/g, 'sigma')
     .replace(/β/g, 'beta')
+    .replace(/η/g, 'eta')
+    .replace(/θ/g, 'theta')
+    .replace(/Δ/g, 'delta ')
+    .replace(/≈/g, '~')
     .replace(/χ²/g, 'chi-square')
     .replace(/⁹/g, '^9')
     .replace(/→/g, '->')
@@ -79,19 +97,19 @@ export function keepTogether(doc: Pdf, height: number): void {
 export function heading(doc: Pdf, s: string, next = 60): void {
   doc.moveDown(0.6);
   keepTogether(doc, 20 + next);
-  doc.font('Helvetica-Bold').fontSize(12).fillColor(INK);
+  doc.font(FONT.bold).fontSize(12).fillColor(INK);
   para(doc, s);
-  doc.moveDown(0.2).font('Helvetica').fontSize(9.5).fillColor(INK);
+  doc.moveDown(0.2).font(FONT.regular).fontSize(9.5).fillColor(INK);
 }
 
 /** A label: value line. */
 export function field(doc: Pdf, label: string, value: string): void {
   keepTogether(doc, 14);
   const y = doc.y;
-  doc.font('Helvetica-Bold').fontSize(9.5).fillColor(MUTED);
+  doc.font(FONT.bold).fontSize(9.5).fillColor(MUTED);
   doc.text(pdfText(label), doc.page.margins.left, y, { width: 130 });
   const afterLabel = doc.y;
-  doc.font('Helvetica').fillColor(INK);
+  doc.font(FONT.regular).fillColor(INK);
   doc.text(pdfText(value || '-'), doc.page.margins.left + 134, y, { width: contentWidth(doc) - 134 });
   doc.y = Math.max(doc.y, afterLabel);
   doc.x = doc.page.margins.left;
@@ -105,7 +123,7 @@ export function footers(doc: Pdf, text: string): void {
     const bottom = doc.page.margins.bottom;
     doc.page.margins.bottom = 0;
     doc
-      .font('Helvetica')
+      .font(FONT.regular)
       .fontSize(7.5)
       .fillColor(MUTED)
       .text(pdfText(`${text}    Page ${i + 1} of ${range.count}`), doc.page.margins.left, doc.page.height - 30, {
@@ -132,7 +150,7 @@ export function table(doc: Pdf, columns: readonly Column[], rows: readonly strin
   const pad = 2;
   const fontSize = 8;
   const heightOf = (cells: readonly string[], bold: boolean) => {
-    doc.font(bold ? 'Helvetica-Bold' : 'Helvetica').fontSize(fontSize);
+    doc.font(bold ? FONT.bold : FONT.regular).fontSize(fontSize);
     return Math.max(...cells.map((c, i) => doc.heightOfString(pdfText(c), { width: columns[i].width - 2 * pad }))) + 2 * pad;
   };
   const draw = (cells: readonly string[], bold: boolean, color: string, shade: boolean) => {
@@ -144,7 +162,7 @@ export function table(doc: Pdf, columns: readonly Column[], rows: readonly strin
     const y = doc.y;
     if (shade) doc.save().rect(left, y, columns.reduce((s, c) => s + c.width, 0), h).fill('#f2f2f2').restore();
     let x = left;
-    doc.font(bold ? 'Helvetica-Bold' : 'Helvetica').fontSize(fontSize).fillColor(color);
+    doc.font(bold ? FONT.bold : FONT.regular).fontSize(fontSize).fillColor(color);
     cells.forEach((c, i) => {
       doc.text(pdfText(c), x + pad, y + pad, { width: columns[i].width - 2 * pad, align: columns[i].align ?? 'left' });
       x += columns[i].width;
@@ -158,5 +176,5 @@ export function table(doc: Pdf, columns: readonly Column[], rows: readonly strin
   draw(columns.map((c) => c.header), true, INK, false);
   rows.forEach((r, i) => draw(r, false, tone?.(i) ?? INK, i % 2 === 1));
   doc.x = left;
-  doc.fillColor(INK).font('Helvetica').fontSize(9.5);
+  doc.fillColor(INK).font(FONT.regular).fontSize(9.5);
 }
