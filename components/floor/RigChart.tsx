@@ -3,6 +3,7 @@ import { View } from 'react-native';
 import { VictoryAxis, VictoryChart, VictoryLegend, VictoryLine } from 'victory-native';
 import type { FloorChart } from '@/shared/schemas/floor';
 import { HOLD_PHASE_LABEL, type HoldPhase } from '@/shared/holds/words';
+import { TIER_CAPTION } from '@/shared/domain/telemetry-tiers';
 import { colors, fonts, space } from '@/components/theme/tokens';
 import { Text } from '@/components/ui/Text';
 
@@ -136,11 +137,18 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
             </View>
           ) : null}
           <Text variant="caption" tone="muted" style={{ paddingHorizontal: space.xs }}>
-            {chart.source === 'raw' ? 'From every sample' : 'From per-minute averages'}, one point per{' '}
-            {Math.max(1, Math.round(chart.bucketMs / 1000))} s.
+            {TIER_CAPTION[chart.source]}, one point per {bucketText(chart.bucketMs)}.
           </Text>
         </>
       ) : null}
     </View>
   );
+}
+
+/** A bucket's length for the caption: seconds, minutes or hours (a year's chart has buckets of about a day). */
+export function bucketText(ms: number): string {
+  const s = Math.max(1, Math.round(ms / 1000));
+  if (s < 120) return `${s} s`;
+  if (s < 7200) return `${Math.round(s / 60)} min`;
+  return `${Math.round(s / 360) / 10} h`;
 }
