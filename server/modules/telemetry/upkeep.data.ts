@@ -1,5 +1,27 @@
 /** The telemetry upkeep's SQL (upkeep.ts): day partitions, kept windows, the hourly tier. */
-import type { PoolClient } from 'pg';
+import type { Pool, PoolClient } from 'pg';
+
+/** pg_advisory_xact_lock key of the upkeep ('EMBU' in ASCII): one run at a time per database. */
+const UPKEEP_LOCK = 0x454d4255;
+
+/** One step of the upkeep in a transaction of its own, holding the upkeep's lock. */
+export async function inTransaction<T>(pool: Pool, work: (c: PoolClient) => Promise<T>): Promise<T> {
+  const c = await pool.connect();
+  try {
+    await c.query('BEGIN');
+    // A drop waits for the ingest's transactions in flight on the table; it must not queue them for long.
+    await c.query(`SET LOCAL lock_timeout = '10s'`);
+    await c.query('SELECT pg_advisory_xact_lock($1)', [UPKEEP_LOCK]);
+    const out = await work(c);
+    await c.query('COMMIT');
+    return out;
+  } catch (err) {
+    await c.query('ROLLBACK').catch(() => undefined);
+    throw err;
+  } finally {
+    c.release();
+  }
+}
 
 export type DayPartitioned = 'telemetry_batches' | 'telemetry_rollups';
 

@@ -22,7 +22,7 @@
  * the API on node-cron (already the scheduler's job runner), every 5 minutes and once at start.
  * One run at a time per database: a transaction-level advisory lock.
  */
-import type { Pool, PoolClient } from 'pg';
+import type { Pool } from 'pg';
 import { RECOVERY_MARGIN_MS } from './rollups';
 import {
   dayPartitions,
@@ -31,6 +31,7 @@ import {
   ensureDays,
   hourlyFromMinutePartition,
   hourlyWatermark,
+  inTransaction,
   keepWindows,
   rebuildTouchedHours,
   type DayPartitioned,
@@ -40,9 +41,6 @@ import {
 export const AHEAD_DAYS = 3;
 /** When the telemetry feature runs the upkeep (node-cron: every 5 minutes). */
 export const UPKEEP_CRON = '*/5 * * * *';
-/** pg_advisory_xact_lock key of the upkeep ('EMBU' in ASCII). */
-const UPKEEP_LOCK = 0x454d4255;
-
 const DAY_MS = 86_400_000;
 
 export interface UpkeepOptions {
@@ -62,24 +60,6 @@ export interface UpkeepResult {
 }
 
 const dayText = (ms: number) => new Date(ms).toISOString().slice(0, 10);
-
-async function inTransaction<T>(pool: Pool, work: (c: PoolClient) => Promise<T>): Promise<T> {
-  const c = await pool.connect();
-  try {
-    await c.query('BEGIN');
-    // A drop waits for the ingest's transactions in flight on the table; it must not queue them for long.
-    await c.query(`SET LOCAL lock_timeout = '10s'`);
-    await c.query('SELECT pg_advisory_xact_lock($1)', [UPKEEP_LOCK]);
-    const out = await work(c);
-    await c.query('COMMIT');
-    return out;
-  } catch (err) {
-    await c.query('ROLLBACK').catch(() => undefined);
-    throw err;
-  } finally {
-    c.release();
-  }
-}
 
 /** One upkeep run; `now` is the clock the windows count from (tests move it ahead). */
 export async function runTelemetryUpkeep(pool: Pool, opts: UpkeepOptions, now: Date = new Date()): Promise<UpkeepResult> {
