@@ -96,10 +96,15 @@ export async function runStorage(b: BenchEnv, log: (l: string) => void): Promise
     );
 
   // 1. Raw: one rig's messages alone in day D's partition.
-  await q(`SELECT telemetry_day_partition('telemetry_batches', $1::date), telemetry_day_partition('telemetry_rollups', $1::date)`, [dayText]);
+  await q(`SELECT telemetry_day_partition('telemetry_batches', $1::date), telemetry_day_partition('telemetry_rollups', $1::date)`, [
+    dayText,
+  ]);
   await rawMessages(dayD, messages);
   const rawPart = `telemetry_batches_p${suffix}`;
-  const [raw] = await q<{ bytes: string; n: string }>(`SELECT pg_total_relation_size($1::regclass) AS bytes, (SELECT count(*) FROM ${rawPart}) AS n`, [rawPart]);
+  const [raw] = await q<{ bytes: string; n: string }>(
+    `SELECT pg_total_relation_size($1::regclass) AS bytes, (SELECT count(*) FROM ${rawPart}) AS n`,
+    [rawPart],
+  );
   const samples = Number(raw.n) * SOCKETS;
   const rawPerSample = Number(raw.bytes) / samples;
 
@@ -134,7 +139,9 @@ export async function runStorage(b: BenchEnv, log: (l: string) => void): Promise
   const minutePerRow = Number(minute.bytes) / Number(minute.n);
 
   // 4. Hourly rollups: 366 days for the chart rig; the table's growth per row.
-  const [h0] = await q<{ bytes: string; n: string }>(`SELECT pg_total_relation_size('telemetry_hourly') AS bytes, (SELECT count(*) FROM telemetry_hourly) AS n`);
+  const [h0] = await q<{ bytes: string; n: string }>(
+    `SELECT pg_total_relation_size('telemetry_hourly') AS bytes, (SELECT count(*) FROM telemetry_hourly) AS n`,
+  );
   const hourStart = Math.floor(now / 3_600_000) * 3_600_000;
   await q(
     `INSERT INTO telemetry_hourly (rig_id, socket, hour, n, sum_c, min_c, max_c, sum_ia, stress_clock_s)
@@ -142,16 +149,22 @@ export async function runStorage(b: BenchEnv, log: (l: string) => void): Promise
      FROM generate_series(1, 366 * 24) g CROSS JOIN generate_series(-1, $3::int - 1) s`,
     [rig.id, new Date(hourStart), SOCKETS],
   );
-  const [h1] = await q<{ bytes: string; n: string }>(`SELECT pg_total_relation_size('telemetry_hourly') AS bytes, (SELECT count(*) FROM telemetry_hourly) AS n`);
+  const [h1] = await q<{ bytes: string; n: string }>(
+    `SELECT pg_total_relation_size('telemetry_hourly') AS bytes, (SELECT count(*) FROM telemetry_hourly) AS n`,
+  );
   const hourPerRow = (Number(h1.bytes) - Number(h0.bytes)) / (Number(h1.n) - Number(h0.n));
 
   // 5. Recent history for the short charts: the last hour raw, the last 2 days of minute rollups.
   await rawMessages(new Date(now - 3_600_000), 3600);
   await minuteRows(new Date(Math.floor(now / 60_000) * 60_000 - 2 * DAY), 2 * 1440);
-  await q(`UPDATE rigs SET last_seq = (SELECT max(seq) FROM telemetry_batches WHERE rig_id = $1), last_seen_at = now() WHERE id = $1`, [rig.id]);
+  await q(`UPDATE rigs SET last_seq = (SELECT max(seq) FROM telemetry_batches WHERE rig_id = $1), last_seen_at = now() WHERE id = $1`, [
+    rig.id,
+  ]);
   await q('ANALYZE telemetry_batches, telemetry_rollups, telemetry_hourly');
   const generatedS = (Date.now() - t0) / 1000;
-  log(`  generated ${messages + 3600} messages, ${(1440 + 2880) * (SOCKETS + 1)} minute rows, ${366 * 24 * (SOCKETS + 1)} hourly rows in ${generatedS.toFixed(1)} s`);
+  log(
+    `  generated ${messages + 3600} messages, ${(1440 + 2880) * (SOCKETS + 1)} minute rows, ${366 * 24 * (SOCKETS + 1)} hourly rows in ${generatedS.toFixed(1)} s`,
+  );
 
   // 6. Charts across tiers.
   const mgr = DEMO_USERS.find((u) => u.role === 'manager')!;
@@ -183,7 +196,12 @@ export async function runStorage(b: BenchEnv, log: (l: string) => void): Promise
       rowPerSampleSamplesOnly: round(Number(rowForm.samples) / samples, 1),
       denserBy: round(rowPerSample / rawPerSample, 1),
     },
-    bytesPerRow: { rawMessage: round(perMessage, 0), minute: round(minutePerRow, 1), hour: round(hourPerRow, 1), kept: round(perMessage, 0) },
+    bytesPerRow: {
+      rawMessage: round(perMessage, 0),
+      minute: round(minutePerRow, 1),
+      hour: round(hourPerRow, 1),
+      kept: round(perMessage, 0),
+    },
     bytesPerSocketHour: { raw: round(3600 * rawPerSample, 0), minute: round(60 * minutePerRow, 0), hour: round(hourPerRow, 1) },
     projectedYear: {
       lab: `${LAB.rigs} rigs × ${LAB.sockets} sockets at ${LAB.hz} Hz`,

@@ -15,7 +15,7 @@ export const RAW_KEEP_DAYS = 14;
 /** Days of per-minute rollups kept (EMBERLOT_MINUTE_KEEP_DAYS). */
 export const MINUTE_KEEP_DAYS = 30;
 /** Minutes of raw messages kept for good before and after each trip, alarm and read point (EMBERLOT_KEEP_AROUND_MIN). */
-export const KEEP_AROUND_MIN = 10;
+export const KEEP_AROUND_MIN = 5;
 
 /** A chart span up to this reads raw messages. */
 export const CHART_RAW_SPAN_MS = 30 * 60_000;

@@ -191,17 +191,32 @@ describe('telemetry partitions and tiers', () => {
     // Minute and hourly rollups of the dropped days are all there.
     const minuteSql = `SELECT sum(n) AS n FROM telemetry_rollups WHERE rig_id = $1 AND socket = -1 AND minute > $2`;
     expect(await num(minuteSql, [rigId, new Date(NOW - 4 * 3600_000)])).toBe(360);
-    expect(await num(`SELECT sum(sum_c) AS n FROM telemetry_rollups WHERE rig_id = $1 AND socket = -1 AND minute > $2`, [rigId, new Date(NOW - 4 * 3600_000)])).toBe(chamberSum);
+    expect(
+      await num(`SELECT sum(sum_c) AS n FROM telemetry_rollups WHERE rig_id = $1 AND socket = -1 AND minute > $2`, [
+        rigId,
+        new Date(NOW - 4 * 3600_000),
+      ]),
+    ).toBe(chamberSum);
     const hourlySql = `SELECT sum(n) AS n FROM telemetry_hourly WHERE rig_id = $1 AND socket = -1 AND hour > $2`;
     expect(await num(hourlySql, [rigId, new Date(NOW - 5 * 3600_000)])).toBe(360);
-    expect(await num(`SELECT sum(n) AS n FROM telemetry_hourly WHERE rig_id = $1 AND socket = 2 AND hour > $2`, [rigId, new Date(NOW - 5 * 3600_000)])).toBe(360);
+    expect(
+      await num(`SELECT sum(n) AS n FROM telemetry_hourly WHERE rig_id = $1 AND socket = 2 AND hour > $2`, [
+        rigId,
+        new Date(NOW - 5 * 3600_000),
+      ]),
+    ).toBe(360);
 
     // Past the minute window too: the minute days go, the hourly tier stays (kept for good).
     const much = await runTelemetryUpkeep(pgPoolOf(t.ctx), KEEP, new Date(NOW + 40 * DAY));
     for (const ts of TIMES) expect(much.dropped).toContain(dayName('telemetry_rollups', ts));
     expect(await num(minuteSql, [rigId, new Date(NOW - 4 * 3600_000)])).toBe(0);
     expect(await num(hourlySql, [rigId, new Date(NOW - 5 * 3600_000)])).toBe(360);
-    expect(await num(`SELECT sum(sum_c) AS n FROM telemetry_hourly WHERE rig_id = $1 AND socket = -1 AND hour > $2`, [rigId, new Date(NOW - 5 * 3600_000)])).toBe(chamberSum);
+    expect(
+      await num(`SELECT sum(sum_c) AS n FROM telemetry_hourly WHERE rig_id = $1 AND socket = -1 AND hour > $2`, [
+        rigId,
+        new Date(NOW - 5 * 3600_000),
+      ]),
+    ).toBe(chamberSum);
     expect(await num(`SELECT count(*) AS n FROM telemetry_kept WHERE rig_id = $1 AND seq <= 360`, [rigId])).toBe(expectKept);
   });
 });

@@ -124,7 +124,9 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
         log(`telemetry upkeep failed (${(err as Error).message}); next run retries`);
       }
     }));
-  const upkeepTask = upkeepExpr ? cron.createTask(upkeepExpr, () => void upkeep(), { name: 'emberlot-telemetry-upkeep', noOverlap: true }) : null;
+  const upkeepTask = upkeepExpr
+    ? cron.createTask(upkeepExpr, () => void upkeep(), { name: 'emberlot-telemetry-upkeep', noOverlap: true })
+    : null;
   if (upkeepTask) {
     void upkeep();
     void upkeepTask.start();
