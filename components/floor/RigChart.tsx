@@ -4,6 +4,7 @@ import { VictoryAxis, VictoryChart, VictoryLegend, VictoryLine } from 'victory-n
 import type { FloorChart } from '@/shared/schemas/floor';
 import { HOLD_PHASE_LABEL, type HoldPhase } from '@/shared/holds/words';
 import { TIER_CAPTION } from '@/shared/domain/telemetry-tiers';
+import { bucketText, timeLabel } from '@/components/floor/chart-labels';
 import { colors, fonts, space } from '@/components/theme/tokens';
 import { Text } from '@/components/ui/Text';
 
@@ -37,8 +38,6 @@ const HOLD_MARK: Record<HoldPhase, { color: string; dash?: string }> = {
   'safe-to-open': { color: '#1F6B3F', dash: '5,3' },
 };
 
-const hhmm = (ms: number) => new Date(ms).toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit' });
-
 export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string }) {
   const [width, setWidth] = useState(0);
   const phone = width > 0 && width < 600;
@@ -55,6 +54,7 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
   const yMax = ys.length ? Math.ceil(Math.max(...ys) + 2) : 100;
   const from = Date.parse(chart.from);
   const to = Date.parse(chart.to);
+  const hhmm = (ms: number) => timeLabel(ms, to - from);
   const last = (d: { avg: number }[]) => (d.length ? `${d[d.length - 1].avg.toFixed(1)} °C` : 'no data');
   const marks = (chart.holdSteps ?? []).filter((m) => Date.parse(m.t) >= from && Date.parse(m.t) <= to);
   const hhmmss = (ms: number) => new Date(ms).toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit', second: '2-digit' });
@@ -143,12 +143,4 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
       ) : null}
     </View>
   );
-}
-
-/** A bucket's length for the caption: seconds, minutes or hours (a year's chart has buckets of about a day). */
-export function bucketText(ms: number): string {
-  const s = Math.max(1, Math.round(ms / 1000));
-  if (s < 120) return `${s} s`;
-  if (s < 7200) return `${Math.round(s / 60)} min`;
-  return `${Math.round(s / 360) / 10} h`;
 }
