@@ -50,12 +50,28 @@ const isoTime = () => z.iso.datetime({ offset: true, message: 'Give a date and t
 
 export const runIdParamSchema = z.object({ id: uuid('run') });
 
+/**
+ * A request's due date and priority (issue #26): the proposer weighs lateness by the priority
+ * (shared/domain/priority.ts). No due date (null or omitted) = never late; priority defaults to normal.
+ * The service refuses a due date that is already past.
+ */
+export const requestTermsShape = {
+  dueAt: isoTime().nullable().optional(),
+  priority: z
+    .number({ message: 'Priority is a whole number from 1 (low) to 4 (urgent)' })
+    .int('Priority is a whole number from 1 (low) to 4 (urgent)')
+    .min(1, 'Priority is a whole number from 1 (low) to 4 (urgent)')
+    .max(4, 'Priority is a whole number from 1 (low) to 4 (urgent)')
+    .optional(),
+};
+
 export const proposalInputSchema = z.object({
   planId: uuid('plan'),
   lotIds: z.array(uuid('lot')).min(1, 'Choose at least one lot').max(12, 'At most 12 lots per run'),
   sampleSize: z.number().int('Whole devices only').positive('At least one device').max(256, 'A board holds at most 256 sockets'),
   /** Earliest start to consider (default now). */
   notBefore: isoTime().optional(),
+  ...requestTermsShape,
 });
 export type ProposalInput = z.infer<typeof proposalInputSchema>;
 
@@ -97,6 +113,7 @@ export const bookSampleSchema = z
     parts: z.array(samplePartSchema).min(1, 'Book at least one rig').max(4, 'Split a sample over at most 4 rigs'),
     override: bookRunSchema.shape.override,
     deviation: deviationSchema.optional(),
+    ...requestTermsShape,
   })
   .superRefine((b, ctx) => {
     const seen = new Set<string>();
@@ -270,6 +287,9 @@ export interface Run {
   allowedActions: RunAction[];
   rowVersion: number;
   createdAt: string;
+  /** When the requester needs it finished (null: no due date) and its priority 1 low … 4 urgent. */
+  dueAt: string | null;
+  priority: number;
 }
 
 export interface RunCycles {
@@ -354,6 +374,8 @@ export interface ProposalOption {
   spareSockets: number;
   /** Why it cannot start at the requested time (empty when it can). */
   delayReasons: string[];
+  /** Clock hours past the request's due date at this option's end (0 when on time; null: no due date). */
+  lateH: number | null;
 }
 
 export interface ProposalRefusal {
@@ -388,6 +410,10 @@ export interface TimelineBar {
   sampleSize: number;
   stressHours: number;
   targetH: number;
+  dueAt: string | null;
+  priority: number;
+  /** Clock hours the projected end lies past the due date (0: on time; null: no due date). */
+  lateH: number | null;
 }
 
 export interface TimelineRow {

@@ -7,6 +7,7 @@
 import { In, Not, type EntityManager } from 'typeorm';
 import {
   earliestSlot,
+  lateH,
   planBiasV,
   proposeRigs,
   runDurationH,
@@ -19,6 +20,7 @@ import {
 } from '../../../shared/scheduling';
 import { BIASED_HOLD_PHASES } from '../../../shared/holds/sequence';
 import { chamberSetpointC } from '../../../shared/domain/standards';
+import { DEFAULT_PRIORITY } from '../../../shared/domain/priority';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import {
   allowedActions,
@@ -94,6 +96,8 @@ interface BookingPart {
   /** The approved override request this booking uses (when the plan check blocks). */
   approval: OverrideRequestEntity | null;
   findings: BlockingFinding[];
+  /** The request's due date and priority (every part of a sample carries the same). */
+  terms: { dueAt: Date | null; priority: number };
 }
 
 const needsOf = (plan: StressPlanEntity, sampleSize: number): RunNeeds => ({
@@ -178,6 +182,9 @@ export class RunsService {
           sampleSize: r.sampleSize,
           stressHours: r.stressHours,
           targetH: plan.durationH,
+          dueAt: r.dueAt?.toISOString() ?? null,
+          priority: r.priority,
+          lateH: lateH(w.endMs, r.dueAt?.getTime() ?? null, t.msPerClockH),
         },
       };
     });
@@ -248,6 +255,7 @@ export class RunsService {
   async propose(input: ProposalInput): Promise<ProposalResult> {
     const m = this.ds.manager;
     const { plan, problems, blocks } = await this.requestContext(m, input);
+    const dueMs = this.dueMsOf(input.dueAt);
     const blockingFindings = blocks.map((f) => ({ code: f.code, title: f.title, explanation: f.explanation }));
     const now = this.ctx.now().getTime();
     const notBefore = Math.max(now, input.notBefore ? Date.parse(input.notBefore) : now);
@@ -280,14 +288,23 @@ export class RunsService {
             durationH: o.durationH,
             spareSockets: o.spareSockets,
             delayReasons: o.delayReasons,
+            lateH: lateH(o.endMs, dueMs, this.timing.msPerClockH),
           })),
       refusals: p.refusals.map((r) => ({ ...r, rigName: byId.get(r.rigId)!.name })),
     };
   }
 
   async book(actor: SessionUser, input: BookRunInput): Promise<RunDetail> {
-    const { planId, lotIds, override, deviation, rigId, start, sampleSize } = input;
-    const { runs } = await this.bookParts(actor, { planId, lotIds, override, deviation, parts: [{ rigId, start, sampleSize }] });
+    const { planId, lotIds, override, deviation, rigId, start, sampleSize, dueAt, priority } = input;
+    const { runs } = await this.bookParts(actor, {
+      planId,
+      lotIds,
+      override,
+      deviation,
+      dueAt,
+      priority,
+      parts: [{ rigId, start, sampleSize }],
+    });
     return toRunDetail(this.ds.manager, runs[0]);
   }
 
@@ -298,7 +315,19 @@ export class RunsService {
     return { sample: await sampleView(m, sample.id), runs: await Promise.all(runs.map((r) => toRunDetail(m, r))) };
   }
 
+  /** A request's due date in ms (null: none); a date already past is refused (it could only ever be late). */
+  private dueMsOf(dueAt: string | null | undefined): number | null {
+    if (!dueAt) return null;
+    const ms = Date.parse(dueAt);
+    if (ms <= this.ctx.now().getTime()) {
+      throw unprocessable(`The due date ${when(ms)} has already passed; give a date after now or leave it empty.`, { field: 'dueAt' });
+    }
+    return ms;
+  }
+
   private async bookParts(actor: SessionUser, input: BookSampleInput): Promise<{ sample: SampleEntity; runs: RunEntity[] }> {
+    const dueMs = this.dueMsOf(input.dueAt);
+    const terms = { dueAt: dueMs === null ? null : new Date(dueMs), priority: input.priority ?? DEFAULT_PRIORITY };
     return this.ds.transaction(async (m) => {
       await advisoryXactLock(m, BOOKING_LOCK);
       const total = input.parts.reduce((a, p) => a + p.sampleSize, 0);
@@ -342,6 +371,7 @@ export class RunsService {
             overridden,
             approval,
             findings: blocks,
+            terms,
           }),
         );
       }
@@ -403,6 +433,8 @@ export class RunsService {
         overrideReason: overridden ? (b.approval?.reason ?? null) : null,
         overrideById: overridden ? (b.approval?.requestedById ?? null) : null,
         createdById: actor.id,
+        dueAt: b.terms.dueAt,
+        priority: b.terms.priority,
       }),
     );
     await m.insert(
@@ -488,6 +520,8 @@ export class RunsService {
           rig: rig.code,
           scheduledStart: new Date(startMs).toISOString(),
           scheduledEnd: new Date(endMs).toISOString(),
+          dueAt: b.terms.dueAt?.toISOString() ?? null,
+          priority: b.terms.priority,
           ...(requestedStartMs !== null && startMs !== requestedStartMs
             ? {
                 requestedStart: new Date(requestedStartMs).toISOString(),
