@@ -469,6 +469,7 @@ export class RunsService {
         startMs + runDurationMs(needs, this.timing),
         inputs.commitments,
         inputs.maintenance,
+        this.timing,
       );
       if (clash.length) {
         // A proposal's start is often the projected end of the run ahead of it, and that
