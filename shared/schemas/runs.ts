@@ -435,3 +435,62 @@ export interface Timeline {
   msPerClockH: number;
   rows: TimelineRow[];
 }
+
+// ---------------------------------------------------------------------------------------------
+// The calendar: booked runs ordered by priority-weighted lateness (shared/scheduling/tardiness.ts)
+
+/** One booked run's window in the calendar proposal. */
+export interface CalendarWindow {
+  rigId: string;
+  rigCode: string;
+  start: string;
+  end: string;
+  /** Clock hours past the due date at this end (0: on time; null: no due date). */
+  lateH: number | null;
+}
+
+export interface CalendarProposalRun {
+  runId: string;
+  code: string;
+  rowVersion: number;
+  priority: number;
+  dueAt: string | null;
+  /** The booking as it stands (its projected window). */
+  current: CalendarWindow;
+  proposed: CalendarWindow;
+  moved: boolean;
+}
+
+export interface CalendarProposal {
+  /** 'exact' (branch and bound) or 'heuristic' (ATC + local search): shared/scheduling/tardiness.ts. */
+  method: 'exact' | 'heuristic';
+  now: string;
+  /** Σ weight × hours late, now and as proposed (weighted clock hours). */
+  currentWeightedLateH: number;
+  proposedWeightedLateH: number;
+  runs: CalendarProposalRun[];
+  /** Booked runs no rig can take now, with the reasons. */
+  unplaced: Array<{ runId: string; code: string; reasons: string[] }>;
+}
+
+/** Accept (part of) a calendar proposal: each run's new window, against the version it was proposed for. */
+export const calendarApplySchema = z.object({
+  moves: z
+    .array(
+      z.object({
+        runId: uuid('run'),
+        rowVersion: rowVersion(),
+        rigId: uuid('rig'),
+        start: isoTime(),
+      }),
+    )
+    .min(1, 'Choose at least one run to move')
+    .max(100, 'At most 100 runs at once')
+    .refine((ms) => new Set(ms.map((x) => x.runId)).size === ms.length, 'Each run once'),
+});
+export type CalendarApplyInput = z.infer<typeof calendarApplySchema>;
+
+export interface CalendarApplyResult {
+  moved: number;
+  runs: Array<{ runId: string; code: string; rigCode: string; start: string; end: string }>;
+}

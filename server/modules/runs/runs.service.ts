@@ -30,6 +30,9 @@ import {
   type AbortRunInput,
   type BookRunInput,
   type BookSampleInput,
+  type CalendarApplyInput,
+  type CalendarApplyResult,
+  type CalendarProposal,
   type SampleBooking,
   type ProposalInput,
   type ProposalResult,
@@ -69,10 +72,11 @@ import { emitRunEvent, type PendingRunEvent } from './run-events';
 import { planRef, sampleView, socketsTakenOnRig, toRunDetail, toRuns } from './run-view';
 import { loadSchedulingInputs, projectedWindow, SCHEDULED_STATES, timingFrom } from './scheduling-data';
 import { chamberConflict, startPermit } from './start-permit';
+import { applyCalendar, calendarProposal, CALENDAR_LOCK } from './calendar';
 import { advisoryXactLock, bumpRunRowVersion, devicesBySerial, devicesInOpenRuns, timelineRuns } from './runs.data';
 
-/** Serialises bookings (one transaction at a time decides who gets a rig window). */
-const BOOKING_LOCK = 478_001;
+/** Serialises bookings and calendar moves (one transaction at a time decides who gets a rig window). */
+const BOOKING_LOCK = CALENDAR_LOCK;
 
 /** What a run action works on, read in its transaction. */
 interface ActionContext {
@@ -222,6 +226,17 @@ export class RunsService {
           .map((x) => ({ id: x.id, start: x.startsAt.toISOString(), end: x.endsAt.toISOString(), reason: x.reason })),
       })),
     };
+  }
+
+  // -------------------------------------------------------------------------------------------
+  // The calendar (calendar.ts)
+
+  calendar(): Promise<CalendarProposal> {
+    return calendarProposal(this.ctx, this.timing);
+  }
+
+  applyCalendar(actor: SessionUser, input: CalendarApplyInput): Promise<CalendarApplyResult> {
+    return applyCalendar(this.ctx, this.timing, actor, input);
   }
 
   // -------------------------------------------------------------------------------------------
