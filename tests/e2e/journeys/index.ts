@@ -15,6 +15,7 @@ import { engineerTripReset } from './trip-reset';
 import { signoffApprovalsAudit } from './signoff';
 import { operatorStartPermit } from './start-permit';
 import { traceabilityReports } from './traceability';
+import { managerCalendar } from './calendar';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -42,6 +43,8 @@ export const JOURNEYS: Journey[] = [
   holdsReadPoint,
   // Signs HG2609-D's verdict (approved for release) to download its certificate.
   traceabilityReports,
+  // Reads the demo's due dates on the schedule and proposes (does not accept) a new order.
+  managerCalendar,
   // Books and starts a run on OV-04 (idle in the demo): after every journey that reads the schedule.
   operatorStartPermit,
   adminRigs,
