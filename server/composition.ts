@@ -37,6 +37,8 @@ import type { RigLink } from './modules/telemetry/contracts';
 import type { TelemetryIngest } from './modules/telemetry/ingest';
 import { TelemetryService } from './modules/telemetry/telemetry.service';
 import { UsersService } from './modules/users/users.service';
+import { ReplanService } from './modules/replan/replan.service';
+import { UtilisationService } from './modules/utilisation/utilisation.service';
 
 /** Every service of the API process. */
 export interface Services {
@@ -61,6 +63,8 @@ export interface Services {
   alarms: AlarmsService;
   notifications: NotificationsService;
   tripResets: TripResetService;
+  replan: ReplanService;
+  utilisation: UtilisationService;
   /** Replaced (typed) when protection starts with its own retry options (protection/start.ts). */
   mail: MailService;
   /** Live parts: set while the background features run, undefined otherwise (or a test's fake link). */
@@ -122,6 +126,8 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     alarms: new AlarmsService(ctx),
     notifications: new NotificationsService(ctx),
     tripResets: new TripResetService(ctx),
+    replan: new ReplanService(ctx),
+    utilisation: new UtilisationService(ctx),
     mail,
     rigLink: undefined,
     telemetryIngest: undefined,

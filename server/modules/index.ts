@@ -21,6 +21,8 @@ import { approvalsRoutes } from './approvals/approvals.routes';
 import { signoffRoutes } from './signoff/signoff.routes';
 import { auditRoutes } from './audit-log/audit-log.routes';
 import { labSettingsRoutes } from './lab-settings/lab-settings.routes';
+import { replanRoutes } from './replan/replan.routes';
+import { utilisationRoutes } from './utilisation/utilisation.routes';
 
 /** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
 export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
@@ -45,6 +47,8 @@ export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
   signoffRoutes,
   auditRoutes,
   labSettingsRoutes,
+  replanRoutes,
+  utilisationRoutes,
 ];
 
 export function apiRouters(ctx: AppContext): ApiRouter[] {

@@ -133,11 +133,7 @@ export function utilisationByRigWeek(
  * A run's time in each state from its ordered transitions (`to` at `atMs`); the last state lasts
  * until `endMs`. Returns the intervals of the states asked for.
  */
-export function stateIntervals(
-  transitions: ReadonlyArray<{ atMs: number; to: string }>,
-  endMs: number,
-  state: string,
-): Interval[] {
+export function stateIntervals(transitions: ReadonlyArray<{ atMs: number; to: string }>, endMs: number, state: string): Interval[] {
   const out: Interval[] = [];
   for (let i = 0; i < transitions.length; i++) {
     if (transitions[i].to !== state) continue;
@@ -157,7 +153,8 @@ export function median(values: readonly number[]): number | null {
 
 /** The definitions as the screen and the CSV state them. */
 export const UTILISATION_DEFINITIONS = {
-  booked: "Booked: sample size × hours of the run's window on the rig (booked or actual start to finish, abort or booked end; never past now).",
+  booked:
+    "Booked: sample size × hours of the run's window on the rig (booked or actual start to finish, abort or booked end; never past now).",
   stressed:
     "Stressed: the run's credited socket-hours (accrued hours of its sockets), spread over the weeks by the time it spent stressing; at most booked − lost.",
   lost: 'Lost to faults: every socket while the run was in fault, plus each tripped socket from its trip to the end of the window.',

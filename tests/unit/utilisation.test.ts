@@ -100,7 +100,14 @@ describe('one run in one week (hand-worked)', () => {
 
   it('counts on the accelerated clock in stress-clock hours', () => {
     // 1 stress hour per wall second: msPerClockH = 1000; the same run squeezed into 100 s
-    const fast: RunUsage = { ...run, windowStartMs: MON, windowEndMs: MON + 100_000, stressing: [[MON + 2000, MON + 50_000]], faults: [], trips: [] };
+    const fast: RunUsage = {
+      ...run,
+      windowStartMs: MON,
+      windowEndMs: MON + 100_000,
+      stressing: [[MON + 2000, MON + 50_000]],
+      faults: [],
+      trips: [],
+    };
     const [row] = runUsageByWeek({ ...fast, creditedSocketH: 192 }, [MON], 1000, MON + 1e6);
     close(row.bookedSh, 400);
     close(row.stressedSh, 192);
