@@ -13,7 +13,15 @@ import { startRig, type RigHandle } from '../../rig-simulator';
 import { configFromEnv } from '../../server/config';
 import { createContext } from '../../server/composition';
 import type { AppContext } from '../../server/context';
-import { DeviceTypeEntity, LotEntity, ReplanProposalEntity, RigEntity, RunEntity, RunLotEntity, StressPlanEntity } from '../../server/db/entities';
+import {
+  DeviceTypeEntity,
+  LotEntity,
+  ReplanProposalEntity,
+  RigEntity,
+  RunEntity,
+  RunLotEntity,
+  StressPlanEntity,
+} from '../../server/db/entities';
 import { startReplanning } from '../../server/modules/replan/replan.feature';
 import { pgPoolOf, startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
 import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
@@ -71,7 +79,12 @@ beforeAll(async () => {
       )
     ).id;
   }
-  const type = await m.save(m.create(DeviceTypeEntity, DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!));
+  const type = await m.save(
+    m.create(
+      DeviceTypeEntity,
+      DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!,
+    ),
+  );
   const plan = await m.save(
     m.create(StressPlanEntity, {
       planKey: randomUUID(),
