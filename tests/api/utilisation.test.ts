@@ -77,7 +77,7 @@ beforeAll(async () => {
   );
   // Lot A: a finished run on OV-31, last Monday 00:00–10:00, 4 sockets; socket 3 tripped at 5 h.
   // It has no recorded state changes, so it counts as stressing from start to finish.
-  const lots = [];
+  const lots: LotEntity[] = [];
   for (const code of ['HG2901-A', 'HG2902-B']) lots.push(await m.save(m.create(LotEntity, { code, deviceTypeId: type.id, quantity: 50 })));
   const devices = await m.save(['A1', 'A2', 'A3', 'A4'].map((serial) => m.create(DeviceEntity, { lotId: lots[0].id, serial })));
   const run = await m.save(
