@@ -14,6 +14,7 @@ import { operatorCorrectReading } from './records';
 import { engineerTripReset } from './trip-reset';
 import { signoffApprovalsAudit } from './signoff';
 import { operatorStartPermit } from './start-permit';
+import { managerReplan } from './replan';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -41,5 +42,7 @@ export const JOURNEYS: Journey[] = [
   holdsReadPoint,
   // Books and starts a run on OV-04 (idle in the demo): after every journey that reads the schedule.
   operatorStartPermit,
+  // Books on OV-01 weeks ahead, puts it into maintenance and moves the run; cleans up after itself.
+  managerReplan,
   adminRigs,
 ];
