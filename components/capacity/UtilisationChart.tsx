@@ -4,7 +4,7 @@ import { VictoryAxis, VictoryBar, VictoryChart, VictoryLegend, VictoryStack } fr
 import type { Utilisation } from '@/shared/schemas/replan';
 import { axisStyle, legendStyle } from '@/components/trends/chart-style';
 import { Text } from '@/components/ui/Text';
-import { capacitySeries, weekLabel } from './capacity-model';
+import { capacitySeries, compact, weekLabel } from './capacity-model';
 
 /** Socket-hours per week, stacked: stressed, idle and lost to faults add up to booked. */
 export function UtilisationChart({ data, rig }: { data: Utilisation; rig: string | null }) {
@@ -39,7 +39,7 @@ export function UtilisationChart({ data, rig }: { data: Utilisation; rig: string
         <VictoryChart
           width={width}
           height={phone ? 240 : 300}
-          padding={{ top: 40, bottom: 48, left: 64, right: phone ? 12 : 24 }}
+          padding={{ top: 40, bottom: 48, left: 72, right: phone ? 12 : 24 }}
           domainPadding={{ x: 16 }}
         >
           <VictoryLegend
@@ -56,7 +56,7 @@ export function UtilisationChart({ data, rig }: { data: Utilisation; rig: string
             style={axisStyle}
             fixLabelOverlap
           />
-          <VictoryAxis dependentAxis label="socket-h" style={axisStyle} />
+          <VictoryAxis dependentAxis label="socket-h" tickFormat={(t: number) => compact(t)} style={axisStyle} />
           <VictoryStack>
             {parts.map((p) => (
               <VictoryBar key={p.key} data={p.values.map((y, i) => ({ x: i + 1, y }))} style={{ data: { fill: p.color } }} barRatio={0.7} />

@@ -47,3 +47,11 @@ export function byRun(
     options: [...g.options].sort((a, b) => a.delayH - b.delayH || a.kind.localeCompare(b.kind)),
   }));
 }
+
+/** Axis numbers that fit: 950, 12.5k, 3.2M. */
+export function compact(x: number): string {
+  const a = Math.abs(x);
+  if (a >= 1e6) return `${+(x / 1e6).toFixed(1)}M`;
+  if (a >= 1e4) return `${+(x / 1e3).toFixed(1)}k`;
+  return String(+x.toFixed(1));
+}

@@ -1,7 +1,7 @@
 /**
  * Rig utilisation per week, in socket-hours, from what the database stores (issue #26 item 4).
- * Pure: times are epoch ms, hours are stress-clock hours (wall hours on a real rig; the demo's
- * accelerated clock divides by its rate, msPerClockH).
+ * Pure: times are epoch ms; `msPerClockH` turns them into hours (the API uses wall hours: a
+ * credited stress hour is a wall hour on a real rig).
  *
  * Definitions (Emberlot's own; the screen and the CSV say the same words, UTILISATION_DEFINITIONS):
  * - A run's window on its rig starts at its booked start (or its actual start, if earlier) and
@@ -161,5 +161,6 @@ export const UTILISATION_DEFINITIONS = {
   idle: 'Idle: booked − stressed − lost (heating, read-point holds, cooling, loading, paused, and stress time not credited).',
   turnaround:
     'Turnaround: from the first booking of a lot (the run request) to the first signature of its verdict; the median over lots signed in the period.',
-  hours: 'Hours are stress-clock hours: wall hours on a real rig.',
+  hours:
+    'Hours are wall-clock hours; a credited stress hour counts as one (on an accelerated demo clock, stressed is capped at booked − lost).',
 } as const;

@@ -1,7 +1,7 @@
 import { fireEvent, screen, waitFor } from '@testing-library/react-native';
 import { CapacityScreen } from '@/components/capacity/CapacityScreen';
-import { capacitySeries, delayWords } from '@/components/capacity/capacity-model';
-import type { ReplanList, Utilisation } from '@/shared/schemas/replan';
+import { capacitySeries, compact, delayWords } from '@/components/capacity/capacity-model';
+import type { ReplanList, ReplanProposal, Utilisation } from '@/shared/schemas/replan';
 import { mockFetch, renderWithClient, setWidth } from './support/render';
 
 jest.mock('expo-router', () => require('./support/expo-router'));
@@ -28,7 +28,7 @@ const user = (role: string) => ({
   createdAt: '2026-01-01T00:00:00Z',
 });
 
-const proposal = (id: string, kind: 'move' | 'in-place', toRigCode: string, delayH: number) => ({
+const proposal = (id: string, kind: 'move' | 'in-place', toRigCode: string, delayH: number): ReplanProposal => ({
   id,
   runId: '11111111-1111-4111-8111-111111111111',
   runCode: 'HTRB-2611-A',
@@ -53,7 +53,7 @@ const REPLANS: ReplanList = {
   items: [
     proposal('aaaaaaaa-aaaa-4aaa-8aaa-aaaaaaaaaaaa', 'move', 'OV-02', 0),
     proposal('bbbbbbbb-bbbb-4bbb-8bbb-bbbbbbbbbbbb', 'in-place', 'OV-01', 26.5),
-  ] as ReplanList['items'],
+  ],
   held: [
     {
       runId: 'r2',
@@ -93,6 +93,10 @@ describe('capacity model', () => {
   it('sums the rigs per week, or shows one rig', () => {
     expect(capacitySeries(UTIL, null)).toEqual({ weeks: [W1, W2], booked: [500, 50], stressed: [398, 0], idle: [42, 50], lost: [60, 0] });
     expect(capacitySeries(UTIL, 'OV-02').booked).toEqual([100, 50]);
+  });
+
+  it('writes axis numbers short', () => {
+    expect([compact(950), compact(12_500), compact(3_240_000), compact(0)]).toEqual(['950', '12.5k', '3.2M', '0']);
   });
 
   it('words the delay against its basis', () => {

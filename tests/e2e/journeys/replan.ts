@@ -112,7 +112,7 @@ export const managerReplan: Journey = {
         'cleanup: abort',
       );
       const del = await admin.delete(`/api/rigs/OV-01/maintenance/${window.id}`);
-      if (!del.ok()) throw new Error(`cleanup: maintenance ${del.status()}`);
+      if (!del.ok()) j.log(`cleanup: removing the maintenance window answered ${del.status()}`);
       await eng.dispose();
       await admin.dispose();
     }
