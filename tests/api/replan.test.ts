@@ -134,15 +134,13 @@ describe('a rig goes offline', () => {
   it('shows the delay when the other rig is busy first', async () => {
     // Another run at other conditions holds OV-12 for the first 50 h of run A's window.
     const eng = await t.signIn('engineer');
-    const res = await eng
-      .post('/api/runs')
-      .send({
-        planId: ids.cool,
-        lotIds: [ids['HG2703-C']],
-        sampleSize: 8,
-        rigId: ids['OV-12'],
-        start: new Date(T0 - 52 * H).toISOString(),
-      });
+    const res = await eng.post('/api/runs').send({
+      planId: ids.cool,
+      lotIds: [ids['HG2703-C']],
+      sampleSize: 8,
+      rigId: ids['OV-12'],
+      start: new Date(T0 - 52 * H).toISOString(),
+    });
     expect(res.status).toBe(201);
     ids.blocker = res.body.id;
     await t.ctx.services.replan.proposeForRig(ids['OV-11'], { kind: 'offline', why: 'Oven OV-11 went offline (again)' });
@@ -192,17 +190,13 @@ describe('accepting a proposal', () => {
   it('refuses a proposal whose window is no longer free, with nothing changed', async () => {
     const [a] = (await open()).filter((p) => p.runId === ids.runA);
     // OV-12 gets a 125 °C run across the proposed window (from T0 + 50 h) after the proposal was made.
-    const res = await (
-      await t.signIn('engineer')
-    )
-      .post('/api/runs')
-      .send({
-        planId: ids.cool,
-        lotIds: [ids['HG2703-C']],
-        sampleSize: 8,
-        rigId: ids['OV-12'],
-        start: new Date(T0 - 40 * H).toISOString(),
-      });
+    const res = await (await t.signIn('engineer')).post('/api/runs').send({
+      planId: ids.cool,
+      lotIds: [ids['HG2703-C']],
+      sampleSize: 8,
+      rigId: ids['OV-12'],
+      start: new Date(T0 - 40 * H).toISOString(),
+    });
     expect(res.status).toBe(201);
     const before = await tableCounts(t.ctx.ds);
     const refused = await (await t.signIn('manager')).post(`/api/replan/${a.id}/accept`).send({});
