@@ -19,6 +19,8 @@ export const PERMISSIONS = {
   // finishes read-point holds and aborts.
   'run.book': ['engineer'],
   'run.propose': ['engineer', 'manager', 'admin'],
+  // Re-order booked runs by priority-weighted lateness (the calendar proposal; audited).
+  'run.reschedule': ['engineer', 'manager'],
   'run.load': ['operator', 'engineer'],
   'run.start': ['operator', 'engineer'],
   'run.pause': ['operator', 'engineer'],

@@ -93,6 +93,10 @@ export class RunEntity {
   @Column({ type: 'text', nullable: true }) overrideReason: string | null;
   @Column({ type: 'uuid', nullable: true }) overrideById: string | null;
   @Column({ type: 'uuid', nullable: true }) createdById: string | null;
+  /** When the requester needs the run finished (null: no date, never late); shared/scheduling/tardiness.ts. */
+  @Column({ type: 'timestamptz', nullable: true }) dueAt: Date | null;
+  /** 1 low … 4 urgent; its weight in the weighted tardiness is shared/domain/priority.ts. */
+  @Column({ type: 'smallint', default: 2 }) priority: number;
   @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
   @UpdateDateColumn({ type: 'timestamptz' }) updatedAt: Date;
   @VersionColumn() rowVersion: number;

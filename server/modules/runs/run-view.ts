@@ -122,6 +122,8 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
       allowedActions: [...allowedActions(r.state)],
       rowVersion: r.rowVersion,
       createdAt: r.createdAt.toISOString(),
+      dueAt: iso(r.dueAt),
+      priority: r.priority,
     };
   });
 }

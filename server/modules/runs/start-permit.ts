@@ -18,7 +18,7 @@ import { DRIVEN_STATES } from '../../../shared/domain/run-states';
 import { calibrationExpiresAt, chamberSetpointC, INTERLOCK_TEST_VALID_DAYS, interlockDueAt } from '../../../shared/domain/standards';
 import { formatUtc } from '../../../shared/domain/format';
 import { isPoweredKind } from '../../../shared/domain/stress';
-import { planBiasV, staticRefusals, when, type RunNeeds } from '../../../shared/scheduling';
+import { planBiasV, sameChamberCondition, staticRefusals, when, type RunNeeds } from '../../../shared/scheduling';
 import type { PermitCheck, StartPermit } from '../../../shared/schemas/runs';
 import { RigMaintenanceEntity, RunEntity, RunSocketEntity, StressPlanEntity, type RigEntity } from '../../db/entities';
 import { devicesWithoutTimeZero } from './runs.data';
@@ -48,8 +48,11 @@ export async function chamberConflict(m: EntityManager, run: RunEntity, rig: Rig
   const others = await m.find(RunEntity, { where: { rigId: rig.id, state: In([...DRIVEN_STATES]), id: Not(run.id) } });
   for (const o of others) {
     const op = await m.findOneByOrFail(StressPlanEntity, { id: o.planId });
-    const same = chamberSetpointC(op.chamberC, op.chamberBand) === chamberSetpointC(plan.chamberC, plan.chamberBand);
-    if (!same || (op.humidityPct ?? null) !== (plan.humidityPct ?? null)) {
+    const same = sameChamberCondition(
+      { chamberC: chamberSetpointC(op.chamberC, op.chamberBand), humidityPct: op.humidityPct },
+      { chamberC: chamberSetpointC(plan.chamberC, plan.chamberBand), humidityPct: plan.humidityPct },
+    );
+    if (!same) {
       return `Oven ${rig.code} holds run ${o.code} at ${condition(op)}; this plan needs ${condition(plan)}.`;
     }
   }
