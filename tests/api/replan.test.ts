@@ -20,6 +20,7 @@ const serials = (prefix: string, n: number) => Array.from({ length: n }, (_, i) 
 // The plan: 100 h, read points at 0 and 100 h → 100 h + 2 h heating allowance = 102 h on the rig.
 const RUN_MS = runDurationMs({ durationH: 100, readPointsH: [0, 100] });
 const T0 = Math.ceil((Date.now() + 60 * H) / 60_000) * 60_000;
+const DUE_A = T0 + RUN_MS + 10 * H;
 
 async function addRig(code: string, over: Partial<RigEntity> = {}): Promise<string> {
   const r = await t.ctx.ds.getRepository(RigEntity).save({
@@ -86,14 +87,20 @@ beforeAll(async () => {
   // Refused as targets: calibration ran out; too cool for the plan.
   ids['OV-13'] = await addRig('OV-13', { calibrationDueAt: new Date(Date.now() - 10 * DAY) });
   ids['OV-14'] = await addRig('OV-14', { maxTempC: 130 });
-  const book = async (lot: string, startMs: number) => {
-    const res = await eng
-      .post('/api/runs')
-      .send({ planId: ids.plan, lotIds: [ids[lot]], sampleSize: 8, rigId: ids['OV-11'], start: new Date(startMs).toISOString() });
+  const book = async (lot: string, startMs: number, dueAt?: number) => {
+    const res = await eng.post('/api/runs').send({
+      planId: ids.plan,
+      lotIds: [ids[lot]],
+      sampleSize: 8,
+      rigId: ids['OV-11'],
+      start: new Date(startMs).toISOString(),
+      ...(dueAt ? { dueAt: new Date(dueAt).toISOString() } : {}),
+    });
     expect(res.status).toBe(201);
     return res.body.id as string;
   };
-  ids.runA = await book('HG2701-A', T0);
+  // Run A is due 10 h after its booked finish; run B has no due date.
+  ids.runA = await book('HG2701-A', T0, DUE_A);
   ids.runB = await book('HG2702-B', T0 + 10 * DAY);
 });
 
@@ -102,7 +109,7 @@ afterAll(async () => {
 });
 
 describe('a rig goes offline', () => {
-  it('re-proposes each booked run on a rig that can take it, with the delay to its booked finish', async () => {
+  it('re-proposes each booked run on a rig that can take it, with the delay to its due date (or booked finish)', async () => {
     await setOnline('OV-11', false);
     const n = await t.ctx.services.replan.proposeForRig(ids['OV-11'], { kind: 'offline', why: 'Oven OV-11 went offline' });
     expect(n).toBe(2);
@@ -119,13 +126,14 @@ describe('a rig goes offline', () => {
       reason: 'Oven OV-11 went offline',
       startAt: new Date(T0).toISOString(),
       endAt: new Date(T0 + RUN_MS).toISOString(),
-      delayBasis: 'booked-finish',
-      delayH: 0,
-      dueAt: null,
+      // 10 h before its due date
+      delayBasis: 'due-date',
+      delayH: -10,
+      dueAt: new Date(DUE_A).toISOString(),
     });
     // Run B starts 10 days later on OV-12 too (nothing in its way there).
     const b = items.filter((p) => p.runId === ids.runB);
-    expect(b.map((p) => [p.kind, p.toRigCode, p.delayH])).toEqual([['move', 'OV-12', 0]]);
+    expect(b.map((p) => [p.kind, p.toRigCode, p.delayBasis, p.delayH])).toEqual([['move', 'OV-12', 'booked-finish', 0]]);
     const audit = await t.ctx.ds.getRepository(AuditLogEntity).findBy({ action: 'run.replan-proposed', entityId: ids.runA });
     expect(audit).toHaveLength(1);
     expect(audit[0].reason).toBe('Oven OV-11 went offline');
@@ -145,8 +153,9 @@ describe('a rig goes offline', () => {
     ids.blocker = res.body.id;
     await t.ctx.services.replan.proposeForRig(ids['OV-11'], { kind: 'offline', why: 'Oven OV-11 went offline (again)' });
     const [a] = (await open()).filter((p) => p.runId === ids.runA);
-    // The blocker ends at T0 − 52 h + 102 h = T0 + 50 h: run A starts then and finishes 50 h late.
-    expect(a).toMatchObject({ toRigCode: 'OV-12', startAt: new Date(T0 + 50 * H).toISOString(), delayH: 50 });
+    // The blocker ends at T0 − 52 h + 102 h = T0 + 50 h: run A starts then, 50 h behind its booking:
+    // 40 h past its due date.
+    expect(a).toMatchObject({ toRigCode: 'OV-12', startAt: new Date(T0 + 50 * H).toISOString(), delayBasis: 'due-date', delayH: 40 });
     await t.ctx.ds.getRepository(RunEntity).delete({ id: ids.blocker });
   });
 });
@@ -271,10 +280,12 @@ describe('the rig comes back, or goes into maintenance', () => {
       ['move', 'OV-11'],
     ]);
     const inPlace = a.find((p) => p.kind === 'in-place')!;
-    // After the window: T0 + 72 h, 22 h after its booked start → 22 h late against the booked finish.
+    // After the window: T0 + 72 h, 22 h after its booked start (T0 + 50 h) → it finishes at
+    // T0 + 174 h, 62 h past its due date (T0 + 112 h).
     expect(inPlace.startAt).toBe(new Date(T0 + 3 * DAY).toISOString());
-    expect(inPlace.delayH).toBeCloseTo((T0 + 3 * DAY + RUN_MS - runA.scheduledEnd!.getTime()) / H, 9);
-    expect(inPlace.delayH).toBeCloseTo(22, 9);
+    expect(runA.scheduledStart!.getTime()).toBe(T0 + 50 * H);
+    expect(inPlace.delayBasis).toBe('due-date');
+    expect(inPlace.delayH).toBeCloseTo(62, 9);
     expect(inPlace.reason).toMatch(/^Oven OV-12 is in maintenance from .+ to .+ \(Heater replacement\)$/);
   });
 });

@@ -71,9 +71,9 @@ export function moveRefusals(rig: RigEntity, needs: RunNeeds, endMs: number): st
   return out;
 }
 
-/** The run's due date: none yet (the calendar's requests bring them); the delay is then measured against the booked finish. */
-function dueDateOf(_run: RunEntity): Date | null {
-  return null;
+/** The run's due date from its request (calendar: runs.due_at); without one the delay is measured against the booked finish. */
+function dueDateOf(run: RunEntity): Date | null {
+  return run.dueAt ?? null;
 }
 
 function delayOf(run: RunEntity, endMs: number): { dueAt: Date | null; delayBasis: DelayBasis; delayH: number } {
@@ -149,7 +149,7 @@ export class ReplanService {
         const notBefore = Math.max(nowMs, run.scheduledStart?.getTime() ?? nowMs);
         if (trigger.kind === 'maintenance') {
           const end = notBefore + runDurationMs(needs, t);
-          const hit = windowConflicts(rig, needs, notBefore, end, [], inputs.maintenance);
+          const hit = windowConflicts(rig, needs, notBefore, end, [], inputs.maintenance, t);
           if (!hit.length) continue;
         }
         const rows = this.optionsFor(run, rig, needs, inputs, others, notBefore, trigger, nowMs);
@@ -310,7 +310,7 @@ export class ReplanService {
     const endMs = startMs + (p.endAt.getTime() - p.startAt.getTime());
     const reasons = [
       ...moveRefusals(rig, needs, endMs),
-      ...windowConflicts(rig, needs, startMs, endMs, inputs.commitments, inputs.maintenance),
+      ...windowConflicts(rig, needs, startMs, endMs, inputs.commitments, inputs.maintenance, t),
     ];
     if (reasons.length) {
       throw conflict(
