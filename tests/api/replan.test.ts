@@ -266,6 +266,40 @@ describe('the rig comes back, or goes into maintenance', () => {
     expect((await runOf(ids.runB)).rigId).toBe(ids['OV-11']);
   });
 
+  it('a running run on a lost rig waits in place: listed with what is credited, never proposed', async () => {
+    const m = t.ctx.ds.manager;
+    const running = await m.save(
+      m.create(RunEntity, {
+        code: 'HTRB-2703-C',
+        planId: ids.plan,
+        rigId: ids['OV-13'],
+        state: 'stressing',
+        sampleSize: 8,
+        stateChangedAt: new Date(),
+        nextReadPoint: 1,
+        stressHours: 42.5,
+        startedAt: new Date(Date.now() - 50 * H),
+        scheduledStart: new Date(Date.now() - 50 * H),
+        scheduledEnd: new Date(Date.now() + 52 * H),
+      }),
+    );
+    await setOnline('OV-13', false);
+    expect(await t.ctx.services.replan.proposeForRig(ids['OV-13'], { kind: 'offline', why: 'Oven OV-13 went offline' })).toBe(0);
+    const res = await (await t.signIn('engineer')).get('/api/replan');
+    expect(res.body.held).toEqual([
+      {
+        runId: running.id,
+        runCode: 'HTRB-2703-C',
+        rigCode: 'OV-13',
+        state: 'stressing',
+        stressHours: 42.5,
+        note: "OV-13 is offline: the run waits in place with its devices. Only hours the rig's stored samples show are credited; a silent gap credits nothing. A command the rig cannot confirm puts the run into fault.",
+      },
+    ]);
+    expect(res.body.items.filter((p: ReplanProposal) => p.runId === running.id)).toEqual([]);
+    await m.delete(RunEntity, { id: running.id });
+  });
+
   it('maintenance over a booking: in place after the window, or on another rig', async () => {
     const admin = await t.signIn('admin');
     // OV-12 (now holding run A from T0 + 50 h for 102 h) goes into maintenance for 3 days from T0.

@@ -4,6 +4,7 @@ import type { EntityManager } from 'typeorm';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import { interlockDueAt } from '../../../shared/domain/standards';
 import { formatUtc } from '../../../shared/domain/format';
+import { describeErrorForLog } from '../../db/safe-logger';
 import {
   rigMqttUsernameFor,
   RIG_SERVICE_KINDS,
@@ -297,10 +298,13 @@ export class RigsService {
       return { window: toWindow(w, rig.code), rigId: rig.id };
     });
     // The booked runs this window meets get re-plan proposals (in place after it, or on another rig).
-    await this.ctx.services.replan.enqueue(out.rigId, {
-      kind: 'maintenance',
-      why: `Oven ${out.window.rigCode} is in maintenance from ${formatUtc(startsAt)} to ${formatUtc(endsAt)} (${input.reason})`,
-    });
+    // The window stands even if that fails: the proposals are advice, the log says why they are missing.
+    await this.ctx.services.replan
+      .enqueue(out.rigId, {
+        kind: 'maintenance',
+        why: `Oven ${out.window.rigCode} is in maintenance from ${formatUtc(startsAt)} to ${formatUtc(endsAt)} (${input.reason})`,
+      })
+      .catch((e: unknown) => console.log(`[replan] proposals for ${out.window.rigCode} failed: ${describeErrorForLog(e)}`));
     return out.window;
   }
 
