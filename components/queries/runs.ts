@@ -3,6 +3,9 @@ import { keepPreviousData, useMutation, useQuery, useQueryClient } from '@tansta
 import type {
   BookRunInput,
   BookSampleInput,
+  CalendarApplyInput,
+  CalendarApplyResult,
+  CalendarProposal,
   ProposalInput,
   ProposalResult,
   Run,
@@ -60,6 +63,24 @@ export function useTimeline() {
     queryFn: ({ signal }) => api<Timeline>('/api/runs/timeline', { signal }),
     refetchInterval: RUN_REFRESH_MS * 2,
     placeholderData: keepPreviousData,
+  });
+}
+
+/** The calendar ordered by priority-weighted lateness (asked for on demand; stores nothing). */
+export function useCalendarProposal(enabled: boolean) {
+  return useQuery({
+    queryKey: ['runs', 'calendar'] as const,
+    queryFn: ({ signal }) => api<CalendarProposal>('/api/runs/calendar', { signal }),
+    enabled,
+    staleTime: 0,
+  });
+}
+
+export function useApplyCalendar() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (input: CalendarApplyInput) => api<CalendarApplyResult>('/api/runs/calendar', { method: 'POST', body: input }),
+    onSettled: () => qc.invalidateQueries({ queryKey: runKeys.all }),
   });
 }
 
