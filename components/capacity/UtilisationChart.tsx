@@ -56,7 +56,7 @@ export function UtilisationChart({ data, rig }: { data: Utilisation; rig: string
             style={axisStyle}
             fixLabelOverlap
           />
-          <VictoryAxis dependentAxis label="socket-h" tickFormat={(t: number) => compact(t)} style={axisStyle} />
+          <VictoryAxis dependentAxis tickFormat={(t: number) => compact(t)} style={axisStyle} />
           <VictoryStack>
             {parts.map((p) => (
               <VictoryBar key={p.key} data={p.values.map((y, i) => ({ x: i + 1, y }))} style={{ data: { fill: p.color } }} barRatio={0.7} />

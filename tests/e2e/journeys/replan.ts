@@ -105,6 +105,8 @@ export const managerReplan: Journey = {
       if (run.rig?.code !== move.toRigCode || run.state !== 'booked')
         throw new Error(`${booked.code} should be booked on ${move.toRigCode}, is ${run.state} on ${run.rig?.code}`);
       await j.shot('replan-accepted');
+      await chart.scrollIntoViewIfNeeded();
+      await j.shot('utilisation-chart');
     } finally {
       const r = await json<{ rowVersion: number }>(eng.get(`/api/runs/${booked.id}`), 'the run');
       await json(
