@@ -92,7 +92,7 @@ export function ScheduleScreen() {
               <Timeline data={d} userId={me.data?.id} />
               <Text variant="caption" tone="subtle">
                 {d.msPerClockH < 3_600_000
-                  ? `Demo clock: one stress hour passes in ${+(d.msPerClockH / 1000).toFixed(2)} s, so the axis shows wall time compressed accordingly.`
+                  ? `Demo clock: one stress hour passes in ${+(d.msPerClockH / 1000).toFixed(2)} s, so the axis counts stress-clock time from now.`
                   : 'Times are shown in your time zone.'}
               </Text>
             </View>

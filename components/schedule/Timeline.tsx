@@ -7,8 +7,9 @@
  */
 import { formatDateTime } from '@/components/common/format';
 import { useRouter } from 'expo-router';
-import { useMemo, useRef, useState } from 'react';
-import { PanResponder, Pressable, View, type GestureResponderEvent, type LayoutChangeEvent } from 'react-native';
+import { useState } from 'react';
+import { Pressable, View, type LayoutChangeEvent } from 'react-native';
+import { useTrackGestures } from './use-track-gestures';
 import { Button } from '@/components/ui/Button';
 import { PRIORITY_LABEL, isPriority } from '@/shared/domain/priority';
 import {
@@ -126,7 +127,6 @@ export function Timeline({ data, userId }: { data: TimelineData; userId?: string
   const [zoomH, setZoomH] = useState(() => readZoom(userId));
   const [panH, setPanH] = useState(0);
   const [dragPx, setDragPx] = useState(0);
-  const pinch = useRef<number | null>(null);
   const onLayout = (e: LayoutChangeEvent) => setAvail(Math.max(0, e.nativeEvent.layout.width - LABEL_W));
   const nowMs = Date.parse(data.now);
   const trackW = Math.max(1, avail);
@@ -142,45 +142,16 @@ export function Timeline({ data, userId }: { data: TimelineData; userId?: string
     setZoomH(h);
     saveZoom(userId, h);
   };
-  const zoomRef = useRef({ zi, zoomTo });
-  zoomRef.current = { zi, zoomTo };
-  const msRef = useRef({ msPerPx: w.msPerPx, msPerClockH: data.msPerClockH });
-  msRef.current = { msPerPx: w.msPerPx, msPerClockH: data.msPerClockH };
-  const touchGap = (e: GestureResponderEvent) => {
-    const t = e.nativeEvent.touches;
-    return t && t.length >= 2 ? Math.hypot(t[0].pageX - t[1].pageX, t[0].pageY - t[1].pageY) : null;
-  };
-  const responder = useMemo(
-    () =>
-      PanResponder.create({
-        // A tap still opens a run: only a sideways drag (or two fingers) moves the scale.
-        onMoveShouldSetPanResponder: (e, g) => Math.abs(g.dx) > 8 || (g.numberActiveTouches ?? 0) >= 2,
-        onPanResponderMove: (e, g) => {
-          const gap = touchGap(e);
-          if (gap !== null) {
-            if (pinch.current === null) pinch.current = gap;
-            const ratio = gap / pinch.current;
-            if (ratio > 1.3 || ratio < 0.77) {
-              zoomRef.current.zoomTo(zoomRef.current.zi + (ratio > 1 ? -1 : 1));
-              pinch.current = gap;
-            }
-            return;
-          }
-          setDragPx(g.dx);
-        },
-        onPanResponderRelease: (e, g) => {
-          pinch.current = null;
-          const { msPerPx, msPerClockH } = msRef.current;
-          setDragPx(0);
-          setPanH((p) => p - Math.round((g.dx * msPerPx) / msPerClockH));
-        },
-        onPanResponderTerminate: () => {
-          pinch.current = null;
-          setDragPx(0);
-        },
-      }),
-    [],
-  );
+  const [trackNode, setTrackNode] = useState<unknown>(null);
+  const msPerH = w.msPerPx > 0 ? data.msPerClockH / w.msPerPx : 1;
+  useTrackGestures(trackNode, {
+    onDrag: setDragPx,
+    onDragEnd: (dx) => {
+      setDragPx(0);
+      setPanH((p) => p - Math.round(dx / msPerH));
+    },
+    onPinch: (k) => zoomTo(zi + k),
+  });
   const step = panStepH(trackW, zoomH);
 
   return (
@@ -232,7 +203,7 @@ export function Timeline({ data, userId }: { data: TimelineData; userId?: string
           ))}
         </View>
         {avail > 0 ? (
-          <View style={{ width: trackW, overflow: 'hidden' }} {...responder.panHandlers} testID="schedule-track">
+          <View ref={setTrackNode} style={{ width: trackW, overflow: 'hidden' }} testID="schedule-track">
             <View style={{ height: AXIS_H, position: 'relative' }} testID="schedule-axis">
               {ticks.map((t) => (
                 <View

@@ -15,6 +15,7 @@ import { engineerTripReset } from './trip-reset';
 import { signoffApprovalsAudit } from './signoff';
 import { operatorStartPermit } from './start-permit';
 import { managerReplan } from './replan';
+import { managerCalendar } from './calendar';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -40,6 +41,8 @@ export const JOURNEYS: Journey[] = [
   operatorCorrectReading,
   signoffApprovalsAudit,
   holdsReadPoint,
+  // Reads the demo's due dates on the schedule and proposes (does not accept) a new order.
+  managerCalendar,
   // Books and starts a run on OV-04 (idle in the demo): after every journey that reads the schedule.
   operatorStartPermit,
   // Books on OV-01 weeks ahead, puts it into maintenance and moves the run; cleans up after itself.
