@@ -28,6 +28,9 @@ const WEEK_CHOICES = [
 ] as const;
 type Weeks = (typeof WEEK_CHOICES)[number]['value'];
 
+/** Table figures to 0.1 socket-h (the CSV keeps 0.001). */
+const oneDecimal = (x: number) => String(+x.toFixed(1));
+
 const optionWords = (p: ReplanProposal) => (p.kind === 'in-place' ? `Stay on ${p.toRigCode}` : `Move to ${p.toRigCode}`);
 
 /** Re-plan proposals after a rig dropped out, then the lab's utilisation per rig and week. */
@@ -138,10 +141,10 @@ function UtilisationSection() {
   const util = useUtilisation(Number(weeks));
   const columns: Column<WeekRow>[] = [
     { key: 'week', title: 'Week of', flex: 1.2, card: 'title', render: (r) => weekLabel(r.week) },
-    { key: 'booked', title: 'Booked', align: 'right', render: (r) => r.booked },
-    { key: 'stressed', title: 'Stressed', align: 'right', render: (r) => r.stressed },
-    { key: 'idle', title: 'Idle', align: 'right', render: (r) => r.idle },
-    { key: 'lost', title: 'Lost to faults', align: 'right', flex: 1.2, render: (r) => r.lost },
+    { key: 'booked', title: 'Booked', align: 'right', render: (r) => oneDecimal(r.booked) },
+    { key: 'stressed', title: 'Stressed', align: 'right', render: (r) => oneDecimal(r.stressed) },
+    { key: 'idle', title: 'Idle', align: 'right', render: (r) => oneDecimal(r.idle) },
+    { key: 'lost', title: 'Lost to faults', align: 'right', flex: 1.2, render: (r) => oneDecimal(r.lost) },
     {
       key: 'share',
       title: 'Stressed share',
