@@ -123,6 +123,13 @@ export function CalendarPanel() {
           {p.runs.length ? (
             <DataTable rows={p.runs} columns={columns} rowKey={(r) => r.runId} caption="Calendar proposal" minTableWidth={760} />
           ) : null}
+          {p.runs
+            .filter((r) => r.currentConflicts.length)
+            .map((r) => (
+              <Banner key={`c-${r.runId}`} tone="warn" title={`${r.code} as booked breaks the sharing rule`}>
+                {`${r.currentConflicts.join(' ')} So it moves to the first window that keeps the rule, even if that is later.`}
+              </Banner>
+            ))}
           {p.unplaced.map((u) => (
             <Banner key={u.runId} tone="warn" title={`No rig can take ${u.code}`}>
               {u.reasons.join(' ')}

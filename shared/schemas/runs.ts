@@ -459,6 +459,8 @@ export interface CalendarProposalRun {
   current: CalendarWindow;
   proposed: CalendarWindow;
   moved: boolean;
+  /** Why the booking as it stands breaks the sharing rule now (empty when it does not): such a run moves even if later. */
+  currentConflicts: string[];
 }
 
 export interface CalendarProposal {

@@ -65,11 +65,17 @@ export async function calendarProposal(ctx: AppContext, t: TimingOptions): Promi
   const rigCode = new Map(inputs.rigs.map((g) => [g.id, g.code]));
   const byRun = new Map(booked.map((r) => [r.id, r]));
   const iso = (ms: number) => new Date(ms).toISOString();
+  const rigById = new Map(inputs.rigs.map((g) => [g.id, g]));
+  const jobById = new Map(jobs.map((j) => [j.id, j]));
   const runs = plan.assignments.map((a) => {
     const r = byRun.get(a.jobId)!;
     const cur = current.get(a.jobId)!;
     const due = r.dueAt?.getTime() ?? null;
+    const rig = rigById.get(cur.rigId);
+    const others = inputs.commitments.filter((c) => c.runId !== r.id);
+    const currentConflicts = rig ? windowConflicts(rig, jobById.get(r.id)!, cur.startMs, cur.endMs, others, inputs.maintenance, t) : [];
     return {
+      currentConflicts,
       runId: r.id,
       code: r.code,
       rowVersion: r.rowVersion,
