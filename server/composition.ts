@@ -39,6 +39,8 @@ import type { RigLink } from './modules/telemetry/contracts';
 import type { TelemetryIngest } from './modules/telemetry/ingest';
 import { TelemetryService } from './modules/telemetry/telemetry.service';
 import { UsersService } from './modules/users/users.service';
+import { ReplanService } from './modules/replan/replan.service';
+import { UtilisationService } from './modules/utilisation/utilisation.service';
 
 /** Every service of the API process. */
 export interface Services {
@@ -65,6 +67,8 @@ export interface Services {
   alarms: AlarmsService;
   notifications: NotificationsService;
   tripResets: TripResetService;
+  replan: ReplanService;
+  utilisation: UtilisationService;
   /** Replaced (typed) when protection starts with its own retry options (protection/start.ts). */
   mail: MailService;
   /** Live parts: set while the background features run, undefined otherwise (or a test's fake link). */
@@ -131,6 +135,8 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     alarms: new AlarmsService(ctx),
     notifications: new NotificationsService(ctx),
     tripResets: new TripResetService(ctx),
+    replan: new ReplanService(ctx),
+    utilisation: new UtilisationService(ctx),
     mail,
     rigLink: undefined,
     telemetryIngest: undefined,

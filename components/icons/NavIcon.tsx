@@ -14,6 +14,7 @@ export type NavIconName =
   | 'rigs'
   | 'approvals'
   | 'audit'
+  | 'capacity'
   | 'more'
   | 'account'
   | 'signout';
@@ -71,6 +72,13 @@ export function NavIcon({ name, color, size = 24, accent }: Props) {
           <Rect x={3.5} y={5} width={17} height={15} rx={2.5} {...s} />
           <Path d="M3.5 10h17M8 3v4M16 3v4" {...s} />
           <Rect x={7} y={13} width={6} height={3.4} rx={1} fill={a} />
+        </>
+      ) : name === 'capacity' ? (
+        <>
+          <Path d="M4 20h16" {...s} />
+          <Rect x={5} y={11} width={3.5} height={9} rx={1} {...s} />
+          <Rect x={10.25} y={6} width={3.5} height={14} rx={1} {...s} />
+          <Rect x={15.5} y={13} width={3.5} height={7} rx={1} fill={a} stroke={a} />
         </>
       ) : name === 'trends' ? (
         <>

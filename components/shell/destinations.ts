@@ -24,6 +24,7 @@ export const DESTINATIONS: readonly Destination[] = [
   { path: '/rigs', label: 'Rigs', icon: 'rigs', permission: 'page.rigs' },
   { path: '/approvals', label: 'Approvals', icon: 'approvals', permission: 'page.approvals' },
   { path: '/audit', label: 'Audit log', icon: 'audit', permission: 'page.audit' },
+  { path: '/capacity', label: 'Capacity', icon: 'capacity', permission: 'page.capacity' },
 ];
 
 /** Pages every signed-in person may open, outside the role menus. */

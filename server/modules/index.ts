@@ -23,6 +23,8 @@ import { auditRoutes } from './audit-log/audit-log.routes';
 import { labSettingsRoutes } from './lab-settings/lab-settings.routes';
 import { reportsRoutes } from './reports/reports.routes';
 import { deviceHistoryRoutes } from './device-history/device-history.routes';
+import { replanRoutes } from './replan/replan.routes';
+import { utilisationRoutes } from './utilisation/utilisation.routes';
 
 /** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
 export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
@@ -49,6 +51,8 @@ export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
   labSettingsRoutes,
   reportsRoutes,
   deviceHistoryRoutes,
+  replanRoutes,
+  utilisationRoutes,
 ];
 
 export function apiRouters(ctx: AppContext): ApiRouter[] {

@@ -62,6 +62,11 @@ export const PERMISSIONS = {
   // Signing a lot verdict (an electronic signature, 21 CFR Part 11 §11.50/§11.200).
   'verdict.sign': ['engineer', 'manager'],
   'audit.read': ['admin', 'manager'],
+  // Re-planning after a rig drops out and the lab's utilisation (issue #26): engineers and managers
+  // accept a proposal (audited); managers read the figures, engineers too.
+  'replan.read': ['engineer', 'manager', 'admin'],
+  'replan.accept': ['engineer', 'manager'],
+  'utilisation.read': ['manager', 'engineer', 'admin'],
   'mail.read': ['admin'],
   // Places in the app's navigation (components/shell/destinations.ts).
   'page.floor': ['operator', 'engineer', 'admin'],
@@ -76,6 +81,7 @@ export const PERMISSIONS = {
   'page.audit': ['admin', 'manager'],
   'page.mail': ['admin'],
   'page.rigs': ['admin', 'engineer'],
+  'page.capacity': ['manager', 'engineer'],
 } satisfies Record<string, readonly Role[]>;
 
 export type Permission = keyof typeof PERMISSIONS;

@@ -18,8 +18,8 @@
  *               attempts) moves a running run into fault, with a critical alarm (reportFailure).
  * Before any command it compares the rig's last stored report with what it wants, so a restarted
  * server sends nothing the rig already did — but a report older than a command of the same kind
- * still on its way (or acked after the report) does not count (CommandTracker.reportReflects). It also re-plans booked runs when a rig goes offline
- * or a running run overruns its booked end.
+ * still on its way (or acked after the report) does not count (CommandTracker.reportReflects). It also re-plans booked runs when
+ * a running run overruns its booked end (a rig going offline gets proposals instead: server/modules/replan).
  */
 import cron, { type ScheduledTask } from 'node-cron';
 import type { EntityManager } from 'typeorm';
@@ -117,10 +117,9 @@ export class RunScheduler {
     }
     if (this.opts.listen !== false) {
       const onLanded = () => this.kick();
-      const onStatus = (s: RigStatusChanged) => {
-        if (!s.online) this.requestReplan(`Oven ${s.rigCode} went offline`);
-        this.kick();
-      };
+      // A rig going offline no longer moves bookings by itself: the re-planner proposes and a
+      // person accepts (server/modules/replan).
+      const onStatus = (_s: RigStatusChanged) => this.kick();
       this.ctx.events.on(TELEMETRY_LANDED, onLanded);
       this.ctx.events.on(RIG_STATUS_CHANGED, onStatus);
       this.offListeners.push(

@@ -15,6 +15,7 @@ import { engineerTripReset } from './trip-reset';
 import { signoffApprovalsAudit } from './signoff';
 import { operatorStartPermit } from './start-permit';
 import { traceabilityReports } from './traceability';
+import { managerReplan } from './replan';
 import { managerCalendar } from './calendar';
 
 /**
@@ -47,5 +48,7 @@ export const JOURNEYS: Journey[] = [
   managerCalendar,
   // Books and starts a run on OV-04 (idle in the demo): after every journey that reads the schedule.
   operatorStartPermit,
+  // Books on OV-01 weeks ahead, puts it into maintenance and moves the run; cleans up after itself.
+  managerReplan,
   adminRigs,
 ];
