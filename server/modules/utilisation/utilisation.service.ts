@@ -15,7 +15,7 @@ import {
   type RunUsage,
 } from '../../../shared/scheduling/utilisation';
 import type { AppContext } from '../../context';
-import { csvLine } from '../analytics/lot-report';
+import { csvLine } from '../reports/csv';
 import * as data from './utilisation.data';
 
 const H = 3_600_000;
