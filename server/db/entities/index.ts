@@ -34,6 +34,9 @@ import { TelemetryCycleEntity } from './telemetry-cycle.entity';
 import { OverrideRequestEntity, VerdictSignatureEntity } from './signoff.entity';
 import { LabSettingsEntity } from './lab-settings.entity';
 
+import { ChamberSampleEntity } from './chamber-sample.entity';
+export { ChamberSampleEntity };
+
 export const ENTITIES = [
   UserEntity,
   DeviceTypeEntity,
@@ -65,4 +68,5 @@ export const ENTITIES = [
   OverrideRequestEntity,
   VerdictSignatureEntity,
   LabSettingsEntity,
+  ChamberSampleEntity,
 ];
