@@ -1,7 +1,10 @@
 /**
  * Plan-check rules of the unbiased chamber kinds (tc, htsl, ac): with no bias nothing dissipates,
  * so the only rating at stake is the part's storage temperature range (Tstg) against the coldest
- * and hottest the chamber may take the load to (the extremes with their bands). Without a Tstg the
+ * and hottest the chamber may take the load to (the extremes with their bands). As HTRB at Tj max,
+ * a storage stress may be run at the rating itself (AEC-Q101 asks HTSL at the part's maximum —
+ * from memory): a stated temperature beyond the rating blocks, a band that may carry the load past
+ * it warns with the kelvins it may go over. Without a Tstg the
  * junction rating stands in for the top (a part never rated to store hotter than it may operate —
  * common practice) and the bottom is not judged but said so.
  */
@@ -9,7 +12,7 @@ import { TC_COLD_BAND_K } from '../../domain/chamber-methods';
 import { isThermalCyclingKind, isUnbiasedKind } from '../../domain/stress';
 import { tcPeriodMin } from '../../chamber/profile';
 import { C, numbers, sig } from './format';
-import { JUNCTION_WARN_MARGIN_K, type Finding, type PlanRule, type Severity } from './types';
+import type { Finding, PlanRule, Severity } from './types';
 
 /** The hottest and coldest the chamber may take the load to under the plan (°C). */
 export function chamberExtremes(plan: Parameters<PlanRule>[0]['plan']): { hotC: number; coldC: number | null } {
@@ -24,7 +27,7 @@ export const storageRating: PlanRule = ({ plan, device }) => {
   const out: Finding[] = [];
   const topRated = device.tstgMaxC ?? device.tjMaxC;
   const topName = device.tstgMaxC !== null ? 'Tstg max' : 'Tj max (no Tstg entered)';
-  const hotSev: Severity = hotC > topRated ? 'block' : topRated - hotC < JUNCTION_WARN_MARGIN_K ? 'warn' : 'ok';
+  const hotSev: Severity = plan.chamberC > topRated ? 'block' : hotC > topRated ? 'warn' : 'ok';
   out.push({
     code: 'chamber-vs-tstg-max',
     severity: hotSev,
@@ -32,14 +35,16 @@ export const storageRating: PlanRule = ({ plan, device }) => {
       hotSev === 'block'
         ? 'Chamber can go hotter than the storage rating'
         : hotSev === 'warn'
-          ? 'Chamber close to the storage rating'
+          ? 'Chamber band reaches past the storage rating'
           : 'Chamber within the storage rating',
     explanation:
       `The chamber may take the load to ${C(hotC)} (${C(plan.chamberC)} and its band’s +${sig(plan.chamberBand.aboveK)} K) against ` +
       `${topName} ${C(topRated)}: ${hotC <= topRated ? `${sig(topRated - hotC)} K below` : `${sig(hotC - topRated)} K above`}. ` +
       (hotSev === 'block'
         ? 'Unbiased parts would be stored beyond their rating; lower the temperature or choose another condition.'
-        : device.tstgMaxC === null
+        : hotSev === 'warn'
+          ? 'The stress is at the rating by its method; keep the chamber near the bottom of its band or narrow the band.'
+          : device.tstgMaxC === null
           ? 'Enter the data sheet’s Tstg on the device type to check against the storage rating itself.'
           : ''),
     numbers: numbers([
@@ -57,7 +62,8 @@ export const storageRating: PlanRule = ({ plan, device }) => {
         numbers: numbers([['coldC', coldC, '°C', 'Coldest the load may reach']]),
       });
     } else {
-      const sev: Severity = coldC < device.tstgMinC ? 'block' : coldC - device.tstgMinC < JUNCTION_WARN_MARGIN_K ? 'warn' : 'ok';
+      const lowC = plan.thermalCycle!.lowC;
+      const sev: Severity = lowC < device.tstgMinC ? 'block' : coldC < device.tstgMinC ? 'warn' : 'ok';
       out.push({
         code: 'chamber-vs-tstg-min',
         severity: sev,
@@ -65,7 +71,7 @@ export const storageRating: PlanRule = ({ plan, device }) => {
           sev === 'block'
             ? 'Cold extreme below the storage rating'
             : sev === 'warn'
-              ? 'Cold extreme close to the storage rating'
+              ? 'Cold band reaches below the storage rating'
               : 'Cold extreme within the storage rating',
         explanation:
           `The load may go down to ${C(coldC)} (the cold extreme and its −${sig(TC_COLD_BAND_K.belowK)} K band) against Tstg min ` +
