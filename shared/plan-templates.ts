@@ -450,21 +450,38 @@ function chamberPlan(d: Device, title: string, sources: string[]) {
 }
 const storageRule = (d?: Device): TemplateRule => ({
   label: 'Storage rating',
-  value: d?.tstgMaxC != null ? `Tstg ${sig(d.tstgMinC ?? NaN)}…${sig(d.tstgMaxC)} °C (the plan check compares the chamber with it)` : 'The plan check compares the chamber with the part’s Tstg',
+  value:
+    d?.tstgMaxC != null
+      ? `Tstg ${sig(d.tstgMinC ?? NaN)}…${sig(d.tstgMaxC)} °C (the plan check compares the chamber with it)`
+      : 'The plan check compares the chamber with the part’s Tstg',
   source: SOURCES.ours,
 });
 
 function tc(d?: Device): PlanTemplate {
   const sources = [SOURCES.tc, SOURCES.aecSampleMemory, SOURCES.readPoints, SOURCES.criteria];
   const cond = TC_CONDITIONS.find((c) => c.code === TC_TEMPLATE_CONDITION)!;
-  const profile = { lowC: cond.lowC, highC: cond.highC, dwellMin: TC_DEFAULT_DWELL_MIN, rampKPerMin: TC_DEFAULT_RAMP_K_PER_MIN, cycles: TC_DEFAULT_CYCLES };
+  const profile = {
+    lowC: cond.lowC,
+    highC: cond.highC,
+    dwellMin: TC_DEFAULT_DWELL_MIN,
+    rampKPerMin: TC_DEFAULT_RAMP_K_PER_MIN,
+    cycles: TC_DEFAULT_CYCLES,
+  };
   const title = `TC ${cond.lowC}/+${cond.highC} °C (condition ${cond.code}), ${TC_DEFAULT_CYCLES} cycles (JESD22-A104)`;
   const summary =
     'Temperature cycling: unbiased parts in a chamber whose air swings between the two extremes, with a dwell at each. ' +
     'Solder, die attach and the package fatigue as they expand and shrink. Read points in cycles.';
   const rules: TemplateRule[] = [
-    { label: 'Extremes', value: `${cond.lowC} °C / +${cond.highC} °C (condition ${cond.code}; the load must reach each)`, source: SOURCES.tc },
-    { label: 'Dwell and ramp', value: `${TC_DEFAULT_DWELL_MIN} min at each extreme, air ramp ${TC_DEFAULT_RAMP_K_PER_MIN} K/min (${sig(tcPeriodMin(profile))} min per cycle)`, source: SOURCES.readPoints },
+    {
+      label: 'Extremes',
+      value: `${cond.lowC} °C / +${cond.highC} °C (condition ${cond.code}; the load must reach each)`,
+      source: SOURCES.tc,
+    },
+    {
+      label: 'Dwell and ramp',
+      value: `${TC_DEFAULT_DWELL_MIN} min at each extreme, air ramp ${TC_DEFAULT_RAMP_K_PER_MIN} K/min (${sig(tcPeriodMin(profile))} min per cycle)`,
+      source: SOURCES.readPoints,
+    },
     { label: 'Cycles', value: `${TC_DEFAULT_CYCLES}, read points ${TC_DEFAULT_READ_POINTS_CYCLES.join(' / ')} cycles`, source: SOURCES.tc },
     { label: 'Sample', value: `${CHAMBER_SAMPLE.n} per lot, accept ${CHAMBER_SAMPLE.c}`, source: SOURCES.aecSampleMemory },
     storageRule(d),
@@ -512,7 +529,11 @@ function ac(d?: Device): PlanTemplate {
     'Autoclave: saturated steam under pressure drives moisture into the package with no bias. A package-integrity check ' +
     '(pass/fail, no failure rate). The vessel is a pressure vessel: never opened under pressure.';
   const rules: TemplateRule[] = [
-    { label: 'Vessel', value: `${c.chamberC} °C ${bandText(METHOD_CHAMBER_BAND_K.ac)}, ${c.humidityPct} % RH, ${c.pressureKPa} kPa absolute`, source: SOURCES.ac },
+    {
+      label: 'Vessel',
+      value: `${c.chamberC} °C ${bandText(METHOD_CHAMBER_BAND_K.ac)}, ${c.humidityPct} % RH, ${c.pressureKPa} kPa absolute`,
+      source: SOURCES.ac,
+    },
     { label: 'Duration', value: `${c.durationH} h, read points ${AC_DEFAULT_READ_POINTS_H.join(' / ')} h`, source: SOURCES.ac },
     { label: 'Sample', value: `${CHAMBER_SAMPLE.n} per lot, accept ${CHAMBER_SAMPLE.c}`, source: SOURCES.aecSampleMemory },
     storageRule(d),

@@ -11,6 +11,8 @@
  *   the oven at the same time fit on its board. Anything else is an overlap and is refused.
  */
 import { formatUtc } from '../domain/format';
+import type { RigKind } from '../domain/rig-kinds';
+import { chamberRefusals, rigName, type ChamberNeeds } from './chamber';
 
 export interface RigCapability {
   id: string;
@@ -23,6 +25,10 @@ export interface RigCapability {
   /** False once decommissioned. */
   active: boolean;
   online?: boolean;
+  /** 'chamber': unbiased plans only, socketCount is its capacity in devices (shared/scheduling/chamber.ts). Absent = 'board'. */
+  kind?: RigKind;
+  minTempC?: number | null;
+  maxPressureKPa?: number | null;
 }
 
 /** What a run asks of a rig. */
@@ -35,6 +41,8 @@ export interface RunNeeds {
   /** Plan stress hours. */
   durationH: number;
   readPointsH: number[];
+  /** An unbiased plan's chamber needs (chamberNeedsOf); absent or null for a socket-biased plan. */
+  chamber?: ChamberNeeds | null;
 }
 
 /** A run already holding (part of) a rig for a window. */
@@ -47,6 +55,8 @@ export interface Commitment {
   chamberC: number;
   humidityPct: number | null;
   sockets: number;
+  /** A cycling chamber's profile (ChamberNeeds.profileKey): runs share one only on the same profile. */
+  profileKey?: string | null;
 }
 
 export interface MaintenanceWindow {
@@ -114,9 +124,11 @@ const condition = (c: number, rh: number | null) => (rh === null ? `${n(c)} °C`
 /** Reasons the rig can never take this run; empty when it can. */
 export function staticRefusals(rig: RigCapability, needs: RunNeeds): string[] {
   const out: string[] = [];
-  const name = `Oven ${rig.code}`;
+  const name = rigName(rig);
+  const unit = rig.kind === 'chamber' ? 'devices' : 'sockets';
   if (!rig.active) out.push(`${name} is decommissioned and takes no new runs.`);
-  if (needs.sampleSize > rig.socketCount) out.push(`${name} holds ${rig.socketCount} sockets; the plan needs ${needs.sampleSize}.`);
+  out.push(...chamberRefusals(rig, needs.chamber));
+  if (needs.sampleSize > rig.socketCount) out.push(`${name} holds ${rig.socketCount} ${unit}; the plan needs ${needs.sampleSize}.`);
   if (needs.chamberC > rig.maxTempC) out.push(`${name} reaches at most ${n(rig.maxTempC)} °C; the plan needs ${n(needs.chamberC)} °C.`);
   if (needs.biasV !== null && needs.biasV > rig.maxVoltageV) {
     out.push(`${name} supplies at most ${n(rig.maxVoltageV)} V of bias; the plan needs ${n(needs.biasV)} V.`);
@@ -148,7 +160,9 @@ export function windowConflicts(
   maintenance: readonly MaintenanceWindow[],
 ): string[] {
   const out: string[] = [];
-  const name = `Oven ${rig.code}`;
+  const name = rigName(rig);
+  const unit = rig.kind === 'chamber' ? 'devices' : 'sockets';
+  const profile = needs.chamber?.profileKey ?? null;
   for (const m of maintenance) {
     if (m.rigId !== rig.id || !overlaps(startMs, endMs, m.startMs, m.endMs)) continue;
     out.push(`${name} is in maintenance from ${when(m.startMs)} to ${when(m.endMs)}${m.reason ? ` (${m.reason})` : ''}.`);
@@ -159,10 +173,16 @@ export function windowConflicts(
       out.push(
         `${name} runs ${c.code} at ${condition(c.chamberC, c.humidityPct)} until ${when(c.endMs)}; the plan needs ${condition(needs.chamberC, needs.humidityPct)}.`,
       );
+    } else if ((c.profileKey ?? null) !== profile) {
+      out.push(
+        `${name} cycles ${c.code} on another profile until ${when(c.endMs)}; runs share a cycling chamber only on the same profile.`,
+      );
     }
   }
   // Sockets: the peak use of the board by runs that overlap the window (sweep over their starts).
-  const sameCondition = sharing.filter((c) => c.chamberC === needs.chamberC && (c.humidityPct ?? null) === (needs.humidityPct ?? null));
+  const sameCondition = sharing.filter(
+    (c) => c.chamberC === needs.chamberC && (c.humidityPct ?? null) === (needs.humidityPct ?? null) && (c.profileKey ?? null) === profile,
+  );
   if (sameCondition.length) {
     let peak = 0;
     let peakRuns: Commitment[] = [];
@@ -179,7 +199,7 @@ export function windowConflicts(
       const until = Math.max(...peakRuns.map((c) => c.endMs));
       const who = peakRuns.map((c) => `${c.code} uses ${c.sockets}`).join(', ');
       out.push(
-        `${name} has ${rig.socketCount - peak} of ${rig.socketCount} sockets free until ${when(until)} (${who}); the plan needs ${needs.sampleSize}.`,
+        `${name} has ${rig.socketCount - peak} of ${rig.socketCount} ${unit} free until ${when(until)} (${who}); the plan needs ${needs.sampleSize}.`,
       );
     }
   }

@@ -193,7 +193,8 @@ function unbiasedIssues(p: {
     const tc = p.thermalCycle;
     if (!tc) out.push({ path: ['thermalCycle'], message: 'Temperature cycling needs its extremes, dwell, ramp and cycles' });
     else {
-      if (tc.highC - tc.lowC < 20) out.push({ path: ['thermalCycle', 'highC'], message: 'The hot extreme must be at least 20 K above the cold one' });
+      if (tc.highC - tc.lowC < 20)
+        out.push({ path: ['thermalCycle', 'highC'], message: 'The hot extreme must be at least 20 K above the cold one' });
       if (p.chamberC !== tc.highC) {
         out.push({ path: ['chamberC'], message: `The stress temperature of a cycling plan is its hot extreme (${tc.highC} °C)` });
       }
@@ -206,12 +207,14 @@ function unbiasedIssues(p: {
     if (!c) out.push({ path: ['acCondition'], message: 'Choose the autoclave or unbiased-HAST condition' });
     else {
       if (p.chamberC !== c.chamberC) out.push({ path: ['chamberC'], message: `${c.label}: the chamber is at ${c.chamberC} °C` });
-      if (p.humidityPct !== c.humidityPct) out.push({ path: ['humidityPct'], message: `${c.label}: the humidity is ${c.humidityPct} % RH` });
+      if (p.humidityPct !== c.humidityPct)
+        out.push({ path: ['humidityPct'], message: `${c.label}: the humidity is ${c.humidityPct} % RH` });
     }
   } else if (p.acCondition !== null) {
     out.push({ path: ['acCondition'], message: 'Only autoclave plans have an autoclave condition' });
   }
-  if (p.kind === 'htsl' && p.humidityPct !== null) out.push({ path: ['humidityPct'], message: 'A storage bake is dry: leave the humidity empty' });
+  if (p.kind === 'htsl' && p.humidityPct !== null)
+    out.push({ path: ['humidityPct'], message: 'A storage bake is dry: leave the humidity empty' });
   return out;
 }
 

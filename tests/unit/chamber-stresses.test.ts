@@ -20,7 +20,7 @@ import {
 import { STRESS_FAMILY, PLAN_KINDS, isUnbiasedKind, countsInCycles } from '../../shared/domain/stress';
 import { MECHANISM_OF_KIND, mechanismExposure, mechanismFit } from '../../shared/reliability/mechanisms';
 import { coffinMansonFactor, equivalentStressHours } from '../../shared/reliability';
-import { readPointCycles } from '../../shared/scheduling/cycling';
+import { chamberNeedsOf, readPointCycles, staticRefusals, windowConflicts } from '../../shared/scheduling';
 
 const ID = '8f6a1c3e-2b7d-4e59-9a10-3c4d5e6f7a8b';
 const device = (over: Partial<DeviceTypeInput> = {}): DeviceTypeInput =>
@@ -47,8 +47,7 @@ const finding = (r: PlanCheck, code: string) => {
   if (!f) throw new Error(`no finding ${code}: ${r.findings.map((x) => x.code).join(', ')}`);
   return f;
 };
-const issues = (body: unknown) =>
-  planInputSchema.safeParse(body).error?.issues.map((i) => `${i.path.join('.')}: ${i.message}`) ?? [];
+const issues = (body: unknown) => planInputSchema.safeParse(body).error?.issues.map((i) => `${i.path.join('.')}: ${i.message}`) ?? [];
 
 const B: TcProfile = { lowC: -55, highC: 125, dwellMin: 10, rampKPerMin: 10, cycles: 1000 };
 
@@ -59,7 +58,11 @@ describe('the unbiased family', () => {
     expect(PLAN_KINDS.filter(countsInCycles)).toEqual(['iol', 'tc']);
   });
   test('each unbiased kind has a mechanism of its own, never pooled with a biased one', () => {
-    expect([MECHANISM_OF_KIND.tc, MECHANISM_OF_KIND.htsl, MECHANISM_OF_KIND.ac]).toEqual(['thermal-cycling', 'storage', 'unbiased-humidity']);
+    expect([MECHANISM_OF_KIND.tc, MECHANISM_OF_KIND.htsl, MECHANISM_OF_KIND.ac]).toEqual([
+      'thermal-cycling',
+      'storage',
+      'unbiased-humidity',
+    ]);
   });
 });
 
@@ -157,7 +160,9 @@ describe('plan bodies of the chamber kinds', () => {
   });
   test('a chamber plan with bias, or a tc plan whose stress temperature is not its hot extreme, is refused with a clear message', () => {
     const tc = template('tc');
-    expect(issues({ ...tc, bias: { ...tc.bias, vcbV: 50 } })).toContain('bias.vcbV: A chamber stress applies no bias: leave the bias empty');
+    expect(issues({ ...tc, bias: { ...tc.bias, vcbV: 50 } })).toContain(
+      'bias.vcbV: A chamber stress applies no bias: leave the bias empty',
+    );
     expect(issues({ ...tc, chamberC: 150 })).toContain('chamberC: The stress temperature of a cycling plan is its hot extreme (125 °C)');
     expect(issues({ ...tc, thermalCycle: null })).toContain('thermalCycle: Temperature cycling needs its extremes, dwell, ramp and cycles');
     expect(issues({ ...tc, thermalCycle: { ...B, rampKPerMin: 20 } })).toContain(
@@ -169,7 +174,9 @@ describe('plan bodies of the chamber kinds', () => {
     expect([ac.chamberC, ac.humidityPct, ac.acCondition, ac.durationH]).toEqual([121, 100, 'autoclave', 96]);
     expect(issues({ ...ac, chamberC: 130 })).toContain('chamberC: Autoclave 121 °C / 100 % RH / 205 kPa: the chamber is at 121 °C');
     expect(issues({ ...ac, acCondition: null })).toContain('acCondition: Choose the autoclave or unbiased-HAST condition');
-    expect(issues({ ...template('htrb'), acCondition: 'autoclave' })).toContain('acCondition: Only autoclave plans have an autoclave condition');
+    expect(issues({ ...template('htrb'), acCondition: 'autoclave' })).toContain(
+      'acCondition: Only autoclave plans have an autoclave condition',
+    );
   });
 });
 
@@ -194,7 +201,9 @@ describe('plan check: the storage rating (Tstg) with numbers', () => {
     expect(f.numbers.tstgMinC.value).toBe(-55);
   });
   test('TC −55 °C on a Tstg −40 °C part, or HTSL 175 °C on a Tstg 150 °C part → block', () => {
-    expect(finding(checkPlan(device({ tstgMinC: -40 }), planInputSchema.parse(template('tc'))), 'chamber-vs-tstg-min').severity).toBe('block');
+    expect(finding(checkPlan(device({ tstgMinC: -40 }), planInputSchema.parse(template('tc'))), 'chamber-vs-tstg-min').severity).toBe(
+      'block',
+    );
     const hot = planInputSchema.parse({ ...template('htsl'), chamberC: 175 });
     const r = checkPlan(device(), hot);
     expect(finding(r, 'chamber-vs-tstg-max').severity).toBe('block');
@@ -216,7 +225,9 @@ describe('credit per mechanism', () => {
     expect(x.equivalentDeviceHours).toBeCloseTo(ref, 6);
   });
   test('TC: Coffin–Manson on the load swing, (180/40)^2 = 20.25 per cycle (NIST e-Handbook §8.1.5 form, m = 2 from memory)', () => {
-    const x = mechanismExposure({ ...base, kind: 'tc', chamberC: 125 }, [{ creditedHours: 933, segments: null, cycling: { cycles: 1000, deltaTjC: 180 } }]);
+    const x = mechanismExposure({ ...base, kind: 'tc', chamberC: 125 }, [
+      { creditedHours: 933, segments: null, cycling: { cycles: 1000, deltaTjC: 180 } },
+    ]);
     expect(coffinMansonFactor({ deltaTTestC: 180, deltaTUseC: 40, m: 2 })).toBeCloseTo(20.25, 12);
     expect(x.equivalentDeviceHours).toBeCloseTo(1000 * 20.25 * 24, 6);
   });
@@ -224,5 +235,70 @@ describe('credit per mechanism', () => {
     const x = mechanismExposure({ ...base, kind: 'ac', chamberC: 121, humidityPct: 100 }, [{ creditedHours: 96, segments: null }]);
     expect(x.unavailable).toMatch(/no FIT/);
     expect(mechanismFit(x, 0)).toBeNull();
+  });
+});
+
+describe('chamber time: the rig kind and the chamber capacity rule', () => {
+  const chamber = {
+    id: 'c1',
+    code: 'TC-01',
+    socketCount: 100,
+    maxTempC: 200,
+    maxVoltageV: 0,
+    humidityCapable: false,
+    maxHumidityPct: null,
+    active: true,
+    kind: 'chamber' as const,
+    minTempC: -70,
+    maxPressureKPa: null,
+  };
+  const oven = { ...chamber, id: 'o1', code: 'OV-01', kind: 'board' as const, minTempC: null, maxVoltageV: 600 };
+  const tcPlan = planInputSchema.parse(template('tc'));
+  const needs = (sampleSize: number, p: PlanInput = tcPlan) => ({
+    chamberC: p.chamberC,
+    humidityPct: p.humidityPct,
+    biasV: null,
+    sampleSize,
+    durationH: p.durationH,
+    readPointsH: p.readPointsH,
+    chamber: chamberNeedsOf(p),
+  });
+  test('a tc plan is refused by a burn-in oven, and an HTRB plan by a chamber, in words', () => {
+    expect(staticRefusals(oven, needs(77))).toEqual([
+      'Oven OV-01 is a burn-in oven with biased sockets; a temperature cycling plan runs in a chamber.',
+    ]);
+    expect(staticRefusals(chamber, { ...needs(77), chamber: null })).toEqual([
+      'Chamber TC-01 has no biased sockets; a socket-biased plan needs a burn-in oven.',
+    ]);
+  });
+  test('capacity in devices, the cold limit and the vessel pressure, with the numbers', () => {
+    expect(staticRefusals(chamber, needs(120))).toEqual(['Chamber TC-01 holds 100 devices; the plan needs 120.']);
+    expect(staticRefusals({ ...chamber, minTempC: -40 }, needs(77))).toEqual([
+      'Chamber TC-01 reaches no lower than -40 °C; the plan needs -55 °C.',
+    ]);
+    const ac = planInputSchema.parse(template('ac'));
+    expect(staticRefusals({ ...chamber, humidityCapable: true, maxHumidityPct: 100 }, needs(77, ac))).toEqual([
+      'Chamber TC-01 is not a pressure vessel; the plan needs 205 kPa.',
+    ]);
+  });
+  test('two tc runs share a chamber only on the same profile, and their devices together fit its capacity', () => {
+    const c = {
+      runId: 'r',
+      code: 'TC-A',
+      rigId: 'c1',
+      startMs: 0,
+      endMs: 1e9,
+      chamberC: 125,
+      humidityPct: null,
+      sockets: 60,
+      profileKey: chamberNeedsOf(tcPlan)!.profileKey,
+    };
+    expect(windowConflicts(chamber, needs(40), 0, 1e6, [c], [])).toEqual([]);
+    expect(windowConflicts(chamber, needs(41), 0, 1e6, [c], [])[0]).toMatch(
+      /^Chamber TC-01 has 40 of 100 devices free until .* \(TC-A uses 60\); the plan needs 41\.$/,
+    );
+    expect(windowConflicts(chamber, needs(10), 0, 1e6, [{ ...c, profileKey: '-40/125/15/10' }], [])[0]).toMatch(
+      /cycles TC-A on another profile/,
+    );
   });
 });

@@ -16,6 +16,7 @@ import {
   windowConflicts,
   type RunNeeds,
   type TimingOptions,
+  chamberNeedsOf,
 } from '../../../shared/scheduling';
 import { BIASED_HOLD_PHASES } from '../../../shared/holds/sequence';
 import { chamberSetpointC } from '../../../shared/domain/standards';
@@ -104,6 +105,7 @@ const needsOf = (plan: StressPlanEntity, sampleSize: number): RunNeeds => ({
   sampleSize,
   durationH: plan.durationH,
   readPointsH: plan.readPointsH,
+  chamber: chamberNeedsOf(plan),
 });
 
 /**

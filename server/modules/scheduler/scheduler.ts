@@ -32,6 +32,7 @@ import {
   accrualConditionsFor,
   type Job,
   when,
+  chamberNeedsOf,
 } from '../../../shared/scheduling';
 import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H, chamberSetpointC } from '../../../shared/domain/standards';
 import { FAULTABLE_STATES } from '../../../shared/domain/run-states';
@@ -697,6 +698,7 @@ export class RunScheduler {
           sampleSize: r.sampleSize,
           durationH: p.durationH,
           readPointsH: p.readPointsH,
+          chamber: chamberNeedsOf(p),
           rigIds: inputs.rigs.filter((g) => g.online || g.id === r.rigId).map((g) => g.id),
         };
       });

@@ -45,8 +45,8 @@ export const storageRating: PlanRule = ({ plan, device }) => {
         : hotSev === 'warn'
           ? 'The stress is at the rating by its method; keep the chamber near the bottom of its band or narrow the band.'
           : device.tstgMaxC === null
-          ? 'Enter the data sheet’s Tstg on the device type to check against the storage rating itself.'
-          : ''),
+            ? 'Enter the data sheet’s Tstg on the device type to check against the storage rating itself.'
+            : ''),
     numbers: numbers([
       ['hotC', hotC, '°C', 'Hottest the load may reach'],
       ['ratedC', topRated, '°C', topName],
