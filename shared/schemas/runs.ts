@@ -192,9 +192,16 @@ export interface StartPermit {
 /** Socket index (0-based, as on the rig board) → device serial; "" marks a socket left empty. */
 export const socketLoadSchema = z.object({
   rowVersion: rowVersion(),
+  /** Socket (or chamber load position) → serial. */
   sockets: z
-    .record(z.string().regex(/^\d{1,3}$/, 'Socket numbers are 0–255'), z.string().trim().max(40, 'Serials are at most 40 characters'))
-    .refine((m) => Object.keys(m).length <= 256, 'A board holds at most 256 sockets'),
+    .record(z.string().regex(/^\d{1,4}$/, 'Socket numbers are 0–255 (chamber positions 0–1999)'), z.string().trim().max(40, 'Serials are at most 40 characters'))
+    .refine((m) => Object.keys(m).length <= 2000, 'A chamber holds at most 2000 devices')
+    .default({}),
+  /**
+   * A chamber run only: the devices loaded into the chamber as a serial list (no sockets); the
+   * server gives each the first free load position of the chamber. Replaces `sockets` when given.
+   */
+  serials: z.array(z.string().trim().min(1, 'An empty serial').max(40, 'Serials are at most 40 characters')).max(2000).optional(),
   /** Check only: report the flags, store nothing. */
   dryRun: z.boolean().default(false),
 });

@@ -11,6 +11,7 @@ import { MqttRigLink } from './rig-link';
 import { recoverRollups } from './rollups';
 import { pruneRejectedMessages, REJECTED_PRUNE_EVERY_MS, type RejectionRetention } from './rejections-retention';
 import { markQuietRigsOffline } from './telemetry.data';
+import type { IngestDeps } from './ingest';
 
 /** A rig that sent nothing (telemetry or status) for this long is marked offline. */
 export const OFFLINE_AFTER_MS = 60_000;
@@ -25,6 +26,8 @@ export interface TelemetryFeatureOptions extends IngestOptions {
   sweepEveryMs?: number;
   /** rejected_messages retention (rejections-retention.ts) and how often it is applied. */
   rejections?: RejectionRetention & { pruneEveryMs?: number };
+  /** Chambers' reports, validated (server/features.ts hands in the chamber module's handler). */
+  onChamber?: IngestDeps['onChamber'];
 }
 
 export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOptions = {}): Promise<() => Promise<void>> {
@@ -38,6 +41,7 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
       now: () => ctx.now(),
       publishStored: (rigCode, cmd) => link.publishStored(rigCode, cmd),
       onAck: (rigCode, ack) => link.onAck(rigCode, ack),
+      onChamber: opts.onChamber,
     },
     opts,
   );
