@@ -43,10 +43,12 @@ export const createRigSchema = z
   .strict()
   .superRefine((r, ctx) => {
     if (r.kind === 'board') {
-      if (r.socketCount > MAX_RIG_SOCKETS) ctx.addIssue({ code: 'custom', path: ['socketCount'], message: `At most ${MAX_RIG_SOCKETS} sockets` });
+      if (r.socketCount > MAX_RIG_SOCKETS)
+        ctx.addIssue({ code: 'custom', path: ['socketCount'], message: `At most ${MAX_RIG_SOCKETS} sockets` });
       if (!(r.maxVoltageV > 0)) ctx.addIssue({ code: 'custom', path: ['maxVoltageV'], message: 'Must be above 0 V' });
       if (r.minTempC !== null) ctx.addIssue({ code: 'custom', path: ['minTempC'], message: 'Only a chamber has a cold limit' });
-      if (r.maxPressureKPa !== null) ctx.addIssue({ code: 'custom', path: ['maxPressureKPa'], message: 'Only a chamber is a pressure vessel' });
+      if (r.maxPressureKPa !== null)
+        ctx.addIssue({ code: 'custom', path: ['maxPressureKPa'], message: 'Only a chamber is a pressure vessel' });
     }
     if (r.humidityCapable && r.maxHumidityPct === null) {
       ctx.addIssue({ code: 'custom', path: ['maxHumidityPct'], message: 'A humidity chamber needs its maximum relative humidity' });

@@ -194,7 +194,10 @@ export const socketLoadSchema = z.object({
   rowVersion: rowVersion(),
   /** Socket (or chamber load position) → serial. */
   sockets: z
-    .record(z.string().regex(/^\d{1,4}$/, 'Socket numbers are 0–255 (chamber positions 0–1999)'), z.string().trim().max(40, 'Serials are at most 40 characters'))
+    .record(
+      z.string().regex(/^\d{1,4}$/, 'Socket numbers are 0–255 (chamber positions 0–1999)'),
+      z.string().trim().max(40, 'Serials are at most 40 characters'),
+    )
     .refine((m) => Object.keys(m).length <= 2000, 'A chamber holds at most 2000 devices')
     .default({}),
   /**

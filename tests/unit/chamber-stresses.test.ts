@@ -18,6 +18,7 @@ import {
   type TcProfile,
 } from '../../shared/chamber/profile';
 import { STRESS_FAMILY, PLAN_KINDS, isUnbiasedKind, countsInCycles } from '../../shared/domain/stress';
+import { initialChamberState, stepChamber, steamPressureKPa } from '../../rig-simulator/chamber';
 import { MECHANISM_OF_KIND, mechanismExposure, mechanismFit } from '../../shared/reliability/mechanisms';
 import { coffinMansonFactor, equivalentStressHours } from '../../shared/reliability';
 import { chamberNeedsOf, readPointCycles, staticRefusals, windowConflicts } from '../../shared/scheduling';
@@ -300,5 +301,30 @@ describe('chamber time: the rig kind and the chamber capacity rule', () => {
     expect(windowConflicts(chamber, needs(10), 0, 1e6, [{ ...c, profileKey: '-40/125/15/10' }], [])[0]).toMatch(
       /cycles TC-A on another profile/,
     );
+  });
+});
+
+describe('the simulated cycling chamber (rig-simulator/chamber.ts) against the counter', () => {
+  const cfg = { maxRampKPerMin: 15, tauMin: 3, minTempC: -70, maxTempC: 200, humidityCapable: false, pressureVessel: false };
+  test('the load lags the air and the counter, fed the load every 0.25 min, counts the chamber’s own programme cycles', () => {
+    let s = { ...initialChamberState(), profile: { lowC: -55, highC: 125, dwellMin: 10, rampKPerMin: 10 } };
+    const samples: Array<[number, number]> = [];
+    let maxLag = 0;
+    for (let k = 0; k < 4 * 60 * 24; k++) {
+      s = stepChamber(s, cfg, 0.25);
+      samples.push([s.clockMin, s.loadC]);
+      maxLag = Math.max(maxLag, Math.abs(s.airC - s.loadC));
+    }
+    const counted = countTcCycles(B, samples);
+    expect(s.programCycles).toBeGreaterThan(15); // a day of 10 min dwells, −55/+125 °C at 10 K/min: ≈ 70 min per cycle
+    expect(counted.cycles).toBe(s.programCycles);
+    expect(counted.excursions).toBe(0);
+    expect(maxLag).toBeGreaterThan(20); // ramp 10 K/min × τ 3 min = a 30 K lag on the ramps (first-order lag)
+  });
+  test('autoclave: saturated steam at 121 °C is ≈ 205 kPa (Antoine, from memory; JESD22-A102 states 205 kPa, from memory)', () => {
+    expect(steamPressureKPa(121)).toBeGreaterThan(200);
+    expect(steamPressureKPa(121)).toBeLessThan(210);
+    // The normal boiling point, 101.325 kPa: this constant set (fitted above 99 °C) gives it within 1 kPa.
+    expect(Math.abs(steamPressureKPa(100) - 101.325)).toBeLessThan(1);
   });
 });

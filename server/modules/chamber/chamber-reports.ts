@@ -43,6 +43,8 @@ async function raiseExcursion(ctx: AppContext, rigId: string, rigCode: string, r
 /** The ingest's hook: the report is handled in the background; a failure is logged without its values. */
 export function chamberReportHandler(ctx: AppContext, log: (line: string) => void = (l) => console.log(`[chamber] ${l}`)) {
   return (rigCode: string, report: ChamberReport, receivedAt: Date): void => {
-    recordChamberReport(ctx, rigCode, report, receivedAt).catch((err) => log(`report from ${rigCode} not stored: ${describeErrorForLog(err)}`));
+    recordChamberReport(ctx, rigCode, report, receivedAt).catch((err) =>
+      log(`report from ${rigCode} not stored: ${describeErrorForLog(err)}`),
+    );
   };
 }

@@ -37,7 +37,15 @@ export function loadInBand(plan: Pick<StressPlanEntity, 'chamberC' | 'chamberBan
 }
 
 /** A report outside what the plan allows while stressing (over-temperature, or past a cycling extreme's band); words for the alarm. */
-export function excursionOf(plan: { kind: string; chamberC: number; chamberBand: { belowK: number; aboveK: number }; thermalCycle?: { lowC: number; highC: number } | null }, loadC: number): string | null {
+export function excursionOf(
+  plan: {
+    kind: string;
+    chamberC: number;
+    chamberBand: { belowK: number; aboveK: number };
+    thermalCycle?: { lowC: number; highC: number } | null;
+  },
+  loadC: number,
+): string | null {
   if (isThermalCyclingKind(plan.kind as PlanKind) && plan.thermalCycle) {
     const b = tcBands(plan.thermalCycle);
     if (loadC > b.hot.highC) return `load ${loadC.toFixed(1)} °C above the hot extreme's band (${b.hot.highC} °C)`;
@@ -50,14 +58,21 @@ export function excursionOf(plan: { kind: string; chamberC: number; chamberBand:
 
 function nextStop(run: RunEntity, plan: StressPlanEntity, rps: number[]): { index: number; targetH: number; targetCycles: number | null } {
   const tc = plan.thermalCycle;
-  const cyclesAt = (h: number) => (tc ? readPointCycles({ durationH: plan.durationH, cycle: { onMin: 1, offMin: 1, deltaTjC: 1, cycles: tc.cycles } }, h) : null);
+  const cyclesAt = (h: number) =>
+    tc ? readPointCycles({ durationH: plan.durationH, cycle: { onMin: 1, offMin: 1, deltaTjC: 1, cycles: tc.cycles } }, h) : null;
   let idx = run.nextReadPoint;
   while (idx < rps.length && rps[idx] <= 0) idx++;
   if (idx < rps.length && rps[idx] < plan.durationH) return { index: idx, targetH: rps[idx], targetCycles: cyclesAt(rps[idx]) };
   return { index: -1, targetH: plan.durationH, targetCycles: tc ? tc.cycles : null };
 }
 
-export async function chamberHeatingStep(m: EntityManager, deps: EngineDeps, run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<StepOutcome> {
+export async function chamberHeatingStep(
+  m: EntityManager,
+  deps: EngineDeps,
+  run: RunEntity,
+  plan: StressPlanEntity,
+  rig: RigEntity,
+): Promise<StepOutcome> {
   const rows = await chamberSamplesAfter(m, rig.id, run.accruedToSeq, CHAMBER_CHUNK);
   const tc = isThermalCyclingKind(plan.kind) && plan.thermalCycle;
   const first = rows.find((r) => (tc ? !r.doorOpen : loadInBand(plan, r)));
@@ -68,13 +83,28 @@ export async function chamberHeatingStep(m: EntityManager, deps: EngineDeps, run
     run,
     rig,
     'stressing',
-    { ambientReachedAt: deps.now(), accruedToSeq: first.seq, accruedToClockS: first.clockS, chamberCounter: tc ? (run.chamberCounter ?? newTcCounter()) : null },
-    { actor: 'system', action: 'run.ambient-reached', details: { seq: first.seq, loadC: first.loadC, airC: first.airC, chamberClockS: first.clockS } },
+    {
+      ambientReachedAt: deps.now(),
+      accruedToSeq: first.seq,
+      accruedToClockS: first.clockS,
+      chamberCounter: tc ? (run.chamberCounter ?? newTcCounter()) : null,
+    },
+    {
+      actor: 'system',
+      action: 'run.ambient-reached',
+      details: { seq: first.seq, loadC: first.loadC, airC: first.airC, chamberClockS: first.clockS },
+    },
   );
   return { changed: true, to: 'stressing', events: [ev] };
 }
 
-export async function chamberAccrueStep(m: EntityManager, deps: EngineDeps, run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<StepOutcome> {
+export async function chamberAccrueStep(
+  m: EntityManager,
+  deps: EngineDeps,
+  run: RunEntity,
+  plan: StressPlanEntity,
+  rig: RigEntity,
+): Promise<StepOutcome> {
   const rows = await chamberSamplesAfter(m, rig.id, run.accruedToSeq, CHAMBER_CHUNK);
   if (!rows.length) return { changed: false, events: [] };
   const rps = sortedReadPoints(plan);
@@ -110,35 +140,71 @@ export async function chamberAccrueStep(m: EntityManager, deps: EngineDeps, run:
     }
   }
   await storeChamberCredit(m, run.id, { hours, cycles, seq: lastSeq, clockS: lastClock, counter, minSwingK: counter?.minSwingK ?? null });
-  Object.assign(run, { stressHours: hours, cyclesDone: cycles, accruedToSeq: lastSeq, accruedToClockS: lastClock, chamberCounter: counter });
+  Object.assign(run, {
+    stressHours: hours,
+    cyclesDone: cycles,
+    accruedToSeq: lastSeq,
+    accruedToClockS: lastClock,
+    chamberCounter: counter,
+  });
   if (!outcome) return { changed: true, events: [], more: rows.length === CHAMBER_CHUNK };
   const now = deps.now();
   const details = { stressHours: hours, seq: lastSeq, ...(tc ? { cycles, targetCycles: tc.cycles } : {}) };
   // Devices are unbiased: the hold only brings the chamber to room before its door is opened.
   const ev =
     outcome.to === 'cooling'
-      ? await transitionRun(m, deps, run, rig, 'cooling', { nextReadPoint: rps.length, biasRemovedAt: null, holdPhase: 'bias-off', holdPhaseSince: now }, {
-          actor: 'system',
-          action: 'run.stress-complete',
-          details: { ...details, targetH: plan.durationH },
-        })
-      : await transitionRun(m, deps, run, rig, 'read-hold', { nextReadPoint: outcome.index + 1, biasRemovedAt: null, holdPhase: 'bias-off', holdPhaseSince: now }, {
-          actor: 'system',
-          action: 'run.read-point',
-          details: { ...details, readPointH: rps[outcome.index] },
-        });
+      ? await transitionRun(
+          m,
+          deps,
+          run,
+          rig,
+          'cooling',
+          { nextReadPoint: rps.length, biasRemovedAt: null, holdPhase: 'bias-off', holdPhaseSince: now },
+          {
+            actor: 'system',
+            action: 'run.stress-complete',
+            details: { ...details, targetH: plan.durationH },
+          },
+        )
+      : await transitionRun(
+          m,
+          deps,
+          run,
+          rig,
+          'read-hold',
+          { nextReadPoint: outcome.index + 1, biasRemovedAt: null, holdPhase: 'bias-off', holdPhaseSince: now },
+          {
+            actor: 'system',
+            action: 'run.read-point',
+            details: { ...details, readPointH: rps[outcome.index] },
+          },
+        );
   return { changed: true, to: outcome.to, events: [ev] };
 }
 
 /** Read-hold and cooling: the devices may come out once the load is at or below the lab's safe-to-open temperature. */
-export async function chamberHoldStep(m: EntityManager, deps: EngineDeps, run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<StepOutcome> {
+export async function chamberHoldStep(
+  m: EntityManager,
+  deps: EngineDeps,
+  run: RunEntity,
+  plan: StressPlanEntity,
+  rig: RigEntity,
+): Promise<StepOutcome> {
   if (run.biasRemovedAt) {
     if (run.state !== 'cooling') return { changed: false, events: [] };
-    const ev = await transitionRun(m, deps, run, rig, 'finished', { finishedAt: deps.now() }, {
-      actor: 'system',
-      action: 'run.finish',
-      details: { stressHours: run.stressHours, targetH: plan.durationH, cycles: run.cyclesDone },
-    });
+    const ev = await transitionRun(
+      m,
+      deps,
+      run,
+      rig,
+      'finished',
+      { finishedAt: deps.now() },
+      {
+        actor: 'system',
+        action: 'run.finish',
+        details: { stressHours: run.stressHours, targetH: plan.durationH, cycles: run.cyclesDone },
+      },
+    );
     return { changed: true, to: 'finished', events: [ev] };
   }
   const latest = await latestChamberSample(m, rig.id);
@@ -147,7 +213,14 @@ export async function chamberHoldStep(m: EntityManager, deps: EngineDeps, run: R
   const now = deps.now();
   await m.update(RunEntity, { id: run.id }, { holdPhase: 'safe-to-open', holdPhaseSince: now, biasRemovedAt: now });
   await deps.audit.record(
-    { actor: 'system', action: 'run.hold-phase', entity: 'run', entityId: run.id, reason: null, details: { from: run.holdPhase, to: 'safe-to-open', loadC: latest.loadC, safeToOpenC: settings.safeToOpenC } },
+    {
+      actor: 'system',
+      action: 'run.hold-phase',
+      entity: 'run',
+      entityId: run.id,
+      reason: null,
+      details: { from: run.holdPhase, to: 'safe-to-open', loadC: latest.loadC, safeToOpenC: settings.safeToOpenC },
+    },
     m,
   );
   const rps = sortedReadPoints(plan);
@@ -159,7 +232,13 @@ export async function chamberHoldStep(m: EntityManager, deps: EngineDeps, run: R
   return { changed: true, events: [ev], more: final };
 }
 
-export async function chamberStep(m: EntityManager, deps: EngineDeps, run: RunEntity, plan: StressPlanEntity, rig: RigEntity): Promise<StepOutcome | null> {
+export async function chamberStep(
+  m: EntityManager,
+  deps: EngineDeps,
+  run: RunEntity,
+  plan: StressPlanEntity,
+  rig: RigEntity,
+): Promise<StepOutcome | null> {
   if (run.state === 'heating') return chamberHeatingStep(m, deps, run, plan, rig);
   if (run.state === 'stressing') return chamberAccrueStep(m, deps, run, plan, rig);
   if (run.state === 'read-hold' || run.state === 'cooling') return chamberHoldStep(m, deps, run, plan, rig);
@@ -195,9 +274,12 @@ export async function chamberWants(
     return [{ cmdId: `run:${run.id}:chamber:${b36(run.heatingSince)}`, cmd, satisfied: !tc && at(setpointC), reportSeq }];
   }
   if (['read-hold', 'cooling', 'paused', 'fault', 'aborted'].includes(run.state)) {
-    const key = run.state === 'read-hold' ? `rp${run.nextReadPoint - 1}` : run.state === 'paused' ? `p${b36(run.stateChangedAt)}` : run.state;
+    const key =
+      run.state === 'read-hold' ? `rp${run.nextReadPoint - 1}` : run.state === 'paused' ? `p${b36(run.stateChangedAt)}` : run.state;
     const cmd: RigCommandBody = { type: 'setpoint', setpointC: ROOM_AMBIENT_C, humidityPct: null, profile: null };
-    return [{ cmdId: `run:${run.id}:room:${key}`, cmd, satisfied: at(ROOM_AMBIENT_C) && (latest?.humidityPct ?? null) === null, reportSeq }];
+    return [
+      { cmdId: `run:${run.id}:room:${key}`, cmd, satisfied: at(ROOM_AMBIENT_C) && (latest?.humidityPct ?? null) === null, reportSeq },
+    ];
   }
   return [];
 }

@@ -21,7 +21,12 @@ const COLUMNS = `seq::float8 AS seq, ts, clock_s AS "clockS", air_c AS "airC", l
 const toRow = (r: ChamberRow): ChamberRow => ({ ...r, seq: Number(r.seq), ts: new Date(r.ts) });
 
 /** Stores one report (a re-sent seq changes nothing) and the rig's last seen values; the rig id, or null for an unknown rig. */
-export async function storeChamberReport(m: EntityManager, rigCode: string, r: ChamberReport, at: Date): Promise<{ rigId: string; stored: boolean } | null> {
+export async function storeChamberReport(
+  m: EntityManager,
+  rigCode: string,
+  r: ChamberReport,
+  at: Date,
+): Promise<{ rigId: string; stored: boolean } | null> {
   const rigs: Array<{ id: string }> = await m.query(`SELECT id FROM rigs WHERE code = $1 AND kind = 'chamber'`, [rigCode]);
   if (!rigs.length) return null;
   const rigId = rigs[0].id;
@@ -30,18 +35,22 @@ export async function storeChamberReport(m: EntityManager, rigCode: string, r: C
      VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10) ON CONFLICT (rig_id, seq) DO NOTHING RETURNING seq`,
     [rigId, r.seq, r.ts, r.clockS, r.airC, r.loadC, r.setpointC, r.humidityPct, r.pressureKPa, r.doorOpen],
   );
-  await m.query(
-    `UPDATE rigs SET chamber_c = $2, setpoint_c = $3, humidity_pct = $4, last_seen_at = $5, online = true WHERE id = $1`,
-    [rigId, r.airC, r.setpointC, r.humidityPct, at],
-  );
+  await m.query(`UPDATE rigs SET chamber_c = $2, setpoint_c = $3, humidity_pct = $4, last_seen_at = $5, online = true WHERE id = $1`, [
+    rigId,
+    r.airC,
+    r.setpointC,
+    r.humidityPct,
+    at,
+  ]);
   return { rigId, stored: inserted.length > 0 };
 }
 
 export async function chamberSamplesAfter(m: EntityManager, rigId: string, afterSeq: number, limit: number): Promise<ChamberRow[]> {
-  const rows: ChamberRow[] = await m.query(
-    `SELECT ${COLUMNS} FROM chamber_samples WHERE rig_id = $1 AND seq > $2 ORDER BY seq LIMIT $3`,
-    [rigId, afterSeq, limit],
-  );
+  const rows: ChamberRow[] = await m.query(`SELECT ${COLUMNS} FROM chamber_samples WHERE rig_id = $1 AND seq > $2 ORDER BY seq LIMIT $3`, [
+    rigId,
+    afterSeq,
+    limit,
+  ]);
   return rows.map(toRow);
 }
 
@@ -90,10 +99,7 @@ export async function storeChamberCredit(
 }
 
 /** The run a chamber is stressing (for the excursion alarm). */
-export async function stressingRunOfChamber(
-  m: EntityManager,
-  rigId: string,
-): Promise<{ id: string; code: string; planId: string } | null> {
+export async function stressingRunOfChamber(m: EntityManager, rigId: string): Promise<{ id: string; code: string; planId: string } | null> {
   const rows = await m.query(
     `SELECT r.id, r.code, r.plan_id AS "planId"
        FROM runs r JOIN stress_plans p ON p.id = r.plan_id

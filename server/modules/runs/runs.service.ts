@@ -113,7 +113,12 @@ const needsOf = (plan: StressPlanEntity, sampleSize: number): RunNeeds => ({
  * A chamber's load: each serial of the list gets the next load position no other run in the
  * chamber holds (positions are bookkeeping, not sockets: the devices sit on the chamber's trays).
  */
-async function chamberPositions(m: EntityManager, rig: RigEntity, runId: string, serials: readonly string[]): Promise<Record<string, string>> {
+async function chamberPositions(
+  m: EntityManager,
+  rig: RigEntity,
+  runId: string,
+  serials: readonly string[],
+): Promise<Record<string, string>> {
   const taken = await socketsTakenOnRig(m, rig.id, runId);
   const out: Record<string, string> = {};
   let next = 0;
