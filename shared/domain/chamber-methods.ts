@@ -98,8 +98,12 @@ export const AC_CONDITION_CODES = Object.keys(AC_CONDITIONS) as AcConditionCode[
 /** Read points of an autoclave / uHAST run (hours) [practice: 0 / 48 / 96 h]. */
 export const AC_DEFAULT_READ_POINTS_H: readonly number[] = [0, 48, 96];
 
-/** The load temperature a chamber must fall to before the door may be opened for a read point [practice: ≤ 35 °C, hand-safe]. */
-export const CHAMBER_OPEN_BELOW_C = 35;
+/**
+ * A chamber's door is opened for a read point only with the load back near room temperature: at or
+ * below the lab's safe-to-open temperature (hand-safe; lab settings) and at or above this, so no
+ * moisture condenses on devices taken out of a cold chamber [practice: bring a cold load to room first].
+ */
+export const CHAMBER_OPEN_ABOVE_C = 15;
 
 /** Safety words shown beside the unbiased kinds (the screens and the plan check use these). */
 export const CHAMBER_CAUTION: Readonly<Record<'tc' | 'htsl' | 'ac', string>> = {

@@ -263,6 +263,8 @@ export interface Run {
    * next read point; its read points and end are counted in cycles. Null for plans in hours.
    */
   cycles: RunCycles | null;
+  /** Temperature cycling in a chamber (tc): the cycles counted from the load temperature, the target and the profile; null otherwise. */
+  chamberCycles: RunChamberCycles | null;
   /** Next read point to reach (hours), or null after the last. */
   nextReadPointH: number | null;
   /** The read point the run is held at (read-hold) or last reached. */
@@ -314,7 +316,33 @@ export interface RunAuditEntry {
   details: Record<string, unknown>;
 }
 
+/** A tc run's count and its profile (shared/chamber/profile.ts). */
+export interface RunChamberCycles {
+  done: number;
+  target: number;
+  nextReadPointCycles: number | null;
+  lowC: number;
+  highC: number;
+  dwellMin: number;
+  rampKPerMin: number;
+  periodMin: number;
+  /** Where the counter stands in the cycle under way. */
+  phase: 'to-hot' | 'hot' | 'to-cold' | 'cold' | null;
+  /** Smallest load swing (K) of the counted cycles. */
+  minSwingK: number | null;
+  excursions: number;
+}
+
+/** A chamber's latest report and its recent profile (air and load), for the run page of an unbiased run. */
+export interface RunChamberView {
+  latest: { at: string; airC: number; loadC: number; setpointC: number; humidityPct: number | null; pressureKPa: number | null } | null;
+  /** Recent reports, oldest first: chamber clock (min), air and load (°C). */
+  profile: Array<{ clockMin: number; airC: number; loadC: number }>;
+}
+
 export interface RunDetail extends Run {
+  /** Unbiased chamber runs only: the chamber's reports; null for socket runs. */
+  chamber: RunChamberView | null;
   sockets: RunSocket[];
   audit: RunAuditEntry[];
   /** Sockets of the rig used by other runs on it now (not offered for loading). */

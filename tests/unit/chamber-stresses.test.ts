@@ -18,7 +18,7 @@ import {
   type TcProfile,
 } from '../../shared/chamber/profile';
 import { STRESS_FAMILY, PLAN_KINDS, isUnbiasedKind, countsInCycles } from '../../shared/domain/stress';
-import { initialChamberState, stepChamber, steamPressureKPa } from '../../rig-simulator/chamber';
+import { initialChamberState, stepChamber, steamPressureKPa, type ChamberState } from '../../rig-simulator/chamber';
 import { MECHANISM_OF_KIND, mechanismExposure, mechanismFit } from '../../shared/reliability/mechanisms';
 import { coffinMansonFactor, equivalentStressHours } from '../../shared/reliability';
 import { chamberNeedsOf, readPointCycles, staticRefusals, windowConflicts } from '../../shared/scheduling';
@@ -307,7 +307,7 @@ describe('chamber time: the rig kind and the chamber capacity rule', () => {
 describe('the simulated cycling chamber (rig-simulator/chamber.ts) against the counter', () => {
   const cfg = { maxRampKPerMin: 15, tauMin: 3, minTempC: -70, maxTempC: 200, humidityCapable: false, pressureVessel: false };
   test('the load lags the air and the counter, fed the load every 0.25 min, counts the chamber’s own programme cycles', () => {
-    let s = { ...initialChamberState(), profile: { lowC: -55, highC: 125, dwellMin: 10, rampKPerMin: 10 } };
+    let s: ChamberState = { ...initialChamberState(), profile: { lowC: -55, highC: 125, dwellMin: 10, rampKPerMin: 10 } };
     const samples: Array<[number, number]> = [];
     let maxLag = 0;
     for (let k = 0; k < 4 * 60 * 24; k++) {

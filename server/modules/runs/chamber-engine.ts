@@ -9,12 +9,13 @@
  *   (shared/chamber/profile.ts) and credits cycles × the profile's period as its hours (the plan's hour
  *   measure, which its read points use); a run stops at its next read point or end exactly;
  * - read-hold / cooling: the chamber is sent to room; once the load is at or below the lab's
- *   "safe to open" temperature the devices may come out: biasRemovedAt (the 96 h window starts when
+ *   "safe to open" temperature and not below CHAMBER_OPEN_ABOVE_C (no condensation) the devices may come out: biasRemovedAt (the 96 h window starts when
  *   the stress stops) and the read-point-due event; cooling then finishes.
  * Every device loaded gets the run's hours and cycles: unbiased devices all sit in the same air.
  */
 import type { EntityManager } from 'typeorm';
 import { newTcCounter, stepTcCounter, tcBands, tcCyclesToH, type TcCounterState } from '../../../shared/chamber/profile';
+import { CHAMBER_OPEN_ABOVE_C } from '../../../shared/domain/chamber-methods';
 import { HUMIDITY_TOLERANCE_RH, ROOM_AMBIENT_C, chamberLimits, chamberSetpointC } from '../../../shared/domain/standards';
 import { isThermalCyclingKind, isUnbiasedKindName, type PlanKind } from '../../../shared/domain/stress';
 import type { RigCommandBody } from '../telemetry/contracts';
@@ -209,7 +210,10 @@ export async function chamberHoldStep(
   }
   const latest = await latestChamberSample(m, rig.id);
   const settings = await readHoldSettings(m);
-  if (!latest || latest.seq <= run.accruedToSeq || latest.loadC > settings.safeToOpenC) return { changed: false, events: [] };
+  // Hand-safe, and not cold: a load opened below room temperature gathers condensation on the devices.
+  if (!latest || latest.seq <= run.accruedToSeq || latest.loadC > settings.safeToOpenC || latest.loadC < CHAMBER_OPEN_ABOVE_C) {
+    return { changed: false, events: [] };
+  }
   const now = deps.now();
   await m.update(RunEntity, { id: run.id }, { holdPhase: 'safe-to-open', holdPhaseSince: now, biasRemovedAt: now });
   await deps.audit.record(
