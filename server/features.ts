@@ -3,6 +3,7 @@ import { startTelemetry } from './modules/telemetry/telemetry.feature';
 import { startProtection } from './modules/protection/start';
 import { startScheduler } from './modules/scheduler/scheduler';
 import { startReplanning } from './modules/replan/replan.feature';
+import { chamberReportHandler } from './modules/chamber/chamber-reports';
 
 /**
  * Background parts of the API process (MQTT ingest, scheduler, protection, mail). Each start
@@ -16,6 +17,7 @@ export async function startFeatures(ctx: AppContext): Promise<() => Promise<void
       rollupFlushMs: ctx.config.rollupFlushMs,
       maxBatch: ctx.config.ingestMaxBatch,
       maxInFlight: ctx.config.ingestInFlight,
+      onChamber: chamberReportHandler(ctx), // chambers' own reports (server/modules/chamber)
     }),
   ); // first: the others use ctx.services.rigLink
   stops.push(await startProtection(ctx)); // live protection, alarms, notifications, e-mail

@@ -32,6 +32,7 @@ import { DEFAULT_HOLD_SETTINGS, HOLD_PHASES, HOLD_PHASE_LABEL, holdPhaseText } f
 import { RUN_ACTIONS, RUN_ACTION_LABEL } from '@/shared/domain/run-states';
 import type { RunAction, RunDetail, RunSocket, SocketFlag, SocketLoadResult } from '@/shared/schemas/runs';
 import { RUN_STATE_TONE, columnToSocketMap, hours } from './run-look';
+import { RunChamberCard } from './RunChamber';
 import { RunCyclesCard, socketCyclesText } from './RunCycles';
 
 const AUDIT_LABEL: Record<string, string> = {
@@ -538,6 +539,7 @@ export function RunDetailScreen({ id }: { id: string }) {
                 <Banner tone="danger">{`${run.rig.code} is offline: no telemetry, so no hours count and commands wait until it is back.`}</Banner>
               ) : null}
               {run.cycles ? <RunCyclesCard cycles={run.cycles} sockets={run.sockets} /> : null}
+              {run.chamber || run.chamberCycles ? <RunChamberCard cycles={run.chamberCycles} chamber={run.chamber} /> : null}
               <Card title={run.cycles ? 'Chamber hours' : 'Stress hours'}>
                 <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
                   <Fact label="Accrued" value={hours(run.stressHours)} />

@@ -12,6 +12,8 @@
  */
 import { formatUtc } from '../domain/format';
 import { holdWindows, sharingRefusals, type OvenTenant } from './sharing';
+import type { RigKind } from '../domain/rig-kinds';
+import { chamberRefusals, rigName, type ChamberNeeds } from './chamber';
 
 export interface RigCapability {
   id: string;
@@ -24,6 +26,10 @@ export interface RigCapability {
   /** False once decommissioned. */
   active: boolean;
   online?: boolean;
+  /** 'chamber': unbiased plans only, socketCount is its capacity in devices (shared/scheduling/chamber.ts). Absent = 'board'. */
+  kind?: RigKind;
+  minTempC?: number | null;
+  maxPressureKPa?: number | null;
 }
 
 /** What a run asks of a rig. */
@@ -36,6 +42,8 @@ export interface RunNeeds {
   /** Plan stress hours. */
   durationH: number;
   readPointsH: number[];
+  /** An unbiased plan's chamber needs (chamberNeedsOf); absent or null for a socket-biased plan. */
+  chamber?: ChamberNeeds | null;
 }
 
 /** A run already holding (part of) a rig for a window (an oven tenant of shared/scheduling/sharing.ts). */
@@ -107,9 +115,11 @@ export const when = (ms: number): string => formatUtc(ms);
 /** Reasons the rig can never take this run; empty when it can. */
 export function staticRefusals(rig: RigCapability, needs: RunNeeds): string[] {
   const out: string[] = [];
-  const name = `Oven ${rig.code}`;
+  const name = rigName(rig);
+  const unit = rig.kind === 'chamber' ? 'devices' : 'sockets';
   if (!rig.active) out.push(`${name} is decommissioned and takes no new runs.`);
-  if (needs.sampleSize > rig.socketCount) out.push(`${name} holds ${rig.socketCount} sockets; the plan needs ${needs.sampleSize}.`);
+  out.push(...chamberRefusals(rig, needs.chamber));
+  if (needs.sampleSize > rig.socketCount) out.push(`${name} holds ${rig.socketCount} ${unit}; the plan needs ${needs.sampleSize}.`);
   if (needs.chamberC > rig.maxTempC) out.push(`${name} reaches at most ${n(rig.maxTempC)} °C; the plan needs ${n(needs.chamberC)} °C.`);
   if (needs.biasV !== null && needs.biasV > rig.maxVoltageV) {
     out.push(`${name} supplies at most ${n(rig.maxVoltageV)} V of bias; the plan needs ${n(needs.biasV)} V.`);
@@ -143,7 +153,7 @@ export function windowConflicts(
   timing: TimingOptions = DEFAULT_TIMING,
 ): string[] {
   const out: string[] = [];
-  const name = `Oven ${rig.code}`;
+  const name = rigName(rig);
   for (const m of maintenance) {
     if (m.rigId !== rig.id || !overlaps(startMs, endMs, m.startMs, m.endMs)) continue;
     out.push(`${name} is in maintenance from ${when(m.startMs)} to ${when(m.endMs)}${m.reason ? ` (${m.reason})` : ''}.`);

@@ -6,6 +6,7 @@ export * from './cycling';
 export * from './lateness';
 export * from './sharing';
 export * from './tardiness';
+export * from './chamber';
 
 import type { Bias } from '../schemas/plans';
 import { DEFAULT_BIAS_TOLERANCE_PCT, type ChamberBandK } from '../domain/standards';

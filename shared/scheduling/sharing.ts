@@ -18,6 +18,8 @@
  */
 import type { RunNeeds, TimingOptions } from './constraints';
 import { formatUtc } from '../domain/format';
+import type { RigKind } from '../domain/rig-kinds';
+import { rigName } from './chamber';
 
 /** Two set points within this are one (the scheduler's own "set point reached" test, scheduler.ts). */
 export const SETPOINT_MATCH_C = 0.05;
@@ -37,6 +39,8 @@ export interface OvenTenant {
   sockets: number;
   /** Its read-point holds ahead (wall windows); omitted = none. */
   holds?: readonly HoldWindow[];
+  /** A cycling chamber's profile (ChamberNeeds.profileKey): runs share one only on the same profile. */
+  profileKey?: string | null;
 }
 
 export interface ChamberCondition {
@@ -105,23 +109,30 @@ function strandedHold(a: readonly HoldWindow[], b: OvenTenant): HoldWindow | nul
  * (the runs holding this rig's windows); empty when it can.
  */
 export function sharingRefusals(
-  rig: { code: string; socketCount: number },
-  needs: Pick<RunNeeds, 'chamberC' | 'humidityPct' | 'sampleSize'>,
+  rig: { code: string; socketCount: number; kind?: RigKind },
+  needs: Pick<RunNeeds, 'chamberC' | 'humidityPct' | 'sampleSize' | 'chamber'>,
   startMs: number,
   endMs: number,
   holds: readonly HoldWindow[],
   tenants: readonly OvenTenant[],
 ): string[] {
   const out: string[] = [];
-  const name = `Oven ${rig.code}`;
+  const name = rigName(rig);
+  // A chamber's capacity is in devices (load positions), an oven's in biased sockets.
+  const unit = rig.kind === 'chamber' ? 'devices' : 'sockets';
+  const profile = needs.chamber?.profileKey ?? null;
   const sharing = tenants.filter((c) => overlaps(startMs, endMs, c.startMs, c.endMs));
-  // 1. One chamber condition.
+  // 1. One chamber condition (and, in a cycling chamber, one temperature profile).
   for (const c of sharing) {
     if (!sameChamberCondition(c, needs)) {
       out.push(`${name} runs ${c.code} at ${conditionText(c)} until ${formatUtc(c.endMs)}; the plan needs ${conditionText(needs)}.`);
+    } else if ((c.profileKey ?? null) !== profile) {
+      out.push(
+        `${name} cycles ${c.code} on another profile until ${formatUtc(c.endMs)}; runs share a cycling chamber only on the same profile.`,
+      );
     }
   }
-  const same = sharing.filter((c) => sameChamberCondition(c, needs));
+  const same = sharing.filter((c) => sameChamberCondition(c, needs) && (c.profileKey ?? null) === profile);
   // 2. Sockets: the peak use of the board by the runs overlapping the window (sweep over their starts).
   if (same.length) {
     let peak = 0;
@@ -139,7 +150,7 @@ export function sharingRefusals(
       const until = Math.max(...peakRuns.map((c) => c.endMs));
       const who = peakRuns.map((c) => `${c.code} uses ${c.sockets}`).join(', ');
       out.push(
-        `${name} has ${rig.socketCount - peak} of ${rig.socketCount} sockets free until ${formatUtc(until)} (${who}); the plan needs ${needs.sampleSize}.`,
+        `${name} has ${rig.socketCount - peak} of ${rig.socketCount} ${unit} free until ${formatUtc(until)} (${who}); the plan needs ${needs.sampleSize}.`,
       );
     }
   }

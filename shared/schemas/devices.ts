@@ -23,6 +23,9 @@ export const deviceTypeInputSchema = z.object({
   /** Case temperature at which pMaxW is rated (25 °C on most data sheets). */
   pRatedAtC: num().min(-55).max(200).default(25),
   tjMaxC: num().min(50).max(250),
+  /** Storage temperature range, as the data sheet's Tstg (°C); null = not entered. Unbiased chamber plans are checked against it. */
+  tstgMinC: num().min(-100).max(25).nullable().default(null),
+  tstgMaxC: num().min(25).max(300).nullable().default(null),
   thetaJcCPerW: positive().max(1000),
   thetaJaCPerW: positive().max(2000),
   /** Current gain hFE at the reference point below. */

@@ -209,9 +209,19 @@ export interface StartPermit {
 /** Socket index (0-based, as on the rig board) → device serial; "" marks a socket left empty. */
 export const socketLoadSchema = z.object({
   rowVersion: rowVersion(),
+  /** Socket (or chamber load position) → serial. */
   sockets: z
-    .record(z.string().regex(/^\d{1,3}$/, 'Socket numbers are 0–255'), z.string().trim().max(40, 'Serials are at most 40 characters'))
-    .refine((m) => Object.keys(m).length <= 256, 'A board holds at most 256 sockets'),
+    .record(
+      z.string().regex(/^\d{1,4}$/, 'Socket numbers are 0–255 (chamber positions 0–1999)'),
+      z.string().trim().max(40, 'Serials are at most 40 characters'),
+    )
+    .refine((m) => Object.keys(m).length <= 2000, 'A chamber holds at most 2000 devices')
+    .default({}),
+  /**
+   * A chamber run only: the devices loaded into the chamber as a serial list (no sockets); the
+   * server gives each the first free load position of the chamber. Replaces `sockets` when given.
+   */
+  serials: z.array(z.string().trim().min(1, 'An empty serial').max(40, 'Serials are at most 40 characters')).max(2000).optional(),
   /** Check only: report the flags, store nothing. */
   dryRun: z.boolean().default(false),
 });
@@ -270,6 +280,8 @@ export interface Run {
    * next read point; its read points and end are counted in cycles. Null for plans in hours.
    */
   cycles: RunCycles | null;
+  /** Temperature cycling in a chamber (tc): the cycles counted from the load temperature, the target and the profile; null otherwise. */
+  chamberCycles: RunChamberCycles | null;
   /** Next read point to reach (hours), or null after the last. */
   nextReadPointH: number | null;
   /** The read point the run is held at (read-hold) or last reached. */
@@ -326,7 +338,33 @@ export interface RunAuditEntry {
   details: Record<string, unknown>;
 }
 
+/** A tc run's count and its profile (shared/chamber/profile.ts). */
+export interface RunChamberCycles {
+  done: number;
+  target: number;
+  nextReadPointCycles: number | null;
+  lowC: number;
+  highC: number;
+  dwellMin: number;
+  rampKPerMin: number;
+  periodMin: number;
+  /** Where the counter stands in the cycle under way. */
+  phase: 'to-hot' | 'hot' | 'to-cold' | 'cold' | null;
+  /** Smallest load swing (K) of the counted cycles. */
+  minSwingK: number | null;
+  excursions: number;
+}
+
+/** A chamber's latest report and its recent profile (air and load), for the run page of an unbiased run. */
+export interface RunChamberView {
+  latest: { at: string; airC: number; loadC: number; setpointC: number; humidityPct: number | null; pressureKPa: number | null } | null;
+  /** Recent reports, oldest first: chamber clock (min), air and load (°C). */
+  profile: Array<{ clockMin: number; airC: number; loadC: number }>;
+}
+
 export interface RunDetail extends Run {
+  /** Unbiased chamber runs only: the chamber's reports; null for socket runs. */
+  chamber: RunChamberView | null;
   sockets: RunSocket[];
   audit: RunAuditEntry[];
   /** Sockets of the rig used by other runs on it now (not offered for loading). */

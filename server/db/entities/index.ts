@@ -36,6 +36,9 @@ import { OverrideRequestEntity, VerdictSignatureEntity } from './signoff.entity'
 import { LabSettingsEntity } from './lab-settings.entity';
 import { ReplanProposalEntity } from './replan.entity';
 
+import { ChamberSampleEntity } from './chamber-sample.entity';
+export { ChamberSampleEntity };
+
 export const ENTITIES = [
   UserEntity,
   DeviceTypeEntity,
@@ -68,4 +71,5 @@ export const ENTITIES = [
   VerdictSignatureEntity,
   LabSettingsEntity,
   ReplanProposalEntity,
+  ChamberSampleEntity,
 ];

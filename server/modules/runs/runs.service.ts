@@ -17,6 +17,7 @@ import {
   windowConflicts,
   type RunNeeds,
   type TimingOptions,
+  chamberNeedsOf,
 } from '../../../shared/scheduling';
 import { BIASED_HOLD_PHASES } from '../../../shared/holds/sequence';
 import { chamberSetpointC } from '../../../shared/domain/standards';
@@ -68,6 +69,7 @@ import { AppError, conflict, notFound, unprocessable } from '../../http/errors';
 import { blockingFindings, type BlockingFinding } from '../approvals/approvals.service';
 import { accrueStep, firstReadPointIndex, transitionRun, type EngineDeps } from './run-engine';
 import { maxSeq } from './telemetry-reads';
+import { maxChamberSeq } from './chamber.data';
 import { emitRunEvent, type PendingRunEvent } from './run-events';
 import { planRef, sampleView, socketsTakenOnRig, toRunDetail, toRuns } from './run-view';
 import { loadSchedulingInputs, projectedWindow, SCHEDULED_STATES, timingFrom } from './scheduling-data';
@@ -112,7 +114,29 @@ const needsOf = (plan: StressPlanEntity, sampleSize: number): RunNeeds => ({
   sampleSize,
   durationH: plan.durationH,
   readPointsH: plan.readPointsH,
+  chamber: chamberNeedsOf(plan),
 });
+
+/**
+ * A chamber's load: each serial of the list gets the next load position no other run in the
+ * chamber holds (positions are bookkeeping, not sockets: the devices sit on the chamber's trays).
+ */
+async function chamberPositions(
+  m: EntityManager,
+  rig: RigEntity,
+  runId: string,
+  serials: readonly string[],
+): Promise<Record<string, string>> {
+  const taken = await socketsTakenOnRig(m, rig.id, runId);
+  const out: Record<string, string> = {};
+  let next = 0;
+  for (const serial of serials) {
+    while (taken.has(next)) next++;
+    out[String(next)] = serial;
+    next++;
+  }
+  return out;
+}
 
 /**
  * How far booking may follow a proposed start that slid (see book): 1 clock hour, or 5 % of the
@@ -595,7 +619,11 @@ export class RunsService {
       }
       if (!run.rigId) throw unprocessable(`Run ${run.code} has no rig yet.`);
       const rig = await m.findOneByOrFail(RigEntity, { id: run.rigId });
-      const { flags, assignments } = await this.checkSockets(m, run, rig, input.sockets);
+      if (input.serials && rig.kind !== 'chamber') {
+        throw unprocessable(`${rig.code} is a burn-in oven: place each device in a socket (a serial list is for chambers).`);
+      }
+      const map = input.serials ? await chamberPositions(m, rig, run.id, input.serials) : input.sockets;
+      const { flags, assignments } = await this.checkSockets(m, run, rig, map);
       const blocking = flags.filter((f) => f.blocking);
       const loaded = assignments.length;
       const summary = blocking.length
@@ -794,7 +822,7 @@ export class RunsService {
   private async reheat({ m, rig, now }: ActionContext): Promise<Partial<RunEntity>> {
     return {
       heatingSince: now,
-      accruedToSeq: rig ? await maxSeq(m, rig.id) : 0,
+      accruedToSeq: rig ? (rig.kind === 'chamber' ? await maxChamberSeq(m, rig.id) : await maxSeq(m, rig.id)) : 0,
       accruedToClockS: null,
     };
   }

@@ -12,6 +12,7 @@ import {
   type Commitment,
   type MaintenanceWindow,
   type TimingOptions,
+  chamberNeedsOf,
 } from '../../../shared/scheduling';
 import { ON_RIG_STATES, type RunState } from '../../../shared/schemas/runs';
 import { chamberSetpointC } from '../../../shared/domain/standards';
@@ -97,6 +98,7 @@ export async function loadSchedulingInputs(m: EntityManager, nowMs: number, t: T
       chamberC: chamberSetpointC(plan.chamberC, plan.chamberBand),
       humidityPct: plan.humidityPct,
       sockets: r.sampleSize,
+      profileKey: chamberNeedsOf(plan)?.profileKey ?? null,
     };
   });
   const maint = await m.find(RigMaintenanceEntity, { where: { endsAt: MoreThan(new Date(nowMs)) } });

@@ -11,6 +11,7 @@ import { MqttRigLink } from './rig-link';
 import { recoverRollups } from './rollups';
 import { pruneRejectedMessages, REJECTED_PRUNE_EVERY_MS, type RejectionRetention } from './rejections-retention';
 import { markQuietRigsOffline } from './telemetry.data';
+import type { IngestDeps } from './ingest';
 import cron from 'node-cron';
 import { runTelemetryUpkeep, UPKEEP_CRON, type UpkeepOptions } from './upkeep';
 
@@ -27,6 +28,8 @@ export interface TelemetryFeatureOptions extends IngestOptions {
   sweepEveryMs?: number;
   /** rejected_messages retention (rejections-retention.ts) and how often it is applied. */
   rejections?: RejectionRetention & { pruneEveryMs?: number };
+  /** Chambers' reports, validated (server/features.ts hands in the chamber module's handler). */
+  onChamber?: IngestDeps['onChamber'];
   /** Tier windows (default ctx.config.telemetryKeep) and the upkeep's cron expression (null: none; tests call runTelemetryUpkeep). */
   upkeep?: Partial<UpkeepOptions> & { cronExpression?: string | null };
 }
@@ -42,6 +45,7 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
       now: () => ctx.now(),
       publishStored: (rigCode, cmd) => link.publishStored(rigCode, cmd),
       onAck: (rigCode, ack) => link.onAck(rigCode, ack),
+      onChamber: opts.onChamber,
     },
     opts,
   );
