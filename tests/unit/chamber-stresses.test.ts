@@ -21,7 +21,7 @@ import { STRESS_FAMILY, PLAN_KINDS, isUnbiasedKind, countsInCycles } from '../..
 import { initialChamberState, stepChamber, steamPressureKPa, type ChamberState } from '../../rig-simulator/chamber';
 import { MECHANISM_OF_KIND, mechanismExposure, mechanismFit } from '../../shared/reliability/mechanisms';
 import { coffinMansonFactor, equivalentStressHours } from '../../shared/reliability';
-import { chamberNeedsOf, readPointCycles, staticRefusals, windowConflicts } from '../../shared/scheduling';
+import { chamberNeedsOf, DEFAULT_TIMING, holdWindows, readPointCycles, staticRefusals, windowConflicts } from '../../shared/scheduling';
 
 const ID = '8f6a1c3e-2b7d-4e59-9a10-3c4d5e6f7a8b';
 const device = (over: Partial<DeviceTypeInput> = {}): DeviceTypeInput =>
@@ -293,6 +293,9 @@ describe('chamber time: the rig kind and the chamber capacity rule', () => {
       humidityPct: null,
       sockets: 60,
       profileKey: chamberNeedsOf(tcPlan)!.profileKey,
+      // Started with the new run, on the same plan: its read-point holds fall with the new run's, as
+      // the sharing rule asks of any two runs in one chamber (shared/scheduling/sharing.ts).
+      holds: holdWindows(0, needs(40), DEFAULT_TIMING),
     };
     expect(windowConflicts(chamber, needs(40), 0, 1e6, [c], [])).toEqual([]);
     expect(windowConflicts(chamber, needs(41), 0, 1e6, [c], [])[0]).toMatch(
