@@ -15,6 +15,7 @@ import { createEventBus } from './events';
 import { AnalyticsService } from './modules/analytics/analytics.service';
 import { ApprovalsService } from './modules/approvals/approvals.service';
 import { SignoffService } from './modules/signoff/signoff.service';
+import { QualificationsService } from './modules/qualifications/qualifications.service';
 import { AlarmsService } from './modules/alarms/alarms.service';
 import { AuditService } from './modules/audit/audit.service';
 import { AuthService } from './modules/auth/auth.service';
@@ -53,6 +54,7 @@ export interface Services {
   approvals: ApprovalsService;
   signoff: SignoffService;
   runs: RunsService;
+  qualifications: QualificationsService;
   rigs: RigsService;
   labSettings: LabSettingsService;
   floor: FloorService;
@@ -114,6 +116,7 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     approvals: new ApprovalsService(ctx.ds, ctx.audit, now),
     signoff: new SignoffService(ctx.ds, ctx.audit, auth, analytics, now),
     runs: new RunsService(ctx),
+    qualifications: new QualificationsService(ctx),
     rigs: new RigsService(ctx),
     labSettings: new LabSettingsService(ctx),
     floor,

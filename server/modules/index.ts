@@ -21,6 +21,7 @@ import { approvalsRoutes } from './approvals/approvals.routes';
 import { signoffRoutes } from './signoff/signoff.routes';
 import { auditRoutes } from './audit-log/audit-log.routes';
 import { labSettingsRoutes } from './lab-settings/lab-settings.routes';
+import { qualificationsRoutes } from './qualifications/qualifications.routes';
 
 /** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
 export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
@@ -45,6 +46,7 @@ export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
   signoffRoutes,
   auditRoutes,
   labSettingsRoutes,
+  qualificationsRoutes,
 ];
 
 export function apiRouters(ctx: AppContext): ApiRouter[] {

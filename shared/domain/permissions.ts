@@ -55,6 +55,9 @@ export const PERMISSIONS = {
   'override.decide': ['engineer', 'manager', 'admin'],
   // Signing a lot verdict (an electronic signature, 21 CFR Part 11 §11.50/§11.200).
   'verdict.sign': ['engineer', 'manager'],
+  // Qualifications (issue #22): engineers build and edit the matrix; managers read and download.
+  'qualification.read': ['engineer', 'manager', 'admin'],
+  'qualification.edit': ['engineer'],
   'audit.read': ['admin', 'manager'],
   'mail.read': ['admin'],
   // Places in the app's navigation (components/shell/destinations.ts).
@@ -68,6 +71,7 @@ export const PERMISSIONS = {
   'page.people': ['admin'],
   'page.approvals': ['engineer', 'manager', 'admin'],
   'page.audit': ['admin', 'manager'],
+  'page.qualifications': ['engineer', 'manager'],
   'page.mail': ['admin'],
   'page.rigs': ['admin', 'engineer'],
 } satisfies Record<string, readonly Role[]>;

@@ -12,6 +12,7 @@ export * from './evidence.entity';
 export * from './telemetry-cycle.entity';
 export * from './signoff.entity';
 export * from './lab-settings.entity';
+export * from './qualification.entity';
 
 import { UserEntity } from './user.entity';
 import { DeviceTypeEntity } from './device-type.entity';
@@ -33,6 +34,7 @@ import { DeviceDispositionEntity } from './evidence.entity';
 import { TelemetryCycleEntity } from './telemetry-cycle.entity';
 import { OverrideRequestEntity, VerdictSignatureEntity } from './signoff.entity';
 import { LabSettingsEntity } from './lab-settings.entity';
+import { QualificationCellEntity, QualificationEntity } from './qualification.entity';
 
 export const ENTITIES = [
   UserEntity,
@@ -65,4 +67,6 @@ export const ENTITIES = [
   OverrideRequestEntity,
   VerdictSignatureEntity,
   LabSettingsEntity,
+  QualificationEntity,
+  QualificationCellEntity,
 ];
