@@ -442,15 +442,18 @@ const ON_RIG: ReadonlySet<string> = new Set(ON_RIG_STATES);
 
 /**
  * A cell's state. The verdict itself is the lot verdict's (shared/verdict/judge.ts); this only
- * says where the cell stands: a waiver stands over everything; a failed lot verdict is final even
+ * says where the cell stands: a waiver stands over everything; a cell with no run of its kind
+ * stands on a recorded outside result, if any; a failed lot verdict is final even
  * while runs go on (failures beyond the accept number cannot be undone by more hours); a pass
  * counts only when every run of the kind has finished.
  */
 export function cellState(f: CellFacts): CellState {
   if (f.waived) return 'waived';
-  if (f.planKind === null) return f.external ? (f.external.result === 'pass' ? 'passed' : 'failed') : 'not-started';
+  const external: CellState | null = f.external ? (f.external.result === 'pass' ? 'passed' : 'failed') : null;
+  if (f.planKind === null) return external ?? 'not-started';
   const live = f.runStates.filter((s) => s !== 'aborted');
-  if (live.length === 0) return 'not-started';
+  // A run-kind group done outside the lab (no run here) stands on its recorded result.
+  if (live.length === 0) return external ?? 'not-started';
   if (f.verdict === 'failed') return 'failed';
   if (live.some((s) => ON_RIG.has(s))) return 'under-stress';
   if (live.some((s) => s === 'booked')) return 'booked';

@@ -81,6 +81,8 @@ describe('cellState (common practice: a waiver stands over all; a pass needs eve
     ['outside group, nothing recorded', { planKind: null }, 'not-started'],
     ['outside group, pass', { planKind: null, external: { result: 'pass' } }, 'passed'],
     ['outside group, fail', { planKind: null, external: { result: 'fail' } }, 'failed'],
+    ['run-kind group done by an outside lab, no run here', { planKind: 'tc', external: { result: 'pass' } }, 'passed'],
+    ['runs decide over an outside result', { runStates: ['stressing'], external: { result: 'pass' }, verdict: 'in-progress' }, 'under-stress'],
   ])('%s', (_name, f, expected) => {
     expect(cellState(facts(f))).toBe(expected);
   });

@@ -53,7 +53,7 @@ export function reportCellRows(data: QualificationReportData): ReportCellRow[] {
       booked: c.sample?.booked ?? null,
       judged: c.sample?.judged ?? null,
       failures: c.sample?.failures ?? null,
-      verdict: c.verdict ? LOT_VERDICT_LABEL[c.verdict] : c.external ? (c.external.result === 'pass' ? 'Pass (outside)' : 'Fail (outside)') : '-',
+      verdict: c.verdict ? LOT_VERDICT_LABEL[c.verdict] : c.external ? (c.external.result === 'pass' ? 'Pass (outside)' : 'Fail (outside)') : '',
       state: CELL_STATE_LABEL[c.state],
       fit60: c.fit?.fit60 ?? null,
       fit90: c.fit?.fit90 ?? null,
@@ -154,7 +154,7 @@ export function qualificationReportCsv(data: QualificationReportData, signoffs: 
   kv('Lots', d.lots.map((l) => l.code).join('; '));
   if (d.familyRule) kv('Generic-data rule', d.familyRule);
   kv('Status', QUAL_STATUS_LABEL[d.status]);
-  kv('Projected finish', when(d.projectedFinish), d.projectionNote ?? '');
+  kv('Projected finish', d.projectedFinish ? when(d.projectedFinish) : 'none', d.projectionNote ?? '');
   kv('Order of tests', d.sequence, basisWords(d.sequenceBasis));
   lines.push('');
   lines.push(
@@ -310,7 +310,7 @@ function writeCells(doc: Pdf, t: Write, data: QualificationReportData) {
   for (const r of reportCellRows(data)) {
     if (doc.y > doc.page.height - 110) doc.addPage();
     doc.font('Helvetica-Bold').fontSize(9.5);
-    t(`${r.group} - lot ${r.lot}: ${r.state}${r.verdict !== '-' ? ` (verdict ${r.verdict})` : ''}`);
+    t(`${r.group} - lot ${r.lot}: ${r.state}${r.verdict ? ` (verdict ${r.verdict})` : ''}`);
     doc.font('Helvetica').fontSize(8.5);
     t(`${r.method}; ${r.conditions}. Planned ${r.plannedSample}, accept ${r.acceptNumber}.`, { indent: 8 });
     if (r.booked !== null) t(`Booked ${r.booked}, judged ${r.judged}, failures ${r.failures}.`, { indent: 8 });

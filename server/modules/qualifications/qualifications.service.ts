@@ -165,7 +165,15 @@ export class QualificationsService {
   async recordExternal(actor: SessionUser, id: string, cellId: string, input: ExternalResultInput): Promise<QualificationDetail> {
     await this.ds.transaction(async (m) => {
       const cell = await this.cellOf(m, id, cellId);
-      if (cell.planKind !== null) throw unprocessable('This group is judged from its runs; an outside result is only for groups without a run kind (ESD, DPA, …).');
+      if (cell.planKind !== null) {
+        const q = await this.load(m, id);
+        const runs = (await runsOnLots(m, [cell.lotId])).filter((r) => r.kind === cell.planKind && r.state !== 'aborted');
+        if (runs.length)
+          throw unprocessable(
+            `This cell is judged from its runs (${runs.map((r) => r.code).join(', ')}); an outside result is only for a group with no run here (ESD, DPA, or a stress done by an outside lab).`,
+            { qualification: q.code },
+          );
+      }
       if (cell.externalResult) throw conflict('A result is already recorded for this cell.');
       const at = new Date(input.at);
       if (at.getTime() > this.ctx.now().getTime() + 60_000) throw unprocessable('The test date is in the future.');
