@@ -30,7 +30,9 @@ import type { QualCellView, QualificationDetail } from '@/shared/schemas/qualifi
 import { CELL_TONE, STATUS_TONE } from './labels';
 
 const sampleText = (c: QualCellView) =>
-  c.sample ? `${c.sample.failures} failed of ${c.sample.judged} judged (planned ${c.plannedSample}, accept ${c.acceptNumber})` : `planned ${c.plannedSample}, accept ${c.acceptNumber}`;
+  c.sample
+    ? `${c.sample.failures} failed of ${c.sample.judged} judged (planned ${c.plannedSample}, accept ${c.acceptNumber})`
+    : `planned ${c.plannedSample}, accept ${c.acceptNumber}`;
 
 function CellBox({ c, selected, onPress }: { c: QualCellView; selected: boolean; onPress: () => void }) {
   const t = tones[CELL_TONE[c.state]];
@@ -40,7 +42,16 @@ function CellBox({ c, selected, onPress }: { c: QualCellView; selected: boolean;
       accessibilityRole="button"
       accessibilityLabel={`${c.groupKey} on lot ${c.lotCode}: ${CELL_STATE_LABEL[c.state]}`}
       testID={`qual-cell-${c.groupKey}-${c.lotCode}`}
-      style={{ flex: 1, minHeight: 64, padding: space.xs, borderRadius: radius.md, backgroundColor: t.bg, borderWidth: selected ? 2 : 1, borderColor: selected ? colors.focus : t.edge, gap: 2 }}
+      style={{
+        flex: 1,
+        minHeight: 64,
+        padding: space.xs,
+        borderRadius: radius.md,
+        backgroundColor: t.bg,
+        borderWidth: selected ? 2 : 1,
+        borderColor: selected ? colors.focus : t.edge,
+        gap: 2,
+      }}
     >
       <Text variant="label" style={{ color: t.fg }}>
         {CELL_STATE_LABEL[c.state]}
@@ -186,7 +197,11 @@ function CellEditor({ d, c }: { d: QualificationDetail; c: QualCellView }) {
             disabled={!result || by.trim().length < 2 || doc.trim().length < 2 || Number.isNaN(Date.parse(at))}
             busy={change.isPending && change.variables?.kind === 'external'}
             onPress={() =>
-              change.mutate({ kind: 'external', cellId: c.id, body: { result: result!, by: by.trim(), at: new Date(Date.parse(at)).toISOString(), document: doc.trim() } })
+              change.mutate({
+                kind: 'external',
+                cellId: c.id,
+                body: { result: result!, by: by.trim(), at: new Date(Date.parse(at)).toISOString(), document: doc.trim() },
+              })
             }
             testID="qual-ext-record"
           />
@@ -224,7 +239,8 @@ function CellPanel({ d, c, canEdit }: { d: QualificationDetail; c: QualCellView;
         {c.runs.map((r) => (
           <Pressable key={r.id} onPress={() => router.push(`/runs/${r.id}` as Href)} accessibilityRole="link">
             <Text variant="caption" style={{ color: colors.focus }}>
-              Run {r.code} · {r.rigCode ?? 'no rig'} · {r.state} · {Math.round(r.stressHours)} h{r.projectedEnd ? ` · ends ${formatDateTime(r.projectedEnd)}` : ''}
+              Run {r.code} · {r.rigCode ?? 'no rig'} · {r.state} · {Math.round(r.stressHours)} h
+              {r.projectedEnd ? ` · ends ${formatDateTime(r.projectedEnd)}` : ''}
             </Text>
           </Pressable>
         ))}
@@ -235,7 +251,8 @@ function CellPanel({ d, c, canEdit }: { d: QualificationDetail; c: QualCellView;
         ) : null}
         {c.external ? (
           <Text variant="caption" testID="qual-cell-external">
-            Outside result: {c.external.result} — {c.external.by}, {formatDateTime(c.external.at)}, document {c.external.document} (recorded by {c.external.recordedBy})
+            Outside result: {c.external.result} — {c.external.by}, {formatDateTime(c.external.at)}, document {c.external.document} (recorded
+            by {c.external.recordedBy})
           </Text>
         ) : null}
         {c.waiver ? (
@@ -279,12 +296,27 @@ function Detail({ d }: { d: QualificationDetail }) {
       <Text variant="caption" tone="muted" testID="qual-sequence">
         {d.standard}. Order of tests: {d.sequence} {basisWords(d.sequenceBasis)}
       </Text>
-      {d.familyRule ? <Banner tone="info" title="Generic-data rule">{d.familyRule}</Banner> : null}
+      {d.familyRule ? (
+        <Banner tone="info" title="Generic-data rule">
+          {d.familyRule}
+        </Banner>
+      ) : null}
       <Text variant="body" testID="qual-projection">
-        {d.projectedFinish ? `Projected finish ${formatDateTime(d.projectedFinish)}.` : d.status === 'in-progress' ? 'No projected finish yet.' : ''} {d.projectionNote ?? ''}
+        {d.projectedFinish
+          ? `Projected finish ${formatDateTime(d.projectedFinish)}.`
+          : d.status === 'in-progress'
+            ? 'No projected finish yet.'
+            : ''}{' '}
+        {d.projectionNote ?? ''}
       </Text>
       {bp.gtTablet ? <Grid d={d} selected={selected} onSelect={setSelected} /> : <Cards d={d} selected={selected} onSelect={setSelected} />}
-      {cell ? <CellPanel d={d} c={cell} canEdit={can('qualification.edit')} /> : <Text variant="caption" tone="muted">Choose a cell for its runs, sample and verdict.</Text>}
+      {cell ? (
+        <CellPanel d={d} c={cell} canEdit={can('qualification.edit')} />
+      ) : (
+        <Text variant="caption" tone="muted">
+          Choose a cell for its runs, sample and verdict.
+        </Text>
+      )}
       {d.left.length ? (
         <Card title={`Left to do (${d.left.length})`} testID="qual-left">
           <View style={{ gap: space.xxs }}>
@@ -305,7 +337,11 @@ export function QualificationScreen() {
   const q = useQualification(id);
   return (
     <Screen width="wide" testID="qualification-screen">
-      <Header eyebrow="Qualification" title={q.data ? `${q.data.code} · ${q.data.name}` : 'Qualification'} subtitle={q.data ? q.data.templateName : undefined} />
+      <Header
+        eyebrow="Qualification"
+        title={q.data ? `${q.data.code} · ${q.data.name}` : 'Qualification'}
+        subtitle={q.data ? q.data.templateName : undefined}
+      />
       <SafetyCaution compact context="The stresses of a qualification run at high voltage and in hot ovens." />
       <QueryState query={q} loadingLabel="Loading the matrix…" errorTitle="Could not load the qualification">
         {(d) => <Detail d={d} />}

@@ -61,10 +61,19 @@ function NewQualification() {
   const template = templates.data?.find((t) => t.key === templateKey);
   const fields = create.error instanceof ApiError ? create.error.fields : undefined;
   const family = typeIds.length > 1;
-  const ready = name.trim().length >= 3 && !!templateKey && typeIds.length > 0 && lotIds.length > 0 && (!family || familyRule.trim().length >= FAMILY_RULE_MIN);
+  const ready =
+    name.trim().length >= 3 &&
+    !!templateKey &&
+    typeIds.length > 0 &&
+    lotIds.length > 0 &&
+    (!family || familyRule.trim().length >= FAMILY_RULE_MIN);
 
   return (
-    <Card title="New qualification" description="A matrix of the template's stress groups × your lots. Runs of each group's kind on a lot fill its cell." testID="qual-new">
+    <Card
+      title="New qualification"
+      description="A matrix of the template's stress groups × your lots. Runs of each group's kind on a lot fill its cell."
+      testID="qual-new"
+    >
       <View style={{ gap: space.md }}>
         <Field label="Name" value={name} onChangeText={setName} testID="qual-name" error={fields?.name?.[0]} />
         {templates.data ? (
@@ -168,8 +177,16 @@ export function QualificationsScreen() {
         {(items) => (
           <View style={{ gap: space.sm }} testID="qual-list">
             {items.map((q) => (
-              <Pressable key={q.id} onPress={() => router.push(`/qualifications/${q.id}` as Href)} accessibilityRole="link" testID={`qual-item-${q.code}`}>
-                <Card title={`${q.code} · ${q.name}`} description={`${q.templateName} · ${q.deviceTypes.map((t) => t.partNumber).join(', ')} · lots ${q.lots.map((l) => l.code).join(', ')}`}>
+              <Pressable
+                key={q.id}
+                onPress={() => router.push(`/qualifications/${q.id}` as Href)}
+                accessibilityRole="link"
+                testID={`qual-item-${q.code}`}
+              >
+                <Card
+                  title={`${q.code} · ${q.name}`}
+                  description={`${q.templateName} · ${q.deviceTypes.map((t) => t.partNumber).join(', ')} · lots ${q.lots.map((l) => l.code).join(', ')}`}
+                >
                   <View style={{ flexDirection: 'row', gap: space.sm, alignItems: 'center', flexWrap: 'wrap' }}>
                     <StatusPill tone={STATUS_TONE[q.status]} label={QUAL_STATUS_LABEL[q.status]} size="sm" />
                     <Text variant="caption" tone="muted">

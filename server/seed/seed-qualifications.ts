@@ -15,7 +15,16 @@
 import { randomUUID } from 'node:crypto';
 import type { DataSource, EntityManager } from 'typeorm';
 import { planMatrix, QUAL_TEMPLATES, type QualTemplateKey } from '../../shared/qualification/templates';
-import { DeviceEntity, DeviceTypeEntity, LotEntity, QualificationCellEntity, QualificationEntity, RigEntity, StressPlanEntity, UserEntity } from '../db/entities';
+import {
+  DeviceEntity,
+  DeviceTypeEntity,
+  LotEntity,
+  QualificationCellEntity,
+  QualificationEntity,
+  RigEntity,
+  StressPlanEntity,
+  UserEntity,
+} from '../db/entities';
 import { AnalyticsService } from '../modules/analytics/analytics.service';
 import { AuditService } from '../modules/audit/audit.service';
 import { AuthService, toSessionUser } from '../modules/auth/auth.service';
@@ -51,7 +60,16 @@ async function createQualification(
   );
   const { cells } = planMatrix(template, q.lotIds);
   const rows = await m.save(cells.map((c) => m.create(QualificationCellEntity, { ...c, qualificationId: saved.id })));
-  await audit.record({ actor, action: 'qualification.create', entity: 'qualification', entityId: saved.id, details: { code: q.code, template: q.templateKey } }, m);
+  await audit.record(
+    {
+      actor,
+      action: 'qualification.create',
+      entity: 'qualification',
+      entityId: saved.id,
+      details: { code: q.code, template: q.templateKey },
+    },
+    m,
+  );
   return new Map(rows.map((r) => [`${r.groupKey}|${r.lotId}`, r]));
 }
 
@@ -62,15 +80,31 @@ async function outside(
   cell: QualificationCellEntity,
   r: { result: 'pass' | 'fail'; by: string; at: Date; document: string },
 ) {
-  await m.update(QualificationCellEntity, { id: cell.id }, { externalResult: r.result, externalBy: r.by, externalAt: r.at, externalDocument: r.document, externalRecordedById: actor.id });
+  await m.update(
+    QualificationCellEntity,
+    { id: cell.id },
+    { externalResult: r.result, externalBy: r.by, externalAt: r.at, externalDocument: r.document, externalRecordedById: actor.id },
+  );
   await audit.record(
-    { actor, action: 'qualification.cell-external', entity: 'qualification', entityId: cell.qualificationId, details: { cellId: cell.id, groupKey: cell.groupKey, ...r, at: r.at.toISOString() } },
+    {
+      actor,
+      action: 'qualification.cell-external',
+      entity: 'qualification',
+      entityId: cell.qualificationId,
+      details: { cellId: cell.id, groupKey: cell.groupKey, ...r, at: r.at.toISOString() },
+    },
     m,
   );
 }
 
 /** A demo plan of `kind` for the part, from the plan templates, at the group's 45 devices. */
-async function groupPlan(m: EntityManager, type: DeviceTypeEntity, kind: 'htrb' | 'hotl', name: string, engineerId: string): Promise<StressPlanEntity> {
+async function groupPlan(
+  m: EntityManager,
+  type: DeviceTypeEntity,
+  kind: 'htrb' | 'hotl',
+  name: string,
+  engineerId: string,
+): Promise<StressPlanEntity> {
   const input = { ...fromTemplate(type, kind), sampleSize: 45, name };
   return m.save(
     m.create(StressPlanEntity, {
@@ -88,9 +122,17 @@ async function groupPlan(m: EntityManager, type: DeviceTypeEntity, kind: 'htrb' 
 /** HPD-3P95 and its lot HG2606-K with a passed 45-device powered-life run and a passed 45-device HTRB run. */
 async function seedCompletePart(m: EntityManager, engineerId: string): Promise<{ type: DeviceTypeEntity; lot: LotEntity }> {
   const base = DEMO_DEVICE_TYPES.find((t) => t.partNumber === 'HPD-3P90')!;
-  const type = await m.save(m.create(DeviceTypeEntity, { ...base, partNumber: 'HPD-3P95', description: 'PNP power transistor, 100 V / 3 A, TO-220 style, thicker die attach' }));
+  const type = await m.save(
+    m.create(DeviceTypeEntity, {
+      ...base,
+      partNumber: 'HPD-3P95',
+      description: 'PNP power transistor, 100 V / 3 A, TO-220 style, thicker die attach',
+    }),
+  );
   const lot = await m.save(m.create(LotEntity, { code: 'HG2606-K', deviceTypeId: type.id, quantity: 600, dateCode: '2606', notes: '' }));
-  const devices = await m.save(Array.from({ length: 90 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `K${String(i + 1).padStart(4, '0')}` })));
+  const devices = await m.save(
+    Array.from({ length: 90 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `K${String(i + 1).padStart(4, '0')}` })),
+  );
   const drift = { hfeDriftPctPer1000h: -1.4, leakageGrowthPer1000h: 1.05 };
   const runs: Array<{ kind: 'hotl' | 'htrb'; name: string; rig: string; from: number; daysAgo: number }> = [
     { kind: 'hotl', name: 'Powered life, Tj 150 °C, 1000 h (group C)', rig: 'OV-03', from: 0, daysAgo: 150 },
@@ -162,12 +204,36 @@ export async function seedQualifications(ds: DataSource): Promise<void> {
       at: new Date(now - 30 * DAY),
       document: 'HPD-TC-2606-K-500',
     });
-    await outside(m, audit, engineer, cell('b-sd'), { result: 'pass', by: 'Harrowgate assembly lab', at: new Date(now - 95 * DAY), document: 'HPD-SD-2606-K' });
-    await outside(m, audit, engineer, cell('e-dpa'), { result: 'pass', by: 'Harrowgate failure-analysis lab', at: new Date(now - 20 * DAY), document: 'HPD-DPA-2606-K' });
+    await outside(m, audit, engineer, cell('b-sd'), {
+      result: 'pass',
+      by: 'Harrowgate assembly lab',
+      at: new Date(now - 95 * DAY),
+      document: 'HPD-SD-2606-K',
+    });
+    await outside(m, audit, engineer, cell('e-dpa'), {
+      result: 'pass',
+      by: 'Harrowgate failure-analysis lab',
+      at: new Date(now - 20 * DAY),
+      document: 'HPD-DPA-2606-K',
+    });
     const reason =
       'HPD-3P95 shares die and package with HPD-3P90; its intermittent operating life is covered by that of HPD-3P90 (HPD-IOL-3P90-07); accepted by the customer in the qualification plan.';
-    await m.update(QualificationCellEntity, { id: cell('e-iol').id }, { waiverReason: reason, waivedById: engineer.id, waivedAt: new Date(now - 15 * DAY) });
-    await audit.record({ actor: engineer, action: 'qualification.cell-waive', entity: 'qualification', entityId: cell('e-iol').qualificationId, reason, details: { cellId: cell('e-iol').id, groupKey: 'e-iol' } }, m);
+    await m.update(
+      QualificationCellEntity,
+      { id: cell('e-iol').id },
+      { waiverReason: reason, waivedById: engineer.id, waivedAt: new Date(now - 15 * DAY) },
+    );
+    await audit.record(
+      {
+        actor: engineer,
+        action: 'qualification.cell-waive',
+        entity: 'qualification',
+        entityId: cell('e-iol').qualificationId,
+        reason,
+        details: { cellId: cell('e-iol').id, groupKey: 'e-iol' },
+      },
+      m,
+    );
   });
 
   // The manager signs HG2606-K's verdict (the signature the complete qualification's report prints).

@@ -395,14 +395,24 @@ export interface PlannedCell {
  * The matrix a template asks for with the chosen lots: a cell per group and lot, for the first
  * `group.lots` lots (in the order chosen); `shortLots` names the groups that want more lots than chosen.
  */
-export function planMatrix(t: QualTemplate, lotIds: readonly string[]): { cells: PlannedCell[]; shortLots: Array<{ groupKey: string; wanted: number; chosen: number }> } {
+export function planMatrix(
+  t: QualTemplate,
+  lotIds: readonly string[],
+): { cells: PlannedCell[]; shortLots: Array<{ groupKey: string; wanted: number; chosen: number }> } {
   const cells: PlannedCell[] = [];
   const shortLots: Array<{ groupKey: string; wanted: number; chosen: number }> = [];
   groupOrder(t).forEach((g, gi) => {
     const used = lotIds.slice(0, g.lots);
     if (used.length < g.lots) shortLots.push({ groupKey: g.key, wanted: g.lots, chosen: used.length });
     used.forEach((lotId, li) =>
-      cells.push({ groupKey: g.key, lotId, position: gi * 100 + li, planKind: g.planKind, plannedSample: g.samplePerLot, acceptNumber: g.acceptNumber }),
+      cells.push({
+        groupKey: g.key,
+        lotId,
+        position: gi * 100 + li,
+        planKind: g.planKind,
+        plannedSample: g.samplePerLot,
+        acceptNumber: g.acceptNumber,
+      }),
     );
   });
   return { cells, shortLots };

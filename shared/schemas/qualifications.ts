@@ -37,7 +37,8 @@ export const createQualificationSchema = z
     familyRule: z.string().trim().max(2000).default(''),
   })
   .superRefine((v, ctx) => {
-    if (new Set(v.deviceTypeIds).size !== v.deviceTypeIds.length) ctx.addIssue({ code: 'custom', path: ['deviceTypeIds'], message: 'A device type is listed twice' });
+    if (new Set(v.deviceTypeIds).size !== v.deviceTypeIds.length)
+      ctx.addIssue({ code: 'custom', path: ['deviceTypeIds'], message: 'A device type is listed twice' });
     if (new Set(v.lotIds).size !== v.lotIds.length) ctx.addIssue({ code: 'custom', path: ['lotIds'], message: 'A lot is listed twice' });
     if (v.deviceTypeIds.length > 1 && v.familyRule.length < FAMILY_RULE_MIN)
       ctx.addIssue({

@@ -31,7 +31,11 @@ it('QUAL-001 is in progress: HTRB judged passed on A and incomplete on B (both w
   expect(d.status).toBe('in-progress');
   const htrb = d.cells.filter((c) => c.groupKey === 'htrb');
   // HG2611-A and -B also share a booked HTRB run (HTRB-2611-A+1) from the live-runs seed: their cells wait for it.
-  expect(htrb.map((c) => `${c.lotCode}:${c.state}:${c.verdict}`)).toEqual(['HG2611-A:booked:passed', 'HG2611-B:booked:incomplete', 'HG2612-C:under-stress:drifting']);
+  expect(htrb.map((c) => `${c.lotCode}:${c.state}:${c.verdict}`)).toEqual([
+    'HG2611-A:booked:passed',
+    'HG2611-B:booked:incomplete',
+    'HG2612-C:under-stress:drifting',
+  ]);
   expect(htrb[0].runs.map((r) => r.code)).toEqual(expect.arrayContaining(['HTRB-2611-A', 'HTRB-2611-A-2', 'HTRB-2611-A+1']));
   expect(htrb[0].projectedFinish).not.toBeNull();
   expect(d.cells.filter((c) => c.groupKey === 'tc' || c.groupKey === 'ac').every((c) => c.state === 'not-started')).toBe(true);

@@ -9,7 +9,16 @@
  */
 import { randomUUID } from 'node:crypto';
 import { parse } from 'csv-parse/sync';
-import { AuditLogEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, RunEntity, RunLotEntity, StressPlanEntity } from '../../server/db/entities';
+import {
+  AuditLogEntity,
+  DeviceEntity,
+  DeviceTypeEntity,
+  LotEntity,
+  RigEntity,
+  RunEntity,
+  RunLotEntity,
+  StressPlanEntity,
+} from '../../server/db/entities';
 import { insertHistoryRun } from '../../server/seed/seed-history';
 import type { LotDetail } from '../../shared/schemas/analytics';
 import type { QualificationDetail } from '../../shared/schemas/qualifications';
@@ -26,7 +35,9 @@ async function addLot(code: string, typeId: string): Promise<{ lot: LotEntity; d
   const m = t.ctx.ds.manager;
   const lot = await m.save(m.create(LotEntity, { code, deviceTypeId: typeId, quantity: 1000, notes: '' }));
   const devices = await m.save(
-    Array.from({ length: 20 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `${code.slice(-1)}${String(i + 1).padStart(4, '0')}` })),
+    Array.from({ length: 20 }, (_, i) =>
+      m.create(DeviceEntity, { lotId: lot.id, serial: `${code.slice(-1)}${String(i + 1).padStart(4, '0')}` }),
+    ),
   );
   ids[code] = lot.id;
   return { lot, devices };
@@ -73,7 +84,12 @@ beforeAll(async () => {
       useC: 55,
     }),
   );
-  const history = (code: string, l: { lot: LotEntity; devices: DeviceEntity[] }, state: 'finished' | 'stressing', failures?: Array<{ serial: string; atH: number; mode: 'gain' }>) =>
+  const history = (
+    code: string,
+    l: { lot: LotEntity; devices: DeviceEntity[] },
+    state: 'finished' | 'stressing',
+    failures?: Array<{ serial: string; atH: number; mode: 'gain' }>,
+  ) =>
     insertHistoryRun(m, {
       code,
       plan,
@@ -104,7 +120,12 @@ describe('create from a template', () => {
     const eng = await t.signIn('engineer');
     const res = await eng
       .post('/api/qualifications')
-      .send({ name: 'HPD-Q100 automotive', templateKey: 'aec-q101', deviceTypeIds: [ids.type], lotIds: [ids['HG9801-A'], ids['HG9801-B'], ids['HG9801-C']] });
+      .send({
+        name: 'HPD-Q100 automotive',
+        templateKey: 'aec-q101',
+        deviceTypeIds: [ids.type],
+        lotIds: [ids['HG9801-A'], ids['HG9801-B'], ids['HG9801-C']],
+      });
     expect(res.status).toBe(201);
     qual = res.body;
     const tpl = QUAL_TEMPLATES['aec-q101'];
@@ -239,14 +260,21 @@ describe('waivers and outside results', () => {
     expect(ok.status).toBe(200);
     const cell = ok.body.cells.find((c: { id: string }) => c.id === esd.id);
     expect(cell.state).toBe('passed');
-    expect(cell.external).toMatchObject({ result: 'pass', by: 'Harrowgate ESD bench', document: 'HPD-ESD-0412', recordedBy: 'Test engineer' });
+    expect(cell.external).toMatchObject({
+      result: 'pass',
+      by: 'Harrowgate ESD bench',
+      document: 'HPD-ESD-0412',
+      recordedBy: 'Test engineer',
+    });
     expect((await eng.post(`/api/qualifications/${qual.id}/cells/${esd.id}/external`).send(body)).status).toBe(409);
   });
 
   test('editing a cell: accept number below the sample', async () => {
     const eng = await t.signIn('engineer');
     const cell = cellsOf(qual, 'htrb')[0];
-    expect((await eng.patch(`/api/qualifications/${qual.id}/cells/${cell.id}`).send({ plannedSample: 5, acceptNumber: 5 })).status).toBe(422);
+    expect((await eng.patch(`/api/qualifications/${qual.id}/cells/${cell.id}`).send({ plannedSample: 5, acceptNumber: 5 })).status).toBe(
+      422,
+    );
     expect((await eng.patch(`/api/qualifications/${qual.id}/cells/${cell.id}`).send({})).status).toBe(400);
     const ok = await eng.patch(`/api/qualifications/${qual.id}/cells/${cell.id}`).send({ plannedSample: 20 });
     expect(ok.status).toBe(200);
@@ -268,9 +296,13 @@ describe('bad input and roles', () => {
       .send({ name: 'Wrong lot', templateKey: 'jesd47', deviceTypeIds: [ids.type], lotIds: [ids['HG9801-X']] });
     expect(foreign.status).toBe(422);
     expect(foreign.body.error.message).toMatch(/HG9801-X/);
-    const badTemplate = await eng.post('/api/qualifications').send({ name: 'X', templateKey: 'aec-q999', deviceTypeIds: [ids.type], lotIds: [ids['HG9801-A']] });
+    const badTemplate = await eng
+      .post('/api/qualifications')
+      .send({ name: 'X', templateKey: 'aec-q999', deviceTypeIds: [ids.type], lotIds: [ids['HG9801-A']] });
     expect(badTemplate.status).toBe(400);
-    const missing = await eng.post('/api/qualifications').send({ name: 'Missing lot', templateKey: 'jesd47', deviceTypeIds: [ids.type], lotIds: [randomUUID()] });
+    const missing = await eng
+      .post('/api/qualifications')
+      .send({ name: 'Missing lot', templateKey: 'jesd47', deviceTypeIds: [ids.type], lotIds: [randomUUID()] });
     expect(missing.status).toBe(422);
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
     const ok = await eng.post('/api/qualifications').send({
@@ -292,7 +324,9 @@ describe('bad input and roles', () => {
     expect((await mgr.get(`/api/qualifications/${qual.id}`)).status).toBe(200);
     expect((await mgr.post('/api/qualifications').send({})).status).toBe(403);
     const cell = qual.cells[0];
-    expect((await mgr.post(`/api/qualifications/${qual.id}/cells/${cell.id}/waiver`).send({ reason: 'a reason long enough' })).status).toBe(403);
+    expect((await mgr.post(`/api/qualifications/${qual.id}/cells/${cell.id}/waiver`).send({ reason: 'a reason long enough' })).status).toBe(
+      403,
+    );
     const op = await t.signIn('operator');
     expect((await op.get('/api/qualifications')).status).toBe(403);
     expect((await op.get(`/api/qualifications/${qual.id}/report.pdf`)).status).toBe(403);
@@ -305,11 +339,14 @@ describe('bad input and roles', () => {
 describe('report', () => {
   test('PDF: a real PDF of several pages', async () => {
     const mgr = await t.signIn('manager');
-    const res = await mgr.get(`/api/qualifications/${qual.id}/report.pdf`).buffer(true).parse((r, cb) => {
-      const chunks: Buffer[] = [];
-      r.on('data', (c: Buffer) => chunks.push(c));
-      r.on('end', () => cb(null, Buffer.concat(chunks)));
-    });
+    const res = await mgr
+      .get(`/api/qualifications/${qual.id}/report.pdf`)
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on('data', (c: Buffer) => chunks.push(c));
+        r.on('end', () => cb(null, Buffer.concat(chunks)));
+      });
     expect(res.status).toBe(200);
     expect(res.headers['content-type']).toBe('application/pdf');
     const pdf: Buffer = res.body;
@@ -337,7 +374,9 @@ describe('report', () => {
       expect(Number(r[col('Booked')])).toBe(p.sample.booked);
       expect(Number(r[col('Judged')])).toBe(p.sample.judged);
       expect(Number(r[col('Failures')])).toBe(p.sample.failures);
-      expect(r[col('Verdict')]).toBe({ passed: 'Passed', failed: 'Failed', 'in-progress': 'In progress' }[p.verdict as string] ?? p.verdict);
+      expect(r[col('Verdict')]).toBe(
+        { passed: 'Passed', failed: 'Failed', 'in-progress': 'In progress' }[p.verdict as string] ?? p.verdict,
+      );
       if (p.fit) {
         expect(Number(r[col('FIT 60 %')])).toBeCloseTo(p.fit.fit60, 4);
         expect(Number(r[col('FIT 90 %')])).toBeCloseTo(p.fit.fit90, 4);

@@ -16,7 +16,14 @@ import {
   type CellFacts,
 } from '../../shared/qualification/templates';
 
-const facts = (f: Partial<CellFacts>): CellFacts => ({ waived: false, planKind: 'htrb', external: null, runStates: [], verdict: null, ...f });
+const facts = (f: Partial<CellFacts>): CellFacts => ({
+  waived: false,
+  planKind: 'htrb',
+  external: null,
+  runStates: [],
+  verdict: null,
+  ...f,
+});
 
 describe('templates', () => {
   test('AEC-Q101: HTRB 3 lots × 77, accept 0 (from memory: AEC-Q101 Table 2 — confirm)', () => {
@@ -50,7 +57,17 @@ describe('templates', () => {
   });
 
   test('AEC-Q101 order: preconditioned groups (TC, AC, H3TRB, IOL) first — from memory, confirm', () => {
-    expect(groupOrder(QUAL_TEMPLATES['aec-q101']).map((g) => g.key)).toEqual(['tc', 'ac', 'h3trb', 'iol', 'htrb', 'esd-hbm', 'dpa', 'pd', 'sd']);
+    expect(groupOrder(QUAL_TEMPLATES['aec-q101']).map((g) => g.key)).toEqual([
+      'tc',
+      'ac',
+      'h3trb',
+      'iol',
+      'htrb',
+      'esd-hbm',
+      'dpa',
+      'pd',
+      'sd',
+    ]);
   });
 });
 
@@ -82,7 +99,11 @@ describe('cellState (common practice: a waiver stands over all; a pass needs eve
     ['outside group, pass', { planKind: null, external: { result: 'pass' } }, 'passed'],
     ['outside group, fail', { planKind: null, external: { result: 'fail' } }, 'failed'],
     ['run-kind group done by an outside lab, no run here', { planKind: 'tc', external: { result: 'pass' } }, 'passed'],
-    ['runs decide over an outside result', { runStates: ['stressing'], external: { result: 'pass' }, verdict: 'in-progress' }, 'under-stress'],
+    [
+      'runs decide over an outside result',
+      { runStates: ['stressing'], external: { result: 'pass' }, verdict: 'in-progress' },
+      'under-stress',
+    ],
   ])('%s', (_name, f, expected) => {
     expect(cellState(facts(f))).toBe(expected);
   });

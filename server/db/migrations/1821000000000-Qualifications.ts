@@ -13,7 +13,9 @@ export class Qualifications1821000000000 implements MigrationInterface {
     );
     await q.query(`CREATE INDEX "IDX_qualification_cells_qualification" ON "qualification_cells" ("qualification_id")`);
     await q.query(`CREATE INDEX "IDX_qualification_cells_lot" ON "qualification_cells" ("lot_id")`);
-    await q.query(`CREATE UNIQUE INDEX "IDX_qualification_cells_group_lot" ON "qualification_cells" ("qualification_id", "group_key", "lot_id")`);
+    await q.query(
+      `CREATE UNIQUE INDEX "IDX_qualification_cells_group_lot" ON "qualification_cells" ("qualification_id", "group_key", "lot_id")`,
+    );
     await q.query(
       `ALTER TABLE "qualification_cells" ADD CONSTRAINT "FK_qualification_cells_qualification" FOREIGN KEY ("qualification_id") REFERENCES "qualifications"("id") ON DELETE CASCADE ON UPDATE NO ACTION`,
     );

@@ -14,7 +14,8 @@ import { CELL_STATE_LABEL, QUAL_STATUS_LABEL, basisWords, type QualGroup } from 
 import { csvLine, pdfText, type Cell } from '../analytics/lot-report';
 import { cellJudgement, type QualificationReportData } from './qualifications.service';
 
-const fmt = (v: number | null | undefined, digits = 3) => (v === null || v === undefined || !Number.isFinite(v) ? '-' : String(+v.toPrecision(digits)));
+const fmt = (v: number | null | undefined, digits = 3) =>
+  v === null || v === undefined || !Number.isFinite(v) ? '-' : String(+v.toPrecision(digits));
 const when = (iso: string | null) => (iso ? formatUtc(new Date(iso)) : '-');
 
 /** The report's rows for one cell (shared by the PDF, the CSV and the test that compares them with the lot views). */
@@ -53,7 +54,13 @@ export function reportCellRows(data: QualificationReportData): ReportCellRow[] {
       booked: c.sample?.booked ?? null,
       judged: c.sample?.judged ?? null,
       failures: c.sample?.failures ?? null,
-      verdict: c.verdict ? LOT_VERDICT_LABEL[c.verdict] : c.external ? (c.external.result === 'pass' ? 'Pass (outside)' : 'Fail (outside)') : '',
+      verdict: c.verdict
+        ? LOT_VERDICT_LABEL[c.verdict]
+        : c.external
+          ? c.external.result === 'pass'
+            ? 'Pass (outside)'
+            : 'Fail (outside)'
+          : '',
       state: CELL_STATE_LABEL[c.state],
       fit60: c.fit?.fit60 ?? null,
       fit90: c.fit?.fit90 ?? null,
@@ -109,9 +116,25 @@ function deviceLines(data: QualificationReportData): DeviceLine[] {
     if (!p) continue;
     for (const d of p.devices) {
       if (d.status === 'fail')
-        out.push({ lot: c.lotCode, group: groups.get(c.groupKey)!.name, serial: d.serial, socket: d.socketIndex, status: 'failed', atH: d.failedAtH, why: d.failedBecause.join('; ') });
+        out.push({
+          lot: c.lotCode,
+          group: groups.get(c.groupKey)!.name,
+          serial: d.serial,
+          socket: d.socketIndex,
+          status: 'failed',
+          atH: d.failedAtH,
+          why: d.failedBecause.join('; '),
+        });
       else if (d.status === 'removed')
-        out.push({ lot: c.lotCode, group: groups.get(c.groupKey)!.name, serial: d.serial, socket: d.socketIndex, status: 'removed', atH: d.removedAtH, why: d.removedBecause ?? '' });
+        out.push({
+          lot: c.lotCode,
+          group: groups.get(c.groupKey)!.name,
+          serial: d.serial,
+          socket: d.socketIndex,
+          status: 'removed',
+          atH: d.removedAtH,
+          why: d.removedBecause ?? '',
+        });
     }
   }
   return out;
@@ -126,7 +149,8 @@ function deviations(data: QualificationReportData): string[] {
     if (dev) out.push(`${c.lotCode}, ${p!.planName}: booked ${dev.sampleSize} devices — ${dev.reason} (${dev.by}, ${dev.at})`);
   }
   for (const [, lot] of data.lots)
-    for (const v of lot.records.deviations) out.push(`${lot.lotCode}, run ${v.runCode}, ${v.serial} at ${v.readPointH} h: ${v.reason ?? 'no reason given'}`);
+    for (const v of lot.records.deviations)
+      out.push(`${lot.lotCode}, run ${v.runCode}, ${v.serial} at ${v.readPointH} h: ${v.reason ?? 'no reason given'}`);
   return out;
 }
 
@@ -180,7 +204,25 @@ export function qualificationReportCsv(data: QualificationReportData, signoffs: 
   );
   for (const r of reportCellRows(data))
     lines.push(
-      csvLine([r.group, r.lot, r.kind, r.method, r.conditions, r.plannedSample, r.acceptNumber, r.booked, r.judged, r.failures, r.verdict, r.state, r.fit60, r.fit90, r.fitMethod, r.runs, r.basis]),
+      csvLine([
+        r.group,
+        r.lot,
+        r.kind,
+        r.method,
+        r.conditions,
+        r.plannedSample,
+        r.acceptNumber,
+        r.booked,
+        r.judged,
+        r.failures,
+        r.verdict,
+        r.state,
+        r.fit60,
+        r.fit90,
+        r.fitMethod,
+        r.runs,
+        r.basis,
+      ]),
     );
   lines.push('');
   lines.push(csvLine(['Lot', 'Group', 'Device', 'Socket', 'Status', 'At (h)', 'Why']));
@@ -188,7 +230,16 @@ export function qualificationReportCsv(data: QualificationReportData, signoffs: 
   lines.push('');
   for (const c of d.cells) {
     if (c.waiver) kv('Waiver', groupName(d.groups, c), c.lotCode, c.waiver.reason, c.waiver.by, formatUtc(new Date(c.waiver.at)));
-    if (c.external) kv('Outside result', groupName(d.groups, c), c.lotCode, c.external.result, c.external.by, formatUtc(new Date(c.external.at)), c.external.document);
+    if (c.external)
+      kv(
+        'Outside result',
+        groupName(d.groups, c),
+        c.lotCode,
+        c.external.result,
+        c.external.by,
+        formatUtc(new Date(c.external.at)),
+        c.external.document,
+      );
   }
   for (const x of deviations(data)) kv('Deviation', x);
   lines.push('');
@@ -251,14 +302,28 @@ function writeMatrix(doc: Pdf, data: QualificationReportData) {
       const x = left + groupW + i * colW;
       const c = byKey.get(`${key}|${l.id}`);
       const label = c ? CELL_STATE_LABEL[c.state] : '';
-      doc.save().rect(x, y, colW - 2, rowH - 2).fill(c ? (STATE_FILL[label] ?? '#ffffff') : '#ffffff').restore();
-      doc.rect(x, y, colW - 2, rowH - 2).strokeColor('#999999').lineWidth(0.5).stroke();
+      doc
+        .save()
+        .rect(x, y, colW - 2, rowH - 2)
+        .fill(c ? (STATE_FILL[label] ?? '#ffffff') : '#ffffff')
+        .restore();
+      doc
+        .rect(x, y, colW - 2, rowH - 2)
+        .strokeColor('#999999')
+        .lineWidth(0.5)
+        .stroke();
       doc.fillColor('#000000').fontSize(8);
       if (c) {
         doc.font('Helvetica-Bold').text(pdfText(label), x + 3, y + 3, { width: colW - 8, lineBreak: false });
-        const sample = c.sample ? `${c.sample.failures} fail / ${c.sample.judged} of ${c.plannedSample}` : `n ${c.plannedSample}, c ${c.acceptNumber}`;
+        const sample = c.sample
+          ? `${c.sample.failures} fail / ${c.sample.judged} of ${c.plannedSample}`
+          : `n ${c.plannedSample}, c ${c.acceptNumber}`;
         doc.font('Helvetica').text(pdfText(sample), x + 3, y + 15, { width: colW - 8, lineBreak: false });
-      } else doc.font('Helvetica').fillColor('#888888').text('not asked', x + 3, y + 9, { width: colW - 8, lineBreak: false });
+      } else
+        doc
+          .font('Helvetica')
+          .fillColor('#888888')
+          .text('not asked', x + 3, y + 9, { width: colW - 8, lineBreak: false });
     });
     y += rowH;
   }
@@ -284,10 +349,20 @@ function writeDriftChart(doc: Pdf, t: Write, title: string, lot: LotDetail) {
   const xOf = (hours: number) => left + (hours / maxH) * w;
   const yOf = (v: number) => top + h / 2 - (v / span) * (h / 2);
   doc.save().lineWidth(0.5).strokeColor('#777777').rect(left, top, w, h).stroke();
-  doc.moveTo(left, yOf(0)).lineTo(left + w, yOf(0)).strokeColor('#bbbbbb').stroke();
+  doc
+    .moveTo(left, yOf(0))
+    .lineTo(left + w, yOf(0))
+    .strokeColor('#bbbbbb')
+    .stroke();
   doc.dash(3, { space: 3 }).strokeColor('#c0392b');
-  doc.moveTo(left, yOf(limit)).lineTo(left + w, yOf(limit)).stroke();
-  doc.moveTo(left, yOf(-limit)).lineTo(left + w, yOf(-limit)).stroke();
+  doc
+    .moveTo(left, yOf(limit))
+    .lineTo(left + w, yOf(limit))
+    .stroke();
+  doc
+    .moveTo(left, yOf(-limit))
+    .lineTo(left + w, yOf(-limit))
+    .stroke();
   doc.undash().lineWidth(1.2).strokeColor('#1f5f8b');
   pts.forEach((p, i) => (i === 0 ? doc.moveTo(xOf(p.hours), yOf(p.value)) : doc.lineTo(xOf(p.hours), yOf(p.value))));
   doc.stroke();
@@ -371,20 +446,29 @@ export function qualificationReportPdf(data: QualificationReportData, signoffs: 
     const waivers = d.cells.filter((c) => c.waiver);
     const devLines = deviations(data);
     if (!waivers.length && !devLines.length) t('None.');
-    for (const c of waivers) t(`Waived: ${groupName(d.groups, c)} on lot ${c.lotCode} by ${c.waiver!.by} at ${formatUtc(new Date(c.waiver!.at))} - ${c.waiver!.reason}`);
+    for (const c of waivers)
+      t(
+        `Waived: ${groupName(d.groups, c)} on lot ${c.lotCode} by ${c.waiver!.by} at ${formatUtc(new Date(c.waiver!.at))} - ${c.waiver!.reason}`,
+      );
     for (const x of devLines) t(`Deviation: ${x}`);
     for (const c of d.cells.filter((x) => x.external))
-      t(`Outside result: ${groupName(d.groups, c)} on lot ${c.lotCode}: ${c.external!.result} - ${c.external!.by}, ${formatUtc(new Date(c.external!.at))}, document ${c.external!.document} (recorded by ${c.external!.recordedBy})`);
+      t(
+        `Outside result: ${groupName(d.groups, c)} on lot ${c.lotCode}: ${c.external!.result} - ${c.external!.by}, ${formatUtc(new Date(c.external!.at))}, document ${c.external!.document} (recorded by ${c.external!.recordedBy})`,
+      );
 
     heading(doc, t, 'Equipment used');
     const eq = equipment(data);
     if (!eq.length) t('No rig has run a cell yet.');
-    for (const e of eq) t(`${e.code} ${e.name}: calibration due ${e.calibrationDue}; interlocks last tested ${e.interlockTested}; runs ${e.runs.join(', ')}`);
+    for (const e of eq)
+      t(`${e.code} ${e.name}: calibration due ${e.calibrationDue}; interlocks last tested ${e.interlockTested}; runs ${e.runs.join(', ')}`);
 
     heading(doc, t, 'Reliability figures');
     const fits = d.cells.filter((c) => c.fit);
     if (!fits.length) t('No failure rate yet (no read point after time zero).');
-    for (const c of fits) t(`${groupName(d.groups, c)}, lot ${c.lotCode}: FIT ${fmt(c.fit!.fit60, 4)} at 60 %, ${fmt(c.fit!.fit90, 4)} at 90 % confidence - ${c.fit!.mechanismLabel}; ${c.fit!.method}`);
+    for (const c of fits)
+      t(
+        `${groupName(d.groups, c)}, lot ${c.lotCode}: FIT ${fmt(c.fit!.fit60, 4)} at 60 %, ${fmt(c.fit!.fit90, 4)} at 90 % confidence - ${c.fit!.mechanismLabel}; ${c.fit!.method}`,
+      );
 
     heading(doc, t, 'Signatures');
     const sigs = signatureLines(signoffs, data.lots);

@@ -33,14 +33,20 @@ export function qualificationsRoutes(ctx: AppContext): ApiRouter {
   r.get('/', { access: readers }, async () => ({ items: await svc.list() }));
   r.post('/', { access: editors, body: createQualificationSchema, status: 201 }, ({ user, body }) => svc.create(user, body));
   r.get('/:id', { access: readers, params: qualificationParamsSchema }, ({ params }) => svc.detail(params.id));
-  r.patch('/:id/cells/:cellId', { access: editors, params: qualificationCellParamsSchema, body: updateCellSchema }, ({ user, params, body }) =>
-    svc.updateCell(user, params.id, params.cellId, body),
+  r.patch(
+    '/:id/cells/:cellId',
+    { access: editors, params: qualificationCellParamsSchema, body: updateCellSchema },
+    ({ user, params, body }) => svc.updateCell(user, params.id, params.cellId, body),
   );
-  r.post('/:id/cells/:cellId/waiver', { access: editors, params: qualificationCellParamsSchema, body: waiveCellSchema }, ({ user, params, body }) =>
-    svc.waive(user, params.id, params.cellId, body),
+  r.post(
+    '/:id/cells/:cellId/waiver',
+    { access: editors, params: qualificationCellParamsSchema, body: waiveCellSchema },
+    ({ user, params, body }) => svc.waive(user, params.id, params.cellId, body),
   );
-  r.post('/:id/cells/:cellId/external', { access: editors, params: qualificationCellParamsSchema, body: externalResultSchema }, ({ user, params, body }) =>
-    svc.recordExternal(user, params.id, params.cellId, body),
+  r.post(
+    '/:id/cells/:cellId/external',
+    { access: editors, params: qualificationCellParamsSchema, body: externalResultSchema },
+    ({ user, params, body }) => svc.recordExternal(user, params.id, params.cellId, body),
   );
   r.get('/:id/report.csv', { access: readers, params: qualificationParamsSchema }, async ({ params, res }) => {
     const data = await svc.reportData(params.id);

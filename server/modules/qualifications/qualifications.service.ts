@@ -31,14 +31,7 @@ import {
 import { VERDICT_RANK } from '../../../shared/verdict/rules';
 import type { LotVerdict } from '../../../shared/domain/verdicts';
 import type { AppContext } from '../../context';
-import {
-  DeviceTypeEntity,
-  LotEntity,
-  QualificationCellEntity,
-  QualificationEntity,
-  StressPlanEntity,
-  UserEntity,
-} from '../../db/entities';
+import { DeviceTypeEntity, LotEntity, QualificationCellEntity, QualificationEntity, StressPlanEntity, UserEntity } from '../../db/entities';
 import { conflict, notFound, unprocessable } from '../../http/errors';
 import { loadSchedulingInputs } from '../runs/scheduling-data';
 import { lastCodeNumber, runsOnLots, type QualRunRow } from './qualifications.data';
@@ -75,7 +68,9 @@ export class QualificationsService {
       if (lots.length !== input.lotIds.length) throw unprocessable('A chosen lot was not found.');
       const foreign = lots.filter((l) => !input.deviceTypeIds.includes(l.deviceTypeId));
       if (foreign.length)
-        throw unprocessable(`Lot ${foreign.map((l) => l.code).join(', ')} is of a device type outside this qualification; choose its device type too or another lot.`);
+        throw unprocessable(
+          `Lot ${foreign.map((l) => l.code).join(', ')} is of a device type outside this qualification; choose its device type too or another lot.`,
+        );
       const n = (await lastCodeNumber(m, CODE_PREFIX)) + 1;
       const q = await m.save(
         m.create(QualificationEntity, {
@@ -100,7 +95,13 @@ export class QualificationsService {
           action: 'qualification.create',
           entity: 'qualification',
           entityId: q.id,
-          details: { code: q.code, template: template.key, deviceTypeIds: input.deviceTypeIds, lotIds: input.lotIds, familyRule: input.familyRule },
+          details: {
+            code: q.code,
+            template: template.key,
+            deviceTypeIds: input.deviceTypeIds,
+            lotIds: input.lotIds,
+            familyRule: input.familyRule,
+          },
         },
         m,
       );
@@ -141,7 +142,13 @@ export class QualificationsService {
           action: 'qualification.cell-update',
           entity: 'qualification',
           entityId: id,
-          details: { cellId, groupKey: cell.groupKey, lotId: cell.lotId, before: { plannedSample: cell.plannedSample, acceptNumber: cell.acceptNumber }, after: patch },
+          details: {
+            cellId,
+            groupKey: cell.groupKey,
+            lotId: cell.lotId,
+            before: { plannedSample: cell.plannedSample, acceptNumber: cell.acceptNumber },
+            after: patch,
+          },
         },
         m,
       );
@@ -153,9 +160,20 @@ export class QualificationsService {
     await this.ds.transaction(async (m) => {
       const cell = await this.cellOf(m, id, cellId);
       if (cell.waiverReason) throw conflict('The cell is already waived.');
-      await m.update(QualificationCellEntity, { id: cell.id }, { waiverReason: input.reason, waivedById: actor.id, waivedAt: this.ctx.now() });
+      await m.update(
+        QualificationCellEntity,
+        { id: cell.id },
+        { waiverReason: input.reason, waivedById: actor.id, waivedAt: this.ctx.now() },
+      );
       await this.ctx.audit.record(
-        { actor, action: 'qualification.cell-waive', entity: 'qualification', entityId: id, reason: input.reason, details: { cellId, groupKey: cell.groupKey, lotId: cell.lotId } },
+        {
+          actor,
+          action: 'qualification.cell-waive',
+          entity: 'qualification',
+          entityId: id,
+          reason: input.reason,
+          details: { cellId, groupKey: cell.groupKey, lotId: cell.lotId },
+        },
         m,
       );
     });
@@ -180,7 +198,13 @@ export class QualificationsService {
       await m.update(
         QualificationCellEntity,
         { id: cell.id },
-        { externalResult: input.result, externalBy: input.by, externalAt: at, externalDocument: input.document, externalRecordedById: actor.id },
+        {
+          externalResult: input.result,
+          externalBy: input.by,
+          externalAt: at,
+          externalDocument: input.document,
+          externalRecordedById: actor.id,
+        },
       );
       await this.ctx.audit.record(
         {
@@ -188,7 +212,15 @@ export class QualificationsService {
           action: 'qualification.cell-external',
           entity: 'qualification',
           entityId: id,
-          details: { cellId, groupKey: cell.groupKey, lotId: cell.lotId, result: input.result, by: input.by, at: at.toISOString(), document: input.document },
+          details: {
+            cellId,
+            groupKey: cell.groupKey,
+            lotId: cell.lotId,
+            result: input.result,
+            by: input.by,
+            at: at.toISOString(),
+            document: input.document,
+          },
         },
         m,
       );
@@ -260,9 +292,13 @@ export class QualificationsService {
         verdict,
         verdictReasons: worst?.reasons ?? [],
         sample: worst ? { booked: worst.sample.booked, judged: worst.sample.judged, failures: worst.sample.failures } : null,
-        fit: worst?.fit ? { fit60: worst.fit.fit60, fit90: worst.fit.fit90, mechanismLabel: worst.fit.mechanismLabel, method: worst.fit.method } : null,
+        fit: worst?.fit
+          ? { fit60: worst.fit.fit60, fit90: worst.fit.fit90, mechanismLabel: worst.fit.mechanismLabel, method: worst.fit.method }
+          : null,
         runs: runViews,
-        waiver: c.waiverReason ? { reason: c.waiverReason, by: users.get(c.waivedById ?? '') ?? 'unknown', at: c.waivedAt!.toISOString() } : null,
+        waiver: c.waiverReason
+          ? { reason: c.waiverReason, by: users.get(c.waivedById ?? '') ?? 'unknown', at: c.waivedAt!.toISOString() }
+          : null,
         external: c.externalResult
           ? {
               result: c.externalResult,
@@ -288,7 +324,12 @@ export class QualificationsService {
     ];
     const open = views.filter((v) => !CELL_DONE_STATES.includes(v.state) && v.state !== 'failed');
     const unprojected = open.filter((v) => v.projectedFinish === null);
-    const finish = open.length === 0 ? null : unprojected.length ? null : new Date(Math.max(...open.map((v) => Date.parse(v.projectedFinish!)))).toISOString();
+    const finish =
+      open.length === 0
+        ? null
+        : unprojected.length
+          ? null
+          : new Date(Math.max(...open.map((v) => Date.parse(v.projectedFinish!)))).toISOString();
     const projectionNote =
       open.length === 0
         ? null
@@ -340,10 +381,14 @@ export class QualificationsService {
   ): Promise<{ at: string | null; note: string | null }> {
     if (state === 'passed' || state === 'waived' || state === 'failed') return { at: null, note: null };
     if (c.planKind === null) return { at: null, note: 'An outside result is to be recorded.' };
-    if (state === 'awaiting-verdict') return { at: new Date(nowMs).toISOString(), note: 'Stress done; the verdict waits for readings or dispositions.' };
+    if (state === 'awaiting-verdict')
+      return { at: new Date(nowMs).toISOString(), note: 'Stress done; the verdict waits for readings or dispositions.' };
     const ends = runs.filter((r) => r.projectedEnd).map((r) => Date.parse(r.projectedEnd!));
     if (ends.length) return { at: new Date(Math.max(...ends)).toISOString(), note: 'Scheduled window of its runs.' };
-    const plan = await this.ds.manager.findOne(StressPlanEntity, { where: { deviceTypeId, kind: c.planKind as StressPlanEntity['kind'], current: true }, order: { createdAt: 'DESC' } });
+    const plan = await this.ds.manager.findOne(StressPlanEntity, {
+      where: { deviceTypeId, kind: c.planKind as StressPlanEntity['kind'], current: true },
+      order: { createdAt: 'DESC' },
+    });
     if (!plan) return { at: null, note: `No current plan of kind ${c.planKind} for this part yet.` };
     try {
       const p = await this.ctx.services.runs.propose({ planId: plan.id, lotIds: [c.lotId], sampleSize: c.plannedSample });
