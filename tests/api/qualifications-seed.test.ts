@@ -3,6 +3,7 @@
  * progress with its HTRB cells backed by the demo lots' runs, QUAL-002 complete with every cell
  * passed (runs or recorded outside results) or waived, and its lot verdict signed.
  */
+import * as fs from 'node:fs';
 import { SEED_STEPS } from '../../server/seed/seed';
 import type { QualificationDetail } from '../../shared/schemas/qualifications';
 import { createTestApp, type TestApp } from '../support/api';
@@ -58,4 +59,35 @@ it('QUAL-002 is complete: runs passed, outside results recorded, IOL waived, the
   const csv = await mgr.get(`/api/qualifications/${d.id}/report.csv`);
   expect(csv.status).toBe(200);
   expect(csv.text).toMatch(/Signature,"HG2606-K: approved by Henrik Aldous \(manager@harrowgate-lab\.example\)/);
+});
+
+it("QUAL-002's PDF report: a PDF of several pages (kept in .data/ with EMBERLOT_KEEP_REPORT=1, to look at with npm run pdf-pages)", async () => {
+  const d = await detail('QUAL-002');
+  const mgr = await t.signIn('manager');
+  const res = await mgr
+    .get(`/api/qualifications/${d.id}/report.pdf`)
+    .buffer(true)
+    .parse((r, cb) => {
+      const chunks: Buffer[] = [];
+      r.on('data', (c: Buffer) => chunks.push(c));
+      r.on('end', () => cb(null, Buffer.concat(chunks)));
+    });
+  expect(res.status).toBe(200);
+  const pdf: Buffer = res.body;
+  expect(pdf.subarray(0, 5).toString()).toBe('%PDF-');
+  expect((pdf.toString('latin1').match(/\/Type \/Page\b/g) ?? []).length).toBeGreaterThanOrEqual(2);
+  if (process.env.EMBERLOT_KEEP_REPORT === '1') {
+    fs.mkdirSync('.data', { recursive: true });
+    fs.writeFileSync('.data/qual-002-report.pdf', pdf);
+    const q1 = await detail('QUAL-001');
+    const r1 = await mgr
+      .get(`/api/qualifications/${q1.id}/report.pdf`)
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on('data', (c: Buffer) => chunks.push(c));
+        r.on('end', () => cb(null, Buffer.concat(chunks)));
+      });
+    fs.writeFileSync('.data/qual-001-report.pdf', r1.body);
+  }
 });

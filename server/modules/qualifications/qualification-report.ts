@@ -11,8 +11,11 @@ import { LOT_VERDICT_LABEL, type LotDetail } from '../../../shared/schemas/analy
 import type { LotSignoff } from '../../../shared/schemas/signoff';
 import type { QualCellView } from '../../../shared/schemas/qualifications';
 import { CELL_STATE_LABEL, QUAL_STATUS_LABEL, basisWords, type QualGroup } from '../../../shared/qualification/templates';
-import { csvLine, pdfText, type Cell } from '../analytics/lot-report';
+import { csvLine, pdfText as lotPdfText, type Cell } from '../analytics/lot-report';
 import { cellJudgement, type QualificationReportData } from './qualifications.service';
+
+/** The standard PDF fonts cover WinAnsi only: quotes, dashes and Δ spelled out before the lot report's own mapping. */
+const pdfText = (s: string) => lotPdfText(s.replace(/[’‘]/g, "'").replace(/[“”]/g, '"').replace(/[—–]/g, '-').replace(/Δ/g, 'delta '));
 
 const fmt = (v: number | null | undefined, digits = 3) =>
   v === null || v === undefined || !Number.isFinite(v) ? '-' : String(+v.toPrecision(digits));
@@ -416,7 +419,7 @@ export function qualificationReportPdf(data: QualificationReportData, signoffs: 
     t(`Device types: ${d.deviceTypes.map((x) => x.partNumber).join(', ')}. Lots: ${d.lots.map((l) => l.code).join(', ')}.`);
     if (d.familyRule) t(`Generic-data rule (family): ${d.familyRule}`);
     t(`Order of tests: ${d.sequence} ${basisWords(d.sequenceBasis)}`);
-    t(`Projected finish: ${when(d.projectedFinish)}${d.projectionNote ? ` - ${d.projectionNote}` : ''}`);
+    t(`Projected finish: ${d.projectedFinish ? when(d.projectedFinish) : 'none'}${d.projectionNote ? ` - ${d.projectionNote}` : ''}`);
 
     heading(doc, t, 'Matrix');
     writeMatrix(doc, data);
