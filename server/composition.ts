@@ -15,6 +15,8 @@ import { createEventBus } from './events';
 import { AnalyticsService } from './modules/analytics/analytics.service';
 import { ApprovalsService } from './modules/approvals/approvals.service';
 import { SignoffService } from './modules/signoff/signoff.service';
+import { ReportsService } from './modules/reports/reports.service';
+import { DeviceHistoryService } from './modules/device-history/device-history.service';
 import { QualificationsService } from './modules/qualifications/qualifications.service';
 import { AlarmsService } from './modules/alarms/alarms.service';
 import { AuditService } from './modules/audit/audit.service';
@@ -53,6 +55,8 @@ export interface Services {
   evidence: EvidenceService;
   approvals: ApprovalsService;
   signoff: SignoffService;
+  reports: ReportsService;
+  deviceHistory: DeviceHistoryService;
   runs: RunsService;
   qualifications: QualificationsService;
   rigs: RigsService;
@@ -103,18 +107,23 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
   const mail = new MailService(ctx, overrides.mail);
   const auth = new AuthService(ctx.ds, ctx.audit, now);
   const analytics = new AnalyticsService(ctx.ds);
+  const lots = new LotsService(ctx.ds, ctx.audit);
+  const measurements = new MeasurementsService(ctx.ds, ctx.audit, now);
+  const signoff = new SignoffService(ctx.ds, ctx.audit, auth, analytics, now);
   return {
     passport: new Passport(),
     auth,
     users: new UsersService(ctx.ds, ctx.audit),
     deviceTypes: new DeviceTypesService(ctx.ds, ctx.audit),
-    lots: new LotsService(ctx.ds, ctx.audit),
+    lots,
     plans: new PlansService(ctx.ds, ctx.audit, now),
-    measurements: new MeasurementsService(ctx.ds, ctx.audit, now),
+    measurements,
     analytics,
     evidence: new EvidenceService(ctx.ds, ctx.audit, now),
     approvals: new ApprovalsService(ctx.ds, ctx.audit, now),
-    signoff: new SignoffService(ctx.ds, ctx.audit, auth, analytics, now),
+    signoff,
+    reports: new ReportsService(ctx.ds, analytics, measurements, signoff, lots, now),
+    deviceHistory: new DeviceHistoryService(ctx.ds, measurements),
     runs: new RunsService(ctx),
     qualifications: new QualificationsService(ctx),
     rigs: new RigsService(ctx),

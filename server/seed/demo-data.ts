@@ -119,6 +119,10 @@ export const DEMO_LOTS: Array<{
   quantity: number;
   dateCode: string;
   notes: string;
+  /** Traceability (invented codes): wafer lot, assembly lot, die revision. */
+  waferLot: string;
+  assemblyLot: string;
+  dieRevision: string;
   hfeDriftPctPer1000h: number;
   leakageGrowthPer1000h: number;
 }> = [
@@ -127,7 +131,10 @@ export const DEMO_LOTS: Array<{
     partNumber: 'HPD-2N140',
     quantity: 2400,
     dateCode: '2611',
-    notes: 'Line 2, wafer lot W88',
+    notes: 'Line 2',
+    waferLot: 'W88',
+    assemblyLot: 'A2611-07',
+    dieRevision: 'C',
     hfeDriftPctPer1000h: -2.5,
     leakageGrowthPer1000h: 1.2,
   },
@@ -136,7 +143,10 @@ export const DEMO_LOTS: Array<{
     partNumber: 'HPD-2N140',
     quantity: 2400,
     dateCode: '2611',
-    notes: 'Line 2, wafer lot W91',
+    notes: 'Line 2',
+    waferLot: 'W91',
+    assemblyLot: 'A2611-09',
+    dieRevision: 'C',
     hfeDriftPctPer1000h: -3.0,
     leakageGrowthPer1000h: 1.3,
   },
@@ -146,6 +156,9 @@ export const DEMO_LOTS: Array<{
     quantity: 1800,
     dateCode: '2612',
     notes: 'New passivation recipe trial',
+    waferLot: 'W94',
+    assemblyLot: 'A2612-02',
+    dieRevision: 'D',
     hfeDriftPctPer1000h: -14,
     leakageGrowthPer1000h: 3.8,
   },
@@ -155,6 +168,9 @@ export const DEMO_LOTS: Array<{
     quantity: 3000,
     dateCode: '2609',
     notes: '',
+    waferLot: 'W72',
+    assemblyLot: 'A2609-04',
+    dieRevision: 'B',
     hfeDriftPctPer1000h: -1.8,
     leakageGrowthPer1000h: 1.1,
   },
@@ -164,6 +180,9 @@ export const DEMO_LOTS: Array<{
     quantity: 3000,
     dateCode: '2610',
     notes: '',
+    waferLot: 'W77',
+    assemblyLot: 'A2610-01',
+    dieRevision: 'B',
     hfeDriftPctPer1000h: -2.2,
     leakageGrowthPer1000h: 1.2,
   },
@@ -173,6 +192,9 @@ export const DEMO_LOTS: Array<{
     quantity: 1200,
     dateCode: '2608',
     notes: 'Customer qualification lot',
+    waferLot: 'W65',
+    assemblyLot: 'A2608-03',
+    dieRevision: 'A',
     hfeDriftPctPer1000h: -3.5,
     leakageGrowthPer1000h: 1.4,
   },
@@ -182,6 +204,9 @@ export const DEMO_LOTS: Array<{
     quantity: 1200,
     dateCode: '2612',
     notes: '',
+    waferLot: 'W96',
+    assemblyLot: 'A2612-05',
+    dieRevision: 'A',
     hfeDriftPctPer1000h: -4.0,
     leakageGrowthPer1000h: 1.5,
   },
@@ -191,6 +216,9 @@ export const DEMO_LOTS: Array<{
     quantity: 20000,
     dateCode: '2605',
     notes: 'Reel stock',
+    waferLot: 'W51',
+    assemblyLot: 'A2605-11',
+    dieRevision: 'E',
     hfeDriftPctPer1000h: -1.2,
     leakageGrowthPer1000h: 1.05,
   },

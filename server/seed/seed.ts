@@ -33,6 +33,9 @@ async function seedDevicesAndLots(ds: DataSource) {
       quantity: l.quantity,
       dateCode: l.dateCode,
       notes: l.notes,
+      waferLot: l.waferLot,
+      assemblyLot: l.assemblyLot,
+      dieRevision: l.dieRevision,
     });
     const prefix = l.code.slice(-1);
     const serials = Array.from({ length: DEMO_DEVICES_PER_LOT }, (_, i) => `${prefix}${String(i + 1).padStart(4, '0')}`);

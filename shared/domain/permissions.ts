@@ -43,6 +43,10 @@ export const PERMISSIONS = {
   'measurement.correct': ['engineer', 'operator'],
   'measurement.deviation': ['engineer'],
   'trends.read': ['admin', 'engineer', 'manager'],
+  // Reports (issue #22): the lot report for those who read trends; the certificate of conformance
+  // for the people who sign verdicts.
+  'report.lot': ['admin', 'engineer', 'manager'],
+  'report.certificate': ['engineer', 'manager'],
   'rig.read': ['admin', 'engineer', 'operator', 'manager'],
   'rig.manage': ['admin'],
   // The lab's hold temperatures (bias off, safe to open): admins, audited.

@@ -104,12 +104,35 @@ export const deviceTypeListQuerySchema = z.object({
 /** Most serials accepted in one request or file. */
 export const MAX_SERIALS_PER_REQUEST = 10000;
 
+/**
+ * Traceability codes (wafer lot, assembly lot, die revision): printable characters only, so they
+ * read the same on screens, in CSV and on a certificate; empty when not known.
+ */
+const traceCode = (label: string, max: number) =>
+  z
+    .string()
+    .trim()
+    .max(max, `${label}: at most ${max} characters`)
+    .regex(/^[\x20-\x7E]*$/, `${label}: letters, digits and ordinary punctuation only`);
+
+const waferLot = traceCode('Wafer lot', 40);
+const assemblyLot = traceCode('Assembly lot', 40);
+const dieRevision = traceCode('Die revision', 20);
+
+export const lotTraceabilitySchema = z.object({
+  waferLot: waferLot.default(''),
+  assemblyLot: assemblyLot.default(''),
+  dieRevision: dieRevision.default(''),
+});
+export type LotTraceability = z.infer<typeof lotTraceabilitySchema>;
+
 export const lotInputSchema = z.object({
   code: z.string().trim().min(1, 'Enter a lot code').max(40),
   deviceTypeId: z.string().uuid('Choose a device type'),
   quantity: z.number().int().positive().max(1_000_000),
   dateCode: z.string().trim().max(20).default(''),
   notes: z.string().trim().max(500).default(''),
+  ...lotTraceabilitySchema.shape,
   /**
    * Device serials; may be empty at creation and added later. Each serial is checked by the
    * server row by row (empty, too long, duplicate, already in the lot) so every bad row is
@@ -121,6 +144,20 @@ export const lotInputSchema = z.object({
     .default([]),
 });
 export type LotInput = z.infer<typeof lotInputSchema>;
+
+/** PATCH /api/lots/:id: the lot's descriptive fields (code, part and quantity stay as created). */
+export const lotPatchSchema = z
+  .object({
+    dateCode: z.string().trim().max(20),
+    notes: z.string().trim().max(500),
+    waferLot,
+    assemblyLot,
+    dieRevision,
+  })
+  .partial()
+  .strict()
+  .refine((v) => Object.keys(v).length > 0, { message: 'Nothing to change' });
+export type LotPatch = z.infer<typeof lotPatchSchema>;
 
 export const addSerialsSchema = z.object({
   serials: z
@@ -143,6 +180,9 @@ export interface Lot {
   quantity: number;
   dateCode: string;
   notes: string;
+  waferLot: string;
+  assemblyLot: string;
+  dieRevision: string;
   /** Serialised devices registered in the lot (the sample pulled for stress, not the whole lot). */
   deviceCount: number;
   createdAt: string;

@@ -7,7 +7,7 @@ import type { Criteria } from '../../shared/schemas/plans';
 import { looksLikeFormula, parseMeasurementCsv } from '../../server/modules/measurements/csv-rows';
 import { driftOfDevice, referredGain } from '../../server/modules/measurements/device-drift';
 import { fitFigures, lotCore, planFit, type LotCoreInput } from '../../server/modules/analytics/lot-analysis';
-import { csvCell } from '../../server/modules/analytics/lot-report';
+import { csvCell } from '../../server/modules/reports/csv';
 
 const criteria: Criteria = { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 };
 const gain = { referenceC: 27, xtb: 1.5 };

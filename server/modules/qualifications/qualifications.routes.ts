@@ -7,16 +7,16 @@ import {
   updateCellSchema,
   waiveCellSchema,
 } from '../../../shared/schemas/qualifications';
-import type { LotSignoff } from '../../../shared/schemas/signoff';
 import type { AppContext } from '../../context';
 import { ApiRouter, HANDLED } from '../../http/route';
+import type { LotReportData } from '../reports/report-data';
 import type { QualificationReportData } from './qualifications.service';
 import { qualificationReportCsv, qualificationReportPdf } from './qualification-report';
 
-/** The lot-verdict signatures of the lots behind the cells (server/modules/signoff), for the report. */
-async function lotSignoffs(ctx: AppContext, data: QualificationReportData): Promise<LotSignoff[]> {
-  const out: LotSignoff[] = [];
-  for (const lotId of data.lots.keys()) out.push(await ctx.services.signoff.forLot(lotId));
+/** The lot report's data (server/modules/reports) of each lot with runs, in the qualification's lot order. */
+async function lotReports(ctx: AppContext, data: QualificationReportData): Promise<LotReportData[]> {
+  const out: LotReportData[] = [];
+  for (const l of data.detail.lots) if (data.lots.has(l.id)) out.push(await ctx.services.reports.lotReportData(l.id));
   return out;
 }
 
@@ -50,7 +50,7 @@ export function qualificationsRoutes(ctx: AppContext): ApiRouter {
   );
   r.get('/:id/report.csv', { access: readers, params: qualificationParamsSchema }, async ({ params, res }) => {
     const data = await svc.reportData(params.id);
-    const signatures = await lotSignoffs(ctx, data);
+    const signatures = await lotReports(ctx, data);
     res.setHeader('Content-Type', 'text/csv; charset=utf-8');
     res.setHeader('Content-Disposition', `attachment; filename="qualification-${fileSafe(data.detail.code)}-report.csv"`);
     res.send(qualificationReportCsv(data, signatures, ctx.now()));
@@ -58,7 +58,7 @@ export function qualificationsRoutes(ctx: AppContext): ApiRouter {
   });
   r.get('/:id/report.pdf', { access: readers, params: qualificationParamsSchema }, async ({ params, res }) => {
     const data = await svc.reportData(params.id);
-    const signatures = await lotSignoffs(ctx, data);
+    const signatures = await lotReports(ctx, data);
     const pdf = await qualificationReportPdf(data, signatures, ctx.now());
     res.setHeader('Content-Type', 'application/pdf');
     res.setHeader('Content-Disposition', `attachment; filename="qualification-${fileSafe(data.detail.code)}-report.pdf"`);
