@@ -40,7 +40,10 @@ const ALL = [
 describe('destinations per role (from the product brief)', () => {
   test.each<[Role, string[]]>([
     ['operator', ['Floor', 'Alarms', 'Read points', 'Schedule']],
-    ['engineer', ['Floor', 'Alarms', 'Read points', 'Plans', 'Devices & lots', 'Schedule', 'Lot trends', 'Qualifications', 'Rigs', 'Approvals']],
+    [
+      'engineer',
+      ['Floor', 'Alarms', 'Read points', 'Plans', 'Devices & lots', 'Schedule', 'Lot trends', 'Qualifications', 'Rigs', 'Approvals'],
+    ],
     ['manager', ['Devices & lots', 'Schedule', 'Lot trends', 'Qualifications', 'Approvals', 'Audit log']],
     ['admin', ['Floor', 'Alarms', 'People', 'Mail log', 'Rigs', 'Approvals', 'Audit log']],
   ])('%s', (role, labels) => {
