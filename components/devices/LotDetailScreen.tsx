@@ -19,6 +19,8 @@ import { QueryState } from '@/components/ui/QueryState';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
 import { deviceHref } from './DevicesScreen';
+import { LotDownloads } from '@/components/trends/LotDownloads';
+import { LotTraceabilityCard } from './LotTraceabilityCard';
 import { CSV_HELP, FilePickButton, SERIAL_POLICY, SerialGrid, SerialPreview, SerialProblems } from './SerialInputs';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
@@ -55,7 +57,10 @@ export function LotDetailScreen() {
                 title={l.code}
                 subtitle={`${l.quantity.toLocaleString('en-GB')} devices in the lot · ${l.deviceCount.toLocaleString('en-GB')} serials registered${l.dateCode ? ` · date code ${l.dateCode}` : ''}`}
                 actions={
-                  <Button label={`Back to ${l.partNumber}`} variant="quiet" onPress={() => router.push(deviceHref(l.deviceTypeId))} />
+                  <View style={{ gap: space.xs }}>
+                    <Button label={`Back to ${l.partNumber}`} variant="quiet" onPress={() => router.push(deviceHref(l.deviceTypeId))} />
+                    <LotDownloads lotId={l.id} lotCode={l.code} />
+                  </View>
                 }
               />
               {l.notes ? (
@@ -63,8 +68,12 @@ export function LotDetailScreen() {
                   {l.notes}
                 </Banner>
               ) : null}
+              <LotTraceabilityCard lot={l} canWrite={canWrite} />
               {canWrite ? <AddSerials lot={l} /> : null}
-              <Card title="Serials" description={`Registered ${formatDateTime(l.createdAt)}. Sorted by serial.`}>
+              <Card
+                title="Serials"
+                description={`Registered ${formatDateTime(l.createdAt)}. Sorted by serial. Open a serial for the device's whole history.`}
+              >
                 {l.serials.length === 0 ? (
                   <EmptyState
                     title="No serials yet"

@@ -3,8 +3,10 @@
  * a reason), socket loading from a pasted column of serials with every flag shown before saving,
  * the socket map and the audit trail.
  */
+import { Link } from 'expo-router';
 import { useState } from 'react';
 import { View } from 'react-native';
+import { deviceHistoryHref } from '@/components/devices/device-history-href';
 import { formatDateTime } from '@/components/common/format';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
@@ -475,7 +477,22 @@ export function RunDetailScreen({ id }: { id: string }) {
   const may = (a: RunAction) => can(`run.${a}`);
   const socketColumns: Column<RunSocket>[] = [
     { key: 'socket', title: 'Socket', flex: 0.6, card: 'title', render: (s) => `Socket ${s.socket}` },
-    { key: 'serial', title: 'Serial', flex: 1, render: (s) => s.serial },
+    {
+      key: 'serial',
+      title: 'Serial',
+      flex: 1,
+      render: (s) => (
+        <Link
+          href={deviceHistoryHref(s.deviceId)}
+          accessibilityLabel={`History of device ${s.serial}`}
+          testID={`socket-device-${s.socket}`}
+        >
+          <Text variant="body" tone="info" style={{ textDecorationLine: 'underline' }}>
+            {s.serial}
+          </Text>
+        </Link>
+      ),
+    },
     { key: 'lot', title: 'Lot', flex: 1, render: (s) => s.lotCode },
     { key: 'hours', title: 'Hours', flex: 0.8, render: (s) => hours(s.accruedHours) },
     ...(query.data?.cycles ? [{ key: 'cycles', title: 'Cycles · last ΔTj', flex: 1.6, render: socketCyclesText }] : []),

@@ -26,5 +26,4 @@ export const icboRuleWords = (c: Pick<CriteriaNumbers, 'leakageMultiple' | 'leak
 export const vcesatRuleWords = (c: Pick<CriteriaNumbers, 'vcesatShiftV'>) => `shift ≤ ${sigFigures(c.vcesatShiftV * 1000)} mV`;
 
 /** All three on one line, for reports. */
-export const criteriaWords = (c: CriteriaNumbers) =>
-  `hFE ${hfeRuleWords(c)}; ICBO ${icboRuleWords(c)}; VCE(sat) ${vcesatRuleWords(c)}`;
+export const criteriaWords = (c: CriteriaNumbers) => `hFE ${hfeRuleWords(c)}; ICBO ${icboRuleWords(c)}; VCE(sat) ${vcesatRuleWords(c)}`;

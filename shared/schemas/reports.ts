@@ -8,4 +8,3 @@ import { z } from 'zod';
 
 export const reportLotParamsSchema = z.object({ lotId: z.string().uuid('Not a valid lot id') });
 export const reportQuerySchema = z.object({ runId: z.string().uuid('Not a valid run id').optional() }).strict();
-

@@ -285,6 +285,8 @@ export interface RunCycles {
 
 export interface RunSocket {
   socket: number;
+  /** The device in the socket (its history: /devices/units/:deviceId). */
+  deviceId: string;
   serial: string;
   lotCode: string;
   accruedHours: number;

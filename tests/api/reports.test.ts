@@ -64,10 +64,20 @@ beforeAll(async () => {
     );
     const mk = async (code: string, extra: Partial<Parameters<typeof insertHistoryRun>[1]> = {}) => {
       const lot = await m.save(
-        m.create(LotEntity, { code, deviceTypeId: type.id, quantity: 1000, notes: '', waferLot: 'W12', assemblyLot: 'A77-3', dieRevision: 'B' }),
+        m.create(LotEntity, {
+          code,
+          deviceTypeId: type.id,
+          quantity: 1000,
+          notes: '',
+          waferLot: 'W12',
+          assemblyLot: 'A77-3',
+          dieRevision: 'B',
+        }),
       );
       const devices = await m.save(
-        Array.from({ length: 20 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `${code.slice(-1)}${String(i + 1).padStart(4, '0')}` })),
+        Array.from({ length: 20 }, (_, i) =>
+          m.create(DeviceEntity, { lotId: lot.id, serial: `${code.slice(-1)}${String(i + 1).padStart(4, '0')}` }),
+        ),
       );
       const run = await insertHistoryRun(m, {
         code: `R-${code}`,
@@ -110,7 +120,7 @@ function csvRow(csv: string, title: string, first: string): string[] {
 }
 
 describe('lot report', () => {
-  it('PDF and CSV state the lot view\'s sample, failures, FIT and verdict, with the traceability fields', async () => {
+  it("PDF and CSV state the lot view's sample, failures, FIT and verdict, with the traceability fields", async () => {
     const mgr = await t.signIn('manager');
     const lot = (await mgr.get(`/api/analytics/lots/${ids['HG9701-F']}`)).body;
     expect(lot.verdict).toBe('failed');
@@ -209,7 +219,9 @@ describe('certificate of conformance', () => {
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
     // "Reviewed" is not an approval for release.
     const eng = await t.signIn('engineer');
-    expect((await eng.post(`/api/signoff/lots/${ids['HG9701-A']}`).send({ password: TEST_PASSWORD, meaning: 'reviewed' })).status).toBe(201);
+    expect((await eng.post(`/api/signoff/lots/${ids['HG9701-A']}`).send({ password: TEST_PASSWORD, meaning: 'reviewed' })).status).toBe(
+      201,
+    );
     expect((await mgr.get(`/api/reports/lots/${ids['HG9701-A']}/certificate.pdf`)).status).toBe(409);
     // Operators and admins cannot download one at all.
     expect((await (await t.signIn('operator')).get(`/api/reports/lots/${ids['HG9701-A']}/certificate.pdf`)).status).toBe(403);
@@ -231,7 +243,16 @@ describe('certificate of conformance', () => {
       const text = pdfText(bytes).replace(/\s+/g, ' ');
       expect(text).toContain('Certificate of conformance');
       expect(text).toContain(`EMB-COC-HG9701-A-${hash.slice(0, 12).toUpperCase()}`);
-      for (const s of ['HPD-R100', 'HG9701-A (1,000 devices)', 'W12', 'A77-3', 'HTRB report plan (version 1)', 'JESD22-A108; AEC-Q101 test table', 'Test manager', hash])
+      for (const s of [
+        'HPD-R100',
+        'HG9701-A (1,000 devices)',
+        'W12',
+        'A77-3',
+        'HTRB report plan (version 1)',
+        'JESD22-A108; AEC-Q101 test table',
+        'Test manager',
+        hash,
+      ])
         expect(text).toContain(s);
       expect(text).toContain('20 of 20 devices judged, 0 failed, accept number 0');
     }

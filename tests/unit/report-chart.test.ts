@@ -61,8 +61,23 @@ describe('clipping [Emberlot choice: an outlier may not flatten the other device
       xLabel: 'h',
       yLabel: '%',
       series: [
-        { label: 'A1', failed: false, points: [{ x: 0, y: 0 }, { x: 168, y: -0.5 }, { x: 1000, y: -3 }] },
-        { label: 'A2', failed: true, points: [{ x: 0, y: 0 }, { x: 1000, y: -250 }] },
+        {
+          label: 'A1',
+          failed: false,
+          points: [
+            { x: 0, y: 0 },
+            { x: 168, y: -0.5 },
+            { x: 1000, y: -3 },
+          ],
+        },
+        {
+          label: 'A2',
+          failed: true,
+          points: [
+            { x: 0, y: 0 },
+            { x: 1000, y: -250 },
+          ],
+        },
       ],
       limits: [
         { y: 15, label: '+15 %' },
@@ -109,7 +124,9 @@ describe('the ICBO rule in words agrees with the rule judged (shared/stats devic
   const c = { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 };
   it('says 2× initial or a 200 nA rise, whichever allows more (MIL-PRF-19500 delta limits as the plans state them; common practice)', () => {
     expect(icboRuleWords(c)).toBe('≤ 2× initial, or a rise of up to 200 nA (whichever allows more)');
-    expect(criteriaWords(c)).toBe('hFE within ± 15 % of time zero; ICBO ≤ 2× initial, or a rise of up to 200 nA (whichever allows more); VCE(sat) shift ≤ 50 mV');
+    expect(criteriaWords(c)).toBe(
+      'hFE within ± 15 % of time zero; ICBO ≤ 2× initial, or a rise of up to 200 nA (whichever allows more); VCE(sat) shift ≤ 50 mV',
+    );
   });
   it('at both edges of the words the judge agrees: 2× of 300 nA passes, a 200 nA rise from 50 nA passes, beyond either fails', () => {
     const judge = (i0: number, i: number) =>

@@ -22,7 +22,11 @@ export class DeviceHistoryService {
     const m = this.ds.manager;
     const [d] = await deviceWithLot(m, deviceId);
     if (!d) throw notFound('The device');
-    const [sockets, alarms, dispositions] = await Promise.all([deviceSockets(m, deviceId), deviceAlarms(m, deviceId), deviceDispositions(m, deviceId)]);
+    const [sockets, alarms, dispositions] = await Promise.all([
+      deviceSockets(m, deviceId),
+      deviceAlarms(m, deviceId),
+      deviceDispositions(m, deviceId),
+    ]);
     const stints: DeviceSocketStint[] = [];
     for (const s of sockets) {
       const drift = await this.measurements.drift(s.run_id);

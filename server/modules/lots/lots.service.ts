@@ -1,6 +1,13 @@
 import { ILike, In, type DataSource, type EntityManager } from 'typeorm';
 import type { SessionUser } from '../../../shared/schemas/auth';
-import { checkSerialRows, type Lot, type LotDetail, type LotInput, type LotPatch, type SerialRowProblem } from '../../../shared/schemas/devices';
+import {
+  checkSerialRows,
+  type Lot,
+  type LotDetail,
+  type LotInput,
+  type LotPatch,
+  type SerialRowProblem,
+} from '../../../shared/schemas/devices';
 import { DeviceEntity, DeviceTypeEntity, LotEntity } from '../../db/entities';
 import { AppError, conflict, notFound, unprocessable } from '../../http/errors';
 import type { AuditService } from '../audit/audit.service';
@@ -112,10 +119,7 @@ export class LotsService {
       }
       if (Object.keys(changes).length) {
         await m.update(LotEntity, { id }, Object.fromEntries(Object.entries(changes).map(([k, v]) => [k, v.to])));
-        await this.audit.record(
-          { actor, action: 'lot.update', entity: 'lot', entityId: id, details: { code: lot.code, changes } },
-          m,
-        );
+        await this.audit.record({ actor, action: 'lot.update', entity: 'lot', entityId: id, details: { code: lot.code, changes } }, m);
       }
       return this.get(id, m);
     });

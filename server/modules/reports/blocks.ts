@@ -118,7 +118,10 @@ export function writeDeviceTable(doc: Pdf, rows: readonly ReportDeviceRow[]): vo
     (i) => (rows[i].status === 'fail' ? ALERT : null),
   );
   doc.font(FONT.regular).fontSize(7.5).fillColor(MUTED);
-  para(doc, 'Drift columns: the latest read point of the run analysed; hFE change in %, ICBO as a ratio to time zero, VCE(sat) shift in mV.');
+  para(
+    doc,
+    'Drift columns: the latest read point of the run analysed; hFE change in %, ICBO as a ratio to time zero, VCE(sat) shift in mV.',
+  );
   doc.fillColor(INK).fontSize(9.5);
 }
 
@@ -129,16 +132,25 @@ export function writeSignatures(doc: Pdf, signatures: readonly ReportSignature[]
   }
   for (const s of signatures) {
     keepTogether(doc, 44);
-    doc.font(FONT.bold).fontSize(9.5).fillColor(s.stale ? MUTED : INK);
+    doc
+      .font(FONT.bold)
+      .fontSize(9.5)
+      .fillColor(s.stale ? MUTED : INK);
     para(doc, `${s.name} <${s.email}> - ${s.meaning}`);
     doc.font(FONT.regular).fontSize(8.5);
-    para(doc, `Signed ${formatUtc(s.signedAt)} for the verdict "${s.verdict}"${s.stale ? '; the data has changed since, so this signature no longer covers the verdict' : ''}.`);
+    para(
+      doc,
+      `Signed ${formatUtc(s.signedAt)} for the verdict "${s.verdict}"${s.stale ? '; the data has changed since, so this signature no longer covers the verdict' : ''}.`,
+    );
     doc.font(FONT.mono).fontSize(7.5);
     para(doc, `SHA-256 ${s.dataHash}`);
     doc.moveDown(0.3);
   }
   doc.font(FONT.regular).fontSize(7.5).fillColor(MUTED);
-  para(doc, `The judged evidence as it stands now hashes to SHA-256 ${currentHash} (canonical JSON; a signature covers the verdict when its hash is the same).`);
+  para(
+    doc,
+    `The judged evidence as it stands now hashes to SHA-256 ${currentHash} (canonical JSON; a signature covers the verdict when its hash is the same).`,
+  );
   doc.fillColor(INK).fontSize(9.5);
 }
 

@@ -35,7 +35,8 @@ export function certificateRefusal(d: Pick<LotReportData, 'lot' | 'verdict' | 'v
 }
 
 /** Current (not stale) signatures that approve a passed verdict for release. */
-const approvals = (s: readonly ReportSignature[]) => s.filter((x) => !x.stale && x.meaning === 'Approved for release' && x.verdict === 'Passed');
+const approvals = (s: readonly ReportSignature[]) =>
+  s.filter((x) => !x.stale && x.meaning === 'Approved for release' && x.verdict === 'Passed');
 
 /** A tag such as "[pub: JESD22-A108; AEC-Q101 test table]" in words. */
 export function sourceWords(tag: string | undefined): string {
@@ -129,7 +130,10 @@ export async function certificatePdf({ report: r, plans }: CertificateInput): Pr
       'A later change to the readings or dispositions changes the hash and withdraws this certificate until the verdict is signed again.',
   );
   doc.moveDown(0.4).fillColor(CAUTION_INK);
-  para(doc, 'Stress testing used high voltage and hot ovens; the rigs carry hardware interlocks, and the lab safety rules and local codes apply.');
+  para(
+    doc,
+    'Stress testing used high voltage and hot ovens; the rigs carry hardware interlocks, and the lab safety rules and local codes apply.',
+  );
   if (r.plans.some((p) => p.failures > p.acceptNumber)) {
     doc.fillColor(ALERT);
     para(doc, 'Check: a plan shows more failures than its accept number.');

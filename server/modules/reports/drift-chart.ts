@@ -29,7 +29,10 @@ export function driftChartLayout(chart: DriftChart) {
   const xs = chart.series.flatMap((s) => s.points.map((p) => p.x));
   const ys = chart.series.flatMap((s) => s.points.map((p) => p.y));
   const x = niceScale(0, Math.max(0, ...xs.filter(Number.isFinite)), 5);
-  const d = yDomain(ys, chart.limits.map((l) => l.y));
+  const d = yDomain(
+    ys,
+    chart.limits.map((l) => l.y),
+  );
   const y = niceScale(d.lo, d.hi, 6);
   return { x, y, beyond: d.beyond };
 }
@@ -49,9 +52,22 @@ export function drawDriftChart(doc: Pdf, box: Box, chart: DriftChart): void {
 
   // Grid, axes and tick labels.
   doc.lineWidth(0.4).strokeColor(RULE);
-  for (const t of ys.ticks) doc.moveTo(plot.x, py(t)).lineTo(plot.x + plot.w, py(t)).stroke();
-  for (const t of xs.ticks) doc.moveTo(px(t), plot.y).lineTo(px(t), plot.y + plot.h).stroke();
-  doc.lineWidth(0.9).strokeColor(INK).moveTo(plot.x, py(0)).lineTo(plot.x + plot.w, py(0)).stroke();
+  for (const t of ys.ticks)
+    doc
+      .moveTo(plot.x, py(t))
+      .lineTo(plot.x + plot.w, py(t))
+      .stroke();
+  for (const t of xs.ticks)
+    doc
+      .moveTo(px(t), plot.y)
+      .lineTo(px(t), plot.y + plot.h)
+      .stroke();
+  doc
+    .lineWidth(0.9)
+    .strokeColor(INK)
+    .moveTo(plot.x, py(0))
+    .lineTo(plot.x + plot.w, py(0))
+    .stroke();
   doc.rect(plot.x, plot.y, plot.w, plot.h).lineWidth(0.6).strokeColor(MUTED).stroke();
   doc.fillColor(MUTED);
   ys.ticks.forEach((t, i) => {
@@ -72,7 +88,14 @@ export function drawDriftChart(doc: Pdf, box: Box, chart: DriftChart): void {
   // Limits.
   for (const l of chart.limits) {
     if (l.y < ys.min || l.y > ys.max) continue;
-    doc.lineWidth(0.8).strokeColor(ALERT).dash(4, { space: 3 }).moveTo(plot.x, py(l.y)).lineTo(plot.x + plot.w, py(l.y)).stroke().undash();
+    doc
+      .lineWidth(0.8)
+      .strokeColor(ALERT)
+      .dash(4, { space: 3 })
+      .moveTo(plot.x, py(l.y))
+      .lineTo(plot.x + plot.w, py(l.y))
+      .stroke()
+      .undash();
     // Above a positive limit, below a negative one, but never outside the plot.
     const above = l.y >= 0 && py(l.y) - 9 >= plot.y;
     doc.fillColor(ALERT).text(pdfText(l.label), plot.x + 3, py(l.y) + (above ? -9 : 2), { lineBreak: false });
@@ -99,7 +122,11 @@ export function drawDriftChart(doc: Pdf, box: Box, chart: DriftChart): void {
       const Y = py(c.v);
       if (c.clipped) {
         const dir = p.y > ys.max ? -1 : 1;
-        doc.polygon([X - 3, Y - dir * 4], [X + 3, Y - dir * 4], [X, Y]).lineWidth(0.8).strokeColor(colour).stroke();
+        doc
+          .polygon([X - 3, Y - dir * 4], [X + 3, Y - dir * 4], [X, Y])
+          .lineWidth(0.8)
+          .strokeColor(colour)
+          .stroke();
       } else doc.circle(X, Y, s.failed ? 1.6 : 1.1).fill(colour);
     }
   }
@@ -107,12 +134,18 @@ export function drawDriftChart(doc: Pdf, box: Box, chart: DriftChart): void {
   const failed = chart.series.filter((s) => s.failed).length;
   const words = [
     `${chart.series.length} device${chart.series.length === 1 ? '' : 's'}${failed ? `, ${failed} failed (red)` : ''}; dashed lines are the plan's limits.`,
-    beyond ? `${beyond} reading${beyond === 1 ? ' lies' : 's lie'} beyond the axis and ${beyond === 1 ? 'is' : 'are'} drawn at its edge (open triangles).` : '',
+    beyond
+      ? `${beyond} reading${beyond === 1 ? ' lies' : 's lie'} beyond the axis and ${beyond === 1 ? 'is' : 'are'} drawn at its edge (open triangles).`
+      : '',
     chart.note ?? '',
   ]
     .filter(Boolean)
     .join(' ');
-  doc.font(FONT.regular).fontSize(7).fillColor(MUTED).text(pdfText(words), box.x, box.y + box.h - 6, { width: box.w });
+  doc
+    .font(FONT.regular)
+    .fontSize(7)
+    .fillColor(MUTED)
+    .text(pdfText(words), box.x, box.y + box.h - 6, { width: box.w });
   doc.restore();
   doc.x = doc.page.margins.left;
   doc.y = Math.max(doc.y, box.y + box.h + 4);

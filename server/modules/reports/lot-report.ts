@@ -230,7 +230,20 @@ function writeReportBlocksCsv(lines: string[], r: LotReportData) {
   };
   block(
     'Samples per plan',
-    ['Plan', 'Runs', 'Verdict', 'Planned', 'Booked', 'Judged', 'Removed', 'Failures', 'Accept number', 'Confidence', 'Plan LTPD', 'Demonstrated LTPD'],
+    [
+      'Plan',
+      'Runs',
+      'Verdict',
+      'Planned',
+      'Booked',
+      'Judged',
+      'Removed',
+      'Failures',
+      'Accept number',
+      'Confidence',
+      'Plan LTPD',
+      'Demonstrated LTPD',
+    ],
     r.plans.map((p) => [
       p.planName,
       p.runs.join(' + '),
@@ -253,7 +266,19 @@ function writeReportBlocksCsv(lines: string[], r: LotReportData) {
   );
   block(
     'Failure rate per mechanism',
-    ['Plan', 'Mechanism', 'Failures', 'Devices', 'Device-hours', 'Acceleration factor', 'Equivalent device-hours', 'FIT 60 %', 'FIT 90 %', 'Method', 'Unavailable'],
+    [
+      'Plan',
+      'Mechanism',
+      'Failures',
+      'Devices',
+      'Device-hours',
+      'Acceleration factor',
+      'Equivalent device-hours',
+      'FIT 60 %',
+      'FIT 90 %',
+      'Method',
+      'Unavailable',
+    ],
     r.reliability.map((x) => [
       x.planName,
       x.mechanism,
@@ -271,9 +296,24 @@ function writeReportBlocksCsv(lines: string[], r: LotReportData) {
   block(
     'Equipment',
     ['Run', 'State', 'Rig', 'Rig name', 'Sockets', 'Started', 'Finished', 'Calibrated', 'Calibration due', 'Interlocks tested'],
-    r.equipment.map((e) => [e.runCode, e.runState, e.rigCode, e.rigName, e.sockets, e.startedAt, e.finishedAt, e.calibrationDoneAt, e.calibrationDueAt, e.interlockTestedAt]),
+    r.equipment.map((e) => [
+      e.runCode,
+      e.runState,
+      e.rigCode,
+      e.rigName,
+      e.sockets,
+      e.startedAt,
+      e.finishedAt,
+      e.calibrationDoneAt,
+      e.calibrationDueAt,
+      e.interlockTestedAt,
+    ]),
   );
-  block('Deviations, dispositions and trips', ['Kind', 'What'], r.deviations.map((x) => [x.kind, x.text]));
+  block(
+    'Deviations, dispositions and trips',
+    ['Kind', 'What'],
+    r.deviations.map((x) => [x.kind, x.text]),
+  );
   block(
     'Signatures',
     ['Name', 'E-mail', 'Meaning', 'Verdict signed', 'Signed at', 'SHA-256 signed', 'Still covers the verdict'],
@@ -288,7 +328,10 @@ export async function lotReportPdf(r: LotReportData): Promise<Buffer> {
   doc.font(FONT.bold).fontSize(18);
   para(doc, `Lot ${r.lot.code} - reliability report`);
   doc.font(FONT.regular).fontSize(9).fillColor(MUTED);
-  para(doc, `${r.lot.partNumber}. Generated ${formatUtc(r.generatedAt)} by Emberlot.${r.run ? ` Drift from run ${r.run.code} (${r.run.state}).` : ''}`);
+  para(
+    doc,
+    `${r.lot.partNumber}. Generated ${formatUtc(r.generatedAt)} by Emberlot.${r.run ? ` Drift from run ${r.run.code} (${r.run.state}).` : ''}`,
+  );
   doc.fillColor('#000000');
   writeLotSection(doc, r);
   writeDriftTablePdf(doc, r.detail);

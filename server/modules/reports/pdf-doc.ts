@@ -157,12 +157,31 @@ export function table(doc: Pdf, columns: readonly Column[], rows: readonly strin
     const h = heightOf(cells, bold);
     if (doc.y + h > pageBottom(doc)) {
       doc.addPage();
-      if (!bold) draw(columns.map((c) => c.header), true, INK, false);
+      if (!bold)
+        draw(
+          columns.map((c) => c.header),
+          true,
+          INK,
+          false,
+        );
     }
     const y = doc.y;
-    if (shade) doc.save().rect(left, y, columns.reduce((s, c) => s + c.width, 0), h).fill('#f2f2f2').restore();
+    if (shade)
+      doc
+        .save()
+        .rect(
+          left,
+          y,
+          columns.reduce((s, c) => s + c.width, 0),
+          h,
+        )
+        .fill('#f2f2f2')
+        .restore();
     let x = left;
-    doc.font(bold ? FONT.bold : FONT.regular).fontSize(fontSize).fillColor(color);
+    doc
+      .font(bold ? FONT.bold : FONT.regular)
+      .fontSize(fontSize)
+      .fillColor(color);
     cells.forEach((c, i) => {
       doc.text(pdfText(c), x + pad, y + pad, { width: columns[i].width - 2 * pad, align: columns[i].align ?? 'left' });
       x += columns[i].width;
@@ -172,8 +191,19 @@ export function table(doc: Pdf, columns: readonly Column[], rows: readonly strin
       doc.save().moveTo(left, doc.y).lineTo(x, doc.y).lineWidth(0.6).strokeColor(RULE).stroke().restore();
     }
   };
-  keepTogether(doc, heightOf(columns.map((c) => c.header), true) + 16);
-  draw(columns.map((c) => c.header), true, INK, false);
+  keepTogether(
+    doc,
+    heightOf(
+      columns.map((c) => c.header),
+      true,
+    ) + 16,
+  );
+  draw(
+    columns.map((c) => c.header),
+    true,
+    INK,
+    false,
+  );
   rows.forEach((r, i) => draw(r, false, tone?.(i) ?? INK, i % 2 === 1));
   doc.x = left;
   doc.fillColor(INK).font(FONT.regular).fontSize(9.5);

@@ -31,7 +31,7 @@ const iso = (d: Date | string | null) => (d === null ? null : new Date(d).toISOS
 export function socketRanges(sockets: readonly number[]): string {
   const s = [...new Set(sockets)].sort((a, b) => a - b);
   const out: string[] = [];
-  for (let i = 0; i < s.length; ) {
+  for (let i = 0; i < s.length;) {
     let j = i;
     while (j + 1 < s.length && s[j + 1] === s[j] + 1) j++;
     out.push(i === j ? String(s[i]) : `${s[i]}-${s[j]}`);
@@ -65,8 +65,15 @@ export class ReportsService {
     const report = await this.lotReportData(lotId);
     const refusal = certificateRefusal(report);
     if (refusal) throw conflict(refusal);
-    const plans = await planConditions(this.ds.manager, report.plans.map((p) => p.planId));
-    return { lotCode: report.lot.code, number: certificateNumber(report.lot.code, report.evidenceHash), pdf: await certificatePdf({ report, plans }) };
+    const plans = await planConditions(
+      this.ds.manager,
+      report.plans.map((p) => p.planId),
+    );
+    return {
+      lotCode: report.lot.code,
+      number: certificateNumber(report.lot.code, report.evidenceHash),
+      pdf: await certificatePdf({ report, plans }),
+    };
   }
 
   /**
@@ -185,25 +192,25 @@ export class ReportsService {
           : null,
         reasons: p.reasons,
       })),
-      run: run ? { id: run.run_id, code: run.run_code, state: run.state, stressHours: d.run?.id === run.run_id ? d.run.stressHours : 0 } : d.run,
+      run: run
+        ? { id: run.run_id, code: run.run_code, state: run.state, stressHours: d.run?.id === run.run_id ? d.run.stressHours : 0 }
+        : d.run,
       readPoints: d.readPoints,
       charts: drift ? driftCharts(drift, lotId) : [],
       devices,
       reliability: reliabilityRows(d),
-      equipment: equipment.map(
-        (e): ReportEquipment => ({
-          runCode: e.run_code,
-          runState: e.state,
-          rigCode: e.rig_code,
-          rigName: e.rig_name,
-          sockets: socketRanges(e.sockets ?? []),
-          startedAt: iso(e.started_at),
-          finishedAt: iso(e.finished_at),
-          calibrationDoneAt: iso(e.calibration_done_at),
-          calibrationDueAt: iso(e.calibration_due_at),
-          interlockTestedAt: iso(e.interlock_tested_at),
-        }),
-      ),
+      equipment: equipment.map((e): ReportEquipment => ({
+        runCode: e.run_code,
+        runState: e.state,
+        rigCode: e.rig_code,
+        rigName: e.rig_name,
+        sockets: socketRanges(e.sockets ?? []),
+        startedAt: iso(e.started_at),
+        finishedAt: iso(e.finished_at),
+        calibrationDoneAt: iso(e.calibration_done_at),
+        calibrationDueAt: iso(e.calibration_due_at),
+        interlockTestedAt: iso(e.interlock_tested_at),
+      })),
       signatures: signoff.signatures.map((s) => ({
         name: s.signer.name,
         email: s.signer.email,
@@ -268,7 +275,10 @@ function reliabilityRows(d: LotDetail): ReportReliability[] {
 export function driftCharts(drift: RunDriftResult, lotId: string): DriftChart[] {
   const c = drift.criteria;
   const mine = drift.devices.filter((x) => x.lotId === lotId);
-  const series = (pick: (p: NonNullable<RunDriftResult['devices'][number]['readPoints'][number]['parameters']>[number]) => number | null, name: string) =>
+  const series = (
+    pick: (p: NonNullable<RunDriftResult['devices'][number]['readPoints'][number]['parameters']>[number]) => number | null,
+    name: string,
+  ) =>
     mine.map((x) => ({
       label: x.serial,
       failed: x.firstFailedH !== null,
@@ -297,7 +307,7 @@ export function driftCharts(drift: RunDriftResult, lotId: string): DriftChart[] 
       yLabel: 'ICBO / ICBO at time zero',
       series: series((p) => p.ratio, 'icbo'),
       limits: [{ y: c.leakageMultiple, label: `${c.leakageMultiple}x initial` }],
-      note: `A device may also rise by up to ${floorNa} nA, so one whose time-zero ICBO was below ${+(c.leakageFloorA / Math.max(c.leakageMultiple - 1, 1e-12) * 1e9).toPrecision(3)} nA can pass above the line.`,
+      note: `A device may also rise by up to ${floorNa} nA, so one whose time-zero ICBO was below ${+((c.leakageFloorA / Math.max(c.leakageMultiple - 1, 1e-12)) * 1e9).toPrecision(3)} nA can pass above the line.`,
     },
     {
       title: `VCE(sat) shift from time zero (run ${drift.runCode})`,

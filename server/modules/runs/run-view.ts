@@ -164,6 +164,7 @@ export async function runSockets(m: EntityManager, runId: string): Promise<RunSo
   const rows = await runSocketRows(m, runId);
   return rows.map((x) => ({
     socket: Number(x.socket),
+    deviceId: x.device_id,
     serial: x.serial,
     lotCode: x.lot,
     accruedHours: Number(x.hours),

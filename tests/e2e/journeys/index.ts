@@ -14,6 +14,7 @@ import { operatorCorrectReading } from './records';
 import { engineerTripReset } from './trip-reset';
 import { signoffApprovalsAudit } from './signoff';
 import { operatorStartPermit } from './start-permit';
+import { traceabilityReports } from './traceability';
 import { qualification } from './qualification';
 
 /**
@@ -40,6 +41,8 @@ export const JOURNEYS: Journey[] = [
   operatorCorrectReading,
   signoffApprovalsAudit,
   holdsReadPoint,
+  // Signs HG2609-D's verdict (approved for release) to download its certificate.
+  traceabilityReports,
   // Reads the demo qualifications (HG2612-C under stress) and makes one of its own: before the run started on OV-04.
   qualification,
   // Books and starts a run on OV-04 (idle in the demo): after every journey that reads the schedule.
