@@ -296,18 +296,7 @@ export class QualificationsService {
           ? { fit60: worst.fit.fit60, fit90: worst.fit.fit90, mechanismLabel: worst.fit.mechanismLabel, method: worst.fit.method }
           : null,
         runs: runViews,
-        waiver: c.waiverReason
-          ? { reason: c.waiverReason, by: users.get(c.waivedById ?? '') ?? 'unknown', at: c.waivedAt!.toISOString() }
-          : null,
-        external: c.externalResult
-          ? {
-              result: c.externalResult,
-              by: c.externalBy ?? '',
-              at: c.externalAt!.toISOString(),
-              document: c.externalDocument ?? '',
-              recordedBy: users.get(c.externalRecordedById ?? '') ?? 'unknown',
-            }
-          : null,
+        ...recordViews(c, users),
         projectedFinish: projection.at,
         projectionNote: projection.note,
       });
@@ -315,27 +304,7 @@ export class QualificationsService {
 
     const groups: QualGroup[] = q.groups;
     const { shortLots } = planMatrix({ ...QUAL_TEMPLATES[q.templateKey], groups }, q.lotIds);
-    const groupName = new Map(groups.map((g) => [g.key, g.name]));
-    const left = [
-      ...shortLots.map((s) => `${groupName.get(s.groupKey)}: needs ${s.wanted} lots, ${s.chosen} chosen.`),
-      ...views
-        .filter((v) => !CELL_DONE_STATES.includes(v.state))
-        .map((v) => `${groupName.get(v.groupKey)} on lot ${v.lotCode}: ${CELL_STATE_LABEL[v.state].toLowerCase()}.`),
-    ];
-    const open = views.filter((v) => !CELL_DONE_STATES.includes(v.state) && v.state !== 'failed');
-    const unprojected = open.filter((v) => v.projectedFinish === null);
-    const finish =
-      open.length === 0
-        ? null
-        : unprojected.length
-          ? null
-          : new Date(Math.max(...open.map((v) => Date.parse(v.projectedFinish!)))).toISOString();
-    const projectionNote =
-      open.length === 0
-        ? null
-        : unprojected.length
-          ? `No finish can be projected while ${unprojected.length} open cell${unprojected.length === 1 ? ' has' : 's have'} no booking or proposal.`
-          : 'Latest projected end of the open cells: booked runs at their scheduled windows, unbooked cells at the earliest proposal each (proposals are made one cell at a time, so cells competing for one rig may finish later).';
+    const { left, finish, projectionNote } = whatIsLeft(groups, shortLots, views);
 
     const status = qualificationStatus(
       views.map((v) => v.state),
@@ -399,6 +368,54 @@ export class QualificationsService {
       return { at: null, note: err instanceof Error ? err.message : 'No proposal.' };
     }
   }
+}
+
+/** A cell's waiver and outside result as the screens and the report show them (names, not ids). */
+function recordViews(c: QualificationCellEntity, users: Map<string, string>): Pick<QualCellView, 'waiver' | 'external'> {
+  return {
+    waiver: c.waiverReason
+      ? { reason: c.waiverReason, by: users.get(c.waivedById ?? '') ?? 'unknown', at: c.waivedAt!.toISOString() }
+      : null,
+    external: c.externalResult
+      ? {
+          result: c.externalResult,
+          by: c.externalBy ?? '',
+          at: c.externalAt!.toISOString(),
+          document: c.externalDocument ?? '',
+          recordedBy: users.get(c.externalRecordedById ?? '') ?? 'unknown',
+        }
+      : null,
+  };
+}
+
+/** What is left (missing lots, open cells) in words, and the latest projected finish of the open cells when each has one. */
+function whatIsLeft(
+  groups: QualGroup[],
+  shortLots: QualificationDetail['shortLots'],
+  views: QualCellView[],
+): { left: string[]; finish: string | null; projectionNote: string | null } {
+  const groupName = new Map(groups.map((g) => [g.key, g.name]));
+  const left = [
+    ...shortLots.map((s) => `${groupName.get(s.groupKey)}: needs ${s.wanted} lots, ${s.chosen} chosen.`),
+    ...views
+      .filter((v) => !CELL_DONE_STATES.includes(v.state))
+      .map((v) => `${groupName.get(v.groupKey)} on lot ${v.lotCode}: ${CELL_STATE_LABEL[v.state].toLowerCase()}.`),
+  ];
+  const open = views.filter((v) => !CELL_DONE_STATES.includes(v.state) && v.state !== 'failed');
+  if (open.length === 0) return { left, finish: null, projectionNote: null };
+  const unprojected = open.filter((v) => v.projectedFinish === null);
+  if (unprojected.length)
+    return {
+      left,
+      finish: null,
+      projectionNote: `No finish can be projected while ${unprojected.length} open cell${unprojected.length === 1 ? ' has' : 's have'} no booking or proposal.`,
+    };
+  return {
+    left,
+    finish: new Date(Math.max(...open.map((v) => Date.parse(v.projectedFinish!)))).toISOString(),
+    projectionNote:
+      'Latest projected end of the open cells: booked runs at their scheduled windows, unbooked cells at the earliest proposal each (proposals are made one cell at a time, so cells competing for one rig may finish later).',
+  };
 }
 
 /** The lot verdict's judgement of a cell's kind on its lot: the worst of the lot's plans of that kind (VERDICT_RANK, as judgeLot combines plans). */
