@@ -446,6 +446,25 @@ export interface CellFacts {
   runStates: readonly string[];
   /** The lot verdict's judgement of the plans of this kind on this lot (worst of them); null when none. */
   verdict: LotVerdict | null;
+  /** Devices judged and failures counted by that verdict, against the cell's own plan (sample, accept number). */
+  judged?: number | null;
+  failures?: number | null;
+  plannedSample?: number;
+  acceptNumber?: number;
+}
+
+/**
+ * Why a passed lot verdict does not yet satisfy the cell: the plan the lot was judged on may ask
+ * for fewer devices or accept more failures than the cell (the template's sample). The cell then
+ * waits for the engineer (more devices, a waiver, or a changed cell sample) — never a verdict of
+ * its own.
+ */
+export function cellShortfall(f: CellFacts): string | null {
+  if (f.judged != null && f.plannedSample !== undefined && f.judged < f.plannedSample)
+    return `The verdict judged ${f.judged} devices; this cell plans ${f.plannedSample}.`;
+  if (f.failures != null && f.acceptNumber !== undefined && f.failures > f.acceptNumber)
+    return `The verdict counted ${f.failures} failures; this cell accepts ${f.acceptNumber}.`;
+  return null;
 }
 
 const ON_RIG: ReadonlySet<string> = new Set(ON_RIG_STATES);
@@ -455,7 +474,8 @@ const ON_RIG: ReadonlySet<string> = new Set(ON_RIG_STATES);
  * says where the cell stands: a waiver stands over everything; a cell with no run of its kind
  * stands on a recorded outside result, if any; a failed lot verdict is final even
  * while runs go on (failures beyond the accept number cannot be undone by more hours); a pass
- * counts only when every run of the kind has finished.
+ * counts only when every run of the kind has finished and the verdict's sample meets the cell's
+ * (cellShortfall).
  */
 export function cellState(f: CellFacts): CellState {
   if (f.waived) return 'waived';
@@ -467,7 +487,7 @@ export function cellState(f: CellFacts): CellState {
   if (f.verdict === 'failed') return 'failed';
   if (live.some((s) => ON_RIG.has(s))) return 'under-stress';
   if (live.some((s) => s === 'booked')) return 'booked';
-  if (f.verdict === 'passed') return 'passed';
+  if (f.verdict === 'passed' && cellShortfall(f) === null) return 'passed';
   return 'awaiting-verdict';
 }
 

@@ -151,7 +151,9 @@ describe('create from a template', () => {
     const viewA: LotDetail = (await eng.get(`/api/analytics/lots/${ids['HG9801-A']}`)).body;
     const planA = viewA.plans.find((p) => p.kind === 'htrb')!;
     expect(planA.verdict).toBe('passed');
-    expect(a.state).toBe('passed');
+    // The lot passed its plan's 20 devices; the cell plans the template's 77: not passed yet (common practice).
+    expect(a.state).toBe('awaiting-verdict');
+    expect(a.verdictReasons[0]).toBe('The verdict judged 20 devices; this cell plans 77.');
     expect(a.verdict).toBe(planA.verdict);
     expect(a.sample).toEqual({ booked: planA.sample.booked, judged: planA.sample.judged, failures: planA.sample.failures });
     expect(a.runs.map((r) => r.code)).toEqual(['R-QA']);
@@ -267,7 +269,7 @@ describe('waivers and outside results', () => {
     expect((await eng.post(`/api/qualifications/${qual.id}/cells/${esd.id}/external`).send(body)).status).toBe(409);
   });
 
-  test('editing a cell: accept number below the sample', async () => {
+  test('editing a cell: accept number below the sample; the pass stands once the cell asks for the sample judged', async () => {
     const eng = await t.signIn('engineer');
     const cell = cellsOf(qual, 'htrb')[0];
     expect((await eng.patch(`/api/qualifications/${qual.id}/cells/${cell.id}`).send({ plannedSample: 5, acceptNumber: 5 })).status).toBe(
@@ -276,7 +278,12 @@ describe('waivers and outside results', () => {
     expect((await eng.patch(`/api/qualifications/${qual.id}/cells/${cell.id}`).send({})).status).toBe(400);
     const ok = await eng.patch(`/api/qualifications/${qual.id}/cells/${cell.id}`).send({ plannedSample: 20 });
     expect(ok.status).toBe(200);
-    expect(ok.body.cells.find((c: { id: string }) => c.id === cell.id).plannedSample).toBe(20);
+    const edited = ok.body.cells.find((c: { id: string }) => c.id === cell.id);
+    expect(edited.plannedSample).toBe(20);
+    // With the cell's sample at the 20 the lot was judged on, the lot verdict's pass stands.
+    expect(edited.state).toBe('passed');
+    const audit = await t.ctx.ds.getRepository(AuditLogEntity).findOneBy({ action: 'qualification.cell-update', entityId: qual.id });
+    expect(audit?.details).toMatchObject({ before: { plannedSample: 77 }, after: { plannedSample: 20 } });
   });
 });
 

@@ -9,6 +9,7 @@ import {
   QUAL_TEMPLATES,
   QUAL_TEMPLATE_KEYS,
   basisWords,
+  cellShortfall,
   cellState,
   groupOrder,
   planMatrix,
@@ -91,6 +92,21 @@ describe('cellState (common practice: a waiver stands over all; a pass needs eve
     ['one finished, one on the rig', { runStates: ['finished', 'read-hold'], verdict: 'passed' }, 'under-stress'],
     ['one finished, one booked', { runStates: ['finished', 'booked'], verdict: 'passed' }, 'booked'],
     ['finished, passed', { runStates: ['finished'], verdict: 'passed' }, 'passed'],
+    [
+      'passed on 77 of a planned 77',
+      { runStates: ['finished'], verdict: 'passed', judged: 77, plannedSample: 77, failures: 0, acceptNumber: 0 },
+      'passed',
+    ],
+    [
+      'passed on 45 of a planned 77: waits',
+      { runStates: ['finished'], verdict: 'passed', judged: 45, plannedSample: 77 },
+      'awaiting-verdict',
+    ],
+    [
+      'passed with 1 failure where the cell accepts 0: waits',
+      { runStates: ['finished'], verdict: 'passed', failures: 1, acceptNumber: 0 },
+      'awaiting-verdict',
+    ],
     ['finished, incomplete readings', { runStates: ['finished'], verdict: 'incomplete' }, 'awaiting-verdict'],
     ['finished, drifting', { runStates: ['finished'], verdict: 'drifting' }, 'awaiting-verdict'],
     ['failed while still stressing (failures beyond c are final)', { runStates: ['stressing'], verdict: 'failed' }, 'failed'],
@@ -115,4 +131,10 @@ describe('cellState (common practice: a waiver stands over all; a pass needs eve
     expect(qualificationStatus(['passed', 'failed'], 0)).toBe('failed');
     expect(qualificationStatus([], 0)).toBe('in-progress');
   });
+});
+
+test('cellShortfall words', () => {
+  expect(cellShortfall(facts({ judged: 45, plannedSample: 77 }))).toBe('The verdict judged 45 devices; this cell plans 77.');
+  expect(cellShortfall(facts({ failures: 2, acceptNumber: 1 }))).toBe('The verdict counted 2 failures; this cell accepts 1.');
+  expect(cellShortfall(facts({ judged: 77, plannedSample: 77, failures: 0, acceptNumber: 0 }))).toBeNull();
 });

@@ -23,7 +23,9 @@ import {
   CELL_STATE_LABEL,
   QUAL_TEMPLATES,
   QUAL_TEMPLATE_KEYS,
+  cellShortfall,
   cellState,
+  type CellFacts,
   planMatrix,
   qualificationStatus,
   type QualGroup,
@@ -263,13 +265,19 @@ export class QualificationsService {
       const cellRuns = c.planKind ? runs.filter((r) => r.lot_id === c.lotId && r.kind === c.planKind) : [];
       const worst = cellJudgement(lotPlans.get(c.lotId), c.planKind);
       const verdict: LotVerdict | null = worst?.verdict ?? null;
-      const state = cellState({
+      const facts: CellFacts = {
         waived: !!c.waiverReason,
         planKind: c.planKind,
         external: c.externalResult ? { result: c.externalResult } : null,
         runStates: cellRuns.map((r) => r.state),
         verdict,
-      });
+        judged: worst?.sample.judged ?? null,
+        failures: worst?.sample.failures ?? null,
+        plannedSample: c.plannedSample,
+        acceptNumber: c.acceptNumber,
+      };
+      const state = cellState(facts);
+      const shortfall = worst ? cellShortfall(facts) : null;
       const runViews: QualCellRun[] = cellRuns.map((r) => ({
         id: r.id,
         code: r.code,
@@ -290,7 +298,7 @@ export class QualificationsService {
         acceptNumber: c.acceptNumber,
         state,
         verdict,
-        verdictReasons: worst?.reasons ?? [],
+        verdictReasons: [...(shortfall ? [shortfall] : []), ...(worst?.reasons ?? [])],
         sample: worst ? { booked: worst.sample.booked, judged: worst.sample.judged, failures: worst.sample.failures } : null,
         fit: worst?.fit
           ? { fit60: worst.fit.fit60, fit90: worst.fit.fit90, mechanismLabel: worst.fit.mechanismLabel, method: worst.fit.method }
