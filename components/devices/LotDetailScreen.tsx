@@ -57,10 +57,7 @@ export function LotDetailScreen() {
                 title={l.code}
                 subtitle={`${l.quantity.toLocaleString('en-GB')} devices in the lot · ${l.deviceCount.toLocaleString('en-GB')} serials registered${l.dateCode ? ` · date code ${l.dateCode}` : ''}`}
                 actions={
-                  <View style={{ gap: space.xs }}>
-                    <Button label={`Back to ${l.partNumber}`} variant="quiet" onPress={() => router.push(deviceHref(l.deviceTypeId))} />
-                    <LotDownloads lotId={l.id} lotCode={l.code} />
-                  </View>
+                  <Button label={`Back to ${l.partNumber}`} variant="quiet" onPress={() => router.push(deviceHref(l.deviceTypeId))} />
                 }
               />
               {l.notes ? (
@@ -69,6 +66,7 @@ export function LotDetailScreen() {
                 </Banner>
               ) : null}
               <LotTraceabilityCard lot={l} canWrite={canWrite} />
+              <LotDownloads lotId={l.id} lotCode={l.code} />
               {canWrite ? <AddSerials lot={l} /> : null}
               <Card
                 title="Serials"

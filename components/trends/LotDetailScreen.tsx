@@ -195,8 +195,8 @@ export function LotDetailScreen() {
               eyebrow={`Lot · ${l.partNumber}`}
               title={l.lotCode}
               subtitle={l.plan ? `${l.plan.name}${l.run ? ` · run ${l.run.code}, ${l.run.state}` : ''}` : 'Not on a stress run yet'}
-              actions={<LotDownloads lotId={l.lotId} lotCode={l.lotCode} />}
             />
+            <LotDownloads lotId={l.lotId} lotCode={l.lotCode} />
             <Button
               size="sm"
               variant="quiet"

@@ -5,6 +5,7 @@ import { certificateUrl, lotReportUrl } from '@/components/queries/analytics';
 import { useCan } from '@/components/queries/auth';
 import { space } from '@/components/theme/tokens';
 import { Button } from '@/components/ui/Button';
+import { Card } from '@/components/ui/Card';
 import { Text } from '@/components/ui/Text';
 import { downloadChecked } from './exportReport';
 
@@ -26,7 +27,11 @@ export function LotDownloads({ lotId, lotCode }: { lotId: string; lotCode: strin
   };
   if (!can('report.lot') && !can('report.certificate')) return null;
   return (
-    <View style={{ gap: space.xs }}>
+    <Card
+      title="Reports"
+      description="The lot report (drift charts, devices and dispositions, FIT per mechanism, equipment, signatures) as PDF or CSV; the certificate of conformance once the lot has passed and its verdict is approved for release."
+      testID="lot-reports"
+    >
       <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
         {can('report.lot') ? (
           <>
@@ -67,6 +72,6 @@ export function LotDownloads({ lotId, lotCode }: { lotId: string; lotCode: strin
           {error}
         </Text>
       ) : null}
-    </View>
+    </Card>
   );
 }

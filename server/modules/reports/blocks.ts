@@ -142,7 +142,7 @@ export function writeSignatures(doc: Pdf, signatures: readonly ReportSignature[]
       doc,
       `Signed ${formatUtc(s.signedAt)} for the verdict "${s.verdict}"${s.stale ? '; the data has changed since, so this signature no longer covers the verdict' : ''}.`,
     );
-    doc.font(FONT.mono).fontSize(7.5);
+    doc.moveDown(0.2).font(FONT.mono).fontSize(7.5);
     para(doc, `SHA-256 ${s.dataHash}`);
     doc.moveDown(0.3);
   }

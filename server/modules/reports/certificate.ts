@@ -121,8 +121,9 @@ export async function certificatePdf({ report: r, plans }: CertificateInput): Pr
   );
   doc.moveDown(0.4).font(FONT.regular).fontSize(8.5).fillColor(INK);
   para(doc, 'The signatures are electronic (printed name, meaning and time of signing) and sign the SHA-256 of the judged evidence:');
-  doc.font(FONT.mono).fontSize(8.5);
+  doc.moveDown(0.25).font(FONT.mono).fontSize(8.5);
   para(doc, r.evidenceHash);
+  doc.moveDown(0.25);
   doc.font(FONT.regular).fontSize(7.5).fillColor(MUTED);
   para(
     doc,
