@@ -18,7 +18,7 @@ import { Field } from '@/components/ui/Field';
 import { QueryState } from '@/components/ui/QueryState';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
-import { deviceHref } from './DevicesScreen';
+import { deviceHref } from './links';
 import { LotDownloads } from '@/components/trends/LotDownloads';
 import { LotTraceabilityCard } from './LotTraceabilityCard';
 import { CSV_HELP, FilePickButton, SERIAL_POLICY, SerialGrid, SerialPreview, SerialProblems } from './SerialInputs';
