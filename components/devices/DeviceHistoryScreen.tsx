@@ -17,6 +17,7 @@ import { QueryState } from '@/components/ui/QueryState';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { sig } from './format';
+import { lotHref } from './links';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
@@ -126,7 +127,7 @@ function History({ h }: { h: DeviceHistoryView }) {
         eyebrow={`Device of lot ${h.lot.code} · ${h.lot.partNumber}`}
         title={h.serial}
         subtitle={`${h.sockets.length} run${h.sockets.length === 1 ? '' : 's'} · ${h.dispositions.length} disposition${h.dispositions.length === 1 ? '' : 's'} · ${h.alarms.length} alarm${h.alarms.length === 1 ? '' : 's'}`}
-        actions={<Button label={`Lot ${h.lot.code}`} variant="quiet" onPress={() => router.push(`/devices/lots/${h.lot.id}` as Href)} />}
+        actions={<Button label={`Lot ${h.lot.code}`} variant="quiet" onPress={() => router.push(lotHref(h.lot.id))} />}
       />
       <Card title="Lot and traceability" testID="device-traceability">
         <Text variant="body">{`Lot ${h.lot.code} of ${h.lot.partNumber}${h.lot.dateCode ? `, date code ${h.lot.dateCode}` : ''}`}</Text>

@@ -7,7 +7,7 @@ import { colors, radius, space } from '@/components/theme/tokens';
 import { Banner } from '@/components/ui/Banner';
 import { Button } from '@/components/ui/Button';
 import { StatusShape } from '@/components/ui/StatusShape';
-import { deviceHistoryHref } from './device-history-href';
+import { deviceHistoryHref } from './links';
 import { Text } from '@/components/ui/Text';
 
 /** How a serial list is accepted (shown beside every serial entry). */

@@ -21,7 +21,7 @@ import { RECORD_DEVIATION_LABEL, type RecordDeviationKind } from '@/shared/domai
 import type { ReadingVersion, StoredReading } from '@/shared/schemas/measurements';
 import { CorrectReadingForm } from '@/components/forms/LazyForms';
 import { readingText } from './reading-text';
-import { deviceHistoryHref } from '@/components/devices/device-history-href';
+import { deviceHistoryHref } from '@/components/devices/links';
 
 const deviationText = (kinds: RecordDeviationKind[]) => kinds.map((k) => RECORD_DEVIATION_LABEL[k]).join('; ');
 

@@ -6,7 +6,7 @@
 import { Link } from 'expo-router';
 import { useState } from 'react';
 import { View } from 'react-native';
-import { deviceHistoryHref } from '@/components/devices/device-history-href';
+import { deviceHistoryHref } from '@/components/devices/links';
 import { formatDateTime } from '@/components/common/format';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';

@@ -23,7 +23,7 @@ import type { DriftChart } from './drift-chart';
 import type { LotReportData, ReportDeviation, ReportDeviceRow, ReportEquipment, ReportReliability } from './report-data';
 import { certificateNumber, certificatePdf, certificateRefusal } from './certificate';
 import { lotReportCsv, lotReportPdf } from './lot-report';
-import { lotDispositions, lotEquipment, lotTrips, planConditions } from './reports.data';
+import { lotDispositions, lotEquipment, lotTrips, planConditions, type DispositionRow, type TripRow } from './reports.data';
 
 const iso = (d: Date | string | null) => (d === null ? null : new Date(d).toISOString());
 
@@ -96,64 +96,8 @@ export class ReportsService {
     const drift = chartRun ? await this.measurements.drift(chartRun) : null;
     const run = drift ? (equipment.find((e) => e.run_id === chartRun) ?? null) : null;
 
-    const dispositionText = new Map(
-      dispositions.map((x) => [
-        `${x.run_id}:${x.device_id}`,
-        `${DISPOSITION_LABEL[x.kind as DispositionKind] ?? x.kind} from ${+Number(x.read_point_h).toPrecision(6)} h: ${x.reason} (${x.by_name}, ${formatUtc(x.at)})`,
-      ]),
-    );
-    const latest = new Map(d.devices.map((x) => [x.deviceId, x]));
-    const devices: ReportDeviceRow[] = [];
-    const seen = new Set<string>();
-    for (const p of d.plans) {
-      for (const x of p.devices) {
-        const key = `${x.runId}:${x.deviceId}`;
-        if (seen.has(key)) continue;
-        seen.add(key);
-        const r = p.runs.find((y) => y.runId === x.runId);
-        const onAnalysed = d.run?.id === x.runId ? latest.get(x.deviceId) : undefined;
-        devices.push({
-          serial: x.serial,
-          runCode: r?.runCode ?? '',
-          rigCode: r?.rigCode ?? null,
-          socketIndex: x.socketIndex,
-          status: x.status,
-          failedAtH: x.failedAtH,
-          failedBecause: [...x.failedBecause, ...(x.removedBecause ? [x.removedBecause] : [])].join('; '),
-          latestH: onAnalysed?.latestH ?? null,
-          hfeChangePct: onAnalysed?.hfeChangePct ?? null,
-          icboRatio: onAnalysed?.icboRatio ?? null,
-          vcesatShiftMv: onAnalysed?.vcesatShiftMv ?? null,
-          disposition: dispositionText.get(key) ?? null,
-        });
-      }
-    }
-    devices.sort((a, b) => a.runCode.localeCompare(b.runCode) || a.socketIndex - b.socketIndex);
-
-    const deviations: ReportDeviation[] = [];
-    for (const p of d.plans) {
-      const dev = p.sample.deviation;
-      if (dev)
-        deviations.push({
-          kind: 'sample',
-          text: `${p.planName}: sample of ${dev.sampleSize} instead of ${p.sample.planned}: ${dev.reason} (${dev.by}, ${formatUtc(dev.at)})`,
-        });
-    }
-    for (const v of d.records.deviations)
-      deviations.push({
-        kind: 'record',
-        text: `${v.runCode} ${v.serial} at ${v.readPointH} h, version ${v.version}: ${v.deviation.map((k) => RECORD_DEVIATION_LABEL[k]).join('; ')}; reason: ${v.reason ?? ''} (${v.enteredByName ?? 'unknown'}, ${formatUtc(v.recordedAt)})`,
-      });
-    for (const x of dispositions)
-      deviations.push({
-        kind: 'disposition',
-        text: `${x.run_code} ${x.serial}: ${DISPOSITION_LABEL[x.kind as DispositionKind] ?? x.kind} from ${+Number(x.read_point_h).toPrecision(6)} h: ${x.reason} (${x.by_name}, ${formatUtc(x.at)})`,
-      });
-    for (const t of trips)
-      deviations.push({
-        kind: 'trip',
-        text: `${t.run_code} ${t.rig_code ?? ''} socket ${t.socket_index} (${t.serial}) tripped${t.tripped_at ? ` at ${formatUtc(t.tripped_at)}` : ''}: ${t.trip_reason ?? 'no reason recorded'}`,
-      });
+    const devices = deviceRows(d, dispositions);
+    const deviations = deviationRows(d, dispositions, trips);
 
     return {
       generatedAt: this.now(),
@@ -226,6 +170,75 @@ export class ReportsService {
       detail: d,
     };
   }
+}
+
+/** The devices every plan's verdict counts (each run and device once), with drift on the analysed run and dispositions. */
+function deviceRows(d: LotDetail, dispositions: DispositionRow[]): ReportDeviceRow[] {
+  const dispositionText = new Map(
+    dispositions.map((x) => [
+      `${x.run_id}:${x.device_id}`,
+      `${DISPOSITION_LABEL[x.kind as DispositionKind] ?? x.kind} from ${+Number(x.read_point_h).toPrecision(6)} h: ${x.reason} (${x.by_name}, ${formatUtc(x.at)})`,
+    ]),
+  );
+  const latest = new Map(d.devices.map((x) => [x.deviceId, x]));
+  const devices: ReportDeviceRow[] = [];
+  const seen = new Set<string>();
+  for (const p of d.plans) {
+    for (const x of p.devices) {
+      const key = `${x.runId}:${x.deviceId}`;
+      if (seen.has(key)) continue;
+      seen.add(key);
+      const r = p.runs.find((y) => y.runId === x.runId);
+      const onAnalysed = d.run?.id === x.runId ? latest.get(x.deviceId) : undefined;
+      devices.push({
+        serial: x.serial,
+        runCode: r?.runCode ?? '',
+        rigCode: r?.rigCode ?? null,
+        socketIndex: x.socketIndex,
+        status: x.status,
+        failedAtH: x.failedAtH,
+        failedBecause: [...x.failedBecause, ...(x.removedBecause ? [x.removedBecause] : [])].join('; '),
+        latestH: onAnalysed?.latestH ?? null,
+        hfeChangePct: onAnalysed?.hfeChangePct ?? null,
+        icboRatio: onAnalysed?.icboRatio ?? null,
+        vcesatShiftMv: onAnalysed?.vcesatShiftMv ?? null,
+        disposition: dispositionText.get(key) ?? null,
+      });
+    }
+  }
+  devices.sort((a, b) => a.runCode.localeCompare(b.runCode) || a.socketIndex - b.socketIndex);
+
+  return devices;
+}
+
+/** Sample deviations, record deviations, dispositions and trips, in that order. */
+function deviationRows(d: LotDetail, dispositions: DispositionRow[], trips: TripRow[]): ReportDeviation[] {
+  const deviations: ReportDeviation[] = [];
+  for (const p of d.plans) {
+    const dev = p.sample.deviation;
+    if (dev)
+      deviations.push({
+        kind: 'sample',
+        text: `${p.planName}: sample of ${dev.sampleSize} instead of ${p.sample.planned}: ${dev.reason} (${dev.by}, ${formatUtc(dev.at)})`,
+      });
+  }
+  for (const v of d.records.deviations)
+    deviations.push({
+      kind: 'record',
+      text: `${v.runCode} ${v.serial} at ${v.readPointH} h, version ${v.version}: ${v.deviation.map((k) => RECORD_DEVIATION_LABEL[k]).join('; ')}; reason: ${v.reason ?? ''} (${v.enteredByName ?? 'unknown'}, ${formatUtc(v.recordedAt)})`,
+    });
+  for (const x of dispositions)
+    deviations.push({
+      kind: 'disposition',
+      text: `${x.run_code} ${x.serial}: ${DISPOSITION_LABEL[x.kind as DispositionKind] ?? x.kind} from ${+Number(x.read_point_h).toPrecision(6)} h: ${x.reason} (${x.by_name}, ${formatUtc(x.at)})`,
+    });
+  for (const t of trips)
+    deviations.push({
+      kind: 'trip',
+      text: `${t.run_code} ${t.rig_code ?? ''} socket ${t.socket_index} (${t.serial}) tripped${t.tripped_at ? ` at ${formatUtc(t.tripped_at)}` : ''}: ${t.trip_reason ?? 'no reason recorded'}`,
+    });
+
+  return deviations;
 }
 
 /** FIT per plan (each plan stresses one mechanism), as the lot view computed it. */
