@@ -17,6 +17,7 @@ import { ApprovalsService } from './modules/approvals/approvals.service';
 import { SignoffService } from './modules/signoff/signoff.service';
 import { ReportsService } from './modules/reports/reports.service';
 import { DeviceHistoryService } from './modules/device-history/device-history.service';
+import { QualificationsService } from './modules/qualifications/qualifications.service';
 import { AlarmsService } from './modules/alarms/alarms.service';
 import { AuditService } from './modules/audit/audit.service';
 import { AuthService } from './modules/auth/auth.service';
@@ -59,6 +60,7 @@ export interface Services {
   reports: ReportsService;
   deviceHistory: DeviceHistoryService;
   runs: RunsService;
+  qualifications: QualificationsService;
   rigs: RigsService;
   labSettings: LabSettingsService;
   floor: FloorService;
@@ -127,6 +129,7 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     reports: new ReportsService(ctx.ds, analytics, measurements, signoff, lots, now),
     deviceHistory: new DeviceHistoryService(ctx.ds, measurements),
     runs: new RunsService(ctx),
+    qualifications: new QualificationsService(ctx),
     rigs: new RigsService(ctx),
     labSettings: new LabSettingsService(ctx),
     floor,

@@ -15,6 +15,7 @@ export type NavIconName =
   | 'approvals'
   | 'audit'
   | 'capacity'
+  | 'qualifications'
   | 'more'
   | 'account'
   | 'signout';
@@ -108,6 +109,12 @@ export function NavIcon({ name, color, size = 24, accent }: Props) {
         <>
           <Path d="M12 3l7 3v5.5c0 4.2-2.9 7.8-7 9.5-4.1-1.7-7-5.3-7-9.5V6z" {...s} />
           <Path d="M8.8 12.2l2.2 2.2 4.2-4.4" {...s} stroke={a} />
+        </>
+      ) : name === 'qualifications' ? (
+        <>
+          <Rect x={3.5} y={3.5} width={17} height={17} rx={2.5} {...s} />
+          <Path d="M3.5 9.5h17M3.5 15h17M9.5 3.5v17M15 3.5v17" {...s} />
+          <Path d="M16.2 17.6l1.3 1.3 2.2-2.4" {...s} stroke={a} />
         </>
       ) : name === 'audit' ? (
         <>

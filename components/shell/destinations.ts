@@ -19,6 +19,7 @@ export const DESTINATIONS: readonly Destination[] = [
   { path: '/devices', label: 'Devices & lots', icon: 'devices', permission: 'page.devices' },
   { path: '/schedule', label: 'Schedule', icon: 'schedule', permission: 'page.schedule' },
   { path: '/trends', label: 'Lot trends', icon: 'trends', permission: 'page.trends' },
+  { path: '/qualifications', label: 'Qualifications', icon: 'qualifications', permission: 'page.qualifications' },
   { path: '/people', label: 'People', icon: 'people', permission: 'page.people' },
   { path: '/mail', label: 'Mail log', icon: 'mail', permission: 'page.mail' },
   { path: '/rigs', label: 'Rigs', icon: 'rigs', permission: 'page.rigs' },

@@ -25,6 +25,7 @@ import { reportsRoutes } from './reports/reports.routes';
 import { deviceHistoryRoutes } from './device-history/device-history.routes';
 import { replanRoutes } from './replan/replan.routes';
 import { utilisationRoutes } from './utilisation/utilisation.routes';
+import { qualificationsRoutes } from './qualifications/qualifications.routes';
 
 /** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
 export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
@@ -53,6 +54,7 @@ export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
   deviceHistoryRoutes,
   replanRoutes,
   utilisationRoutes,
+  qualificationsRoutes,
 ];
 
 export function apiRouters(ctx: AppContext): ApiRouter[] {

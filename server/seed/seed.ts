@@ -6,6 +6,7 @@ import { DEMO_DEVICE_TYPES, DEMO_DEVICES_PER_LOT, DEMO_LOTS, DEMO_RIGS, DEMO_USE
 import { seedPlans } from './seed-plans';
 import { seedHistory } from './seed-history';
 import { seedRuns } from './seed-runs';
+import { seedQualifications } from './seed-qualifications';
 
 export interface SeedStep {
   name: string;
@@ -74,6 +75,7 @@ export const SEED_STEPS: SeedStep[] = [
   { name: 'stress plans', run: seedPlans },
   { name: 'measurement history', run: seedHistory },
   { name: 'live runs', run: (ds) => seedRuns(ds) },
+  { name: 'qualifications', run: seedQualifications },
 ];
 
 /** Seed only an empty database: a second `npm start` keeps whatever the lab did since. */

@@ -61,6 +61,9 @@ export const PERMISSIONS = {
   'override.decide': ['engineer', 'manager', 'admin'],
   // Signing a lot verdict (an electronic signature, 21 CFR Part 11 §11.50/§11.200).
   'verdict.sign': ['engineer', 'manager'],
+  // Qualifications (issue #22): engineers build and edit the matrix; managers read and download.
+  'qualification.read': ['engineer', 'manager', 'admin'],
+  'qualification.edit': ['engineer'],
   'audit.read': ['admin', 'manager'],
   // Re-planning after a rig drops out and the lab's utilisation (issue #26): engineers and managers
   // accept a proposal (audited); managers read the figures, engineers too.
@@ -79,6 +82,7 @@ export const PERMISSIONS = {
   'page.people': ['admin'],
   'page.approvals': ['engineer', 'manager', 'admin'],
   'page.audit': ['admin', 'manager'],
+  'page.qualifications': ['engineer', 'manager'],
   'page.mail': ['admin'],
   'page.rigs': ['admin', 'engineer'],
   'page.capacity': ['manager', 'engineer'],

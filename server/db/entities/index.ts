@@ -13,6 +13,7 @@ export * from './telemetry-cycle.entity';
 export * from './signoff.entity';
 export * from './lab-settings.entity';
 export * from './replan.entity';
+export * from './qualification.entity';
 
 import { UserEntity } from './user.entity';
 import { DeviceTypeEntity } from './device-type.entity';
@@ -38,6 +39,7 @@ import { ReplanProposalEntity } from './replan.entity';
 
 import { ChamberSampleEntity } from './chamber-sample.entity';
 export { ChamberSampleEntity };
+import { QualificationCellEntity, QualificationEntity } from './qualification.entity';
 
 export const ENTITIES = [
   UserEntity,
@@ -72,4 +74,6 @@ export const ENTITIES = [
   LabSettingsEntity,
   ReplanProposalEntity,
   ChamberSampleEntity,
+  QualificationEntity,
+  QualificationCellEntity,
 ];

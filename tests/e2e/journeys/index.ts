@@ -17,6 +17,7 @@ import { operatorStartPermit } from './start-permit';
 import { traceabilityReports } from './traceability';
 import { managerReplan } from './replan';
 import { managerCalendar } from './calendar';
+import { qualification } from './qualification';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -46,6 +47,8 @@ export const JOURNEYS: Journey[] = [
   traceabilityReports,
   // Reads the demo's due dates on the schedule and proposes (does not accept) a new order.
   managerCalendar,
+  // Reads the demo qualifications (HG2612-C under stress) and makes one of its own: before the run started on OV-04.
+  qualification,
   // Books and starts a run on OV-04 (idle in the demo): after every journey that reads the schedule.
   operatorStartPermit,
   // Books on OV-01 weeks ahead, puts it into maintenance and moves the run; cleans up after itself.
