@@ -61,7 +61,11 @@ export function RigRuns({ tile }: { tile: FloorTile }) {
         </View>
       ) : (
         <Text variant="body" testID="rig-run-now">
-          {upcoming.length ? 'Nothing on the rig yet; the next booking is below.' : runs.isLoading ? 'Loading runs…' : 'No run on this rig and none booked.'}
+          {upcoming.length
+            ? 'Nothing on the rig yet; the next booking is below.'
+            : runs.isLoading
+              ? 'Loading runs…'
+              : 'No run on this rig and none booked.'}
         </Text>
       )}
       {upcoming.length ? (

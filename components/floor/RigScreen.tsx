@@ -74,9 +74,7 @@ function SocketDetail({
           label="Current"
           value={s.iA === null ? '—' : Math.abs(s.iA) < 1e-3 ? `${(s.iA * 1e9).toPrecision(3)} nA` : `${(s.iA * 1e3).toPrecision(3)} mA`}
         />
-        {s.junction ? (
-          <Row label="Junction (estimated)" value={fmtC(s.junction.tjC)} testID="socket-junction" />
-        ) : null}
+        {s.junction ? <Row label="Junction (estimated)" value={fmtC(s.junction.tjC)} testID="socket-junction" /> : null}
         <Row label="Bias" value={s.tripped ? 'Tripped (latched off)' : s.caseC === null ? '—' : s.biasOn ? 'On' : 'Off'} />
         {s.tripReason ? <Row label="Trip reason" value={s.tripReason} /> : null}
         {s.cycles ? <Row label="Cycles" value={`${grouped(s.cycles.done)} / ${grouped(s.cycles.target)}`} /> : null}

@@ -157,9 +157,9 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
                   <Button size="sm" variant="quiet" label="Change columns" onPress={() => setEditColumns(true)} testID="edit-columns" />
                 </View>
               ) : null}
-              {!editColumns
-                ? null
-                : MEASUREMENT_COLUMNS.map((c) => {
+              {!editColumns ? null : (
+                <View style={{ gap: space.xs }} testID="column-mapping">
+                  {MEASUREMENT_COLUMNS.map((c) => {
                     const required = REQUIRED_COLUMNS.includes(c);
                     const h = choice[c];
                     return (
@@ -184,6 +184,8 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
                       />
                     );
                   })}
+                </View>
+              )}
             </View>
             {!editColumns && Object.keys(badUnits).length ? (
               <Banner tone="danger" title="Units the file does not state" testID="unit-problems">

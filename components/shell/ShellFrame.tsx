@@ -76,7 +76,9 @@ export function ShellFrame({ user, pathname, cover, children }: Props) {
         </View>
         {over}
       </View>
-      {!gtTablet && user ? <TabBar tabs={tabs} isActive={active} moreActive={moreActive} onMore={() => setMoreOpen(true)} badges={badges} /> : null}
+      {!gtTablet && user ? (
+        <TabBar tabs={tabs} isActive={active} moreActive={moreActive} onMore={() => setMoreOpen(true)} badges={badges} />
+      ) : null}
       {!gtTablet && user ? (
         <MoreSheet
           visible={moreOpen}

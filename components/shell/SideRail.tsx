@@ -14,7 +14,19 @@ const RAIL_WIDTH = 256;
 const railInk = '#E9E2D6';
 const railMuted = '#B4AB9D';
 
-function RailLink({ path, label, icon, active, count }: { path: string; label: string; icon: NavIconName; active: boolean; count?: number }) {
+function RailLink({
+  path,
+  label,
+  icon,
+  active,
+  count,
+}: {
+  path: string;
+  label: string;
+  icon: NavIconName;
+  active: boolean;
+  count?: number;
+}) {
   // Link asChild spreads the child's style into an object: it must be one flat object, not an array or a function.
   const [hovered, setHovered] = useState(false);
   const [focused, setFocused] = useState(false);
@@ -84,14 +96,7 @@ export function SideRail({ user, destinations, pathname, onSignOut, signingOut, 
       </View>
       <View style={{ gap: space.xxs, flex: 1 }}>
         {destinations.map((d) => (
-          <RailLink
-            key={d.path}
-            path={d.path}
-            label={d.label}
-            icon={d.icon}
-            active={isActive(pathname, d.path)}
-            count={badges[d.path]}
-          />
+          <RailLink key={d.path} path={d.path} label={d.label} icon={d.icon} active={isActive(pathname, d.path)} count={badges[d.path]} />
         ))}
       </View>
       <View style={{ gap: space.xs, borderTopWidth: 1, borderTopColor: '#46413A', paddingTop: space.md }}>

@@ -109,12 +109,14 @@ export function templateCsv(): string {
  * (OPEN), the optional columns left out. Serials are the demo lab's invented ones.
  */
 export function exampleCsv(): string {
-  return [
-    'serial,hfe,IC (mA),VCE (V),ICBO [nA],VCB (V),VCE(sat)/mV,temp_c,result',
-    'H0001,72.1,1000,5,35,80,420,25,',
-    'H0002,70.3,1000,5,41,80,450,25,',
-    'H0003,,,,,,,25,OPEN',
-  ].join('\n') + '\n';
+  return (
+    [
+      'serial,hfe,IC (mA),VCE (V),ICBO [nA],VCB (V),VCE(sat)/mV,temp_c,result',
+      'H0001,72.1,1000,5,35,80,420,25,',
+      'H0002,70.3,1000,5,41,80,450,25,',
+      'H0003,,,,,,,25,OPEN',
+    ].join('\n') + '\n'
+  );
 }
 
 /** Header base names (after normaliseHeader) that name our columns once the unit is taken off. */
@@ -135,8 +137,8 @@ const UNIT_WORDS: Record<string, MeasurementUnit> = {
   pa: 'pA',
   na: 'nA',
   ua: 'uA',
-  'µa': 'uA',
-  'μa': 'uA',
+  µa: 'uA',
+  μa: 'uA',
   ma: 'mA',
   a: 'A',
   mv: 'mV',

@@ -30,7 +30,17 @@ import { notFound } from '../../http/errors';
 import { ALARM_EVENT, RUN_EVENT } from '../../events';
 import { runCycleTarget, socketCyclesOfRun } from '../runs/cycles.data';
 import { HOLD_PHASES, type HoldPhase } from '../../../shared/holds/sequence';
-import { boardRows, chartRows, holdStepRows, hottestSockets, newestBatchTs, readTileRows, rigIdRows, type BoardRow, type TileRow } from './floor.data';
+import {
+  boardRows,
+  chartRows,
+  holdStepRows,
+  hottestSockets,
+  newestBatchTs,
+  readTileRows,
+  rigIdRows,
+  type BoardRow,
+  type TileRow,
+} from './floor.data';
 import { junctionOf } from '../runs/stress-segments';
 
 const round = (n: number, d = 2) => Math.round(n * 10 ** d) / 10 ** d;

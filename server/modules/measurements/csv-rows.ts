@@ -208,7 +208,8 @@ function checkRanges(n: ReturnType<typeof rowNumbers>, units: ColumnUnits, reaso
   if (icboA !== null && icboA < 0) {
     reasons.push(`Negative leakage: ICBO ${inUnit(icboA, units.icbo_a)} is below zero.`);
   }
-  if (icboA !== null && icboA > 1) reasons.push(`ICBO ${inUnit(icboA, units.icbo_a)} is above 1 A, not a leakage reading; check the unit in the header.`);
+  if (icboA !== null && icboA > 1)
+    reasons.push(`ICBO ${inUnit(icboA, units.icbo_a)} is above 1 A, not a leakage reading; check the unit in the header.`);
   if (icboVcbV !== null && !(icboVcbV > 0)) reasons.push('The ICBO test voltage must be above 0 V.');
   if (vcesatV !== null && (vcesatV < 0 || vcesatV > 100)) reasons.push(`VCE(sat) ${inUnit(vcesatV, units.vcesat_v)} is outside 0–100 V.`);
   if (bvceoV !== null && !(bvceoV > 0)) reasons.push('BVCEO must be above 0 V.');

@@ -14,6 +14,7 @@ import { operatorCorrectReading } from './records';
 import { engineerTripReset } from './trip-reset';
 import { signoffApprovalsAudit } from './signoff';
 import { operatorStartPermit } from './start-permit';
+import { workingDay } from './working-day';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -39,6 +40,8 @@ export const JOURNEYS: Journey[] = [
   operatorCorrectReading,
   signoffApprovalsAudit,
   holdsReadPoint,
+  // Reads the demo bookings (OV-02, OV-06) and previews files only: before the start-permit journey books OV-04.
+  workingDay,
   // Books and starts a run on OV-04 (idle in the demo): after every journey that reads the schedule.
   operatorStartPermit,
   adminRigs,
