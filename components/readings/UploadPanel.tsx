@@ -165,7 +165,7 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
                     return (
                       <ColumnSelect
                         key={c}
-                        label={`${COLUMN_LABEL[c]}${required ? '' : ' (optional)'}`}
+                        label={`${COLUMN_LABEL[c].replace(/ \(.{5,}\)$/, '')}${required ? '' : ' (optional)'}`}
                         options={[{ value: NONE, label: 'Not in file' }, ...headers.map((x) => ({ value: x, label: x }))]}
                         value={h ?? NONE}
                         onChange={(v) => {

@@ -137,7 +137,8 @@ export const operatorFloor: Journey = {
       .slice(0, 3);
     if (serials.length < 3) throw new Error('OV-03 has fewer than three loaded sockets');
     const csv = [
-      'serial,hfe,hfe_ic_a,hfe_vce_v,icbo_a,icbo_vcb_v,vcesat_v',
+      // Units in the headers (issue #23 item 4): ICBO in nA, the rest in A and V.
+      'serial,hfe,hfe_ic_a,hfe_vce_v,icbo_na,icbo_vcb_v,vcesat_v',
       `${serials[0]},72.1,1,5,35,80,0.42`,
       `${serials[1]},70.3,1,5,41,80,0.45`,
       `${serials[2]},abc,1,5,38,80,0.44`,

@@ -139,7 +139,9 @@ export const workingDay: Journey = {
     await expect(page.getByLabel('Serials', { exact: true })).toBeVisible();
 
     // --- Operator: a socket's estimated junction, with how it was estimated ----------------
+    // Fresh stacks: the simulated rig may need a minute to connect and report.
     await page.goto(`${j.baseUrl}/floor/OV-03`);
+    await expect(page.getByRole('button', { name: /^Socket 2, D\d{4}, case -?\d+\.\d °C/ })).toBeVisible(90000);
     await page.getByRole('button', { name: /^Socket 2, / }).click();
     const detail = page.getByTestId('socket-detail');
     await expect(detail).toContainText(/Junction \(estimated\)\s+-?\d+\.\d °C/, 20000);
