@@ -35,7 +35,7 @@ const SEVERITY_CHOICES = [
 ];
 
 /** The confirmation after acknowledging: who, when (the server's record) and which alarm. */
-export function acknowledgedText(a: Alarm): string {
+export function acknowledgedText(a: Pick<Alarm, 'title' | 'acknowledgedBy' | 'acknowledgedAt'>): string {
   const who = a.acknowledgedBy?.name ?? 'you';
   const when = a.acknowledgedAt ? ` on ${formatDateTime(a.acknowledgedAt)}` : '';
   return `Acknowledged by ${who}${when}: ${a.title}.`;

@@ -29,7 +29,10 @@ export function RunLink({ run }: { run: { id: string; code: string } }) {
 }
 
 /** Booked runs on the rig by planned start (the soonest first); the run on the rig is the tile's. */
-export function upcomingOnRig(runs: readonly Run[], currentId: string | null): Run[] {
+export function upcomingOnRig<R extends Pick<Run, 'id' | 'code' | 'state' | 'scheduledStart'>>(
+  runs: readonly R[],
+  currentId: string | null,
+): R[] {
   return runs
     .filter((r) => r.state === 'booked' && r.id !== currentId)
     .sort((a, b) => (a.scheduledStart ?? '').localeCompare(b.scheduledStart ?? '') || a.code.localeCompare(b.code));

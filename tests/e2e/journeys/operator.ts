@@ -118,7 +118,9 @@ export const operatorFloor: Journey = {
     await expect(page.getByRole('dialog')).toHaveCount(0, 15000);
     // The confirmation says who and when; the alarm leaves the open list at once.
     const ackNotice = page.getByTestId('alarm-ack-notice');
-    await expect(ackNotice).toContainText(new RegExp(`^Acknowledged by Priya Castell on \\d{4}-\\d{2}-\\d{2} \\d{2}:\\d{2}: ${alarmTitle.replace(/[().+]/g, '\\$&')}\\.`));
+    await expect(ackNotice).toContainText(
+      new RegExp(`^Acknowledged by Priya Castell on \\d{4}-\\d{2}-\\d{2} \\d{2}:\\d{2}: ${alarmTitle.replace(/[().+]/g, '\\$&')}\\.`),
+    );
     await expect(page.getByRole('button', { name: `Acknowledge ${alarmTitle}`, exact: true })).toHaveCount(0, 10000);
     // It now sits under "Acknowledged" with the note and who wrote it.
     await page.getByRole('radio', { name: 'Acknowledged', exact: true }).click();
