@@ -73,6 +73,10 @@ const jsonField = <T extends z.ZodType>(schema: T) =>
 /** Text fields of the multipart upload (besides `file`). */
 export const uploadFieldsSchema = z.object({
   mapping: jsonField(columnMappingSchema.default({})),
+  /** Refused: each column's unit is read from its header, so a unit chosen beside the file could only disagree with it. */
+  units: z
+    .never({ message: 'Units are read from the file’s column headers, e.g. "IC (mA)" or "ICBO [nA]"; do not send them separately' })
+    .optional(),
   /** Temperature assumed for rows without temp_c. */
   defaultTempC: z.coerce.number().finite().min(-65).max(300).default(25),
   /** Why this file replaces stored values (needed when it does; shared/domain/records.ts). */

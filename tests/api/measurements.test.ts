@@ -278,14 +278,17 @@ describe('measurement upload', () => {
     expect(v.vcesatV).toBeCloseTo(0.225, 12);
   });
 
-  it('a header without a unit refuses the file (422) naming the column; units sent beside the file are not used', async () => {
+  it('a header without a unit refuses the file (422) naming the column; units sent beside the file are refused (400)', async () => {
     const op = await t.signIn('operator');
     const before = await tableCounts(t.ctx.ds);
     const file = ['serial,hfe,IC,VCE (V),ICBO [nA],VCB (V),VCE(sat)/V', 'A010,117,0.15,5,22.5,112,0.2'].join('\n');
-    const res = await op
+    const sideUnits = await op
       .post(uploadPath(168))
       .field('units', JSON.stringify({ icbo: 'nA', hfeIc: 'A', vcesat: 'V' }))
       .attach('file', Buffer.from(file), 'no-unit.csv');
+    expect(sideUnits.status).toBe(400);
+    expect(sideUnits.body.error.fields.units[0]).toMatch(/^Units are read from the file’s column headers/);
+    const res = await op.post(uploadPath(168)).attach('file', Buffer.from(file), 'no-unit.csv');
     expect(res.status).toBe(422);
     expect(res.body.error.message).toBe(
       'The file\'s units cannot be read; nothing was checked. Column "IC" (IC for hFE) states no unit; write it in the header, e.g. "IC (A)" (pA, nA, µA, mA, A).',

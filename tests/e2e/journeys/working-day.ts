@@ -6,14 +6,15 @@ import type { Journey } from '../harness';
 
 /** Nothing wider than the window, and the element's box inside it (issue #23 item 1). */
 async function assertFitsViewport(page: Page, what: string, boxes: Array<{ name: string; locator: ReturnType<Page['locator']> }>) {
-  const { scrollWidth, innerWidth, offenders } = await page.evaluate(() => {
+  // A string, not a function: the node-side type-check has no DOM library.
+  const { scrollWidth, innerWidth, offenders } = (await page.evaluate(`(() => {
     const w = window.innerWidth;
     const wide = Array.from(document.querySelectorAll('body *'))
       .filter((e) => e.getBoundingClientRect().right > w + 1 && e.getBoundingClientRect().width > 0)
       .slice(-3)
-      .map((e) => `${e.tagName.toLowerCase()}[${(e.textContent ?? '').slice(0, 40)}] right=${Math.round(e.getBoundingClientRect().right)}`);
+      .map((e) => e.tagName.toLowerCase() + '[' + (e.textContent || '').slice(0, 40) + '] right=' + Math.round(e.getBoundingClientRect().right));
     return { scrollWidth: document.documentElement.scrollWidth, innerWidth: w, offenders: wide };
-  });
+  })()`)) as { scrollWidth: number; innerWidth: number; offenders: string[] };
   if (scrollWidth > innerWidth)
     throw new Error(`${what}: the page is ${scrollWidth} px wide in a ${innerWidth} px window (${offenders.join(' | ')})`);
   for (const b of boxes) {
@@ -67,7 +68,9 @@ export const workingDay: Journey = {
     await expect(summary).toContainText(/\d+ fields need fixing before saving/);
     await expect(summary).toContainText('Part number: Enter a part number');
     await expect(summary).toContainText('Polarity: Choose the polarity');
-    const focused = await page.evaluate(() => document.activeElement?.getAttribute('data-testid') ?? document.activeElement?.tagName);
+    const focused = await page.evaluate(
+      `document.activeElement && (document.activeElement.getAttribute('data-testid') || document.activeElement.tagName)`,
+    );
     if (focused !== 'device-type-errors') throw new Error(`focus after a refused submit is on ${focused}, not the error summary`);
     const top = await summary.boundingBox();
     if (!top || top.y < 0 || top.y > SIZE_HEIGHT[j.size]) throw new Error(`the error summary is not in view (y ${top?.y})`);
