@@ -141,6 +141,8 @@ export async function runWeb(b: BenchEnv, log: (l: string) => void) {
     const taskMs: number[] = [];
     const apiStart: Record<string, number[]> = { me: [], floor: [] };
     let reloadBytes = 0;
+    let reloadApiRequests: Record<string, number> = {};
+    let reloadTimeline: Record<string, number> = {};
     await cdp.send('Performance.enable');
     const perf = async () => {
       const { metrics } = await cdp.send('Performance.getMetrics');
@@ -174,6 +176,32 @@ export async function runWeb(b: BenchEnv, log: (l: string) => void) {
       }
       await wire.quiet();
       reloadBytes = wire.bytes;
+      // Each API path and how often the reload asked for it: a preload the app's fetch did not take
+      // shows as a 2.
+      reloadApiRequests = {};
+      // The last reload's requests, ms after the document's (API calls, scripts and fonts from cache).
+      reloadTimeline = {};
+      for (const r of sent) {
+        const name = new URL(r.url).pathname.replace(/^.*\/(?!api\/)/, '').replace(/-[0-9a-f]{32}/, '');
+        if (doc && !(name in reloadTimeline)) reloadTimeline[name] = Math.round((r.at - doc.at) * 1000);
+      }
+      for (const r of sent) {
+        const p = new URL(r.url).pathname;
+        if (p.startsWith('/api/')) reloadApiRequests[p] = (reloadApiRequests[p] ?? 0) + 1;
+      }
+    }
+    // EMBERLOT_BENCH_WEB_PROFILE=<file>: one more reload under the CPU profiler (not counted), written
+    // as a .cpuprofile for Chrome DevTools or a source-map walk (docs/performance-notes.md).
+    const profileFile = process.env.EMBERLOT_BENCH_WEB_PROFILE;
+    if (profileFile) {
+      await cdp.send('Profiler.enable');
+      await cdp.send('Profiler.setSamplingInterval', { interval: 200 });
+      await cdp.send('Profiler.start');
+      await page.reload({ waitUntil: 'commit' });
+      await floorReady(page);
+      const { profile } = await cdp.send('Profiler.stop');
+      fs.writeFileSync(profileFile, JSON.stringify(profile));
+      log(`web: CPU profile of one reload in ${profileFile}`);
     }
     const result = {
       viewport: `${VIEWPORT.width}x${VIEWPORT.height}`,
@@ -189,6 +217,8 @@ export async function runWeb(b: BenchEnv, log: (l: string) => void) {
       floorReloadMs: median(reloads),
       floorReloadsMs: reloads,
       floorReloadKb: kb(reloadBytes),
+      floorReloadApiRequests: reloadApiRequests,
+      floorReloadTimelineMs: reloadTimeline,
       floorReloadScriptMs: median(scriptMs),
       floorReloadTaskMs: median(taskMs),
       floorReloadApiStartMs: {

@@ -18,7 +18,7 @@ import { Field } from '@/components/ui/Field';
 import { QueryState } from '@/components/ui/QueryState';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
-import { deviceHref } from './DevicesScreen';
+import { deviceHref } from './links';
 import { CSV_HELP, FilePickButton, SERIAL_POLICY, SerialGrid, SerialPreview, SerialProblems } from './SerialInputs';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;

@@ -2,21 +2,15 @@ import { View } from 'react-native';
 import type { FloorTile } from '@/shared/schemas/floor';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
-import { useFloor, useFloorStream, type StreamState } from '@/components/queries/floor';
+import { useFloor, useFloorStream } from '@/components/queries/floor';
 import { useBreakpoints } from '@/components/theme/breakpoints';
 import { space } from '@/components/theme/tokens';
 import { EmptyState } from '@/components/ui/EmptyState';
 import { QueryState } from '@/components/ui/QueryState';
 import { SafetyCaution } from '@/components/ui/SafetyCaution';
-import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
+import { LiveIndicator } from './LiveIndicator';
 import { RigTile } from './RigTile';
-
-export function LiveIndicator({ state }: { state: StreamState }) {
-  if (state === 'live') return <StatusPill tone="ok" label="Live" size="sm" testID="floor-live" />;
-  if (state === 'polling') return <StatusPill tone="info" label="Refreshing every 2 s" size="sm" testID="floor-live" />;
-  return <StatusPill tone="attention" label={state === 'connecting' ? 'Connecting…' : 'Reconnecting…'} size="sm" testID="floor-live" />;
-}
 
 function summary(tiles: FloorTile[]): string {
   const online = tiles.filter((t) => t.online).length;

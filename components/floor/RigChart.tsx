@@ -3,6 +3,8 @@ import { View } from 'react-native';
 import { VictoryAxis, VictoryChart, VictoryLegend, VictoryLine } from 'victory-native';
 import type { FloorChart } from '@/shared/schemas/floor';
 import { HOLD_PHASE_LABEL, type HoldPhase } from '@/shared/holds/words';
+import { TIER_CAPTION } from '@/shared/domain/telemetry-tiers';
+import { bucketText, timeLabel } from '@/components/floor/chart-labels';
 import { colors, fonts, space } from '@/components/theme/tokens';
 import { Text } from '@/components/ui/Text';
 
@@ -36,8 +38,6 @@ const HOLD_MARK: Record<HoldPhase, { color: string; dash?: string }> = {
   'safe-to-open': { color: '#1F6B3F', dash: '5,3' },
 };
 
-const hhmm = (ms: number) => new Date(ms).toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit' });
-
 export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string }) {
   const [width, setWidth] = useState(0);
   const phone = width > 0 && width < 600;
@@ -54,6 +54,7 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
   const yMax = ys.length ? Math.ceil(Math.max(...ys) + 2) : 100;
   const from = Date.parse(chart.from);
   const to = Date.parse(chart.to);
+  const hhmm = (ms: number) => timeLabel(ms, to - from);
   const last = (d: { avg: number }[]) => (d.length ? `${d[d.length - 1].avg.toFixed(1)} °C` : 'no data');
   const marks = (chart.holdSteps ?? []).filter((m) => Date.parse(m.t) >= from && Date.parse(m.t) <= to);
   const hhmmss = (ms: number) => new Date(ms).toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit', second: '2-digit' });
@@ -136,8 +137,7 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
             </View>
           ) : null}
           <Text variant="caption" tone="muted" style={{ paddingHorizontal: space.xs }}>
-            {chart.source === 'raw' ? 'From every sample' : 'From per-minute averages'}, one point per{' '}
-            {Math.max(1, Math.round(chart.bucketMs / 1000))} s.
+            {TIER_CAPTION[chart.source]}, one point per {bucketText(chart.bucketMs)}.
           </Text>
         </>
       ) : null}

@@ -5,7 +5,7 @@ import { PLAN_KIND_LABEL } from '@/shared/domain/stress';
 import type { PlanDetail } from '@/shared/schemas/plans';
 import { formatDateTime } from '@/components/common/format';
 import { amps, celsius, sig, volts } from '@/components/devices/format';
-import { deviceHref } from '@/components/devices/DevicesScreen';
+import { deviceHref } from '@/components/devices/links';
 import { Columns } from '@/components/layout/Content';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
@@ -23,7 +23,7 @@ import { Text } from '@/components/ui/Text';
 import { CheckStatusPill } from './CheckStatusPill';
 import { KIND_HELP } from './help';
 import { PlanCheckPanel } from './PlanCheckPanel';
-import { planHref } from './PlansScreen';
+import { planHref } from './links';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 

@@ -29,7 +29,7 @@ import {
   type FormState,
 } from './plan-form-model';
 import { ConditionsCard, CyclingCard, PlanBasicsCard, StudyCards, Templates, type FormBinding } from './PlanFormSections';
-import { planHref } from './PlansScreen';
+import { planHref } from './links';
 
 /** New plan, or (with ?from=<version id>) a new version of an existing plan. */
 export function PlanFormScreen() {

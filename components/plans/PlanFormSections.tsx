@@ -20,7 +20,7 @@ import { PLAN_KINDS, PLAN_KIND_LABEL } from '@/shared/domain/stress';
 import type { PlanTemplate } from '@/shared/schemas/plans';
 import { KIND_HELP, PLAN_HELP } from './help';
 import { fieldsFor, maxBiasV, type FormErrors, type FormKey, type FormState } from './plan-form-model';
-import { KIND_SHORT } from './PlansScreen';
+import { KIND_SHORT } from './links';
 
 /** The form's state with its setter and the errors to show, handed to every card. */
 export interface FormBinding {

@@ -18,10 +18,7 @@ import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Badge } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { CheckStatusPill } from './CheckStatusPill';
-
-export const planHref = (id: string) => `/plans/${id}` as Href;
-
-export const KIND_SHORT: Record<PlanKind, string> = { htrb: 'HTRB', hotl: 'Powered life', iol: 'Intermittent life', thb: 'THB' };
+import { KIND_SHORT, planHref } from './links';
 
 /** "VCB 112 V" / "VCE 20 V · IC 96 mA" / "VCE 30 V · IB 0.6 mA (forced)". */
 export function biasSummary(p: Pick<PlanSummary, 'kind' | 'bias'>): string {

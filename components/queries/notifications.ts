@@ -15,7 +15,9 @@ export function useNotifications(unreadOnly = false, enabled = true) {
   return useQuery({
     queryKey: notificationKeys.list(unreadOnly),
     queryFn: ({ signal }) => api<NotificationList>(`/api/notifications${unreadOnly ? '?unread=true' : ''}`, { signal }),
-    staleTime: 0,
+    // A second bell mounting (the header re-renders as a page loads) reuses a list a few seconds old
+    // instead of asking again; the poll keeps it fresh.
+    staleTime: 5_000,
     refetchInterval: NOTIFICATION_POLL_MS,
     enabled,
   });

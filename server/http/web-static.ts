@@ -63,6 +63,8 @@ export function installWebApp(app: Express, webDir: string): void {
   const shell = path.join(webDir, 'index.html');
   app.get(/^(?!\/api\/).*/, (req, res, next) => {
     res.setHeader('Cache-Control', NEVER);
+    const early = earlyDataLink(req.path, req.isAuthenticated?.() ?? false);
+    if (early) res.setHeader('Link', early);
     const accepts = String(req.headers['accept-encoding'] ?? '');
     const br = /\bbr\b/.test(accepts) ? `${shell}.br` : null;
     const gz = /\bgzip\b/.test(accepts) ? `${shell}.gz` : null;
@@ -73,6 +75,22 @@ export function installWebApp(app: Express, webDir: string): void {
     res.type('html');
     res.sendFile(file, (err) => err && next(err));
   });
+}
+
+/**
+ * What a signed-in screen asks the API for first, by the page's path. The browser starts these requests
+ * with the document (a `Link: rel=preload` header), so they travel while the scripts load and run instead
+ * of waiting for the session check and then the route's chunk; the app's own `fetch` of the same URL takes
+ * the preloaded answer. `crossorigin=use-credentials` matches the app's `credentials: 'include'`
+ * (components/queries/api.ts), otherwise Chromium fetches twice.
+ */
+export const EARLY_DATA: ReadonlyArray<{ path: RegExp; api: readonly string[] }> = [{ path: /^\/floor\/?$/, api: ['/api/floor'] }];
+
+/** The Link header for a page, or null: only for a signed-in visit (a stranger's request would be refused). */
+export function earlyDataLink(pagePath: string, signedIn: boolean): string | null {
+  if (!signedIn) return null;
+  const api = ['/api/auth/me', ...(EARLY_DATA.find((e) => e.path.test(pagePath))?.api ?? [])];
+  return api.map((u) => `<${u}>; rel=preload; as=fetch; crossorigin=use-credentials`).join(', ');
 }
 
 const exists = new Map<string, boolean>();

@@ -154,6 +154,25 @@ describe('API compression', () => {
   });
 });
 
+describe('early data for a signed-in reload (Link: rel=preload)', () => {
+  const preload = (u: string) => `<${u}>; rel=preload; as=fetch; crossorigin=use-credentials`;
+
+  it('asks a signed-in floor reload to fetch the session and the floor with the document', async () => {
+    const cookie = await sessionCookie('operator');
+    const res = await request(t.app).get('/floor').set('Cookie', cookie);
+    expect(res.status).toBe(200);
+    expect(res.headers.link).toBe(`${preload('/api/auth/me')}, ${preload('/api/floor')}`);
+  });
+
+  it('asks only for the session on a page without known first data, and nothing for a stranger', async () => {
+    const cookie = await sessionCookie('engineer');
+    expect((await request(t.app).get('/plans/abc').set('Cookie', cookie)).headers.link).toBe(preload('/api/auth/me'));
+    const stranger = await request(t.app).get('/floor');
+    expect(stranger.status).toBe(200);
+    expect(stranger.headers.link).toBeUndefined();
+  });
+});
+
 async function sessionCookie(role: 'engineer' | 'operator'): Promise<string> {
   const res = await request(t.app)
     .post('/api/auth/sign-in')

@@ -1,4 +1,4 @@
-import { fmtHours } from '@/components/floor/RigTile';
+import { fmtHours } from '@/components/floor/rig-state';
 
 // Regression: 95.6 h used to read "3 d 24 h" (the remainder was rounded after the division).
 test.each([

@@ -24,7 +24,7 @@ import {
   SystemCounterEntity,
   TelemetryBatchEntity,
   TelemetryRollupEntity,
-  TelemetrySampleEntity,
+  TelemetryHourlyEntity,
 } from './telemetry.entity';
 import { MeasurementEntity, MeasurementFileEntity, MeasurementUploadEntity, MeasurementVersionEntity } from './measurement.entity';
 import { AlarmEntity, MailLogEntity, NotificationEntity } from './alarm.entity';
@@ -46,8 +46,8 @@ export const ENTITIES = [
   RunLotEntity,
   RunSocketEntity,
   TelemetryBatchEntity,
-  TelemetrySampleEntity,
   TelemetryRollupEntity,
+  TelemetryHourlyEntity,
   RejectedMessageEntity,
   SystemCounterEntity,
   MeasurementEntity,
