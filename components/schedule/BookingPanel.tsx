@@ -41,6 +41,10 @@ function Chip({ label, selected, onPress, hint }: { label: string; selected: boo
       onPress={onPress}
       style={{
         minHeight: 40,
+        // A long plan name wraps inside the chip instead of pushing the page wider than a phone.
+        maxWidth: '100%',
+        flexShrink: 1,
+        paddingVertical: space.xxs,
         paddingHorizontal: space.sm,
         justifyContent: 'center',
         borderRadius: radius.pill,
@@ -49,7 +53,9 @@ function Chip({ label, selected, onPress, hint }: { label: string; selected: boo
         backgroundColor: selected ? colors.emberSoft : colors.surface,
       }}
     >
-      <Text variant="label">{selected ? `✓ ${label}` : label}</Text>
+      <Text variant="label" style={{ flexShrink: 1 }}>
+        {selected ? `✓ ${label}` : label}
+      </Text>
     </Pressable>
   );
 }

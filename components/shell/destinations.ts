@@ -57,3 +57,14 @@ export function canOpen(role: Role, pathname: string): boolean {
 export function isActive(pathname: string, path: string): boolean {
   return matches(pathname, path);
 }
+
+/** Counts shown on navigation items, by path (the open alarms on /alarms). */
+export type NavBadges = Partial<Record<string, number>>;
+
+/** A navigation item's accessible name: "Alarms, 3 open" when it carries a count. */
+export function navLabel(label: string, count: number | undefined): string {
+  return count ? `${label}, ${count} open` : label;
+}
+
+/** The count as the badge shows it (99+ beyond two digits). */
+export const badgeText = (count: number) => (count > 99 ? '99+' : String(count));

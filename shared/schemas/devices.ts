@@ -5,7 +5,7 @@ import { DEFAULT_SB_KNEE_V, DEFAULT_SB_SLOPE_N } from '../domain/standards';
 export const num = () => z.number().finite();
 export const positive = () => num().positive();
 
-import { DEVICE_KINDS, POLARITIES } from '../domain/devices';
+import { DEVICE_KIND_LABEL, DEVICE_KINDS, POLARITIES, POLARITIES_BY_KIND, polarityFits } from '../domain/devices';
 export { DEVICE_KINDS, POLARITIES, SERIAL_MAX_LENGTH, checkSerialRows, splitPastedSerials, type SerialRowProblem } from '../domain/devices';
 
 /** Ratings and thermal data of a part number, as on its data sheet. Voltages are magnitudes. */
@@ -56,9 +56,22 @@ export type DeviceTypeSummary = DeviceType & { lotCount: number; deviceCount: nu
  * service after a partial update has been merged, so both paths give the same messages.
  */
 export function deviceTypeRuleIssues(
-  d: Pick<DeviceTypeInput, 'bvcboV' | 'bvceoV' | 'thetaJcCPerW' | 'thetaJaCPerW' | 'icboRefA' | 'icboHotA' | 'icboHotC' | 'icboHotVcbV'>,
+  d: Pick<
+    DeviceTypeInput,
+    'kind' | 'polarity' | 'bvcboV' | 'bvceoV' | 'thetaJcCPerW' | 'thetaJaCPerW' | 'icboRefA' | 'icboHotA' | 'icboHotC' | 'icboHotVcbV'
+  >,
 ): Array<{ path: string; message: string }> {
   const out: Array<{ path: string; message: string }> = [];
+  if (!polarityFits(d.kind, d.polarity)) {
+    const fits = POLARITIES_BY_KIND[d.kind];
+    out.push({
+      path: 'polarity',
+      message:
+        fits.length === 1
+          ? `A ${DEVICE_KIND_LABEL[d.kind].toLowerCase()} has no polarity to choose (${fits[0]}); ${d.polarity} does not fit it`
+          : `A ${DEVICE_KIND_LABEL[d.kind]} part is ${fits.join(' or ')}; ${d.polarity} does not fit it`,
+    });
+  }
   const hot = [d.icboHotA, d.icboHotC, d.icboHotVcbV];
   if (hot.some((x) => x !== null) && hot.some((x) => x === null)) {
     const missing = d.icboHotA === null ? 'icboHotA' : d.icboHotC === null ? 'icboHotC' : 'icboHotVcbV';

@@ -56,6 +56,11 @@ export interface FloorSocket {
   /** Device loaded by the current run, if any. */
   serial: string | null;
   tripReason: string | null;
+  /**
+   * Estimated junction: case + θjc × |V·I| of this sample (shared/physics junctionFromTelemetry, the
+   * estimate credit and protection use); null without a loaded device or a reading.
+   */
+  junction: { tjC: number; caseC: number; thetaJcCPerW: number; powerW: number } | null;
   /** Power cycling (a cycling run): the socket's credited cycles of the run's target and its last swing (K). */
   cycles?: { done: number; target: number; lastDTjLowC: number | null; lastDTjHighC: number | null };
 }

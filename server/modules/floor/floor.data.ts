@@ -108,17 +108,22 @@ export interface BoardRow {
   run_tripped: boolean | null;
   trip_reason: string | null;
   last_seq: string;
+  /** θjc of the loaded device's part (°C/W), for the junction estimate. */
+  theta_jc: number | null;
 }
 
 /** One row per socket of the rig: the newest sample's values and the run's socket map. */
 export function boardRows(ds: DataSource, rigId: string, runId: string | null): Promise<BoardRow[]> {
   return ds.query(
-    `SELECT r.last_seq, g.socket, ts.case_c, ts.v_v, ts.i_a, ts.bias_on, ts.tripped, d.serial, rs.tripped AS run_tripped, rs.trip_reason
+    `SELECT r.last_seq, g.socket, ts.case_c, ts.v_v, ts.i_a, ts.bias_on, ts.tripped, d.serial, rs.tripped AS run_tripped, rs.trip_reason,
+            dt.theta_jc_c_per_w AS theta_jc
        FROM rigs r
        CROSS JOIN LATERAL generate_series(0, r.socket_count - 1) AS g(socket)
        LEFT JOIN telemetry_samples ts ON ts.rig_id = r.id AND ts.seq = r.last_seq AND ts.socket = g.socket
        LEFT JOIN run_sockets rs ON rs.run_id = $2 AND rs.socket_index = g.socket
        LEFT JOIN devices d ON d.id = rs.device_id
+       LEFT JOIN lots l ON l.id = d.lot_id
+       LEFT JOIN device_types dt ON dt.id = l.device_type_id
        WHERE r.id = $1
        ORDER BY g.socket`,
     [rigId, runId],

@@ -28,7 +28,18 @@ import { notFound } from '../../http/errors';
 import { ALARM_EVENT, RUN_EVENT } from '../../events';
 import { runCycleTarget, socketCyclesOfRun } from '../runs/cycles.data';
 import { HOLD_PHASES, type HoldPhase } from '../../../shared/holds/sequence';
-import { boardRows, chartRows, holdStepRows, hottestSockets, newestBatchTs, readTileRows, rigIdRows, type TileRow } from './floor.data';
+import {
+  boardRows,
+  chartRows,
+  holdStepRows,
+  hottestSockets,
+  newestBatchTs,
+  readTileRows,
+  rigIdRows,
+  type BoardRow,
+  type TileRow,
+} from './floor.data';
+import { junctionOf } from '../runs/stress-segments';
 
 const round = (n: number, d = 2) => Math.round(n * 10 ** d) / 10 ** d;
 
@@ -137,6 +148,7 @@ export class FloorService {
       tripped: !!(r.tripped || r.run_tripped),
       serial: r.serial,
       tripReason: r.trip_reason,
+      junction: socketJunction(r),
     }));
     if (tile.run) await addSocketCycles(this.ctx.ds.manager, tile.run.id, sockets);
     const hasSample = rows.some((r) => r.case_c !== null);
@@ -190,6 +202,14 @@ export class FloorService {
 }
 
 /** A cycling run's per-socket cycles and last swing on the board's sockets (its devices only). */
+/** The socket's junction estimate from the board's sample, with what it was computed from. */
+function socketJunction(r: BoardRow): FloorSocket['junction'] {
+  if (r.theta_jc === null || r.case_c === null || r.v_v === null) return null;
+  const sample = { caseC: r.case_c, vV: r.v_v, iA: r.i_a ?? 0 };
+  const tjC = junctionOf(sample, r.theta_jc);
+  return tjC === null ? null : { tjC, caseC: r.case_c, thetaJcCPerW: r.theta_jc, powerW: Math.abs(sample.vV * sample.iA) };
+}
+
 async function addSocketCycles(m: EntityManager, runId: string, sockets: FloorSocket[]): Promise<void> {
   const target = await runCycleTarget(m, runId);
   if (target === null) return;
