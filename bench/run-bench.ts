@@ -19,6 +19,7 @@ import { runApi } from './scenarios/api';
 import { runIngest } from './scenarios/ingest';
 import { runProtection } from './scenarios/protection';
 import { runProtectionAtRating } from './scenarios/protection-at-rating';
+import { runStorage } from './scenarios/storage';
 import { runWeb } from './scenarios/web';
 
 /** Hard stop for the whole run (every loop inside is bounded too). */
@@ -56,6 +57,7 @@ async function main(): Promise<number> {
       ['ingest', () => runIngest(env!, rss!, log)],
       ['protection', async () => ({ ...(await runProtection(env!, log)), atRating: runProtectionAtRating(log) })],
       ['analytics', () => runAnalytics(env!, log)],
+      ['storage', () => runStorage(env!, log)],
       ['api', () => runApi(env!, log)],
       ['web', () => runWeb(env!, log)],
     ];

@@ -22,6 +22,7 @@ function updateSockets(state: RigState, indexes: Set<number> | 'all', fn: (s: So
 export function applyCommand(state: RigState, cmd: Exclude<RigCommand, { type: 'stored' }>): ApplyResult {
   switch (cmd.type) {
     case 'setpoint': {
+      if (cmd.profile) return { state, ok: false, error: 'this rig is a burn-in oven: it runs no temperature-cycling programme' };
       if (cmd.setpointC > state.maxTempC) {
         return { state, ok: false, error: `setpoint ${cmd.setpointC} °C is above this rig's maximum of ${state.maxTempC} °C` };
       }

@@ -15,6 +15,9 @@ import { createEventBus } from './events';
 import { AnalyticsService } from './modules/analytics/analytics.service';
 import { ApprovalsService } from './modules/approvals/approvals.service';
 import { SignoffService } from './modules/signoff/signoff.service';
+import { ReportsService } from './modules/reports/reports.service';
+import { DeviceHistoryService } from './modules/device-history/device-history.service';
+import { QualificationsService } from './modules/qualifications/qualifications.service';
 import { AlarmsService } from './modules/alarms/alarms.service';
 import { AuditService } from './modules/audit/audit.service';
 import { AuthService } from './modules/auth/auth.service';
@@ -37,6 +40,8 @@ import type { RigLink } from './modules/telemetry/contracts';
 import type { TelemetryIngest } from './modules/telemetry/ingest';
 import { TelemetryService } from './modules/telemetry/telemetry.service';
 import { UsersService } from './modules/users/users.service';
+import { ReplanService } from './modules/replan/replan.service';
+import { UtilisationService } from './modules/utilisation/utilisation.service';
 
 /** Every service of the API process. */
 export interface Services {
@@ -52,7 +57,10 @@ export interface Services {
   evidence: EvidenceService;
   approvals: ApprovalsService;
   signoff: SignoffService;
+  reports: ReportsService;
+  deviceHistory: DeviceHistoryService;
   runs: RunsService;
+  qualifications: QualificationsService;
   rigs: RigsService;
   labSettings: LabSettingsService;
   floor: FloorService;
@@ -61,6 +69,8 @@ export interface Services {
   alarms: AlarmsService;
   notifications: NotificationsService;
   tripResets: TripResetService;
+  replan: ReplanService;
+  utilisation: UtilisationService;
   /** Replaced (typed) when protection starts with its own retry options (protection/start.ts). */
   mail: MailService;
   /** Live parts: set while the background features run, undefined otherwise (or a test's fake link). */
@@ -101,19 +111,25 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
   const mail = new MailService(ctx, overrides.mail);
   const auth = new AuthService(ctx.ds, ctx.audit, now);
   const analytics = new AnalyticsService(ctx.ds);
+  const lots = new LotsService(ctx.ds, ctx.audit);
+  const measurements = new MeasurementsService(ctx.ds, ctx.audit, now);
+  const signoff = new SignoffService(ctx.ds, ctx.audit, auth, analytics, now);
   return {
     passport: new Passport(),
     auth,
     users: new UsersService(ctx.ds, ctx.audit),
     deviceTypes: new DeviceTypesService(ctx.ds, ctx.audit),
-    lots: new LotsService(ctx.ds, ctx.audit),
+    lots,
     plans: new PlansService(ctx.ds, ctx.audit, now),
-    measurements: new MeasurementsService(ctx.ds, ctx.audit, now),
+    measurements,
     analytics,
     evidence: new EvidenceService(ctx.ds, ctx.audit, now),
     approvals: new ApprovalsService(ctx.ds, ctx.audit, now),
-    signoff: new SignoffService(ctx.ds, ctx.audit, auth, analytics, now),
+    signoff,
+    reports: new ReportsService(ctx.ds, analytics, measurements, signoff, lots, now),
+    deviceHistory: new DeviceHistoryService(ctx.ds, measurements),
     runs: new RunsService(ctx),
+    qualifications: new QualificationsService(ctx),
     rigs: new RigsService(ctx),
     labSettings: new LabSettingsService(ctx),
     floor,
@@ -122,6 +138,8 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     alarms: new AlarmsService(ctx),
     notifications: new NotificationsService(ctx),
     tripResets: new TripResetService(ctx),
+    replan: new ReplanService(ctx),
+    utilisation: new UtilisationService(ctx),
     mail,
     rigLink: undefined,
     telemetryIngest: undefined,

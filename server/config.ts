@@ -5,6 +5,7 @@
  */
 import * as net from 'node:net';
 import { ConfigError, LOOPBACK_ONLY_SECRETS, type Env } from './secrets';
+import { KEEP_AROUND_MIN, MINUTE_KEEP_DAYS, RAW_KEEP_DAYS } from '../shared/domain/telemetry-tiers';
 
 export type { Env };
 
@@ -41,6 +42,12 @@ export interface ServerConfig {
   /** Telemetry messages per ingest transaction, and transactions in flight (telemetry/ingest.ts). */
   ingestMaxBatch: number;
   ingestInFlight: number;
+  /**
+   * Telemetry tiers' windows (shared/domain/telemetry-tiers.ts): days of raw messages
+   * (EMBERLOT_RAW_KEEP_DAYS), of per-minute rollups (EMBERLOT_MINUTE_KEEP_DAYS), minutes kept for
+   * good around each trip, alarm and read point (EMBERLOT_KEEP_AROUND_MIN).
+   */
+  telemetryKeep: { rawKeepDays: number; minuteKeepDays: number; keepAroundMin: number };
   /**
    * Sign-in attempts per client address per 15 min (EMBERLOT_SIGN_IN_MAX_PER_WINDOW; default
    * SIGN_IN_MAX_PER_WINDOW in auth.routes.ts). The browser journeys sign every role in from one
@@ -163,6 +170,11 @@ export function configFromEnv(env: Env = process.env): ServerConfig {
     rollupFlushMs: Math.max(100, int(env.EMBERLOT_ROLLUP_FLUSH_MS, 5_000)),
     ingestMaxBatch: Math.max(1, int(env.EMBERLOT_INGEST_MAX_BATCH, 200)),
     ingestInFlight: Math.max(1, int(env.EMBERLOT_INGEST_IN_FLIGHT, 2)),
+    telemetryKeep: {
+      rawKeepDays: Math.max(1, int(env.EMBERLOT_RAW_KEEP_DAYS, RAW_KEEP_DAYS)),
+      minuteKeepDays: Math.max(1, int(env.EMBERLOT_MINUTE_KEEP_DAYS, MINUTE_KEEP_DAYS)),
+      keepAroundMin: Math.max(0, int(env.EMBERLOT_KEEP_AROUND_MIN, KEEP_AROUND_MIN)),
+    },
     ...(env.EMBERLOT_SIGN_IN_MAX_PER_WINDOW ? { signInMaxPerWindow: Math.max(1, int(env.EMBERLOT_SIGN_IN_MAX_PER_WINDOW, 30)) } : {}),
   };
 }

@@ -2,6 +2,8 @@ import type { AppContext } from './context';
 import { startTelemetry } from './modules/telemetry/telemetry.feature';
 import { startProtection } from './modules/protection/start';
 import { startScheduler } from './modules/scheduler/scheduler';
+import { startReplanning } from './modules/replan/replan.feature';
+import { chamberReportHandler } from './modules/chamber/chamber-reports';
 
 /**
  * Background parts of the API process (MQTT ingest, scheduler, protection, mail). Each start
@@ -15,10 +17,12 @@ export async function startFeatures(ctx: AppContext): Promise<() => Promise<void
       rollupFlushMs: ctx.config.rollupFlushMs,
       maxBatch: ctx.config.ingestMaxBatch,
       maxInFlight: ctx.config.ingestInFlight,
+      onChamber: chamberReportHandler(ctx), // chambers' own reports (server/modules/chamber)
     }),
   ); // first: the others use ctx.services.rigLink
   stops.push(await startProtection(ctx)); // live protection, alarms, notifications, e-mail
   stops.push(startScheduler(ctx)); // runs: heating, accrual, read points, cooling (node-cron, every second)
+  stops.push(startReplanning(ctx)); // re-plan proposals when a rig goes offline or comes back
   return async () => {
     for (const stop of stops.reverse()) await stop();
   };

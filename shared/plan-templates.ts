@@ -20,6 +20,18 @@ import {
   REVERSE_BIAS_FRACTION,
   ROOM_AMBIENT_C,
 } from './domain/standards';
+import {
+  AC_CONDITIONS,
+  AC_DEFAULT_READ_POINTS_H,
+  HTSL_DEFAULT_C,
+  HTSL_DEFAULT_H,
+  TC_CONDITIONS,
+  TC_DEFAULT_CYCLES,
+  TC_DEFAULT_DWELL_MIN,
+  TC_DEFAULT_RAMP_K_PER_MIN,
+  TC_DEFAULT_READ_POINTS_CYCLES,
+} from './domain/chamber-methods';
+import { tcCyclesToH, tcPeriodMin } from './chamber/profile';
 import { estimateBvceo } from './physics';
 import { JUNCTION_WARN_MARGIN_K } from './safety/plan-rules/types';
 import type { DeviceTypeInput } from './schemas/devices';
@@ -30,6 +42,9 @@ export const SOURCES = {
   hotl: '[pub: MIL-PRF-19500 group C life]',
   iol: '[pub: MIL-STD-750 method 1037 as used by AEC-Q101]',
   thb: '[pub: JESD22-A101]',
+  tc: '[pub: JESD22-A104; AEC-Q101 test table — TC 1000 cycles] [memory: condition letters and tolerances — confirm]',
+  htsl: '[pub: JESD22-A103D Table 1; AEC-Q101 test table — HTSL 1000 h]',
+  ac: '[memory: JESD22-A102 121 °C / 100 % RH / 205 kPa, 96 h; JESD22-A118 unbiased HAST — confirm]',
   readPoints: '[practice]',
   chamberBand: '[memory: JESD22-A108 / MIL-STD-750 — stress temperature a minimum, +5/−0 K; confirm]',
   criteria: '[pub: MIL-PRF-19500 slash-sheet delta limits]',
@@ -59,6 +74,10 @@ export const HTRB_SAMPLE = { n: 77, c: 0 };
 export const HOTL_SAMPLE = { n: 45, c: 0 };
 export const IOL_SAMPLE = { n: 77, c: 0 };
 export const THB_SAMPLE = { n: 77, c: 0 };
+/** TC, HTSL and autoclave per lot [memory: AEC-Q101 test table — 77 per lot, accept 0; confirm]. */
+export const CHAMBER_SAMPLE = { n: 77, c: 0 };
+/** The TC template's condition [pub: AEC-Q101 uses −55/+150 °C or the part's range; condition B −55/+125 °C is the common one — memory]. */
+export const TC_TEMPLATE_CONDITION = 'B';
 export const THB_CHAMBER_C = 85;
 export const THB_RH_PCT = 85;
 export { DEFAULT_EA_EV, DEFAULT_USE_C };
@@ -130,6 +149,8 @@ function basePlan(d: Device) {
     eaEv: DEFAULT_EA_EV,
     useC: DEFAULT_USE_C,
     breakdownDerating: REVERSE_BIAS_FRACTION,
+    thermalCycle: null,
+    acCondition: null,
   };
 }
 
@@ -415,9 +436,126 @@ function thb(d?: Device): PlanTemplate {
   };
 }
 
-/** The four templates, built for `device` when given (otherwise rules only, `plan: null`). */
+/** The unbiased chamber stresses share: no bias, the sample of the AEC table, the method's band. */
+function chamberPlan(d: Device, title: string, sources: string[]) {
+  return {
+    ...basePlan(d),
+    name: title,
+    humidityPct: null,
+    bias: { vcbV: null, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: DEFAULT_BIAS_TOLERANCE_PCT },
+    sampleSize: CHAMBER_SAMPLE.n,
+    acceptNumber: CHAMBER_SAMPLE.c,
+    cycle: null,
+    notes: notesFor(title, sources),
+  };
+}
+const storageRule = (d?: Device): TemplateRule => ({
+  label: 'Storage rating',
+  value:
+    d?.tstgMaxC != null
+      ? `Tstg ${sig(d.tstgMinC ?? NaN)}…${sig(d.tstgMaxC)} °C (the plan check compares the chamber with it)`
+      : 'The plan check compares the chamber with the part’s Tstg',
+  source: SOURCES.ours,
+});
+
+function tc(d?: Device): PlanTemplate {
+  const sources = [SOURCES.tc, SOURCES.aecSampleMemory, SOURCES.readPoints, SOURCES.criteria];
+  const cond = TC_CONDITIONS.find((c) => c.code === TC_TEMPLATE_CONDITION)!;
+  const profile = {
+    lowC: cond.lowC,
+    highC: cond.highC,
+    dwellMin: TC_DEFAULT_DWELL_MIN,
+    rampKPerMin: TC_DEFAULT_RAMP_K_PER_MIN,
+    cycles: TC_DEFAULT_CYCLES,
+  };
+  const title = `TC ${cond.lowC}/+${cond.highC} °C (condition ${cond.code}), ${TC_DEFAULT_CYCLES} cycles (JESD22-A104)`;
+  const summary =
+    'Temperature cycling: unbiased parts in a chamber whose air swings between the two extremes, with a dwell at each. ' +
+    'Solder, die attach and the package fatigue as they expand and shrink. Read points in cycles.';
+  const rules: TemplateRule[] = [
+    {
+      label: 'Extremes',
+      value: `${cond.lowC} °C / +${cond.highC} °C (condition ${cond.code}; the load must reach each)`,
+      source: SOURCES.tc,
+    },
+    {
+      label: 'Dwell and ramp',
+      value: `${TC_DEFAULT_DWELL_MIN} min at each extreme, air ramp ${TC_DEFAULT_RAMP_K_PER_MIN} K/min (${sig(tcPeriodMin(profile))} min per cycle)`,
+      source: SOURCES.readPoints,
+    },
+    { label: 'Cycles', value: `${TC_DEFAULT_CYCLES}, read points ${TC_DEFAULT_READ_POINTS_CYCLES.join(' / ')} cycles`, source: SOURCES.tc },
+    { label: 'Sample', value: `${CHAMBER_SAMPLE.n} per lot, accept ${CHAMBER_SAMPLE.c}`, source: SOURCES.aecSampleMemory },
+    storageRule(d),
+  ];
+  if (!d) return { key: 'tc', kind: 'tc', title, summary, sources, plan: null, rules };
+  const plan: PlanInput = {
+    ...chamberPlan(d, title, sources),
+    kind: 'tc',
+    chamberC: cond.highC,
+    chamberBand: { ...METHOD_CHAMBER_BAND_K.tc },
+    thermalCycle: profile,
+    durationH: tcCyclesToH(profile, TC_DEFAULT_CYCLES),
+    readPointsH: TC_DEFAULT_READ_POINTS_CYCLES.map((c) => tcCyclesToH(profile, c)),
+  };
+  return { key: 'tc', kind: 'tc', title, summary, sources, plan, rules };
+}
+
+function htsl(d?: Device): PlanTemplate {
+  const sources = [SOURCES.htsl, SOURCES.aecSampleMemory, SOURCES.readPoints, SOURCES.criteria];
+  const title = `HTSL ${HTSL_DEFAULT_C} °C, ${HTSL_DEFAULT_H} h (JESD22-A103)`;
+  const summary = 'High-temperature storage life: an unbiased bake. It ages bond intermetallics and the die surface without any field.';
+  const rules: TemplateRule[] = [
+    { label: 'Chamber', value: `${HTSL_DEFAULT_C} °C ${bandText(METHOD_CHAMBER_BAND_K.htsl)}, no bias`, source: SOURCES.htsl },
+    { label: 'Duration', value: `${HTSL_DEFAULT_H} h`, source: SOURCES.htsl },
+    { label: 'Sample', value: `${CHAMBER_SAMPLE.n} per lot, accept ${CHAMBER_SAMPLE.c}`, source: SOURCES.aecSampleMemory },
+    storageRule(d),
+    ...commonRules,
+  ];
+  if (!d) return { key: 'htsl', kind: 'htsl', title, summary, sources, plan: null, rules };
+  const plan: PlanInput = {
+    ...chamberPlan(d, title, sources),
+    kind: 'htsl',
+    chamberC: HTSL_DEFAULT_C,
+    chamberBand: { ...METHOD_CHAMBER_BAND_K.htsl },
+    durationH: HTSL_DEFAULT_H,
+  };
+  return { key: 'htsl', kind: 'htsl', title, summary, sources, plan, rules };
+}
+
+function ac(d?: Device): PlanTemplate {
+  const sources = [SOURCES.ac, SOURCES.aecSampleMemory, SOURCES.readPoints, SOURCES.criteria];
+  const c = AC_CONDITIONS.autoclave;
+  const title = `${c.label}, ${c.durationH} h (JESD22-A102)`;
+  const summary =
+    'Autoclave: saturated steam under pressure drives moisture into the package with no bias. A package-integrity check ' +
+    '(pass/fail, no failure rate). The vessel is a pressure vessel: never opened under pressure.';
+  const rules: TemplateRule[] = [
+    {
+      label: 'Vessel',
+      value: `${c.chamberC} °C ${bandText(METHOD_CHAMBER_BAND_K.ac)}, ${c.humidityPct} % RH, ${c.pressureKPa} kPa absolute`,
+      source: SOURCES.ac,
+    },
+    { label: 'Duration', value: `${c.durationH} h, read points ${AC_DEFAULT_READ_POINTS_H.join(' / ')} h`, source: SOURCES.ac },
+    { label: 'Sample', value: `${CHAMBER_SAMPLE.n} per lot, accept ${CHAMBER_SAMPLE.c}`, source: SOURCES.aecSampleMemory },
+    storageRule(d),
+  ];
+  if (!d) return { key: 'ac', kind: 'ac', title, summary, sources, plan: null, rules };
+  const plan: PlanInput = {
+    ...chamberPlan(d, title, sources),
+    kind: 'ac',
+    chamberC: c.chamberC,
+    chamberBand: { ...METHOD_CHAMBER_BAND_K.ac },
+    humidityPct: c.humidityPct,
+    acCondition: c.code,
+    durationH: c.durationH,
+    readPointsH: [...AC_DEFAULT_READ_POINTS_H],
+  };
+  return { key: 'ac', kind: 'ac', title, summary, sources, plan, rules };
+}
+
+/** The templates, built for `device` when given (otherwise rules only, `plan: null`). */
 export function buildPlanTemplates(device?: Device): PlanTemplate[] {
-  return [htrb(device), hotl(device), iol(device), thb(device)];
+  return [htrb(device), hotl(device), iol(device), thb(device), tc(device), htsl(device), ac(device)];
 }
 
 export { PLAN_KIND_LABEL };

@@ -144,29 +144,35 @@ async function seedHistoryRig(b: BenchEnv, messages: number): Promise<{ code: st
        VALUES ($1, 'History bench rig', 'Bench bay H', $2, 200, 100, 'rig-bh-01', 'no-login', now(), $3, 125, 125, $4) RETURNING id`,
       [code, HISTORY_SOCKETS, messages, to],
     );
+    // One row per message with its sockets as arrays (migration 1828…).
     await client.query(
-      `INSERT INTO telemetry_batches (rig_id, seq, ts, stress_clock_s, chamber_c, humidity_pct, setpoint_c, stored_at)
+      `INSERT INTO telemetry_batches (rig_id, seq, ts, stress_clock_s, chamber_c, humidity_pct, setpoint_c, stored_at, socket, case_c, v_v, i_a, flags)
        SELECT $1, g, $2::timestamptz + (g - 1) * make_interval(secs => $3), (g - 1) * $3, 125 + 0.4 * sin(g / 97.0), NULL, 125,
-              $2::timestamptz + (g - 1) * make_interval(secs => $3) + interval '150 milliseconds'
+              $2::timestamptz + (g - 1) * make_interval(secs => $3) + interval '150 milliseconds',
+              ARRAY(SELECT s::smallint FROM generate_series(0, $5::int - 1) s),
+              ARRAY(SELECT (131 + s * 0.05 + 1.5 * sin(g / 211.0 + s) + 0.2 * sin(g * 1.7 + s))::real FROM generate_series(0, $5::int - 1) s),
+              array_fill(20::real, ARRAY[$5::int]),
+              ARRAY(SELECT 0.3 + s * 0.0005 + 0.002 * sin(g / 50.0) FROM generate_series(0, $5::int - 1) s),
+              array_fill(1::smallint, ARRAY[$5::int])
          FROM generate_series(1, $4::int) g`,
-      [rig.id, from, HISTORY_PERIOD_S, messages],
+      [rig.id, from, HISTORY_PERIOD_S, messages, HISTORY_SOCKETS],
     );
-    await client.query(
-      `INSERT INTO telemetry_samples (rig_id, seq, socket, case_c, v_v, i_a, bias_on, tripped)
-       SELECT $1, g, s, 131 + s * 0.05 + 1.5 * sin(g / 211.0 + s) + 0.2 * sin(g * 1.7 + s), 20, 0.3 + s * 0.0005 + 0.002 * sin(g / 50.0), true, false
-         FROM generate_series(1, $2::int) g CROSS JOIN generate_series(0, $3::int - 1) s`,
-      [rig.id, messages, HISTORY_SOCKETS],
-    );
-    // Fresh statistics first: without them the planner takes the million new rows for a handful.
-    await client.query('ANALYZE telemetry_batches, telemetry_samples');
+    // Fresh statistics first: without them the planner takes the new rows for a handful.
+    await client.query('ANALYZE telemetry_batches');
     await client.query(
       `INSERT INTO telemetry_rollups (rig_id, socket, minute, n, sum_c, min_c, max_c, sum_ia, stress_clock_s)
        SELECT b.rig_id, s.socket, date_trunc('minute', b.ts), count(*), sum(s.case_c), min(s.case_c), max(s.case_c), sum(s.i_a), max(b.stress_clock_s)
-         FROM telemetry_batches b JOIN telemetry_samples s ON s.rig_id = b.rig_id AND s.seq = b.seq
-        WHERE b.rig_id = $1 AND s.rig_id = $1 GROUP BY 1, 2, 3
+         FROM telemetry_batches b CROSS JOIN LATERAL unnest(b.socket, b.case_c, b.i_a) AS s(socket, case_c, i_a)
+        WHERE b.rig_id = $1 GROUP BY 1, 2, 3
        UNION ALL
        SELECT b.rig_id, -1, date_trunc('minute', b.ts), count(*), sum(b.chamber_c), min(b.chamber_c), max(b.chamber_c), 0, max(b.stress_clock_s)
          FROM telemetry_batches b WHERE b.rig_id = $1 GROUP BY 1, 2, 3`,
+      [rig.id],
+    );
+    await client.query(
+      `INSERT INTO telemetry_hourly (rig_id, socket, hour, n, sum_c, min_c, max_c, sum_ia, stress_clock_s)
+       SELECT rig_id, socket, date_trunc('hour', minute), sum(n), sum(sum_c), min(min_c), max(max_c), sum(sum_ia), max(stress_clock_s)
+         FROM telemetry_rollups WHERE rig_id = $1 GROUP BY 1, 2, 3`,
       [rig.id],
     );
     await client.query('COMMIT');
@@ -201,7 +207,7 @@ async function timeAfterTouch(
 }
 
 /** Sequential timed GETs after 3 warm-ups: `n` of them, or fewer (at least 10) when they take over `budgetS`. */
-async function timeRequests(n: number, url: (k: number) => string, cookie: string, budgetS: number): Promise<number[]> {
+export async function timeRequests(n: number, url: (k: number) => string, cookie: string, budgetS: number): Promise<number[]> {
   for (let k = 0; k < 3; k++) await getJson(url(k), cookie);
   const ms: number[] = [];
   const until = Date.now() + budgetS * 1000;

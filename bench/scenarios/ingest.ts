@@ -2,10 +2,11 @@
  * Ingest: `rigs` × `sockets` lightweight publishers (registered rigs with their own MQTT secrets,
  * authenticated by the real broker against PostgreSQL) publish into the real API process as fast
  * as the `stored` window lets them, for a fixed time. Then:
- *   samplesPerSec           socket rows committed per second in the window (telemetry_samples
- *                           whose message's stored_at falls in [start + warm-up, end of publishing))
- *   copyBaselineRowsPerSec  the same rows (COPY … TO STDOUT of exactly those rows) loaded with one
- *                           raw COPY into CREATE TABLE … (LIKE telemetry_samples INCLUDING ALL) on the
+ *   samplesPerSec           socket samples committed per second in the window (the sockets of the
+ *                           messages whose stored_at falls in [start + warm-up, end of publishing))
+ *   copyBaselineRowsPerSec  the same samples (COPY … TO STDOUT, one row each) loaded with one raw
+ *                           COPY into a row-per-sample table with its key (the layout before
+ *                           migration 1828…: ROW_PER_SAMPLE_COLUMNS) on the
  *                           same cluster, right after; three loads, the median counts
  *                           (baselineRunsRowsPerSec lists all three)
  *   p99LatencyMs            percentile_cont(0.99) of stored_at − ts over the window's messages.
@@ -173,12 +174,13 @@ async function ingestPass(b: BenchEnv, rss: RssSampler, log: (l: string) => void
   const { stored } = await q<{ stored: string }>('SELECT count(*) AS stored FROM telemetry_batches WHERE rig_id = ANY($1::uuid[])', [
     rigIds,
   ]);
-  const { rows: sampleRows } = await q<{ rows: string }>('SELECT count(*) AS rows FROM telemetry_samples WHERE rig_id = ANY($1::uuid[])', [
-    rigIds,
-  ]);
+  const { rows: sampleRows } = await q<{ rows: string }>(
+    'SELECT coalesce(sum(cardinality(socket)), 0) AS rows FROM telemetry_batches WHERE rig_id = ANY($1::uuid[])',
+    [rigIds],
+  );
   const win = await q<{ samples: string; messages: string }>(
-    `SELECT count(*) AS samples, count(DISTINCT (b.rig_id, b.seq)) AS messages
-       FROM telemetry_samples t JOIN telemetry_batches b ON b.rig_id = t.rig_id AND b.seq = t.seq
+    `SELECT coalesce(sum(cardinality(b.socket)), 0) AS samples, count(*) AS messages
+       FROM telemetry_batches b
       WHERE b.rig_id = ANY($1::uuid[]) AND b.stored_at >= $2 AND b.stored_at < $3`,
     [rigIds, windowFrom, windowTo],
   );
@@ -277,6 +279,14 @@ export async function runIngest(b: BenchEnv, rss: RssSampler, log: (l: string) =
   return result;
 }
 
+/**
+ * The baseline's table: one row per socket sample with its primary key, as telemetry_samples was
+ * stored until migration 1828… (kept as the yardstick so the ratio compares across rounds).
+ */
+export const ROW_PER_SAMPLE_COLUMNS = `(rig_id uuid NOT NULL, seq bigint NOT NULL, socket smallint NOT NULL, case_c real NOT NULL,
+  v_v real NOT NULL, i_a double precision NOT NULL, bias_on boolean NOT NULL, tripped boolean NOT NULL DEFAULT false,
+  PRIMARY KEY (rig_id, seq, socket))`;
+
 interface CopyBaseline {
   rowsPerSec: number;
   seconds: number;
@@ -298,7 +308,8 @@ async function copyBaseline(b: BenchEnv, rigIds: string[], from: Date, to: Date,
     await pipeline(
       client.query(
         copyTo(
-          `COPY (SELECT t.* FROM telemetry_samples t JOIN telemetry_batches b ON b.rig_id = t.rig_id AND b.seq = t.seq
+          `COPY (SELECT b.rig_id, b.seq, s.socket, s.case_c, s.v_v, s.i_a, (s.flags & 1) <> 0, (s.flags & 2) <> 0
+                 FROM telemetry_batches b CROSS JOIN LATERAL unnest(b.socket, b.case_c, b.v_v, b.i_a, b.flags) AS s(socket, case_c, v_v, i_a, flags)
                  WHERE b.rig_id IN (${rigList}) AND b.stored_at >= '${fromIso}' AND b.stored_at < '${toIso}') TO STDOUT`,
         ),
       ),
@@ -319,7 +330,7 @@ async function copyBaseline(b: BenchEnv, rigIds: string[], from: Date, to: Date,
     let n = 0;
     for (let k = 0; k < 3; k++) {
       await client.query(`DROP TABLE IF EXISTS ${table(k)}`);
-      await client.query(`CREATE TABLE ${table(k)} (LIKE telemetry_samples INCLUDING ALL)`);
+      await client.query(`CREATE TABLE ${table(k)} ${ROW_PER_SAMPLE_COLUMNS}`);
       await client.query('CHECKPOINT');
       const cpuA = cpuSnapshot({}, postmaster);
       const machA = machineTicks();

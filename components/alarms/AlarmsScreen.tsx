@@ -2,6 +2,7 @@ import { useState } from 'react';
 import { View } from 'react-native';
 import { useLocalSearchParams } from 'expo-router';
 import type { Alarm, AlarmSeverityName } from '@/shared/schemas/alarms';
+import { formatDateTime } from '@/components/common/format';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { useAlarm, useAlarmCounts, useAlarms } from '@/components/queries/alarms';
@@ -32,6 +33,13 @@ const SEVERITY_CHOICES = [
   { value: 'warning' as const, label: 'Warning' },
   { value: 'info' as const, label: 'Notice' },
 ];
+
+/** The confirmation after acknowledging: who, when (the server's record) and which alarm. */
+export function acknowledgedText(a: Pick<Alarm, 'title' | 'acknowledgedBy' | 'acknowledgedAt'>): string {
+  const who = a.acknowledgedBy?.name ?? 'you';
+  const when = a.acknowledgedAt ? ` on ${formatDateTime(a.acknowledgedAt)}` : '';
+  return `Acknowledged by ${who}${when}: ${a.title}.`;
+}
 
 function plural(n: number, one: string, many = `${one}s`) {
   return `${n} ${n === 1 ? one : many}`;
@@ -73,7 +81,11 @@ export function AlarmsScreen() {
         </Text>
       ) : null}
       {notice ? (
-        <Banner tone="ok" action={<Button size="sm" variant="quiet" label="Dismiss" onPress={() => setNotice(null)} />}>
+        <Banner
+          tone="ok"
+          testID="alarm-ack-notice"
+          action={<Button size="sm" variant="quiet" label="Dismiss" onPress={() => setNotice(null)} />}
+        >
           {notice}
         </Banner>
       ) : null}
@@ -144,7 +156,7 @@ export function AlarmsScreen() {
         onClose={() => setAcking(null)}
         onDone={(a) => {
           setAcking(null);
-          setNotice(`Acknowledged: ${a.title}.`);
+          setNotice(acknowledgedText(a));
         }}
       />
     </Screen>

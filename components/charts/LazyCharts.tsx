@@ -8,12 +8,14 @@ import { Loading } from '@/components/ui/Loading';
 import type { RigChart as RigChartImpl } from '@/components/floor/RigChart';
 import type { DriftTrendChart as DriftTrendChartImpl } from '@/components/trends/DriftTrendChart';
 import type { LotDistributionChart as LotDistributionChartImpl } from '@/components/trends/LotDistributionChart';
+import type { UtilisationChart as UtilisationChartImpl } from '@/components/capacity/UtilisationChart';
 
 // One chunk for all charts (see chart-kit.ts); React.lazy caches the promise per component.
 const kit = () => import('./chart-kit');
 const LazyRig = lazy(() => kit().then((m) => ({ default: m.RigChart })));
 const LazyDrift = lazy(() => kit().then((m) => ({ default: m.DriftTrendChart })));
 const LazyDistribution = lazy(() => kit().then((m) => ({ default: m.LotDistributionChart })));
+const LazyUtilisation = lazy(() => kit().then((m) => ({ default: m.UtilisationChart })));
 
 const fallback = <Loading label="Loading the chart…" variant="spinner" testID="chart-loading" />;
 
@@ -37,6 +39,14 @@ export function LotDistributionChart(props: ComponentProps<typeof LotDistributio
   return (
     <Suspense fallback={fallback}>
       <LazyDistribution {...props} />
+    </Suspense>
+  );
+}
+
+export function UtilisationChart(props: ComponentProps<typeof UtilisationChartImpl>) {
+  return (
+    <Suspense fallback={fallback}>
+      <LazyUtilisation {...props} />
     </Suspense>
   );
 }

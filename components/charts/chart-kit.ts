@@ -6,3 +6,4 @@
 export { RigChart } from '@/components/floor/RigChart';
 export { DriftTrendChart } from '@/components/trends/DriftTrendChart';
 export { LotDistributionChart } from '@/components/trends/LotDistributionChart';
+export { UtilisationChart } from '@/components/capacity/UtilisationChart';

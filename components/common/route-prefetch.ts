@@ -23,6 +23,7 @@ export const SHELL_PAGES: readonly string[] = [
   'audit',
   'account',
   'mail',
+  'qualifications',
 ];
 
 /** Keys of the router's route context (relative to app/) for a path: the root layout, then sign-in or the shell and its page. */

@@ -1,6 +1,6 @@
-import { useState } from 'react';
-import { View } from 'react-native';
-import { DEVICE_KINDS, POLARITIES } from '@/shared/domain/devices';
+import { useEffect, useRef, useState } from 'react';
+import { Platform, View } from 'react-native';
+import { DEVICE_KIND_LABEL, DEVICE_KINDS, impliedPolarity, POLARITIES_BY_KIND } from '@/shared/domain/devices';
 import { deviceTypeCreateSchema, type DeviceType, type DeviceTypeInput } from '@/shared/schemas/devices';
 import { Columns } from '@/components/layout/Content';
 import { describeError, isApiError } from '@/components/queries/api';
@@ -43,6 +43,39 @@ type Key = NumKey | 'partNumber' | 'description' | 'kind' | 'polarity';
 const SCALE: Partial<Record<NumKey, number>> = { icboRefA: 1e9, icboHotA: 1e6 };
 /** Optional numbers: empty means "not given" (null), not "use the default". */
 const NULLABLE: NumKey[] = ['bvceoV', 'icboRefA', 'icboHotA', 'icboHotC', 'icboHotVcbV'];
+
+/** Each field's label as the form shows it (the error summary names fields by these). */
+const FIELD_LABEL: Record<Key, string> = {
+  partNumber: 'Part number',
+  description: 'Description',
+  kind: 'Kind',
+  polarity: 'Polarity',
+  bvcboV: 'BVCBO (V)',
+  bvceoV: 'BVCEO (V, optional)',
+  bveboV: 'BVEBO (V)',
+  breakdownN: 'Breakdown exponent n (–)',
+  pMaxW: 'Power rating (W)',
+  pRatedAtC: 'Rated at case (°C)',
+  tjMaxC: 'Tj max (°C)',
+  icMaxA: 'IC max (A)',
+  thetaJcCPerW: 'θjc (°C/W)',
+  thetaJaCPerW: 'θja (°C/W)',
+  betaRef: 'hFE (–)',
+  betaRefIcA: 'hFE measured at IC (A)',
+  betaRefTC: 'hFE measured at (°C)',
+  xtb: 'XTB (–)',
+  icboRefA: 'ICBO at 25 °C (nA, optional)',
+  icboHotA: 'Hot ICBO (µA)',
+  icboHotC: 'at (°C)',
+  icboHotVcbV: 'at VCB (V)',
+  sbKneeV: 'S/b knee (V)',
+  sbSlopeN: 'S/b slope n (–)',
+};
+
+/** The form's problems in the order the fields appear, as "Label: message" lines. */
+export function errorSummaryLines(errors: Partial<Record<Key, string>>): string[] {
+  return (Object.keys(FIELD_LABEL) as Key[]).filter((k) => errors[k]).map((k) => `${FIELD_LABEL[k]}: ${errors[k]}`);
+}
 
 const EMPTY: Record<NumKey, string> = {
   bvcboV: '',
@@ -88,7 +121,19 @@ export function DeviceTypeForm({ device, onDone, onCancel }: Props) {
   const [partNumber, setPartNumber] = useState(device?.partNumber ?? '');
   const [description, setDescription] = useState(device?.description ?? '');
   const [kind, setKind] = useState<DeviceTypeInput['kind']>(device?.kind ?? 'bjt');
-  const [polarity, setPolarity] = useState<DeviceTypeInput['polarity'] | undefined>(device?.polarity);
+  const [polarity, setPolarity] = useState<DeviceTypeInput['polarity'] | undefined>(device?.polarity ?? impliedPolarity(kind));
+  const polarities = POLARITIES_BY_KIND[kind];
+  const chooseKind = (k: DeviceTypeInput['kind']) => {
+    setKind(k);
+    // Keep a polarity only when it fits the new class; a rectifier has its one polarity.
+    setPolarity((p) => (p && POLARITIES_BY_KIND[k].includes(p) ? p : impliedPolarity(k)));
+  };
+  /** The error summary takes focus after a refused submit (moved to it, read out by screen readers). */
+  const summaryRef = useRef<View>(null);
+  const [focusSummary, setFocusSummary] = useState(0);
+  useEffect(() => {
+    if (focusSummary && Platform.OS === 'web') (summaryRef.current as unknown as HTMLElement | null)?.focus?.();
+  }, [focusSummary]);
   const [nums, setNums] = useState<Record<NumKey, string>>(device ? fromDevice(device) : EMPTY);
   const [errors, setErrors] = useState<Partial<Record<Key, string>>>({});
   const [notice, setNotice] = useState<string | null>(null);
@@ -114,11 +159,15 @@ export function DeviceTypeForm({ device, onDone, onCancel }: Props) {
         else next[k] = issue.message;
       }
       setErrors(next);
+      setFocusSummary((n) => n + 1);
       return;
     }
     setErrors({});
     const onError = (e: unknown) => {
-      if (isApiError(e) && e.fields) setErrors(e.fieldErrors() as Partial<Record<Key, string>>);
+      if (isApiError(e) && e.fields) {
+        setErrors(e.fieldErrors() as Partial<Record<Key, string>>);
+        setFocusSummary((n) => n + 1);
+      }
     };
     if (!device) {
       create.mutate(parsed.data, { onSuccess: onDone, onError });
@@ -133,9 +182,10 @@ export function DeviceTypeForm({ device, onDone, onCancel }: Props) {
     update.mutate({ id: device.id, patch }, { onSuccess: onDone, onError });
   };
 
-  const num = (k: NumKey, label: string, unit: string) => (
+  const summary = errorSummaryLines(errors);
+  const num = (k: NumKey) => (
     <Field
-      label={`${label} (${unit})`}
+      label={FIELD_LABEL[k]}
       value={nums[k]}
       onChangeText={setNum(k)}
       error={errors[k]}
@@ -156,6 +206,19 @@ export function DeviceTypeForm({ device, onDone, onCancel }: Props) {
         <Banner tone="danger" title={device ? 'Not saved' : 'Not added'}>
           {describeError(error)}
         </Banner>
+      ) : null}
+      {summary.length ? (
+        <View ref={summaryRef} tabIndex={-1} aria-label={`${summary.length} to fix before saving`} testID="device-type-errors">
+          <Banner tone="danger" title={`${summary.length} ${summary.length === 1 ? 'field needs' : 'fields need'} fixing before saving`}>
+            <View style={{ gap: 2 }}>
+              {summary.map((line) => (
+                <Text key={line} variant="caption">
+                  {`• ${line}`}
+                </Text>
+              ))}
+            </View>
+          </Banner>
+        </View>
       ) : null}
       {notice ? <Banner tone="info">{notice}</Banner> : null}
       <Columns>
@@ -179,66 +242,73 @@ export function DeviceTypeForm({ device, onDone, onCancel }: Props) {
       <Columns>
         <SegmentedChoice
           label="Kind"
-          options={DEVICE_KINDS.map((k) => ({ value: k, label: k === 'bjt' ? 'Bipolar (BJT)' : k === 'mosfet' ? 'MOSFET' : 'Diode' }))}
+          options={DEVICE_KINDS.map((k) => ({ value: k, label: DEVICE_KIND_LABEL[k] }))}
           value={kind}
-          onChange={setKind}
+          onChange={chooseKind}
           help={DEVICE_HELP.kind}
         />
-        <SegmentedChoice
-          label="Polarity"
-          options={POLARITIES.map((p) => ({ value: p, label: p }))}
-          value={polarity}
-          onChange={setPolarity}
-          error={errors.polarity}
-          help={DEVICE_HELP.polarity}
-        />
+        {polarities.length > 1 ? (
+          <SegmentedChoice
+            label="Polarity"
+            options={polarities.map((p) => ({ value: p, label: p }))}
+            value={polarity}
+            onChange={setPolarity}
+            error={errors.polarity}
+            help={DEVICE_HELP.polarity}
+            testID="device-polarity"
+          />
+        ) : (
+          <Text variant="caption" tone="muted" testID="device-polarity">
+            A rectifier has no polarity to choose.
+          </Text>
+        )}
       </Columns>
 
       <Section title="Breakdown" />
       <Columns>
-        {num('bvcboV', 'BVCBO', 'V')}
-        {num('bvceoV', 'BVCEO', 'V, optional')}
+        {num('bvcboV')}
+        {num('bvceoV')}
       </Columns>
       <Columns>
-        {num('bveboV', 'BVEBO', 'V')}
-        {num('breakdownN', 'Breakdown exponent n', '–')}
+        {num('bveboV')}
+        {num('breakdownN')}
       </Columns>
 
       <Section title="Power and thermal" />
       <Columns>
-        {num('pMaxW', 'Power rating', 'W')}
-        {num('pRatedAtC', 'Rated at case', '°C')}
+        {num('pMaxW')}
+        {num('pRatedAtC')}
       </Columns>
       <Columns>
-        {num('tjMaxC', 'Tj max', '°C')}
-        {num('icMaxA', 'IC max', 'A')}
+        {num('tjMaxC')}
+        {num('icMaxA')}
       </Columns>
       <Columns>
-        {num('thetaJcCPerW', 'θjc', '°C/W')}
-        {num('thetaJaCPerW', 'θja', '°C/W')}
+        {num('thetaJcCPerW')}
+        {num('thetaJaCPerW')}
       </Columns>
 
       <Section title="Gain and leakage" />
       <Columns>
-        {num('betaRef', 'hFE', '–')}
-        {num('betaRefIcA', 'hFE measured at IC', 'A')}
+        {num('betaRef')}
+        {num('betaRefIcA')}
       </Columns>
       <Columns>
-        {num('betaRefTC', 'hFE measured at', '°C')}
-        {num('xtb', 'XTB', '–')}
+        {num('betaRefTC')}
+        {num('xtb')}
       </Columns>
-      {num('icboRefA', 'ICBO at 25 °C', 'nA, optional')}
+      {num('icboRefA')}
       <Text variant="caption">Hot-leakage point, as the data sheet states it (all three, or none):</Text>
       <Columns>
-        {num('icboHotA', 'Hot ICBO', 'µA')}
-        {num('icboHotC', 'at', '°C')}
-        {num('icboHotVcbV', 'at VCB', 'V')}
+        {num('icboHotA')}
+        {num('icboHotC')}
+        {num('icboHotVcbV')}
       </Columns>
 
       <Section title="Forward safe operating area" />
       <Columns>
-        {num('sbKneeV', 'S/b knee', 'V')}
-        {num('sbSlopeN', 'S/b slope n', '–')}
+        {num('sbKneeV')}
+        {num('sbSlopeN')}
       </Columns>
 
       <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>

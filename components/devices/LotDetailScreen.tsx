@@ -19,6 +19,8 @@ import { QueryState } from '@/components/ui/QueryState';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
 import { deviceHref } from './links';
+import { LotDownloads } from '@/components/trends/LotDownloads';
+import { LotTraceabilityCard } from './LotTraceabilityCard';
 import { CSV_HELP, FilePickButton, SERIAL_POLICY, SerialGrid, SerialPreview, SerialProblems } from './SerialInputs';
 import { countOf } from '@/shared/domain/format';
 
@@ -64,8 +66,13 @@ export function LotDetailScreen() {
                   {l.notes}
                 </Banner>
               ) : null}
+              <LotTraceabilityCard lot={l} canWrite={canWrite} />
+              <LotDownloads lotId={l.id} lotCode={l.code} />
               {canWrite ? <AddSerials lot={l} /> : null}
-              <Card title="Serials" description={`Registered ${formatDateTime(l.createdAt)}. Sorted by serial.`}>
+              <Card
+                title="Serials"
+                description={`Registered ${formatDateTime(l.createdAt)}. Sorted by serial. Open a serial for the device's whole history.`}
+              >
                 {l.serials.length === 0 ? (
                   <EmptyState
                     title="No serials yet"

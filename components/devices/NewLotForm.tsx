@@ -13,10 +13,11 @@ import { Field } from '@/components/ui/Field';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
 import { parseNum } from './format';
+import { TraceabilityFields } from './TraceabilityFields';
 import { CSV_HELP, FilePickButton, SERIAL_POLICY, SerialPreview, SerialProblems } from './SerialInputs';
 import { countOf } from '@/shared/domain/format';
 
-type Key = 'code' | 'quantity' | 'dateCode' | 'notes';
+type Key = 'code' | 'quantity' | 'dateCode' | 'notes' | 'waferLot' | 'assemblyLot' | 'dieRevision';
 
 interface Props {
   deviceTypeId: string;
@@ -33,6 +34,9 @@ export function NewLotForm({ deviceTypeId, partNumber, onCreated, onCancel }: Pr
   const [quantity, setQuantity] = useState('');
   const [dateCode, setDateCode] = useState('');
   const [notes, setNotes] = useState('');
+  const [waferLot, setWaferLot] = useState('');
+  const [assemblyLot, setAssemblyLot] = useState('');
+  const [dieRevision, setDieRevision] = useState('');
   const [source, setSource] = useState<'paste' | 'file'>('paste');
   const [pasted, setPasted] = useState('');
   const [file, setFile] = useState<{ name: string; serials: string[]; rows: SerialRowProblem[] } | null>(null);
@@ -45,7 +49,17 @@ export function NewLotForm({ deviceTypeId, partNumber, onCreated, onCancel }: Pr
   const serverRows = rowsFromError(create.error, serials);
 
   const submit = () => {
-    const parsed = lotInputSchema.safeParse({ code, deviceTypeId, quantity: parseNum(quantity), dateCode, notes, serials });
+    const parsed = lotInputSchema.safeParse({
+      code,
+      deviceTypeId,
+      quantity: parseNum(quantity),
+      dateCode,
+      notes,
+      waferLot,
+      assemblyLot,
+      dieRevision,
+      serials,
+    });
     if (!parsed.success) {
       const next: Partial<Record<Key, string>> = {};
       for (const i of parsed.error.issues) {
@@ -111,9 +125,14 @@ export function NewLotForm({ deviceTypeId, partNumber, onCreated, onCancel }: Pr
           value={notes}
           onChangeText={setNotes}
           error={errors.notes}
-          help="Wafer lot, line, anything that explains drift later."
+          help="Line, process change, anything else that explains drift later."
         />
       </Columns>
+      <TraceabilityFields
+        values={{ waferLot, assemblyLot, dieRevision }}
+        onChange={{ waferLot: setWaferLot, assemblyLot: setAssemblyLot, dieRevision: setDieRevision }}
+        errors={errors}
+      />
       <SegmentedChoice
         label="Serials"
         options={[

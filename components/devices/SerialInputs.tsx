@@ -1,11 +1,13 @@
+import { Link } from 'expo-router';
 import { createElement, useRef } from 'react';
-import { Platform, View } from 'react-native';
+import { Platform, Pressable, StyleSheet, View } from 'react-native';
 import type { SerialRowProblem } from '@/shared/schemas/devices';
 import type { PickedFile } from '@/components/queries/lots';
 import { colors, radius, space } from '@/components/theme/tokens';
 import { Banner } from '@/components/ui/Banner';
 import { Button } from '@/components/ui/Button';
 import { StatusShape } from '@/components/ui/StatusShape';
+import { deviceHistoryHref } from './links';
 import { Text } from '@/components/ui/Text';
 import { countOf } from '@/shared/domain/format';
 
@@ -113,21 +115,24 @@ export function SerialGrid({ serials }: { serials: Array<{ id: string; serial: s
       }}
     >
       {serials.map((s) => (
-        <View
-          key={s.id}
-          role="listitem"
-          style={{
-            paddingHorizontal: space.xs,
-            paddingVertical: 2,
-            borderRadius: radius.sm,
-            backgroundColor: colors.surface,
-            borderWidth: 1,
-            borderColor: colors.border,
-          }}
-        >
-          <Text variant="caption">{s.serial}</Text>
+        <View key={s.id} role="listitem">
+          <Link href={deviceHistoryHref(s.id)} asChild>
+            <Pressable accessibilityRole="link" accessibilityLabel={`History of device ${s.serial}`} style={CHIP}>
+              <Text variant="caption">{s.serial}</Text>
+            </Pressable>
+          </Link>
         </View>
       ))}
     </View>
   );
 }
+
+/** One flat style object: a Pressable inside <Link asChild> crashes react-native-web with an array. */
+const CHIP = StyleSheet.flatten({
+  paddingHorizontal: space.xs,
+  paddingVertical: 2,
+  borderRadius: radius.sm,
+  backgroundColor: colors.surface,
+  borderWidth: 1,
+  borderColor: colors.border,
+});

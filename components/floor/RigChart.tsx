@@ -5,6 +5,8 @@ import type { FloorChart } from '@/shared/schemas/floor';
 import { formatLocalTime } from '@/shared/domain/format';
 import { endPadding } from '@/components/charts/axis';
 import { HOLD_PHASE_LABEL, type HoldPhase } from '@/shared/holds/words';
+import { TIER_CAPTION } from '@/shared/domain/telemetry-tiers';
+import { bucketText, timeLabel } from '@/components/floor/chart-labels';
 import { colors, fonts, space } from '@/components/theme/tokens';
 import { Text } from '@/components/ui/Text';
 
@@ -38,8 +40,6 @@ const HOLD_MARK: Record<HoldPhase, { color: string; dash?: string }> = {
   'safe-to-open': { color: '#1F6B3F', dash: '5,3' },
 };
 
-const hhmm = (ms: number) => formatLocalTime(ms);
-
 export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string }) {
   const [width, setWidth] = useState(0);
   const phone = width > 0 && width < 600;
@@ -56,6 +56,7 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
   const yMax = ys.length ? Math.ceil(Math.max(...ys) + 2) : 100;
   const from = Date.parse(chart.from);
   const to = Date.parse(chart.to);
+  const hhmm = (ms: number) => timeLabel(ms, to - from);
   const last = (d: { avg: number }[]) => (d.length ? `${d[d.length - 1].avg.toFixed(1)} °C` : 'no data');
   const marks = (chart.holdSteps ?? []).filter((m) => Date.parse(m.t) >= from && Date.parse(m.t) <= to);
   const hhmmss = (ms: number) => formatLocalTime(ms, true);
@@ -139,8 +140,7 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
             </View>
           ) : null}
           <Text variant="caption" tone="muted" style={{ paddingHorizontal: space.xs }}>
-            {chart.source === 'raw' ? 'From every sample' : 'From per-minute averages'}, one point per{' '}
-            {Math.max(1, Math.round(chart.bucketMs / 1000))} s.
+            {TIER_CAPTION[chart.source]}, one point per {bucketText(chart.bucketMs)}.
           </Text>
         </>
       ) : null}

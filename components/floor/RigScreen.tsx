@@ -27,6 +27,7 @@ import { swingText } from '@/components/runs/RunCycles';
 import { TripResetDialog, rigAnswerText } from './TripResetDialog';
 import { useCan } from '@/components/queries/auth';
 import { Banner } from '@/components/ui/Banner';
+import { RigRuns } from './RigRuns';
 import type { TripResetResult } from '@/shared/schemas/protection';
 
 const SPANS = [
@@ -37,9 +38,9 @@ const SPANS = [
 ] as const;
 const MAX_PLOTTED = 8;
 
-function Row({ label, value }: { label: string; value: string }) {
+function Row({ label, value, testID }: { label: string; value: string; testID?: string }) {
   return (
-    <View style={{ flexDirection: 'row', justifyContent: 'space-between', gap: space.md }}>
+    <View style={{ flexDirection: 'row', justifyContent: 'space-between', gap: space.md }} testID={testID}>
       <Text variant="label" tone="muted">
         {label}
       </Text>
@@ -75,11 +76,19 @@ function SocketDetail({
           label="Current"
           value={s.iA === null ? '—' : Math.abs(s.iA) < 1e-3 ? `${(s.iA * 1e9).toPrecision(3)} nA` : `${(s.iA * 1e3).toPrecision(3)} mA`}
         />
+        {s.junction ? <Row label="Junction (estimated)" value={fmtC(s.junction.tjC)} testID="socket-junction" /> : null}
         <Row label="Bias" value={s.tripped ? 'Tripped (latched off)' : s.caseC === null ? '—' : s.biasOn ? 'On' : 'Off'} />
         {s.tripReason ? <Row label="Trip reason" value={s.tripReason} /> : null}
         {s.cycles ? <Row label="Cycles" value={`${grouped(s.cycles.done)} / ${grouped(s.cycles.target)}`} /> : null}
         {s.cycles ? <Row label="Last ΔTj (from the TSP)" value={swingText(s.cycles.lastDTjLowC, s.cycles.lastDTjHighC)} /> : null}
       </View>
+      {s.junction ? (
+        <Text variant="caption" tone="muted" testID="socket-junction-how">
+          {`Estimated as case ${fmtC(s.junction.caseC)} + θjc ${Number(s.junction.thetaJcCPerW.toPrecision(3))} °C/W × ${Number(
+            s.junction.powerW.toPrecision(3),
+          )} W (|V × I| of this reading): the same estimate protection and stress credit use. Not a measurement.`}
+        </Text>
+      ) : null}
       <Button size="sm" variant="secondary" label={plotted ? 'Remove from chart' : 'Plot on the chart'} onPress={onTogglePlot} />
       {onResetTrip ? <Button size="sm" variant="danger" label="Reset trip…" onPress={onResetTrip} testID="reset-trip" /> : null}
     </Card>
@@ -121,12 +130,12 @@ function Board({ board, code }: { board: FloorBoard; code: string }) {
             <Row label="Hottest case" value={fmtC(t.maxCaseC)} />
             <Row label="Sockets" value={`${t.powered} powered · ${t.tripped} tripped · ${t.empty} empty`} />
             <Row label="Open alarms" value={String(t.openAlarms)} />
-            <Row label="Run" value={t.run ? `${t.run.code} (${t.run.state})` : 'None'} />
             {t.run?.hoursToNextReadPoint != null ? (
               <Row label="Next read point" value={`${t.run.nextReadPointH} h, in ${fmtHours(t.run.hoursToNextReadPoint)} of stress`} />
             ) : null}
             <Row label="Last heard" value={formatDateTime(t.lastSeenAt)} />
           </Card>
+          <RigRuns tile={t} />
           {resetDone ? (
             <Banner tone={resetDone.rig.bias.status === 'confirmed' ? 'ok' : 'warn'} testID="trip-reset-done">
               {`Socket ${resetDone.socket} reset (plan check ${resetDone.planCheck.status}). ${rigAnswerText(resetDone)}`}

@@ -28,6 +28,9 @@ export const DeviceTypeForm = lazyForm<ComponentProps<typeof Kit.DeviceTypeForm>
   kit().then((m) => m.DeviceTypeForm),
 );
 export const NewLotForm = lazyForm<ComponentProps<typeof Kit.NewLotForm>>('NewLotForm', () => kit().then((m) => m.NewLotForm));
+export const LotTraceabilityForm = lazyForm<ComponentProps<typeof Kit.LotTraceabilityForm>>('LotTraceabilityForm', () =>
+  kit().then((m) => m.LotTraceabilityForm),
+);
 export const AddPersonForm = lazyForm<ComponentProps<typeof Kit.AddPersonForm>>('AddPersonForm', () => kit().then((m) => m.AddPersonForm));
 export const PlanFormScreen = lazyForm<Record<string, never>>('PlanFormScreen', () => kit().then((m) => m.PlanFormScreen));
 export const ManualEntryForm = lazyForm<ComponentProps<typeof Kit.ManualEntryForm>>('ManualEntryForm', () =>

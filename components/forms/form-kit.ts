@@ -6,6 +6,7 @@
  */
 export { DeviceTypeForm } from '@/components/devices/DeviceTypeForm';
 export { NewLotForm } from '@/components/devices/NewLotForm';
+export { LotTraceabilityForm } from '@/components/devices/LotTraceabilityForm';
 export { AddPersonForm } from '@/components/people/AddPersonForm';
 export { PlanFormScreen } from '@/components/plans/PlanFormScreen';
 export { ManualEntryForm } from '@/components/readings/ManualEntryForm';

@@ -14,6 +14,8 @@ export type NavIconName =
   | 'rigs'
   | 'approvals'
   | 'audit'
+  | 'capacity'
+  | 'qualifications'
   | 'more'
   | 'account'
   | 'signout';
@@ -72,6 +74,13 @@ export function NavIcon({ name, color, size = 24, accent }: Props) {
           <Path d="M3.5 10h17M8 3v4M16 3v4" {...s} />
           <Rect x={7} y={13} width={6} height={3.4} rx={1} fill={a} />
         </>
+      ) : name === 'capacity' ? (
+        <>
+          <Path d="M4 20h16" {...s} />
+          <Rect x={5} y={11} width={3.5} height={9} rx={1} {...s} />
+          <Rect x={10.25} y={6} width={3.5} height={14} rx={1} {...s} />
+          <Rect x={15.5} y={13} width={3.5} height={7} rx={1} fill={a} stroke={a} />
+        </>
       ) : name === 'trends' ? (
         <>
           <Path d="M4 4v16h16" {...s} />
@@ -100,6 +109,12 @@ export function NavIcon({ name, color, size = 24, accent }: Props) {
         <>
           <Path d="M12 3l7 3v5.5c0 4.2-2.9 7.8-7 9.5-4.1-1.7-7-5.3-7-9.5V6z" {...s} />
           <Path d="M8.8 12.2l2.2 2.2 4.2-4.4" {...s} stroke={a} />
+        </>
+      ) : name === 'qualifications' ? (
+        <>
+          <Rect x={3.5} y={3.5} width={17} height={17} rx={2.5} {...s} />
+          <Path d="M3.5 9.5h17M3.5 15h17M9.5 3.5v17M15 3.5v17" {...s} />
+          <Path d="M16.2 17.6l1.3 1.3 2.2-2.4" {...s} stroke={a} />
         </>
       ) : name === 'audit' ? (
         <>

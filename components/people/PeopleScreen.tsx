@@ -7,7 +7,7 @@ import { formatDateTime } from '@/components/common/format';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { describeError } from '@/components/queries/api';
-import { useMe } from '@/components/queries/auth';
+import { useCan, useMe } from '@/components/queries/auth';
 import { useUpdateUser, useUsers } from '@/components/queries/users';
 import { space } from '@/components/theme/tokens';
 import { Badge, StatusPill } from '@/components/ui/StatusPill';
@@ -32,8 +32,10 @@ type Pending = { kind: 'role'; user: User; role: Role } | { kind: 'active'; user
 
 /** Admin home: who can sign in, with which role. */
 export function PeopleScreen() {
-  const users = useUsers();
   const me = useMe();
+  const may = useCan();
+  // The shell covers this page for other roles, but it stays mounted underneath: ask only when allowed.
+  const users = useUsers(may('user.manage'));
   const update = useUpdateUser();
   const [adding, setAdding] = useState(false);
   const [pending, setPending] = useState<Pending>(null);

@@ -1,5 +1,6 @@
 import { router, useLocalSearchParams, type Href } from 'expo-router';
 import { View } from 'react-native';
+import { icboRuleWords } from '@/shared/domain/criteria-words';
 import { bandRange, bandText } from '@/shared/domain/standards';
 import { PLAN_KIND_LABEL } from '@/shared/domain/stress';
 import type { PlanDetail } from '@/shared/schemas/plans';
@@ -133,7 +134,7 @@ function PlanView({ p, canWrite }: { p: PlanDetail; canWrite: boolean }) {
           <Row label="Read points" value={`${p.readPointsH.join(' / ')} h`} />
           <Row label="Sample / accept" value={`${p.sampleSize} per lot / ${p.acceptNumber}`} />
           <Row label="hFE change" value={`± ${sig(p.criteria.hfeChangePct)} %`} />
-          <Row label="ICBO" value={`≤ ${sig(p.criteria.leakageMultiple)}× initial or ${amps(p.criteria.leakageFloorA)}`} />
+          <Row label="ICBO" value={icboRuleWords(p.criteria)} />
           <Row label="VCE(sat) shift" value={`≤ ${sig(p.criteria.vcesatShiftV * 1000)} mV`} />
           <Row label="Ea / use temperature" value={`${sig(p.eaEv)} eV / ${celsius(p.useC)}`} />
           <Button

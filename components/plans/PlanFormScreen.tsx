@@ -28,7 +28,7 @@ import {
   type FormErrors,
   type FormState,
 } from './plan-form-model';
-import { ConditionsCard, CyclingCard, PlanBasicsCard, StudyCards, Templates, type FormBinding } from './PlanFormSections';
+import { ChamberCard, ConditionsCard, CyclingCard, PlanBasicsCard, StudyCards, Templates, type FormBinding } from './PlanFormSections';
 import { planHref } from './links';
 
 /** New plan, or (with ?from=<version id>) a new version of an existing plan. */
@@ -138,6 +138,7 @@ function PlanForm({ initial, versionOf }: { initial: FormState; versionOf?: { id
       <ConditionsCard f={f} device={device} />
       {!gtTablet ? checkPanel : null}
       {fieldsFor(s.kind).cycling ? <CyclingCard f={f} /> : null}
+      <ChamberCard f={f} />
       <StudyCards f={f} />
     </View>
   );

@@ -15,6 +15,7 @@ import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
 import { METHOD_CHAMBER_BAND_K, bandText } from '@/shared/domain/standards';
+import { AC_CONDITIONS, AC_CONDITION_CODES, CHAMBER_CAUTION } from '@/shared/domain/chamber-methods';
 import type { DeviceType } from '@/shared/schemas/devices';
 import { PLAN_KINDS, PLAN_KIND_LABEL } from '@/shared/domain/stress';
 import type { PlanTemplate } from '@/shared/schemas/plans';
@@ -160,7 +161,14 @@ export function ConditionsCard({ f, device }: { f: FormBinding; device: DeviceTy
   return (
     <Card title="Conditions and bias">
       <Columns>
-        <NumField f={f} k="chamberC" label="Stress temperature (°C, minimum)" help={PLAN_HELP.chamberC} />
+        {shown.autoclave ? null : (
+          <NumField
+            f={f}
+            k="chamberC"
+            label={shown.thermalCycling ? 'Hot extreme (°C)' : 'Stress temperature (°C, minimum)'}
+            help={PLAN_HELP.chamberC}
+          />
+        )}
         {shown.humidity ? <NumField f={f} k="humidityPct" label="Relative humidity (%)" help={PLAN_HELP.humidityPct} /> : tolerance}
       </Columns>
       <Columns>
@@ -204,6 +212,46 @@ export function ConditionsCard({ f, device }: { f: FormBinding; device: DeviceTy
   );
 }
 
+/** The unbiased chamber kinds: the cycling profile (tc) or the autoclave condition (ac), with the chamber's caution. */
+export function ChamberCard({ f }: { f: FormBinding }) {
+  const { s, set, errors } = f;
+  const shown = fieldsFor(s.kind);
+  if (!shown.unbiased || !s.kind) return null;
+  const kind = s.kind as 'tc' | 'htsl' | 'ac';
+  return (
+    <Card
+      title={shown.thermalCycling ? 'Temperature-cycling profile' : shown.autoclave ? 'Autoclave condition' : 'Storage chamber'}
+      description="No bias: the devices are loaded into a chamber by serial list, and its load temperature is the stress."
+    >
+      {shown.thermalCycling ? (
+        <>
+          <Columns>
+            <NumField f={f} k="tcLowC" label="Cold extreme (°C)" help="The load must reach it (band +0/−10 K, JESD22-A104 from memory)." />
+            <NumField f={f} k="tcCycles" label="Cycles" />
+          </Columns>
+          <Columns>
+            <NumField f={f} k="tcDwellMin" label="Dwell at each extreme (min)" />
+            <NumField f={f} k="tcRampKPerMin" label="Air ramp (K/min)" />
+          </Columns>
+          <Text variant="caption" tone="muted">
+            The stress temperature above is the hot extreme. Read points below are in cycles.
+          </Text>
+        </>
+      ) : null}
+      {shown.autoclave ? (
+        <SegmentedChoice
+          label="Condition"
+          options={AC_CONDITION_CODES.map((c) => ({ value: c, label: AC_CONDITIONS[c].label }))}
+          value={s.acCondition}
+          onChange={set('acCondition')}
+          error={errors.acCondition}
+        />
+      ) : null}
+      <SafetyCaution compact context={CHAMBER_CAUTION[kind]} testID="plan-chamber-caution" />
+    </Card>
+  );
+}
+
 export function CyclingCard({ f }: { f: FormBinding }) {
   return (
     <Card title="Power cycling" description={PLAN_HELP.cycle}>
@@ -222,13 +270,14 @@ export function CyclingCard({ f }: { f: FormBinding }) {
 /** Duration and read points, sample and criteria, acceleration, notes. */
 export function StudyCards({ f }: { f: FormBinding }) {
   const { s, set, errors } = f;
+  const inCycles = fieldsFor(s.kind).thermalCycling;
   return (
     <>
       <Card title="Duration and read points">
         <Columns>
-          <NumField f={f} k="durationH" label="Duration (h)" help={PLAN_HELP.durationH} />
+          {inCycles ? null : <NumField f={f} k="durationH" label="Duration (h)" help={PLAN_HELP.durationH} />}
           <Field
-            label="Read points (h)"
+            label={inCycles ? 'Read points (cycles)' : 'Read points (h)'}
             value={s.readPoints}
             onChangeText={set('readPoints')}
             error={errors.readPoints}

@@ -16,6 +16,16 @@ export const KIND_HELP: Record<PlanKind, string> = {
   thb:
     'Temperature-humidity-bias: 85 °C and 85 % RH with the junction reverse biased. Moisture and the field together drive corrosion and ' +
     'ionic leakage through the package. JESD22-A101.',
+  tc:
+    'Temperature cycling: unbiased devices in a chamber whose air swings between two extremes (−55/+125 °C, condition B) with a dwell ' +
+    'at each. The package, solder and die attach fatigue as they expand and shrink. Counted in cycles; read points pause the chamber ' +
+    'and the devices come out to be measured. JESD22-A104.',
+  htsl:
+    'High-temperature storage life: an unbiased bake (150 °C for 1000 h is usual). It ages bond intermetallics and the die ' +
+    'surface without any field. JESD22-A103.',
+  ac:
+    'Autoclave (121 °C, 100 % RH, about 2 atm, JESD22-A102) or unbiased HAST (JESD22-A118): steam under pressure drives moisture ' +
+    'into the package with no bias. A package-integrity test: pass/fail, no failure rate. The vessel is a pressure vessel.',
 };
 
 export const PLAN_HELP = {

@@ -12,7 +12,22 @@ import {
   DEFAULT_USE_C,
   REVERSE_BIAS_FRACTION,
 } from '@/shared/domain/standards';
-import { isCyclingKind, isHumidityKind, isPoweredKind, isReverseBiasKind } from '@/shared/domain/stress';
+import {
+  isCyclingKind,
+  isHumidityKind,
+  isPoweredKind,
+  isReverseBiasKind,
+  isThermalCyclingKind,
+  isUnbiasedKind,
+} from '@/shared/domain/stress';
+import {
+  AC_CONDITIONS,
+  TC_DEFAULT_CYCLES,
+  TC_DEFAULT_DWELL_MIN,
+  TC_DEFAULT_RAMP_K_PER_MIN,
+  type AcConditionCode,
+} from '@/shared/domain/chamber-methods';
+import { tcPeriodH } from '@/shared/chamber/profile';
 import { HTRB_SAMPLE, IOL_CYCLES, IOL_DELTA_TJ_C, IOL_OFF_MIN, IOL_ON_MIN } from '@/shared/plan-templates';
 import { criteriaSchema, planInputSchema, type PlanInput, type PlanKind } from '@/shared/schemas/plans';
 
@@ -48,6 +63,13 @@ export interface FormState {
   offMin: string;
   deltaTjC: string;
   cycles: string;
+  /** Temperature cycling: the cold extreme (the hot one is chamberC), dwell, ramp, cycles; read points are then typed in cycles. */
+  tcLowC: string;
+  tcDwellMin: string;
+  tcRampKPerMin: string;
+  tcCycles: string;
+  /** Autoclave / unbiased HAST condition. */
+  acCondition: AcConditionCode;
   notes: string;
 }
 export type FormKey = keyof FormState;
@@ -86,6 +108,11 @@ export const EMPTY_FORM: FormState = {
   offMin: numText(IOL_OFF_MIN),
   deltaTjC: numText(IOL_DELTA_TJ_C),
   cycles: numText(IOL_CYCLES),
+  tcLowC: '-55',
+  tcDwellMin: numText(TC_DEFAULT_DWELL_MIN),
+  tcRampKPerMin: numText(TC_DEFAULT_RAMP_K_PER_MIN),
+  tcCycles: numText(TC_DEFAULT_CYCLES),
+  acCondition: 'autoclave',
   notes: '',
 };
 
@@ -93,16 +120,48 @@ export const EMPTY_FORM: FormState = {
 export const emptyForm = (deviceTypeId?: string): FormState => ({ ...EMPTY_FORM, deviceTypeId });
 
 /** Which groups of fields the chosen stress shows (and sends). */
-export function fieldsFor(kind: PlanKind | undefined): { reverse: boolean; powered: boolean; humidity: boolean; cycling: boolean } {
+export function fieldsFor(kind: PlanKind | undefined): {
+  reverse: boolean;
+  powered: boolean;
+  humidity: boolean;
+  cycling: boolean;
+  unbiased: boolean;
+  thermalCycling: boolean;
+  autoclave: boolean;
+} {
   return {
     reverse: !!kind && isReverseBiasKind(kind),
     powered: !!kind && isPoweredKind(kind),
-    humidity: !!kind && isHumidityKind(kind),
+    // The autoclave's humidity comes with its condition, not typed.
+    humidity: !!kind && isHumidityKind(kind) && kind !== 'ac',
     cycling: !!kind && isCyclingKind(kind),
+    unbiased: !!kind && isUnbiasedKind(kind),
+    thermalCycling: !!kind && isThermalCyclingKind(kind),
+    autoclave: kind === 'ac',
   };
 }
 
+/** The form's cycling profile as numbers (undefined where not typed). */
+function tcProfile(s: FormState) {
+  return {
+    lowC: parseNum(s.tcLowC),
+    highC: parseNum(s.chamberC),
+    dwellMin: parseNum(s.tcDwellMin),
+    rampKPerMin: parseNum(s.tcRampKPerMin),
+    cycles: parseNum(s.tcCycles),
+  };
+}
+/** Hours of one cycle of the typed profile, or undefined until it is complete and sensible. */
+function tcPeriodOf(s: FormState): number | undefined {
+  const p = tcProfile(s);
+  if (p.lowC === undefined || p.highC === undefined || p.dwellMin === undefined || !(p.rampKPerMin! > 0)) return undefined;
+  const h = tcPeriodH({ lowC: p.lowC, highC: p.highC, dwellMin: p.dwellMin, rampKPerMin: p.rampKPerMin! });
+  return h > 0 ? h : undefined;
+}
+
 export function formFromPlan(p: PlanInput): FormState {
+  const tc = p.kind === 'tc' ? p.thermalCycle : null;
+  const periodH = tc ? tcPeriodH(tc) : 0;
   return {
     name: p.name,
     kind: p.kind,
@@ -119,7 +178,8 @@ export function formFromPlan(p: PlanInput): FormState {
     icmA: numText(p.bias.icA, 1e3),
     tolerancePct: numText(p.bias.tolerancePct),
     durationH: numText(p.durationH),
-    readPoints: p.readPointsH.join(', '),
+    // A cycling plan's read points are typed in cycles.
+    readPoints: tc ? p.readPointsH.map((h) => Math.round(h / periodH)).join(', ') : p.readPointsH.join(', '),
     sampleSize: numText(p.sampleSize),
     acceptNumber: numText(p.acceptNumber),
     hfeChangePct: numText(p.criteria.hfeChangePct),
@@ -133,6 +193,11 @@ export function formFromPlan(p: PlanInput): FormState {
     offMin: numText(p.cycle?.offMin ?? IOL_OFF_MIN),
     deltaTjC: numText(p.cycle?.deltaTjC ?? IOL_DELTA_TJ_C),
     cycles: numText(p.cycle?.cycles ?? IOL_CYCLES),
+    tcLowC: numText(tc?.lowC ?? -55),
+    tcDwellMin: numText(tc?.dwellMin ?? TC_DEFAULT_DWELL_MIN),
+    tcRampKPerMin: numText(tc?.rampKPerMin ?? TC_DEFAULT_RAMP_K_PER_MIN),
+    tcCycles: numText(tc?.cycles ?? TC_DEFAULT_CYCLES),
+    acCondition: p.acCondition ?? 'autoclave',
     notes: p.notes,
   };
 }
@@ -150,21 +215,27 @@ const orNull = (s: string, k = 1) => scaled(s, k) ?? null;
 
 /** The form as a plan body for the schema: only the fields that belong to the chosen stress. */
 export function rawFromForm(s: FormState): Record<string, unknown> {
-  const { reverse, powered, humidity, cycling } = fieldsFor(s.kind);
-  const points = s.readPoints
+  const { reverse, powered, humidity, cycling, thermalCycling, autoclave } = fieldsFor(s.kind);
+  const periodH = thermalCycling ? tcPeriodOf(s) : undefined;
+  const typed = s.readPoints
     .split(/[\s,;]+/)
     .filter(Boolean)
     .map((x) => parseNum(x));
+  // Temperature cycling: read points typed in cycles, kept as the plan's hours (cycles × the profile's period).
+  const points = thermalCycling ? typed.map((c) => (c === undefined || periodH === undefined ? undefined : c * periodH)) : typed;
+  const tc = tcProfile(s);
+  const ac = AC_CONDITIONS[s.acCondition];
+  const chamber = autoclave ? { chamberC: ac.chamberC, humidityPct: ac.humidityPct } : null;
   return {
     name: s.name,
     kind: s.kind,
     deviceTypeId: s.deviceTypeId,
-    chamberC: scaled(s.chamberC, 1),
+    chamberC: chamber ? chamber.chamberC : scaled(s.chamberC, 1),
     chamberBand:
       s.bandBelowK.trim() === '' && s.bandAboveK.trim() === ''
         ? null
         : { belowK: scaled(s.bandBelowK, 1), aboveK: scaled(s.bandAboveK, 1) },
-    humidityPct: humidity ? orNull(s.humidityPct) : null,
+    humidityPct: chamber ? chamber.humidityPct : humidity ? orNull(s.humidityPct) : null,
     bias: {
       vcbV: reverse ? orNull(s.vcbV) : null,
       vebV: reverse ? orNull(s.vebV) : null,
@@ -173,7 +244,11 @@ export function rawFromForm(s: FormState): Record<string, unknown> {
       icA: powered && s.biasMode === 'ic' ? orNull(s.icmA, 1e-3) : null,
       tolerancePct: scaled(s.tolerancePct, 1),
     },
-    durationH: scaled(s.durationH, 1),
+    durationH: thermalCycling
+      ? periodH !== undefined && tc.cycles !== undefined
+        ? tc.cycles * periodH
+        : undefined
+      : scaled(s.durationH, 1),
     readPointsH: points,
     sampleSize: scaled(s.sampleSize, 1),
     acceptNumber: scaled(s.acceptNumber, 1),
@@ -188,6 +263,8 @@ export function rawFromForm(s: FormState): Record<string, unknown> {
     cycle: cycling
       ? { onMin: scaled(s.onMin, 1), offMin: scaled(s.offMin, 1), deltaTjC: scaled(s.deltaTjC, 1), cycles: scaled(s.cycles, 1) }
       : null,
+    thermalCycle: thermalCycling ? tc : null,
+    acCondition: autoclave ? s.acCondition : null,
     breakdownDerating: scaled(s.deratingPct, 0.01),
     notes: s.notes,
   };
@@ -209,6 +286,13 @@ const PATH_TO_FIELD: Record<string, FormKey> = {
   'cycle.offMin': 'offMin',
   'cycle.deltaTjC': 'deltaTjC',
   'cycle.cycles': 'cycles',
+  'thermalCycle.lowC': 'tcLowC',
+  'thermalCycle.highC': 'chamberC',
+  'thermalCycle.dwellMin': 'tcDwellMin',
+  'thermalCycle.rampKPerMin': 'tcRampKPerMin',
+  'thermalCycle.cycles': 'tcCycles',
+  thermalCycle: 'tcLowC',
+  durationH: 'durationH',
   'chamberBand.belowK': 'bandBelowK',
   'chamberBand.aboveK': 'bandAboveK',
   chamberBand: 'bandAboveK',
@@ -239,6 +323,11 @@ export const FIELD_LABEL: Partial<Record<FormKey, string>> = {
   deltaTjC: 'ΔTj',
   cycles: 'Cycles',
   deratingPct: 'Breakdown derating',
+  tcLowC: 'Cold extreme',
+  tcDwellMin: 'Dwell',
+  tcRampKPerMin: 'Ramp',
+  tcCycles: 'Cycles',
+  acCondition: 'Autoclave condition',
 };
 
 export function fieldOf(path: PropertyKey[]): FormKey {

@@ -50,4 +50,6 @@ export function useDeviceTypeSummary(id: string | undefined, q: { ltpdPct: numbe
   });
 }
 
-export const lotReportUrl = (id: string, kind: 'csv' | 'pdf') => `/api/analytics/lots/${encodeURIComponent(id)}/report.${kind}`;
+/** The lot report's downloads and the certificate of conformance (server/modules/reports). */
+export const lotReportUrl = (id: string, kind: 'csv' | 'pdf') => `/api/reports/lots/${encodeURIComponent(id)}/report.${kind}`;
+export const certificateUrl = (id: string) => `/api/reports/lots/${encodeURIComponent(id)}/certificate.pdf`;

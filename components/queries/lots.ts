@@ -1,5 +1,5 @@
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import type { AddSerialsInput, Lot, LotDetail, LotInput, SerialRowProblem } from '@/shared/schemas/devices';
+import type { AddSerialsInput, Lot, LotDetail, LotInput, LotPatch, SerialRowProblem } from '@/shared/schemas/devices';
 import type { ErrorCode } from '@/shared/schemas/errors';
 import { api, ApiError, REQUEST_TIMEOUT_MS, serverBody } from './api';
 import { CATALOG_STALE_MS, catalogKeys } from './device-types';
@@ -104,6 +104,18 @@ export function useCreateLot() {
         qc.invalidateQueries({ queryKey: catalogKeys.lots.all }),
         qc.invalidateQueries({ queryKey: catalogKeys.deviceTypes.all }),
       ]),
+  });
+}
+
+/** Changes a lot's date code, notes and traceability fields (PATCH /api/lots/:id). */
+export function useUpdateLot(lotId: string) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (patch: LotPatch) => api<LotDetail>(`/api/lots/${encodeURIComponent(lotId)}`, { method: 'PATCH', body: patch }),
+    onSuccess: (lot) => {
+      qc.setQueryData(catalogKeys.lots.one(lot.id), lot);
+      return qc.invalidateQueries({ queryKey: catalogKeys.lots.all });
+    },
   });
 }
 

@@ -9,7 +9,6 @@ import type {
   StoredReading,
   UploadRecord,
   UploadResult,
-  Units,
   ColumnMapping,
 } from '@/shared/schemas/measurements';
 import { readApiError } from '@/shared/domain/api-error';
@@ -76,7 +75,6 @@ export interface UploadInput {
   preview: boolean;
   file: PickedFile;
   mapping: ColumnMapping;
-  units: Units;
   defaultTempC: number;
   /** Why the file replaces stored readings (needed when it does). */
   reason?: string;
@@ -88,7 +86,6 @@ export function uploadReadings(input: UploadInput): Promise<UploadResult> {
   return new Promise((resolve, reject) => {
     const form = new FormData();
     form.append('mapping', JSON.stringify(input.mapping));
-    form.append('units', JSON.stringify(input.units));
     form.append('defaultTempC', String(input.defaultTempC));
     if (input.reason) form.append('reason', input.reason);
     if (input.file.blob) form.append('file', input.file.blob, input.file.name);

@@ -3,6 +3,9 @@ import { keepPreviousData, useMutation, useQuery, useQueryClient } from '@tansta
 import type {
   BookRunInput,
   BookSampleInput,
+  CalendarApplyInput,
+  CalendarApplyResult,
+  CalendarProposal,
   ProposalInput,
   ProposalResult,
   Run,
@@ -18,7 +21,7 @@ import { api, ApiError } from './api';
 
 export const runKeys = {
   all: ['runs'] as const,
-  list: (f: { open?: boolean }) => ['runs', 'list', f.open ? 'open' : 'all'] as const,
+  list: (f: { open?: boolean; rigId?: string }) => ['runs', 'list', f.open ? 'open' : 'all', f.rigId ?? 'every rig'] as const,
   one: (id: string) => ['runs', 'one', id] as const,
   timeline: () => ['runs', 'timeline'] as const,
   permit: (id: string) => ['runs', 'permit', id] as const,
@@ -37,10 +40,12 @@ export function useStartPermit(id: string, enabled: boolean) {
 /** Live screens refresh this often (the scheduler moves runs on its own). */
 export const RUN_REFRESH_MS = 3_000;
 
-export function useRuns(filter: { open?: boolean } = {}) {
+export function useRuns(filter: { open?: boolean; rigId?: string } = {}, enabled = true) {
+  const q = [filter.open ? 'open=1' : '', filter.rigId ? `rigId=${encodeURIComponent(filter.rigId)}` : ''].filter(Boolean).join('&');
   return useQuery({
     queryKey: runKeys.list(filter),
-    queryFn: ({ signal }) => api<{ items: Run[] }>(`/api/runs${filter.open ? '?open=1' : ''}`, { signal }).then((r) => r.items),
+    queryFn: ({ signal }) => api<{ items: Run[] }>(`/api/runs${q ? `?${q}` : ''}`, { signal }).then((r) => r.items),
+    enabled,
     refetchInterval: RUN_REFRESH_MS * 2,
   });
 }
@@ -60,6 +65,24 @@ export function useTimeline() {
     queryFn: ({ signal }) => api<Timeline>('/api/runs/timeline', { signal }),
     refetchInterval: RUN_REFRESH_MS * 2,
     placeholderData: keepPreviousData,
+  });
+}
+
+/** The calendar ordered by priority-weighted lateness (asked for on demand; stores nothing). */
+export function useCalendarProposal(enabled: boolean) {
+  return useQuery({
+    queryKey: ['runs', 'calendar'] as const,
+    queryFn: ({ signal }) => api<CalendarProposal>('/api/runs/calendar', { signal }),
+    enabled,
+    staleTime: 0,
+  });
+}
+
+export function useApplyCalendar() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (input: CalendarApplyInput) => api<CalendarApplyResult>('/api/runs/calendar', { method: 'POST', body: input }),
+    onSettled: () => qc.invalidateQueries({ queryKey: runKeys.all }),
   });
 }
 

@@ -4,11 +4,13 @@ import { api } from './api';
 import type { Me } from './auth';
 import { keys, STALE } from './keys';
 
-export function useUsers() {
+/** The people list; `enabled` false for a role that may not read it (no request that would answer 403). */
+export function useUsers(enabled = true) {
   return useQuery({
     queryKey: keys.users.list(),
     queryFn: ({ signal }) => api<{ items: User[] }>('/api/users', { signal }).then((r) => r.items),
     staleTime: STALE.adminList,
+    enabled,
   });
 }
 

@@ -4,6 +4,7 @@
  * earlier value stays). Time zero after Start, a finished run's readings and withdrawing a failure
  * are an engineer's deviation (shared/domain/records.ts); the server says so when refused.
  */
+import { router } from 'expo-router';
 import { useState } from 'react';
 import { View } from 'react-native';
 import { formatDateTime } from '@/components/common/format';
@@ -20,6 +21,7 @@ import { RECORD_DEVIATION_LABEL, type RecordDeviationKind } from '@/shared/domai
 import type { ReadingVersion, StoredReading } from '@/shared/schemas/measurements';
 import { CorrectReadingForm } from '@/components/forms/LazyForms';
 import { readingText } from './reading-text';
+import { deviceHistoryHref } from '@/components/devices/links';
 
 const deviationText = (kinds: RecordDeviationKind[]) => kinds.map((k) => RECORD_DEVIATION_LABEL[k]).join('; ');
 
@@ -80,6 +82,14 @@ function ReadingRow({ runId, r }: { runId: string; r: StoredReading }) {
           label={open === 'history' ? `Hide history of ${r.serial}` : `History of ${r.serial}`}
           onPress={() => setOpen(open === 'history' ? null : 'history')}
           testID={`history-${r.serial}`}
+        />
+        <Button
+          size="sm"
+          variant="quiet"
+          label={`Device page of ${r.serial}`}
+          accessibilityHint="Every socket, run, reading, trip and disposition of this device"
+          onPress={() => router.push(deviceHistoryHref(r.deviceId))}
+          testID={`device-page-${r.serial}`}
         />
         {may('measurement.correct') ? (
           <Button

@@ -1,17 +1,10 @@
 import { useState } from 'react';
 import { CORRECTION_REASON_MIN } from '@/shared/domain/records';
 import { View } from 'react-native';
-import {
-  COLUMN_LABEL,
-  CURRENT_UNITS,
-  LEAKAGE_UNITS,
-  MEASUREMENT_COLUMNS,
-  REQUIRED_COLUMNS,
-  UNIT_LABEL,
-  UPLOAD_MAX_BYTES,
-  VOLTAGE_UNITS,
-} from '@/shared/domain/measurement-columns';
-import type { UploadResult, Units } from '@/shared/schemas/measurements';
+import { COLUMN_GUIDE, COLUMN_LABEL, MEASUREMENT_COLUMNS, REQUIRED_COLUMNS, UPLOAD_MAX_BYTES } from '@/shared/domain/measurement-columns';
+import { checkSummary } from '@/shared/domain/upload-summary';
+import type { UploadResult } from '@/shared/schemas/measurements';
+import { formatDateTime } from '@/components/common/format';
 import { describeError } from '@/components/queries/api';
 import { RowsError, useUploadReadings, type PickedFile } from '@/components/queries/measurements';
 import { colors, radius, space } from '@/components/theme/tokens';
@@ -19,10 +12,11 @@ import { Banner } from '@/components/ui/Banner';
 import { Button } from '@/components/ui/Button';
 import { Card } from '@/components/ui/Card';
 import { Field } from '@/components/ui/Field';
-import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
-import { csvHeaders, doubleUsed, guessColumns, missingRequired, toMapping, type ColumnChoice } from './csv-header';
+import { csvHeaders, doubleUsed, guessColumns, missingRequired, toMapping, unitNote, unitProblems, type ColumnChoice } from './csv-header';
+import { ColumnSelect } from './ColumnSelect';
 import { CsvFilePicker } from './CsvFilePicker';
+import { FileDownloads } from './FileDownloads';
 import { RowOutcomes } from './RowOutcomes';
 import { countOf, nounFor } from '@/shared/domain/format';
 
@@ -54,7 +48,6 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
   const [headers, setHeaders] = useState<string[]>([]);
   const [choice, setChoice] = useState<ColumnChoice | null>(null);
   const [editColumns, setEditColumns] = useState(false);
-  const [units, setUnits] = useState<Units>({ icbo: 'nA', hfeIc: 'A', vcesat: 'V' });
   const [tempC, setTempC] = useState('25');
   const [preview, setPreview] = useState<UploadResult | null>(null);
   const [stored, setStored] = useState<UploadResult | null>(null);
@@ -82,7 +75,7 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
     setFile(f);
     setHeaders(hs);
     setChoice(guess);
-    setEditColumns(missingRequired(guess).length > 0);
+    setEditColumns(missingRequired(guess).length > 0 || Object.keys(unitProblems(guess)).length > 0);
   };
 
   const temp = Number(tempC);
@@ -90,7 +83,11 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
     tempC.trim() === '' || !Number.isFinite(temp) || temp < -65 || temp > 300 ? 'Enter a temperature between −65 and 300 °C' : undefined;
   const missing = choice ? missingRequired(choice) : [];
   const doubled = choice ? doubleUsed(choice) : [];
-  const ready = !!file && !!choice && !missing.length && !doubled.length && !tempError;
+  const badUnits = choice ? unitProblems(choice) : {};
+  const ready = !!file && !!choice && !missing.length && !doubled.length && !Object.keys(badUnits).length && !tempError;
+  const checked = preview
+    ? checkSummary(preview, preview.previousUpload ? formatDateTime(preview.previousUpload.createdAt) : undefined)
+    : null;
 
   const send = (isPreview: boolean) => {
     if (!file || !choice) return;
@@ -103,7 +100,6 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
         preview: isPreview,
         file,
         mapping: toMapping(choice),
-        units,
         defaultTempC: temp,
         reason: reason.trim() || undefined,
         onProgress: isPreview ? undefined : setProgress,
@@ -132,6 +128,15 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
       testID="upload-panel"
     >
       <View style={{ gap: space.md }}>
+        <View style={{ gap: space.xxs }} testID="accepted-columns">
+          <Text variant="label">Columns the file may have (units go in the header, e.g. “IC (mA)”, “ICBO [nA]”, “VCE(sat)/V”)</Text>
+          {MEASUREMENT_COLUMNS.map((c) => (
+            <Text key={c} variant="caption" tone="muted">
+              {`${COLUMN_LABEL[c]}${REQUIRED_COLUMNS.includes(c) ? '' : ' (optional)'} · ${COLUMN_GUIDE[c].unit}`}
+            </Text>
+          ))}
+        </View>
+        <FileDownloads />
         <CsvFilePicker onPick={onPick} disabled={upload.isPending} fileName={file?.name ?? null} />
         {file && choice ? (
           <>
@@ -153,64 +158,42 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
                   <Button size="sm" variant="quiet" label="Change columns" onPress={() => setEditColumns(true)} testID="edit-columns" />
                 </View>
               ) : null}
-              {!editColumns
-                ? null
-                : MEASUREMENT_COLUMNS.map((c) => {
+              {!editColumns ? null : (
+                <View style={{ gap: space.xs }} testID="column-mapping">
+                  {MEASUREMENT_COLUMNS.map((c) => {
                     const required = REQUIRED_COLUMNS.includes(c);
+                    const h = choice[c];
                     return (
-                      <SegmentedChoice
+                      <ColumnSelect
                         key={c}
-                        label={`${COLUMN_LABEL[c]}${required ? '' : ' (optional)'}`}
-                        options={[...headers.map((h) => ({ value: h, label: h })), { value: NONE, label: 'Not in file' }]}
-                        value={choice[c] ?? NONE}
+                        label={`${COLUMN_LABEL[c].replace(/ \(.{5,}\)$/, '')}${required ? '' : ' (optional)'}`}
+                        options={[{ value: NONE, label: 'Not in file' }, ...headers.map((x) => ({ value: x, label: x }))]}
+                        value={h ?? NONE}
                         onChange={(v) => {
                           reset();
                           setChoice({ ...choice, [c]: v === NONE ? null : v });
                         }}
                         error={
-                          required && !choice[c]
+                          required && !h
                             ? 'Choose the column that holds this value'
-                            : choice[c] && doubled.includes(choice[c]!)
+                            : h && doubled.includes(h)
                               ? 'This column is chosen twice'
-                              : undefined
+                              : badUnits[c]
                         }
+                        help={h ? unitNote(c, h) || undefined : undefined}
                         testID={`map-${c}`}
                       />
                     );
                   })}
+                </View>
+              )}
             </View>
+            {!editColumns && Object.keys(badUnits).length ? (
+              <Banner tone="danger" title="Units the file does not state" testID="unit-problems">
+                {Object.values(badUnits).join(' ')}
+              </Banner>
+            ) : null}
             <View style={{ gap: space.sm }}>
-              <Text variant="heading" heading={3}>
-                Units in the file
-              </Text>
-              <SegmentedChoice
-                label="ICBO leakage"
-                options={LEAKAGE_UNITS.map((u) => ({ value: u, label: UNIT_LABEL[u] }))}
-                value={units.icbo}
-                onChange={(v) => {
-                  reset();
-                  setUnits({ ...units, icbo: v });
-                }}
-                testID="unit-icbo"
-              />
-              <SegmentedChoice
-                label="IC for hFE"
-                options={CURRENT_UNITS.map((u) => ({ value: u, label: UNIT_LABEL[u] }))}
-                value={units.hfeIc}
-                onChange={(v) => {
-                  reset();
-                  setUnits({ ...units, hfeIc: v });
-                }}
-              />
-              <SegmentedChoice
-                label="VCE(sat)"
-                options={VOLTAGE_UNITS.map((u) => ({ value: u, label: UNIT_LABEL[u] }))}
-                value={units.vcesat}
-                onChange={(v) => {
-                  reset();
-                  setUnits({ ...units, vcesat: v });
-                }}
-              />
               <Field
                 label="Measurement temperature when the file has none (°C)"
                 keyboardType="numeric"
@@ -242,10 +225,10 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
                 testID="upload-preview"
               />
               <Button
-                label={preview ? `Store ${countOf(preview.stored, 'reading')}` : 'Store readings'}
+                label={checked ? `Store ${countOf(checked.storable, 'reading')}` : 'Store readings'}
                 variant="primary"
                 onPress={() => send(false)}
-                disabled={!ready || !preview || preview.stored === 0}
+                disabled={!ready || !checked || checked.storable === 0}
                 busy={upload.isPending && progress !== null}
                 busyLabel="Storing…"
                 accessibilityHint="Check the rows first; only rows without problems are stored"
@@ -269,7 +252,7 @@ export function UploadPanel({ runId, hours }: { runId: string; hours: number }) 
         {preview ? (
           <View style={{ gap: space.sm }} testID="upload-preview-result">
             <Banner tone={preview.rejected ? 'warn' : 'ok'} title="Checked — nothing stored yet">
-              {`${preview.rowsTotal} rows: ${preview.inserted} new, ${preview.replaced} replace a stored reading${preview.replaced ? ' (needs a reason)' : ''}, ${preview.unchanged} already stored, ${preview.rejected} refused${preview.late ? `, ${preview.late} late` : ''}. ${preview.notes.join(' ')}`}
+              {checked?.text}
             </Banner>
             <RowOutcomes rows={preview.rows} testID="upload-preview-rows" />
           </View>

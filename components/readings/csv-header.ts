@@ -1,4 +1,4 @@
-import { MEASUREMENT_COLUMNS, ownColumn, REQUIRED_COLUMNS } from '@/shared/domain/measurement-columns';
+import { columnUnit, MEASUREMENT_COLUMNS, ownColumn, REQUIRED_COLUMNS, UNIT_LABEL } from '@/shared/domain/measurement-columns';
 import type { ColumnMapping, MeasurementColumn } from '@/shared/schemas/measurements';
 
 /** The header cells of a CSV's first line (same delimiter rule as the server: , ; or tab, whichever is most common). */
@@ -57,4 +57,22 @@ export function doubleUsed(choice: ColumnChoice): string[] {
   const seen = new Map<string, number>();
   for (const h of Object.values(choice)) if (h) seen.set(h, (seen.get(h) ?? 0) + 1);
   return [...seen].filter(([, n]) => n > 1).map(([h]) => h);
+}
+
+/** Each chosen column's unit as its header states it, or the problem (the same rule the server applies). */
+export function unitProblems(choice: ColumnChoice): Partial<Record<MeasurementColumn, string>> {
+  const out: Partial<Record<MeasurementColumn, string>> = {};
+  for (const c of MEASUREMENT_COLUMNS) {
+    const h = choice[c];
+    if (!h) continue;
+    const u = columnUnit(c, h);
+    if (u.problem) out[c] = u.problem;
+  }
+  return out;
+}
+
+/** "mA (from the header)" for a column with a unit, '' for one without. */
+export function unitNote(c: MeasurementColumn, header: string): string {
+  const u = columnUnit(c, header);
+  return u.unit ? `Unit ${UNIT_LABEL[u.unit]}, from the header` : '';
 }

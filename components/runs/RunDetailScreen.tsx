@@ -3,8 +3,10 @@
  * a reason), socket loading from a pasted column of serials with every flag shown before saving,
  * the socket map and the audit trail.
  */
+import { Link } from 'expo-router';
 import { useState } from 'react';
 import { View } from 'react-native';
+import { deviceHistoryHref } from '@/components/devices/links';
 import { formatDateTime } from '@/components/common/format';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
@@ -30,6 +32,7 @@ import { DEFAULT_HOLD_SETTINGS, HOLD_PHASES, HOLD_PHASE_LABEL, holdPhaseText } f
 import { RUN_ACTIONS, RUN_ACTION_LABEL } from '@/shared/domain/run-states';
 import type { RunAction, RunDetail, RunSocket, SocketFlag, SocketLoadResult } from '@/shared/schemas/runs';
 import { RUN_STATE_TONE, columnToSocketMap, hours } from './run-look';
+import { RunChamberCard } from './RunChamber';
 import { RunCyclesCard, socketCyclesText } from './RunCycles';
 import { countOf } from '@/shared/domain/format';
 
@@ -476,7 +479,22 @@ export function RunDetailScreen({ id }: { id: string }) {
   const may = (a: RunAction) => can(`run.${a}`);
   const socketColumns: Column<RunSocket>[] = [
     { key: 'socket', title: 'Socket', flex: 0.6, card: 'title', render: (s) => `Socket ${s.socket}` },
-    { key: 'serial', title: 'Serial', flex: 1, render: (s) => s.serial },
+    {
+      key: 'serial',
+      title: 'Serial',
+      flex: 1,
+      render: (s) => (
+        <Link
+          href={deviceHistoryHref(s.deviceId)}
+          accessibilityLabel={`History of device ${s.serial}`}
+          testID={`socket-device-${s.socket}`}
+        >
+          <Text variant="body" tone="info" style={{ textDecorationLine: 'underline' }}>
+            {s.serial}
+          </Text>
+        </Link>
+      ),
+    },
     { key: 'lot', title: 'Lot', flex: 1, render: (s) => s.lotCode },
     { key: 'hours', title: 'Hours', flex: 0.8, render: (s) => hours(s.accruedHours) },
     ...(query.data?.cycles ? [{ key: 'cycles', title: 'Cycles · last ΔTj', flex: 1.6, render: socketCyclesText }] : []),
@@ -522,6 +540,7 @@ export function RunDetailScreen({ id }: { id: string }) {
                 <Banner tone="danger">{`${run.rig.code} is offline: no telemetry, so no hours count and commands wait until it is back.`}</Banner>
               ) : null}
               {run.cycles ? <RunCyclesCard cycles={run.cycles} sockets={run.sockets} /> : null}
+              {run.chamber || run.chamberCycles ? <RunChamberCard cycles={run.chamberCycles} chamber={run.chamber} /> : null}
               <Card title={run.cycles ? 'Chamber hours' : 'Stress hours'}>
                 <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
                   <Fact label="Accrued" value={hours(run.stressHours)} />

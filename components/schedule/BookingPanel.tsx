@@ -24,6 +24,11 @@ import { Text } from '@/components/ui/Text';
 import { DEVIATION_REASON_MIN, sampleShortfall } from '@/shared/evidence';
 import type { ProposalOption, ProposalResult } from '@/shared/schemas/runs';
 import { OverrideRequestPanel } from '@/components/approvals/OverrideRequestPanel';
+import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
+import { DEFAULT_PRIORITY, PRIORITIES, PRIORITY_LABEL, isPriority, type Priority } from '@/shared/domain/priority';
+import { latenessWords, parseDueInput } from './timeline-scale';
+
+const PRIORITY_CHOICES = PRIORITIES.map((p) => ({ value: String(p), label: PRIORITY_LABEL[p] }));
 
 function Chip({ label, selected, onPress, hint }: { label: string; selected: boolean; onPress: () => void; hint?: string }) {
   return (
@@ -36,6 +41,10 @@ function Chip({ label, selected, onPress, hint }: { label: string; selected: boo
       onPress={onPress}
       style={{
         minHeight: 40,
+        // A long plan name wraps inside the chip instead of pushing the page wider than a phone.
+        maxWidth: '100%',
+        flexShrink: 1,
+        paddingVertical: space.xxs,
         paddingHorizontal: space.sm,
         justifyContent: 'center',
         borderRadius: radius.pill,
@@ -44,7 +53,9 @@ function Chip({ label, selected, onPress, hint }: { label: string; selected: boo
         backgroundColor: selected ? colors.emberSoft : colors.surface,
       }}
     >
-      <Text variant="label">{selected ? `✓ ${label}` : label}</Text>
+      <Text variant="label" style={{ flexShrink: 1 }}>
+        {selected ? `✓ ${label}` : label}
+      </Text>
     </Pressable>
   );
 }
@@ -59,6 +70,8 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
   const lots = useLots({ deviceTypeId: current?.device.id });
   const [lotIds, setLotIds] = useState<string[]>([]);
   const [sample, setSample] = useState('');
+  const [dueText, setDueText] = useState('');
+  const [priority, setPriority] = useState<Priority>(DEFAULT_PRIORITY);
   /** The approved override request this booking uses (a blocked plan needs one). */
   const [approvedRequest, setApprovedRequest] = useState<string | null>(null);
   const [deviation, setDeviation] = useState('');
@@ -89,8 +102,14 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
     split && (!Number.isInteger(first) || first < 1 || first >= sampleSize)
       ? `Between 1 and ${Math.max(1, sampleSize - 1)} devices on the first rig`
       : undefined;
-  const ready = !!versionId && lotIds.length > 0 && !!sample && !sampleError && !splitError;
-  const request = useMemo(() => (ready ? { planId: versionId!, lotIds, sampleSize } : null), [ready, versionId, lotIds, sampleSize]);
+  const due = parseDueInput(dueText);
+  const dueError = 'error' in due ? due.error : undefined;
+  const dueAt = 'iso' in due ? due.iso : null;
+  const ready = !!versionId && lotIds.length > 0 && !!sample && !sampleError && !splitError && !dueError;
+  const request = useMemo(
+    () => (ready ? { planId: versionId!, lotIds, sampleSize, dueAt, priority } : null),
+    [ready, versionId, lotIds, sampleSize, dueAt, priority],
+  );
   const parts = split && request ? [first, sampleSize - first] : null;
   const result = proposals.data;
   const result2 = split ? proposals2.data : undefined;
@@ -136,6 +155,8 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
         planId: request.planId,
         lotIds: request.lotIds,
         parts: pickedOptions.map((o, i) => ({ rigId: o!.rigId, start: o!.start, sampleSize: parts[i] })),
+        dueAt: request.dueAt,
+        priority: request.priority,
         ...extras(),
       },
       {
@@ -252,6 +273,25 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
               help={`The plan asks for ${current.sampleSize}.`}
             />
           </View>
+          <View style={{ maxWidth: 320 }}>
+            <Field
+              label="Due date (your time, optional)"
+              value={dueText}
+              onChangeText={setDueText}
+              error={dueError}
+              help="YYYY-MM-DD HH:MM, when the results are needed. Empty: no due date."
+            />
+          </View>
+          <SegmentedChoice
+            label="Priority"
+            options={PRIORITY_CHOICES}
+            value={String(priority)}
+            onChange={(v) => {
+              const n = Number(v);
+              if (isPriority(n)) setPriority(n);
+            }}
+            help="Lateness of an urgent run weighs 8 times that of a low one when the calendar is ordered."
+          />
           <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.xs }}>
             <Chip
               label="Split the sample across two rigs"
@@ -357,6 +397,11 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
               <Text variant="caption" tone="muted">
                 Starts {shortTime(o.start)} · ends about {shortTime(o.end)} · {o.spareSockets} sockets to spare
               </Text>
+              {o.lateH !== null ? (
+                <Text variant="caption" tone={o.lateH > 0 ? 'danger' : 'muted'}>
+                  {o.lateH > 0 ? `${latenessWords(o.lateH)} after the due date.` : 'Ends by the due date.'}
+                </Text>
+              ) : null}
               {o.delayReasons.map((r) => (
                 <Text key={r} variant="caption" tone="attention">
                   Waits: {r}

@@ -7,7 +7,7 @@ import { useState } from 'react';
 import { View } from 'react-native';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
-import { useCan } from '@/components/queries/auth';
+import { useCan, useMe } from '@/components/queries/auth';
 import { useRuns, useTimeline } from '@/components/queries/runs';
 import { RUN_STATE_TONE, hours, shortTime } from '@/components/runs/run-look';
 import { space } from '@/components/theme/tokens';
@@ -20,12 +20,14 @@ import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import type { Run } from '@/shared/schemas/runs';
 import { BookingPanel } from './BookingPanel';
+import { CalendarPanel, DueDatesCard } from './CalendarPanel';
 import { Timeline } from './Timeline';
 
 export function ScheduleScreen() {
   const may = useCan();
   const router = useRouter();
   const timeline = useTimeline();
+  const me = useMe();
   const runs = useRuns({ open: true });
   const [booking, setBooking] = useState(false);
   const canBook = may('run.book');
@@ -74,7 +76,10 @@ export function ScheduleScreen() {
         actions={canBook && !booking ? <Button label="Book a run" variant="primary" onPress={() => setBooking(true)} /> : null}
       />
       {booking ? <BookingPanel onDone={() => setBooking(false)} /> : null}
-      <Card title="Rigs over time" description="Dashed: booked · hatched: maintenance · the ember line is now.">
+      <Card
+        title="Rigs over time"
+        description="Dashed: booked · hatched: maintenance · the ember line is now · a diamond is a run's due date. Drag the track or use the buttons to move and zoom."
+      >
         <QueryState
           query={timeline}
           loadingLabel="Loading the schedule"
@@ -84,16 +89,18 @@ export function ScheduleScreen() {
         >
           {(d) => (
             <View style={{ gap: space.xs }}>
-              <Timeline data={d} />
+              <Timeline data={d} userId={me.data?.id} />
               <Text variant="caption" tone="subtle">
                 {d.msPerClockH < 3_600_000
-                  ? `Demo clock: one stress hour passes in ${+(d.msPerClockH / 1000).toFixed(2)} s, so the axis shows wall time compressed accordingly.`
+                  ? `Demo clock: one stress hour passes in ${+(d.msPerClockH / 1000).toFixed(2)} s, so the axis counts stress-clock time from now.`
                   : 'Times are shown in your time zone.'}
               </Text>
             </View>
           )}
         </QueryState>
       </Card>
+      {timeline.data ? <DueDatesCard data={timeline.data} /> : null}
+      <CalendarPanel />
       <Card title="Open runs">
         <QueryState
           query={runs}

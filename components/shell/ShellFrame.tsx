@@ -9,7 +9,9 @@ import { colors } from '@/components/theme/tokens';
 import { InShell } from './ShellContext';
 import { Button } from '@/components/ui/Button';
 import { EmptyState } from '@/components/ui/EmptyState';
-import { canOpen, destinationsFor, isActive, splitForPhone } from './destinations';
+import { canOpen, destinationsFor, isActive, splitForPhone, type NavBadges } from './destinations';
+import { can } from '@/shared/domain/permissions';
+import { useAlarmCounts } from '@/components/queries/alarms';
 import { MoreSheet } from './MoreSheet';
 import { SideRail } from './SideRail';
 import { TabBar } from './TabBar';
@@ -35,6 +37,9 @@ export function ShellFrame({ user, pathname, cover, children }: Props) {
   const mine = user ? destinationsFor(user.role) : [];
   const { tabs, overflow } = splitForPhone(mine);
   const active = (path: string) => isActive(pathname, path);
+  // Open alarms on the Alarms item, for the roles that have the page (no request that would answer 403).
+  const alarmCounts = useAlarmCounts(!!user && can(user.role, 'page.alarms'));
+  const badges: NavBadges = { '/alarms': alarmCounts.data?.open };
 
   useEffect(() => setMoreOpen(false), [pathname]);
 
@@ -55,7 +60,14 @@ export function ShellFrame({ user, pathname, cover, children }: Props) {
   return (
     <View style={{ flex: 1, flexDirection: gtTablet ? 'row' : 'column', backgroundColor: colors.paper }}>
       {gtTablet && user ? (
-        <SideRail user={user} destinations={mine} pathname={pathname} onSignOut={() => signOut.mutate()} signingOut={signOut.isPending} />
+        <SideRail
+          user={user}
+          destinations={mine}
+          pathname={pathname}
+          onSignOut={() => signOut.mutate()}
+          signingOut={signOut.isPending}
+          badges={badges}
+        />
       ) : null}
       <View role="main" style={{ flex: 1 }}>
         <View style={[{ flex: 1 }, over ? { display: 'none' } : null]}>
@@ -64,7 +76,9 @@ export function ShellFrame({ user, pathname, cover, children }: Props) {
         </View>
         {over}
       </View>
-      {!gtTablet && user ? <TabBar tabs={tabs} isActive={active} moreActive={moreActive} onMore={() => setMoreOpen(true)} /> : null}
+      {!gtTablet && user ? (
+        <TabBar tabs={tabs} isActive={active} moreActive={moreActive} onMore={() => setMoreOpen(true)} badges={badges} />
+      ) : null}
       {!gtTablet && user ? (
         <MoreSheet
           visible={moreOpen}

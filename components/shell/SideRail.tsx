@@ -7,13 +7,26 @@ import { NavIcon, type NavIconName } from '@/components/icons/NavIcon';
 import type { Me } from '@/components/queries/auth';
 import { colors, radius, space } from '@/components/theme/tokens';
 import { Text } from '@/components/ui/Text';
-import { ACCOUNT_PATH, isActive, type Destination } from './destinations';
+import { ACCOUNT_PATH, isActive, navLabel, type Destination, type NavBadges } from './destinations';
+import { NavBadge } from './NavBadge';
 
 const RAIL_WIDTH = 256;
 const railInk = '#E9E2D6';
 const railMuted = '#B4AB9D';
 
-function RailLink({ path, label, icon, active }: { path: string; label: string; icon: NavIconName; active: boolean }) {
+function RailLink({
+  path,
+  label,
+  icon,
+  active,
+  count,
+}: {
+  path: string;
+  label: string;
+  icon: NavIconName;
+  active: boolean;
+  count?: number;
+}) {
   // Link asChild spreads the child's style into an object: it must be one flat object, not an array or a function.
   const [hovered, setHovered] = useState(false);
   const [focused, setFocused] = useState(false);
@@ -21,7 +34,7 @@ function RailLink({ path, label, icon, active }: { path: string; label: string; 
     <Link href={path as Href} asChild>
       <Pressable
         accessibilityRole="link"
-        accessibilityLabel={label}
+        accessibilityLabel={navLabel(label, count)}
         accessibilityState={{ selected: active }}
         aria-current={active ? 'page' : undefined}
         onHoverIn={() => setHovered(true)}
@@ -44,9 +57,10 @@ function RailLink({ path, label, icon, active }: { path: string; label: string; 
         ])}
       >
         <NavIcon name={icon} color={active ? '#FFFDF8' : railMuted} accent={active ? colors.ember : railMuted} />
-        <Text variant="label" style={{ color: active ? '#FFFDF8' : railInk }}>
+        <Text variant="label" style={{ color: active ? '#FFFDF8' : railInk, flex: 1 }}>
           {label}
         </Text>
+        <NavBadge count={count} onDark />
       </Pressable>
     </Link>
   );
@@ -58,10 +72,11 @@ interface Props {
   pathname: string;
   onSignOut: () => void;
   signingOut: boolean;
+  badges?: NavBadges;
 }
 
 /** The labelled navigation column shown from 1024 px. */
-export function SideRail({ user, destinations, pathname, onSignOut, signingOut }: Props) {
+export function SideRail({ user, destinations, pathname, onSignOut, signingOut, badges = {} }: Props) {
   return (
     <View
       role="navigation"
@@ -81,7 +96,7 @@ export function SideRail({ user, destinations, pathname, onSignOut, signingOut }
       </View>
       <View style={{ gap: space.xxs, flex: 1 }}>
         {destinations.map((d) => (
-          <RailLink key={d.path} path={d.path} label={d.label} icon={d.icon} active={isActive(pathname, d.path)} />
+          <RailLink key={d.path} path={d.path} label={d.label} icon={d.icon} active={isActive(pathname, d.path)} count={badges[d.path]} />
         ))}
       </View>
       <View style={{ gap: space.xs, borderTopWidth: 1, borderTopColor: '#46413A', paddingTop: space.md }}>

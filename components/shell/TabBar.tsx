@@ -4,15 +4,23 @@ import { useSafeAreaInsets } from 'react-native-safe-area-context';
 import { NavIcon, type NavIconName } from '@/components/icons/NavIcon';
 import { colors, radius, space } from '@/components/theme/tokens';
 import { Text } from '@/components/ui/Text';
-import type { Destination } from './destinations';
+import { navLabel, type Destination, type NavBadges } from './destinations';
+import { NavBadge } from './NavBadge';
 
-function TabInner({ label, icon, active }: { label: string; icon: NavIconName; active: boolean }) {
+function TabInner({ label, icon, active, count }: { label: string; icon: NavIconName; active: boolean; count?: number }) {
   return (
     <>
       <View
         style={{ height: 3, width: 28, borderRadius: radius.pill, backgroundColor: active ? colors.ember : 'transparent', marginBottom: 4 }}
       />
-      <NavIcon name={icon} color={active ? colors.ink : colors.inkSubtle} accent={active ? colors.ember : colors.inkSubtle} />
+      <View>
+        <NavIcon name={icon} color={active ? colors.ink : colors.inkSubtle} accent={active ? colors.ember : colors.inkSubtle} />
+        {count ? (
+          <View style={{ position: 'absolute', top: -6, left: 14 }}>
+            <NavBadge count={count} />
+          </View>
+        ) : null}
+      </View>
       <Text
         variant="caption"
         numberOfLines={1}
@@ -35,10 +43,11 @@ interface Props {
   isActive: (path: string) => boolean;
   moreActive: boolean;
   onMore: () => void;
+  badges?: NavBadges;
 }
 
 /** Bottom navigation on a phone: up to four places (links) and a "More" button. */
-export function TabBar({ tabs, isActive, moreActive, onMore }: Props) {
+export function TabBar({ tabs, isActive, moreActive, onMore, badges = {} }: Props) {
   const insets = useSafeAreaInsets();
   return (
     <View
@@ -59,12 +68,12 @@ export function TabBar({ tabs, isActive, moreActive, onMore }: Props) {
           <Link key={d.path} href={d.path as Href} asChild>
             <Pressable
               accessibilityRole="link"
-              accessibilityLabel={d.label}
+              accessibilityLabel={navLabel(d.label, badges[d.path])}
               accessibilityState={{ selected: active }}
               aria-current={active ? 'page' : undefined}
               style={tabStyle}
             >
-              <TabInner label={d.label} icon={d.icon} active={active} />
+              <TabInner label={d.label} icon={d.icon} active={active} count={badges[d.path]} />
             </Pressable>
           </Link>
         );

@@ -19,11 +19,13 @@ export const DESTINATIONS: readonly Destination[] = [
   { path: '/devices', label: 'Devices & lots', icon: 'devices', permission: 'page.devices' },
   { path: '/schedule', label: 'Schedule', icon: 'schedule', permission: 'page.schedule' },
   { path: '/trends', label: 'Lot trends', icon: 'trends', permission: 'page.trends' },
+  { path: '/qualifications', label: 'Qualifications', icon: 'qualifications', permission: 'page.qualifications' },
   { path: '/people', label: 'People', icon: 'people', permission: 'page.people' },
   { path: '/mail', label: 'Mail log', icon: 'mail', permission: 'page.mail' },
   { path: '/rigs', label: 'Rigs', icon: 'rigs', permission: 'page.rigs' },
   { path: '/approvals', label: 'Approvals', icon: 'approvals', permission: 'page.approvals' },
   { path: '/audit', label: 'Audit log', icon: 'audit', permission: 'page.audit' },
+  { path: '/capacity', label: 'Capacity', icon: 'capacity', permission: 'page.capacity' },
 ];
 
 /** Pages every signed-in person may open, outside the role menus. */
@@ -55,3 +57,14 @@ export function canOpen(role: Role, pathname: string): boolean {
 export function isActive(pathname: string, path: string): boolean {
   return matches(pathname, path);
 }
+
+/** Counts shown on navigation items, by path (the open alarms on /alarms). */
+export type NavBadges = Partial<Record<string, number>>;
+
+/** A navigation item's accessible name: "Alarms, 3 open" when it carries a count. */
+export function navLabel(label: string, count: number | undefined): string {
+  return count ? `${label}, ${count} open` : label;
+}
+
+/** The count as the badge shows it (99+ beyond two digits). */
+export const badgeText = (count: number) => (count > 99 ? '99+' : String(count));

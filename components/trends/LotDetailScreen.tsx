@@ -6,8 +6,7 @@ import type { LotDetail, LotDevice, LotReadPointStats } from '@/shared/schemas/a
 import { describeParameters } from '@/shared/reliability/mechanism-names';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
-import { describeError } from '@/components/queries/api';
-import { lotReportUrl, useLotAnalysis } from '@/components/queries/analytics';
+import { useLotAnalysis } from '@/components/queries/analytics';
 import { space } from '@/components/theme/tokens';
 import { Banner } from '@/components/ui/Banner';
 import { Button } from '@/components/ui/Button';
@@ -18,7 +17,7 @@ import { QueryState } from '@/components/ui/QueryState';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
-import { downloadReport } from './exportReport';
+import { LotDownloads } from './LotDownloads';
 import { hours, PARAM_LABEL, pct, sig } from './format';
 import { LotDistributionChart } from '@/components/charts/LazyCharts';
 import { LotPlanJudgement } from './LotPlanJudgement';
@@ -33,39 +32,6 @@ const DEVICE_STATUS = {
   'no-time-zero': { tone: 'idle', label: 'No time zero' },
   'not-measured': { tone: 'idle', label: 'Not measured' },
 } as const;
-
-function ExportButtons({ lot }: { lot: LotDetail }) {
-  const [error, setError] = useState<string | null>(null);
-  const run = (kind: 'csv' | 'pdf') =>
-    downloadReport(lotReportUrl(lot.lotId, kind), `lot-${lot.lotCode}-report.${kind}`).catch((e) => setError(describeError(e)));
-  return (
-    <View style={{ gap: space.xs }}>
-      <View style={{ flexDirection: 'row', gap: space.xs, flexWrap: 'wrap' }}>
-        <Button
-          size="sm"
-          variant="secondary"
-          label="Export CSV"
-          accessibilityHint="Downloads the lot report for a spreadsheet"
-          onPress={() => run('csv')}
-          testID="export-csv"
-        />
-        <Button
-          size="sm"
-          variant="secondary"
-          label="Export PDF"
-          accessibilityHint="Downloads a printable lot report"
-          onPress={() => run('pdf')}
-          testID="export-pdf"
-        />
-      </View>
-      {error ? (
-        <Text variant="caption" tone="danger">
-          {error}
-        </Text>
-      ) : null}
-    </View>
-  );
-}
 
 function FitCard({ lot }: { lot: LotDetail }) {
   const f = lot.fit;
@@ -229,8 +195,8 @@ export function LotDetailScreen() {
               eyebrow={`Lot · ${l.partNumber}`}
               title={l.lotCode}
               subtitle={l.plan ? `${l.plan.name}${l.run ? ` · run ${l.run.code}, ${l.run.state}` : ''}` : 'Not on a stress run yet'}
-              actions={<ExportButtons lot={l} />}
             />
+            <LotDownloads lotId={l.lotId} lotCode={l.lotCode} />
             <Button
               size="sm"
               variant="quiet"

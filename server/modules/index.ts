@@ -21,6 +21,11 @@ import { approvalsRoutes } from './approvals/approvals.routes';
 import { signoffRoutes } from './signoff/signoff.routes';
 import { auditRoutes } from './audit-log/audit-log.routes';
 import { labSettingsRoutes } from './lab-settings/lab-settings.routes';
+import { reportsRoutes } from './reports/reports.routes';
+import { deviceHistoryRoutes } from './device-history/device-history.routes';
+import { replanRoutes } from './replan/replan.routes';
+import { utilisationRoutes } from './utilisation/utilisation.routes';
+import { qualificationsRoutes } from './qualifications/qualifications.routes';
 
 /** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
 export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
@@ -45,6 +50,11 @@ export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
   signoffRoutes,
   auditRoutes,
   labSettingsRoutes,
+  reportsRoutes,
+  deviceHistoryRoutes,
+  replanRoutes,
+  utilisationRoutes,
+  qualificationsRoutes,
 ];
 
 export function apiRouters(ctx: AppContext): ApiRouter[] {

@@ -11,7 +11,7 @@ import { DeviceTypeEntity, StressPlanEntity, UserEntity } from '../db/entities';
 import { toDeviceTypeInput } from '../modules/device-types/device-types.service';
 import { runPlanCheck } from '../modules/plans/plan-check-result';
 
-function fromTemplate(d: DeviceTypeEntity, kind: PlanKind, patch: Partial<PlanInput> = {}): PlanInput {
+export function fromTemplate(d: DeviceTypeEntity, kind: PlanKind, patch: Partial<PlanInput> = {}): PlanInput {
   const t = buildPlanTemplates({ id: d.id, ...toDeviceTypeInput(d) }).find((x) => x.kind === kind)!;
   return planInputSchema.parse({ ...t.plan!, ...patch });
 }

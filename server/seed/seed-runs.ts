@@ -28,6 +28,7 @@ import {
 import { timingFrom } from '../modules/runs/scheduling-data';
 import { firstReadPointIndex } from '../modules/runs/run-engine';
 import { AuditService } from '../modules/audit/audit.service';
+import { DEFAULT_PRIORITY } from '../../shared/domain/priority';
 
 interface DemoLiveRun {
   code: string;
@@ -48,6 +49,9 @@ interface DemoLiveRun {
   startsInH?: number;
   /** Why the sample may be smaller than the plan asks (recorded deviation, issue #19). */
   deviation?: string;
+  /** The request's due date, this many stress-clock hours from now, and its priority (1 low … 4 urgent). */
+  dueInH?: number;
+  priority?: number;
 }
 
 const DEMO_LIVE_RUNS: DemoLiveRun[] = [
@@ -62,6 +66,8 @@ const DEMO_LIVE_RUNS: DemoLiveRun[] = [
     skip: 0,
     stressHours: 120,
     deviation: 'Engineering look at the 2612 die attach, not a qualification: 40 devices on the humidity board.',
+    dueInH: 1400,
+    priority: 3,
   },
   {
     code: 'HOTL-2609-D-2',
@@ -73,6 +79,9 @@ const DEMO_LIVE_RUNS: DemoLiveRun[] = [
     perLot: 40,
     skip: 45,
     deviation: 'Engineering run on the spares of HG2609-D after the heat-sink change: 40 devices.',
+    // Due before the plan can finish: the schedule shows it late.
+    dueInH: 900,
+    priority: 4,
   },
   {
     code: 'IOL-2605-H',
@@ -112,6 +121,8 @@ const DEMO_LIVE_RUNS: DemoLiveRun[] = [
     skip: 77,
     startsInH: 6,
     deviation: 'Extended-life monitor of the spares of two passed lots; 48 devices by agreement.',
+    dueInH: 2400,
+    priority: 1,
   },
 ];
 
@@ -190,6 +201,8 @@ async function insertLiveRun(
       heatingSince: started ? new Date(s.state === 'heating' ? now : startMs) : null,
       ambientReachedAt: s.state === 'stressing' ? new Date(startMs + timing.heatingAllowanceH * timing.msPerClockH) : null,
       createdById: engineer?.id ?? null,
+      dueAt: s.dueInH === undefined ? null : new Date(now + s.dueInH * timing.msPerClockH),
+      priority: s.priority ?? DEFAULT_PRIORITY,
     }),
   );
   await m.insert(

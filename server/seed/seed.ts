@@ -6,6 +6,7 @@ import { DEMO_DEVICE_TYPES, DEMO_DEVICES_PER_LOT, DEMO_LOTS, DEMO_RIGS, DEMO_USE
 import { seedPlans } from './seed-plans';
 import { seedHistory } from './seed-history';
 import { seedRuns } from './seed-runs';
+import { seedQualifications } from './seed-qualifications';
 
 export interface SeedStep {
   name: string;
@@ -32,6 +33,9 @@ async function seedDevicesAndLots(ds: DataSource) {
       quantity: l.quantity,
       dateCode: l.dateCode,
       notes: l.notes,
+      waferLot: l.waferLot,
+      assemblyLot: l.assemblyLot,
+      dieRevision: l.dieRevision,
     });
     const prefix = l.code.slice(-1);
     const serials = Array.from({ length: DEMO_DEVICES_PER_LOT }, (_, i) => `${prefix}${String(i + 1).padStart(4, '0')}`);
@@ -71,6 +75,7 @@ export const SEED_STEPS: SeedStep[] = [
   { name: 'stress plans', run: seedPlans },
   { name: 'measurement history', run: seedHistory },
   { name: 'live runs', run: (ds) => seedRuns(ds) },
+  { name: 'qualifications', run: seedQualifications },
 ];
 
 /** Seed only an empty database: a second `npm start` keeps whatever the lab did since. */

@@ -5,6 +5,28 @@
 
 export const DEVICE_KINDS = ['bjt', 'mosfet', 'diode'] as const;
 export const POLARITIES = ['NPN', 'PNP', 'N-channel', 'P-channel', 'rectifier'] as const;
+export type DeviceKind = (typeof DEVICE_KINDS)[number];
+export type Polarity = (typeof POLARITIES)[number];
+
+/**
+ * The polarities each device class can have (common practice: a bipolar transistor is NPN or PNP,
+ * a MOSFET N- or P-channel, a rectifier diode has no polarity to choose — it is stored as
+ * 'rectifier'). The form offers only these; the API refuses any other pairing.
+ */
+export const POLARITIES_BY_KIND: Record<DeviceKind, readonly Polarity[]> = {
+  bjt: ['NPN', 'PNP'],
+  mosfet: ['N-channel', 'P-channel'],
+  diode: ['rectifier'],
+};
+
+/** The device class's only polarity when there is nothing to choose (a rectifier), else undefined. */
+export const impliedPolarity = (kind: DeviceKind): Polarity | undefined =>
+  POLARITIES_BY_KIND[kind].length === 1 ? POLARITIES_BY_KIND[kind][0] : undefined;
+
+export const polarityFits = (kind: DeviceKind, polarity: Polarity): boolean => POLARITIES_BY_KIND[kind].includes(polarity);
+
+/** Words for the device classes, as the form shows them. */
+export const DEVICE_KIND_LABEL: Record<DeviceKind, string> = { bjt: 'Bipolar (BJT)', mosfet: 'MOSFET', diode: 'Diode (rectifier)' };
 
 /** Longest serial a device may have (database column width). */
 export const SERIAL_MAX_LENGTH = 40;

@@ -19,6 +19,8 @@ export const PERMISSIONS = {
   // finishes read-point holds and aborts.
   'run.book': ['engineer'],
   'run.propose': ['engineer', 'manager', 'admin'],
+  // Re-order booked runs by priority-weighted lateness (the calendar proposal; audited).
+  'run.reschedule': ['engineer', 'manager'],
   'run.load': ['operator', 'engineer'],
   'run.start': ['operator', 'engineer'],
   'run.pause': ['operator', 'engineer'],
@@ -43,6 +45,10 @@ export const PERMISSIONS = {
   'measurement.correct': ['engineer', 'operator'],
   'measurement.deviation': ['engineer'],
   'trends.read': ['admin', 'engineer', 'manager'],
+  // Reports (issue #22): the lot report for those who read trends; the certificate of conformance
+  // for the people who sign verdicts.
+  'report.lot': ['admin', 'engineer', 'manager'],
+  'report.certificate': ['engineer', 'manager'],
   'rig.read': ['admin', 'engineer', 'operator', 'manager'],
   'rig.manage': ['admin'],
   // The lab's hold temperatures (bias off, safe to open): admins, audited.
@@ -55,7 +61,15 @@ export const PERMISSIONS = {
   'override.decide': ['engineer', 'manager', 'admin'],
   // Signing a lot verdict (an electronic signature, 21 CFR Part 11 §11.50/§11.200).
   'verdict.sign': ['engineer', 'manager'],
+  // Qualifications (issue #22): engineers build and edit the matrix; managers read and download.
+  'qualification.read': ['engineer', 'manager', 'admin'],
+  'qualification.edit': ['engineer'],
   'audit.read': ['admin', 'manager'],
+  // Re-planning after a rig drops out and the lab's utilisation (issue #26): engineers and managers
+  // accept a proposal (audited); managers read the figures, engineers too.
+  'replan.read': ['engineer', 'manager', 'admin'],
+  'replan.accept': ['engineer', 'manager'],
+  'utilisation.read': ['manager', 'engineer', 'admin'],
   'mail.read': ['admin'],
   // Places in the app's navigation (components/shell/destinations.ts).
   'page.floor': ['operator', 'engineer', 'admin'],
@@ -68,8 +82,10 @@ export const PERMISSIONS = {
   'page.people': ['admin'],
   'page.approvals': ['engineer', 'manager', 'admin'],
   'page.audit': ['admin', 'manager'],
+  'page.qualifications': ['engineer', 'manager'],
   'page.mail': ['admin'],
   'page.rigs': ['admin', 'engineer'],
+  'page.capacity': ['manager', 'engineer'],
 } satisfies Record<string, readonly Role[]>;
 
 export type Permission = keyof typeof PERMISSIONS;

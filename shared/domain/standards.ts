@@ -39,12 +39,21 @@ export const CHAMBER_BAND_MAX_K = 20;
  * - thb: 85 ± 2 °C [memory: JESD22-A101, 85 ± 2 °C / 85 ± 5 % RH — confirm].
  * - hotl, iol: room ambient ± 5 K; the stress is the junction the parts heat themselves to
  *   [practice].
+ * - tc: the hot extreme, which the load must reach and may pass by up to 15 K (+15/−0) [memory:
+ *   JESD22-A104 tolerances on Ts(max) +15/−0 °C and Ts(min) +0/−10 °C — confirm]; the cold extreme's
+ *   band is `TC_COLD_BAND_K` (shared/domain/chamber-methods.ts).
+ * - htsl: −0/+10 K [pub: JESD22-A103D Table 1].
+ * - ac: 121 ± 2 °C [memory: JESD22-A102 121 ± 2 °C, 100 % RH, 205 kPa — confirm]; unbiased HAST the same
+ *   ± 2 K [memory: JESD22-A118].
  */
 export const METHOD_CHAMBER_BAND_K: Readonly<Record<PlanKind, Readonly<ChamberBandK>>> = {
   htrb: { belowK: 0, aboveK: 5 },
   thb: { belowK: 2, aboveK: 2 },
   hotl: { belowK: 5, aboveK: 5 },
   iol: { belowK: 5, aboveK: 5 },
+  tc: { belowK: 0, aboveK: 15 },
+  htsl: { belowK: 0, aboveK: 10 },
+  ac: { belowK: 2, aboveK: 2 },
 };
 /** Plans saved before bands were per plan kept the ±3 % of their set value they ran with [pub: MIL-STD-750 general requirements §4.5]. */
 export const LEGACY_CHAMBER_TOLERANCE_PCT = 3;

@@ -326,11 +326,26 @@ export type SeqRange = z.infer<typeof seqRangeSchema>;
 
 const commandBase = { v: z.literal(1), cmdId: cmdIdSchema, ts: isoTime().optional() };
 
+/**
+ * A cycling chamber's programme (temperature cycling, JESD22-A104): with a `profile`, the chamber
+ * cycles its air between the extremes (aimed into each extreme's band) and holds each until its
+ * load has dwelt there `dwellMin`; `setpointC` is then the hot aim. Without it the chamber holds
+ * `setpointC`. Chambers only; a burn-in oven refuses it.
+ */
+export const chamberProfileSchema = z.object({
+  lowC: tempC(),
+  highC: tempC(),
+  dwellMin: z.number().positive().max(1440),
+  rampKPerMin: z.number().positive().max(100),
+});
+export type ChamberProfileCommand = z.infer<typeof chamberProfileSchema>;
+
 export const setpointCommandSchema = z.object({
   ...commandBase,
   type: z.literal('setpoint'),
   setpointC: tempC(),
   humidityPct: pct().nullable().optional(),
+  profile: chamberProfileSchema.nullable().optional(),
 });
 
 /**

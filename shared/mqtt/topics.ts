@@ -14,12 +14,16 @@ export function isRigCode(code: unknown): code is string {
   return typeof code === 'string' && RIG_CODE_PATTERN.test(code);
 }
 
-/** Per-rig topic leaves. Direction: telemetry, status and command-acks go rig → server. */
-export const RIG_TOPIC_KINDS = ['telemetry', 'status', 'commands', 'command-acks'] as const;
+/**
+ * Per-rig topic leaves. Direction: telemetry, chamber, status and command-acks go rig → server.
+ * `chamber` carries a chamber's own reports (air and load temperature; shared/mqtt/chamber.ts): the
+ * socket telemetry (v1 / v2) is unchanged.
+ */
+export const RIG_TOPIC_KINDS = ['telemetry', 'status', 'commands', 'command-acks', 'chamber'] as const;
 export type RigTopicKind = (typeof RIG_TOPIC_KINDS)[number];
 
 /** Topics a rig may publish to (its own only); it may subscribe to its own `commands` only. */
-export const RIG_PUBLISH_KINDS: readonly RigTopicKind[] = ['telemetry', 'status', 'command-acks'];
+export const RIG_PUBLISH_KINDS: readonly RigTopicKind[] = ['telemetry', 'status', 'command-acks', 'chamber'];
 
 /** Recommended QoS per topic kind. Status is also published retained (and as the last will). */
 export const TOPIC_QOS: Record<RigTopicKind, 0 | 1> = {
@@ -27,6 +31,7 @@ export const TOPIC_QOS: Record<RigTopicKind, 0 | 1> = {
   status: 1,
   commands: 1,
   'command-acks': 1,
+  chamber: 1,
 };
 
 function assertRigCode(rigCode: string): void {
@@ -43,6 +48,7 @@ export const topics = {
   status: (rigCode: string) => rigTopic(rigCode, 'status'),
   commands: (rigCode: string) => rigTopic(rigCode, 'commands'),
   commandAcks: (rigCode: string) => rigTopic(rigCode, 'command-acks'),
+  chamber: (rigCode: string) => rigTopic(rigCode, 'chamber'),
   /** Server-only: ask the broker to disconnect every client of a rig at once (credentials revoked). */
   revoke: `${TOPIC_ROOT}/internal/revoke`,
   /** Wildcard subscriptions for the server. */
@@ -50,6 +56,7 @@ export const topics = {
     telemetry: `${TOPIC_ROOT}/rigs/+/telemetry`,
     status: `${TOPIC_ROOT}/rigs/+/status`,
     commandAcks: `${TOPIC_ROOT}/rigs/+/command-acks`,
+    chamber: `${TOPIC_ROOT}/rigs/+/chamber`,
     everything: `${TOPIC_ROOT}/#`,
   },
 } as const;

@@ -4,21 +4,42 @@
  */
 import type { PlanKind } from '../domain/stress';
 
-export type StressMechanism = 'temperature' | 'humidity' | 'cycling';
-export const STRESS_MECHANISMS: readonly StressMechanism[] = ['temperature', 'humidity', 'cycling'];
+export type StressMechanism = 'temperature' | 'humidity' | 'cycling' | 'thermal-cycling' | 'storage' | 'unbiased-humidity';
+export const STRESS_MECHANISMS: readonly StressMechanism[] = [
+  'temperature',
+  'humidity',
+  'cycling',
+  'thermal-cycling',
+  'storage',
+  'unbiased-humidity',
+];
 
-/** HTRB and powered life accelerate thermally activated mechanisms; THB corrosion by humidity; IOL fatigue by cycling. */
+/**
+ * HTRB and powered life accelerate thermally activated mechanisms under bias; THB corrosion by
+ * humidity under bias; IOL fatigue by power cycling (the junction's own swing). The unbiased chamber
+ * kinds each get a mechanism of their own, never pooled with the biased ones: temperature cycling
+ * fatigues the package by the chamber's swing (Coffin–Manson on the load's ΔT), storage bakes
+ * without bias (Arrhenius at the chamber temperature; bond intermetallics rather than the field-driven
+ * mechanisms HTRB ages), autoclave / unbiased HAST test the package's moisture integrity (no FIT:
+ * see mechanisms.ts).
+ */
 export const MECHANISM_OF_KIND: Record<PlanKind, StressMechanism> = {
   htrb: 'temperature',
   hotl: 'temperature',
   thb: 'humidity',
   iol: 'cycling',
+  tc: 'thermal-cycling',
+  htsl: 'storage',
+  ac: 'unbiased-humidity',
 };
 
 export const MECHANISM_LABEL: Record<StressMechanism, string> = {
   temperature: 'Temperature (Arrhenius)',
   humidity: 'Humidity (Peck)',
   cycling: 'Power cycling (Coffin–Manson)',
+  'thermal-cycling': 'Temperature cycling (Coffin–Manson)',
+  storage: 'Unbiased storage (Arrhenius)',
+  'unbiased-humidity': 'Unbiased humidity (no FIT)',
 };
 
 /** One model parameter as shown beside a FIT and written into the exports. */

@@ -34,6 +34,24 @@ export const COFFIN_MANSON_EXPONENT = 2;
 /** Use-condition junction swing (K) and cycles per day the cycling FIT is stated at (assumed field use). */
 export const COFFIN_MANSON_USE_DELTA_TJ_C = 50;
 export const FIELD_CYCLES_PER_DAY = 1;
+/**
+ * Temperature cycling (air-to-air, JESD22-A104): Coffin–Manson exponent for solder / die-attach
+ * fatigue of the package (≈ 2 for ductile solder joints, NIST e-Handbook §8.1.5 example; from memory —
+ * the lab should state its own), the field's daily ambient swing and cycles per day the TC FIT is
+ * stated at (assumed field use, common practice to state it).
+ */
+export const TC_COFFIN_MANSON_EXPONENT = 2;
+export const TC_USE_DELTA_T_C = 40;
+export const TC_FIELD_CYCLES_PER_DAY = 1;
+/**
+ * Why autoclave / unbiased HAST gives no FIT: Peck's model was fitted to biased humidity life
+ * (electrolytic corrosion needs the bias THB applies); in saturated pressurised steam without bias
+ * the failures are package-integrity ones (moisture ingress, delamination) with no accepted field
+ * acceleration for a discrete in use. Its hours are a pass/fail construction check (JESD47 uses it so,
+ * from memory), never added to THB's humidity hours.
+ */
+export const UNBIASED_HUMIDITY_NO_FIT =
+  'Autoclave and unbiased HAST check the package’s moisture integrity: Peck’s model describes biased corrosion, so no FIT is given (pass/fail on the lot’s criteria).';
 
 /** Cycles a device saw and its measured junction swing (from the power-cycling accrual). */
 export interface CyclingExposure {
@@ -126,11 +144,23 @@ export function mechanismExposure(plan: MechanismPlan, devices: readonly DeviceE
   };
   const ea: ModelParameter = { name: 'Ea', value: plan.eaEv, unit: 'eV', source: 'plan' };
   const use: ModelParameter = { name: 'use temperature', value: plan.useC, unit: '°C', source: 'plan' };
-  if (mechanism === 'temperature') {
+  if (mechanism === 'unbiased-humidity') {
+    return {
+      ...common,
+      model: 'none (package-integrity check, pass/fail)',
+      parameters: [],
+      equivalentDeviceHours: 0,
+      unavailable: UNBIASED_HUMIDITY_NO_FIT,
+    };
+  }
+  if (mechanism === 'temperature' || mechanism === 'storage') {
     const eq = histories.reduce((s, segments) => s + equivalentStressHours({ segments, eaEv: plan.eaEv, useC: plan.useC }), 0);
     return {
       ...common,
-      model: 'Arrhenius AF = exp[(Ea/k)(1/T_use − 1/Tj)] at each device’s estimated junction (JEDEC JEP122)',
+      model:
+        mechanism === 'storage'
+          ? 'Arrhenius AF = exp[(Ea/k)(1/T_use − 1/T)] at the storage chamber’s temperature (unbiased: the device is at the chamber; JEDEC JEP122)'
+          : 'Arrhenius AF = exp[(Ea/k)(1/T_use − 1/Tj)] at each device’s estimated junction (JEDEC JEP122)',
       parameters: [ea, use],
       equivalentDeviceHours: eq,
       unavailable: null,
@@ -155,24 +185,31 @@ export function mechanismExposure(plan: MechanismPlan, devices: readonly DeviceE
       unavailable: null,
     };
   }
-  const m = COFFIN_MANSON_EXPONENT;
+  const chamberSwing = mechanism === 'thermal-cycling';
+  const m = chamberSwing ? TC_COFFIN_MANSON_EXPONENT : COFFIN_MANSON_EXPONENT;
+  const useDelta = chamberSwing ? TC_USE_DELTA_T_C : COFFIN_MANSON_USE_DELTA_TJ_C;
+  const perDay = chamberSwing ? TC_FIELD_CYCLES_PER_DAY : FIELD_CYCLES_PER_DAY;
   const parameters: ModelParameter[] = [
     { name: 'm', value: m, unit: '', source: 'assumed, from memory' },
-    { name: 'use ΔTj', value: COFFIN_MANSON_USE_DELTA_TJ_C, unit: 'K', source: 'assumed field condition' },
-    { name: 'use cycles per day', value: FIELD_CYCLES_PER_DAY, unit: '', source: 'assumed field condition' },
+    { name: chamberSwing ? 'use ΔT' : 'use ΔTj', value: useDelta, unit: 'K', source: 'assumed field condition' },
+    { name: 'use cycles per day', value: perDay, unit: '', source: 'assumed field condition' },
   ];
-  const model = 'Coffin–Manson AF = (ΔTj/ΔTj_use)^m per device, field hours = equivalent cycles × 24 h / cycles per day';
-  const eqCycles = equivalentCycles(devices, m, COFFIN_MANSON_USE_DELTA_TJ_C);
+  const model = chamberSwing
+    ? 'Coffin–Manson AF = (ΔT/ΔT_use)^m on the smallest load swing the chamber reached per device, field hours = equivalent cycles × 24 h / cycles per day'
+    : 'Coffin–Manson AF = (ΔTj/ΔTj_use)^m per device, field hours = equivalent cycles × 24 h / cycles per day';
+  const eqCycles = equivalentCycles(devices, m, useDelta);
   if (eqCycles === null) {
     return {
       ...common,
       model,
       parameters,
       equivalentDeviceHours: 0,
-      unavailable: 'Cycle counts and the junction swing (ΔTj) are not recorded for every device yet: no power-cycling FIT is given.',
+      unavailable: chamberSwing
+        ? 'Cycle counts and the load’s temperature swing are not recorded for every device yet: no temperature-cycling FIT is given.'
+        : 'Cycle counts and the junction swing (ΔTj) are not recorded for every device yet: no power-cycling FIT is given.',
     };
   }
-  return { ...common, model, parameters, equivalentDeviceHours: (eqCycles * 24) / FIELD_CYCLES_PER_DAY, unavailable: null };
+  return { ...common, model, parameters, equivalentDeviceHours: (eqCycles * 24) / perDay, unavailable: null };
 }
 
 /** Σ cycles · (ΔTj/ΔTj_use)^m over the devices, or null when any device has no cycle record. */

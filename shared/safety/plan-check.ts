@@ -20,6 +20,7 @@ import type { PlanInput } from '../schemas/plans';
 import { deratedPowerLimit, gainAtTemperature } from '../physics';
 import { junctionTemperature } from './plan-rules/junction';
 import { activeRegion, cyclePeakJunction, dissipation, icVsIcMax, operatingPoint } from './plan-rules/powered';
+import { cyclingProfile, storageRating } from './plan-rules/chamber';
 import { chamberVsTjMax, vcbVsBvcbo, vceVsBvceo, vebVsBvebo } from './plan-rules/ratings';
 import { leakageSelfHeating } from './plan-rules/reverse-bias';
 import { forwardSoa } from './plan-rules/soa';
@@ -30,6 +31,8 @@ export * from './plan-rules/types';
 /** The rules in the order their findings are listed. */
 export const PLAN_RULES: readonly PlanRule[] = [
   chamberVsTjMax,
+  storageRating,
+  cyclingProfile,
   vcbVsBvcbo,
   vebVsBvebo,
   vceVsBvceo,

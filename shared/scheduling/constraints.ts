@@ -11,6 +11,9 @@
  *   the oven at the same time fit on its board. Anything else is an overlap and is refused.
  */
 import { formatUtc } from '../domain/format';
+import { holdWindows, sharingRefusals, type OvenTenant } from './sharing';
+import type { RigKind } from '../domain/rig-kinds';
+import { chamberRefusals, rigName, type ChamberNeeds } from './chamber';
 
 export interface RigCapability {
   id: string;
@@ -23,6 +26,10 @@ export interface RigCapability {
   /** False once decommissioned. */
   active: boolean;
   online?: boolean;
+  /** 'chamber': unbiased plans only, socketCount is its capacity in devices (shared/scheduling/chamber.ts). Absent = 'board'. */
+  kind?: RigKind;
+  minTempC?: number | null;
+  maxPressureKPa?: number | null;
 }
 
 /** What a run asks of a rig. */
@@ -35,18 +42,14 @@ export interface RunNeeds {
   /** Plan stress hours. */
   durationH: number;
   readPointsH: number[];
+  /** An unbiased plan's chamber needs (chamberNeedsOf); absent or null for a socket-biased plan. */
+  chamber?: ChamberNeeds | null;
 }
 
-/** A run already holding (part of) a rig for a window. */
-export interface Commitment {
+/** A run already holding (part of) a rig for a window (an oven tenant of shared/scheduling/sharing.ts). */
+export interface Commitment extends OvenTenant {
   runId: string;
-  code: string;
   rigId: string;
-  startMs: number;
-  endMs: number;
-  chamberC: number;
-  humidityPct: number | null;
-  sockets: number;
 }
 
 export interface MaintenanceWindow {
@@ -106,17 +109,17 @@ export function n(x: number): string {
 /** "2026-03-02 08:00 UTC" (messages are stored and audited, so they carry their zone): shared/domain/format.ts. */
 export const when = (ms: number): string => formatUtc(ms);
 
-const condition = (c: number, rh: number | null) => (rh === null ? `${n(c)} °C` : `${n(c)} °C / ${n(rh)} % RH`);
-
 // ---------------------------------------------------------------------------------------------
 // Static checks
 
 /** Reasons the rig can never take this run; empty when it can. */
 export function staticRefusals(rig: RigCapability, needs: RunNeeds): string[] {
   const out: string[] = [];
-  const name = `Oven ${rig.code}`;
+  const name = rigName(rig);
+  const unit = rig.kind === 'chamber' ? 'devices' : 'sockets';
   if (!rig.active) out.push(`${name} is decommissioned and takes no new runs.`);
-  if (needs.sampleSize > rig.socketCount) out.push(`${name} holds ${rig.socketCount} sockets; the plan needs ${needs.sampleSize}.`);
+  out.push(...chamberRefusals(rig, needs.chamber));
+  if (needs.sampleSize > rig.socketCount) out.push(`${name} holds ${rig.socketCount} ${unit}; the plan needs ${needs.sampleSize}.`);
   if (needs.chamberC > rig.maxTempC) out.push(`${name} reaches at most ${n(rig.maxTempC)} °C; the plan needs ${n(needs.chamberC)} °C.`);
   if (needs.biasV !== null && needs.biasV > rig.maxVoltageV) {
     out.push(`${name} supplies at most ${n(rig.maxVoltageV)} V of bias; the plan needs ${n(needs.biasV)} V.`);
@@ -137,7 +140,8 @@ const overlaps = (aStart: number, aEnd: number, bStart: number, bEnd: number) =>
 
 /**
  * Conflicts of a window [startMs, endMs) on a rig with maintenance and with the runs already on
- * it; empty when the window is free. Commitments of other rigs are ignored.
+ * it (the sharing rule: shared/scheduling/sharing.ts); empty when the window is free. Commitments
+ * of other rigs are ignored. `timing` places the run's own read-point holds.
  */
 export function windowConflicts(
   rig: RigCapability,
@@ -146,43 +150,16 @@ export function windowConflicts(
   endMs: number,
   commitments: readonly Commitment[],
   maintenance: readonly MaintenanceWindow[],
+  timing: TimingOptions = DEFAULT_TIMING,
 ): string[] {
   const out: string[] = [];
-  const name = `Oven ${rig.code}`;
+  const name = rigName(rig);
   for (const m of maintenance) {
     if (m.rigId !== rig.id || !overlaps(startMs, endMs, m.startMs, m.endMs)) continue;
     out.push(`${name} is in maintenance from ${when(m.startMs)} to ${when(m.endMs)}${m.reason ? ` (${m.reason})` : ''}.`);
   }
-  const sharing = commitments.filter((c) => c.rigId === rig.id && overlaps(startMs, endMs, c.startMs, c.endMs));
-  for (const c of sharing) {
-    if (c.chamberC !== needs.chamberC || (c.humidityPct ?? null) !== (needs.humidityPct ?? null)) {
-      out.push(
-        `${name} runs ${c.code} at ${condition(c.chamberC, c.humidityPct)} until ${when(c.endMs)}; the plan needs ${condition(needs.chamberC, needs.humidityPct)}.`,
-      );
-    }
-  }
-  // Sockets: the peak use of the board by runs that overlap the window (sweep over their starts).
-  const sameCondition = sharing.filter((c) => c.chamberC === needs.chamberC && (c.humidityPct ?? null) === (needs.humidityPct ?? null));
-  if (sameCondition.length) {
-    let peak = 0;
-    let peakRuns: Commitment[] = [];
-    const points = [startMs, ...sameCondition.map((c) => c.startMs).filter((t) => t > startMs && t < endMs)];
-    for (const t of points) {
-      const at = sameCondition.filter((c) => c.startMs <= t && t < c.endMs);
-      const used = at.reduce((s, c) => s + c.sockets, 0);
-      if (used > peak) {
-        peak = used;
-        peakRuns = at;
-      }
-    }
-    if (peak + needs.sampleSize > rig.socketCount) {
-      const until = Math.max(...peakRuns.map((c) => c.endMs));
-      const who = peakRuns.map((c) => `${c.code} uses ${c.sockets}`).join(', ');
-      out.push(
-        `${name} has ${rig.socketCount - peak} of ${rig.socketCount} sockets free until ${when(until)} (${who}); the plan needs ${needs.sampleSize}.`,
-      );
-    }
-  }
+  const tenants = commitments.filter((c) => c.rigId === rig.id);
+  out.push(...sharingRefusals(rig, needs, startMs, endMs, holdWindows(startMs, needs, timing), tenants));
   return out;
 }
 
@@ -213,9 +190,9 @@ export function earliestSlot(
     ...maintenance.filter((m) => m.rigId === rig.id).map((m) => m.endMs),
   ].filter((t) => t > notBeforeMs);
   const candidates = [notBeforeMs, ...[...new Set(ends)].sort((a, b) => a - b)];
-  const delayReasons = windowConflicts(rig, needs, notBeforeMs, notBeforeMs + dur, commitments, maintenance);
+  const delayReasons = windowConflicts(rig, needs, notBeforeMs, notBeforeMs + dur, commitments, maintenance, timing);
   for (const t of candidates) {
-    if (!windowConflicts(rig, needs, t, t + dur, commitments, maintenance).length) {
+    if (!windowConflicts(rig, needs, t, t + dur, commitments, maintenance, timing).length) {
       return { startMs: t, endMs: t + dur, delayReasons: t === notBeforeMs ? [] : delayReasons };
     }
   }

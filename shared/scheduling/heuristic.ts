@@ -16,6 +16,7 @@ import {
   type RunNeeds,
   type TimingOptions,
 } from './constraints';
+import { holdWindows } from './sharing';
 
 export interface Job extends RunNeeds {
   id: string;
@@ -134,6 +135,7 @@ export function planSchedule(
       chamberC: job.chamberC,
       humidityPct: job.humidityPct,
       sockets: job.sampleSize,
+      holds: holdWindows(best.startMs, job, timing),
     });
   }
   const makespanEndMs = assignments.reduce((m, a) => Math.max(m, a.endMs), notBeforeMs);

@@ -3,6 +3,10 @@ export * from './constraints';
 export * from './heuristic';
 export * from './accrual';
 export * from './cycling';
+export * from './lateness';
+export * from './sharing';
+export * from './tardiness';
+export * from './chamber';
 
 import type { Bias } from '../schemas/plans';
 import { DEFAULT_BIAS_TOLERANCE_PCT, type ChamberBandK } from '../domain/standards';

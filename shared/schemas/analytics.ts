@@ -3,8 +3,7 @@
  *
  *   GET /api/analytics/lots                      every lot with its verdict
  *   GET /api/analytics/lots/:lotId               one lot: distributions, trend, verdict reasons, FIT
- *   GET /api/analytics/lots/:lotId/report.csv    spreadsheet export (formula cells neutralised)
- *   GET /api/analytics/lots/:lotId/report.pdf    printable report
+ *   (the lot report's PDF and CSV moved to /api/reports: shared/schemas/reports.ts)
  *   GET /api/analytics/device-types              one summary per device type
  *   GET /api/analytics/device-types/:id          lots passed, device-hours, AF, FIT, next sample size
  */

@@ -5,7 +5,7 @@ import { DEFAULT_SB_KNEE_V, DEFAULT_SB_SLOPE_N } from '../domain/standards';
 export const num = () => z.number().finite();
 export const positive = () => num().positive();
 
-import { DEVICE_KINDS, POLARITIES } from '../domain/devices';
+import { DEVICE_KIND_LABEL, DEVICE_KINDS, POLARITIES, POLARITIES_BY_KIND, polarityFits } from '../domain/devices';
 export { DEVICE_KINDS, POLARITIES, SERIAL_MAX_LENGTH, checkSerialRows, splitPastedSerials, type SerialRowProblem } from '../domain/devices';
 
 /** Ratings and thermal data of a part number, as on its data sheet. Voltages are magnitudes. */
@@ -23,6 +23,9 @@ export const deviceTypeInputSchema = z.object({
   /** Case temperature at which pMaxW is rated (25 °C on most data sheets). */
   pRatedAtC: num().min(-55).max(200).default(25),
   tjMaxC: num().min(50).max(250),
+  /** Storage temperature range, as the data sheet's Tstg (°C); null = not entered. Unbiased chamber plans are checked against it. */
+  tstgMinC: num().min(-100).max(25).nullable().default(null),
+  tstgMaxC: num().min(25).max(300).nullable().default(null),
   thetaJcCPerW: positive().max(1000),
   thetaJaCPerW: positive().max(2000),
   /** Current gain hFE at the reference point below. */
@@ -53,9 +56,22 @@ export type DeviceTypeSummary = DeviceType & { lotCount: number; deviceCount: nu
  * service after a partial update has been merged, so both paths give the same messages.
  */
 export function deviceTypeRuleIssues(
-  d: Pick<DeviceTypeInput, 'bvcboV' | 'bvceoV' | 'thetaJcCPerW' | 'thetaJaCPerW' | 'icboRefA' | 'icboHotA' | 'icboHotC' | 'icboHotVcbV'>,
+  d: Pick<
+    DeviceTypeInput,
+    'kind' | 'polarity' | 'bvcboV' | 'bvceoV' | 'thetaJcCPerW' | 'thetaJaCPerW' | 'icboRefA' | 'icboHotA' | 'icboHotC' | 'icboHotVcbV'
+  >,
 ): Array<{ path: string; message: string }> {
   const out: Array<{ path: string; message: string }> = [];
+  if (!polarityFits(d.kind, d.polarity)) {
+    const fits = POLARITIES_BY_KIND[d.kind];
+    out.push({
+      path: 'polarity',
+      message:
+        fits.length === 1
+          ? `A ${DEVICE_KIND_LABEL[d.kind].toLowerCase()} has no polarity to choose (${fits[0]}); ${d.polarity} does not fit it`
+          : `A ${DEVICE_KIND_LABEL[d.kind]} part is ${fits.join(' or ')}; ${d.polarity} does not fit it`,
+    });
+  }
   const hot = [d.icboHotA, d.icboHotC, d.icboHotVcbV];
   if (hot.some((x) => x !== null) && hot.some((x) => x === null)) {
     const missing = d.icboHotA === null ? 'icboHotA' : d.icboHotC === null ? 'icboHotC' : 'icboHotVcbV';
@@ -104,12 +120,35 @@ export const deviceTypeListQuerySchema = z.object({
 /** Most serials accepted in one request or file. */
 export const MAX_SERIALS_PER_REQUEST = 10000;
 
+/**
+ * Traceability codes (wafer lot, assembly lot, die revision): printable characters only, so they
+ * read the same on screens, in CSV and on a certificate; empty when not known.
+ */
+const traceCode = (label: string, max: number) =>
+  z
+    .string()
+    .trim()
+    .max(max, `${label}: at most ${max} characters`)
+    .regex(/^[\x20-\x7E]*$/, `${label}: letters, digits and ordinary punctuation only`);
+
+const waferLot = traceCode('Wafer lot', 40);
+const assemblyLot = traceCode('Assembly lot', 40);
+const dieRevision = traceCode('Die revision', 20);
+
+export const lotTraceabilitySchema = z.object({
+  waferLot: waferLot.default(''),
+  assemblyLot: assemblyLot.default(''),
+  dieRevision: dieRevision.default(''),
+});
+export type LotTraceability = z.infer<typeof lotTraceabilitySchema>;
+
 export const lotInputSchema = z.object({
   code: z.string().trim().min(1, 'Enter a lot code').max(40),
   deviceTypeId: z.string().uuid('Choose a device type'),
   quantity: z.number().int().positive().max(1_000_000),
   dateCode: z.string().trim().max(20).default(''),
   notes: z.string().trim().max(500).default(''),
+  ...lotTraceabilitySchema.shape,
   /**
    * Device serials; may be empty at creation and added later. Each serial is checked by the
    * server row by row (empty, too long, duplicate, already in the lot) so every bad row is
@@ -121,6 +160,20 @@ export const lotInputSchema = z.object({
     .default([]),
 });
 export type LotInput = z.infer<typeof lotInputSchema>;
+
+/** PATCH /api/lots/:id: the lot's descriptive fields (code, part and quantity stay as created). */
+export const lotPatchSchema = z
+  .object({
+    dateCode: z.string().trim().max(20),
+    notes: z.string().trim().max(500),
+    waferLot,
+    assemblyLot,
+    dieRevision,
+  })
+  .partial()
+  .strict()
+  .refine((v) => Object.keys(v).length > 0, { message: 'Nothing to change' });
+export type LotPatch = z.infer<typeof lotPatchSchema>;
 
 export const addSerialsSchema = z.object({
   serials: z
@@ -143,6 +196,9 @@ export interface Lot {
   quantity: number;
   dateCode: string;
   notes: string;
+  waferLot: string;
+  assemblyLot: string;
+  dieRevision: string;
   /** Serialised devices registered in the lot (the sample pulled for stress, not the whole lot). */
   deviceCount: number;
   createdAt: string;

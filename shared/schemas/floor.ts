@@ -2,6 +2,7 @@
 import type { HoldPhase } from '../holds/sequence';
 import { z } from 'zod';
 import type { RunState } from '../domain/run-states';
+import { CHART_MAX_SPAN_MS, type TelemetryTier } from '../domain/telemetry-tiers';
 import { rigCodeInputSchema } from './rigs';
 
 export const floorRigParamSchema = z.object({ code: rigCodeInputSchema });
@@ -55,6 +56,11 @@ export interface FloorSocket {
   /** Device loaded by the current run, if any. */
   serial: string | null;
   tripReason: string | null;
+  /**
+   * Estimated junction: case + θjc × |V·I| of this sample (shared/physics junctionFromTelemetry, the
+   * estimate credit and protection use); null without a loaded device or a reading.
+   */
+  junction: { tjC: number; caseC: number; thetaJcCPerW: number; powerW: number } | null;
   /** Power cycling (a cycling run): the socket's credited cycles of the run's target and its last swing (K). */
   cycles?: { done: number; target: number; lastDTjLowC: number | null; lastDTjHighC: number | null };
 }
@@ -69,10 +75,8 @@ export interface FloorBoard {
 
 export const CHART_MAX_POINTS = 1000;
 export const CHART_MAX_SOCKETS = 8;
-/** Spans up to this use raw samples; longer spans use the per-minute rollups. */
-export const CHART_RAW_SPAN_MS = 30 * 60_000;
-/** Longest chart span. */
-export const CHART_MAX_SPAN_MS = 90 * 86_400_000;
+/** Which tier a span reads and the longest span: shared/domain/telemetry-tiers.ts (one rule, one place). */
+export { CHART_RAW_SPAN_MS, CHART_MINUTE_SPAN_MS, CHART_MAX_SPAN_MS } from '../domain/telemetry-tiers';
 
 const socketList = z
   .string()
@@ -93,7 +97,7 @@ export const floorChartQuerySchema = z
     if (q.from && q.to) {
       const span = Date.parse(q.to) - Date.parse(q.from);
       if (!(span > 0)) ctx.addIssue({ code: 'custom', path: ['to'], message: '"to" must be after "from"' });
-      else if (span > CHART_MAX_SPAN_MS) ctx.addIssue({ code: 'custom', path: ['from'], message: 'At most 90 days per chart' });
+      else if (span > CHART_MAX_SPAN_MS) ctx.addIssue({ code: 'custom', path: ['from'], message: 'At most 366 days (a year) per chart' });
     }
   });
 export type FloorChartQuery = z.infer<typeof floorChartQuerySchema>;
@@ -109,8 +113,8 @@ export interface ChartPoint {
 export interface FloorChart {
   from: string;
   to: string;
-  /** 'raw' = telemetry samples, 'rollup' = per-minute rollups. */
-  source: 'raw' | 'rollup';
+  /** The tier the chart was read from: 'raw' = every sample, 'minute' / 'hour' = per-minute / hourly rollups (shared/domain/telemetry-tiers.ts). */
+  source: TelemetryTier;
   bucketMs: number;
   chamber: ChartPoint[];
   sockets: Array<{ socket: number; points: ChartPoint[] }>;

@@ -20,7 +20,7 @@ import { num } from './devices';
 import { MEASUREMENT_RESULTS, type MeasurementResult } from '../evidence';
 import { CORRECTION_REASON_MIN, type RecordDeviationKind } from '../domain/records';
 
-import { MEASUREMENT_COLUMNS, type MeasurementColumn, LEAKAGE_UNITS, CURRENT_UNITS, VOLTAGE_UNITS } from '../domain/measurement-columns';
+import { MEASUREMENT_COLUMNS, type MeasurementColumn } from '../domain/measurement-columns';
 export {
   MEASUREMENT_COLUMNS,
   type MeasurementColumn,
@@ -28,21 +28,17 @@ export {
   ownColumn,
   REQUIRED_COLUMNS,
   COLUMN_LABEL,
-  LEAKAGE_UNITS,
   CURRENT_UNITS,
   VOLTAGE_UNITS,
   UNIT_FACTOR,
   UNIT_LABEL,
+  COLUMN_QUANTITY,
+  COLUMN_GUIDE,
+  columnUnit,
+  splitHeaderUnit,
+  templateCsv,
+  type MeasurementUnit,
 } from '../domain/measurement-columns';
-
-export const unitsSchema = z
-  .object({
-    icbo: z.enum(LEAKAGE_UNITS).default('A'),
-    hfeIc: z.enum(CURRENT_UNITS).default('A'),
-    vcesat: z.enum(VOLTAGE_UNITS).default('V'),
-  })
-  .strict();
-export type Units = z.infer<typeof unitsSchema>;
 
 /** The file's header names → ours, e.g. { "Serial No": "serial", "Ib leak": "icbo_a" }. */
 export const columnMappingSchema = z.record(z.string().trim().min(1).max(100), z.enum(MEASUREMENT_COLUMNS)).refine(
@@ -61,7 +57,7 @@ export const correctionReasonSchema = z
   .min(CORRECTION_REASON_MIN, `Give the reason for the change in at least ${CORRECTION_REASON_MIN} characters`)
   .max(500, 'Keep the reason under 500 characters');
 
-/** A multipart text field holding JSON (mapping, units) → parsed object, or the default when absent. */
+/** A multipart text field holding JSON (the mapping) → parsed object, or the default when absent. Units come from the file's headers. */
 const jsonField = <T extends z.ZodType>(schema: T) =>
   z.preprocess((v, ctx) => {
     if (v === undefined || v === '') return undefined;
@@ -77,7 +73,10 @@ const jsonField = <T extends z.ZodType>(schema: T) =>
 /** Text fields of the multipart upload (besides `file`). */
 export const uploadFieldsSchema = z.object({
   mapping: jsonField(columnMappingSchema.default({})),
-  units: jsonField(unitsSchema.default({ icbo: 'A', hfeIc: 'A', vcesat: 'V' })),
+  /** Refused: each column's unit is read from its header, so a unit chosen beside the file could only disagree with it. */
+  units: z
+    .never({ message: 'Units are read from the file’s column headers, e.g. "IC (mA)" or "ICBO [nA]"; do not send them separately' })
+    .optional(),
   /** Temperature assumed for rows without temp_c. */
   defaultTempC: z.coerce.number().finite().min(-65).max(300).default(25),
   /** Why this file replaces stored values (needed when it does; shared/domain/records.ts). */

@@ -1,7 +1,17 @@
 import { z } from 'zod';
 import { num } from './devices';
 
-import { PLAN_KINDS, isCyclingKind, isHumidityKind, isPoweredKind, isReverseBiasKind, type PlanKind } from '../domain/stress';
+import {
+  PLAN_KINDS,
+  isCyclingKind,
+  isHumidityKind,
+  isPoweredKind,
+  isReverseBiasKind,
+  isThermalCyclingKind,
+  isUnbiasedKind,
+  type PlanKind,
+} from '../domain/stress';
+import { AC_CONDITIONS, AC_CONDITION_CODES, TC_MAX_RAMP_K_PER_MIN, TC_MIN_DWELL_MIN } from '../domain/chamber-methods';
 import {
   CHAMBER_BAND_MAX_K,
   DEFAULT_BIAS_TOLERANCE_PCT,
@@ -72,6 +82,21 @@ export const cycleSchema = z.object({
   cycles: z.number().int().positive().max(1_000_000),
 });
 
+/**
+ * Temperature cycling (tc, JESD22-A104): the load's extremes, the dwell at each, the air's ramp and
+ * the cycle target. The plan's chamberC is the hot extreme (highC); its band is the hot extreme's.
+ */
+export const thermalCycleSchema = z.object({
+  lowC: num().min(-80).max(50),
+  highC: num().min(25).max(300),
+  dwellMin: num().min(TC_MIN_DWELL_MIN, `A dwell of at least ${TC_MIN_DWELL_MIN} min (JESD22-A104 soak mode 1, from memory)`).max(240),
+  rampKPerMin: num()
+    .positive()
+    .max(TC_MAX_RAMP_K_PER_MIN, `At most ${TC_MAX_RAMP_K_PER_MIN} K/min (JESD22-A104 limit for the load, from memory)`),
+  cycles: z.number().int().positive().max(100_000),
+});
+export type ThermalCycle = z.infer<typeof thermalCycleSchema>;
+
 /** The chamber band in kelvin below and above the stated stress temperature (see METHOD_CHAMBER_BAND_K). */
 export const chamberBandSchema = z.object({
   belowK: num().min(0, 'A band cannot be negative').max(CHAMBER_BAND_MAX_K, `At most ${CHAMBER_BAND_MAX_K} K`),
@@ -100,6 +125,10 @@ export const planInputSchema = z
     eaEv: num().min(0.1).max(2).default(DEFAULT_EA_EV),
     useC: num().min(-55).max(200).default(DEFAULT_USE_C),
     cycle: cycleSchema.nullable().default(null),
+    /** Temperature cycling only: extremes, dwell, ramp, cycles. */
+    thermalCycle: thermalCycleSchema.nullable().default(null),
+    /** Autoclave / unbiased HAST only: which condition (shared/domain/chamber-methods.ts AC_CONDITIONS). */
+    acCondition: z.enum(AC_CONDITION_CODES).nullable().default(null),
     /** Derating applied to breakdown ratings in the plan check (fraction of rated, e.g. 0.8). */
     breakdownDerating: num().min(0.1).max(1).default(REVERSE_BIAS_FRACTION),
     notes: z.string().trim().max(2000).default(''),
@@ -127,6 +156,7 @@ export const planInputSchema = z
     if (isCyclingKind(p.kind) && p.cycle === null) {
       ctx.addIssue({ code: 'custom', path: ['cycle'], message: 'Intermittent plans need on/off times' });
     }
+    unbiasedIssues(p).forEach((i) => ctx.addIssue({ code: 'custom', path: i.path, message: i.message }));
     if (p.chamberBand && p.chamberBand.belowK + p.chamberBand.aboveK <= 0) {
       ctx.addIssue({
         code: 'custom',
@@ -136,6 +166,58 @@ export const planInputSchema = z
     }
   })
   .transform((p) => ({ ...p, chamberBand: p.chamberBand ?? { ...METHOD_CHAMBER_BAND_K[p.kind] } }));
+/**
+ * The unbiased chamber kinds' own rules: no bias at all; tc needs its profile with the hot extreme as
+ * the stress temperature; ac needs its condition, whose temperature and humidity the plan states.
+ */
+function unbiasedIssues(p: {
+  kind: PlanKind;
+  chamberC: number;
+  humidityPct: number | null;
+  bias: { vcbV: number | null; vebV: number | null; vceV: number | null; ibA: number | null; icA: number | null };
+  cycle: unknown;
+  thermalCycle: ThermalCycle | null;
+  acCondition: keyof typeof AC_CONDITIONS | null;
+}): Array<{ path: (string | number)[]; message: string }> {
+  const out: Array<{ path: (string | number)[]; message: string }> = [];
+  if (!isUnbiasedKind(p.kind)) {
+    if (p.thermalCycle !== null) out.push({ path: ['thermalCycle'], message: 'Only temperature-cycling plans have a chamber cycle' });
+    if (p.acCondition !== null) out.push({ path: ['acCondition'], message: 'Only autoclave plans have an autoclave condition' });
+    return out;
+  }
+  const b = p.bias;
+  const applied = (['vcbV', 'vebV', 'vceV', 'ibA', 'icA'] as const).find((k) => b[k] !== null && b[k] !== 0);
+  if (applied) out.push({ path: ['bias', applied], message: 'A chamber stress applies no bias: leave the bias empty' });
+  if (p.cycle !== null) out.push({ path: ['cycle'], message: 'A chamber stress has no power cycling' });
+  if (isThermalCyclingKind(p.kind)) {
+    const tc = p.thermalCycle;
+    if (!tc) out.push({ path: ['thermalCycle'], message: 'Temperature cycling needs its extremes, dwell, ramp and cycles' });
+    else {
+      if (tc.highC - tc.lowC < 20)
+        out.push({ path: ['thermalCycle', 'highC'], message: 'The hot extreme must be at least 20 K above the cold one' });
+      if (p.chamberC !== tc.highC) {
+        out.push({ path: ['chamberC'], message: `The stress temperature of a cycling plan is its hot extreme (${tc.highC} °C)` });
+      }
+    }
+  } else if (p.thermalCycle !== null) {
+    out.push({ path: ['thermalCycle'], message: 'Only temperature-cycling plans have a chamber cycle' });
+  }
+  if (p.kind === 'ac') {
+    const c = p.acCondition ? AC_CONDITIONS[p.acCondition] : null;
+    if (!c) out.push({ path: ['acCondition'], message: 'Choose the autoclave or unbiased-HAST condition' });
+    else {
+      if (p.chamberC !== c.chamberC) out.push({ path: ['chamberC'], message: `${c.label}: the chamber is at ${c.chamberC} °C` });
+      if (p.humidityPct !== c.humidityPct)
+        out.push({ path: ['humidityPct'], message: `${c.label}: the humidity is ${c.humidityPct} % RH` });
+    }
+  } else if (p.acCondition !== null) {
+    out.push({ path: ['acCondition'], message: 'Only autoclave plans have an autoclave condition' });
+  }
+  if (p.kind === 'htsl' && p.humidityPct !== null)
+    out.push({ path: ['humidityPct'], message: 'A storage bake is dry: leave the humidity empty' });
+  return out;
+}
+
 /** A plan as the server keeps it: the band resolved (the method's when the body gave none). */
 export type PlanInput = z.infer<typeof planInputSchema>;
 /** A plan body as sent (the band may be left out). */

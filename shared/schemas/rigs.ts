@@ -1,6 +1,7 @@
 /** Rigs admin API (/api/rigs): registration, MQTT credentials, maintenance windows. */
 import { z } from 'zod';
 import { RIG_CODE_PATTERN } from '../mqtt/topics';
+import { RIG_KINDS, type RigKind } from '../domain/rig-kinds';
 
 const finite = () => z.number().finite();
 
@@ -15,24 +16,40 @@ export const rigCodeParamSchema = z.object({ code: rigCodeInputSchema });
 export const rigMaintenanceParamSchema = z.object({ code: rigCodeInputSchema, id: z.string().uuid('Not a valid id') });
 
 export const MAX_RIG_SOCKETS = 256;
+/** A chamber's capacity in devices (load positions, not sockets). */
+export const MAX_CHAMBER_DEVICES = 2000;
 
 export const createRigSchema = z
   .object({
     code: rigCodeInputSchema,
     name: z.string().trim().min(1, 'Enter a name').max(80),
     location: z.string().trim().max(80).default(''),
+    /** 'board' (burn-in oven with biased sockets) or 'chamber' (unbiased stresses; socketCount is its capacity in devices). */
+    kind: z.enum(RIG_KINDS).default('board'),
     socketCount: z
       .number()
       .int('Whole sockets only')
       .min(1, 'At least one socket')
-      .max(MAX_RIG_SOCKETS, `At most ${MAX_RIG_SOCKETS} sockets`),
+      .max(MAX_CHAMBER_DEVICES, `At most ${MAX_CHAMBER_DEVICES} devices`),
     maxTempC: finite().min(25, 'At least 25 °C').max(500, 'At most 500 °C'),
-    maxVoltageV: finite().positive('Must be above 0 V').max(10_000, 'At most 10 kV'),
+    /** Chambers only: the coldest set point it holds (°C); null = no cooling. */
+    minTempC: finite().min(-100, 'At least −100 °C').max(25, 'At most 25 °C').nullable().default(null),
+    maxVoltageV: finite().min(0, 'Must be above 0 V').max(10_000, 'At most 10 kV'),
     humidityCapable: z.boolean().default(false),
     maxHumidityPct: finite().min(1).max(100).nullable().default(null),
+    /** Chambers only: the vessel's rated absolute pressure (kPa) for autoclave / HAST; null = not a pressure vessel. */
+    maxPressureKPa: finite().min(101, 'At least atmospheric (101 kPa)').max(1000, 'At most 1000 kPa').nullable().default(null),
   })
   .strict()
   .superRefine((r, ctx) => {
+    if (r.kind === 'board') {
+      if (r.socketCount > MAX_RIG_SOCKETS)
+        ctx.addIssue({ code: 'custom', path: ['socketCount'], message: `At most ${MAX_RIG_SOCKETS} sockets` });
+      if (!(r.maxVoltageV > 0)) ctx.addIssue({ code: 'custom', path: ['maxVoltageV'], message: 'Must be above 0 V' });
+      if (r.minTempC !== null) ctx.addIssue({ code: 'custom', path: ['minTempC'], message: 'Only a chamber has a cold limit' });
+      if (r.maxPressureKPa !== null)
+        ctx.addIssue({ code: 'custom', path: ['maxPressureKPa'], message: 'Only a chamber is a pressure vessel' });
+    }
     if (r.humidityCapable && r.maxHumidityPct === null) {
       ctx.addIssue({ code: 'custom', path: ['maxHumidityPct'], message: 'A humidity chamber needs its maximum relative humidity' });
     }
@@ -65,8 +82,11 @@ export interface Rig {
   code: string;
   name: string;
   location: string;
+  kind: RigKind;
   socketCount: number;
   maxTempC: number;
+  minTempC: number | null;
+  maxPressureKPa: number | null;
   maxVoltageV: number;
   humidityCapable: boolean;
   maxHumidityPct: number | null;

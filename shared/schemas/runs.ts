@@ -50,12 +50,28 @@ const isoTime = () => z.iso.datetime({ offset: true, message: 'Give a date and t
 
 export const runIdParamSchema = z.object({ id: uuid('run') });
 
+/**
+ * A request's due date and priority (issue #26): the proposer weighs lateness by the priority
+ * (shared/domain/priority.ts). No due date (null or omitted) = never late; priority defaults to normal.
+ * The service refuses a due date that is already past.
+ */
+export const requestTermsShape = {
+  dueAt: isoTime().nullable().optional(),
+  priority: z
+    .number({ message: 'Priority is a whole number from 1 (low) to 4 (urgent)' })
+    .int('Priority is a whole number from 1 (low) to 4 (urgent)')
+    .min(1, 'Priority is a whole number from 1 (low) to 4 (urgent)')
+    .max(4, 'Priority is a whole number from 1 (low) to 4 (urgent)')
+    .optional(),
+};
+
 export const proposalInputSchema = z.object({
   planId: uuid('plan'),
   lotIds: z.array(uuid('lot')).min(1, 'Choose at least one lot').max(12, 'At most 12 lots per run'),
   sampleSize: z.number().int('Whole devices only').positive('At least one device').max(256, 'A board holds at most 256 sockets'),
   /** Earliest start to consider (default now). */
   notBefore: isoTime().optional(),
+  ...requestTermsShape,
 });
 export type ProposalInput = z.infer<typeof proposalInputSchema>;
 
@@ -97,6 +113,7 @@ export const bookSampleSchema = z
     parts: z.array(samplePartSchema).min(1, 'Book at least one rig').max(4, 'Split a sample over at most 4 rigs'),
     override: bookRunSchema.shape.override,
     deviation: deviationSchema.optional(),
+    ...requestTermsShape,
   })
   .superRefine((b, ctx) => {
     const seen = new Set<string>();
@@ -192,9 +209,19 @@ export interface StartPermit {
 /** Socket index (0-based, as on the rig board) → device serial; "" marks a socket left empty. */
 export const socketLoadSchema = z.object({
   rowVersion: rowVersion(),
+  /** Socket (or chamber load position) → serial. */
   sockets: z
-    .record(z.string().regex(/^\d{1,3}$/, 'Socket numbers are 0–255'), z.string().trim().max(40, 'Serials are at most 40 characters'))
-    .refine((m) => Object.keys(m).length <= 256, 'A board holds at most 256 sockets'),
+    .record(
+      z.string().regex(/^\d{1,4}$/, 'Socket numbers are 0–255 (chamber positions 0–1999)'),
+      z.string().trim().max(40, 'Serials are at most 40 characters'),
+    )
+    .refine((m) => Object.keys(m).length <= 2000, 'A chamber holds at most 2000 devices')
+    .default({}),
+  /**
+   * A chamber run only: the devices loaded into the chamber as a serial list (no sockets); the
+   * server gives each the first free load position of the chamber. Replaces `sockets` when given.
+   */
+  serials: z.array(z.string().trim().min(1, 'An empty serial').max(40, 'Serials are at most 40 characters')).max(2000).optional(),
   /** Check only: report the flags, store nothing. */
   dryRun: z.boolean().default(false),
 });
@@ -253,6 +280,8 @@ export interface Run {
    * next read point; its read points and end are counted in cycles. Null for plans in hours.
    */
   cycles: RunCycles | null;
+  /** Temperature cycling in a chamber (tc): the cycles counted from the load temperature, the target and the profile; null otherwise. */
+  chamberCycles: RunChamberCycles | null;
   /** Next read point to reach (hours), or null after the last. */
   nextReadPointH: number | null;
   /** The read point the run is held at (read-hold) or last reached. */
@@ -270,6 +299,9 @@ export interface Run {
   allowedActions: RunAction[];
   rowVersion: number;
   createdAt: string;
+  /** When the requester needs it finished (null: no due date) and its priority 1 low … 4 urgent. */
+  dueAt: string | null;
+  priority: number;
 }
 
 export interface RunCycles {
@@ -285,6 +317,8 @@ export interface RunCycles {
 
 export interface RunSocket {
   socket: number;
+  /** The device in the socket (its history: /devices/units/:deviceId). */
+  deviceId: string;
   serial: string;
   lotCode: string;
   accruedHours: number;
@@ -304,7 +338,33 @@ export interface RunAuditEntry {
   details: Record<string, unknown>;
 }
 
+/** A tc run's count and its profile (shared/chamber/profile.ts). */
+export interface RunChamberCycles {
+  done: number;
+  target: number;
+  nextReadPointCycles: number | null;
+  lowC: number;
+  highC: number;
+  dwellMin: number;
+  rampKPerMin: number;
+  periodMin: number;
+  /** Where the counter stands in the cycle under way. */
+  phase: 'to-hot' | 'hot' | 'to-cold' | 'cold' | null;
+  /** Smallest load swing (K) of the counted cycles. */
+  minSwingK: number | null;
+  excursions: number;
+}
+
+/** A chamber's latest report and its recent profile (air and load), for the run page of an unbiased run. */
+export interface RunChamberView {
+  latest: { at: string; airC: number; loadC: number; setpointC: number; humidityPct: number | null; pressureKPa: number | null } | null;
+  /** Recent reports, oldest first: chamber clock (min), air and load (°C). */
+  profile: Array<{ clockMin: number; airC: number; loadC: number }>;
+}
+
 export interface RunDetail extends Run {
+  /** Unbiased chamber runs only: the chamber's reports; null for socket runs. */
+  chamber: RunChamberView | null;
   sockets: RunSocket[];
   audit: RunAuditEntry[];
   /** Sockets of the rig used by other runs on it now (not offered for loading). */
@@ -354,6 +414,8 @@ export interface ProposalOption {
   spareSockets: number;
   /** Why it cannot start at the requested time (empty when it can). */
   delayReasons: string[];
+  /** Clock hours past the request's due date at this option's end (0 when on time; null: no due date). */
+  lateH: number | null;
 }
 
 export interface ProposalRefusal {
@@ -388,6 +450,10 @@ export interface TimelineBar {
   sampleSize: number;
   stressHours: number;
   targetH: number;
+  dueAt: string | null;
+  priority: number;
+  /** Clock hours the projected end lies past the due date (0: on time; null: no due date). */
+  lateH: number | null;
 }
 
 export interface TimelineRow {
@@ -408,4 +474,65 @@ export interface Timeline {
   /** Wall ms per stress-clock hour (the demo clock is accelerated). */
   msPerClockH: number;
   rows: TimelineRow[];
+}
+
+// ---------------------------------------------------------------------------------------------
+// The calendar: booked runs ordered by priority-weighted lateness (shared/scheduling/tardiness.ts)
+
+/** One booked run's window in the calendar proposal. */
+export interface CalendarWindow {
+  rigId: string;
+  rigCode: string;
+  start: string;
+  end: string;
+  /** Clock hours past the due date at this end (0: on time; null: no due date). */
+  lateH: number | null;
+}
+
+export interface CalendarProposalRun {
+  runId: string;
+  code: string;
+  rowVersion: number;
+  priority: number;
+  dueAt: string | null;
+  /** The booking as it stands (its projected window). */
+  current: CalendarWindow;
+  proposed: CalendarWindow;
+  moved: boolean;
+  /** Why the booking as it stands breaks the sharing rule now (empty when it does not): such a run moves even if later. */
+  currentConflicts: string[];
+}
+
+export interface CalendarProposal {
+  /** 'exact' (branch and bound) or 'heuristic' (ATC + local search): shared/scheduling/tardiness.ts. */
+  method: 'exact' | 'heuristic';
+  now: string;
+  /** Σ weight × hours late, now and as proposed (weighted clock hours). */
+  currentWeightedLateH: number;
+  proposedWeightedLateH: number;
+  runs: CalendarProposalRun[];
+  /** Booked runs no rig can take now, with the reasons. */
+  unplaced: Array<{ runId: string; code: string; reasons: string[] }>;
+}
+
+/** Accept (part of) a calendar proposal: each run's new window, against the version it was proposed for. */
+export const calendarApplySchema = z.object({
+  moves: z
+    .array(
+      z.object({
+        runId: uuid('run'),
+        rowVersion: rowVersion(),
+        rigId: uuid('rig'),
+        start: isoTime(),
+      }),
+    )
+    .min(1, 'Choose at least one run to move')
+    .max(100, 'At most 100 runs at once')
+    .refine((ms) => new Set(ms.map((x) => x.runId)).size === ms.length, 'Each run once'),
+});
+export type CalendarApplyInput = z.infer<typeof calendarApplySchema>;
+
+export interface CalendarApplyResult {
+  moved: number;
+  runs: Array<{ runId: string; code: string; rigCode: string; start: string; end: string }>;
 }

@@ -262,7 +262,7 @@ describe('failure rate and sample size', () => {
 describe('exports', () => {
   it('CSV: cells that could run as formulas get a leading quote; numbers stay numbers [practice: OWASP CSV injection]', async () => {
     const mgr = await t.signIn('manager');
-    const res = await mgr.get(`/api/analytics/lots/${ids['HG9801-D']}/report.csv`).buffer(true);
+    const res = await mgr.get(`/api/reports/lots/${ids['HG9801-D']}/report.csv`).buffer(true);
     expect(res.status).toBe(200);
     expect(res.headers['content-type']).toMatch(/text\/csv/);
     expect(res.headers['content-disposition']).toMatch(/lot-HG9801-D-report\.csv/);
@@ -277,7 +277,7 @@ describe('exports', () => {
   it('PDF: a real PDF with the verdict', async () => {
     const mgr = await t.signIn('manager');
     const res = await mgr
-      .get(`/api/analytics/lots/${ids['HG9801-D']}/report.pdf`)
+      .get(`/api/reports/lots/${ids['HG9801-D']}/report.pdf`)
       .buffer(true)
       .parse((r, cb) => {
         const chunks: Buffer[] = [];

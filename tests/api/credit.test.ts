@@ -217,7 +217,7 @@ describe('equivalent hours from the measured junction', () => {
 
   it('the CSV export names the mechanism, the model and its parameters', async () => {
     const mgr = await t.signIn('manager');
-    const csv = await mgr.get(`/api/analytics/lots/${lotId}/report.csv`);
+    const csv = await mgr.get(`/api/reports/lots/${lotId}/report.csv`);
     expect(csv.status).toBe(200);
     expect(csv.text).toContain('Failure mechanism,Temperature (Arrhenius)');
     expect(csv.text).toMatch(/Model parameters,"?Ea 0\.7 eV \(plan\), use temperature 55 °C \(plan\)"?/);
@@ -325,7 +325,7 @@ describe('FIT per mechanism, never pooled', () => {
     const res = await mgr.get(`/api/analytics/lots/${lots['HG9901-B']}`);
     expect(res.body.fit).toMatchObject({ mechanism: 'humidity', mechanismLabel: 'Humidity (Peck)' });
     expect(res.body.fit.junction).toMatchObject({ devicesFromTelemetry: 20, tjMeanC: 85 });
-    const csv = await mgr.get(`/api/analytics/lots/${lots['HG9901-B']}/report.csv`);
+    const csv = await mgr.get(`/api/reports/lots/${lots['HG9901-B']}/report.csv`);
     expect(csv.text).toContain('Failure mechanism,Humidity (Peck)');
   });
 });

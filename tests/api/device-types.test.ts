@@ -70,6 +70,8 @@ describe('device types', () => {
         'pMaxW',
         'pRatedAtC',
         'tjMaxC',
+        'tstgMinC',
+        'tstgMaxC',
         'thetaJcCPerW',
         'thetaJaCPerW',
         'betaRef',

@@ -301,11 +301,11 @@ describe('GET /api/floor/rigs/:code/chart', () => {
     expect(two.body.sockets.map((s: { socket: number }) => s.socket)).toEqual([7, 8, 9]);
   });
 
-  it('long spans come from the per-minute rollups and stay within `points`', async () => {
+  it('spans over 30 minutes come from the per-minute rollups and stay within `points`', async () => {
     const agent = await t.signIn('operator');
     const res = await agent.get(url(`from=${iso(T0 - 3600_000)}&to=${iso(T0 + 3600_000)}&points=300&sockets=1`));
     expect(res.status).toBe(200);
-    expect(res.body.source).toBe('rollup');
+    expect(res.body.source).toBe('minute');
     expect(res.body.chamber.length).toBeGreaterThan(0);
     expect(res.body.chamber.length).toBeLessThanOrEqual(300);
     expect(res.body.chamber.length).toBeLessThanOrEqual(20); // 20 minutes of data

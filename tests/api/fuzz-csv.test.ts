@@ -314,7 +314,7 @@ describe('exports neutralise spreadsheet formulas', () => {
       .send({ code: formula, deviceTypeId: type.body.id, quantity: 10, notes: '+HYPERLINK("http://evil.example")', dateCode: '-2+3' });
     expect(lot.status).toBe(201);
     const mgr = await t.signIn('manager');
-    const res = await mgr.get(`/api/analytics/lots/${lot.body.id}/report.csv`).buffer(true);
+    const res = await mgr.get(`/api/reports/lots/${lot.body.id}/report.csv`).buffer(true);
     expect(res.status).toBe(200);
     const rows = res.text.replace(/^\uFEFF/, '').split('\r\n');
     const cellAfter = (label: string) => {

@@ -144,6 +144,17 @@ describe('measurement upload', () => {
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
   });
 
+  it('re-checking the stored file gives one message: identical, nothing to store (counts add up)', async () => {
+    const op = await t.signIn('operator');
+    const res = await op.post(uploadPath(0, true)).attach('file', Buffer.from(goodFile()), 'tz-again.csv');
+    expect(res.status).toBe(200);
+    expect(res.body).toMatchObject({ status: 'preview', rowsTotal: 10, inserted: 0, replaced: 0, unchanged: 10, rejected: 0, stored: 0 });
+    expect(res.body.notes[0]).toMatch(
+      /^10 rows: identical to the file stored on \d{4}-\d{2}-\d{2} \d{2}:\d{2} UTC, nothing to store \(10 already stored\)\.$/,
+    );
+    expect(res.body.notes.join(' ')).not.toMatch(/replace a stored reading/);
+  });
+
   it('the same file offered for another read point is a 409 and changes nothing', async () => {
     const op = await t.signIn('operator');
     const before = await tableCounts(t.ctx.ds);
@@ -242,29 +253,64 @@ describe('measurement upload', () => {
     expect((await t.ctx.ds.getRepository(MeasurementEntity).findOneByOrFail({ runId, deviceId: dev.id, readPointH: 500 })).late).toBe(true);
   });
 
-  it('maps the file’s own headers and converts units chosen at upload (nA, mA, mV) to SI', async () => {
+  it('maps the file’s own headers and converts the units its headers state (nA, mA, mV) to SI', async () => {
     const op = await t.signIn('operator');
-    const file = ['Serial No;Gain;Ic mA;Vce;Leak nA;Vcb;Vsat mV;Temp', 'A010;117;150;5;22.5;112;225;25'].join('\r\n');
+    const file = ['Serial No;Gain;Ic mA;Vce (V);Leak nA;Vcb/V;Vsat [mV];Temp', 'A010;117;150;5;22.5;112;225;25'].join('\r\n');
     const mapping = {
       'Serial No': 'serial',
       Gain: 'hfe',
       'Ic mA': 'hfe_ic_a',
-      Vce: 'hfe_vce_v',
+      'Vce (V)': 'hfe_vce_v',
       'Leak nA': 'icbo_a',
-      Vcb: 'icbo_vcb_v',
-      'Vsat mV': 'vcesat_v',
+      'Vcb/V': 'icbo_vcb_v',
+      'Vsat [mV]': 'vcesat_v',
       Temp: 'temp_c',
     };
     const res = await op
       .post(uploadPath(168, true))
       .field('mapping', JSON.stringify(mapping))
-      .field('units', JSON.stringify({ icbo: 'nA', hfeIc: 'mA', vcesat: 'mV' }))
       .attach('file', Buffer.from(file), 'tester.csv');
     expect(res.status).toBe(200);
     const v = res.body.rows[0].values;
+    // SI prefixes n, m = 1e-9, 1e-3 (BIPM SI Brochure, 9th ed.).
     expect(v.icboA).toBeCloseTo(22.5e-9, 15);
     expect(v.hfeIcA).toBeCloseTo(0.15, 12);
     expect(v.vcesatV).toBeCloseTo(0.225, 12);
+  });
+
+  it('a header without a unit refuses the file (422) naming the column; units sent beside the file are refused (400)', async () => {
+    const op = await t.signIn('operator');
+    const before = await tableCounts(t.ctx.ds);
+    const file = ['serial,hfe,IC,VCE (V),ICBO [nA],VCB (V),VCE(sat)/V', 'A010,117,0.15,5,22.5,112,0.2'].join('\n');
+    const sideUnits = await op
+      .post(uploadPath(168))
+      .field('units', JSON.stringify({ icbo: 'nA', hfeIc: 'A', vcesat: 'V' }))
+      .attach('file', Buffer.from(file), 'no-unit.csv');
+    expect(sideUnits.status).toBe(400);
+    expect(sideUnits.body.error.fields.units[0]).toMatch(/^Units are read from the file’s column headers/);
+    const res = await op.post(uploadPath(168)).attach('file', Buffer.from(file), 'no-unit.csv');
+    expect(res.status).toBe(422);
+    expect(res.body.error.message).toBe(
+      'The file\'s units cannot be read; nothing was checked. Column "IC" (IC for hFE) states no unit; write it in the header, e.g. "IC (A)" (pA, nA, µA, mA, A).',
+    );
+    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+  });
+
+  it('10 A of collector current for hFE is refused against the part’s rated IC max, with the numbers', async () => {
+    const op = await t.signIn('operator');
+    const file = [
+      'serial,hfe,IC (A),VCE (V),ICBO (nA),VCB (V),VCE(sat) (V)',
+      'A010,117,10,5,22.5,112,0.2',
+      'A009,119,0.15,5,21,112,0.2',
+    ].join('\n');
+    const res = await op.post(uploadPath(168, true)).attach('file', Buffer.from(file), 'ten-amps.csv');
+    expect(res.status).toBe(200);
+    expect(res.body).toMatchObject({ rowsTotal: 2, rejected: 1 });
+    // HPD-T100 is inserted with IC max 1.5 A (tests/support/db.ts insertTestDeviceType).
+    expect(res.body.rows[0].reasons).toEqual([
+      'The hFE test current 10 A is above the rated IC max of HPD-T100 (1.5 A); check the unit in the header.',
+    ]);
+    expect(res.body.rows[1].outcome).not.toBe('rejected');
   });
 
   it('a file without a required column is refused as a whole, naming the column', async () => {

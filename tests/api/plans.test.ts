@@ -56,11 +56,11 @@ async function templatesFor(pn: string): Promise<PlanTemplate[]> {
 const byKind = (list: PlanTemplate[], kind: string) => list.find((x) => x.kind === kind)!;
 
 describe('plan templates', () => {
-  it('without a device type: the four stresses, each with its sources and rules, no plan body', async () => {
+  it('without a device type: the seven stresses (four socket-biased, three chamber), each with its sources and rules, no plan body', async () => {
     const op = await t.signIn('operator');
     const res = await op.get('/api/plans/templates');
     expect(res.status).toBe(200);
-    expect(res.body.items.map((x: PlanTemplate) => x.kind)).toEqual(['htrb', 'hotl', 'iol', 'thb']);
+    expect(res.body.items.map((x: PlanTemplate) => x.kind)).toEqual(['htrb', 'hotl', 'iol', 'thb', 'tc', 'htsl', 'ac']);
     const templates: PlanTemplate[] = res.body.items;
     for (const tpl of templates) {
       expect(tpl.plan).toBeNull();
@@ -75,8 +75,9 @@ describe('plan templates', () => {
         const parsed = planInputSchema.safeParse(tpl.plan);
         expect(parsed.success).toBe(true);
         expect(tpl.plan!.deviceTypeId).toBe(ids[pn]);
-        // read points 0 / 168 / 500 / 1000 h [practice]
-        expect(tpl.plan!.readPointsH).toEqual([0, 168, 500, 1000]);
+        // read points 0 / 168 / 500 / 1000 h [practice]; TC counts cycles (tests/unit/chamber-stresses.test.ts), autoclave 0 / 48 / 96 h [practice]
+        if (tpl.kind === 'ac') expect(tpl.plan!.readPointsH).toEqual([0, 48, 96]);
+        else if (tpl.kind !== 'tc') expect(tpl.plan!.readPointsH).toEqual([0, 168, 500, 1000]);
         expect(tpl.plan!.notes).toContain('Sources:');
       }
     }

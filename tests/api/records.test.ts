@@ -331,7 +331,7 @@ describe('every reader of the current reading reads the latest version', () => {
 
   it('the lot exports (CSV and PDF) keep the earlier values with their reasons', async () => {
     const eng = await t.signIn('engineer');
-    const csv = await eng.get(`/api/analytics/lots/${lotId}/report.csv`);
+    const csv = await eng.get(`/api/reports/lots/${lotId}/report.csv`);
     expect(csv.status).toBe(200);
     const lines = csv.text.split('\r\n');
     const corr = lines.filter((l) => l.startsWith('HTRB-R-01,R1,168,'));
@@ -340,7 +340,7 @@ describe('every reader of the current reading reads the latest version', () => {
     expect(corr[1]).toMatch(/^HTRB-R-01,R1,168,2,no,measured,121\.5,.*Transcribed 120 instead of 121\.5/);
     expect(corr[2]).toMatch(/^HTRB-R-01,R1,168,3,yes,measured,122,.*Re-measured on the second tester/);
     const pdf = await eng
-      .get(`/api/analytics/lots/${lotId}/report.pdf`)
+      .get(`/api/reports/lots/${lotId}/report.pdf`)
       .buffer(true)
       .parse((res, cb) => {
         const chunks: Buffer[] = [];

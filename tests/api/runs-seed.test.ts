@@ -37,6 +37,20 @@ it('seeds a stressing, a heating, a loading and a booked run on demo rigs', asyn
   expect(loading.sampleSize).toBe(32);
 });
 
+it('the demo requests carry due dates and priorities, and the timeline shows the heating HOTL run late', async () => {
+  const ctx = createContext(db.ds, configFromEnv({} as NodeJS.ProcessEnv));
+  const tl = await ctx.services.runs.timeline({});
+  const bars = tl.rows.flatMap((r) => r.bars);
+  const of = (code: string) => bars.find((b) => b.code === code)!;
+  expect([of('HOTL-2609-D-2').priority, of('THB-2612-G').priority, of('HTRB-2611-A+1').priority, of('IOL-2605-H').priority]).toEqual([
+    4, 3, 1, 2,
+  ]);
+  // 1000 plan hours + 2 holds of 24 h + 2 h heating from now against a due date 900 h away: ~150 h late.
+  expect(of('HOTL-2609-D-2').lateH).toBeGreaterThan(140);
+  expect(of('THB-2612-G').lateH).toBe(0);
+  expect(of('IOL-2605-H').lateH).toBeNull();
+});
+
 it('the scheduler commands the live demo runs right away (the floor moves)', async () => {
   const sent: Array<{ rig: string; cmdId: string; cmd: RigCommandBody }> = [];
   const link: RigLink = {

@@ -124,7 +124,6 @@ describe('the start permit', () => {
 
   it('refuses 64 devices on a rig whose own telemetry reports 4 sockets, with the numbers; nothing changes', async () => {
     await recordTimeZero(t.ctx.ds, runId); // the 64th
-    await t.ctx.ds.query(`DELETE FROM telemetry_samples WHERE rig_id = $1`, [rigId]);
     await t.ctx.ds.query(`DELETE FROM telemetry_batches WHERE rig_id = $1`, [rigId]);
     await reportSockets(t.ctx.ds, rigId, [0, 1, 2, 3], { seq: 5 });
     const { res, before, r0 } = await tryStart();

@@ -103,3 +103,12 @@ test('a failed load shows the reason and a retry', async () => {
   expect(await screen.findByText('Only administrators can see people.')).toBeOnTheScreen();
   expect(screen.getByRole('button', { name: 'Try again' })).toBeOnTheScreen();
 });
+
+test('an engineer opening People sends no request for the list (it would answer 403)', async () => {
+  const engineer = { ...operator, id: '00000000-0000-4000-8000-000000000003', role: 'engineer', name: 'Ines Varo' };
+  const fetch = mockFetch({ 'GET /api/auth/me': { status: 200, body: { user: engineer } } });
+  renderWithClient(<PeopleScreen />);
+  await waitFor(() => expect(fetch.mock.calls.some(([url]) => url === '/api/auth/me')).toBe(true));
+  await new Promise((r) => setTimeout(r, 50));
+  expect(fetch.mock.calls.map(([url]) => url)).not.toContain('/api/users');
+});

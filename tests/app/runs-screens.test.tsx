@@ -86,6 +86,9 @@ const timeline = {
           sampleSize: 3,
           stressHours: 0,
           targetH: 1000,
+          dueAt: iso(90000),
+          priority: 4,
+          lateH: 150,
         },
       ],
       maintenance: [{ id: 'm', start: iso(120000), end: iso(150000), reason: 'seal' }],
@@ -103,7 +106,14 @@ for (const w of [1440, 390]) {
       'GET /api/plans': { status: 200, body: { items: [] } },
     });
     renderWithClient(<ScheduleScreen />);
-    expect(await screen.findByText('HTRB-2611-A')).toBeOnTheScreen();
+    // The open runs and the due-date list both name the run; the list says how late, in words.
+    expect(await screen.findAllByText('HTRB-2611-A')).toHaveLength(2);
+    expect(screen.getByText('Late by 6.3 d')).toBeOnTheScreen();
+    expect(screen.getByText('Urgent')).toBeOnTheScreen();
+    expect(screen.getByText('Zoom in')).toBeOnTheScreen();
+    expect(screen.getByText('Scale: 1 day per 100 px')).toBeOnTheScreen();
+    fireEvent.press(screen.getByText('Zoom out'));
+    expect(screen.getByText('Scale: 2 days per 100 px')).toBeOnTheScreen();
     fireEvent.press(screen.getByText('Book a run'));
     expect(await screen.findByText('Find rigs')).toBeOnTheScreen();
   });

@@ -29,18 +29,36 @@ const ALL = [
   'Devices & lots',
   'Schedule',
   'Lot trends',
+  'Qualifications',
   'People',
   'Mail log',
   'Rigs',
   'Approvals',
   'Audit log',
+  'Capacity',
 ];
 
 describe('destinations per role (from the product brief)', () => {
   test.each<[Role, string[]]>([
     ['operator', ['Floor', 'Alarms', 'Read points', 'Schedule']],
-    ['engineer', ['Floor', 'Alarms', 'Read points', 'Plans', 'Devices & lots', 'Schedule', 'Lot trends', 'Rigs', 'Approvals']],
-    ['manager', ['Devices & lots', 'Schedule', 'Lot trends', 'Approvals', 'Audit log']],
+    [
+      'engineer',
+      [
+        'Floor',
+        'Alarms',
+        'Read points',
+        'Plans',
+        'Devices & lots',
+        'Schedule',
+        'Lot trends',
+        'Qualifications',
+        'Rigs',
+        'Approvals',
+        'Capacity',
+      ],
+    ],
+    // Capacity: re-planning after a rig drops out and utilisation (issue #26 items 3–4).
+    ['manager', ['Devices & lots', 'Schedule', 'Lot trends', 'Qualifications', 'Approvals', 'Audit log', 'Capacity']],
     ['admin', ['Floor', 'Alarms', 'People', 'Mail log', 'Rigs', 'Approvals', 'Audit log']],
   ])('%s', (role, labels) => {
     expect(destinationsFor(role).map((d) => d.label)).toEqual(labels);
@@ -49,7 +67,15 @@ describe('destinations per role (from the product brief)', () => {
   test('a phone shows at most four places before "More"', () => {
     const { tabs, overflow } = splitForPhone(destinationsFor('engineer'));
     expect(tabs.map((d) => d.label)).toEqual(['Floor', 'Alarms', 'Read points', 'Plans']);
-    expect(overflow.map((d) => d.label)).toEqual(['Devices & lots', 'Schedule', 'Lot trends', 'Rigs', 'Approvals']);
+    expect(overflow.map((d) => d.label)).toEqual([
+      'Devices & lots',
+      'Schedule',
+      'Lot trends',
+      'Qualifications',
+      'Rigs',
+      'Approvals',
+      'Capacity',
+    ]);
   });
 });
 

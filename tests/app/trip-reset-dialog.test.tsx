@@ -16,6 +16,7 @@ const socket: FloorSocket = {
   tripped: true,
   serial: 'HPD-L2403-006',
   tripReason: 'Tj 150.2 °C (max 150.0 °C) has reached the rating',
+  junction: null,
 };
 const URL = `POST /api/runs/${RUN.id}/sockets/5/reset-trip`;
 const result: TripResetResult = {

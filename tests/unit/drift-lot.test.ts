@@ -7,7 +7,7 @@ import type { Criteria } from '../../shared/schemas/plans';
 import { looksLikeFormula, parseMeasurementCsv } from '../../server/modules/measurements/csv-rows';
 import { driftOfDevice, referredGain } from '../../server/modules/measurements/device-drift';
 import { fitFigures, lotCore, planFit, type LotCoreInput } from '../../server/modules/analytics/lot-analysis';
-import { csvCell } from '../../server/modules/analytics/lot-report';
+import { csvCell } from '../../server/modules/reports/csv';
 
 const criteria: Criteria = { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 };
 const gain = { referenceC: 27, xtb: 1.5 };
@@ -179,10 +179,9 @@ describe('CSV rows and cells', () => {
 
   it('rows report their file line; a semicolon file with a BOM parses; missing measured_at uses the upload time', () => {
     const now = new Date('2026-05-01T00:00:00Z');
-    const text = '\uFEFFserial;hfe;hfe_ic_a;hfe_vce_v;icbo_a;icbo_vcb_v;vcesat_v\n\nA1;100;0.15;5;20;112;0.2\nA2;abc;0.15;5;20;112;0.2\n';
+    const text = '\uFEFFserial;hfe;hfe_ic_a;hfe_vce_v;icbo_na;icbo_vcb_v;vcesat_v\n\nA1;100;0.15;5;20;112;0.2\nA2;abc;0.15;5;20;112;0.2\n';
     const out = parseMeasurementCsv(Buffer.from(text), {
       mapping: {},
-      units: { icbo: 'nA', hfeIc: 'A', vcesat: 'V' },
       defaultTempC: 25,
       now,
     });
@@ -197,7 +196,6 @@ describe('CSV rows and cells', () => {
       'serial,hfe,hfe_ic_a,hfe_vce_v,icbo_a,icbo_vcb_v,vcesat_v,measured_at\nA1,100,0.15,5,2e-8,112,0.2,2026-04-30 10:00\nA2,100,0.15,5,2e-8,112,0.2,2026-06-01T00:00:00Z\n';
     const out = parseMeasurementCsv(Buffer.from(text), {
       mapping: {},
-      units: { icbo: 'A', hfeIc: 'A', vcesat: 'V' },
       defaultTempC: 25,
       now,
     });

@@ -112,7 +112,15 @@ describe('FIT per mechanism', () => {
   const htrb: MechanismPlan = { kind: 'htrb', eaEv: 0.7, useC: 55, chamberC: 125, humidityPct: null };
 
   test('each stress kind names one mechanism', () => {
-    expect(MECHANISM_OF_KIND).toEqual({ htrb: 'temperature', hotl: 'temperature', thb: 'humidity', iol: 'cycling' });
+    expect(MECHANISM_OF_KIND).toEqual({
+      htrb: 'temperature',
+      hotl: 'temperature',
+      thb: 'humidity',
+      iol: 'cycling',
+      tc: 'thermal-cycling',
+      htsl: 'storage',
+      ac: 'unbiased-humidity',
+    });
   });
 
   test('0 fails, 231 × 1000 h at 125 °C, 55 °C use, 0.7 eV: 51.1 FIT at 60 %, 128.4 at 90 % [REFERENCE §3, JESD85]', () => {

@@ -76,13 +76,29 @@ const hotl: FormState = {
   vcbV: '50',
 };
 
+describe('a temperature-cycling plan typed in cycles', () => {
+  it('read points typed in cycles go to the API as hours of the profile (56 min a cycle for −55/+125 °C, 10 min, 10 K/min)', () => {
+    const s = { ...EMPTY_FORM, kind: 'tc' as const, chamberC: '125', readPoints: '0, 250, 500, 1000', tcCycles: '1000' };
+    const raw = rawFromForm(s);
+    const periodH = 56 / 60;
+    expect(raw.readPointsH).toEqual([0, 250 * periodH, 500 * periodH, 1000 * periodH]);
+    expect(raw.durationH).toBeCloseTo(1000 * periodH, 9);
+    expect(raw.thermalCycle).toEqual({ lowC: -55, highC: 125, dwellMin: 10, rampKPerMin: 10, cycles: 1000 });
+    expect(raw.bias).toMatchObject({ vcbV: null, vceV: null, icA: null, ibA: null });
+  });
+});
+
 describe('fields per stress (shared/domain/stress.ts families)', () => {
   it('shows reverse-bias fields for htrb and thb, powered fields for hotl and iol, humidity for thb, cycling for iol', () => {
-    expect(fieldsFor('htrb')).toEqual({ reverse: true, powered: false, humidity: false, cycling: false });
-    expect(fieldsFor('thb')).toEqual({ reverse: true, powered: false, humidity: true, cycling: false });
-    expect(fieldsFor('hotl')).toEqual({ reverse: false, powered: true, humidity: false, cycling: false });
-    expect(fieldsFor('iol')).toEqual({ reverse: false, powered: true, humidity: false, cycling: true });
-    expect(fieldsFor(undefined)).toEqual({ reverse: false, powered: false, humidity: false, cycling: false });
+    const none = { unbiased: false, thermalCycling: false, autoclave: false };
+    expect(fieldsFor('htrb')).toEqual({ reverse: true, powered: false, humidity: false, cycling: false, ...none });
+    expect(fieldsFor('thb')).toEqual({ reverse: true, powered: false, humidity: true, cycling: false, ...none });
+    expect(fieldsFor('hotl')).toEqual({ reverse: false, powered: true, humidity: false, cycling: false, ...none });
+    expect(fieldsFor('iol')).toEqual({ reverse: false, powered: true, humidity: false, cycling: true, ...none });
+    expect(fieldsFor(undefined)).toEqual({ reverse: false, powered: false, humidity: false, cycling: false, ...none });
+    // The chamber kinds: no bias; tc shows its profile, ac its condition (its humidity comes with it).
+    expect(fieldsFor('tc')).toMatchObject({ reverse: false, powered: false, unbiased: true, thermalCycling: true, autoclave: false });
+    expect(fieldsFor('ac')).toMatchObject({ reverse: false, powered: false, humidity: false, unbiased: true, autoclave: true });
   });
 
   it('sends only the bias of the chosen family, in SI units', () => {

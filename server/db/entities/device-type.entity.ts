@@ -15,6 +15,9 @@ export class DeviceTypeEntity {
   @Column({ type: 'double precision' }) pMaxW: number;
   @Column({ type: 'double precision', default: 25 }) pRatedAtC: number;
   @Column({ type: 'double precision' }) tjMaxC: number;
+  /** Storage temperature range (data sheet Tstg); null when not entered. */
+  @Column({ type: 'double precision', nullable: true }) tstgMinC: number | null;
+  @Column({ type: 'double precision', nullable: true }) tstgMaxC: number | null;
   @Column({ type: 'double precision' }) thetaJcCPerW: number;
   @Column({ type: 'double precision' }) thetaJaCPerW: number;
   @Column({ type: 'double precision' }) betaRef: number;

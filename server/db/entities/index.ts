@@ -12,6 +12,8 @@ export * from './evidence.entity';
 export * from './telemetry-cycle.entity';
 export * from './signoff.entity';
 export * from './lab-settings.entity';
+export * from './replan.entity';
+export * from './qualification.entity';
 
 import { UserEntity } from './user.entity';
 import { DeviceTypeEntity } from './device-type.entity';
@@ -24,7 +26,7 @@ import {
   SystemCounterEntity,
   TelemetryBatchEntity,
   TelemetryRollupEntity,
-  TelemetrySampleEntity,
+  TelemetryHourlyEntity,
 } from './telemetry.entity';
 import { MeasurementEntity, MeasurementFileEntity, MeasurementUploadEntity, MeasurementVersionEntity } from './measurement.entity';
 import { AlarmEntity, MailLogEntity, NotificationEntity } from './alarm.entity';
@@ -33,6 +35,11 @@ import { DeviceDispositionEntity } from './evidence.entity';
 import { TelemetryCycleEntity } from './telemetry-cycle.entity';
 import { OverrideRequestEntity, VerdictSignatureEntity } from './signoff.entity';
 import { LabSettingsEntity } from './lab-settings.entity';
+import { ReplanProposalEntity } from './replan.entity';
+
+import { ChamberSampleEntity } from './chamber-sample.entity';
+export { ChamberSampleEntity };
+import { QualificationCellEntity, QualificationEntity } from './qualification.entity';
 
 export const ENTITIES = [
   UserEntity,
@@ -46,8 +53,8 @@ export const ENTITIES = [
   RunLotEntity,
   RunSocketEntity,
   TelemetryBatchEntity,
-  TelemetrySampleEntity,
   TelemetryRollupEntity,
+  TelemetryHourlyEntity,
   RejectedMessageEntity,
   SystemCounterEntity,
   MeasurementEntity,
@@ -65,4 +72,8 @@ export const ENTITIES = [
   OverrideRequestEntity,
   VerdictSignatureEntity,
   LabSettingsEntity,
+  ReplanProposalEntity,
+  ChamberSampleEntity,
+  QualificationEntity,
+  QualificationCellEntity,
 ];

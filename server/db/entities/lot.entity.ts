@@ -12,6 +12,10 @@ export class LotEntity {
   @Column({ type: 'int' }) quantity: number;
   @Column({ type: 'varchar', length: 20, default: '' }) dateCode: string;
   @Column({ type: 'varchar', length: 500, default: '' }) notes: string;
+  /** Traceability: the wafer lot the dice came from, the assembly (package) lot, the die revision. */
+  @Column({ type: 'varchar', length: 40, default: '' }) waferLot: string;
+  @Column({ type: 'varchar', length: 40, default: '' }) assemblyLot: string;
+  @Column({ type: 'varchar', length: 20, default: '' }) dieRevision: string;
   @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
 }
 

@@ -1,7 +1,13 @@
 import { Column, CreateDateColumn, Entity, Index, JoinColumn, ManyToOne, PrimaryGeneratedColumn } from 'typeorm';
 import { bigintNumber } from './columns';
+import type { RigKind } from '../../../shared/domain/rig-kinds';
 
-/** An oven with a burn-in board: one chamber temperature at a time, socketCount sockets. */
+/**
+ * An oven with a burn-in board (kind 'board': one chamber temperature at a time, socketCount
+ * sockets), or a chamber for unbiased stresses (kind 'chamber': temperature cycling, storage,
+ * autoclave) whose socketCount is its capacity in devices — the load positions of its trays, not
+ * sockets with bias (shared/domain/rig-kinds.ts).
+ */
 @Entity('rigs')
 export class RigEntity {
   @PrimaryGeneratedColumn('uuid') id: string;
@@ -11,6 +17,12 @@ export class RigEntity {
   @Column({ type: 'varchar', length: 80, default: '' }) location: string;
   @Column({ type: 'int' }) socketCount: number;
   @Column({ type: 'double precision' }) maxTempC: number;
+  /** 'board' (socketed burn-in oven) or 'chamber' (unbiased: devices loaded by count). */
+  @Column({ type: 'varchar', length: 12, default: 'board' }) kind: RigKind;
+  /** Coldest set point the chamber holds (°C); null = no cooling (room ambient is its floor). */
+  @Column({ type: 'double precision', nullable: true }) minTempC: number | null;
+  /** Highest absolute vessel pressure (kPa) for autoclave / HAST; null = not a pressure vessel. */
+  @Column({ type: 'double precision', nullable: true }) maxPressureKPa: number | null;
   @Column({ type: 'double precision' }) maxVoltageV: number;
   @Column({ type: 'boolean', default: false }) humidityCapable: boolean;
   @Column({ type: 'double precision', nullable: true }) maxHumidityPct: number | null;

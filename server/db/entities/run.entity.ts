@@ -18,6 +18,7 @@ import { StressPlanEntity } from './stress-plan.entity';
 
 import type { RunState } from '../../../shared/domain/run-states';
 import type { HoldPhase } from '../../../shared/holds/sequence';
+import type { TcCounterState } from '../../../shared/chamber/profile';
 
 /** Run lifecycle states: declared in shared/domain/run-states.ts. */
 export type { RunState };
@@ -73,6 +74,8 @@ export class RunEntity {
   @Column({ type: 'double precision', default: 0 }) stressHours: number;
   /** Power cycling: the run's credited cycles (its read points and end count these; shared/scheduling/cycling.ts). */
   @Column({ type: 'int', default: 0 }) cyclesDone: number;
+  /** Temperature cycling in a chamber: the cycle counter's state from the load temperature (shared/chamber/profile.ts); null otherwise. */
+  @Column({ type: 'jsonb', nullable: true }) chamberCounter: TcCounterState | null;
   /** Index into the plan's read points of the next read point to reach. */
   @Column({ type: 'int', default: 0 }) nextReadPoint: number;
   /** Telemetry sequence number up to which hours have been accrued (restart-exact accounting). */
@@ -93,6 +96,10 @@ export class RunEntity {
   @Column({ type: 'text', nullable: true }) overrideReason: string | null;
   @Column({ type: 'uuid', nullable: true }) overrideById: string | null;
   @Column({ type: 'uuid', nullable: true }) createdById: string | null;
+  /** When the requester needs the run finished (null: no date, never late); shared/scheduling/tardiness.ts. */
+  @Column({ type: 'timestamptz', nullable: true }) dueAt: Date | null;
+  /** 1 low … 4 urgent; its weight in the weighted tardiness is shared/domain/priority.ts. */
+  @Column({ type: 'smallint', default: 2 }) priority: number;
   @CreateDateColumn({ type: 'timestamptz' }) createdAt: Date;
   @UpdateDateColumn({ type: 'timestamptz' }) updatedAt: Date;
   @VersionColumn() rowVersion: number;

@@ -32,6 +32,10 @@ export class StressPlanEntity {
   @Column({ type: 'double precision', default: 0.7 }) eaEv: number;
   @Column({ type: 'double precision', default: 55 }) useC: number;
   @Column({ type: 'jsonb', nullable: true }) cycle: PlanInput['cycle'];
+  /** Temperature cycling (tc): extremes, dwell, ramp, cycles; null for other kinds. */
+  @Column({ type: 'jsonb', nullable: true }) thermalCycle: PlanInput['thermalCycle'];
+  /** Autoclave / unbiased HAST (ac): the condition code; null for other kinds. */
+  @Column({ type: 'varchar', length: 16, nullable: true }) acCondition: PlanInput['acCondition'];
   @Column({ type: 'double precision', default: 0.8 }) breakdownDerating: number;
   @Column({ type: 'text', default: '' }) notes: string;
   /** The plan check as computed when this version was saved (findings, numbers, constants). */

@@ -2,45 +2,54 @@ import { Column, Entity, Index, PrimaryColumn, PrimaryGeneratedColumn } from 'ty
 import { bigintNumber } from './columns';
 
 /**
- * One telemetry message of a rig (one instant). (rig_id, seq) is the de-duplication key:
- * a replayed message inserts nothing twice.
+ * One telemetry message of a rig (one instant) with its sockets as arrays (one element per socket,
+ * in the message's order; flags: bit 1 bias on, bit 2 tripped). Range-partitioned by `ts`, one
+ * partition per UTC day (migration 1828…, server/modules/telemetry/upkeep.ts); a partitioned
+ * table's key must hold `ts`, so the ingest itself refuses a second (rig_id, seq). The view
+ * `telemetry_samples` gives one row per socket (rig_id, seq, socket, case_c, v_v, i_a, bias_on, tripped, ts).
  */
 @Entity('telemetry_batches')
-@Index(['rigId', 'ts'])
+@Index('IDX_telemetry_batches_rig_ts', ['rigId', 'ts'])
 @Index('IDX_telemetry_batches_stored_at', ['storedAt'])
 export class TelemetryBatchEntity {
   @PrimaryColumn({ type: 'uuid' }) rigId: string;
   @PrimaryColumn({ type: 'bigint', transformer: bigintNumber }) seq: number;
-  /** The rig's own timestamp. */
-  @Column({ type: 'timestamptz' }) ts: Date;
+  /** The rig's own timestamp (the partition key). */
+  @PrimaryColumn({ type: 'timestamptz' }) ts: Date;
   /** The rig's stress clock (seconds); accelerated in demo mode. */
   @Column({ type: 'double precision' }) stressClockS: number;
-  @Column({ type: 'real' }) chamberC: number;
-  @Column({ type: 'real', nullable: true }) humidityPct: number | null;
-  @Column({ type: 'real' }) setpointC: number;
   /** Start of the ingest transaction that stored it; rollup recovery finds recent batches by it. */
   @Column({ type: 'timestamptz', default: () => 'now()' }) storedAt: Date;
+  @Column({ type: 'real' }) chamberC: number;
+  @Column({ type: 'real' }) setpointC: number;
+  @Column({ type: 'real', nullable: true }) humidityPct: number | null;
+  @Column({ type: 'smallint', array: true, default: () => "'{}'" }) socket: number[];
+  @Column({ type: 'real', array: true, default: () => "'{}'" }) caseC: number[];
+  @Column({ type: 'real', array: true, default: () => "'{}'" }) vV: number[];
+  @Column({ type: 'double precision', array: true, default: () => "'{}'" }) iA: number[];
+  @Column({ type: 'smallint', array: true, default: () => "'{}'" }) flags: number[];
 }
 
-/** One socket's reading within a batch. Bulk-loaded with COPY. */
-@Entity('telemetry_samples')
-export class TelemetrySampleEntity {
-  @PrimaryColumn({ type: 'uuid' }) rigId: string;
-  @PrimaryColumn({ type: 'bigint', transformer: bigintNumber }) seq: number;
-  @PrimaryColumn({ type: 'smallint' }) socket: number;
-  @Column({ type: 'real' }) caseC: number;
-  @Column({ type: 'real' }) vV: number;
-  @Column({ type: 'double precision' }) iA: number;
-  @Column({ type: 'boolean' }) biasOn: boolean;
-  @Column({ type: 'boolean', default: false }) tripped: boolean;
-}
-
-/** Per-minute rollup per socket (socket −1 = the chamber) for charts over long spans. */
+/** Per-minute rollup per socket (socket −1 = the chamber) for charts over long spans; partitioned by day of `minute`. */
 @Entity('telemetry_rollups')
 export class TelemetryRollupEntity {
   @PrimaryColumn({ type: 'uuid' }) rigId: string;
   @PrimaryColumn({ type: 'smallint' }) socket: number;
   @PrimaryColumn({ type: 'timestamptz' }) minute: Date;
+  @Column({ type: 'int' }) n: number;
+  @Column({ type: 'double precision' }) sumC: number;
+  @Column({ type: 'real' }) minC: number;
+  @Column({ type: 'real' }) maxC: number;
+  @Column({ type: 'double precision' }) sumIA: number;
+  @Column({ type: 'double precision', nullable: true }) stressClockS: number | null;
+}
+
+/** Hourly rollup per socket (socket −1 = the chamber), kept for good; rebuilt from the minute rollups (upkeep.ts). */
+@Entity('telemetry_hourly')
+export class TelemetryHourlyEntity {
+  @PrimaryColumn({ type: 'uuid' }) rigId: string;
+  @PrimaryColumn({ type: 'smallint' }) socket: number;
+  @PrimaryColumn({ type: 'timestamptz' }) hour: Date;
   @Column({ type: 'int' }) n: number;
   @Column({ type: 'double precision' }) sumC: number;
   @Column({ type: 'real' }) minC: number;

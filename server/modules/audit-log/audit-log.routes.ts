@@ -2,7 +2,7 @@ import { rolesFor } from '../../../shared/domain/permissions';
 import { auditExportQuerySchema, auditQuerySchema, type AuditEntryView } from '../../../shared/schemas/audit';
 import type { AppContext } from '../../context';
 import { ApiRouter, HANDLED } from '../../http/route';
-import { csvLine } from '../analytics/lot-report';
+import { csvLine } from '../reports/csv';
 
 const CSV_HEADER = ['id', 'at', 'actor', 'action', 'object', 'object id', 'reason', 'details', 'hash'];
 

@@ -1,6 +1,7 @@
 /** The floor module's SQL: the floor statement (moved verbatim; see its comment), the socket board, the charts and the stream's session check. */
 import type { DataSource } from 'typeorm';
 import type { RunState } from '../../../shared/domain/run-states';
+import type { TelemetryTier } from '../../../shared/domain/telemetry-tiers';
 
 /** Of these session ids, the ones that still exist, have not expired and belong to an active user. */
 export async function liveSessionIds(ds: DataSource, sids: string[]): Promise<Set<string>> {
@@ -107,17 +108,22 @@ export interface BoardRow {
   run_tripped: boolean | null;
   trip_reason: string | null;
   last_seq: string;
+  /** θjc of the loaded device's part (°C/W), for the junction estimate. */
+  theta_jc: number | null;
 }
 
 /** One row per socket of the rig: the newest sample's values and the run's socket map. */
 export function boardRows(ds: DataSource, rigId: string, runId: string | null): Promise<BoardRow[]> {
   return ds.query(
-    `SELECT r.last_seq, g.socket, ts.case_c, ts.v_v, ts.i_a, ts.bias_on, ts.tripped, d.serial, rs.tripped AS run_tripped, rs.trip_reason
+    `SELECT r.last_seq, g.socket, ts.case_c, ts.v_v, ts.i_a, ts.bias_on, ts.tripped, d.serial, rs.tripped AS run_tripped, rs.trip_reason,
+            dt.theta_jc_c_per_w AS theta_jc
        FROM rigs r
        CROSS JOIN LATERAL generate_series(0, r.socket_count - 1) AS g(socket)
        LEFT JOIN telemetry_samples ts ON ts.rig_id = r.id AND ts.seq = r.last_seq AND ts.socket = g.socket
        LEFT JOIN run_sockets rs ON rs.run_id = $2 AND rs.socket_index = g.socket
        LEFT JOIN devices d ON d.id = rs.device_id
+       LEFT JOIN lots l ON l.id = d.lot_id
+       LEFT JOIN device_types dt ON dt.id = l.device_type_id
        WHERE r.id = $1
        ORDER BY g.socket`,
     [rigId, runId],
@@ -173,10 +179,13 @@ export async function holdStepRows(
   );
 }
 
-/** A rig's chart rows, `points` buckets of `bucketMs` from `from`: raw samples or per-minute rollups. */
+/**
+ * A rig's chart rows, `points` buckets of `bucketMs` from `from`, from one tier (shared/domain/telemetry-tiers.ts):
+ * raw messages (their socket arrays), per-minute or hourly rollups. Each bucket: avg / min / max.
+ */
 export async function chartRows(
   ds: DataSource,
-  source: 'raw' | 'rollup',
+  tier: TelemetryTier,
   rigId: string,
   from: Date,
   to: Date,
@@ -186,31 +195,26 @@ export async function chartRows(
 ): Promise<ChartRow[]> {
   // k = bucket number 0…points-1; LEAST guards the last instant.
   const bucket = (col: string) => `LEAST(floor(extract(epoch FROM (${col} - $2::timestamptz)) * 1000 / $4)::int, $5 - 1)`;
-  let rows: ChartRow[];
-  if (source === 'raw') {
-    rows = await ds.query(
+  const params = [rigId, from, to, bucketMs, points, sockets];
+  if (tier === 'raw') {
+    // The window's messages by (rig_id, ts) in the days' partitions it spans; sockets from each message's arrays.
+    return ds.query(
       `SELECT -1 AS socket, ${bucket('b.ts')} AS k, avg(b.chamber_c) AS avg, min(b.chamber_c) AS min, max(b.chamber_c) AS max
          FROM telemetry_batches b WHERE b.rig_id = $1 AND b.ts >= $2 AND b.ts < $3 GROUP BY 2
          UNION ALL
          SELECT s.socket, ${bucket('b.ts')} AS k, avg(s.case_c), min(s.case_c), max(s.case_c)
-         FROM telemetry_batches b
-         CROSS JOIN LATERAL (
-           SELECT x.socket, x.case_c FROM telemetry_samples x
-           WHERE x.rig_id = b.rig_id AND x.seq = b.seq AND x.socket = ANY($6::smallint[])
-           OFFSET 0
-         ) s
-         WHERE b.rig_id = $1 AND b.ts >= $2 AND b.ts < $3 GROUP BY 1, 2
+         FROM telemetry_batches b CROSS JOIN LATERAL unnest(b.socket, b.case_c) AS s(socket, case_c)
+         WHERE b.rig_id = $1 AND b.ts >= $2 AND b.ts < $3 AND s.socket = ANY($6::smallint[]) GROUP BY 1, 2
          ORDER BY 1, 2`,
-      [rigId, from, to, bucketMs, points, sockets],
-    );
-  } else {
-    rows = await ds.query(
-      `SELECT u.socket, ${bucket('u.minute')} AS k, sum(u.sum_c) / sum(u.n) AS avg, min(u.min_c) AS min, max(u.max_c) AS max
-         FROM telemetry_rollups u
-         WHERE u.rig_id = $1 AND u.socket = ANY(array_prepend(-1::smallint, $6::smallint[])) AND u.minute >= $2 AND u.minute < $3
-         GROUP BY 1, 2 ORDER BY 1, 2`,
-      [rigId, from, to, bucketMs, points, sockets],
+      params,
     );
   }
-  return rows;
+  const [table, col] = tier === 'minute' ? ['telemetry_rollups', 'minute'] : ['telemetry_hourly', 'hour'];
+  return ds.query(
+    `SELECT u.socket, ${bucket(`u.${col}`)} AS k, sum(u.sum_c) / sum(u.n) AS avg, min(u.min_c) AS min, max(u.max_c) AS max
+       FROM ${table} u
+       WHERE u.rig_id = $1 AND u.socket = ANY(array_prepend(-1::smallint, $6::smallint[])) AND u.${col} >= $2 AND u.${col} < $3
+       GROUP BY 1, 2 ORDER BY 1, 2`,
+    params,
+  );
 }

@@ -2,19 +2,16 @@
  * The live floor: every rig as a tile (one query), a rig's socket board (two queries) and its
  * temperature chart downsampled in SQL.
  *
- * Chart rule: a span of up to 30 minutes is drawn from the raw telemetry samples (at 4 messages/s
- * that is ≤ 7,200 messages per series); a longer span from the per-minute rollups. Either way the
- * span is cut into `points` equal buckets and each bucket gives avg / min / max, so a series never
- * has more than `points` points.
+ * Chart rule (shared/domain/telemetry-tiers.ts `chartTier`): up to 30 minutes from the raw messages,
+ * up to 2 days from the per-minute rollups, longer spans (up to a year) from the hourly rollups; a
+ * coarser tier when the span starts before the finer tier's window. The answer's `source` names the
+ * tier. Either way the span is cut into `points` equal buckets and each bucket gives avg / min / max,
+ * so a series never has more than `points` points.
  *
- * The raw chart reads the window's messages by (rig_id, ts) and each message's sockets by primary
- * key. The samples sit in a LATERAL subquery with OFFSET 0 (an optimisation fence) so the planner
- * cannot turn it into a hash join: with telemetry_samples in the millions and the row estimate for
- * a time window off (ts and rig are correlated), it chose a parallel sequential scan of the whole
- * table (bench: 414 ms → 29 ms for a 30-minute window over 1.1 M samples; the gap grows with the table).
+ * The raw chart reads the window's messages by (rig_id, ts) in the day partitions the window spans,
+ * each with its sockets' arrays (no per-socket rows since migration 1828…).
  */
 import {
-  CHART_RAW_SPAN_MS,
   type ChartPoint,
   type FloorBoard,
   type FloorChart,
@@ -23,6 +20,7 @@ import {
   type FloorTile,
 } from '../../../shared/schemas/floor';
 import { ON_RIG_STATES } from '../../../shared/domain/run-states';
+import { chartTier } from '../../../shared/domain/telemetry-tiers';
 import { isCyclingKind, PLAN_KINDS } from '../../../shared/domain/stress';
 import type { EntityManager } from 'typeorm';
 import type { AppContext } from '../../context';
@@ -39,9 +37,11 @@ import {
   newestCaseTemps,
   readTileRows,
   rigIdRows,
+  type BoardRow,
   type TileRow,
 } from './floor.data';
 import { hottestByMean } from '../../../shared/domain/hottest-sockets';
+import { junctionOf } from '../runs/stress-segments';
 
 const round = (n: number, d = 2) => Math.round(n * 10 ** d) / 10 ** d;
 
@@ -150,6 +150,7 @@ export class FloorService {
       tripped: !!(r.tripped || r.run_tripped),
       serial: r.serial,
       tripReason: r.trip_reason,
+      junction: socketJunction(r),
     }));
     if (tile.run) await addSocketCycles(this.ctx.ds.manager, tile.run.id, sockets);
     const hasSample = rows.some((r) => r.case_c !== null);
@@ -181,7 +182,7 @@ export class FloorService {
       sockets = hottestByMean(toRows(await meanCaseTemps(this.ctx.ds, rigId, from, to)));
       if (!sockets.length) sockets = hottestByMean(toRows(await newestCaseTemps(this.ctx.ds, rigId)));
     }
-    const source: FloorChart['source'] = spanMs <= CHART_RAW_SPAN_MS ? 'raw' : 'rollup';
+    const source = chartTier(from.getTime(), to.getTime(), this.ctx.now().getTime(), this.ctx.config.telemetryKeep);
     const rows = await chartRows(this.ctx.ds, source, rigId, from, to, bucketMs, points, sockets);
     const series = new Map<number, ChartPoint[]>();
     for (const r of rows) {
@@ -206,6 +207,14 @@ export class FloorService {
 }
 
 /** A cycling run's per-socket cycles and last swing on the board's sockets (its devices only). */
+/** The socket's junction estimate from the board's sample, with what it was computed from. */
+function socketJunction(r: BoardRow): FloorSocket['junction'] {
+  if (r.theta_jc === null || r.case_c === null || r.v_v === null) return null;
+  const sample = { caseC: r.case_c, vV: r.v_v, iA: r.i_a ?? 0 };
+  const tjC = junctionOf(sample, r.theta_jc);
+  return tjC === null ? null : { tjC, caseC: r.case_c, thetaJcCPerW: r.theta_jc, powerW: Math.abs(sample.vV * sample.iA) };
+}
+
 async function addSocketCycles(m: EntityManager, runId: string, sockets: FloorSocket[]): Promise<void> {
   const target = await runCycleTarget(m, runId);
   if (target === null) return;

@@ -10,12 +10,15 @@ export interface LotRow {
   quantity: number;
   date_code: string;
   notes: string;
+  wafer_lot: string;
+  assembly_lot: string;
+  die_revision: string;
   device_count: number;
   created_at: Date;
 }
 
 const LOT_SELECT = `
-  SELECT l.id, l.code, l.device_type_id, dt.part_number, l.quantity, l.date_code, l.notes, l.created_at,
+  SELECT l.id, l.code, l.device_type_id, dt.part_number, l.quantity, l.date_code, l.notes, l.wafer_lot, l.assembly_lot, l.die_revision, l.created_at,
          (SELECT count(*)::int FROM devices d WHERE d.lot_id = l.id) AS device_count
     FROM lots l JOIN device_types dt ON dt.id = l.device_type_id`;
 

@@ -1,6 +1,6 @@
 import type { Request, Response } from 'express';
 import { rolesFor } from '../../../shared/domain/permissions';
-import { addSerialsSchema, checkSerialRows, lotInputSchema, lotListQuerySchema } from '../../../shared/schemas/devices';
+import { addSerialsSchema, checkSerialRows, lotInputSchema, lotListQuerySchema, lotPatchSchema } from '../../../shared/schemas/devices';
 import { idParamSchema } from '../../../shared/schemas/users';
 import type { AppContext } from '../../context';
 import { badRequest } from '../../http/errors';
@@ -27,6 +27,9 @@ export function lotsRoutes(ctx: AppContext): ApiRouter {
   r.get('/', { access: 'signed-in', query: lotListQuerySchema }, async ({ query }) => ({ items: await svc.list(query) }));
   r.get('/:id', { access: 'signed-in', params: idParamSchema }, ({ params }) => svc.get(params.id));
   r.post('/', { access: rolesFor('lot.edit'), body: lotInputSchema, status: 201 }, ({ user, body }) => svc.create(user, body));
+  r.patch('/:id', { access: rolesFor('lot.edit'), params: idParamSchema, body: lotPatchSchema }, ({ user, params, body }) =>
+    svc.update(user, params.id, body),
+  );
   r.post('/:id/serials', { access: rolesFor('lot.edit'), params: idParamSchema, body: addSerialsSchema }, ({ user, params, body }) =>
     svc.addSerials(user, params.id, body.serials, { kind: 'list' }),
   );

@@ -1,6 +1,13 @@
 import { ILike, In, type DataSource, type EntityManager } from 'typeorm';
 import type { SessionUser } from '../../../shared/schemas/auth';
-import { checkSerialRows, type Lot, type LotDetail, type LotInput, type SerialRowProblem } from '../../../shared/schemas/devices';
+import {
+  checkSerialRows,
+  type Lot,
+  type LotDetail,
+  type LotInput,
+  type LotPatch,
+  type SerialRowProblem,
+} from '../../../shared/schemas/devices';
 import { DeviceEntity, DeviceTypeEntity, LotEntity } from '../../db/entities';
 import { AppError, conflict, notFound, unprocessable } from '../../http/errors';
 import type { AuditService } from '../audit/audit.service';
@@ -22,6 +29,8 @@ export function badSerialsError(problems: SerialRowProblem[], total: number, whe
   return new AppError('unprocessable', message, fields, { rows: problems });
 }
 
+const LOT_PATCH_FIELDS = ['dateCode', 'notes', 'waferLot', 'assemblyLot', 'dieRevision'] as const;
+
 const toLot = (r: LotRow): Lot => ({
   id: r.id,
   code: r.code,
@@ -30,6 +39,9 @@ const toLot = (r: LotRow): Lot => ({
   quantity: r.quantity,
   dateCode: r.date_code,
   notes: r.notes,
+  waferLot: r.wafer_lot,
+  assemblyLot: r.assembly_lot,
+  dieRevision: r.die_revision,
   deviceCount: r.device_count,
   createdAt: new Date(r.created_at).toISOString(),
 });
@@ -70,6 +82,9 @@ export class LotsService {
             quantity: input.quantity,
             dateCode: input.dateCode,
             notes: input.notes,
+            waferLot: input.waferLot,
+            assemblyLot: input.assemblyLot,
+            dieRevision: input.dieRevision,
           }),
         )
         .catch((e) => {
@@ -89,6 +104,24 @@ export class LotsService {
         m,
       );
       return this.get(lot.id, m);
+    });
+  }
+
+  /** Changes a lot's descriptive and traceability fields; the audit entry keeps each field's before and after. */
+  async update(actor: SessionUser, id: string, patch: LotPatch): Promise<LotDetail> {
+    return this.ds.transaction(async (m) => {
+      const lot = await m.findOne(LotEntity, { where: { id }, lock: { mode: 'pessimistic_write' } });
+      if (!lot) throw notFound('The lot');
+      const changes: Record<string, { from: string; to: string }> = {};
+      for (const k of LOT_PATCH_FIELDS) {
+        const to = patch[k];
+        if (to !== undefined && to !== lot[k]) changes[k] = { from: lot[k], to };
+      }
+      if (Object.keys(changes).length) {
+        await m.update(LotEntity, { id }, Object.fromEntries(Object.entries(changes).map(([k, v]) => [k, v.to])));
+        await this.audit.record({ actor, action: 'lot.update', entity: 'lot', entityId: id, details: { code: lot.code, changes } }, m);
+      }
+      return this.get(id, m);
     });
   }
 

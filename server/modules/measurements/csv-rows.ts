@@ -5,6 +5,7 @@
 import { parse } from 'csv-parse/sync';
 import {
   COLUMN_LABEL,
+  columnUnit,
   ownColumn,
   REQUIRED_COLUMNS,
   UNIT_FACTOR,
@@ -12,7 +13,7 @@ import {
   UPLOAD_MAX_ROWS,
   type ColumnMapping,
   type MeasurementColumn,
-  type Units,
+  type MeasurementUnit,
 } from '../../../shared/schemas/measurements';
 import { catastrophicWord, type CatastrophicResult, type MeasurementResult } from '../../../shared/evidence';
 import { unprocessable } from '../../http/errors';
@@ -73,11 +74,11 @@ function detectDelimiter(text: string): string {
   return counts[0][1] > 0 ? counts[0][0] : ',';
 }
 
-const unitOf = (col: MeasurementColumn, units: Units): string | null =>
-  col === 'icbo_a' ? units.icbo : col === 'hfe_ic_a' ? units.hfeIc : col === 'vcesat_v' ? units.vcesat : null;
+/** Each column's unit as its header states it (columns without a unit are absent). */
+type ColumnUnits = Partial<Record<MeasurementColumn, MeasurementUnit>>;
 
 type CsvRecord = { record: string[]; info: { lines: number } };
-type ParseOptions = { mapping: ColumnMapping; units: Units; defaultTempC: number; now: Date };
+type ParseOptions = { mapping: ColumnMapping; defaultTempC: number; now: Date };
 
 /** The file's records (header first); a file that is not CSV throws a 422. */
 function readRecords(text: string): CsvRecord[] {
@@ -124,8 +125,23 @@ function mapHeader(header: string[], mapping: ColumnMapping) {
       { missingColumns: missing, columns },
     );
   }
-  return { columns, indexOf };
+  // Units come from the headers: a column whose header states none, or an unknown one, refuses the file.
+  const units: ColumnUnits = {};
+  const columnProblems: string[] = [];
+  for (const [c, i] of indexOf) {
+    const u = columnUnit(c, header[i]);
+    if (u.problem) columnProblems.push(u.problem);
+    else if (u.unit) units[c] = u.unit;
+  }
+  if (columnProblems.length) {
+    throw unprocessable(`The file's units cannot be read; nothing was checked. ${columnProblems.join(' ')}`, { columnProblems, columns });
+  }
+  return { columns, indexOf, units };
 }
+
+/** A value in the unit its column's header gives, for messages ("10 A", "35 nA"). */
+const inUnit = (si: number, unit: MeasurementUnit | undefined) =>
+  unit ? `${+(si / UNIT_FACTOR[unit]).toPrecision(6)} ${UNIT_LABEL[unit]}` : `${+si.toPrecision(6)}`;
 
 type Cell = (c: MeasurementColumn) => string | null;
 
@@ -154,7 +170,7 @@ function rowResult(cell: Cell, reasons: string[]): MeasurementResult {
 }
 
 /** The row's numbers in SI (null when empty, refused or not stored for a dead device). */
-function rowNumbers(cell: Cell, dead: boolean, units: Units, reasons: string[]) {
+function rowNumbers(cell: Cell, dead: boolean, units: ColumnUnits, reasons: string[]) {
   const number = (c: MeasurementColumn, required: boolean): number | null => {
     const raw = cell(c);
     if (raw === null || raw === '') {
@@ -168,7 +184,7 @@ function rowNumbers(cell: Cell, dead: boolean, units: Units, reasons: string[]) 
       reasons.push(`${c} "${raw.slice(0, 20)}" is not a number.`);
       return null;
     }
-    const unit = unitOf(c, units);
+    const unit = units[c];
     return Number(raw) * (unit ? UNIT_FACTOR[unit] : 1);
   };
   return {
@@ -184,17 +200,18 @@ function rowNumbers(cell: Cell, dead: boolean, units: Units, reasons: string[]) 
 }
 
 /** The plausibility checks on the row's numbers. */
-function checkRanges(n: ReturnType<typeof rowNumbers>, units: Units, reasons: string[]) {
+function checkRanges(n: ReturnType<typeof rowNumbers>, units: ColumnUnits, reasons: string[]) {
   const { hfe, hfeIcA, hfeVceV, icboA, icboVcbV, vcesatV, bvceoV, tempC } = n;
   if (hfe !== null && !(hfe > 0 && hfe < 100000)) reasons.push(`hFE ${hfe} is outside 0–100000.`);
-  if (hfeIcA !== null && !(hfeIcA > 0)) reasons.push(`The hFE test current must be above 0 ${UNIT_LABEL[units.hfeIc]}.`);
+  if (hfeIcA !== null && !(hfeIcA > 0)) reasons.push(`The hFE test current must be above 0 (${inUnit(hfeIcA, units.hfe_ic_a)}).`);
   if (hfeVceV !== null && !(hfeVceV > 0)) reasons.push('The hFE test voltage must be above 0 V.');
   if (icboA !== null && icboA < 0) {
-    reasons.push(`Negative leakage: ICBO ${+(icboA / UNIT_FACTOR[units.icbo]).toPrecision(6)} ${UNIT_LABEL[units.icbo]} is below zero.`);
+    reasons.push(`Negative leakage: ICBO ${inUnit(icboA, units.icbo_a)} is below zero.`);
   }
-  if (icboA !== null && icboA > 1) reasons.push('ICBO above 1 A is not a leakage reading; check the unit.');
+  if (icboA !== null && icboA > 1)
+    reasons.push(`ICBO ${inUnit(icboA, units.icbo_a)} is above 1 A, not a leakage reading; check the unit in the header.`);
   if (icboVcbV !== null && !(icboVcbV > 0)) reasons.push('The ICBO test voltage must be above 0 V.');
-  if (vcesatV !== null && (vcesatV < 0 || vcesatV > 100)) reasons.push(`VCE(sat) ${vcesatV} V is outside 0–100 V.`);
+  if (vcesatV !== null && (vcesatV < 0 || vcesatV > 100)) reasons.push(`VCE(sat) ${inUnit(vcesatV, units.vcesat_v)} is outside 0–100 V.`);
   if (bvceoV !== null && !(bvceoV > 0)) reasons.push('BVCEO must be above 0 V.');
   if (tempC !== null && (tempC < -65 || tempC > 300)) reasons.push(`temp_c ${tempC} °C is outside −65–300 °C.`);
 }
@@ -221,7 +238,12 @@ function rowMeasuredAt(at: string | null, now: Date, reasons: string[]): Date | 
 }
 
 /** One data row: its serial, lot, values in SI and every reason it cannot be stored. */
-function parseRow({ record, info }: CsvRecord, header: string[], indexOf: Map<MeasurementColumn, number>, opts: ParseOptions): ParsedRow {
+function parseRow(
+  { record, info }: CsvRecord,
+  header: string[],
+  { indexOf, units }: { indexOf: Map<MeasurementColumn, number>; units: ColumnUnits },
+  opts: ParseOptions,
+): ParsedRow {
   const reasons: string[] = [];
   const cell = (c: MeasurementColumn): string | null => {
     const i = indexOf.get(c);
@@ -246,8 +268,8 @@ function parseRow({ record, info }: CsvRecord, header: string[], indexOf: Map<Me
   const lot = lotRaw && !looksLikeFormula(lotRaw) ? lotRaw : null;
 
   const result = rowResult(cell, reasons);
-  const n = rowNumbers(cell, result !== 'measured', opts.units, reasons);
-  checkRanges(n, opts.units, reasons);
+  const n = rowNumbers(cell, result !== 'measured', units, reasons);
+  checkRanges(n, units, reasons);
   const measuredAt = rowMeasuredAt(cell('measured_at'), opts.now, reasons);
 
   const ok = reasons.length === 0;
@@ -285,8 +307,8 @@ export function parseMeasurementCsv(buf: Buffer, opts: ParseOptions): ParsedFile
   if (records.length - 1 > UPLOAD_MAX_ROWS) {
     throw unprocessable(`The file has ${records.length - 1} rows; upload at most ${UPLOAD_MAX_ROWS} at a time.`);
   }
-  const { columns, indexOf } = mapHeader(header, opts.mapping);
-  const rows = records.slice(1).map((r) => parseRow(r, header, indexOf, opts));
+  const { columns, indexOf, units } = mapHeader(header, opts.mapping);
+  const rows = records.slice(1).map((r) => parseRow(r, header, { indexOf, units }, opts));
   if (rows.length === 0) throw unprocessable('The file has a header but no rows.');
   return { columns, rows };
 }

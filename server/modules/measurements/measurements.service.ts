@@ -1,6 +1,8 @@
 import { createHash } from 'node:crypto';
 import { isLateReading } from '../../../shared/domain/standards';
 import { formatUtc } from '../../../shared/domain/format';
+import { ratingProblems } from '../../../shared/domain/reading-plausibility';
+import { checkSummary } from '../../../shared/domain/upload-summary';
 import { Not, type DataSource, type EntityManager } from 'typeorm';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import {
@@ -227,7 +229,6 @@ export class MeasurementsService {
 
     const parsed = parseMeasurementCsv(p.file.buffer, {
       mapping: p.fields.mapping,
-      units: p.fields.units,
       defaultTempC: p.fields.defaultTempC,
       now: this.now(),
     });
@@ -242,7 +243,12 @@ export class MeasurementsService {
       ...result,
       ...(previousUpload ? { previousUpload } : {}),
     };
-    if (previous) body.notes.unshift('This exact file was already stored for this run; storing it again changes nothing.');
+    if (previous) {
+      // One message from the counts: identical → nothing to store; otherwise what differs, and that the same file is stored once.
+      const summary = checkSummary(body, formatUtc(previous.createdAt));
+      body.notes = [summary.text, REUPLOAD_RULE];
+      body.stored = summary.storable;
+    }
     if (p.preview) return { status: 200, body };
     if (body.stored + body.unchanged === 0) {
       throw unprocessable(`No row of ${fileName} can be stored; every row has a problem (see rows). Nothing was stored.`, {
@@ -436,7 +442,7 @@ export class MeasurementsService {
     );
 
     const checked: CheckedRow[] = rows.map((r) => {
-      const reasons = [...r.reasons];
+      const reasons = [...r.reasons, ...(r.values ? ratingProblems(r.values, b.deviceType) : [])];
       let deviceId: string | null = null;
       if (r.serial) {
         let candidates = bySerial.get(r.serial.toLowerCase()) ?? [];

@@ -43,6 +43,8 @@ export function toPlanInput(e: StressPlanEntity): PlanInput {
     eaEv: e.eaEv,
     useC: e.useC,
     cycle: e.cycle ?? null,
+    thermalCycle: e.thermalCycle ?? null,
+    acCondition: e.acCondition ?? null,
     breakdownDerating: e.breakdownDerating,
     notes: e.notes,
   };
@@ -237,6 +239,8 @@ export class PlansService {
       m.create(StressPlanEntity, {
         ...input,
         cycle: input.cycle ?? null,
+        thermalCycle: input.thermalCycle ?? null,
+        acCondition: input.acCondition ?? null,
         planKey,
         version,
         current: true,

@@ -3,6 +3,8 @@ import bcrypt from 'bcryptjs';
 import type { EntityManager } from 'typeorm';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import { interlockDueAt } from '../../../shared/domain/standards';
+import { formatUtc } from '../../../shared/domain/format';
+import { describeErrorForLog } from '../../db/safe-logger';
 import {
   rigMqttUsernameFor,
   RIG_SERVICE_KINDS,
@@ -27,8 +29,11 @@ export function toRig(r: RigEntity): Rig {
     code: r.code,
     name: r.name,
     location: r.location,
+    kind: r.kind,
     socketCount: r.socketCount,
     maxTempC: r.maxTempC,
+    minTempC: r.minTempC,
+    maxPressureKPa: r.maxPressureKPa,
     maxVoltageV: r.maxVoltageV,
     humidityCapable: r.humidityCapable,
     maxHumidityPct: r.maxHumidityPct,
@@ -118,8 +123,11 @@ export class RigsService {
           code: input.code,
           name: input.name,
           location: input.location,
+          kind: input.kind,
           socketCount: input.socketCount,
           maxTempC: input.maxTempC,
+          minTempC: input.minTempC,
+          maxPressureKPa: input.maxPressureKPa,
           maxVoltageV: input.maxVoltageV,
           humidityCapable: input.humidityCapable,
           maxHumidityPct: input.maxHumidityPct,
@@ -284,7 +292,7 @@ export class RigsService {
     const endsAt = new Date(input.endsAt);
     if (endsAt.getTime() <= this.ctx.now().getTime())
       throw unprocessable('The window has already ended; book maintenance that is still to come.');
-    return this.ds.transaction(async (m) => {
+    const out = await this.ds.transaction(async (m) => {
       const rig = await this.findByCode(code, m, true);
       const overlap = await overlappingMaintenance(m, rig.id, startsAt, endsAt);
       if (overlap) {
@@ -306,8 +314,17 @@ export class RigsService {
         },
         m,
       );
-      return toWindow(w, rig.code);
+      return { window: toWindow(w, rig.code), rigId: rig.id };
     });
+    // The booked runs this window meets get re-plan proposals (in place after it, or on another rig).
+    // The window stands even if that fails: the proposals are advice, the log says why they are missing.
+    await this.ctx.services.replan
+      .enqueue(out.rigId, {
+        kind: 'maintenance',
+        why: `Oven ${out.window.rigCode} is in maintenance from ${formatUtc(startsAt)} to ${formatUtc(endsAt)} (${input.reason})`,
+      })
+      .catch((e: unknown) => console.log(`[replan] proposals for ${out.window.rigCode} failed: ${describeErrorForLog(e)}`));
+    return out.window;
   }
 
   async deleteMaintenance(actor: SessionUser, code: string, id: string): Promise<void> {

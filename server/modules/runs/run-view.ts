@@ -2,12 +2,17 @@
 import { In, type EntityManager } from 'typeorm';
 import { countsCycles, cycleBand, planBiasV, readPointCycles } from '../../../shared/scheduling';
 import { socketCyclesOfRun } from './cycles.data';
+import { recentChamberSamples } from './chamber.data';
+import { tcPeriodMin } from '../../../shared/chamber/profile';
+import { isUnbiasedKindName } from '../../../shared/domain/stress';
 import { runCodesOfSamples, runSocketRows, runsOfSample, socketCountsOfRuns, socketsHeldOnRig } from './runs.data';
 import {
   allowedActions,
   RUN_STATE_LABEL,
   type Run,
   type RunAuditEntry,
+  type RunChamberCycles,
+  type RunChamberView,
   type RunCycles,
   type RunDetail,
   type RunPlanRef,
@@ -107,6 +112,7 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
       stressHours: r.stressHours,
       targetH: plan.durationH,
       cycles: runCycles(r, plan, rps),
+      chamberCycles: runChamberCycles(r, plan, rps),
       nextReadPointH: r.nextReadPoint < rps.length ? rps[r.nextReadPoint] : null,
       lastReadPointH: last ?? null,
       heatingSince: iso(r.heatingSince),
@@ -122,6 +128,8 @@ export async function toRuns(m: EntityManager, runs: RunEntity[]): Promise<Run[]
       allowedActions: [...allowedActions(r.state)],
       rowVersion: r.rowVersion,
       createdAt: r.createdAt.toISOString(),
+      dueAt: iso(r.dueAt),
+      priority: r.priority,
     };
   });
 }
@@ -140,6 +148,49 @@ function runCycles(r: RunEntity, plan: StressPlanEntity, rps: number[]): RunCycl
     offMin: plan.cycle.offMin,
   };
 }
+
+/** A temperature-cycling run's count from the chamber's load temperature (server/modules/runs/chamber-engine.ts). */
+function runChamberCycles(r: RunEntity, plan: StressPlanEntity, rps: number[]): RunChamberCycles | null {
+  const tc = plan.kind === 'tc' ? plan.thermalCycle : null;
+  if (!tc) return null;
+  const next = r.nextReadPoint < rps.length ? rps[r.nextReadPoint] : null;
+  const asCycles = (h: number) =>
+    readPointCycles({ durationH: plan.durationH, cycle: { onMin: 1, offMin: 1, deltaTjC: 1, cycles: tc.cycles } }, h);
+  return {
+    done: r.cyclesDone,
+    target: tc.cycles,
+    nextReadPointCycles: next === null ? null : asCycles(next),
+    lowC: tc.lowC,
+    highC: tc.highC,
+    dwellMin: tc.dwellMin,
+    rampKPerMin: tc.rampKPerMin,
+    periodMin: tcPeriodMin(tc),
+    phase: r.chamberCounter?.phase ?? null,
+    minSwingK: r.chamberCounter?.minSwingK ?? null,
+    excursions: r.chamberCounter?.excursions ?? 0,
+  };
+}
+
+/** The chamber's latest report and recent profile, for an unbiased run's page. */
+async function chamberView(m: EntityManager, run: RunEntity): Promise<RunChamberView> {
+  const rows = await recentChamberSamples(m, run.rigId!, CHAMBER_PROFILE_POINTS);
+  const last = rows[rows.length - 1];
+  return {
+    latest: last
+      ? {
+          at: last.ts.toISOString(),
+          airC: last.airC,
+          loadC: last.loadC,
+          setpointC: last.setpointC,
+          humidityPct: last.humidityPct,
+          pressureKPa: last.pressureKPa,
+        }
+      : null,
+    profile: rows.map((x) => ({ clockMin: x.clockS / 60, airC: x.airC, loadC: x.loadC })),
+  };
+}
+/** Reports shown in a run page's chamber profile. */
+export const CHAMBER_PROFILE_POINTS = 240;
 
 function sampleRef(s: SampleEntity | undefined, runCodes: string[]): Run['sample'] {
   if (!s) return null;
@@ -164,6 +215,7 @@ export async function runSockets(m: EntityManager, runId: string): Promise<RunSo
   const rows = await runSocketRows(m, runId);
   return rows.map((x) => ({
     socket: Number(x.socket),
+    deviceId: x.device_id,
     serial: x.serial,
     lotCode: x.lot,
     accruedHours: Number(x.hours),
@@ -202,8 +254,10 @@ export async function toRunDetail(m: EntityManager, run: RunEntity): Promise<Run
       if (c) s.cycles = { done: c.cyclesDone, missed: c.cyclesMissed, lastDTjLowC: c.lastDTjLowC, lastDTjHighC: c.lastDTjHighC };
     }
   }
+  const plan = await m.findOne(StressPlanEntity, { where: { id: run.planId }, select: { id: true, kind: true } });
   return {
     ...base,
+    chamber: run.rigId && plan && isUnbiasedKindName(plan.kind) ? await chamberView(m, run) : null,
     sockets,
     audit: await runAudit(m, run.id),
     socketsTaken: [...taken.keys()].sort((a, b) => a - b),

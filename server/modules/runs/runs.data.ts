@@ -96,6 +96,7 @@ export function runsOfSample(
 
 export interface RunSocketRow {
   socket: number;
+  device_id: string;
   serial: string;
   lot: string;
   hours: number | string;
@@ -107,7 +108,7 @@ export interface RunSocketRow {
 /** A run's loaded sockets with serial, lot, hours and trip, by socket. */
 export function runSocketRows(m: EntityManager, runId: string): Promise<RunSocketRow[]> {
   return m.query(
-    `SELECT s.socket_index AS socket, d.serial, l.code AS lot, s.accrued_hours AS hours, s.tripped, s.trip_reason AS reason, s.failed_at_h AS failed
+    `SELECT s.socket_index AS socket, s.device_id, d.serial, l.code AS lot, s.accrued_hours AS hours, s.tripped, s.trip_reason AS reason, s.failed_at_h AS failed
      FROM run_sockets s JOIN devices d ON d.id = s.device_id JOIN lots l ON l.id = d.lot_id
      WHERE s.run_id = $1 ORDER BY s.socket_index`,
     [runId],

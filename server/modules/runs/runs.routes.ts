@@ -3,6 +3,7 @@ import {
   abortRunSchema,
   bookRunSchema,
   bookSampleSchema,
+  calendarApplySchema,
   proposalInputSchema,
   retryRunSchema,
   runActionSchema,
@@ -20,6 +21,8 @@ export function runsRoutes(ctx: AppContext): ApiRouter {
   const r = new ApiRouter('/api/runs');
   // Fixed paths before "/:id".
   r.get('/timeline', { access: 'signed-in', query: timelineQuerySchema }, ({ query }) => svc.timeline(query));
+  r.get('/calendar', { access: rolesFor('run.propose') }, () => svc.calendar());
+  r.post('/calendar', { access: rolesFor('run.reschedule'), body: calendarApplySchema }, ({ user, body }) => svc.applyCalendar(user, body));
   r.post('/proposals', { access: rolesFor('run.propose'), body: proposalInputSchema }, ({ body }) => svc.propose(body));
   r.post('/samples', { access: rolesFor('run.book'), body: bookSampleSchema, status: 201 }, ({ user, body }) => svc.bookSample(user, body));
   r.get('/', { access: 'signed-in', query: runListQuerySchema }, async ({ query }) => ({ items: await svc.list(query) }));

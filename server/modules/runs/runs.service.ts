@@ -7,6 +7,7 @@
 import { In, Not, type EntityManager } from 'typeorm';
 import {
   earliestSlot,
+  lateH,
   planBiasV,
   proposeRigs,
   runDurationH,
@@ -16,9 +17,11 @@ import {
   windowConflicts,
   type RunNeeds,
   type TimingOptions,
+  chamberNeedsOf,
 } from '../../../shared/scheduling';
 import { BIASED_HOLD_PHASES } from '../../../shared/holds/sequence';
 import { chamberSetpointC } from '../../../shared/domain/standards';
+import { DEFAULT_PRIORITY } from '../../../shared/domain/priority';
 import type { SessionUser } from '../../../shared/schemas/auth';
 import {
   allowedActions,
@@ -28,6 +31,9 @@ import {
   type AbortRunInput,
   type BookRunInput,
   type BookSampleInput,
+  type CalendarApplyInput,
+  type CalendarApplyResult,
+  type CalendarProposal,
   type SampleBooking,
   type ProposalInput,
   type ProposalResult,
@@ -63,14 +69,16 @@ import { AppError, conflict, notFound, unprocessable } from '../../http/errors';
 import { blockingFindings, type BlockingFinding } from '../approvals/approvals.service';
 import { accrueStep, firstReadPointIndex, transitionRun, type EngineDeps } from './run-engine';
 import { maxSeq } from './telemetry-reads';
+import { maxChamberSeq } from './chamber.data';
 import { emitRunEvent, type PendingRunEvent } from './run-events';
 import { planRef, sampleView, socketsTakenOnRig, toRunDetail, toRuns } from './run-view';
 import { loadSchedulingInputs, projectedWindow, SCHEDULED_STATES, timingFrom } from './scheduling-data';
 import { chamberConflict, startPermit } from './start-permit';
+import { applyCalendar, calendarProposal, CALENDAR_LOCK } from './calendar';
 import { advisoryXactLock, bumpRunRowVersion, devicesBySerial, devicesInOpenRuns, timelineRuns } from './runs.data';
 
-/** Serialises bookings (one transaction at a time decides who gets a rig window). */
-const BOOKING_LOCK = 478_001;
+/** Serialises bookings and calendar moves (one transaction at a time decides who gets a rig window). */
+const BOOKING_LOCK = CALENDAR_LOCK;
 
 /** What a run action works on, read in its transaction. */
 interface ActionContext {
@@ -94,6 +102,8 @@ interface BookingPart {
   /** The approved override request this booking uses (when the plan check blocks). */
   approval: OverrideRequestEntity | null;
   findings: BlockingFinding[];
+  /** The request's due date and priority (every part of a sample carries the same). */
+  terms: { dueAt: Date | null; priority: number };
 }
 
 const needsOf = (plan: StressPlanEntity, sampleSize: number): RunNeeds => ({
@@ -104,7 +114,29 @@ const needsOf = (plan: StressPlanEntity, sampleSize: number): RunNeeds => ({
   sampleSize,
   durationH: plan.durationH,
   readPointsH: plan.readPointsH,
+  chamber: chamberNeedsOf(plan),
 });
+
+/**
+ * A chamber's load: each serial of the list gets the next load position no other run in the
+ * chamber holds (positions are bookkeeping, not sockets: the devices sit on the chamber's trays).
+ */
+async function chamberPositions(
+  m: EntityManager,
+  rig: RigEntity,
+  runId: string,
+  serials: readonly string[],
+): Promise<Record<string, string>> {
+  const taken = await socketsTakenOnRig(m, rig.id, runId);
+  const out: Record<string, string> = {};
+  let next = 0;
+  for (const serial of serials) {
+    while (taken.has(next)) next++;
+    out[String(next)] = serial;
+    next++;
+  }
+  return out;
+}
 
 /**
  * How far booking may follow a proposed start that slid (see book): 1 clock hour, or 5 % of the
@@ -178,6 +210,9 @@ export class RunsService {
           sampleSize: r.sampleSize,
           stressHours: r.stressHours,
           targetH: plan.durationH,
+          dueAt: r.dueAt?.toISOString() ?? null,
+          priority: r.priority,
+          lateH: lateH(w.endMs, r.dueAt?.getTime() ?? null, t.msPerClockH),
         },
       };
     });
@@ -218,6 +253,17 @@ export class RunsService {
   }
 
   // -------------------------------------------------------------------------------------------
+  // The calendar (calendar.ts)
+
+  calendar(): Promise<CalendarProposal> {
+    return calendarProposal(this.ctx, this.timing);
+  }
+
+  applyCalendar(actor: SessionUser, input: CalendarApplyInput): Promise<CalendarApplyResult> {
+    return applyCalendar(this.ctx, this.timing, actor, input);
+  }
+
+  // -------------------------------------------------------------------------------------------
   // Proposals and booking
 
   /** Plan, device type, lots and the request's own problems (wrong device type, too few devices). */
@@ -248,6 +294,7 @@ export class RunsService {
   async propose(input: ProposalInput): Promise<ProposalResult> {
     const m = this.ds.manager;
     const { plan, problems, blocks } = await this.requestContext(m, input);
+    const dueMs = this.dueMsOf(input.dueAt);
     const blockingFindings = blocks.map((f) => ({ code: f.code, title: f.title, explanation: f.explanation }));
     const now = this.ctx.now().getTime();
     const notBefore = Math.max(now, input.notBefore ? Date.parse(input.notBefore) : now);
@@ -280,14 +327,23 @@ export class RunsService {
             durationH: o.durationH,
             spareSockets: o.spareSockets,
             delayReasons: o.delayReasons,
+            lateH: lateH(o.endMs, dueMs, this.timing.msPerClockH),
           })),
       refusals: p.refusals.map((r) => ({ ...r, rigName: byId.get(r.rigId)!.name })),
     };
   }
 
   async book(actor: SessionUser, input: BookRunInput): Promise<RunDetail> {
-    const { planId, lotIds, override, deviation, rigId, start, sampleSize } = input;
-    const { runs } = await this.bookParts(actor, { planId, lotIds, override, deviation, parts: [{ rigId, start, sampleSize }] });
+    const { planId, lotIds, override, deviation, rigId, start, sampleSize, dueAt, priority } = input;
+    const { runs } = await this.bookParts(actor, {
+      planId,
+      lotIds,
+      override,
+      deviation,
+      dueAt,
+      priority,
+      parts: [{ rigId, start, sampleSize }],
+    });
     return toRunDetail(this.ds.manager, runs[0]);
   }
 
@@ -298,7 +354,19 @@ export class RunsService {
     return { sample: await sampleView(m, sample.id), runs: await Promise.all(runs.map((r) => toRunDetail(m, r))) };
   }
 
+  /** A request's due date in ms (null: none); a date already past is refused (it could only ever be late). */
+  private dueMsOf(dueAt: string | null | undefined): number | null {
+    if (!dueAt) return null;
+    const ms = Date.parse(dueAt);
+    if (ms <= this.ctx.now().getTime()) {
+      throw unprocessable(`The due date ${when(ms)} has already passed; give a date after now or leave it empty.`, { field: 'dueAt' });
+    }
+    return ms;
+  }
+
   private async bookParts(actor: SessionUser, input: BookSampleInput): Promise<{ sample: SampleEntity; runs: RunEntity[] }> {
+    const dueMs = this.dueMsOf(input.dueAt);
+    const terms = { dueAt: dueMs === null ? null : new Date(dueMs), priority: input.priority ?? DEFAULT_PRIORITY };
     return this.ds.transaction(async (m) => {
       await advisoryXactLock(m, BOOKING_LOCK);
       const total = input.parts.reduce((a, p) => a + p.sampleSize, 0);
@@ -342,6 +410,7 @@ export class RunsService {
             overridden,
             approval,
             findings: blocks,
+            terms,
           }),
         );
       }
@@ -403,6 +472,8 @@ export class RunsService {
         overrideReason: overridden ? (b.approval?.reason ?? null) : null,
         overrideById: overridden ? (b.approval?.requestedById ?? null) : null,
         createdById: actor.id,
+        dueAt: b.terms.dueAt,
+        priority: b.terms.priority,
       }),
     );
     await m.insert(
@@ -437,6 +508,7 @@ export class RunsService {
         startMs + runDurationMs(needs, this.timing),
         inputs.commitments,
         inputs.maintenance,
+        this.timing,
       );
       if (clash.length) {
         // A proposal's start is often the projected end of the run ahead of it, and that
@@ -488,6 +560,8 @@ export class RunsService {
           rig: rig.code,
           scheduledStart: new Date(startMs).toISOString(),
           scheduledEnd: new Date(endMs).toISOString(),
+          dueAt: b.terms.dueAt?.toISOString() ?? null,
+          priority: b.terms.priority,
           ...(requestedStartMs !== null && startMs !== requestedStartMs
             ? {
                 requestedStart: new Date(requestedStartMs).toISOString(),
@@ -545,7 +619,11 @@ export class RunsService {
       }
       if (!run.rigId) throw unprocessable(`Run ${run.code} has no rig yet.`);
       const rig = await m.findOneByOrFail(RigEntity, { id: run.rigId });
-      const { flags, assignments } = await this.checkSockets(m, run, rig, input.sockets);
+      if (input.serials && rig.kind !== 'chamber') {
+        throw unprocessable(`${rig.code} is a burn-in oven: place each device in a socket (a serial list is for chambers).`);
+      }
+      const map = input.serials ? await chamberPositions(m, rig, run.id, input.serials) : input.sockets;
+      const { flags, assignments } = await this.checkSockets(m, run, rig, map);
       const blocking = flags.filter((f) => f.blocking);
       const loaded = assignments.length;
       const summary = blocking.length
@@ -744,7 +822,7 @@ export class RunsService {
   private async reheat({ m, rig, now }: ActionContext): Promise<Partial<RunEntity>> {
     return {
       heatingSince: now,
-      accruedToSeq: rig ? await maxSeq(m, rig.id) : 0,
+      accruedToSeq: rig ? (rig.kind === 'chamber' ? await maxChamberSeq(m, rig.id) : await maxSeq(m, rig.id)) : 0,
       accruedToClockS: null,
     };
   }

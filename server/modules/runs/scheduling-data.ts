@@ -5,17 +5,22 @@
  */
 import { In, MoreThan, type EntityManager } from 'typeorm';
 import {
+  holdWindows,
   intermediateReadPoints,
   msPerClockHFor,
   runDurationMs,
   type Commitment,
   type MaintenanceWindow,
   type TimingOptions,
+  chamberNeedsOf,
 } from '../../../shared/scheduling';
 import { ON_RIG_STATES, type RunState } from '../../../shared/schemas/runs';
 import { chamberSetpointC } from '../../../shared/domain/standards';
 import type { ServerConfig } from '../../config';
 import { RigEntity, RigMaintenanceEntity, RunEntity, StressPlanEntity } from '../../db/entities';
+
+/** States of a run on the rig that still have a heat-up ahead (as projectedWindow counts them). */
+const HEAT_AHEAD_STATES: readonly RunState[] = ['heating', 'paused', 'read-hold', 'fault'];
 
 /** States that hold a window on a rig's timeline. */
 export const SCHEDULED_STATES: readonly RunState[] = ['booked', ...ON_RIG_STATES];
@@ -53,8 +58,7 @@ export function projectedWindow(
   const remainingH = Math.max(0, plan.durationH - run.stressHours);
   const ahead = intermediateReadPoints(plan.readPointsH, plan.durationH).filter((h) => h > run.stressHours).length;
   const holding = run.state === 'read-hold' ? 1 : 0;
-  const heat =
-    run.state === 'heating' || run.state === 'paused' || run.state === 'read-hold' || run.state === 'fault' ? t.heatingAllowanceH : 0;
+  const heat = HEAT_AHEAD_STATES.includes(run.state) ? t.heatingAllowanceH : 0;
   const remainingMs = (remainingH + (ahead + holding) * t.holdPerReadPointH + heat) * t.msPerClockH;
   const startMs = run.startedAt?.getTime() ?? booked.startMs;
   return { startMs, endMs: Math.max(booked.endMs, nowMs + remainingMs) };
@@ -77,7 +81,15 @@ export async function loadSchedulingInputs(m: EntityManager, nowMs: number, t: T
   const commitments: Commitment[] = runs.map((r) => {
     const plan = plans.get(r.planId)!;
     const w = projectedWindow(r, plan, nowMs, t);
+    const started = r.state !== 'booked' && r.state !== 'loading';
     return {
+      holds: started
+        ? holdWindows(nowMs, plan, t, {
+            doneH: r.stressHours,
+            heating: HEAT_AHEAD_STATES.includes(r.state),
+            holdingNow: r.state === 'read-hold',
+          })
+        : holdWindows(w.startMs, plan, t),
       runId: r.id,
       code: r.code,
       rigId: r.rigId!,
@@ -86,6 +98,7 @@ export async function loadSchedulingInputs(m: EntityManager, nowMs: number, t: T
       chamberC: chamberSetpointC(plan.chamberC, plan.chamberBand),
       humidityPct: plan.humidityPct,
       sockets: r.sampleSize,
+      profileKey: chamberNeedsOf(plan)?.profileKey ?? null,
     };
   });
   const maint = await m.find(RigMaintenanceEntity, { where: { endsAt: MoreThan(new Date(nowMs)) } });

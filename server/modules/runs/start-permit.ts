@@ -17,8 +17,9 @@ import { In, Not, type EntityManager } from 'typeorm';
 import { DRIVEN_STATES } from '../../../shared/domain/run-states';
 import { calibrationExpiresAt, chamberSetpointC, INTERLOCK_TEST_VALID_DAYS, interlockDueAt } from '../../../shared/domain/standards';
 import { formatUtc } from '../../../shared/domain/format';
-import { isPoweredKind } from '../../../shared/domain/stress';
-import { planBiasV, staticRefusals, when, type RunNeeds } from '../../../shared/scheduling';
+import { isPoweredKind, isUnbiasedKind } from '../../../shared/domain/stress';
+import { latestChamberSample } from './chamber.data';
+import { planBiasV, sameChamberCondition, staticRefusals, when, type RunNeeds } from '../../../shared/scheduling';
 import type { PermitCheck, StartPermit } from '../../../shared/schemas/runs';
 import { RigMaintenanceEntity, RunEntity, RunSocketEntity, StressPlanEntity, type RigEntity } from '../../db/entities';
 import { devicesWithoutTimeZero } from './runs.data';
@@ -48,8 +49,11 @@ export async function chamberConflict(m: EntityManager, run: RunEntity, rig: Rig
   const others = await m.find(RunEntity, { where: { rigId: rig.id, state: In([...DRIVEN_STATES]), id: Not(run.id) } });
   for (const o of others) {
     const op = await m.findOneByOrFail(StressPlanEntity, { id: o.planId });
-    const same = chamberSetpointC(op.chamberC, op.chamberBand) === chamberSetpointC(plan.chamberC, plan.chamberBand);
-    if (!same || (op.humidityPct ?? null) !== (plan.humidityPct ?? null)) {
+    const same = sameChamberCondition(
+      { chamberC: chamberSetpointC(op.chamberC, op.chamberBand), humidityPct: op.humidityPct },
+      { chamberC: chamberSetpointC(plan.chamberC, plan.chamberBand), humidityPct: plan.humidityPct },
+    );
+    if (!same) {
       return `Oven ${rig.code} holds run ${o.code} at ${condition(op)}; this plan needs ${condition(plan)}.`;
     }
   }
@@ -58,6 +62,7 @@ export async function chamberConflict(m: EntityManager, run: RunEntity, rig: Rig
 
 /** The plan's bias in words for the confirmation. */
 export function biasText(plan: Pick<StressPlanEntity, 'kind' | 'bias'>): string {
+  if (isUnbiasedKind(plan.kind)) return 'no bias (an unbiased chamber stress)';
   const v = planBiasV(plan);
   if (v === null) return 'no bias voltage';
   return isPoweredKind(plan.kind) ? `powered at VCE ${+v.toFixed(2)} V` : `reverse bias of ${+v.toFixed(2)} V`;
@@ -88,7 +93,27 @@ async function timeZeroCheck(m: EntityManager, run: RunEntity, plan: StressPlanE
   };
 }
 
+/** A chamber has no sockets to report: it must have reported itself (its air and load temperature). */
+async function chamberReportCheck(m: EntityManager, rig: RigEntity): Promise<PermitCheck> {
+  const latest = await latestChamberSample(m, rig.id);
+  if (!latest) {
+    return {
+      key: 'sockets',
+      label: 'Chamber reports',
+      ok: false,
+      message: `Chamber ${rig.code} has not reported yet. Switch it on and wait for its first report of air and load temperature.`,
+    };
+  }
+  return {
+    key: 'sockets',
+    label: 'Chamber reports',
+    ok: true,
+    message: `Chamber ${rig.code} reported air ${+latest.airC.toFixed(1)} °C, load ${+latest.loadC.toFixed(1)} °C (${formatUtc(latest.ts.getTime())}).`,
+  };
+}
+
 async function socketsCheck(m: EntityManager, run: RunEntity, rig: RigEntity): Promise<PermitCheck> {
+  if (rig.kind === 'chamber') return chamberReportCheck(m, rig);
   const label = 'Sockets the rig reports';
   const loaded = (await m.find(RunSocketEntity, { where: { runId: run.id }, select: { socketIndex: true } })).map((s) => s.socketIndex);
   const report = await reportedSockets(m, rig.id);
@@ -175,8 +200,8 @@ export async function startPermit(
     ok: loaded === run.sampleSize,
     message:
       loaded === run.sampleSize
-        ? `All ${run.sampleSize} devices are in sockets.`
-        : `Load all ${run.sampleSize} devices before starting; ${loaded} socket${loaded === 1 ? ' is' : 's are'} loaded.`,
+        ? `All ${run.sampleSize} devices are ${rig?.kind === 'chamber' ? 'in the chamber' : 'in sockets'}.`
+        : `Load all ${run.sampleSize} devices before starting; ${loaded} ${rig?.kind === 'chamber' ? (loaded === 1 ? 'device is' : 'devices are') : loaded === 1 ? 'socket is' : 'sockets are'} loaded.`,
   });
   checks.push(await timeZeroCheck(m, run, plan));
   if (rig) {

@@ -16,7 +16,8 @@ export interface SocketSegments {
   bySocket: Map<number, StressSegment[]>;
 }
 
-function junctionOf(s: SocketSample | undefined, thetaJc: number | undefined): number | null {
+/** A socket's estimated junction from one sample: the estimate credit uses (and the floor's socket detail shows). */
+export function junctionOf(s: Pick<SocketSample, 'caseC' | 'vV' | 'iA'> | undefined, thetaJc: number | undefined): number | null {
   if (!s || s.caseC === undefined || !Number.isFinite(s.caseC)) return null;
   const iA = s.iA !== undefined && Number.isFinite(s.iA) ? s.iA : 0;
   return junctionFromTelemetry({ caseC: s.caseC, vV: s.vV, iA, thetaJcCPerW: thetaJc ?? 0 });

@@ -18,8 +18,8 @@
  *               attempts) moves a running run into fault, with a critical alarm (reportFailure).
  * Before any command it compares the rig's last stored report with what it wants, so a restarted
  * server sends nothing the rig already did — but a report older than a command of the same kind
- * still on its way (or acked after the report) does not count (CommandTracker.reportReflects). It also re-plans booked runs when a rig goes offline
- * or a running run overruns its booked end.
+ * still on its way (or acked after the report) does not count (CommandTracker.reportReflects). It also re-plans booked runs when
+ * a running run overruns its booked end (a rig going offline gets proposals instead: server/modules/replan).
  */
 import cron, { type ScheduledTask } from 'node-cron';
 import type { EntityManager } from 'typeorm';
@@ -32,6 +32,7 @@ import {
   accrualConditionsFor,
   type Job,
   when,
+  chamberNeedsOf,
 } from '../../../shared/scheduling';
 import { AMBIENT_WITHIN_H as AMBIENT_LIMIT_H, chamberSetpointC } from '../../../shared/domain/standards';
 import { FAULTABLE_STATES } from '../../../shared/domain/run-states';
@@ -39,6 +40,7 @@ import type { RunState } from '../../../shared/schemas/runs';
 import { dewPointC } from '../../../shared/holds/dew-point';
 import { coolingSetpointC, holdStep, type HoldDecision, type HoldInput } from '../../../shared/holds/sequence';
 import { readHoldSettings } from '../lab-settings/lab-settings.data';
+import { chamberStep, chamberWants, isChamberRun } from '../runs/chamber-engine';
 import type { AppContext } from '../../context';
 import type { RigEntity, RunEntity, StressPlanEntity } from '../../db/entities';
 import { MEASURE_WITHIN_H, emitRunEvent, type PendingRunEvent } from '../runs/run-events';
@@ -117,10 +119,9 @@ export class RunScheduler {
     }
     if (this.opts.listen !== false) {
       const onLanded = () => this.kick();
-      const onStatus = (s: RigStatusChanged) => {
-        if (!s.online) this.requestReplan(`Oven ${s.rigCode} went offline`);
-        this.kick();
-      };
+      // A rig going offline no longer moves bookings by itself: the re-planner proposes and a
+      // person accepts (server/modules/replan).
+      const onStatus = (_s: RigStatusChanged) => this.kick();
       this.ctx.events.on(TELEMETRY_LANDED, onLanded);
       this.ctx.events.on(RIG_STATUS_CHANGED, onStatus);
       this.offListeners.push(
@@ -258,6 +259,8 @@ export class RunScheduler {
         const locked = await data.runOnRig(m, runId, true);
         if (!locked) return null;
         const { run, plan, rig } = locked;
+        // Unbiased chamber runs move on the chamber's own reports (server/modules/chamber).
+        if (isChamberRun(plan)) return chamberStep(m, this.deps, run, plan, rig);
         if (run.state === 'heating') return heatingStep(m, this.deps, run, plan, rig);
         if (run.state === 'stressing') return accrueStep(m, this.deps, run, plan, rig);
         if (run.state === 'read-hold') return this.holdPhaseStep(m, run, plan, rig);
@@ -272,8 +275,9 @@ export class RunScheduler {
     const current = await data.runOnRig(this.ctx.ds.manager, runId);
     if (!current) return [];
     const { run, plan, rig } = current;
-    if (run.state === 'heating') await this.checkAmbient(run, plan, rig);
-    const wants = await this.wants(run, plan, rig);
+    const chamber = isChamberRun(plan);
+    if (run.state === 'heating' && !chamber) await this.checkAmbient(run, plan, rig);
+    const wants = chamber ? await chamberWants(this.ctx.ds.manager, run, plan, rig) : await this.wants(run, plan, rig);
     for (const w of wants) {
       // "Satisfied" read from a report that predates a command still on its way is not satisfied.
       const satisfied = w.satisfied && this.commands.reportReflects(rig.code, w.cmd.type, w.cmdId, w.reportSeq ?? null);
@@ -697,6 +701,7 @@ export class RunScheduler {
           sampleSize: r.sampleSize,
           durationH: p.durationH,
           readPointsH: p.readPointsH,
+          chamber: chamberNeedsOf(p),
           rigIds: inputs.rigs.filter((g) => g.online || g.id === r.rigId).map((g) => g.id),
         };
       });

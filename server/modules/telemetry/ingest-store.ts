@@ -1,10 +1,11 @@
 /**
- * One ingest batch, one transaction: telemetry batches (de-duplicated on (rig_id, seq)), the
- * socket samples of the newly inserted messages only (COPY), the per-minute rollups the ingest
+ * One ingest batch, one transaction: telemetry messages with their sockets as arrays (one row per
+ * message, de-duplicated on (rig_id, seq); migration 1828…), the cycle reports of the newly
+ * inserted messages only (COPY), the per-minute rollups the ingest
  * held back (rollups.ts), the rigs' live columns, rejected messages and the durable counters.
  * Nothing here talks MQTT or emits events: the caller does that after COMMIT with what this returns.
  *
- * Round trips, in order: BEGIN + rig lookup, headers, (stored copies of duplicates), COPY,
+ * Round trips, in order: BEGIN + rig lookup, messages, (stored copies of duplicates), (COPY cycles),
  * (rollups), (rig rows), (rejections), counters, COMMIT — each step is one function below.
  */
 import { Readable } from 'node:stream';
@@ -91,53 +92,11 @@ export function registrationProblem(
 /** Float text for COPY: JS number formatting (incl. 1e-9) is valid PostgreSQL input. */
 const f = (n: number) => String(n);
 
-/** One message's COPY lines (one per socket). */
-export function sampleCopyText(rigId: string, msg: Telemetry): string {
-  const head = `${rigId}\t${msg.seq}\t`;
-  const { socket, caseC, vV, iA, flags } = msg;
-  let s = '';
-  for (let k = 0; k < socket.length; k++) {
-    s += `${head}${socket[k]}\t${f(caseC[k])}\t${f(vV[k])}\t${f(iA[k])}\t${BOOL_PAIR[flags[k] & 3]}\n`;
-  }
-  return s;
-}
-
-/** `bias_on\ttripped` COPY text by flags (FLAG_BIAS_ON = 1, FLAG_TRIPPED = 2). */
-const BOOL_PAIR = ['f\tf', 't\tf', 'f\tt', 't\tt'];
-
-/** COPY data goes out in pieces of about this size: a few large socket writes, not one per message. */
-const COPY_CHUNK_BYTES = 256 * 1024;
-
-/**
- * The COPY text of the rows in Buffers of about COPY_CHUNK_BYTES (whole lines only). Each message's
- * 64-odd lines are built as one string and copied into the chunk: measured on this machine, one
- * string per message costs ~20 µs per 64-socket message, and one string for a whole chunk ~47 µs
- * (V8 flattens the long concatenation at the end).
- */
-export function sampleCopyChunks(rows: Array<{ rigId: string; msg: Telemetry }>): Buffer[] {
-  const chunks: Buffer[] = [];
-  let buf: Buffer | null = null;
-  let off = 0;
-  for (const { rigId, msg } of rows) {
-    const s = sampleCopyText(rigId, msg);
-    // ASCII only (uuids, digits, signs, '.', 'e', 't'/'f'): one character is one byte.
-    if (buf && off + s.length > buf.length) {
-      chunks.push(buf.subarray(0, off));
-      buf = null;
-    }
-    if (!buf) {
-      buf = Buffer.allocUnsafe(Math.max(COPY_CHUNK_BYTES, s.length));
-      off = 0;
-    }
-    off += buf.write(s, off, 'latin1');
-  }
-  if (buf && off) chunks.push(buf.subarray(0, off));
-  return chunks;
-}
-
-async function copySamples(client: PoolClient, rows: Array<{ rigId: string; msg: Telemetry }>): Promise<void> {
-  const stream = client.query(copyFrom('COPY telemetry_samples (rig_id, seq, socket, case_c, v_v, i_a, bias_on, tripped) FROM STDIN'));
-  await pipeline(Readable.from(sampleCopyChunks(rows)), stream);
+/** A number array as PostgreSQL array text (`{1,2.5,-3}`); JS number text is valid real/float8 input. */
+export function arrayText(a: ArrayLike<number>): string {
+  let s = '{';
+  for (let k = 0; k < a.length; k++) s += k ? `,${a[k]}` : `${a[k]}`;
+  return `${s}}`;
 }
 
 /** Power-cycling reports of the new messages that carry them (cycling rigs only; shared/mqtt/payloads.ts). */
@@ -290,15 +249,14 @@ async function writeInTransaction(
 ): Promise<BatchResult> {
   const sorted = sortItems(items, rigs);
   const { telemetry, rejects } = sorted;
-  // 1. Message headers, de-duplicated on (rig_id, seq).
-  const isNew = await insertHeaders(client, telemetry);
+  // 1. Messages with their sockets (one row each), de-duplicated on (rig_id, seq).
+  const isNew = await insertMessages(client, telemetry);
   const { fresh, dups } = splitFresh(telemetry, isNew);
   // 2. Duplicates whose content differs from the stored copy (appended to the rejections).
   const seqConflicts = dups.length ? await recordSeqConflicts(client, dups, rejects) : 0;
-  // 3. Socket rows of the new messages only, then the rollups the ingest hands over.
+  // 3. Cycle reports of the new messages only, then the rollups the ingest hands over.
   let sampleRows = 0;
   for (const r of fresh) sampleRows += r.msg.socket.length;
-  if (fresh.length) await copySamples(client, fresh);
   if (fresh.length) await copyCycles(client, fresh);
   const rollups = extras.rollups ?? [];
   if (rollups.length) await upsertRollups(client, rollups);
@@ -394,23 +352,46 @@ function sortItems(items: IngestItem[], rigs: Map<string, RigRow>): SortedItems 
   return { rejects, telemetry, rigState, statusMessages };
 }
 
-/** Insert the headers; returns `${rig_id}|${seq}` of those that were new. */
-async function insertHeaders(client: PoolClient, telemetry: TelemetryIn[]): Promise<Set<string>> {
+/**
+ * Insert each message once, with its sockets as arrays; returns `${rig_id}|${seq}` of those that were
+ * new. The table's key is (rig_id, seq, ts) (partitioned by ts), so a (rig_id, seq) already stored
+ * with another ts is refused here (NOT EXISTS over every partition's key index) and becomes a seq
+ * conflict; within the batch only the first copy of a (rig_id, seq) is sent. A copy in flight in the
+ * other transaction with the same ts waits on the key (ON CONFLICT); with another ts it would be
+ * stored twice — a rig that reuses a seq within a second, which the seq-conflict check exists for.
+ */
+async function insertMessages(client: PoolClient, telemetry: TelemetryIn[]): Promise<Set<string>> {
   const isNew = new Set<string>();
   if (!telemetry.length) return isNew;
+  const first: TelemetryIn[] = [];
+  const seen = new Set<string>();
+  for (const t of telemetry) {
+    const key = `${t.rig.id}|${t.msg.seq}`;
+    if (seen.has(key)) continue;
+    seen.add(key);
+    first.push(t);
+  }
   const { rows } = await client.query<{ rig_id: string; seq: string }>(
-    `INSERT INTO telemetry_batches (rig_id, seq, ts, stress_clock_s, chamber_c, humidity_pct, setpoint_c)
-     SELECT * FROM unnest($1::uuid[], $2::bigint[], $3::timestamptz[], $4::float8[], $5::real[], $6::real[], $7::real[])
+    `INSERT INTO telemetry_batches (rig_id, seq, ts, stress_clock_s, chamber_c, humidity_pct, setpoint_c, socket, case_c, v_v, i_a, flags)
+     SELECT v.rig_id, v.seq, v.ts, v.clock, v.chamber, v.humidity, v.setpoint, v.socket::smallint[], v.case_c::real[], v.v_v::real[], v.i_a::float8[], v.flags::smallint[]
+     FROM unnest($1::uuid[], $2::bigint[], $3::timestamptz[], $4::float8[], $5::real[], $6::real[], $7::real[], $8::text[], $9::text[], $10::text[], $11::text[], $12::text[])
+       AS v(rig_id, seq, ts, clock, chamber, humidity, setpoint, socket, case_c, v_v, i_a, flags)
+     WHERE NOT EXISTS (SELECT 1 FROM telemetry_batches b WHERE b.rig_id = v.rig_id AND b.seq = v.seq)
      ON CONFLICT DO NOTHING
      RETURNING rig_id, seq`,
     [
-      telemetry.map((t) => t.rig.id),
-      telemetry.map((t) => t.msg.seq),
-      telemetry.map((t) => t.msg.ts),
-      telemetry.map((t) => t.msg.stressClockS),
-      telemetry.map((t) => t.msg.chamberC),
-      telemetry.map((t) => t.msg.humidityPct),
-      telemetry.map((t) => t.msg.setpointC),
+      first.map((t) => t.rig.id),
+      first.map((t) => t.msg.seq),
+      first.map((t) => t.msg.ts),
+      first.map((t) => t.msg.stressClockS),
+      first.map((t) => t.msg.chamberC),
+      first.map((t) => t.msg.humidityPct),
+      first.map((t) => t.msg.setpointC),
+      first.map((t) => arrayText(t.msg.socket)),
+      first.map((t) => arrayText(t.msg.caseC)),
+      first.map((t) => arrayText(t.msg.vV)),
+      first.map((t) => arrayText(t.msg.iA)),
+      first.map((t) => arrayText(t.msg.flags)),
     ],
   );
   for (const r of rows) isNew.add(`${r.rig_id}|${r.seq}`);

@@ -23,6 +23,7 @@ import {
 } from '../../../shared/mqtt/payloads';
 import { storableText } from '../../../shared/storable-text';
 import { parseRigTopic } from '../../../shared/mqtt/topics';
+import { parseChamberReport, type ChamberReport } from '../../../shared/mqtt/chamber';
 import { RIG_STATUS_CHANGED, TELEMETRY_LANDED, type EmberlotEventName, type EventBus } from '../../events';
 import { COUNTERS, writeBatch, type BatchResult, type IngestItem } from './ingest-store';
 import { RollupAccumulator, type RollupRow } from './rollups';
@@ -59,6 +60,8 @@ export interface IngestDeps {
   publishStored: (rigCode: string, cmd: StoredCommand) => void;
   /** A valid command ack for the RigLink. */
   onAck?: (rigCode: string, ack: CommandAck) => void;
+  /** A chamber's own report (shared/mqtt/chamber.ts), validated; stored by the chamber module. */
+  onChamber?: (rigCode: string, report: ChamberReport, receivedAt: Date) => void;
   now?: () => Date;
 }
 
@@ -181,6 +184,15 @@ export class TelemetryIngest {
       if (!ack.ok) return this.reject(topic, rigCode, `command-ack: ${ack.reason}`, payload, receivedAt);
       if (ack.data.rig !== rigCode) return this.reject(topic, rigCode, mismatch(kind, ack.data.rig, rigCode), payload, receivedAt);
       this.deps.onAck?.(rigCode, ack.data);
+      return;
+    }
+    if (kind === 'chamber') {
+      const rep = parseChamberReport(payload);
+      if (!rep.ok) return this.reject(topic, rigCode, `chamber: ${rep.reason}`, payload, receivedAt);
+      if (rep.data.rig !== rigCode) return this.reject(topic, rigCode, mismatch(kind, rep.data.rig, rigCode), payload, receivedAt);
+      const late = telemetryTimeProblem(rep.data.ts, receivedAt.getTime());
+      if (late) return this.reject(topic, rigCode, `chamber: ${late}`, payload, receivedAt);
+      this.deps.onChamber?.(rigCode, rep.data, receivedAt);
       return;
     }
     if (kind === 'status') {

@@ -102,7 +102,12 @@ export class MqttRigLink implements RigLink {
       // session QoS 1 could not cover a dropped connection anyway. It saves a PUBACK per message
       // here and the broker's in-flight bookkeeping. Status and acks stay at QoS 1.
       c.subscribe(
-        { [topics.all.telemetry]: { qos: 0 }, [topics.all.status]: { qos: 1 }, [topics.all.commandAcks]: { qos: 1 } },
+        {
+          [topics.all.telemetry]: { qos: 0 },
+          [topics.all.status]: { qos: 1 },
+          [topics.all.commandAcks]: { qos: 1 },
+          [topics.all.chamber]: { qos: 1 },
+        },
         (err, granted) => {
           const refused = (granted ?? []).filter((g) => g.qos === 128);
           if (err || refused.length) this.log(`subscription refused: ${err?.message ?? refused.map((g) => g.topic).join(', ')}`);

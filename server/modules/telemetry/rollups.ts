@@ -201,7 +201,7 @@ export async function recoverRollups(pool: Pool): Promise<number> {
          SELECT b.rig_id, s.socket, m.minute, count(*), sum(s.case_c), min(s.case_c), max(s.case_c), sum(s.i_a), max(b.stress_clock_s)
          FROM rollup_recovery m
          JOIN telemetry_batches b ON b.rig_id = m.rig_id AND b.ts >= m.minute AND b.ts < m.minute + interval '1 minute'
-         JOIN telemetry_samples s ON s.rig_id = b.rig_id AND s.seq = b.seq
+         CROSS JOIN LATERAL unnest(b.socket, b.case_c, b.i_a) AS s(socket, case_c, i_a)
          GROUP BY b.rig_id, s.socket, m.minute`,
       );
       rebuilt = ins.rowCount ?? 0;

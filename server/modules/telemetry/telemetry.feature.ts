@@ -11,6 +11,9 @@ import { MqttRigLink } from './rig-link';
 import { recoverRollups } from './rollups';
 import { pruneRejectedMessages, REJECTED_PRUNE_EVERY_MS, type RejectionRetention } from './rejections-retention';
 import { markQuietRigsOffline } from './telemetry.data';
+import type { IngestDeps } from './ingest';
+import cron from 'node-cron';
+import { runTelemetryUpkeep, UPKEEP_CRON, type UpkeepOptions } from './upkeep';
 
 /** A rig that sent nothing (telemetry or status) for this long is marked offline. */
 export const OFFLINE_AFTER_MS = 60_000;
@@ -25,6 +28,10 @@ export interface TelemetryFeatureOptions extends IngestOptions {
   sweepEveryMs?: number;
   /** rejected_messages retention (rejections-retention.ts) and how often it is applied. */
   rejections?: RejectionRetention & { pruneEveryMs?: number };
+  /** Chambers' reports, validated (server/features.ts hands in the chamber module's handler). */
+  onChamber?: IngestDeps['onChamber'];
+  /** Tier windows (default ctx.config.telemetryKeep) and the upkeep's cron expression (null: none; tests call runTelemetryUpkeep). */
+  upkeep?: Partial<UpkeepOptions> & { cronExpression?: string | null };
 }
 
 export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOptions = {}): Promise<() => Promise<void>> {
@@ -38,6 +45,7 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
       now: () => ctx.now(),
       publishStored: (rigCode, cmd) => link.publishStored(rigCode, cmd),
       onAck: (rigCode, ack) => link.onAck(rigCode, ack),
+      onChamber: opts.onChamber,
     },
     opts,
   );
@@ -106,8 +114,35 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
   }, opts.rejections?.pruneEveryMs ?? REJECTED_PRUNE_EVERY_MS);
   (prune as { unref?: () => void }).unref?.();
 
+  // Partitions, kept windows, the hourly tier (upkeep.ts): at start, then on the cron.
+  const upkeepOpts: UpkeepOptions = { ...ctx.config.telemetryKeep, ...opts.upkeep };
+  const upkeepExpr = opts.upkeep?.cronExpression === undefined ? UPKEEP_CRON : opts.upkeep.cronExpression;
+  let upkeepRun: Promise<void> = Promise.resolve();
+  const upkeep = () =>
+    (upkeepRun = upkeepRun.then(async () => {
+      if (stopping) return;
+      try {
+        const r = await runTelemetryUpkeep(pgPoolOf(ctx), upkeepOpts, ctx.now());
+        if (r.dropped.length) log(`upkeep dropped ${r.dropped.join(', ')} (kept ${r.kept} raw messages around events)`);
+      } catch (err) {
+        log(`telemetry upkeep failed (${(err as Error).message}); next run retries`);
+      }
+    }));
+  const upkeepTask = upkeepExpr
+    ? cron.createTask(upkeepExpr, () => void upkeep(), { name: 'emberlot-telemetry-upkeep', noOverlap: true })
+    : null;
+  if (upkeepTask) {
+    void upkeep();
+    void upkeepTask.start();
+  }
+
   return async () => {
     stopping = true;
+    if (upkeepTask) {
+      await upkeepTask.stop();
+      await upkeepTask.destroy();
+    }
+    await upkeepRun;
     await started;
     clearInterval(sweep);
     clearInterval(prune);

@@ -1,9 +1,12 @@
 /** Plan-check rules: the chamber and each applied voltage against the device's ratings. */
 import { estimateBvceo } from '../../physics';
+import { isUnbiasedKind } from '../../domain/stress';
 import { C, V, againstBreakdown, numbers, pct, sig, titled } from './format';
 import { WARN_FRACTION_OF_LIMIT, type PlanRule, type Severity } from './types';
 
-export const chamberVsTjMax: PlanRule = ({ chamber, device }) => {
+/** Biased kinds only: an unbiased chamber stress is judged against the storage rating (chamber.ts). */
+export const chamberVsTjMax: PlanRule = ({ chamber, device, plan }) => {
+  if (isUnbiasedKind(plan.kind)) return [];
   const over = chamber > device.tjMaxC;
   return [
     {

@@ -15,6 +15,11 @@ import { operatorCorrectReading } from './records';
 import { engineerTripReset } from './trip-reset';
 import { signoffApprovalsAudit } from './signoff';
 import { operatorStartPermit } from './start-permit';
+import { traceabilityReports } from './traceability';
+import { managerReplan } from './replan';
+import { managerCalendar } from './calendar';
+import { qualification } from './qualification';
+import { workingDay } from './working-day';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -40,8 +45,18 @@ export const JOURNEYS: Journey[] = [
   operatorCorrectReading,
   signoffApprovalsAudit,
   holdsReadPoint,
+  // Signs HG2609-D's verdict (approved for release) to download its certificate.
+  traceabilityReports,
+  // Reads the demo's due dates on the schedule and proposes (does not accept) a new order.
+  managerCalendar,
+  // Reads the demo qualifications (HG2612-C under stress) and makes one of its own: before the run started on OV-04.
+  qualification,
+  // Reads the demo bookings (OV-02, OV-06) and previews files only: before the start-permit journey books OV-04.
+  workingDay,
   // Books and starts a run on OV-04 (idle in the demo): after every journey that reads the schedule.
   operatorStartPermit,
+  // Books on OV-01 weeks ahead, puts it into maintenance and moves the run; cleans up after itself.
+  managerReplan,
   // Every screen of every role under axe: after the journeys that add data, before the offline rig.
   accessibilityEveryScreen,
   adminRigs,

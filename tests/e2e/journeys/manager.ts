@@ -82,7 +82,7 @@ export const managerTrends: Journey = {
       ['csv', 'text/csv'],
       ['pdf', 'application/pdf'],
     ] as const) {
-      const r = await page.request.get(`${j.baseUrl}/api/analytics/lots/${lotId}/report.${kind}`);
+      const r = await page.request.get(`${j.baseUrl}/api/reports/lots/${lotId}/report.${kind}`);
       if (r.status() !== 200 || !(r.headers()['content-type'] ?? '').startsWith(type)) {
         throw new Error(`report.${kind}: ${r.status()} ${r.headers()['content-type']}`);
       }

@@ -116,7 +116,12 @@ export const operatorFloor: Journey = {
     await j.shot('acknowledge-dialog');
     await dialog.getByRole('button', { name: 'Acknowledge', exact: true }).click();
     await expect(page.getByRole('dialog')).toHaveCount(0, 15000);
-    await expect(page.getByText(`Acknowledged: ${alarmTitle}.`)).toBeVisible();
+    // The confirmation says who and when; the alarm leaves the open list at once.
+    const ackNotice = page.getByTestId('alarm-ack-notice');
+    await expect(ackNotice).toContainText(
+      new RegExp(`^Acknowledged by Priya Castell on \\d{4}-\\d{2}-\\d{2} \\d{2}:\\d{2}: ${alarmTitle.replace(/[().+]/g, '\\$&')}\\.`),
+    );
+    await expect(page.getByRole('button', { name: `Acknowledge ${alarmTitle}`, exact: true })).toHaveCount(0, 10000);
     // It now sits under "Acknowledged" with the note and who wrote it.
     await page.getByRole('radio', { name: 'Acknowledged', exact: true }).click();
     await expect(
@@ -134,7 +139,8 @@ export const operatorFloor: Journey = {
       .slice(0, 3);
     if (serials.length < 3) throw new Error('OV-03 has fewer than three loaded sockets');
     const csv = [
-      'serial,hfe,hfe_ic_a,hfe_vce_v,icbo_a,icbo_vcb_v,vcesat_v',
+      // Units in the headers (issue #23 item 4): ICBO in nA, the rest in A and V.
+      'serial,hfe,hfe_ic_a,hfe_vce_v,icbo_na,icbo_vcb_v,vcesat_v',
       `${serials[0]},72.1,1,5,35,80,0.42`,
       `${serials[1]},70.3,1,5,41,80,0.45`,
       `${serials[2]},abc,1,5,38,80,0.44`,

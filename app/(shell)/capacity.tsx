@@ -1,0 +1,3 @@
+import { CapacityScreen } from '@/components/capacity/CapacityScreen';
+
+export default CapacityScreen;

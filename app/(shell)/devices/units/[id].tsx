@@ -1,0 +1,3 @@
+import { DeviceHistoryScreen } from '@/components/devices/DeviceHistoryScreen';
+
+export default DeviceHistoryScreen;

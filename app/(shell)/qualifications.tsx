@@ -1,0 +1,3 @@
+import { QualificationsScreen } from '@/components/qualifications/QualificationsScreen';
+
+export default QualificationsScreen;

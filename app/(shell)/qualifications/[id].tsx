@@ -1,0 +1,3 @@
+import { QualificationScreen } from '@/components/qualifications/QualificationScreen';
+
+export default QualificationScreen;

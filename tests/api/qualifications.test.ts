@@ -1,0 +1,395 @@
+/**
+ * Qualifications (issue #22 item 1): created from a template, cells filled from the runs of their
+ * kind on their lot with the lot verdict's own judgement, waivers with a reason, outside results for
+ * groups with no run kind, bad input refused with nothing changed, roles; and the report (PDF and
+ * CSV) compared with the lot views for the same lots.
+ *
+ * Sample sizes in the AEC-Q101 template (3 lots × 77, accept 0) are from memory (shared/REFERENCE.md
+ * A9) — the test checks that the matrix carries the template's numbers, not that they are right.
+ */
+import { randomUUID } from 'node:crypto';
+import { parse } from 'csv-parse/sync';
+import {
+  AuditLogEntity,
+  DeviceEntity,
+  DeviceTypeEntity,
+  LotEntity,
+  RigEntity,
+  RunEntity,
+  RunLotEntity,
+  StressPlanEntity,
+} from '../../server/db/entities';
+import { insertHistoryRun } from '../../server/seed/seed-history';
+import type { LotDetail } from '../../shared/schemas/analytics';
+import type { QualificationDetail } from '../../shared/schemas/qualifications';
+import { QUAL_TEMPLATES } from '../../shared/qualification/templates';
+import { createTestApp, type TestApp } from '../support/api';
+import { insertTestDeviceType, tableCounts } from '../support/db';
+
+let t: TestApp;
+const ids: Record<string, string> = {};
+let plan: StressPlanEntity;
+let rig: RigEntity;
+
+async function addLot(code: string, typeId: string): Promise<{ lot: LotEntity; devices: DeviceEntity[] }> {
+  const m = t.ctx.ds.manager;
+  const lot = await m.save(m.create(LotEntity, { code, deviceTypeId: typeId, quantity: 1000, notes: '' }));
+  const devices = await m.save(
+    Array.from({ length: 20 }, (_, i) =>
+      m.create(DeviceEntity, { lotId: lot.id, serial: `${code.slice(-1)}${String(i + 1).padStart(4, '0')}` }),
+    ),
+  );
+  ids[code] = lot.id;
+  return { lot, devices };
+}
+
+let lotC: { lot: LotEntity; devices: DeviceEntity[] };
+
+beforeAll(async () => {
+  t = await createTestApp();
+  const m = t.ctx.ds.manager;
+  rig = await m.save(
+    m.create(RigEntity, {
+      code: 'OV-97',
+      name: 'qualification test oven',
+      socketCount: 64,
+      maxTempC: 200,
+      maxVoltageV: 800,
+      mqttUsername: 'rig-ov-97',
+      mqttSecretHash: 'x',
+      credentialsIssuedAt: new Date(),
+      calibrationDueAt: new Date('2027-06-01T00:00:00Z'),
+    }),
+  );
+  const type = await insertTestDeviceType(m, 'HPD-Q100');
+  const other = await insertTestDeviceType(m, 'HPD-Q200');
+  ids.type = type.id;
+  ids.other = other.id;
+  plan = await m.save(
+    m.create(StressPlanEntity, {
+      planKey: randomUUID(),
+      version: 1,
+      name: 'HTRB qualification plan',
+      kind: 'htrb',
+      deviceTypeId: type.id,
+      chamberC: 145,
+      humidityPct: null,
+      bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
+      durationH: 1000,
+      readPointsH: [0, 168, 500, 1000],
+      sampleSize: 20,
+      acceptNumber: 0,
+      criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
+      eaEv: 0.7,
+      useC: 55,
+    }),
+  );
+  const history = (
+    code: string,
+    l: { lot: LotEntity; devices: DeviceEntity[] },
+    state: 'finished' | 'stressing',
+    failures?: Array<{ serial: string; atH: number; mode: 'gain' }>,
+  ) =>
+    insertHistoryRun(m, {
+      code,
+      plan,
+      deviceType: type,
+      rig,
+      lots: [{ ...l, drift: { hfeDriftPctPer1000h: -2, leakageGrowthPer1000h: 1.2 } }],
+      state,
+      startedAt: new Date(Date.now() - 60 * 86400_000),
+      stressHours: state === 'finished' ? 1000 : 560,
+      measuredH: state === 'finished' ? [0, 168, 500, 1000] : [0, 168, 500],
+      noise: 0,
+      failures,
+    });
+  await history('R-QA', await addLot('HG9801-A', type.id), 'finished');
+  await history('R-QB', await addLot('HG9801-B', type.id), 'stressing');
+  lotC = await addLot('HG9801-C', type.id);
+  await addLot('HG9801-X', other.id);
+});
+afterAll(async () => {
+  await t.close();
+});
+
+const cellsOf = (d: QualificationDetail, groupKey: string) => d.cells.filter((c) => c.groupKey === groupKey);
+let qual: QualificationDetail;
+
+describe('create from a template', () => {
+  test('AEC-Q101 with three lots: a cell per group and lot, samples from the template', async () => {
+    const eng = await t.signIn('engineer');
+    const res = await eng.post('/api/qualifications').send({
+      name: 'HPD-Q100 automotive',
+      templateKey: 'aec-q101',
+      deviceTypeIds: [ids.type],
+      lotIds: [ids['HG9801-A'], ids['HG9801-B'], ids['HG9801-C']],
+    });
+    expect(res.status).toBe(201);
+    qual = res.body;
+    const tpl = QUAL_TEMPLATES['aec-q101'];
+    const expected = tpl.groups.reduce((n, g) => n + Math.min(g.lots, 3), 0);
+    expect(qual.cells).toHaveLength(expected); // 5 groups × 3 lots + 4 one-lot groups = 19
+    expect(expected).toBe(19);
+    expect(qual.code).toMatch(/^QUAL-\d{3}$/);
+    const htrb = cellsOf(qual, 'htrb');
+    expect(htrb.map((c) => [c.lotCode, c.plannedSample, c.acceptNumber])).toEqual([
+      ['HG9801-A', 77, 0],
+      ['HG9801-B', 77, 0],
+      ['HG9801-C', 77, 0],
+    ]);
+    // Preconditioned groups first (AEC-Q101: preconditioning before TC, AC, H3TRB, IOL — from memory).
+    const order = [...new Set(qual.cells.map((c) => c.groupKey))];
+    expect(order.slice(0, 4)).toEqual(['tc', 'ac', 'h3trb', 'iol']);
+    expect(qual.status).toBe('in-progress');
+    const audit = await t.ctx.ds.getRepository(AuditLogEntity).findOneBy({ action: 'qualification.create', entityId: qual.id });
+    expect(audit?.actor).toBe('engineer@test.example');
+  });
+
+  test('cells take their state and verdict from the lot views', async () => {
+    const eng = await t.signIn('engineer');
+    const [a, b, c] = cellsOf(qual, 'htrb');
+    const viewA: LotDetail = (await eng.get(`/api/analytics/lots/${ids['HG9801-A']}`)).body;
+    const planA = viewA.plans.find((p) => p.kind === 'htrb')!;
+    expect(planA.verdict).toBe('passed');
+    // The lot passed its plan's 20 devices; the cell plans the template's 77: not passed yet (common practice).
+    expect(a.state).toBe('awaiting-verdict');
+    expect(a.verdictReasons[0]).toBe('The verdict judged 20 devices; this cell plans 77.');
+    expect(a.verdict).toBe(planA.verdict);
+    expect(a.sample).toEqual({ booked: planA.sample.booked, judged: planA.sample.judged, failures: planA.sample.failures });
+    expect(a.runs.map((r) => r.code)).toEqual(['R-QA']);
+    expect(b.state).toBe('under-stress');
+    expect(b.runs.map((r) => r.state)).toEqual(['stressing']);
+    expect(c.state).toBe('not-started');
+    expect(c.runs).toEqual([]);
+    // TC has no plan kind on this branch's plans yet: not started, with no projection.
+    for (const x of cellsOf(qual, 'tc')) {
+      expect(x.state).toBe('not-started');
+      expect(x.projectedFinish).toBeNull();
+    }
+    expect(qual.projectedFinish).toBeNull();
+    expect(qual.left.some((l) => l.includes('Temperature cycling (TC) on lot HG9801-A: not started'))).toBe(true);
+  });
+
+  test('the cell fills as runs land: booked, then failed when the lot verdict fails', async () => {
+    const eng = await t.signIn('engineer');
+    const m = t.ctx.ds.manager;
+    const start = new Date(Date.now() + 2 * 86400_000);
+    const booked = await m.save(
+      m.create(RunEntity, {
+        code: 'R-QC0',
+        planId: plan.id,
+        rigId: rig.id,
+        state: 'booked',
+        sampleSize: 20,
+        scheduledStart: start,
+        scheduledEnd: new Date(start.getTime() + 1100 * 3600_000),
+        stateChangedAt: new Date(),
+      }),
+    );
+    await m.insert(RunLotEntity, { runId: booked.id, lotId: lotC.lot.id });
+    let d: QualificationDetail = (await eng.get(`/api/qualifications/${qual.id}`)).body;
+    let c = cellsOf(d, 'htrb')[2];
+    expect(c.state).toBe('booked');
+    expect(c.projectedFinish).not.toBeNull();
+    expect(c.runs[0].projectedEnd).toBe(c.projectedFinish);
+    expect(Date.parse(c.projectedFinish!)).toBeGreaterThanOrEqual(start.getTime());
+
+    await m.delete(RunEntity, { id: booked.id });
+    await insertHistoryRun(m, {
+      code: 'R-QC',
+      plan,
+      deviceType: await m.findOneByOrFail(DeviceTypeEntity, { id: ids.type }),
+      rig,
+      lots: [{ ...lotC, drift: { hfeDriftPctPer1000h: -2, leakageGrowthPer1000h: 1.2 } }],
+      state: 'finished',
+      startedAt: new Date(Date.now() - 60 * 86400_000),
+      stressHours: 1000,
+      measuredH: [0, 168, 500, 1000],
+      noise: 0,
+      failures: [{ serial: 'C0003', atH: 500, mode: 'gain' }],
+    });
+    d = (await eng.get(`/api/qualifications/${qual.id}`)).body;
+    c = cellsOf(d, 'htrb')[2];
+    const viewC: LotDetail = (await eng.get(`/api/analytics/lots/${ids['HG9801-C']}`)).body;
+    const planC = viewC.plans.find((p) => p.kind === 'htrb')!;
+    expect(planC.verdict).toBe('failed');
+    expect(c.state).toBe('failed');
+    expect(c.sample?.failures).toBe(planC.sample.failures);
+    expect(c.sample?.failures).toBe(1);
+    expect(d.status).toBe('failed');
+    qual = d;
+  });
+});
+
+describe('waivers and outside results', () => {
+  test('a waiver without a reason is refused and changes nothing; with one it is recorded and audited', async () => {
+    const eng = await t.signIn('engineer');
+    const cell = cellsOf(qual, 'sd')[0];
+    const before = await tableCounts(t.ctx.ds);
+    const bad = await eng.post(`/api/qualifications/${qual.id}/cells/${cell.id}/waiver`).send({ reason: '  short ' });
+    expect(bad.status).toBe(400);
+    expect(bad.body.error.fields.reason[0]).toMatch(/at least 10 characters/);
+    const none = await eng.post(`/api/qualifications/${qual.id}/cells/${cell.id}/waiver`).send({});
+    expect(none.status).toBe(400);
+    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+    const ok = await eng
+      .post(`/api/qualifications/${qual.id}/cells/${cell.id}/waiver`)
+      .send({ reason: 'Same lead frame and plating as HPD-Q050, solderability shown on its qualification.' });
+    expect(ok.status).toBe(200);
+    const waived = ok.body.cells.find((c: { id: string }) => c.id === cell.id);
+    expect(waived.state).toBe('waived');
+    expect(waived.waiver.by).toBe('Test engineer');
+    const audit = await t.ctx.ds.getRepository(AuditLogEntity).findOneBy({ action: 'qualification.cell-waive', entityId: qual.id });
+    expect(audit?.reason).toMatch(/Same lead frame/);
+  });
+
+  test('an outside result: only for a group with no run kind, validated, then the cell passes', async () => {
+    const eng = await t.signIn('engineer');
+    const esd = cellsOf(qual, 'esd-hbm')[0];
+    const htrb = cellsOf(qual, 'htrb')[2];
+    const body = { result: 'pass', by: 'Harrowgate ESD bench', at: '2026-11-02T10:00:00Z', document: 'HPD-ESD-0412' };
+    const before = await tableCounts(t.ctx.ds);
+    expect((await eng.post(`/api/qualifications/${qual.id}/cells/${htrb.id}/external`).send(body)).status).toBe(422);
+    const badDate = await eng.post(`/api/qualifications/${qual.id}/cells/${esd.id}/external`).send({ ...body, at: 'yesterday' });
+    expect(badDate.status).toBe(400);
+    expect(badDate.body.error.fields.at).toBeDefined();
+    const badResult = await eng.post(`/api/qualifications/${qual.id}/cells/${esd.id}/external`).send({ ...body, result: 'ok' });
+    expect(badResult.status).toBe(400);
+    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+    const ok = await eng.post(`/api/qualifications/${qual.id}/cells/${esd.id}/external`).send(body);
+    expect(ok.status).toBe(200);
+    const cell = ok.body.cells.find((c: { id: string }) => c.id === esd.id);
+    expect(cell.state).toBe('passed');
+    expect(cell.external).toMatchObject({
+      result: 'pass',
+      by: 'Harrowgate ESD bench',
+      document: 'HPD-ESD-0412',
+      recordedBy: 'Test engineer',
+    });
+    expect((await eng.post(`/api/qualifications/${qual.id}/cells/${esd.id}/external`).send(body)).status).toBe(409);
+  });
+
+  test('editing a cell: accept number below the sample; the pass stands once the cell asks for the sample judged', async () => {
+    const eng = await t.signIn('engineer');
+    const cell = cellsOf(qual, 'htrb')[0];
+    expect((await eng.patch(`/api/qualifications/${qual.id}/cells/${cell.id}`).send({ plannedSample: 5, acceptNumber: 5 })).status).toBe(
+      422,
+    );
+    expect((await eng.patch(`/api/qualifications/${qual.id}/cells/${cell.id}`).send({})).status).toBe(400);
+    const ok = await eng.patch(`/api/qualifications/${qual.id}/cells/${cell.id}`).send({ plannedSample: 20 });
+    expect(ok.status).toBe(200);
+    const edited = ok.body.cells.find((c: { id: string }) => c.id === cell.id);
+    expect(edited.plannedSample).toBe(20);
+    // With the cell's sample at the 20 the lot was judged on, the lot verdict's pass stands.
+    expect(edited.state).toBe('passed');
+    const audit = await t.ctx.ds.getRepository(AuditLogEntity).findOneBy({ action: 'qualification.cell-update', entityId: qual.id });
+    expect(audit?.details).toMatchObject({ before: { plannedSample: 77 }, after: { plannedSample: 20 } });
+  });
+});
+
+describe('bad input and roles', () => {
+  test('a family needs its generic-data rule; a lot of another part is refused; nothing changes', async () => {
+    const eng = await t.signIn('engineer');
+    const before = await tableCounts(t.ctx.ds);
+    const family = await eng
+      .post('/api/qualifications')
+      .send({ name: 'Family', templateKey: 'jesd47', deviceTypeIds: [ids.type, ids.other], lotIds: [ids['HG9801-A']] });
+    expect(family.status).toBe(400);
+    expect(family.body.error.fields.familyRule[0]).toMatch(/generic-data rule/);
+    const foreign = await eng
+      .post('/api/qualifications')
+      .send({ name: 'Wrong lot', templateKey: 'jesd47', deviceTypeIds: [ids.type], lotIds: [ids['HG9801-X']] });
+    expect(foreign.status).toBe(422);
+    expect(foreign.body.error.message).toMatch(/HG9801-X/);
+    const badTemplate = await eng
+      .post('/api/qualifications')
+      .send({ name: 'X', templateKey: 'aec-q999', deviceTypeIds: [ids.type], lotIds: [ids['HG9801-A']] });
+    expect(badTemplate.status).toBe(400);
+    const missing = await eng
+      .post('/api/qualifications')
+      .send({ name: 'Missing lot', templateKey: 'jesd47', deviceTypeIds: [ids.type], lotIds: [randomUUID()] });
+    expect(missing.status).toBe(422);
+    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+    const ok = await eng.post('/api/qualifications').send({
+      name: 'HPD-Q family',
+      templateKey: 'mil-prf-19500',
+      deviceTypeIds: [ids.type, ids.other],
+      lotIds: [ids['HG9801-A'], ids['HG9801-X']],
+      familyRule: 'HPD-Q100 and HPD-Q200 share die and package; the larger die (Q100) stands for both in life tests.',
+    });
+    expect(ok.status).toBe(201);
+    expect(ok.body.familyRule).toMatch(/share die and package/);
+    // MIL-PRF-19500 groups ask for one lot each: no cell on the second lot.
+    expect(ok.body.cells.every((c: { lotCode: string }) => c.lotCode === 'HG9801-A')).toBe(true);
+  });
+
+  test('roles: managers read and download, only engineers change; operators do not read', async () => {
+    const mgr = await t.signIn('manager');
+    expect((await mgr.get('/api/qualifications')).status).toBe(200);
+    expect((await mgr.get(`/api/qualifications/${qual.id}`)).status).toBe(200);
+    expect((await mgr.post('/api/qualifications').send({})).status).toBe(403);
+    const cell = qual.cells[0];
+    expect((await mgr.post(`/api/qualifications/${qual.id}/cells/${cell.id}/waiver`).send({ reason: 'a reason long enough' })).status).toBe(
+      403,
+    );
+    const op = await t.signIn('operator');
+    expect((await op.get('/api/qualifications')).status).toBe(403);
+    expect((await op.get(`/api/qualifications/${qual.id}/report.pdf`)).status).toBe(403);
+    const eng = await t.signIn('engineer');
+    expect((await eng.get(`/api/qualifications/${randomUUID()}`)).status).toBe(404);
+    expect((await eng.get('/api/qualifications/not-an-id')).status).toBe(400);
+  });
+});
+
+describe('report', () => {
+  test('PDF: a real PDF of several pages', async () => {
+    const mgr = await t.signIn('manager');
+    const res = await mgr
+      .get(`/api/qualifications/${qual.id}/report.pdf`)
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on('data', (c: Buffer) => chunks.push(c));
+        r.on('end', () => cb(null, Buffer.concat(chunks)));
+      });
+    expect(res.status).toBe(200);
+    expect(res.headers['content-type']).toBe('application/pdf');
+    const pdf: Buffer = res.body;
+    expect(pdf.subarray(0, 5).toString()).toBe('%PDF-');
+    expect(pdf.length).toBeGreaterThan(5000);
+    const pages = pdf.toString('latin1').match(/\/Type \/Page\b/g) ?? [];
+    expect(pages.length).toBeGreaterThanOrEqual(2);
+  });
+
+  test("the CSV's numbers per cell match the lot views (sample, failures, FIT, verdict)", async () => {
+    const mgr = await t.signIn('manager');
+    const res = await mgr.get(`/api/qualifications/${qual.id}/report.csv`);
+    expect(res.status).toBe(200);
+    expect(res.headers['content-type']).toMatch(/^text\/csv/);
+    const rows: string[][] = parse(res.text, { relax_column_count: true });
+    const header = rows.findIndex((r) => r[0] === 'Group' && r[1] === 'Lot');
+    expect(header).toBeGreaterThan(0);
+    const col = (name: string) => rows[header].indexOf(name);
+    const htrbRows = rows.slice(header + 1).filter((r) => r[0] === 'High-temperature reverse bias (HTRB)');
+    expect(htrbRows.map((r) => r[1])).toEqual(['HG9801-A', 'HG9801-B', 'HG9801-C']);
+    let compared = 0;
+    for (const r of htrbRows) {
+      const view: LotDetail = (await mgr.get(`/api/analytics/lots/${ids[r[1]]}`)).body;
+      const p = view.plans.find((x) => x.kind === 'htrb')!;
+      expect(Number(r[col('Booked')])).toBe(p.sample.booked);
+      expect(Number(r[col('Judged')])).toBe(p.sample.judged);
+      expect(Number(r[col('Failures')])).toBe(p.sample.failures);
+      expect(r[col('Verdict')]).toBe(
+        { passed: 'Passed', failed: 'Failed', 'in-progress': 'In progress' }[p.verdict as string] ?? p.verdict,
+      );
+      if (p.fit) {
+        expect(Number(r[col('FIT 60 %')])).toBeCloseTo(p.fit.fit60, 4);
+        expect(Number(r[col('FIT 90 %')])).toBeCloseTo(p.fit.fit90, 4);
+        compared++;
+      }
+    }
+    expect(compared).toBeGreaterThanOrEqual(2);
+    expect(res.text).toMatch(/Waiver,Solderability,HG9801-A/);
+    expect(res.text).toMatch(/\r\nHG9801-A,R-QA,OV-97,qualification test oven,/);
+  });
+});

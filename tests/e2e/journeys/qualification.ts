@@ -1,0 +1,95 @@
+import * as fs from 'node:fs';
+import type { Download } from 'playwright-core';
+import { expect } from './expect';
+import { DEMO } from './foundation';
+import type { Journey } from '../harness';
+
+/**
+ * Qualifications (issue #22): an engineer creates a qualification from the AEC-Q101 template for
+ * HPD-2N140 on its three demo lots and sees the matrix (HTRB passed on HG2611-A's runs, under
+ * stress on HG2612-C), opens a cell; a manager opens the complete demo qualification QUAL-002 and
+ * downloads its PDF and CSV (status, content type, size, page count, a known cell value).
+ */
+export const qualification: Journey = {
+  name: 'qualification',
+  run: async (j) => {
+    const { page } = j;
+    const name = `HPD-2N140 release ${j.unique}`;
+
+    // --- Engineer: create from a template --------------------------------------------------------
+    await page.context().clearCookies();
+    await j.signIn(DEMO.engineer.email, DEMO.engineer.password);
+    await page.waitForURL((u) => u.pathname === '/plans');
+    await j.navTo('Qualifications');
+    await page.waitForURL((u) => u.pathname === '/qualifications');
+    await expect(page.getByTestId('qual-item-QUAL-001')).toBeVisible();
+    const form = page.getByTestId('qual-new');
+    await form.scrollIntoViewIfNeeded();
+    await form.getByTestId('qual-name').fill(name);
+    await form.getByRole('radio', { name: 'AEC-Q101 discrete qualification' }).click();
+    await expect(form.getByTestId('qual-template-note')).toContainText("confirm against the standard's current revision");
+    await form.getByTestId('qual-type-HPD-2N140').click();
+    for (const lot of ['HG2611-A', 'HG2611-B', 'HG2612-C']) await form.getByTestId(`qual-lot-${lot}`).click();
+    await j.shot('qual-create-form');
+    await form.getByTestId('qual-create').click();
+    await page.waitForURL((u) => /^\/qualifications\/[0-9a-f-]{36}$/.test(u.pathname));
+    await expect(page.getByRole('heading', { name: new RegExp(`QUAL-\\d{3} · ${name}`) })).toBeVisible();
+    await expect(page.getByTestId(j.size === 'phone' ? 'qual-matrix-cards' : 'qual-matrix-grid')).toBeVisible();
+    const htrbA = page.getByTestId('qual-cell-htrb-HG2611-A');
+    await expect(htrbA).toBeVisible();
+    await expect(page.getByTestId('qual-cell-htrb-HG2612-C')).toContainText('Under stress');
+    await expect(page.getByTestId('qual-cell-tc-HG2611-A')).toContainText('Not started');
+    await expect(page.getByTestId('qual-status')).toContainText('In progress');
+    await j.checkA11y('qualification matrix');
+    await j.shot('qual-matrix');
+    await htrbA.click();
+    const panel = page.getByTestId('qual-cell-panel');
+    await expect(panel).toContainText('Lot verdict for this stress: Passed');
+    await expect(panel).toContainText('Run HTRB-2611-A');
+    await expect(panel).toContainText("confirm against the standard's current revision");
+    await panel.scrollIntoViewIfNeeded();
+    await j.shot('qual-cell-panel');
+
+    // --- Manager: read the complete one and download both files ---------------------------------
+    await page.context().clearCookies();
+    await j.signIn(DEMO.manager.email, DEMO.manager.password);
+    await page.waitForURL((u) => u.pathname === '/trends');
+    await j.navTo('Qualifications');
+    await page.waitForURL((u) => u.pathname === '/qualifications');
+    await expect(page.getByTestId('qual-new')).toHaveCount(0);
+    await page.getByTestId('qual-item-QUAL-002').click();
+    await page.waitForURL((u) => /^\/qualifications\/[0-9a-f-]{36}$/.test(u.pathname));
+    await expect(page.getByTestId('qual-status')).toContainText('Complete');
+    await expect(page.getByTestId('qual-cell-c-life-HG2606-K')).toContainText('Passed');
+    await expect(page.getByTestId('qual-cell-e-iol-HG2606-K')).toContainText('Waived');
+    await j.checkA11y('complete qualification');
+    await j.shot('qual-complete');
+
+    const fetchFile = async (testId: string): Promise<{ d: Download; body: Buffer }> => {
+      const [d] = await Promise.all([page.waitForEvent('download', { timeout: 30000 }), page.getByTestId(testId).click()]);
+      const p = await d.path();
+      if (!p) throw new Error(`${testId}: the download failed (${await d.failure()})`);
+      return { d, body: fs.readFileSync(p) };
+    };
+    const pdf = await fetchFile('qual-download-pdf');
+    if (pdf.d.suggestedFilename() !== 'qualification-QUAL-002-report.pdf') throw new Error(`PDF named ${pdf.d.suggestedFilename()}`);
+    if (pdf.body.subarray(0, 5).toString('latin1') !== '%PDF-') throw new Error('the PDF does not start with %PDF-');
+    const pages = (pdf.body.toString('latin1').match(/\/Type \/Page\b/g) ?? []).length;
+    if (pdf.body.length < 5000 || pages < 2) throw new Error(`the PDF looks thin: ${pdf.body.length} B, ${pages} pages`);
+    const csv = await fetchFile('qual-download-csv');
+    if (csv.d.suggestedFilename() !== 'qualification-QUAL-002-report.csv') throw new Error(`CSV named ${csv.d.suggestedFilename()}`);
+    const text = csv.body.toString('utf8');
+    if (!/Group C steady-state operating life,HG2606-K,hotl,.*,45,0,45,45,0,Passed,Passed,/.test(text))
+      throw new Error(`the CSV lacks the group C life cell: ${text.slice(0, 400)}`);
+    const id = new URL(page.url()).pathname.split('/').pop();
+    for (const [kind, type] of [
+      ['csv', 'text/csv'],
+      ['pdf', 'application/pdf'],
+    ] as const) {
+      const r = await page.request.get(`${j.baseUrl}/api/qualifications/${id}/report.${kind}`);
+      if (r.status() !== 200 || !(r.headers()['content-type'] ?? '').startsWith(type))
+        throw new Error(`report.${kind}: ${r.status()} ${r.headers()['content-type']}`);
+    }
+    j.log(`downloads: PDF ${pdf.body.length} B, ${pages} pages; CSV ${csv.body.length} B`);
+  },
+};
