@@ -47,6 +47,11 @@ interface DemoLiveRun {
   cycles?: number;
   /** Booked runs: start this many stress-clock hours from now. */
   startsInH?: number;
+  /**
+   * Booked to start once the runs already on its rig have ended: a run that shared the oven with them
+   * would hold its read points while they still need it hot (the sharing rule, shared/scheduling/sharing.ts).
+   */
+  afterRunsOnRig?: boolean;
   /** Why the sample may be smaller than the plan asks (recorded deviation, issue #19). */
   deviation?: string;
   /** The request's due date, this many stress-clock hours from now, and its priority (1 low … 4 urgent). */
@@ -120,6 +125,7 @@ const DEMO_LIVE_RUNS: DemoLiveRun[] = [
     perLot: 24,
     skip: 77,
     startsInH: 6,
+    afterRunsOnRig: true,
     deviation: 'Extended-life monitor of the spares of two passed lots; 48 devices by agreement.',
     dueInH: 2400,
     priority: 1,
@@ -166,8 +172,12 @@ async function insertLiveRun(
   const timing = timingFrom(configFromEnv());
   const now = Date.now();
   const hours = s.stressHours ?? 0;
-  const startMs =
+  let startMs =
     s.state === 'booked' ? now + (s.startsInH ?? 6) * timing.msPerClockH : now - (hours + timing.heatingAllowanceH) * timing.msPerClockH;
+  if (s.state === 'booked' && s.afterRunsOnRig) {
+    const onRig = await m.find(RunEntity, { where: { rigId: rig.id, state: In([...ON_RIG_STATES]) } });
+    for (const r of onRig) if (r.scheduledEnd) startMs = Math.max(startMs, r.scheduledEnd.getTime() + timing.msPerClockH);
+  }
   const endMs = startMs + runDurationMs(plan, timing);
   const rps = [...plan.readPointsH].sort((a, b) => a - b);
   const started = s.state === 'heating' || s.state === 'stressing';

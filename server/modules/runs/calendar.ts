@@ -96,12 +96,16 @@ export async function calendarProposal(ctx: AppContext, t: TimingOptions): Promi
     booked.map((r) => ({ endMs: current.get(r.id)!.endMs, dueMs: r.dueAt?.getTime() ?? null, weight: priorityWeight(r.priority) })),
     t.msPerClockH,
   );
+  // Never propose an order worse than the bookings as they stand when those keep the sharing rule
+  // (the heuristic above 7 runs can land worse than a valid calendar it did not start from).
+  const keepAsBooked =
+    plan.unplaced.length === 0 && runs.every((r) => r.currentConflicts.length === 0) && plan.weightedTardinessH >= currentWeighted;
   return {
     method: plan.method,
     now: iso(nowMs),
     currentWeightedLateH: Math.round(currentWeighted * 10) / 10,
-    proposedWeightedLateH: Math.round(plan.weightedTardinessH * 10) / 10,
-    runs,
+    proposedWeightedLateH: Math.round((keepAsBooked ? currentWeighted : plan.weightedTardinessH) * 10) / 10,
+    runs: keepAsBooked ? runs.map((r) => ({ ...r, proposed: { ...r.current }, moved: false })) : runs,
     unplaced: plan.unplaced.map((u) => ({ runId: u.jobId, code: u.code, reasons: u.reasons })),
   };
 }
