@@ -25,7 +25,7 @@ import { DeviceTypeForm } from '@/components/forms/LazyForms';
 import { lotHref } from './links';
 import { LotTable } from './LotTable';
 import { amps, celsius, sig, volts, watts } from './format';
-import { DEVICE_HELP } from './help';
+import { BVCBO_HELP } from './help-bvcbo';
 import { NewLotForm } from '@/components/forms/LazyForms';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
@@ -152,7 +152,7 @@ function Ratings({ d }: { d: DeviceType }) {
   return (
     <Columns>
       <Card title="Breakdown" padding="md">
-        <Rating label="BVCBO" value={volts(d.bvcboV)} help={DEVICE_HELP.bvcboV.split('. ')[0] + '.'} />
+        <Rating label="BVCBO" value={volts(d.bvcboV)} help={BVCBO_HELP.split('. ')[0] + '.'} />
         <Rating
           label="BVCEO"
           value={d.bvceoV === null ? `not given (n = ${sig(d.breakdownN)})` : volts(d.bvceoV)}

@@ -1,3 +1,5 @@
+import { BVCBO_HELP } from './help-bvcbo';
+
 /**
  * Inline help for the device-type form, in the lab's own words. Each line says what the rating is,
  * where it sits on a data sheet, and why the plan check needs it.
@@ -6,9 +8,7 @@ export const DEVICE_HELP = {
   partNumber: 'As printed on the traveller, e.g. HPD-2N140. Must be unique in the lab.',
   kind: 'Bipolar transistors get the full gain–temperature runaway check; MOSFETs and diodes get the breakdown and dissipation checks.',
   polarity: 'Voltages are entered as magnitudes for PNP and P-channel parts too.',
-  bvcboV:
-    'BVCBO: collector-base breakdown with the emitter open. The highest reverse voltage the collector junction holds on its own. ' +
-    'HTRB and THB bias is set as a fraction of it (80 % is usual).',
+  bvcboV: BVCBO_HELP,
   bvceoV:
     'BVCEO: collector-emitter breakdown with the base open. Lower than BVCBO because the transistor amplifies its own avalanche ' +
     'current — often about half. Leave empty if the data sheet does not give it; Emberlot then estimates it from BVCBO and the gain.',

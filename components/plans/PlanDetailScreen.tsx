@@ -22,7 +22,7 @@ import { SafetyCaution } from '@/components/ui/SafetyCaution';
 import { Badge } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { CheckStatusPill } from './CheckStatusPill';
-import { KIND_HELP } from './help';
+import { KIND_HELP } from './kind-help';
 import { PlanCheckPanel } from './PlanCheckPanel';
 import { planHref } from './links';
 

@@ -19,7 +19,8 @@ import { AC_CONDITIONS, AC_CONDITION_CODES, CHAMBER_CAUTION } from '@/shared/dom
 import type { DeviceType } from '@/shared/schemas/devices';
 import { PLAN_KINDS, PLAN_KIND_LABEL } from '@/shared/domain/stress';
 import type { PlanTemplate } from '@/shared/schemas/plans';
-import { KIND_HELP, PLAN_HELP } from './help';
+import { PLAN_HELP } from './help';
+import { KIND_HELP } from './kind-help';
 import { SourceNote } from './SourceNote';
 import { fieldsFor, maxBiasV, type FormErrors, type FormKey, type FormState } from './plan-form-model';
 import { KIND_SHORT } from './links';

@@ -25,7 +25,8 @@ import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { LOT_VERDICT_LABEL } from '@/shared/domain/verdicts';
-import { CELL_STATE_LABEL, QUAL_STATUS_LABEL, WAIVER_REASON_MIN, basisWords, type QualGroup } from '@/shared/qualification/templates';
+import type { QualGroup } from '@/shared/qualification/templates';
+import { CELL_STATE_LABEL, QUAL_STATUS_LABEL, WAIVER_REASON_MIN, basisWords } from '@/shared/qualification/words';
 import type { QualCellView, QualificationDetail } from '@/shared/schemas/qualifications';
 import { CELL_TONE, STATUS_TONE } from './labels';
 

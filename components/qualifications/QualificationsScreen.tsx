@@ -22,7 +22,7 @@ import { QueryState } from '@/components/ui/QueryState';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
-import { CONFIRM_WORDS, FAMILY_RULE_MIN, QUAL_STATUS_LABEL, type QualTemplateKey } from '@/shared/qualification/templates';
+import { CONFIRM_WORDS, FAMILY_RULE_MIN, QUAL_STATUS_LABEL, type QualTemplateKey } from '@/shared/qualification/words';
 import { STATUS_TONE } from './labels';
 
 function Chip({ label, selected, onPress, testID }: { label: string; selected: boolean; onPress: () => void; testID?: string }) {

@@ -1,5 +1,5 @@
 /** Tones of a cell's state and a qualification's status (screens only). */
-import type { CellState, QualificationStatus } from '@/shared/qualification/templates';
+import type { CellState, QualificationStatus } from '@/shared/qualification/words';
 
 export const CELL_TONE: Record<CellState, 'ok' | 'attention' | 'danger' | 'idle' | 'info'> = {
   'not-started': 'idle',

@@ -54,7 +54,9 @@ export function useAlarmCounts(enabled = true) {
   return useQuery({
     queryKey: alarmKeys.counts(),
     queryFn: ({ signal }) => api<AlarmCounts>('/api/alarms/counts', { signal }),
-    staleTime: 0,
+    // The badge mounts in the tabs and the side rail, and again as a page loads: a count a few seconds
+    // old is reused rather than asked for again; the poll and the alarm events keep it fresh.
+    staleTime: 5_000,
     refetchInterval: ALARM_POLL_MS,
     enabled,
   });

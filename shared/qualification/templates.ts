@@ -12,11 +12,39 @@
  */
 import { ON_RIG_STATES } from '../domain/run-states';
 import type { LotVerdict } from '../domain/verdicts';
+import {
+  basisWords,
+  CELL_STATE_LABEL,
+  CELL_STATES,
+  CONFIRM_WORDS,
+  FAMILY_RULE_MIN,
+  QUAL_STATUS_LABEL,
+  QUAL_TEMPLATE_KEYS,
+  WAIVER_REASON_MIN,
+  type CellState,
+  type QualificationStatus,
+  type QualTemplateKey,
+  type SourceBasis,
+} from './words';
+
+// The words and lists screens show live in words.ts (the templates' data stays out of the app's first load).
+export {
+  basisWords,
+  CELL_STATE_LABEL,
+  CELL_STATES,
+  CONFIRM_WORDS,
+  FAMILY_RULE_MIN,
+  QUAL_STATUS_LABEL,
+  QUAL_TEMPLATE_KEYS,
+  WAIVER_REASON_MIN,
+  type CellState,
+  type QualificationStatus,
+  type QualTemplateKey,
+  type SourceBasis,
+};
 
 export const QUAL_PLAN_KINDS = ['htrb', 'hotl', 'iol', 'thb', 'tc', 'htsl', 'ac'] as const;
 export type QualPlanKind = (typeof QUAL_PLAN_KINDS)[number];
-
-export type SourceBasis = 'published' | 'memory';
 
 export interface QualGroup {
   /** Stable key within the template (cells refer to it). */
@@ -48,14 +76,6 @@ export interface QualTemplate {
   sequenceBasis: SourceBasis;
   groups: QualGroup[];
 }
-
-export const QUAL_TEMPLATE_KEYS = ['aec-q101', 'jesd47', 'mil-prf-19500'] as const;
-export type QualTemplateKey = (typeof QUAL_TEMPLATE_KEYS)[number];
-
-/** What the engineer reads beside anything recalled rather than checked against the text. */
-export const CONFIRM_WORDS = "Recalled, not checked against the text: confirm against the standard's current revision.";
-
-export const basisWords = (basis: SourceBasis): string => (basis === 'memory' ? CONFIRM_WORDS : 'Checked against the published text.');
 
 const PC = 'JESD22-A113 preconditioning';
 
@@ -422,19 +442,6 @@ export function planMatrix(
 // Cell state
 // ---------------------------------------------------------------------------------------------
 
-export const CELL_STATES = ['not-started', 'booked', 'under-stress', 'awaiting-verdict', 'passed', 'failed', 'waived'] as const;
-export type CellState = (typeof CELL_STATES)[number];
-
-export const CELL_STATE_LABEL: Record<CellState, string> = {
-  'not-started': 'Not started',
-  booked: 'Booked',
-  'under-stress': 'Under stress',
-  'awaiting-verdict': 'Awaiting verdict',
-  passed: 'Passed',
-  failed: 'Failed',
-  waived: 'Waived',
-};
-
 /** States after which nothing more is to be done for the cell. */
 export const CELL_DONE_STATES: readonly CellState[] = ['passed', 'waived'];
 
@@ -491,20 +498,9 @@ export function cellState(f: CellFacts): CellState {
   return 'awaiting-verdict';
 }
 
-export type QualificationStatus = 'in-progress' | 'complete' | 'failed';
-export const QUAL_STATUS_LABEL: Record<QualificationStatus, string> = {
-  'in-progress': 'In progress',
-  complete: 'Complete',
-  failed: 'Failed',
-};
-
 /** Complete when every cell passed or was waived and no group is short of lots; failed when any cell failed. */
 export function qualificationStatus(states: readonly CellState[], shortLotGroups: number): QualificationStatus {
   if (states.some((s) => s === 'failed')) return 'failed';
   if (shortLotGroups === 0 && states.length > 0 && states.every((s) => CELL_DONE_STATES.includes(s))) return 'complete';
   return 'in-progress';
 }
-
-/** Least words for a family's generic-data rule (qualifying several device types on shared data). */
-export const FAMILY_RULE_MIN = 20;
-export const WAIVER_REASON_MIN = 10;

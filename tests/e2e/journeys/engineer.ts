@@ -175,7 +175,11 @@ export const engineerPlanBook: Journey = {
     // The run sits on its rig's row of the timeline.
     await j.navTo('Schedule');
     await page.waitForURL((u) => u.pathname === '/schedule');
-    const bar = page.getByRole('link', { name: new RegExp(`^Open run ${code}, Booked, priority \\w+, (no due date|due [^,]+, [^,]+), 0 h of 1000 h, 45 devices at 15[\\d.]+ °C`) });
+    const bar = page.getByRole('link', {
+      name: new RegExp(
+        `^Open run ${code}, Booked, priority \\w+, (no due date|due [^,]+, [^,]+), 0 h of 1000 h, 45 devices at 15[\\d.]+ °C`,
+      ),
+    });
     await expect(bar).toHaveCount(1, 15000);
     await bar.scrollIntoViewIfNeeded();
     await expect(bar).toBeVisible();
