@@ -4,7 +4,7 @@ import { VictoryAxis, VictoryBar, VictoryChart, VictoryLegend, VictoryStack } fr
 import type { Utilisation } from '@/shared/schemas/replan';
 import { axisStyle, legendStyle } from '@/components/trends/chart-style';
 import { Text } from '@/components/ui/Text';
-import { capacitySeries, compact, weekLabel } from './capacity-model';
+import { capacitySeries, compact, weekLabel, weekTick } from './capacity-model';
 
 /** Socket-hours per week, stacked: stressed, idle and lost to faults add up to booked. */
 export function UtilisationChart({ data, rig }: { data: Utilisation; rig: string | null }) {
@@ -40,7 +40,8 @@ export function UtilisationChart({ data, rig }: { data: Utilisation; rig: string
           width={width}
           height={phone ? 240 : 300}
           padding={{ top: 40, bottom: 48, left: 72, right: phone ? 12 : 24 }}
-          domainPadding={{ x: 16 }}
+          // Half a week's slot on each side, so the first bar never covers the y-axis labels.
+          domainPadding={{ x: Math.max(16, (width - 96) / Math.max(1, series.weeks.length) / 2) }}
         >
           <VictoryLegend
             x={phone ? 8 : 64}
@@ -52,7 +53,7 @@ export function UtilisationChart({ data, rig }: { data: Utilisation; rig: string
           />
           <VictoryAxis
             tickValues={series.weeks.map((_, i) => i + 1)}
-            tickFormat={(t: number) => weekLabel(series.weeks[t - 1] ?? '')}
+            tickFormat={(t: number) => weekTick(series.weeks[t - 1] ?? '')}
             style={axisStyle}
             fixLabelOverlap
           />

@@ -18,9 +18,13 @@ export function capacitySeries(data: Utilisation, rig: string | null) {
 
 /** "30 Nov" for a week's Monday (UTC). */
 export function weekLabel(iso: string): string {
-  if (!iso) return '';
-  const d = new Date(iso);
-  return `${d.getUTCDate()} ${['Jan', 'Feb', 'Mar', 'Apr', 'May', 'Jun', 'Jul', 'Aug', 'Sep', 'Oct', 'Nov', 'Dec'][d.getUTCMonth()]}`;
+  // The week's first day (UTC) in the app's one date style (YYYY-MM-DD).
+  return iso ? iso.slice(0, 10) : '';
+}
+
+/** The same day as a chart tick: month and day only (the table and the chart's description give the year). */
+export function weekTick(iso: string): string {
+  return iso ? iso.slice(5, 10) : '';
 }
 
 /** "2.5 h late against its due date", "on time against its booked finish", "1 h early …". */

@@ -30,6 +30,8 @@ function Chip({ label, selected, onPress, testID }: { label: string; selected: b
     <Pressable
       accessibilityRole="checkbox"
       accessibilityState={{ checked: selected }}
+      // react-native-web leaves aria-checked out for an unchecked box; a checkbox must always carry it.
+      aria-checked={selected}
       onPress={onPress}
       testID={testID}
       style={{

@@ -61,9 +61,8 @@ describe('one date style: year first, 24-hour clock (ISO 8601 layout), local on 
     };
     walk(path.join(root, 'components'));
     walk(path.join(root, 'app'));
-    // Known and named: checking a typed date's parts (not a display format), and the capacity
-    // screen's week label (merged from another branch; to route through formatLocalDate next).
-    const allowed = ['components/schedule/timeline-scale.ts:', 'components/capacity/capacity-model.ts:'];
+    // Known and named: checking a typed date's parts (not a display format).
+    const allowed = ['components/schedule/timeline-scale.ts:'];
     expect(found.filter((f) => !allowed.some((a) => f.startsWith(a)))).toEqual([]);
   });
 });

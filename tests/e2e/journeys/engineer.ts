@@ -112,7 +112,9 @@ export const engineerPlanBook: Journey = {
     await page.waitForURL((u) => u.pathname === '/schedule');
     await expect(page.getByRole('heading', { name: 'Schedule' }).first()).toBeVisible();
     await expect(page.getByTestId('schedule-timeline')).toBeVisible();
-    await expect(page.getByRole('link', { name: /^Open run HTRB-2611-A\+1, Booked/ })).toHaveCount(1);
+    // The demo's booked run is listed (it starts once OV-02's running runs end, weeks ahead of the
+    // timeline's default one-day window).
+    await expect(page.getByTestId('open-runs').getByText('HTRB-2611-A+1').first()).toBeVisible();
     await j.checkA11y('schedule');
     await j.shot('schedule');
 
