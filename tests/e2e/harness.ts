@@ -51,6 +51,8 @@ export async function openBrowser(size: SizeName): Promise<BrowserContext> {
 
 export interface JourneyContext {
   baseUrl: string;
+  /** The MQTT port the stack under test listens on (what the server tells a new rig). */
+  mqttPort: number;
   size: SizeName;
   page: Page;
   /** Save a screenshot named after the step (tests/e2e/screenshots/<size>/<journey>-<n>-<step>.png). */
@@ -75,12 +77,20 @@ export interface Journey {
 
 const AXE_SOURCE = fs.readFileSync(require.resolve('axe-core/axe.min.js'), 'utf8');
 
-export function makeContext(baseUrl: string, size: SizeName, journey: string, page: Page, a11yLog: string[]): JourneyContext {
+export function makeContext(
+  baseUrl: string,
+  mqttPort: number,
+  size: SizeName,
+  journey: string,
+  page: Page,
+  a11yLog: string[],
+): JourneyContext {
   let n = 0;
   const dir = path.join(SCREENSHOT_DIR, size);
   fs.mkdirSync(dir, { recursive: true });
   const ctx: JourneyContext = {
     baseUrl,
+    mqttPort,
     size,
     page,
     unique: `${size}-${Date.now().toString(36)}`,

@@ -84,7 +84,7 @@ async function main(): Promise<number> {
         page.on('pageerror', (e) => consoleErrors.push(String(e)));
         const started = Date.now();
         try {
-          await journey.run(makeContext(baseUrl, size, journey.name, page, a11y));
+          await journey.run(makeContext(baseUrl, E2E_PORTS.mqtt, size, journey.name, page, a11y));
           if (consoleErrors.length) throw new Error(`uncaught page errors: ${consoleErrors.slice(0, 3).join(' | ')}`);
           passed += 1;
           console.log(`[e2e] ✓ ${journey.name} @${size} (${((Date.now() - started) / 1000).toFixed(1)} s)`);
