@@ -6,35 +6,29 @@
  * the healthy sockets must keep running, and the alarm e-mail must reach the fake SMTP server.
  */
 import bcrypt from 'bcryptjs';
-import { createEmberlotBroker, type Authenticate, type EmberlotBroker } from '../../broker/broker';
-import { startRig, type RigHandle } from '../../rig-simulator';
-import { configFromEnv } from '../../server/config';
-import { createContext } from '../../server/composition';
-import type { AppContext } from '../../server/context';
+import type { Authenticate } from '../../broker/broker';
+import type { RigHandle } from '../../rig-simulator';
 import { AlarmEntity, RunSocketEntity, UserEntity } from '../../server/db/entities';
 import { startMailSink, type MailSink } from '../../server/mail-sink/mail-sink';
 import { startProtectionFeature, type ProtectionFeature } from '../../server/modules/protection/start';
-import { startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
-import { createTestDb, type TestDb } from '../support/db';
+import { createTestDb } from '../support/db';
+import { STACK_SERVER as SERVER, startBrokerStack, type BrokerStack } from '../support/broker-stack';
 import { waitFor } from './mqtt-test-helpers';
 import { createRunFixture, type RunFixture } from './protection-fixtures';
 
 jest.setTimeout(30_000);
 
-const SERVER = { username: 'emberlot-server', password: 'server-secret' };
-const RIG = { code: 'OV-41', username: 'rig-OV-41', password: 'ov41-protection-secret' };
+const RIG = { id: '', code: 'OV-41', username: 'rig-OV-41', password: 'ov41-protection-secret' };
 const authenticate: Authenticate = async (u, p) => {
   if (u === SERVER.username && p === SERVER.password) return { kind: 'server' };
   if (u === RIG.username && p === RIG.password) return { kind: 'rig', rigCode: RIG.code };
   return null;
 };
 
-let db: TestDb;
-let eb: EmberlotBroker;
-let ctx: AppContext;
+let stack: BrokerStack;
+let db: BrokerStack['db'];
 let sink: MailSink;
 let feature: ProtectionFeature;
-let stopTelemetry: (() => Promise<void>) | null = null;
 let rig: RigHandle;
 let fx: RunFixture;
 let watch: ReturnType<typeof setInterval>;
@@ -42,10 +36,10 @@ let watch: ReturnType<typeof setInterval>;
 const peakTj = [0, 0, 0, 0];
 
 beforeAll(async () => {
-  db = await createTestDb();
+  const testDb = await createTestDb();
   sink = await startMailSink({ port: 0 });
   // The simulator's demo part: Tj max 150 °C, θjc 1.5 °C/W (HPD-T220N); the run's device type says the same.
-  fx = await createRunFixture(db.ds, {
+  fx = await createRunFixture(testDb.ds, {
     rigCode: RIG.code,
     sockets: 4,
     chamberC: 60,
@@ -53,34 +47,25 @@ beforeAll(async () => {
     tjMaxC: 150,
     thetaJcCPerW: 1.5,
   });
-  await db.ds.getRepository(UserEntity).insert({
+  await testDb.ds.getRepository(UserEntity).insert({
     email: 'night.shift@harrowgate-lab.example',
     name: 'Night shift',
     role: 'operator',
     passwordHash: await bcrypt.hash('not-used-here', 4),
   });
-  ctx = createContext(db.ds, {
-    ...configFromEnv({} as NodeJS.ProcessEnv),
-    db: db.config,
-    smtp: { host: '127.0.0.1', port: sink.port, from: 'Emberlot <emberlot@harrowgate-lab.example>' },
-  });
-  eb = await createEmberlotBroker({ port: 0, authenticate });
-  stopTelemetry = await startTelemetry(ctx, {
-    mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, ...SERVER },
+  stack = await startBrokerStack(testDb, {
     clientId: 'emberlot-server-protection-e2e',
-    sweepEveryMs: 60_000,
+    authenticate,
+    config: { smtp: { host: '127.0.0.1', port: sink.port, from: 'Emberlot <emberlot@harrowgate-lab.example>' } },
   });
-  feature = await startProtectionFeature(ctx, { mail: { attempts: 2, backoffMs: 10 } });
-  await waitFor(() => ctx.services.rigLink!.connected(), 5000, 'server link');
+  db = stack.db;
+  feature = await startProtectionFeature(stack.ctx, { mail: { attempts: 2, backoffMs: 10 } });
+  stack.onStop(() => feature.stop());
 });
 
 afterAll(async () => {
   clearInterval(watch);
-  await rig?.stop();
-  await feature?.stop();
-  await stopTelemetry?.();
-  await eb?.close();
-  await db?.drop();
+  await stack?.stop();
   await sink?.close();
 });
 
@@ -89,11 +74,7 @@ test('a poorly heat-sunk socket is tripped over MQTT before Tj max; its neighbou
   // stress s (a heavy socket block) keeps the runaway slow enough in wall time that the accelerated
   // clock does not turn ordinary pipeline latency (ingest window, commit, MQTT round trip) into
   // tens of stress seconds; a real rig runs its clock 1:1.
-  rig = startRig({
-    rigCode: RIG.code,
-    brokerUrl: `mqtt://127.0.0.1:${eb.port}`,
-    username: RIG.username,
-    password: RIG.password,
+  rig = await stack.startRig(RIG, {
     sockets: 4,
     mode: 'powered',
     lots: ['HPD-L2403'],

@@ -6,13 +6,8 @@
  * run still waiting gets the in-place option.
  */
 import { randomUUID } from 'node:crypto';
-import bcrypt from 'bcryptjs';
-import { createEmberlotBroker, type EmberlotBroker } from '../../broker/broker';
-import { createPgAuthenticate } from '../../broker/pg-authenticate';
-import { startRig, type RigHandle } from '../../rig-simulator';
+import type { RigHandle } from '../../rig-simulator';
 import { configFromEnv } from '../../server/config';
-import { createContext } from '../../server/composition';
-import type { AppContext } from '../../server/context';
 import {
   DeviceTypeEntity,
   LotEntity,
@@ -23,23 +18,18 @@ import {
   StressPlanEntity,
 } from '../../server/db/entities';
 import { startReplanning } from '../../server/modules/replan/replan.feature';
-import { pgPoolOf, startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
 import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
 import { timingFrom } from '../../server/modules/runs/scheduling-data';
 import { runDurationMs } from '../../shared/scheduling';
-import { createTestDb, type TestDb } from '../support/db';
-import { waitFor } from './mqtt-test-helpers';
+import { createTestDb } from '../support/db';
+import { insertMqttRig, startBrokerStack, type BrokerStack, type MqttRig } from '../support/broker-stack';
 
 jest.setTimeout(60_000);
 
-const SERVER = { username: 'emberlot-server', password: 'server-secret' };
 const DAY = 24 * 3_600_000;
 
-let db: TestDb;
-let eb: EmberlotBroker;
-let ctx: AppContext;
-let stopTelemetry: (() => Promise<void>) | null = null;
-let stopReplanning: (() => void) | null = null;
+let stack: BrokerStack;
+let db: BrokerStack['db'];
 const rigs: RigHandle[] = [];
 const rigIds: Record<string, string> = {};
 const runIds: string[] = [];
@@ -60,24 +50,18 @@ const openProposals = (runId: string) => db.ds.getRepository(ReplanProposalEntit
 const rigOnline = async (code: string) => (await db.ds.getRepository(RigEntity).findOneByOrFail({ code })).online;
 
 beforeAll(async () => {
-  db = await createTestDb();
-  const m = db.ds.manager;
+  const testDb = await createTestDb();
+  const m = testDb.ds.manager;
+  const mqttRigs: MqttRig[] = [];
   for (const code of ['OV-21', 'OV-22']) {
-    rigIds[code] = (
-      await m.save(
-        m.create(RigEntity, {
-          code,
-          name: `Oven ${code}`,
-          socketCount: 4,
-          maxTempC: 200,
-          maxVoltageV: 800,
-          mqttUsername: `rig-${code.toLowerCase()}`,
-          mqttSecretHash: await bcrypt.hash(`${code}-secret`, 4),
-          credentialsIssuedAt: new Date(),
-          calibrationDueAt: new Date(Date.now() + 365 * DAY),
-        }),
-      )
-    ).id;
+    const r = await insertMqttRig(testDb.ds, {
+      code,
+      socketCount: 4,
+      secret: `${code}-secret`,
+      calibrationDueAt: new Date(Date.now() + 365 * DAY),
+    });
+    rigIds[code] = r.id;
+    mqttRigs.push(r);
   }
   const type = await m.save(
     m.create(
@@ -125,25 +109,13 @@ beforeAll(async () => {
     runIds.push(r.id);
   }
 
-  ctx = createContext(db.ds, { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config });
-  eb = await createEmberlotBroker({
-    port: 0,
-    authenticate: createPgAuthenticate({ pool: pgPoolOf(ctx), server: SERVER, verifiedCacheSize: 10 }),
-  });
-  stopTelemetry = await startTelemetry(ctx, {
-    mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, ...SERVER },
-    clientId: 'emberlot-server-replan-test',
-    sweepEveryMs: 60_000,
-  });
-  stopReplanning = startReplanning(ctx, () => undefined);
-  await waitFor(() => ctx.services.rigLink!.connected(), 5000, 'server link');
-  for (const code of ['OV-21', 'OV-22']) {
+  stack = await startBrokerStack(testDb, { clientId: 'emberlot-server-replan-test' });
+  db = stack.db;
+  const stopReplanning = startReplanning(stack.ctx, () => undefined);
+  stack.onStop(stopReplanning);
+  for (const r of mqttRigs) {
     rigs.push(
-      startRig({
-        rigCode: code,
-        brokerUrl: `mqtt://127.0.0.1:${eb.port}`,
-        username: `rig-${code.toLowerCase()}`,
-        password: `${code}-secret`,
+      await stack.startRig(r, {
         sockets: 4,
         mode: 'reverse',
         chamberC: 25,
@@ -160,13 +132,7 @@ beforeAll(async () => {
   await until(async () => (await rigOnline('OV-21')) && (await rigOnline('OV-22')), 'both rigs online');
 });
 
-afterAll(async () => {
-  stopReplanning?.();
-  for (const r of rigs) await r.stop();
-  await stopTelemetry?.();
-  await eb?.close();
-  await db?.drop();
-});
+afterAll(() => stack?.stop());
 
 test('rig drops off → proposals → a manager accepts → booked on the other rig; the rig returns → in place', async () => {
   const [runA, runB] = runIds;
@@ -183,7 +149,7 @@ test('rig drops off → proposals → a manager accepts → booked on the other 
   const pb = await until(async () => (await openProposals(runB)).find((p) => p.kind === 'move'), 'a proposal for the second run');
   expect(pb.toRigId).toBe(rigIds['OV-22']);
 
-  const accepted = await ctx.services.replan.accept(manager, pa.id);
+  const accepted = await stack.ctx.services.replan.accept(manager, pa.id);
   expect(accepted).toMatchObject({ state: 'accepted', toRigCode: 'OV-22', runCode: 'HTRB-2801-A' });
   const moved = await db.ds.getRepository(RunEntity).findOneByOrFail({ id: runA });
   expect(moved.rigId).toBe(rigIds['OV-22']);

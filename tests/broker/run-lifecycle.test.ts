@@ -5,156 +5,69 @@
  * scheduler restart mid-stress → cooling → finished. The hours after the restart equal the accrual
  * rule applied to the stored telemetry, and no cmdId reaches the rig twice.
  */
-import { randomUUID } from 'node:crypto';
-import bcrypt from 'bcryptjs';
-import { createEmberlotBroker, type EmberlotBroker } from '../../broker/broker';
-import { createPgAuthenticate } from '../../broker/pg-authenticate';
-import { startRig, type RigHandle } from '../../rig-simulator';
 import { HOURS_EPS, accrualConditionsFor, accrueSeries, type ClockSample } from '../../shared/scheduling';
-import type { CommandAck } from '../../shared/mqtt';
-import { configFromEnv } from '../../server/config';
-import { createContext } from '../../server/composition';
-import type { AppContext } from '../../server/context';
-import {
-  AuditLogEntity,
-  DeviceEntity,
-  DeviceTypeEntity,
-  LotEntity,
-  RigEntity,
-  RunEntity,
-  RunLotEntity,
-  RunSocketEntity,
-  StressPlanEntity,
-} from '../../server/db/entities';
+import type { RigHandle } from '../../rig-simulator';
+import { AuditLogEntity, RunEntity, type StressPlanEntity } from '../../server/db/entities';
 import { RunsService } from '../../server/modules/runs/runs.service';
-import { RunScheduler } from '../../server/modules/scheduler/scheduler';
-import { type RigCommandBody, type RigLink } from '../../server/modules/telemetry/contracts';
-import { pgPoolOf, startTelemetry } from '../../server/modules/telemetry/telemetry.feature';
-import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
-import { createTestDb, type TestDb } from '../support/db';
+import type { RunScheduler } from '../../server/modules/scheduler/scheduler';
+import { createTestDb } from '../support/db';
+import {
+  TEST_OPERATOR as operator,
+  bookLoadedRun,
+  insertMqttRig,
+  startBrokerStack,
+  untilTrue,
+  type BrokerStack,
+} from '../support/broker-stack';
 import { waitFor } from './mqtt-test-helpers';
 import { permitFromLiveRig } from '../support/permit';
 
 jest.setTimeout(30_000);
 
-const SERVER = { username: 'emberlot-server', password: 'server-secret' };
-const SECRET = 'ov07-lifecycle-secret';
-
-let db: TestDb;
-let eb: EmberlotBroker;
-let ctx: AppContext;
-let stopTelemetry: (() => Promise<void>) | null = null;
+let stack: BrokerStack;
+let db: BrokerStack['db'];
 let rig: RigHandle;
 let rigId: string;
 let runId: string;
 let plan: StressPlanEntity;
 let scheduler: RunScheduler;
-const sent: Array<{ cmdId: string; cmd: RigCommandBody }> = [];
+let sent: BrokerStack['sent'];
 
-/** The real MQTT link, with every command the scheduler sends written down. */
-const spyLink: RigLink = {
-  connected: () => ctx.services.rigLink!.connected(),
-  send: (rigCode, cmd, opts): Promise<CommandAck> => {
-    sent.push({ cmdId: opts!.cmdId!, cmd });
-    return ctx.services.rigLink!.send(rigCode, cmd, opts);
-  },
-};
-const newScheduler = () => new RunScheduler(ctx, { rigLink: () => spyLink, log: () => undefined, ambientCheckEveryMs: 0 });
 const run = () => db.ds.getRepository(RunEntity).findOneByOrFail({ id: runId });
-async function until(state: string, timeoutMs = 15_000) {
-  let last = '';
-  const deadline = Date.now() + timeoutMs;
-  while (Date.now() < deadline) {
-    last = (await run()).state;
-    if (last === state) return;
-    await new Promise((r) => setTimeout(r, 50));
-  }
-  const r = await run();
-  const [b] = await db.ds.query('SELECT max(seq) AS s, count(*) AS n FROM telemetry_batches WHERE rig_id = $1', [rigId]);
-  throw new Error(
-    `run did not reach ${state} (is ${last}, ${r.stressHours} h, seq ${r.accruedToSeq}; stored up to ${b.s} (${b.n}); sent ${sent.map((x) => x.cmdId.split(':').slice(2).join(':')).join(', ')}; rig setpoint ${rig.state().setpointC}, chamber ${rig.state().chamberC})`,
-  );
-}
+const until = (state: string, timeoutMs = 15_000) =>
+  stack.untilRun(runId, state, {
+    timeoutMs,
+    describe: async (r) => {
+      const [b] = await db.ds.query('SELECT max(seq) AS s, count(*) AS n FROM telemetry_batches WHERE rig_id = $1', [rigId]);
+      return `seq ${r.accruedToSeq}; stored up to ${b.s} (${b.n}); sent ${sent.map((x) => x.cmdId.split(':').slice(2).join(':')).join(', ')}; rig setpoint ${rig.state().setpointC}, chamber ${rig.state().chamberC}`;
+    },
+  });
 
 beforeAll(async () => {
-  db = await createTestDb();
-  const m = db.ds.manager;
-  rigId = (
-    await m.save(
-      m.create(RigEntity, {
-        code: 'OV-07',
-        name: 'Oven 7',
-        socketCount: 4,
-        maxTempC: 200,
-        maxVoltageV: 800,
-        mqttUsername: 'rig-ov-07',
-        mqttSecretHash: await bcrypt.hash(SECRET, 4),
-        credentialsIssuedAt: new Date(),
-      }),
-    )
-  ).id;
-  const type = await m.save(
-    m.create(
-      DeviceTypeEntity,
-      DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!,
-    ),
-  );
-  const lot = await m.save(m.create(LotEntity, { code: 'HG2611-A', deviceTypeId: type.id, quantity: 100 }));
-  const devices = await m.save(['A0001', 'A0002', 'A0003', 'A0004'].map((serial) => m.create(DeviceEntity, { lotId: lot.id, serial })));
-  plan = await m.save(
-    m.create(StressPlanEntity, {
-      planKey: randomUUID(),
-      version: 1,
+  const testDb = await createTestDb();
+  const ov07 = await insertMqttRig(testDb.ds, { code: 'OV-07', name: 'Oven 7', socketCount: 4, secret: 'ov07-lifecycle-secret' });
+  rigId = ov07.id;
+  const loaded = await bookLoadedRun(testDb.ds, {
+    rigId,
+    lotCode: 'HG2611-A',
+    serials: ['A0001', 'A0002', 'A0003', 'A0004'],
+    plan: {
       name: 'HTRB 125 °C short',
       kind: 'htrb',
-      deviceTypeId: type.id,
       chamberC: 125,
-      humidityPct: null,
       bias: { vcbV: 80, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
       durationH: 12,
       readPointsH: [0, 4, 12],
-      sampleSize: 4,
-      acceptNumber: 0,
-      criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 2e-7, vcesatShiftV: 0.05 },
-    }),
-  );
-  const r = await m.save(
-    m.create(RunEntity, {
-      code: 'HTRB-2611-A',
-      planId: plan.id,
-      rigId,
-      state: 'loading',
-      sampleSize: 4,
-      stateChangedAt: new Date(),
-      nextReadPoint: 1,
-      scheduledStart: new Date(),
-      scheduledEnd: new Date(Date.now() + 60_000),
-    }),
-  );
-  runId = r.id;
-  await m.insert(RunLotEntity, { runId, lotId: lot.id });
-  await m.insert(
-    RunSocketEntity,
-    devices.map((d, i) => ({ runId, deviceId: d.id, socketIndex: i })),
-  );
-
-  ctx = createContext(db.ds, { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config });
-  eb = await createEmberlotBroker({
-    port: 0,
-    authenticate: createPgAuthenticate({ pool: pgPoolOf(ctx), server: SERVER, verifiedCacheSize: 10 }),
+    },
+    run: { code: 'HTRB-2611-A' },
   });
-  stopTelemetry = await startTelemetry(ctx, {
-    mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, ...SERVER },
-    clientId: 'emberlot-server-lifecycle-test',
-    sweepEveryMs: 60_000,
-  });
-  await waitFor(() => ctx.services.rigLink!.connected(), 5000, 'server link');
+  runId = loaded.runId;
+  plan = loaded.plan;
+  stack = await startBrokerStack(testDb, { clientId: 'emberlot-server-lifecycle-test' });
+  db = stack.db;
+  sent = stack.sent;
   // 4 stress hours per wall second, a sample every 0.1 s (0.4 h); the oven lags 0.5 stress hour.
-  rig = startRig({
-    rigCode: 'OV-07',
-    brokerUrl: `mqtt://127.0.0.1:${eb.port}`,
-    username: 'rig-ov-07',
-    password: SECRET,
+  rig = await stack.startRig(ov07, {
     sockets: 4,
     mode: 'reverse',
     chamberC: 25,
@@ -166,26 +79,9 @@ beforeAll(async () => {
     reconnectWallS: 0.1,
     resendAfterWallS: 1,
   });
-  await waitFor(() => rig.connected, 5000, 'simulated rig');
 });
 
-afterAll(async () => {
-  await scheduler?.stop();
-  await rig?.stop();
-  await stopTelemetry?.();
-  await eb?.close();
-  await db?.drop();
-});
-
-async function waitAsync(cond: () => Promise<boolean>, label: string, timeoutMs = 5000): Promise<void> {
-  const deadline = Date.now() + timeoutMs;
-  while (!(await cond())) {
-    if (Date.now() > deadline) throw new Error(`timed out waiting for ${label}`);
-    await new Promise((r) => setTimeout(r, 20));
-  }
-}
-
-const operator = { id: randomUUID(), email: 'operator@test.example', name: 'Test operator', role: 'operator' as const };
+afterAll(() => stack?.stop());
 
 async function samplesBetween(fromSeq: number, toSeq: number): Promise<ClockSample[]> {
   const b: Array<Record<string, unknown>> = await db.ds.query(
@@ -208,10 +104,10 @@ async function samplesBetween(fromSeq: number, toSeq: number): Promise<ClockSamp
 }
 
 test('heating → stressing → read point: the rig heats, biases, and at 4 h cools under bias before bias comes off', async () => {
-  const svc = new RunsService(ctx);
+  const svc = new RunsService(stack.ctx);
   await permitFromLiveRig(db.ds, runId, rigId);
   await svc.act(operator, runId, 'start', { rowVersion: (await run()).rowVersion, confirm: true });
-  scheduler = newScheduler();
+  scheduler = stack.startScheduler();
   scheduler.start();
   await until('stressing');
   await until('read-hold');
@@ -221,12 +117,12 @@ test('heating → stressing → read point: the rig heats, biases, and at 4 h co
   await waitFor(() => rig.state().sockets.every((s) => !s.biasOn), 5000, 'bias off at the rig');
   // The cool-down command went out before the bias-off command [pub: MIL-M-38510/757C §4.5.2].
   expect(sent.map((x) => x.cmd.type)).toEqual(['setpoint', 'bias', 'setpoint', 'bias']);
-  await waitAsync(async () => (await run()).biasRemovedAt !== null, 'bias removal recorded');
+  await untilTrue(async () => (await run()).biasRemovedAt !== null, 'bias removal recorded');
   // The stored telemetry shows the sequence: the chamber falls from the stress temperature with bias
   // on, and bias is first seen off only at or below the lab's "remove bias at" 35 °C.
   const [hold] = await db.ds.query(`SELECT details FROM audit_log WHERE entity_id = $1 AND action = 'run.read-point'`, [runId]);
   await scheduler.idle();
-  await waitAsync(
+  await untilTrue(
     async () => (await samplesBetween(Number(hold.details.seq), Number.MAX_SAFE_INTEGER)).some((x) => x.sockets.every((s) => !s.biasOn)),
     'an unbiased sample stored',
   );
@@ -241,7 +137,7 @@ test('heating → stressing → read point: the rig heats, biases, and at 4 h co
 
 test('measurements done → heats again; a scheduler restart mid-stress keeps exact hours and repeats no command', async () => {
   const h1 = (await run()).stressHours;
-  const svc = new RunsService(ctx);
+  const svc = new RunsService(stack.ctx);
   await svc.act(operator, runId, 'measurements-done', { rowVersion: (await run()).rowVersion });
   await until('stressing');
   await waitFor(() => rig.state().sockets.every((s) => s.biasOn), 5000, 'bias on at the rig');
@@ -251,7 +147,7 @@ test('measurements done → heats again; a scheduler restart mid-stress keeps ex
   await scheduler.stop();
   const sentBefore = sent.length;
   await new Promise((r) => setTimeout(r, 300)); // telemetry keeps landing while no scheduler runs
-  scheduler = newScheduler();
+  scheduler = stack.startScheduler();
   scheduler.start();
   await until('cooling');
   await until('finished');
