@@ -5,23 +5,13 @@ import request from 'supertest';
 import type { EntityManager } from 'typeorm';
 import { telemetryFromReadings, type SocketReading, type Telemetry } from '../../shared/mqtt';
 import type { FloorTile } from '../../shared/schemas/floor';
-import {
-  AlarmEntity,
-  DeviceEntity,
-  DeviceTypeEntity,
-  LotEntity,
-  RigEntity,
-  RunSocketEntity,
-  StressPlanEntity,
-} from '../../server/db/entities';
+import { AlarmEntity, RunSocketEntity } from '../../server/db/entities';
 import { ALARM_EVENT } from '../../server/modules/alarms/alarms.service';
 import { RUN_EVENT } from '../../server/modules/runs/run-events';
 import { TELEMETRY_LANDED } from '../../server/modules/telemetry/contracts';
-import { writeBatch, type IngestItem } from '../../server/modules/telemetry/ingest-store';
-import { RollupAccumulator } from '../../server/modules/telemetry/rollups';
 import { pgPoolOf } from '../../server/modules/telemetry/telemetry.feature';
-import { insertHistoryRun } from '../../server/seed/seed-history';
 import { createTestApp, emailFor, TEST_PASSWORD, type TestApp } from '../support/api';
+import { insertPoweredLifeRun, storeAsIngest } from '../support/telemetry-rows';
 
 /**
  * The floor reads only the rig id of these events: the tests emit partial payloads through an
@@ -49,74 +39,17 @@ function message(seq: number, atMs: number, sockets: number[], mod: (i: number) 
 }
 
 async function makeFixtures(m: EntityManager) {
-  const type = await m.save(
-    m.create(DeviceTypeEntity, {
-      partNumber: 'HPD-T220N',
-      polarity: 'NPN',
-      bvcboV: 200,
-      bvceoV: 120,
-      bveboV: 6,
-      icMaxA: 3,
-      pMaxW: 40,
-      tjMaxC: 150,
-      thetaJcCPerW: 1.5,
-      thetaJaCPerW: 60,
-      betaRef: 80,
-      betaRefIcA: 0.5,
-      betaRefTC: 25,
-      xtb: 1.5,
-      icboRefA: 10e-9,
-    }),
-  );
-  const plan = await m.save(
-    m.create(StressPlanEntity, {
-      planKey: randomUUID(),
-      version: 1,
-      name: 'Powered life 150 °C',
-      kind: 'hotl',
-      deviceTypeId: type.id,
-      chamberC: 150,
-      humidityPct: null,
-      bias: { vcbV: null, vebV: null, vceV: 40, ibA: 0.002, icA: null, tolerancePct: 5 },
-      durationH: 1000,
-      readPointsH: [0, 168, 500, 1000],
-      sampleSize: 10,
-      acceptNumber: 0,
-      criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
-      eaEv: 0.7,
-      useC: 55,
-    }),
-  );
-  const mk = (code: string) =>
-    m.save(
-      m.create(RigEntity, {
-        code,
-        name: `Oven ${code}`,
-        socketCount: SOCKETS,
-        maxTempC: 200,
-        maxVoltageV: 100,
-        mqttUsername: `rig-${code.toLowerCase()}`,
-        mqttSecretHash: 'x',
-        credentialsIssuedAt: new Date(),
-      }),
-    );
-  const a = await mk('OV-81');
-  await mk('OV-82');
-  const lot = await m.save(m.create(LotEntity, { code: 'HPD-L9901', deviceTypeId: type.id, quantity: 10 }));
-  const devices = await m.save(
-    Array.from({ length: 10 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `HPD-L9901-${String(i + 1).padStart(3, '0')}` })),
-  );
-  const run = await insertHistoryRun(m, {
-    code: 'HTOL-F-01',
-    plan,
-    deviceType: type,
-    rig: a,
-    lots: [{ lot, devices, drift: { hfeDriftPctPer1000h: 0, leakageGrowthPer1000h: 1 } }],
-    state: 'stressing',
+  const {
+    rigs: [a],
+    run,
+  } = await insertPoweredLifeRun(m, {
+    rigCodes: ['OV-81', 'OV-82'],
+    sockets: SOCKETS,
+    chamberC: 150,
+    lotCode: 'HPD-L9901',
+    devices: 10,
+    runCode: 'HTOL-F-01',
     startedAt: new Date(T0 - 200 * 3600_000),
-    stressHours: 150,
-    measuredH: [],
-    noise: 0,
   });
   await m.update(
     RunSocketEntity,
@@ -141,7 +74,6 @@ beforeAll(async () => {
   t = await createTestApp();
   rigA = await t.ctx.ds.transaction(makeFixtures);
   // 20 minutes of telemetry at 1 message/s through the real ingest store (samples + rollups).
-  const pool = pgPoolOf(t.ctx);
   const all = Array.from({ length: 1200 }, (_, k) =>
     message(
       k + 1,
@@ -152,12 +84,7 @@ beforeAll(async () => {
   );
   // As the ingest does it: each committed batch folded into the accumulator, the held rollups
   // written by a later transaction (here one of their own).
-  const rollups = new RollupAccumulator();
-  for (let k = 0; k < all.length; k += 200) {
-    const items: IngestItem[] = all.slice(k, k + 200).map((msg) => ({ kind: 'telemetry', rigCode: 'OV-81', msg, receivedAt: new Date() }));
-    rollups.add((await writeBatch(pool, items)).landed);
-  }
-  await writeBatch(pool, [], { rollups: rollups.take() });
+  await storeAsIngest(pgPoolOf(t.ctx), 'OV-81', all, 200);
 });
 afterAll(async () => {
   await t.close();

@@ -7,16 +7,13 @@
  * Reference values are counted and summed here from the messages the test writes (the chamber
  * values are exact in binary, so the stored `real` sums compare exactly).
  */
-import { randomUUID } from 'node:crypto';
 import type { EntityManager } from 'typeorm';
 import { telemetryFromReadings, type Telemetry } from '../../shared/mqtt';
-import { AlarmEntity, DeviceEntity, DeviceTypeEntity, LotEntity, RigEntity, StressPlanEntity } from '../../server/db/entities';
-import { writeBatch, type IngestItem } from '../../server/modules/telemetry/ingest-store';
-import { RollupAccumulator } from '../../server/modules/telemetry/rollups';
+import { AlarmEntity } from '../../server/db/entities';
 import { pgPoolOf } from '../../server/modules/telemetry/telemetry.feature';
 import { runTelemetryUpkeep, type UpkeepOptions } from '../../server/modules/telemetry/upkeep';
-import { insertHistoryRun } from '../../server/seed/seed-history';
 import { createTestApp, type TestApp } from '../support/api';
+import { insertPoweredLifeRun, storeAsIngest } from '../support/telemetry-rows';
 
 const DAY = 86_400_000;
 const MIN = 60_000;
@@ -48,82 +45,19 @@ function message(seq: number, atMs: number): Telemetry {
 }
 
 /** Store messages as the ingest does (one transaction), rollups included. */
-async function store(msgs: Telemetry[]): Promise<void> {
-  const acc = new RollupAccumulator();
-  const items: IngestItem[] = msgs.map((msg) => ({ kind: 'telemetry', rigCode: 'OV-91', msg, receivedAt: new Date() }));
-  const r = await writeBatch(pgPoolOf(t.ctx), items);
-  acc.add(r.landed);
-  await writeBatch(pgPoolOf(t.ctx), [], { rollups: acc.take() });
-}
+const store = (msgs: Telemetry[]) => storeAsIngest(pgPoolOf(t.ctx), 'OV-91', msgs);
 
 async function fixtures(m: EntityManager): Promise<void> {
-  const type = await m.save(
-    m.create(DeviceTypeEntity, {
-      partNumber: 'HPD-T220N',
-      polarity: 'NPN',
-      bvcboV: 200,
-      bvceoV: 120,
-      bveboV: 6,
-      icMaxA: 3,
-      pMaxW: 40,
-      tjMaxC: 150,
-      thetaJcCPerW: 1.5,
-      thetaJaCPerW: 60,
-      betaRef: 80,
-      betaRefIcA: 0.5,
-      betaRefTC: 25,
-      xtb: 1.5,
-      icboRefA: 10e-9,
-    }),
-  );
-  const plan = await m.save(
-    m.create(StressPlanEntity, {
-      planKey: randomUUID(),
-      version: 1,
-      name: 'Powered life 125 °C',
-      kind: 'hotl',
-      deviceTypeId: type.id,
-      chamberC: 125,
-      humidityPct: null,
-      bias: { vcbV: null, vebV: null, vceV: 40, ibA: 0.002, icA: null, tolerancePct: 5 },
-      durationH: 1000,
-      readPointsH: [0, 168, 500, 1000],
-      sampleSize: 4,
-      acceptNumber: 0,
-      criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
-      eaEv: 0.7,
-      useC: 55,
-    }),
-  );
-  const rig = await m.save(
-    m.create(RigEntity, {
-      code: 'OV-91',
-      name: 'Oven OV-91',
-      socketCount: 4,
-      maxTempC: 200,
-      maxVoltageV: 100,
-      mqttUsername: 'rig-ov-91',
-      mqttSecretHash: 'x',
-      credentialsIssuedAt: new Date(),
-    }),
-  );
-  rigId = rig.id;
-  const lot = await m.save(m.create(LotEntity, { code: 'HPD-L9191', deviceTypeId: type.id, quantity: 4 }));
-  const devices = await m.save(
-    Array.from({ length: 4 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `HPD-L9191-${String(i + 1).padStart(3, '0')}` })),
-  );
-  const run = await insertHistoryRun(m, {
-    code: 'HTOL-T-91',
-    plan,
-    deviceType: type,
-    rig,
-    lots: [{ lot, devices, drift: { hfeDriftPctPer1000h: 0, leakageGrowthPer1000h: 1 } }],
-    state: 'stressing',
+  const { rigs, run } = await insertPoweredLifeRun(m, {
+    rigCodes: ['OV-91'],
+    sockets: 4,
+    chamberC: 125,
+    lotCode: 'HPD-L9191',
+    devices: 4,
+    runCode: 'HTOL-T-91',
     startedAt: new Date(NOW - 200 * 3600_000),
-    stressHours: 150,
-    measuredH: [],
-    noise: 0,
   });
+  rigId = rigs[0].id;
   runId = run.id;
 }
 
