@@ -8,7 +8,7 @@
 import type { DataSource, EntityManager } from 'typeorm';
 import { In } from 'typeorm';
 import { ON_RIG_STATES } from '../../shared/domain/run-states';
-import { planBiasV, runDurationMs, staticRefusals } from '../../shared/scheduling';
+import { planBiasV, rigRefusals, runDurationMs } from '../../shared/scheduling';
 import type { PlanKind } from '../../shared/schemas/plans';
 import type { RunState } from '../../shared/schemas/runs';
 import { configFromEnv } from '../config';
@@ -145,7 +145,7 @@ async function liveRunTarget(m: EntityManager, s: DemoLiveRun, log: (l: string) 
   const plan = plans.find((p) => !/draft/i.test(p.name));
   if (!plan) return log(`[seed] runs: ${s.code} skipped (no ${s.kind} plan for ${s.partNumber})`);
   const sampleSize = s.perLot * lots.length;
-  const refusals = staticRefusals(rig, {
+  const refusals = rigRefusals(rig, {
     chamberC: plan.chamberC,
     humidityPct: plan.humidityPct,
     biasV: planBiasV(plan),

@@ -112,7 +112,7 @@ export const when = (ms: number): string => formatUtc(ms);
 // ---------------------------------------------------------------------------------------------
 // Static checks
 
-/** Reasons the rig can never take this run; empty when it can. */
+/** Reasons the rig can never take this run (its own limits and the chamber clauses); empty when it can. Callers use rigRefusals. */
 export function staticRefusals(rig: RigCapability, needs: RunNeeds): string[] {
   const out: string[] = [];
   const name = rigName(rig);
@@ -139,7 +139,7 @@ export function staticRefusals(rig: RigCapability, needs: RunNeeds): string[] {
 const overlaps = (aStart: number, aEnd: number, bStart: number, bEnd: number) => aStart < bEnd && bStart < aEnd;
 
 /**
- * Conflicts of a window [startMs, endMs) on a rig with maintenance and with the runs already on
+ * (The window part of rigRefusals.) Conflicts of a window [startMs, endMs) on a rig with maintenance and with the runs already on
  * it (the sharing rule: shared/scheduling/sharing.ts); empty when the window is free. Commitments
  * of other rigs are ignored. `timing` places the run's own read-point holds.
  */
@@ -163,6 +163,37 @@ export function windowConflicts(
   return out;
 }
 
+// ---------------------------------------------------------------------------------------------
+// The one entry
+
+/** A window on the rig and what else holds the rig then (commitments of other rigs are ignored). */
+export interface RigWindow {
+  startMs: number;
+  endMs: number;
+  commitments: readonly Commitment[];
+  maintenance: readonly MaintenanceWindow[];
+  /** Places the run's own read-point holds; default DEFAULT_TIMING. */
+  timing?: TimingOptions;
+}
+
+/**
+ * The one answer to "can this rig take this run": every reason it cannot, empty when it can. The
+ * rig's own limits (in service, sockets or devices, temperature, bias, humidity: staticRefusals)
+ * with the chamber clauses (kind of rig, cold limit, pressure: chamber.ts); given a window, also
+ * maintenance in it and the oven-sharing rule against the runs on the rig then (sharing.ts).
+ * `scope: 'window'` asks only what the window adds, for a run already on the rig (its current
+ * slot) or a rig whose own limits were refused or passed just before.
+ */
+export function rigRefusals(rig: RigCapability, needs: RunNeeds, window?: RigWindow | null, scope: 'all' | 'window' = 'all'): string[] {
+  const out = scope === 'all' ? staticRefusals(rig, needs) : [];
+  if (window) {
+    out.push(
+      ...windowConflicts(rig, needs, window.startMs, window.endMs, window.commitments, window.maintenance, window.timing ?? DEFAULT_TIMING),
+    );
+  }
+  return out;
+}
+
 export interface Slot {
   startMs: number;
   endMs: number;
@@ -183,16 +214,17 @@ export function earliestSlot(
   maintenance: readonly MaintenanceWindow[],
   timing: TimingOptions = DEFAULT_TIMING,
 ): Slot | null {
-  if (staticRefusals(rig, needs).length) return null;
+  if (rigRefusals(rig, needs).length) return null;
   const dur = runDurationMs(needs, timing);
   const ends = [
     ...commitments.filter((c) => c.rigId === rig.id).map((c) => c.endMs),
     ...maintenance.filter((m) => m.rigId === rig.id).map((m) => m.endMs),
   ].filter((t) => t > notBeforeMs);
   const candidates = [notBeforeMs, ...[...new Set(ends)].sort((a, b) => a - b)];
-  const delayReasons = windowConflicts(rig, needs, notBeforeMs, notBeforeMs + dur, commitments, maintenance, timing);
+  const at = (startMs: number) => rigRefusals(rig, needs, { startMs, endMs: startMs + dur, commitments, maintenance, timing }, 'window');
+  const delayReasons = at(notBeforeMs);
   for (const t of candidates) {
-    if (!windowConflicts(rig, needs, t, t + dur, commitments, maintenance, timing).length) {
+    if (!at(t).length) {
       return { startMs: t, endMs: t + dur, delayReasons: t === notBeforeMs ? [] : delayReasons };
     }
   }

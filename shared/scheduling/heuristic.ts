@@ -9,7 +9,7 @@ import {
   DEFAULT_TIMING,
   earliestSlot,
   runDurationH,
-  staticRefusals,
+  rigRefusals,
   type Commitment,
   type MaintenanceWindow,
   type RigCapability,
@@ -62,7 +62,7 @@ export function proposeRigs(
   const options: RigOption[] = [];
   const refusals: RigRefusal[] = [];
   for (const rig of rigs) {
-    const reasons = staticRefusals(rig, job);
+    const reasons = rigRefusals(rig, job);
     if (reasons.length) {
       refusals.push({ rigId: rig.id, rigCode: rig.code, reasons });
       continue;

@@ -1,6 +1,6 @@
 /**
- * The one rule for sharing an oven (issue #26 item 2). Proposals (earliestSlot → windowConflicts),
- * booking (the same windowConflicts in runs.service bookingWindow), re-planning (planSchedule) and
+ * The one rule for sharing an oven (issue #26 item 2), reached through rigRefusals (constraints.ts). Proposals (earliestSlot),
+ * booking (runs.service bookingWindow), re-planning (planSchedule) and
  * the start permit's chamber check all decide sharing here, so a proposal is always bookable.
  * Pure and small, so other run kinds can add a clause.
  *

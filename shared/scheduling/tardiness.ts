@@ -34,7 +34,7 @@ import {
   DEFAULT_TIMING,
   earliestSlot,
   runDurationMs,
-  staticRefusals,
+  rigRefusals,
   type Commitment,
   type MaintenanceWindow,
   type RigCapability,
@@ -93,7 +93,7 @@ interface Placed {
 }
 
 const allowedRigs = (job: DueJob, c: Ctx) =>
-  (job.rigIds ? c.rigs.filter((r) => job.rigIds!.includes(r.id)) : c.rigs).filter((r) => !staticRefusals(r, job).length);
+  (job.rigIds ? c.rigs.filter((r) => job.rigIds!.includes(r.id)) : c.rigs).filter((r) => !rigRefusals(r, job).length);
 
 function commitmentOf(p: Placed, t: TimingOptions): Commitment {
   return {
@@ -310,7 +310,7 @@ export function planCalendar(
     .map((j) => ({
       jobId: j.id,
       code: j.code,
-      reasons: (j.rigIds ? rigs.filter((r) => j.rigIds!.includes(r.id)) : rigs).flatMap((r) => staticRefusals(r, j)),
+      reasons: (j.rigIds ? rigs.filter((r) => j.rigIds!.includes(r.id)) : rigs).flatMap((r) => rigRefusals(r, j)),
     }));
   const heur = heuristicSchedule(placeable, c);
   let result: Scored = heur;

@@ -21,7 +21,15 @@ import { STRESS_FAMILY, PLAN_KINDS, isUnbiasedKind, countsInCycles } from '../..
 import { initialChamberState, stepChamber, steamPressureKPa, type ChamberState } from '../../rig-simulator/chamber';
 import { MECHANISM_OF_KIND, mechanismExposure, mechanismFit } from '../../shared/reliability/mechanisms';
 import { coffinMansonFactor, equivalentStressHours } from '../../shared/reliability';
-import { chamberNeedsOf, DEFAULT_TIMING, holdWindows, readPointCycles, staticRefusals, windowConflicts } from '../../shared/scheduling';
+import {
+  chamberNeedsOf,
+  DEFAULT_TIMING,
+  holdWindows,
+  readPointCycles,
+  rigRefusals,
+  staticRefusals,
+  windowConflicts,
+} from '../../shared/scheduling';
 
 const ID = '8f6a1c3e-2b7d-4e59-9a10-3c4d5e6f7a8b';
 const device = (over: Partial<DeviceTypeInput> = {}): DeviceTypeInput =>
@@ -304,6 +312,33 @@ describe('chamber time: the rig kind and the chamber capacity rule', () => {
     expect(windowConflicts(chamber, needs(10), 0, 1e6, [{ ...c, profileKey: '-40/125/15/10' }], [])[0]).toMatch(
       /cycles TC-A on another profile/,
     );
+  });
+  test('rigRefusals is the one entry: a static clause, a chamber clause and a sharing clause all surface through it', () => {
+    const rig = { ...chamber, active: false, minTempC: -40 };
+    const tenant = {
+      runId: 'r',
+      code: 'TC-A',
+      rigId: 'c1',
+      startMs: 0,
+      endMs: 1e9,
+      chamberC: 125,
+      humidityPct: null,
+      sockets: 10,
+      profileKey: '-40/125/15/10',
+    };
+    const window = { startMs: 0, endMs: 1e6, commitments: [tenant], maintenance: [] };
+    const decommissioned = 'Chamber TC-01 is decommissioned and takes no new runs.'; // static (constraints.ts)
+    const coldLimit = 'Chamber TC-01 reaches no lower than -40 °C; the plan needs -55 °C.'; // chamber.ts
+    const all = rigRefusals(rig, needs(10), window);
+    expect(all.slice(0, 2)).toEqual([decommissioned, coldLimit]);
+    expect(all).toHaveLength(3);
+    expect(all[2]).toMatch(
+      /^Chamber TC-01 cycles TC-A on another profile until .*; runs share a cycling chamber only on the same profile\.$/,
+    ); // sharing.ts
+    // The parts agree with the whole: no window, only the rig's limits; the window scope, only what the window adds.
+    expect(rigRefusals(rig, needs(10))).toEqual([decommissioned, coldLimit]);
+    expect(rigRefusals(rig, needs(10), window, 'window')).toEqual([all[2]]);
+    expect(all).toEqual([...staticRefusals(rig, needs(10)), ...windowConflicts(rig, needs(10), 0, 1e6, [tenant], [])]);
   });
 });
 

@@ -3,9 +3,9 @@
  * the offline sweep after OFFLINE_AFTER_MS of silence) or gets a maintenance window over its
  * bookings, each booked run it held is re-proposed:
  *   move     — on another rig that can take it: active and online, the plan's chamber, humidity,
- *              bias and socket count within what the rig does (staticRefusals), calibration valid
+ *              bias and socket count within what the rig does (rigRefusals), calibration valid
  *              through the proposed end, the window free of maintenance and of runs at other
- *              conditions (windowConflicts — the same rule booking applies);
+ *              conditions (rigRefusals with the window — the same rule booking applies);
  *   in-place — on its own rig: after the maintenance window, or (for an offline rig) once it
  *              reports again.
  * Each proposal carries the delay of its finish against the run's due date (when the calendar
@@ -28,9 +28,8 @@ import {
   planBiasV,
   proposeRigs,
   runDurationMs,
-  staticRefusals,
+  rigRefusals,
   when,
-  windowConflicts,
   type RigCapability,
   type RunNeeds,
 } from '../../../shared/scheduling';
@@ -60,7 +59,7 @@ export function runNeeds(run: RunEntity, plan: StressPlanEntity): RunNeeds {
 
 /** Why a rig may not take a moved run now; empty when it may. Static checks, online, calibration through `endMs`. */
 export function moveRefusals(rig: RigEntity, needs: RunNeeds, endMs: number): string[] {
-  const out = staticRefusals(rig, needs);
+  const out = rigRefusals(rig, needs);
   if (!rig.online) out.push(`Oven ${rig.code} is offline.`);
   if (!rig.calibrationDueAt) out.push(`No calibration is recorded for ${rig.code}.`);
   else if (calibrationExpiresAt(rig.calibrationDueAt).getTime() <= endMs) {
@@ -149,7 +148,12 @@ export class ReplanService {
         const notBefore = Math.max(nowMs, run.scheduledStart?.getTime() ?? nowMs);
         if (trigger.kind === 'maintenance') {
           const end = notBefore + runDurationMs(needs, t);
-          const hit = windowConflicts(rig, needs, notBefore, end, [], inputs.maintenance, t);
+          const hit = rigRefusals(
+            rig,
+            needs,
+            { startMs: notBefore, endMs: end, commitments: [], maintenance: inputs.maintenance, timing: t },
+            'window',
+          );
           if (!hit.length) continue;
         }
         const rows = this.optionsFor(run, rig, needs, inputs, others, notBefore, trigger, nowMs);
@@ -310,7 +314,7 @@ export class ReplanService {
     const endMs = startMs + (p.endAt.getTime() - p.startAt.getTime());
     const reasons = [
       ...moveRefusals(rig, needs, endMs),
-      ...windowConflicts(rig, needs, startMs, endMs, inputs.commitments, inputs.maintenance, t),
+      ...rigRefusals(rig, needs, { startMs, endMs, commitments: inputs.commitments, maintenance: inputs.maintenance, timing: t }, 'window'),
     ];
     if (reasons.length) {
       throw conflict(

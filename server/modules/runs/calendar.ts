@@ -2,7 +2,7 @@
  * The calendar: every booked run (not yet loaded) re-placed to minimise the priority-weighted
  * lateness Σ w·max(0, C − d) around the runs already on rigs and maintenance
  * (shared/scheduling/tardiness.ts), and accepting such a proposal. Accepting re-checks every new
- * window with the booking rule itself (windowConflicts, shared/scheduling/sharing.ts) against the
+ * window with the booking rule itself (rigRefusals, shared/scheduling/constraints.ts) against the
  * runs as they stand then, all or nothing; a run changed since the proposal is refused by its
  * rowVersion.
  */
@@ -11,12 +11,11 @@ import {
   lateH,
   planBiasV,
   planCalendar,
+  rigRefusals,
   runDurationMs,
-  staticRefusals,
   holdWindows,
   weightedTardinessH,
   when,
-  windowConflicts,
   type Commitment,
   type DueJob,
   type RunNeeds,
@@ -73,7 +72,9 @@ export async function calendarProposal(ctx: AppContext, t: TimingOptions): Promi
     const due = r.dueAt?.getTime() ?? null;
     const rig = rigById.get(cur.rigId);
     const others = inputs.commitments.filter((c) => c.runId !== r.id);
-    const currentConflicts = rig ? windowConflicts(rig, jobById.get(r.id)!, cur.startMs, cur.endMs, others, inputs.maintenance, t) : [];
+    const currentConflicts = rig
+      ? rigRefusals(rig, jobById.get(r.id)!, { ...cur, commitments: others, maintenance: inputs.maintenance, timing: t }, 'window')
+      : [];
     return {
       currentConflicts,
       runId: r.id,
@@ -147,7 +148,7 @@ export async function applyCalendar(
       if (startMs < nowMs - t.msPerClockH) {
         throw conflict(`The proposed start of ${r.code} (${when(startMs)}) has passed. Ask for a new proposal.`);
       }
-      const reasons = [...staticRefusals(rig, needs), ...windowConflicts(rig, needs, startMs, endMs, placed, inputs.maintenance, t)];
+      const reasons = rigRefusals(rig, needs, { startMs, endMs, commitments: placed, maintenance: inputs.maintenance, timing: t });
       if (reasons.length)
         throw conflict(`Run ${r.code} cannot move to ${rig.code} at ${when(startMs)}: ${reasons.join(' ')} Ask for a new proposal.`, {
           reasons,

@@ -12,9 +12,8 @@ import {
   proposeRigs,
   runDurationH,
   runDurationMs,
-  staticRefusals,
+  rigRefusals,
   when,
-  windowConflicts,
   type RunNeeds,
   type TimingOptions,
   chamberNeedsOf,
@@ -447,7 +446,7 @@ export class RunsService {
     const rig = await m.findOne(RigEntity, { where: { id: input.rigId } });
     if (!rig) throw unprocessable('The chosen rig was not found. Choose one of the proposals.');
     const needs = needsOf(plan, input.sampleSize);
-    const refusals = staticRefusals(rig, needs);
+    const refusals = rigRefusals(rig, needs);
     if (refusals.length) throw unprocessable(refusals.join(' '), { reasons: refusals });
     const window = await this.bookingWindow(m, rig, needs, input.start);
     const { startMs, endMs } = window;
@@ -501,14 +500,18 @@ export class RunsService {
     if (start) {
       requestedStartMs = Math.max(now, Date.parse(start));
       startMs = requestedStartMs;
-      const clash = windowConflicts(
+      // The rig's own limits were refused in bookOne already: what the requested window adds.
+      const clash = rigRefusals(
         rig,
         needs,
-        startMs,
-        startMs + runDurationMs(needs, this.timing),
-        inputs.commitments,
-        inputs.maintenance,
-        this.timing,
+        {
+          startMs,
+          endMs: startMs + runDurationMs(needs, this.timing),
+          commitments: inputs.commitments,
+          maintenance: inputs.maintenance,
+          timing: this.timing,
+        },
+        'window',
       );
       if (clash.length) {
         // A proposal's start is often the projected end of the run ahead of it, and that

@@ -19,7 +19,7 @@ import { calibrationExpiresAt, chamberSetpointC, INTERLOCK_TEST_VALID_DAYS, inte
 import { formatUtc } from '../../../shared/domain/format';
 import { isPoweredKind, isUnbiasedKind } from '../../../shared/domain/stress';
 import { latestChamberSample } from './chamber.data';
-import { planBiasV, sameChamberCondition, staticRefusals, when, type RunNeeds } from '../../../shared/scheduling';
+import { planBiasV, rigRefusals, sameChamberCondition, when, type RunNeeds } from '../../../shared/scheduling';
 import type { PermitCheck, StartPermit } from '../../../shared/schemas/runs';
 import { RigMaintenanceEntity, RunEntity, RunSocketEntity, StressPlanEntity, type RigEntity } from '../../db/entities';
 import { devicesWithoutTimeZero } from './runs.data';
@@ -218,7 +218,7 @@ export async function startPermit(
         ? `Oven ${rig.code} is in maintenance until ${when(open.endsAt.getTime())}${open.reason ? ` (${open.reason})` : ''}.`
         : `No maintenance is open on ${rig.code}.`,
     });
-    const oven = [...staticRefusals(rig, needs)];
+    const oven = rigRefusals(rig, needs);
     const clash = await chamberConflict(m, run, rig, plan);
     if (clash) oven.push(clash);
     checks.push({
