@@ -7,8 +7,15 @@ export function tardinessMs(endMs: number, dueMs: number | null): number {
   return dueMs === null ? 0 : Math.max(0, endMs - dueMs);
 }
 
-/** Clock hours past the due date (0 when on time), rounded to 0.1 h; null without a due date. */
+/** Lateness L = C − d in hours of `msPerH` ms (negative: early), unrounded; null without a due date. */
+export function latenessH(endMs: number, dueMs: number, msPerH: number): number;
+export function latenessH(endMs: number, dueMs: number | null, msPerH: number): number | null;
+export function latenessH(endMs: number, dueMs: number | null, msPerH: number): number | null {
+  return dueMs === null ? null : (endMs - dueMs) / msPerH;
+}
+
+/** Clock hours past the due date (0 when on time): the tardiness max(0, L), rounded to 0.1 h; null without a due date. */
 export function lateH(endMs: number, dueMs: number | null, msPerClockH: number): number | null {
-  if (dueMs === null) return null;
-  return Math.round((tardinessMs(endMs, dueMs) / msPerClockH) * 10) / 10;
+  const l = latenessH(endMs, dueMs, msPerClockH);
+  return l === null ? null : Math.round(Math.max(0, l) * 10) / 10;
 }

@@ -10,6 +10,8 @@ import {
   atcOrder,
   planCalendar,
   holdWindows,
+  lateH,
+  latenessH,
   windowConflicts,
   type Commitment,
   type DueJob,
@@ -194,4 +196,16 @@ describe('heuristic vs exact on generated fleets (the gap is measured and bounde
     expect(exactRuns).toBeGreaterThan(cases * 0.9);
     expect(max).toBeLessThanOrEqual(0.05);
   }, 180_000); // a property over many cases: slow on a shared machine, not a timed test
+});
+
+describe('lateness once (shared/scheduling/lateness.ts): L = C − d, tardiness max(0, L) [Pinedo, Scheduling, ch. 1 notation — from memory]', () => {
+  test('the re-plan delay is the signed lateness; the calendar shows its tardiness rounded to 0.1 h', () => {
+    const due = 100 * H;
+    expect(latenessH(due + 26.5 * H, due, H)).toBe(26.5);
+    expect(latenessH(due - 1.25 * H, due, H)).toBe(-1.25); // early: negative lateness
+    expect(latenessH(due, null, H)).toBeNull();
+    expect(lateH(due + 26.54 * H, due, H)).toBe(26.5);
+    expect(lateH(due - 1.25 * H, due, H)).toBe(0); // no tardiness when early
+    expect(lateH(due, null, H)).toBeNull();
+  });
 });

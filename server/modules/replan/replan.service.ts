@@ -25,6 +25,7 @@ import type { SessionUser } from '../../../shared/schemas/auth';
 import type { DelayBasis, HeldRun, ReplanKind, ReplanList, ReplanProposal, ReplanState } from '../../../shared/schemas/replan';
 import {
   earliestSlot,
+  latenessH,
   planBiasV,
   proposeRigs,
   runDurationMs,
@@ -75,10 +76,14 @@ function dueDateOf(run: RunEntity): Date | null {
   return run.dueAt ?? null;
 }
 
+/**
+ * The proposal's lateness against the due date or else the booked finish (shared/scheduling/lateness.ts),
+ * signed (an early finish shows as early) and in wall hours: the list sets it beside wall dates.
+ */
 function delayOf(run: RunEntity, endMs: number): { dueAt: Date | null; delayBasis: DelayBasis; delayH: number } {
   const due = dueDateOf(run);
   const basisMs = due?.getTime() ?? run.scheduledEnd?.getTime() ?? endMs;
-  return { dueAt: due, delayBasis: due ? 'due-date' : 'booked-finish', delayH: (endMs - basisMs) / H };
+  return { dueAt: due, delayBasis: due ? 'due-date' : 'booked-finish', delayH: latenessH(endMs, basisMs, H) };
 }
 
 export function toProposal(r: data.ProposalRow): ReplanProposal {
