@@ -198,8 +198,52 @@ function byCode(a: DueJob, b: DueJob) {
   return a.code.localeCompare(b.code);
 }
 
-/** ATC starts + pairwise-interchange and insertion local search. */
-export function heuristicSchedule(jobs: readonly DueJob[], c: Ctx): Scored & { order: DueJob[] } {
+/** A run's window as booked now (the calendar's current bookings). */
+export interface CurrentWindow {
+  jobId: string;
+  rigId: string;
+  startMs: number;
+  endMs: number;
+}
+
+/**
+ * The bookings as they stand, scored like a decoded list, with their order (by start); null unless
+ * every job has a window that could be proposed: on a rig it may use, not before notBefore, as long
+ * as the run, and free under the booking rule (rigRefusals) given the fixed runs and the others.
+ */
+export function currentSchedule(jobs: readonly DueJob[], current: readonly CurrentWindow[], c: Ctx): (Scored & { order: DueJob[] }) | null {
+  const byJob = new Map(current.map((w) => [w.jobId, w]));
+  const placed: Placed[] = [];
+  for (const job of jobs) {
+    const w = byJob.get(job.id);
+    const rig = w && allowedRigs(job, c).find((r) => r.id === w.rigId);
+    if (!w || !rig || w.startMs < c.notBeforeMs || w.endMs - w.startMs < runDurationMs(job, c.timing)) return null;
+    placed.push({ job, rig, startMs: w.startMs, endMs: w.endMs });
+  }
+  for (const p of placed) {
+    const others = [...c.fixed, ...placed.filter((q) => q !== p).map((q) => commitmentOf(q, c.timing))];
+    const window = { startMs: p.startMs, endMs: p.endMs, commitments: others, maintenance: c.maintenance, timing: c.timing };
+    if (rigRefusals(p.rig, p.job, window, 'window').length) return null;
+  }
+  placed.sort((a, b) => a.startMs - b.startMs || byCode(a.job, b.job));
+  return {
+    placed,
+    t: placed.reduce((s, p) => s + wT(p, c.timing.msPerClockH), 0),
+    f: placed.reduce((s, p) => s + wC(p, c), 0),
+    order: placed.map((p) => p.job),
+  };
+}
+
+/**
+ * ATC starts + pairwise-interchange and insertion local search. Given the bookings as they stand
+ * (`incumbent`), the search starts from them unless a start list decodes better: the answer is
+ * never worse than the current bookings, by construction.
+ */
+export function heuristicSchedule(
+  jobs: readonly DueJob[],
+  c: Ctx,
+  incumbent: (Scored & { order: DueJob[] }) | null = null,
+): Scored & { order: DueJob[] } {
   const edd = [...jobs].sort((a, b) => (a.dueMs ?? Infinity) - (b.dueMs ?? Infinity) || byCode(a, b));
   const wspt = [...jobs].sort((a, b) => b.weight / runDurationMs(b, c.timing) - a.weight / runDurationMs(a, c.timing) || byCode(a, b));
   const starts = [edd, wspt, ...[atcK(jobs, c), 0.5, 1, 2, 4].map((k) => atcOrder(jobs, c, k))];
@@ -211,6 +255,10 @@ export function heuristicSchedule(jobs: readonly DueJob[], c: Ctx): Scored & { o
       best = d;
       order = s;
     }
+  }
+  if (incumbent && !better(best, incumbent)) {
+    best = incumbent;
+    order = incumbent.order;
   }
   let budget = LOCAL_SEARCH_BUDGET;
   let improved = true;
@@ -292,6 +340,8 @@ export function exactSchedule(jobs: readonly DueJob[], c: Ctx, upper: Scored): {
 /**
  * Place `jobs` around the fixed commitments and maintenance, minimising Σ w·T (then Σ w·C): exact
  * up to EXACT_MAX_JOBS runs (within the node budget), the ATC heuristic with local search above.
+ * `current`: the jobs' windows as booked; when they keep the booking rule, the search starts from
+ * them, so the plan is never worse than the bookings as they stand.
  */
 export function planCalendar(
   jobs: readonly DueJob[],
@@ -300,7 +350,7 @@ export function planCalendar(
   maintenance: readonly MaintenanceWindow[],
   notBeforeMs: number,
   timing: TimingOptions = DEFAULT_TIMING,
-  opts: { exactMaxJobs?: number; forceHeuristic?: boolean } = {},
+  opts: { exactMaxJobs?: number; forceHeuristic?: boolean; current?: readonly CurrentWindow[] } = {},
 ): CalendarPlan {
   const c: Ctx = { rigs, fixed, maintenance, notBeforeMs, timing };
   const sorted = [...jobs].sort(byCode);
@@ -312,7 +362,9 @@ export function planCalendar(
       code: j.code,
       reasons: (j.rigIds ? rigs.filter((r) => j.rigIds!.includes(r.id)) : rigs).flatMap((r) => rigRefusals(r, j)),
     }));
-  const heur = heuristicSchedule(placeable, c);
+  // The bookings as they stand seed the search (and bound the exact one): never a worse proposal.
+  const incumbent = opts.current && placeable.length === sorted.length ? currentSchedule(placeable, opts.current, c) : null;
+  const heur = heuristicSchedule(placeable, c, incumbent);
   let result: Scored = heur;
   let method: CalendarPlan['method'] = 'heuristic';
   let nodes = 0;

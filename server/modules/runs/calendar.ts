@@ -60,7 +60,9 @@ export async function calendarProposal(ctx: AppContext, t: TimingOptions): Promi
     dueMs: r.dueAt?.getTime() ?? null,
     weight: priorityWeight(r.priority),
   }));
-  const plan = planCalendar(jobs, inputs.rigs, fixed, inputs.maintenance, nowMs, t);
+  const plan = planCalendar(jobs, inputs.rigs, fixed, inputs.maintenance, nowMs, t, {
+    current: booked.map((r) => ({ jobId: r.id, ...current.get(r.id)! })),
+  });
   const rigCode = new Map(inputs.rigs.map((g) => [g.id, g.code]));
   const byRun = new Map(booked.map((r) => [r.id, r]));
   const iso = (ms: number) => new Date(ms).toISOString();
@@ -97,8 +99,8 @@ export async function calendarProposal(ctx: AppContext, t: TimingOptions): Promi
     booked.map((r) => ({ endMs: current.get(r.id)!.endMs, dueMs: r.dueAt?.getTime() ?? null, weight: priorityWeight(r.priority) })),
     t.msPerClockH,
   );
-  // Never propose an order worse than the bookings as they stand when those keep the sharing rule
-  // (the heuristic above 7 runs can land worse than a valid calendar it did not start from).
+  // Never propose an order worse than the bookings as they stand when those keep the sharing rule.
+  // planCalendar starts from them (so this holds by construction); kept as a safety net.
   const keepAsBooked =
     plan.unplaced.length === 0 && runs.every((r) => r.currentConflicts.length === 0) && plan.weightedTardinessH >= currentWeighted;
   return {
