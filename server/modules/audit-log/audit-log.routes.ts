@@ -2,15 +2,15 @@ import { rolesFor } from '../../../shared/domain/permissions';
 import { auditExportQuerySchema, auditQuerySchema, type AuditEntryView } from '../../../shared/schemas/audit';
 import type { AppContext } from '../../context';
 import { ApiRouter, HANDLED } from '../../http/route';
-import { csvLine } from '../reports/csv';
+import { CsvSheet } from '../reports/csv';
 
 const CSV_HEADER = ['id', 'at', 'actor', 'action', 'object', 'object id', 'reason', 'details', 'hash'];
 
-export const auditCsv = (items: AuditEntryView[]): string =>
-  [
-    csvLine(CSV_HEADER),
-    ...items.map((e) => csvLine([e.id, e.at, e.actor, e.action, e.entity, e.entityId, e.reason, JSON.stringify(e.details), e.hash])),
-  ].join('\r\n') + '\r\n';
+export function auditCsv(items: AuditEntryView[]): string {
+  const s = new CsvSheet().row(CSV_HEADER);
+  for (const e of items) s.row([e.id, e.at, e.actor, e.action, e.entity, e.entityId, e.reason, JSON.stringify(e.details), e.hash]);
+  return s.text();
+}
 
 /** (A module of its own: audit/ is imported by every module, and the CSV rule lives in analytics.) The audit log for admins and managers: filter by person, object and time; CSV export; the chain check. */
 export function auditRoutes(ctx: AppContext): ApiRouter {

@@ -11,7 +11,7 @@ import { LOT_VERDICT_LABEL } from '../../../shared/schemas/analytics';
 import type { QualCellView } from '../../../shared/schemas/qualifications';
 import { CELL_STATE_LABEL, QUAL_STATUS_LABEL, basisWords, type QualGroup } from '../../../shared/qualification/templates';
 import { writeLotSection } from '../reports/blocks';
-import { csvLine, type Cell } from '../reports/csv';
+import { CsvSheet, type Cell } from '../reports/csv';
 import {
   FONT,
   INK,
@@ -116,8 +116,8 @@ const CELL_COLUMNS = [
 
 export function qualificationReportCsv(data: QualificationReportData, lots: readonly LotReportData[], generatedAt: Date): string {
   const d = data.detail;
-  const lines: string[] = [];
-  const kv = (k: string, ...v: Cell[]) => lines.push(csvLine([k, ...v]));
+  const s = new CsvSheet();
+  const kv = (k: string, ...v: Cell[]) => s.kv(k, ...v);
   kv('Emberlot qualification report', `Generated ${formatUtc(generatedAt)}`);
   kv('Qualification', d.code, d.name);
   kv('Template', d.templateName, d.standard);
@@ -127,31 +127,29 @@ export function qualificationReportCsv(data: QualificationReportData, lots: read
   kv('Status', QUAL_STATUS_LABEL[d.status]);
   kv('Projected finish', d.projectedFinish ? when(d.projectedFinish) : 'none', d.projectionNote ?? '');
   kv('Order of tests', d.sequence, basisWords(d.sequenceBasis));
-  lines.push('');
-  lines.push(csvLine(CELL_COLUMNS));
+  s.blank();
+  s.row(CELL_COLUMNS);
   for (const r of reportCellRows(data))
-    lines.push(
-      csvLine([
-        r.group,
-        r.lot,
-        r.kind,
-        r.method,
-        r.conditions,
-        r.plannedSample,
-        r.acceptNumber,
-        r.booked,
-        r.judged,
-        r.failures,
-        r.verdict,
-        r.state,
-        r.fit60,
-        r.fit90,
-        r.fitMethod,
-        r.runs,
-        r.basis,
-      ]),
-    );
-  lines.push('');
+    s.row([
+      r.group,
+      r.lot,
+      r.kind,
+      r.method,
+      r.conditions,
+      r.plannedSample,
+      r.acceptNumber,
+      r.booked,
+      r.judged,
+      r.failures,
+      r.verdict,
+      r.state,
+      r.fit60,
+      r.fit90,
+      r.fitMethod,
+      r.runs,
+      r.basis,
+    ]);
+  s.blank();
   for (const l of d.left) kv('Left to do', l);
   for (const c of d.cells) {
     if (c.waiver) kv('Waiver', groupName(d.groups, c), c.lotCode, c.waiver.reason, c.waiver.by, formatUtc(new Date(c.waiver.at)));
@@ -166,48 +164,40 @@ export function qualificationReportCsv(data: QualificationReportData, lots: read
         c.external.document,
       );
   }
-  lines.push('');
-  lines.push(csvLine(['Lot', 'Device', 'Run', 'Rig', 'Socket', 'Status', 'Failed at (h)', 'Why', 'Disposition']));
+  s.blank();
+  s.row(['Lot', 'Device', 'Run', 'Rig', 'Socket', 'Status', 'Failed at (h)', 'Why', 'Disposition']);
   for (const l of lots)
     for (const x of l.devices.filter((x) => x.status === 'fail' || x.status === 'removed' || x.disposition))
-      lines.push(
-        csvLine([l.lot.code, x.serial, x.runCode, x.rigCode, x.socketIndex, x.status, x.failedAtH, x.failedBecause, x.disposition]),
-      );
-  lines.push('');
-  lines.push(csvLine(['Lot', 'Deviation kind', 'What']));
-  for (const l of lots) for (const x of l.deviations) lines.push(csvLine([l.lot.code, x.kind, x.text]));
-  lines.push('');
-  lines.push(csvLine(['Lot', 'Run', 'Rig', 'Rig name', 'Sockets', 'Calibrated', 'Calibration due', 'Interlocks tested']));
+      s.row([l.lot.code, x.serial, x.runCode, x.rigCode, x.socketIndex, x.status, x.failedAtH, x.failedBecause, x.disposition]);
+  s.blank();
+  s.row(['Lot', 'Deviation kind', 'What']);
+  for (const l of lots) for (const x of l.deviations) s.row([l.lot.code, x.kind, x.text]);
+  s.blank();
+  s.row(['Lot', 'Run', 'Rig', 'Rig name', 'Sockets', 'Calibrated', 'Calibration due', 'Interlocks tested']);
   for (const l of lots)
     for (const e of l.equipment)
-      lines.push(
-        csvLine([l.lot.code, e.runCode, e.rigCode, e.rigName, e.sockets, e.calibrationDoneAt, e.calibrationDueAt, e.interlockTestedAt]),
-      );
-  lines.push('');
-  lines.push(
-    csvLine(['Lot', 'Plan', 'Mechanism', 'Failures', 'Devices', 'Device-hours', 'Acceleration factor', 'FIT 60 %', 'FIT 90 %', 'Method']),
-  );
+      s.row([l.lot.code, e.runCode, e.rigCode, e.rigName, e.sockets, e.calibrationDoneAt, e.calibrationDueAt, e.interlockTestedAt]);
+  s.blank();
+  s.row(['Lot', 'Plan', 'Mechanism', 'Failures', 'Devices', 'Device-hours', 'Acceleration factor', 'FIT 60 %', 'FIT 90 %', 'Method']);
   for (const l of lots)
     for (const f of l.reliability)
-      lines.push(
-        csvLine([
-          l.lot.code,
-          f.planName,
-          f.mechanism,
-          f.failures,
-          f.devices,
-          f.deviceHours,
-          f.accelerationFactor,
-          f.fit60,
-          f.fit90,
-          f.unavailable ?? f.method,
-        ]),
-      );
-  lines.push('');
-  lines.push(csvLine(['Lot', 'Signed by', 'E-mail', 'Meaning', 'Verdict', 'Signed at', 'SHA-256', 'Stale']));
+      s.row([
+        l.lot.code,
+        f.planName,
+        f.mechanism,
+        f.failures,
+        f.devices,
+        f.deviceHours,
+        f.accelerationFactor,
+        f.fit60,
+        f.fit90,
+        f.unavailable ?? f.method,
+      ]);
+  s.blank();
+  s.row(['Lot', 'Signed by', 'E-mail', 'Meaning', 'Verdict', 'Signed at', 'SHA-256', 'Stale']);
   for (const l of lots)
-    for (const g of l.signatures) lines.push(csvLine([l.lot.code, g.name, g.email, g.meaning, g.verdict, g.signedAt, g.dataHash, g.stale]));
-  return lines.join('\r\n') + '\r\n';
+    for (const g of l.signatures) s.row([l.lot.code, g.name, g.email, g.meaning, g.verdict, g.signedAt, g.dataHash, g.stale]);
+  return s.text();
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -22,3 +22,40 @@ export function csvCell(v: Cell): string {
 }
 
 export const csvLine = (cells: Cell[]) => cells.map(csvCell).join(',');
+
+/**
+ * A CSV document written line by line: rows of cells through csvCell, blank lines between blocks,
+ * CRLF line ends and a final CRLF (RFC 4180). Every CSV export builds its text here.
+ */
+export class CsvSheet {
+  private readonly lines: string[] = [];
+
+  /** One row of cells. */
+  row(cells: Cell[]): this {
+    this.lines.push(csvLine(cells));
+    return this;
+  }
+
+  /** A label and its values on one row. */
+  kv(label: string, ...values: Cell[]): this {
+    return this.row([label, ...values]);
+  }
+
+  blank(): this {
+    this.lines.push('');
+    return this;
+  }
+
+  /** A titled block after a blank line: its title, its header, its rows (a row "none" when it has none). */
+  block(title: string, header: Cell[], rows: Cell[][]): this {
+    this.blank().row([title]).row(header);
+    if (!rows.length) this.row(['none']);
+    for (const r of rows) this.row(r);
+    return this;
+  }
+
+  /** The document; `bom` puts a UTF-8 byte order mark first (spreadsheet programs read the text as UTF-8). */
+  text(opts: { bom?: boolean } = {}): string {
+    return `${opts.bom ? '\uFEFF' : ''}${this.lines.join('\r\n')}\r\n`;
+  }
+}

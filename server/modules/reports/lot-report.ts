@@ -9,225 +9,220 @@ import { describeParameters } from '../../../shared/reliability/mechanisms';
 import { writeLotSection } from './blocks';
 import { CAUTION_INK, footers, heading, MUTED, newPdf, para, pdfText, FONT } from './pdf-doc';
 import type { LotReportData } from './report-data';
-import { csvLine, type Cell } from './csv';
+import { CsvSheet, type Cell } from './csv';
 
 const PARAM = { hfe: 'hFE', icbo: 'ICBO', vcesat: 'VCE(sat)' } as const;
 
 /** The lot report as CSV: the same data as the PDF, one block after another, blank lines between. */
 export function lotReportCsv(r: LotReportData): string {
+  const s = new CsvSheet();
+  writeLotSummaryCsv(s, r);
+  writePlanVerdictsCsv(s, r.detail);
+  writeLifeEstimateCsv(s, r.detail);
+  writeReadPointsCsv(s, r.detail);
+  writeDevicesCsv(s, r.detail);
+  writeRecordsCsv(s, r.detail);
+  writeReportBlocksCsv(s, r);
+  return s.text({ bom: true });
+}
+
+/** The lot, its part and traceability, the plan and run, the verdict and its reasons. */
+function writeLotSummaryCsv(s: CsvSheet, r: LotReportData) {
   const d = r.detail;
-  const lines: string[] = [];
-  const kv = (k: string, v: Cell) => lines.push(csvLine([k, v]));
-  kv('Emberlot lot report', `Generated ${formatUtc(r.generatedAt)}`);
-  kv('Lot', d.lotCode);
-  kv('Device type', d.partNumber);
-  kv('Date code', d.dateCode);
-  kv('Wafer lot', r.lot.waferLot);
-  kv('Assembly lot', r.lot.assemblyLot);
-  kv('Die revision', r.lot.dieRevision);
-  kv('Lot notes', r.lot.notes);
-  kv('Failure criteria', r.criteria);
-  kv(
+  s.kv('Emberlot lot report', `Generated ${formatUtc(r.generatedAt)}`);
+  s.kv('Lot', d.lotCode);
+  s.kv('Device type', d.partNumber);
+  s.kv('Date code', d.dateCode);
+  s.kv('Wafer lot', r.lot.waferLot);
+  s.kv('Assembly lot', r.lot.assemblyLot);
+  s.kv('Die revision', r.lot.dieRevision);
+  s.kv('Lot notes', r.lot.notes);
+  s.kv('Failure criteria', r.criteria);
+  s.kv(
     'Plan',
     d.plan
       ? `${d.plan.name} (${d.plan.kind}, ${d.plan.chamberC} °C, ${d.plan.durationH} h, n ${d.plan.sampleSize}, accept ${d.plan.acceptNumber})`
       : 'none',
   );
-  kv('Run', d.run ? `${d.run.code} (${d.run.state}, ${d.run.stressHours} h)` : 'none');
-  kv('Verdict', LOT_VERDICT_LABEL[d.verdict]);
-  for (const r of d.reasons) kv('Reason', r);
+  s.kv('Run', d.run ? `${d.run.code} (${d.run.state}, ${d.run.stressHours} h)` : 'none');
+  s.kv('Verdict', LOT_VERDICT_LABEL[d.verdict]);
+  for (const r of d.reasons) s.kv('Reason', r);
+}
+
+/** Per plan: its verdict, the sample against LTPD, incomplete read points, the degradation note. */
+function writePlanVerdictsCsv(s: CsvSheet, d: LotDetail) {
   for (const p of d.plans) {
-    const s = p.sample;
-    kv(`Plan verdict: ${p.planName}`, LOT_VERDICT_LABEL[p.verdict]);
-    kv(
+    const sample = p.sample;
+    s.kv(`Plan verdict: ${p.planName}`, LOT_VERDICT_LABEL[p.verdict]);
+    s.kv(
       `Sample: ${p.planName}`,
-      `runs ${p.runs.map((r) => r.runCode).join(' + ')}; planned ${s.planned}, booked ${s.booked}, judged ${s.judged}, failures ${s.failures}; LTPD demonstrated ${s.demonstratedLtpd === null ? '—' : `${+(s.demonstratedLtpd * 100).toPrecision(3)} %`}, plan ${+(s.planLtpd * 100).toPrecision(3)} % at ${s.confidence * 100} %`,
+      `runs ${p.runs.map((r) => r.runCode).join(' + ')}; planned ${sample.planned}, booked ${sample.booked}, judged ${sample.judged}, failures ${sample.failures}; LTPD demonstrated ${sample.demonstratedLtpd === null ? '—' : `${+(sample.demonstratedLtpd * 100).toPrecision(3)} %`}, plan ${+(sample.planLtpd * 100).toPrecision(3)} % at ${sample.confidence * 100} %`,
     );
-    if (s.deviation)
-      kv(
+    if (sample.deviation)
+      s.kv(
         `Sample deviation: ${p.planName}`,
-        `${s.deviation.sampleSize} devices: ${s.deviation.reason} (${s.deviation.by}, ${s.deviation.at})`,
+        `${sample.deviation.sampleSize} devices: ${sample.deviation.reason} (${sample.deviation.by}, ${sample.deviation.at})`,
       );
     for (const r of p.readPoints)
       if (r.due && !r.complete)
-        kv(`Incomplete read point (h): ${p.planName}`, `${r.hours}: ${r.missing.map((m) => `${m.serial} (${m.why})`).join('; ')}`);
-    kv(`Degradation: ${p.planName}`, p.degradation.note);
+        s.kv(`Incomplete read point (h): ${p.planName}`, `${r.hours}: ${r.missing.map((m) => `${m.serial} (${m.why})`).join('; ')}`);
+    s.kv(`Degradation: ${p.planName}`, p.degradation.note);
   }
-  kv('Pseudo-failure time (h)', d.pseudoFailureH);
-  kv('Pseudo-failure parameter', d.pseudoFailureParameter ? PARAM[d.pseudoFailureParameter] : '');
+}
+
+/** Pseudo-failure time, the failure-rate fit and its constants, FIT per plan, the caution. */
+function writeLifeEstimateCsv(s: CsvSheet, d: LotDetail) {
+  s.kv('Pseudo-failure time (h)', d.pseudoFailureH);
+  s.kv('Pseudo-failure parameter', d.pseudoFailureParameter ? PARAM[d.pseudoFailureParameter] : '');
   if (d.fit) {
-    kv('Failure mechanism', d.fit.mechanismLabel);
-    kv('Model', d.fit.model);
-    kv('Model parameters', describeParameters(d.fit.parameters));
-    kv(
+    s.kv('Failure mechanism', d.fit.mechanismLabel);
+    s.kv('Model', d.fit.model);
+    s.kv('Model parameters', describeParameters(d.fit.parameters));
+    s.kv(
       'Junction over credited hours (°C)',
       d.fit.junction.tjMeanC === null
         ? ''
         : `mean ${+d.fit.junction.tjMeanC.toPrecision(4)}, ${+d.fit.junction.tjMinC!.toPrecision(4)} to ${+d.fit.junction.tjMaxC!.toPrecision(4)}`,
     );
-    kv('Acceleration factor', d.fit.accelerationFactor);
-    kv('Device-hours', d.fit.deviceHours);
-    kv('Equivalent device-hours', d.fit.equivalentDeviceHours);
-    kv('FIT upper bound 60 %', d.fit.fit60);
-    kv('FIT upper bound 90 %', d.fit.fit90);
-    kv(
+    s.kv('Acceleration factor', d.fit.accelerationFactor);
+    s.kv('Device-hours', d.fit.deviceHours);
+    s.kv('Equivalent device-hours', d.fit.equivalentDeviceHours);
+    s.kv('FIT upper bound 60 %', d.fit.fit60);
+    s.kv('FIT upper bound 90 %', d.fit.fit90);
+    s.kv(
       'Constants',
       `k ${d.fit.constants.boltzmannEvPerK} eV/K (${d.fit.constants.source}), Ea ${d.fit.constants.eaEv} eV, use ${d.fit.constants.useC} °C, stress ${+d.fit.constants.stressC.toPrecision(4)} °C (${d.fit.constants.stressBasis})`,
     );
   }
   for (const p of d.plans) {
     if (p.fit)
-      kv(`FIT 60 % / 90 %: ${p.planName} (${p.fit.mechanismLabel})`, `${+p.fit.fit60.toPrecision(4)} / ${+p.fit.fit90.toPrecision(4)}`);
-    else if (p.fitUnavailable) kv(`FIT: ${p.planName}`, p.fitUnavailable);
+      s.kv(`FIT 60 % / 90 %: ${p.planName} (${p.fit.mechanismLabel})`, `${+p.fit.fit60.toPrecision(4)} / ${+p.fit.fit90.toPrecision(4)}`);
+    else if (p.fitUnavailable) s.kv(`FIT: ${p.planName}`, p.fitUnavailable);
   }
-  kv('Caution', d.caution);
-  lines.push('');
-  lines.push(
-    csvLine([
-      'Read point (h)',
-      'Devices',
-      'Late',
-      'hFE change mean %',
-      'hFE change sd %',
-      'hFE change p5 %',
-      'hFE change median %',
-      'hFE change p95 %',
-      'ICBO ratio median',
-      'ICBO ratio p95',
-      'VCE(sat) shift mean mV',
-      'Failing',
-      'Cumulative fails',
-    ]),
-  );
+  s.kv('Caution', d.caution);
+}
+
+/** The drift table: one row per read point. */
+function writeReadPointsCsv(s: CsvSheet, d: LotDetail) {
+  s.blank();
+  s.row([
+    'Read point (h)',
+    'Devices',
+    'Late',
+    'hFE change mean %',
+    'hFE change sd %',
+    'hFE change p5 %',
+    'hFE change median %',
+    'hFE change p95 %',
+    'ICBO ratio median',
+    'ICBO ratio p95',
+    'VCE(sat) shift mean mV',
+    'Failing',
+    'Cumulative fails',
+  ]);
   for (const r of d.readPoints) {
-    lines.push(
-      csvLine([
-        r.hours,
-        r.devicesMeasured,
-        r.late,
-        r.hfeChangePct?.mean,
-        r.hfeChangePct?.sd,
-        r.hfeChangePct?.p5,
-        r.hfeChangePct?.median,
-        r.hfeChangePct?.p95,
-        r.icboRatio?.median,
-        r.icboRatio?.p95,
-        r.vcesatShiftMv?.mean,
-        r.failing,
-        r.cumulativeFails,
-      ]),
-    );
+    s.row([
+      r.hours,
+      r.devicesMeasured,
+      r.late,
+      r.hfeChangePct?.mean,
+      r.hfeChangePct?.sd,
+      r.hfeChangePct?.p5,
+      r.hfeChangePct?.median,
+      r.hfeChangePct?.p95,
+      r.icboRatio?.median,
+      r.icboRatio?.p95,
+      r.vcesatShiftMv?.mean,
+      r.failing,
+      r.cumulativeFails,
+    ]);
   }
-  lines.push('');
-  lines.push(
-    csvLine([
-      'Serial',
-      'Socket',
-      'Status',
-      'First failed (h)',
-      'Failed parameters',
-      'Latest read point (h)',
-      'hFE change %',
-      'ICBO ratio',
-      'VCE(sat) shift mV',
-      'hFE referred to reference temperature',
-      'Late reading',
-    ]),
-  );
+}
+
+/** One row per device: status, first failure, latest changes. */
+function writeDevicesCsv(s: CsvSheet, d: LotDetail) {
+  s.blank();
+  s.row([
+    'Serial',
+    'Socket',
+    'Status',
+    'First failed (h)',
+    'Failed parameters',
+    'Latest read point (h)',
+    'hFE change %',
+    'ICBO ratio',
+    'VCE(sat) shift mV',
+    'hFE referred to reference temperature',
+    'Late reading',
+  ]);
   for (const x of d.devices) {
-    lines.push(
-      csvLine([
-        x.serial,
-        x.socketIndex,
-        x.status,
-        x.firstFailedH,
-        x.failedParameters.map((p) => PARAM[p]).join(' '),
-        x.latestH,
-        x.hfeChangePct,
-        x.icboRatio,
-        x.vcesatShiftMv,
-        x.hfeNormalised,
-        x.late,
-      ]),
-    );
+    s.row([
+      x.serial,
+      x.socketIndex,
+      x.status,
+      x.firstFailedH,
+      x.failedParameters.map((p) => PARAM[p]).join(' '),
+      x.latestH,
+      x.hfeChangePct,
+      x.icboRatio,
+      x.vcesatShiftMv,
+      x.hfeNormalised,
+      x.late,
+    ]);
   }
-  writeRecordsCsv(lines, d);
-  writeReportBlocksCsv(lines, r);
-  return `\uFEFF${lines.join('\r\n')}\r\n`;
 }
 
 const deviationLabels = (v: LotReadingVersion) => v.deviation.map((k) => RECORD_DEVIATION_LABEL[k]).join('; ');
 
 /** Every version of each corrected reading (the earlier values stay in the record), then the deviations. */
-function writeRecordsCsv(lines: string[], d: LotDetail) {
-  lines.push('');
-  lines.push(csvLine(['Corrected readings: every version (the current one marked)']));
-  lines.push(
-    csvLine([
-      'Run',
-      'Serial',
-      'Read point (h)',
-      'Version',
-      'Current',
-      'Result',
-      'hFE',
-      'ICBO (A)',
-      'VCE(sat) (V)',
-      'Measured at',
-      'Entered by',
-      'Recorded at',
-      'Reason',
-      'Deviation',
-    ]),
-  );
-  if (!d.records.corrections.length) lines.push(csvLine(['none']));
+function writeRecordsCsv(s: CsvSheet, d: LotDetail) {
+  s.blank();
+  s.row(['Corrected readings: every version (the current one marked)']);
+  s.row([
+    'Run',
+    'Serial',
+    'Read point (h)',
+    'Version',
+    'Current',
+    'Result',
+    'hFE',
+    'ICBO (A)',
+    'VCE(sat) (V)',
+    'Measured at',
+    'Entered by',
+    'Recorded at',
+    'Reason',
+    'Deviation',
+  ]);
+  if (!d.records.corrections.length) s.row(['none']);
   for (const v of d.records.corrections) {
-    lines.push(
-      csvLine([
-        v.runCode,
-        v.serial,
-        v.readPointH,
-        v.version,
-        v.current,
-        v.result,
-        v.hfe,
-        v.icboA,
-        v.vcesatV,
-        formatUtc(new Date(v.measuredAt)),
-        v.enteredByName,
-        formatUtc(new Date(v.recordedAt)),
-        v.reason,
-        deviationLabels(v),
-      ]),
-    );
+    s.row([
+      v.runCode,
+      v.serial,
+      v.readPointH,
+      v.version,
+      v.current,
+      v.result,
+      v.hfe,
+      v.icboA,
+      v.vcesatV,
+      formatUtc(new Date(v.measuredAt)),
+      v.enteredByName,
+      formatUtc(new Date(v.recordedAt)),
+      v.reason,
+      deviationLabels(v),
+    ]);
   }
-  lines.push('');
-  lines.push(csvLine(['Record deviations', d.records.deviations.length]));
+  s.blank();
+  s.row(['Record deviations', d.records.deviations.length]);
   for (const v of d.records.deviations) {
-    lines.push(
-      csvLine([
-        v.runCode,
-        v.serial,
-        v.readPointH,
-        v.version,
-        deviationLabels(v),
-        v.reason,
-        v.enteredByName,
-        formatUtc(new Date(v.recordedAt)),
-      ]),
-    );
+    s.row([v.runCode, v.serial, v.readPointH, v.version, deviationLabels(v), v.reason, v.enteredByName, formatUtc(new Date(v.recordedAt))]);
   }
 }
 
 /** The report blocks' tables: samples per plan, devices with dispositions, FIT, equipment, deviations, signatures. */
-function writeReportBlocksCsv(lines: string[], r: LotReportData) {
-  const block = (title: string, header: string[], rows: Cell[][]) => {
-    lines.push('');
-    lines.push(csvLine([title]));
-    lines.push(csvLine(header));
-    if (!rows.length) lines.push(csvLine(['none']));
-    for (const row of rows) lines.push(csvLine(row));
-  };
+function writeReportBlocksCsv(s: CsvSheet, r: LotReportData) {
+  const block = (title: string, header: Cell[], rows: Cell[][]) => s.block(title, header, rows);
   block(
     'Samples per plan',
     [
@@ -319,7 +314,7 @@ function writeReportBlocksCsv(lines: string[], r: LotReportData) {
     ['Name', 'E-mail', 'Meaning', 'Verdict signed', 'Signed at', 'SHA-256 signed', 'Still covers the verdict'],
     r.signatures.map((s) => [s.name, s.email, s.meaning, s.verdict, s.signedAt, s.dataHash, !s.stale]),
   );
-  lines.push(csvLine(['SHA-256 of the judged evidence now', r.evidenceHash]));
+  s.row(['SHA-256 of the judged evidence now', r.evidenceHash]);
 }
 
 /** The lot report PDF: a title, the lot section (every block), the drift table and the caution. */

@@ -15,7 +15,7 @@ import {
   type RunUsage,
 } from '../../../shared/scheduling/utilisation';
 import type { AppContext } from '../../context';
-import { csvLine } from '../reports/csv';
+import { CsvSheet } from '../reports/csv';
 import * as data from './utilisation.data';
 
 const H = 3_600_000;
@@ -108,16 +108,15 @@ export class UtilisationService {
 
   async csv(q: UtilisationQuery): Promise<string> {
     const u = await this.report(q);
-    const lines = [
-      csvLine(['Rig', 'Week starting (UTC)', 'Booked socket-h', 'Stressed socket-h', 'Idle socket-h', 'Lost to faults socket-h']),
-      ...u.rows.map((r) => csvLine([r.rigCode, r.weekStart.slice(0, 10), r.bookedSh, r.stressedSh, r.idleSh, r.lostSh])),
-      '',
-      csvLine(['Median request-to-verdict (h)', u.turnaround.medianH === null ? '' : round3(u.turnaround.medianH)]),
-      csvLine(['Lot', 'Requested (UTC)', 'Verdict signed (UTC)', 'Hours']),
-      ...u.turnaround.lots.map((l) => csvLine([l.lotCode, l.requestedAt, l.signedAt, round3(l.hours)])),
-      '',
-      ...Object.values(u.definitions).map((d) => csvLine([d])),
-    ];
-    return lines.join('\r\n') + '\r\n';
+    const s = new CsvSheet();
+    s.row(['Rig', 'Week starting (UTC)', 'Booked socket-h', 'Stressed socket-h', 'Idle socket-h', 'Lost to faults socket-h']);
+    for (const r of u.rows) s.row([r.rigCode, r.weekStart.slice(0, 10), r.bookedSh, r.stressedSh, r.idleSh, r.lostSh]);
+    s.blank();
+    s.row(['Median request-to-verdict (h)', u.turnaround.medianH === null ? '' : round3(u.turnaround.medianH)]);
+    s.row(['Lot', 'Requested (UTC)', 'Verdict signed (UTC)', 'Hours']);
+    for (const l of u.turnaround.lots) s.row([l.lotCode, l.requestedAt, l.signedAt, round3(l.hours)]);
+    s.blank();
+    for (const d of Object.values(u.definitions)) s.row([d]);
+    return s.text();
   }
 }
