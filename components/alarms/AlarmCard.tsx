@@ -47,7 +47,7 @@ export function AlarmCard({ alarm: a, canAcknowledge, onAcknowledge, highlighted
         )}
       </View>
       <View style={{ gap: space.xxs }}>
-        <Text variant="heading" heading={3}>
+        <Text variant="heading" heading={2}>
           {a.title}
         </Text>
         <Text variant="caption" tone="muted">

@@ -58,7 +58,8 @@ export function ScheduleScreen() {
     { key: 'start', title: 'Start', flex: 1, render: (r) => shortTime(r.startedAt ?? r.scheduledStart) },
     {
       key: 'open',
-      title: '',
+      title: 'Actions',
+      titleHidden: true,
       flex: 0.8,
       card: 'actions',
       render: (r) => (

@@ -17,7 +17,12 @@ export interface Column<T> {
    * under it), `field` (label: value, the default), `actions` (a row at the bottom), `hidden`.
    */
   card?: 'title' | 'subtitle' | 'field' | 'actions' | 'hidden';
+  /** The header names the column for screen readers only (e.g. "Actions" over a column of buttons). */
+  titleHidden?: boolean;
 }
+
+/** Kept in the accessibility tree, out of sight (the usual visually-hidden pattern). */
+const VISUALLY_HIDDEN = { position: 'absolute', width: 1, height: 1, margin: -1, overflow: 'hidden' } as const;
 
 interface Props<T> {
   columns: Column<T>[];
@@ -147,7 +152,7 @@ export function DataTable<T>({ columns, rows, rowKey, caption, cardsBelow = 'tab
       >
         {columns.map((c) => (
           <View key={c.key} role="columnheader" style={{ flex: c.flex ?? 1, paddingVertical: space.sm, paddingHorizontal: space.xs }}>
-            <Text variant="overline" tone="muted" align={c.align}>
+            <Text variant="overline" tone="muted" align={c.align} style={c.titleHidden ? VISUALLY_HIDDEN : undefined}>
               {c.title}
             </Text>
           </View>
