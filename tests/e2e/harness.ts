@@ -59,7 +59,8 @@ export interface JourneyContext {
   shot: (step: string) => Promise<void>;
   /**
    * axe-core on the current page: fails on any serious or critical violation (no exceptions list:
-   * a finding is fixed, not switched off). Moderate and minor ones are logged.
+   * a finding is fixed, not switched off) and on the rules in A11Y_ALWAYS_FAIL. Other moderate and
+   * minor ones are logged.
    */
   checkA11y: (where: string) => Promise<void>;
   signIn: (email: string, password: string) => Promise<void>;
@@ -74,6 +75,9 @@ export interface Journey {
   name: string;
   run: (j: JourneyContext) => Promise<void>;
 }
+
+/** Moderate or minor axe rules that fail a journey too: fixed once, they must not come back. */
+const A11Y_ALWAYS_FAIL = new Set(['heading-order', 'empty-table-header']);
 
 const AXE_SOURCE = fs.readFileSync(require.resolve('axe-core/axe.min.js'), 'utf8');
 
@@ -109,8 +113,10 @@ export function makeContext(
           .slice(0, 3)
           .map((x) => (x.html ?? x.target.join(' ')).slice(0, 160))
           .join(' | ')}`;
-      a11yLog.push(...result.violations.filter((v) => v.impact !== 'serious' && v.impact !== 'critical').map(describe));
-      const failing = result.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
+      const fails = (v: (typeof result.violations)[number]) =>
+        v.impact === 'serious' || v.impact === 'critical' || A11Y_ALWAYS_FAIL.has(v.id);
+      a11yLog.push(...result.violations.filter((v) => !fails(v)).map(describe));
+      const failing = result.violations.filter(fails);
       if (failing.length) throw new Error(`accessibility: ${failing.map(describe).join('; ')}`);
     },
     navTo: async (label) => {
