@@ -8,7 +8,7 @@
  */
 import { randomBytes } from 'node:crypto';
 import mqtt, { type MqttClient } from 'mqtt';
-import { commandSchema, describeIssues, topics, type CommandAck, type StoredCommand } from '../../../shared/mqtt';
+import { commandSchema, describeIssues, parseBrokerList, topics, type CommandAck, type StoredCommand } from '../../../shared/mqtt';
 import type { RigCommandBody, RigLink } from './contracts';
 
 export interface MqttRigLinkOptions {
@@ -79,7 +79,9 @@ export class MqttRigLink implements RigLink {
 
   start(): void {
     if (this.client || this.stopped) return;
-    const c = mqtt.connect(this.opts.url, {
+    const target = parseBrokerList(this.opts.url);
+    const c = mqtt.connect(target.url, {
+      ...(target.servers ? { servers: target.servers } : {}),
       clientId: this.opts.clientId ?? `emberlot-server-${process.pid}-${this.boot}`,
       username: this.opts.username,
       password: this.opts.password,
