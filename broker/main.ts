@@ -51,6 +51,9 @@ async function main(): Promise<void> {
   const stop = async (signal: string) => {
     if (stopping) return;
     stopping = true;
+    // Redis mode: a session clean-up still running when its connection closes rejects with
+    // "Connection is closed"; on the way out that is a line, not a crash.
+    process.on('unhandledRejection', (err) => console.log(`[broker] while closing: ${err instanceof Error ? err.message : String(err)}`));
     console.log(`[broker] ${signal}: closing (counters ${JSON.stringify({ ...eb.counters, connectedRigs: eb.counters.connectedRigs })})`);
     const force: { unref?: () => void } = setTimeout(() => process.exit(1), 5000) as never;
     force.unref?.();

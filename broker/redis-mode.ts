@@ -40,7 +40,6 @@ interface StoredWill {
 interface WillPersistence {
   streamWill(brokers: Record<string, number>): AsyncIterable<StoredWill>;
   delWill(client: { id: string; brokerId: string }): Promise<unknown>;
-  destroy(): Promise<unknown>;
 }
 
 const CONNECTED_KEY = (clientId: string) => `emberlot:mqtt:connected:${encodeURIComponent(clientId)}`;
@@ -62,7 +61,9 @@ export interface RedisMode {
 export function createRedisMode(opts: BrokerRedisOptions, log: (line: string) => void): RedisMode {
   const registry = new Redis(opts.url, { maxRetriesPerRequest: null, lazyConnect: false });
   registry.on('error', (err) => log(`redis registry: ${err.message}`));
-  const persistence = persistenceRedis({ conn: new Redis(opts.url, { maxRetriesPerRequest: null }) });
+  const persistenceConn = new Redis(opts.url, { maxRetriesPerRequest: null });
+  persistenceConn.on('error', (err) => log(`redis persistence: ${err.message}`));
+  const persistence = persistenceRedis({ conn: persistenceConn });
   const mq = mqemitterRedis({ connectionString: opts.url });
   let dropped = 0;
 
@@ -95,8 +96,12 @@ export function createRedisMode(opts: BrokerRedisOptions, log: (line: string) =>
       return dropped;
     },
     async close() {
-      await persistence.destroy().catch(() => undefined);
-      registry.disconnect();
+      // QUIT lets commands still queued (the last clients' session clean-up) finish first. Not
+      // persistence.destroy(): it unsubscribes through the emitter aedes has already closed, and
+      // that rejection went unhandled and crashed the process on SIGTERM.
+      // Clients closed just now still clean up their sessions in Redis for a moment.
+      await new Promise((r) => setTimeout(r, 250));
+      await Promise.all([persistenceConn.quit().catch(() => undefined), registry.quit().catch(() => undefined)]);
     },
   };
 }

@@ -96,7 +96,9 @@ export class MqttRigLink implements RigLink {
     c.on('connect', () => {
       this.backoffMs = this.minBackoffMs;
       c.options.reconnectPeriod = this.backoffMs;
-      this.log(`${this.lastError ? 'reconnected' : 'connected'} to ${this.opts.url}`);
+      // With a list of brokers, name the one this connection reached.
+      const where = target.servers ? `mqtt://${c.options.host}:${c.options.port}` : this.opts.url;
+      this.log(`${this.lastError ? 'reconnected' : 'connected'} to ${where}`);
       this.lastError = '';
       this.wasConnected = true;
       // Telemetry at QoS 0: its delivery is already guaranteed end to end — a rig keeps every
