@@ -39,7 +39,9 @@ async function main(): Promise<void> {
     maxPacketBytes: int(env.EMBERLOT_MQTT_MAX_PACKET_BYTES, MAX_PACKET_BYTES),
     authenticate: createPgAuthenticate({ pool, server: { username: serverUser, password: serverPassword } }),
     // Stale wills and Redis trouble are always worth a line; refusals only when asked.
-    log: verbose ? (line) => console.log(`[broker] ${line}`) : (line) => (/stale|redis|broker error/.test(line) ? console.log(`[broker] ${line}`) : undefined),
+    log: verbose
+      ? (line) => console.log(`[broker] ${line}`)
+      : (line) => (/stale|redis|broker error/.test(line) ? console.log(`[broker] ${line}`) : undefined),
     ...(redisUrl ? { redis: { url: redisUrl, heartbeatIntervalMs: int(env.EMBERLOT_BROKER_HEARTBEAT_MS, 2000) } } : {}),
   });
   const mode = redisUrl ? `shared through ${redisUrl}` : 'in memory';

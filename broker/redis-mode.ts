@@ -74,7 +74,9 @@ export function createRedisMode(opts: BrokerRedisOptions, log: (line: string) =>
         const now = await registry.get(CONNECTED_KEY(will.clientId)).catch(() => null);
         if (now && now !== will.brokerId) {
           dropped++;
-          log(`dropped the stale last will of "${will.clientId}" (broker ${will.brokerId} is gone; the client is connected through ${now})`);
+          log(
+            `dropped the stale last will of "${will.clientId}" (broker ${will.brokerId} is gone; the client is connected through ${now})`,
+          );
           await persistence.delWill({ id: will.clientId, brokerId: will.brokerId });
           continue;
         }

@@ -4,7 +4,15 @@
  * its outbox until the server confirms it with `stored`, and injects faults on request.
  */
 import mqtt, { type MqttClient } from 'mqtt';
-import { commandAckSchema, parseBrokerList, rigClientId, telemetryColumnsText, topics, type CommandAck, type RigStatus } from '../shared/mqtt';
+import {
+  commandAckSchema,
+  parseBrokerList,
+  rigClientId,
+  telemetryColumnsText,
+  topics,
+  type CommandAck,
+  type RigStatus,
+} from '../shared/mqtt';
 import { CommandDesk } from './commands';
 import { Outbox, type OutboxEntry } from './outbox';
 import {

@@ -93,7 +93,8 @@ async function main() {
       // demo) while its twin carries on; only the last of a kind, or any other process, stops all.
       const twin = layout && /^(broker|api)-/.test(name) ? name.replace(/-(a|b|1|2)$/, '') : null;
       const alive = (stack?.children ?? []).filter(
-        ({ spec, child }) => twin && spec.name !== name && spec.name.startsWith(`${twin}-`) && child.exitCode === null && child.signalCode === null,
+        ({ spec, child }) =>
+          twin && spec.name !== name && spec.name.startsWith(`${twin}-`) && child.exitCode === null && child.signalCode === null,
       );
       if (alive.length) {
         console.error(`[start] ${name} exited (${code ?? sig}); ${alive.map((c) => c.spec.name).join(', ')} carries on`);

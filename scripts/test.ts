@@ -78,9 +78,9 @@ async function main(): Promise<number> {
     }
   } finally {
     // The broker-cluster tests (tests/broker/cluster-*.test.ts) start their own Redis: install
-  // Debian's redis-server now (as pg-cluster.ts does postgresql) when this run includes them.
-  if (jestArgs.every((a) => a.startsWith('-')) || jestArgs.some((a) => /cluster/.test(a))) ensureRedisInstalled();
-  destroyCluster({ ...TEST_PG, quiet: true });
+    // Debian's redis-server now (as pg-cluster.ts does postgresql) when this run includes them.
+    if (jestArgs.every((a) => a.startsWith('-')) || jestArgs.some((a) => /cluster/.test(a))) ensureRedisInstalled();
+    destroyCluster({ ...TEST_PG, quiet: true });
   }
   console.log(`[test] finished in ${Math.round((Date.now() - t0) / 1000)} s`);
   console.log(`Tests: ${passed} passed, ${failed} failed`);

@@ -127,7 +127,11 @@ export async function runFailoverBroker(b: BenchEnv, log: (l: string) => void): 
         for (let s = 1; s <= last; s++) if (!set.has(s)) lost++;
       }
       const runBooksBalance =
-        f.missing === 0 && f.hoursAccrued === f.hoursExpected && f.readPoints === 1 && f.endH === f.hoursAccrued && f.cmdIdsAppliedTwice === 0;
+        f.missing === 0 &&
+        f.hoursAccrued === f.hoursExpected &&
+        f.readPoints === 1 &&
+        f.endH === f.hoursAccrued &&
+        f.cmdIdsAppliedTwice === 0;
       return {
         rigs: sims.length,
         published,

@@ -108,7 +108,9 @@ test('the topic rules hold on both brokers: a rig cannot publish as another rig 
 });
 
 test('bad credentials and a foreign client id are refused in Redis mode', async () => {
-  await expect(connectClient(b.port, { clientId: 'rig-OV-01', username: 'rig-OV-01', password: 'guess' })).rejects.toMatchObject({ code: 4 });
+  await expect(connectClient(b.port, { clientId: 'rig-OV-01', username: 'rig-OV-01', password: 'guess' })).rejects.toMatchObject({
+    code: 4,
+  });
   await expect(connectClient(b.port, { clientId: 'rig-OV-02', username: 'rig-OV-01', password: 'ov01-secret' })).rejects.toMatchObject({
     code: 2,
   });
@@ -130,6 +132,8 @@ test('the sign-in throttle still locks a user name after 5 failures (per broker)
       code: 4,
     });
   }
-  await expect(connectClient(a.port, { clientId: 'rig-OV-02', username: 'rig-OV-02', password: 'guess-6' })).rejects.toMatchObject({ code: 5 });
+  await expect(connectClient(a.port, { clientId: 'rig-OV-02', username: 'rig-OV-02', password: 'guess-6' })).rejects.toMatchObject({
+    code: 5,
+  });
   expect(a.counters.throttledConnects).toBe(before + 1);
 });

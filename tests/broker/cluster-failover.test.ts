@@ -40,7 +40,13 @@ const liveStatuses: RigStatus[] = [];
 let watcher: MqttClient | null = null;
 
 function connectWatcher(port: number, id: string): Promise<MqttClient> {
-  return mqtt.connectAsync(`mqtt://127.0.0.1:${port}`, { ...MQTT_SERVER, clientId: id, protocolVersion: 4, clean: true, reconnectPeriod: 0 });
+  return mqtt.connectAsync(`mqtt://127.0.0.1:${port}`, {
+    ...MQTT_SERVER,
+    clientId: id,
+    protocolVersion: 4,
+    clean: true,
+    reconnectPeriod: 0,
+  });
 }
 
 beforeAll(async () => {
@@ -113,10 +119,12 @@ test("the dead broker's stored last will of the rig is dropped as stale: no offl
   expect(stack.brokers[1].lines(/dropped the stale last will of "rig-OV-91"/)).toHaveLength(1);
   // A newcomer gets the retained status: online.
   const late = await connectWatcher(stack.brokerPorts[1], 'emberlot-watch-late');
-  const retained = new Promise<RigStatus>((resolve) => late.on('message', (_t, payload) => {
-    const st = parseStatus(payload);
-    if (st.ok) resolve(st.data);
-  }));
+  const retained = new Promise<RigStatus>((resolve) =>
+    late.on('message', (_t, payload) => {
+      const st = parseStatus(payload);
+      if (st.ok) resolve(st.data);
+    }),
+  );
   await late.subscribeAsync(topics.status('OV-91'), { qos: 1 });
   expect((await retained).online).toBe(true);
   await late.endAsync(true);
