@@ -122,6 +122,8 @@ export function proposeMakeUp(input: MakeUpInput): MakeUpProposal {
     explanation:
       `A make-up of ${k} fresh devices, judged with the ${valid} still in the sample, restores ${planned} devices ` +
       `at accept number ${c}: LTPD ${pct(restoredLtpd)} (now ${ltpdNow === null ? 'none' : pct(ltpdNow)}).` +
-      (noFailureRoom ? ` The sample already has ${failures} ${failures === 1 ? 'failure' : 'failures'}: any failure among the make-up devices fails it.` : ''),
+      (noFailureRoom
+        ? ` The sample already has ${failures} ${failures === 1 ? 'failure' : 'failures'}: any failure among the make-up devices fails it.`
+        : ''),
   };
 }
