@@ -23,11 +23,11 @@ export const engineerMakeUp: Journey = {
     await expect(page.getByRole('heading', { name: 'HTRB-2612-C', exact: true })).toBeVisible();
     const card = page.getByTestId('make-up-card');
     await expect(card).toBeVisible(20000);
-    await expect(card.getByTestId('make-up-lost-count')).toHaveText('2 devices lost or excluded');
+    await expect(card.getByTestId('make-up-lost-count')).toContainText(/^2 devices lost or excluded$/);
     const lost = card.getByTestId('make-up-lost');
     await expect(lost).toContainText('C0010 (HTRB-2612-C): lost at 500 h');
     await expect(lost).toContainText('C0031 (HTRB-2612-C): damaged in handling at 500 h');
-    await expect(card.getByTestId('make-up-ltpd-plan')).toHaveText('2.95 %');
+    await expect(card.getByTestId('make-up-ltpd-plan')).toContainText(/^2\.95 %$/);
     await expect(card.getByTestId('make-up-rule')).toContainText('judged together with the devices still in the sample as one sample');
     const status = card.getByTestId('make-up-status');
     await expect(status).toContainText(/^(Make-up of 2|Sample restored)$/);
@@ -35,9 +35,9 @@ export const engineerMakeUp: Journey = {
 
     if ((await status.innerText()).trim() === 'Make-up of 2') {
       // 75 of 77 left: the LTPD the survivors show is above the plan's; two fresh devices restore it.
-      await expect(card.getByTestId('make-up-ltpd-now')).toHaveText('3.02 %');
-      await expect(card.getByTestId('make-up-explanation')).toHaveText(
-        'A make-up of 2 fresh devices, judged with the 75 still in the sample, restores 77 devices at accept number 0: LTPD 2.95 % (now 3.02 %).',
+      await expect(card.getByTestId('make-up-ltpd-now')).toContainText(/^3\.02 %$/);
+      await expect(card.getByTestId('make-up-explanation')).toContainText(
+        /^A make-up of 2 fresh devices, judged with the 75 still in the sample, restores 77 devices at accept number 0: LTPD 2\.95 % \(now 3\.02 %\)\.$/,
       );
       const slot = card.getByTestId('make-up-slot');
       await expect(slot).toContainText(/^Earliest rig time: [A-Z]{2}-\d{2} \(.+\), .+ → .+\.$/);
@@ -45,7 +45,7 @@ export const engineerMakeUp: Journey = {
       await j.checkA11y('make-up card');
       await j.shot('make-up-proposed');
       const book = card.getByTestId('make-up-book');
-      await expect(book).toHaveText(`Book the make-up on ${rig}`);
+      await expect(book).toContainText(new RegExp(`^Book the make-up on ${rig}$`));
       await book.click();
       await page.waitForURL((u) => u.pathname.startsWith('/runs/') && !u.pathname.endsWith('/make-up'), { timeout: 15000 });
       const title = page.getByRole('heading', { name: /^HTRB-2612-C-\d+$/ }).first();
@@ -63,8 +63,8 @@ export const engineerMakeUp: Journey = {
       j.log(`make-up ${code} booked on ${rig}: ${await sample.innerText()}`);
     } else {
       // Booked at the other size already: 77 of the 79 booked are still in the sample.
-      await expect(card.getByTestId('make-up-explanation')).toHaveText(
-        '77 devices are still in the sample; the plan asks for 77, so its LTPD of 2.95 % stands without a make-up.',
+      await expect(card.getByTestId('make-up-explanation')).toContainText(
+        /^77 devices are still in the sample; the plan asks for 77, so its LTPD of 2\.95 % stands without a make-up\.$/,
       );
       await expect(card.getByTestId('make-up-book')).toHaveCount(0);
       await expect(page.getByTestId('run-sample')).toContainText(/^Sample: 79 of the plan's 77 devices, split over runs /);
