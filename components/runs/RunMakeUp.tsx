@@ -47,12 +47,14 @@ function MakeUpBody({ v }: { v: MakeUpView }) {
   const router = useRouter();
   const removed = v.lost.filter((d) => d.kind === 'removed').length;
   const tripped = v.lost.length - removed;
-  const tone = v.status === 'possible' ? 'attention' : v.status === 'nothing-to-restore' ? 'ok' : 'danger';
+  const tone = v.status === 'possible' ? 'attention' : v.status === 'nothing-to-restore' ? (v.notStarted ? 'info' : 'ok') : 'danger';
   const label =
     v.status === 'possible'
       ? `Make-up of ${v.makeUpSize}`
       : v.status === 'nothing-to-restore'
-        ? 'Sample restored'
+        ? v.notStarted > 0
+          ? 'Make-up booked'
+          : 'Sample restored'
         : v.status === 'failed-already'
           ? 'Sample failed'
           : 'Too few fresh devices';
@@ -70,8 +72,11 @@ function MakeUpBody({ v }: { v: MakeUpView }) {
           testID="make-up-lost-count"
           value={`${countOf(removed, 'device')} lost or excluded${tripped ? ` · ${tripped} tripped, undecided` : ''}`}
         />
-        <Fact label="Still in the sample" value={`${v.valid} of ${v.sampleBookedSize} booked`} />
-        <Fact label="LTPD now" value={pct(v.ltpdNow)} testID="make-up-ltpd-now" />
+        <Fact
+          label="Still in the sample"
+          value={`${v.valid} of ${v.sampleBookedSize} booked${v.notStarted ? ` (${v.notStarted} not started)` : ''}`}
+        />
+        <Fact label={v.notStarted ? 'LTPD now (devices on test)' : 'LTPD now'} value={pct(v.ltpdNow)} testID="make-up-ltpd-now" />
         <Fact label="LTPD planned" value={pct(v.planLtpd)} testID="make-up-ltpd-plan" />
       </View>
       {v.lost.length ? (
@@ -83,7 +88,10 @@ function MakeUpBody({ v }: { v: MakeUpView }) {
           ))}
         </View>
       ) : null}
-      <Banner tone={v.status === 'possible' ? 'info' : v.status === 'nothing-to-restore' ? 'ok' : 'warn'} testID="make-up-explanation">
+      <Banner
+        tone={v.status === 'possible' || v.notStarted ? 'info' : v.status === 'nothing-to-restore' ? 'ok' : 'warn'}
+        testID="make-up-explanation"
+      >
         {v.explanation}
       </Banner>
       {v.status === 'possible' ? (

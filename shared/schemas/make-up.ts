@@ -51,15 +51,19 @@ export interface MakeUpView {
   /** The rule the proposal follows (MAKE_UP_RULE). */
   rule: string;
   sampleBookedSize: number;
+  /** Devices still in the sample, including those booked in runs not started yet. */
   valid: number;
   failures: number;
   lost: MakeUpLostDevice[];
   planLtpd: number;
+  /** The LTPD the devices on test (valid less notStarted) demonstrate at the plan's accept number. */
   ltpdNow: number | null;
   makeUpSize: number;
   restoredLtpd: number | null;
   noFailureRoom: boolean;
   freshInLot: number;
+  /** Devices booked in runs of the sample not started yet (a make-up booked): counted in `valid`, not in `ltpdNow`. */
+  notStarted: number;
   /** The earliest rig time for the make-up run (the booking proposals), null when none is free or none is proposed. */
   slot: MakeUpSlot | null;
   /** Why no slot could be offered (problems and blocking plan-check findings from the proposals). */

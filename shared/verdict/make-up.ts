@@ -36,6 +36,11 @@ export interface MakeUpInput {
   failures: number;
   /** Devices of the lot never placed in any run (the fresh devices a make-up can draw from). */
   freshInLot: number;
+  /**
+   * Devices booked in runs of the sample that have not started (a make-up booked already): they count
+   * towards the sample the plan asks for, but demonstrate nothing until stressed and read. Default 0.
+   */
+  notStarted?: number;
 }
 
 export type MakeUpStatus = 'nothing-to-restore' | 'possible' | 'failed-already' | 'too-few-fresh';
@@ -46,7 +51,9 @@ export interface MakeUpProposal {
   valid: number;
   /** The LTPD the plan's (n, c) demonstrates. */
   planLtpd: number;
-  /** The LTPD the valid devices demonstrate at the plan's accept number; null when c ≥ valid. */
+  /** Devices booked in runs not started yet (counted in `valid`, not in `ltpdNow`). */
+  notStarted: number;
+  /** The LTPD the valid devices on test (valid less notStarted) demonstrate at the plan's accept number; null when c ≥ that. */
   ltpdNow: number | null;
   /** Fresh devices the make-up needs (0 when nothing is to restore or it is impossible). */
   makeUpSize: number;
@@ -72,17 +79,19 @@ const pct = (x: number) => `${(x * 100).toFixed(2)} %`;
 /** The make-up sample that restores the plan's demonstrated LTPD (MAKE_UP_RULE), or why there is none. */
 export function proposeMakeUp(input: MakeUpInput): MakeUpProposal {
   const { planned, acceptNumber: c, confidence, booked, removed, undecidedTrips, failures, freshInLot } = input;
+  const notStarted = input.notStarted ?? 0;
   if (!wholeAtLeast(planned, 1)) throw new RangeError('the plan’s sample size must be a whole number ≥ 1');
   if (!wholeAtLeast(c, 0) || c >= planned) throw new RangeError('the accept number must be a whole number below the sample size');
-  for (const [name, v] of Object.entries({ booked, removed, undecidedTrips, failures, freshInLot })) {
+  for (const [name, v] of Object.entries({ booked, removed, undecidedTrips, failures, freshInLot, notStarted })) {
     if (!wholeAtLeast(v, 0)) throw new RangeError(`${name} must be a whole number ≥ 0`);
   }
   if (removed + undecidedTrips > booked) throw new RangeError('more devices out of the sample than booked');
   const valid = booked - removed - undecidedTrips;
-  if (failures > valid) throw new RangeError('more failures than devices still in the sample');
+  if (notStarted > valid) throw new RangeError('more devices waiting to start than still in the sample');
+  if (failures > valid - notStarted) throw new RangeError('more failures than devices still in the sample');
   const planLtpd = demonstratedLtpd({ sampleSize: planned, acceptNumber: c, confidence });
-  const ltpdNow = ltpdOf(valid, c, confidence);
-  const base = { valid, planLtpd, ltpdNow, noFailureRoom: false };
+  const ltpdNow = ltpdOf(valid - notStarted, c, confidence);
+  const base = { valid, notStarted, planLtpd, ltpdNow, noFailureRoom: false };
   const none = (status: MakeUpStatus, explanation: string): MakeUpProposal => ({
     ...base,
     status,
@@ -91,6 +100,12 @@ export function proposeMakeUp(input: MakeUpInput): MakeUpProposal {
     restoredLtpd: null,
     explanation,
   });
+  if (valid >= planned && notStarted > 0) {
+    return none(
+      'nothing-to-restore',
+      `A make-up is booked: with the ${notStarted} devices of runs not started yet, ${valid} devices will be in the sample; the plan asks for ${planned}. Until they are stressed and read, the ${valid - notStarted} on test demonstrate ${ltpdNow === null ? 'no LTPD' : `an LTPD of ${pct(ltpdNow)}`}.`,
+    );
+  }
   if (valid >= planned) {
     return none(
       'nothing-to-restore',

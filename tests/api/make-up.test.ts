@@ -187,7 +187,7 @@ describe('GET /api/runs/:id/make-up', () => {
   it('a run that lost nothing has nothing to restore', async () => {
     const res = await (await t.signIn('engineer')).get(`/api/runs/${ids.runB}/make-up`);
     expect(res.status).toBe(200);
-    expect(res.body).toMatchObject({ status: 'nothing-to-restore', valid: 10, makeUpSize: 0, lost: [], slot: null });
+    expect(res.body).toMatchObject({ status: 'nothing-to-restore', valid: 10, notStarted: 0, makeUpSize: 0, lost: [], slot: null });
     expect(res.body.explanation).toBe(
       '10 devices are still in the sample; the plan asks for 10, so its LTPD of 20.57 % stands without a make-up.',
     );
@@ -260,14 +260,12 @@ describe('POST /api/runs/:id/make-up', () => {
   it('books the make-up into the same sample in one step, audited; the proposal then has nothing left to restore', async () => {
     const eng = await t.signIn('engineer');
     const proposal = (await eng.get(url())).body;
-    const res = await eng
-      .post(url())
-      .send({
-        rigId: proposal.slot.rigId,
-        start: proposal.slot.start,
-        makeUpSize: proposal.makeUpSize,
-        sampleBookedSize: proposal.sampleBookedSize,
-      });
+    const res = await eng.post(url()).send({
+      rigId: proposal.slot.rigId,
+      start: proposal.slot.start,
+      makeUpSize: proposal.makeUpSize,
+      sampleBookedSize: proposal.sampleBookedSize,
+    });
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ state: 'booked', sampleSize: 3 });
     expect(res.body.sample).toMatchObject({ id: ids.sampleA, plannedSize: 10, bookedSize: 13 });
@@ -293,6 +291,11 @@ describe('POST /api/runs/:id/make-up', () => {
     expect(again.status).toBe(422);
     expect(await tableCounts(t.ctx.ds)).toEqual(before);
     const after = (await eng.get(url())).body;
-    expect(after).toMatchObject({ status: 'nothing-to-restore', sampleBookedSize: 13, valid: 10 });
+    expect(after).toMatchObject({ status: 'nothing-to-restore', sampleBookedSize: 13, valid: 10, notStarted: 3 });
+    // Until the make-up is stressed, the LTPD now is the 7 on test's: [pub: binomial success-run, c 0] 1 − 0.1^(1/7).
+    expect(after.ltpdNow).toBeCloseTo(1 - 0.1 ** (1 / 7), 9);
+    expect(after.explanation).toBe(
+      'A make-up is booked: with the 3 devices of runs not started yet, 10 devices will be in the sample; the plan asks for 10. Until they are stressed and read, the 7 on test demonstrate an LTPD of 28.03 %.',
+    );
   });
 });

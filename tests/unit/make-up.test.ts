@@ -64,6 +64,17 @@ describe('proposeMakeUp (make-up sample restoring the plan’s LTPD)', () => {
     expect(p.valid).toBe(77);
   });
 
+  test('a make-up already booked (not started) fills the sample, but the LTPD now counts only the devices on test', () => {
+    const p = proposeMakeUp({ ...base, booked: 79, removed: 2, notStarted: 2 });
+    expect(p.status).toBe('nothing-to-restore');
+    expect(p.valid).toBe(77);
+    // [pub: binomial success-run, c 0: p = 1 − (1 − CL)^(1/n)] 75 on test → 3.02 %
+    expect(p.ltpdNow).toBeCloseTo(1 - 0.1 ** (1 / 75), 9);
+    expect(p.explanation).toBe(
+      'A make-up is booked: with the 2 devices of runs not started yet, 77 devices will be in the sample; the plan asks for 77. Until they are stressed and read, the 75 on test demonstrate an LTPD of 3.02 %.',
+    );
+  });
+
   test('failures beyond the accept number: the sample has failed, no make-up (common practice)', () => {
     const p = proposeMakeUp({ ...base, removed: 4, failures: 1 });
     expect(p.status).toBe('failed-already');

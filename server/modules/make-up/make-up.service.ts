@@ -45,6 +45,7 @@ export class MakeUpService {
       restoredLtpd: null,
       noFailureRoom: false,
       freshInLot: 0,
+      notStarted: 0,
       slot: null,
       slotProblems: [],
       needsOverride: false,
@@ -82,6 +83,10 @@ export class MakeUpService {
     }
     lost.sort((a, b) => a.serial.localeCompare(b.serial));
     const freshInLot = await freshDevicesInLot(m, lot.id);
+    // Runs of the sample not started yet (a make-up booked already): their devices fill the sample but demonstrate nothing yet.
+    const notStarted = (await m.find(RunEntity, { where: { sampleId: sample.id } }))
+      .filter((r) => r.startedAt === null && r.state !== 'aborted')
+      .reduce((n, r) => n + r.sampleSize, 0);
     const p = proposeMakeUp({
       planned: plan.sampleSize,
       acceptNumber: plan.acceptNumber,
@@ -91,6 +96,7 @@ export class MakeUpService {
       undecidedTrips: lost.filter((x) => x.kind === 'tripped').length,
       failures: pj.sample.failures,
       freshInLot,
+      notStarted,
     });
     const out: MakeUpView = {
       ...view,
@@ -105,6 +111,7 @@ export class MakeUpService {
       restoredLtpd: p.restoredLtpd,
       noFailureRoom: p.noFailureRoom,
       freshInLot,
+      notStarted: p.notStarted,
     };
     if (p.status !== 'possible') return out;
     // The earliest rig time from the booking proposals (the one scheduler).
