@@ -21,6 +21,7 @@ import { managerCalendar } from './calendar';
 import { qualification } from './qualification';
 import { workingDay } from './working-day';
 import { engineerMakeUp } from './make-up';
+import { rigChartSpans } from './chart-spans';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -63,4 +64,6 @@ export const JOURNEYS: Journey[] = [
   adminRigs,
   // Books a make-up of two into HG2612-C's sample (the first size; the second finds it restored).
   engineerMakeUp,
+  // Reads OV-01's chart at every period (reads only).
+  rigChartSpans,
 ];
