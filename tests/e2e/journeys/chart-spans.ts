@@ -19,12 +19,14 @@ export const rigChartSpans: Journey = {
     await expect(page.getByTestId('rig-chart')).toBeVisible(20000);
     const spans = page.getByRole('radiogroup', { name: 'Period' });
     const tier = page.getByTestId('chart-tier');
+    // Each period is cut into 300 points (components/queries/floor.ts): 15 min → 3 s, 24 h → 5 min,
+    // 7 d → 34 min, 30 d → 2.4 h, 365 d → 29.2 h per point; the exact caption proves the new answer arrived.
     const cases: Array<[string, RegExp]> = [
-      ['15 min', /^From every sample, one point per \d+ s\.$/],
-      ['24 hours', /^From per-minute averages, one point per [\d.]+ min\.$/],
-      ['7 days', /^From hourly averages, one point per [\d.]+ (min|h)\.$/],
-      ['30 days', /^From hourly averages, one point per [\d.]+ (min|h)\.$/],
-      ['1 year', /^From hourly averages, one point per [\d.]+ (min|h)\.$/],
+      ['15 min', /^From every sample, one point per 3 s\.$/],
+      ['24 hours', /^From per-minute averages, one point per 5 min\.$/],
+      ['7 days', /^From hourly averages, one point per 34 min\.$/],
+      ['30 days', /^From hourly averages, one point per 2\.4 h\.$/],
+      ['1 year', /^From hourly averages, one point per 29\.2 h\.$/],
     ];
     for (const [label, words] of cases) {
       await spans.getByRole('radio', { name: label, exact: true }).click();
