@@ -116,7 +116,9 @@ export class MakeUpService {
     if (p.status !== 'possible') return out;
     // The earliest rig time from the booking proposals (the one scheduler).
     const proposals = await this.ctx.services.runs.propose({ planId: plan.id, lotIds: [lot.id], sampleSize: p.makeUpSize });
-    const earliest = [...proposals.options].sort((a, b) => a.start.localeCompare(b.start))[0] ?? null;
+    // The earliest start, on a rig that is online when one can take it.
+    const byStart = [...proposals.options].sort((a, b) => a.start.localeCompare(b.start));
+    const earliest = byStart.find((o) => o.online) ?? byStart[0] ?? null;
     return {
       ...out,
       slot: earliest
