@@ -489,7 +489,12 @@ const DEMO_RUNS: DemoRun[] = [
     startedDaysAgo: 28,
     // Two devices out of the sample at 500 h: the run page offers a make-up of two (make-up planning).
     removed: [
-      { serial: 'C0010', atH: 500, kind: 'lost', reason: 'Not in the carrier after the 500 h read point; searched the tester and the oven.' },
+      {
+        serial: 'C0010',
+        atH: 500,
+        kind: 'lost',
+        reason: 'Not in the carrier after the 500 h read point; searched the tester and the oven.',
+      },
       { serial: 'C0031', atH: 500, kind: 'damaged', reason: 'Collector lead bent while unloading for the 500 h read point.' },
     ],
   },

@@ -57,7 +57,8 @@ export function readsKeptRaw(fromMs: number, toMs: number, nowMs: number, window
 }
 
 /** The chart caption's words for the raw messages kept around trips, alarms and read points. */
-export const KEPT_RAW_CAPTION = 'From every sample kept around trips, alarms and read points (the rest of that day’s raw samples is no longer kept)';
+export const KEPT_RAW_CAPTION =
+  'From every sample kept around trips, alarms and read points (the rest of that day’s raw samples is no longer kept)';
 
 /** The chart caption's words for each tier. */
 export const TIER_CAPTION: Record<TelemetryTier, string> = {

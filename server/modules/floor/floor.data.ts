@@ -224,6 +224,10 @@ export async function chartRows(
 
 /** Whether telemetry_kept holds any raw message of the rig in [from, to) (the chart then reads it). */
 export async function keptRawExists(ds: DataSource, rigId: string, from: Date, to: Date): Promise<boolean> {
-  const rows: unknown[] = await ds.query(`SELECT 1 FROM telemetry_kept WHERE rig_id = $1 AND ts >= $2 AND ts < $3 LIMIT 1`, [rigId, from, to]);
+  const rows: unknown[] = await ds.query(`SELECT 1 FROM telemetry_kept WHERE rig_id = $1 AND ts >= $2 AND ts < $3 LIMIT 1`, [
+    rigId,
+    from,
+    to,
+  ]);
   return rows.length > 0;
 }
