@@ -21,10 +21,11 @@ import {
 } from '../../server/db/entities';
 import { insertHistoryRun } from '../../server/seed/seed-history';
 import type { LotDetail } from '../../shared/schemas/analytics';
-import type { QualificationDetail } from '../../shared/schemas/qualifications';
+import type { QualCellView, QualificationDetail } from '../../shared/schemas/qualifications';
 import { QUAL_TEMPLATES } from '../../shared/qualification/templates';
 import { createTestApp, type TestApp } from '../support/api';
 import { insertTestDeviceType, tableCounts } from '../support/db';
+import { pdfText } from '../support/pdf-text';
 
 let t: TestApp;
 const ids: Record<string, string> = {};
@@ -287,6 +288,112 @@ describe('waivers and outside results', () => {
   });
 });
 
+describe('withdrawing a waiver or an outside result', () => {
+  const reason = 'The customer did not accept the similarity argument; solderability is to be tested on this lot.';
+
+  test('wrong roles are refused, bad input is refused by the schema; nothing changes', async () => {
+    const cell = cellsOf(qual, 'sd')[0];
+    const url = `/api/qualifications/${qual.id}/cells/${cell.id}/withdraw`;
+    const mgr = await t.signIn('manager');
+    const op = await t.signIn('operator');
+    const eng = await t.signIn('engineer');
+    const before = await tableCounts(t.ctx.ds);
+    expect((await mgr.post(url).send({ record: 'waiver', reason })).status).toBe(403);
+    expect((await op.post(url).send({ record: 'waiver', reason })).status).toBe(403);
+    const noReason = await eng.post(url).send({ record: 'waiver' });
+    expect(noReason.status).toBe(400);
+    expect(noReason.body.error.fields.reason[0]).toBe('A withdrawal needs a reason');
+    const short = await eng.post(url).send({ record: 'waiver', reason: ' too short ' });
+    expect(short.status).toBe(400);
+    expect(short.body.error.fields.reason[0]).toMatch(/at least 10 characters/);
+    const what = await eng.post(url).send({ record: 'verdict', reason });
+    expect(what.status).toBe(400);
+    expect(what.body.error.fields.record[0]).toBe('Say what to withdraw: the waiver or the outside result');
+    expect((await eng.post(`/api/qualifications/${qual.id}/cells/${randomUUID()}/withdraw`).send({ record: 'waiver', reason })).status).toBe(
+      404,
+    );
+    // The cell has a waiver but no outside result.
+    const none = await eng.post(url).send({ record: 'external', reason });
+    expect(none.status).toBe(409);
+    expect(none.body.error.message).toMatch(/no outside result to withdraw/);
+    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+  });
+
+  test('a waiver withdrawn: the record is kept and audited, the cell returns to its own state; twice is a 409 that changes nothing', async () => {
+    const eng = await t.signIn('engineer');
+    const cell = cellsOf(qual, 'sd')[0];
+    const current: QualificationDetail = (await eng.get(`/api/qualifications/${qual.id}`)).body;
+    const waiver = current.cells.find((c) => c.id === cell.id)!.waiver!;
+    expect(waiver.reason).toMatch(/Same lead frame/);
+    const ok = await eng.post(`/api/qualifications/${qual.id}/cells/${cell.id}/withdraw`).send({ record: 'waiver', reason });
+    expect(ok.status).toBe(200);
+    const after: QualCellView = ok.body.cells.find((c: QualCellView) => c.id === cell.id);
+    // Solderability has no run kind and no outside result: back to not started.
+    expect(after.state).toBe('not-started');
+    expect(after.waiver).toBeNull();
+    expect(after.withdrawn).toEqual([
+      {
+        record: 'waiver',
+        text: waiver.reason,
+        recordedBy: 'Test engineer',
+        recordedAt: waiver.at,
+        reason,
+        by: 'Test engineer',
+        at: expect.any(String),
+      },
+    ]);
+    expect(ok.body.cellsDone).toBe(current.cellsDone - 1);
+    const audit = await t.ctx.ds.getRepository(AuditLogEntity).findOneBy({ action: 'qualification.cell-withdraw', entityId: qual.id });
+    expect(audit?.reason).toBe(reason);
+    expect(audit?.details).toMatchObject({ cellId: cell.id, record: 'waiver', withdrawn: { text: waiver.reason } });
+
+    const before = await tableCounts(t.ctx.ds);
+    const again = await eng.post(`/api/qualifications/${qual.id}/cells/${cell.id}/withdraw`).send({ record: 'waiver', reason });
+    expect(again.status).toBe(409);
+    expect(again.body.error.message).toBe('This cell has no waiver to withdraw; it may have been withdrawn already.');
+    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+
+    // The cell can be waived anew; the withdrawn waiver stays on its record.
+    const rewaive = await eng
+      .post(`/api/qualifications/${qual.id}/cells/${cell.id}/waiver`)
+      .send({ reason: 'Solderability shown on the sister part HPD-Q050 with the customer’s written agreement.' });
+    expect(rewaive.status).toBe(200);
+    const re: QualCellView = rewaive.body.cells.find((c: QualCellView) => c.id === cell.id);
+    expect(re.state).toBe('waived');
+    expect(re.withdrawn).toHaveLength(1);
+    qual = rewaive.body;
+  });
+
+  test('an outside result withdrawn: the cell is open again and takes a new result', async () => {
+    const eng = await t.signIn('engineer');
+    const esd = cellsOf(qual, 'esd-hbm')[0];
+    expect(esd.state).toBe('passed');
+    const ok = await eng
+      .post(`/api/qualifications/${qual.id}/cells/${esd.id}/withdraw`)
+      .send({ record: 'external', reason: 'The ESD bench was out of calibration on the test date (HPD-CAL-0412).' });
+    expect(ok.status).toBe(200);
+    const after: QualCellView = ok.body.cells.find((c: QualCellView) => c.id === esd.id);
+    expect(after.state).toBe('not-started');
+    expect(after.external).toBeNull();
+    expect(after.withdrawn[0]).toMatchObject({
+      record: 'external',
+      text: 'pass - Harrowgate ESD bench, tested 2026-11-02 10:00 UTC, document HPD-ESD-0412',
+      recordedBy: 'Test engineer',
+      recordedAt: '2026-11-02T10:00:00.000Z',
+    });
+    const twice = await eng
+      .post(`/api/qualifications/${qual.id}/cells/${esd.id}/withdraw`)
+      .send({ record: 'external', reason: 'The ESD bench was out of calibration on the test date (HPD-CAL-0412).' });
+    expect(twice.status).toBe(409);
+    const again = await eng
+      .post(`/api/qualifications/${qual.id}/cells/${esd.id}/external`)
+      .send({ result: 'pass', by: 'Harrowgate ESD bench', at: '2026-11-20T10:00:00Z', document: 'HPD-ESD-0412-R' });
+    expect(again.status).toBe(200);
+    expect(again.body.cells.find((c: QualCellView) => c.id === esd.id).state).toBe('passed');
+    qual = again.body;
+  });
+});
+
 describe('bad input and roles', () => {
   test('a family needs its generic-data rule; a lot of another part is refused; nothing changes', async () => {
     const eng = await t.signIn('engineer');
@@ -361,6 +468,37 @@ describe('report', () => {
     expect(pages.length).toBeGreaterThanOrEqual(2);
   });
 
+  test("the PDF's cell table states each cell's sample, failures and verdict as the lot views, and its runs as the run views", async () => {
+    const mgr = await t.signIn('manager');
+    const d: QualificationDetail = (await mgr.get(`/api/qualifications/${qual.id}`)).body;
+    const res = await mgr
+      .get(`/api/qualifications/${qual.id}/report.pdf`)
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on('data', (c: Buffer) => chunks.push(c));
+        r.on('end', () => cb(null, Buffer.concat(chunks)));
+      });
+    expect(res.status).toBe(200);
+    const flat = pdfText(res.body as Buffer).replace(/\s+/g, ' ');
+    const verdictWord: Record<string, string> = { passed: 'Passed', failed: 'Failed', 'in-progress': 'In progress' };
+    const stateWord: Record<string, string> = { passed: 'Passed', failed: 'Failed', 'under-stress': 'Under stress' };
+    let compared = 0;
+    for (const c of cellsOf(d, 'htrb')) {
+      const view: LotDetail = (await mgr.get(`/api/analytics/lots/${c.lotId}`)).body;
+      const p = view.plans.find((x) => x.kind === 'htrb')!;
+      // "planned (c accept), booked, judged, failed" then "state / verdict", as the cell table prints them.
+      const row = `${c.plannedSample} (c ${c.acceptNumber}), ${p.sample.booked}, ${p.sample.judged}, ${p.sample.failures} ${stateWord[c.state]} / ${verdictWord[p.verdict]}`;
+      expect(flat).toContain(row);
+      for (const r of c.runs) {
+        const run = (await mgr.get(`/api/runs/${r.id}`)).body;
+        expect(flat).toContain(`${run.code} (${run.rig.code}, ${run.state}, ${run.stressHours} h)`);
+        compared++;
+      }
+    }
+    expect(compared).toBe(3);
+  });
+
   test("the CSV's numbers per cell match the lot views (sample, failures, FIT, verdict)", async () => {
     const mgr = await t.signIn('manager');
     const res = await mgr.get(`/api/qualifications/${qual.id}/report.csv`);
@@ -390,6 +528,15 @@ describe('report', () => {
     }
     expect(compared).toBeGreaterThanOrEqual(2);
     expect(res.text).toMatch(/Waiver,Solderability,HG9801-A/);
+    // Withdrawn records stay on the report with who withdrew them and why.
+    const withdrawn = rows.filter((r) => r[0] === 'Withdrawn');
+    expect(withdrawn.map((r) => r.slice(0, 4))).toEqual([
+      ['Withdrawn', 'outside result', 'ESD, human body model', 'HG9801-A'],
+      ['Withdrawn', 'waiver', 'Solderability', 'HG9801-A'],
+    ]);
+    expect(withdrawn[1][4]).toMatch(/^Same lead frame/);
+    expect(withdrawn[1].slice(5, 8)).toEqual(['Test engineer', 'The customer did not accept the similarity argument; solderability is to be tested on this lot.', 'Test engineer']);
+    expect(withdrawn[0][4]).toBe('pass - Harrowgate ESD bench, tested 2026-11-02 10:00 UTC, document HPD-ESD-0412');
     expect(res.text).toMatch(/\r\nHG9801-A,R-QA,OV-97,qualification test oven,/);
   });
 });

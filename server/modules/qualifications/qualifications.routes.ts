@@ -6,6 +6,7 @@ import {
   qualificationParamsSchema,
   updateCellSchema,
   waiveCellSchema,
+  withdrawCellSchema,
 } from '../../../shared/schemas/qualifications';
 import type { AppContext } from '../../context';
 import { ApiRouter, HANDLED } from '../../http/route';
@@ -47,6 +48,11 @@ export function qualificationsRoutes(ctx: AppContext): ApiRouter {
     '/:id/cells/:cellId/external',
     { access: editors, params: qualificationCellParamsSchema, body: externalResultSchema },
     ({ user, params, body }) => svc.recordExternal(user, params.id, params.cellId, body),
+  );
+  r.post(
+    '/:id/cells/:cellId/withdraw',
+    { access: rolesFor('qualification.withdraw'), params: qualificationCellParamsSchema, body: withdrawCellSchema },
+    ({ user, params, body }) => svc.withdraw(user, params.id, params.cellId, body),
   );
   r.get('/:id/report.csv', { access: readers, params: qualificationParamsSchema }, async ({ params, res }) => {
     const data = await svc.reportData(params.id);

@@ -17,6 +17,7 @@ import type {
   QualTemplateView,
   UpdateCellInput,
   WaiveCellInput,
+  WithdrawCellInput,
 } from '../../../shared/schemas/qualifications';
 import {
   CELL_DONE_STATES,
@@ -33,7 +34,17 @@ import {
 import { VERDICT_RANK } from '../../../shared/verdict/rules';
 import type { LotVerdict } from '../../../shared/domain/verdicts';
 import type { AppContext } from '../../context';
-import { DeviceTypeEntity, LotEntity, QualificationCellEntity, QualificationEntity, StressPlanEntity, UserEntity } from '../../db/entities';
+import {
+  DeviceTypeEntity,
+  LotEntity,
+  QualificationCellEntity,
+  QualificationCellWithdrawalEntity,
+  QualificationEntity,
+  StressPlanEntity,
+  UserEntity,
+  type WithdrawnRecord,
+} from '../../db/entities';
+import { formatUtc } from '../../../shared/domain/format';
 import { conflict, notFound, unprocessable } from '../../http/errors';
 import { loadSchedulingInputs } from '../runs/scheduling-data';
 import { lastCodeNumber, runsOnLots, type QualRunRow } from './qualifications.data';
@@ -230,6 +241,60 @@ export class QualificationsService {
     return this.detail(id);
   }
 
+  /**
+   * Withdraw a cell's waiver or outside result: what it said is kept (qualification_cell_withdrawals
+   * and the audit log) and the cell's record is cleared, so the cell stands again on its runs.
+   * The row is locked, so of two withdrawals at once the second finds nothing left (409).
+   */
+  async withdraw(actor: SessionUser, id: string, cellId: string, input: WithdrawCellInput): Promise<QualificationDetail> {
+    await this.ds.transaction(async (m) => {
+      await this.load(m, id);
+      const cell = await m.findOne(QualificationCellEntity, { where: { id: cellId, qualificationId: id }, lock: { mode: 'pessimistic_write' } });
+      if (!cell) throw notFound('The cell');
+      const nameOf = async (userId: string | null) =>
+        (userId ? (await m.findOne(UserEntity, { where: { id: userId } }))?.name : undefined) ?? 'unknown';
+      let withdrawn: WithdrawnRecord;
+      let clear: Partial<Omit<QualificationCellEntity, 'qualification' | 'lot'>>;
+      if (input.record === 'waiver') {
+        if (!cell.waiverReason || !cell.waivedAt) throw conflict('This cell has no waiver to withdraw; it may have been withdrawn already.');
+        withdrawn = { text: cell.waiverReason, by: await nameOf(cell.waivedById), at: cell.waivedAt.toISOString() };
+        clear = { waiverReason: null, waivedById: null, waivedAt: null };
+      } else {
+        if (!cell.externalResult || !cell.externalAt)
+          throw conflict('This cell has no outside result to withdraw; it may have been withdrawn already.');
+        withdrawn = {
+          text: `${cell.externalResult} - ${cell.externalBy ?? ''}, tested ${formatUtc(cell.externalAt)}, document ${cell.externalDocument ?? ''}`,
+          by: await nameOf(cell.externalRecordedById),
+          at: cell.externalAt.toISOString(),
+        };
+        clear = { externalResult: null, externalBy: null, externalAt: null, externalDocument: null, externalRecordedById: null };
+      }
+      const at = this.ctx.now();
+      await m.insert(QualificationCellWithdrawalEntity, {
+        qualificationId: id,
+        cellId: cell.id,
+        record: input.record,
+        withdrawn,
+        reason: input.reason,
+        withdrawnById: actor.id,
+        withdrawnAt: at,
+      });
+      await m.update(QualificationCellEntity, { id: cell.id }, clear);
+      await this.ctx.audit.record(
+        {
+          actor,
+          action: 'qualification.cell-withdraw',
+          entity: 'qualification',
+          entityId: id,
+          reason: input.reason,
+          details: { cellId, groupKey: cell.groupKey, lotId: cell.lotId, record: input.record, withdrawn },
+        },
+        m,
+      );
+    });
+    return this.detail(id);
+  }
+
   async detail(id: string): Promise<QualificationDetail> {
     return (await this.reportData(id)).detail;
   }
@@ -243,7 +308,14 @@ export class QualificationsService {
     const lotById = new Map(lots.map((l) => [l.id, l]));
     const types = await m.find(DeviceTypeEntity, { where: { id: In(q.deviceTypeIds) } });
     const runs = await runsOnLots(m, q.lotIds);
-    const userIds = [...new Set(cells.flatMap((c) => [c.waivedById, c.externalRecordedById]).filter((x): x is string => !!x))];
+    const withdrawals = await m.find(QualificationCellWithdrawalEntity, { where: { qualificationId: id }, order: { withdrawnAt: 'ASC' } });
+    const userIds = [
+      ...new Set(
+        [...cells.flatMap((c) => [c.waivedById, c.externalRecordedById]), ...withdrawals.map((w) => w.withdrawnById)].filter(
+          (x): x is string => !!x,
+        ),
+      ),
+    ];
     const users = new Map((userIds.length ? await m.find(UserEntity, { where: { id: In(userIds) } }) : []).map((u) => [u.id, u.name]));
 
     // The lot views (the same the lot screens show) for lots with runs of a cell's kind.
@@ -305,6 +377,17 @@ export class QualificationsService {
           : null,
         runs: runViews,
         ...recordViews(c, users),
+        withdrawn: withdrawals
+          .filter((w) => w.cellId === c.id)
+          .map((w) => ({
+            record: w.record,
+            text: w.withdrawn.text,
+            recordedBy: w.withdrawn.by,
+            recordedAt: w.withdrawn.at,
+            reason: w.reason,
+            by: users.get(w.withdrawnById ?? '') ?? 'unknown',
+            at: w.withdrawnAt.toISOString(),
+          })),
         projectedFinish: projection.at,
         projectionNote: projection.note,
       });
