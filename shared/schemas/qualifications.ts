@@ -14,6 +14,7 @@
  */
 import { z } from 'zod';
 import type { LotVerdict } from '../domain/verdicts';
+import type { LotDetail } from './analytics';
 import {
   FAMILY_RULE_MIN,
   QUAL_TEMPLATE_KEYS,
@@ -166,4 +167,19 @@ export interface QualificationDetail extends QualificationSummary {
   left: string[];
   projectedFinish: string | null;
   projectionNote: string | null;
+}
+
+/**
+ * A cell's drift: the lot's devices on the runs its verdict judged (the sample of the cell's kind),
+ * in the shape the lot screen's spread chart reads (read-point distributions and the typical
+ * device's fitted path, with the plan's limits).
+ */
+export interface QualCellDrift extends Pick<LotDetail, 'lotCode' | 'criteria' | 'readPointsH' | 'readPoints' | 'trends'> {
+  cellId: string;
+  groupKey: string;
+  planName: string | null;
+  runCodes: string[];
+  plan: { durationH: number } | null;
+  /** Why there is nothing to chart, else null. */
+  note: string | null;
 }

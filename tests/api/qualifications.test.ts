@@ -21,7 +21,7 @@ import {
 } from '../../server/db/entities';
 import { insertHistoryRun } from '../../server/seed/seed-history';
 import type { LotDetail } from '../../shared/schemas/analytics';
-import type { QualCellView, QualificationDetail } from '../../shared/schemas/qualifications';
+import type { QualCellDrift, QualCellView, QualificationDetail } from '../../shared/schemas/qualifications';
 import { QUAL_TEMPLATES } from '../../shared/qualification/templates';
 import { createTestApp, type TestApp } from '../support/api';
 import { insertTestDeviceType, tableCounts } from '../support/db';
@@ -445,6 +445,43 @@ describe('bad input and roles', () => {
     const eng = await t.signIn('engineer');
     expect((await eng.get(`/api/qualifications/${randomUUID()}`)).status).toBe(404);
     expect((await eng.get('/api/qualifications/not-an-id')).status).toBe(400);
+  });
+});
+
+describe("a cell's drift", () => {
+  test("the cell's runs give the lot screen's own distributions; a cell without runs or with no run kind says why", async () => {
+    const mgr = await t.signIn('manager');
+    const [a, b] = cellsOf(qual, 'htrb');
+    const drift = (await mgr.get(`/api/qualifications/${qual.id}/cells/${a.id}/drift`)).body as QualCellDrift;
+    const view: LotDetail = (await mgr.get(`/api/analytics/lots/${ids['HG9801-A']}`)).body;
+    // HG9801-A has one run (R-QA): the cell's chart and the lot screen's chart read the same numbers.
+    expect(drift.runCodes).toEqual(['R-QA']);
+    expect(drift.note).toBeNull();
+    expect(drift.readPoints).toEqual(view.readPoints);
+    expect(drift.trends).toEqual(view.trends);
+    expect(drift.criteria).toEqual(view.criteria);
+    expect(drift.readPoints.map((r) => [r.hours, r.devicesMeasured])).toEqual([
+      [0, 20],
+      [168, 20],
+      [500, 20],
+      [1000, 20],
+    ]);
+    // Noise-free history with -2 %/1000 h (insertHistoryRun, noise 0): the mean hFE change at 1000 h is -2 % (hand computation).
+    expect(drift.readPoints[3].hfeChangePct!.mean).toBeCloseTo(-2, 6);
+    const under = (await mgr.get(`/api/qualifications/${qual.id}/cells/${b.id}/drift`)).body as QualCellDrift;
+    expect(under.runCodes).toEqual(['R-QB']);
+    expect(under.readPoints.map((r) => r.hours)).toEqual([0, 168, 500]);
+    const tc = cellsOf(qual, 'tc')[0];
+    expect((await mgr.get(`/api/qualifications/${qual.id}/cells/${tc.id}/drift`)).body).toMatchObject({
+      runCodes: [],
+      readPoints: [],
+      note: 'No run of this kind on this lot yet.',
+    });
+    const esd = cellsOf(qual, 'esd-hbm')[0];
+    expect((await mgr.get(`/api/qualifications/${qual.id}/cells/${esd.id}/drift`)).body.note).toMatch(/recorded from outside/);
+    expect((await mgr.get(`/api/qualifications/${qual.id}/cells/${randomUUID()}/drift`)).status).toBe(404);
+    const op = await t.signIn('operator');
+    expect((await op.get(`/api/qualifications/${qual.id}/cells/${a.id}/drift`)).status).toBe(403);
   });
 });
 

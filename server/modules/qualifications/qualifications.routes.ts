@@ -54,6 +54,9 @@ export function qualificationsRoutes(ctx: AppContext): ApiRouter {
     { access: rolesFor('qualification.withdraw'), params: qualificationCellParamsSchema, body: withdrawCellSchema },
     ({ user, params, body }) => svc.withdraw(user, params.id, params.cellId, body),
   );
+  r.get('/:id/cells/:cellId/drift', { access: readers, params: qualificationCellParamsSchema }, ({ params }) =>
+    svc.cellDrift(params.id, params.cellId),
+  );
   r.get('/:id/report.csv', { access: readers, params: qualificationParamsSchema }, async ({ params, res }) => {
     const data = await svc.reportData(params.id);
     const signatures = await lotReports(ctx, data);

@@ -10,6 +10,7 @@ import type { LotDetail, LotPlanView } from '../../../shared/schemas/analytics';
 import type {
   CreateQualificationInput,
   ExternalResultInput,
+  QualCellDrift,
   QualCellRun,
   QualCellView,
   QualificationDetail,
@@ -47,6 +48,7 @@ import {
 import { formatUtc } from '../../../shared/domain/format';
 import { conflict, notFound, unprocessable } from '../../http/errors';
 import { loadSchedulingInputs } from '../runs/scheduling-data';
+import { lotCore, stressTemperature } from '../analytics/lot-analysis';
 import { lastCodeNumber, runsOnLots, type QualRunRow } from './qualifications.data';
 
 const CODE_PREFIX = 'QUAL';
@@ -293,6 +295,73 @@ export class QualificationsService {
       );
     });
     return this.detail(id);
+  }
+
+  /**
+   * A cell's drift for the qualification screen's chart: the lot's devices on the runs of the
+   * sample its verdict judged (cellJudgement: the worst of the lot's plans of the cell's kind),
+   * read by the run drift (MeasurementsService.drift) and summarised by the lot screen's own
+   * lotCore — the same read-point distributions and fitted path, for this cell's runs only.
+   */
+  async cellDrift(id: string, cellId: string): Promise<QualCellDrift> {
+    const m = this.ds.manager;
+    const cell = await this.cellOf(m, id, cellId);
+    const lot = await m.findOneByOrFail(LotEntity, { id: cell.lotId });
+    const empty = (note: string): QualCellDrift => ({
+      cellId,
+      groupKey: cell.groupKey,
+      lotCode: lot.code,
+      planName: null,
+      runCodes: [],
+      plan: null,
+      criteria: null,
+      readPointsH: [],
+      readPoints: [],
+      trends: [],
+      note,
+    });
+    if (cell.planKind === null) return empty('This group takes a result recorded from outside: there is no drift to chart.');
+    const runs = await runsOnLots(m, [cell.lotId]);
+    if (!runs.some((r) => r.kind === cell.planKind)) return empty('No run of this kind on this lot yet.');
+    const judged = cellJudgement((await this.ctx.services.analytics.lot(cell.lotId)).plans, cell.planKind);
+    if (!judged) return empty('No run of this kind on this lot has readings yet.');
+    const plan = await m.findOneByOrFail(StressPlanEntity, { id: judged.planId });
+    const devices = [];
+    for (const r of judged.runs) devices.push(...(await this.ctx.services.measurements.drift(r.runId)).devices.filter((d) => d.lotId === lot.id));
+    const type = await m.findOneByOrFail(DeviceTypeEntity, { id: lot.deviceTypeId });
+    const readPointsH = [...plan.readPointsH].sort((a, b) => a - b);
+    const core = lotCore({
+      lot: { id: lot.id, code: lot.code, deviceTypeId: lot.deviceTypeId, partNumber: type.partNumber, dateCode: lot.dateCode ?? '' },
+      run: null,
+      plan: {
+        id: plan.id,
+        name: plan.name,
+        kind: plan.kind,
+        durationH: plan.durationH,
+        acceptNumber: plan.acceptNumber,
+        sampleSize: plan.sampleSize,
+        chamberC: plan.chamberC,
+        eaEv: plan.eaEv,
+        useC: plan.useC,
+        ...stressTemperature(plan),
+        readPointsH,
+        criteria: plan.criteria,
+      },
+      devices,
+    });
+    return {
+      cellId,
+      groupKey: cell.groupKey,
+      lotCode: lot.code,
+      planName: plan.name,
+      runCodes: judged.runs.map((r) => r.runCode),
+      plan: { durationH: plan.durationH },
+      criteria: plan.criteria,
+      readPointsH,
+      readPoints: core.readPoints,
+      trends: core.trends,
+      note: core.readPoints.some((r) => r.hours > 0) ? null : 'No readings after time zero yet.',
+    };
   }
 
   async detail(id: string): Promise<QualificationDetail> {
