@@ -20,6 +20,7 @@ import {
   StressPlanEntity,
 } from '../../server/db/entities';
 import { insertHistoryRun } from '../../server/seed/seed-history';
+import { transitionRun } from '../../server/modules/runs/run-engine';
 import type { LotDetail } from '../../shared/schemas/analytics';
 import type { QualCellDrift, QualCellView, QualificationDetail } from '../../shared/schemas/qualifications';
 import { QUAL_TEMPLATES } from '../../shared/qualification/templates';
@@ -193,7 +194,8 @@ describe('create from a template', () => {
     expect(c.state).toBe('booked');
     expect(c.projectedFinish).not.toBeNull();
     expect(c.runs[0].projectedEnd).toBe(c.projectedFinish);
-    expect(Date.parse(c.projectedFinish!)).toBeGreaterThanOrEqual(start.getTime());
+    // Hand computation: a booking in the future keeps its window, start + (scheduledEnd − scheduledStart) = start + 1100 h.
+    expect(Date.parse(c.projectedFinish!)).toBe(start.getTime() + 1100 * 3600_000);
 
     await m.delete(RunEntity, { id: booked.id });
     await insertHistoryRun(m, {
@@ -575,5 +577,89 @@ describe('report', () => {
     expect(withdrawn[1].slice(5, 8)).toEqual(['Test engineer', 'The customer did not accept the similarity argument; solderability is to be tested on this lot.', 'Test engineer']);
     expect(withdrawn[0][4]).toBe('pass - Harrowgate ESD bench, tested 2026-11-02 10:00 UTC, document HPD-ESD-0412');
     expect(res.text).toMatch(/\r\nHG9801-A,R-QA,OV-97,qualification test oven,/);
+  });
+});
+
+describe('the matrix fills as runs finish, and says when it can be done', () => {
+  const waive = async (q: QualificationDetail, keep: string) => {
+    const eng = await t.signIn('engineer');
+    let d = q;
+    for (const c of q.cells.filter((x) => x.groupKey !== keep))
+      d = (
+        await eng
+          .post(`/api/qualifications/${q.id}/cells/${c.id}/waiver`)
+          .send({ reason: 'Outside this test: only the one stress group is followed here.' })
+      ).body;
+    return d;
+  };
+
+  test('an under-stress cell projects its run to the end of its stress hours; the qualification finishes with its last open cell', async () => {
+    const eng = await t.signIn('engineer');
+    const created = await eng
+      .post('/api/qualifications')
+      .send({ name: 'HPD-Q100 group E only', templateKey: 'mil-prf-19500', deviceTypeIds: [ids.type], lotIds: [ids['HG9801-B']] });
+    expect(created.status).toBe(201);
+    const d = await waive(created.body, 'e-htrb');
+    const cell = cellsOf(d, 'e-htrb')[0];
+    expect(cell.state).toBe('under-stress');
+    expect(cell.runs.map((r) => [r.code, r.state, r.stressHours])).toEqual([['R-QB', 'stressing', 560]]);
+    // Hand computation (server/modules/runs/scheduling-data.ts projectedWindow): 1000 − 560 = 440 stress hours left, no
+    // intermediate read point above 560 h (168, 500), no heat-up while stressing; the test app's clock runs a stress
+    // hour per second (clockRate 3600), and the booked end (60 days ago + 1096 h) is long past.
+    expect(t.ctx.services.runs.timing.msPerClockH).toBe(1000);
+    const expected = Date.now() + 440 * 1000;
+    expect(Math.abs(Date.parse(cell.projectedFinish!) - expected)).toBeLessThan(5_000);
+    expect(cell.projectionNote).toBe('Scheduled window of its runs.');
+    expect(d.projectedFinish).toBe(cell.projectedFinish);
+    expect(d.left).toEqual(['Group E high-temperature reverse bias on lot HG9801-B: under stress.']);
+  });
+
+  test('a run finishing moves its cell from under stress to passed, with the lot verdict', async () => {
+    const m = t.ctx.ds.manager;
+    const eng = await t.signIn('engineer');
+    const lotD = await addLot('HG9801-D', ids.type);
+    // The last read point measured; the stress is complete and the run is still on the rig.
+    const run = await insertHistoryRun(m, {
+      code: 'R-QD',
+      plan,
+      deviceType: await m.findOneByOrFail(DeviceTypeEntity, { id: ids.type }),
+      rig,
+      lots: [{ ...lotD, drift: { hfeDriftPctPer1000h: -2, leakageGrowthPer1000h: 1.2 } }],
+      state: 'stressing',
+      startedAt: new Date(Date.now() - 50 * 86400_000),
+      stressHours: 1000,
+      measuredH: [0, 168, 500, 1000],
+      noise: 0,
+    });
+    const created = await eng
+      .post('/api/qualifications')
+      .send({ name: 'HPD-Q100 lot D', templateKey: 'mil-prf-19500', deviceTypeIds: [ids.type], lotIds: [lotD.lot.id] });
+    const q = await waive(created.body, 'e-htrb');
+    const cellId = cellsOf(q, 'e-htrb')[0].id;
+    // The group asks for 45; this lot's plan judged 20: the cell plans 20 so the pass can stand.
+    const edited = await eng.patch(`/api/qualifications/${q.id}/cells/${cellId}`).send({ plannedSample: 20 });
+    let cell: QualCellView = edited.body.cells.find((c: QualCellView) => c.id === cellId);
+    expect(cell.state).toBe('under-stress');
+    expect(edited.body.status).toBe('in-progress');
+
+    // The engine's own transitions (run-engine.ts transitionRun, as the scheduler's cooling step calls it).
+    const deps = { audit: t.ctx.audit, now: () => new Date() };
+    const entity = await m.findOneByOrFail(RunEntity, { id: run.id });
+    await m.transaction(async (tm) => {
+      await transitionRun(tm, deps, entity, rig, 'cooling', {}, { actor: 'system', action: 'run.stress-complete' });
+      await transitionRun(tm, deps, entity, rig, 'finished', { finishedAt: new Date() }, { actor: 'system', action: 'run.finish' });
+    });
+    const after: QualificationDetail = (await eng.get(`/api/qualifications/${q.id}`)).body;
+    cell = after.cells.find((c) => c.id === cellId)!;
+    const view: LotDetail = (await eng.get(`/api/analytics/lots/${lotD.lot.id}`)).body;
+    const p = view.plans.find((x) => x.kind === 'htrb')!;
+    expect(p.verdict).toBe('passed');
+    expect(cell.runs.map((r) => r.state)).toEqual(['finished']);
+    expect(cell.state).toBe('passed');
+    expect(cell.verdict).toBe('passed');
+    expect(cell.sample).toEqual({ booked: 20, judged: 20, failures: 0 });
+    expect(cell.projectedFinish).toBeNull();
+    expect(after.status).toBe('complete');
+    expect(after.left).toEqual([]);
   });
 });
