@@ -605,7 +605,7 @@ describe('the matrix fills as runs finish, and says when it can be done', () => 
     expect(cell.runs.map((r) => [r.code, r.state, r.stressHours])).toEqual([['R-QB', 'stressing', 560]]);
     // Hand computation (server/modules/runs/scheduling-data.ts projectedWindow): 1000 − 560 = 440 stress hours left, no
     // intermediate read point above 560 h (168, 500), no heat-up while stressing; the test app's clock runs a stress
-    // hour per second (clockRate 3600), and the booked end (60 days ago + 1096 h) is long past.
+    // hour per second (EMBERLOT_CLOCK_RATE, 1 h/s by default: msPerClockHFor), and the booked end (60 days ago + 1096 h) is long past.
     expect(t.ctx.services.runs.timing.msPerClockH).toBe(1000);
     const expected = Date.now() + 440 * 1000;
     expect(Math.abs(Date.parse(cell.projectedFinish!) - expected)).toBeLessThan(5_000);
