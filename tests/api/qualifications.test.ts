@@ -311,9 +311,9 @@ describe('withdrawing a waiver or an outside result', () => {
     const what = await eng.post(url).send({ record: 'verdict', reason });
     expect(what.status).toBe(400);
     expect(what.body.error.fields.record[0]).toBe('Say what to withdraw: the waiver or the outside result');
-    expect((await eng.post(`/api/qualifications/${qual.id}/cells/${randomUUID()}/withdraw`).send({ record: 'waiver', reason })).status).toBe(
-      404,
-    );
+    expect(
+      (await eng.post(`/api/qualifications/${qual.id}/cells/${randomUUID()}/withdraw`).send({ record: 'waiver', reason })).status,
+    ).toBe(404);
     // The cell has a waiver but no outside result.
     const none = await eng.post(url).send({ record: 'external', reason });
     expect(none.status).toBe(409);
@@ -454,7 +454,7 @@ describe("a cell's drift", () => {
   test("the cell's runs give the lot screen's own distributions; a cell without runs or with no run kind says why", async () => {
     const mgr = await t.signIn('manager');
     const [a, b] = cellsOf(qual, 'htrb');
-    const drift = (await mgr.get(`/api/qualifications/${qual.id}/cells/${a.id}/drift`)).body as QualCellDrift;
+    const drift: QualCellDrift = (await mgr.get(`/api/qualifications/${qual.id}/cells/${a.id}/drift`)).body;
     const view: LotDetail = (await mgr.get(`/api/analytics/lots/${ids['HG9801-A']}`)).body;
     // HG9801-A has one run (R-QA): the cell's chart and the lot screen's chart read the same numbers.
     expect(drift.runCodes).toEqual(['R-QA']);
@@ -470,7 +470,7 @@ describe("a cell's drift", () => {
     ]);
     // Noise-free history with -2 %/1000 h (insertHistoryRun, noise 0): the mean hFE change at 1000 h is -2 % (hand computation).
     expect(drift.readPoints[3].hfeChangePct!.mean).toBeCloseTo(-2, 6);
-    const under = (await mgr.get(`/api/qualifications/${qual.id}/cells/${b.id}/drift`)).body as QualCellDrift;
+    const under: QualCellDrift = (await mgr.get(`/api/qualifications/${qual.id}/cells/${b.id}/drift`)).body;
     expect(under.runCodes).toEqual(['R-QB']);
     expect(under.readPoints.map((r) => r.hours)).toEqual([0, 168, 500]);
     const tc = cellsOf(qual, 'tc')[0];
@@ -574,7 +574,11 @@ describe('report', () => {
       ['Withdrawn', 'waiver', 'Solderability', 'HG9801-A'],
     ]);
     expect(withdrawn[1][4]).toMatch(/^Same lead frame/);
-    expect(withdrawn[1].slice(5, 8)).toEqual(['Test engineer', 'The customer did not accept the similarity argument; solderability is to be tested on this lot.', 'Test engineer']);
+    expect(withdrawn[1].slice(5, 8)).toEqual([
+      'Test engineer',
+      'The customer did not accept the similarity argument; solderability is to be tested on this lot.',
+      'Test engineer',
+    ]);
     expect(withdrawn[0][4]).toBe('pass - Harrowgate ESD bench, tested 2026-11-02 10:00 UTC, document HPD-ESD-0412');
     expect(res.text).toMatch(/\r\nHG9801-A,R-QA,OV-97,qualification test oven,/);
   });
