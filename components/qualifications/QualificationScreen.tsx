@@ -175,7 +175,9 @@ function CellEditor({ d, c }: { d: QualificationDetail; c: QualCellView }) {
             size="sm"
             disabled={reason.trim().length < WAIVER_REASON_MIN}
             busy={change.isPending && change.variables?.kind === 'waiver'}
-            onPress={() => change.mutate({ kind: 'waiver', cellId: c.id, body: { reason: reason.trim() } })}
+            onPress={() =>
+              change.mutate({ kind: 'waiver', cellId: c.id, body: { reason: reason.trim() } }, { onSuccess: () => setReason('') })
+            }
             testID="qual-cell-waive"
           />
         </View>

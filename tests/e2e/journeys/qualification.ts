@@ -79,6 +79,7 @@ export const qualification: Journey = {
     await panel.getByTestId('qual-withdraw-waiver').click();
     const dialog = page.getByTestId('qual-withdraw-dialog');
     await expect(dialog).toBeVisible();
+    await expect(page.getByRole('dialog')).toBeVisible(); // the modal settled (its role is set once it has opened)
     const withdrawReason = `The customer asks for solderability on this lot itself (${j.size}).`;
     await dialog.getByTestId('qual-withdraw-reason').fill(withdrawReason);
     await j.checkA11y('withdraw a waiver');
