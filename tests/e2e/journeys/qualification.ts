@@ -89,6 +89,8 @@ export const qualification: Journey = {
     await expect(sd).toContainText('Not started');
     await expect(panel.getByTestId('qual-cell-withdrawn')).toContainText(withdrawReason);
     await expect(panel.getByTestId('qual-withdraw-waiver')).toHaveCount(0);
+    const reasonLeft = await panel.getByTestId('qual-cell-waiver-reason').inputValue();
+    if (reasonLeft !== '') throw new Error(`the waiver field came back filled: "${reasonLeft}"`);
     await panel.scrollIntoViewIfNeeded();
     await j.shot('qual-withdrawn');
 
