@@ -9,6 +9,7 @@ import type { LotDetail } from '../../shared/schemas/analytics';
 import { SEED_STEPS } from '../../server/seed/seed';
 import type { QualificationDetail } from '../../shared/schemas/qualifications';
 import { createTestApp, type TestApp } from '../support/api';
+import { pdfText } from '../support/pdf-text';
 
 let t: TestApp;
 jest.setTimeout(60_000);
@@ -104,6 +105,10 @@ it("QUAL-002's PDF report: a PDF of several pages (kept in .data/ with EMBERLOT_
   const pdf: Buffer = res.body;
   expect(pdf.subarray(0, 5).toString()).toBe('%PDF-');
   expect((pdf.toString('latin1').match(/\/Type \/Page\b/g) ?? []).length).toBeGreaterThanOrEqual(2);
+  // Drift charts per cell: the group C life and group E HTRB runs each charted on their own.
+  const flat = pdfText(pdf).replace(/\s+/g, ' ');
+  expect(flat).toContain('Group C steady-state operating life: hFE change from time zero (run HOTL-2606-K)');
+  expect(flat).toContain('Group E high-temperature reverse bias: ICBO relative to time zero (run HTRB-2606-K)');
   if (process.env.EMBERLOT_KEEP_REPORT === '1') {
     fs.mkdirSync('.data', { recursive: true });
     fs.writeFileSync('.data/qual-002-report.pdf', pdf);

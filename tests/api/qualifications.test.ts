@@ -14,6 +14,7 @@ import {
   DeviceEntity,
   DeviceTypeEntity,
   LotEntity,
+  QualificationCellWithdrawalEntity,
   RigEntity,
   RunEntity,
   RunLotEntity,
@@ -366,6 +367,23 @@ describe('withdrawing a waiver or an outside result', () => {
     qual = rewaive.body;
   });
 
+  test('two withdrawals of one waiver at once: one is recorded, the other gets the 409', async () => {
+    const eng = await t.signIn('engineer');
+    const pd = cellsOf(qual, 'pd')[0];
+    const waived = await eng
+      .post(`/api/qualifications/${qual.id}/cells/${pd.id}/waiver`)
+      .send({ reason: 'Outline drawing shared with HPD-Q050, measured on its release.' });
+    expect(waived.status).toBe(200);
+    const url = `/api/qualifications/${qual.id}/cells/${pd.id}/withdraw`;
+    const answers = await Promise.all(
+      [1, 2].map(() => eng.post(url).send({ record: 'waiver', reason: 'The drawing changed in revision C; measure this lot.' })),
+    );
+    expect(answers.map((a) => a.status).sort()).toEqual([200, 409]);
+    const rows = await t.ctx.ds.getRepository(QualificationCellWithdrawalEntity).findBy({ cellId: pd.id });
+    expect(rows).toHaveLength(1);
+    qual = (await eng.get(`/api/qualifications/${qual.id}`)).body;
+  });
+
   test('an outside result withdrawn: the cell is open again and takes a new result', async () => {
     const eng = await t.signIn('engineer');
     const esd = cellsOf(qual, 'esd-hbm')[0];
@@ -536,6 +554,9 @@ describe('report', () => {
       }
     }
     expect(compared).toBe(3);
+    // Drift charts per cell: each HTRB cell's judged run, this lot's devices.
+    for (const run of ['R-QA', 'R-QB', 'R-QC'])
+      expect(flat).toContain(`High-temperature reverse bias (HTRB): hFE change from time zero (run ${run})`);
   });
 
   test("the CSV's numbers per cell match the lot views (sample, failures, FIT, verdict)", async () => {
@@ -571,10 +592,11 @@ describe('report', () => {
     const withdrawn = rows.filter((r) => r[0] === 'Withdrawn');
     expect(withdrawn.map((r) => r.slice(0, 4))).toEqual([
       ['Withdrawn', 'outside result', 'ESD, human body model', 'HG9801-A'],
+      ['Withdrawn', 'waiver', 'Physical dimensions', 'HG9801-A'],
       ['Withdrawn', 'waiver', 'Solderability', 'HG9801-A'],
     ]);
-    expect(withdrawn[1][4]).toMatch(/^Same lead frame/);
-    expect(withdrawn[1].slice(5, 8)).toEqual([
+    expect(withdrawn[2][4]).toMatch(/^Same lead frame/);
+    expect(withdrawn[2].slice(5, 8)).toEqual([
       'Test engineer',
       'The customer did not accept the similarity argument; solderability is to be tested on this lot.',
       'Test engineer',

@@ -14,10 +14,18 @@ import type { LotReportData } from '../reports/report-data';
 import type { QualificationReportData } from './qualifications.service';
 import { qualificationReportCsv, qualificationReportPdf } from './qualification-report';
 
-/** The lot report's data (server/modules/reports) of each lot with runs, in the qualification's lot order. */
+/**
+ * The lot report's data (server/modules/reports) of each lot with runs, in the qualification's lot
+ * order, its drift charts drawn per cell (each cell's judged runs) instead of the lot's latest run.
+ */
 async function lotReports(ctx: AppContext, data: QualificationReportData): Promise<LotReportData[]> {
   const out: LotReportData[] = [];
-  for (const l of data.detail.lots) if (data.lots.has(l.id)) out.push(await ctx.services.reports.lotReportData(l.id));
+  for (const l of data.detail.lots) {
+    if (!data.lots.has(l.id)) continue;
+    const lot = await ctx.services.reports.lotReportData(l.id);
+    const charts = await ctx.services.qualifications.cellCharts(data, l.id);
+    out.push(charts.length ? { ...lot, run: null, charts } : lot);
+  }
   return out;
 }
 

@@ -49,6 +49,9 @@ import { formatUtc } from '../../../shared/domain/format';
 import { conflict, notFound, unprocessable } from '../../http/errors';
 import { loadSchedulingInputs } from '../runs/scheduling-data';
 import { lotCore, stressTemperature } from '../analytics/lot-analysis';
+import type { DriftChart } from '../reports/drift-chart';
+import { driftCharts } from '../reports/reports.service';
+import type { RunDriftResult } from '../../../shared/schemas/measurements';
 import { lastCodeNumber, runsOnLots, type QualRunRow } from './qualifications.data';
 
 const CODE_PREFIX = 'QUAL';
@@ -61,6 +64,8 @@ export interface QualificationReportData {
   /** The lot views behind the cells (the same objects GET /api/analytics/lots/:id returns). */
   lots: Map<string, LotDetail>;
   runs: QualRunRow[];
+  /** Per cell with a verdict: the runs of the sample that verdict judged (the cell's drift charts). */
+  judgedRuns: Array<{ cellId: string; lotId: string; groupName: string; runIds: string[] }>;
 }
 
 export class QualificationsService {
@@ -251,14 +256,18 @@ export class QualificationsService {
   async withdraw(actor: SessionUser, id: string, cellId: string, input: WithdrawCellInput): Promise<QualificationDetail> {
     await this.ds.transaction(async (m) => {
       await this.load(m, id);
-      const cell = await m.findOne(QualificationCellEntity, { where: { id: cellId, qualificationId: id }, lock: { mode: 'pessimistic_write' } });
+      const cell = await m.findOne(QualificationCellEntity, {
+        where: { id: cellId, qualificationId: id },
+        lock: { mode: 'pessimistic_write' },
+      });
       if (!cell) throw notFound('The cell');
       const nameOf = async (userId: string | null) =>
         (userId ? (await m.findOne(UserEntity, { where: { id: userId } }))?.name : undefined) ?? 'unknown';
       let withdrawn: WithdrawnRecord;
       let clear: Partial<Omit<QualificationCellEntity, 'qualification' | 'lot'>>;
       if (input.record === 'waiver') {
-        if (!cell.waiverReason || !cell.waivedAt) throw conflict('This cell has no waiver to withdraw; it may have been withdrawn already.');
+        if (!cell.waiverReason || !cell.waivedAt)
+          throw conflict('This cell has no waiver to withdraw; it may have been withdrawn already.');
         withdrawn = { text: cell.waiverReason, by: await nameOf(cell.waivedById), at: cell.waivedAt.toISOString() };
         clear = { waiverReason: null, waivedById: null, waivedAt: null };
       } else {
@@ -327,7 +336,8 @@ export class QualificationsService {
     if (!judged) return empty('No run of this kind on this lot has readings yet.');
     const plan = await m.findOneByOrFail(StressPlanEntity, { id: judged.planId });
     const devices = [];
-    for (const r of judged.runs) devices.push(...(await this.ctx.services.measurements.drift(r.runId)).devices.filter((d) => d.lotId === lot.id));
+    for (const r of judged.runs)
+      devices.push(...(await this.ctx.services.measurements.drift(r.runId)).devices.filter((d) => d.lotId === lot.id));
     const type = await m.findOneByOrFail(DeviceTypeEntity, { id: lot.deviceTypeId });
     const readPointsH = [...plan.readPointsH].sort((a, b) => a - b);
     const core = lotCore({
@@ -362,6 +372,27 @@ export class QualificationsService {
       trends: core.trends,
       note: core.readPoints.some((r) => r.hours > 0) ? null : 'No readings after time zero yet.',
     };
+  }
+
+  /**
+   * The report's drift charts of one lot, cell by cell: each cell's judged runs taken together
+   * (a sample split over rigs is one sample), this lot's devices, drawn as the lot report draws a run.
+   */
+  async cellCharts(data: QualificationReportData, lotId: string): Promise<DriftChart[]> {
+    const out: DriftChart[] = [];
+    for (const cell of data.judgedRuns.filter((x) => x.lotId === lotId)) {
+      const drifts: RunDriftResult[] = [];
+      for (const runId of cell.runIds) drifts.push(await this.ctx.services.measurements.drift(runId));
+      if (!drifts.length) continue;
+      const merged: RunDriftResult = {
+        ...drifts[0],
+        runCode: drifts.map((d) => d.runCode).join(' + '),
+        devices: drifts.flatMap((d) => d.devices),
+      };
+      if (!merged.devices.some((d) => d.lotId === lotId && d.readPoints.some((r) => r.readPointH > 0))) continue;
+      out.push(...driftCharts(merged, lotId).map((chart) => ({ ...chart, title: `${cell.groupName}: ${chart.title}` })));
+    }
+    return out;
   }
 
   async detail(id: string): Promise<QualificationDetail> {
@@ -401,11 +432,19 @@ export class QualificationsService {
     const windowEnd = new Map(sched.commitments.map((c) => [c.runId, c.endMs]));
 
     const views: QualCellView[] = [];
+    const judgedRuns: QualificationReportData['judgedRuns'] = [];
     for (const c of cells) {
       const lot = lotById.get(c.lotId)!;
       const cellRuns = c.planKind ? runs.filter((r) => r.lot_id === c.lotId && r.kind === c.planKind) : [];
       const worst = cellJudgement(lotPlans.get(c.lotId), c.planKind);
       const verdict: LotVerdict | null = worst?.verdict ?? null;
+      if (worst?.runs.length)
+        judgedRuns.push({
+          cellId: c.id,
+          lotId: c.lotId,
+          groupName: q.groups.find((g) => g.key === c.groupKey)?.name ?? c.groupKey,
+          runIds: worst.runs.map((r) => r.runId),
+        });
       const facts: CellFacts = {
         waived: !!c.waiverReason,
         planKind: c.planKind,
@@ -494,7 +533,7 @@ export class QualificationsService {
       projectedFinish: finish,
       projectionNote,
     };
-    return { detail, lots: lotDetails, runs };
+    return { detail, lots: lotDetails, runs, judgedRuns };
   }
 
   /**
