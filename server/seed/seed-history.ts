@@ -107,7 +107,8 @@ export const HEAT_SUNK_CASE_RISE_C = 4;
 export function historyJunctionC(
   plan: Pick<StressPlanEntity, 'kind' | 'chamberC' | 'bias'>,
   type: Pick<DeviceTypeEntity, 'thetaJcCPerW' | 'thetaJaCPerW'>,
-  board: 'heat-sunk' | 'free-air' = 'heat-sunk'): number {
+  board: 'heat-sunk' | 'free-air' = 'heat-sunk',
+): number {
   const vV = plan.bias?.vceV ?? 0;
   const iA = plan.bias?.icA ?? 0;
   const p = vV * iA;

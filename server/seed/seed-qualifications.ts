@@ -149,7 +149,13 @@ async function seedCompletePart(m: EntityManager, engineerId: string): Promise<{
       from: 0,
       daysAgo: 150,
     },
-    { kind: 'htrb', name: () => `HTRB ${Math.min(150, type.tjMaxC)} °C, 80 % VCBO, 1000 h (group E)`, rig: 'OV-04', from: 45, daysAgo: 140 },
+    {
+      kind: 'htrb',
+      name: () => `HTRB ${Math.min(150, type.tjMaxC)} °C, 80 % VCBO, 1000 h (group E)`,
+      rig: 'OV-04',
+      from: 45,
+      daysAgo: 140,
+    },
   ];
   for (const r of runs) {
     const plan = await groupPlan(m, type, r.kind, r.name, engineerId);

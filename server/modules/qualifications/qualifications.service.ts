@@ -408,15 +408,7 @@ export class QualificationsService {
     const lotById = new Map(lots.map((l) => [l.id, l]));
     const types = await m.find(DeviceTypeEntity, { where: { id: In(q.deviceTypeIds) } });
     const runs = await runsOnLots(m, q.lotIds);
-    const withdrawals = await m.find(QualificationCellWithdrawalEntity, { where: { qualificationId: id }, order: { withdrawnAt: 'ASC' } });
-    const userIds = [
-      ...new Set(
-        [...cells.flatMap((c) => [c.waivedById, c.externalRecordedById]), ...withdrawals.map((w) => w.withdrawnById)].filter(
-          (x): x is string => !!x,
-        ),
-      ),
-    ];
-    const users = new Map((userIds.length ? await m.find(UserEntity, { where: { id: In(userIds) } }) : []).map((u) => [u.id, u.name]));
+    const { withdrawals, users } = await cellRecords(m, id, cells);
 
     // The lot views (the same the lot screens show) for lots with runs of a cell's kind.
     const lotDetails = new Map<string, LotDetail>();
@@ -484,18 +476,7 @@ export class QualificationsService {
           ? { fit60: worst.fit.fit60, fit90: worst.fit.fit90, mechanismLabel: worst.fit.mechanismLabel, method: worst.fit.method }
           : null,
         runs: runViews,
-        ...recordViews(c, users),
-        withdrawn: withdrawals
-          .filter((w) => w.cellId === c.id)
-          .map((w) => ({
-            record: w.record,
-            text: w.withdrawn.text,
-            recordedBy: w.withdrawn.by,
-            recordedAt: w.withdrawn.at,
-            reason: w.reason,
-            by: users.get(w.withdrawnById ?? '') ?? 'unknown',
-            at: w.withdrawnAt.toISOString(),
-          })),
+        ...recordViews(c, users, withdrawals),
         projectedFinish: projection.at,
         projectionNote: projection.note,
       });
@@ -569,9 +550,33 @@ export class QualificationsService {
   }
 }
 
-/** A cell's waiver and outside result as the screens and the report show them (names, not ids). */
-function recordViews(c: QualificationCellEntity, users: Map<string, string>): Pick<QualCellView, 'waiver' | 'external'> {
+/** The qualification's withdrawn records (oldest first) and the names of everyone who recorded or withdrew something. */
+async function cellRecords(m: EntityManager, qualificationId: string, cells: QualificationCellEntity[]) {
+  const withdrawals = await m.find(QualificationCellWithdrawalEntity, { where: { qualificationId }, order: { withdrawnAt: 'ASC' } });
+  const ids = [...cells.flatMap((c) => [c.waivedById, c.externalRecordedById]), ...withdrawals.map((w) => w.withdrawnById)];
+  const userIds = [...new Set(ids.filter((x): x is string => !!x))];
+  const users = new Map((userIds.length ? await m.find(UserEntity, { where: { id: In(userIds) } }) : []).map((u) => [u.id, u.name]));
+  return { withdrawals, users };
+}
+
+/** A cell's waiver, outside result and withdrawn records as the screens and the report show them (names, not ids). */
+function recordViews(
+  c: QualificationCellEntity,
+  users: Map<string, string>,
+  withdrawals: QualificationCellWithdrawalEntity[],
+): Pick<QualCellView, 'waiver' | 'external' | 'withdrawn'> {
   return {
+    withdrawn: withdrawals
+      .filter((w) => w.cellId === c.id)
+      .map((w) => ({
+        record: w.record,
+        text: w.withdrawn.text,
+        recordedBy: w.withdrawn.by,
+        recordedAt: w.withdrawn.at,
+        reason: w.reason,
+        by: users.get(w.withdrawnById ?? '') ?? 'unknown',
+        at: w.withdrawnAt.toISOString(),
+      })),
     waiver: c.waiverReason
       ? { reason: c.waiverReason, by: users.get(c.waivedById ?? '') ?? 'unknown', at: c.waivedAt!.toISOString() }
       : null,
