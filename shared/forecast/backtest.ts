@@ -114,7 +114,11 @@ export function calibration(lots: BacktestLotResult[]): Pick<BacktestResult, 'bi
 }
 
 export function backtest(lots: Array<{ evidence: LotEvidence; peers?: PeerLot[] }>, options?: { simulations?: number }): BacktestResult {
-  const results = lots.flatMap((l) => backtestLot(l.evidence, l.peers ?? [], options));
+  return summarise(lots.flatMap((l) => backtestLot(l.evidence, l.peers ?? [], options)));
+}
+
+/** The calibration table and lead times over lots already back-tested. */
+export function summarise(results: BacktestLotResult[]): BacktestResult {
   const cal = calibration(results);
   const failed = results.filter((r) => !r.passed);
   const turnedEarlier = failed.filter((r) => {

@@ -66,9 +66,9 @@ export function planForecastHistory(
   pe: PlanEvidence,
   pj: PlanJudgement,
   peers: PeerLot[],
-  options?: { simulations?: number },
+  options?: { simulations?: number; current?: PlanForecast },
 ): PlanForecastHistory {
-  const current = forecastJudged(pe, pj, options);
+  const current = options?.current ?? forecastJudged(pe, pj, options);
   const latest = pj.latestH;
   const hours = [...new Set(pe.plan.readPointsH)].filter((h) => h > 0 && latest !== null && h <= latest).sort((a, b) => a - b);
   const history: ForecastPoint[] = hours.map((h) => {
