@@ -25,7 +25,13 @@ const comingColumns: Column<Coming>[] = [
 
 const pastColumns: Column<Past>[] = [
   { key: 'h', title: 'After read point', flex: 1, card: 'title', render: (p) => hours(p.hours) },
-  { key: 'p', title: 'Chance of passing', flex: 1, align: 'right', render: (p) => (p.pPass === null ? FORECAST_STATE_LABEL[p.state] : chance(p.pPass)) },
+  {
+    key: 'p',
+    title: 'Chance of passing',
+    flex: 1,
+    align: 'right',
+    render: (p) => (p.pPass === null ? FORECAST_STATE_LABEL[p.state] : chance(p.pPass)),
+  },
   { key: 'f', title: 'Failures then', flex: 0.8, align: 'right', render: (p) => String(p.failures) },
   { key: 'v', title: 'Verdict then', flex: 1, render: (p) => LOT_VERDICT_LABEL[p.verdict] },
 ];
@@ -94,7 +100,10 @@ export function LotForecastCard({ lotId }: { lotId: string }) {
                 {f.pPass === null ? FORECAST_STATE_LABEL[f.state] : chance(f.pPass)}
               </Text>
               {f.certain ? (
-                <StatusPill tone={f.certain === 'pass' ? 'ok' : 'danger'} label={f.certain === 'pass' ? 'Certain to pass' : 'Certain to fail'} />
+                <StatusPill
+                  tone={f.certain === 'pass' ? 'ok' : 'danger'}
+                  label={f.certain === 'pass' ? 'Certain to pass' : 'Certain to fail'}
+                />
               ) : null}
               {f.asOfH !== null ? (
                 <Text variant="caption" tone="muted">

@@ -95,7 +95,9 @@ export function backtestLot(ev: LotEvidence, peers: PeerLot[], options?: { simul
 
 export function calibration(lots: BacktestLotResult[]): Pick<BacktestResult, 'bins' | 'forecasts' | 'brier'> {
   const pairs = lots.flatMap((l) =>
-    l.points.filter((p) => p.hours < l.readPointsH[l.readPointsH.length - 1] && p.pPass !== null).map((p) => ({ p: p.pPass!, y: l.passed })),
+    l.points
+      .filter((p) => p.hours < l.readPointsH[l.readPointsH.length - 1] && p.pPass !== null)
+      .map((p) => ({ p: p.pPass!, y: l.passed })),
   );
   const bins: CalibrationBin[] = BACKTEST_BINS.slice(0, -1).map((from, i) => {
     const to = BACKTEST_BINS[i + 1];

@@ -18,14 +18,7 @@ import type { PlanJudgement } from '../verdict/judge';
 import { icboRatioLimit } from '../stats';
 import { deviceSlope, fitSlopes, originSlope, type SlopeFit } from './model';
 import { seededDraws } from './simulate';
-import {
-  FORECAST_INTERVAL,
-  FORECAST_MIN_READ_POINTS,
-  FORECAST_SEED,
-  FORECAST_SIMULATIONS,
-  certainty,
-  type ForecastState,
-} from './rules';
+import { FORECAST_INTERVAL, FORECAST_MIN_READ_POINTS, FORECAST_SEED, FORECAST_SIMULATIONS, certainty, type ForecastState } from './rules';
 
 export type ForecastParameter = 'hfe' | 'icbo' | 'vcesat';
 

@@ -72,8 +72,7 @@ export function planForecastHistory(
   const latest = pj.latestH;
   const hours = [...new Set(pe.plan.readPointsH)].filter((h) => h > 0 && latest !== null && h <= latest).sort((a, b) => a - b);
   const history: ForecastPoint[] = hours.map((h) => {
-    if (h === latest)
-      return { hours: h, pPass: current.pPass, state: current.state, verdict: pj.verdict, failures: current.failuresNow };
+    if (h === latest) return { hours: h, pPass: current.pPass, state: current.state, verdict: pj.verdict, failures: current.failuresNow };
     const cut = planEvidenceAt(pe, h);
     const cj = judgePlan(evidenceAt(ev, h), cut, peers);
     const f = forecastJudged(cut, cj, options);

@@ -82,7 +82,10 @@ describe('GET /api/forecast/backtest', () => {
     const b: BacktestView = res.body;
     console.log(
       'back-test:',
-      JSON.stringify({ ...b, lots: b.lots.map((l) => [l.lotCode, l.passed, l.finalVerdict, l.leadRightSide, l.leadCertain, l.points.map((p) => p.pPass)]) }),
+      JSON.stringify({
+        ...b,
+        lots: b.lots.map((l) => [l.lotCode, l.passed, l.finalVerdict, l.leadRightSide, l.leadCertain, l.points.map((p) => p.pPass)]),
+      }),
     );
     expect(b.sources.databaseLots).toBeGreaterThanOrEqual(5);
     expect(b.sources.generatedLots).toBe(24);
@@ -131,7 +134,11 @@ describe('the forecast alert', () => {
     expect(set.body).toEqual(expect.objectContaining({ below: 0.6, updatedByName: expect.any(String) }));
     const audit = await t.ctx.ds.query(`SELECT action, reason, details FROM audit_log WHERE action = 'forecast.alert.update'`);
     expect(audit).toEqual([
-      { action: 'forecast.alert.update', reason: 'Warn earlier on the new passivation lots', details: { before: { below: 0.5 }, after: { below: 0.6 } } },
+      {
+        action: 'forecast.alert.update',
+        reason: 'Warn earlier on the new passivation lots',
+        details: { before: { below: 0.5 }, after: { below: 0.6 } },
+      },
     ]);
 
     // A running lot read at 0 and 168 h, drifting −20 % per 1000 h (exact): at 500 h every device is at −10 %.
@@ -190,9 +197,11 @@ describe('the forecast alert', () => {
     });
     const notices = () => t.ctx.ds.getRepository(NotificationEntity).count({ where: { kind: 'forecast-below' } });
     // Every device at 500 h, on its −20 %/1000 h line: all ten cross −15 % by 1000 h, so the lot cannot pass.
-    const first = await eng.post(`/api/measurements/runs/${runId}/read-points/500/measurements`).send(serials.map((s) => entry(s, hfe0 * 0.9)));
+    const first = await eng
+      .post(`/api/measurements/runs/${runId}/read-points/500/measurements`)
+      .send(serials.map((s) => entry(s, hfe0 * 0.9)));
     expect(first.status).toBe(201);
-    const forecast = (await eng.get(`/api/analytics/lots/${await lotId('HG9925-F')}/forecast`)).body as LotForecast;
+    const forecast: LotForecast = (await eng.get(`/api/analytics/lots/${await lotId('HG9925-F')}/forecast`)).body;
     expect(forecast.pPass).toBe(0);
     const after1 = await notices();
     expect(after1).toBeGreaterThan(0);

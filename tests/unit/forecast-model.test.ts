@@ -82,7 +82,15 @@ describe('two-stage estimates recover the generated truth', () => {
     [2, -0.006, 0.0015, 0.3],
     [3, 0.004, 0.002, 1.2],
   ])('seed %p: mean %p, spread %p %%/h, noise %p %%', (seed, trueMean, spread, noise) => {
-    const { evidence, slopes } = generatedLot({ seed, devices: 400, readPointsH: [0, 168, 500, 1000], acceptNumber: 0, mean: trueMean, spread, noise });
+    const { evidence, slopes } = generatedLot({
+      seed,
+      devices: 400,
+      readPointsH: [0, 168, 500, 1000],
+      acceptNumber: 0,
+      mean: trueMean,
+      spread,
+      noise,
+    });
     const j = judgeLot(evidence, []);
     const input = forecastInput(evidence.plans[0], j.plans[0]);
     const fit = fitSlopes(input.devices.flatMap((d) => d.paths.filter((p) => p.parameter === 'hfe')))!;
@@ -145,7 +153,15 @@ describe('forecastPlan', () => {
   });
 
   test('the forecast at 500 h holds the generated lot’s real count at 1000 h in its interval', () => {
-    const { evidence } = generatedLot({ seed: 7, devices: 77, readPointsH: [0, 168, 500, 1000], acceptNumber: 0, mean: -0.011, spread: 0.002, noise: 0.6 });
+    const { evidence } = generatedLot({
+      seed: 7,
+      devices: 77,
+      readPointsH: [0, 168, 500, 1000],
+      acceptNumber: 0,
+      mean: -0.011,
+      spread: 0.002,
+      noise: 0.6,
+    });
     const full = judgeLot(evidence, []).plans[0];
     const cut = evidenceAt(evidence, 500);
     const f = forecastPlan(forecastInput(cut.plans[0], judgeLot(cut, []).plans[0]));
@@ -155,7 +171,15 @@ describe('forecastPlan', () => {
   });
 
   test('same evidence, same numbers (seeded)', () => {
-    const { evidence } = generatedLot({ seed: 8, devices: 30, readPointsH: [0, 168, 500, 1000], acceptNumber: 0, mean: -0.012, spread: 0.002, noise: 0.5 });
+    const { evidence } = generatedLot({
+      seed: 8,
+      devices: 30,
+      readPointsH: [0, 168, 500, 1000],
+      acceptNumber: 0,
+      mean: -0.012,
+      spread: 0.002,
+      noise: 0.5,
+    });
     const cut = evidenceAt(evidence, 500);
     const pj = judgeLot(cut, []).plans[0];
     const a = forecastPlan(forecastInput(cut.plans[0], pj));

@@ -552,7 +552,16 @@ export class PartAnalysis {
         const r = this.runs.get(id)!;
         return { id: r.id, code: r.code, state: r.state };
       });
-      a = { core, verdict: judgement.verdict, reasons: judgement.reasons, judgement, evidence, otherRuns, gainReference: e.gain, peers: this.peers };
+      a = {
+        core,
+        verdict: judgement.verdict,
+        reasons: judgement.reasons,
+        judgement,
+        evidence,
+        otherRuns,
+        gainReference: e.gain,
+        peers: this.peers,
+      };
       this.judged.set(lotId, a);
     }
     return a;

@@ -10,7 +10,15 @@ export async function findAlertSetting(m: EntityManager, lock = false): Promise<
     where: { id: FORECAST_ALERT_ID },
     ...(lock ? { lock: { mode: 'pessimistic_write' as const } } : {}),
   });
-  return row ?? Object.assign(new ForecastAlertSettingEntity(), { id: FORECAST_ALERT_ID, below: FORECAST_ALERT_DEFAULT, updatedAt: null, updatedById: null });
+  return (
+    row ??
+    Object.assign(new ForecastAlertSettingEntity(), {
+      id: FORECAST_ALERT_ID,
+      below: FORECAST_ALERT_DEFAULT,
+      updatedAt: null,
+      updatedById: null,
+    })
+  );
 }
 
 export async function saveAlertSetting(m: EntityManager, row: ForecastAlertSettingEntity): Promise<void> {

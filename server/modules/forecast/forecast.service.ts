@@ -38,7 +38,11 @@ export class ForecastService {
   async alertSetting(): Promise<ForecastAlertSetting> {
     const m = this.ctx.ds.manager;
     const row = await findAlertSetting(m);
-    return { below: row.below, updatedAt: row.updatedAt ? row.updatedAt.toISOString() : null, updatedByName: await userName(m, row.updatedById) };
+    return {
+      below: row.below,
+      updatedAt: row.updatedAt ? row.updatedAt.toISOString() : null,
+      updatedByName: await userName(m, row.updatedById),
+    };
   }
 
   async updateAlert(actor: SessionUser, input: ForecastAlertInput): Promise<ForecastAlertSetting> {
