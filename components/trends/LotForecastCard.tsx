@@ -14,12 +14,15 @@ import { CERTAINTY_WORDS, chance } from './forecast-words';
 import { hours, sig } from './format';
 
 type Plan = LotForecast['plans'][number];
+
+/** The transformed scale each parameter drifts in (shared/forecast/model.ts). */
+const PARAMETER_WORDS = { hfe: ['hFE change', ' %'], icbo: ['ln ICBO ratio', ''], vcesat: ['VCE(sat) shift', ' mV'] } as const;
 type Coming = Plan['current']['coming'][number];
 type Past = Plan['history'][number];
 
 const comingColumns: Column<Coming>[] = [
   { key: 'h', title: 'Read point', flex: 1, card: 'title', render: (c) => hours(c.hours) },
-  { key: 'e', title: 'Devices beyond limits (expected)', flex: 1.4, align: 'right', render: (c) => sig(c.expected, 2) },
+  { key: 'e', title: 'Devices beyond limits (expected)', flex: 1.4, align: 'right', render: (c) => sig(c.expected) },
   { key: 'i', title: '90 % range', flex: 1, align: 'right', render: (c) => `${c.low}–${c.high}` },
 ];
 
@@ -69,10 +72,10 @@ function PlanForecast({ plan, many }: { plan: Plan; many: boolean }) {
         <Text variant="caption" tone="muted">
           Slopes across the devices:{' '}
           {c.parameters
-            .map(
-              (p) =>
-                `${p.parameter === 'hfe' ? 'hFE' : p.parameter === 'icbo' ? 'ln ICBO ratio' : 'VCE(sat)'} mean ${sig(p.mean * 1000)} per 1000 h, spread ${sig(p.spread * 1000)}, noise ${sig(p.noise)}`,
-            )
+            .map((p) => {
+              const [name, unit] = PARAMETER_WORDS[p.parameter];
+              return `${name} mean ${sig(p.mean * 1000)}${unit} per 1000 h, spread ${sig(p.spread * 1000)}${unit} per 1000 h, measurement noise ${sig(p.noise)}${unit}`;
+            })
             .join('; ')}
           .
         </Text>
@@ -117,7 +120,7 @@ export function LotForecastCard({ lotId }: { lotId: string }) {
             <Text variant="caption" tone="muted">
               {f.method}
             </Text>
-            <Banner tone="info" title="A forecast, not a verdict">
+            <Banner tone="info" title="Caution">
               {f.caution}
             </Banner>
           </View>

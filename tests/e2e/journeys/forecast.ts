@@ -68,6 +68,7 @@ export const forecastJourney: Journey = {
     await form.getByLabel('Alert below (%)').fill('60');
     await form.getByRole('button', { name: 'Save the alert level' }).click();
     await expect(form).toContainText('falls below 60 %');
+    await expect(form.getByRole('button', { name: 'Save the alert level' })).toBeVisible();
     await form.scrollIntoViewIfNeeded();
     await j.checkA11y('forecast alert');
     await j.shot('forecast-alert');
