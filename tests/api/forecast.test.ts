@@ -88,7 +88,7 @@ describe('GET /api/forecast/backtest', () => {
       }),
     );
     expect(b.sources.databaseLots).toBeGreaterThanOrEqual(5);
-    expect(b.sources.generatedLots).toBe(24);
+    expect(b.sources.generatedLots).toBe(12);
     expect(b.bins.map((x) => [x.from, x.to])).toEqual([
       [0, 0.1],
       [0.1, 0.3],
