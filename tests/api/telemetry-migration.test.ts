@@ -29,11 +29,11 @@ async function admin(sql: string): Promise<void> {
   }
 }
 
-/** Migrations before 1828…, or up to and including it: later ones (other features' tables) stay out, so the down step undoes 1828…. */
 function dataSource(upToHead: boolean): DataSource {
   const base = createDataSource(testDbConfig(name), { runMigrations: false, poolSize: 2 });
   const files = fs
     .readdirSync(DIR)
+    // Up to and including HEAD only: a later migration would be the one undoLastMigration takes back.
     .filter((f) => f.endsWith('.ts') && (upToHead ? f <= HEAD : f < HEAD))
     .map((f) => path.join(DIR, f));
   return new DataSource({ ...base.options, migrations: files } as typeof base.options);

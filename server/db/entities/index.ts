@@ -40,7 +40,7 @@ import { ReplanProposalEntity } from './replan.entity';
 
 import { ChamberSampleEntity } from './chamber-sample.entity';
 export { ChamberSampleEntity };
-import { QualificationCellEntity, QualificationEntity } from './qualification.entity';
+import { QualificationCellEntity, QualificationCellWithdrawalEntity, QualificationEntity } from './qualification.entity';
 
 import { ForecastAlertSettingEntity, ForecastAlertStateEntity } from './forecast.entity';
 export const ENTITIES = [
@@ -78,6 +78,7 @@ export const ENTITIES = [
   ChamberSampleEntity,
   QualificationEntity,
   QualificationCellEntity,
+  QualificationCellWithdrawalEntity,
   ForecastAlertSettingEntity,
   ForecastAlertStateEntity,
 ];
