@@ -13,6 +13,7 @@ import type { ServerConfig } from './config';
 import type { AppContext } from './context';
 import { createEventBus } from './events';
 import { AnalyticsService } from './modules/analytics/analytics.service';
+import { ForecastService } from './modules/forecast/forecast.service';
 import { ApprovalsService } from './modules/approvals/approvals.service';
 import { SignoffService } from './modules/signoff/signoff.service';
 import { ReportsService } from './modules/reports/reports.service';
@@ -55,6 +56,7 @@ export interface Services {
   plans: PlansService;
   measurements: MeasurementsService;
   analytics: AnalyticsService;
+  forecast: ForecastService;
   evidence: EvidenceService;
   approvals: ApprovalsService;
   signoff: SignoffService;
@@ -125,6 +127,7 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     plans: new PlansService(ctx.ds, ctx.audit, now),
     measurements,
     analytics,
+    forecast: new ForecastService(ctx, analytics),
     evidence: new EvidenceService(ctx.ds, ctx.audit, now),
     approvals: new ApprovalsService(ctx.ds, ctx.audit, now),
     signoff,

@@ -21,6 +21,7 @@ import { LotDownloads } from './LotDownloads';
 import { hours, PARAM_LABEL, pct, sig } from './format';
 import { LotDistributionChart } from '@/components/charts/LazyCharts';
 import { LotPlanJudgement } from './LotPlanJudgement';
+import { LotForecastCard } from './LotForecastCard';
 import { LotRecordsCard } from './LotRecordsCard';
 import { VerdictPill } from './verdict';
 import { VerdictSignatures } from '@/components/signoff/VerdictSignatures';
@@ -225,6 +226,7 @@ export function LotDetailScreen() {
               </View>
             </Card>
             <VerdictSignatures lotId={l.lotId} />
+            {l.verdict !== 'untested' ? <LotForecastCard lotId={l.lotId} /> : null}
             {l.verdict === 'untested' ? (
               <EmptyState title="No readings" message="This lot has not been on a stress run yet." />
             ) : (

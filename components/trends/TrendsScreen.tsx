@@ -16,6 +16,8 @@ import { QueryState } from '@/components/ui/QueryState';
 import { SegmentedChoice } from '@/components/ui/SegmentedChoice';
 import { Text } from '@/components/ui/Text';
 import { DriftTrendChart } from '@/components/charts/LazyCharts';
+import { ForecastBacktestCard } from './ForecastBacktestCard';
+import { forecastLine } from './forecast-words';
 import { hours, pct, sig } from './format';
 import { VERDICT_ORDER, VerdictPill } from './verdict';
 
@@ -96,6 +98,7 @@ export function TrendsScreen() {
       render: (l) => (l.plan ? `${l.fails} / ${l.plan.acceptNumber}` : '—'),
     },
     { key: 'proj', title: 'Projected crossing', flex: 1, align: 'right', render: (l) => hours(l.pseudoFailureH) },
+    { key: 'forecast', title: 'Chance of passing', flex: 1.1, align: 'right', render: (l) => forecastLine(l.forecast) },
     {
       key: 'open',
       title: 'Details',
@@ -203,6 +206,10 @@ export function TrendsScreen() {
           );
         }}
       </QueryState>
+
+      <View style={{ marginTop: space.lg }}>
+        <ForecastBacktestCard />
+      </View>
 
       <View style={{ gap: space.sm, marginTop: space.lg }}>
         <Text variant="heading" heading={2}>

@@ -79,7 +79,7 @@ export function Button({
         ];
       }}
     >
-      {busy ? <ActivityIndicator size="small" color={l.fg} /> : icon ? <View>{icon}</View> : null}
+      {busy ? <ActivityIndicator size="small" color={l.fg} aria-hidden /> : icon ? <View>{icon}</View> : null}
       <Text variant="label" style={{ color: l.fg }} numberOfLines={1}>
         {busy && busyLabel ? busyLabel : label}
       </Text>

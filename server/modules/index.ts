@@ -27,6 +27,7 @@ import { replanRoutes } from './replan/replan.routes';
 import { utilisationRoutes } from './utilisation/utilisation.routes';
 import { qualificationsRoutes } from './qualifications/qualifications.routes';
 import { makeUpRoutes } from './make-up/make-up.routes';
+import { forecastRoutes } from './forecast/forecast.routes';
 
 /** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
 export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
@@ -57,6 +58,7 @@ export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
   utilisationRoutes,
   qualificationsRoutes,
   makeUpRoutes,
+  forecastRoutes,
 ];
 
 export function apiRouters(ctx: AppContext): ApiRouter[] {

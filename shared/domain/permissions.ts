@@ -45,6 +45,8 @@ export const PERMISSIONS = {
   'measurement.correct': ['engineer', 'operator'],
   'measurement.deviation': ['engineer'],
   'trends.read': ['admin', 'engineer', 'manager'],
+  // The chance of passing below which engineers are told after a read-point upload (issue #25).
+  'forecast.alert': ['engineer'],
   // Reports (issue #22): the lot report for those who read trends; the certificate of conformance
   // for the people who sign verdicts.
   'report.lot': ['admin', 'engineer', 'manager'],

@@ -9,6 +9,7 @@
  */
 import { z } from 'zod';
 import type { PlanJudgement } from '../verdict/judge';
+import type { ForecastBrief } from './forecast';
 import type { RecordDeviationKind } from '../domain/records';
 import type { MeasurementResult } from '../evidence';
 import type { ModelParameter, StressMechanism } from '../reliability/mechanism-names';
@@ -158,6 +159,8 @@ export interface LotSummary {
   hfeLimitPct: number | null;
   /** Mean hFE change per read point, for the trends chart (time zero = 0). */
   hfeTrend: Array<{ hours: number; value: number }>;
+  /** The verdict forecast's chance of passing (shared/forecast); in the list only. */
+  forecast?: ForecastBrief;
 }
 
 export interface LotDetail extends LotSummary {

@@ -100,6 +100,16 @@ function notMeasured(parameter: DriftParameter, initial: number | null, reading:
   };
 }
 
+/**
+ * The ICBO ratio (reading / time zero) at which a device fails the plan's leakage criterion: the
+ * allowed change is max((leakageMultiple − 1) × initial, leakageFloorA) (deviceDrift below), so the
+ * ratio limit is 1 + that change / initial. null without a positive time-zero reading.
+ */
+export function icboRatioLimit(initialA: number | null, c: Pick<Criteria, 'leakageMultiple' | 'leakageFloorA'>): number | null {
+  if (initialA === null || !(initialA > 0)) return null;
+  return 1 + Math.max((c.leakageMultiple - 1) * initialA, c.leakageFloorA) / initialA;
+}
+
 const ratioOf = (r: number, i: number) => (i !== 0 ? r / i : null);
 const pctOf = (r: number, i: number) => (i !== 0 ? ((r - i) / i) * 100 : null);
 

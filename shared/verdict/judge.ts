@@ -10,6 +10,7 @@ import { TERMINAL_STATES, type RunState } from '../domain/run-states';
 import { demonstratedLtpd, weibullFit } from '../reliability';
 import {
   deviceDrift,
+  icboRatioLimit,
   individualsChart,
   pseudoFailureTime,
   predictionInterval,
@@ -401,9 +402,8 @@ function degradation(works: DeviceWork[], plan: PlanEvidence['plan']): Degradati
       w.changes.filter((x) => x.hfePct !== null).map((x) => ({ hours: x.hours, value: x.hfePct! })),
       (s) => (s === 0 ? null : s * c.hfeChangePct),
     );
-    const i0 = w.t0?.icboA ?? null;
-    if (i0 !== null && i0 > 0) {
-      const ratioLimit = 1 + Math.max((c.leakageMultiple - 1) * i0, c.leakageFloorA) / i0;
+    const ratioLimit = icboRatioLimit(w.t0?.icboA ?? null, c);
+    if (ratioLimit !== null) {
       fit(
         'icbo',
         'log-ratio-origin',

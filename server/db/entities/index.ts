@@ -14,6 +14,7 @@ export * from './signoff.entity';
 export * from './lab-settings.entity';
 export * from './replan.entity';
 export * from './qualification.entity';
+export * from './forecast.entity';
 
 import { UserEntity } from './user.entity';
 import { DeviceTypeEntity } from './device-type.entity';
@@ -41,6 +42,7 @@ import { ChamberSampleEntity } from './chamber-sample.entity';
 export { ChamberSampleEntity };
 import { QualificationCellEntity, QualificationCellWithdrawalEntity, QualificationEntity } from './qualification.entity';
 
+import { ForecastAlertSettingEntity, ForecastAlertStateEntity } from './forecast.entity';
 export const ENTITIES = [
   UserEntity,
   DeviceTypeEntity,
@@ -77,4 +79,6 @@ export const ENTITIES = [
   QualificationEntity,
   QualificationCellEntity,
   QualificationCellWithdrawalEntity,
+  ForecastAlertSettingEntity,
+  ForecastAlertStateEntity,
 ];

@@ -24,6 +24,7 @@ import { lotCorrectedVersions, recordDeviationVersions } from '../measurements/m
 import { lotVersionView } from '../measurements/record-gate';
 import { LOT_CAUTION, junctionBasis, planFit } from './lot-analysis';
 import { PartCache, type Analysed } from './part-analysis';
+import { briefForecast } from './lot-forecast';
 
 export class AnalyticsService {
   /**
@@ -79,7 +80,22 @@ export class AnalyticsService {
 
   async lots(filter: { deviceTypeId?: string; verdict?: LotVerdict }): Promise<LotSummary[]> {
     const all = await this.parts.lots(filter.deviceTypeId ? [filter.deviceTypeId] : undefined);
-    return all.filter((a) => !filter.verdict || a.verdict === filter.verdict).map((a) => this.toSummary(a));
+    return all
+      .filter((a) => !filter.verdict || a.verdict === filter.verdict)
+      .map((a) => ({ ...this.toSummary(a), forecast: briefForecast(a) }));
+  }
+
+  /** One lot as analysed and judged (the forecast reads it); 404 when there is no such lot. */
+  async analysed(lotId: string): Promise<Analysed> {
+    const [part] = await this.parts.get({ lotId });
+    const a = part?.lot(lotId);
+    if (!a) throw notFound('The lot');
+    return a;
+  }
+
+  /** Every lot of every part, as analysed (the back-test picks the finished ones). */
+  async allAnalysed(): Promise<Analysed[]> {
+    return this.parts.lots();
   }
 
   /**

@@ -34,6 +34,8 @@ export interface Analysed {
   evidence: LotEvidence;
   otherRuns: Array<{ id: string; code: string; state: string }>;
   gainReference: { referenceC: number; xtb: number };
+  /** The part's other lots' control values (what the judge compared with; the forecast's history re-judges with them). */
+  peers: PeerLot[];
 }
 
 interface TypeRow {
@@ -550,7 +552,16 @@ export class PartAnalysis {
         const r = this.runs.get(id)!;
         return { id: r.id, code: r.code, state: r.state };
       });
-      a = { core, verdict: judgement.verdict, reasons: judgement.reasons, judgement, evidence, otherRuns, gainReference: e.gain };
+      a = {
+        core,
+        verdict: judgement.verdict,
+        reasons: judgement.reasons,
+        judgement,
+        evidence,
+        otherRuns,
+        gainReference: e.gain,
+        peers: this.peers,
+      };
       this.judged.set(lotId, a);
     }
     return a;

@@ -70,6 +70,7 @@ export function measurementsRoutes(ctx: AppContext): ApiRouter {
       const fields = uploadFieldsSchema.safeParse(req.body ?? {});
       if (!fields.success) throw validationError(fields.error, 'upload form');
       const out = await svc.upload(user, { runId: params.runId, hours: params.hours, preview: query.preview, file, fields: fields.data });
+      if (!query.preview && out.status < 300) await ctx.services.forecast.afterReadings(params.runId);
       res.status(out.status).json(out.body);
       return HANDLED;
     },
@@ -78,7 +79,11 @@ export function measurementsRoutes(ctx: AppContext): ApiRouter {
   r.post(
     '/runs/:runId/read-points/:hours/measurements',
     { access: writers, params: readPointParamsSchema, body: manualEntrySchema, status: 201 },
-    ({ user, params, body }) => svc.manual(user, params.runId, params.hours, body),
+    async ({ user, params, body }) => {
+      const out = await svc.manual(user, params.runId, params.hours, body);
+      await ctx.services.forecast.afterReadings(params.runId);
+      return out;
+    },
   );
 
   // Records (issue #21): a correction is a new version with its reason; the history keeps them all;

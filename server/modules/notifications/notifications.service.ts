@@ -3,7 +3,8 @@
  * e-mails: alarms go to active users with notify_alarms, read-point reminders to active users with
  * notify_read_points. Every e-mail goes through the MailService (logged in mail_log).
  */
-import { IsNull } from 'typeorm';
+import { In, IsNull } from 'typeorm';
+import type { Role } from '../../../shared/roles';
 import type { AppNotification, NotificationList, NotificationListQuery } from '../../../shared/schemas/alarms';
 import { ALARM_KIND_LABEL, SEVERITY_LABEL, type Alarm } from '../../../shared/schemas/alarms';
 import type { SessionUser } from '../../../shared/schemas/auth';
@@ -28,6 +29,8 @@ const clip = (s: string, n: number) => (s.length > n ? s.slice(0, n - 1) + '…'
 export interface Announcement {
   /** Who: alarm subscribers or read-point subscribers. */
   audience: 'alarms' | 'read-points';
+  /** Only subscribers holding one of these roles (all subscribers when absent). */
+  roles?: Role[];
   kind: string;
   title: string;
   body: string;
@@ -71,7 +74,11 @@ export class NotificationsService {
   /** Notification rows for every subscriber, and one queued e-mail each. Returns the recipients. */
   async announce(a: Announcement): Promise<string[]> {
     const users = await this.ctx.ds.getRepository(UserEntity).find({
-      where: a.audience === 'alarms' ? { active: true, notifyAlarms: true } : { active: true, notifyReadPoints: true },
+      where: {
+        active: true,
+        ...(a.audience === 'alarms' ? { notifyAlarms: true } : { notifyReadPoints: true }),
+        ...(a.roles ? { role: In(a.roles) } : {}),
+      },
       select: { id: true, email: true, name: true },
     });
     if (users.length === 0) return [];

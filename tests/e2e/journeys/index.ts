@@ -7,6 +7,7 @@ import { engineerSplitSample, operatorReadPointEvidence } from './evidence';
 import { adminPeople, signInErrors, signInEveryRole } from './foundation';
 import { holdsReadPoint } from './holds';
 import { managerTrends } from './manager';
+import { forecastJourney } from './forecast';
 import { managerLotCredit } from './credit';
 import { managerLotVerdicts } from './verdicts';
 import { operatorFloor } from './operator';
@@ -66,4 +67,6 @@ export const JOURNEYS: Journey[] = [
   engineerMakeUp,
   // Reads OV-01's chart at every period (reads only).
   rigChartSpans,
+  // The verdict forecast (issue #25): reads HG2612-C and sets the alert level (nothing later reads it).
+  forecastJourney,
 ];

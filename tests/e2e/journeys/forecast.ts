@@ -1,0 +1,76 @@
+import { expect } from './expect';
+import { DEMO } from './foundation';
+import type { Journey } from '../harness';
+
+const DRIFTING_LOT = 'HG2612-C';
+
+/**
+ * The verdict forecast (issue #25): the manager sees the drifting lot's chance of passing in the
+ * trends list, the back-test's calibration table, and the lot page's forecast; an engineer sets the
+ * alert level (a wrong value is refused with the server's words first).
+ */
+export const forecastJourney: Journey = {
+  name: 'forecast',
+  run: async (j) => {
+    const { page } = j;
+    await j.signIn(DEMO.manager.email, DEMO.manager.password);
+    await page.waitForURL((u) => u.pathname === '/trends');
+    const table = page.getByTestId('trends-table');
+    await expect(table).toBeVisible(30000);
+    const row = table.locator('[role="row"], [role="listitem"]').filter({ hasText: DRIFTING_LOT });
+    await expect(row).toHaveCount(1, 15000);
+    // Read at 0 / 168 / 500 h: the forecast at 500 h has all but no chance of passing.
+    await expect(row).toContainText(/(0 %|below 1 %|\d %) at 500 h/);
+    j.log(`trends row: ${(await row.innerText()).replace(/\s+/g, ' ').slice(0, 200)}`);
+    await row.scrollIntoViewIfNeeded();
+    await j.shot('trends-forecast-column');
+
+    // The back-test: calibration by bin and the lead time (computed once per server, then kept).
+    const backtest = page.getByTestId('forecast-backtest');
+    await expect(backtest).toBeVisible(120000);
+    await expect(page.getByTestId('backtest-bins')).toContainText('90–100 %');
+    await expect(page.getByTestId('backtest-lead')).toContainText(/read points before the last one/);
+    j.log(`back-test: ${(await page.getByTestId('backtest-lead').innerText()).replace(/\s+/g, ' ')}`);
+    await backtest.scrollIntoViewIfNeeded();
+    await j.checkA11y('trends with the back-test');
+    await j.shot('forecast-backtest');
+
+    // --- The lot's forecast ----------------------------------------------------------------
+    await page
+      .getByRole('button', { name: `Open lot ${DRIFTING_LOT}` })
+      .first()
+      .click();
+    await page.waitForURL((u) => u.pathname.startsWith('/trends/lots/'));
+    const card = page.getByTestId('lot-forecast');
+    await expect(card).toBeVisible(30000);
+    const chance = (await page.getByTestId('forecast-chance').innerText()).trim();
+    if (!/^(0 %|below 1 %|\d{1,2} %)$/.test(chance)) throw new Error(`${DRIFTING_LOT}: chance of passing "${chance}"`);
+    if (chance !== '0 %' && chance !== 'below 1 %' && Number(chance.replace(' %', '')) >= 50)
+      throw new Error(`${DRIFTING_LOT}: the forecast has not turned (${chance})`);
+    await expect(page.getByTestId('forecast-history')).toContainText('Not enough data');
+    await expect(page.getByTestId('forecast-coming')).toContainText('1,000 h');
+    j.log(`${DRIFTING_LOT}: chance ${chance}; ${(await page.getByTestId('forecast-certain-from').innerText()).trim()}`);
+    await card.scrollIntoViewIfNeeded();
+    await j.checkA11y('lot forecast');
+    await j.shot('lot-forecast');
+
+    // --- Engineer: the alert level -----------------------------------------------------------
+    await page.context().clearCookies();
+    await j.signIn(DEMO.engineer.email, DEMO.engineer.password);
+    await page.waitForURL((u) => u.pathname === '/plans');
+    await page.goto(`${j.baseUrl}/trends`);
+    const form = page.getByTestId('forecast-alert');
+    await expect(form).toBeVisible(120000);
+    await form.getByLabel('Alert below (%)').fill('150');
+    await form.getByLabel('Why it changes').fill('Tell us earlier about drifting lots');
+    await form.getByRole('button', { name: 'Save the alert level' }).click();
+    await expect(form).toContainText('Chance of passing: at most 0.99');
+    await form.getByLabel('Alert below (%)').fill('60');
+    await form.getByRole('button', { name: 'Save the alert level' }).click();
+    await expect(form).toContainText('falls below 60 %');
+    await expect(form.getByRole('button', { name: 'Save the alert level' })).toBeVisible();
+    await form.scrollIntoViewIfNeeded();
+    await j.checkA11y('forecast alert');
+    await j.shot('forecast-alert');
+  },
+};
