@@ -5,7 +5,7 @@ import { configFromEnv } from './config';
 import { createContext } from './composition';
 import { createDataSource } from './db/data-source';
 import { describeErrorForLog } from './db/safe-logger';
-import { startFeatures } from './features';
+import { startWorkers } from './cluster/workers';
 import { ConfigError, refuseWeakSecretsOffLoopback, withSecrets } from './secrets';
 
 /** The API process: migrations, then HTTP (+ web export), MQTT ingest and the scheduler. */
@@ -19,7 +19,7 @@ async function main() {
   const ds = createDataSource(config.db);
   await ds.initialize(); // runs pending migrations
   const ctx = createContext(ds, config);
-  const stopFeatures = await startFeatures(ctx);
+  const stopFeatures = await startWorkers(ctx); // EMBERLOT_WORKERS=elect: only while elected leader
   const { app } = createApp(ctx);
   const server = http.createServer(app);
   await new Promise<void>((resolve) => server.listen(config.port, config.host, resolve));

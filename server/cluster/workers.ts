@@ -1,0 +1,43 @@
+/**
+ * The API process's background workers, by EMBERLOT_WORKERS (server/config.ts `workers`):
+ *  - unset / 'single': started at once and always running here (the single-machine default);
+ *  - 'elect': run only while this process is the elected leader (leadership.ts); meanwhile the
+ *    process serves HTTP as a standby, its rig commands queued for the leader (command-store.ts),
+ *    the live floor fed by the leader through floor-relay.ts.
+ * Returns the stop function.
+ */
+import type { AppContext } from '../context';
+import { pgPoolOf } from '../db/pool';
+import { startFeatures } from '../features';
+import { QueuedRigLink } from '../modules/telemetry/command-store';
+import { startFloorRelay } from './floor-relay';
+import { LeaderElection } from './leadership';
+
+export async function startWorkers(ctx: AppContext): Promise<() => Promise<void>> {
+  const workers = ctx.config.workers;
+  if (workers?.mode !== 'elect') return startFeatures(ctx);
+
+  const standbyLink = new QueuedRigLink(() => pgPoolOf(ctx));
+  const election: LeaderElection = new LeaderElection({
+    db: ctx.config.db,
+    onLead: async (): Promise<() => Promise<void>> => {
+      if (ctx.services.rigLink === standbyLink) ctx.services.rigLink = undefined;
+      // The same MQTT client id in every leader, with a persistent session: the broker queues
+      // telemetry, status and acks while no leader is connected, and hands them to the next one.
+      return startFeatures(ctx, { clientId: workers.ingestClientId, persistentSession: true, processId: election.processId });
+    },
+    onStandby: () => {
+      if (!ctx.services.rigLink) ctx.services.rigLink = standbyLink;
+    },
+  });
+  ctx.services.leadership = election;
+  const stopRelay = startFloorRelay(ctx, election.processId);
+  election.start();
+  return async () => {
+    standbyLink.stop();
+    await election.stop();
+    await stopRelay();
+    if (ctx.services.rigLink === standbyLink) ctx.services.rigLink = undefined;
+    ctx.services.leadership = undefined;
+  };
+}
