@@ -21,11 +21,15 @@ import { runProtection } from './scenarios/protection';
 import { runProtectionAtRating } from './scenarios/protection-at-rating';
 import { runStorage } from './scenarios/storage';
 import { runWeb } from './scenarios/web';
+import { runFailoverLeader } from './scenarios/failover-leader';
 
 /** Hard stop for the whole run (every loop inside is bounded too). */
 const OVERALL_LIMIT_MS = Number(process.env.EMBERLOT_BENCH_LIMIT_S ?? 480) * 1000;
 
 const log = (line: string) => console.log(`[bench] ${line}`);
+
+/** A scenario's key in the result object (the scenario names are kebab-case, the keys camelCase). */
+const resultKey = (scenario: string) => scenario.replace(/-([a-z])/g, (_m, c: string) => c.toUpperCase());
 
 async function main(): Promise<number> {
   const t0 = Date.now();
@@ -60,20 +64,21 @@ async function main(): Promise<number> {
       ['storage', () => runStorage(env!, log)],
       ['api', () => runApi(env!, log)],
       ['web', () => runWeb(env!, log)],
+      ['failover-leader', () => runFailoverLeader(env!, log)], // result key failoverLeader
     ];
     for (const [name, run] of scenarios) {
       if (!SETTINGS.scenarios.includes(name as (typeof SETTINGS.scenarios)[number])) continue;
       const ts = Date.now();
       log(`${name}: starting`);
       try {
-        result[name] = await run();
+        result[resultKey(name)] = await run();
       } catch (err) {
         failed = true;
         const message = err instanceof Error ? err.message : String(err);
         console.error(`[bench] ${name} failed: ${err instanceof Error ? err.stack : err}`);
-        result[name] = { error: message };
+        result[resultKey(name)] = { error: message };
       }
-      log(`${name}: done in ${((Date.now() - ts) / 1000).toFixed(1)} s → ${JSON.stringify(result[name])}`);
+      log(`${name}: done in ${((Date.now() - ts) / 1000).toFixed(1)} s → ${JSON.stringify(result[resultKey(name)])}`);
     }
     result.peakRssMbOverall = rss.peaksMb();
   } finally {
