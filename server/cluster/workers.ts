@@ -10,6 +10,7 @@ import type { AppContext } from '../context';
 import { pgPoolOf } from '../db/pool';
 import { startFeatures } from '../features';
 import { QueuedRigLink } from '../modules/telemetry/command-store';
+import { pruneRateLimits } from '../modules/auth/rate-limit.data';
 import { startFloorRelay } from './floor-relay';
 import { LeaderElection } from './leadership';
 
@@ -33,7 +34,11 @@ export async function startWorkers(ctx: AppContext): Promise<() => Promise<void>
   ctx.services.leadership = election;
   const stopRelay = startFloorRelay(ctx, election.processId);
   election.start();
+  // The shared sign-in limiter's finished windows (auth.routes.ts uses the PostgreSQL store here).
+  const prune = setInterval(() => void pruneRateLimits(pgPoolOf(ctx)).catch(() => undefined), 3_600_000);
+  prune.unref?.();
   return async () => {
+    clearInterval(prune);
     standbyLink.stop();
     await election.stop();
     await stopRelay();

@@ -18,7 +18,7 @@ import { randomBytes } from 'node:crypto';
 import type { Pool } from 'pg';
 import { commandSchema, describeIssues, type CommandAck, type StoredCommand } from '../../../shared/mqtt';
 import type { RigCommandBody, RigLink } from './contracts';
-import { claimForSend, expireQueued, queueCommand, queuedCommands, readCommand, recordAnswer } from './commands.data';
+import { claimForSend, expireQueued, pruneCommandLog, queueCommand, queuedCommands, readCommand, recordAnswer } from './commands.data';
 import { RigCommandError, type MqttRigLink } from './rig-link';
 
 /** How often the leader looks for commands queued by other processes, and a standby for their answers. */
@@ -50,6 +50,7 @@ export class DurableRigLink implements RigLink {
   private readonly boot = randomBytes(3).toString('hex');
   private counter = 0;
   private queueTimer: ReturnType<typeof setInterval> | null = null;
+  private pruneTimer: ReturnType<typeof setInterval> | null = null;
   private draining = false;
 
   constructor(
@@ -64,11 +65,14 @@ export class DurableRigLink implements RigLink {
   start(pollMs = QUEUE_POLL_MS): void {
     if (this.queueTimer) return;
     this.queueTimer = setInterval(() => void this.drainQueue(), pollMs);
+    this.pruneTimer = setInterval(() => void pruneCommandLog(this.pool()).catch(() => undefined), 3_600_000);
+    this.pruneTimer.unref?.();
   }
 
   async stop(): Promise<void> {
     if (this.queueTimer) clearInterval(this.queueTimer);
-    this.queueTimer = null;
+    if (this.pruneTimer) clearInterval(this.pruneTimer);
+    this.queueTimer = this.pruneTimer = null;
   }
 
   async send(rigCode: string, command: RigCommandBody, opts: { cmdId?: string; timeoutMs?: number } = {}): Promise<CommandAck> {
@@ -148,7 +152,13 @@ export class DurableRigLink implements RigLink {
     this.draining = true;
     try {
       for (const q of await queuedCommands(this.pool())) {
-        const body = q.body as RigCommandBody;
+        // Validated again as it comes out of the table (QueuedRigLink validated it going in).
+        const parsed = commandSchema.safeParse({ ...q.body, v: 1, cmdId: q.cmdId, ts: new Date().toISOString() });
+        if (!parsed.success || parsed.data.type === 'stored') {
+          await recordAnswer(this.pool(), q.rigCode, q.cmdId, false, 'not a valid command');
+          continue;
+        }
+        const { v: _v, cmdId: _c, ts: _t, ...body } = parsed.data;
         // Not awaited in turn: one slow rig must not hold the others' commands.
         void this.send(q.rigCode, body, { cmdId: q.cmdId }).catch(() => undefined);
       }

@@ -91,3 +91,17 @@ export async function queuedCommands(
   );
   return r.rows.map((x) => ({ rigCode: x.rig_code, cmdId: x.cmd_id, body: x.body }));
 }
+
+/**
+ * Answered commands older than the keep window go (the log is for hand-overs, not history: runs
+ * and audit entries keep what happened). 90 days outlasts any run's wish to send the same cmdId.
+ */
+export const COMMAND_LOG_KEEP_DAYS = 90;
+
+export async function pruneCommandLog(pool: Pool, keepDays = COMMAND_LOG_KEEP_DAYS): Promise<number> {
+  const r = await pool.query(
+    `DELETE FROM rig_commands WHERE created_at < now() - $1 * interval '1 day' AND state IN ('acked', 'refused', 'expired')`,
+    [keepDays],
+  );
+  return r.rowCount ?? 0;
+}
