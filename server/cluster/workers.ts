@@ -36,7 +36,7 @@ export async function startWorkers(ctx: AppContext): Promise<() => Promise<void>
   election.start();
   // The shared sign-in limiter's finished windows (auth.routes.ts uses the PostgreSQL store here).
   const prune = setInterval(() => void pruneRateLimits(pgPoolOf(ctx)).catch(() => undefined), 3_600_000);
-  prune.unref?.();
+  (prune as unknown as { unref?: () => void }).unref?.();
   return async () => {
     clearInterval(prune);
     standbyLink.stop();

@@ -46,6 +46,9 @@ test('leader SIGKILLed with a command in flight: the standby leads within second
   expect(f.health.survivor?.leader?.processId).toBe(f.health.survivor?.processId);
   expect(f.health.leaderRowHolder).toBe(f.health.survivor?.processId);
 
+  // The standby's live floor followed the leader's ingest (floor relay over NOTIFY).
+  expect(f.standbyFloorTiles).toBeGreaterThan(0);
+
   // Samples: 1..lastSeq stored exactly once (no gap, no duplicate row); hours, read point, commands.
   expectBooksBalance(f, run.fx, log, run.sim.rig);
   expect(f.duplicateCommands).toBe(0);

@@ -63,6 +63,11 @@ export interface FailoverFigures extends Figures {
   /** Deliveries at the rig, after the kill, of cmdIds the rig had already answered before it. */
   republishedAnswered: number;
   /** The in-flight command: its cmdId, how often the rig applied it, its row in the command log. */
+  /**
+   * The live floor on the standby: tiles of this rig its event stream (/api/floor/stream, opened on
+   * B) sent while A led, after A's scheduler reached stress (events only A emitted: floor-relay.ts).
+   */
+  standbyFloorTiles: number;
   inFlight: { cmdId: string; appliedAtRig: number; deliveredAtRig: number; state: string | null; publishes: number | null };
   health: { survivor: HealthWorkers | null; leaderRowHolder: string | null };
 }
@@ -119,6 +124,7 @@ export async function runLeaderFailover(
   const fx = await createFaultRun(ds, type, rigCode);
   const started = { at: Date.now(), counters: await ingestCounters(ds) };
   const sim = startSimRig(brokerUrl, fx);
+  const tiles = watchFloorTiles(`http://127.0.0.1:${apiB}`, client.cookie(), fx.rigId);
 
   // The kill: at the first delivery of the read-point hold's cool command to the rig.
   let killAt = 0;
@@ -170,6 +176,7 @@ export async function runLeaderFailover(
     drive = await driveRun(ds, stack, fx, sim, null, opts.budgetMs ?? 90_000);
   } finally {
     observer.end(true);
+    tiles.stop();
   }
   const waitLead = Date.now() + 15_000;
   while (!leadAt && Date.now() < waitLead) await sleep(50);
@@ -186,6 +193,11 @@ export async function runLeaderFailover(
   const deliveriesAfter = log.deliveries(rigCode).filter((d) => d.at > killAt);
   const [row] = await ds.query(`SELECT state, publishes FROM rig_commands WHERE rig_code = $1 AND cmd_id = $2`, [rigCode, inFlightCmdId]);
   const [leaderRow] = await ds.query(`SELECT holder FROM cluster_leader WHERE id = 1`);
+  const [stress] = await ds.query(
+    `SELECT min(at) AS at FROM audit_log WHERE entity = 'run' AND entity_id = $1 AND action = 'run.ambient-reached'`,
+    [fx.runId],
+  );
+  const stressAt = stress?.at ? new Date(stress.at).getTime() : Number.POSITIVE_INFINITY;
   const secs = (t: number) => Math.round((t - killAt) / 100) / 10;
   const figures: FailoverFigures = {
     ...f,
@@ -193,6 +205,7 @@ export async function runLeaderFailover(
     recoverySeconds: firstAfter?.at ? secs(new Date(firstAfter.at).getTime()) : Number.NaN,
     // The run wants expectedCommandKinds() (heat and bias once per stressing phase): anything beyond is a duplicate.
     duplicateCommands: f.cmdIdsAppliedTwice + Math.max(0, kinds.length - expectedCommandKinds().length),
+    standbyFloorTiles: tiles.at.filter((t) => t > stressAt && t < killAt).length,
     republishedAnswered: deliveriesAfter.filter((d) => answeredBeforeKill.has(d.cmdId)).length,
     inFlight: {
       cmdId: inFlightCmdId,
@@ -204,4 +217,28 @@ export async function runLeaderFailover(
     health: { survivor: await health(client), leaderRowHolder: leaderRow?.holder ?? null },
   };
   return { figures, fx, sim, stop };
+}
+
+/** Read the floor's event stream as a browser would; the times of `tile` events naming `rigId`. */
+function watchFloorTiles(baseUrl: string, cookie: string, rigId: string): { at: number[]; stop(): void } {
+  const at: number[] = [];
+  const ac = new AbortController();
+  void (async () => {
+    const res = await fetch(`${baseUrl}/api/floor/stream`, { headers: { accept: 'text/event-stream', cookie }, signal: ac.signal });
+    if (!res.body) return;
+    const reader = res.body.getReader();
+    const decoder = new TextDecoder();
+    let buf = '';
+    for (;;) {
+      const { value, done } = await reader.read();
+      if (done) return;
+      buf += decoder.decode(value, { stream: true });
+      for (let i = buf.indexOf('\n\n'); i >= 0; i = buf.indexOf('\n\n')) {
+        const ev = buf.slice(0, i);
+        buf = buf.slice(i + 2);
+        if (/^event: tile$/m.test(ev) && ev.includes(rigId)) at.push(Date.now());
+      }
+    }
+  })().catch(() => undefined);
+  return { at, stop: () => ac.abort() };
 }

@@ -66,7 +66,7 @@ export class DurableRigLink implements RigLink {
     if (this.queueTimer) return;
     this.queueTimer = setInterval(() => void this.drainQueue(), pollMs);
     this.pruneTimer = setInterval(() => void pruneCommandLog(this.pool()).catch(() => undefined), 3_600_000);
-    this.pruneTimer.unref?.();
+    (this.pruneTimer as unknown as { unref?: () => void }).unref?.();
   }
 
   async stop(): Promise<void> {
