@@ -1,5 +1,6 @@
 /** The leadership lock's statements (leadership.ts), all on the leader's own session connection. */
 import type { Client, Pool } from 'pg';
+import type { DataSource } from 'typeorm';
 
 /**
  * pg_advisory_lock key of the workers' leadership: 'EMBRLEAD' in ASCII. Session-level: PostgreSQL
@@ -56,4 +57,27 @@ export const FLOOR_CHANNEL = 'emberlot_floor';
 
 export async function notifyFloor(pool: Pool, payload: string): Promise<void> {
   await pool.query('SELECT pg_notify($1, $2)', [FLOOR_CHANNEL, payload]);
+}
+
+/** pg_advisory_lock key around migrations when several API processes start at once: 'EMBRMIGR'. */
+export const MIGRATION_LOCK_KEY = '4993720483075147602';
+
+/**
+ * Run the pending migrations while holding a session-level advisory lock on a connection of the
+ * data source, so two API processes starting together never run the same migration twice (the
+ * second waits, then finds nothing pending).
+ */
+export async function migrateUnderLock(ds: DataSource): Promise<void> {
+  const qr = ds.createQueryRunner();
+  await qr.connect();
+  try {
+    await qr.query('SELECT pg_advisory_lock($1::bigint)', [MIGRATION_LOCK_KEY]);
+    try {
+      await ds.runMigrations({ transaction: 'each' });
+    } finally {
+      await qr.query('SELECT pg_advisory_unlock($1::bigint)', [MIGRATION_LOCK_KEY]);
+    }
+  } finally {
+    await qr.release();
+  }
 }
