@@ -52,11 +52,11 @@ export async function readLeader(pool: Pool): Promise<LeaderRow | null> {
   return x ? { holder: x.holder, host: x.host, pid: x.pid, since: x.since, heartbeatAt: x.heartbeat_at, lockHeld: x.lock_held } : null;
 }
 
-/** The floor relay's NOTIFY channel (floor-relay.ts). */
-export const FLOOR_CHANNEL = 'emberlot_floor';
+/** The event relay's NOTIFY channel (event-relay.ts). */
+export const EVENTS_CHANNEL = 'emberlot_events';
 
-export async function notifyFloor(pool: Pool, payload: string): Promise<void> {
-  await pool.query('SELECT pg_notify($1, $2)', [FLOOR_CHANNEL, payload]);
+export async function notifyEvents(pool: Pool, payload: string): Promise<void> {
+  await pool.query('SELECT pg_notify($1, $2)', [EVENTS_CHANNEL, payload]);
 }
 
 /** pg_advisory_lock key around migrations when several API processes start at once: 'EMBRMIGR'. */

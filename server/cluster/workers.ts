@@ -3,7 +3,7 @@
  *  - unset / 'single': started at once and always running here (the single-machine default);
  *  - 'elect': run only while this process is the elected leader (leadership.ts); meanwhile the
  *    process serves HTTP as a standby, its rig commands queued for the leader (command-store.ts),
- *    the live floor fed by the leader through floor-relay.ts.
+ *    run and alarm events and the live floor carried between processes by event-relay.ts.
  * Returns the stop function.
  */
 import type { AppContext } from '../context';
@@ -11,7 +11,7 @@ import { pgPoolOf } from '../db/pool';
 import { startFeatures } from '../features';
 import { QueuedRigLink } from '../modules/telemetry/command-store';
 import { pruneRateLimits } from '../modules/auth/rate-limit.data';
-import { startFloorRelay } from './floor-relay';
+import { startEventRelay } from './event-relay';
 import { LeaderElection } from './leadership';
 
 export async function startWorkers(ctx: AppContext): Promise<() => Promise<void>> {
@@ -32,7 +32,7 @@ export async function startWorkers(ctx: AppContext): Promise<() => Promise<void>
     },
   });
   ctx.services.leadership = election;
-  const stopRelay = startFloorRelay(ctx, election.processId);
+  const stopRelay = startEventRelay(ctx, election.processId);
   election.start();
   // The shared sign-in limiter's finished windows (auth.routes.ts uses the PostgreSQL store here).
   const prune = setInterval(() => void pruneRateLimits(pgPoolOf(ctx)).catch(() => undefined), 3_600_000);

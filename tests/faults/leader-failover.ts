@@ -65,7 +65,7 @@ export interface FailoverFigures extends Figures {
   /** The in-flight command: its cmdId, how often the rig applied it, its row in the command log. */
   /**
    * The live floor on the standby: tiles of this rig its event stream (/api/floor/stream, opened on
-   * B) sent while A led, after A's scheduler reached stress (events only A emitted: floor-relay.ts).
+   * B) sent while A led, after A's scheduler reached stress (events only A emitted: server/cluster/event-relay.ts).
    */
   standbyFloorTiles: number;
   inFlight: { cmdId: string; appliedAtRig: number; deliveredAtRig: number; state: string | null; publishes: number | null };

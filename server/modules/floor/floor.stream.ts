@@ -54,7 +54,7 @@ export class FloorStream {
     private readonly sessionCheckMs = SESSION_CHECK_MS,
   ) {}
 
-  /** A rig changed in another API process (server/cluster/floor-relay.ts): its tile goes out on the next tick. */
+  /** A rig changed in another API process (server/cluster/event-relay.ts): its tile goes out on the next tick. */
   markRigDirty(rigId: string): void {
     if (this.clients.size) this.dirty.add(rigId);
   }
