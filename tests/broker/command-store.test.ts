@@ -38,6 +38,7 @@ const startLeader = async () => {
   stopTelemetry = await startTelemetry(ctx, {
     mqtt: { url: `mqtt://127.0.0.1:${eb.port}`, ...SERVER },
     clientId: 'emberlot-command-log-test',
+    persistentSession: true, // as an elected leader: it also publishes what standbys queue
     sweepEveryMs: 60_000,
     upkeep: { cronExpression: null },
   });

@@ -61,10 +61,13 @@ export class DurableRigLink implements RigLink {
     private readonly log: (line: string) => void = (l) => console.log(`[commands] ${l}`),
   ) {}
 
-  /** Start publishing commands other processes queue. */
-  start(pollMs = QUEUE_POLL_MS): void {
-    if (this.queueTimer) return;
-    this.queueTimer = setInterval(() => void this.drainQueue(), pollMs);
+  /**
+   * Start the log's upkeep; with `drainQueue` (several API processes: EMBERLOT_WORKERS=elect) also
+   * publish what other processes queue. A single process never queues, so it does not poll.
+   */
+  start(opts: { drainQueue: boolean; pollMs?: number }): void {
+    if (this.queueTimer || this.pruneTimer) return;
+    if (opts.drainQueue) this.queueTimer = setInterval(() => void this.drainQueue(), opts.pollMs ?? QUEUE_POLL_MS);
     this.pruneTimer = setInterval(() => void pruneCommandLog(this.pool()).catch(() => undefined), 3_600_000);
     (this.pruneTimer as unknown as { unref?: () => void }).unref?.();
   }

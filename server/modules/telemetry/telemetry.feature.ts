@@ -85,7 +85,7 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
     }
     if (!stopping) {
       mqttLink.start();
-      link.start();
+      link.start({ drainQueue: !!opts.persistentSession }); // standbys queue commands only in elect mode
     }
   })();
   // Usually the first attempt succeeds at once: then the link is started when this resolves.
