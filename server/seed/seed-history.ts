@@ -408,7 +408,7 @@ interface DemoRun {
  *   failures at 1000 h, one device lost (disposition); 45 devices split over OV-04 (32) and OV-03 (13).
  * - HG2608-F insufficient sample: 48 of the plan's 77 (the humidity chamber's board), deviation recorded.
  * - HG2612-C in progress (and drifting against its sister lots): 620 h of 1000, 77 devices split
- *   over OV-01 and OV-02.
+ *   over OV-01 and OV-02; one lost and one damaged at 500 h, so its run page proposes a make-up of two.
  */
 const DEMO_RUNS: DemoRun[] = [
   {
@@ -487,6 +487,16 @@ const DEMO_RUNS: DemoRun[] = [
     ],
     state: 'stressing',
     startedDaysAgo: 28,
+    // Two devices out of the sample at 500 h: the run page offers a make-up of two (make-up planning).
+    removed: [
+      {
+        serial: 'C0010',
+        atH: 500,
+        kind: 'lost',
+        reason: 'Not in the carrier after the 500 h read point; searched the tester and the oven.',
+      },
+      { serial: 'C0031', atH: 500, kind: 'damaged', reason: 'Collector lead bent while unloading for the 500 h read point.' },
+    ],
   },
 ];
 

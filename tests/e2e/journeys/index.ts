@@ -20,6 +20,8 @@ import { managerReplan } from './replan';
 import { managerCalendar } from './calendar';
 import { qualification } from './qualification';
 import { workingDay } from './working-day';
+import { engineerMakeUp } from './make-up';
+import { rigChartSpans } from './chart-spans';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -60,4 +62,8 @@ export const JOURNEYS: Journey[] = [
   // Every screen of every role under axe: after the journeys that add data, before the offline rig.
   accessibilityEveryScreen,
   adminRigs,
+  // Books a make-up of two into HG2612-C's sample (the first size; the second finds it restored).
+  engineerMakeUp,
+  // Reads OV-01's chart at every period (reads only).
+  rigChartSpans,
 ];
