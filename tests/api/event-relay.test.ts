@@ -69,7 +69,10 @@ beforeAll(async () => {
   const config = { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config };
   a = createContext(db.ds, config);
   b = createContext(db.ds, config);
-  stops.push(startEventRelay(a, 'process-a', 20, () => undefined), startEventRelay(b, 'process-b', 20, () => undefined));
+  stops.push(
+    startEventRelay(a, 'process-a', 20, () => undefined),
+    startEventRelay(b, 'process-b', 20, () => undefined),
+  );
   await new Promise((r) => setTimeout(r, 500)); // both LISTEN connections open
 });
 
