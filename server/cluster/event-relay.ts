@@ -16,6 +16,7 @@
  * A payload over NOTIFY's limit goes as its rig id only (the floor still follows; logged).
  */
 import { Client } from 'pg';
+import type { DbConfig } from '../config';
 import type { AppContext } from '../context';
 import { ALARM_EVENT, RIG_STATUS_CHANGED, RUN_EVENT, TELEMETRY_LANDED, type AlarmEvent, type RunEvent } from '../events';
 import { pgPoolOf } from '../db/pool';
@@ -25,6 +26,7 @@ import { EVENTS_CHANNEL, notifyEvents } from './leadership.data';
 const MAX_PAYLOAD = 7_500;
 
 type Relayed = { from: string; run?: RunEvent[]; alarm?: AlarmEvent[]; rigs?: string[] };
+type Queued = { kind: 'run'; e: RunEvent } | { kind: 'alarm'; e: AlarmEvent };
 
 export function startEventRelay(
   ctx: AppContext,
@@ -33,7 +35,7 @@ export function startEventRelay(
   log = (l: string) => console.log(`[relay] ${l}`),
 ): () => Promise<void> {
   const received = new WeakSet<object>(); // events this relay emitted itself: never sent on
-  let queue: Array<{ kind: 'run'; e: RunEvent } | { kind: 'alarm'; e: AlarmEvent }> = [];
+  let queue: Queued[] = [];
   const rigs = new Set<string>();
   const onRun = (e: RunEvent) => {
     if (e && !received.has(e)) queue.push({ kind: 'run', e });
@@ -49,43 +51,16 @@ export function startEventRelay(
   ctx.events.on(TELEMETRY_LANDED, onRig);
   ctx.events.on(RIG_STATUS_CHANGED, onRig);
 
-  /** Payloads of at most MAX_PAYLOAD characters, events in emission order. */
-  const payloads = (): string[] => {
-    const out: string[] = [];
-    let cur: Relayed = { from: origin };
-    let size = JSON.stringify(cur).length;
-    const flushCur = () => {
-      if (cur.run || cur.alarm || cur.rigs) out.push(JSON.stringify(cur));
-      cur = { from: origin };
-      size = JSON.stringify(cur).length;
-    };
-    const add = (key: 'run' | 'alarm' | 'rigs', item: unknown) => {
-      const text = JSON.stringify(item);
-      if (text.length + 16 > MAX_PAYLOAD) return false;
-      if (size + text.length + 16 > MAX_PAYLOAD) flushCur();
-      (cur[key] ??= [] as never[]).push(item as never);
-      size += text.length + 16;
-      return true;
-    };
-    for (const q of queue) {
-      if (add(q.kind, q.e)) continue;
-      const rigId = q.kind === 'run' ? q.e.rigId : q.e.alarm.rigId;
-      log(`a ${q.kind} event too large for NOTIFY went to the other processes as its rig only`);
-      if (rigId) rigs.add(rigId);
-    }
-    queue = [];
-    for (const r of rigs) add('rigs', r);
-    rigs.clear();
-    flushCur();
-    return out;
-  };
-
   let sending = false;
   const flush = setInterval(async () => {
     if (sending || (!queue.length && !rigs.size)) return;
     sending = true;
     try {
-      for (const p of payloads()) await notifyEvents(pgPoolOf(ctx), p);
+      const batch = queue;
+      queue = [];
+      const ids = [...rigs];
+      rigs.clear();
+      for (const p of packPayloads(origin, batch, ids, log)) await notifyEvents(pgPoolOf(ctx), p);
     } catch {
       /* database down: the floor's next full read catches up; protection re-reads runs after its TTL */
     } finally {
@@ -112,11 +87,55 @@ export function startEventRelay(
     for (const id of msg.rigs ?? []) ctx.services.floorStream.markRigDirty(id);
   };
 
+  const listener = listenForEvents(ctx.config.db, deliver);
+
+  return async () => {
+    clearInterval(flush);
+    ctx.events.off(RUN_EVENT, onRun);
+    ctx.events.off(ALARM_EVENT, onAlarm);
+    ctx.events.off(TELEMETRY_LANDED, onRig);
+    ctx.events.off(RIG_STATUS_CHANGED, onRig);
+    await listener.stop();
+  };
+}
+
+/** NOTIFY payloads of at most MAX_PAYLOAD characters, events in emission order, then the rig ids. */
+function packPayloads(origin: string, queue: Queued[], rigIds: string[], log: (l: string) => void): string[] {
+  const out: string[] = [];
+  const rigs = new Set(rigIds);
+  let cur: Relayed = { from: origin };
+  let size = JSON.stringify(cur).length;
+  const flushCur = () => {
+    if (cur.run || cur.alarm || cur.rigs) out.push(JSON.stringify(cur));
+    cur = { from: origin };
+    size = JSON.stringify(cur).length;
+  };
+  const add = (key: 'run' | 'alarm' | 'rigs', item: unknown) => {
+    const text = JSON.stringify(item);
+    if (text.length + 16 > MAX_PAYLOAD) return false;
+    if (size + text.length + 16 > MAX_PAYLOAD) flushCur();
+    (cur[key] ??= [] as never[]).push(item as never);
+    size += text.length + 16;
+    return true;
+  };
+  for (const q of queue) {
+    if (add(q.kind, q.e)) continue;
+    const rigId = q.kind === 'run' ? q.e.rigId : q.e.alarm.rigId;
+    log(`a ${q.kind} event too large for NOTIFY went to the other processes as its rig only`);
+    if (rigId) rigs.add(rigId);
+  }
+  for (const r of rigs) add('rigs', r);
+  flushCur();
+  return out;
+}
+
+/** LISTEN on a connection of its own, reconnecting after a second when it fails. */
+function listenForEvents(db: DbConfig, deliver: (payload: string) => void): { stop(): Promise<void> } {
   let listener: Client | null = null;
   let stopped = false;
   const listen = async () => {
     if (stopped) return;
-    const c = new Client({ ...ctx.config.db, application_name: 'emberlot-event-relay', keepAlive: true });
+    const c = new Client({ ...db, application_name: 'emberlot-event-relay', keepAlive: true });
     let retried = false;
     const retry = () => {
       if (retried) return;
@@ -132,22 +151,19 @@ export function startEventRelay(
     try {
       await c.connect();
       await c.query(`LISTEN ${EVENTS_CHANNEL}`);
-      listener = c;
+      if (stopped) await c.end().catch(() => undefined);
+      else listener = c;
     } catch {
       retry();
     }
   };
   void listen();
-
-  return async () => {
-    stopped = true;
-    clearInterval(flush);
-    ctx.events.off(RUN_EVENT, onRun);
-    ctx.events.off(ALARM_EVENT, onAlarm);
-    ctx.events.off(TELEMETRY_LANDED, onRig);
-    ctx.events.off(RIG_STATUS_CHANGED, onRig);
-    const c = listener;
-    listener = null;
-    if (c) await c.end().catch(() => undefined);
+  return {
+    stop: async () => {
+      stopped = true;
+      const c = listener;
+      listener = null;
+      if (c) await c.end().catch(() => undefined);
+    },
   };
 }

@@ -40,32 +40,7 @@ export interface TelemetryFeatureOptions extends IngestOptions {
 }
 
 export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOptions = {}): Promise<() => Promise<void>> {
-  const mqttCfg = opts.mqtt ?? ctx.config.mqtt;
-  // eslint-disable-next-line prefer-const -- the ingest's callbacks close over it; assigned once, just below
-  let link: DurableRigLink;
-  const ingest = new TelemetryIngest(
-    {
-      pool: () => pgPoolOf(ctx),
-      events: ctx.events,
-      now: () => ctx.now(),
-      publishStored: (rigCode, cmd) => link.publishStored(rigCode, cmd),
-      onAck: (rigCode, ack) => link.onAck(rigCode, ack),
-      onChamber: opts.onChamber,
-    },
-    opts,
-  );
-  const mqttLink = new MqttRigLink({
-    url: mqttCfg.url,
-    username: mqttCfg.username,
-    password: mqttCfg.password,
-    clientId: opts.clientId,
-    persistentSession: opts.persistentSession,
-    onMessage: (topic, payload) => ingest.handleMessage(topic, payload),
-    seqSeen: (rigCode) => ingest.seqSeen(rigCode),
-    log: opts.log ? (l) => opts.log!(`[mqtt] ${l}`) : undefined,
-  });
-  // Every command goes through the command log (command-store.ts): stored before it is published.
-  link = new DurableRigLink(mqttLink, () => pgPoolOf(ctx), opts.processId ?? `pid-${process.pid}`, opts.log);
+  const { ingest, mqttLink, link } = createIngestAndLink(ctx, opts);
   ctx.services.rigLink = link;
   ctx.services.telemetryIngest = ingest;
   // Rollups a crash left unwritten are rebuilt from the stored samples before any new message is
@@ -163,4 +138,35 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
     if (ctx.services.rigLink === link) ctx.services.rigLink = undefined;
     if (ctx.services.telemetryIngest === ingest) ctx.services.telemetryIngest = undefined;
   };
+}
+
+/** The ingest, its MQTT link, and the command log in front of the link (each needs the other). */
+function createIngestAndLink(ctx: AppContext, opts: TelemetryFeatureOptions) {
+  const mqttCfg = opts.mqtt ?? ctx.config.mqtt;
+  // eslint-disable-next-line prefer-const -- the ingest's callbacks close over it; assigned once, just below
+  let link: DurableRigLink;
+  const ingest = new TelemetryIngest(
+    {
+      pool: () => pgPoolOf(ctx),
+      events: ctx.events,
+      now: () => ctx.now(),
+      publishStored: (rigCode, cmd) => link.publishStored(rigCode, cmd),
+      onAck: (rigCode, ack) => link.onAck(rigCode, ack),
+      onChamber: opts.onChamber,
+    },
+    opts,
+  );
+  const mqttLink = new MqttRigLink({
+    url: mqttCfg.url,
+    username: mqttCfg.username,
+    password: mqttCfg.password,
+    clientId: opts.clientId,
+    persistentSession: opts.persistentSession,
+    onMessage: (topic, payload) => ingest.handleMessage(topic, payload),
+    seqSeen: (rigCode) => ingest.seqSeen(rigCode),
+    log: opts.log ? (l) => opts.log!(`[mqtt] ${l}`) : undefined,
+  });
+  // Every command goes through the command log (command-store.ts): stored before it is published.
+  link = new DurableRigLink(mqttLink, () => pgPoolOf(ctx), opts.processId ?? `pid-${process.pid}`, opts.log);
+  return { ingest, mqttLink, link };
 }
