@@ -16,6 +16,7 @@ import { RssSampler } from './lib/rss';
 import { SETTINGS } from './lib/settings';
 import { runAnalytics } from './scenarios/analytics';
 import { runApi } from './scenarios/api';
+import { runFailoverBroker } from './scenarios/failover-broker';
 import { runIngest } from './scenarios/ingest';
 import { runProtection } from './scenarios/protection';
 import { runProtectionAtRating } from './scenarios/protection-at-rating';
@@ -27,9 +28,6 @@ import { runFailoverLeader } from './scenarios/failover-leader';
 const OVERALL_LIMIT_MS = Number(process.env.EMBERLOT_BENCH_LIMIT_S ?? 480) * 1000;
 
 const log = (line: string) => console.log(`[bench] ${line}`);
-
-/** A scenario's key in the result object (the scenario names are kebab-case, the keys camelCase). */
-const resultKey = (scenario: string) => scenario.replace(/-([a-z])/g, (_m, c: string) => c.toUpperCase());
 
 async function main(): Promise<number> {
   const t0 = Date.now();
@@ -64,21 +62,22 @@ async function main(): Promise<number> {
       ['storage', () => runStorage(env!, log)],
       ['api', () => runApi(env!, log)],
       ['web', () => runWeb(env!, log)],
-      ['failover-leader', () => runFailoverLeader(env!, log)], // result key failoverLeader
+      ['failoverBroker', () => runFailoverBroker(env!, log)],
+      ['failoverLeader', () => runFailoverLeader(env!, log)],
     ];
     for (const [name, run] of scenarios) {
       if (!SETTINGS.scenarios.includes(name as (typeof SETTINGS.scenarios)[number])) continue;
       const ts = Date.now();
       log(`${name}: starting`);
       try {
-        result[resultKey(name)] = await run();
+        result[name] = await run();
       } catch (err) {
         failed = true;
         const message = err instanceof Error ? err.message : String(err);
         console.error(`[bench] ${name} failed: ${err instanceof Error ? err.stack : err}`);
-        result[resultKey(name)] = { error: message };
+        result[name] = { error: message };
       }
-      log(`${name}: done in ${((Date.now() - ts) / 1000).toFixed(1)} s → ${JSON.stringify(result[resultKey(name)])}`);
+      log(`${name}: done in ${((Date.now() - ts) / 1000).toFixed(1)} s → ${JSON.stringify(result[name])}`);
     }
     result.peakRssMbOverall = rss.peaksMb();
   } finally {

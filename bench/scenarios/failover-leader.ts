@@ -1,5 +1,5 @@
 /**
- * failoverLeader (issue #24 items 4 and 6, the leader half): two API processes with
+ * failoverLeader (issue #24 items 4 and 6, the leader half; EMBERLOT_BENCH_SCENARIOS=failoverLeader): two API processes with
  * EMBERLOT_WORKERS=elect, a broker and a simulated rig (10 messages per second, 4 sockets) on a
  * database of their own in the bench cluster; the leader is SIGKILLed mid-ingest, at the moment the
  * rig receives the read-point hold's first command (in flight). The scenario itself is

@@ -11,6 +11,7 @@ import type { DataSource, EntityManager } from 'typeorm';
 import { In } from 'typeorm';
 import { ON_RIG_STATES } from '../../shared/domain/run-states';
 import { isPoweredKindName } from '../../shared/domain/stress';
+import { junctionFromTelemetry } from '../../shared/physics';
 import type { PlanKind } from '../../shared/schemas/plans';
 import {
   DeviceEntity,
@@ -100,12 +101,23 @@ export const HEAT_SUNK_CASE_RISE_C = 4;
 
 /**
  * The junction a demo history run's telemetry would have shown: the chamber under reverse bias
- * (leakage power is negligible), the heat-sunk case plus θjc × VCE·IC under powered bias.
+ * (leakage power is negligible), the case plus θjc × VCE·IC under powered bias — on a heat-sunk
+ * board (the demo's default) or a free-air one (the qualification's group C life run).
  */
-export function historyJunctionC(plan: StressPlanEntity, type: DeviceTypeEntity): number {
-  const p = (plan.bias?.vceV ?? 0) * (plan.bias?.icA ?? 0);
+export function historyJunctionC(
+  plan: Pick<StressPlanEntity, 'kind' | 'chamberC' | 'bias'>,
+  type: Pick<DeviceTypeEntity, 'thetaJcCPerW' | 'thetaJaCPerW'>,
+  board: 'heat-sunk' | 'free-air' = 'heat-sunk',
+): number {
+  const vV = plan.bias?.vceV ?? 0;
+  const iA = plan.bias?.icA ?? 0;
+  const p = vV * iA;
   if (!isPoweredKindName(plan.kind) || !(p > 0)) return plan.chamberC;
-  return plan.chamberC + HEAT_SUNK_CASE_RISE_C + type.thetaJcCPerW * p;
+  // The case temperature the socket's telemetry reports: a heat-sunk board holds it a few kelvin
+  // over the chamber; on a free-air board the case rises by (θja − θjc)·P, so the estimate
+  // case + θjc·P comes to the plan's own junction, chamber + θja·P (JESD51 definitions).
+  const caseC = board === 'heat-sunk' ? plan.chamberC + HEAT_SUNK_CASE_RISE_C : plan.chamberC + (type.thetaJaCPerW - type.thetaJcCPerW) * p;
+  return junctionFromTelemetry({ caseC, vV, iA, thetaJcCPerW: type.thetaJcCPerW });
 }
 
 /** Wall-clock time of each read point: 24 h hold per earlier read point, bias off at the read point. */
