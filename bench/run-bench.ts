@@ -22,6 +22,7 @@ import { runProtection } from './scenarios/protection';
 import { runProtectionAtRating } from './scenarios/protection-at-rating';
 import { runStorage } from './scenarios/storage';
 import { runWeb } from './scenarios/web';
+import { runFailoverLeader } from './scenarios/failover-leader';
 
 /** Hard stop for the whole run (every loop inside is bounded too). */
 const OVERALL_LIMIT_MS = Number(process.env.EMBERLOT_BENCH_LIMIT_S ?? 480) * 1000;
@@ -62,6 +63,7 @@ async function main(): Promise<number> {
       ['api', () => runApi(env!, log)],
       ['web', () => runWeb(env!, log)],
       ['failoverBroker', () => runFailoverBroker(env!, log)],
+      ['failoverLeader', () => runFailoverLeader(env!, log)],
     ];
     for (const [name, run] of scenarios) {
       if (!SETTINGS.scenarios.includes(name as (typeof SETTINGS.scenarios)[number])) continue;

@@ -37,6 +37,7 @@ import { RigsService } from './modules/rigs/rigs.service';
 import { LabSettingsService } from './modules/lab-settings/lab-settings.service';
 import { RunsService } from './modules/runs/runs.service';
 import type { RunScheduler } from './modules/scheduler/scheduler';
+import type { LeadershipStatus } from './cluster/leadership';
 import type { RigLink } from './modules/telemetry/contracts';
 import type { TelemetryIngest } from './modules/telemetry/ingest';
 import { TelemetryService } from './modules/telemetry/telemetry.service';
@@ -82,6 +83,8 @@ export interface Services {
   telemetryIngest: TelemetryIngest | undefined;
   protection: ProtectionMonitor | undefined;
   scheduler: RunScheduler | undefined;
+  /** The workers' leader election (EMBERLOT_WORKERS=elect, server/cluster/); undefined: this process always leads. */
+  leadership: { status(): LeadershipStatus } | undefined;
 }
 
 export interface CompositionOverrides {
@@ -151,5 +154,6 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     telemetryIngest: undefined,
     protection: undefined,
     scheduler: undefined,
+    leadership: undefined,
   };
 }

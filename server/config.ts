@@ -55,6 +55,30 @@ export interface ServerConfig {
    * address many times and raise it for their own stack only.
    */
   signInMaxPerWindow?: number;
+  /**
+   * Background workers (server/cluster/): 'single' (default) runs them in this process always;
+   * 'elect' (EMBERLOT_WORKERS=elect) runs them only while this process holds the leadership lock.
+   * `ingestClientId` (EMBERLOT_INGEST_CLIENT_ID): the MQTT client id every leader takes in turn.
+   */
+  workers?: WorkersConfig;
+}
+
+export interface WorkersConfig {
+  mode: 'single' | 'elect';
+  ingestClientId: string;
+}
+
+/** EMBERLOT_WORKERS: unset or 'single' → one process does everything; 'elect' → leader election. */
+export function parseWorkers(env: Env): WorkersConfig {
+  const v = (env.EMBERLOT_WORKERS ?? '').trim().toLowerCase();
+  if (v && v !== 'single' && v !== 'elect') {
+    throw new ConfigError(
+      `EMBERLOT_WORKERS=${env.EMBERLOT_WORKERS}: use "elect" (leader election between API processes) or leave it unset.`,
+    );
+  }
+  const ingestClientId = (env.EMBERLOT_INGEST_CLIENT_ID ?? '').trim() || 'emberlot-ingest';
+  if (ingestClientId.startsWith('rig-')) throw new ConfigError('EMBERLOT_INGEST_CLIENT_ID must not start with "rig-" (rigs\' client ids).');
+  return { mode: v === 'elect' ? 'elect' : 'single', ingestClientId };
 }
 
 export type TrustProxy = false | number | string[];
@@ -177,6 +201,7 @@ export function configFromEnv(env: Env = process.env): ServerConfig {
       minuteKeepDays: Math.max(1, int(env.EMBERLOT_MINUTE_KEEP_DAYS, MINUTE_KEEP_DAYS)),
       keepAroundMin: Math.max(0, int(env.EMBERLOT_KEEP_AROUND_MIN, KEEP_AROUND_MIN)),
     },
+    workers: parseWorkers(env),
     ...(env.EMBERLOT_SIGN_IN_MAX_PER_WINDOW ? { signInMaxPerWindow: Math.max(1, int(env.EMBERLOT_SIGN_IN_MAX_PER_WINDOW, 30)) } : {}),
   };
 }

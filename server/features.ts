@@ -1,5 +1,5 @@
 import type { AppContext } from './context';
-import { startTelemetry } from './modules/telemetry/telemetry.feature';
+import { startTelemetry, type TelemetryFeatureOptions } from './modules/telemetry/telemetry.feature';
 import { startProtection } from './modules/protection/start';
 import { startScheduler } from './modules/scheduler/scheduler';
 import { startReplanning } from './modules/replan/replan.feature';
@@ -10,10 +10,15 @@ import { chamberReportHandler } from './modules/chamber/chamber-reports';
  * function fills its typed slot in ctx.services (rigLink, telemetryIngest, protection, scheduler)
  * and returns its stop function, which clears it; they are stopped in reverse order.
  */
-export async function startFeatures(ctx: AppContext): Promise<() => Promise<void>> {
+export async function startFeatures(
+  ctx: AppContext,
+  /** The MQTT session of an elected leader (server/cluster/workers.ts). */
+  session: Pick<TelemetryFeatureOptions, 'clientId' | 'persistentSession' | 'processId'> = {},
+): Promise<() => Promise<void>> {
   const stops: Array<() => Promise<void> | void> = [];
   stops.push(
     await startTelemetry(ctx, {
+      ...session,
       rollupFlushMs: ctx.config.rollupFlushMs,
       maxBatch: ctx.config.ingestMaxBatch,
       maxInFlight: ctx.config.ingestInFlight,

@@ -5,7 +5,8 @@ import { configFromEnv } from './config';
 import { createContext } from './composition';
 import { createDataSource } from './db/data-source';
 import { describeErrorForLog } from './db/safe-logger';
-import { startFeatures } from './features';
+import { startWorkers } from './cluster/workers';
+import { migrateUnderLock } from './cluster/leadership.data';
 import { ConfigError, refuseWeakSecretsOffLoopback, withSecrets } from './secrets';
 
 /** The API process: migrations, then HTTP (+ web export), MQTT ingest and the scheduler. */
@@ -16,10 +17,13 @@ async function main() {
     mqttServerPassword: config.mqtt.password,
     dbPassword: config.db.password,
   });
-  const ds = createDataSource(config.db);
-  await ds.initialize(); // runs pending migrations
+  // Several API processes (EMBERLOT_WORKERS=elect) may start together: migrations under a lock.
+  const elect = config.workers?.mode === 'elect';
+  const ds = createDataSource(config.db, { runMigrations: !elect });
+  await ds.initialize(); // runs pending migrations (single process)
+  if (elect) await migrateUnderLock(ds);
   const ctx = createContext(ds, config);
-  const stopFeatures = await startFeatures(ctx);
+  const stopFeatures = await startWorkers(ctx); // EMBERLOT_WORKERS=elect: only while elected leader
   const { app } = createApp(ctx);
   const server = http.createServer(app);
   await new Promise<void>((resolve) => server.listen(config.port, config.host, resolve));

@@ -129,6 +129,8 @@ describe('session', () => {
   it('sends security headers and no x-powered-by', async () => {
     const res = await request(t.app).get('/api/health');
     expect(res.status).toBe(200);
+    // One process, no election: it runs the workers itself (server/cluster/workers.ts).
+    expect(res.body.workers).toEqual({ mode: 'single', role: 'leader' });
     expect(res.headers['x-powered-by']).toBeUndefined();
     expect(res.headers['x-content-type-options']).toBe('nosniff');
     expect(res.headers['content-security-policy']).toMatch(/default-src 'self'/);

@@ -213,6 +213,8 @@ export async function startApiProcess(env: Env): Promise<NodeProcess> {
 export interface ApiClient {
   signIn(email: string, password: string): Promise<void>;
   request<T = unknown>(method: string, urlPath: string, body?: unknown): Promise<{ status: number; body: T }>;
+  /** The session cookie (`emberlot.sid=…`) once signed in, '' before (e.g. to open the floor's event stream). */
+  cookie(): string;
 }
 
 export function apiClient(baseUrl: string): ApiClient {
@@ -238,6 +240,7 @@ export function apiClient(baseUrl: string): ApiClient {
   };
   return {
     request,
+    cookie: () => cookie,
     async signIn(email, password) {
       const r = await request('POST', '/api/auth/sign-in', { email, password });
       if (r.status !== 200) throw new Error(`sign-in as ${email} failed: ${r.status} ${JSON.stringify(r.body)}`);

@@ -8,7 +8,8 @@ import type { AppContext } from '../../context';
 import { AppError } from '../../http/errors';
 import { ApiRouter, SESSION_COOKIE } from '../../http/route';
 import { UserEntity } from '../../db/entities';
-import { pgPool } from '../../db/pool';
+import { pgPool, pgPoolOf } from '../../db/pool';
+import { PgRateLimitStore } from './rate-limit.data';
 import { SESSION_ENDED, type SessionEnded } from '../../events';
 import type { AuthService } from './auth.service';
 
@@ -61,6 +62,8 @@ export function authRoutes(ctx: AppContext): ApiRouter {
     limit: ctx.config.signInMaxPerWindow ?? SIGN_IN_MAX_PER_WINDOW,
     standardHeaders: 'draft-7',
     legacyHeaders: false,
+    // Several API processes (EMBERLOT_WORKERS=elect) count one address's attempts together.
+    ...(ctx.config.workers?.mode === 'elect' ? { store: new PgRateLimitStore(() => pgPoolOf(ctx)) } : {}),
     handler: (_req, res) => {
       res.status(429).json({
         error: { code: 'too_many_requests', message: 'Too many sign-in attempts from this address. Wait 15 minutes and try again.' },

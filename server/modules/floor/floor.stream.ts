@@ -54,6 +54,11 @@ export class FloorStream {
     private readonly sessionCheckMs = SESSION_CHECK_MS,
   ) {}
 
+  /** A rig changed in another API process (server/cluster/event-relay.ts): its tile goes out on the next tick. */
+  markRigDirty(rigId: string): void {
+    if (this.clients.size) this.dirty.add(rigId);
+  }
+
   get size(): number {
     return this.clients.size;
   }

@@ -16,6 +16,12 @@ export interface MqttRigLinkOptions {
   username: string;
   password: string;
   clientId?: string;
+  /**
+   * A persistent session (clean: false) with telemetry at QoS 1: the broker queues what arrives
+   * while this client id is away, and the next process connecting under the same id (the new
+   * leader, server/cluster/) receives it. Off for the single-process default (telemetry at QoS 0).
+   */
+  persistentSession?: boolean;
   /** Every message from the subscriptions (telemetry, status, command-acks). */
   onMessage: (topic: string, payload: Buffer) => void;
   /** RigLink.seqSeen, answered by the ingest. */
@@ -86,7 +92,7 @@ export class MqttRigLink implements RigLink {
       username: this.opts.username,
       password: this.opts.password,
       protocolVersion: 4,
-      clean: true,
+      clean: !this.opts.persistentSession,
       keepalive: 15,
       connectTimeout: 5_000,
       reconnectPeriod: this.minBackoffMs,
@@ -104,10 +110,11 @@ export class MqttRigLink implements RigLink {
       // Telemetry at QoS 0: its delivery is already guaranteed end to end — a rig keeps every
       // message until the server's `stored` names it and re-sends it otherwise — and with a clean
       // session QoS 1 could not cover a dropped connection anyway. It saves a PUBACK per message
-      // here and the broker's in-flight bookkeeping. Status and acks stay at QoS 1.
+      // here and the broker's in-flight bookkeeping. Status and acks stay at QoS 1. With a persistent
+      // session (workers that fail over) telemetry is QoS 1 too, so the broker queues it meanwhile.
       c.subscribe(
         {
-          [topics.all.telemetry]: { qos: 0 },
+          [topics.all.telemetry]: { qos: this.opts.persistentSession ? 1 : 0 },
           [topics.all.status]: { qos: 1 },
           [topics.all.commandAcks]: { qos: 1 },
           [topics.all.chamber]: { qos: 1 },
@@ -217,11 +224,11 @@ export class MqttRigLink implements RigLink {
     return promise;
   }
 
-  /** Called by the ingest for every valid command-ack. */
-  onAck(rigCode: string, ack: CommandAck): void {
+  /** Called by the ingest for every valid command-ack; false when no command here waits for it. */
+  onAck(rigCode: string, ack: CommandAck): boolean {
     const key = `${rigCode}\u0000${ack.cmdId}`;
     const p = this.pending.get(key);
-    if (!p) return; // late or repeated ack
+    if (!p) return false; // late or repeated ack, or one held by the broker for a previous leader
     this.pending.delete(key);
     clearTimeout(p.timer);
     if (ack.ok) p.resolve(ack);
@@ -235,6 +242,7 @@ export class MqttRigLink implements RigLink {
           ack.error ?? 'no reason given',
         ),
       );
+    return true;
   }
 
   /** Confirm stored seqs to a rig. Not queued while offline: the rig re-sends and gets confirmed again. */

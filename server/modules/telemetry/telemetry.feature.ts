@@ -8,6 +8,7 @@ import { pgPoolOf } from '../../db/pool';
 import { RIG_STATUS_CHANGED, type RigStatusChanged } from '../../events';
 import { TelemetryIngest, type IngestOptions } from './ingest';
 import { MqttRigLink } from './rig-link';
+import { DurableRigLink } from './command-store';
 import { recoverRollups } from './rollups';
 import { pruneRejectedMessages, REJECTED_PRUNE_EVERY_MS, type RejectionRetention } from './rejections-retention';
 import { markQuietRigsOffline } from './telemetry.data';
@@ -24,6 +25,10 @@ export interface TelemetryFeatureOptions extends IngestOptions {
   /** Override the MQTT URL/credentials (tests); default ctx.config.mqtt. */
   mqtt?: { url: string; username: string; password: string };
   clientId?: string;
+  /** Persistent MQTT session + QoS 1 telemetry under `clientId` (workers that fail over; rig-link.ts). */
+  persistentSession?: boolean;
+  /** Names this process in the command log (rig_commands.sent_by). */
+  processId?: string;
   offlineAfterMs?: number;
   sweepEveryMs?: number;
   /** rejected_messages retention (rejections-retention.ts) and how often it is applied. */
@@ -35,29 +40,7 @@ export interface TelemetryFeatureOptions extends IngestOptions {
 }
 
 export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOptions = {}): Promise<() => Promise<void>> {
-  const mqttCfg = opts.mqtt ?? ctx.config.mqtt;
-  // eslint-disable-next-line prefer-const -- the ingest's callbacks close over it; assigned once, just below
-  let link: MqttRigLink;
-  const ingest = new TelemetryIngest(
-    {
-      pool: () => pgPoolOf(ctx),
-      events: ctx.events,
-      now: () => ctx.now(),
-      publishStored: (rigCode, cmd) => link.publishStored(rigCode, cmd),
-      onAck: (rigCode, ack) => link.onAck(rigCode, ack),
-      onChamber: opts.onChamber,
-    },
-    opts,
-  );
-  link = new MqttRigLink({
-    url: mqttCfg.url,
-    username: mqttCfg.username,
-    password: mqttCfg.password,
-    clientId: opts.clientId,
-    onMessage: (topic, payload) => ingest.handleMessage(topic, payload),
-    seqSeen: (rigCode) => ingest.seqSeen(rigCode),
-    log: opts.log ? (l) => opts.log!(`[mqtt] ${l}`) : undefined,
-  });
+  const { ingest, mqttLink, link } = createIngestAndLink(ctx, opts);
   ctx.services.rigLink = link;
   ctx.services.telemetryIngest = ingest;
   // Rollups a crash left unwritten are rebuilt from the stored samples before any new message is
@@ -75,7 +58,10 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
         await new Promise((r) => setTimeout(r, waitMs));
       }
     }
-    if (!stopping) link.start();
+    if (!stopping) {
+      mqttLink.start();
+      link.start({ drainQueue: !!opts.persistentSession }); // standbys queue commands only in elect mode
+    }
   })();
   // Usually the first attempt succeeds at once: then the link is started when this resolves.
   await Promise.race([started, new Promise((r) => setTimeout(r, 2_000))]);
@@ -148,7 +134,39 @@ export async function startTelemetry(ctx: AppContext, opts: TelemetryFeatureOpti
     clearInterval(prune);
     await ingest.stop();
     await link.stop();
+    await mqttLink.stop();
     if (ctx.services.rigLink === link) ctx.services.rigLink = undefined;
     if (ctx.services.telemetryIngest === ingest) ctx.services.telemetryIngest = undefined;
   };
+}
+
+/** The ingest, its MQTT link, and the command log in front of the link (each needs the other). */
+function createIngestAndLink(ctx: AppContext, opts: TelemetryFeatureOptions) {
+  const mqttCfg = opts.mqtt ?? ctx.config.mqtt;
+  // eslint-disable-next-line prefer-const -- the ingest's callbacks close over it; assigned once, just below
+  let link: DurableRigLink;
+  const ingest = new TelemetryIngest(
+    {
+      pool: () => pgPoolOf(ctx),
+      events: ctx.events,
+      now: () => ctx.now(),
+      publishStored: (rigCode, cmd) => link.publishStored(rigCode, cmd),
+      onAck: (rigCode, ack) => link.onAck(rigCode, ack),
+      onChamber: opts.onChamber,
+    },
+    opts,
+  );
+  const mqttLink = new MqttRigLink({
+    url: mqttCfg.url,
+    username: mqttCfg.username,
+    password: mqttCfg.password,
+    clientId: opts.clientId,
+    persistentSession: opts.persistentSession,
+    onMessage: (topic, payload) => ingest.handleMessage(topic, payload),
+    seqSeen: (rigCode) => ingest.seqSeen(rigCode),
+    log: opts.log ? (l) => opts.log!(`[mqtt] ${l}`) : undefined,
+  });
+  // Every command goes through the command log (command-store.ts): stored before it is published.
+  link = new DurableRigLink(mqttLink, () => pgPoolOf(ctx), opts.processId ?? `pid-${process.pid}`, opts.log);
+  return { ingest, mqttLink, link };
 }
