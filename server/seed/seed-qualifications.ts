@@ -3,8 +3,9 @@
  * runs and lots:
  * - QUAL-001, in progress: HPD-2N140 to AEC-Q101 on HG2611-A / -B / HG2612-C. HTRB passed on A
  *   (split over OV-01 and OV-02), awaiting its verdict on B (four 1000 h readings missing), under
- *   stress on C. ESD recorded from the ESD bench. TC and AC stay "not started": their chamber kinds
- *   (tc, ac) are not in this build's plans yet. H3TRB, IOL, DPA, dimensions and solderability are
+ *   stress on C. ESD recorded from the ESD bench. TC under stress on C: the live-runs seed's chamber
+ *   run TC-2612-C on TC-01 (seed-runs.ts). AC not started but startable: the part's autoclave plan
+ *   (seed-plans.ts) and the idle vessel AC-01. H3TRB, IOL, DPA, dimensions and solderability are
  *   not started.
  * - QUAL-002, complete: HPD-3P95 (a part of its own, so the other demo lots' peer checks do not
  *   move) to the MIL-PRF-19500 group tests on its lot HG2606-K. Group C life and group E HTRB are
