@@ -33,8 +33,8 @@ export const chamberFloor: Journey = {
     const tile = page.getByTestId(`rig-tile-${CHAMBER}`);
     await expect(tile).toBeVisible(30000);
     await expect(tile).toContainText(`Run ${RUN}`);
-    await expect(tile).toContainText(/Devices\s*45/);
-    await expect(tile).toContainText(/Excursions\s*\d+/);
+    await expect(tile).toContainText(/Devices\s*45/i);
+    await expect(tile).toContainText(/Excursions\s*\d+/i);
     await expect(page.getByTestId(`chamber-load-${CHAMBER}`)).toContainText(/^-?\d+\.\d °C$/);
     await expect(page.getByTestId(`chamber-step-${CHAMBER}`)).toContainText(
       /^(Ramp to|Dwell at) the (hot|cold) extreme · cycle [\d,]+ of 1,000$/,
