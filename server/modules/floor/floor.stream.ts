@@ -15,7 +15,15 @@ import { liveSessionIds } from './floor.data';
 import type { Response } from 'express';
 import type { FloorStreamEvent, FloorTile } from '../../../shared/schemas/floor';
 import type { AppContext } from '../../context';
-import { ALARM_EVENT, CHAMBER_REPORTED, RIG_STATUS_CHANGED, RUN_EVENT, SESSION_ENDED, TELEMETRY_LANDED, type SessionEnded } from '../../events';
+import {
+  ALARM_EVENT,
+  CHAMBER_REPORTED,
+  RIG_STATUS_CHANGED,
+  RUN_EVENT,
+  SESSION_ENDED,
+  TELEMETRY_LANDED,
+  type SessionEnded,
+} from '../../events';
 import type { FloorService } from './floor.service';
 
 export const STREAM_TICK_MS = 1_000;
