@@ -63,6 +63,18 @@ it('QUAL-002 is complete: runs passed, outside results recorded, IOL waived, the
     'e-dpa': 'passed',
   });
   expect(d.cells.find((c) => c.groupKey === 'c-life')!.runs.map((r) => r.code)).toEqual(['HOTL-2606-K']);
+  // Group E temperature cycling: a seeded 500-cycle run in the lab's chamber TC-01, not an outside result.
+  const tc = d.cells.find((c) => c.groupKey === 'e-tc')!;
+  expect(tc.runs.map((r) => `${r.code}:${r.rigCode}:${r.state}`)).toEqual(['TC-2606-K:TC-01:finished']);
+  expect(tc.external).toBeNull();
+  expect(tc.verdict).toBe('passed');
+  // The lot verdict's signature still verifies: the data signed is the data now (not stale).
+  const lotId = d.cells[0].lotId;
+  const signoff = (await (await t.signIn('manager')).get(`/api/signoff/lots/${lotId}`)).body;
+  expect(signoff.verdict).toBe('passed');
+  expect(signoff.signatures.map((x: { stale: boolean; dataHash: string }) => [x.stale, x.dataHash === signoff.currentHash])).toEqual([
+    [false, true],
+  ]);
   const mgr = await t.signIn('manager');
   const csv = await mgr.get(`/api/qualifications/${d.id}/report.csv`);
   expect(csv.status).toBe(200);
