@@ -50,6 +50,8 @@ function spread(seed: string, pct: number): number {
  * 16 wall seconds, so the floor shows the count moving. The storage / autoclave vessel runs the
  * ovens' clock (1 stress h per wall second, a report every 0.5 s).
  */
+export const DEMO_CYCLING_CHAMBER_PACE = { minutesPerWallSecond: 4, samplePeriodWallS: 0.4 } as const;
+
 function chamberEntry(
   rig: { code: string; humidity_capable: boolean; max_temp_c: number; min_temp_c: number | null; max_pressure_k_pa: number | null },
   base: Record<string, unknown>,
@@ -63,7 +65,7 @@ function chamberEntry(
     maxTempC: rig.max_temp_c,
     humidityCapable: rig.humidity_capable,
     pressureVessel: rig.max_pressure_k_pa !== null,
-    ...(cycling ? { minutesPerWallSecond: 4, samplePeriodWallS: 0.4 } : { minutesPerWallSecond: 60, samplePeriodWallS: DEMO_SAMPLE_S }),
+    ...(cycling ? DEMO_CYCLING_CHAMBER_PACE : { minutesPerWallSecond: 60, samplePeriodWallS: DEMO_SAMPLE_S }),
   };
 }
 
