@@ -176,7 +176,15 @@ async function main(): Promise<void> {
   const { rigs: configs, chambers: chamberConfigs } = loadConfigs();
   const fleet = createRigFleet(configs);
   const chambers = chamberConfigs.map((c) => new SimulatedChamber(c));
-  for (const c of chambers) c.start();
+  // The chambers sign in once the rigs have (or after 20 s): the broker checks one new rig name at a
+  // time with bcrypt, and a burst of first sign-ins on a loaded machine once kept a rig out long
+  // enough for its run's first command to go unanswered (the run went into fault).
+  const chambersStart = Date.now();
+  const startChambers = setInterval(() => {
+    if (!fleet.rigs.every((r) => r.connected) && Date.now() - chambersStart < 20_000) return;
+    clearInterval(startChambers);
+    for (const c of chambers) c.start();
+  }, 250);
   console.log(
     `[rig-simulator] ${fleet.rigs.length} rig(s) (${configs.map((c) => c.rigCode).join(', ')}) → ${configs[0].brokerUrl}, ` +
       `${configs[0].stressHoursPerWallSecond ?? 1} stress h per wall s` +
@@ -199,6 +207,7 @@ async function main(): Promise<void> {
     if (stopping) return;
     stopping = true;
     clearInterval(summary);
+    clearInterval(startChambers);
     console.log(`[rig-simulator] ${signal}: stopping`);
     const force: { unref?: () => void } = setTimeout(() => process.exit(1), 5000) as never;
     force.unref?.();

@@ -6,7 +6,7 @@
  * wall second a whole 10 min dwell would fall between two reports and nothing would ever count.
  * Profile: JESD22-A104 condition B −55/+125 °C [memory], 10 min dwell, 10 K/min [practice].
  */
-import { initialChamberState, stepChamber, type ChamberModelConfig } from '../../rig-simulator/chamber';
+import { initialChamberState, stepChamber, type ChamberModelConfig, type ChamberState } from '../../rig-simulator/chamber';
 import { DEMO_CYCLING_CHAMBER_PACE } from '../../scripts/demo-fleet';
 import { newTcCounter, stepTcCounter, type TcProfile } from '../../shared/chamber/profile';
 
@@ -21,7 +21,7 @@ const CFG: ChamberModelConfig = {
 };
 
 function run(minutesPerReport: number, reports: number) {
-  let s = { ...initialChamberState(), profile: { ...PROFILE } };
+  let s: ChamberState = { ...initialChamberState(), profile: { ...PROFILE } };
   let counter = newTcCounter();
   for (let k = 0; k < reports; k++) {
     for (let j = 0; j < 4; j++) s = stepChamber(s, CFG, minutesPerReport / 4); // the simulator's 4 substeps
