@@ -110,7 +110,7 @@ LEFT JOIN LATERAL (
   FROM chamber_samples c WHERE r.kind = 'chamber' AND c.rig_id = r.id ORDER BY c.seq DESC LIMIT 1
 ) cs ON true
 WHERE ($1::uuid[] IS NULL OR r.id = ANY($1::uuid[]))
-ORDER BY r.active DESC, r.code`;
+ORDER BY r.active DESC, (r.kind = 'chamber'), r.code`;
 
 /** Every rig's tile row, or only these rig ids; `states` are the on-rig run states. */
 export function readTileRows(ds: DataSource, rigIds: string[] | null, states: readonly string[]): Promise<TileRow[]> {
