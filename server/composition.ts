@@ -41,6 +41,7 @@ import type { TelemetryIngest } from './modules/telemetry/ingest';
 import { TelemetryService } from './modules/telemetry/telemetry.service';
 import { UsersService } from './modules/users/users.service';
 import { ReplanService } from './modules/replan/replan.service';
+import { MakeUpService } from './modules/make-up/make-up.service';
 import { UtilisationService } from './modules/utilisation/utilisation.service';
 
 /** Every service of the API process. */
@@ -71,6 +72,7 @@ export interface Services {
   tripResets: TripResetService;
   replan: ReplanService;
   utilisation: UtilisationService;
+  makeUp: MakeUpService;
   /** Replaced (typed) when protection starts with its own retry options (protection/start.ts). */
   mail: MailService;
   /** Live parts: set while the background features run, undefined otherwise (or a test's fake link). */
@@ -140,6 +142,7 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     tripResets: new TripResetService(ctx),
     replan: new ReplanService(ctx),
     utilisation: new UtilisationService(ctx),
+    makeUp: new MakeUpService(ctx),
     mail,
     rigLink: undefined,
     telemetryIngest: undefined,
