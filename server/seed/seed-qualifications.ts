@@ -38,7 +38,6 @@ import { SignoffService } from '../modules/signoff/signoff.service';
 import { DEMO_DEVICE_TYPES, DEMO_USERS } from './demo-data';
 import { historyJunctionC, insertHistoryRun } from './seed-history';
 import { fromTemplate } from './seed-plans';
-import type { PlanInput } from '../../shared/schemas/plans';
 
 const DAY = 86_400_000;
 type Actor = { id: string; email: string };
