@@ -99,17 +99,19 @@ test('a chamber pushed out of band raises a "Chamber out of band" alarm, the til
   const over = await s.t.ctx.ds.query(`SELECT count(*)::int AS n FROM chamber_samples WHERE rig_id = $1 AND load_c > 160`, [rigId]);
   expect(over[0].n).toBeGreaterThan(0);
 
-  // While every report is out of band, the hours stand still.
-  for (let k = 0; k < 100; k++) {
-    const last = await s.t.ctx.ds.query(`SELECT load_c FROM chamber_samples WHERE rig_id = $1 ORDER BY seq DESC LIMIT 2`, [rigId]);
-    if (last.every((x: { load_c: number }) => x.load_c > 161)) break;
-    await sleep(100);
-  }
-  await sleep(500);
-  const h1 = (await run()).stressHours;
-  await sleep(1500); // ≈ 30 chamber minutes, all of it above the band
-  const h2 = (await run()).stressHours;
-  expect(h2).toBe(h1);
+  // While every report is out of band, the hours stand still: once the engine has read past the first
+  // report above the band, ten more reports (all above it) add nothing.
+  const [first] = await s.t.ctx.ds.query(`SELECT min(seq)::float8 AS seq FROM chamber_samples WHERE rig_id = $1 AND load_c > 160`, [rigId]);
+  const atFirst = await untilRun(s.t, runId, 'stressing', 20_000, (r) => r.accruedToSeq >= Number(first.seq));
+  const later = await untilRun(s.t, runId, 'stressing', 20_000, (r) => r.accruedToSeq >= atFirst.accruedToSeq + 10);
+  const between = await s.t.ctx.ds.query(
+    `SELECT count(*)::int AS n, min(load_c) AS lo FROM chamber_samples WHERE rig_id = $1 AND seq >= $2 AND seq <= $3`,
+    [rigId, first.seq, later.accruedToSeq],
+  );
+  expect(between[0].n).toBeGreaterThanOrEqual(10);
+  expect(Number(between[0].lo)).toBeGreaterThan(160);
+  expect(later.stressHours).toBe(atFirst.stressHours);
+  const h2 = later.stressHours;
 
   // The floor tile of the chamber counts the open excursion alarm.
   const op = await s.t.signIn('operator');
