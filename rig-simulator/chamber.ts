@@ -38,6 +38,12 @@ export interface ChamberModelConfig {
   humidityCapable: boolean;
   /** A saturated-steam pressure vessel (autoclave / HAST). */
   pressureVessel: boolean;
+  /**
+   * Fault injection: the controller aims the air this many kelvin off what it was told (a drifted
+   * controller or a failed sensor); its reported set point stays the commanded one. Read on every
+   * step, so a test can push a running chamber out of band.
+   */
+  aimOffsetK?: number;
 }
 
 export type ProgramPhase = 'to-hot' | 'hot' | 'to-cold' | 'cold';
@@ -86,7 +92,7 @@ export function stepChamber(s: ChamberState, cfg: ChamberModelConfig, dtMin: num
     ramp = Math.min(ramp, s.profile.rampKPerMin);
     aim = st.phase === 'to-hot' || st.phase === 'hot' ? aims.hotC : aims.coldC;
   }
-  aim = Math.min(cfg.maxTempC, Math.max(cfg.minTempC, aim));
+  aim = Math.min(cfg.maxTempC, Math.max(cfg.minTempC, aim + (cfg.aimOffsetK ?? 0)));
   const step = ramp * dtMin;
   st.airC = s.airC + Math.max(-step, Math.min(step, aim - s.airC));
   st.loadC = s.loadC + (st.airC - s.loadC) * (1 - Math.exp(-dtMin / cfg.tauMin));
@@ -167,6 +173,7 @@ export class SimulatedChamber {
       maxTempC: config.maxTempC ?? 200,
       humidityCapable: config.humidityCapable ?? false,
       pressureVessel: config.pressureVessel ?? false,
+      aimOffsetK: config.aimOffsetK ?? 0,
     };
     this.seq = config.seqStart ?? Date.now();
   }

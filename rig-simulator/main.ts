@@ -9,6 +9,7 @@
  */
 import fs from 'node:fs';
 import { z } from 'zod';
+import { SimulatedChamber, type ChamberRigConfig } from './chamber';
 import { createRigFleet, type RigConfig } from './rig';
 
 const faultsSchema = z
@@ -81,10 +82,30 @@ const rigSchema = z
   })
   .strict();
 
+/** A chamber for the unbiased kinds (rig-simulator/chamber.ts): it publishes chamber reports, not socket telemetry. */
+const chamberSchema = z
+  .object({
+    rigCode: z.string(),
+    username: z.string().optional(),
+    password: z.string().optional(),
+    brokerUrl: z.string().optional(),
+    minTempC: z.number().optional(),
+    maxTempC: z.number().optional(),
+    maxRampKPerMin: z.number().positive().optional(),
+    tauMin: z.number().positive().optional(),
+    humidityCapable: z.boolean().optional(),
+    pressureVessel: z.boolean().optional(),
+    minutesPerWallSecond: z.number().positive().optional(),
+    samplePeriodWallS: z.number().positive().optional(),
+    seqStart: z.number().int().min(0).optional(),
+  })
+  .strict();
+
 const fleetSchema = z.object({
   brokerUrl: z.string().optional(),
   defaults: rigSchema.omit({ rigCode: true }).partial().optional(),
   rigs: z.array(rigSchema).min(1),
+  chambers: z.array(chamberSchema).optional(),
 });
 
 function argValue(name: string): string | undefined {
@@ -92,7 +113,7 @@ function argValue(name: string): string | undefined {
   return k >= 0 ? process.argv[k + 1] : undefined;
 }
 
-function loadConfigs(): RigConfig[] {
+function loadConfigs(): { rigs: RigConfig[]; chambers: ChamberRigConfig[] } {
   const env = process.env;
   const brokerFromEnv = env.EMBERLOT_MQTT_URL ?? `mqtt://127.0.0.1:${env.EMBERLOT_MQTT_PORT ?? 18830}`;
   const clock = env.EMBERLOT_CLOCK_RATE ? Number(env.EMBERLOT_CLOCK_RATE) : undefined;
@@ -121,7 +142,19 @@ function loadConfigs(): RigConfig[] {
   // de-duplication never swallows fresh samples as old ones; the jump (and the stress clock
   // falling back to 0) marks the restart.
   const seqFromClock = Date.now();
-  return fleet.rigs.map((r) => {
+  const log = verbose ? (line: string) => console.log(line) : undefined;
+  const chambers = (fleet.chambers ?? []).map((c): ChamberRigConfig => {
+    if (!c.password) throw new Error(`chamber ${c.rigCode}: no password`);
+    return {
+      ...c,
+      username: c.username ?? `rig-${c.rigCode.toLowerCase()}`,
+      password: c.password,
+      brokerUrl: env.EMBERLOT_MQTT_URL ?? c.brokerUrl ?? fleet.brokerUrl ?? brokerFromEnv,
+      seqStart: c.seqStart ?? seqFromClock,
+      log,
+    };
+  });
+  const rigs = fleet.rigs.map((r) => {
     const merged = { ...fleet.defaults, ...r };
     const username = merged.username ?? `rig-${r.rigCode}`;
     if (!merged.password) throw new Error(`rig ${r.rigCode}: no password`);
@@ -135,17 +168,29 @@ function loadConfigs(): RigConfig[] {
       persistentSession: env.EMBERLOT_MQTT_PERSISTENT === '1',
       stressHoursPerWallSecond: clock ?? merged.stressHoursPerWallSecond,
       samplePeriodWallS: sample ?? merged.samplePeriodWallS,
-      log: verbose ? (line: string) => console.log(line) : undefined,
+      log,
     };
   });
+  return { rigs, chambers };
 }
 
 async function main(): Promise<void> {
-  const configs = loadConfigs();
+  const { rigs: configs, chambers: chamberConfigs } = loadConfigs();
   const fleet = createRigFleet(configs);
+  const chambers = chamberConfigs.map((c) => new SimulatedChamber(c));
+  // The chambers sign in once the rigs have (or after 20 s): the broker checks one new rig name at a
+  // time with bcrypt, and a burst of first sign-ins on a loaded machine once kept a rig out long
+  // enough for its run's first command to go unanswered (the run went into fault).
+  const chambersStart = Date.now();
+  const startChambers = setInterval(() => {
+    if (!fleet.rigs.every((r) => r.connected) && Date.now() - chambersStart < 20_000) return;
+    clearInterval(startChambers);
+    for (const c of chambers) c.start();
+  }, 250);
   console.log(
     `[rig-simulator] ${fleet.rigs.length} rig(s) (${configs.map((c) => c.rigCode).join(', ')}) → ${configs[0].brokerUrl}, ` +
-      `${configs[0].stressHoursPerWallSecond ?? 1} stress h per wall s`,
+      `${configs[0].stressHoursPerWallSecond ?? 1} stress h per wall s` +
+      (chambers.length ? `; ${chambers.length} chamber(s) (${chambers.map((c) => c.rigCode).join(', ')})` : ''),
   );
   const summary = setInterval(() => {
     const line = fleet.rigs
@@ -154,17 +199,21 @@ async function main(): Promise<void> {
           `${r.rigCode}${r.connected ? '' : '(offline)'} seq ${r.lastSeq()} unconfirmed ${r.outbox.size}${r.stats.outboxOverflow ? ` OVERFLOW ${r.stats.outboxOverflow}` : ''}`,
       )
       .join(' | ');
-    console.log(`[rig-simulator] ${line}`);
+    const chamberLine = chambers
+      .map((c) => `${c.rigCode} ${c.stats.reports} reports, air ${c.state().airC.toFixed(1)} °C, ${c.state().programCycles} cycles`)
+      .join(' | ');
+    console.log(`[rig-simulator] ${line}${chamberLine ? ` | ${chamberLine}` : ''}`);
   }, 30_000);
   let stopping = false;
   const stop = async (signal: string) => {
     if (stopping) return;
     stopping = true;
     clearInterval(summary);
+    clearInterval(startChambers);
     console.log(`[rig-simulator] ${signal}: stopping`);
     const force: { unref?: () => void } = setTimeout(() => process.exit(1), 5000) as never;
     force.unref?.();
-    await fleet.stop();
+    await Promise.all([fleet.stop(), ...chambers.map((c) => c.stop())]);
     process.exit(0);
   };
   process.on('SIGINT', () => void stop('SIGINT'));

@@ -42,6 +42,34 @@ function spread(seed: string, pct: number): number {
 }
 
 /**
+ * A chamber for the unbiased kinds (rig-simulator/chamber.ts). The cycling chamber runs a slower
+ * clock than the ovens — 4 chamber minutes per wall second, a report every 0.4 s (1.6 chamber min) —
+ * because the server counts a cycle only when two consecutive reports lie inside an extreme's band
+ * for the dwell (10 min): at the ovens' 1 h per second a whole dwell would fall between two reports.
+ * A JESD22-A104 condition B cycle (about 64 chamber minutes with the load's lag) then takes about
+ * 16 wall seconds, so the floor shows the count moving. The storage / autoclave vessel runs the
+ * ovens' clock (1 stress h per wall second, a report every 0.5 s).
+ */
+export const DEMO_CYCLING_CHAMBER_PACE = { minutesPerWallSecond: 4, samplePeriodWallS: 0.4 } as const;
+
+function chamberEntry(
+  rig: { code: string; humidity_capable: boolean; max_temp_c: number; min_temp_c: number | null; max_pressure_k_pa: number | null },
+  base: Record<string, unknown>,
+): Record<string, unknown> {
+  const cycling = rig.min_temp_c !== null;
+  return {
+    rigCode: rig.code,
+    username: base.username,
+    password: base.password,
+    minTempC: rig.min_temp_c ?? 20,
+    maxTempC: rig.max_temp_c,
+    humidityCapable: rig.humidity_capable,
+    pressureVessel: rig.max_pressure_k_pa !== null,
+    ...(cycling ? DEMO_CYCLING_CHAMBER_PACE : { minutesPerWallSecond: 60, samplePeriodWallS: DEMO_SAMPLE_S }),
+  };
+}
+
+/**
  * A power-cycling bench: the parts sit in free air (case-to-ambient = θja − θjc, a short case time
  * constant) so the on-time swings the junction by the planned ΔTj; the clock runs at 120 stress
  * seconds per wall second (a message per minute of stress, two per on-time) — 15,000 cycles of
@@ -56,9 +84,18 @@ function cyclingBench(sockets: SocketRow[]): Record<string, unknown> {
   };
 }
 
-export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ rigs: number; loaded: number }> {
-  const rigs: Array<{ id: string; code: string; socket_count: number; humidity_capable: boolean; max_temp_c: number }> = await ds.query(
-    `SELECT id, code, socket_count, humidity_capable, max_temp_c FROM rigs WHERE active ORDER BY code`,
+export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ rigs: number; chambers: number; loaded: number }> {
+  const rigs: Array<{
+    id: string;
+    code: string;
+    kind: string;
+    socket_count: number;
+    humidity_capable: boolean;
+    max_temp_c: number;
+    min_temp_c: number | null;
+    max_pressure_k_pa: number | null;
+  }> = await ds.query(
+    `SELECT id, code, kind, socket_count, humidity_capable, max_temp_c, min_temp_c, max_pressure_k_pa FROM rigs WHERE active ORDER BY code`,
   );
   const runs: Array<{
     id: string;
@@ -80,6 +117,7 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
   const fleet = {
     defaults: { samplePeriodWallS: DEMO_SAMPLE_S, firmware: 'hpd-sim 1.0', faults: { noise: { tempC: 0.2, currentPct: 0.5 } } },
     rigs: [] as Array<Record<string, unknown>>,
+    chambers: [] as Array<Record<string, unknown>>,
   };
   for (const rig of rigs) {
     const base = {
@@ -89,6 +127,11 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
       humidityCapable: rig.humidity_capable,
       maxTempC: rig.max_temp_c,
     };
+    if (rig.kind === 'chamber') {
+      // Nothing biased to simulate: the chamber takes its programme from the scheduler's setpoint command.
+      fleet.chambers.push(chamberEntry(rig, base));
+      continue;
+    }
     const run = runs.find((r) => r.rig_id === rig.id);
     const sockets: SocketRow[] = run
       ? await ds.query(
@@ -157,5 +200,5 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
   }
   fs.mkdirSync(path.dirname(file), { recursive: true });
   fs.writeFileSync(file, JSON.stringify(fleet, null, 2));
-  return { rigs: fleet.rigs.length, loaded };
+  return { rigs: fleet.rigs.length, chambers: fleet.chambers.length, loaded };
 }

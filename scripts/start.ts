@@ -50,7 +50,7 @@ async function main() {
   await seedIfEmpty(ds);
   const fleetFile = path.join(PROJECT_ROOT, '.data', 'demo-fleet.json');
   const fleet = await writeDemoFleet(ds, fleetFile);
-  console.log(`[start] rig simulator: ${fleet.rigs} rigs, ${fleet.loaded} loaded sockets`);
+  console.log(`[start] rig simulator: ${fleet.rigs} rigs, ${fleet.chambers} chambers, ${fleet.loaded} loaded sockets`);
   await ds.destroy();
   if (!dev) ensureWebExport();
 

@@ -17,6 +17,8 @@ export const ALARM_EVENT = 'alarm';
 export const RUN_EVENT = 'run-event';
 /** Once per stored (new, not duplicate) telemetry message (ingest). */
 export const TELEMETRY_LANDED = 'telemetry-landed';
+/** Once per stored (new, not duplicate) chamber report (server/modules/chamber/chamber-reports.ts). */
+export const CHAMBER_REPORTED = 'chamber-reported';
 /** A rig went online or offline (status message, last will, or the offline sweep). */
 export const RIG_STATUS_CHANGED = 'rig-status-changed';
 /**
@@ -130,6 +132,12 @@ export interface TelemetryLanded extends TelemetrySocketColumns {
   setpointC: number;
 }
 
+export interface ChamberReported {
+  rigId: string;
+  rigCode: string;
+  seq: number;
+}
+
 export interface RigStatusChanged {
   rigId: string;
   rigCode: string;
@@ -143,6 +151,7 @@ export interface EmberlotEvents {
   [RUN_EVENT]: [RunEvent];
   [TELEMETRY_LANDED]: [TelemetryLanded];
   [RIG_STATUS_CHANGED]: [RigStatusChanged];
+  [CHAMBER_REPORTED]: [ChamberReported];
   [SESSION_ENDED]: [SessionEnded];
 }
 

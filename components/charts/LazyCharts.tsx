@@ -6,6 +6,7 @@
 import { lazy, Suspense, type ComponentProps } from 'react';
 import { Loading } from '@/components/ui/Loading';
 import type { RigChart as RigChartImpl } from '@/components/floor/RigChart';
+import type { ChamberProfileChart as ChamberProfileChartImpl } from '@/components/floor/ChamberProfileChart';
 import type { DriftTrendChart as DriftTrendChartImpl } from '@/components/trends/DriftTrendChart';
 import type { LotDistributionChart as LotDistributionChartImpl } from '@/components/trends/LotDistributionChart';
 import type { UtilisationChart as UtilisationChartImpl } from '@/components/capacity/UtilisationChart';
@@ -13,6 +14,7 @@ import type { UtilisationChart as UtilisationChartImpl } from '@/components/capa
 // One chunk for all charts (see chart-kit.ts); React.lazy caches the promise per component.
 const kit = () => import('./chart-kit');
 const LazyRig = lazy(() => kit().then((m) => ({ default: m.RigChart })));
+const LazyChamber = lazy(() => kit().then((m) => ({ default: m.ChamberProfileChart })));
 const LazyDrift = lazy(() => kit().then((m) => ({ default: m.DriftTrendChart })));
 const LazyDistribution = lazy(() => kit().then((m) => ({ default: m.LotDistributionChart })));
 const LazyUtilisation = lazy(() => kit().then((m) => ({ default: m.UtilisationChart })));
@@ -47,6 +49,14 @@ export function UtilisationChart(props: ComponentProps<typeof UtilisationChartIm
   return (
     <Suspense fallback={fallback}>
       <LazyUtilisation {...props} />
+    </Suspense>
+  );
+}
+
+export function ChamberProfileChart(props: ComponentProps<typeof ChamberProfileChartImpl>) {
+  return (
+    <Suspense fallback={fallback}>
+      <LazyChamber {...props} />
     </Suspense>
   );
 }

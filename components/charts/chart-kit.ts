@@ -4,6 +4,7 @@
  * must share one chunk of their own for victory and d3 to stay out of sign-in and the floor.
  */
 export { RigChart } from '@/components/floor/RigChart';
+export { ChamberProfileChart } from '@/components/floor/ChamberProfileChart';
 export { DriftTrendChart } from '@/components/trends/DriftTrendChart';
 export { LotDistributionChart } from '@/components/trends/LotDistributionChart';
 export { UtilisationChart } from '@/components/capacity/UtilisationChart';

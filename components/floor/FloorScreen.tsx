@@ -63,7 +63,7 @@ export function FloorScreen() {
       </QueryState>
       <SafetyCaution
         compact
-        context="Ovens run hot and boards carry bias voltage; open a chamber only when your procedure says it is safe."
+        context="Ovens run hot and boards carry bias voltage; cycling chambers have hot and frozen surfaces and an autoclave is a pressure vessel under steam. A software alarm is no substitute for a chamber's own protection; open a chamber only when your procedure says it is safe."
       />
     </Screen>
   );

@@ -28,6 +28,7 @@ import { TripResetDialog, rigAnswerText } from './TripResetDialog';
 import { useCan } from '@/components/queries/auth';
 import { Banner } from '@/components/ui/Banner';
 import { RigRuns } from './RigRuns';
+import { ChamberBoard, ChamberCaution } from './ChamberBoard';
 import type { TripResetResult } from '@/shared/schemas/protection';
 
 const SPANS = [
@@ -189,10 +190,12 @@ export function RigScreen() {
     <Screen width="wide" testID="rig-screen">
       <Header
         eyebrow="Floor"
-        title={`Rig ${code}`}
+        title={tile?.chamber ? `Chamber ${code}` : `Rig ${code}`}
         subtitle={
           tile
-            ? `${tile.name}${tile.location ? ` · ${tile.location}` : ''} · ${tile.socketCount} sockets, up to ${tile.maxTempC} °C`
+            ? `${tile.name}${tile.location ? ` · ${tile.location}` : ''} · ${
+                tile.chamber ? `${tile.socketCount} devices` : `${tile.socketCount} sockets`
+              }, up to ${tile.maxTempC} °C`
             : undefined
         }
         actions={
@@ -202,9 +205,13 @@ export function RigScreen() {
           </View>
         }
       />
-      <SafetyCaution context={tile ? `Rig ${tile.code} runs up to ${tile.maxTempC} °C with bias voltage on the board.` : undefined} />
+      {tile?.chamber ? (
+        <ChamberCaution chamber={tile.chamber} code={tile.code} />
+      ) : (
+        <SafetyCaution context={tile ? `Rig ${tile.code} runs up to ${tile.maxTempC} °C with bias voltage on the board.` : undefined} />
+      )}
       <QueryState query={board} loadingLabel={`Loading rig ${code}…`} errorTitle={`Could not load rig ${code}`}>
-        {(b) => <Board board={b} code={code} />}
+        {(b) => (b.tile.chamber ? <ChamberBoard board={b} /> : <Board board={b} code={code} />)}
       </QueryState>
     </Screen>
   );

@@ -1,6 +1,8 @@
 import { Link } from 'expo-router';
 import { Pressable, View } from 'react-native';
-import type { FloorTile } from '@/shared/schemas/floor';
+import type { FloorChamber, FloorTile } from '@/shared/schemas/floor';
+import { grouped } from '@/shared/domain/format';
+import { chamberAirText, chamberLoadText, chamberStepText, chamberTileLabel } from './chamber-words';
 import { colors, radius, space, type Tone } from '@/components/theme/tokens';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
@@ -20,17 +22,47 @@ function Stat({ label, value, tone }: { label: string; value: string; tone?: Ton
   );
 }
 
+/** A chamber's tile body: load and air, the programme's step (cycle n of N), devices, excursion alarms. */
+function ChamberBody({ tile, chamber }: { tile: FloorTile; chamber: FloorChamber }) {
+  return (
+    <>
+      <View>
+        <Text variant="overline" tone="subtle">
+          Load
+        </Text>
+        <Text variant="title" testID={`chamber-load-${tile.code}`}>
+          {chamberLoadText(chamber)}
+        </Text>
+        <Text variant="caption" tone="muted">
+          {chamberAirText(chamber)}
+        </Text>
+      </View>
+      <Text variant="label" testID={`chamber-step-${tile.code}`}>
+        {chamberStepText(chamber, tile.run?.state ?? null)}
+      </Text>
+      <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
+        <Stat label="Devices" value={grouped(chamber.loaded)} />
+        <Stat label="Excursions" value={String(chamber.excursionAlarms)} tone={chamber.excursionAlarms ? 'danger' : undefined} />
+        <Stat label="Alarms" value={String(tile.openAlarms)} tone={tile.openAlarms ? 'attention' : undefined} />
+      </View>
+      <Text variant="caption" tone="muted">
+        {tile.run ? `Run ${tile.run.code} · ${fmtHours(tile.run.stressHours)} stressed` : 'No run in this chamber'}
+      </Text>
+    </>
+  );
+}
+
 export function RigTile({ tile }: { tile: FloorTile }) {
   const s = rigState(tile);
   const off = tile.chamberC !== null && tile.setpointC !== null ? tile.chamberC - tile.setpointC : null;
-  const chamber = `${fmtC(tile.chamberC)}${tile.setpointC !== null ? ` / set ${fmtC(tile.setpointC, 0)}` : ''}`;
+  const chamberText = `${fmtC(tile.chamberC)}${tile.setpointC !== null ? ` / set ${fmtC(tile.setpointC, 0)}` : ''}`;
   const next =
     tile.run?.hoursToNextReadPoint !== null && tile.run?.hoursToNextReadPoint !== undefined
       ? `${fmtHours(tile.run.hoursToNextReadPoint)} of stress to ${tile.run.nextReadPointH} h`
       : null;
   const label = [
     `Rig ${tile.code}, ${s.label}`,
-    `chamber ${chamber}`,
+    `chamber ${chamberText}`,
     `${tile.powered} powered, ${tile.tripped} tripped, ${tile.empty} empty sockets`,
     `${tile.openAlarms} open alarms`,
     tile.run ? `run ${tile.run.code}` : 'no run',
@@ -38,11 +70,12 @@ export function RigTile({ tile }: { tile: FloorTile }) {
   ]
     .filter(Boolean)
     .join('; ');
+  const chamber = tile.chamber;
   return (
     <Link href={{ pathname: '/floor/[code]', params: { code: tile.code } }} asChild>
       <Pressable
         accessibilityRole="link"
-        accessibilityLabel={label}
+        accessibilityLabel={chamber ? chamberTileLabel({ ...tile, chamber }, s.label) : label}
         testID={`rig-tile-${tile.code}`}
         style={({ pressed }) => ({
           flex: 1,
@@ -64,29 +97,34 @@ export function RigTile({ tile }: { tile: FloorTile }) {
           </View>
           <StatusPill tone={s.tone} label={s.label} size="sm" />
         </View>
-        <View>
-          <Text variant="overline" tone="subtle">
-            Chamber
-          </Text>
-          <Text variant="title">{fmtC(tile.chamberC)}</Text>
-          <Text variant="caption" tone={off !== null && Math.abs(off) > 3 ? 'attention' : 'muted'}>
-            {tile.setpointC !== null
-              ? `Setpoint ${fmtC(tile.setpointC, 0)}${off !== null ? ` (${off >= 0 ? '+' : '−'}${Math.abs(off).toFixed(1)} °C)` : ''}`
-              : 'No setpoint reported'}
-            {tile.humidityPct !== null ? ` · ${tile.humidityPct.toFixed(0)} % RH` : ''}
-          </Text>
-        </View>
-        <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
-          <Stat label="Powered" value={String(tile.powered)} />
-          <Stat label="Tripped" value={String(tile.tripped)} tone={tile.tripped ? 'danger' : undefined} />
-          <Stat label="Empty" value={String(tile.empty)} />
-          <Stat label="Alarms" value={String(tile.openAlarms)} tone={tile.openAlarms ? 'attention' : undefined} />
-        </View>
-        <Text variant="caption" tone="muted">
-          {tile.run
-            ? `Run ${tile.run.code} · ${fmtHours(tile.run.stressHours)} stressed${next ? ` · next read point: ${next}` : ''}`
-            : 'No run on this rig'}
-        </Text>
+        {chamber ? <ChamberBody tile={tile} chamber={chamber} /> : null}
+        {chamber ? null : (
+          <>
+            <View>
+              <Text variant="overline" tone="subtle">
+                Chamber
+              </Text>
+              <Text variant="title">{fmtC(tile.chamberC)}</Text>
+              <Text variant="caption" tone={off !== null && Math.abs(off) > 3 ? 'attention' : 'muted'}>
+                {tile.setpointC !== null
+                  ? `Setpoint ${fmtC(tile.setpointC, 0)}${off !== null ? ` (${off >= 0 ? '+' : '−'}${Math.abs(off).toFixed(1)} °C)` : ''}`
+                  : 'No setpoint reported'}
+                {tile.humidityPct !== null ? ` · ${tile.humidityPct.toFixed(0)} % RH` : ''}
+              </Text>
+            </View>
+            <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
+              <Stat label="Powered" value={String(tile.powered)} />
+              <Stat label="Tripped" value={String(tile.tripped)} tone={tile.tripped ? 'danger' : undefined} />
+              <Stat label="Empty" value={String(tile.empty)} />
+              <Stat label="Alarms" value={String(tile.openAlarms)} tone={tile.openAlarms ? 'attention' : undefined} />
+            </View>
+            <Text variant="caption" tone="muted">
+              {tile.run
+                ? `Run ${tile.run.code} · ${fmtHours(tile.run.stressHours)} stressed${next ? ` · next read point: ${next}` : ''}`
+                : 'No run on this rig'}
+            </Text>
+          </>
+        )}
       </Pressable>
     </Link>
   );

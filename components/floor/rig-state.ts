@@ -22,7 +22,8 @@ export function rigState(t: FloorTile): { tone: Tone; label: string } {
     return { tone: 'attention', label: t.run ? `${RUN_STATE_LABEL[t.run.state] ?? t.run.state} · trips` : 'Online · trips' };
   if (t.run?.state === 'fault') return { tone: 'danger', label: 'Rig fault' };
   // Under stress with no socket powered is not stress: say so rather than a green "Stressing".
-  if (t.run?.state === 'stressing' && t.powered === 0) return { tone: 'attention', label: 'Stressing · 0 powered' };
+  // (A chamber biases nothing: its devices are unbiased by design.)
+  if (t.run?.state === 'stressing' && t.powered === 0 && !t.chamber) return { tone: 'attention', label: 'Stressing · 0 powered' };
   if (t.run) return { tone: t.run.state === 'paused' ? 'attention' : 'ok', label: RUN_STATE_LABEL[t.run.state] ?? t.run.state };
   return { tone: 'idle', label: 'Online · idle' };
 }

@@ -122,7 +122,7 @@ function Progress({ run }: { run: RunDetail }) {
           ))}
       </View>
       <Text variant="caption" tone="muted">
-        Read points: {run.plan.readPointsH.map((h) => `${h} h`).join(' · ')}
+        Read points: {run.plan.readPointsH.map((h) => hours(h)).join(' · ')}
       </Text>
     </View>
   );

@@ -2,6 +2,7 @@
  * The demo scenario: the reliability lab of Harrowgate Power Devices, an invented maker of
  * discrete power transistors. Every name, part number, lot and person here is made up.
  */
+import type { RigKind } from '../../shared/domain/rig-kinds';
 import type { Role } from '../../shared/roles';
 import type { DeviceTypeInput } from '../../shared/schemas/devices';
 
@@ -244,6 +245,10 @@ export const DEMO_RIGS: Array<{
   maxVoltageV: number;
   humidityCapable: boolean;
   maxHumidityPct: number | null;
+  /** Chambers for the unbiased kinds (tc, htsl, ac): capacity in devices, a cold limit, a vessel rating. */
+  kind?: RigKind;
+  minTempC?: number | null;
+  maxPressureKPa?: number | null;
 }> = [
   {
     code: 'OV-01',
@@ -314,6 +319,34 @@ export const DEMO_RIGS: Array<{
     maxVoltageV: 60,
     humidityCapable: false,
     maxHumidityPct: null,
+  },
+  {
+    // Air-to-air temperature cycling (JESD22-A104): trays for 160 devices, −70…+200 °C.
+    code: 'TC-01',
+    name: 'Cycling chamber 1 · air to air',
+    location: 'Bay D',
+    socketCount: 160,
+    maxTempC: 200,
+    maxVoltageV: 0,
+    humidityCapable: false,
+    maxHumidityPct: null,
+    kind: 'chamber',
+    minTempC: -70,
+    maxPressureKPa: null,
+  },
+  {
+    // Autoclave / unbiased HAST vessel (JESD22-A102 / A118) that also bakes dry for storage life.
+    code: 'AC-01',
+    name: 'Autoclave 1 · steam vessel',
+    location: 'Bay D',
+    socketCount: 120,
+    maxTempC: 180,
+    maxVoltageV: 0,
+    humidityCapable: true,
+    maxHumidityPct: 100,
+    kind: 'chamber',
+    minTempC: null,
+    maxPressureKPa: 300,
   },
 ];
 

@@ -94,6 +94,11 @@ export interface HistoryRunSpec {
    * credits such hours at the chamber temperature).
    */
   junctionC?: number;
+  /**
+   * A temperature-cycling run (tc): the cycles every device was counted (the run's too) and the
+   * smallest load swing of them (K), as the chamber engine stores them (chamber.data.ts).
+   */
+  chamberCycles?: { cycles: number; swingK: number };
 }
 
 /** Case rise of a heat-sunk board above the chamber under powered bias, K (the demo's boards). */
@@ -180,6 +185,7 @@ export async function insertHistoryRun(m: EntityManager, s: HistoryRunSpec): Pro
       finishedAt,
       stateChangedAt: finishedAt ?? (biasRemovedAt ? new Date(biasRemovedAt.getTime() + DAY) : s.startedAt),
       stressHours: s.stressHours,
+      cyclesDone: s.chamberCycles?.cycles ?? 0,
       nextReadPoint: s.state === 'finished' ? plannedH.length : plannedH.filter((h) => h <= s.stressHours).length,
       heatingSince: new Date(s.startedAt.getTime() - 2 * H),
       ambientReachedAt: s.startedAt,
@@ -233,7 +239,16 @@ async function insertHistorySockets(m: EntityManager, s: HistoryRunSpec, run: Ru
             trippedAt: new Date(s.startedAt.getTime() + trip.atH * H),
             tripReason: 'Runaway: junction rising on its own (protection trip)',
           }
-        : { runId: run.id, deviceId: x.device.id, socketIndex: x.socketIndex, accruedHours: s.stressHours, stressSegments };
+        : {
+            runId: run.id,
+            deviceId: x.device.id,
+            socketIndex: x.socketIndex,
+            accruedHours: s.stressHours,
+            stressSegments,
+            ...(s.chamberCycles
+              ? { cyclesDone: s.chamberCycles.cycles, lastDTjLowC: s.chamberCycles.swingK, lastDTjHighC: s.chamberCycles.swingK }
+              : {}),
+          };
     }),
   );
   for (const r of s.removed ?? []) {

@@ -36,6 +36,10 @@ export function demoPlans(types: Map<string, DeviceTypeEntity>): PlanInput[][] {
     [fromTemplate(t('HPD-3P90'), 'hotl')],
     [fromTemplate(t('HPD-7N400'), 'thb')],
     [fromTemplate(t('HPD-S230'), 'iol')],
+    // The chamber kinds of QUAL-001 (AEC-Q101 TC and AC) and a storage bake, for the demo's chambers TC-01 and AC-01.
+    [fromTemplate(n140, 'tc')],
+    [fromTemplate(n140, 'ac')],
+    [fromTemplate(n140, 'htsl')],
     [
       planInputSchema.parse({
         name: 'DRAFT powered life, forced IB 0.6 mA, 85 °C chamber',

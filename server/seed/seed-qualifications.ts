@@ -3,19 +3,22 @@
  * runs and lots:
  * - QUAL-001, in progress: HPD-2N140 to AEC-Q101 on HG2611-A / -B / HG2612-C. HTRB passed on A
  *   (split over OV-01 and OV-02), awaiting its verdict on B (four 1000 h readings missing), under
- *   stress on C. ESD recorded from the ESD bench. TC and AC stay "not started": their chamber kinds
- *   (tc, ac) are not in this build's plans yet. H3TRB, IOL, DPA, dimensions and solderability are
+ *   stress on C. ESD recorded from the ESD bench. TC under stress on C: the live-runs seed's chamber
+ *   run TC-2612-C on TC-01 (seed-runs.ts). AC not started but startable: the part's autoclave plan
+ *   (seed-plans.ts) and the idle vessel AC-01. H3TRB, IOL, DPA, dimensions and solderability are
  *   not started.
  * - QUAL-002, complete: HPD-3P95 (a part of its own, so the other demo lots' peer checks do not
  *   move) to the MIL-PRF-19500 group tests on its lot HG2606-K. Group C life and group E HTRB are
  *   45-device runs added here, both passed (the life run on a free-air board, its junction at the
- *   plan's Tj); temperature cycling, solderability and DPA are recorded
- *   outside results (TC at the sister site's chamber, since the chamber kinds are not in this build
- *   yet); IOL is waived with its reason. The lot verdict is signed by the manager.
+ *   plan's Tj); group E temperature cycling is a 45-device run of 500 cycles in the lab's chamber
+ *   TC-01, passed; solderability and DPA are recorded outside results; IOL is waived with its
+ *   reason. The lot verdict is signed by the manager after every run is in.
  */
 import { randomUUID } from 'node:crypto';
 import type { DataSource, EntityManager } from 'typeorm';
 import { planMatrix, QUAL_TEMPLATES, type QualTemplateKey } from '../../shared/qualification/templates';
+import { tcCyclesToH } from '../../shared/chamber/profile';
+import type { PlanInput } from '../../shared/schemas/plans';
 import {
   DeviceEntity,
   DeviceTypeEntity,
@@ -35,7 +38,6 @@ import { SignoffService } from '../modules/signoff/signoff.service';
 import { DEMO_DEVICE_TYPES, DEMO_USERS } from './demo-data';
 import { historyJunctionC, insertHistoryRun } from './seed-history';
 import { fromTemplate } from './seed-plans';
-import type { PlanInput } from '../../shared/schemas/plans';
 
 const DAY = 86_400_000;
 type Actor = { id: string; email: string };
@@ -103,11 +105,12 @@ async function outside(
 async function groupPlan(
   m: EntityManager,
   type: DeviceTypeEntity,
-  kind: 'htrb' | 'hotl',
+  kind: 'htrb' | 'hotl' | 'tc',
   name: (template: PlanInput) => string,
   engineerId: string,
+  patch: Partial<PlanInput> = {},
 ): Promise<StressPlanEntity> {
-  const template = fromTemplate(type, kind);
+  const template = fromTemplate(type, kind, patch);
   const input = { ...template, sampleSize: 45, name: name(template) };
   return m.save(
     m.create(StressPlanEntity, {
@@ -134,7 +137,7 @@ async function seedCompletePart(m: EntityManager, engineerId: string): Promise<{
   );
   const lot = await m.save(m.create(LotEntity, { code: 'HG2606-K', deviceTypeId: type.id, quantity: 600, dateCode: '2606', notes: '' }));
   const devices = await m.save(
-    Array.from({ length: 90 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `K${String(i + 1).padStart(4, '0')}` })),
+    Array.from({ length: 135 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `K${String(i + 1).padStart(4, '0')}` })),
   );
   const drift = { hfeDriftPctPer1000h: -1.4, leakageGrowthPer1000h: 1.05 };
   // Group C life runs on a free-air board (no heat sink): the sockets' telemetry puts the junction
@@ -173,6 +176,29 @@ async function seedCompletePart(m: EntityManager, engineerId: string): Promise<{
       junctionC: historyJunctionC(plan, type, 'free-air'),
     });
   }
+  // Group E temperature cycling in the lab's own chamber TC-01: 500 cycles of JESD22-A104 condition B
+  // (−55/+125 °C, inside the part's storage range), read at 0 / 250 / 500 cycles, 45 more devices.
+  const profile = { lowC: -55, highC: 125, dwellMin: 10, rampKPerMin: 10, cycles: 500 };
+  const tcPlan = await groupPlan(m, type, 'tc', () => 'TC −55/+125 °C, 500 cycles (group E)', engineerId, {
+    chamberC: profile.highC,
+    thermalCycle: profile,
+    durationH: tcCyclesToH(profile, profile.cycles),
+    readPointsH: [0, 250, 500].map((c) => tcCyclesToH(profile, c)),
+  });
+  await insertHistoryRun(m, {
+    code: 'TC-2606-K',
+    plan: tcPlan,
+    deviceType: type,
+    rig: await m.findOneByOrFail(RigEntity, { code: 'TC-01' }),
+    lots: [{ lot, devices: devices.slice(90, 135), drift }],
+    state: 'finished',
+    startedAt: new Date(Date.now() - 60 * DAY),
+    stressHours: tcPlan.durationH,
+    measuredH: [...tcPlan.readPointsH].sort((a, b) => a - b),
+    createdById: engineerId,
+    // The smallest load swing the chamber engine would have counted (K): at least the profile's 180 K (invented demo value).
+    chamberCycles: { cycles: profile.cycles, swingK: 186 },
+  });
   return { type, lot };
 }
 
@@ -217,12 +243,6 @@ export async function seedQualifications(ds: DataSource): Promise<void> {
       createdAt: new Date(now - 110 * DAY),
     });
     const cell = (g: string) => q2.get(`${g}|${d.id}`)!;
-    await outside(m, audit, engineer, cell('e-tc'), {
-      result: 'pass',
-      by: 'Harrowgate sister site, chamber TC-2 (500 cycles, −55/+175 °C)',
-      at: new Date(now - 30 * DAY),
-      document: 'HPD-TC-2606-K-500',
-    });
     await outside(m, audit, engineer, cell('b-sd'), {
       result: 'pass',
       by: 'Harrowgate assembly lab',

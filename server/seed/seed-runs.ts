@@ -8,7 +8,8 @@
 import type { DataSource, EntityManager } from 'typeorm';
 import { In } from 'typeorm';
 import { ON_RIG_STATES } from '../../shared/domain/run-states';
-import { planBiasV, rigRefusals, runDurationMs } from '../../shared/scheduling';
+import { chamberNeedsOf, planBiasV, rigRefusals, runDurationMs } from '../../shared/scheduling';
+import { tcCyclesToH } from '../../shared/chamber/profile';
 import type { PlanKind } from '../../shared/schemas/plans';
 import type { RunState } from '../../shared/schemas/runs';
 import { configFromEnv } from '../config';
@@ -116,6 +117,23 @@ const DEMO_LIVE_RUNS: DemoLiveRun[] = [
     deviation: 'Reel-stock cycling monitor: one 16-socket bench by the monitor procedure.',
   },
   {
+    // QUAL-001's temperature cycling on the spares of HG2612-C (issue #22): the simulated chamber
+    // TC-01 runs the plan's programme and the server counts cycles from its load temperature.
+    code: 'TC-2612-C',
+    partNumber: 'HPD-2N140',
+    kind: 'tc',
+    lots: ['HG2612-C'],
+    rig: 'TC-01',
+    state: 'stressing',
+    perLot: 45,
+    skip: 77,
+    cycles: 20,
+    deviation:
+      'Temperature cycling started on the 45 spares of HG2612-C left after its HTRB; the other 32 devices follow from the next pull of the lot.',
+    dueInH: 3000,
+    priority: 2,
+  },
+  {
     code: 'HTRB-2611-A+1',
     partNumber: 'HPD-2N140',
     kind: 'htrb',
@@ -152,6 +170,7 @@ async function liveRunTarget(m: EntityManager, s: DemoLiveRun, log: (l: string) 
     sampleSize,
     durationH: plan.durationH,
     readPointsH: plan.readPointsH,
+    chamber: chamberNeedsOf(plan),
   });
   if (refusals.length) return log(`[seed] runs: ${s.code} skipped: ${refusals.join(' ')}`);
   const busy = await m.count(RunEntity, { where: { rigId: rig.id, state: In([...ON_RIG_STATES]) } });
@@ -171,7 +190,8 @@ async function insertLiveRun(
   const { rig, lots, plan, sampleSize } = target;
   const timing = timingFrom(configFromEnv());
   const now = Date.now();
-  const hours = s.stressHours ?? 0;
+  // A temperature-cycling run's hours are its cycles × the profile's period (the plan's hour measure).
+  const hours = s.stressHours ?? (plan.thermalCycle && s.cycles ? tcCyclesToH(plan.thermalCycle, s.cycles) : 0);
   let startMs =
     s.state === 'booked' ? now + (s.startsInH ?? 6) * timing.msPerClockH : now - (hours + timing.heatingAllowanceH) * timing.msPerClockH;
   if (s.state === 'booked' && s.afterRunsOnRig) {

@@ -119,3 +119,30 @@ export const CHAMBER_CAUTION: Readonly<Record<'tc' | 'htsl' | 'ac', string>> = {
     'and use only a vessel inspected under the local pressure-equipment rules. A software alarm is no substitute for the ' +
     'vessel’s own safety valve and over-temperature protection; follow the lab’s safety rules and local codes.',
 };
+
+/** Where a chamber's programme stands (the floor's words); the type lives with the floor schema. */
+export type ChamberStepName = 'to-hot' | 'hot' | 'to-cold' | 'cold' | 'to-soak' | 'soak' | 'to-room' | 'idle';
+export const CHAMBER_STEP_LABEL: Readonly<Record<ChamberStepName, string>> = {
+  'to-hot': 'Ramp to the hot extreme',
+  hot: 'Dwell at the hot extreme',
+  'to-cold': 'Ramp to the cold extreme',
+  cold: 'Dwell at the cold extreme',
+  'to-soak': 'Coming up to the stress temperature',
+  soak: 'Soak at the stress temperature',
+  'to-room': 'Back to room temperature',
+  idle: 'Idle',
+};
+const TC_PHASES = ['to-hot', 'hot', 'to-cold', 'cold'] as const;
+
+/**
+ * The step of a chamber's programme from its run: a cycling run's counter phase (the server counts
+ * from the load, shared/chamber/profile.ts), a storage / autoclave run heating or soaking, a hold or
+ * the end bringing the chamber back to room; idle without a run under way.
+ */
+export function chamberStepOf(run: { state: string; planKind: string | null; tcPhase: string | null } | null): ChamberStepName {
+  if (!run) return 'idle';
+  if (['read-hold', 'cooling', 'paused', 'fault'].includes(run.state)) return 'to-room';
+  if (run.state !== 'heating' && run.state !== 'stressing') return 'idle';
+  if (run.planKind === 'tc') return TC_PHASES.find((p) => p === run.tcPhase) ?? 'to-hot';
+  return run.state === 'heating' ? 'to-soak' : 'soak';
+}

@@ -1,5 +1,6 @@
 /** Live floor API (/api/floor): rig tiles, a rig's socket board, its temperature chart. */
 import type { HoldPhase } from '../holds/sequence';
+import type { ChamberStepName } from '../domain/chamber-methods';
 import { z } from 'zod';
 import type { RunState } from '../domain/run-states';
 import { CHART_MAX_SPAN_MS, type TelemetryTier } from '../domain/telemetry-tiers';
@@ -33,6 +34,8 @@ export interface FloorTile {
   maxCaseC: number | null;
   /** Unacknowledged alarms on this rig. */
   openAlarms: number;
+  /** A chamber for the unbiased kinds (rig kind 'chamber'); null for a burn-in oven. */
+  chamber: FloorChamber | null;
   run: {
     id: string;
     code: string;
@@ -44,6 +47,37 @@ export interface FloorTile {
     /** Wall-clock estimate at the lab's stress-clock rate. */
     nextReadPointEta: string | null;
   } | null;
+}
+
+/** Where a chamber's programme stands (shared/domain/chamber-methods.ts `chamberStepOf`). */
+export type ChamberStep = ChamberStepName;
+
+/**
+ * A chamber on the floor (tc / htsl / ac): its newest report (air, load — a probe among the
+ * devices, what the methods judge — humidity, vessel pressure), the programme's step, the cycle
+ * count of a cycling run, the devices loaded and the open excursion alarms.
+ */
+export interface FloorChamber {
+  /** 'cycling' (it can cool: tc), 'vessel' (a pressure vessel: autoclave / HAST, also dry storage), else 'oven' (storage). */
+  type: 'cycling' | 'vessel' | 'oven';
+  minTempC: number | null;
+  maxPressureKPa: number | null;
+  reportAt: string | null;
+  airC: number | null;
+  loadC: number | null;
+  setpointC: number | null;
+  humidityPct: number | null;
+  pressureKPa: number | null;
+  doorOpen: boolean | null;
+  /** The running plan's kind (tc / htsl / ac), null without a run. */
+  planKind: string | null;
+  step: ChamberStep;
+  /** tc: cycles counted and the plan's target; null otherwise. */
+  cycles: { done: number; target: number } | null;
+  /** Devices loaded by the current run. */
+  loaded: number;
+  /** Open (unacknowledged) 'chamber out of band' alarms. */
+  excursionAlarms: number;
 }
 
 export interface FloorSocket {
@@ -71,6 +105,8 @@ export interface FloorBoard {
   seq: number | null;
   sampleAt: string | null;
   sockets: FloorSocket[];
+  /** A chamber (no sockets): its recent reports, oldest first — air and load (°C) by report time. */
+  chamberProfile?: Array<{ t: string; airC: number; loadC: number }>;
 }
 
 export const CHART_MAX_POINTS = 1000;

@@ -320,17 +320,17 @@ describe('plans', () => {
 });
 
 describe('demo seed', () => {
-  it('seeds five plans (one with two versions) and one unsafe draft the check refuses', async () => {
+  it('seeds eight plans (one with two versions, three for the chambers) and one unsafe draft the check refuses', async () => {
     const db = await createTestDb();
     try {
       await db.ds.getRepository(UserEntity).insert({ email: 'e@x.example', name: 'Eng', role: 'engineer', passwordHash: 'x' });
       for (const d of DEMO_DEVICE_TYPES) await db.ds.getRepository(DeviceTypeEntity).save(db.ds.getRepository(DeviceTypeEntity).create(d));
       await seedPlans(db.ds);
       const rows = await db.ds.getRepository(StressPlanEntity).find();
-      expect(rows).toHaveLength(6);
+      expect(rows).toHaveLength(9);
       const current = rows.filter((r) => r.current);
-      expect(current).toHaveLength(5);
-      expect(new Set(current.map((r) => r.kind))).toEqual(new Set(['htrb', 'hotl', 'iol', 'thb']));
+      expect(current).toHaveLength(8);
+      expect(new Set(current.map((r) => r.kind))).toEqual(new Set(['htrb', 'hotl', 'iol', 'thb', 'tc', 'ac', 'htsl']));
       const blocked = current.filter((r) => r.checkResult?.blocking);
       expect(blocked.map((r) => r.name)).toEqual(['DRAFT powered life, forced IB 0.6 mA, 85 °C chamber']);
       expect(blocked[0].checkResult?.findings.find((f) => f.code === 'thermal-runaway')?.severity).toBe('block');

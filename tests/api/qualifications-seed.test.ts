@@ -30,7 +30,7 @@ const detail = async (code: string): Promise<QualificationDetail> => {
   return (await eng.get(`/api/qualifications/${items.find((i) => i.code === code)!.id}`)).body;
 };
 
-it('QUAL-001 is in progress: HTRB judged passed on A and incomplete on B (both with a booked run to come), under stress on C; TC and AC not started', async () => {
+it('QUAL-001 is in progress: HTRB judged passed on A and incomplete on B (both with a booked run to come), under stress on C; TC under stress on C in chamber TC-01; AC not started', async () => {
   const d = await detail('QUAL-001');
   expect(d.status).toBe('in-progress');
   const htrb = d.cells.filter((c) => c.groupKey === 'htrb');
@@ -42,7 +42,15 @@ it('QUAL-001 is in progress: HTRB judged passed on A and incomplete on B (both w
   ]);
   expect(htrb[0].runs.map((r) => r.code)).toEqual(expect.arrayContaining(['HTRB-2611-A', 'HTRB-2611-A-2', 'HTRB-2611-A+1']));
   expect(htrb[0].projectedFinish).not.toBeNull();
-  expect(d.cells.filter((c) => c.groupKey === 'tc' || c.groupKey === 'ac').every((c) => c.state === 'not-started')).toBe(true);
+  // TC on HG2612-C: the seeded chamber run (45 spares, 20 of 1000 cycles), the cell linked to it.
+  const tc = d.cells.filter((c) => c.groupKey === 'tc');
+  expect(tc.map((c) => `${c.lotCode}:${c.state}`)).toEqual(['HG2611-A:not-started', 'HG2611-B:not-started', 'HG2612-C:under-stress']);
+  expect(tc[2].runs.map((r) => `${r.code}:${r.state}:${r.rigCode}`)).toEqual(['TC-2612-C:stressing:TC-01']);
+  // AC not started, but startable: the part has a current autoclave plan and the demo vessel AC-01 can take it.
+  const ac = d.cells.filter((c) => c.groupKey === 'ac');
+  expect(ac.every((c) => c.state === 'not-started')).toBe(true);
+  expect(ac[0].projectedFinish).not.toBeNull();
+  expect(ac[0].projectionNote).toMatch(/AC-01/);
   expect(d.cells.find((c) => c.groupKey === 'esd-hbm')!.state).toBe('passed');
 });
 
@@ -58,6 +66,18 @@ it('QUAL-002 is complete: runs passed, outside results recorded, IOL waived, the
     'e-dpa': 'passed',
   });
   expect(d.cells.find((c) => c.groupKey === 'c-life')!.runs.map((r) => r.code)).toEqual(['HOTL-2606-K']);
+  // Group E temperature cycling: a seeded 500-cycle run in the lab's chamber TC-01, not an outside result.
+  const tc = d.cells.find((c) => c.groupKey === 'e-tc')!;
+  expect(tc.runs.map((r) => `${r.code}:${r.rigCode}:${r.state}`)).toEqual(['TC-2606-K:TC-01:finished']);
+  expect(tc.external).toBeNull();
+  expect(tc.verdict).toBe('passed');
+  // The lot verdict's signature still verifies: the data signed is the data now (not stale).
+  const lotId = d.cells[0].lotId;
+  const signoff = (await (await t.signIn('manager')).get(`/api/signoff/lots/${lotId}`)).body;
+  expect(signoff.verdict).toBe('passed');
+  expect(signoff.signatures.map((x: { stale: boolean; dataHash: string }) => [x.stale, x.dataHash === signoff.currentHash])).toEqual([
+    [false, true],
+  ]);
   const mgr = await t.signIn('manager');
   const csv = await mgr.get(`/api/qualifications/${d.id}/report.csv`);
   expect(csv.status).toBe(200);

@@ -66,6 +66,14 @@ it('the scheduler commands the live demo runs right away (the floor moves)', asy
   expect(byRig('OV-03')).toEqual(['setpoint']);
   expect(byRig('OV-06')).toEqual([]);
   expect(sent.find((x) => x.rig === 'HC-05' && x.cmd.type === 'setpoint')!.cmd).toMatchObject({ setpointC: 85, humidityPct: 85 });
+  // The demo's chamber run TC-2612-C: TC-01 gets the plan's cycling programme (condition B), never bias; AC-01 idles.
+  expect(byRig('TC-01')).toEqual(['setpoint']);
+  expect(sent.find((x) => x.rig === 'TC-01')!.cmd).toMatchObject({
+    type: 'setpoint',
+    humidityPct: null,
+    profile: { lowC: -55, highC: 125, dwellMin: 10, rampKPerMin: 10 },
+  });
+  expect(byRig('AC-01')).toEqual([]);
   await s.stop();
 });
 

@@ -6,6 +6,7 @@
  * scheduler asked for a pass so the run moves on at once.
  */
 import type { AppContext } from '../../context';
+import { CHAMBER_REPORTED } from '../../events';
 import type { ChamberReport } from '../../../shared/mqtt/chamber';
 import { describeErrorForLog } from '../../db/safe-logger';
 import { StressPlanEntity } from '../../db/entities';
@@ -15,7 +16,10 @@ import { storeChamberReport, stressingRunOfChamber } from '../runs/chamber.data'
 export async function recordChamberReport(ctx: AppContext, rigCode: string, report: ChamberReport, receivedAt: Date): Promise<void> {
   const stored = await ctx.ds.transaction((m) => storeChamberReport(m, rigCode, report, receivedAt));
   if (!stored) return; // not a registered chamber: the broker let it in by its credentials, but nothing is kept
-  if (stored.stored) await raiseExcursion(ctx, stored.rigId, rigCode, report);
+  if (stored.stored) {
+    ctx.events.emit(CHAMBER_REPORTED, { rigId: stored.rigId, rigCode, seq: report.seq });
+    await raiseExcursion(ctx, stored.rigId, rigCode, report);
+  }
   ctx.services.scheduler?.kick();
 }
 

@@ -41,6 +41,20 @@ export interface TileRow {
   tripped: number;
   max_case_c: number | null;
   open_alarms: number;
+  kind: string;
+  min_temp_c: number | null;
+  max_pressure_k_pa: number | null;
+  cycles_done: number | null;
+  tc_phase: string | null;
+  tc_target: number | null;
+  cs_ts: Date | null;
+  cs_air_c: number | null;
+  cs_load_c: number | null;
+  cs_setpoint_c: number | null;
+  cs_humidity_pct: number | null;
+  cs_pressure_k_pa: number | null;
+  cs_door_open: boolean | null;
+  excursion_alarms: number;
 }
 
 /**
@@ -55,7 +69,8 @@ export interface TileRow {
  */
 const TILE_SQL = `
 WITH active AS (
-  SELECT DISTINCT ON (x.rig_id) x.rig_id, x.id, x.code, x.state, x.stress_hours, x.next_read_point, x.plan_id
+  SELECT DISTINCT ON (x.rig_id) x.rig_id, x.id, x.code, x.state, x.stress_hours, x.next_read_point, x.plan_id,
+         x.cycles_done, x.chamber_counter->>'phase' AS tc_phase
   FROM runs x
   WHERE x.state = ANY($2::varchar[]) AND x.rig_id IS NOT NULL AND ($1::uuid[] IS NULL OR x.rig_id = ANY($1::uuid[]))
   ORDER BY x.rig_id, x.state_changed_at DESC
@@ -72,7 +87,12 @@ SELECT r.id, r.code, r.name, r.location, r.active, r.online, r.last_seen_at, r.c
        COALESCE(rm.loaded, 0)::int AS loaded, COALESCE(ts.powered, 0)::int AS powered,
        (COALESCE(ts.tripped, 0) + COALESCE(cardinality(rm.latched), 0) - COALESCE(ts.tripped_latched, 0))::int AS tripped,
        ts.max_case_c,
-       (SELECT count(*) FROM alarms a WHERE a.rig_id = r.id AND a.acknowledged_at IS NULL)::int AS open_alarms
+       (SELECT count(*) FROM alarms a WHERE a.rig_id = r.id AND a.acknowledged_at IS NULL)::int AS open_alarms,
+       r.kind, r.min_temp_c, r.max_pressure_k_pa, run.cycles_done, run.tc_phase, (p.thermal_cycle->>'cycles')::int AS tc_target,
+       cs.ts AS cs_ts, cs.air_c AS cs_air_c, cs.load_c AS cs_load_c, cs.setpoint_c AS cs_setpoint_c,
+       cs.humidity_pct AS cs_humidity_pct, cs.pressure_k_pa AS cs_pressure_k_pa, cs.door_open AS cs_door_open,
+       (CASE WHEN r.kind = 'chamber' THEN (SELECT count(*) FROM alarms a WHERE a.rig_id = r.id AND a.acknowledged_at IS NULL
+                                            AND a.kind = 'ambient-out-of-band') ELSE 0 END)::int AS excursion_alarms
 FROM rigs r
 LEFT JOIN telemetry_batches b ON b.rig_id = r.id AND b.seq = r.last_seq
 LEFT JOIN active run ON run.rig_id = r.id
@@ -84,8 +104,13 @@ LEFT JOIN LATERAL (
          count(*) FILTER (WHERE s.tripped AND s.socket = ANY(rm.latched)) AS tripped_latched
   FROM telemetry_samples s WHERE s.rig_id = r.id AND s.seq = r.last_seq
 ) ts ON true
+LEFT JOIN LATERAL (
+  -- A chamber's newest report (chamber_samples' key is (rig_id, seq)): boards never look.
+  SELECT c.ts, c.air_c, c.load_c, c.setpoint_c, c.humidity_pct, c.pressure_k_pa, c.door_open
+  FROM chamber_samples c WHERE r.kind = 'chamber' AND c.rig_id = r.id ORDER BY c.seq DESC LIMIT 1
+) cs ON true
 WHERE ($1::uuid[] IS NULL OR r.id = ANY($1::uuid[]))
-ORDER BY r.active DESC, r.code`;
+ORDER BY r.active DESC, (r.kind = 'chamber'), r.code`;
 
 /** Every rig's tile row, or only these rig ids; `states` are the on-rig run states. */
 export function readTileRows(ds: DataSource, rigIds: string[] | null, states: readonly string[]): Promise<TileRow[]> {

@@ -13,8 +13,10 @@
  * A raw-span chart older than the raw window reads the messages kept for good around trips, alarms
  * and read points (telemetry_kept, `readsKeptRaw`) when the span holds any; `keptRaw` says so.
  */
+import { chamberStepOf } from '../../../shared/domain/chamber-methods';
 import {
   type ChartPoint,
+  type FloorChamber,
   type FloorBoard,
   type FloorChart,
   type FloorChartQuery,
@@ -29,6 +31,7 @@ import type { AppContext } from '../../context';
 import { notFound } from '../../http/errors';
 import { ALARM_EVENT, RUN_EVENT } from '../../events';
 import { runCycleTarget, socketCyclesOfRun } from '../runs/cycles.data';
+import { recentChamberSamples } from '../runs/chamber.data';
 import { HOLD_PHASES, type HoldPhase } from '../../../shared/holds/sequence';
 import {
   boardRows,
@@ -46,6 +49,8 @@ import {
 import { hottestByMean } from '../../../shared/domain/hottest-sockets';
 import { junctionOf } from '../runs/stress-segments';
 
+/** Reports on a chamber's page (at the demo's 0.4 s a report, about 1.5 wall minutes). */
+export const CHAMBER_BOARD_POINTS = 240;
 const round = (n: number, d = 2) => Math.round(n * 10 ** d) / 10 ** d;
 
 function nextReadPoint(readPoints: number[] | null, index: number | null, stressHours: number): number | null {
@@ -113,6 +118,7 @@ export class FloorService {
       empty: Math.max(0, r.socket_count - loaded),
       maxCaseC: r.max_case_c,
       openAlarms: r.open_alarms,
+      chamber: r.kind === 'chamber' ? chamberOfTile(r, loaded) : null,
       run,
     };
   }
@@ -143,6 +149,17 @@ export class FloorService {
   async board(code: string): Promise<FloorBoard> {
     const rigId = await this.rigIdOf(code);
     const [tile] = await this.tiles([rigId]);
+    if (tile.chamber) {
+      // A chamber has load positions, not biased sockets: its board is the air and load it reported.
+      const rows = await recentChamberSamples(this.ctx.ds.manager, rigId, CHAMBER_BOARD_POINTS);
+      return {
+        tile,
+        seq: rows.length ? rows[rows.length - 1].seq : null,
+        sampleAt: tile.chamber.reportAt,
+        sockets: [],
+        chamberProfile: rows.map((x) => ({ t: x.ts.toISOString(), airC: round(x.airC), loadC: round(x.loadC) })),
+      };
+    }
     const rows = await boardRows(this.ctx.ds, rigId, tile.run?.id ?? null);
     const sockets: FloorSocket[] = rows.map((r) => ({
       index: r.socket,
@@ -212,6 +229,29 @@ export class FloorService {
       }),
     };
   }
+}
+
+/** A chamber's part of its tile: the newest report, the programme's step, the cycle count. */
+function chamberOfTile(r: TileRow, loaded: number): FloorChamber {
+  const num = (x: number | null) => (x === null ? null : Number(x));
+  const run = r.run_id && r.run_state ? { state: r.run_state, planKind: r.plan_kind, tcPhase: r.tc_phase } : null;
+  return {
+    type: r.min_temp_c !== null ? 'cycling' : r.max_pressure_k_pa !== null ? 'vessel' : 'oven',
+    minTempC: num(r.min_temp_c),
+    maxPressureKPa: num(r.max_pressure_k_pa),
+    reportAt: r.cs_ts ? new Date(r.cs_ts).toISOString() : null,
+    airC: num(r.cs_air_c),
+    loadC: num(r.cs_load_c),
+    setpointC: num(r.cs_setpoint_c),
+    humidityPct: num(r.cs_humidity_pct),
+    pressureKPa: num(r.cs_pressure_k_pa),
+    doorOpen: r.cs_door_open,
+    planKind: run ? r.plan_kind : null,
+    step: chamberStepOf(run),
+    cycles: run && r.plan_kind === 'tc' && r.tc_target !== null ? { done: Number(r.cycles_done ?? 0), target: Number(r.tc_target) } : null,
+    loaded,
+    excursionAlarms: r.excursion_alarms,
+  };
 }
 
 /** A cycling run's per-socket cycles and last swing on the board's sockets (its devices only). */

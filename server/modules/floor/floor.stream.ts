@@ -1,6 +1,6 @@
 /**
  * Live floor updates over server-sent events (GET /api/floor/stream). ONE mechanism for the whole
- * app: rigs touched by TELEMETRY_LANDED / RIG_STATUS_CHANGED (and alarm / run events that name
+ * app: rigs touched by TELEMETRY_LANDED / RIG_STATUS_CHANGED / CHAMBER_REPORTED (and alarm / run events that name
  * a rig) are marked dirty; once a second the dirty rigs' tiles are read in one query and sent to
  * every open stream as `event: tile`. So each rig gets at most one event per second, and a
  * telemetry message reaches the screen within ingest window (50 ms) + ≤ 1 s + one query.
@@ -15,7 +15,15 @@ import { liveSessionIds } from './floor.data';
 import type { Response } from 'express';
 import type { FloorStreamEvent, FloorTile } from '../../../shared/schemas/floor';
 import type { AppContext } from '../../context';
-import { ALARM_EVENT, RIG_STATUS_CHANGED, RUN_EVENT, SESSION_ENDED, TELEMETRY_LANDED, type SessionEnded } from '../../events';
+import {
+  ALARM_EVENT,
+  CHAMBER_REPORTED,
+  RIG_STATUS_CHANGED,
+  RUN_EVENT,
+  SESSION_ENDED,
+  TELEMETRY_LANDED,
+  type SessionEnded,
+} from '../../events';
 import type { FloorService } from './floor.service';
 
 export const STREAM_TICK_MS = 1_000;
@@ -85,6 +93,7 @@ export class FloorStream {
     if (this.tick) return;
     this.ctx.events.on(TELEMETRY_LANDED, this.onRig);
     this.ctx.events.on(RIG_STATUS_CHANGED, this.onRig);
+    this.ctx.events.on(CHAMBER_REPORTED, this.onRig);
     this.ctx.events.on(ALARM_EVENT, this.onRig);
     this.ctx.events.on(RUN_EVENT, this.onRig);
     this.tick = setInterval(() => void this.flush(), this.tickMs);
@@ -133,6 +142,7 @@ export class FloorStream {
     this.ctx.events.off(SESSION_ENDED, this.onSessionEnded);
     this.ctx.events.off(TELEMETRY_LANDED, this.onRig);
     this.ctx.events.off(RIG_STATUS_CHANGED, this.onRig);
+    this.ctx.events.off(CHAMBER_REPORTED, this.onRig);
     this.ctx.events.off(ALARM_EVENT, this.onRig);
     this.ctx.events.off(RUN_EVENT, this.onRig);
     this.dirty.clear();

@@ -23,6 +23,7 @@ import { qualification } from './qualification';
 import { workingDay } from './working-day';
 import { engineerMakeUp } from './make-up';
 import { rigChartSpans } from './chart-spans';
+import { chamberFloor } from './chamber';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -69,4 +70,6 @@ export const JOURNEYS: Journey[] = [
   rigChartSpans,
   // The verdict forecast (issue #25): reads HG2612-C and sets the alert level (nothing later reads it).
   forecastJourney,
+  // Chambers on the floor, their page and QUAL-001's TC cell (reads only; the cycle count must still be moving).
+  chamberFloor,
 ];
