@@ -42,6 +42,8 @@ import { TelemetryService } from './modules/telemetry/telemetry.service';
 import { UsersService } from './modules/users/users.service';
 import { ReplanService } from './modules/replan/replan.service';
 import { UtilisationService } from './modules/utilisation/utilisation.service';
+import { ThermalService } from './modules/thermal/thermal.service';
+import type { ThermalTracker } from './modules/thermal/thermal.tracker';
 
 /** Every service of the API process. */
 export interface Services {
@@ -71,12 +73,15 @@ export interface Services {
   tripResets: TripResetService;
   replan: ReplanService;
   utilisation: UtilisationService;
+  thermal: ThermalService;
   /** Replaced (typed) when protection starts with its own retry options (protection/start.ts). */
   mail: MailService;
   /** Live parts: set while the background features run, undefined otherwise (or a test's fake link). */
   rigLink: RigLink | undefined;
   telemetryIngest: TelemetryIngest | undefined;
   protection: ProtectionMonitor | undefined;
+  /** The socket thermal model's live tracker (started with protection, protection/start.ts). */
+  thermalTracker: ThermalTracker | undefined;
   scheduler: RunScheduler | undefined;
 }
 
@@ -140,10 +145,12 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     tripResets: new TripResetService(ctx),
     replan: new ReplanService(ctx),
     utilisation: new UtilisationService(ctx),
+    thermal: new ThermalService(ctx),
     mail,
     rigLink: undefined,
     telemetryIngest: undefined,
     protection: undefined,
+    thermalTracker: undefined,
     scheduler: undefined,
   };
 }
