@@ -189,6 +189,8 @@ export interface ThermalIdentification {
   sampleIntervalS: number | null;
   meanPowerW: number;
   meanRiseK: number;
+  /** The steady fit's trend term (K per stress hour), when it was used. */
+  driftKPerH: number | null;
   /** Meets the good-fit rule of rules.ts: may be used by the flag and by protection. */
   good: boolean;
 }
@@ -199,6 +201,12 @@ export interface IdentifyOptions {
   minSamples?: number;
   minPowerW?: number;
   minRiseK?: number;
+  /**
+   * Steady windows may carry a linear trend (a slowly drying pad, ambient drift the chamber reading
+   * does not follow): θ is then the window's centre value. Off by default; the tracker uses it for
+   * its periodic windows, never for a step's.
+   */
+  driftTerm?: boolean;
 }
 
 const mean = (xs: readonly number[]) => (xs.length ? xs.reduce((s, v) => s + v, 0) / xs.length : NaN);
@@ -219,6 +227,7 @@ function notIdentifiable(reason: string, base: Partial<ThermalIdentification>, o
     sampleIntervalS: base.sampleIntervalS ?? null,
     meanPowerW: base.meanPowerW ?? 0,
     meanRiseK: base.meanRiseK ?? 0,
+    driftKPerH: null,
     good: false,
   };
 }
@@ -295,83 +304,66 @@ export function identifySocketThermal(samples: readonly ThermalSample[], opts: I
   }
   const coef = leastSquares(rows, target);
   const ySpan = Math.max(...riseAll) - Math.min(...riseAll);
-  let a = coef?.[0] ?? NaN;
-  let b = coef?.[1] ?? NaN;
-  let c = given ? 0 : (coef?.[2] ?? NaN);
+  const a = coef?.[0] ?? NaN;
+  const b = coef?.[1] ?? NaN;
+  const c = given ? 0 : (coef?.[2] ?? NaN);
   const h4 = Math.exp(-4); // τ below h/4: the case settles within one interval
   const transient = coef !== null && ySpan >= Math.max(0.5, 0.1 * Math.abs(base.meanRiseK)) && a > h4 && a < 1;
   const offsetC = given ? (opts.offsetC as number) : c / (1 - a);
-  if (transient) {
+  const windowS = ok[ok.length - 1].tS - ok[0].tS;
+  const tauFit = transient ? -h / Math.log(a) : NaN;
+  // A "transient" slower than half the window is a drift (a drying pad, the device's own power
+  // creeping), not a step the window has seen settle: τ is not identifiable there, θ is judged
+  // from the window's steady state below (its residual then says whether that holds).
+  const slowDrift = transient && windowS < 2 * tauFit;
+  let arxFit: ThermalIdentification | null = null;
+  if (transient && !slowDrift) {
     const theta = b / (1 - a);
-    const tau = -h / Math.log(a);
-    const windowS = ok[ok.length - 1].tS - ok[0].tS;
-    if (windowS < tau) {
-      return notIdentifiable(`the window (${Math.round(windowS)} s) is shorter than the time constant (${Math.round(tau)} s): the rise has not shown its end`, base, offsetSource);
-    }
+    const tau = tauFit;
     // Quality on the rise relative to the identified offset.
     const y = riseAll.map((r) => r - (given ? 0 : offsetC));
     const pAvg = ok.slice(1).map((s, k) => (ok[k].powerW + s.powerW) / 2);
     const q = simulatedQuality(y, pAvg, a, b);
     const meanRise = mean(y);
-    if (!(theta > 0) || !Number.isFinite(theta)) {
-      return notIdentifiable('the fitted θ is not positive: the case did not follow the power', base, offsetSource);
+    if (theta > 0 && Number.isFinite(theta)) {
+      arxFit = {
+        identifiable: true,
+        reason: null,
+        thetaCPerW: theta,
+        tauS: tau,
+        tauNote: null,
+        offsetC,
+        offsetSource,
+        method: 'arx',
+        r2: q.r2,
+        rmsC: q.rms,
+        ...base,
+        meanRiseK: meanRise,
+        driftKPerH: null,
+        good: isGood(q.rms, meanRise, q.r2),
+      };
+      if (arxFit.good) return arxFit;
     }
-    return {
-      identifiable: true,
-      reason: null,
-      thetaCPerW: theta,
-      tauS: tau,
-      tauNote: null,
-      offsetC,
-      offsetSource,
-      method: 'arx',
-      r2: q.r2,
-      rmsC: q.rms,
-      ...base,
-      meanRiseK: meanRise,
-      good: isGood(q.rms, meanRise, q.r2),
-    };
   }
   // No transient (or faster than the sample interval): the steady-state θ.
   let tauNote = 'no transient in the window: τ not identifiable';
   if (coef !== null && ySpan >= 0.5 && a <= h4) tauNote = `τ shorter than a quarter of the ${Math.round(h)} s sample interval: not resolved`;
-  let theta: number;
-  let off: number;
-  if (given) {
-    off = opts.offsetC as number;
-    let sp = 0;
-    let pp = 0;
-    for (let k = 0; k < ok.length; k++) {
-      sp += riseAll[k] * ok[k].powerW;
-      pp += ok[k].powerW * ok[k].powerW;
-    }
-    theta = sp / pp;
-  } else {
-    const st = leastSquares(
-      ok.map((s) => [s.powerW, 1]),
-      riseAll,
-    );
-    if (!st) return notIdentifiable('the power did not change enough to fit θ and the offset', base, offsetSource);
-    [theta, off] = st;
-  }
-  a = 0;
-  b = theta;
-  c = off;
-  const y = riseAll.map((r) => r - (given ? 0 : c));
-  let sse = 0;
-  for (let k = 0; k < ok.length; k++) sse += (y[k] - theta * ok[k].powerW) ** 2;
-  const rms = Math.sqrt(sse / ok.length);
-  const meanRise = mean(y);
-  if (!(theta > 0)) return notIdentifiable('the fitted θ is not positive: the case did not follow the power', base, offsetSource);
+  if (slowDrift) tauNote = `a drift slower than half the ${Math.round(windowS)} s window (τ fit ${Math.round(tauFit)} s): τ not identifiable here`;
+  const steady = steadyFit(ok, riseAll, given ? (opts.offsetC as number) : null, windowS, opts.driftTerm ?? false);
+  if (!steady) return arxFit ?? notIdentifiable('the power did not change enough to fit θ and the offset', base, offsetSource);
+  const { theta, off, rms, meanRise, driftKPerH } = steady;
+  if (!(theta > 0)) return arxFit ?? notIdentifiable('the fitted θ is not positive: the case did not follow the power', base, offsetSource);
   if (Math.abs(meanRise) < (opts.minRiseK ?? MIN_IDENTIFY_RISE_K)) {
     return notIdentifiable(`the case sits only ${meanRise.toFixed(2)} K above its ambient: too small against sensor noise`, base, offsetSource);
   }
+  const good = isGood(rms, meanRise, null);
+  if (!good && arxFit) return arxFit;
   return {
     identifiable: true,
     reason: null,
     thetaCPerW: theta,
     tauS: null,
-    tauNote,
+    tauNote: arxFit ? 'the window is a drift, not a first-order step: τ not identifiable here' : tauNote,
     offsetC: off,
     offsetSource,
     method: 'steady',
@@ -379,6 +371,54 @@ export function identifySocketThermal(samples: readonly ThermalSample[], opts: I
     rmsC: rms,
     ...base,
     meanRiseK: meanRise,
-    good: isGood(rms, meanRise, null),
+    driftKPerH,
+    good,
   };
+}
+
+/**
+ * Largest drift the steady fit's trend term may absorb over its window, as a fraction of the mean
+ * rise: more than that is a heat-up still under way, not a slow change (Emberlot's choice).
+ */
+export const MAX_DRIFT_FRACTION = 0.3;
+
+/**
+ * Steady state: rise = θ·P (+ offset when not given) (+ d·(t − t̄) when driftTerm: a slow change of
+ * θ or of the socket's ambient over the window; θ is then the window's centre value). The trend is
+ * kept only while its change over the window stays within MAX_DRIFT_FRACTION of the mean rise.
+ */
+function steadyFit(
+  ok: readonly ThermalSample[],
+  rise: readonly number[],
+  offsetC: number | null,
+  windowS: number,
+  driftTerm: boolean,
+): { theta: number; off: number; rms: number; meanRise: number; driftKPerH: number | null } | null {
+  const tBar = mean(ok.map((s) => s.tS));
+  const fit = (withDrift: boolean) => {
+    const rows = ok.map((s) => {
+      const r = [s.powerW];
+      if (offsetC === null) r.push(1);
+      if (withDrift) r.push(s.tS - tBar);
+      return r;
+    });
+    const coef = leastSquares(rows, rise);
+    if (!coef) return null;
+    const theta = coef[0];
+    const off = offsetC ?? coef[1];
+    const d = withDrift ? coef[coef.length - 1] : 0;
+    let sse = 0;
+    const y: number[] = [];
+    for (let k = 0; k < ok.length; k++) {
+      const yk = rise[k] - (offsetC === null ? off : 0);
+      y.push(yk);
+      sse += (yk - theta * ok[k].powerW - d * (ok[k].tS - tBar)) ** 2;
+    }
+    return { theta, off, rms: Math.sqrt(sse / ok.length), meanRise: mean(y), driftKPerH: withDrift ? d * 3600 : null, d };
+  };
+  if (driftTerm) {
+    const f = fit(true);
+    if (f && Math.abs(f.d) * windowS <= MAX_DRIFT_FRACTION * Math.abs(f.meanRise)) return f;
+  }
+  return fit(false);
 }

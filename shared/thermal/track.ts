@@ -122,7 +122,7 @@ export class SocketThermalTrack {
   private identify(trigger: ThermalTrigger): TrackEvent {
     // A step's window keeps the sample before the step (bias off): power 0 there is the step's foot.
     const samples = trigger === 'periodic' ? this.window.filter((x) => x.biasOn) : this.window;
-    const fit = identifySocketThermal(samples, { offsetC: this.offsetC ?? 0 });
+    const fit = identifySocketThermal(samples, { offsetC: this.offsetC ?? 0, driftTerm: trigger === 'periodic' });
     let flag: TrackEvent['flag'] = null;
     let riseFraction: number | null = null;
     if (fit.good && fit.thetaCPerW !== null) {
