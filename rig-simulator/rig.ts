@@ -160,7 +160,11 @@ function buildSockets(config: RigConfig): SocketSetup[] {
     const isPad = !isPoor && padSet.has(i);
     const mode = config.mode ?? 'powered';
     const thermal = isPad
-      ? { thetaCaCPerW: pad?.startCPerW ?? sound, thetaCaRampCPerWPerH: pad?.rampCPerWPerH ?? 0.5, thetaCaMaxCPerW: pad?.maxCPerW ?? DEFAULTS.poorThetaCaCPerW }
+      ? {
+          thetaCaCPerW: pad?.startCPerW ?? sound,
+          thetaCaRampCPerWPerH: pad?.rampCPerWPerH ?? 0.5,
+          thetaCaMaxCPerW: pad?.maxCPerW ?? DEFAULTS.poorThetaCaCPerW,
+        }
       : {
           thetaCaCPerW: isPoor && ramp <= 0 ? poorTheta : sound,
           thetaCaRampCPerWPerH: isPoor && ramp > 0 ? ramp : 0,

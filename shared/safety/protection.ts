@@ -236,7 +236,11 @@ function estimateLoopGain(trend: SocketTrend, device: ProtectionDevice, opts: Pr
   const dPdTj = s / (1 + thetaJc * s);
   const thetaCaMax = Math.max(0, (device.thetaJaCPerW ?? DEFAULT_MAX_THETA_JA_C_PER_W) - thetaJc);
   // The identified θca may raise the window's θca and its bound, never lower them (shared/thermal/rules.ts).
-  const used = protectionThetaCa({ windowThetaCa: thetaCa, ratedBoundThetaCa: thetaCaMax, identifiedThetaCa: device.identifiedThetaCaCPerW ?? null });
+  const used = protectionThetaCa({
+    windowThetaCa: thetaCa,
+    ratedBoundThetaCa: thetaCaMax,
+    identifiedThetaCa: device.identifiedThetaCaCPerW ?? null,
+  });
   lgThetaCa = used.thetaCa;
   lgThetaSource = used.source;
   lgLoopGain = (thetaJc + (used.thetaCa ?? 0)) * dPdTj;

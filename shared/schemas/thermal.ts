@@ -8,7 +8,11 @@ import { rigCodeInputSchema } from './rigs';
 export const thermalSocketParamSchema = z
   .object({
     code: rigCodeInputSchema,
-    socket: z.coerce.number().int('The socket is a whole number').min(0, 'Sockets count from 0').max(255, 'No rig has more than 256 sockets'),
+    socket: z.coerce
+      .number()
+      .int('The socket is a whole number')
+      .min(0, 'Sockets count from 0')
+      .max(255, 'No rig has more than 256 sockets'),
   })
   .strict();
 export type ThermalSocketParams = z.infer<typeof thermalSocketParamSchema>;

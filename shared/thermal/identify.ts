@@ -274,7 +274,12 @@ export function identifySocketThermal(samples: readonly ThermalSample[], opts: I
   const ok = samples.filter((s) => [s.tS, s.caseC, s.ambientC, s.powerW].every(Number.isFinite));
   const h = medianInterval(ok);
   const riseAll = ok.map((s) => s.caseC - s.ambientC - (given ? (opts.offsetC as number) : 0));
-  const base = { samples: ok.length, sampleIntervalS: Number.isFinite(h) ? h : null, meanPowerW: mean(ok.map((s) => s.powerW)), meanRiseK: mean(riseAll) };
+  const base = {
+    samples: ok.length,
+    sampleIntervalS: Number.isFinite(h) ? h : null,
+    meanPowerW: mean(ok.map((s) => s.powerW)),
+    meanRiseK: mean(riseAll),
+  };
   if (ok.length < minSamples) return notIdentifiable(`${ok.length} samples; at least ${minSamples} are needed`, base, offsetSource);
   if (!(base.meanPowerW >= (opts.minPowerW ?? MIN_IDENTIFY_POWER_W))) {
     return notIdentifiable(`socket power ${base.meanPowerW.toPrecision(2)} W is too small to heat the case measurably`, base, offsetSource);
@@ -291,7 +296,8 @@ export function identifySocketThermal(samples: readonly ThermalSample[], opts: I
     target.push(riseAll[k + 1]);
     pairs.push([k, k + 1]);
   }
-  if (rows.length < minSamples - 1) return notIdentifiable(`only ${rows.length} evenly spaced sample pairs (gaps in the telemetry)`, base, offsetSource);
+  if (rows.length < minSamples - 1)
+    return notIdentifiable(`only ${rows.length} evenly spaced sample pairs (gaps in the telemetry)`, base, offsetSource);
   const powers = ok.map((s) => s.powerW);
   const pSpan = Math.max(...powers) - Math.min(...powers);
   const twoLevels = pSpan >= 0.2 * base.meanPowerW;
@@ -347,14 +353,20 @@ export function identifySocketThermal(samples: readonly ThermalSample[], opts: I
   }
   // No transient (or faster than the sample interval): the steady-state θ.
   let tauNote = 'no transient in the window: τ not identifiable';
-  if (coef !== null && ySpan >= 0.5 && a <= h4) tauNote = `τ shorter than a quarter of the ${Math.round(h)} s sample interval: not resolved`;
-  if (slowDrift) tauNote = `a drift slower than half the ${Math.round(windowS)} s window (τ fit ${Math.round(tauFit)} s): τ not identifiable here`;
+  if (coef !== null && ySpan >= 0.5 && a <= h4)
+    tauNote = `τ shorter than a quarter of the ${Math.round(h)} s sample interval: not resolved`;
+  if (slowDrift)
+    tauNote = `a drift slower than half the ${Math.round(windowS)} s window (τ fit ${Math.round(tauFit)} s): τ not identifiable here`;
   const steady = steadyFit(ok, riseAll, given ? (opts.offsetC as number) : null, windowS, opts.driftTerm ?? false);
   if (!steady) return arxFit ?? notIdentifiable('the power did not change enough to fit θ and the offset', base, offsetSource);
   const { theta, off, rms, meanRise, driftKPerH } = steady;
   if (!(theta > 0)) return arxFit ?? notIdentifiable('the fitted θ is not positive: the case did not follow the power', base, offsetSource);
   if (Math.abs(meanRise) < (opts.minRiseK ?? MIN_IDENTIFY_RISE_K)) {
-    return notIdentifiable(`the case sits only ${meanRise.toFixed(2)} K above its ambient: too small against sensor noise`, base, offsetSource);
+    return notIdentifiable(
+      `the case sits only ${meanRise.toFixed(2)} K above its ambient: too small against sensor noise`,
+      base,
+      offsetSource,
+    );
   }
   const good = isGood(rms, meanRise, null);
   if (!good && arxFit) return arxFit;

@@ -41,7 +41,14 @@ let fx: RunFixture;
 
 beforeAll(async () => {
   db = await createTestDb();
-  fx = await createRunFixture(db.ds, { rigCode: RIG.code, sockets: 4, chamberC: 60, bias: { vceV: 20, ibA: 0.005 }, tjMaxC: 150, thetaJcCPerW: 1.5 });
+  fx = await createRunFixture(db.ds, {
+    rigCode: RIG.code,
+    sockets: 4,
+    chamberC: 60,
+    bias: { vceV: 20, ibA: 0.005 },
+    tjMaxC: 150,
+    thetaJcCPerW: 1.5,
+  });
   ctx = createContext(db.ds, { ...configFromEnv({} as NodeJS.ProcessEnv), db: db.config });
   eb = await createEmberlotBroker({ port: 0, authenticate });
   stopTelemetry = await startTelemetry(ctx, {
@@ -116,5 +123,7 @@ test('a drying pad is flagged before any trip; healthy sockets’ θ and τ with
   expect(pad.latestGood!.thetaCPerW!).toBeGreaterThan(pad.baselineThetaCPerW! * 1.25);
   // Protection now uses the pad's identified θca (larger than its own window fit would be on a steady socket).
   expect(ctx.services.thermalTracker!.identifiedThetaCa(fx.rig.id, 1)).toBeCloseTo(pad.latestGood!.thetaCPerW!, 6);
-  console.log(`thermal-path: flagged at true θca ${atFlag.thetaCaCPerW.toFixed(2)} °C/W, Tj ${atFlag.tjC.toFixed(1)} °C (Tj max ${atFlag.device.tjMaxC} °C)`);
+  console.log(
+    `thermal-path: flagged at true θca ${atFlag.thetaCaCPerW.toFixed(2)} °C/W, Tj ${atFlag.tjC.toFixed(1)} °C (Tj max ${atFlag.device.tjMaxC} °C)`,
+  );
 });

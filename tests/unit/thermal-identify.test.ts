@@ -211,10 +211,30 @@ describe('SocketThermalTrack on the simulator (rig-simulator/physics.ts: θca 2 
 
 describe('protectionThetaCa: the identified θca may raise protection’s θca, never lower it (rules.ts)', () => {
   it('a worse identified path raises both the θca and its bound; a better one changes nothing', () => {
-    expect(protectionThetaCa({ windowThetaCa: 1.2, ratedBoundThetaCa: 60, identifiedThetaCa: 2 })).toEqual({ thetaCa: 2, bound: 60, source: 'identified' });
-    expect(protectionThetaCa({ windowThetaCa: 3, ratedBoundThetaCa: 60, identifiedThetaCa: 2 })).toEqual({ thetaCa: 3, bound: 60, source: 'window' });
-    expect(protectionThetaCa({ windowThetaCa: 500, ratedBoundThetaCa: 60, identifiedThetaCa: 75 })).toEqual({ thetaCa: 75, bound: 75, source: 'window' });
-    expect(protectionThetaCa({ windowThetaCa: null, ratedBoundThetaCa: 60, identifiedThetaCa: null })).toEqual({ thetaCa: null, bound: 60, source: 'none' });
-    expect(protectionThetaCa({ windowThetaCa: 500, ratedBoundThetaCa: 60, identifiedThetaCa: null })).toEqual({ thetaCa: 60, bound: 60, source: 'window' });
+    expect(protectionThetaCa({ windowThetaCa: 1.2, ratedBoundThetaCa: 60, identifiedThetaCa: 2 })).toEqual({
+      thetaCa: 2,
+      bound: 60,
+      source: 'identified',
+    });
+    expect(protectionThetaCa({ windowThetaCa: 3, ratedBoundThetaCa: 60, identifiedThetaCa: 2 })).toEqual({
+      thetaCa: 3,
+      bound: 60,
+      source: 'window',
+    });
+    expect(protectionThetaCa({ windowThetaCa: 500, ratedBoundThetaCa: 60, identifiedThetaCa: 75 })).toEqual({
+      thetaCa: 75,
+      bound: 75,
+      source: 'window',
+    });
+    expect(protectionThetaCa({ windowThetaCa: null, ratedBoundThetaCa: 60, identifiedThetaCa: null })).toEqual({
+      thetaCa: null,
+      bound: 60,
+      source: 'none',
+    });
+    expect(protectionThetaCa({ windowThetaCa: 500, ratedBoundThetaCa: 60, identifiedThetaCa: null })).toEqual({
+      thetaCa: 60,
+      bound: 60,
+      source: 'window',
+    });
   });
 });

@@ -6,6 +6,8 @@ import { ApiRouter } from '../../http/route';
 export function thermalRoutes(ctx: AppContext): ApiRouter {
   const svc = ctx.services.thermal;
   const r = new ApiRouter('/api/thermal');
-  r.get('/rigs/:code/sockets/:socket', { access: 'signed-in', params: thermalSocketParamSchema }, ({ params }) => svc.socket(params.code, params.socket));
+  r.get('/rigs/:code/sockets/:socket', { access: 'signed-in', params: thermalSocketParamSchema }, ({ params }) =>
+    svc.socket(params.code, params.socket),
+  );
   return r;
 }

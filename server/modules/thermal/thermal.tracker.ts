@@ -114,7 +114,11 @@ export class ThermalTracker {
       const i = m.socket[k];
       let s = rig.sockets.get(i);
       if (!s) {
-        s = { track: new SocketThermalTrack(this.trackOptions, { baselineThetaCPerW: rig.baselines.get(i) ?? null }), lastStoredTheta: null, lastStoredAt: 0 };
+        s = {
+          track: new SocketThermalTrack(this.trackOptions, { baselineThetaCPerW: rig.baselines.get(i) ?? null }),
+          lastStoredTheta: null,
+          lastStoredAt: 0,
+        };
         rig.sockets.set(i, s);
       }
       const flags = m.flags[k];
@@ -180,7 +184,12 @@ const f2 = (x: number | null | undefined) => (x === null || x === undefined || !
 const pct = (x: number) => `${Math.round(x * 100)} %`;
 
 /** The alarm's words and numbers (Emberlot's own). */
-export function thermalPathAlarm(m: Pick<TelemetryLanded, 'rigId' | 'rigCode'>, rig: Pick<RigSlot, 'runId' | 'runCode'>, socket: number, e: TrackEvent): RaiseAlarmInput {
+export function thermalPathAlarm(
+  m: Pick<TelemetryLanded, 'rigId' | 'rigCode'>,
+  rig: Pick<RigSlot, 'runId' | 'runCode'>,
+  socket: number,
+  e: TrackEvent,
+): RaiseAlarmInput {
   const f = e.fit;
   const base = e.baselineThetaCPerW;
   const rise = e.riseFraction ?? 0;
