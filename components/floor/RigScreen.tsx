@@ -28,6 +28,7 @@ import { TripResetDialog, rigAnswerText } from './TripResetDialog';
 import { useCan } from '@/components/queries/auth';
 import { Banner } from '@/components/ui/Banner';
 import { RigRuns } from './RigRuns';
+import { SocketThermal } from './SocketThermal';
 import type { TripResetResult } from '@/shared/schemas/protection';
 
 const SPANS = [
@@ -149,6 +150,7 @@ function Board({ board, code }: { board: FloorBoard; code: string }) {
               onResetTrip={sel.tripped && t.run?.state === 'stressing' && can('run.reset-trip') ? () => setResetting(sel) : undefined}
             />
           ) : null}
+          {sel && t.run ? <SocketThermal code={code} socket={sel.index} /> : null}
         </View>
       </View>
       <Card

@@ -33,6 +33,8 @@ export interface FloorTile {
   maxCaseC: number | null;
   /** Unacknowledged alarms on this rig. */
   openAlarms: number;
+  /** Sockets whose thermal path is flagged as degrading (a live 'thermal-path' alarm; server/modules/thermal). */
+  thermalFlags: number[];
   run: {
     id: string;
     code: string;

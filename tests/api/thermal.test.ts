@@ -7,6 +7,7 @@
 import request from 'supertest';
 import { socketFlags } from '../../shared/mqtt';
 import { mulberry32 } from '../../shared/random';
+import type { FloorTile } from '../../shared/schemas/floor';
 import type { SocketThermal } from '../../shared/schemas/thermal';
 import { DEMO_LOTS, createRigState, makeLotDevices, stepRig, type RigState } from '../../rig-simulator';
 import { AlarmEntity } from '../../server/db/entities';
@@ -117,8 +118,10 @@ describe('GET /api/thermal/rigs/:code/sockets/:socket', () => {
     expect(ack.body).toEqual(
       expect.objectContaining({ kind: 'thermal-path', open: false, ackNote: 'Pad on socket 1 reseated at the 168 h hold.' }),
     );
-    // Acknowledged but the condition holds: still live, so still shown as flagged.
+    // Acknowledged but the condition holds: still live, so still shown as flagged, and on the floor tile.
     expect((await op.get(`/api/thermal/rigs/${RIG}/sockets/1`)).body.flagged).toBe(true);
+    const tiles: FloorTile[] = (await op.get('/api/floor')).body.items;
+    expect(tiles.find((x) => x.code === RIG)?.thermalFlags).toEqual([1]);
   });
 
   it('a socket with no identifications answers empty, honestly', async () => {

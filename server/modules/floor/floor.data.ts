@@ -41,6 +41,7 @@ export interface TileRow {
   tripped: number;
   max_case_c: number | null;
   open_alarms: number;
+  thermal_flags: number[];
 }
 
 /**
@@ -72,7 +73,10 @@ SELECT r.id, r.code, r.name, r.location, r.active, r.online, r.last_seen_at, r.c
        COALESCE(rm.loaded, 0)::int AS loaded, COALESCE(ts.powered, 0)::int AS powered,
        (COALESCE(ts.tripped, 0) + COALESCE(cardinality(rm.latched), 0) - COALESCE(ts.tripped_latched, 0))::int AS tripped,
        ts.max_case_c,
-       (SELECT count(*) FROM alarms a WHERE a.rig_id = r.id AND a.acknowledged_at IS NULL)::int AS open_alarms
+       (SELECT count(*) FROM alarms a WHERE a.rig_id = r.id AND a.acknowledged_at IS NULL)::int AS open_alarms,
+       (SELECT COALESCE(array_agg(DISTINCT a.socket_index), '{}') FROM alarms a
+         WHERE a.rig_id = r.id AND a.kind = 'thermal-path' AND a.socket_index IS NOT NULL
+           AND (a.acknowledged_at IS NULL OR a.cleared_at IS NULL))::int[] AS thermal_flags
 FROM rigs r
 LEFT JOIN telemetry_batches b ON b.rig_id = r.id AND b.seq = r.last_seq
 LEFT JOIN active run ON run.rig_id = r.id

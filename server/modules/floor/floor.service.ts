@@ -110,6 +110,7 @@ export class FloorService {
       empty: Math.max(0, r.socket_count - loaded),
       maxCaseC: r.max_case_c,
       openAlarms: r.open_alarms,
+      thermalFlags: (r.thermal_flags ?? []).map(Number),
       run,
     };
   }
