@@ -20,6 +20,7 @@ import { managerReplan } from './replan';
 import { managerCalendar } from './calendar';
 import { qualification } from './qualification';
 import { workingDay } from './working-day';
+import { thermal } from './thermal';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -60,4 +61,6 @@ export const JOURNEYS: Journey[] = [
   // Every screen of every role under axe: after the journeys that add data, before the offline rig.
   accessibilityEveryScreen,
   adminRigs,
+  // The socket thermal model: reads OV-03's drying pad (demo fleet), its sheet and the alarms list.
+  thermal,
 ];
