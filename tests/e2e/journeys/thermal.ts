@@ -20,6 +20,7 @@ export const thermal: Journey = {
     const tile = page.getByTestId('rig-tile-OV-03');
     // The pad needs a stress hour or two at OV-03's 0.04 h per second before it is flagged.
     await expect(page.getByTestId('rig-tile-thermal-OV-03')).toContainText(`Thermal path degrading: socket ${PAD_SOCKET}`, 150000);
+    await tile.scrollIntoViewIfNeeded();
     await j.shot('floor-thermal-flag');
     await tile.click();
     await page.waitForURL((u) => u.pathname === '/floor/OV-03');
@@ -31,7 +32,7 @@ export const thermal: Journey = {
     await expect(card.getByTestId('socket-tau')).toContainText(/τ \(time constant\)\s*(\d+(\.\d+)? (s|min)|not identifiable)/);
     await expect(card.getByTestId('socket-thermal-fit')).toContainText(/RMS \d+\.\d\d K · (step response|steady state), \d+ samples/);
     await expect(card.getByTestId('socket-thermal-rise')).toContainText(/\+\d+ % \(flag above \+25 %\)/);
-    await expect(card.getByTestId('socket-thermal-history')).toContainText(/Identifications \(\d+ stored this run, newest first\)/);
+    await expect(card.getByTestId('socket-thermal-history')).toContainText(/Identifications \(\d+ stored this run, newest first\)/i);
     await expect(card).toContainText('no substitute for the rig’s hardware interlocks');
     await card.scrollIntoViewIfNeeded();
     await j.checkA11y('socket thermal path');
