@@ -11,7 +11,7 @@ import type { FloorTile } from '../../shared/schemas/floor';
 import type { SocketThermal } from '../../shared/schemas/thermal';
 import { DEMO_LOTS, createRigState, makeLotDevices, stepRig, type RigState } from '../../rig-simulator';
 import { AlarmEntity } from '../../server/db/entities';
-import { TELEMETRY_LANDED, type TelemetryLanded } from '../../server/events';
+import { RUN_EVENT, TELEMETRY_LANDED, type TelemetryLanded } from '../../server/events';
 import { ThermalTracker } from '../../server/modules/thermal/thermal.tracker';
 import { createRunFixture, type RunFixture } from '../broker/protection-fixtures';
 import { createTestApp, type TestApp } from '../support/api';
@@ -122,6 +122,26 @@ describe('GET /api/thermal/rigs/:code/sockets/:socket', () => {
     expect((await op.get(`/api/thermal/rigs/${RIG}/sockets/1`)).body.flagged).toBe(true);
     const tiles: FloorTile[] = (await op.get('/api/floor')).body.items;
     expect(tiles.find((x) => x.code === RIG)?.thermalFlags).toEqual([1]);
+  });
+
+  it('the run ending clears the flag’s condition (acknowledged and cleared: no longer flagged)', async () => {
+    t.ctx.events.emit(RUN_EVENT, {
+      type: 'state-changed',
+      runId: fx.run.id,
+      runCode: fx.run.code,
+      rigId: fx.rig.id,
+      rigCode: RIG,
+      at: new Date().toISOString(),
+      from: 'stressing',
+      to: 'aborted',
+      actor: 'engineer@test.example',
+      reason: 'test',
+    });
+    await tracker.idle();
+    const [alarm] = await t.db.ds.getRepository(AlarmEntity).find({ where: { rigId: fx.rig.id, kind: 'thermal-path' } });
+    expect(alarm.clearedAt).not.toBeNull();
+    expect(alarm.details.cleared).toEqual({ runState: 'aborted' });
+    expect((await (await t.signIn('operator')).get(`/api/thermal/rigs/${RIG}/sockets/1`)).body.flagged).toBe(false);
   });
 
   it('a socket with no identifications answers empty, honestly', async () => {

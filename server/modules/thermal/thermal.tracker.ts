@@ -17,7 +17,7 @@ import type { RaiseAlarmInput } from '../alarms/alarms.service';
 import { activeRunOfRig, baselinesOfRun, insertFit } from './thermal.data';
 
 /** A periodic identification is stored when θ moved by this fraction since the last one stored … */
-const STORE_CHANGE_FRACTION = 0.03;
+const STORE_CHANGE_FRACTION = 0.05;
 /** … or this long (wall ms) has passed. */
 const STORE_EVERY_MS = 60_000;
 const RUN_CACHE_MS = 15_000;
@@ -51,10 +51,11 @@ export class ThermalTracker {
     const onLanded = (m: TelemetryLanded) => this.enqueue(m.rigId, () => this.onTelemetry(m));
     const onRun = (e: RunEvent) => {
       const rigId = (e as { rigId?: unknown } | null)?.rigId;
-      if (typeof rigId === 'string') {
-        const slot = this.rigs.get(rigId);
-        if (slot) slot.at = 0; // re-read the run on the next message
-      }
+      if (typeof rigId !== 'string') return;
+      const slot = this.rigs.get(rigId);
+      if (slot) slot.at = 0; // re-read the run on the next message
+      // A run that ended leaves no socket to watch: its thermal flags' condition is over (they stay until acknowledged).
+      if (e?.type === 'state-changed' && (e.to === 'finished' || e.to === 'aborted')) this.enqueue(rigId, () => this.clearRig(rigId, e.to));
     };
     this.ctx.events.on(TELEMETRY_LANDED, onLanded);
     this.ctx.events.on(RUN_EVENT, onRun);
@@ -76,6 +77,15 @@ export class ThermalTracker {
   /** The socket's latest good identified θca in the rig's current run (°C/W), or null. */
   identifiedThetaCa(rigId: string, socket: number): number | null {
     return this.rigs.get(rigId)?.sockets.get(socket)?.track.latestGood?.thetaCPerW ?? null;
+  }
+
+  private async clearRig(rigId: string, runState: string): Promise<void> {
+    this.rigs.delete(rigId);
+    // From the alarms themselves, so a flag raised before a server restart is cleared too.
+    const live = await this.ctx.services.alarms.activeKeys(['thermal-path']);
+    for (const a of live) {
+      if (a.rigId === rigId) await this.ctx.services.alarms.clear('thermal-path', rigId, a.socketIndex, { runState });
+    }
   }
 
   private enqueue(rigId: string, job: () => Promise<void>): void {
