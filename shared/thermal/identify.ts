@@ -353,7 +353,7 @@ export function identifySocketThermal(samples: readonly ThermalSample[], opts: I
   }
   // No transient (or faster than the sample interval): the steady-state θ.
   let tauNote = 'no transient in the window: τ not identifiable';
-  if (coef !== null && ySpan >= 0.5 && a <= h4)
+  if (coef !== null && twoLevels && ySpan >= 0.5 && a <= h4)
     tauNote = `τ shorter than a quarter of the ${Math.round(h)} s sample interval: not resolved`;
   if (slowDrift)
     tauNote = `a drift slower than half the ${Math.round(windowS)} s window (τ fit ${Math.round(tauFit)} s): τ not identifiable here`;

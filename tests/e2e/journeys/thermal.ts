@@ -48,7 +48,10 @@ export const thermal: Journey = {
     // The flag on the alarms list, a warning of its own kind.
     await j.navTo('Alarms');
     await page.waitForURL((u) => u.pathname === '/alarms');
-    await expect(page.getByRole('heading', { name: `Socket ${PAD_SOCKET} on OV-03: thermal path degrading` }).first()).toBeVisible(20000);
+    await page.getByRole('radio', { name: 'Warning', exact: true }).click();
+    const heading = page.getByRole('heading', { name: `Socket ${PAD_SOCKET} on OV-03: thermal path degrading` }).first();
+    await expect(heading).toBeVisible(20000);
+    await heading.scrollIntoViewIfNeeded();
     await j.checkA11y('alarms with the thermal flag');
     await j.shot('alarms-thermal-flag');
   },
