@@ -49,6 +49,8 @@ export const thermal: Journey = {
     await j.navTo('Alarms');
     await page.waitForURL((u) => u.pathname === '/alarms');
     await page.getByRole('radio', { name: 'Warning', exact: true }).click();
+    // The filtered list replaces the whole one: wait until the critical trips have left it.
+    await expect(page.getByRole('heading', { name: /tripped: runaway$/ })).toHaveCount(0, 15000);
     const heading = page.getByRole('heading', { name: `Socket ${PAD_SOCKET} on OV-03: thermal path degrading` }).first();
     await expect(heading).toBeVisible(20000);
     await heading.scrollIntoViewIfNeeded();
