@@ -151,14 +151,14 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
       // it. This rig runs a slower clock (0.04 stress h per wall second, 72 stress seconds between
       // samples): at the demo's 1 h/s a whole runaway fits between two samples, which no trip can beat.
       // Measured offline with the simulator's physics: trip at 0.56 stress h with true Tj ≈ 141 °C.
-      // Socket 2: a drying thermal pad, θca 2 → 60 °C/W at 2 °C/W per stress hour (an hour of stress is
-      // 25 wall seconds here): the thermal model flags it within the first stress hours (θ past its
-      // first identification + 25 %, shared/thermal/rules.ts); protection trips it only near θca 55
-      // (Tj max − 10 °C at the run's ~1.8 W), some 25 stress hours later.
+      // Socket 2: a drying thermal pad, θca 2 → 60 °C/W at 0.5 °C/W per stress hour (an hour of stress
+      // is 25 wall seconds here): the thermal model flags it after a stress hour or two (θ past its
+      // settled first value + 25 %, shared/thermal/rules.ts); protection would trip it only near
+      // θca 55 (Tj max − 10 °C at the run's ~1.8 W), some 100 stress hours later.
       entry.faults = {
         noise: { tempC: 0.2, currentPct: 0.5 },
         poorHeatSink: { sockets: [5, 11], thetaCaCPerW: 60, rampCPerWPerH: 60 },
-        dryingPad: { sockets: [DRYING_PAD_SOCKET], startCPerW: 2, rampCPerWPerH: 2, maxCPerW: 60 },
+        dryingPad: { sockets: [DRYING_PAD_SOCKET], startCPerW: 2, rampCPerWPerH: 0.5, maxCPerW: 60 },
       };
       entry.stressHoursPerWallSecond = 0.04;
       faultPlaced = true;

@@ -314,7 +314,8 @@ export function identifySocketThermal(samples: readonly ThermalSample[], opts: I
   const b = coef?.[1] ?? NaN;
   const c = given ? 0 : (coef?.[2] ?? NaN);
   const h4 = Math.exp(-4); // τ below h/4: the case settles within one interval
-  const transient = coef !== null && ySpan >= Math.max(0.5, 0.1 * Math.abs(base.meanRiseK)) && a > h4 && a < 1;
+  // A transient must stand out of sensor noise (σ 0.2–0.3 K spans about 1 K over 20 samples).
+  const transient = coef !== null && ySpan >= Math.max(MIN_TRANSIENT_SPAN_K, 0.1 * Math.abs(base.meanRiseK)) && a > h4 && a < 1;
   const offsetC = given ? (opts.offsetC as number) : c / (1 - a);
   const windowS = ok[ok.length - 1].tS - ok[0].tS;
   const tauFit = transient ? -h / Math.log(a) : NaN;
@@ -357,7 +358,16 @@ export function identifySocketThermal(samples: readonly ThermalSample[], opts: I
     tauNote = `τ shorter than a quarter of the ${Math.round(h)} s sample interval: not resolved`;
   if (slowDrift)
     tauNote = `a drift slower than half the ${Math.round(windowS)} s window (τ fit ${Math.round(tauFit)} s): τ not identifiable here`;
-  const steady = steadyFit(ok, riseAll, given ? (opts.offsetC as number) : null, windowS, opts.driftTerm ?? false);
+  // An apparent transient slower than the window is either a slow drift (allowed only with a
+  // bounded trend term) or a heat-up still under way: never judged as a steady state without one.
+  const steady = steadyFit(ok, riseAll, given ? (opts.offsetC as number) : null, windowS, opts.driftTerm ?? false, slowDrift);
+  if (!steady && slowDrift) {
+    return notIdentifiable(
+      `still settling: the case moves over the whole ${Math.round(windowS)} s window (time constant about ${Math.round(tauFit)} s)`,
+      base,
+      offsetSource,
+    );
+  }
   if (!steady) return arxFit ?? notIdentifiable('the power did not change enough to fit θ and the offset', base, offsetSource);
   const { theta, off, rms, meanRise, driftKPerH } = steady;
   if (!(theta > 0)) return arxFit ?? notIdentifiable('the fitted θ is not positive: the case did not follow the power', base, offsetSource);
@@ -394,6 +404,9 @@ export function identifySocketThermal(samples: readonly ThermalSample[], opts: I
  */
 export const MAX_DRIFT_FRACTION = 0.3;
 
+/** Smallest span of the rise (K) that counts as a transient rather than sensor noise (Emberlot's choice). */
+export const MIN_TRANSIENT_SPAN_K = 1;
+
 /**
  * Steady state: rise = θ·P (+ offset when not given) (+ d·(t − t̄) when driftTerm: a slow change of
  * θ or of the socket's ambient over the window; θ is then the window's centre value). The trend is
@@ -405,6 +418,8 @@ function steadyFit(
   offsetC: number | null,
   windowS: number,
   driftTerm: boolean,
+  /** The window moves like a slow transient: only the bounded trend fit may answer (else null). */
+  settling = false,
 ): { theta: number; off: number; rms: number; meanRise: number; driftKPerH: number | null } | null {
   const tBar = mean(ok.map((s) => s.tS));
   const fit = (withDrift: boolean) => {
@@ -432,5 +447,5 @@ function steadyFit(
     const f = fit(true);
     if (f && Math.abs(f.d) * windowS <= MAX_DRIFT_FRACTION * Math.abs(f.meanRise)) return f;
   }
-  return fit(false);
+  return settling ? null : fit(false);
 }

@@ -11,6 +11,15 @@
  */
 export const THERMAL_PATH_RISE_FRACTION = 0.25;
 
+/**
+ * The baseline (the socket's "own first identification") is taken once this many consecutive good
+ * identifications agree within BASELINE_AGREE_FRACTION (their median): a heat-up still under way
+ * reads low and climbing, and must not become the reference a healthy socket is later flagged
+ * against. Emberlot's choice.
+ */
+export const BASELINE_AGREE_FITS = 3;
+export const BASELINE_AGREE_FRACTION = 0.1;
+
 /** Consecutive good identifications above the limit before the flag is raised (one noisy window is not a trend). */
 export const THERMAL_PATH_CONFIRM_FITS = 2;
 

@@ -10,7 +10,7 @@
  * off samples); until one is seen the chamber is taken as the socket's ambient (offset 0).
  */
 import { identifySocketThermal, type ThermalIdentification, type ThermalSample } from './identify';
-import { THERMAL_PATH_CONFIRM_FITS, THERMAL_PATH_RISE_FRACTION } from './rules';
+import { BASELINE_AGREE_FITS, BASELINE_AGREE_FRACTION, THERMAL_PATH_CONFIRM_FITS, THERMAL_PATH_RISE_FRACTION } from './rules';
 
 export type ThermalTrigger = 'bias-on' | 'power-step' | 'periodic';
 export type OffsetBasis = 'bias-off' | 'chamber';
@@ -30,7 +30,7 @@ export interface TrackOptions {
   offSamples: number;
 }
 
-export const DEFAULT_TRACK_OPTIONS: TrackOptions = { windowSamples: 20, periodicSamples: 10, powerStepFraction: 0.2, offSamples: 3 };
+export const DEFAULT_TRACK_OPTIONS: TrackOptions = { windowSamples: 20, periodicSamples: 5, powerStepFraction: 0.2, offSamples: 3 };
 
 export interface TrackEvent {
   trigger: ThermalTrigger;
@@ -58,6 +58,8 @@ export class SocketThermalTrack {
   flagged: boolean;
   private above = 0;
   private below = 0;
+  /** The latest good θ values while no baseline is set (BASELINE_AGREE_FITS of them). */
+  private recentGood: number[] = [];
 
   constructor(opts: Partial<TrackOptions> = {}, restored: { baselineThetaCPerW?: number | null; flagged?: boolean } = {}) {
     this.opts = { ...DEFAULT_TRACK_OPTIONS, ...opts };
@@ -119,6 +121,16 @@ export class SocketThermalTrack {
     return rises.reduce((t, v) => t + v, 0) / rises.length;
   }
 
+  /** The median of the last BASELINE_AGREE_FITS good θ once they agree within BASELINE_AGREE_FRACTION, else null. */
+  private settledBaseline(theta: number): number | null {
+    this.recentGood.push(theta);
+    if (this.recentGood.length > BASELINE_AGREE_FITS) this.recentGood.shift();
+    if (this.recentGood.length < BASELINE_AGREE_FITS) return null;
+    const sorted = [...this.recentGood].sort((a, b) => a - b);
+    if (sorted[sorted.length - 1] > sorted[0] * (1 + BASELINE_AGREE_FRACTION)) return null;
+    return sorted[Math.floor(sorted.length / 2)];
+  }
+
   private identify(trigger: ThermalTrigger): TrackEvent {
     // A step's window keeps the sample before the step (bias off): power 0 there is the step's foot.
     const samples = trigger === 'periodic' ? this.window.filter((x) => x.biasOn) : this.window;
@@ -127,7 +139,9 @@ export class SocketThermalTrack {
     let riseFraction: number | null = null;
     if (fit.good && fit.thetaCPerW !== null) {
       this.latestGood = fit;
-      if (this.baselineThetaCPerW === null) this.baselineThetaCPerW = fit.thetaCPerW;
+      if (this.baselineThetaCPerW === null) this.baselineThetaCPerW = this.settledBaseline(fit.thetaCPerW);
+    }
+    if (fit.good && fit.thetaCPerW !== null && this.baselineThetaCPerW !== null) {
       riseFraction = fit.thetaCPerW / this.baselineThetaCPerW - 1;
       if (riseFraction > THERMAL_PATH_RISE_FRACTION) {
         this.above++;

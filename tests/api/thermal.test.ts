@@ -37,7 +37,7 @@ function messages(n: number): TelemetryLanded[] {
       ibA: 0.005,
       caseTauS: 120,
       thetaCaCPerW: 2,
-      thetaCaRampCPerWPerH: i === 1 ? 6 : 0,
+      thetaCaRampCPerWPerH: i === 1 ? 3 : 0,
       thetaCaMaxCPerW: i === 1 ? 30 : 2,
     })),
   });

@@ -103,19 +103,19 @@ export async function fitsOfSocket(
     [rigId, runId, socket, limit],
   );
   const base: Array<{ theta: number | null }> = await ds.query(
-    `SELECT theta_c_per_w AS theta FROM socket_thermal_fits
-      WHERE rig_id = $1 AND socket_index = $3 AND run_id IS NOT DISTINCT FROM $2 AND good
+    `SELECT baseline_theta_c_per_w AS theta FROM socket_thermal_fits
+      WHERE rig_id = $1 AND socket_index = $3 AND run_id IS NOT DISTINCT FROM $2 AND baseline_theta_c_per_w IS NOT NULL
       ORDER BY identified_at, id LIMIT 1`,
     [rigId, runId, socket],
   );
   return { fits: rows.map(toFit), baselineThetaCPerW: base[0]?.theta ?? null };
 }
 
-/** The run's first good θ per socket (a restarted server keeps comparing against the same baseline). */
+/** The run's baseline θ per socket, as first stored (a restarted server keeps comparing against the same one). */
 export async function baselinesOfRun(ds: DataSource, rigId: string, runId: string): Promise<Map<number, number>> {
   const rows: Array<{ socket_index: number; theta: number }> = await ds.query(
-    `SELECT DISTINCT ON (socket_index) socket_index, theta_c_per_w AS theta FROM socket_thermal_fits
-      WHERE rig_id = $1 AND run_id = $2 AND good ORDER BY socket_index, identified_at, id`,
+    `SELECT DISTINCT ON (socket_index) socket_index, baseline_theta_c_per_w AS theta FROM socket_thermal_fits
+      WHERE rig_id = $1 AND run_id = $2 AND baseline_theta_c_per_w IS NOT NULL ORDER BY socket_index, identified_at, id`,
     [rigId, runId],
   );
   return new Map(rows.map((r) => [Number(r.socket_index), Number(r.theta)]));

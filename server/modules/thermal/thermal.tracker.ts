@@ -26,6 +26,7 @@ interface SocketSlot {
   track: SocketThermalTrack;
   lastStoredTheta: number | null;
   lastStoredAt: number;
+  baselineStored: boolean;
 }
 
 interface RigSlot {
@@ -124,10 +125,12 @@ export class ThermalTracker {
       const i = m.socket[k];
       let s = rig.sockets.get(i);
       if (!s) {
+        const baselineThetaCPerW = rig.baselines.get(i) ?? null;
         s = {
-          track: new SocketThermalTrack(this.trackOptions, { baselineThetaCPerW: rig.baselines.get(i) ?? null }),
+          track: new SocketThermalTrack(this.trackOptions, { baselineThetaCPerW }),
           lastStoredTheta: null,
           lastStoredAt: 0,
+          baselineStored: baselineThetaCPerW !== null,
         };
         rig.sockets.set(i, s);
       }
@@ -149,7 +152,11 @@ export class ThermalTracker {
     const now = Date.now();
     const theta = f.thetaCPerW;
     const moved = theta !== null && (s.lastStoredTheta === null || Math.abs(theta / s.lastStoredTheta - 1) >= STORE_CHANGE_FRACTION);
-    const store = e.trigger !== 'periodic' || e.flag !== null || (f.good && (moved || now - s.lastStoredAt >= STORE_EVERY_MS));
+    // The fit that set the baseline is always stored (a restarted server reads the baseline back).
+    const newBaseline = e.baselineThetaCPerW !== null && !s.baselineStored;
+    const store =
+      e.trigger !== 'periodic' || e.flag !== null || newBaseline || (f.good && (moved || now - s.lastStoredAt >= STORE_EVERY_MS));
+    if (newBaseline) s.baselineStored = true;
     if (store) {
       await insertFit(this.ctx.ds, {
         rigId: m.rigId,
