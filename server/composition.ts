@@ -41,6 +41,7 @@ import type { TelemetryIngest } from './modules/telemetry/ingest';
 import { TelemetryService } from './modules/telemetry/telemetry.service';
 import { UsersService } from './modules/users/users.service';
 import { ReplanService } from './modules/replan/replan.service';
+import { MakeUpService } from './modules/make-up/make-up.service';
 import { UtilisationService } from './modules/utilisation/utilisation.service';
 import { ThermalService } from './modules/thermal/thermal.service';
 import type { ThermalTracker } from './modules/thermal/thermal.tracker';
@@ -73,6 +74,7 @@ export interface Services {
   tripResets: TripResetService;
   replan: ReplanService;
   utilisation: UtilisationService;
+  makeUp: MakeUpService;
   thermal: ThermalService;
   /** Replaced (typed) when protection starts with its own retry options (protection/start.ts). */
   mail: MailService;
@@ -145,6 +147,7 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     tripResets: new TripResetService(ctx),
     replan: new ReplanService(ctx),
     utilisation: new UtilisationService(ctx),
+    makeUp: new MakeUpService(ctx),
     thermal: new ThermalService(ctx),
     mail,
     rigLink: undefined,

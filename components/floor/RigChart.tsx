@@ -5,7 +5,7 @@ import type { FloorChart } from '@/shared/schemas/floor';
 import { formatLocalTime } from '@/shared/domain/format';
 import { endPadding } from '@/components/charts/axis';
 import { HOLD_PHASE_LABEL, type HoldPhase } from '@/shared/holds/words';
-import { TIER_CAPTION } from '@/shared/domain/telemetry-tiers';
+import { KEPT_RAW_CAPTION, TIER_CAPTION } from '@/shared/domain/telemetry-tiers';
 import { bucketText, timeLabel } from '@/components/floor/chart-labels';
 import { colors, fonts, space } from '@/components/theme/tokens';
 import { Text } from '@/components/ui/Text';
@@ -74,6 +74,12 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
     series.map((s) => `${s.name} last ${last(s.data)}`).join('; ') +
     '.' +
     (markText.length ? ` Hold steps: ${markText.join('; ')}.` : '');
+  // Which tier the chart read (raw, per-minute or hourly; raw kept around events): shown with or without data.
+  const tierCaption = (
+    <Text variant="caption" tone="muted" style={{ paddingHorizontal: space.xs }} testID="chart-tier">
+      {chart.keptRaw ? KEPT_RAW_CAPTION : TIER_CAPTION[chart.source]}, one point per {bucketText(chart.bucketMs)}.
+    </Text>
+  );
   return (
     <View
       testID={testID}
@@ -83,7 +89,10 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
       accessibilityLabel={description}
     >
       {series.length === 0 ? (
-        <Text tone="muted">No telemetry in this period.</Text>
+        <>
+          <Text tone="muted">No telemetry in this period.</Text>
+          {tierCaption}
+        </>
       ) : width > 0 ? (
         <>
           <VictoryChart
@@ -139,9 +148,7 @@ export function RigChart({ chart, testID }: { chart: FloorChart; testID?: string
               ))}
             </View>
           ) : null}
-          <Text variant="caption" tone="muted" style={{ paddingHorizontal: space.xs }}>
-            {TIER_CAPTION[chart.source]}, one point per {bucketText(chart.bucketMs)}.
-          </Text>
+          {tierCaption}
         </>
       ) : null}
     </View>

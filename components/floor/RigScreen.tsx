@@ -36,6 +36,9 @@ const SPANS = [
   { value: '1h', label: '1 hour' },
   { value: '6h', label: '6 hours' },
   { value: '24h', label: '24 hours' },
+  { value: '7d', label: '7 days' },
+  { value: '30d', label: '30 days' },
+  { value: '1y', label: '1 year' },
 ] as const;
 const MAX_PLOTTED = 8;
 

@@ -1,7 +1,8 @@
 /**
  * One qualification: the matrix of stress groups × lots (cards on a phone, a grid from 1024 px),
- * what is left and the projected finish, the report downloads, and — for engineers — a cell's
- * planned sample, a waiver with its reason, or an outside result for a group with no run here.
+ * what is left and the projected finish, the report downloads, a cell's drift chart (its runs), and
+ * — for engineers — a cell's planned sample, a waiver with its reason, an outside result for a group
+ * with no run here, and the withdrawal of a waiver or outside result (kept on record).
  */
 import { router, useLocalSearchParams, type Href } from 'expo-router';
 import { useState } from 'react';
@@ -26,9 +27,11 @@ import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { LOT_VERDICT_LABEL } from '@/shared/domain/verdicts';
 import type { QualGroup } from '@/shared/qualification/templates';
-import { CELL_STATE_LABEL, QUAL_STATUS_LABEL, WAIVER_REASON_MIN, basisWords } from '@/shared/qualification/words';
+import { CELL_STATE_LABEL, QUAL_STATUS_LABEL, WAIVER_REASON_MIN, WITHDRAWN_RECORD_LABEL, basisWords } from '@/shared/qualification/words';
 import type { QualCellView, QualificationDetail } from '@/shared/schemas/qualifications';
+import { CellDrift } from './CellDrift';
 import { CELL_TONE, STATUS_TONE } from './labels';
+import { WithdrawRecord } from './WithdrawRecord';
 
 const sampleText = (c: QualCellView) =>
   c.sample
@@ -172,7 +175,9 @@ function CellEditor({ d, c }: { d: QualificationDetail; c: QualCellView }) {
             size="sm"
             disabled={reason.trim().length < WAIVER_REASON_MIN}
             busy={change.isPending && change.variables?.kind === 'waiver'}
-            onPress={() => change.mutate({ kind: 'waiver', cellId: c.id, body: { reason: reason.trim() } })}
+            onPress={() =>
+              change.mutate({ kind: 'waiver', cellId: c.id, body: { reason: reason.trim() } }, { onSuccess: () => setReason('') })
+            }
             testID="qual-cell-waive"
           />
         </View>
@@ -213,8 +218,9 @@ function CellEditor({ d, c }: { d: QualificationDetail; c: QualCellView }) {
   );
 }
 
-function CellPanel({ d, c, canEdit }: { d: QualificationDetail; c: QualCellView; canEdit: boolean }) {
+function CellPanel({ d, c, canEdit, canWithdraw }: { d: QualificationDetail; c: QualCellView; canEdit: boolean; canWithdraw: boolean }) {
   const g = d.groups.find((x) => x.key === c.groupKey)!;
+  const [drift, setDrift] = useState(false);
   return (
     <Card title={`${g.name} · lot ${c.lotCode}`} description={`${g.method}: ${g.conditions}`} testID="qual-cell-panel">
       <View style={{ gap: space.sm }}>
@@ -260,6 +266,26 @@ function CellPanel({ d, c, canEdit }: { d: QualificationDetail; c: QualCellView;
           <Text variant="caption" testID="qual-cell-waiver">
             Waived by {c.waiver.by}, {formatDateTime(c.waiver.at)}: “{c.waiver.reason}”
           </Text>
+        ) : null}
+        {canWithdraw && c.waiver ? <WithdrawRecord qualificationId={d.id} cellId={c.id} record="waiver" /> : null}
+        {canWithdraw && c.external ? <WithdrawRecord qualificationId={d.id} cellId={c.id} record="external" /> : null}
+        {c.withdrawn.map((w) => (
+          <Text key={`${w.record}-${w.at}`} variant="caption" tone="muted" testID="qual-cell-withdrawn">
+            Withdrawn {WITHDRAWN_RECORD_LABEL[w.record]} (“{w.text}”, recorded by {w.recordedBy}): withdrawn by {w.by},{' '}
+            {formatDateTime(w.at)} — {w.reason}
+          </Text>
+        ))}
+        {c.planKind !== null && c.runs.length > 0 ? (
+          <View style={{ gap: space.xs }}>
+            <Button
+              label={drift ? 'Hide drift chart' : 'Show drift chart'}
+              size="sm"
+              variant="secondary"
+              onPress={() => setDrift((x) => !x)}
+              testID="qual-cell-drift-toggle"
+            />
+            {drift ? <CellDrift qualificationId={d.id} cellId={c.id} /> : null}
+          </View>
         ) : null}
         {c.projectedFinish ? <Text variant="caption">Projected finish {formatDateTime(c.projectedFinish)}</Text> : null}
         {c.projectionNote ? (
@@ -312,7 +338,7 @@ function Detail({ d }: { d: QualificationDetail }) {
       </Text>
       {bp.gtTablet ? <Grid d={d} selected={selected} onSelect={setSelected} /> : <Cards d={d} selected={selected} onSelect={setSelected} />}
       {cell ? (
-        <CellPanel d={d} c={cell} canEdit={can('qualification.edit')} />
+        <CellPanel key={cell.id} d={d} c={cell} canEdit={can('qualification.edit')} canWithdraw={can('qualification.withdraw')} />
       ) : (
         <Text variant="caption" tone="muted">
           Choose a cell for its runs, sample and verdict.

@@ -47,8 +47,23 @@ export function useRigBoard(code: string) {
   });
 }
 
-export type ChartSpan = '15m' | '1h' | '6h' | '24h';
-export const CHART_SPAN_MS: Record<ChartSpan, number> = { '15m': 15 * 60_000, '1h': 3_600_000, '6h': 6 * 3_600_000, '24h': 24 * 3_600_000 };
+export type ChartSpan = '15m' | '1h' | '6h' | '24h' | '7d' | '30d' | '1y';
+const DAY_MS = 24 * 3_600_000;
+export const CHART_SPAN_MS: Record<ChartSpan, number> = {
+  '15m': 15 * 60_000,
+  '1h': 3_600_000,
+  '6h': 6 * 3_600_000,
+  '24h': DAY_MS,
+  '7d': 7 * DAY_MS,
+  '30d': 30 * DAY_MS,
+  '1y': 365 * DAY_MS,
+};
+/**
+ * Spans of days and more read hourly rollups (shared/domain/telemetry-tiers.ts): a point covers
+ * hours, so they refresh every few minutes instead of with each tile event.
+ */
+export const LONG_CHART_SPANS: ReadonlySet<string> = new Set<ChartSpan>(['7d', '30d', '1y']);
+export const LONG_CHART_REFRESH_MS = 5 * 60_000;
 
 export function useRigChart(code: string, span: ChartSpan, sockets: number[], points = 300) {
   const list = [...sockets].sort((a, b) => a - b).join(',');
@@ -60,7 +75,8 @@ export function useRigChart(code: string, span: ChartSpan, sockets: number[], po
       const q = `from=${enc(from.toISOString())}&to=${enc(to.toISOString())}&points=${points}${list ? `&sockets=${list}` : ''}`;
       return api<FloorChart>(`/api/floor/rigs/${enc(code)}/chart?${q}`, { signal });
     },
-    staleTime: CHART_REFRESH_MS,
+    staleTime: LONG_CHART_SPANS.has(span) ? LONG_CHART_REFRESH_MS : CHART_REFRESH_MS,
+    refetchInterval: LONG_CHART_SPANS.has(span) ? LONG_CHART_REFRESH_MS : false,
     placeholderData: (prev) => prev,
     enabled: !!code,
   });
@@ -110,7 +126,10 @@ export function useFloorStream(): StreamState {
       const now = Date.now();
       if (now - (lastChart.get(tile.code) ?? 0) >= CHART_REFRESH_MS) {
         lastChart.set(tile.code, now);
-        void qc.invalidateQueries({ queryKey: floorKeys.charts(tile.code) });
+        void qc.invalidateQueries({
+          queryKey: floorKeys.charts(tile.code),
+          predicate: (q) => !LONG_CHART_SPANS.has(String(q.queryKey[3])),
+        });
       }
     });
     return () => es.close();

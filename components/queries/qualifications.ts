@@ -3,11 +3,13 @@ import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type {
   CreateQualificationInput,
   ExternalResultInput,
+  QualCellDrift,
   QualificationDetail,
   QualificationSummary,
   QualTemplateView,
   UpdateCellInput,
   WaiveCellInput,
+  WithdrawCellInput,
 } from '@/shared/schemas/qualifications';
 import { api } from './api';
 
@@ -16,6 +18,7 @@ const keys = {
   templates: ['qualifications', 'templates'] as const,
   list: ['qualifications', 'list'] as const,
   one: (id: string) => ['qualifications', 'one', id] as const,
+  drift: (id: string, cellId: string) => ['qualifications', 'one', id, 'drift', cellId] as const,
 };
 
 export const qualificationReportUrl = (id: string, ext: 'pdf' | 'csv') => `/api/qualifications/${encodeURIComponent(id)}/report.${ext}`;
@@ -58,7 +61,8 @@ export function useCreateQualification() {
 type CellChange =
   | { kind: 'update'; cellId: string; body: UpdateCellInput }
   | { kind: 'waiver'; cellId: string; body: WaiveCellInput }
-  | { kind: 'external'; cellId: string; body: ExternalResultInput };
+  | { kind: 'external'; cellId: string; body: ExternalResultInput }
+  | { kind: 'withdraw'; cellId: string; body: WithdrawCellInput };
 
 export function useChangeCell(id: string) {
   const qc = useQueryClient();
@@ -72,5 +76,15 @@ export function useChangeCell(id: string) {
       qc.setQueryData(keys.one(id), d);
       return qc.invalidateQueries({ queryKey: keys.list });
     },
+  });
+}
+
+/** A cell's drift (the runs its verdict judged, this lot's devices), for the lot chart; fetched when the cell's chart is opened. */
+export function useCellDrift(id: string, cellId: string | null) {
+  return useQuery({
+    queryKey: keys.drift(id, cellId ?? ''),
+    queryFn: ({ signal }) =>
+      api<QualCellDrift>(`/api/qualifications/${encodeURIComponent(id)}/cells/${encodeURIComponent(cellId ?? '')}/drift`, { signal }),
+    enabled: !!cellId,
   });
 }

@@ -34,6 +34,7 @@ import type { RunAction, RunDetail, RunSocket, SocketFlag, SocketLoadResult } fr
 import { RUN_STATE_TONE, columnToSocketMap, hours } from './run-look';
 import { RunChamberCard } from './RunChamber';
 import { RunCyclesCard, socketCyclesText } from './RunCycles';
+import { RunMakeUpCard } from './RunMakeUp';
 import { countOf } from '@/shared/domain/format';
 
 const AUDIT_LABEL: Record<string, string> = {
@@ -565,6 +566,7 @@ export function RunDetailScreen({ id }: { id: string }) {
                 </View>
               </Card>
               <HoldCard run={run} />
+              <RunMakeUpCard runId={run.id} />
               {run.allowedActions.length ? (
                 <Card title="Actions">
                   <Actions run={run} may={may} />

@@ -21,8 +21,13 @@ const BAND_INNER = '#8FB0D6';
 const CENTRE = '#1E4F86';
 const FIT = '#6B3FA0';
 
+/** What the chart reads: a lot view (the lot screen) or a qualification cell's drift (its runs only). */
+export type DistributionSource = Pick<LotDetail, 'lotCode' | 'readPoints' | 'trends' | 'criteria' | 'readPointsH'> & {
+  plan: { durationH: number } | null;
+};
+
 /** The lot's spread at each read point (5–95 % and 25–75 % bands, median), its limit and fitted trend. */
-export function LotDistributionChart({ lot }: { lot: LotDetail }) {
+export function LotDistributionChart({ lot }: { lot: DistributionSource }) {
   const [param, setParam] = useState<Param>('hfe');
   const [width, setWidth] = useState(0);
   const phone = width > 0 && width < 600;

@@ -26,6 +26,7 @@ import { deviceHistoryRoutes } from './device-history/device-history.routes';
 import { replanRoutes } from './replan/replan.routes';
 import { utilisationRoutes } from './utilisation/utilisation.routes';
 import { qualificationsRoutes } from './qualifications/qualifications.routes';
+import { makeUpRoutes } from './make-up/make-up.routes';
 import { thermalRoutes } from './thermal/thermal.routes';
 
 /** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
@@ -56,6 +57,7 @@ export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
   replanRoutes,
   utilisationRoutes,
   qualificationsRoutes,
+  makeUpRoutes,
   thermalRoutes,
 ];
 

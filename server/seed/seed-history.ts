@@ -11,6 +11,7 @@ import type { DataSource, EntityManager } from 'typeorm';
 import { In } from 'typeorm';
 import { ON_RIG_STATES } from '../../shared/domain/run-states';
 import { isPoweredKindName } from '../../shared/domain/stress';
+import { junctionFromTelemetry } from '../../shared/physics';
 import type { PlanKind } from '../../shared/schemas/plans';
 import {
   DeviceEntity,
@@ -100,12 +101,23 @@ export const HEAT_SUNK_CASE_RISE_C = 4;
 
 /**
  * The junction a demo history run's telemetry would have shown: the chamber under reverse bias
- * (leakage power is negligible), the heat-sunk case plus θjc × VCE·IC under powered bias.
+ * (leakage power is negligible), the case plus θjc × VCE·IC under powered bias — on a heat-sunk
+ * board (the demo's default) or a free-air one (the qualification's group C life run).
  */
-export function historyJunctionC(plan: StressPlanEntity, type: DeviceTypeEntity): number {
-  const p = (plan.bias?.vceV ?? 0) * (plan.bias?.icA ?? 0);
+export function historyJunctionC(
+  plan: Pick<StressPlanEntity, 'kind' | 'chamberC' | 'bias'>,
+  type: Pick<DeviceTypeEntity, 'thetaJcCPerW' | 'thetaJaCPerW'>,
+  board: 'heat-sunk' | 'free-air' = 'heat-sunk',
+): number {
+  const vV = plan.bias?.vceV ?? 0;
+  const iA = plan.bias?.icA ?? 0;
+  const p = vV * iA;
   if (!isPoweredKindName(plan.kind) || !(p > 0)) return plan.chamberC;
-  return plan.chamberC + HEAT_SUNK_CASE_RISE_C + type.thetaJcCPerW * p;
+  // The case temperature the socket's telemetry reports: a heat-sunk board holds it a few kelvin
+  // over the chamber; on a free-air board the case rises by (θja − θjc)·P, so the estimate
+  // case + θjc·P comes to the plan's own junction, chamber + θja·P (JESD51 definitions).
+  const caseC = board === 'heat-sunk' ? plan.chamberC + HEAT_SUNK_CASE_RISE_C : plan.chamberC + (type.thetaJaCPerW - type.thetaJcCPerW) * p;
+  return junctionFromTelemetry({ caseC, vV, iA, thetaJcCPerW: type.thetaJcCPerW });
 }
 
 /** Wall-clock time of each read point: 24 h hold per earlier read point, bias off at the read point. */
@@ -408,7 +420,7 @@ interface DemoRun {
  *   failures at 1000 h, one device lost (disposition); 45 devices split over OV-04 (32) and OV-03 (13).
  * - HG2608-F insufficient sample: 48 of the plan's 77 (the humidity chamber's board), deviation recorded.
  * - HG2612-C in progress (and drifting against its sister lots): 620 h of 1000, 77 devices split
- *   over OV-01 and OV-02.
+ *   over OV-01 and OV-02; one lost and one damaged at 500 h, so its run page proposes a make-up of two.
  */
 const DEMO_RUNS: DemoRun[] = [
   {
@@ -487,6 +499,16 @@ const DEMO_RUNS: DemoRun[] = [
     ],
     state: 'stressing',
     startedDaysAgo: 28,
+    // Two devices out of the sample at 500 h: the run page offers a make-up of two (make-up planning).
+    removed: [
+      {
+        serial: 'C0010',
+        atH: 500,
+        kind: 'lost',
+        reason: 'Not in the carrier after the 500 h read point; searched the tester and the oven.',
+      },
+      { serial: 'C0031', atH: 500, kind: 'damaged', reason: 'Collector lead bent while unloading for the 500 h read point.' },
+    ],
   },
 ];
 

@@ -64,6 +64,8 @@ export const PERMISSIONS = {
   // Qualifications (issue #22): engineers build and edit the matrix; managers read and download.
   'qualification.read': ['engineer', 'manager', 'admin'],
   'qualification.edit': ['engineer'],
+  // Withdrawing a cell's waiver or outside result (kept on record, audited).
+  'qualification.withdraw': ['engineer'],
   'audit.read': ['admin', 'manager'],
   // Re-planning after a rig drops out and the lab's utilisation (issue #26): engineers and managers
   // accept a proposal (audited); managers read the figures, engineers too.

@@ -46,6 +46,20 @@ export function chartTier(fromMs: number, toMs: number, nowMs: number, windows: 
   return tier;
 }
 
+/**
+ * A chart short enough for raw messages (span up to CHART_RAW_SPAN_MS) whose start is older than the
+ * raw window: its day was dropped, and raw messages survive only in the windows kept for good around
+ * trips, alarms and read points (telemetry_kept). The chart reads those when the span holds any, and
+ * the tier `chartTier` gives otherwise.
+ */
+export function readsKeptRaw(fromMs: number, toMs: number, nowMs: number, windows: TierWindows): boolean {
+  return toMs - fromMs <= CHART_RAW_SPAN_MS && chartTier(fromMs, toMs, nowMs, windows) !== 'raw';
+}
+
+/** The chart caption's words for the raw messages kept around trips, alarms and read points. */
+export const KEPT_RAW_CAPTION =
+  'From every sample kept around trips, alarms and read points (the rest of that day’s raw samples is no longer kept)';
+
 /** The chart caption's words for each tier. */
 export const TIER_CAPTION: Record<TelemetryTier, string> = {
   raw: 'From every sample',

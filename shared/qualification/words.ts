@@ -33,3 +33,6 @@ export const QUAL_STATUS_LABEL: Record<QualificationStatus, string> = {
 /** Least words for a family's generic-data rule (qualifying several device types on shared data). */
 export const FAMILY_RULE_MIN = 20;
 export const WAIVER_REASON_MIN = 10;
+
+/** What a withdrawal takes back from a cell, in words (screen, report, CSV). */
+export const WITHDRAWN_RECORD_LABEL = { waiver: 'waiver', external: 'outside result' } as const;

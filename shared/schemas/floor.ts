@@ -117,6 +117,8 @@ export interface FloorChart {
   to: string;
   /** The tier the chart was read from: 'raw' = every sample, 'minute' / 'hour' = per-minute / hourly rollups (shared/domain/telemetry-tiers.ts). */
   source: TelemetryTier;
+  /** A raw chart past the raw window, read from the messages kept around trips, alarms and read points (telemetry_kept). */
+  keptRaw: boolean;
   bucketMs: number;
   chamber: ChartPoint[];
   sockets: Array<{ socket: number; points: ChartPoint[] }>;

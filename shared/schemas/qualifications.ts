@@ -8,10 +8,13 @@
  *   PATCH /api/qualifications/:id/cells/:cellId               planned sample / accept number
  *   POST  /api/qualifications/:id/cells/:cellId/waiver        waive a cell, with a reason
  *   POST  /api/qualifications/:id/cells/:cellId/external      a result from outside (ESD, DPA, …)
+ *   POST  /api/qualifications/:id/cells/:cellId/withdraw      withdraw the cell's waiver or outside result, with a reason
+ *   GET   /api/qualifications/:id/cells/:cellId/drift         the cell's drift (its judged runs, this lot's devices)
  *   GET   /api/qualifications/:id/report.pdf | report.csv     the qualification report
  */
 import { z } from 'zod';
 import type { LotVerdict } from '../domain/verdicts';
+import type { LotDetail } from './analytics';
 import {
   FAMILY_RULE_MIN,
   QUAL_TEMPLATE_KEYS,
@@ -74,6 +77,31 @@ export const externalResultSchema = z.object({
 });
 export type ExternalResultInput = z.infer<typeof externalResultSchema>;
 
+export const WITHDRAWABLE_RECORDS = ['waiver', 'external'] as const;
+export type WithdrawableRecord = (typeof WITHDRAWABLE_RECORDS)[number];
+
+export const withdrawCellSchema = z.object({
+  record: z.enum(WITHDRAWABLE_RECORDS, 'Say what to withdraw: the waiver or the outside result'),
+  reason: z
+    .string({ error: 'A withdrawal needs a reason' })
+    .trim()
+    .min(WAIVER_REASON_MIN, `Write at least ${WAIVER_REASON_MIN} characters on why it is withdrawn`)
+    .max(2000),
+});
+export type WithdrawCellInput = z.infer<typeof withdrawCellSchema>;
+
+/** A waiver or outside result withdrawn from the cell: what it said, and who withdrew it, when and why. */
+export interface QualCellWithdrawal {
+  record: WithdrawableRecord;
+  /** The withdrawn record in words (the waiver's reason; the outside result's pass/fail, laboratory and document). */
+  text: string;
+  recordedBy: string;
+  recordedAt: string;
+  reason: string;
+  by: string;
+  at: string;
+}
+
 export interface QualTemplateView extends QualTemplate {
   key: QualTemplateKey;
 }
@@ -106,6 +134,8 @@ export interface QualCellView {
   runs: QualCellRun[];
   waiver: { reason: string; by: string; at: string } | null;
   external: { result: 'pass' | 'fail'; by: string; at: string; document: string; recordedBy: string } | null;
+  /** Waivers and outside results withdrawn from this cell, oldest first (kept on record). */
+  withdrawn: QualCellWithdrawal[];
   /** When the cell can be done: its runs' projected end, or the best proposal for a new run. */
   projectedFinish: string | null;
   projectionNote: string | null;
@@ -137,4 +167,19 @@ export interface QualificationDetail extends QualificationSummary {
   left: string[];
   projectedFinish: string | null;
   projectionNote: string | null;
+}
+
+/**
+ * A cell's drift: the lot's devices on the runs its verdict judged (the sample of the cell's kind),
+ * in the shape the lot screen's spread chart reads (read-point distributions and the typical
+ * device's fitted path, with the plan's limits).
+ */
+export interface QualCellDrift extends Pick<LotDetail, 'lotCode' | 'criteria' | 'readPointsH' | 'readPoints' | 'trends'> {
+  cellId: string;
+  groupKey: string;
+  planName: string | null;
+  runCodes: string[];
+  plan: { durationH: number } | null;
+  /** Why there is nothing to chart, else null. */
+  note: string | null;
 }

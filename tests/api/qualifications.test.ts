@@ -14,17 +14,20 @@ import {
   DeviceEntity,
   DeviceTypeEntity,
   LotEntity,
+  QualificationCellWithdrawalEntity,
   RigEntity,
   RunEntity,
   RunLotEntity,
   StressPlanEntity,
 } from '../../server/db/entities';
 import { insertHistoryRun } from '../../server/seed/seed-history';
+import { transitionRun } from '../../server/modules/runs/run-engine';
 import type { LotDetail } from '../../shared/schemas/analytics';
-import type { QualificationDetail } from '../../shared/schemas/qualifications';
+import type { QualCellDrift, QualCellView, QualificationDetail } from '../../shared/schemas/qualifications';
 import { QUAL_TEMPLATES } from '../../shared/qualification/templates';
 import { createTestApp, type TestApp } from '../support/api';
 import { insertTestDeviceType, tableCounts } from '../support/db';
+import { pdfText } from '../support/pdf-text';
 
 let t: TestApp;
 const ids: Record<string, string> = {};
@@ -192,7 +195,8 @@ describe('create from a template', () => {
     expect(c.state).toBe('booked');
     expect(c.projectedFinish).not.toBeNull();
     expect(c.runs[0].projectedEnd).toBe(c.projectedFinish);
-    expect(Date.parse(c.projectedFinish!)).toBeGreaterThanOrEqual(start.getTime());
+    // Hand computation: a booking in the future keeps its window, start + (scheduledEnd − scheduledStart) = start + 1100 h.
+    expect(Date.parse(c.projectedFinish!)).toBe(start.getTime() + 1100 * 3600_000);
 
     await m.delete(RunEntity, { id: booked.id });
     await insertHistoryRun(m, {
@@ -287,6 +291,129 @@ describe('waivers and outside results', () => {
   });
 });
 
+describe('withdrawing a waiver or an outside result', () => {
+  const reason = 'The customer did not accept the similarity argument; solderability is to be tested on this lot.';
+
+  test('wrong roles are refused, bad input is refused by the schema; nothing changes', async () => {
+    const cell = cellsOf(qual, 'sd')[0];
+    const url = `/api/qualifications/${qual.id}/cells/${cell.id}/withdraw`;
+    const mgr = await t.signIn('manager');
+    const op = await t.signIn('operator');
+    const eng = await t.signIn('engineer');
+    const before = await tableCounts(t.ctx.ds);
+    expect((await mgr.post(url).send({ record: 'waiver', reason })).status).toBe(403);
+    expect((await op.post(url).send({ record: 'waiver', reason })).status).toBe(403);
+    const noReason = await eng.post(url).send({ record: 'waiver' });
+    expect(noReason.status).toBe(400);
+    expect(noReason.body.error.fields.reason[0]).toBe('A withdrawal needs a reason');
+    const short = await eng.post(url).send({ record: 'waiver', reason: ' too short ' });
+    expect(short.status).toBe(400);
+    expect(short.body.error.fields.reason[0]).toMatch(/at least 10 characters/);
+    const what = await eng.post(url).send({ record: 'verdict', reason });
+    expect(what.status).toBe(400);
+    expect(what.body.error.fields.record[0]).toBe('Say what to withdraw: the waiver or the outside result');
+    expect(
+      (await eng.post(`/api/qualifications/${qual.id}/cells/${randomUUID()}/withdraw`).send({ record: 'waiver', reason })).status,
+    ).toBe(404);
+    // The cell has a waiver but no outside result.
+    const none = await eng.post(url).send({ record: 'external', reason });
+    expect(none.status).toBe(409);
+    expect(none.body.error.message).toMatch(/no outside result to withdraw/);
+    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+  });
+
+  test('a waiver withdrawn: the record is kept and audited, the cell returns to its own state; twice is a 409 that changes nothing', async () => {
+    const eng = await t.signIn('engineer');
+    const cell = cellsOf(qual, 'sd')[0];
+    const current: QualificationDetail = (await eng.get(`/api/qualifications/${qual.id}`)).body;
+    const waiver = current.cells.find((c) => c.id === cell.id)!.waiver!;
+    expect(waiver.reason).toMatch(/Same lead frame/);
+    const ok = await eng.post(`/api/qualifications/${qual.id}/cells/${cell.id}/withdraw`).send({ record: 'waiver', reason });
+    expect(ok.status).toBe(200);
+    const after: QualCellView = ok.body.cells.find((c: QualCellView) => c.id === cell.id);
+    // Solderability has no run kind and no outside result: back to not started.
+    expect(after.state).toBe('not-started');
+    expect(after.waiver).toBeNull();
+    expect(after.withdrawn).toEqual([
+      {
+        record: 'waiver',
+        text: waiver.reason,
+        recordedBy: 'Test engineer',
+        recordedAt: waiver.at,
+        reason,
+        by: 'Test engineer',
+        at: expect.any(String),
+      },
+    ]);
+    expect(ok.body.cellsDone).toBe(current.cellsDone - 1);
+    const audit = await t.ctx.ds.getRepository(AuditLogEntity).findOneBy({ action: 'qualification.cell-withdraw', entityId: qual.id });
+    expect(audit?.reason).toBe(reason);
+    expect(audit?.details).toMatchObject({ cellId: cell.id, record: 'waiver', withdrawn: { text: waiver.reason } });
+
+    const before = await tableCounts(t.ctx.ds);
+    const again = await eng.post(`/api/qualifications/${qual.id}/cells/${cell.id}/withdraw`).send({ record: 'waiver', reason });
+    expect(again.status).toBe(409);
+    expect(again.body.error.message).toBe('This cell has no waiver to withdraw; it may have been withdrawn already.');
+    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+
+    // The cell can be waived anew; the withdrawn waiver stays on its record.
+    const rewaive = await eng
+      .post(`/api/qualifications/${qual.id}/cells/${cell.id}/waiver`)
+      .send({ reason: 'Solderability shown on the sister part HPD-Q050 with the customer’s written agreement.' });
+    expect(rewaive.status).toBe(200);
+    const re: QualCellView = rewaive.body.cells.find((c: QualCellView) => c.id === cell.id);
+    expect(re.state).toBe('waived');
+    expect(re.withdrawn).toHaveLength(1);
+    qual = rewaive.body;
+  });
+
+  test('two withdrawals of one waiver at once: one is recorded, the other gets the 409', async () => {
+    const eng = await t.signIn('engineer');
+    const pd = cellsOf(qual, 'pd')[0];
+    const waived = await eng
+      .post(`/api/qualifications/${qual.id}/cells/${pd.id}/waiver`)
+      .send({ reason: 'Outline drawing shared with HPD-Q050, measured on its release.' });
+    expect(waived.status).toBe(200);
+    const url = `/api/qualifications/${qual.id}/cells/${pd.id}/withdraw`;
+    const answers = await Promise.all(
+      [1, 2].map(() => eng.post(url).send({ record: 'waiver', reason: 'The drawing changed in revision C; measure this lot.' })),
+    );
+    expect(answers.map((a) => a.status).sort()).toEqual([200, 409]);
+    const rows = await t.ctx.ds.getRepository(QualificationCellWithdrawalEntity).findBy({ cellId: pd.id });
+    expect(rows).toHaveLength(1);
+    qual = (await eng.get(`/api/qualifications/${qual.id}`)).body;
+  });
+
+  test('an outside result withdrawn: the cell is open again and takes a new result', async () => {
+    const eng = await t.signIn('engineer');
+    const esd = cellsOf(qual, 'esd-hbm')[0];
+    expect(esd.state).toBe('passed');
+    const ok = await eng
+      .post(`/api/qualifications/${qual.id}/cells/${esd.id}/withdraw`)
+      .send({ record: 'external', reason: 'The ESD bench was out of calibration on the test date (HPD-CAL-0412).' });
+    expect(ok.status).toBe(200);
+    const after: QualCellView = ok.body.cells.find((c: QualCellView) => c.id === esd.id);
+    expect(after.state).toBe('not-started');
+    expect(after.external).toBeNull();
+    expect(after.withdrawn[0]).toMatchObject({
+      record: 'external',
+      text: 'pass - Harrowgate ESD bench, tested 2026-11-02 10:00 UTC, document HPD-ESD-0412',
+      recordedBy: 'Test engineer',
+      recordedAt: '2026-11-02T10:00:00.000Z',
+    });
+    const twice = await eng
+      .post(`/api/qualifications/${qual.id}/cells/${esd.id}/withdraw`)
+      .send({ record: 'external', reason: 'The ESD bench was out of calibration on the test date (HPD-CAL-0412).' });
+    expect(twice.status).toBe(409);
+    const again = await eng
+      .post(`/api/qualifications/${qual.id}/cells/${esd.id}/external`)
+      .send({ result: 'pass', by: 'Harrowgate ESD bench', at: '2026-11-20T10:00:00Z', document: 'HPD-ESD-0412-R' });
+    expect(again.status).toBe(200);
+    expect(again.body.cells.find((c: QualCellView) => c.id === esd.id).state).toBe('passed');
+    qual = again.body;
+  });
+});
+
 describe('bad input and roles', () => {
   test('a family needs its generic-data rule; a lot of another part is refused; nothing changes', async () => {
     const eng = await t.signIn('engineer');
@@ -341,6 +468,43 @@ describe('bad input and roles', () => {
   });
 });
 
+describe("a cell's drift", () => {
+  test("the cell's runs give the lot screen's own distributions; a cell without runs or with no run kind says why", async () => {
+    const mgr = await t.signIn('manager');
+    const [a, b] = cellsOf(qual, 'htrb');
+    const drift: QualCellDrift = (await mgr.get(`/api/qualifications/${qual.id}/cells/${a.id}/drift`)).body;
+    const view: LotDetail = (await mgr.get(`/api/analytics/lots/${ids['HG9801-A']}`)).body;
+    // HG9801-A has one run (R-QA): the cell's chart and the lot screen's chart read the same numbers.
+    expect(drift.runCodes).toEqual(['R-QA']);
+    expect(drift.note).toBeNull();
+    expect(drift.readPoints).toEqual(view.readPoints);
+    expect(drift.trends).toEqual(view.trends);
+    expect(drift.criteria).toEqual(view.criteria);
+    expect(drift.readPoints.map((r) => [r.hours, r.devicesMeasured])).toEqual([
+      [0, 20],
+      [168, 20],
+      [500, 20],
+      [1000, 20],
+    ]);
+    // Noise-free history with -2 %/1000 h (insertHistoryRun, noise 0): the mean hFE change at 1000 h is -2 % (hand computation).
+    expect(drift.readPoints[3].hfeChangePct!.mean).toBeCloseTo(-2, 6);
+    const under: QualCellDrift = (await mgr.get(`/api/qualifications/${qual.id}/cells/${b.id}/drift`)).body;
+    expect(under.runCodes).toEqual(['R-QB']);
+    expect(under.readPoints.map((r) => r.hours)).toEqual([0, 168, 500]);
+    const tc = cellsOf(qual, 'tc')[0];
+    expect((await mgr.get(`/api/qualifications/${qual.id}/cells/${tc.id}/drift`)).body).toMatchObject({
+      runCodes: [],
+      readPoints: [],
+      note: 'No run of this kind on this lot yet.',
+    });
+    const esd = cellsOf(qual, 'esd-hbm')[0];
+    expect((await mgr.get(`/api/qualifications/${qual.id}/cells/${esd.id}/drift`)).body.note).toMatch(/recorded from outside/);
+    expect((await mgr.get(`/api/qualifications/${qual.id}/cells/${randomUUID()}/drift`)).status).toBe(404);
+    const op = await t.signIn('operator');
+    expect((await op.get(`/api/qualifications/${qual.id}/cells/${a.id}/drift`)).status).toBe(403);
+  });
+});
+
 describe('report', () => {
   test('PDF: a real PDF of several pages', async () => {
     const mgr = await t.signIn('manager');
@@ -359,6 +523,40 @@ describe('report', () => {
     expect(pdf.length).toBeGreaterThan(5000);
     const pages = pdf.toString('latin1').match(/\/Type \/Page\b/g) ?? [];
     expect(pages.length).toBeGreaterThanOrEqual(2);
+  });
+
+  test("the PDF's cell table states each cell's sample, failures and verdict as the lot views, and its runs as the run views", async () => {
+    const mgr = await t.signIn('manager');
+    const d: QualificationDetail = (await mgr.get(`/api/qualifications/${qual.id}`)).body;
+    const res = await mgr
+      .get(`/api/qualifications/${qual.id}/report.pdf`)
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on('data', (c: Buffer) => chunks.push(c));
+        r.on('end', () => cb(null, Buffer.concat(chunks)));
+      });
+    expect(res.status).toBe(200);
+    const flat = pdfText(res.body as Buffer).replace(/\s+/g, ' ');
+    const verdictWord: Record<string, string> = { passed: 'Passed', failed: 'Failed', 'in-progress': 'In progress' };
+    const stateWord: Record<string, string> = { passed: 'Passed', failed: 'Failed', 'under-stress': 'Under stress' };
+    let compared = 0;
+    for (const c of cellsOf(d, 'htrb')) {
+      const view: LotDetail = (await mgr.get(`/api/analytics/lots/${c.lotId}`)).body;
+      const p = view.plans.find((x) => x.kind === 'htrb')!;
+      // "planned (c accept), booked, judged, failed" then "state / verdict", as the cell table prints them.
+      const row = `${c.plannedSample} (c ${c.acceptNumber}), ${p.sample.booked}, ${p.sample.judged}, ${p.sample.failures} ${stateWord[c.state]} / ${verdictWord[p.verdict]}`;
+      expect(flat).toContain(row);
+      for (const r of c.runs) {
+        const run = (await mgr.get(`/api/runs/${r.id}`)).body;
+        expect(flat).toContain(`${run.code} (${run.rig.code}, ${run.state}, ${run.stressHours} h)`);
+        compared++;
+      }
+    }
+    expect(compared).toBe(3);
+    // Drift charts per cell: each HTRB cell's judged run, this lot's devices.
+    for (const run of ['R-QA', 'R-QB', 'R-QC'])
+      expect(flat).toContain(`High-temperature reverse bias (HTRB): hFE change from time zero (run ${run})`);
   });
 
   test("the CSV's numbers per cell match the lot views (sample, failures, FIT, verdict)", async () => {
@@ -390,6 +588,104 @@ describe('report', () => {
     }
     expect(compared).toBeGreaterThanOrEqual(2);
     expect(res.text).toMatch(/Waiver,Solderability,HG9801-A/);
+    // Withdrawn records stay on the report with who withdrew them and why.
+    const withdrawn = rows.filter((r) => r[0] === 'Withdrawn');
+    expect(withdrawn.map((r) => r.slice(0, 4))).toEqual([
+      ['Withdrawn', 'outside result', 'ESD, human body model', 'HG9801-A'],
+      ['Withdrawn', 'waiver', 'Physical dimensions', 'HG9801-A'],
+      ['Withdrawn', 'waiver', 'Solderability', 'HG9801-A'],
+    ]);
+    expect(withdrawn[2][4]).toMatch(/^Same lead frame/);
+    expect(withdrawn[2].slice(5, 8)).toEqual([
+      'Test engineer',
+      'The customer did not accept the similarity argument; solderability is to be tested on this lot.',
+      'Test engineer',
+    ]);
+    expect(withdrawn[0][4]).toBe('pass - Harrowgate ESD bench, tested 2026-11-02 10:00 UTC, document HPD-ESD-0412');
     expect(res.text).toMatch(/\r\nHG9801-A,R-QA,OV-97,qualification test oven,/);
+  });
+});
+
+describe('the matrix fills as runs finish, and says when it can be done', () => {
+  const waive = async (q: QualificationDetail, keep: string) => {
+    const eng = await t.signIn('engineer');
+    let d = q;
+    for (const c of q.cells.filter((x) => x.groupKey !== keep))
+      d = (
+        await eng
+          .post(`/api/qualifications/${q.id}/cells/${c.id}/waiver`)
+          .send({ reason: 'Outside this test: only the one stress group is followed here.' })
+      ).body;
+    return d;
+  };
+
+  test('an under-stress cell projects its run to the end of its stress hours; the qualification finishes with its last open cell', async () => {
+    const eng = await t.signIn('engineer');
+    const created = await eng
+      .post('/api/qualifications')
+      .send({ name: 'HPD-Q100 group E only', templateKey: 'mil-prf-19500', deviceTypeIds: [ids.type], lotIds: [ids['HG9801-B']] });
+    expect(created.status).toBe(201);
+    const d = await waive(created.body, 'e-htrb');
+    const cell = cellsOf(d, 'e-htrb')[0];
+    expect(cell.state).toBe('under-stress');
+    expect(cell.runs.map((r) => [r.code, r.state, r.stressHours])).toEqual([['R-QB', 'stressing', 560]]);
+    // Hand computation (server/modules/runs/scheduling-data.ts projectedWindow): 1000 − 560 = 440 stress hours left, no
+    // intermediate read point above 560 h (168, 500), no heat-up while stressing; the test app's clock runs a stress
+    // hour per second (EMBERLOT_CLOCK_RATE, 1 h/s by default: msPerClockHFor), and the booked end (60 days ago + 1096 h) is long past.
+    expect(t.ctx.services.runs.timing.msPerClockH).toBe(1000);
+    const expected = Date.now() + 440 * 1000;
+    expect(Math.abs(Date.parse(cell.projectedFinish!) - expected)).toBeLessThan(5_000);
+    expect(cell.projectionNote).toBe('Scheduled window of its runs.');
+    expect(d.projectedFinish).toBe(cell.projectedFinish);
+    expect(d.left).toEqual(['Group E high-temperature reverse bias on lot HG9801-B: under stress.']);
+  });
+
+  test('a run finishing moves its cell from under stress to passed, with the lot verdict', async () => {
+    const m = t.ctx.ds.manager;
+    const eng = await t.signIn('engineer');
+    const lotD = await addLot('HG9801-D', ids.type);
+    // The last read point measured; the stress is complete and the run is still on the rig.
+    const run = await insertHistoryRun(m, {
+      code: 'R-QD',
+      plan,
+      deviceType: await m.findOneByOrFail(DeviceTypeEntity, { id: ids.type }),
+      rig,
+      lots: [{ ...lotD, drift: { hfeDriftPctPer1000h: -2, leakageGrowthPer1000h: 1.2 } }],
+      state: 'stressing',
+      startedAt: new Date(Date.now() - 50 * 86400_000),
+      stressHours: 1000,
+      measuredH: [0, 168, 500, 1000],
+      noise: 0,
+    });
+    const created = await eng
+      .post('/api/qualifications')
+      .send({ name: 'HPD-Q100 lot D', templateKey: 'mil-prf-19500', deviceTypeIds: [ids.type], lotIds: [lotD.lot.id] });
+    const q = await waive(created.body, 'e-htrb');
+    const cellId = cellsOf(q, 'e-htrb')[0].id;
+    // The group asks for 45; this lot's plan judged 20: the cell plans 20 so the pass can stand.
+    const edited = await eng.patch(`/api/qualifications/${q.id}/cells/${cellId}`).send({ plannedSample: 20 });
+    let cell: QualCellView = edited.body.cells.find((c: QualCellView) => c.id === cellId);
+    expect(cell.state).toBe('under-stress');
+    expect(edited.body.status).toBe('in-progress');
+
+    // The engine's own transitions (run-engine.ts transitionRun, as the scheduler's cooling step calls it).
+    const deps = { audit: t.ctx.audit, now: () => new Date() };
+    const entity = await m.findOneByOrFail(RunEntity, { id: run.id });
+    await m.transaction(async (tm) => {
+      await transitionRun(tm, deps, entity, rig, 'cooling', {}, { actor: 'system', action: 'run.stress-complete' });
+      await transitionRun(tm, deps, entity, rig, 'finished', { finishedAt: new Date() }, { actor: 'system', action: 'run.finish' });
+    });
+    const after: QualificationDetail = (await eng.get(`/api/qualifications/${q.id}`)).body;
+    cell = after.cells.find((c) => c.id === cellId)!;
+    const view: LotDetail = (await eng.get(`/api/analytics/lots/${lotD.lot.id}`)).body;
+    const p = view.plans.find((x) => x.kind === 'htrb')!;
+    expect(p.verdict).toBe('passed');
+    expect(cell.runs.map((r) => r.state)).toEqual(['finished']);
+    expect(cell.state).toBe('passed');
+    expect(cell.verdict).toBe('passed');
+    expect(cell.sample).toEqual({ booked: 20, judged: 20, failures: 0 });
+    expect(cell.projectedFinish).toBeNull();
+    expect(after.status).toBe('complete');
+    expect(after.left).toEqual([]);
   });
 });

@@ -33,8 +33,7 @@ function dataSource(upToHead: boolean): DataSource {
   const base = createDataSource(testDbConfig(name), { runMigrations: false, poolSize: 2 });
   const files = fs
     .readdirSync(DIR)
-    // Up to this migration, not the tree's head: later migrations would sit on top of it and the
-    // down step below would undo the newest of them instead.
+    // Up to and including HEAD only: a later migration would be the one undoLastMigration takes back.
     .filter((f) => f.endsWith('.ts') && (upToHead ? f <= HEAD : f < HEAD))
     .map((f) => path.join(DIR, f));
   return new DataSource({ ...base.options, migrations: files } as typeof base.options);

@@ -273,6 +273,53 @@ describe('GET /api/floor/rigs/:code/chart across tiers', () => {
     pts.forEach((p, k) => expect([k, p.avg, p.min, p.max]).toEqual([k, Math.round(expected(k) * 100) / 100, 99, 140]));
   });
 
+  it('a short span older than the raw window reads the raw messages kept around an alarm (telemetry_kept), and says so', async () => {
+    // The kept messages of the test above (around the alarm and the read point), copied 20 days back
+    // (new seq), as the upkeep leaves them once their day is dropped: the chart's `now` is the real clock.
+    const SHIFT = 20 * DAY;
+    await t.ctx.ds.transaction(async (m) => {
+      await m.query(`CREATE TEMP TABLE kept_copy ON COMMIT DROP AS SELECT * FROM telemetry_kept WHERE rig_id = $1 AND seq <= 360`, [rigId]);
+      await m.query(`UPDATE kept_copy SET ts = ts - $1 * interval '1 millisecond', seq = seq + 5000000`, [SHIFT]);
+      await m.query(`INSERT INTO telemetry_kept SELECT * FROM kept_copy`);
+    });
+    const keptTimes = (
+      await q<{ ts: Date; seq: string }>(`SELECT ts, seq FROM telemetry_kept WHERE rig_id = $1 AND seq > 5000000 ORDER BY ts`, [rigId])
+    ).map((r) => ({ ms: r.ts.getTime(), seq: Number(r.seq) - 5000000 }));
+    const alarmAt = NOW - 2 * 3600_000 - SHIFT;
+    const from = alarmAt - 10 * MIN;
+    const to = alarmAt + 10 * MIN;
+    const agent = await t.signIn('operator');
+    const res = await agent.get(
+      `/api/floor/rigs/OV-91/chart?from=${encodeURIComponent(new Date(from).toISOString())}&to=${encodeURIComponent(new Date(to).toISOString())}&points=20&sockets=2`,
+    );
+    expect(res.status).toBe(200);
+    expect([res.body.source, res.body.keptRaw]).toEqual(['raw', true]);
+    // Reference: the written messages in the window, bucketed by minute here (chamber exact in binary; socket 2 reads 132 °C).
+    const bucketMs = (to - from) / 20;
+    const inWindow = keptTimes.filter((k) => k.ms >= from && k.ms < to);
+    expect(inWindow.length).toBeGreaterThan(30);
+    const buckets = new Map<number, number[]>();
+    for (const k of inWindow) {
+      const b = Math.min(Math.floor((k.ms - from) / bucketMs), 19);
+      buckets.set(b, [...(buckets.get(b) ?? []), chamberOf(k.seq)]);
+    }
+    const expected = [...buckets.entries()]
+      .sort((a, b) => a[0] - b[0])
+      .map(([b, v]) => ({
+        t: new Date(from + (b + 0.5) * bucketMs).toISOString(),
+        avg: Math.round((v.reduce((x, y) => x + y, 0) / v.length) * 100) / 100,
+        min: Math.min(...v),
+        max: Math.max(...v),
+      }));
+    expect(res.body.chamber).toEqual(expected);
+    expect(res.body.sockets[0].points.map((p: { avg: number }) => p.avg)).toEqual(expected.map(() => 132));
+    // The same span on a stretch with nothing kept still reads the minute tier.
+    const quiet = await agent.get(
+      `/api/floor/rigs/OV-91/chart?from=${encodeURIComponent(new Date(alarmAt - 60 * MIN).toISOString())}&to=${encodeURIComponent(new Date(alarmAt - 40 * MIN).toISOString())}&points=20&sockets=2`,
+    );
+    expect([quiet.body.source, quiet.body.keptRaw]).toEqual(['minute', false]);
+  });
+
   it('refuses a span over a year', async () => {
     const agent = await t.signIn('operator');
     const res = await agent.get(url(NOW - 367 * DAY, NOW));

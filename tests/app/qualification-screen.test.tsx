@@ -11,6 +11,15 @@ import { mockFetch, renderWithClient, setWidth } from './support/render';
 
 jest.mock('expo-router', () => require('./support/expo-router'));
 const { useLocalSearchParams } = jest.requireMock('expo-router');
+// jest runs no dynamic import(): the lot chart gets a stand-in that shows what it is given.
+jest.mock('@/components/charts/LazyCharts', () => {
+  const { Text } = require('react-native');
+  return {
+    LotDistributionChart: ({ lot }: { lot: { lotCode: string; readPoints: Array<{ hours: number }> } }) => (
+      <Text testID="chart-data">{`${lot.lotCode}: ${lot.readPoints.map((r) => r.hours).join(', ')} h`}</Text>
+    ),
+  };
+});
 
 const ID = '11111111-1111-4111-8111-111111111111';
 const user = (role: string) => ({
@@ -38,6 +47,7 @@ const cell = (over: Partial<QualCellView>): QualCellView => ({
   runs: [{ id: 'r1', code: 'HTRB-2611-A', state: 'finished', rigCode: 'OV-01', planName: 'HTRB', stressHours: 1000, projectedEnd: null }],
   waiver: null,
   external: null,
+  withdrawn: [],
   projectedFinish: null,
   projectionNote: null,
   ...over,
@@ -83,13 +93,22 @@ const CELLS = [
   }),
 ];
 
-function render(role: string, width: number, onWaive?: (init: RequestInit) => { status: number; body: unknown }) {
+type Answer = (init: RequestInit) => { status: number; body: unknown };
+
+function render(
+  role: string,
+  width: number,
+  onWaive?: Answer,
+  more: Record<string, Answer | { status: number; body: unknown }> = {},
+  cells = CELLS,
+) {
   setWidth(width);
   useLocalSearchParams.mockReturnValue({ id: ID });
   const fetch = mockFetch({
     'GET /api/auth/me': { status: 200, body: { user: user(role) } },
-    [`GET /api/qualifications/${ID}`]: { status: 200, body: detail(CELLS) },
+    [`GET /api/qualifications/${ID}`]: { status: 200, body: detail(cells) },
     ...(onWaive ? { [`POST /api/qualifications/${ID}/cells/${CELLS[2].id}/waiver`]: onWaive } : {}),
+    ...more,
   });
   renderWithClient(<QualificationScreen />);
   return fetch;
@@ -134,4 +153,96 @@ test('an engineer waives a cell: the button waits for a reason, then the answer 
     expect(fetch.mock.calls.some(([u, i]) => String(u).endsWith('/waiver') && (i as RequestInit).method === 'POST')).toBe(true),
   );
   expect(screen.getByTestId('qual-cell-esd-hbm-HG2611-A')).toHaveTextContent(/Waived/);
+});
+
+const WAIVED = { reason: 'Same package as HPD-2N120, whose ESD classification stands.', by: 'Test', at: '2026-11-02T10:00:00.000Z' };
+
+test('an engineer withdraws a waiver: a confirmation that waits for a reason, then the cell shows the withdrawn record', async () => {
+  const reason = 'The customer asks for ESD data on this lot itself.';
+  const waivedCells = [CELLS[0], CELLS[1], { ...CELLS[2], state: 'waived' as const, waiver: WAIVED }];
+  const fetch = render(
+    'engineer',
+    1440,
+    undefined,
+    {
+      [`POST /api/qualifications/${ID}/cells/${CELLS[2].id}/withdraw`]: (init) => {
+        expect(JSON.parse(String(init.body))).toEqual({ record: 'waiver', reason });
+        return {
+          status: 200,
+          body: detail([
+            CELLS[0],
+            CELLS[1],
+            {
+              ...CELLS[2],
+              withdrawn: [
+                {
+                  record: 'waiver',
+                  text: WAIVED.reason,
+                  recordedBy: 'Test',
+                  recordedAt: WAIVED.at,
+                  reason,
+                  by: 'Test',
+                  at: new Date().toISOString(),
+                },
+              ],
+            },
+          ]),
+        };
+      },
+    },
+    waivedCells,
+  );
+  fireEvent.press(await screen.findByTestId('qual-cell-esd-hbm-HG2611-A'));
+  expect(screen.queryByTestId('qual-withdraw-external')).not.toBeOnTheScreen();
+  fireEvent.press(await screen.findByTestId('qual-withdraw-waiver'));
+  expect(await screen.findByTestId('qual-withdraw-dialog')).toBeOnTheScreen();
+  const confirm = screen.getByRole('button', { name: 'Withdraw' });
+  fireEvent.changeText(screen.getByTestId('qual-withdraw-reason'), 'short');
+  expect(confirm).toBeDisabled();
+  fireEvent.changeText(screen.getByTestId('qual-withdraw-reason'), reason);
+  expect(confirm).toBeEnabled();
+  fireEvent.press(confirm);
+  expect(await screen.findByTestId('qual-cell-withdrawn')).toHaveTextContent(
+    new RegExp(
+      `^Withdrawn waiver \\(“${WAIVED.reason.replace(/[.()]/g, '\\$&')}”, recorded by Test\\): withdrawn by Test, .+ — ${reason}$`,
+    ),
+  );
+  expect(screen.getByTestId('qual-cell-esd-hbm-HG2611-A')).toHaveTextContent(/Not started/);
+  expect(screen.queryByTestId('qual-withdraw-waiver')).not.toBeOnTheScreen();
+  expect(fetch.mock.calls.filter(([u]) => String(u).endsWith('/withdraw'))).toHaveLength(1);
+});
+
+test('a manager reads a waived cell without the withdraw button; a cell with runs opens its own drift chart', async () => {
+  const drift = {
+    cellId: CELLS[0].id,
+    groupKey: 'htrb',
+    lotCode: 'HG2611-A',
+    planName: 'HTRB 150 °C',
+    runCodes: ['HTRB-2611-A'],
+    plan: { durationH: 1000 },
+    criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 2e-7, vcesatShiftV: 0.05 },
+    readPointsH: [0, 168, 500, 1000],
+    readPoints: [0, 168, 500, 1000].map((hours) => ({ hours })),
+    trends: [],
+    note: null,
+  };
+  const fetch = render(
+    'manager',
+    390,
+    undefined,
+    { [`GET /api/qualifications/${ID}/cells/${CELLS[0].id}/drift`]: { status: 200, body: drift } },
+    [CELLS[0], CELLS[1], { ...CELLS[2], state: 'waived', waiver: WAIVED }],
+  );
+  fireEvent.press(await screen.findByTestId('qual-cell-esd-hbm-HG2611-A'));
+  expect(await screen.findByTestId('qual-cell-waiver')).toBeOnTheScreen();
+  expect(screen.queryByTestId('qual-withdraw-waiver')).not.toBeOnTheScreen();
+  // A group with no run kind has no chart to open.
+  expect(screen.queryByTestId('qual-cell-drift-toggle')).not.toBeOnTheScreen();
+  fireEvent.press(screen.getByTestId('qual-cell-htrb-HG2611-A'));
+  fireEvent.press(await screen.findByTestId('qual-cell-drift-toggle'));
+  expect(await screen.findByTestId('qual-cell-drift-source')).toHaveTextContent(
+    "Lot HG2611-A on run HTRB-2611-A (HTRB 150 °C): this lot's devices only.",
+  );
+  expect(screen.getByTestId('chart-data')).toHaveTextContent('HG2611-A: 0, 168, 500, 1000 h');
+  expect(fetch.mock.calls.some(([u]) => String(u) === `/api/qualifications/${ID}/cells/${CELLS[0].id}/drift`)).toBe(true);
 });

@@ -39,7 +39,7 @@ import { ReplanProposalEntity } from './replan.entity';
 
 import { ChamberSampleEntity } from './chamber-sample.entity';
 export { ChamberSampleEntity };
-import { QualificationCellEntity, QualificationEntity } from './qualification.entity';
+import { QualificationCellEntity, QualificationCellWithdrawalEntity, QualificationEntity } from './qualification.entity';
 
 export const ENTITIES = [
   UserEntity,
@@ -76,4 +76,5 @@ export const ENTITIES = [
   ChamberSampleEntity,
   QualificationEntity,
   QualificationCellEntity,
+  QualificationCellWithdrawalEntity,
 ];

@@ -51,3 +51,27 @@ export class QualificationCellEntity {
   @Column({ type: 'varchar', length: 200, nullable: true }) externalDocument: string | null;
   @Column({ type: 'uuid', nullable: true }) externalRecordedById: string | null;
 }
+
+/** What a withdrawn waiver or outside result said, kept when the cell's record is cleared (with the audit entry). */
+export interface WithdrawnRecord {
+  /** Waiver: its reason; outside result: pass / fail, by, document. */
+  text: string;
+  by: string;
+  at: string;
+}
+
+/** A waiver or outside result withdrawn from a cell: the cell returns to the state its runs give it. */
+@Entity('qualification_cell_withdrawals')
+export class QualificationCellWithdrawalEntity {
+  @PrimaryGeneratedColumn('uuid') id: string;
+  @Column({ type: 'uuid' }) qualificationId: string;
+  @Index('IDX_qualification_cell_withdrawals_cell') @Column({ type: 'uuid' }) cellId: string;
+  @ManyToOne(() => QualificationCellEntity, { onDelete: 'CASCADE' })
+  @JoinColumn({ name: 'cell_id' })
+  cell?: QualificationCellEntity;
+  @Column({ type: 'varchar', length: 8 }) record: 'waiver' | 'external';
+  @Column({ type: 'jsonb' }) withdrawn: WithdrawnRecord;
+  @Column({ type: 'text' }) reason: string;
+  @Column({ type: 'uuid', nullable: true }) withdrawnById: string | null;
+  @Column({ type: 'timestamptz' }) withdrawnAt: Date;
+}

@@ -17,7 +17,7 @@ import {
   type MechanismPlan,
 } from '../../../shared/reliability/mechanisms';
 import type { LotEvidence, PlanEvidence } from '../../../shared/verdict/evidence';
-import type { PlanJudgement } from '../../../shared/verdict/judge';
+import type { LotJudgement, PlanJudgement } from '../../../shared/verdict/judge';
 import { DeviceTypeEntity } from '../../db/entities';
 import { notFound } from '../../http/errors';
 import { lotCorrectedVersions, recordDeviationVersions } from '../measurements/measurements.data';
@@ -91,6 +91,13 @@ export class AnalyticsService {
     const a = part?.lot(lotId);
     if (!a) throw notFound('The lot');
     return { lotCode: a.core.lot.code, verdict: a.verdict, evidence: a.evidence };
+  }
+
+  /** A lot's judgement with the evidence it was judged on (make-up planning reads one plan's sample from it). */
+  async lotJudgement(lotId: string): Promise<{ lotCode: string; judgement: LotJudgement; evidence: LotEvidence } | null> {
+    const [part] = await this.parts.get({ lotId });
+    const a = part?.lot(lotId);
+    return a ? { lotCode: a.core.lot.code, judgement: a.judgement, evidence: a.evidence } : null;
   }
 
   async lot(lotId: string): Promise<LotDetail> {

@@ -189,7 +189,8 @@ export async function holdStepRows(
  */
 export async function chartRows(
   ds: DataSource,
-  tier: TelemetryTier,
+  /** 'kept': the raw messages kept for good around trips, alarms and read points (telemetry_kept). */
+  tier: TelemetryTier | 'kept',
   rigId: string,
   from: Date,
   to: Date,
@@ -200,14 +201,16 @@ export async function chartRows(
   // k = bucket number 0…points-1; LEAST guards the last instant.
   const bucket = (col: string) => `LEAST(floor(extract(epoch FROM (${col} - $2::timestamptz)) * 1000 / $4)::int, $5 - 1)`;
   const params = [rigId, from, to, bucketMs, points, sockets];
-  if (tier === 'raw') {
-    // The window's messages by (rig_id, ts) in the days' partitions it spans; sockets from each message's arrays.
+  if (tier === 'raw' || tier === 'kept') {
+    // The window's messages by (rig_id, ts) in the days' partitions it spans (or in telemetry_kept, same
+    // columns, indexed by (rig_id, ts)); sockets from each message's arrays.
+    const table = tier === 'kept' ? 'telemetry_kept' : 'telemetry_batches';
     return ds.query(
       `SELECT -1 AS socket, ${bucket('b.ts')} AS k, avg(b.chamber_c) AS avg, min(b.chamber_c) AS min, max(b.chamber_c) AS max
-         FROM telemetry_batches b WHERE b.rig_id = $1 AND b.ts >= $2 AND b.ts < $3 GROUP BY 2
+         FROM ${table} b WHERE b.rig_id = $1 AND b.ts >= $2 AND b.ts < $3 GROUP BY 2
          UNION ALL
          SELECT s.socket, ${bucket('b.ts')} AS k, avg(s.case_c), min(s.case_c), max(s.case_c)
-         FROM telemetry_batches b CROSS JOIN LATERAL unnest(b.socket, b.case_c) AS s(socket, case_c)
+         FROM ${table} b CROSS JOIN LATERAL unnest(b.socket, b.case_c) AS s(socket, case_c)
          WHERE b.rig_id = $1 AND b.ts >= $2 AND b.ts < $3 AND s.socket = ANY($6::smallint[]) GROUP BY 1, 2
          ORDER BY 1, 2`,
       params,
@@ -221,4 +224,14 @@ export async function chartRows(
        GROUP BY 1, 2 ORDER BY 1, 2`,
     params,
   );
+}
+
+/** Whether telemetry_kept holds any raw message of the rig in [from, to) (the chart then reads it). */
+export async function keptRawExists(ds: DataSource, rigId: string, from: Date, to: Date): Promise<boolean> {
+  const rows: unknown[] = await ds.query(`SELECT 1 FROM telemetry_kept WHERE rig_id = $1 AND ts >= $2 AND ts < $3 LIMIT 1`, [
+    rigId,
+    from,
+    to,
+  ]);
+  return rows.length > 0;
 }

@@ -10,6 +10,8 @@
  *
  * The raw chart reads the window's messages by (rig_id, ts) in the day partitions the window spans,
  * each with its sockets' arrays (no per-socket rows since migration 1828…).
+ * A raw-span chart older than the raw window reads the messages kept for good around trips, alarms
+ * and read points (telemetry_kept, `readsKeptRaw`) when the span holds any; `keptRaw` says so.
  */
 import {
   type ChartPoint,
@@ -20,7 +22,7 @@ import {
   type FloorTile,
 } from '../../../shared/schemas/floor';
 import { ON_RIG_STATES } from '../../../shared/domain/run-states';
-import { chartTier } from '../../../shared/domain/telemetry-tiers';
+import { chartTier, readsKeptRaw } from '../../../shared/domain/telemetry-tiers';
 import { isCyclingKind, PLAN_KINDS } from '../../../shared/domain/stress';
 import type { EntityManager } from 'typeorm';
 import type { AppContext } from '../../context';
@@ -32,6 +34,7 @@ import {
   boardRows,
   chartRows,
   holdStepRows,
+  keptRawExists,
   meanCaseTemps,
   newestBatchTs,
   newestCaseTemps,
@@ -183,8 +186,12 @@ export class FloorService {
       sockets = hottestByMean(toRows(await meanCaseTemps(this.ctx.ds, rigId, from, to)));
       if (!sockets.length) sockets = hottestByMean(toRows(await newestCaseTemps(this.ctx.ds, rigId)));
     }
-    const source = chartTier(from.getTime(), to.getTime(), this.ctx.now().getTime(), this.ctx.config.telemetryKeep);
-    const rows = await chartRows(this.ctx.ds, source, rigId, from, to, bucketMs, points, sockets);
+    const nowMs = this.ctx.now().getTime();
+    const windows = this.ctx.config.telemetryKeep;
+    // A raw-span chart past the raw window reads the raw messages kept around trips, alarms and read points, when it holds any.
+    const keptRaw = readsKeptRaw(from.getTime(), to.getTime(), nowMs, windows) && (await keptRawExists(this.ctx.ds, rigId, from, to));
+    const source = keptRaw ? 'raw' : chartTier(from.getTime(), to.getTime(), nowMs, windows);
+    const rows = await chartRows(this.ctx.ds, keptRaw ? 'kept' : source, rigId, from, to, bucketMs, points, sockets);
     const series = new Map<number, ChartPoint[]>();
     for (const r of rows) {
       const t = new Date(from.getTime() + (Number(r.k) + 0.5) * bucketMs).toISOString();
@@ -196,6 +203,7 @@ export class FloorService {
       from: from.toISOString(),
       to: to.toISOString(),
       source,
+      keptRaw,
       bucketMs: Math.round(bucketMs),
       chamber: series.get(-1) ?? [],
       sockets: sockets.map((socket) => ({ socket, points: series.get(socket) ?? [] })),

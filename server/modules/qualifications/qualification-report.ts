@@ -10,6 +10,7 @@ import { formatUtc } from '../../../shared/domain/format';
 import { LOT_VERDICT_LABEL } from '../../../shared/schemas/analytics';
 import type { QualCellView } from '../../../shared/schemas/qualifications';
 import { CELL_STATE_LABEL, QUAL_STATUS_LABEL, basisWords, type QualGroup } from '../../../shared/qualification/templates';
+import { WITHDRAWN_RECORD_LABEL } from '../../../shared/qualification/words';
 import { writeLotSection } from '../reports/blocks';
 import { csvLine, type Cell } from '../reports/csv';
 import {
@@ -164,6 +165,18 @@ export function qualificationReportCsv(data: QualificationReportData, lots: read
         c.external.by,
         formatUtc(new Date(c.external.at)),
         c.external.document,
+      );
+    for (const w of c.withdrawn)
+      kv(
+        'Withdrawn',
+        WITHDRAWN_RECORD_LABEL[w.record],
+        groupName(d.groups, c),
+        c.lotCode,
+        w.text,
+        w.recordedBy,
+        w.reason,
+        w.by,
+        formatUtc(new Date(w.at)),
       );
   }
   lines.push('');
@@ -349,7 +362,8 @@ export async function qualificationReportPdf(
   heading(doc, 'Waivers and outside results', 40);
   const waived = d.cells.filter((c) => c.waiver);
   const outside = d.cells.filter((c) => c.external);
-  if (!waived.length && !outside.length) para(doc, 'None.');
+  const withdrawn = d.cells.flatMap((c) => c.withdrawn.map((w) => ({ c, w })));
+  if (!waived.length && !outside.length && !withdrawn.length) para(doc, 'None.');
   for (const c of waived)
     para(
       doc,
@@ -359,6 +373,12 @@ export async function qualificationReportPdf(
     para(
       doc,
       `Outside result: ${groupName(d.groups, c)} on lot ${c.lotCode}: ${c.external!.result} - ${c.external!.by}, ${formatUtc(new Date(c.external!.at))}, document ${c.external!.document} (recorded by ${c.external!.recordedBy})`,
+    );
+
+  for (const { c, w } of withdrawn)
+    para(
+      doc,
+      `Withdrawn ${WITHDRAWN_RECORD_LABEL[w.record]}: ${groupName(d.groups, c)} on lot ${c.lotCode} (${w.text}; recorded by ${w.recordedBy}) - withdrawn by ${w.by}, ${formatUtc(new Date(w.at))}: ${w.reason}`,
     );
 
   for (const lot of lots) {

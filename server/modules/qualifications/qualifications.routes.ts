@@ -6,6 +6,7 @@ import {
   qualificationParamsSchema,
   updateCellSchema,
   waiveCellSchema,
+  withdrawCellSchema,
 } from '../../../shared/schemas/qualifications';
 import type { AppContext } from '../../context';
 import { ApiRouter, HANDLED } from '../../http/route';
@@ -13,10 +14,18 @@ import type { LotReportData } from '../reports/report-data';
 import type { QualificationReportData } from './qualifications.service';
 import { qualificationReportCsv, qualificationReportPdf } from './qualification-report';
 
-/** The lot report's data (server/modules/reports) of each lot with runs, in the qualification's lot order. */
+/**
+ * The lot report's data (server/modules/reports) of each lot with runs, in the qualification's lot
+ * order, its drift charts drawn per cell (each cell's judged runs) instead of the lot's latest run.
+ */
 async function lotReports(ctx: AppContext, data: QualificationReportData): Promise<LotReportData[]> {
   const out: LotReportData[] = [];
-  for (const l of data.detail.lots) if (data.lots.has(l.id)) out.push(await ctx.services.reports.lotReportData(l.id));
+  for (const l of data.detail.lots) {
+    if (!data.lots.has(l.id)) continue;
+    const lot = await ctx.services.reports.lotReportData(l.id);
+    const charts = await ctx.services.qualifications.cellCharts(data, l.id);
+    out.push(charts.length ? { ...lot, run: null, charts } : lot);
+  }
   return out;
 }
 
@@ -47,6 +56,14 @@ export function qualificationsRoutes(ctx: AppContext): ApiRouter {
     '/:id/cells/:cellId/external',
     { access: editors, params: qualificationCellParamsSchema, body: externalResultSchema },
     ({ user, params, body }) => svc.recordExternal(user, params.id, params.cellId, body),
+  );
+  r.post(
+    '/:id/cells/:cellId/withdraw',
+    { access: rolesFor('qualification.withdraw'), params: qualificationCellParamsSchema, body: withdrawCellSchema },
+    ({ user, params, body }) => svc.withdraw(user, params.id, params.cellId, body),
+  );
+  r.get('/:id/cells/:cellId/drift', { access: readers, params: qualificationCellParamsSchema }, ({ params }) =>
+    svc.cellDrift(params.id, params.cellId),
   );
   r.get('/:id/report.csv', { access: readers, params: qualificationParamsSchema }, async ({ params, res }) => {
     const data = await svc.reportData(params.id);

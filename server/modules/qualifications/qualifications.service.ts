@@ -10,6 +10,7 @@ import type { LotDetail, LotPlanView } from '../../../shared/schemas/analytics';
 import type {
   CreateQualificationInput,
   ExternalResultInput,
+  QualCellDrift,
   QualCellRun,
   QualCellView,
   QualificationDetail,
@@ -17,6 +18,7 @@ import type {
   QualTemplateView,
   UpdateCellInput,
   WaiveCellInput,
+  WithdrawCellInput,
 } from '../../../shared/schemas/qualifications';
 import {
   CELL_DONE_STATES,
@@ -33,9 +35,23 @@ import {
 import { VERDICT_RANK } from '../../../shared/verdict/rules';
 import type { LotVerdict } from '../../../shared/domain/verdicts';
 import type { AppContext } from '../../context';
-import { DeviceTypeEntity, LotEntity, QualificationCellEntity, QualificationEntity, StressPlanEntity, UserEntity } from '../../db/entities';
+import {
+  DeviceTypeEntity,
+  LotEntity,
+  QualificationCellEntity,
+  QualificationCellWithdrawalEntity,
+  QualificationEntity,
+  StressPlanEntity,
+  UserEntity,
+  type WithdrawnRecord,
+} from '../../db/entities';
+import { formatUtc } from '../../../shared/domain/format';
 import { conflict, notFound, unprocessable } from '../../http/errors';
 import { loadSchedulingInputs } from '../runs/scheduling-data';
+import { lotCore, stressTemperature } from '../analytics/lot-analysis';
+import type { DriftChart } from '../reports/drift-chart';
+import { driftCharts } from '../reports/reports.service';
+import type { RunDriftResult } from '../../../shared/schemas/measurements';
 import { lastCodeNumber, runsOnLots, type QualRunRow } from './qualifications.data';
 
 const CODE_PREFIX = 'QUAL';
@@ -48,6 +64,8 @@ export interface QualificationReportData {
   /** The lot views behind the cells (the same objects GET /api/analytics/lots/:id returns). */
   lots: Map<string, LotDetail>;
   runs: QualRunRow[];
+  /** Per cell with a verdict: the runs of the sample that verdict judged (the cell's drift charts). */
+  judgedRuns: Array<{ cellId: string; lotId: string; groupName: string; runIds: string[] }>;
 }
 
 export class QualificationsService {
@@ -230,6 +248,153 @@ export class QualificationsService {
     return this.detail(id);
   }
 
+  /**
+   * Withdraw a cell's waiver or outside result: what it said is kept (qualification_cell_withdrawals
+   * and the audit log) and the cell's record is cleared, so the cell stands again on its runs.
+   * The row is locked, so of two withdrawals at once the second finds nothing left (409).
+   */
+  async withdraw(actor: SessionUser, id: string, cellId: string, input: WithdrawCellInput): Promise<QualificationDetail> {
+    await this.ds.transaction(async (m) => {
+      await this.load(m, id);
+      const cell = await m.findOne(QualificationCellEntity, {
+        where: { id: cellId, qualificationId: id },
+        lock: { mode: 'pessimistic_write' },
+      });
+      if (!cell) throw notFound('The cell');
+      const nameOf = async (userId: string | null) =>
+        (userId ? (await m.findOne(UserEntity, { where: { id: userId } }))?.name : undefined) ?? 'unknown';
+      let withdrawn: WithdrawnRecord;
+      let clear: Partial<Omit<QualificationCellEntity, 'qualification' | 'lot'>>;
+      if (input.record === 'waiver') {
+        if (!cell.waiverReason || !cell.waivedAt)
+          throw conflict('This cell has no waiver to withdraw; it may have been withdrawn already.');
+        withdrawn = { text: cell.waiverReason, by: await nameOf(cell.waivedById), at: cell.waivedAt.toISOString() };
+        clear = { waiverReason: null, waivedById: null, waivedAt: null };
+      } else {
+        if (!cell.externalResult || !cell.externalAt)
+          throw conflict('This cell has no outside result to withdraw; it may have been withdrawn already.');
+        withdrawn = {
+          text: `${cell.externalResult} - ${cell.externalBy ?? ''}, tested ${formatUtc(cell.externalAt)}, document ${cell.externalDocument ?? ''}`,
+          by: await nameOf(cell.externalRecordedById),
+          at: cell.externalAt.toISOString(),
+        };
+        clear = { externalResult: null, externalBy: null, externalAt: null, externalDocument: null, externalRecordedById: null };
+      }
+      const at = this.ctx.now();
+      await m.insert(QualificationCellWithdrawalEntity, {
+        qualificationId: id,
+        cellId: cell.id,
+        record: input.record,
+        withdrawn,
+        reason: input.reason,
+        withdrawnById: actor.id,
+        withdrawnAt: at,
+      });
+      await m.update(QualificationCellEntity, { id: cell.id }, clear);
+      await this.ctx.audit.record(
+        {
+          actor,
+          action: 'qualification.cell-withdraw',
+          entity: 'qualification',
+          entityId: id,
+          reason: input.reason,
+          details: { cellId, groupKey: cell.groupKey, lotId: cell.lotId, record: input.record, withdrawn },
+        },
+        m,
+      );
+    });
+    return this.detail(id);
+  }
+
+  /**
+   * A cell's drift for the qualification screen's chart: the lot's devices on the runs of the
+   * sample its verdict judged (cellJudgement: the worst of the lot's plans of the cell's kind),
+   * read by the run drift (MeasurementsService.drift) and summarised by the lot screen's own
+   * lotCore — the same read-point distributions and fitted path, for this cell's runs only.
+   */
+  async cellDrift(id: string, cellId: string): Promise<QualCellDrift> {
+    const m = this.ds.manager;
+    const cell = await this.cellOf(m, id, cellId);
+    const lot = await m.findOneByOrFail(LotEntity, { id: cell.lotId });
+    const empty = (note: string): QualCellDrift => ({
+      cellId,
+      groupKey: cell.groupKey,
+      lotCode: lot.code,
+      planName: null,
+      runCodes: [],
+      plan: null,
+      criteria: null,
+      readPointsH: [],
+      readPoints: [],
+      trends: [],
+      note,
+    });
+    if (cell.planKind === null) return empty('This group takes a result recorded from outside: there is no drift to chart.');
+    const runs = await runsOnLots(m, [cell.lotId]);
+    if (!runs.some((r) => r.kind === cell.planKind)) return empty('No run of this kind on this lot yet.');
+    const judged = cellJudgement((await this.ctx.services.analytics.lot(cell.lotId)).plans, cell.planKind);
+    if (!judged) return empty('No run of this kind on this lot has readings yet.');
+    const plan = await m.findOneByOrFail(StressPlanEntity, { id: judged.planId });
+    const devices = [];
+    for (const r of judged.runs)
+      devices.push(...(await this.ctx.services.measurements.drift(r.runId)).devices.filter((d) => d.lotId === lot.id));
+    const type = await m.findOneByOrFail(DeviceTypeEntity, { id: lot.deviceTypeId });
+    const readPointsH = [...plan.readPointsH].sort((a, b) => a - b);
+    const core = lotCore({
+      lot: { id: lot.id, code: lot.code, deviceTypeId: lot.deviceTypeId, partNumber: type.partNumber, dateCode: lot.dateCode ?? '' },
+      run: null,
+      plan: {
+        id: plan.id,
+        name: plan.name,
+        kind: plan.kind,
+        durationH: plan.durationH,
+        acceptNumber: plan.acceptNumber,
+        sampleSize: plan.sampleSize,
+        chamberC: plan.chamberC,
+        eaEv: plan.eaEv,
+        useC: plan.useC,
+        ...stressTemperature(plan),
+        readPointsH,
+        criteria: plan.criteria,
+      },
+      devices,
+    });
+    return {
+      cellId,
+      groupKey: cell.groupKey,
+      lotCode: lot.code,
+      planName: plan.name,
+      runCodes: judged.runs.map((r) => r.runCode),
+      plan: { durationH: plan.durationH },
+      criteria: plan.criteria,
+      readPointsH,
+      readPoints: core.readPoints,
+      trends: core.trends,
+      note: core.readPoints.some((r) => r.hours > 0) ? null : 'No readings after time zero yet.',
+    };
+  }
+
+  /**
+   * The report's drift charts of one lot, cell by cell: each cell's judged runs taken together
+   * (a sample split over rigs is one sample), this lot's devices, drawn as the lot report draws a run.
+   */
+  async cellCharts(data: QualificationReportData, lotId: string): Promise<DriftChart[]> {
+    const out: DriftChart[] = [];
+    for (const cell of data.judgedRuns.filter((x) => x.lotId === lotId)) {
+      const drifts: RunDriftResult[] = [];
+      for (const runId of cell.runIds) drifts.push(await this.ctx.services.measurements.drift(runId));
+      if (!drifts.length) continue;
+      const merged: RunDriftResult = {
+        ...drifts[0],
+        runCode: drifts.map((d) => d.runCode).join(' + '),
+        devices: drifts.flatMap((d) => d.devices),
+      };
+      if (!merged.devices.some((d) => d.lotId === lotId && d.readPoints.some((r) => r.readPointH > 0))) continue;
+      out.push(...driftCharts(merged, lotId).map((chart) => ({ ...chart, title: `${cell.groupName}: ${chart.title}` })));
+    }
+    return out;
+  }
+
   async detail(id: string): Promise<QualificationDetail> {
     return (await this.reportData(id)).detail;
   }
@@ -243,8 +408,7 @@ export class QualificationsService {
     const lotById = new Map(lots.map((l) => [l.id, l]));
     const types = await m.find(DeviceTypeEntity, { where: { id: In(q.deviceTypeIds) } });
     const runs = await runsOnLots(m, q.lotIds);
-    const userIds = [...new Set(cells.flatMap((c) => [c.waivedById, c.externalRecordedById]).filter((x): x is string => !!x))];
-    const users = new Map((userIds.length ? await m.find(UserEntity, { where: { id: In(userIds) } }) : []).map((u) => [u.id, u.name]));
+    const { withdrawals, users } = await cellRecords(m, id, cells);
 
     // The lot views (the same the lot screens show) for lots with runs of a cell's kind.
     const lotDetails = new Map<string, LotDetail>();
@@ -260,11 +424,19 @@ export class QualificationsService {
     const windowEnd = new Map(sched.commitments.map((c) => [c.runId, c.endMs]));
 
     const views: QualCellView[] = [];
+    const judgedRuns: QualificationReportData['judgedRuns'] = [];
     for (const c of cells) {
       const lot = lotById.get(c.lotId)!;
       const cellRuns = c.planKind ? runs.filter((r) => r.lot_id === c.lotId && r.kind === c.planKind) : [];
       const worst = cellJudgement(lotPlans.get(c.lotId), c.planKind);
       const verdict: LotVerdict | null = worst?.verdict ?? null;
+      if (worst?.runs.length)
+        judgedRuns.push({
+          cellId: c.id,
+          lotId: c.lotId,
+          groupName: q.groups.find((g) => g.key === c.groupKey)?.name ?? c.groupKey,
+          runIds: worst.runs.map((r) => r.runId),
+        });
       const facts: CellFacts = {
         waived: !!c.waiverReason,
         planKind: c.planKind,
@@ -304,7 +476,7 @@ export class QualificationsService {
           ? { fit60: worst.fit.fit60, fit90: worst.fit.fit90, mechanismLabel: worst.fit.mechanismLabel, method: worst.fit.method }
           : null,
         runs: runViews,
-        ...recordViews(c, users),
+        ...recordViews(c, users, withdrawals),
         projectedFinish: projection.at,
         projectionNote: projection.note,
       });
@@ -342,7 +514,7 @@ export class QualificationsService {
       projectedFinish: finish,
       projectionNote,
     };
-    return { detail, lots: lotDetails, runs };
+    return { detail, lots: lotDetails, runs, judgedRuns };
   }
 
   /**
@@ -378,9 +550,33 @@ export class QualificationsService {
   }
 }
 
-/** A cell's waiver and outside result as the screens and the report show them (names, not ids). */
-function recordViews(c: QualificationCellEntity, users: Map<string, string>): Pick<QualCellView, 'waiver' | 'external'> {
+/** The qualification's withdrawn records (oldest first) and the names of everyone who recorded or withdrew something. */
+async function cellRecords(m: EntityManager, qualificationId: string, cells: QualificationCellEntity[]) {
+  const withdrawals = await m.find(QualificationCellWithdrawalEntity, { where: { qualificationId }, order: { withdrawnAt: 'ASC' } });
+  const ids = [...cells.flatMap((c) => [c.waivedById, c.externalRecordedById]), ...withdrawals.map((w) => w.withdrawnById)];
+  const userIds = [...new Set(ids.filter((x): x is string => !!x))];
+  const users = new Map((userIds.length ? await m.find(UserEntity, { where: { id: In(userIds) } }) : []).map((u) => [u.id, u.name]));
+  return { withdrawals, users };
+}
+
+/** A cell's waiver, outside result and withdrawn records as the screens and the report show them (names, not ids). */
+function recordViews(
+  c: QualificationCellEntity,
+  users: Map<string, string>,
+  withdrawals: QualificationCellWithdrawalEntity[],
+): Pick<QualCellView, 'waiver' | 'external' | 'withdrawn'> {
   return {
+    withdrawn: withdrawals
+      .filter((w) => w.cellId === c.id)
+      .map((w) => ({
+        record: w.record,
+        text: w.withdrawn.text,
+        recordedBy: w.withdrawn.by,
+        recordedAt: w.withdrawn.at,
+        reason: w.reason,
+        by: users.get(w.withdrawnById ?? '') ?? 'unknown',
+        at: w.withdrawnAt.toISOString(),
+      })),
     waiver: c.waiverReason
       ? { reason: c.waiverReason, by: users.get(c.waivedById ?? '') ?? 'unknown', at: c.waivedAt!.toISOString() }
       : null,

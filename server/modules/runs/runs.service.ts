@@ -354,6 +354,72 @@ export class RunsService {
     return { sample: await sampleView(m, sample.id), runs: await Promise.all(runs.map((r) => toRunDetail(m, r))) };
   }
 
+  /**
+   * A make-up run added to an existing sample (server/modules/make-up): booked like any part of a
+   * split sample, so the verdict judges it with the sample's other runs as one. `expectedBookedSize`
+   * is the sample's size the proposal was made for: a sample that changed since (a second click, a
+   * make-up booked by someone else) is refused with 409.
+   */
+  async bookIntoSample(
+    actor: SessionUser,
+    input: {
+      sampleId: string;
+      lotIds: string[];
+      part: { rigId: string; start?: string; sampleSize: number };
+      expectedBookedSize: number;
+      priority: number;
+      override?: { requestId: string };
+      details: Record<string, unknown>;
+    },
+  ): Promise<RunDetail> {
+    const run = await this.ds.transaction(async (m) => {
+      await advisoryXactLock(m, BOOKING_LOCK);
+      const sample = await m.findOne(SampleEntity, { where: { id: input.sampleId }, lock: { mode: 'pessimistic_write' } });
+      if (!sample) throw notFound('The sample');
+      if (sample.bookedSize !== input.expectedBookedSize) {
+        throw conflict(
+          `The sample changed since the proposal: it now holds ${sample.bookedSize} booked devices, not ${input.expectedBookedSize}. Reload the make-up proposal.`,
+          { bookedSize: sample.bookedSize },
+        );
+      }
+      const { plan, type, lots, problems, blocks } = await this.requestContext(m, {
+        planId: sample.planId,
+        lotIds: input.lotIds,
+        sampleSize: input.part.sampleSize,
+      });
+      if (problems.length) throw unprocessable(problems.join(' '), { problems });
+      const overridden = blocks.length > 0;
+      const approval = overridden ? await this.ctx.services.approvals.useForBooking(m, plan, input.override?.requestId, blocks) : null;
+      const booked = await this.bookOne(m, actor, {
+        plan,
+        type,
+        lots,
+        sample,
+        part: input.part,
+        overridden,
+        approval,
+        findings: blocks,
+        terms: { dueAt: null, priority: input.priority },
+      });
+      const before = sample.bookedSize;
+      sample.bookedSize = before + input.part.sampleSize;
+      await m.save(sample);
+      if (approval) await this.ctx.services.approvals.markUsed(m, approval.id, sample.id);
+      await this.ctx.audit.record(
+        {
+          actor,
+          action: 'sample.make-up',
+          entity: 'sample',
+          entityId: sample.id,
+          details: { ...input.details, run: booked.code, bookedBefore: before, bookedAfter: sample.bookedSize },
+        },
+        m,
+      );
+      return booked;
+    });
+    return toRunDetail(this.ds.manager, run);
+  }
+
   /** A request's due date in ms (null: none); a date already past is refused (it could only ever be late). */
   private dueMsOf(dueAt: string | null | undefined): number | null {
     if (!dueAt) return null;

@@ -6,7 +6,9 @@ import type { Journey } from '../harness';
  * Manager: a lot's failure rate names its mechanism and is credited at the measured junction.
  * The powered-life lot HG2609-D ran on a heat-sunk board: its FIT uses the junction its sockets'
  * telemetry showed (≈ 35 °C), not the plan's free-air prediction (≈ 145 °C). The humidity lot
- * HG2608-F is credited by Peck with its model parameters named. Reads only (changes nothing).
+ * HG2608-F is credited by Peck with its model parameters named. QUAL-002's group C life lot
+ * HG2606-K ran on a free-air board: its junction is the plan's stated Tj and its FIT tens of FIT.
+ * Reads only (changes nothing).
  */
 export const managerLotCredit: Journey = {
   name: 'manager-lot-credit',
@@ -47,6 +49,27 @@ export const managerLotCredit: Journey = {
     await j.checkA11y('lot failure rate: temperature');
     await j.shot('fit-temperature');
     j.log(`HG2609-D: mean junction ${mean} °C, FIT 60 % ${detail.fit.fit60}`);
+
+    // --- Powered life on a free-air board (QUAL-002's group C life, HOTL-2606-K): credited at -----
+    // the junction its plan states, so its FIT is a life test's (tens of FIT), not the heat-sunk 10^5.
+    const k = await open('HG2606-K');
+    const kDetail = await (await page.request.get(`${j.baseUrl}/api/analytics/lots/${k.lotId}`)).json();
+    const life = (
+      kDetail.plans as Array<{ kind: string; planName: string; fit: { fit60: number; junction: { tjMeanC: number } } | null }>
+    ).find((p) => p.kind === 'hotl');
+    if (!life?.fit) throw new Error('HG2606-K has no powered-life FIT');
+    const stated = Number(life.planName.match(/Tj (\d+) °C/)?.[1]);
+    if (!(Math.abs(life.fit.junction.tjMeanC - stated) < 0.5))
+      throw new Error(`HG2606-K's junction ${life.fit.junction.tjMeanC} °C vs the plan's stated Tj ${stated} °C`);
+    if (!(life.fit.fit60 > 10 && life.fit.fit60 < 1000)) throw new Error(`HG2606-K's life FIT at 60 % is ${life.fit.fit60}`);
+    const lifeFit = page
+      .getByTestId('plan-fit')
+      .filter({ hasText: `Temperature (Arrhenius) FIT ${+life.fit.fit60.toPrecision(3)} at 60 %` });
+    await expect(lifeFit).toHaveCount(1);
+    await lifeFit.scrollIntoViewIfNeeded();
+    await j.checkA11y('lot failure rate: powered life at its junction');
+    await j.shot('fit-life-free-air');
+    j.log(`HG2606-K (HOTL-2606-K): mean junction ${life.fit.junction.tjMeanC} °C (plan Tj ${stated} °C), FIT 60 % ${life.fit.fit60}`);
 
     // --- Temperature-humidity-bias: humidity (Peck), parameters named --------------------------
     await open('HG2608-F');

@@ -20,6 +20,8 @@ import { managerReplan } from './replan';
 import { managerCalendar } from './calendar';
 import { qualification } from './qualification';
 import { workingDay } from './working-day';
+import { engineerMakeUp } from './make-up';
+import { rigChartSpans } from './chart-spans';
 import { thermal } from './thermal';
 
 /**
@@ -61,6 +63,10 @@ export const JOURNEYS: Journey[] = [
   // Every screen of every role under axe: after the journeys that add data, before the offline rig.
   accessibilityEveryScreen,
   adminRigs,
+  // Books a make-up of two into HG2612-C's sample (the first size; the second finds it restored).
+  engineerMakeUp,
+  // Reads OV-01's chart at every period (reads only).
+  rigChartSpans,
   // The socket thermal model: reads OV-03's drying pad (demo fleet), its sheet and the alarms list.
   thermal,
 ];

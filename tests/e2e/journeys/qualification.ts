@@ -7,7 +7,8 @@ import type { Journey } from '../harness';
 /**
  * Qualifications (issue #22): an engineer creates a qualification from the AEC-Q101 template for
  * HPD-2N140 on its three demo lots and sees the matrix (HTRB passed on HG2611-A's runs, under
- * stress on HG2612-C), opens a cell; a manager opens the complete demo qualification QUAL-002 and
+ * stress on HG2612-C), opens a cell and its drift chart, waives a group and withdraws the waiver
+ * (kept on record); a manager opens the complete demo qualification QUAL-002 and
  * downloads its PDF and CSV (status, content type, size, page count, a known cell value).
  */
 export const qualification: Journey = {
@@ -52,6 +53,46 @@ export const qualification: Journey = {
     await expect(panel).toContainText("confirm against the standard's current revision");
     await panel.scrollIntoViewIfNeeded();
     await j.shot('qual-cell-panel');
+
+    // The cell's own drift: the lot chart on the runs its verdict judged.
+    await panel.getByTestId('qual-cell-drift-toggle').click();
+    await expect(panel.getByTestId('qual-cell-drift-source')).toContainText('Lot HG2611-A on runs HTRB-2611-A, HTRB-2611-A-2');
+    const chart = panel.getByTestId('lot-chart');
+    await expect(chart.locator('svg').first()).toBeVisible(30000);
+    const chartLabel = (await chart.getAttribute('aria-label')) ?? '';
+    if (!chartLabel.startsWith('hFE change % of lot HG2611-A: 0 h median') || !chartLabel.includes('; 1000 h median'))
+      throw new Error(`the cell chart says "${chartLabel.slice(0, 160)}"`);
+    await chart.scrollIntoViewIfNeeded();
+    await j.checkA11y('qualification cell drift');
+    await j.shot('qual-cell-drift');
+
+    // Waive a group with no run here, then withdraw the waiver: kept on record, the cell open again.
+    const sd = page.getByTestId('qual-cell-sd-HG2611-A');
+    await sd.scrollIntoViewIfNeeded();
+    await sd.click();
+    await expect(panel).toContainText('Solderability');
+    await panel
+      .getByTestId('qual-cell-waiver-reason')
+      .fill('Same lead frame and plating as HPD-2N120; solderability shown on its release.');
+    await panel.getByTestId('qual-cell-waive').click();
+    await expect(sd).toContainText('Waived');
+    await panel.getByTestId('qual-withdraw-waiver').click();
+    const dialog = page.getByTestId('qual-withdraw-dialog');
+    await expect(dialog).toBeVisible();
+    await expect(page.getByRole('dialog')).toBeVisible(); // the modal settled (its role is set once it has opened)
+    const withdrawReason = `The customer asks for solderability on this lot itself (${j.size}).`;
+    await dialog.getByTestId('qual-withdraw-reason').fill(withdrawReason);
+    await j.checkA11y('withdraw a waiver');
+    await j.shot('qual-withdraw-dialog');
+    await dialog.getByRole('button', { name: 'Withdraw', exact: true }).click();
+    await expect(dialog).toHaveCount(0);
+    await expect(sd).toContainText('Not started');
+    await expect(panel.getByTestId('qual-cell-withdrawn')).toContainText(withdrawReason);
+    await expect(panel.getByTestId('qual-withdraw-waiver')).toHaveCount(0);
+    const reasonLeft = await panel.getByTestId('qual-cell-waiver-reason').inputValue();
+    if (reasonLeft !== '') throw new Error(`the waiver field came back filled: "${reasonLeft}"`);
+    await panel.scrollIntoViewIfNeeded();
+    await j.shot('qual-withdrawn');
 
     // --- Manager: read the complete one and download both files ---------------------------------
     await page.context().clearCookies();

@@ -1,0 +1,301 @@
+/**
+ * Make-up planning (issue #25 item 3) through the real API and PostgreSQL: a run whose sample lost,
+ * excluded or tripped devices gets a proposal (fresh devices from the same lot restoring the plan's
+ * sample at the same accept number, shared/verdict/make-up.ts) with the earliest rig time from the
+ * booking proposals; booking it adds a run to the same sample (judged as one). Bad input, stale
+ * proposals, the wrong role and nothing-to-restore are refused and change nothing.
+ */
+import {
+  AuditLogEntity,
+  DeviceEntity,
+  DeviceTypeEntity,
+  LotEntity,
+  RigEntity,
+  RunEntity,
+  RunSocketEntity,
+  SampleEntity,
+  StressPlanEntity,
+} from '../../server/db/entities';
+import { insertHistoryRun } from '../../server/seed/seed-history';
+import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
+import { createTestApp, type TestApp } from '../support/api';
+import { tableCounts } from '../support/db';
+
+let t: TestApp;
+const ids: Record<string, string> = {};
+const serials = (prefix: string, n: number) => Array.from({ length: n }, (_, i) => `${prefix}${String(i + 1).padStart(4, '0')}`);
+
+async function addRig(code: string, socketCount: number): Promise<string> {
+  const r = await t.ctx.ds.getRepository(RigEntity).save({
+    code,
+    name: `Oven ${code}`,
+    socketCount,
+    maxTempC: 200,
+    maxVoltageV: 800,
+    humidityCapable: false,
+    maxHumidityPct: null,
+    mqttUsername: `rig-${code.toLowerCase()}`,
+    mqttSecretHash: 'x',
+    credentialsIssuedAt: new Date(),
+  });
+  return r.id;
+}
+
+/** A stressing run of the first `n` devices of a lot, time zero and 168 h read, with what it lost. */
+async function historyRun(
+  code: string,
+  lotId: string,
+  n: number,
+  extra: {
+    removed?: Parameters<typeof insertHistoryRun>[1]['removed'];
+    catastrophic?: Parameters<typeof insertHistoryRun>[1]['catastrophic'];
+  },
+) {
+  return t.ctx.ds.transaction(async (m) => {
+    const plan = await m.findOneByOrFail(StressPlanEntity, { id: ids.plan });
+    const type = await m.findOneByOrFail(DeviceTypeEntity, { id: ids.type });
+    const lot = await m.findOneByOrFail(LotEntity, { id: lotId });
+    const devices = (await m.find(DeviceEntity, { where: { lotId }, order: { serial: 'ASC' } })).slice(0, n);
+    const rig = await m.findOneByOrFail(RigEntity, { id: ids['OV-01'] });
+    const run = await insertHistoryRun(m, {
+      code,
+      plan,
+      deviceType: type,
+      rig,
+      lots: [{ lot, devices, drift: { hfeDriftPctPer1000h: 0, leakageGrowthPer1000h: 1 } }],
+      state: 'stressing',
+      startedAt: new Date(Date.now() - 400 * 3600_000),
+      stressHours: 200,
+      measuredH: [0, 168],
+      noise: 0,
+      ...extra,
+    });
+    return { run, devices };
+  });
+}
+
+beforeAll(async () => {
+  t = await createTestApp();
+  const eng = await t.signIn('engineer');
+  await t.signIn('operator');
+  await t.signIn('manager');
+  const type = await eng.post('/api/device-types').send(DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140'));
+  expect(type.status).toBe(201);
+  ids.type = type.body.id;
+  for (const [code, prefix, n] of [
+    ['HG2711-A', 'A', 40],
+    ['HG2711-B', 'B', 12],
+    ['HG2711-C', 'C', 20],
+    ['HG2711-D', 'D', 11],
+  ] as const) {
+    const lot = await eng.post('/api/lots').send({ code, deviceTypeId: ids.type, quantity: 1000, serials: serials(prefix, n) });
+    expect(lot.status).toBe(201);
+    ids[code] = lot.body.id;
+  }
+  // A small HTRB sample keeps the test fast: 10 devices, accept on 0.
+  const plan = await eng.post('/api/plans').send({
+    name: 'HTRB 145 °C, 80 % VCBO, 1000 h',
+    kind: 'htrb',
+    deviceTypeId: ids.type,
+    chamberC: 145,
+    bias: { vcbV: 112 },
+    durationH: 1000,
+    readPointsH: [0, 168, 500, 1000],
+    sampleSize: 10,
+    acceptNumber: 0,
+    criteria: {},
+  });
+  expect(plan.status).toBe(201);
+  ids.plan = plan.body.id;
+  ids['OV-01'] = await addRig('OV-01', 64);
+  ids['OV-02'] = await addRig('OV-02', 64);
+
+  // Lot A: A0001 lost and A0002 excluded at 168 h; A0003's socket tripped at 50 h with no disposition yet.
+  const a = await historyRun('HTRB-2711-A', ids['HG2711-A'], 10, {
+    removed: [
+      { serial: 'A0001', atH: 168, kind: 'lost', reason: 'Not in the carrier after unloading' },
+      { serial: 'A0002', atH: 168, kind: 'excluded', reason: 'Bent lead found at the 168 h read point' },
+    ],
+  });
+  await t.ctx.ds
+    .getRepository(RunSocketEntity)
+    .update(
+      { runId: a.run.id, deviceId: a.devices[2].id },
+      { tripped: true, trippedAt: new Date(Date.now() - 300 * 3600_000), accruedHours: 50, tripReason: 'runaway' },
+    );
+  ids.runA = a.run.id;
+  ids.sampleA = a.run.sampleId!;
+  // Lot B: nothing lost.
+  ids.runB = (await historyRun('HTRB-2711-B', ids['HG2711-B'], 10, {})).run.id;
+  // Lot C: one device open at 168 h (a failure beyond c = 0) and one lost.
+  ids.runC = (
+    await historyRun('HTRB-2711-C', ids['HG2711-C'], 10, {
+      catastrophic: [{ serial: 'C0003', atH: 168, result: 'open' }],
+      removed: [{ serial: 'C0001', atH: 168, kind: 'lost', reason: 'Dropped during unloading' }],
+    })
+  ).run.id;
+  // Lot D: 10 of 11 devices stressed, two lost: a make-up needs 2 fresh devices and the lot holds 1.
+  ids.runD = (
+    await historyRun('HTRB-2711-D', ids['HG2711-D'], 10, {
+      removed: [
+        { serial: 'D0001', atH: 168, kind: 'lost', reason: 'Not in the carrier after unloading' },
+        { serial: 'D0002', atH: 168, kind: 'damaged', reason: 'Lead snapped in the socket' },
+      ],
+    })
+  ).run.id;
+});
+afterAll(async () => {
+  await t.close();
+});
+
+describe('GET /api/runs/:id/make-up', () => {
+  it('names what was lost, the LTPD now against the plan, the make-up of 3 and the earliest rig time', async () => {
+    const res = await (await t.signIn('operator')).get(`/api/runs/${ids.runA}/make-up`);
+    expect(res.status).toBe(200);
+    expect(res.body).toMatchObject({
+      runCode: 'HTRB-2711-A',
+      sampleId: ids.sampleA,
+      lot: { code: 'HG2711-A' },
+      plan: { sampleSize: 10, acceptNumber: 0 },
+      status: 'possible',
+      sampleBookedSize: 10,
+      valid: 7,
+      failures: 0,
+      makeUpSize: 3,
+      freshInLot: 30,
+      noFailureRoom: false,
+      needsOverride: false,
+    });
+    expect(res.body.lost.map((d: { serial: string; kind: string }) => [d.serial, d.kind])).toEqual([
+      ['A0001', 'removed'],
+      ['A0002', 'removed'],
+      ['A0003', 'tripped'],
+    ]);
+    expect(res.body.lost[2].why).toBe('socket tripped at 50 h (runaway); failure, re-seat or exclusion not yet recorded');
+    // [pub: binomial success-run, c 0: LTPD = 1 − (1 − CL)^(1/n), CL 90 % (MIL-PRF-19500 LTPD tables)]
+    expect(res.body.planLtpd).toBeCloseTo(1 - 0.1 ** (1 / 10), 9); // 20.57 %
+    expect(res.body.ltpdNow).toBeCloseTo(1 - 0.1 ** (1 / 7), 9); // 28.03 %
+    expect(res.body.restoredLtpd).toBeCloseTo(1 - 0.1 ** (1 / 10), 9);
+    expect(res.body.explanation).toBe(
+      'A make-up of 3 fresh devices, judged with the 7 still in the sample, restores 10 devices at accept number 0: LTPD 20.57 % (now 28.03 %).',
+    );
+    expect(res.body.slot).toMatchObject({ rigCode: expect.stringMatching(/^OV-0[12]$/) });
+    expect(Date.parse(res.body.slot.start)).toBeGreaterThan(Date.now() - 60_000);
+    expect(res.body.slotProblems).toEqual([]);
+  });
+
+  it('a run that lost nothing has nothing to restore', async () => {
+    const res = await (await t.signIn('engineer')).get(`/api/runs/${ids.runB}/make-up`);
+    expect(res.status).toBe(200);
+    expect(res.body).toMatchObject({ status: 'nothing-to-restore', valid: 10, notStarted: 0, makeUpSize: 0, lost: [], slot: null });
+    expect(res.body.explanation).toBe(
+      '10 devices are still in the sample; the plan asks for 10, so its LTPD of 20.57 % stands without a make-up.',
+    );
+  });
+
+  it('a sample already failed (an open device, c 0) is not made up', async () => {
+    const res = await (await t.signIn('engineer')).get(`/api/runs/${ids.runC}/make-up`);
+    expect(res.body).toMatchObject({ status: 'failed-already', failures: 1, valid: 9, makeUpSize: 0, slot: null });
+  });
+
+  it('a lot without enough fresh devices says so', async () => {
+    const res = await (await t.signIn('engineer')).get(`/api/runs/${ids.runD}/make-up`);
+    expect(res.body).toMatchObject({ status: 'too-few-fresh', valid: 8, freshInLot: 1, makeUpSize: 0, slot: null });
+    expect(res.body.explanation).toMatch(/^A make-up needs 2 fresh devices from the lot; it holds 1 never stressed\./);
+  });
+
+  it('a malformed run id is a 400; an unknown run a 404', async () => {
+    const eng = await t.signIn('engineer');
+    expect((await eng.get('/api/runs/not-a-run/make-up')).status).toBe(400);
+    const missing = await eng.get('/api/runs/00000000-0000-4000-8000-000000000000/make-up');
+    expect(missing.status).toBe(404);
+  });
+});
+
+describe('POST /api/runs/:id/make-up', () => {
+  const url = () => `/api/runs/${ids.runA}/make-up`;
+
+  it('bad bodies are refused with the field named; nothing changes', async () => {
+    const eng = await t.signIn('engineer');
+    const before = await tableCounts(t.ctx.ds);
+    const noSize = await eng.post(url()).send({ rigId: ids['OV-02'], sampleBookedSize: 10 });
+    expect(noSize.status).toBe(400);
+    expect(Object.keys(noSize.body.error.fields)).toEqual(['makeUpSize']);
+    const badRig = await eng.post(url()).send({ rigId: 'OV-02', makeUpSize: 3, sampleBookedSize: 10 });
+    expect(badRig.status).toBe(400);
+    expect(badRig.body.error.fields.rigId).toEqual(['Not a valid rig id']);
+    const fraction = await eng.post(url()).send({ rigId: ids['OV-02'], makeUpSize: 2.5, sampleBookedSize: 10 });
+    expect(fraction.body.error.fields.makeUpSize).toEqual(['Whole devices only']);
+    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+  });
+
+  it('an operator may not book; nothing changes', async () => {
+    const op = await t.signIn('operator');
+    const before = await tableCounts(t.ctx.ds);
+    const res = await op.post(url()).send({ rigId: ids['OV-02'], makeUpSize: 3, sampleBookedSize: 10 });
+    expect(res.status).toBe(403);
+    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+  });
+
+  it('a stale proposal (other size) is refused with 409 and the current numbers; nothing changes', async () => {
+    const eng = await t.signIn('engineer');
+    const before = await tableCounts(t.ctx.ds);
+    const res = await eng.post(url()).send({ rigId: ids['OV-02'], makeUpSize: 2, sampleBookedSize: 10 });
+    expect(res.status).toBe(409);
+    expect(res.body.error.message).toBe(
+      'The make-up proposal changed: it now asks for 3 devices with 10 booked in the sample. Reload and book again.',
+    );
+    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+  });
+
+  it('nothing to restore: a POST is refused with the reason; nothing changes', async () => {
+    const eng = await t.signIn('engineer');
+    const before = await tableCounts(t.ctx.ds);
+    const res = await eng.post(`/api/runs/${ids.runB}/make-up`).send({ rigId: ids['OV-02'], makeUpSize: 1, sampleBookedSize: 10 });
+    expect(res.status).toBe(422);
+    expect(res.body.error.message).toMatch(/^No make-up to book for run HTRB-2711-B: 10 devices are still in the sample/);
+    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+  });
+
+  it('books the make-up into the same sample in one step, audited; the proposal then has nothing left to restore', async () => {
+    const eng = await t.signIn('engineer');
+    const proposal = (await eng.get(url())).body;
+    const res = await eng.post(url()).send({
+      rigId: proposal.slot.rigId,
+      start: proposal.slot.start,
+      makeUpSize: proposal.makeUpSize,
+      sampleBookedSize: proposal.sampleBookedSize,
+    });
+    expect(res.status).toBe(201);
+    expect(res.body).toMatchObject({ state: 'booked', sampleSize: 3 });
+    expect(res.body.sample).toMatchObject({ id: ids.sampleA, plannedSize: 10, bookedSize: 13 });
+    expect([...res.body.sample.runCodes].sort()).toEqual(['HTRB-2711-A', res.body.code].sort());
+    const made = await t.ctx.ds.getRepository(RunEntity).findOneByOrFail({ id: res.body.id });
+    expect(made.sampleId).toBe(ids.sampleA);
+    expect((await t.ctx.ds.getRepository(SampleEntity).findOneByOrFail({ id: ids.sampleA })).bookedSize).toBe(13);
+    const audit = await t.ctx.ds
+      .getRepository(AuditLogEntity)
+      .findOneByOrFail({ entity: 'sample', entityId: ids.sampleA, action: 'sample.make-up' });
+    expect(audit.details).toMatchObject({
+      makeUpFor: 'HTRB-2711-A',
+      makeUpSize: 3,
+      lost: ['A0001', 'A0002', 'A0003'],
+      bookedBefore: 10,
+      bookedAfter: 13,
+    });
+    // The same click again finds the sample grown: nothing left to restore.
+    const before = await tableCounts(t.ctx.ds);
+    const again = await eng
+      .post(url())
+      .send({ rigId: proposal.slot.rigId, makeUpSize: proposal.makeUpSize, sampleBookedSize: proposal.sampleBookedSize });
+    expect(again.status).toBe(422);
+    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+    const after = (await eng.get(url())).body;
+    expect(after).toMatchObject({ status: 'nothing-to-restore', sampleBookedSize: 13, valid: 10, notStarted: 3 });
+    // Until the make-up is stressed, the LTPD now is the 7 on test's: [pub: binomial success-run, c 0] 1 − 0.1^(1/7).
+    expect(after.ltpdNow).toBeCloseTo(1 - 0.1 ** (1 / 7), 9);
+    expect(after.explanation).toBe(
+      'A make-up is booked: with the 3 devices of runs not started yet, 10 devices will be in the sample; the plan asks for 10. Until they are stressed and read, the 7 on test demonstrate an LTPD of 28.03 %.',
+    );
+  });
+});
