@@ -16,6 +16,7 @@ import { RssSampler } from './lib/rss';
 import { SETTINGS } from './lib/settings';
 import { runAnalytics } from './scenarios/analytics';
 import { runApi } from './scenarios/api';
+import { runFailoverBroker } from './scenarios/failover-broker';
 import { runIngest } from './scenarios/ingest';
 import { runProtection } from './scenarios/protection';
 import { runProtectionAtRating } from './scenarios/protection-at-rating';
@@ -60,6 +61,7 @@ async function main(): Promise<number> {
       ['storage', () => runStorage(env!, log)],
       ['api', () => runApi(env!, log)],
       ['web', () => runWeb(env!, log)],
+      ['failoverBroker', () => runFailoverBroker(env!, log)],
     ];
     for (const [name, run] of scenarios) {
       if (!SETTINGS.scenarios.includes(name as (typeof SETTINGS.scenarios)[number])) continue;

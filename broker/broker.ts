@@ -3,6 +3,7 @@
  * per-rig topic authorisation, a packet-size cap, immediate revocation and counters.
  * Authentication is an injected async function (PostgreSQL in production, a map in tests).
  */
+import type { EventEmitter } from 'node:events';
 import net from 'node:net';
 import type { Aedes as AedesBroker, AedesOptions, AuthenticateError, Client, PublishPacket, Subscription } from 'aedes';
 import {
@@ -16,6 +17,7 @@ import {
   topics,
 } from '../shared/mqtt';
 import { PacketSizeGuard } from './packet-guard';
+import { createRedisMode, type BrokerRedisOptions } from './redis-mode';
 import { SignInThrottle, type SignInThrottleOptions } from './sign-in-throttle';
 
 // aedes 1.x is ESM-only with no default export; Node ≥ 20.19 can require() it (jest: swc transform).
@@ -36,6 +38,11 @@ export interface EmberlotBrokerOptions {
   log?: (line: string) => void;
   /** Failed sign-ins throttled per user name and client address (sign-in-throttle.ts); false = off. */
   signInThrottle?: SignInThrottleOptions | false;
+  /**
+   * Share subscriptions, retained and QoS 1 in-flight/offline messages and wills with other broker
+   * instances through this Redis (redis-mode.ts). Omitted: everything in memory (single machine).
+   */
+  redis?: BrokerRedisOptions;
 }
 
 export interface BrokerCounters {
@@ -54,6 +61,8 @@ export interface BrokerCounters {
   revokedKicks: number;
   /** Rig clients connected right now. */
   readonly connectedRigs: number;
+  /** Redis mode: last wills of a dead broker's clients dropped because the client reconnected elsewhere. */
+  readonly staleWillsDropped: number;
 }
 
 export interface EmberlotBroker {
@@ -106,6 +115,7 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
   let authenticate = opts.authenticate;
   const throttle = opts.signInThrottle === false ? null : new SignInThrottle(opts.signInThrottle ?? {});
 
+  const redisMode = opts.redis ? createRedisMode(opts.redis, log) : null;
   const counters = {
     authFailures: 0,
     authErrors: 0,
@@ -117,9 +127,13 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
     get connectedRigs(): number {
       return clientsOf(broker).filter((c) => c.emberlotPrincipal?.kind === 'rig' && !c.closed).length;
     },
+    get staleWillsDropped(): number {
+      return redisMode?.staleWillsDropped ?? 0;
+    },
   };
 
   const aedesOptions: AedesOptions = {
+    ...redisMode?.aedesOptions,
     // rig-{32-char code}.{suffix} does not fit the MQTT 3.1.1 default of 23.
     maxClientsIdLength: 64,
     authenticate(client, username, password, done) {
@@ -193,6 +207,10 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
   };
 
   const broker = await Aedes.createBroker(aedesOptions);
+  redisMode?.attach(broker);
+  // A Redis hiccup surfaces as a broker 'error' (e.g. wills it could not read): log, never crash.
+  const brokerEvents: EventEmitter = broker; // 'error' is not in aedes' typed events
+  brokerEvents.on('error', (err: Error) => log(`broker error: ${err.message}`));
 
   function kickRig(rigCode: string): number {
     let n = 0;
@@ -256,6 +274,7 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
       await new Promise<void>((resolve) => broker.close(() => resolve()));
       for (const s of sockets) s.destroy();
       await new Promise<void>((resolve) => server.close(() => resolve()));
+      await redisMode?.close();
     })();
     return closing;
   }

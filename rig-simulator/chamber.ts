@@ -18,6 +18,7 @@ import { METHOD_CHAMBER_BAND_K, ROOM_AMBIENT_C } from '../shared/domain/standard
 import {
   chamberReportSchema,
   commandAckSchema,
+  parseBrokerList,
   parseCommand,
   rigClientId,
   topics,
@@ -173,7 +174,9 @@ export class SimulatedChamber {
   state = (): ChamberState => this.s;
 
   start(): void {
-    const c = mqtt.connect(this.config.brokerUrl, {
+    const target = parseBrokerList(this.config.brokerUrl);
+    const c = mqtt.connect(target.url, {
+      ...(target.servers ? { servers: target.servers } : {}),
       clientId: rigClientId(this.rigCode),
       username: this.config.username,
       password: this.config.password,

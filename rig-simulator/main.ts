@@ -2,7 +2,8 @@
  * Run a fleet of simulated rigs until SIGINT/SIGTERM:
  *   SWC_NODE_PROJECT=server/tsconfig.json node -r @swc-node/register rig-simulator/main.ts --config rig-simulator/fleet.example.json
  * Without --config (or EMBERLOT_SIM_CONFIG): EMBERLOT_SIM_RIGS="OV-01:username:secret,OV-02:username:secret".
- * Env: EMBERLOT_MQTT_URL or EMBERLOT_MQTT_PORT (broker), EMBERLOT_CLOCK_RATE (stress hours per
+ * Env: EMBERLOT_MQTT_URL (one broker URL or a comma-separated list) or EMBERLOT_MQTT_PORT (broker),
+ * EMBERLOT_MQTT_PERSISTENT=1 (persistent MQTT sessions, cluster layout), EMBERLOT_CLOCK_RATE (stress hours per
  * wall second, default 1), EMBERLOT_SIM_SAMPLE_S (wall seconds per message, default 0.25),
  * EMBERLOT_SIM_VERBOSE=1 (connection lines).
  */
@@ -140,6 +141,7 @@ function loadConfigs(): RigConfig[] {
       password: merged.password,
       brokerUrl: env.EMBERLOT_MQTT_URL ?? merged.brokerUrl ?? fleet.brokerUrl ?? brokerFromEnv,
       seqStart: merged.seqStart ?? seqFromClock,
+      persistentSession: env.EMBERLOT_MQTT_PERSISTENT === '1',
       stressHoursPerWallSecond: clock ?? merged.stressHoursPerWallSecond,
       samplePeriodWallS: sample ?? merged.samplePeriodWallS,
       log: verbose ? (line: string) => console.log(line) : undefined,

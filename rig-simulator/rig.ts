@@ -4,7 +4,15 @@
  * its outbox until the server confirms it with `stored`, and injects faults on request.
  */
 import mqtt, { type MqttClient } from 'mqtt';
-import { commandAckSchema, rigClientId, telemetryColumnsText, topics, type CommandAck, type RigStatus } from '../shared/mqtt';
+import {
+  commandAckSchema,
+  parseBrokerList,
+  rigClientId,
+  telemetryColumnsText,
+  topics,
+  type CommandAck,
+  type RigStatus,
+} from '../shared/mqtt';
 import { CommandDesk } from './commands';
 import { Outbox, type OutboxEntry } from './outbox';
 import {
@@ -48,7 +56,10 @@ export interface RigFaults {
 
 export interface RigConfig {
   rigCode: string;
+  /** One broker URL or a comma-separated list (tried in turn on each reconnect). */
   brokerUrl: string;
+  /** MQTT persistent session (clean = false) with the fixed client id. */
+  persistentSession?: boolean;
   username: string;
   password: string;
   /** Default `rig-{rigCode}` (the broker insists on that prefix). */
@@ -304,12 +315,16 @@ class SimulatedRig implements RigHandle {
   }
 
   private connect(): void {
-    const c = mqtt.connect(this.config.brokerUrl, {
+    const target = parseBrokerList(this.config.brokerUrl);
+    const c = mqtt.connect(target.url, {
+      ...(target.servers ? { servers: target.servers } : {}),
       clientId: this.config.clientId ?? rigClientId(this.rigCode),
       username: this.config.username,
       password: this.config.password,
       protocolVersion: 4,
-      clean: true,
+      // A persistent session (cluster layout): commands published while the rig moves between
+      // brokers wait for it in the shared session instead of the server's next re-send.
+      clean: !this.config.persistentSession,
       keepalive: 10,
       connectTimeout: 5000,
       reconnectPeriod: (this.config.reconnectWallS ?? 0.5) * 1000,

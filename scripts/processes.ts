@@ -43,3 +43,32 @@ const ALL: ProcessSpec[] = [
 ];
 
 export const PROCESSES: ProcessSpec[] = ALL.filter((p) => !p.file || fs.existsSync(path.join(ROOT, p.file)));
+
+export interface ClusterPorts {
+  brokers: [number, number];
+  apis: [number, number];
+  redisUrl: string;
+}
+
+/**
+ * `npm run start:cluster`: the multi-node layout on loopback — two brokers sharing state through
+ * Redis, two API processes (each given both brokers, in opposite order; EMBERLOT_WORKERS=elect lets
+ * one elected process run ingest, scheduler and protection), the simulator (rigs given both brokers,
+ * persistent sessions) and the mail sink. Same specs as `npm start`, per-process env added.
+ */
+export function clusterProcesses(p: ClusterPorts): ProcessSpec[] {
+  const byName = (name: string) => PROCESSES.find((s) => s.name === name);
+  const url = (order: number[]) => order.map((port) => `mqtt://127.0.0.1:${port}`).join(',');
+  const [a, b] = p.brokers;
+  const out: ProcessSpec[] = [];
+  const add = (name: string, spec: ProcessSpec | undefined, env: Record<string, string>) => {
+    if (spec) out.push({ ...spec, name, env: { ...spec.env, ...env } });
+  };
+  add('mail', byName('mail'), {});
+  add('broker-a', byName('broker'), { EMBERLOT_MQTT_PORT: String(a), EMBERLOT_REDIS_URL: p.redisUrl });
+  add('broker-b', byName('broker'), { EMBERLOT_MQTT_PORT: String(b), EMBERLOT_REDIS_URL: p.redisUrl });
+  add('api-1', byName('api'), { EMBERLOT_PORT: String(p.apis[0]), EMBERLOT_MQTT_URL: url([a, b]), EMBERLOT_WORKERS: 'elect' });
+  add('api-2', byName('api'), { EMBERLOT_PORT: String(p.apis[1]), EMBERLOT_MQTT_URL: url([b, a]), EMBERLOT_WORKERS: 'elect' });
+  add('rigs', byName('rigs'), { EMBERLOT_MQTT_URL: url([a, b]), EMBERLOT_MQTT_PERSISTENT: '1' });
+  return out;
+}

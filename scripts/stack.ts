@@ -12,6 +12,8 @@ export interface Stack {
 export interface StackOptions {
   env: NodeJS.ProcessEnv;
   dev?: boolean;
+  /** The processes to start (default PROCESSES, the single-machine layout). */
+  processes?: ProcessSpec[];
   /** Names to leave out (e.g. the simulator in a benchmark that drives its own rigs). */
   skip?: string[];
   /** Print children's output with a [name] prefix (default true). */
@@ -37,7 +39,7 @@ export async function startStack(opts: StackOptions): Promise<Stack> {
     },
   };
   try {
-    for (const spec of PROCESSES) {
+    for (const spec of opts.processes ?? PROCESSES) {
       if ((spec.devOnly && !opts.dev) || opts.skip?.includes(spec.name)) continue;
       const child = spawn(spec.command[0], spec.command.slice(1), {
         cwd: PROJECT_ROOT,

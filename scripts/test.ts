@@ -12,6 +12,7 @@ import * as path from 'node:path';
 import { dbConfigFromEnv } from '../server/config';
 import { createDataSource } from '../server/db/data-source';
 import { destroyCluster, ensureDatabase, PROJECT_ROOT, startCluster } from './pg-cluster';
+import { ensureRedisInstalled } from './redis-server';
 
 const TEST_PORT = Number(process.env.EMBERLOT_TEST_PG_PORT ?? 54339);
 /** Parallel runs (several developers' helpers on one machine) each set their own EMBERLOT_TEST_PG_PORT. */
@@ -24,6 +25,9 @@ async function main(): Promise<number> {
   const jestArgs = args.filter((a) => a !== '--no-e2e');
   const t0 = Date.now();
 
+  // The broker-cluster tests (tests/broker/cluster-*.test.ts) start their own Redis: install
+  // Debian's redis-server now (as pg-cluster.ts does postgresql) when this run includes them.
+  if (jestArgs.every((a) => a.startsWith('-')) || jestArgs.some((a) => /cluster/.test(a))) ensureRedisInstalled();
   destroyCluster({ ...TEST_PG, quiet: true });
   const pg = startCluster(TEST_PG);
   const env: NodeJS.ProcessEnv = {
@@ -73,6 +77,9 @@ async function main(): Promise<number> {
       if (r.status !== 0 && !fs.existsSync(out)) failed += 1;
     }
   } finally {
+    // The broker-cluster tests (tests/broker/cluster-*.test.ts) start their own Redis: install
+    // Debian's redis-server now (as pg-cluster.ts does postgresql) when this run includes them.
+    if (jestArgs.every((a) => a.startsWith('-')) || jestArgs.some((a) => /cluster/.test(a))) ensureRedisInstalled();
     destroyCluster({ ...TEST_PG, quiet: true });
   }
   console.log(`[test] finished in ${Math.round((Date.now() - t0) / 1000)} s`);

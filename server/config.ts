@@ -6,6 +6,7 @@
 import * as net from 'node:net';
 import { ConfigError, LOOPBACK_ONLY_SECRETS, type Env } from './secrets';
 import { KEEP_AROUND_MIN, MINUTE_KEEP_DAYS, RAW_KEEP_DAYS } from '../shared/domain/telemetry-tiers';
+import { parseBrokerList } from '../shared/mqtt/broker-list';
 
 export type { Env };
 
@@ -136,7 +137,8 @@ export function dbConfigFromEnv(env: Env = process.env): DbConfig {
  * reaches the broker under another name, else the host and port of the server's own broker URL.
  */
 function rigBrokerAddress(env: Env): { rigHost: string; rigPort: number } {
-  const url = new URL(env.EMBERLOT_MQTT_URL ?? `mqtt://127.0.0.1:${int(env.EMBERLOT_MQTT_PORT, 18830)}`);
+  // A list of brokers (cluster layout): rigs are told the first; set EMBERLOT_MQTT_RIG_HOST for the balancer.
+  const url = new URL(parseBrokerList(env.EMBERLOT_MQTT_URL ?? `mqtt://127.0.0.1:${int(env.EMBERLOT_MQTT_PORT, 18830)}`).url);
   return {
     rigHost: env.EMBERLOT_MQTT_RIG_HOST || url.hostname,
     rigPort: int(env.EMBERLOT_MQTT_RIG_PORT, url.port ? Number(url.port) : 1883),

@@ -12,7 +12,7 @@ const num = (name: string, d: number): number => {
   return n;
 };
 
-export const SCENARIOS = ['ingest', 'protection', 'analytics', 'storage', 'api', 'web'] as const;
+export const SCENARIOS = ['ingest', 'protection', 'analytics', 'storage', 'api', 'web', 'failoverBroker'] as const;
 export type ScenarioName = (typeof SCENARIOS)[number];
 
 function scenarioList(): ScenarioName[] {

@@ -2,3 +2,4 @@
 export * from './topics';
 export * from './payloads';
 export * from './chamber';
+export * from './broker-list';

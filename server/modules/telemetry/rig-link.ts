@@ -8,7 +8,7 @@
  */
 import { randomBytes } from 'node:crypto';
 import mqtt, { type MqttClient } from 'mqtt';
-import { commandSchema, describeIssues, topics, type CommandAck, type StoredCommand } from '../../../shared/mqtt';
+import { commandSchema, describeIssues, parseBrokerList, topics, type CommandAck, type StoredCommand } from '../../../shared/mqtt';
 import type { RigCommandBody, RigLink } from './contracts';
 
 export interface MqttRigLinkOptions {
@@ -79,7 +79,9 @@ export class MqttRigLink implements RigLink {
 
   start(): void {
     if (this.client || this.stopped) return;
-    const c = mqtt.connect(this.opts.url, {
+    const target = parseBrokerList(this.opts.url);
+    const c = mqtt.connect(target.url, {
+      ...(target.servers ? { servers: target.servers } : {}),
       clientId: this.opts.clientId ?? `emberlot-server-${process.pid}-${this.boot}`,
       username: this.opts.username,
       password: this.opts.password,
@@ -94,7 +96,9 @@ export class MqttRigLink implements RigLink {
     c.on('connect', () => {
       this.backoffMs = this.minBackoffMs;
       c.options.reconnectPeriod = this.backoffMs;
-      this.log(`${this.lastError ? 'reconnected' : 'connected'} to ${this.opts.url}`);
+      // With a list of brokers, name the one this connection reached.
+      const where = target.servers ? `mqtt://${c.options.host}:${c.options.port}` : this.opts.url;
+      this.log(`${this.lastError ? 'reconnected' : 'connected'} to ${where}`);
       this.lastError = '';
       this.wasConnected = true;
       // Telemetry at QoS 0: its delivery is already guaranteed end to end — a rig keeps every

@@ -1,0 +1,139 @@
+/**
+ * Two brokers in Redis mode (broker/redis-mode.ts) on one private Redis (scripts/redis-server.ts):
+ * what one broker's clients publish, subscribe, retain or leave queued is seen through the other, and
+ * the single broker's rules still hold in this mode — authentication and client ids, the topic ACL,
+ * revocation (now across brokers) and the sign-in throttle.
+ * Redis port: EMBERLOT_TEST_REDIS_PORT + 1 when set, else a free ephemeral port.
+ */
+import type { MqttClient } from 'mqtt';
+import { createEmberlotBroker, type EmberlotBroker } from '../../broker/broker';
+import { destroyRedis, startRedis, type RedisOptions } from '../../scripts/redis-server';
+import { parseStatus, topics } from '../../shared/mqtt';
+import { freePort } from '../support/processes';
+import { connectClient, endAll, mapAuthenticate, rigClient, serverClient, sleep, waitClosed, waitFor } from './mqtt-test-helpers';
+
+jest.setTimeout(30_000);
+
+let redisOpts: RedisOptions;
+let a: EmberlotBroker;
+let b: EmberlotBroker;
+const opened: MqttClient[] = [];
+const track = (c: MqttClient) => (opened.push(c), c);
+
+beforeAll(async () => {
+  const fixed = Number(process.env.EMBERLOT_TEST_REDIS_PORT ?? 0);
+  const port = fixed > 0 ? fixed + 1 : await freePort();
+  redisOpts = { name: `test-brokers-${port}`, port, throwaway: true, quiet: true };
+  await destroyRedis(redisOpts);
+  const redis = await startRedis(redisOpts);
+  const make = () =>
+    createEmberlotBroker({
+      port: 0,
+      authenticate: mapAuthenticate,
+      redis: { url: redis.url, heartbeatIntervalMs: 500 },
+      log: process.env.BROKER_LOG ? (l) => console.log(l) : undefined,
+    });
+  [a, b] = await Promise.all([make(), make()]);
+}, 30_000);
+
+afterEach(async () => {
+  await endAll(opened.splice(0));
+});
+
+afterAll(async () => {
+  await Promise.all([a?.close(), b?.close()]);
+  await destroyRedis(redisOpts);
+});
+
+function collect(client: MqttClient) {
+  const got: { topic: string; payload: string; retain: boolean }[] = [];
+  client.on('message', (topic, payload, packet) => got.push({ topic, payload: payload.toString(), retain: packet.retain }));
+  return got;
+}
+
+test("a rig's telemetry on broker A reaches the server on broker B; the server's command on B reaches the rig on A", async () => {
+  const server = track(await serverClient(b.port, 'emberlot-server-b'));
+  const toServer = collect(server);
+  await server.subscribeAsync(topics.all.telemetry, { qos: 1 });
+  const rig = track(await rigClient(a.port, 'OV-01'));
+  const toRig = collect(rig);
+  await rig.subscribeAsync(topics.commands('OV-01'), { qos: 1 });
+  await sleep(200); // subscriptions travel through Redis
+  await rig.publishAsync(topics.telemetry('OV-01'), 'sample-1', { qos: 1 });
+  await server.publishAsync(topics.commands('OV-01'), 'command-1', { qos: 1 });
+  await waitFor(() => toServer.length === 1 && toRig.length === 1, 5000, 'both messages across brokers');
+  expect(toServer).toEqual([{ topic: topics.telemetry('OV-01'), payload: 'sample-1', retain: false }]);
+  expect(toRig).toEqual([{ topic: topics.commands('OV-01'), payload: 'command-1', retain: false }]);
+});
+
+test('a retained status published through A is replayed to a subscriber that arrives later on B', async () => {
+  const rig = track(await rigClient(a.port, 'OV-02'));
+  const status = { v: 1, rig: 'OV-02', online: true, ts: new Date().toISOString(), lastSeq: 7 };
+  await rig.publishAsync(topics.status('OV-02'), JSON.stringify(status), { qos: 1, retain: true });
+  const server = track(await serverClient(b.port, 'emberlot-server-late'));
+  const got = collect(server);
+  await server.subscribeAsync(topics.status('OV-02'), { qos: 1 });
+  await waitFor(() => got.length === 1, 5000, 'retained status on B');
+  expect(got[0].retain).toBe(true);
+  const parsed = parseStatus(got[0].payload);
+  expect(parsed.ok && parsed.data.lastSeq).toBe(7);
+});
+
+test('a QoS 1 command queued for an offline persistent session while it moves from A to B is delivered once on B', async () => {
+  const first = await rigClient(a.port, 'OV-01', { clean: false });
+  await first.subscribeAsync(topics.commands('OV-01'), { qos: 1 });
+  await first.endAsync();
+  const server = track(await serverClient(b.port, 'emberlot-server-q'));
+  await server.publishAsync(topics.commands('OV-01'), 'while-away', { qos: 1 });
+  const again = track(await rigClient(b.port, 'OV-01', { clean: false }));
+  const got = collect(again);
+  await waitFor(() => got.length >= 1, 5000, 'queued command on B');
+  await sleep(300);
+  expect(got.map((m) => m.payload)).toEqual(['while-away']);
+  // Leave no session behind for the other tests.
+  await again.endAsync();
+  track(await rigClient(b.port, 'OV-01', { clean: true }));
+});
+
+test('the topic rules hold on both brokers: a rig cannot publish as another rig or subscribe to its commands', async () => {
+  for (const eb of [a, b]) {
+    const before = { spoofed: eb.counters.spoofedPublishes, refused: eb.counters.refusedSubscriptions };
+    const rig = track(await rigClient(eb.port, 'OV-01'));
+    await expect(rig.subscribeAsync(topics.commands('OV-02'), { qos: 1 })).rejects.toBeTruthy();
+    rig.publish(topics.telemetry('OV-02'), 'spoof', { qos: 1 });
+    await waitClosed(rig);
+    expect(eb.counters.spoofedPublishes).toBe(before.spoofed + 1);
+    expect(eb.counters.refusedSubscriptions).toBe(before.refused + 1);
+  }
+});
+
+test('bad credentials and a foreign client id are refused in Redis mode', async () => {
+  await expect(connectClient(b.port, { clientId: 'rig-OV-01', username: 'rig-OV-01', password: 'guess' })).rejects.toMatchObject({
+    code: 4,
+  });
+  await expect(connectClient(b.port, { clientId: 'rig-OV-02', username: 'rig-OV-01', password: 'ov01-secret' })).rejects.toMatchObject({
+    code: 2,
+  });
+});
+
+test('a revocation published by the server through A disconnects the rig connected to B', async () => {
+  const rig = track(await rigClient(b.port, 'OV-02'));
+  const server = track(await serverClient(a.port, 'emberlot-server-revoke'));
+  const before = b.counters.revokedKicks;
+  await server.publishAsync(topics.revoke, JSON.stringify({ v: 1, rig: 'OV-02' }), { qos: 1 });
+  await waitClosed(rig, 5000);
+  expect(b.counters.revokedKicks).toBe(before + 1);
+});
+
+test('the sign-in throttle still locks a user name after 5 failures (per broker)', async () => {
+  const before = a.counters.throttledConnects;
+  for (let k = 0; k < 5; k++) {
+    await expect(connectClient(a.port, { clientId: 'rig-OV-02', username: 'rig-OV-02', password: `guess-${k}` })).rejects.toMatchObject({
+      code: 4,
+    });
+  }
+  await expect(connectClient(a.port, { clientId: 'rig-OV-02', username: 'rig-OV-02', password: 'guess-6' })).rejects.toMatchObject({
+    code: 5,
+  });
+  expect(a.counters.throttledConnects).toBe(before + 1);
+});
