@@ -21,6 +21,15 @@ const faultsSchema = z
         rampCPerWPerH: z.number().min(0).optional(),
       })
       .optional(),
+    dryingPad: z
+      .object({
+        sockets: z.array(z.number().int().min(0)),
+        startCPerW: z.number().positive().optional(),
+        rampCPerWPerH: z.number().min(0).optional(),
+        maxCPerW: z.number().positive().optional(),
+      })
+      .strict()
+      .optional(),
     dropOff: z
       .object({ afterWallS: z.number().min(0), forWallS: z.number().positive(), everyWallS: z.number().positive().optional() })
       .optional(),

@@ -37,6 +37,13 @@ export interface RigFaults {
    * hours, then runs away; with 0 the socket is poor from the start and runs away at once.
    */
   poorHeatSink?: { sockets: number[]; thetaCaCPerW?: number; rampCPerWPerH?: number };
+  /**
+   * Sockets whose thermal pad dries out: θca starts at `startCPerW` (default the rig's sound value)
+   * and rises by `rampCPerWPerH` (default 0.5) °C/W per energised stress hour up to `maxCPerW`
+   * (default 24) — slowly, over hours, so the thermal model's flag (server/modules/thermal) can
+   * catch it long before protection has to trip the socket.
+   */
+  dryingPad?: { sockets: number[]; startCPerW?: number; rampCPerWPerH?: number; maxCPerW?: number };
   /** Lose the connection (socket dies, last will fires) after `afterWallS` for `forWallS`; repeat every `everyWallS`. */
   dropOff?: { afterWallS: number; forWallS: number; everyWallS?: number };
   /** Sensor noise on the published readings (the physics stays clean). */
@@ -157,15 +164,27 @@ function buildSockets(config: RigConfig): SocketSetup[] {
   const sound = config.thetaCaCPerW ?? DEFAULTS.thetaCaCPerW;
   const poorTheta = poor?.thetaCaCPerW ?? DEFAULTS.poorThetaCaCPerW;
   const ramp = poor?.rampCPerWPerH ?? 1;
+  const pad = config.faults?.dryingPad;
+  const padSet = new Set(pad?.sockets ?? []);
   return devices.map((device, i) => {
     const isPoor = poorSet.has(i);
+    const isPad = !isPoor && padSet.has(i);
     const mode = config.mode ?? 'powered';
+    const thermal = isPad
+      ? {
+          thetaCaCPerW: pad?.startCPerW ?? sound,
+          thetaCaRampCPerWPerH: pad?.rampCPerWPerH ?? 0.5,
+          thetaCaMaxCPerW: pad?.maxCPerW ?? DEFAULTS.poorThetaCaCPerW,
+        }
+      : {
+          thetaCaCPerW: isPoor && ramp <= 0 ? poorTheta : sound,
+          thetaCaRampCPerWPerH: isPoor && ramp > 0 ? ramp : 0,
+          thetaCaMaxCPerW: isPoor ? poorTheta : sound,
+        };
     return {
       device,
       mode,
-      thetaCaCPerW: isPoor && ramp <= 0 ? poorTheta : sound,
-      thetaCaRampCPerWPerH: isPoor && ramp > 0 ? ramp : 0,
-      thetaCaMaxCPerW: isPoor ? poorTheta : sound,
+      ...thermal,
       caseTauS: config.caseTauStressS,
       biasOn: config.biasOn ?? false,
       vV: config.vV,

@@ -2,8 +2,8 @@
  * Writes the rig simulator's fleet file for the demo from the database: one simulated rig per
  * registered rig (demo secrets), the devices of each rig's active run in its sockets with their
  * lot's drift, and the run's bias. Rigs without an active run idle at room temperature.
- * One socket of the first powered-life run gets poor heat sinking, so live protection has a
- * runaway to catch in the demo.
+ * Two sockets of the first powered-life run get poor heat sinking, so live protection has a
+ * runaway to catch in the demo, and one a slowly drying thermal pad for the thermal model's flag.
  */
 import * as fs from 'node:fs';
 import * as path from 'node:path';
@@ -17,6 +17,8 @@ import type { Bias } from '../shared/schemas/plans';
 import { DEMO_LOTS, demoRigSecret, rigMqttUsername } from '../server/seed/demo-data';
 
 const IDLE_SOCKETS = 4;
+/** The demo's socket with a drying thermal pad (on the rig with the injected runaways). */
+export const DRYING_PAD_SOCKET = 2;
 /** Wall seconds between messages: 0.5 s = half a stress hour at the default clock. */
 const DEMO_SAMPLE_S = 0.5;
 
@@ -192,7 +194,15 @@ export async function writeDemoFleet(ds: DataSource, file: string): Promise<{ ri
       // it. This rig runs a slower clock (0.04 stress h per wall second, 72 stress seconds between
       // samples): at the demo's 1 h/s a whole runaway fits between two samples, which no trip can beat.
       // Measured offline with the simulator's physics: trip at 0.56 stress h with true Tj ≈ 141 °C.
-      entry.faults = { noise: { tempC: 0.2, currentPct: 0.5 }, poorHeatSink: { sockets: [5, 11], thetaCaCPerW: 60, rampCPerWPerH: 60 } };
+      // Socket 2: a drying thermal pad, θca 2 → 60 °C/W at 0.5 °C/W per stress hour (an hour of stress
+      // is 25 wall seconds here): the thermal model flags it after a stress hour or two (θ past its
+      // settled first value + 25 %, shared/thermal/rules.ts); protection would trip it only near
+      // θca 55 (Tj max − 10 °C at the run's ~1.8 W), some 100 stress hours later.
+      entry.faults = {
+        noise: { tempC: 0.2, currentPct: 0.5 },
+        poorHeatSink: { sockets: [5, 11], thetaCaCPerW: 60, rampCPerWPerH: 60 },
+        dryingPad: { sockets: [DRYING_PAD_SOCKET], startCPerW: 2, rampCPerWPerH: 0.5, maxCPerW: 60 },
+      };
       entry.stressHoursPerWallSecond = 0.04;
       faultPlaced = true;
     }

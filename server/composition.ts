@@ -45,6 +45,8 @@ import { UsersService } from './modules/users/users.service';
 import { ReplanService } from './modules/replan/replan.service';
 import { MakeUpService } from './modules/make-up/make-up.service';
 import { UtilisationService } from './modules/utilisation/utilisation.service';
+import { ThermalService } from './modules/thermal/thermal.service';
+import type { ThermalTracker } from './modules/thermal/thermal.tracker';
 
 /** Every service of the API process. */
 export interface Services {
@@ -76,12 +78,15 @@ export interface Services {
   replan: ReplanService;
   utilisation: UtilisationService;
   makeUp: MakeUpService;
+  thermal: ThermalService;
   /** Replaced (typed) when protection starts with its own retry options (protection/start.ts). */
   mail: MailService;
   /** Live parts: set while the background features run, undefined otherwise (or a test's fake link). */
   rigLink: RigLink | undefined;
   telemetryIngest: TelemetryIngest | undefined;
   protection: ProtectionMonitor | undefined;
+  /** The socket thermal model's live tracker (started with protection, protection/start.ts). */
+  thermalTracker: ThermalTracker | undefined;
   scheduler: RunScheduler | undefined;
   /** The workers' leader election (EMBERLOT_WORKERS=elect, server/cluster/); undefined: this process always leads. */
   leadership: { status(): LeadershipStatus } | undefined;
@@ -149,10 +154,12 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     replan: new ReplanService(ctx),
     utilisation: new UtilisationService(ctx),
     makeUp: new MakeUpService(ctx),
+    thermal: new ThermalService(ctx),
     mail,
     rigLink: undefined,
     telemetryIngest: undefined,
     protection: undefined,
+    thermalTracker: undefined,
     scheduler: undefined,
     leadership: undefined,
   };

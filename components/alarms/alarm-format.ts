@@ -51,6 +51,12 @@ const NUMBER_LABELS: Array<[string, string, Fmt]> = [
   ['ratio', 'Rise', (v) => `×${Number(v.toPrecision(3))}`],
   ['elapsedStressH', 'Stress hours since heating began', (v) => v.toFixed(1)],
   ['attempts', 'Attempts', (v) => String(v)],
+  // The thermal path flag (server/modules/thermal).
+  ['thetaCPerW', 'θ case–chamber now', (v) => `${Number(v.toPrecision(3))} °C/W`],
+  ['baselineThetaCPerW', 'θ first in this run', (v) => `${Number(v.toPrecision(3))} °C/W`],
+  ['riseFraction', 'θ risen by', (v) => `${Math.round(v * 100)} %`],
+  ['tauS', 'Time constant τ', (v) => `${Math.round(v)} s`],
+  ['rmsC', 'Fit RMS', (v) => `${v.toFixed(2)} K`],
 ];
 
 function amps(v: number): string {

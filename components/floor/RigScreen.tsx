@@ -29,6 +29,7 @@ import { useCan } from '@/components/queries/auth';
 import { Banner } from '@/components/ui/Banner';
 import { RigRuns } from './RigRuns';
 import { ChamberBoard, ChamberCaution } from './ChamberBoard';
+import { SocketThermal } from './SocketThermal';
 import type { TripResetResult } from '@/shared/schemas/protection';
 
 const SPANS = [
@@ -153,6 +154,7 @@ function Board({ board, code }: { board: FloorBoard; code: string }) {
               onResetTrip={sel.tripped && t.run?.state === 'stressing' && can('run.reset-trip') ? () => setResetting(sel) : undefined}
             />
           ) : null}
+          {sel && t.run ? <SocketThermal code={code} socket={sel.index} /> : null}
         </View>
       </View>
       <Card

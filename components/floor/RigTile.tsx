@@ -52,6 +52,12 @@ function ChamberBody({ tile, chamber }: { tile: FloorTile; chamber: FloorChamber
   );
 }
 
+/** "Thermal path degrading: socket 2" (empty without flags). */
+export function thermalFlagText(sockets: readonly number[]): string {
+  if (!sockets.length) return '';
+  return `Thermal path degrading: socket${sockets.length > 1 ? 's' : ''} ${sockets.join(', ')}`;
+}
+
 export function RigTile({ tile }: { tile: FloorTile }) {
   const s = rigState(tile);
   const off = tile.chamberC !== null && tile.setpointC !== null ? tile.chamberC - tile.setpointC : null;
@@ -65,6 +71,7 @@ export function RigTile({ tile }: { tile: FloorTile }) {
     `chamber ${chamberText}`,
     `${tile.powered} powered, ${tile.tripped} tripped, ${tile.empty} empty sockets`,
     `${tile.openAlarms} open alarms`,
+    thermalFlagText(tile.thermalFlags),
     tile.run ? `run ${tile.run.code}` : 'no run',
     next ? `next read point in ${next}` : '',
   ]
@@ -118,6 +125,11 @@ export function RigTile({ tile }: { tile: FloorTile }) {
               <Stat label="Empty" value={String(tile.empty)} />
               <Stat label="Alarms" value={String(tile.openAlarms)} tone={tile.openAlarms ? 'attention' : undefined} />
             </View>
+            {tile.thermalFlags.length ? (
+              <Text variant="caption" tone="attention" testID={`rig-tile-thermal-${tile.code}`}>
+                {thermalFlagText(tile.thermalFlags)}
+              </Text>
+            ) : null}
             <Text variant="caption" tone="muted">
               {tile.run
                 ? `Run ${tile.run.code} · ${fmtHours(tile.run.stressHours)} stressed${next ? ` · next read point: ${next}` : ''}`

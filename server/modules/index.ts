@@ -28,6 +28,7 @@ import { utilisationRoutes } from './utilisation/utilisation.routes';
 import { qualificationsRoutes } from './qualifications/qualifications.routes';
 import { makeUpRoutes } from './make-up/make-up.routes';
 import { forecastRoutes } from './forecast/forecast.routes';
+import { thermalRoutes } from './thermal/thermal.routes';
 
 /** Every module's router, in mount order (each module exports its own). Add a feature's router here (one line). */
 export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
@@ -59,6 +60,7 @@ export const MODULE_ROUTERS: ReadonlyArray<(ctx: AppContext) => ApiRouter> = [
   qualificationsRoutes,
   makeUpRoutes,
   forecastRoutes,
+  thermalRoutes,
 ];
 
 export function apiRouters(ctx: AppContext): ApiRouter[] {

@@ -11,6 +11,7 @@ export const ALARM_KINDS = [
   'leakage-jump',
   'ingest-dropped',
   'command-failed',
+  'thermal-path',
 ] as const;
 export type AlarmKindName = (typeof ALARM_KINDS)[number];
 export const isAlarmKind = (s: string): s is AlarmKindName => (ALARM_KINDS as readonly string[]).includes(s);
@@ -27,6 +28,7 @@ export const ALARM_KIND_LABEL: Record<AlarmKindName, string> = {
   'leakage-jump': 'Leakage jump',
   'ingest-dropped': 'Telemetry dropped',
   'command-failed': 'Rig command failed',
+  'thermal-path': 'Thermal path degrading',
 };
 
 export const ALARM_SEVERITIES = ['critical', 'warning', 'info'] as const;

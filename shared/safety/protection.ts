@@ -30,6 +30,7 @@
  *   transients are caught by the time-to-limit projection and the temperature threshold.
  */
 import { RATED_STRESS_HEADROOM_K } from '../domain/standards';
+import { protectionThetaCa } from '../thermal/rules';
 import {
   FIT_ACCEL,
   FIT_ACCEL_SE,
@@ -65,6 +66,12 @@ export interface ProtectionDevice {
    * so the fitted θca is bounded by θja − θjc. Absent: DEFAULT_MAX_THETA_JA_C_PER_W.
    */
   thetaJaCPerW?: number;
+  /**
+   * The socket's identified case-to-ambient θ (°C/W, shared/thermal: a good fit of its own
+   * telemetry), or null/absent. It may only raise the θca the loop gain uses and its bound, never
+   * lower them (protectionThetaCa in shared/thermal/rules.ts).
+   */
+  identifiedThetaCaCPerW?: number | null;
 }
 
 /**
@@ -170,6 +177,7 @@ export const DEFAULT_PROTECTION_OPTIONS: ProtectionOptions = {
 };
 
 export type ProtectionAction = 'none' | 'warn' | 'trip';
+export type ThetaCaSource = 'window' | 'identified' | 'none';
 
 export interface SocketAssessment {
   /** Junction estimate at the latest sample; null with no samples. */
@@ -180,8 +188,10 @@ export interface SocketAssessment {
   secondsToTjMax: number | null;
   /** Fitted Tj slope at the latest sample (°C/s); null without a trend fit. */
   slopeCPerS: number | null;
-  /** Fitted case-to-chamber thermal resistance (°C/W); null without a fit. */
+  /** Case-to-chamber thermal resistance the loop gain used (°C/W); null without a fit. */
   thetaCaCPerW: number | null;
+  /** Where thetaCaCPerW came from: protection's own window fit, or the socket's identified θca (larger). */
+  thetaCaSource?: ThetaCaSource;
   action: ProtectionAction;
   reason: string;
 }
@@ -205,15 +215,18 @@ const REG = new Float64Array(REG_LEN);
 /** estimateLoopGain's two results (scratch, read right after the call). */
 let lgLoopGain: number | null = null;
 let lgThetaCa: number | null = null;
+let lgThetaSource: ThetaCaSource = 'none';
 
 function estimateLoopGain(trend: SocketTrend, device: ProtectionDevice, opts: ProtectionOptions): void {
   const thetaJc = device.thetaJcCPerW;
   trend.caseRegressionTo(REG);
   lgLoopGain = null;
   lgThetaCa = null;
+  lgThetaSource = 'none';
   if (!(REG[REG_SUM_P2] > 0)) return;
   const thetaCa = REG[REG_SUM_RISE_P] / REG[REG_SUM_P2];
   lgThetaCa = thetaCa;
+  lgThetaSource = 'window';
   const n = REG[REG_N];
   const sxx = REG[REG_SXX];
   if (REG[REG_CASE_SPAN] < opts.minCaseSpanC || n < 3 || !(sxx > 0)) return;
@@ -222,7 +235,15 @@ function estimateLoopGain(trend: SocketTrend, device: ProtectionDevice, opts: Pr
   if (!(Math.abs(s) > opts.significanceZ * se)) return;
   const dPdTj = s / (1 + thetaJc * s);
   const thetaCaMax = Math.max(0, (device.thetaJaCPerW ?? DEFAULT_MAX_THETA_JA_C_PER_W) - thetaJc);
-  lgLoopGain = (thetaJc + Math.min(thetaCaMax, Math.max(0, thetaCa))) * dPdTj;
+  // The identified θca may raise the window's θca and its bound, never lower them (shared/thermal/rules.ts).
+  const used = protectionThetaCa({
+    windowThetaCa: thetaCa,
+    ratedBoundThetaCa: thetaCaMax,
+    identifiedThetaCa: device.identifiedThetaCaCPerW ?? null,
+  });
+  lgThetaCa = used.thetaCa;
+  lgThetaSource = used.source;
+  lgLoopGain = (thetaJc + (used.thetaCa ?? 0)) * dPdTj;
 }
 
 /** A fitted loop gain far above 1 only says "runaway": the digits would be noise. */
@@ -278,6 +299,7 @@ const J_SLOPE = 3;
 const J_THETA_CA = 4;
 const J_RISING = 5;
 let jText: string | null = null;
+let jThetaSource: ThetaCaSource = 'none';
 const orNull = (x: number) => (Number.isNaN(x) ? null : x);
 
 /**
@@ -296,6 +318,7 @@ export function judgeTrend(
     J.fill(NaN);
     J[J_RISING] = 0;
     jText = 'No samples yet';
+    jThetaSource = 'none';
     return 'none';
   }
   const tj = trend.lastTjC;
@@ -306,6 +329,7 @@ export function judgeTrend(
   let rising = false;
   let loopGain: number | null = null;
   let thetaCa: number | null = null;
+  let thetaSource: ThetaCaSource = 'none';
   /** Before minTrendS: rising and projected to Tj max within horizonS (only the zone rules read it). */
   let earlyClimb = false;
   /** Seconds to Tj max at the current slope alone (Infinity when not rising). */
@@ -334,6 +358,7 @@ export function judgeTrend(
       estimateLoopGain(trend, device, opts);
       loopGain = lgLoopGain;
       thetaCa = lgThetaCa;
+      thetaSource = lgThetaSource;
     }
   }
 
@@ -392,6 +417,7 @@ export function judgeTrend(
   J[J_SECONDS] = seconds ?? NaN;
   J[J_SLOPE] = slope ?? NaN;
   J[J_THETA_CA] = thetaCa ?? NaN;
+  jThetaSource = thetaSource;
   J[J_RISING] = rising ? 1 : 0;
   jText = text;
   return action;
@@ -429,6 +455,7 @@ export function assessTrend(
     jText,
     device.tjMaxC,
     J[J_RISING] === 1,
+    jThetaSource,
   );
 }
 
@@ -452,6 +479,7 @@ class Assessment implements SocketAssessment {
     text: string | null,
     tjMaxC: number,
     rising: boolean,
+    readonly thetaCaSource: ThetaCaSource = 'none',
   ) {
     this.#text = text;
     this.#tjMaxC = tjMaxC;
@@ -472,7 +500,7 @@ class Assessment implements SocketAssessment {
   }
 
   toJSON() {
-    const { tjC, loopGain, secondsToTjMax, slopeCPerS, thetaCaCPerW, action, reason } = this;
-    return { tjC, loopGain, secondsToTjMax, slopeCPerS, thetaCaCPerW, action, reason };
+    const { tjC, loopGain, secondsToTjMax, slopeCPerS, thetaCaCPerW, thetaCaSource, action, reason } = this;
+    return { tjC, loopGain, secondsToTjMax, slopeCPerS, thetaCaCPerW, thetaCaSource, action, reason };
   }
 }

@@ -36,6 +36,8 @@ export interface FloorTile {
   openAlarms: number;
   /** A chamber for the unbiased kinds (rig kind 'chamber'); null for a burn-in oven. */
   chamber: FloorChamber | null;
+  /** Sockets whose thermal path is flagged as degrading (a live 'thermal-path' alarm; server/modules/thermal). */
+  thermalFlags: number[];
   run: {
     id: string;
     code: string;

@@ -51,6 +51,7 @@ const tile = (c: FloorChamber | null, over: Partial<FloorTile> = {}): FloorTile 
   empty: 115,
   maxCaseC: null,
   openAlarms: 2,
+  thermalFlags: [],
   chamber: c,
   run: {
     id: 'run1',

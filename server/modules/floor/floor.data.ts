@@ -55,6 +55,7 @@ export interface TileRow {
   cs_pressure_k_pa: number | null;
   cs_door_open: boolean | null;
   excursion_alarms: number;
+  thermal_flags: number[];
 }
 
 /**
@@ -92,7 +93,10 @@ SELECT r.id, r.code, r.name, r.location, r.active, r.online, r.last_seen_at, r.c
        cs.ts AS cs_ts, cs.air_c AS cs_air_c, cs.load_c AS cs_load_c, cs.setpoint_c AS cs_setpoint_c,
        cs.humidity_pct AS cs_humidity_pct, cs.pressure_k_pa AS cs_pressure_k_pa, cs.door_open AS cs_door_open,
        (CASE WHEN r.kind = 'chamber' THEN (SELECT count(*) FROM alarms a WHERE a.rig_id = r.id AND a.acknowledged_at IS NULL
-                                            AND a.kind = 'ambient-out-of-band') ELSE 0 END)::int AS excursion_alarms
+                                            AND a.kind = 'ambient-out-of-band') ELSE 0 END)::int AS excursion_alarms,
+       (SELECT COALESCE(array_agg(DISTINCT a.socket_index), '{}') FROM alarms a
+         WHERE a.rig_id = r.id AND a.kind = 'thermal-path' AND a.socket_index IS NOT NULL
+           AND (a.acknowledged_at IS NULL OR a.cleared_at IS NULL))::int[] AS thermal_flags
 FROM rigs r
 LEFT JOIN telemetry_batches b ON b.rig_id = r.id AND b.seq = r.last_seq
 LEFT JOIN active run ON run.rig_id = r.id

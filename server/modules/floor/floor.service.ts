@@ -119,6 +119,7 @@ export class FloorService {
       maxCaseC: r.max_case_c,
       openAlarms: r.open_alarms,
       chamber: r.kind === 'chamber' ? chamberOfTile(r, loaded) : null,
+      thermalFlags: (r.thermal_flags ?? []).map(Number),
       run,
     };
   }

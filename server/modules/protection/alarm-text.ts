@@ -65,6 +65,8 @@ export function assessmentDetails(
     secondsToTjMax: round(a.secondsToTjMax, 1),
     slopeCPerS: round(a.slopeCPerS, 4),
     thetaCaCPerW: round(a.thetaCaCPerW, 3),
+    // Which θca the loop gain used: protection's window fit or the socket's identified one (server/modules/thermal).
+    thetaCaSource: a.thetaCaSource ?? 'none',
     thetaJcCPerW: d.thetaJcCPerW,
     caseC: s.caseC,
     chamberC: s.chamberC,

@@ -129,6 +129,8 @@ export class ProtectionMonitor {
   private warmSink = 0;
   /** A few messages per turn of the event loop (turns.ts). */
   private readonly turns = new TurnGate(MESSAGES_PER_TURN);
+  /** withIdentifiedTheta's per-socket devices. */
+  private readonly thermalDevices = new Map<string, { base: DeviceInfo; theta: number; info: DeviceInfo }>();
 
   constructor(
     private readonly ctx: AppContext,
@@ -342,7 +344,7 @@ export class ProtectionMonitor {
       // Still energised and the command never got through: try again with the same cmdId.
       this.track(this.trips.resend({ rigId: m.rigId, rigCode: m.rigCode, socket: i }, run?.runId ?? null, st));
     }
-    const dev = this.judge.deviceFor(run, i);
+    const dev = this.withIdentifiedTheta(m.rigId, i, this.judge.deviceFor(run, i));
     const v = this.judge.runaway(st, dev, sample, baselineTjC, spreadC);
     let alarm: Promise<void> | undefined;
     if (v !== 'not-judged') this.stats.assessments++;
@@ -362,6 +364,30 @@ export class ProtectionMonitor {
       }
     }
     return alarm ? alarm.then(() => this.checkRunSocket(m, run, i, st, sample)) : this.checkRunSocket(m, run, i, st, sample);
+  }
+
+  /**
+   * The socket's device with its identified θca (the thermal tracker's latest good fit), when there
+   * is one: protection's loop gain may then use it where it is larger (shared/thermal/rules.ts).
+   * Kept per socket so most samples reuse the same object.
+   */
+  private withIdentifiedTheta(rigId: string, socket: number, dev: DeviceInfo | null): DeviceInfo | null {
+    const theta = this.ctx.services.thermalTracker?.identifiedThetaCa(rigId, socket) ?? null;
+    if (!dev || theta === null) return dev;
+    const key = `${rigId}:${socket}`;
+    const memo = this.thermalDevices.get(key);
+    if (memo && memo.base === dev && memo.theta === theta) return memo.info;
+    const info: DeviceInfo = {
+      device: { ...dev.device, identifiedThetaCaCPerW: theta },
+      serial: dev.serial,
+      partNumber: dev.partNumber,
+      // The run socket's trip count moves on the original (startTrip): read it through.
+      get trips() {
+        return dev.trips;
+      },
+    };
+    this.thermalDevices.set(key, { base: dev, theta, info });
+    return info;
   }
 
   /** Bias, then leakage (each may write), then remember this sample for the next one. */

@@ -1,6 +1,7 @@
 /**
  * The background half of alarms: live protection, run-event alarms, and the notifier that turns
- * every newly raised alarm into in-app notifications and e-mails. Started from server/features.ts
+ * every newly raised alarm into in-app notifications and e-mails, and the socket thermal model's
+ * tracker (server/modules/thermal: identified θ and τ, the 'thermal-path' flag). Started from server/features.ts
  * after telemetry (it uses ctx.services.rigLink at trip time, whenever that exists). The monitor is
  * ctx.services.protection while it runs.
  */
@@ -8,6 +9,7 @@ import type { AppContext } from '../../context';
 import { ALARM_EVENT, RUN_EVENT, type AlarmEvent, type RunEvent } from '../../events';
 import { handleRunEvent } from '../alarms/run-event-alarms';
 import { MailService, type MailServiceOptions } from '../mail/mail.service';
+import { ThermalTracker } from '../thermal/thermal.tracker';
 import { ProtectionMonitor, type ProtectionMonitorOptions } from './protection.monitor';
 
 export interface ProtectionFeatureOptions {
@@ -17,6 +19,7 @@ export interface ProtectionFeatureOptions {
 
 export interface ProtectionFeature {
   monitor: ProtectionMonitor;
+  thermal: ThermalTracker;
   mail: MailService;
   /** Everything queued so far handled: telemetry, trips, alarms, notifications, e-mails. */
   idle(): Promise<void>;
@@ -41,12 +44,17 @@ export async function startProtectionFeature(ctx: AppContext, opts: ProtectionFe
   ctx.events.on(ALARM_EVENT, onAlarm);
   ctx.events.on(RUN_EVENT, onRunEvent);
 
+  // The socket thermal model first: protection reads its identified θca (server/modules/thermal).
+  const thermal = new ThermalTracker(ctx);
+  thermal.start();
+  ctx.services.thermalTracker = thermal;
   const monitor = new ProtectionMonitor(ctx, opts.monitor);
   await monitor.start();
   ctx.services.protection = monitor;
 
   const idle = async () => {
     for (let k = 0; k < 20; k++) {
+      await thermal.idle();
       await monitor.idle();
       while (pending.size > 0) await Promise.allSettled([...pending]);
       await mail.idle();
@@ -57,11 +65,14 @@ export async function startProtectionFeature(ctx: AppContext, opts: ProtectionFe
 
   return {
     monitor,
+    thermal,
     mail,
     idle,
     async stop() {
       ctx.events.off(RUN_EVENT, onRunEvent);
       await monitor.stop();
+      await thermal.stop();
+      if (ctx.services.thermalTracker === thermal) ctx.services.thermalTracker = undefined;
       await idle();
       ctx.events.off(ALARM_EVENT, onAlarm);
       await mail.close();

@@ -24,6 +24,7 @@ import { workingDay } from './working-day';
 import { engineerMakeUp } from './make-up';
 import { rigChartSpans } from './chart-spans';
 import { chamberFloor } from './chamber';
+import { thermal } from './thermal';
 
 /**
  * Every browser journey, run at phone and wide size. Feature journeys join this list.
@@ -72,4 +73,6 @@ export const JOURNEYS: Journey[] = [
   forecastJourney,
   // Chambers on the floor, their page and QUAL-001's TC cell (reads only; the cycle count must still be moving).
   chamberFloor,
+  // The socket thermal model: reads OV-03's drying pad (demo fleet), its sheet and the alarms list.
+  thermal,
 ];

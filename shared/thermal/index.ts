@@ -1,0 +1,3 @@
+export * from './identify';
+export * from './rules';
+export * from './track';
