@@ -77,9 +77,6 @@ async function main(): Promise<number> {
       if (r.status !== 0 && !fs.existsSync(out)) failed += 1;
     }
   } finally {
-    // The broker-cluster tests (tests/broker/cluster-*.test.ts) start their own Redis: install
-    // Debian's redis-server now (as pg-cluster.ts does postgresql) when this run includes them.
-    if (jestArgs.every((a) => a.startsWith('-')) || jestArgs.some((a) => /cluster/.test(a))) ensureRedisInstalled();
     destroyCluster({ ...TEST_PG, quiet: true });
   }
   console.log(`[test] finished in ${Math.round((Date.now() - t0) / 1000)} s`);
