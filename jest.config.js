@@ -37,6 +37,7 @@ module.exports = {
         // jest runs no dynamic import() without --experimental-vm-modules: screens get the forms
         // directly (the lazy path is exercised by the browser journeys).
         '^@/components/forms/LazyForms$': '<rootDir>/components/forms/form-kit.ts',
+        '^@/components/shell/LazyNav$': '<rootDir>/components/shell/nav-kit.ts',
         '^@/(.*)$': '<rootDir>/$1',
       },
     },

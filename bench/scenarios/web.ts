@@ -39,12 +39,16 @@ class WireCounter {
   inFlight = 0;
   lastActivity = Date.now();
   byType: Record<string, number> = {};
+  /** Bytes per file (path without its content hash), as in `byType`. */
+  byFile: Record<string, number> = {};
   private types = new Map<string, string>();
+  private urls = new Map<string, string>();
   constructor(cdp: CDPSession) {
     cdp.on('Network.requestWillBeSent', (e) => {
       this.inFlight += 1;
       this.lastActivity = Date.now();
       this.types.set(e.requestId, e.type ?? 'Other');
+      this.urls.set(e.requestId, e.request.url);
     });
     cdp.on('Network.loadingFinished', (e) => {
       this.inFlight = Math.max(0, this.inFlight - 1);
@@ -53,6 +57,11 @@ class WireCounter {
       this.requests += 1;
       const t = this.types.get(e.requestId) ?? 'Other';
       this.byType[t] = (this.byType[t] ?? 0) + e.encodedDataLength;
+      const url = this.urls.get(e.requestId);
+      if (url) {
+        const file = new URL(url).pathname.replace(/^.*\/(?!api\/)/, '').replace(/[-.][0-9a-f]{32}(?=\.)/, '') || '/';
+        this.byFile[file] = (this.byFile[file] ?? 0) + e.encodedDataLength;
+      }
     });
     cdp.on('Network.loadingFailed', () => {
       this.inFlight = Math.max(0, this.inFlight - 1);
@@ -63,6 +72,7 @@ class WireCounter {
     this.bytes = 0;
     this.requests = 0;
     this.byType = {};
+    this.byFile = {};
   }
   /** Resolves once no request has been open for `quietMs` (the floor's event stream is excluded by the caller). */
   async quiet(quietMs = 500, limitMs = 15_000): Promise<void> {
@@ -121,7 +131,7 @@ export async function runWeb(b: BenchEnv, log: (l: string) => void) {
     await page.getByLabel(/e-?mail/i).waitFor({ state: 'visible' });
     const signInPaintMs = Date.now() - t0;
     await wire.quiet();
-    const coldSignIn = { bytes: wire.bytes, requests: wire.requests, byType: { ...wire.byType } };
+    const coldSignIn = { bytes: wire.bytes, requests: wire.requests, byType: { ...wire.byType }, byFile: { ...wire.byFile } };
 
     // Sign in → floor.
     const op = DEMO_USERS.find((u) => u.role === 'operator')!;
@@ -210,6 +220,8 @@ export async function runWeb(b: BenchEnv, log: (l: string) => void) {
       coldSignInKb: kb(coldSignIn.bytes),
       coldSignInRequests: coldSignIn.requests,
       coldSignInKbByType: Object.fromEntries(Object.entries(coldSignIn.byType).map(([k, v]) => [k, kb(v)])),
+      // Bytes per file (content hash removed): what scripts/web-size.ts sums without a browser.
+      coldSignInBytesByFile: coldSignIn.byFile,
       signInPaintMs,
       signInToFloorMs,
       floorKb: kb(floor.bytes),

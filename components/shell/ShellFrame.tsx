@@ -12,9 +12,8 @@ import { EmptyState } from '@/components/ui/EmptyState';
 import { canOpen, destinationsFor, isActive, splitForPhone, type NavBadges } from './destinations';
 import { can } from '@/shared/domain/permissions';
 import { useAlarmCounts } from '@/components/queries/alarms';
-import { MoreSheet } from './MoreSheet';
-import { SideRail } from './SideRail';
-import { TabBar } from './TabBar';
+// The chrome loads in a chunk of its own (nav-kit.ts): sign-in loads this layout but shows no navigation.
+import { MoreSheet, SideRail, TabBar } from '@/components/shell/LazyNav';
 
 interface Props {
   /** null while the session is being checked or when nobody is signed in: no navigation is drawn. */

@@ -83,6 +83,9 @@ describe('cache headers', () => {
       const res = await request(t.app).get(url).set('Accept-Encoding', 'br');
       expect(res.status).toBe(200);
       expect(res.headers['cache-control']).toBe('public, max-age=31536000, immutable');
+      // Never revalidated, so no validators (bytes on every response of a first visit).
+      expect(res.headers.etag).toBeUndefined();
+      expect(res.headers['last-modified']).toBeUndefined();
     }
   });
 
