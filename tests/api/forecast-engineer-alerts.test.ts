@@ -164,7 +164,10 @@ describe('a lot falling below engineers’ own levels', () => {
       measuredC: 25,
     });
     const url = `/api/measurements/runs/${runId}/read-points/500/measurements`;
-    const chanceNow = async () => ((await eng.forty.agent.get(`/api/analytics/lots/${lotId}/forecast`)).body as LotForecast).pPass;
+    const chanceNow = async () => {
+      const f: LotForecast = (await eng.forty.agent.get(`/api/analytics/lots/${lotId}/forecast`)).body;
+      return f.pPass;
+    };
     const counts = async () => ({
       forty: (await notices(eng.forty.id)).length,
       ten: (await notices(eng.ten.id)).length,

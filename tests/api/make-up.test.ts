@@ -373,7 +373,7 @@ describe('a run over two lots (HG2711-E lost two devices, HG2711-F none)', () =>
     ids.sampleEF = run.sampleId!;
   });
 
-  it('the verdict counts each lot on its own against the plan\'s n and c, never pooled', async () => {
+  it("the verdict counts each lot on its own against the plan's n and c, never pooled", async () => {
     for (const [code, judged] of [
       ['HG2711-E', 8],
       ['HG2711-F', 10],

@@ -103,11 +103,7 @@ export class ForecastService {
   /** The signed-in engineer's own alert: their level, the lab's, or off. */
   async myAlert(user: SessionUser): Promise<MyForecastAlert> {
     const m = this.ctx.ds.manager;
-    const [own, lab, notifyReadPoints] = await Promise.all([
-      findOwnLevel(m, user.id),
-      findAlertSetting(m),
-      notifyReadPointsOf(m, user.id),
-    ]);
+    const [own, lab, notifyReadPoints] = await Promise.all([findOwnLevel(m, user.id), findAlertSetting(m), notifyReadPointsOf(m, user.id)]);
     const mode = own ? (own.below === null ? 'off' : 'own') : 'lab';
     return {
       mode,

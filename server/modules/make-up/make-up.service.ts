@@ -239,8 +239,7 @@ export class MakeUpService {
     const sizes = possible.map((l) => `${l.makeUpSize} from lot ${l.lot.code}`).join(', ');
     const asked = input.lots ?? possible.map((l) => ({ lotId: l.lot.id, makeUpSize: l.makeUpSize }));
     const sameLots =
-      asked.length === possible.length &&
-      possible.every((l) => asked.some((a) => a.lotId === l.lot.id && a.makeUpSize === l.makeUpSize));
+      asked.length === possible.length && possible.every((l) => asked.some((a) => a.lotId === l.lot.id && a.makeUpSize === l.makeUpSize));
     if (p.makeUpSize !== input.makeUpSize || p.sampleBookedSize !== input.sampleBookedSize || !sameLots) {
       throw conflict(
         `The make-up proposal changed: it now asks for ${p.makeUpSize} devices${possible.length > 1 || p.lots.length > 1 ? ` (${sizes})` : ''} with ${p.sampleBookedSize} booked in the sample. Reload and book again.`,
