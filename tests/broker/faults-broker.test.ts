@@ -8,55 +8,35 @@
  * read point and the 12 h end were neither lost nor doubled, and no command was applied twice.
  * See tests/faults/scenario.ts for the checks and docs/reliability.md for the figures.
  */
-import { createTestDb, type TestDb } from '../support/db';
-import { stopAllProcesses } from '../support/processes';
-import { installRigCommandLog, type RigCommandLog } from '../faults/rig-command-log';
+import { createTestDb } from '../support/db';
 import {
-  OPERATOR,
   createFaultRun,
   driveRun,
   expectBooksBalance,
   printFigures,
   ingestCounters,
   reconcile,
-  seedBase,
-  startFaultStack,
-  startSimRig,
-  type FaultStack,
-  type SimRig,
+  startFaultSuite,
+  type FaultSuite,
 } from '../faults/scenario';
-import type { DeviceTypeEntity } from '../../server/db/entities';
 
 jest.setTimeout(60_000);
 
-let db: TestDb;
-let stack: FaultStack;
-let log: RigCommandLog;
-let type: DeviceTypeEntity;
-const sims: SimRig[] = [];
+let suite: FaultSuite;
 
 beforeAll(async () => {
-  log = installRigCommandLog();
-  db = await createTestDb();
-  type = await seedBase(db.ds);
-  stack = await startFaultStack(db.config);
-  await stack.client.signIn(OPERATOR.email, OPERATOR.password);
+  suite = await startFaultSuite(await createTestDb());
 }, 60_000);
 
-afterAll(async () => {
-  for (const s of sims) await s.rig.stop();
-  await stopAllProcesses(3000);
-  log?.uninstall();
-  await db?.drop();
-});
+afterAll(() => suite?.stop());
 
 test('broker process SIGKILLed and restarted mid-run: every sample stored once, hours exact, no command applied twice', async () => {
-  const started = { at: Date.now(), counters: await ingestCounters(db.ds) };
-  const fx = await createFaultRun(db.ds, type, 'OV-81');
-  const sim = startSimRig(stack.brokerUrl, fx);
-  sims.push(sim);
+  const { ds, stack, log, type } = suite;
+  const started = { at: Date.now(), counters: await ingestCounters(ds) };
+  const fx = await createFaultRun(ds, type, 'OV-81');
+  const sim = suite.startSimRig(fx);
   const drive = await driveRun(
-    db.ds,
+    ds,
     stack,
     fx,
     sim,
@@ -72,7 +52,7 @@ test('broker process SIGKILLed and restarted mid-run: every sample stored once, 
     },
     55_000,
   );
-  const f = await reconcile(db.ds, 'broker SIGKILL + restart', fx, sim, log, drive, started);
+  const f = await reconcile(ds, 'broker SIGKILL + restart', fx, sim, log, drive, started);
   printFigures({ ...f, startupS: stack.startupS } as typeof f);
   // The rig and the server's link both came back to the new broker.
   expect(sim.rig.stats.connects).toBeGreaterThanOrEqual(2);

@@ -8,26 +8,20 @@
  * Afterwards: every published sample stored exactly once, the hours equal the accrual rule applied
  * to the stored rows, the read point and the end neither lost nor doubled, no command applied twice.
  */
-import { DataSource } from 'typeorm';
 import type { DbConfig } from '../../server/config';
 import { createDataSource } from '../../server/db/data-source';
 import { clusterPid, destroyCluster, DB_PASSWORD, DB_USER, ensureDatabase } from '../../scripts/pg-cluster';
-import { pgClusterAsync, stopAllProcesses } from '../support/processes';
-import { installRigCommandLog, type RigCommandLog } from '../faults/rig-command-log';
+import { pgClusterAsync } from '../support/processes';
 import {
-  OPERATOR,
   createFaultRun,
   driveRun,
   expectBooksBalance,
   printFigures,
   ingestCounters,
   reconcile,
-  seedBase,
-  startFaultStack,
-  startSimRig,
+  startFaultSuite,
   waitUntil,
-  type FaultStack,
-  type SimRig,
+  type FaultSuite,
 } from '../faults/scenario';
 
 jest.setTimeout(60_000);
@@ -41,36 +35,32 @@ const PORT = Number(process.env.EMBERLOT_FAULTS_PG_PORT ?? 54369);
 const CLUSTER = { name: PORT === 54369 ? 'faults' : `faults-${PORT}`, port: PORT, fast: false };
 const DB: DbConfig = { host: '127.0.0.1', port: CLUSTER.port, user: DB_USER, password: DB_PASSWORD, database: 'emberlot_faults' };
 
-let ds: DataSource;
-let stack: FaultStack;
-let log: RigCommandLog;
-let sim: SimRig | null = null;
+let suite: FaultSuite | undefined;
 
 beforeAll(async () => {
-  log = installRigCommandLog();
   destroyCluster({ ...CLUSTER, quiet: true }); // a leftover from an interrupted run
   await pgClusterAsync('start', CLUSTER);
   await ensureDatabase({ ...DB, socketDir: '', dataDir: '', logFile: '' }, DB.database);
-  ds = createDataSource(DB, { poolSize: 4 }); // runs the migrations
+  const ds = createDataSource(DB, { poolSize: 4 }); // runs the migrations
   await ds.initialize();
-  stack = await startFaultStack(DB);
+  // The whole cluster goes with the database: stop() ends the processes first, then this.
+  const drop = async () => {
+    if (ds.isInitialized) await ds.destroy().catch(() => undefined);
+    destroyCluster({ ...CLUSTER, quiet: true });
+  };
+  suite = await startFaultSuite({ ds, config: DB, drop });
 }, 80_000);
 
 afterAll(async () => {
-  await sim?.rig.stop();
-  await stopAllProcesses(3000);
-  log?.uninstall();
-  if (ds?.isInitialized) await ds.destroy().catch(() => undefined);
-  destroyCluster({ ...CLUSTER, quiet: true });
+  if (suite) await suite.stop();
+  else destroyCluster({ ...CLUSTER, quiet: true });
 });
 
 test('PostgreSQL stopped (immediate) and restarted mid-run: every sample stored once, hours exact, no command applied twice', async () => {
-  const t0 = Date.now();
-  const type = await seedBase(ds);
-  const started = { at: t0, counters: await ingestCounters(ds) };
-  await stack.client.signIn(OPERATOR.email, OPERATOR.password);
+  const { ds, stack, log, type } = suite!;
+  const started = { at: Date.now(), counters: await ingestCounters(ds) };
   const fx = await createFaultRun(ds, type, 'OV-85');
-  sim = startSimRig(stack.brokerUrl, fx);
+  const sim = suite!.startSimRig(fx);
   const apiMark = stack.api.offset();
   const drive = await driveRun(
     ds,
