@@ -9,16 +9,7 @@
  * See tests/faults/scenario.ts for the checks and docs/reliability.md for the figures.
  */
 import { createTestDb } from '../support/db';
-import {
-  createFaultRun,
-  driveRun,
-  expectBooksBalance,
-  printFigures,
-  ingestCounters,
-  reconcile,
-  startFaultSuite,
-  type FaultSuite,
-} from '../faults/scenario';
+import { expectBooksBalance, printFigures, startFaultSuite, type FaultSuite } from '../faults/scenario';
 
 jest.setTimeout(60_000);
 
@@ -31,16 +22,9 @@ beforeAll(async () => {
 afterAll(() => suite?.stop());
 
 test('broker process SIGKILLed and restarted mid-run: every sample stored once, hours exact, no command applied twice', async () => {
-  const { ds, stack, log, type } = suite;
-  const started = { at: Date.now(), counters: await ingestCounters(ds) };
-  const fx = await createFaultRun(ds, type, 'OV-81');
-  const sim = suite.startSimRig(fx);
-  const drive = await driveRun(
-    ds,
-    stack,
-    fx,
-    sim,
-    {
+  const { stack, log } = suite;
+  const { fx, sim, f } = await suite.runScenario('OV-81', 'broker SIGKILL + restart', {
+    fault: (sim) => ({
       phase: 1,
       atH: 1.5,
       inject: async () => {
@@ -49,10 +33,9 @@ test('broker process SIGKILLed and restarted mid-run: every sample stored once, 
         // The rig saw the broker go.
         expect(sim.rig.stats.disconnects).toBeGreaterThanOrEqual(1);
       },
-    },
-    55_000,
-  );
-  const f = await reconcile(ds, 'broker SIGKILL + restart', fx, sim, log, drive, started);
+    }),
+    timeoutMs: 55_000,
+  });
   printFigures({ ...f, startupS: stack.startupS } as typeof f);
   // The rig and the server's link both came back to the new broker.
   expect(sim.rig.stats.connects).toBeGreaterThanOrEqual(2);

@@ -12,17 +12,7 @@ import type { DbConfig } from '../../server/config';
 import { createDataSource } from '../../server/db/data-source';
 import { clusterPid, destroyCluster, DB_PASSWORD, DB_USER, ensureDatabase } from '../../scripts/pg-cluster';
 import { pgClusterAsync } from '../support/processes';
-import {
-  createFaultRun,
-  driveRun,
-  expectBooksBalance,
-  printFigures,
-  ingestCounters,
-  reconcile,
-  startFaultSuite,
-  waitUntil,
-  type FaultSuite,
-} from '../faults/scenario';
+import { expectBooksBalance, printFigures, startFaultSuite, waitUntil, type FaultSuite } from '../faults/scenario';
 
 jest.setTimeout(60_000);
 
@@ -57,17 +47,10 @@ afterAll(async () => {
 });
 
 test('PostgreSQL stopped (immediate) and restarted mid-run: every sample stored once, hours exact, no command applied twice', async () => {
-  const { ds, stack, log, type } = suite!;
-  const started = { at: Date.now(), counters: await ingestCounters(ds) };
-  const fx = await createFaultRun(ds, type, 'OV-85');
-  const sim = suite!.startSimRig(fx);
+  const { stack, log } = suite!;
   const apiMark = stack.api.offset();
-  const drive = await driveRun(
-    ds,
-    stack,
-    fx,
-    sim,
-    {
+  const { fx, sim, f } = await suite!.runScenario('OV-85', 'PostgreSQL immediate stop + restart', {
+    fault: () => ({
       phase: 1,
       atH: 1.5,
       inject: async () => {
@@ -80,14 +63,13 @@ test('PostgreSQL stopped (immediate) and restarted mid-run: every sample stored 
         await new Promise((r) => setTimeout(r, 2000));
         await pgClusterAsync('start', CLUSTER);
       },
-    },
-    70_000,
-  );
+    }),
+    timeoutMs: 70_000,
+  });
   // The ingest said so once, and said when it was back.
   expect(stack.api.lines(/\[ingest\] database write failed/).length).toBe(1);
   expect(stack.api.lines(/\[ingest\] database back/).length).toBeGreaterThanOrEqual(1);
   expect(stack.api.running && stack.broker.running).toBe(true);
-  const f = await reconcile(ds, 'PostgreSQL immediate stop + restart', fx, sim, log, drive, started);
   printFigures({ ...f, startupS: stack.startupS } as typeof f);
   expectBooksBalance(f, fx, log, sim.rig);
 }, 80_000);

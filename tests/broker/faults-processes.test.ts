@@ -9,16 +9,7 @@
  * See tests/faults/scenario.ts for the checks and docs/reliability.md for the figures.
  */
 import { createTestDb } from '../support/db';
-import {
-  createFaultRun,
-  driveRun,
-  expectBooksBalance,
-  printFigures,
-  ingestCounters,
-  reconcile,
-  startFaultSuite,
-  type FaultSuite,
-} from '../faults/scenario';
+import { expectBooksBalance, printFigures, startFaultSuite, type FaultSuite } from '../faults/scenario';
 
 jest.setTimeout(60_000);
 
@@ -31,16 +22,9 @@ beforeAll(async () => {
 afterAll(() => suite?.stop());
 
 test('API server process SIGKILLed and restarted mid-run: every sample stored once, hours exact, no command applied twice', async () => {
-  const { ds, stack, log, type } = suite;
-  const started = { at: Date.now(), counters: await ingestCounters(ds) };
-  const fx = await createFaultRun(ds, type, 'OV-83');
-  const sim = suite.startSimRig(fx);
-  const drive = await driveRun(
-    ds,
-    stack,
-    fx,
-    sim,
-    {
+  const { stack, log } = suite;
+  const { fx, sim, f } = await suite.runScenario('OV-83', 'API server SIGKILL + restart', {
+    fault: () => ({
       phase: 2,
       atH: 7,
       inject: async () => {
@@ -49,10 +33,9 @@ test('API server process SIGKILLed and restarted mid-run: every sample stored on
         // The session lives in PostgreSQL: the operator stays signed in across the restart.
         expect((await stack.client.request('GET', '/api/auth/me')).status).toBe(200);
       },
-    },
-    55_000,
-  );
-  const f = await reconcile(ds, 'API server SIGKILL + restart', fx, sim, log, drive, started);
+    }),
+    timeoutMs: 55_000,
+  });
   printFigures({ ...f, startupS: stack.startupS } as typeof f);
   expectBooksBalance(f, fx, log, sim.rig);
 });

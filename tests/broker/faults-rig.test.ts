@@ -9,18 +9,7 @@
  * to the stored rows, the read point and the end neither lost nor doubled, no command applied twice.
  */
 import { createTestDb } from '../support/db';
-import {
-  CLOCK,
-  createFaultRun,
-  driveRun,
-  expectBooksBalance,
-  printFigures,
-  ingestCounters,
-  reconcile,
-  startFaultSuite,
-  waitUntil,
-  type FaultSuite,
-} from '../faults/scenario';
+import { CLOCK, expectBooksBalance, printFigures, startFaultSuite, waitUntil, type FaultSuite } from '../faults/scenario';
 
 jest.setTimeout(60_000);
 
@@ -36,21 +25,13 @@ beforeAll(async () => {
 afterAll(() => suite?.stop());
 
 test('a rig that drops off for a simulated hour, again and again, replays: every sample stored once, hours exact', async () => {
-  const { ds, stack, log, type } = suite;
-  const started = { at: Date.now(), counters: await ingestCounters(ds) };
-  const fx = await createFaultRun(ds, type, 'OV-87');
-  // Off for 1 simulated hour every 6 simulated hours, from 1.5 s in: drops land in heating,
-  // stressing, around the read point and in cooling, while commands are in flight.
-  const sim = suite.startSimRig(fx, {
-    faults: { dropOff: { afterWallS: 1.5, forWallS: HOUR_WALL_S, everyWallS: 6 * HOUR_WALL_S } },
-  });
+  const { stack, log } = suite;
   let dropsInStress = 0;
-  const drive = await driveRun(
-    ds,
-    stack,
-    fx,
-    sim,
-    {
+  const { fx, sim, f } = await suite.runScenario('OV-87', 'rig drops off 1 simulated h (repeated)', {
+    // Off for 1 simulated hour every 6 simulated hours, from 1.5 s in: drops land in heating,
+    // stressing, around the read point and in cooling, while commands are in flight.
+    sim: { faults: { dropOff: { afterWallS: 1.5, forWallS: HOUR_WALL_S, everyWallS: 6 * HOUR_WALL_S } } },
+    fault: (sim) => ({
       phase: 1,
       atH: 2,
       // And one drop on demand in the middle of stress (handle.dropFor), for good measure.
@@ -62,10 +43,9 @@ test('a rig that drops off for a simulated hour, again and again, replays: every
         dropsInStress = sim.rig.stats.drops - before;
         await new Promise((r) => setTimeout(r, HOUR_WALL_S * 1000 + 200));
       },
-    },
-    55_000,
-  );
-  const f = await reconcile(ds, 'rig drops off 1 simulated h (repeated)', fx, sim, log, drive, started);
+    }),
+    timeoutMs: 55_000,
+  });
   printFigures({ ...f, drops: sim.rig.stats.drops, startupS: stack.startupS } as typeof f);
   expect(dropsInStress).toBe(1);
   expect(sim.rig.stats.drops).toBeGreaterThanOrEqual(4);
@@ -74,12 +54,12 @@ test('a rig that drops off for a simulated hour, again and again, replays: every
 });
 
 test("the rig's wall clock jumps back 1.5 h every 10 samples: hours come from the stress clock, accrual is exact", async () => {
-  const { ds, stack, log, type } = suite;
-  const started = { at: Date.now(), counters: await ingestCounters(ds) };
-  const fx = await createFaultRun(ds, type, 'OV-89');
-  const sim = suite.startSimRig(fx, { faults: { clockJump: { everySamples: 10, jumpS: -5400 } } });
-  const drive = await driveRun(ds, stack, fx, sim, null, 55_000);
-  const f = await reconcile(ds, 'rig wall clock jumps -1.5 h every 10 samples', fx, sim, log, drive, started);
+  const { ds, log } = suite;
+  const { fx, sim, f } = await suite.runScenario('OV-89', 'rig wall clock jumps -1.5 h every 10 samples', {
+    sim: { faults: { clockJump: { everySamples: 10, jumpS: -5400 } } },
+    fault: () => null,
+    timeoutMs: 55_000,
+  });
   // The fault was live: the stored ts went backwards many times, the stress clock never did.
   const [{ back, clockBack }] = await ds.query(
     `SELECT count(*) FILTER (WHERE d_ts < 0) AS back, count(*) FILTER (WHERE d_clock < 0) AS "clockBack"

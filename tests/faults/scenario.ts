@@ -205,6 +205,16 @@ export interface FaultSuite {
   type: DeviceTypeEntity;
   /** startSimRig on this stack's broker; `stop()` stops it. */
   startSimRig(fx: RunFixture, extra?: Partial<RigConfig>): SimRig;
+  /**
+   * One run on a new rig `rigCode` (createFaultRun) with its simulated rig (`sim`: config over
+   * startSimRig's), driven through the plan with the fault `fault(sim)` gives (null: none), then
+   * reconciled as `scenario`. The figures come back unprinted and unchecked: the test does both.
+   */
+  runScenario(
+    rigCode: string,
+    scenario: string,
+    opts: { fault: (sim: SimRig) => FaultPoint | null; timeoutMs: number; sim?: Partial<RigConfig> },
+  ): Promise<{ fx: RunFixture; sim: SimRig; f: Figures }>;
   /** The simulated rigs, every process, the command log, then `db.drop()`. Safe after a failed start. */
   stop(): Promise<void>;
 }
@@ -228,15 +238,24 @@ export async function startFaultSuite(db: Pick<TestDb, 'ds' | 'config' | 'drop'>
     const type = await seedBase(db.ds);
     const stack = await startFaultStack(db.config);
     await stack.client.signIn(OPERATOR.email, OPERATOR.password);
+    const startSim = (fx: RunFixture, extra?: Partial<RigConfig>) => {
+      const sim = startSimRig(stack.brokerUrl, fx, extra);
+      sims.push(sim);
+      return sim;
+    };
     return {
       ds: db.ds,
       stack,
       log,
       type,
-      startSimRig: (fx, extra) => {
-        const sim = startSimRig(stack.brokerUrl, fx, extra);
-        sims.push(sim);
-        return sim;
+      startSimRig: startSim,
+      runScenario: async (rigCode, scenario, o) => {
+        const started = { at: Date.now(), counters: await ingestCounters(db.ds) };
+        const fx = await createFaultRun(db.ds, type, rigCode);
+        const sim = startSim(fx, o.sim);
+        const drive = await driveRun(db.ds, stack, fx, sim, o.fault(sim), o.timeoutMs);
+        const f = await reconcile(db.ds, scenario, fx, sim, log, drive, started);
+        return { fx, sim, f };
       },
       stop,
     };
