@@ -455,7 +455,7 @@ export class RunsService {
       const overridden = blocks.length > 0;
       // A blocking finding needs an override approved by a second person (approvals.service.ts).
       const approval = overridden ? await this.ctx.services.approvals.useForBooking(m, plan, input.override?.requestId, blocks) : null;
-      const shortfall = sampleShortfall(plan.sampleSize, total);
+      const shortfall = sampleShortfall(plan.sampleSize, total, lots.length);
       if (shortfall && !input.deviation) {
         throw unprocessable(
           `${shortfall} Book the rest on another rig in the same booking (a split sample), or record a deviation with a reason of at least ${DEVIATION_REASON_MIN} characters.`,
