@@ -12,7 +12,8 @@ export function BrandedLoading({ label = 'Opening Emberlot…' }: { label?: stri
       style={{ flex: 1, alignItems: 'center', justifyContent: 'center', gap: space.md, backgroundColor: colors.paper }}
     >
       <BrandMark size={56} />
-      <ActivityIndicator color={colors.ember} />
+      {/* The wrapper is the named progressbar; the spinner inside is decoration (axe: aria-progressbar-name). */}
+      <ActivityIndicator color={colors.ember} aria-hidden />
       <Text variant="label" tone="muted">
         {label}
       </Text>
