@@ -3,6 +3,8 @@
  * MQTT sign-ins counted in the brokers' Redis, so 5 wrong guesses for a name lock it on every broker
  * (with per-broker counting a guesser got 5 per broker). Two real aedes brokers on one private Redis
  * (scripts/redis-server.ts), mqtt.js clients on loopback; and the fallback when Redis does not answer.
+ * Also one regression of Redis mode on the same brokers: a persistent session subscribing to several
+ * topics in one packet (broker/redis-mode.ts `joinRepeatedSubscriptionStores`).
  * Redis port: EMBERLOT_TEST_REDIS_PORT + 2 when set, else a free ephemeral port.
  */
 import Redis from 'ioredis';
@@ -10,6 +12,7 @@ import { createEmberlotBroker, type EmberlotBroker } from '../../broker/broker';
 import { SharedSignInThrottle } from '../../broker/shared-sign-in-throttle';
 import { destroyRedis, startRedis, type RedisInfo, type RedisOptions } from '../../scripts/redis-server';
 import { freePort } from '../support/processes';
+import { topics } from '../../shared/mqtt';
 import { CREDS, connectClient, mapAuthenticate } from './mqtt-test-helpers';
 
 jest.setTimeout(60_000);
@@ -114,5 +117,35 @@ test('Redis not answering: each broker counts alone — the right secret gets in
     expect(lines.filter((l) => /redis sign-in throttle: no answer/.test(l))).toHaveLength(1);
   } finally {
     await t.close();
+  }
+});
+
+test('Redis mode: a persistent session subscribing to four topics in one packet gets its SUBACK (the leader ingest never did)', async () => {
+  const c = await connectClient(a.port, {
+    clientId: 'emberlot-ingest-test',
+    username: 'emberlot-server',
+    password: CREDS['emberlot-server'].password,
+    clean: false,
+  });
+  try {
+    const subs = {
+      [topics.all.telemetry]: { qos: 1 as const },
+      [topics.all.status]: { qos: 1 as const },
+      [topics.all.commandAcks]: { qos: 1 as const },
+      [topics.all.chamber]: { qos: 1 as const },
+    };
+    const granted = await Promise.race([c.subscribeAsync(subs), new Promise<'no SUBACK'>((r) => setTimeout(() => r('no SUBACK'), 10_000))]);
+    expect(granted).toEqual(Object.keys(subs).map((topic) => ({ topic, qos: 1 })));
+    // Stored for the session: a rig's telemetry through B reaches it.
+    const got: string[] = [];
+    c.on('message', (_t, payload) => got.push(payload.toString()));
+    const rig = await connectClient(b.port, { clientId: 'rig-OV-02', username: 'rig-OV-02', password: CREDS['rig-OV-02'].password });
+    await rig.publishAsync(topics.telemetry('OV-02'), 'sample', { qos: 1 });
+    await rig.endAsync(true);
+    const deadline = Date.now() + 5_000;
+    while (!got.length && Date.now() < deadline) await new Promise((r) => setTimeout(r, 20));
+    expect(got).toEqual(['sample']);
+  } finally {
+    await c.endAsync(true);
   }
 });
