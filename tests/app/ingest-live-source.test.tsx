@@ -9,6 +9,10 @@ import type { TelemetryStats } from '@/shared/schemas/rigs';
 import { mockFetch, renderWithClient, setWidth } from './support/render';
 
 jest.mock('expo-router', () => require('./support/expo-router'));
+jest.setTimeout(60_000);
+
+/** The rigs screen loads its lazy parts first: on a busy machine that takes longer than findBy's 1 s. */
+const LOADED = { timeout: 30_000 };
 
 const admin = {
   id: '00000000-0000-4000-8000-000000000001',
@@ -48,7 +52,7 @@ test("a standby's card shows the leader's figures and how old they are", async (
     },
   });
   renderWithClient(<RigsScreen />);
-  expect(await screen.findByText('12 waiting of 50000')).toBeOnTheScreen();
+  expect(await screen.findByText('12 waiting of 50000', {}, LOADED)).toBeOnTheScreen();
   expect(screen.getByTestId('ingest-live-source')).toHaveTextContent('As reported by the server process that runs the intake, 3 s ago.');
 });
 
@@ -62,6 +66,6 @@ test('the process running the intake shows its own figures without that line', a
     },
   });
   renderWithClient(<RigsScreen />);
-  expect(await screen.findByText('12 waiting of 50000')).toBeOnTheScreen();
+  expect(await screen.findByText('12 waiting of 50000', {}, LOADED)).toBeOnTheScreen();
   expect(screen.queryByTestId('ingest-live-source')).toBeNull();
 });
