@@ -18,7 +18,8 @@ async function htrbPlan(baseUrl: string, page: Page, lotId: string): Promise<{ p
 /**
  * The verdict forecast (issue #25): the manager sees the drifting lot's chance of passing in the
  * trends list, the back-test's calibration table, and the lot page's forecast; an engineer sets the
- * alert level (a wrong value is refused with the server's words first).
+ * lab's alert level (a wrong value is refused with the server's words first), then their own on the
+ * account page, and goes back to the lab's.
  */
 export const forecastJourney: Journey = {
   name: 'forecast',
@@ -90,5 +91,26 @@ export const forecastJourney: Journey = {
     await form.scrollIntoViewIfNeeded();
     await j.checkA11y('forecast alert');
     await j.shot('forecast-alert');
+
+    // --- Engineer: their own level on the account page (then back to the lab's) -------------------
+    await page.goto(`${j.baseUrl}/account`);
+    const mine = page.getByTestId('forecast-alert-mine');
+    await expect(mine).toBeVisible(30000);
+    await expect(mine.getByTestId('forecast-alert-now')).toContainText(
+      'You follow the lab’s level: you are told when a lot’s chance of passing falls below 60 %.',
+    );
+    await mine.getByRole('radio', { name: 'At my own level' }).click();
+    await mine.getByLabel('Tell me below (%)').fill('150');
+    await mine.getByRole('button', { name: 'Save my alert' }).click();
+    await expect(mine).toContainText('Chance of passing: at most 0.99');
+    await mine.getByLabel('Tell me below (%)').fill('40');
+    await mine.getByRole('button', { name: 'Save my alert' }).click();
+    await expect(mine.getByTestId('forecast-alert-now')).toContainText('falls below your own level of 40 %.');
+    await mine.scrollIntoViewIfNeeded();
+    await j.checkA11y('own forecast alert');
+    await j.shot('forecast-alert-own');
+    await mine.getByRole('radio', { name: "At the lab's level (60 %)" }).click();
+    await mine.getByRole('button', { name: 'Save my alert' }).click();
+    await expect(mine.getByTestId('forecast-alert-now')).toContainText('You follow the lab’s level');
   },
 };
