@@ -125,7 +125,7 @@ test('a revocation published by the server through A disconnects the rig connect
   expect(b.counters.revokedKicks).toBe(before + 1);
 });
 
-test('the sign-in throttle still locks a user name after 5 failures (per broker)', async () => {
+test('the sign-in throttle still locks a user name after 5 failures (shared by the brokers: cluster-sign-in-throttle.test.ts)', async () => {
   const before = a.counters.throttledConnects;
   for (let k = 0; k < 5; k++) {
     await expect(connectClient(a.port, { clientId: 'rig-OV-02', username: 'rig-OV-02', password: `guess-${k}` })).rejects.toMatchObject({
