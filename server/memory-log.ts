@@ -54,6 +54,6 @@ export function startMemoryLog(
 ): () => void {
   if (!Number.isFinite(intervalMs) || intervalMs <= 0) return () => undefined;
   const timer = setInterval(() => write(`[api] memory ${JSON.stringify({ ...memorySnapshot(), ...extra() })}`), intervalMs);
-  timer.unref();
+  (timer as unknown as { unref?: () => void }).unref?.();
   return () => clearInterval(timer);
 }
