@@ -71,6 +71,14 @@ export class SocketThermalTrack {
     return this.offsetC === null ? 'chamber' : 'bias-off';
   }
 
+  /**
+   * Values held for the socket (window samples, bias-off samples, recent good θ): bounded by the
+   * options however long the run (windowSamples + 3 × offSamples + BASELINE_AGREE_FITS).
+   */
+  get heldValues(): number {
+    return this.window.length + this.off.length + this.recentGood.length;
+  }
+
   /** One sample (stress-clock order); returns an event when an identification was made. */
   push(s: TrackSample): TrackEvent | null {
     const prev = this.prev;

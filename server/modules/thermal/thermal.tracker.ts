@@ -42,6 +42,7 @@ export class ThermalTracker {
   private readonly chains = new Map<string, Promise<void>>();
   private readonly listeners: Array<() => void> = [];
   readonly stats = { messages: 0, fits: 0, stored: 0, flags: 0, errors: 0 };
+  private queued = 0;
 
   constructor(
     private readonly ctx: AppContext,
@@ -71,6 +72,11 @@ export class ThermalTracker {
     await this.idle();
   }
 
+  /** Messages and run events taken and not yet handled, over all rigs. */
+  get backlog(): number {
+    return this.queued;
+  }
+
   async idle(): Promise<void> {
     while (this.chains.size > 0) await Promise.allSettled([...this.chains.values()]);
   }
@@ -91,6 +97,7 @@ export class ThermalTracker {
 
   private enqueue(rigId: string, job: () => Promise<void>): void {
     const prev = this.chains.get(rigId) ?? Promise.resolve();
+    this.queued++;
     const next = prev
       .then(job)
       .catch((err) => {
@@ -98,6 +105,7 @@ export class ThermalTracker {
         console.error(`[thermal] rig ${rigId}: ${describeErrorForLog(err)}`);
       })
       .finally(() => {
+        this.queued--;
         if (this.chains.get(rigId) === next) this.chains.delete(rigId);
       });
     this.chains.set(rigId, next);
