@@ -13,25 +13,13 @@ import { space } from '@/components/theme/tokens';
 import { Banner } from '@/components/ui/Banner';
 import { Button } from '@/components/ui/Button';
 import { Card } from '@/components/ui/Card';
+import { Fact } from '@/components/ui/Fact';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
 import { countOf } from '@/shared/domain/format';
 import type { MakeUpView } from '@/shared/schemas/make-up';
 
 const pct = (f: number | null) => (f === null ? 'none' : `${(f * 100).toFixed(2)} %`);
-
-function Fact({ label, value, testID }: { label: string; value: string; testID?: string }) {
-  return (
-    <View style={{ minWidth: 150, flexGrow: 1, flexBasis: 150, gap: 2 }}>
-      <Text variant="overline" tone="subtle">
-        {label}
-      </Text>
-      <Text variant="bodyStrong" testID={testID}>
-        {value}
-      </Text>
-    </View>
-  );
-}
 
 /** Shown when the sample has lost devices (or the proposal has something to say); nothing otherwise. */
 export function RunMakeUpCard({ runId }: { runId: string }) {

@@ -17,29 +17,15 @@ import {
   StressPlanEntity,
 } from '../../server/db/entities';
 import { insertHistoryRun } from '../../server/seed/seed-history';
-import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
 import { createTestApp, type TestApp } from '../support/api';
-import { tableCounts } from '../support/db';
+import { insertTestRig, tableCounts } from '../support/db';
+import { htrbPlanBody, postDemoType, postLot, postPlan, serials } from '../support/lab';
 
 let t: TestApp;
 const ids: Record<string, string> = {};
-const serials = (prefix: string, n: number) => Array.from({ length: n }, (_, i) => `${prefix}${String(i + 1).padStart(4, '0')}`);
 
-async function addRig(code: string, socketCount: number): Promise<string> {
-  const r = await t.ctx.ds.getRepository(RigEntity).save({
-    code,
-    name: `Oven ${code}`,
-    socketCount,
-    maxTempC: 200,
-    maxVoltageV: 800,
-    humidityCapable: false,
-    maxHumidityPct: null,
-    mqttUsername: `rig-${code.toLowerCase()}`,
-    mqttSecretHash: 'x',
-    credentialsIssuedAt: new Date(),
-  });
-  return r.id;
-}
+/** A 64-socket oven rated 800 V. */
+const addRig = (code: string) => insertTestRig(t.ctx.ds, code, { sockets: 64, maxVoltageV: 800, name: `Oven ${code}` });
 
 /** A stressing run of the first `n` devices of a lot, time zero and 168 h read, with what it lost. */
 async function historyRun(
@@ -79,36 +65,19 @@ beforeAll(async () => {
   const eng = await t.signIn('engineer');
   await t.signIn('operator');
   await t.signIn('manager');
-  const type = await eng.post('/api/device-types').send(DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140'));
-  expect(type.status).toBe(201);
-  ids.type = type.body.id;
+  ids.type = await postDemoType(eng);
   for (const [code, prefix, n] of [
     ['HG2711-A', 'A', 40],
     ['HG2711-B', 'B', 12],
     ['HG2711-C', 'C', 20],
     ['HG2711-D', 'D', 11],
   ] as const) {
-    const lot = await eng.post('/api/lots').send({ code, deviceTypeId: ids.type, quantity: 1000, serials: serials(prefix, n) });
-    expect(lot.status).toBe(201);
-    ids[code] = lot.body.id;
+    ids[code] = await postLot(eng, { code, deviceTypeId: ids.type, quantity: 1000, serials: serials(prefix, n) });
   }
   // A small HTRB sample keeps the test fast: 10 devices, accept on 0.
-  const plan = await eng.post('/api/plans').send({
-    name: 'HTRB 145 °C, 80 % VCBO, 1000 h',
-    kind: 'htrb',
-    deviceTypeId: ids.type,
-    chamberC: 145,
-    bias: { vcbV: 112 },
-    durationH: 1000,
-    readPointsH: [0, 168, 500, 1000],
-    sampleSize: 10,
-    acceptNumber: 0,
-    criteria: {},
-  });
-  expect(plan.status).toBe(201);
-  ids.plan = plan.body.id;
-  ids['OV-01'] = await addRig('OV-01', 64);
-  ids['OV-02'] = await addRig('OV-02', 64);
+  ids.plan = await postPlan(eng, htrbPlanBody(ids.type, { sampleSize: 10, acceptNumber: 0 }));
+  ids['OV-01'] = await addRig('OV-01');
+  ids['OV-02'] = await addRig('OV-02');
 
   // Lot A: A0001 lost and A0002 excluded at 168 h; A0003's socket tripped at 50 h with no disposition yet.
   const a = await historyRun('HTRB-2711-A', ids['HG2711-A'], 10, {
