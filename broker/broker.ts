@@ -16,6 +16,7 @@ import {
   parseRigTopic,
   topics,
 } from '../shared/mqtt';
+import { createConnackFirst } from './connack-first';
 import { PacketSizeGuard } from './packet-guard';
 import { createRedisMode, type BrokerRedisOptions } from './redis-mode';
 import { SharedSignInThrottle, type SignInGate } from './shared-sign-in-throttle';
@@ -67,6 +68,8 @@ export interface BrokerCounters {
   readonly connectedRigs: number;
   /** Redis mode: last wills of a dead broker's clients dropped because the client reconnected elsewhere. */
   readonly staleWillsDropped: number;
+  /** Live messages held back until their connection's CONNACK had gone out (connack-first.ts). */
+  readonly heldBeforeConnack: number;
 }
 
 export interface EmberlotBroker {
@@ -125,6 +128,8 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
       : new SignInThrottle(throttleOpts);
 
   const redisMode = opts.redis ? createRedisMode(opts.redis, log) : null;
+  // No message reaches a client ahead of its CONNACK (connack-first.ts).
+  const connackFirst = createConnackFirst();
   const counters = {
     authFailures: 0,
     authErrors: 0,
@@ -139,12 +144,16 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
     get staleWillsDropped(): number {
       return redisMode?.staleWillsDropped ?? 0;
     },
+    get heldBeforeConnack(): number {
+      return connackFirst.heldDeliveries;
+    },
   };
 
   const aedesOptions: AedesOptions = {
     ...redisMode?.aedesOptions,
     // rig-{32-char code}.{suffix} does not fit the MQTT 3.1.1 default of 23.
     maxClientsIdLength: 64,
+    preConnect: connackFirst.preConnect,
     authenticate(client, username, password, done) {
       const user = username ?? '';
       const pass = password ? Buffer.from(password).toString('utf8') : '';
@@ -225,6 +234,7 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
   };
 
   const broker = await Aedes.createBroker(aedesOptions);
+  connackFirst.attach(broker);
   redisMode?.attach(broker);
   // A Redis hiccup surfaces as a broker 'error' (e.g. wills it could not read): log, never crash.
   const brokerEvents: EventEmitter = broker; // 'error' is not in aedes' typed events
