@@ -6,6 +6,7 @@
  * distribution; generated series with a known true slope; flat noisy series for the false-alarm rate.
  */
 import { jStat } from 'jstat';
+import { initialRigState, stepRig } from '../../rig-simulator';
 import { mulberry32 } from '../../shared/random';
 import {
   THERMAL_PATH_RISE_FRACTION,
@@ -16,6 +17,7 @@ import {
   TREND_MAX_FITS,
   TREND_MIN_FITS,
   TREND_Z,
+  SocketThermalTrack,
   ThermalTrendSeries,
   evaluateThermalTrend,
   mannKendall,
@@ -199,5 +201,61 @@ describe('the rule', () => {
     // Reseated: θ back at 2 and flat — the quiet evaluations clear it once the trend is gone.
     for (let i = 0; i < 60; i++) s.offer({ tH: 14 + i, thetaCPerW: 2 + 0.002 * gaussian(mulberry32(i)) }, 0.5, 2, null);
     expect(s.active).toBe(false);
+  });
+});
+
+describe('the demo’s drying pad on the simulator’s physics (scripts/demo-fleet.ts: OV-03, 25 °C, 20 V at 96 mA, 72 stress s per sample, 0.2 K / 0.5 % noise)', () => {
+  /** Stress hours at which each rule first raised the flag for socket 2 with the pad drying at `rate` °C/W per h. */
+  function firstFlags(rate: number): { trendH: number | null; stepH: number | null; pointsAtStep: number } {
+    let st = initialRigState({
+      rigCode: 'OV-03',
+      brokerUrl: 'mqtt://unused',
+      username: 'unused',
+      password: 'unused',
+      sockets: 3,
+      mode: 'powered',
+      lots: ['HPD-L2403'],
+      chamberC: 25,
+      setpointC: 25,
+      biasOn: true,
+      vV: 20,
+      icA: 0.096,
+      faults: { dryingPad: { sockets: [2], startCPerW: 2, rampCPerWPerH: rate, maxCPerW: 60 } },
+    });
+    const track = new SocketThermalTrack();
+    const r = mulberry32(3);
+    let trendH: number | null = null;
+    let stepH: number | null = null;
+    let pointsAtStep = 0;
+    for (let k = 0; k < 5000 && stepH === null; k++) {
+      st = stepRig(st, 72);
+      const s = st.sockets[2];
+      const e = track.push({
+        tS: st.stressClockS,
+        caseC: s.caseC + 0.2 * gaussian(r),
+        ambientC: st.chamberC,
+        powerW: Math.abs(s.vOutV * s.iA * (1 + 0.005 * gaussian(r))),
+        biasOn: s.biasOn && !s.tripped,
+      });
+      if (e?.flag === 'raise' && e.rule === 'trend' && trendH === null) trendH = st.stressClockS / 3600;
+      if (e?.flag === 'raise' && e.rule === 'step') {
+        stepH = st.stressClockS / 3600;
+        pointsAtStep = track.trend.points.length;
+      }
+    }
+    return { trendH, stepH, pointsAtStep };
+  }
+
+  it('at the demo’s 0.5 °C/W per h the step rule fires first (~1.6 h): the trend has fewer than TREND_MIN_FITS spaced fits by then', () => {
+    const f = firstFlags(0.5);
+    expect(f.trendH).toBeNull();
+    expect(f.stepH!).toBeLessThan(3);
+    expect(f.pointsAtStep).toBeLessThan(TREND_MIN_FITS);
+  });
+
+  it('a pad drying 25 × slower (0.02 °C/W per h): the trend rule fires hours before the step rule', () => {
+    const f = firstFlags(0.02);
+    expect(f.trendH).not.toBeNull();
+    expect(f.trendH!).toBeLessThan(f.stepH! / 2);
   });
 });
