@@ -24,14 +24,14 @@ export interface TrendPoint {
 
 const sign = (v: number) => (v > 0 ? 1 : v < 0 ? -1 : 0);
 
-const medianSorted = (s: number[]) => {
+const medianSorted = (s: ArrayLike<number>) => {
   const m = s.length >> 1;
   return s.length % 2 ? s[m] : (s[m - 1] + s[m]) / 2;
 };
 
 /** Σ t(t−1)(2t+5) over groups of equal values (the ties' share of Var(S)). */
 function tieTerm(values: number[]): number {
-  const s = [...values].sort((a, b) => a - b);
+  const s = Float64Array.from(values).sort();
   let sum = 0;
   let run = 1;
   for (let i = 1; i <= s.length; i++) {
@@ -89,18 +89,19 @@ export interface TheilSen {
  */
 export function theilSen(x: number[], y: number[], z = TREND_Z): TheilSen {
   const n = x.length;
-  const slopes: number[] = [];
+  // A typed array sorts numerically without a comparator (the hot part: n(n−1)/2 slopes).
+  const all = new Float64Array((n * (n - 1)) / 2);
+  let N = 0;
   for (let i = 0; i < n - 1; i++) {
     for (let j = i + 1; j < n; j++) {
       const dx = x[j] - x[i];
-      if (dx !== 0) slopes.push((y[j] - y[i]) / dx);
+      if (dx !== 0) all[N++] = (y[j] - y[i]) / dx;
     }
   }
-  if (slopes.length === 0) return { slope: NaN, intercept: NaN, low: NaN, high: NaN, pairs: 0 };
-  slopes.sort((a, b) => a - b);
+  if (N === 0) return { slope: NaN, intercept: NaN, low: NaN, high: NaN, pairs: 0 };
+  const slopes = all.subarray(0, N).sort();
   const slope = medianSorted(slopes);
-  const residuals = y.map((v, i) => v - slope * x[i]).sort((a, b) => a - b);
-  const N = slopes.length;
+  const residuals = Float64Array.from(y, (v, i) => v - slope * x[i]).sort();
   const sigma = Math.sqrt((n * (n - 1) * (2 * n + 5) - tieTerm(x) - tieTerm(y)) / 18);
   const lo = Math.max(Math.round((N - z * sigma) / 2) - 1, 0);
   const hi = Math.min(Math.round((N + z * sigma) / 2), N - 1);
