@@ -137,7 +137,11 @@ export interface ThermalTrend {
  * The trend rule on a socket's trend points (oldest first) against its baseline; null below
  * TREND_MIN_FITS points. `remainingH`: stress hours left in the run's plan, when known.
  */
-export function evaluateThermalTrend(points: TrendPoint[], baselineThetaCPerW: number, remainingH: number | null = null): ThermalTrend | null {
+export function evaluateThermalTrend(
+  points: TrendPoint[],
+  baselineThetaCPerW: number,
+  remainingH: number | null = null,
+): ThermalTrend | null {
   if (points.length < TREND_MIN_FITS || !(baselineThetaCPerW > 0)) return null;
   const x = points.map((p) => p.tH);
   const y = points.map((p) => p.thetaCPerW);

@@ -119,7 +119,9 @@ describe('the trend rule on a slowly drying pad (simulator dryingPad 0.01 °C/W 
     expect(first.trend!.riseFraction).toBeLessThan(THERMAL_PATH_RISE_FRACTION / 2);
     expect(first.step!.riseFraction).toBeGreaterThan(THERMAL_PATH_RISE_FRACTION);
     // The alarm's words say which rule fired.
-    expect(first.trend!.message).toMatch(/trend rule: rising [\d.]+ °C\/W per 100 h \(90 % interval [-\d.]+ °C\/W per 100 h to [\d.]+ °C\/W per 100 h\)/);
+    expect(first.trend!.message).toMatch(
+      /trend rule: rising [\d.]+ °C\/W per 100 h \(90 % interval [-\d.]+ °C\/W per 100 h to [\d.]+ °C\/W per 100 h\)/,
+    );
     expect(first.trend!.message).toMatch(/reaches \+25 % over the [\d.]+ °C\/W found first in run \S+ in about [\d.]+ h/);
     expect(first.step!.message).toMatch(/step rule: \d+ % above the [\d.]+ °C\/W found first/);
   });

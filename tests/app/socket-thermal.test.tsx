@@ -114,7 +114,15 @@ describe('socket sheet: Thermal path', () => {
     mockFetch({
       'GET /api/thermal/rigs/OV-03/sockets/2': {
         status: 200,
-        body: body({ baselineThetaCPerW: 2.0, flagged: true, flagRule: 'trend', trend: now.trend, latestGood: now, latest: now, history: [now] }),
+        body: body({
+          baselineThetaCPerW: 2.0,
+          flagged: true,
+          flagRule: 'trend',
+          trend: now.trend,
+          latestGood: now,
+          latest: now,
+          history: [now],
+        }),
       },
     });
     renderWithClient(<SocketThermal code="OV-03" socket={2} />);
@@ -124,7 +132,9 @@ describe('socket sheet: Thermal path', () => {
     expect(screen.getByTestId('socket-thermal-trend')).toHaveTextContent(
       'Trend of θ+0.84 °C/W per 100 h (90 % interval 0.71 to 0.98), 14 fits over 26 h',
     );
-    expect(screen.getByTestId('socket-thermal-outlook')).toHaveTextContent('OutlookRising: reaches +25 % in about 36 h (within the 105 h horizon)');
+    expect(screen.getByTestId('socket-thermal-outlook')).toHaveTextContent(
+      'OutlookRising: reaches +25 % in about 36 h (within the 105 h horizon)',
+    );
     expect(screen.getByTestId('socket-thermal-rise')).toHaveTextContent('Change+10 % (flag above +25 %)');
   });
 
@@ -143,7 +153,9 @@ describe('socket sheet: Thermal path', () => {
   });
 
   it('trend words: not significant, beyond the horizon, falling', () => {
-    expect(trendOutlookText(trend({ significant: false, pValue: 0.31, fires: false }), 0.25)).toBe('No significant rise (Mann–Kendall p 0.31)');
+    expect(trendOutlookText(trend({ significant: false, pValue: 0.31, fires: false }), 0.25)).toBe(
+      'No significant rise (Mann–Kendall p 0.31)',
+    );
     expect(trendOutlookText(trend({ hoursToLimit: 812, fires: false, horizonH: 500 }), 0.25)).toBe(
       'Rising, but +25 % is about 812 h away (beyond the 500 h horizon)',
     );

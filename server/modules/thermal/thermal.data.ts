@@ -153,7 +153,10 @@ export async function trendFitsOfRun(
 }
 
 /** The rig's active run (most recently changed) and the stress hours its plan still has, or null. */
-export async function activeRunOfRig(ds: DataSource, rigId: string): Promise<{ id: string; code: string; remainingH: number | null } | null> {
+export async function activeRunOfRig(
+  ds: DataSource,
+  rigId: string,
+): Promise<{ id: string; code: string; remainingH: number | null } | null> {
   const rows: Array<{ id: string; code: string; remaining_h: number | null }> = await ds.query(
     `SELECT r.id, r.code, GREATEST(p.duration_h - r.stress_hours, 0) AS remaining_h
        FROM runs r LEFT JOIN stress_plans p ON p.id = r.plan_id

@@ -11,7 +11,14 @@
  * A software flag is no substitute for the rig's hardware interlocks.
  */
 import { FLAG_BIAS_ON, FLAG_TRIPPED } from '../../../shared/mqtt/payloads';
-import { SocketThermalTrack, THERMAL_PATH_RISE_FRACTION, TREND_INTERVAL_CONFIDENCE, type ThermalTrend, type TrackEvent, type TrackOptions } from '../../../shared/thermal';
+import {
+  SocketThermalTrack,
+  THERMAL_PATH_RISE_FRACTION,
+  TREND_INTERVAL_CONFIDENCE,
+  type ThermalTrend,
+  type TrackEvent,
+  type TrackOptions,
+} from '../../../shared/thermal';
 import type { AppContext } from '../../context';
 import { describeErrorForLog } from '../../db/safe-logger';
 import { RUN_EVENT, TELEMETRY_LANDED, type RunEvent, type TelemetryLanded } from '../../events';
@@ -229,8 +236,7 @@ export function thermalPathAlarm(
   const base = e.baselineThetaCPerW;
   const rise = e.riseFraction ?? 0;
   const byTrend = e.rule === 'trend' && e.trend !== null;
-  const stepWords =
-    `step rule: ${pct(rise)} above the ${f2(base)} °C/W found first in run ${rig.runCode ?? '?'} (flag limit ${pct(THERMAL_PATH_RISE_FRACTION)}). `;
+  const stepWords = `step rule: ${pct(rise)} above the ${f2(base)} °C/W found first in run ${rig.runCode ?? '?'} (flag limit ${pct(THERMAL_PATH_RISE_FRACTION)}). `;
   return {
     kind: 'thermal-path',
     severity: 'warning',
