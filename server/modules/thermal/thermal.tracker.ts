@@ -148,6 +148,7 @@ export class ThermalTracker {
           baselineStored: baselineThetaCPerW !== null,
         };
         rig.sockets.set(i, s);
+        rig.trendPoints.delete(i); // the track holds its own copy now
       }
       const flags = m.flags[k];
       s.track.remainingH = rig.remainingH;
