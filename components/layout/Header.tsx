@@ -19,7 +19,7 @@ interface Props {
 export function Header({ title, subtitle, eyebrow, actions }: Props) {
   const { gtPhone } = useBreakpoints();
   // Signed in, every page header carries the notification bell at its top right: it scrolls with
-  // the page instead of floating over it.
+  // the page instead of floating over it. On a phone the title keeps clear of the bell and its count.
   const bell = useContext(InShell) ? <NotificationBell /> : null;
   return (
     <View
@@ -32,7 +32,7 @@ export function Header({ title, subtitle, eyebrow, actions }: Props) {
       }}
     >
       {bell && !gtPhone ? <View style={{ position: 'absolute', top: 0, right: 0, zIndex: 10 }}>{bell}</View> : null}
-      <View style={{ flexShrink: 1, gap: space.xxs, paddingRight: bell && !gtPhone ? 48 : 0 }}>
+      <View style={{ flexShrink: 1, gap: space.xxs, paddingRight: bell && !gtPhone ? 64 : 0 }}>
         {eyebrow ? (
           <Text variant="overline" tone="subtle">
             {eyebrow}

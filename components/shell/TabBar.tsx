@@ -68,12 +68,13 @@ export function TabBar({ tabs, isActive, moreActive, onMore, badges = {} }: Prop
           <Link key={d.path} href={d.path as Href} asChild>
             <Pressable
               accessibilityRole="link"
+              // The full name stays the accessible name; the visible tab word may be shorter.
               accessibilityLabel={navLabel(d.label, badges[d.path])}
               accessibilityState={{ selected: active }}
               aria-current={active ? 'page' : undefined}
               style={tabStyle}
             >
-              <TabInner label={d.label} icon={d.icon} active={active} count={badges[d.path]} />
+              <TabInner label={d.tabLabel ?? d.label} icon={d.icon} active={active} count={badges[d.path]} />
             </Pressable>
           </Link>
         );

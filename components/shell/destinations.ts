@@ -5,6 +5,8 @@ import type { NavIconName } from '@/components/icons/NavIcon';
 export interface Destination {
   path: string;
   label: string;
+  /** A shorter word for a phone's bottom tab (a fifth of 390 px), where `label` would be cut. */
+  tabLabel?: string;
   icon: NavIconName;
   /** Who sees it: an entry of the permission table (shared/domain/permissions.ts). */
   permission: Permission;
@@ -16,10 +18,10 @@ export const DESTINATIONS: readonly Destination[] = [
   { path: '/alarms', label: 'Alarms', icon: 'alarms', permission: 'page.alarms' },
   { path: '/readings', label: 'Read points', icon: 'readings', permission: 'page.readings' },
   { path: '/plans', label: 'Plans', icon: 'plans', permission: 'page.plans' },
-  { path: '/devices', label: 'Devices & lots', icon: 'devices', permission: 'page.devices' },
+  { path: '/devices', label: 'Devices & lots', tabLabel: 'Lots', icon: 'devices', permission: 'page.devices' },
   { path: '/schedule', label: 'Schedule', icon: 'schedule', permission: 'page.schedule' },
   { path: '/trends', label: 'Lot trends', icon: 'trends', permission: 'page.trends' },
-  { path: '/qualifications', label: 'Qualifications', icon: 'qualifications', permission: 'page.qualifications' },
+  { path: '/qualifications', label: 'Qualifications', tabLabel: 'Quals', icon: 'qualifications', permission: 'page.qualifications' },
   { path: '/people', label: 'People', icon: 'people', permission: 'page.people' },
   { path: '/mail', label: 'Mail log', icon: 'mail', permission: 'page.mail' },
   { path: '/rigs', label: 'Rigs', icon: 'rigs', permission: 'page.rigs' },

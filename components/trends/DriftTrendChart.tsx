@@ -82,6 +82,7 @@ export function DriftTrendChart({ lots, testID }: Props) {
             />
             <VictoryAxis
               dependentAxis
+              crossAxis={false}
               label="hFE change from time zero, %"
               tickFormat={(t: number) => (t < 0 ? `−${Math.abs(t)}` : `${t}`)}
               style={{ ...axisStyle, axisLabel: { ...axisStyle.axisLabel, padding: 40 } }}

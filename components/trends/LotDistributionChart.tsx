@@ -114,6 +114,7 @@ export function LotDistributionChart({ lot }: { lot: DistributionSource }) {
               <VictoryAxis offsetY={48} tickValues={ticks} label="Stress hours (read points)" style={axisStyle} />
               <VictoryAxis
                 dependentAxis
+                crossAxis={false}
                 label={PARAMS.find((p) => p.value === param)!.label}
                 tickFormat={(t: number) => (t < 0 ? `−${Math.abs(t)}` : `${t}`)}
                 style={{ ...axisStyle, axisLabel: { ...axisStyle.axisLabel, padding: 44 } }}

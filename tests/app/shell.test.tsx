@@ -118,6 +118,15 @@ describe('shell on a phone (bottom tabs)', () => {
     expect(screen.queryByRole('link', { name: 'People' })).toBeNull();
   });
 
+  test("a manager's long names get a short tab word; the link keeps the full name", () => {
+    renderShell('manager', '/trends');
+    const tabs = screen.getAllByRole('link');
+    expect(tabs.map((t) => t.props.accessibilityLabel)).toEqual(['Devices & lots', 'Schedule', 'Lot trends', 'Qualifications']);
+    expect(screen.getByText('Lots')).toBeOnTheScreen();
+    expect(screen.getByText('Quals')).toBeOnTheScreen();
+    expect(screen.queryByText('Devices & lots')).toBeNull();
+  });
+
   test('an engineer finds the rest of their places under More', () => {
     renderShell('engineer', '/plans');
     expect(screen.getAllByRole('link')).toHaveLength(4);

@@ -69,7 +69,11 @@ async function chartTextClipped(page: Page, where: string): Promise<string[]> {
   return cut.length ? [`${where}: chart labels cut at the edge: ${cut.slice(0, 5).join(', ')}`] : [];
 }
 
-/** Charts of quantities read from zero (drift, ratio): "0" must be among their tick labels. */
+/**
+ * Charts of quantities read from zero (drift, ratio): "0" must be a tick label on both axes — hours from
+ * time zero and the drift itself. Victory drops the value axis's 0 where the axes cross unless
+ * `crossAxis={false}`, and a single "0" from the hours axis once hid that.
+ */
 async function zeroOnDriftAxes(page: Page, where: string): Promise<string[]> {
   // SVG text has no innerText: read textContent. A plot carries the x-axis title; a legend does not.
   const plots = await page
@@ -82,7 +86,7 @@ async function zeroOnDriftAxes(page: Page, where: string): Promise<string[]> {
         .filter((labels) => labels.includes('Stress hours (read points)')),
     );
   return plots.flatMap((labels, i) =>
-    labels.includes('0') ? [] : [`${where}: chart ${i + 1} has no 0 on its axes (${labels.join(' ')})`],
+    labels.filter((l) => l === '0').length >= 2 ? [] : [`${where}: chart ${i + 1} lacks a 0 on one of its axes (${labels.join(' ')})`],
   );
 }
 
