@@ -91,6 +91,14 @@ export const TREND_INTERVAL_CONFIDENCE = 1 - 2 * TREND_ALPHA;
 export const TREND_MIN_FITS = 10;
 /** Most fits kept for a trend (pairs grow as n²: 64 fits are 2016 slopes). Emberlot's choice. */
 export const TREND_MAX_FITS = 64;
+/**
+ * A fit joins the trend only when its window starts at least this many identification windows after
+ * the latest bias-on or power step: before that the case is still settling and reads low and climbing
+ * (a sound socket with a 150 s case lag and 200 s windows read 12 % low for ~0.2 h after bias-on and
+ * again after a read-point break: tests/broker/protection-healthy.test.ts). 4 windows are ≥ 5 τ
+ * whenever a window spans ≥ 1.25 τ. Emberlot's choice.
+ */
+export const TREND_SETTLE_WINDOWS = 4;
 /** Farthest projection in stress hours (about half a 1000 h life test). Emberlot's choice. */
 export const TREND_HORIZON_H = 500;
 /** Project no further than this many times the hours the fits span. Emberlot's choice. */

@@ -10,7 +10,13 @@
  * off samples); until one is seen the chamber is taken as the socket's ambient (offset 0).
  */
 import { identifySocketThermal, type ThermalIdentification, type ThermalSample } from './identify';
-import { BASELINE_AGREE_FITS, BASELINE_AGREE_FRACTION, THERMAL_PATH_CONFIRM_FITS, THERMAL_PATH_RISE_FRACTION } from './rules';
+import {
+  BASELINE_AGREE_FITS,
+  BASELINE_AGREE_FRACTION,
+  THERMAL_PATH_CONFIRM_FITS,
+  THERMAL_PATH_RISE_FRACTION,
+  TREND_SETTLE_WINDOWS,
+} from './rules';
 import { ThermalTrendSeries, type ThermalTrend, type TrendPoint } from './trend';
 
 export type ThermalTrigger = 'bias-on' | 'power-step' | 'periodic';
@@ -57,6 +63,8 @@ export class SocketThermalTrack {
   private off: TrackSample[] = [];
   private prev: TrackSample | null = null;
   private sinceFit = 0;
+  /** Biased samples since the latest bias-on or power step (the trend waits for the case to settle). */
+  private sinceStep = 0;
   private pendingTrigger: ThermalTrigger | null = null;
   private offsetC: number | null = null;
   baselineThetaCPerW: number | null;
@@ -95,6 +103,7 @@ export class SocketThermalTrack {
     if (prev && s.tS <= prev.tS) return null; // a repeat or an older sample
     this.prev = s;
     if (!s.biasOn) {
+      this.sinceStep = 0;
       this.off.push(s);
       if (this.off.length > this.opts.offSamples * 3) this.off.shift();
       this.window = [];
@@ -106,15 +115,18 @@ export class SocketThermalTrack {
       this.window = [prev];
       this.pendingTrigger = 'bias-on';
       this.sinceFit = 0;
+      this.sinceStep = 0;
     } else if (this.isPowerStep(s)) {
       this.window = this.window.slice(-1);
       this.pendingTrigger = 'power-step';
       this.sinceFit = 0;
+      this.sinceStep = 0;
     }
     this.off = [];
     this.window.push(s);
     if (this.window.length > this.opts.windowSamples) this.window.shift();
     this.sinceFit++;
+    this.sinceStep++;
     if (this.window.length < this.opts.windowSamples) return null;
     if (this.pendingTrigger === null && this.sinceFit < this.opts.periodicSamples) return null;
     const trigger = this.pendingTrigger ?? 'periodic';
@@ -180,7 +192,8 @@ export class SocketThermalTrack {
       // The trend rule on the good fits after the baseline: a fit joins when its window does not overlap the last point's.
       const windowH = (fit.samples * (fit.sampleIntervalS ?? 0)) / 3600;
       const tH = (this.prev?.tS ?? 0) / 3600;
-      trendPoint = this.trend.offer({ tH, thetaCPerW: fit.thetaCPerW }, windowH, this.baselineThetaCPerW, this.remainingH);
+      const settled = this.sinceStep - this.window.length >= TREND_SETTLE_WINDOWS * this.opts.windowSamples;
+      trendPoint = settled && this.trend.offer({ tH, thetaCPerW: fit.thetaCPerW }, windowH, this.baselineThetaCPerW, this.remainingH);
       if (flag === null && trendPoint && this.trend.active) {
         flag = 'raise';
         rule = 'trend';
