@@ -4,7 +4,7 @@ import { ROLE_LABEL } from '@/shared/roles';
 import { Header } from '@/components/layout/Header';
 import { Screen } from '@/components/layout/Screen';
 import { describeError } from '@/components/queries/api';
-import { useMe, useSignOut } from '@/components/queries/auth';
+import { useCan, useMe, useSignOut } from '@/components/queries/auth';
 import { useUpdateUser } from '@/components/queries/users';
 import { colors, space } from '@/components/theme/tokens';
 import { Banner } from '@/components/ui/Banner';
@@ -13,6 +13,7 @@ import { Card } from '@/components/ui/Card';
 import { Loading } from '@/components/ui/Loading';
 import { Text } from '@/components/ui/Text';
 import { Toggle } from '@/components/ui/Toggle';
+import { ForecastAlertCard } from './ForecastAlertCard';
 
 type Flag = 'notifyAlarms' | 'notifyReadPoints';
 
@@ -21,6 +22,7 @@ export function AccountScreen() {
   const me = useMe();
   const update = useUpdateUser();
   const signOut = useSignOut();
+  const can = useCan();
   const [saving, setSaving] = useState<Flag | null>(null);
   const user = me.data;
 
@@ -77,6 +79,7 @@ export function AccountScreen() {
           testID="toggle-notify-read-points"
         />
       </Card>
+      {can('forecast.alert.own') ? <ForecastAlertCard /> : null}
       <Card title="Sign out" description="Ends your session on this device.">
         {signOut.isError ? <Banner tone="danger">{describeError(signOut.error)}</Banner> : null}
         <Button label="Sign out" onPress={() => signOut.mutate()} busy={signOut.isPending} busyLabel="Signing out…" />

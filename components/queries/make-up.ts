@@ -1,7 +1,6 @@
-/** A run's make-up proposal (lost, excluded or tripped devices) and booking it in one step. */
+/** A run's make-up proposal (lost, excluded or tripped devices; per lot) and booking it in one step (a run per lot made up). */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import type { MakeUpBookInput, MakeUpView } from '@/shared/schemas/make-up';
-import type { RunDetail } from '@/shared/schemas/runs';
+import type { MakeUpBookInput, MakeUpBooking, MakeUpView } from '@/shared/schemas/make-up';
 import { api } from './api';
 import { RUN_REFRESH_MS, runKeys } from './runs';
 
@@ -22,7 +21,7 @@ export function useBookMakeUp(runId: string) {
   const qc = useQueryClient();
   return useMutation({
     mutationFn: (input: MakeUpBookInput) =>
-      api<RunDetail>(`/api/runs/${encodeURIComponent(runId)}/make-up`, { method: 'POST', body: input }),
+      api<MakeUpBooking>(`/api/runs/${encodeURIComponent(runId)}/make-up`, { method: 'POST', body: input }),
     onSuccess: () => qc.invalidateQueries({ queryKey: runKeys.all }),
   });
 }

@@ -6,7 +6,7 @@
 import { View } from 'react-native';
 import { space } from '@/components/theme/tokens';
 import { Card } from '@/components/ui/Card';
-import { Text } from '@/components/ui/Text';
+import { Fact } from '@/components/ui/Fact';
 import { grouped } from '@/shared/domain/format';
 import type { RunChamberCycles, RunChamberView } from '@/shared/schemas/runs';
 
@@ -17,19 +17,6 @@ const PHASE_TEXT: Record<NonNullable<RunChamberCycles['phase']>, string> = {
   'to-cold': 'Heading to the cold extreme',
   cold: 'Dwelling at the cold extreme',
 };
-
-function Fact({ label, value, testID }: { label: string; value: string; testID?: string }) {
-  return (
-    <View style={{ minWidth: 150, flexGrow: 1, flexBasis: 150, gap: 2 }}>
-      <Text variant="overline" tone="subtle">
-        {label}
-      </Text>
-      <Text variant="bodyStrong" testID={testID}>
-        {value}
-      </Text>
-    </View>
-  );
-}
 
 export function RunChamberCard({ cycles, chamber }: { cycles: RunChamberCycles | null; chamber: RunChamberView | null }) {
   const latest = chamber?.latest ?? null;

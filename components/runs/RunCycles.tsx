@@ -7,7 +7,7 @@
 import { View } from 'react-native';
 import { colors, radius, space, tones } from '@/components/theme/tokens';
 import { Card } from '@/components/ui/Card';
-import { Text } from '@/components/ui/Text';
+import { Fact } from '@/components/ui/Fact';
 import { grouped } from '@/shared/domain/format';
 import type { RunCycles, RunSocket } from '@/shared/schemas/runs';
 
@@ -24,19 +24,6 @@ export function socketCyclesText(s: RunSocket): string {
   if (!s.cycles) return '—';
   const missed = s.cycles.missed ? ` (${grouped(s.cycles.missed)} not credited)` : '';
   return `${grouped(s.cycles.done)} · ΔTj ${swingText(s.cycles.lastDTjLowC, s.cycles.lastDTjHighC)}${missed}`;
-}
-
-function Fact({ label, value, testID }: { label: string; value: string; testID?: string }) {
-  return (
-    <View style={{ minWidth: 150, flexGrow: 1, flexBasis: 150, gap: 2 }}>
-      <Text variant="overline" tone="subtle">
-        {label}
-      </Text>
-      <Text variant="bodyStrong" testID={testID}>
-        {value}
-      </Text>
-    </View>
-  );
 }
 
 export function RunCyclesCard({ cycles, sockets }: { cycles: RunCycles; sockets: RunSocket[] }) {

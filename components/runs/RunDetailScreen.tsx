@@ -21,6 +21,7 @@ import { Card } from '@/components/ui/Card';
 import { ConfirmDialog } from '@/components/ui/ConfirmDialog';
 import { DataTable, type Column } from '@/components/ui/DataTable';
 import { EmptyState } from '@/components/ui/EmptyState';
+import { Fact } from '@/components/ui/Fact';
 import { Field } from '@/components/ui/Field';
 import { QueryState } from '@/components/ui/QueryState';
 import { SafetyCaution } from '@/components/ui/SafetyCaution';
@@ -75,17 +76,6 @@ const FLAG_WORD: Record<SocketFlag['problem'], string> = {
   'no-such-socket': 'No such socket',
   'too-many': 'Too many',
 };
-
-function Fact({ label, value }: { label: string; value: string }) {
-  return (
-    <View style={{ minWidth: 150, flexGrow: 1, flexBasis: 150, gap: 2 }}>
-      <Text variant="overline" tone="subtle">
-        {label}
-      </Text>
-      <Text variant="bodyStrong">{value}</Text>
-    </View>
-  );
-}
 
 function Progress({ run }: { run: RunDetail }) {
   const frac = Math.max(0, Math.min(1, run.stressHours / Math.max(run.targetH, 1e-9)));

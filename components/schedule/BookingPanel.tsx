@@ -115,7 +115,7 @@ export function BookingPanel({ onDone }: { onDone: () => void }) {
   const result2 = split ? proposals2.data : undefined;
   const blocks = (result?.blockingFindings.length ?? 0) > 0;
   const reasonOk = approvedRequest !== null;
-  const shortfall = current ? sampleShortfall(current.sampleSize, sampleSize || 0) : null;
+  const shortfall = current ? sampleShortfall(current.sampleSize, sampleSize || 0, lotIds.length) : null;
   const deviationOk = !shortfall || deviation.trim().length >= DEVIATION_REASON_MIN;
   const extras = () => ({
     ...(blocks && approvedRequest ? { override: { requestId: approvedRequest } } : {}),

@@ -89,8 +89,8 @@ function ForecastAlertForm() {
   return (
     <View style={{ gap: space.sm, marginTop: space.md }} testID="forecast-alert">
       <Text variant="bodyStrong">
-        Alert: engineers are told when a lot's chance of passing falls below {current === undefined ? '…' : chance(current)} after a
-        read-point upload (once per lot each time it falls below).
+        Lab alert level: engineers who set no level of their own (on their account page) are told when a lot's chance of passing falls below{' '}
+        {current === undefined ? '…' : chance(current)} after a read-point upload (once per lot each time it falls below).
       </Text>
       {can('forecast.alert') ? (
         <View style={{ gap: space.sm }}>

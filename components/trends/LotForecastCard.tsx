@@ -39,13 +39,28 @@ const pastColumns: Column<Past>[] = [
   { key: 'v', title: 'Verdict then', flex: 1, render: (p) => LOT_VERDICT_LABEL[p.verdict] },
 ];
 
+/**
+ * The testIDs of one plan's section: a lot stressed under several plans (HTRB, then temperature
+ * cycling) has one section each, so every ID carries the plan's id. Tests find "the section for
+ * plan X" by `forecastPlanTestIds(planId)` (or the same strings: `forecast-plan-<planId>` …).
+ */
+export function forecastPlanTestIds(planId: string) {
+  return {
+    section: `forecast-plan-${planId}`,
+    certainFrom: `forecast-certain-from-${planId}`,
+    coming: `forecast-coming-${planId}`,
+    history: `forecast-history-${planId}`,
+  };
+}
+
 function PlanForecast({ plan, many }: { plan: Plan; many: boolean }) {
   const c = plan.current;
+  const ids = forecastPlanTestIds(plan.planId);
   return (
-    <View style={{ gap: space.sm }}>
+    <View style={{ gap: space.sm }} testID={ids.section}>
       {many ? <Text variant="bodyStrong">{plan.planName}</Text> : null}
       <Text>{c.note}</Text>
-      <Text variant="caption" testID="forecast-certain-from">
+      <Text variant="caption" testID={ids.certainFrom}>
         {plan.certainFrom
           ? `Certain from ${hours(plan.certainFrom.hours)}: ${plan.certainFrom.side === 'pass' ? 'the lot passes' : 'the lot fails'}.`
           : `Not certain yet (${CERTAINTY_WORDS}).`}
@@ -56,7 +71,7 @@ function PlanForecast({ plan, many }: { plan: Plan; many: boolean }) {
           columns={comingColumns}
           rows={c.coming}
           rowKey={(x) => String(x.hours)}
-          testID="forecast-coming"
+          testID={ids.coming}
         />
       ) : null}
       {plan.history.length ? (
@@ -65,7 +80,7 @@ function PlanForecast({ plan, many }: { plan: Plan; many: boolean }) {
           columns={pastColumns}
           rows={plan.history}
           rowKey={(x) => String(x.hours)}
-          testID="forecast-history"
+          testID={ids.history}
         />
       ) : null}
       {c.parameters.length ? (

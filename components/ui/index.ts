@@ -1,6 +1,7 @@
 export { Text } from './Text';
 export { Button, type ButtonVariant } from './Button';
 export { Card } from './Card';
+export { Fact } from './Fact';
 export { Field } from './Field';
 export { SegmentedChoice, type Choice } from './SegmentedChoice';
 export { Toggle } from './Toggle';

@@ -201,7 +201,7 @@ async function insertLiveRun(
   const endMs = startMs + runDurationMs(plan, timing);
   const rps = [...plan.readPointsH].sort((a, b) => a - b);
   const started = s.state === 'heating' || s.state === 'stressing';
-  const short = sampleShortfall(plan.sampleSize, sampleSize);
+  const short = sampleShortfall(plan.sampleSize, sampleSize, s.lots.length);
   const sample = await m.save(
     m.create(SampleEntity, {
       planId: plan.id,

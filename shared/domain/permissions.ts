@@ -47,6 +47,8 @@ export const PERMISSIONS = {
   'trends.read': ['admin', 'engineer', 'manager'],
   // The chance of passing below which engineers are told after a read-point upload (issue #25).
   'forecast.alert': ['engineer'],
+  // Their own alert level (who is told when a lot's chance of passing falls: engineers).
+  'forecast.alert.own': ['engineer'],
   // Reports (issue #22): the lot report for those who read trends; the certificate of conformance
   // for the people who sign verdicts.
   'report.lot': ['admin', 'engineer', 'manager'],

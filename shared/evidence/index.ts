@@ -10,10 +10,16 @@
 /** A deviation (booking fewer devices than the plan asks) needs a written reason this long. */
 export const DEVIATION_REASON_MIN = 10;
 
-/** Why a booking of `booked` devices falls short of the plan's `planned`, or null when it does not. */
-export function sampleShortfall(planned: number, booked: number): string | null {
-  if (booked >= planned) return null;
-  return `The plan asks for ${planned} devices; this booking holds ${booked} (${planned - booked} short).`;
+/**
+ * Why a booking of `booked` devices falls short of the plan's `planned`, or null when it does not.
+ * The plan's sample is per lot: the verdict judges each lot on its own devices against n and c
+ * (shared/verdict/judge.ts), so a booking over `lots` lots needs `planned` devices for each of them.
+ */
+export function sampleShortfall(planned: number, booked: number, lots = 1): string | null {
+  const needed = planned * Math.max(1, lots);
+  if (booked >= needed) return null;
+  if (lots <= 1) return `The plan asks for ${planned} devices; this booking holds ${booked} (${planned - booked} short).`;
+  return `Each lot is judged on its own devices: the plan asks for ${planned} per lot, ${needed} for ${lots} lots; this booking holds ${booked} (${needed - booked} short).`;
 }
 
 // ---------------------------------------------------------------------------------------------

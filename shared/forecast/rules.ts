@@ -31,6 +31,26 @@ export const FORECAST_MIN_READ_POINTS = 2;
 /** The chance of passing below which the engineer is told, unless the lab sets its own (lab settings). */
 export const FORECAST_ALERT_DEFAULT = 0.5;
 
+/**
+ * The alert levels one may set (the lab's and each engineer's own): a level of 0 or 1 would never or
+ * always fire. The product's choice for issue #25; the migrations' CHECK constraints repeat it.
+ */
+export const FORECAST_ALERT_MIN = 0.01;
+export const FORECAST_ALERT_MAX = 0.99;
+
+/**
+ * The level an engineer is told at: their own (null when they turned the alert off), else the lab's
+ * — the lab's only while their read-point notices are on, as before engineers had levels of their own.
+ */
+export function effectiveAlertLevel(
+  own: { set: false } | { set: true; below: number | null },
+  labBelow: number,
+  notifyReadPoints: boolean,
+): number | null {
+  if (own.set) return own.below;
+  return notifyReadPoints ? labBelow : null;
+}
+
 /** Calibration bins of the back-test: predicted chance of passing in [0, 0.1), [0.1, 0.3), … [0.9, 1]. */
 export const BACKTEST_BINS: readonly number[] = [0, 0.1, 0.3, 0.5, 0.7, 0.9, 1];
 

@@ -5,22 +5,55 @@
  *   GET /api/forecast/backtest                calibration and lead time on finished lots (demo + generated)
  *   GET /api/forecast/alert                   the chance of passing below which engineers are told
  *   PUT /api/forecast/alert                   { below, reason } (engineers; audited)
+ *   GET /api/forecast/alert/mine              the signed-in engineer's own level (or the lab's, or off)
+ *   PUT /api/forecast/alert/mine              { mode: 'lab' } | { mode: 'off' } | { mode: 'own', below } (audited)
  */
 import { z } from 'zod';
+import { FORECAST_ALERT_MAX, FORECAST_ALERT_MIN } from '../forecast/rules';
 import type { BacktestResult } from '../forecast/backtest';
 import type { PlanForecastHistory } from '../forecast/history';
 
+const LEVEL_WORDS = `Chance of passing: enter a number between ${FORECAST_ALERT_MIN} and ${FORECAST_ALERT_MAX}`;
+
+/** An alert level, the lab's or an engineer's own: a chance of passing as a fraction. */
+export const alertLevelSchema = z
+  .number({ error: LEVEL_WORDS })
+  .finite(LEVEL_WORDS)
+  .min(FORECAST_ALERT_MIN, `Chance of passing: at least ${FORECAST_ALERT_MIN}`)
+  .max(FORECAST_ALERT_MAX, `Chance of passing: at most ${FORECAST_ALERT_MAX}`);
+
 export const forecastAlertSchema = z
   .object({
-    below: z
-      .number({ error: 'Chance of passing: enter a number between 0.01 and 0.99' })
-      .finite('Chance of passing: enter a number between 0.01 and 0.99')
-      .min(0.01, 'Chance of passing: at least 0.01')
-      .max(0.99, 'Chance of passing: at most 0.99'),
+    below: alertLevelSchema,
     reason: z.string({ message: 'Say why the threshold changes' }).trim().min(3, 'Say why the threshold changes').max(200),
   })
   .strict();
 export type ForecastAlertInput = z.infer<typeof forecastAlertSchema>;
+
+/** An engineer's own alert: follow the lab's level, off, or a level of their own. */
+export const myForecastAlertSchema = z.discriminatedUnion(
+  'mode',
+  [
+    z.object({ mode: z.literal('lab') }).strict(),
+    z.object({ mode: z.literal('off') }).strict(),
+    z.object({ mode: z.literal('own'), below: alertLevelSchema }).strict(),
+  ],
+  { error: "Alert: choose 'lab' (the lab's level), 'own' (with a level) or 'off'" },
+);
+export type MyForecastAlertInput = z.infer<typeof myForecastAlertSchema>;
+
+export interface MyForecastAlert {
+  mode: 'lab' | 'own' | 'off';
+  /** The engineer's own level (mode 'own'), else null. */
+  below: number | null;
+  /** The lab's level (the default). */
+  labBelow: number;
+  /** Whether read-point notices are on: the lab's level reaches an engineer only then. */
+  notifyReadPoints: boolean;
+  /** The level this engineer is told at now; null = not told. */
+  effective: number | null;
+  updatedAt: string | null;
+}
 
 export interface ForecastAlertSetting {
   /** Engineers are told when a lot's chance of passing falls below this after a read-point upload. */

@@ -4,76 +4,40 @@
  */
 import fc from 'fast-check';
 import { AuditLogEntity, RigEntity, RunEntity } from '../../server/db/entities';
-import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
 import { createTestApp, type TestApp } from '../support/api';
-import { tableCounts } from '../support/db';
+import { insertTestRig, tableCounts } from '../support/db';
+import { htrbPlanBody, postDemoType, postLot, postPlan, serials } from '../support/lab';
 
 let t: TestApp;
 let clock = Date.UTC(2026, 11, 1, 8, 0);
 const ids: Record<string, string> = {};
-const demo = (pn: string) => DEMO_DEVICE_TYPES.find((d) => d.partNumber === pn)!;
-const serials = (prefix: string, n: number) => Array.from({ length: n }, (_, i) => `${prefix}${String(i + 1).padStart(4, '0')}`);
 const SHORT = { reason: 'Test fixture: a short sample on purpose' };
 
-async function addRig(code: string, over: Partial<RigEntity> = {}): Promise<string> {
-  const r = await t.ctx.ds.getRepository(RigEntity).save({
-    code,
-    name: `Oven ${code}`,
-    socketCount: 64,
-    maxTempC: 200,
-    maxVoltageV: 800,
-    humidityCapable: false,
-    maxHumidityPct: null,
-    mqttUsername: `rig-${code.toLowerCase()}`,
-    mqttSecretHash: 'x',
-    credentialsIssuedAt: new Date(clock),
-    ...over,
-  });
-  return r.id;
-}
+/** A 64-socket oven rated 800 V. */
+const addRig = (code: string) => insertTestRig(t.ctx.ds, code, { sockets: 64, maxVoltageV: 800, name: `Oven ${code}` });
 
 beforeAll(async () => {
   t = await createTestApp({}, { now: () => new Date(clock) });
   const eng = await t.signIn('engineer');
-  const type = await eng.post('/api/device-types').send(demo('HPD-2N140'));
-  expect(type.status).toBe(201);
-  ids.type = type.body.id;
+  ids.type = await postDemoType(eng);
   for (const [code, prefix] of [
     ['HG2611-A', 'A'],
     ['HG2612-C', 'C'],
   ]) {
-    const res = await eng.post('/api/lots').send({ code, deviceTypeId: ids.type, quantity: 2400, serials: serials(prefix, 80) });
-    expect(res.status).toBe(201);
-    ids[code] = res.body.id;
+    ids[code] = await postLot(eng, { code, deviceTypeId: ids.type, quantity: 2400, serials: serials(prefix, 80) });
   }
-  const plan = await eng.post('/api/plans').send({
-    name: 'HTRB 145 °C, 80 % VCBO, 1000 h',
-    kind: 'htrb',
-    deviceTypeId: ids.type,
-    chamberC: 145,
-    bias: { vcbV: 112 },
-    durationH: 1000,
-    readPointsH: [0, 168, 500, 1000],
-    sampleSize: 45,
-    acceptNumber: 0,
-    criteria: {},
-  });
-  expect(plan.status).toBe(201);
-  ids.plan = plan.body.id;
-  const cooler = await eng.post('/api/plans').send({
-    name: 'HTRB 125 °C, 80 % VCBO, 500 h',
-    kind: 'htrb',
-    deviceTypeId: ids.type,
-    chamberC: 125,
-    bias: { vcbV: 112 },
-    durationH: 500,
-    readPointsH: [0, 500],
-    sampleSize: 45,
-    acceptNumber: 0,
-    criteria: {},
-  });
-  expect(cooler.status).toBe(201);
-  ids.coolerPlan = cooler.body.id;
+  ids.plan = await postPlan(eng, htrbPlanBody(ids.type, { sampleSize: 45, acceptNumber: 0 }));
+  ids.coolerPlan = await postPlan(
+    eng,
+    htrbPlanBody(ids.type, {
+      name: 'HTRB 125 °C, 80 % VCBO, 500 h',
+      chamberC: 125,
+      durationH: 500,
+      readPointsH: [0, 500],
+      sampleSize: 45,
+      acceptNumber: 0,
+    }),
+  );
   ids['OV-02'] = await addRig('OV-02');
 });
 afterAll(async () => {

@@ -6,7 +6,6 @@
  * device is accounted for; readings measured under other conditions than time zero are flagged
  * until an engineer confirms them. Every refused request changes nothing.
  */
-import { randomUUID } from 'node:crypto';
 import {
   AuditLogEntity,
   DeviceEntity,
@@ -17,57 +16,26 @@ import {
   RunEntity,
   RunSocketEntity,
   SampleEntity,
-  StressPlanEntity,
 } from '../../server/db/entities';
 import { insertHistoryRun } from '../../server/seed/seed-history';
-import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
 import { createTestApp, type TestApp } from '../support/api';
-import { tableCounts } from '../support/db';
+import { insertTestDevices, insertTestHtrbPlan, insertTestRig, tableCounts } from '../support/db';
+import { htrbPlanBody, postDemoType, postLot, postPlan, serials } from '../support/lab';
 
 let t: TestApp;
 const ids: Record<string, string> = {};
-const serials = (prefix: string, n: number) => Array.from({ length: n }, (_, i) => `${prefix}${String(i + 1).padStart(4, '0')}`);
 
-async function addRig(code: string, socketCount: number): Promise<string> {
-  const r = await t.ctx.ds.getRepository(RigEntity).save({
-    code,
-    name: `Oven ${code}`,
-    socketCount,
-    maxTempC: 200,
-    maxVoltageV: 800,
-    humidityCapable: false,
-    maxHumidityPct: null,
-    mqttUsername: `rig-${code.toLowerCase()}`,
-    mqttSecretHash: 'x',
-    credentialsIssuedAt: new Date(),
-  });
-  return r.id;
-}
+/** An oven rated 800 V with `socketCount` sockets. */
+const addRig = (code: string, socketCount: number) =>
+  insertTestRig(t.ctx.ds, code, { sockets: socketCount, maxVoltageV: 800, name: `Oven ${code}` });
 
 beforeAll(async () => {
   t = await createTestApp();
   const eng = await t.signIn('engineer');
-  const type = await eng.post('/api/device-types').send(DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140'));
-  expect(type.status).toBe(201);
-  ids.type = type.body.id;
-  const lot = await eng.post('/api/lots').send({ code: 'HG2611-A', deviceTypeId: ids.type, quantity: 2400, serials: serials('A', 160) });
-  expect(lot.status).toBe(201);
-  ids.lot = lot.body.id;
+  ids.type = await postDemoType(eng);
+  ids.lot = await postLot(eng, { code: 'HG2611-A', deviceTypeId: ids.type, quantity: 2400, serials: serials('A', 160) });
   // [pub: AEC-Q101 test table] HTRB: 77 devices per lot, accept on 0.
-  const plan = await eng.post('/api/plans').send({
-    name: 'HTRB 145 °C, 80 % VCBO, 1000 h',
-    kind: 'htrb',
-    deviceTypeId: ids.type,
-    chamberC: 145,
-    bias: { vcbV: 112 },
-    durationH: 1000,
-    readPointsH: [0, 168, 500, 1000],
-    sampleSize: 77,
-    acceptNumber: 0,
-    criteria: {},
-  });
-  expect(plan.status).toBe(201);
-  ids.plan = plan.body.id;
+  ids.plan = await postPlan(eng, htrbPlanBody(ids.type, { sampleSize: 77, acceptNumber: 0 }));
   ids['OV-01'] = await addRig('OV-01', 64);
   ids['OV-02'] = await addRig('OV-02', 64);
   ids['OV-04'] = await addRig('OV-04', 4);
@@ -192,27 +160,9 @@ describe('readings, dispositions and coverage', () => {
   beforeAll(async () => {
     await t.ctx.ds.transaction(async (m) => {
       const type = await m.findOneByOrFail(DeviceTypeEntity, { id: ids.type });
-      const plan = await m.save(
-        m.create(StressPlanEntity, {
-          planKey: randomUUID(),
-          version: 1,
-          name: 'HTRB 145 °C, five devices',
-          kind: 'htrb',
-          deviceTypeId: type.id,
-          chamberC: 145,
-          humidityPct: null,
-          bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
-          durationH: 1000,
-          readPointsH: [0, 168, 500, 1000],
-          sampleSize: 5,
-          acceptNumber: 0,
-          criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
-          eaEv: 0.7,
-          useC: 55,
-        }),
-      );
+      const plan = await insertTestHtrbPlan(m, type.id, { name: 'HTRB 145 °C, five devices', sampleSize: 5 });
       const lot = await m.save(m.create(LotEntity, { code: 'HG2612-C', deviceTypeId: type.id, quantity: 100 }));
-      devices = await m.save(serials('C', 5).map((serial) => m.create(DeviceEntity, { lotId: lot.id, serial })));
+      devices = await insertTestDevices(m, lot.id, serials('C', 5));
       const rig = await m.findOneByOrFail(RigEntity, { id: ids['OV-04'] });
       // Time zero measured (exact values, no noise); stressed to 200 h; socket of C0005 tripped at 50 h.
       const run = await insertHistoryRun(m, {

@@ -3,14 +3,13 @@
  * verdict, the list's column, the back-test on the demo's finished lots plus generated ones, and the
  * alert an engineer sets — told once per lot per crossing after a read-point entry.
  */
-import { randomUUID } from 'node:crypto';
-import { DeviceEntity, LotEntity, NotificationEntity, RigEntity, StressPlanEntity, MailLogEntity } from '../../server/db/entities';
+import { DeviceEntity, LotEntity, NotificationEntity, RigEntity, MailLogEntity } from '../../server/db/entities';
 import { SEED_STEPS } from '../../server/seed/seed';
 import { insertHistoryRun } from '../../server/seed/seed-history';
 import { FORECAST_CERTAINTY } from '../../shared/forecast/rules';
 import type { BacktestView, LotForecast } from '../../shared/schemas/forecast';
 import { createTestApp, type TestApp } from '../support/api';
-import { insertTestDeviceType, tableCounts } from '../support/db';
+import { insertTestDeviceType, insertTestHtrbPlan, tableCounts } from '../support/db';
 
 let t: TestApp;
 
@@ -145,25 +144,7 @@ describe('the forecast alert', () => {
     const { runId, serials, type } = await t.ctx.ds.transaction(async (m) => {
       const type = await insertTestDeviceType(m, 'HPD-F25');
       const rig = await m.findOneByOrFail(RigEntity, { code: 'OV-01' });
-      const plan = await m.save(
-        m.create(StressPlanEntity, {
-          planKey: randomUUID(),
-          version: 1,
-          name: 'HTRB forecast alert',
-          kind: 'htrb',
-          deviceTypeId: type.id,
-          chamberC: 145,
-          humidityPct: null,
-          bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
-          durationH: 1000,
-          readPointsH: [0, 168, 500, 1000],
-          sampleSize: 10,
-          acceptNumber: 0,
-          criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
-          eaEv: 0.7,
-          useC: 55,
-        }),
-      );
+      const plan = await insertTestHtrbPlan(m, type.id, { name: 'HTRB forecast alert' });
       const lot = await m.save(m.create(LotEntity, { code: 'HG9925-F', deviceTypeId: type.id, quantity: 100, notes: '' }));
       const devices = await m.save(
         Array.from({ length: 10 }, (_, i) => m.create(DeviceEntity, { lotId: lot.id, serial: `F${String(i + 1).padStart(4, '0')}` })),

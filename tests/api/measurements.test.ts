@@ -1,4 +1,3 @@
-import { randomUUID } from 'node:crypto';
 import type { EntityManager } from 'typeorm';
 import {
   AuditLogEntity,
@@ -9,11 +8,10 @@ import {
   RigEntity,
   RunEntity,
   RunSocketEntity,
-  StressPlanEntity,
 } from '../../server/db/entities';
 import { insertHistoryRun } from '../../server/seed/seed-history';
 import { createTestApp, type TestApp } from '../support/api';
-import { insertTestDeviceType, tableCounts } from '../support/db';
+import { insertTestDeviceType, insertTestHtrbPlan, tableCounts } from '../support/db';
 
 let t: TestApp;
 let runId: string;
@@ -21,28 +19,6 @@ let otherRunId: string;
 const BIAS_OFF = new Date('2026-02-10T08:00:00Z');
 
 const makeType = insertTestDeviceType;
-
-async function makePlan(m: EntityManager, deviceTypeId: string) {
-  return m.save(
-    m.create(StressPlanEntity, {
-      planKey: randomUUID(),
-      version: 1,
-      name: 'HTRB 145 °C test plan',
-      kind: 'htrb',
-      deviceTypeId,
-      chamberC: 145,
-      humidityPct: null,
-      bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
-      durationH: 1000,
-      readPointsH: [0, 168, 500, 1000],
-      sampleSize: 10,
-      acceptNumber: 0,
-      criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
-      eaEv: 0.7,
-      useC: 55,
-    }),
-  );
-}
 
 async function makeRig(m: EntityManager, code: string) {
   return m.save(
@@ -63,7 +39,7 @@ beforeAll(async () => {
   t = await createTestApp();
   await t.ctx.ds.transaction(async (m) => {
     const type = await makeType(m, 'HPD-T100');
-    const plan = await makePlan(m, type.id);
+    const plan = await insertTestHtrbPlan(m, type.id);
     const rig = await makeRig(m, 'OV-91');
     const lot = await m.save(m.create(LotEntity, { code: 'HG9901-A', deviceTypeId: type.id, quantity: 100 }));
     const other = await m.save(m.create(LotEntity, { code: 'HG9901-B', deviceTypeId: type.id, quantity: 100 }));

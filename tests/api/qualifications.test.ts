@@ -26,7 +26,7 @@ import type { LotDetail } from '../../shared/schemas/analytics';
 import type { QualCellDrift, QualCellView, QualificationDetail } from '../../shared/schemas/qualifications';
 import { QUAL_TEMPLATES } from '../../shared/qualification/templates';
 import { createTestApp, type TestApp } from '../support/api';
-import { insertTestDeviceType, tableCounts } from '../support/db';
+import { insertTestDeviceType, insertTestHtrbPlan, tableCounts } from '../support/db';
 import { pdfText } from '../support/pdf-text';
 
 let t: TestApp;
@@ -47,6 +47,35 @@ async function addLot(code: string, typeId: string): Promise<{ lot: LotEntity; d
 }
 
 let lotC: { lot: LotEntity; devices: DeviceEntity[] };
+let qualType: DeviceTypeEntity;
+
+/**
+ * A run of the file's HTRB plan on OV-97 for one lot, its hFE drifting −2 % and ICBO ×1.2 per 1000 h
+ * (no noise), started 60 days ago: finished at 1000 h read at every point, or stressing at 560 h
+ * read to 500 h. `over` changes any of that (a stressing run at its end, say).
+ */
+function history(
+  code: string,
+  l: { lot: LotEntity; devices: DeviceEntity[] },
+  state: 'finished' | 'stressing',
+  failures?: Array<{ serial: string; atH: number; mode: 'gain' }>,
+  over: { startedAt?: Date; stressHours?: number; measuredH?: number[] } = {},
+) {
+  return insertHistoryRun(t.ctx.ds.manager, {
+    code,
+    plan,
+    deviceType: qualType,
+    rig,
+    lots: [{ ...l, drift: { hfeDriftPctPer1000h: -2, leakageGrowthPer1000h: 1.2 } }],
+    state,
+    startedAt: new Date(Date.now() - 60 * 86400_000),
+    stressHours: state === 'finished' ? 1000 : 560,
+    measuredH: state === 'finished' ? [0, 168, 500, 1000] : [0, 168, 500],
+    noise: 0,
+    failures,
+    ...over,
+  });
+}
 
 beforeAll(async () => {
   t = await createTestApp();
@@ -68,44 +97,8 @@ beforeAll(async () => {
   const other = await insertTestDeviceType(m, 'HPD-Q200');
   ids.type = type.id;
   ids.other = other.id;
-  plan = await m.save(
-    m.create(StressPlanEntity, {
-      planKey: randomUUID(),
-      version: 1,
-      name: 'HTRB qualification plan',
-      kind: 'htrb',
-      deviceTypeId: type.id,
-      chamberC: 145,
-      humidityPct: null,
-      bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
-      durationH: 1000,
-      readPointsH: [0, 168, 500, 1000],
-      sampleSize: 20,
-      acceptNumber: 0,
-      criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
-      eaEv: 0.7,
-      useC: 55,
-    }),
-  );
-  const history = (
-    code: string,
-    l: { lot: LotEntity; devices: DeviceEntity[] },
-    state: 'finished' | 'stressing',
-    failures?: Array<{ serial: string; atH: number; mode: 'gain' }>,
-  ) =>
-    insertHistoryRun(m, {
-      code,
-      plan,
-      deviceType: type,
-      rig,
-      lots: [{ ...l, drift: { hfeDriftPctPer1000h: -2, leakageGrowthPer1000h: 1.2 } }],
-      state,
-      startedAt: new Date(Date.now() - 60 * 86400_000),
-      stressHours: state === 'finished' ? 1000 : 560,
-      measuredH: state === 'finished' ? [0, 168, 500, 1000] : [0, 168, 500],
-      noise: 0,
-      failures,
-    });
+  plan = await insertTestHtrbPlan(m, type.id, { name: 'HTRB qualification plan', sampleSize: 20 });
+  qualType = type;
   await history('R-QA', await addLot('HG9801-A', type.id), 'finished');
   await history('R-QB', await addLot('HG9801-B', type.id), 'stressing');
   lotC = await addLot('HG9801-C', type.id);
@@ -199,19 +192,7 @@ describe('create from a template', () => {
     expect(Date.parse(c.projectedFinish!)).toBe(start.getTime() + 1100 * 3600_000);
 
     await m.delete(RunEntity, { id: booked.id });
-    await insertHistoryRun(m, {
-      code: 'R-QC',
-      plan,
-      deviceType: await m.findOneByOrFail(DeviceTypeEntity, { id: ids.type }),
-      rig,
-      lots: [{ ...lotC, drift: { hfeDriftPctPer1000h: -2, leakageGrowthPer1000h: 1.2 } }],
-      state: 'finished',
-      startedAt: new Date(Date.now() - 60 * 86400_000),
-      stressHours: 1000,
-      measuredH: [0, 168, 500, 1000],
-      noise: 0,
-      failures: [{ serial: 'C0003', atH: 500, mode: 'gain' }],
-    });
+    await history('R-QC', lotC, 'finished', [{ serial: 'C0003', atH: 500, mode: 'gain' }]);
     d = (await eng.get(`/api/qualifications/${qual.id}`)).body;
     c = cellsOf(d, 'htrb')[2];
     const viewC: LotDetail = (await eng.get(`/api/analytics/lots/${ids['HG9801-C']}`)).body;
@@ -645,17 +626,10 @@ describe('the matrix fills as runs finish, and says when it can be done', () => 
     const eng = await t.signIn('engineer');
     const lotD = await addLot('HG9801-D', ids.type);
     // The last read point measured; the stress is complete and the run is still on the rig.
-    const run = await insertHistoryRun(m, {
-      code: 'R-QD',
-      plan,
-      deviceType: await m.findOneByOrFail(DeviceTypeEntity, { id: ids.type }),
-      rig,
-      lots: [{ ...lotD, drift: { hfeDriftPctPer1000h: -2, leakageGrowthPer1000h: 1.2 } }],
-      state: 'stressing',
+    const run = await history('R-QD', lotD, 'stressing', undefined, {
       startedAt: new Date(Date.now() - 50 * 86400_000),
       stressHours: 1000,
       measuredH: [0, 168, 500, 1000],
-      noise: 0,
     });
     const created = await eng
       .post('/api/qualifications')

@@ -4,11 +4,10 @@
  * verdict are compared here cell by cell. The certificate is refused (409) for a lot that did not
  * pass or whose passed verdict no current "approved for release" signature covers.
  */
-import { randomUUID } from 'node:crypto';
-import { DeviceEntity, LotEntity, RigEntity, RigServiceRecordEntity, StressPlanEntity } from '../../server/db/entities';
+import { DeviceEntity, LotEntity, RigEntity, RigServiceRecordEntity } from '../../server/db/entities';
 import { insertHistoryRun } from '../../server/seed/seed-history';
 import { createTestApp, TEST_PASSWORD, type TestApp } from '../support/api';
-import { insertTestDeviceType, tableCounts } from '../support/db';
+import { insertTestDeviceType, insertTestHtrbPlan, tableCounts } from '../support/db';
 import { pdfPageCount, pdfText } from '../support/pdf-text';
 
 let t: TestApp;
@@ -43,25 +42,7 @@ beforeAll(async () => {
       { rigId: rig.id, kind: 'interlock-test', doneAt: new Date('2026-06-01T00:00:00Z'), dueAt: null },
     ]);
     const type = await insertTestDeviceType(m, 'HPD-R100');
-    const plan = await m.save(
-      m.create(StressPlanEntity, {
-        planKey: randomUUID(),
-        version: 1,
-        name: 'HTRB report plan',
-        kind: 'htrb',
-        deviceTypeId: type.id,
-        chamberC: 150,
-        humidityPct: null,
-        bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
-        durationH: 1000,
-        readPointsH: [0, 168, 500, 1000],
-        sampleSize: 20,
-        acceptNumber: 0,
-        criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
-        eaEv: 0.7,
-        useC: 55,
-      }),
-    );
+    const plan = await insertTestHtrbPlan(m, type.id, { name: 'HTRB report plan', chamberC: 150, sampleSize: 20 });
     const mk = async (code: string, extra: Partial<Parameters<typeof insertHistoryRun>[1]> = {}) => {
       const lot = await m.save(
         m.create(LotEntity, {

@@ -159,6 +159,19 @@ describe('booking', () => {
     ids.run = res.body.id;
   });
 
+  it('asks for the plan size per lot when a booking spans two lots; nothing stored without a deviation', async () => {
+    // [pub: AEC-Q101 test table] samples are per lot ("77 × 3 lots"); the verdict judges each lot alone.
+    const eng = await t.signIn('engineer');
+    const before = await tableCounts(t.ctx.ds);
+    const body = { planId: ids.plan, lotIds: [ids['HG2611-A'], ids['HG2612-C']], sampleSize: 8, rigId: ids['OV-01'] };
+    const refused = await eng.post('/api/runs').send(body);
+    expect(refused.status).toBe(422);
+    expect(refused.body.error.message).toMatch(
+      /^Each lot is judged on its own devices: the plan asks for 8 per lot, 16 for 2 lots; this booking holds 8 \(8 short\)\./,
+    );
+    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+  });
+
   it('refuses a plan whose check blocks unless an approved override is named; nothing stored', async () => {
     const eng = await t.signIn('engineer');
     const before = await tableCounts(t.ctx.ds);

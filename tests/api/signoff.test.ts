@@ -5,12 +5,11 @@
  * change to that data shows the signature as needing a new one. Bad input changes nothing.
  */
 import { createHash } from 'node:crypto';
-import { randomUUID } from 'node:crypto';
-import { DeviceEntity, LotEntity, MeasurementEntity, RigEntity, StressPlanEntity, VerdictSignatureEntity } from '../../server/db/entities';
+import { DeviceEntity, LotEntity, MeasurementEntity, RigEntity, VerdictSignatureEntity } from '../../server/db/entities';
 import { insertHistoryRun } from '../../server/seed/seed-history';
 import { canonicalJson } from '../../shared/canonical-json';
 import { createTestApp, TEST_PASSWORD, type TestApp } from '../support/api';
-import { insertTestDeviceType, tableCounts } from '../support/db';
+import { insertTestDeviceType, insertTestHtrbPlan, tableCounts } from '../support/db';
 
 let t: TestApp;
 const ids: Record<string, string> = {};
@@ -31,25 +30,7 @@ beforeAll(async () => {
       }),
     );
     const type = await insertTestDeviceType(m, 'HPD-S100');
-    const plan = await m.save(
-      m.create(StressPlanEntity, {
-        planKey: randomUUID(),
-        version: 1,
-        name: 'HTRB sign-off plan',
-        kind: 'htrb',
-        deviceTypeId: type.id,
-        chamberC: 145,
-        humidityPct: null,
-        bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
-        durationH: 1000,
-        readPointsH: [0, 168, 500, 1000],
-        sampleSize: 20,
-        acceptNumber: 0,
-        criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
-        eaEv: 0.7,
-        useC: 55,
-      }),
-    );
+    const plan = await insertTestHtrbPlan(m, type.id, { name: 'HTRB sign-off plan', sampleSize: 20 });
     const mk = async (code: string, state: 'finished' | 'stressing') => {
       const lot = await m.save(m.create(LotEntity, { code, deviceTypeId: type.id, quantity: 1000, notes: '' }));
       const devices = await m.save(

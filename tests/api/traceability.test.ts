@@ -5,18 +5,10 @@
  * alarm on its socket, the disposition with its reason and every version of a corrected reading.
  */
 import { randomUUID } from 'node:crypto';
-import {
-  AlarmEntity,
-  AuditLogEntity,
-  DeviceEntity,
-  LotEntity,
-  MeasurementEntity,
-  RigEntity,
-  StressPlanEntity,
-} from '../../server/db/entities';
+import { AlarmEntity, AuditLogEntity, DeviceEntity, LotEntity, MeasurementEntity, RigEntity } from '../../server/db/entities';
 import { insertHistoryRun } from '../../server/seed/seed-history';
 import { createTestApp, type TestApp } from '../support/api';
-import { insertTestDeviceType, tableCounts } from '../support/db';
+import { insertTestDeviceType, insertTestHtrbPlan, tableCounts } from '../support/db';
 
 let t: TestApp;
 let typeId: string;
@@ -40,25 +32,7 @@ beforeAll(async () => {
     );
     const type = await insertTestDeviceType(m, 'HPD-H100');
     typeId = type.id;
-    const plan = await m.save(
-      m.create(StressPlanEntity, {
-        planKey: randomUUID(),
-        version: 1,
-        name: 'HTRB history plan',
-        kind: 'htrb',
-        deviceTypeId: type.id,
-        chamberC: 150,
-        humidityPct: null,
-        bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
-        durationH: 1000,
-        readPointsH: [0, 168, 500, 1000],
-        sampleSize: 10,
-        acceptNumber: 0,
-        criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
-        eaEv: 0.7,
-        useC: 55,
-      }),
-    );
+    const plan = await insertTestHtrbPlan(m, type.id, { name: 'HTRB history plan', chamberC: 150 });
     const lot = await m.save(
       m.create(LotEntity, {
         code: 'HG9601-T',

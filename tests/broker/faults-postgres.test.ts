@@ -8,27 +8,11 @@
  * Afterwards: every published sample stored exactly once, the hours equal the accrual rule applied
  * to the stored rows, the read point and the end neither lost nor doubled, no command applied twice.
  */
-import { DataSource } from 'typeorm';
 import type { DbConfig } from '../../server/config';
 import { createDataSource } from '../../server/db/data-source';
 import { clusterPid, destroyCluster, DB_PASSWORD, DB_USER, ensureDatabase } from '../../scripts/pg-cluster';
-import { pgClusterAsync, stopAllProcesses } from '../support/processes';
-import { installRigCommandLog, type RigCommandLog } from '../faults/rig-command-log';
-import {
-  OPERATOR,
-  createFaultRun,
-  driveRun,
-  expectBooksBalance,
-  printFigures,
-  ingestCounters,
-  reconcile,
-  seedBase,
-  startFaultStack,
-  startSimRig,
-  waitUntil,
-  type FaultStack,
-  type SimRig,
-} from '../faults/scenario';
+import { pgClusterAsync } from '../support/processes';
+import { expectBooksBalance, printFigures, startFaultSuite, waitUntil, type FaultSuite } from '../faults/scenario';
 
 jest.setTimeout(60_000);
 
@@ -41,43 +25,32 @@ const PORT = Number(process.env.EMBERLOT_FAULTS_PG_PORT ?? 54369);
 const CLUSTER = { name: PORT === 54369 ? 'faults' : `faults-${PORT}`, port: PORT, fast: false };
 const DB: DbConfig = { host: '127.0.0.1', port: CLUSTER.port, user: DB_USER, password: DB_PASSWORD, database: 'emberlot_faults' };
 
-let ds: DataSource;
-let stack: FaultStack;
-let log: RigCommandLog;
-let sim: SimRig | null = null;
+let suite: FaultSuite | undefined;
 
 beforeAll(async () => {
-  log = installRigCommandLog();
   destroyCluster({ ...CLUSTER, quiet: true }); // a leftover from an interrupted run
   await pgClusterAsync('start', CLUSTER);
   await ensureDatabase({ ...DB, socketDir: '', dataDir: '', logFile: '' }, DB.database);
-  ds = createDataSource(DB, { poolSize: 4 }); // runs the migrations
+  const ds = createDataSource(DB, { poolSize: 4 }); // runs the migrations
   await ds.initialize();
-  stack = await startFaultStack(DB);
+  // The whole cluster goes with the database: stop() ends the processes first, then this.
+  const drop = async () => {
+    if (ds.isInitialized) await ds.destroy().catch(() => undefined);
+    destroyCluster({ ...CLUSTER, quiet: true });
+  };
+  suite = await startFaultSuite({ ds, config: DB, drop });
 }, 80_000);
 
 afterAll(async () => {
-  await sim?.rig.stop();
-  await stopAllProcesses(3000);
-  log?.uninstall();
-  if (ds?.isInitialized) await ds.destroy().catch(() => undefined);
-  destroyCluster({ ...CLUSTER, quiet: true });
+  if (suite) await suite.stop();
+  else destroyCluster({ ...CLUSTER, quiet: true });
 });
 
 test('PostgreSQL stopped (immediate) and restarted mid-run: every sample stored once, hours exact, no command applied twice', async () => {
-  const t0 = Date.now();
-  const type = await seedBase(ds);
-  const started = { at: t0, counters: await ingestCounters(ds) };
-  await stack.client.signIn(OPERATOR.email, OPERATOR.password);
-  const fx = await createFaultRun(ds, type, 'OV-85');
-  sim = startSimRig(stack.brokerUrl, fx);
+  const { stack, log } = suite!;
   const apiMark = stack.api.offset();
-  const drive = await driveRun(
-    ds,
-    stack,
-    fx,
-    sim,
-    {
+  const { fx, sim, f } = await suite!.runScenario('OV-85', 'PostgreSQL immediate stop + restart', {
+    fault: () => ({
       phase: 1,
       atH: 1.5,
       inject: async () => {
@@ -90,14 +63,13 @@ test('PostgreSQL stopped (immediate) and restarted mid-run: every sample stored 
         await new Promise((r) => setTimeout(r, 2000));
         await pgClusterAsync('start', CLUSTER);
       },
-    },
-    70_000,
-  );
+    }),
+    timeoutMs: 70_000,
+  });
   // The ingest said so once, and said when it was back.
   expect(stack.api.lines(/\[ingest\] database write failed/).length).toBe(1);
   expect(stack.api.lines(/\[ingest\] database back/).length).toBeGreaterThanOrEqual(1);
   expect(stack.api.running && stack.broker.running).toBe(true);
-  const f = await reconcile(ds, 'PostgreSQL immediate stop + restart', fx, sim, log, drive, started);
   printFigures({ ...f, startupS: stack.startupS } as typeof f);
   expectBooksBalance(f, fx, log, sim.rig);
 }, 80_000);

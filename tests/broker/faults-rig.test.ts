@@ -8,69 +8,30 @@
  * Afterwards: every published sample stored exactly once, the hours equal the accrual rule applied
  * to the stored rows, the read point and the end neither lost nor doubled, no command applied twice.
  */
-import { createTestDb, type TestDb } from '../support/db';
-import { stopAllProcesses } from '../support/processes';
-import { installRigCommandLog, type RigCommandLog } from '../faults/rig-command-log';
-import {
-  CLOCK,
-  OPERATOR,
-  createFaultRun,
-  driveRun,
-  expectBooksBalance,
-  printFigures,
-  ingestCounters,
-  reconcile,
-  seedBase,
-  startFaultStack,
-  startSimRig,
-  waitUntil,
-  type FaultStack,
-  type SimRig,
-} from '../faults/scenario';
-import type { DeviceTypeEntity } from '../../server/db/entities';
+import { createTestDb } from '../support/db';
+import { CLOCK, expectBooksBalance, printFigures, startFaultSuite, waitUntil, type FaultSuite } from '../faults/scenario';
 
 jest.setTimeout(60_000);
 
 /** One simulated hour in wall seconds. */
 const HOUR_WALL_S = 1 / CLOCK.stressHoursPerWallSecond;
 
-let db: TestDb;
-let stack: FaultStack;
-let log: RigCommandLog;
-let type: DeviceTypeEntity;
-const sims: SimRig[] = [];
+let suite: FaultSuite;
 
 beforeAll(async () => {
-  log = installRigCommandLog();
-  db = await createTestDb();
-  type = await seedBase(db.ds);
-  stack = await startFaultStack(db.config);
-  await stack.client.signIn(OPERATOR.email, OPERATOR.password);
+  suite = await startFaultSuite(await createTestDb());
 }, 60_000);
 
-afterAll(async () => {
-  for (const s of sims) await s.rig.stop();
-  await stopAllProcesses(3000);
-  log?.uninstall();
-  await db?.drop();
-});
+afterAll(() => suite?.stop());
 
 test('a rig that drops off for a simulated hour, again and again, replays: every sample stored once, hours exact', async () => {
-  const started = { at: Date.now(), counters: await ingestCounters(db.ds) };
-  const fx = await createFaultRun(db.ds, type, 'OV-87');
-  // Off for 1 simulated hour every 6 simulated hours, from 1.5 s in: drops land in heating,
-  // stressing, around the read point and in cooling, while commands are in flight.
-  const sim = startSimRig(stack.brokerUrl, fx, {
-    faults: { dropOff: { afterWallS: 1.5, forWallS: HOUR_WALL_S, everyWallS: 6 * HOUR_WALL_S } },
-  });
-  sims.push(sim);
+  const { stack, log } = suite;
   let dropsInStress = 0;
-  const drive = await driveRun(
-    db.ds,
-    stack,
-    fx,
-    sim,
-    {
+  const { fx, sim, f } = await suite.runScenario('OV-87', 'rig drops off 1 simulated h (repeated)', {
+    // Off for 1 simulated hour every 6 simulated hours, from 1.5 s in: drops land in heating,
+    // stressing, around the read point and in cooling, while commands are in flight.
+    sim: { faults: { dropOff: { afterWallS: 1.5, forWallS: HOUR_WALL_S, everyWallS: 6 * HOUR_WALL_S } } },
+    fault: (sim) => ({
       phase: 1,
       atH: 2,
       // And one drop on demand in the middle of stress (handle.dropFor), for good measure.
@@ -82,10 +43,9 @@ test('a rig that drops off for a simulated hour, again and again, replays: every
         dropsInStress = sim.rig.stats.drops - before;
         await new Promise((r) => setTimeout(r, HOUR_WALL_S * 1000 + 200));
       },
-    },
-    55_000,
-  );
-  const f = await reconcile(db.ds, 'rig drops off 1 simulated h (repeated)', fx, sim, log, drive, started);
+    }),
+    timeoutMs: 55_000,
+  });
   printFigures({ ...f, drops: sim.rig.stats.drops, startupS: stack.startupS } as typeof f);
   expect(dropsInStress).toBe(1);
   expect(sim.rig.stats.drops).toBeGreaterThanOrEqual(4);
@@ -94,14 +54,14 @@ test('a rig that drops off for a simulated hour, again and again, replays: every
 });
 
 test("the rig's wall clock jumps back 1.5 h every 10 samples: hours come from the stress clock, accrual is exact", async () => {
-  const started = { at: Date.now(), counters: await ingestCounters(db.ds) };
-  const fx = await createFaultRun(db.ds, type, 'OV-89');
-  const sim = startSimRig(stack.brokerUrl, fx, { faults: { clockJump: { everySamples: 10, jumpS: -5400 } } });
-  sims.push(sim);
-  const drive = await driveRun(db.ds, stack, fx, sim, null, 55_000);
-  const f = await reconcile(db.ds, 'rig wall clock jumps -1.5 h every 10 samples', fx, sim, log, drive, started);
+  const { ds, log } = suite;
+  const { fx, sim, f } = await suite.runScenario('OV-89', 'rig wall clock jumps -1.5 h every 10 samples', {
+    sim: { faults: { clockJump: { everySamples: 10, jumpS: -5400 } } },
+    fault: () => null,
+    timeoutMs: 55_000,
+  });
   // The fault was live: the stored ts went backwards many times, the stress clock never did.
-  const [{ back, clockBack }] = await db.ds.query(
+  const [{ back, clockBack }] = await ds.query(
     `SELECT count(*) FILTER (WHERE d_ts < 0) AS back, count(*) FILTER (WHERE d_clock < 0) AS "clockBack"
        FROM (SELECT extract(epoch FROM ts - lag(ts) OVER (ORDER BY seq)) AS d_ts,
                     stress_clock_s - lag(stress_clock_s) OVER (ORDER BY seq) AS d_clock

@@ -16,23 +16,12 @@
  *  - no duplicate command changed the rig: the rig applied exactly the expected commands, each
  *    cmdId once (repeats were answered from the rig's memory), nothing refused.
  */
-import { randomUUID } from 'node:crypto';
 import bcrypt from 'bcryptjs';
 import type { DataSource } from 'typeorm';
 import { startRig, type RigConfig, type RigHandle } from '../../rig-simulator';
 import { HOURS_EPS, accrualConditionsFor, accrueSeries, type ClockSample } from '../../shared/scheduling';
 import type { DbConfig } from '../../server/config';
-import {
-  DeviceEntity,
-  DeviceTypeEntity,
-  LotEntity,
-  RigEntity,
-  RunEntity,
-  RunLotEntity,
-  RunSocketEntity,
-  StressPlanEntity,
-  UserEntity,
-} from '../../server/db/entities';
+import { DeviceTypeEntity, RunEntity, RunSocketEntity, StressPlanEntity, UserEntity } from '../../server/db/entities';
 import { DEMO_DEVICE_TYPES } from '../../server/seed/demo-data';
 import {
   apiClient,
@@ -44,9 +33,12 @@ import {
   type ApiClient,
   type NodeProcess,
   type StackPorts,
+  stopAllProcesses,
 } from '../support/processes';
-import type { RigCommandLog } from './rig-command-log';
+import type { TestDb } from '../support/db';
+import { installRigCommandLog, type RigCommandLog } from './rig-command-log';
 import { recordTimeZero, setRigServiceDates } from '../support/permit';
+import { bookLoadedRun, insertMqttRig } from '../support/broker-stack';
 
 export const OPERATOR = { email: 'operator@faults.example', password: 'faults-operator-pass' };
 /** Stress hours per wall second and wall seconds per sample: 0.2 stress hour per sample. */
@@ -138,63 +130,27 @@ export interface RunFixture {
 
 /** A rig (with MQTT credentials), a lot of 4 devices, an HTRB plan and a run in `loading` with every socket loaded. */
 export async function createFaultRun(ds: DataSource, type: DeviceTypeEntity, rigCode: string): Promise<RunFixture> {
-  const m = ds.manager;
   const secret = `${rigCode.toLowerCase()}-faults-secret`;
-  const rig = await m.save(
-    m.create(RigEntity, {
-      code: rigCode,
-      name: `Oven ${rigCode}`,
-      socketCount: SOCKETS,
-      maxTempC: 200,
-      maxVoltageV: 800,
-      mqttUsername: `rig-${rigCode.toLowerCase()}`,
-      mqttSecretHash: await bcrypt.hash(secret, 4),
-      credentialsIssuedAt: new Date(),
-    }),
-  );
-  const lot = await m.save(m.create(LotEntity, { code: `HG-${rigCode}`, deviceTypeId: type.id, quantity: 100 }));
-  const devices = await m.save(
-    [1, 2, 3, 4].map((k) => m.create(DeviceEntity, { lotId: lot.id, serial: `${rigCode}-${String(k).padStart(3, '0')}` })),
-  );
-  const plan = await m.save(
-    m.create(StressPlanEntity, {
-      planKey: randomUUID(),
-      version: 1,
+  const rig = await insertMqttRig(ds, { code: rigCode, secret, socketCount: SOCKETS });
+  const { runId, plan } = await bookLoadedRun(ds, {
+    rigId: rig.id,
+    lotCode: `HG-${rigCode}`,
+    serials: [1, 2, 3, 4].map((k) => `${rigCode}-${String(k).padStart(3, '0')}`),
+    deviceType: type,
+    plan: {
       name: `HTRB 125 °C faults ${rigCode}`,
       kind: 'htrb',
-      deviceTypeId: type.id,
       chamberC: PLAN.chamberC,
-      humidityPct: null,
       bias: { vcbV: PLAN.vcbV, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
       durationH: PLAN.durationH,
       readPointsH: PLAN.readPointsH,
-      sampleSize: SOCKETS,
-      acceptNumber: 0,
-      criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 2e-7, vcesatShiftV: 0.05 },
-    }),
-  );
-  const run = await m.save(
-    m.create(RunEntity, {
-      code: `HTRB-F-${rigCode}`,
-      planId: plan.id,
-      rigId: rig.id,
-      state: 'loading',
-      sampleSize: SOCKETS,
-      stateChangedAt: new Date(),
-      nextReadPoint: 1,
-      scheduledStart: new Date(),
-      scheduledEnd: new Date(Date.now() + 3_600_000),
-    }),
-  );
-  await m.insert(RunLotEntity, { runId: run.id, lotId: lot.id });
-  await m.insert(
-    RunSocketEntity,
-    devices.map((d, i) => ({ runId: run.id, deviceId: d.id, socketIndex: i })),
-  );
+    },
+    run: { code: `HTRB-F-${rigCode}`, scheduledMs: 3_600_000 },
+  });
   // The start permit's dates and time-zero readings; the sockets report comes from the simulated rig.
   await setRigServiceDates(ds, rig.id);
-  await recordTimeZero(ds, run.id);
-  return { rigCode, rigId: rig.id, secret, runId: run.id, plan };
+  await recordTimeZero(ds, runId);
+  return { rigCode, rigId: rig.id, secret, runId, plan };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -236,6 +192,77 @@ export function startSimRig(brokerUrl: string, fx: RunFixture, extra: Partial<Ri
       config.maxSamples = rig.stats.samples;
     },
   };
+}
+
+// ---------------------------------------------------------------------------------------------
+// One fault file's set-up (the faults-*.test.ts files)
+
+export interface FaultSuite {
+  ds: DataSource;
+  stack: FaultStack;
+  log: RigCommandLog;
+  /** The device type seedBase registered. */
+  type: DeviceTypeEntity;
+  /** startSimRig on this stack's broker; `stop()` stops it. */
+  startSimRig(fx: RunFixture, extra?: Partial<RigConfig>): SimRig;
+  /**
+   * One run on a new rig `rigCode` (createFaultRun) with its simulated rig (`sim`: config over
+   * startSimRig's), driven through the plan with the fault `fault(sim)` gives (null: none), then
+   * reconciled as `scenario`. The figures come back unprinted and unchecked: the test does both.
+   */
+  runScenario(
+    rigCode: string,
+    scenario: string,
+    opts: { fault: (sim: SimRig) => FaultPoint | null; timeoutMs: number; sim?: Partial<RigConfig> },
+  ): Promise<{ fx: RunFixture; sim: SimRig; f: Figures }>;
+  /** The simulated rigs, every process, the command log, then `db.drop()`. Safe after a failed start. */
+  stop(): Promise<void>;
+}
+
+/**
+ * What every fault file starts once, as startBrokerStack (tests/support/broker-stack.ts) does for the
+ * in-process suites, with the broker and API server as processes: the rigs' command log, the
+ * operator and device type (seedBase) on `db`, both processes, the operator signed in. `db` is a
+ * createTestDb() or anything shaped like it (faults-postgres.test.ts: its own cluster).
+ */
+export async function startFaultSuite(db: Pick<TestDb, 'ds' | 'config' | 'drop'>): Promise<FaultSuite> {
+  const log = installRigCommandLog();
+  const sims: SimRig[] = [];
+  const stop = async () => {
+    for (const sim of sims) await sim.rig.stop();
+    await stopAllProcesses(3000);
+    log.uninstall();
+    await db.drop();
+  };
+  try {
+    const type = await seedBase(db.ds);
+    const stack = await startFaultStack(db.config);
+    await stack.client.signIn(OPERATOR.email, OPERATOR.password);
+    const startSim = (fx: RunFixture, extra?: Partial<RigConfig>) => {
+      const sim = startSimRig(stack.brokerUrl, fx, extra);
+      sims.push(sim);
+      return sim;
+    };
+    return {
+      ds: db.ds,
+      stack,
+      log,
+      type,
+      startSimRig: startSim,
+      runScenario: async (rigCode, scenario, o) => {
+        const started = { at: Date.now(), counters: await ingestCounters(db.ds) };
+        const fx = await createFaultRun(db.ds, type, rigCode);
+        const sim = startSim(fx, o.sim);
+        const drive = await driveRun(db.ds, stack, fx, sim, o.fault(sim), o.timeoutMs);
+        const f = await reconcile(db.ds, scenario, fx, sim, log, drive, started);
+        return { fx, sim, f };
+      },
+      stop,
+    };
+  } catch (err) {
+    await stop().catch(() => undefined);
+    throw err;
+  }
 }
 
 // ---------------------------------------------------------------------------------------------

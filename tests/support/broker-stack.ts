@@ -94,19 +94,29 @@ export interface LoadedRun {
 /**
  * A run in `loading` on `rigId`: the demo part HPD-2N140, a lot of 100 with the devices `serials`
  * loaded in sockets 0, 1, … in that order, a plan whose sample size is the number of devices
- * (unless given), scheduled from now for `scheduledMs` (default 60 s).
+ * (unless given), scheduled from now for `scheduledMs` (default 60 s). `deviceType`: a part already
+ * registered (a second run in the same database), instead of registering HPD-2N140.
  */
 export async function bookLoadedRun(
   ds: TestDb['ds'],
-  opts: { rigId: string; lotCode: string; serials: string[]; plan: LoadedPlanFields; run: { code: string; scheduledMs?: number } },
+  opts: {
+    rigId: string;
+    lotCode: string;
+    serials: string[];
+    plan: LoadedPlanFields;
+    run: { code: string; scheduledMs?: number };
+    deviceType?: DeviceTypeEntity;
+  },
 ): Promise<LoadedRun> {
   const m = ds.manager;
-  const type = await m.save(
-    m.create(
-      DeviceTypeEntity,
-      DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!,
-    ),
-  );
+  const type =
+    opts.deviceType ??
+    (await m.save(
+      m.create(
+        DeviceTypeEntity,
+        DEMO_DEVICE_TYPES.find((d) => d.partNumber === 'HPD-2N140')!,
+      ),
+    ));
   const lot = await m.save(m.create(LotEntity, { code: opts.lotCode, deviceTypeId: type.id, quantity: 100 }));
   const devices = await m.save(opts.serials.map((serial) => m.create(DeviceEntity, { lotId: lot.id, serial })));
   const plan = await m.save(

@@ -1,11 +1,11 @@
 import 'reflect-metadata';
-import { randomBytes } from 'node:crypto';
+import { randomBytes, randomUUID } from 'node:crypto';
 import bcrypt from 'bcryptjs';
 import { Client } from 'pg';
 import type { DataSource, EntityManager } from 'typeorm';
 import type { DbConfig } from '../../server/config';
 import { createDataSource } from '../../server/db/data-source';
-import { DeviceTypeEntity, RigEntity } from '../../server/db/entities';
+import { DeviceEntity, DeviceTypeEntity, RigEntity, StressPlanEntity } from '../../server/db/entities';
 
 /** The template database holds the migrated schema; each test file clones it (~100 ms). */
 export const TEMPLATE_DB = 'emberlot_template';
@@ -110,4 +110,41 @@ export function insertTestDeviceType(m: EntityManager, partNumber: string): Prom
       icboRefA: 20e-9,
     }),
   );
+}
+
+/**
+ * The HTRB plan the read-point tests hang runs on, straight in the database: 145 °C, VCB 112 V
+ * (±5 %), 1000 h read at 0 / 168 / 500 / 1000 h, 10 devices accept 0, the usual end points
+ * (hFE 15 %, ICBO ×2 over 200 nA, VCE(sat) +50 mV), Ea 0.7 eV to 55 °C use. `over` changes any field.
+ */
+export function insertTestHtrbPlan(
+  m: EntityManager,
+  deviceTypeId: string,
+  over: Partial<StressPlanEntity> = {},
+): Promise<StressPlanEntity> {
+  return m.save(
+    m.create(StressPlanEntity, {
+      planKey: randomUUID(),
+      version: 1,
+      name: 'HTRB 145 °C test plan',
+      kind: 'htrb',
+      deviceTypeId,
+      chamberC: 145,
+      humidityPct: null,
+      bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
+      durationH: 1000,
+      readPointsH: [0, 168, 500, 1000],
+      sampleSize: 10,
+      acceptNumber: 0,
+      criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
+      eaEv: 0.7,
+      useC: 55,
+      ...over,
+    }),
+  );
+}
+
+/** Devices of a lot, one per serial, in that order. */
+export function insertTestDevices(m: EntityManager, lotId: string, serials: string[]): Promise<DeviceEntity[]> {
+  return m.save(serials.map((serial) => m.create(DeviceEntity, { lotId, serial })));
 }

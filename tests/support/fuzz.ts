@@ -7,14 +7,13 @@
  * Failures are collected per batch (not shrunk) and printed with the seed and the input.
  */
 import fc from 'fast-check';
-import { randomUUID } from 'node:crypto';
 import * as http from 'node:http';
 import type { AddressInfo } from 'node:net';
 import type { EntityManager } from 'typeorm';
 import type { ZodType } from 'zod';
-import { DeviceEntity, LotEntity, RigEntity, RunEntity, StressPlanEntity } from '../../server/db/entities';
+import { DeviceEntity, LotEntity, RigEntity, RunEntity } from '../../server/db/entities';
 import { insertHistoryRun } from '../../server/seed/seed-history';
-import { insertTestDeviceType } from './db';
+import { insertTestDeviceType, insertTestHtrbPlan } from './db';
 import type { RegisteredRoute } from '../../server/http/route';
 import { ROLES, type Role } from '../../shared/roles';
 import {
@@ -807,25 +806,7 @@ export async function createRunFixture(t: TestApp, tag: string): Promise<{ runId
   let lotId = '';
   await t.ctx.ds.transaction(async (m: EntityManager) => {
     const type = await insertTestDeviceType(m, `HPD-${tag}1`);
-    const plan = await m.save(
-      m.create(StressPlanEntity, {
-        planKey: randomUUID(),
-        version: 1,
-        name: `HTRB 145 °C ${tag} fixture`,
-        kind: 'htrb',
-        deviceTypeId: type.id,
-        chamberC: 145,
-        humidityPct: null,
-        bias: { vcbV: 112, vebV: null, vceV: null, ibA: null, icA: null, tolerancePct: 5 },
-        durationH: 1000,
-        readPointsH: [0, 168, 500, 1000],
-        sampleSize: 10,
-        acceptNumber: 0,
-        criteria: { hfeChangePct: 15, leakageMultiple: 2, leakageFloorA: 200e-9, vcesatShiftV: 0.05 },
-        eaEv: 0.7,
-        useC: 55,
-      }),
-    );
+    const plan = await insertTestHtrbPlan(m, type.id, { name: `HTRB 145 °C ${tag} fixture` });
     const rigCode = `OV-9${tag.length}`;
     const rig = await m.save(
       m.create(RigEntity, {

@@ -105,4 +105,14 @@ describe('sampleShortfall', () => {
     expect(sampleShortfall(77, 77)).toBeNull();
     expect(sampleShortfall(77, 80)).toBeNull();
   });
+
+  it('asks for the plan size per lot when a booking spans several lots', () => {
+    // [pub: AEC-Q101 test table] "77 × 3 lots": the sample is per lot, and the verdict judges each lot alone.
+    expect(sampleShortfall(77, 77, 2)).toBe(
+      'Each lot is judged on its own devices: the plan asks for 77 per lot, 154 for 2 lots; this booking holds 77 (77 short).',
+    );
+    expect(sampleShortfall(77, 154, 2)).toBeNull();
+    expect(sampleShortfall(77, 231, 3)).toBeNull();
+    expect(sampleShortfall(77, 64, 1)).toBe('The plan asks for 77 devices; this booking holds 64 (13 short).');
+  });
 });

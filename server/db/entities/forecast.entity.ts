@@ -18,3 +18,26 @@ export class ForecastAlertStateEntity {
   @Column({ type: 'double precision', nullable: true }) pPass: number | null;
   @Column({ type: 'timestamptz' }) changedAt: Date;
 }
+
+/**
+ * An engineer's own alert level (issue "See the verdict coming"): `below` their level, or null when
+ * they turned the alert off. No row: the lab's level (forecast_alert_settings) while their read-point
+ * notices are on. Audited (forecast.alert.own.update).
+ */
+@Entity('forecast_alert_levels')
+@Check('CHK_forecast_alert_levels_below', `"below" IS NULL OR ("below" >= 0.01 AND "below" <= 0.99)`)
+export class ForecastAlertLevelEntity {
+  @PrimaryColumn({ type: 'uuid' }) userId: string;
+  @Column({ type: 'double precision', nullable: true }) below: number | null;
+  @Column({ type: 'timestamptz' }) updatedAt: Date;
+}
+
+/** Per lot and engineer: whether the lot's chance of passing was below that engineer's level when last looked at (told once per crossing). */
+@Entity('forecast_alert_user_states')
+export class ForecastAlertUserStateEntity {
+  @PrimaryColumn({ type: 'uuid' }) lotId: string;
+  @PrimaryColumn({ type: 'uuid' }) userId: string;
+  @Column({ type: 'boolean' }) below: boolean;
+  @Column({ type: 'double precision', nullable: true }) level: number | null;
+  @Column({ type: 'timestamptz' }) changedAt: Date;
+}

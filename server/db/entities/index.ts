@@ -42,7 +42,12 @@ import { ChamberSampleEntity } from './chamber-sample.entity';
 export { ChamberSampleEntity };
 import { QualificationCellEntity, QualificationCellWithdrawalEntity, QualificationEntity } from './qualification.entity';
 
-import { ForecastAlertSettingEntity, ForecastAlertStateEntity } from './forecast.entity';
+import {
+  ForecastAlertLevelEntity,
+  ForecastAlertSettingEntity,
+  ForecastAlertStateEntity,
+  ForecastAlertUserStateEntity,
+} from './forecast.entity';
 export const ENTITIES = [
   UserEntity,
   DeviceTypeEntity,
@@ -81,4 +86,6 @@ export const ENTITIES = [
   QualificationCellWithdrawalEntity,
   ForecastAlertSettingEntity,
   ForecastAlertStateEntity,
+  ForecastAlertLevelEntity,
+  ForecastAlertUserStateEntity,
 ];

@@ -27,8 +27,10 @@ export function toNotification(n: NotificationEntity): AppNotification {
 const clip = (s: string, n: number) => (s.length > n ? s.slice(0, n - 1) + '…' : s);
 
 export interface Announcement {
-  /** Who: alarm subscribers or read-point subscribers. */
-  audience: 'alarms' | 'read-points';
+  /** Who: alarm subscribers, read-point subscribers, or exactly the users listed in `userIds`. */
+  audience: 'alarms' | 'read-points' | 'listed';
+  /** With audience 'listed': these users (those still active). */
+  userIds?: string[];
   /** Only subscribers holding one of these roles (all subscribers when absent). */
   roles?: Role[];
   kind: string;
@@ -73,10 +75,15 @@ export class NotificationsService {
 
   /** Notification rows for every subscriber, and one queued e-mail each. Returns the recipients. */
   async announce(a: Announcement): Promise<string[]> {
+    if (a.audience === 'listed' && !a.userIds?.length) return [];
     const users = await this.ctx.ds.getRepository(UserEntity).find({
       where: {
         active: true,
-        ...(a.audience === 'alarms' ? { notifyAlarms: true } : { notifyReadPoints: true }),
+        ...(a.audience === 'listed'
+          ? { id: In(a.userIds ?? []) }
+          : a.audience === 'alarms'
+            ? { notifyAlarms: true }
+            : { notifyReadPoints: true }),
         ...(a.roles ? { role: In(a.roles) } : {}),
       },
       select: { id: true, email: true, name: true },

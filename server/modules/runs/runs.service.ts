@@ -354,24 +354,27 @@ export class RunsService {
   }
 
   /**
-   * A make-up run added to an existing sample (server/modules/make-up): booked like any part of a
-   * split sample, so the verdict judges it with the sample's other runs as one. `expectedBookedSize`
-   * is the sample's size the proposal was made for: a sample that changed since (a second click, a
-   * make-up booked by someone else) is refused with 409.
+   * Make-up runs added to an existing sample (server/modules/make-up): booked like parts of a split
+   * sample, so the verdict judges them with the sample's other runs as one. One run per part (a part
+   * per lot made up, so its sockets take only that lot's devices), all on one rig side by side from
+   * the first part's start, in one transaction (all or none). `expectedBookedSize` is the sample's
+   * size the proposal was made for: a sample that changed since (a second click, a make-up booked by
+   * someone else) is refused with 409.
    */
   async bookIntoSample(
     actor: SessionUser,
     input: {
       sampleId: string;
-      lotIds: string[];
-      part: { rigId: string; start?: string; sampleSize: number };
+      rigId: string;
+      start?: string;
+      parts: Array<{ lotIds: string[]; sampleSize: number }>;
       expectedBookedSize: number;
       priority: number;
       override?: { requestId: string };
       details: Record<string, unknown>;
     },
-  ): Promise<RunDetail> {
-    const run = await this.ds.transaction(async (m) => {
+  ): Promise<RunDetail[]> {
+    const runs = await this.ds.transaction(async (m) => {
       await advisoryXactLock(m, BOOKING_LOCK);
       const sample = await m.findOne(SampleEntity, { where: { id: input.sampleId }, lock: { mode: 'pessimistic_write' } });
       if (!sample) throw notFound('The sample');
@@ -381,27 +384,35 @@ export class RunsService {
           { bookedSize: sample.bookedSize },
         );
       }
-      const { plan, type, lots, problems, blocks } = await this.requestContext(m, {
-        planId: sample.planId,
-        lotIds: input.lotIds,
-        sampleSize: input.part.sampleSize,
-      });
-      if (problems.length) throw unprocessable(problems.join(' '), { problems });
+      const contexts = [];
+      for (const part of input.parts) {
+        const c = await this.requestContext(m, { planId: sample.planId, lotIds: part.lotIds, sampleSize: part.sampleSize });
+        if (c.problems.length) throw unprocessable(c.problems.join(' '), { problems: c.problems });
+        contexts.push({ ...c, part });
+      }
+      const { plan, blocks } = contexts[0];
       const overridden = blocks.length > 0;
       const approval = overridden ? await this.ctx.services.approvals.useForBooking(m, plan, input.override?.requestId, blocks) : null;
-      const booked = await this.bookOne(m, actor, {
-        plan,
-        type,
-        lots,
-        sample,
-        part: input.part,
-        overridden,
-        approval,
-        findings: blocks,
-        terms: { dueAt: null, priority: input.priority },
-      });
+      const booked: RunEntity[] = [];
+      let start = input.start;
+      for (const c of contexts) {
+        const run = await this.bookOne(m, actor, {
+          plan: c.plan,
+          type: c.type,
+          lots: c.lots,
+          sample,
+          part: { rigId: input.rigId, start, sampleSize: c.part.sampleSize },
+          overridden,
+          approval,
+          findings: blocks,
+          terms: { dueAt: null, priority: input.priority },
+        });
+        // The lots' make-up runs stand side by side: same plan, same start, so they share the oven and hold together.
+        if (booked.length === 0 && run.scheduledStart) start = run.scheduledStart.toISOString();
+        booked.push(run);
+      }
       const before = sample.bookedSize;
-      sample.bookedSize = before + input.part.sampleSize;
+      sample.bookedSize = before + input.parts.reduce((n, p) => n + p.sampleSize, 0);
       await m.save(sample);
       if (approval) await this.ctx.services.approvals.markUsed(m, approval.id, sample.id);
       await this.ctx.audit.record(
@@ -410,13 +421,13 @@ export class RunsService {
           action: 'sample.make-up',
           entity: 'sample',
           entityId: sample.id,
-          details: { ...input.details, run: booked.code, bookedBefore: before, bookedAfter: sample.bookedSize },
+          details: { ...input.details, runs: booked.map((r) => r.code), bookedBefore: before, bookedAfter: sample.bookedSize },
         },
         m,
       );
       return booked;
     });
-    return toRunDetail(this.ds.manager, run);
+    return Promise.all(runs.map((r) => toRunDetail(this.ds.manager, r)));
   }
 
   /** A request's due date in ms (null: none); a date already past is refused (it could only ever be late). */
@@ -444,7 +455,7 @@ export class RunsService {
       const overridden = blocks.length > 0;
       // A blocking finding needs an override approved by a second person (approvals.service.ts).
       const approval = overridden ? await this.ctx.services.approvals.useForBooking(m, plan, input.override?.requestId, blocks) : null;
-      const shortfall = sampleShortfall(plan.sampleSize, total);
+      const shortfall = sampleShortfall(plan.sampleSize, total, lots.length);
       if (shortfall && !input.deviation) {
         throw unprocessable(
           `${shortfall} Book the rest on another rig in the same booking (a split sample), or record a deviation with a reason of at least ${DEVIATION_REASON_MIN} characters.`,
