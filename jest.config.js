@@ -32,6 +32,7 @@ module.exports = {
       displayName: 'app',
       preset: 'jest-expo',
       roots: ['<rootDir>/tests/app'],
+      setupFilesAfterEnv: ['<rootDir>/tests/app/support/setup.ts'],
       moduleNameMapper: {
         '\\.woff2$': '<rootDir>/tests/app/support/asset-stub.js',
         // jest runs no dynamic import() without --experimental-vm-modules: screens get the forms

@@ -23,6 +23,7 @@ import { runProtectionAtRating } from './scenarios/protection-at-rating';
 import { runStorage } from './scenarios/storage';
 import { runWeb } from './scenarios/web';
 import { runFailoverLeader } from './scenarios/failover-leader';
+import { failoverSummary, type Part } from './scenarios/failover';
 
 /** Hard stop for the whole run (every loop inside is bounded too). */
 const OVERALL_LIMIT_MS = Number(process.env.EMBERLOT_BENCH_LIMIT_S ?? 480) * 1000;
@@ -64,7 +65,26 @@ async function main(): Promise<number> {
       ['web', () => runWeb(env!, log)],
       ['failoverBroker', () => runFailoverBroker(env!, log)],
       ['failoverLeader', () => runFailoverLeader(env!, log)],
+      // Both kills in one result; a part already run above is reused, never run twice.
+      [
+        'failover',
+        async () =>
+          failoverSummary(
+            await partOf('failoverBroker', () => runFailoverBroker(env!, log)),
+            await partOf('failoverLeader', () => runFailoverLeader(env!, log)),
+          ),
+      ],
     ];
+    async function partOf<T>(name: 'failoverBroker' | 'failoverLeader', run: () => Promise<T>): Promise<Part<T>> {
+      if (name in result) return result[name] as Part<T>;
+      try {
+        return await run();
+      } catch (err) {
+        failed = true;
+        console.error(`[bench] failover (${name}) failed: ${err instanceof Error ? err.stack : err}`);
+        return { error: err instanceof Error ? err.message : String(err) };
+      }
+    }
     for (const [name, run] of scenarios) {
       if (!SETTINGS.scenarios.includes(name as (typeof SETTINGS.scenarios)[number])) continue;
       const ts = Date.now();

@@ -16,9 +16,11 @@ import {
   parseRigTopic,
   topics,
 } from '../shared/mqtt';
+import { createConnackFirst } from './connack-first';
 import { PacketSizeGuard } from './packet-guard';
 import { createRedisMode, type BrokerRedisOptions } from './redis-mode';
-import { SignInThrottle, type SignInThrottleOptions } from './sign-in-throttle';
+import { SharedSignInThrottle, type SignInGate } from './shared-sign-in-throttle';
+import { SignInThrottle, type SignInThrottleOptions, type ThrottleVerdict } from './sign-in-throttle';
 
 // aedes 1.x is ESM-only with no default export; Node ≥ 20.19 can require() it (jest: swc transform).
 // eslint-disable-next-line @typescript-eslint/no-require-imports -- see above
@@ -36,7 +38,10 @@ export interface EmberlotBrokerOptions {
   maxPacketBytes?: number;
   /** One-line log sink for refusals and kicks; default silent. */
   log?: (line: string) => void;
-  /** Failed sign-ins throttled per user name and client address (sign-in-throttle.ts); false = off. */
+  /**
+   * Failed sign-ins throttled per user name and client address (sign-in-throttle.ts; in Redis mode
+   * counted over all brokers through that Redis, shared-sign-in-throttle.ts); false = off.
+   */
   signInThrottle?: SignInThrottleOptions | false;
   /**
    * Share subscriptions, retained and QoS 1 in-flight/offline messages and wills with other broker
@@ -63,6 +68,8 @@ export interface BrokerCounters {
   readonly connectedRigs: number;
   /** Redis mode: last wills of a dead broker's clients dropped because the client reconnected elsewhere. */
   readonly staleWillsDropped: number;
+  /** Live messages held back until their connection's CONNACK had gone out (connack-first.ts). */
+  readonly heldBeforeConnack: number;
 }
 
 export interface EmberlotBroker {
@@ -113,9 +120,16 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
   const maxPacketBytes = opts.maxPacketBytes ?? MAX_PACKET_BYTES;
   const log = opts.log ?? (() => undefined);
   let authenticate = opts.authenticate;
-  const throttle = opts.signInThrottle === false ? null : new SignInThrottle(opts.signInThrottle ?? {});
+  const throttleOpts = opts.signInThrottle === false ? null : (opts.signInThrottle ?? {});
+  const throttle: SignInGate | null = !throttleOpts
+    ? null
+    : opts.redis
+      ? new SharedSignInThrottle({ ...throttleOpts, url: opts.redis.url }, log)
+      : new SignInThrottle(throttleOpts);
 
   const redisMode = opts.redis ? createRedisMode(opts.redis, log) : null;
+  // No message reaches a client ahead of its CONNACK (connack-first.ts).
+  const connackFirst = createConnackFirst();
   const counters = {
     authFailures: 0,
     authErrors: 0,
@@ -130,50 +144,63 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
     get staleWillsDropped(): number {
       return redisMode?.staleWillsDropped ?? 0;
     },
+    get heldBeforeConnack(): number {
+      return connackFirst.heldDeliveries;
+    },
   };
 
   const aedesOptions: AedesOptions = {
     ...redisMode?.aedesOptions,
     // rig-{32-char code}.{suffix} does not fit the MQTT 3.1.1 default of 23.
     maxClientsIdLength: 64,
+    preConnect: connackFirst.preConnect,
     authenticate(client, username, password, done) {
       const user = username ?? '';
       const pass = password ? Buffer.from(password).toString('utf8') : '';
       const address = (client.conn as Partial<net.Socket>).remoteAddress ?? 'unknown';
-      const gate = throttle?.begin(user, pass, address);
-      if (gate && !gate.ok) {
-        counters.throttledConnects++;
-        log(
-          `refused connect: too many failed sign-ins for ${gate.key === 'name' ? `user "${user}"` : `address ${address}`}; retry in ${Math.ceil(gate.retryAfterMs / 1000)} s`,
-        );
-        return done(authError('Too many failed sign-ins; try again later', 5), null);
-      }
-      const settle = (success: boolean) => (gate?.ok ? gate.done(success) : undefined);
-      authenticate(user, pass).then(
-        (principal) => {
-          settle(!!principal);
-          if (!principal) {
-            counters.authFailures++;
-            log(`refused connect: bad credentials for user "${user}"`);
-            return done(authError('Bad user name or password', 4), null);
-          }
-          const idOk = principal.kind === 'rig' ? isRigClientIdFor(client.id, principal.rigCode) : !client.id.startsWith('rig-');
-          if (!idOk) {
-            counters.authFailures++;
-            log(`refused connect: client id "${client.id}" not allowed for user "${user}"`);
-            return done(authError('Client id not allowed for these credentials', 2), null);
-          }
-          (client as ClientWithPrincipal).emberlotPrincipal = principal;
-          done(null, true);
-        },
-        (err: unknown) => {
-          // Not the client's fault (e.g. database down): neither a failure nor a success.
-          if (gate?.ok) gate.done(null);
-          counters.authErrors++;
-          log(`refused connect: authenticator failed: ${(err as Error)?.message ?? err}`);
+      // The in-memory throttle answers at once; the shared one (Redis mode) after a Redis step.
+      const verdict = throttle ? throttle.begin(user, pass, address) : null;
+      if (verdict instanceof Promise)
+        verdict.then(check, (err: unknown) => {
+          log(`sign-in throttle failed: ${(err as Error)?.message ?? err}`);
           done(authError('Server unavailable', 3), null);
-        },
-      );
+        });
+      else check(verdict);
+      function check(gate: ThrottleVerdict | null): void {
+        if (gate && !gate.ok) {
+          counters.throttledConnects++;
+          log(
+            `refused connect: too many failed sign-ins for ${gate.key === 'name' ? `user "${user}"` : `address ${address}`}; retry in ${Math.ceil(gate.retryAfterMs / 1000)} s`,
+          );
+          return done(authError('Too many failed sign-ins; try again later', 5), null);
+        }
+        const settle = (success: boolean) => (gate?.ok ? gate.done(success) : undefined);
+        authenticate(user, pass).then(
+          (principal) => {
+            settle(!!principal);
+            if (!principal) {
+              counters.authFailures++;
+              log(`refused connect: bad credentials for user "${user}"`);
+              return done(authError('Bad user name or password', 4), null);
+            }
+            const idOk = principal.kind === 'rig' ? isRigClientIdFor(client.id, principal.rigCode) : !client.id.startsWith('rig-');
+            if (!idOk) {
+              counters.authFailures++;
+              log(`refused connect: client id "${client.id}" not allowed for user "${user}"`);
+              return done(authError('Client id not allowed for these credentials', 2), null);
+            }
+            (client as ClientWithPrincipal).emberlotPrincipal = principal;
+            done(null, true);
+          },
+          (err: unknown) => {
+            // Not the client's fault (e.g. database down): neither a failure nor a success.
+            if (gate?.ok) gate.done(null);
+            counters.authErrors++;
+            log(`refused connect: authenticator failed: ${(err as Error)?.message ?? err}`);
+            done(authError('Server unavailable', 3), null);
+          },
+        );
+      }
     },
     authorizePublish(client, packet: PublishPacket, done) {
       // client null = the broker itself (e.g. wills replayed from persistence).
@@ -207,6 +234,7 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
   };
 
   const broker = await Aedes.createBroker(aedesOptions);
+  connackFirst.attach(broker);
   redisMode?.attach(broker);
   // A Redis hiccup surfaces as a broker 'error' (e.g. wills it could not read): log, never crash.
   const brokerEvents: EventEmitter = broker; // 'error' is not in aedes' typed events
@@ -274,6 +302,7 @@ export async function createEmberlotBroker(opts: EmberlotBrokerOptions): Promise
       await new Promise<void>((resolve) => broker.close(() => resolve()));
       for (const s of sockets) s.destroy();
       await new Promise<void>((resolve) => server.close(() => resolve()));
+      await throttle?.close?.();
       await redisMode?.close();
     })();
     return closing;

@@ -40,6 +40,7 @@ interface StoredWill {
 interface WillPersistence {
   streamWill(brokers: Record<string, number>): AsyncIterable<StoredWill>;
   delWill(client: { id: string; brokerId: string }): Promise<unknown>;
+  addSubscriptions(client: { id: string }, subs: Array<{ topic: string; qos: number }>, cb?: (...args: unknown[]) => void): unknown;
 }
 
 const CONNECTED_KEY = (clientId: string) => `emberlot:mqtt:connected:${encodeURIComponent(clientId)}`;
@@ -84,6 +85,8 @@ export function createRedisMode(opts: BrokerRedisOptions, log: (line: string) =>
       }
     })();
 
+  joinRepeatedSubscriptionStores(persistence);
+
   return {
     aedesOptions: { mq, persistence, heartbeatInterval: opts.heartbeatIntervalMs ?? 2000 },
     attach(broker) {
@@ -105,5 +108,28 @@ export function createRedisMode(opts: BrokerRedisOptions, log: (line: string) =>
       await new Promise((r) => setTimeout(r, 250));
       await Promise.all([persistenceConn.quit().catch(() => undefined), registry.quit().catch(() => undefined)]);
     },
+  };
+}
+
+/**
+ * aedes 1.2 stores a persistent session's SUBSCRIBE once per topic in the packet, each time with the
+ * packet's whole list; aedes-persistence-redis then waits for its own `$SYS/sub/add` broadcast under
+ * a key made of the client id and the list's first topic, and keeps one waiter per key. With several
+ * topics in one packet only one of the stores ever finished: the SUBACK never came. It hit the
+ * leader's ingest (clean: false, four topics): it never subscribed, and stored no telemetry in the
+ * cluster layout with EMBERLOT_WORKERS=elect. Identical stores in flight are joined into one here
+ * (tests/broker/cluster-sign-in-throttle.test.ts has the regression test).
+ */
+function joinRepeatedSubscriptionStores(persistence: WillPersistence): void {
+  const add = persistence.addSubscriptions.bind(persistence);
+  const inFlight = new Map<string, unknown>();
+  persistence.addSubscriptions = (client, subs, cb) => {
+    if (cb) return add(client, subs, cb); // the callback form is not the one aedes 1.x uses
+    const key = `${client.id}\0${JSON.stringify(subs.map((x) => [x.topic, x.qos]))}`;
+    const running = inFlight.get(key);
+    if (running) return running;
+    const p = Promise.resolve(add(client, subs)).finally(() => inFlight.delete(key));
+    inFlight.set(key, p);
+    return p;
   };
 }

@@ -132,6 +132,11 @@ export class SignInThrottle {
     };
   }
 
+  /** Whether these exact credentials succeeded here before (they pass a locked key). */
+  knows(username: string, password: string): boolean {
+    return this.knownGood.has(sha256(`${username}\0${password}`));
+  }
+
   /** Keys currently tracked (tests, counters). */
   get size(): number {
     return this.entries.size;

@@ -38,6 +38,7 @@ import { LabSettingsService } from './modules/lab-settings/lab-settings.service'
 import { RunsService } from './modules/runs/runs.service';
 import type { RunScheduler } from './modules/scheduler/scheduler';
 import type { LeadershipStatus } from './cluster/leadership';
+import type { TelemetryLive } from '../shared/schemas/rigs';
 import type { RigLink } from './modules/telemetry/contracts';
 import type { TelemetryIngest } from './modules/telemetry/ingest';
 import { TelemetryService } from './modules/telemetry/telemetry.service';
@@ -90,6 +91,18 @@ export interface Services {
   scheduler: RunScheduler | undefined;
   /** The workers' leader election (EMBERLOT_WORKERS=elect, server/cluster/); undefined: this process always leads. */
   leadership: { status(): LeadershipStatus } | undefined;
+  /** A standby's copy of the leader's live ingest figures, as last relayed (server/cluster/event-relay.ts). */
+  leaderLive: RelayedLive | undefined;
+}
+
+/** The leader's live ingest figures as a standby received them. */
+export interface RelayedLive {
+  processId: string;
+  /** ISO time on the leader's clock. */
+  measuredAt: string;
+  /** Date.now() here when they arrived. */
+  receivedAtMs: number;
+  live: TelemetryLive;
 }
 
 export interface CompositionOverrides {
@@ -162,5 +175,6 @@ function createServices(ctx: AppContext, overrides: CompositionOverrides): Servi
     thermalTracker: undefined,
     scheduler: undefined,
     leadership: undefined,
+    leaderLive: undefined,
   };
 }

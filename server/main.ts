@@ -8,6 +8,7 @@ import { describeErrorForLog } from './db/safe-logger';
 import { startWorkers } from './cluster/workers';
 import { migrateUnderLock } from './cluster/leadership.data';
 import { ConfigError, refuseWeakSecretsOffLoopback, withSecrets } from './secrets';
+import { startMemoryLog } from './memory-log';
 
 /** The API process: migrations, then HTTP (+ web export), MQTT ingest and the scheduler. */
 async function main() {
@@ -28,12 +29,18 @@ async function main() {
   const server = http.createServer(app);
   await new Promise<void>((resolve) => server.listen(config.port, config.host, resolve));
   console.log(`[api] listening on http://${config.host}:${config.port}`);
+  const stopMemoryLog = startMemoryLog(Number(process.env.EMBERLOT_MEMORY_LOG_MS ?? 0), () => ({
+    protectionBacklog: ctx.services.protection?.backlog ?? 0,
+    thermalBacklog: ctx.services.thermalTracker?.backlog ?? 0,
+    ingestBuffered: ctx.services.telemetryIngest?.stats().buffered ?? 0,
+  }));
 
   let closing = false;
   const shutdown = async (sig: string) => {
     if (closing) return;
     closing = true;
     console.log(`[api] ${sig}: closing`);
+    stopMemoryLog();
     server.close();
     server.closeAllConnections?.();
     await stopFeatures().catch((e) => console.error(`[api] stopping features: ${describeErrorForLog(e)}`));

@@ -18,6 +18,7 @@ declare module 'jstat' {
     };
     normal: {
       cdf(x: number, mean: number, sd: number): number;
+      inv(p: number, mean: number, sd: number): number;
     };
     studentt: {
       cdf(x: number, dof: number): number;

@@ -12,7 +12,17 @@ const num = (name: string, d: number): number => {
   return n;
 };
 
-export const SCENARIOS = ['ingest', 'protection', 'analytics', 'storage', 'api', 'web', 'failoverBroker', 'failoverLeader'] as const;
+export const SCENARIOS = [
+  'ingest',
+  'protection',
+  'analytics',
+  'storage',
+  'api',
+  'web',
+  'failoverBroker',
+  'failoverLeader',
+  'failover',
+] as const;
 export type ScenarioName = (typeof SCENARIOS)[number];
 
 function scenarioList(): ScenarioName[] {

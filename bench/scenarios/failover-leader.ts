@@ -1,7 +1,7 @@
 /**
  * failoverLeader (issue #24 items 4 and 6, the leader half; EMBERLOT_BENCH_SCENARIOS=failoverLeader): two API processes with
  * EMBERLOT_WORKERS=elect, a broker and a simulated rig (10 messages per second, 4 sockets) on a
- * database of their own in the bench cluster; the leader is SIGKILLed mid-ingest, at the moment the
+ * database of their own in the bench cluster (`emberlot_failover_leader`); the leader is SIGKILLed mid-ingest, at the moment the
  * rig receives the read-point hold's first command (in flight). The scenario itself is
  * tests/faults/leader-failover.ts (tests/broker/failover-leader.test.ts asserts the same run).
  *
@@ -19,7 +19,8 @@ import { runLeaderFailover } from '../../tests/faults/leader-failover';
 import { seedBase } from '../../tests/faults/scenario';
 import type { BenchEnv } from '../lib/environment';
 
-const DATABASE = 'emberlot_failover';
+// Not failoverBroker's database: both seed the same operator, and one bench run may run both.
+const DATABASE = 'emberlot_failover_leader';
 
 export interface FailoverLeaderResult {
   published: number;

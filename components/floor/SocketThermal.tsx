@@ -6,7 +6,8 @@ import { space } from '@/components/theme/tokens';
 import { Card } from '@/components/ui/Card';
 import { StatusPill } from '@/components/ui/StatusPill';
 import { Text } from '@/components/ui/Text';
-import { thermalFitQuality, thermalRiseText, thetaText, tauText, TRIGGER_LABEL } from './thermal-words';
+import { TREND_INTERVAL_CONFIDENCE } from '@/shared/thermal/rules';
+import { thermalFitQuality, thermalRiseText, thetaText, tauText, trendOutlookText, trendSlopeText, TRIGGER_LABEL } from './thermal-words';
 
 /** How many identifications the history lists (newest first). */
 const HISTORY_SHOWN = 6;
@@ -58,6 +59,13 @@ export function SocketThermal({ code, socket }: { code: string; socket: number }
       ) : (
         <View style={{ gap: space.xxs }}>
           {d.flagged ? <StatusPill tone="attention" label="Thermal path degrading" testID="socket-thermal-flag" /> : null}
+          {d.flagged && d.flagRule ? (
+            <Text variant="caption" tone="muted" testID="socket-thermal-flag-rule">
+              {d.flagRule === 'trend'
+                ? 'Flagged by the trend rule: θ is rising significantly towards the line.'
+                : 'Flagged by the step rule: θ is past the line.'}
+            </Text>
+          ) : null}
           <Row label="θ case–chamber" value={good ? thetaText(good.thetaCPerW) : 'not identified yet'} testID="socket-theta" />
           <Row
             label="τ (time constant)"
@@ -72,6 +80,14 @@ export function SocketThermal({ code, socket }: { code: string; socket: number }
               value={thermalRiseText(good.thetaCPerW, d.baselineThetaCPerW, d.riseLimitFraction)}
               testID="socket-thermal-rise"
             />
+          ) : null}
+          {d.trend ? (
+            <>
+              <Row label="Trend of θ" value={trendSlopeText(d.trend, TREND_INTERVAL_CONFIDENCE)} testID="socket-thermal-trend" />
+              <Row label="Outlook" value={trendOutlookText(d.trend, d.riseLimitFraction)} testID="socket-thermal-outlook" />
+            </>
+          ) : d.baselineThetaCPerW !== null ? (
+            <Row label="Trend of θ" value={`after ${d.trendMinFits} spaced good fits`} testID="socket-thermal-trend" />
           ) : null}
           {good?.tauS === null && good.tauNote ? (
             <Text variant="caption" tone="muted">

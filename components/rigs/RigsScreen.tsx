@@ -59,6 +59,11 @@ function IngestHealth() {
                 />
               </View>
             ) : null}
+            {s.live && s.liveSource?.kind === 'leader' ? (
+              <Text variant="caption" tone="muted" testID="ingest-live-source">
+                {`As reported by the server process that runs the intake, ${Math.round(s.liveSource.ageSeconds)} s ago.`}
+              </Text>
+            ) : null}
             <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.lg }}>
               {intakeFigures(s.counters).map((f) => (
                 <View key={f.key} style={{ minWidth: 140 }} testID={`intake-${f.key}`}>

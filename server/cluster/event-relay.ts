@@ -14,18 +14,27 @@
  * alarm events on its own bus (marked, so they are not sent on again) and marks the other rigs dirty
  * in its FloorStream. Each event's listeners thus run once, in the process that has them running.
  * A payload over NOTIFY's limit goes as its rig id only (the floor still follows; logged).
+ *
+ * The process that runs the ingest (the leader) also sends its live ingest figures every
+ * `liveEveryMs` (buffer, batches, broker and database state, pending commands); a standby keeps the
+ * last ones in `ctx.services.leaderLive` and answers /api/telemetry/stats with them and their age.
  */
 import { Client } from 'pg';
 import type { DbConfig } from '../config';
 import type { AppContext } from '../context';
 import { ALARM_EVENT, RIG_STATUS_CHANGED, RUN_EVENT, TELEMETRY_LANDED, type AlarmEvent, type RunEvent } from '../events';
 import { pgPoolOf } from '../db/pool';
+import { telemetryLiveSchema, type TelemetryLive } from '../../shared/schemas/rigs';
+import { ownLiveFigures } from '../modules/telemetry/telemetry.service';
 import { EVENTS_CHANNEL, notifyEvents } from './leadership.data';
 
 /** NOTIFY payloads must stay under 8000 bytes; leave room for the envelope. */
 const MAX_PAYLOAD = 7_500;
 
-type Relayed = { from: string; run?: RunEvent[]; alarm?: AlarmEvent[]; rigs?: string[] };
+type Relayed = { from: string; run?: RunEvent[]; alarm?: AlarmEvent[]; rigs?: string[]; live?: { at: string; figures: TelemetryLive } };
+
+/** How often the leader sends its live ingest figures to the other processes. */
+export const LIVE_FIGURES_EVERY_MS = 2_000;
 type Queued = { kind: 'run'; e: RunEvent } | { kind: 'alarm'; e: AlarmEvent };
 
 export function startEventRelay(
@@ -33,6 +42,7 @@ export function startEventRelay(
   origin: string,
   flushMs = 100,
   log = (l: string) => console.log(`[relay] ${l}`),
+  liveEveryMs = LIVE_FIGURES_EVERY_MS,
 ): () => Promise<void> {
   const received = new WeakSet<object>(); // events this relay emitted itself: never sent on
   let queue: Queued[] = [];
@@ -68,6 +78,14 @@ export function startEventRelay(
     }
   }, flushMs);
 
+  // Only a process running the ingest has figures to send (ownLiveFigures is null on a standby).
+  const liveTimer = setInterval(() => {
+    const figures = ownLiveFigures(ctx);
+    if (!figures) return;
+    const msg: Relayed = { from: origin, live: { at: new Date().toISOString(), figures } };
+    notifyEvents(pgPoolOf(ctx), JSON.stringify(msg)).catch(() => undefined); // database down: the next beat
+  }, liveEveryMs);
+
   const deliver = (payload: string) => {
     let msg: Relayed;
     try {
@@ -85,18 +103,29 @@ export function startEventRelay(
       ctx.events.emit(ALARM_EVENT, e);
     }
     for (const id of msg.rigs ?? []) ctx.services.floorStream.markRigDirty(id);
+    if (msg.live) keepLeaderLive(ctx, msg.from, msg.live);
   };
 
   const listener = listenForEvents(ctx.config.db, deliver);
 
   return async () => {
     clearInterval(flush);
+    clearInterval(liveTimer);
     ctx.events.off(RUN_EVENT, onRun);
     ctx.events.off(ALARM_EVENT, onAlarm);
     ctx.events.off(TELEMETRY_LANDED, onRig);
     ctx.events.off(RIG_STATUS_CHANGED, onRig);
     await listener.stop();
   };
+}
+
+/** A standby keeps the leader's figures (checked: they come from another process). */
+function keepLeaderLive(ctx: AppContext, from: string, live: unknown): void {
+  if (typeof live !== 'object' || live === null) return;
+  const { at, figures } = live as { at?: unknown; figures?: unknown };
+  const parsed = telemetryLiveSchema.safeParse(figures);
+  if (!parsed.success || typeof at !== 'string' || Number.isNaN(Date.parse(at))) return;
+  ctx.services.leaderLive = { processId: from, measuredAt: at, receivedAtMs: Date.now(), live: parsed.data };
 }
 
 /** NOTIFY payloads of at most MAX_PAYLOAD characters, events in emission order, then the rig ids. */

@@ -3,13 +3,15 @@
  *  - unset / 'single': started at once and always running here (the single-machine default);
  *  - 'elect': run only while this process is the elected leader (leadership.ts); meanwhile the
  *    process serves HTTP as a standby, its rig commands queued for the leader (command-store.ts),
- *    run and alarm events and the live floor carried between processes by event-relay.ts.
+ *    its revocations published to the brokers directly (one-shot-revoke.ts); run and alarm events,
+ *    the live floor and the leader's live ingest figures carried between processes by event-relay.ts.
  * Returns the stop function.
  */
 import type { AppContext } from '../context';
 import { pgPoolOf } from '../db/pool';
 import { startFeatures } from '../features';
-import { QueuedRigLink } from '../modules/telemetry/command-store';
+import { QUEUE_POLL_MS, QueuedRigLink } from '../modules/telemetry/command-store';
+import { publishRevokeOnce } from '../modules/telemetry/one-shot-revoke';
 import { pruneRateLimits } from '../modules/auth/rate-limit.data';
 import { startEventRelay } from './event-relay';
 import { LeaderElection } from './leadership';
@@ -18,7 +20,12 @@ export async function startWorkers(ctx: AppContext): Promise<() => Promise<void>
   const workers = ctx.config.workers;
   if (workers?.mode !== 'elect') return startFeatures(ctx);
 
-  const standbyLink = new QueuedRigLink(() => pgPoolOf(ctx));
+  // A standby's revocation (rigs admin) goes straight to the brokers on a short connection of its own.
+  const standbyLink = new QueuedRigLink(
+    () => pgPoolOf(ctx),
+    QUEUE_POLL_MS,
+    (rigCode) => publishRevokeOnce(ctx.config.mqtt, rigCode),
+  );
   const election: LeaderElection = new LeaderElection({
     db: ctx.config.db,
     onLead: async (): Promise<() => Promise<void>> => {

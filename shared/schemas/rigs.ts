@@ -168,18 +168,36 @@ export interface RejectedMessage {
   excerpt: string;
 }
 
+/** The live state of an ingest (the process that runs it: the leader with EMBERLOT_WORKERS=elect). */
+export const telemetryLiveSchema = z.object({
+  mqttConnected: z.boolean(),
+  databaseOk: z.boolean(),
+  buffered: z.number().int().nonnegative(),
+  bufferLimit: z.number().int().nonnegative(),
+  batches: z.number().int().nonnegative(),
+  lastBatchMs: finite().nonnegative().nullable(),
+  pendingCommands: z.number().int().nonnegative(),
+});
+export type TelemetryLive = z.infer<typeof telemetryLiveSchema>;
+
+/**
+ * Whose figures `live` holds: this process's own ingest, or — on a standby API process — the
+ * leader's, as it last sent them between processes (server/cluster/event-relay.ts). `measuredAt`
+ * is the leader's clock; `ageSeconds` counts on this process's clock since they arrived.
+ */
+export interface TelemetryLiveSource {
+  kind: 'own' | 'leader';
+  processId: string | null;
+  measuredAt: string;
+  ageSeconds: number;
+}
+
 /** GET /api/telemetry/stats: durable counters plus the live state of the ingest. */
 export interface TelemetryStats {
   counters: Record<string, number>;
-  live: {
-    mqttConnected: boolean;
-    databaseOk: boolean;
-    buffered: number;
-    bufferLimit: number;
-    batches: number;
-    lastBatchMs: number | null;
-    pendingCommands: number;
-  } | null;
+  live: TelemetryLive | null;
+  /** null with `live`: no ingest here and no recent figures from a leader. */
+  liveSource: TelemetryLiveSource | null;
 }
 
 /** The maintenance record behind the start permit's dates. */

@@ -3,7 +3,10 @@
  * response shape the socket sheet shows.
  */
 import { z } from 'zod';
+import type { ThermalTrend } from '../thermal/trend';
 import { rigCodeInputSchema } from './rigs';
+
+export type { ThermalTrend };
 
 export const thermalSocketParamSchema = z
   .object({
@@ -38,6 +41,12 @@ export interface ThermalFit {
   /** θ / the run's first good θ − 1. */
   riseFraction: number | null;
   reason: string | null;
+  /** The trend rule's latest evaluation when this fit was made (shared/thermal/trend.ts), or null. */
+  trend: ThermalTrend | null;
+  /** The fit joined the trend's series. */
+  trendPoint: boolean;
+  /** The rule that raised (or refreshed) the flag with this fit. */
+  flagRule: 'step' | 'trend' | null;
 }
 
 export interface SocketThermal {
@@ -54,6 +63,12 @@ export interface SocketThermal {
   riseLimitFraction: number;
   /** An unacknowledged or still active thermal-path alarm for this socket. */
   flagged: boolean;
+  /** The rule that last raised the flag this run ('step': θ past the line; 'trend': on course to it), or null. */
+  flagRule: 'step' | 'trend' | null;
+  /** The trend rule's latest stored evaluation this run (null until it has TREND_MIN_FITS fits). */
+  trend: ThermalTrend | null;
+  /** Fits the trend needs (TREND_MIN_FITS) and how many it has. */
+  trendMinFits: number;
   /** Oldest first, at most 200. */
   history: ThermalFit[];
 }

@@ -1,3 +1,4 @@
 export * from './identify';
 export * from './rules';
 export * from './track';
+export * from './trend';

@@ -58,3 +58,48 @@ export function protectionThetaCa(p: {
   if (id !== null && (win === null || id > win)) return { thetaCa: id, bound, source: 'identified' };
   return { thetaCa: win, bound, source: win === null ? 'none' : 'window' };
 }
+
+/**
+ * The trend rule (issue "See the verdict coming", item 2): a pad that dries slowly crosses the step
+ * rule's line late, so the socket is also flagged when its θ is rising significantly and is on course
+ * to cross that same line (baseline × (1 + THERMAL_PATH_RISE_FRACTION)) soon.
+ *
+ * Input: the socket's good identifications after its baseline was set, one per identification window
+ * that does not overlap the previous one (their sensor noise is then independent), hours under stress
+ * (the rig's stress clock) against θ. At most TREND_MAX_FITS are kept: beyond, every other one is
+ * dropped and the spacing doubles, so the whole run stays covered.
+ * - Slope: Theil–Sen, the median of all pairwise slopes [pub: Sen, JASA 63 (1968) 1379–1389; Theil
+ *   1950], with Sen's distribution-free interval at TREND_INTERVAL_CONFIDENCE (his eq. 2.6 variance,
+ *   index rounding as scipy.stats.theilslopes).
+ * - Significance: the Mann–Kendall test [pub: Mann, Econometrica 13 (1945) 245–259; Kendall, Rank
+ *   Correlation Methods]: S = Σ sign(θj − θi), Var(S) = [n(n−1)(2n+5) − Σ t(t−1)(2t+5)]/18 (ties t),
+ *   Z = (S − 1)/√Var(S) for S > 0 (continuity correction), normal approximation, one-sided at
+ *   TREND_ALPHA.
+ * - Projection: the Theil–Sen line through the median of θ − slope·t, from the newest fit forward to
+ *   the step rule's line; it must be reached within the horizon: TREND_HORIZON_H, no more than
+ *   TREND_MAX_EXTRAPOLATION × the hours the fits span, and not after the run's planned end.
+ * - Raised after THERMAL_PATH_CONFIRM_FITS firing evaluations in a row, cleared after as many quiet ones.
+ * The methods are published; every threshold below is Emberlot's choice.
+ */
+/** One-sided level of the Mann–Kendall test (Emberlot's choice). */
+export const TREND_ALPHA = 0.05;
+/** Φ⁻¹(1 − TREND_ALPHA): the test's critical Z, also the half-width factor of the slope interval (checked against jstat). */
+export const TREND_Z = 1.6448536269514722;
+/** The slope interval shown: two-sided 1 − 2·TREND_ALPHA, so its lower bound above 0 matches the one-sided test. */
+export const TREND_INTERVAL_CONFIDENCE = 1 - 2 * TREND_ALPHA;
+/** Fewest fits for a trend: the normal approximation of S is usually taken as adequate from n ≈ 10 (Gilbert 1987, ch. 16 — from memory). */
+export const TREND_MIN_FITS = 10;
+/** Most fits kept for a trend (pairs grow as n²: 64 fits are 2016 slopes). Emberlot's choice. */
+export const TREND_MAX_FITS = 64;
+/**
+ * A fit joins the trend only when its window starts at least this many identification windows after
+ * the latest bias-on or power step: before that the case is still settling and reads low and climbing
+ * (a sound socket with a 150 s case lag and 200 s windows read 12 % low for ~0.2 h after bias-on and
+ * again after a read-point break: tests/broker/protection-healthy.test.ts). 4 windows are ≥ 5 τ
+ * whenever a window spans ≥ 1.25 τ. Emberlot's choice.
+ */
+export const TREND_SETTLE_WINDOWS = 4;
+/** Farthest projection in stress hours (about half a 1000 h life test). Emberlot's choice. */
+export const TREND_HORIZON_H = 500;
+/** Project no further than this many times the hours the fits span. Emberlot's choice. */
+export const TREND_MAX_EXTRAPOLATION = 4;

@@ -56,7 +56,7 @@ const alarmEvent = (id: string, message: string): AlarmEvent => ({
   },
 });
 
-const until = async (cond: () => boolean, label: string, ms = 5000) => {
+const until = async (cond: () => boolean, label: string, ms = 15_000) => {
   const deadline = Date.now() + ms;
   while (!cond()) {
     if (Date.now() > deadline) throw new Error(`timed out waiting for ${label}`);
@@ -73,7 +73,22 @@ beforeAll(async () => {
     startEventRelay(a, 'process-a', 20, () => undefined),
     startEventRelay(b, 'process-b', 20, () => undefined),
   );
-  await new Promise((r) => setTimeout(r, 500)); // both LISTEN connections open
+  // Both LISTEN connections open: a fixed pause lost the first event on a loaded machine.
+  const listening = async () =>
+    Number(
+      (
+        await db.ds.query(
+          `SELECT count(*)::int AS n FROM pg_stat_activity
+            WHERE application_name = 'emberlot-event-relay' AND datname = current_database()
+              AND state = 'idle' AND query ILIKE 'LISTEN%'`,
+        )
+      )[0].n,
+    );
+  const deadline = Date.now() + 20_000;
+  while ((await listening()) < 2) {
+    if (Date.now() > deadline) throw new Error('the two relay LISTEN connections did not open');
+    await new Promise((r) => setTimeout(r, 50));
+  }
 });
 
 afterAll(async () => {

@@ -23,6 +23,11 @@ import { insertTestDevices, insertTestHtrbPlan, insertTestRig, tableCounts } fro
 import { htrbPlanBody, postDemoType, postLot, postPlan, serials } from '../support/lab';
 
 let t: TestApp;
+/** Row counts once queued mail (sent after a response, e.g. a read-point notice) has landed in mail_log. */
+const settledCounts = async () => {
+  await t.ctx.services.mail.idle();
+  return tableCounts(t.ctx.ds);
+};
 const ids: Record<string, string> = {};
 
 /** An oven rated 800 V with `socketCount` sockets. */
@@ -47,13 +52,13 @@ afterAll(async () => {
 describe('sample size against the plan', () => {
   it('booking 64 devices against a plan of 77 without a deviation is refused with the numbers; nothing is stored', async () => {
     const eng = await t.signIn('engineer');
-    const before = await tableCounts(t.ctx.ds);
+    const before = await settledCounts();
     const res = await eng.post('/api/runs').send({ planId: ids.plan, lotIds: [ids.lot], sampleSize: 64, rigId: ids['OV-01'] });
     expect(res.status).toBe(422);
     expect(res.body.error.message).toBe(
       'The plan asks for 77 devices; this booking holds 64 (13 short). Book the rest on another rig in the same booking (a split sample), or record a deviation with a reason of at least 10 characters.',
     );
-    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+    expect(await settledCounts()).toEqual(before);
   });
 
   it('a deviation that is too short is refused by the schema', async () => {
@@ -95,7 +100,7 @@ describe('sample size against the plan', () => {
 
   it('a split whose second part does not fit its rig books nothing at all', async () => {
     const eng = await t.signIn('engineer');
-    const before = await tableCounts(t.ctx.ds);
+    const before = await settledCounts();
     const res = await eng.post('/api/runs/samples').send({
       planId: ids.plan,
       lotIds: [ids.lot],
@@ -106,7 +111,7 @@ describe('sample size against the plan', () => {
     });
     expect(res.status).toBe(422);
     expect(res.body.error.message).toMatch(/OV-04/);
-    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+    expect(await settledCounts()).toEqual(before);
   });
 
   it('the same rig twice in one sample is refused by the schema', async () => {
@@ -256,7 +261,7 @@ describe('readings, dispositions and coverage', () => {
   });
 
   it('a trip disposition on a device that did not trip is refused; nothing is stored', async () => {
-    const before = await tableCounts(t.ctx.ds);
+    const before = await settledCounts();
     const res = await (
       await t.signIn('engineer')
     )
@@ -264,7 +269,7 @@ describe('readings, dispositions and coverage', () => {
       .send({ serial: 'C0001', readPointH: 168, kind: 'trip-failure', reason: 'Thought it tripped' });
     expect(res.status).toBe(422);
     expect(res.body.error.message).toBe('Device C0001 (socket 0) did not trip; "Trip counts as a failure" is only for a tripped device.');
-    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+    expect(await settledCounts()).toEqual(before);
   });
 
   it('the tripped device counted as a failure: recorded, audited, failed at 168 h; the read point is then complete', async () => {
@@ -297,7 +302,7 @@ describe('readings, dispositions and coverage', () => {
   });
 
   it('a second disposition for the same device is refused (409) and changes nothing', async () => {
-    const before = await tableCounts(t.ctx.ds);
+    const before = await settledCounts();
     const res = await (
       await t.signIn('operator')
     )
@@ -307,7 +312,7 @@ describe('readings, dispositions and coverage', () => {
     expect(res.body.error.message).toMatch(
       /^Device C0005 already has a disposition in run HTRB-2612-C: Trip counts as a failure from 168 h/,
     );
-    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+    expect(await settledCounts()).toEqual(before);
   });
 
   it('a disposition recorded by mistake is withdrawn by an engineer (audited with what it said); an operator may not', async () => {
@@ -316,11 +321,11 @@ describe('readings, dispositions and coverage', () => {
       .post(`/api/evidence/runs/${runId}/dispositions`)
       .send({ serial: 'C0001', readPointH: 500, kind: 'lost', reason: 'Wrong serial typed' });
     expect(made.status).toBe(201);
-    const before = await tableCounts(t.ctx.ds);
+    const before = await settledCounts();
     expect((await op.post(`/api/evidence/dispositions/${made.body.id}/withdraw`).send({ reason: 'Typed the wrong serial' })).status).toBe(
       403,
     );
-    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+    expect(await settledCounts()).toEqual(before);
     const res = await (
       await t.signIn('engineer')
     )
@@ -361,10 +366,10 @@ describe('readings, dispositions and coverage', () => {
     const x = await t.ctx.ds.getRepository(MeasurementEntity).findOneByOrFail({ runId, deviceId: devices[0].id, readPointH: 168 });
     expect(x.conditionsFlag).toBe('Measured at 35 °C; time zero at 25 °C (allowed ± 3 °C).');
     expect((await coverage()).readPoints.find((r: { readPointH: number }) => r.readPointH === 168).unconfirmed).toBe(1);
-    const before = await tableCounts(t.ctx.ds);
+    const before = await settledCounts();
     const op = await (await t.signIn('operator')).post(`/api/evidence/measurements/${x.id}/confirm`).send({ reason: 'Tester warm' });
     expect(op.status).toBe(403);
-    expect(await tableCounts(t.ctx.ds)).toEqual(before);
+    expect(await settledCounts()).toEqual(before);
     const eng = await t.signIn('engineer');
     const ok = await eng
       .post(`/api/evidence/measurements/${x.id}/confirm`)

@@ -14,7 +14,7 @@ import { SEED_STEPS } from '../../server/seed/seed';
 import { createTestDb, type TestDb } from '../support/db';
 
 let db: TestDb;
-jest.setTimeout(25_000);
+jest.setTimeout(90_000); // seeding the whole demo takes ~20 s alone, more on a loaded machine
 beforeAll(async () => {
   db = await createTestDb();
   for (const step of SEED_STEPS) await step.run(db.ds);

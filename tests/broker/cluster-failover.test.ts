@@ -12,7 +12,7 @@ import { parseStatus, topics, type RigStatus } from '../../shared/mqtt';
 import { createTestDb, type TestDb } from '../support/db';
 import { MQTT_SERVER, stopAllProcesses } from '../support/processes';
 import { installRigCommandLog, type RigCommandLog } from '../faults/rig-command-log';
-import { CLUSTER_HEARTBEAT_MS, startClusterStack, type ClusterStack } from '../faults/cluster';
+import { startClusterStack, type ClusterStack } from '../faults/cluster';
 import {
   OPERATOR,
   createFaultRun,
@@ -29,6 +29,15 @@ import {
 import type { DeviceTypeEntity } from '../../server/db/entities';
 
 jest.setTimeout(90_000);
+
+/**
+ * The brokers' heartbeat here: production's 2 s (B counts A dead after 3 beats, 6 s, and sweeps A's
+ * wills every 4). The will can only be dropped as stale if the rig is back (on B) before B's first
+ * sweep after that; with the fault stacks' 0.5 s beat that sweep came 1.5–3.5 s after the kill, and
+ * on a loaded machine the rig took 2.9 s to reconnect: B then rightly published the will of a rig
+ * that was offline at the time.
+ */
+const HEARTBEAT_MS = 2_000;
 
 let db: TestDb;
 let stack: ClusterStack;
@@ -53,7 +62,11 @@ beforeAll(async () => {
   log = installRigCommandLog();
   db = await createTestDb();
   type = await seedBase(db.ds);
-  stack = await startClusterStack(db.config, { redisPortEnv: 'EMBERLOT_TEST_REDIS_PORT', name: 'test' });
+  stack = await startClusterStack(db.config, {
+    redisPortEnv: 'EMBERLOT_TEST_REDIS_PORT',
+    name: 'test',
+    extraEnv: { EMBERLOT_BROKER_HEARTBEAT_MS: String(HEARTBEAT_MS) },
+  });
   await stack.client.signIn(OPERATOR.email, OPERATOR.password);
   watcher = await connectWatcher(stack.brokerPorts[1], 'emberlot-watch-status');
   watcher.on('message', (_topic, payload, packet) => {
@@ -111,9 +124,15 @@ test('broker A SIGKILLed mid-run (not restarted): rig and API move to broker B, 
 });
 
 test("the dead broker's stored last will of the rig is dropped as stale: no offline status for the reconnected rig", async () => {
-  // After 3 missed heartbeats broker B treats A as dead and goes through A's wills every 4 beats:
-  // wait for three sweeps. Published, the stale will would have said offline (and stayed retained).
-  await new Promise((r) => setTimeout(r, 16 * CLUSTER_HEARTBEAT_MS + 2_000));
+  // After 3 missed heartbeats broker B treats A as dead and goes through A's wills every 4 beats
+  // (≤ 7 beats after the kill on an idle machine; a loaded one runs B's timers late): wait for B to have dealt
+  // with the rig's will — dropped (deleted from Redis, so never published later) or, wrongly,
+  // published. Published, the stale will would have said offline (and stayed retained).
+  await waitUntil(
+    () => stack.brokers[1].lines(/dropped the stale last will of "rig-OV-91"/).length > 0 || liveStatuses.some((st) => !st.online),
+    16 * HEARTBEAT_MS + 30_000,
+    "broker B's sweep of the dead broker's wills",
+  );
   expect(liveStatuses.filter((st) => !st.online)).toEqual([]);
   expect(liveStatuses.filter((st) => st.online).length).toBeGreaterThanOrEqual(2); // first connect + reconnect
   expect(stack.brokers[1].lines(/dropped the stale last will of "rig-OV-91"/)).toHaveLength(1);

@@ -396,3 +396,43 @@ test('server started before the broker: retries quietly, logs once, connects whe
     await late?.close();
   }
 });
+
+test('listeners behind (protection, thermal tracker): no batch starts while their backlog is over the limit; the hold is bounded', async () => {
+  const { TelemetryIngest } = await import('../../server/modules/telemetry/ingest');
+  let backlog = 5_000;
+  const stored: number[] = [];
+  const make = (maxBacklogHoldMs: number) =>
+    new TelemetryIngest(
+      {
+        pool: () => pgPoolOf(ctx),
+        events: ctx.events,
+        publishStored: (_rig, cmd) => cmd.ranges.forEach(([a, b]) => stored.push(...range(a, b))),
+        listenerBacklog: () => backlog,
+      },
+      { windowMs: 10, maxListenerBacklog: 100, maxBacklogHoldMs },
+    );
+  // Held while the listeners are behind; written as soon as they catch up.
+  const held = make(60_000);
+  for (const s of range(1101, 1103)) held.handleMessage(topics.telemetry('OV-03'), Buffer.from(telemetryPayload('OV-03', s)));
+  await sleep(300);
+  expect(held.stats()).toMatchObject({ buffered: 3, batches: 0 });
+  expect(stored).toEqual([]);
+  backlog = 100; // at the limit: not over it
+  expect(await held.drain(5000)).toBe(true);
+  expect(stored).toEqual(range(1101, 1103));
+  expect(held.stats()).toMatchObject({ buffered: 0 });
+  await held.stop();
+
+  // A listener that never catches up cannot stop ingest: after the hold one batch goes anyway.
+  backlog = 5_000;
+  stored.length = 0;
+  const bounded = make(400);
+  const t0 = Date.now();
+  for (const s of range(1201, 1203)) bounded.handleMessage(topics.telemetry('OV-03'), Buffer.from(telemetryPayload('OV-03', s)));
+  await sleep(150);
+  expect(stored).toEqual([]);
+  await waitFor(() => stored.length === 3, 5000, 'the batch after the hold');
+  expect(Date.now() - t0).toBeGreaterThanOrEqual(400);
+  expect(stored).toEqual(range(1201, 1203));
+  await bounded.stop();
+});

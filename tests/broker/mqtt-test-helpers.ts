@@ -13,14 +13,22 @@ export const mapAuthenticate: Authenticate = async (username, password) => {
   return entry && entry.password === password ? entry.principal : null;
 };
 
-export function connectClient(port: number, opts: IClientOptions): Promise<MqttClient> {
+/**
+ * Loopback connect that fails fast on a refusal (CONNACK code) or a dead broker. The CONNACK wait is
+ * 10 s: a loopback connect never needs that long, but on a loaded 2-core CI machine one through the
+ * Redis-mode brokers took over 1.2 s (several Redis round trips), so 3 s was within reach of plain
+ * slowness. `onCreated` sees the client before it connects (listeners for packets that come with
+ * the CONNACK).
+ */
+export function connectClient(port: number, opts: IClientOptions, onCreated?: (client: MqttClient) => void): Promise<MqttClient> {
   return new Promise((resolve, reject) => {
     const client = mqtt.connect(`mqtt://127.0.0.1:${port}`, {
       protocolVersion: 4,
       reconnectPeriod: 0,
-      connectTimeout: 3000,
+      connectTimeout: 10_000,
       ...opts,
     });
+    onCreated?.(client);
     const onError = (err: Error) => {
       client.end(true);
       reject(err);
@@ -34,13 +42,17 @@ export function connectClient(port: number, opts: IClientOptions): Promise<MqttC
   });
 }
 
-export const rigClient = (port: number, rigCode: string, extra: IClientOptions = {}) =>
-  connectClient(port, {
-    clientId: `rig-${rigCode}`,
-    username: `rig-${rigCode}`,
-    password: CREDS[`rig-${rigCode}`].password,
-    ...extra,
-  });
+export const rigClient = (port: number, rigCode: string, extra: IClientOptions = {}, onCreated?: (client: MqttClient) => void) =>
+  connectClient(
+    port,
+    {
+      clientId: `rig-${rigCode}`,
+      username: `rig-${rigCode}`,
+      password: CREDS[`rig-${rigCode}`].password,
+      ...extra,
+    },
+    onCreated,
+  );
 
 export const serverClient = (port: number, clientId = 'emberlot-server-test') =>
   connectClient(port, { clientId, username: 'emberlot-server', password: 'server-secret' });

@@ -5,8 +5,12 @@
  */
 import { TurnGate } from '../../server/modules/protection/turns';
 
-async function releasedPerTurn(perTurn: number, waiters: number): Promise<{ order: number[]; perTurnCounts: number[] }> {
-  const gate = new TurnGate(perTurn);
+async function releasedPerTurn(
+  perTurn: number,
+  waiters: number,
+  backlog?: () => number,
+): Promise<{ order: number[]; perTurnCounts: number[] }> {
+  const gate = new TurnGate(perTurn, backlog);
   const order: number[] = [];
   let turn = 0;
   const counts: number[] = [];
@@ -42,4 +46,16 @@ test('a large backlog: a quarter of it per turn, so it drains in a few dozen tur
   expect(perTurnCounts[1]).toBe(188); // ⌈750 / 4⌉
   for (const c of perTurnCounts) expect(c).toBeLessThanOrEqual(250);
   expect(perTurnCounts.length).toBeLessThan(30);
+});
+
+test('a backlog kept by the caller (one waiter per rig, thousands queued behind them) sets the pace, not the gate’s own queue', async () => {
+  // 40 rigs with 4,000 messages waiting behind their heads: a quarter of 4,000 is more than 40,
+  // so every rig's head goes in the first turn (the gate's own queue alone would allow 10).
+  const alone = await releasedPerTurn(6, 40);
+  expect(alone.perTurnCounts).toEqual([10, 8, 6, 6, 6, 4]);
+  const { order, perTurnCounts } = await releasedPerTurn(6, 40, () => 4_000);
+  expect(order).toEqual(Array.from({ length: 40 }, (_, k) => k));
+  expect(perTurnCounts).toEqual([40]);
+  // A small backlog outside changes nothing.
+  expect((await releasedPerTurn(6, 40, () => 0)).perTurnCounts).toEqual([10, 8, 6, 6, 6, 4]);
 });

@@ -128,7 +128,8 @@ export class ProtectionMonitor {
   /** Where onTelemetry leaves SocketJudge.touch's sum (so the reads stay). */
   private warmSink = 0;
   /** A few messages per turn of the event loop (turns.ts). */
-  private readonly turns = new TurnGate(MESSAGES_PER_TURN);
+  private queued = 0;
+  private readonly turns = new TurnGate(MESSAGES_PER_TURN, () => this.queued);
   /** withIdentifiedTheta's per-socket devices. */
   private readonly thermalDevices = new Map<string, { base: DeviceInfo; theta: number; info: DeviceInfo }>();
 
@@ -184,6 +185,11 @@ export class ProtectionMonitor {
     this.started = false;
   }
 
+  /** Messages and rig events taken and not yet handled, over all rigs. */
+  get backlog(): number {
+    return this.queued;
+  }
+
   /** Resolves once every queued message and every trip in flight has been handled. */
   async idle(): Promise<void> {
     while (this.chains.size > 0 || this.pending.size > 0) {
@@ -199,6 +205,7 @@ export class ProtectionMonitor {
 
   private enqueue(rigId: string, job: () => Promise<void>): void {
     const prev = this.chains.get(rigId) ?? Promise.resolve();
+    this.queued++;
     const next = prev
       .then(job)
       .catch((err) => {
@@ -206,6 +213,7 @@ export class ProtectionMonitor {
         console.error(`[protection] rig ${rigId}:`, err instanceof Error ? err.message : err);
       })
       .finally(() => {
+        this.queued--;
         if (this.chains.get(rigId) === next) this.chains.delete(rigId);
       });
     this.chains.set(rigId, next);

@@ -186,7 +186,14 @@ export class QueuedRigLink implements RigLink {
   constructor(
     private readonly pool: () => Pool,
     private readonly pollMs = QUEUE_POLL_MS,
+    /** How this process asks the brokers to drop a rig's clients (one-shot-revoke.ts); none: not forwarded. */
+    private readonly revokeVia?: (rigCode: string) => Promise<boolean>,
   ) {}
+
+  /** A revocation does not wait for a leader: it goes to the brokers directly (see `revokeVia`). */
+  revoke(rigCode: string): Promise<boolean> {
+    return this.revokeVia ? this.revokeVia(rigCode) : Promise.resolve(false);
+  }
 
   async send(rigCode: string, command: RigCommandBody, opts: { cmdId?: string; timeoutMs?: number } = {}): Promise<CommandAck> {
     const cmdId = opts.cmdId ?? `sby-${this.boot}-${++this.counter}`;

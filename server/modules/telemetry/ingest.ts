@@ -46,6 +46,16 @@ export interface IngestOptions {
   rollupFlushMs?: number;
   /** Telemetry messages held while the database is unavailable (default 50,000). */
   bufferLimit?: number;
+  /**
+   * Back-pressure from the listeners of TELEMETRY_LANDED (default 1,000 messages): while more
+   * committed messages than this wait for live protection or the thermal tracker
+   * (`IngestDeps.listenerBacklog`), no new batch starts, so `stored` slows down and the rigs keep
+   * their messages. Without it protection fell ~45,000 messages (~15 s) behind under the ingest
+   * bench, and held them all in memory (bench/README.md "Ingest memory").
+   */
+  maxListenerBacklog?: number;
+  /** Longest single hold for that back-pressure (default 1,000 ms): then one batch goes anyway. */
+  maxBacklogHoldMs?: number;
   /** Rejections held for writing; beyond this only the counter grows (default 5,000). */
   rejectLimit?: number;
   retryMinMs?: number;
@@ -63,6 +73,8 @@ export interface IngestDeps {
   /** A chamber's own report (shared/mqtt/chamber.ts), validated; stored by the chamber module. */
   onChamber?: (rigCode: string, report: ChamberReport, receivedAt: Date) => void;
   now?: () => Date;
+  /** Landed messages the listeners have not handled yet (IngestOptions.maxListenerBacklog). */
+  listenerBacklog?: () => number;
 }
 
 export interface IngestLiveStats {
@@ -80,6 +92,8 @@ export interface IngestLiveStats {
 }
 
 const EXCERPT_CHARS = 300;
+/** How often a loop held by the listeners' backlog looks again (ms). */
+const BACKLOG_POLL_MS = 5;
 
 /** A printable, bounded excerpt of a refused payload. */
 export function excerptOf(payload: Buffer | string): string {
@@ -140,6 +154,8 @@ export class TelemetryIngest {
       maxInFlight: Math.max(1, opts.maxInFlight ?? 2),
       rollupFlushMs: opts.rollupFlushMs ?? 5_000,
       bufferLimit: opts.bufferLimit ?? 50_000,
+      maxListenerBacklog: opts.maxListenerBacklog ?? 1_000,
+      maxBacklogHoldMs: opts.maxBacklogHoldMs ?? 1_000,
       rejectLimit: opts.rejectLimit ?? 5_000,
       retryMinMs: opts.retryMinMs ?? 100,
       retryMaxMs: opts.retryMaxMs ?? 5_000,
@@ -289,8 +305,14 @@ export class TelemetryIngest {
     let first = true;
     // Effects of committed batches, released strictly in the order the batches were taken.
     let released: Promise<void> = Promise.resolve();
+    let heldSince: number | null = null;
     for (;;) {
       while (!failed.length && (this.items.length || this.rollupsDue()) && running.size < this.opts.maxInFlight) {
+        if (this.listenersBehind(heldSince)) {
+          heldSince ??= Date.now();
+          break;
+        }
+        heldSince = null;
         // A partial batch goes only as the first of this round (its window has passed); later ones
         // wait for the window again (push0 re-arms it when the loop ends).
         if (!first && this.items.length < this.opts.maxBatch && !this.rollupsDue()) break;
@@ -326,6 +348,11 @@ export class TelemetryIngest {
       }
       if (running.size) {
         await Promise.race(running);
+        continue;
+      }
+      if (heldSince !== null && !failed.length && !this.stopped && (this.items.length || this.rollupsDue())) {
+        // Nothing in flight and the listeners behind: look again shortly.
+        await new Promise((r) => setTimeout(r, BACKLOG_POLL_MS));
         continue;
       }
       if (!failed.length) break;
@@ -371,6 +398,16 @@ export class TelemetryIngest {
     // Fold only after COMMIT: a failed batch is retried and must not count twice.
     this.rollups.add(result.landed);
     this.afterCommit(result);
+  }
+
+  /**
+   * True while TELEMETRY_LANDED's listeners have more than maxListenerBacklog messages to handle
+   * and this hold (since `heldSince`) is shorter than maxBacklogHoldMs.
+   */
+  private listenersBehind(heldSince: number | null): boolean {
+    const backlog = this.deps.listenerBacklog?.() ?? 0;
+    if (backlog <= this.opts.maxListenerBacklog) return false;
+    return heldSince === null || Date.now() - heldSince < this.opts.maxBacklogHoldMs;
   }
 
   /** Held rollups should go out with the next transaction. */

@@ -153,6 +153,8 @@ function createIngestAndLink(ctx: AppContext, opts: TelemetryFeatureOptions) {
       publishStored: (rigCode, cmd) => link.publishStored(rigCode, cmd),
       onAck: (rigCode, ack) => link.onAck(rigCode, ack),
       onChamber: opts.onChamber,
+      // Back-pressure: live protection and the thermal tracker judge every landed message.
+      listenerBacklog: () => (ctx.services.protection?.backlog ?? 0) + (ctx.services.thermalTracker?.backlog ?? 0),
     },
     opts,
   );

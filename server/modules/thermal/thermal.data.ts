@@ -14,8 +14,8 @@ export async function insertFit(ds: DataSource, r: FitRow): Promise<void> {
   await ds.query(
     `INSERT INTO socket_thermal_fits (rig_id, run_id, socket_index, identified_at, stress_clock_s, trigger, identifiable, good, method,
         theta_c_per_w, tau_s, tau_note, offset_c, offset_basis, r2, rms_c, samples, sample_interval_s, mean_power_w,
-        baseline_theta_c_per_w, rise_fraction, reason)
-     VALUES ($1,$2,$3,$4,$5,$6,$7,$8,$9,$10,$11,$12,$13,$14,$15,$16,$17,$18,$19,$20,$21,$22)`,
+        baseline_theta_c_per_w, rise_fraction, reason, trend, trend_point, flag_rule)
+     VALUES ($1,$2,$3,$4,$5,$6,$7,$8,$9,$10,$11,$12,$13,$14,$15,$16,$17,$18,$19,$20,$21,$22,$23,$24,$25)`,
     [
       r.rigId,
       r.runId,
@@ -39,6 +39,9 @@ export async function insertFit(ds: DataSource, r: FitRow): Promise<void> {
       r.baselineThetaCPerW,
       r.riseFraction,
       r.reason,
+      r.trend === null ? null : JSON.stringify(r.trend),
+      r.trendPoint,
+      r.flagRule,
     ],
   );
 }
@@ -63,6 +66,9 @@ interface RawFit {
   rise_fraction: number | null;
   reason: string | null;
   baseline_theta_c_per_w: number | null;
+  trend: ThermalFit['trend'];
+  trend_point: boolean;
+  flag_rule: ThermalFit['flagRule'];
 }
 
 const toFit = (r: RawFit): ThermalFit => ({
@@ -84,6 +90,9 @@ const toFit = (r: RawFit): ThermalFit => ({
   meanPowerW: r.mean_power_w,
   riseFraction: r.rise_fraction,
   reason: r.reason,
+  trend: r.trend,
+  trendPoint: r.trend_point,
+  flagRule: r.flag_rule,
 });
 
 /** A socket's identifications in a run (or with no run), oldest first, the newest `limit`. */
@@ -121,13 +130,52 @@ export async function baselinesOfRun(ds: DataSource, rigId: string, runId: strin
   return new Map(rows.map((r) => [Number(r.socket_index), Number(r.theta)]));
 }
 
-/** The rig's active run (most recently changed), or null. */
-export async function activeRunOfRig(ds: DataSource, rigId: string): Promise<{ id: string; code: string } | null> {
-  const rows: Array<{ id: string; code: string }> = await ds.query(
-    `SELECT id, code FROM runs WHERE rig_id = $1 AND state = ANY($2) ORDER BY state_changed_at DESC LIMIT 1`,
+/** The run's good fits after each socket's baseline, oldest first (a restarted tracker rebuilds the trend's series from them). */
+export async function trendFitsOfRun(
+  ds: DataSource,
+  rigId: string,
+  runId: string,
+): Promise<Map<number, Array<{ tH: number; thetaCPerW: number; windowH: number }>>> {
+  const rows: Array<{ socket_index: number; t_h: number; theta: number; window_h: number }> = await ds.query(
+    `SELECT socket_index, stress_clock_s / 3600.0 AS t_h, theta_c_per_w AS theta, samples * COALESCE(sample_interval_s, 0) / 3600.0 AS window_h
+       FROM socket_thermal_fits
+      WHERE rig_id = $1 AND run_id = $2 AND good AND theta_c_per_w IS NOT NULL AND baseline_theta_c_per_w IS NOT NULL
+      ORDER BY socket_index, identified_at, id`,
+    [rigId, runId],
+  );
+  const out = new Map<number, Array<{ tH: number; thetaCPerW: number; windowH: number }>>();
+  for (const r of rows) {
+    const list = out.get(Number(r.socket_index)) ?? [];
+    list.push({ tH: Number(r.t_h), thetaCPerW: Number(r.theta), windowH: Number(r.window_h) });
+    out.set(Number(r.socket_index), list);
+  }
+  return out;
+}
+
+/** The rig's active run (most recently changed) and the stress hours its plan still has, or null. */
+export async function activeRunOfRig(
+  ds: DataSource,
+  rigId: string,
+): Promise<{ id: string; code: string; remainingH: number | null } | null> {
+  const rows: Array<{ id: string; code: string; remaining_h: number | null }> = await ds.query(
+    `SELECT r.id, r.code, GREATEST(p.duration_h - r.stress_hours, 0) AS remaining_h
+       FROM runs r LEFT JOIN stress_plans p ON p.id = r.plan_id
+      WHERE r.rig_id = $1 AND r.state = ANY($2) ORDER BY r.state_changed_at DESC LIMIT 1`,
     [rigId, [...ON_RIG_STATES]],
   );
-  return rows[0] ?? null;
+  const r = rows[0];
+  return r ? { id: r.id, code: r.code, remainingH: r.remaining_h === null ? null : Number(r.remaining_h) } : null;
+}
+
+/** The rule that last raised this socket's flag in the run, or null. */
+export async function lastFlagRule(ds: DataSource, rigId: string, runId: string | null, socket: number): Promise<'step' | 'trend' | null> {
+  const rows: Array<{ rule: 'step' | 'trend' }> = await ds.query(
+    `SELECT flag_rule AS rule FROM socket_thermal_fits
+      WHERE rig_id = $1 AND socket_index = $3 AND run_id IS NOT DISTINCT FROM $2 AND flag_rule IS NOT NULL
+      ORDER BY identified_at DESC, id DESC LIMIT 1`,
+    [rigId, runId, socket],
+  );
+  return rows[0]?.rule ?? null;
 }
 
 export async function rigByCode(ds: DataSource, code: string): Promise<{ id: string; code: string } | null> {

@@ -2,19 +2,28 @@
  * The socket thermal model, live (issue #25 item 2): consumes TELEMETRY_LANDED, keeps one
  * SocketThermalTrack (shared/thermal/track.ts) per socket of the rig's active run, stores each
  * identification in socket_thermal_fits (every step's, and periodic ones when θ moved by
- * STORE_CHANGE_FRACTION or STORE_EVERY_MS passed), raises a 'thermal-path' alarm when a socket's
- * θ has risen past its run's first identification by THERMAL_PATH_RISE_FRACTION, and gives live
+ * STORE_CHANGE_FRACTION or STORE_EVERY_MS passed, and each that joined the trend's series), raises a
+ * 'thermal-path' alarm when a socket's θ has risen past its run's first identification by
+ * THERMAL_PATH_RISE_FRACTION (step rule) or is rising significantly towards it (trend rule,
+ * shared/thermal/rules.ts; the alarm's words name the rule), and gives live
  * protection the latest good θca (`identifiedThetaCa`). Messages of one rig are handled in order.
  *
  * A software flag is no substitute for the rig's hardware interlocks.
  */
 import { FLAG_BIAS_ON, FLAG_TRIPPED } from '../../../shared/mqtt/payloads';
-import { SocketThermalTrack, THERMAL_PATH_RISE_FRACTION, type TrackEvent, type TrackOptions } from '../../../shared/thermal';
+import {
+  SocketThermalTrack,
+  THERMAL_PATH_RISE_FRACTION,
+  TREND_INTERVAL_CONFIDENCE,
+  type ThermalTrend,
+  type TrackEvent,
+  type TrackOptions,
+} from '../../../shared/thermal';
 import type { AppContext } from '../../context';
 import { describeErrorForLog } from '../../db/safe-logger';
 import { RUN_EVENT, TELEMETRY_LANDED, type RunEvent, type TelemetryLanded } from '../../events';
 import type { RaiseAlarmInput } from '../alarms/alarms.service';
-import { activeRunOfRig, baselinesOfRun, insertFit } from './thermal.data';
+import { activeRunOfRig, baselinesOfRun, insertFit, trendFitsOfRun } from './thermal.data';
 
 /** A periodic identification is stored when θ moved by this fraction since the last one stored … */
 const STORE_CHANGE_FRACTION = 0.05;
@@ -32,9 +41,13 @@ interface SocketSlot {
 interface RigSlot {
   runId: string | null;
   runCode: string | null;
+  /** Stress hours left in the run's plan (the trend rule's horizon), null when unknown. */
+  remainingH: number | null;
   at: number;
   sockets: Map<number, SocketSlot>;
   baselines: Map<number, number>;
+  /** The trend's stored points per socket, read once when the run is first seen (a restart keeps the series). */
+  trendPoints: Map<number, Array<{ tH: number; thetaCPerW: number; windowH: number }>>;
 }
 
 export class ThermalTracker {
@@ -42,6 +55,7 @@ export class ThermalTracker {
   private readonly chains = new Map<string, Promise<void>>();
   private readonly listeners: Array<() => void> = [];
   readonly stats = { messages: 0, fits: 0, stored: 0, flags: 0, errors: 0 };
+  private queued = 0;
 
   constructor(
     private readonly ctx: AppContext,
@@ -71,6 +85,11 @@ export class ThermalTracker {
     await this.idle();
   }
 
+  /** Messages and run events taken and not yet handled, over all rigs. */
+  get backlog(): number {
+    return this.queued;
+  }
+
   async idle(): Promise<void> {
     while (this.chains.size > 0) await Promise.allSettled([...this.chains.values()]);
   }
@@ -91,6 +110,7 @@ export class ThermalTracker {
 
   private enqueue(rigId: string, job: () => Promise<void>): void {
     const prev = this.chains.get(rigId) ?? Promise.resolve();
+    this.queued++;
     const next = prev
       .then(job)
       .catch((err) => {
@@ -98,6 +118,7 @@ export class ThermalTracker {
         console.error(`[thermal] rig ${rigId}: ${describeErrorForLog(err)}`);
       })
       .finally(() => {
+        this.queued--;
         if (this.chains.get(rigId) === next) this.chains.delete(rigId);
       });
     this.chains.set(rigId, next);
@@ -110,9 +131,11 @@ export class ThermalTracker {
     const run = await activeRunOfRig(this.ctx.ds, rigId);
     if (!slot || slot.runId !== (run?.id ?? null)) {
       const baselines = run ? await baselinesOfRun(this.ctx.ds, rigId, run.id) : new Map<number, number>();
-      slot = { runId: run?.id ?? null, runCode: run?.code ?? null, at: now, sockets: new Map(), baselines };
+      const trendPoints = run ? await trendFitsOfRun(this.ctx.ds, rigId, run.id) : new Map();
+      slot = { runId: run?.id ?? null, runCode: run?.code ?? null, remainingH: null, at: now, sockets: new Map(), baselines, trendPoints };
       this.rigs.set(rigId, slot);
     }
+    slot.remainingH = run?.remainingH ?? null;
     slot.at = now;
     return slot;
   }
@@ -127,14 +150,16 @@ export class ThermalTracker {
       if (!s) {
         const baselineThetaCPerW = rig.baselines.get(i) ?? null;
         s = {
-          track: new SocketThermalTrack(this.trackOptions, { baselineThetaCPerW }),
+          track: new SocketThermalTrack(this.trackOptions, { baselineThetaCPerW, trendPoints: rig.trendPoints.get(i) ?? [] }),
           lastStoredTheta: null,
           lastStoredAt: 0,
           baselineStored: baselineThetaCPerW !== null,
         };
         rig.sockets.set(i, s);
+        rig.trendPoints.delete(i); // the track holds its own copy now
       }
       const flags = m.flags[k];
+      s.track.remainingH = rig.remainingH;
       const e = s.track.push({
         tS: m.stressClockS,
         caseC: m.caseC[k],
@@ -154,8 +179,14 @@ export class ThermalTracker {
     const moved = theta !== null && (s.lastStoredTheta === null || Math.abs(theta / s.lastStoredTheta - 1) >= STORE_CHANGE_FRACTION);
     // The fit that set the baseline is always stored (a restarted server reads the baseline back).
     const newBaseline = e.baselineThetaCPerW !== null && !s.baselineStored;
+    // A fit that joined the trend's series is stored too (one per identification window at most): a
+    // restarted tracker rebuilds the series from them and the socket sheet shows the latest evaluation.
     const store =
-      e.trigger !== 'periodic' || e.flag !== null || newBaseline || (f.good && (moved || now - s.lastStoredAt >= STORE_EVERY_MS));
+      e.trigger !== 'periodic' ||
+      e.flag !== null ||
+      newBaseline ||
+      e.trendPoint ||
+      (f.good && (moved || now - s.lastStoredAt >= STORE_EVERY_MS));
     if (newBaseline) s.baselineStored = true;
     if (store) {
       await insertFit(this.ctx.ds, {
@@ -181,6 +212,9 @@ export class ThermalTracker {
         baselineThetaCPerW: e.baselineThetaCPerW,
         riseFraction: e.riseFraction,
         reason: f.reason,
+        trend: e.trend,
+        trendPoint: e.trendPoint,
+        flagRule: e.flag === 'raise' ? e.rule : null,
       });
       this.stats.stored++;
       if (f.good && theta !== null) {
@@ -210,6 +244,8 @@ export function thermalPathAlarm(
   const f = e.fit;
   const base = e.baselineThetaCPerW;
   const rise = e.riseFraction ?? 0;
+  const byTrend = e.rule === 'trend' && e.trend !== null;
+  const stepWords = `step rule: ${pct(rise)} above the ${f2(base)} °C/W found first in run ${rig.runCode ?? '?'} (flag limit ${pct(THERMAL_PATH_RISE_FRACTION)}). `;
   return {
     kind: 'thermal-path',
     severity: 'warning',
@@ -219,12 +255,14 @@ export function thermalPathAlarm(
     title: `Socket ${socket} on ${m.rigCode}: thermal path degrading`,
     message:
       `The case-to-chamber thermal resistance of socket ${socket} identified from its telemetry is ${f2(f.thetaCPerW)} °C/W, ` +
-      `${pct(rise)} above the ${f2(base)} °C/W found first in run ${rig.runCode ?? '?'} (flag limit ${pct(THERMAL_PATH_RISE_FRACTION)}). ` +
+      (byTrend ? `${pct(rise)} above the first value; ${trendWords(e.trend!, base, rig.runCode)} ` : stepWords) +
       `At the same power its junction runs hotter; a drying thermal pad or a loosening clamp looks like this before protection has to trip.`,
     action:
       'Check the socket’s heat sinking (thermal pad or grease, clamp pressure, airflow) at the next chance to open the oven safely, ' +
       'following the lab’s rules for hot ovens and high voltage. This flag is software: it is no substitute for the rig’s hardware interlocks.',
     details: {
+      rule: byTrend ? 'trend' : 'step',
+      trend: e.trend,
       thetaCPerW: f.thetaCPerW,
       baselineThetaCPerW: base,
       riseFraction: e.riseFraction,
@@ -236,4 +274,17 @@ export function thermalPathAlarm(
       offsetBasis: e.offsetBasis,
     },
   };
+}
+
+const slopeWords = (cPerWPerH: number) => `${Number((cPerWPerH * 100).toPrecision(2))} °C/W per 100 h`;
+
+/** "trend rule: rising 0.08 °C/W per 100 h (90 % interval 0.05 to 0.11) over 12 fits and 140 h; reaches +25 % … in about 300 h." */
+export function trendWords(t: ThermalTrend, base: number | null, runCode: string | null): string {
+  const about = t.hoursToLimit === null ? '?' : t.hoursToLimit < 10 ? t.hoursToLimit.toFixed(1) : String(Math.round(t.hoursToLimit));
+  return (
+    `trend rule: rising ${slopeWords(t.slopeCPerWPerH)} (${pct(TREND_INTERVAL_CONFIDENCE)} interval ${slopeWords(t.lowCPerWPerH)} to ${slopeWords(t.highCPerWPerH)}) ` +
+    `over ${t.n} fits and ${Math.round(t.spanH)} stress hours (Mann–Kendall p ${t.pValue < 0.001 ? '< 0.001' : t.pValue.toFixed(3)}); ` +
+    `reaches +${Math.round(THERMAL_PATH_RISE_FRACTION * 100)} % over the ${f2(base)} °C/W found first in run ${runCode ?? '?'} in about ${about} h ` +
+    `(horizon ${Math.round(t.horizonH)} h).`
+  );
 }

@@ -32,6 +32,12 @@ export const thermal: Journey = {
     await expect(card.getByTestId('socket-tau')).toContainText(/τ \(time constant\)\s*(\d+(\.\d+)? (s|min)|not identifiable)/);
     await expect(card.getByTestId('socket-thermal-fit')).toContainText(/RMS \d+\.\d\d K · (step response|steady state), \d+ samples/);
     await expect(card.getByTestId('socket-thermal-rise')).toContainText(/\+\d+ % \(flag above \+25 %\)/);
+    // The demo's pad dries fast (0.5 °C/W per h): the step rule flags it before the trend rule has its
+    // 10 spaced fits (measured in tests/unit/thermal-trend.test.ts); the trend row shows either state.
+    await expect(card.getByTestId('socket-thermal-flag-rule')).toContainText('Flagged by the step rule');
+    await expect(card.getByTestId('socket-thermal-trend')).toContainText(
+      /Trend of θ\s*(after \d+ spaced good fits|[+−]?[\d.]+ °C\/W per 100 h \(90 % interval)/,
+    );
     await expect(card.getByTestId('socket-thermal-history')).toContainText(/Identifications \(\d+ stored this run, newest first\)/i);
     await expect(card).toContainText('no substitute for the rig’s hardware interlocks');
     await card.scrollIntoViewIfNeeded();
