@@ -1,7 +1,7 @@
 /**
  * The read-point hold and end-of-stress sequence, as a pure step the scheduler runs on each pass:
  *
- *   cool-under-bias ──(chamber ≤ coolUnderBiasToC, or nothing biased)──▶ bias-off ──(chamber ≤ safeToOpenC)──▶ safe-to-open
+ *   cool-under-bias ──(chamber ≤ coolUnderBiasToC, or nothing biased)──▶ bias-off ──(OPEN_MIN_C ≤ chamber ≤ safeToOpenC)──▶ safe-to-open
  *        ▲   │
  *        │   └─(another run in the oven needs it hot)──▶ oven-shared (bias stays on, chamber left hot; waits)
  *        └────────────────────(the oven is free again)──────┘
@@ -26,7 +26,9 @@
 import { ROOM_AMBIENT_C } from '../domain/standards';
 import { dewPointC } from './dew-point';
 
-import { BIASED_HOLD_PHASES, type HoldPhase, type HoldSettings } from './words';
+import { BIASED_HOLD_PHASES, OPEN_MIN_C, type HoldPhase, type HoldSettings } from './words';
+
+export { OPEN_MIN_C };
 export {
   HOLD_PHASES,
   BIASED_HOLD_PHASES,
@@ -90,7 +92,7 @@ export function holdStep(i: HoldInput): HoldDecision {
     return { phase: 'cool-under-bias', chamber: { setpointC: coolingSetpointC(i), humidityOff: i.humidityControlled }, biasOff: false };
   }
   // Bias comes off now (or is off already): cool on to safe-to-open unless the oven is kept hot.
-  const open = i.chamberC !== null && i.chamberC <= i.settings.safeToOpenC;
+  const open = i.chamberC !== null && i.chamberC <= i.settings.safeToOpenC && i.chamberC >= OPEN_MIN_C;
   return {
     phase: open ? 'safe-to-open' : 'bias-off',
     chamber: i.ovenNeededHot ? null : { setpointC: coolingSetpointC(i), humidityOff: i.humidityControlled },

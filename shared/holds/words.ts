@@ -34,6 +34,13 @@ export const HOLD_SETTING_LIMITS = {
 } as const;
 
 const c0 = (c: number) => `${Math.round(c)} °C`;
+/**
+ * A chamber colder than this is not called safe to open: parts below the room's dew point gather
+ * condensation before they are measured. 15 °C is the lower end of the standard atmospheric conditions
+ * for measurements and tests (IEC 60068-1: 15–35 °C, from memory). A cycling chamber caught at its cold
+ * extreme at a read point is brought back to room first.
+ */
+export const OPEN_MIN_C = 15;
 
 /** Short names of the hold's steps (rig chart marks, audit trail). */
 export const HOLD_PHASE_LABEL: Record<HoldPhase, string> = {
@@ -52,6 +59,9 @@ export function holdPhaseText(phase: HoldPhase, s: HoldSettings, chamberC: numbe
     case 'oven-shared':
       return `Held under bias${now}: another run in this oven still needs it hot. Cooling waits until that run reaches a hold or ends; hours are not credited meanwhile.`;
     case 'bias-off':
+      if (chamberC !== null && chamberC < OPEN_MIN_C) {
+        return `Bias off; warming to ${c0(OPEN_MIN_C)} before the chamber is opened: cold parts gather condensation${now}.`;
+      }
       return `Bias off; cooling to ${c0(s.safeToOpenC)}, the lab's safe-to-open temperature${now}.`;
     case 'safe-to-open':
       return `At or below ${c0(s.safeToOpenC)}, the lab's safe-to-open temperature${now}.`;

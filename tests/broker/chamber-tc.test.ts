@@ -94,9 +94,13 @@ test('a TC run counts its cycles from the chamber’s load temperature, holds at
   const programme = sent.find((x) => x.cmd.type === 'setpoint' && x.cmd.profile);
   expect(programme?.cmd).toMatchObject({ type: 'setpoint', profile: { lowC: -20, highC: 60, dwellMin: 2, rampKPerMin: 10 } });
   expect(sent.some((x) => x.cmd.type === 'bias')).toBe(false); // nothing is biased in a chamber
-  const safe = await until('read-hold', 30_000, (r) => r.biasRemovedAt !== null);
+  // Safe to open only back inside 15–35 °C (OPEN_MIN_C): a chamber caught cold warms to room first.
+  const safe = await until('read-hold', 30_000, (r) => r.biasRemovedAt !== null && r.holdPhase === 'safe-to-open');
   expect(safe.holdPhase).toBe('safe-to-open');
-  expect(sent.some((x) => x.cmd.type === 'setpoint' && x.cmd.setpointC === 25 && !x.cmd.profile)).toBe(true);
+  // The command goes out after the step's transaction commits: wait for it rather than race it.
+  const toRoom = () => sent.some((x) => x.cmd.type === 'setpoint' && x.cmd.setpointC === 25 && !x.cmd.profile);
+  for (let k = 0; k < 150 && !toRoom(); k++) await new Promise((r) => setTimeout(r, 100));
+  expect(toRoom()).toBe(true);
   expect(events.filter((e) => e.type === 'read-point-due').map((e) => e.readPointIndex)).toEqual([1]);
   const loads = await db.ds.query(`SELECT min(load_c) AS lo, max(load_c) AS hi FROM chamber_samples WHERE rig_id = $1`, [rigId]);
   const bands = tcBands(PROFILE);

@@ -122,6 +122,9 @@ export function makeContext(
     navTo: async (label) => {
       // A place with a count (the open alarms) is named "Alarms, 3 open".
       const link = page.getByRole('link', { name: new RegExp(`^${label.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')}(, \\d+ open)?$`) });
+      // The tab bar comes in its own chunk (components/shell/LazyNav.tsx): wait until it is drawn, or a
+      // tab not yet there reads as "under More".
+      if (size === 'phone') await page.getByRole('button', { name: 'More', exact: true }).waitFor({ state: 'visible', timeout: 15000 });
       if (
         size === 'phone' &&
         !(await link

@@ -12,6 +12,7 @@ import {
   dewPointC,
   dewPointFromVapourC,
   holdStep,
+  OPEN_MIN_C,
   relativeHumidityPct,
   saturationVapourPressureHpa,
   vapourPressureHpa,
@@ -149,6 +150,14 @@ describe('the hold sequence', () => {
   test('once bias is off it never comes back on, even if the chamber heats again', () => {
     expect(holdStep(base({ phase: 'bias-off', chamberC: 145, anyBiased: true }))).toMatchObject({ phase: 'bias-off', biasOff: true });
     expect(holdStep(base({ phase: 'safe-to-open', chamberC: 80 }))).toMatchObject({ phase: 'bias-off', biasOff: true });
+    // A cycling chamber caught at its cold extreme is not opened until it is back in the standard
+    // atmosphere for measurements (IEC 60068-1: 15–35 °C, from memory): cold parts gather condensation.
+    expect(holdStep(base({ phase: 'bias-off', chamberC: -20, anyBiased: false }))).toMatchObject({
+      phase: 'bias-off',
+      chamber: { setpointC: 25 },
+      biasOff: true,
+    });
+    expect(holdStep(base({ phase: 'bias-off', chamberC: OPEN_MIN_C, anyBiased: false }))).toMatchObject({ phase: 'safe-to-open' });
   });
 
   test('nothing biased (every socket tripped): nothing to cool under, bias-off at once', () => {
