@@ -19,6 +19,7 @@ import { icboRatioLimit } from '../stats';
 import { deviceSlope, fitSlopes, originSlope, type SlopeFit } from './model';
 import { seededDraws } from './simulate';
 import { FORECAST_INTERVAL, FORECAST_MIN_READ_POINTS, FORECAST_SEED, FORECAST_SIMULATIONS, certainty, type ForecastState } from './rules';
+import { countOf } from '../domain/format';
 
 export type ForecastParameter = 'hfe' | 'icbo' | 'vcesat';
 
@@ -137,10 +138,10 @@ export function forecastPlan(input: ForecastInput, options: { simulations?: numb
     return settled(
       input.asOfH !== null && input.asOfH >= endH ? 'final' : 'forecast',
       0,
-      `${failuresNow} devices have failed already, more than the accept number ${c}: the lot cannot pass.`,
+      `${countOf(failuresNow, 'device')} ${failuresNow === 1 ? 'has' : 'have'} failed already, more than the accept number ${c}: the lot cannot pass.`,
     );
   if (input.asOfH !== null && input.asOfH >= endH)
-    return settled('final', 1, `Every read point is in: ${failuresNow} failures, accept number ${c}.`);
+    return settled('final', 1, `Every read point is in: ${countOf(failuresNow, 'failure')}, accept number ${c}.`);
   const seen = hours.filter((h) => h > 0 && input.asOfH !== null && h <= input.asOfH).length;
   if (seen < FORECAST_MIN_READ_POINTS)
     return settled(
