@@ -28,7 +28,7 @@
  */
 import crypto, { randomBytes } from 'node:crypto';
 import Redis from 'ioredis';
-import { SignInThrottle, type SignInThrottleOptions, type ThrottleVerdict } from './sign-in-throttle';
+import { SIGN_IN_THROTTLE_DEFAULTS, SignInThrottle, type SignInThrottleOptions, type ThrottleVerdict } from './sign-in-throttle';
 
 export interface SharedSignInThrottleOptions extends SignInThrottleOptions {
   /** redis://host:port[/db] — the brokers' Redis. */
@@ -157,13 +157,13 @@ export class SharedSignInThrottle implements SignInGate {
   ) {
     this.local = new SignInThrottle(opts);
     this.limits = {
-      freeName: opts.freeFailuresPerName ?? 5,
-      freeAddr: opts.freeFailuresPerAddress ?? 20,
-      perName: opts.checksInFlightPerName ?? 1,
-      perAddr: opts.checksInFlightAfterFailurePerAddress ?? 2,
-      baseLockMs: opts.baseLockMs ?? 1_000,
-      maxLockMs: opts.maxLockMs ?? 60_000,
-      forgetAfterMs: opts.forgetAfterMs ?? 15 * 60_000,
+      freeName: opts.freeFailuresPerName ?? SIGN_IN_THROTTLE_DEFAULTS.freeFailuresPerName,
+      freeAddr: opts.freeFailuresPerAddress ?? SIGN_IN_THROTTLE_DEFAULTS.freeFailuresPerAddress,
+      perName: opts.checksInFlightPerName ?? SIGN_IN_THROTTLE_DEFAULTS.checksInFlightPerName,
+      perAddr: opts.checksInFlightAfterFailurePerAddress ?? SIGN_IN_THROTTLE_DEFAULTS.checksInFlightAfterFailurePerAddress,
+      baseLockMs: opts.baseLockMs ?? SIGN_IN_THROTTLE_DEFAULTS.baseLockMs,
+      maxLockMs: opts.maxLockMs ?? SIGN_IN_THROTTLE_DEFAULTS.maxLockMs,
+      forgetAfterMs: opts.forgetAfterMs ?? SIGN_IN_THROTTLE_DEFAULTS.forgetAfterMs,
       ttl: opts.inFlightTtlMs ?? 30_000,
       timeoutMs: opts.redisTimeoutMs ?? 500,
     };

@@ -51,6 +51,17 @@ export type ThrottleVerdict =
 
 const sha256 = (s: string) => crypto.createHash('sha256').update(s).digest('hex');
 
+/** The throttle's limits, declared once for the single broker and the shared (Redis) form. */
+export const SIGN_IN_THROTTLE_DEFAULTS = {
+  freeFailuresPerName: 5,
+  freeFailuresPerAddress: 20,
+  baseLockMs: 1_000,
+  maxLockMs: 60_000,
+  checksInFlightPerName: 1,
+  checksInFlightAfterFailurePerAddress: 2,
+  forgetAfterMs: 15 * 60_000,
+} as const;
+
 export class SignInThrottle {
   private readonly entries = new Map<string, Entry>();
   private readonly knownGood = new Map<string, true>();
@@ -59,13 +70,14 @@ export class SignInThrottle {
 
   constructor(opts: SignInThrottleOptions = {}) {
     this.o = {
-      freeFailuresPerName: opts.freeFailuresPerName ?? 5,
-      freeFailuresPerAddress: opts.freeFailuresPerAddress ?? 20,
-      baseLockMs: opts.baseLockMs ?? 1_000,
-      maxLockMs: opts.maxLockMs ?? 60_000,
-      checksInFlightPerName: opts.checksInFlightPerName ?? 1,
-      checksInFlightAfterFailurePerAddress: opts.checksInFlightAfterFailurePerAddress ?? 2,
-      forgetAfterMs: opts.forgetAfterMs ?? 15 * 60_000,
+      freeFailuresPerName: opts.freeFailuresPerName ?? SIGN_IN_THROTTLE_DEFAULTS.freeFailuresPerName,
+      freeFailuresPerAddress: opts.freeFailuresPerAddress ?? SIGN_IN_THROTTLE_DEFAULTS.freeFailuresPerAddress,
+      baseLockMs: opts.baseLockMs ?? SIGN_IN_THROTTLE_DEFAULTS.baseLockMs,
+      maxLockMs: opts.maxLockMs ?? SIGN_IN_THROTTLE_DEFAULTS.maxLockMs,
+      checksInFlightPerName: opts.checksInFlightPerName ?? SIGN_IN_THROTTLE_DEFAULTS.checksInFlightPerName,
+      checksInFlightAfterFailurePerAddress:
+        opts.checksInFlightAfterFailurePerAddress ?? SIGN_IN_THROTTLE_DEFAULTS.checksInFlightAfterFailurePerAddress,
+      forgetAfterMs: opts.forgetAfterMs ?? SIGN_IN_THROTTLE_DEFAULTS.forgetAfterMs,
       maxEntries: opts.maxEntries ?? 10_000,
     };
     this.now = opts.now ?? Date.now;
